@@ -1,0 +1,68 @@
+import { existsSync } from 'node:fs'
+import path from 'node:path'
+import { fileURLToPath } from 'node:url'
+import express, { Router } from 'express'
+import helmet from 'helmet'
+import { sql } from 'kysely'
+import { ErrorCode } from '../shared/errors.ts'
+import type { AppDeps } from './deps.ts'
+import { AppError } from './errors.ts'
+import { createAuditRouter } from './features/audit/audit.router.ts'
+import { createMailRouter } from './features/mail/mail.router.ts'
+import { createSessionRouter } from './features/session/session.router.ts'
+import { createAreasRouter, createSitesRouter } from './features/sites/sites.router.ts'
+import { createTestClockRouter } from './features/test-support/test-clock.router.ts'
+import { createAccountRouter, createUsersRouter } from './features/users/users.router.ts'
+import { requireCsrf } from './middleware/csrf.ts'
+import { currentUser, requireUser } from './middleware/current-user.ts'
+import { errorHandler } from './middleware/error-handler.ts'
+import { createSessionMiddleware } from './middleware/session.ts'
+
+const distDir = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../dist')
+
+/** Builds the Express app from its dependencies; listening happens elsewhere (server/index.ts). */
+export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}) {
+  const app = express()
+  app.set('trust proxy', deps.config.trustProxy)
+  app.disable('x-powered-by')
+  app.use(helmet({
+    contentSecurityPolicy: {
+      directives: {
+        'default-src': ['\'self\''], 'img-src': ['\'self\'', 'data:', 'blob:'], 'style-src': ['\'self\'', '\'unsafe-inline\''],
+        'script-src': ['\'self\''], 'font-src': ['\'self\'', 'data:'], 'connect-src': ['\'self\''], 'upgrade-insecure-requests': null,
+      },
+    },
+  }))
+
+  const api = Router()
+  api.use(express.json({ limit: '1mb' }))
+  api.get('/health', async (_req, res) => {
+    try {
+      await sql`SELECT 1`.execute(deps.db)
+      res.json({ status: 'ok', database: 'ok' })
+    } catch {
+      res.status(503).json({ status: 'degraded', database: 'unreachable' })
+    }
+  })
+  api.use(createSessionMiddleware(deps.config, deps.pool))
+  api.use(currentUser(deps))
+  api.use(requireCsrf)
+  api.use('/session', createSessionRouter(deps))
+  if (deps.config.NODE_ENV === 'test') api.use('/test', createTestClockRouter(deps))
+  api.use(requireUser)
+  api.use('/account', createAccountRouter(deps))
+  api.use('/users', createUsersRouter(deps))
+  api.use('/sites', createSitesRouter(deps))
+  api.use('/areas', createAreasRouter(deps))
+  api.use('/audit-events', createAuditRouter(deps))
+  api.use('/mail', createMailRouter(deps))
+  api.use((_req, _res, next) => next(new AppError(404, ErrorCode.NOT_FOUND, 'No such API endpoint')))
+  app.use('/api', api)
+
+  if (options.serveClient !== false && existsSync(distDir)) {
+    app.use(express.static(distDir, { index: false, maxAge: '1h' }))
+    app.get(/^\/(?!api\/).*/, (_req, res) => res.sendFile(path.join(distDir, 'index.html')))
+  }
+  app.use(errorHandler)
+  return app
+}

@@ -1,0 +1,7 @@
+import type pg from 'pg'
+import type { Clock } from './clock.ts'
+import type { Config } from './config.ts'
+import type { Db } from './db/index.ts'
+
+/** What the app factory needs; tests pass their own database and clock. */
+export interface AppDeps { db: Db, pool: pg.Pool, clock: Clock, config: Config }

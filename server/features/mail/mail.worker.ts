@@ -1,0 +1,61 @@
+import nodemailer from 'nodemailer'
+import { sql } from 'kysely'
+import type { Clock, DueJob } from '../../clock.ts'
+import type { Config } from '../../config.ts'
+import type { Db } from '../../db/index.ts'
+
+/** Back-off after the n-th failed attempt: 1, 2, 4 … minutes, at most 1 h. */
+export function backoffMs(attempts: number): number {
+  return Math.min(60, 2 ** Math.max(0, attempts - 1)) * 60_000
+}
+
+export function createTransport(config: Pick<Config, 'SMTP_HOST' | 'SMTP_PORT' | 'SMTP_SECURE' | 'SMTP_USER' | 'SMTP_PASS'>) {
+  return nodemailer.createTransport({
+    host: config.SMTP_HOST,
+    port: config.SMTP_PORT,
+    secure: config.SMTP_SECURE,
+    ignoreTLS: !config.SMTP_SECURE && config.SMTP_HOST === '127.0.0.1',
+    auth: config.SMTP_USER ? { user: config.SMTP_USER, pass: config.SMTP_PASS ?? '' } : undefined,
+    connectionTimeout: 10_000,
+    greetingTimeout: 10_000,
+    socketTimeout: 20_000,
+  })
+}
+
+/**
+ * Delivers due outbox rows one at a time, each in a short transaction holding its row with FOR UPDATE SKIP LOCKED,
+ * so several app instances never send the same mail at once. Delivery is at-least-once.
+ */
+export function createMailJob(db: Db, config: Config, clock: Clock): DueJob<{ sent: number, failed: number }> {
+  const transport = createTransport(config)
+  return {
+    name: 'mail.deliver',
+    intervalSec: 5,
+    async runDue(now: Date) {
+      let sent = 0
+      let failed = 0
+      for (let i = 0; i < 200; i++) {
+        const done = await db.transaction().execute(async (trx) => {
+          const row = await trx.selectFrom('mail_outbox').selectAll().where('sent_at', 'is', null).where('next_attempt_at', '<=', now)
+            .orderBy('id').limit(1).forUpdate().skipLocked().executeTakeFirst()
+          if (!row) return 'empty'
+          try {
+            await transport.sendMail({ from: config.MAIL_FROM, to: row.to_addr, subject: row.subject, text: row.text_body, html: row.html_body ?? undefined })
+            await trx.updateTable('mail_outbox').set({ sent_at: clock.now(), attempts: sql`attempts + 1`, last_error: null }).where('id', '=', row.id).execute()
+            return 'sent'
+          } catch (err) {
+            const attempts = row.attempts + 1
+            await trx.updateTable('mail_outbox').set({
+              attempts, last_error: err instanceof Error ? err.message.slice(0, 500) : String(err), next_attempt_at: new Date(now.getTime() + backoffMs(attempts)),
+            }).where('id', '=', row.id).execute()
+            return 'failed'
+          }
+        })
+        if (done === 'empty') break
+        if (done === 'sent') sent++
+        else failed++
+      }
+      return { sent, failed }
+    },
+  }
+}

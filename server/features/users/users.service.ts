@@ -1,0 +1,94 @@
+import { ErrorCode } from '../../../shared/errors.ts'
+import type { ListQuery, ListResult } from '../../../shared/schemas/common.ts'
+import type { CreateUserInput, UpdateUserInput, User } from '../../../shared/schemas/users.ts'
+import { authorize } from '../../authorize.ts'
+import type { AppDeps } from '../../deps.ts'
+import type { AppUserRow } from '../../db/schema.ts'
+import { AppError, conflict, notFound, validationFailed } from '../../errors.ts'
+import type { AppAbility } from '../../../shared/abilities/index.ts'
+import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
+import { hashPassword, verifyPassword } from '../session/passwords.ts'
+import * as repo from './users.repository.ts'
+
+type RoleList = User['roles']
+
+function toUser(row: AppUserRow, roles: RoleList): User {
+  return { id: row.id, email: row.email, displayName: row.display_name, active: row.active, roles, createdAt: row.created_at.toISOString() }
+}
+
+export async function listUsers(deps: AppDeps, ability: AppAbility, q: ListQuery): Promise<ListResult<User>> {
+  authorize(ability, 'read', 'User', { id: -1 })
+  const rows = await repo.listUsers(deps.db, { q: q.q, limit: q.pageSize, offset: (q.page - 1) * q.pageSize })
+  const roles = await repo.findRolesByUserIds(deps.db, rows.map((r) => r.id))
+  return { items: rows.map((r) => toUser(r, roles.get(r.id) ?? [])), total: await repo.countUsers(deps.db, q.q) }
+}
+
+export async function getUser(deps: AppDeps, ability: AppAbility, id: number): Promise<User> {
+  const row = await repo.findUserById(deps.db, id)
+  if (!row) throw notFound('User')
+  authorize(ability, 'read', 'User', { id })
+  return toUser(row, (await repo.findRolesByUserIds(deps.db, [id])).get(id) ?? [])
+}
+
+async function assertSitesExist(deps: AppDeps, roles: RoleList) {
+  const ids = [...new Set(roles.map((r) => r.siteId))]
+  if (!ids.length) return
+  const found = await deps.db.selectFrom('site').select('id').where('id', 'in', ids).execute()
+  if (found.length !== ids.length) throw validationFailed({ roles: ['A role refers to a site that does not exist'] })
+}
+
+export async function createUser(deps: AppDeps, ability: AppAbility, ctx: AuditContext, input: CreateUserInput): Promise<User> {
+  authorize(ability, 'create', 'User')
+  await assertSitesExist(deps, input.roles)
+  if (await repo.findUserByEmail(deps.db, input.email)) throw conflict('An account with this e-mail address exists already', { fields: { email: ['Already in use'] } })
+  const hash = await hashPassword(input.password)
+  const now = deps.clock.now()
+  const id = await deps.db.transaction().execute(async (trx) => {
+    const { id } = await trx.insertInto('app_user').values({ email: input.email, display_name: input.displayName, password_hash: hash, created_at: now, updated_at: now })
+      .returning('id').executeTakeFirstOrThrow()
+    await repo.replaceRoles(trx, id, input.roles)
+    await appendAudit(trx, deps.clock, ctx, { action: 'user.create', entityType: 'User', entityId: id, after: { email: input.email, displayName: input.displayName, roles: input.roles } })
+    return id
+  })
+  return getUser(deps, ability, id)
+}
+
+export async function updateUser(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number, input: UpdateUserInput): Promise<User> {
+  authorize(ability, 'update', 'User', { id })
+  if (input.roles) {
+    authorize(ability, 'assign_roles', 'User', { id })
+    await assertSitesExist(deps, input.roles)
+  }
+  if (input.active === false && ctx.actorId === id) throw new AppError(403, ErrorCode.FORBIDDEN, 'You cannot deactivate your own account')
+  const hash = input.password ? await hashPassword(input.password) : undefined
+  await deps.db.transaction().execute(async (trx) => {
+    const before = await trx.selectFrom('app_user').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
+    if (!before) throw notFound('User')
+    const beforeRoles = (await repo.findRolesByUserIds(trx, [id])).get(id) ?? []
+    await trx.updateTable('app_user').set({
+      ...(input.displayName !== undefined ? { display_name: input.displayName } : {}),
+      ...(input.active !== undefined ? { active: input.active } : {}),
+      ...(hash ? { password_hash: hash } : {}),
+      updated_at: deps.clock.now(),
+    }).where('id', '=', id).execute()
+    if (input.roles) await repo.replaceRoles(trx, id, input.roles)
+    await appendAudit(trx, deps.clock, ctx, {
+      action: hash ? 'user.password_reset' : 'user.update', entityType: 'User', entityId: id,
+      before: { displayName: before.display_name, active: before.active, roles: beforeRoles },
+      after: { displayName: input.displayName ?? before.display_name, active: input.active ?? before.active, roles: input.roles ?? beforeRoles },
+    })
+  })
+  return getUser(deps, ability, id)
+}
+
+/** Anyone changes their own password; the current one is required. */
+export async function changeOwnPassword(deps: AppDeps, ctx: AuditContext, userId: number, current: string, next: string) {
+  const user = await repo.findUserById(deps.db, userId)
+  if (!user) throw notFound('User')
+  if (!(await verifyPassword(user.password_hash, current))) throw validationFailed({ currentPassword: ['The current password is wrong'] })
+  const hash = await hashPassword(next)
+  await deps.db.transaction().execute(async (trx) => {
+    await trx.updateTable('app_user').set({ password_hash: hash, updated_at: deps.clock.now() }).where('id', '=', userId).execute()
+    await appendAudit(trx, deps.clock, ctx, { action: 'user.password_change', entityType: 'User', entityId: userId })
+  })
+}

@@ -1,0 +1,42 @@
+import type { AddressInfo } from 'node:net'
+import { AdjustableClock, type Clock, systemClock } from './clock.ts'
+import type { Config } from './config.ts'
+import { createApp } from './app.ts'
+import { createDb } from './db/index.ts'
+import { createJobs } from './jobs/index.ts'
+import { JobScheduler } from './jobs/scheduler.ts'
+
+export interface RunningServer { url: string, port: number, close(): Promise<void> }
+
+/** Connects to PostgreSQL as the runtime role, starts the job scheduler and listens. */
+export async function startServer(config: Config, opts: { clock?: Clock, runJobs?: boolean } = {}): Promise<RunningServer> {
+  const clock = opts.clock ?? (config.NODE_ENV === 'test' ? new AdjustableClock() : systemClock)
+  const { db, pool } = createDb(config.DATABASE_URL, 20)
+  const app = createApp({ db, pool, clock, config })
+  const scheduler = new JobScheduler(db, clock, createJobs(db, config, clock), (m) => console.error(m))
+  if (opts.runJobs !== false) {
+    await scheduler.register()
+    scheduler.start(config.JOB_POLL_SECONDS)
+  }
+  const server = app.listen(config.PORT, config.HOST)
+  await new Promise<void>((resolve, reject) => {
+    server.once('listening', resolve)
+    server.once('error', reject)
+  }).catch(async (err: NodeJS.ErrnoException) => {
+    await scheduler.stop()
+    await db.destroy()
+    if (err.code === 'EADDRINUSE') throw new Error(`Port ${config.PORT} is already in use: stop what listens there or set PORT to a free port.`)
+    throw err
+  })
+  const port = (server.address() as AddressInfo).port
+  return {
+    url: `http://${config.HOST}:${port}`,
+    port,
+    async close() {
+      await scheduler.stop()
+      server.closeAllConnections()
+      await new Promise<void>((resolve) => server.close(() => resolve()))
+      await db.destroy()
+    },
+  }
+}

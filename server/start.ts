@@ -1,0 +1,120 @@
+// `npm start`: one process supervises everything it needs. Without DATABASE_URL it creates (first run) and starts a
+// project-local PostgreSQL cluster on 127.0.0.1, migrates, seeds the demo plant into an empty database, starts the
+// local fake SMTP server, builds the client when its sources changed, and serves app and API.
+// Ctrl-C or SIGTERM stops everything it started, PostgreSQL included.
+import { execFile, spawn } from 'node:child_process'
+import { existsSync, readdirSync, statSync } from 'node:fs'
+import path from 'node:path'
+import { fileURLToPath } from 'node:url'
+import { promisify } from 'node:util'
+import { loadConfig } from './config.ts'
+import { createDb } from './db/index.ts'
+import { migrateToLatest } from './db/migrate.ts'
+import { startFakeSmtp } from './dev/fake-smtp.ts'
+import { startServer } from './index.ts'
+import { DEMO_ACCOUNTS, DEMO_PASSWORD, seedDemo } from './seed/demo.ts'
+
+const run = promisify(execFile)
+const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..')
+const pgScript = path.join(root, 'server/db/pg.sh')
+const started = Date.now()
+const cleanups: (() => Promise<void>)[] = []
+let stopping = false
+
+function fail(sentence: string): never {
+  console.error(`\n${sentence}\n`)
+  void shutdown(1)
+  throw new Error(sentence)
+}
+
+async function shutdown(code: number) {
+  if (stopping) return
+  stopping = true
+  for (const c of cleanups.reverse()) await c().catch((e) => console.error(e instanceof Error ? e.message : e))
+  process.exit(code)
+}
+process.on('SIGINT', () => { console.log('\nStopping…'); void shutdown(0) })
+process.on('SIGTERM', () => void shutdown(0))
+
+function newestMtime(p: string): number {
+  if (!existsSync(p)) return 0
+  const st = statSync(p)
+  if (!st.isDirectory()) return st.mtimeMs
+  return readdirSync(p).reduce((m, f) => Math.max(m, newestMtime(path.join(p, f))), st.mtimeMs)
+}
+
+async function startLocalPostgres(): Promise<void> {
+  const env = { ...process.env, PGPORT: process.env.PGPORT ?? '54329' }
+  try {
+    const { stdout, stderr } = await run('bash', [pgScript, 'start'], { env })
+    if (stderr.trim()) console.log(stderr.trim())
+    for (const line of stdout.split('\n')) {
+      const m = /^([A-Z_]+)=(.*)$/.exec(line.trim())
+      if (m && ['DATABASE_URL', 'MIGRATION_DATABASE_URL', 'PG_DIR'].includes(m[1])) process.env[m[1]] = m[2]
+    }
+    cleanups.push(async () => { await run('bash', [pgScript, 'stop'], { env }); console.log('PostgreSQL stopped.') })
+    console.log(`PostgreSQL running on 127.0.0.1:${env.PGPORT} (data in ${process.env.PG_DIR})`)
+  } catch (err) {
+    const e = err as { code?: number, stderr?: string }
+    fail(e.stderr?.trim().split('\n').pop() || 'PostgreSQL could not be started; see .data/pg/server.log.')
+  }
+}
+
+async function buildClientIfChanged() {
+  const distIndex = path.join(root, 'dist/index.html')
+  const sources = Math.max(...['src', 'shared', 'index.html', 'vite.config.ts', 'package-lock.json'].map((p) => newestMtime(path.join(root, p))))
+  if (existsSync(distIndex) && statSync(distIndex).mtimeMs >= sources) return
+  console.log('Building the client…')
+  await new Promise<void>((resolve, reject) => {
+    const child = spawn(process.execPath, [path.join(root, 'node_modules/vite/bin/vite.js'), 'build', '--logLevel', 'warn'], { cwd: root, stdio: 'inherit' })
+    child.on('exit', (code) => (code === 0 ? resolve() : reject(new Error('The client build failed; see the messages above.'))))
+  })
+}
+
+async function main() {
+  const localDb = !process.env.DATABASE_URL
+  if (localDb) await startLocalPostgres()
+  process.env.NODE_ENV ??= 'development'
+  const migrationUrl = process.env.MIGRATION_DATABASE_URL ?? process.env.DATABASE_URL!
+  try {
+    await migrateToLatest(migrationUrl)
+  } catch (err) {
+    fail(`${err instanceof Error ? err.message : err} — fix the migration or the database and run npm start again.`)
+  }
+
+  let smtpPort: number | null = null
+  if (localDb || process.env.FAKE_SMTP === '1') {
+    const smtp = await startFakeSmtp(Number(process.env.SMTP_PORT ?? 2525))
+    smtpPort = smtp.port
+    process.env.SMTP_HOST = '127.0.0.1'
+    process.env.SMTP_PORT = String(smtp.port)
+    cleanups.push(() => smtp.close())
+  }
+  const config = loadConfig()
+  if (config.NODE_ENV !== 'production') {
+    const { db } = createDb(migrationUrl, 2)
+    try {
+      if (await seedDemo(db)) console.log('Demo plant seeded.')
+    } finally {
+      await db.destroy()
+    }
+  }
+  if (!process.argv.includes('--no-build')) await buildClientIfChanged()
+  const server = await startServer(config).catch((err) => fail(err instanceof Error ? err.message : String(err)))
+  cleanups.push(() => server.close())
+
+  console.log(`\nLimitkeeper is ready at ${server.url}  (${((Date.now() - started) / 1000).toFixed(1)} s)`)
+  if (smtpPort) console.log(`Mail goes to the local fake SMTP server on 127.0.0.1:${smtpPort}; admins see it under Mail.`)
+  if (config.NODE_ENV !== 'production') {
+    console.log(`Demo accounts (password: ${DEMO_PASSWORD}):`)
+    for (const a of DEMO_ACCOUNTS) console.log(`  ${a.email.padEnd(34)} ${a.label}`)
+  }
+  console.log('Press Ctrl-C to stop.')
+}
+
+main().catch((err) => {
+  if (!stopping) {
+    console.error(err instanceof Error ? err.message : err)
+    void shutdown(1)
+  }
+})

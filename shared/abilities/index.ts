@@ -1,0 +1,86 @@
+import { AbilityBuilder, createMongoAbility, type MongoAbility, type RawRuleOf } from '@casl/ability'
+import type { Role, RoleAssignment } from '../schemas/users.ts'
+
+/** Actions of DOMAIN.md §2, as CASL verbs. */
+export type Action =
+  | 'manage' | 'read' | 'create' | 'update' | 'delete'
+  | 'assign_roles' | 'import' | 'submit' | 'approve' | 'implement' | 'close'
+  | 'record' | 'witness' | 'accept' | 'request' | 'authorize' | 'activate' | 'remove' | 'review'
+
+/** Subjects: PascalCase singular. Site-scoped subjects carry `siteId` (a Site carries `id`). */
+export type SubjectName =
+  | 'User' | 'Site' | 'Area' | 'Process' | 'Instrument' | 'Limit' | 'ChangeRequest' | 'TripTest'
+  | 'Bypass' | 'BypassReview' | 'AuditEvent' | 'Mail' | 'all'
+
+export type AppAbility = MongoAbility<[Action, SubjectName | Record<string, unknown>]>
+export type AppRule = RawRuleOf<AppAbility>
+
+/** What the abilities need to know about the signed-in user. */
+export interface AbilityUser { id: number, roles: RoleAssignment[] }
+
+const SITE_SCOPED: SubjectName[] = ['Area', 'Process', 'Instrument', 'Limit', 'ChangeRequest', 'TripTest', 'Bypass']
+
+/** Builds the CASL rules for a user from their (site, role) assignments; none for anonymous users. */
+export function defineRulesFor(user: AbilityUser | null): AppRule[] {
+  const { can, cannot, rules } = new AbilityBuilder<AppAbility>(createMongoAbility)
+  if (!user) return rules
+  const sitesWith = (...roles: Role[]) => [...new Set(user.roles.filter((r) => roles.includes(r.role)).map((r) => r.siteId))]
+  const allSites = [...new Set(user.roles.map((r) => r.siteId))]
+  const has = (...roles: Role[]) => sitesWith(...roles).length > 0
+
+  // Everyone reads the register, tests, bypasses and change requests of their own sites.
+  if (allSites.length) {
+    can('read', 'Site', { id: { $in: allSites } })
+    can('read', SITE_SCOPED, { siteId: { $in: allSites } })
+  }
+  can('read', 'User', { id: user.id })
+
+  const admin = sitesWith('admin')
+  if (admin.length) {
+    can('create', 'Site')
+    can(['read', 'update'], 'Site', { id: { $in: admin } })
+    can(['create', 'update', 'delete'], 'Area', { siteId: { $in: admin } })
+    can(['read', 'create', 'update'], 'User')
+    can('assign_roles', 'User')
+    cannot('assign_roles', 'User', { id: user.id }).because('Nobody can change their own roles')
+    can('read', 'Mail')
+  }
+  if (has('admin', 'plant_manager', 'auditor')) can('read', 'AuditEvent')
+
+  const engineer = sitesWith('safety_engineer')
+  if (engineer.length) {
+    can(['create', 'update', 'delete'], ['Process', 'Instrument', 'Limit'], { siteId: { $in: engineer } })
+    can('import', 'Limit', { siteId: { $in: engineer } })
+    can(['create', 'update', 'submit', 'close', 'delete'], 'ChangeRequest', { siteId: { $in: engineer } })
+  }
+  const approver = sitesWith('approver')
+  if (approver.length) can('approve', 'ChangeRequest', { siteId: { $in: approver } })
+  const technician = sitesWith('technician')
+  if (technician.length) {
+    can('implement', 'ChangeRequest', { siteId: { $in: technician } })
+    can('record', 'TripTest', { siteId: { $in: technician } })
+  }
+  const witness = sitesWith('safety_engineer', 'approver', 'shift_supervisor', 'technician')
+  if (witness.length) can('witness', 'TripTest', { siteId: { $in: witness } })
+  const acceptor = sitesWith('shift_supervisor', 'operator')
+  if (acceptor.length) can('accept', 'TripTest', { siteId: { $in: acceptor } })
+  const requester = sitesWith('safety_engineer', 'shift_supervisor', 'technician', 'operator')
+  if (requester.length) can('request', 'Bypass', { siteId: { $in: requester } })
+  const authorizer = sitesWith('approver', 'shift_supervisor', 'plant_manager')
+  if (authorizer.length) can('authorize', 'Bypass', { siteId: { $in: authorizer } })
+  const activator = sitesWith('shift_supervisor', 'technician', 'operator')
+  if (activator.length) can(['activate', 'remove'], 'Bypass', { siteId: { $in: activator } })
+  const reviewer = sitesWith('safety_engineer', 'approver', 'shift_supervisor', 'plant_manager', 'auditor')
+  if (reviewer.length) can('review', 'BypassReview', { siteId: { $in: reviewer } })
+  return rules
+}
+
+/** Creates the ability from rules (the same call on server and client). */
+export function createAppAbility(rules: AppRule[] = []): AppAbility {
+  return createMongoAbility<AppAbility>(rules)
+}
+
+/** Site ids where the user holds one of the roles. */
+export function sitesWithRole(user: AbilityUser, ...roles: Role[]): number[] {
+  return [...new Set(user.roles.filter((r) => roles.includes(r.role)).map((r) => r.siteId))]
+}

@@ -1,0 +1,48 @@
+import { z } from 'zod'
+
+/** Site policies of DOMAIN.md §6 (defaults are common practice, no standard behind the numbers). */
+export const SitePolicySchema = z.object({
+  bypassMaxHoursSupervisor: z.number().positive().max(24 * 30).default(12),
+  bypassMaxHoursManager: z.number().positive().max(24 * 90).default(72),
+  bypassAuthorizationLapseHours: z.number().positive().max(72).default(4),
+  compensatingMeasuresRequiredFor: z.enum(['trips_and_sil', 'all', 'sil_only']).default('trips_and_sil'),
+  bypassExpiryWarningHours: z.number().min(0).max(24).default(1),
+  bypassEscalationEveryHours: z.number().positive().max(48).default(4),
+  approvalsRequiredSil: z.number().int().min(1).max(5).default(2),
+  approvalsRequiredOther: z.number().int().min(1).max(5).default(1),
+  approvalExpiryDays: z.number().int().min(1).max(365).default(30),
+  testGraceFraction: z.number().min(0).max(0.5).default(0.1),
+  testGraceMaxDays: z.number().int().min(0).max(90).default(30),
+  witnessRequiredFor: z.enum(['sil_only', 'all', 'none']).default('sil_only'),
+  defaultTolerancePercentSpan: z.number().positive().max(10).default(0.5),
+})
+export type SitePolicy = z.infer<typeof SitePolicySchema>
+
+/** The default policy of a new site. */
+export const DEFAULT_SITE_POLICY: SitePolicy = SitePolicySchema.parse({})
+
+const timeZone = z.string().refine((tz) => {
+  try { new Intl.DateTimeFormat('en', { timeZone: tz }); return true } catch { return false }
+}, { message: 'Unknown time zone (use an IANA name such as Europe/Vienna)' })
+
+export const SiteSchema = z.object({
+  id: z.number().int(), code: z.string(), name: z.string(), timeZone: z.string(), policy: SitePolicySchema,
+})
+export type Site = z.infer<typeof SiteSchema>
+
+export const CreateSiteInputSchema = z.object({
+  code: z.string().trim().min(1, 'Enter a code').max(16).regex(/^[A-Z0-9-]+$/, 'Use capital letters, digits and dashes'),
+  name: z.string().trim().min(1, 'Enter a name').max(120),
+  timeZone,
+  policy: SitePolicySchema.partial().optional(),
+})
+export const UpdateSiteInputSchema = z.object({
+  name: z.string().trim().min(1).max(120).optional(),
+  timeZone: timeZone.optional(),
+  policy: SitePolicySchema.partial().optional(),
+})
+
+export const AreaSchema = z.object({ id: z.number().int(), siteId: z.number().int(), name: z.string() })
+export type Area = z.infer<typeof AreaSchema>
+export const CreateAreaInputSchema = z.object({ siteId: z.number().int().positive(), name: z.string().trim().min(1, 'Enter a name').max(120) })
+export const UpdateAreaInputSchema = z.object({ name: z.string().trim().min(1).max(120) })

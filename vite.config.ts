@@ -1,0 +1,50 @@
+import { fileURLToPath, URL } from 'node:url'
+import vue from '@vitejs/plugin-vue'
+import vuetify from 'vite-plugin-vuetify'
+import { defineConfig } from 'vitest/config'
+
+const alias = {
+  '@': fileURLToPath(new URL('./src', import.meta.url)),
+  '@shared': fileURLToPath(new URL('./shared', import.meta.url)),
+  '@server': fileURLToPath(new URL('./server', import.meta.url)),
+}
+
+// https://vite.dev/config/ and https://vitest.dev/config/
+export default defineConfig({
+  plugins: [vue(), vuetify({ autoImport: true })],
+  resolve: { alias },
+  server: {
+    port: 5173,
+    proxy: { '/api': { target: `http://127.0.0.1:${process.env.PORT ?? 8080}`, changeOrigin: false } },
+  },
+  build: { chunkSizeWarningLimit: 1500 },
+  test: {
+    testTimeout: 30_000,
+    hookTimeout: 120_000,
+    projects: [
+      {
+        resolve: { alias },
+        test: { name: 'unit', environment: 'node', include: ['tests/unit/shared/**/*.test.ts', 'tests/unit/server/**/*.test.ts'] },
+      },
+      {
+        plugins: [vue(), vuetify({ autoImport: true })],
+        resolve: { alias },
+        test: {
+          name: 'ui', environment: 'happy-dom', include: ['tests/unit/src/**/*.test.ts'],
+          server: { deps: { inline: ['vuetify'] } },
+        },
+      },
+      {
+        resolve: { alias },
+        test: { name: 'api', environment: 'node', include: ['tests/api/**/*.test.ts'], globalSetup: ['tests/global-setup.ts'] },
+      },
+      {
+        resolve: { alias },
+        test: {
+          name: 'browser', environment: 'node', include: ['tests/browser/**/*.spec.ts'], globalSetup: ['tests/global-setup.ts'],
+          fileParallelism: false,
+        },
+      },
+    ],
+  },
+})
