@@ -1,0 +1,40 @@
+import { createRouter, createWebHistory } from 'vue-router'
+import type { Action, SubjectName } from '@shared/abilities/index.ts'
+import { setUnauthenticatedHandler } from '@/api/client'
+import { ability } from '@/plugins/ability'
+import { useSessionStore } from '@/stores/session'
+import { routes } from './routes'
+
+declare module 'vue-router' {
+  interface RouteMeta {
+    layout?: 'auth' | 'default'
+    public?: boolean
+    /** The ability needed to open the route. */
+    can?: [Action, SubjectName]
+    title?: string
+  }
+}
+
+const router = createRouter({ history: createWebHistory(), routes })
+
+router.beforeEach(async (to) => {
+  const session = useSessionStore()
+  if (!session.loaded) await session.load().catch(() => undefined)
+  if (to.meta.public) return true
+  if (!session.signedIn) return { name: 'sign-in', query: { next: to.fullPath } }
+  if (to.meta.can && !ability.can(to.meta.can[0], to.meta.can[1])) return { name: 'home' }
+  return true
+})
+
+router.afterEach((to) => {
+  document.title = to.meta.title ? `${to.meta.title} · Limitkeeper` : 'Limitkeeper'
+})
+
+setUnauthenticatedHandler(() => {
+  const session = useSessionStore()
+  session.expire()
+  const current = router.currentRoute.value
+  if (!current.meta.public) void router.push({ name: 'sign-in', query: { next: current.fullPath, expired: '1' } })
+})
+
+export default router

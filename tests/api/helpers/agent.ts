@@ -1,0 +1,38 @@
+import request from 'supertest'
+import type { Express } from 'express'
+import { DEMO_PASSWORD } from '../../../server/seed/demo.ts'
+
+/** A supertest agent that keeps the session cookie and sends the CSRF token on every state-changing call. */
+export class ApiAgent {
+  readonly agent: ReturnType<typeof request.agent>
+  csrf = ''
+  constructor(app: Express) { this.agent = request.agent(app) }
+
+  async refreshCsrf() {
+    const res = await this.agent.get('/api/session').expect(200)
+    this.csrf = res.body.csrfToken
+    return res
+  }
+
+  get(url: string) { return this.agent.get(url) }
+  post(url: string, body?: unknown) { return this.agent.post(url).set('X-CSRF-Token', this.csrf).send(body as object) }
+  patch(url: string, body?: unknown) { return this.agent.patch(url).set('X-CSRF-Token', this.csrf).send(body as object) }
+  put(url: string, body?: unknown) { return this.agent.put(url).set('X-CSRF-Token', this.csrf).send(body as object) }
+  delete(url: string) { return this.agent.delete(url).set('X-CSRF-Token', this.csrf) }
+
+  /** Signs in (demo password by default) and keeps the fresh CSRF token; throws unless it worked. */
+  async signIn(email: string, password = DEMO_PASSWORD) {
+    if (!this.csrf) await this.refreshCsrf()
+    const res = await this.post('/api/session', { email, password })
+    if (res.status !== 201) throw new Error(`sign-in as ${email} failed: ${res.status} ${JSON.stringify(res.body)}`)
+    this.csrf = res.body.csrfToken
+    return res.body as { user: { id: number, roles: { siteId: number, role: string }[] } }
+  }
+}
+
+/** Signs in as a demo account by role name (`engineer`, `approver`, …). */
+export async function signedIn(app: Express, who: string): Promise<ApiAgent> {
+  const a = new ApiAgent(app)
+  await a.signIn(`${who}@fernhollow.example`)
+  return a
+}

@@ -1,0 +1,59 @@
+import { existsSync } from 'node:fs'
+import { type Browser, chromium, type Page } from 'playwright-core'
+import { afterAll, beforeAll } from 'vitest'
+import { loadConfig } from '../../server/config.ts'
+import { createDb } from '../../server/db/index.ts'
+import { startServer, type RunningServer } from '../../server/index.ts'
+import { AdjustableClock } from '../../server/clock.ts'
+import { seedDemo } from '../../server/seed/demo.ts'
+import { createTestDatabase } from '../api/helpers/test-db.ts'
+
+const CHROMIUM = process.env.CHROMIUM_PATH ?? '/usr/bin/chromium'
+
+/** Launches Debian's Chromium headless (playwright-core downloads nothing). */
+export function launchChromium(): Promise<Browser> {
+  if (!existsSync(CHROMIUM)) throw new Error(`Chromium not found at ${CHROMIUM}: install it with apt-get install chromium`)
+  return chromium.launch({
+    executablePath: CHROMIUM, headless: true,
+    args: ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--disable-dev-shm-usage'],
+  })
+}
+
+export interface BrowserContext { server: RunningServer, browser: Browser, clock: AdjustableClock, baseUrl: string, ownerUrl: string }
+
+/** Per test file: own database with the demo plant, the built app served on a free port, and Chromium. */
+export function useBrowserApp(opts: { seed?: (ownerUrl: string) => Promise<void> } = {}): BrowserContext {
+  const ctx = {} as BrowserContext
+  let drop = async () => {}
+  beforeAll(async () => {
+    if (!existsSync('dist/index.html')) throw new Error('Build the client first (npm run build); npm test does it')
+    const database = await createTestDatabase()
+    drop = database.drop
+    const clock = new AdjustableClock()
+    const owner = createDb(database.ownerUrl, 2).db
+    await seedDemo(owner, clock)
+    await owner.destroy()
+    if (opts.seed) await opts.seed(database.ownerUrl)
+    const config = loadConfig({ NODE_ENV: 'test', DATABASE_URL: database.appUrl, PORT: '0', SMTP_PORT: '1' })
+    ctx.clock = clock
+    ctx.ownerUrl = database.ownerUrl
+    ctx.server = await startServer(config, { clock, runJobs: false })
+    ctx.baseUrl = ctx.server.url
+    ctx.browser = await launchChromium()
+  })
+  afterAll(async () => {
+    await ctx.browser?.close()
+    await ctx.server?.close()
+    await drop()
+  })
+  return ctx
+}
+
+/** Signs in through the sign-in page and waits for the home page. */
+export async function signInAs(page: Page, baseUrl: string, who: string) {
+  await page.goto(`${baseUrl}/sign-in`)
+  await page.getByLabel('E-mail address').fill(`${who}@fernhollow.example`)
+  await page.getByLabel('Password').fill('limitkeeper-demo')
+  await page.locator('[data-test="sign-in"]').click()
+  await page.locator('[data-test="user-name"]').waitFor()
+}
