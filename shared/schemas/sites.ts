@@ -1,4 +1,12 @@
 import { z } from 'zod'
+import { DEFAULT_PRIORITY_MATRIX } from '../domain/priority.ts'
+
+const cell = z.enum(['low', 'medium', 'high', 'critical', 'none'])
+/** The alarm priority matrix: severity rows × time-to-respond columns (DOMAIN.md §6). */
+export const PriorityMatrixSchema = z.object({
+  responseTimeBoundsMin: z.array(z.number().positive()).min(1),
+  rows: z.object({ severe: z.array(cell), major: z.array(cell), moderate: z.array(cell), minor: z.array(cell) }),
+})
 
 /** Site policies of DOMAIN.md §6 (defaults are common practice, no standard behind the numbers). */
 export const SitePolicySchema = z.object({
@@ -15,6 +23,7 @@ export const SitePolicySchema = z.object({
   testGraceMaxDays: z.number().int().min(0).max(90).default(30),
   witnessRequiredFor: z.enum(['sil_only', 'all', 'none']).default('sil_only'),
   defaultTolerancePercentSpan: z.number().positive().max(10).default(0.5),
+  priorityMatrix: PriorityMatrixSchema.default(DEFAULT_PRIORITY_MATRIX),
 })
 export type SitePolicy = z.infer<typeof SitePolicySchema>
 

@@ -1,0 +1,128 @@
+import { OutOfRangeError } from './errors.ts'
+
+/**
+ * Analog process signals: 4–20 mA live-zero current (linear or square-root), voltage signals, shunt voltage and
+ * the NAMUR NE 43 signal bands. Formulas and bands from ../shared/reference/analog-signals.md.
+ */
+
+/** Live zero of the current signal, mA. */
+export const MA_LOW = 4
+/** Top of the current signal, mA. */
+export const MA_HIGH = 20
+/** Span of the current signal, mA. */
+export const MA_SPAN = MA_HIGH - MA_LOW
+/** Conventional shunt that turns 4–20 mA into 1–5 V, ohm (ISA-50.00.01, from memory in analog-signals.md). */
+export const SHUNT_OHMS = 250
+
+function checkRange(low: number, high: number): void {
+  if (!(Number.isFinite(low) && Number.isFinite(high)) || low === high) {
+    throw new RangeError(`The range ${low} … ${high} has no span`)
+  }
+}
+
+/** Fraction of span (0 at low, 1 at high) of an engineering value; works for reverse ranges (low > high). */
+export function fractionOfSpan(value: number, low: number, high: number): number {
+  checkRange(low, high)
+  return (value - low) / (high - low)
+}
+
+/** Current in mA for an engineering value over the range low … high, linear: I = 4 + 16·(PV − LRV)/(URV − LRV). */
+export function currentFromValue(value: number, low: number, high: number): number {
+  return MA_LOW + MA_SPAN * fractionOfSpan(value, low, high)
+}
+
+/** Engineering value for a current in mA over the range low … high, linear: PV = LRV + (I − 4)/16·(URV − LRV). */
+export function valueFromCurrent(mA: number, low: number, high: number): number {
+  checkRange(low, high)
+  return low + ((mA - MA_LOW) / MA_SPAN) * (high - low)
+}
+
+/**
+ * Current in mA of a differential-pressure transmitter with linear-in-ΔP output for a flow over low … high
+ * (normally 0 … Qmax): I = 4 + 16·((Q − low)/(high − low))². A flow below `low` has no signal: OutOfRangeError.
+ */
+export function sqrtCurrentFromFlow(flow: number, low: number, high: number): number {
+  const x = fractionOfSpan(flow, low, high)
+  if (!Number.isFinite(x) || x < 0) {
+    throw new OutOfRangeError('flow', flow, Math.min(low, high), Number.POSITIVE_INFINITY, 'eu',
+      'a square-root (ΔP) signal cannot represent a flow below the bottom of the range')
+  }
+  return MA_LOW + MA_SPAN * x * x
+}
+
+/** Options of the square-root extraction. */
+export interface SqrtOptions {
+  /** Flow forced to the range bottom below this percentage of flow span (site practice; no standard value). Default: none. */
+  lowFlowCutoffPercent?: number
+}
+
+/**
+ * Flow for a current in mA from a linear-in-ΔP transmitter: Q = low + (high − low)·√((I − 4)/16); I ≤ 4 mA gives `low`.
+ * An optional low-flow cut-off forces the result to `low` below that percentage of flow span.
+ */
+export function flowFromSqrtCurrent(mA: number, low: number, high: number, options: SqrtOptions = {}): number {
+  checkRange(low, high)
+  const x = mA <= MA_LOW ? 0 : Math.sqrt((mA - MA_LOW) / MA_SPAN)
+  const cutoff = options.lowFlowCutoffPercent ?? 0
+  if (x * 100 < cutoff) return low
+  return low + x * (high - low)
+}
+
+/** Voltage signal ranges: 0–10 V, 1–5 V, 0–5 V (and 1–10 V, which the data model also allows). */
+export interface VoltageRange { low: 0 | 1, high: 5 | 10 }
+
+/** Voltage for an engineering value over low … high on a voltage signal, linear. */
+export function voltageFromValue(value: number, low: number, high: number, signal: VoltageRange): number {
+  return signal.low + (signal.high - signal.low) * fractionOfSpan(value, low, high)
+}
+
+/** Engineering value for a voltage on a voltage signal over low … high, linear. */
+export function valueFromVoltage(volts: number, low: number, high: number, signal: VoltageRange): number {
+  checkRange(low, high)
+  return low + ((volts - signal.low) / (signal.high - signal.low)) * (high - low)
+}
+
+/** Voltage in V across a shunt (default 250 Ω) carrying mA: U = I·R. */
+export function shuntVoltage(mA: number, ohms: number = SHUNT_OHMS): number {
+  return (mA / 1000) * ohms
+}
+
+/** Current in mA through a shunt (default 250 Ω) showing volts: I = U/R. */
+export function currentFromShuntVoltage(volts: number, ohms: number = SHUNT_OHMS): number {
+  return (volts / ohms) * 1000
+}
+
+/**
+ * NAMUR NE 43 class of a loop current: failure_low (≤ 3.6 mA), uncertain_low (3.6 … 3.8, not used for measurement),
+ * under_range (3.8 … < 4.0), measuring (4.0 … 20.0), over_range (> 20.0 … 20.5), uncertain_high (20.5 … 21.0, not used),
+ * failure_high (≥ 21.0).
+ */
+export type Ne43Class =
+  | 'failure_low' | 'uncertain_low' | 'under_range' | 'measuring' | 'over_range' | 'uncertain_high' | 'failure_high'
+
+/** Thresholds of the NE 43 classification, mA; configurable per loop for devices that signal failure elsewhere. */
+export interface Ne43Thresholds { failureLow: number, measureLow: number, measureHigh: number, failureHigh: number }
+
+/** NE 43 thresholds (3.6 / 3.8 / 20.5 / 21.0 mA) [NE 43 via analog-signals.md]. */
+export const NE43_THRESHOLDS: Ne43Thresholds = { failureLow: 3.6, measureLow: 3.8, measureHigh: 20.5, failureHigh: 21 }
+
+// Computed currents carry binary rounding noise (e.g. 3.8000000000000003); compare with this margin.
+const MA_EPS = 1e-9
+
+/** Classifies a current in mA by the NE 43 bands (boundaries inclusive as in NE 43: 3.6 is failure, 3.8 and 20.5 measure). */
+export function classifyCurrent(mA: number, thresholds: Ne43Thresholds = NE43_THRESHOLDS): Ne43Class {
+  if (Number.isNaN(mA)) throw new RangeError('Current is not a number')
+  if (mA <= thresholds.failureLow + MA_EPS) return 'failure_low'
+  if (mA >= thresholds.failureHigh - MA_EPS) return 'failure_high'
+  if (mA < thresholds.measureLow - MA_EPS) return 'uncertain_low'
+  if (mA > thresholds.measureHigh + MA_EPS) return 'uncertain_high'
+  if (mA < MA_LOW - MA_EPS) return 'under_range'
+  if (mA > MA_HIGH + MA_EPS) return 'over_range'
+  return 'measuring'
+}
+
+/** True when a current carries measurement information under NE 43 (3.8 … 20.5 mA). */
+export function isMeasurementCurrent(mA: number, thresholds: Ne43Thresholds = NE43_THRESHOLDS): boolean {
+  const c = classifyCurrent(mA, thresholds)
+  return c === 'under_range' || c === 'measuring' || c === 'over_range'
+}

@@ -1,0 +1,170 @@
+// Full-test due dates of a limit (DOMAIN.md §5). Rules, edges and sources: docs/domain/due-dates.md.
+import { TZDate } from '@date-fns/tz'
+import { addDays, addMonths, differenceInCalendarDays, format } from 'date-fns'
+
+/** Hours in one month for reliability figures (DOMAIN.md §5: 1 month = 730 h, i.e. 8 760 h / 12). */
+export const HOURS_PER_MONTH = 730
+
+/** A limit is 'due_soon' when its due date is at most this many days away (site convention). */
+export const DUE_SOON_DAYS = 30
+
+/** Longest default grace period, days (DOMAIN.md §6). */
+export const MAX_DEFAULT_GRACE_DAYS = 30
+
+/** A recorded trip test, as far as due dates are concerned. */
+export interface DueDateTest {
+  id?: string | number
+  performedAt: Date
+  kind: 'full' | 'partial'
+  /** As-left in tolerance and as-found neither out_dangerous nor no_trip. */
+  passed: boolean
+}
+
+/** Everything the due-date computation needs; `now` included. */
+export interface DueDateInput {
+  testIntervalMonths: number
+  /** null: site-policy default, see defaultGraceDays */
+  testGraceDays: number | null
+  /** The interval is set by a code (e.g. an annual furnace-interlock test): default grace 0. */
+  codeSetInterval?: boolean
+  tests: DueDateTest[]
+  /** IANA zone of the site, e.g. 'Europe/Berlin'. */
+  timeZone: string
+  now: Date
+}
+
+/** Test-status of a limit. */
+export type TestDueStatus = 'never_tested' | 'ok' | 'due_soon' | 'in_grace' | 'overdue'
+
+/** A full test done after the due date that was in force when it was performed. */
+export interface LateTest {
+  id?: string | number
+  performedAt: Date
+  performedOn: string
+  passed: boolean
+  dueDate: string
+  graceEnd: string
+  daysLate: number
+  /** true: inside the grace period ("late"); false: after it (the limit was overdue). */
+  withinGrace: boolean
+}
+
+/** Due-date figures of one limit; dates are 'YYYY-MM-DD' calendar dates in the site's time zone. */
+export interface DueDateResult {
+  lastFullPass: string | null
+  dueDate: string | null
+  graceEnd: string | null
+  graceDays: number
+  today: string
+  status: TestDueStatus
+  /** Calendar days from today to the due date; negative once past; null without a passing full test. */
+  daysUntilDue: number | null
+  lateTests: LateTest[]
+}
+
+/** Proof-test interval in hours for reliability figures (1 month = 730 h). */
+export function intervalHours(months: number): number {
+  return months * HOURS_PER_MONTH
+}
+
+/**
+ * Site-policy default grace period (DOMAIN.md §6): 0 for a code-set interval, else 10 % of the interval,
+ * at most 30 days; the interval is taken at 730 h per month and the result rounded down to whole days.
+ */
+export function defaultGraceDays(intervalMonths: number, codeSet: boolean): number {
+  if (!(intervalMonths > 0)) throw new RangeError('test interval must be a positive number of months')
+  if (codeSet) return 0
+  // 10 % of months × 730 h, in days: months × 73 / 24
+  return Math.min(MAX_DEFAULT_GRACE_DAYS, Math.floor((intervalMonths * 73) / 24))
+}
+
+function checkTimeZone(timeZone: string): void {
+  try {
+    Intl.DateTimeFormat('en-US', { timeZone })
+  } catch {
+    throw new RangeError(`unknown time zone: ${timeZone}`)
+  }
+}
+
+/** The calendar date of an instant in a zone, as a zone-free (UTC) calendar day for arithmetic. */
+function calendarDay(instant: Date, timeZone: string): TZDate {
+  const local = new TZDate(instant.getTime(), timeZone)
+  return new TZDate(local.getFullYear(), local.getMonth(), local.getDate(), 'UTC')
+}
+
+const iso = (day: TZDate): string => format(day, 'yyyy-MM-dd')
+
+/** Computes the full-test due date, grace end, status and late tests of a limit (pure; `now` is an input). */
+export function computeDueDates(input: DueDateInput): DueDateResult {
+  const { testIntervalMonths: months, timeZone } = input
+  if (!Number.isInteger(months) || months < 1) throw new RangeError('test interval must be a whole number of months ≥ 1')
+  if (input.testGraceDays !== null && (!Number.isInteger(input.testGraceDays) || input.testGraceDays < 0)) {
+    throw new RangeError('grace days must be a whole number ≥ 0')
+  }
+  checkTimeZone(timeZone)
+  const graceDays = input.testGraceDays ?? defaultGraceDays(months, input.codeSetInterval ?? false)
+  const today = calendarDay(input.now, timeZone)
+
+  // full tests up to now, oldest first; tests recorded with a future time are ignored
+  const fullTests = input.tests
+    .filter((t) => t.kind === 'full' && t.performedAt.getTime() <= input.now.getTime())
+    .sort((a, b) => a.performedAt.getTime() - b.performedAt.getTime())
+
+  let lastPass: TZDate | null = null
+  const lateTests: LateTest[] = []
+  for (const t of fullTests) {
+    const day = calendarDay(t.performedAt, timeZone)
+    if (lastPass !== null) {
+      const due = addMonths(lastPass, months)
+      const graceEnd = addDays(due, graceDays)
+      const daysLate = differenceInCalendarDays(day, due)
+      if (daysLate > 0) {
+        lateTests.push({
+          ...(t.id === undefined ? {} : { id: t.id }),
+          performedAt: t.performedAt,
+          performedOn: iso(day),
+          passed: t.passed,
+          dueDate: iso(due),
+          graceEnd: iso(graceEnd),
+          daysLate,
+          withinGrace: differenceInCalendarDays(day, graceEnd) <= 0,
+        })
+      }
+    }
+    if (t.passed) lastPass = day
+  }
+
+  if (lastPass === null) {
+    return {
+      lastFullPass: null,
+      dueDate: null,
+      graceEnd: null,
+      graceDays,
+      today: iso(today),
+      status: 'never_tested',
+      daysUntilDue: null,
+      lateTests,
+    }
+  }
+
+  const due = addMonths(lastPass, months)
+  const graceEnd = addDays(due, graceDays)
+  const daysUntilDue = differenceInCalendarDays(due, today)
+  const daysUntilGraceEnd = differenceInCalendarDays(graceEnd, today)
+  const status: TestDueStatus = daysUntilGraceEnd < 0
+    ? 'overdue'
+    : daysUntilDue < 0
+      ? 'in_grace'
+      : daysUntilDue <= DUE_SOON_DAYS ? 'due_soon' : 'ok'
+
+  return {
+    lastFullPass: iso(lastPass),
+    dueDate: iso(due),
+    graceEnd: iso(graceEnd),
+    graceDays,
+    today: iso(today),
+    status,
+    daysUntilDue,
+    lateTests,
+  }
+}

@@ -1,0 +1,67 @@
+import { ErrorCode } from '../errors.ts'
+
+function show(x: number): string {
+  if (Number.isFinite(x)) return String(Number(x.toPrecision(7)))
+  return Number.isNaN(x) ? 'NaN' : x > 0 ? '∞' : '−∞'
+}
+
+/** A value lies outside the range where a reference function (or a signal) is defined; never extrapolated. */
+export class OutOfRangeError extends Error {
+  /** API error code the server answers with (422). */
+  readonly code = ErrorCode.UNPROCESSABLE
+  /** What was out of range, e.g. 'temperature', 'emf', 'resistance', 'flow'. */
+  readonly quantity: string
+  /** The value that was refused. */
+  readonly value: number
+  /** Lowest accepted value (inclusive), in `unit`. */
+  readonly min: number
+  /** Highest accepted value (inclusive), in `unit`. */
+  readonly max: number
+  /** Unit of value, min and max. */
+  readonly unit: string
+
+  /** Builds the error; `explanation` is appended to the standard message. */
+  constructor(quantity: string, value: number, min: number, max: number, unit: string, explanation?: string) {
+    super(`${quantity} ${show(value)} ${unit} is outside the valid range ${show(min)} … ${show(max)} ${unit}`
+      + (explanation ? `: ${explanation}` : ''))
+    this.name = 'OutOfRangeError'
+    this.quantity = quantity
+    this.value = value
+    this.min = min
+    this.max = max
+    this.unit = unit
+  }
+}
+
+/** An input needed for a computation was not given (e.g. the cold-junction temperature for an mV source). */
+export class MissingInputError extends Error {
+  /** API error code the server answers with (400). */
+  readonly code = ErrorCode.VALIDATION_FAILED
+  /** Name of the missing input, e.g. 'coldJunctionC'. */
+  readonly field: string
+
+  /** Builds the error for the named input. */
+  constructor(field: string, message?: string) {
+    super(message ?? `${field} is required`)
+    this.name = 'MissingInputError'
+    this.field = field
+  }
+}
+
+/** A unit is unknown, or two units cannot be converted into each other (different quantity, gauge vs absolute). */
+export class UnitConversionError extends Error {
+  /** API error code the server answers with (422). */
+  readonly code = ErrorCode.UNPROCESSABLE
+  /** Source unit as given. */
+  readonly from: string
+  /** Target unit as given (empty when only one unit was checked). */
+  readonly to: string
+
+  /** Builds the error with a plain-English reason. */
+  constructor(from: string, to: string, message: string) {
+    super(message)
+    this.name = 'UnitConversionError'
+    this.from = from
+    this.to = to
+  }
+}

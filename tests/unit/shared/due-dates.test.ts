@@ -1,0 +1,236 @@
+import { describe, expect, it } from 'vitest'
+import {
+  computeDueDates,
+  defaultGraceDays,
+  intervalHours,
+  type DueDateInput,
+  type DueDateTest,
+} from '../../../shared/domain/due-dates.ts'
+
+const at = (iso: string): Date => new Date(iso)
+const full = (iso: string, passed = true): DueDateTest => ({ performedAt: at(iso), kind: 'full', passed })
+const partial = (iso: string, passed = true): DueDateTest => ({ performedAt: at(iso), kind: 'partial', passed })
+
+function due(overrides: Partial<DueDateInput>) {
+  return computeDueDates({
+    testIntervalMonths: 12,
+    testGraceDays: 30,
+    tests: [],
+    timeZone: 'UTC',
+    now: at('2025-01-01T12:00:00Z'),
+    ...overrides,
+  })
+}
+
+describe('intervalHours', () => {
+  // DOMAIN.md §5: 1 month = 730 h; 12 months = 8 760 h = 1 year and 3 months = 2 190 h as used in
+  // ../shared/reference/sif-reliability.md (1oo1 variants table)
+  it.each([[1, 730], [3, 2190], [6, 4380], [12, 8760], [24, 17520]])('%s months → %s h', (months, hours) => {
+    expect(intervalHours(months)).toBe(hours)
+  })
+})
+
+describe('defaultGraceDays', () => {
+  // DOMAIN.md §6 site policy (common practice): 0 under a code-set interval, else 10 % of the interval, at most 30 days;
+  // our reading: interval at 730 h per month, rounded down to whole days (e.g. 6 months = 4 380 h → 438 h = 18.25 d → 18)
+  it.each<[number, boolean, number]>([
+    [0.5, false, 1], // 1.52 days: rounded down, not to nearest (for whole months below 12 both agree)
+    [1, false, 3],
+    [3, false, 9],
+    [6, false, 18],
+    [9, false, 27],
+    [10, false, 30],
+    [12, false, 30],
+    [48, false, 30],
+    [12, true, 0],
+    [1, true, 0],
+  ])('%s months, code-set %s → %s days', (months, codeSet, days) => {
+    expect(defaultGraceDays(months, codeSet)).toBe(days)
+  })
+
+  it.each([0, -1, Number.NaN])('rejects an interval of %s months', (months) => {
+    expect(() => defaultGraceDays(months, false)).toThrow(RangeError)
+  })
+
+  it('is used when testGraceDays is null', () => {
+    expect(due({ testGraceDays: null, testIntervalMonths: 6 }).graceDays).toBe(18)
+    expect(due({ testGraceDays: null, testIntervalMonths: 12, codeSetInterval: true }).graceDays).toBe(0)
+    expect(due({ testGraceDays: 5 }).graceDays).toBe(5)
+  })
+})
+
+describe('computeDueDates: calendar months with month-end clamping', () => {
+  // Check values: ../shared/reference/test-acceptance.md, "Interval bookkeeping conventions" (computed there);
+  // the 2024-01-31 row follows from the same clamping rule (computed here by hand: 2024 is a leap year).
+  it.each<[string, number, string]>([
+    ['2024-03-15', 12, '2025-03-15'],
+    ['2024-08-31', 6, '2025-02-28'],
+    ['2024-02-29', 12, '2025-02-28'],
+    ['2024-02-29', 24, '2026-02-28'],
+    ['2025-01-31', 1, '2025-02-28'],
+    ['2023-10-31', 36, '2026-10-31'],
+    ['2024-01-31', 1, '2024-02-29'],
+    ['2024-02-29', 48, '2028-02-29'],
+  ])('last pass %s + %s months → due %s', (day, months, expected) => {
+    const r = due({ testIntervalMonths: months, tests: [full(`${day}T12:00:00Z`)], now: at(`${day}T13:00:00Z`) })
+    expect(r.lastFullPass).toBe(day)
+    expect(r.dueDate).toBe(expected)
+  })
+})
+
+describe('computeDueDates: status', () => {
+  // DOMAIN.md §5: overdue when today > due date + grace; due_soon = due within 30 days (site convention, common practice).
+  // Last pass 2024-03-15, 12 months → due 2025-03-15; grace 30 → grace end 2025-04-14.
+  const tests = [full('2024-03-15T09:00:00Z')]
+  it.each<[number, string, string, number]>([
+    [30, '2025-02-12', 'ok', 31],
+    [30, '2025-02-13', 'due_soon', 30],
+    [30, '2025-03-15', 'due_soon', 0],
+    [30, '2025-03-16', 'in_grace', -1],
+    [30, '2025-04-14', 'in_grace', -30],
+    [30, '2025-04-15', 'overdue', -31],
+    [0, '2025-03-15', 'due_soon', 0],
+    [0, '2025-03-16', 'overdue', -1],
+  ])('grace %s, today %s → %s (%s days to due)', (grace, today, status, days) => {
+    const r = due({ testGraceDays: grace, tests, now: at(`${today}T12:00:00Z`) })
+    expect(r.status).toBe(status)
+    expect(r.daysUntilDue).toBe(days)
+    expect(r.today).toBe(today)
+  })
+
+  it('reports the grace end', () => {
+    expect(due({ tests, now: at('2025-01-01T00:00:00Z') }).graceEnd).toBe('2025-04-14')
+    expect(due({ tests, testGraceDays: 0, now: at('2025-01-01T00:00:00Z') }).graceEnd).toBe('2025-03-15')
+  })
+
+  it.each<[string, DueDateTest[]]>([
+    ['no tests at all', []],
+    ['only failed full tests', [full('2024-05-01T08:00:00Z', false)]],
+    ['only partial tests', [partial('2024-05-01T08:00:00Z')]],
+    ['a passing full test dated after now', [full('2025-06-01T08:00:00Z')]],
+  ])('%s → never_tested', (_name, list) => {
+    const r = due({ tests: list })
+    expect(r).toMatchObject({ status: 'never_tested', lastFullPass: null, dueDate: null, graceEnd: null, daysUntilDue: null })
+  })
+})
+
+describe('computeDueDates: history rules', () => {
+  // DOMAIN.md §5: due date counts from the last completed full test that passed; after a failure it counts from the
+  // passing retest; partial tests never move the full-test due date.
+  it('ignores partial tests, passed or not', () => {
+    const r = due({
+      tests: [full('2024-03-15T09:00:00Z'), partial('2024-12-01T09:00:00Z'), partial('2025-01-02T09:00:00Z', false)],
+      now: at('2025-01-10T12:00:00Z'),
+    })
+    expect(r.lastFullPass).toBe('2024-03-15')
+    expect(r.dueDate).toBe('2025-03-15')
+  })
+
+  it('keeps counting from the last pass after a failed full test', () => {
+    const r = due({ tests: [full('2024-03-15T09:00:00Z'), full('2025-03-01T09:00:00Z', false)], now: at('2025-03-20T12:00:00Z') })
+    expect(r.lastFullPass).toBe('2024-03-15')
+    expect(r.status).toBe('in_grace')
+  })
+
+  it('counts from the passing retest after a failure', () => {
+    const r = due({
+      tests: [full('2025-03-10T09:00:00Z'), full('2024-03-15T09:00:00Z'), full('2025-03-01T09:00:00Z', false)],
+      now: at('2025-03-20T12:00:00Z'),
+    })
+    expect(r.lastFullPass).toBe('2025-03-10')
+    expect(r.dueDate).toBe('2026-03-10')
+    expect(r.status).toBe('ok')
+    expect(r.lateTests).toEqual([])
+  })
+
+  it('orders same-day tests by time: fail then pass counts as passed that day', () => {
+    const failThenPass = due({ tests: [full('2024-06-01T10:00:00Z'), full('2024-06-01T08:00:00Z', false)], now: at('2024-06-02T00:00:00Z') })
+    expect(failThenPass.lastFullPass).toBe('2024-06-01')
+    const passThenFail = due({ tests: [full('2024-06-01T08:00:00Z'), full('2024-06-01T10:00:00Z', false)], now: at('2024-06-02T00:00:00Z') })
+    expect(passThenFail.lastFullPass).toBe('2024-06-01')
+  })
+
+  // DOMAIN.md §5: a test done inside the grace period is reported as late; the next due date counts from the late
+  // test (common practice, ../shared/reference/test-acceptance.md: "a late test shifts the next due date").
+  // Due 2025-03-15, grace 30 → grace end 2025-04-14.
+  it.each<[string, boolean, number | null, boolean | null]>([
+    ['2025-03-15', false, null, null],
+    ['2025-03-16', true, 1, true],
+    ['2025-04-14', true, 30, true],
+    ['2025-04-15', true, 31, false],
+  ])('full test on %s: late %s (days late %s, within grace %s)', (day, late, daysLate, withinGrace) => {
+    const r = due({ tests: [full('2024-03-15T09:00:00Z'), full(`${day}T09:00:00Z`)], now: at('2025-05-01T12:00:00Z') })
+    expect(r.lastFullPass).toBe(day)
+    expect(r.lateTests).toHaveLength(late ? 1 : 0)
+    if (late) {
+      expect(r.lateTests[0]).toMatchObject({ performedOn: day, dueDate: '2025-03-15', graceEnd: '2025-04-14', daysLate, withinGrace })
+    }
+  })
+
+  it('reports a late failed test and its late retest against the same due date', () => {
+    const r = due({
+      tests: [full('2024-03-15T09:00:00Z'), full('2025-03-20T09:00:00Z', false), full('2025-03-25T09:00:00Z')],
+      now: at('2025-05-01T12:00:00Z'),
+    })
+    expect(r.lateTests.map((t) => [t.performedOn, t.passed, t.dueDate])).toEqual([
+      ['2025-03-20', false, '2025-03-15'],
+      ['2025-03-25', true, '2025-03-15'],
+    ])
+    expect(r.dueDate).toBe('2026-03-25')
+  })
+
+  it('never reports partial tests as late', () => {
+    const r = due({ tests: [full('2024-03-15T09:00:00Z'), partial('2025-03-20T09:00:00Z')], now: at('2025-03-21T12:00:00Z') })
+    expect(r.lateTests).toEqual([])
+  })
+
+  it('carries the test id into the late list', () => {
+    const r = due({
+      tests: [full('2024-03-15T09:00:00Z'), { ...full('2025-03-20T09:00:00Z'), id: 'T-7' }],
+      now: at('2025-03-21T12:00:00Z'),
+    })
+    expect(r.lateTests[0].id).toBe('T-7')
+  })
+})
+
+describe('computeDueDates: time zones', () => {
+  // DOMAIN.md §5: due dates are calendar dates in the site's zone. 2025-01-31T23:30Z is 2025-02-01 00:30 CET in Berlin
+  // (UTC+1 in winter), 18:30 EST on 2025-01-31 in New York (UTC−5).
+  it.each<[string, string, string]>([
+    ['UTC', '2025-01-31', '2025-02-28'],
+    ['Europe/Berlin', '2025-02-01', '2025-03-01'],
+    ['America/New_York', '2025-01-31', '2025-02-28'],
+  ])('a test at 2025-01-31T23:30Z in %s is dated %s, due %s', (timeZone, day, dueDate) => {
+    const r = due({ testIntervalMonths: 1, timeZone, tests: [full('2025-01-31T23:30:00Z')], now: at('2025-02-10T12:00:00Z') })
+    expect(r.lastFullPass).toBe(day)
+    expect(r.dueDate).toBe(dueDate)
+  })
+
+  it('takes today in the site zone: 23:00Z on the due date is already the next day in Berlin (CET)', () => {
+    const base = { testIntervalMonths: 12, testGraceDays: 5, timeZone: 'Europe/Berlin', tests: [full('2024-03-15T09:00:00Z')] }
+    expect(due({ ...base, now: at('2025-03-15T22:59:59Z') })).toMatchObject({ today: '2025-03-15', status: 'due_soon', daysUntilDue: 0 })
+    expect(due({ ...base, now: at('2025-03-15T23:00:00Z') })).toMatchObject({ today: '2025-03-16', status: 'in_grace', daysUntilDue: -1 })
+  })
+
+  it('counts calendar days across a daylight-saving change (Berlin, 2025-03-30)', () => {
+    // last pass 2025-02-28 + 1 month = 2025-03-28; from today 2025-03-27 (CET) that is 1 day; no 23-hour day counts short
+    const r = due({ testIntervalMonths: 1, timeZone: 'Europe/Berlin', tests: [full('2025-02-28T10:00:00Z')], now: at('2025-03-27T12:00:00Z') })
+    expect(r.daysUntilDue).toBe(1)
+    const after = due({ testIntervalMonths: 1, testGraceDays: 3, timeZone: 'Europe/Berlin', tests: [full('2025-02-28T10:00:00Z')], now: at('2025-03-31T21:59:00Z') })
+    expect(after).toMatchObject({ today: '2025-03-31', graceEnd: '2025-03-31', status: 'in_grace', daysUntilDue: -3 })
+    const next = due({ testIntervalMonths: 1, testGraceDays: 3, timeZone: 'Europe/Berlin', tests: [full('2025-02-28T10:00:00Z')], now: at('2025-03-31T22:00:00Z') })
+    expect(next).toMatchObject({ today: '2025-04-01', status: 'overdue' })
+  })
+})
+
+describe('computeDueDates: input checks', () => {
+  it.each<[string, Partial<DueDateInput>]>([
+    ['interval 0', { testIntervalMonths: 0 }],
+    ['fractional interval', { testIntervalMonths: 1.5 }],
+    ['negative grace', { testGraceDays: -1 }],
+    ['fractional grace', { testGraceDays: 2.5 }],
+    ['unknown time zone', { timeZone: 'Mars/Olympus_Mons' }],
+  ])('rejects %s', (_name, overrides) => {
+    expect(() => due(overrides)).toThrow(RangeError)
+  })
+})
