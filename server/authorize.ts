@@ -11,3 +11,14 @@ export function authorize(ability: AppAbility, action: Action, name: Exclude<Sub
 export function allows(ability: AppAbility, action: Action, name: Exclude<SubjectName, 'all'>, obj?: Record<string, unknown>): boolean {
   return obj ? ability.can(action, subject(name, { ...obj }) as never) : ability.can(action, name)
 }
+
+/** Every site where the user holds any role (what they may read). */
+export function userSiteIds(user: { roles: { siteId: number }[] } | null): number[] {
+  return [...new Set((user?.roles ?? []).map((r) => r.siteId))]
+}
+
+/** The requested sites narrowed to the user's sites (all of theirs when none requested). */
+export function scopeSites(user: { roles: { siteId: number }[] } | null, requested?: number[]): number[] {
+  const mine = userSiteIds(user)
+  return requested?.length ? requested.filter((s) => mine.includes(s)) : mine
+}

@@ -69,6 +69,116 @@ export interface JobScheduleTable {
 }
 export interface SessionTable { sid: string, sess: unknown, expire: Timestamp }
 
+type Numeric = ColumnType<string, string | number, string | number>
+type NullableNumeric = ColumnType<string | null, string | number | null, string | number | null>
+type JsonValue<T> = ColumnType<T, string, string>
+
+export interface ProcessTable {
+  id: Generated<number>
+  area_id: number
+  site_id: number
+  name: string
+  description: Generated<string>
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+export interface InstrumentTable {
+  id: Generated<number>
+  process_id: number
+  area_id: number
+  site_id: number
+  tag: string
+  measured_variable: string
+  unit: string
+  pressure_reference: string | null
+  range_low: Numeric
+  range_high: Numeric
+  normal_low: NullableNumeric
+  normal_high: NullableNumeric
+  design_low: NullableNumeric
+  design_high: NullableNumeric
+  burnout: string
+  signal: JsonValue<Record<string, unknown>>
+  device_kind: string
+  device_description: Generated<string>
+  revision: Generated<number>
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+export interface LimitFunctionTable {
+  id: Generated<number>
+  process_id: number
+  area_id: number
+  site_id: number
+  primary_instrument_id: number
+  tag: string
+  description: Generated<string>
+  direction: string
+  limit_class: string
+  setpoint: Numeric
+  deadband: Numeric
+  deadband_unit: string
+  on_delay_sec: Numeric
+  off_delay_sec: Numeric
+  latching: boolean
+  reset_role: string | null
+  bad_value_trip: boolean
+  action: string
+  consequence: string
+  operator_response: string
+  response_time_min: NullableNumeric
+  severity: string
+  priority: string | null
+  priority_explanation: string
+  analytical_limit: NullableNumeric
+  process_safety_time_sec: NullableNumeric
+  required_response_time_sec: NullableNumeric
+  bypass_permitted: boolean
+  max_bypass_hours: NullableNumeric
+  compensating_measures: JsonValue<string[]>
+  test_interval_months: number
+  test_grace_days: number | null
+  code_set_interval: boolean
+  sil: number | null
+  subsystems: JsonValue<unknown[]>
+  status: Generated<string>
+  revision: Generated<number>
+  protection_state: Generated<string>
+  window_errors: JsonValue<{ code: string, field?: string, message: string }[]>
+  window_warnings: JsonValue<{ code: string, field?: string, message: string }[]>
+  has_window_errors: ColumnType<boolean, never, never>
+  has_window_warnings: ColumnType<boolean, never, never>
+  search_text: ColumnType<string, never, never>
+  created_by: number | null
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+export interface LimitInstrumentTable { limit_id: number, position: number, instrument_id: number }
+export interface RevisionTable {
+  id: Generated<number>
+  revision: number
+  snapshot: JsonValue<Record<string, unknown>>
+  changed_by: number | null
+  changed_at: Timestamp
+  change_request_id: number | null
+  reason: string | null
+}
+export interface LimitRevisionTable extends RevisionTable { limit_id: number }
+export interface InstrumentRevisionTable extends RevisionTable { instrument_id: number }
+export interface ImportBatchTable {
+  id: Generated<number>
+  site_id: number
+  created_by: number
+  file_name: string
+  checksum: string
+  row_count: number
+  rows: JsonValue<unknown[]>
+  status: Generated<string>
+  created_at: Timestamp
+  committed_at: Timestamp | null
+}
+export interface ImportMappingTable { user_id: number, mapping: JsonValue<Record<string, string>>, updated_at: Timestamp }
+
 /** The database as Kysely sees it (kept by hand beside the migrations). */
 export interface Database {
   app_user: AppUserTable
@@ -80,7 +190,19 @@ export interface Database {
   mail_outbox: MailOutboxTable
   job_schedule: JobScheduleTable
   session: SessionTable
+  process: ProcessTable
+  instrument: InstrumentTable
+  limit_function: LimitFunctionTable
+  limit_instrument: LimitInstrumentTable
+  limit_revision: LimitRevisionTable
+  instrument_revision: InstrumentRevisionTable
+  import_batch: ImportBatchTable
+  import_mapping: ImportMappingTable
 }
+
+export type ProcessRow = Selectable<ProcessTable>
+export type InstrumentRow = Selectable<InstrumentTable>
+export type LimitFunctionRow = Selectable<LimitFunctionTable>
 
 export type AppUserRow = Selectable<AppUserTable>
 export type SiteRow = Selectable<SiteTable>

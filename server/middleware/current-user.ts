@@ -24,7 +24,8 @@ export function currentUser(deps: AppDeps): RequestHandler {
       const user = expired ? undefined : await findUserById(deps.db, s.userId)
       if (!user || !user.active) {
         await new Promise<void>((resolve, reject) => s.regenerate((err) => (err ? reject(err) : resolve())))
-        if (expired && req.path !== '/api/session') {
+        // GET /api/session answers anonymously (with a new CSRF token) so the client can offer sign-in again
+        if (expired && req.baseUrl + req.path !== '/api/session') {
           return next(new AppError(401, ErrorCode.SESSION_EXPIRED, 'Your session has ended; sign in again'))
         }
       } else {

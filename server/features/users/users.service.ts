@@ -1,7 +1,7 @@
 import { ErrorCode } from '../../../shared/errors.ts'
 import type { ListQuery, ListResult } from '../../../shared/schemas/common.ts'
 import type { CreateUserInput, UpdateUserInput, User } from '../../../shared/schemas/users.ts'
-import { authorize } from '../../authorize.ts'
+import { allows, authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { AppUserRow } from '../../db/schema.ts'
 import { AppError, conflict, notFound, validationFailed } from '../../errors.ts'
@@ -37,9 +37,17 @@ async function assertSitesExist(deps: AppDeps, roles: RoleList) {
   if (found.length !== ids.length) throw validationFailed({ roles: ['A role refers to a site that does not exist'] })
 }
 
+/** Admins act on accounts only at sites where they hold the admin role (role assignments are per site, DOMAIN.md §2). */
+function assertAdministers(ability: AppAbility, siteIds: number[]) {
+  for (const id of new Set(siteIds)) {
+    if (!allows(ability, 'update', 'Site', { id })) throw new AppError(403, ErrorCode.FORBIDDEN, 'You can manage accounts and roles only at sites you administer')
+  }
+}
+
 export async function createUser(deps: AppDeps, ability: AppAbility, ctx: AuditContext, input: CreateUserInput): Promise<User> {
   authorize(ability, 'create', 'User')
   await assertSitesExist(deps, input.roles)
+  assertAdministers(ability, input.roles.map((r) => r.siteId))
   if (await repo.findUserByEmail(deps.db, input.email)) throw conflict('An account with this e-mail address exists already', { fields: { email: ['Already in use'] } })
   const hash = await hashPassword(input.password)
   const now = deps.clock.now()
@@ -55,9 +63,17 @@ export async function createUser(deps: AppDeps, ability: AppAbility, ctx: AuditC
 
 export async function updateUser(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number, input: UpdateUserInput): Promise<User> {
   authorize(ability, 'update', 'User', { id })
+  const current = (await repo.findRolesByUserIds(deps.db, [id])).get(id) ?? []
+  // name, active flag and password belong to the whole account: every site where it holds a role must be the admin's
+  if (input.displayName !== undefined || input.active !== undefined || input.password !== undefined) assertAdministers(ability, current.map((r) => r.siteId))
   if (input.roles) {
     authorize(ability, 'assign_roles', 'User', { id })
     await assertSitesExist(deps, input.roles)
+    // only the assignments that change count: added ones and removed ones
+    const key = (r: { siteId: number, role: string }) => `${r.siteId}:${r.role}`
+    const was = new Set(current.map(key))
+    const will = new Set(input.roles.map(key))
+    assertAdministers(ability, [...current.filter((r) => !will.has(key(r))), ...input.roles.filter((r) => !was.has(key(r)))].map((r) => r.siteId))
   }
   if (input.active === false && ctx.actorId === id) throw new AppError(403, ErrorCode.FORBIDDEN, 'You cannot deactivate your own account')
   const hash = input.password ? await hashPassword(input.password) : undefined

@@ -1,0 +1,127 @@
+import { type Kysely, type SelectQueryBuilder, sql, type Transaction } from 'kysely'
+import type { Database } from '../../db/schema.ts'
+import type { LimitListRow } from './register.mappers.ts'
+
+type Q = Kysely<Database> | Transaction<Database>
+
+/** Register filters after parsing (ids already limited to the user's sites). */
+export interface LimitFilters {
+  siteIds: number[]
+  areaIds?: number[]
+  processIds?: number[]
+  instrumentIds?: number[]
+  limitClass?: string[]
+  direction?: string[]
+  sil?: (number | 'none')[]
+  status?: string[]
+  protectionState?: string[]
+  hasWarnings?: boolean
+  hasErrors?: boolean
+  q?: string
+}
+
+export const LIMIT_SORT_COLUMNS = {
+  tag: 'limit_function.tag',
+  setpoint: 'limit_function.setpoint',
+  sil: 'limit_function.sil',
+  priority: 'limit_function.priority',
+  status: 'limit_function.status',
+  updatedAt: 'limit_function.updated_at',
+  limitClass: 'limit_function.limit_class',
+  direction: 'limit_function.direction',
+} as const
+export type LimitSortField = keyof typeof LIMIT_SORT_COLUMNS
+
+function baseQuery(db: Q) {
+  return db.selectFrom('limit_function')
+    .innerJoin('process', 'process.id', 'limit_function.process_id')
+    .innerJoin('area', 'area.id', 'limit_function.area_id')
+    .innerJoin('site', 'site.id', 'limit_function.site_id')
+    .innerJoin('instrument as pi', 'pi.id', 'limit_function.primary_instrument_id')
+}
+
+type Base = ReturnType<typeof baseQuery>
+
+export function applyFilters<O>(q: SelectQueryBuilder<any, any, O>, f: LimitFilters): SelectQueryBuilder<any, any, O> {
+  let query = q.where('limit_function.site_id', 'in', f.siteIds.length ? f.siteIds : [-1])
+  if (f.areaIds?.length) query = query.where('limit_function.area_id', 'in', f.areaIds)
+  if (f.processIds?.length) query = query.where('limit_function.process_id', 'in', f.processIds)
+  if (f.instrumentIds?.length) {
+    query = query.where((eb) => eb.exists(eb.selectFrom('limit_instrument').select('limit_instrument.limit_id')
+      .whereRef('limit_instrument.limit_id', '=', 'limit_function.id').where('limit_instrument.instrument_id', 'in', f.instrumentIds!)))
+  }
+  if (f.limitClass?.length) query = query.where('limit_function.limit_class', 'in', f.limitClass)
+  if (f.direction?.length) query = query.where('limit_function.direction', 'in', f.direction)
+  if (f.sil?.length) {
+    const levels = f.sil.filter((s): s is number => s !== 'none')
+    const none = f.sil.includes('none')
+    query = query.where((eb) => eb.or([
+      ...(levels.length ? [eb('limit_function.sil', 'in', levels)] : []),
+      ...(none ? [eb('limit_function.sil', 'is', null)] : []),
+    ]))
+  }
+  if (f.status?.length) query = query.where('limit_function.status', 'in', f.status)
+  if (f.protectionState?.length) query = query.where('limit_function.protection_state', 'in', f.protectionState)
+  if (f.hasWarnings !== undefined) query = query.where('limit_function.has_window_warnings', '=', f.hasWarnings)
+  if (f.hasErrors !== undefined) query = query.where('limit_function.has_window_errors', '=', f.hasErrors)
+  if (f.q) query = query.where('limit_function.search_text', 'like', `%${f.q.toLowerCase().replace(/[\\%_]/g, (c) => `\\${c}`)}%`)
+  return query
+}
+
+function selectListColumns(q: Base) {
+  return q.selectAll('limit_function').select([
+    'process.name as process_name', 'area.name as area_name', 'site.code as site_code',
+    'pi.tag as pi_tag', 'pi.unit as pi_unit', 'pi.measured_variable as pi_variable', 'pi.range_low as pi_range_low', 'pi.range_high as pi_range_high',
+  ])
+}
+
+/**
+ * One page of the register. Sorting always ends on id so pages are stable; `offset` for page numbers, or `after`
+ * (the sort values and id of the last row seen) for keyset paging that stays fast deep into 100,000 rows.
+ */
+export async function listLimits(db: Q, f: LimitFilters, sort: { field: LimitSortField, desc: boolean }[], page: { limit: number, offset?: number, after?: { values: unknown[], id: number } }): Promise<LimitListRow[]> {
+  let q = applyFilters(selectListColumns(baseQuery(db)), f)
+  const order = sort.length ? sort : [{ field: 'tag' as const, desc: false }]
+  if (page.after && order.length === 1) {
+    const col = LIMIT_SORT_COLUMNS[order[0].field]
+    const op = order[0].desc ? '<' : '>'
+    const v = page.after.values[0]
+    q = q.where(sql<boolean>`(${sql.ref(col)}, limit_function.id) ${sql.raw(op)} (${v}, ${page.after.id})`)
+  }
+  for (const s of order) q = q.orderBy(sql.ref(LIMIT_SORT_COLUMNS[s.field]), (ob) => (s.desc ? ob.desc().nullsLast() : ob.asc().nullsLast()))
+  q = q.orderBy('limit_function.id', order[order.length - 1].desc ? 'desc' : 'asc').limit(page.limit)
+  if (page.offset) q = q.offset(page.offset)
+  return (await q.execute()) as LimitListRow[]
+}
+
+/** Counts matching rows, stopping at `cap` (the count of a huge filtered set is shown as "cap+"). */
+export async function countLimits(db: Q, f: LimitFilters, cap: number): Promise<number> {
+  const inner = applyFilters(db.selectFrom('limit_function').select(sql`1`.as('one')), f).limit(cap + 1)
+  const row = await db.selectFrom(inner.as('m')).select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()
+  return Number(row.n)
+}
+
+export async function findLimitById(db: Q, id: number, lock = false): Promise<LimitListRow | undefined> {
+  let q = selectListColumns(baseQuery(db)).where('limit_function.id', '=', id)
+  if (lock) q = q.forUpdate(['limit_function'] as never)
+  return (await q.executeTakeFirst()) as LimitListRow | undefined
+}
+
+export async function findInstrumentIdsByLimitIds(db: Q, ids: number[]): Promise<Map<number, number[]>> {
+  const map = new Map<number, number[]>()
+  if (!ids.length) return map
+  const rows = await db.selectFrom('limit_instrument').select(['limit_id', 'instrument_id']).where('limit_id', 'in', ids).orderBy('limit_id').orderBy('position').execute()
+  for (const r of rows) map.set(r.limit_id, [...(map.get(r.limit_id) ?? []), r.instrument_id])
+  return map
+}
+
+export async function replaceLimitInstruments(trx: Transaction<Database>, limitId: number, instrumentIds: number[]) {
+  await trx.deleteFrom('limit_instrument').where('limit_id', '=', limitId).execute()
+  await trx.insertInto('limit_instrument').values(instrumentIds.map((instrument_id, position) => ({ limit_id: limitId, position, instrument_id }))).execute()
+}
+
+/** Other limits whose primary instrument is this one (the siblings of the operating-window check). */
+export function findSiblingLimits(db: Q, instrumentId: number) {
+  return db.selectFrom('limit_function').select(['id', 'tag', 'direction', 'limit_class', 'setpoint', 'status'])
+    .where('primary_instrument_id', '=', instrumentId).execute()
+}

@@ -1,0 +1,95 @@
+import { Router } from 'express'
+import { z } from 'zod'
+import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
+import {
+  CreateInstrumentInputSchema, CreateLimitInputSchema, CreateProcessInputSchema, LIMIT_STATUSES, PROTECTION_STATES,
+  UpdateInstrumentInputSchema, UpdateLimitInputSchema, UpdateProcessInputSchema,
+} from '../../../shared/schemas/register.ts'
+import { scopeSites } from '../../authorize.ts'
+import type { AppDeps } from '../../deps.ts'
+import * as instruments from './instruments.service.ts'
+import * as limits from './limits.service.ts'
+import * as processes from './processes.service.ts'
+import * as register from './register.service.ts'
+
+const bool = z.enum(['true', 'false']).transform((v) => v === 'true')
+
+/** Query of `GET /api/limits` (and its export): repeated filters, text search, sort, page or cursor. */
+export const LimitQuerySchema = z.object({
+  siteId: repeated(IdSchema),
+  areaId: repeated(IdSchema),
+  processId: repeated(IdSchema),
+  instrumentId: repeated(IdSchema),
+  limitClass: repeated(z.enum(['alarm', 'trip'])),
+  direction: repeated(z.enum(['high', 'low'])),
+  sil: repeated(z.union([z.enum(['1', '2', '3']).transform(Number), z.literal('none')])),
+  status: repeated(z.enum(LIMIT_STATUSES)),
+  protectionState: repeated(z.enum(PROTECTION_STATES)),
+  hasWarnings: bool.optional(),
+  hasErrors: bool.optional(),
+  q: z.string().trim().max(100).optional(),
+  sort: z.string().max(200).optional(),
+  page: z.coerce.number().int().min(1).default(1),
+  pageSize: z.coerce.number().int().min(1).max(200).default(50),
+  cursor: z.string().max(300).optional(),
+})
+
+export function createProcessesRouter(deps: AppDeps) {
+  const router = Router()
+  router.get('/', async (req, res) => {
+    const q = z.object({ siteId: repeated(IdSchema), areaId: repeated(IdSchema) }).parse(req.query)
+    res.json(await processes.listProcesses(deps, req.ability, { siteIds: scopeSites(req.user, q.siteId), areaIds: q.areaId }))
+  })
+  router.get('/:id', async (req, res) => { res.json(await processes.getProcess(deps, req.ability, IdSchema.parse(req.params.id))) })
+  router.post('/', async (req, res) => { res.status(201).json(await processes.createProcess(deps, req.ability, req.audit, CreateProcessInputSchema.parse(req.body))) })
+  router.patch('/:id', async (req, res) => {
+    res.json(await processes.updateProcess(deps, req.ability, req.audit, IdSchema.parse(req.params.id), UpdateProcessInputSchema.parse(req.body)))
+  })
+  return router
+}
+
+export function createInstrumentsRouter(deps: AppDeps) {
+  const router = Router()
+  router.get('/', async (req, res) => {
+    const q = z.object({ siteId: repeated(IdSchema), processId: repeated(IdSchema), q: z.string().trim().max(60).optional(),
+      page: z.coerce.number().int().min(1).default(1), pageSize: z.coerce.number().int().min(1).max(200).default(100) }).parse(req.query)
+    res.json(await instruments.listInstruments(deps, req.ability, { ...q, siteIds: scopeSites(req.user, q.siteId), processIds: q.processId }))
+  })
+  router.get('/:id', async (req, res) => { res.json(await instruments.getInstrument(deps, req.ability, IdSchema.parse(req.params.id))) })
+  router.post('/', async (req, res) => { res.status(201).json(await instruments.createInstrument(deps, req.ability, req.audit, CreateInstrumentInputSchema.parse(req.body))) })
+  router.patch('/:id', async (req, res) => {
+    res.json(await instruments.updateInstrument(deps, req.ability, req.audit, IdSchema.parse(req.params.id), UpdateInstrumentInputSchema.parse(req.body)))
+  })
+  return router
+}
+
+export function createLimitsRouter(deps: AppDeps) {
+  const router = Router()
+  router.get('/', async (req, res) => {
+    res.json(await register.listRegister(deps, req.user, LimitQuerySchema.parse(req.query)))
+  })
+  router.get('/export', async (req, res) => {
+    const { format, ...query } = LimitQuerySchema.extend({ format: z.enum(['csv', 'xlsx']).default('csv') }).parse(req.query)
+    const file = await register.exportRegister(deps, req.user, query, format)
+    res.setHeader('Content-Type', file.contentType)
+    res.setHeader('Content-Disposition', `attachment; filename="${file.fileName}"`)
+    res.send(file.body)
+  })
+  router.get('/:id', async (req, res) => { res.json(await limits.getLimit(deps, req.ability, IdSchema.parse(req.params.id))) })
+  router.get('/:id/revisions', async (req, res) => { res.json(await limits.listRevisions(deps, req.ability, IdSchema.parse(req.params.id))) })
+  router.get('/:id/test-signal', async (req, res) => {
+    const q = z.object({ coldJunction: z.coerce.number().min(-50).max(150).optional(), mode: z.enum(['mv_source', 'tc_simulate']).default('mv_source') }).parse(req.query)
+    res.json(await register.testSignalFor(deps, req.ability, IdSchema.parse(req.params.id), q))
+  })
+  router.post('/', async (req, res) => { res.status(201).json(await limits.createLimit(deps, req.ability, req.audit, CreateLimitInputSchema.parse(req.body))) })
+  router.patch('/:id', async (req, res) => {
+    const { expectedRevision } = z.object({ expectedRevision: z.number().int().optional() }).parse({ expectedRevision: req.body?.expectedRevision })
+    const { expectedRevision: _e, ...patch } = req.body ?? {}
+    res.json(await limits.updateLimit(deps, req.ability, req.audit, IdSchema.parse(req.params.id), UpdateLimitInputSchema.parse(patch), expectedRevision))
+  })
+  router.delete('/:id', async (req, res) => {
+    await limits.deleteLimit(deps, req.ability, req.audit, IdSchema.parse(req.params.id))
+    res.status(204).end()
+  })
+  return router
+}

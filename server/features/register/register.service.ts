@@ -1,0 +1,133 @@
+import ExcelJS from 'exceljs'
+import Papa from 'papaparse'
+import type { AppAbility } from '../../../shared/abilities/index.ts'
+import { computeTestSignal } from '../../../shared/domain/test-signal.ts'
+import { MissingInputError, OutOfRangeError, UnitConversionError } from '../../../shared/domain/errors.ts'
+import { ErrorCode } from '../../../shared/errors.ts'
+import { parseSort } from '../../../shared/schemas/common.ts'
+import type { Limit } from '../../../shared/schemas/register.ts'
+import { REGISTER_COLUMNS, type RegisterFileRow, signalToText } from '../../../shared/schemas/register-io.ts'
+import { scopeSites } from '../../authorize.ts'
+import type { AppDeps } from '../../deps.ts'
+import { AppError, validationFailed } from '../../errors.ts'
+import type { CurrentUser } from '../../types/express.d.ts'
+import * as repo from './limits.repository.ts'
+import { getLimit } from './limits.service.ts'
+import { toInstrument, toLimit } from './register.mappers.ts'
+import type { z } from 'zod'
+import type { LimitQuerySchema } from './register.router.ts'
+import { policyOf } from '../sites/sites.service.ts'
+
+type LimitQuery = z.infer<typeof LimitQuerySchema>
+const COUNT_CAP = 10_000
+
+function filtersOf(user: CurrentUser | null, q: LimitQuery): repo.LimitFilters {
+  return {
+    siteIds: scopeSites(user, q.siteId), areaIds: q.areaId, processIds: q.processId, instrumentIds: q.instrumentId, limitClass: q.limitClass,
+    direction: q.direction, sil: q.sil, status: q.status, protectionState: q.protectionState, hasWarnings: q.hasWarnings, hasErrors: q.hasErrors, q: q.q,
+  }
+}
+
+function decodeCursor(c: string): { values: unknown[], id: number } {
+  try {
+    const v = JSON.parse(Buffer.from(c, 'base64url').toString('utf8'))
+    if (!Array.isArray(v.v) || !Number.isInteger(v.id)) throw new Error('bad cursor')
+    return { values: v.v, id: v.id }
+  } catch {
+    throw validationFailed({ cursor: ['This cursor is not valid; start from the first page'] })
+  }
+}
+
+const SORT_VALUE: Record<repo.LimitSortField, (l: Limit) => unknown> = {
+  tag: (l) => l.tag, setpoint: (l) => l.setpoint, sil: (l) => l.sil, priority: (l) => l.priority, status: (l) => l.status,
+  updatedAt: (l) => l.updatedAt, limitClass: (l) => l.limitClass, direction: (l) => l.direction,
+}
+
+/**
+ * The register page: only the user's sites; `total` stops counting at 10,000 (`totalCapped`). A single-field sort also
+ * answers `nextCursor` for keyset paging.
+ */
+export async function listRegister(deps: AppDeps, user: CurrentUser | null, q: LimitQuery) {
+  const f = filtersOf(user, q)
+  const sort = parseSort(q.sort, Object.keys(repo.LIMIT_SORT_COLUMNS)) as { field: repo.LimitSortField, desc: boolean }[]
+  const after = q.cursor ? decodeCursor(q.cursor) : undefined
+  const [rows, total] = await Promise.all([
+    repo.listLimits(deps.db, f, sort, { limit: q.pageSize, offset: after ? undefined : (q.page - 1) * q.pageSize, after }),
+    repo.countLimits(deps.db, f, COUNT_CAP),
+  ])
+  const ids = await repo.findInstrumentIdsByLimitIds(deps.db, rows.map((r) => r.id))
+  const items = rows.map((r) => toLimit(r, ids.get(r.id) ?? []))
+  const single = sort.length <= 1 ? (sort[0]?.field ?? 'tag') : null
+  const last = items[items.length - 1]
+  const nextCursor = single && last && items.length === q.pageSize
+    ? Buffer.from(JSON.stringify({ v: [SORT_VALUE[single](last)], id: last.id })).toString('base64url') : null
+  return { items, total: Math.min(total, COUNT_CAP), totalCapped: total > COUNT_CAP, nextCursor }
+}
+
+const yesNo = (b: boolean) => (b ? 'yes' : 'no')
+const str = (v: unknown) => (v === null || v === undefined ? '' : String(v))
+
+/** The filtered register as a file (CSV or XLSX) in the import's column layout. */
+export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q: LimitQuery, format: 'csv' | 'xlsx') {
+  const f = filtersOf(user, q)
+  const rows = await repo.listLimits(deps.db, f, [{ field: 'tag', desc: false }], { limit: 100_000 })
+  const ids = await repo.findInstrumentIdsByLimitIds(deps.db, rows.map((r) => r.id))
+  const instrumentIds = [...new Set([...ids.values()].flat())]
+  const instruments = new Map<number, ReturnType<typeof toInstrument>>()
+  for (let i = 0; i < instrumentIds.length; i += 5000) {
+    const chunk = await deps.db.selectFrom('instrument').selectAll().where('id', 'in', instrumentIds.slice(i, i + 5000)).execute()
+    for (const r of chunk) instruments.set(r.id, toInstrument(r))
+  }
+  const records: RegisterFileRow[] = rows.map((r) => {
+    const l = toLimit(r, ids.get(r.id) ?? [])
+    const inst = instruments.get(l.instrumentIds[0])!
+    const sig = inst.signal as { headTransmitter?: boolean }
+    return {
+      site: l.siteCode, area: l.areaName, process: l.processName, instrumentTag: inst.tag,
+      votedInstrumentTags: l.instrumentIds.slice(1).map((id) => instruments.get(id)?.tag ?? '').join('; '),
+      measuredVariable: inst.measuredVariable, unit: inst.unit, pressureReference: str(inst.pressureReference), rangeLow: str(inst.rangeLow), rangeHigh: str(inst.rangeHigh),
+      normalLow: str(inst.normalLow), normalHigh: str(inst.normalHigh), designLow: str(inst.designLow), designHigh: str(inst.designHigh), burnout: inst.burnout,
+      signal: signalToText(inst.signal), headTransmitter: yesNo(Boolean(sig.headTransmitter)), deviceKind: inst.deviceKind, deviceDescription: inst.deviceDescription,
+      tag: l.tag, description: l.description, direction: l.direction, limitClass: l.limitClass, setpoint: str(l.setpoint), deadband: str(l.deadband),
+      deadbandUnit: l.deadbandUnit, onDelaySec: str(l.onDelaySec), offDelaySec: str(l.offDelaySec), latching: yesNo(l.latching), resetRole: str(l.resetRole),
+      badValueTrip: yesNo(l.badValueTrip), action: l.action, consequence: l.consequence, operatorResponse: l.operatorResponse, responseTimeMin: str(l.responseTimeMin),
+      severity: l.severity, analyticalLimit: str(l.analyticalLimit), processSafetyTimeSec: str(l.processSafetyTimeSec), requiredResponseTimeSec: str(l.requiredResponseTimeSec),
+      bypassPermitted: yesNo(l.bypassPermitted), maxBypassHours: str(l.maxBypassHours), compensatingMeasures: l.compensatingMeasures.join('; '),
+      testIntervalMonths: str(l.testIntervalMonths), testGraceDays: str(l.testGraceDays), codeSetInterval: yesNo(l.codeSetInterval), sil: str(l.sil),
+      subsystems: l.sil ? JSON.stringify(l.subsystems) : '',
+    }
+  })
+  const stamp = deps.clock.now().toISOString().slice(0, 10)
+  if (format === 'csv') {
+    const body = Papa.unparse({ fields: REGISTER_COLUMNS.map((c) => c.header), data: records.map((r) => REGISTER_COLUMNS.map((c) => r[c.key])) })
+    return { contentType: 'text/csv; charset=utf-8', fileName: `limitkeeper-register-${stamp}.csv`, body: Buffer.from(`\uFEFF${body}`, 'utf8') }
+  }
+  const wb = new ExcelJS.Workbook()
+  wb.creator = 'Limitkeeper'
+  const ws = wb.addWorksheet('Register')
+  ws.columns = REGISTER_COLUMNS.map((c) => ({ header: c.header, key: c.key, width: Math.max(10, c.header.length + 2) }))
+  ws.getRow(1).font = { bold: true }
+  ws.views = [{ state: 'frozen', ySplit: 1 }]
+  for (const r of records) ws.addRow(r)
+  const buf = await wb.xlsx.writeBuffer()
+  return { contentType: 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet', fileName: `limitkeeper-register-${stamp}.xlsx`, body: Buffer.from(buf as ArrayBuffer) }
+}
+
+/** What to inject at the trip point (DOMAIN.md §3 test signal): 400 without a needed cold junction, 422 out of range. */
+export async function testSignalFor(deps: AppDeps, ability: AppAbility, id: number, q: { coldJunction?: number, mode: 'mv_source' | 'tc_simulate' }) {
+  const limit = await getLimit(deps, ability, id)
+  const row = await deps.db.selectFrom('instrument').selectAll().where('id', '=', limit.instrumentIds[0]).executeTakeFirstOrThrow()
+  const inst = toInstrument(row)
+  const site = await deps.db.selectFrom('site').select('policy').where('id', '=', limit.siteId).executeTakeFirstOrThrow()
+  try {
+    return computeTestSignal(
+      { unit: inst.unit, rangeLow: inst.rangeLow, rangeHigh: inst.rangeHigh, signal: inst.signal as never },
+      { direction: limit.direction, setpoint: limit.setpoint, deadband: limit.deadband, deadbandUnit: limit.deadbandUnit, tolerance: policyOf(site).defaultTolerancePercentSpan, toleranceUnit: 'percent_span' },
+      { mode: q.mode, coldJunctionC: q.coldJunction },
+    )
+  } catch (err) {
+    if (err instanceof MissingInputError) throw validationFailed({ coldJunction: [err.message] }, err.message)
+    if (err instanceof OutOfRangeError || err instanceof UnitConversionError) throw new AppError(422, ErrorCode.UNPROCESSABLE, err.message)
+    throw err
+  }
+}
