@@ -8,6 +8,8 @@ import { ErrorCode } from '../shared/errors.ts'
 import type { AppDeps } from './deps.ts'
 import { AppError } from './errors.ts'
 import { createInstrumentsRouter, createLimitsRouter, createProcessesRouter } from './features/register/register.router.ts'
+import { createImportsRouter } from './features/register/imports.router.ts'
+import { createChangeRequestsRouter } from './features/change-requests/change-requests.router.ts'
 import { createAuditRouter } from './features/audit/audit.router.ts'
 import { createMailRouter } from './features/mail/mail.router.ts'
 import { createSessionRouter } from './features/session/session.router.ts'
@@ -58,6 +60,8 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/processes', createProcessesRouter(deps))
   api.use('/instruments', createInstrumentsRouter(deps))
   api.use('/limits', createLimitsRouter(deps))
+  api.use('/imports', createImportsRouter(deps))
+  api.use('/change-requests', createChangeRequestsRouter(deps))
   api.use('/audit-events', createAuditRouter(deps))
   api.use('/mail', createMailRouter(deps))
   api.use((_req, _res, next) => next(new AppError(404, ErrorCode.NOT_FOUND, 'No such API endpoint')))

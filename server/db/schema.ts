@@ -179,6 +179,74 @@ export interface ImportBatchTable {
 }
 export interface ImportMappingTable { user_id: number, mapping: JsonValue<Record<string, string>>, updated_at: Timestamp }
 
+export interface ChangeRequestTable {
+  id: Generated<number>
+  site_id: number
+  type: string
+  title: string
+  rationale: string
+  hazard_reference: string
+  status: Generated<string>
+  proposer_id: number
+  expires_at: Timestamp | null
+  approvals_required: number
+  content_hash: string
+  import_batch_id: number | null
+  submitted_at: Timestamp | null
+  approved_at: Timestamp | null
+  implemented_at: Timestamp | null
+  closed_at: Timestamp | null
+  pssr: ColumnType<Record<string, unknown> | null, string | null, string | null>
+  revert_reminder_at: Timestamp | null
+  emergency_flagged_at: Timestamp | null
+  version: Generated<number>
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+export interface ChangeRequestItemTable {
+  id: Generated<number>
+  change_request_id: number
+  position: number
+  kind: string
+  limit_id: number | null
+  instrument_id: number | null
+  changes: JsonValue<Record<string, { from: unknown, to: unknown }>>
+  base_revision: number
+  window_before: ColumnType<unknown, string | null, string | null>
+  window_after: ColumnType<unknown, string | null, string | null>
+  implemented_at: Timestamp | null
+  implemented_by: number | null
+  read_back: ColumnType<unknown, string | null, string | null>
+}
+export interface ChangeRequestEditorTable { change_request_id: number, user_id: number }
+export interface ChangeRequestCheckTable { change_request_id: number, item: string, done_by: number, done_at: Timestamp, note: Generated<string> }
+export interface SignatureTable {
+  id: Generated<number>
+  entity_type: string
+  entity_id: number
+  item_id: number | null
+  user_id: number
+  name: string
+  meaning: string
+  at: Timestamp
+  content_hash: string
+  comment: Generated<string>
+  voided_at: Timestamp | null
+  void_reason: string | null
+}
+export interface AttachmentTable {
+  id: Generated<number>
+  entity_type: string
+  entity_id: number
+  file_name: string
+  content_type: string
+  size_bytes: number
+  sha256: string
+  content: Buffer
+  uploaded_by: number
+  uploaded_at: Timestamp
+}
+
 /** The database as Kysely sees it (kept by hand beside the migrations). */
 export interface Database {
   app_user: AppUserTable
@@ -198,6 +266,12 @@ export interface Database {
   instrument_revision: InstrumentRevisionTable
   import_batch: ImportBatchTable
   import_mapping: ImportMappingTable
+  change_request: ChangeRequestTable
+  change_request_item: ChangeRequestItemTable
+  change_request_editor: ChangeRequestEditorTable
+  change_request_check: ChangeRequestCheckTable
+  signature: SignatureTable
+  attachment: AttachmentTable
 }
 
 export type ProcessRow = Selectable<ProcessTable>

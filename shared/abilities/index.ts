@@ -54,7 +54,12 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
     can(['create', 'update', 'submit', 'close', 'delete'], 'ChangeRequest', { siteId: { $in: engineer } })
   }
   const approver = sitesWith('approver')
-  if (approver.length) can('approve', 'ChangeRequest', { siteId: { $in: approver } })
+  if (approver.length) {
+    can('approve', 'ChangeRequest', { siteId: { $in: approver } })
+    // separation of duties: never the proposer, never anyone who edited the request
+    cannot('approve', 'ChangeRequest', { proposerId: user.id }).because('Nobody approves a change they proposed')
+    cannot('approve', 'ChangeRequest', { editorIds: user.id }).because('Nobody approves a change they edited')
+  }
   const technician = sitesWith('technician')
   if (technician.length) {
     can('implement', 'ChangeRequest', { siteId: { $in: technician } })
@@ -62,6 +67,9 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
   }
   const witness = sitesWith('safety_engineer', 'approver', 'shift_supervisor', 'technician')
   if (witness.length) can('witness', 'TripTest', { siteId: { $in: witness } })
+  const supervisor = sitesWith('shift_supervisor')
+  // an emergency change is implemented first by a shift supervisor, then approved within 24 h
+  if (supervisor.length) can('implement', 'ChangeRequest', { siteId: { $in: supervisor }, type: 'emergency' })
   const acceptor = sitesWith('shift_supervisor', 'operator')
   if (acceptor.length) can('accept', 'TripTest', { siteId: { $in: acceptor } })
   const requester = sitesWith('safety_engineer', 'shift_supervisor', 'technician', 'operator')

@@ -31,3 +31,21 @@ export function parseSort(sort: string | undefined, allowed: readonly string[]):
 export const DecimalSchema = z.union([z.number(), z.string().trim()])
   .transform((v) => (typeof v === 'number' ? String(v) : v))
   .refine((v) => /^-?\d+(\.\d+)?([eE][-+]?\d+)?$/.test(v) && Number.isFinite(Number(v)), { message: 'Enter a number' })
+
+/**
+ * Parses a partial update and keeps only the keys the caller sent: zod applies `.default()` values even inside
+ * `.partial()`, which would silently reset fields a PATCH did not mention.
+ */
+export function parsePatch<T extends z.ZodType>(schema: T, raw: unknown): Partial<z.output<T>> {
+  const parsed = schema.parse(raw) as Record<string, unknown>
+  const given = raw && typeof raw === 'object' ? Object.keys(raw) : []
+  return Object.fromEntries(Object.entries(parsed).filter(([k]) => given.includes(k))) as Partial<z.output<T>>
+}
+
+/** The same as parsePatch, without throwing. */
+export function safeParsePatch<T extends z.ZodType>(schema: T, raw: unknown): { success: true, data: Partial<z.output<T>> } | { success: false, error: z.ZodError } {
+  const r = schema.safeParse(raw)
+  if (!r.success) return { success: false, error: r.error }
+  const given = raw && typeof raw === 'object' ? Object.keys(raw) : []
+  return { success: true, data: Object.fromEntries(Object.entries(r.data as Record<string, unknown>).filter(([k]) => given.includes(k))) as Partial<z.output<T>> }
+}

@@ -94,7 +94,7 @@ export async function updateInstrument(deps: AppDeps, ability: AppAbility, ctx: 
 }
 
 /** Writes a new instrument definition, its revision and audit event, and recomputes its limits' windows. */
-export async function applyInstrumentDefinition(trx: Trx, clock: Clock, ctx: AuditContext, before: InstrumentDto, patch: Partial<CreateInstrumentInput>, opts: { changeRequestId: number | null, reason: string | null }) {
+export async function applyInstrumentDefinition(trx: Trx, clock: Clock, ctx: AuditContext, before: InstrumentDto, patch: Partial<CreateInstrumentInput>, opts: { changeRequestId: number | null, reason: string | null, batchId?: string }) {
   const draft = CreateInstrumentInputSchema.parse({ ...snapshot(before), ...patch, processId: before.processId })
   if (draft.tag.toLowerCase() !== before.tag.toLowerCase()) await assertTagFree(trx, before.siteId, draft.tag, before.id)
   await trx.updateTable('instrument').set({ ...columns(draft), revision: before.revision + 1, updated_at: clock.now() }).where('id', '=', before.id).execute()
@@ -104,7 +104,7 @@ export async function applyInstrumentDefinition(trx: Trx, clock: Clock, ctx: Aud
   }
   const after = await load(trx, before.id)
   await trx.insertInto('instrument_revision').values({ instrument_id: before.id, revision: after.revision, snapshot: JSON.stringify(snapshot(after)), changed_by: ctx.actorId, changed_at: clock.now(), change_request_id: opts.changeRequestId, reason: opts.reason }).execute()
-  await appendAudit(trx, clock, ctx, { action: 'instrument.update', entityType: 'Instrument', entityId: before.id, before: snapshot(before), after: snapshot(after), reason: opts.reason })
+  await appendAudit(trx, clock, ctx, { action: 'instrument.update', entityType: 'Instrument', entityId: before.id, before: snapshot(before), after: snapshot(after), reason: opts.reason, batchId: opts.batchId })
   return after
 }
 

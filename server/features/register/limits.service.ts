@@ -159,7 +159,7 @@ export async function updateLimit(deps: AppDeps, ability: AppAbility, ctx: Audit
  * Applies a new definition (and optionally a status) to a limit inside the caller's transaction: checks it, writes the
  * row, a revision and the audit event. Used for draft edits and by implemented change requests.
  */
-export async function applyLimitDefinition(trx: Trx, clock: Clock, ctx: AuditContext, before: Limit, patch: UpdateLimitInput, opts: { changeRequestId: number | null, reason: string | null, action: string, status?: Limit['status'] }): Promise<Limit> {
+export async function applyLimitDefinition(trx: Trx, clock: Clock, ctx: AuditContext, before: Limit, patch: UpdateLimitInput, opts: { changeRequestId: number | null, reason: string | null, action: string, status?: Limit['status'], batchId?: string }): Promise<Limit> {
   const draft = CreateLimitInputSchema.parse({ ...toDraft(before), ...patch, processId: before.processId })
   if (draft.tag.toLowerCase() !== before.tag.toLowerCase()) await assertTagFree(trx, before.siteId, draft.tag, before.id)
   const ev = await evaluateLimit(trx, draft, before.siteId, before.id)
@@ -170,7 +170,7 @@ export async function applyLimitDefinition(trx: Trx, clock: Clock, ctx: AuditCon
   if (patch.instrumentIds) await repo.replaceLimitInstruments(trx, before.id, draft.instrumentIds)
   const after = await loadLimit(trx, before.id)
   await writeRevision(trx, clock, after, ctx, opts.changeRequestId, opts.reason)
-  await appendAudit(trx, clock, ctx, { action: opts.action, entityType: 'Limit', entityId: before.id, before: limitSnapshot(before), after: limitSnapshot(after), reason: opts.reason })
+  await appendAudit(trx, clock, ctx, { action: opts.action, entityType: 'Limit', entityId: before.id, before: limitSnapshot(before), after: limitSnapshot(after), reason: opts.reason, batchId: opts.batchId })
   return after
 }
 

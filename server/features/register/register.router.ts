@@ -1,6 +1,6 @@
 import { Router } from 'express'
 import { z } from 'zod'
-import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
+import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
 import {
   CreateInstrumentInputSchema, CreateLimitInputSchema, CreateProcessInputSchema, LIMIT_STATUSES, PROTECTION_STATES,
   UpdateInstrumentInputSchema, UpdateLimitInputSchema, UpdateProcessInputSchema,
@@ -43,7 +43,7 @@ export function createProcessesRouter(deps: AppDeps) {
   router.get('/:id', async (req, res) => { res.json(await processes.getProcess(deps, req.ability, IdSchema.parse(req.params.id))) })
   router.post('/', async (req, res) => { res.status(201).json(await processes.createProcess(deps, req.ability, req.audit, CreateProcessInputSchema.parse(req.body))) })
   router.patch('/:id', async (req, res) => {
-    res.json(await processes.updateProcess(deps, req.ability, req.audit, IdSchema.parse(req.params.id), UpdateProcessInputSchema.parse(req.body)))
+    res.json(await processes.updateProcess(deps, req.ability, req.audit, IdSchema.parse(req.params.id), parsePatch(UpdateProcessInputSchema, req.body)))
   })
   return router
 }
@@ -58,7 +58,7 @@ export function createInstrumentsRouter(deps: AppDeps) {
   router.get('/:id', async (req, res) => { res.json(await instruments.getInstrument(deps, req.ability, IdSchema.parse(req.params.id))) })
   router.post('/', async (req, res) => { res.status(201).json(await instruments.createInstrument(deps, req.ability, req.audit, CreateInstrumentInputSchema.parse(req.body))) })
   router.patch('/:id', async (req, res) => {
-    res.json(await instruments.updateInstrument(deps, req.ability, req.audit, IdSchema.parse(req.params.id), UpdateInstrumentInputSchema.parse(req.body)))
+    res.json(await instruments.updateInstrument(deps, req.ability, req.audit, IdSchema.parse(req.params.id), parsePatch(UpdateInstrumentInputSchema, req.body)))
   })
   return router
 }
@@ -85,7 +85,7 @@ export function createLimitsRouter(deps: AppDeps) {
   router.patch('/:id', async (req, res) => {
     const { expectedRevision } = z.object({ expectedRevision: z.number().int().optional() }).parse({ expectedRevision: req.body?.expectedRevision })
     const { expectedRevision: _e, ...patch } = req.body ?? {}
-    res.json(await limits.updateLimit(deps, req.ability, req.audit, IdSchema.parse(req.params.id), UpdateLimitInputSchema.parse(patch), expectedRevision))
+    res.json(await limits.updateLimit(deps, req.ability, req.audit, IdSchema.parse(req.params.id), parsePatch(UpdateLimitInputSchema, patch), expectedRevision))
   })
   router.delete('/:id', async (req, res) => {
     await limits.deleteLimit(deps, req.ability, req.audit, IdSchema.parse(req.params.id))

@@ -1,9 +1,17 @@
 import { Router } from 'express'
 import { z } from 'zod'
-import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
+import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
+import { SitePolicySchema } from '../../../shared/schemas/sites.ts'
 import { CreateAreaInputSchema, CreateSiteInputSchema, UpdateAreaInputSchema, UpdateSiteInputSchema } from '../../../shared/schemas/sites.ts'
 import type { AppDeps } from '../../deps.ts'
 import * as service from './sites.service.ts'
+
+/** A site patch keeping only the policy fields that were sent (defaults must not reset the others). */
+function parseSitePatch(raw: unknown) {
+  const top = parsePatch(UpdateSiteInputSchema, raw)
+  const rawPolicy = (raw as { policy?: unknown } | null)?.policy
+  return { ...top, ...(rawPolicy !== undefined ? { policy: parsePatch(SitePolicySchema.partial(), rawPolicy) } : {}) }
+}
 
 /** `/api/sites`: sites and their policies. */
 export function createSitesRouter(deps: AppDeps) {
@@ -12,7 +20,7 @@ export function createSitesRouter(deps: AppDeps) {
   router.get('/:id', async (req, res) => { res.json(await service.getSite(deps, req.ability, IdSchema.parse(req.params.id))) })
   router.post('/', async (req, res) => { res.status(201).json(await service.createSite(deps, req.ability, req.audit, CreateSiteInputSchema.parse(req.body))) })
   router.patch('/:id', async (req, res) => {
-    res.json(await service.updateSite(deps, req.ability, req.audit, IdSchema.parse(req.params.id), UpdateSiteInputSchema.parse(req.body)))
+    res.json(await service.updateSite(deps, req.ability, req.audit, IdSchema.parse(req.params.id), parseSitePatch(req.body)))
   })
   return router
 }

@@ -1,5 +1,5 @@
 import { Router } from 'express'
-import { IdSchema, ListQuerySchema } from '../../../shared/schemas/common.ts'
+import { IdSchema, ListQuerySchema, parsePatch } from '../../../shared/schemas/common.ts'
 import { ChangeOwnPasswordInputSchema, CreateUserInputSchema, UpdateUserInputSchema } from '../../../shared/schemas/users.ts'
 import type { AppDeps } from '../../deps.ts'
 import * as service from './users.service.ts'
@@ -13,7 +13,7 @@ export function createUsersRouter(deps: AppDeps) {
     res.status(201).json(await service.createUser(deps, req.ability, req.audit, CreateUserInputSchema.parse(req.body)))
   })
   router.patch('/:id', async (req, res) => {
-    res.json(await service.updateUser(deps, req.ability, req.audit, IdSchema.parse(req.params.id), UpdateUserInputSchema.parse(req.body)))
+    res.json(await service.updateUser(deps, req.ability, req.audit, IdSchema.parse(req.params.id), parsePatch(UpdateUserInputSchema, req.body)))
   })
   return router
 }

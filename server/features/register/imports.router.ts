@@ -1,0 +1,54 @@
+import { type RequestHandler, Router } from 'express'
+import multer from 'multer'
+import { ErrorCode } from '../../../shared/errors.ts'
+import { IdSchema } from '../../../shared/schemas/common.ts'
+import { IMPORT_MAX_BYTES, ImportUploadFieldsSchema } from '../../../shared/schemas/imports.ts'
+import { authorize } from '../../authorize.ts'
+import type { AppDeps } from '../../deps.ts'
+import { AppError, validationFailed } from '../../errors.ts'
+import * as imports from './imports.service.ts'
+
+const upload = multer({
+  storage: multer.memoryStorage(),
+  limits: { fileSize: IMPORT_MAX_BYTES, files: 1, fields: 10, fieldSize: 64 * 1024, parts: 12 },
+  defParamCharset: 'utf8',
+}).single('file')
+
+/** multer's failures as API errors (413 for a file over the size cap, 400 for anything else about the upload). */
+function uploadError(err: unknown): AppError {
+  if (err instanceof multer.MulterError) {
+    if (err.code === 'LIMIT_FILE_SIZE') {
+      return new AppError(413, ErrorCode.VALIDATION_FAILED, `The file is larger than ${IMPORT_MAX_BYTES / 1024 / 1024} MB: split the register, e.g. by area`, { fields: { file: ['Too large'] } })
+    }
+    if (err.code === 'LIMIT_UNEXPECTED_FILE' || err.code === 'LIMIT_FILE_COUNT') {
+      return validationFailed({ file: ['Send one file, in the form field "file"'] }, 'Send one file, in the form field "file"')
+    }
+    return validationFailed({ file: [err.message] }, `The upload could not be read: ${err.message}`)
+  }
+  const message = err instanceof Error ? err.message : 'unreadable form data'
+  return validationFailed({ file: [message] }, `The upload could not be read: ${message}`)
+}
+
+const receiveFile: RequestHandler = (req, res, next) => {
+  upload(req, res, (err: unknown) => next(err ? uploadError(err) : undefined))
+}
+
+/** `/api/imports`: upload a register file for a dry run (`POST /`), then commit the batch (`POST /:id/commit`). */
+export function createImportsRouter(deps: AppDeps) {
+  const router = Router()
+  // refuse users who may import nowhere before reading up to 5 MB of their upload
+  const mayImport: RequestHandler = (req, _res, next) => { authorize(req.ability, 'import', 'Limit'); next() }
+
+  router.post('/', mayImport, receiveFile, async (req, res) => {
+    if (!req.file) throw validationFailed({ file: ['Attach the register file (CSV or XLSX) in the form field "file"'] }, 'Attach the register file (CSV or XLSX) in the form field "file"')
+    const fields = ImportUploadFieldsSchema.parse(req.body ?? {})
+    const result = await imports.checkImport(deps, req.ability, req.audit, req.user!.id, { buffer: req.file.buffer, fileName: req.file.originalname }, fields)
+    res.status(201).json(result)
+  })
+
+  router.post('/:id/commit', mayImport, async (req, res) => {
+    res.json(await imports.commitImport(deps, req.ability, req.audit, IdSchema.parse(req.params.id)))
+  })
+
+  return router
+}

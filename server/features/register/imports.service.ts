@@ -1,0 +1,730 @@
+import { createHash, randomUUID } from 'node:crypto'
+import canonicalize from 'canonicalize'
+import ExcelJS from 'exceljs'
+import { sql, type Transaction } from 'kysely'
+import Papa from 'papaparse'
+import { ZodError, type z } from 'zod'
+import type { AppAbility } from '../../../shared/abilities/index.ts'
+import { ErrorCode } from '../../../shared/errors.ts'
+import {
+  IMPORT_MAX_BYTES, IMPORT_MAX_ROWS, IMPORT_REQUIRED_COLUMNS, type ImportAction, type ImportError, type ImportMapping, ImportMappingSchema,
+  type ImportResult, type ImportRowResult, type ImportUploadFields,
+} from '../../../shared/schemas/imports.ts'
+import {
+  type CreateInstrumentInput, CreateInstrumentInputSchema, type CreateLimitInput, CreateLimitInputSchema, CreateProcessInputSchema, type Limit,
+} from '../../../shared/schemas/register.ts'
+import { REGISTER_COLUMNS, type RegisterColumnKey, signalFromText, signalToText } from '../../../shared/schemas/register-io.ts'
+import { authorize } from '../../authorize.ts'
+import type { Clock } from '../../clock.ts'
+import type { AppDeps } from '../../deps.ts'
+import type { Database } from '../../db/schema.ts'
+import { AppError, invalidState, notFound, validationFailed } from '../../errors.ts'
+import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
+import { applyInstrumentDefinition, insertInstrument, lockInstrument } from './instruments.service.ts'
+import { applyLimitDefinition, insertLimit, lockLimit } from './limits.service.ts'
+import { toProcess } from './register.mappers.ts'
+
+// The register import: a CSV or XLSX file in the register file layout (shared/schemas/register-io.ts) is read,
+// mapped to column keys, checked in a transaction that is rolled back (dry run), stored as a batch, and committed
+// later all or nothing. Rows are matched on (site, instrument tag) and (site, limit tag). docs/register.md.
+
+type Trx = Transaction<Database>
+type Cells = Partial<Record<RegisterColumnKey, string>>
+type InstrumentDto = Awaited<ReturnType<typeof lockInstrument>>
+
+/** A problem of one row before it is numbered: `field` is a column key, or `_row` for the whole row. */
+interface RowProblem { field: string, message: string }
+
+/** A data row as stored in the batch: its spreadsheet row number, its cells by column key, problems of its shape. */
+interface StoredRow { row: number, cells: Cells, problems: RowProblem[] }
+
+/** What the file looked like: header cells and the data rows with their spreadsheet row numbers. */
+interface FileTable { headers: string[], rows: { row: number, values: string[] }[] }
+
+const HEADER_OF = new Map<string, string>(REGISTER_COLUMNS.map((c) => [c.key, c.header]))
+const COLUMN_KEYS = new Set<string>(REGISTER_COLUMNS.map((c) => c.key))
+const header = (key: string) => HEADER_OF.get(key) ?? key
+
+/** A file the import cannot read at all (400, nothing stored). */
+function badFile(message: string, details: Record<string, unknown> = {}): AppError {
+  return new AppError(400, ErrorCode.VALIDATION_FAILED, message, { fields: { file: [message] }, ...details })
+}
+
+// ---- reading the file ----
+
+const ZIP_SIGNATURE = Buffer.from([0x50, 0x4b, 0x03, 0x04])
+const OLE2_SIGNATURE = Buffer.from([0xd0, 0xcf, 0x11, 0xe0])
+/** Uncompressed size a workbook may unpack to (a 5 MB XLSX of text unpacks to well under this). */
+const XLSX_MAX_UNPACKED_BYTES = 200 * 1024 * 1024
+const MAX_COLUMNS = 200
+
+/** Reads the file by its content: XLSX (ZIP signature) or UTF-8 CSV; anything else is refused. */
+export async function readTable(buffer: Buffer): Promise<FileTable> {
+  if (buffer.length === 0) throw badFile('The file is empty')
+  if (buffer.length > IMPORT_MAX_BYTES) throw badFile(`The file is larger than ${IMPORT_MAX_BYTES / 1024 / 1024} MB`)
+  if (buffer.subarray(0, 4).equals(ZIP_SIGNATURE)) return readXlsx(buffer)
+  if (buffer.subarray(0, 4).equals(OLE2_SIGNATURE)) throw badFile('This is an old Excel (.xls) workbook: save it as .xlsx or as CSV (UTF-8) and upload it again')
+  let text: string
+  try {
+    text = new TextDecoder('utf-8', { fatal: true }).decode(buffer)
+  } catch {
+    throw badFile('The file is neither an XLSX workbook nor CSV text in UTF-8: upload the register as .xlsx, or save the CSV as UTF-8')
+  }
+  for (let i = 0; i < text.length; i++) {
+    const c = text.charCodeAt(i)
+    if (c < 0x20 && c !== 0x09 && c !== 0x0a && c !== 0x0d) throw badFile('The file holds binary data, not CSV text: upload the register as .xlsx or .csv')
+  }
+  return readCsv(text.replace(/^\uFEFF/, ''))
+}
+
+/** Comma, semicolon or tab, whichever the header line holds most of. */
+function guessDelimiter(text: string): string {
+  const first = text.slice(0, text.search(/\r?\n|$/))
+  const count = (d: string) => first.split(d).length - 1
+  return [',', ';', '\t'].reduce((best, d) => (count(d) > count(best) ? d : best), ',')
+}
+
+function readCsv(text: string): FileTable {
+  const parsed = Papa.parse<string[]>(text, { delimiter: guessDelimiter(text), skipEmptyLines: false })
+  const quote = parsed.errors.find((e) => e.type === 'Quotes')
+  if (quote) throw badFile(`Row ${(quote.row ?? 0) + 1}: ${quote.message}; a text cell that holds the delimiter or a line break needs double quotes around it`)
+  const [head = [], ...data] = parsed.data
+  // a record is one spreadsheet row even when a quoted cell spans lines, so record index + 1 is the row number
+  return { headers: head.map((h) => h.trim()), rows: data.map((values, i) => ({ row: i + 2, values })) }
+}
+
+/** Sum of the uncompressed sizes in the ZIP central directory; Infinity when it cannot be read. */
+function unpackedSize(buf: Buffer): number {
+  const min = Math.max(0, buf.length - 65_557)
+  let eocd = -1
+  for (let i = buf.length - 22; i >= min; i--) {
+    if (buf.readUInt32LE(i) === 0x06054b50) { eocd = i; break }
+  }
+  if (eocd < 0) return Infinity
+  const entries = buf.readUInt16LE(eocd + 10)
+  let p = buf.readUInt32LE(eocd + 16)
+  let total = 0
+  for (let n = 0; n < entries; n++) {
+    if (p + 46 > buf.length || buf.readUInt32LE(p) !== 0x02014b50) return Infinity
+    const size = buf.readUInt32LE(p + 24)
+    if (size === 0xffffffff) return Infinity
+    total += size
+    p += 46 + buf.readUInt16LE(p + 28) + buf.readUInt16LE(p + 30) + buf.readUInt16LE(p + 32)
+  }
+  return total
+}
+
+function cellText(v: ExcelJS.CellValue): string {
+  if (v === null || v === undefined) return ''
+  if (typeof v === 'string') return v
+  if (typeof v === 'number') return String(v)
+  if (typeof v === 'boolean') return v ? 'yes' : 'no'
+  if (v instanceof Date) return v.toISOString().slice(0, 10)
+  if ('richText' in v) return v.richText.map((t) => t.text).join('')
+  if ('formula' in v || 'sharedFormula' in v) return cellText((v as { result?: ExcelJS.CellValue }).result ?? null)
+  if ('error' in v) return String(v.error)
+  if ('text' in v) return String(v.text)
+  return ''
+}
+
+async function readXlsx(buffer: Buffer): Promise<FileTable> {
+  if (unpackedSize(buffer) > XLSX_MAX_UNPACKED_BYTES) throw badFile('The file starts like an XLSX workbook but its contents cannot be read or are far too large')
+  const wb = new ExcelJS.Workbook()
+  try {
+    await wb.xlsx.load(buffer as never)
+  } catch {
+    throw badFile('The file starts like an XLSX workbook but cannot be opened as one: save it again from the spreadsheet program, or upload CSV (UTF-8)')
+  }
+  const ws = wb.worksheets[0]
+  if (!ws) throw badFile('The workbook has no worksheet')
+  if (ws.actualRowCount > IMPORT_MAX_ROWS + 1) throw badFile(`The first worksheet has ${ws.actualRowCount - 1} data rows; one import takes at most ${IMPORT_MAX_ROWS}`)
+  const width = Math.min(ws.columnCount, MAX_COLUMNS + 1)
+  const read = (r: ExcelJS.Row) => Array.from({ length: Math.max(width, r.cellCount) }, (_, i) => cellText(r.getCell(i + 1).value))
+  const headers = read(ws.getRow(1)).slice(0, width).map((h) => h.trim())
+  const rows: FileTable['rows'] = []
+  ws.eachRow({ includeEmpty: false }, (r, n) => { if (n > 1) rows.push({ row: n, values: read(r) }) })
+  return { headers, rows }
+}
+
+// ---- mapping headers to column keys ----
+
+const norm = (h: string) => h.trim().toLowerCase().replace(/\s+/g, ' ')
+const BY_HEADER = new Map<string, RegisterColumnKey>(REGISTER_COLUMNS.flatMap((c) => [[norm(c.header), c.key], [norm(c.key), c.key]] as const))
+
+/**
+ * The column key of each header: the explicit mapping first, then the register file's own headers (or keys), case
+ * does not matter, then the user's remembered mapping. Unknown headers are ignored.
+ */
+function resolveMapping(headers: string[], explicit: ImportMapping | undefined, remembered: ImportMapping) {
+  const lookup = (m: ImportMapping | undefined, h: string) => {
+    if (!m) return undefined
+    if (h in m) return m[h]
+    const found = Object.keys(m).find((k) => norm(k) === norm(h))
+    return found === undefined ? undefined : m[found]
+  }
+  const keys: (RegisterColumnKey | null)[] = []
+  const used: Record<string, string> = {}
+  const ignored: string[] = []
+  for (const h of headers) {
+    if (!h) { keys.push(null); continue }
+    const chosen = lookup(explicit, h) ?? BY_HEADER.get(norm(h)) ?? lookup(remembered, h)
+    keys.push(chosen ? chosen : null)
+    used[h] = chosen ?? ''
+    if (!chosen) ignored.push(h)
+  }
+  const seen = new Map<string, string>()
+  const twice: string[] = []
+  keys.forEach((k, i) => {
+    if (!k) return
+    if (seen.has(k)) twice.push(`"${seen.get(k)}" and "${headers[i]}" both map to ${header(k)}`)
+    else seen.set(k, headers[i])
+  })
+  const columns = REGISTER_COLUMNS.map((c) => ({ key: c.key, header: c.header }))
+  if (twice.length) throw badFile(`Two columns map to the same field: ${twice.join('; ')}`, { headers, mapping: used, columns })
+  const missing = IMPORT_REQUIRED_COLUMNS.filter((k) => !seen.has(k))
+  if (missing.length) {
+    throw badFile(`The file has no column for ${missing.map(header).join(', ')}: map its headers to the register columns, or start from an exported register file`, { headers, mapping: used, missing, columns })
+  }
+  return { keys, used, ignored }
+}
+
+function toStoredRows(table: FileTable, keys: (RegisterColumnKey | null)[]): StoredRow[] {
+  const rows: StoredRow[] = []
+  for (const { row, values } of table.rows) {
+    if (values.every((v) => v.trim() === '')) continue
+    const cells: Cells = {}
+    keys.forEach((k, i) => { if (k) cells[k] = (values[i] ?? '').trim() })
+    const problems: RowProblem[] = []
+    if (values.slice(table.headers.length).some((v) => v.trim() !== '')) {
+      problems.push({ field: '_row', message: `The row has more cells than the header has columns (${table.headers.length}): a text cell that holds the delimiter needs double quotes` })
+    }
+    rows.push({ row, cells, problems })
+  }
+  return rows
+}
+
+// ---- cells to API inputs ----
+
+class CellProblems {
+  list: RowProblem[] = []
+  add(field: string, message: string) { this.list.push({ field, message }) }
+  has(field: string) { return this.list.some((p) => p.field === field) }
+}
+
+const NUMBER = /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/
+
+function numberCell(v: string, key: string, errs: CellProblems): number | null | undefined {
+  if (v === '') return null
+  if (NUMBER.test(v)) return Number(v)
+  errs.add(key, /^-?\d+,\d+$/.test(v) ? `${header(key)}: use a dot as the decimal separator (${v.replace(',', '.')})` : `${header(key)}: "${v}" is not a number`)
+  return undefined
+}
+
+function intCell(v: string, key: string, errs: CellProblems): number | null | undefined {
+  const n = numberCell(v, key, errs)
+  if (n === null || n === undefined) return n
+  if (Number.isInteger(n)) return n
+  errs.add(key, `${header(key)}: enter a whole number`)
+  return undefined
+}
+
+function boolCell(v: string, key: string, errs: CellProblems): boolean | undefined {
+  const t = v.toLowerCase()
+  if (['yes', 'y', 'true', '1', 'x'].includes(t)) return true
+  if (['no', 'n', 'false', '0', ''].includes(t)) return t === '' ? undefined : false
+  errs.add(key, `${header(key)}: write yes or no`)
+  return undefined
+}
+
+const ENUM_ALIASES: Record<string, string> = { '%': 'percent_span', '%_span': 'percent_span', percent: 'percent_span', engineering_units: 'eu' }
+const enumCell = (v: string) => { const t = v.toLowerCase().replace(/[\s-]+/g, '_'); return ENUM_ALIASES[t] ?? t }
+
+/** The instrument's editable fields as the API reads them (for overlaying file cells on a stored instrument). */
+function instrumentBase(i: InstrumentDto): Record<string, unknown> {
+  return {
+    processId: i.processId, tag: i.tag, measuredVariable: i.measuredVariable, unit: i.unit, pressureReference: i.pressureReference, rangeLow: i.rangeLow,
+    rangeHigh: i.rangeHigh, normalLow: i.normalLow, normalHigh: i.normalHigh, designLow: i.designLow, designHigh: i.designHigh, burnout: i.burnout,
+    signal: i.signal, deviceKind: i.deviceKind, deviceDescription: i.deviceDescription,
+  }
+}
+
+const INSTRUMENT_NUMBERS = ['rangeLow', 'rangeHigh', 'normalLow', 'normalHigh', 'designLow', 'designHigh'] as const
+const INSTRUMENT_ENUMS = ['measuredVariable', 'burnout', 'deviceKind'] as const
+const INSTRUMENT_REQUIRED = ['measuredVariable', 'unit', 'rangeLow', 'rangeHigh', 'burnout', 'signal', 'deviceKind'] as const
+
+/** File cells over the stored instrument (columns the file lacks keep their stored value). */
+function instrumentRaw(cells: Cells, base: InstrumentDto | null, errs: CellProblems): Record<string, unknown> {
+  const raw: Record<string, unknown> = base ? instrumentBase(base) : {}
+  if (cells.instrumentTag !== undefined) raw.tag = cells.instrumentTag
+  if (cells.unit !== undefined) raw.unit = cells.unit
+  if (cells.deviceDescription !== undefined) raw.deviceDescription = cells.deviceDescription
+  for (const k of INSTRUMENT_ENUMS) if (cells[k] !== undefined) raw[k] = cells[k] === '' ? undefined : enumCell(cells[k])
+  if (cells.pressureReference !== undefined) raw.pressureReference = cells.pressureReference === '' ? null : enumCell(cells.pressureReference)
+  for (const k of INSTRUMENT_NUMBERS) {
+    if (cells[k] === undefined) continue
+    const n = numberCell(cells[k], k, errs)
+    if (n !== undefined) raw[k] = n
+    else delete raw[k]
+  }
+  if (cells.signal !== undefined || cells.headTransmitter !== undefined) {
+    const stored = base?.signal as { headTransmitter?: boolean } | undefined
+    const head = cells.headTransmitter !== undefined ? boolCell(cells.headTransmitter, 'headTransmitter', errs) ?? false : stored?.headTransmitter ?? false
+    const text = cells.signal ?? (base ? signalToText(base.signal) : '')
+    if (text === '') delete raw.signal
+    else {
+      const signal = signalFromText(text, head)
+      if (signal) raw.signal = signal
+      else {
+        delete raw.signal
+        errs.add('signal', `Signal: "${text}" is not understood; write e.g. thermocouple K, rtd Pt100 3-wire, 4-20mA, 4-20mA sqrt, voltage 0-10V or switch`)
+      }
+    }
+  }
+  for (const k of INSTRUMENT_REQUIRED) {
+    if ((raw[k] === undefined || raw[k] === null || raw[k] === '') && !errs.has(k)) errs.add(k, `${header(k)}: enter a value`)
+  }
+  return raw
+}
+
+const LIMIT_TEXTS = ['tag', 'description', 'action', 'consequence', 'operatorResponse'] as const
+const LIMIT_ENUMS = ['direction', 'limitClass', 'deadbandUnit', 'severity'] as const
+const LIMIT_NUMBERS = ['setpoint', 'deadband', 'onDelaySec', 'offDelaySec', 'responseTimeMin', 'analyticalLimit', 'processSafetyTimeSec', 'requiredResponseTimeSec', 'maxBypassHours'] as const
+const LIMIT_DEFAULTED = new Set(['deadband', 'onDelaySec', 'offDelaySec'])
+const LIMIT_BOOLS = ['latching', 'badValueTrip', 'bypassPermitted', 'codeSetInterval'] as const
+const LIMIT_REQUIRED = ['direction', 'limitClass', 'setpoint', 'severity', 'testIntervalMonths'] as const
+
+/** File cells over the stored limit (columns the file lacks keep their stored value). */
+function limitRaw(cells: Cells, base: Limit | null, errs: CellProblems): Record<string, unknown> {
+  const raw: Record<string, unknown> = base ? { ...base } : {}
+  for (const k of LIMIT_TEXTS) if (cells[k] !== undefined) raw[k] = cells[k]
+  for (const k of LIMIT_ENUMS) if (cells[k] !== undefined) raw[k] = cells[k] === '' ? undefined : enumCell(cells[k])
+  if (cells.resetRole !== undefined) raw.resetRole = cells.resetRole === '' ? null : enumCell(cells.resetRole)
+  for (const k of LIMIT_NUMBERS) {
+    if (cells[k] === undefined) continue
+    const n = numberCell(cells[k], k, errs)
+    raw[k] = n === null && LIMIT_DEFAULTED.has(k) ? undefined : n
+    if (n === undefined) delete raw[k]
+  }
+  for (const k of LIMIT_BOOLS) if (cells[k] !== undefined) raw[k] = boolCell(cells[k], k, errs)
+  if (cells.testIntervalMonths !== undefined) raw.testIntervalMonths = intCell(cells.testIntervalMonths, 'testIntervalMonths', errs) ?? undefined
+  if (cells.testGraceDays !== undefined) raw.testGraceDays = intCell(cells.testGraceDays, 'testGraceDays', errs)
+  if (cells.sil !== undefined) {
+    const m = /^(?:sil\s*)?([123])$/i.exec(cells.sil)
+    if (cells.sil === '') raw.sil = null
+    else if (m) raw.sil = Number(m[1])
+    else errs.add('sil', 'SIL: write 1, 2 or 3, or leave it empty')
+  }
+  if (cells.compensatingMeasures !== undefined) raw.compensatingMeasures = cells.compensatingMeasures.split(/[;\n]/).map((s) => s.trim()).filter(Boolean)
+  if (cells.subsystems !== undefined) {
+    if (cells.subsystems === '') raw.subsystems = []
+    else {
+      try {
+        raw.subsystems = JSON.parse(cells.subsystems)
+      } catch {
+        errs.add('subsystems', 'Subsystems: not valid JSON; write a list such as [{"role":"sensor","architecture":"1oo2",…}]')
+      }
+    }
+  }
+  for (const k of LIMIT_REQUIRED) {
+    if ((raw[k] === undefined || raw[k] === null || raw[k] === '') && !errs.has(k)) errs.add(k, `${header(k)}: enter a value`)
+  }
+  return raw
+}
+
+function instrumentColumn(path: PropertyKey[]): string {
+  const [first, second] = path.map(String)
+  if (first === 'tag') return 'instrumentTag'
+  if (first === 'processId') return 'process'
+  if (first === 'signal') return second === 'headTransmitter' ? 'headTransmitter' : 'signal'
+  return COLUMN_KEYS.has(first) ? first : 'instrumentTag'
+}
+
+function limitColumn(path: PropertyKey[]): string {
+  const first = String(path[0])
+  if (first === 'instrumentIds') return 'votedInstrumentTags'
+  if (first === 'processId') return 'process'
+  return COLUMN_KEYS.has(first) ? first : 'tag'
+}
+
+function zodProblems(err: ZodError, column: (path: PropertyKey[]) => string, errs: CellProblems) {
+  for (const issue of err.issues) {
+    const field = column(issue.path)
+    if (errs.has(field)) continue
+    const where = field === 'subsystems' && issue.path.length > 1 ? `subsystem ${Number(issue.path[1]) + 1}${issue.path.length > 2 ? ` ${issue.path.slice(2).join('.')}` : ''}: ` : ''
+    errs.add(field, `${header(field)}: ${where}${issue.message}`)
+  }
+}
+
+function parseWith<T>(schema: z.ZodType<T>, raw: unknown, column: (path: PropertyKey[]) => string, errs: CellProblems): T | null {
+  const r = schema.safeParse(raw)
+  if (r.success) return r.data
+  zodProblems(r.error, column, errs)
+  return null
+}
+
+// ---- comparing with what is stored ----
+
+/** An instrument definition as the database keeps it (so equal definitions compare equal). */
+function instrumentStored(d: CreateInstrumentInput): Record<string, unknown> {
+  return {
+    instrumentTag: d.tag, measuredVariable: d.measuredVariable, unit: d.unit, pressureReference: d.measuredVariable === 'pressure' ? d.pressureReference : null,
+    rangeLow: d.rangeLow, rangeHigh: d.rangeHigh, normalLow: d.normalLow, normalHigh: d.normalHigh, designLow: d.designLow, designHigh: d.designHigh,
+    burnout: d.burnout, signal: d.signal, deviceKind: d.deviceKind, deviceDescription: d.deviceDescription,
+  }
+}
+
+/** A limit definition as the database keeps it (the same normalisation as the limit service's columns). */
+function limitStored(d: CreateLimitInput): Record<string, unknown> {
+  const { processId: _p, instrumentIds, ...rest } = d
+  return {
+    ...rest, instrumentTag: instrumentIds[0], votedInstrumentTags: instrumentIds.slice(1), resetRole: d.latching ? d.resetRole : null,
+    maxBypassHours: d.bypassPermitted ? d.maxBypassHours : null, subsystems: d.sil ? d.subsystems : [],
+  }
+}
+
+/** Column keys whose values differ, in file order. */
+function differences(a: Record<string, unknown>, b: Record<string, unknown>): string[] {
+  const keys = [...new Set([...Object.keys(a), ...Object.keys(b)])]
+  const order = (k: string) => { const i = REGISTER_COLUMNS.findIndex((c) => c.key === k); return i < 0 ? 999 : i }
+  return keys.filter((k) => canonicalize(a[k] ?? null) !== canonicalize(b[k] ?? null)).sort((x, y) => order(x) - order(y))
+}
+
+// ---- running the rows against the register ----
+
+/** Errors of one row that stop it (thrown inside a row, caught by the row's savepoint). */
+class RowFailure extends Error {
+  constructor(readonly problems: RowProblem[]) { super(problems.map((p) => p.message).join('; ')) }
+}
+
+/** Turns a service error into row problems; anything unexpected is rethrown (and fails the whole import). */
+function problemsOf(err: unknown, fallbackField: string, column: (path: PropertyKey[]) => string): RowProblem[] {
+  if (err instanceof RowFailure) return err.problems
+  if (err instanceof ZodError) {
+    const errs = new CellProblems()
+    zodProblems(err, column, errs)
+    return errs.list
+  }
+  if (err instanceof AppError && err.status < 500) {
+    const details = err.details as { operatingWindow?: { errors: { field?: string, message: string }[] }, fields?: Record<string, string[]> } | undefined
+    if (details?.operatingWindow?.errors.length) {
+      return details.operatingWindow.errors.map((e) => ({ field: e.field && COLUMN_KEYS.has(e.field) ? e.field : 'setpoint', message: `Operating window: ${e.message}` }))
+    }
+    if (details?.fields && err.status !== 409) {
+      return Object.entries(details.fields).flatMap(([f, msgs]) => msgs.map((m) => ({ field: column(f.split('.')), message: m })))
+    }
+    return [{ field: fallbackField, message: err.message }]
+  }
+  throw err
+}
+
+/** Runs `fn` inside a savepoint: on a row problem the row's writes are undone and the problems returned. */
+async function inSavepoint(trx: Trx, fn: () => Promise<void>, fallbackField: string, column: (path: PropertyKey[]) => string): Promise<RowProblem[]> {
+  await sql`SAVEPOINT import_row`.execute(trx)
+  try {
+    await fn()
+    await sql`RELEASE SAVEPOINT import_row`.execute(trx)
+    return []
+  } catch (err) {
+    const problems = problemsOf(err, fallbackField, column)
+    await sql`ROLLBACK TO SAVEPOINT import_row`.execute(trx)
+    await sql`RELEASE SAVEPOINT import_row`.execute(trx)
+    return problems
+  }
+}
+
+interface RowState {
+  stored: StoredRow
+  problems: RowProblem[]
+  process?: { id: number, area_id: number, site_id: number }
+  instrumentId?: number
+  changes: Set<string>
+  wrote: boolean
+  created: boolean
+  limitId?: number
+  warnings: { code: string, field?: string, message: string }[]
+}
+
+interface RunOutcome { rows: ImportRowResult[], errors: ImportError[], limitIds: number[] }
+
+const lowerEq = (col: string, v: string) => sql<boolean>`lower(${sql.ref(col)}) = ${v.toLowerCase()}`
+
+async function findInstrument(trx: Trx, siteId: number, tag: string): Promise<InstrumentDto | null> {
+  const row = await trx.selectFrom('instrument').select('id').where('site_id', '=', siteId).where(lowerEq('tag', tag)).executeTakeFirst()
+  return row ? lockInstrument(trx, row.id) : null
+}
+
+async function findLimit(trx: Trx, siteId: number, tag: string): Promise<Limit | null> {
+  const row = await trx.selectFrom('limit_function').select('id').where('site_id', '=', siteId).where(lowerEq('tag', tag)).executeTakeFirst()
+  return row ? lockLimit(trx, row.id) : null
+}
+
+async function findProcess(trx: Trx, areaId: number, name: string) {
+  const rows = await trx.selectFrom('process').selectAll().where('area_id', '=', areaId).where(lowerEq('name', name)).execute()
+  return rows.find((p) => p.name === name) ?? rows[0] ?? null
+}
+
+/**
+ * Checks (and, inside the caller's transaction, writes) every row: first the processes and instruments of all rows,
+ * then the limits, so a voted instrument may be defined on a later row. Each row runs in a savepoint; a row with
+ * problems leaves nothing behind and the others go on, so one run reports every problem of the file.
+ */
+async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: number, code: string }, stored: StoredRow[], batchId: string | undefined): Promise<RunOutcome> {
+  const areas = await trx.selectFrom('area').select(['id', 'name']).where('site_id', '=', site.id).execute()
+  const states: RowState[] = stored.map((s) => ({ stored: s, problems: [...s.problems], changes: new Set(), wrote: false, created: false, warnings: [] }))
+  const firstRowOfLimit = new Map<string, number>()
+  const instrumentSeen = new Map<string, { row: number, definition: Record<string, unknown> }>()
+
+  // pass 1: shape checks, then area, process and instrument
+  for (const st of states) {
+    const { cells, row } = st.stored
+    const errs = new CellProblems()
+    if (!cells.instrumentTag) errs.add('instrumentTag', 'Instrument tag is empty')
+    if (!cells.tag) errs.add('tag', 'Limit tag is empty')
+    else {
+      const earlier = firstRowOfLimit.get(cells.tag.toLowerCase())
+      if (earlier) errs.add('tag', `Limit tag ${cells.tag} is already on row ${earlier}`)
+      else firstRowOfLimit.set(cells.tag.toLowerCase(), row)
+    }
+    if (cells.site && cells.site.toLowerCase() !== site.code.toLowerCase()) errs.add('site', `This row is for site ${cells.site}; this import is for ${site.code}`)
+    const area = cells.area ? areas.find((a) => a.name.toLowerCase() === cells.area!.toLowerCase()) : undefined
+    if (!cells.area) errs.add('area', 'Area is empty')
+    else if (!area) errs.add('area', `Area "${cells.area}" does not exist at ${site.code} (areas: ${areas.map((a) => a.name).join(', ')})`)
+    if (!cells.process) errs.add('process', 'Process is empty')
+    else {
+      const p = CreateProcessInputSchema.safeParse({ areaId: area?.id ?? 1, name: cells.process })
+      if (!p.success) errs.add('process', `Process: ${p.error.issues[0].message}`)
+    }
+    const process = area && cells.process ? await findProcess(trx, area.id, cells.process) : null
+    const instrument = cells.instrumentTag ? await findInstrument(trx, site.id, cells.instrumentTag) : null
+    const limit = cells.tag ? await findLimit(trx, site.id, cells.tag) : null
+    if (limit && area && cells.process && limit.processId !== process?.id) {
+      errs.add('process', `Limit ${limit.tag} belongs to ${limit.processName} in ${limit.areaName}; an import does not move a limit to another process`)
+    }
+    const instrumentInput = parseWith(CreateInstrumentInputSchema, { ...instrumentRaw(cells, instrument, errs), processId: instrument?.processId ?? process?.id ?? 1 }, instrumentColumn, errs)
+    parseWith(CreateLimitInputSchema, { ...limitRaw(cells, limit, errs), processId: process?.id ?? 1, instrumentIds: [1] }, limitColumn, errs)
+    st.problems.push(...errs.list)
+    if (st.problems.length || !area || !instrumentInput) continue
+
+    st.problems.push(...await inSavepoint(trx, async () => {
+      let proc = process
+      if (!proc) {
+        const now = clock.now()
+        proc = await trx.insertInto('process').values({ area_id: area.id, site_id: site.id, name: cells.process!, description: '', created_at: now, updated_at: now })
+          .returningAll().executeTakeFirstOrThrow()
+        await appendAudit(trx, clock, ctx, { action: 'process.create', entityType: 'Process', entityId: proc.id, after: toProcess(proc), batchId })
+        st.wrote = true
+      }
+      st.process = proc
+      const definition = instrumentStored(instrumentInput)
+      const key = instrumentInput.tag.toLowerCase()
+      const seen = instrumentSeen.get(key)
+      if (seen) {
+        const diff = differences(seen.definition, definition)
+        if (diff.length) throw new RowFailure(diff.map((f) => ({ field: f, message: `${header(f)}: instrument ${instrumentInput.tag} is described differently on row ${seen.row}` })))
+      }
+      if (!instrument) {
+        st.instrumentId = await insertInstrument(trx, clock, ctx, instrumentInput, proc, batchId)
+        st.wrote = true
+        st.changes.add('instrumentTag')
+      } else {
+        st.instrumentId = instrument.id
+        const diff = differences(instrumentStored(CreateInstrumentInputSchema.parse(instrumentBase(instrument))), definition)
+        if (diff.length && !seen) {
+          const active = await trx.selectFrom('limit_instrument').innerJoin('limit_function', 'limit_function.id', 'limit_instrument.limit_id')
+            .select('limit_function.tag').where('limit_instrument.instrument_id', '=', instrument.id).where('limit_function.status', '=', 'active').execute()
+          if (active.length) {
+            throw new RowFailure([{ field: diff[0], message: `Instrument ${instrument.tag} feeds active limits (${active.map((a) => a.tag).join(', ')}): it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})` }])
+          }
+          try {
+            await applyInstrumentDefinition(trx, clock, ctx, instrument, instrumentInput, { changeRequestId: null, reason: 'import', batchId })
+          } catch (err) {
+            if (err instanceof AppError && err.status === 422) throw new RowFailure([{ field: diff[0], message: err.message }])
+            throw err
+          }
+          st.wrote = true
+          for (const f of diff) st.changes.add(f)
+        }
+      }
+      instrumentSeen.set(key, { row, definition })
+    }, 'instrumentTag', instrumentColumn))
+  }
+
+  // pass 2: the limits
+  const limitIds: number[] = []
+  for (const st of states) {
+    if (st.problems.length) continue
+    const { cells } = st.stored
+    st.problems.push(...await inSavepoint(trx, async () => {
+      const errs = new CellProblems()
+      let instrumentIds = [st.instrumentId!]
+      const limit = await findLimit(trx, st.process!.site_id, cells.tag!)
+      if (cells.votedInstrumentTags !== undefined) {
+        for (const t of cells.votedInstrumentTags.split(/[;,\n]/).map((s) => s.trim()).filter(Boolean)) {
+          const found = await trx.selectFrom('instrument').select('id').where('site_id', '=', site.id).where(lowerEq('tag', t)).executeTakeFirst()
+          if (!found) errs.add('votedInstrumentTags', `Instrument ${t} does not exist at ${site.code} (nor on a row of this file without errors)`)
+          else if (instrumentIds.includes(found.id)) errs.add('votedInstrumentTags', `Instrument ${t} is listed twice`)
+          else instrumentIds.push(found.id)
+        }
+      } else if (limit) {
+        instrumentIds = [st.instrumentId!, ...limit.instrumentIds.slice(1).filter((id) => id !== st.instrumentId)]
+      }
+      const input = parseWith(CreateLimitInputSchema, { ...limitRaw(cells, limit, errs), processId: st.process!.id, instrumentIds }, limitColumn, errs)
+      if (errs.list.length || !input) throw new RowFailure(errs.list)
+      if (!limit) {
+        st.limitId = await insertLimit(trx, clock, ctx, input, st.process!, batchId)
+        st.wrote = true
+        st.created = true
+      } else {
+        st.limitId = limit.id
+        const diff = differences(limitStored(CreateLimitInputSchema.parse({ ...limit })), limitStored(input))
+        if (diff.length && limit.status !== 'proposed') {
+          throw new RowFailure([{
+            field: diff[0],
+            message: limit.status === 'active'
+              ? `Limit ${limit.tag} is active: it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})`
+              : `Limit ${limit.tag} is retired and is not changed by an import (changed: ${diff.map(header).join(', ')})`,
+          }])
+        }
+        if (diff.length) {
+          const { processId: _p, ...patch } = input
+          await applyLimitDefinition(trx, clock, ctx, limit, patch, { changeRequestId: null, reason: 'import', action: 'limit.update', batchId })
+          st.wrote = true
+          for (const f of diff) st.changes.add(f)
+        }
+      }
+      const w = await trx.selectFrom('limit_function').select('window_warnings').where('id', '=', st.limitId).executeTakeFirstOrThrow()
+      st.warnings = w.window_warnings
+    }, 'tag', limitColumn))
+    if (!st.problems.length && st.wrote && st.limitId) limitIds.push(st.limitId)
+  }
+
+  const rows: ImportRowResult[] = []
+  const errors: ImportError[] = []
+  const order = (f: string) => { const i = REGISTER_COLUMNS.findIndex((c) => c.key === f); return i < 0 ? -1 : i }
+  for (const st of states) {
+    if (st.problems.length) {
+      const unique = st.problems.filter((p, i, all) => all.findIndex((q) => q.field === p.field && q.message === p.message) === i)
+      errors.push(...unique.sort((a, b) => order(a.field) - order(b.field)).map((p) => ({ row: st.stored.row, ...p })))
+      continue
+    }
+    const action: ImportAction = st.created ? 'create' : st.wrote ? 'update' : 'unchanged'
+    rows.push({ row: st.stored.row, tag: st.stored.cells.tag ?? '', action, changes: action === 'update' ? [...st.changes] : [], warnings: st.warnings })
+  }
+  return { rows, errors, limitIds }
+}
+
+/** Thrown to roll the dry run's transaction back while carrying its outcome out. */
+class DryRunDone extends Error {
+  constructor(readonly outcome: RunOutcome) { super('dry run') }
+}
+
+function summarize(rows: ImportRowResult[]) {
+  return {
+    create: rows.filter((r) => r.action === 'create').length,
+    update: rows.filter((r) => r.action === 'update').length,
+    unchanged: rows.filter((r) => r.action === 'unchanged').length,
+  }
+}
+
+async function siteFor(deps: AppDeps, siteId: number) {
+  const site = await deps.db.selectFrom('site').select(['id', 'code']).where('id', '=', siteId).executeTakeFirst()
+  if (!site) throw validationFailed({ siteId: ['The site does not exist'] })
+  return site
+}
+
+async function rememberedMapping(deps: AppDeps, userId: number): Promise<ImportMapping> {
+  const row = await deps.db.selectFrom('import_mapping').select('mapping').where('user_id', '=', userId).executeTakeFirst()
+  if (!row) return {}
+  // entries that no longer name a column are dropped rather than failing the upload
+  return Object.fromEntries(Object.entries(row.mapping).filter(([h, k]) => ImportMappingSchema.safeParse({ [h]: k }).success))
+}
+
+/** The mapping a user has saved (header → column key). */
+export async function getRememberedMapping(deps: AppDeps, userId: number): Promise<ImportMapping> {
+  return rememberedMapping(deps, userId)
+}
+
+/**
+ * Reads an uploaded register file, checks every row in a transaction that is rolled back, stores the batch (rows,
+ * file name, SHA-256) and remembers the mapping for the user. With `dryRun: false` a clean batch is committed at once.
+ */
+export async function checkImport(deps: AppDeps, ability: AppAbility, ctx: AuditContext, userId: number, file: { buffer: Buffer, fileName: string }, fields: ImportUploadFields): Promise<ImportResult> {
+  const site = await siteFor(deps, fields.siteId)
+  authorize(ability, 'import', 'Limit', { siteId: site.id })
+  const table = await readTable(file.buffer)
+  if (table.headers.length > MAX_COLUMNS) throw badFile(`The file has ${table.headers.length} columns; the register file has ${REGISTER_COLUMNS.length}`)
+  if (table.headers.every((h) => !h)) throw badFile('Row 1 must hold the column headers')
+  const remembered = await rememberedMapping(deps, userId)
+  const { keys, used, ignored } = resolveMapping(table.headers, fields.mapping, remembered)
+  const stored = toStoredRows(table, keys)
+  if (!stored.length) throw badFile('The file has headers but no data rows')
+  if (stored.length > IMPORT_MAX_ROWS) throw badFile(`The file has ${stored.length} data rows; one import takes at most ${IMPORT_MAX_ROWS}: split it, e.g. by area`)
+  const checksum = createHash('sha256').update(file.buffer).digest('hex')
+  const fileName = file.fileName.replace(/^.*[\\/]/, '').slice(0, 200) || 'upload'
+
+  let outcome: RunOutcome
+  try {
+    await deps.db.transaction().execute(async (trx) => { throw new DryRunDone(await runRows(trx, deps.clock, ctx, site, stored, undefined)) })
+    throw new Error('the dry run did not roll back')
+  } catch (err) {
+    if (!(err instanceof DryRunDone)) throw err
+    outcome = err.outcome
+  }
+
+  const id = await deps.db.transaction().execute(async (trx) => {
+    const now = deps.clock.now()
+    const batch = await trx.insertInto('import_batch').values({
+      site_id: site.id, created_by: userId, file_name: fileName, checksum, row_count: stored.length, rows: JSON.stringify(stored), created_at: now,
+    }).returning('id').executeTakeFirstOrThrow()
+    const merged = Object.entries({ ...remembered, ...used }).slice(-500)
+    await trx.insertInto('import_mapping').values({ user_id: userId, mapping: JSON.stringify(Object.fromEntries(merged)), updated_at: now })
+      .onConflict((oc) => oc.column('user_id').doUpdateSet({ mapping: (eb) => eb.ref('excluded.mapping'), updated_at: now })).execute()
+    return batch.id
+  })
+
+  const result: ImportResult = {
+    id, siteId: site.id, status: 'checked', fileName, checksum, rowCount: stored.length, mapping: used, ignoredColumns: ignored,
+    rows: outcome.rows, errors: outcome.errors, summary: summarize(outcome.rows),
+  }
+  if (fields.dryRun) return result
+  if (outcome.errors.length) {
+    throw new AppError(422, ErrorCode.UNPROCESSABLE, `The file has ${outcome.errors.length} problem(s); nothing was imported`, { ...result })
+  }
+  return { ...await commitImport(deps, ability, ctx, id), mapping: used, ignoredColumns: ignored }
+}
+
+/**
+ * Commits a checked batch in one transaction: the rows are checked again against the register as it is now and written
+ * with one `import.commit` audit event whose batch id every row's event carries. A batch with errors is refused (422)
+ * and writes nothing; a batch whose rows are all unchanged is marked `unchanged` and writes no event.
+ */
+export async function commitImport(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number): Promise<ImportResult> {
+  return deps.db.transaction().execute(async (trx) => {
+    const batch = await trx.selectFrom('import_batch').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
+    if (!batch) throw notFound('Import')
+    authorize(ability, 'import', 'Limit', { siteId: batch.site_id })
+    if (batch.status !== 'checked') {
+      throw invalidState(batch.status === 'committed' ? 'This import is already committed' : 'This import changed nothing and is closed; upload the file again to import it again')
+    }
+    const site = await trx.selectFrom('site').select(['id', 'code']).where('id', '=', batch.site_id).executeTakeFirstOrThrow()
+    const batchId = randomUUID()
+    const outcome = await runRows(trx, deps.clock, ctx, site, batch.rows as StoredRow[], batchId)
+    const base = {
+      id: batch.id, siteId: batch.site_id, fileName: batch.file_name, checksum: batch.checksum, rowCount: batch.row_count, mapping: {}, ignoredColumns: [],
+      rows: outcome.rows, errors: outcome.errors, summary: summarize(outcome.rows),
+    }
+    if (outcome.errors.length) {
+      throw new AppError(422, ErrorCode.UNPROCESSABLE, `The import has ${outcome.errors.length} problem(s); nothing was written`, { ...base, status: 'checked' })
+    }
+    const unchanged = outcome.rows.every((r) => r.action === 'unchanged')
+    const now = deps.clock.now()
+    if (!unchanged) {
+      await appendAudit(trx, deps.clock, ctx, {
+        action: 'import.commit', entityType: 'ImportBatch', entityId: batch.id,
+        after: { rowCount: batch.row_count, checksum: batch.checksum, fileName: batch.file_name }, batchId,
+      })
+    }
+    await trx.updateTable('import_batch').set({ status: unchanged ? 'unchanged' : 'committed', committed_at: now }).where('id', '=', batch.id).execute()
+    return { ...base, status: unchanged ? 'unchanged' as const : 'committed' as const, limitIds: outcome.limitIds }
+  })
+}

@@ -1,0 +1,19 @@
+import { createRequire } from 'node:module'
+import path from 'node:path'
+
+const require = createRequire(import.meta.url)
+// pdfmake 0.3 on the server; the Roboto TTF files bundled in the pdfmake package are the fonts.
+const pdfmake = require('pdfmake') as {
+  addFonts(f: unknown): void
+  setLocalAccessPolicy(cb: (p: string) => boolean): void
+  createPdf(doc: unknown): { getBuffer(): Promise<Buffer> }
+}
+const fonts = require('pdfmake/fonts/Roboto.js') as { Roboto: Record<string, string> }
+const fontDir = path.dirname(require.resolve('pdfmake/fonts/Roboto.js'))
+pdfmake.addFonts(fonts)
+pdfmake.setLocalAccessPolicy((p) => path.resolve(p).startsWith(fontDir))
+
+/** Renders a pdfmake document definition to a PDF buffer. */
+export function renderPdf(doc: Record<string, unknown>): Promise<Buffer> {
+  return pdfmake.createPdf({ defaultStyle: { font: 'Roboto', fontSize: 9 }, pageSize: 'A4', pageMargins: [36, 48, 36, 48], ...doc }).getBuffer()
+}
