@@ -24,7 +24,7 @@ export default defineConfig({
     projects: [
       {
         resolve: { alias },
-        test: { name: 'unit', environment: 'node', include: ['tests/unit/shared/**/*.test.ts', 'tests/unit/server/**/*.test.ts'] },
+        test: { name: 'unit', environment: 'node', testTimeout: 30_000, include: ['tests/unit/shared/**/*.test.ts', 'tests/unit/server/**/*.test.ts'] },
       },
       {
         plugins: [vue(), vuetify({ autoImport: true })],
@@ -36,12 +36,12 @@ export default defineConfig({
       },
       {
         resolve: { alias },
-        test: { name: 'api', environment: 'node', include: ['tests/api/**/*.test.ts'], globalSetup: ['tests/global-setup.ts'] },
+        test: { name: 'api', environment: 'node', testTimeout: 60_000, hookTimeout: 120_000, include: ['tests/api/**/*.test.ts'], globalSetup: ['tests/global-setup.ts'] },
       },
       {
         resolve: { alias },
         test: {
-          name: 'browser', environment: 'node', include: ['tests/browser/**/*.spec.ts'], globalSetup: ['tests/global-setup.ts'],
+          name: 'browser', environment: 'node', testTimeout: 90_000, hookTimeout: 120_000, include: ['tests/browser/**/*.spec.ts'], globalSetup: ['tests/global-setup.ts'],
           fileParallelism: false,
         },
       },

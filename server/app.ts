@@ -10,6 +10,7 @@ import { AppError } from './errors.ts'
 import { createInstrumentsRouter, createLimitsRouter, createProcessesRouter } from './features/register/register.router.ts'
 import { createImportsRouter } from './features/register/imports.router.ts'
 import { createChangeRequestsRouter } from './features/change-requests/change-requests.router.ts'
+import { createDegradationRouter, createTripTestsRouter } from './features/trip-tests/trip-tests.router.ts'
 import { createAuditRouter } from './features/audit/audit.router.ts'
 import { createMailRouter } from './features/mail/mail.router.ts'
 import { createSessionRouter } from './features/session/session.router.ts'
@@ -59,7 +60,9 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/areas', createAreasRouter(deps))
   api.use('/processes', createProcessesRouter(deps))
   api.use('/instruments', createInstrumentsRouter(deps))
+  api.use('/limits/:id/degradation', createDegradationRouter(deps))
   api.use('/limits', createLimitsRouter(deps))
+  api.use('/trip-tests', createTripTestsRouter(deps))
   api.use('/imports', createImportsRouter(deps))
   api.use('/change-requests', createChangeRequestsRouter(deps))
   api.use('/audit-events', createAuditRouter(deps))

@@ -6,12 +6,15 @@ const require = createRequire(import.meta.url)
 const pdfmake = require('pdfmake') as {
   addFonts(f: unknown): void
   setLocalAccessPolicy(cb: (p: string) => boolean): void
+  setUrlAccessPolicy(cb: (url: string) => boolean): void
   createPdf(doc: unknown): { getBuffer(): Promise<Buffer> }
 }
 const fonts = require('pdfmake/fonts/Roboto.js') as { Roboto: Record<string, string> }
 const fontDir = path.dirname(require.resolve('pdfmake/fonts/Roboto.js'))
 pdfmake.addFonts(fonts)
 pdfmake.setLocalAccessPolicy((p) => path.resolve(p).startsWith(fontDir))
+// documents never fetch anything from the network
+pdfmake.setUrlAccessPolicy(() => false)
 
 /** Renders a pdfmake document definition to a PDF buffer. */
 export function renderPdf(doc: Record<string, unknown>): Promise<Buffer> {

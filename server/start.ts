@@ -75,11 +75,15 @@ async function main() {
   const localDb = !process.env.DATABASE_URL
   if (localDb) await startLocalPostgres()
   process.env.NODE_ENV ??= 'development'
-  const migrationUrl = process.env.MIGRATION_DATABASE_URL ?? process.env.DATABASE_URL!
-  try {
-    await migrateToLatest(migrationUrl)
-  } catch (err) {
-    fail(`${err instanceof Error ? err.message : err} — fix the migration or the database and run npm start again.`)
+  const migrationUrl = process.env.MIGRATION_DATABASE_URL
+  if (migrationUrl) {
+    try {
+      await migrateToLatest(migrationUrl)
+    } catch (err) {
+      fail(`${err instanceof Error ? err.message : err} — fix the migration or the database and run npm start again.`)
+    }
+  } else {
+    console.log('Migrations not run: set MIGRATION_DATABASE_URL (the owner role) to migrate at start, or run npm run db:migrate.')
   }
 
   let smtpPort: number | null = null
@@ -91,7 +95,8 @@ async function main() {
     cleanups.push(() => smtp.close())
   }
   const config = loadConfig()
-  if (config.NODE_ENV !== 'production') {
+  // the demo plant goes only into the local cluster, or where SEED_DEMO=1 asks for it; never in production
+  if (config.NODE_ENV !== 'production' && migrationUrl && (localDb || process.env.SEED_DEMO === '1')) {
     const { db } = createDb(migrationUrl, 2)
     try {
       if (await seedDemo(db)) console.log('Demo plant seeded.')
@@ -105,7 +110,7 @@ async function main() {
 
   console.log(`\nLimitkeeper is ready at ${server.url}  (${((Date.now() - started) / 1000).toFixed(1)} s)`)
   if (smtpPort) console.log(`Mail goes to the local fake SMTP server on 127.0.0.1:${smtpPort}; admins see it under Mail.`)
-  if (config.NODE_ENV !== 'production') {
+  if (config.NODE_ENV !== 'production' && (localDb || process.env.SEED_DEMO === '1')) {
     console.log(`Demo accounts (password: ${DEMO_PASSWORD}):`)
     for (const a of DEMO_ACCOUNTS) console.log(`  ${a.email.padEnd(34)} ${a.label}`)
   }

@@ -152,6 +152,9 @@ export interface LimitFunctionTable {
   created_by: number | null
   created_at: Timestamp
   updated_at: Timestamp
+  test_status: Generated<string>
+  test_due_date: ColumnType<string | null, string | null, string | null>
+  last_full_pass: ColumnType<string | null, string | null, string | null>
 }
 export interface LimitInstrumentTable { limit_id: number, position: number, instrument_id: number }
 export interface RevisionTable {
@@ -247,6 +250,91 @@ export interface AttachmentTable {
   uploaded_at: Timestamp
 }
 
+export interface TripTestTable {
+  id: Generated<number>
+  limit_id: number
+  site_id: number
+  limit_revision: number
+  kind: string
+  method: string
+  injection_point: string | null
+  source_mode: string | null
+  cold_junction_c: NullableNumeric
+  procedure_ref: string
+  device_serial: string
+  calibrator_id: string
+  calibrator_due_date: ColumnType<string | null, string | null, string | null>
+  work_order: string
+  bypass_id: number | null
+  performed_at: Timestamp
+  setpoint: Numeric
+  tolerance: Numeric
+  tolerance_unit: string
+  tolerance_eu: Numeric
+  as_found: NullableNumeric
+  as_found_signal: ColumnType<{ value: number, unit: string } | null, string | null, string | null>
+  as_found_result: string
+  as_left: NullableNumeric
+  as_left_result: string
+  reset_value: NullableNumeric
+  latch_held: boolean | null
+  reset_refused_while_active: boolean | null
+  reset_accepted_after_return: boolean | null
+  final_element_ok: boolean | null
+  response_time_sec: NullableNumeric
+  setpoint_restored_read_back: NullableNumeric
+  passed: boolean
+  fail_reasons: JsonValue<string[]>
+  notes: string
+  status: Generated<string>
+  content_hash: string
+  recorded_by: number
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+export interface LimitDegradationTable {
+  id: Generated<number>
+  limit_id: number
+  test_id: number
+  opened_at: Timestamp
+  reasons: JsonValue<string[]>
+  compensating_measures: ColumnType<string[] | null, string | null, string | null>
+  repair_deadline: ColumnType<string | null, string | null, string | null>
+  measures_signed_by: number | null
+  measures_signed_at: Timestamp | null
+  cleared_at: Timestamp | null
+  cleared_by_test_id: number | null
+}
+export interface DigestLogTable { site_id: number, kind: string, period: string, sent_at: Timestamp }
+
+export interface BypassTable {
+  id: Generated<number>
+  limit_id: number
+  site_id: number
+  channel_instrument_id: number | null
+  requested_by: number
+  reason: string
+  compensating_measures: JsonValue<string[]>
+  planned_start: Timestamp
+  planned_end: Timestamp
+  status: Generated<string>
+  change_request_id: number | null
+  authorized_at: Timestamp | null
+  activated_at: Timestamp | null
+  activated_by: number | null
+  removed_at: Timestamp | null
+  removed_by: number | null
+  pv_clear_confirmed: boolean | null
+  protection_restored_confirmed: boolean | null
+  removal_note: string | null
+  expiry_warned_at: Timestamp | null
+  overdue_notified_at: Timestamp | null
+  last_escalation_at: Timestamp | null
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+export interface HandoverAckTable { id: Generated<number>, area_id: number, user_id: number, at: Timestamp, snapshot: JsonValue<unknown>, content_hash: string }
+
 /** The database as Kysely sees it (kept by hand beside the migrations). */
 export interface Database {
   app_user: AppUserTable
@@ -272,6 +360,11 @@ export interface Database {
   change_request_check: ChangeRequestCheckTable
   signature: SignatureTable
   attachment: AttachmentTable
+  trip_test: TripTestTable
+  limit_degradation: LimitDegradationTable
+  digest_log: DigestLogTable
+  bypass: BypassTable
+  handover_ack: HandoverAckTable
 }
 
 export type ProcessRow = Selectable<ProcessTable>

@@ -6,6 +6,7 @@ import { systemClock } from '../clock.ts'
 import type { Db } from '../db/index.ts'
 import { appendAudit } from '../features/audit/audit.repository.ts'
 import { hashPassword } from '../features/session/passwords.ts'
+import { seedDemoRegister } from './demo-register.ts'
 
 export const DEMO_PASSWORD = 'limitkeeper-demo'
 
@@ -29,8 +30,11 @@ export const DEMO_ACCOUNTS: DemoAccount[] = [
   { email: 'auditor@fernhollow.example', name: 'Aurelia Stonebridge', label: 'Auditor, both sites', roles: both('auditor') },
 ]
 
-/** Seeds the demo plant into an empty database; returns false (and does nothing) when any user exists. */
-export async function seedDemo(db: Db, clock = systemClock): Promise<boolean> {
+/**
+ * Seeds the demo plant into an empty database; returns false (and does nothing) when any user exists. `register: false`
+ * leaves out the demo register (about 150 limits, a few seconds), for tests that do not need it.
+ */
+export async function seedDemo(db: Db, clock = systemClock, opts: { register?: boolean } = {}): Promise<boolean> {
   if (process.env.NODE_ENV === 'production') throw new Error('Demo accounts are refused when NODE_ENV=production.')
   const any = await db.selectFrom('app_user').select('id').limit(1).executeTakeFirst()
   if (any) return false
@@ -52,6 +56,7 @@ export async function seedDemo(db: Db, clock = systemClock): Promise<boolean> {
     await appendAudit(trx, clock, { actorId: null, requestId: null, ip: null }, {
       action: 'seed.demo', entityType: 'System', after: { sites: DEMO_SITES.map((s) => s.code), accounts: DEMO_ACCOUNTS.length },
     })
+    if (opts.register !== false) await seedDemoRegister(trx, clock)
   })
   return true
 }

@@ -8,7 +8,7 @@ import { REGISTER_COLUMNS, type RegisterColumnKey } from './register-io.ts'
 /** Largest file accepted, in bytes. */
 export const IMPORT_MAX_BYTES = 5 * 1024 * 1024
 /** Most data rows one file may hold (split larger registers, e.g. by area). */
-export const IMPORT_MAX_ROWS = 5000
+export const IMPORT_MAX_ROWS = 2000
 
 export const REGISTER_COLUMN_KEYS = REGISTER_COLUMNS.map((c) => c.key) as [RegisterColumnKey, ...RegisterColumnKey[]]
 

@@ -149,6 +149,7 @@ export type UpdateLimitInput = z.infer<typeof UpdateLimitInputSchema>
 
 export const LIMIT_STATUSES = ['proposed', 'active', 'retired'] as const
 export const PROTECTION_STATES = ['in_service', 'bypassed', 'degraded'] as const
+export const TEST_STATUSES = ['never_tested', 'ok', 'due_soon', 'in_grace', 'overdue'] as const
 
 export interface WindowFindingDto { code: string, field?: string, message: string }
 
@@ -166,6 +167,9 @@ export interface Limit extends Omit<CreateLimitInput, 'testGraceDays'> {
   status: typeof LIMIT_STATUSES[number]
   revision: number
   protectionState: typeof PROTECTION_STATES[number]
+  testStatus: typeof TEST_STATUSES[number]
+  testDueDate: string | null
+  lastFullPass: string | null
   operatingWindow: { errors: WindowFindingDto[], warnings: WindowFindingDto[] }
   primaryInstrument: { id: number, tag: string, unit: string, measuredVariable: string, rangeLow: number, rangeHigh: number } | null
   updatedAt: string

@@ -1,11 +1,13 @@
 import { z } from 'zod'
-import { DEFAULT_PRIORITY_MATRIX } from '../domain/priority.ts'
+import { checkPriorityMatrix, DEFAULT_PRIORITY_MATRIX } from '../domain/priority.ts'
 
 const cell = z.enum(['low', 'medium', 'high', 'critical', 'none'])
 /** The alarm priority matrix: severity rows × time-to-respond columns (DOMAIN.md §6). */
 export const PriorityMatrixSchema = z.object({
   responseTimeBoundsMin: z.array(z.number().positive()).min(1),
   rows: z.object({ severe: z.array(cell), major: z.array(cell), moderate: z.array(cell), minor: z.array(cell) }),
+}).superRefine((m, ctx) => {
+  for (const problem of checkPriorityMatrix(m)) ctx.addIssue({ code: 'custom', message: problem })
 })
 
 /** Site policies of DOMAIN.md §6 (defaults are common practice, no standard behind the numbers). */

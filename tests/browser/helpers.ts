@@ -22,7 +22,7 @@ export function launchChromium(): Promise<Browser> {
 export interface BrowserContext { server: RunningServer, browser: Browser, clock: AdjustableClock, baseUrl: string, ownerUrl: string }
 
 /** Per test file: own database with the demo plant, the built app served on a free port, and Chromium. */
-export function useBrowserApp(opts: { seed?: (ownerUrl: string) => Promise<void> } = {}): BrowserContext {
+export function useBrowserApp(opts: { seed?: (ownerUrl: string) => Promise<void>, register?: boolean } = {}): BrowserContext {
   const ctx = {} as BrowserContext
   let drop = async () => {}
   beforeAll(async () => {
@@ -31,7 +31,7 @@ export function useBrowserApp(opts: { seed?: (ownerUrl: string) => Promise<void>
     drop = database.drop
     const clock = new AdjustableClock()
     const owner = createDb(database.ownerUrl, 2).db
-    await seedDemo(owner, clock)
+    await seedDemo(owner, clock, { register: opts.register ?? false })
     await owner.destroy()
     if (opts.seed) await opts.seed(database.ownerUrl)
     const config = loadConfig({ NODE_ENV: 'test', DATABASE_URL: database.appUrl, PORT: '0', SMTP_PORT: '1' })

@@ -1,4 +1,4 @@
-import type { Transaction } from 'kysely'
+import { sql, type Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import {
@@ -19,6 +19,7 @@ import { applyInstrumentDefinition, lockInstrument } from '../register/instrumen
 import { applyLimitDefinition, evaluateLimit, lockLimit } from '../register/limits.service.ts'
 import { limitSnapshot } from '../register/register.mappers.ts'
 import { recomputeWindowsForInstrument } from '../register/limits.service.ts'
+import { refreshTestSchedule } from '../trip-tests/trip-tests.service.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { contentHash, insertSignature, listSignatures, voidSignatures } from '../signatures/signatures.ts'
@@ -66,22 +67,25 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
     }
     if (!Object.keys(changes).length) throw validationFailed({ items: [`The item changes nothing on instrument ${inst.tag}`] })
     const limits = await trx.selectFrom('limit_function').select(['id', 'tag', 'window_errors', 'window_warnings', 'sil']).where('primary_instrument_id', '=', inst.id).where('status', '!=', 'retired').execute()
-    // the window after: apply in a transaction of its own that is always rolled back
-    const after = await deps.db.transaction().execute(async (t) => {
+    // the window after: apply inside a savepoint of this transaction that is always rolled back (the row is locked
+    // by this transaction, so a transaction of its own would wait on it for ever)
+    await sql`SAVEPOINT instrument_window_after`.execute(trx)
+    let after: { blocked: { tag: string, errors: unknown[] }[], rows: { tag: string, window_errors: unknown[], window_warnings: unknown[] }[] }
+    try {
       const draft = parsePatch(UpdateInstrumentInputSchema, Object.fromEntries(Object.entries(changes).map(([k, v]) => [k, v.to])))
-      await t.updateTable('instrument').set({
+      await trx.updateTable('instrument').set({
         ...(draft.rangeLow !== undefined ? { range_low: draft.rangeLow } : {}), ...(draft.rangeHigh !== undefined ? { range_high: draft.rangeHigh } : {}),
         ...(draft.normalLow !== undefined ? { normal_low: draft.normalLow } : {}), ...(draft.normalHigh !== undefined ? { normal_high: draft.normalHigh } : {}),
         ...(draft.designLow !== undefined ? { design_low: draft.designLow } : {}), ...(draft.designHigh !== undefined ? { design_high: draft.designHigh } : {}),
         ...(draft.burnout !== undefined ? { burnout: draft.burnout } : {}),
       }).where('id', '=', inst.id).execute()
-      const blocked = await recomputeWindowsForInstrument(t, inst.id)
-      const rows = await t.selectFrom('limit_function').select(['tag', 'window_errors', 'window_warnings']).where('primary_instrument_id', '=', inst.id).where('status', '!=', 'retired').execute()
-      throw Object.assign(new Error('rollback'), { result: { blocked, rows } })
-    }).catch((e: { result?: { blocked: { tag: string, errors: unknown[] }[], rows: { tag: string, window_errors: unknown[], window_warnings: unknown[] }[] } }) => {
-      if (!e.result) throw e
-      return e.result
-    })
+      const blocked = await recomputeWindowsForInstrument(trx, inst.id)
+      const rows = await trx.selectFrom('limit_function').select(['tag', 'window_errors', 'window_warnings']).where('primary_instrument_id', '=', inst.id).where('status', '!=', 'retired').execute()
+      after = { blocked, rows }
+    } finally {
+      await sql`ROLLBACK TO SAVEPOINT instrument_window_after`.execute(trx)
+      await sql`RELEASE SAVEPOINT instrument_window_after`.execute(trx)
+    }
     if (after.blocked.length) {
       throw new AppError(422, ErrorCode.UNPROCESSABLE, `The change would put limits outside their operating window: ${after.blocked.map((b) => b.tag).join(', ')}`, { limits: after.blocked })
     }
@@ -154,8 +158,9 @@ async function approvalsRequiredFor(trx: Trx, siteId: number, crId: number): Pro
   const site = await trx.selectFrom('site').select('policy').where('id', '=', siteId).executeTakeFirstOrThrow()
   const policy = policyOf(site)
   const items = await trx.selectFrom('change_request_item').leftJoin('limit_function', 'limit_function.id', 'change_request_item.limit_id')
-    .select(['change_request_item.kind', 'change_request_item.instrument_id', 'limit_function.sil']).where('change_request_id', '=', crId).execute()
-  let sil = items.some((i) => i.sil !== null)
+    .select(['change_request_item.kind', 'change_request_item.instrument_id', 'change_request_item.changes', 'limit_function.sil']).where('change_request_id', '=', crId).execute()
+  // SIL-rated before or after the change: a modify that gives a limit a SIL is a change to a SIL-rated function
+  let sil = items.some((i) => i.sil !== null || (i.changes.sil?.to ?? null) !== null)
   const instrumentIds = items.filter((i) => i.instrument_id).map((i) => i.instrument_id!)
   if (!sil && instrumentIds.length) {
     sil = Boolean(await trx.selectFrom('limit_function').select('id').where('primary_instrument_id', 'in', instrumentIds).where('sil', 'is not', null).executeTakeFirst())
@@ -459,6 +464,16 @@ function checkReadBack(item: { kind: string, changes: Record<string, { from: unk
   if (Object.keys(errors).length) throw new AppError(422, ErrorCode.UNPROCESSABLE, 'The read-back does not equal the approved value; nothing was implemented', { fields: errors })
 }
 
+/** 409 when the limit or instrument of an item changed since the request was written (locks the row). */
+async function assertNotStale(trx: Trx, item: { kind: string, limit_id: number | null, instrument_id: number | null, base_revision: number }) {
+  const row = item.kind === 'instrument'
+    ? await trx.selectFrom('instrument').select(['tag', 'revision']).where('id', '=', item.instrument_id!).forUpdate().executeTakeFirstOrThrow()
+    : await trx.selectFrom('limit_function').select(['tag', 'revision']).where('id', '=', item.limit_id!).forUpdate().executeTakeFirstOrThrow()
+  if (row.revision !== item.base_revision) {
+    throw conflict(`${item.kind === 'instrument' ? 'Instrument' : 'Limit'} ${row.tag} changed since this request was written (revision ${item.base_revision} → ${row.revision}); revise the request`)
+  }
+}
+
 async function applyItem(deps: AppDeps, trx: Trx, ctx: AuditContext, crId: number, item: { id: number, kind: string, limit_id: number | null, instrument_id: number | null, base_revision: number, changes: Record<string, { from: unknown, to: unknown }> }) {
   const to = Object.fromEntries(Object.entries(item.changes).map(([k, v]) => [k, v.to]))
   if (item.kind === 'instrument') {
@@ -472,10 +487,12 @@ async function applyItem(deps: AppDeps, trx: Trx, ctx: AuditContext, crId: numbe
   if (item.kind === 'create') {
     if (limit.status !== 'proposed') throw invalidState(`Limit ${limit.tag} is already ${limit.status}`)
     await applyLimitDefinition(trx, deps.clock, ctx, limit, {}, { changeRequestId: crId, reason: `change request #${crId}: put in service`, action: 'limit.activate', status: 'active' })
+    await refreshTestSchedule(trx, limit.id, deps.clock.now())
   } else if (item.kind === 'retire') {
     await applyLimitDefinition(trx, deps.clock, ctx, limit, {}, { changeRequestId: crId, reason: `change request #${crId}: retired`, action: 'limit.retire', status: 'retired' })
   } else {
     await applyLimitDefinition(trx, deps.clock, ctx, limit, to, { changeRequestId: crId, reason: `change request #${crId}`, action: 'limit.change' })
+    await refreshTestSchedule(trx, limit.id, deps.clock.now())
   }
 }
 
@@ -500,6 +517,8 @@ export async function implementChangeRequest(deps: AppDeps, ability: AppAbility,
     const targets = input.allItems ? items.filter((i) => !i.implemented_at) : items.filter((i) => i.id === input.itemId)
     if (!targets.length) throw input.allItems ? invalidState('Every item is implemented already') : notFound('Change request item')
     if (input.allItems && targets.some((i) => i.kind !== 'create')) throw invalidState('Only a baseline of new limits is implemented in bulk; implement changes item by item with their read-back')
+    // nothing half-applied: while any item still to implement stands on a row that changed since, none is applied
+    for (const item of items.filter((i) => !i.implemented_at)) await assertNotStale(trx, item)
     for (const item of targets) {
       if (item.implemented_at) throw invalidState('This item is implemented already')
       if (!input.allItems) checkReadBack(item, input.readBack ?? {})

@@ -46,6 +46,10 @@ export function createImportsRouter(deps: AppDeps) {
     res.status(201).json(result)
   })
 
+  router.get('/mapping', mayImport, async (req, res) => {
+    res.json({ mapping: await imports.getRememberedMapping(deps, req.user!.id) })
+  })
+
   router.post('/:id/commit', mayImport, async (req, res) => {
     res.json(await imports.commitImport(deps, req.ability, req.audit, IdSchema.parse(req.params.id)))
   })

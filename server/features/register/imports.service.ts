@@ -17,12 +17,13 @@ import { REGISTER_COLUMNS, type RegisterColumnKey, signalFromText, signalToText 
 import { authorize } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
-import type { Database } from '../../db/schema.ts'
+import type { Database, ProcessRow } from '../../db/schema.ts'
 import { AppError, invalidState, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { applyInstrumentDefinition, insertInstrument, lockInstrument } from './instruments.service.ts'
 import { applyLimitDefinition, insertLimit, lockLimit } from './limits.service.ts'
-import { toProcess } from './register.mappers.ts'
+import { findInstrumentIdsByLimitIds } from './limits.repository.ts'
+import { toInstrument, toLimit, toProcess } from './register.mappers.ts'
 
 // The register import: a CSV or XLSX file in the register file layout (shared/schemas/register-io.ts) is read,
 // mapped to column keys, checked in a transaction that is rolled back (dry run), stored as a batch, and committed
@@ -446,35 +447,73 @@ interface RowState {
 
 interface RunOutcome { rows: ImportRowResult[], errors: ImportError[], limitIds: number[] }
 
-const lowerEq = (col: string, v: string) => sql<boolean>`lower(${sql.ref(col)}) = ${v.toLowerCase()}`
+const splitTags = (v: string | undefined) => (v ?? '').split(/[;,\n]/).map((s) => s.trim()).filter(Boolean)
+const processKey = (areaId: number, name: string) => `${areaId}|${name.toLowerCase()}`
 
-async function findInstrument(trx: Trx, siteId: number, tag: string): Promise<InstrumentDto | null> {
-  const row = await trx.selectFrom('instrument').select('id').where('site_id', '=', siteId).where(lowerEq('tag', tag)).executeTakeFirst()
-  return row ? lockInstrument(trx, row.id) : null
+function chunks<T>(list: T[], size = 1000): T[][] {
+  const out: T[][] = []
+  for (let i = 0; i < list.length; i += size) out.push(list.slice(i, i + size))
+  return out
 }
 
-async function findLimit(trx: Trx, siteId: number, tag: string): Promise<Limit | null> {
-  const row = await trx.selectFrom('limit_function').select('id').where('site_id', '=', siteId).where(lowerEq('tag', tag)).executeTakeFirst()
-  return row ? lockLimit(trx, row.id) : null
+/** The site's instruments named in the file, by lower-case tag, locked for the rest of the transaction. */
+async function preloadInstruments(trx: Trx, siteId: number, tags: string[]): Promise<Map<string, InstrumentDto>> {
+  const map = new Map<string, InstrumentDto>()
+  for (const chunk of chunks(tags)) {
+    const rows = await trx.selectFrom('instrument').innerJoin('process', 'process.id', 'instrument.process_id').selectAll('instrument').select('process.name as process_name')
+      .where('instrument.site_id', '=', siteId).where(sql<string>`lower(instrument.tag)`, 'in', chunk).forUpdate(['instrument'] as never).execute()
+    for (const r of rows) map.set(r.tag.toLowerCase(), toInstrument(r))
+  }
+  return map
 }
 
-async function findProcess(trx: Trx, areaId: number, name: string) {
-  const rows = await trx.selectFrom('process').selectAll().where('area_id', '=', areaId).where(lowerEq('name', name)).execute()
-  return rows.find((p) => p.name === name) ?? rows[0] ?? null
+/** The site's limits named in the file, by lower-case tag, in the API shape, locked for the rest of the transaction. */
+async function preloadLimits(trx: Trx, siteId: number, tags: string[]): Promise<Map<string, Limit>> {
+  const map = new Map<string, Limit>()
+  for (const chunk of chunks(tags)) {
+    const rows = await trx.selectFrom('limit_function')
+      .innerJoin('process', 'process.id', 'limit_function.process_id')
+      .innerJoin('area', 'area.id', 'limit_function.area_id')
+      .innerJoin('site', 'site.id', 'limit_function.site_id')
+      .innerJoin('instrument as pi', 'pi.id', 'limit_function.primary_instrument_id')
+      .selectAll('limit_function')
+      .select(['process.name as process_name', 'area.name as area_name', 'site.code as site_code', 'pi.tag as pi_tag', 'pi.unit as pi_unit',
+        'pi.measured_variable as pi_variable', 'pi.range_low as pi_range_low', 'pi.range_high as pi_range_high'])
+      .where('limit_function.site_id', '=', siteId).where(sql<string>`lower(limit_function.tag)`, 'in', chunk)
+      .forUpdate(['limit_function'] as never).execute()
+    const voted = await findInstrumentIdsByLimitIds(trx, rows.map((r) => r.id))
+    for (const r of rows) map.set(r.tag.toLowerCase(), toLimit(r, voted.get(r.id) ?? []))
+  }
+  return map
+}
+
+async function activeLimitTagsOn(trx: Trx, instrumentId: number): Promise<string[]> {
+  const rows = await trx.selectFrom('limit_instrument').innerJoin('limit_function', 'limit_function.id', 'limit_instrument.limit_id')
+    .select('limit_function.tag').where('limit_instrument.instrument_id', '=', instrumentId).where('limit_function.status', '=', 'active').execute()
+  return rows.map((r) => r.tag)
 }
 
 /**
  * Checks (and, inside the caller's transaction, writes) every row: first the processes and instruments of all rows,
- * then the limits, so a voted instrument may be defined on a later row. Each row runs in a savepoint; a row with
- * problems leaves nothing behind and the others go on, so one run reports every problem of the file.
+ * then the limits, so a voted instrument may be defined on a later row. A row that writes does so in a savepoint; a
+ * row with problems leaves nothing behind and the others go on, so one run reports every problem of the file. Rows
+ * that change nothing cost no query: what they are compared with is loaded once, up front.
  */
 async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: number, code: string }, stored: StoredRow[], batchId: string | undefined): Promise<RunOutcome> {
-  const areas = await trx.selectFrom('area').select(['id', 'name']).where('site_id', '=', site.id).execute()
+  const areas = await trx.selectFrom('area').select(['id', 'name']).where('site_id', '=', site.id).orderBy('id').execute()
+  const processes = new Map<string, ProcessRow>()
+  for (const p of await trx.selectFrom('process').selectAll().where('site_id', '=', site.id).orderBy('id').execute()) {
+    if (!processes.has(processKey(p.area_id, p.name))) processes.set(processKey(p.area_id, p.name), p)
+  }
+  const lowerTags = (f: (s: StoredRow) => string[]) => [...new Set(stored.flatMap(f).filter(Boolean).map((t) => t.toLowerCase()))]
+  const instruments = await preloadInstruments(trx, site.id, lowerTags((s) => [s.cells.instrumentTag ?? '', ...splitTags(s.cells.votedInstrumentTags)]))
+  const limits = await preloadLimits(trx, site.id, lowerTags((s) => [s.cells.tag ?? '']))
+  const changedInstruments = new Set<number>()
   const states: RowState[] = stored.map((s) => ({ stored: s, problems: [...s.problems], changes: new Set(), wrote: false, created: false, warnings: [] }))
   const firstRowOfLimit = new Map<string, number>()
   const instrumentSeen = new Map<string, { row: number, definition: Record<string, unknown> }>()
 
-  // pass 1: shape checks, then area, process and instrument
+  // pass 1: the shape of the row, then its process and instrument
   for (const st of states) {
     const { cells, row } = st.stored
     const errs = new CellProblems()
@@ -494,9 +533,9 @@ async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: nu
       const p = CreateProcessInputSchema.safeParse({ areaId: area?.id ?? 1, name: cells.process })
       if (!p.success) errs.add('process', `Process: ${p.error.issues[0].message}`)
     }
-    const process = area && cells.process ? await findProcess(trx, area.id, cells.process) : null
-    const instrument = cells.instrumentTag ? await findInstrument(trx, site.id, cells.instrumentTag) : null
-    const limit = cells.tag ? await findLimit(trx, site.id, cells.tag) : null
+    const process = area && cells.process ? processes.get(processKey(area.id, cells.process)) ?? null : null
+    const instrument = cells.instrumentTag ? instruments.get(cells.instrumentTag.toLowerCase()) ?? null : null
+    const limit = cells.tag ? limits.get(cells.tag.toLowerCase()) ?? null : null
     if (limit && area && cells.process && limit.processId !== process?.id) {
       errs.add('process', `Limit ${limit.tag} belongs to ${limit.processName} in ${limit.areaName}; an import does not move a limit to another process`)
     }
@@ -505,48 +544,65 @@ async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: nu
     st.problems.push(...errs.list)
     if (st.problems.length || !area || !instrumentInput) continue
 
+    const definition = instrumentStored(instrumentInput)
+    const key = instrumentInput.tag.toLowerCase()
+    const seen = instrumentSeen.get(key)
+    if (seen) {
+      const diff = differences(seen.definition, definition)
+      if (diff.length) {
+        st.problems.push(...diff.map((f) => ({ field: f, message: `${header(f)}: instrument ${instrumentInput.tag} is described differently on row ${seen.row}` })))
+        continue
+      }
+    }
+    let diff: string[] = []
+    if (instrument && !seen) {
+      const current = parseWith(CreateInstrumentInputSchema, instrumentBase(instrument), instrumentColumn, errs)
+      diff = current ? differences(instrumentStored(current), definition) : ['instrumentTag']
+      const active = diff.length ? await activeLimitTagsOn(trx, instrument.id) : []
+      if (active.length) {
+        st.problems.push({ field: diff[0], message: `Instrument ${instrument.tag} feeds active limits (${active.join(', ')}): it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})` })
+        continue
+      }
+    }
+    st.process = process ?? undefined
+    st.instrumentId = instrument?.id
+    if (process && instrument && !diff.length) {
+      instrumentSeen.set(key, { row, definition })
+      continue
+    }
+    let newProcess: ProcessRow | null = null
     st.problems.push(...await inSavepoint(trx, async () => {
       let proc = process
       if (!proc) {
         const now = clock.now()
-        proc = await trx.insertInto('process').values({ area_id: area.id, site_id: site.id, name: cells.process!, description: '', created_at: now, updated_at: now })
+        proc = newProcess = await trx.insertInto('process').values({ area_id: area.id, site_id: site.id, name: cells.process!, description: '', created_at: now, updated_at: now })
           .returningAll().executeTakeFirstOrThrow()
         await appendAudit(trx, clock, ctx, { action: 'process.create', entityType: 'Process', entityId: proc.id, after: toProcess(proc), batchId })
-        st.wrote = true
       }
       st.process = proc
-      const definition = instrumentStored(instrumentInput)
-      const key = instrumentInput.tag.toLowerCase()
-      const seen = instrumentSeen.get(key)
-      if (seen) {
-        const diff = differences(seen.definition, definition)
-        if (diff.length) throw new RowFailure(diff.map((f) => ({ field: f, message: `${header(f)}: instrument ${instrumentInput.tag} is described differently on row ${seen.row}` })))
-      }
       if (!instrument) {
         st.instrumentId = await insertInstrument(trx, clock, ctx, instrumentInput, proc, batchId)
-        st.wrote = true
         st.changes.add('instrumentTag')
-      } else {
-        st.instrumentId = instrument.id
-        const diff = differences(instrumentStored(CreateInstrumentInputSchema.parse(instrumentBase(instrument))), definition)
-        if (diff.length && !seen) {
-          const active = await trx.selectFrom('limit_instrument').innerJoin('limit_function', 'limit_function.id', 'limit_instrument.limit_id')
-            .select('limit_function.tag').where('limit_instrument.instrument_id', '=', instrument.id).where('limit_function.status', '=', 'active').execute()
-          if (active.length) {
-            throw new RowFailure([{ field: diff[0], message: `Instrument ${instrument.tag} feeds active limits (${active.map((a) => a.tag).join(', ')}): it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})` }])
-          }
-          try {
-            await applyInstrumentDefinition(trx, clock, ctx, instrument, instrumentInput, { changeRequestId: null, reason: 'import', batchId })
-          } catch (err) {
-            if (err instanceof AppError && err.status === 422) throw new RowFailure([{ field: diff[0], message: err.message }])
-            throw err
-          }
-          st.wrote = true
-          for (const f of diff) st.changes.add(f)
+      } else if (diff.length) {
+        try {
+          await applyInstrumentDefinition(trx, clock, ctx, instrument, instrumentInput, { changeRequestId: null, reason: 'import', batchId })
+        } catch (err) {
+          if (err instanceof AppError && err.status === 422) throw new RowFailure([{ field: diff[0], message: err.message }])
+          throw err
         }
+        for (const f of diff) st.changes.add(f)
       }
-      instrumentSeen.set(key, { row, definition })
+      instruments.set(key, await lockInstrument(trx, st.instrumentId!))
     }, 'instrumentTag', instrumentColumn))
+    if (st.problems.length) {
+      if (instrument) instruments.set(key, instrument)
+      else instruments.delete(key)
+      continue
+    }
+    st.wrote = true
+    if (newProcess) processes.set(processKey(area.id, cells.process!), newProcess)
+    if (instrument) changedInstruments.add(instrument.id)
+    instrumentSeen.set(key, { row, definition })
   }
 
   // pass 2: the limits
@@ -554,53 +610,66 @@ async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: nu
   for (const st of states) {
     if (st.problems.length) continue
     const { cells } = st.stored
-    st.problems.push(...await inSavepoint(trx, async () => {
-      const errs = new CellProblems()
-      let instrumentIds = [st.instrumentId!]
-      const limit = await findLimit(trx, st.process!.site_id, cells.tag!)
-      if (cells.votedInstrumentTags !== undefined) {
-        for (const t of cells.votedInstrumentTags.split(/[;,\n]/).map((s) => s.trim()).filter(Boolean)) {
-          const found = await trx.selectFrom('instrument').select('id').where('site_id', '=', site.id).where(lowerEq('tag', t)).executeTakeFirst()
-          if (!found) errs.add('votedInstrumentTags', `Instrument ${t} does not exist at ${site.code} (nor on a row of this file without errors)`)
-          else if (instrumentIds.includes(found.id)) errs.add('votedInstrumentTags', `Instrument ${t} is listed twice`)
-          else instrumentIds.push(found.id)
-        }
-      } else if (limit) {
-        instrumentIds = [st.instrumentId!, ...limit.instrumentIds.slice(1).filter((id) => id !== st.instrumentId)]
+    const errs = new CellProblems()
+    const instrumentIds = [st.instrumentId!]
+    let limit = limits.get(cells.tag!.toLowerCase()) ?? null
+    if (cells.votedInstrumentTags !== undefined) {
+      for (const t of splitTags(cells.votedInstrumentTags)) {
+        const found = instruments.get(t.toLowerCase())
+        if (!found) errs.add('votedInstrumentTags', `Instrument ${t} does not exist at ${site.code} (nor on a row of this file without errors)`)
+        else if (instrumentIds.includes(found.id)) errs.add('votedInstrumentTags', `Instrument ${t} is listed twice`)
+        else instrumentIds.push(found.id)
       }
-      const input = parseWith(CreateLimitInputSchema, { ...limitRaw(cells, limit, errs), processId: st.process!.id, instrumentIds }, limitColumn, errs)
-      if (errs.list.length || !input) throw new RowFailure(errs.list)
-      if (!limit) {
+    } else if (limit) {
+      instrumentIds.push(...limit.instrumentIds.slice(1).filter((id) => id !== st.instrumentId))
+    }
+    const input = parseWith(CreateLimitInputSchema, { ...limitRaw(cells, limit, errs), processId: st.process!.id, instrumentIds }, limitColumn, errs)
+    if (errs.list.length || !input) {
+      st.problems.push(...errs.list)
+      continue
+    }
+    // an instrument changed by this import recomputed the limit's stored window results
+    if (limit && limit.instrumentIds.some((id) => changedInstruments.has(id))) limit = await lockLimit(trx, limit.id)
+    if (limit) {
+      st.limitId = limit.id
+      const current = parseWith(CreateLimitInputSchema, { ...limit }, limitColumn, errs)
+      const diff = current ? differences(limitStored(current), limitStored(input)) : ['tag']
+      if (diff.length && limit.status !== 'proposed') {
+        st.problems.push({
+          field: diff[0],
+          message: limit.status === 'active'
+            ? `Limit ${limit.tag} is active: it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})`
+            : `Limit ${limit.tag} is retired and is not changed by an import (changed: ${diff.map(header).join(', ')})`,
+        })
+        continue
+      }
+      st.warnings = limit.operatingWindow.warnings
+      if (!diff.length) continue
+      const before = limit
+      st.problems.push(...await inSavepoint(trx, async () => {
+        const { processId: _p, ...patch } = input
+        const after = await applyLimitDefinition(trx, clock, ctx, before, patch, { changeRequestId: null, reason: 'import', action: 'limit.update', batchId })
+        st.warnings = after.operatingWindow.warnings
+      }, 'tag', limitColumn))
+      for (const f of diff) st.changes.add(f)
+    } else {
+      st.problems.push(...await inSavepoint(trx, async () => {
         st.limitId = await insertLimit(trx, clock, ctx, input, st.process!, batchId)
-        st.wrote = true
-        st.created = true
-      } else {
-        st.limitId = limit.id
-        const diff = differences(limitStored(CreateLimitInputSchema.parse({ ...limit })), limitStored(input))
-        if (diff.length && limit.status !== 'proposed') {
-          throw new RowFailure([{
-            field: diff[0],
-            message: limit.status === 'active'
-              ? `Limit ${limit.tag} is active: it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})`
-              : `Limit ${limit.tag} is retired and is not changed by an import (changed: ${diff.map(header).join(', ')})`,
-          }])
-        }
-        if (diff.length) {
-          const { processId: _p, ...patch } = input
-          await applyLimitDefinition(trx, clock, ctx, limit, patch, { changeRequestId: null, reason: 'import', action: 'limit.update', batchId })
-          st.wrote = true
-          for (const f of diff) st.changes.add(f)
-        }
-      }
-      const w = await trx.selectFrom('limit_function').select('window_warnings').where('id', '=', st.limitId).executeTakeFirstOrThrow()
-      st.warnings = w.window_warnings
-    }, 'tag', limitColumn))
-    if (!st.problems.length && st.wrote && st.limitId) limitIds.push(st.limitId)
+        const w = await trx.selectFrom('limit_function').select('window_warnings').where('id', '=', st.limitId).executeTakeFirstOrThrow()
+        st.warnings = w.window_warnings
+      }, 'tag', limitColumn))
+      st.created = true
+    }
+    if (st.problems.length) continue
+    st.wrote = true
+    limitIds.push(st.limitId!)
   }
+  // rows whose instrument changed but whose limit did not still count as updates; their limits were re-checked
+  for (const st of states) if (!st.problems.length && st.wrote && st.limitId && !limitIds.includes(st.limitId)) limitIds.push(st.limitId)
 
   const rows: ImportRowResult[] = []
   const errors: ImportError[] = []
-  const order = (f: string) => { const i = REGISTER_COLUMNS.findIndex((c) => c.key === f); return i < 0 ? -1 : i }
+  const order = (f: string) => REGISTER_COLUMNS.findIndex((c) => c.key === f)
   for (const st of states) {
     if (st.problems.length) {
       const unique = st.problems.filter((p, i, all) => all.findIndex((q) => q.field === p.field && q.message === p.message) === i)
@@ -636,7 +705,7 @@ async function rememberedMapping(deps: AppDeps, userId: number): Promise<ImportM
   const row = await deps.db.selectFrom('import_mapping').select('mapping').where('user_id', '=', userId).executeTakeFirst()
   if (!row) return {}
   // entries that no longer name a column are dropped rather than failing the upload
-  return Object.fromEntries(Object.entries(row.mapping).filter(([h, k]) => ImportMappingSchema.safeParse({ [h]: k }).success))
+  return Object.fromEntries(Object.entries(row.mapping).filter(([h, k]) => ImportMappingSchema.safeParse({ [h]: k }).success)) as ImportMapping
 }
 
 /** The mapping a user has saved (header → column key). */

@@ -15,6 +15,7 @@ export interface LimitFilters {
   sil?: (number | 'none')[]
   status?: string[]
   protectionState?: string[]
+  testStatus?: string[]
   hasWarnings?: boolean
   hasErrors?: boolean
   q?: string
@@ -29,6 +30,7 @@ export const LIMIT_SORT_COLUMNS = {
   updatedAt: 'limit_function.updated_at',
   limitClass: 'limit_function.limit_class',
   direction: 'limit_function.direction',
+  testDueDate: 'limit_function.test_due_date',
 } as const
 export type LimitSortField = keyof typeof LIMIT_SORT_COLUMNS
 
@@ -62,6 +64,7 @@ export function applyFilters<O>(q: SelectQueryBuilder<any, any, O>, f: LimitFilt
   }
   if (f.status?.length) query = query.where('limit_function.status', 'in', f.status)
   if (f.protectionState?.length) query = query.where('limit_function.protection_state', 'in', f.protectionState)
+  if (f.testStatus?.length) query = query.where('limit_function.test_status', 'in', f.testStatus)
   if (f.hasWarnings !== undefined) query = query.where('limit_function.has_window_warnings', '=', f.hasWarnings)
   if (f.hasErrors !== undefined) query = query.where('limit_function.has_window_errors', '=', f.hasErrors)
   if (f.q) query = query.where('limit_function.search_text', 'like', `%${f.q.toLowerCase().replace(/[\\%_]/g, (c) => `\\${c}`)}%`)

@@ -37,6 +37,7 @@ export function toLimit(r: LimitListRow, instrumentIds: number[]): Limit {
     compensatingMeasures: r.compensating_measures, testIntervalMonths: r.test_interval_months, testGraceDays: r.test_grace_days,
     codeSetInterval: r.code_set_interval, sil: r.sil as Limit['sil'], subsystems: r.subsystems as Subsystem[], status: r.status as Limit['status'],
     revision: r.revision, protectionState: r.protection_state as Limit['protectionState'],
+    testStatus: r.test_status as Limit['testStatus'], testDueDate: r.test_due_date, lastFullPass: r.last_full_pass,
     operatingWindow: { errors: r.window_errors, warnings: r.window_warnings },
     primaryInstrument: r.pi_tag === null ? null : {
       id: r.primary_instrument_id, tag: r.pi_tag, unit: r.pi_unit ?? '', measuredVariable: r.pi_variable ?? '', rangeLow: Number(r.pi_range_low), rangeHigh: Number(r.pi_range_high),
@@ -47,6 +48,6 @@ export function toLimit(r: LimitListRow, instrumentIds: number[]): Limit {
 
 /** The fields a revision snapshot keeps (the limit's own definition, without derived and joined values). */
 export function limitSnapshot(l: Limit): Record<string, unknown> {
-  const { id: _id, processName: _p, areaName: _a, siteCode: _s, primaryInstrument: _pi, updatedAt: _u, protectionState: _ps, ...rest } = l
+  const { id: _id, processName: _p, areaName: _a, siteCode: _s, primaryInstrument: _pi, updatedAt: _u, protectionState: _ps, testStatus: _ts, testDueDate: _td, lastFullPass: _lf, ...rest } = l
   return rest
 }

@@ -2,7 +2,7 @@ import { Router } from 'express'
 import { z } from 'zod'
 import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
 import {
-  CreateInstrumentInputSchema, CreateLimitInputSchema, CreateProcessInputSchema, LIMIT_STATUSES, PROTECTION_STATES,
+  CreateInstrumentInputSchema, CreateLimitInputSchema, CreateProcessInputSchema, LIMIT_STATUSES, PROTECTION_STATES, TEST_STATUSES,
   UpdateInstrumentInputSchema, UpdateLimitInputSchema, UpdateProcessInputSchema,
 } from '../../../shared/schemas/register.ts'
 import { scopeSites } from '../../authorize.ts'
@@ -25,6 +25,7 @@ export const LimitQuerySchema = z.object({
   sil: repeated(z.union([z.enum(['1', '2', '3']).transform(Number), z.literal('none')])),
   status: repeated(z.enum(LIMIT_STATUSES)),
   protectionState: repeated(z.enum(PROTECTION_STATES)),
+  testStatus: repeated(z.enum(TEST_STATUSES)),
   hasWarnings: bool.optional(),
   hasErrors: bool.optional(),
   q: z.string().trim().max(100).optional(),

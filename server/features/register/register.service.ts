@@ -24,7 +24,7 @@ const COUNT_CAP = 10_000
 function filtersOf(user: CurrentUser | null, q: LimitQuery): repo.LimitFilters {
   return {
     siteIds: scopeSites(user, q.siteId), areaIds: q.areaId, processIds: q.processId, instrumentIds: q.instrumentId, limitClass: q.limitClass,
-    direction: q.direction, sil: q.sil, status: q.status, protectionState: q.protectionState, hasWarnings: q.hasWarnings, hasErrors: q.hasErrors, q: q.q,
+    direction: q.direction, sil: q.sil, status: q.status, protectionState: q.protectionState, testStatus: q.testStatus, hasWarnings: q.hasWarnings, hasErrors: q.hasErrors, q: q.q,
   }
 }
 
@@ -40,7 +40,7 @@ function decodeCursor(c: string): { values: unknown[], id: number } {
 
 const SORT_VALUE: Record<repo.LimitSortField, (l: Limit) => unknown> = {
   tag: (l) => l.tag, setpoint: (l) => l.setpoint, sil: (l) => l.sil, priority: (l) => l.priority, status: (l) => l.status,
-  updatedAt: (l) => l.updatedAt, limitClass: (l) => l.limitClass, direction: (l) => l.direction,
+  updatedAt: (l) => l.updatedAt, limitClass: (l) => l.limitClass, direction: (l) => l.direction, testDueDate: (l) => l.testDueDate,
 }
 
 /**
@@ -51,13 +51,15 @@ export async function listRegister(deps: AppDeps, user: CurrentUser | null, q: L
   const f = filtersOf(user, q)
   const sort = parseSort(q.sort, Object.keys(repo.LIMIT_SORT_COLUMNS)) as { field: repo.LimitSortField, desc: boolean }[]
   const after = q.cursor ? decodeCursor(q.cursor) : undefined
+  if (after && (sort.length > 1 || ['sil', 'priority', 'testDueDate'].includes(sort[0]?.field ?? ''))) throw validationFailed({ cursor: ['Cursor paging works with one sort column without empty values'] })
   const [rows, total] = await Promise.all([
     repo.listLimits(deps.db, f, sort, { limit: q.pageSize, offset: after ? undefined : (q.page - 1) * q.pageSize, after }),
     repo.countLimits(deps.db, f, COUNT_CAP),
   ])
   const ids = await repo.findInstrumentIdsByLimitIds(deps.db, rows.map((r) => r.id))
   const items = rows.map((r) => toLimit(r, ids.get(r.id) ?? []))
-  const single = sort.length <= 1 ? (sort[0]?.field ?? 'tag') : null
+  // keyset paging needs a sort column without nulls
+  const single = sort.length <= 1 && !['sil', 'priority', 'testDueDate'].includes(sort[0]?.field ?? 'tag') ? (sort[0]?.field ?? 'tag') : null
   const last = items[items.length - 1]
   const nextCursor = single && last && items.length === q.pageSize
     ? Buffer.from(JSON.stringify({ v: [SORT_VALUE[single](last)], id: last.id })).toString('base64url') : null

@@ -41,10 +41,10 @@ export async function createTestDatabase(): Promise<TestDatabase & { drop(): Pro
 export interface TestContext extends AppDeps { clock: AdjustableClock, database: TestDatabase, config: Config }
 
 /**
- * Per test file: a cloned database with the demo plant, the app's dependencies connected as the runtime role, and a
+ * Per test file: a cloned database with the demo plant's sites and accounts (its register with `register: true`), the app's dependencies connected as the runtime role, and a
  * clock the test moves. `ctx` is filled in beforeAll.
  */
-export function useTestDb(opts: { seed?: boolean, env?: Record<string, string> } = {}): TestContext {
+export function useTestDb(opts: { seed?: boolean, register?: boolean, env?: Record<string, string> } = {}): TestContext {
   const ctx = {} as TestContext
   let drop: () => Promise<void> = async () => {}
   let ownerDb: Db | null = null
@@ -55,7 +55,8 @@ export function useTestDb(opts: { seed?: boolean, env?: Record<string, string> }
     const clock = new AdjustableClock()
     if (opts.seed !== false) {
       ownerDb = createDb(database.ownerUrl, 2).db
-      await seedDemo(ownerDb, clock)
+      // the demo register (about 150 limits) only where a test asks for it: it costs seconds per file
+      await seedDemo(ownerDb, clock, { register: opts.register ?? false })
       await ownerDb.destroy()
       ownerDb = null
     }
