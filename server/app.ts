@@ -11,6 +11,7 @@ import { createInstrumentsRouter, createLimitsRouter, createProcessesRouter } fr
 import { createImportsRouter } from './features/register/imports.router.ts'
 import { createChangeRequestsRouter } from './features/change-requests/change-requests.router.ts'
 import { createDegradationRouter, createTripTestsRouter } from './features/trip-tests/trip-tests.router.ts'
+import { createBypassesRouter, createBypassReviewRouter, createProtectionStateRouter } from './features/bypasses/bypasses.router.ts'
 import { createAuditRouter } from './features/audit/audit.router.ts'
 import { createMailRouter } from './features/mail/mail.router.ts'
 import { createSessionRouter } from './features/session/session.router.ts'
@@ -63,6 +64,9 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/limits/:id/degradation', createDegradationRouter(deps))
   api.use('/limits', createLimitsRouter(deps))
   api.use('/trip-tests', createTripTestsRouter(deps))
+  api.use('/bypasses', createBypassesRouter(deps))
+  api.use('/bypass-review', createBypassReviewRouter(deps))
+  api.use('/protection-state', createProtectionStateRouter(deps))
   api.use('/imports', createImportsRouter(deps))
   api.use('/change-requests', createChangeRequestsRouter(deps))
   api.use('/audit-events', createAuditRouter(deps))

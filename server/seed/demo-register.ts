@@ -289,7 +289,7 @@ const FHR: ProcessSpec[] = [
         sev: 'severe', text: 'Reactor bed 1 temperature high-high, 2oo3', action: 'Open emergency depressuring valve XV-215 to flare and trip charge heater H-202',
         consequence: 'Temperature runaway, reactor wall above design temperature, loss of containment of hydrogen', al: 420, pst: 180, rrt: 30, reset: 'shift_supervisor',
         measures: ['Console operator watches all bed temperatures with a second operator assigned', 'Manual depressuring button verified before the bypass'],
-        sil: 2, subsystems: [sub('sensor', '2oo3', 1.5e-6, 0.05, 24, 12, 0.9, 15), safetyPlc(), sub('final_element', '1oo1', 1.2e-6, 0.1, 48, 12, 0.95, 15)],
+        sil: 2, subsystems: [sub('sensor', '2oo3', 1.5e-6, 0.05, 24, 12, 0.9, 15), safetyPlc(), valves1oo2(1.2e-6)],
       }),
       alarm('TAH-202A', 'TT-202A', 'high', 400, 3, { rt: 5, sev: 'severe', text: 'Reactor bed 2 outlet temperature high', response: 'Open bed 2 quench; reduce reactor inlet temperature' }),
       trip('TSHH-202', ['TT-202A', 'TT-202B'], 'high', 415, 5, {

@@ -1,4 +1,5 @@
-import { Router } from 'express'
+import { type RequestHandler, Router } from 'express'
+import multer from 'multer'
 import { z } from 'zod'
 import {
   CHANGE_STATUSES, CHANGE_TYPES, ChecklistInputSchema, ClosureInputSchema, CreateChangeRequestInputSchema, IMPACT_CHECKLIST, ImplementInputSchema,
@@ -6,11 +7,25 @@ import {
 } from '../../../shared/schemas/change-requests.ts'
 import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
 import { authorize, scopeSites } from '../../authorize.ts'
+import { AppError, validationFailed } from '../../errors.ts'
+import { ErrorCode } from '../../../shared/errors.ts'
 import type { AppDeps } from '../../deps.ts'
 import { appendAudit } from '../audit/audit.repository.ts'
-import { attachmentUpload, readAttachment, storeAttachment } from '../attachments/attachments.ts'
+import { MAX_ATTACHMENT_BYTES, attachmentUpload, readAttachment, storeAttachment } from '../attachments/attachments.ts'
 import { changeRequestPdf } from './change-requests.pdf.ts'
 import * as service from './change-requests.service.ts'
+
+/** Receives one attachment; multer's failures as API errors (413 over the size limit, 400 for anything else). */
+const receiveAttachment: RequestHandler = (req, res, next) => {
+  attachmentUpload.single('file')(req, res, (err: unknown) => {
+    if (!err) return next()
+    if (err instanceof multer.MulterError && err.code === 'LIMIT_FILE_SIZE') {
+      return next(new AppError(413, ErrorCode.VALIDATION_FAILED, `The file is larger than ${MAX_ATTACHMENT_BYTES / 1024 / 1024} MB`, { fields: { file: ['Too large'] } }))
+    }
+    const message = err instanceof Error ? err.message : 'unreadable form data'
+    next(validationFailed({ file: [message] }, `The upload could not be read: ${message}`))
+  })
+}
 
 /** `/api/change-requests` with its actions as sub-resources (DOMAIN.md §7). */
 export function createChangeRequestsRouter(deps: AppDeps) {
@@ -64,7 +79,7 @@ export function createChangeRequestsRouter(deps: AppDeps) {
     const b = ChecklistInputSchema.parse(req.body)
     res.json(await service.tickChecklist(deps, req.ability, req.audit, id(req.params.id), item as never, b.done, b.note))
   })
-  router.post('/:id/attachments', attachmentUpload.single('file'), async (req, res) => {
+  router.post('/:id/attachments', receiveAttachment, async (req, res) => {
     const crId = id(req.params.id)
     const cr = await service.getChangeRequest(deps, req.ability, crId)
     authorize(req.ability, 'update', 'ChangeRequest', { siteId: cr.siteId })

@@ -1,0 +1,70 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { createApp } from '../../server/app.ts'
+import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
+import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
+import { createMailJob } from '../../server/features/mail/mail.worker.ts'
+import { signedIn } from './helpers/agent.ts'
+import { buildHeaterTrip } from './helpers/factories.ts'
+import { useTestDb } from './helpers/test-db.ts'
+import { activateLimit } from './helpers/workflows.ts'
+
+const ctx = useTestDb()
+const PW = 'limitkeeper-demo'
+let smtp: FakeSmtp
+beforeAll(async () => { smtp = await startFakeSmtp(0, { quiet: true }) })
+afterAll(async () => { await smtp.close() })
+
+describe('bypass: request, authorize, activate, overdue, review', () => {
+  it('goes overdue past its planned end, escalates, and shows in the review', async () => {
+    ctx.clock.set('2026-05-04T06:00:00Z')
+    const app = createApp(ctx)
+    const eng = await signedIn(app, 'engineer')
+    const approver = await signedIn(app, 'approver')
+    const tech = await signedIn(app, 'technician')
+    const op = await signedIn(app, 'operator')
+    const sup = await signedIn(app, 'supervisor')
+    const mgr = await signedIn(app, 'manager')
+    const { limit } = await buildHeaterTrip(eng)
+    await op.post('/api/bypasses', { limitId: limit.id, reason: 'Burner maintenance', plannedStart: '2026-05-04T06:30:00Z', plannedEnd: '2026-05-04T10:30:00Z', predefinedMeasuresConfirmed: true }).expect(409)
+    await activateLimit({ eng, approver, tech }, limit)
+
+    const noMeasures = await op.post('/api/bypasses', { limitId: limit.id, reason: 'Burner maintenance', plannedStart: '2026-05-04T06:30:00Z', plannedEnd: '2026-05-04T10:30:00Z' }).expect(400)
+    expect(noMeasures.body.error.details.fields.predefinedMeasuresConfirmed).toBeDefined()
+    await op.post('/api/bypasses', { limitId: limit.id, reason: 'Burner maintenance', plannedStart: '2026-05-04T06:30:00Z', plannedEnd: '2026-05-04T16:30:00Z', predefinedMeasuresConfirmed: true }).expect(400)
+    const b = (await op.post('/api/bypasses', { limitId: limit.id, reason: 'Burner maintenance', plannedStart: '2026-05-04T06:30:00Z', plannedEnd: '2026-05-04T10:30:00Z', predefinedMeasuresConfirmed: true }).expect(201)).body
+    expect(b.status).toBe('requested')
+    await op.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(403)
+    await sup.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
+    await op.post(`/api/bypasses/${b.id}/activation`).expect(200)
+    expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.protectionState).toBe('bypassed')
+    const second = (await op.post('/api/bypasses', { limitId: limit.id, reason: 'Second one', plannedStart: '2026-05-04T06:30:00Z', plannedEnd: '2026-05-04T08:30:00Z', predefinedMeasuresConfirmed: true }).expect(201)).body
+    await sup.post(`/api/bypasses/${second.id}/authorizations`, { password: PW }).expect(200)
+    await op.post(`/api/bypasses/${second.id}/activation`).expect(409)
+
+    // past the planned end: overdue, never closed by the clock
+    const job = createBypassJob(ctx.db, ctx.config, ctx.clock)
+    const mail = createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock)
+    await job.runDue(ctx.clock.set('2026-05-04T10:31:00Z'))
+    await mail.runDue(ctx.clock.now())
+    expect(smtp.inbox.some((m) => m.subject?.startsWith('OVERDUE bypass') && m.to && 'text' in m.to && m.to.text.includes('supervisor@'))).toBe(true)
+    await job.runDue(ctx.clock.set('2026-05-04T14:31:00Z'))
+    await mail.runDue(ctx.clock.now())
+    expect(smtp.inbox.some((m) => m.subject?.startsWith('Escalation') && m.to && 'text' in m.to && m.to.text.includes('manager@'))).toBe(true)
+
+    await mgr.refreshCsrf()
+    await mgr.signIn('manager@fernhollow.example')
+    const review = (await mgr.get('/api/bypass-review').expect(200)).body
+    expect(review.kpis.overdueNow).toBe(1)
+    expect(review.kpis.activeNow).toBe(1)
+    expect(review.items.find((x: { id: number }) => x.id === b.id).overdue).toBe(true)
+    expect(review.charts.topLimits[0].tag).toBe(limit.tag)
+    await op.refreshCsrf()
+    await op.signIn('operator@fernhollow.example')
+    await op.get('/api/bypass-review').expect(403)
+    await op.post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: false, protectionRestoredConfirmed: true }).expect(400)
+    const removed = (await op.post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true }).expect(200)).body
+    // the clock keeps running from the time set, so allow the seconds the test itself takes
+    expect(removed.overdueHours).toBeGreaterThanOrEqual(4)
+    expect(removed.overdueHours).toBeLessThan(4.05)
+  })
+})
