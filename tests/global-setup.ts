@@ -11,9 +11,6 @@ import type { TestProject } from 'vitest/node'
 
 const run = promisify(execFile)
 
-declare module 'vitest' {
-  interface ProvidedContext { superUrl: string, ownerUrl: string, appUrl: string, templateDb: string }
-}
 
 function freePort(): Promise<number> {
   return new Promise((resolve, reject) => {

@@ -71,5 +71,7 @@ export const ImportResultSchema = z.object({
   errors: z.array(ImportErrorSchema),
   summary: z.object({ create: z.number().int(), update: z.number().int(), unchanged: z.number().int() }),
   limitIds: z.array(z.number().int()).optional(),
+  /** The draft change request opened for the imported baseline (null when nothing new needs approving). */
+  changeRequestId: z.number().int().nullable().optional(),
 })
 export type ImportResult = z.infer<typeof ImportResultSchema>

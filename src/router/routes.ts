@@ -3,12 +3,20 @@ import accountRoutes from '@/features/account/routes'
 import adminRoutes from '@/features/admin/routes'
 import auditRoutes from '@/features/audit/routes'
 import authRoutes from '@/features/auth/routes'
+import bypassRoutes from '@/features/bypasses/routes'
+import changeRequestRoutes from '@/features/change-requests/routes'
 import homeRoutes from '@/features/home/routes'
 import mailRoutes from '@/features/mail/routes'
+import registerRoutes from '@/features/register/routes'
+import tripTestRoutes from '@/features/trip-tests/routes'
 
 export const routes: RouteRecordRaw[] = [
   ...authRoutes,
   ...homeRoutes,
+  ...registerRoutes,
+  ...changeRequestRoutes,
+  ...tripTestRoutes,
+  ...bypassRoutes,
   ...adminRoutes,
   ...accountRoutes,
   ...auditRoutes,

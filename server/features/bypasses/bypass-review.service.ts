@@ -1,6 +1,7 @@
 import { compareToTarget, effectivePfd, sifPfd, silBand, type Sil, type Subsystem } from '../../../shared/domain/sif-reliability.ts'
 import type { BypassDto } from '../../../shared/schemas/bypasses.ts'
 import type { AppDeps } from '../../deps.ts'
+import { validationFailed } from '../../errors.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { type BypassListQuery, listBypasses } from './bypasses.service.ts'
 
@@ -52,7 +53,8 @@ export async function bypassReview(deps: AppDeps, q: Omit<BypassListQuery, 'page
     const span = activeSpan(b, now)
     return span ? overlapHours(span[0], span[1], from, to) > 0 : new Date(b.createdAt).getTime() >= from && new Date(b.createdAt).getTime() < to
   })
-  const monthList = months(new Date(from), new Date(to))
+  // the first and last month count only their part inside the period, like the per-limit totals
+  const monthList = months(new Date(from), new Date(to)).map(([s, e, label]): [number, number, string] => [Math.max(s, from), Math.min(e, to), label])
   const hoursPerMonth = monthList.map(([s, e, label]) => ({
     month: label,
     hours: inPeriod.reduce((sum, b) => { const sp = activeSpan(b, now); return sum + (sp ? overlapHours(sp[0], sp[1], s, e) : 0) }, 0),
@@ -110,6 +112,7 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[], areaIds
   const from = q.from.getTime()
   const to = Math.min(q.to.getTime(), now)
   const periodHours = (to - from) / HOUR
+  if (!(periodHours > 0)) throw validationFailed({ from: ['The period must start before it ends, and before now'] })
   let lq = deps.db.selectFrom('limit_function').select(['id', 'tag', 'description', 'sil', 'subsystems', 'test_status', 'last_full_pass', 'test_interval_months', 'created_at', 'protection_state'])
     .where('site_id', 'in', q.siteIds.length ? q.siteIds : [-1]).where('status', '=', 'active').where('sil', 'is not', null)
   if (q.areaIds?.length) lq = lq.where('area_id', 'in', q.areaIds)

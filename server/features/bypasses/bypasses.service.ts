@@ -37,12 +37,16 @@ function measuresRequired(policy: SitePolicy, l: { limit_class: string, sil: num
   return l.limit_class === 'trip' || l.sil !== null
 }
 
-/** The longest bypass the user may authorize at the site: the largest of their authorizing roles' limits (DOMAIN.md §6). */
-async function authorizerMaxHours(db: Db, userId: number, siteId: number, policy: SitePolicy): Promise<number> {
+/**
+ * The longest bypass the user may authorize at the site: the largest of their authorizing roles' limits (DOMAIN.md §6).
+ * Beyond the plant manager's limit the linked, approved temporary change request carries the duration: the plant
+ * manager signs under it (the limit's own maximum still holds).
+ */
+async function authorizerMaxHours(db: Db, userId: number, siteId: number, policy: SitePolicy, linkedChange: boolean): Promise<number> {
   const roles = (await db.selectFrom('role_assignment').select('role').where('user_id', '=', userId).where('site_id', '=', siteId).execute()).map((r) => r.role)
   let max = 0
   if (roles.includes('shift_supervisor') || roles.includes('approver')) max = Math.max(max, policy.bypassMaxHoursSupervisor)
-  if (roles.includes('plant_manager')) max = Math.max(max, policy.bypassMaxHoursManager)
+  if (roles.includes('plant_manager')) max = Math.max(max, linkedChange ? Infinity : policy.bypassMaxHoursManager)
   return max
 }
 
@@ -113,8 +117,10 @@ export async function requestBypass(deps: AppDeps, ability: AppAbility, ctx: Aud
     const channels = (await deps.db.selectFrom('limit_instrument').select('instrument_id').where('limit_id', '=', l.id).execute()).map((c) => c.instrument_id)
     if (channels.length < 2 || !channels.includes(input.channelInstrumentId)) throw validationFailed({ channelInstrumentId: ['Only one channel of a voted function can be bypassed on its own'] })
   }
-  if (hours > policy.bypassMaxHoursManager) {
-    if (!input.changeRequestId) throw validationFailed({ changeRequestId: [`Beyond ${policy.bypassMaxHoursManager} h a temporary change request is required`] }, 'This bypass needs a temporary change request')
+  if (hours > policy.bypassMaxHoursManager && !input.changeRequestId) {
+    throw validationFailed({ changeRequestId: [`Beyond ${policy.bypassMaxHoursManager} h a temporary change request is required`] }, 'This bypass needs a temporary change request')
+  }
+  if (input.changeRequestId) {
     const cr = await deps.db.selectFrom('change_request').select(['type', 'status', 'site_id']).where('id', '=', input.changeRequestId).executeTakeFirst()
     if (!cr || cr.site_id !== l.site_id || cr.type !== 'temporary' || !['approved', 'implemented', 'closed'].includes(cr.status)) {
       throw validationFailed({ changeRequestId: ['Link an approved temporary change request of this site'] })
@@ -153,7 +159,7 @@ export async function authorizeBypass(deps: AppDeps, ability: AppAbility, ctx: A
   authorize(ability, 'authorize', 'Bypass', { siteId: pre.site_id })
   if (pre.requested_by === ctx.actorId) throw forbidden('Nobody authorizes their own bypass request')
   const l = await loadLimit(deps.db, pre.limit_id)
-  const maxHours = await authorizerMaxHours(deps.db, ctx.actorId!, pre.site_id, l.policyParsed)
+  const maxHours = await authorizerMaxHours(deps.db, ctx.actorId!, pre.site_id, l.policyParsed, pre.change_request_id !== null)
   const signer = await verifySignaturePassword(deps, ctx.actorId!, input.password, ctx, { entityType: ENTITY, entityId: id })
   await deps.db.transaction().execute(async (trx) => {
     const b = await lock(trx, id)

@@ -7,7 +7,7 @@ import {
 } from '../../../shared/schemas/change-requests.ts'
 import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
 import { authorize, scopeSites } from '../../authorize.ts'
-import { AppError, validationFailed } from '../../errors.ts'
+import { AppError, invalidState, validationFailed } from '../../errors.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import type { AppDeps } from '../../deps.ts'
 import { appendAudit } from '../audit/audit.repository.ts'
@@ -83,6 +83,7 @@ export function createChangeRequestsRouter(deps: AppDeps) {
     const crId = id(req.params.id)
     const cr = await service.getChangeRequest(deps, req.ability, crId)
     authorize(req.ability, 'update', 'ChangeRequest', { siteId: cr.siteId })
+    if (['closed', 'withdrawn', 'rejected'].includes(cr.status)) throw invalidState(`A ${cr.status} change request takes no more attachments`)
     const att = await deps.db.transaction().execute(async (trx) => {
       const a = await storeAttachment(trx, deps.clock, req.file, { entityType: 'ChangeRequest', entityId: crId, userId: req.user!.id })
       await appendAudit(trx, deps.clock, req.audit, { action: 'change_request.attach', entityType: 'ChangeRequest', entityId: crId, after: { attachmentId: a.id, fileName: a.file_name, contentType: a.content_type, sizeBytes: a.size_bytes, sha256: a.sha256 } })

@@ -207,15 +207,16 @@ export async function getChangeRequest(deps: AppDeps, ability: AppAbility, id: n
   const atts = await listAttachments(db, ENTITY, id)
   const approvals = sigs.filter((s) => s.meaning === 'approved' && !s.voided_at)
   const expiryDays = policyOf(site).approvalExpiryDays
-  // what each signature should cover given the content now: a change after signing shows as a mismatch
+  // what each signature should cover given the content now (recomputed, not the stored hash): a change after signing shows as a mismatch
+  const currentHash = hashOf(row, items)
   const expectedHash = (s: { meaning: string, item_id: number | null, user_id: number }) => {
-    if (s.meaning === 'closed') return contentHash({ request: row.content_hash, pssr: row.pssr })
-    if (s.meaning === 'implemented' && s.item_id) return contentHash({ request: row.content_hash, itemId: s.item_id, readBack: items.find((i) => i.id === s.item_id)?.read_back ?? null })
+    if (s.meaning === 'closed') return contentHash({ request: currentHash, pssr: row.pssr })
+    if (s.meaning === 'implemented' && s.item_id) return contentHash({ request: currentHash, itemId: s.item_id, readBack: items.find((i) => i.id === s.item_id)?.read_back ?? null })
     if (s.meaning === 'implemented') {
       const bulk = items.filter((i) => i.implemented_by === s.user_id && (i.read_back as { deviceListConfirmed?: boolean } | null)?.deviceListConfirmed).map((i) => i.id)
-      return contentHash({ request: row.content_hash, items: bulk, deviceListConfirmed: true })
+      return contentHash({ request: currentHash, items: bulk, deviceListConfirmed: true })
     }
-    return row.content_hash
+    return currentHash
   }
   const itemDtos: ChangeItemDto[] = items.map((i) => {
     const currentRevision = (i.kind === 'instrument' ? i.instrument_revision : i.limit_revision) ?? i.base_revision
@@ -324,7 +325,7 @@ async function proposerOf(trx: Trx, id: number) {
   return trx.selectFrom('app_user').select(['email', 'display_name']).where('id', '=', id).executeTakeFirstOrThrow()
 }
 
-export async function createChangeRequest(deps: AppDeps, ability: AppAbility, ctx: AuditContext, input: CreateChangeRequestInput, opts: { importBatchId?: number, trx?: Trx } = {}): Promise<number> {
+export async function createChangeRequest(deps: AppDeps, ability: AppAbility, ctx: AuditContext, input: CreateChangeRequestInput, opts: { importBatchId?: number, auditBatchId?: string, trx?: Trx } = {}): Promise<number> {
   authorize(ability, 'create', 'ChangeRequest', { siteId: input.siteId })
   const run = async (trx: Trx) => {
     const now = deps.clock.now()
@@ -336,7 +337,7 @@ export async function createChangeRequest(deps: AppDeps, ability: AppAbility, ct
     await writeItems(deps, trx, id, input.siteId, input.items)
     await trx.updateTable('change_request').set({ approvals_required: await approvalsRequiredFor(trx, input.siteId, id) }).where('id', '=', id).execute()
     const hash = await refreshHash(trx, id)
-    await appendAudit(trx, deps.clock, ctx, { action: 'change_request.create', entityType: ENTITY, entityId: id, after: { ...input, contentHash: hash } })
+    await appendAudit(trx, deps.clock, ctx, { action: 'change_request.create', entityType: ENTITY, entityId: id, after: { ...input, contentHash: hash }, batchId: opts.auditBatchId })
     return id
   }
   return opts.trx ? run(opts.trx) : deps.db.transaction().execute(run)
@@ -510,6 +511,10 @@ export async function implementChangeRequest(deps: AppDeps, ability: AppAbility,
     const now = deps.clock.now()
     const emergencyFirst = row.type === 'emergency' && row.status === 'submitted'
     if (row.status !== 'approved' && !emergencyFirst) throw invalidState(`This change request is ${row.status}; only an approved request is implemented`)
+    if (emergencyFirst) {
+      const supervisor = await trx.selectFrom('role_assignment').select('role').where('user_id', '=', signer.id).where('site_id', '=', row.site_id).where('role', '=', 'shift_supervisor').executeTakeFirst()
+      if (!supervisor) throw forbidden('An emergency change is implemented before approval only by a shift supervisor of the site')
+    }
     if (row.status === 'approved' && row.approved_at && now.getTime() > row.approved_at.getTime() + policyOf(site).approvalExpiryDays * DAY) {
       throw invalidState('The approval has expired (not implemented within the policy time); the request must be approved again')
     }
@@ -587,13 +592,13 @@ export async function tickChecklist(deps: AppDeps, ability: AppAbility, ctx: Aud
 }
 
 /** A draft request holding an import's proposed baseline (one 'create' item per new proposed limit). */
-export async function openBaselineChangeRequest(deps: AppDeps, ability: AppAbility, ctx: AuditContext, trx: Trx, p: { siteId: number, limitIds: number[], importBatchId: number, fileName: string }) {
+export async function openBaselineChangeRequest(deps: AppDeps, ability: AppAbility, ctx: AuditContext, trx: Trx, p: { siteId: number, limitIds: number[], importBatchId: number, fileName: string, auditBatchId?: string }) {
   if (!p.limitIds.length) return null
   return createChangeRequest(deps, ability, ctx, {
     siteId: p.siteId, type: 'permanent', title: `Register baseline from ${p.fileName}`, hazardReference: '', expiresAt: null,
     rationale: `Imported from ${p.fileName} (import batch ${p.importBatchId}). Approving and implementing this request puts the imported limits in service.`,
     items: p.limitIds.map((limitId) => ({ kind: 'create' as const, limitId })),
-  }, { importBatchId: p.importBatchId, trx })
+  }, { importBatchId: p.importBatchId, auditBatchId: p.auditBatchId, trx })
 }
 
 export { ENTITY as CHANGE_REQUEST_ENTITY }

@@ -15,6 +15,7 @@ import {
 } from '../../../shared/schemas/register.ts'
 import { REGISTER_COLUMNS, type RegisterColumnKey, signalFromText, signalToText } from '../../../shared/schemas/register-io.ts'
 import { authorize } from '../../authorize.ts'
+import { openBaselineChangeRequest } from '../change-requests/change-requests.service.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database, ProcessRow } from '../../db/schema.ts'
@@ -94,19 +95,19 @@ function readCsv(text: string): FileTable {
   return { headers: head.map((h) => h.trim()), rows: data.map((values, i) => ({ row: i + 2, values })) }
 }
 
-/** Sum of the uncompressed sizes in the ZIP central directory; Infinity when it cannot be read. */
+/** Sum of the uncompressed sizes in the ZIP central directory (Infinity for ZIP64); 0 when there is none to read. */
 function unpackedSize(buf: Buffer): number {
   const min = Math.max(0, buf.length - 65_557)
   let eocd = -1
   for (let i = buf.length - 22; i >= min; i--) {
     if (buf.readUInt32LE(i) === 0x06054b50) { eocd = i; break }
   }
-  if (eocd < 0) return Infinity
+  if (eocd < 0) return 0
   const entries = buf.readUInt16LE(eocd + 10)
   let p = buf.readUInt32LE(eocd + 16)
   let total = 0
   for (let n = 0; n < entries; n++) {
-    if (p + 46 > buf.length || buf.readUInt32LE(p) !== 0x02014b50) return Infinity
+    if (p + 46 > buf.length || buf.readUInt32LE(p) !== 0x02014b50) return total
     const size = buf.readUInt32LE(p + 24)
     if (size === 0xffffffff) return Infinity
     total += size
@@ -129,7 +130,8 @@ function cellText(v: ExcelJS.CellValue): string {
 }
 
 async function readXlsx(buffer: Buffer): Promise<FileTable> {
-  if (unpackedSize(buffer) > XLSX_MAX_UNPACKED_BYTES) throw badFile('The file starts like an XLSX workbook but its contents cannot be read or are far too large')
+  // a damaged directory is left to the workbook reader; a huge one is refused before anything is unpacked
+  if (unpackedSize(buffer) > XLSX_MAX_UNPACKED_BYTES) throw badFile(`The workbook unpacks to more than ${XLSX_MAX_UNPACKED_BYTES / 1024 / 1024} MB; upload the register as CSV or split it`)
   const wb = new ExcelJS.Workbook()
   try {
     await wb.xlsx.load(buffer as never)
@@ -159,18 +161,18 @@ const BY_HEADER = new Map<string, RegisterColumnKey>(REGISTER_COLUMNS.flatMap((c
 function resolveMapping(headers: string[], explicit: ImportMapping | undefined, remembered: ImportMapping) {
   const lookup = (m: ImportMapping | undefined, h: string) => {
     if (!m) return undefined
-    if (h in m) return m[h]
+    if (Object.hasOwn(m, h)) return m[h]
     const found = Object.keys(m).find((k) => norm(k) === norm(h))
     return found === undefined ? undefined : m[found]
   }
   const keys: (RegisterColumnKey | null)[] = []
-  const used: Record<string, string> = {}
+  const used = new Map<string, string>()
   const ignored: string[] = []
   for (const h of headers) {
     if (!h) { keys.push(null); continue }
     const chosen = lookup(explicit, h) ?? BY_HEADER.get(norm(h)) ?? lookup(remembered, h)
     keys.push(chosen ? chosen : null)
-    used[h] = chosen ?? ''
+    used.set(h, chosen ?? '')
     if (!chosen) ignored.push(h)
   }
   const seen = new Map<string, string>()
@@ -181,12 +183,13 @@ function resolveMapping(headers: string[], explicit: ImportMapping | undefined, 
     else seen.set(k, headers[i])
   })
   const columns = REGISTER_COLUMNS.map((c) => ({ key: c.key, header: c.header }))
-  if (twice.length) throw badFile(`Two columns map to the same field: ${twice.join('; ')}`, { headers, mapping: used, columns })
+  const mapping = Object.fromEntries(used)
+  if (twice.length) throw badFile(`Two columns map to the same field: ${twice.join('; ')}`, { headers, mapping, columns })
   const missing = IMPORT_REQUIRED_COLUMNS.filter((k) => !seen.has(k))
   if (missing.length) {
-    throw badFile(`The file has no column for ${missing.map(header).join(', ')}: map its headers to the register columns, or start from an exported register file`, { headers, mapping: used, missing, columns })
+    throw badFile(`The file has no column for ${missing.map(header).join(', ')}: map its headers to the register columns, or start from an exported register file`, { headers, mapping, missing, columns })
   }
-  return { keys, used, ignored }
+  return { keys, used: mapping, ignored }
 }
 
 function toStoredRows(table: FileTable, keys: (RegisterColumnKey | null)[]): StoredRow[] {
@@ -426,7 +429,8 @@ async function inSavepoint(trx: Trx, fn: () => Promise<void>, fallbackField: str
     await sql`RELEASE SAVEPOINT import_row`.execute(trx)
     return []
   } catch (err) {
-    const problems = problemsOf(err, fallbackField, column)
+    const found = problemsOf(err, fallbackField, column)
+    const problems = found.length ? found : [{ field: fallbackField, message: err instanceof Error ? err.message : 'The row could not be written' }]
     await sql`ROLLBACK TO SAVEPOINT import_row`.execute(trx)
     await sql`RELEASE SAVEPOINT import_row`.execute(trx)
     return problems
@@ -701,16 +705,12 @@ async function siteFor(deps: AppDeps, siteId: number) {
   return site
 }
 
-async function rememberedMapping(deps: AppDeps, userId: number): Promise<ImportMapping> {
+/** The mapping a user has saved (file header → column key). */
+export async function getRememberedMapping(deps: AppDeps, userId: number): Promise<ImportMapping> {
   const row = await deps.db.selectFrom('import_mapping').select('mapping').where('user_id', '=', userId).executeTakeFirst()
   if (!row) return {}
   // entries that no longer name a column are dropped rather than failing the upload
   return Object.fromEntries(Object.entries(row.mapping).filter(([h, k]) => ImportMappingSchema.safeParse({ [h]: k }).success)) as ImportMapping
-}
-
-/** The mapping a user has saved (header → column key). */
-export async function getRememberedMapping(deps: AppDeps, userId: number): Promise<ImportMapping> {
-  return rememberedMapping(deps, userId)
 }
 
 /**
@@ -723,7 +723,7 @@ export async function checkImport(deps: AppDeps, ability: AppAbility, ctx: Audit
   const table = await readTable(file.buffer)
   if (table.headers.length > MAX_COLUMNS) throw badFile(`The file has ${table.headers.length} columns; the register file has ${REGISTER_COLUMNS.length}`)
   if (table.headers.every((h) => !h)) throw badFile('Row 1 must hold the column headers')
-  const remembered = await rememberedMapping(deps, userId)
+  const remembered = await getRememberedMapping(deps, userId)
   const { keys, used, ignored } = resolveMapping(table.headers, fields.mapping, remembered)
   const stored = toStoredRows(table, keys)
   if (!stored.length) throw badFile('The file has headers but no data rows')
@@ -794,6 +794,17 @@ export async function commitImport(deps: AppDeps, ability: AppAbility, ctx: Audi
       })
     }
     await trx.updateTable('import_batch').set({ status: unchanged ? 'unchanged' : 'committed', committed_at: now }).where('id', '=', batch.id).execute()
-    return { ...base, status: unchanged ? 'unchanged' as const : 'committed' as const, limitIds: outcome.limitIds }
+    // the imported drafts become active only through a change request that a second person approves
+    let changeRequestId: number | null = null
+    if (!unchanged) {
+      const drafts = outcome.limitIds.length
+        ? (await trx.selectFrom('limit_function').select('id').where('id', 'in', outcome.limitIds).where('status', '=', 'proposed')
+          .where((eb) => eb.not(eb.exists(eb.selectFrom('change_request_item').innerJoin('change_request', 'change_request.id', 'change_request_item.change_request_id')
+            .select('change_request_item.id').whereRef('change_request_item.limit_id', '=', 'limit_function.id')
+            .where('change_request.status', 'in', ['draft', 'submitted', 'approved'])))).orderBy('id').execute()).map((r) => r.id)
+        : []
+      changeRequestId = await openBaselineChangeRequest(deps, ability, ctx, trx, { siteId: batch.site_id, limitIds: drafts, importBatchId: batch.id, fileName: batch.file_name, auditBatchId: batchId })
+    }
+    return { ...base, status: unchanged ? 'unchanged' as const : 'committed' as const, limitIds: outcome.limitIds, changeRequestId }
   })
 }

@@ -286,13 +286,13 @@ export async function listTripTests(deps: AppDeps, q: TripTestListQuery) {
   if (q.limitId) base = base.where('trip_test.limit_id', '=', q.limitId)
   if (q.passed !== undefined) base = base.where('trip_test.passed', '=', q.passed)
   const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const rows = await base.select(['trip_test.id', 'trip_test.limit_id', 'limit_function.tag', 'trip_test.kind', 'trip_test.method', 'trip_test.performed_at', 'trip_test.as_found',
+  const rows = await base.select(['trip_test.id', 'trip_test.limit_id', 'trip_test.site_id', 'limit_function.tag', 'trip_test.kind', 'trip_test.method', 'trip_test.performed_at', 'trip_test.as_found',
     'trip_test.as_found_result', 'trip_test.as_left', 'trip_test.as_left_result', 'trip_test.passed', 'trip_test.status', 'trip_test.setpoint', 'trip_test.tolerance_eu', 'app_user.display_name'])
     .orderBy('trip_test.performed_at', 'desc').orderBy('trip_test.id', 'desc').limit(q.pageSize).offset((q.page - 1) * q.pageSize).execute()
   return {
     total,
     items: rows.map((r) => ({
-      id: r.id, limitId: r.limit_id, limitTag: r.tag, kind: r.kind, method: r.method, performedAt: r.performed_at.toISOString(), asFound: r.as_found === null ? null : Number(r.as_found),
+      id: r.id, limitId: r.limit_id, siteId: r.site_id, limitTag: r.tag, kind: r.kind, method: r.method, performedAt: r.performed_at.toISOString(), asFound: r.as_found === null ? null : Number(r.as_found),
       asFoundResult: r.as_found_result, asLeft: r.as_left === null ? null : Number(r.as_left), asLeftResult: r.as_left_result, passed: r.passed, status: r.status,
       setpoint: Number(r.setpoint), toleranceEu: Number(r.tolerance_eu), recordedBy: r.display_name,
     })),
@@ -321,8 +321,9 @@ export async function schedule(deps: AppDeps, q: { siteIds: number[], areaIds?: 
     }
     items = withLate
   }
-  const counts = await deps.db.selectFrom('limit_function').select(['test_status', (eb) => eb.fn.countAll<number>().as('n')])
-    .where('status', '=', 'active').where('site_id', 'in', q.siteIds.length ? q.siteIds : [-1]).groupBy('test_status').execute()
+  let countBase = deps.db.selectFrom('limit_function').where('status', '=', 'active').where('site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
+  if (q.areaIds?.length) countBase = countBase.where('area_id', 'in', q.areaIds)
+  const counts = await countBase.select(['test_status', (eb) => eb.fn.countAll<number>().as('n')]).groupBy('test_status').execute()
   return { items, total: items.length, counts: Object.fromEntries(counts.map((c) => [c.test_status, Number(c.n)])) }
 }
 

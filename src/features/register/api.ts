@@ -1,0 +1,71 @@
+import type { TestSignal } from '@shared/domain/test-signal.ts'
+import type { ListResult } from '@shared/schemas/common.ts'
+import type {
+  CreateInstrumentInput, CreateLimitInput, Instrument, Limit, Process, UpdateLimitInput,
+} from '@shared/schemas/register.ts'
+import { http, toQuery } from '@/api/client'
+
+/** Filters of the register list and its export; arrays repeat the query key. */
+export interface LimitFilters {
+  siteId?: number[]
+  areaId?: number[]
+  processId?: number[]
+  instrumentId?: number[]
+  limitClass?: string[]
+  direction?: string[]
+  sil?: string[]
+  status?: string[]
+  protectionState?: string[]
+  hasWarnings?: 'true' | 'false'
+  hasErrors?: 'true' | 'false'
+  q?: string
+}
+
+export interface LimitListQuery extends LimitFilters {
+  sort?: string
+  page?: number
+  pageSize?: number
+}
+
+/** One page of the register; `total` stops counting at 10,000 (`totalCapped`). */
+export interface RegisterPage { items: Limit[], total: number, totalCapped: boolean, nextCursor: string | null }
+
+/** One field that changed between two revisions. */
+export interface RevisionChange { field: string, from: unknown, to: unknown }
+
+export interface LimitRevision {
+  revision: number
+  changedAt: string
+  changedBy: string | null
+  changeRequestId: number | null
+  reason: string | null
+  changes: RevisionChange[]
+  snapshot: Record<string, unknown>
+}
+
+/** An instrument as the API answers it. */
+export type InstrumentRecord = Instrument & { revision: number, updatedAt: string }
+
+export const listLimits = (query: LimitListQuery) => http.get<RegisterPage>('/limits', { ...query })
+export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
+export const createLimit = (input: CreateLimitInput) => http.post<Limit>('/limits', input)
+export const updateLimit = (id: number, input: UpdateLimitInput & { expectedRevision?: number }) => http.patch<Limit>(`/limits/${id}`, input)
+export const deleteLimit = (id: number) => http.delete<void>(`/limits/${id}`)
+export const listLimitRevisions = (id: number) => http.get<{ items: LimitRevision[], total: number }>(`/limits/${id}/revisions`)
+export const getTestSignal = (id: number, query: { coldJunction?: number, mode?: 'mv_source' | 'tc_simulate' }) =>
+  http.get<TestSignal>(`/limits/${id}/test-signal`, query)
+
+/** Address of the register file (CSV or XLSX) for the given filters; used as a download link. */
+export function limitExportUrl(format: 'csv' | 'xlsx', filters: LimitFilters): string {
+  return `/api/limits/export${toQuery({ ...filters, format })}`
+}
+
+export const listProcesses = (query: { siteId?: number[], areaId?: number[] } = {}) => http.get<ListResult<Process>>('/processes', query)
+export const createProcess = (input: { areaId: number, name: string, description: string }) => http.post<Process>('/processes', input)
+export const updateProcess = (id: number, input: { name?: string, description?: string }) => http.patch<Process>(`/processes/${id}`, input)
+
+export const listInstruments = (query: { siteId?: number[], processId?: number[], q?: string, page?: number, pageSize?: number } = {}) =>
+  http.get<ListResult<InstrumentRecord>>('/instruments', query)
+export const getInstrument = (id: number) => http.get<InstrumentRecord>(`/instruments/${id}`)
+export const createInstrument = (input: CreateInstrumentInput) => http.post<InstrumentRecord>('/instruments', input)
+export const updateInstrument = (id: number, input: Partial<CreateInstrumentInput>) => http.patch<InstrumentRecord>(`/instruments/${id}`, input)

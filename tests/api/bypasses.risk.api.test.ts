@@ -1,0 +1,222 @@
+import type { Express } from 'express'
+import { beforeAll, describe, expect, it } from 'vitest'
+import { createApp } from '../../server/app.ts'
+import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.jobs.ts'
+import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
+import { sifPfd, type Subsystem } from '../../shared/domain/sif-reliability.ts'
+import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { buildHeaterTrip } from './helpers/factories.ts'
+import { useTestDb } from './helpers/test-db.ts'
+import { activateLimit } from './helpers/workflows.ts'
+
+const ctx = useTestDb()
+const PW = DEMO_PASSWORD
+const YEAR_H = 8760
+const PEOPLE = ['engineer', 'approver', 'approver2', 'technician', 'supervisor', 'operator', 'manager', 'auditor'] as const
+type Who = typeof PEOPLE[number]
+
+let app: Express
+const as = {} as Record<Who, ApiAgent>
+let seq = 0
+
+async function at(iso: string) {
+  ctx.clock.set(iso)
+  for (const who of PEOPLE) as[who] = await signedIn(app, who)
+}
+
+/**
+ * ../shared/reference/sif-reliability.md "Whole-SIF example": sensors 1oo2 (λDU 5e−7, β 0.1) 2.2418e−4 + logic solver
+ * 1.0e−4 (given; here a 1oo1 with λDU = 2·1e−4/8 760 h) + valve 1oo1 (λDU 2e−6) 8.7600e−3 = 9.0842e−3 → SIL 2, RRF 110.1.
+ * MTTR 0 and full proof-test coverage, so the simplified equations apply exactly; proof test yearly (12 × 730 h = 8 760 h).
+ */
+const WORKED: Subsystem[] = [
+  { role: 'sensor', architecture: '1oo2', lambdaDu: 5e-7, beta: 0.1, mttrHours: 0, testIntervalMonths: 12, testCoverage: 1, missionTimeYears: 15 },
+  { role: 'logic', architecture: '1oo1', lambdaDu: 2e-4 / YEAR_H, beta: 0, mttrHours: 0, testIntervalMonths: 12, testCoverage: 1, missionTimeYears: 15 },
+  { role: 'final_element', architecture: '1oo1', lambdaDu: 2e-6, beta: 0, mttrHours: 0, testIntervalMonths: 12, testCoverage: 1, missionTimeYears: 15 },
+]
+
+// simplified equations, ../shared/reference/sif-reliability.md (ISA-TR84.00.02; IEC 61508-6 Annex B), MTTR terms omitted
+const pfd1oo1 = (lambdaDu: number, ti: number) => lambdaDu * ti / 2
+const pfd1oo2 = (lambdaDu: number, beta: number, ti: number) => ((1 - beta) * lambdaDu * ti) ** 2 / 3 + beta * lambdaDu * ti / 2
+/** The worked example's PFDavg at proof-test interval `ti` (IEC 61508-6 B.2: PFD_SIF = PFD_sensor + PFD_logic + PFD_final). */
+const workedPfd = (ti: number) => pfd1oo2(5e-7, 0.1, ti) + pfd1oo1(2e-4 / YEAR_H, ti) + pfd1oo1(2e-6, ti)
+
+/** A SIL-rated heater trip with the given subsystems and `channels` voted thermocouples, put in service (two approvals). */
+async function silLimit(sil: 1 | 2 | 3, subsystems: Subsystem[], channels = 1) {
+  const eng = as.engineer
+  const site = ((await eng.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]).find((s) => s.code === 'FHR')!
+  const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[2]
+  const n = `${process.pid % 1000}-${++seq}`
+  const proc = (await eng.post('/api/processes', { areaId: area.id, name: `SIF heater H-${n}`, description: 'fired heater' }).expect(201)).body
+  const instruments: { id: number }[] = []
+  for (let i = 0; i < channels; i++) {
+    instruments.push((await eng.post('/api/instruments', {
+      processId: proc.id, tag: `TTS-${n}${String.fromCharCode(65 + i)}`, measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650,
+      designLow: null, designHigh: 900, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
+    }).expect(201)).body)
+  }
+  const limit = (await eng.post('/api/limits', {
+    processId: proc.id, instrumentIds: instruments.map((i) => i.id), tag: `TZHH-S${n}`, direction: 'high', limitClass: 'trip', setpoint: 780, deadband: 5, severity: 'severe',
+    testIntervalMonths: 12, latching: true, resetRole: 'operator', sil, subsystems, compensatingMeasures: ['Operator watches TI locally every 15 min'], maxBypassHours: 8, bypassPermitted: true,
+  }).expect(201)).body
+  await activateLimit({ eng, approver: as.approver, approver2: as.approver2, tech: as.technician }, limit)
+  return { limit: limit as { id: number, tag: string }, instruments }
+}
+
+interface RiskRow {
+  limitId: number, tag: string, targetSil: number, testStatus: string, bypassedHours: number, channelBypassedHours: number, actualIntervalHours: number | null,
+  design: { pfd: number, rrf: number, band: number | 'none' }, effective: { pfd: number, rrf: number, band: number | 'none' }, belowTarget: boolean, designBelowTarget: boolean
+}
+interface Risk { period: { from: string, to: string, hours: number }, items: RiskRow[], caution: string }
+const risk = async (query: string, who: Who = 'manager') => (await as[who].get(`/api/bypass-review/risk${query}`).expect(200)).body as Risk
+const row = (r: Risk, limitId: number) => r.items.find((i) => i.limitId === limitId)!
+const rel = (a: number, b: number) => Math.abs(a / b - 1)
+
+let worked: Awaited<ReturnType<typeof silLimit>>
+let voted: Awaited<ReturnType<typeof silLimit>>
+let factory: { id: number, tag: string }
+let plain: { id: number }
+
+beforeAll(async () => {
+  app = createApp(ctx)
+  await at('2026-08-03T06:00:00Z')
+  worked = await silLimit(2, WORKED)
+  voted = await silLimit(2, WORKED, 2)
+  const built = await buildHeaterTrip(as.engineer, { sil: 1 })
+  await activateLimit({ eng: as.engineer, approver: as.approver, approver2: as.approver2, tech: as.technician }, built.limit)
+  factory = built.limit
+  const notSil = await buildHeaterTrip(as.engineer)
+  await activateLimit({ eng: as.engineer, approver: as.approver, tech: as.technician }, notSil.limit)
+  plain = notSil.limit
+
+  // a passing yearly proof test of the worked-example function: due 3 Aug 2027
+  const test = (await as.technician.post('/api/trip-tests', {
+    limitId: worked.limit.id, kind: 'full', method: 'injection', injectionPoint: 'sensor', sourceMode: 'mv_source', coldJunctionC: 25, calibratorId: 'CAL-07',
+    calibratorDueDate: '2026-12-31', performedAt: '2026-08-03T05:30:00Z', finalElementOk: true, latchHeld: true, asFound: 781,
+  }).expect(201)).body
+  expect(test.passed).toBe(true)
+  await as.technician.post(`/api/trip-tests/${test.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
+
+  // 08:00 → 14:00: the whole worked-example function bypassed, and one of the two sensor channels of its voted twin
+  const whole = (await as.operator.post('/api/bypasses', { limitId: worked.limit.id, reason: 'Burner front work', plannedStart: '2026-08-03T08:00:00Z', plannedEnd: '2026-08-03T14:00:00Z', predefinedMeasuresConfirmed: true }).expect(201)).body
+  const channel = (await as.operator.post('/api/bypasses', {
+    limitId: voted.limit.id, reason: 'Thermocouple A replacement', plannedStart: '2026-08-03T08:00:00Z', plannedEnd: '2026-08-03T14:00:00Z', predefinedMeasuresConfirmed: true,
+    channelInstrumentId: voted.instruments[0].id,
+  }).expect(201)).body
+  for (const b of [whole, channel]) await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
+  await at('2026-08-03T08:00:00Z')
+  for (const b of [whole, channel]) await as.operator.post(`/api/bypasses/${b.id}/activation`).expect(200)
+  await at('2026-08-03T14:00:00Z')
+  for (const b of [whole, channel]) await as.operator.post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true }).expect(200)
+  await at('2026-08-04T06:00:00Z')
+}, 240_000)
+
+describe('risk erosion of safety instrumented functions (GET /api/bypass-review/risk)', () => {
+  it('design PFDavg: the sum of the subsystems, equal to the published worked example (../shared/reference/sif-reliability.md "Whole-SIF example")', async () => {
+    const r = await risk('?from=2026-08-01T00:00:00Z&to=2026-08-03T00:00:00Z')
+    const w = row(r, worked.limit.id)
+    expect(w.design.pfd).toBe(sifPfd(WORKED))
+    // hand computation with the simplified equations: 1oo2 ((1−β)λDU·TI)²/3 + β·λDU·TI/2, 1oo1 λDU·TI/2
+    expect(pfd1oo2(5e-7, 0.1, YEAR_H)).toBeCloseTo(2.2418e-4, 8)
+    expect(rel(w.design.pfd, workedPfd(YEAR_H))).toBeLessThan(1e-12)
+    // the published figures: 9.0842e−3 → SIL 2, RRF 110.1
+    expect(w.design.pfd).toBeCloseTo(9.0842e-3, 7)
+    expect(w.design.rrf).toBeCloseTo(110.1, 1)
+    expect(w.design).toMatchObject({ band: 2 })
+    expect(w).toMatchObject({ targetSil: 2, designBelowTarget: false, belowTarget: false, bypassedHours: 0 })
+    // no bypass and the test up to date in this period: effective = design
+    expect(w.effective.pfd).toBe(w.design.pfd)
+    // only SIL-rated limits are listed
+    expect(r.items.map((i) => i.limitId)).not.toContain(plain.id)
+    expect(r.caution).toContain('hardware fault tolerance and systematic capability are not assessed')
+  })
+
+  it('design PFDavg of the factory\'s subsystems, by hand with the IEC 61508-6 Annex B general forms and partial proof-test coverage', async () => {
+    const r = await risk('?from=2026-08-01T00:00:00Z&to=2026-08-03T00:00:00Z')
+    const f = row(r, factory.id)
+    // hidden time of an undetected failure with coverage C, interval TI and mission time T_full (reference "Partial proof testing"):
+    // C·TI/k + (1 − C)·T_full/k; 1oo1: PFD = λDU·(hidden(2) + MRT) (IEC 61508-6 Ed. 2 1oo1 form, λDD = 0)
+    const TI = 12 * 730
+    const T_FULL = 15 * YEAR_H
+    const hidden = (c: number, k: number) => c * TI / k + (1 - c) * T_FULL / k
+    const sensor = 5e-7 * (hidden(0.9, 2) + 8) // 5e−7 · (3 942 + 6 570 + 8) = 5.2600e−3
+    const logic = 1e-8 * (hidden(1, 2) + 8) // 1e−8 · 4 388 = 4.388e−5
+    // 1oo2: PFD = 2·((1−β)·λDU)²·t_CE·t_GE + β·λDU·(hidden(2) + MRT), t_CE = hidden(2) + MRT, t_GE = hidden(3) + MRT
+    const tCE = hidden(0.7, 2) + 24 // 22 800 h
+    const tGE = hidden(0.7, 3) + 24 // 15 208 h
+    const final = 2 * (0.9 * 2e-6) ** 2 * tCE * tGE + 0.1 * 2e-6 * tCE // 2.24689e−3 + 4.5600e−3
+    expect(sensor).toBeCloseTo(5.26e-3, 10)
+    expect(logic).toBeCloseTo(4.388e-5, 12)
+    expect(final).toBeCloseTo(6.80689e-3, 8)
+    expect(rel(f.design.pfd, sensor + logic + final)).toBeLessThan(1e-12)
+    expect(f.design.pfd).toBeCloseTo(1.21108e-2, 6)
+    // lower bounds inclusive: 1.21e−2 lies in the SIL 1 band (≥ 1e−2 to < 1e−1), meeting its SIL 1 target
+    expect(f).toMatchObject({ targetSil: 1, design: { band: 1 }, designBelowTarget: false, belowTarget: false })
+  })
+
+  it('bypassed hours raise the effective PFDavg by the bypassed fraction: effective = design + f·(1 − design)', async () => {
+    // a day holding the 6 h bypass: f ≈ 1/4
+    const day = await risk('?from=2026-08-03T00:00:00Z&to=2026-08-04T00:00:00Z')
+    expect(day.period.hours).toBe(24)
+    const w = row(day, worked.limit.id)
+    // the clock runs on from each time set: allow the seconds the test itself takes
+    expect(w.bypassedHours).toBeGreaterThan(5.95)
+    expect(w.bypassedHours).toBeLessThan(6.05)
+    const f = w.bypassedHours / 24
+    expect(rel(w.effective.pfd, w.design.pfd + f * (1 - w.design.pfd))).toBeLessThan(1e-12)
+    expect(w.effective.pfd).toBeCloseTo(0.2568, 3)
+    expect(w.effective.band).toBe('none')
+    expect(w.belowTarget).toBe(true)
+    expect(w.designBelowTarget).toBe(false)
+
+    // thirty days holding it: f ≈ 6/720, effective ≈ 1.73e−2, the SIL 1 band, below the SIL 2 target
+    const month = await risk('?from=2026-07-05T00:00:00Z&to=2026-08-04T00:00:00Z')
+    const m = row(month, worked.limit.id)
+    expect(month.period.hours).toBe(720)
+    expect(rel(m.effective.pfd, m.design.pfd + (m.bypassedHours / 720) * (1 - m.design.pfd))).toBeLessThan(1e-12)
+    expect(m.effective.pfd).toBeCloseTo(1.734e-2, 4)
+    expect(m).toMatchObject({ effective: { band: 1 }, belowTarget: true })
+  })
+
+  it('a bypassed single channel degrades the voting (1oo2 → 1oo1 sensors) instead of defeating the function', async () => {
+    const day = await risk('?from=2026-08-03T00:00:00Z&to=2026-08-04T00:00:00Z')
+    const v = row(day, voted.limit.id)
+    expect(v.bypassedHours).toBe(0)
+    expect(v.channelBypassedHours).toBeGreaterThan(5.95)
+    expect(v.channelBypassedHours).toBeLessThan(6.05)
+    const f = v.channelBypassedHours / 24
+    // during the bypass: sensors 1oo1 λDU·TI/2 = 2.19e−3 in place of the 1oo2 2.2418e−4
+    const during = pfd1oo1(5e-7, YEAR_H) + pfd1oo1(2e-4 / YEAR_H, YEAR_H) + pfd1oo1(2e-6, YEAR_H)
+    expect(rel(v.effective.pfd, (1 - f) * v.design.pfd + f * during)).toBeLessThan(1e-9)
+    expect(v.effective.pfd).toBeGreaterThan(v.design.pfd)
+    expect(v).toMatchObject({ effective: { band: 2 }, belowTarget: false })
+  })
+
+  it('an overdue proof test lengthens the interval to the time since the last passing full test', async () => {
+    // due 3 Aug 2027, grace 30 days (DOMAIN.md §6 default: 10 % of the interval, at most 30 days, common practice) → overdue from 3 Sep 2027
+    await at('2027-10-01T06:00:00Z')
+    await createTripTestJob(ctx.db, ctx.config, ctx.clock).runDue(ctx.clock.now())
+    const r = await risk('?from=2027-09-01T00:00:00Z&to=2027-10-01T00:00:00Z')
+    const w = row(r, worked.limit.id)
+    expect(w.testStatus).toBe('overdue')
+    // from the day of the last pass (3 Aug 2026) to now: 424 days and 6 h
+    expect(w.actualIntervalHours).not.toBeNull()
+    expect(w.actualIntervalHours!).toBeGreaterThan(424 * 24 + 6 - 0.1)
+    expect(w.actualIntervalHours!).toBeLessThan(424 * 24 + 6 + 0.1)
+    expect(w.bypassedHours).toBe(0)
+    expect(rel(w.effective.pfd, workedPfd(w.actualIntervalHours!))).toBeLessThan(1e-12)
+    expect(w.effective.pfd).toBeGreaterThan(w.design.pfd)
+    expect(w.design.pfd).toBeCloseTo(9.0842e-3, 7)
+    // 10 182 h instead of 8 760 h: ≈ 1.056e−2, out of the SIL 2 band
+    expect(w.effective.pfd).toBeCloseTo(1.0559e-2, 5)
+    expect(w).toMatchObject({ effective: { band: 1 }, belowTarget: true, designBelowTarget: false })
+  })
+
+  it('the same roles as the review read it; a period that ends before it starts is refused', async () => {
+    for (const who of ['engineer', 'approver', 'supervisor', 'auditor'] as const) expect((await as[who].get('/api/bypass-review/risk')).status, who).toBe(200)
+    for (const who of ['technician', 'operator'] as const) expect((await as[who].get('/api/bypass-review/risk')).status, who).toBe(403)
+    const res = await as.manager.get('/api/bypass-review/risk?from=2027-09-02T00:00:00Z&to=2027-09-01T00:00:00Z')
+    expect(res.status).toBe(400)
+    expect(res.body.error.code).toBe('VALIDATION_FAILED')
+  })
+})

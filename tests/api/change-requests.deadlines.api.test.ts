@@ -1,0 +1,152 @@
+import type { Express } from 'express'
+import type { ParsedMail } from 'mailparser'
+import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { createApp } from '../../server/app.ts'
+import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
+import { createChangeRequestJob } from '../../server/features/change-requests/change-requests.jobs.ts'
+import { createMailJob } from '../../server/features/mail/mail.worker.ts'
+import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
+import type { ApiAgent } from './helpers/agent.ts'
+import { signedIn } from './helpers/agent.ts'
+import { approveChange, buildActiveHeaterTrip, implementChange, readBackOf, submitChange } from './helpers/factories.ts'
+import { useTestDb } from './helpers/test-db.ts'
+
+const ctx = useTestDb()
+const PW = DEMO_PASSWORD
+const HOUR = 3_600_000
+const DAY = 24 * HOUR
+const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor'] as const
+let smtp: FakeSmtp
+let app: Express
+const as = {} as Record<typeof PEOPLE[number], ApiAgent>
+
+/** Signs everyone in again: moving the clock by hours ends the sessions (idle limit), as it would in the plant. */
+async function signInAll() {
+  for (const who of PEOPLE) as[who] = await signedIn(app, who)
+}
+
+beforeAll(async () => {
+  smtp = await startFakeSmtp(0, { quiet: true })
+  app = createApp(ctx)
+  await signInAll()
+})
+afterAll(async () => { await smtp?.close() })
+
+const runDeadlines = () => createChangeRequestJob(ctx.db, ctx.config, ctx.clock).runDue(ctx.clock.now())
+const deliver = () => createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock).runDue(ctx.clock.now())
+const recipients = (m: ParsedMail) => (m.to && !Array.isArray(m.to) ? m.to.value.map((a) => a.address ?? '') : [])
+const crew = () => ({ eng: as.engineer, approvers: [as.approver], tech: as.technician })
+const crRow = (id: number) => ctx.db.selectFrom('change_request').selectAll().where('id', '=', id).executeTakeFirstOrThrow()
+
+/** Delivers the outbox and waits until every expected address has the subject; answers all mails with it. */
+async function mailsFor(subjectStart: string, expected: string[]) {
+  await deliver()
+  const about = (m: ParsedMail) => (m.subject ?? '').startsWith(subjectStart)
+  for (const a of expected) await smtp.waitFor((m) => about(m) && recipients(m).includes(a))
+  return smtp.inbox.filter(about)
+}
+
+describe('change request deadlines job', () => {
+  it('reminds the proposer once when a temporary change expires within 24 h', async () => {
+    await signInAll()
+    const { site, limit } = await buildActiveHeaterTrip(crew())
+    const expiresAt = new Date(ctx.clock.now().getTime() + 3 * DAY)
+    const cr = await approveChange([as.approver], await submitChange(as.engineer, {
+      siteId: site.id, type: 'temporary', title: 'Temporary raise during catalyst dry-out', expiresAt: expiresAt.toISOString(),
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 800 } }],
+    }))
+    await implementChange(as.technician, cr)
+
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    ctx.clock.set(new Date(expiresAt.getTime() - 25 * HOUR))
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    expect((await crRow(cr.id)).revert_reminder_at).toBeNull()
+
+    ctx.clock.set(new Date(expiresAt.getTime() - 23 * HOUR))
+    expect(await runDeadlines()).toEqual({ reminders: 1, flagged: 0, expired: 0 })
+    const subject = `Temporary change #${cr.id} expires`
+    const [reminder] = await mailsFor(subject, ['engineer@fernhollow.example'])
+    expect(reminder.text).toContain(`${ctx.config.appUrl}/changes/${cr.id}`)
+    expect(reminder.html).toEqual(expect.stringContaining(`href="${ctx.config.appUrl}/changes/${cr.id}"`))
+    expect(reminder.text).toContain('Revert it on the device')
+
+    // not twice: neither a later run nor one after the expiry sends it again
+    ctx.clock.advance(HOUR)
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    ctx.clock.set(new Date(expiresAt.getTime() + HOUR))
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    await deliver()
+    expect(smtp.inbox.filter((m) => m.subject?.startsWith(subject))).toHaveLength(1)
+    const events = await ctx.db.selectFrom('audit_event').select('action').where('entity_type', '=', 'ChangeRequest').where('entity_id', '=', String(cr.id)).where('action', '=', 'change_request.revert_reminder').execute()
+    expect(events).toHaveLength(1)
+  })
+
+  it('flags an emergency change implemented by the shift supervisor and still unapproved after 24 h, and tells approvers and the plant manager', async () => {
+    await signInAll()
+    const { site, limit } = await buildActiveHeaterTrip(crew())
+    const cr = await submitChange(as.engineer, { siteId: site.id, type: 'emergency', title: 'Lower trip after tube thinning found', items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 760 } }] })
+    const done = (await as.supervisor.post(`/api/change-requests/${cr.id}/implementations`, { itemId: cr.items[0].id, readBack: readBackOf(cr.items[0]), password: PW }).expect(200)).body
+    expect(done).toMatchObject({ status: 'implemented', approvedAt: null, emergencyFlagged: false })
+    const implementedAt = new Date(done.implementedAt).getTime()
+
+    ctx.clock.set(new Date(implementedAt + 23 * HOUR))
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+
+    // common practice (site procedure): an emergency change is approved within 24 h of its implementation
+    ctx.clock.set(new Date(implementedAt + 24 * HOUR + 60_000))
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 1, expired: 0 })
+    const subject = `Emergency change #${cr.id} is still unapproved after 24 h`
+    const expected = ['approver@fernhollow.example', 'approver2@fernhollow.example', 'manager@fernhollow.example']
+    const mails = await mailsFor(subject, expected)
+    expect(mails.flatMap(recipients).sort()).toEqual([...expected].sort())
+    for (const m of mails) expect(m.text).toContain(`${ctx.config.appUrl}/changes/${cr.id}`)
+
+    ctx.clock.advance(HOUR)
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    await deliver()
+    expect(smtp.inbox.filter((m) => m.subject === subject)).toHaveLength(3)
+
+    await signInAll()
+    expect((await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body.emergencyFlagged).toBe(true)
+    // approved after the fact; it stays on record as flagged
+    const approved = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
+    expect(approved).toMatchObject({ status: 'implemented', emergencyFlagged: true, approvedAt: expect.any(String) })
+  })
+
+  it('voids an approval older than 30 days that was not implemented; implementation is refused until approved again', async () => {
+    await signInAll()
+    const { site, limit } = await buildActiveHeaterTrip(crew())
+    const cr = await approveChange([as.approver], await submitChange(as.engineer, { siteId: site.id, title: 'Raise trip to 790', items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }] }))
+    const view = (await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body
+    const approvedAt = new Date(view.approvedAt).getTime()
+    // site policy (common practice): an approval expires if not implemented within 30 days
+    expect(new Date(view.approvalExpiresAt).getTime()).toBe(approvedAt + 30 * DAY)
+
+    ctx.clock.set(new Date(approvedAt + 30 * DAY - HOUR))
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    expect((await crRow(cr.id)).status).toBe('approved')
+
+    ctx.clock.set(new Date(approvedAt + 30 * DAY + HOUR))
+    await signInAll()
+    const implement = { itemId: cr.items[0].id, readBack: readBackOf(cr.items[0]), password: PW }
+    // refused even before the job has run
+    expect((await as.technician.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(409)).body.error.code).toBe('INVALID_STATE')
+
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 1 })
+    const back = (await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body
+    expect(back).toMatchObject({ status: 'submitted', approvalsHeld: 0, approvedAt: null })
+    expect(back.signatures).toHaveLength(1)
+    expect(back.signatures[0]).toMatchObject({ meaning: 'approved', voided: true, voidReason: 'approval expired: not implemented within 30 days' })
+    const [mail] = await mailsFor(`Approval of change request #${cr.id} expired`, ['engineer@fernhollow.example'])
+    expect(recipients(mail)).toEqual(['engineer@fernhollow.example'])
+    expect(mail.text).toContain(`${ctx.config.appUrl}/changes/${cr.id}`)
+
+    expect((await as.technician.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(409)).body.error.code).toBe('INVALID_STATE')
+    expect((await as.engineer.get(`/api/limits/${limit.id}`).expect(200)).body.setpoint).toBe(780)
+
+    // approved again, it is implemented
+    await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
+    await as.technician.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(200)
+    expect((await as.engineer.get(`/api/limits/${limit.id}`).expect(200)).body.setpoint).toBe(790)
+  })
+})

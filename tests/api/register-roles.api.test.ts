@@ -1,0 +1,162 @@
+import type { Express } from 'express'
+import pg from 'pg'
+import { beforeAll, describe, expect, it } from 'vitest'
+import { createApp } from '../../server/app.ts'
+import { ApiAgent, signedIn } from './helpers/agent.ts'
+import { useTestDb } from './helpers/test-db.ts'
+
+const ctx = useTestDb()
+
+// DOMAIN.md §2: only the safety engineer creates processes and instruments and drafts limits; every role reads the
+// register of its own sites. Demo accounts (server/seed/demo.ts): supervisor and operator hold their role at FHR only.
+const READERS = ['admin', 'engineer', 'approver', 'supervisor', 'technician', 'operator', 'manager', 'auditor'] as const
+const NOT_EDITORS = ['admin', 'approver', 'supervisor', 'technician', 'operator', 'manager', 'auditor'] as const
+type Who = typeof READERS[number]
+
+interface Built { siteId: number, areaId: number, processId: number, instrumentId: number, limitId: number }
+
+let app: Express
+const agents = {} as Record<Who, ApiAgent>
+let fhr: Built
+let smp: Built
+let seq = 0
+
+async function build(eng: ApiAgent, siteCode: 'FHR' | 'SMP'): Promise<Built> {
+  const n = ++seq
+  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]
+  const siteId = sites.find((s) => s.code === siteCode)!.id
+  const areaId = (await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items[0].id
+  const proc = (await eng.post('/api/processes', { areaId, name: `Roles test heater H-${siteCode}-${n}`, description: '' }).expect(201)).body
+  const inst = (await eng.post('/api/instruments', instrumentBody(proc.id, `TT-R${siteCode}${n}`)).expect(201)).body
+  const limit = (await eng.post('/api/limits', limitBody(proc.id, inst.id, `TSHH-R${siteCode}${n}`)).expect(201)).body
+  return { siteId, areaId, processId: proc.id, instrumentId: inst.id, limitId: limit.id }
+}
+
+function instrumentBody(processId: number, tag: string) {
+  return {
+    processId, tag, measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650, designHigh: 900,
+    burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
+  }
+}
+
+function limitBody(processId: number, instrumentId: number, tag: string) {
+  return { processId, instrumentIds: [instrumentId], tag, direction: 'high', limitClass: 'trip', setpoint: 780, deadband: 5, severity: 'severe', testIntervalMonths: 12, latching: true, resetRole: 'operator' }
+}
+
+/** Everything a register write would change. */
+async function snapshot() {
+  const count = async (t: 'process' | 'instrument' | 'limit_function' | 'limit_revision' | 'instrument_revision') =>
+    Number((await ctx.db.selectFrom(t).select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
+  const audit = await ctx.db.selectFrom('audit_event').select((eb) => eb.fn.countAll<number>().as('n')).where('action', 'not like', 'session.%').executeTakeFirstOrThrow()
+  const limits = await ctx.db.selectFrom('limit_function').select(['id', 'revision', 'setpoint', 'status']).orderBy('id').execute()
+  const instruments = await ctx.db.selectFrom('instrument').select(['id', 'revision', 'range_high']).orderBy('id').execute()
+  const processes = await ctx.db.selectFrom('process').select(['id', 'name']).orderBy('id').execute()
+  return {
+    processes: await count('process'), instruments: await count('instrument'), limits: await count('limit_function'),
+    limitRevisions: await count('limit_revision'), instrumentRevisions: await count('instrument_revision'), audit: Number(audit.n),
+    rows: { limits, instruments, processes },
+  }
+}
+
+beforeAll(async () => {
+  app = createApp(ctx)
+  for (const who of READERS) agents[who] = await signedIn(app, who)
+  fhr = await build(agents.engineer, 'FHR')
+  smp = await build(agents.engineer, 'SMP')
+})
+
+describe('register: create, edit and delete by role', () => {
+  it('lets the safety engineer create a process, an instrument and a draft limit, edit them and delete the draft', async () => {
+    const eng = agents.engineer
+    const proc = (await eng.post('/api/processes', { areaId: fhr.areaId, name: 'Roles test reboiler E-7', description: 'kettle' }).expect(201)).body
+    expect((await eng.patch(`/api/processes/${proc.id}`, { description: 'kettle reboiler' }).expect(200)).body.description).toBe('kettle reboiler')
+    const inst = (await eng.post('/api/instruments', instrumentBody(proc.id, 'TT-R-E7')).expect(201)).body
+    expect((await eng.patch(`/api/instruments/${inst.id}`, { rangeHigh: 1250 }).expect(200)).body.rangeHigh).toBe(1250)
+    const limit = (await eng.post('/api/limits', limitBody(proc.id, inst.id, 'TSHH-R-E7')).expect(201)).body
+    expect(limit.status).toBe('proposed')
+    const edited = (await eng.patch(`/api/limits/${limit.id}`, { setpoint: 790 }).expect(200)).body
+    expect(edited).toMatchObject({ setpoint: 790, revision: 2 })
+    await eng.delete(`/api/limits/${limit.id}`).expect(204)
+    await eng.get(`/api/limits/${limit.id}`).expect(404)
+  })
+
+  for (const who of NOT_EDITORS) {
+    it(`refuses ${who} with 403 on every create, edit and delete, and writes nothing`, async () => {
+      const a = agents[who]
+      const before = await snapshot()
+      const calls: [string, () => ReturnType<ApiAgent['get']>][] = [
+        ['create a process', () => a.post('/api/processes', { areaId: fhr.areaId, name: `Forbidden process ${who}`, description: '' })],
+        ['edit a process', () => a.patch(`/api/processes/${fhr.processId}`, { description: `changed by ${who}` })],
+        ['create an instrument', () => a.post('/api/instruments', instrumentBody(fhr.processId, `TT-X-${who}`))],
+        ['edit an instrument', () => a.patch(`/api/instruments/${fhr.instrumentId}`, { rangeHigh: 1300 })],
+        ['draft a limit', () => a.post('/api/limits', limitBody(fhr.processId, fhr.instrumentId, `TSHH-X-${who}`))],
+        ['edit a draft limit', () => a.patch(`/api/limits/${fhr.limitId}`, { setpoint: 800 })],
+        ['delete a draft limit', () => a.delete(`/api/limits/${fhr.limitId}`)],
+      ]
+      for (const [name, call] of calls) {
+        const res = await call()
+        expect(res.status, name).toBe(403)
+        expect(res.body.error.code, name).toBe('FORBIDDEN')
+      }
+      expect(await snapshot()).toEqual(before)
+    })
+  }
+
+  it('answers 409 INVALID_STATE on editing or deleting an active limit, and changes nothing', async () => {
+    const eng = agents.engineer
+    const built = await build(eng, 'FHR')
+    const owner = new pg.Client({ connectionString: ctx.database.ownerUrl })
+    await owner.connect()
+    await owner.query('UPDATE limit_function SET status = $1 WHERE id = $2', ['active', built.limitId])
+    await owner.end()
+    const before = await snapshot()
+    const patch = await eng.patch(`/api/limits/${built.limitId}`, { setpoint: 790 }).expect(409)
+    expect(patch.body.error.code).toBe('INVALID_STATE')
+    expect((await eng.delete(`/api/limits/${built.limitId}`).expect(409)).body.error.code).toBe('INVALID_STATE')
+    // an instrument behind an active limit changes through a change request too
+    expect((await eng.patch(`/api/instruments/${built.instrumentId}`, { rangeHigh: 1300 }).expect(409)).body.error.code).toBe('INVALID_STATE')
+    expect(await snapshot()).toEqual(before)
+  })
+
+  it('answers 401 to a visitor who is not signed in', async () => {
+    const anon = new ApiAgent(app)
+    await anon.refreshCsrf()
+    await anon.get('/api/limits').expect(401)
+    await anon.post('/api/processes', { areaId: fhr.areaId, name: 'Anonymous', description: '' }).expect(401)
+  })
+})
+
+describe('register: reading by role and site', () => {
+  for (const who of READERS) {
+    it(`lets ${who} read the register, a limit, its instrument and its process at FHR`, async () => {
+      const a = agents[who]
+      const list = (await a.get(`/api/limits?processId=${fhr.processId}`).expect(200)).body
+      expect(list.items.map((l: { id: number }) => l.id)).toEqual([fhr.limitId])
+      expect((await a.get(`/api/limits/${fhr.limitId}`).expect(200)).body.operatingWindow).toEqual({ errors: [], warnings: expect.any(Array) })
+      expect((await a.get(`/api/instruments/${fhr.instrumentId}`).expect(200)).body.id).toBe(fhr.instrumentId)
+      expect((await a.get(`/api/processes/${fhr.processId}`).expect(200)).body.id).toBe(fhr.processId)
+    })
+  }
+
+  for (const who of ['operator', 'supervisor'] as const) {
+    it(`shows ${who} (FHR only) no SMP rows and answers 403 for an SMP limit, instrument and process`, async () => {
+      const a = agents[who]
+      await a.get(`/api/limits/${smp.limitId}`).expect(403)
+      await a.get(`/api/instruments/${smp.instrumentId}`).expect(403)
+      await a.get(`/api/processes/${smp.processId}`).expect(403)
+      const all = (await a.get('/api/limits?pageSize=200').expect(200)).body
+      expect(all.items.length).toBeGreaterThan(0)
+      expect(all.items.every((l: { siteId: number }) => l.siteId === fhr.siteId)).toBe(true)
+      const asked = (await a.get(`/api/limits?siteId=${smp.siteId}`).expect(200)).body
+      expect(asked.items).toEqual([])
+      expect(asked.total).toBe(0)
+      const instruments = (await a.get(`/api/instruments?processId=${smp.processId}`).expect(200)).body
+      expect(instruments.items).toEqual([])
+    })
+  }
+
+  it('shows a user with roles at both sites the SMP limit', async () => {
+    const list = (await agents.auditor.get(`/api/limits?siteId=${smp.siteId}&processId=${smp.processId}`).expect(200)).body
+    expect(list.items.map((l: { id: number }) => l.id)).toEqual([smp.limitId])
+  })
+})

@@ -1,0 +1,147 @@
+import type { Page } from 'playwright-core'
+import { describe, expect, it } from 'vitest'
+import { signInAs, useBrowserApp } from './helpers.ts'
+
+const app = useBrowserApp()
+const PW = 'limitkeeper-demo'
+
+/** Calls the API from a signed-in page, with the session's cookie and CSRF token (what the app itself does). */
+async function call<T = any>(page: Page, method: string, path: string, body?: unknown): Promise<T> {
+  const session = await (await page.request.get(`${app.baseUrl}/api/session`)).json() as { csrfToken: string }
+  const res = await page.request.fetch(`${app.baseUrl}/api${path}`, { method, data: body, headers: { 'X-CSRF-Token': session.csrfToken } })
+  const json = await res.json().catch(() => undefined)
+  if (!res.ok()) throw new Error(`${method} ${path} answered ${res.status()}: ${JSON.stringify(json)}`)
+  return json as T
+}
+
+/** A signed-in page in a browser context of its own (no cookies shared between users). */
+async function pageFor(who: string): Promise<Page> {
+  const context = await app.browser.newContext({ viewport: { width: 1440, height: 1000 } })
+  const page = await context.newPage()
+  page.setDefaultTimeout(15_000)
+  await signInAs(page, app.baseUrl, who)
+  return page
+}
+
+/** A fired heater's high outlet-temperature trip with predefined compensating measures, at most 8 h bypassed, put in service through a change. */
+async function heaterTripInService(engineer: Page, approver: Page, technician: Page) {
+  const site = (await call<{ items: { id: number, code: string }[] }>(engineer, 'GET', '/sites')).items.find((s) => s.code === 'FHR')!
+  const area = (await call<{ items: { id: number }[] }>(engineer, 'GET', `/areas?siteId=${site.id}`)).items[0]
+  const proc = await call(engineer, 'POST', '/processes', { areaId: area.id, name: 'Heater H-520', description: 'fired heater, vacuum residue' })
+  const inst = await call(engineer, 'POST', '/instruments', {
+    processId: proc.id, tag: 'TT-5201', measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650,
+    designLow: null, designHigh: 900, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
+  })
+  const limit = await call(engineer, 'POST', '/limits', {
+    processId: proc.id, instrumentIds: [inst.id], tag: 'TSHH-5201', direction: 'high', limitClass: 'trip', setpoint: 780, deadband: 5,
+    severity: 'severe', testIntervalMonths: 12, latching: true, resetRole: 'operator', maxBypassHours: 8, bypassPermitted: true,
+    compensatingMeasures: ['Field operator watches the local outlet temperature every 15 min', 'Firing limited to 80 % of design'],
+  })
+  const cr = await call(engineer, 'POST', '/change-requests', {
+    siteId: site.id, type: 'permanent', title: 'Put TSHH-5201 in service', rationale: 'Hazard study action 12', items: [{ kind: 'create', limitId: limit.id }],
+  })
+  await call(engineer, 'POST', `/change-requests/${cr.id}/submission`)
+  await call(approver, 'POST', `/change-requests/${cr.id}/approvals`, { password: PW })
+  await call(technician, 'POST', `/change-requests/${cr.id}/implementations`, { allItems: true, deviceListConfirmed: true, password: PW })
+  expect((await call(engineer, 'GET', `/limits/${limit.id}`)).status).toBe('active')
+  return { limitId: limit.id as number, tag: limit.tag as string }
+}
+
+const text = (page: Page, test: string) => page.locator(`[data-test="${test}"]`).first().textContent({ timeout: 1_000 }).then((t) => t?.replace(/\s+/g, ' ').trim() ?? null).catch(() => null)
+/** Waits for a condition of the page (no fixed sleeps). */
+const poll = <T>(fn: () => Promise<T>) => expect.poll(fn, { timeout: 15_000 })
+
+describe('bypasses in the browser', () => {
+  it('operator requests, supervisor authorizes, the register shows it, it goes overdue, and the plant manager sees it in the review', async () => {
+    // 08:00 in the site's time zone (Europe/Berlin, summer time); everyone signs in on that clock.
+    app.clock.set('2026-05-04T06:00:00Z')
+    const engineer = await pageFor('engineer')
+    const approver = await pageFor('approver')
+    const technician = await pageFor('technician')
+    const { limitId, tag } = await heaterTripInService(engineer, approver, technician)
+    const operator = await pageFor('operator')
+    const supervisor = await pageFor('supervisor')
+
+    // The operator requests a 4 h bypass from the limit's page, confirming the predefined measures.
+    await operator.goto(`${app.baseUrl}/register/limits/${limitId}`)
+    await operator.locator('[data-test="limit-request-bypass"]').click()
+    await operator.waitForURL(/\/bypasses\/new\?limitId=\d+/)
+    await poll(() => text(operator, 'predefined-measures')).toContain('Field operator watches the local outlet temperature')
+    expect(await text(operator, 'bypass-duration-limits')).toMatch(/Longest bypass of TSHH-5201\s*8 h/)
+    expect(await operator.locator('[data-test="bypass-submit"]').isDisabled()).toBe(true)
+    await operator.locator('[data-test="confirm-measures"] input').check()
+    await operator.locator('[data-test="bypass-reason"] textarea').first().fill('Burner management work, work order WO-88123')
+    await operator.locator('[data-test="bypass-start"] input').fill('2026-05-04T08:00')
+    await operator.locator('[data-test="bypass-duration"] input').fill('9')
+    await poll(() => text(operator, 'bypass-duration')).toContain('At most 8 h for TSHH-5201')
+    await operator.locator('[data-test="bypass-duration"] input').fill('4')
+    await poll(() => text(operator, 'bypass-end')).toBe('4 May 2026, 12:00 CEST')
+    await operator.locator('[data-test="bypass-submit"]').click()
+    await operator.waitForURL(/\/bypasses\/\d+$/)
+    const id = Number(new URL(operator.url()).pathname.split('/').pop())
+    await poll(() => text(operator, `bypass-status-${id}`)).toBe('Requested')
+    expect(await operator.locator('[data-test="bypass-authorize"]').count()).toBe(0)
+    await operator.locator('[data-test="safety-notice"]').waitFor()
+
+    // The shift supervisor opens it from the list and authorizes with a signature (a wrong password first).
+    await supervisor.locator('[data-test="nav-bypasses"]').click()
+    await supervisor.locator(`[data-test="bypass-row-${id}"]`).click()
+    await supervisor.waitForURL(`${app.baseUrl}/bypasses/${id}`)
+    await supervisor.locator('[data-test="bypass-authorize"]').click()
+    await supervisor.locator('[data-test="sign-dialog"]').waitFor()
+    expect(await text(supervisor, 'sign-meaning')).toContain('By signing you authorize the bypass of TSHH-5201')
+    await supervisor.locator('[data-test="sign-password"] input').fill('not-my-password')
+    await supervisor.locator('[data-test="sign-confirm"]').click()
+    await poll(() => text(supervisor, 'sign-error')).toContain('password')
+    await supervisor.locator('[data-test="sign-password"] input').fill(PW)
+    await supervisor.locator('[data-test="sign-confirm"]').click()
+    await supervisor.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
+    await poll(() => text(supervisor, `bypass-status-${id}`)).toBe('Authorized')
+    expect(await text(supervisor, 'signature-authorized')).toContain('Hedda Marlowe')
+
+    // The operator puts it in force.
+    await operator.reload()
+    await operator.locator('[data-test="bypass-activate"]').click()
+    await operator.locator('[data-test="activate-confirm"]').click()
+    await poll(() => text(operator, `bypass-status-${id}`)).toBe('Active')
+    await operator.locator('[data-test="bypass-active-alert"]').waitFor()
+
+    // The register shows the limit as bypassed, and so does the limit's page.
+    await operator.goto(`${app.baseUrl}/register?q=${tag}`)
+    await operator.locator(`[data-test="row-${tag}"] [data-test="protection-bypassed"]`).waitFor()
+    expect(await operator.locator(`[data-test="row-${tag}"] [data-test="protection-bypassed"]`).textContent()).toContain('Bypassed')
+    await operator.goto(`${app.baseUrl}/register/limits/${limitId}`)
+    await operator.locator('[data-test="limit-bypass-active"]').waitFor()
+
+    // Past the planned end (12:00 local = 10:00 UTC) it stays active and becomes overdue; sessions ended on the idle clock.
+    app.clock.set('2026-05-04T10:45:00Z')
+    await signInAs(operator, app.baseUrl, 'operator')
+    await operator.goto(`${app.baseUrl}/bypasses/${id}`)
+    await poll(() => text(operator, `bypass-status-${id}`)).toMatch(/^Overdue by 4\d min$/)
+    await operator.locator('[data-test="bypass-overdue-alert"]').waitFor()
+    await operator.locator('[data-test="nav-bypasses"]').click()
+    await operator.locator('[data-test="overdue-banner"]').waitFor()
+    await operator.locator(`[data-test="bypass-row-${id}"].bypass-row--overdue`).waitFor()
+    await operator.locator('[data-test="nav-home"]').click()
+    await poll(() => text(operator, 'home-overdue-FHR')).toContain('1')
+
+    // The plant manager opens the review: the bypass in the table, the overdue KPI, the charts drawn.
+    const manager = await pageFor('manager')
+    await manager.locator('[data-test="nav-bypass-review"]').click()
+    await manager.waitForURL(`${app.baseUrl}/bypasses/review`)
+    await manager.locator('[data-test="review-table"]').waitFor()
+    await manager.locator(`[data-test="review-row-${id}"]`).waitFor()
+    expect(await manager.locator(`[data-test="review-row-${id}"]`).textContent()).toContain('TSHH-5201')
+    await poll(() => text(manager, `review-overdue-${id}`)).toMatch(/^4\d min$/)
+    await poll(() => manager.locator('[data-test="kpi-overdue-now"] [data-test="kpi-value"]').textContent().then((t) => t?.trim())).toBe('1')
+    expect((await manager.locator('[data-test="kpi-active-now"] [data-test="kpi-value"]').textContent())?.trim()).toBe('1')
+    for (const chart of ['chart-hours-per-month', 'chart-top-limits', 'chart-overdue-per-month', 'chart-share-past-end']) {
+      await poll(() => manager.locator(`[data-test="${chart}"] canvas, [data-test="${chart}"] svg`).count()).toBeGreaterThan(0)
+    }
+    const exportCsv = await manager.locator('[data-test="export-csv"]').getAttribute('href')
+    const csv = await (await manager.request.get(`${app.baseUrl}${exportCsv}`)).text()
+    expect(csv).toContain('TSHH-5201')
+
+    for (const p of [engineer, approver, technician, operator, supervisor, manager]) await p.context().close()
+  })
+})

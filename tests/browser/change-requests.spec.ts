@@ -1,0 +1,143 @@
+import type { Page } from 'playwright-core'
+import { describe, expect, it } from 'vitest'
+import { signInAs, useBrowserApp } from './helpers.ts'
+
+const app = useBrowserApp()
+const PW = 'limitkeeper-demo'
+
+/** Calls the API from a signed-in page, with the session's cookie and CSRF token (what the app itself does). */
+async function call<T = any>(page: Page, method: string, path: string, body?: unknown): Promise<T> {
+  const session = await (await page.request.get(`${app.baseUrl}/api/session`)).json() as { csrfToken: string }
+  const res = await page.request.fetch(`${app.baseUrl}/api${path}`, { method, data: body, headers: { 'X-CSRF-Token': session.csrfToken } })
+  const json = await res.json().catch(() => undefined)
+  if (!res.ok()) throw new Error(`${method} ${path} answered ${res.status()}: ${JSON.stringify(json)}`)
+  return json as T
+}
+
+/** A signed-in page in a browser context of its own (no cookies shared between users). */
+async function pageFor(who: string): Promise<Page> {
+  const context = await app.browser.newContext({ viewport: { width: 1440, height: 1000 } })
+  const page = await context.newPage()
+  page.setDefaultTimeout(15_000)
+  await signInAs(page, app.baseUrl, who)
+  return page
+}
+
+/** A process, a type K thermocouple (0–1200 °C, normal 300–650) and a high trip at 780 °C, put in service through a first change. */
+async function heaterTripInService(engineer: Page, approver: Page, technician: Page) {
+  const site = (await call<{ items: { id: number, code: string }[] }>(engineer, 'GET', '/sites')).items.find((s) => s.code === 'FHR')!
+  const area = (await call<{ items: { id: number }[] }>(engineer, 'GET', `/areas?siteId=${site.id}`)).items[0]
+  const proc = await call(engineer, 'POST', '/processes', { areaId: area.id, name: 'Heater H-410', description: 'fired heater, crude charge' })
+  const inst = await call(engineer, 'POST', '/instruments', {
+    processId: proc.id, tag: 'TT-4101', measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650,
+    designLow: null, designHigh: 900, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
+  })
+  const limit = await call(engineer, 'POST', '/limits', {
+    processId: proc.id, instrumentIds: [inst.id], tag: 'TSHH-4101', direction: 'high', limitClass: 'trip', setpoint: 780, deadband: 5,
+    severity: 'severe', testIntervalMonths: 12, latching: true, resetRole: 'operator', compensatingMeasures: ['Operator watches the local indicator every 15 min'],
+    maxBypassHours: 8, bypassPermitted: true,
+  })
+  const baseline = await call(engineer, 'POST', '/change-requests', {
+    siteId: site.id, type: 'permanent', title: 'Put TSHH-4101 in service', rationale: 'Hazard study action 7', items: [{ kind: 'create', limitId: limit.id }],
+  })
+  await call(engineer, 'POST', `/change-requests/${baseline.id}/submission`)
+  await call(approver, 'POST', `/change-requests/${baseline.id}/approvals`, { password: PW })
+  const done = await call(technician, 'POST', `/change-requests/${baseline.id}/implementations`, {
+    itemId: baseline.items[0].id, password: PW, readBack: { setpoint: 780, deadband: 5, deadbandUnit: 'eu', onDelaySec: 0, offDelaySec: 0, latching: true },
+  })
+  expect(done.status).toBe('implemented')
+  expect((await call(engineer, 'GET', `/limits/${limit.id}`)).status).toBe('active')
+  return { limitId: limit.id as number }
+}
+
+const text = (page: Page, test: string) => page.locator(`[data-test="${test}"]`).first().textContent({ timeout: 1_000 }).catch(() => null)
+/** Waits for a condition of the page (no fixed sleeps). */
+const poll = <T>(fn: () => Promise<T>) => expect.poll(fn, { timeout: 15_000 })
+
+describe('management of change in the browser', () => {
+  it('engineer proposes a new setpoint, approver signs, technician implements with read-back, engineer closes; the register shows it', async () => {
+    const engineer = await pageFor('engineer')
+    const approver = await pageFor('approver')
+    const technician = await pageFor('technician')
+    const { limitId } = await heaterTripInService(engineer, approver, technician)
+
+    // The engineer proposes 790 °C from the limit and submits.
+    await engineer.goto(`${app.baseUrl}/changes/new?limitId=${limitId}`)
+    await poll(() => text(engineer, 'item-0-current-setpoint')).toContain('780 °C')
+    await engineer.locator('[data-test="change-title"] input').fill('Raise TSHH-4101 to 790 °C')
+    await engineer.locator('[data-test="change-rationale"] textarea').first().fill('New tube metallurgy allows a higher trip; see the hazard review.')
+    await engineer.locator('[data-test="change-hazard"] input').fill('HAZOP-2026-031 action 4')
+    await engineer.locator('[data-test="change-field-setpoint"] input').fill('790')
+    await engineer.locator('[data-test="change-save-submit"]').click()
+    await engineer.waitForURL(/\/changes\/\d+$/)
+    const id = Number(new URL(engineer.url()).pathname.split('/').pop())
+    await poll(() => text(engineer, 'cr-status')).toBe('Waiting for approval')
+    expect(await text(engineer, 'diff-setpoint')).toMatch(/780 °C.*790 °C/)
+    expect(await engineer.locator('[data-test="cr-approve"]').count()).toBe(0)
+
+    // The approver sees the counter, opens the request from the list and signs (a wrong password first).
+    await approver.goto(`${app.baseUrl}/`)
+    await poll(() => text(approver, 'waiting-count')).toBe('1')
+    await approver.locator('[data-test="nav-changes"]').click()
+    await approver.locator(`[data-test="change-row-${id}"]`).click()
+    await approver.waitForURL(`${app.baseUrl}/changes/${id}`)
+    await approver.locator('[data-test="safety-notice"]').waitFor()
+    await approver.locator('[data-test="cr-approve"]').click()
+    const dialog = approver.locator('[data-test="sign-dialog"]')
+    await dialog.waitFor()
+    expect(await text(approver, 'sign-meaning')).toContain('By signing you approve')
+    await approver.locator('[data-test="sign-password"] input').fill('not-my-password')
+    await approver.locator('[data-test="sign-confirm"]').click()
+    await poll(() => text(approver, 'sign-error')).toContain('password is wrong')
+    expect(await dialog.isVisible()).toBe(true)
+    await approver.locator('[data-test="sign-password"] input').fill(PW)
+    await approver.locator('[data-test="sign-confirm"]').click()
+    await dialog.waitFor({ state: 'hidden' })
+    await poll(() => text(approver, 'cr-status')).toBe('Approved')
+    await poll(() => approver.locator('[data-test="waiting-count"]').count()).toBe(0)
+
+    // The technician implements with the value read back from the device; a different value is refused.
+    await technician.goto(`${app.baseUrl}/changes/${id}`)
+    await technician.locator('[data-test="item-implement-0"]').click()
+    await technician.locator('[data-test="read-back-caution"]').waitFor()
+    expect(await text(technician, 'read-back-approved')).toBe('790 °C')
+    await technician.locator('[data-test="read-back-input-setpoint"] input').fill('789.5')
+    await technician.locator('[data-test="sign-password"] input').fill(PW)
+    await technician.locator('[data-test="sign-confirm"]').click()
+    await poll(() => text(technician, 'read-back-setpoint')).toContain('the approved value is 790')
+    await technician.locator('[data-test="read-back-input-setpoint"] input').fill('790')
+    await technician.locator('[data-test="sign-password"] input').fill(PW)
+    await technician.locator('[data-test="sign-confirm"]').click()
+    await technician.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
+    await poll(() => text(technician, 'cr-status')).toBe('Implemented')
+
+    // The engineer ticks the impact checklist and closes after the pre-start-up safety review.
+    await engineer.reload()
+    await poll(() => text(engineer, 'cr-status')).toBe('Implemented')
+    const boxes = engineer.locator('[data-test^="check-box-"] input')
+    const n = await boxes.count()
+    expect(n).toBe(6)
+    for (let i = 0; i < n; i++) {
+      await boxes.nth(i).click()
+      await poll(() => engineer.locator('[data-test^="check-by-"]').nth(i).textContent()).toContain('Ticked by Selma Rookwood')
+    }
+    await engineer.locator('[data-test="cr-close"]').click()
+    await engineer.locator('[data-test="pssr-reference"] input').fill('PSSR-2026-114')
+    await engineer.locator('[data-test="pssr-findings"] textarea').first().fill('Trip tested at 790 °C; no findings.')
+    await engineer.locator('[data-test="pssr-ready"] input').check()
+    await engineer.locator('[data-test="sign-password"] input').fill(PW)
+    await engineer.locator('[data-test="sign-confirm"]').click()
+    await engineer.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
+    await poll(() => text(engineer, 'cr-status')).toBe('Closed')
+    const meanings = await engineer.locator('[data-test^="signature-"]').evaluateAll((rows) => rows.map((r) => r.getAttribute('data-test')))
+    expect(meanings).toEqual(expect.arrayContaining(['signature-approved', 'signature-implemented', 'signature-closed']))
+    expect(await engineer.locator('[data-test="signature-mismatch"]').count()).toBe(0)
+
+    // The register holds the new setpoint.
+    const limit = await call(engineer, 'GET', `/limits/${limitId}`)
+    expect(limit.setpoint).toBe(790)
+    expect(limit.status).toBe('active')
+
+    for (const p of [engineer, approver, technician]) await p.context().close()
+  })
+})
