@@ -29,7 +29,8 @@ export function currentUser(deps: AppDeps): RequestHandler {
           return next(new AppError(401, ErrorCode.SESSION_EXPIRED, 'Your session has ended; sign in again'))
         }
       } else {
-        s.lastSeenAt = now
+        // written at most once a minute: an unchanged session is not saved again on every request
+        if (!s.lastSeenAt || now - s.lastSeenAt >= 60_000) s.lastSeenAt = now
         const roles = (await findRolesByUserIds(deps.db, [user.id])).get(user.id) ?? []
         req.user = { id: user.id, email: user.email, displayName: user.display_name, roles }
         req.audit.actorId = user.id

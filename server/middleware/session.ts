@@ -9,10 +9,12 @@ export function createSessionMiddleware(config: Config, pool: pg.Pool) {
   return session({
     name: 'limitkeeper.sid',
     secret: config.SESSION_SECRET,
-    store: new PgStore({ pool, tableName: 'session', createTableIfMissing: false, pruneSessionInterval: config.NODE_ENV === 'test' ? false : 600 }),
+    store: new PgStore({ pool, tableName: 'session', createTableIfMissing: false, disableTouch: true, pruneSessionInterval: config.NODE_ENV === 'test' ? false : 600 }),
     resave: false,
     saveUninitialized: false,
-    rolling: true,
+    // the cookie is renewed when the session is saved (lastSeenAt moves at most once a minute); the idle and absolute
+    // lifetimes themselves are enforced on the server's clock (middleware/current-user.ts)
+    rolling: false,
     proxy: config.trustProxy !== false,
     cookie: {
       httpOnly: true,

@@ -78,23 +78,36 @@ function selectListColumns(q: Base) {
   ])
 }
 
+const NULLABLE_SORT = new Set<LimitSortField>(['sil', 'priority', 'testDueDate'])
+
 /**
  * One page of the register. Sorting always ends on id so pages are stable; `offset` for page numbers, or `after`
  * (the sort values and id of the last row seen) for keyset paging that stays fast deep into 100,000 rows.
+ * The page's ids are chosen on limit_function alone (an index can give the order and the sort stays bounded), then
+ * joined with names, the primary instrument and the voted instruments.
  */
-export async function listLimits(db: Q, f: LimitFilters, sort: { field: LimitSortField, desc: boolean }[], page: { limit: number, offset?: number, after?: { values: unknown[], id: number } }): Promise<LimitListRow[]> {
-  let q = applyFilters(selectListColumns(baseQuery(db)), f)
+export async function listLimits(db: Q, f: LimitFilters, sort: { field: LimitSortField, desc: boolean }[], page: { limit: number, offset?: number, after?: { values: unknown[], id: number } }): Promise<(LimitListRow & { instrument_ids: number[] })[]> {
   const order = sort.length ? sort : [{ field: 'tag' as const, desc: false }]
+  const orderBy = <T extends SelectQueryBuilder<any, any, any>>(q: T): T => {
+    let r = q
+    // NULLS LAST only where a column can be empty: on NOT NULL columns it would keep a plain index from giving the order
+    for (const s of order) {
+      r = r.orderBy(sql.ref(LIMIT_SORT_COLUMNS[s.field]), (ob) => (NULLABLE_SORT.has(s.field) ? (s.desc ? ob.desc().nullsLast() : ob.asc().nullsLast()) : (s.desc ? ob.desc() : ob.asc()))) as T
+    }
+    return r.orderBy('limit_function.id', order[order.length - 1].desc ? 'desc' : 'asc') as T
+  }
+  let ids = applyFilters(db.selectFrom('limit_function').select('limit_function.id'), f)
   if (page.after && order.length === 1) {
     const col = LIMIT_SORT_COLUMNS[order[0].field]
     const op = order[0].desc ? '<' : '>'
-    const v = page.after.values[0]
-    q = q.where(sql<boolean>`(${sql.ref(col)}, limit_function.id) ${sql.raw(op)} (${v}, ${page.after.id})`)
+    ids = ids.where(sql<boolean>`(${sql.ref(col)}, limit_function.id) ${sql.raw(op)} (${page.after.values[0]}, ${page.after.id})`)
   }
-  for (const s of order) q = q.orderBy(sql.ref(LIMIT_SORT_COLUMNS[s.field]), (ob) => (s.desc ? ob.desc().nullsLast() : ob.asc().nullsLast()))
-  q = q.orderBy('limit_function.id', order[order.length - 1].desc ? 'desc' : 'asc').limit(page.limit)
-  if (page.offset) q = q.offset(page.offset)
-  return (await q.execute()) as LimitListRow[]
+  ids = orderBy(ids).limit(page.limit)
+  if (page.offset) ids = ids.offset(page.offset)
+  const q = orderBy(selectListColumns(baseQuery(db)).select((eb) => eb.fn<number[]>('array', [
+    eb.selectFrom('limit_instrument').select('limit_instrument.instrument_id').whereRef('limit_instrument.limit_id', '=', 'limit_function.id').orderBy('limit_instrument.position'),
+  ]).as('instrument_ids')).where('limit_function.id', 'in', ids))
+  return (await q.execute()) as (LimitListRow & { instrument_ids: number[] })[]
 }
 
 /** Counts matching rows, stopping at `cap` (the count of a huge filtered set is shown as "cap+"). */

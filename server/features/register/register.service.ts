@@ -56,8 +56,7 @@ export async function listRegister(deps: AppDeps, user: CurrentUser | null, q: L
     repo.listLimits(deps.db, f, sort, { limit: q.pageSize, offset: after ? undefined : (q.page - 1) * q.pageSize, after }),
     repo.countLimits(deps.db, f, COUNT_CAP),
   ])
-  const ids = await repo.findInstrumentIdsByLimitIds(deps.db, rows.map((r) => r.id))
-  const items = rows.map((r) => toLimit(r, ids.get(r.id) ?? []))
+  const items = rows.map((r) => toLimit(r, r.instrument_ids))
   // keyset paging needs a sort column without nulls
   const single = sort.length <= 1 && !['sil', 'priority', 'testDueDate'].includes(sort[0]?.field ?? 'tag') ? (sort[0]?.field ?? 'tag') : null
   const last = items[items.length - 1]
@@ -73,7 +72,7 @@ const str = (v: unknown) => (v === null || v === undefined ? '' : String(v))
 export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q: LimitQuery, format: 'csv' | 'xlsx') {
   const f = filtersOf(user, q)
   const rows = await repo.listLimits(deps.db, f, [{ field: 'tag', desc: false }], { limit: 100_000 })
-  const ids = await repo.findInstrumentIdsByLimitIds(deps.db, rows.map((r) => r.id))
+  const ids = new Map(rows.map((r) => [r.id, r.instrument_ids]))
   const instrumentIds = [...new Set([...ids.values()].flat())]
   const instruments = new Map<number, ReturnType<typeof toInstrument>>()
   for (let i = 0; i < instrumentIds.length; i += 5000) {

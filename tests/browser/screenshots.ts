@@ -1,0 +1,86 @@
+// npm run docs:screenshots — screenshots of the main screens for docs/screenshots/, made against a throwaway cluster
+// with the demo plant. Not part of npm test.
+import { execFile } from 'node:child_process'
+import { mkdir, mkdtemp, rm } from 'node:fs/promises'
+import net from 'node:net'
+import os from 'node:os'
+import path from 'node:path'
+import { promisify } from 'node:util'
+import type { Browser, Page } from 'playwright-core'
+import { loadConfig } from '../../server/config.ts'
+import { createDb } from '../../server/db/index.ts'
+import { migrateToLatest } from '../../server/db/migrate.ts'
+import { startServer } from '../../server/index.ts'
+import { seedDemo } from '../../server/seed/demo.ts'
+import { launchChromium } from './helpers.ts'
+
+const run = promisify(execFile)
+const OUT = 'docs/screenshots'
+
+function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const s = net.createServer()
+    s.once('error', reject)
+    s.listen(0, '127.0.0.1', () => { const { port } = s.address() as net.AddressInfo; s.close(() => resolve(port)) })
+  })
+}
+
+async function signIn(browser: Browser, baseUrl: string, who: string, viewport = { width: 1440, height: 900 }): Promise<Page> {
+  const page = await browser.newPage({ viewport })
+  await page.goto(`${baseUrl}/sign-in`)
+  await page.getByLabel('E-mail address').fill(`${who}@fernhollow.example`)
+  await page.getByLabel('Password').fill('limitkeeper-demo')
+  await page.locator('[data-test="sign-in"]').click()
+  await page.locator('[data-test="user-name"]').waitFor()
+  return page
+}
+
+async function shot(page: Page, url: string, name: string, waitFor?: string) {
+  await page.goto(url)
+  if (waitFor) await page.locator(waitFor).first().waitFor({ timeout: 15_000 }).catch(() => console.warn(`  ${name}: ${waitFor} did not appear`))
+  await page.waitForLoadState('networkidle')
+  await page.mouse.move(0, 0)
+  await page.waitForTimeout(600) // let ripples and chart animations settle for a clean picture
+  await page.screenshot({ path: path.join(OUT, `${name}.png`) })
+  console.log(`  ${OUT}/${name}.png`)
+}
+
+const dir = await mkdtemp(path.join(os.tmpdir(), 'limitkeeper-shots-'))
+await run('chmod', ['755', dir])
+const env = { ...process.env, PG_DIR: path.join(dir, 'pg'), PGPORT: String(await freePort()), PG_FAST: '1' }
+let stop = async () => {}
+try {
+  const { stdout } = await run('bash', ['server/db/pg.sh', 'start'], { env })
+  const vars = Object.fromEntries(stdout.trim().split('\n').map((l) => l.split(/=(.*)/s).slice(0, 2)))
+  await migrateToLatest(vars.MIGRATION_DATABASE_URL)
+  const owner = createDb(vars.MIGRATION_DATABASE_URL, 2).db
+  await seedDemo(owner)
+  await owner.destroy()
+  const server = await startServer(loadConfig({ ...process.env, NODE_ENV: 'development', DATABASE_URL: vars.DATABASE_URL, PORT: '0', SMTP_PORT: '1' }), { runJobs: false })
+  const browser = await launchChromium()
+  stop = async () => { await browser.close(); await server.close() }
+  await mkdir(OUT, { recursive: true })
+  const base = server.url
+  console.log('Screenshots:')
+  await shot(await browser.newPage(), `${base}/sign-in`, 'sign-in', '[data-test="sign-in"]')
+  const eng = await signIn(browser, base, 'engineer')
+  await shot(eng, `${base}/`, 'home-engineer')
+  await shot(eng, `${base}/register`, 'register', '[data-test="register-table"]')
+  const first = await eng.request.get(`${base}/api/limits?sort=tag&pageSize=50&hasWarnings=true`)
+  const limit = ((await first.json()) as { items: { id: number }[] }).items[0]
+  if (limit) await shot(eng, `${base}/register/limits/${limit.id}`, 'limit-detail', '[data-test="window-chart"]')
+  await shot(eng, `${base}/changes`, 'changes')
+  const tech = await signIn(browser, base, 'technician', { width: 1024, height: 768 })
+  await shot(tech, `${base}/tests`, 'trip-test-schedule-tablet')
+  const mgr = await signIn(browser, base, 'manager')
+  await shot(mgr, `${base}/bypasses/review`, 'bypass-review')
+  await shot(mgr, `${base}/bypasses/risk`, 'risk-erosion')
+  const auditor = await signIn(browser, base, 'auditor')
+  await shot(auditor, `${base}/audit`, 'audit-trail', '[data-test="audit-table"]')
+  const admin = await signIn(browser, base, 'admin')
+  await shot(admin, `${base}/admin/users`, 'admin-users')
+} finally {
+  await stop()
+  await run('bash', ['server/db/pg.sh', 'stop'], { env }).catch(() => {})
+  await rm(dir, { recursive: true, force: true })
+}
