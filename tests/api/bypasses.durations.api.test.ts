@@ -45,10 +45,13 @@ async function approvedChange(siteCode: string, type: 'temporary' | 'permanent',
   return cr.id as number
 }
 
-const at = (h: number) => new Date(ctx.clock.now().getTime() + h * HOUR).toISOString()
-const ask = (who: Who, limitId: number, hours: number, extra: Record<string, unknown> = {}) => as[who].post('/api/bypasses', {
-  limitId, reason: 'Analyser change-out', plannedStart: at(0.1), plannedEnd: at(0.1 + hours), predefinedMeasuresConfirmed: true, ...extra,
-})
+/** Requests a bypass from the next whole minute for exactly `hours` (one reading of the clock, so the duration is exact). */
+const ask = (who: Who, limitId: number, hours: number, extra: Record<string, unknown> = {}) => {
+  const start = Math.ceil(ctx.clock.now().getTime() / 60_000) * 60_000 + 60_000
+  return as[who].post('/api/bypasses', {
+    limitId, reason: 'Analyser change-out', plannedStart: new Date(start).toISOString(), plannedEnd: new Date(start + hours * HOUR).toISOString(), predefinedMeasuresConfirmed: true, ...extra,
+  })
+}
 
 async function written() {
   const n = async (t: 'bypass' | 'signature' | 'mail_outbox') => Number((await ctx.db.selectFrom(t).select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
@@ -78,7 +81,7 @@ describe('bypass: an authorization not activated in time lapses (DOMAIN.md §6 d
 
     // 3 h 59 min after the authorization: still valid, the job leaves both alone
     ctx.clock.set(new Date(authorizedAt + 4 * HOUR - 60_000))
-    await signInAll()
+    as.operator = await signedIn(app, 'operator')
     expect(await job.runDue(ctx.clock.now())).toMatchObject({ lapsed: 0 })
     expect((await as.operator.post(`/api/bypasses/${early.id}/activation`).expect(200)).body.status).toBe('active')
     expect((await as.operator.get(`/api/bypasses/${late.id}`).expect(200)).body.status).toBe('authorized')

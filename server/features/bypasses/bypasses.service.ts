@@ -121,9 +121,12 @@ export async function requestBypass(deps: AppDeps, ability: AppAbility, ctx: Aud
     throw validationFailed({ changeRequestId: [`Beyond ${policy.bypassMaxHoursManager} h a temporary change request is required`] }, 'This bypass needs a temporary change request')
   }
   if (input.changeRequestId) {
-    const cr = await deps.db.selectFrom('change_request').select(['type', 'status', 'site_id']).where('id', '=', input.changeRequestId).executeTakeFirst()
+    const cr = await deps.db.selectFrom('change_request').select(['type', 'status', 'site_id', 'expires_at']).where('id', '=', input.changeRequestId).executeTakeFirst()
     if (!cr || cr.site_id !== l.site_id || cr.type !== 'temporary' || !['approved', 'implemented', 'closed'].includes(cr.status)) {
       throw validationFailed({ changeRequestId: ['Link an approved temporary change request of this site'] })
+    }
+    if (cr.expires_at && cr.expires_at.getTime() < end.getTime()) {
+      throw validationFailed({ plannedEnd: [`The linked temporary change expires at ${cr.expires_at.toISOString()}, before the planned end`] })
     }
   }
   const id = await deps.db.transaction().execute(async (trx) => {
