@@ -12,6 +12,8 @@ import { createDb } from './db/index.ts'
 import { migrateToLatest } from './db/migrate.ts'
 import { startFakeSmtp } from './dev/fake-smtp.ts'
 import { startServer } from './index.ts'
+import { systemClock } from './clock.ts'
+import { seedDemoActivity } from './seed/demo-activity.ts'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD, seedDemo } from './seed/demo.ts'
 
 const run = promisify(execFile)
@@ -99,7 +101,10 @@ async function main() {
   if (config.NODE_ENV !== 'production' && migrationUrl && (localDb || process.env.SEED_DEMO === '1')) {
     const { db } = createDb(migrationUrl, 2)
     try {
-      if (await seedDemo(db)) console.log('Demo plant seeded.')
+      if (await seedDemo(db)) {
+        await seedDemoActivity(db, config, systemClock)
+        console.log('Demo plant seeded.')
+      }
     } finally {
       await db.destroy()
     }

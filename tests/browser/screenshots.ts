@@ -11,6 +11,8 @@ import { loadConfig } from '../../server/config.ts'
 import { createDb } from '../../server/db/index.ts'
 import { migrateToLatest } from '../../server/db/migrate.ts'
 import { startServer } from '../../server/index.ts'
+import { systemClock } from '../../server/clock.ts'
+import { seedDemoActivity } from '../../server/seed/demo-activity.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
 import { launchChromium } from './helpers.ts'
 
@@ -54,9 +56,11 @@ try {
   const vars = Object.fromEntries(stdout.trim().split('\n').map((l) => l.split(/=(.*)/s).slice(0, 2)))
   await migrateToLatest(vars.MIGRATION_DATABASE_URL)
   const owner = createDb(vars.MIGRATION_DATABASE_URL, 2).db
+  const config = loadConfig({ ...process.env, NODE_ENV: 'development', DATABASE_URL: vars.DATABASE_URL, PORT: '0', SMTP_PORT: '1' })
   await seedDemo(owner)
+  await seedDemoActivity(owner, config, systemClock)
   await owner.destroy()
-  const server = await startServer(loadConfig({ ...process.env, NODE_ENV: 'development', DATABASE_URL: vars.DATABASE_URL, PORT: '0', SMTP_PORT: '1' }), { runJobs: false })
+  const server = await startServer(config, { runJobs: false })
   const browser = await launchChromium()
   stop = async () => { await browser.close(); await server.close() }
   await mkdir(OUT, { recursive: true })
