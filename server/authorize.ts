@@ -22,3 +22,8 @@ export function scopeSites(user: { roles: { siteId: number }[] } | null, request
   const mine = userSiteIds(user)
   return requested?.length ? requested.filter((s) => mine.includes(s)) : mine
 }
+
+/** Escapes the LIKE wildcards of user text, so a search for "10%" finds "10%" (PostgreSQL's default escape is a backslash). */
+export function likeEscape(text: string): string {
+  return text.replace(/[\\%_]/g, (c) => `\\${c}`)
+}

@@ -1,4 +1,4 @@
-// Judging a trip test (DOMAIN.md §3 TripTest, §4 degraded state). Rules and their sources: docs/domain/trip-tests.md.
+// Judging a trip test (DOMAIN.md §3 TripTest, §4 degraded state). Rules and their sources: docs/trip-tests.md.
 
 /** As-found result of a trip test. */
 export type AsFoundResult = 'in_tolerance' | 'out_safe' | 'out_dangerous' | 'no_trip'

@@ -5,6 +5,8 @@ let onUnauthenticated: (() => void) | null = null
 
 /** The session store hands the CSRF token over after each session fetch or sign-in. */
 export function setCsrfToken(token: string) { csrfToken = token }
+/** The session's CSRF token, for the few requests that do not go through `api()` (uploads with progress). */
+export function getCsrfToken() { return csrfToken }
 export function setUnauthenticatedHandler(fn: () => void) { onUnauthenticated = fn }
 
 type Query = Record<string, string | number | boolean | null | undefined | (string | number)[]>

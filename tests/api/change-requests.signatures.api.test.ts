@@ -144,10 +144,11 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
       siteId: site.id, type: 'permanent', title: 'Raise heater trip to 795', rationale: 'Coking margin', hazardReference: 'HAZOP-2026-11',
       items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 795 } }],
     }).expect(201)).body
-    // the hash covers exactly the type, texts and items of the request (SHA-256 of canonical JSON)
+    // the hash covers exactly the type, texts, items and attachments of the request (SHA-256 of canonical JSON)
     expect(cr.contentHash).toBe(contentHash({
       type: 'permanent', title: 'Raise heater trip to 795', rationale: 'Coking margin', hazardReference: 'HAZOP-2026-11', expiresAt: null,
       items: [{ kind: 'modify', limitId: limit.id, instrumentId: null, changes: { setpoint: { from: 780, to: 795 } } }],
+      attachments: [],
     }))
     await eng.post(`/api/change-requests/${cr.id}/submission`).expect(200)
     const t0 = ctx.clock.now().getTime()

@@ -1,6 +1,6 @@
 import { existsSync } from 'node:fs'
 import { type Browser, chromium, type Page } from 'playwright-core'
-import { afterAll, beforeAll } from 'vitest'
+import { afterAll, beforeAll, expect } from 'vitest'
 import { loadConfig } from '../../server/config.ts'
 import { createDb } from '../../server/db/index.ts'
 import { startServer, type RunningServer } from '../../server/index.ts'
@@ -52,8 +52,14 @@ export function useBrowserApp(opts: { seed?: (ownerUrl: string) => Promise<void>
 /** Signs in through the sign-in page and waits for the home page. */
 export async function signInAs(page: Page, baseUrl: string, who: string) {
   await page.goto(`${baseUrl}/sign-in`)
-  await page.getByLabel('E-mail address').fill(`${who}@fernhollow.example`)
-  await page.getByLabel('Password').fill('limitkeeper-demo')
+  const email = page.getByLabel('E-mail address')
+  const password = page.getByLabel('Password')
+  await page.locator('[data-test="sign-in"]').waitFor()
+  await email.fill(`${who}@fernhollow.example`)
+  await password.fill('limitkeeper-demo')
+  // the form must show what was typed before it is sent
+  await expect.poll(() => email.inputValue()).toBe(`${who}@fernhollow.example`)
+  await expect.poll(() => password.inputValue()).toBe('limitkeeper-demo')
   await page.locator('[data-test="sign-in"]').click()
   await page.locator('[data-test="user-name"]').waitFor()
 }

@@ -1,7 +1,7 @@
 import { Router } from 'express'
 import { z } from 'zod'
 import { IdSchema, ListQuerySchema } from '../../../shared/schemas/common.ts'
-import { authorize } from '../../authorize.ts'
+import { authorize, likeEscape } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 
 const AuditQuerySchema = ListQuerySchema.extend({
@@ -27,7 +27,7 @@ export function createAuditRouter(deps: AppDeps) {
     if (q.action) base = base.where('audit_event.action', 'like', `${q.action}%`)
     if (q.from) base = base.where('audit_event.occurred_at', '>=', new Date(q.from))
     if (q.to) base = base.where('audit_event.occurred_at', '<', new Date(q.to))
-    if (q.q) base = base.where((eb) => eb.or([eb('audit_event.action', 'ilike', `%${q.q}%`), eb('app_user.display_name', 'ilike', `%${q.q}%`)]))
+    if (q.q) base = base.where((eb) => eb.or([eb('audit_event.action', 'ilike', `%${likeEscape(q.q!)}%`), eb('app_user.display_name', 'ilike', `%${likeEscape(q.q!)}%`)]))
     const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
     let page = base.selectAll('audit_event').select('app_user.display_name as actorName').orderBy('audit_event.id', 'desc').limit(q.pageSize)
     page = q.cursor ? page.where('audit_event.id', '<', q.cursor) : page.offset((q.page - 1) * q.pageSize)

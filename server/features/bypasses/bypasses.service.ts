@@ -285,7 +285,8 @@ export async function listBypasses(deps: AppDeps, q: BypassListQuery) {
     base = q.overdue ? base.where('bypass.status', '=', 'active').where('bypass.planned_end', '<', now)
       : base.where((eb) => eb.or([eb('bypass.status', '!=', 'active'), eb('bypass.planned_end', '>=', now)]))
   }
-  if (q.from) base = base.where((eb) => eb.or([eb('bypass.removed_at', '>=', q.from!), eb('bypass.removed_at', 'is', null)])).where('bypass.planned_start', '<', q.to ?? new Date(8.64e15))
+  if (q.from) base = base.where((eb) => eb.or([eb('bypass.removed_at', '>=', q.from!), eb('bypass.removed_at', 'is', null)]))
+  if (q.to) base = base.where('bypass.planned_start', '<', q.to)
   const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
   const ids = (await base.select('bypass.id').orderBy('bypass.created_at', 'desc').orderBy('bypass.id', 'desc').limit(q.pageSize).offset((q.page - 1) * q.pageSize).execute()).map((r) => r.id)
   return { total, items: await loadBypasses(deps, ids) }

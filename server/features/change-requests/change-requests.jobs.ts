@@ -53,7 +53,10 @@ export function createChangeRequestJob(db: Db, config: Config, clock: Clock): Du
         })
       }
       const approved = await db.selectFrom('change_request').innerJoin('site', 'site.id', 'change_request.site_id').innerJoin('app_user', 'app_user.id', 'change_request.proposer_id')
-        .select(['change_request.id', 'change_request.title', 'change_request.approved_at', 'site.policy', 'app_user.email']).where('change_request.status', '=', 'approved').execute()
+        .select(['change_request.id', 'change_request.title', 'change_request.approved_at', 'site.policy', 'app_user.email']).where('change_request.status', '=', 'approved')
+        // a request with items already on the device stays approved: its remaining items must still be implemented (or reversed by a new change)
+        .where((eb) => eb.not(eb.exists(eb.selectFrom('change_request_item').select('change_request_item.id').whereRef('change_request_item.change_request_id', '=', 'change_request.id').where('change_request_item.implemented_at', 'is not', null))))
+        .execute()
       for (const cr of approved) {
         const days = policyOf(cr).approvalExpiryDays
         if (!cr.approved_at || now.getTime() <= cr.approved_at.getTime() + days * 24 * HOUR) continue

@@ -6,12 +6,11 @@ import {
   RejectInputSchema, SignInputSchema, UpdateChangeRequestInputSchema,
 } from '../../../shared/schemas/change-requests.ts'
 import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
-import { authorize, scopeSites } from '../../authorize.ts'
-import { AppError, invalidState, validationFailed } from '../../errors.ts'
+import { scopeSites } from '../../authorize.ts'
+import { AppError, validationFailed } from '../../errors.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import type { AppDeps } from '../../deps.ts'
-import { appendAudit } from '../audit/audit.repository.ts'
-import { MAX_ATTACHMENT_BYTES, attachmentUpload, readAttachment, storeAttachment } from '../attachments/attachments.ts'
+import { MAX_ATTACHMENT_BYTES, attachmentUpload, readAttachment } from '../attachments/attachments.ts'
 import { changeRequestPdf } from './change-requests.pdf.ts'
 import * as service from './change-requests.service.ts'
 
@@ -80,15 +79,7 @@ export function createChangeRequestsRouter(deps: AppDeps) {
     res.json(await service.tickChecklist(deps, req.ability, req.audit, id(req.params.id), item as never, b.done, b.note))
   })
   router.post('/:id/attachments', receiveAttachment, async (req, res) => {
-    const crId = id(req.params.id)
-    const cr = await service.getChangeRequest(deps, req.ability, crId)
-    authorize(req.ability, 'update', 'ChangeRequest', { siteId: cr.siteId })
-    if (['closed', 'withdrawn', 'rejected'].includes(cr.status)) throw invalidState(`A ${cr.status} change request takes no more attachments`)
-    const att = await deps.db.transaction().execute(async (trx) => {
-      const a = await storeAttachment(trx, deps.clock, req.file, { entityType: 'ChangeRequest', entityId: crId, userId: req.user!.id })
-      await appendAudit(trx, deps.clock, req.audit, { action: 'change_request.attach', entityType: 'ChangeRequest', entityId: crId, after: { attachmentId: a.id, fileName: a.file_name, contentType: a.content_type, sizeBytes: a.size_bytes, sha256: a.sha256 } })
-      return a
-    })
+    const att = await service.attachToChangeRequest(deps, req.ability, req.audit, id(req.params.id), req.file)
     res.status(201).json({ id: att.id, fileName: att.file_name, contentType: att.content_type, sizeBytes: att.size_bytes })
   })
   router.get('/:id/attachments/:attachmentId', async (req, res) => {

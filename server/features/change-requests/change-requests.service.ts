@@ -1,3 +1,4 @@
+import canonicalize from 'canonicalize'
 import { sql, type Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
@@ -7,12 +8,12 @@ import {
 } from '../../../shared/schemas/change-requests.ts'
 import { CreateLimitInputSchema, UpdateInstrumentInputSchema, UpdateLimitInputSchema } from '../../../shared/schemas/register.ts'
 import { parsePatch, safeParsePatch } from '../../../shared/schemas/common.ts'
-import { allows, authorize } from '../../authorize.ts'
+import { allows, authorize, likeEscape } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
 import { AppError, conflict, forbidden, invalidState, notFound, validationFailed } from '../../errors.ts'
-import { listAttachments } from '../attachments/attachments.ts'
+import { listAttachments, storeAttachment } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { applyInstrumentDefinition, lockInstrument } from '../register/instruments.service.ts'
@@ -30,10 +31,11 @@ const ENTITY = 'ChangeRequest'
 const DAY = 86_400_000
 
 /** What the signatures of a request cover: its type, texts and items (not its state or checklist). */
-function hashOf(cr: { type: string, title: string, rationale: string, hazard_reference: string, expires_at: Date | null }, items: { kind: string, limit_id: number | null, instrument_id: number | null, changes: unknown }[]) {
+function hashOf(cr: { type: string, title: string, rationale: string, hazard_reference: string, expires_at: Date | null }, items: { kind: string, limit_id: number | null, instrument_id: number | null, changes: unknown }[], attachments: { sha256: string }[]) {
   return contentHash({
     type: cr.type, title: cr.title, rationale: cr.rationale, hazardReference: cr.hazard_reference, expiresAt: cr.expires_at?.toISOString() ?? null,
     items: items.map((i) => ({ kind: i.kind, limitId: i.limit_id, instrumentId: i.instrument_id, changes: i.changes })),
+    attachments: attachments.map((a) => a.sha256),
   })
 }
 
@@ -43,7 +45,7 @@ function sameValue(a: unknown, b: unknown): boolean {
     const y = typeof b === 'string' && b.trim() !== '' ? Number(b) : b
     return typeof x === 'number' && typeof y === 'number' && x === y
   }
-  return JSON.stringify(a ?? null) === JSON.stringify(b ?? null)
+  return canonicalize(a ?? null) === canonicalize(b ?? null)
 }
 
 interface PreparedItem {
@@ -149,7 +151,7 @@ async function writeItems(deps: AppDeps, trx: Trx, crId: number, siteId: number,
 async function refreshHash(trx: Trx, crId: number) {
   const cr = await trx.selectFrom('change_request').selectAll().where('id', '=', crId).executeTakeFirstOrThrow()
   const items = await trx.selectFrom('change_request_item').select(['kind', 'limit_id', 'instrument_id', 'changes']).where('change_request_id', '=', crId).orderBy('position').execute()
-  const hash = hashOf(cr, items)
+  const hash = hashOf(cr, items, await listAttachments(trx, ENTITY, crId))
   await trx.updateTable('change_request').set({ content_hash: hash }).where('id', '=', crId).execute()
   return hash
 }
@@ -208,7 +210,7 @@ export async function getChangeRequest(deps: AppDeps, ability: AppAbility, id: n
   const approvals = sigs.filter((s) => s.meaning === 'approved' && !s.voided_at)
   const expiryDays = policyOf(site).approvalExpiryDays
   // what each signature should cover given the content now (recomputed, not the stored hash): a change after signing shows as a mismatch
-  const currentHash = hashOf(row, items)
+  const currentHash = hashOf(row, items, atts)
   const expectedHash = (s: { meaning: string, item_id: number | null, user_id: number }) => {
     if (s.meaning === 'closed') return contentHash({ request: currentHash, pssr: row.pssr })
     if (s.meaning === 'implemented' && s.item_id) return contentHash({ request: currentHash, itemId: s.item_id, readBack: items.find((i) => i.id === s.item_id)?.read_back ?? null })
@@ -264,7 +266,7 @@ export async function listChangeRequests(deps: AppDeps, user: { id: number, role
     .where('change_request.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
   if (q.status?.length) query = query.where('change_request.status', 'in', q.status)
   if (q.type?.length) query = query.where('change_request.type', 'in', q.type)
-  if (q.q) query = query.where('change_request.title', 'ilike', `%${q.q}%`)
+  if (q.q) query = query.where('change_request.title', 'ilike', `%${likeEscape(q.q)}%`)
   if (q.view === 'mine') query = query.where('change_request.proposer_id', '=', user.id)
   if (q.view === 'waiting') query = waitingFilter(query, user)
   const total = (await query.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
@@ -288,6 +290,7 @@ function waitingFilter<Q extends { where: (...a: any[]) => Q }>(query: Q, user: 
   const approveSites = user.roles.filter((r) => r.role === 'approver').map((r) => r.siteId)
   const implementSites = user.roles.filter((r) => r.role === 'technician').map((r) => r.siteId)
   const emergencySites = user.roles.filter((r) => r.role === 'shift_supervisor').map((r) => r.siteId)
+  const closeSites = user.roles.filter((r) => r.role === 'safety_engineer').map((r) => r.siteId)
   return query.where((eb: any) => eb.or([
     eb.and([
       eb('change_request.site_id', 'in', approveSites.length ? approveSites : [-1]),
@@ -300,6 +303,8 @@ function waitingFilter<Q extends { where: (...a: any[]) => Q }>(query: Q, user: 
     ]),
     eb.and([eb('change_request.site_id', 'in', implementSites.length ? implementSites : [-1]), eb('change_request.status', '=', 'approved')]),
     eb.and([eb('change_request.site_id', 'in', emergencySites.length ? emergencySites : [-1]), eb('change_request.status', '=', 'submitted'), eb('change_request.type', '=', 'emergency')]),
+    // implemented and approved: waiting for the engineer's pre-start-up safety review and closure
+    eb.and([eb('change_request.site_id', 'in', closeSites.length ? closeSites : [-1]), eb('change_request.status', '=', 'implemented'), eb('change_request.approved_at', 'is not', null)]),
   ]))
 }
 
@@ -603,3 +608,20 @@ export async function openBaselineChangeRequest(deps: AppDeps, ability: AppAbili
 
 export { ENTITY as CHANGE_REQUEST_ENTITY }
 export type { Clock }
+
+/**
+ * Attaches a file (PDF, PNG, JPEG, checked by content) while the request is a draft or submitted without approvals;
+ * the attachments are part of what the signatures cover, so the content hash is recomputed.
+ */
+export async function attachToChangeRequest(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number, file: Express.Multer.File | undefined) {
+  return deps.db.transaction().execute(async (trx) => {
+    const row = await loadRow(trx, id, true)
+    authorize(ability, 'update', 'ChangeRequest', { siteId: row.site_id })
+    const approvals = await trx.selectFrom('signature').select('id').where('entity_type', '=', ENTITY).where('entity_id', '=', id).where('voided_at', 'is', null).executeTakeFirst()
+    if (!['draft', 'submitted'].includes(row.status) || approvals) throw invalidState('Attach files before anyone signs the request: what is signed must not change afterwards')
+    const a = await storeAttachment(trx, deps.clock, file, { entityType: ENTITY, entityId: id, userId: ctx.actorId! })
+    const hash = await refreshHash(trx, id)
+    await appendAudit(trx, deps.clock, ctx, { action: 'change_request.attach', entityType: ENTITY, entityId: id, after: { attachmentId: a.id, fileName: a.file_name, contentType: a.content_type, sizeBytes: a.size_bytes, sha256: a.sha256, contentHash: hash } })
+    return a
+  })
+}

@@ -267,9 +267,11 @@ export async function signDegradationMeasures(deps: AppDeps, ability: AppAbility
 }
 
 export async function getDegradation(deps: AppDeps, ability: AppAbility, limitId: number) {
+  const limit = await deps.db.selectFrom('limit_function').select('site_id').where('id', '=', limitId).executeTakeFirst()
+  if (!limit) throw notFound('Limit')
+  authorize(ability, 'read', 'Limit', { siteId: limit.site_id })
   const rows = await deps.db.selectFrom('limit_degradation').leftJoin('app_user', 'app_user.id', 'limit_degradation.measures_signed_by').innerJoin('limit_function', 'limit_function.id', 'limit_degradation.limit_id')
     .selectAll('limit_degradation').select(['app_user.display_name', 'limit_function.site_id']).where('limit_id', '=', limitId).orderBy('opened_at', 'desc').execute()
-  if (rows[0]) authorize(ability, 'read', 'Limit', { siteId: rows[0].site_id })
   return {
     items: rows.map((r) => ({
       id: r.id, testId: r.test_id, openedAt: r.opened_at.toISOString(), reasons: r.reasons, compensatingMeasures: r.compensating_measures, repairDeadline: r.repair_deadline,

@@ -53,6 +53,16 @@ export function dateTimeIn(iso: string | null | undefined, timeZone: string | un
   }
 }
 
+/** A short date and time in a site's time zone, for dense tables: `1 Jun 2026, 01:15`. */
+export function shortDateTimeIn(iso: string | null | undefined, timeZone: string | undefined): string {
+  if (!iso) return '—'
+  try {
+    return new Intl.DateTimeFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric', hour: '2-digit', minute: '2-digit', timeZone: timeZone ?? 'UTC' }).format(new Date(iso))
+  } catch {
+    return iso
+  }
+}
+
 /** A calendar date (YYYY-MM-DD) as text. */
 export function dateText(d: string | null | undefined): string {
   if (!d) return '—'

@@ -8,6 +8,9 @@ export const CLASS_LABELS: Record<Limit['limitClass'], string> = { alarm: 'Alarm
 export const DIRECTION_LABELS: Record<Limit['direction'], string> = { high: 'High', low: 'Low' }
 export const STATUS_LABELS: Record<Limit['status'], string> = { proposed: 'Proposed (draft)', active: 'Active', retired: 'Retired' }
 export const PROTECTION_LABELS: Record<Limit['protectionState'], string> = { in_service: 'In service', bypassed: 'Bypassed', degraded: 'Degraded' }
+export const TEST_STATUS_LABELS: Record<Limit['testStatus'], string> = {
+  never_tested: 'Never tested', ok: 'OK', due_soon: 'Due soon', in_grace: 'In grace', overdue: 'Overdue',
+}
 export const SEVERITY_LABELS: Record<Limit['severity'], string> = { minor: 'Minor', moderate: 'Moderate', major: 'Major', severe: 'Severe' }
 export const PRIORITY_LABELS: Record<NonNullable<Limit['priority']>, string> = { low: 'Low', medium: 'Medium', high: 'High', critical: 'Critical' }
 export const VARIABLE_LABELS: Record<string, string> = {
@@ -22,6 +25,11 @@ export const SUBSYSTEM_ROLE_LABELS: Record<string, string> = { sensor: 'Sensor',
 export const CLASS_COLORS: Record<Limit['limitClass'], string> = { alarm: 'warning', trip: 'error' }
 export const CLASS_ICONS: Record<Limit['limitClass'], string> = { alarm: mdiBellRingOutline, trip: mdiAlertOctagonOutline }
 export const STATUS_COLORS: Record<Limit['status'], string> = { proposed: 'info', active: 'success', retired: 'secondary' }
+/** Test status chips: overdue solid in the error colour so it stands out in a long list. */
+export const TEST_STATUS_STYLE: Record<Limit['testStatus'], { color: string, variant: 'tonal' | 'flat' }> = {
+  never_tested: { color: 'secondary', variant: 'tonal' }, ok: { color: 'success', variant: 'tonal' }, due_soon: { color: 'info', variant: 'tonal' },
+  in_grace: { color: 'warning', variant: 'tonal' }, overdue: { color: 'error', variant: 'flat' },
+}
 export const PRIORITY_COLORS: Record<NonNullable<Limit['priority']>, string> = { low: 'secondary', medium: 'info', high: 'warning', critical: 'error' }
 export const PROTECTION_STYLE: Record<Limit['protectionState'], { color: string, variant: 'outlined' | 'flat', icon: string }> = {
   in_service: { color: 'success', variant: 'outlined', icon: mdiShieldCheckOutline },
@@ -67,6 +75,13 @@ export function returnPoint(l: { direction: 'high' | 'low', setpoint: number, de
   const db = deadbandEu(l.deadband, l.deadbandUnit, range)
   if (db === null) return null
   return Number((l.direction === 'high' ? l.setpoint - db : l.setpoint + db).toPrecision(12))
+}
+
+/** A calendar date 'YYYY-MM-DD' (a due date, already a site date) as '28 Feb 2026'. */
+export function calendarDate(d: string | null | undefined): string {
+  if (!d) return '—'
+  const [y, m, day] = d.slice(0, 10).split('-').map(Number)
+  return new Intl.DateTimeFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric', timeZone: 'UTC' }).format(new Date(Date.UTC(y, m - 1, day)))
 }
 
 /** The input signal in words. */

@@ -2,6 +2,7 @@ import type { RouteRecordRaw } from 'vue-router'
 
 export default [
   { path: '/register', name: 'register', component: () => import('./views/RegisterView.vue'), meta: { can: ['read', 'Limit'], title: 'Register' } },
+  { path: '/register/import', name: 'register-import', component: () => import('./views/RegisterImportView.vue'), meta: { can: ['import', 'Limit'], title: 'Import register' } },
   { path: '/register/limits/new', name: 'limit-new', component: () => import('./views/LimitFormView.vue'), meta: { can: ['create', 'Limit'], title: 'New limit' } },
   { path: '/register/limits/:id(\\d+)', name: 'limit-detail', component: () => import('./views/LimitDetailView.vue'), props: true, meta: { can: ['read', 'Limit'], title: 'Limit' } },
   { path: '/register/limits/:id(\\d+)/edit', name: 'limit-edit', component: () => import('./views/LimitFormView.vue'), props: true, meta: { can: ['update', 'Limit'], title: 'Edit limit' } },

@@ -16,12 +16,13 @@ export interface RegisterFilterState {
   sil: string[]
   status: string[]
   protectionState: string[]
+  testStatus: string[]
   hasWarnings: 'true' | 'false' | null
   hasErrors: 'true' | 'false' | null
   q: string
 }
 
-const LIST_KEYS = ['siteId', 'areaId', 'processId', 'instrumentId', 'limitClass', 'direction', 'sil', 'status', 'protectionState'] as const
+const LIST_KEYS = ['siteId', 'areaId', 'processId', 'instrumentId', 'limitClass', 'direction', 'sil', 'status', 'protectionState', 'testStatus'] as const
 const ID_KEYS = new Set(['siteId', 'areaId', 'processId', 'instrumentId'])
 export const PAGE_SIZES = [25, 50, 100, 200]
 const DEFAULT_PAGE_SIZE = 50
@@ -37,7 +38,7 @@ const bool = (v: string) => (v === 'true' || v === 'false' ? v : null)
 
 function emptyFilters(): RegisterFilterState {
   return {
-    siteId: [], areaId: [], processId: [], instrumentId: [], limitClass: [], direction: [], sil: [], status: [], protectionState: [],
+    siteId: [], areaId: [], processId: [], instrumentId: [], limitClass: [], direction: [], sil: [], status: [], protectionState: [], testStatus: [],
     hasWarnings: null, hasErrors: null, q: '',
   }
 }
