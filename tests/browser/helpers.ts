@@ -55,6 +55,8 @@ export async function signInAs(page: Page, baseUrl: string, who: string) {
   const email = page.getByLabel('E-mail address')
   const password = page.getByLabel('Password')
   await page.locator('[data-test="sign-in"]').waitFor()
+  // the e-mail field takes the focus when the form mounts (autofocus): wait for it, or typing can land in the wrong field
+  await expect.poll(() => page.evaluate(() => document.activeElement?.getAttribute('name'))).toBe('email')
   await email.fill(`${who}@fernhollow.example`)
   await password.fill('limitkeeper-demo')
   // the form must show what was typed before it is sent

@@ -30,6 +30,8 @@ function freePort(): Promise<number> {
 async function signIn(browser: Browser, baseUrl: string, who: string, viewport = { width: 1440, height: 900 }): Promise<Page> {
   const page = await browser.newPage({ viewport })
   await page.goto(`${baseUrl}/sign-in`)
+  // the e-mail field takes the focus when the form mounts (autofocus): wait for it before typing
+  await page.waitForFunction(() => document.activeElement?.getAttribute('name') === 'email')
   await page.getByLabel('E-mail address').fill(`${who}@fernhollow.example`)
   await page.getByLabel('Password').fill('limitkeeper-demo')
   await page.locator('[data-test="sign-in"]').click()

@@ -136,7 +136,9 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[], areaIds
     const sinceLastPass = l.last_full_pass ? (now - new Date(`${l.last_full_pass}T00:00:00Z`).getTime()) / HOUR : (now - l.created_at.getTime()) / HOUR
     // an overdue or never-tested function has gone untested longer than designed: the interval is the time since the last pass
     const overdue = l.test_status === 'overdue' || l.test_status === 'never_tested'
-    const actualIntervalHoursByRole = overdue
+    // only where the time since the last pass exceeds the designed interval does it stretch the interval
+    const stretched = overdue && subsystems.some((s) => sinceLastPass > s.testIntervalMonths * 730)
+    const actualIntervalHoursByRole = stretched
       ? Object.fromEntries(subsystems.map((s) => [s.role, Math.max(s.testIntervalMonths * 730, sinceLastPass)]))
       : undefined
     const designPfd = sifPfd(subsystems)
