@@ -32,6 +32,8 @@ describe('navigation by role', () => {
   it('shows a readable message for a wrong password', async () => {
     const page = await app.browser.newPage()
     await page.goto(`${app.baseUrl}/sign-in`)
+    // the e-mail field takes the focus when the form mounts (autofocus): wait for it before typing
+    await expect.poll(() => page.evaluate(() => document.activeElement?.getAttribute('name'))).toBe('email')
     await page.getByLabel('E-mail address').fill('auditor@fernhollow.example')
     await page.getByLabel('Password').fill('not-the-password')
     await page.locator('[data-test="sign-in"]').click()

@@ -1,8 +1,7 @@
 import type { ChangeRequestDto, ChangeStatus, CHANGE_TYPES, ChecklistItem } from '@shared/schemas/change-requests.ts'
 import type { ListResult } from '@shared/schemas/common.ts'
 import type { Instrument, Limit } from '@shared/schemas/register.ts'
-import { api, http } from '@/api/client'
-import { ApiError } from '@/api/errors'
+import { api, http, uploadWithProgress } from '@/api/client'
 
 export type ChangeType = typeof CHANGE_TYPES[number]
 export type ChangeView = 'waiting' | 'mine' | 'all'
@@ -58,29 +57,11 @@ export const changeRequestPdfUrl = (id: number) => `/api/change-requests/${id}/p
 /** Address of one attachment (a download). */
 export const attachmentUrl = (id: number, attachmentId: number) => `/api/change-requests/${id}/attachments/${attachmentId}`
 
-/**
- * Uploads an attachment with progress: fetch reports no upload progress, so this one request goes through
- * XMLHttpRequest, with the session's CSRF token fetched through the client.
- */
-export async function uploadAttachment(id: number, file: File, onProgress: (fraction: number) => void): Promise<{ id: number, fileName: string }> {
-  const { csrfToken } = await http.get<{ csrfToken: string }>('/session')
+/** Uploads an attachment and reports the upload's progress (0…1). */
+export function uploadAttachment(id: number, file: File, onProgress: (fraction: number) => void): Promise<{ id: number, fileName: string }> {
   const form = new FormData()
   form.append('file', file)
-  return new Promise((resolve, reject) => {
-    const xhr = new XMLHttpRequest()
-    xhr.open('POST', `/api/change-requests/${id}/attachments`)
-    xhr.setRequestHeader('X-CSRF-Token', csrfToken)
-    xhr.setRequestHeader('Accept', 'application/json')
-    xhr.upload.onprogress = (e) => { if (e.lengthComputable) onProgress(e.loaded / e.total) }
-    xhr.onerror = () => reject(new ApiError(0, 'NETWORK', 'The server cannot be reached; check the connection and try again'))
-    xhr.onload = () => {
-      let body: unknown
-      try { body = JSON.parse(xhr.responseText) } catch { body = undefined }
-      if (xhr.status >= 200 && xhr.status < 300) resolve(body as { id: number, fileName: string })
-      else reject(ApiError.fromBody(xhr.status, body))
-    }
-    xhr.send(form)
-  })
+  return uploadWithProgress(`/change-requests/${id}/attachments`, form, onProgress)
 }
 
 // The register's records, as the change form and the request page need them.

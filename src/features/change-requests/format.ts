@@ -176,7 +176,7 @@ export const shortHash = (h: string) => (h.length > 16 ? `${h.slice(0, 8)}…${h
 export function sizeText(bytes: number): string {
   if (bytes < 1024) return `${bytes} B`
   if (bytes < 1024 * 1024) return `${Math.round(bytes / 102.4) / 10} KB`
-  return `${Math.round(bytes / (1024 * 104.8576)) / 10} MB`
+  return `${Math.round(bytes / 104_857.6) / 10} MB`
 }
 
 /** An instant as a `datetime-local` input shows it, in the site's time zone. */

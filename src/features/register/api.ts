@@ -4,8 +4,7 @@ import type {
   CreateInstrumentInput, CreateLimitInput, Instrument, Limit, Process, UpdateLimitInput,
 } from '@shared/schemas/register.ts'
 import type { ImportMapping, ImportResult } from '@shared/schemas/imports.ts'
-import { getCsrfToken, http, toQuery } from '@/api/client'
-import { ApiError } from '@/api/errors'
+import { http, toQuery, uploadWithProgress } from '@/api/client'
 
 /** Filters of the register list and its export; arrays repeat the query key. */
 export interface LimitFilters {
@@ -78,31 +77,14 @@ export const updateInstrument = (id: number, input: Partial<CreateInstrumentInpu
 /** What one upload sends: the file, the site it is for, an optional mapping (file header → column key, '' ignores). */
 export interface ImportUpload { file: File, siteId: number, mapping?: ImportMapping, dryRun?: boolean }
 
-/**
- * Uploads a register file for a dry run and reports the upload's progress (0…1). fetch reports no upload progress, so
- * this request goes through XMLHttpRequest with the session's CSRF token; error answers become ApiError as in the client.
- */
+/** Uploads a register file for a dry run and reports the upload's progress (0…1). */
 export function uploadImport(input: ImportUpload, onProgress: (fraction: number) => void): Promise<ImportResult> {
   const form = new FormData()
   form.append('siteId', String(input.siteId))
   if (input.mapping) form.append('mapping', JSON.stringify(input.mapping))
   form.append('dryRun', String(input.dryRun ?? true))
   form.append('file', input.file)
-  return new Promise((resolve, reject) => {
-    const xhr = new XMLHttpRequest()
-    xhr.open('POST', '/api/imports')
-    xhr.setRequestHeader('X-CSRF-Token', getCsrfToken())
-    xhr.setRequestHeader('Accept', 'application/json')
-    xhr.upload.onprogress = (e) => { if (e.lengthComputable) onProgress(e.loaded / e.total) }
-    xhr.onerror = () => reject(new ApiError(0, 'NETWORK', 'The upload did not reach the server; check the connection and the file size, then try again'))
-    xhr.onload = () => {
-      let body: unknown
-      try { body = JSON.parse(xhr.responseText) } catch { body = undefined }
-      if (xhr.status >= 200 && xhr.status < 300) resolve(body as ImportResult)
-      else reject(ApiError.fromBody(xhr.status, body))
-    }
-    xhr.send(form)
-  })
+  return uploadWithProgress('/imports', form, onProgress, 'The upload did not reach the server; check the connection and the file size, then try again')
 }
 
 /** The mapping the user's last import used (file header → column key). */

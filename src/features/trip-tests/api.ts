@@ -2,8 +2,7 @@ import type { TestSignal } from '@shared/domain/test-signal.ts'
 import type { BypassDto } from '@shared/schemas/bypasses.ts'
 import type { Limit, Signal } from '@shared/schemas/register.ts'
 import type { TripTestDto } from '@shared/schemas/trip-tests.ts'
-import { api, http, toQuery } from '@/api/client'
-import { ApiError } from '@/api/errors'
+import { api, http, toQuery, uploadWithProgress } from '@/api/client'
 
 export type TestStatus = Limit['testStatus']
 export type SignatureMeaning = 'performed' | 'witnessed' | 'accepted'
@@ -73,27 +72,9 @@ export const certificateUrl = (id: number) => `/api/trip-tests/${id}/certificate
 /** Address of one attachment (a download). */
 export const attachmentUrl = (id: number, attachmentId: number) => `/api/trip-tests/${id}/attachments/${attachmentId}`
 
-/**
- * Uploads an attachment with progress: fetch reports no upload progress, so this one request goes through
- * XMLHttpRequest, with the session's CSRF token fetched through the client.
- */
-export async function uploadAttachment(id: number, file: File, onProgress: (fraction: number) => void): Promise<{ id: number, fileName: string }> {
-  const { csrfToken } = await http.get<{ csrfToken: string }>('/session')
+/** Uploads an attachment and reports the upload's progress (0…1). */
+export function uploadAttachment(id: number, file: File, onProgress: (fraction: number) => void): Promise<{ id: number, fileName: string }> {
   const form = new FormData()
   form.append('file', file)
-  return new Promise((resolve, reject) => {
-    const xhr = new XMLHttpRequest()
-    xhr.open('POST', `/api/trip-tests/${id}/attachments`)
-    xhr.setRequestHeader('X-CSRF-Token', csrfToken)
-    xhr.setRequestHeader('Accept', 'application/json')
-    xhr.upload.onprogress = (e) => { if (e.lengthComputable) onProgress(e.loaded / e.total) }
-    xhr.onerror = () => reject(new ApiError(0, 'NETWORK', 'The server cannot be reached; check the connection and try again'))
-    xhr.onload = () => {
-      let body: unknown
-      try { body = JSON.parse(xhr.responseText) } catch { body = undefined }
-      if (xhr.status >= 200 && xhr.status < 300) resolve(body as { id: number, fileName: string })
-      else reject(ApiError.fromBody(xhr.status, body))
-    }
-    xhr.send(form)
-  })
+  return uploadWithProgress(`/trip-tests/${id}/attachments`, form, onProgress)
 }
