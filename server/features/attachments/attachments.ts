@@ -1,11 +1,12 @@
 import { createHash } from 'node:crypto'
+import type { RequestHandler } from 'express'
 import multer from 'multer'
 import type { Transaction } from 'kysely'
 import type { Clock } from '../../clock.ts'
 import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
-import { AppError, notFound } from '../../errors.ts'
+import { AppError, notFound, validationFailed } from '../../errors.ts'
 
 /** Largest attachment (10 MB). */
 export const MAX_ATTACHMENT_BYTES = 10 * 1024 * 1024
@@ -19,6 +20,18 @@ export function sniffType(buf: Buffer): 'application/pdf' | 'image/png' | 'image
   if (buf.length >= 8 && buf.subarray(0, 8).equals(Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]))) return 'image/png'
   if (buf.length >= 3 && buf[0] === 0xff && buf[1] === 0xd8 && buf[2] === 0xff) return 'image/jpeg'
   return null
+}
+
+/** Receives one attachment in field `file`; multer's failures as API errors (413 over the size limit, 400 for anything else). */
+export const receiveAttachment: RequestHandler = (req, res, next) => {
+  attachmentUpload.single('file')(req, res, (err: unknown) => {
+    if (!err) return next()
+    if (err instanceof multer.MulterError && err.code === 'LIMIT_FILE_SIZE') {
+      return next(new AppError(413, ErrorCode.VALIDATION_FAILED, `The file is larger than ${MAX_ATTACHMENT_BYTES / 1024 / 1024} MB`, { fields: { file: ['Too large'] } }))
+    }
+    const message = err instanceof Error ? err.message : 'unreadable form data'
+    next(validationFailed({ file: [message] }, `The upload could not be read: ${message}`))
+  })
 }
 
 /** Checks and stores an uploaded file in PostgreSQL, in the caller's transaction. */

@@ -1,5 +1,4 @@
-import { type RequestHandler, Router } from 'express'
-import multer from 'multer'
+import { Router } from 'express'
 import { z } from 'zod'
 import {
   CHANGE_STATUSES, CHANGE_TYPES, ChecklistInputSchema, ClosureInputSchema, CreateChangeRequestInputSchema, IMPACT_CHECKLIST, ImplementInputSchema,
@@ -7,24 +6,10 @@ import {
 } from '../../../shared/schemas/change-requests.ts'
 import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
 import { scopeSites } from '../../authorize.ts'
-import { AppError, validationFailed } from '../../errors.ts'
-import { ErrorCode } from '../../../shared/errors.ts'
 import type { AppDeps } from '../../deps.ts'
-import { MAX_ATTACHMENT_BYTES, attachmentUpload, readAttachment } from '../attachments/attachments.ts'
+import { readAttachment, receiveAttachment } from '../attachments/attachments.ts'
 import { changeRequestPdf } from './change-requests.pdf.ts'
 import * as service from './change-requests.service.ts'
-
-/** Receives one attachment; multer's failures as API errors (413 over the size limit, 400 for anything else). */
-const receiveAttachment: RequestHandler = (req, res, next) => {
-  attachmentUpload.single('file')(req, res, (err: unknown) => {
-    if (!err) return next()
-    if (err instanceof multer.MulterError && err.code === 'LIMIT_FILE_SIZE') {
-      return next(new AppError(413, ErrorCode.VALIDATION_FAILED, `The file is larger than ${MAX_ATTACHMENT_BYTES / 1024 / 1024} MB`, { fields: { file: ['Too large'] } }))
-    }
-    const message = err instanceof Error ? err.message : 'unreadable form data'
-    next(validationFailed({ file: [message] }, `The upload could not be read: ${message}`))
-  })
-}
 
 /** `/api/change-requests` with its actions as sub-resources (DOMAIN.md §7). */
 export function createChangeRequestsRouter(deps: AppDeps) {

@@ -1,30 +1,15 @@
-import { type RequestHandler, Router } from 'express'
-import multer from 'multer'
+import { Router } from 'express'
 import Papa from 'papaparse'
 import { z } from 'zod'
-import { ErrorCode } from '../../../shared/errors.ts'
 import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
 import { DegradationMeasuresInputSchema, TripTestInputSchema, TripTestSignatureInputSchema } from '../../../shared/schemas/trip-tests.ts'
 import { authorize, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import { AppError, validationFailed } from '../../errors.ts'
 import { appendAudit } from '../audit/audit.repository.ts'
-import { MAX_ATTACHMENT_BYTES, attachmentUpload, readAttachment, storeAttachment } from '../attachments/attachments.ts'
+import { readAttachment, receiveAttachment, storeAttachment } from '../attachments/attachments.ts'
 import { tripTestCertificate } from './trip-tests.pdf.ts'
 import { runDigestForSite } from './trip-tests.jobs.ts'
 import * as service from './trip-tests.service.ts'
-
-/** Receives one attachment; multer's failures as API errors (413 over the size limit, 400 for anything else). */
-const receiveAttachment: RequestHandler = (req, res, next) => {
-  attachmentUpload.single('file')(req, res, (err: unknown) => {
-    if (!err) return next()
-    if (err instanceof multer.MulterError && err.code === 'LIMIT_FILE_SIZE') {
-      return next(new AppError(413, ErrorCode.VALIDATION_FAILED, `The file is larger than ${MAX_ATTACHMENT_BYTES / 1024 / 1024} MB`, { fields: { file: ['Too large'] } }))
-    }
-    const message = err instanceof Error ? err.message : 'unreadable form data'
-    next(validationFailed({ file: [message] }, `The upload could not be read: ${message}`))
-  })
-}
 
 /** `/api/trip-tests`: records, signatures, attachments, certificate, schedule, export and the digest on demand. */
 export function createTripTestsRouter(deps: AppDeps) {
