@@ -41,7 +41,9 @@ export default defineConfig({
       {
         resolve: { alias },
         test: {
-          name: 'browser', environment: 'node', testTimeout: 90_000, hookTimeout: 120_000, include: ['tests/browser/**/*.spec.ts'], globalSetup: ['tests/global-setup.ts'],
+          name: 'browser', environment: 'node', testTimeout: 90_000, hookTimeout: 120_000,
+          // a busy 2-core machine can take seconds to render after a request: poll conditions for up to 15 s, not 1 s
+          expect: { poll: { timeout: 15_000, interval: 100 } }, include: ['tests/browser/**/*.spec.ts'], globalSetup: ['tests/global-setup.ts'],
           fileParallelism: false,
         },
       },
