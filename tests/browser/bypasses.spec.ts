@@ -1,47 +1,13 @@
 import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
-import { useBrowserApp } from './helpers.ts'
+import { callApi, pageFor, signInAs, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
+const call = <T = any>(page: Page, method: string, path: string, body?: unknown) => callApi<T>(page, app.baseUrl, method, path, body)
 const PW = 'limitkeeper-demo'
 
-/** Calls the API from a signed-in page, with the session's cookie and CSRF token (what the app itself does). */
-async function call<T = any>(page: Page, method: string, path: string, body?: unknown): Promise<T> {
-  const session = await (await page.request.get(`${app.baseUrl}/api/session`)).json() as { csrfToken: string }
-  const res = await page.request.fetch(`${app.baseUrl}/api${path}`, { method, data: body, headers: { 'X-CSRF-Token': session.csrfToken } })
-  const json = await res.json().catch(() => undefined)
-  if (!res.ok()) throw new Error(`${method} ${path} answered ${res.status()}: ${JSON.stringify(json)}`)
-  return json as T
-}
 
-/**
- * Signs in through the sign-in page and waits for the app bar's name. Now and then the sign-in form submits an empty
- * password although the field shows it (under load); the page then says so, and the page is loaded and filled again.
- */
-async function signInAs(page: Page, baseUrl: string, who: string) {
-  for (let attempt = 1; ; attempt++) {
-    await page.goto(`${baseUrl}/sign-in`)
-    await page.getByLabel('E-mail address').fill(`${who}@fernhollow.example`)
-    await page.getByLabel('Password').fill(PW)
-    await page.locator('[data-test="sign-in"]').click()
-    const outcome = await Promise.race([
-      page.locator('[data-test="user-name"]').waitFor().then(() => 'signed in', () => 'no answer'),
-      page.locator('[data-test="sign-in-error"]').waitFor().then(() => 'refused', () => 'no answer'),
-    ])
-    if (outcome === 'signed in') return
-    const message = outcome === 'refused' ? await page.locator('[data-test="sign-in-error"]').textContent() : outcome
-    if (attempt === 3 || !message?.includes('Enter your password')) throw new Error(`sign-in as ${who} refused: ${message}`)
-  }
-}
 
-/** A signed-in page in a browser context of its own (no cookies shared between users). */
-async function pageFor(who: string): Promise<Page> {
-  const context = await app.browser.newContext({ viewport: { width: 1440, height: 1000 } })
-  const page = await context.newPage()
-  page.setDefaultTimeout(15_000)
-  await signInAs(page, app.baseUrl, who)
-  return page
-}
 
 /** A fired heater's high outlet-temperature trip with predefined compensating measures, at most 8 h bypassed, put in service through a change. */
 async function heaterTripInService(engineer: Page, approver: Page, technician: Page) {
@@ -75,12 +41,12 @@ describe('bypasses in the browser', () => {
   it('operator requests, supervisor authorizes, the register shows it, it goes overdue, and the plant manager sees it in the review', async () => {
     // 08:00 in the site's time zone (Europe/Berlin, summer time); everyone signs in on that clock.
     app.clock.set('2026-05-04T06:00:00Z')
-    const engineer = await pageFor('engineer')
-    const approver = await pageFor('approver')
-    const technician = await pageFor('technician')
+    const engineer = await pageFor(app, 'engineer')
+    const approver = await pageFor(app, 'approver')
+    const technician = await pageFor(app, 'technician')
     const { limitId, tag } = await heaterTripInService(engineer, approver, technician)
-    const operator = await pageFor('operator')
-    const supervisor = await pageFor('supervisor')
+    const operator = await pageFor(app, 'operator')
+    const supervisor = await pageFor(app, 'supervisor')
 
     // The operator requests a 4 h bypass from the limit's page, confirming the predefined measures.
     await operator.goto(`${app.baseUrl}/register/limits/${limitId}`)
@@ -146,7 +112,7 @@ describe('bypasses in the browser', () => {
     await poll(() => text(operator, 'home-overdue-FHR')).toContain('1')
 
     // The plant manager opens the review: the bypass in the table, the overdue KPI, the charts drawn.
-    const manager = await pageFor('manager')
+    const manager = await pageFor(app, 'manager')
     await manager.locator('[data-test="nav-bypass-review"]').click()
     await manager.waitForURL(`${app.baseUrl}/bypasses/review`)
     await manager.locator('[data-test="review-table"]').waitFor()

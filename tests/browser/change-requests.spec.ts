@@ -1,27 +1,12 @@
 import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
-import { signInAs, useBrowserApp } from './helpers.ts'
+import { callApi, pageFor, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
+const call = <T = any>(page: Page, method: string, path: string, body?: unknown) => callApi<T>(page, app.baseUrl, method, path, body)
 const PW = 'limitkeeper-demo'
 
-/** Calls the API from a signed-in page, with the session's cookie and CSRF token (what the app itself does). */
-async function call<T = any>(page: Page, method: string, path: string, body?: unknown): Promise<T> {
-  const session = await (await page.request.get(`${app.baseUrl}/api/session`)).json() as { csrfToken: string }
-  const res = await page.request.fetch(`${app.baseUrl}/api${path}`, { method, data: body, headers: { 'X-CSRF-Token': session.csrfToken } })
-  const json = await res.json().catch(() => undefined)
-  if (!res.ok()) throw new Error(`${method} ${path} answered ${res.status()}: ${JSON.stringify(json)}`)
-  return json as T
-}
 
-/** A signed-in page in a browser context of its own (no cookies shared between users). */
-async function pageFor(who: string): Promise<Page> {
-  const context = await app.browser.newContext({ viewport: { width: 1440, height: 1000 } })
-  const page = await context.newPage()
-  page.setDefaultTimeout(15_000)
-  await signInAs(page, app.baseUrl, who)
-  return page
-}
 
 /** A process, a type K thermocouple (0–1200 °C, normal 300–650) and a high trip at 780 °C, put in service through a first change. */
 async function heaterTripInService(engineer: Page, approver: Page, technician: Page) {
@@ -56,9 +41,9 @@ const poll = <T>(fn: () => Promise<T>) => expect.poll(fn, { timeout: 15_000 })
 
 describe('management of change in the browser', () => {
   it('engineer proposes a new setpoint, approver signs, technician implements with read-back, engineer closes; the register shows it', async () => {
-    const engineer = await pageFor('engineer')
-    const approver = await pageFor('approver')
-    const technician = await pageFor('technician')
+    const engineer = await pageFor(app, 'engineer')
+    const approver = await pageFor(app, 'approver')
+    const technician = await pageFor(app, 'technician')
     const { limitId } = await heaterTripInService(engineer, approver, technician)
 
     // The engineer proposes 790 °C from the limit and submits.

@@ -65,3 +65,21 @@ export async function signInAs(page: Page, baseUrl: string, who: string) {
   await page.locator('[data-test="sign-in"]').click()
   await page.locator('[data-test="user-name"]').waitFor()
 }
+
+/** Calls the API from a signed-in page, with the session's cookie and CSRF token (what the app itself does). */
+export async function callApi<T = any>(page: Page, baseUrl: string, method: string, path: string, body?: unknown): Promise<T> {
+  const session = await (await page.request.get(`${baseUrl}/api/session`)).json() as { csrfToken: string }
+  const res = await page.request.fetch(`${baseUrl}/api${path}`, { method, data: body, headers: { 'X-CSRF-Token': session.csrfToken } })
+  const json = await res.json().catch(() => undefined)
+  if (!res.ok()) throw new Error(`${method} ${path} answered ${res.status()}: ${JSON.stringify(json)}`)
+  return json as T
+}
+
+/** A signed-in page in a browser context of its own (no cookies shared between users). */
+export async function pageFor(app: BrowserContext, who: string): Promise<Page> {
+  const context = await app.browser.newContext({ viewport: { width: 1440, height: 1000 } })
+  const page = await context.newPage()
+  page.setDefaultTimeout(15_000)
+  await signInAs(page, app.baseUrl, who)
+  return page
+}
