@@ -17,22 +17,47 @@ export default defineConfigWithVueTs(
   {
     files: ['shared/**/*.ts'],
     rules: {
-      'no-restricted-imports': ['error', { patterns: [
-        { group: ['node:*', 'express', 'vue', 'vue-router', 'pinia', 'vuetify', 'kysely', 'pg'], message: 'shared/ is isomorphic: zod, @casl/ability and pure TypeScript only' },
-        { group: ['**/server/**', '**/src/**', '@/*'], message: 'shared/ must not import from server/ or src/' },
-      ] }],
+      'no-restricted-imports': [
+        'error',
+        {
+          patterns: [
+            {
+              group: ['node:*', 'express', 'vue', 'vue-router', 'pinia', 'vuetify', 'kysely', 'pg'],
+              message: 'shared/ is isomorphic: zod, @casl/ability and pure TypeScript only',
+            },
+            { group: ['**/server/**', '**/src/**', '@/*'], message: 'shared/ must not import from server/ or src/' },
+          ],
+        },
+      ],
     },
   },
   {
     files: ['src/**/*.ts', 'src/**/*.vue'],
-    rules: { 'no-restricted-imports': ['error', { patterns: [{ group: ['**/server/**', '@server/*'], message: 'the client never imports server code' }] }] },
+    rules: {
+      'no-restricted-imports': [
+        'error',
+        { patterns: [{ group: ['**/server/**', '@server/*'], message: 'the client never imports server code' }] },
+      ],
+    },
   },
   {
     files: ['server/**/*.ts'],
-    rules: { 'no-restricted-imports': ['error', { patterns: [{ group: ['**/src/**', '@/*'], message: 'the server never imports client code' }] }] },
+    rules: {
+      'no-restricted-imports': [
+        'error',
+        { patterns: [{ group: ['**/src/**', '@/*'], message: 'the server never imports client code' }] },
+      ],
+    },
   },
   {
     files: ['migrations/**/*.ts'],
-    rules: { 'no-restricted-imports': ['error', { patterns: [{ group: ['../*', './*', '@*/*'], message: 'migrations are frozen in time: import only kysely' }] }] },
+    rules: {
+      'no-restricted-imports': [
+        'error',
+        {
+          patterns: [{ group: ['../*', './*', '@*/*'], message: 'migrations are frozen in time: import only kysely' }],
+        },
+      ],
+    },
   },
 )

@@ -24,26 +24,45 @@ export default defineConfig({
     projects: [
       {
         resolve: { alias },
-        test: { name: 'unit', environment: 'node', testTimeout: 30_000, include: ['tests/unit/shared/**/*.test.ts', 'tests/unit/server/**/*.test.ts'] },
+        test: {
+          name: 'unit',
+          environment: 'node',
+          testTimeout: 30_000,
+          include: ['tests/unit/shared/**/*.test.ts', 'tests/unit/server/**/*.test.ts'],
+        },
       },
       {
         plugins: [vue(), vuetify({ autoImport: true })],
         resolve: { alias },
         test: {
-          name: 'ui', environment: 'happy-dom', include: ['tests/unit/src/**/*.test.ts'],
+          name: 'ui',
+          environment: 'happy-dom',
+          include: ['tests/unit/src/**/*.test.ts'],
           server: { deps: { inline: ['vuetify'] } },
         },
       },
       {
         resolve: { alias },
-        test: { name: 'api', environment: 'node', testTimeout: 60_000, hookTimeout: 120_000, include: ['tests/api/**/*.test.ts'], globalSetup: ['tests/global-setup.ts'] },
+        test: {
+          name: 'api',
+          environment: 'node',
+          testTimeout: 60_000,
+          hookTimeout: 120_000,
+          include: ['tests/api/**/*.test.ts'],
+          globalSetup: ['tests/global-setup.ts'],
+        },
       },
       {
         resolve: { alias },
         test: {
-          name: 'browser', environment: 'node', testTimeout: 90_000, hookTimeout: 120_000,
+          name: 'browser',
+          environment: 'node',
+          testTimeout: 90_000,
+          hookTimeout: 120_000,
           // a busy 2-core machine can take seconds to render after a request: poll conditions for up to 15 s, not 1 s
-          expect: { poll: { timeout: 15_000, interval: 100 } }, include: ['tests/browser/**/*.spec.ts'], globalSetup: ['tests/global-setup.ts'],
+          expect: { poll: { timeout: 15_000, interval: 100 } },
+          include: ['tests/browser/**/*.spec.ts'],
+          globalSetup: ['tests/global-setup.ts'],
           fileParallelism: false,
         },
       },

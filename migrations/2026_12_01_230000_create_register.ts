@@ -154,5 +154,7 @@ export async function up(db: Kysely<any>): Promise<void> {
 }
 
 export async function down(db: Kysely<any>): Promise<void> {
-  await sql`DROP TABLE IF EXISTS import_mapping, import_batch, instrument_revision, limit_revision, limit_instrument, limit_function, instrument, process CASCADE`.execute(db)
+  await sql`DROP TABLE IF EXISTS import_mapping, import_batch, instrument_revision, limit_revision, limit_instrument, limit_function, instrument, process CASCADE`.execute(
+    db,
+  )
 }

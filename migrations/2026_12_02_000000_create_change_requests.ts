@@ -102,5 +102,7 @@ export async function up(db: Kysely<any>): Promise<void> {
 }
 
 export async function down(db: Kysely<any>): Promise<void> {
-  await sql`DROP TABLE IF EXISTS attachment, signature, change_request_check, change_request_editor, change_request_item, change_request CASCADE`.execute(db)
+  await sql`DROP TABLE IF EXISTS attachment, signature, change_request_check, change_request_editor, change_request_item, change_request CASCADE`.execute(
+    db,
+  )
 }

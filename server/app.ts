@@ -7,11 +7,19 @@ import { sql } from 'kysely'
 import { ErrorCode } from '../shared/errors.ts'
 import type { AppDeps } from './deps.ts'
 import { AppError } from './errors.ts'
-import { createInstrumentsRouter, createLimitsRouter, createProcessesRouter } from './features/register/register.router.ts'
+import {
+  createInstrumentsRouter,
+  createLimitsRouter,
+  createProcessesRouter,
+} from './features/register/register.router.ts'
 import { createImportsRouter } from './features/register/imports.router.ts'
 import { createChangeRequestsRouter } from './features/change-requests/change-requests.router.ts'
 import { createDegradationRouter, createTripTestsRouter } from './features/trip-tests/trip-tests.router.ts'
-import { createBypassesRouter, createBypassReviewRouter, createProtectionStateRouter } from './features/bypasses/bypasses.router.ts'
+import {
+  createBypassesRouter,
+  createBypassReviewRouter,
+  createProtectionStateRouter,
+} from './features/bypasses/bypasses.router.ts'
 import { createAuditRouter } from './features/audit/audit.router.ts'
 import { createMailRouter } from './features/mail/mail.router.ts'
 import { createSessionRouter } from './features/session/session.router.ts'
@@ -30,14 +38,21 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   const app = express()
   app.set('trust proxy', deps.config.trustProxy)
   app.disable('x-powered-by')
-  app.use(helmet({
-    contentSecurityPolicy: {
-      directives: {
-        'default-src': ['\'self\''], 'img-src': ['\'self\'', 'data:', 'blob:'], 'style-src': ['\'self\'', '\'unsafe-inline\''],
-        'script-src': ['\'self\''], 'font-src': ['\'self\'', 'data:'], 'connect-src': ['\'self\''], 'upgrade-insecure-requests': null,
+  app.use(
+    helmet({
+      contentSecurityPolicy: {
+        directives: {
+          'default-src': ["'self'"],
+          'img-src': ["'self'", 'data:', 'blob:'],
+          'style-src': ["'self'", "'unsafe-inline'"],
+          'script-src': ["'self'"],
+          'font-src': ["'self'", 'data:'],
+          'connect-src': ["'self'"],
+          'upgrade-insecure-requests': null,
+        },
       },
-    },
-  }))
+    }),
+  )
 
   const api = Router()
   api.use(express.json({ limit: '1mb' }))

@@ -2,13 +2,23 @@ import { ForbiddenError, subject } from '@casl/ability'
 import type { Action, AppAbility, SubjectName } from '../shared/abilities/index.ts'
 
 /** Throws CASL's ForbiddenError (→ 403) unless the ability allows `action` on the subject (with its fields). */
-export function authorize(ability: AppAbility, action: Action, name: Exclude<SubjectName, 'all'>, obj?: Record<string, unknown>) {
+export function authorize(
+  ability: AppAbility,
+  action: Action,
+  name: Exclude<SubjectName, 'all'>,
+  obj?: Record<string, unknown>,
+) {
   if (obj) ForbiddenError.from(ability).throwUnlessCan(action, subject(name, { ...obj }) as never)
   else ForbiddenError.from(ability).throwUnlessCan(action, name)
 }
 
 /** Whether the ability allows it (no throw). */
-export function allows(ability: AppAbility, action: Action, name: Exclude<SubjectName, 'all'>, obj?: Record<string, unknown>): boolean {
+export function allows(
+  ability: AppAbility,
+  action: Action,
+  name: Exclude<SubjectName, 'all'>,
+  obj?: Record<string, unknown>,
+): boolean {
   return obj ? ability.can(action, subject(name, { ...obj }) as never) : ability.can(action, name)
 }
 

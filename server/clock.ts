@@ -1,5 +1,7 @@
 /** Where "now" comes from: services, jobs and the audit trail never call `new Date()` themselves. */
-export interface Clock { now(): Date }
+export interface Clock {
+  now(): Date
+}
 
 export const systemClock: Clock = { now: () => new Date() }
 
@@ -7,14 +9,23 @@ export const systemClock: Clock = { now: () => new Date() }
 export class AdjustableClock implements Clock {
   private offsetMs = 0
   constructor(private readonly base: Clock = systemClock) {}
-  now(): Date { return new Date(this.base.now().getTime() + this.offsetMs) }
+  now(): Date {
+    return new Date(this.base.now().getTime() + this.offsetMs)
+  }
   /** Makes now() answer `t` at this instant; time then runs on from there. */
   set(t: Date | string): Date {
     this.offsetMs = new Date(t).getTime() - this.base.now().getTime()
     return this.now()
   }
-  advance(ms: number): Date { this.offsetMs += ms; return this.now() }
+  advance(ms: number): Date {
+    this.offsetMs += ms
+    return this.now()
+  }
 }
 
 /** A job that does whatever is due at `now` (mail delivery, lapses, escalations, digests). */
-export interface DueJob<R = unknown> { readonly name: string, readonly intervalSec: number, runDue(now: Date): Promise<R> }
+export interface DueJob<R = unknown> {
+  readonly name: string
+  readonly intervalSec: number
+  runDue(now: Date): Promise<R>
+}

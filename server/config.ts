@@ -26,7 +26,7 @@ const EnvSchema = z.object({
   JOB_POLL_SECONDS: z.coerce.number().positive().default(5),
 })
 
-export type Config = z.infer<typeof EnvSchema> & { appUrl: string, trustProxy: boolean | number | string }
+export type Config = z.infer<typeof EnvSchema> & { appUrl: string; trustProxy: boolean | number | string }
 
 /** Reads process.env once, with defaults for the local cluster; throws a readable message when invalid. */
 export function loadConfig(env: NodeJS.ProcessEnv = process.env): Config {

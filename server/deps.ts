@@ -4,4 +4,9 @@ import type { Config } from './config.ts'
 import type { Db } from './db/index.ts'
 
 /** What the app factory needs; tests pass their own database and clock. */
-export interface AppDeps { db: Db, pool: pg.Pool, clock: Clock, config: Config }
+export interface AppDeps {
+  db: Db
+  pool: pg.Pool
+  clock: Clock
+  config: Config
+}

@@ -6,10 +6,17 @@ import { createDb } from './db/index.ts'
 import { createJobs } from './jobs/index.ts'
 import { JobScheduler } from './jobs/scheduler.ts'
 
-export interface RunningServer { url: string, port: number, close(): Promise<void> }
+export interface RunningServer {
+  url: string
+  port: number
+  close(): Promise<void>
+}
 
 /** Connects to PostgreSQL as the runtime role, starts the job scheduler and listens. */
-export async function startServer(config: Config, opts: { clock?: Clock, runJobs?: boolean } = {}): Promise<RunningServer> {
+export async function startServer(
+  config: Config,
+  opts: { clock?: Clock; runJobs?: boolean } = {},
+): Promise<RunningServer> {
   const clock = opts.clock ?? (config.NODE_ENV === 'test' ? new AdjustableClock() : systemClock)
   const { db, pool } = createDb(config.DATABASE_URL, 20)
   const app = createApp({ db, pool, clock, config })
@@ -25,7 +32,8 @@ export async function startServer(config: Config, opts: { clock?: Clock, runJobs
   }).catch(async (err: NodeJS.ErrnoException) => {
     await scheduler.stop()
     await db.destroy()
-    if (err.code === 'EADDRINUSE') throw new Error(`Port ${config.PORT} is already in use: stop what listens there or set PORT to a free port.`)
+    if (err.code === 'EADDRINUSE')
+      throw new Error(`Port ${config.PORT} is already in use: stop what listens there or set PORT to a free port.`)
     throw err
   })
   const port = (server.address() as AddressInfo).port

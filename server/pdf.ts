@@ -18,5 +18,7 @@ pdfmake.setUrlAccessPolicy(() => false)
 
 /** Renders a pdfmake document definition to a PDF buffer. */
 export function renderPdf(doc: Record<string, unknown>): Promise<Buffer> {
-  return pdfmake.createPdf({ defaultStyle: { font: 'Roboto', fontSize: 9 }, pageSize: 'A4', pageMargins: [36, 48, 36, 48], ...doc }).getBuffer()
+  return pdfmake
+    .createPdf({ defaultStyle: { font: 'Roboto', fontSize: 9 }, pageSize: 'A4', pageMargins: [36, 48, 36, 48], ...doc })
+    .getBuffer()
 }

@@ -35,7 +35,10 @@ async function shutdown(code: number) {
   for (const c of cleanups.reverse()) await c().catch((e) => console.error(e instanceof Error ? e.message : e))
   process.exit(code)
 }
-process.on('SIGINT', () => { console.log('\nStopping…'); void shutdown(0) })
+process.on('SIGINT', () => {
+  console.log('\nStopping…')
+  void shutdown(0)
+})
 process.on('SIGTERM', () => void shutdown(0))
 
 function newestMtime(p: string): number {
@@ -54,22 +57,35 @@ async function startLocalPostgres(): Promise<void> {
       const m = /^([A-Z_]+)=(.*)$/.exec(line.trim())
       if (m && ['DATABASE_URL', 'MIGRATION_DATABASE_URL', 'PG_DIR'].includes(m[1])) process.env[m[1]] = m[2]
     }
-    cleanups.push(async () => { await run('bash', [pgScript, 'stop'], { env }); console.log('PostgreSQL stopped.') })
+    cleanups.push(async () => {
+      await run('bash', [pgScript, 'stop'], { env })
+      console.log('PostgreSQL stopped.')
+    })
     console.log(`PostgreSQL running on 127.0.0.1:${env.PGPORT} (data in ${process.env.PG_DIR})`)
   } catch (err) {
-    const e = err as { code?: number, stderr?: string }
+    const e = err as { code?: number; stderr?: string }
     fail(e.stderr?.trim().split('\n').pop() || 'PostgreSQL could not be started; see .data/pg/server.log.')
   }
 }
 
 async function buildClientIfChanged() {
   const distIndex = path.join(root, 'dist/index.html')
-  const sources = Math.max(...['src', 'shared', 'index.html', 'vite.config.ts', 'package-lock.json'].map((p) => newestMtime(path.join(root, p))))
+  const sources = Math.max(
+    ...['src', 'shared', 'index.html', 'vite.config.ts', 'package-lock.json'].map((p) =>
+      newestMtime(path.join(root, p)),
+    ),
+  )
   if (existsSync(distIndex) && statSync(distIndex).mtimeMs >= sources) return
   console.log('Building the client…')
   await new Promise<void>((resolve, reject) => {
-    const child = spawn(process.execPath, [path.join(root, 'node_modules/vite/bin/vite.js'), 'build', '--logLevel', 'warn'], { cwd: root, stdio: 'inherit' })
-    child.on('exit', (code) => (code === 0 ? resolve() : reject(new Error('The client build failed; see the messages above.'))))
+    const child = spawn(
+      process.execPath,
+      [path.join(root, 'node_modules/vite/bin/vite.js'), 'build', '--logLevel', 'warn'],
+      { cwd: root, stdio: 'inherit' },
+    )
+    child.on('exit', (code) =>
+      code === 0 ? resolve() : reject(new Error('The client build failed; see the messages above.')),
+    )
   })
 }
 
@@ -85,7 +101,9 @@ async function main() {
       fail(`${err instanceof Error ? err.message : err} — fix the migration or the database and run npm start again.`)
     }
   } else {
-    console.log('Migrations not run: set MIGRATION_DATABASE_URL (the owner role) to migrate at start, or run npm run db:migrate.')
+    console.log(
+      'Migrations not run: set MIGRATION_DATABASE_URL (the owner role) to migrate at start, or run npm run db:migrate.',
+    )
   }
 
   let smtpPort: number | null = null
@@ -114,7 +132,8 @@ async function main() {
   cleanups.push(() => server.close())
 
   console.log(`\nLimitkeeper is ready at ${server.url}  (${((Date.now() - started) / 1000).toFixed(1)} s)`)
-  if (smtpPort) console.log(`Mail goes to the local fake SMTP server on 127.0.0.1:${smtpPort}; admins see it under Mail.`)
+  if (smtpPort)
+    console.log(`Mail goes to the local fake SMTP server on 127.0.0.1:${smtpPort}; admins see it under Mail.`)
   if (config.NODE_ENV !== 'production' && (localDb || process.env.SEED_DEMO === '1')) {
     console.log(`Demo accounts (password: ${DEMO_PASSWORD}):`)
     for (const a of DEMO_ACCOUNTS) console.log(`  ${a.email.padEnd(34)} ${a.label}`)

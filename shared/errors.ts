@@ -19,5 +19,5 @@ export type ErrorCode = (typeof ErrorCode)[keyof typeof ErrorCode]
 
 /** The JSON body of every error answer. */
 export interface ApiErrorBody {
-  error: { code: ErrorCode, message: string, details?: { fields?: Record<string, string[]> } & Record<string, unknown> }
+  error: { code: ErrorCode; message: string; details?: { fields?: Record<string, string[]> } & Record<string, unknown> }
 }

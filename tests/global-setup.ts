@@ -11,7 +11,6 @@ import type { TestProject } from 'vitest/node'
 
 const run = promisify(execFile)
 
-
 function freePort(): Promise<number> {
   return new Promise((resolve, reject) => {
     const s = net.createServer()
@@ -27,15 +26,28 @@ export default async function setup(project: TestProject) {
   const dir = await mkdtemp(path.join(os.tmpdir(), 'limitkeeper-test-'))
   await run('chmod', ['755', dir])
   const port = await freePort()
-  const env = { ...process.env, PG_DIR: path.join(dir, 'pg'), PGPORT: String(port), PG_FAST: '1', DB_NAME: 'lk_template' }
+  const env = {
+    ...process.env,
+    PG_DIR: path.join(dir, 'pg'),
+    PGPORT: String(port),
+    PG_FAST: '1',
+    DB_NAME: 'lk_template',
+  }
   const stop = async () => {
     await run('bash', ['server/db/pg.sh', 'stop'], { env }).catch(() => {})
     await rm(dir, { recursive: true, force: true })
   }
   try {
     const { stdout } = await run('bash', ['server/db/pg.sh', 'start'], { env })
-    const vars = Object.fromEntries(stdout.trim().split('\n').map((l) => l.split(/=(.*)/s).slice(0, 2)))
-    await run(process.execPath, ['--import', 'tsx', 'server/db/migrate-cli.ts'], { env: { ...process.env, MIGRATION_DATABASE_URL: vars.MIGRATION_DATABASE_URL } })
+    const vars = Object.fromEntries(
+      stdout
+        .trim()
+        .split('\n')
+        .map((l) => l.split(/=(.*)/s).slice(0, 2)),
+    )
+    await run(process.execPath, ['--import', 'tsx', 'server/db/migrate-cli.ts'], {
+      env: { ...process.env, MIGRATION_DATABASE_URL: vars.MIGRATION_DATABASE_URL },
+    })
     const admin = new pg.Client({ connectionString: vars.SUPER_URL })
     await admin.connect()
     await admin.query('ALTER DATABASE lk_template WITH IS_TEMPLATE true ALLOW_CONNECTIONS false')

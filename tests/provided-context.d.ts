@@ -2,5 +2,10 @@
 import 'vitest'
 
 declare module 'vitest' {
-  interface ProvidedContext { superUrl: string, ownerUrl: string, appUrl: string, templateDb: string }
+  interface ProvidedContext {
+    superUrl: string
+    ownerUrl: string
+    appUrl: string
+    templateDb: string
+  }
 }

@@ -8,7 +8,10 @@ try {
   const t0 = Date.now()
   const r = await verifyAuditChain(db)
   const secs = ((Date.now() - t0) / 1000).toFixed(2)
-  if (r.ok) console.log(`Audit trail intact: ${r.checked} events checked in ${secs} s; head id ${r.headId ?? '-'} hash ${r.headHash ?? '-'}`)
+  if (r.ok)
+    console.log(
+      `Audit trail intact: ${r.checked} events checked in ${secs} s; head id ${r.headId ?? '-'} hash ${r.headHash ?? '-'}`,
+    )
   else {
     console.log(`Audit trail BROKEN at event ${r.badId}: ${r.problem} (${r.checked} events before it are intact)`)
     process.exitCode = 1

@@ -10,13 +10,24 @@ import { createDb } from '../db/index.ts'
 import { appendAudit } from '../features/audit/audit.repository.ts'
 import { hashPassword } from '../features/session/passwords.ts'
 
-const { values } = parseArgs({ options: {
-  admin: { type: 'boolean', default: false }, email: { type: 'string' }, name: { type: 'string' }, site: { type: 'string', multiple: true },
-} })
+const { values } = parseArgs({
+  options: {
+    admin: { type: 'boolean', default: false },
+    email: { type: 'string' },
+    name: { type: 'string' },
+    site: { type: 'string', multiple: true },
+  },
+})
 const url = process.env.DATABASE_URL
-if (!url) { console.error('Set DATABASE_URL.'); process.exit(2) }
+if (!url) {
+  console.error('Set DATABASE_URL.')
+  process.exit(2)
+}
 const email = z.email().safeParse(values.email)
-if (!email.success || !values.name) { console.error('Give --email and --name.'); process.exit(2) }
+if (!email.success || !values.name) {
+  console.error('Give --email and --name.')
+  process.exit(2)
+}
 let password = process.env.LIMITKEEPER_PASSWORD
 if (!password) {
   const rl = createInterface({ input: process.stdin, output: process.stdout })
@@ -24,25 +35,55 @@ if (!password) {
   rl.close()
 }
 const pw = PasswordSchema.safeParse(password)
-if (!pw.success) { console.error(pw.error.issues[0].message); process.exit(2) }
+if (!pw.success) {
+  console.error(pw.error.issues[0].message)
+  process.exit(2)
+}
 const { db } = createDb(url, 2)
 try {
   const hash = await hashPassword(pw.data)
   await db.transaction().execute(async (trx) => {
     const now = systemClock.now()
-    const { id } = await trx.insertInto('app_user').values({ email: email.data.toLowerCase(), display_name: values.name!, password_hash: hash, created_at: now, updated_at: now })
-      .returning('id').executeTakeFirstOrThrow()
+    const { id } = await trx
+      .insertInto('app_user')
+      .values({
+        email: email.data.toLowerCase(),
+        display_name: values.name!,
+        password_hash: hash,
+        created_at: now,
+        updated_at: now,
+      })
+      .returning('id')
+      .executeTakeFirstOrThrow()
     let sites = await trx.selectFrom('site').select(['id', 'code']).execute()
     if (values.site?.length) sites = sites.filter((s) => values.site!.includes(s.code))
     if (values.admin && !sites.length) {
-      const site = await trx.insertInto('site').values({ code: 'MAIN', name: 'Main site', time_zone: 'UTC', created_at: now }).returning(['id', 'code']).executeTakeFirstOrThrow()
+      const site = await trx
+        .insertInto('site')
+        .values({ code: 'MAIN', name: 'Main site', time_zone: 'UTC', created_at: now })
+        .returning(['id', 'code'])
+        .executeTakeFirstOrThrow()
       sites = [site]
     }
-    if (values.admin) await trx.insertInto('role_assignment').values(sites.map((s) => ({ user_id: id, site_id: s.id, role: 'admin' }))).execute()
-    await appendAudit(trx, systemClock, { actorId: null, requestId: 'cli', ip: null }, {
-      action: 'user.create', entityType: 'User', entityId: id, after: { email: email.data, admin: values.admin, sites: sites.map((s) => s.code) },
-    })
-    console.log(`Created user ${id} (${email.data})${values.admin ? ` as admin of ${sites.map((s) => s.code).join(', ')}` : ''}.`)
+    if (values.admin)
+      await trx
+        .insertInto('role_assignment')
+        .values(sites.map((s) => ({ user_id: id, site_id: s.id, role: 'admin' })))
+        .execute()
+    await appendAudit(
+      trx,
+      systemClock,
+      { actorId: null, requestId: 'cli', ip: null },
+      {
+        action: 'user.create',
+        entityType: 'User',
+        entityId: id,
+        after: { email: email.data, admin: values.admin, sites: sites.map((s) => s.code) },
+      },
+    )
+    console.log(
+      `Created user ${id} (${email.data})${values.admin ? ` as admin of ${sites.map((s) => s.code).join(', ')}` : ''}.`,
+    )
   })
 } catch (err) {
   console.error(err instanceof Error ? err.message : err)

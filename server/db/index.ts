@@ -10,7 +10,7 @@ pg.types.setTypeParser(pg.types.builtins.DATE, (v) => v)
 export type Db = Kysely<Database>
 
 /** One pool shared by Kysely and the session store. */
-export function createDb(connectionString: string, max = 10): { db: Db, pool: pg.Pool } {
+export function createDb(connectionString: string, max = 10): { db: Db; pool: pg.Pool } {
   const pool = new pg.Pool({ connectionString, max })
   const db = new Kysely<Database>({ dialect: new PostgresDialect({ pool }) })
   return { db, pool }

@@ -20,8 +20,16 @@ export interface SiteTable {
   policy: ColumnType<Record<string, unknown>, string | undefined, string>
   created_at: Timestamp
 }
-export interface AreaTable { id: Generated<number>, site_id: number, name: string }
-export interface RoleAssignmentTable { user_id: number, site_id: number, role: string }
+export interface AreaTable {
+  id: Generated<number>
+  site_id: number
+  name: string
+}
+export interface RoleAssignmentTable {
+  user_id: number
+  site_id: number
+  role: string
+}
 export interface SignInAttemptTable {
   id: Generated<number>
   at: Timestamp
@@ -67,7 +75,11 @@ export interface JobScheduleTable {
   last_run_at: Timestamp | null
   last_error: string | null
 }
-export interface SessionTable { sid: string, sess: unknown, expire: Timestamp }
+export interface SessionTable {
+  sid: string
+  sess: unknown
+  expire: Timestamp
+}
 
 type Numeric = ColumnType<string, string | number, string | number>
 type NullableNumeric = ColumnType<string | null, string | number | null, string | number | null>
@@ -144,8 +156,8 @@ export interface LimitFunctionTable {
   status: Generated<string>
   revision: Generated<number>
   protection_state: Generated<string>
-  window_errors: JsonValue<{ code: string, field?: string, message: string }[]>
-  window_warnings: JsonValue<{ code: string, field?: string, message: string }[]>
+  window_errors: JsonValue<{ code: string; field?: string; message: string }[]>
+  window_warnings: JsonValue<{ code: string; field?: string; message: string }[]>
   has_window_errors: ColumnType<boolean, never, never>
   has_window_warnings: ColumnType<boolean, never, never>
   search_text: ColumnType<string, never, never>
@@ -156,7 +168,11 @@ export interface LimitFunctionTable {
   test_due_date: ColumnType<string | null, string | null, string | null>
   last_full_pass: ColumnType<string | null, string | null, string | null>
 }
-export interface LimitInstrumentTable { limit_id: number, position: number, instrument_id: number }
+export interface LimitInstrumentTable {
+  limit_id: number
+  position: number
+  instrument_id: number
+}
 export interface RevisionTable {
   id: Generated<number>
   revision: number
@@ -166,8 +182,12 @@ export interface RevisionTable {
   change_request_id: number | null
   reason: string | null
 }
-export interface LimitRevisionTable extends RevisionTable { limit_id: number }
-export interface InstrumentRevisionTable extends RevisionTable { instrument_id: number }
+export interface LimitRevisionTable extends RevisionTable {
+  limit_id: number
+}
+export interface InstrumentRevisionTable extends RevisionTable {
+  instrument_id: number
+}
 export interface ImportBatchTable {
   id: Generated<number>
   site_id: number
@@ -180,7 +200,11 @@ export interface ImportBatchTable {
   created_at: Timestamp
   committed_at: Timestamp | null
 }
-export interface ImportMappingTable { user_id: number, mapping: JsonValue<Record<string, string>>, updated_at: Timestamp }
+export interface ImportMappingTable {
+  user_id: number
+  mapping: JsonValue<Record<string, string>>
+  updated_at: Timestamp
+}
 
 export interface ChangeRequestTable {
   id: Generated<number>
@@ -213,7 +237,7 @@ export interface ChangeRequestItemTable {
   kind: string
   limit_id: number | null
   instrument_id: number | null
-  changes: JsonValue<Record<string, { from: unknown, to: unknown }>>
+  changes: JsonValue<Record<string, { from: unknown; to: unknown }>>
   base_revision: number
   window_before: ColumnType<unknown, string | null, string | null>
   window_after: ColumnType<unknown, string | null, string | null>
@@ -221,8 +245,17 @@ export interface ChangeRequestItemTable {
   implemented_by: number | null
   read_back: ColumnType<unknown, string | null, string | null>
 }
-export interface ChangeRequestEditorTable { change_request_id: number, user_id: number }
-export interface ChangeRequestCheckTable { change_request_id: number, item: string, done_by: number, done_at: Timestamp, note: Generated<string> }
+export interface ChangeRequestEditorTable {
+  change_request_id: number
+  user_id: number
+}
+export interface ChangeRequestCheckTable {
+  change_request_id: number
+  item: string
+  done_by: number
+  done_at: Timestamp
+  note: Generated<string>
+}
 export interface SignatureTable {
   id: Generated<number>
   entity_type: string
@@ -272,7 +305,7 @@ export interface TripTestTable {
   tolerance_unit: string
   tolerance_eu: Numeric
   as_found: NullableNumeric
-  as_found_signal: ColumnType<{ value: number, unit: string } | null, string | null, string | null>
+  as_found_signal: ColumnType<{ value: number; unit: string } | null, string | null, string | null>
   as_found_result: string
   as_left: NullableNumeric
   as_left_result: string
@@ -305,7 +338,12 @@ export interface LimitDegradationTable {
   cleared_at: Timestamp | null
   cleared_by_test_id: number | null
 }
-export interface DigestLogTable { site_id: number, kind: string, period: string, sent_at: Timestamp }
+export interface DigestLogTable {
+  site_id: number
+  kind: string
+  period: string
+  sent_at: Timestamp
+}
 
 export interface BypassTable {
   id: Generated<number>
@@ -333,7 +371,14 @@ export interface BypassTable {
   created_at: Timestamp
   updated_at: Timestamp
 }
-export interface HandoverAckTable { id: Generated<number>, area_id: number, user_id: number, at: Timestamp, snapshot: JsonValue<unknown>, content_hash: string }
+export interface HandoverAckTable {
+  id: Generated<number>
+  area_id: number
+  user_id: number
+  at: Timestamp
+  snapshot: JsonValue<unknown>
+  content_hash: string
+}
 
 /** The database as Kysely sees it (kept by hand beside the migrations). */
 export interface Database {

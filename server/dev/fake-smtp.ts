@@ -2,7 +2,12 @@ import type { AddressInfo } from 'node:net'
 import { simpleParser, type ParsedMail } from 'mailparser'
 import { SMTPServer } from 'smtp-server'
 
-export interface FakeSmtp { port: number, inbox: ParsedMail[], close(): Promise<void>, waitFor(pred: (m: ParsedMail) => boolean, timeoutMs?: number): Promise<ParsedMail> }
+export interface FakeSmtp {
+  port: number
+  inbox: ParsedMail[]
+  close(): Promise<void>
+  waitFor(pred: (m: ParsedMail) => boolean, timeoutMs?: number): Promise<ParsedMail>
+}
 
 /**
  * A local SMTP server that accepts every message and keeps it in memory: the stand-in for a plant's mail relay in
@@ -10,7 +15,7 @@ export interface FakeSmtp { port: number, inbox: ParsedMail[], close(): Promise<
  */
 export async function startFakeSmtp(port = 0, opts: { quiet?: boolean } = {}): Promise<FakeSmtp> {
   const inbox: ParsedMail[] = []
-  const waiters: { pred: (m: ParsedMail) => boolean, resolve: (m: ParsedMail) => void }[] = []
+  const waiters: { pred: (m: ParsedMail) => boolean; resolve: (m: ParsedMail) => void }[] = []
   const server = new SMTPServer({
     authOptional: true,
     disabledCommands: ['STARTTLS'],
@@ -18,16 +23,22 @@ export async function startFakeSmtp(port = 0, opts: { quiet?: boolean } = {}): P
     onData(stream, _session, cb) {
       simpleParser(stream).then((m) => {
         inbox.push(m)
-        if (!opts.quiet && process.env.NODE_ENV !== 'test') console.log(`mail captured → ${m.to && 'text' in m.to ? m.to.text : ''}: ${m.subject ?? ''}`)
-        for (const w of [...waiters]) if (w.pred(m)) { waiters.splice(waiters.indexOf(w), 1); w.resolve(m) }
+        if (!opts.quiet && process.env.NODE_ENV !== 'test')
+          console.log(`mail captured → ${m.to && 'text' in m.to ? m.to.text : ''}: ${m.subject ?? ''}`)
+        for (const w of [...waiters])
+          if (w.pred(m)) {
+            waiters.splice(waiters.indexOf(w), 1)
+            w.resolve(m)
+          }
         cb()
       }, cb)
     },
   })
-  const listen = (p: number) => new Promise<void>((resolve, reject) => {
-    server.server.once('error', reject)
-    server.listen(p, '127.0.0.1', () => resolve())
-  })
+  const listen = (p: number) =>
+    new Promise<void>((resolve, reject) => {
+      server.server.once('error', reject)
+      server.listen(p, '127.0.0.1', () => resolve())
+    })
   try {
     await listen(port)
   } catch (err) {
@@ -43,7 +54,13 @@ export async function startFakeSmtp(port = 0, opts: { quiet?: boolean } = {}): P
       if (hit) return Promise.resolve(hit)
       return new Promise((resolve, reject) => {
         const t = setTimeout(() => reject(new Error('no matching mail arrived')), timeoutMs)
-        waiters.push({ pred, resolve: (m) => { clearTimeout(t); resolve(m) } })
+        waiters.push({
+          pred,
+          resolve: (m) => {
+            clearTimeout(t)
+            resolve(m)
+          },
+        })
       })
     },
   }

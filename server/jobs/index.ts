@@ -8,5 +8,10 @@ import { createMailJob } from '../features/mail/mail.worker.ts'
 
 /** Every scheduled job of the product. Later features add theirs here. */
 export function createJobs(db: Db, config: Config, clock: Clock): DueJob[] {
-  return [createMailJob(db, config, clock), createChangeRequestJob(db, config, clock), createTripTestJob(db, config, clock), createBypassJob(db, config, clock)]
+  return [
+    createMailJob(db, config, clock),
+    createChangeRequestJob(db, config, clock),
+    createTripTestJob(db, config, clock),
+    createBypassJob(db, config, clock),
+  ]
 }

@@ -19,7 +19,13 @@ export const requireCsrf: RequestHandler = (req, _res, next) => {
   const a = Buffer.from(sent)
   const b = Buffer.from(expected)
   if (!expected || a.length !== b.length || !timingSafeEqual(a, b)) {
-    return next(new AppError(403, ErrorCode.CSRF_INVALID, 'The page is out of date (security token missing or wrong); reload and try again'))
+    return next(
+      new AppError(
+        403,
+        ErrorCode.CSRF_INVALID,
+        'The page is out of date (security token missing or wrong); reload and try again',
+      ),
+    )
   }
   next()
 }

@@ -17,20 +17,34 @@ export function zodFields(err: ZodError): Record<string, string[]> {
 /** The single error handler, registered last: every error becomes `{ error: { code, message, details? } }`. */
 export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
   if (err instanceof AppError) {
-    res.status(err.status).json({ error: { code: err.code, message: err.message, ...(err.details ? { details: err.details } : {}) } })
+    res
+      .status(err.status)
+      .json({ error: { code: err.code, message: err.message, ...(err.details ? { details: err.details } : {}) } })
     return
   }
   if (err instanceof ZodError) {
-    res.status(400).json({ error: { code: ErrorCode.VALIDATION_FAILED, message: 'Some fields need attention', details: { fields: zodFields(err) } } })
+    res
+      .status(400)
+      .json({
+        error: {
+          code: ErrorCode.VALIDATION_FAILED,
+          message: 'Some fields need attention',
+          details: { fields: zodFields(err) },
+        },
+      })
     return
   }
   if (err instanceof ForbiddenError) {
-    res.status(403).json({ error: { code: ErrorCode.FORBIDDEN, message: err.message || 'You are not allowed to do this' } })
+    res
+      .status(403)
+      .json({ error: { code: ErrorCode.FORBIDDEN, message: err.message || 'You are not allowed to do this' } })
     return
   }
-  const e = err as { type?: string, status?: number, code?: string }
+  const e = err as { type?: string; status?: number; code?: string }
   if (e?.type === 'entity.parse.failed') {
-    res.status(400).json({ error: { code: ErrorCode.VALIDATION_FAILED, message: 'The request body is not valid JSON' } })
+    res
+      .status(400)
+      .json({ error: { code: ErrorCode.VALIDATION_FAILED, message: 'The request body is not valid JSON' } })
     return
   }
   if (e?.type === 'entity.too.large') {
@@ -38,9 +52,20 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     return
   }
   if (e?.code === '40001' || e?.code === '23505') {
-    res.status(409).json({ error: { code: ErrorCode.CONFLICT, message: 'Someone else changed this at the same time; reload and try again' } })
+    res
+      .status(409)
+      .json({
+        error: {
+          code: ErrorCode.CONFLICT,
+          message: 'Someone else changed this at the same time; reload and try again',
+        },
+      })
     return
   }
   console.error(`[${req.id}]`, err)
-  res.status(500).json({ error: { code: ErrorCode.INTERNAL, message: 'Something went wrong on the server; the change was not saved' } })
+  res
+    .status(500)
+    .json({
+      error: { code: ErrorCode.INTERNAL, message: 'Something went wrong on the server; the change was not saved' },
+    })
 }

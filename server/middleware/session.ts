@@ -9,7 +9,13 @@ export function createSessionMiddleware(config: Config, pool: pg.Pool) {
   return session({
     name: 'limitkeeper.sid',
     secret: config.SESSION_SECRET,
-    store: new PgStore({ pool, tableName: 'session', createTableIfMissing: false, disableTouch: true, pruneSessionInterval: config.NODE_ENV === 'test' ? false : 600 }),
+    store: new PgStore({
+      pool,
+      tableName: 'session',
+      createTableIfMissing: false,
+      disableTouch: true,
+      pruneSessionInterval: config.NODE_ENV === 'test' ? false : 600,
+    }),
     resave: false,
     saveUninitialized: false,
     // the cookie is renewed when the session is saved (lastSeenAt moves at most once a minute); the idle and absolute

@@ -7,7 +7,11 @@ import type { Config } from '../config.ts'
 import type { Db } from '../db/index.ts'
 import type { AppDeps } from '../deps.ts'
 import { activateBypass, authorizeBypass, requestBypass } from '../features/bypasses/bypasses.service.ts'
-import { approveChangeRequest, createChangeRequest, submitChangeRequest } from '../features/change-requests/change-requests.service.ts'
+import {
+  approveChangeRequest,
+  createChangeRequest,
+  submitChangeRequest,
+} from '../features/change-requests/change-requests.service.ts'
 import { createTripTest, signDegradationMeasures, signTripTest } from '../features/trip-tests/trip-tests.service.ts'
 import { findRolesByUserIds } from '../features/users/users.repository.ts'
 import { DEMO_PASSWORD } from './demo.ts'
@@ -18,7 +22,10 @@ const DAY = 86_400_000
 export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Promise<void> {
   const deps: AppDeps = { db, pool: undefined as never, clock, config }
   const users = await db.selectFrom('app_user').select(['id', 'email']).execute()
-  const roles = await findRolesByUserIds(db, users.map((u) => u.id))
+  const roles = await findRolesByUserIds(
+    db,
+    users.map((u) => u.id),
+  )
   const as = (who: string) => {
     const u = users.find((x) => x.email === `${who}@fernhollow.example`)!
     const user = { id: u.id, roles: roles.get(u.id) ?? [] }
@@ -30,10 +37,26 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
   const approver = as('approver')
   const op = as('operator')
   const fhr = await db.selectFrom('site').select('id').where('code', '=', 'FHR').executeTakeFirstOrThrow()
-  const active = await db.selectFrom('limit_function').innerJoin('instrument', 'instrument.id', 'limit_function.primary_instrument_id')
-    .select(['limit_function.id', 'limit_function.tag', 'limit_function.setpoint', 'limit_function.limit_class', 'limit_function.sil', 'limit_function.bypass_permitted',
-      'limit_function.max_bypass_hours', 'limit_function.test_interval_months', 'instrument.signal', 'instrument.range_low', 'instrument.range_high'])
-    .where('limit_function.site_id', '=', fhr.id).where('limit_function.status', '=', 'active').orderBy('limit_function.tag').execute()
+  const active = await db
+    .selectFrom('limit_function')
+    .innerJoin('instrument', 'instrument.id', 'limit_function.primary_instrument_id')
+    .select([
+      'limit_function.id',
+      'limit_function.tag',
+      'limit_function.setpoint',
+      'limit_function.limit_class',
+      'limit_function.sil',
+      'limit_function.bypass_permitted',
+      'limit_function.max_bypass_hours',
+      'limit_function.test_interval_months',
+      'instrument.signal',
+      'instrument.range_low',
+      'instrument.range_high',
+    ])
+    .where('limit_function.site_id', '=', fhr.id)
+    .where('limit_function.status', '=', 'active')
+    .orderBy('limit_function.tag')
+    .execute()
   const now = clock.now().getTime()
   const calibratorDue = new Date(now + 120 * DAY).toISOString().slice(0, 10)
 
@@ -43,58 +66,137 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
     const performedAt = new Date(now - (20 + i * 25) * DAY).toISOString()
     const setpoint = Number(l.setpoint)
     const t = await createTripTest(deps, tech.ability, tech.ctx, {
-      limitId: l.id, kind: 'full', method: 'injection', injectionPoint: 'sensor', sourceMode: (l.signal as { kind: string }).kind === 'thermocouple' ? 'tc_simulate' : null,
-      coldJunctionC: null, procedureRef: 'FHR-MP-017 limit proving', deviceSerial: `SN-${4100 + i}`, calibratorId: 'CAL-FHR-03', calibratorDueDate: calibratorDue,
-      workOrder: `WO-26-${3300 + i}`, bypassId: null, performedAt, tolerance: null, toleranceUnit: 'percent_span', asFound: setpoint, asFoundSignal: null, noTrip: false,
-      asLeft: null, resetValue: null, latchHeld: true, resetRefusedWhileActive: true, resetAcceptedAfterReturn: true, finalElementOk: true, responseTimeSec: null,
-      setpointRestoredReadBack: null, notes: 'Tripped at setpoint; reset checked.',
+      limitId: l.id,
+      kind: 'full',
+      method: 'injection',
+      injectionPoint: 'sensor',
+      sourceMode: (l.signal as { kind: string }).kind === 'thermocouple' ? 'tc_simulate' : null,
+      coldJunctionC: null,
+      procedureRef: 'FHR-MP-017 limit proving',
+      deviceSerial: `SN-${4100 + i}`,
+      calibratorId: 'CAL-FHR-03',
+      calibratorDueDate: calibratorDue,
+      workOrder: `WO-26-${3300 + i}`,
+      bypassId: null,
+      performedAt,
+      tolerance: null,
+      toleranceUnit: 'percent_span',
+      asFound: setpoint,
+      asFoundSignal: null,
+      noTrip: false,
+      asLeft: null,
+      resetValue: null,
+      latchHeld: true,
+      resetRefusedWhileActive: true,
+      resetAcceptedAfterReturn: true,
+      finalElementOk: true,
+      responseTimeSec: null,
+      setpointRestoredReadBack: null,
+      notes: 'Tripped at setpoint; reset checked.',
     })
     await signTripTest(deps, tech.ability, tech.ctx, t.id, 'performed', DEMO_PASSWORD, '')
-    if (i % 2 === 0) await signTripTest(deps, sup.ability, sup.ctx, t.id, 'accepted', DEMO_PASSWORD, 'Equipment back in service')
+    if (i % 2 === 0)
+      await signTripTest(deps, sup.ability, sup.ctx, t.id, 'accepted', DEMO_PASSWORD, 'Equipment back in service')
   }
 
   // one failed test: tripped late → degraded, with measures signed by the shift supervisor
   const failing = plain.find((l) => l.limit_class === 'trip' && !plain.slice(0, 12).includes(l)) ?? plain[12]
   if (failing) {
     const span = Number(failing.range_high) - Number(failing.range_low)
-    const late = Number(failing.setpoint) + 0.03 * span * (1)
+    const late = Number(failing.setpoint) + 0.03 * span * 1
     const t = await createTripTest(deps, tech.ability, tech.ctx, {
-      limitId: failing.id, kind: 'full', method: 'injection', injectionPoint: 'transmitter_output', sourceMode: null, coldJunctionC: null,
-      procedureRef: 'FHR-MP-017 limit proving', deviceSerial: 'SN-4199', calibratorId: 'CAL-FHR-03', calibratorDueDate: calibratorDue, workOrder: 'WO-26-3399',
-      bypassId: null, performedAt: new Date(now - 3 * DAY).toISOString(), tolerance: null, toleranceUnit: 'percent_span', asFound: Math.round(late * 100) / 100,
-      asFoundSignal: null, noTrip: false, asLeft: null, resetValue: null, latchHeld: true, resetRefusedWhileActive: true, resetAcceptedAfterReturn: true,
-      finalElementOk: true, responseTimeSec: null, setpointRestoredReadBack: null, notes: 'Tripped late; transmitter drift suspected. Replacement ordered.',
+      limitId: failing.id,
+      kind: 'full',
+      method: 'injection',
+      injectionPoint: 'transmitter_output',
+      sourceMode: null,
+      coldJunctionC: null,
+      procedureRef: 'FHR-MP-017 limit proving',
+      deviceSerial: 'SN-4199',
+      calibratorId: 'CAL-FHR-03',
+      calibratorDueDate: calibratorDue,
+      workOrder: 'WO-26-3399',
+      bypassId: null,
+      performedAt: new Date(now - 3 * DAY).toISOString(),
+      tolerance: null,
+      toleranceUnit: 'percent_span',
+      asFound: Math.round(late * 100) / 100,
+      asFoundSignal: null,
+      noTrip: false,
+      asLeft: null,
+      resetValue: null,
+      latchHeld: true,
+      resetRefusedWhileActive: true,
+      resetAcceptedAfterReturn: true,
+      finalElementOk: true,
+      responseTimeSec: null,
+      setpointRestoredReadBack: null,
+      notes: 'Tripped late; transmitter drift suspected. Replacement ordered.',
     })
     await signTripTest(deps, tech.ability, tech.ctx, t.id, 'performed', DEMO_PASSWORD, '')
     await signDegradationMeasures(deps, sup.ability, sup.ctx, failing.id, {
-      compensatingMeasures: ['Operator checks the local gauge every 30 minutes', 'Feed rate limited to 80 %'], repairDeadline: new Date(now + 7 * DAY).toISOString().slice(0, 10), password: DEMO_PASSWORD,
+      compensatingMeasures: ['Operator checks the local gauge every 30 minutes', 'Feed rate limited to 80 %'],
+      repairDeadline: new Date(now + 7 * DAY).toISOString().slice(0, 10),
+      password: DEMO_PASSWORD,
     })
   }
 
   // an active bypass with its predefined measures, authorized by the shift supervisor
-  const bypassable = active.find((l) => l.limit_class === 'trip' && l.bypass_permitted && l.id !== failing?.id && (l.max_bypass_hours === null || Number(l.max_bypass_hours) >= 6))
+  const bypassable = active.find(
+    (l) =>
+      l.limit_class === 'trip' &&
+      l.bypass_permitted &&
+      l.id !== failing?.id &&
+      (l.max_bypass_hours === null || Number(l.max_bypass_hours) >= 6),
+  )
   if (bypassable) {
     const b = await requestBypass(deps, op.ability, op.ctx, {
-      limitId: bypassable.id, reason: 'Transmitter swap during planned maintenance', plannedStart: new Date(now - 60_000).toISOString(),
-      plannedEnd: new Date(now + 5 * 3_600_000).toISOString(), predefinedMeasuresConfirmed: true, extraMeasures: [], channelInstrumentId: null, changeRequestId: null,
+      limitId: bypassable.id,
+      reason: 'Transmitter swap during planned maintenance',
+      plannedStart: new Date(now - 60_000).toISOString(),
+      plannedEnd: new Date(now + 5 * 3_600_000).toISOString(),
+      predefinedMeasuresConfirmed: true,
+      extraMeasures: [],
+      channelInstrumentId: null,
+      changeRequestId: null,
     })
-    await authorizeBypass(deps, sup.ability, sup.ctx, b.id, { password: DEMO_PASSWORD, comment: 'Measures in place, checked on the round' })
+    await authorizeBypass(deps, sup.ability, sup.ctx, b.id, {
+      password: DEMO_PASSWORD,
+      comment: 'Measures in place, checked on the round',
+    })
     await activateBypass(deps, op.ability, op.ctx, b.id)
   }
 
   // change requests: one waiting for approval, one approved and waiting for the technician
-  const candidates = active.filter((l) => l.sil === null && l.limit_class === 'alarm' && l.id !== failing?.id && l.id !== bypassable?.id)
-  const span = (l: typeof active[number]) => Number(l.range_high) - Number(l.range_low)
+  const candidates = active.filter(
+    (l) => l.sil === null && l.limit_class === 'alarm' && l.id !== failing?.id && l.id !== bypassable?.id,
+  )
+  const span = (l: (typeof active)[number]) => Number(l.range_high) - Number(l.range_low)
   for (const [i, l] of candidates.slice(0, 2).entries()) {
     const step = Math.round(span(l) * 0.005 * 100) / 100
     try {
       const id = await createChangeRequest(deps, eng.ability, eng.ctx, {
-        siteId: fhr.id, type: 'permanent', title: `Alarm ${l.tag}: setpoint ${i === 0 ? 'raised' : 'lowered'} after alarm rationalization`,
-        rationale: 'Alarm rationalization workshop 2026-11: the alarm came in during normal swings without operator action needed.', hazardReference: 'HAZOP FHR-2024 node 7',
-        expiresAt: null, items: [{ kind: 'modify', limitId: l.id, changes: { setpoint: Number(l.setpoint) + (i === 0 ? step : -step) } }],
+        siteId: fhr.id,
+        type: 'permanent',
+        title: `Alarm ${l.tag}: setpoint ${i === 0 ? 'raised' : 'lowered'} after alarm rationalization`,
+        rationale:
+          'Alarm rationalization workshop 2026-11: the alarm came in during normal swings without operator action needed.',
+        hazardReference: 'HAZOP FHR-2024 node 7',
+        expiresAt: null,
+        items: [
+          { kind: 'modify', limitId: l.id, changes: { setpoint: Number(l.setpoint) + (i === 0 ? step : -step) } },
+        ],
       })
       await submitChangeRequest(deps, eng.ability, eng.ctx, id)
-      if (i === 1) await approveChangeRequest(deps, approver.ability, approver.ctx, id, DEMO_PASSWORD, 'Agreed with the rationalization record')
+      if (i === 1)
+        await approveChangeRequest(
+          deps,
+          approver.ability,
+          approver.ctx,
+          id,
+          DEMO_PASSWORD,
+          'Agreed with the rationalization record',
+        )
     } catch (err) {
       // a demo change that does not fit its window is simply not seeded
       console.warn(`demo change for ${l.tag} skipped: ${err instanceof Error ? err.message : err}`)

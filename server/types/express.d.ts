@@ -2,7 +2,12 @@ import type { AppAbility } from '../../shared/abilities/index.ts'
 import type { RoleAssignment } from '../../shared/schemas/users.ts'
 import type { AuditContext } from '../features/audit/audit.repository.ts'
 
-export interface CurrentUser { id: number, email: string, displayName: string, roles: RoleAssignment[] }
+export interface CurrentUser {
+  id: number
+  email: string
+  displayName: string
+  roles: RoleAssignment[]
+}
 
 declare global {
   namespace Express {

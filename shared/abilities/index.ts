@@ -3,20 +3,50 @@ import type { Role, RoleAssignment } from '../schemas/users.ts'
 
 /** Actions of DOMAIN.md §2, as CASL verbs. */
 export type Action =
-  | 'manage' | 'read' | 'create' | 'update' | 'delete'
-  | 'assign_roles' | 'import' | 'submit' | 'approve' | 'implement' | 'close'
-  | 'record' | 'witness' | 'accept' | 'request' | 'authorize' | 'activate' | 'remove' | 'review'
+  | 'manage'
+  | 'read'
+  | 'create'
+  | 'update'
+  | 'delete'
+  | 'assign_roles'
+  | 'import'
+  | 'submit'
+  | 'approve'
+  | 'implement'
+  | 'close'
+  | 'record'
+  | 'witness'
+  | 'accept'
+  | 'request'
+  | 'authorize'
+  | 'activate'
+  | 'remove'
+  | 'review'
 
 /** Subjects: PascalCase singular. Site-scoped subjects carry `siteId` (a Site carries `id`). */
 export type SubjectName =
-  | 'User' | 'Site' | 'Area' | 'Process' | 'Instrument' | 'Limit' | 'ChangeRequest' | 'TripTest'
-  | 'Bypass' | 'BypassReview' | 'AuditEvent' | 'Mail' | 'all'
+  | 'User'
+  | 'Site'
+  | 'Area'
+  | 'Process'
+  | 'Instrument'
+  | 'Limit'
+  | 'ChangeRequest'
+  | 'TripTest'
+  | 'Bypass'
+  | 'BypassReview'
+  | 'AuditEvent'
+  | 'Mail'
+  | 'all'
 
 export type AppAbility = MongoAbility<[Action, SubjectName | Record<string, unknown>]>
 export type AppRule = RawRuleOf<AppAbility>
 
 /** What the abilities need to know about the signed-in user. */
-export interface AbilityUser { id: number, roles: RoleAssignment[] }
+export interface AbilityUser {
+  id: number
+  roles: RoleAssignment[]
+}
 
 const SITE_SCOPED: SubjectName[] = ['Area', 'Process', 'Instrument', 'Limit', 'ChangeRequest', 'TripTest', 'Bypass']
 
@@ -24,7 +54,9 @@ const SITE_SCOPED: SubjectName[] = ['Area', 'Process', 'Instrument', 'Limit', 'C
 export function defineRulesFor(user: AbilityUser | null): AppRule[] {
   const { can, cannot, rules } = new AbilityBuilder<AppAbility>(createMongoAbility)
   if (!user) return rules
-  const sitesWith = (...roles: Role[]) => [...new Set(user.roles.filter((r) => roles.includes(r.role)).map((r) => r.siteId))]
+  const sitesWith = (...roles: Role[]) => [
+    ...new Set(user.roles.filter((r) => roles.includes(r.role)).map((r) => r.siteId)),
+  ]
   const allSites = [...new Set(user.roles.map((r) => r.siteId))]
   const has = (...roles: Role[]) => sitesWith(...roles).length > 0
 

@@ -44,8 +44,14 @@ export function valueFromCurrent(mA: number, low: number, high: number): number 
 export function sqrtCurrentFromFlow(flow: number, low: number, high: number): number {
   const x = fractionOfSpan(flow, low, high)
   if (!Number.isFinite(x) || x < 0) {
-    throw new OutOfRangeError('flow', flow, Math.min(low, high), Number.POSITIVE_INFINITY, 'eu',
-      'a square-root (ΔP) signal cannot represent a flow below the bottom of the range')
+    throw new OutOfRangeError(
+      'flow',
+      flow,
+      Math.min(low, high),
+      Number.POSITIVE_INFINITY,
+      'eu',
+      'a square-root (ΔP) signal cannot represent a flow below the bottom of the range',
+    )
   }
   return MA_LOW + MA_SPAN * x * x
 }
@@ -69,7 +75,10 @@ export function flowFromSqrtCurrent(mA: number, low: number, high: number, optio
 }
 
 /** Voltage signal ranges: 0–10 V, 1–5 V, 0–5 V (and 1–10 V, which the data model also allows). */
-export interface VoltageRange { low: 0 | 1, high: 5 | 10 }
+export interface VoltageRange {
+  low: 0 | 1
+  high: 5 | 10
+}
 
 /** Voltage for an engineering value over low … high on a voltage signal, linear. */
 export function voltageFromValue(value: number, low: number, high: number, signal: VoltageRange): number {
@@ -98,10 +107,15 @@ export function currentFromShuntVoltage(volts: number, ohms: number = SHUNT_OHMS
  * failure_high (≥ 21.0).
  */
 export type Ne43Class =
-  | 'failure_low' | 'uncertain_low' | 'under_range' | 'measuring' | 'over_range' | 'uncertain_high' | 'failure_high'
+  'failure_low' | 'uncertain_low' | 'under_range' | 'measuring' | 'over_range' | 'uncertain_high' | 'failure_high'
 
 /** Thresholds of the NE 43 classification, mA; configurable per loop for devices that signal failure elsewhere. */
-export interface Ne43Thresholds { failureLow: number, measureLow: number, measureHigh: number, failureHigh: number }
+export interface Ne43Thresholds {
+  failureLow: number
+  measureLow: number
+  measureHigh: number
+  failureHigh: number
+}
 
 /** NE 43 thresholds (3.6 / 3.8 / 20.5 / 21.0 mA) [NE 43 via analog-signals.md]. */
 export const NE43_THRESHOLDS: Ne43Thresholds = { failureLow: 3.6, measureLow: 3.8, measureHigh: 20.5, failureHigh: 21 }

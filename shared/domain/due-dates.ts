@@ -97,7 +97,8 @@ const iso = (day: TZDate): string => format(day, 'yyyy-MM-dd')
 /** Computes the full-test due date, grace end, status and late tests of a limit (pure; `now` is an input). */
 export function computeDueDates(input: DueDateInput): DueDateResult {
   const { testIntervalMonths: months, timeZone } = input
-  if (!Number.isInteger(months) || months < 1) throw new RangeError('test interval must be a whole number of months ≥ 1')
+  if (!Number.isInteger(months) || months < 1)
+    throw new RangeError('test interval must be a whole number of months ≥ 1')
   if (input.testGraceDays !== null && (!Number.isInteger(input.testGraceDays) || input.testGraceDays < 0)) {
     throw new RangeError('grace days must be a whole number ≥ 0')
   }
@@ -151,11 +152,14 @@ export function computeDueDates(input: DueDateInput): DueDateResult {
   const graceEnd = addDays(due, graceDays)
   const daysUntilDue = differenceInCalendarDays(due, today)
   const daysUntilGraceEnd = differenceInCalendarDays(graceEnd, today)
-  const status: TestDueStatus = daysUntilGraceEnd < 0
-    ? 'overdue'
-    : daysUntilDue < 0
-      ? 'in_grace'
-      : daysUntilDue <= DUE_SOON_DAYS ? 'due_soon' : 'ok'
+  const status: TestDueStatus =
+    daysUntilGraceEnd < 0
+      ? 'overdue'
+      : daysUntilDue < 0
+        ? 'in_grace'
+        : daysUntilDue <= DUE_SOON_DAYS
+          ? 'due_soon'
+          : 'ok'
 
   return {
     lastFullPass: iso(lastPass),

@@ -22,8 +22,10 @@ export class OutOfRangeError extends Error {
 
   /** Builds the error; `explanation` is appended to the standard message. */
   constructor(quantity: string, value: number, min: number, max: number, unit: string, explanation?: string) {
-    super(`${quantity} ${show(value)} ${unit} is outside the valid range ${show(min)} … ${show(max)} ${unit}`
-      + (explanation ? `: ${explanation}` : ''))
+    super(
+      `${quantity} ${show(value)} ${unit} is outside the valid range ${show(min)} … ${show(max)} ${unit}` +
+        (explanation ? `: ${explanation}` : ''),
+    )
     this.name = 'OutOfRangeError'
     this.quantity = quantity
     this.value = value

@@ -103,7 +103,10 @@ export const RANGE_END_MARGIN_PERCENT_SPAN = 5
 
 // ---- exact decimals: value = units × 10^−scale ----
 
-interface Dec { units: bigint, scale: number }
+interface Dec {
+  units: bigint
+  scale: number
+}
 
 function dec(value: number): Dec {
   if (!Number.isFinite(value)) throw new RangeError(`not a finite number: ${String(value)}`)
@@ -230,8 +233,9 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
     }
   }
 
-  const siblings = input.siblings.filter((s) =>
-    s.status !== 'retired' && !(limit.id !== null && String(s.id) === String(limit.id)))
+  const siblings = input.siblings.filter(
+    (s) => s.status !== 'retired' && !(limit.id !== null && String(s.id) === String(limit.id)),
+  )
 
   // 3b. a trip lies beyond every alarm of the same direction, strictly; an alarm before every trip
   for (const s of siblings) {
@@ -242,17 +246,19 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
     const ordered = high ? gt(tripValue, alarmValue) : lt(tripValue, alarmValue)
     if (ordered) continue
     const side = high ? 'above' : 'below'
-    errors.push(trip
-      ? {
-          code: 'TRIP_NOT_BEYOND_ALARM',
-          field: 'setpoint',
-          message: `${limit.direction} trip setpoint ${fmt(sp)} must be ${side} ${limit.direction} alarm ${siblingName(s)} at ${fmt(other)}`,
-        }
-      : {
-          code: 'ALARM_NOT_BEFORE_TRIP',
-          field: 'setpoint',
-          message: `${limit.direction} alarm setpoint ${fmt(sp)} must be ${high ? 'below' : 'above'} ${limit.direction} trip ${siblingName(s)} at ${fmt(other)}`,
-        })
+    errors.push(
+      trip
+        ? {
+            code: 'TRIP_NOT_BEYOND_ALARM',
+            field: 'setpoint',
+            message: `${limit.direction} trip setpoint ${fmt(sp)} must be ${side} ${limit.direction} alarm ${siblingName(s)} at ${fmt(other)}`,
+          }
+        : {
+            code: 'ALARM_NOT_BEFORE_TRIP',
+            field: 'setpoint',
+            message: `${limit.direction} alarm setpoint ${fmt(sp)} must be ${high ? 'below' : 'above'} ${limit.direction} trip ${siblingName(s)} at ${fmt(other)}`,
+          },
+    )
   }
 
   // 4. the return threshold (high: setpoint − deadband; low: setpoint + deadband) stays out of the normal range
@@ -273,7 +279,10 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
 
   // 5. design limits inside the measuring range, ends included
   if (rangeOk) {
-    for (const [name, value] of [['design low', instrument.designLow], ['design high', instrument.designHigh]] as const) {
+    for (const [name, value] of [
+      ['design low', instrument.designLow],
+      ['design high', instrument.designHigh],
+    ] as const) {
       if (value === null) continue
       const d = dec(value)
       if (lt(d, lo) || gt(d, hi)) {
@@ -329,8 +338,11 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
   }
 
   // 8. sensor failure drives the signal away from the trip, and no bad-value trip is recorded
-  if (trip && !limit.badValueTrip &&
-    ((high && instrument.burnout === 'downscale') || (!high && instrument.burnout === 'upscale'))) {
+  if (
+    trip &&
+    !limit.badValueTrip &&
+    ((high && instrument.burnout === 'downscale') || (!high && instrument.burnout === 'upscale'))
+  ) {
     warnings.push({
       code: 'BURNOUT_AWAY_FROM_TRIP',
       field: 'badValueTrip',

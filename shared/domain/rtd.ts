@@ -26,15 +26,11 @@ export const R0_BY_ELEMENT: Record<RtdElement, number> = { Pt100: 100, Pt1000: 1
 const EDGE_EPS = 1e-9
 
 function ratio(t: number): number {
-  return t < 0
-    ? 1 + CVD_A * t + CVD_B * t * t + CVD_C * (t - 100) * t * t * t
-    : 1 + CVD_A * t + CVD_B * t * t
+  return t < 0 ? 1 + CVD_A * t + CVD_B * t * t + CVD_C * (t - 100) * t * t * t : 1 + CVD_A * t + CVD_B * t * t
 }
 
 function ratioDerivative(t: number): number {
-  return t < 0
-    ? CVD_A + 2 * CVD_B * t + CVD_C * (4 * t * t * t - 300 * t * t)
-    : CVD_A + 2 * CVD_B * t
+  return t < 0 ? CVD_A + 2 * CVD_B * t + CVD_C * (4 * t * t * t - 300 * t * t) : CVD_A + 2 * CVD_B * t
 }
 
 function checkR0(r0: number): void {
@@ -45,7 +41,14 @@ function checkR0(r0: number): void {
 export function rtdResistance(tC: number, r0: number): number {
   checkR0(r0)
   if (!Number.isFinite(tC) || tC < RTD_T_MIN - EDGE_EPS || tC > RTD_T_MAX + EDGE_EPS) {
-    throw new OutOfRangeError('temperature', tC, RTD_T_MIN, RTD_T_MAX, '°C', 'the IEC 60751 relationship is defined from −200 to 850 °C')
+    throw new OutOfRangeError(
+      'temperature',
+      tC,
+      RTD_T_MIN,
+      RTD_T_MAX,
+      '°C',
+      'the IEC 60751 relationship is defined from −200 to 850 °C',
+    )
   }
   return r0 * ratio(Math.min(RTD_T_MAX, Math.max(RTD_T_MIN, tC)))
 }
@@ -60,7 +63,14 @@ export function rtdTemperature(rOhm: number, r0: number): number {
   const rMin = r0 * ratio(RTD_T_MIN)
   const rMax = r0 * ratio(RTD_T_MAX)
   if (!Number.isFinite(rOhm) || rOhm < rMin || rOhm > rMax) {
-    throw new OutOfRangeError('resistance', rOhm, rMin, rMax, 'ohm', 'the IEC 60751 relationship is defined from −200 to 850 °C')
+    throw new OutOfRangeError(
+      'resistance',
+      rOhm,
+      rMin,
+      rMax,
+      'ohm',
+      'the IEC 60751 relationship is defined from −200 to 850 °C',
+    )
   }
   const w = rOhm / r0
   const quadratic = (-CVD_A + Math.sqrt(CVD_A * CVD_A - 4 * CVD_B * (1 - w))) / (2 * CVD_B)

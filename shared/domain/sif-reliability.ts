@@ -99,7 +99,7 @@ export function subsystemPfd(subsystem: Subsystem, options: SubsystemPfdOptions 
   const lambdaD = lambdaDu + lambdaDd
   if (lambdaD === 0) return 0
   // mean hidden time of an undetected failure counted over the k-th of a group of failures (k = 2, 3, 4)
-  const hidden = (k: number): number => coverage * ti / k + (1 - coverage) * fullInterval / k
+  const hidden = (k: number): number => (coverage * ti) / k + ((1 - coverage) * fullInterval) / k
   const groupTime = (k: number): number => (lambdaDu / lambdaD) * (hidden(k) + mttr) + (lambdaDd / lambdaD) * mttr
   const tCE = groupTime(2)
   const tGE = groupTime(3)
@@ -108,12 +108,18 @@ export function subsystemPfd(subsystem: Subsystem, options: SubsystemPfdOptions 
   const commonCause = betaD * lambdaDd * mttr + beta * lambdaDu * (hidden(2) + mttr)
 
   switch (architecture) {
-    case '1oo1': return lambdaD * tCE
-    case '2oo2': return 2 * lambdaD * tCE
-    case '1oo2': return 2 * independent ** 2 * tCE * tGE + commonCause
-    case '2oo3': return 6 * independent ** 2 * tCE * tGE + commonCause
-    case '1oo3': return 6 * independent ** 3 * tCE * tGE * tG2E + commonCause
-    default: throw new RangeError(`unknown architecture: ${String(architecture)}`)
+    case '1oo1':
+      return lambdaD * tCE
+    case '2oo2':
+      return 2 * lambdaD * tCE
+    case '1oo2':
+      return 2 * independent ** 2 * tCE * tGE + commonCause
+    case '2oo3':
+      return 6 * independent ** 2 * tCE * tGE + commonCause
+    case '1oo3':
+      return 6 * independent ** 3 * tCE * tGE * tG2E + commonCause
+    default:
+      throw new RangeError(`unknown architecture: ${String(architecture)}`)
   }
 }
 
@@ -191,7 +197,7 @@ export interface EffectivePfdInput {
    * The bypass defeated one channel of the (first) subsystem with this role, not the whole function;
    * its voting degrades for that time (DEFAULT_DEGRADED_ARCHITECTURE unless given).
    */
-  bypassedSingleChannel?: { role: SubsystemRole, degradedArchitecture?: Architecture | 'lost' } | null
+  bypassedSingleChannel?: { role: SubsystemRole; degradedArchitecture?: Architecture | 'lost' } | null
 }
 
 /** Per-subsystem detail of an effective PFDavg. */
@@ -239,9 +245,10 @@ export function effectivePfd(input: EffectivePfdInput): EffectivePfdResult {
     let degradedPfd: number | null = null
     if (i === bypassedIndex && single !== null) {
       degradedArchitecture = single.degradedArchitecture ?? DEFAULT_DEGRADED_ARCHITECTURE[s.architecture]
-      degradedPfd = degradedArchitecture === 'lost'
-        ? 1
-        : subsystemPfd(s, { testIntervalHours: actualIntervalHours, architecture: degradedArchitecture })
+      degradedPfd =
+        degradedArchitecture === 'lost'
+          ? 1
+          : subsystemPfd(s, { testIntervalHours: actualIntervalHours, architecture: degradedArchitecture })
     }
     return {
       role: s.role,
@@ -257,9 +264,13 @@ export function effectivePfd(input: EffectivePfdInput): EffectivePfdResult {
 
   const designPfd = details.reduce((sum, d) => sum + d.designPfd, 0)
   const actualIntervalPfd = details.reduce((sum, d) => sum + d.actualPfd, 0)
-  const pfdDuringBypass = single === null
-    ? 1
-    : Math.min(1, details.reduce((sum, d) => sum + (d.degradedPfd ?? d.actualPfd), 0))
+  const pfdDuringBypass =
+    single === null
+      ? 1
+      : Math.min(
+          1,
+          details.reduce((sum, d) => sum + (d.degradedPfd ?? d.actualPfd), 0),
+        )
   const bypassFraction = bypassedHours / periodHours
   return {
     designPfd,

@@ -1,6 +1,15 @@
 import {
-  classifyCurrent, currentFromShuntVoltage, currentFromValue, flowFromSqrtCurrent, isMeasurementCurrent, shuntVoltage,
-  SHUNT_OHMS, sqrtCurrentFromFlow, valueFromCurrent, valueFromVoltage, voltageFromValue,
+  classifyCurrent,
+  currentFromShuntVoltage,
+  currentFromValue,
+  flowFromSqrtCurrent,
+  isMeasurementCurrent,
+  shuntVoltage,
+  SHUNT_OHMS,
+  sqrtCurrentFromFlow,
+  valueFromCurrent,
+  valueFromVoltage,
+  voltageFromValue,
 } from './analog-signal.ts'
 import { MissingInputError, OutOfRangeError, UnitConversionError } from './errors.ts'
 import { R0_BY_ELEMENT, rtdResistance, rtdTemperature, type RtdElement } from './rtd.ts'
@@ -15,43 +24,55 @@ import { convertValue, variableOfUnit } from './units.ts'
 
 /** The signal of an instrument (DOMAIN §3 Instrument.signal). */
 export type TestSignalSpec =
-  | { kind: 'thermocouple', tcType: TcType, headTransmitter: boolean }
-  | { kind: 'rtd', element: RtdElement, wires: 2 | 3 | 4, headTransmitter: boolean }
-  | { kind: 'current', sqrtExtraction: boolean }
-  | { kind: 'voltage', low: 0 | 1, high: 5 | 10 }
+  | { kind: 'thermocouple'; tcType: TcType; headTransmitter: boolean }
+  | { kind: 'rtd'; element: RtdElement; wires: 2 | 3 | 4; headTransmitter: boolean }
+  | { kind: 'current'; sqrtExtraction: boolean }
+  | { kind: 'voltage'; low: 0 | 1; high: 5 | 10 }
   | { kind: 'switch' }
 
 /** The instrument fields the test signal needs. */
-export interface TestSignalInstrument { unit: string, rangeLow: number, rangeHigh: number, signal: TestSignalSpec }
+export interface TestSignalInstrument {
+  unit: string
+  rangeLow: number
+  rangeHigh: number
+  signal: TestSignalSpec
+}
 
 /** The limit fields the test signal needs; tolerance is the trip-test tolerance (omit it to skip the ± points). */
 export interface TestSignalLimit {
-  direction: 'high' | 'low',
-  setpoint: number,
-  deadband: number,
-  deadbandUnit: 'eu' | 'percent_span',
-  tolerance?: number | null,
-  toleranceUnit?: 'eu' | 'percent_span',
+  direction: 'high' | 'low'
+  setpoint: number
+  deadband: number
+  deadbandUnit: 'eu' | 'percent_span'
+  tolerance?: number | null
+  toleranceUnit?: 'eu' | 'percent_span'
 }
 
 /** How the thermocouple signal is produced, and the cold-junction (instrument terminal) temperature in °C. */
-export interface TestSignalOptions { mode?: 'mv_source' | 'tc_simulate', coldJunctionC?: number | null }
+export interface TestSignalOptions {
+  mode?: 'mv_source' | 'tc_simulate'
+  coldJunctionC?: number | null
+}
 
 /** Unit of the injected signal; 'eu' means the instrument's engineering unit. */
 export type SignalUnit = 'mA' | 'mV' | 'ohm' | 'V' | 'eu'
 
 /** One further value shown beside the main test signal. */
-export interface TestSignalAlternative { label: string, unit: string, value: number }
+export interface TestSignalAlternative {
+  label: string
+  unit: string
+  value: number
+}
 
 /** The test-signal answer (DOMAIN §3). */
 export interface TestSignal {
-  unit: SignalUnit,
-  value: number,
-  engineering: { value: number, unit: string },
-  alternatives: TestSignalAlternative[],
-  components: Record<string, number>,
-  flags: string[],
-  notes: string[],
+  unit: SignalUnit
+  value: number
+  engineering: { value: number; unit: string }
+  alternatives: TestSignalAlternative[]
+  components: Record<string, number>
+  flags: string[]
+  notes: string[]
 }
 
 function roundTo(x: number, decimals: number): number {
@@ -74,7 +95,12 @@ function span(instrument: TestSignalInstrument): number {
   return s
 }
 
-function toEu(value: number, unit: 'eu' | 'percent_span' | undefined, instrument: TestSignalInstrument, field: string): number {
+function toEu(
+  value: number,
+  unit: 'eu' | 'percent_span' | undefined,
+  instrument: TestSignalInstrument,
+  field: string,
+): number {
   if (!(Number.isFinite(value) && value >= 0)) throw new RangeError(`${field} must be a number ≥ 0, got ${value}`)
   return unit === 'percent_span' ? (value / 100) * span(instrument) : value
 }
@@ -87,8 +113,11 @@ function celsiusOf(value: number, instrument: TestSignalInstrument): number {
     variable = ''
   }
   if (variable !== 'temperature') {
-    throw new UnitConversionError(instrument.unit, '°C',
-      `A ${instrument.signal.kind} instrument needs a temperature unit (°C, °F or K), not '${instrument.unit}'`)
+    throw new UnitConversionError(
+      instrument.unit,
+      '°C',
+      `A ${instrument.signal.kind} instrument needs a temperature unit (°C, °F or K), not '${instrument.unit}'`,
+    )
   }
   return convertValue(value, instrument.unit, '°C')
 }
@@ -96,13 +125,18 @@ function celsiusOf(value: number, instrument: TestSignalInstrument): number {
 function coldJunction(options: TestSignalOptions): number {
   const cj = options.coldJunctionC
   if (cj === undefined || cj === null || !Number.isFinite(cj)) {
-    throw new MissingInputError('coldJunctionC',
-      'The cold-junction temperature (the instrument terminal temperature, °C) is required for a millivolt source')
+    throw new MissingInputError(
+      'coldJunctionC',
+      'The cold-junction temperature (the instrument terminal temperature, °C) is required for a millivolt source',
+    )
   }
   return cj
 }
 
-interface SignalPoint { unit: SignalUnit, value: number }
+interface SignalPoint {
+  unit: SignalUnit
+  value: number
+}
 
 /** The injected signal (unrounded) for one engineering value; throws OutOfRangeError outside the reference function. */
 function signalAt(instrument: TestSignalInstrument, eu: number, options: TestSignalOptions): SignalPoint {
@@ -149,7 +183,11 @@ function fmt(value: number, unit: string): string {
  * `coldJunctionC`), OutOfRangeError (setpoint outside the reference function or signal), UnitConversionError
  * (thermocouple/RTD instrument without a temperature unit).
  */
-export function computeTestSignal(instrument: TestSignalInstrument, limit: TestSignalLimit, options: TestSignalOptions = {}): TestSignal {
+export function computeTestSignal(
+  instrument: TestSignalInstrument,
+  limit: TestSignalLimit,
+  options: TestSignalOptions = {},
+): TestSignal {
   const signal = instrument.signal
   const sp = limit.setpoint
   if (!Number.isFinite(sp)) throw new RangeError(`setpoint must be a number, got ${sp}`)
@@ -165,7 +203,9 @@ export function computeTestSignal(instrument: TestSignalInstrument, limit: TestS
   span(instrument)
   if (sp < low || sp > high) {
     flags.push('setpoint_outside_range')
-    notes.push(`The setpoint ${sp} ${eu} lies outside the instrument range ${instrument.rangeLow} … ${instrument.rangeHigh} ${eu}.`)
+    notes.push(
+      `The setpoint ${sp} ${eu} lies outside the instrument range ${instrument.rangeLow} … ${instrument.rangeHigh} ${eu}.`,
+    )
   }
 
   switch (signal.kind) {
@@ -178,24 +218,41 @@ export function computeTestSignal(instrument: TestSignalInstrument, limit: TestS
         const cj = coldJunction(options)
         components.coldJunctionC = cj
         components.emfColdJunctionMv = roundTo(thermocoupleEmf(signal.tcType, cj), 4)
-        alternatives.push({ label: 'Emf with the reference junction at 0 °C (table value)', unit: 'mV', value: roundSignal(emf, 'mV') })
-        notes.push(`Inject ${fmt(main.value, 'mV')} with a millivolt source at the instrument terminals, connected with copper leads: `
-          + `E(setpoint) − E(cold junction) for type ${signal.tcType} (ITS-90), cold junction ${cj} °C. `
-          + 'Measure the terminal temperature when you test; the value changes by about the Seebeck coefficient per °C.')
+        alternatives.push({
+          label: 'Emf with the reference junction at 0 °C (table value)',
+          unit: 'mV',
+          value: roundSignal(emf, 'mV'),
+        })
+        notes.push(
+          `Inject ${fmt(main.value, 'mV')} with a millivolt source at the instrument terminals, connected with copper leads: ` +
+            `E(setpoint) − E(cold junction) for type ${signal.tcType} (ITS-90), cold junction ${cj} °C. ` +
+            'Measure the terminal temperature when you test; the value changes by about the Seebeck coefficient per °C.',
+        )
       } else {
-        alternatives.push({ label: 'Emf with the reference junction at 0 °C (table value)', unit: 'mV', value: roundSignal(emf, 'mV') })
+        alternatives.push({
+          label: 'Emf with the reference junction at 0 °C (table value)',
+          unit: 'mV',
+          value: roundSignal(emf, 'mV'),
+        })
         const cj = options.coldJunctionC
         if (cj !== undefined && cj !== null && Number.isFinite(cj)) {
-          alternatives.push({ label: `Millivolt source value with the cold junction at ${cj} °C`, unit: 'mV',
-            value: roundSignal(emf - thermocoupleEmf(signal.tcType, cj), 'mV') })
+          alternatives.push({
+            label: `Millivolt source value with the cold junction at ${cj} °C`,
+            unit: 'mV',
+            value: roundSignal(emf - thermocoupleEmf(signal.tcType, cj), 'mV'),
+          })
         }
-        notes.push(`Set the calibrator to simulate a type ${signal.tcType} thermocouple with its own cold-junction compensation, `
-          + `connected with type ${signal.tcType} compensating cable, and dial ${sp} ${eu}.`)
+        notes.push(
+          `Set the calibrator to simulate a type ${signal.tcType} thermocouple with its own cold-junction compensation, ` +
+            `connected with type ${signal.tcType} compensating cable, and dial ${sp} ${eu}.`,
+        )
       }
       if (signal.tcType === 'B' && t < 250) {
         flags.push('type_b_low_end')
-        notes.push('Below 250 °C a type B thermocouple gives almost no emf (it is slightly negative up to about 42 °C), '
-          + 'so a test there is not meaningful; the product does not convert type B readings below 0.291 mV.')
+        notes.push(
+          'Below 250 °C a type B thermocouple gives almost no emf (it is slightly negative up to about 42 °C), ' +
+            'so a test there is not meaningful; the product does not convert type B readings below 0.291 mV.',
+        )
       }
       if (signal.headTransmitter) addHeadTransmitter(instrument, sp, alternatives, flags, notes)
       break
@@ -205,10 +262,14 @@ export function computeTestSignal(instrument: TestSignalInstrument, limit: TestS
       components.setpointC = roundTo(celsiusOf(sp, instrument), 3)
       components.r0Ohm = r0
       components.resistanceOhm = roundTo(main.value, 3)
-      notes.push(`Connect a resistance source set to ${fmt(main.value, 'ohm')} (${signal.element}, IEC 60751) in place of the element.`)
+      notes.push(
+        `Connect a resistance source set to ${fmt(main.value, 'ohm')} (${signal.element}, IEC 60751) in place of the element.`,
+      )
       if (signal.wires === 2) {
-        notes.push('2-wire connection: the lead resistance adds to the element resistance; inject at the instrument terminals '
-          + `or allow for the measured lead resistance (about ${roundTo(r0 * 0.0039083, 3)} Ω per °C near 0 °C).`)
+        notes.push(
+          '2-wire connection: the lead resistance adds to the element resistance; inject at the instrument terminals ' +
+            `or allow for the measured lead resistance (about ${roundTo(r0 * 0.0039083, 3)} Ω per °C near 0 °C).`,
+        )
       }
       if (signal.headTransmitter) addHeadTransmitter(instrument, sp, alternatives, flags, notes)
       break
@@ -219,12 +280,16 @@ export function computeTestSignal(instrument: TestSignalInstrument, limit: TestS
       alternatives.push({ label: `Voltage across ${SHUNT_OHMS} Ω`, unit: 'V', value: roundSignal(volts, 'V') })
       ne43Flags(main.value, flags)
       if (signal.sqrtExtraction) {
-        notes.push('Square-root extraction: I = 4 + 16·(Q/Qmax)² mA with Q measured from the bottom of the range. '
-          + 'Check that the root is taken once only, in the transmitter or in the receiving system.')
+        notes.push(
+          'Square-root extraction: I = 4 + 16·(Q/Qmax)² mA with Q measured from the bottom of the range. ' +
+            'Check that the root is taken once only, in the transmitter or in the receiving system.',
+        )
       }
       if (flags.some((f) => f.startsWith('ne43_'))) {
-        notes.push(`${fmt(main.value, 'mA')} is outside the NAMUR NE 43 measuring band 3.8 … 20.5 mA: `
-          + 'the receiving system may read it as a transmitter failure instead of a trip.')
+        notes.push(
+          `${fmt(main.value, 'mA')} is outside the NAMUR NE 43 measuring band 3.8 … 20.5 mA: ` +
+            'the receiving system may read it as a transmitter failure instead of a trip.',
+        )
       }
       break
     }
@@ -232,13 +297,15 @@ export function computeTestSignal(instrument: TestSignalInstrument, limit: TestS
       components.fractionOfSpan = roundTo((sp - instrument.rangeLow) / (instrument.rangeHigh - instrument.rangeLow), 6)
       break
     case 'switch':
-      notes.push('A switch has no analog signal: the test is made against a reference gauge — apply the process variable '
-        + 'to the switch, read the trip and reset points on the reference gauge. No signal is injected.')
+      notes.push(
+        'A switch has no analog signal: the test is made against a reference gauge — apply the process variable ' +
+          'to the switch, read the trip and reset points on the reference gauge. No signal is injected.',
+      )
       break
   }
 
   // Values at setpoint ± tolerance and at the expected reset point, in engineering units and in the signal unit.
-  const points: { label: string, eu: number }[] = []
+  const points: { label: string; eu: number }[] = []
   if (limit.tolerance !== undefined && limit.tolerance !== null) {
     const tol = toEu(limit.tolerance, limit.toleranceUnit, instrument, 'tolerance')
     points.push({ label: 'Setpoint + tolerance', eu: sp + tol }, { label: 'Setpoint − tolerance', eu: sp - tol })
@@ -251,7 +318,8 @@ export function computeTestSignal(instrument: TestSignalInstrument, limit: TestS
     alternatives.push({ label: point.label, unit: eu, value: roundSignal(point.eu, 'eu') })
     try {
       const at = signalAt(instrument, point.eu, options)
-      if (at.unit !== 'eu') alternatives.push({ label: point.label, unit: at.unit, value: roundSignal(at.value, at.unit) })
+      if (at.unit !== 'eu')
+        alternatives.push({ label: point.label, unit: at.unit, value: roundSignal(at.value, at.unit) })
     } catch (error) {
       if (!(error instanceof OutOfRangeError)) throw error
       if (!flags.includes('alternative_out_of_range')) flags.push('alternative_out_of_range')
@@ -270,27 +338,49 @@ export function computeTestSignal(instrument: TestSignalInstrument, limit: TestS
   }
 }
 
-function addHeadTransmitter(instrument: TestSignalInstrument, sp: number, alternatives: TestSignalAlternative[],
-  flags: string[], notes: string[]): void {
+function addHeadTransmitter(
+  instrument: TestSignalInstrument,
+  sp: number,
+  alternatives: TestSignalAlternative[],
+  flags: string[],
+  notes: string[],
+): void {
   const mA = currentFromValue(sp, instrument.rangeLow, instrument.rangeHigh)
-  alternatives.push({ label: 'Head transmitter output (linear over the instrument range)', unit: 'mA', value: roundSignal(mA, 'mA') })
+  alternatives.push({
+    label: 'Head transmitter output (linear over the instrument range)',
+    unit: 'mA',
+    value: roundSignal(mA, 'mA'),
+  })
   ne43Flags(mA, flags)
-  notes.push(`With a head transmitter you may instead inject ${fmt(mA, 'mA')} at its output (the sensor and transmitter are then not tested).`)
+  notes.push(
+    `With a head transmitter you may instead inject ${fmt(mA, 'mA')} at its output (the sensor and transmitter are then not tested).`,
+  )
 }
 
 /** Options of `engineeringFromSignal`: the test-signal options plus the unit of the reading (default by signal kind and mode). */
-export interface SignalReadingOptions extends TestSignalOptions { signalUnit?: SignalUnit }
+export interface SignalReadingOptions extends TestSignalOptions {
+  signalUnit?: SignalUnit
+}
 
 /** An engineering value derived from a reading in signal units, with NE 43 flags for currents. */
-export interface EngineeringReading { value: number, unit: string, flags: string[] }
+export interface EngineeringReading {
+  value: number
+  unit: string
+  flags: string[]
+}
 
 function defaultSignalUnit(signal: TestSignalSpec, options: TestSignalOptions): SignalUnit {
   switch (signal.kind) {
-    case 'thermocouple': return (options.mode ?? 'mv_source') === 'tc_simulate' ? 'eu' : 'mV'
-    case 'rtd': return 'ohm'
-    case 'current': return 'mA'
-    case 'voltage': return 'V'
-    case 'switch': return 'eu'
+    case 'thermocouple':
+      return (options.mode ?? 'mv_source') === 'tc_simulate' ? 'eu' : 'mV'
+    case 'rtd':
+      return 'ohm'
+    case 'current':
+      return 'mA'
+    case 'voltage':
+      return 'V'
+    case 'switch':
+      return 'eu'
   }
 }
 
@@ -299,8 +389,11 @@ function defaultSignalUnit(signal: TestSignalSpec, options: TestSignalOptions): 
  * cold junction (emf-domain compensation), ohm (IEC 60751), mA (linear or square root; also a head transmitter's
  * output), V (voltage signal, or the voltage across 250 Ω for a current loop), eu as is. Throws like `computeTestSignal`.
  */
-export function engineeringFromSignal(instrument: TestSignalInstrument, signalValue: number,
-  options: SignalReadingOptions = {}): EngineeringReading {
+export function engineeringFromSignal(
+  instrument: TestSignalInstrument,
+  signalValue: number,
+  options: SignalReadingOptions = {},
+): EngineeringReading {
   if (!Number.isFinite(signalValue)) throw new RangeError(`The reading must be a number, got ${signalValue}`)
   const signal = instrument.signal
   const unit = options.signalUnit ?? defaultSignalUnit(signal, options)
@@ -315,13 +408,14 @@ export function engineeringFromSignal(instrument: TestSignalInstrument, signalVa
     value = signalValue
   } else if (unit === 'mA' || (unit === 'V' && signal.kind === 'current')) {
     const mA = unit === 'mA' ? signalValue : currentFromShuntVoltage(signalValue)
-    const isLoop = signal.kind === 'current'
-      || ((signal.kind === 'thermocouple' || signal.kind === 'rtd') && signal.headTransmitter)
+    const isLoop =
+      signal.kind === 'current' || ((signal.kind === 'thermocouple' || signal.kind === 'rtd') && signal.headTransmitter)
     if (!isLoop) refuse()
     ne43Flags(mA, flags)
-    value = signal.kind === 'current' && signal.sqrtExtraction
-      ? flowFromSqrtCurrent(mA, rangeLow, rangeHigh)
-      : valueFromCurrent(mA, rangeLow, rangeHigh)
+    value =
+      signal.kind === 'current' && signal.sqrtExtraction
+        ? flowFromSqrtCurrent(mA, rangeLow, rangeHigh)
+        : valueFromCurrent(mA, rangeLow, rangeHigh)
   } else if (unit === 'mV' && signal.kind === 'thermocouple') {
     celsiusOf(rangeLow, instrument) // unit check
     value = fromCelsius(temperatureFromMeasured(signal.tcType, signalValue, coldJunction(options)))

@@ -37,7 +37,12 @@ const EPS = 1e-9
  * (above a high setpoint, below a low one) it is out on the dangerous side, on the other side out on the safe side
  * (it trips early: spurious trips, not lost protection). Common practice; see test-acceptance.md in the references.
  */
-export function judgeAsFound(direction: 'high' | 'low', setpoint: number, tolerance: number, asFound: number | null): AsFoundResult {
+export function judgeAsFound(
+  direction: 'high' | 'low',
+  setpoint: number,
+  tolerance: number,
+  asFound: number | null,
+): AsFoundResult {
   if (asFound === null) return 'no_trip'
   const dev = asFound - setpoint
   if (Math.abs(dev) <= tolerance + EPS) return 'in_tolerance'
@@ -58,16 +63,31 @@ export function judgeTripTest(i: JudgeInput): Judgement {
   const asLeftResult: AsLeftResult = left === null ? 'out' : judgeAsLeft(i.setpoint, i.tolerance, left)
   const reasons: string[] = []
   if (asFoundResult === 'no_trip') reasons.push('It did not trip')
-  if (asFoundResult === 'out_dangerous') reasons.push(`As found it tripped at ${i.asFound}, beyond ${i.setpoint} ± ${i.tolerance} on the dangerous side`)
-  if (asLeftResult === 'out') reasons.push(left === null ? 'No as-left value: the limit was left without a proven trip point' : `As left it trips at ${left}, outside ${i.setpoint} ± ${i.tolerance}`)
+  if (asFoundResult === 'out_dangerous')
+    reasons.push(`As found it tripped at ${i.asFound}, beyond ${i.setpoint} ± ${i.tolerance} on the dangerous side`)
+  if (asLeftResult === 'out')
+    reasons.push(
+      left === null
+        ? 'No as-left value: the limit was left without a proven trip point'
+        : `As left it trips at ${left}, outside ${i.setpoint} ± ${i.tolerance}`,
+    )
   if (i.finalElementOk === false) reasons.push('The final element did not act')
-  if (i.responseTimeSec !== null && i.requiredResponseTimeSec !== null && i.responseTimeSec > i.requiredResponseTimeSec + EPS) {
+  if (
+    i.responseTimeSec !== null &&
+    i.requiredResponseTimeSec !== null &&
+    i.responseTimeSec > i.requiredResponseTimeSec + EPS
+  ) {
     reasons.push(`Response took ${i.responseTimeSec} s; at most ${i.requiredResponseTimeSec} s is required`)
   }
   return { asFoundResult, asLeftResult, passed: reasons.length === 0, reasons }
 }
 
 /** Converts a tolerance to engineering units: eu as is, percent_span as a share of the instrument span. */
-export function toleranceInEu(tolerance: number, unit: 'eu' | 'percent_span', rangeLow: number, rangeHigh: number): number {
+export function toleranceInEu(
+  tolerance: number,
+  unit: 'eu' | 'percent_span',
+  rangeLow: number,
+  rangeHigh: number,
+): number {
   return unit === 'eu' ? tolerance : (tolerance / 100) * (rangeHigh - rangeLow)
 }

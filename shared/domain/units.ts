@@ -22,7 +22,10 @@ export const UNITS_BY_VARIABLE: Readonly<Record<MeasuredVariable, readonly strin
 
 type Dimension = 'temperature' | 'pressure' | 'level_percent' | 'length' | 'volume_flow' | 'mass_flow'
 
-interface UnitDef { dimension: Dimension, factor: number }
+interface UnitDef {
+  dimension: Dimension
+  factor: number
+}
 
 // Standard acceleration of free fall g_n = 9.80665 m/s² (exact by definition; CGPM 1901, from memory).
 const G_N = 9.80665
@@ -34,25 +37,25 @@ const POUND = 0.45359237
 // degree in kelvin (used for differences); absolute temperatures go through °C below.
 const UNITS: Record<string, UnitDef> = {
   '°C': { dimension: 'temperature', factor: 1 },
-  'K': { dimension: 'temperature', factor: 1 },
+  K: { dimension: 'temperature', factor: 1 },
   '°F': { dimension: 'temperature', factor: 5 / 9 },
-  'Pa': { dimension: 'pressure', factor: 1 },
-  'kPa': { dimension: 'pressure', factor: 1e3 },
-  'MPa': { dimension: 'pressure', factor: 1e6 },
-  'bar': { dimension: 'pressure', factor: 1e5 },
-  'mbar': { dimension: 'pressure', factor: 1e2 },
+  Pa: { dimension: 'pressure', factor: 1 },
+  kPa: { dimension: 'pressure', factor: 1e3 },
+  MPa: { dimension: 'pressure', factor: 1e6 },
+  bar: { dimension: 'pressure', factor: 1e5 },
+  mbar: { dimension: 'pressure', factor: 1e2 },
   // pound-force per square inch = lb·g_n / in² = 6894.757… Pa (exact from the definitions above)
-  'psi': { dimension: 'pressure', factor: (POUND * G_N) / (INCH * INCH) },
+  psi: { dimension: 'pressure', factor: (POUND * G_N) / (INCH * INCH) },
   // kilogram-force per square centimetre = g_n / 1e-4 m² = 98 066.5 Pa (exact)
   'kg/cm²': { dimension: 'pressure', factor: G_N * 1e4 },
   // conventional water column: ρ = 1000 kg/m³, g_n (the convention mathjs also uses; from memory)
-  'mmH2O': { dimension: 'pressure', factor: G_N },
-  'inH2O': { dimension: 'pressure', factor: 25.4 * G_N },
+  mmH2O: { dimension: 'pressure', factor: G_N },
+  inH2O: { dimension: 'pressure', factor: 25.4 * G_N },
   // conventional millimetre of mercury = 133.322 387 415 Pa (ρ = 13 595.1 kg/m³, g_n; NIST SP 811 value from memory)
-  'mmHg': { dimension: 'pressure', factor: 133.322387415 },
+  mmHg: { dimension: 'pressure', factor: 133.322387415 },
   '%': { dimension: 'level_percent', factor: 1 },
-  'm': { dimension: 'length', factor: 1 },
-  'mm': { dimension: 'length', factor: 1e-3 },
+  m: { dimension: 'length', factor: 1 },
+  mm: { dimension: 'length', factor: 1e-3 },
   'm³/h': { dimension: 'volume_flow', factor: 1 / 3600 },
   'L/min': { dimension: 'volume_flow', factor: 1e-3 / 60 },
   'L/s': { dimension: 'volume_flow', factor: 1e-3 },
@@ -63,22 +66,37 @@ const UNITS: Record<string, UnitDef> = {
 
 // Other spellings accepted on input (case-sensitive: mbar ≠ Mbar, K ≠ k).
 const ALIASES: Record<string, string> = {
-  'degC': '°C', '℃': '°C', 'deg C': '°C',
-  'degF': '°F', '℉': '°F', 'deg F': '°F',
-  'kg/cm2': 'kg/cm²', 'kgf/cm2': 'kg/cm²', 'kgf/cm²': 'kg/cm²',
-  'mmH₂O': 'mmH2O', 'mmWC': 'mmH2O', 'inH₂O': 'inH2O', 'inWC': 'inH2O',
-  'm3/h': 'm³/h', 'l/min': 'L/min', 'l/s': 'L/s',
+  degC: '°C',
+  '℃': '°C',
+  'deg C': '°C',
+  degF: '°F',
+  '℉': '°F',
+  'deg F': '°F',
+  'kg/cm2': 'kg/cm²',
+  'kgf/cm2': 'kg/cm²',
+  'kgf/cm²': 'kg/cm²',
+  'mmH₂O': 'mmH2O',
+  mmWC: 'mmH2O',
+  'inH₂O': 'inH2O',
+  inWC: 'inH2O',
+  'm3/h': 'm³/h',
+  'l/min': 'L/min',
+  'l/s': 'L/s',
 }
 
 // Trade spellings of gauge/absolute pressure units.
-const REFERENCED: Record<string, { unit: string, reference: 'g' | 'a' }> = {
+const REFERENCED: Record<string, { unit: string; reference: 'g' | 'a' }> = {
   barg: { unit: 'bar', reference: 'g' },
   bara: { unit: 'bar', reference: 'a' },
   psig: { unit: 'psi', reference: 'g' },
   psia: { unit: 'psi', reference: 'a' },
 }
 
-interface ParsedUnit { symbol: string, def: UnitDef, reference?: 'g' | 'a' }
+interface ParsedUnit {
+  symbol: string
+  def: UnitDef
+  reference?: 'g' | 'a'
+}
 
 function parse(unit: string, other = ''): ParsedUnit {
   const text = typeof unit === 'string' ? unit.trim() : ''
@@ -120,7 +138,7 @@ export function variableOfUnit(unit: string): MeasuredVariable {
 /** Options of `convertValue`. */
 export interface ConvertOptions {
   /** Atmospheric (barometric) pressure, absolute, needed only to convert between gauge and absolute pressure. */
-  atmosphericPressure?: { value: number, unit: string }
+  atmosphericPressure?: { value: number; unit: string }
 }
 
 function sameDimension(a: ParsedUnit, b: ParsedUnit, from: string, to: string): void {
@@ -144,15 +162,19 @@ function fromCelsius(value: number, symbol: string): number {
 function atmosphericPa(options: ConvertOptions, from: string, to: string): number {
   const atm = options.atmosphericPressure
   if (!atm) {
-    throw new UnitConversionError(from, to,
-      `Converting '${from}' to '${to}' moves between gauge and absolute pressure and needs the atmospheric pressure`)
+    throw new UnitConversionError(
+      from,
+      to,
+      `Converting '${from}' to '${to}' moves between gauge and absolute pressure and needs the atmospheric pressure`,
+    )
   }
   const parsed = parse(atm.unit)
   if (parsed.def.dimension !== 'pressure' || parsed.reference === 'g') {
     throw new UnitConversionError(atm.unit, '', 'The atmospheric pressure must be an absolute pressure')
   }
   const pa = atm.value * parsed.def.factor
-  if (!(Number.isFinite(pa) && pa > 0)) throw new OutOfRangeError('atmospheric pressure', atm.value, 0, Number.POSITIVE_INFINITY, atm.unit)
+  if (!(Number.isFinite(pa) && pa > 0))
+    throw new OutOfRangeError('atmospheric pressure', atm.value, 0, Number.POSITIVE_INFINITY, atm.unit)
   return pa
 }
 
@@ -169,15 +191,24 @@ export function convertValue(value: number, from: string, to: string, options: C
   if (a.def.dimension === 'temperature') {
     const celsius = toCelsius(value, a.symbol)
     if (celsius < -273.15) {
-      throw new OutOfRangeError('temperature', value, fromCelsius(-273.15, a.symbol), Number.POSITIVE_INFINITY, a.symbol,
-        'below absolute zero')
+      throw new OutOfRangeError(
+        'temperature',
+        value,
+        fromCelsius(-273.15, a.symbol),
+        Number.POSITIVE_INFINITY,
+        a.symbol,
+        'below absolute zero',
+      )
     }
     return a.symbol === b.symbol ? value : fromCelsius(celsius, b.symbol)
   }
   if (a.def.dimension === 'pressure') {
     if ((a.reference === undefined) !== (b.reference === undefined)) {
-      throw new UnitConversionError(from, to,
-        `Cannot convert '${from}' to '${to}': state gauge (g) or absolute (a) on both sides or on neither`)
+      throw new UnitConversionError(
+        from,
+        to,
+        `Cannot convert '${from}' to '${to}': state gauge (g) or absolute (a) on both sides or on neither`,
+      )
     }
     let pa = value * a.def.factor
     if (a.reference !== b.reference) pa += (a.reference === 'g' ? 1 : -1) * atmosphericPa(options, from, to)

@@ -18,17 +18,25 @@ export const ListQuerySchema = z.object({
 export type ListQuery = z.infer<typeof ListQuerySchema>
 
 /** Every list answers `{ items, total }`. */
-export interface ListResult<T> { items: T[], total: number }
+export interface ListResult<T> {
+  items: T[]
+  total: number
+}
 
 /** Parses `sort=-setpoint,tag` into fields and directions, keeping only allowed fields. */
-export function parseSort(sort: string | undefined, allowed: readonly string[]): { field: string, desc: boolean }[] {
+export function parseSort(sort: string | undefined, allowed: readonly string[]): { field: string; desc: boolean }[] {
   if (!sort) return []
-  return sort.split(',').map((s) => s.trim()).filter(Boolean).map((s) => ({ field: s.replace(/^-/, ''), desc: s.startsWith('-') }))
+  return sort
+    .split(',')
+    .map((s) => s.trim())
+    .filter(Boolean)
+    .map((s) => ({ field: s.replace(/^-/, ''), desc: s.startsWith('-') }))
     .filter((s) => allowed.includes(s.field))
 }
 
 /** A decimal number kept exactly as text (PostgreSQL numeric); accepts numbers or numeric strings. */
-export const DecimalSchema = z.union([z.number(), z.string().trim()])
+export const DecimalSchema = z
+  .union([z.number(), z.string().trim()])
   .transform((v) => (typeof v === 'number' ? String(v) : v))
   .refine((v) => /^-?\d+(\.\d+)?([eE][-+]?\d+)?$/.test(v) && Number.isFinite(Number(v)), { message: 'Enter a number' })
 
@@ -43,9 +51,17 @@ export function parsePatch<T extends z.ZodType>(schema: T, raw: unknown): Partia
 }
 
 /** The same as parsePatch, without throwing. */
-export function safeParsePatch<T extends z.ZodType>(schema: T, raw: unknown): { success: true, data: Partial<z.output<T>> } | { success: false, error: z.ZodError } {
+export function safeParsePatch<T extends z.ZodType>(
+  schema: T,
+  raw: unknown,
+): { success: true; data: Partial<z.output<T>> } | { success: false; error: z.ZodError } {
   const r = schema.safeParse(raw)
   if (!r.success) return { success: false, error: r.error }
   const given = raw && typeof raw === 'object' ? Object.keys(raw) : []
-  return { success: true, data: Object.fromEntries(Object.entries(r.data as Record<string, unknown>).filter(([k]) => given.includes(k))) as Partial<z.output<T>> }
+  return {
+    success: true,
+    data: Object.fromEntries(
+      Object.entries(r.data as Record<string, unknown>).filter(([k]) => given.includes(k)),
+    ) as Partial<z.output<T>>,
+  }
 }

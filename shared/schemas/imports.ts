@@ -13,34 +13,50 @@ export const IMPORT_MAX_ROWS = 2000
 export const REGISTER_COLUMN_KEYS = REGISTER_COLUMNS.map((c) => c.key) as [RegisterColumnKey, ...RegisterColumnKey[]]
 
 /** Columns a file must have (after mapping); every other column is optional. */
-export const IMPORT_REQUIRED_COLUMNS = ['area', 'process', 'instrumentTag', 'tag'] as const satisfies readonly RegisterColumnKey[]
+export const IMPORT_REQUIRED_COLUMNS = [
+  'area',
+  'process',
+  'instrumentTag',
+  'tag',
+] as const satisfies readonly RegisterColumnKey[]
 
 /** File header → column key; an empty string ignores that column. */
-export const ImportMappingSchema = z.record(
-  z.string().trim().min(1).max(200),
-  z.union([z.enum(REGISTER_COLUMN_KEYS, 'Map each header to a column key of the register file, or to "" to ignore it'), z.literal('')]),
-).refine((m) => Object.keys(m).length <= 500, 'A mapping holds at most 500 headers')
+export const ImportMappingSchema = z
+  .record(
+    z.string().trim().min(1).max(200),
+    z.union([
+      z.enum(REGISTER_COLUMN_KEYS, 'Map each header to a column key of the register file, or to "" to ignore it'),
+      z.literal(''),
+    ]),
+  )
+  .refine((m) => Object.keys(m).length <= 500, 'A mapping holds at most 500 headers')
 export type ImportMapping = z.infer<typeof ImportMappingSchema>
 
-const jsonText = z.string().max(50_000).transform((s, ctx) => {
-  try {
-    return JSON.parse(s) as unknown
-  } catch {
-    ctx.addIssue({ code: 'custom', message: 'The mapping must be a JSON object (file header → column key)' })
-    return z.NEVER
-  }
-})
+const jsonText = z
+  .string()
+  .max(50_000)
+  .transform((s, ctx) => {
+    try {
+      return JSON.parse(s) as unknown
+    } catch {
+      ctx.addIssue({ code: 'custom', message: 'The mapping must be a JSON object (file header → column key)' })
+      return z.NEVER
+    }
+  })
 
 /** The text fields sent with the file (multipart form fields are strings). */
 export const ImportUploadFieldsSchema = z.object({
   siteId: IdSchema,
   mapping: jsonText.pipe(ImportMappingSchema).optional(),
-  dryRun: z.enum(['true', 'false'], 'dryRun is true or false').default('true').transform((v) => v === 'true'),
+  dryRun: z
+    .enum(['true', 'false'], 'dryRun is true or false')
+    .default('true')
+    .transform((v) => v === 'true'),
 })
 export type ImportUploadFields = z.infer<typeof ImportUploadFieldsSchema>
 
 export const IMPORT_ACTIONS = ['create', 'update', 'unchanged'] as const
-export type ImportAction = typeof IMPORT_ACTIONS[number]
+export type ImportAction = (typeof IMPORT_ACTIONS)[number]
 export const IMPORT_STATUSES = ['checked', 'committed', 'unchanged'] as const
 
 /** One problem of one row; `row` counts as the spreadsheet does (header = row 1), `field` is the column key. */

@@ -2,7 +2,10 @@
 // written by the export and read by the import, so an exported file imports back unchanged.
 
 /** A column of the register file: its stable key and the header written in files. */
-export interface RegisterColumn { key: string, header: string }
+export interface RegisterColumn {
+  key: string
+  header: string
+}
 
 export const REGISTER_COLUMNS = [
   { key: 'site', header: 'Site code' },
@@ -54,19 +57,32 @@ export const REGISTER_COLUMNS = [
   { key: 'subsystems', header: 'Subsystems (JSON)' },
 ] as const satisfies readonly RegisterColumn[]
 
-export type RegisterColumnKey = typeof REGISTER_COLUMNS[number]['key']
+export type RegisterColumnKey = (typeof REGISTER_COLUMNS)[number]['key']
 export type RegisterFileRow = Record<RegisterColumnKey, string>
 
 /**
  * The signal as one cell: `thermocouple K`, `rtd Pt100 3-wire`, `4-20mA`, `4-20mA sqrt`, `voltage 0-10V`, `switch`.
  */
-export function signalToText(s: { kind: string, tcType?: string, element?: string, wires?: number, sqrtExtraction?: boolean, low?: number, high?: number }): string {
+export function signalToText(s: {
+  kind: string
+  tcType?: string
+  element?: string
+  wires?: number
+  sqrtExtraction?: boolean
+  low?: number
+  high?: number
+}): string {
   switch (s.kind) {
-    case 'thermocouple': return `thermocouple ${s.tcType}`
-    case 'rtd': return `rtd ${s.element} ${s.wires}-wire`
-    case 'current': return s.sqrtExtraction ? '4-20mA sqrt' : '4-20mA'
-    case 'voltage': return `voltage ${s.low}-${s.high}V`
-    default: return 'switch'
+    case 'thermocouple':
+      return `thermocouple ${s.tcType}`
+    case 'rtd':
+      return `rtd ${s.element} ${s.wires}-wire`
+    case 'current':
+      return s.sqrtExtraction ? '4-20mA sqrt' : '4-20mA'
+    case 'voltage':
+      return `voltage ${s.low}-${s.high}V`
+    default:
+      return 'switch'
   }
 }
 
@@ -76,7 +92,8 @@ export function signalFromText(text: string, headTransmitter: boolean): Record<s
   let m = /^(?:thermocouple|tc)(?: type)? ([bejknrst])$/.exec(t)
   if (m) return { kind: 'thermocouple', tcType: m[1].toUpperCase(), headTransmitter }
   m = /^rtd (pt100|pt1000)(?: ([234])-wire)?$/.exec(t)
-  if (m) return { kind: 'rtd', element: m[1] === 'pt100' ? 'Pt100' : 'Pt1000', wires: Number(m[2] ?? 3), headTransmitter }
+  if (m)
+    return { kind: 'rtd', element: m[1] === 'pt100' ? 'Pt100' : 'Pt1000', wires: Number(m[2] ?? 3), headTransmitter }
   if (/^4-20 ?ma( sqrt)?$/.test(t)) return { kind: 'current', sqrtExtraction: t.endsWith('sqrt') }
   m = /^voltage ([01])-(5|10) ?v$/.exec(t)
   if (m) return { kind: 'voltage', low: Number(m[1]), high: Number(m[2]) }

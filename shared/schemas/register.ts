@@ -4,36 +4,86 @@ import { ROLES } from './users.ts'
 // The register's resources (DOMAIN.md §3). Decimal inputs are accepted as numbers or numeric strings and stored
 // exactly as PostgreSQL numeric; answers carry them as JSON numbers.
 
-const num = z.union([z.number(), z.string().trim().regex(/^-?\d+(\.\d+)?$/, 'Enter a number')]).transform(Number)
+const num = z
+  .union([
+    z.number(),
+    z
+      .string()
+      .trim()
+      .regex(/^-?\d+(\.\d+)?$/, 'Enter a number'),
+  ])
+  .transform(Number)
   .refine(Number.isFinite, 'Enter a number')
-const optNum = z.union([num, z.null(), z.literal('').transform(() => null)]).optional().transform((v) => v ?? null)
+const optNum = z
+  .union([num, z.null(), z.literal('').transform(() => null)])
+  .optional()
+  .transform((v) => v ?? null)
 const text = (max = 500) => z.string().trim().max(max)
 
 export const MEASURED_VARIABLES = ['temperature', 'pressure', 'level', 'flow', 'analytical', 'other'] as const
 export const TC_TYPES = ['B', 'E', 'J', 'K', 'N', 'R', 'S', 'T'] as const
-export const DEVICE_KINDS = ['limit_controller', 'safety_plc', 'control_system', 'indicator', 'switch', 'other'] as const
-export const RESET_ROLES = ['operator', 'shift_supervisor', 'technician', 'safety_engineer'] as const satisfies readonly (typeof ROLES[number])[]
+export const DEVICE_KINDS = [
+  'limit_controller',
+  'safety_plc',
+  'control_system',
+  'indicator',
+  'switch',
+  'other',
+] as const
+export const RESET_ROLES = [
+  'operator',
+  'shift_supervisor',
+  'technician',
+  'safety_engineer',
+] as const satisfies readonly (typeof ROLES)[number][]
 
 /** The input signal of an instrument (DOMAIN.md §3). */
-export const SignalSchema = z.discriminatedUnion('kind', [
-  z.object({ kind: z.literal('thermocouple'), tcType: z.enum(TC_TYPES, 'Choose the thermocouple type'), headTransmitter: z.boolean().default(false) }),
-  z.object({ kind: z.literal('rtd'), element: z.enum(['Pt100', 'Pt1000']), wires: z.union([z.literal(2), z.literal(3), z.literal(4)]), headTransmitter: z.boolean().default(false) }),
-  z.object({ kind: z.literal('current'), sqrtExtraction: z.boolean().default(false) }),
-  z.object({ kind: z.literal('voltage'), low: z.union([z.literal(0), z.literal(1)]), high: z.union([z.literal(5), z.literal(10)]) }),
-  z.object({ kind: z.literal('switch') }),
-], 'Choose the input signal')
+export const SignalSchema = z.discriminatedUnion(
+  'kind',
+  [
+    z.object({
+      kind: z.literal('thermocouple'),
+      tcType: z.enum(TC_TYPES, 'Choose the thermocouple type'),
+      headTransmitter: z.boolean().default(false),
+    }),
+    z.object({
+      kind: z.literal('rtd'),
+      element: z.enum(['Pt100', 'Pt1000']),
+      wires: z.union([z.literal(2), z.literal(3), z.literal(4)]),
+      headTransmitter: z.boolean().default(false),
+    }),
+    z.object({ kind: z.literal('current'), sqrtExtraction: z.boolean().default(false) }),
+    z.object({
+      kind: z.literal('voltage'),
+      low: z.union([z.literal(0), z.literal(1)]),
+      high: z.union([z.literal(5), z.literal(10)]),
+    }),
+    z.object({ kind: z.literal('switch') }),
+  ],
+  'Choose the input signal',
+)
 export type Signal = z.infer<typeof SignalSchema>
 
-export const ProcessSchema = z.object({ id: z.number(), areaId: z.number(), siteId: z.number(), name: z.string(), description: z.string() })
+export const ProcessSchema = z.object({
+  id: z.number(),
+  areaId: z.number(),
+  siteId: z.number(),
+  name: z.string(),
+  description: z.string(),
+})
 export type Process = z.infer<typeof ProcessSchema>
 export const CreateProcessInputSchema = z.object({
-  areaId: z.number().int().positive(), name: text(120).min(1, 'Enter a name'), description: text(2000).default(''),
+  areaId: z.number().int().positive(),
+  name: text(120).min(1, 'Enter a name'),
+  description: text(2000).default(''),
 })
 export const UpdateProcessInputSchema = CreateProcessInputSchema.omit({ areaId: true }).partial()
 
 const instrumentFields = {
   processId: z.number().int().positive(),
-  tag: text(40).min(1, 'Enter a tag').regex(/^[A-Za-z0-9][A-Za-z0-9._\-/ ]*$/, 'Use letters, digits, dot, dash, slash and underscore'),
+  tag: text(40)
+    .min(1, 'Enter a tag')
+    .regex(/^[A-Za-z0-9][A-Za-z0-9._\-/ ]*$/, 'Use letters, digits, dot, dash, slash and underscore'),
   measuredVariable: z.enum(MEASURED_VARIABLES),
   unit: text(20).min(1, 'Enter the unit'),
   pressureReference: z.enum(['gauge', 'absolute', 'differential']).nullable().default(null),
@@ -49,29 +99,58 @@ const instrumentFields = {
   deviceDescription: text(200).default(''),
 }
 
-function instrumentRules<T extends z.ZodType<{ rangeLow?: number, rangeHigh?: number, normalLow?: number | null, normalHigh?: number | null, measuredVariable?: string, pressureReference?: string | null, signal?: Signal }>>(schema: T) {
+function instrumentRules<
+  T extends z.ZodType<{
+    rangeLow?: number
+    rangeHigh?: number
+    normalLow?: number | null
+    normalHigh?: number | null
+    measuredVariable?: string
+    pressureReference?: string | null
+    signal?: Signal
+  }>,
+>(schema: T) {
   return schema.superRefine((v, ctx) => {
     if (v.rangeLow !== undefined && v.rangeHigh !== undefined && !(v.rangeHigh > v.rangeLow)) {
       ctx.addIssue({ code: 'custom', path: ['rangeHigh'], message: 'The range top must be above the range bottom' })
     }
     if (v.normalLow != null && v.normalHigh != null && !(v.normalHigh >= v.normalLow)) {
-      ctx.addIssue({ code: 'custom', path: ['normalHigh'], message: 'The normal range top must not be below its bottom' })
+      ctx.addIssue({
+        code: 'custom',
+        path: ['normalHigh'],
+        message: 'The normal range top must not be below its bottom',
+      })
     }
     if (v.measuredVariable === 'pressure' && !v.pressureReference) {
-      ctx.addIssue({ code: 'custom', path: ['pressureReference'], message: 'Say whether the pressure is gauge, absolute or differential' })
+      ctx.addIssue({
+        code: 'custom',
+        path: ['pressureReference'],
+        message: 'Say whether the pressure is gauge, absolute or differential',
+      })
     }
-    if (v.measuredVariable && v.measuredVariable !== 'temperature' && v.signal && (v.signal.kind === 'thermocouple' || v.signal.kind === 'rtd')) {
+    if (
+      v.measuredVariable &&
+      v.measuredVariable !== 'temperature' &&
+      v.signal &&
+      (v.signal.kind === 'thermocouple' || v.signal.kind === 'rtd')
+    ) {
       ctx.addIssue({ code: 'custom', path: ['signal', 'kind'], message: 'Thermocouples and RTDs measure temperature' })
     }
   })
 }
 
 export const CreateInstrumentInputSchema = instrumentRules(z.object(instrumentFields))
-export const UpdateInstrumentInputSchema = instrumentRules(z.object(instrumentFields).omit({ processId: true }).partial())
+export const UpdateInstrumentInputSchema = instrumentRules(
+  z.object(instrumentFields).omit({ processId: true }).partial(),
+)
 export type CreateInstrumentInput = z.infer<typeof CreateInstrumentInputSchema>
 
 export const InstrumentSchema = z.object({
-  id: z.number(), siteId: z.number(), areaId: z.number(), ...instrumentFields, processName: z.string().optional(),
+  id: z.number(),
+  siteId: z.number(),
+  areaId: z.number(),
+  ...instrumentFields,
+  processName: z.string().optional(),
 })
 export type Instrument = z.infer<typeof InstrumentSchema>
 
@@ -90,7 +169,9 @@ export type Subsystem = z.infer<typeof SubsystemSchema>
 
 const limitFields = {
   processId: z.number().int().positive(),
-  tag: text(40).min(1, 'Enter a tag').regex(/^[A-Za-z0-9][A-Za-z0-9._\-/ ]*$/, 'Use letters, digits, dot, dash, slash and underscore'),
+  tag: text(40)
+    .min(1, 'Enter a tag')
+    .regex(/^[A-Za-z0-9][A-Za-z0-9._\-/ ]*$/, 'Use letters, digits, dot, dash, slash and underscore'),
   description: text(500).default(''),
   instrumentIds: z.array(z.number().int().positive()).min(1, 'Choose at least one instrument').max(4),
   direction: z.enum(['high', 'low']),
@@ -117,27 +198,53 @@ const limitFields = {
   testIntervalMonths: z.number().int().min(1).max(240),
   testGraceDays: z.number().int().min(0).max(365).nullable().default(null),
   codeSetInterval: z.boolean().default(false),
-  sil: z.union([z.literal(1), z.literal(2), z.literal(3)]).nullable().default(null),
+  sil: z
+    .union([z.literal(1), z.literal(2), z.literal(3)])
+    .nullable()
+    .default(null),
   subsystems: z.array(SubsystemSchema).max(3).default([]),
 }
 
-type LimitShape = Partial<{ limitClass: string, latching: boolean, resetRole: string | null, responseTimeMin: number | null, sil: number | null, subsystems: Subsystem[], bypassPermitted: boolean, maxBypassHours: number | null }>
+type LimitShape = Partial<{
+  limitClass: string
+  latching: boolean
+  resetRole: string | null
+  responseTimeMin: number | null
+  sil: number | null
+  subsystems: Subsystem[]
+  bypassPermitted: boolean
+  maxBypassHours: number | null
+}>
 
 function limitRules<T extends z.ZodType<LimitShape>>(schema: T) {
   return schema.superRefine((v, ctx) => {
-    if (v.latching === true && !v.resetRole) ctx.addIssue({ code: 'custom', path: ['resetRole'], message: 'Say who may reset a latching limit' })
+    if (v.latching === true && !v.resetRole)
+      ctx.addIssue({ code: 'custom', path: ['resetRole'], message: 'Say who may reset a latching limit' })
     if (v.limitClass === 'alarm' && v.responseTimeMin == null) {
-      ctx.addIssue({ code: 'custom', path: ['responseTimeMin'], message: 'An alarm needs the time the operator has to respond' })
+      ctx.addIssue({
+        code: 'custom',
+        path: ['responseTimeMin'],
+        message: 'An alarm needs the time the operator has to respond',
+      })
     }
     if (v.sil != null && v.subsystems !== undefined) {
       const roles = new Set(v.subsystems.map((s) => s.role))
-      if (roles.size !== v.subsystems.length) ctx.addIssue({ code: 'custom', path: ['subsystems'], message: 'Each subsystem role appears once' })
+      if (roles.size !== v.subsystems.length)
+        ctx.addIssue({ code: 'custom', path: ['subsystems'], message: 'Each subsystem role appears once' })
       if (!['sensor', 'logic', 'final_element'].every((r) => roles.has(r as Subsystem['role']))) {
-        ctx.addIssue({ code: 'custom', path: ['subsystems'], message: 'A SIL-rated function needs its sensor, logic and final-element subsystems' })
+        ctx.addIssue({
+          code: 'custom',
+          path: ['subsystems'],
+          message: 'A SIL-rated function needs its sensor, logic and final-element subsystems',
+        })
       }
     }
     if (v.bypassPermitted === false && v.maxBypassHours != null) {
-      ctx.addIssue({ code: 'custom', path: ['maxBypassHours'], message: 'No bypass duration when bypassing is not permitted' })
+      ctx.addIssue({
+        code: 'custom',
+        path: ['maxBypassHours'],
+        message: 'No bypass duration when bypassing is not permitted',
+      })
     }
   })
 }
@@ -151,7 +258,11 @@ export const LIMIT_STATUSES = ['proposed', 'active', 'retired'] as const
 export const PROTECTION_STATES = ['in_service', 'bypassed', 'degraded'] as const
 export const TEST_STATUSES = ['never_tested', 'ok', 'due_soon', 'in_grace', 'overdue'] as const
 
-export interface WindowFindingDto { code: string, field?: string, message: string }
+export interface WindowFindingDto {
+  code: string
+  field?: string
+  message: string
+}
 
 /** A limit as the API answers it. */
 export interface Limit extends Omit<CreateLimitInput, 'testGraceDays'> {
@@ -164,14 +275,21 @@ export interface Limit extends Omit<CreateLimitInput, 'testGraceDays'> {
   testGraceDays: number | null
   priority: 'low' | 'medium' | 'high' | 'critical' | null
   priorityExplanation: string
-  status: typeof LIMIT_STATUSES[number]
+  status: (typeof LIMIT_STATUSES)[number]
   revision: number
-  protectionState: typeof PROTECTION_STATES[number]
-  testStatus: typeof TEST_STATUSES[number]
+  protectionState: (typeof PROTECTION_STATES)[number]
+  testStatus: (typeof TEST_STATUSES)[number]
   testDueDate: string | null
   lastFullPass: string | null
-  operatingWindow: { errors: WindowFindingDto[], warnings: WindowFindingDto[] }
-  primaryInstrument: { id: number, tag: string, unit: string, measuredVariable: string, rangeLow: number, rangeHigh: number } | null
+  operatingWindow: { errors: WindowFindingDto[]; warnings: WindowFindingDto[] }
+  primaryInstrument: {
+    id: number
+    tag: string
+    unit: string
+    measuredVariable: string
+    rangeLow: number
+    rangeHigh: number
+  } | null
   updatedAt: string
 }
 

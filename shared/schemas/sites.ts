@@ -3,17 +3,27 @@ import { checkPriorityMatrix, DEFAULT_PRIORITY_MATRIX } from '../domain/priority
 
 const cell = z.enum(['low', 'medium', 'high', 'critical', 'none'])
 /** The alarm priority matrix: severity rows × time-to-respond columns (DOMAIN.md §6). */
-export const PriorityMatrixSchema = z.object({
-  responseTimeBoundsMin: z.array(z.number().positive()).min(1),
-  rows: z.object({ severe: z.array(cell), major: z.array(cell), moderate: z.array(cell), minor: z.array(cell) }),
-}).superRefine((m, ctx) => {
-  for (const problem of checkPriorityMatrix(m)) ctx.addIssue({ code: 'custom', message: problem })
-})
+export const PriorityMatrixSchema = z
+  .object({
+    responseTimeBoundsMin: z.array(z.number().positive()).min(1),
+    rows: z.object({ severe: z.array(cell), major: z.array(cell), moderate: z.array(cell), minor: z.array(cell) }),
+  })
+  .superRefine((m, ctx) => {
+    for (const problem of checkPriorityMatrix(m)) ctx.addIssue({ code: 'custom', message: problem })
+  })
 
 /** Site policies of DOMAIN.md §6 (defaults are common practice, no standard behind the numbers). */
 export const SitePolicySchema = z.object({
-  bypassMaxHoursSupervisor: z.number().positive().max(24 * 30).default(12),
-  bypassMaxHoursManager: z.number().positive().max(24 * 90).default(72),
+  bypassMaxHoursSupervisor: z
+    .number()
+    .positive()
+    .max(24 * 30)
+    .default(12),
+  bypassMaxHoursManager: z
+    .number()
+    .positive()
+    .max(24 * 90)
+    .default(72),
   bypassAuthorizationLapseHours: z.number().positive().max(72).default(4),
   compensatingMeasuresRequiredFor: z.enum(['trips_and_sil', 'all', 'sil_only']).default('trips_and_sil'),
   bypassExpiryWarningHours: z.number().min(0).max(24).default(1),
@@ -32,17 +42,34 @@ export type SitePolicy = z.infer<typeof SitePolicySchema>
 /** The default policy of a new site. */
 export const DEFAULT_SITE_POLICY: SitePolicy = SitePolicySchema.parse({})
 
-const timeZone = z.string().refine((tz) => {
-  try { new Intl.DateTimeFormat('en', { timeZone: tz }); return true } catch { return false }
-}, { message: 'Unknown time zone (use an IANA name such as Europe/Vienna)' })
+const timeZone = z.string().refine(
+  (tz) => {
+    try {
+      new Intl.DateTimeFormat('en', { timeZone: tz })
+      return true
+    } catch {
+      return false
+    }
+  },
+  { message: 'Unknown time zone (use an IANA name such as Europe/Vienna)' },
+)
 
 export const SiteSchema = z.object({
-  id: z.number().int(), code: z.string(), name: z.string(), timeZone: z.string(), policy: SitePolicySchema,
+  id: z.number().int(),
+  code: z.string(),
+  name: z.string(),
+  timeZone: z.string(),
+  policy: SitePolicySchema,
 })
 export type Site = z.infer<typeof SiteSchema>
 
 export const CreateSiteInputSchema = z.object({
-  code: z.string().trim().min(1, 'Enter a code').max(16).regex(/^[A-Z0-9-]+$/, 'Use capital letters, digits and dashes'),
+  code: z
+    .string()
+    .trim()
+    .min(1, 'Enter a code')
+    .max(16)
+    .regex(/^[A-Z0-9-]+$/, 'Use capital letters, digits and dashes'),
   name: z.string().trim().min(1, 'Enter a name').max(120),
   timeZone,
   policy: SitePolicySchema.partial().optional(),
@@ -55,5 +82,8 @@ export const UpdateSiteInputSchema = z.object({
 
 export const AreaSchema = z.object({ id: z.number().int(), siteId: z.number().int(), name: z.string() })
 export type Area = z.infer<typeof AreaSchema>
-export const CreateAreaInputSchema = z.object({ siteId: z.number().int().positive(), name: z.string().trim().min(1, 'Enter a name').max(120) })
+export const CreateAreaInputSchema = z.object({
+  siteId: z.number().int().positive(),
+  name: z.string().trim().min(1, 'Enter a name').max(120),
+})
 export const UpdateAreaInputSchema = z.object({ name: z.string().trim().min(1).max(120) })

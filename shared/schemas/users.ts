@@ -1,7 +1,16 @@
 import { z } from 'zod'
 
 /** The eight roles of DOMAIN.md §2. */
-export const ROLES = ['admin', 'safety_engineer', 'approver', 'shift_supervisor', 'technician', 'operator', 'plant_manager', 'auditor'] as const
+export const ROLES = [
+  'admin',
+  'safety_engineer',
+  'approver',
+  'shift_supervisor',
+  'technician',
+  'operator',
+  'plant_manager',
+  'auditor',
+] as const
 export const RoleSchema = z.enum(ROLES)
 export type Role = z.infer<typeof RoleSchema>
 
@@ -24,7 +33,10 @@ export type RoleAssignment = z.infer<typeof RoleAssignmentSchema>
 /** Minimum password length (OWASP ASVS 4.0 2.1.1: at least 12 characters). */
 export const PASSWORD_MIN_LENGTH = 12
 
-export const PasswordSchema = z.string().min(PASSWORD_MIN_LENGTH, `Use at least ${PASSWORD_MIN_LENGTH} characters`).max(128)
+export const PasswordSchema = z
+  .string()
+  .min(PASSWORD_MIN_LENGTH, `Use at least ${PASSWORD_MIN_LENGTH} characters`)
+  .max(128)
 
 export const UserSchema = z.object({
   id: z.number().int(),
@@ -44,12 +56,14 @@ export const CreateUserInputSchema = z.object({
 })
 export type CreateUserInput = z.infer<typeof CreateUserInputSchema>
 
-export const UpdateUserInputSchema = z.object({
-  displayName: z.string().trim().min(1).max(120).optional(),
-  active: z.boolean().optional(),
-  roles: z.array(RoleAssignmentSchema).optional(),
-  password: PasswordSchema.optional(),
-}).refine((v) => Object.keys(v).length > 0, { message: 'Nothing to change' })
+export const UpdateUserInputSchema = z
+  .object({
+    displayName: z.string().trim().min(1).max(120).optional(),
+    active: z.boolean().optional(),
+    roles: z.array(RoleAssignmentSchema).optional(),
+    password: PasswordSchema.optional(),
+  })
+  .refine((v) => Object.keys(v).length > 0, { message: 'Nothing to change' })
 export type UpdateUserInput = z.infer<typeof UpdateUserInputSchema>
 
 export const ChangeOwnPasswordInputSchema = z.object({

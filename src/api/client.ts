@@ -6,8 +6,12 @@ let csrfToken = ''
 let onUnauthenticated: (() => void) | null = null
 
 /** The session store hands the CSRF token over after each session fetch or sign-in. */
-export function setCsrfToken(token: string) { csrfToken = token }
-export function setUnauthenticatedHandler(fn: () => void) { onUnauthenticated = fn }
+export function setCsrfToken(token: string) {
+  csrfToken = token
+}
+export function setUnauthenticatedHandler(fn: () => void) {
+  onUnauthenticated = fn
+}
 
 type Query = Record<string, string | number | boolean | null | undefined | (string | number)[]>
 
@@ -24,7 +28,12 @@ export function toQuery(q: Query = {}): string {
 }
 
 /** The only fetch wrapper: JSON in and out, cookies, the CSRF header, and the error envelope turned into ApiError. */
-export async function api<T>(method: string, url: string, body?: unknown, opts: { query?: Query, raw?: boolean } = {}): Promise<T> {
+export async function api<T>(
+  method: string,
+  url: string,
+  body?: unknown,
+  opts: { query?: Query; raw?: boolean } = {},
+): Promise<T> {
   const headers: Record<string, string> = { Accept: 'application/json' }
   if (method !== 'GET') headers['X-CSRF-Token'] = csrfToken
   let payload: BodyInit | undefined
@@ -35,7 +44,12 @@ export async function api<T>(method: string, url: string, body?: unknown, opts: 
   }
   let res: Response
   try {
-    res = await fetch(`/api${url}${toQuery(opts.query)}`, { method, headers, body: payload, credentials: 'same-origin' })
+    res = await fetch(`/api${url}${toQuery(opts.query)}`, {
+      method,
+      headers,
+      body: payload,
+      credentials: 'same-origin',
+    })
   } catch {
     throw new ApiError(0, 'NETWORK', NETWORK_MESSAGE)
   }
@@ -54,17 +68,28 @@ export async function api<T>(method: string, url: string, body?: unknown, opts: 
  * POSTs a form and reports the upload's progress (0…1): fetch reports no upload progress, so this one request goes
  * through XMLHttpRequest, with the CSRF header; error answers become ApiError as in `api()`.
  */
-export function uploadWithProgress<T>(url: string, formData: FormData, onProgress: (fraction: number) => void, networkMessage = NETWORK_MESSAGE): Promise<T> {
+export function uploadWithProgress<T>(
+  url: string,
+  formData: FormData,
+  onProgress: (fraction: number) => void,
+  networkMessage = NETWORK_MESSAGE,
+): Promise<T> {
   return new Promise((resolve, reject) => {
     const xhr = new XMLHttpRequest()
     xhr.open('POST', `/api${url}`)
     xhr.setRequestHeader('X-CSRF-Token', csrfToken)
     xhr.setRequestHeader('Accept', 'application/json')
-    xhr.upload.onprogress = (e) => { if (e.lengthComputable) onProgress(e.loaded / e.total) }
+    xhr.upload.onprogress = (e) => {
+      if (e.lengthComputable) onProgress(e.loaded / e.total)
+    }
     xhr.onerror = () => reject(new ApiError(0, 'NETWORK', networkMessage))
     xhr.onload = () => {
       let body: unknown
-      try { body = JSON.parse(xhr.responseText) } catch { body = undefined }
+      try {
+        body = JSON.parse(xhr.responseText)
+      } catch {
+        body = undefined
+      }
       if (xhr.status >= 200 && xhr.status < 300) resolve(body as T)
       else reject(ApiError.fromBody(xhr.status, body))
     }

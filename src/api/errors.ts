@@ -2,7 +2,13 @@ import type { ApiErrorBody, ErrorCode } from '@shared/errors.ts'
 
 /** An error answer of the API, with its code, message and field errors. */
 export class ApiError extends Error {
-  constructor(readonly status: number, readonly code: ErrorCode | 'NETWORK', message: string, readonly fields: Record<string, string[]> = {}, readonly details: Record<string, unknown> = {}) {
+  constructor(
+    readonly status: number,
+    readonly code: ErrorCode | 'NETWORK',
+    message: string,
+    readonly fields: Record<string, string[]> = {},
+    readonly details: Record<string, unknown> = {},
+  ) {
     super(message)
   }
 

@@ -1,20 +1,57 @@
 import {
-  mdiAccountCircleOutline, mdiAccountGroupOutline, mdiChartBoxOutline, mdiClipboardCheckOutline, mdiClipboardTextClockOutline, mdiEmailOutline, mdiFactory, mdiFormatListChecks, mdiGauge, mdiHistory, mdiHomeOutline, mdiPauseCircleOutline, mdiPipeDisconnected, mdiSwapHorizontal,
+  mdiAccountCircleOutline,
+  mdiAccountGroupOutline,
+  mdiChartBoxOutline,
+  mdiClipboardCheckOutline,
+  mdiClipboardTextClockOutline,
+  mdiEmailOutline,
+  mdiFactory,
+  mdiFormatListChecks,
+  mdiGauge,
+  mdiHistory,
+  mdiHomeOutline,
+  mdiPauseCircleOutline,
+  mdiPipeDisconnected,
+  mdiSwapHorizontal,
 } from '@mdi/js'
 import type { Action, SubjectName } from '@shared/abilities/index.ts'
 
-export interface NavItem { title: string, to: string, icon: string, can?: [Action, SubjectName], test: string }
+export interface NavItem {
+  title: string
+  to: string
+  icon: string
+  can?: [Action, SubjectName]
+  test: string
+}
 
 /** The navigation drawer's sections; each shows only to users whose ability allows it. */
 export const NAV_ITEMS: NavItem[] = [
   { title: 'Home', to: '/', icon: mdiHomeOutline, test: 'nav-home' },
   { title: 'Register', to: '/register', icon: mdiFormatListChecks, can: ['read', 'Limit'], test: 'nav-register' },
-  { title: 'Instruments', to: '/register/instruments', icon: mdiGauge, can: ['read', 'Limit'], test: 'nav-instruments' },
-  { title: 'Processes', to: '/register/processes', icon: mdiPipeDisconnected, can: ['read', 'Limit'], test: 'nav-processes' },
+  {
+    title: 'Instruments',
+    to: '/register/instruments',
+    icon: mdiGauge,
+    can: ['read', 'Limit'],
+    test: 'nav-instruments',
+  },
+  {
+    title: 'Processes',
+    to: '/register/processes',
+    icon: mdiPipeDisconnected,
+    can: ['read', 'Limit'],
+    test: 'nav-processes',
+  },
   { title: 'Changes', to: '/changes', icon: mdiSwapHorizontal, test: 'nav-changes' },
   { title: 'Trip tests', to: '/tests', icon: mdiClipboardCheckOutline, can: ['read', 'TripTest'], test: 'nav-tests' },
   { title: 'Bypasses', to: '/bypasses', icon: mdiPauseCircleOutline, test: 'nav-bypasses' },
-  { title: 'Bypass review', to: '/bypasses/review', icon: mdiChartBoxOutline, can: ['review', 'BypassReview'], test: 'nav-bypass-review' },
+  {
+    title: 'Bypass review',
+    to: '/bypasses/review',
+    icon: mdiChartBoxOutline,
+    can: ['review', 'BypassReview'],
+    test: 'nav-bypass-review',
+  },
   { title: 'Shift handover', to: '/protection', icon: mdiClipboardTextClockOutline, test: 'nav-protection' },
   { title: 'Audit trail', to: '/audit', icon: mdiHistory, can: ['read', 'AuditEvent'], test: 'nav-audit' },
   { title: 'Users', to: '/admin/users', icon: mdiAccountGroupOutline, can: ['create', 'User'], test: 'nav-users' },

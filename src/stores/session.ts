@@ -5,8 +5,17 @@ import type { RoleAssignment } from '@shared/schemas/users.ts'
 import { http, setCsrfToken } from '@/api/client'
 import { ability } from '@/plugins/ability'
 
-export interface SessionUser { id: number, email: string, displayName: string, roles: RoleAssignment[] }
-interface SessionBody { user: SessionUser | null, rules: AppRule[], csrfToken: string }
+export interface SessionUser {
+  id: number
+  email: string
+  displayName: string
+  roles: RoleAssignment[]
+}
+interface SessionBody {
+  user: SessionUser | null
+  rules: AppRule[]
+  csrfToken: string
+}
 
 /** The signed-in user, their rules (mirrored into the CASL ability) and the CSRF token. */
 export const useSessionStore = defineStore('session', () => {
@@ -21,7 +30,9 @@ export const useSessionStore = defineStore('session', () => {
     loaded.value = true
   }
 
-  async function load() { apply(await http.get<SessionBody>('/session')) }
+  async function load() {
+    apply(await http.get<SessionBody>('/session'))
+  }
 
   async function signIn(email: string, password: string) {
     if (!loaded.value) await load()

@@ -18,7 +18,11 @@ export const useSitesStore = defineStore('sites', () => {
     })()
     return loading
   }
-  function codeOf(id: number) { return sites.value.find((s) => s.id === id)?.code ?? `#${id}` }
-  function siteOf(id: number) { return sites.value.find((s) => s.id === id) }
+  function codeOf(id: number) {
+    return sites.value.find((s) => s.id === id)?.code ?? `#${id}`
+  }
+  function siteOf(id: number) {
+    return sites.value.find((s) => s.id === id)
+  }
   return { sites, areas, load, codeOf, siteOf }
 })

@@ -18,13 +18,31 @@ const run = promisify(execFile)
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..')
 const noActor = { actorId: null, requestId: null, ip: null }
 
-type Row = { [K in keyof AuditEventTable]: K extends 'id' ? number : K extends 'occurred_at' ? Date : K extends 'before' | 'after' ? unknown : AuditEventTable[K] }
+type Row = {
+  [K in keyof AuditEventTable]: K extends 'id'
+    ? number
+    : K extends 'occurred_at'
+      ? Date
+      : K extends 'before' | 'after'
+        ? unknown
+        : AuditEventTable[K]
+}
 
 /** The hash a stored row should carry, recomputed from what was read back. */
 function rehash(r: Row) {
   return hashEvent({
-    occurredAt: r.occurred_at, actorId: r.actor_id, action: r.action, entityType: r.entity_type, entityId: r.entity_id, before: r.before,
-    after: r.after, reason: r.reason, batchId: r.batch_id, requestId: r.request_id, ip: r.ip, prevHash: r.prev_hash,
+    occurredAt: r.occurred_at,
+    actorId: r.actor_id,
+    action: r.action,
+    entityType: r.entity_type,
+    entityId: r.entity_id,
+    before: r.before,
+    after: r.after,
+    reason: r.reason,
+    batchId: r.batch_id,
+    requestId: r.request_id,
+    ip: r.ip,
+    prevHash: r.prev_hash,
   })
 }
 
@@ -39,14 +57,16 @@ async function sqlState(client: pg.Client, text: string): Promise<string | null>
 }
 
 /** Runs `npm run audit:verify` (its script, without npm) against this file's database. */
-async function auditVerifyCli(): Promise<{ code: number, out: string }> {
+async function auditVerifyCli(): Promise<{ code: number; out: string }> {
   try {
     const { stdout } = await run(process.execPath, ['--import', 'tsx', 'server/cli/audit-verify.ts'], {
-      cwd: root, env: { ...process.env, DATABASE_URL: ctx.database.appUrl }, timeout: 60_000,
+      cwd: root,
+      env: { ...process.env, DATABASE_URL: ctx.database.appUrl },
+      timeout: 60_000,
     })
     return { code: 0, out: stdout }
   } catch (err) {
-    const e = err as { code?: number, stdout?: string, stderr?: string }
+    const e = err as { code?: number; stdout?: string; stderr?: string }
     return { code: typeof e.code === 'number' ? e.code : -1, out: `${e.stdout ?? ''}${e.stderr ?? ''}` }
   }
 }
@@ -71,7 +91,7 @@ describe('the runtime role and the audit table', () => {
     expect(rows[0].who).toBe('limitkeeper_app')
     expect(rows[0].n).toBeGreaterThan(0) // the demo seed's event: UPDATE and DELETE below have a row to hit
 
-    expect(await sqlState(rt, 'UPDATE audit_event SET reason = \'changed\'')).toBe('42501')
+    expect(await sqlState(rt, "UPDATE audit_event SET reason = 'changed'")).toBe('42501')
     expect(await sqlState(rt, 'DELETE FROM audit_event')).toBe('42501')
     expect(await sqlState(rt, 'TRUNCATE audit_event')).toBe('42501')
     expect(await sqlState(rt, 'ALTER TABLE audit_event DISABLE TRIGGER ALL')).toBe('42501')
@@ -86,7 +106,7 @@ describe('the runtime role and the audit table', () => {
   })
 
   it('stops even the owner role through the append-only triggers', async () => {
-    expect(await sqlState(owner, 'UPDATE audit_event SET reason = \'changed\'')).toBe('42501')
+    expect(await sqlState(owner, "UPDATE audit_event SET reason = 'changed'")).toBe('42501')
     expect(await sqlState(owner, 'DELETE FROM audit_event')).toBe('42501')
     expect(await sqlState(owner, 'TRUNCATE audit_event')).toBe('42501')
     await expect(owner.query('DELETE FROM audit_event')).rejects.toThrow(/append-only/)
@@ -98,22 +118,42 @@ describe('audit events', () => {
     const app = createApp(ctx)
     const admin = new ApiAgent(app)
     const { user } = await admin.signIn('admin@fernhollow.example')
-    const area = await admin.post('/api/areas', { siteId: 1, name: 'Sulphur Recovery' }).set('X-Request-Id', 'req-audit-1').expect(201)
+    const area = await admin
+      .post('/api/areas', { siteId: 1, name: 'Sulphur Recovery' })
+      .set('X-Request-Id', 'req-audit-1')
+      .expect(201)
     const ev = await ctx.db.selectFrom('audit_event').selectAll().where('request_id', '=', 'req-audit-1').execute()
     expect(ev).toHaveLength(1)
-    expect(ev[0]).toMatchObject({ action: 'area.create', entity_type: 'Area', entity_id: String(area.body.id), after: area.body })
+    expect(ev[0]).toMatchObject({
+      action: 'area.create',
+      entity_type: 'Area',
+      entity_id: String(area.body.id),
+      after: area.body,
+    })
     expect(ev[0].actor_id).toBe(user.id)
     expect(ev[0].ip).toMatch(/127\.0\.0\.1/)
 
     // a business transaction that fails after appending leaves neither the change nor its event
-    const before = await ctx.db.selectFrom('audit_event').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()
-    await expect(ctx.db.transaction().execute(async (trx) => {
-      await trx.insertInto('area').values({ site_id: 1, name: 'Never Built' }).execute()
-      await appendAudit(trx, ctx.clock, noActor, { action: 'area.create', entityType: 'Area', after: { name: 'Never Built' } })
-      throw new Error('the change failed after its audit event')
-    })).rejects.toThrow('the change failed')
+    const before = await ctx.db
+      .selectFrom('audit_event')
+      .select((eb) => eb.fn.countAll<number>().as('n'))
+      .executeTakeFirstOrThrow()
+    await expect(
+      ctx.db.transaction().execute(async (trx) => {
+        await trx.insertInto('area').values({ site_id: 1, name: 'Never Built' }).execute()
+        await appendAudit(trx, ctx.clock, noActor, {
+          action: 'area.create',
+          entityType: 'Area',
+          after: { name: 'Never Built' },
+        })
+        throw new Error('the change failed after its audit event')
+      }),
+    ).rejects.toThrow('the change failed')
     expect(await ctx.db.selectFrom('area').select('id').where('name', '=', 'Never Built').execute()).toEqual([])
-    const after = await ctx.db.selectFrom('audit_event').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()
+    const after = await ctx.db
+      .selectFrom('audit_event')
+      .select((eb) => eb.fn.countAll<number>().as('n'))
+      .executeTakeFirstOrThrow()
     expect(after.n).toBe(before.n)
   })
 
@@ -123,19 +163,51 @@ describe('audit events', () => {
     const after = {
       text: 'Ölstand ≥ 95 % — Überfüllsicherung 🔥 \u2028 "quoted" \\ back\\slash \t tab <b>&amp;</b>',
       combining: 'e\u0301 vs \u00e9', // not normalised: two different strings
-      nested: { zeta: 1, alpha: { delta: [3, { z: 1, y: 2, ä: 'ü', '': 'empty key' }], gamma: null }, b: true, aa: false, 10: 'ten', 9: 'nine' },
-      numbers: [0, -0, 1e21, 1e-7, 0.1 + 0.2, Number.MAX_SAFE_INTEGER, 2 ** 53 + 2, 1.7976931348623157e308, 5e-324, -123.456e-10],
+      nested: {
+        zeta: 1,
+        alpha: { delta: [3, { z: 1, y: 2, ä: 'ü', '': 'empty key' }], gamma: null },
+        b: true,
+        aa: false,
+        10: 'ten',
+        9: 'nine',
+      },
+      numbers: [
+        0,
+        -0,
+        1e21,
+        1e-7,
+        0.1 + 0.2,
+        Number.MAX_SAFE_INTEGER,
+        2 ** 53 + 2,
+        1.7976931348623157e308,
+        5e-324,
+        -123.456e-10,
+      ],
       exactDecimal: '123456789012345678901234567890.000000000000000001',
       nulls: { a: null, b: undefined, c: [undefined, null] },
       when: new Date('2026-01-02T03:04:05.006Z'),
       empty: { list: [], object: {}, string: '' },
     }
-    await ctx.db.transaction().execute((trx) => appendAudit(trx, clock, { actorId: 1, requestId: 'req-ä-🔥', ip: '2001:db8::1' }, [
-      { action: 'test.awkward', entityType: 'Limit', entityId: 42, after, reason: 'Grund: Prüfung ✓', batchId: '6f1c1f0e-8d5b-4c8e-9d0a-3b2f5f1e2a77' },
-      { action: 'test.awkward', entityType: 'Limit', entityId: 'TZ-101/A', before: undefined, after: null },
-      { action: 'test.awkward', entityType: 'Limit', before: [after.nested], after: { n: -0.000001 } },
-    ]))
-    const rows = await ctx.db.selectFrom('audit_event').selectAll().where('action', '=', 'test.awkward').orderBy('id').execute() as Row[]
+    await ctx.db.transaction().execute((trx) =>
+      appendAudit(trx, clock, { actorId: 1, requestId: 'req-ä-🔥', ip: '2001:db8::1' }, [
+        {
+          action: 'test.awkward',
+          entityType: 'Limit',
+          entityId: 42,
+          after,
+          reason: 'Grund: Prüfung ✓',
+          batchId: '6f1c1f0e-8d5b-4c8e-9d0a-3b2f5f1e2a77',
+        },
+        { action: 'test.awkward', entityType: 'Limit', entityId: 'TZ-101/A', before: undefined, after: null },
+        { action: 'test.awkward', entityType: 'Limit', before: [after.nested], after: { n: -0.000001 } },
+      ]),
+    )
+    const rows = (await ctx.db
+      .selectFrom('audit_event')
+      .selectAll()
+      .where('action', '=', 'test.awkward')
+      .orderBy('id')
+      .execute()) as Row[]
     expect(rows).toHaveLength(3)
     for (const r of rows) {
       expect(r.occurred_at.toISOString()).toBe('2026-03-04T05:06:07.999Z')
@@ -143,8 +215,24 @@ describe('audit events', () => {
     }
     // the values come back as JSON would give them (undefined → null or dropped, dates as ISO text), unicode untouched
     expect(rows[0].after).toEqual(JSON.parse(JSON.stringify(after)))
-    expect(rows[0].after).toMatchObject({ text: after.text, combining: after.combining, when: '2026-01-02T03:04:05.006Z', exactDecimal: after.exactDecimal })
-    expect((rows[0].after as { numbers: number[] }).numbers).toEqual([0, 0, 1e21, 1e-7, 0.1 + 0.2, 9007199254740991, 9007199254740994, 1.7976931348623157e308, 5e-324, -123.456e-10])
+    expect(rows[0].after).toMatchObject({
+      text: after.text,
+      combining: after.combining,
+      when: '2026-01-02T03:04:05.006Z',
+      exactDecimal: after.exactDecimal,
+    })
+    expect((rows[0].after as { numbers: number[] }).numbers).toEqual([
+      0,
+      0,
+      1e21,
+      1e-7,
+      0.1 + 0.2,
+      9007199254740991,
+      9007199254740994,
+      1.7976931348623157e308,
+      5e-324,
+      -123.456e-10,
+    ])
     expect(rows[0].entity_id).toBe('42')
     expect(rows[1].before).toBeNull()
     expect(rows[1].after).toBeNull()
@@ -156,8 +244,13 @@ describe('audit events', () => {
   })
 
   it('refuses a value jsonb cannot hold (NUL) by failing the whole transaction, leaving the chain intact', async () => {
-    await expect(ctx.db.transaction().execute((trx) => appendAudit(trx, ctx.clock, noActor, { action: 'test.nul', entityType: 'X', after: { s: 'a\u0000b' } })))
-      .rejects.toMatchObject({ code: '22P05' })
+    await expect(
+      ctx.db
+        .transaction()
+        .execute((trx) =>
+          appendAudit(trx, ctx.clock, noActor, { action: 'test.nul', entityType: 'X', after: { s: 'a\u0000b' } }),
+        ),
+    ).rejects.toMatchObject({ code: '22P05' })
     expect(await ctx.db.selectFrom('audit_event').select('id').where('action', '=', 'test.nul').execute()).toEqual([])
     expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true })
   })
@@ -173,19 +266,35 @@ describe('the hash chain', () => {
     // a barrier: every transaction is open before any of them appends
     let arrived = 0
     let release!: () => void
-    const allOpen = new Promise<void>((resolve) => { release = resolve })
-    await Promise.all(Array.from({ length: writers }, (_, w) => ctx.db.transaction().execute(async (trx) => {
-      await sql`SELECT 1`.execute(trx)
-      if (++arrived === writers) release()
-      await allOpen
-      for (let i = 0; i < perWriter; i++) {
-        await appendAudit(trx, ctx.clock, { actorId: null, requestId: `writer-${w}`, ip: null }, { action: 'test.concurrent', entityType: 'Writer', entityId: `${w}-${i}`, after: { w, i } })
-      }
-    })))
+    const allOpen = new Promise<void>((resolve) => {
+      release = resolve
+    })
+    await Promise.all(
+      Array.from({ length: writers }, (_, w) =>
+        ctx.db.transaction().execute(async (trx) => {
+          await sql`SELECT 1`.execute(trx)
+          if (++arrived === writers) release()
+          await allOpen
+          for (let i = 0; i < perWriter; i++) {
+            await appendAudit(
+              trx,
+              ctx.clock,
+              { actorId: null, requestId: `writer-${w}`, ip: null },
+              { action: 'test.concurrent', entityType: 'Writer', entityId: `${w}-${i}`, after: { w, i } },
+            )
+          }
+        }),
+      ),
+    )
 
     const result = await verifyAuditChain(ctx.db)
     expect(result).toMatchObject({ ok: true, checked: before.checked + writers * perWriter })
-    const rows = await ctx.db.selectFrom('audit_event').select(['id', 'request_id']).where('action', '=', 'test.concurrent').orderBy('id').execute()
+    const rows = await ctx.db
+      .selectFrom('audit_event')
+      .select(['id', 'request_id'])
+      .where('action', '=', 'test.concurrent')
+      .orderBy('id')
+      .execute()
     expect(rows).toHaveLength(writers * perWriter)
     // the lock is held until COMMIT, so each writer's events form one unbroken run of the chain
     const runs = new Map<string, number[]>()
@@ -203,9 +312,21 @@ describe('the hash chain', () => {
     expect(intact.code).toBe(0)
     expect(intact.out).toMatch(/Audit trail intact: \d+ events/)
 
-    const victim = await ctx.db.selectFrom('audit_event').selectAll().where('action', '=', 'test.concurrent').orderBy('id').offset(100).limit(1)
+    const victim = await ctx.db
+      .selectFrom('audit_event')
+      .selectAll()
+      .where('action', '=', 'test.concurrent')
+      .orderBy('id')
+      .offset(100)
+      .limit(1)
       .executeTakeFirstOrThrow()
-    const earlier = (await ctx.db.selectFrom('audit_event').select((eb) => eb.fn.countAll<number>().as('n')).where('id', '<', victim.id).executeTakeFirstOrThrow()).n
+    const earlier = (
+      await ctx.db
+        .selectFrom('audit_event')
+        .select((eb) => eb.fn.countAll<number>().as('n'))
+        .where('id', '<', victim.id)
+        .executeTakeFirstOrThrow()
+    ).n
     const su = new pg.Client({ connectionString: ctx.database.superUrl })
     await su.connect()
     try {
@@ -236,9 +357,24 @@ describe('the hash chain', () => {
 
       // a forger who also recomputes the row's own hash breaks the next link instead
       const forged = { ...victim, after: { w: 0, i: 99 } } as Row
-      await tamper('UPDATE audit_event SET after = $1, hash = $2 WHERE id = $3', [JSON.stringify(forged.after), rehash(forged), victim.id])
-      const next = await ctx.db.selectFrom('audit_event').select('id').where('id', '>', victim.id).orderBy('id').limit(1).executeTakeFirstOrThrow()
-      expect(await verifyAuditChain(ctx.db)).toEqual({ ok: false, checked: earlier + 1, badId: next.id, problem: 'prev_hash does not match the previous event' })
+      await tamper('UPDATE audit_event SET after = $1, hash = $2 WHERE id = $3', [
+        JSON.stringify(forged.after),
+        rehash(forged),
+        victim.id,
+      ])
+      const next = await ctx.db
+        .selectFrom('audit_event')
+        .select('id')
+        .where('id', '>', victim.id)
+        .orderBy('id')
+        .limit(1)
+        .executeTakeFirstOrThrow()
+      expect(await verifyAuditChain(ctx.db)).toEqual({
+        ok: false,
+        checked: earlier + 1,
+        badId: next.id,
+        problem: 'prev_hash does not match the previous event',
+      })
     } finally {
       await su.end()
     }

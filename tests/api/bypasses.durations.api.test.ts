@@ -12,7 +12,7 @@ const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 const HOUR = 3_600_000
 const PEOPLE = ['engineer', 'approver', 'approver2', 'technician', 'supervisor', 'operator', 'manager'] as const
-type Who = typeof PEOPLE[number]
+type Who = (typeof PEOPLE)[number]
 
 let app: Express
 const as = {} as Record<Who, ApiAgent>
@@ -30,18 +30,28 @@ async function limitWithMaxBypass(maxBypassHours: number, siteCode = 'FHR') {
   const changed = (await as.engineer.patch(`/api/limits/${limit.id}`, { maxBypassHours }).expect(200)).body
   expect(changed.maxBypassHours).toBe(maxBypassHours)
   await activateLimit(crew(), changed)
-  return changed as { id: number, siteId: number, tag: string }
+  return changed as { id: number; siteId: number; tag: string }
 }
 
 /** An approved temporary change request of the site (one create item on a fresh proposed limit). */
 async function approvedChange(siteCode: string, type: 'temporary' | 'permanent', approve = true) {
   const { limit } = await buildHeaterTrip(as.engineer, { siteCode })
-  const cr = (await as.engineer.post('/api/change-requests', {
-    siteId: limit.siteId, type, title: `${type} change for a long bypass`, expiresAt: type === 'temporary' ? new Date(ctx.clock.now().getTime() + 30 * 24 * HOUR).toISOString() : null,
-    items: [{ kind: 'create', limitId: limit.id }],
-  }).expect(201)).body
+  const cr = (
+    await as.engineer
+      .post('/api/change-requests', {
+        siteId: limit.siteId,
+        type,
+        title: `${type} change for a long bypass`,
+        expiresAt: type === 'temporary' ? new Date(ctx.clock.now().getTime() + 30 * 24 * HOUR).toISOString() : null,
+        items: [{ kind: 'create', limitId: limit.id }],
+      })
+      .expect(201)
+  ).body
   await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)
-  if (approve) expect((await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body.status).toBe('approved')
+  if (approve)
+    expect(
+      (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body.status,
+    ).toBe('approved')
   return cr.id as number
 }
 
@@ -49,15 +59,42 @@ async function approvedChange(siteCode: string, type: 'temporary' | 'permanent',
 const ask = (who: Who, limitId: number, hours: number, extra: Record<string, unknown> = {}) => {
   const start = Math.ceil(ctx.clock.now().getTime() / 60_000) * 60_000 + 60_000
   return as[who].post('/api/bypasses', {
-    limitId, reason: 'Analyser change-out', plannedStart: new Date(start).toISOString(), plannedEnd: new Date(start + hours * HOUR).toISOString(), predefinedMeasuresConfirmed: true, ...extra,
+    limitId,
+    reason: 'Analyser change-out',
+    plannedStart: new Date(start).toISOString(),
+    plannedEnd: new Date(start + hours * HOUR).toISOString(),
+    predefinedMeasuresConfirmed: true,
+    ...extra,
   })
 }
 
 async function written() {
-  const n = async (t: 'bypass' | 'signature' | 'mail_outbox') => Number((await ctx.db.selectFrom(t).select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
-  const audit = await ctx.db.selectFrom('audit_event').select((eb) => eb.fn.countAll<number>().as('n')).where('action', 'not like', 'session.%').executeTakeFirstOrThrow()
-  const states = await ctx.db.selectFrom('bypass').select(['id', 'status', 'planned_end', 'updated_at']).orderBy('id').execute()
-  return { bypasses: await n('bypass'), signatures: await n('signature'), mails: await n('mail_outbox'), audit: Number(audit.n), states }
+  const n = async (t: 'bypass' | 'signature' | 'mail_outbox') =>
+    Number(
+      (
+        await ctx.db
+          .selectFrom(t)
+          .select((eb) => eb.fn.countAll<number>().as('n'))
+          .executeTakeFirstOrThrow()
+      ).n,
+    )
+  const audit = await ctx.db
+    .selectFrom('audit_event')
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .where('action', 'not like', 'session.%')
+    .executeTakeFirstOrThrow()
+  const states = await ctx.db
+    .selectFrom('bypass')
+    .select(['id', 'status', 'planned_end', 'updated_at'])
+    .orderBy('id')
+    .execute()
+  return {
+    bypasses: await n('bypass'),
+    signatures: await n('signature'),
+    mails: await n('mail_outbox'),
+    audit: Number(audit.n),
+    states,
+  }
 }
 
 beforeAll(async () => {
@@ -74,8 +111,12 @@ describe('bypass: an authorization not activated in time lapses (DOMAIN.md §6 d
     const second = await limitWithMaxBypass(24)
     const early = (await ask('operator', first.id, 8).expect(201)).body
     const late = (await ask('operator', second.id, 8).expect(201)).body
-    const authorizedAt = new Date((await as.supervisor.post(`/api/bypasses/${early.id}/authorizations`, { password: PW }).expect(200)).body.authorizedAt).getTime()
-    const lateAuth = (await as.supervisor.post(`/api/bypasses/${late.id}/authorizations`, { password: PW }).expect(200)).body
+    const authorizedAt = new Date(
+      (await as.supervisor.post(`/api/bypasses/${early.id}/authorizations`, { password: PW }).expect(200)).body
+        .authorizedAt,
+    ).getTime()
+    const lateAuth = (await as.supervisor.post(`/api/bypasses/${late.id}/authorizations`, { password: PW }).expect(200))
+      .body
     expect(lateAuth.lapsesAt).toBe(new Date(new Date(lateAuth.authorizedAt).getTime() + 4 * HOUR).toISOString())
     const job = createBypassJob(ctx.db, ctx.config, ctx.clock)
 
@@ -96,19 +137,29 @@ describe('bypass: an authorization not activated in time lapses (DOMAIN.md §6 d
     expect(await job.runDue(ctx.clock.now())).toMatchObject({ lapsed: 1 })
     const lapsed = (await as.operator.get(`/api/bypasses/${late.id}`).expect(200)).body
     expect(lapsed).toMatchObject({ status: 'lapsed', activatedAt: null, lapsesAt: null })
-    expect((await as.supervisor.post(`/api/bypasses/${late.id}/activation`).expect(409)).body.error.code).toBe('INVALID_STATE')
+    expect((await as.supervisor.post(`/api/bypasses/${late.id}/activation`).expect(409)).body.error.code).toBe(
+      'INVALID_STATE',
+    )
     expect((await as.engineer.get(`/api/limits/${second.id}`).expect(200)).body.protectionState).toBe('in_service')
-    const events = await ctx.db.selectFrom('audit_event').select('action').where('entity_type', '=', 'Bypass').where('entity_id', '=', String(late.id)).where('action', '=', 'bypass.lapse').execute()
+    const events = await ctx.db
+      .selectFrom('audit_event')
+      .select('action')
+      .where('entity_type', '=', 'Bypass')
+      .where('entity_id', '=', String(late.id))
+      .where('action', '=', 'bypass.lapse')
+      .execute()
     expect(events).toHaveLength(1)
     // the job does not lapse it twice, and never touches the active one
     expect(await job.runDue(ctx.clock.now())).toMatchObject({ lapsed: 0 })
     expect((await as.operator.get(`/api/bypasses/${early.id}`).expect(200)).body.status).toBe('active')
-    await as.operator.post(`/api/bypasses/${early.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true }).expect(200)
+    await as.operator
+      .post(`/api/bypasses/${early.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true })
+      .expect(200)
   })
 })
 
 describe('bypass: the longest duration each role may authorize (DOMAIN.md §6 defaults, common practice: one shift 12 h, plant manager 72 h)', () => {
-  let limit: { id: number, siteId: number, tag: string }
+  let limit: { id: number; siteId: number; tag: string }
   beforeAll(async () => {
     ctx.clock.set('2026-06-02T06:00:00Z')
     await signInAll()
@@ -126,13 +177,18 @@ describe('bypass: the longest duration each role may authorize (DOMAIN.md §6 de
       expect(await written()).toEqual(before)
     }
     const ok = (await as.manager.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)).body
-    expect(ok).toMatchObject({ status: 'authorized', authorizations: [expect.objectContaining({ name: 'Piet Vanderholm', meaning: 'authorized' })] })
+    expect(ok).toMatchObject({
+      status: 'authorized',
+      authorizations: [expect.objectContaining({ name: 'Piet Vanderholm', meaning: 'authorized' })],
+    })
     await as.operator.post(`/api/bypasses/${b.id}/cancellation`).expect(200)
   })
 
   it('both edges of the shift limit: 12 h is authorized by an approver, 12.5 h is not', async () => {
     const twelve = (await ask('operator', limit.id, 12).expect(201)).body
-    expect((await as.approver.post(`/api/bypasses/${twelve.id}/authorizations`, { password: PW }).expect(200)).body.status).toBe('authorized')
+    expect(
+      (await as.approver.post(`/api/bypasses/${twelve.id}/authorizations`, { password: PW }).expect(200)).body.status,
+    ).toBe('authorized')
     const longer = (await ask('operator', limit.id, 12.5).expect(201)).body
     await as.approver.post(`/api/bypasses/${longer.id}/authorizations`, { password: PW }).expect(403)
     await as.supervisor.post(`/api/bypasses/${longer.id}/authorizations`, { password: PW }).expect(403)
@@ -163,7 +219,9 @@ describe('bypass: the longest duration each role may authorize (DOMAIN.md §6 de
 
     // the shift supervisor's one shift does not grow with the change; the plant manager signs under the approved change
     await as.supervisor.post(`/api/bypasses/${linked.id}/authorizations`, { password: PW }).expect(403)
-    const authorized = (await as.manager.post(`/api/bypasses/${linked.id}/authorizations`, { password: PW }).expect(200)).body
+    const authorized = (
+      await as.manager.post(`/api/bypasses/${linked.id}/authorizations`, { password: PW }).expect(200)
+    ).body
     expect(authorized).toMatchObject({ status: 'authorized', changeRequestId: temporary })
     await as.operator.post(`/api/bypasses/${linked.id}/cancellation`).expect(200)
   })
@@ -184,7 +242,7 @@ describe('bypass: the longest duration each role may authorize (DOMAIN.md §6 de
 })
 
 describe('bypass: an extension is a further signed authorization (DOMAIN.md §3 Bypass)', () => {
-  it('adds a signature and moves the planned end, within the signer\'s limit and the limit\'s own maximum', async () => {
+  it("adds a signature and moves the planned end, within the signer's limit and the limit's own maximum", async () => {
     ctx.clock.set('2026-06-03T06:00:00Z')
     await signInAll()
     // buildHeaterTrip: maxBypassHours 8
@@ -196,26 +254,46 @@ describe('bypass: an extension is a further signed authorization (DOMAIN.md §3 
 
     const noHours = await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(400)
     expect(noHours.body.error.details.fields.hours).toBeDefined()
-    const extended = (await as.approver.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 2, comment: 'Analyser spares late' }).expect(200)).body
+    const extended = (
+      await as.approver
+        .post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 2, comment: 'Analyser spares late' })
+        .expect(200)
+    ).body
     expect(extended.status).toBe('active')
-    expect(extended.authorizations.map((a: { meaning: string, name: string }) => [a.meaning, a.name])).toEqual([['authorized', 'Hedda Marlowe'], ['authorized', 'Arlo Pennick']])
+    expect(extended.authorizations.map((a: { meaning: string; name: string }) => [a.meaning, a.name])).toEqual([
+      ['authorized', 'Hedda Marlowe'],
+      ['authorized', 'Arlo Pennick'],
+    ])
     expect(new Date(extended.plannedEnd).getTime() - new Date(b.plannedEnd).getTime()).toBe(2 * HOUR)
     expect(extended.plannedHours).toBeCloseTo(7, 9)
     expect(extended.authorizations[1].contentHash).not.toBe(extended.authorizations[0].contentHash)
 
     // 7 h + 1.5 h would pass the limit's own 8 h: refused, nothing written
     const before = await written()
-    const tooLong = await as.manager.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 1.5 }).expect(400)
+    const tooLong = await as.manager
+      .post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 1.5 })
+      .expect(400)
     expect(tooLong.body.error.details.fields.hours[0]).toContain('8 h')
     expect(await written()).toEqual(before)
 
     // exactly to the maximum is allowed
-    const full = (await as.manager.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 1 }).expect(200)).body
+    const full = (await as.manager.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 1 }).expect(200))
+      .body
     expect(full.plannedHours).toBeCloseTo(8, 9)
     expect(full.authorizations).toHaveLength(3)
-    const actions = (await ctx.db.selectFrom('audit_event').select('action').where('entity_type', '=', 'Bypass').where('entity_id', '=', String(b.id)).orderBy('id').execute()).map((e) => e.action)
+    const actions = (
+      await ctx.db
+        .selectFrom('audit_event')
+        .select('action')
+        .where('entity_type', '=', 'Bypass')
+        .where('entity_id', '=', String(b.id))
+        .orderBy('id')
+        .execute()
+    ).map((e) => e.action)
     expect(actions).toEqual(['bypass.request', 'bypass.authorize', 'bypass.activate', 'bypass.extend', 'bypass.extend'])
-    await as.operator.post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true }).expect(200)
+    await as.operator
+      .post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true })
+      .expect(200)
   })
 
   it('a signer extends by no more than their role may authorize, and never their own request', async () => {
@@ -227,7 +305,12 @@ describe('bypass: an extension is a further signed authorization (DOMAIN.md §3 
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 1 }).expect(403)
     await as.approver.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 13 }).expect(403)
     expect(await written()).toEqual(before)
-    expect((await as.manager.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 13 }).expect(200)).body.plannedHours).toBeCloseTo(17, 9)
-    await as.operator.post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true }).expect(200)
+    expect(
+      (await as.manager.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 13 }).expect(200)).body
+        .plannedHours,
+    ).toBeCloseTo(17, 9)
+    await as.operator
+      .post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true })
+      .expect(200)
   })
 })

@@ -11,8 +11,12 @@ import { activateLimit } from './helpers/workflows.ts'
 const ctx = useTestDb()
 const PW = 'limitkeeper-demo'
 let smtp: FakeSmtp
-beforeAll(async () => { smtp = await startFakeSmtp(0, { quiet: true }) })
-afterAll(async () => { await smtp.close() })
+beforeAll(async () => {
+  smtp = await startFakeSmtp(0, { quiet: true })
+})
+afterAll(async () => {
+  await smtp.close()
+})
 
 describe('bypass: request, authorize, activate, overdue, review', () => {
   it('goes overdue past its planned end, escalates, and shows in the review', async () => {
@@ -25,19 +29,62 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
     const sup = await signedIn(app, 'supervisor')
     const mgr = await signedIn(app, 'manager')
     const { limit } = await buildHeaterTrip(eng)
-    await op.post('/api/bypasses', { limitId: limit.id, reason: 'Burner maintenance', plannedStart: '2026-05-04T06:30:00Z', plannedEnd: '2026-05-04T10:30:00Z', predefinedMeasuresConfirmed: true }).expect(409)
+    await op
+      .post('/api/bypasses', {
+        limitId: limit.id,
+        reason: 'Burner maintenance',
+        plannedStart: '2026-05-04T06:30:00Z',
+        plannedEnd: '2026-05-04T10:30:00Z',
+        predefinedMeasuresConfirmed: true,
+      })
+      .expect(409)
     await activateLimit({ eng, approver, tech }, limit)
 
-    const noMeasures = await op.post('/api/bypasses', { limitId: limit.id, reason: 'Burner maintenance', plannedStart: '2026-05-04T06:30:00Z', plannedEnd: '2026-05-04T10:30:00Z' }).expect(400)
+    const noMeasures = await op
+      .post('/api/bypasses', {
+        limitId: limit.id,
+        reason: 'Burner maintenance',
+        plannedStart: '2026-05-04T06:30:00Z',
+        plannedEnd: '2026-05-04T10:30:00Z',
+      })
+      .expect(400)
     expect(noMeasures.body.error.details.fields.predefinedMeasuresConfirmed).toBeDefined()
-    await op.post('/api/bypasses', { limitId: limit.id, reason: 'Burner maintenance', plannedStart: '2026-05-04T06:30:00Z', plannedEnd: '2026-05-04T16:30:00Z', predefinedMeasuresConfirmed: true }).expect(400)
-    const b = (await op.post('/api/bypasses', { limitId: limit.id, reason: 'Burner maintenance', plannedStart: '2026-05-04T06:30:00Z', plannedEnd: '2026-05-04T10:30:00Z', predefinedMeasuresConfirmed: true }).expect(201)).body
+    await op
+      .post('/api/bypasses', {
+        limitId: limit.id,
+        reason: 'Burner maintenance',
+        plannedStart: '2026-05-04T06:30:00Z',
+        plannedEnd: '2026-05-04T16:30:00Z',
+        predefinedMeasuresConfirmed: true,
+      })
+      .expect(400)
+    const b = (
+      await op
+        .post('/api/bypasses', {
+          limitId: limit.id,
+          reason: 'Burner maintenance',
+          plannedStart: '2026-05-04T06:30:00Z',
+          plannedEnd: '2026-05-04T10:30:00Z',
+          predefinedMeasuresConfirmed: true,
+        })
+        .expect(201)
+    ).body
     expect(b.status).toBe('requested')
     await op.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(403)
     await sup.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
     await op.post(`/api/bypasses/${b.id}/activation`).expect(200)
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.protectionState).toBe('bypassed')
-    const second = (await op.post('/api/bypasses', { limitId: limit.id, reason: 'Second one', plannedStart: '2026-05-04T06:30:00Z', plannedEnd: '2026-05-04T08:30:00Z', predefinedMeasuresConfirmed: true }).expect(201)).body
+    const second = (
+      await op
+        .post('/api/bypasses', {
+          limitId: limit.id,
+          reason: 'Second one',
+          plannedStart: '2026-05-04T06:30:00Z',
+          plannedEnd: '2026-05-04T08:30:00Z',
+          predefinedMeasuresConfirmed: true,
+        })
+        .expect(201)
+    ).body
     await sup.post(`/api/bypasses/${second.id}/authorizations`, { password: PW }).expect(200)
     await op.post(`/api/bypasses/${second.id}/activation`).expect(409)
 
@@ -46,10 +93,18 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
     const mail = createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock)
     await job.runDue(ctx.clock.set('2026-05-04T10:31:00Z'))
     await mail.runDue(ctx.clock.now())
-    expect(smtp.inbox.some((m) => m.subject?.startsWith('OVERDUE bypass') && m.to && 'text' in m.to && m.to.text.includes('supervisor@'))).toBe(true)
+    expect(
+      smtp.inbox.some(
+        (m) => m.subject?.startsWith('OVERDUE bypass') && m.to && 'text' in m.to && m.to.text.includes('supervisor@'),
+      ),
+    ).toBe(true)
     await job.runDue(ctx.clock.set('2026-05-04T14:31:00Z'))
     await mail.runDue(ctx.clock.now())
-    expect(smtp.inbox.some((m) => m.subject?.startsWith('Escalation') && m.to && 'text' in m.to && m.to.text.includes('manager@'))).toBe(true)
+    expect(
+      smtp.inbox.some(
+        (m) => m.subject?.startsWith('Escalation') && m.to && 'text' in m.to && m.to.text.includes('manager@'),
+      ),
+    ).toBe(true)
 
     await mgr.refreshCsrf()
     await mgr.signIn('manager@fernhollow.example')
@@ -61,8 +116,14 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
     await op.refreshCsrf()
     await op.signIn('operator@fernhollow.example')
     await op.get('/api/bypass-review').expect(403)
-    await op.post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: false, protectionRestoredConfirmed: true }).expect(400)
-    const removed = (await op.post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true }).expect(200)).body
+    await op
+      .post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: false, protectionRestoredConfirmed: true })
+      .expect(400)
+    const removed = (
+      await op
+        .post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true })
+        .expect(200)
+    ).body
     // the clock keeps running from the time set, so allow the seconds the test itself takes
     expect(removed.overdueHours).toBeGreaterThanOrEqual(4)
     expect(removed.overdueHours).toBeLessThan(4.05)

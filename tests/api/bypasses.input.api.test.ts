@@ -10,35 +10,84 @@ import { activateLimit } from './helpers/workflows.ts'
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 const PEOPLE = ['engineer', 'approver', 'technician', 'operator'] as const
-type Who = typeof PEOPLE[number]
+type Who = (typeof PEOPLE)[number]
 
 let app: Express
 const as = {} as Record<Who, ApiAgent>
 let seq = 0
 
-interface Built { limit: { id: number, siteId: number, tag: string }, instruments: { id: number, tag: string }[] }
+interface Built {
+  limit: { id: number; siteId: number; tag: string }
+  instruments: { id: number; tag: string }[]
+}
 
 /** A fired-heater temperature limit with `channels` thermocouples (one per voted sensor), proposed, via the API as the engineer. */
-async function buildLimit(o: { channels?: number, limitClass?: 'trip' | 'alarm', measures?: string[], bypassPermitted?: boolean, maxBypassHours?: number | null } = {}): Promise<Built> {
+async function buildLimit(
+  o: {
+    channels?: number
+    limitClass?: 'trip' | 'alarm'
+    measures?: string[]
+    bypassPermitted?: boolean
+    maxBypassHours?: number | null
+  } = {},
+): Promise<Built> {
   const eng = as.engineer
-  const site = ((await eng.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]).find((s) => s.code === 'FHR')!
+  const site = ((await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]).find(
+    (s) => s.code === 'FHR',
+  )!
   const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[0]
   const n = `${process.pid % 1000}-${++seq}`
-  const proc = (await eng.post('/api/processes', { areaId: area.id, name: `Bypass input heater H-${n}`, description: 'fired heater' }).expect(201)).body
+  const proc = (
+    await eng
+      .post('/api/processes', { areaId: area.id, name: `Bypass input heater H-${n}`, description: 'fired heater' })
+      .expect(201)
+  ).body
   const instruments = []
   for (let i = 0; i < (o.channels ?? 1); i++) {
-    instruments.push((await eng.post('/api/instruments', {
-      processId: proc.id, tag: `TTB-${n}${String.fromCharCode(65 + i)}`, measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650,
-      designLow: null, designHigh: 900, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
-    }).expect(201)).body)
+    instruments.push(
+      (
+        await eng
+          .post('/api/instruments', {
+            processId: proc.id,
+            tag: `TTB-${n}${String.fromCharCode(65 + i)}`,
+            measuredVariable: 'temperature',
+            unit: '°C',
+            rangeLow: 0,
+            rangeHigh: 1200,
+            normalLow: 300,
+            normalHigh: 650,
+            designLow: null,
+            designHigh: 900,
+            burnout: 'upscale',
+            signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+            deviceKind: 'limit_controller',
+          })
+          .expect(201)
+      ).body,
+    )
   }
   const alarm = o.limitClass === 'alarm'
-  const limit = (await eng.post('/api/limits', {
-    processId: proc.id, instrumentIds: instruments.map((i) => i.id), tag: `${alarm ? 'TAH' : 'TSHH'}-B${n}`, direction: 'high', limitClass: o.limitClass ?? 'trip',
-    setpoint: alarm ? 700 : 780, deadband: 5, severity: alarm ? 'moderate' : 'severe', testIntervalMonths: 12, latching: !alarm, resetRole: alarm ? null : 'operator',
-    responseTimeMin: alarm ? 15 : null, compensatingMeasures: o.measures ?? ['Operator watches TI locally every 15 min'],
-    bypassPermitted: o.bypassPermitted ?? true, maxBypassHours: o.bypassPermitted === false ? null : (o.maxBypassHours === undefined ? 8 : o.maxBypassHours),
-  }).expect(201)).body
+  const limit = (
+    await eng
+      .post('/api/limits', {
+        processId: proc.id,
+        instrumentIds: instruments.map((i) => i.id),
+        tag: `${alarm ? 'TAH' : 'TSHH'}-B${n}`,
+        direction: 'high',
+        limitClass: o.limitClass ?? 'trip',
+        setpoint: alarm ? 700 : 780,
+        deadband: 5,
+        severity: alarm ? 'moderate' : 'severe',
+        testIntervalMonths: 12,
+        latching: !alarm,
+        resetRole: alarm ? null : 'operator',
+        responseTimeMin: alarm ? 15 : null,
+        compensatingMeasures: o.measures ?? ['Operator watches TI locally every 15 min'],
+        bypassPermitted: o.bypassPermitted ?? true,
+        maxBypassHours: o.bypassPermitted === false ? null : o.maxBypassHours === undefined ? 8 : o.maxBypassHours,
+      })
+      .expect(201)
+  ).body
   return { limit, instruments }
 }
 
@@ -49,9 +98,26 @@ async function inService(o: Parameters<typeof buildLimit>[0] = {}) {
 }
 
 async function written() {
-  const n = async (t: 'bypass' | 'signature' | 'mail_outbox') => Number((await ctx.db.selectFrom(t).select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
-  const audit = await ctx.db.selectFrom('audit_event').select((eb) => eb.fn.countAll<number>().as('n')).where('action', 'not like', 'session.%').executeTakeFirstOrThrow()
-  return { bypasses: await n('bypass'), signatures: await n('signature'), mails: await n('mail_outbox'), audit: Number(audit.n) }
+  const n = async (t: 'bypass' | 'signature' | 'mail_outbox') =>
+    Number(
+      (
+        await ctx.db
+          .selectFrom(t)
+          .select((eb) => eb.fn.countAll<number>().as('n'))
+          .executeTakeFirstOrThrow()
+      ).n,
+    )
+  const audit = await ctx.db
+    .selectFrom('audit_event')
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .where('action', 'not like', 'session.%')
+    .executeTakeFirstOrThrow()
+  return {
+    bypasses: await n('bypass'),
+    signatures: await n('signature'),
+    mails: await n('mail_outbox'),
+    audit: Number(audit.n),
+  }
 }
 
 /** Asserts the refusal and that nothing was written; answers the error body. */
@@ -60,13 +126,19 @@ async function refused(status: number, call: () => Promise<Response>) {
   const res = await call()
   expect(res.status, JSON.stringify(res.body)).toBe(status)
   expect(await written()).toEqual(before)
-  return res.body.error as { code: string, message: string, details?: { fields: Record<string, string[]> } }
+  return res.body.error as { code: string; message: string; details?: { fields: Record<string, string[]> } }
 }
 
 const T0 = '2026-05-18T06:00:00Z'
-const req = (limitId: number, extra: Record<string, unknown> = {}) => as.operator.post('/api/bypasses', {
-  limitId, reason: 'Thermocouple replacement', plannedStart: '2026-05-18T06:30:00Z', plannedEnd: '2026-05-18T10:30:00Z', predefinedMeasuresConfirmed: true, ...extra,
-})
+const req = (limitId: number, extra: Record<string, unknown> = {}) =>
+  as.operator.post('/api/bypasses', {
+    limitId,
+    reason: 'Thermocouple replacement',
+    plannedStart: '2026-05-18T06:30:00Z',
+    plannedEnd: '2026-05-18T10:30:00Z',
+    predefinedMeasuresConfirmed: true,
+    ...extra,
+  })
 
 let trip: Built
 beforeAll(async () => {
@@ -78,11 +150,17 @@ beforeAll(async () => {
 
 describe('bypass request: bad input is refused with a clear message and nothing written (issue 6 "Bad input")', () => {
   it('no end before (or at) the start: 400 on plannedEnd', async () => {
-    const before = await refused(400, () => req(trip.limit.id, { plannedStart: '2026-05-18T10:30:00Z', plannedEnd: '2026-05-18T06:30:00Z' }))
+    const before = await refused(400, () =>
+      req(trip.limit.id, { plannedStart: '2026-05-18T10:30:00Z', plannedEnd: '2026-05-18T06:30:00Z' }),
+    )
     expect(before.details!.fields.plannedEnd[0]).toContain('after the start')
-    const same = await refused(400, () => req(trip.limit.id, { plannedStart: '2026-05-18T10:30:00Z', plannedEnd: '2026-05-18T10:30:00Z' }))
+    const same = await refused(400, () =>
+      req(trip.limit.id, { plannedStart: '2026-05-18T10:30:00Z', plannedEnd: '2026-05-18T10:30:00Z' }),
+    )
     expect(same.details!.fields.plannedEnd).toBeDefined()
-    const passed = await refused(400, () => req(trip.limit.id, { plannedStart: '2026-05-18T04:00:00Z', plannedEnd: '2026-05-18T05:00:00Z' }))
+    const passed = await refused(400, () =>
+      req(trip.limit.id, { plannedStart: '2026-05-18T04:00:00Z', plannedEnd: '2026-05-18T05:00:00Z' }),
+    )
     expect(passed.details!.fields.plannedEnd[0]).toContain('passed')
     const noZone = await refused(400, () => req(trip.limit.id, { plannedEnd: '18.05.2026 10:30' }))
     expect(noZone.details!.fields.plannedEnd).toBeDefined()
@@ -94,10 +172,26 @@ describe('bypass request: bad input is refused with a clear message and nothing 
     expect(e1).toMatchObject({ code: 'INVALID_STATE', message: expect.stringContaining('proposed') })
 
     const retiring = await inService()
-    const cr = (await as.engineer.post('/api/change-requests', { siteId: retiring.limit.siteId, type: 'permanent', title: 'Retire heater trip', items: [{ kind: 'retire', limitId: retiring.limit.id }] }).expect(201)).body
+    const cr = (
+      await as.engineer
+        .post('/api/change-requests', {
+          siteId: retiring.limit.siteId,
+          type: 'permanent',
+          title: 'Retire heater trip',
+          items: [{ kind: 'retire', limitId: retiring.limit.id }],
+        })
+        .expect(201)
+    ).body
     await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)
-    const approved = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
-    await as.technician.post(`/api/change-requests/${cr.id}/implementations`, { itemId: approved.items[0].id, readBack: {}, password: PW }).expect(200)
+    const approved = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200))
+      .body
+    await as.technician
+      .post(`/api/change-requests/${cr.id}/implementations`, {
+        itemId: approved.items[0].id,
+        readBack: {},
+        password: PW,
+      })
+      .expect(200)
     expect((await as.engineer.get(`/api/limits/${retiring.limit.id}`).expect(200)).body.status).toBe('retired')
     const e2 = await refused(409, () => req(retiring.limit.id))
     expect(e2).toMatchObject({ code: 'INVALID_STATE', message: expect.stringContaining('retired') })
@@ -111,7 +205,7 @@ describe('bypass request: bad input is refused with a clear message and nothing 
     expect(e).toMatchObject({ code: 'UNPROCESSABLE', message: expect.stringContaining('not permitted') })
   })
 
-  it('no duration beyond the limit\'s own maximum: 400 on plannedEnd; exactly the maximum is accepted', async () => {
+  it("no duration beyond the limit's own maximum: 400 on plannedEnd; exactly the maximum is accepted", async () => {
     // buildLimit: maxBypassHours 8
     const e = await refused(400, () => req(trip.limit.id, { plannedEnd: '2026-05-18T14:31:00Z' }))
     expect(e.details!.fields.plannedEnd[0]).toContain('At most 8 h')
@@ -128,11 +222,15 @@ describe('bypass request: bad input is refused with a clear message and nothing 
     const bare = await inService({ measures: [] })
     const e = await refused(400, () => req(bare.limit.id, { predefinedMeasuresConfirmed: false }))
     expect(e.details!.fields.extraMeasures).toBeDefined()
-    const withExtra = (await req(bare.limit.id, { extraMeasures: ['Second operator at the local panel'] }).expect(201)).body
+    const withExtra = (await req(bare.limit.id, { extraMeasures: ['Second operator at the local panel'] }).expect(201))
+      .body
     expect(withExtra.compensatingMeasures).toEqual(['Second operator at the local panel'])
     // predefined and extra measures are both kept, predefined first
     const both = (await req(trip.limit.id, { extraMeasures: ['Fire watch at the burner front'] }).expect(201)).body
-    expect(both.compensatingMeasures).toEqual(['Operator watches TI locally every 15 min', 'Fire watch at the burner front'])
+    expect(both.compensatingMeasures).toEqual([
+      'Operator watches TI locally every 15 min',
+      'Fire watch at the burner front',
+    ])
     // an alarm is not a trip: the site policy does not require measures
     const alarm = await inService({ limitClass: 'alarm', measures: [] })
     expect((await req(alarm.limit.id).expect(201)).body.compensatingMeasures).toEqual([])
@@ -145,7 +243,11 @@ describe('bypass request: bad input is refused with a clear message and nothing 
     const foreign = await refused(400, () => req(voted.limit.id, { channelInstrumentId: trip.instruments[0].id }))
     expect(foreign.details!.fields.channelInstrumentId).toBeDefined()
     const channel = (await req(voted.limit.id, { channelInstrumentId: voted.instruments[1].id }).expect(201)).body
-    expect(channel).toMatchObject({ channelInstrumentId: voted.instruments[1].id, channelTag: voted.instruments[1].tag, status: 'requested' })
+    expect(channel).toMatchObject({
+      channelInstrumentId: voted.instruments[1].id,
+      channelTag: voted.instruments[1].tag,
+      status: 'requested',
+    })
   })
 
   it('the reason must say why', async () => {

@@ -16,7 +16,7 @@ const PW = DEMO_PASSWORD
 const MIN = 60_000
 const HOUR = 60 * MIN
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor', 'operator', 'manager'] as const
-type Who = typeof PEOPLE[number]
+type Who = (typeof PEOPLE)[number]
 
 let app: Express
 let smtp: FakeSmtp
@@ -35,7 +35,9 @@ beforeAll(async () => {
   app = createApp(ctx)
   await signInAll()
 })
-afterAll(async () => { await smtp?.close() })
+afterAll(async () => {
+  await smtp?.close()
+})
 
 describe('bypass past its planned end: warning, overdue, escalation (DOMAIN.md ยง4, ยง6 defaults 1 h / at once / every 4 h, common practice)', () => {
   it('warns the requester 1 h before, tells the shift supervisor at once when overdue, escalates to the plant manager every 4 h, never closes it; an extension clears it', async () => {
@@ -43,9 +45,17 @@ describe('bypass past its planned end: warning, overdue, escalation (DOMAIN.md ย
     const patched = (await as.engineer.patch(`/api/limits/${limit.id}`, { maxBypassHours: 100 }).expect(200)).body
     await activateLimit({ eng: as.engineer, approver: as.approver, tech: as.technician }, patched)
     const END = Date.parse('2026-07-06T10:00:00Z')
-    const b = (await as.operator.post('/api/bypasses', {
-      limitId: limit.id, reason: 'Burner management rework', plannedStart: '2026-07-06T06:00:00Z', plannedEnd: new Date(END).toISOString(), predefinedMeasuresConfirmed: true,
-    }).expect(201)).body
+    const b = (
+      await as.operator
+        .post('/api/bypasses', {
+          limitId: limit.id,
+          reason: 'Burner management rework',
+          plannedStart: '2026-07-06T06:00:00Z',
+          plannedEnd: new Date(END).toISOString(),
+          predefinedMeasuresConfirmed: true,
+        })
+        .expect(201)
+    ).body
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
     ctx.clock.set('2026-07-06T06:00:00Z')
     await signInAll()
@@ -72,7 +82,9 @@ describe('bypass past its planned end: warning, overdue, escalation (DOMAIN.md ย
     expect(overdue.overdueHours).toBeGreaterThanOrEqual(1 / 60)
     expect(overdue.overdueHours).toBeLessThan(0.1)
     expect((await as.engineer.get(`/api/limits/${limit.id}`).expect(200)).body.protectionState).toBe('bypassed')
-    expect((await as.manager.get('/api/bypasses?overdue=true').expect(200)).body.items.map((x: { id: number }) => x.id)).toEqual([b.id])
+    expect(
+      (await as.manager.get('/api/bypasses?overdue=true').expect(200)).body.items.map((x: { id: number }) => x.id),
+    ).toEqual([b.id])
     await deliver()
     const overdueMails = mails(`OVERDUE bypass: ${limit.tag}`)
     expect(overdueMails.map(recipients)).toEqual([['supervisor@fernhollow.example']])
@@ -88,8 +100,14 @@ describe('bypass past its planned end: warning, overdue, escalation (DOMAIN.md ย
     await deliver()
     const escalations = mails(`Escalation: bypass of ${limit.tag} overdue`)
     expect(escalations.map(recipients)).toEqual([['manager@fernhollow.example'], ['manager@fernhollow.example']])
-    const events = await ctx.db.selectFrom('audit_event').select(['action', 'after']).where('entity_type', '=', 'Bypass').where('entity_id', '=', String(b.id))
-      .where('action', 'in', ['bypass.overdue', 'bypass.escalate']).orderBy('id').execute()
+    const events = await ctx.db
+      .selectFrom('audit_event')
+      .select(['action', 'after'])
+      .where('entity_type', '=', 'Bypass')
+      .where('entity_id', '=', String(b.id))
+      .where('action', 'in', ['bypass.overdue', 'bypass.escalate'])
+      .orderBy('id')
+      .execute()
     expect(events.map((e) => e.action)).toEqual(['bypass.overdue', 'bypass.escalate', 'bypass.escalate'])
     const hours = events.slice(1).map((e) => (e.after as { overdueHours: number }).overdueHours)
     expect(hours[0]).toBeGreaterThanOrEqual(4)
@@ -104,10 +122,23 @@ describe('bypass past its planned end: warning, overdue, escalation (DOMAIN.md ย
     expect(still.overdueHours).toBeGreaterThan(8.4)
 
     // an extension (a further signed authorization) moves the end past now: no longer overdue, the reminders start afresh
-    const extended = (await as.manager.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 10, comment: 'Parts arrive at 19:00' }).expect(200)).body
-    expect(extended).toMatchObject({ status: 'active', overdue: false, overdueHours: 0, plannedEnd: new Date(END + 10 * HOUR).toISOString() })
+    const extended = (
+      await as.manager
+        .post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 10, comment: 'Parts arrive at 19:00' })
+        .expect(200)
+    ).body
+    expect(extended).toMatchObject({
+      status: 'active',
+      overdue: false,
+      overdueHours: 0,
+      plannedEnd: new Date(END + 10 * HOUR).toISOString(),
+    })
     expect(extended.authorizations).toHaveLength(2)
-    const row = await ctx.db.selectFrom('bypass').select(['expiry_warned_at', 'overdue_notified_at', 'last_escalation_at']).where('id', '=', b.id).executeTakeFirstOrThrow()
+    const row = await ctx.db
+      .selectFrom('bypass')
+      .select(['expiry_warned_at', 'overdue_notified_at', 'last_escalation_at'])
+      .where('id', '=', b.id)
+      .executeTakeFirstOrThrow()
     expect(row).toEqual({ expiry_warned_at: null, overdue_notified_at: null, last_escalation_at: null })
     expect((await as.manager.get('/api/bypasses?overdue=true').expect(200)).body.items).toEqual([])
     expect(await run(END + 8 * HOUR + 45 * MIN)).toEqual({ lapsed: 0, warned: 0, overdue: 0, escalated: 0 })
@@ -115,7 +146,9 @@ describe('bypass past its planned end: warning, overdue, escalation (DOMAIN.md ย
 
     // removed on record: the job leaves it alone afterwards
     await signInAll()
-    await as.operator.post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true }).expect(200)
+    await as.operator
+      .post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true })
+      .expect(200)
     expect(await run(END + 12 * HOUR)).toEqual({ lapsed: 0, warned: 0, overdue: 0, escalated: 0 })
     await deliver()
     expect(mails(`Escalation: bypass of ${limit.tag}`)).toHaveLength(2)

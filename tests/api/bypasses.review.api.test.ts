@@ -9,8 +9,18 @@ import { activateLimit } from './helpers/workflows.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
-const PEOPLE = ['engineer', 'approver', 'approver2', 'technician', 'supervisor', 'operator', 'manager', 'auditor', 'admin'] as const
-type Who = typeof PEOPLE[number]
+const PEOPLE = [
+  'engineer',
+  'approver',
+  'approver2',
+  'technician',
+  'supervisor',
+  'operator',
+  'manager',
+  'auditor',
+  'admin',
+] as const
+type Who = (typeof PEOPLE)[number]
 
 let app: Express
 const as = {} as Record<Who, ApiAgent>
@@ -24,22 +34,59 @@ async function signInAll() {
 /** A fired-heater trip (or an alarm without compensating measures) in the given site and area, put in service. */
 async function limitIn(siteCode: 'FHR' | 'SMP', areaIndex: number, kind: 'trip' | 'alarm' = 'trip') {
   const eng = as.engineer
-  const site = ((await eng.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]).find((s) => s.code === siteCode)!
+  const site = ((await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]).find(
+    (s) => s.code === siteCode,
+  )!
   const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[areaIndex]
   const n = `${process.pid % 1000}-${++seq}`
-  const proc = (await eng.post('/api/processes', { areaId: area.id, name: `Review heater H-${n}`, description: 'fired heater' }).expect(201)).body
-  const inst = (await eng.post('/api/instruments', {
-    processId: proc.id, tag: `TTR-${n}`, measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650,
-    designLow: null, designHigh: 900, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
-  }).expect(201)).body
+  const proc = (
+    await eng
+      .post('/api/processes', { areaId: area.id, name: `Review heater H-${n}`, description: 'fired heater' })
+      .expect(201)
+  ).body
+  const inst = (
+    await eng
+      .post('/api/instruments', {
+        processId: proc.id,
+        tag: `TTR-${n}`,
+        measuredVariable: 'temperature',
+        unit: '°C',
+        rangeLow: 0,
+        rangeHigh: 1200,
+        normalLow: 300,
+        normalHigh: 650,
+        designLow: null,
+        designHigh: 900,
+        burnout: 'upscale',
+        signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+        deviceKind: 'limit_controller',
+      })
+      .expect(201)
+  ).body
   const alarm = kind === 'alarm'
-  const limit = (await eng.post('/api/limits', {
-    processId: proc.id, instrumentIds: [inst.id], tag: `${alarm ? 'TAH' : 'TSHH'}-R${n}`, direction: 'high', limitClass: kind, setpoint: alarm ? 700 : 780, deadband: 5,
-    severity: alarm ? 'moderate' : 'severe', testIntervalMonths: 12, latching: !alarm, resetRole: alarm ? null : 'operator', responseTimeMin: alarm ? 15 : null,
-    compensatingMeasures: alarm ? [] : ['Operator watches TI locally every 15 min'], maxBypassHours: 100, bypassPermitted: true,
-  }).expect(201)).body
+  const limit = (
+    await eng
+      .post('/api/limits', {
+        processId: proc.id,
+        instrumentIds: [inst.id],
+        tag: `${alarm ? 'TAH' : 'TSHH'}-R${n}`,
+        direction: 'high',
+        limitClass: kind,
+        setpoint: alarm ? 700 : 780,
+        deadband: 5,
+        severity: alarm ? 'moderate' : 'severe',
+        testIntervalMonths: 12,
+        latching: !alarm,
+        resetRole: alarm ? null : 'operator',
+        responseTimeMin: alarm ? 15 : null,
+        compensatingMeasures: alarm ? [] : ['Operator watches TI locally every 15 min'],
+        maxBypassHours: 100,
+        bypassPermitted: true,
+      })
+      .expect(201)
+  ).body
   await activateLimit({ eng, approver: as.approver, tech: as.technician }, limit)
-  return { ...limit, areaId: area.id as number } as { id: number, siteId: number, areaId: number, tag: string }
+  return { ...limit, areaId: area.id as number } as { id: number; siteId: number; areaId: number; tag: string }
 }
 
 /** Moves the clock and signs in again who acts next (sessions end after 30 min idle on that clock); everyone when nobody is named. */
@@ -54,8 +101,25 @@ type Limit = Awaited<ReturnType<typeof limitIn>>
 let A: Limit, B: Limit, D: Limit, F: Limit
 const ids = {} as Record<'b1' | 'b2' | 'b3' | 'b4' | 'b5' | 'b6', number>
 
-async function requestAndAuthorize(requester: Who, authorizer: Who, limitId: number, start: string, end: string, measures = true) {
-  const b = (await as[requester].post('/api/bypasses', { limitId, reason: 'Planned work', plannedStart: start, plannedEnd: end, predefinedMeasuresConfirmed: measures }).expect(201)).body
+async function requestAndAuthorize(
+  requester: Who,
+  authorizer: Who,
+  limitId: number,
+  start: string,
+  end: string,
+  measures = true,
+) {
+  const b = (
+    await as[requester]
+      .post('/api/bypasses', {
+        limitId,
+        reason: 'Planned work',
+        plannedStart: start,
+        plannedEnd: end,
+        predefinedMeasuresConfirmed: measures,
+      })
+      .expect(201)
+  ).body
   await as[authorizer].post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
   return b.id as number
 }
@@ -91,7 +155,14 @@ beforeAll(async () => {
   await as.operator.post(`/api/bypasses/${ids.b1}/removal`, clear).expect(200)
 
   await at('2026-06-02T07:30:00Z', 'technician', 'approver')
-  ids.b2 = await requestAndAuthorize('technician', 'approver', B.id, '2026-06-02T08:00:00Z', '2026-06-02T10:00:00Z', false)
+  ids.b2 = await requestAndAuthorize(
+    'technician',
+    'approver',
+    B.id,
+    '2026-06-02T08:00:00Z',
+    '2026-06-02T10:00:00Z',
+    false,
+  )
   await at('2026-06-02T08:00:00Z', 'technician')
   await as.technician.post(`/api/bypasses/${ids.b2}/activation`).expect(200)
   await at('2026-06-02T11:00:00Z', 'technician')
@@ -106,10 +177,24 @@ beforeAll(async () => {
 
   // a failed trip test (as found 800 °C against a 780 °C trip, tolerance ±6 °C: out, dangerous side) degrades F
   await at('2026-06-04T10:00:00Z', 'technician')
-  const test = (await as.technician.post('/api/trip-tests', {
-    limitId: F.id, kind: 'full', method: 'injection', injectionPoint: 'sensor', sourceMode: 'mv_source', coldJunctionC: 25, calibratorId: 'CAL-07',
-    calibratorDueDate: '2026-12-31', performedAt: '2026-06-04T09:30:00Z', finalElementOk: true, latchHeld: true, asFound: 800,
-  }).expect(201)).body
+  const test = (
+    await as.technician
+      .post('/api/trip-tests', {
+        limitId: F.id,
+        kind: 'full',
+        method: 'injection',
+        injectionPoint: 'sensor',
+        sourceMode: 'mv_source',
+        coldJunctionC: 25,
+        calibratorId: 'CAL-07',
+        calibratorDueDate: '2026-12-31',
+        performedAt: '2026-06-04T09:30:00Z',
+        finalElementOk: true,
+        latchHeld: true,
+        asFound: 800,
+      })
+      .expect(201)
+  ).body
   expect(test.asFoundResult).toBe('out_dangerous')
   await as.technician.post(`/api/trip-tests/${test.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
 
@@ -125,21 +210,35 @@ beforeAll(async () => {
   await at('2026-06-05T08:00:00Z', 'operator')
   await as.operator.post(`/api/bypasses/${ids.b4}/activation`).expect(200)
   await at('2026-06-05T11:50:00Z', 'operator')
-  ids.b6 = (await as.operator.post('/api/bypasses', { limitId: B.id, reason: 'Next job', plannedStart: '2026-06-05T11:55:00Z', plannedEnd: '2026-06-05T15:00:00Z' }).expect(201)).body.id
+  ids.b6 = (
+    await as.operator
+      .post('/api/bypasses', {
+        limitId: B.id,
+        reason: 'Next job',
+        plannedStart: '2026-06-05T11:55:00Z',
+        plannedEnd: '2026-06-05T15:00:00Z',
+      })
+      .expect(201)
+  ).body.id
   await at('2026-06-05T12:00:00Z')
 }, 240_000)
 
 interface Review {
-  period: { from: string, to: string }
+  period: { from: string; to: string }
   kpis: Record<string, number>
-  charts: { hoursPerMonth: { month: string, hours: number }[], topLimits: { limitId: number, tag: string, hours: number }[], overduePerMonth: { month: string, count: number }[] }
-  items: { id: number, status: string, overdue: boolean }[]
+  charts: {
+    hoursPerMonth: { month: string; hours: number }[]
+    topLimits: { limitId: number; tag: string; hours: number }[]
+    overduePerMonth: { month: string; count: number }[]
+  }
+  items: { id: number; status: string; overdue: boolean }[]
 }
-const review = async (query = '', who: Who = 'manager') => (await as[who].get(`/api/bypass-review${query}`).expect(200)).body as Review
+const review = async (query = '', who: Who = 'manager') =>
+  (await as[who].get(`/api/bypass-review${query}`).expect(200)).body as Review
 const idsOf = (r: Review) => r.items.map((i) => i.id)
 const month = (r: Review, m: string) => r.charts.hoursPerMonth.find((x) => x.month === m)!.hours
 
-describe('the plant manager\'s bypass review (issue 6)', () => {
+describe("the plant manager's bypass review (issue 6)", () => {
   it('KPIs: active now, overdue now, hours this month, average duration, longer than a shift, without measures, share past planned end, hours degraded', async () => {
     const r = await review()
     expect(idsOf(r).sort((x, y) => x - y)).toEqual(Object.values(ids).sort((x, y) => x - y))
@@ -163,17 +262,35 @@ describe('the plant manager\'s bypass review (issue 6)', () => {
 
   it('charts: hours per month split at the month boundary, the limits with most bypass hours in order, overdue bypasses per month', async () => {
     const r = await review()
-    expect(r.charts.hoursPerMonth.map((m) => m.month)).toEqual(['2025-07', '2025-08', '2025-09', '2025-10', '2025-11', '2025-12', '2026-01', '2026-02', '2026-03', '2026-04', '2026-05', '2026-06'])
+    expect(r.charts.hoursPerMonth.map((m) => m.month)).toEqual([
+      '2025-07',
+      '2025-08',
+      '2025-09',
+      '2025-10',
+      '2025-11',
+      '2025-12',
+      '2026-01',
+      '2026-02',
+      '2026-03',
+      '2026-04',
+      '2026-05',
+      '2026-06',
+    ])
     expect(month(r, '2026-05')).toBeCloseTo(4, 1)
     expect(month(r, '2026-06')).toBeCloseTo(r.kpis.hoursThisMonth, 6)
-    expect(r.charts.hoursPerMonth.filter((m) => !['2026-05', '2026-06'].includes(m.month)).every((m) => m.hours === 0)).toBe(true)
+    expect(
+      r.charts.hoursPerMonth.filter((m) => !['2026-05', '2026-06'].includes(m.month)).every((m) => m.hours === 0),
+    ).toBe(true)
     expect(r.charts.topLimits.map((l) => l.tag)).toEqual([A.tag, B.tag, D.tag])
     expect(r.charts.topLimits[0].hours).toBeCloseTo(7 + 59 / 60 + 13 + 59 / 60 + 4, 1)
     expect(r.charts.topLimits[1].hours).toBeCloseTo(3, 1)
     expect(r.charts.topLimits[2].hours).toBeCloseTo(2, 1)
     // the month series and the per-limit totals count the same hours
     const monthly = r.charts.hoursPerMonth.reduce((s, m) => s + m.hours, 0)
-    expect(monthly).toBeCloseTo(r.charts.topLimits.reduce((s, l) => s + l.hours, 0), 6)
+    expect(monthly).toBeCloseTo(
+      r.charts.topLimits.reduce((s, l) => s + l.hours, 0),
+      6,
+    )
     expect(r.charts.overduePerMonth.find((m) => m.month === '2026-06')!.count).toBe(2)
     expect(r.charts.overduePerMonth.filter((m) => m.month !== '2026-06').every((m) => m.count === 0)).toBe(true)
   })
@@ -210,14 +327,32 @@ describe('the plant manager\'s bypass review (issue 6)', () => {
   it('exports the history to CSV and PDF', async () => {
     const csv = await as.manager.get('/api/bypass-review/export?format=csv').expect(200)
     expect(csv.headers['content-type']).toContain('text/csv')
-    const parsed = Papa.parse<Record<string, string>>(csv.text.replace(/^\uFEFF/, ''), { header: true, skipEmptyLines: true })
+    const parsed = Papa.parse<Record<string, string>>(csv.text.replace(/^\uFEFF/, ''), {
+      header: true,
+      skipEmptyLines: true,
+    })
     expect(parsed.data).toHaveLength(6)
     const b4 = parsed.data.find((row) => row.Bypass === String(ids.b4))!
-    expect(b4).toMatchObject({ Limit: A.tag, State: 'active', Overdue: 'yes', 'Requested by': 'Olive Tanager', 'Authorized by': 'Hedda Marlowe', 'Compensating measures': 'Operator watches TI locally every 15 min' })
+    expect(b4).toMatchObject({
+      Limit: A.tag,
+      State: 'active',
+      Overdue: 'yes',
+      'Requested by': 'Olive Tanager',
+      'Authorized by': 'Hedda Marlowe',
+      'Compensating measures': 'Operator watches TI locally every 15 min',
+    })
     expect(Number(b4['Overdue h'])).toBeCloseTo(2, 1)
     const b2 = parsed.data.find((row) => row.Bypass === String(ids.b2))!
-    expect(b2).toMatchObject({ State: 'removed', 'Bypassed h': '3.00', 'Overdue h': '1.00', 'Compensating measures': '' })
-    const filtered = Papa.parse(( await as.manager.get(`/api/bypass-review/export?siteId=${D.siteId}`).expect(200)).text.replace(/^\uFEFF/, ''), { header: true, skipEmptyLines: true })
+    expect(b2).toMatchObject({
+      State: 'removed',
+      'Bypassed h': '3.00',
+      'Overdue h': '1.00',
+      'Compensating measures': '',
+    })
+    const filtered = Papa.parse(
+      (await as.manager.get(`/api/bypass-review/export?siteId=${D.siteId}`).expect(200)).text.replace(/^\uFEFF/, ''),
+      { header: true, skipEmptyLines: true },
+    )
     expect(filtered.data).toHaveLength(1)
 
     const pdf = await as.manager.get('/api/bypass-review/export?format=pdf').expect(200)
@@ -231,7 +366,12 @@ describe('the plant manager\'s bypass review (issue 6)', () => {
       expect((await as[who].get('/api/bypass-review/export')).status, who).toBe(200)
     }
     for (const who of ['technician', 'operator', 'admin'] as const) {
-      for (const url of ['/api/bypass-review', '/api/bypass-review/export?format=csv', '/api/bypass-review/export?format=pdf', '/api/bypass-review/risk']) {
+      for (const url of [
+        '/api/bypass-review',
+        '/api/bypass-review/export?format=csv',
+        '/api/bypass-review/export?format=pdf',
+        '/api/bypass-review/risk',
+      ]) {
         const res = await as[who].get(url)
         expect(res.status, `${who} ${url}`).toBe(403)
       }

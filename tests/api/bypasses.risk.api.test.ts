@@ -12,8 +12,17 @@ import { activateLimit } from './helpers/workflows.ts'
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 const YEAR_H = 8760
-const PEOPLE = ['engineer', 'approver', 'approver2', 'technician', 'supervisor', 'operator', 'manager', 'auditor'] as const
-type Who = typeof PEOPLE[number]
+const PEOPLE = [
+  'engineer',
+  'approver',
+  'approver2',
+  'technician',
+  'supervisor',
+  'operator',
+  'manager',
+  'auditor',
+] as const
+type Who = (typeof PEOPLE)[number]
 
 let app: Express
 const as = {} as Record<Who, ApiAgent>
@@ -30,51 +39,134 @@ async function at(iso: string) {
  * MTTR 0 and full proof-test coverage, so the simplified equations apply exactly; proof test yearly (12 × 730 h = 8 760 h).
  */
 const WORKED: Subsystem[] = [
-  { role: 'sensor', architecture: '1oo2', lambdaDu: 5e-7, beta: 0.1, mttrHours: 0, testIntervalMonths: 12, testCoverage: 1, missionTimeYears: 15 },
-  { role: 'logic', architecture: '1oo1', lambdaDu: 2e-4 / YEAR_H, beta: 0, mttrHours: 0, testIntervalMonths: 12, testCoverage: 1, missionTimeYears: 15 },
-  { role: 'final_element', architecture: '1oo1', lambdaDu: 2e-6, beta: 0, mttrHours: 0, testIntervalMonths: 12, testCoverage: 1, missionTimeYears: 15 },
+  {
+    role: 'sensor',
+    architecture: '1oo2',
+    lambdaDu: 5e-7,
+    beta: 0.1,
+    mttrHours: 0,
+    testIntervalMonths: 12,
+    testCoverage: 1,
+    missionTimeYears: 15,
+  },
+  {
+    role: 'logic',
+    architecture: '1oo1',
+    lambdaDu: 2e-4 / YEAR_H,
+    beta: 0,
+    mttrHours: 0,
+    testIntervalMonths: 12,
+    testCoverage: 1,
+    missionTimeYears: 15,
+  },
+  {
+    role: 'final_element',
+    architecture: '1oo1',
+    lambdaDu: 2e-6,
+    beta: 0,
+    mttrHours: 0,
+    testIntervalMonths: 12,
+    testCoverage: 1,
+    missionTimeYears: 15,
+  },
 ]
 
 // simplified equations, ../shared/reference/sif-reliability.md (ISA-TR84.00.02; IEC 61508-6 Annex B), MTTR terms omitted
-const pfd1oo1 = (lambdaDu: number, ti: number) => lambdaDu * ti / 2
-const pfd1oo2 = (lambdaDu: number, beta: number, ti: number) => ((1 - beta) * lambdaDu * ti) ** 2 / 3 + beta * lambdaDu * ti / 2
+const pfd1oo1 = (lambdaDu: number, ti: number) => (lambdaDu * ti) / 2
+const pfd1oo2 = (lambdaDu: number, beta: number, ti: number) =>
+  ((1 - beta) * lambdaDu * ti) ** 2 / 3 + (beta * lambdaDu * ti) / 2
 /** The worked example's PFDavg at proof-test interval `ti` (IEC 61508-6 B.2: PFD_SIF = PFD_sensor + PFD_logic + PFD_final). */
 const workedPfd = (ti: number) => pfd1oo2(5e-7, 0.1, ti) + pfd1oo1(2e-4 / YEAR_H, ti) + pfd1oo1(2e-6, ti)
 
 /** A SIL-rated heater trip with the given subsystems and `channels` voted thermocouples, put in service (two approvals). */
 async function silLimit(sil: 1 | 2 | 3, subsystems: Subsystem[], channels = 1) {
   const eng = as.engineer
-  const site = ((await eng.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]).find((s) => s.code === 'FHR')!
+  const site = ((await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]).find(
+    (s) => s.code === 'FHR',
+  )!
   const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[2]
   const n = `${process.pid % 1000}-${++seq}`
-  const proc = (await eng.post('/api/processes', { areaId: area.id, name: `SIF heater H-${n}`, description: 'fired heater' }).expect(201)).body
+  const proc = (
+    await eng
+      .post('/api/processes', { areaId: area.id, name: `SIF heater H-${n}`, description: 'fired heater' })
+      .expect(201)
+  ).body
   const instruments: { id: number }[] = []
   for (let i = 0; i < channels; i++) {
-    instruments.push((await eng.post('/api/instruments', {
-      processId: proc.id, tag: `TTS-${n}${String.fromCharCode(65 + i)}`, measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650,
-      designLow: null, designHigh: 900, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
-    }).expect(201)).body)
+    instruments.push(
+      (
+        await eng
+          .post('/api/instruments', {
+            processId: proc.id,
+            tag: `TTS-${n}${String.fromCharCode(65 + i)}`,
+            measuredVariable: 'temperature',
+            unit: '°C',
+            rangeLow: 0,
+            rangeHigh: 1200,
+            normalLow: 300,
+            normalHigh: 650,
+            designLow: null,
+            designHigh: 900,
+            burnout: 'upscale',
+            signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+            deviceKind: 'limit_controller',
+          })
+          .expect(201)
+      ).body,
+    )
   }
-  const limit = (await eng.post('/api/limits', {
-    processId: proc.id, instrumentIds: instruments.map((i) => i.id), tag: `TZHH-S${n}`, direction: 'high', limitClass: 'trip', setpoint: 780, deadband: 5, severity: 'severe',
-    testIntervalMonths: 12, latching: true, resetRole: 'operator', sil, subsystems, compensatingMeasures: ['Operator watches TI locally every 15 min'], maxBypassHours: 8, bypassPermitted: true,
-  }).expect(201)).body
+  const limit = (
+    await eng
+      .post('/api/limits', {
+        processId: proc.id,
+        instrumentIds: instruments.map((i) => i.id),
+        tag: `TZHH-S${n}`,
+        direction: 'high',
+        limitClass: 'trip',
+        setpoint: 780,
+        deadband: 5,
+        severity: 'severe',
+        testIntervalMonths: 12,
+        latching: true,
+        resetRole: 'operator',
+        sil,
+        subsystems,
+        compensatingMeasures: ['Operator watches TI locally every 15 min'],
+        maxBypassHours: 8,
+        bypassPermitted: true,
+      })
+      .expect(201)
+  ).body
   await activateLimit({ eng, approver: as.approver, approver2: as.approver2, tech: as.technician }, limit)
-  return { limit: limit as { id: number, tag: string }, instruments }
+  return { limit: limit as { id: number; tag: string }, instruments }
 }
 
 interface RiskRow {
-  limitId: number, tag: string, targetSil: number, testStatus: string, bypassedHours: number, channelBypassedHours: number, actualIntervalHours: number | null,
-  design: { pfd: number, rrf: number, band: number | 'none' }, effective: { pfd: number, rrf: number, band: number | 'none' }, belowTarget: boolean, designBelowTarget: boolean
+  limitId: number
+  tag: string
+  targetSil: number
+  testStatus: string
+  bypassedHours: number
+  channelBypassedHours: number
+  actualIntervalHours: number | null
+  design: { pfd: number; rrf: number; band: number | 'none' }
+  effective: { pfd: number; rrf: number; band: number | 'none' }
+  belowTarget: boolean
+  designBelowTarget: boolean
 }
-interface Risk { period: { from: string, to: string, hours: number }, items: RiskRow[], caution: string }
-const risk = async (query: string, who: Who = 'manager') => (await as[who].get(`/api/bypass-review/risk${query}`).expect(200)).body as Risk
+interface Risk {
+  period: { from: string; to: string; hours: number }
+  items: RiskRow[]
+  caution: string
+}
+const risk = async (query: string, who: Who = 'manager') =>
+  (await as[who].get(`/api/bypass-review/risk${query}`).expect(200)).body as Risk
 const row = (r: Risk, limitId: number) => r.items.find((i) => i.limitId === limitId)!
 const rel = (a: number, b: number) => Math.abs(a / b - 1)
 
 let worked: Awaited<ReturnType<typeof silLimit>>
 let voted: Awaited<ReturnType<typeof silLimit>>
-let factory: { id: number, tag: string }
+let factory: { id: number; tag: string }
 let plain: { id: number }
 
 beforeAll(async () => {
@@ -83,31 +175,70 @@ beforeAll(async () => {
   worked = await silLimit(2, WORKED)
   voted = await silLimit(2, WORKED, 2)
   const built = await buildHeaterTrip(as.engineer, { sil: 1 })
-  await activateLimit({ eng: as.engineer, approver: as.approver, approver2: as.approver2, tech: as.technician }, built.limit)
+  await activateLimit(
+    { eng: as.engineer, approver: as.approver, approver2: as.approver2, tech: as.technician },
+    built.limit,
+  )
   factory = built.limit
   const notSil = await buildHeaterTrip(as.engineer)
   await activateLimit({ eng: as.engineer, approver: as.approver, tech: as.technician }, notSil.limit)
   plain = notSil.limit
 
   // a passing yearly proof test of the worked-example function: due 3 Aug 2027
-  const test = (await as.technician.post('/api/trip-tests', {
-    limitId: worked.limit.id, kind: 'full', method: 'injection', injectionPoint: 'sensor', sourceMode: 'mv_source', coldJunctionC: 25, calibratorId: 'CAL-07',
-    calibratorDueDate: '2026-12-31', performedAt: '2026-08-03T05:30:00Z', finalElementOk: true, latchHeld: true, asFound: 781,
-  }).expect(201)).body
+  const test = (
+    await as.technician
+      .post('/api/trip-tests', {
+        limitId: worked.limit.id,
+        kind: 'full',
+        method: 'injection',
+        injectionPoint: 'sensor',
+        sourceMode: 'mv_source',
+        coldJunctionC: 25,
+        calibratorId: 'CAL-07',
+        calibratorDueDate: '2026-12-31',
+        performedAt: '2026-08-03T05:30:00Z',
+        finalElementOk: true,
+        latchHeld: true,
+        asFound: 781,
+      })
+      .expect(201)
+  ).body
   expect(test.passed).toBe(true)
   await as.technician.post(`/api/trip-tests/${test.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
 
   // 08:00 → 14:00: the whole worked-example function bypassed, and one of the two sensor channels of its voted twin
-  const whole = (await as.operator.post('/api/bypasses', { limitId: worked.limit.id, reason: 'Burner front work', plannedStart: '2026-08-03T08:00:00Z', plannedEnd: '2026-08-03T14:00:00Z', predefinedMeasuresConfirmed: true }).expect(201)).body
-  const channel = (await as.operator.post('/api/bypasses', {
-    limitId: voted.limit.id, reason: 'Thermocouple A replacement', plannedStart: '2026-08-03T08:00:00Z', plannedEnd: '2026-08-03T14:00:00Z', predefinedMeasuresConfirmed: true,
-    channelInstrumentId: voted.instruments[0].id,
-  }).expect(201)).body
-  for (const b of [whole, channel]) await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
+  const whole = (
+    await as.operator
+      .post('/api/bypasses', {
+        limitId: worked.limit.id,
+        reason: 'Burner front work',
+        plannedStart: '2026-08-03T08:00:00Z',
+        plannedEnd: '2026-08-03T14:00:00Z',
+        predefinedMeasuresConfirmed: true,
+      })
+      .expect(201)
+  ).body
+  const channel = (
+    await as.operator
+      .post('/api/bypasses', {
+        limitId: voted.limit.id,
+        reason: 'Thermocouple A replacement',
+        plannedStart: '2026-08-03T08:00:00Z',
+        plannedEnd: '2026-08-03T14:00:00Z',
+        predefinedMeasuresConfirmed: true,
+        channelInstrumentId: voted.instruments[0].id,
+      })
+      .expect(201)
+  ).body
+  for (const b of [whole, channel])
+    await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
   await at('2026-08-03T08:00:00Z')
   for (const b of [whole, channel]) await as.operator.post(`/api/bypasses/${b.id}/activation`).expect(200)
   await at('2026-08-03T14:00:00Z')
-  for (const b of [whole, channel]) await as.operator.post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true }).expect(200)
+  for (const b of [whole, channel])
+    await as.operator
+      .post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true })
+      .expect(200)
   await at('2026-08-04T06:00:00Z')
 }, 240_000)
 
@@ -131,14 +262,14 @@ describe('risk erosion of safety instrumented functions (GET /api/bypass-review/
     expect(r.caution).toContain('hardware fault tolerance and systematic capability are not assessed')
   })
 
-  it('design PFDavg of the factory\'s subsystems, by hand with the IEC 61508-6 Annex B general forms and partial proof-test coverage', async () => {
+  it("design PFDavg of the factory's subsystems, by hand with the IEC 61508-6 Annex B general forms and partial proof-test coverage", async () => {
     const r = await risk('?from=2026-08-01T00:00:00Z&to=2026-08-03T00:00:00Z')
     const f = row(r, factory.id)
     // hidden time of an undetected failure with coverage C, interval TI and mission time T_full (reference "Partial proof testing"):
     // C·TI/k + (1 − C)·T_full/k; 1oo1: PFD = λDU·(hidden(2) + MRT) (IEC 61508-6 Ed. 2 1oo1 form, λDD = 0)
     const TI = 12 * 730
     const T_FULL = 15 * YEAR_H
-    const hidden = (c: number, k: number) => c * TI / k + (1 - c) * T_FULL / k
+    const hidden = (c: number, k: number) => (c * TI) / k + ((1 - c) * T_FULL) / k
     const sensor = 5e-7 * (hidden(0.9, 2) + 8) // 5e−7 · (3 942 + 6 570 + 8) = 5.2600e−3
     const logic = 1e-8 * (hidden(1, 2) + 8) // 1e−8 · 4 388 = 4.388e−5
     // 1oo2: PFD = 2·((1−β)·λDU)²·t_CE·t_GE + β·λDU·(hidden(2) + MRT), t_CE = hidden(2) + MRT, t_GE = hidden(3) + MRT
@@ -213,8 +344,10 @@ describe('risk erosion of safety instrumented functions (GET /api/bypass-review/
   })
 
   it('the same roles as the review read it; a period that ends before it starts is refused', async () => {
-    for (const who of ['engineer', 'approver', 'supervisor', 'auditor'] as const) expect((await as[who].get('/api/bypass-review/risk')).status, who).toBe(200)
-    for (const who of ['technician', 'operator'] as const) expect((await as[who].get('/api/bypass-review/risk')).status, who).toBe(403)
+    for (const who of ['engineer', 'approver', 'supervisor', 'auditor'] as const)
+      expect((await as[who].get('/api/bypass-review/risk')).status, who).toBe(200)
+    for (const who of ['technician', 'operator'] as const)
+      expect((await as[who].get('/api/bypass-review/risk')).status, who).toBe(403)
     const res = await as.manager.get('/api/bypass-review/risk?from=2027-09-02T00:00:00Z&to=2027-09-01T00:00:00Z')
     expect(res.status).toBe(400)
     expect(res.body.error.code).toBe('VALIDATION_FAILED')

@@ -11,20 +11,37 @@ let crId: number
 
 const PDF = Buffer.from('%PDF-1.4\n1 0 obj << /Type /Catalog >> endobj\ntrailer << /Root 1 0 R >>\n%%EOF\n', 'latin1')
 // a 1 × 1 pixel PNG
-const PNG = Buffer.from('iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAIAAACQd1PeAAAADElEQVR4nGP4z8AAAAMBAQDJ/pLvAAAAAElFTkSuQmCC', 'base64')
+const PNG = Buffer.from(
+  'iVBORw0KGgoAAAANSUhEUgAAAAEAAAABCAIAAACQd1PeAAAADElEQVR4nGP4z8AAAAMBAQDJ/pLvAAAAAElFTkSuQmCC',
+  'base64',
+)
 
 beforeAll(async () => {
   eng = await signedIn(createApp(ctx), 'engineer')
   const { site, limit } = await buildHeaterTrip(eng)
-  crId = (await eng.post('/api/change-requests', { siteId: site.id, type: 'permanent', title: 'With attachments', items: [{ kind: 'create', limitId: limit.id }] }).expect(201)).body.id
+  crId = (
+    await eng
+      .post('/api/change-requests', {
+        siteId: site.id,
+        type: 'permanent',
+        title: 'With attachments',
+        items: [{ kind: 'create', limitId: limit.id }],
+      })
+      .expect(201)
+  ).body.id
 })
 
-const upload = (file: Buffer, name: string) => eng.agent.post(`/api/change-requests/${crId}/attachments`).set('X-CSRF-Token', eng.csrf).attach('file', file, name)
-const download = (id: number) => eng.agent.get(`/api/change-requests/${crId}/attachments/${id}`).buffer(true).parse((res, cb) => {
-  const parts: Buffer[] = []
-  res.on('data', (c: Buffer) => parts.push(c))
-  res.on('end', () => cb(null, Buffer.concat(parts)))
-})
+const upload = (file: Buffer, name: string) =>
+  eng.agent.post(`/api/change-requests/${crId}/attachments`).set('X-CSRF-Token', eng.csrf).attach('file', file, name)
+const download = (id: number) =>
+  eng.agent
+    .get(`/api/change-requests/${crId}/attachments/${id}`)
+    .buffer(true)
+    .parse((res, cb) => {
+      const parts: Buffer[] = []
+      res.on('data', (c: Buffer) => parts.push(c))
+      res.on('end', () => cb(null, Buffer.concat(parts)))
+    })
 
 describe('change request attachments (stored in PostgreSQL, type checked by content)', () => {
   it('accepts a PDF and a PNG and gives back the same bytes', async () => {
@@ -42,10 +59,23 @@ describe('change request attachments (stored in PostgreSQL, type checked by cont
     expect(Buffer.compare(gotPng.body as Buffer, PNG)).toBe(0)
 
     const cr = (await eng.get(`/api/change-requests/${crId}`).expect(200)).body
-    expect(cr.attachments.map((a: { id: number, contentType: string, uploadedBy: string }) => [a.id, a.contentType, a.uploadedBy])).toEqual([
-      [pdf.id, 'application/pdf', 'Selma Rookwood'], [png.id, 'image/png', 'Selma Rookwood'],
+    expect(
+      cr.attachments.map((a: { id: number; contentType: string; uploadedBy: string }) => [
+        a.id,
+        a.contentType,
+        a.uploadedBy,
+      ]),
+    ).toEqual([
+      [pdf.id, 'application/pdf', 'Selma Rookwood'],
+      [png.id, 'image/png', 'Selma Rookwood'],
     ])
-    const events = await ctx.db.selectFrom('audit_event').select('after').where('action', '=', 'change_request.attach').where('entity_id', '=', String(crId)).orderBy('id').execute()
+    const events = await ctx.db
+      .selectFrom('audit_event')
+      .select('after')
+      .where('action', '=', 'change_request.attach')
+      .where('entity_id', '=', String(crId))
+      .orderBy('id')
+      .execute()
     expect(events.map((e) => (e.after as { attachmentId: number }).attachmentId)).toEqual([pdf.id, png.id])
   })
 

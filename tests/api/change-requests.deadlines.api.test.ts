@@ -18,7 +18,7 @@ const DAY = 24 * HOUR
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor'] as const
 let smtp: FakeSmtp
 let app: Express
-const as = {} as Record<typeof PEOPLE[number], ApiAgent>
+const as = {} as Record<(typeof PEOPLE)[number], ApiAgent>
 
 /** Signs everyone in again: moving the clock by hours ends the sessions (idle limit), as it would in the plant. */
 async function signInAll() {
@@ -30,13 +30,16 @@ beforeAll(async () => {
   app = createApp(ctx)
   await signInAll()
 })
-afterAll(async () => { await smtp?.close() })
+afterAll(async () => {
+  await smtp?.close()
+})
 
 const runDeadlines = () => createChangeRequestJob(ctx.db, ctx.config, ctx.clock).runDue(ctx.clock.now())
 const deliver = () => createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock).runDue(ctx.clock.now())
 const recipients = (m: ParsedMail) => (m.to && !Array.isArray(m.to) ? m.to.value.map((a) => a.address ?? '') : [])
 const crew = () => ({ eng: as.engineer, approvers: [as.approver], tech: as.technician })
-const crRow = (id: number) => ctx.db.selectFrom('change_request').selectAll().where('id', '=', id).executeTakeFirstOrThrow()
+const crRow = (id: number) =>
+  ctx.db.selectFrom('change_request').selectAll().where('id', '=', id).executeTakeFirstOrThrow()
 
 /** Delivers the outbox and waits until every expected address has the subject; answers all mails with it. */
 async function mailsFor(subjectStart: string, expected: string[]) {
@@ -51,10 +54,16 @@ describe('change request deadlines job', () => {
     await signInAll()
     const { site, limit } = await buildActiveHeaterTrip(crew())
     const expiresAt = new Date(ctx.clock.now().getTime() + 3 * DAY)
-    const cr = await approveChange([as.approver], await submitChange(as.engineer, {
-      siteId: site.id, type: 'temporary', title: 'Temporary raise during catalyst dry-out', expiresAt: expiresAt.toISOString(),
-      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 800 } }],
-    }))
+    const cr = await approveChange(
+      [as.approver],
+      await submitChange(as.engineer, {
+        siteId: site.id,
+        type: 'temporary',
+        title: 'Temporary raise during catalyst dry-out',
+        expiresAt: expiresAt.toISOString(),
+        items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 800 } }],
+      }),
+    )
     await implementChange(as.technician, cr)
 
     expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
@@ -77,15 +86,34 @@ describe('change request deadlines job', () => {
     expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
     await deliver()
     expect(smtp.inbox.filter((m) => m.subject?.startsWith(subject))).toHaveLength(1)
-    const events = await ctx.db.selectFrom('audit_event').select('action').where('entity_type', '=', 'ChangeRequest').where('entity_id', '=', String(cr.id)).where('action', '=', 'change_request.revert_reminder').execute()
+    const events = await ctx.db
+      .selectFrom('audit_event')
+      .select('action')
+      .where('entity_type', '=', 'ChangeRequest')
+      .where('entity_id', '=', String(cr.id))
+      .where('action', '=', 'change_request.revert_reminder')
+      .execute()
     expect(events).toHaveLength(1)
   })
 
   it('flags an emergency change implemented by the shift supervisor and still unapproved after 24 h, and tells approvers and the plant manager', async () => {
     await signInAll()
     const { site, limit } = await buildActiveHeaterTrip(crew())
-    const cr = await submitChange(as.engineer, { siteId: site.id, type: 'emergency', title: 'Lower trip after tube thinning found', items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 760 } }] })
-    const done = (await as.supervisor.post(`/api/change-requests/${cr.id}/implementations`, { itemId: cr.items[0].id, readBack: readBackOf(cr.items[0]), password: PW }).expect(200)).body
+    const cr = await submitChange(as.engineer, {
+      siteId: site.id,
+      type: 'emergency',
+      title: 'Lower trip after tube thinning found',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 760 } }],
+    })
+    const done = (
+      await as.supervisor
+        .post(`/api/change-requests/${cr.id}/implementations`, {
+          itemId: cr.items[0].id,
+          readBack: readBackOf(cr.items[0]),
+          password: PW,
+        })
+        .expect(200)
+    ).body
     expect(done).toMatchObject({ status: 'implemented', approvedAt: null, emergencyFlagged: false })
     const implementedAt = new Date(done.implementedAt).getTime()
 
@@ -109,14 +137,22 @@ describe('change request deadlines job', () => {
     await signInAll()
     expect((await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body.emergencyFlagged).toBe(true)
     // approved after the fact; it stays on record as flagged
-    const approved = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
+    const approved = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200))
+      .body
     expect(approved).toMatchObject({ status: 'implemented', emergencyFlagged: true, approvedAt: expect.any(String) })
   })
 
   it('voids an approval older than 30 days that was not implemented; implementation is refused until approved again', async () => {
     await signInAll()
     const { site, limit } = await buildActiveHeaterTrip(crew())
-    const cr = await approveChange([as.approver], await submitChange(as.engineer, { siteId: site.id, title: 'Raise trip to 790', items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }] }))
+    const cr = await approveChange(
+      [as.approver],
+      await submitChange(as.engineer, {
+        siteId: site.id,
+        title: 'Raise trip to 790',
+        items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
+      }),
+    )
     const view = (await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body
     const approvedAt = new Date(view.approvedAt).getTime()
     // site policy (common practice): an approval expires if not implemented within 30 days
@@ -130,18 +166,28 @@ describe('change request deadlines job', () => {
     await signInAll()
     const implement = { itemId: cr.items[0].id, readBack: readBackOf(cr.items[0]), password: PW }
     // refused even before the job has run
-    expect((await as.technician.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(409)).body.error.code).toBe('INVALID_STATE')
+    expect(
+      (await as.technician.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(409)).body.error
+        .code,
+    ).toBe('INVALID_STATE')
 
     expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 1 })
     const back = (await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body
     expect(back).toMatchObject({ status: 'submitted', approvalsHeld: 0, approvedAt: null })
     expect(back.signatures).toHaveLength(1)
-    expect(back.signatures[0]).toMatchObject({ meaning: 'approved', voided: true, voidReason: 'approval expired: not implemented within 30 days' })
+    expect(back.signatures[0]).toMatchObject({
+      meaning: 'approved',
+      voided: true,
+      voidReason: 'approval expired: not implemented within 30 days',
+    })
     const [mail] = await mailsFor(`Approval of change request #${cr.id} expired`, ['engineer@fernhollow.example'])
     expect(recipients(mail)).toEqual(['engineer@fernhollow.example'])
     expect(mail.text).toContain(`${ctx.config.appUrl}/changes/${cr.id}`)
 
-    expect((await as.technician.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(409)).body.error.code).toBe('INVALID_STATE')
+    expect(
+      (await as.technician.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(409)).body.error
+        .code,
+    ).toBe('INVALID_STATE')
     expect((await as.engineer.get(`/api/limits/${limit.id}`).expect(200)).body.setpoint).toBe(780)
 
     // approved again, it is implemented

@@ -8,7 +8,7 @@ import { useTestDb } from './helpers/test-db.ts'
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 const PEOPLE = ['engineer', 'approver', 'approver2', 'technician', 'supervisor', 'operator'] as const
-type Who = typeof PEOPLE[number] | 'dual'
+type Who = (typeof PEOPLE)[number] | 'dual'
 const as = {} as Record<Who, ApiAgent>
 /** The requests of this file by letter. */
 const cr: Record<string, number> = {}
@@ -17,11 +17,27 @@ beforeAll(async () => {
   const app = createApp(ctx)
   for (const who of PEOPLE) as[who] = await signedIn(app, who)
   const admin = await signedIn(app, 'admin')
-  const sites = (await admin.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]
+  const sites = (await admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const fhr = sites.find((s) => s.code === 'FHR')!.id
   // an approver who is also a safety engineer at the refinery
-  const user = (await admin.post('/api/users', { email: 'dual@fernhollow.example', displayName: 'Dana Twofold', password: 'dual-role-password', roles: [{ siteId: fhr, role: 'approver' }] }).expect(201)).body
-  await admin.patch(`/api/users/${user.id}`, { roles: [{ siteId: fhr, role: 'approver' }, { siteId: fhr, role: 'safety_engineer' }] }).expect(200)
+  const user = (
+    await admin
+      .post('/api/users', {
+        email: 'dual@fernhollow.example',
+        displayName: 'Dana Twofold',
+        password: 'dual-role-password',
+        roles: [{ siteId: fhr, role: 'approver' }],
+      })
+      .expect(201)
+  ).body
+  await admin
+    .patch(`/api/users/${user.id}`, {
+      roles: [
+        { siteId: fhr, role: 'approver' },
+        { siteId: fhr, role: 'safety_engineer' },
+      ],
+    })
+    .expect(200)
   as.dual = new ApiAgent(app)
   await as.dual.signIn('dual@fernhollow.example', 'dual-role-password')
 
@@ -30,7 +46,11 @@ beforeAll(async () => {
     return { siteId: site.id, items: [{ kind: 'create', limitId: limit.id }] }
   }
   // A: a draft
-  cr.A = (await as.engineer.post('/api/change-requests', { ...(await create(as.engineer)), type: 'permanent', title: 'A draft' }).expect(201)).body.id
+  cr.A = (
+    await as.engineer
+      .post('/api/change-requests', { ...(await create(as.engineer)), type: 'permanent', title: 'A draft' })
+      .expect(201)
+  ).body.id
   // B: submitted
   cr.B = (await submitChange(as.engineer, { ...(await create(as.engineer)), title: 'B submitted' })).id
   // C: SIL-rated, one of two approvals held (by approver)
@@ -45,15 +65,29 @@ beforeAll(async () => {
   // F: proposed by the dual-role user
   cr.F = (await submitChange(as.dual, { ...(await create(as.dual)), title: 'F by an approver' })).id
   // G: approved
-  cr.G = (await approveChange([as.approver], await submitChange(as.engineer, { ...(await create(as.engineer)), title: 'G approved' }))).id
+  cr.G = (
+    await approveChange(
+      [as.approver],
+      await submitChange(as.engineer, { ...(await create(as.engineer)), title: 'G approved' }),
+    )
+  ).id
   // H: an emergency change, submitted
-  cr.H = (await submitChange(as.engineer, { ...(await create(as.engineer)), type: 'emergency', title: 'H emergency' })).id
+  cr.H = (
+    await submitChange(as.engineer, { ...(await create(as.engineer)), type: 'emergency', title: 'H emergency' })
+  ).id
 })
 
-const letters = (ids: number[]) => Object.entries(cr).filter(([, id]) => ids.includes(id)).map(([l]) => l).sort()
+const letters = (ids: number[]) =>
+  Object.entries(cr)
+    .filter(([, id]) => ids.includes(id))
+    .map(([l]) => l)
+    .sort()
 
 async function list(who: Who, view: 'mine' | 'waiting' | 'all') {
-  const body = (await as[who].get(`/api/change-requests?view=${view}`).expect(200)).body as { total: number, items: { id: number }[] }
+  const body = (await as[who].get(`/api/change-requests?view=${view}`).expect(200)).body as {
+    total: number
+    items: { id: number }[]
+  }
   expect(body.total).toBe(body.items.length)
   return letters(body.items.map((i) => i.id))
 }
@@ -78,7 +112,15 @@ describe('change lists: mine, waiting for me, all', () => {
   })
 
   it('waiting-count matches the waiting list', async () => {
-    const expected: Record<Who, number> = { engineer: 0, approver: 4, approver2: 5, dual: 3, technician: 1, supervisor: 1, operator: 0 }
+    const expected: Record<Who, number> = {
+      engineer: 0,
+      approver: 4,
+      approver2: 5,
+      dual: 3,
+      technician: 1,
+      supervisor: 1,
+      operator: 0,
+    }
     for (const [who, n] of Object.entries(expected) as [Who, number][]) {
       expect((await as[who].get('/api/change-requests/waiting-count').expect(200)).body, who).toEqual({ count: n })
     }
@@ -90,7 +132,7 @@ describe('change lists: mine, waiting for me, all', () => {
     expect((await as.technician.get('/api/change-requests/waiting-count').expect(200)).body).toEqual({ count: 2 })
   })
 
-  it('view=all lists every request of the user\'s sites, filtered by state and type', async () => {
+  it("view=all lists every request of the user's sites, filtered by state and type", async () => {
     expect(await list('operator', 'all')).toEqual(['A', 'B', 'C', 'E', 'F', 'G', 'H'])
     const emergencies = (await as.operator.get('/api/change-requests?type=emergency').expect(200)).body
     expect(letters(emergencies.items.map((i: { id: number }) => i.id))).toEqual(['H'])

@@ -26,7 +26,9 @@ beforeAll(async () => {
   approver2 = await signedIn(app, 'approver2')
   tech = await signedIn(app, 'technician')
 })
-afterAll(async () => { await smtp?.close() })
+afterAll(async () => {
+  await smtp?.close()
+})
 
 const recipients = (m: ParsedMail) => (m.to && !Array.isArray(m.to) ? m.to.value.map((a) => a.address ?? '') : [])
 const addr = (who: string) => `${who}@fernhollow.example`
@@ -52,9 +54,13 @@ function expectLinkToRequest(m: ParsedMail, id: number) {
 }
 
 describe('change request mail, read from the SMTP server', () => {
-  it('submitted → the site\'s approvers; approved → proposer; implemented → proposer and the approvers', async () => {
+  it("submitted → the site's approvers; approved → proposer; implemented → proposer and the approvers", async () => {
     const { site, limit } = await buildHeaterTrip(eng, { sil: 2 })
-    const cr = await submitChange(eng, { siteId: site.id, title: 'SIL 2 heater trip in service', items: [{ kind: 'create', limitId: limit.id }] })
+    const cr = await submitChange(eng, {
+      siteId: site.id,
+      title: 'SIL 2 heater trip in service',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
 
     const submitted = await received(`Change request #${cr.id} waits for your approval`, ['approver', 'approver2'])
     for (const m of submitted) {
@@ -71,7 +77,13 @@ describe('change request mail, read from the SMTP server', () => {
     const [approved] = await received(`Change request #${cr.id} approved: SIL 2 heater trip in service`, ['engineer'])
     expectLinkToRequest(approved, cr.id)
 
-    await tech.post(`/api/change-requests/${cr.id}/implementations`, { itemId: cr.items[0].id, readBack: readBackOf(cr.items[0]), password: PW }).expect(200)
+    await tech
+      .post(`/api/change-requests/${cr.id}/implementations`, {
+        itemId: cr.items[0].id,
+        readBack: readBackOf(cr.items[0]),
+        password: PW,
+      })
+      .expect(200)
     const implemented = await received(`Change request #${cr.id} implemented`, ['engineer', 'approver', 'approver2'])
     for (const m of implemented) {
       expectLinkToRequest(m, cr.id)
@@ -81,27 +93,58 @@ describe('change request mail, read from the SMTP server', () => {
 
   it('rejected → proposer, with the reason in both bodies', async () => {
     const { site, limit } = await buildHeaterTrip(eng)
-    const cr = await submitChange(eng, { siteId: site.id, title: 'Trip at 780', items: [{ kind: 'create', limitId: limit.id }] })
+    const cr = await submitChange(eng, {
+      siteId: site.id,
+      title: 'Trip at 780',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
     await received(`Change request #${cr.id} waits for your approval`, ['approver', 'approver2'])
-    await approver.post(`/api/change-requests/${cr.id}/rejections`, { password: PW, comment: 'Setpoint leaves < 5 % margin to the tube design temperature' }).expect(200)
+    await approver
+      .post(`/api/change-requests/${cr.id}/rejections`, {
+        password: PW,
+        comment: 'Setpoint leaves < 5 % margin to the tube design temperature',
+      })
+      .expect(200)
     const [rejected] = await received(`Change request #${cr.id} rejected`, ['engineer'])
     expectLinkToRequest(rejected, cr.id)
     expect(rejected.text).toContain('Reason: Setpoint leaves < 5 % margin to the tube design temperature')
-    expect(rejected.html).toEqual(expect.stringContaining('Reason: Setpoint leaves &lt; 5 % margin to the tube design temperature'))
+    expect(rejected.html).toEqual(
+      expect.stringContaining('Reason: Setpoint leaves &lt; 5 % margin to the tube design temperature'),
+    )
     expect(rejected.text).toContain('Arlo Pennick rejected')
   })
 
   it('a proposer who is also an approver is not asked to approve their own request', async () => {
-    const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]
+    const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
     const fhr = sites.find((s) => s.code === 'FHR')!.id
     const admin = await signedIn(app, 'admin')
-    const user = (await admin.post('/api/users', { email: addr('dual'), displayName: 'Dana Twofold', password: 'dual-role-password', roles: [{ siteId: fhr, role: 'approver' }] }).expect(201)).body
-    await admin.patch(`/api/users/${user.id}`, { roles: [{ siteId: fhr, role: 'approver' }, { siteId: fhr, role: 'safety_engineer' }] }).expect(200)
+    const user = (
+      await admin
+        .post('/api/users', {
+          email: addr('dual'),
+          displayName: 'Dana Twofold',
+          password: 'dual-role-password',
+          roles: [{ siteId: fhr, role: 'approver' }],
+        })
+        .expect(201)
+    ).body
+    await admin
+      .patch(`/api/users/${user.id}`, {
+        roles: [
+          { siteId: fhr, role: 'approver' },
+          { siteId: fhr, role: 'safety_engineer' },
+        ],
+      })
+      .expect(200)
     const dual = new ApiAgent(app)
     await dual.signIn(addr('dual'), 'dual-role-password')
 
     const { site, limit } = await buildHeaterTrip(dual)
-    const cr = await submitChange(dual, { siteId: site.id, title: 'Proposed by an approver', items: [{ kind: 'create', limitId: limit.id }] })
+    const cr = await submitChange(dual, {
+      siteId: site.id,
+      title: 'Proposed by an approver',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
     await received(`Change request #${cr.id} waits for your approval`, ['approver', 'approver2'])
   })
 })

@@ -10,8 +10,18 @@ import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
-const PEOPLE = ['engineer', 'approver', 'approver2', 'technician', 'supervisor', 'operator', 'manager', 'auditor', 'admin'] as const
-type Who = typeof PEOPLE[number]
+const PEOPLE = [
+  'engineer',
+  'approver',
+  'approver2',
+  'technician',
+  'supervisor',
+  'operator',
+  'manager',
+  'auditor',
+  'admin',
+] as const
+type Who = (typeof PEOPLE)[number]
 const PSSR = { reference: 'PSSR-2026-201', findings: 'none', readyForService: true }
 
 let app: Express
@@ -42,52 +52,104 @@ describe('change request: who may do what along the whole path (DOMAIN.md §2)',
   it('permanent change: engineer creates, edits, submits; approver approves; technician implements; engineer closes; everyone else gets 403', async () => {
     const crew = { eng: as.engineer, approvers: [as.approver], tech: as.technician }
     const { site, limit } = await buildActiveHeaterTrip(crew)
-    const body = { siteId: site.id, type: 'permanent', title: 'Raise heater trip', rationale: 'HAZOP action 7', items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }] }
+    const body = {
+      siteId: site.id,
+      type: 'permanent',
+      title: 'Raise heater trip',
+      rationale: 'HAZOP action 7',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
+    }
 
     // OSHA 1910.119(l) management of change: only the safety engineer proposes
     await refusedForAllBut(['engineer'], (a) => a.post('/api/change-requests', body))
     const cr = (await as.engineer.post('/api/change-requests', body).expect(201)).body
     expect(cr).toMatchObject({ status: 'draft', proposerId: expect.any(Number), approvalsRequired: 1 })
 
-    await refusedForAllBut(['engineer'], (a) => a.patch(`/api/change-requests/${cr.id}`, { rationale: 'HAZOP action 7, revised' }))
-    expect((await as.engineer.patch(`/api/change-requests/${cr.id}`, { rationale: 'HAZOP action 7, revised' }).expect(200)).body.rationale).toBe('HAZOP action 7, revised')
+    await refusedForAllBut(['engineer'], (a) =>
+      a.patch(`/api/change-requests/${cr.id}`, { rationale: 'HAZOP action 7, revised' }),
+    )
+    expect(
+      (await as.engineer.patch(`/api/change-requests/${cr.id}`, { rationale: 'HAZOP action 7, revised' }).expect(200))
+        .body.rationale,
+    ).toBe('HAZOP action 7, revised')
 
-    await refusedForAllBut(['engineer'], (a) => a.put(`/api/change-requests/${cr.id}/checklist/drawings`, { done: true }))
-    await refusedForAllBut(['engineer'], (a) => a.agent.post(`/api/change-requests/${cr.id}/attachments`).set('X-CSRF-Token', a.csrf).attach('file', tinyPdf, 'loop-diagram.pdf'))
+    await refusedForAllBut(['engineer'], (a) =>
+      a.put(`/api/change-requests/${cr.id}/checklist/drawings`, { done: true }),
+    )
+    await refusedForAllBut(['engineer'], (a) =>
+      a.agent
+        .post(`/api/change-requests/${cr.id}/attachments`)
+        .set('X-CSRF-Token', a.csrf)
+        .attach('file', tinyPdf, 'loop-diagram.pdf'),
+    )
 
     await refusedForAllBut(['engineer'], (a) => a.post(`/api/change-requests/${cr.id}/submission`))
-    expect((await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)).body.status).toBe('submitted')
+    expect((await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)).body.status).toBe(
+      'submitted',
+    )
 
     // IEC 61511 independence of approver: only approvers, and with their correct password, still refused to others
-    await refusedForAllBut(['approver', 'approver2'], (a) => a.post(`/api/change-requests/${cr.id}/rejections`, { password: PW, comment: 'no' }))
-    await refusedForAllBut(['approver', 'approver2'], (a) => a.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }))
-    expect((await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body.status).toBe('approved')
+    await refusedForAllBut(['approver', 'approver2'], (a) =>
+      a.post(`/api/change-requests/${cr.id}/rejections`, { password: PW, comment: 'no' }),
+    )
+    await refusedForAllBut(['approver', 'approver2'], (a) =>
+      a.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }),
+    )
+    expect(
+      (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body.status,
+    ).toBe('approved')
 
     // a permanent change is implemented by a technician; a shift supervisor only implements emergency changes
     const implement = { itemId: cr.items[0].id, readBack: readBackOf(cr.items[0]), password: PW }
     await refusedForAllBut(['technician'], (a) => a.post(`/api/change-requests/${cr.id}/implementations`, implement))
-    expect((await as.technician.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(200)).body.status).toBe('implemented')
+    expect(
+      (await as.technician.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(200)).body.status,
+    ).toBe('implemented')
     expect((await as.engineer.get(`/api/limits/${limit.id}`).expect(200)).body.setpoint).toBe(790)
 
-    for (const c of IMPACT_CHECKLIST) await as.engineer.put(`/api/change-requests/${cr.id}/checklist/${c.item}`, { done: true }).expect(200)
+    for (const c of IMPACT_CHECKLIST)
+      await as.engineer.put(`/api/change-requests/${cr.id}/checklist/${c.item}`, { done: true }).expect(200)
     // OSHA 1910.119(i) pre-start-up safety review, signed by the safety engineer
-    await refusedForAllBut(['engineer'], (a) => a.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }))
-    const closed = (await as.engineer.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }).expect(200)).body
+    await refusedForAllBut(['engineer'], (a) =>
+      a.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }),
+    )
+    const closed = (
+      await as.engineer.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }).expect(200)
+    ).body
     expect(closed.status).toBe('closed')
-    expect(closed.signatures.map((s: { meaning: string, name: string }) => [s.meaning, s.name])).toEqual([
-      ['approved', 'Arlo Pennick'], ['implemented', 'Tomas Quillfeather'], ['closed', 'Selma Rookwood'],
+    expect(closed.signatures.map((s: { meaning: string; name: string }) => [s.meaning, s.name])).toEqual([
+      ['approved', 'Arlo Pennick'],
+      ['implemented', 'Tomas Quillfeather'],
+      ['closed', 'Selma Rookwood'],
     ])
   })
 
   it('withdrawal: only the engineer withdraws a draft or a submitted request', async () => {
     const { site, limit } = await buildHeaterTrip(as.engineer)
-    const draft = (await as.engineer.post('/api/change-requests', { siteId: site.id, type: 'permanent', title: 'Draft to withdraw', items: [{ kind: 'create', limitId: limit.id }] }).expect(201)).body
+    const draft = (
+      await as.engineer
+        .post('/api/change-requests', {
+          siteId: site.id,
+          type: 'permanent',
+          title: 'Draft to withdraw',
+          items: [{ kind: 'create', limitId: limit.id }],
+        })
+        .expect(201)
+    ).body
     await refusedForAllBut(['engineer'], (a) => a.post(`/api/change-requests/${draft.id}/withdrawal`))
-    expect((await as.engineer.post(`/api/change-requests/${draft.id}/withdrawal`).expect(200)).body.status).toBe('withdrawn')
+    expect((await as.engineer.post(`/api/change-requests/${draft.id}/withdrawal`).expect(200)).body.status).toBe(
+      'withdrawn',
+    )
 
-    const submitted = await submitChange(as.engineer, { siteId: site.id, title: 'Submitted, then withdrawn', items: [{ kind: 'create', limitId: limit.id }] })
+    const submitted = await submitChange(as.engineer, {
+      siteId: site.id,
+      title: 'Submitted, then withdrawn',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
     await refusedForAllBut(['engineer'], (a) => a.post(`/api/change-requests/${submitted.id}/withdrawal`))
-    expect((await as.engineer.post(`/api/change-requests/${submitted.id}/withdrawal`).expect(200)).body.status).toBe('withdrawn')
+    expect((await as.engineer.post(`/api/change-requests/${submitted.id}/withdrawal`).expect(200)).body.status).toBe(
+      'withdrawn',
+    )
     // a withdrawn request is not approved any more
     const late = await as.approver.post(`/api/change-requests/${submitted.id}/approvals`, { password: PW }).expect(409)
     expect(late.body.error.code).toBe('INVALID_STATE')
@@ -96,23 +158,39 @@ describe('change request: who may do what along the whole path (DOMAIN.md §2)',
   it('emergency change: the shift supervisor implements first, an approver signs afterwards, then the engineer closes', async () => {
     const crew = { eng: as.engineer, approvers: [as.approver], tech: as.technician }
     const { site, limit } = await buildActiveHeaterTrip(crew)
-    const cr = await submitChange(as.engineer, { siteId: site.id, type: 'emergency', title: 'Lower trip after tube thinning', items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 770 } }] })
+    const cr = await submitChange(as.engineer, {
+      siteId: site.id,
+      type: 'emergency',
+      title: 'Lower trip after tube thinning',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 770 } }],
+    })
     const implement = { itemId: cr.items[0].id, readBack: readBackOf(cr.items[0]), password: PW }
-    await refusedForAllBut(['supervisor', 'technician'], (a) => a.post(`/api/change-requests/${cr.id}/implementations`, implement))
+    await refusedForAllBut(['supervisor', 'technician'], (a) =>
+      a.post(`/api/change-requests/${cr.id}/implementations`, implement),
+    )
     const done = (await as.supervisor.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(200)).body
     expect(done).toMatchObject({ status: 'implemented', approvedAt: null })
     expect((await as.engineer.get(`/api/limits/${limit.id}`).expect(200)).body.setpoint).toBe(770)
 
-    for (const c of IMPACT_CHECKLIST) await as.engineer.put(`/api/change-requests/${cr.id}/checklist/${c.item}`, { done: true }).expect(200)
+    for (const c of IMPACT_CHECKLIST)
+      await as.engineer.put(`/api/change-requests/${cr.id}/checklist/${c.item}`, { done: true }).expect(200)
     // not closed before the approval after the fact
-    const early = await as.engineer.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }).expect(409)
+    const early = await as.engineer
+      .post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR })
+      .expect(409)
     expect(early.body.error.code).toBe('INVALID_STATE')
 
-    await refusedForAllBut(['approver', 'approver2'], (a) => a.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }))
-    const approved = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
+    await refusedForAllBut(['approver', 'approver2'], (a) =>
+      a.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }),
+    )
+    const approved = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200))
+      .body
     expect(approved.status).toBe('implemented')
     expect(approved.approvedAt).toEqual(expect.any(String))
-    expect((await as.engineer.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }).expect(200)).body.status).toBe('closed')
+    expect(
+      (await as.engineer.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }).expect(200)).body
+        .status,
+    ).toBe('closed')
   })
 })
 
@@ -121,67 +199,129 @@ describe('separation of duties (IEC 61511 independence of approver; OSHA 1910.11
   let dualId: number
 
   beforeAll(async () => {
-    const sites = (await as.admin.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]
+    const sites = (await as.admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
     const fhr = sites.find((s) => s.code === 'FHR')!.id
-    const created = (await as.admin.post('/api/users', { email: 'dual@fernhollow.example', displayName: 'Dana Twofold', password: 'dual-role-password', roles: [{ siteId: fhr, role: 'approver' }] }).expect(201)).body
+    const created = (
+      await as.admin
+        .post('/api/users', {
+          email: 'dual@fernhollow.example',
+          displayName: 'Dana Twofold',
+          password: 'dual-role-password',
+          roles: [{ siteId: fhr, role: 'approver' }],
+        })
+        .expect(201)
+    ).body
     dualId = created.id
     // the admin gives the approver the safety-engineer role too
-    const patched = (await as.admin.patch(`/api/users/${dualId}`, { roles: [{ siteId: fhr, role: 'approver' }, { siteId: fhr, role: 'safety_engineer' }] }).expect(200)).body
+    const patched = (
+      await as.admin
+        .patch(`/api/users/${dualId}`, {
+          roles: [
+            { siteId: fhr, role: 'approver' },
+            { siteId: fhr, role: 'safety_engineer' },
+          ],
+        })
+        .expect(200)
+    ).body
     expect(patched.roles).toHaveLength(2)
     dual = new ApiAgent(app)
     await dual.signIn('dual@fernhollow.example', 'dual-role-password')
   })
 
-  it('refuses the proposer\'s own approval even when they hold the approver role (403, nothing written)', async () => {
+  it("refuses the proposer's own approval even when they hold the approver role (403, nothing written)", async () => {
     const { site, limit } = await buildHeaterTrip(dual)
-    const cr = await submitChange(dual, { siteId: site.id, title: 'Proposed by a dual-role user', items: [{ kind: 'create', limitId: limit.id }] })
+    const cr = await submitChange(dual, {
+      siteId: site.id,
+      title: 'Proposed by a dual-role user',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
     expect(cr.proposerId).toBe(dualId)
     const before = await rowCounts(ctx.db)
-    const res = await dual.post(`/api/change-requests/${cr.id}/approvals`, { password: 'dual-role-password' }).expect(403)
+    const res = await dual
+      .post(`/api/change-requests/${cr.id}/approvals`, { password: 'dual-role-password' })
+      .expect(403)
     expect(res.body.error).toMatchObject({ code: 'FORBIDDEN', message: expect.stringContaining('proposed') })
-    const rej = await dual.post(`/api/change-requests/${cr.id}/rejections`, { password: 'dual-role-password', comment: 'mine' }).expect(403)
+    const rej = await dual
+      .post(`/api/change-requests/${cr.id}/rejections`, { password: 'dual-role-password', comment: 'mine' })
+      .expect(403)
     expect(rej.body.error.code).toBe('FORBIDDEN')
     expect(await rowCounts(ctx.db)).toEqual(before)
     // an independent approver may
-    expect((await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body.status).toBe('approved')
+    expect(
+      (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body.status,
+    ).toBe('approved')
   })
 
   it('refuses the approval of someone who edited the request (403, nothing written)', async () => {
     const { site, limit } = await buildHeaterTrip(as.engineer)
-    const cr = await submitChange(as.engineer, { siteId: site.id, title: 'Edited by a dual-role user', items: [{ kind: 'create', limitId: limit.id }] })
-    const edited = (await dual.patch(`/api/change-requests/${cr.id}`, { hazardReference: 'HAZOP-2026-03 node 4' }).expect(200)).body
+    const cr = await submitChange(as.engineer, {
+      siteId: site.id,
+      title: 'Edited by a dual-role user',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
+    const edited = (
+      await dual.patch(`/api/change-requests/${cr.id}`, { hazardReference: 'HAZOP-2026-03 node 4' }).expect(200)
+    ).body
     expect(edited.editorIds).toContain(dualId)
     expect(edited.status).toBe('draft')
     await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)
 
     const before = await rowCounts(ctx.db)
-    const res = await dual.post(`/api/change-requests/${cr.id}/approvals`, { password: 'dual-role-password' }).expect(403)
+    const res = await dual
+      .post(`/api/change-requests/${cr.id}/approvals`, { password: 'dual-role-password' })
+      .expect(403)
     expect(res.body.error).toMatchObject({ code: 'FORBIDDEN', message: expect.stringContaining('edited') })
     expect(await rowCounts(ctx.db)).toEqual(before)
-    expect((await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body.status).toBe('approved')
+    expect(
+      (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body.status,
+    ).toBe('approved')
   })
 
   it('editing a submitted request returns it to draft and voids its signatures', async () => {
     const { site, limit } = await buildHeaterTrip(as.engineer, { sil: 2 })
-    const cr = await submitChange(as.engineer, { siteId: site.id, title: 'SIL 2 heater trip in service', items: [{ kind: 'create', limitId: limit.id }] })
+    const cr = await submitChange(as.engineer, {
+      siteId: site.id,
+      title: 'SIL 2 heater trip in service',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
     expect(cr.approvalsRequired).toBe(2)
     const once = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
     expect(once).toMatchObject({ status: 'submitted', approvalsHeld: 1 })
 
-    const edited = (await as.engineer.patch(`/api/change-requests/${cr.id}`, { rationale: 'SRS rev B' }).expect(200)).body
+    const edited = (await as.engineer.patch(`/api/change-requests/${cr.id}`, { rationale: 'SRS rev B' }).expect(200))
+      .body
     expect(edited).toMatchObject({ status: 'draft', approvalsHeld: 0, submittedAt: null })
     expect(edited.contentHash).not.toBe(cr.contentHash)
     expect(edited.signatures).toHaveLength(1)
-    expect(edited.signatures[0]).toMatchObject({ meaning: 'approved', name: 'Arlo Pennick', voided: true, voidReason: 'request edited after submission' })
-    const update = await ctx.db.selectFrom('audit_event').select(['after']).where('action', '=', 'change_request.update').where('entity_id', '=', String(cr.id)).executeTakeFirstOrThrow()
+    expect(edited.signatures[0]).toMatchObject({
+      meaning: 'approved',
+      name: 'Arlo Pennick',
+      voided: true,
+      voidReason: 'request edited after submission',
+    })
+    const update = await ctx.db
+      .selectFrom('audit_event')
+      .select(['after'])
+      .where('action', '=', 'change_request.update')
+      .where('entity_id', '=', String(cr.id))
+      .executeTakeFirstOrThrow()
     expect(update.after).toMatchObject({ status: 'draft', signaturesVoided: 1, contentHash: edited.contentHash })
 
     // a draft is not approved; once resubmitted it needs both approvals again
-    expect((await as.approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(409)).body.error.code).toBe('INVALID_STATE')
+    expect(
+      (await as.approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(409)).body.error
+        .code,
+    ).toBe('INVALID_STATE')
     await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)
-    expect((await as.approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body).toMatchObject({ status: 'submitted', approvalsHeld: 1 })
+    expect(
+      (await as.approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body,
+    ).toMatchObject({ status: 'submitted', approvalsHeld: 1 })
     const both = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
     expect(both).toMatchObject({ status: 'approved', approvalsHeld: 2 })
-    expect(both.signatures.filter((s: { voided: boolean }) => !s.voided).every((s: { contentHash: string }) => s.contentHash === edited.contentHash)).toBe(true)
+    expect(
+      both.signatures
+        .filter((s: { voided: boolean }) => !s.voided)
+        .every((s: { contentHash: string }) => s.contentHash === edited.contentHash),
+    ).toBe(true)
   })
 })

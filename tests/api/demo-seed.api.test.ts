@@ -37,14 +37,19 @@ describe('demo plant register', () => {
     // every class and direction, and each combination
     for (const limitClass of ['alarm', 'trip']) {
       for (const direction of ['high', 'low']) {
-        expect(limits.some((l) => l.limitClass === limitClass && l.direction === direction), `${direction} ${limitClass}`).toBe(true)
+        expect(
+          limits.some((l) => l.limitClass === limitClass && l.direction === direction),
+          `${direction} ${limitClass}`,
+        ).toBe(true)
       }
     }
 
     // every signal kind, the thermocouple types for high temperatures, RTD wiring, square-root flow, switches
     const used = new Set(limits.flatMap((l) => l.instrumentIds))
     const behind = instruments.filter((i) => used.has(i.id))
-    expect(new Set(behind.map((i) => i.signal.kind))).toEqual(new Set(['thermocouple', 'rtd', 'current', 'voltage', 'switch']))
+    expect(new Set(behind.map((i) => i.signal.kind))).toEqual(
+      new Set(['thermocouple', 'rtd', 'current', 'voltage', 'switch']),
+    )
     const variables = new Set(behind.map((i) => i.measuredVariable))
     for (const v of ['temperature', 'pressure', 'level', 'flow'] as const) expect(variables.has(v), v).toBe(true)
     const tcTypes = new Set(behind.flatMap((i) => (i.signal.kind === 'thermocouple' ? [i.signal.tcType] : [])))
@@ -52,9 +57,15 @@ describe('demo plant register', () => {
     expect(tcTypes.has('S') || tcTypes.has('R')).toBe(true)
     const rtdWires = new Set(behind.flatMap((i) => (i.signal.kind === 'rtd' ? [i.signal.wires] : [])))
     expect(rtdWires.has(3) && rtdWires.has(4)).toBe(true)
-    expect(behind.some((i) => i.signal.kind === 'current' && i.signal.sqrtExtraction && i.measuredVariable === 'flow')).toBe(true)
-    expect(behind.some((i) => i.signal.kind === 'switch' && i.deviceKind === 'switch' && i.measuredVariable === 'flow')).toBe(true)
-    expect(new Set(behind.filter((i) => i.measuredVariable === 'pressure').map((i) => i.pressureReference))).toEqual(new Set(['gauge', 'absolute', 'differential']))
+    expect(
+      behind.some((i) => i.signal.kind === 'current' && i.signal.sqrtExtraction && i.measuredVariable === 'flow'),
+    ).toBe(true)
+    expect(
+      behind.some((i) => i.signal.kind === 'switch' && i.deviceKind === 'switch' && i.measuredVariable === 'flow'),
+    ).toBe(true)
+    expect(new Set(behind.filter((i) => i.measuredVariable === 'pressure').map((i) => i.pressureReference))).toEqual(
+      new Set(['gauge', 'absolute', 'differential']),
+    )
     expect(behind.some((i) => i.burnout === 'upscale') && behind.some((i) => i.burnout === 'downscale')).toBe(true)
 
     // voted functions: 1oo2 and 2oo3 sensors
@@ -87,9 +98,9 @@ describe('demo plant register', () => {
     expect(limits.filter((l) => l.operatingWindow.errors.length).map((l) => l.tag)).toEqual([])
     const warned = limits.filter((l) => l.operatingWindow.warnings.length)
     expect(warned.length).toBeGreaterThanOrEqual(3)
-    expect(new Set(warned.flatMap((l) => l.operatingWindow.warnings.map((w) => w.code)))).toEqual(new Set([
-      'SETPOINT_NEAR_RANGE_END', 'DELAY_ON_TRIP', 'BURNOUT_AWAY_FROM_TRIP', 'DESIGN_LIMIT_OUTSIDE_RANGE',
-    ]))
+    expect(new Set(warned.flatMap((l) => l.operatingWindow.warnings.map((w) => w.code)))).toEqual(
+      new Set(['SETPOINT_NEAR_RANGE_END', 'DELAY_ON_TRIP', 'BURNOUT_AWAY_FROM_TRIP', 'DESIGN_LIMIT_OUTSIDE_RANGE']),
+    )
     const filtered = await all<Limit>(eng, '/api/limits?hasWarnings=true')
     expect(filtered.map((l) => l.id).sort()).toEqual(warned.map((l) => l.id).sort())
     expect((await eng.get('/api/limits?hasErrors=true').expect(200)).body.total).toBe(0)
@@ -108,12 +119,17 @@ describe('demo plant register', () => {
     expect(active.map((l) => l.tag)).toEqual(['TSHH-101'])
     expect(active[0].revision).toBe(2)
     const revisions = (await eng.get(`/api/limits/${active[0].id}/revisions`).expect(200)).body
-    expect(revisions.items.map((r: { reason: string }) => r.reason)).toEqual(['demo baseline approved', 'created as a draft'])
+    expect(revisions.items.map((r: { reason: string }) => r.reason)).toEqual([
+      'demo baseline approved',
+      'created as a draft',
+    ])
     expect(revisions.items[0].changes).toEqual([{ field: 'status', from: 'proposed', to: 'active' }])
 
     const retired = (await eng.get('/api/limits?status=retired').expect(200)).body.items as Limit[]
     for (const l of retired) {
-      const reasons = (await eng.get(`/api/limits/${l.id}/revisions`).expect(200)).body.items.map((r: { reason: string }) => r.reason)
+      const reasons = (await eng.get(`/api/limits/${l.id}/revisions`).expect(200)).body.items.map(
+        (r: { reason: string }) => r.reason,
+      )
       expect(reasons).toHaveLength(3)
       expect(reasons.slice(1)).toEqual(['demo baseline approved', 'created as a draft'])
     }

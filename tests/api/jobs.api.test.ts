@@ -13,7 +13,13 @@ function standingClock(at: string) {
 }
 
 /** A job that records the `now` of each run (and who ran it). */
-function recordingJob(name: string, intervalSec: number, runs: { now: string, by: string }[], by: string, fail = false): DueJob<void> {
+function recordingJob(
+  name: string,
+  intervalSec: number,
+  runs: { now: string; by: string }[],
+  by: string,
+  fail = false,
+): DueJob<void> {
   return {
     name,
     intervalSec,
@@ -24,12 +30,13 @@ function recordingJob(name: string, intervalSec: number, runs: { now: string, by
   }
 }
 
-const schedule = (name: string) => ctx.db.selectFrom('job_schedule').selectAll().where('name', '=', name).executeTakeFirstOrThrow()
+const schedule = (name: string) =>
+  ctx.db.selectFrom('job_schedule').selectAll().where('name', '=', name).executeTakeFirstOrThrow()
 
 describe('JobScheduler', () => {
   it('runs a job once per interval, on the injected clock', async () => {
     const clock = standingClock('2030-05-01T00:00:00.000Z')
-    const runs: { now: string, by: string }[] = []
+    const runs: { now: string; by: string }[] = []
     const s = new JobScheduler(ctx.db, clock, [recordingJob('test.every-minute', 60, runs, 'a')])
     await s.register()
 
@@ -37,7 +44,11 @@ describe('JobScheduler', () => {
     await s.tick() // same instant: not due again
     expect(runs.map((r) => r.now)).toEqual(['2030-05-01T00:00:00.000Z'])
     expect(await schedule('test.every-minute')).toMatchObject({
-      interval_sec: 60, locked_until: null, last_error: null, last_run_at: new Date('2030-05-01T00:00:00.000Z'), next_run_at: new Date('2030-05-01T00:01:00.000Z'),
+      interval_sec: 60,
+      locked_until: null,
+      last_error: null,
+      last_run_at: new Date('2030-05-01T00:00:00.000Z'),
+      next_run_at: new Date('2030-05-01T00:01:00.000Z'),
     })
 
     clock.advance(59_999)
@@ -52,19 +63,27 @@ describe('JobScheduler', () => {
     clock.advance(10 * 60_000)
     await s.tick()
     await s.tick()
-    expect(runs.map((r) => r.now)).toEqual(['2030-05-01T00:00:00.000Z', '2030-05-01T00:01:00.000Z', '2030-05-01T00:11:00.000Z'])
+    expect(runs.map((r) => r.now)).toEqual([
+      '2030-05-01T00:00:00.000Z',
+      '2030-05-01T00:01:00.000Z',
+      '2030-05-01T00:11:00.000Z',
+    ])
   })
 
   it('records a failure and runs the job again at the next interval', async () => {
     const clock = standingClock('2030-06-01T00:00:00.000Z')
-    const runs: { now: string, by: string }[] = []
+    const runs: { now: string; by: string }[] = []
     const log: string[] = []
     const s = new JobScheduler(ctx.db, clock, [recordingJob('test.failing', 300, runs, 'a', true)], (m) => log.push(m))
     await s.register()
     await s.tick()
     expect(runs).toHaveLength(1)
     expect(log).toEqual(['job test.failing failed: the relay is unreachable'])
-    expect(await schedule('test.failing')).toMatchObject({ locked_until: null, last_error: 'the relay is unreachable', next_run_at: new Date('2030-06-01T00:05:00.000Z') })
+    expect(await schedule('test.failing')).toMatchObject({
+      locked_until: null,
+      last_error: 'the relay is unreachable',
+      next_run_at: new Date('2030-06-01T00:05:00.000Z'),
+    })
     clock.advance(300_000)
     await s.tick()
     expect(runs).toHaveLength(2)
@@ -73,8 +92,8 @@ describe('JobScheduler', () => {
   // several app servers share one database (docs/deployment.md): a due run happens on one of them only
   it('runs a due job exactly once when several schedulers on the same database tick at the same time', async () => {
     const clock = standingClock('2030-07-01T00:00:00.000Z')
-    const runs: { now: string, by: string }[] = []
-    const instances: { db: Db, scheduler: JobScheduler }[] = []
+    const runs: { now: string; by: string }[] = []
+    const instances: { db: Db; scheduler: JobScheduler }[] = []
     for (const by of ['a', 'b', 'c', 'd']) {
       const { db } = createDb(ctx.database.appUrl, 2) // each "app server" with its own pool
       instances.push({ db, scheduler: new JobScheduler(db, clock, [recordingJob('test.shared', 60, runs, by)]) })
@@ -89,7 +108,10 @@ describe('JobScheduler', () => {
       }
       // one run per interval, each at its own instant
       expect(new Set(runs.map((r) => r.now)).size).toBe(rounds)
-      expect(await schedule('test.shared')).toMatchObject({ locked_until: null, next_run_at: new Date('2030-07-01T00:10:00.000Z') })
+      expect(await schedule('test.shared')).toMatchObject({
+        locked_until: null,
+        next_run_at: new Date('2030-07-01T00:10:00.000Z'),
+      })
     } finally {
       await Promise.all(instances.map((i) => i.db.destroy()))
     }
@@ -97,14 +119,23 @@ describe('JobScheduler', () => {
 
   it('does not start a job another instance holds, until that lease runs out', async () => {
     const clock = standingClock('2030-08-01T00:00:00.000Z')
-    const runs: { now: string, by: string }[] = []
+    const runs: { now: string; by: string }[] = []
     let release!: () => void
-    const gate = new Promise<void>((resolve) => { release = resolve })
+    const gate = new Promise<void>((resolve) => {
+      release = resolve
+    })
     let started!: () => void
-    const isRunning = new Promise<void>((resolve) => { started = resolve })
+    const isRunning = new Promise<void>((resolve) => {
+      started = resolve
+    })
     const slow: DueJob<void> = {
-      name: 'test.slow', intervalSec: 60,
-      async runDue(now) { runs.push({ now: now.toISOString(), by: 'a' }); started(); await gate },
+      name: 'test.slow',
+      intervalSec: 60,
+      async runDue(now) {
+        runs.push({ now: now.toISOString(), by: 'a' })
+        started()
+        await gate
+      },
     }
     const a = new JobScheduler(ctx.db, clock, [slow])
     const b = new JobScheduler(ctx.db, clock, [recordingJob('test.slow', 60, runs, 'b')])
@@ -122,7 +153,11 @@ describe('JobScheduler', () => {
 
     // an instance that died mid-run (lease left behind) delays the job by at most the 10-minute lease
     const now = clock.now()
-    await ctx.db.updateTable('job_schedule').set({ locked_until: new Date(now.getTime() + 10 * 60_000), next_run_at: now }).where('name', '=', 'test.slow').execute()
+    await ctx.db
+      .updateTable('job_schedule')
+      .set({ locked_until: new Date(now.getTime() + 10 * 60_000), next_run_at: now })
+      .where('name', '=', 'test.slow')
+      .execute()
     await b.tick()
     expect(runs).toHaveLength(2)
     clock.advance(10 * 60_000 + 1)

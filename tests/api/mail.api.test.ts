@@ -28,16 +28,21 @@ beforeAll(async () => {
   smtp = await startFakeSmtp(0, { quiet: true })
   closedPort = await unusedPort()
 })
-afterAll(async () => { await smtp?.close() })
+afterAll(async () => {
+  await smtp?.close()
+})
 
 const job = () => createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock)
 const jobWithSmtpDown = () => createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: closedPort }, ctx.clock)
 const delivered = (subject: string) => smtp.inbox.filter((m) => m.subject === subject)
-const outboxRow = (subject: string) => ctx.db.selectFrom('mail_outbox').selectAll().where('subject', '=', subject).executeTakeFirst()
+const outboxRow = (subject: string) =>
+  ctx.db.selectFrom('mail_outbox').selectAll().where('subject', '=', subject).executeTakeFirst()
 
 function mail(subject: string): OutgoingMail {
-  const { text, html } = mailBodies(['Bypass of TZ-101 on Crude Unit expires in 1 hour.', 'Compensating measure: field operator at the heater <24/7>.'],
-    { url: 'http://127.0.0.1:8080/bypasses/7', label: 'Open the bypass' })
+  const { text, html } = mailBodies(
+    ['Bypass of TZ-101 on Crude Unit expires in 1 hour.', 'Compensating measure: field operator at the heater <24/7>.'],
+    { url: 'http://127.0.0.1:8080/bypasses/7', label: 'Open the bypass' },
+  )
   return { to: 'supervisor@fernhollow.example', subject, text, html, topic: 'bypass.expiry' }
 }
 
@@ -45,10 +50,12 @@ describe('mail outbox', () => {
   // common practice (transactional outbox): mail leaves only with the change that caused it
   it('sends nothing for a change that rolled back', async () => {
     const subject = 'Rolled back: bypass reminder'
-    await expect(ctx.db.transaction().execute(async (trx) => {
-      await enqueueMail(trx, ctx.clock, mail(subject))
-      throw new Error('the change failed after queueing its mail')
-    })).rejects.toThrow('the change failed')
+    await expect(
+      ctx.db.transaction().execute(async (trx) => {
+        await enqueueMail(trx, ctx.clock, mail(subject))
+        throw new Error('the change failed after queueing its mail')
+      }),
+    ).rejects.toThrow('the change failed')
     expect(await outboxRow(subject)).toBeUndefined()
     expect(await job().runDue(ctx.clock.now())).toEqual({ sent: 0, failed: 0 })
     expect(delivered(subject)).toEqual([])
@@ -66,7 +73,9 @@ describe('mail outbox', () => {
     expect(got).toHaveLength(1)
     const m = got[0]
     expect(m.subject).toBe(subject)
-    expect(m.to && !Array.isArray(m.to) ? m.to.value.map((a) => a.address) : []).toEqual(['supervisor@fernhollow.example'])
+    expect(m.to && !Array.isArray(m.to) ? m.to.value.map((a) => a.address) : []).toEqual([
+      'supervisor@fernhollow.example',
+    ])
     expect(m.from?.value[0].address).toBe('limitkeeper@localhost')
     expect(m.text).toContain('Bypass of TZ-101 on Crude Unit expires in 1 hour.')
     expect(m.text).toContain('Open the bypass: http://127.0.0.1:8080/bypasses/7')
@@ -132,7 +141,12 @@ describe('mail outbox', () => {
     const list = await admin.get('/api/mail').expect(200)
     expect(list.body.total).toBeGreaterThanOrEqual(14)
     const down = list.body.items.find((m: { subject: string }) => m.subject === 'SMTP down: escalation')
-    expect(down).toMatchObject({ to: 'supervisor@fernhollow.example', attempts: 3, lastError: null, topic: 'bypass.expiry' })
+    expect(down).toMatchObject({
+      to: 'supervisor@fernhollow.example',
+      attempts: 3,
+      lastError: null,
+      topic: 'bypass.expiry',
+    })
     expect(down.sentAt).toEqual(expect.any(String))
 
     const sent = await admin.get('/api/mail?state=sent').expect(200)

@@ -8,7 +8,12 @@ import { useTestDb } from './helpers/test-db.ts'
 // Small thresholds for this file; TRUST_PROXY lets each test come from its own client address (X-Forwarded-For),
 // as behind the plant's reverse proxy.
 const ctx = useTestDb({
-  env: { SIGNIN_MAX_FAILURES_PER_ACCOUNT: '3', SIGNIN_MAX_FAILURES_PER_ADDRESS: '5', SIGNIN_WINDOW_MINUTES: '15', TRUST_PROXY: 'true' },
+  env: {
+    SIGNIN_MAX_FAILURES_PER_ACCOUNT: '3',
+    SIGNIN_MAX_FAILURES_PER_ADDRESS: '5',
+    SIGNIN_WINDOW_MINUTES: '15',
+    TRUST_PROXY: 'true',
+  },
 })
 
 const WINDOW_MS = 15 * 60_000
@@ -24,8 +29,11 @@ async function freshAgent() {
   return a
 }
 
-async function failuresRecorded(where: { email?: string, ip?: string }) {
-  let q = ctx.db.selectFrom('sign_in_attempt').select((eb) => eb.fn.countAll<number>().as('n')).where('success', '=', false)
+async function failuresRecorded(where: { email?: string; ip?: string }) {
+  let q = ctx.db
+    .selectFrom('sign_in_attempt')
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .where('success', '=', false)
   if (where.email) q = q.where('email', '=', where.email)
   if (where.ip) q = q.where('ip', '=', where.ip)
   return (await q.executeTakeFirstOrThrow()).n
@@ -103,18 +111,24 @@ describe('sign-in rate limiting (OWASP ASVS 4.0 2.2.1)', () => {
     const user = await ctx.db.selectFrom('app_user').select('id').where('email', '=', email).executeTakeFirstOrThrow()
     const auditCtx = { actorId: user.id, requestId: 'rate-limit-test', ip: '203.0.113.40' }
     for (let i = 0; i < 3; i++) {
-      await expect(verifySignaturePassword(ctx, user.id, 'not-the-password', auditCtx, { entityType: 'ChangeRequest', entityId: 1 }))
-        .rejects.toMatchObject({ status: 403, code: 'SIGNATURE_INVALID' })
+      await expect(
+        verifySignaturePassword(ctx, user.id, 'not-the-password', auditCtx, {
+          entityType: 'ChangeRequest',
+          entityId: 1,
+        }),
+      ).rejects.toMatchObject({ status: 403, code: 'SIGNATURE_INVALID' })
     }
     // a fourth signature attempt, with the right password, is throttled
-    await expect(verifySignaturePassword(ctx, user.id, DEMO_PASSWORD, auditCtx, { entityType: 'ChangeRequest', entityId: 1 }))
-      .rejects.toMatchObject({ status: 429, code: 'RATE_LIMITED' })
+    await expect(
+      verifySignaturePassword(ctx, user.id, DEMO_PASSWORD, auditCtx, { entityType: 'ChangeRequest', entityId: 1 }),
+    ).rejects.toMatchObject({ status: 429, code: 'RATE_LIMITED' })
     // and so is sign-in for that account from anywhere
     const a = await freshAgent()
     expect((await attempt(a, '203.0.113.41', email, DEMO_PASSWORD)).status).toBe(429)
 
     ctx.clock.advance(WINDOW_MS + 1_000)
-    await expect(verifySignaturePassword(ctx, user.id, DEMO_PASSWORD, auditCtx, { entityType: 'ChangeRequest', entityId: 1 }))
-      .resolves.toMatchObject({ id: user.id })
+    await expect(
+      verifySignaturePassword(ctx, user.id, DEMO_PASSWORD, auditCtx, { entityType: 'ChangeRequest', entityId: 1 }),
+    ).resolves.toMatchObject({ id: user.id })
   })
 })

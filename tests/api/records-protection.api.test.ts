@@ -14,26 +14,47 @@ describe('signatures and attachments as the runtime role', () => {
     const eng = await signedIn(app, 'engineer')
     const approver = await signedIn(app, 'approver')
     const { site, limit } = await buildHeaterTrip(eng)
-    const cr = (await eng.post('/api/change-requests', { siteId: site.id, type: 'permanent', title: 'Put in service', items: [{ kind: 'create', limitId: limit.id }] }).expect(201)).body
-    await eng.agent.post(`/api/change-requests/${cr.id}/attachments`).set('X-CSRF-Token', eng.csrf).attach('file', Buffer.from('%PDF-1.4\n%%EOF\n'), 'loop-diagram.pdf').expect(201)
+    const cr = (
+      await eng
+        .post('/api/change-requests', {
+          siteId: site.id,
+          type: 'permanent',
+          title: 'Put in service',
+          items: [{ kind: 'create', limitId: limit.id }],
+        })
+        .expect(201)
+    ).body
+    await eng.agent
+      .post(`/api/change-requests/${cr.id}/attachments`)
+      .set('X-CSRF-Token', eng.csrf)
+      .attach('file', Buffer.from('%PDF-1.4\n%%EOF\n'), 'loop-diagram.pdf')
+      .expect(201)
     await eng.post(`/api/change-requests/${cr.id}/submission`).expect(200)
     await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: 'limitkeeper-demo' }).expect(200)
     // what is signed does not change afterwards: no more attachments once someone has signed
-    const late = await eng.agent.post(`/api/change-requests/${cr.id}/attachments`).set('X-CSRF-Token', eng.csrf).attach('file', Buffer.from('%PDF-1.4\n%%EOF\n'), 'late.pdf').expect(409)
+    const late = await eng.agent
+      .post(`/api/change-requests/${cr.id}/attachments`)
+      .set('X-CSRF-Token', eng.csrf)
+      .attach('file', Buffer.from('%PDF-1.4\n%%EOF\n'), 'late.pdf')
+      .expect(409)
     expect(late.body.error.code).toBe('INVALID_STATE')
 
     const client = new pg.Client({ connectionString: ctx.database.appUrl })
     await client.connect()
     try {
-      const fail = (q: string) => client.query(q).then(() => 'ok', (e: { code?: string }) => e.code)
+      const fail = (q: string) =>
+        client.query(q).then(
+          () => 'ok',
+          (e: { code?: string }) => e.code,
+        )
       expect(await fail('DELETE FROM signature')).toBe('42501')
       expect(await fail('TRUNCATE signature')).toBe('42501')
       expect(await fail('DELETE FROM attachment')).toBe('42501')
-      expect(await fail('UPDATE attachment SET file_name = \'x.pdf\'')).toBe('42501')
-      expect(await fail('UPDATE signature SET content_hash = repeat(\'0\', 64)')).toBe('42501')
+      expect(await fail("UPDATE attachment SET file_name = 'x.pdf'")).toBe('42501')
+      expect(await fail("UPDATE signature SET content_hash = repeat('0', 64)")).toBe('42501')
       expect(await fail('UPDATE signature SET voided_at = NULL')).toBe('42501')
-      expect(await fail('UPDATE signature SET voided_at = now(), void_reason = \'test\'')).toBe('ok')
-      expect(await fail('UPDATE signature SET void_reason = \'again\'')).toBe('42501')
+      expect(await fail("UPDATE signature SET voided_at = now(), void_reason = 'test'")).toBe('ok')
+      expect(await fail("UPDATE signature SET void_reason = 'again'")).toBe('42501')
     } finally {
       await client.end()
     }

@@ -11,9 +11,15 @@ const ctx = useTestDb()
 // register of its own sites. Demo accounts (server/seed/demo.ts): supervisor and operator hold their role at FHR only.
 const READERS = ['admin', 'engineer', 'approver', 'supervisor', 'technician', 'operator', 'manager', 'auditor'] as const
 const NOT_EDITORS = ['admin', 'approver', 'supervisor', 'technician', 'operator', 'manager', 'auditor'] as const
-type Who = typeof READERS[number]
+type Who = (typeof READERS)[number]
 
-interface Built { siteId: number, areaId: number, processId: number, instrumentId: number, limitId: number }
+interface Built {
+  siteId: number
+  areaId: number
+  processId: number
+  instrumentId: number
+  limitId: number
+}
 
 let app: Express
 const agents = {} as Record<Who, ApiAgent>
@@ -23,10 +29,14 @@ let seq = 0
 
 async function build(eng: ApiAgent, siteCode: 'FHR' | 'SMP'): Promise<Built> {
   const n = ++seq
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]
+  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const siteId = sites.find((s) => s.code === siteCode)!.id
   const areaId = (await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items[0].id
-  const proc = (await eng.post('/api/processes', { areaId, name: `Roles test heater H-${siteCode}-${n}`, description: '' }).expect(201)).body
+  const proc = (
+    await eng
+      .post('/api/processes', { areaId, name: `Roles test heater H-${siteCode}-${n}`, description: '' })
+      .expect(201)
+  ).body
   const inst = (await eng.post('/api/instruments', instrumentBody(proc.id, `TT-R${siteCode}${n}`)).expect(201)).body
   const limit = (await eng.post('/api/limits', limitBody(proc.id, inst.id, `TSHH-R${siteCode}${n}`)).expect(201)).body
   return { siteId, areaId, processId: proc.id, instrumentId: inst.id, limitId: limit.id }
@@ -34,26 +44,71 @@ async function build(eng: ApiAgent, siteCode: 'FHR' | 'SMP'): Promise<Built> {
 
 function instrumentBody(processId: number, tag: string) {
   return {
-    processId, tag, measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650, designHigh: 900,
-    burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
+    processId,
+    tag,
+    measuredVariable: 'temperature',
+    unit: '°C',
+    rangeLow: 0,
+    rangeHigh: 1200,
+    normalLow: 300,
+    normalHigh: 650,
+    designHigh: 900,
+    burnout: 'upscale',
+    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+    deviceKind: 'limit_controller',
   }
 }
 
 function limitBody(processId: number, instrumentId: number, tag: string) {
-  return { processId, instrumentIds: [instrumentId], tag, direction: 'high', limitClass: 'trip', setpoint: 780, deadband: 5, severity: 'severe', testIntervalMonths: 12, latching: true, resetRole: 'operator' }
+  return {
+    processId,
+    instrumentIds: [instrumentId],
+    tag,
+    direction: 'high',
+    limitClass: 'trip',
+    setpoint: 780,
+    deadband: 5,
+    severity: 'severe',
+    testIntervalMonths: 12,
+    latching: true,
+    resetRole: 'operator',
+  }
 }
 
 /** Everything a register write would change. */
 async function snapshot() {
   const count = async (t: 'process' | 'instrument' | 'limit_function' | 'limit_revision' | 'instrument_revision') =>
-    Number((await ctx.db.selectFrom(t).select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
-  const audit = await ctx.db.selectFrom('audit_event').select((eb) => eb.fn.countAll<number>().as('n')).where('action', 'not like', 'session.%').executeTakeFirstOrThrow()
-  const limits = await ctx.db.selectFrom('limit_function').select(['id', 'revision', 'setpoint', 'status']).orderBy('id').execute()
-  const instruments = await ctx.db.selectFrom('instrument').select(['id', 'revision', 'range_high']).orderBy('id').execute()
+    Number(
+      (
+        await ctx.db
+          .selectFrom(t)
+          .select((eb) => eb.fn.countAll<number>().as('n'))
+          .executeTakeFirstOrThrow()
+      ).n,
+    )
+  const audit = await ctx.db
+    .selectFrom('audit_event')
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .where('action', 'not like', 'session.%')
+    .executeTakeFirstOrThrow()
+  const limits = await ctx.db
+    .selectFrom('limit_function')
+    .select(['id', 'revision', 'setpoint', 'status'])
+    .orderBy('id')
+    .execute()
+  const instruments = await ctx.db
+    .selectFrom('instrument')
+    .select(['id', 'revision', 'range_high'])
+    .orderBy('id')
+    .execute()
   const processes = await ctx.db.selectFrom('process').select(['id', 'name']).orderBy('id').execute()
   return {
-    processes: await count('process'), instruments: await count('instrument'), limits: await count('limit_function'),
-    limitRevisions: await count('limit_revision'), instrumentRevisions: await count('instrument_revision'), audit: Number(audit.n),
+    processes: await count('process'),
+    instruments: await count('instrument'),
+    limits: await count('limit_function'),
+    limitRevisions: await count('limit_revision'),
+    instrumentRevisions: await count('instrument_revision'),
+    audit: Number(audit.n),
     rows: { limits, instruments, processes },
   }
 }
@@ -68,8 +123,14 @@ beforeAll(async () => {
 describe('register: create, edit and delete by role', () => {
   it('lets the safety engineer create a process, an instrument and a draft limit, edit them and delete the draft', async () => {
     const eng = agents.engineer
-    const proc = (await eng.post('/api/processes', { areaId: fhr.areaId, name: 'Roles test reboiler E-7', description: 'kettle' }).expect(201)).body
-    expect((await eng.patch(`/api/processes/${proc.id}`, { description: 'kettle reboiler' }).expect(200)).body.description).toBe('kettle reboiler')
+    const proc = (
+      await eng
+        .post('/api/processes', { areaId: fhr.areaId, name: 'Roles test reboiler E-7', description: 'kettle' })
+        .expect(201)
+    ).body
+    expect(
+      (await eng.patch(`/api/processes/${proc.id}`, { description: 'kettle reboiler' }).expect(200)).body.description,
+    ).toBe('kettle reboiler')
     const inst = (await eng.post('/api/instruments', instrumentBody(proc.id, 'TT-R-E7')).expect(201)).body
     expect((await eng.patch(`/api/instruments/${inst.id}`, { rangeHigh: 1250 }).expect(200)).body.rangeHigh).toBe(1250)
     const limit = (await eng.post('/api/limits', limitBody(proc.id, inst.id, 'TSHH-R-E7')).expect(201)).body
@@ -85,7 +146,10 @@ describe('register: create, edit and delete by role', () => {
       const a = agents[who]
       const before = await snapshot()
       const calls: [string, () => ReturnType<ApiAgent['get']>][] = [
-        ['create a process', () => a.post('/api/processes', { areaId: fhr.areaId, name: `Forbidden process ${who}`, description: '' })],
+        [
+          'create a process',
+          () => a.post('/api/processes', { areaId: fhr.areaId, name: `Forbidden process ${who}`, description: '' }),
+        ],
         ['edit a process', () => a.patch(`/api/processes/${fhr.processId}`, { description: `changed by ${who}` })],
         ['create an instrument', () => a.post('/api/instruments', instrumentBody(fhr.processId, `TT-X-${who}`))],
         ['edit an instrument', () => a.patch(`/api/instruments/${fhr.instrumentId}`, { rangeHigh: 1300 })],
@@ -114,7 +178,9 @@ describe('register: create, edit and delete by role', () => {
     expect(patch.body.error.code).toBe('INVALID_STATE')
     expect((await eng.delete(`/api/limits/${built.limitId}`).expect(409)).body.error.code).toBe('INVALID_STATE')
     // an instrument behind an active limit changes through a change request too
-    expect((await eng.patch(`/api/instruments/${built.instrumentId}`, { rangeHigh: 1300 }).expect(409)).body.error.code).toBe('INVALID_STATE')
+    expect(
+      (await eng.patch(`/api/instruments/${built.instrumentId}`, { rangeHigh: 1300 }).expect(409)).body.error.code,
+    ).toBe('INVALID_STATE')
     expect(await snapshot()).toEqual(before)
   })
 
@@ -132,7 +198,10 @@ describe('register: reading by role and site', () => {
       const a = agents[who]
       const list = (await a.get(`/api/limits?processId=${fhr.processId}`).expect(200)).body
       expect(list.items.map((l: { id: number }) => l.id)).toEqual([fhr.limitId])
-      expect((await a.get(`/api/limits/${fhr.limitId}`).expect(200)).body.operatingWindow).toEqual({ errors: [], warnings: expect.any(Array) })
+      expect((await a.get(`/api/limits/${fhr.limitId}`).expect(200)).body.operatingWindow).toEqual({
+        errors: [],
+        warnings: expect.any(Array),
+      })
       expect((await a.get(`/api/instruments/${fhr.instrumentId}`).expect(200)).body.id).toBe(fhr.instrumentId)
       expect((await a.get(`/api/processes/${fhr.processId}`).expect(200)).body.id).toBe(fhr.processId)
     })
@@ -156,7 +225,8 @@ describe('register: reading by role and site', () => {
   }
 
   it('shows a user with roles at both sites the SMP limit', async () => {
-    const list = (await agents.auditor.get(`/api/limits?siteId=${smp.siteId}&processId=${smp.processId}`).expect(200)).body
+    const list = (await agents.auditor.get(`/api/limits?siteId=${smp.siteId}&processId=${smp.processId}`).expect(200))
+      .body
     expect(list.items.map((l: { id: number }) => l.id)).toEqual([smp.limitId])
   })
 })

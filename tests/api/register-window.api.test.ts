@@ -9,7 +9,11 @@ const ctx = useTestDb()
 // Every operating-window rule of shared/domain/operating-window.ts (table in docs/domain/operating-window.md), passing
 // and failing through the API. The site policy is the default: trip-test tolerance ±0.5 % of span (DOMAIN.md §6).
 
-interface Finding { code: string, field?: string, message: string }
+interface Finding {
+  code: string
+  field?: string
+  message: string
+}
 
 let app: Express
 let eng: ApiAgent
@@ -18,17 +22,39 @@ let seq = 0
 
 /** A 0–1000 °C thermocouple instrument, normal 300–650; `over` changes any field. */
 async function instrument(over: Record<string, unknown> = {}): Promise<{ id: number }> {
-  return (await eng.post('/api/instruments', {
-    processId, tag: `TT-W${++seq}`, measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1000, normalLow: 300, normalHigh: 650,
-    burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller', ...over,
-  }).expect(201)).body
+  return (
+    await eng
+      .post('/api/instruments', {
+        processId,
+        tag: `TT-W${++seq}`,
+        measuredVariable: 'temperature',
+        unit: '°C',
+        rangeLow: 0,
+        rangeHigh: 1000,
+        normalLow: 300,
+        normalHigh: 650,
+        burnout: 'upscale',
+        signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+        deviceKind: 'limit_controller',
+        ...over,
+      })
+      .expect(201)
+  ).body
 }
 
 /** A high trip at 800 °C on the instrument; `over` changes any field. */
 function limit(instrumentId: number, over: Record<string, unknown> = {}) {
   return eng.post('/api/limits', {
-    processId, instrumentIds: [instrumentId], tag: `TSHH-W${++seq}`, direction: 'high', limitClass: 'trip', setpoint: 800, deadband: 0,
-    severity: 'major', testIntervalMonths: 12, ...over,
+    processId,
+    instrumentIds: [instrumentId],
+    tag: `TSHH-W${++seq}`,
+    direction: 'high',
+    limitClass: 'trip',
+    setpoint: 800,
+    deadband: 0,
+    severity: 'major',
+    testIntervalMonths: 12,
+    ...over,
   })
 }
 
@@ -36,9 +62,26 @@ const alarm = { limitClass: 'alarm', responseTimeMin: 10, severity: 'major' }
 // a low trip on an upscale-burnout sensor warns (rule 8): tests of other rules on low trips record a bad-value trip
 
 async function counts() {
-  const n = async (t: 'limit_function' | 'limit_revision' | 'instrument_revision') => Number((await ctx.db.selectFrom(t).select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
-  const audit = await ctx.db.selectFrom('audit_event').select((eb) => eb.fn.countAll<number>().as('n')).where('action', 'not like', 'session.%').executeTakeFirstOrThrow()
-  return { limits: await n('limit_function'), limitRevisions: await n('limit_revision'), instrumentRevisions: await n('instrument_revision'), audit: Number(audit.n) }
+  const n = async (t: 'limit_function' | 'limit_revision' | 'instrument_revision') =>
+    Number(
+      (
+        await ctx.db
+          .selectFrom(t)
+          .select((eb) => eb.fn.countAll<number>().as('n'))
+          .executeTakeFirstOrThrow()
+      ).n,
+    )
+  const audit = await ctx.db
+    .selectFrom('audit_event')
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .where('action', 'not like', 'session.%')
+    .executeTakeFirstOrThrow()
+  return {
+    limits: await n('limit_function'),
+    limitRevisions: await n('limit_revision'),
+    instrumentRevisions: await n('instrument_revision'),
+    audit: Number(audit.n),
+  }
 }
 
 /** Saves a limit that must pass the rule; answers its stored warnings' codes. */
@@ -65,18 +108,31 @@ async function blocked(instrumentId: number, over: Record<string, unknown>, code
 beforeAll(async () => {
   app = createApp(ctx)
   eng = await signedIn(app, 'engineer')
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]
+  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const fhr = sites.find((s) => s.code === 'FHR')!.id
-  const area = (await eng.get(`/api/areas?siteId=${fhr}`).expect(200)).body.items.find((a: { name: string }) => a.name === 'Utilities')
-  processId = (await eng.post('/api/processes', { areaId: area.id, name: 'Window test heater H-W', description: '' }).expect(201)).body.id
+  const area = (await eng.get(`/api/areas?siteId=${fhr}`).expect(200)).body.items.find(
+    (a: { name: string }) => a.name === 'Utilities',
+  )
+  processId = (
+    await eng.post('/api/processes', { areaId: area.id, name: 'Window test heater H-W', description: '' }).expect(201)
+  ).body.id
 })
 
 describe('operating window through the API: errors block saving (422), warnings are stored', () => {
   it('rule 0: an empty measuring range is refused at the instrument already (400), before any limit can use it', async () => {
-    const res = await eng.post('/api/instruments', {
-      processId, tag: 'TT-W-EMPTY', measuredVariable: 'temperature', unit: '°C', rangeLow: 500, rangeHigh: 500, burnout: 'upscale',
-      signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
-    }).expect(400)
+    const res = await eng
+      .post('/api/instruments', {
+        processId,
+        tag: 'TT-W-EMPTY',
+        measuredVariable: 'temperature',
+        unit: '°C',
+        rangeLow: 500,
+        rangeHigh: 500,
+        burnout: 'upscale',
+        signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+        deviceKind: 'limit_controller',
+      })
+      .expect(400)
     expect(res.body.error.details.fields.rangeHigh).toBeDefined()
     const ok = await instrument({ rangeLow: 500, rangeHigh: 500.1, normalLow: null, normalHigh: null })
     await passes(ok.id, { setpoint: 500.05 })
@@ -97,7 +153,9 @@ describe('operating window through the API: errors block saving (422), warnings 
     expect(await passes(i.id, { setpoint: 945.5 })).toEqual(['SETPOINT_NEAR_RANGE_END'])
     const low = await instrument({ normalLow: 300 })
     expect(await passes(low.id, { direction: 'low', setpoint: 55, badValueTrip: true })).toEqual([])
-    expect(await passes(low.id, { direction: 'low', setpoint: 54.5, badValueTrip: true })).toEqual(['SETPOINT_NEAR_RANGE_END'])
+    expect(await passes(low.id, { direction: 'low', setpoint: 54.5, badValueTrip: true })).toEqual([
+      'SETPOINT_NEAR_RANGE_END',
+    ])
   })
 
   it('rule 3a SETPOINT_NOT_BEYOND_NORMAL (window nesting): a high limit at normal high is refused, just above passes', async () => {
@@ -154,14 +212,32 @@ describe('operating window through the API: errors block saving (422), warnings 
     const f = await blocked(i.id, { setpoint: 810, analyticalLimit: 814.9 }, 'TRIP_TOLERANCE_BEYOND_ANALYTICAL')
     expect(f.message).toMatch(/815 exceeds the analytical limit 814.9/)
     const low = await instrument()
-    expect(await passes(low.id, { direction: 'low', setpoint: 200, analyticalLimit: 195, badValueTrip: true })).toEqual([])
-    await blocked(low.id, { direction: 'low', setpoint: 210, analyticalLimit: 205.1 }, 'TRIP_TOLERANCE_BEYOND_ANALYTICAL')
+    expect(await passes(low.id, { direction: 'low', setpoint: 200, analyticalLimit: 195, badValueTrip: true })).toEqual(
+      [],
+    )
+    await blocked(
+      low.id,
+      { direction: 'low', setpoint: 210, analyticalLimit: 205.1 },
+      'TRIP_TOLERANCE_BEYOND_ANALYTICAL',
+    )
   })
 
   it('rule 7 RESPONSE_EXCEEDS_SAFETY_TIME (IEC 61511 process safety time): on-delay + response time equal to the safety time passes, more is refused', async () => {
     const i = await instrument()
-    expect(await passes(i.id, { ...alarm, setpoint: 700, onDelaySec: 2, requiredResponseTimeSec: 8, processSafetyTimeSec: 10 })).toEqual([])
-    const f = await blocked(i.id, { setpoint: 800, requiredResponseTimeSec: 10.5, processSafetyTimeSec: 10 }, 'RESPONSE_EXCEEDS_SAFETY_TIME')
+    expect(
+      await passes(i.id, {
+        ...alarm,
+        setpoint: 700,
+        onDelaySec: 2,
+        requiredResponseTimeSec: 8,
+        processSafetyTimeSec: 10,
+      }),
+    ).toEqual([])
+    const f = await blocked(
+      i.id,
+      { setpoint: 800, requiredResponseTimeSec: 10.5, processSafetyTimeSec: 10 },
+      'RESPONSE_EXCEEDS_SAFETY_TIME',
+    )
     expect(f.field).toBe('requiredResponseTimeSec')
   })
 
@@ -192,13 +268,20 @@ describe('operating window through the API: errors block saving (422), warnings 
 
   it('priority matrix (site policy, common practice after ISA-18.2): the "no alarm" cell blocks an alarm; one minute less gets a priority', async () => {
     const i = await instrument()
-    const f = await blocked(i.id, { ...alarm, severity: 'severe', responseTimeMin: 30, setpoint: 700 }, 'PRIORITY_NO_ALARM')
+    const f = await blocked(
+      i.id,
+      { ...alarm, severity: 'severe', responseTimeMin: 30, setpoint: 700 },
+      'PRIORITY_NO_ALARM',
+    )
     expect(f.field).toBe('responseTimeMin')
-    const ok = (await limit(i.id, { ...alarm, severity: 'severe', responseTimeMin: 29, setpoint: 700 }).expect(201)).body
+    const ok = (await limit(i.id, { ...alarm, severity: 'severe', responseTimeMin: 29, setpoint: 700 }).expect(201))
+      .body
     expect(ok.priority).toBe('high')
     expect(ok.priorityExplanation).toMatch(/severe/)
     // a trip acts by itself: the same cell does not block it
-    expect((await limit(i.id, { severity: 'severe', responseTimeMin: 30, setpoint: 800 }).expect(201)).body.priority).toBeNull()
+    expect(
+      (await limit(i.id, { severity: 'severe', responseTimeMin: 30, setpoint: 800 }).expect(201)).body.priority,
+    ).toBeNull()
   })
 })
 
@@ -207,13 +290,14 @@ describe('stored window results', () => {
     const i = await instrument({ designHigh: 820 })
     const warned = (await limit(i.id, { setpoint: 820 }).expect(201)).body
     const clean = (await limit(i.id, { ...alarm, setpoint: 700 }).expect(201)).body
-    const ids = async (q: string) => (await eng.get(`/api/limits?instrumentId=${i.id}&${q}`).expect(200)).body.items.map((l: { id: number }) => l.id)
+    const ids = async (q: string) =>
+      (await eng.get(`/api/limits?instrumentId=${i.id}&${q}`).expect(200)).body.items.map((l: { id: number }) => l.id)
     expect(await ids('hasWarnings=true')).toEqual([warned.id])
     expect(await ids('hasWarnings=false')).toEqual([clean.id])
     expect(await ids('hasErrors=true')).toEqual([])
   })
 
-  it('recomputes the stored warnings of an instrument\'s limits in the same change, and refuses a change that would give one an error', async () => {
+  it("recomputes the stored warnings of an instrument's limits in the same change, and refuses a change that would give one an error", async () => {
     const i = await instrument()
     const l = (await limit(i.id, { setpoint: 946 }).expect(201)).body
     expect(l.operatingWindow.warnings.map((w: Finding) => w.code)).toEqual(['SETPOINT_NEAR_RANGE_END'])
@@ -223,7 +307,9 @@ describe('stored window results', () => {
     expect((await eng.get(`/api/limits?instrumentId=${i.id}&hasWarnings=true`).expect(200)).body.items).toEqual([])
 
     await eng.patch(`/api/instruments/${i.id}`, { burnout: 'downscale' }).expect(200)
-    expect((await eng.get(`/api/limits/${l.id}`).expect(200)).body.operatingWindow.warnings.map((w: Finding) => w.code)).toEqual(['BURNOUT_AWAY_FROM_TRIP'])
+    expect(
+      (await eng.get(`/api/limits/${l.id}`).expect(200)).body.operatingWindow.warnings.map((w: Finding) => w.code),
+    ).toEqual(['BURNOUT_AWAY_FROM_TRIP'])
 
     const before = await counts()
     const instrumentBefore = (await eng.get(`/api/instruments/${i.id}`).expect(200)).body
@@ -240,7 +326,9 @@ describe('stored window results', () => {
     const l = (await limit(i.id, { setpoint: 800 }).expect(201)).body
     const before = await counts()
     const res = await eng.patch(`/api/limits/${l.id}`, { setpoint: 600 }).expect(422)
-    expect(res.body.error.details.operatingWindow.errors.map((e: Finding) => e.code)).toContain('SETPOINT_NOT_BEYOND_NORMAL')
+    expect(res.body.error.details.operatingWindow.errors.map((e: Finding) => e.code)).toContain(
+      'SETPOINT_NOT_BEYOND_NORMAL',
+    )
     expect(await counts()).toEqual(before)
     expect((await eng.get(`/api/limits/${l.id}`).expect(200)).body).toMatchObject({ setpoint: 800, revision: 1 })
   })

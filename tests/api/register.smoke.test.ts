@@ -10,14 +10,45 @@ describe('register: a limit from process to operating window', () => {
     const app = createApp(ctx)
     const eng = await signedIn(app, 'engineer')
     const area = (await eng.get('/api/areas').expect(200)).body.items[0]
-    const proc = (await eng.post('/api/processes', { areaId: area.id, name: 'Test heater H-900', description: 'fired heater' }).expect(201)).body
-    const inst = (await eng.post('/api/instruments', {
-      processId: proc.id, tag: 'TT-9001', measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650,
-      designLow: null, designHigh: 900, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
-    }).expect(201)).body
-    const base = { processId: proc.id, instrumentIds: [inst.id], direction: 'high', limitClass: 'trip', deadband: 5, severity: 'severe', testIntervalMonths: 12, latching: true, resetRole: 'operator' }
+    const proc = (
+      await eng
+        .post('/api/processes', { areaId: area.id, name: 'Test heater H-900', description: 'fired heater' })
+        .expect(201)
+    ).body
+    const inst = (
+      await eng
+        .post('/api/instruments', {
+          processId: proc.id,
+          tag: 'TT-9001',
+          measuredVariable: 'temperature',
+          unit: '°C',
+          rangeLow: 0,
+          rangeHigh: 1200,
+          normalLow: 300,
+          normalHigh: 650,
+          designLow: null,
+          designHigh: 900,
+          burnout: 'upscale',
+          signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+          deviceKind: 'limit_controller',
+        })
+        .expect(201)
+    ).body
+    const base = {
+      processId: proc.id,
+      instrumentIds: [inst.id],
+      direction: 'high',
+      limitClass: 'trip',
+      deadband: 5,
+      severity: 'severe',
+      testIntervalMonths: 12,
+      latching: true,
+      resetRole: 'operator',
+    }
     const bad = await eng.post('/api/limits', { ...base, tag: 'TSHH-9001', setpoint: 600 }).expect(422)
-    expect(bad.body.error.details.operatingWindow.errors.map((e: { code: string }) => e.code)).toContain('SETPOINT_NOT_BEYOND_NORMAL')
+    expect(bad.body.error.details.operatingWindow.errors.map((e: { code: string }) => e.code)).toContain(
+      'SETPOINT_NOT_BEYOND_NORMAL',
+    )
     const ok = (await eng.post('/api/limits', { ...base, tag: 'TSHH-9001', setpoint: 780 }).expect(201)).body
     expect(ok.status).toBe('proposed')
     expect(ok.operatingWindow.errors).toEqual([])

@@ -10,7 +10,7 @@ const MINUTE = 60_000
 /** The session id inside the signed `limitkeeper.sid` cookie of a response (`s:<sid>.<signature>`), or null. */
 function sidFrom(res: { headers: Record<string, unknown> }): string | null {
   const raw = res.headers['set-cookie']
-  const cookies = Array.isArray(raw) ? raw as string[] : typeof raw === 'string' ? [raw] : []
+  const cookies = Array.isArray(raw) ? (raw as string[]) : typeof raw === 'string' ? [raw] : []
   const c = cookies.find((x) => x.startsWith('limitkeeper.sid='))
   if (!c) return null
   const value = decodeURIComponent(c.split(';')[0].slice('limitkeeper.sid='.length))
@@ -32,7 +32,11 @@ describe('/api/session', () => {
     await a.delete('/api/session').expect(204)
     const after = await a.get('/api/session').expect(200)
     expect(after.body.user).toBeNull()
-    const events = await ctx.db.selectFrom('audit_event').select('action').where('action', 'like', 'session.%').execute()
+    const events = await ctx.db
+      .selectFrom('audit_event')
+      .select('action')
+      .where('action', 'like', 'session.%')
+      .execute()
     expect(events.map((e) => e.action)).toEqual(expect.arrayContaining(['session.sign_in', 'session.sign_out']))
   })
 
@@ -40,8 +44,12 @@ describe('/api/session', () => {
     const app = createApp(ctx)
     const a = new ApiAgent(app)
     await a.refreshCsrf()
-    const unknown = await a.post('/api/session', { email: 'nobody@fernhollow.example', password: 'whatever-123' }).expect(401)
-    const wrong = await a.post('/api/session', { email: 'auditor@fernhollow.example', password: 'whatever-123' }).expect(401)
+    const unknown = await a
+      .post('/api/session', { email: 'nobody@fernhollow.example', password: 'whatever-123' })
+      .expect(401)
+    const wrong = await a
+      .post('/api/session', { email: 'auditor@fernhollow.example', password: 'whatever-123' })
+      .expect(401)
     expect(unknown.body.error.message).toBe(wrong.body.error.message)
   })
 
@@ -49,7 +57,10 @@ describe('/api/session', () => {
     const app = createApp(ctx)
     const a = new ApiAgent(app)
     await a.refreshCsrf()
-    const res = await a.agent.post('/api/session').send({ email: 'engineer@fernhollow.example', password: 'limitkeeper-demo' }).expect(403)
+    const res = await a.agent
+      .post('/api/session')
+      .send({ email: 'engineer@fernhollow.example', password: 'limitkeeper-demo' })
+      .expect(403)
     expect(res.body.error.code).toBe('CSRF_INVALID')
   })
 
@@ -62,7 +73,9 @@ describe('/api/session', () => {
     expect(anonSid).toBeTruthy()
     expect(await sessionRowExists(anonSid!)).toBe(true)
 
-    const res = await a.post('/api/session', { email: 'operator@fernhollow.example', password: 'limitkeeper-demo' }).expect(201)
+    const res = await a
+      .post('/api/session', { email: 'operator@fernhollow.example', password: 'limitkeeper-demo' })
+      .expect(201)
     const signedSid = sidFrom(res)
     expect(signedSid).toBeTruthy()
     expect(signedSid).not.toBe(anonSid)
@@ -77,7 +90,9 @@ describe('/api/session', () => {
     await a.refreshCsrf()
     const anonToken = a.csrf
     expect(anonToken).toMatch(/^[\w-]{20,}$/)
-    const res = await a.post('/api/session', { email: 'auditor@fernhollow.example', password: 'limitkeeper-demo' }).expect(201)
+    const res = await a
+      .post('/api/session', { email: 'auditor@fernhollow.example', password: 'limitkeeper-demo' })
+      .expect(201)
     expect(res.body.csrfToken).toMatch(/^[\w-]{20,}$/)
     expect(res.body.csrfToken).not.toBe(anonToken)
     expect(res.body.user.email).toBe('auditor@fernhollow.example')
@@ -135,9 +150,14 @@ describe('/api/session', () => {
   it('takes access away from a deactivated account at once, and refuses its sign-in', async () => {
     const app = createApp(ctx)
     const admin = await signedIn(app, 'admin')
-    const created = await admin.post('/api/users', {
-      email: 'leaver@fernhollow.example', displayName: 'Lena Leaver', password: 'correct-horse-battery', roles: [{ siteId: 1, role: 'operator' }],
-    }).expect(201)
+    const created = await admin
+      .post('/api/users', {
+        email: 'leaver@fernhollow.example',
+        displayName: 'Lena Leaver',
+        password: 'correct-horse-battery',
+        roles: [{ siteId: 1, role: 'operator' }],
+      })
+      .expect(201)
 
     const leaver = new ApiAgent(app)
     await leaver.signIn('leaver@fernhollow.example', 'correct-horse-battery')
@@ -151,7 +171,9 @@ describe('/api/session', () => {
 
     const again = new ApiAgent(app)
     await again.refreshCsrf()
-    const refused = await again.post('/api/session', { email: 'leaver@fernhollow.example', password: 'correct-horse-battery' }).expect(401)
+    const refused = await again
+      .post('/api/session', { email: 'leaver@fernhollow.example', password: 'correct-horse-battery' })
+      .expect(401)
     expect(refused.body.error.code).toBe('INVALID_CREDENTIALS')
   })
 })

@@ -10,19 +10,27 @@ import { afterAll, describe, expect, it } from 'vitest'
 
 const run = promisify(execFile)
 const dirs: string[] = []
-afterAll(async () => { for (const d of dirs) await rm(d, { recursive: true, force: true }) })
+afterAll(async () => {
+  for (const d of dirs) await rm(d, { recursive: true, force: true })
+})
 
 function freePort(): Promise<number> {
   return new Promise((resolve, reject) => {
     const s = net.createServer()
     s.once('error', reject)
-    s.listen(0, '127.0.0.1', () => { const { port } = s.address() as net.AddressInfo; s.close(() => resolve(port)) })
+    s.listen(0, '127.0.0.1', () => {
+      const { port } = s.address() as net.AddressInfo
+      s.close(() => resolve(port))
+    })
   })
 }
 
 /** Starts `server/start.ts` and resolves with its URL once it prints that it is ready (or rejects with its output). */
-function start(env: Record<string, string>): Promise<{ child: ChildProcess, url: string, output: () => string }> {
-  const child = spawn(process.execPath, ['--import', 'tsx', 'server/start.ts', '--no-build'], { env: { ...process.env, ...env }, stdio: ['ignore', 'pipe', 'pipe'] })
+function start(env: Record<string, string>): Promise<{ child: ChildProcess; url: string; output: () => string }> {
+  const child = spawn(process.execPath, ['--import', 'tsx', 'server/start.ts', '--no-build'], {
+    env: { ...process.env, ...env },
+    stdio: ['ignore', 'pipe', 'pipe'],
+  })
   let out = ''
   return new Promise((resolve, reject) => {
     const onData = (b: Buffer) => {
@@ -37,7 +45,10 @@ function start(env: Record<string, string>): Promise<{ child: ChildProcess, url:
 }
 
 function stopped(child: ChildProcess): Promise<number | null> {
-  return new Promise((resolve) => { if (child.exitCode !== null) resolve(child.exitCode); else child.on('exit', (code) => resolve(code)) })
+  return new Promise((resolve) => {
+    if (child.exitCode !== null) resolve(child.exitCode)
+    else child.on('exit', (code) => resolve(code))
+  })
 }
 
 async function postgresRunning(pgDir: string): Promise<boolean> {
@@ -52,7 +63,15 @@ describe('npm start', () => {
     await run('chmod', ['755', dir])
     const pgDir = path.join(dir, 'pg')
     // empty DATABASE_URL: the local cluster path, as on a fresh clone
-    const env = { PG_DIR: pgDir, PGPORT: String(await freePort()), PORT: '0', SMTP_PORT: '0', NODE_ENV: 'development', DATABASE_URL: '', MIGRATION_DATABASE_URL: '' }
+    const env = {
+      PG_DIR: pgDir,
+      PGPORT: String(await freePort()),
+      PORT: '0',
+      SMTP_PORT: '0',
+      NODE_ENV: 'development',
+      DATABASE_URL: '',
+      MIGRATION_DATABASE_URL: '',
+    }
     const first = await start(env)
     expect(first.output()).toContain('Demo plant seeded.')
     const health = await fetch(`${first.url}/api/health`)
@@ -78,11 +97,26 @@ describe('npm start', () => {
     const blocker = net.createServer()
     await new Promise<void>((resolve) => blocker.listen(0, '127.0.0.1', () => resolve()))
     const port = (blocker.address() as net.AddressInfo).port
-    const child = spawn(process.execPath, ['--import', 'tsx', 'server/start.ts', '--no-build'],
-      { env: { ...process.env, PG_DIR: path.join(dir, 'pg'), PGPORT: String(port), PORT: '0', SMTP_PORT: '0', NODE_ENV: 'development', DATABASE_URL: '', MIGRATION_DATABASE_URL: '' }, stdio: ['ignore', 'pipe', 'pipe'] })
+    const child = spawn(process.execPath, ['--import', 'tsx', 'server/start.ts', '--no-build'], {
+      env: {
+        ...process.env,
+        PG_DIR: path.join(dir, 'pg'),
+        PGPORT: String(port),
+        PORT: '0',
+        SMTP_PORT: '0',
+        NODE_ENV: 'development',
+        DATABASE_URL: '',
+        MIGRATION_DATABASE_URL: '',
+      },
+      stdio: ['ignore', 'pipe', 'pipe'],
+    })
     let out = ''
-    child.stdout!.on('data', (b: Buffer) => { out += b.toString() })
-    child.stderr!.on('data', (b: Buffer) => { out += b.toString() })
+    child.stdout!.on('data', (b: Buffer) => {
+      out += b.toString()
+    })
+    child.stderr!.on('data', (b: Buffer) => {
+      out += b.toString()
+    })
     const code = await stopped(child)
     blocker.close()
     expect(code).not.toBe(0)

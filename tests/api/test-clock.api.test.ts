@@ -7,7 +7,7 @@ import { useTestDb } from './helpers/test-db.ts'
 const ctx = useTestDb()
 
 describe('POST /api/test/clock', () => {
-  it('moves the server\'s clock when NODE_ENV=test', async () => {
+  it("moves the server's clock when NODE_ENV=test", async () => {
     const app = createApp(ctx)
     const a = new ApiAgent(app)
     await a.refreshCsrf()
@@ -25,8 +25,14 @@ describe('POST /api/test/clock', () => {
     // with an offset too, and what the server stamps follows it (the sign-in audit event)
     await a.post('/api/test/clock', { now: '2031-02-03T06:05:06.789+02:00' }).expect(200)
     const { user } = await a.signIn('auditor@fernhollow.example')
-    const ev = await ctx.db.selectFrom('audit_event').select('occurred_at').where('action', '=', 'session.sign_in').where('actor_id', '=', user.id)
-      .orderBy('id', 'desc').limit(1).executeTakeFirstOrThrow()
+    const ev = await ctx.db
+      .selectFrom('audit_event')
+      .select('occurred_at')
+      .where('action', '=', 'session.sign_in')
+      .where('actor_id', '=', user.id)
+      .orderBy('id', 'desc')
+      .limit(1)
+      .executeTakeFirstOrThrow()
     expect(ev.occurred_at.getTime() - t).toBeGreaterThanOrEqual(0)
     expect(ev.occurred_at.getTime() - t).toBeLessThan(60_000)
   })
@@ -47,7 +53,10 @@ describe('POST /api/test/clock', () => {
 
   it.each(['development', 'production'] as const)('does not exist when NODE_ENV=%s', async (nodeEnv) => {
     const config = loadConfig({
-      NODE_ENV: nodeEnv, DATABASE_URL: ctx.database.appUrl, SESSION_SECRET: 'a-test-only-session-secret-0123456789', SMTP_PORT: '1',
+      NODE_ENV: nodeEnv,
+      DATABASE_URL: ctx.database.appUrl,
+      SESSION_SECRET: 'a-test-only-session-secret-0123456789',
+      SMTP_PORT: '1',
     })
     const app = createApp({ ...ctx, config })
     const target = '2045-06-07T08:09:10.000Z'

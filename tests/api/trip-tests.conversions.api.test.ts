@@ -17,26 +17,79 @@ let area = 0
 let n = 0
 
 /** An active high (or low) trip on an instrument with the given signal, through the API and a change request. */
-async function activeTrip(inst: Record<string, unknown>, limit: { setpoint: number, direction?: 'high' | 'low', deadband?: number }) {
+async function activeTrip(
+  inst: Record<string, unknown>,
+  limit: { setpoint: number; direction?: 'high' | 'low'; deadband?: number },
+) {
   n += 1
-  const proc = (await eng.post('/api/processes', { areaId: area, name: `Conversion check ${n}`, description: '' }).expect(201)).body
-  const instrument = (await eng.post('/api/instruments', {
-    processId: proc.id, tag: `CONV-${n}`, burnout: 'none', deviceKind: 'safety_plc', normalLow: null, normalHigh: null, designLow: null, designHigh: null, ...inst,
-  }).expect(201)).body
-  const created = (await eng.post('/api/limits', {
-    processId: proc.id, instrumentIds: [instrument.id], tag: `CONV-TRIP-${n}`, direction: limit.direction ?? 'high', limitClass: 'trip', setpoint: limit.setpoint,
-    deadband: limit.deadband ?? 1, severity: 'major', testIntervalMonths: 12, latching: false, compensatingMeasures: ['Local reading'],
-  }).expect(201)).body
+  const proc = (
+    await eng.post('/api/processes', { areaId: area, name: `Conversion check ${n}`, description: '' }).expect(201)
+  ).body
+  const instrument = (
+    await eng
+      .post('/api/instruments', {
+        processId: proc.id,
+        tag: `CONV-${n}`,
+        burnout: 'none',
+        deviceKind: 'safety_plc',
+        normalLow: null,
+        normalHigh: null,
+        designLow: null,
+        designHigh: null,
+        ...inst,
+      })
+      .expect(201)
+  ).body
+  const created = (
+    await eng
+      .post('/api/limits', {
+        processId: proc.id,
+        instrumentIds: [instrument.id],
+        tag: `CONV-TRIP-${n}`,
+        direction: limit.direction ?? 'high',
+        limitClass: 'trip',
+        setpoint: limit.setpoint,
+        deadband: limit.deadband ?? 1,
+        severity: 'major',
+        testIntervalMonths: 12,
+        latching: false,
+        compensatingMeasures: ['Local reading'],
+      })
+      .expect(201)
+  ).body
   await activateLimit({ eng, approver, tech }, created)
   return created.id as number
 }
 
 /** Records a test whose as-found is given in signal units; answers the record (nothing is signed). */
-async function asFoundFrom(limitId: number, value: number, unit: 'mA' | 'mV' | 'ohm' | 'V', extra: Record<string, unknown> = {}) {
-  return (await tech.post('/api/trip-tests', {
-    limitId, kind: 'full', method: 'injection', injectionPoint: 'sensor', calibratorId: 'CAL-3', calibratorDueDate: '2026-12-31',
-    performedAt: '2026-05-04T08:00:00Z', asFoundSignal: { value, unit }, finalElementOk: true, ...extra,
-  }).expect(201)).body as { asFound: number, asFoundResult: string, asFoundSignal: { value: number, unit: string }, toleranceEu: number, passed: boolean }
+async function asFoundFrom(
+  limitId: number,
+  value: number,
+  unit: 'mA' | 'mV' | 'ohm' | 'V',
+  extra: Record<string, unknown> = {},
+) {
+  return (
+    await tech
+      .post('/api/trip-tests', {
+        limitId,
+        kind: 'full',
+        method: 'injection',
+        injectionPoint: 'sensor',
+        calibratorId: 'CAL-3',
+        calibratorDueDate: '2026-12-31',
+        performedAt: '2026-05-04T08:00:00Z',
+        asFoundSignal: { value, unit },
+        finalElementOk: true,
+        ...extra,
+      })
+      .expect(201)
+  ).body as {
+    asFound: number
+    asFoundResult: string
+    asFoundSignal: { value: number; unit: string }
+    toleranceEu: number
+    passed: boolean
+  }
 }
 
 beforeAll(async () => {
@@ -45,14 +98,18 @@ beforeAll(async () => {
   eng = await signedIn(app, 'engineer')
   approver = await signedIn(app, 'approver')
   tech = await signedIn(app, 'technician')
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]
+  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const fhr = sites.find((s) => s.code === 'FHR')!
   area = ((await eng.get(`/api/areas?siteId=${fhr.id}`).expect(200)).body.items as { id: number }[])[0].id
 })
 
 describe('platinum RTD readings (IEC 60751, Callendar–Van Dusen; table in ../shared/reference/rtd.md)', () => {
   const pt = (element: 'Pt100' | 'Pt1000', rangeLow: number, rangeHigh: number) => ({
-    measuredVariable: 'temperature', unit: '°C', rangeLow, rangeHigh, signal: { kind: 'rtd', element, wires: 4, headTransmitter: false },
+    measuredVariable: 'temperature',
+    unit: '°C',
+    rangeLow,
+    rangeHigh,
+    signal: { kind: 'rtd', element, wires: 4, headTransmitter: false },
   })
 
   it('Pt100 at 200 °C: the test signal is 175.86 Ω and 175.8560 Ω reads back as 200.000 °C', async () => {
@@ -94,7 +151,12 @@ describe('platinum RTD readings (IEC 60751, Callendar–Van Dusen; table in ../s
 
 describe('4–20 mA readings (linear and square-root scaling; tables in ../shared/reference/analog-signals.md)', () => {
   const loop = (unit: string, rangeLow: number, rangeHigh: number, sqrtExtraction = false, variable = 'pressure') => ({
-    measuredVariable: variable, unit, rangeLow, rangeHigh, ...(variable === 'pressure' ? { pressureReference: 'gauge' } : {}), signal: { kind: 'current', sqrtExtraction },
+    measuredVariable: variable,
+    unit,
+    rangeLow,
+    rangeHigh,
+    ...(variable === 'pressure' ? { pressureReference: 'gauge' } : {}),
+    signal: { kind: 'current', sqrtExtraction },
   })
 
   it('0 … 10 bar: 5 bar is 12.000 mA (3.000 V across 250 Ω); 12.0 mA and 3.0 V both read back as 5.000 bar', async () => {
@@ -124,7 +186,10 @@ describe('4–20 mA readings (linear and square-root scaling; tables in ../share
     expect((await asFoundFrom(cold, 3.8, 'mA')).asFound).toBeCloseTo(-52.5, 6)
     expect((await asFoundFrom(cold, 20.5, 'mA')).asFound).toBeCloseTo(156.25, 6)
     // analog-signals.md inverse table: −20 on −50 … 150 → 6.400 mA
-    expect((await tech.get(`/api/limits/${cold}/test-signal`).expect(200)).body).toMatchObject({ unit: 'mA', value: 6.4 })
+    expect((await tech.get(`/api/limits/${cold}/test-signal`).expect(200)).body).toMatchObject({
+      unit: 'mA',
+      value: 6.4,
+    })
   })
 
   it('square-root extraction (DP flow): 12.00 mA is 70.711 % of maximum flow, 8.00 mA 50.000 %', async () => {
@@ -138,37 +203,90 @@ describe('4–20 mA readings (linear and square-root scaling; tables in ../share
 
   it('refuses a reading in a unit the instrument has no signal in (422), writing nothing', async () => {
     const id = await activeTrip(loop('bar', 0, 10), { setpoint: 5 })
-    const before = Number((await ctx.db.selectFrom('trip_test').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
-    const res = await tech.post('/api/trip-tests', {
-      limitId: id, kind: 'full', method: 'injection', injectionPoint: 'sensor', calibratorId: 'CAL-3', calibratorDueDate: '2026-12-31',
-      performedAt: '2026-05-04T08:00:00Z', asFoundSignal: { value: 100, unit: 'ohm' },
-    }).expect(422)
+    const before = Number(
+      (
+        await ctx.db
+          .selectFrom('trip_test')
+          .select((eb) => eb.fn.countAll<number>().as('n'))
+          .executeTakeFirstOrThrow()
+      ).n,
+    )
+    const res = await tech
+      .post('/api/trip-tests', {
+        limitId: id,
+        kind: 'full',
+        method: 'injection',
+        injectionPoint: 'sensor',
+        calibratorId: 'CAL-3',
+        calibratorDueDate: '2026-12-31',
+        performedAt: '2026-05-04T08:00:00Z',
+        asFoundSignal: { value: 100, unit: 'ohm' },
+      })
+      .expect(422)
     expect(res.body.error.details.fields.asFoundSignal).toHaveLength(1)
-    expect(Number((await ctx.db.selectFrom('trip_test').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)).toBe(before)
+    expect(
+      Number(
+        (
+          await ctx.db
+            .selectFrom('trip_test')
+            .select((eb) => eb.fn.countAll<number>().as('n'))
+            .executeTakeFirstOrThrow()
+        ).n,
+      ),
+    ).toBe(before)
   })
 })
 
 describe('thermocouple readings in millivolts (ITS-90; ../shared/reference/thermocouples.md)', () => {
   it('type K at 800 °C with the terminals at 25 °C: inject 32.275 mV; the same mV reads back as 800 °C', async () => {
-    const id = await activeTrip({ measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: true } }, { setpoint: 800, deadband: 10 })
+    const id = await activeTrip(
+      {
+        measuredVariable: 'temperature',
+        unit: '°C',
+        rangeLow: 0,
+        rangeHigh: 1200,
+        signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: true },
+      },
+      { setpoint: 800, deadband: 10 },
+    )
     // thermocouples.md type K table: E(800 °C) = 33.2754 mV, E(25 °C) = 1.0002 mV → 32.2752 mV, rounded to 0.001 mV
     await tech.get(`/api/limits/${id}/test-signal?mode=mv_source`).expect(400)
     const signal = (await tech.get(`/api/limits/${id}/test-signal?mode=mv_source&coldJunction=25`).expect(200)).body
-    expect(signal).toMatchObject({ unit: 'mV', value: 32.275, components: { emfSetpointMv: 33.2754, emfColdJunctionMv: 1.0002, coldJunctionC: 25 } })
+    expect(signal).toMatchObject({
+      unit: 'mV',
+      value: 32.275,
+      components: { emfSetpointMv: 33.2754, emfColdJunctionMv: 1.0002, coldJunctionC: 25 },
+    })
     // head transmitter, linear 0 … 1200 °C: 4 + 16·800/1200 = 14.667 mA (analog-signals.md linear formula)
-    expect(signal.alternatives).toContainEqual({ label: 'Head transmitter output (linear over the instrument range)', unit: 'mA', value: 14.667 })
+    expect(signal.alternatives).toContainEqual({
+      label: 'Head transmitter output (linear over the instrument range)',
+      unit: 'mA',
+      value: 14.667,
+    })
     // in thermocouple-simulate mode the calibrator compensates: the value is the temperature itself
-    expect((await tech.get(`/api/limits/${id}/test-signal?mode=tc_simulate`).expect(200)).body).toMatchObject({ unit: 'eu', value: 800 })
+    expect((await tech.get(`/api/limits/${id}/test-signal?mode=tc_simulate`).expect(200)).body).toMatchObject({
+      unit: 'eu',
+      value: 800,
+    })
     const t = await asFoundFrom(id, 32.2752, 'mV', { sourceMode: 'mv_source', coldJunctionC: 25 })
     // the inverse function's stated error band for type K is within ±0.06 °C (thermocouples.md, NIST SRD 60)
     expect(Math.abs(t.asFound - 800)).toBeLessThan(0.06)
     // the head transmitter's output is accepted as a reading too: 14.667 mA → 800 °C (to the mA rounding)
     expect((await asFoundFrom(id, 14.6667, 'mA')).asFound).toBeCloseTo(800, 1)
     // a millivolt reading needs the cold junction
-    const res = await tech.post('/api/trip-tests', {
-      limitId: id, kind: 'full', method: 'injection', injectionPoint: 'sensor', sourceMode: 'mv_source', calibratorId: 'CAL-3', calibratorDueDate: '2026-12-31',
-      performedAt: '2026-05-04T08:00:00Z', asFoundSignal: { value: 32.2752, unit: 'mV' },
-    }).expect(400)
+    const res = await tech
+      .post('/api/trip-tests', {
+        limitId: id,
+        kind: 'full',
+        method: 'injection',
+        injectionPoint: 'sensor',
+        sourceMode: 'mv_source',
+        calibratorId: 'CAL-3',
+        calibratorDueDate: '2026-12-31',
+        performedAt: '2026-05-04T08:00:00Z',
+        asFoundSignal: { value: 32.2752, unit: 'mV' },
+      })
+      .expect(400)
     expect(res.body.error.details.fields.coldJunctionC).toHaveLength(1)
   })
 })

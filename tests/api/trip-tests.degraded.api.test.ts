@@ -18,7 +18,13 @@ const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 let smtp: FakeSmtp
 let app: Express
-const who = { eng: 'engineer', approver: 'approver', tech: 'technician', sup: 'supervisor', operator: 'operator' } as const
+const who = {
+  eng: 'engineer',
+  approver: 'approver',
+  tech: 'technician',
+  sup: 'supervisor',
+  operator: 'operator',
+} as const
 const a = {} as Record<keyof typeof who, ApiAgent>
 
 beforeAll(async () => {
@@ -27,7 +33,9 @@ beforeAll(async () => {
   app = createApp(ctx)
   for (const k of Object.keys(who) as (keyof typeof who)[]) a[k] = await signedIn(app, who[k])
 })
-afterAll(async () => { await smtp?.close() })
+afterAll(async () => {
+  await smtp?.close()
+})
 
 /** Moves the clock; sessions end after 30 min idle on that clock, so everyone signs in again. */
 async function at(iso: string) {
@@ -42,24 +50,50 @@ async function at(iso: string) {
 async function activeHeaterTrip() {
   const { limit } = await buildHeaterTrip(a.eng)
   await activateLimit({ eng: a.eng, approver: a.approver, tech: a.tech }, limit)
-  return limit as { id: number, tag: string, siteId: number }
+  return limit as { id: number; tag: string; siteId: number }
 }
 
 /** Records a full test (tolerance ±6 °C = 0.5 % of the 1200 °C span, DOMAIN.md §6) and, unless told not to, signs it as performer. */
-async function tested(limitId: number, performedAt: string, result: Record<string, unknown>, opts: { kind?: 'full' | 'partial', sign?: boolean } = {}) {
-  const t = (await a.tech.post('/api/trip-tests', {
-    limitId, kind: opts.kind ?? 'full', method: 'injection', injectionPoint: 'sensor', sourceMode: 'tc_simulate', calibratorId: 'CAL-21',
-    calibratorDueDate: '2027-01-31', performedAt, finalElementOk: true, latchHeld: true, ...result,
-  }).expect(201)).body
+async function tested(
+  limitId: number,
+  performedAt: string,
+  result: Record<string, unknown>,
+  opts: { kind?: 'full' | 'partial'; sign?: boolean } = {},
+) {
+  const t = (
+    await a.tech
+      .post('/api/trip-tests', {
+        limitId,
+        kind: opts.kind ?? 'full',
+        method: 'injection',
+        injectionPoint: 'sensor',
+        sourceMode: 'tc_simulate',
+        calibratorId: 'CAL-21',
+        calibratorDueDate: '2027-01-31',
+        performedAt,
+        finalElementOk: true,
+        latchHeld: true,
+        ...result,
+      })
+      .expect(201)
+  ).body
   if (opts.sign === false) return t
-  return (await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)).body
+  return (await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200))
+    .body
 }
 
-const limitNow = async (id: number) => (await a.eng.get(`/api/limits/${id}`).expect(200)).body as { protectionState: string, testStatus: string, testDueDate: string | null, lastFullPass: string | null, tag: string }
+const limitNow = async (id: number) =>
+  (await a.eng.get(`/api/limits/${id}`).expect(200)).body as {
+    protectionState: string
+    testStatus: string
+    testDueDate: string | null
+    lastFullPass: string | null
+    tag: string
+  }
 const recipients = (m: ParsedMail) => (m.to && !Array.isArray(m.to) ? m.to.value.map((x) => x.address ?? '') : [])
 
 describe('the degraded state', () => {
-  it('appears when the performer signs a test that did not trip, with mail at once to the site\'s engineers and shift supervisor', async () => {
+  it("appears when the performer signs a test that did not trip, with mail at once to the site's engineers and shift supervisor", async () => {
     const limit = await activeHeaterTrip()
     expect((await limitNow(limit.id)).protectionState).toBe('in_service')
 
@@ -74,18 +108,25 @@ describe('the degraded state', () => {
     expect(degraded.protectionState).toBe('degraded')
     // a failed test is no completed full test: the limit stays never tested, with no due date
     expect(degraded).toMatchObject({ testStatus: 'never_tested', testDueDate: null, lastFullPass: null })
-    const inRegister = (await a.eng.get('/api/limits?protectionState=degraded&pageSize=200').expect(200)).body.items as { id: number }[]
+    const inRegister = (await a.eng.get('/api/limits?protectionState=degraded&pageSize=200').expect(200)).body
+      .items as { id: number }[]
     expect(inRegister.map((l) => l.id)).toContain(limit.id)
 
     const history = (await a.eng.get(`/api/limits/${limit.id}/degradation`).expect(200)).body.items
     expect(history).toHaveLength(1)
-    expect(history[0]).toMatchObject({ testId: recorded.id, clearedAt: null, compensatingMeasures: null, repairDeadline: null })
+    expect(history[0]).toMatchObject({
+      testId: recorded.id,
+      clearedAt: null,
+      compensatingMeasures: null,
+      repairDeadline: null,
+    })
     expect(history[0].reasons).toContain('It did not trip')
 
     // the outbox, delivered through the fake SMTP server (the production path)
     await createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock).runDue(ctx.clock.now())
     const subject = `DEGRADED: ${limit.tag} failed its trip test`
-    for (const r of ['engineer', 'supervisor']) await smtp.waitFor((m) => m.subject === subject && recipients(m).includes(`${r}@fernhollow.example`))
+    for (const r of ['engineer', 'supervisor'])
+      await smtp.waitFor((m) => m.subject === subject && recipients(m).includes(`${r}@fernhollow.example`))
     const mails = smtp.inbox.filter((m) => m.subject === subject)
     expect(mails.flatMap(recipients).sort()).toEqual(['engineer@fernhollow.example', 'supervisor@fernhollow.example'])
     expect(mails[0].text).toContain('It did not trip')
@@ -95,20 +136,31 @@ describe('the degraded state', () => {
   it('lets only a shift supervisor record and sign the compensating measures and repair deadline', async () => {
     const limit = await activeHeaterTrip()
     const url = `/api/limits/${limit.id}/degradation`
-    const measures = { compensatingMeasures: ['Operator reads the local indicator every 15 minutes', 'Burner firing limited to 80 %'], repairDeadline: '2026-06-12', password: PW }
+    const measures = {
+      compensatingMeasures: ['Operator reads the local indicator every 15 minutes', 'Burner firing limited to 80 %'],
+      repairDeadline: '2026-06-12',
+      password: PW,
+    }
     // not degraded yet: nothing to sign
     expect((await a.sup.post(url, measures).expect(409)).body.error.code).toBe('INVALID_STATE')
 
     await tested(limit.id, '2026-06-08T07:40:00Z', { asFound: 790 })
     for (const k of ['tech', 'operator', 'eng', 'approver'] as const) await a[k].post(url, measures).expect(403)
-    expect((await a.sup.post(url, { ...measures, password: 'wrong-password' }).expect(403)).body.error.code).toBe('SIGNATURE_INVALID')
+    expect((await a.sup.post(url, { ...measures, password: 'wrong-password' }).expect(403)).body.error.code).toBe(
+      'SIGNATURE_INVALID',
+    )
     const none = await a.sup.post(url, { ...measures, compensatingMeasures: [] }).expect(400)
     expect(none.body.error.details.fields.compensatingMeasures).toHaveLength(1)
     const unsigned = (await a.eng.get(url).expect(200)).body.items[0]
     expect(unsigned).toMatchObject({ compensatingMeasures: null, measuresSignedBy: null })
 
     const signed = (await a.sup.post(url, measures).expect(200)).body.items[0]
-    expect(signed).toMatchObject({ compensatingMeasures: measures.compensatingMeasures, repairDeadline: '2026-06-12', measuresSignedBy: 'Hedda Marlowe', clearedAt: null })
+    expect(signed).toMatchObject({
+      compensatingMeasures: measures.compensatingMeasures,
+      repairDeadline: '2026-06-12',
+      measuresSignedBy: 'Hedda Marlowe',
+      clearedAt: null,
+    })
     // the clock set by the test runs on from there
     expect(signed.measuresSignedAt.startsWith('2026-06-08T08:0')).toBe(true)
   })
@@ -117,18 +169,31 @@ describe('the degraded state', () => {
     await at('2026-06-08T08:00:00Z')
     const limit = await activeHeaterTrip()
     await tested(limit.id, '2026-06-08T07:50:00Z', { asFound: 781 })
-    expect(await limitNow(limit.id)).toMatchObject({ protectionState: 'in_service', testStatus: 'ok', lastFullPass: '2026-06-08', testDueDate: '2027-06-08' })
+    expect(await limitNow(limit.id)).toMatchObject({
+      protectionState: 'in_service',
+      testStatus: 'ok',
+      lastFullPass: '2026-06-08',
+      testDueDate: '2027-06-08',
+    })
 
     // a day later: found in tolerance but left out of it (adjusted to 795 °C): the as-left fails the test
     await at('2026-06-09T10:00:00Z')
     const failed = await tested(limit.id, '2026-06-09T09:00:00Z', { asFound: 781, asLeft: 795 })
     expect(failed).toMatchObject({ asFoundResult: 'in_tolerance', asLeftResult: 'out', passed: false })
-    expect(await limitNow(limit.id)).toMatchObject({ protectionState: 'degraded', lastFullPass: '2026-06-08', testDueDate: '2027-06-08' })
+    expect(await limitNow(limit.id)).toMatchObject({
+      protectionState: 'degraded',
+      lastFullPass: '2026-06-08',
+      testDueDate: '2027-06-08',
+    })
 
     await at('2026-06-10T10:00:00Z')
     const partial = await tested(limit.id, '2026-06-10T09:00:00Z', { asFound: 780 }, { kind: 'partial' })
     expect(partial.passed).toBe(true)
-    expect(await limitNow(limit.id)).toMatchObject({ protectionState: 'degraded', lastFullPass: '2026-06-08', testDueDate: '2027-06-08' })
+    expect(await limitNow(limit.id)).toMatchObject({
+      protectionState: 'degraded',
+      lastFullPass: '2026-06-08',
+      testDueDate: '2027-06-08',
+    })
 
     await at('2026-06-11T10:00:00Z')
     const retest = await tested(limit.id, '2026-06-11T09:00:00Z', { asFound: 782, asLeft: 780 }, { sign: false })
@@ -136,7 +201,12 @@ describe('the degraded state', () => {
     expect((await limitNow(limit.id)).protectionState).toBe('degraded')
     await a.tech.post(`/api/trip-tests/${retest.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
     // due date = date of the passing retest + 12 months (DOMAIN.md §5)
-    expect(await limitNow(limit.id)).toMatchObject({ protectionState: 'in_service', testStatus: 'ok', lastFullPass: '2026-06-11', testDueDate: '2027-06-11' })
+    expect(await limitNow(limit.id)).toMatchObject({
+      protectionState: 'in_service',
+      testStatus: 'ok',
+      lastFullPass: '2026-06-11',
+      testDueDate: '2027-06-11',
+    })
     const history = (await a.eng.get(`/api/limits/${limit.id}/degradation`).expect(200)).body.items
     expect(history[0]).toMatchObject({ testId: failed.id, clearedByTestId: retest.id })
     expect(history[0].clearedAt.startsWith('2026-06-11T10:0')).toBe(true)
@@ -151,10 +221,18 @@ describe('the degraded state', () => {
     const leftAsFound = await tested(limit.id, '2026-06-12T09:10:00Z', { asFound: 770 }, { sign: false })
     expect(leftAsFound).toMatchObject({ asFoundResult: 'out_safe', asLeftResult: 'out', passed: false })
     // 773.9 is 6.1 °C below: safe side; 774 is exactly at the band's edge: in tolerance
-    expect((await tested(limit.id, '2026-06-12T09:20:00Z', { asFound: 774 }, { sign: false })).asFoundResult).toBe('in_tolerance')
-    expect((await tested(limit.id, '2026-06-12T09:30:00Z', { asFound: 773.9, asLeft: 780 }, { sign: false })).asFoundResult).toBe('out_safe')
-    expect((await tested(limit.id, '2026-06-12T09:40:00Z', { asFound: 786.1, asLeft: 780 }, { sign: false })).asFoundResult).toBe('out_dangerous')
+    expect((await tested(limit.id, '2026-06-12T09:20:00Z', { asFound: 774 }, { sign: false })).asFoundResult).toBe(
+      'in_tolerance',
+    )
+    expect(
+      (await tested(limit.id, '2026-06-12T09:30:00Z', { asFound: 773.9, asLeft: 780 }, { sign: false })).asFoundResult,
+    ).toBe('out_safe')
+    expect(
+      (await tested(limit.id, '2026-06-12T09:40:00Z', { asFound: 786.1, asLeft: 780 }, { sign: false })).asFoundResult,
+    ).toBe('out_dangerous')
     // the final element must act
-    expect((await tested(limit.id, '2026-06-12T09:50:00Z', { asFound: 780, finalElementOk: false }, { sign: false })).passed).toBe(false)
+    expect(
+      (await tested(limit.id, '2026-06-12T09:50:00Z', { asFound: 780, finalElementOk: false }, { sign: false })).passed,
+    ).toBe(false)
   })
 })

@@ -21,15 +21,30 @@ describe('trip tests: a failed test degrades the limit until a full retest passe
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.testStatus).toBe('never_tested')
 
     // tolerance: default ±0.5 % of the 0–1200 °C span = ±6 °C (DOMAIN.md §6)
-    const base = { limitId: limit.id, kind: 'full', method: 'injection', injectionPoint: 'sensor', sourceMode: 'mv_source', coldJunctionC: 25,
-      calibratorId: 'CAL-07', calibratorDueDate: '2026-06-30', performedAt: '2026-03-10T08:30:00Z', finalElementOk: true, latchHeld: true }
-    const pastDue = await tech.post('/api/trip-tests', { ...base, calibratorDueDate: '2026-03-01', asFound: 781 }).expect(400)
+    const base = {
+      limitId: limit.id,
+      kind: 'full',
+      method: 'injection',
+      injectionPoint: 'sensor',
+      sourceMode: 'mv_source',
+      coldJunctionC: 25,
+      calibratorId: 'CAL-07',
+      calibratorDueDate: '2026-06-30',
+      performedAt: '2026-03-10T08:30:00Z',
+      finalElementOk: true,
+      latchHeld: true,
+    }
+    const pastDue = await tech
+      .post('/api/trip-tests', { ...base, calibratorDueDate: '2026-03-01', asFound: 781 })
+      .expect(400)
     expect(pastDue.body.error.details.fields.calibratorDueDate[0]).toContain('past its calibration due date')
     await eng.post('/api/trip-tests', { ...base, asFound: 781 }).expect(403)
 
     // as found in signal units, mV-source mode with the cold junction at 25 °C: E(800 °C) − E(25 °C) = 33.2754 − 1.0002 mV
     // (ITS-90 type K, NIST SRD 60 via ../shared/reference/thermocouples.md) → it tripped at 800 °C, 20 °C late
-    const failed = (await tech.post('/api/trip-tests', { ...base, asFoundSignal: { value: 32.2752, unit: 'mV' } }).expect(201)).body
+    const failed = (
+      await tech.post('/api/trip-tests', { ...base, asFoundSignal: { value: 32.2752, unit: 'mV' } }).expect(201)
+    ).body
     expect(failed.asFound).toBeCloseTo(800, 1)
     expect(failed).toMatchObject({ asFoundResult: 'out_dangerous', passed: false, status: 'recorded', toleranceEu: 6 })
     await approver.post(`/api/trip-tests/${failed.id}/signatures`, { meaning: 'witnessed', password: PW }).expect(409)
@@ -38,21 +53,45 @@ describe('trip tests: a failed test degrades the limit until a full retest passe
     expect(degraded.protectionState).toBe('degraded')
     await tech.put(`/api/trip-tests/${failed.id}`, { ...base, asFound: 781 }).expect(409)
 
-    await tech.post(`/api/limits/${limit.id}/degradation`, { compensatingMeasures: ['Hourly local reading'], repairDeadline: '2026-03-12', password: PW }).expect(403)
-    const measures = (await sup.post(`/api/limits/${limit.id}/degradation`, { compensatingMeasures: ['Hourly local reading of TI'], repairDeadline: '2026-03-12', password: PW }).expect(200)).body
+    await tech
+      .post(`/api/limits/${limit.id}/degradation`, {
+        compensatingMeasures: ['Hourly local reading'],
+        repairDeadline: '2026-03-12',
+        password: PW,
+      })
+      .expect(403)
+    const measures = (
+      await sup
+        .post(`/api/limits/${limit.id}/degradation`, {
+          compensatingMeasures: ['Hourly local reading of TI'],
+          repairDeadline: '2026-03-12',
+          password: PW,
+        })
+        .expect(200)
+    ).body
     expect(measures.items[0].measuresSignedBy).toBe('Hedda Marlowe')
 
     // a passing partial test does not clear it; a passing full test does
     ctx.clock.set('2026-03-11T10:00:00Z')
     // a day later: sessions have ended (idle timeout), everyone signs in again
-    for (const [agent, who] of [[eng, 'engineer'], [tech, 'technician'], [sup, 'supervisor']] as const) {
+    for (const [agent, who] of [
+      [eng, 'engineer'],
+      [tech, 'technician'],
+      [sup, 'supervisor'],
+    ] as const) {
       await agent.refreshCsrf()
       await agent.signIn(`${who}@fernhollow.example`)
     }
-    const partial = (await tech.post('/api/trip-tests', { ...base, kind: 'partial', performedAt: '2026-03-11T09:00:00Z', asFound: 780 }).expect(201)).body
+    const partial = (
+      await tech
+        .post('/api/trip-tests', { ...base, kind: 'partial', performedAt: '2026-03-11T09:00:00Z', asFound: 780 })
+        .expect(201)
+    ).body
     await tech.post(`/api/trip-tests/${partial.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.protectionState).toBe('degraded')
-    const retest = (await tech.post('/api/trip-tests', { ...base, performedAt: '2026-03-11T09:30:00Z', asFound: 781 }).expect(201)).body
+    const retest = (
+      await tech.post('/api/trip-tests', { ...base, performedAt: '2026-03-11T09:30:00Z', asFound: 781 }).expect(201)
+    ).body
     expect(retest.passed).toBe(true)
     await tech.post(`/api/trip-tests/${retest.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
     const cleared = (await eng.get(`/api/limits/${limit.id}`).expect(200)).body

@@ -13,36 +13,74 @@ import { activateLimit } from './helpers/workflows.ts'
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 let app: Express
-const a = {} as Record<'eng' | 'approver' | 'approver2' | 'tech' | 'tech2' | 'sup' | 'operator' | 'admin' | 'manager' | 'auditor', ApiAgent>
+const a = {} as Record<
+  'eng' | 'approver' | 'approver2' | 'tech' | 'tech2' | 'sup' | 'operator' | 'admin' | 'manager' | 'auditor',
+  ApiAgent
+>
 let limitId = 0
 let silLimitId = 0
 
 /** Row counts of everything recording or signing a trip test writes (sign-ins excluded). */
 async function written() {
   const count = async (table: 'trip_test' | 'signature' | 'attachment' | 'limit_degradation' | 'mail_outbox') =>
-    Number((await ctx.db.selectFrom(table).select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
-  const audit = await ctx.db.selectFrom('audit_event').select((eb) => eb.fn.countAll<number>().as('n')).where('action', 'not like', 'session.%').executeTakeFirstOrThrow()
+    Number(
+      (
+        await ctx.db
+          .selectFrom(table)
+          .select((eb) => eb.fn.countAll<number>().as('n'))
+          .executeTakeFirstOrThrow()
+      ).n,
+    )
+  const audit = await ctx.db
+    .selectFrom('audit_event')
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .where('action', 'not like', 'session.%')
+    .executeTakeFirstOrThrow()
   const tests = await ctx.db.selectFrom('trip_test').select(['id', 'status', 'content_hash']).orderBy('id').execute()
   return {
-    tests: await count('trip_test'), signatures: await count('signature'), attachments: await count('attachment'), degradations: await count('limit_degradation'),
-    mails: await count('mail_outbox'), auditEvents: Number(audit.n), states: tests,
+    tests: await count('trip_test'),
+    signatures: await count('signature'),
+    attachments: await count('attachment'),
+    degradations: await count('limit_degradation'),
+    mails: await count('mail_outbox'),
+    auditEvents: Number(audit.n),
+    states: tests,
   }
 }
 
 /** A passing full test of the type K heater trip (780 °C, tolerance ±6 °C = 0.5 % of 0–1200 °C, DOMAIN.md §6). */
 const body = (over: Record<string, unknown> = {}) => ({
-  limitId, kind: 'full', method: 'injection', injectionPoint: 'sensor', sourceMode: 'mv_source', coldJunctionC: 25, calibratorId: 'CAL-11',
-  calibratorDueDate: '2026-09-30', performedAt: '2026-04-14T08:00:00Z', asFound: 781.5, finalElementOk: true, latchHeld: true, ...over,
+  limitId,
+  kind: 'full',
+  method: 'injection',
+  injectionPoint: 'sensor',
+  sourceMode: 'mv_source',
+  coldJunctionC: 25,
+  calibratorId: 'CAL-11',
+  calibratorDueDate: '2026-09-30',
+  performedAt: '2026-04-14T08:00:00Z',
+  asFound: 781.5,
+  finalElementOk: true,
+  latchHeld: true,
+  ...over,
 })
 
 beforeAll(async () => {
   ctx.clock.set('2026-04-14T09:00:00Z')
   app = createApp(ctx)
   const account: Record<string, string> = { eng: 'engineer', sup: 'supervisor', tech: 'technician' }
-  for (const who of ['eng', 'approver', 'approver2', 'tech', 'sup', 'operator', 'admin', 'manager', 'auditor'] as const) a[who] = await signedIn(app, account[who] ?? who)
-  const sites = (await a.admin.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]
+  for (const who of ['eng', 'approver', 'approver2', 'tech', 'sup', 'operator', 'admin', 'manager', 'auditor'] as const)
+    a[who] = await signedIn(app, account[who] ?? who)
+  const sites = (await a.admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const fhr = sites.find((s) => s.code === 'FHR')!.id
-  await a.admin.post('/api/users', { email: 'tech2@fernhollow.example', displayName: 'Rune Calder', password: PW, roles: [{ siteId: fhr, role: 'technician' }] }).expect(201)
+  await a.admin
+    .post('/api/users', {
+      email: 'tech2@fernhollow.example',
+      displayName: 'Rune Calder',
+      password: PW,
+      roles: [{ siteId: fhr, role: 'technician' }],
+    })
+    .expect(201)
   a.tech2 = new ApiAgent(app)
   await a.tech2.signIn('tech2@fernhollow.example', PW)
 
@@ -63,15 +101,23 @@ describe('recording: only technicians (DOMAIN.md §2)', () => {
     }
     expect(await written()).toEqual(before)
     const ok = (await a.tech.post('/api/trip-tests', body()).expect(201)).body
-    expect(ok).toMatchObject({ asFoundResult: 'in_tolerance', asLeftResult: 'in_tolerance', passed: true, status: 'recorded', recordedBy: 'Tomas Quillfeather' })
+    expect(ok).toMatchObject({
+      asFoundResult: 'in_tolerance',
+      asLeftResult: 'in_tolerance',
+      passed: true,
+      status: 'recorded',
+      recordedBy: 'Tomas Quillfeather',
+    })
   })
 
-  it('refuses a calibrator past its calibration due date on the test day, in the site\'s time zone, and writes nothing', async () => {
+  it("refuses a calibrator past its calibration due date on the test day, in the site's time zone, and writes nothing", async () => {
     const before = await written()
     const past = await a.tech.post('/api/trip-tests', body({ calibratorDueDate: '2026-04-13' })).expect(400)
     expect(past.body.error.details.fields.calibratorDueDate[0]).toContain('past its calibration due date')
     // 23:30 UTC on 14 April is 01:30 on 15 April in Europe/Berlin (CEST, UTC+2): a calibrator due on the 14th is past due
-    const late = await a.tech.post('/api/trip-tests', body({ performedAt: '2026-04-13T23:30:00Z', calibratorDueDate: '2026-04-13' })).expect(400)
+    const late = await a.tech
+      .post('/api/trip-tests', body({ performedAt: '2026-04-13T23:30:00Z', calibratorDueDate: '2026-04-13' }))
+      .expect(400)
     expect(late.body.error.details.fields.calibratorDueDate).toHaveLength(1)
     // a calibrator without its due date is refused as well
     const missing = await a.tech.post('/api/trip-tests', body({ calibratorDueDate: null })).expect(400)
@@ -85,9 +131,13 @@ describe('recording: only technicians (DOMAIN.md §2)', () => {
     const before = await written()
     const future = await a.tech.post('/api/trip-tests', body({ performedAt: '2026-04-14T12:00:00Z' })).expect(400)
     expect(future.body.error.details.fields.performedAt).toHaveLength(1)
-    const gauge = await a.tech.post('/api/trip-tests', body({ method: 'reference_gauge', calibratorId: '', calibratorDueDate: null })).expect(400)
+    const gauge = await a.tech
+      .post('/api/trip-tests', body({ method: 'reference_gauge', calibratorId: '', calibratorDueDate: null }))
+      .expect(400)
     expect(gauge.body.error.details.fields.method).toHaveLength(1)
-    const lowered = await a.tech.post('/api/trip-tests', body({ method: 'setpoint_lowered', injectionPoint: null })).expect(400)
+    const lowered = await a.tech
+      .post('/api/trip-tests', body({ method: 'setpoint_lowered', injectionPoint: null }))
+      .expect(400)
     expect(lowered.body.error.details.fields.setpointRestoredReadBack).toHaveLength(1)
     expect(await written()).toEqual(before)
   })
@@ -96,7 +146,8 @@ describe('recording: only technicians (DOMAIN.md §2)', () => {
 describe('signatures (DOMAIN.md §2: performer = recorder; witness never the performer; acceptance by operations)', () => {
   it('keeps each meaning to its roles and people, writing nothing on a refusal', async () => {
     const t = (await a.tech.post('/api/trip-tests', body()).expect(201)).body
-    const sign = (who: keyof typeof a, meaning: string, password = PW) => a[who].post(`/api/trip-tests/${t.id}/signatures`, { meaning, password })
+    const sign = (who: keyof typeof a, meaning: string, password = PW) =>
+      a[who].post(`/api/trip-tests/${t.id}/signatures`, { meaning, password })
 
     let before = await written()
     // performed: only the technician who recorded it
@@ -117,7 +168,8 @@ describe('signatures (DOMAIN.md §2: performer = recorder; witness never the per
     expect(own.body.error.message).toContain('own test')
     for (const who of ['operator', 'admin', 'manager', 'auditor'] as const) await sign(who, 'witnessed').expect(403)
     // accepted: shift supervisors and operators only
-    for (const who of ['tech', 'tech2', 'eng', 'approver', 'admin', 'manager'] as const) await sign(who, 'accepted').expect(403)
+    for (const who of ['tech', 'tech2', 'eng', 'approver', 'admin', 'manager'] as const)
+      await sign(who, 'accepted').expect(403)
     expect(await written()).toEqual(before)
 
     const witnessed = (await sign('tech2', 'witnessed').expect(200)).body
@@ -133,12 +185,22 @@ describe('signatures (DOMAIN.md §2: performer = recorder; witness never the per
     const t = (await a.tech.post('/api/trip-tests', body({ limitId: silLimitId })).expect(201)).body
     expect(t.witnessRequired).toBe(true)
     await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
-    const accepted = (await a.sup.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'accepted', password: PW }).expect(200)).body
+    const accepted = (
+      await a.sup.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'accepted', password: PW }).expect(200)
+    ).body
     expect(accepted.status).toBe('signed')
-    const done = (await a.eng.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'witnessed', password: PW }).expect(200)).body
+    const done = (
+      await a.eng.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'witnessed', password: PW }).expect(200)
+    ).body
     expect(done.status).toBe('completed')
     // without a SIL the site policy (sil_only) asks for none
-    expect((await a.tech.get(`/api/trip-tests/${(await a.tech.post('/api/trip-tests', body()).expect(201)).body.id}`).expect(200)).body.witnessRequired).toBe(false)
+    expect(
+      (
+        await a.tech
+          .get(`/api/trip-tests/${(await a.tech.post('/api/trip-tests', body()).expect(201)).body.id}`)
+          .expect(200)
+      ).body.witnessRequired,
+    ).toBe(false)
   })
 })
 
@@ -166,15 +228,23 @@ describe('editing: by its recorder until the performer signs', () => {
 })
 
 describe('attachments: PDF, PNG or JPEG up to 10 MB, checked by content', () => {
-  const PNG = Buffer.concat([Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]), Buffer.from('calibrator photo')])
+  const PNG = Buffer.concat([
+    Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]),
+    Buffer.from('calibrator photo'),
+  ])
 
   it('stores a real PNG, refuses a text file named .pdf and a file over 10 MB, and writes nothing then', async () => {
     const t = (await a.tech.post('/api/trip-tests', body()).expect(201)).body
     const url = `/api/trip-tests/${t.id}/attachments`
-    const upload = (agent: ApiAgent, buf: Buffer, name: string) => agent.agent.post(url).set('X-CSRF-Token', agent.csrf).attach('file', buf, name)
+    const upload = (agent: ApiAgent, buf: Buffer, name: string) =>
+      agent.agent.post(url).set('X-CSRF-Token', agent.csrf).attach('file', buf, name)
 
     const before = await written()
-    const fake = await upload(a.tech, Buffer.from('This is a text file, not a calibrator report.\n'), 'report.pdf').expect(400)
+    const fake = await upload(
+      a.tech,
+      Buffer.from('This is a text file, not a calibrator report.\n'),
+      'report.pdf',
+    ).expect(400)
     expect(fake.body.error.details.fields.file).toHaveLength(1)
     const big = Buffer.alloc(10 * 1024 * 1024 + 1, 0x20)
     big.write('%PDF-1.7\n', 0, 'latin1')
@@ -186,11 +256,15 @@ describe('attachments: PDF, PNG or JPEG up to 10 MB, checked by content', () => 
 
     const stored = (await upload(a.tech, PNG, 'photo.png').expect(201)).body
     expect(stored).toMatchObject({ fileName: 'photo.png', contentType: 'image/png', sizeBytes: PNG.length })
-    const back = await a.auditor.get(`${url}/${stored.id}`).buffer(true).parse((res, cb) => {
-      const chunks: Buffer[] = []
-      res.on('data', (c: Buffer) => chunks.push(c))
-      res.on('end', () => cb(null, Buffer.concat(chunks)))
-    }).expect(200)
+    const back = await a.auditor
+      .get(`${url}/${stored.id}`)
+      .buffer(true)
+      .parse((res, cb) => {
+        const chunks: Buffer[] = []
+        res.on('data', (c: Buffer) => chunks.push(c))
+        res.on('end', () => cb(null, Buffer.concat(chunks)))
+      })
+      .expect(200)
     expect(Buffer.compare(back.body as Buffer, PNG)).toBe(0)
     expect((await a.tech.get(`/api/trip-tests/${t.id}`).expect(200)).body.attachments).toHaveLength(1)
   })

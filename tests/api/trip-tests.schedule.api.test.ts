@@ -22,7 +22,7 @@ const who = { eng: 'engineer', approver: 'approver', tech: 'technician', admin: 
 const a = {} as Record<keyof typeof who, ApiAgent>
 let fhr = 0
 let smp = 0
-let areas: { id: number, siteId: number }[] = []
+let areas: { id: number; siteId: number }[] = []
 let n = 0
 // limits: A tested on 31 January (site time), B at 23:30 UTC on 31 January (1 February in Berlin), C never tested
 const L = { a: { id: 0, tag: '' }, b: { id: 0, tag: '' }, c: { id: 0, tag: '' } }
@@ -39,41 +39,111 @@ async function at(iso: string) {
 /** An active type K high trip at 780 °C (0–1200 °C) at Fernhollow with the given test interval, in the given area. */
 async function activeTrip(testIntervalMonths: number, areaId: number) {
   n += 1
-  const proc = (await a.eng.post('/api/processes', { areaId, name: `Schedule heater ${n}`, description: '' }).expect(201)).body
-  const inst = (await a.eng.post('/api/instruments', {
-    processId: proc.id, tag: `SCH-TT-${n}`, measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: null, normalHigh: null,
-    designLow: null, designHigh: null, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
-  }).expect(201)).body
-  const limit = (await a.eng.post('/api/limits', {
-    processId: proc.id, instrumentIds: [inst.id], tag: `SCH-TSHH-${n}`, direction: 'high', limitClass: 'trip', setpoint: 780, deadband: 5, severity: 'severe',
-    testIntervalMonths, latching: true, resetRole: 'operator', compensatingMeasures: ['Local reading'],
-  }).expect(201)).body
+  const proc = (
+    await a.eng.post('/api/processes', { areaId, name: `Schedule heater ${n}`, description: '' }).expect(201)
+  ).body
+  const inst = (
+    await a.eng
+      .post('/api/instruments', {
+        processId: proc.id,
+        tag: `SCH-TT-${n}`,
+        measuredVariable: 'temperature',
+        unit: '°C',
+        rangeLow: 0,
+        rangeHigh: 1200,
+        normalLow: null,
+        normalHigh: null,
+        designLow: null,
+        designHigh: null,
+        burnout: 'upscale',
+        signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+        deviceKind: 'limit_controller',
+      })
+      .expect(201)
+  ).body
+  const limit = (
+    await a.eng
+      .post('/api/limits', {
+        processId: proc.id,
+        instrumentIds: [inst.id],
+        tag: `SCH-TSHH-${n}`,
+        direction: 'high',
+        limitClass: 'trip',
+        setpoint: 780,
+        deadband: 5,
+        severity: 'severe',
+        testIntervalMonths,
+        latching: true,
+        resetRole: 'operator',
+        compensatingMeasures: ['Local reading'],
+      })
+      .expect(201)
+  ).body
   await activateLimit({ eng: a.eng, approver: a.approver, tech: a.tech }, limit)
   return { id: limit.id as number, tag: limit.tag as string }
 }
 
-async function tested(limitId: number, performedAt: string, result: Record<string, unknown> = { asFound: 781 }, kind: 'full' | 'partial' = 'full') {
-  const t = (await a.tech.post('/api/trip-tests', {
-    limitId, kind, method: 'injection', injectionPoint: 'sensor', sourceMode: 'tc_simulate', calibratorId: 'CAL-5', calibratorDueDate: '2026-12-31',
-    performedAt, finalElementOk: true, ...result,
-  }).expect(201)).body
+async function tested(
+  limitId: number,
+  performedAt: string,
+  result: Record<string, unknown> = { asFound: 781 },
+  kind: 'full' | 'partial' = 'full',
+) {
+  const t = (
+    await a.tech
+      .post('/api/trip-tests', {
+        limitId,
+        kind,
+        method: 'injection',
+        injectionPoint: 'sensor',
+        sourceMode: 'tc_simulate',
+        calibratorId: 'CAL-5',
+        calibratorDueDate: '2026-12-31',
+        performedAt,
+        finalElementOk: true,
+        ...result,
+      })
+      .expect(201)
+  ).body
   await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
-  return t as { id: number, passed: boolean }
+  return t as { id: number; passed: boolean }
 }
 
-const limitNow = async (id: number) => (await a.eng.get(`/api/limits/${id}`).expect(200)).body as { testStatus: string, testDueDate: string | null, lastFullPass: string | null }
-type ScheduleItem = { limitId: number, testStatus: string, dueDate: string | null, lastFullPass: string | null, lateTests: number, protectionState: string }
-const scheduleOf = async (query: string) => (await a.tech.get(`/api/trip-tests/schedule?siteId=${fhr}&${query}`).expect(200)).body as { items: ScheduleItem[], counts: Record<string, number> }
+const limitNow = async (id: number) =>
+  (await a.eng.get(`/api/limits/${id}`).expect(200)).body as {
+    testStatus: string
+    testDueDate: string | null
+    lastFullPass: string | null
+  }
+type ScheduleItem = {
+  limitId: number
+  testStatus: string
+  dueDate: string | null
+  lastFullPass: string | null
+  lateTests: number
+  protectionState: string
+}
+const scheduleOf = async (query: string) =>
+  (await a.tech.get(`/api/trip-tests/schedule?siteId=${fhr}&${query}`).expect(200)).body as {
+    items: ScheduleItem[]
+    counts: Record<string, number>
+  }
 const ids = (items: { limitId: number }[]) => items.map((i) => i.limitId)
 const runJob = (iso: string) => createTripTestJob(ctx.db, ctx.config, ctx.clock).runDue(new Date(iso))
-const digestMails = () => ctx.db.selectFrom('mail_outbox').select(['to_addr', 'subject', 'text_body']).where('topic', '=', 'trip_test_digest').orderBy('id').execute()
+const digestMails = () =>
+  ctx.db
+    .selectFrom('mail_outbox')
+    .select(['to_addr', 'subject', 'text_body'])
+    .where('topic', '=', 'trip_test_digest')
+    .orderBy('id')
+    .execute()
 
 beforeAll(async () => {
   smtp = await startFakeSmtp(0, { quiet: true })
   ctx.clock.set('2026-01-31T23:45:00Z')
   app = createApp(ctx)
   for (const k of Object.keys(who) as (keyof typeof who)[]) a[k] = await signedIn(app, who[k])
-  const sites = (await a.eng.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]
+  const sites = (await a.eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   fhr = sites.find((s) => s.code === 'FHR')!.id
   smp = sites.find((s) => s.code === 'SMP')!.id
   areas = (await a.eng.get('/api/areas').expect(200)).body.items
@@ -82,20 +152,30 @@ beforeAll(async () => {
   L.b = await activeTrip(1, crude.id)
   L.c = await activeTrip(12, hydro.id)
 })
-afterAll(async () => { await smtp?.close() })
+afterAll(async () => {
+  await smtp?.close()
+})
 
 describe('due dates (DOMAIN.md §5)', () => {
-  it('adds calendar months clamped to month end, in the site\'s time zone', async () => {
+  it("adds calendar months clamped to month end, in the site's time zone", async () => {
     // 10:00 UTC on 31 January is 11:00 in Berlin: + 1 month = 28 February (clamped; test-acceptance.md: 2025-01-31 + 1 month = 2025-02-28)
     await tested(L.a.id, '2026-01-31T10:00:00Z')
-    expect(await limitNow(L.a.id)).toMatchObject({ lastFullPass: '2026-01-31', testDueDate: '2026-02-28', testStatus: 'due_soon' })
+    expect(await limitNow(L.a.id)).toMatchObject({
+      lastFullPass: '2026-01-31',
+      testDueDate: '2026-02-28',
+      testStatus: 'due_soon',
+    })
     // 23:30 UTC on 31 January is 00:30 on 1 February in Berlin (CET, UTC+1): the test counts on the 1st → due 1 March
     await tested(L.b.id, '2026-01-31T23:30:00Z')
     expect(await limitNow(L.b.id)).toMatchObject({ lastFullPass: '2026-02-01', testDueDate: '2026-03-01' })
     expect(await limitNow(L.c.id)).toMatchObject({ testStatus: 'never_tested', testDueDate: null })
 
     const all = await scheduleOf('')
-    expect(all.items.find((i) => i.limitId === L.a.id)).toMatchObject({ dueDate: '2026-02-28', lastFullPass: '2026-01-31', testStatus: 'due_soon' })
+    expect(all.items.find((i) => i.limitId === L.a.id)).toMatchObject({
+      dueDate: '2026-02-28',
+      lastFullPass: '2026-01-31',
+      testStatus: 'due_soon',
+    })
     expect(ids((await scheduleOf('status=never_tested')).items)).toEqual([L.c.id])
     expect(all.counts).toMatchObject({ due_soon: 2, never_tested: 1 })
     // the counts follow the area filter as the list does
@@ -113,12 +193,20 @@ describe('due dates (DOMAIN.md §5)', () => {
 
     await tested(L.a.id, '2026-03-01T08:00:00Z', { asFound: 795 })
     await tested(L.a.id, '2026-03-01T08:30:00Z', { asFound: 780 }, 'partial')
-    expect(await limitNow(L.a.id)).toMatchObject({ lastFullPass: '2026-01-31', testDueDate: '2026-02-28', testStatus: 'in_grace' })
+    expect(await limitNow(L.a.id)).toMatchObject({
+      lastFullPass: '2026-01-31',
+      testDueDate: '2026-02-28',
+      testStatus: 'in_grace',
+    })
 
     // 3 March, the last day of the grace: the passing retest is late, and the due date counts from it
     await at('2026-03-03T10:00:00Z')
     await tested(L.a.id, '2026-03-03T09:00:00Z', { asFound: 779 })
-    expect(await limitNow(L.a.id)).toMatchObject({ lastFullPass: '2026-03-03', testDueDate: '2026-04-03', testStatus: 'ok' })
+    expect(await limitNow(L.a.id)).toMatchObject({
+      lastFullPass: '2026-03-03',
+      testDueDate: '2026-04-03',
+      testStatus: 'ok',
+    })
     const late = (await scheduleOf('late=true')).items
     expect(ids(late)).toEqual([L.a.id])
     // both full tests after the due date fell inside the grace (the failed one of 1 March and the retest of 3 March)
@@ -135,15 +223,18 @@ describe('due dates (DOMAIN.md §5)', () => {
   })
 })
 
-describe('the weekly digest (Monday from 07:00 in each site\'s time zone, once per ISO week)', () => {
-  it('reaches the site\'s technicians and safety engineers once a week, at each site\'s own 07:00', async () => {
+describe("the weekly digest (Monday from 07:00 in each site's time zone, once per ISO week)", () => {
+  it("reaches the site's technicians and safety engineers once a week, at each site's own 07:00", async () => {
     // Monday 9 March 2026: Berlin is on CET (UTC+1), Chicago already on CDT (UTC−5, since 8 March)
     const before = (await digestMails()).length
     expect(before).toBe(0)
     expect(await runJob('2026-03-09T05:59:00Z')).toMatchObject({ digests: 0 })
     expect(await runJob('2026-03-09T06:00:00Z')).toMatchObject({ digests: 1 })
     const fhrMails = await digestMails()
-    expect(fhrMails.map((m) => m.to_addr).sort()).toEqual(['engineer@fernhollow.example', 'technician@fernhollow.example'])
+    expect(fhrMails.map((m) => m.to_addr).sort()).toEqual([
+      'engineer@fernhollow.example',
+      'technician@fernhollow.example',
+    ])
     expect(fhrMails[0].subject).toBe('Trip tests due at Fernhollow Refinery (2026-W11)')
     expect(fhrMails[0].text_body).toContain(L.b.tag)
     expect(fhrMails[0].text_body).toContain(L.c.tag)
@@ -159,12 +250,18 @@ describe('the weekly digest (Monday from 07:00 in each site\'s time zone, once p
     expect((await digestMails()).filter((m) => m.subject.includes('Saltmarsh Polymers (2026-W11)'))).toHaveLength(2)
     // the next Monday is a new ISO week
     expect(await runJob('2026-03-16T06:30:00Z')).toMatchObject({ digests: 1 })
-    expect((await digestMails()).filter((m) => m.subject === 'Trip tests due at Fernhollow Refinery (2026-W12)')).toHaveLength(2)
+    expect(
+      (await digestMails()).filter((m) => m.subject === 'Trip tests due at Fernhollow Refinery (2026-W12)'),
+    ).toHaveLength(2)
 
     // delivered through the fake SMTP server with the link to the schedule
     await createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock).runDue(ctx.clock.now())
     const recipients = (m: ParsedMail) => (m.to && !Array.isArray(m.to) ? m.to.value.map((x) => x.address ?? '') : [])
-    const mail = await smtp.waitFor((m) => m.subject === 'Trip tests due at Fernhollow Refinery (2026-W12)' && recipients(m).includes('technician@fernhollow.example'))
+    const mail = await smtp.waitFor(
+      (m) =>
+        m.subject === 'Trip tests due at Fernhollow Refinery (2026-W12)' &&
+        recipients(m).includes('technician@fernhollow.example'),
+    )
     expect(mail.text).toContain(`${ctx.config.appUrl}/tests/schedule?siteId=${fhr}`)
   })
 
@@ -172,10 +269,18 @@ describe('the weekly digest (Monday from 07:00 in each site\'s time zone, once p
     await at('2026-03-17T09:00:00Z')
     const count = async () => ({
       mails: (await digestMails()).length,
-      log: Number((await ctx.db.selectFrom('digest_log').select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n),
+      log: Number(
+        (
+          await ctx.db
+            .selectFrom('digest_log')
+            .select((eb) => eb.fn.countAll<number>().as('n'))
+            .executeTakeFirstOrThrow()
+        ).n,
+      ),
     })
     const before = await count()
-    for (const k of ['eng', 'tech', 'manager', 'approver'] as const) await a[k].post('/api/trip-tests/digest-runs', { siteId: fhr }).expect(403)
+    for (const k of ['eng', 'tech', 'manager', 'approver'] as const)
+      await a[k].post('/api/trip-tests/digest-runs', { siteId: fhr }).expect(403)
     expect(await count()).toEqual(before)
     const run = (await a.admin.post('/api/trip-tests/digest-runs', { siteId: fhr }).expect(201)).body
     // B is overdue and C never tested; A is due on 3 April, within 30 days: due soon

@@ -50,7 +50,12 @@ function freePort(): Promise<number> {
 
 const seconds = (ms: number) => `${(ms / 1000).toFixed(2)} s`
 
-interface Cluster { superUrl: string, ownerUrl: string, appUrl: string, stop(): Promise<void> }
+interface Cluster {
+  superUrl: string
+  ownerUrl: string
+  appUrl: string
+  stop(): Promise<void>
+}
 
 /** A throwaway cluster like tests/global-setup.ts starts, with its own database, migrated as the owner role. */
 export async function startCluster(): Promise<Cluster> {
@@ -64,7 +69,12 @@ export async function startCluster(): Promise<Cluster> {
   }
   try {
     const { stdout } = await run('bash', ['server/db/pg.sh', 'start'], { env })
-    const vars = Object.fromEntries(stdout.trim().split('\n').map((l) => l.split(/=(.*)/s).slice(0, 2)))
+    const vars = Object.fromEntries(
+      stdout
+        .trim()
+        .split('\n')
+        .map((l) => l.split(/=(.*)/s).slice(0, 2)),
+    )
     await migrateToLatest(vars.MIGRATION_DATABASE_URL)
     return { superUrl: vars.SUPER_URL, ownerUrl: vars.MIGRATION_DATABASE_URL, appUrl: vars.DATABASE_URL, stop }
   } catch (err) {
@@ -96,7 +106,8 @@ export async function bulkInsert(ownerUrl: string, limits: number) {
       )
       SELECT id, area_id, site_id, row_number() OVER (ORDER BY id) - 1 AS n FROM ins`)
     const instruments = Math.ceil(limits / 2)
-    await c.query(`
+    await c.query(
+      `
       CREATE TEMP TABLE bench_instrument ON COMMIT DROP AS
       WITH src AS (
         SELECT g, g % 4 AS v, (ARRAY[600, 40, 100, 200])[g % 4 + 1]::numeric AS hi FROM generate_series(1, $1::int) g
@@ -121,8 +132,11 @@ export async function bulkInsert(ownerUrl: string, limits: number) {
         FROM src JOIN bench_process p ON p.n = (g - 1) % 1000
         RETURNING id, tag, range_high, normal_low, normal_high, measured_variable
       )
-      SELECT *, row_number() OVER (ORDER BY id) AS n FROM ins`, [instruments])
-    await c.query(`
+      SELECT *, row_number() OVER (ORDER BY id) AS n FROM ins`,
+      [instruments],
+    )
+    await c.query(
+      `
       WITH src AS (
         SELECT g, (g + 1) / 2 AS i, g % 2 = 0 AS is_trip, random()::numeric AS r1, random()::numeric AS r2, random()::numeric AS r3 FROM generate_series(1, $1::int) g
       ),
@@ -168,7 +182,9 @@ export async function bulkInsert(ownerUrl: string, limits: number) {
         CASE WHEN v.r3 < 0.85 THEN 'active' WHEN v.r3 < 0.97 THEN 'proposed' ELSE 'retired' END,
         CASE WHEN v.is_trip AND v.r3 < 0.03 AND v.high THEN '[{"code":"SETPOINT_NEAR_RANGE_END","field":"setpoint","message":"setpoint + tolerance comes within 5 % of span of range high"}]' ELSE '[]' END::jsonb,
         now(), now()
-      FROM vals v JOIN instrument i ON i.id = v.instrument_id`, [limits])
+      FROM vals v JOIN instrument i ON i.id = v.instrument_id`,
+      [limits],
+    )
     await c.query(`
       INSERT INTO limit_instrument (limit_id, position, instrument_id)
       SELECT lf.id, 0, lf.primary_instrument_id FROM limit_function lf
@@ -178,7 +194,9 @@ export async function bulkInsert(ownerUrl: string, limits: number) {
     if (process.env.BENCH_SQL) await c.query(process.env.BENCH_SQL)
     // VACUUM as autovacuum would have by now: sets the visibility map, so index-only scans work as in steady state
     await c.query('VACUUM (ANALYZE)')
-    const { rows } = await c.query<{ site: string, n: number }>(`SELECT s.code AS site, count(*)::int AS n FROM limit_function lf JOIN site s ON s.id = lf.site_id GROUP BY s.code ORDER BY s.code`)
+    const { rows } = await c.query<{ site: string; n: number }>(
+      `SELECT s.code AS site, count(*)::int AS n FROM limit_function lf JOIN site s ON s.id = lf.site_id GROUP BY s.code ORDER BY s.code`,
+    )
     return rows
   } catch (err) {
     await c.query('ROLLBACK').catch(() => {})
@@ -191,10 +209,11 @@ export async function bulkInsert(ownerUrl: string, limits: number) {
 /** Signs in over HTTP like the client does: the CSRF token from GET /api/session, then POST /api/session. */
 async function signIn(baseUrl: string, email: string): Promise<string> {
   const first = await fetch(`${baseUrl}/api/session`)
-  const { csrfToken } = await first.json() as { csrfToken: string }
+  const { csrfToken } = (await first.json()) as { csrfToken: string }
   let cookie = (first.headers.get('set-cookie') ?? '').split(';')[0]
   const res = await fetch(`${baseUrl}/api/session`, {
-    method: 'POST', headers: { 'content-type': 'application/json', 'x-csrf-token': csrfToken, cookie },
+    method: 'POST',
+    headers: { 'content-type': 'application/json', 'x-csrf-token': csrfToken, cookie },
     body: JSON.stringify({ email, password: DEMO_PASSWORD }),
   })
   if (res.status !== 201) throw new Error(`sign-in failed: ${res.status} ${await res.text()}`)
@@ -204,7 +223,7 @@ async function signIn(baseUrl: string, email: string): Promise<string> {
 }
 
 /** The naive handler: OFFSET paging plus a full count(*), one query after the other, no session. */
-async function startNaive(appUrl: string): Promise<{ url: string, close(): Promise<void> }> {
+async function startNaive(appUrl: string): Promise<{ url: string; close(): Promise<void> }> {
   const pool = new pg.Pool({ connectionString: appUrl, max: 20 })
   const app = express()
   app.get('/limits', async (req, res, next) => {
@@ -213,7 +232,10 @@ async function startNaive(appUrl: string): Promise<{ url: string, close(): Promi
       const q = typeof req.query.q === 'string' ? req.query.q : null
       const filterParams = q ? [`%${q}%`] : []
       const where = `site_id = 1 AND limit_class = 'trip'${q ? ' AND tag ILIKE $1' : ''}`
-      const items = await pool.query(`SELECT * FROM limit_function WHERE ${where} ORDER BY setpoint DESC OFFSET $${filterParams.length + 1} LIMIT ${PAGE_SIZE}`, [...filterParams, (page - 1) * PAGE_SIZE])
+      const items = await pool.query(
+        `SELECT * FROM limit_function WHERE ${where} ORDER BY setpoint DESC OFFSET $${filterParams.length + 1} LIMIT ${PAGE_SIZE}`,
+        [...filterParams, (page - 1) * PAGE_SIZE],
+      )
       const total = await pool.query(`SELECT count(*)::int AS n FROM limit_function WHERE ${where}`, filterParams)
       res.json({ items: items.rows, total: total.rows[0].n })
     } catch (err) {
@@ -234,11 +256,20 @@ async function startNaive(appUrl: string): Promise<{ url: string, close(): Promi
   }
 }
 
-interface Sample { variant: string, ms: number }
-interface LoadResult { samples: Sample[], completed: number, errors: number, elapsedMs: number, firstError?: string }
+interface Sample {
+  variant: string
+  ms: number
+}
+interface LoadResult {
+  samples: Sample[]
+  completed: number
+  errors: number
+  elapsedMs: number
+  firstError?: string
+}
 
 /** A request mix: four in five are plain register pages 1–5, one in five a text search (`q=tshh`) on pages 1–3. */
-function pickRequest(n: number): { variant: string, query: string } {
+function pickRequest(n: number): { variant: string; query: string } {
   if (n % 5 === 4) return { variant: 'search q=tshh', query: `q=tshh&page=${1 + (n % 3)}` }
   return { variant: 'filtered page', query: `page=${1 + (n % 5)}` }
 }
@@ -247,7 +278,12 @@ function pickRequest(n: number): { variant: string, query: string } {
  * `clients` loops, each sending one request after the other. After the warm-up, every request started is timed (also
  * when it ends after the window) and every request that ends inside the window counts towards requests/s.
  */
-async function drive(urlFor: (query: string) => string, headers: Record<string, string>, clients: number, durationMs: number): Promise<LoadResult> {
+async function drive(
+  urlFor: (query: string) => string,
+  headers: Record<string, string>,
+  clients: number,
+  durationMs: number,
+): Promise<LoadResult> {
   const samples: Sample[] = []
   let completed = 0
   let errors = 0
@@ -282,15 +318,27 @@ function percentile(sorted: number[], p: number): number {
   return sorted[Math.min(sorted.length - 1, Math.ceil((p / 100) * sorted.length) - 1)]
 }
 
-interface Figures { rps: number, p50: number, p95: number, p99: number }
+interface Figures {
+  rps: number
+  p50: number
+  p95: number
+  p99: number
+}
 function figures(samples: Sample[], completed: number, elapsedMs: number): Figures {
   const ms = samples.map((s) => s.ms).sort((a, b) => a - b)
-  return { rps: completed / (elapsedMs / 1000), p50: percentile(ms, 50), p95: percentile(ms, 95), p99: percentile(ms, 99) }
+  return {
+    rps: completed / (elapsedMs / 1000),
+    p50: percentile(ms, 50),
+    p95: percentile(ms, 95),
+    p99: percentile(ms, 99),
+  }
 }
 
 function row(label: string, a: Figures, b: Figures) {
   const f = (v: number) => (Number.isFinite(v) ? v.toFixed(1) : '–').padStart(10)
-  console.log(`  ${label.padEnd(24)}${f(a.rps)}${f(a.p50)}${f(a.p95)}${f(a.p99)}   │${f(b.rps)}${f(b.p50)}${f(b.p95)}${f(b.p99)}`)
+  console.log(
+    `  ${label.padEnd(24)}${f(a.rps)}${f(a.p50)}${f(a.p95)}${f(a.p99)}   │${f(b.rps)}${f(b.p50)}${f(b.p95)}${f(b.p99)}`,
+  )
 }
 
 /**
@@ -300,28 +348,56 @@ function row(label: string, a: Figures, b: Figures) {
  */
 async function explainAppQueries(appUrl: string, full: boolean) {
   const pool = new pg.Pool({ connectionString: appUrl, max: 1 })
-  const captured: { sql: string, parameters: readonly unknown[] }[] = []
-  const db = new Kysely<Database>({ dialect: new PostgresDialect({ pool }), log: (e) => { if (e.level === 'query') captured.push({ sql: e.query.sql, parameters: e.query.parameters }) } })
+  const captured: { sql: string; parameters: readonly unknown[] }[] = []
+  const db = new Kysely<Database>({
+    dialect: new PostgresDialect({ pool }),
+    log: (e) => {
+      if (e.level === 'query') captured.push({ sql: e.query.sql, parameters: e.query.parameters })
+    },
+  })
   try {
     const f: LimitFilters = { siteIds: [1], limitClass: ['trip'] }
-    const cases: { label: string, run: () => Promise<unknown> }[] = [
-      { label: 'list page 1', run: () => listLimits(db, f, [{ field: 'setpoint', desc: true }], { limit: PAGE_SIZE, offset: 0 }) },
-      { label: 'list page 5', run: () => listLimits(db, f, [{ field: 'setpoint', desc: true }], { limit: PAGE_SIZE, offset: 4 * PAGE_SIZE }) },
+    const cases: { label: string; run: () => Promise<unknown> }[] = [
+      {
+        label: 'list page 1',
+        run: () => listLimits(db, f, [{ field: 'setpoint', desc: true }], { limit: PAGE_SIZE, offset: 0 }),
+      },
+      {
+        label: 'list page 5',
+        run: () => listLimits(db, f, [{ field: 'setpoint', desc: true }], { limit: PAGE_SIZE, offset: 4 * PAGE_SIZE }),
+      },
       { label: 'capped count', run: () => countLimits(db, f, 10_000) },
-      { label: 'search list page 1', run: () => listLimits(db, { ...f, q: 'tshh' }, [{ field: 'setpoint', desc: true }], { limit: PAGE_SIZE, offset: 0 }) },
+      {
+        label: 'search list page 1',
+        run: () =>
+          listLimits(db, { ...f, q: 'tshh' }, [{ field: 'setpoint', desc: true }], { limit: PAGE_SIZE, offset: 0 }),
+      },
       { label: 'search capped count', run: () => countLimits(db, { ...f, q: 'tshh' }, 10_000) },
     ]
-    console.log('\nEXPLAIN ANALYZE of the register API\'s queries (siteId=1, limitClass=trip, sort=-setpoint):')
+    console.log("\nEXPLAIN ANALYZE of the register API's queries (siteId=1, limitClass=trip, sort=-setpoint):")
     for (const c of cases) {
       captured.length = 0
       await c.run()
       const q = captured[0]
-      const { rows } = await pool.query<{ 'QUERY PLAN': string }>(`EXPLAIN (ANALYZE, BUFFERS) ${q.sql}`, q.parameters as unknown[])
+      const { rows } = await pool.query<{ 'QUERY PLAN': string }>(
+        `EXPLAIN (ANALYZE, BUFFERS) ${q.sql}`,
+        q.parameters as unknown[],
+      )
       const lines = rows.map((r) => r['QUERY PLAN'])
       const time = lines.find((l) => l.startsWith('Execution Time')) ?? ''
-      const gist = lines.filter((l) => /Scan on|Scan using|Sort Method|Sort Key/.test(l)).slice(0, 4)
-        .map((l) => l.trim().replace(/^->\s*/, '').replace(/\s+\(cost=.*$/, '').replace(/\s+\(actual.*$/, ''))
-      console.log(`  ${c.label.padEnd(22)}${time.replace('Execution Time: ', '').padStart(12)}   ${full ? '' : gist.join(' · ')}`)
+      const gist = lines
+        .filter((l) => /Scan on|Scan using|Sort Method|Sort Key/.test(l))
+        .slice(0, 4)
+        .map((l) =>
+          l
+            .trim()
+            .replace(/^->\s*/, '')
+            .replace(/\s+\(cost=.*$/, '')
+            .replace(/\s+\(actual.*$/, ''),
+        )
+      console.log(
+        `  ${c.label.padEnd(22)}${time.replace('Execution Time: ', '').padStart(12)}   ${full ? '' : gist.join(' · ')}`,
+      )
       if (full) {
         console.log(`    ${q.sql}`)
         for (const l of lines) console.log(`    ${l}`)
@@ -338,9 +414,13 @@ async function main() {
     for (const c of cleanups.reverse()) await c().catch((e) => console.error(e instanceof Error ? e.message : e))
     cleanups.length = 0
   }
-  process.once('SIGINT', () => { void cleanup().then(() => process.exit(130)) })
+  process.once('SIGINT', () => {
+    void cleanup().then(() => process.exit(130))
+  })
   try {
-    console.log(`Register benchmark: ${BULK_LIMITS.toLocaleString('en')} limits, ${CONCURRENCY} clients, ${DURATION_MS / 1000} s per target (${os.cpus().length} CPUs, Node ${process.version})`)
+    console.log(
+      `Register benchmark: ${BULK_LIMITS.toLocaleString('en')} limits, ${CONCURRENCY} clients, ${DURATION_MS / 1000} s per target (${os.cpus().length} CPUs, Node ${process.version})`,
+    )
     let t = performance.now()
     const cluster = await startCluster()
     cleanups.push(() => cluster.stop())
@@ -357,7 +437,9 @@ async function main() {
 
     t = performance.now()
     const perSite = await bulkInsert(cluster.ownerUrl, BULK_LIMITS)
-    console.log(`  bulk insert + ANALYZE          ${seconds(performance.now() - t)}  (${perSite.map((r) => `${r.site} ${r.n.toLocaleString('en')}`).join(', ')} limits)`)
+    console.log(
+      `  bulk insert + ANALYZE          ${seconds(performance.now() - t)}  (${perSite.map((r) => `${r.site} ${r.n.toLocaleString('en')}`).join(', ')} limits)`,
+    )
 
     const config = loadConfig({ NODE_ENV: 'development', PORT: '0', DATABASE_URL: cluster.appUrl, SMTP_PORT: '1' })
     const server: RunningServer = await startServer(config, { runJobs: false })
@@ -368,13 +450,16 @@ async function main() {
 
     const base = 'siteId=1&limitClass=trip&sort=-setpoint&pageSize=50'
     const probe = await fetch(`${server.url}/api/limits?${base}&page=1`, { headers: { cookie } })
-    const probeBody = await probe.json() as { items: unknown[], total: number, totalCapped: boolean }
-    if (probe.status !== 200 || probeBody.items.length !== PAGE_SIZE) throw new Error(`the register API did not answer a full page: ${probe.status}`)
+    const probeBody = (await probe.json()) as { items: unknown[]; total: number; totalCapped: boolean }
+    if (probe.status !== 200 || probeBody.items.length !== PAGE_SIZE)
+      throw new Error(`the register API did not answer a full page: ${probe.status}`)
     console.log(`  GET /api/limits?${base}: total ${probeBody.total}${probeBody.totalCapped ? '+' : ''}`)
 
     await explainAppQueries(cluster.appUrl, process.argv.includes('--explain'))
 
-    console.log(`\nDriving the register API (${CONCURRENCY} clients, ${DURATION_MS / 1000} s after ${WARMUP_MS / 1000} s warm-up)…`)
+    console.log(
+      `\nDriving the register API (${CONCURRENCY} clients, ${DURATION_MS / 1000} s after ${WARMUP_MS / 1000} s warm-up)…`,
+    )
     const appRun = await drive((q) => `${server.url}/api/limits?${base}&${q}`, { cookie }, CONCURRENCY, DURATION_MS)
     console.log('Driving the bare Express + pg handler…')
     const naiveRun = await drive((q) => `${naive.url}/limits?${q}`, {}, CONCURRENCY, DURATION_MS)
@@ -385,7 +470,9 @@ async function main() {
     const app = figures(appRun.samples, appRun.completed, appRun.elapsedMs)
     const bare = figures(naiveRun.samples, naiveRun.completed, naiveRun.elapsedMs)
     const head = (s: string) => s.padStart(10)
-    console.log(`\n  ${''.padEnd(24)}${head('req/s')}${head('p50 ms')}${head('p95 ms')}${head('p99 ms')}   │${head('req/s')}${head('p50 ms')}${head('p95 ms')}${head('p99 ms')}`)
+    console.log(
+      `\n  ${''.padEnd(24)}${head('req/s')}${head('p50 ms')}${head('p95 ms')}${head('p99 ms')}   │${head('req/s')}${head('p50 ms')}${head('p95 ms')}${head('p99 ms')}`,
+    )
     console.log(`  ${''.padEnd(24)}${'  register API (full app)'.padEnd(40)}   │  bare Express + pg (OFFSET, count(*))`)
     row('all requests', app, bare)
     // requests/s of a variant: its share of the recorded samples times the total rate
@@ -393,14 +480,26 @@ async function main() {
       const mine = r.samples.filter((s) => s.variant === variant)
       return figures(mine, r.samples.length ? r.completed * (mine.length / r.samples.length) : 0, r.elapsedMs)
     }
-    for (const variant of ['filtered page', 'search q=tshh']) row(variant, part(appRun, variant), part(naiveRun, variant))
-    console.log(`  errors: register API ${appRun.errors}${appRun.firstError ? ` (first: ${appRun.firstError})` : ''}, bare handler ${naiveRun.errors}${naiveRun.firstError ? ` (first: ${naiveRun.firstError})` : ''}`)
+    for (const variant of ['filtered page', 'search q=tshh'])
+      row(variant, part(appRun, variant), part(naiveRun, variant))
+    console.log(
+      `  errors: register API ${appRun.errors}${appRun.firstError ? ` (first: ${appRun.firstError})` : ''}, bare handler ${naiveRun.errors}${naiveRun.firstError ? ` (first: ${naiveRun.firstError})` : ''}`,
+    )
     const health = figures(healthRun.samples, healthRun.completed, healthRun.elapsedMs)
-    console.log(`  ceiling, GET /api/health: ${health.rps.toFixed(1)} req/s, p50 ${health.p50.toFixed(1)} ms, p95 ${health.p95.toFixed(1)} ms; load average ${os.loadavg().map((l) => l.toFixed(1)).join(' ')} on ${os.cpus().length} CPUs`)
+    console.log(
+      `  ceiling, GET /api/health: ${health.rps.toFixed(1)} req/s, p50 ${health.p50.toFixed(1)} ms, p95 ${health.p95.toFixed(1)} ms; load average ${os
+        .loadavg()
+        .map((l) => l.toFixed(1))
+        .join(' ')} on ${os.cpus().length} CPUs`,
+    )
     const ratio = app.rps / bare.rps
     console.log(`\n  throughput ratio register API / bare handler: ${ratio.toFixed(2)}×`)
-    console.log(`  ${app.p95 < TARGET_P95_MS ? 'PASS' : 'FAIL'}  p95 ${app.p95.toFixed(1)} ms (target < ${TARGET_P95_MS} ms)`)
-    console.log(`  ${ratio >= TARGET_RATIO ? 'PASS' : 'FAIL'}  ${ratio.toFixed(2)}× the bare handler's requests/s (target ≥ ${TARGET_RATIO}×)`)
+    console.log(
+      `  ${app.p95 < TARGET_P95_MS ? 'PASS' : 'FAIL'}  p95 ${app.p95.toFixed(1)} ms (target < ${TARGET_P95_MS} ms)`,
+    )
+    console.log(
+      `  ${ratio >= TARGET_RATIO ? 'PASS' : 'FAIL'}  ${ratio.toFixed(2)}× the bare handler's requests/s (target ≥ ${TARGET_RATIO}×)`,
+    )
   } finally {
     await cleanup()
   }
@@ -408,8 +507,11 @@ async function main() {
 
 // run when started as a script; the cluster and bulk-insert helpers can also be imported for ad-hoc analysis
 if (process.argv[1] && path.resolve(process.argv[1]) === fileURLToPath(import.meta.url)) {
-  main().then(() => process.exit(0), (err) => {
-    console.error(err instanceof Error ? err.stack ?? err.message : err)
-    process.exit(1)
-  })
+  main().then(
+    () => process.exit(0),
+    (err) => {
+      console.error(err instanceof Error ? (err.stack ?? err.message) : err)
+      process.exit(1)
+    },
+  )
 }

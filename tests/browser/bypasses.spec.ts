@@ -3,37 +3,80 @@ import { describe, expect, it } from 'vitest'
 import { callApi, pageFor, signInAs, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
-const call = <T = any>(page: Page, method: string, path: string, body?: unknown) => callApi<T>(page, app.baseUrl, method, path, body)
+const call = <T = any>(page: Page, method: string, path: string, body?: unknown) =>
+  callApi<T>(page, app.baseUrl, method, path, body)
 const PW = 'limitkeeper-demo'
-
-
-
 
 /** A fired heater's high outlet-temperature trip with predefined compensating measures, at most 8 h bypassed, put in service through a change. */
 async function heaterTripInService(engineer: Page, approver: Page, technician: Page) {
-  const site = (await call<{ items: { id: number, code: string }[] }>(engineer, 'GET', '/sites')).items.find((s) => s.code === 'FHR')!
+  const site = (await call<{ items: { id: number; code: string }[] }>(engineer, 'GET', '/sites')).items.find(
+    (s) => s.code === 'FHR',
+  )!
   const area = (await call<{ items: { id: number }[] }>(engineer, 'GET', `/areas?siteId=${site.id}`)).items[0]
-  const proc = await call(engineer, 'POST', '/processes', { areaId: area.id, name: 'Heater H-520', description: 'fired heater, vacuum residue' })
+  const proc = await call(engineer, 'POST', '/processes', {
+    areaId: area.id,
+    name: 'Heater H-520',
+    description: 'fired heater, vacuum residue',
+  })
   const inst = await call(engineer, 'POST', '/instruments', {
-    processId: proc.id, tag: 'TT-5201', measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650,
-    designLow: null, designHigh: 900, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
+    processId: proc.id,
+    tag: 'TT-5201',
+    measuredVariable: 'temperature',
+    unit: '°C',
+    rangeLow: 0,
+    rangeHigh: 1200,
+    normalLow: 300,
+    normalHigh: 650,
+    designLow: null,
+    designHigh: 900,
+    burnout: 'upscale',
+    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+    deviceKind: 'limit_controller',
   })
   const limit = await call(engineer, 'POST', '/limits', {
-    processId: proc.id, instrumentIds: [inst.id], tag: 'TSHH-5201', direction: 'high', limitClass: 'trip', setpoint: 780, deadband: 5,
-    severity: 'severe', testIntervalMonths: 12, latching: true, resetRole: 'operator', maxBypassHours: 8, bypassPermitted: true,
-    compensatingMeasures: ['Field operator watches the local outlet temperature every 15 min', 'Firing limited to 80 % of design'],
+    processId: proc.id,
+    instrumentIds: [inst.id],
+    tag: 'TSHH-5201',
+    direction: 'high',
+    limitClass: 'trip',
+    setpoint: 780,
+    deadband: 5,
+    severity: 'severe',
+    testIntervalMonths: 12,
+    latching: true,
+    resetRole: 'operator',
+    maxBypassHours: 8,
+    bypassPermitted: true,
+    compensatingMeasures: [
+      'Field operator watches the local outlet temperature every 15 min',
+      'Firing limited to 80 % of design',
+    ],
   })
   const cr = await call(engineer, 'POST', '/change-requests', {
-    siteId: site.id, type: 'permanent', title: 'Put TSHH-5201 in service', rationale: 'Hazard study action 12', items: [{ kind: 'create', limitId: limit.id }],
+    siteId: site.id,
+    type: 'permanent',
+    title: 'Put TSHH-5201 in service',
+    rationale: 'Hazard study action 12',
+    items: [{ kind: 'create', limitId: limit.id }],
   })
   await call(engineer, 'POST', `/change-requests/${cr.id}/submission`)
   await call(approver, 'POST', `/change-requests/${cr.id}/approvals`, { password: PW })
-  await call(technician, 'POST', `/change-requests/${cr.id}/implementations`, { allItems: true, deviceListConfirmed: true, password: PW })
+  await call(technician, 'POST', `/change-requests/${cr.id}/implementations`, {
+    allItems: true,
+    deviceListConfirmed: true,
+    password: PW,
+  })
   expect((await call(engineer, 'GET', `/limits/${limit.id}`)).status).toBe('active')
   return { limitId: limit.id as number, tag: limit.tag as string }
 }
 
-const text = (page: Page, test: string) => page.locator(`[data-test="${test}"]`).first().textContent({ timeout: 1_000 }).then((t) => t?.replace(/\s+/g, ' ').trim() ?? null).catch(() => null)
+const text = (page: Page, test: string) =>
+  page
+    .locator(`[data-test="${test}"]`)
+    .first()
+    .textContent({ timeout: 1_000 })
+    .then((t) => t?.replace(/\s+/g, ' ').trim() ?? null)
+    .catch(() => null)
 /** Waits for a condition of the page (no fixed sleeps). */
 const poll = <T>(fn: () => Promise<T>) => expect.poll(fn, { timeout: 15_000 })
 
@@ -52,11 +95,16 @@ describe('bypasses in the browser', () => {
     await operator.goto(`${app.baseUrl}/register/limits/${limitId}`)
     await operator.locator('[data-test="limit-request-bypass"]').click()
     await operator.waitForURL(/\/bypasses\/new\?limitId=\d+/)
-    await poll(() => text(operator, 'predefined-measures')).toContain('Field operator watches the local outlet temperature')
+    await poll(() => text(operator, 'predefined-measures')).toContain(
+      'Field operator watches the local outlet temperature',
+    )
     expect(await text(operator, 'bypass-duration-limits')).toMatch(/Longest bypass of TSHH-5201\s*8 h/)
     expect(await operator.locator('[data-test="bypass-submit"]').isDisabled()).toBe(true)
     await operator.locator('[data-test="confirm-measures"] input').check()
-    await operator.locator('[data-test="bypass-reason"] textarea').first().fill('Burner management work, work order WO-88123')
+    await operator
+      .locator('[data-test="bypass-reason"] textarea')
+      .first()
+      .fill('Burner management work, work order WO-88123')
     await operator.locator('[data-test="bypass-start"] input').fill('2026-05-04T08:00')
     await operator.locator('[data-test="bypass-duration"] input').fill('9')
     await poll(() => text(operator, 'bypass-duration')).toContain('At most 8 h for TSHH-5201')
@@ -95,7 +143,9 @@ describe('bypasses in the browser', () => {
     // The register shows the limit as bypassed, and so does the limit's page.
     await operator.goto(`${app.baseUrl}/register?q=${tag}`)
     await operator.locator(`[data-test="row-${tag}"] [data-test="protection-bypassed"]`).waitFor()
-    expect(await operator.locator(`[data-test="row-${tag}"] [data-test="protection-bypassed"]`).textContent()).toContain('Bypassed')
+    expect(
+      await operator.locator(`[data-test="row-${tag}"] [data-test="protection-bypassed"]`).textContent(),
+    ).toContain('Bypassed')
     await operator.goto(`${app.baseUrl}/register/limits/${limitId}`)
     await operator.locator('[data-test="limit-bypass-active"]').waitFor()
 
@@ -119,10 +169,24 @@ describe('bypasses in the browser', () => {
     await manager.locator(`[data-test="review-row-${id}"]`).waitFor()
     expect(await manager.locator(`[data-test="review-row-${id}"]`).textContent()).toContain('TSHH-5201')
     await poll(() => text(manager, `review-overdue-${id}`)).toMatch(/^4\d min$/)
-    await poll(() => manager.locator('[data-test="kpi-overdue-now"] [data-test="kpi-value"]').textContent().then((t) => t?.trim())).toBe('1')
-    expect((await manager.locator('[data-test="kpi-active-now"] [data-test="kpi-value"]').textContent())?.trim()).toBe('1')
-    for (const chart of ['chart-hours-per-month', 'chart-top-limits', 'chart-overdue-per-month', 'chart-share-past-end']) {
-      await poll(() => manager.locator(`[data-test="${chart}"] canvas, [data-test="${chart}"] svg`).count()).toBeGreaterThan(0)
+    await poll(() =>
+      manager
+        .locator('[data-test="kpi-overdue-now"] [data-test="kpi-value"]')
+        .textContent()
+        .then((t) => t?.trim()),
+    ).toBe('1')
+    expect((await manager.locator('[data-test="kpi-active-now"] [data-test="kpi-value"]').textContent())?.trim()).toBe(
+      '1',
+    )
+    for (const chart of [
+      'chart-hours-per-month',
+      'chart-top-limits',
+      'chart-overdue-per-month',
+      'chart-share-past-end',
+    ]) {
+      await poll(() =>
+        manager.locator(`[data-test="${chart}"] canvas, [data-test="${chart}"] svg`).count(),
+      ).toBeGreaterThan(0)
     }
     const exportCsv = await manager.locator('[data-test="export-csv"]').getAttribute('href')
     const csv = await (await manager.request.get(`${app.baseUrl}${exportCsv}`)).text()

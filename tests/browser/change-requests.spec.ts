@@ -3,39 +3,77 @@ import { describe, expect, it } from 'vitest'
 import { callApi, pageFor, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
-const call = <T = any>(page: Page, method: string, path: string, body?: unknown) => callApi<T>(page, app.baseUrl, method, path, body)
+const call = <T = any>(page: Page, method: string, path: string, body?: unknown) =>
+  callApi<T>(page, app.baseUrl, method, path, body)
 const PW = 'limitkeeper-demo'
-
-
 
 /** A process, a type K thermocouple (0–1200 °C, normal 300–650) and a high trip at 780 °C, put in service through a first change. */
 async function heaterTripInService(engineer: Page, approver: Page, technician: Page) {
-  const site = (await call<{ items: { id: number, code: string }[] }>(engineer, 'GET', '/sites')).items.find((s) => s.code === 'FHR')!
+  const site = (await call<{ items: { id: number; code: string }[] }>(engineer, 'GET', '/sites')).items.find(
+    (s) => s.code === 'FHR',
+  )!
   const area = (await call<{ items: { id: number }[] }>(engineer, 'GET', `/areas?siteId=${site.id}`)).items[0]
-  const proc = await call(engineer, 'POST', '/processes', { areaId: area.id, name: 'Heater H-410', description: 'fired heater, crude charge' })
+  const proc = await call(engineer, 'POST', '/processes', {
+    areaId: area.id,
+    name: 'Heater H-410',
+    description: 'fired heater, crude charge',
+  })
   const inst = await call(engineer, 'POST', '/instruments', {
-    processId: proc.id, tag: 'TT-4101', measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650,
-    designLow: null, designHigh: 900, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
+    processId: proc.id,
+    tag: 'TT-4101',
+    measuredVariable: 'temperature',
+    unit: '°C',
+    rangeLow: 0,
+    rangeHigh: 1200,
+    normalLow: 300,
+    normalHigh: 650,
+    designLow: null,
+    designHigh: 900,
+    burnout: 'upscale',
+    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+    deviceKind: 'limit_controller',
   })
   const limit = await call(engineer, 'POST', '/limits', {
-    processId: proc.id, instrumentIds: [inst.id], tag: 'TSHH-4101', direction: 'high', limitClass: 'trip', setpoint: 780, deadband: 5,
-    severity: 'severe', testIntervalMonths: 12, latching: true, resetRole: 'operator', compensatingMeasures: ['Operator watches the local indicator every 15 min'],
-    maxBypassHours: 8, bypassPermitted: true,
+    processId: proc.id,
+    instrumentIds: [inst.id],
+    tag: 'TSHH-4101',
+    direction: 'high',
+    limitClass: 'trip',
+    setpoint: 780,
+    deadband: 5,
+    severity: 'severe',
+    testIntervalMonths: 12,
+    latching: true,
+    resetRole: 'operator',
+    compensatingMeasures: ['Operator watches the local indicator every 15 min'],
+    maxBypassHours: 8,
+    bypassPermitted: true,
   })
   const baseline = await call(engineer, 'POST', '/change-requests', {
-    siteId: site.id, type: 'permanent', title: 'Put TSHH-4101 in service', rationale: 'Hazard study action 7', items: [{ kind: 'create', limitId: limit.id }],
+    siteId: site.id,
+    type: 'permanent',
+    title: 'Put TSHH-4101 in service',
+    rationale: 'Hazard study action 7',
+    items: [{ kind: 'create', limitId: limit.id }],
   })
   await call(engineer, 'POST', `/change-requests/${baseline.id}/submission`)
   await call(approver, 'POST', `/change-requests/${baseline.id}/approvals`, { password: PW })
   const done = await call(technician, 'POST', `/change-requests/${baseline.id}/implementations`, {
-    itemId: baseline.items[0].id, password: PW, readBack: { setpoint: 780, deadband: 5, deadbandUnit: 'eu', onDelaySec: 0, offDelaySec: 0, latching: true },
+    itemId: baseline.items[0].id,
+    password: PW,
+    readBack: { setpoint: 780, deadband: 5, deadbandUnit: 'eu', onDelaySec: 0, offDelaySec: 0, latching: true },
   })
   expect(done.status).toBe('implemented')
   expect((await call(engineer, 'GET', `/limits/${limit.id}`)).status).toBe('active')
   return { limitId: limit.id as number }
 }
 
-const text = (page: Page, test: string) => page.locator(`[data-test="${test}"]`).first().textContent({ timeout: 1_000 }).catch(() => null)
+const text = (page: Page, test: string) =>
+  page
+    .locator(`[data-test="${test}"]`)
+    .first()
+    .textContent({ timeout: 1_000 })
+    .catch(() => null)
 /** Waits for a condition of the page (no fixed sleeps). */
 const poll = <T>(fn: () => Promise<T>) => expect.poll(fn, { timeout: 15_000 })
 
@@ -50,7 +88,10 @@ describe('management of change in the browser', () => {
     await engineer.goto(`${app.baseUrl}/changes/new?limitId=${limitId}`)
     await poll(() => text(engineer, 'item-0-current-setpoint')).toContain('780 °C')
     await engineer.locator('[data-test="change-title"] input').fill('Raise TSHH-4101 to 790 °C')
-    await engineer.locator('[data-test="change-rationale"] textarea').first().fill('New tube metallurgy allows a higher trip; see the hazard review.')
+    await engineer
+      .locator('[data-test="change-rationale"] textarea')
+      .first()
+      .fill('New tube metallurgy allows a higher trip; see the hazard review.')
     await engineer.locator('[data-test="change-hazard"] input').fill('HAZOP-2026-031 action 4')
     await engineer.locator('[data-test="change-field-setpoint"] input').fill('790')
     await engineer.locator('[data-test="change-save-submit"]').click()
@@ -104,7 +145,9 @@ describe('management of change in the browser', () => {
     expect(n).toBe(6)
     for (let i = 0; i < n; i++) {
       await boxes.nth(i).click()
-      await poll(() => engineer.locator('[data-test^="check-by-"]').nth(i).textContent()).toContain('Ticked by Selma Rookwood')
+      await poll(() => engineer.locator('[data-test^="check-by-"]').nth(i).textContent()).toContain(
+        'Ticked by Selma Rookwood',
+      )
     }
     await engineer.locator('[data-test="cr-close"]').click()
     await engineer.locator('[data-test="pssr-reference"] input').fill('PSSR-2026-114')
@@ -114,8 +157,12 @@ describe('management of change in the browser', () => {
     await engineer.locator('[data-test="sign-confirm"]').click()
     await engineer.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
     await poll(() => text(engineer, 'cr-status')).toBe('Closed')
-    const meanings = await engineer.locator('[data-test^="signature-"]').evaluateAll((rows) => rows.map((r) => r.getAttribute('data-test')))
-    expect(meanings).toEqual(expect.arrayContaining(['signature-approved', 'signature-implemented', 'signature-closed']))
+    const meanings = await engineer
+      .locator('[data-test^="signature-"]')
+      .evaluateAll((rows) => rows.map((r) => r.getAttribute('data-test')))
+    expect(meanings).toEqual(
+      expect.arrayContaining(['signature-approved', 'signature-implemented', 'signature-closed']),
+    )
     expect(await engineer.locator('[data-test="signature-mismatch"]').count()).toBe(0)
 
     // The register holds the new setpoint.

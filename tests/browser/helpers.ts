@@ -12,17 +12,36 @@ const CHROMIUM = process.env.CHROMIUM_PATH ?? '/usr/bin/chromium'
 
 /** Launches Debian's Chromium headless (playwright-core downloads nothing). */
 export function launchChromium(): Promise<Browser> {
-  if (!existsSync(CHROMIUM)) throw new Error(`Chromium not found at ${CHROMIUM}: install it with apt-get install chromium`)
+  if (!existsSync(CHROMIUM))
+    throw new Error(`Chromium not found at ${CHROMIUM}: install it with apt-get install chromium`)
   return chromium.launch({
-    executablePath: CHROMIUM, headless: true,
-    args: ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync', '--disable-dev-shm-usage'],
+    executablePath: CHROMIUM,
+    headless: true,
+    args: [
+      '--no-sandbox',
+      '--disable-gpu',
+      '--disable-quic',
+      '--no-first-run',
+      '--disable-background-networking',
+      '--disable-component-update',
+      '--disable-sync',
+      '--disable-dev-shm-usage',
+    ],
   })
 }
 
-export interface BrowserContext { server: RunningServer, browser: Browser, clock: AdjustableClock, baseUrl: string, ownerUrl: string }
+export interface BrowserContext {
+  server: RunningServer
+  browser: Browser
+  clock: AdjustableClock
+  baseUrl: string
+  ownerUrl: string
+}
 
 /** Per test file: own database with the demo plant, the built app served on a free port, and Chromium. */
-export function useBrowserApp(opts: { seed?: (ownerUrl: string) => Promise<void>, register?: boolean } = {}): BrowserContext {
+export function useBrowserApp(
+  opts: { seed?: (ownerUrl: string) => Promise<void>; register?: boolean } = {},
+): BrowserContext {
   const ctx = {} as BrowserContext
   let drop = async () => {}
   beforeAll(async () => {
@@ -67,9 +86,19 @@ export async function signInAs(page: Page, baseUrl: string, who: string) {
 }
 
 /** Calls the API from a signed-in page, with the session's cookie and CSRF token (what the app itself does). */
-export async function callApi<T = any>(page: Page, baseUrl: string, method: string, path: string, body?: unknown): Promise<T> {
-  const session = await (await page.request.get(`${baseUrl}/api/session`)).json() as { csrfToken: string }
-  const res = await page.request.fetch(`${baseUrl}/api${path}`, { method, data: body, headers: { 'X-CSRF-Token': session.csrfToken } })
+export async function callApi<T = any>(
+  page: Page,
+  baseUrl: string,
+  method: string,
+  path: string,
+  body?: unknown,
+): Promise<T> {
+  const session = (await (await page.request.get(`${baseUrl}/api/session`)).json()) as { csrfToken: string }
+  const res = await page.request.fetch(`${baseUrl}/api${path}`, {
+    method,
+    data: body,
+    headers: { 'X-CSRF-Token': session.csrfToken },
+  })
   const json = await res.json().catch(() => undefined)
   if (!res.ok()) throw new Error(`${method} ${path} answered ${res.status()}: ${JSON.stringify(json)}`)
   return json as T

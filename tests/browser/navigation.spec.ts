@@ -39,7 +39,9 @@ describe('navigation by role', () => {
     await page.getByLabel('E-mail address').fill('auditor@fernhollow.example')
     await page.getByLabel('Password').fill('not-the-password')
     await page.locator('[data-test="sign-in"]').click()
-    await expect.poll(() => page.locator('[data-test="sign-in-error"]').textContent()).toContain('E-mail address or password is wrong')
+    await expect
+      .poll(() => page.locator('[data-test="sign-in-error"]').textContent())
+      .toContain('E-mail address or password is wrong')
     await page.close()
   })
 })

@@ -13,10 +13,16 @@ function cellsOf(line: string): string[] {
   for (let i = 0; i < line.length; i++) {
     const ch = line[i]
     if (quoted) {
-      if (ch === '"' && line[i + 1] === '"') { cell += '"'; i++ } else if (ch === '"') quoted = false
+      if (ch === '"' && line[i + 1] === '"') {
+        cell += '"'
+        i++
+      } else if (ch === '"') quoted = false
       else cell += ch
     } else if (ch === '"') quoted = true
-    else if (ch === ',') { cells.push(cell); cell = '' } else cell += ch
+    else if (ch === ',') {
+      cells.push(cell)
+      cell = ''
+    } else cell += ch
   }
   cells.push(cell)
   return cells
@@ -25,15 +31,20 @@ const csvCell = (c: string) => (/[",\n]/.test(c) ? `"${c.replaceAll('"', '""')}"
 
 /** The example file's header and first two rows (an alarm and a trip on one thermocouple), their tags given a prefix. */
 function smallRegisterFile(prefix: string) {
-  const [head, ...lines] = readFileSync('docs/examples/register-import-example.csv', 'utf8').replace(/^\uFEFF/, '').split(/\r?\n/)
+  const [head, ...lines] = readFileSync('docs/examples/register-import-example.csv', 'utf8')
+    .replace(/^\uFEFF/, '')
+    .split(/\r?\n/)
   const header = cellsOf(head)
   const instrumentCol = header.indexOf('Instrument tag')
   const tagCol = header.indexOf('Limit tag')
-  const rows = lines.slice(0, 2).map(cellsOf).map((c) => {
-    c[instrumentCol] = `${prefix}${c[instrumentCol]}`
-    c[tagCol] = `${prefix}${c[tagCol]}`
-    return c
-  })
+  const rows = lines
+    .slice(0, 2)
+    .map(cellsOf)
+    .map((c) => {
+      c[instrumentCol] = `${prefix}${c[instrumentCol]}`
+      c[tagCol] = `${prefix}${c[tagCol]}`
+      return c
+    })
   const csv = `${[header, ...rows].map((r) => r.map(csvCell).join(',')).join('\n')}\n`
   return { csv, tags: rows.map((r) => r[tagCol]) }
 }
@@ -60,9 +71,13 @@ describe('the register import', () => {
     await page.locator('[data-test="import-register"]').click()
     await page.waitForURL(`${app.baseUrl}/register/import`)
     await page.locator('[data-test="import-file-step"]').waitFor()
-    expect(await page.locator('[data-test="import-example"]').textContent()).toContain('docs/examples/register-import-example.csv')
+    expect(await page.locator('[data-test="import-example"]').textContent()).toContain(
+      'docs/examples/register-import-example.csv',
+    )
     await choose(page, 'import-site', 'FHR')
-    await page.locator('[data-test="import-file"] input[type="file"]').setInputFiles({ name: 'heater-h101.csv', mimeType: 'text/csv', buffer: Buffer.from(csv, 'utf8') })
+    await page
+      .locator('[data-test="import-file"] input[type="file"]')
+      .setInputFiles({ name: 'heater-h101.csv', mimeType: 'text/csv', buffer: Buffer.from(csv, 'utf8') })
     const upload = page.locator('[data-test="import-upload"]')
     await expect.poll(() => upload.isEnabled()).toBe(true)
     await upload.click()
@@ -70,7 +85,9 @@ describe('the register import', () => {
     // 2. the columns: the register file's own headers are all matched
     await page.locator('[data-test="import-mapping-step"]').waitFor()
     expect(await page.locator('[data-test="mapping-missing"]').count()).toBe(0)
-    expect(await page.locator('[data-test="mapping-row-19"] [data-test="mapping-header"]').textContent()).toBe('Limit tag')
+    expect(await page.locator('[data-test="mapping-row-19"] [data-test="mapping-header"]').textContent()).toBe(
+      'Limit tag',
+    )
     expect(await page.locator('[data-test="mapping-source-19"]').textContent()).toBe('Same name as the register field')
     await page.locator('[data-test="mapping-continue"]').click()
 
@@ -93,7 +110,9 @@ describe('the register import', () => {
     expect(await page.locator('[data-test="cr-status"]').textContent()).toContain('Draft')
     const items = page.locator('[data-test^="change-item-"]')
     await expect.poll(() => items.count()).toBe(2)
-    expect((await items.locator('[data-test="item-target-link"]').allTextContents()).map((t) => t.trim()).sort()).toEqual([...tags].sort())
+    expect(
+      (await items.locator('[data-test="item-target-link"]').allTextContents()).map((t) => t.trim()).sort(),
+    ).toEqual([...tags].sort())
     await page.close()
   })
 })

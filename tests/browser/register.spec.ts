@@ -7,7 +7,7 @@ const app = useBrowserApp()
 /** Calls the API from the signed-in page (its session cookie and CSRF token). */
 async function apiFrom(page: Page) {
   const base = `${app.baseUrl}/api`
-  const { csrfToken } = await (await page.request.get(`${base}/session`)).json() as { csrfToken: string }
+  const { csrfToken } = (await (await page.request.get(`${base}/session`)).json()) as { csrfToken: string }
   return {
     async get<T>(url: string): Promise<T> {
       const res = await page.request.get(`${base}${url}`)
@@ -25,24 +25,56 @@ async function apiFrom(page: Page) {
 /** A heater with one thermocouple and two drafts on it: an alarm and a trip (the trip raises window warnings). */
 async function createFixture(page: Page) {
   const api = await apiFrom(page)
-  const sites = await api.get<{ items: { id: number, code: string }[] }>('/sites')
+  const sites = await api.get<{ items: { id: number; code: string }[] }>('/sites')
   const fhr = sites.items.find((s) => s.code === 'FHR')!
-  const areas = await api.get<{ items: { id: number, siteId: number }[] }>('/areas')
+  const areas = await api.get<{ items: { id: number; siteId: number }[] }>('/areas')
   const area = areas.items.find((a) => a.siteId === fhr.id)!
-  const process = await api.post<{ id: number }>('/processes', { areaId: area.id, name: 'Browser test heater BT-1', description: 'Fired heater used by the register journey' })
-  const instrument = await api.post<{ id: number }>('/instruments', {
-    processId: process.id, tag: 'BT-TT-901', measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 600,
-    normalLow: 320, normalHigh: 370, designLow: null, designHigh: 450, burnout: 'downscale',
-    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller', deviceDescription: 'Limit controller, channel 1',
+  const process = await api.post<{ id: number }>('/processes', {
+    areaId: area.id,
+    name: 'Browser test heater BT-1',
+    description: 'Fired heater used by the register journey',
   })
-  const common = { processId: process.id, instrumentIds: [instrument.id], direction: 'high', deadband: 5, testIntervalMonths: 12 }
+  const instrument = await api.post<{ id: number }>('/instruments', {
+    processId: process.id,
+    tag: 'BT-TT-901',
+    measuredVariable: 'temperature',
+    unit: '°C',
+    rangeLow: 0,
+    rangeHigh: 600,
+    normalLow: 320,
+    normalHigh: 370,
+    designLow: null,
+    designHigh: 450,
+    burnout: 'downscale',
+    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+    deviceKind: 'limit_controller',
+    deviceDescription: 'Limit controller, channel 1',
+  })
+  const common = {
+    processId: process.id,
+    instrumentIds: [instrument.id],
+    direction: 'high',
+    deadband: 5,
+    testIntervalMonths: 12,
+  }
   await api.post('/limits', {
-    ...common, tag: 'BT-TAH-901', description: 'Browser test outlet temperature high alarm', limitClass: 'alarm', setpoint: 390,
-    responseTimeMin: 10, severity: 'major',
+    ...common,
+    tag: 'BT-TAH-901',
+    description: 'Browser test outlet temperature high alarm',
+    limitClass: 'alarm',
+    setpoint: 390,
+    responseTimeMin: 10,
+    severity: 'major',
   })
   const trip = await api.post<{ id: number }>('/limits', {
-    ...common, tag: 'BT-TSH-901', description: 'Browser test outlet temperature high trip', limitClass: 'trip', setpoint: 420,
-    onDelaySec: 2, severity: 'severe', analyticalLimit: 440,
+    ...common,
+    tag: 'BT-TSH-901',
+    description: 'Browser test outlet temperature high trip',
+    limitClass: 'trip',
+    setpoint: 420,
+    onDelaySec: 2,
+    severity: 'severe',
+    analyticalLimit: 440,
   })
   return { tripId: trip.id }
 }
@@ -87,16 +119,18 @@ describe('the register', () => {
     await page.locator('[data-test="window-chart"] canvas, [data-test="window-chart"] svg').first().waitFor()
     const warnings = page.locator('[data-test="window-warning"]')
     await expect.poll(() => warnings.count()).toBe(2)
-    expect(await warnings.allTextContents()).toEqual(expect.arrayContaining([
-      expect.stringContaining('delays are meant for alarms'),
-      expect.stringContaining('burns out downscale'),
-    ]))
+    expect(await warnings.allTextContents()).toEqual(
+      expect.arrayContaining([
+        expect.stringContaining('delays are meant for alarms'),
+        expect.stringContaining('burns out downscale'),
+      ]),
+    )
     expect(await page.locator('[data-test="safety-notice"]').count()).toBe(1)
     expect(await page.locator('[data-test="edit-limit"]').count()).toBe(1)
     await page.close()
   })
 
-  it('shows the server\'s field messages when an edited draft leaves its operating window', async () => {
+  it("shows the server's field messages when an edited draft leaves its operating window", async () => {
     const page = await app.browser.newPage({ viewport: { width: 1440, height: 1000 } })
     await signInAs(page, app.baseUrl, 'engineer')
     const api = await apiFrom(page)
@@ -111,7 +145,9 @@ describe('the register', () => {
     await setpoint.fill('380')
     await page.locator('[data-test="window-preview"] [data-test="window-error"]').first().waitFor()
     await page.locator('[data-test="save-limit"]').click()
-    await expect.poll(() => page.locator('[data-test="field-setpoint"]').textContent()).toContain('must be above high alarm BT-TAH-901')
+    await expect
+      .poll(() => page.locator('[data-test="field-setpoint"]').textContent())
+      .toContain('must be above high alarm BT-TAH-901')
     await page.locator('[data-test="server-window-findings"]').waitFor()
     expect(page.url()).toBe(`${app.baseUrl}/register/limits/${id}/edit`)
     await page.close()

@@ -23,11 +23,19 @@ function freePort(): Promise<number> {
   return new Promise((resolve, reject) => {
     const s = net.createServer()
     s.once('error', reject)
-    s.listen(0, '127.0.0.1', () => { const { port } = s.address() as net.AddressInfo; s.close(() => resolve(port)) })
+    s.listen(0, '127.0.0.1', () => {
+      const { port } = s.address() as net.AddressInfo
+      s.close(() => resolve(port))
+    })
   })
 }
 
-async function signIn(browser: Browser, baseUrl: string, who: string, viewport = { width: 1440, height: 900 }): Promise<Page> {
+async function signIn(
+  browser: Browser,
+  baseUrl: string,
+  who: string,
+  viewport = { width: 1440, height: 900 },
+): Promise<Page> {
   const page = await browser.newPage({ viewport })
   await page.goto(`${baseUrl}/sign-in`)
   // the e-mail field takes the focus when the form mounts (autofocus): wait for it before typing
@@ -41,7 +49,12 @@ async function signIn(browser: Browser, baseUrl: string, who: string, viewport =
 
 async function shot(page: Page, url: string, name: string, waitFor?: string) {
   await page.goto(url)
-  if (waitFor) await page.locator(waitFor).first().waitFor({ timeout: 15_000 }).catch(() => console.warn(`  ${name}: ${waitFor} did not appear`))
+  if (waitFor)
+    await page
+      .locator(waitFor)
+      .first()
+      .waitFor({ timeout: 15_000 })
+      .catch(() => console.warn(`  ${name}: ${waitFor} did not appear`))
   await page.waitForLoadState('networkidle')
   await page.mouse.move(0, 0)
   await page.waitForTimeout(600) // let ripples and chart animations settle for a clean picture
@@ -55,16 +68,30 @@ const env = { ...process.env, PG_DIR: path.join(dir, 'pg'), PGPORT: String(await
 let stop = async () => {}
 try {
   const { stdout } = await run('bash', ['server/db/pg.sh', 'start'], { env })
-  const vars = Object.fromEntries(stdout.trim().split('\n').map((l) => l.split(/=(.*)/s).slice(0, 2)))
+  const vars = Object.fromEntries(
+    stdout
+      .trim()
+      .split('\n')
+      .map((l) => l.split(/=(.*)/s).slice(0, 2)),
+  )
   await migrateToLatest(vars.MIGRATION_DATABASE_URL)
   const owner = createDb(vars.MIGRATION_DATABASE_URL, 2).db
-  const config = loadConfig({ ...process.env, NODE_ENV: 'development', DATABASE_URL: vars.DATABASE_URL, PORT: '0', SMTP_PORT: '1' })
+  const config = loadConfig({
+    ...process.env,
+    NODE_ENV: 'development',
+    DATABASE_URL: vars.DATABASE_URL,
+    PORT: '0',
+    SMTP_PORT: '1',
+  })
   await seedDemo(owner)
   await seedDemoActivity(owner, config, systemClock)
   await owner.destroy()
   const server = await startServer(config, { runJobs: false })
   const browser = await launchChromium()
-  stop = async () => { await browser.close(); await server.close() }
+  stop = async () => {
+    await browser.close()
+    await server.close()
+  }
   await mkdir(OUT, { recursive: true })
   const base = server.url
   console.log('Screenshots:')

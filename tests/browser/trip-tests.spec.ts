@@ -17,19 +17,34 @@ async function signIn(page: Page, who: string) {
   const password = page.getByLabel('Password')
   for (let attempt = 1; ; attempt++) {
     await page.goto(`${app.baseUrl}/sign-in`)
-    await expect.poll(async () => {
-      await email.fill(`${who}@fernhollow.example`)
-      await password.fill(PW)
-      return [await email.inputValue(), await password.inputValue()]
-    }).toEqual([`${who}@fernhollow.example`, PW])
+    await expect
+      .poll(async () => {
+        await email.fill(`${who}@fernhollow.example`)
+        await password.fill(PW)
+        return [await email.inputValue(), await password.inputValue()]
+      })
+      .toEqual([`${who}@fernhollow.example`, PW])
     await page.locator('[data-test="sign-in"]').click()
     const outcome = await Promise.race([
-      page.locator('[data-test="user-name"]').waitFor({ state: 'attached' }).then(() => 'signed-in', () => 'timeout'),
+      page
+        .locator('[data-test="user-name"]')
+        .waitFor({ state: 'attached' })
+        .then(
+          () => 'signed-in',
+          () => 'timeout',
+        ),
       // the loser of the race ends when its page closes; its failure is not this step's
-      page.locator('[data-test="sign-in-error"]').waitFor().then(() => 'refused', () => 'timeout'),
+      page
+        .locator('[data-test="sign-in-error"]')
+        .waitFor()
+        .then(
+          () => 'refused',
+          () => 'timeout',
+        ),
     ])
     if (outcome === 'signed-in') return
-    if (attempt === 3 || outcome === 'timeout') throw new Error(`sign-in as ${who} failed: ${await page.locator('[data-test="sign-in-error"]').textContent()}`)
+    if (attempt === 3 || outcome === 'timeout')
+      throw new Error(`sign-in as ${who} failed: ${await page.locator('[data-test="sign-in-error"]').textContent()}`)
   }
 }
 
@@ -39,38 +54,87 @@ async function userPage(browser: Browser, who: string) {
   const page = await context.newPage()
   await signIn(page, who)
   const base = `${app.baseUrl}/api`
-  const csrf = async () => ((await (await page.request.get(`${base}/session`)).json()) as { csrfToken: string }).csrfToken
-  const call = async <T>(method: 'GET' | 'POST', url: string, data?: unknown, expected = method === 'POST' ? 201 : 200): Promise<T> => {
-    const res = method === 'GET' ? await page.request.get(`${base}${url}`) : await page.request.post(`${base}${url}`, { data, headers: { 'X-CSRF-Token': await csrf() } })
+  const csrf = async () =>
+    ((await (await page.request.get(`${base}/session`)).json()) as { csrfToken: string }).csrfToken
+  const call = async <T>(
+    method: 'GET' | 'POST',
+    url: string,
+    data?: unknown,
+    expected = method === 'POST' ? 201 : 200,
+  ): Promise<T> => {
+    const res =
+      method === 'GET'
+        ? await page.request.get(`${base}${url}`)
+        : await page.request.post(`${base}${url}`, { data, headers: { 'X-CSRF-Token': await csrf() } })
     expect(res.status(), `${method} ${url}: ${await res.text()}`).toBe(expected)
     return res.json() as Promise<T>
   }
-  return { page, context, get: <T>(url: string) => call<T>('GET', url), post: <T>(url: string, data: unknown, expected?: number) => call<T>('POST', url, data, expected) }
+  return {
+    page,
+    context,
+    get: <T>(url: string) => call<T>('GET', url),
+    post: <T>(url: string, data: unknown, expected?: number) => call<T>('POST', url, data, expected),
+  }
 }
 
 /** A type K thermocouple (0–1200 °C) with a latching high trip at 800 °C, put in service through a change request. */
 async function activeThermocoupleTrip(browser: Browser) {
   const eng = await userPage(browser, 'engineer')
-  const sites = await eng.get<{ items: { id: number, code: string }[] }>('/sites')
+  const sites = await eng.get<{ items: { id: number; code: string }[] }>('/sites')
   const fhr = sites.items.find((s) => s.code === 'FHR')!
-  const areas = await eng.get<{ items: { id: number, siteId: number }[] }>(`/areas?siteId=${fhr.id}`)
-  const proc = await eng.post<{ id: number }>('/processes', { areaId: areas.items[0].id, name: 'Browser test furnace F-7', description: 'Annealing furnace' })
+  const areas = await eng.get<{ items: { id: number; siteId: number }[] }>(`/areas?siteId=${fhr.id}`)
+  const proc = await eng.post<{ id: number }>('/processes', {
+    areaId: areas.items[0].id,
+    name: 'Browser test furnace F-7',
+    description: 'Annealing furnace',
+  })
   const inst = await eng.post<{ id: number }>('/instruments', {
-    processId: proc.id, tag: 'BT-TT-770', measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 600, normalHigh: 720,
-    designLow: null, designHigh: 900, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
+    processId: proc.id,
+    tag: 'BT-TT-770',
+    measuredVariable: 'temperature',
+    unit: '°C',
+    rangeLow: 0,
+    rangeHigh: 1200,
+    normalLow: 600,
+    normalHigh: 720,
+    designLow: null,
+    designHigh: 900,
+    burnout: 'upscale',
+    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+    deviceKind: 'limit_controller',
     deviceDescription: 'Furnace zone 1 over-temperature limiter',
   })
-  const limit = await eng.post<{ id: number, tag: string }>('/limits', {
-    processId: proc.id, instrumentIds: [inst.id], tag: 'BT-TSHH-770', description: 'Furnace zone 1 over-temperature trip', direction: 'high', limitClass: 'trip',
-    setpoint: 800, deadband: 10, severity: 'severe', testIntervalMonths: 12, latching: true, resetRole: 'operator', requiredResponseTimeSec: 5,
+  const limit = await eng.post<{ id: number; tag: string }>('/limits', {
+    processId: proc.id,
+    instrumentIds: [inst.id],
+    tag: 'BT-TSHH-770',
+    description: 'Furnace zone 1 over-temperature trip',
+    direction: 'high',
+    limitClass: 'trip',
+    setpoint: 800,
+    deadband: 10,
+    severity: 'severe',
+    testIntervalMonths: 12,
+    latching: true,
+    resetRole: 'operator',
+    requiredResponseTimeSec: 5,
     compensatingMeasures: ['Operator watches the zone temperature locally'],
   })
-  const cr = await eng.post<{ id: number }>('/change-requests', { siteId: fhr.id, type: 'permanent', title: 'Put BT-TSHH-770 in service', items: [{ kind: 'create', limitId: limit.id }] })
+  const cr = await eng.post<{ id: number }>('/change-requests', {
+    siteId: fhr.id,
+    type: 'permanent',
+    title: 'Put BT-TSHH-770 in service',
+    items: [{ kind: 'create', limitId: limit.id }],
+  })
   await eng.post(`/change-requests/${cr.id}/submission`, {}, 200)
   const approver = await userPage(browser, 'approver')
   await approver.post(`/change-requests/${cr.id}/approvals`, { password: PW }, 200)
   const tech = await userPage(browser, 'technician')
-  await tech.post(`/change-requests/${cr.id}/implementations`, { allItems: true, deviceListConfirmed: true, password: PW }, 200)
+  await tech.post(
+    `/change-requests/${cr.id}/implementations`,
+    { allItems: true, deviceListConfirmed: true, password: PW },
+    200,
+  )
   await eng.context.close()
   await approver.context.close()
   return { limit, tech }
@@ -106,7 +170,9 @@ describe('trip tests in the browser', () => {
     await field(page, 'test-signal-cold-junction').fill('25')
     const value = page.locator('[data-test="test-signal-value"]')
     await expect.poll(() => value.textContent()).toContain('32.275 mV')
-    expect(await page.locator('[data-test="test-signal-components"]').textContent()).toContain('E(cold junction) = 1.0002 mV')
+    expect(await page.locator('[data-test="test-signal-components"]').textContent()).toContain(
+      'E(cold junction) = 1.0002 mV',
+    )
 
     await field(page, 'performed-at').fill('2026-09-14T09:30')
     await field(page, 'procedure-ref').fill('TP-770-01 rev 2')
@@ -126,7 +192,8 @@ describe('trip tests in the browser', () => {
     await expect.poll(() => page.locator('[data-test="as-found-converted"]').textContent()).toMatch(/= 800\.\d+ °C/)
     await field(page, 'reset-value').fill('791')
     await field(page, 'response-time').fill('3.5')
-    for (const check of ['check-latch', 'check-reset-refused', 'check-reset-accepted', 'check-final-element']) await page.locator(`[data-test="${check}-yes"]`).click()
+    for (const check of ['check-latch', 'check-reset-refused', 'check-reset-accepted', 'check-final-element'])
+      await page.locator(`[data-test="${check}-yes"]`).click()
     await expect.poll(() => page.locator('[data-test="preview-verdict"]').textContent()).toContain('Passes')
     expect(await page.locator('[data-test="preview-as-found"]').textContent()).toContain('In tolerance')
     // large touch targets on the tablet
@@ -147,13 +214,24 @@ describe('trip tests in the browser', () => {
     await page.locator('[data-test="sign-dialog"]').waitFor()
     await field(page, 'sign-password').fill(PW)
     await page.locator('[data-test="sign-confirm"]').click()
-    await expect.poll(() => page.locator('[data-test="signer-performed"]').textContent()).toContain('Tomas Quillfeather')
+    await expect
+      .poll(() => page.locator('[data-test="signer-performed"]').textContent())
+      .toContain('Tomas Quillfeather')
     expect(await page.locator('[data-test="test-status"]').textContent()).toContain('Signed')
     expect(await page.locator('[data-test="edit-test"]').count()).toBe(0)
-    const proven = await tech.get<{ testDueDate: string, protectionState: string, lastFullPass: string }>(`/limits/${limit.id}`)
-    expect(proven).toMatchObject({ lastFullPass: '2026-09-14', testDueDate: '2027-09-14', protectionState: 'in_service' })
+    const proven = await tech.get<{ testDueDate: string; protectionState: string; lastFullPass: string }>(
+      `/limits/${limit.id}`,
+    )
+    expect(proven).toMatchObject({
+      lastFullPass: '2026-09-14',
+      testDueDate: '2027-09-14',
+      protectionState: 'in_service',
+    })
 
-    const [download] = await Promise.all([page.waitForEvent('download'), page.locator('[data-test="download-certificate"]').click()])
+    const [download] = await Promise.all([
+      page.waitForEvent('download'),
+      page.locator('[data-test="download-certificate"]').click(),
+    ])
     expect(download.suggestedFilename()).toBe(`trip-test-${testId}-${limit.tag}.pdf`)
     const pdf = await readFile((await download.path())!)
     expect(pdf.subarray(0, 5).toString('latin1')).toBe('%PDF-')

@@ -12,12 +12,16 @@ import { AppError, notFound, validationFailed } from '../../errors.ts'
 export const MAX_ATTACHMENT_BYTES = 10 * 1024 * 1024
 
 /** multer in memory with the size limit; the type is checked from the content afterwards. */
-export const attachmentUpload = multer({ storage: multer.memoryStorage(), limits: { fileSize: MAX_ATTACHMENT_BYTES, files: 1 } })
+export const attachmentUpload = multer({
+  storage: multer.memoryStorage(),
+  limits: { fileSize: MAX_ATTACHMENT_BYTES, files: 1 },
+})
 
 /** The file's real type from its first bytes (PDF, PNG, JPEG), whatever its name or the browser says; null otherwise. */
 export function sniffType(buf: Buffer): 'application/pdf' | 'image/png' | 'image/jpeg' | null {
   if (buf.length >= 5 && buf.subarray(0, 5).toString('latin1') === '%PDF-') return 'application/pdf'
-  if (buf.length >= 8 && buf.subarray(0, 8).equals(Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]))) return 'image/png'
+  if (buf.length >= 8 && buf.subarray(0, 8).equals(Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a])))
+    return 'image/png'
   if (buf.length >= 3 && buf[0] === 0xff && buf[1] === 0xd8 && buf[2] === 0xff) return 'image/jpeg'
   return null
 }
@@ -27,7 +31,14 @@ export const receiveAttachment: RequestHandler = (req, res, next) => {
   attachmentUpload.single('file')(req, res, (err: unknown) => {
     if (!err) return next()
     if (err instanceof multer.MulterError && err.code === 'LIMIT_FILE_SIZE') {
-      return next(new AppError(413, ErrorCode.VALIDATION_FAILED, `The file is larger than ${MAX_ATTACHMENT_BYTES / 1024 / 1024} MB`, { fields: { file: ['Too large'] } }))
+      return next(
+        new AppError(
+          413,
+          ErrorCode.VALIDATION_FAILED,
+          `The file is larger than ${MAX_ATTACHMENT_BYTES / 1024 / 1024} MB`,
+          { fields: { file: ['Too large'] } },
+        ),
+      )
     }
     const message = err instanceof Error ? err.message : 'unreadable form data'
     next(validationFailed({ file: [message] }, `The upload could not be read: ${message}`))
@@ -35,25 +46,69 @@ export const receiveAttachment: RequestHandler = (req, res, next) => {
 }
 
 /** Checks and stores an uploaded file in PostgreSQL, in the caller's transaction. */
-export async function storeAttachment(trx: Transaction<Database>, clock: Clock, file: Express.Multer.File | undefined, owner: { entityType: string, entityId: number, userId: number }) {
-  if (!file || !file.buffer?.length) throw new AppError(400, ErrorCode.VALIDATION_FAILED, 'Choose a file to attach', { fields: { file: ['Choose a file'] } })
+export async function storeAttachment(
+  trx: Transaction<Database>,
+  clock: Clock,
+  file: Express.Multer.File | undefined,
+  owner: { entityType: string; entityId: number; userId: number },
+) {
+  if (!file || !file.buffer?.length)
+    throw new AppError(400, ErrorCode.VALIDATION_FAILED, 'Choose a file to attach', {
+      fields: { file: ['Choose a file'] },
+    })
   const type = sniffType(file.buffer)
-  if (!type) throw new AppError(400, ErrorCode.VALIDATION_FAILED, 'Only PDF, PNG and JPEG files can be attached (checked by content)', { fields: { file: ['Not a PDF, PNG or JPEG file'] } })
+  if (!type)
+    throw new AppError(
+      400,
+      ErrorCode.VALIDATION_FAILED,
+      'Only PDF, PNG and JPEG files can be attached (checked by content)',
+      { fields: { file: ['Not a PDF, PNG or JPEG file'] } },
+    )
   const name = file.originalname.replace(/[^\w.\- ()]/g, '_').slice(0, 150) || 'attachment'
-  return trx.insertInto('attachment').values({
-    entity_type: owner.entityType, entity_id: owner.entityId, file_name: name, content_type: type, size_bytes: file.buffer.length,
-    sha256: createHash('sha256').update(file.buffer).digest('hex'), content: file.buffer, uploaded_by: owner.userId, uploaded_at: clock.now(),
-  }).returning(['id', 'file_name', 'content_type', 'size_bytes', 'sha256']).executeTakeFirstOrThrow()
+  return trx
+    .insertInto('attachment')
+    .values({
+      entity_type: owner.entityType,
+      entity_id: owner.entityId,
+      file_name: name,
+      content_type: type,
+      size_bytes: file.buffer.length,
+      sha256: createHash('sha256').update(file.buffer).digest('hex'),
+      content: file.buffer,
+      uploaded_by: owner.userId,
+      uploaded_at: clock.now(),
+    })
+    .returning(['id', 'file_name', 'content_type', 'size_bytes', 'sha256'])
+    .executeTakeFirstOrThrow()
 }
 
 export function listAttachments(db: Db | Transaction<Database>, entityType: string, entityId: number) {
-  return db.selectFrom('attachment').leftJoin('app_user', 'app_user.id', 'attachment.uploaded_by')
-    .select(['attachment.id', 'attachment.file_name', 'attachment.content_type', 'attachment.size_bytes', 'attachment.uploaded_at', 'attachment.sha256', 'app_user.display_name'])
-    .where('entity_type', '=', entityType).where('entity_id', '=', entityId).orderBy('attachment.id').execute()
+  return db
+    .selectFrom('attachment')
+    .leftJoin('app_user', 'app_user.id', 'attachment.uploaded_by')
+    .select([
+      'attachment.id',
+      'attachment.file_name',
+      'attachment.content_type',
+      'attachment.size_bytes',
+      'attachment.uploaded_at',
+      'attachment.sha256',
+      'app_user.display_name',
+    ])
+    .where('entity_type', '=', entityType)
+    .where('entity_id', '=', entityId)
+    .orderBy('attachment.id')
+    .execute()
 }
 
 export async function readAttachment(db: Db, entityType: string, entityId: number, id: number) {
-  const row = await db.selectFrom('attachment').selectAll().where('id', '=', id).where('entity_type', '=', entityType).where('entity_id', '=', entityId).executeTakeFirst()
+  const row = await db
+    .selectFrom('attachment')
+    .selectAll()
+    .where('id', '=', id)
+    .where('entity_type', '=', entityType)
+    .where('entity_id', '=', entityId)
+    .executeTakeFirst()
   if (!row) throw notFound('Attachment')
   return row
 }

@@ -5,7 +5,11 @@ import type { Database } from '../../db/schema.ts'
 import { GENESIS_HASH, hashEvent } from './audit.hash.ts'
 
 /** Who did it, from where, in which request: carried from the HTTP request down to every audit event. */
-export interface AuditContext { actorId: number | null, requestId: string | null, ip: string | null }
+export interface AuditContext {
+  actorId: number | null
+  requestId: string | null
+  ip: string | null
+}
 
 export interface AuditEntry {
   action: string
@@ -29,7 +33,12 @@ function toJsonValue(v: unknown): unknown {
  * Appends events to the hash chain. Call it as the last step of the business transaction (READ COMMITTED):
  * the advisory lock it takes is held until COMMIT.
  */
-export async function appendAudit(trx: Transaction<Database>, clock: Clock, ctx: AuditContext, entries: AuditEntry | AuditEntry[]): Promise<void> {
+export async function appendAudit(
+  trx: Transaction<Database>,
+  clock: Clock,
+  ctx: AuditContext,
+  entries: AuditEntry | AuditEntry[],
+): Promise<void> {
   const list = Array.isArray(entries) ? entries : [entries]
   if (!list.length) return
   await sql`SELECT pg_advisory_xact_lock(${sql.lit(AUDIT_CHAIN_LOCK)})`.execute(trx)
@@ -70,7 +79,10 @@ export async function appendAudit(trx: Transaction<Database>, clock: Clock, ctx:
     }
   })
   for (let i = 0; i < rows.length; i += 500) {
-    await trx.insertInto('audit_event').values(rows.slice(i, i + 500)).execute()
+    await trx
+      .insertInto('audit_event')
+      .values(rows.slice(i, i + 500))
+      .execute()
   }
 }
 
@@ -79,7 +91,14 @@ export async function appendAuditAlone(db: Db, clock: Clock, ctx: AuditContext, 
   await db.transaction().execute((trx) => appendAudit(trx, clock, ctx, entry))
 }
 
-export interface VerifyResult { ok: boolean, checked: number, badId?: number, problem?: string, headId?: number, headHash?: string }
+export interface VerifyResult {
+  ok: boolean
+  checked: number
+  badId?: number
+  problem?: string
+  headId?: number
+  headHash?: string
+}
 
 /** Walks the chain in id order, in keyset pages, and reports the first broken link. */
 export async function verifyAuditChain(db: Db, pageSize = 5000): Promise<VerifyResult> {
@@ -87,13 +106,30 @@ export async function verifyAuditChain(db: Db, pageSize = 5000): Promise<VerifyR
   let prev = GENESIS_HASH
   let checked = 0
   for (;;) {
-    const page = await db.selectFrom('audit_event').selectAll().where('id', '>', lastId).orderBy('id').limit(pageSize).execute()
+    const page = await db
+      .selectFrom('audit_event')
+      .selectAll()
+      .where('id', '>', lastId)
+      .orderBy('id')
+      .limit(pageSize)
+      .execute()
     if (!page.length) break
     for (const r of page) {
-      if (r.prev_hash !== prev) return { ok: false, checked, badId: r.id, problem: 'prev_hash does not match the previous event' }
+      if (r.prev_hash !== prev)
+        return { ok: false, checked, badId: r.id, problem: 'prev_hash does not match the previous event' }
       const recomputed = hashEvent({
-        occurredAt: r.occurred_at, actorId: r.actor_id, action: r.action, entityType: r.entity_type, entityId: r.entity_id,
-        before: r.before, after: r.after, reason: r.reason, batchId: r.batch_id, requestId: r.request_id, ip: r.ip, prevHash: r.prev_hash,
+        occurredAt: r.occurred_at,
+        actorId: r.actor_id,
+        action: r.action,
+        entityType: r.entity_type,
+        entityId: r.entity_id,
+        before: r.before,
+        after: r.after,
+        reason: r.reason,
+        batchId: r.batch_id,
+        requestId: r.request_id,
+        ip: r.ip,
+        prevHash: r.prev_hash,
       })
       if (recomputed !== r.hash) return { ok: false, checked, badId: r.id, problem: 'hash does not match content' }
       prev = r.hash

@@ -27,17 +27,39 @@ export function createAuditRouter(deps: AppDeps) {
     if (q.action) base = base.where('audit_event.action', 'like', `${q.action}%`)
     if (q.from) base = base.where('audit_event.occurred_at', '>=', new Date(q.from))
     if (q.to) base = base.where('audit_event.occurred_at', '<', new Date(q.to))
-    if (q.q) base = base.where((eb) => eb.or([eb('audit_event.action', 'ilike', `%${likeEscape(q.q!)}%`), eb('app_user.display_name', 'ilike', `%${likeEscape(q.q!)}%`)]))
+    if (q.q)
+      base = base.where((eb) =>
+        eb.or([
+          eb('audit_event.action', 'ilike', `%${likeEscape(q.q!)}%`),
+          eb('app_user.display_name', 'ilike', `%${likeEscape(q.q!)}%`),
+        ]),
+      )
     const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-    let page = base.selectAll('audit_event').select('app_user.display_name as actorName').orderBy('audit_event.id', 'desc').limit(q.pageSize)
+    let page = base
+      .selectAll('audit_event')
+      .select('app_user.display_name as actorName')
+      .orderBy('audit_event.id', 'desc')
+      .limit(q.pageSize)
     page = q.cursor ? page.where('audit_event.id', '<', q.cursor) : page.offset((q.page - 1) * q.pageSize)
     const rows = await page.execute()
     res.json({
       total,
       items: rows.map((r) => ({
-        id: r.id, at: r.occurred_at.toISOString(), actorId: r.actor_id, actorName: r.actorName, action: r.action, entityType: r.entity_type,
-        entityId: r.entity_id, before: r.before, after: r.after, reason: r.reason, batchId: r.batch_id, requestId: r.request_id, ip: r.ip,
-        prevHash: r.prev_hash, hash: r.hash,
+        id: r.id,
+        at: r.occurred_at.toISOString(),
+        actorId: r.actor_id,
+        actorName: r.actorName,
+        action: r.action,
+        entityType: r.entity_type,
+        entityId: r.entity_id,
+        before: r.before,
+        after: r.after,
+        reason: r.reason,
+        batchId: r.batch_id,
+        requestId: r.request_id,
+        ip: r.ip,
+        prevHash: r.prev_hash,
+        hash: r.hash,
       })),
       nextCursor: rows.length === q.pageSize ? rows[rows.length - 1].id : null,
     })

@@ -1,4 +1,11 @@
-import { compareToTarget, effectivePfd, sifPfd, silBand, type Sil, type Subsystem } from '../../../shared/domain/sif-reliability.ts'
+import {
+  compareToTarget,
+  effectivePfd,
+  sifPfd,
+  silBand,
+  type Sil,
+  type Subsystem,
+} from '../../../shared/domain/sif-reliability.ts'
 import type { BypassDto } from '../../../shared/schemas/bypasses.ts'
 import type { AppDeps } from '../../deps.ts'
 import { validationFailed } from '../../errors.ts'
@@ -23,7 +30,10 @@ function months(from: Date, to: Date): [number, number, string][] {
     const end = Date.UTC(y, m + 1, 1)
     out.push([start, end, `${y}-${String(m + 1).padStart(2, '0')}`])
     m++
-    if (m === 12) { m = 0; y++ }
+    if (m === 12) {
+      m = 0
+      y++
+    }
   }
   return out
 }
@@ -44,26 +54,41 @@ function overdueSpan(b: BypassDto, now: number): [number, number] | null {
  * The plant manager's review over a period: history rows, KPIs and chart series (bypass hours per month, the ten limits
  * with most bypass hours, overdue bypasses per month, share past planned end), plus hours degraded by failed tests.
  */
-export async function bypassReview(deps: AppDeps, q: Omit<BypassListQuery, 'page' | 'pageSize'> & { from: Date, to: Date }) {
+export async function bypassReview(
+  deps: AppDeps,
+  q: Omit<BypassListQuery, 'page' | 'pageSize'> & { from: Date; to: Date },
+) {
   const now = deps.clock.now().getTime()
   const { items } = await listBypasses(deps, { ...q, page: 1, pageSize: 10_000 })
   const from = q.from.getTime()
   const to = Math.min(q.to.getTime(), now)
   const inPeriod = items.filter((b) => {
     const span = activeSpan(b, now)
-    return span ? overlapHours(span[0], span[1], from, to) > 0 : new Date(b.createdAt).getTime() >= from && new Date(b.createdAt).getTime() < to
+    return span
+      ? overlapHours(span[0], span[1], from, to) > 0
+      : new Date(b.createdAt).getTime() >= from && new Date(b.createdAt).getTime() < to
   })
   // the first and last month count only their part inside the period, like the per-limit totals
-  const monthList = months(new Date(from), new Date(to)).map(([s, e, label]): [number, number, string] => [Math.max(s, from), Math.min(e, to), label])
+  const monthList = months(new Date(from), new Date(to)).map(([s, e, label]): [number, number, string] => [
+    Math.max(s, from),
+    Math.min(e, to),
+    label,
+  ])
   const hoursPerMonth = monthList.map(([s, e, label]) => ({
     month: label,
-    hours: inPeriod.reduce((sum, b) => { const sp = activeSpan(b, now); return sum + (sp ? overlapHours(sp[0], sp[1], s, e) : 0) }, 0),
+    hours: inPeriod.reduce((sum, b) => {
+      const sp = activeSpan(b, now)
+      return sum + (sp ? overlapHours(sp[0], sp[1], s, e) : 0)
+    }, 0),
   }))
   const overduePerMonth = monthList.map(([s, e, label]) => ({
     month: label,
-    count: inPeriod.filter((b) => { const sp = overdueSpan(b, now); return sp ? overlapHours(sp[0], sp[1], s, e) > 0 : false }).length,
+    count: inPeriod.filter((b) => {
+      const sp = overdueSpan(b, now)
+      return sp ? overlapHours(sp[0], sp[1], s, e) > 0 : false
+    }).length,
   }))
-  const byLimit = new Map<number, { limitId: number, tag: string, hours: number }>()
+  const byLimit = new Map<number, { limitId: number; tag: string; hours: number }>()
   for (const b of inPeriod) {
     const sp = activeSpan(b, now)
     if (!sp) continue
@@ -78,18 +103,31 @@ export async function bypassReview(deps: AppDeps, q: Omit<BypassListQuery, 'page
   const nowMonth = new Date(now)
   const monthStart = Date.UTC(nowMonth.getUTCFullYear(), nowMonth.getUTCMonth(), 1)
   const all = items
-  const sites = await deps.db.selectFrom('site').select(['id', 'policy']).where('id', 'in', q.siteIds.length ? q.siteIds : [-1]).execute()
+  const sites = await deps.db
+    .selectFrom('site')
+    .select(['id', 'policy'])
+    .where('id', 'in', q.siteIds.length ? q.siteIds : [-1])
+    .execute()
   const shiftHours = Math.min(...sites.map((s) => policyOf(s).bypassMaxHoursSupervisor), 12)
-  let degradedQuery = deps.db.selectFrom('limit_degradation').innerJoin('limit_function', 'limit_function.id', 'limit_degradation.limit_id')
-    .select(['limit_degradation.opened_at', 'limit_degradation.cleared_at']).where('limit_function.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
+  let degradedQuery = deps.db
+    .selectFrom('limit_degradation')
+    .innerJoin('limit_function', 'limit_function.id', 'limit_degradation.limit_id')
+    .select(['limit_degradation.opened_at', 'limit_degradation.cleared_at'])
+    .where('limit_function.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
   if (q.areaIds?.length) degradedQuery = degradedQuery.where('limit_function.area_id', 'in', q.areaIds)
   if (q.limitIds?.length) degradedQuery = degradedQuery.where('limit_function.id', 'in', q.limitIds)
   const degradations = await degradedQuery.execute()
-  const hoursDegraded = degradations.reduce((sum, d) => sum + overlapHours(d.opened_at.getTime(), d.cleared_at?.getTime() ?? now, from, to), 0)
+  const hoursDegraded = degradations.reduce(
+    (sum, d) => sum + overlapHours(d.opened_at.getTime(), d.cleared_at?.getTime() ?? now, from, to),
+    0,
+  )
   const kpis = {
     activeNow: all.filter((b) => b.status === 'active').length,
     overdueNow: all.filter((b) => b.overdue).length,
-    hoursThisMonth: all.reduce((sum, b) => { const sp = activeSpan(b, now); return sum + (sp ? overlapHours(sp[0], sp[1], monthStart, now) : 0) }, 0),
+    hoursThisMonth: all.reduce((sum, b) => {
+      const sp = activeSpan(b, now)
+      return sum + (sp ? overlapHours(sp[0], sp[1], monthStart, now) : 0)
+    }, 0),
     averageDurationHours: completed.length ? completed.reduce((s, b) => s + b.bypassedHours, 0) / completed.length : 0,
     longerThanShift: inPeriod.filter((b) => b.bypassedHours > shiftHours).length,
     shiftHours,
@@ -97,65 +135,109 @@ export async function bypassReview(deps: AppDeps, q: Omit<BypassListQuery, 'page
     hoursDegraded,
     sharePastPlannedEnd: ended.length ? pastEnd.length / ended.length : 0,
   }
-  return { period: { from: new Date(from).toISOString(), to: new Date(to).toISOString() }, kpis, charts: { hoursPerMonth, topLimits, overduePerMonth }, items: inPeriod }
+  return {
+    period: { from: new Date(from).toISOString(), to: new Date(to).toISOString() },
+    kpis,
+    charts: { hoursPerMonth, topLimits, overduePerMonth },
+    items: inPeriod,
+  }
 }
 
-export const RISK_CAUTION = 'PFD figures are estimates from the entered data; hardware fault tolerance and systematic capability are not assessed. The plant\'s safety requirements and licensed engineering judgement prevail.'
+export const RISK_CAUTION =
+  "PFD figures are estimates from the entered data; hardware fault tolerance and systematic capability are not assessed. The plant's safety requirements and licensed engineering judgement prevail."
 
 /**
  * Risk erosion of each SIL-rated limit over a period: target, design and effective PFDavg side by side. Effective uses
  * the actual test interval (an overdue test lengthens it to the time since the last passing full test) and the bypassed
  * share of the period (a single bypassed channel degrades the voting instead).
  */
-export async function riskErosion(deps: AppDeps, q: { siteIds: number[], areaIds?: number[], from: Date, to: Date }) {
+export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds?: number[]; from: Date; to: Date }) {
   const now = deps.clock.now().getTime()
   const from = q.from.getTime()
   const to = Math.min(q.to.getTime(), now)
   const periodHours = (to - from) / HOUR
   if (!(periodHours > 0)) throw validationFailed({ from: ['The period must start before it ends, and before now'] })
-  let lq = deps.db.selectFrom('limit_function').select(['id', 'tag', 'description', 'sil', 'subsystems', 'test_status', 'last_full_pass', 'test_interval_months', 'created_at', 'protection_state'])
-    .where('site_id', 'in', q.siteIds.length ? q.siteIds : [-1]).where('status', '=', 'active').where('sil', 'is not', null)
+  let lq = deps.db
+    .selectFrom('limit_function')
+    .select([
+      'id',
+      'tag',
+      'description',
+      'sil',
+      'subsystems',
+      'test_status',
+      'last_full_pass',
+      'test_interval_months',
+      'created_at',
+      'protection_state',
+    ])
+    .where('site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
+    .where('status', '=', 'active')
+    .where('sil', 'is not', null)
   if (q.areaIds?.length) lq = lq.where('area_id', 'in', q.areaIds)
   const limits = await lq.orderBy('tag').execute()
-  const { items: bypasses } = await listBypasses(deps, { siteIds: q.siteIds, limitIds: limits.map((l) => l.id), page: 1, pageSize: 10_000 })
-  const rows = limits.map((l) => {
-    const subsystems = l.subsystems as Subsystem[]
-    if (!subsystems.length) return null
-    const mine = bypasses.filter((b) => b.limitId === l.id)
-    let whole = 0
-    let channel = 0
-    let channelRole: Subsystem['role'] = 'sensor'
-    for (const b of mine) {
-      const sp = activeSpan(b, now)
-      if (!sp) continue
-      const h = overlapHours(sp[0], sp[1], from, to)
-      if (b.channelInstrumentId) channel += h
-      else whole += h
-      channelRole = 'sensor'
-    }
-    const sinceLastPass = l.last_full_pass ? (now - new Date(`${l.last_full_pass}T00:00:00Z`).getTime()) / HOUR : (now - l.created_at.getTime()) / HOUR
-    // an overdue or never-tested function has gone untested longer than designed: the interval is the time since the last pass
-    const overdue = l.test_status === 'overdue' || l.test_status === 'never_tested'
-    // only where the time since the last pass exceeds the designed interval does it stretch the interval
-    const stretched = overdue && subsystems.some((s) => sinceLastPass > s.testIntervalMonths * 730)
-    const actualIntervalHoursByRole = stretched
-      ? Object.fromEntries(subsystems.map((s) => [s.role, Math.max(s.testIntervalMonths * 730, sinceLastPass)]))
-      : undefined
-    const designPfd = sifPfd(subsystems)
-    const eff = effectivePfd({
-      subsystems, actualIntervalHoursByRole, periodHours,
-      bypassedHours: whole > 0 ? Math.min(whole, periodHours) : Math.min(channel, periodHours),
-      bypassedSingleChannel: whole > 0 || channel === 0 ? null : { role: channelRole },
+  const { items: bypasses } = await listBypasses(deps, {
+    siteIds: q.siteIds,
+    limitIds: limits.map((l) => l.id),
+    page: 1,
+    pageSize: 10_000,
+  })
+  const rows = limits
+    .map((l) => {
+      const subsystems = l.subsystems as Subsystem[]
+      if (!subsystems.length) return null
+      const mine = bypasses.filter((b) => b.limitId === l.id)
+      let whole = 0
+      let channel = 0
+      let channelRole: Subsystem['role'] = 'sensor'
+      for (const b of mine) {
+        const sp = activeSpan(b, now)
+        if (!sp) continue
+        const h = overlapHours(sp[0], sp[1], from, to)
+        if (b.channelInstrumentId) channel += h
+        else whole += h
+        channelRole = 'sensor'
+      }
+      const sinceLastPass = l.last_full_pass
+        ? (now - new Date(`${l.last_full_pass}T00:00:00Z`).getTime()) / HOUR
+        : (now - l.created_at.getTime()) / HOUR
+      // an overdue or never-tested function has gone untested longer than designed: the interval is the time since the last pass
+      const overdue = l.test_status === 'overdue' || l.test_status === 'never_tested'
+      // only where the time since the last pass exceeds the designed interval does it stretch the interval
+      const stretched = overdue && subsystems.some((s) => sinceLastPass > s.testIntervalMonths * 730)
+      const actualIntervalHoursByRole = stretched
+        ? Object.fromEntries(subsystems.map((s) => [s.role, Math.max(s.testIntervalMonths * 730, sinceLastPass)]))
+        : undefined
+      const designPfd = sifPfd(subsystems)
+      const eff = effectivePfd({
+        subsystems,
+        actualIntervalHoursByRole,
+        periodHours,
+        bypassedHours: whole > 0 ? Math.min(whole, periodHours) : Math.min(channel, periodHours),
+        bypassedSingleChannel: whole > 0 || channel === 0 ? null : { role: channelRole },
+      })
+      const target = l.sil as Sil
+      const effective = compareToTarget(target, eff.pfd)
+      return {
+        limitId: l.id,
+        tag: l.tag,
+        description: l.description,
+        targetSil: target,
+        protectionState: l.protection_state,
+        testStatus: l.test_status,
+        design: { pfd: designPfd, rrf: 1 / designPfd, band: silBand(designPfd) },
+        effective: { pfd: eff.pfd, rrf: 1 / eff.pfd, band: silBand(eff.pfd) },
+        bypassedHours: whole,
+        channelBypassedHours: channel,
+        actualIntervalHours: actualIntervalHoursByRole ? Math.max(...Object.values(actualIntervalHoursByRole)) : null,
+        belowTarget: !effective.meetsTarget,
+        designBelowTarget: !compareToTarget(target, designPfd).meetsTarget,
+      }
     })
-    const target = l.sil as Sil
-    const effective = compareToTarget(target, eff.pfd)
-    return {
-      limitId: l.id, tag: l.tag, description: l.description, targetSil: target, protectionState: l.protection_state, testStatus: l.test_status,
-      design: { pfd: designPfd, rrf: 1 / designPfd, band: silBand(designPfd) },
-      effective: { pfd: eff.pfd, rrf: 1 / eff.pfd, band: silBand(eff.pfd) },
-      bypassedHours: whole, channelBypassedHours: channel, actualIntervalHours: actualIntervalHoursByRole ? Math.max(...Object.values(actualIntervalHoursByRole)) : null,
-      belowTarget: !effective.meetsTarget, designBelowTarget: !compareToTarget(target, designPfd).meetsTarget,
-    }
-  }).filter((r): r is NonNullable<typeof r> => r !== null)
-  return { period: { from: new Date(from).toISOString(), to: new Date(to).toISOString(), hours: periodHours }, items: rows, caution: RISK_CAUTION }
+    .filter((r): r is NonNullable<typeof r> => r !== null)
+  return {
+    period: { from: new Date(from).toISOString(), to: new Date(to).toISOString(), hours: periodHours },
+    items: rows,
+    caution: RISK_CAUTION,
+  }
 }

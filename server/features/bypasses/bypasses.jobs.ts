@@ -14,42 +14,104 @@ const SYSTEM: AuditContext = { actorId: null, requestId: 'job:bypasses', ip: nul
  * planned end; an active bypass past its end is overdue (never closed by the clock): the shift supervisors are told at
  * once, then the plant manager every few hours until it is removed.
  */
-export function createBypassJob(db: Db, config: Config, clock: Clock): DueJob<{ lapsed: number, warned: number, overdue: number, escalated: number }> {
+export function createBypassJob(
+  db: Db,
+  config: Config,
+  clock: Clock,
+): DueJob<{ lapsed: number; warned: number; overdue: number; escalated: number }> {
   const link = (id: number) => ({ url: `${config.appUrl}/bypasses/${id}`, label: `Open bypass #${id}` })
   return {
     name: 'bypasses.deadlines',
     intervalSec: 60,
     async runDue(now: Date) {
       const counts = { lapsed: 0, warned: 0, overdue: 0, escalated: 0 }
-      const rows = await db.selectFrom('bypass').innerJoin('site', 'site.id', 'bypass.site_id').innerJoin('limit_function', 'limit_function.id', 'bypass.limit_id')
+      const rows = await db
+        .selectFrom('bypass')
+        .innerJoin('site', 'site.id', 'bypass.site_id')
+        .innerJoin('limit_function', 'limit_function.id', 'bypass.limit_id')
         .innerJoin('app_user', 'app_user.id', 'bypass.requested_by')
-        .select(['bypass.id', 'bypass.status', 'bypass.site_id', 'bypass.authorized_at', 'bypass.planned_end', 'bypass.expiry_warned_at', 'bypass.overdue_notified_at', 'bypass.last_escalation_at',
-          'site.policy', 'limit_function.tag', 'app_user.email as requester_email'])
-        .where('bypass.status', 'in', ['authorized', 'active']).execute()
+        .select([
+          'bypass.id',
+          'bypass.status',
+          'bypass.site_id',
+          'bypass.authorized_at',
+          'bypass.planned_end',
+          'bypass.expiry_warned_at',
+          'bypass.overdue_notified_at',
+          'bypass.last_escalation_at',
+          'site.policy',
+          'limit_function.tag',
+          'app_user.email as requester_email',
+        ])
+        .where('bypass.status', 'in', ['authorized', 'active'])
+        .execute()
       for (const b of rows) {
         const policy = policyOf(b)
         await db.transaction().execute(async (trx) => {
-          const cur = await trx.selectFrom('bypass').select(['status', 'expiry_warned_at', 'overdue_notified_at', 'last_escalation_at', 'planned_end']).where('id', '=', b.id).forUpdate().executeTakeFirstOrThrow()
-          if (cur.status === 'authorized' && b.authorized_at && now.getTime() > b.authorized_at.getTime() + policy.bypassAuthorizationLapseHours * HOUR) {
+          const cur = await trx
+            .selectFrom('bypass')
+            .select(['status', 'expiry_warned_at', 'overdue_notified_at', 'last_escalation_at', 'planned_end'])
+            .where('id', '=', b.id)
+            .forUpdate()
+            .executeTakeFirstOrThrow()
+          if (
+            cur.status === 'authorized' &&
+            b.authorized_at &&
+            now.getTime() > b.authorized_at.getTime() + policy.bypassAuthorizationLapseHours * HOUR
+          ) {
             await trx.updateTable('bypass').set({ status: 'lapsed', updated_at: now }).where('id', '=', b.id).execute()
-            await appendAudit(trx, clock, SYSTEM, { action: 'bypass.lapse', entityType: 'Bypass', entityId: b.id, after: { status: 'lapsed' } })
+            await appendAudit(trx, clock, SYSTEM, {
+              action: 'bypass.lapse',
+              entityType: 'Bypass',
+              entityId: b.id,
+              after: { status: 'lapsed' },
+            })
             counts.lapsed++
             return
           }
           if (cur.status !== 'active') return
           const end = cur.planned_end.getTime()
-          if (!cur.expiry_warned_at && now.getTime() >= end - policy.bypassExpiryWarningHours * HOUR && now.getTime() < end) {
+          if (
+            !cur.expiry_warned_at &&
+            now.getTime() >= end - policy.bypassExpiryWarningHours * HOUR &&
+            now.getTime() < end
+          ) {
             await trx.updateTable('bypass').set({ expiry_warned_at: now }).where('id', '=', b.id).execute()
-            await enqueueMail(trx, clock, { to: b.requester_email, subject: `Bypass of ${b.tag} ends at ${cur.planned_end.toISOString().slice(11, 16)} UTC`, topic: 'bypass',
-              ...mailBodies([`The bypass #${b.id} of ${b.tag} reaches its planned end at ${cur.planned_end.toISOString()}.`, 'Remove it on record once the process value is clear of the limit, or ask for an extension.'], link(b.id)) })
+            await enqueueMail(trx, clock, {
+              to: b.requester_email,
+              subject: `Bypass of ${b.tag} ends at ${cur.planned_end.toISOString().slice(11, 16)} UTC`,
+              topic: 'bypass',
+              ...mailBodies(
+                [
+                  `The bypass #${b.id} of ${b.tag} reaches its planned end at ${cur.planned_end.toISOString()}.`,
+                  'Remove it on record once the process value is clear of the limit, or ask for an extension.',
+                ],
+                link(b.id),
+              ),
+            })
             counts.warned++
           }
           if (now.getTime() > end && !cur.overdue_notified_at) {
             await trx.updateTable('bypass').set({ overdue_notified_at: now }).where('id', '=', b.id).execute()
             const sups = await findUsersWithRole(trx, b.site_id, ['shift_supervisor'])
-            const bodies = mailBodies([`The bypass #${b.id} of ${b.tag} is past its planned end (${cur.planned_end.toISOString()}) and still active: the limit protects nothing.`, 'Remove it on record or have it extended by a signed authorization.'], link(b.id))
-            await enqueueMail(trx, clock, sups.map((u) => ({ to: u.email, subject: `OVERDUE bypass: ${b.tag}`, ...bodies, topic: 'bypass' })))
-            await appendAudit(trx, clock, SYSTEM, { action: 'bypass.overdue', entityType: 'Bypass', entityId: b.id, after: { plannedEnd: cur.planned_end.toISOString() } })
+            const bodies = mailBodies(
+              [
+                `The bypass #${b.id} of ${b.tag} is past its planned end (${cur.planned_end.toISOString()}) and still active: the limit protects nothing.`,
+                'Remove it on record or have it extended by a signed authorization.',
+              ],
+              link(b.id),
+            )
+            await enqueueMail(
+              trx,
+              clock,
+              sups.map((u) => ({ to: u.email, subject: `OVERDUE bypass: ${b.tag}`, ...bodies, topic: 'bypass' })),
+            )
+            await appendAudit(trx, clock, SYSTEM, {
+              action: 'bypass.overdue',
+              entityType: 'Bypass',
+              entityId: b.id,
+              after: { plannedEnd: cur.planned_end.toISOString() },
+            })
             counts.overdue++
           }
           const every = policy.bypassEscalationEveryHours * HOUR
@@ -58,9 +120,26 @@ export function createBypassJob(db: Db, config: Config, clock: Clock): DueJob<{ 
             await trx.updateTable('bypass').set({ last_escalation_at: now }).where('id', '=', b.id).execute()
             const managers = await findUsersWithRole(trx, b.site_id, ['plant_manager'])
             const hours = ((now.getTime() - end) / HOUR).toFixed(1)
-            const bodies = mailBodies([`The bypass #${b.id} of ${b.tag} has been overdue for ${hours} h and is still active.`], link(b.id))
-            await enqueueMail(trx, clock, managers.map((u) => ({ to: u.email, subject: `Escalation: bypass of ${b.tag} overdue for ${hours} h`, ...bodies, topic: 'bypass' })))
-            await appendAudit(trx, clock, SYSTEM, { action: 'bypass.escalate', entityType: 'Bypass', entityId: b.id, after: { overdueHours: Number(hours) } })
+            const bodies = mailBodies(
+              [`The bypass #${b.id} of ${b.tag} has been overdue for ${hours} h and is still active.`],
+              link(b.id),
+            )
+            await enqueueMail(
+              trx,
+              clock,
+              managers.map((u) => ({
+                to: u.email,
+                subject: `Escalation: bypass of ${b.tag} overdue for ${hours} h`,
+                ...bodies,
+                topic: 'bypass',
+              })),
+            )
+            await appendAudit(trx, clock, SYSTEM, {
+              action: 'bypass.escalate',
+              entityType: 'Bypass',
+              entityId: b.id,
+              after: { overdueHours: Number(hours) },
+            })
             counts.escalated++
           }
         })

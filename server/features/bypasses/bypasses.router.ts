@@ -1,7 +1,13 @@
 import { Router } from 'express'
 import Papa from 'papaparse'
 import { z } from 'zod'
-import { AuthorizeBypassInputSchema, BYPASS_STATUSES, CreateBypassInputSchema, RejectBypassInputSchema, RemoveBypassInputSchema } from '../../../shared/schemas/bypasses.ts'
+import {
+  AuthorizeBypassInputSchema,
+  BYPASS_STATUSES,
+  CreateBypassInputSchema,
+  RejectBypassInputSchema,
+  RemoveBypassInputSchema,
+} from '../../../shared/schemas/bypasses.ts'
 import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
 import { allows, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
@@ -13,16 +19,33 @@ import * as service from './bypasses.service.ts'
 import { acknowledgeHandover, protectionState } from './protection-state.service.ts'
 
 const FilterSchema = z.object({
-  siteId: repeated(IdSchema), areaId: repeated(IdSchema), processId: repeated(IdSchema), limitId: repeated(IdSchema),
-  requesterId: repeated(IdSchema), authorizerId: repeated(IdSchema), status: repeated(z.enum(BYPASS_STATUSES)),
-  overdue: z.enum(['true', 'false']).transform((v) => v === 'true').optional(),
-  from: z.iso.datetime({ offset: true }).optional(), to: z.iso.datetime({ offset: true }).optional(),
+  siteId: repeated(IdSchema),
+  areaId: repeated(IdSchema),
+  processId: repeated(IdSchema),
+  limitId: repeated(IdSchema),
+  requesterId: repeated(IdSchema),
+  authorizerId: repeated(IdSchema),
+  status: repeated(z.enum(BYPASS_STATUSES)),
+  overdue: z
+    .enum(['true', 'false'])
+    .transform((v) => v === 'true')
+    .optional(),
+  from: z.iso.datetime({ offset: true }).optional(),
+  to: z.iso.datetime({ offset: true }).optional(),
 })
 
 function filters(user: CurrentUser | null, q: z.infer<typeof FilterSchema>) {
   return {
-    siteIds: scopeSites(user, q.siteId), areaIds: q.areaId, processIds: q.processId, limitIds: q.limitId, requesterIds: q.requesterId,
-    authorizerIds: q.authorizerId, status: q.status, overdue: q.overdue, from: q.from ? new Date(q.from) : undefined, to: q.to ? new Date(q.to) : undefined,
+    siteIds: scopeSites(user, q.siteId),
+    areaIds: q.areaId,
+    processIds: q.processId,
+    limitIds: q.limitId,
+    requesterIds: q.requesterId,
+    authorizerIds: q.authorizerId,
+    status: q.status,
+    overdue: q.overdue,
+    from: q.from ? new Date(q.from) : undefined,
+    to: q.to ? new Date(q.to) : undefined,
   }
 }
 
@@ -31,32 +54,68 @@ export function createBypassesRouter(deps: AppDeps) {
   const router = Router()
   const id = (v: unknown) => IdSchema.parse(v)
   router.get('/', async (req, res) => {
-    const q = FilterSchema.extend({ page: z.coerce.number().int().min(1).default(1), pageSize: z.coerce.number().int().min(1).max(200).default(50) }).parse(req.query)
+    const q = FilterSchema.extend({
+      page: z.coerce.number().int().min(1).default(1),
+      pageSize: z.coerce.number().int().min(1).max(200).default(50),
+    }).parse(req.query)
     res.json(await service.listBypasses(deps, { ...filters(req.user, q), page: q.page, pageSize: q.pageSize }))
   })
-  router.get('/:id', async (req, res) => { res.json(await service.getBypass(deps, req.ability, id(req.params.id))) })
-  router.post('/', async (req, res) => { res.status(201).json(await service.requestBypass(deps, req.ability, req.audit, CreateBypassInputSchema.parse(req.body))) })
-  router.post('/:id/authorizations', async (req, res) => { res.json(await service.authorizeBypass(deps, req.ability, req.audit, id(req.params.id), AuthorizeBypassInputSchema.parse(req.body))) })
+  router.get('/:id', async (req, res) => {
+    res.json(await service.getBypass(deps, req.ability, id(req.params.id)))
+  })
+  router.post('/', async (req, res) => {
+    res
+      .status(201)
+      .json(await service.requestBypass(deps, req.ability, req.audit, CreateBypassInputSchema.parse(req.body)))
+  })
+  router.post('/:id/authorizations', async (req, res) => {
+    res.json(
+      await service.authorizeBypass(
+        deps,
+        req.ability,
+        req.audit,
+        id(req.params.id),
+        AuthorizeBypassInputSchema.parse(req.body),
+      ),
+    )
+  })
   router.post('/:id/rejections', async (req, res) => {
     const b = RejectBypassInputSchema.parse(req.body)
     res.json(await service.rejectBypass(deps, req.ability, req.audit, id(req.params.id), b.password, b.comment))
   })
-  router.post('/:id/activation', async (req, res) => { res.json(await service.activateBypass(deps, req.ability, req.audit, id(req.params.id))) })
-  router.post('/:id/removal', async (req, res) => { res.json(await service.removeBypass(deps, req.ability, req.audit, id(req.params.id), RemoveBypassInputSchema.parse(req.body))) })
-  router.post('/:id/cancellation', async (req, res) => { res.json(await service.cancelBypass(deps, req.ability, req.audit, id(req.params.id))) })
+  router.post('/:id/activation', async (req, res) => {
+    res.json(await service.activateBypass(deps, req.ability, req.audit, id(req.params.id)))
+  })
+  router.post('/:id/removal', async (req, res) => {
+    res.json(
+      await service.removeBypass(
+        deps,
+        req.ability,
+        req.audit,
+        id(req.params.id),
+        RemoveBypassInputSchema.parse(req.body),
+      ),
+    )
+  })
+  router.post('/:id/cancellation', async (req, res) => {
+    res.json(await service.cancelBypass(deps, req.ability, req.audit, id(req.params.id)))
+  })
   return router
 }
 
 /** The review needs the `review` ability at every site asked for (plant manager, engineers, approvers, supervisors, auditors). */
-function reviewSites(req: { user: CurrentUser | null, ability: Parameters<typeof allows>[0] }, requested?: number[]) {
-  const sites = scopeSites(req.user, requested).filter((s) => allows(req.ability, 'review', 'BypassReview', { siteId: s }))
-  if (!sites.length) throw forbidden('The bypass review is for plant managers, engineers, approvers, shift supervisors and auditors')
+function reviewSites(req: { user: CurrentUser | null; ability: Parameters<typeof allows>[0] }, requested?: number[]) {
+  const sites = scopeSites(req.user, requested).filter((s) =>
+    allows(req.ability, 'review', 'BypassReview', { siteId: s }),
+  )
+  if (!sites.length)
+    throw forbidden('The bypass review is for plant managers, engineers, approvers, shift supervisors and auditors')
   return sites
 }
 
 const ReviewQuerySchema = FilterSchema.extend({ format: z.enum(['csv', 'pdf']).optional() })
 
-function period(q: { from?: string, to?: string }, now: Date) {
+function period(q: { from?: string; to?: string }, now: Date) {
   const to = q.to ? new Date(q.to) : now
   const from = q.from ? new Date(q.from) : new Date(Date.UTC(to.getUTCFullYear() - 1, to.getUTCMonth() + 1, 1))
   return { from, to }
@@ -67,31 +126,98 @@ export function createBypassReviewRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
     const q = ReviewQuerySchema.parse(req.query)
-    res.json(await bypassReview(deps, { ...filters(req.user, q), siteIds: reviewSites(req, q.siteId), ...period(q, deps.clock.now()) }))
+    res.json(
+      await bypassReview(deps, {
+        ...filters(req.user, q),
+        siteIds: reviewSites(req, q.siteId),
+        ...period(q, deps.clock.now()),
+      }),
+    )
   })
   router.get('/risk', async (req, res) => {
     const q = FilterSchema.parse(req.query)
-    res.json(await riskErosion(deps, { siteIds: reviewSites(req, q.siteId), areaIds: q.areaId, ...period(q, deps.clock.now()) }))
+    res.json(
+      await riskErosion(deps, {
+        siteIds: reviewSites(req, q.siteId),
+        areaIds: q.areaId,
+        ...period(q, deps.clock.now()),
+      }),
+    )
   })
   router.get('/export', async (req, res) => {
     const q = ReviewQuerySchema.parse(req.query)
-    const r = await bypassReview(deps, { ...filters(req.user, q), siteIds: reviewSites(req, q.siteId), ...period(q, deps.clock.now()) })
+    const r = await bypassReview(deps, {
+      ...filters(req.user, q),
+      siteIds: reviewSites(req, q.siteId),
+      ...period(q, deps.clock.now()),
+    })
     const rows = r.items.map((b) => ({
-      Bypass: b.id, Site: b.siteCode, Area: b.areaName, Limit: b.limitTag, Channel: b.channelTag ?? '', State: b.status, Overdue: b.overdue ? 'yes' : 'no',
-      'Requested by': b.requestedBy, 'Authorized by': b.authorizations.filter((a) => a.meaning === 'authorized').map((a) => a.name).join('; '),
-      'Planned start': b.plannedStart, 'Planned end': b.plannedEnd, Activated: b.activatedAt ?? '', Removed: b.removedAt ?? '',
-      'Bypassed h': b.bypassedHours.toFixed(2), 'Overdue h': b.overdueHours.toFixed(2), 'Compensating measures': b.compensatingMeasures.join('; '), Reason: b.reason,
+      Bypass: b.id,
+      Site: b.siteCode,
+      Area: b.areaName,
+      Limit: b.limitTag,
+      Channel: b.channelTag ?? '',
+      State: b.status,
+      Overdue: b.overdue ? 'yes' : 'no',
+      'Requested by': b.requestedBy,
+      'Authorized by': b.authorizations
+        .filter((a) => a.meaning === 'authorized')
+        .map((a) => a.name)
+        .join('; '),
+      'Planned start': b.plannedStart,
+      'Planned end': b.plannedEnd,
+      Activated: b.activatedAt ?? '',
+      Removed: b.removedAt ?? '',
+      'Bypassed h': b.bypassedHours.toFixed(2),
+      'Overdue h': b.overdueHours.toFixed(2),
+      'Compensating measures': b.compensatingMeasures.join('; '),
+      Reason: b.reason,
     }))
     if (q.format === 'pdf') {
       const pdf = await renderPdf({
         pageOrientation: 'landscape',
         content: [
           { text: 'Bypass review', fontSize: 16, bold: true },
-          { text: `${r.period.from.slice(0, 10)} to ${r.period.to.slice(0, 10)} · active now ${r.kpis.activeNow} · overdue now ${r.kpis.overdueNow} · hours this month ${r.kpis.hoursThisMonth.toFixed(1)} · average ${r.kpis.averageDurationHours.toFixed(1)} h · longer than a shift ${r.kpis.longerThanShift} · without compensating measures ${r.kpis.withoutMeasures} · hours degraded ${r.kpis.hoursDegraded.toFixed(1)}`, margin: [0, 4, 0, 8] },
-          { table: { headerRows: 1, widths: [24, 28, 60, 50, 60, 60, 64, 64, 34, 34, '*'], body: [
-            ['#', 'Site', 'Limit', 'State', 'Requested', 'Authorized', 'Start', 'End', 'h', 'Overdue h', 'Compensating measures'].map((t) => ({ text: t, bold: true })),
-            ...rows.map((x) => [x.Bypass, x.Site, x.Limit, x.State, x['Requested by'], x['Authorized by'], x['Planned start'].slice(0, 16), x['Planned end'].slice(0, 16), x['Bypassed h'], x['Overdue h'], x['Compensating measures']]),
-          ] }, layout: 'lightHorizontalLines', fontSize: 7 },
+          {
+            text: `${r.period.from.slice(0, 10)} to ${r.period.to.slice(0, 10)} · active now ${r.kpis.activeNow} · overdue now ${r.kpis.overdueNow} · hours this month ${r.kpis.hoursThisMonth.toFixed(1)} · average ${r.kpis.averageDurationHours.toFixed(1)} h · longer than a shift ${r.kpis.longerThanShift} · without compensating measures ${r.kpis.withoutMeasures} · hours degraded ${r.kpis.hoursDegraded.toFixed(1)}`,
+            margin: [0, 4, 0, 8],
+          },
+          {
+            table: {
+              headerRows: 1,
+              widths: [24, 28, 60, 50, 60, 60, 64, 64, 34, 34, '*'],
+              body: [
+                [
+                  '#',
+                  'Site',
+                  'Limit',
+                  'State',
+                  'Requested',
+                  'Authorized',
+                  'Start',
+                  'End',
+                  'h',
+                  'Overdue h',
+                  'Compensating measures',
+                ].map((t) => ({ text: t, bold: true })),
+                ...rows.map((x) => [
+                  x.Bypass,
+                  x.Site,
+                  x.Limit,
+                  x.State,
+                  x['Requested by'],
+                  x['Authorized by'],
+                  x['Planned start'].slice(0, 16),
+                  x['Planned end'].slice(0, 16),
+                  x['Bypassed h'],
+                  x['Overdue h'],
+                  x['Compensating measures'],
+                ]),
+              ],
+            },
+            layout: 'lightHorizontalLines',
+            fontSize: 7,
+          },
           { text: RISK_CAUTION, fontSize: 7, italics: true, margin: [0, 12, 0, 0] },
         ],
       })
@@ -115,7 +241,12 @@ export function createProtectionStateRouter(deps: AppDeps) {
     res.json(await protectionState(deps, req.ability, areaId))
   })
   router.post('/acknowledgements', async (req, res) => {
-    const b = z.object({ areaId: z.number().int().positive(), password: z.string().min(1, 'Enter your password to sign').max(128) }).parse(req.body)
+    const b = z
+      .object({
+        areaId: z.number().int().positive(),
+        password: z.string().min(1, 'Enter your password to sign').max(128),
+      })
+      .parse(req.body)
     res.status(201).json(await acknowledgeHandover(deps, req.ability, req.audit, b.areaId, b.password))
   })
   return router

@@ -15,7 +15,11 @@ const SYSTEM = { actorId: null, requestId: 'job:change-requests', ip: null }
  * emergency changes unapproved 24 h after implementation (flagged; approvers and plant manager told), approvals
  * that expired before implementation (voided; the request goes back to submitted).
  */
-export function createChangeRequestJob(db: Db, config: Config, clock: Clock): DueJob<{ reminders: number, flagged: number, expired: number }> {
+export function createChangeRequestJob(
+  db: Db,
+  config: Config,
+  clock: Clock,
+): DueJob<{ reminders: number; flagged: number; expired: number }> {
   const link = (id: number) => ({ url: `${config.appUrl}/changes/${id}`, label: `Open change request #${id}` })
   return {
     name: 'change-requests.deadlines',
@@ -24,49 +28,148 @@ export function createChangeRequestJob(db: Db, config: Config, clock: Clock): Du
       let reminders = 0
       let flagged = 0
       let expired = 0
-      const temporary = await db.selectFrom('change_request').innerJoin('app_user', 'app_user.id', 'change_request.proposer_id')
+      const temporary = await db
+        .selectFrom('change_request')
+        .innerJoin('app_user', 'app_user.id', 'change_request.proposer_id')
         .select(['change_request.id', 'change_request.title', 'change_request.expires_at', 'app_user.email'])
-        .where('type', '=', 'temporary').where('status', 'in', ['approved', 'implemented', 'closed']).where('revert_reminder_at', 'is', null)
-        .where('expires_at', '<=', new Date(now.getTime() + 24 * HOUR)).execute()
+        .where('type', '=', 'temporary')
+        .where('status', 'in', ['approved', 'implemented', 'closed'])
+        .where('revert_reminder_at', 'is', null)
+        .where('expires_at', '<=', new Date(now.getTime() + 24 * HOUR))
+        .execute()
       for (const cr of temporary) {
         await db.transaction().execute(async (trx) => {
-          const claimed = await trx.updateTable('change_request').set({ revert_reminder_at: now }).where('id', '=', cr.id).where('revert_reminder_at', 'is', null).executeTakeFirst()
+          const claimed = await trx
+            .updateTable('change_request')
+            .set({ revert_reminder_at: now })
+            .where('id', '=', cr.id)
+            .where('revert_reminder_at', 'is', null)
+            .executeTakeFirst()
           if (!Number(claimed.numUpdatedRows)) return
-          await enqueueMail(trx, clock, { to: cr.email, subject: `Temporary change #${cr.id} expires ${cr.expires_at!.toISOString().slice(0, 16).replace('T', ' ')} UTC: revert it`, topic: 'change_request',
-            ...mailBodies([`The temporary change "${cr.title}" expires at ${cr.expires_at!.toISOString()}.`, 'Revert it on the device through a change request before then, or extend it by a new approved request.'], link(cr.id)) })
-          await appendAudit(trx, clock, SYSTEM, { action: 'change_request.revert_reminder', entityType: 'ChangeRequest', entityId: cr.id })
+          await enqueueMail(trx, clock, {
+            to: cr.email,
+            subject: `Temporary change #${cr.id} expires ${cr.expires_at!.toISOString().slice(0, 16).replace('T', ' ')} UTC: revert it`,
+            topic: 'change_request',
+            ...mailBodies(
+              [
+                `The temporary change "${cr.title}" expires at ${cr.expires_at!.toISOString()}.`,
+                'Revert it on the device through a change request before then, or extend it by a new approved request.',
+              ],
+              link(cr.id),
+            ),
+          })
+          await appendAudit(trx, clock, SYSTEM, {
+            action: 'change_request.revert_reminder',
+            entityType: 'ChangeRequest',
+            entityId: cr.id,
+          })
           reminders++
         })
       }
-      const emergencies = await db.selectFrom('change_request').select(['id', 'title', 'site_id'])
-        .where('type', '=', 'emergency').where('approved_at', 'is', null).where('emergency_flagged_at', 'is', null)
-        .where('implemented_at', '<=', new Date(now.getTime() - 24 * HOUR)).where('status', '=', 'implemented').execute()
+      const emergencies = await db
+        .selectFrom('change_request')
+        .select(['id', 'title', 'site_id'])
+        .where('type', '=', 'emergency')
+        .where('approved_at', 'is', null)
+        .where('emergency_flagged_at', 'is', null)
+        .where('implemented_at', '<=', new Date(now.getTime() - 24 * HOUR))
+        .where('status', '=', 'implemented')
+        .execute()
       for (const cr of emergencies) {
         await db.transaction().execute(async (trx) => {
-          const claimed = await trx.updateTable('change_request').set({ emergency_flagged_at: now }).where('id', '=', cr.id).where('emergency_flagged_at', 'is', null).executeTakeFirst()
+          const claimed = await trx
+            .updateTable('change_request')
+            .set({ emergency_flagged_at: now })
+            .where('id', '=', cr.id)
+            .where('emergency_flagged_at', 'is', null)
+            .executeTakeFirst()
           if (!Number(claimed.numUpdatedRows)) return
           const to = await findUsersWithRole(trx, cr.site_id, ['approver', 'plant_manager'])
-          await enqueueMail(trx, clock, to.map((u) => ({ to: u.email, subject: `Emergency change #${cr.id} is still unapproved after 24 h`, topic: 'change_request',
-            ...mailBodies([`The emergency change "${cr.title}" was implemented more than 24 hours ago and has not been approved.`, 'Review and sign it, or reverse it.'], link(cr.id)) })))
-          await appendAudit(trx, clock, SYSTEM, { action: 'change_request.emergency_flagged', entityType: 'ChangeRequest', entityId: cr.id })
+          await enqueueMail(
+            trx,
+            clock,
+            to.map((u) => ({
+              to: u.email,
+              subject: `Emergency change #${cr.id} is still unapproved after 24 h`,
+              topic: 'change_request',
+              ...mailBodies(
+                [
+                  `The emergency change "${cr.title}" was implemented more than 24 hours ago and has not been approved.`,
+                  'Review and sign it, or reverse it.',
+                ],
+                link(cr.id),
+              ),
+            })),
+          )
+          await appendAudit(trx, clock, SYSTEM, {
+            action: 'change_request.emergency_flagged',
+            entityType: 'ChangeRequest',
+            entityId: cr.id,
+          })
           flagged++
         })
       }
-      const approved = await db.selectFrom('change_request').innerJoin('site', 'site.id', 'change_request.site_id').innerJoin('app_user', 'app_user.id', 'change_request.proposer_id')
-        .select(['change_request.id', 'change_request.title', 'change_request.approved_at', 'site.policy', 'app_user.email']).where('change_request.status', '=', 'approved')
+      const approved = await db
+        .selectFrom('change_request')
+        .innerJoin('site', 'site.id', 'change_request.site_id')
+        .innerJoin('app_user', 'app_user.id', 'change_request.proposer_id')
+        .select([
+          'change_request.id',
+          'change_request.title',
+          'change_request.approved_at',
+          'site.policy',
+          'app_user.email',
+        ])
+        .where('change_request.status', '=', 'approved')
         // a request with items already on the device stays approved: its remaining items must still be implemented (or reversed by a new change)
-        .where((eb) => eb.not(eb.exists(eb.selectFrom('change_request_item').select('change_request_item.id').whereRef('change_request_item.change_request_id', '=', 'change_request.id').where('change_request_item.implemented_at', 'is not', null))))
+        .where((eb) =>
+          eb.not(
+            eb.exists(
+              eb
+                .selectFrom('change_request_item')
+                .select('change_request_item.id')
+                .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
+                .where('change_request_item.implemented_at', 'is not', null),
+            ),
+          ),
+        )
         .execute()
       for (const cr of approved) {
         const days = policyOf(cr).approvalExpiryDays
         if (!cr.approved_at || now.getTime() <= cr.approved_at.getTime() + days * 24 * HOUR) continue
         await db.transaction().execute(async (trx) => {
-          const claimed = await trx.updateTable('change_request').set({ status: 'submitted', approved_at: null, updated_at: now }).where('id', '=', cr.id).where('status', '=', 'approved').executeTakeFirst()
+          const claimed = await trx
+            .updateTable('change_request')
+            .set({ status: 'submitted', approved_at: null, updated_at: now })
+            .where('id', '=', cr.id)
+            .where('status', '=', 'approved')
+            .executeTakeFirst()
           if (!Number(claimed.numUpdatedRows)) return
-          await voidSignatures(trx, clock, 'ChangeRequest', cr.id, `approval expired: not implemented within ${days} days`, ['approved'])
-          await enqueueMail(trx, clock, { to: cr.email, subject: `Approval of change request #${cr.id} expired`, topic: 'change_request',
-            ...mailBodies([`The change "${cr.title}" was not implemented within ${days} days of its approval. The approvals are void and it needs approving again.`], link(cr.id)) })
-          await appendAudit(trx, clock, SYSTEM, { action: 'change_request.approval_expired', entityType: 'ChangeRequest', entityId: cr.id, after: { status: 'submitted' } })
+          await voidSignatures(
+            trx,
+            clock,
+            'ChangeRequest',
+            cr.id,
+            `approval expired: not implemented within ${days} days`,
+            ['approved'],
+          )
+          await enqueueMail(trx, clock, {
+            to: cr.email,
+            subject: `Approval of change request #${cr.id} expired`,
+            topic: 'change_request',
+            ...mailBodies(
+              [
+                `The change "${cr.title}" was not implemented within ${days} days of its approval. The approvals are void and it needs approving again.`,
+              ],
+              link(cr.id),
+            ),
+          })
+          await appendAudit(trx, clock, SYSTEM, {
+            action: 'change_request.approval_expired',
+            entityType: 'ChangeRequest',
+            entityId: cr.id,
+            after: { status: 'submitted' },
+          })
           expired++
         })
       }

@@ -1,8 +1,16 @@
 import { Router } from 'express'
 import { z } from 'zod'
 import {
-  CHANGE_STATUSES, CHANGE_TYPES, ChecklistInputSchema, ClosureInputSchema, CreateChangeRequestInputSchema, IMPACT_CHECKLIST, ImplementInputSchema,
-  RejectInputSchema, SignInputSchema, UpdateChangeRequestInputSchema,
+  CHANGE_STATUSES,
+  CHANGE_TYPES,
+  ChecklistInputSchema,
+  ClosureInputSchema,
+  CreateChangeRequestInputSchema,
+  IMPACT_CHECKLIST,
+  ImplementInputSchema,
+  RejectInputSchema,
+  SignInputSchema,
+  UpdateChangeRequestInputSchema,
 } from '../../../shared/schemas/change-requests.ts'
 import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
 import { scopeSites } from '../../authorize.ts'
@@ -17,15 +25,25 @@ export function createChangeRequestsRouter(deps: AppDeps) {
   const id = (v: unknown) => IdSchema.parse(v)
 
   router.get('/', async (req, res) => {
-    const q = z.object({
-      view: z.enum(['all', 'mine', 'waiting']).default('all'), status: repeated(z.enum(CHANGE_STATUSES)), type: repeated(z.enum(CHANGE_TYPES)),
-      siteId: repeated(IdSchema), q: z.string().trim().max(100).optional(),
-      page: z.coerce.number().int().min(1).default(1), pageSize: z.coerce.number().int().min(1).max(200).default(50),
-    }).parse(req.query)
+    const q = z
+      .object({
+        view: z.enum(['all', 'mine', 'waiting']).default('all'),
+        status: repeated(z.enum(CHANGE_STATUSES)),
+        type: repeated(z.enum(CHANGE_TYPES)),
+        siteId: repeated(IdSchema),
+        q: z.string().trim().max(100).optional(),
+        page: z.coerce.number().int().min(1).default(1),
+        pageSize: z.coerce.number().int().min(1).max(200).default(50),
+      })
+      .parse(req.query)
     res.json(await service.listChangeRequests(deps, req.user!, { ...q, siteIds: scopeSites(req.user, q.siteId) }))
   })
-  router.get('/waiting-count', async (req, res) => { res.json({ count: await service.countWaiting(deps, req.user!) }) })
-  router.get('/:id', async (req, res) => { res.json(await service.getChangeRequest(deps, req.ability, id(req.params.id))) })
+  router.get('/waiting-count', async (req, res) => {
+    res.json({ count: await service.countWaiting(deps, req.user!) })
+  })
+  router.get('/:id', async (req, res) => {
+    res.json(await service.getChangeRequest(deps, req.ability, id(req.params.id)))
+  })
   router.get('/:id/pdf', async (req, res) => {
     const cr = await service.getChangeRequest(deps, req.ability, id(req.params.id))
     const pdf = await changeRequestPdf(cr, deps.clock.now())
@@ -34,15 +52,33 @@ export function createChangeRequestsRouter(deps: AppDeps) {
     res.send(pdf)
   })
   router.post('/', async (req, res) => {
-    const newId = await service.createChangeRequest(deps, req.ability, req.audit, CreateChangeRequestInputSchema.parse(req.body))
+    const newId = await service.createChangeRequest(
+      deps,
+      req.ability,
+      req.audit,
+      CreateChangeRequestInputSchema.parse(req.body),
+    )
     res.status(201).json(await service.getChangeRequest(deps, req.ability, newId))
   })
   router.patch('/:id', async (req, res) => {
     const { version, ...body } = req.body ?? {}
-    res.json(await service.updateChangeRequest(deps, req.ability, req.audit, id(req.params.id), parsePatch(UpdateChangeRequestInputSchema, body), version === undefined ? undefined : z.number().int().parse(version)))
+    res.json(
+      await service.updateChangeRequest(
+        deps,
+        req.ability,
+        req.audit,
+        id(req.params.id),
+        parsePatch(UpdateChangeRequestInputSchema, body),
+        version === undefined ? undefined : z.number().int().parse(version),
+      ),
+    )
   })
-  router.post('/:id/submission', async (req, res) => { res.json(await service.submitChangeRequest(deps, req.ability, req.audit, id(req.params.id))) })
-  router.post('/:id/withdrawal', async (req, res) => { res.json(await service.withdrawChangeRequest(deps, req.ability, req.audit, id(req.params.id))) })
+  router.post('/:id/submission', async (req, res) => {
+    res.json(await service.submitChangeRequest(deps, req.ability, req.audit, id(req.params.id)))
+  })
+  router.post('/:id/withdrawal', async (req, res) => {
+    res.json(await service.withdrawChangeRequest(deps, req.ability, req.audit, id(req.params.id)))
+  })
   router.post('/:id/approvals', async (req, res) => {
     const b = SignInputSchema.parse(req.body)
     res.json(await service.approveChangeRequest(deps, req.ability, req.audit, id(req.params.id), b.password, b.comment))
@@ -52,7 +88,15 @@ export function createChangeRequestsRouter(deps: AppDeps) {
     res.json(await service.rejectChangeRequest(deps, req.ability, req.audit, id(req.params.id), b.password, b.comment))
   })
   router.post('/:id/implementations', async (req, res) => {
-    res.json(await service.implementChangeRequest(deps, req.ability, req.audit, id(req.params.id), ImplementInputSchema.parse(req.body)))
+    res.json(
+      await service.implementChangeRequest(
+        deps,
+        req.ability,
+        req.audit,
+        id(req.params.id),
+        ImplementInputSchema.parse(req.body),
+      ),
+    )
   })
   router.post('/:id/closure', async (req, res) => {
     const b = ClosureInputSchema.parse(req.body)
@@ -61,11 +105,15 @@ export function createChangeRequestsRouter(deps: AppDeps) {
   router.put('/:id/checklist/:item', async (req, res) => {
     const item = z.enum(IMPACT_CHECKLIST.map((c) => c.item) as [string, ...string[]]).parse(req.params.item)
     const b = ChecklistInputSchema.parse(req.body)
-    res.json(await service.tickChecklist(deps, req.ability, req.audit, id(req.params.id), item as never, b.done, b.note))
+    res.json(
+      await service.tickChecklist(deps, req.ability, req.audit, id(req.params.id), item as never, b.done, b.note),
+    )
   })
   router.post('/:id/attachments', receiveAttachment, async (req, res) => {
     const att = await service.attachToChangeRequest(deps, req.ability, req.audit, id(req.params.id), req.file)
-    res.status(201).json({ id: att.id, fileName: att.file_name, contentType: att.content_type, sizeBytes: att.size_bytes })
+    res
+      .status(201)
+      .json({ id: att.id, fileName: att.file_name, contentType: att.content_type, sizeBytes: att.size_bytes })
   })
   router.get('/:id/attachments/:attachmentId', async (req, res) => {
     const crId = id(req.params.id)

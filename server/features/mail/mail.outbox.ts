@@ -2,28 +2,59 @@ import type { Transaction } from 'kysely'
 import type { Clock } from '../../clock.ts'
 import type { Database } from '../../db/schema.ts'
 
-export interface OutgoingMail { to: string, subject: string, text: string, html?: string, topic?: string }
+export interface OutgoingMail {
+  to: string
+  subject: string
+  text: string
+  html?: string
+  topic?: string
+}
 
 /**
  * Queues mail in the business transaction: a rollback sends nothing, a commit is delivered by the worker.
  * Business code never sends mail directly.
  */
-export async function enqueueMail(trx: Transaction<Database>, clock: Clock, mails: OutgoingMail | OutgoingMail[]): Promise<void> {
-  const list = (Array.isArray(mails) ? mails : [mails])
+export async function enqueueMail(
+  trx: Transaction<Database>,
+  clock: Clock,
+  mails: OutgoingMail | OutgoingMail[],
+): Promise<void> {
+  const list = Array.isArray(mails) ? mails : [mails]
   if (!list.length) return
   const now = clock.now()
-  await trx.insertInto('mail_outbox').values(list.map((m) => ({
-    to_addr: m.to, subject: m.subject, text_body: m.text, html_body: m.html ?? null, topic: m.topic ?? 'general', created_at: now, next_attempt_at: now,
-  }))).execute()
+  await trx
+    .insertInto('mail_outbox')
+    .values(
+      list.map((m) => ({
+        to_addr: m.to,
+        subject: m.subject,
+        text_body: m.text,
+        html_body: m.html ?? null,
+        topic: m.topic ?? 'general',
+        created_at: now,
+        next_attempt_at: now,
+      })),
+    )
+    .execute()
 }
 
-const esc = (s: string) => s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', '\'': '&#39;' }[c]!))
+const esc = (s: string) =>
+  s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!)
 
 /** Plain-text and HTML bodies from paragraphs and an optional link. */
-export function mailBodies(paragraphs: string[], link?: { url: string, label: string }): { text: string, html: string } {
-  const text = [...paragraphs, ...(link ? [`${link.label}: ${link.url}`] : []), '', '— Limitkeeper (this register does not replace the safety system or the plant\'s procedures)'].join('\n\n')
-  const html = `<div style="font-family:Roboto,Arial,sans-serif">${paragraphs.map((p) => `<p>${esc(p)}</p>`).join('')}`
-    + (link ? `<p><a href="${esc(link.url)}">${esc(link.label)}</a></p>` : '')
-    + '<p style="color:#666;font-size:12px">Limitkeeper. This register does not replace the safety system or the plant\'s procedures.</p></div>'
+export function mailBodies(
+  paragraphs: string[],
+  link?: { url: string; label: string },
+): { text: string; html: string } {
+  const text = [
+    ...paragraphs,
+    ...(link ? [`${link.label}: ${link.url}`] : []),
+    '',
+    "— Limitkeeper (this register does not replace the safety system or the plant's procedures)",
+  ].join('\n\n')
+  const html =
+    `<div style="font-family:Roboto,Arial,sans-serif">${paragraphs.map((p) => `<p>${esc(p)}</p>`).join('')}` +
+    (link ? `<p><a href="${esc(link.url)}">${esc(link.label)}</a></p>` : '') +
+    '<p style="color:#666;font-size:12px">Limitkeeper. This register does not replace the safety system or the plant\'s procedures.</p></div>'
   return { text, html }
 }

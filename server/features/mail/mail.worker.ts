@@ -9,7 +9,9 @@ export function backoffMs(attempts: number): number {
   return Math.min(60, 2 ** Math.max(0, attempts - 1)) * 60_000
 }
 
-export function createTransport(config: Pick<Config, 'SMTP_HOST' | 'SMTP_PORT' | 'SMTP_SECURE' | 'SMTP_USER' | 'SMTP_PASS'>) {
+export function createTransport(
+  config: Pick<Config, 'SMTP_HOST' | 'SMTP_PORT' | 'SMTP_SECURE' | 'SMTP_USER' | 'SMTP_PASS'>,
+) {
   return nodemailer.createTransport({
     host: config.SMTP_HOST,
     port: config.SMTP_PORT,
@@ -26,7 +28,7 @@ export function createTransport(config: Pick<Config, 'SMTP_HOST' | 'SMTP_PORT' |
  * Delivers due outbox rows one at a time, each in a short transaction holding its row with FOR UPDATE SKIP LOCKED,
  * so several app instances never send the same mail at once. Delivery is at-least-once.
  */
-export function createMailJob(db: Db, config: Config, clock: Clock): DueJob<{ sent: number, failed: number }> {
+export function createMailJob(db: Db, config: Config, clock: Clock): DueJob<{ sent: number; failed: number }> {
   const transport = createTransport(config)
   return {
     name: 'mail.deliver',
@@ -36,18 +38,42 @@ export function createMailJob(db: Db, config: Config, clock: Clock): DueJob<{ se
       let failed = 0
       for (let i = 0; i < 200; i++) {
         const done = await db.transaction().execute(async (trx) => {
-          const row = await trx.selectFrom('mail_outbox').selectAll().where('sent_at', 'is', null).where('next_attempt_at', '<=', now)
-            .orderBy('id').limit(1).forUpdate().skipLocked().executeTakeFirst()
+          const row = await trx
+            .selectFrom('mail_outbox')
+            .selectAll()
+            .where('sent_at', 'is', null)
+            .where('next_attempt_at', '<=', now)
+            .orderBy('id')
+            .limit(1)
+            .forUpdate()
+            .skipLocked()
+            .executeTakeFirst()
           if (!row) return 'empty'
           try {
-            await transport.sendMail({ from: config.MAIL_FROM, to: row.to_addr, subject: row.subject, text: row.text_body, html: row.html_body ?? undefined })
-            await trx.updateTable('mail_outbox').set({ sent_at: clock.now(), attempts: sql`attempts + 1`, last_error: null }).where('id', '=', row.id).execute()
+            await transport.sendMail({
+              from: config.MAIL_FROM,
+              to: row.to_addr,
+              subject: row.subject,
+              text: row.text_body,
+              html: row.html_body ?? undefined,
+            })
+            await trx
+              .updateTable('mail_outbox')
+              .set({ sent_at: clock.now(), attempts: sql`attempts + 1`, last_error: null })
+              .where('id', '=', row.id)
+              .execute()
             return 'sent'
           } catch (err) {
             const attempts = row.attempts + 1
-            await trx.updateTable('mail_outbox').set({
-              attempts, last_error: err instanceof Error ? err.message.slice(0, 500) : String(err), next_attempt_at: new Date(now.getTime() + backoffMs(attempts)),
-            }).where('id', '=', row.id).execute()
+            await trx
+              .updateTable('mail_outbox')
+              .set({
+                attempts,
+                last_error: err instanceof Error ? err.message.slice(0, 500) : String(err),
+                next_attempt_at: new Date(now.getTime() + backoffMs(attempts)),
+              })
+              .where('id', '=', row.id)
+              .execute()
             return 'failed'
           }
         })

@@ -18,10 +18,18 @@ const upload = multer({
 function uploadError(err: unknown): AppError {
   if (err instanceof multer.MulterError) {
     if (err.code === 'LIMIT_FILE_SIZE') {
-      return new AppError(413, ErrorCode.VALIDATION_FAILED, `The file is larger than ${IMPORT_MAX_BYTES / 1024 / 1024} MB: split the register, e.g. by area`, { fields: { file: ['Too large'] } })
+      return new AppError(
+        413,
+        ErrorCode.VALIDATION_FAILED,
+        `The file is larger than ${IMPORT_MAX_BYTES / 1024 / 1024} MB: split the register, e.g. by area`,
+        { fields: { file: ['Too large'] } },
+      )
     }
     if (err.code === 'LIMIT_UNEXPECTED_FILE' || err.code === 'LIMIT_FILE_COUNT') {
-      return validationFailed({ file: ['Send one file, in the form field "file"'] }, 'Send one file, in the form field "file"')
+      return validationFailed(
+        { file: ['Send one file, in the form field "file"'] },
+        'Send one file, in the form field "file"',
+      )
     }
     return validationFailed({ file: [err.message] }, `The upload could not be read: ${err.message}`)
   }
@@ -37,12 +45,26 @@ const receiveFile: RequestHandler = (req, res, next) => {
 export function createImportsRouter(deps: AppDeps) {
   const router = Router()
   // refuse users who may import nowhere before reading up to 5 MB of their upload
-  const mayImport: RequestHandler = (req, _res, next) => { authorize(req.ability, 'import', 'Limit'); next() }
+  const mayImport: RequestHandler = (req, _res, next) => {
+    authorize(req.ability, 'import', 'Limit')
+    next()
+  }
 
   router.post('/', mayImport, receiveFile, async (req, res) => {
-    if (!req.file) throw validationFailed({ file: ['Attach the register file (CSV or XLSX) in the form field "file"'] }, 'Attach the register file (CSV or XLSX) in the form field "file"')
+    if (!req.file)
+      throw validationFailed(
+        { file: ['Attach the register file (CSV or XLSX) in the form field "file"'] },
+        'Attach the register file (CSV or XLSX) in the form field "file"',
+      )
     const fields = ImportUploadFieldsSchema.parse(req.body ?? {})
-    const result = await imports.checkImport(deps, req.ability, req.audit, req.user!.id, { buffer: req.file.buffer, fileName: req.file.originalname }, fields)
+    const result = await imports.checkImport(
+      deps,
+      req.ability,
+      req.audit,
+      req.user!.id,
+      { buffer: req.file.buffer, fileName: req.file.originalname },
+      fields,
+    )
     res.status(201).json(result)
   })
 

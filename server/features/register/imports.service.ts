@@ -7,13 +7,31 @@ import { ZodError, type z } from 'zod'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import {
-  IMPORT_MAX_BYTES, IMPORT_MAX_ROWS, IMPORT_REQUIRED_COLUMNS, type ImportAction, type ImportError, type ImportMapping, ImportMappingSchema,
-  type ImportResult, type ImportRowResult, type ImportUploadFields,
+  IMPORT_MAX_BYTES,
+  IMPORT_MAX_ROWS,
+  IMPORT_REQUIRED_COLUMNS,
+  type ImportAction,
+  type ImportError,
+  type ImportMapping,
+  ImportMappingSchema,
+  type ImportResult,
+  type ImportRowResult,
+  type ImportUploadFields,
 } from '../../../shared/schemas/imports.ts'
 import {
-  type CreateInstrumentInput, CreateInstrumentInputSchema, type CreateLimitInput, CreateLimitInputSchema, CreateProcessInputSchema, type Limit,
+  type CreateInstrumentInput,
+  CreateInstrumentInputSchema,
+  type CreateLimitInput,
+  CreateLimitInputSchema,
+  CreateProcessInputSchema,
+  type Limit,
 } from '../../../shared/schemas/register.ts'
-import { REGISTER_COLUMNS, type RegisterColumnKey, signalFromText, signalToText } from '../../../shared/schemas/register-io.ts'
+import {
+  REGISTER_COLUMNS,
+  type RegisterColumnKey,
+  signalFromText,
+  signalToText,
+} from '../../../shared/schemas/register-io.ts'
 import { authorize } from '../../authorize.ts'
 import { openBaselineChangeRequest } from '../change-requests/change-requests.service.ts'
 import type { Clock } from '../../clock.ts'
@@ -35,13 +53,23 @@ type Cells = Partial<Record<RegisterColumnKey, string>>
 type InstrumentDto = Awaited<ReturnType<typeof lockInstrument>>
 
 /** A problem of one row before it is numbered: `field` is a column key, or `_row` for the whole row. */
-interface RowProblem { field: string, message: string }
+interface RowProblem {
+  field: string
+  message: string
+}
 
 /** A data row as stored in the batch: its spreadsheet row number, its cells by column key, problems of its shape. */
-interface StoredRow { row: number, cells: Cells, problems: RowProblem[] }
+interface StoredRow {
+  row: number
+  cells: Cells
+  problems: RowProblem[]
+}
 
 /** What the file looked like: header cells and the data rows with their spreadsheet row numbers. */
-interface FileTable { headers: string[], rows: { row: number, values: string[] }[] }
+interface FileTable {
+  headers: string[]
+  rows: { row: number; values: string[] }[]
+}
 
 const HEADER_OF = new Map<string, string>(REGISTER_COLUMNS.map((c) => [c.key, c.header]))
 const COLUMN_KEYS = new Set<string>(REGISTER_COLUMNS.map((c) => c.key))
@@ -65,16 +93,20 @@ export async function readTable(buffer: Buffer): Promise<FileTable> {
   if (buffer.length === 0) throw badFile('The file is empty')
   if (buffer.length > IMPORT_MAX_BYTES) throw badFile(`The file is larger than ${IMPORT_MAX_BYTES / 1024 / 1024} MB`)
   if (buffer.subarray(0, 4).equals(ZIP_SIGNATURE)) return readXlsx(buffer)
-  if (buffer.subarray(0, 4).equals(OLE2_SIGNATURE)) throw badFile('This is an old Excel (.xls) workbook: save it as .xlsx or as CSV (UTF-8) and upload it again')
+  if (buffer.subarray(0, 4).equals(OLE2_SIGNATURE))
+    throw badFile('This is an old Excel (.xls) workbook: save it as .xlsx or as CSV (UTF-8) and upload it again')
   let text: string
   try {
     text = new TextDecoder('utf-8', { fatal: true }).decode(buffer)
   } catch {
-    throw badFile('The file is neither an XLSX workbook nor CSV text in UTF-8: upload the register as .xlsx, or save the CSV as UTF-8')
+    throw badFile(
+      'The file is neither an XLSX workbook nor CSV text in UTF-8: upload the register as .xlsx, or save the CSV as UTF-8',
+    )
   }
   for (let i = 0; i < text.length; i++) {
     const c = text.charCodeAt(i)
-    if (c < 0x20 && c !== 0x09 && c !== 0x0a && c !== 0x0d) throw badFile('The file holds binary data, not CSV text: upload the register as .xlsx or .csv')
+    if (c < 0x20 && c !== 0x09 && c !== 0x0a && c !== 0x0d)
+      throw badFile('The file holds binary data, not CSV text: upload the register as .xlsx or .csv')
   }
   return readCsv(text.replace(/^\uFEFF/, ''))
 }
@@ -89,7 +121,10 @@ function guessDelimiter(text: string): string {
 function readCsv(text: string): FileTable {
   const parsed = Papa.parse<string[]>(text, { delimiter: guessDelimiter(text), skipEmptyLines: false })
   const quote = parsed.errors.find((e) => e.type === 'Quotes')
-  if (quote) throw badFile(`Row ${(quote.row ?? 0) + 1}: ${quote.message}; a text cell that holds the delimiter or a line break needs double quotes around it`)
+  if (quote)
+    throw badFile(
+      `Row ${(quote.row ?? 0) + 1}: ${quote.message}; a text cell that holds the delimiter or a line break needs double quotes around it`,
+    )
   const [head = [], ...data] = parsed.data
   // a record is one spreadsheet row even when a quoted cell spans lines, so record index + 1 is the row number
   return { headers: head.map((h) => h.trim()), rows: data.map((values, i) => ({ row: i + 2, values })) }
@@ -100,7 +135,10 @@ function unpackedSize(buf: Buffer): number {
   const min = Math.max(0, buf.length - 65_557)
   let eocd = -1
   for (let i = buf.length - 22; i >= min; i--) {
-    if (buf.readUInt32LE(i) === 0x06054b50) { eocd = i; break }
+    if (buf.readUInt32LE(i) === 0x06054b50) {
+      eocd = i
+      break
+    }
   }
   if (eocd < 0) return 0
   const entries = buf.readUInt16LE(eocd + 10)
@@ -131,28 +169,49 @@ function cellText(v: ExcelJS.CellValue): string {
 
 async function readXlsx(buffer: Buffer): Promise<FileTable> {
   // a damaged directory is left to the workbook reader; a huge one is refused before anything is unpacked
-  if (unpackedSize(buffer) > XLSX_MAX_UNPACKED_BYTES) throw badFile(`The workbook unpacks to more than ${XLSX_MAX_UNPACKED_BYTES / 1024 / 1024} MB; upload the register as CSV or split it`)
+  if (unpackedSize(buffer) > XLSX_MAX_UNPACKED_BYTES)
+    throw badFile(
+      `The workbook unpacks to more than ${XLSX_MAX_UNPACKED_BYTES / 1024 / 1024} MB; upload the register as CSV or split it`,
+    )
   const wb = new ExcelJS.Workbook()
   try {
     await wb.xlsx.load(buffer as never)
   } catch {
-    throw badFile('The file starts like an XLSX workbook but cannot be opened as one: save it again from the spreadsheet program, or upload CSV (UTF-8)')
+    throw badFile(
+      'The file starts like an XLSX workbook but cannot be opened as one: save it again from the spreadsheet program, or upload CSV (UTF-8)',
+    )
   }
   const ws = wb.worksheets[0]
   if (!ws) throw badFile('The workbook has no worksheet')
-  if (ws.actualRowCount > IMPORT_MAX_ROWS + 1) throw badFile(`The first worksheet has ${ws.actualRowCount - 1} data rows; one import takes at most ${IMPORT_MAX_ROWS}`)
+  if (ws.actualRowCount > IMPORT_MAX_ROWS + 1)
+    throw badFile(
+      `The first worksheet has ${ws.actualRowCount - 1} data rows; one import takes at most ${IMPORT_MAX_ROWS}`,
+    )
   const width = Math.min(ws.columnCount, MAX_COLUMNS + 1)
-  const read = (r: ExcelJS.Row) => Array.from({ length: Math.max(width, r.cellCount) }, (_, i) => cellText(r.getCell(i + 1).value))
-  const headers = read(ws.getRow(1)).slice(0, width).map((h) => h.trim())
+  const read = (r: ExcelJS.Row) =>
+    Array.from({ length: Math.max(width, r.cellCount) }, (_, i) => cellText(r.getCell(i + 1).value))
+  const headers = read(ws.getRow(1))
+    .slice(0, width)
+    .map((h) => h.trim())
   const rows: FileTable['rows'] = []
-  ws.eachRow({ includeEmpty: false }, (r, n) => { if (n > 1) rows.push({ row: n, values: read(r) }) })
+  ws.eachRow({ includeEmpty: false }, (r, n) => {
+    if (n > 1) rows.push({ row: n, values: read(r) })
+  })
   return { headers, rows }
 }
 
 // ---- mapping headers to column keys ----
 
 const norm = (h: string) => h.trim().toLowerCase().replace(/\s+/g, ' ')
-const BY_HEADER = new Map<string, RegisterColumnKey>(REGISTER_COLUMNS.flatMap((c) => [[norm(c.header), c.key], [norm(c.key), c.key]] as const))
+const BY_HEADER = new Map<string, RegisterColumnKey>(
+  REGISTER_COLUMNS.flatMap(
+    (c) =>
+      [
+        [norm(c.header), c.key],
+        [norm(c.key), c.key],
+      ] as const,
+  ),
+)
 
 /**
  * The column key of each header: the explicit mapping first, then the register file's own headers (or keys), case
@@ -169,7 +228,10 @@ function resolveMapping(headers: string[], explicit: ImportMapping | undefined, 
   const used = new Map<string, string>()
   const ignored: string[] = []
   for (const h of headers) {
-    if (!h) { keys.push(null); continue }
+    if (!h) {
+      keys.push(null)
+      continue
+    }
     const chosen = lookup(explicit, h) ?? BY_HEADER.get(norm(h)) ?? lookup(remembered, h)
     keys.push(chosen ? chosen : null)
     used.set(h, chosen ?? '')
@@ -184,10 +246,14 @@ function resolveMapping(headers: string[], explicit: ImportMapping | undefined, 
   })
   const columns = REGISTER_COLUMNS.map((c) => ({ key: c.key, header: c.header }))
   const mapping = Object.fromEntries(used)
-  if (twice.length) throw badFile(`Two columns map to the same field: ${twice.join('; ')}`, { headers, mapping, columns })
+  if (twice.length)
+    throw badFile(`Two columns map to the same field: ${twice.join('; ')}`, { headers, mapping, columns })
   const missing = IMPORT_REQUIRED_COLUMNS.filter((k) => !seen.has(k))
   if (missing.length) {
-    throw badFile(`The file has no column for ${missing.map(header).join(', ')}: map its headers to the register columns, or start from an exported register file`, { headers, mapping, missing, columns })
+    throw badFile(
+      `The file has no column for ${missing.map(header).join(', ')}: map its headers to the register columns, or start from an exported register file`,
+      { headers, mapping, missing, columns },
+    )
   }
   return { keys, used: mapping, ignored }
 }
@@ -197,10 +263,15 @@ function toStoredRows(table: FileTable, keys: (RegisterColumnKey | null)[]): Sto
   for (const { row, values } of table.rows) {
     if (values.every((v) => v.trim() === '')) continue
     const cells: Cells = {}
-    keys.forEach((k, i) => { if (k) cells[k] = (values[i] ?? '').trim() })
+    keys.forEach((k, i) => {
+      if (k) cells[k] = (values[i] ?? '').trim()
+    })
     const problems: RowProblem[] = []
     if (values.slice(table.headers.length).some((v) => v.trim() !== '')) {
-      problems.push({ field: '_row', message: `The row has more cells than the header has columns (${table.headers.length}): a text cell that holds the delimiter needs double quotes` })
+      problems.push({
+        field: '_row',
+        message: `The row has more cells than the header has columns (${table.headers.length}): a text cell that holds the delimiter needs double quotes`,
+      })
     }
     rows.push({ row, cells, problems })
   }
@@ -211,8 +282,12 @@ function toStoredRows(table: FileTable, keys: (RegisterColumnKey | null)[]): Sto
 
 class CellProblems {
   list: RowProblem[] = []
-  add(field: string, message: string) { this.list.push({ field, message }) }
-  has(field: string) { return this.list.some((p) => p.field === field) }
+  add(field: string, message: string) {
+    this.list.push({ field, message })
+  }
+  has(field: string) {
+    return this.list.some((p) => p.field === field)
+  }
 }
 
 const NUMBER = /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/
@@ -220,7 +295,12 @@ const NUMBER = /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/
 function numberCell(v: string, key: string, errs: CellProblems): number | null | undefined {
   if (v === '') return null
   if (NUMBER.test(v)) return Number(v)
-  errs.add(key, /^-?\d+,\d+$/.test(v) ? `${header(key)}: use a dot as the decimal separator (${v.replace(',', '.')})` : `${header(key)}: "${v}" is not a number`)
+  errs.add(
+    key,
+    /^-?\d+,\d+$/.test(v)
+      ? `${header(key)}: use a dot as the decimal separator (${v.replace(',', '.')})`
+      : `${header(key)}: "${v}" is not a number`,
+  )
   return undefined
 }
 
@@ -240,21 +320,49 @@ function boolCell(v: string, key: string, errs: CellProblems): boolean | undefin
   return undefined
 }
 
-const ENUM_ALIASES: Record<string, string> = { '%': 'percent_span', '%_span': 'percent_span', percent: 'percent_span', engineering_units: 'eu' }
-const enumCell = (v: string) => { const t = v.toLowerCase().replace(/[\s-]+/g, '_'); return ENUM_ALIASES[t] ?? t }
+const ENUM_ALIASES: Record<string, string> = {
+  '%': 'percent_span',
+  '%_span': 'percent_span',
+  percent: 'percent_span',
+  engineering_units: 'eu',
+}
+const enumCell = (v: string) => {
+  const t = v.toLowerCase().replace(/[\s-]+/g, '_')
+  return ENUM_ALIASES[t] ?? t
+}
 
 /** The instrument's editable fields as the API reads them (for overlaying file cells on a stored instrument). */
 function instrumentBase(i: InstrumentDto): Record<string, unknown> {
   return {
-    processId: i.processId, tag: i.tag, measuredVariable: i.measuredVariable, unit: i.unit, pressureReference: i.pressureReference, rangeLow: i.rangeLow,
-    rangeHigh: i.rangeHigh, normalLow: i.normalLow, normalHigh: i.normalHigh, designLow: i.designLow, designHigh: i.designHigh, burnout: i.burnout,
-    signal: i.signal, deviceKind: i.deviceKind, deviceDescription: i.deviceDescription,
+    processId: i.processId,
+    tag: i.tag,
+    measuredVariable: i.measuredVariable,
+    unit: i.unit,
+    pressureReference: i.pressureReference,
+    rangeLow: i.rangeLow,
+    rangeHigh: i.rangeHigh,
+    normalLow: i.normalLow,
+    normalHigh: i.normalHigh,
+    designLow: i.designLow,
+    designHigh: i.designHigh,
+    burnout: i.burnout,
+    signal: i.signal,
+    deviceKind: i.deviceKind,
+    deviceDescription: i.deviceDescription,
   }
 }
 
 const INSTRUMENT_NUMBERS = ['rangeLow', 'rangeHigh', 'normalLow', 'normalHigh', 'designLow', 'designHigh'] as const
 const INSTRUMENT_ENUMS = ['measuredVariable', 'burnout', 'deviceKind'] as const
-const INSTRUMENT_REQUIRED = ['measuredVariable', 'unit', 'rangeLow', 'rangeHigh', 'burnout', 'signal', 'deviceKind'] as const
+const INSTRUMENT_REQUIRED = [
+  'measuredVariable',
+  'unit',
+  'rangeLow',
+  'rangeHigh',
+  'burnout',
+  'signal',
+  'deviceKind',
+] as const
 
 /** File cells over the stored instrument (columns the file lacks keep their stored value). */
 function instrumentRaw(cells: Cells, base: InstrumentDto | null, errs: CellProblems): Record<string, unknown> {
@@ -262,8 +370,10 @@ function instrumentRaw(cells: Cells, base: InstrumentDto | null, errs: CellProbl
   if (cells.instrumentTag !== undefined) raw.tag = cells.instrumentTag
   if (cells.unit !== undefined) raw.unit = cells.unit
   if (cells.deviceDescription !== undefined) raw.deviceDescription = cells.deviceDescription
-  for (const k of INSTRUMENT_ENUMS) if (cells[k] !== undefined) raw[k] = cells[k] === '' ? undefined : enumCell(cells[k])
-  if (cells.pressureReference !== undefined) raw.pressureReference = cells.pressureReference === '' ? null : enumCell(cells.pressureReference)
+  for (const k of INSTRUMENT_ENUMS)
+    if (cells[k] !== undefined) raw[k] = cells[k] === '' ? undefined : enumCell(cells[k])
+  if (cells.pressureReference !== undefined)
+    raw.pressureReference = cells.pressureReference === '' ? null : enumCell(cells.pressureReference)
   for (const k of INSTRUMENT_NUMBERS) {
     if (cells[k] === undefined) continue
     const n = numberCell(cells[k], k, errs)
@@ -272,7 +382,10 @@ function instrumentRaw(cells: Cells, base: InstrumentDto | null, errs: CellProbl
   }
   if (cells.signal !== undefined || cells.headTransmitter !== undefined) {
     const stored = base?.signal as { headTransmitter?: boolean } | undefined
-    const head = cells.headTransmitter !== undefined ? boolCell(cells.headTransmitter, 'headTransmitter', errs) ?? false : stored?.headTransmitter ?? false
+    const head =
+      cells.headTransmitter !== undefined
+        ? (boolCell(cells.headTransmitter, 'headTransmitter', errs) ?? false)
+        : (stored?.headTransmitter ?? false)
     const text = cells.signal ?? (base ? signalToText(base.signal) : '')
     if (text === '') delete raw.signal
     else {
@@ -280,19 +393,33 @@ function instrumentRaw(cells: Cells, base: InstrumentDto | null, errs: CellProbl
       if (signal) raw.signal = signal
       else {
         delete raw.signal
-        errs.add('signal', `Signal: "${text}" is not understood; write e.g. thermocouple K, rtd Pt100 3-wire, 4-20mA, 4-20mA sqrt, voltage 0-10V or switch`)
+        errs.add(
+          'signal',
+          `Signal: "${text}" is not understood; write e.g. thermocouple K, rtd Pt100 3-wire, 4-20mA, 4-20mA sqrt, voltage 0-10V or switch`,
+        )
       }
     }
   }
   for (const k of INSTRUMENT_REQUIRED) {
-    if ((raw[k] === undefined || raw[k] === null || raw[k] === '') && !errs.has(k)) errs.add(k, `${header(k)}: enter a value`)
+    if ((raw[k] === undefined || raw[k] === null || raw[k] === '') && !errs.has(k))
+      errs.add(k, `${header(k)}: enter a value`)
   }
   return raw
 }
 
 const LIMIT_TEXTS = ['tag', 'description', 'action', 'consequence', 'operatorResponse'] as const
 const LIMIT_ENUMS = ['direction', 'limitClass', 'deadbandUnit', 'severity'] as const
-const LIMIT_NUMBERS = ['setpoint', 'deadband', 'onDelaySec', 'offDelaySec', 'responseTimeMin', 'analyticalLimit', 'processSafetyTimeSec', 'requiredResponseTimeSec', 'maxBypassHours'] as const
+const LIMIT_NUMBERS = [
+  'setpoint',
+  'deadband',
+  'onDelaySec',
+  'offDelaySec',
+  'responseTimeMin',
+  'analyticalLimit',
+  'processSafetyTimeSec',
+  'requiredResponseTimeSec',
+  'maxBypassHours',
+] as const
 const LIMIT_DEFAULTED = new Set(['deadband', 'onDelaySec', 'offDelaySec'])
 const LIMIT_BOOLS = ['latching', 'badValueTrip', 'bypassPermitted', 'codeSetInterval'] as const
 const LIMIT_REQUIRED = ['direction', 'limitClass', 'setpoint', 'severity', 'testIntervalMonths'] as const
@@ -310,7 +437,8 @@ function limitRaw(cells: Cells, base: Limit | null, errs: CellProblems): Record<
     if (n === undefined) delete raw[k]
   }
   for (const k of LIMIT_BOOLS) if (cells[k] !== undefined) raw[k] = boolCell(cells[k], k, errs)
-  if (cells.testIntervalMonths !== undefined) raw.testIntervalMonths = intCell(cells.testIntervalMonths, 'testIntervalMonths', errs) ?? undefined
+  if (cells.testIntervalMonths !== undefined)
+    raw.testIntervalMonths = intCell(cells.testIntervalMonths, 'testIntervalMonths', errs) ?? undefined
   if (cells.testGraceDays !== undefined) raw.testGraceDays = intCell(cells.testGraceDays, 'testGraceDays', errs)
   if (cells.sil !== undefined) {
     const m = /^(?:sil\s*)?([123])$/i.exec(cells.sil)
@@ -318,19 +446,27 @@ function limitRaw(cells: Cells, base: Limit | null, errs: CellProblems): Record<
     else if (m) raw.sil = Number(m[1])
     else errs.add('sil', 'SIL: write 1, 2 or 3, or leave it empty')
   }
-  if (cells.compensatingMeasures !== undefined) raw.compensatingMeasures = cells.compensatingMeasures.split(/[;\n]/).map((s) => s.trim()).filter(Boolean)
+  if (cells.compensatingMeasures !== undefined)
+    raw.compensatingMeasures = cells.compensatingMeasures
+      .split(/[;\n]/)
+      .map((s) => s.trim())
+      .filter(Boolean)
   if (cells.subsystems !== undefined) {
     if (cells.subsystems === '') raw.subsystems = []
     else {
       try {
         raw.subsystems = JSON.parse(cells.subsystems)
       } catch {
-        errs.add('subsystems', 'Subsystems: not valid JSON; write a list such as [{"role":"sensor","architecture":"1oo2",…}]')
+        errs.add(
+          'subsystems',
+          'Subsystems: not valid JSON; write a list such as [{"role":"sensor","architecture":"1oo2",…}]',
+        )
       }
     }
   }
   for (const k of LIMIT_REQUIRED) {
-    if ((raw[k] === undefined || raw[k] === null || raw[k] === '') && !errs.has(k)) errs.add(k, `${header(k)}: enter a value`)
+    if ((raw[k] === undefined || raw[k] === null || raw[k] === '') && !errs.has(k))
+      errs.add(k, `${header(k)}: enter a value`)
   }
   return raw
 }
@@ -354,12 +490,20 @@ function zodProblems(err: ZodError, column: (path: PropertyKey[]) => string, err
   for (const issue of err.issues) {
     const field = column(issue.path)
     if (errs.has(field)) continue
-    const where = field === 'subsystems' && issue.path.length > 1 ? `subsystem ${Number(issue.path[1]) + 1}${issue.path.length > 2 ? ` ${issue.path.slice(2).join('.')}` : ''}: ` : ''
+    const where =
+      field === 'subsystems' && issue.path.length > 1
+        ? `subsystem ${Number(issue.path[1]) + 1}${issue.path.length > 2 ? ` ${issue.path.slice(2).join('.')}` : ''}: `
+        : ''
     errs.add(field, `${header(field)}: ${where}${issue.message}`)
   }
 }
 
-function parseWith<T>(schema: z.ZodType<T>, raw: unknown, column: (path: PropertyKey[]) => string, errs: CellProblems): T | null {
+function parseWith<T>(
+  schema: z.ZodType<T>,
+  raw: unknown,
+  column: (path: PropertyKey[]) => string,
+  errs: CellProblems,
+): T | null {
   const r = schema.safeParse(raw)
   if (r.success) return r.data
   zodProblems(r.error, column, errs)
@@ -371,9 +515,20 @@ function parseWith<T>(schema: z.ZodType<T>, raw: unknown, column: (path: Propert
 /** An instrument definition as the database keeps it (so equal definitions compare equal). */
 function instrumentStored(d: CreateInstrumentInput): Record<string, unknown> {
   return {
-    instrumentTag: d.tag, measuredVariable: d.measuredVariable, unit: d.unit, pressureReference: d.measuredVariable === 'pressure' ? d.pressureReference : null,
-    rangeLow: d.rangeLow, rangeHigh: d.rangeHigh, normalLow: d.normalLow, normalHigh: d.normalHigh, designLow: d.designLow, designHigh: d.designHigh,
-    burnout: d.burnout, signal: d.signal, deviceKind: d.deviceKind, deviceDescription: d.deviceDescription,
+    instrumentTag: d.tag,
+    measuredVariable: d.measuredVariable,
+    unit: d.unit,
+    pressureReference: d.measuredVariable === 'pressure' ? d.pressureReference : null,
+    rangeLow: d.rangeLow,
+    rangeHigh: d.rangeHigh,
+    normalLow: d.normalLow,
+    normalHigh: d.normalHigh,
+    designLow: d.designLow,
+    designHigh: d.designHigh,
+    burnout: d.burnout,
+    signal: d.signal,
+    deviceKind: d.deviceKind,
+    deviceDescription: d.deviceDescription,
   }
 }
 
@@ -381,23 +536,34 @@ function instrumentStored(d: CreateInstrumentInput): Record<string, unknown> {
 function limitStored(d: CreateLimitInput): Record<string, unknown> {
   const { processId: _p, instrumentIds, ...rest } = d
   return {
-    ...rest, instrumentTag: instrumentIds[0], votedInstrumentTags: instrumentIds.slice(1), resetRole: d.latching ? d.resetRole : null,
-    maxBypassHours: d.bypassPermitted ? d.maxBypassHours : null, subsystems: d.sil ? d.subsystems : [],
+    ...rest,
+    instrumentTag: instrumentIds[0],
+    votedInstrumentTags: instrumentIds.slice(1),
+    resetRole: d.latching ? d.resetRole : null,
+    maxBypassHours: d.bypassPermitted ? d.maxBypassHours : null,
+    subsystems: d.sil ? d.subsystems : [],
   }
 }
 
 /** Column keys whose values differ, in file order. */
 function differences(a: Record<string, unknown>, b: Record<string, unknown>): string[] {
   const keys = [...new Set([...Object.keys(a), ...Object.keys(b)])]
-  const order = (k: string) => { const i = REGISTER_COLUMNS.findIndex((c) => c.key === k); return i < 0 ? 999 : i }
-  return keys.filter((k) => canonicalize(a[k] ?? null) !== canonicalize(b[k] ?? null)).sort((x, y) => order(x) - order(y))
+  const order = (k: string) => {
+    const i = REGISTER_COLUMNS.findIndex((c) => c.key === k)
+    return i < 0 ? 999 : i
+  }
+  return keys
+    .filter((k) => canonicalize(a[k] ?? null) !== canonicalize(b[k] ?? null))
+    .sort((x, y) => order(x) - order(y))
 }
 
 // ---- running the rows against the register ----
 
 /** Errors of one row that stop it (thrown inside a row, caught by the row's savepoint). */
 class RowFailure extends Error {
-  constructor(readonly problems: RowProblem[]) { super(problems.map((p) => p.message).join('; ')) }
+  constructor(readonly problems: RowProblem[]) {
+    super(problems.map((p) => p.message).join('; '))
+  }
 }
 
 /** Turns a service error into row problems; anything unexpected is rethrown (and fails the whole import). */
@@ -409,12 +575,19 @@ function problemsOf(err: unknown, fallbackField: string, column: (path: Property
     return errs.list
   }
   if (err instanceof AppError && err.status < 500) {
-    const details = err.details as { operatingWindow?: { errors: { field?: string, message: string }[] }, fields?: Record<string, string[]> } | undefined
+    const details = err.details as
+      | { operatingWindow?: { errors: { field?: string; message: string }[] }; fields?: Record<string, string[]> }
+      | undefined
     if (details?.operatingWindow?.errors.length) {
-      return details.operatingWindow.errors.map((e) => ({ field: e.field && COLUMN_KEYS.has(e.field) ? e.field : 'setpoint', message: `Operating window: ${e.message}` }))
+      return details.operatingWindow.errors.map((e) => ({
+        field: e.field && COLUMN_KEYS.has(e.field) ? e.field : 'setpoint',
+        message: `Operating window: ${e.message}`,
+      }))
     }
     if (details?.fields && err.status !== 409) {
-      return Object.entries(details.fields).flatMap(([f, msgs]) => msgs.map((m) => ({ field: column(f.split('.')), message: m })))
+      return Object.entries(details.fields).flatMap(([f, msgs]) =>
+        msgs.map((m) => ({ field: column(f.split('.')), message: m })),
+      )
     }
     return [{ field: fallbackField, message: err.message }]
   }
@@ -422,7 +595,12 @@ function problemsOf(err: unknown, fallbackField: string, column: (path: Property
 }
 
 /** Runs `fn` inside a savepoint: on a row problem the row's writes are undone and the problems returned. */
-async function inSavepoint(trx: Trx, fn: () => Promise<void>, fallbackField: string, column: (path: PropertyKey[]) => string): Promise<RowProblem[]> {
+async function inSavepoint(
+  trx: Trx,
+  fn: () => Promise<void>,
+  fallbackField: string,
+  column: (path: PropertyKey[]) => string,
+): Promise<RowProblem[]> {
   await sql`SAVEPOINT import_row`.execute(trx)
   try {
     await fn()
@@ -430,7 +608,9 @@ async function inSavepoint(trx: Trx, fn: () => Promise<void>, fallbackField: str
     return []
   } catch (err) {
     const found = problemsOf(err, fallbackField, column)
-    const problems = found.length ? found : [{ field: fallbackField, message: err instanceof Error ? err.message : 'The row could not be written' }]
+    const problems = found.length
+      ? found
+      : [{ field: fallbackField, message: err instanceof Error ? err.message : 'The row could not be written' }]
     await sql`ROLLBACK TO SAVEPOINT import_row`.execute(trx)
     await sql`RELEASE SAVEPOINT import_row`.execute(trx)
     return problems
@@ -440,18 +620,26 @@ async function inSavepoint(trx: Trx, fn: () => Promise<void>, fallbackField: str
 interface RowState {
   stored: StoredRow
   problems: RowProblem[]
-  process?: { id: number, area_id: number, site_id: number }
+  process?: { id: number; area_id: number; site_id: number }
   instrumentId?: number
   changes: Set<string>
   wrote: boolean
   created: boolean
   limitId?: number
-  warnings: { code: string, field?: string, message: string }[]
+  warnings: { code: string; field?: string; message: string }[]
 }
 
-interface RunOutcome { rows: ImportRowResult[], errors: ImportError[], limitIds: number[] }
+interface RunOutcome {
+  rows: ImportRowResult[]
+  errors: ImportError[]
+  limitIds: number[]
+}
 
-const splitTags = (v: string | undefined) => (v ?? '').split(/[;,\n]/).map((s) => s.trim()).filter(Boolean)
+const splitTags = (v: string | undefined) =>
+  (v ?? '')
+    .split(/[;,\n]/)
+    .map((s) => s.trim())
+    .filter(Boolean)
 const processKey = (areaId: number, name: string) => `${areaId}|${name.toLowerCase()}`
 
 function chunks<T>(list: T[], size = 1000): T[][] {
@@ -464,8 +652,15 @@ function chunks<T>(list: T[], size = 1000): T[][] {
 async function preloadInstruments(trx: Trx, siteId: number, tags: string[]): Promise<Map<string, InstrumentDto>> {
   const map = new Map<string, InstrumentDto>()
   for (const chunk of chunks(tags)) {
-    const rows = await trx.selectFrom('instrument').innerJoin('process', 'process.id', 'instrument.process_id').selectAll('instrument').select('process.name as process_name')
-      .where('instrument.site_id', '=', siteId).where(sql<string>`lower(instrument.tag)`, 'in', chunk).forUpdate(['instrument'] as never).execute()
+    const rows = await trx
+      .selectFrom('instrument')
+      .innerJoin('process', 'process.id', 'instrument.process_id')
+      .selectAll('instrument')
+      .select('process.name as process_name')
+      .where('instrument.site_id', '=', siteId)
+      .where(sql<string>`lower(instrument.tag)`, 'in', chunk)
+      .forUpdate(['instrument'] as never)
+      .execute()
     for (const r of rows) map.set(r.tag.toLowerCase(), toInstrument(r))
   }
   return map
@@ -475,25 +670,44 @@ async function preloadInstruments(trx: Trx, siteId: number, tags: string[]): Pro
 async function preloadLimits(trx: Trx, siteId: number, tags: string[]): Promise<Map<string, Limit>> {
   const map = new Map<string, Limit>()
   for (const chunk of chunks(tags)) {
-    const rows = await trx.selectFrom('limit_function')
+    const rows = await trx
+      .selectFrom('limit_function')
       .innerJoin('process', 'process.id', 'limit_function.process_id')
       .innerJoin('area', 'area.id', 'limit_function.area_id')
       .innerJoin('site', 'site.id', 'limit_function.site_id')
       .innerJoin('instrument as pi', 'pi.id', 'limit_function.primary_instrument_id')
       .selectAll('limit_function')
-      .select(['process.name as process_name', 'area.name as area_name', 'site.code as site_code', 'pi.tag as pi_tag', 'pi.unit as pi_unit',
-        'pi.measured_variable as pi_variable', 'pi.range_low as pi_range_low', 'pi.range_high as pi_range_high'])
-      .where('limit_function.site_id', '=', siteId).where(sql<string>`lower(limit_function.tag)`, 'in', chunk)
-      .forUpdate(['limit_function'] as never).execute()
-    const voted = await findInstrumentIdsByLimitIds(trx, rows.map((r) => r.id))
+      .select([
+        'process.name as process_name',
+        'area.name as area_name',
+        'site.code as site_code',
+        'pi.tag as pi_tag',
+        'pi.unit as pi_unit',
+        'pi.measured_variable as pi_variable',
+        'pi.range_low as pi_range_low',
+        'pi.range_high as pi_range_high',
+      ])
+      .where('limit_function.site_id', '=', siteId)
+      .where(sql<string>`lower(limit_function.tag)`, 'in', chunk)
+      .forUpdate(['limit_function'] as never)
+      .execute()
+    const voted = await findInstrumentIdsByLimitIds(
+      trx,
+      rows.map((r) => r.id),
+    )
     for (const r of rows) map.set(r.tag.toLowerCase(), toLimit(r, voted.get(r.id) ?? []))
   }
   return map
 }
 
 async function activeLimitTagsOn(trx: Trx, instrumentId: number): Promise<string[]> {
-  const rows = await trx.selectFrom('limit_instrument').innerJoin('limit_function', 'limit_function.id', 'limit_instrument.limit_id')
-    .select('limit_function.tag').where('limit_instrument.instrument_id', '=', instrumentId).where('limit_function.status', '=', 'active').execute()
+  const rows = await trx
+    .selectFrom('limit_instrument')
+    .innerJoin('limit_function', 'limit_function.id', 'limit_instrument.limit_id')
+    .select('limit_function.tag')
+    .where('limit_instrument.instrument_id', '=', instrumentId)
+    .where('limit_function.status', '=', 'active')
+    .execute()
   return rows.map((r) => r.tag)
 }
 
@@ -503,19 +717,53 @@ async function activeLimitTagsOn(trx: Trx, instrumentId: number): Promise<string
  * row with problems leaves nothing behind and the others go on, so one run reports every problem of the file. Rows
  * that change nothing cost no query: what they are compared with is loaded once, up front.
  */
-async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: number, code: string }, stored: StoredRow[], batchId: string | undefined): Promise<RunOutcome> {
-  const areas = await trx.selectFrom('area').select(['id', 'name']).where('site_id', '=', site.id).orderBy('id').execute()
+async function runRows(
+  trx: Trx,
+  clock: Clock,
+  ctx: AuditContext,
+  site: { id: number; code: string },
+  stored: StoredRow[],
+  batchId: string | undefined,
+): Promise<RunOutcome> {
+  const areas = await trx
+    .selectFrom('area')
+    .select(['id', 'name'])
+    .where('site_id', '=', site.id)
+    .orderBy('id')
+    .execute()
   const processes = new Map<string, ProcessRow>()
   for (const p of await trx.selectFrom('process').selectAll().where('site_id', '=', site.id).orderBy('id').execute()) {
     if (!processes.has(processKey(p.area_id, p.name))) processes.set(processKey(p.area_id, p.name), p)
   }
-  const lowerTags = (f: (s: StoredRow) => string[]) => [...new Set(stored.flatMap(f).filter(Boolean).map((t) => t.toLowerCase()))]
-  const instruments = await preloadInstruments(trx, site.id, lowerTags((s) => [s.cells.instrumentTag ?? '', ...splitTags(s.cells.votedInstrumentTags)]))
-  const limits = await preloadLimits(trx, site.id, lowerTags((s) => [s.cells.tag ?? '']))
+  const lowerTags = (f: (s: StoredRow) => string[]) => [
+    ...new Set(
+      stored
+        .flatMap(f)
+        .filter(Boolean)
+        .map((t) => t.toLowerCase()),
+    ),
+  ]
+  const instruments = await preloadInstruments(
+    trx,
+    site.id,
+    lowerTags((s) => [s.cells.instrumentTag ?? '', ...splitTags(s.cells.votedInstrumentTags)]),
+  )
+  const limits = await preloadLimits(
+    trx,
+    site.id,
+    lowerTags((s) => [s.cells.tag ?? '']),
+  )
   const changedInstruments = new Set<number>()
-  const states: RowState[] = stored.map((s) => ({ stored: s, problems: [...s.problems], changes: new Set(), wrote: false, created: false, warnings: [] }))
+  const states: RowState[] = stored.map((s) => ({
+    stored: s,
+    problems: [...s.problems],
+    changes: new Set(),
+    wrote: false,
+    created: false,
+    warnings: [],
+  }))
   const firstRowOfLimit = new Map<string, number>()
-  const instrumentSeen = new Map<string, { row: number, definition: Record<string, unknown> }>()
+  const instrumentSeen = new Map<string, { row: number; definition: Record<string, unknown> }>()
 
   // pass 1: the shape of the row, then its process and instrument
   for (const st of states) {
@@ -528,23 +776,41 @@ async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: nu
       if (earlier) errs.add('tag', `Limit tag ${cells.tag} is already on row ${earlier}`)
       else firstRowOfLimit.set(cells.tag.toLowerCase(), row)
     }
-    if (cells.site && cells.site.toLowerCase() !== site.code.toLowerCase()) errs.add('site', `This row is for site ${cells.site}; this import is for ${site.code}`)
+    if (cells.site && cells.site.toLowerCase() !== site.code.toLowerCase())
+      errs.add('site', `This row is for site ${cells.site}; this import is for ${site.code}`)
     const area = cells.area ? areas.find((a) => a.name.toLowerCase() === cells.area!.toLowerCase()) : undefined
     if (!cells.area) errs.add('area', 'Area is empty')
-    else if (!area) errs.add('area', `Area "${cells.area}" does not exist at ${site.code} (areas: ${areas.map((a) => a.name).join(', ')})`)
+    else if (!area)
+      errs.add(
+        'area',
+        `Area "${cells.area}" does not exist at ${site.code} (areas: ${areas.map((a) => a.name).join(', ')})`,
+      )
     if (!cells.process) errs.add('process', 'Process is empty')
     else {
       const p = CreateProcessInputSchema.safeParse({ areaId: area?.id ?? 1, name: cells.process })
       if (!p.success) errs.add('process', `Process: ${p.error.issues[0].message}`)
     }
-    const process = area && cells.process ? processes.get(processKey(area.id, cells.process)) ?? null : null
-    const instrument = cells.instrumentTag ? instruments.get(cells.instrumentTag.toLowerCase()) ?? null : null
-    const limit = cells.tag ? limits.get(cells.tag.toLowerCase()) ?? null : null
+    const process = area && cells.process ? (processes.get(processKey(area.id, cells.process)) ?? null) : null
+    const instrument = cells.instrumentTag ? (instruments.get(cells.instrumentTag.toLowerCase()) ?? null) : null
+    const limit = cells.tag ? (limits.get(cells.tag.toLowerCase()) ?? null) : null
     if (limit && area && cells.process && limit.processId !== process?.id) {
-      errs.add('process', `Limit ${limit.tag} belongs to ${limit.processName} in ${limit.areaName}; an import does not move a limit to another process`)
+      errs.add(
+        'process',
+        `Limit ${limit.tag} belongs to ${limit.processName} in ${limit.areaName}; an import does not move a limit to another process`,
+      )
     }
-    const instrumentInput = parseWith(CreateInstrumentInputSchema, { ...instrumentRaw(cells, instrument, errs), processId: instrument?.processId ?? process?.id ?? 1 }, instrumentColumn, errs)
-    parseWith(CreateLimitInputSchema, { ...limitRaw(cells, limit, errs), processId: process?.id ?? 1, instrumentIds: [1] }, limitColumn, errs)
+    const instrumentInput = parseWith(
+      CreateInstrumentInputSchema,
+      { ...instrumentRaw(cells, instrument, errs), processId: instrument?.processId ?? process?.id ?? 1 },
+      instrumentColumn,
+      errs,
+    )
+    parseWith(
+      CreateLimitInputSchema,
+      { ...limitRaw(cells, limit, errs), processId: process?.id ?? 1, instrumentIds: [1] },
+      limitColumn,
+      errs,
+    )
     st.problems.push(...errs.list)
     if (st.problems.length || !area || !instrumentInput) continue
 
@@ -554,7 +820,12 @@ async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: nu
     if (seen) {
       const diff = differences(seen.definition, definition)
       if (diff.length) {
-        st.problems.push(...diff.map((f) => ({ field: f, message: `${header(f)}: instrument ${instrumentInput.tag} is described differently on row ${seen.row}` })))
+        st.problems.push(
+          ...diff.map((f) => ({
+            field: f,
+            message: `${header(f)}: instrument ${instrumentInput.tag} is described differently on row ${seen.row}`,
+          })),
+        )
         continue
       }
     }
@@ -564,7 +835,10 @@ async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: nu
       diff = current ? differences(instrumentStored(current), definition) : ['instrumentTag']
       const active = diff.length ? await activeLimitTagsOn(trx, instrument.id) : []
       if (active.length) {
-        st.problems.push({ field: diff[0], message: `Instrument ${instrument.tag} feeds active limits (${active.join(', ')}): it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})` })
+        st.problems.push({
+          field: diff[0],
+          message: `Instrument ${instrument.tag} feeds active limits (${active.join(', ')}): it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})`,
+        })
         continue
       }
     }
@@ -575,29 +849,57 @@ async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: nu
       continue
     }
     let newProcess: ProcessRow | null = null
-    st.problems.push(...await inSavepoint(trx, async () => {
-      let proc = process
-      if (!proc) {
-        const now = clock.now()
-        proc = newProcess = await trx.insertInto('process').values({ area_id: area.id, site_id: site.id, name: cells.process!, description: '', created_at: now, updated_at: now })
-          .returningAll().executeTakeFirstOrThrow()
-        await appendAudit(trx, clock, ctx, { action: 'process.create', entityType: 'Process', entityId: proc.id, after: toProcess(proc), batchId })
-      }
-      st.process = proc
-      if (!instrument) {
-        st.instrumentId = await insertInstrument(trx, clock, ctx, instrumentInput, proc, batchId)
-        st.changes.add('instrumentTag')
-      } else if (diff.length) {
-        try {
-          await applyInstrumentDefinition(trx, clock, ctx, instrument, instrumentInput, { changeRequestId: null, reason: 'import', batchId })
-        } catch (err) {
-          if (err instanceof AppError && err.status === 422) throw new RowFailure([{ field: diff[0], message: err.message }])
-          throw err
-        }
-        for (const f of diff) st.changes.add(f)
-      }
-      instruments.set(key, await lockInstrument(trx, st.instrumentId!))
-    }, 'instrumentTag', instrumentColumn))
+    st.problems.push(
+      ...(await inSavepoint(
+        trx,
+        async () => {
+          let proc = process
+          if (!proc) {
+            const now = clock.now()
+            proc = newProcess = await trx
+              .insertInto('process')
+              .values({
+                area_id: area.id,
+                site_id: site.id,
+                name: cells.process!,
+                description: '',
+                created_at: now,
+                updated_at: now,
+              })
+              .returningAll()
+              .executeTakeFirstOrThrow()
+            await appendAudit(trx, clock, ctx, {
+              action: 'process.create',
+              entityType: 'Process',
+              entityId: proc.id,
+              after: toProcess(proc),
+              batchId,
+            })
+          }
+          st.process = proc
+          if (!instrument) {
+            st.instrumentId = await insertInstrument(trx, clock, ctx, instrumentInput, proc, batchId)
+            st.changes.add('instrumentTag')
+          } else if (diff.length) {
+            try {
+              await applyInstrumentDefinition(trx, clock, ctx, instrument, instrumentInput, {
+                changeRequestId: null,
+                reason: 'import',
+                batchId,
+              })
+            } catch (err) {
+              if (err instanceof AppError && err.status === 422)
+                throw new RowFailure([{ field: diff[0], message: err.message }])
+              throw err
+            }
+            for (const f of diff) st.changes.add(f)
+          }
+          instruments.set(key, await lockInstrument(trx, st.instrumentId!))
+        },
+        'instrumentTag',
+        instrumentColumn,
+      )),
+    )
     if (st.problems.length) {
       if (instrument) instruments.set(key, instrument)
       else instruments.delete(key)
@@ -620,14 +922,23 @@ async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: nu
     if (cells.votedInstrumentTags !== undefined) {
       for (const t of splitTags(cells.votedInstrumentTags)) {
         const found = instruments.get(t.toLowerCase())
-        if (!found) errs.add('votedInstrumentTags', `Instrument ${t} does not exist at ${site.code} (nor on a row of this file without errors)`)
+        if (!found)
+          errs.add(
+            'votedInstrumentTags',
+            `Instrument ${t} does not exist at ${site.code} (nor on a row of this file without errors)`,
+          )
         else if (instrumentIds.includes(found.id)) errs.add('votedInstrumentTags', `Instrument ${t} is listed twice`)
         else instrumentIds.push(found.id)
       }
     } else if (limit) {
       instrumentIds.push(...limit.instrumentIds.slice(1).filter((id) => id !== st.instrumentId))
     }
-    const input = parseWith(CreateLimitInputSchema, { ...limitRaw(cells, limit, errs), processId: st.process!.id, instrumentIds }, limitColumn, errs)
+    const input = parseWith(
+      CreateLimitInputSchema,
+      { ...limitRaw(cells, limit, errs), processId: st.process!.id, instrumentIds },
+      limitColumn,
+      errs,
+    )
     if (errs.list.length || !input) {
       st.problems.push(...errs.list)
       continue
@@ -641,27 +952,51 @@ async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: nu
       if (diff.length && limit.status !== 'proposed') {
         st.problems.push({
           field: diff[0],
-          message: limit.status === 'active'
-            ? `Limit ${limit.tag} is active: it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})`
-            : `Limit ${limit.tag} is retired and is not changed by an import (changed: ${diff.map(header).join(', ')})`,
+          message:
+            limit.status === 'active'
+              ? `Limit ${limit.tag} is active: it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})`
+              : `Limit ${limit.tag} is retired and is not changed by an import (changed: ${diff.map(header).join(', ')})`,
         })
         continue
       }
       st.warnings = limit.operatingWindow.warnings
       if (!diff.length) continue
       const before = limit
-      st.problems.push(...await inSavepoint(trx, async () => {
-        const { processId: _p, ...patch } = input
-        const after = await applyLimitDefinition(trx, clock, ctx, before, patch, { changeRequestId: null, reason: 'import', action: 'limit.update', batchId })
-        st.warnings = after.operatingWindow.warnings
-      }, 'tag', limitColumn))
+      st.problems.push(
+        ...(await inSavepoint(
+          trx,
+          async () => {
+            const { processId: _p, ...patch } = input
+            const after = await applyLimitDefinition(trx, clock, ctx, before, patch, {
+              changeRequestId: null,
+              reason: 'import',
+              action: 'limit.update',
+              batchId,
+            })
+            st.warnings = after.operatingWindow.warnings
+          },
+          'tag',
+          limitColumn,
+        )),
+      )
       for (const f of diff) st.changes.add(f)
     } else {
-      st.problems.push(...await inSavepoint(trx, async () => {
-        st.limitId = await insertLimit(trx, clock, ctx, input, st.process!, batchId)
-        const w = await trx.selectFrom('limit_function').select('window_warnings').where('id', '=', st.limitId).executeTakeFirstOrThrow()
-        st.warnings = w.window_warnings
-      }, 'tag', limitColumn))
+      st.problems.push(
+        ...(await inSavepoint(
+          trx,
+          async () => {
+            st.limitId = await insertLimit(trx, clock, ctx, input, st.process!, batchId)
+            const w = await trx
+              .selectFrom('limit_function')
+              .select('window_warnings')
+              .where('id', '=', st.limitId)
+              .executeTakeFirstOrThrow()
+            st.warnings = w.window_warnings
+          },
+          'tag',
+          limitColumn,
+        )),
+      )
       st.created = true
     }
     if (st.problems.length) continue
@@ -669,26 +1004,37 @@ async function runRows(trx: Trx, clock: Clock, ctx: AuditContext, site: { id: nu
     limitIds.push(st.limitId!)
   }
   // rows whose instrument changed but whose limit did not still count as updates; their limits were re-checked
-  for (const st of states) if (!st.problems.length && st.wrote && st.limitId && !limitIds.includes(st.limitId)) limitIds.push(st.limitId)
+  for (const st of states)
+    if (!st.problems.length && st.wrote && st.limitId && !limitIds.includes(st.limitId)) limitIds.push(st.limitId)
 
   const rows: ImportRowResult[] = []
   const errors: ImportError[] = []
   const order = (f: string) => REGISTER_COLUMNS.findIndex((c) => c.key === f)
   for (const st of states) {
     if (st.problems.length) {
-      const unique = st.problems.filter((p, i, all) => all.findIndex((q) => q.field === p.field && q.message === p.message) === i)
+      const unique = st.problems.filter(
+        (p, i, all) => all.findIndex((q) => q.field === p.field && q.message === p.message) === i,
+      )
       errors.push(...unique.sort((a, b) => order(a.field) - order(b.field)).map((p) => ({ row: st.stored.row, ...p })))
       continue
     }
     const action: ImportAction = st.created ? 'create' : st.wrote ? 'update' : 'unchanged'
-    rows.push({ row: st.stored.row, tag: st.stored.cells.tag ?? '', action, changes: action === 'update' ? [...st.changes] : [], warnings: st.warnings })
+    rows.push({
+      row: st.stored.row,
+      tag: st.stored.cells.tag ?? '',
+      action,
+      changes: action === 'update' ? [...st.changes] : [],
+      warnings: st.warnings,
+    })
   }
   return { rows, errors, limitIds }
 }
 
 /** Thrown to roll the dry run's transaction back while carrying its outcome out. */
 class DryRunDone extends Error {
-  constructor(readonly outcome: RunOutcome) { super('dry run') }
+  constructor(readonly outcome: RunOutcome) {
+    super('dry run')
+  }
 }
 
 function summarize(rows: ImportRowResult[]) {
@@ -707,33 +1053,52 @@ async function siteFor(deps: AppDeps, siteId: number) {
 
 /** The mapping a user has saved (file header → column key). */
 export async function getRememberedMapping(deps: AppDeps, userId: number): Promise<ImportMapping> {
-  const row = await deps.db.selectFrom('import_mapping').select('mapping').where('user_id', '=', userId).executeTakeFirst()
+  const row = await deps.db
+    .selectFrom('import_mapping')
+    .select('mapping')
+    .where('user_id', '=', userId)
+    .executeTakeFirst()
   if (!row) return {}
   // entries that no longer name a column are dropped rather than failing the upload
-  return Object.fromEntries(Object.entries(row.mapping).filter(([h, k]) => ImportMappingSchema.safeParse({ [h]: k }).success)) as ImportMapping
+  return Object.fromEntries(
+    Object.entries(row.mapping).filter(([h, k]) => ImportMappingSchema.safeParse({ [h]: k }).success),
+  ) as ImportMapping
 }
 
 /**
  * Reads an uploaded register file, checks every row in a transaction that is rolled back, stores the batch (rows,
  * file name, SHA-256) and remembers the mapping for the user. With `dryRun: false` a clean batch is committed at once.
  */
-export async function checkImport(deps: AppDeps, ability: AppAbility, ctx: AuditContext, userId: number, file: { buffer: Buffer, fileName: string }, fields: ImportUploadFields): Promise<ImportResult> {
+export async function checkImport(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  userId: number,
+  file: { buffer: Buffer; fileName: string },
+  fields: ImportUploadFields,
+): Promise<ImportResult> {
   const site = await siteFor(deps, fields.siteId)
   authorize(ability, 'import', 'Limit', { siteId: site.id })
   const table = await readTable(file.buffer)
-  if (table.headers.length > MAX_COLUMNS) throw badFile(`The file has ${table.headers.length} columns; the register file has ${REGISTER_COLUMNS.length}`)
+  if (table.headers.length > MAX_COLUMNS)
+    throw badFile(`The file has ${table.headers.length} columns; the register file has ${REGISTER_COLUMNS.length}`)
   if (table.headers.every((h) => !h)) throw badFile('Row 1 must hold the column headers')
   const remembered = await getRememberedMapping(deps, userId)
   const { keys, used, ignored } = resolveMapping(table.headers, fields.mapping, remembered)
   const stored = toStoredRows(table, keys)
   if (!stored.length) throw badFile('The file has headers but no data rows')
-  if (stored.length > IMPORT_MAX_ROWS) throw badFile(`The file has ${stored.length} data rows; one import takes at most ${IMPORT_MAX_ROWS}: split it, e.g. by area`)
+  if (stored.length > IMPORT_MAX_ROWS)
+    throw badFile(
+      `The file has ${stored.length} data rows; one import takes at most ${IMPORT_MAX_ROWS}: split it, e.g. by area`,
+    )
   const checksum = createHash('sha256').update(file.buffer).digest('hex')
   const fileName = file.fileName.replace(/^.*[\\/]/, '').slice(0, 200) || 'upload'
 
   let outcome: RunOutcome
   try {
-    await deps.db.transaction().execute(async (trx) => { throw new DryRunDone(await runRows(trx, deps.clock, ctx, site, stored, undefined)) })
+    await deps.db.transaction().execute(async (trx) => {
+      throw new DryRunDone(await runRows(trx, deps.clock, ctx, site, stored, undefined))
+    })
     throw new Error('the dry run did not roll back')
   } catch (err) {
     if (!(err instanceof DryRunDone)) throw err
@@ -742,24 +1107,53 @@ export async function checkImport(deps: AppDeps, ability: AppAbility, ctx: Audit
 
   const id = await deps.db.transaction().execute(async (trx) => {
     const now = deps.clock.now()
-    const batch = await trx.insertInto('import_batch').values({
-      site_id: site.id, created_by: userId, file_name: fileName, checksum, row_count: stored.length, rows: JSON.stringify(stored), created_at: now,
-    }).returning('id').executeTakeFirstOrThrow()
+    const batch = await trx
+      .insertInto('import_batch')
+      .values({
+        site_id: site.id,
+        created_by: userId,
+        file_name: fileName,
+        checksum,
+        row_count: stored.length,
+        rows: JSON.stringify(stored),
+        created_at: now,
+      })
+      .returning('id')
+      .executeTakeFirstOrThrow()
     const merged = Object.entries({ ...remembered, ...used }).slice(-500)
-    await trx.insertInto('import_mapping').values({ user_id: userId, mapping: JSON.stringify(Object.fromEntries(merged)), updated_at: now })
-      .onConflict((oc) => oc.column('user_id').doUpdateSet({ mapping: (eb) => eb.ref('excluded.mapping'), updated_at: now })).execute()
+    await trx
+      .insertInto('import_mapping')
+      .values({ user_id: userId, mapping: JSON.stringify(Object.fromEntries(merged)), updated_at: now })
+      .onConflict((oc) =>
+        oc.column('user_id').doUpdateSet({ mapping: (eb) => eb.ref('excluded.mapping'), updated_at: now }),
+      )
+      .execute()
     return batch.id
   })
 
   const result: ImportResult = {
-    id, siteId: site.id, status: 'checked', fileName, checksum, rowCount: stored.length, mapping: used, ignoredColumns: ignored,
-    rows: outcome.rows, errors: outcome.errors, summary: summarize(outcome.rows),
+    id,
+    siteId: site.id,
+    status: 'checked',
+    fileName,
+    checksum,
+    rowCount: stored.length,
+    mapping: used,
+    ignoredColumns: ignored,
+    rows: outcome.rows,
+    errors: outcome.errors,
+    summary: summarize(outcome.rows),
   }
   if (fields.dryRun) return result
   if (outcome.errors.length) {
-    throw new AppError(422, ErrorCode.UNPROCESSABLE, `The file has ${outcome.errors.length} problem(s); nothing was imported`, { ...result })
+    throw new AppError(
+      422,
+      ErrorCode.UNPROCESSABLE,
+      `The file has ${outcome.errors.length} problem(s); nothing was imported`,
+      { ...result },
+    )
   }
-  return { ...await commitImport(deps, ability, ctx, id), mapping: used, ignoredColumns: ignored }
+  return { ...(await commitImport(deps, ability, ctx, id)), mapping: used, ignoredColumns: ignored }
 }
 
 /**
@@ -767,44 +1161,105 @@ export async function checkImport(deps: AppDeps, ability: AppAbility, ctx: Audit
  * with one `import.commit` audit event whose batch id every row's event carries. A batch with errors is refused (422)
  * and writes nothing; a batch whose rows are all unchanged is marked `unchanged` and writes no event.
  */
-export async function commitImport(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number): Promise<ImportResult> {
+export async function commitImport(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+): Promise<ImportResult> {
   return deps.db.transaction().execute(async (trx) => {
     const batch = await trx.selectFrom('import_batch').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
     if (!batch) throw notFound('Import')
     authorize(ability, 'import', 'Limit', { siteId: batch.site_id })
     if (batch.status !== 'checked') {
-      throw invalidState(batch.status === 'committed' ? 'This import is already committed' : 'This import changed nothing and is closed; upload the file again to import it again')
+      throw invalidState(
+        batch.status === 'committed'
+          ? 'This import is already committed'
+          : 'This import changed nothing and is closed; upload the file again to import it again',
+      )
     }
-    const site = await trx.selectFrom('site').select(['id', 'code']).where('id', '=', batch.site_id).executeTakeFirstOrThrow()
+    const site = await trx
+      .selectFrom('site')
+      .select(['id', 'code'])
+      .where('id', '=', batch.site_id)
+      .executeTakeFirstOrThrow()
     const batchId = randomUUID()
     const outcome = await runRows(trx, deps.clock, ctx, site, batch.rows as StoredRow[], batchId)
     const base = {
-      id: batch.id, siteId: batch.site_id, fileName: batch.file_name, checksum: batch.checksum, rowCount: batch.row_count, mapping: {}, ignoredColumns: [],
-      rows: outcome.rows, errors: outcome.errors, summary: summarize(outcome.rows),
+      id: batch.id,
+      siteId: batch.site_id,
+      fileName: batch.file_name,
+      checksum: batch.checksum,
+      rowCount: batch.row_count,
+      mapping: {},
+      ignoredColumns: [],
+      rows: outcome.rows,
+      errors: outcome.errors,
+      summary: summarize(outcome.rows),
     }
     if (outcome.errors.length) {
-      throw new AppError(422, ErrorCode.UNPROCESSABLE, `The import has ${outcome.errors.length} problem(s); nothing was written`, { ...base, status: 'checked' })
+      throw new AppError(
+        422,
+        ErrorCode.UNPROCESSABLE,
+        `The import has ${outcome.errors.length} problem(s); nothing was written`,
+        { ...base, status: 'checked' },
+      )
     }
     const unchanged = outcome.rows.every((r) => r.action === 'unchanged')
     const now = deps.clock.now()
     if (!unchanged) {
       await appendAudit(trx, deps.clock, ctx, {
-        action: 'import.commit', entityType: 'ImportBatch', entityId: batch.id,
-        after: { rowCount: batch.row_count, checksum: batch.checksum, fileName: batch.file_name }, batchId,
+        action: 'import.commit',
+        entityType: 'ImportBatch',
+        entityId: batch.id,
+        after: { rowCount: batch.row_count, checksum: batch.checksum, fileName: batch.file_name },
+        batchId,
       })
     }
-    await trx.updateTable('import_batch').set({ status: unchanged ? 'unchanged' : 'committed', committed_at: now }).where('id', '=', batch.id).execute()
+    await trx
+      .updateTable('import_batch')
+      .set({ status: unchanged ? 'unchanged' : 'committed', committed_at: now })
+      .where('id', '=', batch.id)
+      .execute()
     // the imported drafts become active only through a change request that a second person approves
     let changeRequestId: number | null = null
     if (!unchanged) {
       const drafts = outcome.limitIds.length
-        ? (await trx.selectFrom('limit_function').select('id').where('id', 'in', outcome.limitIds).where('status', '=', 'proposed')
-          .where((eb) => eb.not(eb.exists(eb.selectFrom('change_request_item').innerJoin('change_request', 'change_request.id', 'change_request_item.change_request_id')
-            .select('change_request_item.id').whereRef('change_request_item.limit_id', '=', 'limit_function.id')
-            .where('change_request.status', 'in', ['draft', 'submitted', 'approved'])))).orderBy('id').execute()).map((r) => r.id)
+        ? (
+            await trx
+              .selectFrom('limit_function')
+              .select('id')
+              .where('id', 'in', outcome.limitIds)
+              .where('status', '=', 'proposed')
+              .where((eb) =>
+                eb.not(
+                  eb.exists(
+                    eb
+                      .selectFrom('change_request_item')
+                      .innerJoin('change_request', 'change_request.id', 'change_request_item.change_request_id')
+                      .select('change_request_item.id')
+                      .whereRef('change_request_item.limit_id', '=', 'limit_function.id')
+                      .where('change_request.status', 'in', ['draft', 'submitted', 'approved']),
+                  ),
+                ),
+              )
+              .orderBy('id')
+              .execute()
+          ).map((r) => r.id)
         : []
-      changeRequestId = await openBaselineChangeRequest(deps, ability, ctx, trx, { siteId: batch.site_id, limitIds: drafts, importBatchId: batch.id, fileName: batch.file_name, auditBatchId: batchId })
+      changeRequestId = await openBaselineChangeRequest(deps, ability, ctx, trx, {
+        siteId: batch.site_id,
+        limitIds: drafts,
+        importBatchId: batch.id,
+        fileName: batch.file_name,
+        auditBatchId: batchId,
+      })
     }
-    return { ...base, status: unchanged ? 'unchanged' as const : 'committed' as const, limitIds: outcome.limitIds, changeRequestId }
+    return {
+      ...base,
+      status: unchanged ? ('unchanged' as const) : ('committed' as const),
+      limitIds: outcome.limitIds,
+      changeRequestId,
+    }
   })
 }

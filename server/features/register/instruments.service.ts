@@ -1,7 +1,11 @@
 import type { Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
-import { type CreateInstrumentInput, CreateInstrumentInputSchema, type Instrument } from '../../../shared/schemas/register.ts'
+import {
+  type CreateInstrumentInput,
+  CreateInstrumentInputSchema,
+  type Instrument,
+} from '../../../shared/schemas/register.ts'
 import { allows, authorize } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
@@ -16,14 +20,30 @@ type InstrumentDto = ReturnType<typeof toInstrument>
 
 function columns(d: CreateInstrumentInput) {
   return {
-    tag: d.tag, measured_variable: d.measuredVariable, unit: d.unit, pressure_reference: d.measuredVariable === 'pressure' ? d.pressureReference : null,
-    range_low: d.rangeLow, range_high: d.rangeHigh, normal_low: d.normalLow, normal_high: d.normalHigh, design_low: d.designLow, design_high: d.designHigh,
-    burnout: d.burnout, signal: JSON.stringify(d.signal), device_kind: d.deviceKind, device_description: d.deviceDescription,
+    tag: d.tag,
+    measured_variable: d.measuredVariable,
+    unit: d.unit,
+    pressure_reference: d.measuredVariable === 'pressure' ? d.pressureReference : null,
+    range_low: d.rangeLow,
+    range_high: d.rangeHigh,
+    normal_low: d.normalLow,
+    normal_high: d.normalHigh,
+    design_low: d.designLow,
+    design_high: d.designHigh,
+    burnout: d.burnout,
+    signal: JSON.stringify(d.signal),
+    device_kind: d.deviceKind,
+    device_description: d.deviceDescription,
   }
 }
 
 async function load(db: AppDeps['db'] | Trx, id: number, lock = false): Promise<InstrumentDto> {
-  let q = db.selectFrom('instrument').innerJoin('process', 'process.id', 'instrument.process_id').selectAll('instrument').select('process.name as process_name').where('instrument.id', '=', id)
+  let q = db
+    .selectFrom('instrument')
+    .innerJoin('process', 'process.id', 'instrument.process_id')
+    .selectAll('instrument')
+    .select('process.name as process_name')
+    .where('instrument.id', '=', id)
   if (lock) q = q.forUpdate(['instrument'] as never)
   const row = await q.executeTakeFirst()
   if (!row) throw notFound('Instrument')
@@ -36,18 +56,41 @@ function snapshot(i: InstrumentDto) {
 }
 
 async function assertTagFree(trx: Trx, siteId: number, tag: string, exceptId: number | null) {
-  let q = trx.selectFrom('instrument').select('id').where('site_id', '=', siteId).where((eb) => eb(eb.fn('lower', ['tag']), '=', tag.toLowerCase()))
+  let q = trx
+    .selectFrom('instrument')
+    .select('id')
+    .where('site_id', '=', siteId)
+    .where((eb) => eb(eb.fn('lower', ['tag']), '=', tag.toLowerCase()))
   if (exceptId) q = q.where('id', '!=', exceptId)
-  if (await q.executeTakeFirst()) throw new AppError(409, ErrorCode.CONFLICT, `Instrument tag ${tag} is already used at this site`, { fields: { tag: ['Already used at this site'] } })
+  if (await q.executeTakeFirst())
+    throw new AppError(409, ErrorCode.CONFLICT, `Instrument tag ${tag} is already used at this site`, {
+      fields: { tag: ['Already used at this site'] },
+    })
 }
 
-export async function listInstruments(deps: AppDeps, ability: AppAbility, f: { siteIds: number[], processIds?: number[], q?: string, page: number, pageSize: number }) {
-  let q = deps.db.selectFrom('instrument').innerJoin('process', 'process.id', 'instrument.process_id').where('instrument.site_id', 'in', f.siteIds.length ? f.siteIds : [-1])
+export async function listInstruments(
+  deps: AppDeps,
+  ability: AppAbility,
+  f: { siteIds: number[]; processIds?: number[]; q?: string; page: number; pageSize: number },
+) {
+  let q = deps.db
+    .selectFrom('instrument')
+    .innerJoin('process', 'process.id', 'instrument.process_id')
+    .where('instrument.site_id', 'in', f.siteIds.length ? f.siteIds : [-1])
   if (f.processIds?.length) q = q.where('instrument.process_id', 'in', f.processIds)
   if (f.q) q = q.where('instrument.tag', 'ilike', `%${f.q}%`)
   const total = (await q.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const rows = await q.selectAll('instrument').select('process.name as process_name').orderBy('instrument.tag').limit(f.pageSize).offset((f.page - 1) * f.pageSize).execute()
-  return { total, items: rows.map(toInstrument).filter((i) => allows(ability, 'read', 'Instrument', { siteId: i.siteId })) }
+  const rows = await q
+    .selectAll('instrument')
+    .select('process.name as process_name')
+    .orderBy('instrument.tag')
+    .limit(f.pageSize)
+    .offset((f.page - 1) * f.pageSize)
+    .execute()
+  return {
+    total,
+    items: rows.map(toInstrument).filter((i) => allows(ability, 'read', 'Instrument', { siteId: i.siteId })),
+  }
 }
 
 export async function getInstrument(deps: AppDeps, ability: AppAbility, id: number) {
@@ -56,7 +99,12 @@ export async function getInstrument(deps: AppDeps, ability: AppAbility, id: numb
   return i
 }
 
-export async function createInstrument(deps: AppDeps, ability: AppAbility, ctx: AuditContext, input: CreateInstrumentInput) {
+export async function createInstrument(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  input: CreateInstrumentInput,
+) {
   const process = await deps.db.selectFrom('process').selectAll().where('id', '=', input.processId).executeTakeFirst()
   if (!process) throw validationFailed({ processId: ['The process does not exist'] })
   authorize(ability, 'create', 'Instrument', { siteId: process.site_id })
@@ -65,14 +113,48 @@ export async function createInstrument(deps: AppDeps, ability: AppAbility, ctx: 
 }
 
 /** Inserts an instrument with its first revision and audit event (also used by the import). */
-export async function insertInstrument(trx: Trx, clock: Clock, ctx: AuditContext, input: CreateInstrumentInput, process: { id: number, area_id: number, site_id: number }, batchId?: string): Promise<number> {
+export async function insertInstrument(
+  trx: Trx,
+  clock: Clock,
+  ctx: AuditContext,
+  input: CreateInstrumentInput,
+  process: { id: number; area_id: number; site_id: number },
+  batchId?: string,
+): Promise<number> {
   await assertTagFree(trx, process.site_id, input.tag, null)
   const now = clock.now()
-  const { id } = await trx.insertInto('instrument').values({ ...columns(input), process_id: process.id, area_id: process.area_id, site_id: process.site_id, created_at: now, updated_at: now })
-    .returning('id').executeTakeFirstOrThrow()
+  const { id } = await trx
+    .insertInto('instrument')
+    .values({
+      ...columns(input),
+      process_id: process.id,
+      area_id: process.area_id,
+      site_id: process.site_id,
+      created_at: now,
+      updated_at: now,
+    })
+    .returning('id')
+    .executeTakeFirstOrThrow()
   const dto = await load(trx, id)
-  await trx.insertInto('instrument_revision').values({ instrument_id: id, revision: 1, snapshot: JSON.stringify(snapshot(dto)), changed_by: ctx.actorId, changed_at: now, change_request_id: null, reason: 'created' }).execute()
-  await appendAudit(trx, clock, ctx, { action: 'instrument.create', entityType: 'Instrument', entityId: id, after: snapshot(dto), batchId })
+  await trx
+    .insertInto('instrument_revision')
+    .values({
+      instrument_id: id,
+      revision: 1,
+      snapshot: JSON.stringify(snapshot(dto)),
+      changed_by: ctx.actorId,
+      changed_at: now,
+      change_request_id: null,
+      reason: 'created',
+    })
+    .execute()
+  await appendAudit(trx, clock, ctx, {
+    action: 'instrument.create',
+    entityType: 'Instrument',
+    entityId: id,
+    after: snapshot(dto),
+    batchId,
+  })
   return id
 }
 
@@ -81,30 +163,80 @@ export async function insertInstrument(trx: Trx, clock: Clock, ctx: AuditContext
  * transmitter moves every trip on it); otherwise the window results of its limits are recomputed in the same
  * transaction and a blocking error refuses the change.
  */
-export async function updateInstrument(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number, patch: Partial<CreateInstrumentInput>) {
+export async function updateInstrument(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+  patch: Partial<CreateInstrumentInput>,
+) {
   await deps.db.transaction().execute(async (trx) => {
     const before = await load(trx, id, true)
     authorize(ability, 'update', 'Instrument', { siteId: before.siteId })
-    const active = await trx.selectFrom('limit_instrument').innerJoin('limit_function', 'limit_function.id', 'limit_instrument.limit_id')
-      .select('limit_function.tag').where('limit_instrument.instrument_id', '=', id).where('limit_function.status', '=', 'active').execute()
-    if (active.length) throw invalidState(`Instrument ${before.tag} feeds active limits (${active.map((a) => a.tag).join(', ')}): change it through a change request`)
+    const active = await trx
+      .selectFrom('limit_instrument')
+      .innerJoin('limit_function', 'limit_function.id', 'limit_instrument.limit_id')
+      .select('limit_function.tag')
+      .where('limit_instrument.instrument_id', '=', id)
+      .where('limit_function.status', '=', 'active')
+      .execute()
+    if (active.length)
+      throw invalidState(
+        `Instrument ${before.tag} feeds active limits (${active.map((a) => a.tag).join(', ')}): change it through a change request`,
+      )
     await applyInstrumentDefinition(trx, deps.clock, ctx, before, patch, { changeRequestId: null, reason: 'edited' })
   })
   return load(deps.db, id)
 }
 
 /** Writes a new instrument definition, its revision and audit event, and recomputes its limits' windows. */
-export async function applyInstrumentDefinition(trx: Trx, clock: Clock, ctx: AuditContext, before: InstrumentDto, patch: Partial<CreateInstrumentInput>, opts: { changeRequestId: number | null, reason: string | null, batchId?: string }) {
+export async function applyInstrumentDefinition(
+  trx: Trx,
+  clock: Clock,
+  ctx: AuditContext,
+  before: InstrumentDto,
+  patch: Partial<CreateInstrumentInput>,
+  opts: { changeRequestId: number | null; reason: string | null; batchId?: string },
+) {
   const draft = CreateInstrumentInputSchema.parse({ ...snapshot(before), ...patch, processId: before.processId })
-  if (draft.tag.toLowerCase() !== before.tag.toLowerCase()) await assertTagFree(trx, before.siteId, draft.tag, before.id)
-  await trx.updateTable('instrument').set({ ...columns(draft), revision: before.revision + 1, updated_at: clock.now() }).where('id', '=', before.id).execute()
+  if (draft.tag.toLowerCase() !== before.tag.toLowerCase())
+    await assertTagFree(trx, before.siteId, draft.tag, before.id)
+  await trx
+    .updateTable('instrument')
+    .set({ ...columns(draft), revision: before.revision + 1, updated_at: clock.now() })
+    .where('id', '=', before.id)
+    .execute()
   const blocked = await recomputeWindowsForInstrument(trx, before.id)
   if (blocked.length) {
-    throw new AppError(422, ErrorCode.UNPROCESSABLE, `The change would put limits outside their operating window: ${blocked.map((b) => `${b.tag} (${b.errors.map((e) => e.message).join('; ')})`).join(' · ')}`, { limits: blocked })
+    throw new AppError(
+      422,
+      ErrorCode.UNPROCESSABLE,
+      `The change would put limits outside their operating window: ${blocked.map((b) => `${b.tag} (${b.errors.map((e) => e.message).join('; ')})`).join(' · ')}`,
+      { limits: blocked },
+    )
   }
   const after = await load(trx, before.id)
-  await trx.insertInto('instrument_revision').values({ instrument_id: before.id, revision: after.revision, snapshot: JSON.stringify(snapshot(after)), changed_by: ctx.actorId, changed_at: clock.now(), change_request_id: opts.changeRequestId, reason: opts.reason }).execute()
-  await appendAudit(trx, clock, ctx, { action: 'instrument.update', entityType: 'Instrument', entityId: before.id, before: snapshot(before), after: snapshot(after), reason: opts.reason, batchId: opts.batchId })
+  await trx
+    .insertInto('instrument_revision')
+    .values({
+      instrument_id: before.id,
+      revision: after.revision,
+      snapshot: JSON.stringify(snapshot(after)),
+      changed_by: ctx.actorId,
+      changed_at: clock.now(),
+      change_request_id: opts.changeRequestId,
+      reason: opts.reason,
+    })
+    .execute()
+  await appendAudit(trx, clock, ctx, {
+    action: 'instrument.update',
+    entityType: 'Instrument',
+    entityId: before.id,
+    before: snapshot(before),
+    after: snapshot(after),
+    reason: opts.reason,
+    batchId: opts.batchId,
+  })
   return after
 }
 

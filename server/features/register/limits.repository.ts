@@ -35,7 +35,8 @@ export const LIMIT_SORT_COLUMNS = {
 export type LimitSortField = keyof typeof LIMIT_SORT_COLUMNS
 
 function baseQuery(db: Q) {
-  return db.selectFrom('limit_function')
+  return db
+    .selectFrom('limit_function')
     .innerJoin('process', 'process.id', 'limit_function.process_id')
     .innerJoin('area', 'area.id', 'limit_function.area_id')
     .innerJoin('site', 'site.id', 'limit_function.site_id')
@@ -49,33 +50,55 @@ export function applyFilters<O>(q: SelectQueryBuilder<any, any, O>, f: LimitFilt
   if (f.areaIds?.length) query = query.where('limit_function.area_id', 'in', f.areaIds)
   if (f.processIds?.length) query = query.where('limit_function.process_id', 'in', f.processIds)
   if (f.instrumentIds?.length) {
-    query = query.where((eb) => eb.exists(eb.selectFrom('limit_instrument').select('limit_instrument.limit_id')
-      .whereRef('limit_instrument.limit_id', '=', 'limit_function.id').where('limit_instrument.instrument_id', 'in', f.instrumentIds!)))
+    query = query.where((eb) =>
+      eb.exists(
+        eb
+          .selectFrom('limit_instrument')
+          .select('limit_instrument.limit_id')
+          .whereRef('limit_instrument.limit_id', '=', 'limit_function.id')
+          .where('limit_instrument.instrument_id', 'in', f.instrumentIds!),
+      ),
+    )
   }
   if (f.limitClass?.length) query = query.where('limit_function.limit_class', 'in', f.limitClass)
   if (f.direction?.length) query = query.where('limit_function.direction', 'in', f.direction)
   if (f.sil?.length) {
     const levels = f.sil.filter((s): s is number => s !== 'none')
     const none = f.sil.includes('none')
-    query = query.where((eb) => eb.or([
-      ...(levels.length ? [eb('limit_function.sil', 'in', levels)] : []),
-      ...(none ? [eb('limit_function.sil', 'is', null)] : []),
-    ]))
+    query = query.where((eb) =>
+      eb.or([
+        ...(levels.length ? [eb('limit_function.sil', 'in', levels)] : []),
+        ...(none ? [eb('limit_function.sil', 'is', null)] : []),
+      ]),
+    )
   }
   if (f.status?.length) query = query.where('limit_function.status', 'in', f.status)
   if (f.protectionState?.length) query = query.where('limit_function.protection_state', 'in', f.protectionState)
   if (f.testStatus?.length) query = query.where('limit_function.test_status', 'in', f.testStatus)
   if (f.hasWarnings !== undefined) query = query.where('limit_function.has_window_warnings', '=', f.hasWarnings)
   if (f.hasErrors !== undefined) query = query.where('limit_function.has_window_errors', '=', f.hasErrors)
-  if (f.q) query = query.where('limit_function.search_text', 'like', `%${f.q.toLowerCase().replace(/[\\%_]/g, (c) => `\\${c}`)}%`)
+  if (f.q)
+    query = query.where(
+      'limit_function.search_text',
+      'like',
+      `%${f.q.toLowerCase().replace(/[\\%_]/g, (c) => `\\${c}`)}%`,
+    )
   return query
 }
 
 function selectListColumns(q: Base) {
-  return q.selectAll('limit_function').select([
-    'process.name as process_name', 'area.name as area_name', 'site.code as site_code',
-    'pi.tag as pi_tag', 'pi.unit as pi_unit', 'pi.measured_variable as pi_variable', 'pi.range_low as pi_range_low', 'pi.range_high as pi_range_high',
-  ])
+  return q
+    .selectAll('limit_function')
+    .select([
+      'process.name as process_name',
+      'area.name as area_name',
+      'site.code as site_code',
+      'pi.tag as pi_tag',
+      'pi.unit as pi_unit',
+      'pi.measured_variable as pi_variable',
+      'pi.range_low as pi_range_low',
+      'pi.range_high as pi_range_high',
+    ])
 }
 
 const NULLABLE_SORT = new Set<LimitSortField>(['sil', 'priority', 'testDueDate'])
@@ -86,13 +109,26 @@ const NULLABLE_SORT = new Set<LimitSortField>(['sil', 'priority', 'testDueDate']
  * The page's ids are chosen on limit_function alone (an index can give the order and the sort stays bounded), then
  * joined with names, the primary instrument and the voted instruments.
  */
-export async function listLimits(db: Q, f: LimitFilters, sort: { field: LimitSortField, desc: boolean }[], page: { limit: number, offset?: number, after?: { values: unknown[], id: number } }): Promise<(LimitListRow & { instrument_ids: number[] })[]> {
+export async function listLimits(
+  db: Q,
+  f: LimitFilters,
+  sort: { field: LimitSortField; desc: boolean }[],
+  page: { limit: number; offset?: number; after?: { values: unknown[]; id: number } },
+): Promise<(LimitListRow & { instrument_ids: number[] })[]> {
   const order = sort.length ? sort : [{ field: 'tag' as const, desc: false }]
   const orderBy = <T extends SelectQueryBuilder<any, any, any>>(q: T): T => {
     let r = q
     // NULLS LAST only where a column can be empty: on NOT NULL columns it would keep a plain index from giving the order
     for (const s of order) {
-      r = r.orderBy(sql.ref(LIMIT_SORT_COLUMNS[s.field]), (ob) => (NULLABLE_SORT.has(s.field) ? (s.desc ? ob.desc().nullsLast() : ob.asc().nullsLast()) : (s.desc ? ob.desc() : ob.asc()))) as T
+      r = r.orderBy(sql.ref(LIMIT_SORT_COLUMNS[s.field]), (ob) =>
+        NULLABLE_SORT.has(s.field)
+          ? s.desc
+            ? ob.desc().nullsLast()
+            : ob.asc().nullsLast()
+          : s.desc
+            ? ob.desc()
+            : ob.asc(),
+      ) as T
     }
     return r.orderBy('limit_function.id', order[order.length - 1].desc ? 'desc' : 'asc') as T
   }
@@ -100,20 +136,37 @@ export async function listLimits(db: Q, f: LimitFilters, sort: { field: LimitSor
   if (page.after && order.length === 1) {
     const col = LIMIT_SORT_COLUMNS[order[0].field]
     const op = order[0].desc ? '<' : '>'
-    ids = ids.where(sql<boolean>`(${sql.ref(col)}, limit_function.id) ${sql.raw(op)} (${page.after.values[0]}, ${page.after.id})`)
+    ids = ids.where(
+      sql<boolean>`(${sql.ref(col)}, limit_function.id) ${sql.raw(op)} (${page.after.values[0]}, ${page.after.id})`,
+    )
   }
   ids = orderBy(ids).limit(page.limit)
   if (page.offset) ids = ids.offset(page.offset)
-  const q = orderBy(selectListColumns(baseQuery(db)).select((eb) => eb.fn<number[]>('array', [
-    eb.selectFrom('limit_instrument').select('limit_instrument.instrument_id').whereRef('limit_instrument.limit_id', '=', 'limit_function.id').orderBy('limit_instrument.position'),
-  ]).as('instrument_ids')).where('limit_function.id', 'in', ids))
+  const q = orderBy(
+    selectListColumns(baseQuery(db))
+      .select((eb) =>
+        eb
+          .fn<number[]>('array', [
+            eb
+              .selectFrom('limit_instrument')
+              .select('limit_instrument.instrument_id')
+              .whereRef('limit_instrument.limit_id', '=', 'limit_function.id')
+              .orderBy('limit_instrument.position'),
+          ])
+          .as('instrument_ids'),
+      )
+      .where('limit_function.id', 'in', ids),
+  )
   return (await q.execute()) as (LimitListRow & { instrument_ids: number[] })[]
 }
 
 /** Counts matching rows, stopping at `cap` (the count of a huge filtered set is shown as "cap+"). */
 export async function countLimits(db: Q, f: LimitFilters, cap: number): Promise<number> {
   const inner = applyFilters(db.selectFrom('limit_function').select(sql`1`.as('one')), f).limit(cap + 1)
-  const row = await db.selectFrom(inner.as('m')).select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()
+  const row = await db
+    .selectFrom(inner.as('m'))
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .executeTakeFirstOrThrow()
   return Number(row.n)
 }
 
@@ -126,18 +179,30 @@ export async function findLimitById(db: Q, id: number, lock = false): Promise<Li
 export async function findInstrumentIdsByLimitIds(db: Q, ids: number[]): Promise<Map<number, number[]>> {
   const map = new Map<number, number[]>()
   if (!ids.length) return map
-  const rows = await db.selectFrom('limit_instrument').select(['limit_id', 'instrument_id']).where('limit_id', 'in', ids).orderBy('limit_id').orderBy('position').execute()
+  const rows = await db
+    .selectFrom('limit_instrument')
+    .select(['limit_id', 'instrument_id'])
+    .where('limit_id', 'in', ids)
+    .orderBy('limit_id')
+    .orderBy('position')
+    .execute()
   for (const r of rows) map.set(r.limit_id, [...(map.get(r.limit_id) ?? []), r.instrument_id])
   return map
 }
 
 export async function replaceLimitInstruments(trx: Transaction<Database>, limitId: number, instrumentIds: number[]) {
   await trx.deleteFrom('limit_instrument').where('limit_id', '=', limitId).execute()
-  await trx.insertInto('limit_instrument').values(instrumentIds.map((instrument_id, position) => ({ limit_id: limitId, position, instrument_id }))).execute()
+  await trx
+    .insertInto('limit_instrument')
+    .values(instrumentIds.map((instrument_id, position) => ({ limit_id: limitId, position, instrument_id })))
+    .execute()
 }
 
 /** Other limits whose primary instrument is this one (the siblings of the operating-window check). */
 export function findSiblingLimits(db: Q, instrumentId: number) {
-  return db.selectFrom('limit_function').select(['id', 'tag', 'direction', 'limit_class', 'setpoint', 'status'])
-    .where('primary_instrument_id', '=', instrumentId).execute()
+  return db
+    .selectFrom('limit_function')
+    .select(['id', 'tag', 'direction', 'limit_class', 'setpoint', 'status'])
+    .where('primary_instrument_id', '=', instrumentId)
+    .execute()
 }

@@ -35,10 +35,17 @@ async function sitePolicy(trx: Trx, siteId: number): Promise<SitePolicy> {
  * The operating-window check and the priority derivation for a limit definition against its primary instrument and
  * the other limits on it (shared/domain; the same functions run in the browser).
  */
-export async function evaluateLimit(trx: Trx, draft: CreateLimitInput, siteId: number, limitId: number | null): Promise<Evaluation> {
+export async function evaluateLimit(
+  trx: Trx,
+  draft: CreateLimitInput,
+  siteId: number,
+  limitId: number | null,
+): Promise<Evaluation> {
   const instruments = await trx.selectFrom('instrument').selectAll().where('id', 'in', draft.instrumentIds).execute()
-  if (instruments.length !== new Set(draft.instrumentIds).size) throw validationFailed({ instrumentIds: ['An instrument does not exist'] })
-  if (instruments.some((i) => i.site_id !== siteId)) throw validationFailed({ instrumentIds: ['Instruments must belong to the limit\'s site'] })
+  if (instruments.length !== new Set(draft.instrumentIds).size)
+    throw validationFailed({ instrumentIds: ['An instrument does not exist'] })
+  if (instruments.some((i) => i.site_id !== siteId))
+    throw validationFailed({ instrumentIds: ["Instruments must belong to the limit's site"] })
   const primary = instruments.find((i) => i.id === draft.instrumentIds[0])!
   const policy = await sitePolicy(trx, siteId)
   const siblings = (await repo.findSiblingLimits(trx, primary.id)).filter((s) => s.id !== limitId)
@@ -46,10 +53,22 @@ export async function evaluateLimit(trx: Trx, draft: CreateLimitInput, siteId: n
   const result = checkOperatingWindow({
     limit: { ...draft, id: limitId },
     instrument: {
-      rangeLow: Number(primary.range_low), rangeHigh: Number(primary.range_high), normalLow: n(primary.normal_low), normalHigh: n(primary.normal_high),
-      designLow: n(primary.design_low), designHigh: n(primary.design_high), burnout: primary.burnout as 'upscale' | 'downscale' | 'none',
+      rangeLow: Number(primary.range_low),
+      rangeHigh: Number(primary.range_high),
+      normalLow: n(primary.normal_low),
+      normalHigh: n(primary.normal_high),
+      designLow: n(primary.design_low),
+      designHigh: n(primary.design_high),
+      burnout: primary.burnout as 'upscale' | 'downscale' | 'none',
     },
-    siblings: siblings.map((s) => ({ id: s.id, tag: s.tag, direction: s.direction as 'high' | 'low', limitClass: s.limit_class as 'alarm' | 'trip', setpoint: Number(s.setpoint), status: s.status as 'proposed' | 'active' | 'retired' })),
+    siblings: siblings.map((s) => ({
+      id: s.id,
+      tag: s.tag,
+      direction: s.direction as 'high' | 'low',
+      limitClass: s.limit_class as 'alarm' | 'trip',
+      setpoint: Number(s.setpoint),
+      status: s.status as 'proposed' | 'active' | 'retired',
+    })),
     defaultTolerancePercentSpan: policy.defaultTolerancePercentSpan,
   })
   const errors = [...result.errors]
@@ -60,7 +79,11 @@ export async function evaluateLimit(trx: Trx, draft: CreateLimitInput, siteId: n
     priority = d.priority
     priorityExplanation = d.explanation
     if (d.noAlarm && draft.limitClass === 'alarm') {
-      errors.push({ code: 'PRIORITY_NO_ALARM' as WindowFinding['code'], field: 'responseTimeMin', message: `The priority matrix says no alarm here (${d.explanation}): make it a trip or nothing` })
+      errors.push({
+        code: 'PRIORITY_NO_ALARM' as WindowFinding['code'],
+        field: 'responseTimeMin',
+        message: `The priority matrix says no alarm here (${d.explanation}): make it a trip or nothing`,
+      })
     }
   }
   return { errors, warnings: result.warnings, priority, priorityExplanation }
@@ -70,20 +93,47 @@ export async function evaluateLimit(trx: Trx, draft: CreateLimitInput, siteId: n
 function windowError(ev: Evaluation): AppError {
   const fields: Record<string, string[]> = {}
   for (const e of ev.errors) (fields[e.field ?? 'setpoint'] ??= []).push(e.message)
-  return new AppError(422, ErrorCode.UNPROCESSABLE, 'The limit does not fit its operating window', { fields, operatingWindow: { errors: ev.errors, warnings: ev.warnings } })
+  return new AppError(422, ErrorCode.UNPROCESSABLE, 'The limit does not fit its operating window', {
+    fields,
+    operatingWindow: { errors: ev.errors, warnings: ev.warnings },
+  })
 }
 
 function columns(d: CreateLimitInput, ev: Evaluation) {
   return {
-    tag: d.tag, description: d.description, primary_instrument_id: d.instrumentIds[0], direction: d.direction, limit_class: d.limitClass,
-    setpoint: d.setpoint, deadband: d.deadband, deadband_unit: d.deadbandUnit, on_delay_sec: d.onDelaySec, off_delay_sec: d.offDelaySec,
-    latching: d.latching, reset_role: d.latching ? d.resetRole : null, bad_value_trip: d.badValueTrip, action: d.action, consequence: d.consequence,
-    operator_response: d.operatorResponse, response_time_min: d.responseTimeMin, severity: d.severity, priority: ev.priority,
-    priority_explanation: ev.priorityExplanation, analytical_limit: d.analyticalLimit, process_safety_time_sec: d.processSafetyTimeSec,
-    required_response_time_sec: d.requiredResponseTimeSec, bypass_permitted: d.bypassPermitted, max_bypass_hours: d.bypassPermitted ? d.maxBypassHours : null,
-    compensating_measures: JSON.stringify(d.compensatingMeasures), test_interval_months: d.testIntervalMonths, test_grace_days: d.testGraceDays,
-    code_set_interval: d.codeSetInterval, sil: d.sil, subsystems: JSON.stringify(d.sil ? d.subsystems : []),
-    window_errors: JSON.stringify(ev.errors), window_warnings: JSON.stringify(ev.warnings),
+    tag: d.tag,
+    description: d.description,
+    primary_instrument_id: d.instrumentIds[0],
+    direction: d.direction,
+    limit_class: d.limitClass,
+    setpoint: d.setpoint,
+    deadband: d.deadband,
+    deadband_unit: d.deadbandUnit,
+    on_delay_sec: d.onDelaySec,
+    off_delay_sec: d.offDelaySec,
+    latching: d.latching,
+    reset_role: d.latching ? d.resetRole : null,
+    bad_value_trip: d.badValueTrip,
+    action: d.action,
+    consequence: d.consequence,
+    operator_response: d.operatorResponse,
+    response_time_min: d.responseTimeMin,
+    severity: d.severity,
+    priority: ev.priority,
+    priority_explanation: ev.priorityExplanation,
+    analytical_limit: d.analyticalLimit,
+    process_safety_time_sec: d.processSafetyTimeSec,
+    required_response_time_sec: d.requiredResponseTimeSec,
+    bypass_permitted: d.bypassPermitted,
+    max_bypass_hours: d.bypassPermitted ? d.maxBypassHours : null,
+    compensating_measures: JSON.stringify(d.compensatingMeasures),
+    test_interval_months: d.testIntervalMonths,
+    test_grace_days: d.testGraceDays,
+    code_set_interval: d.codeSetInterval,
+    sil: d.sil,
+    subsystems: JSON.stringify(d.sil ? d.subsystems : []),
+    window_errors: JSON.stringify(ev.errors),
+    window_warnings: JSON.stringify(ev.warnings),
   }
 }
 
@@ -93,11 +143,26 @@ async function loadLimit(db: AppDeps['db'] | Trx, id: number, lock = false): Pro
   return toLimit(row, (await repo.findInstrumentIdsByLimitIds(db, [id])).get(id) ?? [])
 }
 
-async function writeRevision(trx: Trx, clock: Clock, limit: Limit, ctx: AuditContext, changeRequestId: number | null, reason: string | null) {
-  await trx.insertInto('limit_revision').values({
-    limit_id: limit.id, revision: limit.revision, snapshot: JSON.stringify(limitSnapshot(limit)), changed_by: ctx.actorId,
-    changed_at: clock.now(), change_request_id: changeRequestId, reason,
-  }).execute()
+async function writeRevision(
+  trx: Trx,
+  clock: Clock,
+  limit: Limit,
+  ctx: AuditContext,
+  changeRequestId: number | null,
+  reason: string | null,
+) {
+  await trx
+    .insertInto('limit_revision')
+    .values({
+      limit_id: limit.id,
+      revision: limit.revision,
+      snapshot: JSON.stringify(limitSnapshot(limit)),
+      changed_by: ctx.actorId,
+      changed_at: clock.now(),
+      change_request_id: changeRequestId,
+      reason,
+    })
+    .execute()
 }
 
 function toDraft(l: Limit): CreateLimitInput {
@@ -110,7 +175,12 @@ export async function getLimit(deps: AppDeps, ability: AppAbility, id: number): 
   return limit
 }
 
-export async function createLimit(deps: AppDeps, ability: AppAbility, ctx: AuditContext, input: CreateLimitInput): Promise<Limit> {
+export async function createLimit(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  input: CreateLimitInput,
+): Promise<Limit> {
   const process = await deps.db.selectFrom('process').selectAll().where('id', '=', input.processId).executeTakeFirst()
   if (!process) throw validationFailed({ processId: ['The process does not exist'] })
   authorize(ability, 'create', 'Limit', { siteId: process.site_id })
@@ -122,35 +192,82 @@ export async function createLimit(deps: AppDeps, ability: AppAbility, ctx: Audit
  * Inserts a draft (proposed) limit with its voted instruments, first revision and audit event, after the
  * operating-window check (errors refuse it). Also used by the import and the demo seed.
  */
-export async function insertLimit(trx: Trx, clock: Clock, ctx: AuditContext, input: CreateLimitInput, process: { id: number, area_id: number, site_id: number }, batchId?: string): Promise<number> {
+export async function insertLimit(
+  trx: Trx,
+  clock: Clock,
+  ctx: AuditContext,
+  input: CreateLimitInput,
+  process: { id: number; area_id: number; site_id: number },
+  batchId?: string,
+): Promise<number> {
   await assertTagFree(trx, process.site_id, input.tag, null)
   const ev = await evaluateLimit(trx, input, process.site_id, null)
   if (ev.errors.length) throw windowError(ev)
   const now = clock.now()
-  const { id } = await trx.insertInto('limit_function').values({
-    ...columns(input, ev), process_id: process.id, area_id: process.area_id, site_id: process.site_id, created_by: ctx.actorId, created_at: now, updated_at: now,
-  }).returning('id').executeTakeFirstOrThrow()
+  const { id } = await trx
+    .insertInto('limit_function')
+    .values({
+      ...columns(input, ev),
+      process_id: process.id,
+      area_id: process.area_id,
+      site_id: process.site_id,
+      created_by: ctx.actorId,
+      created_at: now,
+      updated_at: now,
+    })
+    .returning('id')
+    .executeTakeFirstOrThrow()
   await repo.replaceLimitInstruments(trx, id, input.instrumentIds)
   const limit = await loadLimit(trx, id)
   await writeRevision(trx, clock, limit, ctx, null, 'created as a draft')
-  await appendAudit(trx, clock, ctx, { action: 'limit.create', entityType: 'Limit', entityId: id, after: limitSnapshot(limit), batchId })
+  await appendAudit(trx, clock, ctx, {
+    action: 'limit.create',
+    entityType: 'Limit',
+    entityId: id,
+    after: limitSnapshot(limit),
+    batchId,
+  })
   return id
 }
 
 async function assertTagFree(trx: Trx, siteId: number, tag: string, exceptId: number | null) {
-  let q = trx.selectFrom('limit_function').select('id').where('site_id', '=', siteId).where((eb) => eb(eb.fn('lower', ['tag']), '=', tag.toLowerCase()))
+  let q = trx
+    .selectFrom('limit_function')
+    .select('id')
+    .where('site_id', '=', siteId)
+    .where((eb) => eb(eb.fn('lower', ['tag']), '=', tag.toLowerCase()))
   if (exceptId) q = q.where('id', '!=', exceptId)
-  if (await q.executeTakeFirst()) throw new AppError(409, ErrorCode.CONFLICT, `Tag ${tag} is already used at this site`, { fields: { tag: ['Already used at this site'] } })
+  if (await q.executeTakeFirst())
+    throw new AppError(409, ErrorCode.CONFLICT, `Tag ${tag} is already used at this site`, {
+      fields: { tag: ['Already used at this site'] },
+    })
 }
 
 /** Edits a draft (proposed) limit. Active limits change only through an implemented change request. */
-export async function updateLimit(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number, patch: UpdateLimitInput, expectedRevision?: number): Promise<Limit> {
+export async function updateLimit(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+  patch: UpdateLimitInput,
+  expectedRevision?: number,
+): Promise<Limit> {
   await deps.db.transaction().execute(async (trx) => {
     const before = await loadLimit(trx, id, true)
     authorize(ability, 'update', 'Limit', { siteId: before.siteId })
-    if (before.status !== 'proposed') throw invalidState(`Limit ${before.tag} is ${before.status}: it changes only through a change request`)
-    if (expectedRevision !== undefined && expectedRevision !== before.revision) throw new AppError(409, ErrorCode.CONFLICT, `Limit ${before.tag} was changed by someone else (revision ${before.revision}); reload it`)
-    await applyLimitDefinition(trx, deps.clock, ctx, before, patch, { changeRequestId: null, reason: 'draft edited', action: 'limit.update' })
+    if (before.status !== 'proposed')
+      throw invalidState(`Limit ${before.tag} is ${before.status}: it changes only through a change request`)
+    if (expectedRevision !== undefined && expectedRevision !== before.revision)
+      throw new AppError(
+        409,
+        ErrorCode.CONFLICT,
+        `Limit ${before.tag} was changed by someone else (revision ${before.revision}); reload it`,
+      )
+    await applyLimitDefinition(trx, deps.clock, ctx, before, patch, {
+      changeRequestId: null,
+      reason: 'draft edited',
+      action: 'limit.update',
+    })
   })
   return loadLimit(deps.db, id)
 }
@@ -159,18 +276,47 @@ export async function updateLimit(deps: AppDeps, ability: AppAbility, ctx: Audit
  * Applies a new definition (and optionally a status) to a limit inside the caller's transaction: checks it, writes the
  * row, a revision and the audit event. Used for draft edits and by implemented change requests.
  */
-export async function applyLimitDefinition(trx: Trx, clock: Clock, ctx: AuditContext, before: Limit, patch: UpdateLimitInput, opts: { changeRequestId: number | null, reason: string | null, action: string, status?: Limit['status'], batchId?: string }): Promise<Limit> {
+export async function applyLimitDefinition(
+  trx: Trx,
+  clock: Clock,
+  ctx: AuditContext,
+  before: Limit,
+  patch: UpdateLimitInput,
+  opts: {
+    changeRequestId: number | null
+    reason: string | null
+    action: string
+    status?: Limit['status']
+    batchId?: string
+  },
+): Promise<Limit> {
   const draft = CreateLimitInputSchema.parse({ ...toDraft(before), ...patch, processId: before.processId })
-  if (draft.tag.toLowerCase() !== before.tag.toLowerCase()) await assertTagFree(trx, before.siteId, draft.tag, before.id)
+  if (draft.tag.toLowerCase() !== before.tag.toLowerCase())
+    await assertTagFree(trx, before.siteId, draft.tag, before.id)
   const ev = await evaluateLimit(trx, draft, before.siteId, before.id)
   if (ev.errors.length && opts.status !== 'retired') throw windowError(ev)
-  await trx.updateTable('limit_function').set({
-    ...columns(draft, ev), revision: before.revision + 1, updated_at: clock.now(), ...(opts.status ? { status: opts.status } : {}),
-  }).where('id', '=', before.id).execute()
+  await trx
+    .updateTable('limit_function')
+    .set({
+      ...columns(draft, ev),
+      revision: before.revision + 1,
+      updated_at: clock.now(),
+      ...(opts.status ? { status: opts.status } : {}),
+    })
+    .where('id', '=', before.id)
+    .execute()
   if (patch.instrumentIds) await repo.replaceLimitInstruments(trx, before.id, draft.instrumentIds)
   const after = await loadLimit(trx, before.id)
   await writeRevision(trx, clock, after, ctx, opts.changeRequestId, opts.reason)
-  await appendAudit(trx, clock, ctx, { action: opts.action, entityType: 'Limit', entityId: before.id, before: limitSnapshot(before), after: limitSnapshot(after), reason: opts.reason, batchId: opts.batchId })
+  await appendAudit(trx, clock, ctx, {
+    action: opts.action,
+    entityType: 'Limit',
+    entityId: before.id,
+    before: limitSnapshot(before),
+    after: limitSnapshot(after),
+    reason: opts.reason,
+    batchId: opts.batchId,
+  })
   return after
 }
 
@@ -183,9 +329,15 @@ export async function deleteLimit(deps: AppDeps, ability: AppAbility, ctx: Audit
   await deps.db.transaction().execute(async (trx) => {
     const before = await loadLimit(trx, id, true)
     authorize(ability, 'delete', 'Limit', { siteId: before.siteId })
-    if (before.status !== 'proposed') throw invalidState('Only draft (proposed) limits can be deleted; retire an active limit through a change request')
+    if (before.status !== 'proposed')
+      throw invalidState('Only draft (proposed) limits can be deleted; retire an active limit through a change request')
     await trx.deleteFrom('limit_function').where('id', '=', id).execute()
-    await appendAudit(trx, deps.clock, ctx, { action: 'limit.delete', entityType: 'Limit', entityId: id, before: limitSnapshot(before) })
+    await appendAudit(trx, deps.clock, ctx, {
+      action: 'limit.delete',
+      entityType: 'Limit',
+      entityId: id,
+      before: limitSnapshot(before),
+    })
   })
 }
 
@@ -193,34 +345,70 @@ export async function deleteLimit(deps: AppDeps, ability: AppAbility, ctx: Audit
  * Recomputes and stores the window results of every limit on an instrument (after the instrument changed), in the
  * caller's transaction. Returns the limits that would then have blocking errors.
  */
-export async function recomputeWindowsForInstrument(trx: Trx, instrumentId: number): Promise<{ tag: string, errors: WindowFinding[] }[]> {
-  const ids = await trx.selectFrom('limit_function').select('id').where('primary_instrument_id', '=', instrumentId).where('status', '!=', 'retired').execute()
-  const blocked: { tag: string, errors: WindowFinding[] }[] = []
+export async function recomputeWindowsForInstrument(
+  trx: Trx,
+  instrumentId: number,
+): Promise<{ tag: string; errors: WindowFinding[] }[]> {
+  const ids = await trx
+    .selectFrom('limit_function')
+    .select('id')
+    .where('primary_instrument_id', '=', instrumentId)
+    .where('status', '!=', 'retired')
+    .execute()
+  const blocked: { tag: string; errors: WindowFinding[] }[] = []
   for (const { id } of ids) {
     const l = await loadLimit(trx, id)
     const ev = await evaluateLimit(trx, toDraft(l), l.siteId, l.id)
     if (ev.errors.length) blocked.push({ tag: l.tag, errors: ev.errors })
-    await trx.updateTable('limit_function').set({
-      window_errors: JSON.stringify(ev.errors), window_warnings: JSON.stringify(ev.warnings), priority: ev.priority, priority_explanation: ev.priorityExplanation,
-    }).where('id', '=', id).execute()
+    await trx
+      .updateTable('limit_function')
+      .set({
+        window_errors: JSON.stringify(ev.errors),
+        window_warnings: JSON.stringify(ev.warnings),
+        priority: ev.priority,
+        priority_explanation: ev.priorityExplanation,
+      })
+      .where('id', '=', id)
+      .execute()
   }
   return blocked
 }
 
 export async function listRevisions(deps: AppDeps, ability: AppAbility, id: number) {
   const limit = await getLimit(deps, ability, id)
-  const rows = await deps.db.selectFrom('limit_revision').leftJoin('app_user', 'app_user.id', 'limit_revision.changed_by')
-    .select(['limit_revision.revision', 'limit_revision.snapshot', 'limit_revision.changed_at', 'limit_revision.change_request_id', 'limit_revision.reason', 'app_user.display_name'])
-    .where('limit_id', '=', limit.id).orderBy('revision', 'desc').execute()
+  const rows = await deps.db
+    .selectFrom('limit_revision')
+    .leftJoin('app_user', 'app_user.id', 'limit_revision.changed_by')
+    .select([
+      'limit_revision.revision',
+      'limit_revision.snapshot',
+      'limit_revision.changed_at',
+      'limit_revision.change_request_id',
+      'limit_revision.reason',
+      'app_user.display_name',
+    ])
+    .where('limit_id', '=', limit.id)
+    .orderBy('revision', 'desc')
+    .execute()
   return {
     total: rows.length,
     items: rows.map((r, i) => {
       const prev = rows[i + 1]?.snapshot as Record<string, unknown> | undefined
       const snap = r.snapshot as Record<string, unknown>
       const changes = prev
-        ? Object.keys(snap).filter((k) => k !== 'revision' && JSON.stringify(snap[k]) !== JSON.stringify(prev[k])).map((k) => ({ field: k, from: prev[k], to: snap[k] }))
+        ? Object.keys(snap)
+            .filter((k) => k !== 'revision' && JSON.stringify(snap[k]) !== JSON.stringify(prev[k]))
+            .map((k) => ({ field: k, from: prev[k], to: snap[k] }))
         : []
-      return { revision: r.revision, changedAt: r.changed_at.toISOString(), changedBy: r.display_name, changeRequestId: r.change_request_id, reason: r.reason, changes, snapshot: snap }
+      return {
+        revision: r.revision,
+        changedAt: r.changed_at.toISOString(),
+        changedBy: r.display_name,
+        changeRequestId: r.change_request_id,
+        reason: r.reason,
+        changes,
+        snapshot: snap,
+      }
     }),
   }
 }

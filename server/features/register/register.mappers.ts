@@ -7,47 +7,122 @@ export function toProcess(r: ProcessRow): Process {
   return { id: r.id, areaId: r.area_id, siteId: r.site_id, name: r.name, description: r.description }
 }
 
-export function toInstrument(r: InstrumentRow & { process_name?: string }): Instrument & { revision: number, updatedAt: string } {
+export function toInstrument(
+  r: InstrumentRow & { process_name?: string },
+): Instrument & { revision: number; updatedAt: string } {
   return {
-    id: r.id, siteId: r.site_id, areaId: r.area_id, processId: r.process_id, processName: r.process_name, tag: r.tag,
-    measuredVariable: r.measured_variable as Instrument['measuredVariable'], unit: r.unit,
+    id: r.id,
+    siteId: r.site_id,
+    areaId: r.area_id,
+    processId: r.process_id,
+    processName: r.process_name,
+    tag: r.tag,
+    measuredVariable: r.measured_variable as Instrument['measuredVariable'],
+    unit: r.unit,
     pressureReference: r.pressure_reference as Instrument['pressureReference'],
-    rangeLow: Number(r.range_low), rangeHigh: Number(r.range_high), normalLow: n(r.normal_low), normalHigh: n(r.normal_high),
-    designLow: n(r.design_low), designHigh: n(r.design_high), burnout: r.burnout as Instrument['burnout'], signal: r.signal as Signal,
-    deviceKind: r.device_kind as Instrument['deviceKind'], deviceDescription: r.device_description, revision: r.revision, updatedAt: r.updated_at.toISOString(),
+    rangeLow: Number(r.range_low),
+    rangeHigh: Number(r.range_high),
+    normalLow: n(r.normal_low),
+    normalHigh: n(r.normal_high),
+    designLow: n(r.design_low),
+    designHigh: n(r.design_high),
+    burnout: r.burnout as Instrument['burnout'],
+    signal: r.signal as Signal,
+    deviceKind: r.device_kind as Instrument['deviceKind'],
+    deviceDescription: r.device_description,
+    revision: r.revision,
+    updatedAt: r.updated_at.toISOString(),
   }
 }
 
 export type LimitListRow = LimitFunctionRow & {
-  process_name: string, area_name: string, site_code: string,
-  pi_tag: string | null, pi_unit: string | null, pi_variable: string | null, pi_range_low: string | null, pi_range_high: string | null,
+  process_name: string
+  area_name: string
+  site_code: string
+  pi_tag: string | null
+  pi_unit: string | null
+  pi_variable: string | null
+  pi_range_low: string | null
+  pi_range_high: string | null
 }
 
 /** Row (joined with names and its primary instrument) → API shape; instrumentIds come from limit_instrument. */
 export function toLimit(r: LimitListRow, instrumentIds: number[]): Limit {
   return {
-    id: r.id, siteId: r.site_id, areaId: r.area_id, processId: r.process_id, processName: r.process_name, areaName: r.area_name, siteCode: r.site_code,
-    tag: r.tag, description: r.description, instrumentIds, direction: r.direction as Limit['direction'], limitClass: r.limit_class as Limit['limitClass'],
-    setpoint: Number(r.setpoint), deadband: Number(r.deadband), deadbandUnit: r.deadband_unit as Limit['deadbandUnit'],
-    onDelaySec: Number(r.on_delay_sec), offDelaySec: Number(r.off_delay_sec), latching: r.latching, resetRole: r.reset_role as Limit['resetRole'],
-    badValueTrip: r.bad_value_trip, action: r.action, consequence: r.consequence, operatorResponse: r.operator_response,
-    responseTimeMin: n(r.response_time_min), severity: r.severity as Limit['severity'], priority: r.priority as Limit['priority'],
-    priorityExplanation: r.priority_explanation, analyticalLimit: n(r.analytical_limit), processSafetyTimeSec: n(r.process_safety_time_sec),
-    requiredResponseTimeSec: n(r.required_response_time_sec), bypassPermitted: r.bypass_permitted, maxBypassHours: n(r.max_bypass_hours),
-    compensatingMeasures: r.compensating_measures, testIntervalMonths: r.test_interval_months, testGraceDays: r.test_grace_days,
-    codeSetInterval: r.code_set_interval, sil: r.sil as Limit['sil'], subsystems: r.subsystems as Subsystem[], status: r.status as Limit['status'],
-    revision: r.revision, protectionState: r.protection_state as Limit['protectionState'],
-    testStatus: r.test_status as Limit['testStatus'], testDueDate: r.test_due_date, lastFullPass: r.last_full_pass,
+    id: r.id,
+    siteId: r.site_id,
+    areaId: r.area_id,
+    processId: r.process_id,
+    processName: r.process_name,
+    areaName: r.area_name,
+    siteCode: r.site_code,
+    tag: r.tag,
+    description: r.description,
+    instrumentIds,
+    direction: r.direction as Limit['direction'],
+    limitClass: r.limit_class as Limit['limitClass'],
+    setpoint: Number(r.setpoint),
+    deadband: Number(r.deadband),
+    deadbandUnit: r.deadband_unit as Limit['deadbandUnit'],
+    onDelaySec: Number(r.on_delay_sec),
+    offDelaySec: Number(r.off_delay_sec),
+    latching: r.latching,
+    resetRole: r.reset_role as Limit['resetRole'],
+    badValueTrip: r.bad_value_trip,
+    action: r.action,
+    consequence: r.consequence,
+    operatorResponse: r.operator_response,
+    responseTimeMin: n(r.response_time_min),
+    severity: r.severity as Limit['severity'],
+    priority: r.priority as Limit['priority'],
+    priorityExplanation: r.priority_explanation,
+    analyticalLimit: n(r.analytical_limit),
+    processSafetyTimeSec: n(r.process_safety_time_sec),
+    requiredResponseTimeSec: n(r.required_response_time_sec),
+    bypassPermitted: r.bypass_permitted,
+    maxBypassHours: n(r.max_bypass_hours),
+    compensatingMeasures: r.compensating_measures,
+    testIntervalMonths: r.test_interval_months,
+    testGraceDays: r.test_grace_days,
+    codeSetInterval: r.code_set_interval,
+    sil: r.sil as Limit['sil'],
+    subsystems: r.subsystems as Subsystem[],
+    status: r.status as Limit['status'],
+    revision: r.revision,
+    protectionState: r.protection_state as Limit['protectionState'],
+    testStatus: r.test_status as Limit['testStatus'],
+    testDueDate: r.test_due_date,
+    lastFullPass: r.last_full_pass,
     operatingWindow: { errors: r.window_errors, warnings: r.window_warnings },
-    primaryInstrument: r.pi_tag === null ? null : {
-      id: r.primary_instrument_id, tag: r.pi_tag, unit: r.pi_unit ?? '', measuredVariable: r.pi_variable ?? '', rangeLow: Number(r.pi_range_low), rangeHigh: Number(r.pi_range_high),
-    },
+    primaryInstrument:
+      r.pi_tag === null
+        ? null
+        : {
+            id: r.primary_instrument_id,
+            tag: r.pi_tag,
+            unit: r.pi_unit ?? '',
+            measuredVariable: r.pi_variable ?? '',
+            rangeLow: Number(r.pi_range_low),
+            rangeHigh: Number(r.pi_range_high),
+          },
     updatedAt: r.updated_at.toISOString(),
   }
 }
 
 /** The fields a revision snapshot keeps (the limit's own definition, without derived and joined values). */
 export function limitSnapshot(l: Limit): Record<string, unknown> {
-  const { id: _id, processName: _p, areaName: _a, siteCode: _s, primaryInstrument: _pi, updatedAt: _u, protectionState: _ps, testStatus: _ts, testDueDate: _td, lastFullPass: _lf, ...rest } = l
+  const {
+    id: _id,
+    processName: _p,
+    areaName: _a,
+    siteCode: _s,
+    primaryInstrument: _pi,
+    updatedAt: _u,
+    protectionState: _ps,
+    testStatus: _ts,
+    testDueDate: _td,
+    lastFullPass: _lf,
+    ...rest
+  } = l
   return rest
 }

@@ -2,8 +2,15 @@ import { Router } from 'express'
 import { z } from 'zod'
 import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
 import {
-  CreateInstrumentInputSchema, CreateLimitInputSchema, CreateProcessInputSchema, LIMIT_STATUSES, PROTECTION_STATES, TEST_STATUSES,
-  UpdateInstrumentInputSchema, UpdateLimitInputSchema, UpdateProcessInputSchema,
+  CreateInstrumentInputSchema,
+  CreateLimitInputSchema,
+  CreateProcessInputSchema,
+  LIMIT_STATUSES,
+  PROTECTION_STATES,
+  TEST_STATUSES,
+  UpdateInstrumentInputSchema,
+  UpdateLimitInputSchema,
+  UpdateProcessInputSchema,
 } from '../../../shared/schemas/register.ts'
 import { scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
@@ -39,12 +46,28 @@ export function createProcessesRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
     const q = z.object({ siteId: repeated(IdSchema), areaId: repeated(IdSchema) }).parse(req.query)
-    res.json(await processes.listProcesses(deps, req.ability, { siteIds: scopeSites(req.user, q.siteId), areaIds: q.areaId }))
+    res.json(
+      await processes.listProcesses(deps, req.ability, { siteIds: scopeSites(req.user, q.siteId), areaIds: q.areaId }),
+    )
   })
-  router.get('/:id', async (req, res) => { res.json(await processes.getProcess(deps, req.ability, IdSchema.parse(req.params.id))) })
-  router.post('/', async (req, res) => { res.status(201).json(await processes.createProcess(deps, req.ability, req.audit, CreateProcessInputSchema.parse(req.body))) })
+  router.get('/:id', async (req, res) => {
+    res.json(await processes.getProcess(deps, req.ability, IdSchema.parse(req.params.id)))
+  })
+  router.post('/', async (req, res) => {
+    res
+      .status(201)
+      .json(await processes.createProcess(deps, req.ability, req.audit, CreateProcessInputSchema.parse(req.body)))
+  })
   router.patch('/:id', async (req, res) => {
-    res.json(await processes.updateProcess(deps, req.ability, req.audit, IdSchema.parse(req.params.id), parsePatch(UpdateProcessInputSchema, req.body)))
+    res.json(
+      await processes.updateProcess(
+        deps,
+        req.ability,
+        req.audit,
+        IdSchema.parse(req.params.id),
+        parsePatch(UpdateProcessInputSchema, req.body),
+      ),
+    )
   })
   return router
 }
@@ -52,14 +75,43 @@ export function createProcessesRouter(deps: AppDeps) {
 export function createInstrumentsRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
-    const q = z.object({ siteId: repeated(IdSchema), processId: repeated(IdSchema), q: z.string().trim().max(60).optional(),
-      page: z.coerce.number().int().min(1).default(1), pageSize: z.coerce.number().int().min(1).max(200).default(100) }).parse(req.query)
-    res.json(await instruments.listInstruments(deps, req.ability, { ...q, siteIds: scopeSites(req.user, q.siteId), processIds: q.processId }))
+    const q = z
+      .object({
+        siteId: repeated(IdSchema),
+        processId: repeated(IdSchema),
+        q: z.string().trim().max(60).optional(),
+        page: z.coerce.number().int().min(1).default(1),
+        pageSize: z.coerce.number().int().min(1).max(200).default(100),
+      })
+      .parse(req.query)
+    res.json(
+      await instruments.listInstruments(deps, req.ability, {
+        ...q,
+        siteIds: scopeSites(req.user, q.siteId),
+        processIds: q.processId,
+      }),
+    )
   })
-  router.get('/:id', async (req, res) => { res.json(await instruments.getInstrument(deps, req.ability, IdSchema.parse(req.params.id))) })
-  router.post('/', async (req, res) => { res.status(201).json(await instruments.createInstrument(deps, req.ability, req.audit, CreateInstrumentInputSchema.parse(req.body))) })
+  router.get('/:id', async (req, res) => {
+    res.json(await instruments.getInstrument(deps, req.ability, IdSchema.parse(req.params.id)))
+  })
+  router.post('/', async (req, res) => {
+    res
+      .status(201)
+      .json(
+        await instruments.createInstrument(deps, req.ability, req.audit, CreateInstrumentInputSchema.parse(req.body)),
+      )
+  })
   router.patch('/:id', async (req, res) => {
-    res.json(await instruments.updateInstrument(deps, req.ability, req.audit, IdSchema.parse(req.params.id), parsePatch(UpdateInstrumentInputSchema, req.body)))
+    res.json(
+      await instruments.updateInstrument(
+        deps,
+        req.ability,
+        req.audit,
+        IdSchema.parse(req.params.id),
+        parsePatch(UpdateInstrumentInputSchema, req.body),
+      ),
+    )
   })
   return router
 }
@@ -70,23 +122,47 @@ export function createLimitsRouter(deps: AppDeps) {
     res.json(await register.listRegister(deps, req.user, LimitQuerySchema.parse(req.query)))
   })
   router.get('/export', async (req, res) => {
-    const { format, ...query } = LimitQuerySchema.extend({ format: z.enum(['csv', 'xlsx']).default('csv') }).parse(req.query)
+    const { format, ...query } = LimitQuerySchema.extend({ format: z.enum(['csv', 'xlsx']).default('csv') }).parse(
+      req.query,
+    )
     const file = await register.exportRegister(deps, req.user, query, format)
     res.setHeader('Content-Type', file.contentType)
     res.setHeader('Content-Disposition', `attachment; filename="${file.fileName}"`)
     res.send(file.body)
   })
-  router.get('/:id', async (req, res) => { res.json(await limits.getLimit(deps, req.ability, IdSchema.parse(req.params.id))) })
-  router.get('/:id/revisions', async (req, res) => { res.json(await limits.listRevisions(deps, req.ability, IdSchema.parse(req.params.id))) })
+  router.get('/:id', async (req, res) => {
+    res.json(await limits.getLimit(deps, req.ability, IdSchema.parse(req.params.id)))
+  })
+  router.get('/:id/revisions', async (req, res) => {
+    res.json(await limits.listRevisions(deps, req.ability, IdSchema.parse(req.params.id)))
+  })
   router.get('/:id/test-signal', async (req, res) => {
-    const q = z.object({ coldJunction: z.coerce.number().min(-50).max(150).optional(), mode: z.enum(['mv_source', 'tc_simulate']).default('mv_source') }).parse(req.query)
+    const q = z
+      .object({
+        coldJunction: z.coerce.number().min(-50).max(150).optional(),
+        mode: z.enum(['mv_source', 'tc_simulate']).default('mv_source'),
+      })
+      .parse(req.query)
     res.json(await register.testSignalFor(deps, req.ability, IdSchema.parse(req.params.id), q))
   })
-  router.post('/', async (req, res) => { res.status(201).json(await limits.createLimit(deps, req.ability, req.audit, CreateLimitInputSchema.parse(req.body))) })
+  router.post('/', async (req, res) => {
+    res.status(201).json(await limits.createLimit(deps, req.ability, req.audit, CreateLimitInputSchema.parse(req.body)))
+  })
   router.patch('/:id', async (req, res) => {
-    const { expectedRevision } = z.object({ expectedRevision: z.number().int().optional() }).parse({ expectedRevision: req.body?.expectedRevision })
+    const { expectedRevision } = z
+      .object({ expectedRevision: z.number().int().optional() })
+      .parse({ expectedRevision: req.body?.expectedRevision })
     const { expectedRevision: _e, ...patch } = req.body ?? {}
-    res.json(await limits.updateLimit(deps, req.ability, req.audit, IdSchema.parse(req.params.id), parsePatch(UpdateLimitInputSchema, patch), expectedRevision))
+    res.json(
+      await limits.updateLimit(
+        deps,
+        req.ability,
+        req.audit,
+        IdSchema.parse(req.params.id),
+        parsePatch(UpdateLimitInputSchema, patch),
+        expectedRevision,
+      ),
+    )
   })
   router.delete('/:id', async (req, res) => {
     await limits.deleteLimit(deps, req.ability, req.audit, IdSchema.parse(req.params.id))

@@ -23,12 +23,23 @@ const COUNT_CAP = 10_000
 
 function filtersOf(user: CurrentUser | null, q: LimitQuery): repo.LimitFilters {
   return {
-    siteIds: scopeSites(user, q.siteId), areaIds: q.areaId, processIds: q.processId, instrumentIds: q.instrumentId, limitClass: q.limitClass,
-    direction: q.direction, sil: q.sil, status: q.status, protectionState: q.protectionState, testStatus: q.testStatus, hasWarnings: q.hasWarnings, hasErrors: q.hasErrors, q: q.q,
+    siteIds: scopeSites(user, q.siteId),
+    areaIds: q.areaId,
+    processIds: q.processId,
+    instrumentIds: q.instrumentId,
+    limitClass: q.limitClass,
+    direction: q.direction,
+    sil: q.sil,
+    status: q.status,
+    protectionState: q.protectionState,
+    testStatus: q.testStatus,
+    hasWarnings: q.hasWarnings,
+    hasErrors: q.hasErrors,
+    q: q.q,
   }
 }
 
-function decodeCursor(c: string): { values: unknown[], id: number } {
+function decodeCursor(c: string): { values: unknown[]; id: number } {
   try {
     const v = JSON.parse(Buffer.from(c, 'base64url').toString('utf8'))
     if (!Array.isArray(v.v) || !Number.isInteger(v.id)) throw new Error('bad cursor')
@@ -39,8 +50,15 @@ function decodeCursor(c: string): { values: unknown[], id: number } {
 }
 
 const SORT_VALUE: Record<repo.LimitSortField, (l: Limit) => unknown> = {
-  tag: (l) => l.tag, setpoint: (l) => l.setpoint, sil: (l) => l.sil, priority: (l) => l.priority, status: (l) => l.status,
-  updatedAt: (l) => l.updatedAt, limitClass: (l) => l.limitClass, direction: (l) => l.direction, testDueDate: (l) => l.testDueDate,
+  tag: (l) => l.tag,
+  setpoint: (l) => l.setpoint,
+  sil: (l) => l.sil,
+  priority: (l) => l.priority,
+  status: (l) => l.status,
+  updatedAt: (l) => l.updatedAt,
+  limitClass: (l) => l.limitClass,
+  direction: (l) => l.direction,
+  testDueDate: (l) => l.testDueDate,
 }
 
 /**
@@ -49,19 +67,32 @@ const SORT_VALUE: Record<repo.LimitSortField, (l: Limit) => unknown> = {
  */
 export async function listRegister(deps: AppDeps, user: CurrentUser | null, q: LimitQuery) {
   const f = filtersOf(user, q)
-  const sort = parseSort(q.sort, Object.keys(repo.LIMIT_SORT_COLUMNS)) as { field: repo.LimitSortField, desc: boolean }[]
+  const sort = parseSort(q.sort, Object.keys(repo.LIMIT_SORT_COLUMNS)) as {
+    field: repo.LimitSortField
+    desc: boolean
+  }[]
   const after = q.cursor ? decodeCursor(q.cursor) : undefined
-  if (after && (sort.length > 1 || ['sil', 'priority', 'testDueDate'].includes(sort[0]?.field ?? ''))) throw validationFailed({ cursor: ['Cursor paging works with one sort column without empty values'] })
+  if (after && (sort.length > 1 || ['sil', 'priority', 'testDueDate'].includes(sort[0]?.field ?? '')))
+    throw validationFailed({ cursor: ['Cursor paging works with one sort column without empty values'] })
   const [rows, total] = await Promise.all([
-    repo.listLimits(deps.db, f, sort, { limit: q.pageSize, offset: after ? undefined : (q.page - 1) * q.pageSize, after }),
+    repo.listLimits(deps.db, f, sort, {
+      limit: q.pageSize,
+      offset: after ? undefined : (q.page - 1) * q.pageSize,
+      after,
+    }),
     repo.countLimits(deps.db, f, COUNT_CAP),
   ])
   const items = rows.map((r) => toLimit(r, r.instrument_ids))
   // keyset paging needs a sort column without nulls
-  const single = sort.length <= 1 && !['sil', 'priority', 'testDueDate'].includes(sort[0]?.field ?? 'tag') ? (sort[0]?.field ?? 'tag') : null
+  const single =
+    sort.length <= 1 && !['sil', 'priority', 'testDueDate'].includes(sort[0]?.field ?? 'tag')
+      ? (sort[0]?.field ?? 'tag')
+      : null
   const last = items[items.length - 1]
-  const nextCursor = single && last && items.length === q.pageSize
-    ? Buffer.from(JSON.stringify({ v: [SORT_VALUE[single](last)], id: last.id })).toString('base64url') : null
+  const nextCursor =
+    single && last && items.length === q.pageSize
+      ? Buffer.from(JSON.stringify({ v: [SORT_VALUE[single](last)], id: last.id })).toString('base64url')
+      : null
   return { items, total: Math.min(total, COUNT_CAP), totalCapped: total > COUNT_CAP, nextCursor }
 }
 
@@ -76,7 +107,11 @@ export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q:
   const instrumentIds = [...new Set([...ids.values()].flat())]
   const instruments = new Map<number, ReturnType<typeof toInstrument>>()
   for (let i = 0; i < instrumentIds.length; i += 5000) {
-    const chunk = await deps.db.selectFrom('instrument').selectAll().where('id', 'in', instrumentIds.slice(i, i + 5000)).execute()
+    const chunk = await deps.db
+      .selectFrom('instrument')
+      .selectAll()
+      .where('id', 'in', instrumentIds.slice(i, i + 5000))
+      .execute()
     for (const r of chunk) instruments.set(r.id, toInstrument(r))
   }
   const records: RegisterFileRow[] = rows.map((r) => {
@@ -84,24 +119,69 @@ export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q:
     const inst = instruments.get(l.instrumentIds[0])!
     const sig = inst.signal as { headTransmitter?: boolean }
     return {
-      site: l.siteCode, area: l.areaName, process: l.processName, instrumentTag: inst.tag,
-      votedInstrumentTags: l.instrumentIds.slice(1).map((id) => instruments.get(id)?.tag ?? '').join('; '),
-      measuredVariable: inst.measuredVariable, unit: inst.unit, pressureReference: str(inst.pressureReference), rangeLow: str(inst.rangeLow), rangeHigh: str(inst.rangeHigh),
-      normalLow: str(inst.normalLow), normalHigh: str(inst.normalHigh), designLow: str(inst.designLow), designHigh: str(inst.designHigh), burnout: inst.burnout,
-      signal: signalToText(inst.signal), headTransmitter: yesNo(Boolean(sig.headTransmitter)), deviceKind: inst.deviceKind, deviceDescription: inst.deviceDescription,
-      tag: l.tag, description: l.description, direction: l.direction, limitClass: l.limitClass, setpoint: str(l.setpoint), deadband: str(l.deadband),
-      deadbandUnit: l.deadbandUnit, onDelaySec: str(l.onDelaySec), offDelaySec: str(l.offDelaySec), latching: yesNo(l.latching), resetRole: str(l.resetRole),
-      badValueTrip: yesNo(l.badValueTrip), action: l.action, consequence: l.consequence, operatorResponse: l.operatorResponse, responseTimeMin: str(l.responseTimeMin),
-      severity: l.severity, analyticalLimit: str(l.analyticalLimit), processSafetyTimeSec: str(l.processSafetyTimeSec), requiredResponseTimeSec: str(l.requiredResponseTimeSec),
-      bypassPermitted: yesNo(l.bypassPermitted), maxBypassHours: str(l.maxBypassHours), compensatingMeasures: l.compensatingMeasures.join('; '),
-      testIntervalMonths: str(l.testIntervalMonths), testGraceDays: str(l.testGraceDays), codeSetInterval: yesNo(l.codeSetInterval), sil: str(l.sil),
+      site: l.siteCode,
+      area: l.areaName,
+      process: l.processName,
+      instrumentTag: inst.tag,
+      votedInstrumentTags: l.instrumentIds
+        .slice(1)
+        .map((id) => instruments.get(id)?.tag ?? '')
+        .join('; '),
+      measuredVariable: inst.measuredVariable,
+      unit: inst.unit,
+      pressureReference: str(inst.pressureReference),
+      rangeLow: str(inst.rangeLow),
+      rangeHigh: str(inst.rangeHigh),
+      normalLow: str(inst.normalLow),
+      normalHigh: str(inst.normalHigh),
+      designLow: str(inst.designLow),
+      designHigh: str(inst.designHigh),
+      burnout: inst.burnout,
+      signal: signalToText(inst.signal),
+      headTransmitter: yesNo(Boolean(sig.headTransmitter)),
+      deviceKind: inst.deviceKind,
+      deviceDescription: inst.deviceDescription,
+      tag: l.tag,
+      description: l.description,
+      direction: l.direction,
+      limitClass: l.limitClass,
+      setpoint: str(l.setpoint),
+      deadband: str(l.deadband),
+      deadbandUnit: l.deadbandUnit,
+      onDelaySec: str(l.onDelaySec),
+      offDelaySec: str(l.offDelaySec),
+      latching: yesNo(l.latching),
+      resetRole: str(l.resetRole),
+      badValueTrip: yesNo(l.badValueTrip),
+      action: l.action,
+      consequence: l.consequence,
+      operatorResponse: l.operatorResponse,
+      responseTimeMin: str(l.responseTimeMin),
+      severity: l.severity,
+      analyticalLimit: str(l.analyticalLimit),
+      processSafetyTimeSec: str(l.processSafetyTimeSec),
+      requiredResponseTimeSec: str(l.requiredResponseTimeSec),
+      bypassPermitted: yesNo(l.bypassPermitted),
+      maxBypassHours: str(l.maxBypassHours),
+      compensatingMeasures: l.compensatingMeasures.join('; '),
+      testIntervalMonths: str(l.testIntervalMonths),
+      testGraceDays: str(l.testGraceDays),
+      codeSetInterval: yesNo(l.codeSetInterval),
+      sil: str(l.sil),
       subsystems: l.sil ? JSON.stringify(l.subsystems) : '',
     }
   })
   const stamp = deps.clock.now().toISOString().slice(0, 10)
   if (format === 'csv') {
-    const body = Papa.unparse({ fields: REGISTER_COLUMNS.map((c) => c.header), data: records.map((r) => REGISTER_COLUMNS.map((c) => r[c.key])) })
-    return { contentType: 'text/csv; charset=utf-8', fileName: `limitkeeper-register-${stamp}.csv`, body: Buffer.from(`\uFEFF${body}`, 'utf8') }
+    const body = Papa.unparse({
+      fields: REGISTER_COLUMNS.map((c) => c.header),
+      data: records.map((r) => REGISTER_COLUMNS.map((c) => r[c.key])),
+    })
+    return {
+      contentType: 'text/csv; charset=utf-8',
+      fileName: `limitkeeper-register-${stamp}.csv`,
+      body: Buffer.from(`\uFEFF${body}`, 'utf8'),
+    }
   }
   const wb = new ExcelJS.Workbook()
   wb.creator = 'Limitkeeper'
@@ -111,24 +191,49 @@ export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q:
   ws.views = [{ state: 'frozen', ySplit: 1 }]
   for (const r of records) ws.addRow(r)
   const buf = await wb.xlsx.writeBuffer()
-  return { contentType: 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet', fileName: `limitkeeper-register-${stamp}.xlsx`, body: Buffer.from(buf as ArrayBuffer) }
+  return {
+    contentType: 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet',
+    fileName: `limitkeeper-register-${stamp}.xlsx`,
+    body: Buffer.from(buf as ArrayBuffer),
+  }
 }
 
 /** What to inject at the trip point (DOMAIN.md §3 test signal): 400 without a needed cold junction, 422 out of range. */
-export async function testSignalFor(deps: AppDeps, ability: AppAbility, id: number, q: { coldJunction?: number, mode: 'mv_source' | 'tc_simulate' }) {
+export async function testSignalFor(
+  deps: AppDeps,
+  ability: AppAbility,
+  id: number,
+  q: { coldJunction?: number; mode: 'mv_source' | 'tc_simulate' },
+) {
   const limit = await getLimit(deps, ability, id)
-  const row = await deps.db.selectFrom('instrument').selectAll().where('id', '=', limit.instrumentIds[0]).executeTakeFirstOrThrow()
+  const row = await deps.db
+    .selectFrom('instrument')
+    .selectAll()
+    .where('id', '=', limit.instrumentIds[0])
+    .executeTakeFirstOrThrow()
   const inst = toInstrument(row)
-  const site = await deps.db.selectFrom('site').select('policy').where('id', '=', limit.siteId).executeTakeFirstOrThrow()
+  const site = await deps.db
+    .selectFrom('site')
+    .select('policy')
+    .where('id', '=', limit.siteId)
+    .executeTakeFirstOrThrow()
   try {
     return computeTestSignal(
       { unit: inst.unit, rangeLow: inst.rangeLow, rangeHigh: inst.rangeHigh, signal: inst.signal as never },
-      { direction: limit.direction, setpoint: limit.setpoint, deadband: limit.deadband, deadbandUnit: limit.deadbandUnit, tolerance: policyOf(site).defaultTolerancePercentSpan, toleranceUnit: 'percent_span' },
+      {
+        direction: limit.direction,
+        setpoint: limit.setpoint,
+        deadband: limit.deadband,
+        deadbandUnit: limit.deadbandUnit,
+        tolerance: policyOf(site).defaultTolerancePercentSpan,
+        toleranceUnit: 'percent_span',
+      },
       { mode: q.mode, coldJunctionC: q.coldJunction },
     )
   } catch (err) {
     if (err instanceof MissingInputError) throw validationFailed({ coldJunction: [err.message] }, err.message)
-    if (err instanceof OutOfRangeError || err instanceof UnitConversionError) throw new AppError(422, ErrorCode.UNPROCESSABLE, err.message)
+    if (err instanceof OutOfRangeError || err instanceof UnitConversionError)
+      throw new AppError(422, ErrorCode.UNPROCESSABLE, err.message)
     throw err
   }
 }

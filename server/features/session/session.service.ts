@@ -13,18 +13,33 @@ const GENERIC = 'E-mail address or password is wrong'
 async function assertNotThrottled(deps: AppDeps, email: string, ip: string) {
   const { db, clock, config } = deps
   const since = new Date(clock.now().getTime() - config.SIGNIN_WINDOW_MINUTES * 60_000)
-  const row = await db.selectFrom('sign_in_attempt')
+  const row = await db
+    .selectFrom('sign_in_attempt')
     .select((eb) => [
-      eb.fn.sum<number>(eb.case().when(eb(eb.fn('lower', ['email']), '=', email.toLowerCase())).then(1).else(0).end()).as('byAccount'),
+      eb.fn
+        .sum<number>(
+          eb
+            .case()
+            .when(eb(eb.fn('lower', ['email']), '=', email.toLowerCase()))
+            .then(1)
+            .else(0)
+            .end(),
+        )
+        .as('byAccount'),
       eb.fn.sum<number>(eb.case().when('ip', '=', ip).then(1).else(0).end()).as('byAddress'),
     ])
-    .where('success', '=', false).where('at', '>', since)
+    .where('success', '=', false)
+    .where('at', '>', since)
     .where((eb) => eb.or([eb(eb.fn('lower', ['email']), '=', email.toLowerCase()), eb('ip', '=', ip)]))
     .executeTakeFirst()
   const byAccount = Number(row?.byAccount ?? 0)
   const byAddress = Number(row?.byAddress ?? 0)
   if (byAccount >= config.SIGNIN_MAX_FAILURES_PER_ACCOUNT || byAddress >= config.SIGNIN_MAX_FAILURES_PER_ADDRESS) {
-    throw new AppError(429, ErrorCode.RATE_LIMITED, `Too many failed attempts; try again in ${config.SIGNIN_WINDOW_MINUTES} minutes`)
+    throw new AppError(
+      429,
+      ErrorCode.RATE_LIMITED,
+      `Too many failed attempts; try again in ${config.SIGNIN_WINDOW_MINUTES} minutes`,
+    )
   }
 }
 
@@ -37,13 +52,24 @@ export async function signIn(deps: AppDeps, input: SignInInput, ctx: AuditContex
   const ok = await verifyPassword(user?.password_hash ?? null, input.password)
   const success = Boolean(user && ok && user.active)
   await db.transaction().execute(async (trx) => {
-    await trx.insertInto('sign_in_attempt').values({ at: clock.now(), email: input.email, ip, success, purpose: 'sign_in' }).execute()
-    await appendAudit(trx, clock, { ...ctx, actorId: success ? user!.id : null }, {
-      action: success ? 'session.sign_in' : 'session.sign_in_failed',
-      entityType: 'User',
-      entityId: user?.id ?? null,
-      after: { email: input.email, ...(success ? {} : { why: !user ? 'unknown account' : !ok ? 'wrong password' : 'account inactive' }) },
-    })
+    await trx
+      .insertInto('sign_in_attempt')
+      .values({ at: clock.now(), email: input.email, ip, success, purpose: 'sign_in' })
+      .execute()
+    await appendAudit(
+      trx,
+      clock,
+      { ...ctx, actorId: success ? user!.id : null },
+      {
+        action: success ? 'session.sign_in' : 'session.sign_in_failed',
+        entityType: 'User',
+        entityId: user?.id ?? null,
+        after: {
+          email: input.email,
+          ...(success ? {} : { why: !user ? 'unknown account' : !ok ? 'wrong password' : 'account inactive' }),
+        },
+      },
+    )
   })
   if (!success) throw new AppError(401, ErrorCode.INVALID_CREDENTIALS, GENERIC)
   const roles = (await findRolesByUserIds(db, [user!.id])).get(user!.id) ?? []
@@ -54,7 +80,13 @@ export async function signIn(deps: AppDeps, input: SignInInput, ctx: AuditContex
  * Re-checks the signed-in user's password for an electronic signature (21 CFR 11.200). A wrong password answers 403
  * SIGNATURE_INVALID, writes the failed attempt (it counts against the sign-in limit) and its audit event, nothing else.
  */
-export async function verifySignaturePassword(deps: AppDeps, userId: number, password: string, ctx: AuditContext, what: { entityType: string, entityId: string | number }) {
+export async function verifySignaturePassword(
+  deps: AppDeps,
+  userId: number,
+  password: string,
+  ctx: AuditContext,
+  what: { entityType: string; entityId: string | number },
+) {
   const { db, clock } = deps
   const user = await findUserById(db, userId)
   if (!user || !user.active) throw new AppError(401, ErrorCode.UNAUTHENTICATED, 'Sign in again')
@@ -63,8 +95,15 @@ export async function verifySignaturePassword(deps: AppDeps, userId: number, pas
   const ok = await verifyPassword(user.password_hash, password)
   if (!ok) {
     await db.transaction().execute(async (trx) => {
-      await trx.insertInto('sign_in_attempt').values({ at: clock.now(), email: user.email, ip, success: false, purpose: 'signature' }).execute()
-      await appendAudit(trx, clock, ctx, { action: 'signature.failed', entityType: what.entityType, entityId: what.entityId })
+      await trx
+        .insertInto('sign_in_attempt')
+        .values({ at: clock.now(), email: user.email, ip, success: false, purpose: 'signature' })
+        .execute()
+      await appendAudit(trx, clock, ctx, {
+        action: 'signature.failed',
+        entityType: what.entityType,
+        entityId: what.entityId,
+      })
     })
     throw new AppError(403, ErrorCode.SIGNATURE_INVALID, 'The password is wrong; nothing was signed')
   }
@@ -73,5 +112,9 @@ export async function verifySignaturePassword(deps: AppDeps, userId: number, pas
 
 /** Audit event for signing out. */
 export function recordSignOut(deps: AppDeps, ctx: AuditContext, userId: number) {
-  return appendAuditAlone(deps.db, deps.clock, ctx, { action: 'session.sign_out', entityType: 'User', entityId: userId })
+  return appendAuditAlone(deps.db, deps.clock, ctx, {
+    action: 'session.sign_out',
+    entityType: 'User',
+    entityId: userId,
+  })
 }

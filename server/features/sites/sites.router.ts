@@ -2,7 +2,12 @@ import { Router } from 'express'
 import { z } from 'zod'
 import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
 import { SitePolicySchema } from '../../../shared/schemas/sites.ts'
-import { CreateAreaInputSchema, CreateSiteInputSchema, UpdateAreaInputSchema, UpdateSiteInputSchema } from '../../../shared/schemas/sites.ts'
+import {
+  CreateAreaInputSchema,
+  CreateSiteInputSchema,
+  UpdateAreaInputSchema,
+  UpdateSiteInputSchema,
+} from '../../../shared/schemas/sites.ts'
 import type { AppDeps } from '../../deps.ts'
 import * as service from './sites.service.ts'
 
@@ -16,11 +21,19 @@ function parseSitePatch(raw: unknown) {
 /** `/api/sites`: sites and their policies. */
 export function createSitesRouter(deps: AppDeps) {
   const router = Router()
-  router.get('/', async (req, res) => { res.json(await service.listSites(deps, req.ability)) })
-  router.get('/:id', async (req, res) => { res.json(await service.getSite(deps, req.ability, IdSchema.parse(req.params.id))) })
-  router.post('/', async (req, res) => { res.status(201).json(await service.createSite(deps, req.ability, req.audit, CreateSiteInputSchema.parse(req.body))) })
+  router.get('/', async (req, res) => {
+    res.json(await service.listSites(deps, req.ability))
+  })
+  router.get('/:id', async (req, res) => {
+    res.json(await service.getSite(deps, req.ability, IdSchema.parse(req.params.id)))
+  })
+  router.post('/', async (req, res) => {
+    res.status(201).json(await service.createSite(deps, req.ability, req.audit, CreateSiteInputSchema.parse(req.body)))
+  })
   router.patch('/:id', async (req, res) => {
-    res.json(await service.updateSite(deps, req.ability, req.audit, IdSchema.parse(req.params.id), parseSitePatch(req.body)))
+    res.json(
+      await service.updateSite(deps, req.ability, req.audit, IdSchema.parse(req.params.id), parseSitePatch(req.body)),
+    )
   })
   return router
 }
@@ -32,9 +45,19 @@ export function createAreasRouter(deps: AppDeps) {
     const { siteId } = z.object({ siteId: repeated(IdSchema) }).parse(req.query)
     res.json(await service.listAreas(deps, req.ability, siteId))
   })
-  router.post('/', async (req, res) => { res.status(201).json(await service.createArea(deps, req.ability, req.audit, CreateAreaInputSchema.parse(req.body))) })
+  router.post('/', async (req, res) => {
+    res.status(201).json(await service.createArea(deps, req.ability, req.audit, CreateAreaInputSchema.parse(req.body)))
+  })
   router.patch('/:id', async (req, res) => {
-    res.json(await service.updateArea(deps, req.ability, req.audit, IdSchema.parse(req.params.id), UpdateAreaInputSchema.parse(req.body)))
+    res.json(
+      await service.updateArea(
+        deps,
+        req.ability,
+        req.audit,
+        IdSchema.parse(req.params.id),
+        UpdateAreaInputSchema.parse(req.body),
+      ),
+    )
   })
   return router
 }

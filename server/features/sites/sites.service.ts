@@ -1,8 +1,19 @@
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { type Area, DEFAULT_SITE_POLICY, type Site, type SitePolicy, SitePolicySchema } from '../../../shared/schemas/sites.ts'
+import {
+  type Area,
+  DEFAULT_SITE_POLICY,
+  type Site,
+  type SitePolicy,
+  SitePolicySchema,
+} from '../../../shared/schemas/sites.ts'
 import type { z } from 'zod'
-import type { CreateAreaInputSchema, CreateSiteInputSchema, UpdateAreaInputSchema, UpdateSiteInputSchema } from '../../../shared/schemas/sites.ts'
+import type {
+  CreateAreaInputSchema,
+  CreateSiteInputSchema,
+  UpdateAreaInputSchema,
+  UpdateSiteInputSchema,
+} from '../../../shared/schemas/sites.ts'
 import { allows, authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { SiteRow } from '../../db/schema.ts'
@@ -38,34 +49,71 @@ export async function getSite(deps: AppDeps, ability: AppAbility, id: number): P
   return toSite(row)
 }
 
-export async function createSite(deps: AppDeps, ability: AppAbility, ctx: AuditContext, input: z.infer<typeof CreateSiteInputSchema>): Promise<Site> {
+export async function createSite(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  input: z.infer<typeof CreateSiteInputSchema>,
+): Promise<Site> {
   authorize(ability, 'create', 'Site')
   const exists = await deps.db.selectFrom('site').select('id').where('code', '=', input.code).executeTakeFirst()
   if (exists) throw conflict('A site with this code exists already', { fields: { code: ['Already in use'] } })
   const policy = { ...DEFAULT_SITE_POLICY, ...(input.policy ?? {}) }
   const row = await deps.db.transaction().execute(async (trx) => {
-    const row = await trx.insertInto('site').values({ code: input.code, name: input.name, time_zone: input.timeZone, policy: JSON.stringify(policy), created_at: deps.clock.now() })
-      .returningAll().executeTakeFirstOrThrow()
+    const row = await trx
+      .insertInto('site')
+      .values({
+        code: input.code,
+        name: input.name,
+        time_zone: input.timeZone,
+        policy: JSON.stringify(policy),
+        created_at: deps.clock.now(),
+      })
+      .returningAll()
+      .executeTakeFirstOrThrow()
     // whoever creates a site administers it
-    if (ctx.actorId) await trx.insertInto('role_assignment').values({ user_id: ctx.actorId, site_id: row.id, role: 'admin' }).execute()
-    await appendAudit(trx, deps.clock, ctx, { action: 'site.create', entityType: 'Site', entityId: row.id, after: toSite(row) })
+    if (ctx.actorId)
+      await trx.insertInto('role_assignment').values({ user_id: ctx.actorId, site_id: row.id, role: 'admin' }).execute()
+    await appendAudit(trx, deps.clock, ctx, {
+      action: 'site.create',
+      entityType: 'Site',
+      entityId: row.id,
+      after: toSite(row),
+    })
     return row
   })
   return toSite(row)
 }
 
-export async function updateSite(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number, input: z.infer<typeof UpdateSiteInputSchema>): Promise<Site> {
+export async function updateSite(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+  input: z.infer<typeof UpdateSiteInputSchema>,
+): Promise<Site> {
   authorize(ability, 'update', 'Site', { id })
   const row = await deps.db.transaction().execute(async (trx) => {
     const before = await trx.selectFrom('site').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
     if (!before) throw notFound('Site')
     const policy = { ...policyOf(before), ...(input.policy ?? {}) }
-    const row = await trx.updateTable('site').set({
-      ...(input.name ? { name: input.name } : {}),
-      ...(input.timeZone ? { time_zone: input.timeZone } : {}),
-      policy: JSON.stringify(policy),
-    }).where('id', '=', id).returningAll().executeTakeFirstOrThrow()
-    await appendAudit(trx, deps.clock, ctx, { action: 'site.update', entityType: 'Site', entityId: id, before: toSite(before), after: toSite(row) })
+    const row = await trx
+      .updateTable('site')
+      .set({
+        ...(input.name ? { name: input.name } : {}),
+        ...(input.timeZone ? { time_zone: input.timeZone } : {}),
+        policy: JSON.stringify(policy),
+      })
+      .where('id', '=', id)
+      .returningAll()
+      .executeTakeFirstOrThrow()
+    await appendAudit(trx, deps.clock, ctx, {
+      action: 'site.update',
+      entityType: 'Site',
+      entityId: id,
+      before: toSite(before),
+      after: toSite(row),
+    })
     return row
   })
   return toSite(row)
@@ -75,31 +123,68 @@ export async function listAreas(deps: AppDeps, ability: AppAbility, siteIds?: nu
   let q = deps.db.selectFrom('area').selectAll().orderBy('site_id').orderBy('name')
   if (siteIds?.length) q = q.where('site_id', 'in', siteIds)
   const rows = await q.execute()
-  const items = rows.map((r) => ({ id: r.id, siteId: r.site_id, name: r.name }))
+  const items = rows
+    .map((r) => ({ id: r.id, siteId: r.site_id, name: r.name }))
     .filter((a) => allows(ability, 'read', 'Area', a))
   return { items, total: items.length }
 }
 
-export async function createArea(deps: AppDeps, ability: AppAbility, ctx: AuditContext, input: z.infer<typeof CreateAreaInputSchema>): Promise<Area> {
+export async function createArea(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  input: z.infer<typeof CreateAreaInputSchema>,
+): Promise<Area> {
   authorize(ability, 'create', 'Area', { siteId: input.siteId })
   return deps.db.transaction().execute(async (trx) => {
-    const dup = await trx.selectFrom('area').select('id').where('site_id', '=', input.siteId).where('name', '=', input.name).executeTakeFirst()
+    const dup = await trx
+      .selectFrom('area')
+      .select('id')
+      .where('site_id', '=', input.siteId)
+      .where('name', '=', input.name)
+      .executeTakeFirst()
     if (dup) throw conflict('This site has an area with this name already', { fields: { name: ['Already in use'] } })
-    const row = await trx.insertInto('area').values({ site_id: input.siteId, name: input.name }).returningAll().executeTakeFirstOrThrow()
+    const row = await trx
+      .insertInto('area')
+      .values({ site_id: input.siteId, name: input.name })
+      .returningAll()
+      .executeTakeFirstOrThrow()
     const area = { id: row.id, siteId: row.site_id, name: row.name }
-    await appendAudit(trx, deps.clock, ctx, { action: 'area.create', entityType: 'Area', entityId: row.id, after: area })
+    await appendAudit(trx, deps.clock, ctx, {
+      action: 'area.create',
+      entityType: 'Area',
+      entityId: row.id,
+      after: area,
+    })
     return area
   })
 }
 
-export async function updateArea(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number, input: z.infer<typeof UpdateAreaInputSchema>): Promise<Area> {
+export async function updateArea(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+  input: z.infer<typeof UpdateAreaInputSchema>,
+): Promise<Area> {
   return deps.db.transaction().execute(async (trx) => {
     const before = await trx.selectFrom('area').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
     if (!before) throw notFound('Area')
     authorize(ability, 'update', 'Area', { siteId: before.site_id })
-    const row = await trx.updateTable('area').set({ name: input.name }).where('id', '=', id).returningAll().executeTakeFirstOrThrow()
+    const row = await trx
+      .updateTable('area')
+      .set({ name: input.name })
+      .where('id', '=', id)
+      .returningAll()
+      .executeTakeFirstOrThrow()
     const area = { id: row.id, siteId: row.site_id, name: row.name }
-    await appendAudit(trx, deps.clock, ctx, { action: 'area.update', entityType: 'Area', entityId: id, before: { name: before.name }, after: { name: row.name } })
+    await appendAudit(trx, deps.clock, ctx, {
+      action: 'area.update',
+      entityType: 'Area',
+      entityId: id,
+      before: { name: before.name },
+      after: { name: row.name },
+    })
     return area
   })
 }

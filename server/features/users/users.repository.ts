@@ -6,7 +6,11 @@ import type { RoleAssignment, Role } from '../../../shared/schemas/users.ts'
 type Q = Kysely<Database> | Transaction<Database>
 
 export function findUserByEmail(db: Q, email: string) {
-  return db.selectFrom('app_user').selectAll().where((eb) => eb(eb.fn('lower', ['email']), '=', email.toLowerCase())).executeTakeFirst()
+  return db
+    .selectFrom('app_user')
+    .selectAll()
+    .where((eb) => eb(eb.fn('lower', ['email']), '=', email.toLowerCase()))
+    .executeTakeFirst()
 }
 
 export function findUserById(db: Q, id: number) {
@@ -16,8 +20,13 @@ export function findUserById(db: Q, id: number) {
 export async function findRolesByUserIds(db: Q, ids: number[]): Promise<Map<number, RoleAssignment[]>> {
   const map = new Map<number, RoleAssignment[]>()
   if (!ids.length) return map
-  const rows = await db.selectFrom('role_assignment').select(['user_id', 'site_id', 'role']).where('user_id', 'in', ids)
-    .orderBy('site_id').orderBy('role').execute()
+  const rows = await db
+    .selectFrom('role_assignment')
+    .select(['user_id', 'site_id', 'role'])
+    .where('user_id', 'in', ids)
+    .orderBy('site_id')
+    .orderBy('role')
+    .execute()
   for (const r of rows) {
     const list = map.get(r.user_id) ?? []
     list.push({ siteId: r.site_id, role: r.role as Role })
@@ -29,13 +38,19 @@ export async function findRolesByUserIds(db: Q, ids: number[]): Promise<Map<numb
 export async function replaceRoles(trx: Transaction<Database>, userId: number, roles: RoleAssignment[]) {
   await trx.deleteFrom('role_assignment').where('user_id', '=', userId).execute()
   if (roles.length) {
-    await trx.insertInto('role_assignment').values(roles.map((r) => ({ user_id: userId, site_id: r.siteId, role: r.role }))).execute()
+    await trx
+      .insertInto('role_assignment')
+      .values(roles.map((r) => ({ user_id: userId, site_id: r.siteId, role: r.role })))
+      .execute()
   }
 }
 
-export function listUsers(db: Db, opts: { q?: string, limit: number, offset: number }) {
+export function listUsers(db: Db, opts: { q?: string; limit: number; offset: number }) {
   let query = db.selectFrom('app_user').selectAll()
-  if (opts.q) query = query.where((eb) => eb.or([eb('email', 'ilike', `%${opts.q}%`), eb('display_name', 'ilike', `%${opts.q}%`)]))
+  if (opts.q)
+    query = query.where((eb) =>
+      eb.or([eb('email', 'ilike', `%${opts.q}%`), eb('display_name', 'ilike', `%${opts.q}%`)]),
+    )
   return query.orderBy('display_name').limit(opts.limit).offset(opts.offset).execute()
 }
 
@@ -47,8 +62,13 @@ export async function countUsers(db: Db, q?: string): Promise<number> {
 
 /** Users holding one of the roles at a site (mail recipients). */
 export function findUsersWithRole(db: Q, siteId: number, roles: Role[]) {
-  return db.selectFrom('app_user').innerJoin('role_assignment', 'role_assignment.user_id', 'app_user.id')
-    .select(['app_user.id', 'app_user.email', 'app_user.display_name']).distinct()
-    .where('role_assignment.site_id', '=', siteId).where('role_assignment.role', 'in', roles).where('app_user.active', '=', true)
+  return db
+    .selectFrom('app_user')
+    .innerJoin('role_assignment', 'role_assignment.user_id', 'app_user.id')
+    .select(['app_user.id', 'app_user.email', 'app_user.display_name'])
+    .distinct()
+    .where('role_assignment.site_id', '=', siteId)
+    .where('role_assignment.role', 'in', roles)
+    .where('app_user.active', '=', true)
     .execute()
 }

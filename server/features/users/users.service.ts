@@ -13,13 +13,23 @@ import * as repo from './users.repository.ts'
 type RoleList = User['roles']
 
 function toUser(row: AppUserRow, roles: RoleList): User {
-  return { id: row.id, email: row.email, displayName: row.display_name, active: row.active, roles, createdAt: row.created_at.toISOString() }
+  return {
+    id: row.id,
+    email: row.email,
+    displayName: row.display_name,
+    active: row.active,
+    roles,
+    createdAt: row.created_at.toISOString(),
+  }
 }
 
 export async function listUsers(deps: AppDeps, ability: AppAbility, q: ListQuery): Promise<ListResult<User>> {
   authorize(ability, 'read', 'User', { id: -1 })
   const rows = await repo.listUsers(deps.db, { q: q.q, limit: q.pageSize, offset: (q.page - 1) * q.pageSize })
-  const roles = await repo.findRolesByUserIds(deps.db, rows.map((r) => r.id))
+  const roles = await repo.findRolesByUserIds(
+    deps.db,
+    rows.map((r) => r.id),
+  )
   return { items: rows.map((r) => toUser(r, roles.get(r.id) ?? [])), total: await repo.countUsers(deps.db, q.q) }
 }
 
@@ -40,71 +50,132 @@ async function assertSitesExist(deps: AppDeps, roles: RoleList) {
 /** Admins act on accounts only at sites where they hold the admin role (role assignments are per site, DOMAIN.md §2). */
 function assertAdministers(ability: AppAbility, siteIds: number[]) {
   for (const id of new Set(siteIds)) {
-    if (!allows(ability, 'update', 'Site', { id })) throw new AppError(403, ErrorCode.FORBIDDEN, 'You can manage accounts and roles only at sites you administer')
+    if (!allows(ability, 'update', 'Site', { id }))
+      throw new AppError(403, ErrorCode.FORBIDDEN, 'You can manage accounts and roles only at sites you administer')
   }
 }
 
-export async function createUser(deps: AppDeps, ability: AppAbility, ctx: AuditContext, input: CreateUserInput): Promise<User> {
+export async function createUser(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  input: CreateUserInput,
+): Promise<User> {
   authorize(ability, 'create', 'User')
   await assertSitesExist(deps, input.roles)
-  assertAdministers(ability, input.roles.map((r) => r.siteId))
-  if (await repo.findUserByEmail(deps.db, input.email)) throw conflict('An account with this e-mail address exists already', { fields: { email: ['Already in use'] } })
+  assertAdministers(
+    ability,
+    input.roles.map((r) => r.siteId),
+  )
+  if (await repo.findUserByEmail(deps.db, input.email))
+    throw conflict('An account with this e-mail address exists already', { fields: { email: ['Already in use'] } })
   const hash = await hashPassword(input.password)
   const now = deps.clock.now()
   const id = await deps.db.transaction().execute(async (trx) => {
-    const { id } = await trx.insertInto('app_user').values({ email: input.email, display_name: input.displayName, password_hash: hash, created_at: now, updated_at: now })
-      .returning('id').executeTakeFirstOrThrow()
+    const { id } = await trx
+      .insertInto('app_user')
+      .values({
+        email: input.email,
+        display_name: input.displayName,
+        password_hash: hash,
+        created_at: now,
+        updated_at: now,
+      })
+      .returning('id')
+      .executeTakeFirstOrThrow()
     await repo.replaceRoles(trx, id, input.roles)
-    await appendAudit(trx, deps.clock, ctx, { action: 'user.create', entityType: 'User', entityId: id, after: { email: input.email, displayName: input.displayName, roles: input.roles } })
+    await appendAudit(trx, deps.clock, ctx, {
+      action: 'user.create',
+      entityType: 'User',
+      entityId: id,
+      after: { email: input.email, displayName: input.displayName, roles: input.roles },
+    })
     return id
   })
   return getUser(deps, ability, id)
 }
 
-export async function updateUser(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number, input: UpdateUserInput): Promise<User> {
+export async function updateUser(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+  input: UpdateUserInput,
+): Promise<User> {
   authorize(ability, 'update', 'User', { id })
   const current = (await repo.findRolesByUserIds(deps.db, [id])).get(id) ?? []
   // name, active flag and password belong to the whole account: every site where it holds a role must be the admin's
-  if (input.displayName !== undefined || input.active !== undefined || input.password !== undefined) assertAdministers(ability, current.map((r) => r.siteId))
+  if (input.displayName !== undefined || input.active !== undefined || input.password !== undefined)
+    assertAdministers(
+      ability,
+      current.map((r) => r.siteId),
+    )
   if (input.roles) {
     authorize(ability, 'assign_roles', 'User', { id })
     await assertSitesExist(deps, input.roles)
     // only the assignments that change count: added ones and removed ones
-    const key = (r: { siteId: number, role: string }) => `${r.siteId}:${r.role}`
+    const key = (r: { siteId: number; role: string }) => `${r.siteId}:${r.role}`
     const was = new Set(current.map(key))
     const will = new Set(input.roles.map(key))
-    assertAdministers(ability, [...current.filter((r) => !will.has(key(r))), ...input.roles.filter((r) => !was.has(key(r)))].map((r) => r.siteId))
+    assertAdministers(
+      ability,
+      [...current.filter((r) => !will.has(key(r))), ...input.roles.filter((r) => !was.has(key(r)))].map(
+        (r) => r.siteId,
+      ),
+    )
   }
-  if (input.active === false && ctx.actorId === id) throw new AppError(403, ErrorCode.FORBIDDEN, 'You cannot deactivate your own account')
+  if (input.active === false && ctx.actorId === id)
+    throw new AppError(403, ErrorCode.FORBIDDEN, 'You cannot deactivate your own account')
   const hash = input.password ? await hashPassword(input.password) : undefined
   await deps.db.transaction().execute(async (trx) => {
     const before = await trx.selectFrom('app_user').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
     if (!before) throw notFound('User')
     const beforeRoles = (await repo.findRolesByUserIds(trx, [id])).get(id) ?? []
-    await trx.updateTable('app_user').set({
-      ...(input.displayName !== undefined ? { display_name: input.displayName } : {}),
-      ...(input.active !== undefined ? { active: input.active } : {}),
-      ...(hash ? { password_hash: hash } : {}),
-      updated_at: deps.clock.now(),
-    }).where('id', '=', id).execute()
+    await trx
+      .updateTable('app_user')
+      .set({
+        ...(input.displayName !== undefined ? { display_name: input.displayName } : {}),
+        ...(input.active !== undefined ? { active: input.active } : {}),
+        ...(hash ? { password_hash: hash } : {}),
+        updated_at: deps.clock.now(),
+      })
+      .where('id', '=', id)
+      .execute()
     if (input.roles) await repo.replaceRoles(trx, id, input.roles)
     await appendAudit(trx, deps.clock, ctx, {
-      action: hash ? 'user.password_reset' : 'user.update', entityType: 'User', entityId: id,
+      action: hash ? 'user.password_reset' : 'user.update',
+      entityType: 'User',
+      entityId: id,
       before: { displayName: before.display_name, active: before.active, roles: beforeRoles },
-      after: { displayName: input.displayName ?? before.display_name, active: input.active ?? before.active, roles: input.roles ?? beforeRoles },
+      after: {
+        displayName: input.displayName ?? before.display_name,
+        active: input.active ?? before.active,
+        roles: input.roles ?? beforeRoles,
+      },
     })
   })
   return getUser(deps, ability, id)
 }
 
 /** Anyone changes their own password; the current one is required. */
-export async function changeOwnPassword(deps: AppDeps, ctx: AuditContext, userId: number, current: string, next: string) {
+export async function changeOwnPassword(
+  deps: AppDeps,
+  ctx: AuditContext,
+  userId: number,
+  current: string,
+  next: string,
+) {
   const user = await repo.findUserById(deps.db, userId)
   if (!user) throw notFound('User')
-  if (!(await verifyPassword(user.password_hash, current))) throw validationFailed({ currentPassword: ['The current password is wrong'] })
+  if (!(await verifyPassword(user.password_hash, current)))
+    throw validationFailed({ currentPassword: ['The current password is wrong'] })
   const hash = await hashPassword(next)
   await deps.db.transaction().execute(async (trx) => {
-    await trx.updateTable('app_user').set({ password_hash: hash, updated_at: deps.clock.now() }).where('id', '=', userId).execute()
+    await trx
+      .updateTable('app_user')
+      .set({ password_hash: hash, updated_at: deps.clock.now() })
+      .where('id', '=', userId)
+      .execute()
     await appendAudit(trx, deps.clock, ctx, { action: 'user.password_change', entityType: 'User', entityId: userId })
   })
 }

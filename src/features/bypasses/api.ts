@@ -29,7 +29,11 @@ export interface RequestBypassBody {
   changeRequestId: number | null
 }
 
-export interface RemoveBypassBody { pvClearConfirmed: true, protectionRestoredConfirmed: true, note: string }
+export interface RemoveBypassBody {
+  pvClearConfirmed: true
+  protectionRestoredConfirmed: true
+  note: string
+}
 
 export interface ReviewKpis {
   activeNow: number
@@ -44,18 +48,22 @@ export interface ReviewKpis {
 }
 
 export interface BypassReview {
-  period: { from: string, to: string }
+  period: { from: string; to: string }
   kpis: ReviewKpis
   charts: {
-    hoursPerMonth: { month: string, hours: number }[]
-    topLimits: { limitId: number, tag: string, hours: number }[]
-    overduePerMonth: { month: string, count: number }[]
+    hoursPerMonth: { month: string; hours: number }[]
+    topLimits: { limitId: number; tag: string; hours: number }[]
+    overduePerMonth: { month: string; count: number }[]
   }
   items: BypassDto[]
 }
 
 export type SilBand = 1 | 2 | 3 | 4 | 'none'
-export interface PfdFigures { pfd: number, rrf: number, band: SilBand }
+export interface PfdFigures {
+  pfd: number
+  rrf: number
+  band: SilBand
+}
 
 export interface RiskRow {
   limitId: number
@@ -73,51 +81,99 @@ export interface RiskRow {
   designBelowTarget: boolean
 }
 
-export interface RiskErosion { period: { from: string, to: string, hours: number }, items: RiskRow[], caution: string }
+export interface RiskErosion {
+  period: { from: string; to: string; hours: number }
+  items: RiskRow[]
+  caution: string
+}
 
 export interface ProtectionState {
-  area: { id: number, name: string, siteId: number, siteName: string, timeZone: string }
+  area: { id: number; name: string; siteId: number; siteName: string; timeZone: string }
   at: string
   bypasses: BypassDto[]
-  degraded: { limitId: number, tag: string, since: string, reasons: string[], compensatingMeasures: string[] | null, repairDeadline: string | null, measuresSignedBy: string | null }[]
-  overdueTests: { limitId: number, tag: string, testStatus: string, dueDate: string | null, sil: number | null }[]
-  temporaryChanges: { id: number, title: string, status: string, expiresAt: string | null }[]
+  degraded: {
+    limitId: number
+    tag: string
+    since: string
+    reasons: string[]
+    compensatingMeasures: string[] | null
+    repairDeadline: string | null
+    measuresSignedBy: string | null
+  }[]
+  overdueTests: { limitId: number; tag: string; testStatus: string; dueDate: string | null; sil: number | null }[]
+  temporaryChanges: { id: number; title: string; status: string; expiresAt: string | null }[]
   contentHash: string
-  acknowledgements: { id: number, at: string, by: string, contentHash: string }[]
+  acknowledgements: { id: number; at: string; by: string; contentHash: string }[]
 }
 
 /** One row of the trip-test schedule (used for the overdue tests on the home page). */
-export interface ScheduleRow { limitId: number, tag: string, siteId: number, siteCode: string, areaName: string, testStatus: string, dueDate: string | null }
+export interface ScheduleRow {
+  limitId: number
+  tag: string
+  siteId: number
+  siteCode: string
+  areaName: string
+  testStatus: string
+  dueDate: string | null
+}
 
 /** A temporary change request a long bypass may be linked to. */
-export interface TemporaryChange { id: number, title: string, status: string, siteId: number, expiresAt: string | null }
+export interface TemporaryChange {
+  id: number
+  title: string
+  status: string
+  siteId: number
+  expiresAt: string | null
+}
 
-export const listBypasses = (query: BypassFilters & { page?: number, pageSize?: number }) => http.get<ListResult<BypassDto>>('/bypasses', { ...query })
+export const listBypasses = (query: BypassFilters & { page?: number; pageSize?: number }) =>
+  http.get<ListResult<BypassDto>>('/bypasses', { ...query })
 export const getBypass = (id: number) => http.get<BypassDto>(`/bypasses/${id}`)
 export const requestBypass = (body: RequestBypassBody) => http.post<BypassDto>('/bypasses', body)
-export const authorizeBypass = (id: number, body: { password: string, comment: string, hours?: number }) => http.post<BypassDto>(`/bypasses/${id}/authorizations`, body)
-export const rejectBypass = (id: number, body: { password: string, comment: string }) => http.post<BypassDto>(`/bypasses/${id}/rejections`, body)
+export const authorizeBypass = (id: number, body: { password: string; comment: string; hours?: number }) =>
+  http.post<BypassDto>(`/bypasses/${id}/authorizations`, body)
+export const rejectBypass = (id: number, body: { password: string; comment: string }) =>
+  http.post<BypassDto>(`/bypasses/${id}/rejections`, body)
 export const activateBypass = (id: number) => http.post<BypassDto>(`/bypasses/${id}/activation`)
-export const removeBypass = (id: number, body: RemoveBypassBody) => http.post<BypassDto>(`/bypasses/${id}/removal`, body)
+export const removeBypass = (id: number, body: RemoveBypassBody) =>
+  http.post<BypassDto>(`/bypasses/${id}/removal`, body)
 export const cancelBypass = (id: number) => http.post<BypassDto>(`/bypasses/${id}/cancellation`)
 
 export const getBypassReview = (filters: BypassFilters) => http.get<BypassReview>('/bypass-review', { ...filters })
-export const getRiskErosion = (query: { siteId?: number[], areaId?: number[], from?: string, to?: string }) => http.get<RiskErosion>('/bypass-review/risk', { ...query })
+export const getRiskErosion = (query: { siteId?: number[]; areaId?: number[]; from?: string; to?: string }) =>
+  http.get<RiskErosion>('/bypass-review/risk', { ...query })
 /** Address of the review's export (a download link). */
-export const reviewExportUrl = (format: 'csv' | 'pdf', filters: BypassFilters) => `/api/bypass-review/export${toQuery({ ...filters, format })}`
+export const reviewExportUrl = (format: 'csv' | 'pdf', filters: BypassFilters) =>
+  `/api/bypass-review/export${toQuery({ ...filters, format })}`
 
 export const getProtectionState = (areaId: number) => http.get<ProtectionState>('/protection-state', { areaId })
-export const acknowledgeHandover = (areaId: number, password: string) => http.post<ProtectionState>('/protection-state/acknowledgements', { areaId, password })
+export const acknowledgeHandover = (areaId: number, password: string) =>
+  http.post<ProtectionState>('/protection-state/acknowledgements', { areaId, password })
 
 // Register records the bypass screens need.
 export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
-export const listActiveLimits = (query: { siteId?: number[], q?: string }) =>
-  http.get<ListResult<Limit>>('/limits', { siteId: query.siteId, status: ['active'], q: query.q, pageSize: 200, sort: 'tag' })
-export const searchLimits = (query: { siteId?: number[], q?: string }) =>
+export const listActiveLimits = (query: { siteId?: number[]; q?: string }) =>
+  http.get<ListResult<Limit>>('/limits', {
+    siteId: query.siteId,
+    status: ['active'],
+    q: query.q,
+    pageSize: 200,
+    sort: 'tag',
+  })
+export const searchLimits = (query: { siteId?: number[]; q?: string }) =>
   http.get<ListResult<Limit>>('/limits', { siteId: query.siteId, q: query.q, pageSize: 50, sort: 'tag' })
-export const listDegradedLimits = () => http.get<ListResult<Limit>>('/limits', { status: ['active'], protectionState: ['degraded'], pageSize: 20 })
-export const getInstrumentTag = (id: number) => http.get<{ id: number, tag: string }>(`/instruments/${id}`)
-export const listProcesses = (query: { siteId?: number[], areaId?: number[] }) => http.get<ListResult<Process>>('/processes', { ...query, pageSize: 200 })
-export const listOverdueTests = () => http.get<{ items: ScheduleRow[], total: number }>('/trip-tests/schedule', { status: ['overdue'] })
+export const listDegradedLimits = () =>
+  http.get<ListResult<Limit>>('/limits', { status: ['active'], protectionState: ['degraded'], pageSize: 20 })
+export const getInstrumentTag = (id: number) => http.get<{ id: number; tag: string }>(`/instruments/${id}`)
+export const listProcesses = (query: { siteId?: number[]; areaId?: number[] }) =>
+  http.get<ListResult<Process>>('/processes', { ...query, pageSize: 200 })
+export const listOverdueTests = () =>
+  http.get<{ items: ScheduleRow[]; total: number }>('/trip-tests/schedule', { status: ['overdue'] })
 export const listTemporaryChanges = (siteId: number) =>
-  http.get<ListResult<TemporaryChange>>('/change-requests', { view: 'all', type: ['temporary'], status: ['approved', 'implemented', 'closed'], siteId: [siteId], pageSize: 100 })
+  http.get<ListResult<TemporaryChange>>('/change-requests', {
+    view: 'all',
+    type: ['temporary'],
+    status: ['approved', 'implemented', 'closed'],
+    siteId: [siteId],
+    pageSize: 100,
+  })

@@ -1,6 +1,13 @@
 import { TZDate } from '@date-fns/tz'
 import {
-  mdiCancel, mdiCheckCircleOutline, mdiClockAlertOutline, mdiCloseCircleOutline, mdiPauseCircleOutline, mdiProgressClock, mdiShieldCheckOutline, mdiTimerSandComplete,
+  mdiCancel,
+  mdiCheckCircleOutline,
+  mdiClockAlertOutline,
+  mdiCloseCircleOutline,
+  mdiPauseCircleOutline,
+  mdiProgressClock,
+  mdiShieldCheckOutline,
+  mdiTimerSandComplete,
 } from '@mdi/js'
 import type { BypassDto, BypassStatus } from '@shared/schemas/bypasses.ts'
 import type { SitePolicy } from '@shared/schemas/sites.ts'
@@ -9,13 +16,27 @@ import type { Role, RoleAssignment } from '@shared/schemas/users.ts'
 // Labels, colours and number formatting of the bypass screens.
 
 export const STATUS_LABELS: Record<BypassStatus, string> = {
-  requested: 'Waiting for authorization', authorized: 'Authorized, not yet in force', rejected: 'Rejected', active: 'Bypassed now',
-  removed: 'Removed', cancelled: 'Cancelled', lapsed: 'Lapsed',
+  requested: 'Waiting for authorization',
+  authorized: 'Authorized, not yet in force',
+  rejected: 'Rejected',
+  active: 'Bypassed now',
+  removed: 'Removed',
+  cancelled: 'Cancelled',
+  lapsed: 'Lapsed',
 }
 export const STATUS_SHORT: Record<BypassStatus, string> = {
-  requested: 'Requested', authorized: 'Authorized', rejected: 'Rejected', active: 'Active', removed: 'Removed', cancelled: 'Cancelled', lapsed: 'Lapsed',
+  requested: 'Requested',
+  authorized: 'Authorized',
+  rejected: 'Rejected',
+  active: 'Active',
+  removed: 'Removed',
+  cancelled: 'Cancelled',
+  lapsed: 'Lapsed',
 }
-export const STATUS_STYLE: Record<BypassStatus, { color: string, variant: 'flat' | 'tonal' | 'outlined', icon: string }> = {
+export const STATUS_STYLE: Record<
+  BypassStatus,
+  { color: string; variant: 'flat' | 'tonal' | 'outlined'; icon: string }
+> = {
   requested: { color: 'info', variant: 'tonal', icon: mdiProgressClock },
   authorized: { color: 'primary', variant: 'tonal', icon: mdiCheckCircleOutline },
   rejected: { color: 'secondary', variant: 'outlined', icon: mdiCloseCircleOutline },
@@ -27,7 +48,15 @@ export const STATUS_STYLE: Record<BypassStatus, { color: string, variant: 'flat'
 export const OVERDUE_STYLE = { color: 'error', variant: 'flat' as const, icon: mdiClockAlertOutline }
 
 /** The order of the list: what is in force first (overdue before active), then what waits for a decision, then history. */
-export const STATUS_RANK: Record<BypassStatus, number> = { active: 1, authorized: 2, requested: 3, removed: 4, lapsed: 5, rejected: 6, cancelled: 7 }
+export const STATUS_RANK: Record<BypassStatus, number> = {
+  active: 1,
+  authorized: 2,
+  requested: 3,
+  removed: 4,
+  lapsed: 5,
+  rejected: 6,
+  cancelled: 7,
+}
 export const rank = (b: BypassDto) => (b.overdue ? 0 : STATUS_RANK[b.status])
 
 export const MEANING_LABELS: Record<string, string> = { authorized: 'Authorized', rejected: 'Rejected' }
@@ -46,7 +75,13 @@ export function dateTimeIn(iso: string | null | undefined, timeZone: string | un
   if (!iso) return '—'
   try {
     return new Intl.DateTimeFormat('en-GB', {
-      year: 'numeric', month: 'short', day: 'numeric', hour: '2-digit', minute: '2-digit', timeZone: timeZone ?? 'UTC', timeZoneName: 'short',
+      year: 'numeric',
+      month: 'short',
+      day: 'numeric',
+      hour: '2-digit',
+      minute: '2-digit',
+      timeZone: timeZone ?? 'UTC',
+      timeZoneName: 'short',
     }).format(new Date(iso))
   } catch {
     return iso
@@ -57,7 +92,14 @@ export function dateTimeIn(iso: string | null | undefined, timeZone: string | un
 export function shortDateTimeIn(iso: string | null | undefined, timeZone: string | undefined): string {
   if (!iso) return '—'
   try {
-    return new Intl.DateTimeFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric', hour: '2-digit', minute: '2-digit', timeZone: timeZone ?? 'UTC' }).format(new Date(iso))
+    return new Intl.DateTimeFormat('en-GB', {
+      year: 'numeric',
+      month: 'short',
+      day: 'numeric',
+      hour: '2-digit',
+      minute: '2-digit',
+      timeZone: timeZone ?? 'UTC',
+    }).format(new Date(iso))
   } catch {
     return iso
   }
@@ -67,7 +109,9 @@ export function shortDateTimeIn(iso: string | null | undefined, timeZone: string
 export function dateText(d: string | null | undefined): string {
   if (!d) return '—'
   const [y, m, day] = d.slice(0, 10).split('-').map(Number)
-  return new Intl.DateTimeFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric', timeZone: 'UTC' }).format(new Date(Date.UTC(y, m - 1, day)))
+  return new Intl.DateTimeFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric', timeZone: 'UTC' }).format(
+    new Date(Date.UTC(y, m - 1, day)),
+  )
 }
 
 /** `2026-05-04T08:30` (the value of a datetime-local input) for an instant, in the site's time zone. */
@@ -85,7 +129,19 @@ export function fromLocalInput(value: string, timeZone: string): Date | null {
   return Number.isNaN(z.getTime()) ? null : new Date(z.getTime())
 }
 
-const SUPERSCRIPT: Record<string, string> = { '-': '⁻', 0: '⁰', 1: '¹', 2: '²', 3: '³', 4: '⁴', 5: '⁵', 6: '⁶', 7: '⁷', 8: '⁸', 9: '⁹' }
+const SUPERSCRIPT: Record<string, string> = {
+  '-': '⁻',
+  0: '⁰',
+  1: '¹',
+  2: '²',
+  3: '³',
+  4: '⁴',
+  5: '⁵',
+  6: '⁶',
+  7: '⁷',
+  8: '⁸',
+  9: '⁹',
+}
 
 /** Scientific notation as people write it: `2.3 × 10⁻³`. */
 export function sci(v: number | null | undefined, digits = 2): string {
@@ -94,7 +150,10 @@ export function sci(v: number | null | undefined, digits = 2): string {
   const [mant, exp] = v.toExponential(digits - 1).split('e')
   const e = Number(exp)
   if (e === 0) return mant
-  return `${mant} × 10${String(e).split('').map((c) => SUPERSCRIPT[c] ?? c).join('')}`
+  return `${mant} × 10${String(e)
+    .split('')
+    .map((c) => SUPERSCRIPT[c] ?? c)
+    .join('')}`
 }
 
 /** A risk reduction factor, rounded to a readable figure. */

@@ -22,7 +22,17 @@ export interface ItemDraft {
 
 let nextKey = 1
 export function newDraft(kind: ItemKind, init: Partial<ItemDraft> = {}): ItemDraft {
-  return { key: nextKey++, kind, limitId: null, instrumentId: null, fields: [], values: {}, limit: null, instrument: null, ...init }
+  return {
+    key: nextKey++,
+    kind,
+    limitId: null,
+    instrumentId: null,
+    fields: [],
+    values: {},
+    limit: null,
+    instrument: null,
+    ...init,
+  }
 }
 
 /** A stored value as the form edits it. */
@@ -43,7 +53,11 @@ export function toApiValue(key: string, v: unknown): unknown {
     const n = Number(t)
     return Number.isFinite(n) ? n : t
   }
-  if (spec?.input === 'list') return String(v ?? '').split('\n').map((s) => s.trim()).filter(Boolean)
+  if (spec?.input === 'list')
+    return String(v ?? '')
+      .split('\n')
+      .map((s) => s.trim())
+      .filter(Boolean)
   if (spec?.input === 'text' || spec?.input === 'textarea') return String(v ?? '').trim()
   return v
 }
@@ -57,7 +71,8 @@ export function currentValue(item: ItemDraft, key: string): unknown {
 /** The item as the API takes it; null while its limit or instrument is not chosen. */
 export function toItemBody(item: ItemDraft): ChangeItemBody | null {
   const changes = () => Object.fromEntries(item.fields.map((f) => [f, toApiValue(f, item.values[f])]))
-  if (item.kind === 'instrument') return item.instrumentId ? { kind: 'instrument', instrumentId: item.instrumentId, changes: changes() } : null
+  if (item.kind === 'instrument')
+    return item.instrumentId ? { kind: 'instrument', instrumentId: item.instrumentId, changes: changes() } : null
   if (!item.limitId) return null
   if (item.kind === 'modify') return { kind: 'modify', limitId: item.limitId, changes: changes() }
   return { kind: item.kind, limitId: item.limitId }
@@ -68,7 +83,9 @@ export function fromItemDto(i: ChangeItemDto): ItemDraft {
   const editable = i.kind === 'modify' || i.kind === 'instrument'
   const fields = editable ? orderedKeys(i.changes) : []
   return newDraft(i.kind, {
-    limitId: i.limitId, instrumentId: i.instrumentId, fields,
+    limitId: i.limitId,
+    instrumentId: i.instrumentId,
+    fields,
     values: Object.fromEntries(fields.map((f) => [f, toEditValue(f, i.changes[f].to)])),
   })
 }

@@ -8,22 +8,44 @@ import type { ChangeType } from './api'
 // Labels, field descriptions and value formatting of the change screens.
 
 export const STATUS_LABELS: Record<ChangeStatus, string> = {
-  draft: 'Draft', submitted: 'Waiting for approval', approved: 'Approved', rejected: 'Rejected', implemented: 'Implemented', closed: 'Closed', withdrawn: 'Withdrawn',
+  draft: 'Draft',
+  submitted: 'Waiting for approval',
+  approved: 'Approved',
+  rejected: 'Rejected',
+  implemented: 'Implemented',
+  closed: 'Closed',
+  withdrawn: 'Withdrawn',
 }
 export const STATUS_COLORS: Record<ChangeStatus, string> = {
-  draft: 'secondary', submitted: 'info', approved: 'primary', rejected: 'error', implemented: 'success', closed: 'success', withdrawn: 'secondary',
+  draft: 'secondary',
+  submitted: 'info',
+  approved: 'primary',
+  rejected: 'error',
+  implemented: 'success',
+  closed: 'success',
+  withdrawn: 'secondary',
 }
-export const TYPE_LABELS: Record<ChangeType, string> = { permanent: 'Permanent', temporary: 'Temporary', emergency: 'Emergency' }
-export const TYPE_STYLE: Record<ChangeType, { color: string, variant: 'flat' | 'tonal' | 'outlined', icon: string }> = {
+export const TYPE_LABELS: Record<ChangeType, string> = {
+  permanent: 'Permanent',
+  temporary: 'Temporary',
+  emergency: 'Emergency',
+}
+export const TYPE_STYLE: Record<ChangeType, { color: string; variant: 'flat' | 'tonal' | 'outlined'; icon: string }> = {
   permanent: { color: 'primary', variant: 'outlined', icon: mdiSwapHorizontal },
   temporary: { color: 'warning', variant: 'tonal', icon: mdiCalendarClockOutline },
   emergency: { color: 'error', variant: 'flat', icon: mdiAlertDecagramOutline },
 }
 export const KIND_LABELS: Record<ChangeItemDto['kind'], string> = {
-  create: 'New limit', modify: 'Changed limit', retire: 'Retired limit', instrument: 'Changed instrument',
+  create: 'New limit',
+  modify: 'Changed limit',
+  retire: 'Retired limit',
+  instrument: 'Changed instrument',
 }
 export const MEANING_LABELS: Record<string, string> = {
-  approved: 'Approved', rejected: 'Rejected', implemented: 'Implemented and read back', closed: 'Closed after the safety review',
+  approved: 'Approved',
+  rejected: 'Rejected',
+  implemented: 'Implemented and read back',
+  closed: 'Closed after the safety review',
 }
 
 /** How a field is edited and shown: its label, its unit (`eu` = the instrument's unit) and its input. */
@@ -32,15 +54,30 @@ export interface FieldSpec {
   label: string
   input: 'number' | 'text' | 'textarea' | 'bool' | 'select' | 'list'
   unit?: 'eu' | 's' | 'min' | 'h' | 'months' | 'days'
-  options?: { title: string, value: string | number | null }[]
+  options?: { title: string; value: string | number | null }[]
   integer?: boolean
   optional?: boolean
 }
 
-const SEVERITY_OPTIONS = [{ title: 'Minor', value: 'minor' }, { title: 'Moderate', value: 'moderate' }, { title: 'Major', value: 'major' }, { title: 'Severe', value: 'severe' }]
-const DEADBAND_UNIT_OPTIONS = [{ title: 'Engineering units', value: 'eu' }, { title: '% of span', value: 'percent_span' }]
-const RESET_OPTIONS = [{ title: 'Nobody (not latching)', value: null }, ...RESET_ROLES.map((r) => ({ title: ROLE_LABELS[r], value: r }))]
-const BURNOUT_OPTIONS = [{ title: 'Upscale', value: 'upscale' }, { title: 'Downscale', value: 'downscale' }, { title: 'None', value: 'none' }]
+const SEVERITY_OPTIONS = [
+  { title: 'Minor', value: 'minor' },
+  { title: 'Moderate', value: 'moderate' },
+  { title: 'Major', value: 'major' },
+  { title: 'Severe', value: 'severe' },
+]
+const DEADBAND_UNIT_OPTIONS = [
+  { title: 'Engineering units', value: 'eu' },
+  { title: '% of span', value: 'percent_span' },
+]
+const RESET_OPTIONS = [
+  { title: 'Nobody (not latching)', value: null },
+  ...RESET_ROLES.map((r) => ({ title: ROLE_LABELS[r], value: r })),
+]
+const BURNOUT_OPTIONS = [
+  { title: 'Upscale', value: 'upscale' },
+  { title: 'Downscale', value: 'downscale' },
+  { title: 'None', value: 'none' },
+]
 
 /** Fields of an active limit a change may set. */
 export const LIMIT_FIELDS: FieldSpec[] = [
@@ -85,21 +122,62 @@ const ALL_FIELDS = new Map([...LIMIT_FIELDS, ...INSTRUMENT_FIELDS].map((f) => [f
 /** Fields shown in diffs but not edited through a change (a new limit carries them all). */
 const OTHER_FIELDS: FieldSpec[] = [
   { key: 'tag', label: 'Tag', input: 'text' },
-  { key: 'direction', label: 'Direction', input: 'select', options: [{ title: 'High', value: 'high' }, { title: 'Low', value: 'low' }] },
-  { key: 'limitClass', label: 'Class', input: 'select', options: [{ title: 'Alarm', value: 'alarm' }, { title: 'Trip', value: 'trip' }] },
-  { key: 'sil', label: 'SIL', input: 'select', options: [{ title: 'Not SIL-rated', value: null }, { title: 'SIL 1', value: 1 }, { title: 'SIL 2', value: 2 }, { title: 'SIL 3', value: 3 }] },
+  {
+    key: 'direction',
+    label: 'Direction',
+    input: 'select',
+    options: [
+      { title: 'High', value: 'high' },
+      { title: 'Low', value: 'low' },
+    ],
+  },
+  {
+    key: 'limitClass',
+    label: 'Class',
+    input: 'select',
+    options: [
+      { title: 'Alarm', value: 'alarm' },
+      { title: 'Trip', value: 'trip' },
+    ],
+  },
+  {
+    key: 'sil',
+    label: 'SIL',
+    input: 'select',
+    options: [
+      { title: 'Not SIL-rated', value: null },
+      { title: 'SIL 1', value: 1 },
+      { title: 'SIL 2', value: 2 },
+      { title: 'SIL 3', value: 3 },
+    ],
+  },
 ]
 const DIFF_ORDER = ['tag', 'description', 'direction', 'limitClass', 'sil', 'processId', 'instrumentIds']
 for (const f of OTHER_FIELDS) ALL_FIELDS.set(f.key, f)
 
 const OTHER_LABELS: Record<string, string> = {
-  tag: 'Tag', processId: 'Process', instrumentIds: 'Instruments', direction: 'Direction', limitClass: 'Class', sil: 'SIL', subsystems: 'Subsystems',
-  codeSetInterval: 'Interval set by code', status: 'Status', signal: 'Input signal', measuredVariable: 'Measured variable',
-  pressureReference: 'Pressure reference', deviceKind: 'Device', deviceDescription: 'Device description',
+  tag: 'Tag',
+  processId: 'Process',
+  instrumentIds: 'Instruments',
+  direction: 'Direction',
+  limitClass: 'Class',
+  sil: 'SIL',
+  subsystems: 'Subsystems',
+  codeSetInterval: 'Interval set by code',
+  status: 'Status',
+  signal: 'Input signal',
+  measuredVariable: 'Measured variable',
+  pressureReference: 'Pressure reference',
+  deviceKind: 'Device',
+  deviceDescription: 'Device description',
 }
 
-export function fieldSpec(key: string): FieldSpec | undefined { return ALL_FIELDS.get(key) }
-export function fieldLabel(key: string): string { return ALL_FIELDS.get(key)?.label ?? OTHER_LABELS[key] ?? key }
+export function fieldSpec(key: string): FieldSpec | undefined {
+  return ALL_FIELDS.get(key)
+}
+export function fieldLabel(key: string): string {
+  return ALL_FIELDS.get(key)?.label ?? OTHER_LABELS[key] ?? key
+}
 
 /** The unit shown after a value of the field (`eu` resolved to the instrument's unit). */
 export function unitOf(key: string, unit: string, context: Record<string, unknown> = {}): string {
@@ -111,11 +189,16 @@ export function unitOf(key: string, unit: string, context: Record<string, unknow
 
 function signalText(s: Signal): string {
   switch (s.kind) {
-    case 'thermocouple': return `Thermocouple type ${s.tcType}${s.headTransmitter ? ', head transmitter' : ''}`
-    case 'rtd': return `${s.element} RTD, ${s.wires}-wire`
-    case 'current': return `4–20 mA${s.sqrtExtraction ? ', square root' : ''}`
-    case 'voltage': return `${s.low}–${s.high} V`
-    case 'switch': return 'Discrete switch'
+    case 'thermocouple':
+      return `Thermocouple type ${s.tcType}${s.headTransmitter ? ', head transmitter' : ''}`
+    case 'rtd':
+      return `${s.element} RTD, ${s.wires}-wire`
+    case 'current':
+      return `4–20 mA${s.sqrtExtraction ? ', square root' : ''}`
+    case 'voltage':
+      return `${s.low}–${s.high} V`
+    case 'switch':
+      return 'Discrete switch'
   }
 }
 
@@ -129,8 +212,12 @@ export function valueText(key: string, v: unknown, unit = ''): string {
     if (o) return o.title
   }
   if (key === 'signal' && typeof v === 'object' && v && 'kind' in v) return signalText(v as Signal)
-  if (key === 'subsystems' && Array.isArray(v)) return v.length ? v.map((s: { role?: string, architecture?: string }) => `${s.role} ${s.architecture}`).join('; ') : '—'
-  if (Array.isArray(v)) return v.length ? v.map((x) => (typeof x === 'object' ? JSON.stringify(x) : String(x))).join('; ') : '—'
+  if (key === 'subsystems' && Array.isArray(v))
+    return v.length
+      ? v.map((s: { role?: string; architecture?: string }) => `${s.role} ${s.architecture}`).join('; ')
+      : '—'
+  if (Array.isArray(v))
+    return v.length ? v.map((x) => (typeof x === 'object' ? JSON.stringify(x) : String(x))).join('; ') : '—'
   if (typeof v === 'object') return JSON.stringify(v)
   const text = typeof v === 'number' ? String(v).replace('-', '−') : String(v)
   return unit ? `${text} ${unit}` : text
@@ -152,7 +239,14 @@ export function dateTimeIn(iso: string | null | undefined, timeZone: string | un
   try {
     // dateStyle/timeStyle cannot be combined with timeZoneName, so the parts are named one by one
     return new Intl.DateTimeFormat('en-GB', {
-      year: 'numeric', month: 'short', day: 'numeric', hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZone: timeZone ?? 'UTC', timeZoneName: 'short',
+      year: 'numeric',
+      month: 'short',
+      day: 'numeric',
+      hour: '2-digit',
+      minute: '2-digit',
+      hourCycle: 'h23',
+      timeZone: timeZone ?? 'UTC',
+      timeZoneName: 'short',
     }).format(new Date(iso))
   } catch {
     return iso
@@ -163,7 +257,15 @@ export function dateTimeIn(iso: string | null | undefined, timeZone: string | un
 export function shortDateTimeIn(iso: string | null | undefined, timeZone: string | undefined): string {
   if (!iso) return '—'
   try {
-    return new Intl.DateTimeFormat('en-GB', { day: 'numeric', month: 'short', year: '2-digit', hour: '2-digit', minute: '2-digit', hourCycle: 'h23', timeZone: timeZone ?? 'UTC' }).format(new Date(iso))
+    return new Intl.DateTimeFormat('en-GB', {
+      day: 'numeric',
+      month: 'short',
+      year: '2-digit',
+      hour: '2-digit',
+      minute: '2-digit',
+      hourCycle: 'h23',
+      timeZone: timeZone ?? 'UTC',
+    }).format(new Date(iso))
   } catch {
     return iso
   }
@@ -182,9 +284,19 @@ export function sizeText(bytes: number): string {
 /** An instant as a `datetime-local` input shows it, in the site's time zone. */
 export function toSiteInput(iso: string | null, timeZone: string | undefined): string {
   if (!iso) return ''
-  const parts = Object.fromEntries(new Intl.DateTimeFormat('en-CA', {
-    timeZone: timeZone ?? 'UTC', year: 'numeric', month: '2-digit', day: '2-digit', hour: '2-digit', minute: '2-digit', hourCycle: 'h23',
-  }).formatToParts(new Date(iso)).map((p) => [p.type, p.value]))
+  const parts = Object.fromEntries(
+    new Intl.DateTimeFormat('en-CA', {
+      timeZone: timeZone ?? 'UTC',
+      year: 'numeric',
+      month: '2-digit',
+      day: '2-digit',
+      hour: '2-digit',
+      minute: '2-digit',
+      hourCycle: 'h23',
+    })
+      .formatToParts(new Date(iso))
+      .map((p) => [p.type, p.value]),
+  )
   return `${parts.year}-${parts.month}-${parts.day}T${parts.hour}:${parts.minute}`
 }
 

@@ -20,6 +20,8 @@ export const useChangeWaitingStore = defineStore('changeWaiting', () => {
     return pending
   }
 
-  function reset() { count.value = 0 }
+  function reset() {
+    count.value = 0
+  }
   return { count, refresh, reset }
 })

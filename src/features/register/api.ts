@@ -1,7 +1,12 @@
 import type { TestSignal } from '@shared/domain/test-signal.ts'
 import type { ListResult } from '@shared/schemas/common.ts'
 import type {
-  CreateInstrumentInput, CreateLimitInput, Instrument, Limit, Process, UpdateLimitInput,
+  CreateInstrumentInput,
+  CreateLimitInput,
+  Instrument,
+  Limit,
+  Process,
+  UpdateLimitInput,
 } from '@shared/schemas/register.ts'
 import type { ImportMapping, ImportResult } from '@shared/schemas/imports.ts'
 import { http, toQuery, uploadWithProgress } from '@/api/client'
@@ -30,10 +35,19 @@ export interface LimitListQuery extends LimitFilters {
 }
 
 /** One page of the register; `total` stops counting at 10,000 (`totalCapped`). */
-export interface RegisterPage { items: Limit[], total: number, totalCapped: boolean, nextCursor: string | null }
+export interface RegisterPage {
+  items: Limit[]
+  total: number
+  totalCapped: boolean
+  nextCursor: string | null
+}
 
 /** One field that changed between two revisions. */
-export interface RevisionChange { field: string, from: unknown, to: unknown }
+export interface RevisionChange {
+  field: string
+  from: unknown
+  to: unknown
+}
 
 export interface LimitRevision {
   revision: number
@@ -46,15 +60,17 @@ export interface LimitRevision {
 }
 
 /** An instrument as the API answers it. */
-export type InstrumentRecord = Instrument & { revision: number, updatedAt: string }
+export type InstrumentRecord = Instrument & { revision: number; updatedAt: string }
 
 export const listLimits = (query: LimitListQuery) => http.get<RegisterPage>('/limits', { ...query })
 export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
 export const createLimit = (input: CreateLimitInput) => http.post<Limit>('/limits', input)
-export const updateLimit = (id: number, input: UpdateLimitInput & { expectedRevision?: number }) => http.patch<Limit>(`/limits/${id}`, input)
+export const updateLimit = (id: number, input: UpdateLimitInput & { expectedRevision?: number }) =>
+  http.patch<Limit>(`/limits/${id}`, input)
 export const deleteLimit = (id: number) => http.delete<void>(`/limits/${id}`)
-export const listLimitRevisions = (id: number) => http.get<{ items: LimitRevision[], total: number }>(`/limits/${id}/revisions`)
-export const getTestSignal = (id: number, query: { coldJunction?: number, mode?: 'mv_source' | 'tc_simulate' }) =>
+export const listLimitRevisions = (id: number) =>
+  http.get<{ items: LimitRevision[]; total: number }>(`/limits/${id}/revisions`)
+export const getTestSignal = (id: number, query: { coldJunction?: number; mode?: 'mv_source' | 'tc_simulate' }) =>
   http.get<TestSignal>(`/limits/${id}/test-signal`, query)
 
 /** Address of the register file (CSV or XLSX) for the given filters; used as a download link. */
@@ -62,20 +78,30 @@ export function limitExportUrl(format: 'csv' | 'xlsx', filters: LimitFilters): s
   return `/api/limits/export${toQuery({ ...filters, format })}`
 }
 
-export const listProcesses = (query: { siteId?: number[], areaId?: number[] } = {}) => http.get<ListResult<Process>>('/processes', query)
-export const createProcess = (input: { areaId: number, name: string, description: string }) => http.post<Process>('/processes', input)
-export const updateProcess = (id: number, input: { name?: string, description?: string }) => http.patch<Process>(`/processes/${id}`, input)
+export const listProcesses = (query: { siteId?: number[]; areaId?: number[] } = {}) =>
+  http.get<ListResult<Process>>('/processes', query)
+export const createProcess = (input: { areaId: number; name: string; description: string }) =>
+  http.post<Process>('/processes', input)
+export const updateProcess = (id: number, input: { name?: string; description?: string }) =>
+  http.patch<Process>(`/processes/${id}`, input)
 
-export const listInstruments = (query: { siteId?: number[], processId?: number[], q?: string, page?: number, pageSize?: number } = {}) =>
-  http.get<ListResult<InstrumentRecord>>('/instruments', query)
+export const listInstruments = (
+  query: { siteId?: number[]; processId?: number[]; q?: string; page?: number; pageSize?: number } = {},
+) => http.get<ListResult<InstrumentRecord>>('/instruments', query)
 export const getInstrument = (id: number) => http.get<InstrumentRecord>(`/instruments/${id}`)
 export const createInstrument = (input: CreateInstrumentInput) => http.post<InstrumentRecord>('/instruments', input)
-export const updateInstrument = (id: number, input: Partial<CreateInstrumentInput>) => http.patch<InstrumentRecord>(`/instruments/${id}`, input)
+export const updateInstrument = (id: number, input: Partial<CreateInstrumentInput>) =>
+  http.patch<InstrumentRecord>(`/instruments/${id}`, input)
 
 // ---- the register import (docs/register.md, "The import") ----
 
 /** What one upload sends: the file, the site it is for, an optional mapping (file header → column key, '' ignores). */
-export interface ImportUpload { file: File, siteId: number, mapping?: ImportMapping, dryRun?: boolean }
+export interface ImportUpload {
+  file: File
+  siteId: number
+  mapping?: ImportMapping
+  dryRun?: boolean
+}
 
 /** Uploads a register file for a dry run and reports the upload's progress (0…1). */
 export function uploadImport(input: ImportUpload, onProgress: (fraction: number) => void): Promise<ImportResult> {
@@ -84,7 +110,12 @@ export function uploadImport(input: ImportUpload, onProgress: (fraction: number)
   if (input.mapping) form.append('mapping', JSON.stringify(input.mapping))
   form.append('dryRun', String(input.dryRun ?? true))
   form.append('file', input.file)
-  return uploadWithProgress('/imports', form, onProgress, 'The upload did not reach the server; check the connection and the file size, then try again')
+  return uploadWithProgress(
+    '/imports',
+    form,
+    onProgress,
+    'The upload did not reach the server; check the connection and the file size, then try again',
+  )
 }
 
 /** The mapping the user's last import used (file header → column key). */

@@ -12,12 +12,18 @@ function messageOf(issue: z.ZodError['issues'][number]): string {
  * Schema issues as field messages keyed by dotted path (`subsystems.0.lambdaDu`), as the API sends them; `missing`
  * gives the message for a field that was not filled in at all (e.g. a picker left empty).
  */
-export function issuesToFields(issues: z.ZodError['issues'], missing: Record<string, string> = {}): Record<string, string[]> {
+export function issuesToFields(
+  issues: z.ZodError['issues'],
+  missing: Record<string, string> = {},
+): Record<string, string[]> {
   const fields: Record<string, string[]> = {}
   for (const issue of issues) {
     const key = issue.path.map(String).join('.') || '_'
     const list = (fields[key] ??= [])
-    const msg = missing[key] && (issue.code === 'invalid_type' || issue.code === 'invalid_value') ? missing[key] : messageOf(issue)
+    const msg =
+      missing[key] && (issue.code === 'invalid_type' || issue.code === 'invalid_value')
+        ? missing[key]
+        : messageOf(issue)
     if (!list.includes(msg)) list.push(msg)
   }
   return fields

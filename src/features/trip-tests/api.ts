@@ -9,71 +9,162 @@ export type SignatureMeaning = 'performed' | 'witnessed' | 'accepted'
 
 /** One limit of the test schedule. */
 export interface ScheduleItem {
-  limitId: number, tag: string, description: string, siteId: number, siteCode: string, areaName: string, testStatus: TestStatus, dueDate: string | null,
-  lastFullPass: string | null, testIntervalMonths: number, protectionState: Limit['protectionState'], sil: number | null, lateTests: number
+  limitId: number
+  tag: string
+  description: string
+  siteId: number
+  siteCode: string
+  areaName: string
+  testStatus: TestStatus
+  dueDate: string | null
+  lastFullPass: string | null
+  testIntervalMonths: number
+  protectionState: Limit['protectionState']
+  sil: number | null
+  lateTests: number
 }
 
-export interface ScheduleQuery { siteId?: number[], areaId?: number[], status?: TestStatus[], late?: boolean }
+export interface ScheduleQuery {
+  siteId?: number[]
+  areaId?: number[]
+  status?: TestStatus[]
+  late?: boolean
+}
 
 /** One row of the test history. */
 export interface TripTestListItem {
-  id: number, limitId: number, siteId: number, limitTag: string, kind: 'full' | 'partial', method: TripTestDto['method'], performedAt: string, asFound: number | null,
-  asFoundResult: TripTestDto['asFoundResult'], asLeft: number | null, asLeftResult: TripTestDto['asLeftResult'], passed: boolean, status: TripTestDto['status'],
-  setpoint: number, toleranceEu: number, recordedBy: string
+  id: number
+  limitId: number
+  siteId: number
+  limitTag: string
+  kind: 'full' | 'partial'
+  method: TripTestDto['method']
+  performedAt: string
+  asFound: number | null
+  asFoundResult: TripTestDto['asFoundResult']
+  asLeft: number | null
+  asLeftResult: TripTestDto['asLeftResult']
+  passed: boolean
+  status: TripTestDto['status']
+  setpoint: number
+  toleranceEu: number
+  recordedBy: string
 }
 
 /** What the form sends (TripTestInputSchema); the server fills the defaults. */
 export interface TripTestBody {
-  limitId: number, kind: 'full' | 'partial', method: TripTestDto['method'], injectionPoint: 'sensor' | 'transmitter_output' | null,
-  sourceMode: 'mv_source' | 'tc_simulate' | null, coldJunctionC: number | null, procedureRef: string, deviceSerial: string, calibratorId: string,
-  calibratorDueDate: string | null, workOrder: string, bypassId: number | null, performedAt: string, tolerance: number | null,
-  toleranceUnit: 'eu' | 'percent_span', asFound: number | null, asFoundSignal: { value: number, unit: 'mA' | 'mV' | 'ohm' | 'V' } | null, noTrip: boolean,
-  asLeft: number | null, resetValue: number | null, latchHeld: boolean | null, resetRefusedWhileActive: boolean | null, resetAcceptedAfterReturn: boolean | null,
-  finalElementOk: boolean | null, responseTimeSec: number | null, setpointRestoredReadBack: number | null, notes: string
+  limitId: number
+  kind: 'full' | 'partial'
+  method: TripTestDto['method']
+  injectionPoint: 'sensor' | 'transmitter_output' | null
+  sourceMode: 'mv_source' | 'tc_simulate' | null
+  coldJunctionC: number | null
+  procedureRef: string
+  deviceSerial: string
+  calibratorId: string
+  calibratorDueDate: string | null
+  workOrder: string
+  bypassId: number | null
+  performedAt: string
+  tolerance: number | null
+  toleranceUnit: 'eu' | 'percent_span'
+  asFound: number | null
+  asFoundSignal: { value: number; unit: 'mA' | 'mV' | 'ohm' | 'V' } | null
+  noTrip: boolean
+  asLeft: number | null
+  resetValue: number | null
+  latchHeld: boolean | null
+  resetRefusedWhileActive: boolean | null
+  resetAcceptedAfterReturn: boolean | null
+  finalElementOk: boolean | null
+  responseTimeSec: number | null
+  setpointRestoredReadBack: number | null
+  notes: string
 }
 
 /** The degraded state of a limit, newest first. */
 export interface DegradationItem {
-  id: number, testId: number, openedAt: string, reasons: string[], compensatingMeasures: string[] | null, repairDeadline: string | null,
-  measuresSignedBy: string | null, measuresSignedAt: string | null, clearedAt: string | null, clearedByTestId: number | null
+  id: number
+  testId: number
+  openedAt: string
+  reasons: string[]
+  compensatingMeasures: string[] | null
+  repairDeadline: string | null
+  measuresSignedBy: string | null
+  measuresSignedAt: string | null
+  clearedAt: string | null
+  clearedByTestId: number | null
 }
 
 export const getSchedule = (query: ScheduleQuery) =>
-  http.get<{ items: ScheduleItem[], total: number, counts: Partial<Record<TestStatus, number>> }>('/trip-tests/schedule', { ...query, late: query.late ? 'true' : undefined })
-export const listTripTests = (query: { siteId?: number[], limitId?: number, passed?: boolean, page?: number, pageSize?: number }) =>
-  http.get<{ items: TripTestListItem[], total: number }>('/trip-tests', { ...query, passed: query.passed === undefined ? undefined : String(query.passed) })
+  http.get<{ items: ScheduleItem[]; total: number; counts: Partial<Record<TestStatus, number>> }>(
+    '/trip-tests/schedule',
+    { ...query, late: query.late ? 'true' : undefined },
+  )
+export const listTripTests = (query: {
+  siteId?: number[]
+  limitId?: number
+  passed?: boolean
+  page?: number
+  pageSize?: number
+}) =>
+  http.get<{ items: TripTestListItem[]; total: number }>('/trip-tests', {
+    ...query,
+    passed: query.passed === undefined ? undefined : String(query.passed),
+  })
 export const getTripTest = (id: number) => http.get<TripTestDto>(`/trip-tests/${id}`)
 export const createTripTest = (body: TripTestBody) => http.post<TripTestDto>('/trip-tests', body)
 export const updateTripTest = (id: number, body: TripTestBody) => api<TripTestDto>('PUT', `/trip-tests/${id}`, body)
 export const signTripTest = (id: number, meaning: SignatureMeaning, password: string, comment: string) =>
   http.post<TripTestDto>(`/trip-tests/${id}/signatures`, { meaning, password, comment })
-export const runDigest = (siteId: number) => http.post<{ sent: number, overdue: number, dueSoon: number }>('/trip-tests/digest-runs', { siteId })
+export const runDigest = (siteId: number) =>
+  http.post<{ sent: number; overdue: number; dueSoon: number }>('/trip-tests/digest-runs', { siteId })
 
-export const getDegradation = (limitId: number) => http.get<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation`)
-export const signDegradationMeasures = (limitId: number, body: { compensatingMeasures: string[], repairDeadline: string, password: string }) =>
-  http.post<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation`, body)
+export const getDegradation = (limitId: number) =>
+  http.get<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation`)
+export const signDegradationMeasures = (
+  limitId: number,
+  body: { compensatingMeasures: string[]; repairDeadline: string; password: string },
+) => http.post<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation`, body)
 
 // The register as the test form needs it.
-export const listActiveLimits = (query: { q?: string, siteId?: number[] }) =>
-  http.get<{ items: Limit[], total: number }>('/limits', { status: ['active'], q: query.q, siteId: query.siteId, pageSize: 50, sort: 'tag' })
+export const listActiveLimits = (query: { q?: string; siteId?: number[] }) =>
+  http.get<{ items: Limit[]; total: number }>('/limits', {
+    status: ['active'],
+    q: query.q,
+    siteId: query.siteId,
+    pageSize: 50,
+    sort: 'tag',
+  })
 export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
 /** The instrument fields the test form needs. */
-export interface TestedInstrument { id: number, tag: string, unit: string, rangeLow: number, rangeHigh: number, signal: Signal }
+export interface TestedInstrument {
+  id: number
+  tag: string
+  unit: string
+  rangeLow: number
+  rangeHigh: number
+  signal: Signal
+}
 export const getInstrument = (id: number) => http.get<TestedInstrument>(`/instruments/${id}`)
-export const getTestSignal = (limitId: number, query: { coldJunction?: number, mode?: 'mv_source' | 'tc_simulate' }) =>
+export const getTestSignal = (limitId: number, query: { coldJunction?: number; mode?: 'mv_source' | 'tc_simulate' }) =>
   http.get<TestSignal>(`/limits/${limitId}/test-signal`, query)
 export const listActiveBypasses = (limitId: number) =>
-  http.get<{ items: BypassDto[], total: number }>('/bypasses', { limitId: [limitId], status: ['active'], pageSize: 20 })
+  http.get<{ items: BypassDto[]; total: number }>('/bypasses', { limitId: [limitId], status: ['active'], pageSize: 20 })
 
 /** Address of the test history as CSV (a download). */
-export const exportUrl = (query: { siteId?: number[], limitId?: number }) => `/api/trip-tests/export${toQuery(query)}`
+export const exportUrl = (query: { siteId?: number[]; limitId?: number }) => `/api/trip-tests/export${toQuery(query)}`
 /** Address of a record's PDF certificate (a download). */
 export const certificateUrl = (id: number) => `/api/trip-tests/${id}/certificate`
 /** Address of one attachment (a download). */
 export const attachmentUrl = (id: number, attachmentId: number) => `/api/trip-tests/${id}/attachments/${attachmentId}`
 
 /** Uploads an attachment and reports the upload's progress (0…1). */
-export function uploadAttachment(id: number, file: File, onProgress: (fraction: number) => void): Promise<{ id: number, fileName: string }> {
+export function uploadAttachment(
+  id: number,
+  file: File,
+  onProgress: (fraction: number) => void,
+): Promise<{ id: number; fileName: string }> {
   const form = new FormData()
   form.append('file', file)
   return uploadWithProgress(`/trip-tests/${id}/attachments`, form, onProgress)

@@ -1,5 +1,11 @@
 import {
-  mdiAlertOctagon, mdiArrowDownBoldCircleOutline, mdiCheckCircleOutline, mdiCloseOctagon, mdiPauseCircleOutline, mdiShieldCheckOutline, mdiShieldOffOutline,
+  mdiAlertOctagon,
+  mdiArrowDownBoldCircleOutline,
+  mdiCheckCircleOutline,
+  mdiCloseOctagon,
+  mdiPauseCircleOutline,
+  mdiShieldCheckOutline,
+  mdiShieldOffOutline,
 } from '@mdi/js'
 import type { TripTestDto } from '@shared/schemas/trip-tests.ts'
 import type { TestStatus } from './api'
@@ -12,21 +18,43 @@ export const METHOD_LABELS: Record<TripTestDto['method'], string> = {
   setpoint_lowered: 'Setpoint moved across the process value',
   reference_gauge: 'Against a reference gauge (switch)',
 }
-export const INJECTION_POINT_LABELS: Record<string, string> = { sensor: 'At the sensor input', transmitter_output: 'At the transmitter output' }
-export const SOURCE_MODE_LABELS: Record<string, string> = { mv_source: 'Millivolt source', tc_simulate: 'Thermocouple simulation' }
+export const INJECTION_POINT_LABELS: Record<string, string> = {
+  sensor: 'At the sensor input',
+  transmitter_output: 'At the transmitter output',
+}
+export const SOURCE_MODE_LABELS: Record<string, string> = {
+  mv_source: 'Millivolt source',
+  tc_simulate: 'Thermocouple simulation',
+}
 export const KIND_LABELS: Record<'full' | 'partial', string> = { full: 'Full test', partial: 'Partial test' }
-export const RECORD_STATUS_LABELS: Record<TripTestDto['status'], string> = { recorded: 'Not signed yet', signed: 'Signed', completed: 'Completed' }
-export const RECORD_STATUS_COLORS: Record<TripTestDto['status'], string> = { recorded: 'secondary', signed: 'info', completed: 'success' }
+export const RECORD_STATUS_LABELS: Record<TripTestDto['status'], string> = {
+  recorded: 'Not signed yet',
+  signed: 'Signed',
+  completed: 'Completed',
+}
+export const RECORD_STATUS_COLORS: Record<TripTestDto['status'], string> = {
+  recorded: 'secondary',
+  signed: 'info',
+  completed: 'success',
+}
 
 export const TEST_STATUS_LABELS: Record<TestStatus, string> = {
-  never_tested: 'Never tested', ok: 'Up to date', due_soon: 'Due within 30 days', in_grace: 'In grace period', overdue: 'Overdue',
+  never_tested: 'Never tested',
+  ok: 'Up to date',
+  due_soon: 'Due within 30 days',
+  in_grace: 'In grace period',
+  overdue: 'Overdue',
 }
 export const TEST_STATUS_COLORS: Record<TestStatus, string> = {
-  never_tested: 'secondary', ok: 'success', due_soon: 'info', in_grace: 'warning', overdue: 'error',
+  never_tested: 'secondary',
+  ok: 'success',
+  due_soon: 'info',
+  in_grace: 'warning',
+  overdue: 'error',
 }
 
 /** The as-found and as-left results as chips: the failures in capitals and solid colour, so they stand out. */
-export const RESULT_STYLE: Record<string, { label: string, color: string, variant: 'flat' | 'tonal', icon: string }> = {
+export const RESULT_STYLE: Record<string, { label: string; color: string; variant: 'flat' | 'tonal'; icon: string }> = {
   in_tolerance: { label: 'In tolerance', color: 'success', variant: 'tonal', icon: mdiCheckCircleOutline },
   out_safe: { label: 'Out, safe side', color: 'warning', variant: 'tonal', icon: mdiArrowDownBoldCircleOutline },
   out_dangerous: { label: 'OUT, DANGEROUS SIDE', color: 'error', variant: 'flat', icon: mdiAlertOctagon },
@@ -34,18 +62,29 @@ export const RESULT_STYLE: Record<string, { label: string, color: string, varian
   out: { label: 'OUT OF TOLERANCE', color: 'error', variant: 'flat', icon: mdiAlertOctagon },
 }
 
-export const MEANING_LABELS: Record<string, string> = { performed: 'Performed', witnessed: 'Witnessed', accepted: 'Accepted back into service' }
+export const MEANING_LABELS: Record<string, string> = {
+  performed: 'Performed',
+  witnessed: 'Witnessed',
+  accepted: 'Accepted back into service',
+}
 
 /** A calendar date 'YYYY-MM-DD' as '28 Feb 2026' (no time zone: due dates already are site dates). */
 export function dateText(d: string | null | undefined): string {
   if (!d) return '—'
   const [y, m, day] = d.split('-').map(Number)
-  return new Intl.DateTimeFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric', timeZone: 'UTC' }).format(new Date(Date.UTC(y, m - 1, day)))
+  return new Intl.DateTimeFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric', timeZone: 'UTC' }).format(
+    new Date(Date.UTC(y, m - 1, day)),
+  )
 }
 
 /** Today's calendar date in a time zone, 'YYYY-MM-DD'. */
 export function todayIn(timeZone: string | undefined, now = new Date()): string {
-  return new Intl.DateTimeFormat('en-CA', { year: 'numeric', month: '2-digit', day: '2-digit', timeZone: timeZone ?? 'UTC' }).format(now)
+  return new Intl.DateTimeFormat('en-CA', {
+    year: 'numeric',
+    month: '2-digit',
+    day: '2-digit',
+    timeZone: timeZone ?? 'UTC',
+  }).format(now)
 }
 
 /** Bytes as KB or MB. */
@@ -62,7 +101,10 @@ export function rounded(v: number | null | undefined, digits = 6): string {
 }
 
 /** Protection state chips: degraded in solid red and capitals, the state a technician must not miss. */
-export const PROTECTION_STYLE: Record<string, { label: string, color: string, variant: 'outlined' | 'flat', icon: string }> = {
+export const PROTECTION_STYLE: Record<
+  string,
+  { label: string; color: string; variant: 'outlined' | 'flat'; icon: string }
+> = {
   in_service: { label: 'In service', color: 'success', variant: 'outlined', icon: mdiShieldCheckOutline },
   bypassed: { label: 'Bypassed', color: 'warning', variant: 'flat', icon: mdiPauseCircleOutline },
   degraded: { label: 'DEGRADED', color: 'error', variant: 'flat', icon: mdiShieldOffOutline },
@@ -72,7 +114,13 @@ export const PROTECTION_STYLE: Record<string, { label: string, color: string, va
 export function dateTimeIn(iso: string, timeZone: string | undefined): string {
   try {
     return new Intl.DateTimeFormat('en-GB', {
-      year: 'numeric', month: 'short', day: 'numeric', hour: '2-digit', minute: '2-digit', timeZone: timeZone ?? 'UTC', timeZoneName: 'short',
+      year: 'numeric',
+      month: 'short',
+      day: 'numeric',
+      hour: '2-digit',
+      minute: '2-digit',
+      timeZone: timeZone ?? 'UTC',
+      timeZoneName: 'short',
     }).format(new Date(iso))
   } catch {
     return iso

@@ -6,7 +6,9 @@ import { DEMO_PASSWORD } from '../../../server/seed/demo.ts'
 export class ApiAgent {
   readonly agent: ReturnType<typeof request.agent>
   csrf = ''
-  constructor(app: Express) { this.agent = request.agent(app) }
+  constructor(app: Express) {
+    this.agent = request.agent(app)
+  }
 
   async refreshCsrf() {
     const res = await this.agent.get('/api/session').expect(200)
@@ -14,11 +16,30 @@ export class ApiAgent {
     return res
   }
 
-  get(url: string) { return this.agent.get(url) }
-  post(url: string, body?: unknown) { return this.agent.post(url).set('X-CSRF-Token', this.csrf).send(body as object) }
-  patch(url: string, body?: unknown) { return this.agent.patch(url).set('X-CSRF-Token', this.csrf).send(body as object) }
-  put(url: string, body?: unknown) { return this.agent.put(url).set('X-CSRF-Token', this.csrf).send(body as object) }
-  delete(url: string) { return this.agent.delete(url).set('X-CSRF-Token', this.csrf) }
+  get(url: string) {
+    return this.agent.get(url)
+  }
+  post(url: string, body?: unknown) {
+    return this.agent
+      .post(url)
+      .set('X-CSRF-Token', this.csrf)
+      .send(body as object)
+  }
+  patch(url: string, body?: unknown) {
+    return this.agent
+      .patch(url)
+      .set('X-CSRF-Token', this.csrf)
+      .send(body as object)
+  }
+  put(url: string, body?: unknown) {
+    return this.agent
+      .put(url)
+      .set('X-CSRF-Token', this.csrf)
+      .send(body as object)
+  }
+  delete(url: string) {
+    return this.agent.delete(url).set('X-CSRF-Token', this.csrf)
+  }
 
   /** Signs in (demo password by default) and keeps the fresh CSRF token; throws unless it worked. */
   async signIn(email: string, password = DEMO_PASSWORD) {
@@ -26,7 +47,7 @@ export class ApiAgent {
     const res = await this.post('/api/session', { email, password })
     if (res.status !== 201) throw new Error(`sign-in as ${email} failed: ${res.status} ${JSON.stringify(res.body)}`)
     this.csrf = res.body.csrfToken
-    return res.body as { user: { id: number, roles: { siteId: number, role: string }[] } }
+    return res.body as { user: { id: number; roles: { siteId: number; role: string }[] } }
   }
 }
 

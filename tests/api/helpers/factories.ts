@@ -6,64 +6,161 @@ let seq = 0
 const next = () => `${process.pid % 1000}-${++seq}`
 
 /** A process, a type K thermocouple instrument (0–1200 °C, normal 300–650) and a proposed high trip at 780 °C, via the API as an engineer. */
-export async function buildHeaterTrip(eng: ApiAgent, opts: { siteCode?: string, sil?: 1 | 2 | 3 | null, setpoint?: number } = {}) {
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number, code: string }[]
+export async function buildHeaterTrip(
+  eng: ApiAgent,
+  opts: { siteCode?: string; sil?: 1 | 2 | 3 | null; setpoint?: number } = {},
+) {
+  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const site = sites.find((s) => s.code === (opts.siteCode ?? 'FHR'))!
   const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[0]
   const n = next()
-  const proc = (await eng.post('/api/processes', { areaId: area.id, name: `Fixture heater H-${n}`, description: 'fired heater' }).expect(201)).body
-  const inst = (await eng.post('/api/instruments', {
-    processId: proc.id, tag: `TT-${n}`, measuredVariable: 'temperature', unit: '°C', rangeLow: 0, rangeHigh: 1200, normalLow: 300, normalHigh: 650,
-    designLow: null, designHigh: 900, burnout: 'upscale', signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false }, deviceKind: 'limit_controller',
-  }).expect(201)).body
+  const proc = (
+    await eng
+      .post('/api/processes', { areaId: area.id, name: `Fixture heater H-${n}`, description: 'fired heater' })
+      .expect(201)
+  ).body
+  const inst = (
+    await eng
+      .post('/api/instruments', {
+        processId: proc.id,
+        tag: `TT-${n}`,
+        measuredVariable: 'temperature',
+        unit: '°C',
+        rangeLow: 0,
+        rangeHigh: 1200,
+        normalLow: 300,
+        normalHigh: 650,
+        designLow: null,
+        designHigh: 900,
+        burnout: 'upscale',
+        signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+        deviceKind: 'limit_controller',
+      })
+      .expect(201)
+  ).body
   const sil = opts.sil ?? null
-  const subsystems = sil ? [
-    { role: 'sensor', architecture: '1oo1', lambdaDu: 5e-7, beta: 0.05, mttrHours: 8, testIntervalMonths: 12, testCoverage: 0.9, missionTimeYears: 15 },
-    { role: 'logic', architecture: '1oo1', lambdaDu: 1e-8, beta: 0.02, mttrHours: 8, testIntervalMonths: 12, testCoverage: 1, missionTimeYears: 15 },
-    { role: 'final_element', architecture: '1oo2', lambdaDu: 2e-6, beta: 0.1, mttrHours: 24, testIntervalMonths: 12, testCoverage: 0.7, missionTimeYears: 15 },
-  ] : []
-  const limit = (await eng.post('/api/limits', {
-    processId: proc.id, instrumentIds: [inst.id], tag: `TSHH-${n}`, direction: 'high', limitClass: 'trip', setpoint: opts.setpoint ?? 780, deadband: 5,
-    severity: 'severe', testIntervalMonths: 12, latching: true, resetRole: 'operator', sil, subsystems, compensatingMeasures: ['Operator watches TI locally every 15 min'],
-    maxBypassHours: 8, bypassPermitted: true,
-  }).expect(201)).body
+  const subsystems = sil
+    ? [
+        {
+          role: 'sensor',
+          architecture: '1oo1',
+          lambdaDu: 5e-7,
+          beta: 0.05,
+          mttrHours: 8,
+          testIntervalMonths: 12,
+          testCoverage: 0.9,
+          missionTimeYears: 15,
+        },
+        {
+          role: 'logic',
+          architecture: '1oo1',
+          lambdaDu: 1e-8,
+          beta: 0.02,
+          mttrHours: 8,
+          testIntervalMonths: 12,
+          testCoverage: 1,
+          missionTimeYears: 15,
+        },
+        {
+          role: 'final_element',
+          architecture: '1oo2',
+          lambdaDu: 2e-6,
+          beta: 0.1,
+          mttrHours: 24,
+          testIntervalMonths: 12,
+          testCoverage: 0.7,
+          missionTimeYears: 15,
+        },
+      ]
+    : []
+  const limit = (
+    await eng
+      .post('/api/limits', {
+        processId: proc.id,
+        instrumentIds: [inst.id],
+        tag: `TSHH-${n}`,
+        direction: 'high',
+        limitClass: 'trip',
+        setpoint: opts.setpoint ?? 780,
+        deadband: 5,
+        severity: 'severe',
+        testIntervalMonths: 12,
+        latching: true,
+        resetRole: 'operator',
+        sil,
+        subsystems,
+        compensatingMeasures: ['Operator watches TI locally every 15 min'],
+        maxBypassHours: 8,
+        bypassPermitted: true,
+      })
+      .expect(201)
+  ).body
   return { site, area, proc, inst, limit }
 }
 
 /** The values a technician reads back from the device for one change item: every device field at its approved value. */
-export function readBackOf(item: { deviceFields: string[], changes: Record<string, { to: unknown }> }): Record<string, unknown> {
+export function readBackOf(item: {
+  deviceFields: string[]
+  changes: Record<string, { to: unknown }>
+}): Record<string, unknown> {
   return Object.fromEntries(item.deviceFields.map((f) => [f, item.changes[f].to]))
 }
 
 /** The people a change request passes through, each signed in with their own session. */
-export interface ChangeCrew { eng: ApiAgent, approvers: ApiAgent[], tech: ApiAgent }
+export interface ChangeCrew {
+  eng: ApiAgent
+  approvers: ApiAgent[]
+  tech: ApiAgent
+}
 
 /** Creates and submits a change request as the engineer; answers the submitted request. */
 export async function submitChange(eng: ApiAgent, body: Record<string, unknown>) {
-  const created = (await eng.post('/api/change-requests', { type: 'permanent', title: 'Fixture change', ...body }).expect(201)).body
+  const created = (
+    await eng.post('/api/change-requests', { type: 'permanent', title: 'Fixture change', ...body }).expect(201)
+  ).body
   return (await eng.post(`/api/change-requests/${created.id}/submission`).expect(200)).body
 }
 
 /** Signs as many approvals as the request needs, one approver each; answers the approved request. */
-export async function approveChange(approvers: ApiAgent[], cr: { id: number, approvalsRequired: number }) {
+export async function approveChange(approvers: ApiAgent[], cr: { id: number; approvalsRequired: number }) {
   let body: unknown = null
-  for (const a of approvers.slice(0, cr.approvalsRequired)) body = (await a.post(`/api/change-requests/${cr.id}/approvals`, { password: DEMO_PASSWORD }).expect(200)).body
-  return body as { id: number, status: string, items: { id: number, deviceFields: string[], changes: Record<string, { to: unknown }> }[] }
+  for (const a of approvers.slice(0, cr.approvalsRequired))
+    body = (await a.post(`/api/change-requests/${cr.id}/approvals`, { password: DEMO_PASSWORD }).expect(200)).body
+  return body as {
+    id: number
+    status: string
+    items: { id: number; deviceFields: string[]; changes: Record<string, { to: unknown }> }[]
+  }
 }
 
 /** Implements every item of an approved request with the correct read-back; answers the implemented request. */
-export async function implementChange(tech: ApiAgent, cr: { id: number, items: { id: number, deviceFields: string[], changes: Record<string, { to: unknown }> }[] }) {
+export async function implementChange(
+  tech: ApiAgent,
+  cr: { id: number; items: { id: number; deviceFields: string[]; changes: Record<string, { to: unknown }> }[] },
+) {
   let body: unknown = null
   for (const item of cr.items) {
-    body = (await tech.post(`/api/change-requests/${cr.id}/implementations`, { itemId: item.id, readBack: readBackOf(item), password: DEMO_PASSWORD }).expect(200)).body
+    body = (
+      await tech
+        .post(`/api/change-requests/${cr.id}/implementations`, {
+          itemId: item.id,
+          readBack: readBackOf(item),
+          password: DEMO_PASSWORD,
+        })
+        .expect(200)
+    ).body
   }
-  return body as { id: number, status: string }
+  return body as { id: number; status: string }
 }
 
 /** A heater trip (see buildHeaterTrip) put in service through its own change request: create item, approvals, implementation. */
 export async function buildActiveHeaterTrip(crew: ChangeCrew, opts: Parameters<typeof buildHeaterTrip>[1] = {}) {
   const built = await buildHeaterTrip(crew.eng, opts)
-  const cr = await submitChange(crew.eng, { siteId: built.site.id, title: `Put ${built.limit.tag} in service`, items: [{ kind: 'create', limitId: built.limit.id }] })
+  const cr = await submitChange(crew.eng, {
+    siteId: built.site.id,
+    title: `Put ${built.limit.tag} in service`,
+    items: [{ kind: 'create', limitId: built.limit.id }],
+  })
   await implementChange(crew.tech, await approveChange(crew.approvers, cr))
   const limit = (await crew.eng.get(`/api/limits/${built.limit.id}`).expect(200)).body
   if (limit.status !== 'active') throw new Error(`limit ${limit.tag} is ${limit.status} after its change request`)
@@ -72,15 +169,53 @@ export async function buildActiveHeaterTrip(crew: ChangeCrew, opts: Parameters<t
 
 /** Row counts of everything a change-request action writes (sign-in events excluded: signing in is not the action). */
 export async function rowCounts(db: Db) {
-  const count = async (table: 'change_request' | 'change_request_item' | 'change_request_editor' | 'change_request_check' | 'signature' | 'limit_revision' | 'instrument_revision' | 'attachment' | 'mail_outbox') =>
-    Number((await db.selectFrom(table).select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
-  const audit = await db.selectFrom('audit_event').select((eb) => eb.fn.countAll<number>().as('n')).where('action', 'not like', 'session.%').executeTakeFirstOrThrow()
-  const signatureAttempts = await db.selectFrom('sign_in_attempt').select((eb) => eb.fn.countAll<number>().as('n')).where('purpose', '=', 'signature').executeTakeFirstOrThrow()
-  const states = await db.selectFrom('change_request').select(['id', 'status', 'version', 'content_hash']).orderBy('id').execute()
+  const count = async (
+    table:
+      | 'change_request'
+      | 'change_request_item'
+      | 'change_request_editor'
+      | 'change_request_check'
+      | 'signature'
+      | 'limit_revision'
+      | 'instrument_revision'
+      | 'attachment'
+      | 'mail_outbox',
+  ) =>
+    Number(
+      (
+        await db
+          .selectFrom(table)
+          .select((eb) => eb.fn.countAll<number>().as('n'))
+          .executeTakeFirstOrThrow()
+      ).n,
+    )
+  const audit = await db
+    .selectFrom('audit_event')
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .where('action', 'not like', 'session.%')
+    .executeTakeFirstOrThrow()
+  const signatureAttempts = await db
+    .selectFrom('sign_in_attempt')
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .where('purpose', '=', 'signature')
+    .executeTakeFirstOrThrow()
+  const states = await db
+    .selectFrom('change_request')
+    .select(['id', 'status', 'version', 'content_hash'])
+    .orderBy('id')
+    .execute()
   return {
-    changeRequests: await count('change_request'), items: await count('change_request_item'), editors: await count('change_request_editor'),
-    checks: await count('change_request_check'), signatures: await count('signature'), limitRevisions: await count('limit_revision'),
-    instrumentRevisions: await count('instrument_revision'), attachments: await count('attachment'), mails: await count('mail_outbox'),
-    auditEvents: Number(audit.n), signatureAttempts: Number(signatureAttempts.n), states,
+    changeRequests: await count('change_request'),
+    items: await count('change_request_item'),
+    editors: await count('change_request_editor'),
+    checks: await count('change_request_check'),
+    signatures: await count('signature'),
+    limitRevisions: await count('limit_revision'),
+    instrumentRevisions: await count('instrument_revision'),
+    attachments: await count('attachment'),
+    mails: await count('mail_outbox'),
+    auditEvents: Number(audit.n),
+    signatureAttempts: Number(signatureAttempts.n),
+    states,
   }
 }

@@ -14,7 +14,12 @@ function withDb(url: string, db: string) {
 }
 
 /** URLs of this file's own database, cloned from the migrated template. */
-export interface TestDatabase { name: string, appUrl: string, ownerUrl: string, superUrl: string }
+export interface TestDatabase {
+  name: string
+  appUrl: string
+  ownerUrl: string
+  superUrl: string
+}
 
 /** Clones the template into a fresh database for this test file and drops it afterwards. */
 export async function createTestDatabase(): Promise<TestDatabase & { drop(): Promise<void> }> {
@@ -38,20 +43,32 @@ export async function createTestDatabase(): Promise<TestDatabase & { drop(): Pro
   }
 }
 
-export interface TestContext extends AppDeps { clock: AdjustableClock, database: TestDatabase, config: Config }
+export interface TestContext extends AppDeps {
+  clock: AdjustableClock
+  database: TestDatabase
+  config: Config
+}
 
 /**
  * Per test file: a cloned database with the demo plant's sites and accounts (its register with `register: true`), the app's dependencies connected as the runtime role, and a
  * clock the test moves. `ctx` is filled in beforeAll.
  */
-export function useTestDb(opts: { seed?: boolean, register?: boolean, env?: Record<string, string> } = {}): TestContext {
+export function useTestDb(
+  opts: { seed?: boolean; register?: boolean; env?: Record<string, string> } = {},
+): TestContext {
   const ctx = {} as TestContext
   let drop: () => Promise<void> = async () => {}
   let ownerDb: Db | null = null
   beforeAll(async () => {
     const database = await createTestDatabase()
     drop = database.drop
-    const config = loadConfig({ NODE_ENV: 'test', DATABASE_URL: database.appUrl, MIGRATION_DATABASE_URL: database.ownerUrl, SMTP_PORT: '1', ...opts.env })
+    const config = loadConfig({
+      NODE_ENV: 'test',
+      DATABASE_URL: database.appUrl,
+      MIGRATION_DATABASE_URL: database.ownerUrl,
+      SMTP_PORT: '1',
+      ...opts.env,
+    })
     const clock = new AdjustableClock()
     if (opts.seed !== false) {
       ownerDb = createDb(database.ownerUrl, 2).db

@@ -1,7 +1,17 @@
 import { describe, expect, it } from 'vitest'
 import {
-  classifyCurrent, currentFromShuntVoltage, currentFromValue, flowFromSqrtCurrent, isMeasurementCurrent, NE43_THRESHOLDS,
-  shuntVoltage, sqrtCurrentFromFlow, valueFromCurrent, valueFromVoltage, voltageFromValue, type Ne43Class,
+  classifyCurrent,
+  currentFromShuntVoltage,
+  currentFromValue,
+  flowFromSqrtCurrent,
+  isMeasurementCurrent,
+  NE43_THRESHOLDS,
+  shuntVoltage,
+  sqrtCurrentFromFlow,
+  valueFromCurrent,
+  valueFromVoltage,
+  voltageFromValue,
+  type Ne43Class,
 } from '../../../shared/domain/analog-signal.ts'
 import { OutOfRangeError } from '../../../shared/domain/errors.ts'
 
@@ -21,7 +31,7 @@ describe('4–20 mA linear scaling', () => {
     [13.6, 0, 600, 360.0, 60.0],
   ])('%d mA over %d … %d is %d (%d %% of span)', (mA, low, high, pv, percent) => {
     expect(valueFromCurrent(mA, low, high)).toBeCloseTo(pv, 9)
-    expect(100 * (valueFromCurrent(mA, low, high) - low) / (high - low)).toBeCloseTo(percent, 9)
+    expect((100 * (valueFromCurrent(mA, low, high) - low)) / (high - low)).toBeCloseTo(percent, 9)
     expect(currentFromValue(pv, low, high)).toBeCloseTo(mA, 9)
   })
 
@@ -58,7 +68,7 @@ describe('square-root extraction (differential-pressure flow)', () => {
     [12.0, 50.0, 70.711],
     [16.0, 75.0, 86.603],
     [20.0, 100.0, 100.0],
-    [20.5, 103.125, 101.550],
+    [20.5, 103.125, 101.55],
   ])('%s mA (ΔP %s %%) is %s %% flow', (mA, dpPercent, flowPercent) => {
     expect(Math.abs(flowFromSqrtCurrent(mA, 0, 100) - flowPercent)).toBeLessThanOrEqual(0.0005)
     expect(valueFromCurrent(mA, 0, 100)).toBeCloseTo(dpPercent, 9)
@@ -86,7 +96,13 @@ describe('square-root extraction (differential-pressure flow)', () => {
 
 describe('voltage signals and the 250 Ω shunt', () => {
   // analog-signals.md: 1–5 V across 250 Ω (4 mA → 1.000 V, 12 mA → 3.000 V, 20 mA → 5.000 V) [ISA-50.00.01]
-  it.each([[4, 1], [12, 3], [20, 5], [3.6, 0.9], [21, 5.25]])('%d mA across 250 Ω is %d V', (mA, volts) => {
+  it.each([
+    [4, 1],
+    [12, 3],
+    [20, 5],
+    [3.6, 0.9],
+    [21, 5.25],
+  ])('%d mA across 250 Ω is %d V', (mA, volts) => {
     expect(shuntVoltage(mA)).toBeCloseTo(volts, 12)
     expect(currentFromShuntVoltage(volts)).toBeCloseTo(mA, 12)
   })
@@ -107,7 +123,10 @@ describe('voltage signals and the 250 Ω shunt', () => {
   it('1–5 V agrees with 4–20 mA across 250 Ω', () => {
     // ISA-50.00.01 via analog-signals.md: the same signal seen as current or voltage
     for (const pv of [0, 13, 37.5, 80, 100]) {
-      expect(voltageFromValue(pv, 0, 100, { low: 1, high: 5 })).toBeCloseTo(shuntVoltage(currentFromValue(pv, 0, 100)), 12)
+      expect(voltageFromValue(pv, 0, 100, { low: 1, high: 5 })).toBeCloseTo(
+        shuntVoltage(currentFromValue(pv, 0, 100)),
+        12,
+      )
     }
   })
 })
@@ -117,17 +136,17 @@ describe('NAMUR NE 43 classification', () => {
   it.each([
     [0.0, 'failure_low', false],
     [3.59, 'failure_low', false],
-    [3.60, 'failure_low', false],
-    [3.70, 'uncertain_low', false],
-    [3.80, 'under_range', true],
+    [3.6, 'failure_low', false],
+    [3.7, 'uncertain_low', false],
+    [3.8, 'under_range', true],
     [3.95, 'under_range', true],
-    [4.00, 'measuring', true],
-    [20.00, 'measuring', true],
-    [20.40, 'over_range', true],
-    [20.50, 'over_range', true],
-    [20.80, 'uncertain_high', false],
-    [21.00, 'failure_high', false],
-    [22.00, 'failure_high', false],
+    [4.0, 'measuring', true],
+    [20.0, 'measuring', true],
+    [20.4, 'over_range', true],
+    [20.5, 'over_range', true],
+    [20.8, 'uncertain_high', false],
+    [21.0, 'failure_high', false],
+    [22.0, 'failure_high', false],
   ] as [number, Ne43Class, boolean][])('%d mA is %s', (mA, expected, valid) => {
     expect(classifyCurrent(mA)).toBe(expected)
     expect(isMeasurementCurrent(mA)).toBe(valid)

@@ -25,7 +25,13 @@ function due(overrides: Partial<DueDateInput>) {
 describe('intervalHours', () => {
   // DOMAIN.md §5: 1 month = 730 h; 12 months = 8 760 h = 1 year and 3 months = 2 190 h as used in
   // ../shared/reference/sif-reliability.md (1oo1 variants table)
-  it.each([[1, 730], [3, 2190], [6, 4380], [12, 8760], [24, 17520]])('%s months → %s h', (months, hours) => {
+  it.each([
+    [1, 730],
+    [3, 2190],
+    [6, 4380],
+    [12, 8760],
+    [24, 17520],
+  ])('%s months → %s h', (months, hours) => {
     expect(intervalHours(months)).toBe(hours)
   })
 })
@@ -110,7 +116,13 @@ describe('computeDueDates: status', () => {
     ['a passing full test dated after now', [full('2025-06-01T08:00:00Z')]],
   ])('%s → never_tested', (_name, list) => {
     const r = due({ tests: list })
-    expect(r).toMatchObject({ status: 'never_tested', lastFullPass: null, dueDate: null, graceEnd: null, daysUntilDue: null })
+    expect(r).toMatchObject({
+      status: 'never_tested',
+      lastFullPass: null,
+      dueDate: null,
+      graceEnd: null,
+      daysUntilDue: null,
+    })
   })
 })
 
@@ -127,7 +139,10 @@ describe('computeDueDates: history rules', () => {
   })
 
   it('keeps counting from the last pass after a failed full test', () => {
-    const r = due({ tests: [full('2024-03-15T09:00:00Z'), full('2025-03-01T09:00:00Z', false)], now: at('2025-03-20T12:00:00Z') })
+    const r = due({
+      tests: [full('2024-03-15T09:00:00Z'), full('2025-03-01T09:00:00Z', false)],
+      now: at('2025-03-20T12:00:00Z'),
+    })
     expect(r.lastFullPass).toBe('2024-03-15')
     expect(r.status).toBe('in_grace')
   })
@@ -144,9 +159,15 @@ describe('computeDueDates: history rules', () => {
   })
 
   it('orders same-day tests by time: fail then pass counts as passed that day', () => {
-    const failThenPass = due({ tests: [full('2024-06-01T10:00:00Z'), full('2024-06-01T08:00:00Z', false)], now: at('2024-06-02T00:00:00Z') })
+    const failThenPass = due({
+      tests: [full('2024-06-01T10:00:00Z'), full('2024-06-01T08:00:00Z', false)],
+      now: at('2024-06-02T00:00:00Z'),
+    })
     expect(failThenPass.lastFullPass).toBe('2024-06-01')
-    const passThenFail = due({ tests: [full('2024-06-01T08:00:00Z'), full('2024-06-01T10:00:00Z', false)], now: at('2024-06-02T00:00:00Z') })
+    const passThenFail = due({
+      tests: [full('2024-06-01T08:00:00Z'), full('2024-06-01T10:00:00Z', false)],
+      now: at('2024-06-02T00:00:00Z'),
+    })
     expect(passThenFail.lastFullPass).toBe('2024-06-01')
   })
 
@@ -163,7 +184,13 @@ describe('computeDueDates: history rules', () => {
     expect(r.lastFullPass).toBe(day)
     expect(r.lateTests).toHaveLength(late ? 1 : 0)
     if (late) {
-      expect(r.lateTests[0]).toMatchObject({ performedOn: day, dueDate: '2025-03-15', graceEnd: '2025-04-14', daysLate, withinGrace })
+      expect(r.lateTests[0]).toMatchObject({
+        performedOn: day,
+        dueDate: '2025-03-15',
+        graceEnd: '2025-04-14',
+        daysLate,
+        withinGrace,
+      })
     }
   })
 
@@ -180,7 +207,10 @@ describe('computeDueDates: history rules', () => {
   })
 
   it('never reports partial tests as late', () => {
-    const r = due({ tests: [full('2024-03-15T09:00:00Z'), partial('2025-03-20T09:00:00Z')], now: at('2025-03-21T12:00:00Z') })
+    const r = due({
+      tests: [full('2024-03-15T09:00:00Z'), partial('2025-03-20T09:00:00Z')],
+      now: at('2025-03-21T12:00:00Z'),
+    })
     expect(r.lateTests).toEqual([])
   })
 
@@ -201,24 +231,59 @@ describe('computeDueDates: time zones', () => {
     ['Europe/Berlin', '2025-02-01', '2025-03-01'],
     ['America/New_York', '2025-01-31', '2025-02-28'],
   ])('a test at 2025-01-31T23:30Z in %s is dated %s, due %s', (timeZone, day, dueDate) => {
-    const r = due({ testIntervalMonths: 1, timeZone, tests: [full('2025-01-31T23:30:00Z')], now: at('2025-02-10T12:00:00Z') })
+    const r = due({
+      testIntervalMonths: 1,
+      timeZone,
+      tests: [full('2025-01-31T23:30:00Z')],
+      now: at('2025-02-10T12:00:00Z'),
+    })
     expect(r.lastFullPass).toBe(day)
     expect(r.dueDate).toBe(dueDate)
   })
 
   it('takes today in the site zone: 23:00Z on the due date is already the next day in Berlin (CET)', () => {
-    const base = { testIntervalMonths: 12, testGraceDays: 5, timeZone: 'Europe/Berlin', tests: [full('2024-03-15T09:00:00Z')] }
-    expect(due({ ...base, now: at('2025-03-15T22:59:59Z') })).toMatchObject({ today: '2025-03-15', status: 'due_soon', daysUntilDue: 0 })
-    expect(due({ ...base, now: at('2025-03-15T23:00:00Z') })).toMatchObject({ today: '2025-03-16', status: 'in_grace', daysUntilDue: -1 })
+    const base = {
+      testIntervalMonths: 12,
+      testGraceDays: 5,
+      timeZone: 'Europe/Berlin',
+      tests: [full('2024-03-15T09:00:00Z')],
+    }
+    expect(due({ ...base, now: at('2025-03-15T22:59:59Z') })).toMatchObject({
+      today: '2025-03-15',
+      status: 'due_soon',
+      daysUntilDue: 0,
+    })
+    expect(due({ ...base, now: at('2025-03-15T23:00:00Z') })).toMatchObject({
+      today: '2025-03-16',
+      status: 'in_grace',
+      daysUntilDue: -1,
+    })
   })
 
   it('counts calendar days across a daylight-saving change (Berlin, 2025-03-30)', () => {
     // last pass 2025-02-28 + 1 month = 2025-03-28; from today 2025-03-27 (CET) that is 1 day; no 23-hour day counts short
-    const r = due({ testIntervalMonths: 1, timeZone: 'Europe/Berlin', tests: [full('2025-02-28T10:00:00Z')], now: at('2025-03-27T12:00:00Z') })
+    const r = due({
+      testIntervalMonths: 1,
+      timeZone: 'Europe/Berlin',
+      tests: [full('2025-02-28T10:00:00Z')],
+      now: at('2025-03-27T12:00:00Z'),
+    })
     expect(r.daysUntilDue).toBe(1)
-    const after = due({ testIntervalMonths: 1, testGraceDays: 3, timeZone: 'Europe/Berlin', tests: [full('2025-02-28T10:00:00Z')], now: at('2025-03-31T21:59:00Z') })
+    const after = due({
+      testIntervalMonths: 1,
+      testGraceDays: 3,
+      timeZone: 'Europe/Berlin',
+      tests: [full('2025-02-28T10:00:00Z')],
+      now: at('2025-03-31T21:59:00Z'),
+    })
     expect(after).toMatchObject({ today: '2025-03-31', graceEnd: '2025-03-31', status: 'in_grace', daysUntilDue: -3 })
-    const next = due({ testIntervalMonths: 1, testGraceDays: 3, timeZone: 'Europe/Berlin', tests: [full('2025-02-28T10:00:00Z')], now: at('2025-03-31T22:00:00Z') })
+    const next = due({
+      testIntervalMonths: 1,
+      testGraceDays: 3,
+      timeZone: 'Europe/Berlin',
+      tests: [full('2025-02-28T10:00:00Z')],
+      now: at('2025-03-31T22:00:00Z'),
+    })
     expect(next).toMatchObject({ today: '2025-04-01', status: 'overdue' })
   })
 })

@@ -36,7 +36,14 @@ const highTrip: WindowLimitInput = {
   badValueTrip: false,
 }
 
-const highAlarm: WindowSiblingInput = { id: 'L-2', tag: 'PAH-101', direction: 'high', limitClass: 'alarm', setpoint: 70, status: 'active' }
+const highAlarm: WindowSiblingInput = {
+  id: 'L-2',
+  tag: 'PAH-101',
+  direction: 'high',
+  limitClass: 'alarm',
+  setpoint: 70,
+  status: 'active',
+}
 
 function run(
   limit: Partial<WindowLimitInput> = {},
@@ -104,8 +111,20 @@ describe('checkOperatingWindow', () => {
     ['site tolerance 1 %, inside the margin', { setpoint: 94.1 }, {}, 1, true],
     // exact decimals: range 0–3.3, 3.3 − 5 % × 3.3 − 0.5 % × 3.3 = 3.1185 (hand arithmetic); binary floats would
     // put 3.1185 + 0.0165 above 3.135 and warn at the edge
-    ['small span, at the edge', { setpoint: 3.1185, deadband: 0, analyticalLimit: null }, { rangeHigh: 3.3, normalLow: null, normalHigh: 1, designLow: null }, undefined, false],
-    ['small span, inside the margin', { setpoint: 3.1186, deadband: 0, analyticalLimit: null }, { rangeHigh: 3.3, normalLow: null, normalHigh: 1, designLow: null }, undefined, true],
+    [
+      'small span, at the edge',
+      { setpoint: 3.1185, deadband: 0, analyticalLimit: null },
+      { rangeHigh: 3.3, normalLow: null, normalHigh: 1, designLow: null },
+      undefined,
+      false,
+    ],
+    [
+      'small span, inside the margin',
+      { setpoint: 3.1186, deadband: 0, analyticalLimit: null },
+      { rangeHigh: 3.3, normalLow: null, normalHigh: 1, designLow: null },
+      undefined,
+      true,
+    ],
   ])('%s → SETPOINT_NEAR_RANGE_END %s', (_name, limit, inst, tol, flagged) => {
     const r = run(limit, { ...inst, designHigh: null }, [], tol)
     expect(warningCodes(r).includes('SETPOINT_NEAR_RANGE_END')).toBe(flagged)
@@ -132,17 +151,44 @@ describe('checkOperatingWindow', () => {
     ['high trip above the alarm', {}, [{ ...highAlarm, setpoint: 79.9 }], null],
     ['high trip equal to the alarm', {}, [{ ...highAlarm, setpoint: 80 }], 'TRIP_NOT_BEYOND_ALARM'],
     ['high trip below the alarm', {}, [{ ...highAlarm, setpoint: 85 }], 'TRIP_NOT_BEYOND_ALARM'],
-    ['high alarm below the trip', { limitClass: 'alarm', setpoint: 70, analyticalLimit: null }, [{ ...highAlarm, limitClass: 'trip', setpoint: 70.1 }], null],
-    ['high alarm equal to the trip', { limitClass: 'alarm', setpoint: 70, analyticalLimit: null }, [{ ...highAlarm, limitClass: 'trip', setpoint: 70 }], 'ALARM_NOT_BEFORE_TRIP'],
+    [
+      'high alarm below the trip',
+      { limitClass: 'alarm', setpoint: 70, analyticalLimit: null },
+      [{ ...highAlarm, limitClass: 'trip', setpoint: 70.1 }],
+      null,
+    ],
+    [
+      'high alarm equal to the trip',
+      { limitClass: 'alarm', setpoint: 70, analyticalLimit: null },
+      [{ ...highAlarm, limitClass: 'trip', setpoint: 70 }],
+      'ALARM_NOT_BEFORE_TRIP',
+    ],
     ['low trip below the alarm', lowTrip, [{ ...highAlarm, direction: 'low', setpoint: 10.1 }], null],
-    ['low trip equal to the alarm', lowTrip, [{ ...highAlarm, direction: 'low', setpoint: 10 }], 'TRIP_NOT_BEYOND_ALARM'],
-    ['low alarm above the trip', { ...lowTrip, limitClass: 'alarm', analyticalLimit: null }, [{ ...highAlarm, direction: 'low', limitClass: 'trip', setpoint: 9.9 }], null],
-    ['low alarm below the trip', { ...lowTrip, limitClass: 'alarm', analyticalLimit: null }, [{ ...highAlarm, direction: 'low', limitClass: 'trip', setpoint: 12 }], 'ALARM_NOT_BEFORE_TRIP'],
+    [
+      'low trip equal to the alarm',
+      lowTrip,
+      [{ ...highAlarm, direction: 'low', setpoint: 10 }],
+      'TRIP_NOT_BEYOND_ALARM',
+    ],
+    [
+      'low alarm above the trip',
+      { ...lowTrip, limitClass: 'alarm', analyticalLimit: null },
+      [{ ...highAlarm, direction: 'low', limitClass: 'trip', setpoint: 9.9 }],
+      null,
+    ],
+    [
+      'low alarm below the trip',
+      { ...lowTrip, limitClass: 'alarm', analyticalLimit: null },
+      [{ ...highAlarm, direction: 'low', limitClass: 'trip', setpoint: 12 }],
+      'ALARM_NOT_BEFORE_TRIP',
+    ],
     ['offending alarm is retired', {}, [{ ...highAlarm, setpoint: 85, status: 'retired' }], null],
     ['offending alarm is proposed', {}, [{ ...highAlarm, setpoint: 85, status: 'proposed' }], 'TRIP_NOT_BEYOND_ALARM'],
     ['alarm on the other side', {}, [{ ...highAlarm, direction: 'low', setpoint: 85 }], null],
   ])('%s → %s', (_name, limit, siblings, code) => {
-    const codes = errorCodes(run(limit, {}, siblings)).filter((c) => c === 'TRIP_NOT_BEYOND_ALARM' || c === 'ALARM_NOT_BEFORE_TRIP')
+    const codes = errorCodes(run(limit, {}, siblings)).filter(
+      (c) => c === 'TRIP_NOT_BEYOND_ALARM' || c === 'ALARM_NOT_BEFORE_TRIP',
+    )
     expect(codes).toEqual(code === null ? [] : [code])
   })
 
@@ -156,8 +202,18 @@ describe('checkOperatingWindow', () => {
   it.each<[string, Partial<WindowLimitInput>, Partial<WindowInstrumentInput>, boolean]>([
     ['high, return point at normal high', { deadband: 20 }, {}, false],
     ['high, return point inside normal', { deadband: 20.1 }, {}, true],
-    ['high, % span at the edge (10 % of 200 = 20)', { deadband: 10, deadbandUnit: 'percent_span' }, { rangeHigh: 200, designHigh: null }, false],
-    ['high, % span into normal (10.05 % of 200 = 20.1)', { deadband: 10.05, deadbandUnit: 'percent_span' }, { rangeHigh: 200, designHigh: null }, true],
+    [
+      'high, % span at the edge (10 % of 200 = 20)',
+      { deadband: 10, deadbandUnit: 'percent_span' },
+      { rangeHigh: 200, designHigh: null },
+      false,
+    ],
+    [
+      'high, % span into normal (10.05 % of 200 = 20.1)',
+      { deadband: 10.05, deadbandUnit: 'percent_span' },
+      { rangeHigh: 200, designHigh: null },
+      true,
+    ],
     ['low, return point at normal low', { ...lowTrip, deadband: 10 }, {}, false],
     ['low, return point inside normal', { ...lowTrip, deadband: 10.1 }, {}, true],
     ['high, no normal high entered', { deadband: 50 }, { normalHigh: null }, false],
@@ -176,7 +232,9 @@ describe('checkOperatingWindow', () => {
     [{ designLow: -5, designHigh: 105 }, 2],
     [{ designLow: null, designHigh: null }, 0],
   ])('%o → %s DESIGN_LIMIT_OUTSIDE_RANGE', (inst, count) => {
-    expect(warningCodes(run({ analyticalLimit: null }, inst)).filter((c) => c === 'DESIGN_LIMIT_OUTSIDE_RANGE')).toHaveLength(count)
+    expect(
+      warningCodes(run({ analyticalLimit: null }, inst)).filter((c) => c === 'DESIGN_LIMIT_OUTSIDE_RANGE'),
+    ).toHaveLength(count)
   })
 
   // Window nesting (DOMAIN.md §1): design limit ⊃ trip; a high limit acting at (PV ≥) the design value is flagged
@@ -244,7 +302,14 @@ describe('checkOperatingWindow', () => {
   })
 
   // Common practice: two limits of the same class and direction at one value duplicate each other (exact comparison)
-  const twin: WindowSiblingInput = { id: 'L-3', tag: 'PSHH-101B', direction: 'high', limitClass: 'trip', setpoint: 80, status: 'active' }
+  const twin: WindowSiblingInput = {
+    id: 'L-3',
+    tag: 'PSHH-101B',
+    direction: 'high',
+    limitClass: 'trip',
+    setpoint: 80,
+    status: 'active',
+  }
   it.each<[string, WindowLimitInput['id'], WindowSiblingInput, boolean]>([
     ['same class, direction and value', 'L-1', twin, true],
     ['value differs in the 7th decimal', 'L-1', { ...twin, setpoint: 80.0000001 }, false],
@@ -264,10 +329,25 @@ describe('checkOperatingWindow', () => {
   // 80.1 − 20 = 60.099999999999994 < 60.1 would raise a false DEADBAND_INTO_NORMAL.
   it.each<[string, Partial<WindowLimitInput>, Partial<WindowInstrumentInput>, WindowFindingCode[]]>([
     ['deadband return point exactly at normal high', { setpoint: 80.1, deadband: 20 }, { normalHigh: 60.1 }, []],
-    ['deadband return point 0.01 inside normal', { setpoint: 80.1, deadband: 20.01 }, { normalHigh: 60.1 }, ['DEADBAND_INTO_NORMAL']],
+    [
+      'deadband return point 0.01 inside normal',
+      { setpoint: 80.1, deadband: 20.01 },
+      { normalHigh: 60.1 },
+      ['DEADBAND_INTO_NORMAL'],
+    ],
     // range −0.1 to 0.2 (span 0.3): deadband 0.1 % span = 0.0003, tolerance 0.0015
-    ['% span deadband at the edge', { setpoint: 0.1003, deadband: 0.1, deadbandUnit: 'percent_span', analyticalLimit: 0.1018 }, { rangeLow: -0.1, rangeHigh: 0.2, normalLow: null, normalHigh: 0.1, designLow: null, designHigh: null }, []],
-    ['% span deadband, AL 0.0001 too close', { setpoint: 0.1003, deadband: 0.1, deadbandUnit: 'percent_span', analyticalLimit: 0.1017 }, { rangeLow: -0.1, rangeHigh: 0.2, normalLow: null, normalHigh: 0.1, designLow: null, designHigh: null }, ['TRIP_TOLERANCE_BEYOND_ANALYTICAL']],
+    [
+      '% span deadband at the edge',
+      { setpoint: 0.1003, deadband: 0.1, deadbandUnit: 'percent_span', analyticalLimit: 0.1018 },
+      { rangeLow: -0.1, rangeHigh: 0.2, normalLow: null, normalHigh: 0.1, designLow: null, designHigh: null },
+      [],
+    ],
+    [
+      '% span deadband, AL 0.0001 too close',
+      { setpoint: 0.1003, deadband: 0.1, deadbandUnit: 'percent_span', analyticalLimit: 0.1017 },
+      { rangeLow: -0.1, rangeHigh: 0.2, normalLow: null, normalHigh: 0.1, designLow: null, designHigh: null },
+      ['TRIP_TOLERANCE_BEYOND_ANALYTICAL'],
+    ],
   ])('%s', (_name, limit, inst, codes) => {
     expect(errorCodes(run(limit, inst, []))).toEqual(codes)
   })

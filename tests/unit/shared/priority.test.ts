@@ -11,10 +11,22 @@ import {
 // the severity × time-to-respond principle is ISA-18.2, via ../shared/reference/alarm-management.md).
 describe('derivePriority, default matrix', () => {
   it.each<[Severity, number, string | null]>([
-    ['severe', 1, 'critical'], ['severe', 5, 'critical'], ['severe', 15, 'high'], ['severe', 45, null],
-    ['major', 1, 'critical'], ['major', 5, 'high'], ['major', 15, 'medium'], ['major', 45, null],
-    ['moderate', 1, 'high'], ['moderate', 5, 'medium'], ['moderate', 15, 'low'], ['moderate', 45, null],
-    ['minor', 1, 'medium'], ['minor', 5, 'low'], ['minor', 15, 'low'], ['minor', 45, null],
+    ['severe', 1, 'critical'],
+    ['severe', 5, 'critical'],
+    ['severe', 15, 'high'],
+    ['severe', 45, null],
+    ['major', 1, 'critical'],
+    ['major', 5, 'high'],
+    ['major', 15, 'medium'],
+    ['major', 45, null],
+    ['moderate', 1, 'high'],
+    ['moderate', 5, 'medium'],
+    ['moderate', 15, 'low'],
+    ['moderate', 45, null],
+    ['minor', 1, 'medium'],
+    ['minor', 5, 'low'],
+    ['minor', 15, 'low'],
+    ['minor', 45, null],
   ])('severity %s, %s min → %s', (severity, minutes, priority) => {
     const result = derivePriority(severity, minutes, DEFAULT_PRIORITY_MATRIX)
     expect(result.priority).toBe(priority)
@@ -40,7 +52,9 @@ describe('derivePriority, default matrix', () => {
 
   it('explains the derivation', () => {
     expect(derivePriority('major', 5).explanation).toBe('severity major × respond in 3–10 min → high')
-    expect(derivePriority('minor', 30).explanation).toBe('severity minor × respond in ≥ 30 min → no alarm (make it a trip or nothing)')
+    expect(derivePriority('minor', 30).explanation).toBe(
+      'severity minor × respond in ≥ 30 min → no alarm (make it a trip or nothing)',
+    )
   })
 
   it.each([-1, Number.NaN, Number.POSITIVE_INFINITY])('rejects a time to respond of %s', (minutes) => {
@@ -90,13 +104,55 @@ describe('checkPriorityMatrix', () => {
   })
 
   it.each<[string, (m: PriorityMatrix) => void, RegExp]>([
-    ['descending bounds', (m) => { m.responseTimeBoundsMin = [10, 3, 30] }, /greater than boundary/],
-    ['equal bounds', (m) => { m.responseTimeBoundsMin = [3, 3, 30] }, /greater than boundary/],
-    ['zero bound', (m) => { m.responseTimeBoundsMin = [0, 10, 30] }, /positive/],
-    ['no bounds', (m) => { m.responseTimeBoundsMin = [] }, /at least one/],
-    ['short row', (m) => { m.rows.major = ['critical', 'high', 'medium'] }, /row major must have 4 cells/],
-    ['unknown cell', (m) => { m.rows.minor[0] = 'urgent' as 'low' }, /row minor cell 0/],
-    ['missing row', (m) => { delete (m.rows as Partial<PriorityMatrix['rows']>).severe }, /row severe is missing/],
+    [
+      'descending bounds',
+      (m) => {
+        m.responseTimeBoundsMin = [10, 3, 30]
+      },
+      /greater than boundary/,
+    ],
+    [
+      'equal bounds',
+      (m) => {
+        m.responseTimeBoundsMin = [3, 3, 30]
+      },
+      /greater than boundary/,
+    ],
+    [
+      'zero bound',
+      (m) => {
+        m.responseTimeBoundsMin = [0, 10, 30]
+      },
+      /positive/,
+    ],
+    [
+      'no bounds',
+      (m) => {
+        m.responseTimeBoundsMin = []
+      },
+      /at least one/,
+    ],
+    [
+      'short row',
+      (m) => {
+        m.rows.major = ['critical', 'high', 'medium']
+      },
+      /row major must have 4 cells/,
+    ],
+    [
+      'unknown cell',
+      (m) => {
+        m.rows.minor[0] = 'urgent' as 'low'
+      },
+      /row minor cell 0/,
+    ],
+    [
+      'missing row',
+      (m) => {
+        delete (m.rows as Partial<PriorityMatrix['rows']>).severe
+      },
+      /row severe is missing/,
+    ],
   ])('reports %s', (_name, mutate, message) => {
     const m = base()
     mutate(m)

@@ -12,23 +12,23 @@ const TABLE: [number, number, number][] = [
   [-40, 84.2707, 842.707],
   [-30, 88.2217, 882.217],
   [-20, 92.1599, 921.599],
-  [0, 100.0000, 1000.000],
+  [0, 100.0, 1000.0],
   [20, 107.7935, 1077.935],
   [25, 109.7347, 1097.347],
   [37, 114.3817, 1143.817],
   [50, 119.3971, 1193.971],
   [100, 138.5055, 1385.055],
   [150, 157.3251, 1573.251],
-  [200, 175.8560, 1758.560],
+  [200, 175.856, 1758.56],
   [250, 194.0981, 1940.981],
   [300, 212.0515, 2120.515],
-  [400, 247.0920, 2470.920],
+  [400, 247.092, 2470.92],
   [450, 264.1791, 2641.791],
   [500, 280.9775, 2809.775],
-  [600, 313.7080, 3137.080],
+  [600, 313.708, 3137.08],
   [650, 329.6401, 3296.401],
   [700, 345.2835, 3452.835],
-  [800, 375.7040, 3757.040],
+  [800, 375.704, 3757.04],
   [850, 390.4811, 3904.811],
 ]
 
@@ -45,16 +45,19 @@ describe('IEC 60751 resistance R(t)', () => {
     expect((rtdResistance(0.001, 100) - rtdResistance(-0.001, 100)) / 0.002).toBeCloseTo(0.39083, 4)
   })
 
-  it.each([-200.01, 850.01, Number.NaN, Number.POSITIVE_INFINITY])('throws OutOfRangeError at %d °C (valid −200 … 850 °C)', (t) => {
-    let error: unknown
-    try {
-      rtdResistance(t, 100)
-    } catch (e) {
-      error = e
-    }
-    expect(error).toBeInstanceOf(OutOfRangeError)
-    expect(error).toMatchObject({ quantity: 'temperature', min: -200, max: 850, unit: '°C' })
-  })
+  it.each([-200.01, 850.01, Number.NaN, Number.POSITIVE_INFINITY])(
+    'throws OutOfRangeError at %d °C (valid −200 … 850 °C)',
+    (t) => {
+      let error: unknown
+      try {
+        rtdResistance(t, 100)
+      } catch (e) {
+        error = e
+      }
+      expect(error).toBeInstanceOf(OutOfRangeError)
+      expect(error).toMatchObject({ quantity: 'temperature', min: -200, max: 850, unit: '°C' })
+    },
+  )
 
   it('refuses a non-positive R0', () => {
     expect(() => rtdResistance(0, 0)).toThrow(RangeError)
@@ -88,7 +91,8 @@ describe('IEC 60751 inverse t(R)', () => {
 
   it.each([R0_BY_ELEMENT.Pt100, R0_BY_ELEMENT.Pt1000])('round-trips −200 … 850 °C within 1e-6 °C (R0 = %d Ω)', (r0) => {
     let worst = 0
-    for (let t = -200; t <= 850; t += 0.25) worst = Math.max(worst, Math.abs(rtdTemperature(rtdResistance(t, r0), r0) - t))
+    for (let t = -200; t <= 850; t += 0.25)
+      worst = Math.max(worst, Math.abs(rtdTemperature(rtdResistance(t, r0), r0) - t))
     expect(worst).toBeLessThan(1e-6)
   })
 

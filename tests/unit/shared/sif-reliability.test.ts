@@ -19,7 +19,10 @@ import {
 
 /** Agrees with a published value to the digits printed there. */
 function expectDigits(actual: number, published: string): void {
-  const digits = published.replace(/e.*$/i, '').replace(/[^0-9]/g, '').replace(/^0+/, '').length
+  const digits = published
+    .replace(/e.*$/i, '')
+    .replace(/[^0-9]/g, '')
+    .replace(/^0+/, '').length
   expect(Number(actual.toPrecision(digits))).toBe(Number(published))
 }
 
@@ -86,7 +89,12 @@ describe('subsystemPfd: simplified equations, MTTR terms omitted', () => {
   }
   const grid: [Architecture, number, number, number][] = []
   for (const architecture of Object.keys(printed) as Architecture[]) {
-    for (const [l, b, months] of [[1e-7, 0.02, 3], [3.3e-6, 0.2, 36], [5e-6, 0, 48]] as const) grid.push([architecture, l, b, months])
+    for (const [l, b, months] of [
+      [1e-7, 0.02, 3],
+      [3.3e-6, 0.2, 36],
+      [5e-6, 0, 48],
+    ] as const)
+      grid.push([architecture, l, b, months])
   }
   it.each(grid)('%s, λDU %s, β %s, %s months matches the printed equation', (architecture, l, b, months) => {
     const expected = evaluate(printed[architecture], { l, b, T: months * 730 }) as number
@@ -107,16 +115,28 @@ describe('subsystemPfd: IEC 61508-6 Ed. 2 form with MTTR and detected failures',
 
   // IEC form, 1oo1, T1 = 1 y, MRT = MTTR = 8 h: λDU = λD·(1 − DC), λDD = λD·DC
   const dcTable: [number, number, string][] = [
-    [5e-7, 0, '2.19e-3'], [5e-7, 0.6, '8.80e-4'], [5e-7, 0.9, '2.23e-4'], [5e-7, 0.99, '2.59e-5'],
-    [1e-6, 0, '4.39e-3'], [1e-6, 0.6, '1.76e-3'], [1e-6, 0.9, '4.46e-4'], [1e-6, 0.99, '5.18e-5'],
-    [5e-6, 0, '2.19e-2'], [5e-6, 0.6, '8.80e-3'], [5e-6, 0.9, '2.23e-3'], [5e-6, 0.99, '2.59e-4'],
+    [5e-7, 0, '2.19e-3'],
+    [5e-7, 0.6, '8.80e-4'],
+    [5e-7, 0.9, '2.23e-4'],
+    [5e-7, 0.99, '2.59e-5'],
+    [1e-6, 0, '4.39e-3'],
+    [1e-6, 0.6, '1.76e-3'],
+    [1e-6, 0.9, '4.46e-4'],
+    [1e-6, 0.99, '5.18e-5'],
+    [5e-6, 0, '2.19e-2'],
+    [5e-6, 0.6, '8.80e-3'],
+    [5e-6, 0.9, '2.23e-3'],
+    [5e-6, 0.99, '2.59e-4'],
   ]
   it.each(dcTable)('1oo1, λD %s, DC %s → %s', (lambdaD, dc, pfd) => {
     expectDigits(subsystemPfd(sub({ lambdaDu: lambdaD * (1 - dc), lambdaDd: lambdaD * dc, mttrHours: 8 })), pfd)
   })
 
   it('1oo2, λD 1e−6, DC 60 %, β 10 %, βD 5 %, T1 1 y, MRT = MTTR = 8 h → 1.793e−4', () => {
-    expectDigits(subsystemPfd(sub({ architecture: '1oo2', lambdaDu: 4e-7, lambdaDd: 6e-7, beta: 0.1, betaD: 0.05, mttrHours: 8 })), '1.793e-4')
+    expectDigits(
+      subsystemPfd(sub({ architecture: '1oo2', lambdaDu: 4e-7, lambdaDd: 6e-7, beta: 0.1, betaD: 0.05, mttrHours: 8 })),
+      '1.793e-4',
+    )
   })
 
   it('the same 1oo2 by the simplified formula (λDU 4e−7, β 0.1, no MTTR) → 1.785e−4', () => {
@@ -231,14 +251,34 @@ describe('silBand and rrf', () => {
   // SIL bands, low demand: lower bound inclusive, upper exclusive (IEC 61508-1 Table 2 / IEC 61511-1 Table 4, from memory
   // in the reference; boundary check values listed there). 9.9e−6 is outside the table: we answer 4 (no claim beyond 4).
   it.each<[number, SilBand]>([
-    [1.0e-3, 2], [9.99e-3, 2], [1.0e-2, 1], [0.0999, 1], [0.1, 'none'], [1.0e-4, 3], [1.0e-5, 4], [9.9e-6, 4],
+    [1.0e-3, 2],
+    [9.99e-3, 2],
+    [1.0e-2, 1],
+    [0.0999, 1],
+    [0.1, 'none'],
+    [1.0e-4, 3],
+    [1.0e-5, 4],
+    [9.9e-6, 4],
     // the other side of each edge (computed)
-    [9.99999e-4, 3], [9.99999e-5, 4], [9.99999e-3, 2], [0.0999999, 1], [0.5, 'none'], [1, 'none'], [0, 4],
+    [9.99999e-4, 3],
+    [9.99999e-5, 4],
+    [9.99999e-3, 2],
+    [0.0999999, 1],
+    [0.5, 'none'],
+    [1, 'none'],
+    [0, 4],
   ])('PFDavg %s → %s', (pfd, band) => {
     expect(silBand(pfd)).toBe(band)
   })
 
-  it.each<[number, SilBand]>([[10, 'none'], [50, 1], [100, 1], [101, 2], [1000, 2], [1001, 3]])('RRF %s → %s', (riskReduction, band) => {
+  it.each<[number, SilBand]>([
+    [10, 'none'],
+    [50, 1],
+    [100, 1],
+    [101, 2],
+    [1000, 2],
+    [1001, 3],
+  ])('RRF %s → %s', (riskReduction, band) => {
     expect(silBand(1 / riskReduction)).toBe(band)
   })
 
@@ -346,7 +386,11 @@ describe('effectivePfd', () => {
   })
 
   it.each<[Architecture, Architecture | 'lost']>([
-    ['1oo2', '1oo1'], ['2oo3', '2oo2'], ['1oo3', '1oo2'], ['2oo2', 'lost'], ['1oo1', 'lost'],
+    ['1oo2', '1oo1'],
+    ['2oo3', '2oo2'],
+    ['1oo3', '1oo2'],
+    ['2oo2', 'lost'],
+    ['1oo1', 'lost'],
   ])('defeating one channel of %s leaves %s', (architecture, degraded) => {
     expect(DEFAULT_DEGRADED_ARCHITECTURE[architecture]).toBe(degraded)
     const r = effectivePfd({
@@ -378,8 +422,13 @@ describe('effectivePfd', () => {
   })
 
   it('rejects a single-channel bypass of a role the function does not have', () => {
-    expect(() => effectivePfd({
-      subsystems: [valve], bypassedHours: 1, periodHours: 10, bypassedSingleChannel: { role: 'logic' },
-    })).toThrow(RangeError)
+    expect(() =>
+      effectivePfd({
+        subsystems: [valve],
+        bypassedHours: 1,
+        periodHours: 10,
+        bypassedSingleChannel: { role: 'logic' },
+      }),
+    ).toThrow(RangeError)
   })
 })

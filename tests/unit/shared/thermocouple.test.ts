@@ -1,8 +1,15 @@
 import { describe, expect, it } from 'vitest'
 import { OutOfRangeError } from '../../../shared/domain/errors.ts'
 import {
-  mvSourceValue, TC_TYPES, temperatureFromMeasured, thermocoupleEmf, thermocoupleInverseApprox, thermocoupleRange,
-  thermocoupleSeebeck, thermocoupleTemperature, type TcType,
+  mvSourceValue,
+  TC_TYPES,
+  temperatureFromMeasured,
+  thermocoupleEmf,
+  thermocoupleInverseApprox,
+  thermocoupleRange,
+  thermocoupleSeebeck,
+  thermocoupleTemperature,
+  type TcType,
 } from '../../../shared/domain/thermocouple.ts'
 
 // Source of every value below unless a line says otherwise: ITS-90 reference functions and tables,
@@ -16,8 +23,8 @@ describe('thermocouple forward function E(t), reference junction 0 °C', () => {
   it.each([
     ['K', -200, -5.8914, -5.891],
     ['K', -100, -3.5536, -3.554],
-    ['K', 0, 0.0000, 0.000],
-    ['K', 25, 1.0002, 1.000],
+    ['K', 0, 0.0, 0.0],
+    ['K', 25, 1.0002, 1.0],
     ['K', 100, 4.0962, 4.096],
     ['K', 200, 8.1385, 8.138],
     ['K', 300, 12.2086, 12.209],
@@ -29,9 +36,9 @@ describe('thermocouple forward function E(t), reference junction 0 °C', () => {
     ['K', 1200, 48.8382, 48.838],
     ['K', 1372, 54.8864, 54.886],
     ['J', -210, -8.0954, -8.095],
-    ['J', -200, -7.8905, -7.890],
+    ['J', -200, -7.8905, -7.89],
     ['J', -100, -4.6325, -4.633],
-    ['J', 0, 0.0000, 0.000],
+    ['J', 0, 0.0, 0.0],
     ['J', 25, 1.2773, 1.277],
     ['J', 100, 5.2689, 5.269],
     ['J', 200, 10.7787, 10.779],
@@ -41,26 +48,26 @@ describe('thermocouple forward function E(t), reference junction 0 °C', () => {
     ['J', 800, 45.4944, 45.494],
     ['J', 1000, 57.9534, 57.953],
     ['J', 1200, 69.5532, 69.553],
-    ['T', -200, -5.6030, -5.603],
+    ['T', -200, -5.603, -5.603],
     ['T', -100, -3.3786, -3.379],
-    ['T', 0, 0.0000, 0.000],
-    ['T', 25, 0.9920, 0.992],
+    ['T', 0, 0.0, 0.0],
+    ['T', 25, 0.992, 0.992],
     ['T', 100, 4.2785, 4.279],
     ['T', 200, 9.2881, 9.288],
     ['T', 300, 14.8619, 14.862],
-    ['T', 400, 20.8720, 20.872],
+    ['T', 400, 20.872, 20.872],
     ['E', -200, -8.8246, -8.825],
     ['E', -100, -5.2372, -5.237],
-    ['E', 0, 0.0000, 0.000],
+    ['E', 0, 0.0, 0.0],
     ['E', 100, 6.3189, 6.319],
     ['E', 200, 13.4213, 13.421],
-    ['E', 400, 28.9460, 28.946],
+    ['E', 400, 28.946, 28.946],
     ['E', 500, 37.0054, 37.005],
     ['E', 800, 61.0174, 61.017],
     ['E', 1000, 76.3728, 76.373],
-    ['N', -200, -3.9904, -3.990],
+    ['N', -200, -3.9904, -3.99],
     ['N', -100, -2.4068, -2.407],
-    ['N', 0, 0.0000, 0.000],
+    ['N', 0, 0.0, 0.0],
     ['N', 100, 2.7741, 2.774],
     ['N', 200, 5.9134, 5.913],
     ['N', 400, 12.9737, 12.974],
@@ -70,21 +77,21 @@ describe('thermocouple forward function E(t), reference junction 0 °C', () => {
     ['N', 1000, 36.2555, 36.256],
     ['N', 1200, 43.8464, 43.846],
     ['N', 1300, 47.5128, 47.513],
-    ['R', 0, 0.0000, 0.000],
+    ['R', 0, 0.0, 0.0],
     ['R', 100, 0.6474, 0.647],
     ['R', 400, 3.4077, 3.408],
     ['R', 500, 4.4713, 4.471],
-    ['R', 800, 7.9498, 7.950],
-    ['R', 1000, 10.5060, 10.506],
-    ['R', 1200, 13.2280, 13.228],
+    ['R', 800, 7.9498, 7.95],
+    ['R', 1000, 10.506, 10.506],
+    ['R', 1200, 13.228, 13.228],
     ['R', 1500, 17.4507, 17.451],
     ['R', 1600, 18.8489, 18.849],
     ['R', 1768, 21.1015, 21.101],
-    ['S', 0, 0.0000, 0.000],
+    ['S', 0, 0.0, 0.0],
     ['S', 100, 0.6459, 0.646],
     ['S', 400, 3.2594, 3.259],
     ['S', 500, 4.2333, 4.233],
-    ['S', 800, 7.3450, 7.345],
+    ['S', 800, 7.345, 7.345],
     ['S', 1000, 9.5871, 9.587],
     ['S', 1200, 11.9505, 11.951],
     ['S', 1500, 15.5817, 15.582],
@@ -97,8 +104,8 @@ describe('thermocouple forward function E(t), reference junction 0 °C', () => {
     ['B', 1000, 4.8343, 4.834],
     ['B', 1200, 6.7864, 6.786],
     ['B', 1500, 10.0991, 10.099],
-    ['B', 1600, 11.2630, 11.263],
-    ['B', 1820, 13.8203, 13.820],
+    ['B', 1600, 11.263, 11.263],
+    ['B', 1820, 13.8203, 13.82],
   ] as [TcType, number, number, number][])('type %s at %d °C: %d mV (table %d mV)', (type, t, e4, e3) => {
     const e = thermocoupleEmf(type, t)
     expect(Math.abs(e - e3)).toBeLessThanOrEqual(0.0005 + 1e-12)
@@ -114,7 +121,7 @@ describe('thermocouple forward function E(t), reference junction 0 °C', () => {
     ['E', 150, 8.2937 + 1.4951, 0.0001],
     ['K', 20, 0.7981, 0.00005],
     ['J', 22, 1.1223, 0.00005],
-    ['N', 30, 0.7930, 0.00005],
+    ['N', 30, 0.793, 0.00005],
     // type B inverse sub-range boundary "700 to 1820 °C / 2.431 to 13.82 mV" of thermocouples.md (NIST table, 3 dp)
     ['B', 700, 2.431, 0.0005],
     // NIST ITS-90 table values quoted from memory (3 dp): T 50 °C, E 50 °C, B 100 °C
@@ -127,7 +134,12 @@ describe('thermocouple forward function E(t), reference junction 0 °C', () => {
 
   // Seebeck coefficients at 0 °C (µV/°C), computed from the forward functions in thermocouples.md
   it.each([
-    ['K', 0, 39.5], ['K', 25, 40.5], ['J', 0, 50.4], ['T', 0, 38.7], ['E', 0, 58.7], ['N', 0, 25.9],
+    ['K', 0, 39.5],
+    ['K', 25, 40.5],
+    ['J', 0, 50.4],
+    ['T', 0, 38.7],
+    ['E', 0, 58.7],
+    ['N', 0, 25.9],
   ] as [TcType, number, number][])('type %s sensitivity at %d °C is %d µV/°C', (type, t, uvPerC) => {
     expect(Math.abs(thermocoupleSeebeck(type, t) * 1000 - uvPerC)).toBeLessThanOrEqual(0.05)
   })
@@ -146,14 +158,14 @@ describe('thermocouple inverse t(E)', () => {
   // NIST SRD 60 via thermocouples.md, "Check values — inverse function": within ±0.06 °C (±0.002 °C for R/S above 1064 °C)
   it.each([
     ['K', 4.096, 100, 99.963],
-    ['K', 20.644, 500, 499.980],
+    ['K', 20.644, 500, 499.98],
     ['K', 41.276, 1000, 999.987],
     ['K', -3.554, -100, -100.004],
     ['J', 5.269, 100, 100.021],
     ['J', 42.919, 760, 760.043],
     ['T', 4.279, 100, 100.015],
-    ['T', -3.379, -100, -100.010],
-    ['E', 6.319, 100, 100.000],
+    ['T', -3.379, -100, -100.01],
+    ['E', 6.319, 100, 100.0],
     ['N', 16.748, 500, 499.996],
     ['R', 10.506, 1000, 1000.002],
     ['S', 9.587, 1000, 999.988],
@@ -165,7 +177,10 @@ describe('thermocouple inverse t(E)', () => {
 
   it.each([
     // R and S above 1064 °C: ±0.002 °C (thermocouples.md); E from the 3-dp tables at 1500 and 1600 °C
-    ['R', 17.451, 1500], ['R', 18.849, 1600], ['S', 15.582, 1500], ['S', 16.777, 1600],
+    ['R', 17.451, 1500],
+    ['R', 18.849, 1600],
+    ['S', 15.582, 1500],
+    ['S', 16.777, 1600],
   ] as [TcType, number, number][])('type %s at %d mV is %d °C within the table rounding', (type, e, t) => {
     // 0.0005 mV of table rounding at about 12 µV/°C is up to 0.04 °C; the exact inverse must land inside that
     const slope = thermocoupleSeebeck(type, t)
@@ -176,28 +191,45 @@ describe('thermocouple inverse t(E)', () => {
   // K 0.054, J 0.049, T 0.038, E 0.022, N 0.039, R 0.019, S 0.020, B 0.026 °C. The refined inverse must sit on the
   // forward function (< 0.001 °C) while the bare polynomial shows exactly this size of deviation.
   it.each([
-    ['K', 0.054], ['J', 0.049], ['T', 0.038], ['E', 0.022], ['N', 0.039], ['R', 0.019], ['S', 0.020], ['B', 0.026],
-  ] as [TcType, number][])('type %s: polynomial within %d °C of the forward function, refined inverse < 0.001 °C', (type, maxPoly) => {
-    const range = thermocoupleRange(type)
-    let worstPoly = 0
-    let worstRefined = 0
-    const start = type === 'B' ? 250 : range.tMin
-    for (let t = start; t <= range.tMax; t += 0.1) {
-      const e = thermocoupleEmf(type, t)
-      const poly = thermocoupleInverseApprox(type, e)
-      if (poly !== undefined && t >= -200) worstPoly = Math.max(worstPoly, Math.abs(poly - t))
-      worstRefined = Math.max(worstRefined, Math.abs(thermocoupleTemperature(type, e) - t))
-    }
-    // lower bound with 0.003 °C slack: the stated maxima include the rounded range ends (e.g. R at exactly −50 °C,
-    // E = −0.2265 mV, just outside the polynomial's −0.226 mV start, where this product uses Newton alone)
-    expect(worstPoly).toBeGreaterThan(maxPoly - 0.003)
-    expect(worstPoly).toBeLessThanOrEqual(maxPoly + 0.0005)
-    expect(worstRefined).toBeLessThan(0.001)
-  })
+    ['K', 0.054],
+    ['J', 0.049],
+    ['T', 0.038],
+    ['E', 0.022],
+    ['N', 0.039],
+    ['R', 0.019],
+    ['S', 0.02],
+    ['B', 0.026],
+  ] as [TcType, number][])(
+    'type %s: polynomial within %d °C of the forward function, refined inverse < 0.001 °C',
+    (type, maxPoly) => {
+      const range = thermocoupleRange(type)
+      let worstPoly = 0
+      let worstRefined = 0
+      const start = type === 'B' ? 250 : range.tMin
+      for (let t = start; t <= range.tMax; t += 0.1) {
+        const e = thermocoupleEmf(type, t)
+        const poly = thermocoupleInverseApprox(type, e)
+        if (poly !== undefined && t >= -200) worstPoly = Math.max(worstPoly, Math.abs(poly - t))
+        worstRefined = Math.max(worstRefined, Math.abs(thermocoupleTemperature(type, e) - t))
+      }
+      // lower bound with 0.003 °C slack: the stated maxima include the rounded range ends (e.g. R at exactly −50 °C,
+      // E = −0.2265 mV, just outside the polynomial's −0.226 mV start, where this product uses Newton alone)
+      expect(worstPoly).toBeGreaterThan(maxPoly - 0.003)
+      expect(worstPoly).toBeLessThanOrEqual(maxPoly + 0.0005)
+      expect(worstRefined).toBeLessThan(0.001)
+    },
+  )
 
   it.each([
     // below the NIST inverse ranges (−200 °C; −210 °C for J; −50 °C for R/S): Newton on the forward function alone
-    ['K', -250], ['K', -270], ['E', -260], ['N', -265], ['T', -270], ['J', -210], ['R', -50], ['S', -50],
+    ['K', -250],
+    ['K', -270],
+    ['E', -260],
+    ['N', -265],
+    ['T', -270],
+    ['J', -210],
+    ['R', -50],
+    ['S', -50],
   ] as [TcType, number][])('type %s inverts below the NIST inverse range at %d °C', (type, t) => {
     expect(thermocoupleInverseApprox(type, thermocoupleEmf(type, t) - 0.01)).toBeUndefined()
     expect(Math.abs(thermocoupleTemperature(type, thermocoupleEmf(type, t)) - t)).toBeLessThan(0.001)
@@ -212,7 +244,7 @@ describe('cold-junction compensation', () => {
     ['K', 100, 20, 3.2981, 0.7981, 100.739],
     ['J', 200, 22, 9.6565, 1.1223, 201.768],
     ['T', -50, 20, -2.6086, 0.7896, -54.211],
-    ['N', 800, 30, 27.6615, 0.7930, 809.806],
+    ['N', 800, 30, 27.6615, 0.793, 809.806],
     ['E', 150, 25, 8.2937, 1.4951, 153.776],
   ]
 
@@ -239,24 +271,48 @@ describe('cold-junction compensation', () => {
 describe('ranges: outside the reference function the functions throw, never extrapolate', () => {
   // forward ranges from thermocouples.md "Valid ranges"
   it.each([
-    ['B', -0.1, 0, 1820], ['B', 1820.1, 0, 1820], ['E', -270.1, -270, 1000], ['E', 1000.1, -270, 1000],
-    ['J', -210.1, -210, 1200], ['J', 1200.1, -210, 1200], ['K', -270.1, -270, 1372], ['K', 1372.1, -270, 1372],
-    ['N', -270.1, -270, 1300], ['N', 1300.1, -270, 1300], ['R', -50.1, -50, 1768.1], ['R', 1768.2, -50, 1768.1],
-    ['S', -50.1, -50, 1768.1], ['S', 1768.2, -50, 1768.1], ['T', -270.1, -270, 400], ['T', 400.1, -270, 400],
-  ] as [TcType, number, number, number][])('type %s at %d °C throws OutOfRangeError (%d … %d °C)', (type, t, min, max) => {
-    let error: unknown
-    try {
-      thermocoupleEmf(type, t)
-    } catch (e) {
-      error = e
-    }
-    expect(error).toBeInstanceOf(OutOfRangeError)
-    expect(error).toMatchObject({ quantity: 'temperature', value: t, min, max, unit: '°C' })
-  })
+    ['B', -0.1, 0, 1820],
+    ['B', 1820.1, 0, 1820],
+    ['E', -270.1, -270, 1000],
+    ['E', 1000.1, -270, 1000],
+    ['J', -210.1, -210, 1200],
+    ['J', 1200.1, -210, 1200],
+    ['K', -270.1, -270, 1372],
+    ['K', 1372.1, -270, 1372],
+    ['N', -270.1, -270, 1300],
+    ['N', 1300.1, -270, 1300],
+    ['R', -50.1, -50, 1768.1],
+    ['R', 1768.2, -50, 1768.1],
+    ['S', -50.1, -50, 1768.1],
+    ['S', 1768.2, -50, 1768.1],
+    ['T', -270.1, -270, 400],
+    ['T', 400.1, -270, 400],
+  ] as [TcType, number, number, number][])(
+    'type %s at %d °C throws OutOfRangeError (%d … %d °C)',
+    (type, t, min, max) => {
+      let error: unknown
+      try {
+        thermocoupleEmf(type, t)
+      } catch (e) {
+        error = e
+      }
+      expect(error).toBeInstanceOf(OutOfRangeError)
+      expect(error).toMatchObject({ quantity: 'temperature', value: t, min, max, unit: '°C' })
+    },
+  )
 
   it.each([
-    ['K', 54.9], ['K', -6.46], ['J', 69.56], ['T', 20.88], ['E', 76.38], ['N', 47.52], ['R', 21.11], ['S', 18.70],
-    ['R', -0.23], ['B', 13.83], ['K', Number.NaN],
+    ['K', 54.9],
+    ['K', -6.46],
+    ['J', 69.56],
+    ['T', 20.88],
+    ['E', 76.38],
+    ['N', 47.52],
+    ['R', 21.11],
+    ['S', 18.7],
+    ['R', -0.23],
+    ['B', 13.83],
+    ['K', Number.NaN],
   ] as [TcType, number][])('type %s inverse at %d mV throws OutOfRangeError', (type, e) => {
     expect(() => thermocoupleTemperature(type, e)).toThrow(OutOfRangeError)
   })

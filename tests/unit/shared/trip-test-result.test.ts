@@ -21,15 +21,33 @@ describe('judgeAsFound', () => {
 })
 
 describe('judgeAsLeft', () => {
-  it.each([[780, 6, 786, 'in_tolerance'], [780, 6, 786.01, 'out'], [780, 6, 773.99, 'out']] as const)('setpoint %d ± %d left at %d → %s', (sp, tol, left, expected) => {
+  it.each([
+    [780, 6, 786, 'in_tolerance'],
+    [780, 6, 786.01, 'out'],
+    [780, 6, 773.99, 'out'],
+  ] as const)('setpoint %d ± %d left at %d → %s', (sp, tol, left, expected) => {
     expect(judgeAsLeft(sp, tol, left)).toBe(expected)
   })
 })
 
 describe('judgeTripTest', () => {
-  const base = { direction: 'high' as const, setpoint: 780, tolerance: 6, asFound: 781, asLeft: null, finalElementOk: true, responseTimeSec: 1.5, requiredResponseTimeSec: 2 }
+  const base = {
+    direction: 'high' as const,
+    setpoint: 780,
+    tolerance: 6,
+    asFound: 781,
+    asLeft: null,
+    finalElementOk: true,
+    responseTimeSec: 1.5,
+    requiredResponseTimeSec: 2,
+  }
   it('passes an in-tolerance trip whose final element acted in time', () => {
-    expect(judgeTripTest(base)).toEqual({ asFoundResult: 'in_tolerance', asLeftResult: 'in_tolerance', passed: true, reasons: [] })
+    expect(judgeTripTest(base)).toEqual({
+      asFoundResult: 'in_tolerance',
+      asLeftResult: 'in_tolerance',
+      passed: true,
+      reasons: [],
+    })
   })
   it('passes an early (safe-side) as-found that was adjusted back into tolerance', () => {
     const j = judgeTripTest({ ...base, asFound: 770, asLeft: 779.5 })

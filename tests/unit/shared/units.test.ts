@@ -2,19 +2,30 @@ import { evaluate, unit, type Unit } from 'mathjs'
 import { describe, expect, it } from 'vitest'
 import { OutOfRangeError, UnitConversionError } from '../../../shared/domain/errors.ts'
 import {
-  canonicalUnit, convertDifference, convertValue, isKnownUnit, UNITS_BY_VARIABLE, variableOfUnit,
+  canonicalUnit,
+  convertDifference,
+  convertValue,
+  isKnownUnit,
+  UNITS_BY_VARIABLE,
+  variableOfUnit,
 } from '../../../shared/domain/units.ts'
 
 // Independent cross-check: mathjs 15 unit conversion (an open-source library with its own unit definitions).
 // Units mathjs lacks are built from mathjs units: inH2O = 1 inch of water column = inch × (mmH2O / mm).
 function mathUnit(value: number, ours: string): Unit {
   switch (ours) {
-    case '°C': return unit(value, 'degC')
-    case '°F': return unit(value, 'degF')
-    case 'kg/cm²': return unit(value, 'kgf/cm^2')
-    case 'inH2O': return evaluate(`${value} inch * (1 mmH2O / 1 mm)`) as Unit
-    case 'm³/h': return unit(value, 'm^3/h')
-    default: return unit(value, ours)
+    case '°C':
+      return unit(value, 'degC')
+    case '°F':
+      return unit(value, 'degF')
+    case 'kg/cm²':
+      return unit(value, 'kgf/cm^2')
+    case 'inH2O':
+      return evaluate(`${value} inch * (1 mmH2O / 1 mm)`) as Unit
+    case 'm³/h':
+      return unit(value, 'm^3/h')
+    default:
+      return unit(value, ours)
   }
 }
 
@@ -58,7 +69,8 @@ function expectClose(actual: number, expected: number, rel: number): void {
 
 describe('convertValue against mathjs, every supported pair', () => {
   it.each(ALL_PAIRS)('%s → %s', (from, to, si) => {
-    for (const v of samples(from)) expectClose(convertValue(v, from, to), mathConvert(v, from, to, si), relTol(from, to))
+    for (const v of samples(from))
+      expectClose(convertValue(v, from, to), mathConvert(v, from, to, si), relTol(from, to))
   })
 })
 
@@ -119,7 +131,10 @@ describe('gauge and absolute pressure', () => {
     expect(convertValue(1, 'bar(g)', 'bar(a)', { atmosphericPressure: atm })).toBeCloseTo(2.01325, 12)
     expect(convertValue(2.01325, 'bara', 'barg', { atmosphericPressure: atm })).toBeCloseTo(1, 12)
     // 10 psig with 101.325 kPa atmosphere: 68.947573 + 101.325 kPa (1 psi = 6.894757 kPa, from memory)
-    expect(convertValue(10, 'psig', 'kPa(a)', { atmosphericPressure: { value: 101.325, unit: 'kPa' } })).toBeCloseTo(170.272573, 5)
+    expect(convertValue(10, 'psig', 'kPa(a)', { atmosphericPressure: { value: 101.325, unit: 'kPa' } })).toBeCloseTo(
+      170.272573,
+      5,
+    )
   })
 
   it('keeps the reference when both sides share it, without needing the atmosphere', () => {
@@ -135,8 +150,12 @@ describe('gauge and absolute pressure', () => {
   it('refuses a reference on one side only, and a gauge atmospheric pressure', () => {
     expect(() => convertValue(1, 'bar', 'bar(g)')).toThrow(UnitConversionError)
     expect(() => convertValue(1, 'bar(a)', 'kPa', { atmosphericPressure: atm })).toThrow(UnitConversionError)
-    expect(() => convertValue(1, 'bar(g)', 'bar(a)', { atmosphericPressure: { value: 0, unit: 'bar(g)' } })).toThrow(UnitConversionError)
-    expect(() => convertValue(1, 'bar(g)', 'bar(a)', { atmosphericPressure: { value: 0, unit: 'bar' } })).toThrow(OutOfRangeError)
+    expect(() => convertValue(1, 'bar(g)', 'bar(a)', { atmosphericPressure: { value: 0, unit: 'bar(g)' } })).toThrow(
+      UnitConversionError,
+    )
+    expect(() => convertValue(1, 'bar(g)', 'bar(a)', { atmosphericPressure: { value: 0, unit: 'bar' } })).toThrow(
+      OutOfRangeError,
+    )
   })
 
   it('converts pressure differences across references (no atmosphere needed)', () => {
@@ -146,7 +165,13 @@ describe('gauge and absolute pressure', () => {
 
 describe('unknown and incompatible units', () => {
   it.each([
-    ['furlong', 'm'], ['m', 'furlong'], ['bar', '°C'], ['%', 'm'], ['m³/h', 'kg/h'], ['MBAR', 'bar'], ['°C(g)', 'K'],
+    ['furlong', 'm'],
+    ['m', 'furlong'],
+    ['bar', '°C'],
+    ['%', 'm'],
+    ['m³/h', 'kg/h'],
+    ['MBAR', 'bar'],
+    ['°C(g)', 'K'],
   ])('%s → %s throws UnitConversionError', (from, to) => {
     expect(() => convertValue(1, from, to)).toThrow(UnitConversionError)
     expect(() => convertDifference(1, from, to)).toThrow(UnitConversionError)
@@ -167,11 +192,19 @@ describe('unit lists and spellings', () => {
         expect(variableOfUnit(u)).toBe(variable)
       }
     }
-    expect(UNITS_BY_VARIABLE.pressure).toEqual(expect.arrayContaining(['Pa', 'kPa', 'MPa', 'bar', 'mbar', 'psi', 'kg/cm²', 'mmH2O', 'inH2O', 'mmHg']))
+    expect(UNITS_BY_VARIABLE.pressure).toEqual(
+      expect.arrayContaining(['Pa', 'kPa', 'MPa', 'bar', 'mbar', 'psi', 'kg/cm²', 'mmH2O', 'inH2O', 'mmHg']),
+    )
   })
 
   it.each([
-    ['degC', '°C'], ['℉', '°F'], ['kg/cm2', 'kg/cm²'], ['m3/h', 'm³/h'], ['barg', 'bar'], ['kPa(a)', 'kPa'], [' bar ', 'bar'],
+    ['degC', '°C'],
+    ['℉', '°F'],
+    ['kg/cm2', 'kg/cm²'],
+    ['m3/h', 'm³/h'],
+    ['barg', 'bar'],
+    ['kPa(a)', 'kPa'],
+    [' bar ', 'bar'],
   ])('accepts %s as %s', (spelling, canonical) => {
     expect(canonicalUnit(spelling)).toBe(canonical)
   })

@@ -3,7 +3,10 @@ import { type LocationQuery, type LocationQueryRaw, useRoute, useRouter } from '
 import type { LimitFilters, LimitListQuery } from '../api'
 
 /** A sort key of the data table, as Vuetify keeps it. */
-export interface SortItem { key: string, order: 'asc' | 'desc' }
+export interface SortItem {
+  key: string
+  order: 'asc' | 'desc'
+}
 
 /** The register's filters as the screen edits them (every multi-choice filter is a list). */
 export interface RegisterFilterState {
@@ -22,7 +25,18 @@ export interface RegisterFilterState {
   q: string
 }
 
-const LIST_KEYS = ['siteId', 'areaId', 'processId', 'instrumentId', 'limitClass', 'direction', 'sil', 'status', 'protectionState', 'testStatus'] as const
+const LIST_KEYS = [
+  'siteId',
+  'areaId',
+  'processId',
+  'instrumentId',
+  'limitClass',
+  'direction',
+  'sil',
+  'status',
+  'protectionState',
+  'testStatus',
+] as const
 const ID_KEYS = new Set(['siteId', 'areaId', 'processId', 'instrumentId'])
 export const PAGE_SIZES = [25, 50, 100, 200]
 const DEFAULT_PAGE_SIZE = 50
@@ -38,14 +52,29 @@ const bool = (v: string) => (v === 'true' || v === 'false' ? v : null)
 
 function emptyFilters(): RegisterFilterState {
   return {
-    siteId: [], areaId: [], processId: [], instrumentId: [], limitClass: [], direction: [], sil: [], status: [], protectionState: [], testStatus: [],
-    hasWarnings: null, hasErrors: null, q: '',
+    siteId: [],
+    areaId: [],
+    processId: [],
+    instrumentId: [],
+    limitClass: [],
+    direction: [],
+    sil: [],
+    status: [],
+    protectionState: [],
+    testStatus: [],
+    hasWarnings: null,
+    hasErrors: null,
+    q: '',
   }
 }
 
 /** Reads the sort parameter `-setpoint,tag`. */
 export function parseSortParam(s: string): SortItem[] {
-  return s.split(',').map((x) => x.trim()).filter(Boolean).map((x) => ({ key: x.replace(/^-/, ''), order: x.startsWith('-') ? 'desc' as const : 'asc' as const }))
+  return s
+    .split(',')
+    .map((x) => x.trim())
+    .filter(Boolean)
+    .map((x) => ({ key: x.replace(/^-/, ''), order: x.startsWith('-') ? ('desc' as const) : ('asc' as const) }))
 }
 /** Writes the sort parameter `-setpoint,tag`. */
 export function sortParam(items: SortItem[]): string {
@@ -68,7 +97,9 @@ export function useRegisterQuery() {
     const next = emptyFilters()
     for (const k of LIST_KEYS) {
       const values = list(query[k])
-      ;(next[k] as (string | number)[]) = ID_KEYS.has(k) ? values.map(Number).filter((n) => Number.isInteger(n) && n > 0) : values
+      ;(next[k] as (string | number)[]) = ID_KEYS.has(k)
+        ? values.map(Number).filter((n) => Number.isInteger(n) && n > 0)
+        : values
     }
     next.hasWarnings = bool(first(query.hasWarnings))
     next.hasErrors = bool(first(query.hasErrors))
@@ -92,28 +123,40 @@ export function useRegisterQuery() {
   })
 
   const apiQuery = computed<LimitListQuery>(() => ({
-    ...apiFilters.value, sort: sortParam(sortBy.value) || undefined, page: page.value, pageSize: pageSize.value,
+    ...apiFilters.value,
+    sort: sortParam(sortBy.value) || undefined,
+    page: page.value,
+    pageSize: pageSize.value,
   }))
 
   function toLocation(): LocationQueryRaw {
     const q: LocationQueryRaw = {}
     for (const [k, v] of Object.entries(apiQuery.value)) {
-      if (v === undefined || v === '' || (k === 'page' && v === 1) || (k === 'pageSize' && v === DEFAULT_PAGE_SIZE)) continue
+      if (v === undefined || v === '' || (k === 'page' && v === 1) || (k === 'pageSize' && v === DEFAULT_PAGE_SIZE))
+        continue
       q[k] = Array.isArray(v) ? v.map(String) : String(v)
     }
     return q
   }
 
-  const key = (q: LocationQuery | LocationQueryRaw) => JSON.stringify(Object.keys(q).sort().map((k) => [k, list(q[k] as LocationQuery[string])]))
+  const key = (q: LocationQuery | LocationQueryRaw) =>
+    JSON.stringify(
+      Object.keys(q)
+        .sort()
+        .map((k) => [k, list(q[k] as LocationQuery[string])]),
+    )
 
   readFrom(route.query)
   let readKey = JSON.stringify(apiFilters.value)
 
   // Any change of the filters by the user starts again at page 1; filters read from the URL keep its page.
-  watch(() => JSON.stringify(apiFilters.value), (k) => {
-    if (k !== readKey) page.value = 1
-    readKey = k
-  })
+  watch(
+    () => JSON.stringify(apiFilters.value),
+    (k) => {
+      if (k !== readKey) page.value = 1
+      readKey = k
+    },
+  )
 
   /** Writes the state into the URL without a new history entry. */
   function sync() {
@@ -122,12 +165,15 @@ export function useRegisterQuery() {
   }
 
   // A URL changed from outside (navigation link, back to a replaced entry): take it over.
-  watch(() => route.query, (q) => {
-    if (route.name === 'register' && key(q) !== key(toLocation())) {
-      readFrom(q)
-      readKey = JSON.stringify(apiFilters.value)
-    }
-  })
+  watch(
+    () => route.query,
+    (q) => {
+      if (route.name === 'register' && key(q) !== key(toLocation())) {
+        readFrom(q)
+        readKey = JSON.stringify(apiFilters.value)
+      }
+    },
+  )
 
   function clearFilters() {
     Object.assign(filters, emptyFilters())

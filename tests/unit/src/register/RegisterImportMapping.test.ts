@@ -18,7 +18,13 @@ function mountMapping(mapping: ImportMapping, remembered: ImportMapping = {}) {
 
 describe('RegisterImportMapping', () => {
   it('emits the whole mapping with the changed column when a select changes', async () => {
-    const start: ImportMapping = { 'Area': 'area', 'Unit name': 'process', 'Sensor': 'instrumentTag', 'Function tag': '', 'Remarks': '' }
+    const start: ImportMapping = {
+      Area: 'area',
+      'Unit name': 'process',
+      Sensor: 'instrumentTag',
+      'Function tag': '',
+      Remarks: '',
+    }
     const wrapper = mountMapping(start)
     const selects = wrapper.findAllComponents(VAutocomplete)
     expect(selects).toHaveLength(HEADERS.length)
@@ -34,20 +40,28 @@ describe('RegisterImportMapping', () => {
   })
 
   it('flags a required column that no header is mapped to, and clears the flag once it is mapped', async () => {
-    const wrapper = mountMapping({ 'Area': 'area', 'Unit name': 'process', 'Sensor': 'instrumentTag', 'Function tag': '', 'Remarks': '' })
+    const wrapper = mountMapping({
+      Area: 'area',
+      'Unit name': 'process',
+      Sensor: 'instrumentTag',
+      'Function tag': '',
+      Remarks: '',
+    })
     const flag = wrapper.find('[data-test="mapping-missing"]')
     expect(flag.exists()).toBe(true)
     expect(flag.text()).toContain('Limit tag')
     expect(flag.text()).not.toContain('Area,')
     expect(wrapper.find('[data-test="mapping-count"]').text()).toContain('3 of 5 columns')
 
-    await wrapper.setProps({ modelValue: { 'Area': 'area', 'Unit name': 'process', 'Sensor': 'instrumentTag', 'Function tag': 'tag', 'Remarks': '' } })
+    await wrapper.setProps({
+      modelValue: { Area: 'area', 'Unit name': 'process', Sensor: 'instrumentTag', 'Function tag': 'tag', Remarks: '' },
+    })
     expect(wrapper.find('[data-test="mapping-missing"]').exists()).toBe(false)
   })
 
   it('marks two headers mapped to one field and says where each choice came from', () => {
     const wrapper = mountMapping(
-      { 'Area': 'area', 'Unit name': 'process', 'Sensor': 'instrumentTag', 'Function tag': 'tag', 'Remarks': 'tag' },
+      { Area: 'area', 'Unit name': 'process', Sensor: 'instrumentTag', 'Function tag': 'tag', Remarks: 'tag' },
       { 'Unit name': 'process' },
     )
     expect(wrapper.find('[data-test="mapping-row-4"]').text()).toContain('Limit tag is also chosen for “Function tag”')
