@@ -14,15 +14,31 @@ export const MA_SPAN = MA_HIGH - MA_LOW
 /** Conventional shunt that turns 4–20 mA into 1–5 V, ohm (ISA-50.00.01, from memory in analog-signals.md). */
 export const SHUNT_OHMS = 250
 
+/**
+ * The range bottom must lie below the range top. A reverse-acting transmitter (20 mA at the bottom) is entered with
+ * its range in rising order, as the register keeps it; the signal math refuses LRV > URV so that both agree
+ * (docs/domain/test-signals.md, "4–20 mA, square root, voltage").
+ */
 function checkRange(low: number, high: number): void {
   if (!(Number.isFinite(low) && Number.isFinite(high)) || low === high) {
     throw new RangeError(`The range ${low} … ${high} has no span`)
   }
+  if (low > high) {
+    throw new RangeError(
+      `The range bottom ${low} lies above the range top ${high}: enter the range in rising order (bottom below top)`,
+    )
+  }
 }
 
-/** Fraction of span (0 at low, 1 at high) of an engineering value; works for reverse ranges (low > high). */
+/** Refuses NaN and ±∞ with the name of the input, instead of passing NaN on to the answer. */
+function finite(value: number, name: string): void {
+  if (!Number.isFinite(value)) throw new RangeError(`${name} must be a finite number, got ${value}`)
+}
+
+/** Fraction of span (0 at low, 1 at high) of an engineering value; the range must rise (low < high). */
 export function fractionOfSpan(value: number, low: number, high: number): number {
   checkRange(low, high)
+  finite(value, 'The value')
   return (value - low) / (high - low)
 }
 
@@ -34,6 +50,7 @@ export function currentFromValue(value: number, low: number, high: number): numb
 /** Engineering value for a current in mA over the range low … high, linear: PV = LRV + (I − 4)/16·(URV − LRV). */
 export function valueFromCurrent(mA: number, low: number, high: number): number {
   checkRange(low, high)
+  finite(mA, 'The current')
   return low + ((mA - MA_LOW) / MA_SPAN) * (high - low)
 }
 
@@ -63,13 +80,25 @@ export interface SqrtOptions {
 }
 
 /**
+ * Highest low-flow cut-off accepted, % of flow span. Typical cut-offs are 0.5–10 % of flow (common practice, no
+ * standard value); above 20 % the cut-off would hide a real flow, and 100 % or more would read every flow as zero.
+ */
+export const LOW_FLOW_CUTOFF_MAX_PERCENT = 20
+
+/**
  * Flow for a current in mA from a linear-in-ΔP transmitter: Q = low + (high − low)·√((I − 4)/16); I ≤ 4 mA gives `low`.
  * An optional low-flow cut-off forces the result to `low` below that percentage of flow span.
  */
 export function flowFromSqrtCurrent(mA: number, low: number, high: number, options: SqrtOptions = {}): number {
   checkRange(low, high)
-  const x = mA <= MA_LOW ? 0 : Math.sqrt((mA - MA_LOW) / MA_SPAN)
+  finite(mA, 'The current')
   const cutoff = options.lowFlowCutoffPercent ?? 0
+  if (!(Number.isFinite(cutoff) && cutoff >= 0 && cutoff <= LOW_FLOW_CUTOFF_MAX_PERCENT)) {
+    throw new RangeError(
+      `The low-flow cut-off must be between 0 and ${LOW_FLOW_CUTOFF_MAX_PERCENT} % of flow span, got ${cutoff}`,
+    )
+  }
+  const x = mA <= MA_LOW ? 0 : Math.sqrt((mA - MA_LOW) / MA_SPAN)
   if (x * 100 < cutoff) return low
   return low + x * (high - low)
 }
@@ -88,6 +117,7 @@ export function voltageFromValue(value: number, low: number, high: number, signa
 /** Engineering value for a voltage on a voltage signal over low … high, linear. */
 export function valueFromVoltage(volts: number, low: number, high: number, signal: VoltageRange): number {
   checkRange(low, high)
+  finite(volts, 'The voltage')
   return low + ((volts - signal.low) / (signal.high - signal.low)) * (high - low)
 }
 
@@ -123,9 +153,30 @@ export const NE43_THRESHOLDS: Ne43Thresholds = { failureLow: 3.6, measureLow: 3.
 // Computed currents carry binary rounding noise (e.g. 3.8000000000000003); compare with this margin.
 const MA_EPS = 1e-9
 
+/**
+ * Checks per-loop thresholds: finite and in the order of the NE 43 bands, failureLow < measureLow ≤ 4 mA and
+ * 20 mA ≤ measureHigh < failureHigh. Inverted thresholds would classify a failed loop as measuring.
+ */
+export function checkNe43Thresholds(t: Ne43Thresholds): void {
+  const values = [t.failureLow, t.measureLow, t.measureHigh, t.failureHigh]
+  if (!values.every((v) => Number.isFinite(v))) throw new RangeError('NE 43 thresholds must be finite numbers of mA')
+  if (!(
+    t.failureLow < t.measureLow &&
+    t.measureLow <= MA_LOW &&
+    MA_HIGH <= t.measureHigh &&
+    t.measureHigh < t.failureHigh
+  )) {
+    throw new RangeError(
+      `NE 43 thresholds must rise: failure low < measure low ≤ 4 mA and 20 mA ≤ measure high < failure high, got ` +
+        `${t.failureLow} / ${t.measureLow} / ${t.measureHigh} / ${t.failureHigh} mA`,
+    )
+  }
+}
+
 /** Classifies a current in mA by the NE 43 bands (boundaries inclusive as in NE 43: 3.6 is failure, 3.8 and 20.5 measure). */
 export function classifyCurrent(mA: number, thresholds: Ne43Thresholds = NE43_THRESHOLDS): Ne43Class {
   if (Number.isNaN(mA)) throw new RangeError('Current is not a number')
+  if (thresholds !== NE43_THRESHOLDS) checkNe43Thresholds(thresholds)
   if (mA <= thresholds.failureLow + MA_EPS) return 'failure_low'
   if (mA >= thresholds.failureHigh - MA_EPS) return 'failure_high'
   if (mA < thresholds.measureLow - MA_EPS) return 'uncertain_low'

@@ -5,6 +5,20 @@ function show(x: number): string {
   return Number.isNaN(x) ? 'NaN' : x > 0 ? '∞' : '−∞'
 }
 
+/**
+ * The value with as many digits as it takes to differ from the bounds it is shown beside: 1372.0001 °C reads
+ * "1372.0001", never "1372", next to a top of 1372 °C.
+ */
+function showApart(x: number, bounds: number[]): string {
+  if (!Number.isFinite(x)) return show(x)
+  for (let digits = 7; digits <= 17; digits++) {
+    const text = String(Number(x.toPrecision(digits)))
+    if (!bounds.some((b) => b !== x && Number.isFinite(b) && text === String(Number(b.toPrecision(digits)))))
+      return text
+  }
+  return String(x)
+}
+
 /** A value lies outside the range where a reference function (or a signal) is defined; never extrapolated. */
 export class OutOfRangeError extends Error {
   /** API error code the server answers with (422). */
@@ -23,7 +37,7 @@ export class OutOfRangeError extends Error {
   /** Builds the error; `explanation` is appended to the standard message. */
   constructor(quantity: string, value: number, min: number, max: number, unit: string, explanation?: string) {
     super(
-      `${quantity} ${show(value)} ${unit} is outside the valid range ${show(min)} … ${show(max)} ${unit}` +
+      `${quantity} ${showApart(value, [min, max])} ${unit} is outside the valid range ${show(min)} … ${show(max)} ${unit}` +
         (explanation ? `: ${explanation}` : ''),
     )
     this.name = 'OutOfRangeError'

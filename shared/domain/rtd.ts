@@ -24,6 +24,8 @@ export type RtdElement = 'Pt100' | 'Pt1000'
 export const R0_BY_ELEMENT: Record<RtdElement, number> = { Pt100: 100, Pt1000: 1000 }
 
 const EDGE_EPS = 1e-9
+/** Half the last printed step of the IEC 60751 Pt100 table (0.01 Ω), ohm; scaled by R0/100 for other elements. */
+export const TABLE_OHM_HALF_STEP_PT100 = 0.005
 
 function ratio(t: number): number {
   return t < 0 ? 1 + CVD_A * t + CVD_B * t * t + CVD_C * (t - 100) * t * t * t : 1 + CVD_A * t + CVD_B * t * t
@@ -62,6 +64,11 @@ export function rtdTemperature(rOhm: number, r0: number): number {
   checkR0(r0)
   const rMin = r0 * ratio(RTD_T_MIN)
   const rMax = r0 * ratio(RTD_T_MAX)
+  // The IEC 60751 table prints Pt100 resistances to 0.01 Ω (18.52 Ω at −200 °C, where the equation gives
+  // 18.5201 Ω): accept within half that step, scaled with R0, and clamp to the range end.
+  const halfStep = (TABLE_OHM_HALF_STEP_PT100 * r0) / 100
+  if (Number.isFinite(rOhm) && rOhm < rMin && rOhm >= rMin - halfStep) return RTD_T_MIN
+  if (Number.isFinite(rOhm) && rOhm > rMax && rOhm <= rMax + halfStep) return RTD_T_MAX
   if (!Number.isFinite(rOhm) || rOhm < rMin || rOhm > rMax) {
     throw new OutOfRangeError(
       'resistance',

@@ -479,6 +479,8 @@ const B_EMF_MIN = 0.291
 
 // Tolerance on range edges for values that came through a unit conversion (e.g. 2501.6 °F → 1372.0000000001 °C).
 const EDGE_EPS = 1e-9
+/** Half the last printed step of the NIST ITS-90 thermocouple tables (0.001 mV), mV. */
+export const TABLE_EMF_HALF_STEP = 0.0005
 
 const B_EXPLANATION =
   'a type B thermocouple gives almost no emf at low temperature: the emf falls slightly below zero ' +
@@ -590,6 +592,14 @@ export function thermocoupleInverseApprox(type: TcType, emfMv: number): number |
  */
 export function thermocoupleTemperature(type: TcType, emfMv: number): number {
   const range = thermocoupleRange(type)
+  // Published table values at the range ends are rounded to 0.001 mV (NIST −6.458 mV at −270 °C for type K, where
+  // the function gives −6.4577 mV): accept within half that step and clamp to the end.
+  if (Number.isFinite(emfMv) && emfMv < range.emfMin && emfMv >= range.emfMin - TABLE_EMF_HALF_STEP) {
+    emfMv = range.emfMin
+  }
+  if (Number.isFinite(emfMv) && emfMv > range.emfMax && emfMv <= range.emfMax + TABLE_EMF_HALF_STEP) {
+    emfMv = range.emfMax
+  }
   if (!Number.isFinite(emfMv) || emfMv < range.emfMin || emfMv > range.emfMax) {
     const explanation =
       type === 'B' && emfMv < range.emfMin
@@ -597,6 +607,8 @@ export function thermocoupleTemperature(type: TcType, emfMv: number): number {
         : `the type ${type} reference function covers ${range.tMin} to ${range.tMax} °C`
     throw new OutOfRangeError('emf', emfMv, range.emfMin, range.emfMax, 'mV', explanation)
   }
+  if (type !== 'B' && emfMv === range.emfMin) return range.tMin
+  if (emfMv === range.emfMax) return range.tMax
   // Bracket [lo, hi] with E(lo) ≤ emf ≤ E(hi). E(t) rises monotonically over each forward range, except type B
   // below about 21 °C; the type B bracket starts at 200 °C (E = 0.178 mV < 0.291 mV).
   let lo = type === 'B' ? 200 : range.tMin
@@ -619,7 +631,25 @@ export function thermocoupleTemperature(type: TcType, emfMv: number): number {
 
 /** mV a source must inject at the instrument terminals (cold junction at tCj °C) to simulate tHot °C: E(tHot) − E(tCj). */
 export function mvSourceValue(type: TcType, tHotC: number, tCjC: number): number {
-  return thermocoupleEmf(type, tHotC) - thermocoupleEmf(type, tCjC)
+  return thermocoupleEmf(type, tHotC) - coldJunctionEmf(type, tCjC)
+}
+
+/** E(tCj) of the cold junction; a cold junction outside the type's range is named as such in the error. */
+function coldJunctionEmf(type: TcType, tCjC: number): number {
+  checkType(type)
+  const { tMin, tMax } = tRange(type)
+  if (!Number.isFinite(tCjC) || tCjC < tMin - EDGE_EPS || tCjC > tMax + EDGE_EPS) {
+    throw new OutOfRangeError(
+      'cold-junction temperature',
+      tCjC,
+      tMin,
+      tMax,
+      '°C',
+      `the type ${type} reference function is defined from ${tMin} to ${tMax} °C, so it cannot compensate a ` +
+        'cold junction at this temperature',
+    )
+  }
+  return thermocoupleEmf(type, tCjC)
 }
 
 /**
@@ -627,5 +657,5 @@ export function mvSourceValue(type: TcType, tHotC: number, tCjC: number): number
  * t = t(E_meas + E(tCj)). (Adding tCj to t(E_meas) is wrong except for a linear thermocouple.)
  */
 export function temperatureFromMeasured(type: TcType, emfMeasuredMv: number, tCjC: number): number {
-  return thermocoupleTemperature(type, emfMeasuredMv + thermocoupleEmf(type, tCjC))
+  return thermocoupleTemperature(type, emfMeasuredMv + coldJunctionEmf(type, tCjC))
 }

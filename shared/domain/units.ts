@@ -188,6 +188,7 @@ export function convertValue(value: number, from: string, to: string, options: C
   const a = parse(from, to)
   const b = parse(to, from)
   sameDimension(a, b, from, to)
+  if (!Number.isFinite(value)) throw new RangeError(`The value to convert must be a finite number, got ${value}`)
   if (a.def.dimension === 'temperature') {
     const celsius = toCelsius(value, a.symbol)
     if (celsius < -273.15) {
@@ -210,8 +211,16 @@ export function convertValue(value: number, from: string, to: string, options: C
         `Cannot convert '${from}' to '${to}': state gauge (g) or absolute (a) on both sides or on neither`,
       )
     }
+    // An absolute pressure cannot be below zero (perfect vacuum), as a temperature cannot be below absolute zero.
+    if (a.reference === 'a' && value < 0) {
+      throw new OutOfRangeError('absolute pressure', value, 0, Number.POSITIVE_INFINITY, from, 'below perfect vacuum')
+    }
     let pa = value * a.def.factor
     if (a.reference !== b.reference) pa += (a.reference === 'g' ? 1 : -1) * atmosphericPa(options, from, to)
+    if (b.reference === 'a' && pa < 0) {
+      const atm = atmosphericPa(options, from, to) / a.def.factor
+      throw new OutOfRangeError('gauge pressure', value, -atm, Number.POSITIVE_INFINITY, from, 'below perfect vacuum')
+    }
     return a.symbol === b.symbol && a.reference === b.reference ? value : pa / b.def.factor
   }
   return a.symbol === b.symbol ? value : (value * a.def.factor) / b.def.factor
@@ -225,6 +234,7 @@ export function convertDifference(value: number, from: string, to: string): numb
   const a = parse(from, to)
   const b = parse(to, from)
   sameDimension(a, b, from, to)
+  if (!Number.isFinite(value)) throw new RangeError(`The difference to convert must be a finite number, got ${value}`)
   if (a.def.dimension === 'temperature') {
     if (a.def.factor === b.def.factor) return value
     return b.symbol === '°F' ? value * 1.8 : value / 1.8

@@ -157,13 +157,19 @@ export type Instrument = z.infer<typeof InstrumentSchema>
 /** One subsystem of a safety instrumented function (IEC 61508-6 simplified equations). */
 export const SubsystemSchema = z.object({
   role: z.enum(['sensor', 'logic', 'final_element']),
-  architecture: z.enum(['1oo1', '1oo2', '2oo2', '2oo3']),
+  architecture: z.enum(['1oo1', '1oo2', '2oo2', '2oo3', '1oo2D']),
   lambdaDu: z.number().positive('λDU must be positive (per hour)').max(1e-2),
   beta: z.number().min(0).max(0.3),
   mttrHours: z.number().min(0).max(8760),
   testIntervalMonths: z.number().positive().max(240),
   testCoverage: z.number().min(0).max(1),
   missionTimeYears: z.number().positive().max(50),
+  /** λDD per channel, h⁻¹ (optional, default 0) */
+  lambdaDd: z.number().min(0).max(1e-2).optional(),
+  /** λSD per channel, h⁻¹ (optional, default 0; counts in 1oo2D) */
+  lambdaSd: z.number().min(0).max(1e-2).optional(),
+  /** mean repair time of a failure found at a proof test, h (optional, default: MTTR) */
+  mrtHours: z.number().min(0).max(8760).optional(),
 })
 export type Subsystem = z.infer<typeof SubsystemSchema>
 

@@ -5,6 +5,7 @@ import {
   currentFromValue,
   flowFromSqrtCurrent,
   isMeasurementCurrent,
+  LOW_FLOW_CUTOFF_MAX_PERCENT,
   NE43_THRESHOLDS,
   shuntVoltage,
   sqrtCurrentFromFlow,
@@ -45,10 +46,13 @@ describe('4–20 mA linear scaling', () => {
     expect(currentFromValue(pv, low, high)).toBeCloseTo(mA, 9)
   })
 
-  it('handles a reverse-acting range (LRV > URV) with the same formula', () => {
-    // analog-signals.md: "Reverse-acting ranges simply have LRV > URV; the same formula applies."
-    expect(currentFromValue(25, 100, 0)).toBeCloseTo(16, 9)
-    expect(valueFromCurrent(16, 100, 0)).toBeCloseTo(25, 9)
+  it('refuses a reverse-entered range (LRV > URV), as the register does', () => {
+    // The register keeps every range in rising order (bottom below top) and the signal math agrees with it, so a
+    // range entered upside down is refused with a sentence rather than silently inverting the signal
+    // (docs/domain/test-signals.md, "4–20 mA, square root, voltage").
+    expect(() => currentFromValue(25, 100, 0)).toThrow(/rising order/)
+    expect(() => valueFromCurrent(16, 100, 0)).toThrow(/rising order/)
+    expect(() => flowFromSqrtCurrent(12, 100, 0)).toThrow(/rising order/)
   })
 
   it('refuses a range without span', () => {
@@ -162,5 +166,53 @@ describe('NAMUR NE 43 classification', () => {
     const thresholds = { ...NE43_THRESHOLDS, failureHigh: 21.6 }
     expect(classifyCurrent(21.2, thresholds)).toBe('uncertain_high')
     expect(classifyCurrent(21.6, thresholds)).toBe('failure_high')
+  })
+})
+
+describe('bad numbers are refused, never passed on as NaN', () => {
+  // A NaN reading or setpoint must not come back as a NaN signal (common practice: refuse invalid input).
+  it.each([
+    ['currentFromValue', () => currentFromValue(Number.NaN, 0, 100)],
+    ['valueFromCurrent', () => valueFromCurrent(Number.NaN, 0, 100)],
+    ['flowFromSqrtCurrent', () => flowFromSqrtCurrent(Number.NaN, 0, 100)],
+    ['valueFromVoltage', () => valueFromVoltage(Number.NaN, 0, 100, { low: 1, high: 5 })],
+    ['currentFromValue (∞)', () => currentFromValue(Number.POSITIVE_INFINITY, 0, 100)],
+  ])('%s refuses NaN', (_name, call) => {
+    expect(call).toThrow(RangeError)
+  })
+})
+
+describe('low-flow cut-off bounds', () => {
+  // analog-signals.md: typical cut-offs are 1 % of ΔP span ≈ 10 % of flow, or 0.5–6 % of flow (common practice).
+  // The product accepts 0 … 20 % of flow span; 150 % would read every flow as zero.
+  it.each([150, 100, 20.5, -1, Number.NaN])('refuses a cut-off of %s %%', (cutoff) => {
+    expect(() => flowFromSqrtCurrent(12, 0, 100, { lowFlowCutoffPercent: cutoff })).toThrow(/low-flow cut-off/)
+  })
+
+  it('accepts the bounds 0 and 20 %', () => {
+    expect(LOW_FLOW_CUTOFF_MAX_PERCENT).toBe(20)
+    // 12 mA = 70.711 % flow (table above): above either cut-off
+    expect(flowFromSqrtCurrent(12, 0, 100, { lowFlowCutoffPercent: 0 })).toBeCloseTo(70.711, 3)
+    expect(flowFromSqrtCurrent(12, 0, 100, { lowFlowCutoffPercent: 20 })).toBeCloseTo(70.711, 3)
+    // 4.16 mA = 10 % flow: below a 20 % cut-off
+    expect(flowFromSqrtCurrent(4.16, 0, 100, { lowFlowCutoffPercent: 20 })).toBe(0)
+  })
+})
+
+describe('NE 43 per-loop thresholds must keep the order of the bands', () => {
+  // NE 43 bands via analog-signals.md: failure ≤ 3.6 < uncertain < 3.8 ≤ measuring ≤ 20.5 < uncertain < 21.0 ≤ failure
+  it.each([
+    ['failure low above measure low', { failureLow: 3.9, measureLow: 3.8, measureHigh: 20.5, failureHigh: 21 }],
+    ['failure high below measure high', { failureLow: 3.6, measureLow: 3.8, measureHigh: 20.5, failureHigh: 20 }],
+    ['measure low above 4 mA', { failureLow: 3.6, measureLow: 4.2, measureHigh: 20.5, failureHigh: 21 }],
+    ['measure high below 20 mA', { failureLow: 3.6, measureLow: 3.8, measureHigh: 19.5, failureHigh: 21 }],
+    ['all inverted', { failureLow: 21, measureLow: 20.5, measureHigh: 3.8, failureHigh: 3.6 }],
+    ['NaN', { failureLow: Number.NaN, measureLow: 3.8, measureHigh: 20.5, failureHigh: 21 }],
+  ])('refuses %s', (_name, thresholds) => {
+    expect(() => classifyCurrent(12, thresholds)).toThrow(/NE 43 thresholds/)
+  })
+
+  it('accepts thresholds that touch 4 and 20 mA', () => {
+    expect(classifyCurrent(12, { failureLow: 3.6, measureLow: 4, measureHigh: 20, failureHigh: 21 })).toBe('measuring')
   })
 })

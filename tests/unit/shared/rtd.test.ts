@@ -96,7 +96,7 @@ describe('IEC 60751 inverse t(R)', () => {
     expect(worst).toBeLessThan(1e-6)
   })
 
-  it.each([18.52, 390.49, Number.NaN])('throws OutOfRangeError at %d Ω for a Pt100', (r) => {
+  it.each([18.514, 390.487, Number.NaN])('throws OutOfRangeError at %d Ω for a Pt100', (r) => {
     let error: unknown
     try {
       rtdTemperature(r, 100)
@@ -107,5 +107,19 @@ describe('IEC 60751 inverse t(R)', () => {
     expect(error).toMatchObject({ quantity: 'resistance', unit: 'ohm' })
     expect((error as OutOfRangeError).min).toBeCloseTo(18.5201, 4)
     expect((error as OutOfRangeError).max).toBeCloseTo(390.4811, 4)
+  })
+})
+
+describe('IEC 60751 table values at the range ends', () => {
+  // The IEC 60751 table (via ../shared/reference/rtd.md) prints 18.52 Ω at −200 °C and 390.48 Ω at 850 °C for a
+  // Pt100, rounded to 0.01 Ω; the equation gives 18.5201 and 390.4811 Ω. A value within half the printed step of the
+  // range end is accepted and clamped to the end; beyond that it is refused (above).
+  it.each([
+    [18.52, 100, -200],
+    [390.485, 100, 850],
+    [185.2, 1000, -200],
+    [3904.85, 1000, 850],
+  ])('reads the table value %d Ω (R0 %d Ω) as %d °C', (r, r0, t) => {
+    expect(rtdTemperature(r, r0)).toBe(t)
   })
 })

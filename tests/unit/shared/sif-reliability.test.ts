@@ -3,6 +3,9 @@ import { describe, expect, it } from 'vitest'
 import {
   compareToTarget,
   DEFAULT_DEGRADED_ARCHITECTURE,
+  pfdWarnings,
+  SIMPLIFIED_LAMBDA_T_MAX,
+  subsystemPfdDetail,
   effectivePfd,
   rrf,
   sifPfd,
@@ -80,19 +83,19 @@ describe('subsystemPfd: simplified equations, MTTR terms omitted', () => {
 
   // Independent cross-check: the printed simplified equations (sif-reliability.md table) evaluated by mathjs,
   // against our IEC 61508-6 group-time implementation with MTTR = 0 and full coverage.
-  const printed: Record<Architecture, string> = {
+  const printed: Record<Exclude<Architecture, '1oo2D'>, string> = {
     '1oo1': 'l * T / 2',
     '1oo2': '((1 - b) * l * T)^2 / 3 + b * l * T / 2',
     '2oo2': 'l * T',
     '2oo3': '((1 - b) * l * T)^2 + b * l * T / 2',
     '1oo3': '((1 - b) * l * T)^3 / 4 + b * l * T / 2',
   }
-  const grid: [Architecture, number, number, number][] = []
-  for (const architecture of Object.keys(printed) as Architecture[]) {
+  const grid: [Exclude<Architecture, '1oo2D'>, number, number, number][] = []
+  for (const architecture of Object.keys(printed) as Exclude<Architecture, '1oo2D'>[]) {
     for (const [l, b, months] of [
       [1e-7, 0.02, 3],
       [3.3e-6, 0.2, 36],
-      [5e-6, 0, 48],
+      [5e-6, 0, 24],
     ] as const)
       grid.push([architecture, l, b, months])
   }
@@ -179,7 +182,13 @@ describe('subsystemPfd: partial proof-test coverage', () => {
   // q(t) = C·λ·(t mod TI) + (1 − C)·λ·t, combined per voting (1oo1: q, 2oo2: 2q, 1oo2: q², 2oo3: 3q², 1oo3: q³),
   // by midpoint integration. 1oo1 and 2oo2 must agree; the voted forms must be conservative (not below the average)
   // and within 30 %, see docs/domain/sif-reliability.md.
-  function averaged(architecture: Architecture, lambda: number, c: number, ti: number, mission: number): number {
+  function averaged(
+    architecture: Exclude<Architecture, '1oo2D'>,
+    lambda: number,
+    c: number,
+    ti: number,
+    mission: number,
+  ): number {
     const steps = 200_000
     const dt = mission / steps
     let sum = 0
@@ -190,8 +199,8 @@ describe('subsystemPfd: partial proof-test coverage', () => {
     }
     return sum / steps
   }
-  const cases: [Architecture, number][] = []
-  for (const architecture of ['1oo1', '2oo2', '1oo2', '2oo3', '1oo3'] as Architecture[]) {
+  const cases: [Exclude<Architecture, '1oo2D'>, number][] = []
+  for (const architecture of ['1oo1', '2oo2', '1oo2', '2oo3', '1oo3'] as const) {
     for (const c of [0.9, 0.6]) cases.push([architecture, c])
   }
   it.each(cases)('%s, coverage %s against the time average', (architecture, testCoverage) => {
@@ -385,13 +394,16 @@ describe('effectivePfd', () => {
     expectDigits(r.pfd, `${(0.9 * 1.1246e-3 + 0.1 * 9.5888e-4).toPrecision(4)}`)
   })
 
-  it.each<[Architecture, Architecture | 'lost']>([
-    ['1oo2', '1oo1'],
-    ['2oo3', '2oo2'],
-    ['1oo3', '1oo2'],
-    ['2oo2', 'lost'],
-    ['1oo1', 'lost'],
-  ])('defeating one channel of %s leaves %s', (architecture, degraded) => {
+  // Expected values from the reference's check table (λDU 2e−6, 12 months): 1oo1 8.7600e−3, 2oo2 1.7520e−2,
+  // 1oo2 (β 0.1) 9.5888e−4; a lost subsystem is unavailable (1).
+  it.each<[Architecture, Architecture | 'lost', string]>([
+    ['1oo2', '1oo1', '8.7600e-3'],
+    ['2oo3', '2oo2', '1.7520e-2'],
+    ['1oo3', '1oo2', '9.5888e-4'],
+    ['1oo2D', '1oo1', '8.7600e-3'],
+    ['2oo2', 'lost', '1'],
+    ['1oo1', 'lost', '1'],
+  ])('defeating one channel of %s leaves %s (PFDavg %s)', (architecture, degraded, published) => {
     expect(DEFAULT_DEGRADED_ARCHITECTURE[architecture]).toBe(degraded)
     const r = effectivePfd({
       subsystems: [sub({ architecture, beta: 0.1 })],
@@ -399,8 +411,7 @@ describe('effectivePfd', () => {
       periodHours: 8760,
       bypassedSingleChannel: { role: 'sensor' },
     })
-    const expected = degraded === 'lost' ? 1 : subsystemPfd(sub({ architecture: degraded, beta: 0.1 }))
-    expect(r.pfd).toBeCloseTo(expected, 15)
+    expectDigits(r.pfd, published)
   })
 
   it('1oo2 with a channel bypassed all period equals the 1oo1 figure 8.7600e−3', () => {
@@ -430,5 +441,138 @@ describe('effectivePfd', () => {
         bypassedSingleChannel: { role: 'logic' },
       }),
     ).toThrow(RangeError)
+  })
+})
+
+describe('large λDU·T1: never above 1, exact time average, warning', () => {
+  // 2oo2, λDU 2e−5 /h, T1 120 months (87 600 h): the simplified λDU·T1 gives 1.752, not a probability.
+  // The exact time average of the unavailability of two channels in series, each failing with exp(−λt), over T:
+  // 1 − (1 − e^(−2λT)) / (2λT) (standard reliability algebra: ∫₀ᵀ (1 − e^(−2λt)) dt / T; from memory),
+  // evaluated here by mathjs, not by the code under test.
+  const bigTwo = sub({ architecture: '2oo2', lambdaDu: 2e-5, testIntervalMonths: 120 })
+
+  it('reports 2oo2, λDU 2e−5, 120 months at the exact average, below 1, with a warning', () => {
+    const expected = evaluate('1 - (1 - exp(-2 * l * T)) / (2 * l * T)', { l: 2e-5, T: 87600 }) as number
+    const d = subsystemPfdDetail(bigTwo)
+    expect(d.pfd).toBeLessThanOrEqual(1)
+    expect(d.method).toBe('exact')
+    expect(Math.abs(d.pfd / expected - 1)).toBeLessThan(1e-6)
+    expect(d.warning).toMatch(/λDU·T1 = 1\.75 exceeds 0\.1/)
+    expect(pfdWarnings([bigTwo])).toHaveLength(1)
+  })
+
+  it('1oo1 above the threshold matches 1 − (1 − e^(−λT)) / (λT)', () => {
+    const expected = evaluate('1 - (1 - exp(-l * T)) / (l * T)', { l: 1e-5, T: 43800 }) as number
+    expect(Math.abs(subsystemPfd(sub({ lambdaDu: 1e-5, testIntervalMonths: 60 })) / expected - 1)).toBeLessThan(1e-6)
+  })
+
+  it('1oo2 (β 0) above the threshold matches the time average of (1 − e^(−λt))²', () => {
+    // ∫₀ᵀ (1 − e^(−λt))² dt / T = 1 − 2(1 − e^(−λT))/(λT) + (1 − e^(−2λT))/(2λT)
+    const expected = evaluate('1 - 2 * (1 - exp(-l * T)) / (l * T) + (1 - exp(-2 * l * T)) / (2 * l * T)', {
+      l: 1e-5,
+      T: 43800,
+    }) as number
+    const actual = subsystemPfd(sub({ architecture: '1oo2', lambdaDu: 1e-5, testIntervalMonths: 60 }))
+    expect(Math.abs(actual / expected - 1)).toBeLessThan(1e-6)
+  })
+
+  it('keeps the simplified equations at λDU·T1 = 0.1 and switches just above', () => {
+    expect(SIMPLIFIED_LAMBDA_T_MAX).toBe(0.1)
+    const at = subsystemPfdDetail(sub({ lambdaDu: 0.1 / 8760 }))
+    expect(at.method).toBe('simplified')
+    expect(at.warning).toBeNull()
+    expectDigits(at.pfd, '5.0000e-2') // λT/2 = 0.05
+    const above = subsystemPfdDetail(sub({ lambdaDu: 0.1001 / 8760 }))
+    expect(above.method).toBe('exact')
+    expect(above.pfd).toBeLessThan(0.1001 / 2) // the exact average lies below λT/2
+  })
+
+  it('a bypass can no longer lower the figure of a function far beyond its assumptions', () => {
+    const valve = sub({ role: 'final_element', lambdaDu: 2e-5, architecture: '2oo2', testIntervalMonths: 120 })
+    const none = effectivePfd({ subsystems: [valve], bypassedHours: 0, periodHours: 8760 })
+    const bypassed = effectivePfd({ subsystems: [valve], bypassedHours: 876, periodHours: 8760 })
+    expect(none.pfd).toBeLessThanOrEqual(1)
+    expect(bypassed.pfd).toBeGreaterThanOrEqual(none.pfd)
+    expect(sifPfd([valve, valve])).toBeLessThanOrEqual(1)
+  })
+})
+
+describe('IEC 61508-6 Annex B tables (Ed. 2, T1 and MTTR = MRT = 8 h as the tables assume)', () => {
+  // The tables' λ column is the TOTAL failure rate of a channel, with half of it dangerous (λD = λ/2) and the
+  // diagnostic coverage DC splitting λD into λDD = DC·λD and λDU = (1 − DC)·λD (IEC 61508-6 Annex B assumptions;
+  // from memory). Values printed to two significant digits; these rows are from memory of Table B.2 (T1 = ½ y),
+  // Table B.3 (T1 = 1 y) and Table B.5 (T1 = 10 y) for λ = 0.5E-06 h⁻¹.
+  it.each<[Architecture, number, number, string]>([
+    ['1oo1', 12, 0, '1.1e-3'],
+    ['1oo1', 12, 0.6, '4.4e-4'],
+    ['1oo1', 12, 0.9, '1.1e-4'],
+    ['1oo1', 12, 0.99, '1.3e-5'],
+    ['2oo2', 12, 0, '2.2e-3'],
+    ['1oo1', 6, 0, '5.5e-4'],
+    ['1oo1', 120, 0, '1.1e-2'],
+  ])('%s, T1 %s months, DC %s, λ 0.5E-06 → %s', (architecture, testIntervalMonths, dc, published) => {
+    const lambdaD = 0.5e-6 / 2
+    const value = subsystemPfd(
+      sub({
+        architecture,
+        testIntervalMonths,
+        lambdaDu: lambdaD * (1 - dc),
+        lambdaDd: lambdaD * dc,
+        mttrHours: 8,
+      }),
+    )
+    expectDigits(value, published)
+  })
+})
+
+describe('1oo2D, λSD, MRT apart from MTTR', () => {
+  // The 1oo2D equation as printed in IEC 61508-6 Ed. 2 B.3.2.2.4 (from memory), written out here independently and
+  // evaluated by mathjs:
+  //   t'CE = [λDU·(T1/2 + MRT) + (λDD + λSD)·MTTR] / (λDU + λDD + λSD),  t'GE = T1/3 + MRT
+  //   PFD = 2(1−β)λDU·[(1−β)λDU + (1−βD)λDD + λSD]·t'CE·t'GE + βD·λDD·MTTR + β·λDU·(T1/2 + MRT)
+  const printed1oo2D =
+    '2 * (1 - b) * u * ((1 - b) * u + (1 - bd) * d + s) * ((u * (T / 2 + mrt) + (d + s) * mttr) / (u + d + s)) * ' +
+    '(T / 3 + mrt) + bd * d * mttr + b * u * (T / 2 + mrt)'
+  it.each([
+    [2e-7, 1.8e-6, 3e-6, 0.05, 0.025, 12, 8, 24],
+    [1e-6, 4e-6, 1e-6, 0.1, 0.05, 24, 4, 8],
+    [5e-7, 0, 2e-6, 0.02, 0.01, 6, 0, 72],
+  ])('λDU %s, λDD %s, λSD %s, β %s, βD %s, %s months, MRT %s h, MTTR %s h', (u, d, s, b, bd, months, mrt, mttr) => {
+    const expected = evaluate(printed1oo2D, { u, d, s, b, bd, T: months * 730, mrt, mttr }) as number
+    const actual = subsystemPfd(
+      sub({
+        architecture: '1oo2D',
+        lambdaDu: u,
+        lambdaDd: d,
+        lambdaSd: s,
+        beta: b,
+        betaD: bd,
+        testIntervalMonths: months,
+        mrtHours: mrt,
+        mttrHours: mttr,
+      }),
+    )
+    expect(Math.abs(actual / expected - 1)).toBeLessThan(1e-12)
+  })
+
+  it('reduces to the 1oo2 check value 9.5888e−4 without detected or safe failures (λDU 2e−6, β 0.1, 1 y)', () => {
+    expectDigits(subsystemPfd(sub({ architecture: '1oo2D', beta: 0.1 })), '9.5888e-4')
+  })
+
+  it('a higher λSD raises the 1oo2D figure (a channel that detects a safe failure drops out)', () => {
+    const base = sub({ architecture: '1oo2D', beta: 0.1, lambdaDd: 2e-6, mttrHours: 8 })
+    expect(subsystemPfd({ ...base, lambdaSd: 1e-5 })).toBeGreaterThan(subsystemPfd(base))
+  })
+
+  it('MRT and MTTR set apart: 1oo1, λDU 1e−6, λDD 4e−6, TI 8 760 h', () => {
+    // reference: λDU·(TI/2 + MRT) + λDD·MTTR with MRT = MTTR = 8 h → 4.420e−3; with no MRT (repair instant
+    // after the test) λDU·TI/2 + λDD·MTTR → 4.412e−3
+    expectDigits(subsystemPfd(sub({ lambdaDu: 1e-6, lambdaDd: 4e-6, mttrHours: 8, mrtHours: 8 })), '4.420e-3')
+    expectDigits(subsystemPfd(sub({ lambdaDu: 1e-6, lambdaDd: 4e-6, mttrHours: 8, mrtHours: 0 })), '4.412e-3')
+  })
+
+  it('rejects a negative λSD or MRT', () => {
+    expect(() => subsystemPfd(sub({ lambdaSd: -1e-6 }))).toThrow(RangeError)
+    expect(() => subsystemPfd(sub({ mrtHours: -1 }))).toThrow(RangeError)
   })
 })

@@ -371,3 +371,37 @@ describe('type B low end', () => {
     expect(Math.abs(thermocoupleTemperature('B', eMeas) - 1000)).toBeLessThan(0.5)
   })
 })
+
+describe('range ends, table rounding and the cold junction', () => {
+  // NIST ITS-90 type K table (via ../shared/reference/thermocouples.md): −270 °C = −6.458 mV, printed to 0.001 mV;
+  // the reference function gives −6.4577 mV there. A table value within half the printed step of the range end is
+  // accepted and clamped to the end.
+  it('reads the rounded table value −6.458 mV as −270 °C (type K)', () => {
+    expect(thermocoupleTemperature('K', -6.458)).toBe(-270)
+  })
+
+  it('reads 54.886 mV (the table value at 1372 °C, type K) as 1372 °C', () => {
+    expect(thermocoupleTemperature('K', 54.886)).toBeCloseTo(1372, 1)
+  })
+
+  it('still refuses an emf beyond half a table step outside the range', () => {
+    expect(() => thermocoupleTemperature('K', -6.459)).toThrow(OutOfRangeError)
+  })
+
+  it("reads back the product's own mV source value at the bottom of the range", () => {
+    // −270 °C with the cold junction at 60 °C: E(−270) − E(60), read back at 60 °C must give −270 °C
+    const mv = mvSourceValue('K', -270, 60)
+    expect(temperatureFromMeasured('K', mv, 60)).toBeCloseTo(-270, 6)
+  })
+
+  it('shows a refused value with the digits that set it apart from the range end', () => {
+    // type K is defined up to 1372 °C (thermocouples.md); 1372.0001 °C must not read "1372"
+    expect(() => thermocoupleEmf('K', 1372.0001)).toThrow('temperature 1372.0001 °C is outside the valid range')
+  })
+
+  it('names the cold junction when a type B cold junction is outside the type B range', () => {
+    // type B is defined from 0 to 1820 °C (thermocouples.md): a −5 °C cold junction cannot be compensated
+    expect(() => temperatureFromMeasured('B', 2, -5)).toThrow(/^cold-junction temperature -5 °C/)
+    expect(() => mvSourceValue('B', 800, -5)).toThrow(/^cold-junction temperature/)
+  })
+})

@@ -214,3 +214,34 @@ describe('unit lists and spellings', () => {
     expect(() => canonicalUnit('Mbar')).toThrow(UnitConversionError)
   })
 })
+
+describe('absolute pressure below perfect vacuum and NaN', () => {
+  // An absolute pressure is ≥ 0 (0 is perfect vacuum), as a temperature is ≥ 0 K (physics; common practice).
+  const atm = { value: 1.01325, unit: 'bar' }
+
+  it.each([
+    [-0.1, 'bar(a)', 'kPa(a)'],
+    [-1, 'psia', 'bara'],
+    [-0.001, 'bara', 'barg'],
+  ])('refuses %s %s', (value, from, to) => {
+    expect(() => convertValue(value, from, to, { atmosphericPressure: atm })).toThrow(OutOfRangeError)
+    expect(() => convertValue(value, from, to, { atmosphericPressure: atm })).toThrow(/perfect vacuum/)
+  })
+
+  it('refuses a gauge pressure below −1 atmosphere when converted to absolute', () => {
+    expect(() => convertValue(-1.2, 'bar(g)', 'bar(a)', { atmosphericPressure: atm })).toThrow(/perfect vacuum/)
+    // −1.01325 bar(g) is perfect vacuum, 0 bar(a): accepted
+    expect(convertValue(-1.01325, 'bar(g)', 'bar(a)', { atmosphericPressure: atm })).toBeCloseTo(0, 12)
+  })
+
+  it('accepts 0 bar(a) and keeps gauge pressures below zero (vacuum service)', () => {
+    expect(convertValue(0, 'bar(a)', 'kPa(a)')).toBe(0)
+    expect(convertValue(-0.5, 'bar(g)', 'kPa(g)')).toBeCloseTo(-50, 12)
+  })
+
+  it.each([Number.NaN, Number.POSITIVE_INFINITY])('refuses the value %s', (value) => {
+    expect(() => convertValue(value, '°C', 'K')).toThrow(RangeError)
+    expect(() => convertValue(value, 'bar', 'kPa')).toThrow(RangeError)
+    expect(() => convertDifference(value, 'K', '°F')).toThrow(RangeError)
+  })
+})
