@@ -23,15 +23,13 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     return
   }
   if (err instanceof ZodError) {
-    res
-      .status(400)
-      .json({
-        error: {
-          code: ErrorCode.VALIDATION_FAILED,
-          message: 'Some fields need attention',
-          details: { fields: zodFields(err) },
-        },
-      })
+    res.status(400).json({
+      error: {
+        code: ErrorCode.VALIDATION_FAILED,
+        message: 'Some fields need attention',
+        details: { fields: zodFields(err) },
+      },
+    })
     return
   }
   if (err instanceof ForbiddenError) {
@@ -52,20 +50,16 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     return
   }
   if (e?.code === '40001' || e?.code === '23505') {
-    res
-      .status(409)
-      .json({
-        error: {
-          code: ErrorCode.CONFLICT,
-          message: 'Someone else changed this at the same time; reload and try again',
-        },
-      })
+    res.status(409).json({
+      error: {
+        code: ErrorCode.CONFLICT,
+        message: 'Someone else changed this at the same time; reload and try again',
+      },
+    })
     return
   }
   console.error(`[${req.id}]`, err)
-  res
-    .status(500)
-    .json({
-      error: { code: ErrorCode.INTERNAL, message: 'Something went wrong on the server; the change was not saved' },
-    })
+  res.status(500).json({
+    error: { code: ErrorCode.INTERNAL, message: 'Something went wrong on the server; the change was not saved' },
+  })
 }
