@@ -21,6 +21,12 @@ import {
   createProtectionStateRouter,
 } from './features/bypasses/bypasses.router.ts'
 import { createAuditRouter } from './features/audit/audit.router.ts'
+import {
+  createAlarmFiguresRouter,
+  createAlarmJournalsRouter,
+  createAlarmStatesRouter,
+  createReplaysRouter,
+} from './features/alarms/alarms.router.ts'
 import { createMailRouter } from './features/mail/mail.router.ts'
 import { createSessionRouter } from './features/session/session.router.ts'
 import { createAreasRouter, createSitesRouter } from './features/sites/sites.router.ts'
@@ -86,6 +92,10 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/change-requests', createChangeRequestsRouter(deps))
   api.use('/audit-events', createAuditRouter(deps))
   api.use('/mail', createMailRouter(deps))
+  api.use('/alarm-journals', createAlarmJournalsRouter(deps))
+  api.use('/alarm-figures', createAlarmFiguresRouter(deps))
+  api.use('/alarm-states', createAlarmStatesRouter(deps))
+  api.use('/replays', createReplaysRouter(deps))
   api.use((_req, _res, next) => next(new AppError(404, ErrorCode.NOT_FOUND, 'No such API endpoint')))
   app.use('/api', api)
 

@@ -24,6 +24,7 @@ const EnvSchema = z.object({
   SMTP_PASS: z.string().optional(),
   MAIL_FROM: z.string().default('Limitkeeper <limitkeeper@localhost>'),
   JOB_POLL_SECONDS: z.coerce.number().positive().default(5),
+  ALARM_UPLOAD_MAX_MB: z.coerce.number().positive().default(2048),
 })
 
 export type Config = z.infer<typeof EnvSchema> & { appUrl: string; trustProxy: boolean | number | string }

@@ -204,6 +204,7 @@ export interface ImportMappingTable {
   user_id: number
   mapping: JsonValue<Record<string, string>>
   updated_at: Timestamp
+  alarm_mapping: ColumnType<Record<string, string>, string | undefined, string>
 }
 
 export interface ChangeRequestTable {
@@ -380,6 +381,89 @@ export interface HandoverAckTable {
   content_hash: string
 }
 
+export type AlarmUploadStatus = 'queued' | 'running' | 'done' | 'failed'
+export interface AlarmJournalUploadTable {
+  id: Generated<number>
+  site_id: number
+  created_by: number
+  file_name: string
+  file_kind: 'csv' | 'xlsx'
+  checksum: string | null
+  time_zone: string
+  mapping: JsonValue<Record<string, string>>
+  status: ColumnType<AlarmUploadStatus, AlarmUploadStatus | undefined, AlarmUploadStatus>
+  rows_read: Generated<number>
+  rows_stored: Generated<number>
+  rows_duplicate: Generated<number>
+  rows_rejected: Generated<number>
+  rejections: ColumnType<{ row: number; message: string }[], string | undefined, string>
+  unmatched_tags: ColumnType<string[], string | undefined, string>
+  unmatched_tag_count: Generated<number>
+  duplicate_of: number | null
+  error: string | null
+  first_at: Timestamp | null
+  last_at: Timestamp | null
+  file_path: string | null
+  created_at: Timestamp
+  finished_at: Timestamp | null
+}
+export interface AlarmEventTable {
+  site_id: number
+  occurred_at: Timestamp
+  tag: string
+  kind: number
+  priority: number
+  position: string
+  message: string
+  limit_id: number | null
+  upload_id: number
+  row_hash: string
+}
+export interface AlarmStateTable {
+  id: Generated<number>
+  site_id: number
+  limit_id: number | null
+  tag: string
+  kind: 'shelved' | 'suppressed' | 'out_of_service'
+  status: ColumnType<'active' | 'ended', 'active' | 'ended' | undefined, 'active' | 'ended'>
+  reason: string
+  started_by: number
+  started_at: Timestamp
+  until: Timestamp
+  signature_id: number | null
+  change_request_id: number | null
+  ended_by: number | null
+  ended_at: Timestamp | null
+  end_note: string | null
+}
+export interface ProcessDataUploadTable {
+  id: Generated<number>
+  site_id: number
+  instrument_id: number | null
+  created_by: number
+  file_name: string
+  checksum: string | null
+  time_zone: string
+  series: ColumnType<{ index: number; name: string }[], string | undefined, string>
+  status: ColumnType<AlarmUploadStatus, AlarmUploadStatus | undefined, AlarmUploadStatus>
+  rows_read: Generated<number>
+  samples_stored: Generated<number>
+  rows_rejected: Generated<number>
+  rejections: ColumnType<{ row: number; message: string }[], string | undefined, string>
+  error: string | null
+  first_at: Timestamp | null
+  last_at: Timestamp | null
+  file_path: string | null
+  created_at: Timestamp
+  finished_at: Timestamp | null
+}
+export interface ProcessSampleTable {
+  upload_id: number
+  series: number
+  t: Timestamp
+  value: number | null
+}
+
 /** The database as Kysely sees it (kept by hand beside the migrations). */
 export interface Database {
   app_user: AppUserTable
@@ -410,6 +494,11 @@ export interface Database {
   digest_log: DigestLogTable
   bypass: BypassTable
   handover_ack: HandoverAckTable
+  alarm_journal_upload: AlarmJournalUploadTable
+  alarm_event: AlarmEventTable
+  alarm_state: AlarmStateTable
+  process_data_upload: ProcessDataUploadTable
+  process_sample: ProcessSampleTable
 }
 
 export type ProcessRow = Selectable<ProcessTable>

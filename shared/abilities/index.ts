@@ -37,6 +37,9 @@ export type SubjectName =
   | 'BypassReview'
   | 'AuditEvent'
   | 'Mail'
+  | 'AlarmJournal'
+  | 'AlarmState'
+  | 'Replay'
   | 'all'
 
 export type AppAbility = MongoAbility<[Action, SubjectName | Record<string, unknown>]>
@@ -112,6 +115,14 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
   if (activator.length) can(['activate', 'remove'], 'Bypass', { siteId: { $in: activator } })
   const reviewer = sitesWith('safety_engineer', 'approver', 'shift_supervisor', 'plant_manager', 'auditor')
   if (reviewer.length) can('review', 'BypassReview', { siteId: { $in: reviewer } })
+  // alarm journals, figures, alarm states and replays (docs/alarms.md); who may start or end which state is the
+  // alarm-state rule book's (shared/domain/rules/alarm-states.ts)
+  if (allSites.length) can('read', ['AlarmJournal', 'AlarmState', 'Replay'], { siteId: { $in: allSites } })
+  const alarmImporter = sitesWith('safety_engineer', 'shift_supervisor')
+  if (alarmImporter.length) can('import', 'AlarmJournal', { siteId: { $in: alarmImporter } })
+  if (engineer.length) can('create', 'Replay', { siteId: { $in: engineer } })
+  const alarmStateActor = sitesWith('operator', 'shift_supervisor', 'safety_engineer', 'technician')
+  if (alarmStateActor.length) can(['create', 'update'], 'AlarmState', { siteId: { $in: alarmStateActor } })
   return rules
 }
 

@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { checkPriorityMatrix, DEFAULT_PRIORITY_MATRIX } from '../domain/priority.ts'
+import { AlarmPolicySchema, DEFAULT_ALARM_POLICY } from './alarms.ts'
 
 const cell = z.enum(['low', 'medium', 'high', 'critical', 'none'])
 /** The alarm priority matrix: severity rows × time-to-respond columns (DOMAIN.md §6). */
@@ -36,6 +37,7 @@ export const SitePolicySchema = z.object({
   witnessRequiredFor: z.enum(['sil_only', 'all', 'none']).default('sil_only'),
   defaultTolerancePercentSpan: z.number().positive().max(10).default(0.5),
   priorityMatrix: PriorityMatrixSchema.default(DEFAULT_PRIORITY_MATRIX),
+  alarms: AlarmPolicySchema.default(DEFAULT_ALARM_POLICY),
 })
 export type SitePolicy = z.infer<typeof SitePolicySchema>
 

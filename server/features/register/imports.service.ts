@@ -76,14 +76,14 @@ const COLUMN_KEYS = new Set<string>(REGISTER_COLUMNS.map((c) => c.key))
 const header = (key: string) => HEADER_OF.get(key) ?? key
 
 /** A file the import cannot read at all (400, nothing stored). */
-function badFile(message: string, details: Record<string, unknown> = {}): AppError {
+export function badFile(message: string, details: Record<string, unknown> = {}): AppError {
   return new AppError(400, ErrorCode.VALIDATION_FAILED, message, { fields: { file: [message] }, ...details })
 }
 
 // ---- reading the file ----
 
-const ZIP_SIGNATURE = Buffer.from([0x50, 0x4b, 0x03, 0x04])
-const OLE2_SIGNATURE = Buffer.from([0xd0, 0xcf, 0x11, 0xe0])
+export const ZIP_SIGNATURE = Buffer.from([0x50, 0x4b, 0x03, 0x04])
+export const OLE2_SIGNATURE = Buffer.from([0xd0, 0xcf, 0x11, 0xe0])
 /** Uncompressed size a workbook may unpack to (a 5 MB XLSX of text unpacks to well under this). */
 const XLSX_MAX_UNPACKED_BYTES = 200 * 1024 * 1024
 const MAX_COLUMNS = 200
@@ -112,7 +112,7 @@ export async function readTable(buffer: Buffer): Promise<FileTable> {
 }
 
 /** Comma, semicolon or tab, whichever the header line holds most of. */
-function guessDelimiter(text: string): string {
+export function guessDelimiter(text: string): string {
   const first = text.slice(0, text.search(/\r?\n|$/))
   const count = (d: string) => first.split(d).length - 1
   return [',', ';', '\t'].reduce((best, d) => (count(d) > count(best) ? d : best), ',')
@@ -131,7 +131,7 @@ function readCsv(text: string): FileTable {
 }
 
 /** Sum of the uncompressed sizes in the ZIP central directory (Infinity for ZIP64); 0 when there is none to read. */
-function unpackedSize(buf: Buffer): number {
+export function unpackedSize(buf: Buffer): number {
   const min = Math.max(0, buf.length - 65_557)
   let eocd = -1
   for (let i = buf.length - 22; i >= min; i--) {
@@ -154,7 +154,7 @@ function unpackedSize(buf: Buffer): number {
   return total
 }
 
-function cellText(v: ExcelJS.CellValue): string {
+export function cellText(v: ExcelJS.CellValue): string {
   if (v === null || v === undefined) return ''
   if (typeof v === 'string') return v
   if (typeof v === 'number') return String(v)
@@ -202,7 +202,7 @@ async function readXlsx(buffer: Buffer): Promise<FileTable> {
 
 // ---- mapping headers to column keys ----
 
-const norm = (h: string) => h.trim().toLowerCase().replace(/\s+/g, ' ')
+export const norm = (h: string) => h.trim().toLowerCase().replace(/\s+/g, ' ')
 const BY_HEADER = new Map<string, RegisterColumnKey>(
   REGISTER_COLUMNS.flatMap(
     (c) =>

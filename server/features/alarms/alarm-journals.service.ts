@@ -1,0 +1,386 @@
+import { createHash } from 'node:crypto'
+import { createReadStream } from 'node:fs'
+import { rm } from 'node:fs/promises'
+import type { AppAbility } from '../../../shared/abilities/index.ts'
+import { type AlarmEventKind, EVENT_CODE, JOURNAL_PRIORITIES } from '../../../shared/domain/alarm-figures.ts'
+import {
+  JOURNAL_COLUMNS,
+  JOURNAL_REQUIRED_COLUMNS,
+  type JournalColumn,
+  type JournalMapping,
+  JournalMappingSchema,
+  type JournalUpload,
+} from '../../../shared/schemas/alarms.ts'
+import type { ListResult } from '../../../shared/schemas/common.ts'
+import { authorize, scopeSites } from '../../authorize.ts'
+import type { AppDeps } from '../../deps.ts'
+import type { AlarmJournalUploadTable } from '../../db/schema.ts'
+import { notFound, validationFailed } from '../../errors.ts'
+import type { CurrentUser } from '../../types/express.d.ts'
+import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
+import { badFile } from '../register/imports.service.ts'
+import * as repo from './alarms.repository.ts'
+import { copyText, createTimeParser, type FileKind, readRows, resolveColumns, sniffFile } from './file-rows.ts'
+import type { Selectable } from 'kysely'
+
+// The alarm-journal import: the upload is received to a temporary file, its header mapped (remembered per user),
+// and the rest continues as a background job that streams the rows through COPY into a staging table and moves
+// them into the month-partitioned journal in one transaction: all rows or none. docs/alarms.md.
+
+/** Event words of control-system journals → event kinds (compared in lower case, spaces and dashes ignored). */
+const EVENT_WORDS: Record<string, AlarmEventKind> = {}
+for (const [kind, words] of Object.entries({
+  active: ['active', 'alarm', 'alm', 'raised', 'in alarm', 'on', 'activated', 'come', 'came'],
+  return: ['return', 'return to normal', 'rtn', 'normal', 'cleared', 'clear', 'off', 'inactive', 'gone', 'ok'],
+  acknowledged: ['acknowledged', 'ack', 'acked', 'acknowledge'],
+  shelved: ['shelved', 'shelve', 'shelf'],
+  unshelved: ['unshelved', 'unshelve'],
+  suppressed: ['suppressed', 'suppress', 'suppressed by design'],
+  unsuppressed: ['unsuppressed', 'unsuppress'],
+  out_of_service: ['out of service', 'oos', 'removed from service'],
+  in_service: ['in service', 'returned to service', 'return to service', 'rts', 'back in service'],
+} satisfies Record<AlarmEventKind, string[]>))
+  for (const w of words) EVENT_WORDS[w.replace(/[\s_-]+/g, '')] = kind as AlarmEventKind
+
+const PRIORITY_WORDS: Record<string, number> = {
+  low: 0,
+  l: 0,
+  medium: 1,
+  med: 1,
+  m: 1,
+  high: 2,
+  h: 2,
+  critical: 3,
+  emergency: 3,
+  urgent: 3,
+}
+JOURNAL_PRIORITIES.forEach((p, i) => (PRIORITY_WORDS[p] = i))
+
+const MAX_REJECTIONS_KEPT = 200
+const running = new Set<string>()
+
+function toDto(r: Selectable<AlarmJournalUploadTable>): JournalUpload {
+  return {
+    id: r.id,
+    siteId: r.site_id,
+    fileName: r.file_name,
+    timeZone: r.time_zone,
+    status: r.status,
+    rowsRead: Number(r.rows_read),
+    rowsStored: Number(r.rows_stored),
+    rowsDuplicate: Number(r.rows_duplicate),
+    rowsRejected: Number(r.rows_rejected),
+    rejections: r.rejections,
+    unmatchedTags: r.unmatched_tags,
+    unmatchedTagCount: r.unmatched_tag_count,
+    duplicateOf: r.duplicate_of,
+    error: r.error,
+    firstAt: r.first_at ? r.first_at.toISOString() : null,
+    lastAt: r.last_at ? r.last_at.toISOString() : null,
+    mapping: r.mapping,
+    createdAt: r.created_at.toISOString(),
+    finishedAt: r.finished_at ? r.finished_at.toISOString() : null,
+  }
+}
+
+async function siteExists(deps: AppDeps, siteId: number) {
+  const s = await deps.db.selectFrom('site').select('id').where('id', '=', siteId).executeTakeFirst()
+  if (!s) throw validationFailed({ siteId: ['The site does not exist'] }, 'The site does not exist')
+}
+
+export async function rememberedMapping(deps: AppDeps, userId: number): Promise<JournalMapping> {
+  const m = await repo.rememberedJournalMapping(deps.db, userId)
+  return Object.fromEntries(
+    Object.entries(m).filter(([h, k]) => JournalMappingSchema.safeParse({ [h]: k }).success),
+  ) as JournalMapping
+}
+
+/** Reads the header row only (the rest is the job's). */
+async function headerOf(path: string, kind: FileKind, delimiter: string): Promise<string[]> {
+  for await (const row of readRows(path, kind, delimiter)) return row
+  throw badFile('The file is empty')
+}
+
+const ALIASES: Record<string, JournalColumn> = {
+  time: 'timestamp',
+  'date/time': 'timestamp',
+  datetime: 'timestamp',
+  'event time': 'timestamp',
+  'alarm tag': 'tag',
+  source: 'tag',
+  'event type': 'event',
+  state: 'event',
+  console: 'position',
+  'operator position': 'position',
+  description: 'message',
+  text: 'message',
+}
+
+/**
+ * Receives a journal file (already on disk): checks the file kind and maps the header, stores the upload as queued,
+ * remembers the mapping for the user and starts the job. Refusals (bad file, no mapping) store nothing.
+ */
+export async function startJournalUpload(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  userId: number,
+  file: { path: string; fileName: string },
+  fields: { siteId: number; timeZone: string; mapping?: JournalMapping },
+): Promise<JournalUpload> {
+  try {
+    await siteExists(deps, fields.siteId)
+    authorize(ability, 'import', 'AlarmJournal', { siteId: fields.siteId })
+    const { kind, delimiter } = await sniffFile(file.path)
+    const headers = await headerOf(file.path, kind, delimiter)
+    const remembered = await rememberedMapping(deps, userId)
+    const { used } = resolveColumns(
+      headers,
+      JOURNAL_COLUMNS,
+      JOURNAL_REQUIRED_COLUMNS,
+      fields.mapping,
+      remembered,
+      ALIASES,
+    )
+    const now = deps.clock.now()
+    const id = await deps.db.transaction().execute(async (trx) => {
+      const id = await repo.insertJournalUpload(trx, {
+        siteId: fields.siteId,
+        userId,
+        fileName: file.fileName.replace(/^.*[\\/]/, '').slice(0, 200) || 'upload',
+        fileKind: kind,
+        timeZone: fields.timeZone,
+        mapping: used,
+        filePath: file.path,
+        now,
+      })
+      await repo.rememberJournalMapping(
+        trx,
+        userId,
+        Object.fromEntries(Object.entries({ ...remembered, ...used }).slice(-200)),
+        now,
+      )
+      await appendAudit(trx, deps.clock, ctx, {
+        action: 'alarm_journal.upload',
+        entityType: 'alarm_journal_upload',
+        entityId: id,
+        after: { siteId: fields.siteId, fileName: file.fileName, timeZone: fields.timeZone, mapping: used },
+      })
+      return id
+    })
+    setImmediate(() => void runJournalUpload(deps, id, ctx))
+    return toDto((await repo.journalUploadById(deps.db, id))!)
+  } catch (err) {
+    await rm(file.path, { force: true })
+    throw err
+  }
+}
+
+class NothingUsable extends Error {}
+
+/**
+ * The job: streams the file's rows into a staging table with COPY, reports progress, then in the same transaction
+ * creates the months' partitions, moves the rows into the journal (skipping rows already there) and lists tags the
+ * register does not know. A file with no usable row, or one that breaks off, writes nothing to the journal.
+ */
+export async function runJournalUpload(deps: AppDeps, id: number, ctx: AuditContext): Promise<void> {
+  const key = `journal:${id}`
+  if (running.has(key)) return
+  running.add(key)
+  const upload = await repo.journalUploadById(deps.db, id).catch(() => undefined)
+  if (!upload || upload.status !== 'queued' || !upload.file_path) {
+    running.delete(key)
+    return
+  }
+  const path = upload.file_path
+  const rejections: { row: number; message: string }[] = []
+  let rowsRead = 0
+  let rejected = 0
+  const reject = (row: number, message: string) => {
+    rejected++
+    if (rejections.length < MAX_REJECTIONS_KEPT) rejections.push({ row, message })
+  }
+  let checksum: string | null = null
+  const client = await deps.pool.connect()
+  try {
+    await repo.setJournalProgress(deps.db, id, { status: 'running' })
+    const hashing = hashFile(path)
+    const { kind, delimiter } = await sniffFile(path)
+    const kdb = repo.kyselyOn(client)
+    await kdb.transaction().execute(async (trx) => {
+      await repo.createJournalStage(trx)
+      const copy = repo.copyInto(client, 'COPY alarm_stage (t_ms, tag, kind, priority, position, message) FROM STDIN')
+      const copyDone = new Promise<void>((resolve, reject) => {
+        copy.on('finish', resolve)
+        copy.on('error', reject)
+      })
+      const parseTime = createTimeParser(upload.time_zone)
+      let index: Partial<Record<JournalColumn, number>> = {}
+      let chunk = ''
+      let lastProgress = Date.now()
+      let rowNo = 0
+      try {
+        for await (const cells of readRows(path, kind, delimiter)) {
+          rowNo++
+          if (rowNo === 1) {
+            index = resolveColumns(cells, JOURNAL_COLUMNS, JOURNAL_REQUIRED_COLUMNS, upload.mapping, {}, ALIASES).index
+            continue
+          }
+          rowsRead++
+          const line = journalLine(cells, index, parseTime, rowNo, reject)
+          if (line) chunk += line
+          if (chunk.length > 256 * 1024) {
+            if (!copy.write(chunk)) await new Promise((r) => copy.once('drain', r))
+            chunk = ''
+          }
+          if ((rowsRead & 0x3fff) === 0 && Date.now() - lastProgress > 1000) {
+            lastProgress = Date.now()
+            await repo.setJournalProgress(deps.db, id, { rowsRead, rowsRejected: rejected })
+          }
+        }
+        if (chunk) copy.write(chunk)
+        copy.end()
+        await copyDone
+      } catch (err) {
+        // a COPY left open would hold the connection: fail it so the transaction rolls back
+        copy.destroy(err instanceof Error ? err : new Error(String(err)))
+        await copyDone.catch(() => undefined)
+        throw err
+      }
+      const staged = await repo.stageRange(trx)
+      if (!staged.count || staged.lo === null || staged.hi === null) throw new NothingUsable()
+      await repo.ensureJournalPartitions(trx, new Date(staged.lo), new Date(staged.hi))
+      const stored = await repo.loadStagedJournal(trx, upload.site_id, id)
+      const unmatched = await repo.unmatchedStagedTags(trx, upload.site_id)
+      checksum = await hashing
+      const duplicateOf = await repo.earlierUploadWithChecksum(trx, upload.site_id, checksum, id)
+      const now = deps.clock.now()
+      await repo.finishJournalUpload(trx, id, {
+        status: 'done',
+        rowsRead,
+        rowsStored: stored,
+        rowsDuplicate: staged.count - stored,
+        rowsRejected: rejected,
+        rejections,
+        unmatchedTags: unmatched.tags,
+        unmatchedTagCount: unmatched.count,
+        duplicateOf,
+        error: null,
+        firstAt: new Date(staged.lo),
+        lastAt: new Date(staged.hi),
+        checksum,
+        now,
+      })
+      await appendAudit(trx, deps.clock, ctx, {
+        action: 'alarm_journal.import',
+        entityType: 'alarm_journal_upload',
+        entityId: id,
+        after: { rowsRead, rowsStored: stored, rowsDuplicate: staged.count - stored, rowsRejected: rejected, checksum },
+      })
+    })
+  } catch (err) {
+    const message =
+      err instanceof NothingUsable
+        ? `No usable row: ${rejected} of ${rowsRead} rows were rejected (see the reasons); nothing was stored`
+        : err instanceof Error && 'status' in err
+          ? err.message
+          : 'The journal could not be loaded; nothing was stored'
+    if (!(err instanceof NothingUsable) && !(err instanceof Error && 'status' in err))
+      console.error(`alarm journal upload ${id}:`, err)
+    await repo
+      .finishJournalUpload(deps.db, id, {
+        status: 'failed',
+        rowsRead,
+        rowsStored: 0,
+        rowsDuplicate: 0,
+        rowsRejected: rejected,
+        rejections,
+        unmatchedTags: [],
+        unmatchedTagCount: 0,
+        duplicateOf: null,
+        error: message,
+        firstAt: null,
+        lastAt: null,
+        checksum,
+        now: deps.clock.now(),
+      })
+      .catch(() => undefined)
+  } finally {
+    client.release()
+    running.delete(key)
+    await rm(path, { force: true })
+  }
+}
+
+function hashFile(path: string): Promise<string> {
+  return new Promise((resolve, reject) => {
+    const h = createHash('sha256')
+    createReadStream(path)
+      .on('data', (d) => h.update(d))
+      .on('end', () => resolve(h.digest('hex')))
+      .on('error', reject)
+  })
+}
+
+/** One journal row as a COPY line, or null (and a rejection) when a cell cannot be read. */
+function journalLine(
+  cells: string[],
+  index: Partial<Record<JournalColumn, number>>,
+  parseTime: (s: string) => number,
+  rowNo: number,
+  reject: (row: number, message: string) => void,
+): string | null {
+  const tsText = cells[index.timestamp!] ?? ''
+  const t = parseTime(tsText)
+  if (t !== t) {
+    reject(rowNo, `timestamp "${tsText.slice(0, 40)}" is not a date and time (YYYY-MM-DD hh:mm:ss)`)
+    return null
+  }
+  const tag = cells[index.tag!] ?? ''
+  if (!tag || tag.length > 100) {
+    reject(rowNo, tag ? 'the tag is longer than 100 characters' : 'the tag is empty')
+    return null
+  }
+  const eventText = cells[index.event!] ?? ''
+  const kind = EVENT_WORDS[eventText.toLowerCase().replace(/[\s_-]+/g, '')]
+  if (kind === undefined) {
+    reject(rowNo, `event "${eventText.slice(0, 40)}" is not understood (active, return, acknowledged, shelved, …)`)
+    return null
+  }
+  let priority = -1
+  if (index.priority !== undefined) {
+    const p = (cells[index.priority] ?? '').toLowerCase()
+    if (p) {
+      const code = PRIORITY_WORDS[p]
+      if (code === undefined) {
+        reject(rowNo, `priority "${p.slice(0, 40)}" is not low, medium, high or critical`)
+        return null
+      }
+      priority = code
+    }
+  }
+  const position = index.position !== undefined ? (cells[index.position] ?? '').slice(0, 100) : ''
+  const message = index.message !== undefined ? (cells[index.message] ?? '').slice(0, 500) : ''
+  return `${t}\t${copyText(tag)}\t${EVENT_CODE[kind]}\t${priority}\t${copyText(position)}\t${copyText(message)}\n`
+}
+
+export async function getJournalUpload(deps: AppDeps, ability: AppAbility, id: number): Promise<JournalUpload> {
+  const r = await repo.journalUploadById(deps.db, id)
+  if (!r) throw notFound('Alarm journal upload')
+  authorize(ability, 'read', 'AlarmJournal', { siteId: r.site_id })
+  return toDto(r)
+}
+
+export async function listJournalUploads(
+  deps: AppDeps,
+  user: CurrentUser | null,
+  q: { siteId?: number; page: number; pageSize: number },
+): Promise<ListResult<JournalUpload>> {
+  const { rows, total } = await repo.listJournalUploads(
+    deps.db,
+    scopeSites(user, q.siteId ? [q.siteId] : undefined),
+    q.page,
+    q.pageSize,
+  )
+  return { items: rows.map(toDto), total }
+}
