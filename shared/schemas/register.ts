@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { IdSchema, repeated } from './common.ts'
 import { ROLES } from './users.ts'
 
 // The register's resources (DOMAIN.md §3). Decimal inputs are accepted as numbers or numeric strings and stored
@@ -299,11 +300,74 @@ export interface Limit extends Omit<CreateLimitInput, 'testGraceDays'> {
   updatedAt: string
 }
 
-/** Register list filters (repeated values allowed) and paging. */
+const queryBool = z.enum(['true', 'false']).transform((v) => v === 'true')
+
+/**
+ * Query of `GET /api/limits` and its export: repeated filters, text search, sort, page or cursor. `view=row` answers
+ * the register screen's slim rows (`RegisterRow`) instead of whole limits.
+ */
 export const LimitListQuerySchema = z.object({
+  siteId: repeated(IdSchema),
+  areaId: repeated(IdSchema),
+  processId: repeated(IdSchema),
+  instrumentId: repeated(IdSchema),
+  limitClass: repeated(z.enum(['alarm', 'trip'])),
+  direction: repeated(z.enum(['high', 'low'])),
+  sil: repeated(z.union([z.enum(['1', '2', '3']).transform(Number), z.literal('none')])),
+  status: repeated(z.enum(LIMIT_STATUSES)),
+  protectionState: repeated(z.enum(PROTECTION_STATES)),
+  testStatus: repeated(z.enum(TEST_STATUSES)),
+  hasWarnings: queryBool.optional(),
+  hasErrors: queryBool.optional(),
+  q: z.string().trim().max(100).optional(),
+  sort: z.string().max(200).optional(),
   page: z.coerce.number().int().min(1).default(1),
   pageSize: z.coerce.number().int().min(1).max(200).default(50),
-  sort: z.string().max(200).optional(),
-  q: z.string().trim().max(100).optional(),
-  cursor: z.string().max(200).optional(),
+  cursor: z.string().max(300).optional(),
+  view: z.enum(['full', 'row']).default('full'),
 })
+export type LimitListQuery = z.output<typeof LimitListQuerySchema>
+/** The register list query as the client writes it (every value as it goes into the query string). */
+export type LimitListParams = Partial<Omit<LimitListQuery, 'sil' | 'hasWarnings' | 'hasErrors'>> & {
+  sil?: ('1' | '2' | '3' | 'none')[]
+  hasWarnings?: 'true' | 'false'
+  hasErrors?: 'true' | 'false'
+}
+/** The filters of the register list (and of its export), without paging and sort. */
+export type LimitListFilters = Omit<LimitListParams, 'sort' | 'page' | 'pageSize' | 'cursor' | 'view'>
+
+/** One row of the register screen (`GET /api/limits?view=row`): what the table shows, nothing more. */
+export interface RegisterRow {
+  id: number
+  siteId: number
+  siteCode: string
+  areaName: string
+  processName: string
+  tag: string
+  description: string
+  limitClass: Limit['limitClass']
+  direction: Limit['direction']
+  setpoint: number
+  deadband: number
+  deadbandUnit: Limit['deadbandUnit']
+  sil: Limit['sil']
+  priority: Limit['priority']
+  status: Limit['status']
+  protectionState: Limit['protectionState']
+  testStatus: Limit['testStatus']
+  testDueDate: string | null
+  operatingWindow: Limit['operatingWindow']
+  primaryInstrument: Pick<
+    NonNullable<Limit['primaryInstrument']>,
+    'id' | 'tag' | 'unit' | 'rangeLow' | 'rangeHigh'
+  > | null
+  instrumentCount: number
+}
+
+/** One page of the register; `total` stops counting at 10,000 (`totalCapped`); `nextCursor` for keyset paging. */
+export interface LimitPage<T = Limit> {
+  items: T[]
+  total: number
+  totalCapped: boolean
+  nextCursor: string | null
+}

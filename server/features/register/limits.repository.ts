@@ -103,46 +103,55 @@ function selectListColumns(q: Base) {
 
 const NULLABLE_SORT = new Set<LimitSortField>(['sil', 'priority', 'testDueDate'])
 
-/**
- * One page of the register. Sorting always ends on id so pages are stable; `offset` for page numbers, or `after`
- * (the sort values and id of the last row seen) for keyset paging that stays fast deep into 100,000 rows.
- * The page's ids are chosen on limit_function alone (an index can give the order and the sort stays bounded), then
- * joined with names, the primary instrument and the voted instruments.
- */
-export async function listLimits(
-  db: Q,
-  f: LimitFilters,
-  sort: { field: LimitSortField; desc: boolean }[],
-  page: { limit: number; offset?: number; after?: { values: unknown[]; id: number } },
-): Promise<(LimitListRow & { instrument_ids: number[] })[]> {
+type Sort = { field: LimitSortField; desc: boolean }[]
+type PageSpec = { limit: number; offset?: number; after?: { values: unknown[]; id: number } }
+
+/** ORDER BY the sort, ending on id so pages are stable. */
+function orderBySort<T extends SelectQueryBuilder<any, any, any>>(q: T, sort: Sort): T {
   const order = sort.length ? sort : [{ field: 'tag' as const, desc: false }]
-  const orderBy = <T extends SelectQueryBuilder<any, any, any>>(q: T): T => {
-    let r = q
-    // NULLS LAST only where a column can be empty: on NOT NULL columns it would keep a plain index from giving the order
-    for (const s of order) {
-      r = r.orderBy(sql.ref(LIMIT_SORT_COLUMNS[s.field]), (ob) =>
-        NULLABLE_SORT.has(s.field)
-          ? s.desc
-            ? ob.desc().nullsLast()
-            : ob.asc().nullsLast()
-          : s.desc
-            ? ob.desc()
-            : ob.asc(),
-      ) as T
-    }
-    return r.orderBy('limit_function.id', order[order.length - 1].desc ? 'desc' : 'asc') as T
+  let r = q
+  // NULLS LAST only where a column can be empty: on NOT NULL columns it would keep a plain index from giving the order
+  for (const s of order) {
+    r = r.orderBy(sql.ref(LIMIT_SORT_COLUMNS[s.field]), (ob) =>
+      NULLABLE_SORT.has(s.field)
+        ? s.desc
+          ? ob.desc().nullsLast()
+          : ob.asc().nullsLast()
+        : s.desc
+          ? ob.desc()
+          : ob.asc(),
+    ) as T
   }
+  return r.orderBy('limit_function.id', order[order.length - 1].desc ? 'desc' : 'asc') as T
+}
+
+/**
+ * The ids of one page, chosen on limit_function alone (an index can give the order and the sort stays bounded):
+ * `offset` for page numbers, or `after` (the sort value and id of the last row seen) for keyset paging that stays
+ * fast deep into 100,000 rows.
+ */
+function pageIds(db: Q, f: LimitFilters, sort: Sort, page: PageSpec) {
   let ids = applyFilters(db.selectFrom('limit_function').select('limit_function.id'), f)
-  if (page.after && order.length === 1) {
-    const col = LIMIT_SORT_COLUMNS[order[0].field]
-    const op = order[0].desc ? '<' : '>'
+  if (page.after && sort.length <= 1) {
+    const col = LIMIT_SORT_COLUMNS[sort[0]?.field ?? 'tag']
+    const op = sort[0]?.desc ? '<' : '>'
     ids = ids.where(
       sql<boolean>`(${sql.ref(col)}, limit_function.id) ${sql.raw(op)} (${page.after.values[0]}, ${page.after.id})`,
     )
   }
-  ids = orderBy(ids).limit(page.limit)
+  ids = orderBySort(ids, sort).limit(page.limit)
   if (page.offset) ids = ids.offset(page.offset)
-  const q = orderBy(
+  return ids
+}
+
+/** One page of the register as whole rows, joined with names, the primary instrument and the voted instruments. */
+export async function listLimits(
+  db: Q,
+  f: LimitFilters,
+  sort: Sort,
+  page: PageSpec,
+): Promise<(LimitListRow & { instrument_ids: number[] })[]> {
+  const q = orderBySort(
     selectListColumns(baseQuery(db))
       .select((eb) =>
         eb
@@ -155,9 +164,48 @@ export async function listLimits(
           ])
           .as('instrument_ids'),
       )
-      .where('limit_function.id', 'in', ids),
+      .where('limit_function.id', 'in', pageIds(db, f, sort, page)),
+    sort,
   )
   return (await q.execute()) as (LimitListRow & { instrument_ids: number[] })[]
+}
+
+/**
+ * One page of the register screen's rows (shared `RegisterRow`), each built as JSON text by PostgreSQL, with the
+ * value of the first sort column (for the next keyset cursor).
+ */
+export async function listRegisterRows(
+  db: Q,
+  f: LimitFilters,
+  sort: Sort,
+  page: PageSpec,
+): Promise<{ id: number; sort_value: unknown; json: string }[]> {
+  const first = LIMIT_SORT_COLUMNS[sort[0]?.field ?? 'tag']
+  const q = orderBySort(
+    baseQuery(db)
+      .select([
+        'limit_function.id',
+        sql.ref(first).as('sort_value'),
+        sql<string>`json_build_object(
+          'id', limit_function.id, 'siteId', limit_function.site_id, 'siteCode', site.code,
+          'areaName', area.name, 'processName', process.name, 'tag', limit_function.tag,
+          'description', limit_function.description, 'limitClass', limit_function.limit_class,
+          'direction', limit_function.direction, 'setpoint', limit_function.setpoint,
+          'deadband', limit_function.deadband, 'deadbandUnit', limit_function.deadband_unit,
+          'sil', limit_function.sil, 'priority', limit_function.priority, 'status', limit_function.status,
+          'protectionState', limit_function.protection_state, 'testStatus', limit_function.test_status,
+          'testDueDate', limit_function.test_due_date,
+          'operatingWindow', json_build_object('errors', limit_function.window_errors,
+            'warnings', limit_function.window_warnings),
+          'primaryInstrument', json_build_object('id', pi.id, 'tag', pi.tag, 'unit', pi.unit,
+            'rangeLow', pi.range_low, 'rangeHigh', pi.range_high),
+          'instrumentCount', (SELECT count(*) FROM limit_instrument li WHERE li.limit_id = limit_function.id)
+        )::text`.as('json'),
+      ])
+      .where('limit_function.id', 'in', pageIds(db, f, sort, page)),
+    sort,
+  )
+  return (await q.execute()) as { id: number; sort_value: unknown; json: string }[]
 }
 
 /** Counts matching rows, stopping at `cap` (the count of a huge filtered set is shown as "cap+"). */

@@ -5,9 +5,7 @@ import {
   CreateInstrumentInputSchema,
   CreateLimitInputSchema,
   CreateProcessInputSchema,
-  LIMIT_STATUSES,
-  PROTECTION_STATES,
-  TEST_STATUSES,
+  LimitListQuerySchema,
   UpdateInstrumentInputSchema,
   UpdateLimitInputSchema,
   UpdateProcessInputSchema,
@@ -18,29 +16,6 @@ import * as instruments from './instruments.service.ts'
 import * as limits from './limits.service.ts'
 import * as processes from './processes.service.ts'
 import * as register from './register.service.ts'
-
-const bool = z.enum(['true', 'false']).transform((v) => v === 'true')
-
-/** Query of `GET /api/limits` (and its export): repeated filters, text search, sort, page or cursor. */
-export const LimitQuerySchema = z.object({
-  siteId: repeated(IdSchema),
-  areaId: repeated(IdSchema),
-  processId: repeated(IdSchema),
-  instrumentId: repeated(IdSchema),
-  limitClass: repeated(z.enum(['alarm', 'trip'])),
-  direction: repeated(z.enum(['high', 'low'])),
-  sil: repeated(z.union([z.enum(['1', '2', '3']).transform(Number), z.literal('none')])),
-  status: repeated(z.enum(LIMIT_STATUSES)),
-  protectionState: repeated(z.enum(PROTECTION_STATES)),
-  testStatus: repeated(z.enum(TEST_STATUSES)),
-  hasWarnings: bool.optional(),
-  hasErrors: bool.optional(),
-  q: z.string().trim().max(100).optional(),
-  sort: z.string().max(200).optional(),
-  page: z.coerce.number().int().min(1).default(1),
-  pageSize: z.coerce.number().int().min(1).max(200).default(50),
-  cursor: z.string().max(300).optional(),
-})
 
 export function createProcessesRouter(deps: AppDeps) {
   const router = Router()
@@ -119,10 +94,12 @@ export function createInstrumentsRouter(deps: AppDeps) {
 export function createLimitsRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
-    res.json(await register.listRegister(deps, req.user, LimitQuerySchema.parse(req.query)))
+    const page = await register.listRegister(deps, req.user, LimitListQuerySchema.parse(req.query))
+    if ('json' in page) res.type('application/json').send(page.json)
+    else res.json(page)
   })
   router.get('/export', async (req, res) => {
-    const { format, ...query } = LimitQuerySchema.extend({ format: z.enum(['csv', 'xlsx']).default('csv') }).parse(
+    const { format, ...query } = LimitListQuerySchema.extend({ format: z.enum(['csv', 'xlsx']).default('csv') }).parse(
       req.query,
     )
     const file = await register.exportRegister(deps, req.user, query, format)

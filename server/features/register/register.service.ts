@@ -5,7 +5,7 @@ import { computeTestSignal } from '../../../shared/domain/test-signal.ts'
 import { MissingInputError, OutOfRangeError, UnitConversionError } from '../../../shared/domain/errors.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import { parseSort } from '../../../shared/schemas/common.ts'
-import type { Limit } from '../../../shared/schemas/register.ts'
+import type { Limit, LimitListQuery } from '../../../shared/schemas/register.ts'
 import { REGISTER_COLUMNS, type RegisterFileRow, signalToText } from '../../../shared/schemas/register-io.ts'
 import { scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
@@ -14,11 +14,10 @@ import type { CurrentUser } from '../../types/express.d.ts'
 import * as repo from './limits.repository.ts'
 import { getLimit } from './limits.service.ts'
 import { toInstrument, toLimit } from './register.mappers.ts'
-import type { z } from 'zod'
-import type { LimitQuerySchema } from './register.router.ts'
 import { policyOf } from '../sites/sites.service.ts'
+import { ChangeCache, changeFeedOf } from '../../db/change-feed.ts'
 
-type LimitQuery = z.infer<typeof LimitQuerySchema>
+type LimitQuery = LimitListQuery
 const COUNT_CAP = 10_000
 
 function filtersOf(user: CurrentUser | null, q: LimitQuery): repo.LimitFilters {
@@ -62,37 +61,78 @@ const SORT_VALUE: Record<repo.LimitSortField, (l: Limit) => unknown> = {
 }
 
 /**
- * The register page: only the user's sites; `total` stops counting at 10,000 (`totalCapped`). A single-field sort also
- * answers `nextCursor` for keyset paging.
+ * Counts of the register's filtered sets, kept per process until the register changes here or on another instance
+ * (docs/architecture.md, "Caches and change notifications"): turning a page does not count again.
  */
-export async function listRegister(deps: AppDeps, user: CurrentUser | null, q: LimitQuery) {
+const countCaches = new WeakMap<object, ChangeCache<number>>()
+function countCacheOf(deps: AppDeps): ChangeCache<number> {
+  let cache = countCaches.get(deps.pool)
+  if (!cache) {
+    const feed = changeFeedOf(deps.pool)
+    const made = new ChangeCache<number>(feed, 5 * 60_000, 1000)
+    feed?.subscribe((change) => {
+      if (change === '*' || change === 'register') made.drop()
+    })
+    countCaches.set(deps.pool, made)
+    cache = made
+  }
+  return cache
+}
+
+/** Keyset paging needs one sort column without empty values. */
+const KEYSET_UNSUITED = ['sil', 'priority', 'testDueDate']
+
+function cursorOf(value: unknown, id: number): string {
+  const v = value instanceof Date ? value.toISOString() : value
+  return Buffer.from(JSON.stringify({ v: [v], id })).toString('base64url')
+}
+
+/**
+ * The register page: only the user's sites; `total` stops counting at 10,000 (`totalCapped`). A single-field sort also
+ * answers `nextCursor` for keyset paging. `view=row` answers the register screen's rows as JSON text built by
+ * PostgreSQL (the router sends it as it is); the default answers whole limits.
+ */
+export async function listRegister(
+  deps: AppDeps,
+  user: CurrentUser | null,
+  q: LimitQuery,
+): Promise<{ json: string } | { items: Limit[]; total: number; totalCapped: boolean; nextCursor: string | null }> {
   const f = filtersOf(user, q)
   const sort = parseSort(q.sort, Object.keys(repo.LIMIT_SORT_COLUMNS)) as {
     field: repo.LimitSortField
     desc: boolean
   }[]
   const after = q.cursor ? decodeCursor(q.cursor) : undefined
-  if (after && (sort.length > 1 || ['sil', 'priority', 'testDueDate'].includes(sort[0]?.field ?? '')))
+  if (after && (sort.length > 1 || KEYSET_UNSUITED.includes(sort[0]?.field ?? '')))
     throw validationFailed({ cursor: ['Cursor paging works with one sort column without empty values'] })
-  const [rows, total] = await Promise.all([
-    repo.listLimits(deps.db, f, sort, {
-      limit: q.pageSize,
-      offset: after ? undefined : (q.page - 1) * q.pageSize,
-      after,
-    }),
-    repo.countLimits(deps.db, f, COUNT_CAP),
-  ])
-  const items = rows.map((r) => toLimit(r, r.instrument_ids))
+  const page = { limit: q.pageSize, offset: after ? undefined : (q.page - 1) * q.pageSize, after }
+  const counts = countCacheOf(deps)
+  const countKey = JSON.stringify(f)
+  const counted = counts.get(countKey)
+  const gen = counts.mark()
+  const count = async () => {
+    if (counted !== undefined) return counted
+    const n = await repo.countLimits(deps.db, f, COUNT_CAP)
+    counts.set(countKey, n, gen)
+    return n
+  }
   // keyset paging needs a sort column without nulls
   const single =
-    sort.length <= 1 && !['sil', 'priority', 'testDueDate'].includes(sort[0]?.field ?? 'tag')
-      ? (sort[0]?.field ?? 'tag')
-      : null
+    sort.length <= 1 && !KEYSET_UNSUITED.includes(sort[0]?.field ?? 'tag') ? (sort[0]?.field ?? 'tag') : null
+  if (q.view === 'row') {
+    const [rows, total] = await Promise.all([repo.listRegisterRows(deps.db, f, sort, page), count()])
+    const last = rows[rows.length - 1]
+    const nextCursor = single && last && rows.length === q.pageSize ? cursorOf(last.sort_value, last.id) : null
+    return {
+      json:
+        `{"items":[${rows.map((r) => r.json).join(',')}],"total":${Math.min(total, COUNT_CAP)},` +
+        `"totalCapped":${total > COUNT_CAP},"nextCursor":${JSON.stringify(nextCursor)}}`,
+    }
+  }
+  const [rows, total] = await Promise.all([repo.listLimits(deps.db, f, sort, page), count()])
+  const items = rows.map((r) => toLimit(r, r.instrument_ids))
   const last = items[items.length - 1]
-  const nextCursor =
-    single && last && items.length === q.pageSize
-      ? Buffer.from(JSON.stringify({ v: [SORT_VALUE[single](last)], id: last.id })).toString('base64url')
-      : null
+  const nextCursor = single && last && items.length === q.pageSize ? cursorOf(SORT_VALUE[single](last), last.id) : null
   return { items, total: Math.min(total, COUNT_CAP), totalCapped: total > COUNT_CAP, nextCursor }
 }
 

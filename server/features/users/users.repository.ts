@@ -1,6 +1,6 @@
 import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
-import type { Kysely, Transaction } from 'kysely'
+import { type Kysely, sql, type Transaction } from 'kysely'
 import type { RoleAssignment, Role } from '../../../shared/schemas/users.ts'
 
 type Q = Kysely<Database> | Transaction<Database>
@@ -15,6 +15,31 @@ export function findUserByEmail(db: Q, email: string) {
 
 export function findUserById(db: Q, id: number) {
   return db.selectFrom('app_user').selectAll().where('id', '=', id).executeTakeFirst()
+}
+
+/** The account and its role assignments (ordered by site and role) in one query; undefined when there is none. */
+export async function findUserWithRoles(db: Q, id: number) {
+  const row = await db
+    .selectFrom('app_user')
+    .select(['id', 'email', 'display_name', 'active'])
+    .select((eb) =>
+      eb.fn
+        .coalesce(
+          eb
+            .selectFrom('role_assignment')
+            .select(
+              sql<
+                RoleAssignment[]
+              >`json_agg(json_build_object('siteId', site_id, 'role', role) ORDER BY site_id, role)`.as('r'),
+            )
+            .whereRef('role_assignment.user_id', '=', 'app_user.id'),
+          sql<RoleAssignment[]>`'[]'::json`,
+        )
+        .as('roles'),
+    )
+    .where('id', '=', id)
+    .executeTakeFirst()
+  return row
 }
 
 export async function findRolesByUserIds(db: Q, ids: number[]): Promise<Map<number, RoleAssignment[]>> {

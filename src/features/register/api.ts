@@ -5,42 +5,19 @@ import type {
   CreateLimitInput,
   Instrument,
   Limit,
+  LimitListFilters,
+  LimitListParams,
+  LimitPage,
   Process,
+  RegisterRow,
   UpdateLimitInput,
 } from '@shared/schemas/register.ts'
 import type { ImportMapping, ImportResult } from '@shared/schemas/imports.ts'
 import { http, toQuery, uploadWithProgress } from '@/api/client'
 
-/** Filters of the register list and its export; arrays repeat the query key. */
-export interface LimitFilters {
-  siteId?: number[]
-  areaId?: number[]
-  processId?: number[]
-  instrumentId?: number[]
-  limitClass?: string[]
-  direction?: string[]
-  sil?: string[]
-  status?: string[]
-  protectionState?: string[]
-  testStatus?: string[]
-  hasWarnings?: 'true' | 'false'
-  hasErrors?: 'true' | 'false'
-  q?: string
-}
-
-export interface LimitListQuery extends LimitFilters {
-  sort?: string
-  page?: number
-  pageSize?: number
-}
-
-/** One page of the register; `total` stops counting at 10,000 (`totalCapped`). */
-export interface RegisterPage {
-  items: Limit[]
-  total: number
-  totalCapped: boolean
-  nextCursor: string | null
-}
+/** Filters of the register list and its export; arrays repeat the query key (contract in shared/schemas). */
+export type LimitFilters = LimitListFilters
+export type LimitListQuery = Omit<LimitListParams, 'view'>
 
 /** One field that changed between two revisions. */
 export interface RevisionChange {
@@ -62,7 +39,11 @@ export interface LimitRevision {
 /** An instrument as the API answers it. */
 export type InstrumentRecord = Instrument & { revision: number; updatedAt: string }
 
-export const listLimits = (query: LimitListQuery) => http.get<RegisterPage>('/limits', { ...query })
+/** Whole limits (the detail and form pages' siblings on an instrument). */
+export const listLimits = (query: LimitListQuery) => http.get<LimitPage>('/limits', { ...query })
+/** The register screen's page of slim rows. */
+export const listRegisterRows = (query: LimitListQuery) =>
+  http.get<LimitPage<RegisterRow>>('/limits', { ...query, view: 'row' })
 export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
 export const createLimit = (input: CreateLimitInput) => http.post<Limit>('/limits', input)
 export const updateLimit = (id: number, input: UpdateLimitInput & { expectedRevision?: number }) =>
