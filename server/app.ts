@@ -10,6 +10,7 @@ import { AppError } from './errors.ts'
 import {
   createInstrumentsRouter,
   createLimitsRouter,
+  createResponseSheetsRouter,
   createProcessesRouter,
 } from './features/register/register.router.ts'
 import { createImportsRouter } from './features/register/imports.router.ts'
@@ -84,6 +85,7 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/instruments', createInstrumentsRouter(deps))
   api.use('/limits/:id/degradation', createDegradationRouter(deps))
   api.use('/limits', createLimitsRouter(deps))
+  api.use('/alarm-response-sheets', createResponseSheetsRouter(deps))
   api.use('/trip-tests', createTripTestsRouter(deps))
   api.use('/bypasses', createBypassesRouter(deps))
   api.use('/bypass-review', createBypassReviewRouter(deps))

@@ -1,4 +1,5 @@
 import type { ColumnType, Generated, Insertable, Selectable } from 'kysely'
+import type { ALARM_TYPES, IMPACT_CATEGORIES, LIMIT_CLASSES } from '../../shared/schemas/register.ts'
 
 type Timestamp = ColumnType<Date, Date | string, Date | string>
 type Json = ColumnType<unknown, string | null, string | null>
@@ -126,7 +127,7 @@ export interface LimitFunctionTable {
   tag: string
   description: Generated<string>
   direction: string
-  limit_class: string
+  limit_class: (typeof LIMIT_CLASSES)[number]
   setpoint: Numeric
   deadband: Numeric
   deadband_unit: string
@@ -153,6 +154,12 @@ export interface LimitFunctionTable {
   code_set_interval: boolean
   sil: number | null
   subsystems: JsonValue<unknown[]>
+  alarm_type: Generated<(typeof ALARM_TYPES)[number]>
+  causes: Generated<string>
+  confirmation: Generated<string>
+  impact_category: (typeof IMPACT_CATEGORIES)[number] | null
+  safety_related_alarm: Generated<boolean>
+  claimed_risk_reduction: NullableNumeric
   status: Generated<string>
   revision: Generated<number>
   protection_state: Generated<string>

@@ -108,9 +108,16 @@ interface AlarmOpts {
   test?: number
   status?: LimitSpec['status']
   retiredReason?: string
+  /** 'alert' for a condition not urgent enough for an alarm. */
+  cls?: 'alarm' | 'alert'
+  causes?: string
+  confirm?: string
+  impact?: LimitFields['impactCategory']
+  /** A safety-related alarm credited as a protection layer: the risk reduction claimed (≤ 10). */
+  safetyRrf?: number
 }
 
-/** An alarm: asks the operator to act within `rt` minutes. */
+/** An alarm (or an alert): asks the operator to act within `rt` minutes. */
 function alarm(
   tag: string,
   on: string,
@@ -123,7 +130,7 @@ function alarm(
     tag,
     on: [on],
     direction,
-    limitClass: 'alarm',
+    limitClass: o.cls ?? 'alarm',
     setpoint,
     deadband,
     onDelaySec: o.delay ?? 0,
@@ -131,6 +138,11 @@ function alarm(
     latching: false,
     description: o.text,
     operatorResponse: o.response,
+    causes: o.causes ?? '',
+    confirmation: o.confirm ?? '',
+    impactCategory: o.impact ?? null,
+    safetyRelatedAlarm: o.safetyRrf !== undefined,
+    claimedRiskReduction: o.safetyRrf ?? null,
     consequence: o.consequence ?? '',
     responseTimeMin: o.rt,
     severity: o.sev,
@@ -1534,6 +1546,10 @@ function tankSpecs(): ProcessSpec[] {
       sev: 'major',
       text: `Tank level high`,
       response: 'Stop or divert the receipt; confirm the line-up',
+      causes: 'Receipt left running; wrong tank lined up; shore or pipeline rate higher than planned',
+      confirm: 'Compare with the independent level switch and the tank gauging; check the receipt line-up',
+      consequence: 'Overfill into the bund and a vapour release',
+      impact: 'environment',
     }),
     alarm(`LAL-${id}`, lt, 'low', low, 50, {
       rt: 20,
@@ -1564,7 +1580,18 @@ function tankSpecs(): ProcessSpec[] {
       [1500, 16500],
       18500,
       {
-        limits: tankLimits('311', 'LT-311', 'LS-312', 17000, 1200, 18000, 18500, 'XV-313').map((l) => ({
+        limits: [
+          ...tankLimits('311', 'LT-311', 'LS-312', 17000, 1200, 18000, 18500, 'XV-313'),
+          alarm('LA-311', 'LT-311', 'high', 16600, 50, {
+            cls: 'alert',
+            rt: 120,
+            sev: 'minor',
+            text: 'Tank level near working capacity',
+            response: 'Plan the next transfer out before the next receipt',
+            causes: 'Receipts ahead of the transfer plan',
+            impact: 'asset_production',
+          }),
+        ].map((l) => ({
           ...l,
           description: `Crude tank TK-301: ${l.description?.toLowerCase()}`,
         })),
@@ -1608,6 +1635,11 @@ function tankSpecs(): ProcessSpec[] {
             sev: 'severe',
             text: 'Tank level high-high',
             response: 'Stop the receipt at once; open the swing line to the spare tank',
+            causes: 'Receipt not stopped at the high alarm; level gauge drifting low',
+            confirm: 'Second radar LT-323 and the level switch LS-322 agree',
+            consequence: 'Overfill, vapour cloud and fire',
+            impact: 'safety',
+            safetyRrf: 10,
           }),
         ].map((l) => ({ ...l, description: `Gasoline tank TK-302: ${l.description?.toLowerCase()}` })),
       },

@@ -8,7 +8,7 @@
 /** High limits act on a rising value, low limits on a falling one. */
 export type LimitDirection = 'high' | 'low'
 /** An alarm asks an operator to act; a trip acts by itself. */
-export type LimitClass = 'alarm' | 'trip'
+export type LimitClass = 'alarm' | 'alert' | 'trip'
 /** Deadband in engineering units or in percent of the instrument span. */
 export type DeadbandUnit = 'eu' | 'percent_span'
 /** Where the transmitter drives its output on sensor failure. */
@@ -237,9 +237,9 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
     (s) => s.status !== 'retired' && !(limit.id !== null && String(s.id) === String(limit.id)),
   )
 
-  // 3b. a trip lies beyond every alarm of the same direction, strictly; an alarm before every trip
+  // 3b. a trip lies beyond every alarm (and alert) of the same direction, strictly; an alarm before every trip
   for (const s of siblings) {
-    if (s.direction !== limit.direction || s.limitClass === limit.limitClass) continue
+    if (s.direction !== limit.direction || trip === (s.limitClass === 'trip')) continue
     const other = dec(s.setpoint)
     const tripValue = trip ? sp : other
     const alarmValue = trip ? other : sp
@@ -251,12 +251,16 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
         ? {
             code: 'TRIP_NOT_BEYOND_ALARM',
             field: 'setpoint',
-            message: `${limit.direction} trip setpoint ${fmt(sp)} must be ${side} ${limit.direction} alarm ${siblingName(s)} at ${fmt(other)}`,
+            message:
+              `${limit.direction} trip setpoint ${fmt(sp)} must be ${side} ${limit.direction} ${s.limitClass} ` +
+              `${siblingName(s)} at ${fmt(other)}`,
           }
         : {
             code: 'ALARM_NOT_BEFORE_TRIP',
             field: 'setpoint',
-            message: `${limit.direction} alarm setpoint ${fmt(sp)} must be ${high ? 'below' : 'above'} ${limit.direction} trip ${siblingName(s)} at ${fmt(other)}`,
+            message:
+              `${limit.direction} ${limit.limitClass} setpoint ${fmt(sp)} must be ${high ? 'below' : 'above'} ` +
+              `${limit.direction} trip ${siblingName(s)} at ${fmt(other)}`,
           },
     )
   }

@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import { IdSchema, repeated } from './common.ts'
+import { structuralClassificationErrors } from '../domain/priority.ts'
 import { ROLES } from './users.ts'
 
 // The register's resources (DOMAIN.md §3). Decimal inputs are accepted as numbers or numeric strings and stored
@@ -20,6 +21,13 @@ const optNum = z
   .optional()
   .transform((v) => v ?? null)
 const text = (max = 500) => z.string().trim().max(max)
+
+/** Limit classes: an alarm asks the operator to act, an alert only informs, a trip acts by itself. */
+export const LIMIT_CLASSES = ['alarm', 'alert', 'trip'] as const
+/** Alarm types beyond absolute high/low, recorded even where the product does not compute them. */
+export const ALARM_TYPES = ['absolute', 'deviation', 'rate_of_change', 'discrepancy', 'bad_value'] as const
+/** Consequence-of-inaction categories of the rationalization record. */
+export const IMPACT_CATEGORIES = ['safety', 'environment', 'asset_production'] as const
 
 export const MEASURED_VARIABLES = ['temperature', 'pressure', 'level', 'flow', 'analytical', 'other'] as const
 export const TC_TYPES = ['B', 'E', 'J', 'K', 'N', 'R', 'S', 'T'] as const
@@ -182,7 +190,7 @@ const limitFields = {
   description: text(500).default(''),
   instrumentIds: z.array(z.number().int().positive()).min(1, 'Choose at least one instrument').max(4),
   direction: z.enum(['high', 'low']),
-  limitClass: z.enum(['alarm', 'trip']),
+  limitClass: z.enum(LIMIT_CLASSES),
   setpoint: num,
   deadband: num.refine((v) => v >= 0, 'The deadband cannot be negative').default(0),
   deadbandUnit: z.enum(['eu', 'percent_span']).default('eu'),
@@ -210,10 +218,20 @@ const limitFields = {
     .nullable()
     .default(null),
   subsystems: z.array(SubsystemSchema).max(3).default([]),
+  // Alarm rationalization record (docs/register.md#alarm-rationalization; ISA-18.2 rationalization, from memory)
+  alarmType: z.enum(ALARM_TYPES).default('absolute'),
+  causes: text(1000).default(''),
+  confirmation: text(1000).default(''),
+  impactCategory: z.enum(IMPACT_CATEGORIES).nullable().default(null),
+  safetyRelatedAlarm: z.boolean().default(false),
+  claimedRiskReduction: optNum,
 }
 
 type LimitShape = Partial<{
-  limitClass: string
+  limitClass: (typeof LIMIT_CLASSES)[number]
+  severity: 'minor' | 'moderate' | 'major' | 'severe'
+  safetyRelatedAlarm: boolean
+  claimedRiskReduction: number | null
   latching: boolean
   resetRole: string | null
   responseTimeMin: number | null
@@ -227,13 +245,8 @@ function limitRules<T extends z.ZodType<LimitShape>>(schema: T) {
   return schema.superRefine((v, ctx) => {
     if (v.latching === true && !v.resetRole)
       ctx.addIssue({ code: 'custom', path: ['resetRole'], message: 'Say who may reset a latching limit' })
-    if (v.limitClass === 'alarm' && v.responseTimeMin == null) {
-      ctx.addIssue({
-        code: 'custom',
-        path: ['responseTimeMin'],
-        message: 'An alarm needs the time the operator has to respond',
-      })
-    }
+    for (const e of structuralClassificationErrors(v))
+      ctx.addIssue({ code: 'custom', path: [e.field], message: e.message })
     if (v.sil != null && v.subsystems !== undefined) {
       const roles = new Set(v.subsystems.map((s) => s.role))
       if (roles.size !== v.subsystems.length)
@@ -311,7 +324,7 @@ export const LimitListQuerySchema = z.object({
   areaId: repeated(IdSchema),
   processId: repeated(IdSchema),
   instrumentId: repeated(IdSchema),
-  limitClass: repeated(z.enum(['alarm', 'trip'])),
+  limitClass: repeated(z.enum(LIMIT_CLASSES)),
   direction: repeated(z.enum(['high', 'low'])),
   sil: repeated(z.union([z.enum(['1', '2', '3']).transform(Number), z.literal('none')])),
   status: repeated(z.enum(LIMIT_STATUSES)),

@@ -1,9 +1,9 @@
 import { z } from 'zod'
-import { checkPriorityMatrix, DEFAULT_PRIORITY_MATRIX } from '../domain/priority.ts'
+import { checkPriorityMatrix, DEFAULT_ALARM_PHILOSOPHY, DEFAULT_PRIORITY_MATRIX } from '../domain/priority.ts'
 import { AlarmPolicySchema, DEFAULT_ALARM_POLICY } from './alarms.ts'
 
-const cell = z.enum(['low', 'medium', 'high', 'critical', 'none'])
-/** The alarm priority matrix: severity rows × time-to-respond columns (DOMAIN.md §6). */
+const cell = z.enum(['low', 'medium', 'high', 'critical', 'alert'])
+/** The alarm priority matrix: severity rows × time-to-respond columns (docs/domain/alarm-classification.md). */
 export const PriorityMatrixSchema = z
   .object({
     responseTimeBoundsMin: z.array(z.number().positive()).min(1),
@@ -13,7 +13,23 @@ export const PriorityMatrixSchema = z
     for (const problem of checkPriorityMatrix(m)) ctx.addIssue({ code: 'custom', message: problem })
   })
 
-/** Site policies of DOMAIN.md §6 (defaults are common practice, no standard behind the numbers). */
+const priorityStyle = z.object({
+  label: z.string().trim().min(1).max(24),
+  color: z
+    .string()
+    .trim()
+    .regex(/^(#[0-9a-fA-F]{6}|[a-z][a-z-]{1,23})$/, 'Use a #rrggbb colour or a theme colour name'),
+})
+/** The parts of the site's alarm philosophy the register applies (docs/domain/alarm-classification.md). */
+export const AlarmPhilosophySchema = z.object({
+  longResponseAs: z.enum(['alert', 'lowest_priority']).default(DEFAULT_ALARM_PHILOSOPHY.longResponseAs),
+  shortResponseMin: z.number().min(0).max(60).default(DEFAULT_ALARM_PHILOSOPHY.shortResponseMin),
+  priorities: z
+    .object({ low: priorityStyle, medium: priorityStyle, high: priorityStyle, critical: priorityStyle })
+    .default(DEFAULT_ALARM_PHILOSOPHY.priorities),
+})
+
+/** Site policies (docs/conventions.md#site-policies; defaults are common practice, no standard behind the numbers). */
 export const SitePolicySchema = z.object({
   bypassMaxHoursSupervisor: z
     .number()
@@ -38,6 +54,7 @@ export const SitePolicySchema = z.object({
   defaultTolerancePercentSpan: z.number().positive().max(10).default(0.5),
   priorityMatrix: PriorityMatrixSchema.default(DEFAULT_PRIORITY_MATRIX),
   alarms: AlarmPolicySchema.default(DEFAULT_ALARM_POLICY),
+  alarmPhilosophy: AlarmPhilosophySchema.default(AlarmPhilosophySchema.parse({})),
 })
 export type SitePolicy = z.infer<typeof SitePolicySchema>
 

@@ -266,14 +266,15 @@ describe('operating window through the API: errors block saving (422), warnings 
     expect(await passes(i.id, { direction: 'low', setpoint: 200, badValueTrip: true })).toEqual([])
   })
 
-  it('priority matrix (site policy, common practice after ISA-18.2): the "no alarm" cell blocks an alarm; one minute less gets a priority', async () => {
+  it('priority matrix (site policy, common practice after ISA-18.2): the alert cell refuses an alarm and says to register it as an alert; one minute less gets a priority', async () => {
     const i = await instrument()
     const f = await blocked(
       i.id,
       { ...alarm, severity: 'severe', responseTimeMin: 30, setpoint: 700 },
-      'PRIORITY_NO_ALARM',
+      'ALARM_NOT_URGENT',
     )
-    expect(f.field).toBe('responseTimeMin')
+    expect(f.field).toBe('limitClass')
+    expect(f.message).toMatch(/register it as an alert/)
     const ok = (await limit(i.id, { ...alarm, severity: 'severe', responseTimeMin: 29, setpoint: 700 }).expect(201))
       .body
     expect(ok.priority).toBe('high')

@@ -1,7 +1,7 @@
 import type { Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { checkOperatingWindow, type WindowFinding } from '../../../shared/domain/operating-window.ts'
-import { derivePriority } from '../../../shared/domain/priority.ts'
+import { classifyLimit } from '../../../shared/domain/priority.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import type { CreateLimitInput, Limit, UpdateLimitInput } from '../../../shared/schemas/register.ts'
 import { CreateLimitInputSchema } from '../../../shared/schemas/register.ts'
@@ -71,22 +71,14 @@ export async function evaluateLimit(
     })),
     defaultTolerancePercentSpan: policy.defaultTolerancePercentSpan,
   })
-  const errors = [...result.errors]
-  let priority: Limit['priority'] = null
-  let priorityExplanation = 'A trip acts by itself; no operator priority'
-  if (draft.responseTimeMin != null) {
-    const d = derivePriority(draft.severity, draft.responseTimeMin, policy.priorityMatrix)
-    priority = d.priority
-    priorityExplanation = d.explanation
-    if (d.noAlarm && draft.limitClass === 'alarm') {
-      errors.push({
-        code: 'PRIORITY_NO_ALARM' as WindowFinding['code'],
-        field: 'responseTimeMin',
-        message: `The priority matrix says no alarm here (${d.explanation}): make it a trip or nothing`,
-      })
-    }
-  }
-  return { errors, warnings: result.warnings, priority, priorityExplanation }
+  const c = classifyLimit(draft, policy.priorityMatrix, policy.alarmPhilosophy)
+  const errors = [...result.errors, ...c.errors.map((e) => ({ ...e, code: e.code as WindowFinding['code'] }))]
+  // The classification warnings (operator too slow) are shown by the form and the limit page from the same rule in
+  // shared/domain/priority.ts; they are not operating-window findings and are not stored with them.
+  const warnings = result.warnings
+  const priority: Limit['priority'] = c.priority
+  const priorityExplanation = c.explanation
+  return { errors, warnings, priority, priorityExplanation }
 }
 
 /** 422 with every blocking finding as a field message and the whole window result. */
@@ -132,6 +124,12 @@ function columns(d: CreateLimitInput, ev: Evaluation) {
     code_set_interval: d.codeSetInterval,
     sil: d.sil,
     subsystems: JSON.stringify(d.sil ? d.subsystems : []),
+    alarm_type: d.alarmType,
+    causes: d.causes,
+    confirmation: d.confirmation,
+    impact_category: d.impactCategory,
+    safety_related_alarm: d.limitClass === 'alarm' && d.safetyRelatedAlarm,
+    claimed_risk_reduction: d.limitClass === 'alarm' && d.safetyRelatedAlarm ? d.claimedRiskReduction : null,
     window_errors: JSON.stringify(ev.errors),
     window_warnings: JSON.stringify(ev.warnings),
   }

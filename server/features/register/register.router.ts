@@ -1,4 +1,4 @@
-import { Router } from 'express'
+import { type Response, Router } from 'express'
 import { z } from 'zod'
 import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
 import {
@@ -16,6 +16,7 @@ import * as instruments from './instruments.service.ts'
 import * as limits from './limits.service.ts'
 import * as processes from './processes.service.ts'
 import * as register from './register.service.ts'
+import * as sheets from './response-sheets.service.ts'
 
 export function createProcessesRouter(deps: AppDeps) {
   const router = Router()
@@ -110,6 +111,10 @@ export function createLimitsRouter(deps: AppDeps) {
   router.get('/:id', async (req, res) => {
     res.json(await limits.getLimit(deps, req.ability, IdSchema.parse(req.params.id)))
   })
+  router.get('/:id/response-sheet', async (req, res) => {
+    const { pdf, tag } = await sheets.responseSheet(deps, req.ability, IdSchema.parse(req.params.id))
+    sendPdf(res, pdf, `alarm-response-sheet-${tag}.pdf`)
+  })
   router.get('/:id/revisions', async (req, res) => {
     res.json(await limits.listRevisions(deps, req.ability, IdSchema.parse(req.params.id)))
   })
@@ -144,6 +149,24 @@ export function createLimitsRouter(deps: AppDeps) {
   router.delete('/:id', async (req, res) => {
     await limits.deleteLimit(deps, req.ability, req.audit, IdSchema.parse(req.params.id))
     res.status(204).end()
+  })
+  return router
+}
+
+/** Sends a generated PDF as a download; the file name is made of tags and site codes only. */
+function sendPdf(res: Response, pdf: Buffer, fileName: string) {
+  res.setHeader('Content-Type', 'application/pdf')
+  res.setHeader('Content-Disposition', `attachment; filename="${fileName.replace(/[^A-Za-z0-9._-]/g, '_')}"`)
+  res.send(pdf)
+}
+
+/** `/api/alarm-response-sheets?siteId=…&areaId=…`: the booklet of the active alarms and alerts, one page each. */
+export function createResponseSheetsRouter(deps: AppDeps) {
+  const router = Router()
+  router.get('/', async (req, res) => {
+    const q = z.object({ siteId: IdSchema, areaId: IdSchema.optional() }).parse(req.query)
+    const { pdf, where } = await sheets.responseBooklet(deps, req.ability, q)
+    sendPdf(res, pdf, `alarm-response-sheets-${where}.pdf`)
   })
   return router
 }

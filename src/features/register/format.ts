@@ -1,6 +1,7 @@
 import {
   mdiAlertOctagonOutline,
   mdiBellRingOutline,
+  mdiInformationOutline,
   mdiPauseCircleOutline,
   mdiShieldCheckOutline,
   mdiShieldOffOutline,
@@ -10,7 +11,19 @@ import { ROLE_LABELS } from '@shared/schemas/users.ts'
 
 // Labels and number formatting shared by the register's screens.
 
-export const CLASS_LABELS: Record<Limit['limitClass'], string> = { alarm: 'Alarm', trip: 'Trip' }
+export const CLASS_LABELS: Record<Limit['limitClass'], string> = { alarm: 'Alarm', alert: 'Alert', trip: 'Trip' }
+export const ALARM_TYPE_LABELS: Record<Limit['alarmType'], string> = {
+  absolute: 'Absolute (high / low)',
+  deviation: 'Deviation',
+  rate_of_change: 'Rate of change',
+  discrepancy: 'Discrepancy',
+  bad_value: 'Bad value',
+}
+export const IMPACT_LABELS: Record<NonNullable<Limit['impactCategory']>, string> = {
+  safety: 'Safety',
+  environment: 'Environment',
+  asset_production: 'Asset or production',
+}
 export const DIRECTION_LABELS: Record<Limit['direction'], string> = { high: 'High', low: 'Low' }
 export const STATUS_LABELS: Record<Limit['status'], string> = {
   proposed: 'Proposed (draft)',
@@ -35,12 +48,6 @@ export const SEVERITY_LABELS: Record<Limit['severity'], string> = {
   major: 'Major',
   severe: 'Severe',
 }
-export const PRIORITY_LABELS: Record<NonNullable<Limit['priority']>, string> = {
-  low: 'Low',
-  medium: 'Medium',
-  high: 'High',
-  critical: 'Critical',
-}
 export const VARIABLE_LABELS: Record<string, string> = {
   temperature: 'Temperature',
   pressure: 'Pressure',
@@ -64,9 +71,10 @@ export const SUBSYSTEM_ROLE_LABELS: Record<string, string> = {
   final_element: 'Final element',
 }
 
-export const CLASS_COLORS: Record<Limit['limitClass'], string> = { alarm: 'warning', trip: 'error' }
+export const CLASS_COLORS: Record<Limit['limitClass'], string> = { alarm: 'warning', alert: 'info', trip: 'error' }
 export const CLASS_ICONS: Record<Limit['limitClass'], string> = {
   alarm: mdiBellRingOutline,
+  alert: mdiInformationOutline,
   trip: mdiAlertOctagonOutline,
 }
 export const STATUS_COLORS: Record<Limit['status'], string> = {
@@ -81,12 +89,6 @@ export const TEST_STATUS_STYLE: Record<Limit['testStatus'], { color: string; var
   due_soon: { color: 'info', variant: 'tonal' },
   in_grace: { color: 'warning', variant: 'tonal' },
   overdue: { color: 'error', variant: 'flat' },
-}
-export const PRIORITY_COLORS: Record<NonNullable<Limit['priority']>, string> = {
-  low: 'secondary',
-  medium: 'info',
-  high: 'warning',
-  critical: 'error',
 }
 export const PROTECTION_STYLE: Record<
   Limit['protectionState'],

@@ -1,14 +1,18 @@
 import { describe, expect, it } from 'vitest'
 import {
   checkPriorityMatrix,
+  classifyLimit,
+  DEFAULT_ALARM_PHILOSOPHY,
   DEFAULT_PRIORITY_MATRIX,
   derivePriority,
   type PriorityMatrix,
   type Severity,
 } from '../../../shared/domain/priority.ts'
 
-// Expected cells: DOMAIN.md §6 site-policy priority matrix (common practice, no standard behind the numbers;
-// the severity × time-to-respond principle is ISA-18.2, via ../shared/reference/alarm-management.md).
+// Expected cells: the default site-policy priority matrix of docs/domain/alarm-classification.md (common practice,
+// no standard behind the numbers; the severity × time-to-respond principle is ISA-18.2 / IEC 62682). The last
+// column is an alert: with 30 min or more to respond the condition is not urgent enough for an alarm
+// (ISA-18.2-2016 separates alerts from alarms; from memory).
 describe('derivePriority, default matrix', () => {
   it.each<[Severity, number, string | null]>([
     ['severe', 1, 'critical'],
@@ -30,7 +34,7 @@ describe('derivePriority, default matrix', () => {
   ])('severity %s, %s min → %s', (severity, minutes, priority) => {
     const result = derivePriority(severity, minutes, DEFAULT_PRIORITY_MATRIX)
     expect(result.priority).toBe(priority)
-    expect(result.noAlarm).toBe(priority === null)
+    expect(result.alertCell).toBe(priority === null)
     expect(result.row).toBe(severity)
   })
 
@@ -53,7 +57,7 @@ describe('derivePriority, default matrix', () => {
   it('explains the derivation', () => {
     expect(derivePriority('major', 5).explanation).toBe('severity major × respond in 3–10 min → high')
     expect(derivePriority('minor', 30).explanation).toBe(
-      'severity minor × respond in ≥ 30 min → no alarm (make it a trip or nothing)',
+      'severity minor × respond in ≥ 30 min → alert (not urgent enough for an alarm)',
     )
   })
 
@@ -74,7 +78,7 @@ describe('site override of the matrix', () => {
       severe: ['critical', 'high'],
       major: ['high', 'medium'],
       moderate: ['medium', 'low'],
-      minor: ['low', 'none'],
+      minor: ['low', 'alert'],
     },
   }
 
@@ -158,5 +162,73 @@ describe('checkPriorityMatrix', () => {
     mutate(m)
     expect(checkPriorityMatrix(m).join('\n')).toMatch(message)
     expect(() => derivePriority('moderate', 5, m)).toThrow(RangeError)
+  })
+})
+
+describe('alarm philosophy: slow conditions as the lowest priority', () => {
+  it('gives an alert cell the lowest priority when the site chooses so', () => {
+    const d = derivePriority('minor', 45, DEFAULT_PRIORITY_MATRIX, { longResponseAs: 'lowest_priority' })
+    expect(d.priority).toBe('low')
+    expect(d.alertCell).toBe(true)
+    expect(d.explanation).toMatch(/lowest priority/)
+  })
+})
+
+// Classification rules of docs/domain/alarm-classification.md: the alert cell, the short-response warning
+// (about 10 min: common practice in layer-of-protection analysis, a site policy) and trips without priority.
+describe('classifyLimit', () => {
+  const alarm = (severity: Severity, responseTimeMin: number) => ({
+    limitClass: 'alarm' as const,
+    severity,
+    responseTimeMin,
+    sil: null,
+  })
+
+  it('refuses an alarm in the alert column and says to register it as an alert', () => {
+    const c = classifyLimit(alarm('moderate', 45))
+    expect(c.priority).toBeNull()
+    expect(c.errors).toHaveLength(1)
+    expect(c.errors[0]).toMatchObject({ code: 'ALARM_NOT_URGENT', field: 'limitClass' })
+    expect(c.errors[0].message).toMatch(/register it as an alert/)
+    expect(c.errors[0].message).not.toMatch(/trip/)
+  })
+
+  it('accepts the same condition as an alert, without priority', () => {
+    const c = classifyLimit({ ...alarm('moderate', 45), limitClass: 'alert' })
+    expect(c).toMatchObject({ priority: null, errors: [], warnings: [] })
+  })
+
+  it('accepts the same alarm with the lowest priority when the philosophy says so', () => {
+    const c = classifyLimit(alarm('moderate', 45), DEFAULT_PRIORITY_MATRIX, {
+      ...DEFAULT_ALARM_PHILOSOPHY,
+      longResponseAs: 'lowest_priority',
+    })
+    expect(c.priority).toBe('low')
+    expect(c.errors).toEqual([])
+  })
+
+  it.each<[Severity, number, boolean]>([
+    ['major', 9.99, true],
+    ['severe', 2, true],
+    ['major', 10, false], // the policy bound itself is not "less than"
+    ['moderate', 2, false], // only major and severe consequences
+    ['minor', 1, false],
+  ])('%s consequence, %s min to respond → warning %s', (severity, minutes, warned) => {
+    const c = classifyLimit(alarm(severity, minutes))
+    expect(c.errors).toEqual([])
+    expect(c.warnings.some((w) => w.code === 'OPERATOR_TOO_SLOW')).toBe(warned)
+  })
+
+  it('follows the site bound for the short end', () => {
+    const c = classifyLimit(alarm('major', 12), DEFAULT_PRIORITY_MATRIX, {
+      ...DEFAULT_ALARM_PHILOSOPHY,
+      shortResponseMin: 15,
+    })
+    expect(c.warnings.map((w) => w.code)).toEqual(['OPERATOR_TOO_SLOW'])
+  })
+
+  it('gives a trip no priority and no findings', () => {
+    const c = classifyLimit({ limitClass: 'trip', severity: 'severe', responseTimeMin: 45, sil: 2 })
+    expect(c).toMatchObject({ priority: null, errors: [], warnings: [] })
   })
 })
