@@ -14,6 +14,7 @@ import {
 } from '../features/change-requests/change-requests.service.ts'
 import { createTripTest, signDegradationMeasures, signTripTest } from '../features/trip-tests/trip-tests.service.ts'
 import { findRolesByUserIds } from '../features/users/users.repository.ts'
+import { seedDemoAlarms } from './demo-alarms.ts'
 import { DEMO_PASSWORD } from './demo.ts'
 
 const DAY = 86_400_000
@@ -202,4 +203,5 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
       console.warn(`demo change for ${l.tag} skipped: ${err instanceof Error ? err.message : err}`)
     }
   }
+  await seedDemoAlarms(db, clock)
 }

@@ -1,6 +1,7 @@
 import {
   mdiAccountCircleOutline,
   mdiAccountGroupOutline,
+  mdiAlarmLight,
   mdiChartBoxOutline,
   mdiClipboardCheckOutline,
   mdiClipboardTextClockOutline,
@@ -52,6 +53,7 @@ export const NAV_ITEMS: NavItem[] = [
     can: ['review', 'BypassReview'],
     test: 'nav-bypass-review',
   },
+  { title: 'Alarm performance', to: '/alarms', icon: mdiAlarmLight, test: 'nav-alarms' },
   { title: 'Shift handover', to: '/protection', icon: mdiClipboardTextClockOutline, test: 'nav-protection' },
   { title: 'Audit trail', to: '/audit', icon: mdiHistory, can: ['read', 'AuditEvent'], test: 'nav-audit' },
   { title: 'Users', to: '/admin/users', icon: mdiAccountGroupOutline, can: ['create', 'User'], test: 'nav-users' },

@@ -1,5 +1,6 @@
 import type { RouteRecordRaw } from 'vue-router'
 import accountRoutes from '@/features/account/routes'
+import alarmRoutes from '@/features/alarms/routes'
 import adminRoutes from '@/features/admin/routes'
 import auditRoutes from '@/features/audit/routes'
 import authRoutes from '@/features/auth/routes'
@@ -17,6 +18,7 @@ export const routes: RouteRecordRaw[] = [
   ...changeRequestRoutes,
   ...tripTestRoutes,
   ...bypassRoutes,
+  ...alarmRoutes,
   ...adminRoutes,
   ...accountRoutes,
   ...auditRoutes,
