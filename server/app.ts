@@ -1,9 +1,11 @@
+import { randomUUID } from 'node:crypto'
 import { existsSync } from 'node:fs'
 import path from 'node:path'
 import { fileURLToPath } from 'node:url'
 import express, { Router } from 'express'
 import helmet from 'helmet'
 import { sql } from 'kysely'
+import { pinoHttp } from 'pino-http'
 import { ErrorCode } from '../shared/errors.ts'
 import type { AppDeps } from './deps.ts'
 import { AppError } from './errors.ts'
@@ -36,6 +38,8 @@ import { createAccountRouter, createUsersRouter } from './features/users/users.r
 import { requireCsrf } from './middleware/csrf.ts'
 import { currentUser, requireUser } from './middleware/current-user.ts'
 import { errorHandler } from './middleware/error-handler.ts'
+import { inputGuard } from './middleware/input-guard.ts'
+import { logger } from './logger.ts'
 import { createSessionMiddleware } from './middleware/session.ts'
 
 const distDir = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../dist')
@@ -61,13 +65,35 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
     }),
   )
 
+  // one log line per API request: request id (the one its audit events carry), user, route, status, duration;
+  // never a body, header or cookie (server/logger.ts)
+  app.use(
+    '/api',
+    pinoHttp({
+      logger,
+      genReqId: (req) =>
+        (typeof req.headers['x-request-id'] === 'string' && req.headers['x-request-id'].slice(0, 64)) || randomUUID(),
+      serializers: {
+        req: (req: { id: unknown; method: string; url: string }) => ({ id: req.id, method: req.method, url: req.url }),
+        res: (res: { statusCode: number }) => ({ statusCode: res.statusCode }),
+      },
+      customProps: (req) => {
+        const r = req as express.Request
+        return { userId: r.user?.id ?? null, route: r.route?.path ? `${r.baseUrl}${r.route.path}` : undefined }
+      },
+      customLogLevel: (_req, res, err) => (err || res.statusCode >= 500 ? 'error' : 'info'),
+    }),
+  )
+
   const api = Router()
   api.use(express.json({ limit: '1mb' }))
+  api.use(inputGuard)
   api.get('/health', async (_req, res) => {
     try {
       await sql`SELECT 1`.execute(deps.db)
       res.json({ status: 'ok', database: 'ok' })
     } catch {
+      res.setHeader('Retry-After', '5')
       res.status(503).json({ status: 'degraded', database: 'unreachable' })
     }
   })

@@ -27,5 +27,6 @@ export class AdjustableClock implements Clock {
 export interface DueJob<R = unknown> {
   readonly name: string
   readonly intervalSec: number
-  runDue(now: Date): Promise<R>
+  /** `signal` aborts at shutdown: a job that loops stops taking new work when it fires and returns soon. */
+  runDue(now: Date, signal?: AbortSignal): Promise<R>
 }

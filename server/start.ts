@@ -40,6 +40,16 @@ process.on('SIGINT', () => {
   void shutdown(0)
 })
 process.on('SIGTERM', () => void shutdown(0))
+// `npm start` runs this file under npm and a shell; a service manager signals the process it started (npm), which
+// may end without passing the signal on. Whichever process gets the signal, everything stops: when the parent goes
+// away this process is re-parented, and it shuts down as on SIGTERM.
+const parentPid = process.ppid
+setInterval(() => {
+  if (process.ppid !== parentPid && !stopping) {
+    console.log('The process that started Limitkeeper has ended; stopping…')
+    void shutdown(0)
+  }
+}, 250).unref()
 
 function newestMtime(p: string): number {
   if (!existsSync(p)) return 0

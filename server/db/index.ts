@@ -1,5 +1,6 @@
 import { Kysely, PostgresDialect } from 'kysely'
 import pg from 'pg'
+import { logger } from '../logger.ts'
 import { ChangeFeed, registerChangeFeed } from './change-feed.ts'
 import type { Database } from './schema.ts'
 
@@ -10,12 +11,51 @@ pg.types.setTypeParser(pg.types.builtins.DATE, (v) => v)
 
 export type Db = Kysely<Database>
 
+// SQLSTATE classes and codes meaning "the database is not reachable just now" (PostgreSQL manual, appendix A):
+// 08 connection exception, 57P01..57P03 admin/crash shutdown and cannot connect now, 53300 too many connections.
+const CONNECTION_CODES = new Set(['57P01', '57P02', '57P03', '53300', 'ECONNREFUSED', 'ECONNRESET', 'EPIPE'])
+const CONNECTION_MESSAGES = [
+  'Connection terminated',
+  'connection terminated',
+  'Client has encountered a connection error',
+  'timeout exceeded when trying to connect',
+  'Client was closed and is not queryable',
+  'Cannot use a pool after calling end',
+]
+
+/** True when an error means the database went away (the request may be retried later), not a bad query. */
+export function isConnectionError(err: unknown): boolean {
+  const e = err as { code?: unknown; message?: unknown } | null
+  if (!e || typeof e !== 'object') return false
+  const code = typeof e.code === 'string' ? e.code : ''
+  if (CONNECTION_CODES.has(code) || code.startsWith('08')) return true
+  const message = typeof e.message === 'string' ? e.message : ''
+  return CONNECTION_MESSAGES.some((m) => message.includes(m))
+}
+
 /**
  * One pool shared by Kysely and the session store, and the pool's change feed (server/db/change-feed.ts): it
- * listens only once a cache subscribes, and ends with the pool.
+ * listens only once a cache subscribes, and ends with the pool. A connection PostgreSQL drops (restart, failover, network) must
+ * never end the process: the pool and every client it makes get an 'error' listener, the broken client is discarded
+ * and the next query opens a new one, so the app recovers by itself once the database is back
+ * (docs/security.md, "Database loss").
  */
 export function createDb(connectionString: string, max = 10): { db: Db; pool: pg.Pool } {
-  const pool = new pg.Pool({ connectionString, max })
+  const pool = new pg.Pool({ connectionString, max, connectionTimeoutMillis: 5_000 })
+  const log = logger.child({ component: 'db' })
+  let lost = false
+  const onError = (err: Error & { code?: string }) => {
+    if (!lost) log.warn({ code: err.code, message: err.message }, 'database connection lost')
+    lost = true
+  }
+  pool.on('error', onError)
+  pool.on('connect', (client) => {
+    client.on('error', onError)
+    if (lost) {
+      lost = false
+      log.info('database connection re-established')
+    }
+  })
   const feed = new ChangeFeed(connectionString)
   registerChangeFeed(pool, feed)
   const end = pool.end.bind(pool)

@@ -67,12 +67,16 @@ export interface MailOutboxTable {
   next_attempt_at: Timestamp
   sent_at: Timestamp | null
   last_error: string | null
+  /** 0 = urgent lane (delivered first), 1 = normal */
+  priority: Generated<MailPriority>
 }
+export type MailPriority = 0 | 1
 export interface JobScheduleTable {
   name: string
   interval_sec: number
   next_run_at: Timestamp
   locked_until: Timestamp | null
+  lease_owner: string | null
   last_run_at: Timestamp | null
   last_error: string | null
 }

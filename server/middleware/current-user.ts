@@ -28,7 +28,7 @@ export function currentUser(deps: AppDeps): RequestHandler {
     return { active: row.active, user, ability: createAppAbility(defineRulesFor(user)) }
   }
   return async (req, _res, next) => {
-    req.id = (req.get('x-request-id') ?? '').slice(0, 64) || randomUUID()
+    req.id = (typeof req.id === 'string' && req.id) || (req.get('x-request-id') ?? '').slice(0, 64) || randomUUID()
     req.user = null
     req.audit = { actorId: null, requestId: req.id, ip: req.ip ?? null }
     const s = req.session

@@ -1,7 +1,56 @@
 import { z } from 'zod'
 
-/** A positive integer id, accepted from path or query strings too. */
-export const IdSchema = z.coerce.number().int().positive()
+/** The largest id PostgreSQL's integer columns hold (2^31 - 1); every id of the API fits an int4. */
+export const MAX_ID = 2_147_483_647
+
+/** A positive integer id within PostgreSQL's integer range, accepted from path or query strings too. */
+export const IdSchema = z.coerce.number().int().positive().max(MAX_ID, 'No such id')
+
+/** How deep a JSON body may nest (objects and arrays); the deepest record of the API needs fewer than 10 levels. */
+export const MAX_INPUT_DEPTH = 32
+
+// a high surrogate not followed by a low one, or a low surrogate not preceded by a high one
+const LONE_SURROGATE = /[\ud800-\udbff](?![\udc00-\udfff])|(?<![\ud800-\udbff])[\udc00-\udfff]/
+
+/**
+ * Why a text cannot be stored, or null: PostgreSQL's text and jsonb refuse the NUL character, and a lone UTF-16
+ * surrogate is not a Unicode character at all (it cannot be encoded in UTF-8).
+ */
+export function textProblem(s: string): string | null {
+  if (s.includes('\u0000')) return 'Text must not contain the NUL character'
+  if (LONE_SURROGATE.test(s)) return 'Text must not contain an unpaired surrogate (not a valid Unicode character)'
+  return null
+}
+
+/** Any text the API accepts: no NUL, no lone surrogate. Build field schemas from this one. */
+export const TextSchema = z.string().superRefine((s, ctx) => {
+  const problem = textProblem(s)
+  if (problem) ctx.addIssue({ code: 'custom', message: problem })
+})
+
+/**
+ * Walks a decoded request value (body, query, path) without recursion and answers the first problem as
+ * `{ path, message }`: text that cannot be stored (textProblem), an object key included, or nesting deeper than
+ * maxDepth. The server applies it to every request before any router (server/middleware/input-guard.ts).
+ */
+export function inputProblem(value: unknown, maxDepth = MAX_INPUT_DEPTH): { path: string; message: string } | null {
+  const stack: { v: unknown; path: string; depth: number }[] = [{ v: value, path: '', depth: 0 }]
+  while (stack.length) {
+    const { v, path, depth } = stack.pop()!
+    if (typeof v === 'string') {
+      const problem = textProblem(v)
+      if (problem) return { path: path || '_', message: problem }
+    } else if (v && typeof v === 'object') {
+      if (depth >= maxDepth) return { path: path || '_', message: `Nested deeper than ${maxDepth} levels` }
+      for (const [k, child] of Object.entries(v)) {
+        const problem = textProblem(k)
+        if (problem) return { path: path || '_', message: problem }
+        stack.push({ v: child, path: path ? `${path}.${k}` : k, depth: depth + 1 })
+      }
+    }
+  }
+  return null
+}
 
 /** A value that may arrive once or repeated in a query string (`siteId=1&siteId=2`). */
 export function repeated<T extends z.ZodType>(item: T) {

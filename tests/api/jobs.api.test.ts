@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { AdjustableClock, type DueJob } from '../../server/clock.ts'
 import { createDb, type Db } from '../../server/db/index.ts'
-import { JobScheduler } from '../../server/jobs/scheduler.ts'
+import { JobScheduler, LEASE_MS } from '../../server/jobs/scheduler.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb({ seed: false })
@@ -142,7 +142,7 @@ describe('JobScheduler', () => {
     await a.register()
     const first = a.tick()
     await isRunning
-    clock.advance(120_000) // due again by the schedule, but a still holds the lease
+    clock.advance(20_000) // due again by the schedule, but a still holds the (30 s) lease
     await b.tick()
     expect(runs.map((r) => r.by)).toEqual(['a'])
     release()
@@ -151,7 +151,7 @@ describe('JobScheduler', () => {
     await b.tick()
     expect(runs.map((r) => r.by)).toEqual(['a', 'b'])
 
-    // an instance that died mid-run (lease left behind) delays the job by at most the 10-minute lease
+    // a lease left behind with a long expiry (as written by an older version) is still honoured until it ends
     const now = clock.now()
     await ctx.db
       .updateTable('job_schedule')
@@ -164,4 +164,68 @@ describe('JobScheduler', () => {
     await b.tick()
     expect(runs.map((r) => r.by)).toEqual(['a', 'b', 'b'])
   })
+
+  // a crashed instance must not hold a job for long: the lease is short, and renewed only while the job runs
+  it('lets another instance take over within the 30 s lease when the holder dies, and renews a running lease', async () => {
+    const clock = standingClock('2030-09-01T00:00:00.000Z')
+    const runs: string[] = []
+    const hung: DueJob<void> = {
+      name: 'test.crash',
+      intervalSec: 600,
+      async runDue() {
+        runs.push('a')
+        await new Promise(() => {}) // never ends: the instance "dies" mid-run
+      },
+    }
+    const aDb = createDb(ctx.database.appUrl, 2).db
+    const a = new JobScheduler(aDb, clock, [hung], () => {})
+    await a.register()
+    void a.tick()
+    await until(async () => runs.length === 1)
+    await aDb.destroy() // the dead instance renews nothing more
+    const b = new JobScheduler(ctx.db, clock, [
+      { name: 'test.crash', intervalSec: 600, runDue: async () => void runs.push('b') },
+    ])
+    clock.advance(LEASE_MS - 1_000)
+    await b.tick()
+    expect(runs).toEqual(['a'])
+    clock.advance(2_000)
+    await b.tick()
+    expect(runs).toEqual(['a', 'b'])
+
+    // a live instance renews its lease while the job runs, so nobody else starts it
+    let release!: () => void
+    const gate = new Promise<void>((r) => (release = r))
+    const c = new JobScheduler(
+      ctx.db,
+      clock,
+      [{ name: 'test.renewed', intervalSec: 600, runDue: () => gate.then(() => void runs.push('c')) }],
+      () => {},
+      { leaseMs: LEASE_MS, renewMs: 20 },
+    )
+    await c.register()
+    const running = c.tick()
+    const started = clock.now().getTime()
+    await until(async () => (await schedule('test.renewed')).locked_until !== null)
+    clock.advance(LEASE_MS + 5_000) // past the first lease: only a renewal keeps it
+    await until(
+      async () => ((await schedule('test.renewed')).locked_until?.getTime() ?? 0) > started + LEASE_MS + 5_000,
+    )
+    const d = new JobScheduler(ctx.db, clock, [
+      { name: 'test.renewed', intervalSec: 600, runDue: async () => void runs.push('d') },
+    ])
+    await d.tick()
+    release()
+    await running
+    expect(runs).toEqual(['a', 'b', 'c'])
+    expect(await schedule('test.renewed')).toMatchObject({ locked_until: null, lease_owner: null })
+  })
 })
+
+async function until(cond: () => Promise<boolean>, timeoutMs = 20_000) {
+  const end = Date.now() + timeoutMs
+  while (!(await cond())) {
+    if (Date.now() > end) throw new Error('condition not met in time')
+    await new Promise((r) => setTimeout(r, 20))
+  }
+}

@@ -5,6 +5,7 @@ import { createApp } from '../../server/app.ts'
 import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
 import { enqueueMail, mailBodies, type OutgoingMail } from '../../server/features/mail/mail.outbox.ts'
 import { backoffMs, createMailJob } from '../../server/features/mail/mail.worker.ts'
+import { JobScheduler } from '../../server/jobs/scheduler.ts'
 import { signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -158,5 +159,55 @@ describe('mail outbox', () => {
       expect(res.status).toBe(403)
       expect(res.body.error.code).toBe('FORBIDDEN')
     }
+  })
+
+  // a message about lost protection must not wait behind a backlog (a failed test, an overdue bypass)
+  it('delivers the urgent lane before an older backlog', async () => {
+    await ctx.db.transaction().execute(async (trx) => {
+      const backlog = Array.from({ length: 40 }, (_, i) => ({
+        ...mail(`Backlog digest ${i}`),
+        topic: 'trip_test_digest',
+      }))
+      await enqueueMail(trx, ctx.clock, backlog)
+    })
+    await ctx.db
+      .transaction()
+      .execute((trx) =>
+        enqueueMail(trx, ctx.clock, { ...mail('DEGRADED: TZ-101 failed its trip test'), topic: 'trip_test' }),
+      )
+    const before = smtp.inbox.length
+    await job().runDue(ctx.clock.now())
+    const order = smtp.inbox.slice(before).map((m) => m.subject)
+    expect(order).toHaveLength(41)
+    expect(order[0]).toBe('DEGRADED: TZ-101 failed its trip test')
+    expect(order.slice(1)).toEqual(Array.from({ length: 40 }, (_, i) => `Backlog digest ${i}`))
+  })
+
+  // shutdown stops taking new work: the running batch ends after the message in hand
+  it('stops a delivery run at shutdown instead of finishing the batch', async () => {
+    await ctx.db.transaction().execute((trx) =>
+      enqueueMail(
+        trx,
+        ctx.clock,
+        Array.from({ length: 150 }, (_, i) => ({ ...mail(`Stop test ${i}`), topic: 'general' })),
+      ),
+    )
+    const scheduler = new JobScheduler(ctx.db, ctx.clock, [job()], () => {})
+    await scheduler.register()
+    scheduler.start(60)
+    const stopTest = () => smtp.inbox.filter((m) => m.subject?.startsWith('Stop test ')).length
+    const end = Date.now() + 30_000
+    while (stopTest() === 0 && Date.now() < end) await new Promise((r) => setTimeout(r, 5))
+    await scheduler.stop()
+    const atStop = stopTest()
+    expect(atStop).toBeGreaterThan(0)
+    expect(atStop).toBeLessThan(150)
+    const left = await ctx.db
+      .selectFrom('mail_outbox')
+      .select((eb) => eb.fn.countAll().as('n'))
+      .where('subject', 'like', 'Stop test %')
+      .where('sent_at', 'is', null)
+      .executeTakeFirstOrThrow()
+    expect(Number(left.n)).toBe(150 - atStop)
   })
 })

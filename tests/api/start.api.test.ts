@@ -26,8 +26,15 @@ function freePort(): Promise<number> {
 }
 
 /** Starts `server/start.ts` and resolves with its URL once it prints that it is ready (or rejects with its output). */
-function start(env: Record<string, string>): Promise<{ child: ChildProcess; url: string; output: () => string }> {
-  const child = spawn(process.execPath, ['--import', 'tsx', 'server/start.ts', '--no-build'], {
+function start(
+  env: Record<string, string>,
+  how: 'node' | 'npm' = 'node',
+): Promise<{ child: ChildProcess; url: string; output: () => string }> {
+  const [cmd, args] =
+    how === 'npm'
+      ? ['npm', ['start', '--', '--no-build']]
+      : [process.execPath, ['--import', 'tsx', 'server/start.ts', '--no-build']]
+  const child = spawn(cmd, args, {
     env: { ...process.env, ...env },
     stdio: ['ignore', 'pipe', 'pipe'],
   })
@@ -49,6 +56,21 @@ function stopped(child: ChildProcess): Promise<number | null> {
     if (child.exitCode !== null) resolve(child.exitCode)
     else child.on('exit', (code) => resolve(code))
   })
+}
+
+async function answers(url: string): Promise<boolean> {
+  return fetch(`${url}/api/health`).then(
+    () => true,
+    () => false,
+  )
+}
+
+async function until(cond: () => Promise<boolean>, timeoutMs: number) {
+  const end = Date.now() + timeoutMs
+  while (!(await cond())) {
+    if (Date.now() > end) throw new Error('condition not met in time')
+    await new Promise((r) => setTimeout(r, 200))
+  }
 }
 
 async function postgresRunning(pgDir: string): Promise<boolean> {
@@ -81,13 +103,17 @@ describe('npm start', () => {
     expect(await stopped(first.child)).toBe(0)
     expect(await postgresRunning(pgDir)).toBe(false)
 
-    const second = await start(env)
+    // the second start as a service manager runs it: `npm start`, and SIGTERM to the npm process only
+    const second = await start(env, 'npm')
     expect(second.output()).not.toContain('Demo plant seeded.')
     const session = await fetch(`${second.url}/api/session`)
     expect(session.status).toBe(200)
     second.child.kill('SIGTERM')
-    expect(await stopped(second.child)).toBe(0)
+    await stopped(second.child)
+    // the app and PostgreSQL stop too, whichever process got the signal (polled: no fixed wait)
+    await until(async () => !(await postgresRunning(pgDir)) && !(await answers(second.url)), 60_000)
     expect(await postgresRunning(pgDir)).toBe(false)
+    expect(await answers(second.url)).toBe(false)
   }, 180_000)
 
   it('says in one sentence what to do when the port is taken', async () => {

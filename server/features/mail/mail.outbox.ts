@@ -8,7 +8,15 @@ export interface OutgoingMail {
   text: string
   html?: string
   topic?: string
+  /** Deliver before the rest of a backlog; by default the URGENT_TOPICS are. */
+  urgent?: boolean
 }
+
+/**
+ * Topics about protection lost now (a failed trip test leaving a limit degraded; a bypass requested, overdue or
+ * escalated): they go in the urgent lane, delivered before any backlog of other mail (docs/security.md).
+ */
+export const URGENT_TOPICS: ReadonlySet<string> = new Set(['trip_test', 'bypass'])
 
 /**
  * Queues mail in the business transaction: a rollback sends nothing, a commit is delivered by the worker.
@@ -31,6 +39,7 @@ export async function enqueueMail(
         text_body: m.text,
         html_body: m.html ?? null,
         topic: m.topic ?? 'general',
+        priority: (m.urgent ?? URGENT_TOPICS.has(m.topic ?? 'general')) ? (0 as const) : (1 as const),
         created_at: now,
         next_attempt_at: now,
       })),

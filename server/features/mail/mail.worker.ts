@@ -3,6 +3,7 @@ import { sql } from 'kysely'
 import type { Clock, DueJob } from '../../clock.ts'
 import type { Config } from '../../config.ts'
 import type { Db } from '../../db/index.ts'
+import { logger } from '../../logger.ts'
 
 /** Back-off after the n-th failed attempt: 1, 2, 4 … minutes, at most 1 h. */
 export function backoffMs(attempts: number): number {
@@ -26,23 +27,27 @@ export function createTransport(
 
 /**
  * Delivers due outbox rows one at a time, each in a short transaction holding its row with FOR UPDATE SKIP LOCKED,
- * so several app instances never send the same mail at once. Delivery is at-least-once.
+ * so several app instances never send the same mail at once. Delivery is at-least-once. The urgent lane
+ * (priority 0) goes first, so a message about lost protection never waits behind a backlog; at shutdown (signal)
+ * the loop stops before the next message.
  */
 export function createMailJob(db: Db, config: Config, clock: Clock): DueJob<{ sent: number; failed: number }> {
   const transport = createTransport(config)
   return {
     name: 'mail.deliver',
     intervalSec: 5,
-    async runDue(now: Date) {
+    async runDue(now: Date, signal?: AbortSignal) {
       let sent = 0
       let failed = 0
-      for (let i = 0; i < 200; i++) {
+      const log = logger.child({ component: 'mail' })
+      for (let i = 0; i < 200 && !signal?.aborted; i++) {
         const done = await db.transaction().execute(async (trx) => {
           const row = await trx
             .selectFrom('mail_outbox')
             .selectAll()
             .where('sent_at', 'is', null)
             .where('next_attempt_at', '<=', now)
+            .orderBy('priority')
             .orderBy('id')
             .limit(1)
             .forUpdate()
@@ -62,6 +67,7 @@ export function createMailJob(db: Db, config: Config, clock: Clock): DueJob<{ se
               .set({ sent_at: clock.now(), attempts: sql`attempts + 1`, last_error: null })
               .where('id', '=', row.id)
               .execute()
+            log.info({ mailId: row.id, topic: row.topic, priority: row.priority }, 'mail delivered')
             return 'sent'
           } catch (err) {
             const attempts = row.attempts + 1
@@ -74,6 +80,7 @@ export function createMailJob(db: Db, config: Config, clock: Clock): DueJob<{ se
               })
               .where('id', '=', row.id)
               .execute()
+            log.warn({ mailId: row.id, topic: row.topic, attempts, error: String(err) }, 'mail delivery failed')
             return 'failed'
           }
         })
