@@ -1,5 +1,6 @@
 import type { ColumnType, Generated, Insertable, Selectable } from 'kysely'
 import type { ALARM_TYPES, IMPACT_CATEGORIES, LIMIT_CLASSES } from '../../shared/schemas/register.ts'
+import type { ChangeItemKind, ChangeStatus, ChangeType, ChecklistItem } from '../../shared/schemas/change-requests.ts'
 
 type Timestamp = ColumnType<Date, Date | string, Date | string>
 type Json = ColumnType<unknown, string | null, string | null>
@@ -221,11 +222,11 @@ export interface ImportMappingTable {
 export interface ChangeRequestTable {
   id: Generated<number>
   site_id: number
-  type: string
+  type: ChangeType
   title: string
   rationale: string
   hazard_reference: string
-  status: Generated<string>
+  status: ColumnType<ChangeStatus, ChangeStatus | undefined, ChangeStatus>
   proposer_id: number
   expires_at: Timestamp | null
   approvals_required: number
@@ -246,7 +247,7 @@ export interface ChangeRequestItemTable {
   id: Generated<number>
   change_request_id: number
   position: number
-  kind: string
+  kind: ChangeItemKind
   limit_id: number | null
   instrument_id: number | null
   changes: JsonValue<Record<string, { from: unknown; to: unknown }>>
@@ -263,10 +264,11 @@ export interface ChangeRequestEditorTable {
 }
 export interface ChangeRequestCheckTable {
   change_request_id: number
-  item: string
+  item: ChecklistItem
   done_by: number
   done_at: Timestamp
   note: Generated<string>
+  not_applicable: Generated<boolean>
 }
 export interface SignatureTable {
   id: Generated<number>

@@ -1,7 +1,7 @@
 import { AbilityBuilder, createMongoAbility, type MongoAbility, type RawRuleOf } from '@casl/ability'
 import type { Role, RoleAssignment } from '../schemas/users.ts'
 
-/** Actions of DOMAIN.md §2, as CASL verbs. */
+/** Actions of the workflows (docs/architecture.md), as CASL verbs. */
 export type Action =
   | 'manage'
   | 'read'
@@ -95,11 +95,20 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
     cannot('approve', 'ChangeRequest', { proposerId: user.id }).because('Nobody approves a change they proposed')
     cannot('approve', 'ChangeRequest', { editorIds: user.id }).because('Nobody approves a change they edited')
   }
+  // an emergency change before its approval is implemented only by a shift supervisor (below)
+  const implementApproved = (siteIds: number[]) => {
+    can('implement', 'ChangeRequest', { siteId: { $in: siteIds }, type: { $ne: 'emergency' } })
+    can('implement', 'ChangeRequest', { siteId: { $in: siteIds }, type: 'emergency', status: { $ne: 'submitted' } })
+  }
   const technician = sitesWith('technician')
   if (technician.length) {
-    can('implement', 'ChangeRequest', { siteId: { $in: technician } })
+    implementApproved(technician)
     can('record', 'TripTest', { siteId: { $in: technician } })
   }
+  // control and SIS configuration work: a control engineer implements approved changes as a technician does
+  // (docs/change-requests.md#roles); the rule book keeps an approver of the same request from implementing it
+  const controlEngineer = sitesWith('control_engineer')
+  if (controlEngineer.length) implementApproved(controlEngineer)
   const witness = sitesWith('safety_engineer', 'approver', 'shift_supervisor', 'technician')
   if (witness.length) can('witness', 'TripTest', { siteId: { $in: witness } })
   const supervisor = sitesWith('shift_supervisor')

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { IdSchema, ListQuerySchema, type ListResult, repeated } from './common.ts'
 
 export const CHANGE_TYPES = ['permanent', 'temporary', 'emergency'] as const
 export const CHANGE_STATUSES = [
@@ -12,16 +13,31 @@ export const CHANGE_STATUSES = [
 ] as const
 export type ChangeStatus = (typeof CHANGE_STATUSES)[number]
 
-/** The impact checklist of a change (each ticked with who and when). */
+export type ChangeType = (typeof CHANGE_TYPES)[number]
+export const CHANGE_ITEM_KINDS = ['create', 'modify', 'retire', 'instrument'] as const
+export type ChangeItemKind = (typeof CHANGE_ITEM_KINDS)[number]
+
+/**
+ * The readiness checklist of a change, in two groups (docs/change-requests.md#checklist): what must be done before
+ * the change is put into service (OSHA 1910.119(l)(3)-(4) and (i)) and what is closed out afterwards. Each item is
+ * ticked, or marked not applicable with a reason, with who and when.
+ */
+export const CHECKLIST_GROUPS = ['before', 'closeout'] as const
+export type ChecklistGroup = (typeof CHECKLIST_GROUPS)[number]
 export const IMPACT_CHECKLIST = [
-  { item: 'safety_requirements', label: 'Safety requirements specification updated' },
-  { item: 'cause_and_effect', label: 'Cause-and-effect matrix updated' },
-  { item: 'drawings', label: 'Drawings and loop diagrams updated' },
-  { item: 'operating_procedures', label: 'Operating procedures updated' },
-  { item: 'alarm_response', label: 'Alarm response guidance updated' },
-  { item: 'training', label: 'People affected trained or briefed' },
-] as const
+  { item: 'operating_procedures', group: 'before', label: 'Operating procedures updated' },
+  { item: 'alarm_response', group: 'before', label: 'Alarm response guidance updated' },
+  { item: 'training', group: 'before', label: 'People affected informed and trained' },
+  { item: 'pssr', group: 'before', label: 'Pre-start-up safety review signed' },
+  { item: 'safety_requirements', group: 'closeout', label: 'Safety requirements specification updated' },
+  { item: 'cause_and_effect', group: 'closeout', label: 'Cause-and-effect matrix updated' },
+  { item: 'drawings', group: 'closeout', label: 'Drawings and loop diagrams updated as built' },
+] as const satisfies readonly { item: string; group: ChecklistGroup; label: string }[]
 export type ChecklistItem = (typeof IMPACT_CHECKLIST)[number]['item']
+export const CHECKLIST_GROUP_LABELS: Record<ChecklistGroup, string> = {
+  before: 'Before implementation',
+  closeout: 'Close-out',
+}
 
 /** Limit fields whose value lives on the device: implementation reads them back and they must equal the approved value. */
 export const DEVICE_FIELDS_LIMIT = [
@@ -105,7 +121,17 @@ export const ClosureInputSchema = z.object({
     readyForService: z.literal(true, 'The review must confirm the function is ready for service'),
   }),
 })
-export const ChecklistInputSchema = z.object({ done: z.boolean(), note: z.string().trim().max(500).default('') })
+export const ChecklistInputSchema = z
+  .object({
+    done: z.boolean(),
+    notApplicable: z.boolean().default(false),
+    note: z.string().trim().max(500).default(''),
+  })
+  .superRefine((v, ctx) => {
+    if (v.done && v.notApplicable && !v.note)
+      ctx.addIssue({ code: 'custom', path: ['note'], message: 'Say why the item does not apply' })
+  })
+export type ChecklistInput = z.infer<typeof ChecklistInputSchema>
 
 export interface SignatureDto {
   id: number
@@ -123,7 +149,7 @@ export interface SignatureDto {
 export interface ChangeItemDto {
   id: number
   position: number
-  kind: ChangeItemInput['kind']
+  kind: ChangeItemKind
   limitId: number | null
   instrumentId: number | null
   targetTag: string
@@ -144,7 +170,7 @@ export interface ChangeRequestDto {
   id: number
   siteId: number
   siteCode: string
-  type: (typeof CHANGE_TYPES)[number]
+  type: ChangeType
   title: string
   rationale: string
   hazardReference: string
@@ -164,7 +190,15 @@ export interface ChangeRequestDto {
   emergencyFlagged: boolean
   pssr: Record<string, unknown> | null
   items: ChangeItemDto[]
-  checklist: { item: string; label: string; doneBy: string | null; doneAt: string | null; note: string }[]
+  checklist: {
+    item: ChecklistItem
+    label: string
+    group: ChecklistGroup
+    doneBy: string | null
+    doneAt: string | null
+    notApplicable: boolean
+    note: string
+  }[]
   signatures: SignatureDto[]
   attachments: {
     id: number
@@ -178,3 +212,37 @@ export interface ChangeRequestDto {
   createdAt: string
   updatedAt: string
 }
+
+/** `GET /api/change-requests`: the change list (mine, waiting for me, or all of my sites; or those of one limit). */
+export const ChangeListQuerySchema = z.object({
+  view: z.enum(['all', 'mine', 'waiting']).default('all'),
+  status: repeated(z.enum(CHANGE_STATUSES)),
+  type: repeated(z.enum(CHANGE_TYPES)),
+  siteId: repeated(IdSchema),
+  limitId: IdSchema.optional(),
+  q: z.string().trim().max(100).optional(),
+  ...ListQuerySchema.pick({ page: true, pageSize: true }).shape,
+})
+export type ChangeListQuery = z.infer<typeof ChangeListQuerySchema>
+export type ChangeListQueryInput = z.input<typeof ChangeListQuerySchema>
+export type ChangeView = ChangeListQuery['view']
+
+/** One row of the change list. */
+export interface ChangeListItem {
+  id: number
+  title: string
+  type: ChangeType
+  status: ChangeStatus
+  siteId: number
+  siteCode: string
+  proposerName: string
+  itemCount: number
+  approvalsRequired: number
+  approvalsHeld: number
+  updatedAt: string
+  createdAt: string
+  expiresAt: string | null
+  implementedAt: string | null
+  emergencyFlagged: boolean
+}
+export type ChangeList = ListResult<ChangeListItem>

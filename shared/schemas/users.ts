@@ -1,6 +1,6 @@
 import { z } from 'zod'
 
-/** The eight roles of DOMAIN.md §2. */
+/** The roles a user holds per site (README.md#roles). */
 export const ROLES = [
   'admin',
   'safety_engineer',
@@ -10,6 +10,7 @@ export const ROLES = [
   'operator',
   'plant_manager',
   'auditor',
+  'control_engineer',
 ] as const
 export const RoleSchema = z.enum(ROLES)
 export type Role = z.infer<typeof RoleSchema>
@@ -24,6 +25,7 @@ export const ROLE_LABELS: Record<Role, string> = {
   operator: 'Operator',
   plant_manager: 'Plant manager',
   auditor: 'Auditor',
+  control_engineer: 'Control engineer',
 }
 
 /** A (site, role) pair held by a user. */

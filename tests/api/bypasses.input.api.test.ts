@@ -5,6 +5,7 @@ import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
+import { readyToImplement } from './helpers/factories.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
 const ctx = useTestDb()
@@ -182,6 +183,7 @@ describe('bypass request: bad input is refused with a clear message and nothing 
         })
         .expect(201)
     ).body
+    await readyToImplement(as.engineer, cr.id)
     await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)
     const approved = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200))
       .body

@@ -5,7 +5,14 @@ import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildActiveHeaterTrip, buildHeaterTrip, readBackOf, rowCounts, submitChange } from './helpers/factories.ts'
+import {
+  buildActiveHeaterTrip,
+  buildHeaterTrip,
+  readBackOf,
+  rowCounts,
+  submitChange,
+  readyToImplement,
+} from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -84,6 +91,7 @@ describe('change request: who may do what along the whole path (DOMAIN.md §2)',
     )
 
     await refusedForAllBut(['engineer'], (a) => a.post(`/api/change-requests/${cr.id}/submission`))
+    await readyToImplement(as.engineer, cr.id)
     expect((await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)).body.status).toBe(
       'submitted',
     )
@@ -264,6 +272,7 @@ describe('separation of duties (IEC 61511 independence of approver; OSHA 1910.11
     ).body
     expect(edited.editorIds).toContain(dualId)
     expect(edited.status).toBe('draft')
+    await readyToImplement(as.engineer, cr.id)
     await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)
 
     const before = await rowCounts(ctx.db)
@@ -312,6 +321,7 @@ describe('separation of duties (IEC 61511 independence of approver; OSHA 1910.11
       (await as.approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(409)).body.error
         .code,
     ).toBe('INVALID_STATE')
+    await readyToImplement(as.engineer, cr.id)
     await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)
     expect(
       (await as.approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body,

@@ -13,6 +13,7 @@ import {
   readBackOf,
   rowCounts,
   submitChange,
+  readyToImplement,
 } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -281,6 +282,7 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
         attachments: [],
       }),
     )
+    await readyToImplement(eng, cr.id)
     await eng.post(`/api/change-requests/${cr.id}/submission`).expect(200)
     const t0 = ctx.clock.now().getTime()
     const approved = (

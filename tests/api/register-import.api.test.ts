@@ -9,6 +9,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { REGISTER_COLUMNS, type RegisterColumnKey } from '../../shared/schemas/register-io.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
+import { readyToImplement } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -518,6 +519,7 @@ describe('an import opens a draft change request for its baseline', () => {
     expect(cr.status).toBe('draft')
     expect(cr.items.length).toBeGreaterThan(0)
     expect(cr.items.every((i: { kind: string }) => i.kind === 'create')).toBe(true)
+    await readyToImplement(eng, cr.id)
     await eng.post(`/api/change-requests/${cr.id}/submission`).expect(200)
     await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: 'limitkeeper-demo' }).expect(200)
     if (cr.approvalsRequired > 1)

@@ -1,6 +1,6 @@
 import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
-import { callApi, pageFor, signInAs, useBrowserApp } from './helpers.ts'
+import { callApi, pageFor, readyToImplement, signInAs, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
 const call = <T = any>(page: Page, method: string, path: string, body?: unknown) =>
@@ -59,6 +59,7 @@ async function heaterTripInService(engineer: Page, approver: Page, technician: P
     rationale: 'Hazard study action 12',
     items: [{ kind: 'create', limitId: limit.id }],
   })
+  await readyToImplement(engineer, app.baseUrl, cr.id)
   await call(engineer, 'POST', `/change-requests/${cr.id}/submission`)
   await call(approver, 'POST', `/change-requests/${cr.id}/approvals`, { password: PW })
   await call(technician, 'POST', `/change-requests/${cr.id}/implementations`, {

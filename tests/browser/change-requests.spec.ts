@@ -1,11 +1,24 @@
 import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
-import { callApi, pageFor, useBrowserApp } from './helpers.ts'
+import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
+import { callApi, pageFor, readyToImplement, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
 const call = <T = any>(page: Page, method: string, path: string, body?: unknown) =>
   callApi<T>(page, app.baseUrl, method, path, body)
 const PW = 'limitkeeper-demo'
+const BEFORE = IMPACT_CHECKLIST.filter((c) => c.group === 'before').map((c) => c.item)
+const CLOSEOUT = IMPACT_CHECKLIST.filter((c) => c.group === 'closeout').map((c) => c.item)
+
+/** Ticks checklist items on the request page and waits until each shows who ticked it. */
+async function tickChecks(page: Page, items: string[]) {
+  for (const item of items) {
+    await page.locator(`[data-test="check-box-${item}"] input`).click()
+    await expect
+      .poll(() => page.locator(`[data-test="check-by-${item}"]`).textContent(), { timeout: 15_000 })
+      .toContain('Ticked by Selma Rookwood')
+  }
+}
 
 /** A process, a type K thermocouple (0–1200 °C, normal 300–650) and a high trip at 780 °C, put in service through a first change. */
 async function heaterTripInService(engineer: Page, approver: Page, technician: Page) {
@@ -56,6 +69,7 @@ async function heaterTripInService(engineer: Page, approver: Page, technician: P
     rationale: 'Hazard study action 7',
     items: [{ kind: 'create', limitId: limit.id }],
   })
+  await readyToImplement(engineer, app.baseUrl, baseline.id)
   await call(engineer, 'POST', `/change-requests/${baseline.id}/submission`)
   await call(approver, 'POST', `/change-requests/${baseline.id}/approvals`, { password: PW })
   const done = await call(technician, 'POST', `/change-requests/${baseline.id}/implementations`, {
@@ -122,6 +136,12 @@ describe('management of change in the browser', () => {
     await poll(() => text(approver, 'cr-status')).toBe('Approved')
     await poll(() => approver.locator('[data-test="waiting-count"]').count()).toBe(0)
 
+    // Before implementation the engineer completes the first group of the checklist (procedures, alarm response,
+    // training, pre-start-up safety review): OSHA 1910.119(l)(3)-(4) and (i).
+    await engineer.reload()
+    await poll(() => text(engineer, 'cr-status')).toBe('Approved')
+    await tickChecks(engineer, BEFORE)
+
     // The technician implements with the value read back from the device; a different value is refused.
     await technician.goto(`${app.baseUrl}/changes/${id}`)
     await technician.locator('[data-test="item-implement-0"]').click()
@@ -137,18 +157,11 @@ describe('management of change in the browser', () => {
     await technician.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
     await poll(() => text(technician, 'cr-status')).toBe('Implemented')
 
-    // The engineer ticks the impact checklist and closes after the pre-start-up safety review.
+    // The engineer completes the close-out group of the checklist and closes the request.
     await engineer.reload()
     await poll(() => text(engineer, 'cr-status')).toBe('Implemented')
-    const boxes = engineer.locator('[data-test^="check-box-"] input')
-    const n = await boxes.count()
-    expect(n).toBe(6)
-    for (let i = 0; i < n; i++) {
-      await boxes.nth(i).click()
-      await poll(() => engineer.locator('[data-test^="check-by-"]').nth(i).textContent()).toContain(
-        'Ticked by Selma Rookwood',
-      )
-    }
+    expect(await engineer.locator('[data-test^="check-box-"] input').count()).toBe(IMPACT_CHECKLIST.length)
+    await tickChecks(engineer, CLOSEOUT)
     await engineer.locator('[data-test="cr-close"]').click()
     await engineer.locator('[data-test="pssr-reference"] input').fill('PSSR-2026-114')
     await engineer.locator('[data-test="pssr-findings"] textarea').first().fill('Trip tested at 790 °C; no findings.')

@@ -6,6 +6,7 @@ import { createDb } from '../../server/db/index.ts'
 import { startServer, type RunningServer } from '../../server/index.ts'
 import { AdjustableClock } from '../../server/clock.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
+import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import { createTestDatabase } from '../api/helpers/test-db.ts'
 
 const CHROMIUM = process.env.CHROMIUM_PATH ?? '/usr/bin/chromium'
@@ -111,4 +112,13 @@ export async function pageFor(app: BrowserContext, who: string): Promise<Page> {
   page.setDefaultTimeout(15_000)
   await signInAs(page, app.baseUrl, who)
   return page
+}
+
+/**
+ * Ticks a change request's before-implementation checklist from a safety engineer's page (implementation needs it:
+ * OSHA 1910.119(l)(3)-(4) and (i)).
+ */
+export async function readyToImplement(page: Page, baseUrl: string, changeRequestId: number) {
+  for (const c of IMPACT_CHECKLIST.filter((x) => x.group === 'before'))
+    await callApi(page, baseUrl, 'PUT', `/change-requests/${changeRequestId}/checklist/${c.item}`, { done: true })
 }

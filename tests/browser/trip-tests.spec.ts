@@ -1,7 +1,7 @@
 import { readFile } from 'node:fs/promises'
 import type { Browser, Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
-import { useBrowserApp } from './helpers.ts'
+import { readyToImplement, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
 const PW = 'limitkeeper-demo'
@@ -126,6 +126,7 @@ async function activeThermocoupleTrip(browser: Browser) {
     title: 'Put BT-TSHH-770 in service',
     items: [{ kind: 'create', limitId: limit.id }],
   })
+  await readyToImplement(eng.page, app.baseUrl, cr.id)
   await eng.post(`/change-requests/${cr.id}/submission`, {}, 200)
   const approver = await userPage(browser, 'approver')
   await approver.post(`/change-requests/${cr.id}/approvals`, { password: PW }, 200)

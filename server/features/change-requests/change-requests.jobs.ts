@@ -6,6 +6,7 @@ import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { voidSignatures } from '../signatures/signatures.ts'
 import { findUsersWithRole } from '../users/users.repository.ts'
+import * as repo from './change-requests.repository.ts'
 
 const HOUR = 3_600_000
 const SYSTEM = { actorId: null, requestId: 'job:change-requests', ip: null }
@@ -28,24 +29,16 @@ export function createChangeRequestJob(
       let reminders = 0
       let flagged = 0
       let expired = 0
-      const temporary = await db
-        .selectFrom('change_request')
-        .innerJoin('app_user', 'app_user.id', 'change_request.proposer_id')
-        .select(['change_request.id', 'change_request.title', 'change_request.expires_at', 'app_user.email'])
-        .where('type', '=', 'temporary')
-        .where('status', 'in', ['approved', 'implemented', 'closed'])
-        .where('revert_reminder_at', 'is', null)
-        .where('expires_at', '<=', new Date(now.getTime() + 24 * HOUR))
-        .execute()
+      const temporary = await repo.temporaryChangesDue(db, new Date(now.getTime() + 24 * HOUR))
       for (const cr of temporary) {
         await db.transaction().execute(async (trx) => {
-          const claimed = await trx
-            .updateTable('change_request')
-            .set({ revert_reminder_at: now })
-            .where('id', '=', cr.id)
-            .where('revert_reminder_at', 'is', null)
-            .executeTakeFirst()
-          if (!Number(claimed.numUpdatedRows)) return
+          const claimed = await repo.claimRequest(
+            trx,
+            cr.id,
+            { revert_reminder_at: now },
+            { column: 'revert_reminder_at', isNull: true },
+          )
+          if (!claimed) return
           await enqueueMail(trx, clock, {
             to: cr.email,
             subject: `Temporary change #${cr.id} expires ${cr.expires_at!.toISOString().slice(0, 16).replace('T', ' ')} UTC: revert it`,
@@ -66,24 +59,16 @@ export function createChangeRequestJob(
           reminders++
         })
       }
-      const emergencies = await db
-        .selectFrom('change_request')
-        .select(['id', 'title', 'site_id'])
-        .where('type', '=', 'emergency')
-        .where('approved_at', 'is', null)
-        .where('emergency_flagged_at', 'is', null)
-        .where('implemented_at', '<=', new Date(now.getTime() - 24 * HOUR))
-        .where('status', '=', 'implemented')
-        .execute()
+      const emergencies = await repo.unapprovedEmergencies(db, new Date(now.getTime() - 24 * HOUR))
       for (const cr of emergencies) {
         await db.transaction().execute(async (trx) => {
-          const claimed = await trx
-            .updateTable('change_request')
-            .set({ emergency_flagged_at: now })
-            .where('id', '=', cr.id)
-            .where('emergency_flagged_at', 'is', null)
-            .executeTakeFirst()
-          if (!Number(claimed.numUpdatedRows)) return
+          const claimed = await repo.claimRequest(
+            trx,
+            cr.id,
+            { emergency_flagged_at: now },
+            { column: 'emergency_flagged_at', isNull: true },
+          )
+          if (!claimed) return
           const to = await findUsersWithRole(trx, cr.site_id, ['approver', 'plant_manager'])
           await enqueueMail(
             trx,
@@ -109,42 +94,18 @@ export function createChangeRequestJob(
           flagged++
         })
       }
-      const approved = await db
-        .selectFrom('change_request')
-        .innerJoin('site', 'site.id', 'change_request.site_id')
-        .innerJoin('app_user', 'app_user.id', 'change_request.proposer_id')
-        .select([
-          'change_request.id',
-          'change_request.title',
-          'change_request.approved_at',
-          'site.policy',
-          'app_user.email',
-        ])
-        .where('change_request.status', '=', 'approved')
-        // a request with items already on the device stays approved: its remaining items must still be implemented (or reversed by a new change)
-        .where((eb) =>
-          eb.not(
-            eb.exists(
-              eb
-                .selectFrom('change_request_item')
-                .select('change_request_item.id')
-                .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
-                .where('change_request_item.implemented_at', 'is not', null),
-            ),
-          ),
-        )
-        .execute()
+      const approved = await repo.approvedNotStarted(db)
       for (const cr of approved) {
         const days = policyOf(cr).approvalExpiryDays
         if (!cr.approved_at || now.getTime() <= cr.approved_at.getTime() + days * 24 * HOUR) continue
         await db.transaction().execute(async (trx) => {
-          const claimed = await trx
-            .updateTable('change_request')
-            .set({ status: 'submitted', approved_at: null, updated_at: now })
-            .where('id', '=', cr.id)
-            .where('status', '=', 'approved')
-            .executeTakeFirst()
-          if (!Number(claimed.numUpdatedRows)) return
+          const claimed = await repo.claimRequest(
+            trx,
+            cr.id,
+            { status: 'submitted', approved_at: null, updated_at: now },
+            { status: 'approved' },
+          )
+          if (!claimed) return
           await voidSignatures(
             trx,
             clock,

@@ -1,11 +1,15 @@
 import canonicalize from 'canonicalize'
-import { sql, type Transaction } from 'kysely'
+import type { Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import {
   type ChangeItemDto,
   type ChangeItemInput,
   type ChangeRequestDto,
+  type ChangeListItem,
+  type ChangeListQuery,
+  type ChecklistGroup,
+  type ChecklistInput,
   type ChecklistItem,
   type CreateChangeRequestInput,
   DEVICE_FIELDS_INSTRUMENT,
@@ -19,11 +23,18 @@ import {
   UpdateLimitInputSchema,
 } from '../../../shared/schemas/register.ts'
 import { parsePatch, safeParsePatch } from '../../../shared/schemas/common.ts'
-import { allows, authorize, likeEscape } from '../../authorize.ts'
+import {
+  type ChangeAction,
+  type ChangeActor,
+  changeRequestRules,
+  implementItemVerdict,
+  openChecks,
+} from '../../../shared/domain/rules/change-requests.ts'
+import { authorize } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
-import { AppError, conflict, forbidden, invalidState, notFound, validationFailed } from '../../errors.ts'
+import { AppError, conflict, enforce, invalidState, notFound, validationFailed } from '../../errors.ts'
 import { listAttachments, storeAttachment } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
@@ -36,9 +47,10 @@ import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { contentHash, insertSignature, listSignatures, voidSignatures } from '../signatures/signatures.ts'
 import { findUsersWithRole } from '../users/users.repository.ts'
+import * as repo from './change-requests.repository.ts'
 
 type Trx = Transaction<Database>
-const ENTITY = 'ChangeRequest'
+const ENTITY = repo.CHANGE_ENTITY
 const DAY = 86_400_000
 
 /** What the signatures of a request cover: its type, texts and items (not its state or checklist). */
@@ -97,49 +109,18 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
     }
     if (!Object.keys(changes).length)
       throw validationFailed({ items: [`The item changes nothing on instrument ${inst.tag}`] })
-    const limits = await trx
-      .selectFrom('limit_function')
-      .select(['id', 'tag', 'window_errors', 'window_warnings', 'sil'])
-      .where('primary_instrument_id', '=', inst.id)
-      .where('status', '!=', 'retired')
-      .execute()
+    const limits = await repo.limitsOnInstrument(trx, inst.id)
     // the window after: apply inside a savepoint of this transaction that is always rolled back (the row is locked
     // by this transaction, so a transaction of its own would wait on it for ever)
-    await sql`SAVEPOINT instrument_window_after`.execute(trx)
-    let after: {
-      blocked: { tag: string; errors: unknown[] }[]
-      rows: { tag: string; window_errors: unknown[]; window_warnings: unknown[] }[]
-    }
-    try {
+    const after = await repo.withRolledBackSavepoint(trx, async () => {
       const draft = parsePatch(
         UpdateInstrumentInputSchema,
         Object.fromEntries(Object.entries(changes).map(([k, v]) => [k, v.to])),
       )
-      await trx
-        .updateTable('instrument')
-        .set({
-          ...(draft.rangeLow !== undefined ? { range_low: draft.rangeLow } : {}),
-          ...(draft.rangeHigh !== undefined ? { range_high: draft.rangeHigh } : {}),
-          ...(draft.normalLow !== undefined ? { normal_low: draft.normalLow } : {}),
-          ...(draft.normalHigh !== undefined ? { normal_high: draft.normalHigh } : {}),
-          ...(draft.designLow !== undefined ? { design_low: draft.designLow } : {}),
-          ...(draft.designHigh !== undefined ? { design_high: draft.designHigh } : {}),
-          ...(draft.burnout !== undefined ? { burnout: draft.burnout } : {}),
-        })
-        .where('id', '=', inst.id)
-        .execute()
+      await repo.setInstrumentRanges(trx, inst.id, draft)
       const blocked = await recomputeWindowsForInstrument(trx, inst.id)
-      const rows = await trx
-        .selectFrom('limit_function')
-        .select(['tag', 'window_errors', 'window_warnings'])
-        .where('primary_instrument_id', '=', inst.id)
-        .where('status', '!=', 'retired')
-        .execute()
-      after = { blocked, rows }
-    } finally {
-      await sql`ROLLBACK TO SAVEPOINT instrument_window_after`.execute(trx)
-      await sql`RELEASE SAVEPOINT instrument_window_after`.execute(trx)
-    }
+      return { blocked, rows: await repo.limitsOnInstrument(trx, inst.id) }
+    })
     if (after.blocked.length) {
       throw new AppError(
         422,
@@ -245,102 +226,62 @@ async function writeItems(deps: AppDeps, trx: Trx, crId: number, siteId: number,
     if (seen.has(key)) throw validationFailed({ items: ['Each limit or instrument appears once in a request'] })
     seen.add(key)
   }
-  await trx.deleteFrom('change_request_item').where('change_request_id', '=', crId).execute()
   const prepared: PreparedItem[] = []
   for (const input of inputs) prepared.push(await prepareItem(deps, trx, siteId, input))
-  if (prepared.length) {
-    await trx
-      .insertInto('change_request_item')
-      .values(
-        prepared.map((p, position) => ({
-          change_request_id: crId,
-          position,
-          kind: p.kind,
-          limit_id: p.limit_id,
-          instrument_id: p.instrument_id,
-          changes: JSON.stringify(p.changes),
-          base_revision: p.base_revision,
-          window_before: JSON.stringify(p.window_before),
-          window_after: JSON.stringify(p.window_after),
-        })),
-      )
-      .execute()
-  }
+  await repo.replaceItems(trx, crId, prepared)
   return prepared
 }
 
 async function refreshHash(trx: Trx, crId: number) {
-  const cr = await trx.selectFrom('change_request').selectAll().where('id', '=', crId).executeTakeFirstOrThrow()
-  const items = await trx
-    .selectFrom('change_request_item')
-    .select(['kind', 'limit_id', 'instrument_id', 'changes'])
-    .where('change_request_id', '=', crId)
-    .orderBy('position')
-    .execute()
-  const hash = hashOf(cr, items, await listAttachments(trx, ENTITY, crId))
-  await trx.updateTable('change_request').set({ content_hash: hash }).where('id', '=', crId).execute()
+  const cr = (await repo.findRequest(trx, crId))!
+  const hash = hashOf(cr, await repo.itemsOf(trx, crId), await listAttachments(trx, ENTITY, crId))
+  await repo.updateRequest(trx, crId, { content_hash: hash })
   return hash
 }
 
 async function approvalsRequiredFor(trx: Trx, siteId: number, crId: number): Promise<number> {
-  const site = await trx.selectFrom('site').select('policy').where('id', '=', siteId).executeTakeFirstOrThrow()
-  const policy = policyOf(site)
-  const items = await trx
-    .selectFrom('change_request_item')
-    .leftJoin('limit_function', 'limit_function.id', 'change_request_item.limit_id')
-    .select([
-      'change_request_item.kind',
-      'change_request_item.instrument_id',
-      'change_request_item.changes',
-      'limit_function.sil',
-    ])
-    .where('change_request_id', '=', crId)
-    .execute()
-  // SIL-rated before or after the change: a modify that gives a limit a SIL is a change to a SIL-rated function
-  let sil = items.some((i) => i.sil !== null || (i.changes.sil?.to ?? null) !== null)
-  const instrumentIds = items.filter((i) => i.instrument_id).map((i) => i.instrument_id!)
-  if (!sil && instrumentIds.length) {
-    sil = Boolean(
-      await trx
-        .selectFrom('limit_function')
-        .select('id')
-        .where('primary_instrument_id', 'in', instrumentIds)
-        .where('sil', 'is not', null)
-        .executeTakeFirst(),
-    )
-  }
-  return sil ? policy.approvalsRequiredSil : policy.approvalsRequiredOther
+  const policy = policyOf(await repo.siteOf(trx, siteId))
+  return (await repo.touchesSilFunction(trx, crId)) ? policy.approvalsRequiredSil : policy.approvalsRequiredOther
 }
 
 // ---------- reading ----------
 
 async function loadRow(db: AppDeps['db'] | Trx, id: number, lock = false) {
-  let q = db.selectFrom('change_request').selectAll().where('id', '=', id)
-  if (lock) q = q.forUpdate()
-  const row = await q.executeTakeFirst()
+  const row = await repo.findRequest(db, id, lock)
   if (!row) throw notFound('Change request')
   return row
 }
 
-async function editorIds(db: AppDeps['db'] | Trx, id: number): Promise<number[]> {
-  return (
-    await db.selectFrom('change_request_editor').select('user_id').where('change_request_id', '=', id).execute()
-  ).map((r) => r.user_id)
+/** What the checklist items of a group say now (covered by the implementation and closure signatures). */
+function checklistContent(checklist: ChangeRequestDto['checklist'], group: ChecklistGroup) {
+  return checklist
+    .filter((c) => c.group === group && c.doneAt)
+    .map((c) => ({ item: c.item, notApplicable: c.notApplicable, note: c.note }))
 }
 
-/** The subject CASL checks: site, type, proposer and everyone who edited. */
-async function subjectOf(
-  db: AppDeps['db'] | Trx,
-  row: { id: number; site_id: number; proposer_id: number; type: string; status: string },
+/**
+ * The rule book's answers for this actor (docs/change-requests.md#the-rule-book); read inside the transaction
+ * that holds the request's row lock, the answer cannot change before the write.
+ */
+async function rulesNow(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number, db: AppDeps['db'] | Trx) {
+  const cr = await getChangeRequest(deps, ability, id, db)
+  const actor: ChangeActor = { id: ctx.actorId!, ability }
+  return { cr, actor, rules: changeRequestRules(cr, actor, deps.clock.now()) }
+}
+
+/** Locks the request and enforces the rule book's answer for `action`. */
+async function guard(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  trx: Trx,
+  id: number,
+  action: ChangeAction,
 ) {
-  return {
-    id: row.id,
-    siteId: row.site_id,
-    proposerId: row.proposer_id,
-    editorIds: await editorIds(db, row.id),
-    type: row.type,
-    status: row.status,
-  }
+  const row = await loadRow(trx, id, true)
+  const now = await rulesNow(deps, ability, ctx, id, trx)
+  enforce(now.rules[action])
+  return { row, ...now }
 }
 
 export async function getChangeRequest(
@@ -351,55 +292,37 @@ export async function getChangeRequest(
 ): Promise<ChangeRequestDto> {
   const row = await loadRow(db, id)
   authorize(ability, 'read', 'ChangeRequest', { siteId: row.site_id })
-  const site = await db
-    .selectFrom('site')
-    .select(['code', 'policy'])
-    .where('id', '=', row.site_id)
-    .executeTakeFirstOrThrow()
-  const proposer = await db
-    .selectFrom('app_user')
-    .select('display_name')
-    .where('id', '=', row.proposer_id)
-    .executeTakeFirstOrThrow()
-  const items = await db
-    .selectFrom('change_request_item')
-    .leftJoin('limit_function', 'limit_function.id', 'change_request_item.limit_id')
-    .leftJoin('instrument as li', 'li.id', 'limit_function.primary_instrument_id')
-    .leftJoin('instrument', 'instrument.id', 'change_request_item.instrument_id')
-    .leftJoin('app_user', 'app_user.id', 'change_request_item.implemented_by')
-    .selectAll('change_request_item')
-    .select([
-      'limit_function.tag as limit_tag',
-      'limit_function.revision as limit_revision',
-      'limit_function.sil as limit_sil',
-      'li.unit as limit_unit',
-      'instrument.tag as instrument_tag',
-      'instrument.revision as instrument_revision',
-      'instrument.unit as instrument_unit',
-      'app_user.display_name as implementer',
-    ])
-    .where('change_request_id', '=', id)
-    .orderBy('position')
-    .execute()
+  const site = await repo.siteOf(db, row.site_id)
+  const proposer = await repo.userContact(db, row.proposer_id)
+  const items = await repo.itemsWithTargets(db, id)
   const sigs = await listSignatures(db, ENTITY, [id])
-  const checks = await db
-    .selectFrom('change_request_check')
-    .leftJoin('app_user', 'app_user.id', 'change_request_check.done_by')
-    .select(['item', 'done_at', 'note', 'app_user.display_name'])
-    .where('change_request_id', '=', id)
-    .execute()
+  const checks = await repo.checksOf(db, id)
+  const checklist: ChangeRequestDto['checklist'] = IMPACT_CHECKLIST.map((c) => {
+    const done = checks.find((x) => x.item === c.item)
+    return {
+      item: c.item,
+      label: c.label,
+      group: c.group,
+      doneBy: done?.display_name ?? null,
+      doneAt: done?.done_at.toISOString() ?? null,
+      notApplicable: done?.not_applicable ?? false,
+      note: done?.note ?? '',
+    }
+  })
   const atts = await listAttachments(db, ENTITY, id)
   const approvals = sigs.filter((s) => s.meaning === 'approved' && !s.voided_at)
   const expiryDays = policyOf(site).approvalExpiryDays
   // what each signature should cover given the content now (recomputed, not the stored hash): a change after signing shows as a mismatch
   const currentHash = hashOf(row, items, atts)
   const expectedHash = (s: { meaning: string; item_id: number | null; user_id: number }) => {
-    if (s.meaning === 'closed') return contentHash({ request: currentHash, pssr: row.pssr })
+    if (s.meaning === 'closed')
+      return contentHash({ request: currentHash, pssr: row.pssr, checklist: checklistContent(checklist, 'closeout') })
     if (s.meaning === 'implemented' && s.item_id)
       return contentHash({
         request: currentHash,
         itemId: s.item_id,
         readBack: items.find((i) => i.id === s.item_id)?.read_back ?? null,
+        checklist: checklistContent(checklist, 'before'),
       })
     if (s.meaning === 'implemented') {
       const bulk = items
@@ -409,7 +332,12 @@ export async function getChangeRequest(
             (i.read_back as { deviceListConfirmed?: boolean } | null)?.deviceListConfirmed,
         )
         .map((i) => i.id)
-      return contentHash({ request: currentHash, items: bulk, deviceListConfirmed: true })
+      return contentHash({
+        request: currentHash,
+        items: bulk,
+        deviceListConfirmed: true,
+        checklist: checklistContent(checklist, 'before'),
+      })
     }
     return currentHash
   }
@@ -418,7 +346,7 @@ export async function getChangeRequest(
     return {
       id: i.id,
       position: i.position,
-      kind: i.kind as ChangeItemDto['kind'],
+      kind: i.kind,
       limitId: i.limit_id,
       instrumentId: i.instrument_id,
       targetTag: (i.kind === 'instrument' ? i.instrument_tag : i.limit_tag) ?? '?',
@@ -440,14 +368,14 @@ export async function getChangeRequest(
     id: row.id,
     siteId: row.site_id,
     siteCode: site.code,
-    type: row.type as ChangeRequestDto['type'],
+    type: row.type,
     title: row.title,
     rationale: row.rationale,
     hazardReference: row.hazard_reference,
-    status: row.status as ChangeRequestDto['status'],
+    status: row.status,
     proposerId: row.proposer_id,
     proposerName: proposer.display_name,
-    editorIds: await editorIds(db, id),
+    editorIds: await repo.editorIdsOf(db, id),
     expiresAt: row.expires_at?.toISOString() ?? null,
     approvalsRequired: row.approvals_required,
     approvalsHeld: approvals.length,
@@ -463,16 +391,7 @@ export async function getChangeRequest(
     emergencyFlagged: row.emergency_flagged_at !== null,
     pssr: row.pssr,
     items: itemDtos,
-    checklist: IMPACT_CHECKLIST.map((c) => {
-      const done = checks.find((x) => x.item === c.item)
-      return {
-        item: c.item,
-        label: c.label,
-        doneBy: done?.display_name ?? null,
-        doneAt: done?.done_at.toISOString() ?? null,
-        note: done?.note ?? '',
-      }
-    }),
+    checklist,
     signatures: sigs.map((s) => ({
       id: s.id,
       userId: s.user_id,
@@ -506,67 +425,26 @@ function deviceFieldsOf(kind: string, changes: Record<string, unknown>): string[
   return kind === 'create' ? list.filter((f) => f in changes) : Object.keys(changes).filter((f) => list.includes(f))
 }
 
-export interface ChangeListQuery {
-  view: 'all' | 'mine' | 'waiting'
-  status?: string[]
-  type?: string[]
-  siteIds: number[]
-  page: number
-  pageSize: number
-  q?: string
+type Person = { id: number; roles: { siteId: number; role: string }[] }
+
+/** The sites where a person's roles make a request wait for them (to approve, implement, implement first, close). */
+function waitingSites(user: Person): repo.WaitingSites {
+  const sites = (...roles: string[]) => user.roles.filter((r) => roles.includes(r.role)).map((r) => r.siteId)
+  return {
+    approve: sites('approver'),
+    implement: sites('technician', 'control_engineer'),
+    emergency: sites('shift_supervisor'),
+    close: sites('safety_engineer'),
+  }
 }
 
-/** The change list: mine, waiting for me (to approve or implement), or all of my sites. */
+/** The change list: mine, waiting for me (to approve or implement), all of my sites, or those of one limit. */
 export async function listChangeRequests(
   deps: AppDeps,
-  user: { id: number; roles: { siteId: number; role: string }[] },
-  q: ChangeListQuery,
-) {
-  let query = deps.db
-    .selectFrom('change_request')
-    .innerJoin('app_user', 'app_user.id', 'change_request.proposer_id')
-    .innerJoin('site', 'site.id', 'change_request.site_id')
-    .where('change_request.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
-  if (q.status?.length) query = query.where('change_request.status', 'in', q.status)
-  if (q.type?.length) query = query.where('change_request.type', 'in', q.type)
-  if (q.q) query = query.where('change_request.title', 'ilike', `%${likeEscape(q.q)}%`)
-  if (q.view === 'mine') query = query.where('change_request.proposer_id', '=', user.id)
-  if (q.view === 'waiting') query = waitingFilter(query, user)
-  const total = (await query.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const rows = await query
-    .select([
-      'change_request.id',
-      'change_request.title',
-      'change_request.type',
-      'change_request.status',
-      'change_request.site_id',
-      'site.code as site_code',
-      'change_request.approvals_required',
-      'change_request.updated_at',
-      'change_request.expires_at',
-      'change_request.emergency_flagged_at',
-      'app_user.display_name as proposer_name',
-      (eb) =>
-        eb
-          .selectFrom('change_request_item')
-          .select((e) => e.fn.countAll<number>().as('n'))
-          .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
-          .as('item_count'),
-      (eb) =>
-        eb
-          .selectFrom('signature')
-          .select((e) => e.fn.countAll<number>().as('n'))
-          .where('signature.entity_type', '=', ENTITY)
-          .whereRef('signature.entity_id', '=', 'change_request.id')
-          .where('signature.meaning', '=', 'approved')
-          .where('signature.voided_at', 'is', null)
-          .as('approvals_held'),
-    ])
-    .orderBy('change_request.updated_at', 'desc')
-    .orderBy('change_request.id', 'desc')
-    .limit(q.pageSize)
-    .offset((q.page - 1) * q.pageSize)
-    .execute()
+  user: Person,
+  q: Omit<ChangeListQuery, 'siteId'> & { siteIds: number[] },
+): Promise<{ items: ChangeListItem[]; total: number }> {
+  const { total, rows } = await repo.listRequests(deps.db, { ...q, userId: user.id, waiting: waitingSites(user) })
   return {
     total,
     items: rows.map((r) => ({
@@ -581,79 +459,17 @@ export async function listChangeRequests(
       approvalsRequired: r.approvals_required,
       approvalsHeld: Number(r.approvals_held),
       updatedAt: r.updated_at.toISOString(),
+      createdAt: r.created_at.toISOString(),
+      implementedAt: r.implemented_at?.toISOString() ?? null,
       expiresAt: r.expires_at?.toISOString() ?? null,
       emergencyFlagged: r.emergency_flagged_at !== null,
     })),
   }
 }
 
-function waitingFilter<Q extends { where: (...a: any[]) => Q }>(
-  query: Q,
-  user: { id: number; roles: { siteId: number; role: string }[] },
-): Q {
-  const approveSites = user.roles.filter((r) => r.role === 'approver').map((r) => r.siteId)
-  const implementSites = user.roles.filter((r) => r.role === 'technician').map((r) => r.siteId)
-  const emergencySites = user.roles.filter((r) => r.role === 'shift_supervisor').map((r) => r.siteId)
-  const closeSites = user.roles.filter((r) => r.role === 'safety_engineer').map((r) => r.siteId)
-  return query.where((eb: any) =>
-    eb.or([
-      eb.and([
-        eb('change_request.site_id', 'in', approveSites.length ? approveSites : [-1]),
-        eb('change_request.status', 'in', ['submitted', 'implemented']),
-        eb('change_request.approved_at', 'is', null),
-        eb('change_request.proposer_id', '!=', user.id),
-        eb.not(
-          eb.exists(
-            eb
-              .selectFrom('change_request_editor')
-              .select('user_id')
-              .whereRef('change_request_editor.change_request_id', '=', 'change_request.id')
-              .where('user_id', '=', user.id),
-          ),
-        ),
-        eb.not(
-          eb.exists(
-            eb
-              .selectFrom('signature')
-              .select('id')
-              .where('entity_type', '=', ENTITY)
-              .whereRef('signature.entity_id', '=', 'change_request.id')
-              .where('signature.user_id', '=', user.id)
-              .where('signature.meaning', '=', 'approved')
-              .where('signature.voided_at', 'is', null),
-          ),
-        ),
-      ]),
-      eb.and([
-        eb('change_request.site_id', 'in', implementSites.length ? implementSites : [-1]),
-        eb('change_request.status', '=', 'approved'),
-      ]),
-      eb.and([
-        eb('change_request.site_id', 'in', emergencySites.length ? emergencySites : [-1]),
-        eb('change_request.status', '=', 'submitted'),
-        eb('change_request.type', '=', 'emergency'),
-      ]),
-      // implemented and approved: waiting for the engineer's pre-start-up safety review and closure
-      eb.and([
-        eb('change_request.site_id', 'in', closeSites.length ? closeSites : [-1]),
-        eb('change_request.status', '=', 'implemented'),
-        eb('change_request.approved_at', 'is not', null),
-      ]),
-    ]),
-  )
-}
-
 /** The "waiting for me" counter of the navigation. */
-export async function countWaiting(
-  deps: AppDeps,
-  user: { id: number; roles: { siteId: number; role: string }[] },
-): Promise<number> {
-  const sites = [...new Set(user.roles.map((r) => r.siteId))]
-  const q = waitingFilter(
-    deps.db.selectFrom('change_request').where('change_request.site_id', 'in', sites.length ? sites : [-1]),
-    user,
-  )
-  return Number((await q.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n)
+export async function countWaiting(deps: AppDeps, user: Person): Promise<number> {
+  return repo.countWaitingRequests(deps.db, [...new Set(user.roles.map((r) => r.siteId))], user.id, waitingSites(user))
 }
 
 // ---------- writing ----------
@@ -678,9 +494,7 @@ async function mailTo(
   await enqueueMail(trx, deps.clock, list)
 }
 
-async function proposerOf(trx: Trx, id: number) {
-  return trx.selectFrom('app_user').select(['email', 'display_name']).where('id', '=', id).executeTakeFirstOrThrow()
-}
+const proposerOf = repo.userContact
 
 export async function createChangeRequest(
   deps: AppDeps,
@@ -691,31 +505,19 @@ export async function createChangeRequest(
 ): Promise<number> {
   authorize(ability, 'create', 'ChangeRequest', { siteId: input.siteId })
   const run = async (trx: Trx) => {
-    const now = deps.clock.now()
-    const { id } = await trx
-      .insertInto('change_request')
-      .values({
-        site_id: input.siteId,
-        type: input.type,
-        title: input.title,
-        rationale: input.rationale,
-        hazard_reference: input.hazardReference,
-        expires_at: input.expiresAt ? new Date(input.expiresAt) : null,
-        proposer_id: ctx.actorId!,
-        content_hash: '0'.repeat(64),
-        approvals_required: 1,
-        import_batch_id: opts.importBatchId ?? null,
-        created_at: now,
-        updated_at: now,
-      })
-      .returning('id')
-      .executeTakeFirstOrThrow()
+    const id = await repo.insertRequest(trx, {
+      siteId: input.siteId,
+      type: input.type,
+      title: input.title,
+      rationale: input.rationale,
+      hazardReference: input.hazardReference,
+      expiresAt: input.expiresAt ? new Date(input.expiresAt) : null,
+      proposerId: ctx.actorId!,
+      importBatchId: opts.importBatchId ?? null,
+      now: deps.clock.now(),
+    })
     await writeItems(deps, trx, id, input.siteId, input.items)
-    await trx
-      .updateTable('change_request')
-      .set({ approvals_required: await approvalsRequiredFor(trx, input.siteId, id) })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateRequest(trx, id, { approvals_required: await approvalsRequiredFor(trx, input.siteId, id) })
     const hash = await refreshHash(trx, id)
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_request.create',
@@ -739,43 +541,28 @@ export async function updateChangeRequest(
   expectedVersion?: number,
 ) {
   await deps.db.transaction().execute(async (trx) => {
-    const row = await loadRow(trx, id, true)
-    authorize(ability, 'update', 'ChangeRequest', { siteId: row.site_id })
-    if (!['draft', 'submitted'].includes(row.status))
-      throw invalidState(`A ${row.status} change request cannot be edited`)
+    const { row } = await guard(deps, ability, ctx, trx, id, 'edit')
     if (expectedVersion !== undefined && expectedVersion !== row.version)
       throw conflict('Someone else changed this request meanwhile; reload it')
     const type = input.type ?? row.type
     const expiresAt = input.expiresAt !== undefined ? input.expiresAt : (row.expires_at?.toISOString() ?? null)
     if (type === 'temporary' && !expiresAt)
       throw validationFailed({ expiresAt: ['A temporary change needs an expiry'] })
-    await trx
-      .updateTable('change_request')
-      .set({
-        type,
-        title: input.title ?? row.title,
-        rationale: input.rationale ?? row.rationale,
-        hazard_reference: input.hazardReference ?? row.hazard_reference,
-        expires_at: expiresAt ? new Date(expiresAt) : null,
-        status: 'draft',
-        submitted_at: null,
-        updated_at: deps.clock.now(),
-        version: row.version + 1,
-      })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateRequest(trx, id, {
+      type,
+      title: input.title ?? row.title,
+      rationale: input.rationale ?? row.rationale,
+      hazard_reference: input.hazardReference ?? row.hazard_reference,
+      expires_at: expiresAt ? new Date(expiresAt) : null,
+      status: 'draft',
+      submitted_at: null,
+      updated_at: deps.clock.now(),
+      version: row.version + 1,
+    })
     if (input.items) await writeItems(deps, trx, id, row.site_id, input.items)
-    await trx
-      .updateTable('change_request')
-      .set({ approvals_required: await approvalsRequiredFor(trx, row.site_id, id) })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateRequest(trx, id, { approvals_required: await approvalsRequiredFor(trx, row.site_id, id) })
     const hash = await refreshHash(trx, id)
-    await trx
-      .insertInto('change_request_editor')
-      .values({ change_request_id: id, user_id: ctx.actorId! })
-      .onConflict((oc) => oc.doNothing())
-      .execute()
+    await repo.addEditor(trx, id, ctx.actorId!)
     const voided =
       row.status === 'submitted'
         ? await voidSignatures(trx, deps.clock, ENTITY, id, 'request edited after submission')
@@ -793,21 +580,14 @@ export async function updateChangeRequest(
 
 export async function submitChangeRequest(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number) {
   await deps.db.transaction().execute(async (trx) => {
-    const row = await loadRow(trx, id, true)
-    authorize(ability, 'submit', 'ChangeRequest', { siteId: row.site_id })
-    if (row.status !== 'draft') throw invalidState(`Only a draft can be submitted; this request is ${row.status}`)
-    const items = await trx.selectFrom('change_request_item').select('id').where('change_request_id', '=', id).execute()
-    if (!items.length) throw validationFailed({ items: ['Add at least one item'] })
-    await trx
-      .updateTable('change_request')
-      .set({
-        status: 'submitted',
-        submitted_at: deps.clock.now(),
-        updated_at: deps.clock.now(),
-        version: row.version + 1,
-      })
-      .where('id', '=', id)
-      .execute()
+    const { row } = await guard(deps, ability, ctx, trx, id, 'submit')
+    const now = deps.clock.now()
+    await repo.updateRequest(trx, id, {
+      status: 'submitted',
+      submitted_at: now,
+      updated_at: now,
+      version: row.version + 1,
+    })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_request.submit',
       entityType: ENTITY,
@@ -815,14 +595,16 @@ export async function submitChangeRequest(deps: AppDeps, ability: AppAbility, ct
       after: { status: 'submitted', contentHash: row.content_hash },
     })
     const approvers = (await findUsersWithRole(trx, row.site_id, ['approver'])).filter((u) => u.id !== row.proposer_id)
+    const proposer = await proposerOf(trx, row.proposer_id)
     await mailTo(
       deps,
       trx,
       approvers,
       `Change request #${id} waits for your approval: ${row.title}`,
       [
-        `${(await proposerOf(trx, row.proposer_id)).display_name} submitted change request #${id} "${row.title}" (${row.type}).`,
-        `It needs ${row.approvals_required} approval(s). Review the changes, the operating window before and after, and sign if you agree.`,
+        `${proposer.display_name} submitted change request #${id} "${row.title}" (${row.type}).`,
+        `It needs ${row.approvals_required} approval(s). Review the changes, the operating window before and after, ` +
+          'and sign if you agree.',
       ],
       id,
     )
@@ -832,15 +614,8 @@ export async function submitChangeRequest(deps: AppDeps, ability: AppAbility, ct
 
 export async function withdrawChangeRequest(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number) {
   await deps.db.transaction().execute(async (trx) => {
-    const row = await loadRow(trx, id, true)
-    authorize(ability, 'update', 'ChangeRequest', { siteId: row.site_id })
-    if (!['draft', 'submitted'].includes(row.status))
-      throw invalidState(`A ${row.status} change request cannot be withdrawn`)
-    await trx
-      .updateTable('change_request')
-      .set({ status: 'withdrawn', updated_at: deps.clock.now(), version: row.version + 1 })
-      .where('id', '=', id)
-      .execute()
+    const { row } = await guard(deps, ability, ctx, trx, id, 'withdraw')
+    await repo.updateRequest(trx, id, { status: 'withdrawn', updated_at: deps.clock.now(), version: row.version + 1 })
     await voidSignatures(trx, deps.clock, ENTITY, id, 'request withdrawn')
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_request.withdraw',
@@ -853,21 +628,16 @@ export async function withdrawChangeRequest(deps: AppDeps, ability: AppAbility, 
   return getChangeRequest(deps, ability, id)
 }
 
-/** Checks the approver's right to sign: role at the site, not the proposer, not an editor (403, nothing written). */
-async function assertMayApprove(
-  deps: AppDeps,
-  ability: AppAbility,
-  row: { id: number; site_id: number; proposer_id: number; type: string; status: string },
-  userId: number,
-) {
-  const subject = await subjectOf(deps.db, row)
-  if (!allows(ability, 'approve', 'ChangeRequest', subject)) {
-    if (row.proposer_id === userId)
-      throw forbidden('Nobody approves a change they proposed: an independent second person must sign')
-    if (subject.editorIds.includes(userId))
-      throw forbidden('Nobody approves a change they edited: an independent second person must sign')
-    throw forbidden('Only an approver of this site may approve or reject this change')
-  }
+/**
+ * Checks the rule book before the signature password is verified (a refusal costs no password attempt and writes
+ * nothing); the answer is checked again inside the locked transaction.
+ */
+async function precheck(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number, action: ChangeAction) {
+  await loadRow(deps.db, id)
+  const { rules } = await rulesNow(deps, ability, ctx, id, deps.db)
+  const v = rules[action]
+  // role and separation of duties first (403); a state refusal is answered after the password, as before
+  if (!v.allowed && v.status === 403) enforce(v)
 }
 
 export async function approveChangeRequest(
@@ -878,24 +648,10 @@ export async function approveChangeRequest(
   password: string,
   comment: string,
 ) {
-  const pre = await loadRow(deps.db, id)
-  await assertMayApprove(deps, ability, pre, ctx.actorId!)
+  await precheck(deps, ability, ctx, id, 'approve')
   const signer = await verifySignaturePassword(deps, ctx.actorId!, password, ctx, { entityType: ENTITY, entityId: id })
   await deps.db.transaction().execute(async (trx) => {
-    const row = await loadRow(trx, id, true)
-    const emergencyPending = row.type === 'emergency' && row.status === 'implemented' && !row.approved_at
-    if (row.status !== 'submitted' && !emergencyPending)
-      throw invalidState(`This change request is ${row.status}; it cannot be approved now`)
-    const mine = await trx
-      .selectFrom('signature')
-      .select('id')
-      .where('entity_type', '=', ENTITY)
-      .where('entity_id', '=', id)
-      .where('user_id', '=', signer.id)
-      .where('meaning', '=', 'approved')
-      .where('voided_at', 'is', null)
-      .executeTakeFirst()
-    if (mine) throw invalidState('You have already approved this change request')
+    const { row } = await guard(deps, ability, ctx, trx, id, 'approve')
     await insertSignature(trx, deps.clock, {
       entityType: ENTITY,
       entityId: id,
@@ -905,29 +661,14 @@ export async function approveChangeRequest(
       contentHash: row.content_hash,
       comment,
     })
-    const held = Number(
-      (
-        await trx
-          .selectFrom('signature')
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .where('entity_type', '=', ENTITY)
-          .where('entity_id', '=', id)
-          .where('meaning', '=', 'approved')
-          .where('voided_at', 'is', null)
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
+    const held = await repo.countApprovals(trx, id)
     const complete = held >= row.approvals_required
     const now = deps.clock.now()
-    await trx
-      .updateTable('change_request')
-      .set({
-        ...(complete ? { approved_at: now, ...(row.status === 'submitted' ? { status: 'approved' } : {}) } : {}),
-        updated_at: now,
-        version: row.version + 1,
-      })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateRequest(trx, id, {
+      ...(complete ? { approved_at: now, ...(row.status === 'submitted' ? { status: 'approved' as const } : {}) } : {}),
+      updated_at: now,
+      version: row.version + 1,
+    })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_request.approve',
       entityType: ENTITY,
@@ -968,13 +709,10 @@ export async function rejectChangeRequest(
   password: string,
   comment: string,
 ) {
-  const pre = await loadRow(deps.db, id)
-  await assertMayApprove(deps, ability, pre, ctx.actorId!)
+  await precheck(deps, ability, ctx, id, 'reject')
   const signer = await verifySignaturePassword(deps, ctx.actorId!, password, ctx, { entityType: ENTITY, entityId: id })
   await deps.db.transaction().execute(async (trx) => {
-    const row = await loadRow(trx, id, true)
-    if (row.status !== 'submitted')
-      throw invalidState(`This change request is ${row.status}; it cannot be rejected now`)
+    const { row } = await guard(deps, ability, ctx, trx, id, 'reject')
     await insertSignature(trx, deps.clock, {
       entityType: ENTITY,
       entityId: id,
@@ -984,11 +722,7 @@ export async function rejectChangeRequest(
       contentHash: row.content_hash,
       comment,
     })
-    await trx
-      .updateTable('change_request')
-      .set({ status: 'rejected', updated_at: deps.clock.now(), version: row.version + 1 })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateRequest(trx, id, { status: 'rejected', updated_at: deps.clock.now(), version: row.version + 1 })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_request.reject',
       entityType: ENTITY,
@@ -1035,23 +769,11 @@ async function assertNotStale(
   trx: Trx,
   item: { kind: string; limit_id: number | null; instrument_id: number | null; base_revision: number },
 ) {
-  const row =
-    item.kind === 'instrument'
-      ? await trx
-          .selectFrom('instrument')
-          .select(['tag', 'revision'])
-          .where('id', '=', item.instrument_id!)
-          .forUpdate()
-          .executeTakeFirstOrThrow()
-      : await trx
-          .selectFrom('limit_function')
-          .select(['tag', 'revision'])
-          .where('id', '=', item.limit_id!)
-          .forUpdate()
-          .executeTakeFirstOrThrow()
+  const row = await repo.lockTargetRevision(trx, item)
   if (row.revision !== item.base_revision) {
     throw conflict(
-      `${item.kind === 'instrument' ? 'Instrument' : 'Limit'} ${row.tag} changed since this request was written (revision ${item.base_revision} → ${row.revision}); revise the request`,
+      `${item.kind === 'instrument' ? 'Instrument' : 'Limit'} ${row.tag} changed since this request was written ` +
+        `(revision ${item.base_revision} → ${row.revision}); revise the request`,
     )
   }
 }
@@ -1125,7 +847,8 @@ async function applyItem(
 
 /**
  * Implements one item (read-back required, equal to the approved value) or, for an import baseline of new limits,
- * all items at once with one device-list confirmation. Each is an electronic signature.
+ * all items at once with one device-list confirmation. Each is an electronic signature, which also covers the
+ * before-implementation checklist as it stands.
  */
 export async function implementChangeRequest(
   deps: AppDeps,
@@ -1134,64 +857,33 @@ export async function implementChangeRequest(
   id: number,
   input: { itemId?: number; readBack?: Record<string, unknown>; allItems?: true; password: string; comment: string },
 ) {
-  const pre = await loadRow(deps.db, id)
-  authorize(ability, 'implement', 'ChangeRequest', await subjectOf(deps.db, pre))
+  await precheck(deps, ability, ctx, id, 'implement')
   const signer = await verifySignaturePassword(deps, ctx.actorId!, input.password, ctx, {
     entityType: ENTITY,
     entityId: id,
   })
   await deps.db.transaction().execute(async (trx) => {
-    const row = await loadRow(trx, id, true)
-    const site = await trx.selectFrom('site').select('policy').where('id', '=', row.site_id).executeTakeFirstOrThrow()
+    const { row, cr, actor, rules } = await guard(deps, ability, ctx, trx, id, 'implement')
     const now = deps.clock.now()
     const emergencyFirst = row.type === 'emergency' && row.status === 'submitted'
-    if (row.status !== 'approved' && !emergencyFirst)
-      throw invalidState(`This change request is ${row.status}; only an approved request is implemented`)
-    if (emergencyFirst) {
-      const supervisor = await trx
-        .selectFrom('role_assignment')
-        .select('role')
-        .where('user_id', '=', signer.id)
-        .where('site_id', '=', row.site_id)
-        .where('role', '=', 'shift_supervisor')
-        .executeTakeFirst()
-      if (!supervisor)
-        throw forbidden('An emergency change is implemented before approval only by a shift supervisor of the site')
-    }
-    if (
-      row.status === 'approved' &&
-      row.approved_at &&
-      now.getTime() > row.approved_at.getTime() + policyOf(site).approvalExpiryDays * DAY
-    ) {
-      throw invalidState(
-        'The approval has expired (not implemented within the policy time); the request must be approved again',
-      )
-    }
-    const items = await trx
-      .selectFrom('change_request_item')
-      .selectAll()
-      .where('change_request_id', '=', id)
-      .orderBy('position')
-      .execute()
+    const items = await repo.itemsOf(trx, id)
     const targets = input.allItems ? items.filter((i) => !i.implemented_at) : items.filter((i) => i.id === input.itemId)
-    if (!targets.length)
-      throw input.allItems ? invalidState('Every item is implemented already') : notFound('Change request item')
-    if (input.allItems && targets.some((i) => i.kind !== 'create'))
-      throw invalidState(
-        'Only a baseline of new limits is implemented in bulk; implement changes item by item with their read-back',
-      )
+    if (!targets.length) throw notFound('Change request item')
+    if (!input.allItems) {
+      const dto = cr.items.find((i) => i.id === input.itemId)!
+      const v = implementItemVerdict(cr, dto, actor, now)
+      // a stale item is answered below by the revision check, with the revisions in the message
+      if (!v.allowed && !dto.stale) enforce(v)
+    }
     // nothing half-applied: while any item still to implement stands on a row that changed since, none is applied
     for (const item of items.filter((i) => !i.implemented_at)) await assertNotStale(trx, item)
+    if (input.allItems) enforce(rules.implementAll)
+    const checklist = checklistContent(cr.checklist, 'before')
     for (const item of targets) {
-      if (item.implemented_at) throw invalidState('This item is implemented already')
       if (!input.allItems) checkReadBack(item, input.readBack ?? {})
       await applyItem(deps, trx, ctx, id, item)
       const readBack = input.allItems ? { deviceListConfirmed: true } : (input.readBack ?? {})
-      await trx
-        .updateTable('change_request_item')
-        .set({ implemented_at: now, implemented_by: signer.id, read_back: JSON.stringify(readBack) })
-        .where('id', '=', item.id)
-        .execute()
+      await repo.markItemImplemented(trx, item.id, signer.id, now, readBack)
       if (!input.allItems) {
         await insertSignature(trx, deps.clock, {
           entityType: ENTITY,
@@ -1200,7 +892,7 @@ export async function implementChangeRequest(
           userId: signer.id,
           name: signer.name,
           meaning: 'implemented',
-          contentHash: contentHash({ request: row.content_hash, itemId: item.id, readBack }),
+          contentHash: contentHash({ request: row.content_hash, itemId: item.id, readBack, checklist }),
           comment: input.comment,
         })
       }
@@ -1216,22 +908,17 @@ export async function implementChangeRequest(
           request: row.content_hash,
           items: targets.map((t) => t.id),
           deviceListConfirmed: true,
+          checklist,
         }),
         comment: input.comment,
       })
     }
     const remaining = items.length - items.filter((i) => i.implemented_at).length - targets.length
-    if (remaining === 0)
-      await trx
-        .updateTable('change_request')
-        .set({ status: 'implemented', implemented_at: now })
-        .where('id', '=', id)
-        .execute()
-    await trx
-      .updateTable('change_request')
-      .set({ updated_at: now, version: row.version + 1 })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateRequest(trx, id, {
+      ...(remaining === 0 ? { status: 'implemented' as const, implemented_at: now } : {}),
+      updated_at: now,
+      version: row.version + 1,
+    })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_request.implement',
       entityType: ENTITY,
@@ -1246,23 +933,14 @@ export async function implementChangeRequest(
       },
     })
     if (remaining === 0) {
-      const approvers = await trx
-        .selectFrom('signature')
-        .innerJoin('app_user', 'app_user.id', 'signature.user_id')
-        .select('app_user.email')
-        .where('entity_type', '=', ENTITY)
-        .where('entity_id', '=', id)
-        .where('meaning', '=', 'approved')
-        .where('voided_at', 'is', null)
-        .execute()
       await mailTo(
         deps,
         trx,
-        [await proposerOf(trx, row.proposer_id), ...approvers],
+        [await proposerOf(trx, row.proposer_id), ...(await repo.approverContacts(trx, id))],
         `Change request #${id} implemented: ${row.title}`,
         [
           `${signer.name} implemented change request #${id} "${row.title}" on the device and read the values back.`,
-          'The safety engineer closes it after the pre-start-up safety review.',
+          'The safety engineer closes it out once the close-out checklist is complete.',
           ...(emergencyFirst ? ['This is an emergency change: it must be approved within 24 hours.'] : []),
         ],
         id,
@@ -1280,25 +958,18 @@ export async function closeChangeRequest(
   password: string,
   pssr: { reference: string; findings: string; readyForService: true },
 ) {
-  const pre = await loadRow(deps.db, id)
-  authorize(ability, 'close', 'ChangeRequest', { siteId: pre.site_id })
+  await precheck(deps, ability, ctx, id, 'close')
   const signer = await verifySignaturePassword(deps, ctx.actorId!, password, ctx, { entityType: ENTITY, entityId: id })
   await deps.db.transaction().execute(async (trx) => {
     const row = await loadRow(trx, id, true)
-    if (row.status !== 'implemented')
-      throw invalidState(`Only an implemented change request is closed; this one is ${row.status}`)
-    if (!row.approved_at) throw invalidState('The emergency change is not approved yet; it cannot be closed')
-    const done = await trx
-      .selectFrom('change_request_check')
-      .select('item')
-      .where('change_request_id', '=', id)
-      .execute()
-    const missing = IMPACT_CHECKLIST.filter((c) => !done.some((d) => d.item === c.item))
-    if (missing.length)
+    const { cr, rules } = await rulesNow(deps, ability, ctx, id, trx)
+    const open = openChecks(cr, 'closeout')
+    if (!rules.close.allowed && rules.close.status === 422 && open.length)
       throw validationFailed(
-        { checklist: missing.map((m) => `Tick "${m.label}" first`) },
-        'The impact checklist is not complete',
+        { checklist: open.map((label) => `Tick "${label}" first`) },
+        'The close-out checklist is not complete',
       )
+    enforce(rules.close)
     const now = deps.clock.now()
     const record = { ...pssr, reviewedAt: now.toISOString(), reviewedBy: signer.name }
     await insertSignature(trx, deps.clock, {
@@ -1307,19 +978,19 @@ export async function closeChangeRequest(
       userId: signer.id,
       name: signer.name,
       meaning: 'closed',
-      contentHash: contentHash({ request: row.content_hash, pssr: record }),
+      contentHash: contentHash({
+        request: row.content_hash,
+        pssr: record,
+        checklist: checklistContent(cr.checklist, 'closeout'),
+      }),
     })
-    await trx
-      .updateTable('change_request')
-      .set({
-        status: 'closed',
-        closed_at: now,
-        pssr: JSON.stringify(record),
-        updated_at: now,
-        version: row.version + 1,
-      })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateRequest(trx, id, {
+      status: 'closed',
+      closed_at: now,
+      pssr: JSON.stringify(record),
+      updated_at: now,
+      version: row.version + 1,
+    })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_request.close',
       entityType: ENTITY,
@@ -1330,43 +1001,35 @@ export async function closeChangeRequest(
   return getChangeRequest(deps, ability, id)
 }
 
+/** Ticks a checklist item, marks it not applicable (with the reason in the note), or clears it. */
 export async function tickChecklist(
   deps: AppDeps,
   ability: AppAbility,
   ctx: AuditContext,
   id: number,
   item: ChecklistItem,
-  done: boolean,
-  note: string,
+  input: ChecklistInput,
 ) {
   if (!IMPACT_CHECKLIST.some((c) => c.item === item)) throw notFound('Checklist item')
   await deps.db.transaction().execute(async (trx) => {
-    const row = await loadRow(trx, id, true)
-    authorize(ability, 'update', 'ChangeRequest', { siteId: row.site_id })
-    if (['closed', 'withdrawn', 'rejected'].includes(row.status))
-      throw invalidState(`A ${row.status} change request cannot be edited`)
-    if (done) {
-      await trx
-        .insertInto('change_request_check')
-        .values({ change_request_id: id, item, done_by: ctx.actorId!, done_at: deps.clock.now(), note })
-        .onConflict((oc) =>
-          oc
-            .columns(['change_request_id', 'item'])
-            .doUpdateSet({ done_by: ctx.actorId!, done_at: deps.clock.now(), note }),
-        )
-        .execute()
-    } else {
-      await trx
-        .deleteFrom('change_request_check')
-        .where('change_request_id', '=', id)
-        .where('item', '=', item)
-        .execute()
-    }
+    await guard(deps, ability, ctx, trx, id, 'tick')
+    if (input.done)
+      await repo.setCheck(trx, id, item, {
+        by: ctx.actorId!,
+        at: deps.clock.now(),
+        note: input.note,
+        notApplicable: input.notApplicable,
+      })
+    else await repo.clearCheck(trx, id, item)
     await appendAudit(trx, deps.clock, ctx, {
-      action: done ? 'change_request.check' : 'change_request.uncheck',
+      action: !input.done
+        ? 'change_request.uncheck'
+        : input.notApplicable
+          ? 'change_request.not_applicable'
+          : 'change_request.check',
       entityType: ENTITY,
       entityId: id,
-      after: { item, note },
+      after: { item, note: input.note, ...(input.done && input.notApplicable ? { notApplicable: true } : {}) },
     })
   })
   return getChangeRequest(deps, ability, id)
@@ -1391,7 +1054,9 @@ export async function openBaselineChangeRequest(
       title: `Register baseline from ${p.fileName}`,
       hazardReference: '',
       expiresAt: null,
-      rationale: `Imported from ${p.fileName} (import batch ${p.importBatchId}). Approving and implementing this request puts the imported limits in service.`,
+      rationale:
+        `Imported from ${p.fileName} (import batch ${p.importBatchId}). ` +
+        'Approving and implementing this request puts the imported limits in service.',
       items: p.limitIds.map((limitId) => ({ kind: 'create' as const, limitId })),
     },
     { importBatchId: p.importBatchId, auditBatchId: p.auditBatchId, trx },
@@ -1402,8 +1067,9 @@ export { ENTITY as CHANGE_REQUEST_ENTITY }
 export type { Clock }
 
 /**
- * Attaches a file (PDF, PNG, JPEG, checked by content) while the request is a draft or submitted without approvals;
- * the attachments are part of what the signatures cover, so the content hash is recomputed.
+ * Attaches a file (PDF, PNG, JPEG, checked by content) while the request is a draft or submitted without
+ * signatures; the attachments are part of what the signatures cover, so the content hash is recomputed and the
+ * uploader becomes an editor of the request (an editor does not approve it).
  */
 export async function attachToChangeRequest(
   deps: AppDeps,
@@ -1413,19 +1079,10 @@ export async function attachToChangeRequest(
   file: Express.Multer.File | undefined,
 ) {
   return deps.db.transaction().execute(async (trx) => {
-    const row = await loadRow(trx, id, true)
-    authorize(ability, 'update', 'ChangeRequest', { siteId: row.site_id })
-    const approvals = await trx
-      .selectFrom('signature')
-      .select('id')
-      .where('entity_type', '=', ENTITY)
-      .where('entity_id', '=', id)
-      .where('voided_at', 'is', null)
-      .executeTakeFirst()
-    if (!['draft', 'submitted'].includes(row.status) || approvals)
-      throw invalidState('Attach files before anyone signs the request: what is signed must not change afterwards')
+    await guard(deps, ability, ctx, trx, id, 'attach')
     const a = await storeAttachment(trx, deps.clock, file, { entityType: ENTITY, entityId: id, userId: ctx.actorId! })
     const hash = await refreshHash(trx, id)
+    await repo.addEditor(trx, id, ctx.actorId!)
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_request.attach',
       entityType: ENTITY,

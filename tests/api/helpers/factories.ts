@@ -1,6 +1,7 @@
 import type { Db } from '../../../server/db/index.ts'
 import { DEMO_PASSWORD } from '../../../server/seed/demo.ts'
 import type { ApiAgent } from './agent.ts'
+import { IMPACT_CHECKLIST } from '../../../shared/schemas/change-requests.ts'
 
 let seq = 0
 const next = () => `${process.pid % 1000}-${++seq}`
@@ -113,11 +114,21 @@ export interface ChangeCrew {
   tech: ApiAgent
 }
 
-/** Creates and submits a change request as the engineer; answers the submitted request. */
+/**
+ * Ticks the before-implementation group of the readiness checklist (procedures, alarm response, training,
+ * pre-start-up safety review), which implementation requires (OSHA 1910.119(l)(3)-(4) and (i)).
+ */
+export async function readyToImplement(eng: ApiAgent, crId: number) {
+  for (const c of IMPACT_CHECKLIST.filter((x) => x.group === 'before'))
+    await eng.put(`/api/change-requests/${crId}/checklist/${c.item}`, { done: true }).expect(200)
+}
+
+/** Creates and submits a change request as the engineer, its before-implementation checklist ticked. */
 export async function submitChange(eng: ApiAgent, body: Record<string, unknown>) {
   const created = (
     await eng.post('/api/change-requests', { type: 'permanent', title: 'Fixture change', ...body }).expect(201)
   ).body
+  await readyToImplement(eng, created.id)
   return (await eng.post(`/api/change-requests/${created.id}/submission`).expect(200)).body
 }
 

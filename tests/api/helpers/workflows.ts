@@ -1,4 +1,5 @@
 import type { ApiAgent } from './agent.ts'
+import { readyToImplement } from './factories.ts'
 
 const PW = 'limitkeeper-demo'
 
@@ -17,6 +18,7 @@ export async function activateLimit(
       })
       .expect(201)
   ).body
+  await readyToImplement(agents.eng, cr.id)
   await agents.eng.post(`/api/change-requests/${cr.id}/submission`).expect(200)
   await agents.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
   if (cr.approvalsRequired > 1) {

@@ -1,0 +1,200 @@
+import { subject } from '@casl/ability'
+import type { AppAbility } from '../../abilities/index.ts'
+import type { ChangeStatus, ChangeType, ChecklistGroup } from '../../schemas/change-requests.ts'
+import { allow, blocked, forbid, invalid, type Verdict, type Verdicts } from './verdict.ts'
+
+/**
+ * The rule book of management of change (docs/change-requests.md#the-rule-book): given a request, the person acting,
+ * the site's policy and now, it answers every action with a Verdict. The server calls it inside the locked
+ * transaction before writing; the request page builds its buttons and their reasons from the same answers.
+ */
+export const CHANGE_ACTIONS = [
+  'edit',
+  'submit',
+  'withdraw',
+  'attach',
+  'tick',
+  'approve',
+  'reject',
+  'implement',
+  'implementAll',
+  'close',
+] as const
+export type ChangeAction = (typeof CHANGE_ACTIONS)[number]
+
+/** What the rules read of a request (the request as the API sends it satisfies this). */
+export interface ChangeRuleRecord {
+  siteId: number
+  type: ChangeType
+  status: ChangeStatus
+  proposerId: number
+  editorIds: number[]
+  approvedAt: string | null
+  approvalExpiresAt: string | null
+  items: { id: number; kind: string; implementedAt: string | null; stale: boolean }[]
+  signatures: { userId: number; meaning: string; voided: boolean }[]
+  checklist: { item: string; label: string; group: ChecklistGroup; doneAt: string | null }[]
+}
+
+export interface ChangeActor {
+  id: number
+  ability: AppAbility
+}
+
+/** The CASL subject of a request: separation of duties and the emergency rule read these fields. */
+export function changeRequestSubject(
+  cr: Pick<ChangeRuleRecord, 'siteId' | 'proposerId' | 'editorIds'> & {
+    type?: ChangeType
+    status?: ChangeStatus
+  },
+) {
+  return subject('ChangeRequest', {
+    siteId: cr.siteId,
+    proposerId: cr.proposerId,
+    editorIds: cr.editorIds,
+    type: cr.type,
+    status: cr.status,
+  }) as never
+}
+
+const can = (actor: ChangeActor, action: Parameters<AppAbility['can']>[0], cr: ChangeRuleRecord) =>
+  actor.ability.can(action, changeRequestSubject(cr))
+const siteOnly = (cr: ChangeRuleRecord) => subject('ChangeRequest', { siteId: cr.siteId }) as never
+
+const signed = (cr: ChangeRuleRecord, userId: number, meaning: string) =>
+  cr.signatures.some((s) => !s.voided && s.userId === userId && s.meaning === meaning)
+
+/** Labels of the checklist items of a group still open (neither done nor marked not applicable). */
+export function openChecks(cr: Pick<ChangeRuleRecord, 'checklist'>, group: ChecklistGroup): string[] {
+  return cr.checklist.filter((c) => c.group === group && !c.doneAt).map((c) => c.label)
+}
+
+const emergencyFirst = (cr: ChangeRuleRecord) => cr.type === 'emergency' && cr.status === 'submitted'
+const emergencyAfterTheFact = (cr: ChangeRuleRecord) =>
+  cr.type === 'emergency' && cr.status === 'implemented' && !cr.approvedAt
+
+function mayEdit(cr: ChangeRuleRecord, actor: ChangeActor, verb: string): Verdict {
+  if (!can(actor, 'update', cr)) return forbid(`Only a safety engineer of this site may ${verb} this change request.`)
+  if (cr.status !== 'draft' && cr.status !== 'submitted')
+    return blocked(`A ${cr.status} change request cannot be ${verb === 'edit' ? 'edited' : 'withdrawn'}.`)
+  return allow
+}
+
+/** Role and separation of duties of an approver or rejecter (403 answers). */
+function approverChecks(cr: ChangeRuleRecord, actor: ChangeActor): Verdict {
+  if (!actor.ability.can('approve', siteOnly(cr)))
+    return forbid('Only an approver of this site may approve or reject this change.')
+  if (cr.proposerId === actor.id)
+    return forbid('Nobody approves a change they proposed: an independent second person must sign.')
+  if (cr.editorIds.includes(actor.id))
+    return forbid(
+      'Nobody approves a change they edited (attachments included): an independent second person must sign.',
+    )
+  if (signed(cr, actor.id, 'implemented'))
+    return forbid('Nobody approves a change they implemented: an independent approver must sign.')
+  if (!can(actor, 'approve', cr)) return forbid('You may not approve this change.')
+  return allow
+}
+
+function approveVerdict(cr: ChangeRuleRecord, actor: ChangeActor): Verdict {
+  const who = approverChecks(cr, actor)
+  if (!who.allowed) return who
+  if (cr.status !== 'submitted' && !emergencyAfterTheFact(cr))
+    return blocked(`This change request is ${cr.status}; it cannot be approved now.`)
+  if (signed(cr, actor.id, 'approved'))
+    return blocked('You have approved this request already; it waits for another approver.')
+  return allow
+}
+
+function rejectVerdict(cr: ChangeRuleRecord, actor: ChangeActor): Verdict {
+  const who = approverChecks(cr, actor)
+  if (!who.allowed) return who
+  if (cr.status !== 'submitted') return blocked(`This change request is ${cr.status}; it cannot be rejected now.`)
+  return allow
+}
+
+function implementVerdict(cr: ChangeRuleRecord, actor: ChangeActor, now: Date): Verdict {
+  if (!can(actor, 'implement', cr)) {
+    if (emergencyFirst(cr))
+      return forbid('An emergency change is implemented before approval only by a shift supervisor of the site.')
+    return forbid('Only a technician or control engineer of this site implements this change.')
+  }
+  if (signed(cr, actor.id, 'approved'))
+    return forbid('Nobody implements a change they approved: another qualified person sets it on the device.')
+  if (cr.status !== 'approved' && !emergencyFirst(cr))
+    return blocked(`This change request is ${cr.status}; only an approved request is implemented.`)
+  if (cr.status === 'approved' && cr.approvalExpiresAt && now.getTime() > Date.parse(cr.approvalExpiresAt))
+    return blocked('The approval has expired (not implemented within the policy time); it must be approved again.')
+  const open = openChecks(cr, 'before')
+  if (open.length)
+    return blocked(
+      `Complete the before-implementation checklist first (or mark items not applicable): ${open.join('; ')}.`,
+    )
+  if (cr.items.every((i) => i.implementedAt)) return blocked('Every item is implemented already.')
+  return allow
+}
+
+function closeVerdict(cr: ChangeRuleRecord, actor: ChangeActor): Verdict {
+  if (!can(actor, 'close', cr)) return forbid('Only a safety engineer of this site closes a change request.')
+  if (cr.status !== 'implemented')
+    return blocked(`Only an implemented change request is closed; this one is ${cr.status}.`)
+  if (!cr.approvedAt) return blocked('The emergency change is not approved yet; it cannot be closed.')
+  const open = openChecks(cr, 'closeout')
+  if (open.length) return invalid(`Complete the close-out checklist first: ${open.join('; ')}.`)
+  return allow
+}
+
+/** Every action of the change-request workflow for this actor, now. */
+export function changeRequestRules(cr: ChangeRuleRecord, actor: ChangeActor, now: Date): Verdicts<ChangeAction> {
+  const implement = implementVerdict(cr, actor, now)
+  const remaining = cr.items.filter((i) => !i.implementedAt)
+  return {
+    edit: mayEdit(cr, actor, 'edit'),
+    withdraw: mayEdit(cr, actor, 'withdraw'),
+    submit: !can(actor, 'submit', cr)
+      ? forbid('Only a safety engineer of this site submits change requests.')
+      : cr.status !== 'draft'
+        ? blocked(`Only a draft can be submitted; this request is ${cr.status}.`)
+        : cr.items.length === 0
+          ? invalid('Add at least one item.')
+          : allow,
+    attach: !can(actor, 'update', cr)
+      ? forbid('Only a safety engineer of this site attaches files to this change request.')
+      : (cr.status !== 'draft' && cr.status !== 'submitted') || cr.signatures.some((s) => !s.voided)
+        ? blocked('Attach files before anyone signs the request: what is signed must not change afterwards.')
+        : allow,
+    tick: !can(actor, 'update', cr)
+      ? forbid('Only a safety engineer of this site keeps the checklist.')
+      : ['closed', 'withdrawn', 'rejected'].includes(cr.status)
+        ? blocked(`A ${cr.status} change request cannot be edited.`)
+        : allow,
+    approve: approveVerdict(cr, actor),
+    reject: rejectVerdict(cr, actor),
+    implement,
+    implementAll: !implement.allowed
+      ? implement
+      : remaining.some((i) => i.kind !== 'create')
+        ? blocked(
+            'Only a baseline of new limits is implemented in bulk; implement changes item by item with their read-back.',
+          )
+        : remaining.some((i) => i.stale)
+          ? blocked('A limit changed since the request was written; the request must be revised.')
+          : allow,
+    close: closeVerdict(cr, actor),
+  }
+}
+
+/** Whether one item may be implemented now (the request's answer, then the item's own state). */
+export function implementItemVerdict(
+  cr: ChangeRuleRecord,
+  item: ChangeRuleRecord['items'][number],
+  actor: ChangeActor,
+  now: Date,
+): Verdict {
+  if (item.implementedAt) return blocked('This item is implemented already.')
+  const v = implementVerdict(cr, actor, now)
+  if (!v.allowed) return v
+  if (item.stale)
+    return blocked('The limit or instrument changed since the request was written; the request must be revised.')
+  return allow
+}

@@ -1,0 +1,277 @@
+import type { Express } from 'express'
+import { beforeAll, describe, expect, it } from 'vitest'
+import { createApp } from '../../server/app.ts'
+import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
+import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
+import type { Role } from '../../shared/schemas/users.ts'
+import { ApiAgent, signedIn } from './helpers/agent.ts'
+import { approveChange, buildActiveHeaterTrip, readBackOf, rowCounts, submitChange } from './helpers/factories.ts'
+import { useTestDb } from './helpers/test-db.ts'
+
+// Separation of duties and the order of work of management of change (docs/change-requests.md#the-rule-book).
+const ctx = useTestDb()
+const PW = DEMO_PASSWORD
+const PDF = Buffer.from('%PDF-1.4\n1 0 obj << /Type /Catalog >> endobj\ntrailer << /Root 1 0 R >>\n%%EOF\n', 'latin1')
+const PSSR = { reference: 'PSSR-2026-301', findings: 'none', readyForService: true }
+
+let app: Express
+let eng: ApiAgent
+let approver: ApiAgent
+let approver2: ApiAgent
+let tech: ApiAgent
+let fhr: number
+
+/** A user of the demo plant's refinery with the given roles there, signed in. */
+async function person(email: string, name: string, roles: Role[]) {
+  const admin = await signedIn(app, 'admin')
+  const created = (
+    await admin
+      .post('/api/users', {
+        email,
+        displayName: name,
+        password: 'separate-duties-password',
+        roles: roles.map((role) => ({ siteId: fhr, role })),
+      })
+      .expect(201)
+  ).body
+  const agent = new ApiAgent(app)
+  await agent.signIn(email, 'separate-duties-password')
+  return { agent, id: created.id as number }
+}
+
+beforeAll(async () => {
+  app = createApp(ctx)
+  eng = await signedIn(app, 'engineer')
+  approver = await signedIn(app, 'approver')
+  approver2 = await signedIn(app, 'approver2')
+  tech = await signedIn(app, 'technician')
+  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
+  fhr = sites.find((s) => s.code === 'FHR')!.id
+})
+
+const crew = () => ({ eng, approvers: [approver, approver2], tech })
+
+describe('whoever changes the content, attachments included, is an editor and does not approve', () => {
+  it('an engineer-approver who attached a file to a submitted request is refused the approval (403)', async () => {
+    const dual = await person('attacher@fernhollow.example', 'Rowan Attwell', ['safety_engineer', 'approver'])
+    const { site, limit } = await buildActiveHeaterTrip(crew())
+    const cr = await submitChange(eng, {
+      siteId: site.id,
+      title: 'Raise heater trip after tube survey',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
+    })
+    const att = await dual.agent.agent
+      .post(`/api/change-requests/${cr.id}/attachments`)
+      .set('X-CSRF-Token', dual.agent.csrf)
+      .attach('file', PDF, 'tube-survey.pdf')
+      .expect(201)
+    expect(att.body.fileName).toBe('tube-survey.pdf')
+    const after = (await eng.get(`/api/change-requests/${cr.id}`).expect(200)).body
+    expect(after.editorIds).toContain(dual.id)
+    expect(after.contentHash).not.toBe(cr.contentHash)
+
+    const before = await rowCounts(ctx.db)
+    const res = await dual.agent.post(`/api/change-requests/${cr.id}/approvals`, {
+      password: 'separate-duties-password',
+    })
+    expect(res.status).toBe(403)
+    expect(res.body.error).toMatchObject({ code: 'FORBIDDEN', message: expect.stringContaining('edited') })
+    expect(await rowCounts(ctx.db)).toEqual(before)
+    // an independent approver may
+    await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
+  })
+
+  it('no file is attached once someone signed, nor after approval (409, nothing written)', async () => {
+    const { site, limit } = await buildActiveHeaterTrip(crew())
+    const cr = await approveChange(
+      [approver],
+      await submitChange(eng, {
+        siteId: site.id,
+        title: 'Approved, then a late drawing',
+        items: [{ kind: 'modify', limitId: limit.id, changes: { deadband: 4 } }],
+      }),
+    )
+    expect(cr.status).toBe('approved')
+    const before = await rowCounts(ctx.db)
+    const res = await eng.agent
+      .post(`/api/change-requests/${cr.id}/attachments`)
+      .set('X-CSRF-Token', eng.csrf)
+      .attach('file', PDF, 'late.pdf')
+    expect(res.status).toBe(409)
+    expect(res.body.error.message).toContain('before anyone signs')
+    expect(await rowCounts(ctx.db)).toEqual(before)
+  })
+})
+
+describe('one person does not approve and implement the same change (common practice)', () => {
+  it('an approver who is also a technician approves, then is refused the implementation (403)', async () => {
+    const both = await person('approver-tech@fernhollow.example', 'Kit Doublehand', ['approver', 'technician'])
+    const { site, limit } = await buildActiveHeaterTrip(crew())
+    const cr = await submitChange(eng, {
+      siteId: site.id,
+      title: 'Approved by a technician-approver',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 785 } }],
+    })
+    const approved = (
+      await both.agent
+        .post(`/api/change-requests/${cr.id}/approvals`, { password: 'separate-duties-password' })
+        .expect(200)
+    ).body
+    expect(approved.status).toBe('approved')
+    const before = await rowCounts(ctx.db)
+    const res = await both.agent.post(`/api/change-requests/${cr.id}/implementations`, {
+      itemId: approved.items[0].id,
+      readBack: readBackOf(approved.items[0]),
+      password: 'separate-duties-password',
+    })
+    expect(res.status).toBe(403)
+    expect(res.body.error.message).toContain('approved')
+    expect(await rowCounts(ctx.db)).toEqual(before)
+    // another technician implements it
+    await tech
+      .post(`/api/change-requests/${cr.id}/implementations`, {
+        itemId: approved.items[0].id,
+        readBack: readBackOf(approved.items[0]),
+        password: PW,
+      })
+      .expect(200)
+  })
+
+  it('a shift supervisor who is also an approver implements an emergency change and may not approve it', async () => {
+    const both = await person('supervisor-approver@fernhollow.example', 'Noor Twoshift', [
+      'shift_supervisor',
+      'approver',
+    ])
+    const { site, limit } = await buildActiveHeaterTrip(crew())
+    const cr = await submitChange(eng, {
+      siteId: site.id,
+      type: 'emergency',
+      title: 'Lower trip at once after a hot spot',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 760 } }],
+    })
+    const done = (
+      await both.agent
+        .post(`/api/change-requests/${cr.id}/implementations`, {
+          itemId: cr.items[0].id,
+          readBack: readBackOf(cr.items[0]),
+          password: 'separate-duties-password',
+        })
+        .expect(200)
+    ).body
+    expect(done).toMatchObject({ status: 'implemented', approvedAt: null })
+    const before = await rowCounts(ctx.db)
+    const res = await both.agent.post(`/api/change-requests/${cr.id}/approvals`, {
+      password: 'separate-duties-password',
+    })
+    expect(res.status).toBe(403)
+    expect(res.body.error.message).toContain('implemented')
+    expect(await rowCounts(ctx.db)).toEqual(before)
+    // the waiting list does not offer it to them either
+    const waiting = (await both.agent.get('/api/change-requests?view=waiting').expect(200)).body
+    expect(waiting.items.map((i: { id: number }) => i.id)).not.toContain(cr.id)
+    await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
+  })
+})
+
+describe('order of management of change (OSHA 1910.119(l)(3)-(4) and (i))', () => {
+  it('refuses implementation until the before-implementation group is done or not applicable', async () => {
+    const { site, limit } = await buildActiveHeaterTrip(crew())
+    const created = (
+      await eng
+        .post('/api/change-requests', {
+          siteId: site.id,
+          type: 'permanent',
+          title: 'Alarm-free trip change',
+          items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 775 } }],
+        })
+        .expect(201)
+    ).body
+    expect(created.checklist.map((c: { item: string; group: string }) => [c.item, c.group])).toEqual(
+      IMPACT_CHECKLIST.map((c) => [c.item, c.group]),
+    )
+    await eng.post(`/api/change-requests/${created.id}/submission`).expect(200)
+    const approved = await approveChange([approver], created)
+    const implement = () =>
+      tech.post(`/api/change-requests/${created.id}/implementations`, {
+        itemId: approved.items[0].id,
+        readBack: readBackOf(approved.items[0]),
+        password: PW,
+      })
+    const before = await rowCounts(ctx.db)
+    const refused = await implement()
+    expect(refused.status).toBe(409)
+    expect(refused.body.error.message).toContain('Operating procedures updated')
+    expect(refused.body.error.message).toContain('Pre-start-up safety review signed')
+    expect(await rowCounts(ctx.db)).toEqual(before)
+    expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.setpoint).not.toBe(775)
+
+    // not applicable needs a reason
+    const noReason = await eng.put(`/api/change-requests/${created.id}/checklist/alarm_response`, {
+      done: true,
+      notApplicable: true,
+    })
+    expect(noReason.status).toBe(400)
+    expect(noReason.body.error.details.fields.note[0]).toContain('why')
+    await eng
+      .put(`/api/change-requests/${created.id}/checklist/alarm_response`, {
+        done: true,
+        notApplicable: true,
+        note: 'A trip with no alarm: no alarm response sheet exists',
+      })
+      .expect(200)
+    await eng.put(`/api/change-requests/${created.id}/checklist/operating_procedures`, { done: true }).expect(200)
+    await eng.put(`/api/change-requests/${created.id}/checklist/training`, { done: true }).expect(200)
+    const stillOne = await implement()
+    expect(stillOne.status).toBe(409)
+    expect(stillOne.body.error.message).toContain('Pre-start-up safety review signed')
+    expect(stillOne.body.error.message).not.toContain('Operating procedures')
+    await eng
+      .put(`/api/change-requests/${created.id}/checklist/pssr`, { done: true, note: 'PSSR-2026-301' })
+      .expect(200)
+    const done = (await implement().expect(200)).body
+    expect(done.status).toBe('implemented')
+    const na = done.checklist.find((c: { item: string }) => c.item === 'alarm_response')
+    expect(na).toMatchObject({ notApplicable: true, note: 'A trip with no alarm: no alarm response sheet exists' })
+
+    // the implementation signature covers the before-implementation checklist as it stood
+    const sig = () =>
+      eng.get(`/api/change-requests/${created.id}`).then(
+        (r) =>
+          r.body.signatures.find((s: { meaning: string }) => s.meaning === 'implemented') as {
+            matchesContent: boolean
+          },
+      )
+    expect((await sig()).matchesContent).toBe(true)
+    await eng.put(`/api/change-requests/${created.id}/checklist/alarm_response`, { done: true }).expect(200)
+    expect((await sig()).matchesContent).toBe(false)
+    await eng
+      .put(`/api/change-requests/${created.id}/checklist/alarm_response`, {
+        done: true,
+        notApplicable: true,
+        note: 'A trip with no alarm: no alarm response sheet exists',
+      })
+      .expect(200)
+    expect((await sig()).matchesContent).toBe(true)
+
+    // closure needs the close-out group only
+    const early = await eng.post(`/api/change-requests/${created.id}/closure`, { password: PW, pssr: PSSR })
+    expect(early.status).toBe(400)
+    expect(early.body.error.details.fields.checklist).toHaveLength(
+      IMPACT_CHECKLIST.filter((c) => c.group === 'closeout').length,
+    )
+    await eng
+      .put(`/api/change-requests/${created.id}/checklist/safety_requirements`, {
+        done: true,
+        notApplicable: true,
+        note: 'Not a safety instrumented function',
+      })
+      .expect(200)
+    for (const item of ['cause_and_effect', 'drawings'])
+      await eng.put(`/api/change-requests/${created.id}/checklist/${item}`, { done: true }).expect(200)
+    const closed = (
+      await eng.post(`/api/change-requests/${created.id}/closure`, { password: PW, pssr: PSSR }).expect(200)
+    ).body
+    expect(closed.status).toBe('closed')
+    expect(closed.signatures.every((s: { matchesContent: boolean }) => s.matchesContent)).toBe(true)
+  })
+})

@@ -1,0 +1,253 @@
+import { describe, expect, it } from 'vitest'
+import { createAppAbility, defineRulesFor } from '../../../../shared/abilities/index.ts'
+import {
+  CHANGE_ACTIONS,
+  type ChangeAction,
+  type ChangeRuleRecord,
+  changeRequestRules,
+  implementItemVerdict,
+} from '../../../../shared/domain/rules/change-requests.ts'
+import type { Role } from '../../../../shared/schemas/users.ts'
+import { IMPACT_CHECKLIST } from '../../../../shared/schemas/change-requests.ts'
+
+// The rule book of management of change, state × role, against the table written by hand below
+// (docs/change-requests.md#the-rule-book). Sources of the rules: OSHA 1910.119(l) and (i) for the order of work,
+// IEC 61511-1 independence of the approver (from memory), separation of duties as common practice.
+const NOW = new Date('2026-06-01T10:00:00Z')
+const SITE = 1
+
+const PEOPLE: Record<string, { id: number; roles: Role[] }> = {
+  engineer: { id: 1, roles: ['safety_engineer'] },
+  engineer2: { id: 9, roles: ['safety_engineer'] },
+  approver: { id: 2, roles: ['approver'] },
+  technician: { id: 3, roles: ['technician'] },
+  supervisor: { id: 4, roles: ['shift_supervisor'] },
+  operator: { id: 5, roles: ['operator'] },
+  control: { id: 6, roles: ['control_engineer'] },
+  auditor: { id: 7, roles: ['auditor'] },
+  elsewhere: { id: 8, roles: [] },
+  approverTech: { id: 10, roles: ['approver', 'technician'] },
+}
+const actor = (who: keyof typeof PEOPLE) => {
+  const p = PEOPLE[who]
+  const roles = p.roles.map((role) => ({ siteId: SITE, role }))
+  if (who === 'elsewhere') roles.push({ siteId: 2, role: 'safety_engineer' }, { siteId: 2, role: 'approver' })
+  return { id: p.id, ability: createAppAbility(defineRulesFor({ id: p.id, roles })) }
+}
+
+const checklist = (done: 'none' | 'before' | 'all') =>
+  IMPACT_CHECKLIST.map((c) => ({
+    item: c.item,
+    label: c.label,
+    group: c.group,
+    doneAt: done === 'all' || (done === 'before' && c.group === 'before') ? '2026-05-30T10:00:00Z' : null,
+  }))
+const sig = (userId: number, meaning: string) => ({ userId, meaning, voided: false })
+
+function record(over: Partial<ChangeRuleRecord>): ChangeRuleRecord {
+  return {
+    siteId: SITE,
+    type: 'permanent',
+    status: 'draft',
+    proposerId: 1,
+    editorIds: [],
+    approvedAt: null,
+    approvalExpiresAt: null,
+    items: [{ id: 11, kind: 'modify', implementedAt: null, stale: false }],
+    signatures: [],
+    checklist: checklist('none'),
+    ...over,
+  }
+}
+
+const STATES: Record<string, ChangeRuleRecord> = {
+  draft: record({}),
+  submitted: record({ status: 'submitted', checklist: checklist('before') }),
+  submittedSigned: record({ status: 'submitted', signatures: [sig(12, 'approved')] }),
+  editedByApprover: record({ status: 'submitted', editorIds: [2] }),
+  approvedNotReady: record({
+    status: 'approved',
+    approvedAt: '2026-05-31T10:00:00Z',
+    signatures: [sig(2, 'approved')],
+  }),
+  approvedReady: record({
+    status: 'approved',
+    approvedAt: '2026-05-31T10:00:00Z',
+    approvalExpiresAt: '2026-06-30T10:00:00Z',
+    signatures: [sig(2, 'approved')],
+    checklist: checklist('before'),
+  }),
+  approvedExpired: record({
+    status: 'approved',
+    approvedAt: '2026-04-01T10:00:00Z',
+    approvalExpiresAt: '2026-05-01T10:00:00Z',
+    signatures: [sig(2, 'approved')],
+    checklist: checklist('before'),
+  }),
+  approvedByApproverTech: record({
+    status: 'approved',
+    approvedAt: '2026-05-31T10:00:00Z',
+    signatures: [sig(10, 'approved')],
+    checklist: checklist('before'),
+  }),
+  baselineReady: record({
+    status: 'approved',
+    approvedAt: '2026-05-31T10:00:00Z',
+    signatures: [sig(2, 'approved')],
+    checklist: checklist('before'),
+    items: [
+      { id: 11, kind: 'create', implementedAt: null, stale: false },
+      { id: 12, kind: 'create', implementedAt: null, stale: false },
+    ],
+  }),
+  emergencySubmitted: record({ type: 'emergency', status: 'submitted', checklist: checklist('before') }),
+  emergencyImplementedBySupervisor: record({
+    type: 'emergency',
+    status: 'implemented',
+    checklist: checklist('all'),
+    signatures: [sig(4, 'implemented')],
+    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-31T11:00:00Z', stale: false }],
+  }),
+  emergencyImplementedByApproverTech: record({
+    type: 'emergency',
+    status: 'implemented',
+    checklist: checklist('all'),
+    signatures: [sig(10, 'implemented')],
+    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-31T11:00:00Z', stale: false }],
+  }),
+  implementedOpenCloseout: record({
+    status: 'implemented',
+    approvedAt: '2026-05-31T10:00:00Z',
+    checklist: checklist('before'),
+    signatures: [sig(2, 'approved'), sig(3, 'implemented')],
+    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-31T11:00:00Z', stale: false }],
+  }),
+  implementedReady: record({
+    status: 'implemented',
+    approvedAt: '2026-05-31T10:00:00Z',
+    checklist: checklist('all'),
+    signatures: [sig(2, 'approved'), sig(3, 'implemented')],
+    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-31T11:00:00Z', stale: false }],
+  }),
+  closed: record({ status: 'closed', approvedAt: '2026-05-31T10:00:00Z', checklist: checklist('all') }),
+  withdrawn: record({ status: 'withdrawn' }),
+  rejected: record({ status: 'rejected', signatures: [sig(2, 'rejected')] }),
+}
+
+/** The actions allowed, by state and person; everything not listed is refused. Written by hand. */
+const TABLE: [state: keyof typeof STATES, who: keyof typeof PEOPLE, allowed: ChangeAction[]][] = [
+  ['draft', 'engineer', ['edit', 'withdraw', 'submit', 'attach', 'tick']],
+  ['draft', 'engineer2', ['edit', 'withdraw', 'submit', 'attach', 'tick']],
+  ['draft', 'approver', []],
+  ['draft', 'operator', []],
+  ['draft', 'elsewhere', []],
+  ['submitted', 'engineer', ['edit', 'withdraw', 'attach', 'tick']],
+  ['submitted', 'approver', ['approve', 'reject']],
+  ['submitted', 'approverTech', ['approve', 'reject']],
+  ['submitted', 'technician', []],
+  ['submitted', 'supervisor', []],
+  ['submitted', 'auditor', []],
+  ['submitted', 'elsewhere', []],
+  ['submittedSigned', 'engineer', ['edit', 'withdraw', 'tick']],
+  ['editedByApprover', 'approver', []],
+  ['approvedNotReady', 'technician', []],
+  ['approvedNotReady', 'engineer', ['tick']],
+  ['approvedReady', 'technician', ['implement']],
+  ['approvedReady', 'control', ['implement']],
+  ['approvedReady', 'approver', []],
+  ['approvedReady', 'supervisor', []],
+  ['approvedReady', 'operator', []],
+  ['approvedExpired', 'technician', []],
+  ['approvedByApproverTech', 'approverTech', []],
+  ['approvedByApproverTech', 'technician', ['implement']],
+  ['baselineReady', 'technician', ['implement', 'implementAll']],
+  ['emergencySubmitted', 'supervisor', ['implement']],
+  ['emergencySubmitted', 'technician', []],
+  ['emergencySubmitted', 'control', []],
+  ['emergencySubmitted', 'approver', ['approve', 'reject']],
+  ['emergencySubmitted', 'engineer', ['edit', 'withdraw', 'attach', 'tick']],
+  ['emergencyImplementedBySupervisor', 'approver', ['approve']],
+  ['emergencyImplementedBySupervisor', 'engineer', ['tick']],
+  ['emergencyImplementedByApproverTech', 'approverTech', []],
+  ['emergencyImplementedByApproverTech', 'approver', ['approve']],
+  ['implementedOpenCloseout', 'engineer', ['tick']],
+  ['implementedReady', 'engineer', ['tick', 'close']],
+  ['implementedReady', 'approver', []],
+  ['closed', 'engineer', []],
+  ['closed', 'approver', []],
+  ['withdrawn', 'engineer', []],
+  ['rejected', 'engineer', []],
+]
+
+describe('change-request rule book: state × role', () => {
+  it.each(TABLE)('%s, %s may %j', (state, who, allowed) => {
+    const rules = changeRequestRules(STATES[state], actor(who), NOW)
+    const got = CHANGE_ACTIONS.filter((a) => rules[a].allowed)
+    expect(got.sort()).toEqual([...allowed].sort())
+    for (const a of CHANGE_ACTIONS) {
+      const v = rules[a]
+      if (!v.allowed) expect(v.reason.length, `${a} gives a reason`).toBeGreaterThan(10)
+    }
+  })
+})
+
+describe('change-request rule book: the answers and their HTTP status', () => {
+  const verdict = (state: keyof typeof STATES, who: keyof typeof PEOPLE, action: ChangeAction) =>
+    changeRequestRules(STATES[state], actor(who), NOW)[action]
+
+  it('separation of duties answers 403 with the reason', () => {
+    expect(verdict('submitted', 'engineer', 'approve')).toMatchObject({ status: 403 })
+    const own = changeRequestRules(STATES.submitted, actor('approver'), NOW)
+    expect(own.approve.allowed).toBe(true)
+    const proposed = changeRequestRules({ ...STATES.submitted, proposerId: 2 }, actor('approver'), NOW)
+    expect(proposed.approve).toMatchObject({ status: 403, reason: expect.stringContaining('proposed') })
+    expect(verdict('editedByApprover', 'approver', 'approve')).toMatchObject({
+      status: 403,
+      reason: expect.stringContaining('edited'),
+    })
+    expect(verdict('emergencyImplementedByApproverTech', 'approverTech', 'approve')).toMatchObject({
+      status: 403,
+      reason: expect.stringContaining('implemented'),
+    })
+    expect(verdict('approvedByApproverTech', 'approverTech', 'implement')).toMatchObject({
+      status: 403,
+      reason: expect.stringContaining('approved'),
+    })
+    expect(verdict('emergencySubmitted', 'technician', 'implement')).toMatchObject({
+      status: 403,
+      reason: expect.stringContaining('shift supervisor'),
+    })
+  })
+
+  it('the state and the clock answer 409; the close-out checklist 422', () => {
+    expect(verdict('approvedNotReady', 'technician', 'implement')).toMatchObject({
+      status: 409,
+      reason: expect.stringContaining('Operating procedures updated'),
+    })
+    expect(verdict('approvedExpired', 'technician', 'implement')).toMatchObject({
+      status: 409,
+      reason: expect.stringContaining('expired'),
+    })
+    expect(verdict('submittedSigned', 'engineer', 'attach')).toMatchObject({ status: 409 })
+    expect(verdict('closed', 'engineer', 'attach')).toMatchObject({ status: 409 })
+    expect(verdict('implementedOpenCloseout', 'engineer', 'close')).toMatchObject({
+      status: 422,
+      reason: expect.stringContaining('Drawings'),
+    })
+    expect(verdict('emergencyImplementedBySupervisor', 'engineer', 'close')).toMatchObject({
+      status: 409,
+      reason: expect.stringContaining('not approved'),
+    })
+    expect(verdict('approvedReady', 'technician', 'implementAll')).toMatchObject({ status: 409 })
+  })
+
+  it('one item: implemented already or stale is refused, the others follow the request', () => {
+    const cr = STATES.approvedReady
+    const tech = actor('technician')
+    expect(implementItemVerdict(cr, cr.items[0], tech, NOW)).toEqual({ allowed: true })
+    expect(implementItemVerdict(cr, { ...cr.items[0], stale: true }, tech, NOW)).toMatchObject({ status: 409 })
+    expect(
+      implementItemVerdict(cr, { ...cr.items[0], implementedAt: '2026-05-31T12:00:00Z' }, tech, NOW),
+    ).toMatchObject({ status: 409, reason: expect.stringContaining('already') })
+  })
+})
