@@ -30,6 +30,7 @@ import {
   createAlarmStatesRouter,
   createReplaysRouter,
 } from './features/alarms/alarms.router.ts'
+import { createDemandsRouter } from './features/demands/demands.router.ts'
 import { createMailRouter } from './features/mail/mail.router.ts'
 import { createSessionRouter } from './features/session/session.router.ts'
 import { createAreasRouter, createSitesRouter } from './features/sites/sites.router.ts'
@@ -119,6 +120,7 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/imports', createImportsRouter(deps))
   api.use('/change-requests', createChangeRequestsRouter(deps))
   api.use('/audit-events', createAuditRouter(deps))
+  api.use('/demands', createDemandsRouter(deps))
   api.use('/mail', createMailRouter(deps))
   api.use('/alarm-journals', createAlarmJournalsRouter(deps))
   api.use('/alarm-figures', createAlarmFiguresRouter(deps))

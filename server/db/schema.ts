@@ -119,6 +119,7 @@ export interface InstrumentTable {
   signal: JsonValue<Record<string, unknown>>
   device_kind: string
   device_description: Generated<string>
+  model: Generated<string>
   revision: Generated<number>
   created_at: Timestamp
   updated_at: Timestamp
@@ -179,6 +180,9 @@ export interface LimitFunctionTable {
   test_status: Generated<string>
   test_due_date: ColumnType<string | null, string | null, string | null>
   last_full_pass: ColumnType<string | null, string | null, string | null>
+  assumed_demand_rate_per_year: ColumnType<string | null, string | number | null | undefined, string | number | null>
+  assumed_spurious_rate_per_year: ColumnType<string | null, string | number | null | undefined, string | number | null>
+  commissioned_at: ColumnType<string | null, string | null | undefined, string | null>
 }
 export interface LimitInstrumentTable {
   limit_id: number
@@ -512,6 +516,41 @@ export interface Database {
   alarm_state: AlarmStateTable
   process_data_upload: ProcessDataUploadTable
   process_sample: ProcessSampleTable
+  demand: DemandTable
+}
+
+/** Kinds of event in the demand and trip log. */
+export const DEMAND_KINDS = ['real_demand', 'spurious_trip', 'dangerous_failure', 'failure_on_demand'] as const
+export type DemandKind = (typeof DEMAND_KINDS)[number]
+export type DemandOutcome = 'acted' | 'failed_to_act'
+export type DemandStatus = 'recorded' | 'classified'
+export interface DemandTable {
+  id: Generated<number>
+  site_id: number
+  limit_id: number
+  instrument_id: number | null
+  kind: DemandKind
+  outcome: DemandOutcome | null
+  occurred_at: Timestamp
+  description: string
+  cause: Generated<string>
+  evidence: Generated<string>
+  work_order: Generated<string>
+  whole_function: Generated<boolean>
+  status: ColumnType<DemandStatus, DemandStatus | undefined, DemandStatus>
+  counts: boolean | null
+  dangerous_undetected: boolean | null
+  classification_note: Generated<string>
+  classified_by: number | null
+  classified_at: Timestamp | null
+  credited_as_test: Generated<boolean>
+  credit_note: Generated<string>
+  credited_by: number | null
+  credited_at: Timestamp | null
+  imported: Generated<boolean>
+  recorded_by: number
+  created_at: Timestamp
+  updated_at: Timestamp
 }
 
 export type ProcessRow = Selectable<ProcessTable>

@@ -22,6 +22,8 @@ export type Action =
   | 'activate'
   | 'remove'
   | 'review'
+  | 'classify'
+  | 'credit'
 
 /** Subjects: PascalCase singular. Site-scoped subjects carry `siteId` (a Site carries `id`). */
 export type SubjectName =
@@ -35,6 +37,7 @@ export type SubjectName =
   | 'TripTest'
   | 'Bypass'
   | 'BypassReview'
+  | 'Demand'
   | 'AuditEvent'
   | 'Mail'
   | 'AlarmJournal'
@@ -132,6 +135,12 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
   if (engineer.length) can('create', 'Replay', { siteId: { $in: engineer } })
   const alarmStateActor = sitesWith('operator', 'shift_supervisor', 'safety_engineer', 'technician')
   if (alarmStateActor.length) can(['create', 'update'], 'AlarmState', { siteId: { $in: alarmStateActor } })
+  // demand and trip log: everyone at the site reads it, operators and supervisors (and engineers) record,
+  // safety engineers classify and credit a demand as a proof test
+  if (allSites.length) can('read', 'Demand', { siteId: { $in: allSites } })
+  const demandRecorder = sitesWith('operator', 'shift_supervisor', 'safety_engineer')
+  if (demandRecorder.length) can('record', 'Demand', { siteId: { $in: demandRecorder } })
+  if (engineer.length) can(['classify', 'credit'], 'Demand', { siteId: { $in: engineer } })
   return rules
 }
 

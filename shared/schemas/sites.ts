@@ -55,6 +55,8 @@ export const SitePolicySchema = z.object({
   priorityMatrix: PriorityMatrixSchema.default(DEFAULT_PRIORITY_MATRIX),
   alarms: AlarmPolicySchema.default(DEFAULT_ALARM_POLICY),
   alarmPhilosophy: AlarmPhilosophySchema.default(AlarmPhilosophySchema.parse({})),
+  /** A successful real demand of the whole function may be credited as a proof test (engineer signs). */
+  demandCreditAllowed: z.boolean().default(false),
 })
 export type SitePolicy = z.infer<typeof SitePolicySchema>
 

@@ -1,0 +1,53 @@
+import { Router } from 'express'
+import { z } from 'zod'
+import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
+import { DemandListQuerySchema } from '../../../shared/schemas/demands.ts'
+import { scopeSites } from '../../authorize.ts'
+import type { AppDeps } from '../../deps.ts'
+import * as service from './demands.service.ts'
+
+const RatesQuerySchema = z.object({
+  siteId: repeated(IdSchema),
+  from: z.iso.datetime({ offset: true }).optional(),
+  to: z.iso.datetime({ offset: true }).optional(),
+})
+
+/** `/api/demands`: the demand and trip log; classification and credit as actions; `/rates` observed vs assumed. */
+export function createDemandsRouter(deps: AppDeps) {
+  const router = Router()
+  const id = (v: unknown) => IdSchema.parse(v)
+  router.get('/', async (req, res) => {
+    const q = DemandListQuerySchema.parse(req.query)
+    res.json(
+      await service.listDemands(
+        deps,
+        req.ability,
+        req.user!.id,
+        scopeSites(req.user, q.siteId),
+        service.parseListQuery(q),
+      ),
+    )
+  })
+  router.get('/rates', async (req, res) => {
+    const q = RatesQuerySchema.parse(req.query)
+    const to = q.to ? new Date(q.to) : deps.clock.now()
+    const from = q.from ? new Date(q.from) : new Date(to.getTime() - 365 * 86_400_000)
+    res.json(await service.demandRates(deps, scopeSites(req.user, q.siteId), { from, to }))
+  })
+  router.put('/assumptions/:limitId', async (req, res) => {
+    res.json(await service.setDemandAssumptions(deps, req.ability, req.audit, id(req.params.limitId), req.body))
+  })
+  router.get('/:id', async (req, res) => {
+    res.json(await service.getDemand(deps, req.ability, req.user!.id, id(req.params.id)))
+  })
+  router.post('/', async (req, res) => {
+    res.status(201).json(await service.recordDemand(deps, req.ability, req.audit, req.body))
+  })
+  router.post('/:id/classification', async (req, res) => {
+    res.json(await service.classifyDemand(deps, req.ability, req.audit, id(req.params.id), req.body))
+  })
+  router.post('/:id/credit', async (req, res) => {
+    res.json(await service.creditDemand(deps, req.ability, req.audit, id(req.params.id), req.body))
+  })
+  return router
+}

@@ -1,0 +1,143 @@
+import { z } from 'zod'
+import { IdSchema, ListQuerySchema, repeated } from './common.ts'
+
+/** Kinds of event in the demand and trip log (docs/demands.md). */
+export const DEMAND_KINDS = ['real_demand', 'spurious_trip', 'dangerous_failure', 'failure_on_demand'] as const
+export const DEMAND_KIND_LABELS: Record<(typeof DEMAND_KINDS)[number], string> = {
+  real_demand: 'Real demand',
+  spurious_trip: 'Spurious trip',
+  dangerous_failure: 'Dangerous failure found outside a test',
+  failure_on_demand: 'Device failure on demand',
+}
+
+const text = (max: number) => z.string().trim().max(max)
+
+/** `POST /api/demands`: record an event on a limit. */
+export const CreateDemandInputSchema = z
+  .object({
+    limitId: IdSchema,
+    kind: z.enum(DEMAND_KINDS),
+    outcome: z.enum(['acted', 'failed_to_act']).nullable().optional(),
+    occurredAt: z.iso.datetime({ offset: true }),
+    description: text(2000).min(1, 'Say what happened'),
+    cause: text(1000).default(''),
+    evidence: text(1000).default(''),
+    workOrder: text(60).default(''),
+    wholeFunction: z.boolean().default(false),
+    instrumentId: IdSchema.nullable().optional(),
+  })
+  .superRefine((v, ctx) => {
+    if (v.kind === 'spurious_trip' && !v.cause)
+      ctx.addIssue({ code: 'custom', path: ['cause'], message: 'Give the cause of the spurious trip' })
+  })
+export type CreateDemandInput = z.input<typeof CreateDemandInputSchema>
+
+/** `POST /api/demands/:id/classification`: a safety engineer's review. */
+export const ClassifyDemandInputSchema = z.object({
+  /** the event counts in the observed rates (false: not a genuine demand or trip, e.g. recorded by mistake) */
+  counts: z.boolean(),
+  /** for failures: a dangerous undetected failure (counts in the observed λDU) */
+  dangerousUndetected: z.boolean().default(false),
+  note: text(1000).min(1, 'Give the reason for the classification'),
+})
+export type ClassifyDemandInput = z.input<typeof ClassifyDemandInputSchema>
+
+/** `POST /api/demands/:id/credit`: signed crediting of a successful whole-function demand as a proof test. */
+export const CreditDemandInputSchema = z.object({
+  password: z.string().min(1, 'Enter your password to sign'),
+  coveredWhatTheTestCovers: z.literal(true, { message: 'Confirm that the demand covered what the proof test covers' }),
+  note: text(1000).min(1, 'Say what the demand exercised and how it was checked'),
+})
+export type CreditDemandInput = z.input<typeof CreditDemandInputSchema>
+
+/** `GET /api/demands` query. */
+export const DemandListQuerySchema = ListQuerySchema.extend({
+  siteId: repeated(IdSchema),
+  limitId: repeated(IdSchema),
+  kind: repeated(z.enum(DEMAND_KINDS)),
+  from: z.iso.datetime({ offset: true }).optional(),
+  to: z.iso.datetime({ offset: true }).optional(),
+})
+export type DemandListQuery = z.input<typeof DemandListQuerySchema>
+
+const VerdictSchema = z.union([
+  z.object({ allowed: z.literal(true) }),
+  z.object({
+    allowed: z.literal(false),
+    status: z.union([z.literal(403), z.literal(409), z.literal(422)]),
+    reason: z.string(),
+  }),
+])
+
+export const DemandSchema = z.object({
+  id: z.number(),
+  siteId: z.number(),
+  siteCode: z.string(),
+  limitId: z.number(),
+  limitTag: z.string(),
+  instrumentId: z.number().nullable(),
+  instrumentTag: z.string().nullable(),
+  kind: z.enum(DEMAND_KINDS),
+  outcome: z.enum(['acted', 'failed_to_act']).nullable(),
+  occurredAt: z.string(),
+  description: z.string(),
+  cause: z.string(),
+  evidence: z.string(),
+  workOrder: z.string(),
+  wholeFunction: z.boolean(),
+  status: z.enum(['recorded', 'classified']),
+  counts: z.boolean().nullable(),
+  dangerousUndetected: z.boolean().nullable(),
+  classificationNote: z.string(),
+  classifiedBy: z.string().nullable(),
+  classifiedAt: z.string().nullable(),
+  creditedAsTest: z.boolean(),
+  creditNote: z.string(),
+  creditedBy: z.string().nullable(),
+  creditedAt: z.string().nullable(),
+  imported: z.boolean(),
+  recordedBy: z.string(),
+  createdAt: z.string(),
+  actions: z.object({ classify: VerdictSchema, credit: VerdictSchema }),
+})
+export type DemandDto = z.infer<typeof DemandSchema>
+
+/** Observed vs assumed rates, per limit and per site, over a period. */
+export const DemandRateRowSchema = z.object({
+  limitId: z.number().nullable(),
+  limitTag: z.string().nullable(),
+  siteId: z.number(),
+  siteCode: z.string(),
+  /** years the limit was observed in the period (from commissioning or its entry, whichever is later) */
+  observedYears: z.number(),
+  demands: z.number(),
+  spuriousTrips: z.number(),
+  observedDemandRatePerYear: z.number().nullable(),
+  assumedDemandRatePerYear: z.number().nullable(),
+  observedSpuriousRatePerYear: z.number().nullable(),
+  assumedSpuriousRatePerYear: z.number().nullable(),
+  demandRateAboveAssumed: z.boolean(),
+  spuriousRateAboveAssumed: z.boolean(),
+})
+export type DemandRateRow = z.infer<typeof DemandRateRowSchema>
+export interface DemandRates {
+  period: { from: string; to: string }
+  limits: DemandRateRow[]
+  sites: DemandRateRow[]
+  note: string
+}
+
+/** `PUT /api/demands/assumptions/:limitId`: the rates assumed in the hazard study and the commissioning date. */
+export const DemandAssumptionsInputSchema = z.object({
+  assumedDemandRatePerYear: z.number().min(0).max(1000).nullable(),
+  assumedSpuriousRatePerYear: z.number().min(0).max(1000).nullable(),
+  commissionedAt: z.iso.date().nullable(),
+  reason: text(500).min(1, 'Give the source of the figures (hazard study, validation record)'),
+})
+export type DemandAssumptionsInput = z.input<typeof DemandAssumptionsInputSchema>
+export interface DemandAssumptions {
+  limitId: number
+  assumedDemandRatePerYear: number | null
+  assumedSpuriousRatePerYear: number | null
+  commissionedAt: string | null
+}
