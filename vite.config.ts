@@ -1,6 +1,7 @@
 import { fileURLToPath, URL } from 'node:url'
 import vue from '@vitejs/plugin-vue'
 import vuetify from 'vite-plugin-vuetify'
+import { compression } from 'vite-plugin-compression2'
 import { defineConfig } from 'vitest/config'
 
 const alias = {
@@ -11,7 +12,8 @@ const alias = {
 
 // https://vite.dev/config/ and https://vitest.dev/config/
 export default defineConfig({
-  plugins: [vue(), vuetify({ autoImport: true })],
+  // the built assets also as .br and .gz, served as they are by server/app.ts (no compression per request)
+  plugins: [vue(), vuetify({ autoImport: true }), compression({ algorithms: ['brotliCompress', 'gzip'] })],
   resolve: { alias },
   server: {
     port: 5173,

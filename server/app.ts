@@ -2,7 +2,9 @@ import { randomUUID } from 'node:crypto'
 import { existsSync } from 'node:fs'
 import path from 'node:path'
 import { fileURLToPath } from 'node:url'
+import compression from 'compression'
 import express, { Router } from 'express'
+import expressStaticGzip from 'express-static-gzip'
 import helmet from 'helmet'
 import { sql } from 'kysely'
 import { pinoHttp } from 'pino-http'
@@ -85,6 +87,8 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
       customLogLevel: (_req, res, err) => (err || res.statusCode >= 500 ? 'error' : 'info'),
     }),
   )
+  // responses compressed (brotli or gzip, as the browser accepts); built assets come precompressed (below)
+  app.use(compression({ threshold: 1024 }))
 
   const api = Router()
   api.use(express.json({ limit: '1mb' }))
@@ -130,8 +134,26 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   app.use('/api', api)
 
   if (options.serveClient !== false && existsSync(distDir)) {
-    app.use(express.static(distDir, { index: false, maxAge: '1h' }))
-    app.get(/^\/(?!api\/).*/, (_req, res) => res.sendFile(path.join(distDir, 'index.html')))
+    // hashed file names under /assets never change: cached for a year; index.html is asked for again every time
+    app.use(
+      expressStaticGzip(distDir, {
+        enableBrotli: true,
+        orderPreference: ['br', 'gzip'],
+        index: false,
+        serveStatic: {
+          setHeaders: (res, file) => {
+            if (file.startsWith(path.join(distDir, 'assets') + path.sep))
+              res.setHeader('Cache-Control', 'public, max-age=31536000, immutable')
+            else if (/^index\.html(\.br|\.gz)?$/.test(path.basename(file))) res.setHeader('Cache-Control', 'no-cache')
+            else res.setHeader('Cache-Control', 'public, max-age=3600')
+          },
+        },
+      }),
+    )
+    app.get(/^\/(?!api\/).*/, (_req, res) => {
+      res.setHeader('Cache-Control', 'no-cache')
+      res.sendFile(path.join(distDir, 'index.html'))
+    })
   }
   app.use(errorHandler)
   return app

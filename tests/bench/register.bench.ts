@@ -212,7 +212,7 @@ export async function bulkInsert(ownerUrl: string, limits: number) {
 }
 
 /** Signs in over HTTP like the client does: the CSRF token from GET /api/session, then POST /api/session. */
-async function signIn(baseUrl: string, email: string): Promise<string> {
+export async function signIn(baseUrl: string, email: string): Promise<string> {
   const first = await fetch(`${baseUrl}/api/session`)
   const { csrfToken } = (await first.json()) as { csrfToken: string }
   let cookie = (first.headers.get('set-cookie') ?? '').split(';')[0]
@@ -562,9 +562,10 @@ async function main() {
   }
 }
 
-// run when started as a script; the cluster and bulk-insert helpers can also be imported for ad-hoc analysis
-if (process.argv[1] && path.resolve(process.argv[1]) === fileURLToPath(import.meta.url)) {
-  main().then(
+/** Runs a benchmark's main when its file is started as a script (not when imported): exit 1 only on a failure. */
+export function runAsScript(moduleUrl: string, run: () => Promise<void>) {
+  if (!process.argv[1] || path.resolve(process.argv[1]) !== fileURLToPath(moduleUrl)) return
+  run().then(
     () => process.exit(0),
     (err) => {
       console.error(err instanceof Error ? (err.stack ?? err.message) : err)
@@ -572,3 +573,6 @@ if (process.argv[1] && path.resolve(process.argv[1]) === fileURLToPath(import.me
     },
   )
 }
+
+// the cluster and bulk-insert helpers can also be imported for ad-hoc analysis
+runAsScript(import.meta.url, main)
