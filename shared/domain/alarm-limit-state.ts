@@ -32,15 +32,6 @@ export interface LimitEvent {
   t: number
 }
 
-/** Condition test for one value: is it beyond the setpoint (activation side)? */
-function beyond(s: LimitSettings, v: number): boolean {
-  return s.direction === 'high' ? v >= s.setpoint : v <= s.setpoint
-}
-/** Is the value back inside by the deadband (return side)? */
-function inside(s: LimitSettings, v: number): boolean {
-  return s.direction === 'high' ? v < s.setpoint - s.deadband : v > s.setpoint + s.deadband
-}
-
 /**
  * The state of one limit, fed sample by sample. `step` returns the events the sample caused (at most two: a delay
  * that expired before it, then the sample's own). A latching limit never returns by itself: `resetAllowed` tells
@@ -54,6 +45,13 @@ export class LimitStateMachine {
   private pendingOff = Number.NaN
   /** Latching only: the moment a reset first became allowed in the present activation, or NaN. */
   resetAllowedSince = Number.NaN
+  // the settings as plain numbers (a low limit is a high limit of −value): beyond when d·v ≥ d·SP, inside when
+  // d·v < d·SP − DB
+  private readonly dir: number
+  private readonly sp: number
+  private readonly back: number
+  private readonly onDelay: number
+  private readonly offDelay: number
 
   /**
    * `autoReset`: a latched limit is reset at the first moment a reset is allowed (the replay's assumption: the
@@ -65,29 +63,34 @@ export class LimitStateMachine {
   ) {
     if (!(settings.deadband >= 0) || !(settings.onDelaySec >= 0) || !(settings.offDelaySec >= 0))
       throw new RangeError('Deadband and delays must be zero or more')
+    this.dir = settings.direction === 'high' ? 1 : -1
+    this.sp = this.dir * settings.setpoint
+    this.back = this.sp - settings.deadband
+    this.onDelay = settings.onDelaySec
+    this.offDelay = settings.offDelaySec
   }
 
   /** Advances to time t with value v. */
   step(t: number, v: number, out: LimitEvent[] = []): LimitEvent[] {
-    const s = this.settings
+    const x = this.dir * v
     // 1. delays that expired while the previous value was held
-    if (!this.active && this.pendingOn === this.pendingOn && t - this.pendingOn > s.onDelaySec) {
-      this.activate(this.pendingOn + s.onDelaySec, out)
-    } else if (this.active && this.pendingOff === this.pendingOff && t - this.pendingOff > s.offDelaySec) {
-      this.returnOrAllowReset(this.pendingOff + s.offDelaySec, out)
+    if (!this.active && this.pendingOn === this.pendingOn && t - this.pendingOn > this.onDelay) {
+      this.activate(this.pendingOn + this.onDelay, out)
+    } else if (this.active && this.pendingOff === this.pendingOff && t - this.pendingOff > this.offDelay) {
+      this.returnOrAllowReset(this.pendingOff + this.offDelay, out)
     }
     // 2. the new value
     if (!this.active) {
-      if (beyond(s, v)) {
+      if (x >= this.sp) {
         if (this.pendingOn !== this.pendingOn) this.pendingOn = t
-        if (t - this.pendingOn >= s.onDelaySec) this.activate(this.pendingOn + s.onDelaySec, out)
+        if (t - this.pendingOn >= this.onDelay) this.activate(this.pendingOn + this.onDelay, out)
       } else this.pendingOn = Number.NaN
     } else {
-      if (inside(s, v)) {
+      if (x < this.back) {
         if (this.pendingOff !== this.pendingOff && this.resetAllowedSince !== this.resetAllowedSince)
           this.pendingOff = t
-        if (this.pendingOff === this.pendingOff && t - this.pendingOff >= s.offDelaySec)
-          this.returnOrAllowReset(this.pendingOff + s.offDelaySec, out)
+        if (this.pendingOff === this.pendingOff && t - this.pendingOff >= this.offDelay)
+          this.returnOrAllowReset(this.pendingOff + this.offDelay, out)
       } else {
         this.pendingOff = Number.NaN
         // a latched limit whose value leaves the inside again must wait for it to come back before a reset
@@ -194,8 +197,8 @@ export function replayLimit(
     const value = v[i]
     if (value !== value) continue
     samples++
-    out.length = 0
     m.step(t[i], value, out)
+    if (!out.length) continue
     for (let j = 0; j < out.length; j++) {
       const e = out[j]
       if (e.kind === 'active') {
@@ -209,6 +212,7 @@ export function replayLimit(
         since = Number.NaN
       }
     }
+    out.length = 0
   }
   const end = n ? t[n - 1] : 0
   if (m.active && since === since) inAlarm += end - since

@@ -45,9 +45,15 @@ function toDto(r: NonNullable<repo.AlarmStateRow>, user: CurrentUser, now: Date)
   }
 }
 
-/** A safety-related alarm: its limit is a trip, has a SIL, or is of the highest priority. */
-function safetyRelated(limit: { limit_class: string; sil: number | null; priority: string | null } | undefined) {
-  return !!limit && (limit.limit_class === 'trip' || limit.sil !== null || limit.priority === 'critical')
+/** A safety-related alarm: marked so in its rationalization, or its limit is a trip, has a SIL or is critical. */
+function safetyRelated(
+  limit:
+    { limit_class: string; sil: number | null; priority: string | null; safety_related_alarm: boolean } | undefined,
+) {
+  return (
+    !!limit &&
+    (limit.safety_related_alarm || limit.limit_class === 'trip' || limit.sil !== null || limit.priority === 'critical')
+  )
 }
 
 export async function startAlarmState(

@@ -402,7 +402,7 @@ export async function listStates(
 export async function limitForTag(q: Q, siteId: number, tag: string) {
   return q
     .selectFrom('limit_function')
-    .select(['id', 'tag', 'priority', 'limit_class', 'sil'])
+    .select(['id', 'tag', 'priority', 'limit_class', 'sil', 'safety_related_alarm'])
     .where('site_id', '=', siteId)
     .where(sql<string>`lower(tag)`, '=', tag.toLowerCase())
     .orderBy('id')

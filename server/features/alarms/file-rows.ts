@@ -1,6 +1,6 @@
 import { createReadStream } from 'node:fs'
 import { open } from 'node:fs/promises'
-import { parse } from 'csv-parse'
+import Papa from 'papaparse'
 import ExcelJS from 'exceljs'
 import {
   badFile,
@@ -52,25 +52,69 @@ export async function sniffFile(path: string): Promise<{ kind: FileKind; delimit
 
 const XLSX_MAX_UNPACKED_BYTES = 4 * 1024 * 1024 * 1024
 
+/**
+ * CSV rows through papaparse's streaming parser (as the register import reads CSV), one parsed chunk at a time: the
+ * parser is paused until the consumer has taken the chunk, so memory holds about one chunk.
+ */
+async function* readCsvRows(path: string, delimiter: string): AsyncGenerator<string[]> {
+  const queue: string[][][] = []
+  let finished = false
+  let failure: Error | null = null
+  let parser: Papa.Parser | null = null
+  let wake: (() => void) | null = null
+  const signal = () => {
+    wake?.()
+    wake = null
+  }
+  Papa.parse<string[]>(createReadStream(path, { highWaterMark: 1024 * 1024 }), {
+    delimiter,
+    skipEmptyLines: 'greedy',
+    chunk: (r, p) => {
+      parser = p
+      const quote = r.errors.find((e) => e.type === 'Quotes')
+      if (quote && !failure)
+        failure = badFile(
+          `The CSV cannot be read: ${quote.message}. A text cell holding the delimiter needs double quotes`,
+        )
+      queue.push(r.data)
+      p.pause()
+      signal()
+    },
+    complete: () => {
+      finished = true
+      signal()
+    },
+    error: (err: Error) => {
+      failure = badFile(`The CSV cannot be read: ${err.message}`)
+      signal()
+    },
+  })
+  let first = true
+  for (;;) {
+    if (failure) throw failure
+    const rows = queue.shift()
+    if (rows) {
+      for (const row of rows) {
+        if (first) {
+          if (row[0]) row[0] = row[0].replace(/^\uFEFF/, '')
+          first = false
+        }
+        for (let i = 0; i < row.length; i++) row[i] = row[i].trim()
+        yield row
+      }
+      if (failure) throw failure
+      ;(parser as Papa.Parser | null)?.resume()
+      continue
+    }
+    if (finished) return
+    await new Promise<void>((resolve) => (wake = resolve))
+  }
+}
+
 /** Rows of the file (header first) as arrays of trimmed strings; a CSV quoting error stops with a clear 400. */
 export async function* readRows(path: string, kind: FileKind, delimiter = ','): AsyncGenerator<string[]> {
   if (kind === 'csv') {
-    const parser = createReadStream(path, { highWaterMark: 256 * 1024 }).pipe(
-      parse({
-        delimiter,
-        bom: true,
-        relax_column_count: true,
-        skip_empty_lines: true,
-        trim: true,
-        max_record_size: 1024 * 1024,
-      }),
-    )
-    try {
-      for await (const record of parser) yield record as string[]
-    } catch (err) {
-      const message = err instanceof Error ? err.message : String(err)
-      throw badFile(`The CSV cannot be read: ${message}. A text cell holding the delimiter needs double quotes`)
-    }
+    yield* readCsvRows(path, delimiter)
     return
   }
   const fh = await open(path, 'r')
