@@ -10,7 +10,12 @@ const migrationFolder = path.resolve(path.dirname(fileURLToPath(import.meta.url)
 export async function migrateToLatest(connectionString: string): Promise<string[]> {
   const db = new Kysely<unknown>({ dialect: new PostgresDialect({ pool: new pg.Pool({ connectionString, max: 1 }) }) })
   try {
-    const migrator = new Migrator({ db, provider: new FileMigrationProvider({ fs, path, migrationFolder }) })
+    // Migrations of parallel branches can sort before one already run: run them in name order all the same.
+    const migrator = new Migrator({
+      db,
+      provider: new FileMigrationProvider({ fs, path, migrationFolder }),
+      allowUnorderedMigrations: true,
+    })
     const { error, results } = await migrator.migrateToLatest()
     const failed = results?.find((r) => r.status === 'Error')
     if (error) {
