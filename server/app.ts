@@ -19,7 +19,11 @@ import {
 } from './features/register/register.router.ts'
 import { createImportsRouter } from './features/register/imports.router.ts'
 import { createChangeRequestsRouter } from './features/change-requests/change-requests.router.ts'
-import { createDegradationRouter, createTripTestsRouter } from './features/trip-tests/trip-tests.router.ts'
+import {
+  createDegradationRouter,
+  createTestDeferralsRouter,
+  createTripTestsRouter,
+} from './features/trip-tests/trip-tests.router.ts'
 import {
   createBypassesRouter,
   createBypassReviewRouter,
@@ -118,6 +122,7 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/limits', createLimitsRouter(deps))
   api.use('/alarm-response-sheets', createResponseSheetsRouter(deps))
   api.use('/trip-tests', createTripTestsRouter(deps))
+  api.use('/test-deferrals', createTestDeferralsRouter(deps))
   api.use('/bypasses', createBypassesRouter(deps))
   api.use('/bypass-review', createBypassReviewRouter(deps))
   api.use('/protection-state', createProtectionStateRouter(deps))

@@ -1,6 +1,19 @@
 import type { ColumnType, Generated, Insertable, Selectable } from 'kysely'
 import type { ALARM_TYPES, IMPACT_CATEGORIES, LIMIT_CLASSES } from '../../shared/schemas/register.ts'
 import type { ChangeItemKind, ChangeStatus, ChangeType, ChecklistItem } from '../../shared/schemas/change-requests.ts'
+import type {
+  AsFoundResultDto,
+  AsLeftResultDto,
+  ChannelResultDto,
+  ComponentScope,
+  DeferralRisk,
+  TEST_METHODS,
+  TestScope,
+  TripTestPrecautions,
+} from '../../shared/schemas/trip-tests.ts'
+import type { TestDueStatus } from '../../shared/domain/due-dates.ts'
+import type { DeferralStatus } from '../../shared/domain/rules/trip-tests.ts'
+import type { Role } from '../../shared/schemas/users.ts'
 
 type Timestamp = ColumnType<Date, Date | string, Date | string>
 type Json = ColumnType<unknown, string | null, string | null>
@@ -177,7 +190,7 @@ export interface LimitFunctionTable {
   created_by: number | null
   created_at: Timestamp
   updated_at: Timestamp
-  test_status: Generated<string>
+  test_status: Generated<TestDueStatus>
   test_due_date: ColumnType<string | null, string | null, string | null>
   last_full_pass: ColumnType<string | null, string | null, string | null>
   assumed_demand_rate_per_year: ColumnType<string | null, string | number | null | undefined, string | number | null>
@@ -306,10 +319,11 @@ export interface TripTestTable {
   limit_id: number
   site_id: number
   limit_revision: number
-  kind: string
-  method: string
-  injection_point: string | null
-  source_mode: string | null
+  kind: 'full' | 'partial'
+  scope: Generated<TestScope>
+  method: (typeof TEST_METHODS)[number]
+  injection_point: 'sensor' | 'transmitter_output' | null
+  source_mode: 'mv_source' | 'tc_simulate' | null
   cold_junction_c: NullableNumeric
   procedure_ref: string
   device_serial: string
@@ -320,13 +334,23 @@ export interface TripTestTable {
   performed_at: Timestamp
   setpoint: Numeric
   tolerance: Numeric
-  tolerance_unit: string
+  tolerance_unit: 'eu' | 'percent_span'
   tolerance_eu: Numeric
   as_found: NullableNumeric
   as_found_signal: ColumnType<{ value: number; unit: string } | null, string | null, string | null>
-  as_found_result: string
+  as_found_result: AsFoundResultDto
   as_left: NullableNumeric
-  as_left_result: string
+  as_left_result: AsLeftResultDto
+  channels: ColumnType<ChannelResultDto[], string | undefined, string>
+  voting: ColumnType<
+    { architecture: string; required: number; tripped: number; acted: boolean } | null,
+    string | null | undefined,
+    string | null
+  >
+  closing_time_sec: NullableNumeric
+  leak_test_passed: boolean | null
+  stroke_percent: NullableNumeric
+  precautions: ColumnType<TripTestPrecautions | Record<string, never>, string | undefined, string>
   reset_value: NullableNumeric
   latch_held: boolean | null
   reset_refused_while_active: boolean | null
@@ -337,7 +361,7 @@ export interface TripTestTable {
   passed: boolean
   fail_reasons: JsonValue<string[]>
   notes: string
-  status: Generated<string>
+  status: Generated<'recorded' | 'signed' | 'completed'>
   content_hash: string
   recorded_by: number
   created_at: Timestamp
@@ -355,6 +379,34 @@ export interface LimitDegradationTable {
   measures_signed_at: Timestamp | null
   cleared_at: Timestamp | null
   cleared_by_test_id: number | null
+  mttr_hours: NullableNumeric
+  deadline_beyond_mttr: Generated<boolean>
+  deadline_approved_by: number | null
+  deadline_approved_at: Timestamp | null
+  escalated_at: Timestamp | null
+}
+export interface TestDeferralTable {
+  id: Generated<number>
+  limit_id: number
+  site_id: number
+  status: Generated<DeferralStatus>
+  original_due_date: ColumnType<string, string, string>
+  new_due_date: ColumnType<string, string, string>
+  reason: string
+  compensating_measures: JsonValue<string[]>
+  risk: JsonValue<DeferralRisk>
+  required_role: Role
+  content_hash: string
+  requested_by: number
+  requested_at: Timestamp
+  decided_by: number | null
+  decided_at: Timestamp | null
+  decision_comment: Generated<string>
+}
+export interface ComponentTestIntervalTable {
+  limit_id: number
+  scope: ComponentScope
+  interval_months: number
 }
 export interface DigestLogTable {
   site_id: number
@@ -509,6 +561,8 @@ export interface Database {
   trip_test: TripTestTable
   limit_degradation: LimitDegradationTable
   digest_log: DigestLogTable
+  test_deferral: TestDeferralTable
+  component_test_interval: ComponentTestIntervalTable
   bypass: BypassTable
   handover_ack: HandoverAckTable
   alarm_journal_upload: AlarmJournalUploadTable

@@ -1,15 +1,40 @@
-// Full-test due dates of a limit (DOMAIN.md §5). Rules, edges and sources: docs/domain/due-dates.md.
+// Full-test due dates of a limit. Rules, edges and sources: docs/domain/due-dates.md.
 import { TZDate } from '@date-fns/tz'
 import { addDays, addMonths, differenceInCalendarDays, format } from 'date-fns'
 
-/** Hours in one month for reliability figures (DOMAIN.md §5: 1 month = 730 h, i.e. 8 760 h / 12). */
+/** Hours in one month for reliability figures (1 month = 730 h, i.e. 8 760 h / 12; docs/domain/due-dates.md). */
 export const HOURS_PER_MONTH = 730
 
-/** A limit is 'due_soon' when its due date is at most this many days away (site convention). */
+/** Longest "due soon" look-ahead, days (site convention); shorter for short intervals, see dueSoonDays. */
 export const DUE_SOON_DAYS = 30
 
-/** Longest default grace period, days (DOMAIN.md §6). */
+/** Longest default grace period, days (docs/domain/due-dates.md). */
 export const MAX_DEFAULT_GRACE_DAYS = 30
+
+/** Days in an interval of whole months at 730 h per month (a month is 30.4 days). */
+function intervalDays(months: number): number {
+  return (months * HOURS_PER_MONTH) / 24
+}
+
+/**
+ * The "due soon" look-ahead of an interval: a quarter of the interval, at most DUE_SOON_DAYS (30). A monthly test is
+ * due soon in its last 7 days, not from the day it passed; a quarterly one in its last 22 days; from four months up
+ * the full 30 days. Common practice, no standard behind the numbers (docs/domain/due-dates.md).
+ */
+export function dueSoonDays(intervalMonths: number): number {
+  if (!(intervalMonths > 0)) throw new RangeError('test interval must be a positive number of months')
+  return Math.min(DUE_SOON_DAYS, Math.floor(intervalDays(intervalMonths) / 4))
+}
+
+/**
+ * The longest grace period any policy may give an interval: half of it, rounded down to whole days. A grace longer
+ * than half the interval would let a test slip by most of a cycle without anyone deciding so (common practice;
+ * docs/domain/due-dates.md).
+ */
+export function maxGraceDays(intervalMonths: number): number {
+  if (!(intervalMonths > 0)) throw new RangeError('test interval must be a positive number of months')
+  return Math.floor(intervalDays(intervalMonths) / 2)
+}
 
 /** A recorded trip test, as far as due dates are concerned. */
 export interface DueDateTest {
@@ -28,6 +53,11 @@ export interface DueDateInput {
   /** The interval is set by a code (e.g. an annual furnace-interlock test): default grace 0. */
   codeSetInterval?: boolean
   tests: DueDateTest[]
+  /**
+   * An approved test deferral: it moves the due date from originalDueDate to newDueDate while it is valid, that is
+   * while the due date computed from the tests is still originalDueDate. No grace runs past a deferred date.
+   */
+  deferral?: { originalDueDate: string; newDueDate: string } | null
   /** IANA zone of the site, e.g. 'Europe/Berlin'. */
   timeZone: string
   now: Date
@@ -60,6 +90,8 @@ export interface DueDateResult {
   /** Calendar days from today to the due date; negative once past; null without a passing full test. */
   daysUntilDue: number | null
   lateTests: LateTest[]
+  /** The due date without the deferral, when an approved deferral moved it; else null. */
+  deferredFrom: string | null
 }
 
 /** Proof-test interval in hours for reliability figures (1 month = 730 h). */
@@ -68,7 +100,7 @@ export function intervalHours(months: number): number {
 }
 
 /**
- * Site-policy default grace period (DOMAIN.md §6): 0 for a code-set interval, else 10 % of the interval,
+ * Site-policy default grace period (docs/domain/due-dates.md): 0 for a code-set interval, else 10 % of the interval,
  * at most 30 days; the interval is taken at 730 h per month and the result rounded down to whole days.
  */
 export function defaultGraceDays(intervalMonths: number, codeSet: boolean): number {
@@ -94,6 +126,12 @@ function calendarDay(instant: Date, timeZone: string): TZDate {
 
 const iso = (day: TZDate): string => format(day, 'yyyy-MM-dd')
 
+function parseDay(date: string): TZDate {
+  const m = /^(\d{4})-(\d{2})-(\d{2})$/.exec(date)
+  if (!m) throw new RangeError(`not a calendar date: ${date}`)
+  return new TZDate(Number(m[1]), Number(m[2]) - 1, Number(m[3]), 'UTC')
+}
+
 /** Computes the full-test due date, grace end, status and late tests of a limit (pure; `now` is an input). */
 export function computeDueDates(input: DueDateInput): DueDateResult {
   const { testIntervalMonths: months, timeZone } = input
@@ -103,7 +141,10 @@ export function computeDueDates(input: DueDateInput): DueDateResult {
     throw new RangeError('grace days must be a whole number ≥ 0')
   }
   checkTimeZone(timeZone)
-  const graceDays = input.testGraceDays ?? defaultGraceDays(months, input.codeSetInterval ?? false)
+  const graceDays = Math.min(
+    maxGraceDays(months),
+    input.testGraceDays ?? defaultGraceDays(months, input.codeSetInterval ?? false),
+  )
   const today = calendarDay(input.now, timeZone)
 
   // full tests up to now, oldest first; tests recorded with a future time are ignored
@@ -145,11 +186,15 @@ export function computeDueDates(input: DueDateInput): DueDateResult {
       status: 'never_tested',
       daysUntilDue: null,
       lateTests,
+      deferredFrom: null,
     }
   }
 
-  const due = addMonths(lastPass, months)
-  const graceEnd = addDays(due, graceDays)
+  const computedDue = addMonths(lastPass, months)
+  const deferral = input.deferral ?? null
+  const deferred = deferral !== null && deferral.originalDueDate === iso(computedDue)
+  const due = deferred ? parseDay(deferral.newDueDate) : computedDue
+  const graceEnd = deferred ? due : addDays(due, graceDays)
   const daysUntilDue = differenceInCalendarDays(due, today)
   const daysUntilGraceEnd = differenceInCalendarDays(graceEnd, today)
   const status: TestDueStatus =
@@ -157,7 +202,7 @@ export function computeDueDates(input: DueDateInput): DueDateResult {
       ? 'overdue'
       : daysUntilDue < 0
         ? 'in_grace'
-        : daysUntilDue <= DUE_SOON_DAYS
+        : daysUntilDue <= dueSoonDays(months)
           ? 'due_soon'
           : 'ok'
 
@@ -170,5 +215,6 @@ export function computeDueDates(input: DueDateInput): DueDateResult {
     status,
     daysUntilDue,
     lateTests,
+    deferredFrom: deferred ? iso(computedDue) : null,
   }
 }

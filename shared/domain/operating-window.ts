@@ -377,3 +377,18 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
 
   return { errors, warnings }
 }
+
+/**
+ * The return (reset) point of a limit in exact decimals: a high limit returns below setpoint − deadband, a low one
+ * above setpoint + deadband; a deadband in % of span is taken of rangeHigh − rangeLow. Answered as a decimal string
+ * so 80.1 − 0.4 reads 79.7, as PostgreSQL's numeric would.
+ */
+export function returnPoint(
+  limit: { direction: 'high' | 'low'; setpoint: number; deadband: number; deadbandUnit: DeadbandUnit },
+  range: { rangeLow: number; rangeHigh: number },
+): string {
+  const sp = dec(limit.setpoint)
+  const span = sub(dec(range.rangeHigh), dec(range.rangeLow))
+  const db = limit.deadbandUnit === 'eu' ? dec(limit.deadband) : percentOf(span, dec(limit.deadband))
+  return fmt(limit.direction === 'high' ? sub(sp, db) : add(sp, db))
+}

@@ -1,4 +1,4 @@
-// Judging a trip test (DOMAIN.md §3 TripTest, §4 degraded state). Rules and their sources: docs/trip-tests.md.
+// Judging a trip test and its channels. Rules and their sources: docs/trip-tests.md#judging-a-test.
 
 /** As-found result of a trip test. */
 export type AsFoundResult = 'in_tolerance' | 'out_safe' | 'out_dangerous' | 'no_trip'
@@ -90,4 +90,74 @@ export function toleranceInEu(
   rangeHigh: number,
 ): number {
   return unit === 'eu' ? tolerance : (tolerance / 100) * (rangeHigh - rangeLow)
+}
+
+/** MooN voting: the function acts when at least M of its N channels trip. */
+export const VOTING: Readonly<Record<'1oo1' | '1oo2' | '2oo2' | '2oo3' | '1oo3', { m: number; n: number }>> = {
+  '1oo1': { m: 1, n: 1 },
+  '1oo2': { m: 1, n: 2 },
+  '2oo2': { m: 2, n: 2 },
+  '2oo3': { m: 2, n: 3 },
+  '1oo3': { m: 1, n: 3 },
+}
+
+export interface ChannelJudgement {
+  asFoundResult: AsFoundResult
+  asLeftResult: AsLeftResult
+  /** the channel tripped neither late nor not at all, and is left in tolerance */
+  passed: boolean
+}
+
+export interface VotedJudgement {
+  channels: ChannelJudgement[]
+  /** channels that tripped on the safe side of setpoint + tolerance (in tolerance or early) */
+  tripped: number
+  required: number
+  /** the vote was reached: at least M channels tripped in time */
+  acted: boolean
+  /**
+   * The function's as-found: the value at which the M-th channel tripped in the direction of the excursion (the
+   * M-th lowest for a high trip, the M-th highest for a low one), taken over the channels that tripped; null when
+   * fewer than M tripped.
+   */
+  votedAsFound: number | null
+  /** the same over the as-left values (as-found where not adjusted); null when fewer than M are left tripping */
+  votedAsLeft: number | null
+}
+
+/**
+ * Judges a voted function tested channel by channel: each channel against setpoint ± tolerance, then the vote.
+ * A channel that trips late (out on the dangerous side) or not at all counts as a dangerous failure found, even
+ * when the other channels still reach the vote (the redundancy the SIL relies on is lost). Common practice for
+ * voted sensors (IEC 61511-1 §16.3 asks each part of the function to be proven; from memory).
+ */
+export function judgeVotedChannels(input: {
+  direction: 'high' | 'low'
+  setpoint: number
+  tolerance: number
+  architecture: keyof typeof VOTING
+  channels: { asFound: number | null; asLeft: number | null }[]
+}): VotedJudgement {
+  const { m, n } = VOTING[input.architecture]
+  if (input.channels.length !== n)
+    throw new RangeError(`${input.architecture} has ${n} channels; ${input.channels.length} were given`)
+  const channels = input.channels.map((c): ChannelJudgement => {
+    const asFoundResult = judgeAsFound(input.direction, input.setpoint, input.tolerance, c.asFound)
+    const left = c.asLeft ?? c.asFound
+    const asLeftResult: AsLeftResult = left === null ? 'out' : judgeAsLeft(input.setpoint, input.tolerance, left)
+    const passed = asFoundResult !== 'no_trip' && asFoundResult !== 'out_dangerous' && asLeftResult === 'in_tolerance'
+    return { asFoundResult, asLeftResult, passed }
+  })
+  const order = (values: number[]) => values.sort((a, b) => (input.direction === 'high' ? a - b : b - a))
+  const found = order(input.channels.map((c) => c.asFound).filter((v): v is number => v !== null))
+  const left = order(input.channels.map((c) => c.asLeft ?? c.asFound).filter((v): v is number => v !== null))
+  const tripped = channels.filter((c) => c.asFoundResult === 'in_tolerance' || c.asFoundResult === 'out_safe').length
+  return {
+    channels,
+    tripped,
+    required: m,
+    acted: tripped >= m,
+    votedAsFound: found.length >= m ? found[m - 1] : null,
+    votedAsLeft: left.length >= m ? left[m - 1] : null,
+  }
 }

@@ -1,6 +1,7 @@
 import { z } from 'zod'
 import { checkPriorityMatrix, DEFAULT_ALARM_PHILOSOPHY, DEFAULT_PRIORITY_MATRIX } from '../domain/priority.ts'
 import { AlarmPolicySchema, DEFAULT_ALARM_POLICY } from './alarms.ts'
+import { RoleSchema } from './users.ts'
 
 const cell = z.enum(['low', 'medium', 'high', 'critical', 'alert'])
 /** The alarm priority matrix: severity rows × time-to-respond columns (docs/domain/alarm-classification.md). */
@@ -50,6 +51,26 @@ export const SitePolicySchema = z.object({
   approvalExpiryDays: z.number().int().min(1).max(365).default(30),
   testGraceFraction: z.number().min(0).max(0.5).default(0.1),
   testGraceMaxDays: z.number().int().min(0).max(90).default(30),
+  /** Share of the interval given as grace to SIL-rated functions: 0, a late one needs an approved deferral. */
+  testGraceFractionSil: z.number().min(0).max(0.5).default(0),
+  /** Who approves a test deferral, by the function's SIL ('none': not SIL-rated). */
+  deferralApproverRole: z
+    .object({
+      none: RoleSchema.default('approver'),
+      sil1: RoleSchema.default('approver'),
+      sil2: RoleSchema.default('plant_manager'),
+      sil3: RoleSchema.default('plant_manager'),
+      sil4: RoleSchema.default('plant_manager'),
+    })
+    .default({
+      none: 'approver',
+      sil1: 'approver',
+      sil2: 'plant_manager',
+      sil3: 'plant_manager',
+      sil4: 'plant_manager',
+    }),
+  /** Longest deferral as a share of the test interval (at most half of it). */
+  deferralMaxFraction: z.number().min(0).max(0.5).default(0.25),
   witnessRequiredFor: z.enum(['sil_only', 'all', 'none']).default('sil_only'),
   defaultTolerancePercentSpan: z.number().positive().max(10).default(0.5),
   priorityMatrix: PriorityMatrixSchema.default(DEFAULT_PRIORITY_MATRIX),

@@ -10,9 +10,9 @@ import { buildHeaterTrip } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
-// A failed test degrades the limit (DOMAIN.md §4): as found out on the dangerous side or no trip, or as left out of
+// A failed test degrades the limit (docs/trip-tests.md#degraded-limits): as found out on the dangerous side or no trip, or as left out of
 // tolerance. Engineers and the shift supervisor hear of it at once; only a passing FULL retest clears it, and only
-// passing full tests move the due date (DOMAIN.md §5).
+// passing full tests move the due date (docs/domain/due-dates.md).
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
@@ -53,7 +53,7 @@ async function activeHeaterTrip() {
   return limit as { id: number; tag: string; siteId: number }
 }
 
-/** Records a full test (tolerance ±6 °C = 0.5 % of the 1200 °C span, DOMAIN.md §6) and, unless told not to, signs it as performer. */
+/** Records a full test (tolerance ±6 °C = 0.5 % of the 1200 °C span, docs/trip-tests.md#judging-a-test) and, unless told not to, signs it as performer. */
 async function tested(
   limitId: number,
   performedAt: string,
@@ -200,7 +200,7 @@ describe('the degraded state', () => {
     expect(retest.passed).toBe(true)
     expect((await limitNow(limit.id)).protectionState).toBe('degraded')
     await a.tech.post(`/api/trip-tests/${retest.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
-    // due date = date of the passing retest + 12 months (DOMAIN.md §5)
+    // due date = date of the passing retest + 12 months (docs/domain/due-dates.md)
     expect(await limitNow(limit.id)).toMatchObject({
       protectionState: 'in_service',
       testStatus: 'ok',

@@ -20,7 +20,7 @@ describe('trip tests: a failed test degrades the limit until a full retest passe
     await activateLimit({ eng, approver, tech }, limit)
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.testStatus).toBe('never_tested')
 
-    // tolerance: default ±0.5 % of the 0–1200 °C span = ±6 °C (DOMAIN.md §6)
+    // tolerance: default ±0.5 % of the 0–1200 °C span = ±6 °C (docs/trip-tests.md#judging-a-test)
     const base = {
       limitId: limit.id,
       kind: 'full',
@@ -98,6 +98,9 @@ describe('trip tests: a failed test degrades the limit until a full retest passe
     expect(cleared.protectionState).toBe('in_service')
     expect(cleared.testStatus).toBe('ok')
     expect(cleared.testDueDate).toBe('2027-03-11')
+    await tech
+      .post(`/api/trip-tests/${retest.id}/signatures`, { meaning: 'returned_to_service', password: PW })
+      .expect(200)
     await sup.post(`/api/trip-tests/${retest.id}/signatures`, { meaning: 'accepted', password: PW }).expect(200)
 
     const cert = await tech.get(`/api/trip-tests/${retest.id}/certificate`).expect(200)

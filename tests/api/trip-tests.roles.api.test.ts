@@ -7,7 +7,7 @@ import { buildHeaterTrip } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
-// Who may record and sign a trip test (DOMAIN.md §2), what a calibrator past due and a bad attachment do, and the
+// Who may record and sign a trip test (docs/trip-tests.md#who-signs), what a calibrator past due and a bad attachment do, and the
 // lock after the performer signs. Every refusal is checked to write nothing.
 
 const ctx = useTestDb()
@@ -48,7 +48,7 @@ async function written() {
   }
 }
 
-/** A passing full test of the type K heater trip (780 °C, tolerance ±6 °C = 0.5 % of 0–1200 °C, DOMAIN.md §6). */
+/** A passing full test of the type K heater trip (780 °C, tolerance ±6 °C = 0.5 % of 0–1200 °C, docs/trip-tests.md#judging-a-test). */
 const body = (over: Record<string, unknown> = {}) => ({
   limitId,
   kind: 'full',
@@ -92,7 +92,7 @@ beforeAll(async () => {
   silLimitId = sil.id
 })
 
-describe('recording: only technicians (DOMAIN.md §2)', () => {
+describe('recording: only technicians (docs/trip-tests.md#who-signs)', () => {
   it('answers 403 to every other role and writes nothing', async () => {
     const before = await written()
     for (const who of ['eng', 'approver', 'sup', 'operator', 'admin', 'manager', 'auditor'] as const) {
@@ -143,7 +143,7 @@ describe('recording: only technicians (DOMAIN.md §2)', () => {
   })
 })
 
-describe('signatures (DOMAIN.md §2: performer = recorder; witness never the performer; acceptance by operations)', () => {
+describe('signatures (docs/trip-tests.md#who-signs: performer = recorder; witness never the performer; return to service; acceptance by operations)', () => {
   it('keeps each meaning to its roles and people, writing nothing on a refusal', async () => {
     const t = (await a.tech.post('/api/trip-tests', body()).expect(201)).body
     const sign = (who: keyof typeof a, meaning: string, password = PW) =>
@@ -174,6 +174,11 @@ describe('signatures (DOMAIN.md §2: performer = recorder; witness never the per
 
     const witnessed = (await sign('tech2', 'witnessed').expect(200)).body
     expect(witnessed.signatures.map((s: { meaning: string }) => s.meaning)).toEqual(['performed', 'witnessed'])
+    // operations accept only after a technician signed that forces, jumpers and bypasses are removed
+    const early = await sign('operator', 'accepted').expect(409)
+    expect(early.body.error.message).toContain('return-to-service')
+    for (const who of ['operator', 'eng', 'sup'] as const) await sign(who, 'returned_to_service').expect(403)
+    await sign('tech', 'returned_to_service').expect(200)
     const accepted = (await sign('operator', 'accepted').expect(200)).body
     expect(accepted.status).toBe('completed')
     expect(accepted.signatures.every((s: { matchesContent: boolean }) => s.matchesContent)).toBe(true)
@@ -185,6 +190,9 @@ describe('signatures (DOMAIN.md §2: performer = recorder; witness never the per
     const t = (await a.tech.post('/api/trip-tests', body({ limitId: silLimitId })).expect(201)).body
     expect(t.witnessRequired).toBe(true)
     await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
+    await a.tech
+      .post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'returned_to_service', password: PW })
+      .expect(200)
     const accepted = (
       await a.sup.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'accepted', password: PW }).expect(200)
     ).body

@@ -10,7 +10,7 @@ import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
-// Due dates on the API (DOMAIN.md §5): calendar months clamped to month end, dates in the site's time zone
+// Due dates on the API (docs/domain/due-dates.md): calendar months clamped to month end, dates in the site's time zone
 // (Fernhollow Refinery: Europe/Berlin), grace, late and overdue; the weekly digest (Monday from 07:00 site time,
 // once per ISO week) and the digest on demand (administrators).
 
@@ -156,14 +156,15 @@ afterAll(async () => {
   await smtp?.close()
 })
 
-describe('due dates (DOMAIN.md §5)', () => {
+describe('due dates (docs/domain/due-dates.md)', () => {
   it("adds calendar months clamped to month end, in the site's time zone", async () => {
     // 10:00 UTC on 31 January is 11:00 in Berlin: + 1 month = 28 February (clamped; test-acceptance.md: 2025-01-31 + 1 month = 2025-02-28)
     await tested(L.a.id, '2026-01-31T10:00:00Z')
+    // a monthly test is due soon only in its last 7 days (a quarter of the interval), not the day it passed
     expect(await limitNow(L.a.id)).toMatchObject({
       lastFullPass: '2026-01-31',
       testDueDate: '2026-02-28',
-      testStatus: 'due_soon',
+      testStatus: 'ok',
     })
     // 23:30 UTC on 31 January is 00:30 on 1 February in Berlin (CET, UTC+1): the test counts on the 1st → due 1 March
     await tested(L.b.id, '2026-01-31T23:30:00Z')
@@ -174,10 +175,10 @@ describe('due dates (DOMAIN.md §5)', () => {
     expect(all.items.find((i) => i.limitId === L.a.id)).toMatchObject({
       dueDate: '2026-02-28',
       lastFullPass: '2026-01-31',
-      testStatus: 'due_soon',
+      testStatus: 'ok',
     })
     expect(ids((await scheduleOf('status=never_tested')).items)).toEqual([L.c.id])
-    expect(all.counts).toMatchObject({ due_soon: 2, never_tested: 1 })
+    expect(all.counts).toMatchObject({ ok: 2, never_tested: 1 })
     // the counts follow the area filter as the list does
     const hydro = await scheduleOf(`areaId=${areas.filter((x) => x.siteId === fhr)[1].id}`)
     expect(ids(hydro.items)).toEqual([L.c.id])
@@ -185,7 +186,7 @@ describe('due dates (DOMAIN.md §5)', () => {
   })
 
   it('is in grace after the due date, overdue after the grace; a failed or partial test moves nothing, a passing full test inside the grace is late', async () => {
-    // 1-month interval: default grace = 10 % of 730 h, rounded down = 3 days (DOMAIN.md §6) → A's grace ends 3 March
+    // 1-month interval: default grace = 10 % of 730 h, rounded down = 3 days (docs/domain/due-dates.md) → A's grace ends 3 March
     await at('2026-03-01T09:00:00Z')
     await runJob('2026-03-01T09:00:00Z')
     expect((await limitNow(L.a.id)).testStatus).toBe('in_grace')
@@ -218,8 +219,8 @@ describe('due dates (DOMAIN.md §5)', () => {
     expect((await limitNow(L.b.id)).testStatus).toBe('overdue')
     const overdue = await scheduleOf('status=overdue')
     expect(ids(overdue.items)).toEqual([L.b.id])
-    // A is due on 3 April, 29 days after 5 March: due soon
-    expect(overdue.counts).toEqual({ overdue: 1, never_tested: 1, due_soon: 1 })
+    // A is due on 3 April, 29 days after 5 March: beyond the 7-day look-ahead of a monthly test, so not yet due soon
+    expect(overdue.counts).toEqual({ overdue: 1, never_tested: 1, ok: 1 })
   })
 })
 
@@ -283,8 +284,8 @@ describe("the weekly digest (Monday from 07:00 in each site's time zone, once pe
       await a[k].post('/api/trip-tests/digest-runs', { siteId: fhr }).expect(403)
     expect(await count()).toEqual(before)
     const run = (await a.admin.post('/api/trip-tests/digest-runs', { siteId: fhr }).expect(201)).body
-    // B is overdue and C never tested; A is due on 3 April, within 30 days: due soon
-    expect(run).toEqual({ sent: 2, overdue: 2, dueSoon: 1 })
+    // B is overdue and C never tested; A (monthly) is due on 3 April, 17 days ahead: outside its 7-day look-ahead
+    expect(run).toEqual({ sent: 2, overdue: 2, dueSoon: 0 })
     const after = await count()
     expect(after).toEqual({ mails: before.mails + 2, log: before.log + 1 })
     expect((await digestMails()).slice(-1)[0].subject).toBe('Trip tests due at Fernhollow Refinery (on request)')

@@ -24,6 +24,7 @@ export type Meaning =
   | 'witnessed'
   | 'accepted'
   | 'acknowledged'
+  | 'returned_to_service'
 
 /** Records an electronic signature (21 CFR 11.50: name, time, meaning; plus the hash of the exact content signed). */
 export async function insertSignature(

@@ -5,8 +5,14 @@ import type { Config } from '../../config.ts'
 import type { Db } from '../../db/index.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
+import {
+  DUE_SOON_TEST_STATUSES,
+  isTestOverdue,
+  OVERDUE_TEST_STATUSES,
+} from '../../../shared/domain/rules/trip-tests.ts'
 import { findUsersWithRole } from '../users/users.repository.ts'
-import { refreshTestSchedule } from './trip-tests.service.ts'
+import * as repo from './trip-tests.repository.ts'
+import { localDate, refreshTestSchedule } from './trip-tests.service.ts'
 
 const SYSTEM: AuditContext = { actorId: null, requestId: 'job:trip-tests', ip: null }
 
@@ -20,35 +26,18 @@ export async function runDigestForSite(
   ctx: AuditContext = SYSTEM,
 ) {
   return db.transaction().execute(async (trx) => {
-    const inserted = await trx
-      .insertInto('digest_log')
-      .values({ site_id: siteId, kind: 'trip_tests', period, sent_at: clock.now() })
-      .onConflict((oc) => oc.doNothing())
-      .returning('site_id')
-      .executeTakeFirst()
-    if (!inserted) return { sent: 0, overdue: 0, dueSoon: 0 }
-    const site = await trx
-      .selectFrom('site')
-      .select(['name', 'time_zone'])
-      .where('id', '=', siteId)
-      .executeTakeFirstOrThrow()
-    const rows = await trx
-      .selectFrom('limit_function')
-      .innerJoin('area', 'area.id', 'limit_function.area_id')
-      .select(['limit_function.tag', 'limit_function.test_status', 'limit_function.test_due_date', 'area.name as area'])
-      .where('limit_function.site_id', '=', siteId)
-      .where('limit_function.status', '=', 'active')
-      .where('limit_function.test_status', 'in', ['overdue', 'in_grace', 'due_soon', 'never_tested'])
-      .orderBy('limit_function.test_due_date', (ob) => ob.asc().nullsFirst())
-      .execute()
-    const overdue = rows.filter((r) => r.test_status === 'overdue' || r.test_status === 'never_tested')
-    const dueSoon = rows.filter((r) => r.test_status === 'due_soon' || r.test_status === 'in_grace')
+    if (!(await repo.claimDigest(trx, siteId, period, clock.now()))) return { sent: 0, overdue: 0, dueSoon: 0 }
+    const site = await repo.findSite(trx, siteId)
+    const rows = await repo.digestRows(trx, siteId, [...OVERDUE_TEST_STATUSES, ...DUE_SOON_TEST_STATUSES])
+    const overdue = rows.filter((r) => isTestOverdue(r.test_status))
+    const dueSoon = rows.filter((r) => !isTestOverdue(r.test_status))
     const line = (r: (typeof rows)[number]) =>
       `${r.tag} (${r.area}) — ${r.test_status === 'never_tested' ? 'never tested' : `due ${r.test_due_date}`}`
     const to = await findUsersWithRole(trx, siteId, ['technician', 'safety_engineer'])
     const bodies = mailBodies(
       [
-        `Trip tests at ${site.name}: ${overdue.length} overdue or never tested, ${dueSoon.length} due within 30 days or in their grace period.`,
+        `Trip tests at ${site.name}: ${overdue.length} overdue or never tested, ${dueSoon.length} due soon ` +
+          '(within 30 days, less for short intervals) or in their grace period.',
         ...(overdue.length ? [`Overdue or never tested:\n${overdue.map(line).join('\n')}`] : []),
         ...(dueSoon.length ? [`Due soon:\n${dueSoon.map(line).join('\n')}`] : []),
       ],
@@ -74,24 +63,72 @@ export async function runDigestForSite(
   })
 }
 
-/** Refreshes every active limit's test status (statuses move with the calendar), then sends weekly digests. */
+/**
+ * Escalates each degraded limit whose repair deadline has passed: mail to the site's plant managers (and shift
+ * supervisors, who run on the compensating measures), once per deadline; home and handover show it until it clears.
+ */
+export async function escalatePassedRepairDeadlines(db: Db, config: Config, clock: Clock, now: Date) {
+  let escalated = 0
+  for (const d of await repo.unescalatedDeadlines(db)) {
+    if (d.repair_deadline === null || d.repair_deadline >= localDate(now, d.time_zone)) continue
+    await db.transaction().execute(async (trx) => {
+      const open = await repo.lockOpenDegradation(trx, d.limit_id)
+      if (!open || open.id !== d.id || open.escalated_at !== null) return
+      await repo.updateDegradation(trx, d.id, { escalated_at: now })
+      const to = await findUsersWithRole(trx, d.site_id, ['plant_manager', 'shift_supervisor'])
+      const bodies = mailBodies(
+        [
+          `The repair deadline ${d.repair_deadline} of degraded limit ${d.tag} has passed and the limit is still ` +
+            'degraded.',
+          'Continued operation on compensating measures is allowed only for a limited time: decide now whether to ' +
+            'repair and retest, shut down, or record a new deadline under management of change.',
+        ],
+        { url: `${config.appUrl}/tests/${open.test_id}`, label: `Open trip test #${open.test_id}` },
+      )
+      await enqueueMail(
+        trx,
+        clock,
+        to.map((u) => ({
+          to: u.email,
+          subject: `OVERDUE REPAIR: ${d.tag} is still degraded`,
+          ...bodies,
+          topic: 'trip_test',
+        })),
+      )
+      await appendAudit(trx, clock, SYSTEM, {
+        action: 'limit.repair_deadline_passed',
+        entityType: 'Limit',
+        entityId: d.limit_id,
+        after: { degradationId: d.id, repairDeadline: d.repair_deadline, recipients: to.length },
+      })
+      escalated++
+    })
+  }
+  return escalated
+}
+
+/**
+ * Refreshes every active limit's test status (statuses move with the calendar), escalates passed repair deadlines,
+ * then sends weekly digests.
+ */
 export function createTripTestJob(
   db: Db,
   config: Config,
   clock: Clock,
-): DueJob<{ refreshed: number; digests: number }> {
+): DueJob<{ refreshed: number; digests: number; escalated: number }> {
   return {
     name: 'trip-tests.schedule',
     intervalSec: 3600,
     async runDue(now: Date) {
-      const ids = await db.selectFrom('limit_function').select('id').where('status', '=', 'active').execute()
+      const ids = await repo.activeLimitIds(db)
       for (let i = 0; i < ids.length; i += 200) {
         await db.transaction().execute(async (trx) => {
           for (const { id } of ids.slice(i, i + 200)) await refreshTestSchedule(trx, id, now)
         })
       }
+      const escalated = await escalatePassedRepairDeadlines(db, config, clock, now)
       let digests = 0
-      const sites = await db.selectFrom('site').select(['id', 'time_zone']).execute()
+      const sites = await repo.listSiteZones(db)
       for (const s of sites) {
         // Monday from 07:00 in the site's own time zone, once per ISO week
         const local = new TZDate(now.getTime(), s.time_zone)
@@ -100,7 +137,7 @@ export function createTripTestJob(
         const r = await runDigestForSite(db, config, clock, s.id, period)
         if (r.sent) digests++
       }
-      return { refreshed: ids.length, digests }
+      return { refreshed: ids.length, digests, escalated }
     },
   }
 }

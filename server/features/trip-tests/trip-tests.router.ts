@@ -1,15 +1,20 @@
 import { Router } from 'express'
 import Papa from 'papaparse'
 import { z } from 'zod'
-import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
+import { IdSchema } from '../../../shared/schemas/common.ts'
 import {
+  DeadlineApprovalInputSchema,
+  DeferralDecisionInputSchema,
   DegradationMeasuresInputSchema,
+  ScheduleQuerySchema,
+  TestDeferralInputSchema,
+  TestDeferralListQuerySchema,
   TripTestInputSchema,
+  TripTestListQuerySchema,
   TripTestSignatureInputSchema,
 } from '../../../shared/schemas/trip-tests.ts'
 import { authorize, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import { appendAudit } from '../audit/audit.repository.ts'
 import { readAttachment, receiveAttachment, storeAttachment } from '../attachments/attachments.ts'
 import { tripTestCertificate } from './trip-tests.pdf.ts'
 import { runDigestForSite } from './trip-tests.jobs.ts'
@@ -19,33 +24,14 @@ import * as service from './trip-tests.service.ts'
 export function createTripTestsRouter(deps: AppDeps) {
   const router = Router()
   const id = (v: unknown) => IdSchema.parse(v)
-  const listQuery = z.object({
-    siteId: repeated(IdSchema),
-    limitId: IdSchema.optional(),
-    passed: z
-      .enum(['true', 'false'])
-      .transform((v) => v === 'true')
-      .optional(),
-    page: z.coerce.number().int().min(1).default(1),
-    pageSize: z.coerce.number().int().min(1).max(200).default(50),
-  })
+  const listQuery = TripTestListQuerySchema
 
   router.get('/', async (req, res) => {
     const q = listQuery.parse(req.query)
     res.json(await service.listTripTests(deps, { ...q, siteIds: scopeSites(req.user, q.siteId) }))
   })
   router.get('/schedule', async (req, res) => {
-    const q = z
-      .object({
-        siteId: repeated(IdSchema),
-        areaId: repeated(IdSchema),
-        status: repeated(z.enum(['never_tested', 'ok', 'due_soon', 'in_grace', 'overdue'])),
-        late: z
-          .enum(['true', 'false'])
-          .transform((v) => v === 'true')
-          .optional(),
-      })
-      .parse(req.query)
+    const q = ScheduleQuerySchema.parse(req.query)
     res.json(
       await service.schedule(deps, {
         siteIds: scopeSites(req.user, q.siteId),
@@ -129,49 +115,21 @@ export function createTripTestsRouter(deps: AppDeps) {
   })
   router.get('/:id/certificate', async (req, res) => {
     const t = await service.getTripTest(deps, req.ability, id(req.params.id))
-    const info = await deps.db
-      .selectFrom('limit_function')
-      .innerJoin('site', 'site.id', 'limit_function.site_id')
-      .select(['site.name', 'site.time_zone', 'limit_function.description'])
-      .where('limit_function.id', '=', t.limitId)
-      .executeTakeFirstOrThrow()
-    const pdf = await tripTestCertificate(t, {
-      siteName: info.name,
-      limitDescription: info.description,
-      printedAt: deps.clock.now(),
-      timeZone: info.time_zone,
-    })
+    const info = await service.certificateContext(deps, t.limitId)
+    const pdf = await tripTestCertificate(t, { ...info, printedAt: deps.clock.now() })
     res.setHeader('Content-Type', 'application/pdf')
     res.setHeader('Content-Disposition', `attachment; filename="trip-test-${t.id}-${t.limitTag}.pdf"`)
     res.send(pdf)
   })
   router.post('/:id/attachments', receiveAttachment, async (req, res) => {
-    const testId = id(req.params.id)
-    const t = await service.getTripTest(deps, req.ability, testId)
-    authorize(req.ability, 'record', 'TripTest', { siteId: t.siteId })
-    const att = await deps.db.transaction().execute(async (trx) => {
-      const a = await storeAttachment(trx, deps.clock, req.file, {
+    const att = await service.attachToTripTest(deps, req.ability, req.audit, id(req.params.id), (trx) =>
+      storeAttachment(trx, deps.clock, req.file, {
         entityType: 'TripTest',
-        entityId: testId,
+        entityId: id(req.params.id),
         userId: req.user!.id,
-      })
-      await appendAudit(trx, deps.clock, req.audit, {
-        action: 'trip_test.attach',
-        entityType: 'TripTest',
-        entityId: testId,
-        after: {
-          attachmentId: a.id,
-          fileName: a.file_name,
-          contentType: a.content_type,
-          sizeBytes: a.size_bytes,
-          sha256: a.sha256,
-        },
-      })
-      return a
-    })
-    res
-      .status(201)
-      .json({ id: att.id, fileName: att.file_name, contentType: att.content_type, sizeBytes: att.size_bytes })
+      }),
+    )
+    res.status(201).json(att)
   })
   router.get('/:id/attachments/:attachmentId', async (req, res) => {
     const testId = id(req.params.id)
@@ -188,7 +146,9 @@ export function createTripTestsRouter(deps: AppDeps) {
 export function createDegradationRouter(deps: AppDeps) {
   const router = Router({ mergeParams: true })
   router.get('/', async (req, res) => {
-    res.json(await service.getDegradation(deps, req.ability, IdSchema.parse((req.params as { id: string }).id)))
+    res.json(
+      await service.getDegradation(deps, req.ability, IdSchema.parse((req.params as { id: string }).id), req.audit),
+    )
   })
   router.post('/', async (req, res) => {
     res.json(
@@ -201,5 +161,50 @@ export function createDegradationRouter(deps: AppDeps) {
       ),
     )
   })
+  router.post('/deadline-approval', async (req, res) => {
+    res.json(
+      await service.approveRepairDeadline(
+        deps,
+        req.ability,
+        req.audit,
+        IdSchema.parse((req.params as { id: string }).id),
+        DeadlineApprovalInputSchema.parse(req.body),
+      ),
+    )
+  })
+  return router
+}
+
+/** `/api/test-deferrals`: deferrals of a limit's next full test; approval and rejection as signed actions. */
+export function createTestDeferralsRouter(deps: AppDeps) {
+  const router = Router()
+  const id = (v: unknown) => IdSchema.parse(v)
+  router.get('/', async (req, res) => {
+    const q = TestDeferralListQuerySchema.parse(req.query)
+    res.json(
+      await service.listDeferrals(deps, req.ability, req.audit, { ...q, siteIds: scopeSites(req.user, q.siteId) }),
+    )
+  })
+  router.post('/', async (req, res) => {
+    res
+      .status(201)
+      .json(await service.requestDeferral(deps, req.ability, req.audit, TestDeferralInputSchema.parse(req.body)))
+  })
+  router.get('/:id', async (req, res) => {
+    res.json(await service.getDeferral(deps, req.ability, req.audit, id(req.params.id)))
+  })
+  for (const decision of ['approve', 'reject'] as const)
+    router.post(`/:id/${decision === 'approve' ? 'approval' : 'rejection'}`, async (req, res) => {
+      res.json(
+        await service.decideDeferral(
+          deps,
+          req.ability,
+          req.audit,
+          id(req.params.id),
+          decision,
+          DeferralDecisionInputSchema.parse(req.body),
+        ),
+      )
+    })
   return router
 }

@@ -1,19 +1,49 @@
 import { TZDate } from '@date-fns/tz'
-import type { Transaction } from 'kysely'
+import type { Selectable, Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
-import { computeDueDates } from '../../../shared/domain/due-dates.ts'
+import { computeDueDates, intervalHours } from '../../../shared/domain/due-dates.ts'
 import { MissingInputError, OutOfRangeError, UnitConversionError } from '../../../shared/domain/errors.ts'
+import {
+  checkDeferralRequest,
+  checkRepairDeadline,
+  deferralActions,
+  deferralApproverRole,
+  type DeferralStatus,
+  degradationActions,
+  functionMttrHours,
+  graceDaysFor,
+  isComplete,
+  MEANING_OF,
+  type RuleActor,
+  type TripTestAction,
+  tripTestActions,
+  witnessRequired,
+} from '../../../shared/domain/rules/trip-tests.ts'
+import { compareToTarget, type Sil, sifPfd, subsystemPfd } from '../../../shared/domain/sif-reliability.ts'
 import { engineeringFromSignal } from '../../../shared/domain/test-signal.ts'
-import { judgeTripTest, toleranceInEu } from '../../../shared/domain/trip-test-result.ts'
+import { judgeTripTest, judgeVotedChannels, toleranceInEu, VOTING } from '../../../shared/domain/trip-test-result.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
+import type { Subsystem } from '../../../shared/schemas/register.ts'
 import type { SitePolicy } from '../../../shared/schemas/sites.ts'
-import type { TripTestDto, TripTestInput } from '../../../shared/schemas/trip-tests.ts'
-import { allows, authorize } from '../../authorize.ts'
+import type {
+  DegradationResponse,
+  DeferralRisk,
+  SignatureMeaning,
+  TestDeferralDto,
+  TestDeferralInput,
+  TestDeferralList,
+  TestDeferralListQuery,
+  TripTestDto,
+  TripTestInput,
+  TripTestList,
+  ScheduleResponse,
+} from '../../../shared/schemas/trip-tests.ts'
+import { TripTestPrecautionsSchema } from '../../../shared/schemas/trip-tests.ts'
+import { authorize } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database, TripTestTable } from '../../db/schema.ts'
-import type { Selectable } from 'kysely'
-import { AppError, forbidden, invalidState, notFound, validationFailed } from '../../errors.ts'
+import { AppError, enforce, notFound, validationFailed } from '../../errors.ts'
 import { listAttachments } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
@@ -23,20 +53,12 @@ import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { contentHash, insertSignature, listSignatures } from '../signatures/signatures.ts'
 import { findUsersWithRole } from '../users/users.repository.ts'
+import * as repo from './trip-tests.repository.ts'
 
 type Trx = Transaction<Database>
 type Db = AppDeps['db'] | Trx
 const ENTITY = 'TripTest'
-
-/** The site's grace days for a limit: its own, else 0 for a code-set interval, else the policy's share of the interval. */
-export function graceDaysFor(
-  l: { test_grace_days: number | null; code_set_interval: boolean; test_interval_months: number },
-  policy: SitePolicy,
-): number {
-  if (l.test_grace_days !== null) return l.test_grace_days
-  if (l.code_set_interval) return 0
-  return Math.min(policy.testGraceMaxDays, Math.floor((l.test_interval_months * 730 * policy.testGraceFraction) / 24))
-}
+const DEFERRAL = 'TestDeferral'
 
 /** The calendar date of an instant in a time zone. */
 export function localDate(at: Date, timeZone: string): string {
@@ -44,50 +66,47 @@ export function localDate(at: Date, timeZone: string): string {
   return `${d.getFullYear()}-${String(d.getMonth() + 1).padStart(2, '0')}-${String(d.getDate()).padStart(2, '0')}`
 }
 
-/** Recomputes and stores a limit's due date and test status from its signed tests (DOMAIN.md §5). */
+/** The actor of a rule book: the signed-in user, their ability and their roles at the site. */
+async function actorAt(db: Db, ability: AppAbility, ctx: AuditContext, siteId: number): Promise<RuleActor> {
+  const id = ctx.actorId ?? 0
+  return { id, ability, roles: await repo.rolesAt(db, id, siteId) }
+}
+
+/** Recomputes and stores a limit's due date and test status from its signed tests (docs/domain/due-dates.md). */
 export async function refreshTestSchedule(trx: Db, limitId: number, now: Date) {
   const r = await computeSchedule(trx, limitId, now)
-  await trx
-    .updateTable('limit_function')
-    .set({ test_status: r.status, test_due_date: r.dueDate, last_full_pass: r.lastFullPass })
-    .where('id', '=', limitId)
-    .execute()
+  await repo.updateLimitSchedule(trx, limitId, r)
   return r
 }
 
-/** Due date, status and late tests of a limit from its signed tests (nothing written). */
-export async function computeSchedule(trx: Db, limitId: number, now: Date) {
-  const l = await trx
-    .selectFrom('limit_function')
-    .innerJoin('site', 'site.id', 'limit_function.site_id')
-    .select([
-      'limit_function.id',
-      'test_interval_months',
-      'test_grace_days',
-      'code_set_interval',
-      'site.time_zone',
-      'site.policy',
-    ])
-    .where('limit_function.id', '=', limitId)
-    .executeTakeFirstOrThrow()
-  const tests = await trx
-    .selectFrom('trip_test')
-    .select(['id', 'performed_at', 'kind', 'passed'])
-    .where('limit_id', '=', limitId)
-    .where('status', '!=', 'recorded')
-    .execute()
-  return computeDueDates({
+/** Due date, status and late tests of a limit from its signed whole-function tests and approved deferrals. */
+export async function computeSchedule(db: Db, limitId: number, now: Date) {
+  const l = await repo.findLimitForTest(db, limitId)
+  if (!l) throw notFound('Limit')
+  const tests = await repo.signedFunctionTests(db, limitId)
+  const input = {
     testIntervalMonths: l.test_interval_months,
-    testGraceDays: graceDaysFor(l, policyOf(l)),
+    testGraceDays: graceDaysFor(
+      {
+        testGraceDays: l.test_grace_days,
+        codeSetInterval: l.code_set_interval,
+        testIntervalMonths: l.test_interval_months,
+        sil: l.sil,
+      },
+      policyOf(l),
+    ),
     codeSetInterval: l.code_set_interval,
     timeZone: l.time_zone,
     now,
-    tests: tests.map((t) => ({
-      id: t.id,
-      performedAt: t.performed_at,
-      kind: t.kind as 'full' | 'partial',
-      passed: t.passed,
-    })),
+    tests: tests.map((t) => ({ id: t.id, performedAt: t.performed_at, kind: t.kind, passed: t.passed })),
+  }
+  const plain = computeDueDates(input)
+  // an approved deferral applies while the due date from the tests is still the one it deferred
+  const deferral = (await repo.approvedDeferrals(db, limitId)).find((d) => d.original_due_date === plain.dueDate)
+  if (!deferral) return plain
+  return computeDueDates({
+    ...input,
+    deferral: { originalDueDate: deferral.original_due_date, newDueDate: deferral.new_due_date },
   })
 }
 
@@ -97,47 +116,28 @@ function hashRecord(r: Selectable<TripTestTable>) {
 }
 
 async function loadContext(db: Db, limitId: number) {
-  const limit = await db
-    .selectFrom('limit_function')
-    .innerJoin('site', 'site.id', 'limit_function.site_id')
-    .select([
-      'limit_function.id',
-      'limit_function.tag',
-      'limit_function.site_id',
-      'limit_function.status',
-      'limit_function.direction',
-      'limit_function.setpoint',
-      'limit_function.revision',
-      'limit_function.primary_instrument_id',
-      'limit_function.sil',
-      'limit_function.required_response_time_sec',
-      'site.time_zone',
-      'site.policy',
-    ])
-    .where('limit_function.id', '=', limitId)
-    .executeTakeFirst()
+  const limit = await repo.findLimitForTest(db, limitId)
   if (!limit) throw validationFailed({ limitId: ['The limit does not exist'] })
-  const inst = toInstrument(
-    await db
-      .selectFrom('instrument')
-      .selectAll()
-      .where('id', '=', limit.primary_instrument_id)
-      .executeTakeFirstOrThrow(),
-  )
+  const inst = toInstrument(await repo.findInstrument(db, limit.primary_instrument_id))
   return { limit, inst, policy: policyOf(limit) }
 }
 
-/** Computes the stored columns of a record from its input: conversions, tolerance, results. */
+/** Computes the stored columns of a record from its input: conversions, tolerance, channels, results. */
 async function evaluate(db: Db, input: TripTestInput) {
   const { limit, inst, policy } = await loadContext(db, input.limitId)
   if (limit.status !== 'active')
-    throw invalidState(`Limit ${limit.tag} is ${limit.status}; only an active limit is trip-tested`)
+    enforce({
+      allowed: false,
+      status: 409,
+      reason: `Limit ${limit.tag} is ${limit.status}; only an active limit is trip-tested`,
+    })
   const performedOn = localDate(new Date(input.performedAt), limit.time_zone)
   if (input.calibratorDueDate && input.calibratorDueDate < performedOn) {
     throw validationFailed(
       {
         calibratorDueDate: [
-          `The calibrator was past its calibration due date (${input.calibratorDueDate}) on ${performedOn}: it cannot be used`,
+          `The calibrator was past its calibration due date (${input.calibratorDueDate}) on ${performedOn}: ` +
+            'it cannot be used',
         ],
       },
       'A calibrator past its due date cannot be used',
@@ -170,18 +170,84 @@ async function evaluate(db: Db, input: TripTestInput) {
   const toleranceUnit = input.tolerance === null ? 'percent_span' : input.toleranceUnit
   const tolEu = toleranceInEu(tolerance, toleranceUnit, inst.rangeLow, inst.rangeHigh)
   const setpoint = Number(limit.setpoint)
-  const j = judgeTripTest({
-    direction: limit.direction as 'high' | 'low',
-    setpoint,
-    tolerance: tolEu,
-    asFound,
-    asLeft: input.asLeft,
-    finalElementOk: input.finalElementOk,
-    responseTimeSec: input.responseTimeSec,
-    requiredResponseTimeSec:
-      limit.required_response_time_sec === null ? null : Number(limit.required_response_time_sec),
-  })
-  const reasons = [...j.reasons]
+  const direction = limit.direction === 'low' ? 'low' : 'high'
+  const reasons: string[] = []
+
+  // a voted function tested channel by channel: each channel judged, the function's result from the vote
+  let channels: TripTestDto['channels'] = []
+  let voting: TripTestDto['voting'] = null
+  let asLeft = input.asLeft
+  if (input.channels.length) {
+    const known = await repo.findChannelInstruments(db, limit.id)
+    const sensor = (limit.subsystems as Subsystem[]).find((x) => x.role === 'sensor')
+    const architecture = sensor?.architecture ?? (known.length === 2 ? '1oo2' : known.length === 3 ? '2oo3' : '1oo1')
+    const expected = VOTING[architecture].n
+    const ids = new Set(known.map((k) => k.id))
+    if (input.channels.some((c) => !ids.has(c.instrumentId)) || input.channels.length !== expected)
+      throw validationFailed({
+        channels: [
+          `${limit.tag} votes ${architecture}: enter one result for each of its ${expected} channel instruments ` +
+            `(${known.map((k) => k.tag).join(', ')})`,
+        ],
+      })
+    const j = judgeVotedChannels({
+      direction,
+      setpoint,
+      tolerance: tolEu,
+      architecture,
+      channels: input.channels.map((c) => ({ asFound: c.noTrip ? null : c.asFound, asLeft: c.asLeft })),
+    })
+    channels = input.channels.map((c, i) => ({
+      instrumentId: c.instrumentId,
+      tag: known.find((k) => k.id === c.instrumentId)?.tag ?? String(c.instrumentId),
+      asFound: c.noTrip ? null : c.asFound,
+      asLeft: c.asLeft,
+      ...j.channels[i],
+    }))
+    voting = { architecture, required: j.required, tripped: j.tripped, acted: j.acted }
+    asFound = j.votedAsFound
+    asLeft = j.votedAsLeft
+    for (const c of channels)
+      if (!c.passed)
+        reasons.push(
+          `Channel ${c.tag}: ${
+            c.asFoundResult === 'no_trip'
+              ? 'did not trip'
+              : c.asFoundResult === 'out_dangerous'
+                ? `tripped at ${c.asFound}, beyond ${setpoint} ± ${tolEu} on the dangerous side`
+                : `left at ${c.asLeft ?? c.asFound}, outside ${setpoint} ± ${tolEu}`
+          }`,
+        )
+    if (!j.acted) reasons.push(`The vote was not reached: ${j.tripped} of ${j.required} required channels tripped`)
+  }
+
+  const tripPoint = input.scope === 'function' || input.scope === 'sensor' || input.scope === 'logic_solver'
+  let asFoundResult: TripTestTable['as_found_result'] = 'not_applicable'
+  let asLeftResult: TripTestTable['as_left_result'] = 'not_applicable'
+  if (tripPoint) {
+    const j = judgeTripTest({
+      direction,
+      setpoint,
+      tolerance: tolEu,
+      asFound,
+      asLeft: input.channels.length ? (asLeft ?? asFound) : asLeft,
+      finalElementOk: input.finalElementOk,
+      responseTimeSec: input.responseTimeSec,
+      requiredResponseTimeSec:
+        limit.required_response_time_sec === null ? null : Number(limit.required_response_time_sec),
+    })
+    asFoundResult = j.asFoundResult
+    asLeftResult = j.asLeftResult
+    // with channels, the channel lines already say what failed; keep the function lines that add to them
+    for (const r of j.reasons) if (!(input.channels.length && /trip|As left|as-left/i.test(r))) reasons.push(r)
+  } else {
+    if (input.finalElementOk === false) reasons.push('The final element did not act')
+    const required = limit.required_response_time_sec === null ? null : Number(limit.required_response_time_sec)
+    if (input.scope === 'final_element' && input.closingTimeSec !== null && required !== null)
+      if (input.closingTimeSec > required)
+        reasons.push(`The valve closed in ${input.closingTimeSec} s; at most ${required} s is required`)
+    if (input.scope === 'valve_leak' && input.leakTestPassed === false) reasons.push('The valve failed its leak test')
+  }
   if (
     input.method === 'setpoint_lowered' &&
     input.setpointRestoredReadBack !== null &&
@@ -198,6 +264,7 @@ async function evaluate(db: Db, input: TripTestInput) {
       site_id: limit.site_id,
       limit_revision: limit.revision,
       kind: input.kind,
+      scope: input.scope,
       method: input.method,
       injection_point: input.injectionPoint,
       source_mode: input.sourceMode,
@@ -215,16 +282,22 @@ async function evaluate(db: Db, input: TripTestInput) {
       tolerance_eu: tolEu,
       as_found: asFound,
       as_found_signal: input.asFoundSignal ? JSON.stringify(input.asFoundSignal) : null,
-      as_found_result: j.asFoundResult,
-      as_left: input.asLeft,
-      as_left_result: j.asLeftResult,
+      as_found_result: asFoundResult,
+      as_left: input.channels.length ? asLeft : input.asLeft,
+      as_left_result: asLeftResult,
+      channels: JSON.stringify(channels),
+      voting: voting ? JSON.stringify(voting) : null,
       reset_value: input.resetValue,
       latch_held: input.latchHeld,
       reset_refused_while_active: input.resetRefusedWhileActive,
       reset_accepted_after_return: input.resetAcceptedAfterReturn,
       final_element_ok: input.finalElementOk,
       response_time_sec: input.responseTimeSec,
+      closing_time_sec: input.closingTimeSec,
+      leak_test_passed: input.leakTestPassed,
+      stroke_percent: input.strokePercent,
       setpoint_restored_read_back: input.setpointRestoredReadBack,
+      precautions: JSON.stringify(input.precautions ?? {}),
       passed: reasons.length === 0,
       fail_reasons: JSON.stringify(reasons),
       notes: input.notes,
@@ -238,25 +311,10 @@ export async function getTripTest(
   id: number,
   db: Db = deps.db,
 ): Promise<TripTestDto> {
-  const r = await db
-    .selectFrom('trip_test')
-    .innerJoin('limit_function', 'limit_function.id', 'trip_test.limit_id')
-    .innerJoin('app_user', 'app_user.id', 'trip_test.recorded_by')
-    .innerJoin('instrument', 'instrument.id', 'limit_function.primary_instrument_id')
-    .selectAll('trip_test')
-    .select([
-      'limit_function.tag',
-      'limit_function.sil',
-      'limit_function.required_response_time_sec',
-      'app_user.display_name',
-      'instrument.unit',
-    ])
-    .where('trip_test.id', '=', id)
-    .executeTakeFirst()
+  const r = await repo.findTripTestDetail(db, id)
   if (!r) throw notFound('Trip test')
   authorize(ability, 'read', 'TripTest', { siteId: r.site_id })
-  const site = await db.selectFrom('site').select('policy').where('id', '=', r.site_id).executeTakeFirstOrThrow()
-  const policy = policyOf(site)
+  const policy = policyOf(r)
   const sigs = await listSignatures(db, ENTITY, [id])
   const n = (v: string | null) => (v === null ? null : Number(v))
   return {
@@ -265,8 +323,9 @@ export async function getTripTest(
     limitTag: r.tag,
     siteId: r.site_id,
     limitRevision: r.limit_revision,
-    kind: r.kind as 'full',
-    method: r.method as TripTestDto['method'],
+    kind: r.kind,
+    scope: r.scope,
+    method: r.method,
     injectionPoint: r.injection_point,
     sourceMode: r.source_mode,
     coldJunctionC: n(r.cold_junction_c),
@@ -279,14 +338,16 @@ export async function getTripTest(
     performedAt: r.performed_at.toISOString(),
     setpoint: Number(r.setpoint),
     tolerance: Number(r.tolerance),
-    toleranceUnit: r.tolerance_unit as 'eu',
+    toleranceUnit: r.tolerance_unit,
     toleranceEu: Number(r.tolerance_eu),
     unit: r.unit,
     asFound: n(r.as_found),
     asFoundSignal: r.as_found_signal,
-    asFoundResult: r.as_found_result as TripTestDto['asFoundResult'],
+    asFoundResult: r.as_found_result,
     asLeft: n(r.as_left),
-    asLeftResult: r.as_left_result as 'out',
+    asLeftResult: r.as_left_result,
+    channels: r.channels,
+    voting: r.voting,
     resetValue: n(r.reset_value),
     latchHeld: r.latch_held,
     resetRefusedWhileActive: r.reset_refused_while_active,
@@ -294,13 +355,18 @@ export async function getTripTest(
     finalElementOk: r.final_element_ok,
     responseTimeSec: n(r.response_time_sec),
     requiredResponseTimeSec: n(r.required_response_time_sec),
+    closingTimeSec: n(r.closing_time_sec),
+    leakTestPassed: r.leak_test_passed,
+    strokePercent: n(r.stroke_percent),
     setpointRestoredReadBack: n(r.setpoint_restored_read_back),
+    precautions: TripTestPrecautionsSchema.safeParse(r.precautions).data ?? null,
     passed: r.passed,
     failReasons: r.fail_reasons,
     notes: r.notes,
-    status: r.status as TripTestDto['status'],
+    status: r.status,
     witnessRequired: witnessRequired(policy, r.sil),
     contentHash: r.content_hash,
+    recordedById: r.recorded_by,
     recordedBy: r.display_name,
     signatures: sigs
       .filter((s) => !s.voided_at)
@@ -323,8 +389,23 @@ export async function getTripTest(
   }
 }
 
-function witnessRequired(policy: SitePolicy, sil: number | null) {
-  return policy.witnessRequiredFor === 'all' || (policy.witnessRequiredFor === 'sil_only' && sil !== null)
+/** The rule book's answers for a stored record (signatures read inside the caller's transaction). */
+async function verdictsFor(db: Db, row: Selectable<TripTestTable>, actor: RuleActor, now: Date) {
+  const ctx = await loadContext(db, row.limit_id)
+  const sigs = (await listSignatures(db, ENTITY, [row.id])).filter((x) => !x.voided_at)
+  const verdicts = tripTestActions(
+    {
+      siteId: row.site_id,
+      status: row.status,
+      recordedById: row.recorded_by,
+      sil: ctx.limit.sil,
+      signatures: sigs.map((x) => ({ meaning: x.meaning, userId: x.user_id })),
+    },
+    actor,
+    ctx.policy,
+    now,
+  )
+  return { verdicts, sigs, ctx }
 }
 
 export async function createTripTest(
@@ -341,19 +422,15 @@ export async function createTripTest(
     const ev = await evaluate(trx, input)
     await checkBypass(trx, input)
     const now = deps.clock.now()
-    const row = await trx
-      .insertInto('trip_test')
-      .values({
-        ...ev.columns,
-        content_hash: '0'.repeat(64),
-        recorded_by: ctx.actorId!,
-        created_at: now,
-        updated_at: now,
-      })
-      .returningAll()
-      .executeTakeFirstOrThrow()
+    const row = await repo.insertTripTest(trx, {
+      ...ev.columns,
+      content_hash: '0'.repeat(64),
+      recorded_by: ctx.actorId!,
+      created_at: now,
+      updated_at: now,
+    })
     const hash = hashRecord(row)
-    await trx.updateTable('trip_test').set({ content_hash: hash }).where('id', '=', row.id).execute()
+    await repo.updateTripTest(trx, row.id, { content_hash: hash })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'trip_test.record',
       entityType: ENTITY,
@@ -373,7 +450,7 @@ export async function createTripTest(
 
 async function checkBypass(trx: Trx, input: TripTestInput) {
   if (!input.bypassId) return
-  const b = await trx.selectFrom('bypass').select(['limit_id']).where('id', '=', input.bypassId).executeTakeFirst()
+  const b = await repo.findBypassLimit(trx, input.bypassId)
   if (!b || b.limit_id !== input.limitId)
     throw validationFailed({ bypassId: ['The bypass does not belong to this limit'] })
 }
@@ -387,22 +464,17 @@ export async function updateTripTest(
   input: TripTestInput,
 ): Promise<TripTestDto> {
   await deps.db.transaction().execute(async (trx) => {
-    const before = await trx.selectFrom('trip_test').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
+    const before = await repo.lockTripTest(trx, id)
     if (!before) throw notFound('Trip test')
-    authorize(ability, 'record', 'TripTest', { siteId: before.site_id })
-    if (before.recorded_by !== ctx.actorId) throw forbidden('Only the technician who recorded the test edits it')
-    if (before.status !== 'recorded') throw invalidState('A signed test record is locked; record a new test instead')
+    authorize(ability, 'read', 'TripTest', { siteId: before.site_id })
+    const actor = await actorAt(trx, ability, ctx, before.site_id)
+    enforce((await verdictsFor(trx, before, actor, deps.clock.now())).verdicts.edit)
     if (input.limitId !== before.limit_id) throw validationFailed({ limitId: ['A record stays with its limit'] })
     const ev = await evaluate(trx, input)
     await checkBypass(trx, input)
-    const row = await trx
-      .updateTable('trip_test')
-      .set({ ...ev.columns, updated_at: deps.clock.now() })
-      .where('id', '=', id)
-      .returningAll()
-      .executeTakeFirstOrThrow()
+    const row = await repo.updateTripTest(trx, id, { ...ev.columns, updated_at: deps.clock.now() })
     const hash = hashRecord(row)
-    await trx.updateTable('trip_test').set({ content_hash: hash }).where('id', '=', id).execute()
+    await repo.updateTripTest(trx, id, { content_hash: hash })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'trip_test.update',
       entityType: ENTITY,
@@ -414,81 +486,86 @@ export async function updateTripTest(
   return getTripTest(deps, ability, id)
 }
 
+const SIGN_ACTION: Record<SignatureMeaning, Exclude<TripTestAction, 'edit' | 'attach'>> = {
+  performed: 'signPerformed',
+  witnessed: 'signWitnessed',
+  returned_to_service: 'signReturnedToService',
+  accepted: 'signAccepted',
+}
+
 /**
  * Signs a record: `performed` by the technician who recorded it (locks it and applies the result: a failed test
- * degrades the limit, a passing full test clears it), `witnessed` by someone else, `accepted` by operations.
+ * degrades the limit, a passing full test clears it), `witnessed` by someone else, `returned_to_service` by a
+ * technician once forces, jumpers and bypasses are removed, `accepted` by operations (docs/trip-tests.md#who-signs).
  */
 export async function signTripTest(
   deps: AppDeps,
   ability: AppAbility,
   ctx: AuditContext,
   id: number,
-  meaning: 'performed' | 'witnessed' | 'accepted',
+  meaning: SignatureMeaning,
   password: string,
   comment: string,
 ): Promise<TripTestDto> {
-  const pre = await deps.db.selectFrom('trip_test').selectAll().where('id', '=', id).executeTakeFirst()
+  const action = SIGN_ACTION[meaning]
+  const pre = await repo.findTripTest(deps.db, id)
   if (!pre) throw notFound('Trip test')
-  const action = meaning === 'performed' ? 'record' : meaning === 'witnessed' ? 'witness' : 'accept'
-  authorize(ability, action, 'TripTest', { siteId: pre.site_id })
-  if (meaning === 'performed' && pre.recorded_by !== ctx.actorId)
-    throw forbidden('The technician who performed and recorded the test signs it as performer')
-  if (meaning === 'witnessed' && pre.recorded_by === ctx.actorId) throw forbidden('Nobody witnesses their own test')
+  authorize(ability, 'read', 'TripTest', { siteId: pre.site_id })
+  const actor = await actorAt(deps.db, ability, ctx, pre.site_id)
+  // role and separation of duties first (403, nothing written); the state again inside the transaction
+  const early = (await verdictsFor(deps.db, pre, actor, deps.clock.now())).verdicts[action]
+  if (!early.allowed && early.status === 403) enforce(early)
   const signer = await verifySignaturePassword(deps, ctx.actorId!, password, ctx, { entityType: ENTITY, entityId: id })
   await deps.db.transaction().execute(async (trx) => {
-    const row = await trx.selectFrom('trip_test').selectAll().where('id', '=', id).forUpdate().executeTakeFirstOrThrow()
-    const sigs = (await listSignatures(trx, ENTITY, [id])).filter((s) => !s.voided_at)
-    if (sigs.some((s) => s.meaning === meaning)) throw invalidState(`The record is already signed as ${meaning}`)
-    if (meaning !== 'performed' && !sigs.some((s) => s.meaning === 'performed'))
-      throw invalidState('The performer signs first')
-    if (meaning === 'performed' && row.status !== 'recorded') throw invalidState('The record is already signed')
+    const row = await repo.lockTripTest(trx, id)
+    if (!row) throw notFound('Trip test')
+    const now = deps.clock.now()
+    const { verdicts, sigs, ctx: info } = await verdictsFor(trx, row, actor, now)
+    enforce(verdicts[action])
     await insertSignature(trx, deps.clock, {
       entityType: ENTITY,
       entityId: id,
       userId: signer.id,
       name: signer.name,
-      meaning,
+      meaning: MEANING_OF[action],
       contentHash: row.content_hash,
       comment,
     })
-    const now = deps.clock.now()
-    const ctxInfo = await loadContext(trx, row.limit_id)
-    const held = new Set([...sigs.map((s) => s.meaning), meaning])
-    const complete =
-      held.has('performed') &&
-      held.has('accepted') &&
-      (!witnessRequired(ctxInfo.policy, ctxInfo.limit.sil) || held.has('witnessed'))
-    await trx
-      .updateTable('trip_test')
-      .set({ status: complete ? 'completed' : 'signed', updated_at: now })
-      .where('id', '=', id)
-      .execute()
+    const held = new Set([...sigs.map((x) => x.meaning), meaning])
+    await repo.updateTripTest(trx, id, {
+      status: isComplete(held, info.policy, info.limit.sil) ? 'completed' : 'signed',
+      updated_at: now,
+    })
     await appendAudit(trx, deps.clock, ctx, {
       action: `trip_test.${meaning}`,
       entityType: ENTITY,
       entityId: id,
       after: { signer: signer.name, meaning, contentHash: row.content_hash, comment },
     })
-    if (meaning === 'performed') await applyResult(deps, trx, ctx, row, ctxInfo.limit.tag)
+    if (meaning === 'performed') await applyResult(deps, trx, ctx, row, info.limit)
   })
   return getTripTest(deps, ability, id)
 }
 
-async function applyResult(deps: AppDeps, trx: Trx, ctx: AuditContext, row: Selectable<TripTestTable>, tag: string) {
+async function applyResult(
+  deps: AppDeps,
+  trx: Trx,
+  ctx: AuditContext,
+  row: Selectable<TripTestTable>,
+  limit: { tag: string; subsystems: unknown[] },
+) {
   const now = deps.clock.now()
-  const open = await trx
-    .selectFrom('limit_degradation')
-    .select(['id'])
-    .where('limit_id', '=', row.limit_id)
-    .where('cleared_at', 'is', null)
-    .forUpdate()
-    .executeTakeFirst()
+  const open = await repo.lockOpenDegradation(trx, row.limit_id)
   if (!row.passed) {
     if (!open) {
-      await trx
-        .insertInto('limit_degradation')
-        .values({ limit_id: row.limit_id, test_id: row.id, opened_at: now, reasons: JSON.stringify(row.fail_reasons) })
-        .execute()
+      const mttr = functionMttrHours(limit.subsystems as Subsystem[])
+      await repo.insertDegradation(trx, {
+        limit_id: row.limit_id,
+        test_id: row.id,
+        opened_at: now,
+        reasons: JSON.stringify(row.fail_reasons),
+        mttr_hours: mttr,
+      })
       await appendAudit(trx, deps.clock, ctx, {
         action: 'limit.degraded',
         entityType: 'Limit',
@@ -499,22 +576,24 @@ async function applyResult(deps: AppDeps, trx: Trx, ctx: AuditContext, row: Sele
     const to = await findUsersWithRole(trx, row.site_id, ['safety_engineer', 'shift_supervisor'])
     const bodies = mailBodies(
       [
-        `The trip test #${row.id} of ${tag} failed: ${row.fail_reasons.join('; ')}.`,
-        'The limit is degraded until a full retest passes. A shift supervisor records compensating measures and a repair deadline now.',
+        `The trip test #${row.id} of ${limit.tag} failed: ${row.fail_reasons.join('; ')}.`,
+        'The limit is degraded until a full retest passes. A shift supervisor records compensating measures and ' +
+          'a repair deadline now. Continued operation on compensating measures is allowed only for a limited time.',
       ],
       { url: `${deps.config.appUrl}/tests/${row.id}`, label: `Open trip test #${row.id}` },
     )
     await enqueueMail(
       trx,
       deps.clock,
-      to.map((u) => ({ to: u.email, subject: `DEGRADED: ${tag} failed its trip test`, ...bodies, topic: 'trip_test' })),
+      to.map((u) => ({
+        to: u.email,
+        subject: `DEGRADED: ${limit.tag} failed its trip test`,
+        ...bodies,
+        topic: 'trip_test',
+      })),
     )
-  } else if (open && row.kind === 'full') {
-    await trx
-      .updateTable('limit_degradation')
-      .set({ cleared_at: now, cleared_by_test_id: row.id })
-      .where('id', '=', open.id)
-      .execute()
+  } else if (open && row.kind === 'full' && row.scope === 'function') {
+    await repo.updateDegradation(trx, open.id, { cleared_at: now, cleared_by_test_id: row.id })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'limit.degradation_cleared',
       entityType: 'Limit',
@@ -526,7 +605,16 @@ async function applyResult(deps: AppDeps, trx: Trx, ctx: AuditContext, row: Sele
   await refreshTestSchedule(trx, row.limit_id, now)
 }
 
-/** A shift supervisor records and signs the compensating measures and repair deadline of a degraded limit. */
+/** The end of a calendar day in a zone (the moment the next day starts). */
+function endOfDay(date: string, timeZone: string): Date {
+  const [y, m, d] = date.split('-').map(Number)
+  return new Date(new TZDate(y, m - 1, d + 1, timeZone).getTime())
+}
+
+/**
+ * A shift supervisor records and signs the compensating measures and repair deadline of a degraded limit. A deadline
+ * beyond the MTTR assumed for the function is accepted with a warning and waits for the plant manager's signature.
+ */
 export async function signDegradationMeasures(
   deps: AppDeps,
   ability: AppAbility,
@@ -534,88 +622,167 @@ export async function signDegradationMeasures(
   limitId: number,
   input: { compensatingMeasures: string[]; repairDeadline: string; password: string },
 ) {
-  const limit = await deps.db
-    .selectFrom('limit_function')
-    .select(['site_id', 'tag'])
-    .where('id', '=', limitId)
-    .executeTakeFirst()
+  const limit = await repo.findLimitForTest(deps.db, limitId)
   if (!limit) throw notFound('Limit')
   authorize(ability, 'read', 'Limit', { siteId: limit.site_id })
-  const isSupervisor =
-    allows(ability, 'accept', 'TripTest', { siteId: limit.site_id }) &&
-    (await deps.db
-      .selectFrom('role_assignment')
-      .select('role')
-      .where('user_id', '=', ctx.actorId!)
-      .where('site_id', '=', limit.site_id)
-      .where('role', '=', 'shift_supervisor')
-      .executeTakeFirst())
-  if (!isSupervisor)
-    throw forbidden('A shift supervisor of this site records the compensating measures of a degraded limit')
+  const actor = await actorAt(deps.db, ability, ctx, limit.site_id)
+  const now = deps.clock.now()
+  const probe = degradationActions(
+    {
+      siteId: limit.site_id,
+      cleared: false,
+      openedAt: now,
+      measuresSigned: false,
+      deadlineBeyondMttr: false,
+      deadlineApproved: false,
+    },
+    actor,
+    null,
+    now,
+  ).signMeasures
+  enforce(probe)
+  if (input.repairDeadline < localDate(now, limit.time_zone))
+    throw validationFailed({ repairDeadline: ['The repair deadline cannot lie in the past'] })
   const signer = await verifySignaturePassword(deps, ctx.actorId!, input.password, ctx, {
     entityType: 'Limit',
     entityId: limitId,
   })
   await deps.db.transaction().execute(async (trx) => {
-    const open = await trx
-      .selectFrom('limit_degradation')
-      .selectAll()
-      .where('limit_id', '=', limitId)
-      .where('cleared_at', 'is', null)
-      .forUpdate()
-      .executeTakeFirst()
-    if (!open) throw invalidState(`${limit.tag} is not degraded`)
+    const open = await repo.lockOpenDegradation(trx, limitId)
+    if (!open) enforce({ allowed: false, status: 409, reason: `${limit.tag} is not degraded` })
+    const d = open!
+    const mttr = d.mttr_hours === null ? null : Number(d.mttr_hours)
+    const check = checkRepairDeadline(d.opened_at, endOfDay(input.repairDeadline, limit.time_zone), mttr)
     const content = {
-      degradationId: open.id,
+      degradationId: d.id,
       compensatingMeasures: input.compensatingMeasures,
       repairDeadline: input.repairDeadline,
     }
-    await trx
-      .updateTable('limit_degradation')
-      .set({
-        compensating_measures: JSON.stringify(input.compensatingMeasures),
-        repair_deadline: input.repairDeadline,
-        measures_signed_by: signer.id,
-        measures_signed_at: deps.clock.now(),
-      })
-      .where('id', '=', open.id)
-      .execute()
+    await repo.updateDegradation(trx, d.id, {
+      compensating_measures: JSON.stringify(input.compensatingMeasures),
+      repair_deadline: input.repairDeadline,
+      measures_signed_by: signer.id,
+      measures_signed_at: deps.clock.now(),
+      deadline_beyond_mttr: check.beyondMttr,
+      deadline_approved_by: null,
+      deadline_approved_at: null,
+      escalated_at: null,
+    })
     await insertSignature(trx, deps.clock, {
       entityType: 'LimitDegradation',
-      entityId: open.id,
+      entityId: d.id,
       userId: signer.id,
       name: signer.name,
       meaning: 'authorized',
       contentHash: contentHash(content),
     })
+    if (check.beyondMttr) {
+      const managers = await findUsersWithRole(trx, limit.site_id, ['plant_manager'])
+      const bodies = mailBodies(
+        [
+          `${limit.tag} is degraded. The repair deadline ${input.repairDeadline} lies beyond the ${mttr} h MTTR ` +
+            'assumed for this function.',
+          'Approve the longer deadline with your signature, or ask for a shorter one. Continued operation on ' +
+            'compensating measures is allowed only for a limited time.',
+        ],
+        { url: `${deps.config.appUrl}/tests/${d.test_id}`, label: `Open trip test #${d.test_id}` },
+      )
+      await enqueueMail(
+        trx,
+        deps.clock,
+        managers.map((u) => ({
+          to: u.email,
+          subject: `Approve: repair deadline of ${limit.tag} beyond its MTTR`,
+          ...bodies,
+          topic: 'trip_test',
+        })),
+      )
+    }
     await appendAudit(trx, deps.clock, ctx, {
       action: 'limit.degradation_measures',
       entityType: 'Limit',
       entityId: limitId,
-      after: { ...content, signer: signer.name },
+      after: { ...content, signer: signer.name, beyondMttr: check.beyondMttr, mttrHours: mttr },
     })
   })
-  return getDegradation(deps, ability, limitId)
+  return getDegradation(deps, ability, limitId, ctx)
 }
 
-export async function getDegradation(deps: AppDeps, ability: AppAbility, limitId: number) {
-  const limit = await deps.db
-    .selectFrom('limit_function')
-    .select('site_id')
-    .where('id', '=', limitId)
-    .executeTakeFirst()
+/** The plant manager signs a repair deadline that lies beyond the function's assumed MTTR. */
+export async function approveRepairDeadline(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  limitId: number,
+  input: { password: string; comment: string },
+) {
+  const limit = await repo.findLimitForTest(deps.db, limitId)
   if (!limit) throw notFound('Limit')
   authorize(ability, 'read', 'Limit', { siteId: limit.site_id })
-  const rows = await deps.db
-    .selectFrom('limit_degradation')
-    .leftJoin('app_user', 'app_user.id', 'limit_degradation.measures_signed_by')
-    .innerJoin('limit_function', 'limit_function.id', 'limit_degradation.limit_id')
-    .selectAll('limit_degradation')
-    .select(['app_user.display_name', 'limit_function.site_id'])
-    .where('limit_id', '=', limitId)
-    .orderBy('opened_at', 'desc')
-    .execute()
+  const actor = await actorAt(deps.db, ability, ctx, limit.site_id)
+  if (!actor.roles.includes('plant_manager'))
+    enforce({ allowed: false, status: 403, reason: 'The plant manager approves a repair deadline beyond the MTTR' })
+  const signer = await verifySignaturePassword(deps, ctx.actorId!, input.password, ctx, {
+    entityType: 'Limit',
+    entityId: limitId,
+  })
+  await deps.db.transaction().execute(async (trx) => {
+    const d = await repo.lockOpenDegradation(trx, limitId)
+    if (!d) enforce({ allowed: false, status: 409, reason: `${limit.tag} is not degraded` })
+    const now = deps.clock.now()
+    enforce(degradationActions(degradationRule(d!, limit.site_id), actor, null, now).approveDeadline)
+    await repo.updateDegradation(trx, d!.id, { deadline_approved_by: signer.id, deadline_approved_at: now })
+    const content = { degradationId: d!.id, repairDeadline: d!.repair_deadline, mttrHours: d!.mttr_hours }
+    await insertSignature(trx, deps.clock, {
+      entityType: 'LimitDegradation',
+      entityId: d!.id,
+      userId: signer.id,
+      name: signer.name,
+      meaning: 'approved',
+      contentHash: contentHash(content),
+      comment: input.comment,
+    })
+    await appendAudit(trx, deps.clock, ctx, {
+      action: 'limit.repair_deadline_approved',
+      entityType: 'Limit',
+      entityId: limitId,
+      after: { ...content, signer: signer.name, comment: input.comment },
+    })
+  })
+  return getDegradation(deps, ability, limitId, ctx)
+}
+
+function degradationRule(
+  d: { cleared_at: Date | null; opened_at: Date; measures_signed_at: Date | null } & {
+    deadline_beyond_mttr: boolean
+    deadline_approved_at: Date | null
+  },
+  siteId: number,
+) {
   return {
+    siteId,
+    cleared: d.cleared_at !== null,
+    openedAt: d.opened_at,
+    measuresSigned: d.measures_signed_at !== null,
+    deadlineBeyondMttr: d.deadline_beyond_mttr,
+    deadlineApproved: d.deadline_approved_at !== null,
+  }
+}
+
+export async function getDegradation(
+  deps: AppDeps,
+  ability: AppAbility,
+  limitId: number,
+  ctx?: AuditContext,
+): Promise<DegradationResponse> {
+  const limit = await repo.findLimitForTest(deps.db, limitId)
+  if (!limit) throw notFound('Limit')
+  authorize(ability, 'read', 'Limit', { siteId: limit.site_id })
+  const actor: RuleActor = ctx ? await actorAt(deps.db, ability, ctx, limit.site_id) : { id: 0, ability, roles: [] }
+  const now = deps.clock.now()
+  const rows = await repo.listDegradations(deps.db, limitId)
+  return {
+    mttrHours: functionMttrHours(limit.subsystems as Subsystem[]),
     items: rows.map((r) => ({
       id: r.id,
       testId: r.test_id,
@@ -623,55 +790,22 @@ export async function getDegradation(deps: AppDeps, ability: AppAbility, limitId
       reasons: r.reasons,
       compensatingMeasures: r.compensating_measures,
       repairDeadline: r.repair_deadline,
-      measuresSignedBy: r.display_name,
+      measuresSignedBy: r.signer_name,
       measuresSignedAt: r.measures_signed_at?.toISOString() ?? null,
+      mttrHours: r.mttr_hours === null ? null : Number(r.mttr_hours),
+      deadlineBeyondMttr: r.deadline_beyond_mttr,
+      deadlineApprovedBy: r.approver_name,
+      deadlineApprovedAt: r.deadline_approved_at?.toISOString() ?? null,
+      escalatedAt: r.escalated_at?.toISOString() ?? null,
       clearedAt: r.cleared_at?.toISOString() ?? null,
       clearedByTestId: r.cleared_by_test_id,
+      actions: degradationActions(degradationRule(r, limit.site_id), actor, null, now),
     })),
   }
 }
 
-export interface TripTestListQuery {
-  siteIds: number[]
-  limitId?: number
-  passed?: boolean
-  page: number
-  pageSize: number
-}
-
-export async function listTripTests(deps: AppDeps, q: TripTestListQuery) {
-  let base = deps.db
-    .selectFrom('trip_test')
-    .innerJoin('limit_function', 'limit_function.id', 'trip_test.limit_id')
-    .innerJoin('app_user', 'app_user.id', 'trip_test.recorded_by')
-    .where('trip_test.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
-  if (q.limitId) base = base.where('trip_test.limit_id', '=', q.limitId)
-  if (q.passed !== undefined) base = base.where('trip_test.passed', '=', q.passed)
-  const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const rows = await base
-    .select([
-      'trip_test.id',
-      'trip_test.limit_id',
-      'trip_test.site_id',
-      'limit_function.tag',
-      'trip_test.kind',
-      'trip_test.method',
-      'trip_test.performed_at',
-      'trip_test.as_found',
-      'trip_test.as_found_result',
-      'trip_test.as_left',
-      'trip_test.as_left_result',
-      'trip_test.passed',
-      'trip_test.status',
-      'trip_test.setpoint',
-      'trip_test.tolerance_eu',
-      'app_user.display_name',
-    ])
-    .orderBy('trip_test.performed_at', 'desc')
-    .orderBy('trip_test.id', 'desc')
-    .limit(q.pageSize)
-    .offset((q.page - 1) * q.pageSize)
-    .execute()
+export async function listTripTests(deps: AppDeps, q: repo.TripTestListFilter): Promise<TripTestList> {
+  const { total, rows } = await repo.listTripTests(deps.db, q)
   return {
     total,
     items: rows.map((r) => ({
@@ -680,6 +814,7 @@ export async function listTripTests(deps: AppDeps, q: TripTestListQuery) {
       siteId: r.site_id,
       limitTag: r.tag,
       kind: r.kind,
+      scope: r.scope,
       method: r.method,
       performedAt: r.performed_at.toISOString(),
       asFound: r.as_found === null ? null : Number(r.as_found),
@@ -695,38 +830,12 @@ export async function listTripTests(deps: AppDeps, q: TripTestListQuery) {
   }
 }
 
-/** The schedule: active limits with their due date and status; `late` lists limits with a test done inside the grace. */
-export async function schedule(
-  deps: AppDeps,
-  q: { siteIds: number[]; areaIds?: number[]; status?: string[]; late?: boolean; limit: number },
-) {
-  let base = deps.db
-    .selectFrom('limit_function')
-    .innerJoin('area', 'area.id', 'limit_function.area_id')
-    .innerJoin('site', 'site.id', 'limit_function.site_id')
-    .where('limit_function.status', '=', 'active')
-    .where('limit_function.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
-  if (q.areaIds?.length) base = base.where('limit_function.area_id', 'in', q.areaIds)
-  if (q.status?.length) base = base.where('limit_function.test_status', 'in', q.status)
-  const rows = await base
-    .select([
-      'limit_function.id',
-      'limit_function.tag',
-      'limit_function.description',
-      'limit_function.site_id',
-      'site.code as site_code',
-      'area.name as area_name',
-      'limit_function.test_status',
-      'limit_function.test_due_date',
-      'limit_function.last_full_pass',
-      'limit_function.test_interval_months',
-      'limit_function.protection_state',
-      'limit_function.sil',
-    ])
-    .orderBy('limit_function.test_due_date', (ob) => ob.asc().nullsFirst())
-    .orderBy('limit_function.tag')
-    .limit(q.limit)
-    .execute()
+/**
+ * The schedule: active limits with their due date and status; `late` lists limits with a test done inside the
+ * grace.
+ */
+export async function schedule(deps: AppDeps, q: repo.ScheduleFilter & { late?: boolean }): Promise<ScheduleResponse> {
+  const rows = await repo.scheduleRows(deps.db, q)
   let items = rows.map((r) => ({
     limitId: r.id,
     tag: r.tag,
@@ -741,6 +850,7 @@ export async function schedule(
     protectionState: r.protection_state,
     sil: r.sil,
     lateTests: 0,
+    deferredTo: r.deferred_to,
   }))
   if (q.late) {
     const now = deps.clock.now()
@@ -752,17 +862,334 @@ export async function schedule(
     }
     items = withLate
   }
-  let countBase = deps.db
-    .selectFrom('limit_function')
-    .where('status', '=', 'active')
-    .where('site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
-  if (q.areaIds?.length) countBase = countBase.where('area_id', 'in', q.areaIds)
-  const counts = await countBase
-    .select(['test_status', (eb) => eb.fn.countAll<number>().as('n')])
-    .groupBy('test_status')
-    .execute()
+  const counts = await repo.scheduleCounts(deps.db, q.siteIds, q.areaIds)
   return { items, total: items.length, counts: Object.fromEntries(counts.map((c) => [c.test_status, Number(c.n)])) }
 }
 
+/** Stores an attachment on a record before it is signed. */
+export async function attachToTripTest(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+  store: (
+    trx: Trx,
+  ) => Promise<{ id: number; file_name: string; content_type: string; size_bytes: number; sha256: string }>,
+) {
+  return deps.db.transaction().execute(async (trx) => {
+    const row = await repo.lockTripTest(trx, id)
+    if (!row) throw notFound('Trip test')
+    authorize(ability, 'read', 'TripTest', { siteId: row.site_id })
+    const actor = await actorAt(trx, ability, ctx, row.site_id)
+    enforce((await verdictsFor(trx, row, actor, deps.clock.now())).verdicts.attach)
+    const a = await store(trx)
+    await appendAudit(trx, deps.clock, ctx, {
+      action: 'trip_test.attach',
+      entityType: ENTITY,
+      entityId: id,
+      after: {
+        attachmentId: a.id,
+        fileName: a.file_name,
+        contentType: a.content_type,
+        sizeBytes: a.size_bytes,
+        sha256: a.sha256,
+      },
+    })
+    return { id: a.id, fileName: a.file_name, contentType: a.content_type, sizeBytes: a.size_bytes }
+  })
+}
+
+/** What the certificate prints beside the record. */
+export async function certificateContext(deps: AppDeps, limitId: number) {
+  const l = await repo.findLimitForTest(deps.db, limitId)
+  if (!l) throw notFound('Limit')
+  return { siteName: l.site_name, limitDescription: l.description, timeZone: l.time_zone }
+}
+
+// ---- test deferrals
+
+/**
+ * The product's risk assessment of a deferral: the PFDavg of the function with its proof-test interval stretched
+ * from the last passing full test to the new due date, against the target SIL (docs/domain/test-deferrals.md).
+ */
+export function deferralRisk(
+  l: { sil: number | null; subsystems: unknown[]; test_interval_months: number },
+  lastFullPass: string,
+  newDueDate: string,
+): DeferralRisk {
+  const subsystems = l.subsystems as Subsystem[]
+  const stretchedIntervalHours =
+    (Date.parse(`${newDueDate}T00:00:00Z`) - Date.parse(`${lastFullPass}T00:00:00Z`)) / 36e5
+  if (l.sil === null || subsystems.length === 0)
+    return {
+      intervalMonths: l.test_interval_months,
+      stretchedIntervalHours,
+      designPfd: null,
+      stretchedPfd: null,
+      targetSil: l.sil,
+      meetsTarget: null,
+      explanation:
+        l.sil === null
+          ? 'Not a SIL-rated function: no PFDavg target to hold the deferral against'
+          : 'No subsystem reliability data: the PFDavg cannot be computed; the approver judges without it',
+    }
+  const designPfd = sifPfd(subsystems)
+  const stretchedPfd = Math.min(
+    1,
+    subsystems.reduce(
+      (sum, x) =>
+        sum +
+        subsystemPfd(x, {
+          testIntervalHours: Math.max(intervalHours(x.testIntervalMonths), stretchedIntervalHours),
+        }),
+      0,
+    ),
+  )
+  const cmp = compareToTarget(l.sil as Sil, stretchedPfd)
+  return {
+    intervalMonths: l.test_interval_months,
+    stretchedIntervalHours,
+    designPfd,
+    stretchedPfd,
+    targetSil: l.sil,
+    meetsTarget: cmp.meetsTarget,
+    explanation:
+      `With the interval stretched to ${Math.round(stretchedIntervalHours)} h: ${cmp.explanation} ` +
+      `(design PFDavg ${designPfd.toPrecision(3)})`,
+  }
+}
+
+function toDeferralDto(
+  r: NonNullable<Awaited<ReturnType<typeof repo.findDeferral>>>,
+  actor: RuleActor,
+  now: Date,
+): TestDeferralDto {
+  const days = (Date.parse(`${r.new_due_date}T00:00:00Z`) - Date.parse(`${r.original_due_date}T00:00:00Z`)) / 864e5
+  return {
+    id: r.id,
+    limitId: r.limit_id,
+    limitTag: r.tag,
+    siteId: r.site_id,
+    sil: r.sil,
+    status: r.status,
+    inForce: r.status === 'approved' && r.test_due_date === r.new_due_date,
+    originalDueDate: r.original_due_date,
+    newDueDate: r.new_due_date,
+    extensionDays: Math.round(days),
+    reason: r.reason,
+    compensatingMeasures: r.compensating_measures,
+    risk: r.risk,
+    requiredRole: r.required_role,
+    requestedById: r.requested_by,
+    requestedBy: r.requester_name,
+    requestedAt: r.requested_at.toISOString(),
+    decidedBy: r.decider_name,
+    decidedAt: r.decided_at?.toISOString() ?? null,
+    decisionComment: r.decision_comment,
+    contentHash: r.content_hash,
+    actions: deferralActions(
+      { siteId: r.site_id, status: r.status, requestedById: r.requested_by, requiredRole: r.required_role },
+      actor,
+      null,
+      now,
+    ),
+  }
+}
+
+export async function getDeferral(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number) {
+  const r = await repo.findDeferral(deps.db, id)
+  if (!r) throw notFound('Test deferral')
+  authorize(ability, 'read', 'TripTest', { siteId: r.site_id })
+  return toDeferralDto(r, await actorAt(deps.db, ability, ctx, r.site_id), deps.clock.now())
+}
+
+export async function listDeferrals(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  q: Omit<repo.DeferralListFilter, 'siteIds'> & { siteIds: number[] } & Partial<TestDeferralListQuery>,
+): Promise<TestDeferralList> {
+  const { total, rows } = await repo.listDeferrals(deps.db, q)
+  const now = deps.clock.now()
+  const actors = new Map<number, RuleActor>()
+  const items: TestDeferralDto[] = []
+  for (const r of rows) {
+    if (!actors.has(r.site_id)) actors.set(r.site_id, await actorAt(deps.db, ability, ctx, r.site_id))
+    items.push(toDeferralDto(r, actors.get(r.site_id)!, now))
+  }
+  return { total, items }
+}
+
+/** Requests a deferral of a limit's next full test, with the product's risk assessment. */
+export async function requestDeferral(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  input: Required<Pick<TestDeferralInput, 'limitId' | 'newDueDate' | 'reason' | 'compensatingMeasures'>>,
+): Promise<TestDeferralDto> {
+  const pre = await repo.findLimitForTest(deps.db, input.limitId)
+  if (!pre) throw validationFailed({ limitId: ['The limit does not exist'] })
+  authorize(ability, 'read', 'Limit', { siteId: pre.site_id })
+  const actor = await actorAt(deps.db, ability, ctx, pre.site_id)
+  const id = await deps.db.transaction().execute(async (trx) => {
+    await repo.lockLimit(trx, input.limitId)
+    const l = (await repo.findLimitForTest(trx, input.limitId))!
+    const now = deps.clock.now()
+    const policy = policyOf(l)
+    const sched = await computeSchedule(trx, l.id, now)
+    const plainDue = sched.deferredFrom ?? sched.dueDate
+    const openRequested = (await repo.requestedDeferrals(trx, l.id)).length > 0
+    const extensionDays =
+      plainDue === null
+        ? 0
+        : Math.round((Date.parse(`${input.newDueDate}T00:00:00Z`) - Date.parse(`${plainDue}T00:00:00Z`)) / 864e5)
+    enforce(
+      checkDeferralRequest(
+        {
+          siteId: l.site_id,
+          limitActive: l.status === 'active',
+          dueDate: plainDue,
+          today: sched.today,
+          newDueDate: input.newDueDate,
+          intervalMonths: l.test_interval_months,
+          openDeferral: openRequested || sched.deferredFrom !== null,
+          extensionDays,
+        },
+        actor,
+        policy,
+      ),
+    )
+    const risk = deferralRisk(l, sched.lastFullPass!, input.newDueDate)
+    const requiredRole = deferralApproverRole(policy, l.sil)
+    const content = {
+      limitId: l.id,
+      originalDueDate: plainDue,
+      newDueDate: input.newDueDate,
+      reason: input.reason,
+      compensatingMeasures: input.compensatingMeasures,
+      risk,
+    }
+    const hash = contentHash(content)
+    const row = await repo.insertDeferral(trx, {
+      limit_id: l.id,
+      site_id: l.site_id,
+      original_due_date: plainDue!,
+      new_due_date: input.newDueDate,
+      reason: input.reason,
+      compensating_measures: JSON.stringify(input.compensatingMeasures),
+      risk: JSON.stringify(risk),
+      required_role: requiredRole,
+      content_hash: hash,
+      requested_by: ctx.actorId!,
+      requested_at: now,
+    })
+    const deciders = await findUsersWithRole(trx, l.site_id, [requiredRole])
+    const bodies = mailBodies(
+      [
+        `A deferral of the full test of ${l.tag} from ${plainDue} to ${input.newDueDate} is requested: ` +
+          `${input.reason}.`,
+        risk.explanation,
+      ],
+      { url: `${deps.config.appUrl}/tests/deferrals`, label: 'Open the test deferrals' },
+    )
+    await enqueueMail(
+      trx,
+      deps.clock,
+      deciders
+        .filter((u) => u.id !== ctx.actorId)
+        .map((u) => ({ to: u.email, subject: `Decide: test deferral of ${l.tag}`, ...bodies, topic: 'trip_test' })),
+    )
+    await appendAudit(trx, deps.clock, ctx, {
+      action: 'test_deferral.request',
+      entityType: DEFERRAL,
+      entityId: row.id,
+      after: { ...content, requiredRole, contentHash: hash },
+    })
+    return row.id
+  })
+  return getDeferral(deps, ability, ctx, id)
+}
+
+/** Approves or rejects a deferral with a signature; an approval moves the due date while it is valid. */
+export async function decideDeferral(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+  decision: 'approve' | 'reject',
+  input: { password: string; comment: string },
+): Promise<TestDeferralDto> {
+  const pre = await repo.findDeferral(deps.db, id)
+  if (!pre) throw notFound('Test deferral')
+  authorize(ability, 'read', 'TripTest', { siteId: pre.site_id })
+  const actor = await actorAt(deps.db, ability, ctx, pre.site_id)
+  const early = toDeferralDto(pre, actor, deps.clock.now()).actions[decision]
+  if (!early.allowed && early.status === 403) enforce(early)
+  if (decision === 'reject' && !input.comment) throw validationFailed({ comment: ['Say why the deferral is rejected'] })
+  const signer = await verifySignaturePassword(deps, ctx.actorId!, input.password, ctx, {
+    entityType: DEFERRAL,
+    entityId: id,
+  })
+  await deps.db
+    .transaction()
+    .execute(async (trx) => {
+      await repo.lockLimit(trx, pre.limit_id)
+      const d = await repo.lockDeferral(trx, id)
+      if (!d) throw notFound('Test deferral')
+      const now = deps.clock.now()
+      enforce(
+        deferralActions(
+          { siteId: d.site_id, status: d.status, requestedById: d.requested_by, requiredRole: d.required_role },
+          actor,
+          null,
+          now,
+        )[decision],
+      )
+      let status: DeferralStatus = decision === 'approve' ? 'approved' : 'rejected'
+      if (decision === 'approve') {
+        // a deferral of a due date the tests have since moved, or whose new date has passed, no longer applies
+        const sched = await computeSchedule(trx, d.limit_id, now)
+        const plainDue = sched.deferredFrom ?? sched.dueDate
+        if (plainDue !== d.original_due_date || d.new_due_date < sched.today) status = 'lapsed'
+      }
+      await repo.updateDeferral(trx, id, {
+        status,
+        decided_by: signer.id,
+        decided_at: now,
+        decision_comment: input.comment,
+      })
+      await insertSignature(trx, deps.clock, {
+        entityType: DEFERRAL,
+        entityId: id,
+        userId: signer.id,
+        name: signer.name,
+        meaning: decision === 'approve' ? 'approved' : 'rejected',
+        contentHash: d.content_hash,
+        comment: input.comment,
+      })
+      await appendAudit(trx, deps.clock, ctx, {
+        action: `test_deferral.${decision}`,
+        entityType: DEFERRAL,
+        entityId: id,
+        after: { signer: signer.name, status, contentHash: d.content_hash, comment: input.comment },
+      })
+      await refreshTestSchedule(trx, d.limit_id, now)
+      if (status === 'lapsed') throw new LapsedError()
+    })
+    .catch((e) => {
+      if (e instanceof LapsedError)
+        enforce({
+          allowed: false,
+          status: 409,
+          reason: 'The due date has moved since the request, or the new date has passed: request the deferral again',
+        })
+      throw e
+    })
+  return getDeferral(deps, ability, ctx, id)
+}
+
+class LapsedError extends Error {}
+
 export { ENTITY as TRIP_TEST_ENTITY }
 export type { Clock }
+export type { SitePolicy }

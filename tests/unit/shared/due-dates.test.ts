@@ -2,7 +2,9 @@ import { describe, expect, it } from 'vitest'
 import {
   computeDueDates,
   defaultGraceDays,
+  dueSoonDays,
   intervalHours,
+  maxGraceDays,
   type DueDateInput,
   type DueDateTest,
 } from '../../../shared/domain/due-dates.ts'
@@ -23,7 +25,7 @@ function due(overrides: Partial<DueDateInput>) {
 }
 
 describe('intervalHours', () => {
-  // DOMAIN.md §5: 1 month = 730 h; 12 months = 8 760 h = 1 year and 3 months = 2 190 h as used in
+  // docs/domain/due-dates.md: 1 month = 730 h; 12 months = 8 760 h = 1 year and 3 months = 2 190 h as used in
   // ../shared/reference/sif-reliability.md (1oo1 variants table)
   it.each([
     [1, 730],
@@ -37,7 +39,7 @@ describe('intervalHours', () => {
 })
 
 describe('defaultGraceDays', () => {
-  // DOMAIN.md §6 site policy (common practice): 0 under a code-set interval, else 10 % of the interval, at most 30 days;
+  // docs/domain/due-dates.md site policy (common practice): 0 under a code-set interval, else 10 % of the interval, at most 30 days;
   // our reading: interval at 730 h per month, rounded down to whole days (e.g. 6 months = 4 380 h → 438 h = 18.25 d → 18)
   it.each<[number, boolean, number]>([
     [0.5, false, 1], // 1.52 days: rounded down, not to nearest (for whole months below 12 both agree)
@@ -85,7 +87,7 @@ describe('computeDueDates: calendar months with month-end clamping', () => {
 })
 
 describe('computeDueDates: status', () => {
-  // DOMAIN.md §5: overdue when today > due date + grace; due_soon = due within 30 days (site convention, common practice).
+  // docs/domain/due-dates.md: overdue when today > due date + grace; due_soon = due within 30 days (site convention, common practice).
   // Last pass 2024-03-15, 12 months → due 2025-03-15; grace 30 → grace end 2025-04-14.
   const tests = [full('2024-03-15T09:00:00Z')]
   it.each<[number, string, string, number]>([
@@ -127,7 +129,7 @@ describe('computeDueDates: status', () => {
 })
 
 describe('computeDueDates: history rules', () => {
-  // DOMAIN.md §5: due date counts from the last completed full test that passed; after a failure it counts from the
+  // docs/domain/due-dates.md: due date counts from the last completed full test that passed; after a failure it counts from the
   // passing retest; partial tests never move the full-test due date.
   it('ignores partial tests, passed or not', () => {
     const r = due({
@@ -171,7 +173,7 @@ describe('computeDueDates: history rules', () => {
     expect(passThenFail.lastFullPass).toBe('2024-06-01')
   })
 
-  // DOMAIN.md §5: a test done inside the grace period is reported as late; the next due date counts from the late
+  // docs/domain/due-dates.md: a test done inside the grace period is reported as late; the next due date counts from the late
   // test (common practice, ../shared/reference/test-acceptance.md: "a late test shifts the next due date").
   // Due 2025-03-15, grace 30 → grace end 2025-04-14.
   it.each<[string, boolean, number | null, boolean | null]>([
@@ -224,7 +226,7 @@ describe('computeDueDates: history rules', () => {
 })
 
 describe('computeDueDates: time zones', () => {
-  // DOMAIN.md §5: due dates are calendar dates in the site's zone. 2025-01-31T23:30Z is 2025-02-01 00:30 CET in Berlin
+  // docs/domain/due-dates.md: due dates are calendar dates in the site's zone. 2025-01-31T23:30Z is 2025-02-01 00:30 CET in Berlin
   // (UTC+1 in winter), 18:30 EST on 2025-01-31 in New York (UTC−5).
   it.each<[string, string, string]>([
     ['UTC', '2025-01-31', '2025-02-28'],
@@ -297,5 +299,66 @@ describe('computeDueDates: input checks', () => {
     ['unknown time zone', { timeZone: 'Mars/Olympus_Mons' }],
   ])('rejects %s', (_name, overrides) => {
     expect(() => due(overrides)).toThrow(RangeError)
+  })
+})
+
+describe('dueSoonDays: the look-ahead scales with short intervals (common practice, no standard behind the numbers)', () => {
+  // a quarter of the interval at 730 h per month (30.42 days), rounded down, at most 30 days
+  it.each([
+    [1, 7], // 30.42 / 4 = 7.6
+    [2, 15], // 60.83 / 4 = 15.2
+    [3, 22], // 91.25 / 4 = 22.8
+    [4, 30], // 121.7 / 4 = 30.4 → 30
+    [12, 30],
+  ])('%s months → %s days', (months, days) => {
+    expect(dueSoonDays(months)).toBe(days)
+  })
+  it('a monthly test is not due soon the day it passed, and is 7 days before its due date', () => {
+    const t = [full('2025-01-01T10:00:00Z')]
+    expect(due({ testIntervalMonths: 1, testGraceDays: 0, tests: t, now: at('2025-01-02T10:00:00Z') }).status).toBe(
+      'ok',
+    )
+    // due 1 February: on 24 January 8 days ahead (ok), on 25 January 7 days ahead (due soon)
+    expect(due({ testIntervalMonths: 1, testGraceDays: 0, tests: t, now: at('2025-01-24T10:00:00Z') }).status).toBe(
+      'ok',
+    )
+    expect(due({ testIntervalMonths: 1, testGraceDays: 0, tests: t, now: at('2025-01-25T10:00:00Z') }).status).toBe(
+      'due_soon',
+    )
+  })
+})
+
+describe('maxGraceDays: no grace beyond half the interval (common practice)', () => {
+  it.each([
+    [1, 15], // 30.42 / 2 = 15.2
+    [3, 45], // 91.25 / 2
+    [12, 182], // 365 / 2 = 182.5
+  ])('%s months → %s days', (months, days) => {
+    expect(maxGraceDays(months)).toBe(days)
+  })
+  it('bounds a limit grace given above it', () => {
+    const r = due({ testIntervalMonths: 1, testGraceDays: 40, tests: [full('2025-01-01T10:00:00Z')] })
+    expect(r.graceDays).toBe(15)
+    expect(r.graceEnd).toBe('2025-02-16')
+  })
+})
+
+describe('computeDueDates: an approved deferral moves the due date while it is valid', () => {
+  const tests = [full('2024-03-10T10:00:00Z')]
+  const deferral = { originalDueDate: '2025-03-10', newDueDate: '2025-04-20' }
+  it('moves the due date, with no grace past the deferred date', () => {
+    const r = due({ tests, deferral, testGraceDays: 30, now: at('2025-04-01T12:00:00Z') })
+    expect(r).toMatchObject({ dueDate: '2025-04-20', graceEnd: '2025-04-20', status: 'due_soon' })
+    expect(r.deferredFrom).toBe('2025-03-10')
+    // the day after the deferred date it is overdue, although 30 days of grace would have run to 9 April only
+    expect(due({ tests, deferral, testGraceDays: 30, now: at('2025-04-21T12:00:00Z') }).status).toBe('overdue')
+  })
+  it('stops applying once a passing full test moved the due date', () => {
+    const r = due({ tests: [...tests, full('2025-03-20T10:00:00Z')], deferral, now: at('2025-04-01T12:00:00Z') })
+    expect(r).toMatchObject({ dueDate: '2026-03-20', deferredFrom: null, status: 'ok' })
+  })
+  it('does not apply to a due date it was not asked for', () => {
+    const r = due({ tests, deferral: { originalDueDate: '2025-03-11', newDueDate: '2025-04-20' } })
+    expect(r).toMatchObject({ dueDate: '2025-03-10', deferredFrom: null })
   })
 })
