@@ -93,13 +93,16 @@ export function toleranceInEu(
 }
 
 /** MooN voting: the function acts when at least M of its N channels trip. */
-export const VOTING: Readonly<Record<'1oo1' | '1oo2' | '2oo2' | '2oo3' | '1oo3', { m: number; n: number }>> = {
-  '1oo1': { m: 1, n: 1 },
-  '1oo2': { m: 1, n: 2 },
-  '2oo2': { m: 2, n: 2 },
-  '2oo3': { m: 2, n: 3 },
-  '1oo3': { m: 1, n: 3 },
-}
+export const VOTING: Readonly<Record<'1oo1' | '1oo2' | '1oo2D' | '2oo2' | '2oo3' | '1oo3', { m: number; n: number }>> =
+  {
+    '1oo1': { m: 1, n: 1 },
+    '1oo2': { m: 1, n: 2 },
+    // 1oo2D votes 1oo2 on its channels; its diagnostics do not change how a proof test judges each channel
+    '1oo2D': { m: 1, n: 2 },
+    '2oo2': { m: 2, n: 2 },
+    '2oo3': { m: 2, n: 3 },
+    '1oo3': { m: 1, n: 3 },
+  }
 
 export interface ChannelJudgement {
   asFoundResult: AsFoundResult
