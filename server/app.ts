@@ -24,11 +24,8 @@ import {
   createTestDeferralsRouter,
   createTripTestsRouter,
 } from './features/trip-tests/trip-tests.router.ts'
-import {
-  createBypassesRouter,
-  createBypassReviewRouter,
-  createProtectionStateRouter,
-} from './features/bypasses/bypasses.router.ts'
+import { createBypassesRouter, createBypassReviewRouter } from './features/bypasses/bypasses.router.ts'
+import { createShiftHandoverRouter } from './features/shift-handover/shift-handover.router.ts'
 import { createAuditRouter } from './features/audit/audit.router.ts'
 import {
   createAlarmFiguresRouter,
@@ -125,7 +122,7 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/test-deferrals', createTestDeferralsRouter(deps))
   api.use('/bypasses', createBypassesRouter(deps))
   api.use('/bypass-review', createBypassReviewRouter(deps))
-  api.use('/protection-state', createProtectionStateRouter(deps))
+  api.use('/shift-handovers', createShiftHandoverRouter(deps))
   api.use('/imports', createImportsRouter(deps))
   api.use('/change-requests', createChangeRequestsRouter(deps))
   api.use('/audit-events', createAuditRouter(deps))

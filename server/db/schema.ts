@@ -14,6 +14,8 @@ import type {
 import type { TestDueStatus } from '../../shared/domain/due-dates.ts'
 import type { DeferralStatus } from '../../shared/domain/rules/trip-tests.ts'
 import type { Role } from '../../shared/schemas/users.ts'
+import type { BypassStatus } from '../../shared/schemas/bypasses.ts'
+import type { HandoverSnapshot, ShiftHandoverStatus } from '../../shared/schemas/shift-handover.ts'
 
 type Timestamp = ColumnType<Date, Date | string, Date | string>
 type Json = ColumnType<unknown, string | null, string | null>
@@ -425,7 +427,7 @@ export interface BypassTable {
   compensating_measures: JsonValue<string[]>
   planned_start: Timestamp
   planned_end: Timestamp
-  status: Generated<string>
+  status: Generated<BypassStatus>
   change_request_id: number | null
   authorized_at: Timestamp | null
   activated_at: Timestamp | null
@@ -448,6 +450,23 @@ export interface HandoverAckTable {
   at: Timestamp
   snapshot: JsonValue<unknown>
   content_hash: string
+}
+export interface ShiftHandoverTable {
+  id: Generated<number>
+  site_id: number
+  status: Generated<ShiftHandoverStatus>
+  notes: Generated<string>
+  snapshot: JsonValue<HandoverSnapshot>
+  state_hash: string
+  content_hash: string
+  handed_over_by: number
+  handed_over_at: Timestamp
+  accepted_by: number | null
+  accepted_at: Timestamp | null
+}
+export interface ShiftHandoverAreaTable {
+  handover_id: number
+  area_id: number
 }
 
 export type AlarmUploadStatus = 'queued' | 'running' | 'done' | 'failed'
@@ -571,6 +590,8 @@ export interface Database {
   process_data_upload: ProcessDataUploadTable
   process_sample: ProcessSampleTable
   demand: DemandTable
+  shift_handover: ShiftHandoverTable
+  shift_handover_area: ShiftHandoverAreaTable
 }
 
 /** Kinds of event in the demand and trip log. */

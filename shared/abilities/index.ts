@@ -24,6 +24,7 @@ export type Action =
   | 'review'
   | 'classify'
   | 'credit'
+  | 'hand_over'
 
 /** Subjects: PascalCase singular. Site-scoped subjects carry `siteId` (a Site carries `id`). */
 export type SubjectName =
@@ -38,6 +39,7 @@ export type SubjectName =
   | 'Bypass'
   | 'BypassReview'
   | 'Demand'
+  | 'ShiftHandover'
   | 'AuditEvent'
   | 'Mail'
   | 'AlarmJournal'
@@ -54,7 +56,16 @@ export interface AbilityUser {
   roles: RoleAssignment[]
 }
 
-const SITE_SCOPED: SubjectName[] = ['Area', 'Process', 'Instrument', 'Limit', 'ChangeRequest', 'TripTest', 'Bypass']
+const SITE_SCOPED: SubjectName[] = [
+  'Area',
+  'Process',
+  'Instrument',
+  'Limit',
+  'ChangeRequest',
+  'TripTest',
+  'Bypass',
+  'ShiftHandover',
+]
 
 /** Builds the CASL rules for a user from their (site, role) assignments; none for anonymous users. */
 export function defineRulesFor(user: AbilityUser | null): AppRule[] {
@@ -141,6 +152,8 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
   const demandRecorder = sitesWith('operator', 'shift_supervisor', 'safety_engineer')
   if (demandRecorder.length) can('record', 'Demand', { siteId: { $in: demandRecorder } })
   if (engineer.length) can(['classify', 'credit'], 'Demand', { siteId: { $in: engineer } })
+  // the outgoing shift supervisor hands over, the incoming one accepts (docs/shift-handover.md)
+  if (supervisor.length) can(['hand_over', 'accept'], 'ShiftHandover', { siteId: { $in: supervisor } })
   return rules
 }
 

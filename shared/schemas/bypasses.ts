@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import { IdSchema, repeated } from './common.ts'
 
 export const BYPASS_STATUSES = [
   'requested',
@@ -11,7 +12,23 @@ export const BYPASS_STATUSES = [
 ] as const
 export type BypassStatus = (typeof BYPASS_STATUSES)[number]
 
-/** A bypass request (DOMAIN.md §3 Bypass). The limit's predefined compensating measures must be confirmed. */
+/**
+ * The caution shown where a bypass is requested (docs/bypasses.md#cautions): what a bypass means for the hazard, what
+ * the measures must achieve, and that the operators must see it. Common practice; IEC 61511-1 asks for bypasses under
+ * written procedures with compensating measures and an indication to the operator (from memory, no clause cited).
+ */
+export const BYPASS_CAUTION = {
+  title: 'While the limit is bypassed, the hazard it protects against is unprotected',
+  lines: [
+    'The compensating measures must together give the risk reduction the hazard study requires of this function ' +
+      'for the whole bypass; if they cannot, do not bypass: make the plant safe another way.',
+    'The bypass must show on the operator’s screen (bypass indication in the control system) for as long as it is ' +
+      'in force, and the control room must know of it before it is set.',
+    'Limitkeeper records the bypass; it does not set or remove it on the device.',
+  ],
+} as const
+
+/** A bypass request (docs/bypasses.md#workflow). The limit's predefined compensating measures must be confirmed. */
 export const CreateBypassInputSchema = z
   .object({
     limitId: z.number().int().positive(),
@@ -46,7 +63,8 @@ export const RejectBypassInputSchema = z.object({
 export const RemoveBypassInputSchema = z.object({
   pvClearConfirmed: z.literal(
     true,
-    'Confirm that the process value is clear of the limit: removing a bypass while the trip condition is present trips the unit',
+    'Confirm that the process value is clear of the limit: ' +
+      'removing a bypass while the trip condition is present trips the unit',
   ),
   protectionRestoredConfirmed: z.literal(true, 'Confirm that the protection is back in service'),
   note: z.string().trim().max(1000).default(''),
@@ -58,8 +76,12 @@ export interface BypassDto {
   limitTag: string
   limitClass: string
   sil: number | null
+  /** The limit's own longest bypass in hours (register field), null when it sets none. */
+  limitMaxBypassHours: number | null
   siteId: number
   siteCode: string
+  /** The site's IANA time zone: times are shown and written in it. */
+  timeZone: string
   areaId: number
   areaName: string
   processName: string
@@ -95,4 +117,56 @@ export interface BypassDto {
     contentHash: string
   }[]
   createdAt: string
+}
+
+/** Filters of the bypass list, the review and its export (`GET /api/bypasses`, `/api/bypass-review`). */
+export const BypassFilterSchema = z.object({
+  siteId: repeated(IdSchema),
+  areaId: repeated(IdSchema),
+  processId: repeated(IdSchema),
+  limitId: repeated(IdSchema),
+  requesterId: repeated(IdSchema),
+  authorizerId: repeated(IdSchema),
+  status: repeated(z.enum(BYPASS_STATUSES)),
+  overdue: z
+    .enum(['true', 'false'])
+    .transform((v) => v === 'true')
+    .optional(),
+  /** ISO date-times bounding the period: what was in force (or planned, never in force) at some time in it. */
+  from: z.iso.datetime({ offset: true }).optional(),
+  to: z.iso.datetime({ offset: true }).optional(),
+})
+export const BypassListQuerySchema = BypassFilterSchema.extend({
+  page: z.coerce.number().int().min(1).default(1),
+  pageSize: z.coerce.number().int().min(1).max(200).default(50),
+})
+export const BypassReviewQuerySchema = BypassFilterSchema.extend({ format: z.enum(['csv', 'pdf']).optional() })
+/** The filters as the client sends them (arrays repeat the query key; `overdue` travels as text). */
+export type BypassFilters = Omit<z.output<typeof BypassFilterSchema>, 'overdue'> & { overdue?: 'true' | 'false' }
+
+/**
+ * The review's figures (docs/bypasses.md#the-plant-managers-review). A figure is null where nothing happened that it
+ * could measure (no bypass in force this month, none removed in the period...): the screens show "—", not "0 h".
+ */
+export interface BypassReviewKpis {
+  activeNow: number
+  overdueNow: number
+  hoursThisMonth: number | null
+  averageDurationHours: number | null
+  longerThanShift: number
+  shiftHours: number
+  withoutMeasures: number
+  hoursDegraded: number | null
+  sharePastPlannedEnd: number | null
+}
+
+export interface BypassReviewDto {
+  period: { from: string; to: string }
+  kpis: BypassReviewKpis
+  charts: {
+    hoursPerMonth: { month: string; hours: number }[]
+    topLimits: { limitId: number; tag: string; hours: number }[]
+    overduePerMonth: { month: string; count: number }[]
+  }
+  items: BypassDto[]
 }

@@ -54,7 +54,7 @@ export const NAV_ITEMS: NavItem[] = [
     test: 'nav-bypass-review',
   },
   { title: 'Alarm performance', to: '/alarms', icon: mdiAlarmLight, test: 'nav-alarms' },
-  { title: 'Shift handover', to: '/protection', icon: mdiClipboardTextClockOutline, test: 'nav-protection' },
+  { title: 'Shift handover', to: '/shift-handover', icon: mdiClipboardTextClockOutline, test: 'nav-shift-handover' },
   { title: 'Audit trail', to: '/audit', icon: mdiHistory, can: ['read', 'AuditEvent'], test: 'nav-audit' },
   { title: 'Users', to: '/admin/users', icon: mdiAccountGroupOutline, can: ['create', 'User'], test: 'nav-users' },
   { title: 'Sites and policies', to: '/admin/sites', icon: mdiFactory, can: ['create', 'Site'], test: 'nav-sites' },

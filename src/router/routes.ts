@@ -9,6 +9,7 @@ import changeRequestRoutes from '@/features/change-requests/routes'
 import homeRoutes from '@/features/home/routes'
 import mailRoutes from '@/features/mail/routes'
 import registerRoutes from '@/features/register/routes'
+import shiftHandoverRoutes from '@/features/shift-handover/routes'
 import tripTestRoutes from '@/features/trip-tests/routes'
 
 export const routes: RouteRecordRaw[] = [
@@ -18,6 +19,7 @@ export const routes: RouteRecordRaw[] = [
   ...changeRequestRoutes,
   ...tripTestRoutes,
   ...bypassRoutes,
+  ...shiftHandoverRoutes,
   ...alarmRoutes,
   ...adminRoutes,
   ...accountRoutes,

@@ -45,7 +45,7 @@ beforeAll(async () => {
   await activateLimit({ eng: as.engineer, approver: as.approver, tech: as.technician }, limit)
 })
 
-describe('bypass: one active bypass per limit (DOMAIN.md §4, a partial unique index)', () => {
+describe('bypass: one active bypass per limit (docs/bypasses.md, a partial unique index)', () => {
   it('two authorized bypasses activated at the same moment: exactly one 200 and one 409', async () => {
     // a few rounds, so the race is not won by chance in one order only
     for (let round = 0; round < 3; round++) {

@@ -68,6 +68,11 @@ const ask = (who: Who, limitId: number, hours: number, extra: Record<string, unk
   })
 }
 
+/** Moves the clock to a bypass's planned start (it is put in force from then on), a minute or two ahead. */
+async function atPlannedStart(b: { plannedStart: string }) {
+  if (ctx.clock.now().getTime() < Date.parse(b.plannedStart)) ctx.clock.set(b.plannedStart)
+}
+
 async function written() {
   const n = async (t: 'bypass' | 'signature' | 'mail_outbox') =>
     Number(
@@ -103,7 +108,7 @@ beforeAll(async () => {
   await signInAll()
 })
 
-describe('bypass: an authorization not activated in time lapses (DOMAIN.md §6 default 4 h, common practice)', () => {
+describe('bypass: an authorization not activated in time lapses (docs/bypasses.md default 4 h, common practice)', () => {
   it('activates within 4 h; after 4 h activation answers 409 and the job marks the authorization lapsed', async () => {
     ctx.clock.set('2026-06-01T06:00:00Z')
     await signInAll()
@@ -117,7 +122,9 @@ describe('bypass: an authorization not activated in time lapses (DOMAIN.md §6 d
     ).getTime()
     const lateAuth = (await as.supervisor.post(`/api/bypasses/${late.id}/authorizations`, { password: PW }).expect(200))
       .body
-    expect(lateAuth.lapsesAt).toBe(new Date(new Date(lateAuth.authorizedAt).getTime() + 4 * HOUR).toISOString())
+    // the lapse time runs from the later of the authorization and the planned start
+    expect(new Date(late.plannedStart).getTime()).toBeGreaterThan(new Date(lateAuth.authorizedAt).getTime())
+    expect(lateAuth.lapsesAt).toBe(new Date(new Date(late.plannedStart).getTime() + 4 * HOUR).toISOString())
     const job = createBypassJob(ctx.db, ctx.config, ctx.clock)
 
     // 3 h 59 min after the authorization: still valid, the job leaves both alone
@@ -127,8 +134,8 @@ describe('bypass: an authorization not activated in time lapses (DOMAIN.md §6 d
     expect((await as.operator.post(`/api/bypasses/${early.id}/activation`).expect(200)).body.status).toBe('active')
     expect((await as.operator.get(`/api/bypasses/${late.id}`).expect(200)).body.status).toBe('authorized')
 
-    // 4 h 1 min after: the service refuses even before the job has run
-    ctx.clock.set(new Date(new Date(lateAuth.authorizedAt).getTime() + 4 * HOUR + 60_000))
+    // 4 h 1 min after the planned start: the service refuses even before the job has run
+    ctx.clock.set(new Date(new Date(late.plannedStart).getTime() + 4 * HOUR + 60_000))
     await signInAll()
     const refused = await as.operator.post(`/api/bypasses/${late.id}/activation`).expect(409)
     expect(refused.body.error).toMatchObject({ code: 'INVALID_STATE', message: expect.stringContaining('lapsed') })
@@ -158,7 +165,7 @@ describe('bypass: an authorization not activated in time lapses (DOMAIN.md §6 d
   })
 })
 
-describe('bypass: the longest duration each role may authorize (DOMAIN.md §6 defaults, common practice: one shift 12 h, plant manager 72 h)', () => {
+describe('bypass: the longest duration each role may authorize (docs/bypasses.md#role-limits-site-policy: one shift 12 h, plant manager 72 h, common practice)', () => {
   let limit: { id: number; siteId: number; tag: string }
   beforeAll(async () => {
     ctx.clock.set('2026-06-02T06:00:00Z')
@@ -241,7 +248,7 @@ describe('bypass: the longest duration each role may authorize (DOMAIN.md §6 de
   })
 })
 
-describe('bypass: an extension is a further signed authorization (DOMAIN.md §3 Bypass)', () => {
+describe('bypass: an extension is a further signed authorization (docs/bypasses.md#workflow)', () => {
   it("adds a signature and moves the planned end, within the signer's limit and the limit's own maximum", async () => {
     ctx.clock.set('2026-06-03T06:00:00Z')
     await signInAll()
@@ -250,6 +257,7 @@ describe('bypass: an extension is a further signed authorization (DOMAIN.md §3 
     await activateLimit(crew(), limit)
     const b = (await ask('operator', limit.id, 5).expect(201)).body
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
+    await atPlannedStart(b)
     await as.operator.post(`/api/bypasses/${b.id}/activation`).expect(200)
 
     const noHours = await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(400)
@@ -300,6 +308,7 @@ describe('bypass: an extension is a further signed authorization (DOMAIN.md §3 
     const l = await limitWithMaxBypass(100)
     const b = (await ask('supervisor', l.id, 4).expect(201)).body
     await as.approver.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
+    await atPlannedStart(b)
     await as.supervisor.post(`/api/bypasses/${b.id}/activation`).expect(200)
     const before = await written()
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 1 }).expect(403)

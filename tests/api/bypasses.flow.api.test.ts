@@ -72,6 +72,10 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
     expect(b.status).toBe('requested')
     await op.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(403)
     await sup.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
+    // not before its planned start (06:30): 409 with the time in the site's zone (Europe/Berlin, CEST in May)
+    const early = await op.post(`/api/bypasses/${b.id}/activation`).expect(409)
+    expect(early.body.error.message).toContain('08:30 CEST')
+    ctx.clock.set('2026-05-04T06:30:00Z')
     await op.post(`/api/bypasses/${b.id}/activation`).expect(200)
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.protectionState).toBe('bypassed')
     const second = (

@@ -216,7 +216,7 @@ describe('bypass request: bad input is refused with a clear message and nothing 
     await as.operator.post(`/api/bypasses/${edge.id}/cancellation`).expect(200)
   })
 
-  it('the predefined compensating measures must be confirmed; a trip without any needs extra ones (DOMAIN.md §6 "trips and every SIL-rated limit", common practice)', async () => {
+  it('the predefined compensating measures must be confirmed; a trip without any needs extra ones (docs/bypasses.md "trips and every SIL-rated limit", common practice)', async () => {
     for (const confirmed of [undefined, false]) {
       const e = await refused(400, () => req(trip.limit.id, { predefinedMeasuresConfirmed: confirmed }))
       expect(e.details!.fields.predefinedMeasuresConfirmed[0]).toContain('Confirm')

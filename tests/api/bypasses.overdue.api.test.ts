@@ -39,7 +39,7 @@ afterAll(async () => {
   await smtp?.close()
 })
 
-describe('bypass past its planned end: warning, overdue, escalation (DOMAIN.md §4, §6 defaults 1 h / at once / every 4 h, common practice)', () => {
+describe('bypass past its planned end: warning, overdue, escalation (docs/bypasses.md defaults 1 h / at once / every 4 h, common practice)', () => {
   it('warns the requester 1 h before, tells the shift supervisor at once when overdue, escalates to the plant manager every 4 h, never closes it; an extension clears it', async () => {
     const { limit } = await buildHeaterTrip(as.engineer)
     const patched = (await as.engineer.patch(`/api/limits/${limit.id}`, { maxBypassHours: 100 }).expect(200)).body

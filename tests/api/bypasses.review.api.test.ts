@@ -248,7 +248,7 @@ describe("the plant manager's bypass review (issue 6)", () => {
     expect(r.kpis.hoursThisMonth).toBeCloseTo(3 + 59 / 60 + 3 + 13 + 59 / 60 + 2 + 4, 1)
     // completed bypasses b1, b2, b3, b5
     expect(r.kpis.averageDurationHours).toBeCloseTo((7 + 59 / 60 + 3 + 13 + 59 / 60 + 2) / 4, 1)
-    // one shift: the site policy's 12 h (DOMAIN.md §6, common practice)
+    // one shift: the site policy's 12 h (docs/bypasses.md, common practice)
     expect(r.kpis.shiftHours).toBe(12)
     expect(r.kpis.longerThanShift).toBe(1)
     // target 0 (issue 6): b2 on the alarm without measures

@@ -92,7 +92,7 @@ beforeAll(async () => {
   limitId = limit.id
 })
 
-describe('bypass: who may do what (DOMAIN.md §2, §4)', () => {
+describe('bypass: who may do what (docs/bypasses.md#rules)', () => {
   const ids = {} as Record<'op' | 'tech' | 'sup' | 'eng' | 'sup2' | 'op2', number>
 
   it('operators, technicians, shift supervisors and engineers request; everyone else gets 403 and nothing is written', async () => {
@@ -158,9 +158,9 @@ describe('bypass: who may do what (DOMAIN.md §2, §4)', () => {
         contentHash: expect.stringMatching(/^[0-9a-f]{64}$/),
       }),
     ])
-    expect(byApprover.lapsesAt).toBe(
-      new Date(new Date(byApprover.authorizedAt).getTime() + 4 * 3_600_000).toISOString(),
-    )
+    // authorized about 06:00 for a start at 06:30: it lapses 4 h after the planned start (the later of the two)
+    expect(Date.parse(byApprover.authorizedAt)).toBeLessThan(Date.parse('2026-05-04T06:30:00Z'))
+    expect(byApprover.lapsesAt).toBe('2026-05-04T10:30:00.000Z')
     expect(
       (await as.manager.post(`/api/bypasses/${ids.sup}/authorizations`, { password: PW }).expect(200)).body
         .authorizations[0].name,
@@ -229,6 +229,9 @@ describe('bypass: who may do what (DOMAIN.md §2, §4)', () => {
 
   it('shift supervisors, technicians and operators activate and remove; everyone else gets 403 and nothing is written', async () => {
     const clear = { pvClearConfirmed: true, protectionRestoredConfirmed: true }
+    // a bypass is put in force from its planned start on
+    ctx.clock.set('2026-05-04T06:30:00Z')
+    for (const who of PEOPLE) as[who] = await signedIn(app, who)
     await refusedForAllBut(['supervisor', 'technician', 'operator'], (a) =>
       a.post(`/api/bypasses/${ids.op}/activation`),
     )

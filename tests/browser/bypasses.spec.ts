@@ -195,4 +195,54 @@ describe('bypasses in the browser', () => {
 
     for (const p of [engineer, approver, technician, operator, supervisor, manager]) await p.context().close()
   })
+
+  it('the outgoing shift supervisor hands over two areas with notes; the incoming one accepts; both signatures shown', async () => {
+    app.clock.set('2026-05-05T04:00:00Z')
+    const outgoing = await pageFor(app, 'supervisor')
+    const incoming = await pageFor(app, 'supervisor2')
+    const site = (await call<{ items: { id: number; code: string }[] }>(outgoing, 'GET', '/sites')).items.find(
+      (s) => s.code === 'FHR',
+    )!
+    const areas = (await call<{ items: { id: number; name: string }[] }>(outgoing, 'GET', `/areas?siteId=${site.id}`))
+      .items
+    const [a, b] = areas
+    await outgoing.goto(`${app.baseUrl}/shift-handover?areaId=${a.id}&areaId=${b.id}`)
+    await outgoing.locator(`[data-test="handover-area-${a.id}"]`).waitFor()
+    await outgoing.locator(`[data-test="handover-area-${b.id}"]`).waitFor()
+    // the bypass of the first test is still active and overdue in the first area
+    await poll(() => text(outgoing, 'handover-bypassed')).toContain('TSHH-5201')
+
+    await outgoing.locator('[data-test="handover-hand-over"]').click()
+    await outgoing.locator('[data-test="sign-dialog"]').waitFor()
+    expect(await text(outgoing, 'sign-meaning')).toContain(`By signing you hand over ${a.name}, ${b.name}`)
+    await outgoing
+      .locator('[data-test="handover-notes"] textarea')
+      .first()
+      .fill('TSHH-5201 still bypassed and overdue: chase the burner crew at 07:00.')
+    await outgoing.locator('[data-test="sign-password"] input').fill(PW)
+    await outgoing.locator('[data-test="sign-confirm"]').click()
+    await outgoing.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
+    const pending = outgoing.locator('[data-test^="handover-pending-"]').first()
+    await pending.waitFor()
+    // the outgoing supervisor cannot accept their own handover: the button is disabled with the reason
+    const acceptOwn = outgoing.locator('[data-test^="handover-accept-"]').first()
+    expect(await acceptOwn.isDisabled()).toBe(true)
+
+    await incoming.goto(`${app.baseUrl}/shift-handover?areaId=${a.id}`)
+    await poll(() => text(incoming, 'handover-pending-notes')).toBe(
+      'TSHH-5201 still bypassed and overdue: chase the burner crew at 07:00.',
+    )
+    const accept = incoming.locator('[data-test^="handover-accept-"]').first()
+    await poll(() => accept.isDisabled()).toBe(false)
+    await accept.click()
+    await incoming.locator('[data-test="sign-dialog"]').waitFor()
+    expect(await text(incoming, 'sign-meaning')).toContain('By signing you take over')
+    await incoming.locator('[data-test="sign-password"] input').fill(PW)
+    await incoming.locator('[data-test="sign-confirm"]').click()
+    await incoming.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
+    await poll(() => text(incoming, 'handover-history')).toContain('Joren Ashcombe accepted')
+    expect(await text(incoming, 'handover-history')).toContain('Hedda Marlowe handed over')
+    expect(await incoming.locator('[data-test^="handover-pending-"]').count()).toBe(0)
+    for (const p of [outgoing, incoming]) await p.context().close()
+  })
 })

@@ -6,10 +6,11 @@ import {
   type Sil,
   type Subsystem,
 } from '../../../shared/domain/sif-reliability.ts'
-import type { BypassDto } from '../../../shared/schemas/bypasses.ts'
+import type { BypassDto, BypassReviewDto } from '../../../shared/schemas/bypasses.ts'
 import type { AppDeps } from '../../deps.ts'
 import { validationFailed } from '../../errors.ts'
 import { policyOf } from '../sites/sites.service.ts'
+import { findDegradationSpans, findSitePolicies } from './bypasses.repository.ts'
 import { type BypassListQuery, listBypasses } from './bypasses.service.ts'
 
 const HOUR = 3_600_000
@@ -51,13 +52,15 @@ function overdueSpan(b: BypassDto, now: number): [number, number] | null {
 }
 
 /**
- * The plant manager's review over a period: history rows, KPIs and chart series (bypass hours per month, the ten limits
- * with most bypass hours, overdue bypasses per month, share past planned end), plus hours degraded by failed tests.
+ * The plant manager's review over a period (docs/bypasses.md#the-plant-managers-review): history rows, KPIs and chart
+ * series (bypass hours per month, the ten limits with most bypass hours, overdue bypasses per month, share past planned
+ * end), plus hours degraded by failed tests. Every figure counts the time each bypass was actually in force, from its
+ * activation to its removal (or now), whatever was planned.
  */
 export async function bypassReview(
   deps: AppDeps,
   q: Omit<BypassListQuery, 'page' | 'pageSize'> & { from: Date; to: Date },
-) {
+): Promise<BypassReviewDto> {
   const now = deps.clock.now().getTime()
   const { items } = await listBypasses(deps, { ...q, page: 1, pageSize: 10_000 })
   const from = q.from.getTime()
@@ -102,38 +105,45 @@ export async function bypassReview(
   const completed = inPeriod.filter((b) => b.removedAt && b.activatedAt)
   const nowMonth = new Date(now)
   const monthStart = Date.UTC(nowMonth.getUTCFullYear(), nowMonth.getUTCMonth(), 1)
-  const all = items
-  const sites = await deps.db
-    .selectFrom('site')
-    .select(['id', 'policy'])
-    .where('id', 'in', q.siteIds.length ? q.siteIds : [-1])
-    .execute()
+  // "now" and "this month" whatever the period: the bypasses in force at some time since the 1st of this month
+  const { items: recent } = await listBypasses(deps, {
+    ...q,
+    from: new Date(monthStart),
+    to: new Date(now + 1),
+    page: 1,
+    pageSize: 10_000,
+  })
+  const sites = await findSitePolicies(deps.db, q.siteIds)
   const shiftHours = Math.min(...sites.map((s) => policyOf(s).bypassMaxHoursSupervisor), 12)
-  let degradedQuery = deps.db
-    .selectFrom('limit_degradation')
-    .innerJoin('limit_function', 'limit_function.id', 'limit_degradation.limit_id')
-    .select(['limit_degradation.opened_at', 'limit_degradation.cleared_at'])
-    .where('limit_function.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
-  if (q.areaIds?.length) degradedQuery = degradedQuery.where('limit_function.area_id', 'in', q.areaIds)
-  if (q.limitIds?.length) degradedQuery = degradedQuery.where('limit_function.id', 'in', q.limitIds)
-  const degradations = await degradedQuery.execute()
-  const hoursDegraded = degradations.reduce(
-    (sum, d) => sum + overlapHours(d.opened_at.getTime(), d.cleared_at?.getTime() ?? now, from, to),
-    0,
+  const degradations = (await findDegradationSpans(deps.db, q)).filter(
+    (d) => overlapHours(d.opened_at.getTime(), d.cleared_at?.getTime() ?? now, from, to) > 0,
   )
+  const inForceThisMonth = recent.filter((b) => {
+    const sp = activeSpan(b, now)
+    return sp !== null && sp[1] >= monthStart
+  })
   const kpis = {
-    activeNow: all.filter((b) => b.status === 'active').length,
-    overdueNow: all.filter((b) => b.overdue).length,
-    hoursThisMonth: all.reduce((sum, b) => {
-      const sp = activeSpan(b, now)
-      return sum + (sp ? overlapHours(sp[0], sp[1], monthStart, now) : 0)
-    }, 0),
-    averageDurationHours: completed.length ? completed.reduce((s, b) => s + b.bypassedHours, 0) / completed.length : 0,
+    activeNow: recent.filter((b) => b.status === 'active').length,
+    overdueNow: recent.filter((b) => b.overdue).length,
+    hoursThisMonth: inForceThisMonth.length
+      ? inForceThisMonth.reduce((sum, b) => {
+          const sp = activeSpan(b, now)
+          return sum + (sp ? overlapHours(sp[0], sp[1], monthStart, now) : 0)
+        }, 0)
+      : null,
+    averageDurationHours: completed.length
+      ? completed.reduce((s, b) => s + b.bypassedHours, 0) / completed.length
+      : null,
     longerThanShift: inPeriod.filter((b) => b.bypassedHours > shiftHours).length,
     shiftHours,
     withoutMeasures: inPeriod.filter((b) => b.activatedAt && b.compensatingMeasures.length === 0).length,
-    hoursDegraded,
-    sharePastPlannedEnd: ended.length ? pastEnd.length / ended.length : 0,
+    hoursDegraded: degradations.length
+      ? degradations.reduce(
+          (sum, d) => sum + overlapHours(d.opened_at.getTime(), d.cleared_at?.getTime() ?? now, from, to),
+          0,
+        )
+      : null,
+    sharePastPlannedEnd: ended.length ? pastEnd.length / ended.length : null,
   }
   return {
     period: { from: new Date(from).toISOString(), to: new Date(to).toISOString() },

@@ -5,14 +5,16 @@ import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { findUsersWithRole } from '../users/users.repository.ts'
+import { findOpenBypassesForJob, lockBypassDeadlines, updateBypass } from './bypasses.repository.ts'
+import { lapsesAt } from '../../../shared/domain/rules/bypasses.ts'
 
 const HOUR = 3_600_000
 const SYSTEM: AuditContext = { actorId: null, requestId: 'job:bypasses', ip: null }
 
 /**
- * Bypass deadlines (DOMAIN.md §6): authorizations not activated in time lapse; the requester is warned before the
- * planned end; an active bypass past its end is overdue (never closed by the clock): the shift supervisors are told at
- * once, then the plant manager every few hours until it is removed.
+ * Bypass deadlines (docs/bypasses.md#lapse-overdue-and-escalation): authorizations not put in force in time lapse;
+ * the requester is warned before the planned end; an active bypass past its end is overdue (never closed by the
+ * clock): the shift supervisors are told at once, then the plant manager every few hours until it is removed.
  */
 export function createBypassJob(
   db: Db,
@@ -25,41 +27,21 @@ export function createBypassJob(
     intervalSec: 60,
     async runDue(now: Date) {
       const counts = { lapsed: 0, warned: 0, overdue: 0, escalated: 0 }
-      const rows = await db
-        .selectFrom('bypass')
-        .innerJoin('site', 'site.id', 'bypass.site_id')
-        .innerJoin('limit_function', 'limit_function.id', 'bypass.limit_id')
-        .innerJoin('app_user', 'app_user.id', 'bypass.requested_by')
-        .select([
-          'bypass.id',
-          'bypass.status',
-          'bypass.site_id',
-          'bypass.authorized_at',
-          'bypass.planned_end',
-          'bypass.expiry_warned_at',
-          'bypass.overdue_notified_at',
-          'bypass.last_escalation_at',
-          'site.policy',
-          'limit_function.tag',
-          'app_user.email as requester_email',
-        ])
-        .where('bypass.status', 'in', ['authorized', 'active'])
-        .execute()
+      const rows = await findOpenBypassesForJob(db)
       for (const b of rows) {
         const policy = policyOf(b)
         await db.transaction().execute(async (trx) => {
-          const cur = await trx
-            .selectFrom('bypass')
-            .select(['status', 'expiry_warned_at', 'overdue_notified_at', 'last_escalation_at', 'planned_end'])
-            .where('id', '=', b.id)
-            .forUpdate()
-            .executeTakeFirstOrThrow()
-          if (
-            cur.status === 'authorized' &&
-            b.authorized_at &&
-            now.getTime() > b.authorized_at.getTime() + policy.bypassAuthorizationLapseHours * HOUR
-          ) {
-            await trx.updateTable('bypass').set({ status: 'lapsed', updated_at: now }).where('id', '=', b.id).execute()
+          const cur = await lockBypassDeadlines(trx, b.id)
+          const lapse = lapsesAt(
+            {
+              status: cur.status,
+              authorizedAt: b.authorized_at,
+              plannedStart: cur.planned_start,
+            },
+            policy,
+          )
+          if (lapse && now.getTime() > lapse.getTime()) {
+            await updateBypass(trx, b.id, { status: 'lapsed', updated_at: now })
             await appendAudit(trx, clock, SYSTEM, {
               action: 'bypass.lapse',
               entityType: 'Bypass',
@@ -76,7 +58,7 @@ export function createBypassJob(
             now.getTime() >= end - policy.bypassExpiryWarningHours * HOUR &&
             now.getTime() < end
           ) {
-            await trx.updateTable('bypass').set({ expiry_warned_at: now }).where('id', '=', b.id).execute()
+            await updateBypass(trx, b.id, { expiry_warned_at: now })
             await enqueueMail(trx, clock, {
               to: b.requester_email,
               subject: `Bypass of ${b.tag} ends at ${cur.planned_end.toISOString().slice(11, 16)} UTC`,
@@ -92,11 +74,12 @@ export function createBypassJob(
             counts.warned++
           }
           if (now.getTime() > end && !cur.overdue_notified_at) {
-            await trx.updateTable('bypass').set({ overdue_notified_at: now }).where('id', '=', b.id).execute()
+            await updateBypass(trx, b.id, { overdue_notified_at: now })
             const sups = await findUsersWithRole(trx, b.site_id, ['shift_supervisor'])
             const bodies = mailBodies(
               [
-                `The bypass #${b.id} of ${b.tag} is past its planned end (${cur.planned_end.toISOString()}) and still active: the limit protects nothing.`,
+                `The bypass #${b.id} of ${b.tag} is past its planned end (${cur.planned_end.toISOString()}) ` +
+                  'and still active: the limit protects nothing.',
                 'Remove it on record or have it extended by a signed authorization.',
               ],
               link(b.id),
@@ -117,7 +100,7 @@ export function createBypassJob(
           const every = policy.bypassEscalationEveryHours * HOUR
           const lastEsc = cur.last_escalation_at?.getTime() ?? end
           if (now.getTime() > end && now.getTime() - lastEsc >= every) {
-            await trx.updateTable('bypass').set({ last_escalation_at: now }).where('id', '=', b.id).execute()
+            await updateBypass(trx, b.id, { last_escalation_at: now })
             const managers = await findUsersWithRole(trx, b.site_id, ['plant_manager'])
             const hours = ((now.getTime() - end) / HOUR).toFixed(1)
             const bodies = mailBodies(

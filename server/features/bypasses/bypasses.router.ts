@@ -3,12 +3,14 @@ import Papa from 'papaparse'
 import { z } from 'zod'
 import {
   AuthorizeBypassInputSchema,
-  BYPASS_STATUSES,
+  BypassFilterSchema,
+  BypassListQuerySchema,
+  BypassReviewQuerySchema,
   CreateBypassInputSchema,
   RejectBypassInputSchema,
   RemoveBypassInputSchema,
 } from '../../../shared/schemas/bypasses.ts'
-import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
+import { IdSchema } from '../../../shared/schemas/common.ts'
 import { allows, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { forbidden } from '../../errors.ts'
@@ -16,25 +18,8 @@ import { renderPdf } from '../../pdf.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { bypassReview, RISK_CAUTION, riskErosion } from './bypass-review.service.ts'
 import * as service from './bypasses.service.ts'
-import { acknowledgeHandover, protectionState } from './protection-state.service.ts'
 
-const FilterSchema = z.object({
-  siteId: repeated(IdSchema),
-  areaId: repeated(IdSchema),
-  processId: repeated(IdSchema),
-  limitId: repeated(IdSchema),
-  requesterId: repeated(IdSchema),
-  authorizerId: repeated(IdSchema),
-  status: repeated(z.enum(BYPASS_STATUSES)),
-  overdue: z
-    .enum(['true', 'false'])
-    .transform((v) => v === 'true')
-    .optional(),
-  from: z.iso.datetime({ offset: true }).optional(),
-  to: z.iso.datetime({ offset: true }).optional(),
-})
-
-function filters(user: CurrentUser | null, q: z.infer<typeof FilterSchema>) {
+function filters(user: CurrentUser | null, q: z.infer<typeof BypassFilterSchema>) {
   return {
     siteIds: scopeSites(user, q.siteId),
     areaIds: q.areaId,
@@ -54,10 +39,7 @@ export function createBypassesRouter(deps: AppDeps) {
   const router = Router()
   const id = (v: unknown) => IdSchema.parse(v)
   router.get('/', async (req, res) => {
-    const q = FilterSchema.extend({
-      page: z.coerce.number().int().min(1).default(1),
-      pageSize: z.coerce.number().int().min(1).max(200).default(50),
-    }).parse(req.query)
+    const q = BypassListQuerySchema.parse(req.query)
     res.json(await service.listBypasses(deps, { ...filters(req.user, q), page: q.page, pageSize: q.pageSize }))
   })
   router.get('/:id', async (req, res) => {
@@ -103,7 +85,10 @@ export function createBypassesRouter(deps: AppDeps) {
   return router
 }
 
-/** The review needs the `review` ability at every site asked for (plant manager, engineers, approvers, supervisors, auditors). */
+/**
+ * The review needs the `review` ability at every site asked for (plant manager, engineers, approvers, supervisors,
+ * auditors).
+ */
 function reviewSites(req: { user: CurrentUser | null; ability: Parameters<typeof allows>[0] }, requested?: number[]) {
   const sites = scopeSites(req.user, requested).filter((s) =>
     allows(req.ability, 'review', 'BypassReview', { siteId: s }),
@@ -113,7 +98,8 @@ function reviewSites(req: { user: CurrentUser | null; ability: Parameters<typeof
   return sites
 }
 
-const ReviewQuerySchema = FilterSchema.extend({ format: z.enum(['csv', 'pdf']).optional() })
+/** A figure of hours for the PDF; "—" where nothing happened. */
+const fig = (h: number | null) => (h === null ? '—' : `${h.toFixed(1)} h`)
 
 function period(q: { from?: string; to?: string }, now: Date) {
   const to = q.to ? new Date(q.to) : now
@@ -121,11 +107,14 @@ function period(q: { from?: string; to?: string }, now: Date) {
   return { from, to }
 }
 
-/** `GET /api/bypass-review` (history, KPIs, charts), `/export?format=csv|pdf`, `/risk` (risk erosion of SIL-rated limits). */
+/**
+ * `GET /api/bypass-review` (history, KPIs, charts), `/export?format=csv|pdf`, `/risk` (risk erosion of SIL-rated
+ * limits).
+ */
 export function createBypassReviewRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
-    const q = ReviewQuerySchema.parse(req.query)
+    const q = BypassReviewQuerySchema.parse(req.query)
     res.json(
       await bypassReview(deps, {
         ...filters(req.user, q),
@@ -135,7 +124,7 @@ export function createBypassReviewRouter(deps: AppDeps) {
     )
   })
   router.get('/risk', async (req, res) => {
-    const q = FilterSchema.parse(req.query)
+    const q = BypassFilterSchema.parse(req.query)
     res.json(
       await riskErosion(deps, {
         siteIds: reviewSites(req, q.siteId),
@@ -145,7 +134,7 @@ export function createBypassReviewRouter(deps: AppDeps) {
     )
   })
   router.get('/export', async (req, res) => {
-    const q = ReviewQuerySchema.parse(req.query)
+    const q = BypassReviewQuerySchema.parse(req.query)
     const r = await bypassReview(deps, {
       ...filters(req.user, q),
       siteIds: reviewSites(req, q.siteId),
@@ -179,7 +168,7 @@ export function createBypassReviewRouter(deps: AppDeps) {
         content: [
           { text: 'Bypass review', fontSize: 16, bold: true },
           {
-            text: `${r.period.from.slice(0, 10)} to ${r.period.to.slice(0, 10)} · active now ${r.kpis.activeNow} · overdue now ${r.kpis.overdueNow} · hours this month ${r.kpis.hoursThisMonth.toFixed(1)} · average ${r.kpis.averageDurationHours.toFixed(1)} h · longer than a shift ${r.kpis.longerThanShift} · without compensating measures ${r.kpis.withoutMeasures} · hours degraded ${r.kpis.hoursDegraded.toFixed(1)}`,
+            text: `${r.period.from.slice(0, 10)} to ${r.period.to.slice(0, 10)} · active now ${r.kpis.activeNow} · overdue now ${r.kpis.overdueNow} · hours this month ${fig(r.kpis.hoursThisMonth)} · average ${fig(r.kpis.averageDurationHours)} · longer than a shift ${r.kpis.longerThanShift} · without compensating measures ${r.kpis.withoutMeasures} · hours degraded ${fig(r.kpis.hoursDegraded)}`,
             margin: [0, 4, 0, 8],
           },
           {
@@ -229,25 +218,6 @@ export function createBypassReviewRouter(deps: AppDeps) {
     res.setHeader('Content-Type', 'text/csv; charset=utf-8')
     res.setHeader('Content-Disposition', 'attachment; filename="limitkeeper-bypass-review.csv"')
     res.send(`\uFEFF${Papa.unparse(rows)}`)
-  })
-  return router
-}
-
-/** `GET /api/protection-state?areaId=` and `POST /api/protection-state/acknowledgements` {areaId, password}. */
-export function createProtectionStateRouter(deps: AppDeps) {
-  const router = Router()
-  router.get('/', async (req, res) => {
-    const { areaId } = z.object({ areaId: IdSchema }).parse(req.query)
-    res.json(await protectionState(deps, req.ability, areaId))
-  })
-  router.post('/acknowledgements', async (req, res) => {
-    const b = z
-      .object({
-        areaId: z.number().int().positive(),
-        password: z.string().min(1, 'Enter your password to sign').max(128),
-      })
-      .parse(req.body)
-    res.status(201).json(await acknowledgeHandover(deps, req.ability, req.audit, b.areaId, b.password))
   })
   return router
 }

@@ -1,48 +1,38 @@
-import type { Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
+import {
+  activateVerdict,
+  authorizeVerdict,
+  type BypassActor,
+  type BypassContext,
+  type BypassFacts,
+  cancelVerdict,
+  extendVerdict,
+  lapsesAt,
+  rejectVerdict,
+  removeVerdict,
+  requestVerdict,
+} from '../../../shared/domain/rules/bypasses.ts'
+import type { Verdict } from '../../../shared/domain/rules/verdict.ts'
 import type { BypassDto, CreateBypassInput } from '../../../shared/schemas/bypasses.ts'
-import { ErrorCode } from '../../../shared/errors.ts'
 import type { SitePolicy } from '../../../shared/schemas/sites.ts'
 import { authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import type { Database } from '../../db/schema.ts'
-import { AppError, conflict, forbidden, invalidState, notFound, unprocessable, validationFailed } from '../../errors.ts'
+import { conflict, enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
-import { refreshProtectionState } from '../register/protection.ts'
+import { refreshProtectionState } from '../register/protection-state-column.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { contentHash, insertSignature, listSignatures } from '../signatures/signatures.ts'
-import { findUsersWithRole } from '../users/users.repository.ts'
+import { findRolesByUserIds, findUsersWithRole } from '../users/users.repository.ts'
+import * as repo from './bypasses.repository.ts'
+import type { BypassListQuery, BypassRow } from './bypasses.repository.ts'
 
-type Trx = Transaction<Database>
-type Db = AppDeps['db'] | Trx
-const ENTITY = 'Bypass'
+type Db = AppDeps['db']
+const ENTITY = repo.BYPASS_ENTITY
 const HOUR = 3_600_000
 
 const hoursBetween = (a: Date, b: Date) => (b.getTime() - a.getTime()) / HOUR
-
-async function loadLimit(db: Db, limitId: number) {
-  const l = await db
-    .selectFrom('limit_function')
-    .innerJoin('site', 'site.id', 'limit_function.site_id')
-    .select([
-      'limit_function.id',
-      'limit_function.tag',
-      'limit_function.site_id',
-      'limit_function.status',
-      'limit_function.limit_class',
-      'limit_function.sil',
-      'limit_function.bypass_permitted',
-      'limit_function.max_bypass_hours',
-      'limit_function.compensating_measures',
-      'site.policy',
-    ])
-    .where('limit_function.id', '=', limitId)
-    .executeTakeFirst()
-  if (!l) throw validationFailed({ limitId: ['The limit does not exist'] })
-  return { ...l, policyParsed: policyOf(l) }
-}
 
 function measuresRequired(policy: SitePolicy, l: { limit_class: string; sil: number | null }) {
   if (policy.compensatingMeasuresRequiredFor === 'all') return true
@@ -50,65 +40,61 @@ function measuresRequired(policy: SitePolicy, l: { limit_class: string; sil: num
   return l.limit_class === 'trip' || l.sil !== null
 }
 
-/**
- * The longest bypass the user may authorize at the site: the largest of their authorizing roles' limits (DOMAIN.md §6).
- * Beyond the plant manager's limit the linked, approved temporary change request carries the duration: the plant
- * manager signs under it (the limit's own maximum still holds).
- */
-async function authorizerMaxHours(
-  db: Db,
-  userId: number,
-  siteId: number,
-  policy: SitePolicy,
-  linkedChange: boolean,
-): Promise<number> {
-  const roles = (
-    await db
-      .selectFrom('role_assignment')
-      .select('role')
-      .where('user_id', '=', userId)
-      .where('site_id', '=', siteId)
-      .execute()
-  ).map((r) => r.role)
-  let max = 0
-  if (roles.includes('shift_supervisor') || roles.includes('approver'))
-    max = Math.max(max, policy.bypassMaxHoursSupervisor)
-  if (roles.includes('plant_manager')) max = Math.max(max, linkedChange ? Infinity : policy.bypassMaxHoursManager)
-  return max
+/** The actor of a rule-book question: the user, their ability and their roles at the bypass's site. */
+async function actorAt(db: Db, ability: AppAbility, ctx: AuditContext, siteId: number): Promise<BypassActor> {
+  const id = ctx.actorId ?? -1
+  const roles = (await findRolesByUserIds(db, [id])).get(id) ?? []
+  return { id, ability, rolesAtSite: roles.filter((r) => r.siteId === siteId).map((r) => r.role) }
 }
 
-function selectBypasses(db: Db) {
-  return db
-    .selectFrom('bypass')
-    .innerJoin('limit_function', 'limit_function.id', 'bypass.limit_id')
-    .innerJoin('site', 'site.id', 'bypass.site_id')
-    .innerJoin('area', 'area.id', 'limit_function.area_id')
-    .innerJoin('process', 'process.id', 'limit_function.process_id')
-    .innerJoin('app_user as rq', 'rq.id', 'bypass.requested_by')
-    .leftJoin('app_user as act', 'act.id', 'bypass.activated_by')
-    .leftJoin('app_user as rm', 'rm.id', 'bypass.removed_by')
-    .leftJoin('instrument as ch', 'ch.id', 'bypass.channel_instrument_id')
-    .selectAll('bypass')
-    .select([
-      'limit_function.tag',
-      'limit_function.limit_class',
-      'limit_function.sil',
-      'limit_function.area_id',
-      'site.code',
-      'site.policy',
-      'area.name as area_name',
-      'process.name as process_name',
-      'rq.display_name as requester',
-      'act.display_name as activator',
-      'rm.display_name as remover',
-      'ch.tag as channel_tag',
-    ])
+/** A refusal of the rule book; a 422 about the duration is answered as a field error of `field`. */
+function enforceOn(verdict: Verdict, field: string) {
+  if (!verdict.allowed && verdict.status === 422) throw validationFailed({ [field]: [verdict.reason] }, verdict.reason)
+  enforce(verdict)
+}
+
+/** What the rule book needs of a locked row and its limit. */
+function factsOf(
+  b: {
+    site_id: number
+    status: BypassFacts['status']
+    requested_by: number
+    planned_start: Date
+    planned_end: Date
+    authorized_at: Date | null
+    activated_at: Date | null
+    change_request_id: number | null
+  },
+  l: { tag: string; max_bypass_hours: string | null },
+): BypassFacts {
+  return {
+    siteId: b.site_id,
+    status: b.status,
+    requestedById: b.requested_by,
+    plannedStart: b.planned_start,
+    plannedEnd: b.planned_end,
+    authorizedAt: b.authorized_at,
+    activatedAt: b.activated_at,
+    changeRequestId: b.change_request_id,
+    limitTag: l.tag,
+    limitMaxBypassHours: l.max_bypass_hours === null ? null : Number(l.max_bypass_hours),
+  }
+}
+
+async function limitOf(db: Db | Parameters<typeof repo.lockBypass>[0], limitId: number) {
+  const l = await repo.findLimitForBypass(db, limitId)
+  if (!l) throw validationFailed({ limitId: ['The limit does not exist'] })
+  return { ...l, policyParsed: policyOf(l) }
 }
 
 /** Bypasses by id as API answers (no ability check: callers scope or check). */
-export async function loadBypasses(deps: AppDeps, ids: number[], db: Db = deps.db): Promise<BypassDto[]> {
+export async function loadBypasses(
+  deps: AppDeps,
+  ids: number[],
+  db: Parameters<typeof repo.selectBypassRows>[0] = deps.db,
+): Promise<BypassDto[]> {
   if (!ids.length) return []
-  const rows = await selectBypasses(db).where('bypass.id', 'in', ids).execute()
+  const rows = await repo.selectBypassRows(db, ids)
   const sigs = (await listSignatures(db, ENTITY, ids)).filter((s) => !s.voided_at)
   const byId = new Map(
     rows.map((r) => [
@@ -123,8 +109,8 @@ export async function loadBypasses(deps: AppDeps, ids: number[], db: Db = deps.d
   return ids.map((id) => byId.get(id)).filter((d): d is BypassDto => Boolean(d))
 }
 
-export async function getBypass(deps: AppDeps, ability: AppAbility, id: number, db: Db = deps.db): Promise<BypassDto> {
-  const [dto] = await loadBypasses(deps, [id], db)
+export async function getBypass(deps: AppDeps, ability: AppAbility, id: number): Promise<BypassDto> {
+  const [dto] = await loadBypasses(deps, [id])
   if (!dto) throw notFound('Bypass')
   authorize(ability, 'read', 'Bypass', { siteId: dto.siteId })
   return dto
@@ -132,7 +118,7 @@ export async function getBypass(deps: AppDeps, ability: AppAbility, id: number, 
 
 function toDto(
   deps: AppDeps,
-  r: any,
+  r: BypassRow,
   sigs: {
     id: number
     user_id: number
@@ -146,15 +132,18 @@ function toDto(
   const now = deps.clock.now()
   const overdue = r.status === 'active' && now > r.planned_end
   const until = r.removed_at ?? (r.status === 'active' ? now : null)
-  const policy = policyOf(r)
+  const facts = factsOf(r, r)
+  const lapse = lapsesAt(facts, policyOf(r))
   return {
     id: r.id,
     limitId: r.limit_id,
     limitTag: r.tag,
     limitClass: r.limit_class,
     sil: r.sil,
+    limitMaxBypassHours: facts.limitMaxBypassHours,
     siteId: r.site_id,
     siteCode: r.code,
+    timeZone: r.time_zone,
     areaId: r.area_id,
     areaName: r.area_name,
     processName: r.process_name,
@@ -181,10 +170,7 @@ function toDto(
     removedBy: r.remover,
     pvClearConfirmed: r.pv_clear_confirmed,
     removalNote: r.removal_note,
-    lapsesAt:
-      r.status === 'authorized' && r.authorized_at
-        ? new Date(r.authorized_at.getTime() + policy.bypassAuthorizationLapseHours * HOUR).toISOString()
-        : null,
+    lapsesAt: lapse?.toISOString() ?? null,
     bypassedHours: r.activated_at && until ? hoursBetween(r.activated_at, until) : 0,
     authorizations: sigs.map((s) => ({
       id: s.id,
@@ -206,12 +192,13 @@ export async function requestBypass(
   ctx: AuditContext,
   input: CreateBypassInput,
 ): Promise<BypassDto> {
-  const l = await loadLimit(deps.db, input.limitId)
-  authorize(ability, 'request', 'Bypass', { siteId: l.site_id })
-  if (l.status !== 'active')
-    throw invalidState(`Limit ${l.tag} is ${l.status}: only a limit in service can be bypassed`)
-  if (!l.bypass_permitted)
-    throw unprocessable(`Limit ${l.tag} must not be bypassed (bypass not permitted in the register)`)
+  const l = await limitOf(deps.db, input.limitId)
+  enforce(
+    requestVerdict(
+      { siteId: l.site_id, tag: l.tag, status: l.status, bypassPermitted: l.bypass_permitted },
+      { ability },
+    ),
+  )
   const start = new Date(input.plannedStart)
   const end = new Date(input.plannedEnd)
   const hours = hoursBetween(start, end)
@@ -233,9 +220,7 @@ export async function requestBypass(
   if (measuresRequired(policy, l) && !measures.length)
     throw validationFailed({ extraMeasures: ['This limit needs compensating measures while bypassed (site policy)'] })
   if (input.channelInstrumentId) {
-    const channels = (
-      await deps.db.selectFrom('limit_instrument').select('instrument_id').where('limit_id', '=', l.id).execute()
-    ).map((c) => c.instrument_id)
+    const channels = await repo.findLimitChannelIds(deps.db, l.id)
     if (channels.length < 2 || !channels.includes(input.channelInstrumentId))
       throw validationFailed({
         channelInstrumentId: ['Only one channel of a voted function can be bypassed on its own'],
@@ -248,11 +233,7 @@ export async function requestBypass(
     )
   }
   if (input.changeRequestId) {
-    const cr = await deps.db
-      .selectFrom('change_request')
-      .select(['type', 'status', 'site_id', 'expires_at'])
-      .where('id', '=', input.changeRequestId)
-      .executeTakeFirst()
+    const cr = await repo.findLinkableChange(deps.db, input.changeRequestId)
     if (
       !cr ||
       cr.site_id !== l.site_id ||
@@ -269,23 +250,18 @@ export async function requestBypass(
   }
   const id = await deps.db.transaction().execute(async (trx) => {
     const now = deps.clock.now()
-    const { id } = await trx
-      .insertInto('bypass')
-      .values({
-        limit_id: l.id,
-        site_id: l.site_id,
-        channel_instrument_id: input.channelInstrumentId,
-        requested_by: ctx.actorId!,
-        reason: input.reason,
-        compensating_measures: JSON.stringify(measures),
-        planned_start: start,
-        planned_end: end,
-        change_request_id: input.changeRequestId,
-        created_at: now,
-        updated_at: now,
-      })
-      .returning('id')
-      .executeTakeFirstOrThrow()
+    const { id } = await repo.insertBypass(trx, {
+      limitId: l.id,
+      siteId: l.site_id,
+      channelInstrumentId: input.channelInstrumentId,
+      requestedBy: ctx.actorId!,
+      reason: input.reason,
+      measures,
+      plannedStart: start,
+      plannedEnd: end,
+      changeRequestId: input.changeRequestId,
+      now,
+    })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'bypass.request',
       entityType: ENTITY,
@@ -311,15 +287,26 @@ function link(deps: AppDeps, id: number) {
   return { url: `${deps.config.appUrl}/bypasses/${id}`, label: `Open bypass #${id}` }
 }
 
-async function lock(trx: Trx, id: number) {
-  const b = await trx.selectFrom('bypass').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
+/** Loads what a rule-book question about a bypass needs, outside or inside a transaction. */
+async function factsFor(db: Parameters<typeof repo.lockBypass>[0], id: number, now: Date) {
+  const b = await repo.lockBypass(db, id)
   if (!b) throw notFound('Bypass')
-  return b
+  const l = await limitOf(db, b.limit_id)
+  const rule: BypassContext = { policy: l.policyParsed, timeZone: l.time_zone, now }
+  return { b, l, facts: factsOf(b, l), rule }
+}
+
+/** The site of a bypass, for the actor's roles (404 for a missing bypass). */
+async function siteOf(deps: AppDeps, id: number) {
+  const b = await repo.findBypassSite(deps.db, id)
+  if (!b) throw notFound('Bypass')
+  return b.site_id
 }
 
 /**
  * Authorizes a requested bypass, or extends an authorized or active one by `hours` (a further signed authorization).
- * Never by the requester; within the longest duration the signer's role may authorize at the site.
+ * Never by the requester; within the longest duration the signer's role may authorize at the site, counted from when
+ * the bypass was put in force (docs/bypasses.md#role-limits).
  */
 export async function authorizeBypass(
   deps: AppDeps,
@@ -328,45 +315,33 @@ export async function authorizeBypass(
   id: number,
   input: { password: string; hours?: number; comment: string },
 ): Promise<BypassDto> {
-  const pre = await deps.db.selectFrom('bypass').selectAll().where('id', '=', id).executeTakeFirst()
-  if (!pre) throw notFound('Bypass')
-  authorize(ability, 'authorize', 'Bypass', { siteId: pre.site_id })
-  if (pre.requested_by === ctx.actorId) throw forbidden('Nobody authorizes their own bypass request')
-  const l = await loadLimit(deps.db, pre.limit_id)
-  const maxHours = await authorizerMaxHours(
-    deps.db,
-    ctx.actorId!,
-    pre.site_id,
-    l.policyParsed,
-    pre.change_request_id !== null,
-  )
+  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, id))
+  const judge = (x: Awaited<ReturnType<typeof factsFor>>) => {
+    const extension = x.b.status === 'authorized' || x.b.status === 'active'
+    if (extension && !input.hours) {
+      enforce(extendVerdict(x.facts, actor, x.rule))
+      throw validationFailed({ hours: ['Say by how many hours to extend'] })
+    }
+    enforceOn(
+      extension ? extendVerdict(x.facts, actor, x.rule, input.hours) : authorizeVerdict(x.facts, actor, x.rule),
+      'hours',
+    )
+    return extension
+  }
+  // the rule book first (403/409, nothing written), then the slow password check, then again under the row lock
+  await deps.db.transaction().execute(async (trx) => {
+    judge(await factsFor(trx, id, deps.clock.now()))
+  })
   const signer = await verifySignaturePassword(deps, ctx.actorId!, input.password, ctx, {
     entityType: ENTITY,
     entityId: id,
   })
   await deps.db.transaction().execute(async (trx) => {
-    const b = await lock(trx, id)
     const now = deps.clock.now()
-    const extension = b.status === 'authorized' || b.status === 'active'
-    if (!extension && b.status !== 'requested')
-      throw invalidState(`This bypass is ${b.status}; it cannot be authorized`)
-    if (extension && !input.hours) throw validationFailed({ hours: ['Say by how many hours to extend'] })
+    const x = await factsFor(trx, id, now)
+    const { b, l } = x
+    const extension = judge(x)
     const newEnd = extension ? new Date(b.planned_end.getTime() + input.hours! * HOUR) : b.planned_end
-    const span = extension ? input.hours! : hoursBetween(b.planned_start, b.planned_end)
-    if (span > maxHours + 1e-9) {
-      throw new AppError(
-        403,
-        ErrorCode.FORBIDDEN,
-        `You may authorize at most ${maxHours} h at this site; ${span.toFixed(1)} h asked${maxHours < l.policyParsed.bypassMaxHoursManager ? ' (a plant manager may authorize longer)' : ''}`,
-      )
-    }
-    const total = hoursBetween(b.planned_start, newEnd)
-    if (l.max_bypass_hours !== null && total > Number(l.max_bypass_hours) + 1e-9)
-      throw validationFailed({ hours: [`${l.tag} may be bypassed at most ${Number(l.max_bypass_hours)} h in all`] })
-    if (total > l.policyParsed.bypassMaxHoursManager && !b.change_request_id)
-      throw validationFailed({
-        hours: [`Beyond ${l.policyParsed.bypassMaxHoursManager} h in all a temporary change request is required`],
-      })
     const content = {
       bypassId: id,
       limitId: b.limit_id,
@@ -384,27 +359,19 @@ export async function authorizeBypass(
       contentHash: contentHash(content),
       comment: input.comment,
     })
-    await trx
-      .updateTable('bypass')
-      .set({
-        ...(extension
-          ? { planned_end: newEnd, expiry_warned_at: null, overdue_notified_at: null, last_escalation_at: null }
-          : { status: 'authorized', authorized_at: now }),
-        updated_at: now,
-      })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateBypass(trx, id, {
+      ...(extension
+        ? { planned_end: newEnd, expiry_warned_at: null, overdue_notified_at: null, last_escalation_at: null }
+        : { status: 'authorized', authorized_at: now }),
+      updated_at: now,
+    })
     await appendAudit(trx, deps.clock, ctx, {
       action: extension ? 'bypass.extend' : 'bypass.authorize',
       entityType: ENTITY,
       entityId: id,
-      after: { ...content, signer: signer.name, hours: input.hours ?? span },
+      after: { ...content, signer: signer.name, hours: input.hours ?? hoursBetween(b.planned_start, b.planned_end) },
     })
-    const requester = await trx
-      .selectFrom('app_user')
-      .select('email')
-      .where('id', '=', b.requested_by)
-      .executeTakeFirstOrThrow()
+    const requester = await repo.findUserEmail(trx, b.requested_by)
     await enqueueMail(trx, deps.clock, {
       to: requester.email,
       subject: `Bypass #${id} of ${l.tag} ${extension ? 'extended' : 'authorized'}`,
@@ -414,7 +381,8 @@ export async function authorizeBypass(
           `${signer.name} ${extension ? `extended the bypass to ${newEnd.toISOString()}` : 'authorized the bypass'}.`,
           extension
             ? ''
-            : `Activate it within ${l.policyParsed.bypassAuthorizationLapseHours} h or the authorization lapses.`,
+            : `Put it in force from its planned start (${b.planned_start.toISOString()}) and within ` +
+              `${l.policyParsed.bypassAuthorizationLapseHours} h of it, or the authorization lapses.`,
         ].filter(Boolean),
         link(deps, id),
       ),
@@ -431,14 +399,14 @@ export async function rejectBypass(
   password: string,
   comment: string,
 ) {
-  const pre = await deps.db.selectFrom('bypass').selectAll().where('id', '=', id).executeTakeFirst()
-  if (!pre) throw notFound('Bypass')
-  authorize(ability, 'authorize', 'Bypass', { siteId: pre.site_id })
-  if (pre.requested_by === ctx.actorId) throw forbidden('Nobody decides on their own bypass request')
+  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, id))
+  await deps.db
+    .transaction()
+    .execute(async (trx) => enforce(rejectVerdict((await factsFor(trx, id, deps.clock.now())).facts, actor)))
   const signer = await verifySignaturePassword(deps, ctx.actorId!, password, ctx, { entityType: ENTITY, entityId: id })
   await deps.db.transaction().execute(async (trx) => {
-    const b = await lock(trx, id)
-    if (b.status !== 'requested') throw invalidState(`This bypass is ${b.status}; it cannot be rejected`)
+    const { b, facts } = await factsFor(trx, id, deps.clock.now())
+    enforce(rejectVerdict(facts, actor))
     await insertSignature(trx, deps.clock, {
       entityType: ENTITY,
       entityId: id,
@@ -448,11 +416,7 @@ export async function rejectBypass(
       contentHash: contentHash({ bypassId: id, status: b.status }),
       comment,
     })
-    await trx
-      .updateTable('bypass')
-      .set({ status: 'rejected', updated_at: deps.clock.now() })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateBypass(trx, id, { status: 'rejected', updated_at: deps.clock.now() })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'bypass.reject',
       entityType: ENTITY,
@@ -463,38 +427,28 @@ export async function rejectBypass(
   return getBypass(deps, ability, id)
 }
 
-/** Puts an authorized bypass in force (one active bypass per limit, enforced by a partial unique index). */
+/**
+ * Puts an authorized bypass in force, from its planned start on (one active bypass per limit, enforced by a partial
+ * unique index).
+ */
 export async function activateBypass(
   deps: AppDeps,
   ability: AppAbility,
   ctx: AuditContext,
   id: number,
 ): Promise<BypassDto> {
-  const pre = await deps.db.selectFrom('bypass').selectAll().where('id', '=', id).executeTakeFirst()
-  if (!pre) throw notFound('Bypass')
-  authorize(ability, 'activate', 'Bypass', { siteId: pre.site_id })
+  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, id))
   try {
     await deps.db.transaction().execute(async (trx) => {
-      const b = await lock(trx, id)
-      const l = await loadLimit(trx, b.limit_id)
       const now = deps.clock.now()
-      if (b.status !== 'authorized')
-        throw invalidState(`This bypass is ${b.status}; only an authorized bypass is activated`)
-      if (
-        b.authorized_at &&
-        now.getTime() > b.authorized_at.getTime() + l.policyParsed.bypassAuthorizationLapseHours * HOUR
-      ) {
-        throw invalidState(
-          `The authorization lapsed (not activated within ${l.policyParsed.bypassAuthorizationLapseHours} h); request the bypass again`,
-        )
-      }
-      if (now.getTime() >= b.planned_end.getTime())
-        throw invalidState('The planned end has passed; request the bypass again')
-      await trx
-        .updateTable('bypass')
-        .set({ status: 'active', activated_at: now, activated_by: ctx.actorId, updated_at: now })
-        .where('id', '=', id)
-        .execute()
+      const { b, facts, rule } = await factsFor(trx, id, now)
+      enforce(activateVerdict(facts, actor, rule))
+      await repo.updateBypass(trx, id, {
+        status: 'active',
+        activated_at: now,
+        activated_by: ctx.actorId,
+        updated_at: now,
+      })
       await refreshProtectionState(trx, b.limit_id)
       await appendAudit(trx, deps.clock, ctx, {
         action: 'bypass.activate',
@@ -519,26 +473,20 @@ export async function removeBypass(
   id: number,
   input: { note: string },
 ): Promise<BypassDto> {
-  const pre = await deps.db.selectFrom('bypass').selectAll().where('id', '=', id).executeTakeFirst()
-  if (!pre) throw notFound('Bypass')
-  authorize(ability, 'remove', 'Bypass', { siteId: pre.site_id })
+  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, id))
   await deps.db.transaction().execute(async (trx) => {
-    const b = await lock(trx, id)
-    if (b.status !== 'active') throw invalidState(`This bypass is ${b.status}; only an active bypass is removed`)
+    const { b, facts } = await factsFor(trx, id, deps.clock.now())
+    enforce(removeVerdict(facts, actor))
     const now = deps.clock.now()
-    await trx
-      .updateTable('bypass')
-      .set({
-        status: 'removed',
-        removed_at: now,
-        removed_by: ctx.actorId,
-        pv_clear_confirmed: true,
-        protection_restored_confirmed: true,
-        removal_note: input.note,
-        updated_at: now,
-      })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateBypass(trx, id, {
+      status: 'removed',
+      removed_at: now,
+      removed_by: ctx.actorId,
+      pv_clear_confirmed: true,
+      protection_restored_confirmed: true,
+      removal_note: input.note,
+      updated_at: now,
+    })
     await refreshProtectionState(trx, b.limit_id)
     await appendAudit(trx, deps.clock, ctx, {
       action: 'bypass.remove',
@@ -562,18 +510,11 @@ export async function cancelBypass(
   ctx: AuditContext,
   id: number,
 ): Promise<BypassDto> {
-  const pre = await deps.db.selectFrom('bypass').selectAll().where('id', '=', id).executeTakeFirst()
-  if (!pre) throw notFound('Bypass')
-  if (pre.requested_by !== ctx.actorId) authorize(ability, 'authorize', 'Bypass', { siteId: pre.site_id })
+  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, id))
   await deps.db.transaction().execute(async (trx) => {
-    const b = await lock(trx, id)
-    if (!['requested', 'authorized'].includes(b.status))
-      throw invalidState(`This bypass is ${b.status}; it cannot be cancelled`)
-    await trx
-      .updateTable('bypass')
-      .set({ status: 'cancelled', updated_at: deps.clock.now() })
-      .where('id', '=', id)
-      .execute()
+    const { b, facts } = await factsFor(trx, id, deps.clock.now())
+    enforce(cancelVerdict(facts, actor))
+    await repo.updateBypass(trx, id, { status: 'cancelled', updated_at: deps.clock.now() })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'bypass.cancel',
       entityType: ENTITY,
@@ -585,64 +526,11 @@ export async function cancelBypass(
   return getBypass(deps, ability, id)
 }
 
-export interface BypassListQuery {
-  siteIds: number[]
-  areaIds?: number[]
-  processIds?: number[]
-  limitIds?: number[]
-  requesterIds?: number[]
-  authorizerIds?: number[]
-  status?: string[]
-  overdue?: boolean
-  from?: Date
-  to?: Date
-  page: number
-  pageSize: number
-}
+export type { BypassListQuery }
 
-/** Bypass history with filters; `overdue` means active past its planned end (derived, DOMAIN.md §4). */
+/** Bypass history with filters; `overdue` means active past its planned end (derived, docs/bypasses.md#overdue). */
 export async function listBypasses(deps: AppDeps, q: BypassListQuery) {
-  const now = deps.clock.now()
-  let base = deps.db
-    .selectFrom('bypass')
-    .innerJoin('limit_function', 'limit_function.id', 'bypass.limit_id')
-    .where('bypass.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
-  if (q.areaIds?.length) base = base.where('limit_function.area_id', 'in', q.areaIds)
-  if (q.processIds?.length) base = base.where('limit_function.process_id', 'in', q.processIds)
-  if (q.limitIds?.length) base = base.where('bypass.limit_id', 'in', q.limitIds)
-  if (q.requesterIds?.length) base = base.where('bypass.requested_by', 'in', q.requesterIds)
-  if (q.authorizerIds?.length) {
-    base = base.where((eb) =>
-      eb.exists(
-        eb
-          .selectFrom('signature')
-          .select('signature.id')
-          .where('signature.entity_type', '=', ENTITY)
-          .whereRef('signature.entity_id', '=', 'bypass.id')
-          .where('signature.meaning', '=', 'authorized')
-          .where('signature.user_id', 'in', q.authorizerIds!),
-      ),
-    )
-  }
-  if (q.status?.length) base = base.where('bypass.status', 'in', q.status)
-  if (q.overdue !== undefined) {
-    base = q.overdue
-      ? base.where('bypass.status', '=', 'active').where('bypass.planned_end', '<', now)
-      : base.where((eb) => eb.or([eb('bypass.status', '!=', 'active'), eb('bypass.planned_end', '>=', now)]))
-  }
-  if (q.from)
-    base = base.where((eb) => eb.or([eb('bypass.removed_at', '>=', q.from!), eb('bypass.removed_at', 'is', null)]))
-  if (q.to) base = base.where('bypass.planned_start', '<', q.to)
-  const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const ids = (
-    await base
-      .select('bypass.id')
-      .orderBy('bypass.created_at', 'desc')
-      .orderBy('bypass.id', 'desc')
-      .limit(q.pageSize)
-      .offset((q.page - 1) * q.pageSize)
-      .execute()
-  ).map((r) => r.id)
+  const { total, ids } = await repo.findBypassIds(deps.db, q, deps.clock.now())
   return { total, items: await loadBypasses(deps, ids) }
 }
 

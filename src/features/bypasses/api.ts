@@ -1,22 +1,9 @@
-import type { BypassDto, BypassStatus } from '@shared/schemas/bypasses.ts'
+import type { BypassDto, BypassFilters, BypassReviewDto } from '@shared/schemas/bypasses.ts'
 import type { ListResult } from '@shared/schemas/common.ts'
 import type { Limit, Process } from '@shared/schemas/register.ts'
 import { http, toQuery } from '@/api/client'
 
-/** Filters shared by the bypass list, the review and its export (arrays repeat the query key). */
-export interface BypassFilters {
-  siteId?: number[]
-  areaId?: number[]
-  processId?: number[]
-  limitId?: number[]
-  requesterId?: number[]
-  authorizerId?: number[]
-  status?: BypassStatus[]
-  overdue?: 'true' | 'false'
-  /** ISO date-times bounding the period. */
-  from?: string
-  to?: string
-}
+export type { BypassFilters }
 
 export interface RequestBypassBody {
   limitId: number
@@ -33,29 +20,6 @@ export interface RemoveBypassBody {
   pvClearConfirmed: true
   protectionRestoredConfirmed: true
   note: string
-}
-
-export interface ReviewKpis {
-  activeNow: number
-  overdueNow: number
-  hoursThisMonth: number
-  averageDurationHours: number
-  longerThanShift: number
-  shiftHours: number
-  withoutMeasures: number
-  hoursDegraded: number
-  sharePastPlannedEnd: number
-}
-
-export interface BypassReview {
-  period: { from: string; to: string }
-  kpis: ReviewKpis
-  charts: {
-    hoursPerMonth: { month: string; hours: number }[]
-    topLimits: { limitId: number; tag: string; hours: number }[]
-    overduePerMonth: { month: string; count: number }[]
-  }
-  items: BypassDto[]
 }
 
 export type SilBand = 1 | 2 | 3 | 4 | 'none'
@@ -87,25 +51,6 @@ export interface RiskErosion {
   caution: string
 }
 
-export interface ProtectionState {
-  area: { id: number; name: string; siteId: number; siteName: string; timeZone: string }
-  at: string
-  bypasses: BypassDto[]
-  degraded: {
-    limitId: number
-    tag: string
-    since: string
-    reasons: string[]
-    compensatingMeasures: string[] | null
-    repairDeadline: string | null
-    measuresSignedBy: string | null
-  }[]
-  overdueTests: { limitId: number; tag: string; testStatus: string; dueDate: string | null; sil: number | null }[]
-  temporaryChanges: { id: number; title: string; status: string; expiresAt: string | null }[]
-  contentHash: string
-  acknowledgements: { id: number; at: string; by: string; contentHash: string }[]
-}
-
 /** One row of the trip-test schedule (used for the overdue tests on the home page). */
 export interface ScheduleRow {
   limitId: number
@@ -126,6 +71,12 @@ export interface TemporaryChange {
   expiresAt: string | null
 }
 
+/** Cache keys of the bypass data (Pinia Colada). */
+export const bypassKeys = {
+  all: ['bypasses'] as const,
+  one: (id: number) => ['bypasses', id] as const,
+}
+
 export const listBypasses = (query: BypassFilters & { page?: number; pageSize?: number }) =>
   http.get<ListResult<BypassDto>>('/bypasses', { ...query })
 export const getBypass = (id: number) => http.get<BypassDto>(`/bypasses/${id}`)
@@ -139,16 +90,12 @@ export const removeBypass = (id: number, body: RemoveBypassBody) =>
   http.post<BypassDto>(`/bypasses/${id}/removal`, body)
 export const cancelBypass = (id: number) => http.post<BypassDto>(`/bypasses/${id}/cancellation`)
 
-export const getBypassReview = (filters: BypassFilters) => http.get<BypassReview>('/bypass-review', { ...filters })
+export const getBypassReview = (filters: BypassFilters) => http.get<BypassReviewDto>('/bypass-review', { ...filters })
 export const getRiskErosion = (query: { siteId?: number[]; areaId?: number[]; from?: string; to?: string }) =>
   http.get<RiskErosion>('/bypass-review/risk', { ...query })
 /** Address of the review's export (a download link). */
 export const reviewExportUrl = (format: 'csv' | 'pdf', filters: BypassFilters) =>
   `/api/bypass-review/export${toQuery({ ...filters, format })}`
-
-export const getProtectionState = (areaId: number) => http.get<ProtectionState>('/protection-state', { areaId })
-export const acknowledgeHandover = (areaId: number, password: string) =>
-  http.post<ProtectionState>('/protection-state/acknowledgements', { areaId, password })
 
 // Register records the bypass screens need.
 export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)

@@ -10,8 +10,6 @@ import {
   mdiTimerSandComplete,
 } from '@mdi/js'
 import type { BypassDto, BypassStatus } from '@shared/schemas/bypasses.ts'
-import type { SitePolicy } from '@shared/schemas/sites.ts'
-import type { Role, RoleAssignment } from '@shared/schemas/users.ts'
 
 // Labels, colours and number formatting of the bypass screens.
 
@@ -47,7 +45,10 @@ export const STATUS_STYLE: Record<
 }
 export const OVERDUE_STYLE = { color: 'error', variant: 'flat' as const, icon: mdiClockAlertOutline }
 
-/** The order of the list: what is in force first (overdue before active), then what waits for a decision, then history. */
+/**
+ * The order of the list: what is in force first (overdue before active), then what waits for a decision, then
+ * history.
+ */
 export const STATUS_RANK: Record<BypassStatus, number> = {
   active: 1,
   authorized: 2,
@@ -165,17 +166,8 @@ export function rrfText(v: number): string {
 
 export const bandText = (band: 1 | 2 | 3 | 4 | 'none') => (band === 'none' ? 'Below SIL 1' : `SIL ${band}`)
 
-export const percent = (share: number) => `${Math.round(share * 1000) / 10} %`
-
-/** The longest bypass the user may authorize at the site (DOMAIN.md §6): 0 when they hold no authorizing role there. */
-export function authorizerMaxHours(roles: RoleAssignment[], siteId: number, policy: SitePolicy | undefined): number {
-  if (!policy) return 0
-  const mine = new Set<Role>(roles.filter((r) => r.siteId === siteId).map((r) => r.role))
-  let max = 0
-  if (mine.has('shift_supervisor') || mine.has('approver')) max = Math.max(max, policy.bypassMaxHoursSupervisor)
-  if (mine.has('plant_manager')) max = Math.max(max, policy.bypassMaxHoursManager)
-  return max
-}
+/** A share as a percentage; "—" where there is nothing to share out. */
+export const percent = (share: number | null) => (share === null ? '—' : `${Math.round(share * 1000) / 10} %`)
 
 /** People named on a bypass (requester and authorizers), to offer as filter choices. */
 export function peopleOf(items: BypassDto[]) {

@@ -32,10 +32,4 @@ export default [
     props: true,
     meta: { title: 'Bypass' },
   },
-  {
-    path: '/protection',
-    name: 'protection-state',
-    component: () => import('./views/ProtectionStateView.vue'),
-    meta: { title: 'Shift handover' },
-  },
 ] satisfies RouteRecordRaw[]

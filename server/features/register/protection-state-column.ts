@@ -2,8 +2,9 @@ import { sql, type Transaction } from 'kysely'
 import type { Database } from '../../db/schema.ts'
 
 /**
- * Recomputes a limit's stored protection state (DOMAIN.md §4): bypassed while a bypass is active, else degraded while a
- * failed test is not cleared by a passing full retest, else in service. Call it in the transaction that changed either.
+ * Recomputes the limit's `protection_state` column (docs/bypasses.md#protection-state, ADR 0004): bypassed while a
+ * bypass is active, else degraded while a failed test is not cleared by a passing full retest, else in service. Call
+ * it in the transaction that changed either.
  */
 export async function refreshProtectionState(
   trx: Transaction<Database>,

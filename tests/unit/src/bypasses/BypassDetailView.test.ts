@@ -1,0 +1,182 @@
+import { afterEach, describe, expect, it, vi } from 'vitest'
+import type { BypassDto, BypassStatus } from '@shared/schemas/bypasses.ts'
+import type { Role } from '@shared/schemas/users.ts'
+import BypassDetailView from '@/features/bypasses/views/BypassDetailView.vue'
+import { answerApi, FHR, mountView } from '../mount-view.ts'
+
+// The bypass page builds its buttons from the bypass rule book (docs/bypasses.md#rules): which are shown, which are
+// disabled and why, for the roles and states of the rule book's table. The clock is fixed at 12:00 UTC.
+
+const NOW = new Date('2026-07-06T12:00:00Z')
+const H = 3_600_000
+const at = (h: number) => new Date(NOW.getTime() + h * H).toISOString()
+const ME = 7
+const REQUESTER = 100
+
+function bypass(status: BypassStatus, o: Partial<BypassDto> = {}): BypassDto {
+  const started = status === 'active'
+  return {
+    id: 42,
+    limitId: 5,
+    limitTag: 'TSHH-101',
+    limitClass: 'trip',
+    sil: 2,
+    limitMaxBypassHours: null,
+    siteId: FHR.id,
+    siteCode: 'FHR',
+    timeZone: 'Europe/Berlin',
+    areaId: 1,
+    areaName: 'Crude Unit',
+    processName: 'Heater H-101',
+    channelInstrumentId: null,
+    channelTag: null,
+    requestedById: REQUESTER,
+    requestedBy: 'Olive Tanager',
+    reason: 'Burner tile repair',
+    compensatingMeasures: ['Field operator watches TI-101 every 15 min'],
+    plannedStart: at(-2),
+    plannedEnd: at(4),
+    plannedHours: 6,
+    status,
+    overdue: false,
+    overdueHours: 0,
+    changeRequestId: null,
+    authorizedAt: status === 'requested' ? null : at(-3),
+    activatedAt: started ? at(-2) : null,
+    activatedBy: started ? 'Olive Tanager' : null,
+    removedAt: null,
+    removedBy: null,
+    pvClearConfirmed: null,
+    removalNote: null,
+    lapsesAt: null,
+    bypassedHours: started ? 2 : 0,
+    authorizations: [],
+    createdAt: at(-4),
+    ...o,
+  }
+}
+
+async function open(b: BypassDto, roles: Role[], userId = ME) {
+  answerApi({
+    [`GET /bypasses/${b.id}`]: () => ({ body: b }),
+    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
+    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+  })
+  return mountView(BypassDetailView, {
+    user: { id: userId, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
+    props: { id: String(b.id) },
+  })
+}
+
+type Wrapper = Awaited<ReturnType<typeof open>>
+const BUTTONS = ['authorize', 'reject', 'extend', 'activate', 'remove', 'cancel'] as const
+/** Each button shown: enabled, or the reason it is disabled. */
+function buttons(w: Wrapper) {
+  const out: Record<string, true | string> = {}
+  for (const name of BUTTONS) {
+    const btn = w.find(`[data-test="bypass-${name}"]`)
+    if (!btn.exists()) continue
+    out[name] = btn.attributes('disabled') === undefined ? true : (btn.element.parentElement?.dataset.reason ?? '')
+  }
+  return out
+}
+
+afterEach(() => {
+  vi.useRealTimers()
+  vi.unstubAllGlobals()
+})
+
+describe('BypassDetailView: buttons follow the bypass rule book', () => {
+  it.each<[string, BypassStatus, Role[], number, Record<string, true>]>([
+    [
+      'a shift supervisor decides on a request',
+      'requested',
+      ['shift_supervisor'],
+      ME,
+      { authorize: true, reject: true, cancel: true },
+    ],
+    [
+      'the plant manager decides on a request',
+      'requested',
+      ['plant_manager'],
+      ME,
+      { authorize: true, reject: true, cancel: true },
+    ],
+    ['an operator sees no decision on a request', 'requested', ['operator'], ME, {}],
+    ['the operator who asked may cancel it', 'requested', ['operator'], REQUESTER, { cancel: true }],
+    ['an operator puts an authorized bypass in force', 'authorized', ['operator'], ME, { activate: true }],
+    [
+      'a shift supervisor may also extend or cancel it',
+      'authorized',
+      ['shift_supervisor'],
+      ME,
+      { extend: true, activate: true, cancel: true },
+    ],
+    ['a technician removes an active bypass', 'active', ['technician'], ME, { remove: true }],
+    ['an auditor reads only', 'active', ['auditor'], ME, {}],
+    ['nothing is left to do on a removed bypass', 'removed', ['shift_supervisor', 'plant_manager'], ME, {}],
+  ])('%s (%s, %j)', async (_what, status, roles, userId, expected) => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const w = await open(
+      bypass(status, status === 'removed' ? { removedAt: at(-1), activatedAt: at(-3) } : {}),
+      roles,
+      userId,
+    )
+    expect(w.find('[data-test="bypass-reason-text"]').text()).toBe('Burner tile repair')
+    expect(buttons(w)).toEqual(expected)
+  })
+
+  it('before its planned start "Put in force" is shown disabled, with the time it may be put in force', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const w = await open(bypass('authorized', { plannedStart: at(3), plannedEnd: at(7), authorizedAt: at(-1) }), [
+      'operator',
+    ])
+    const b = buttons(w)
+    expect(b.activate).toContain('cannot be put in force before its planned start')
+    // 15:00 UTC is 17:00 in Berlin in July
+    expect(b.activate).toContain('17:00')
+  })
+
+  it('the requester who is a shift supervisor sees "Authorize" disabled: nobody authorizes their own request', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const w = await open(bypass('requested'), ['shift_supervisor'], REQUESTER)
+    expect(buttons(w)).toEqual({
+      authorize: 'Nobody authorizes their own bypass request',
+      reject: 'Nobody decides on their own bypass request',
+      cancel: true,
+    })
+  })
+
+  it('the hour limits: a 20 h request is beyond a shift supervisor, within the plant manager', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const long = bypass('requested', { plannedStart: at(1), plannedEnd: at(21), plannedHours: 20 })
+    expect((await open(long, ['shift_supervisor'])).find('[data-test="bypass-authorize"]').attributes('disabled')).toBe(
+      '',
+    )
+    vi.unstubAllGlobals()
+    expect(buttons(await open(long, ['plant_manager'])).authorize).toBe(true)
+  })
+
+  it('with a linked temporary change the plant manager may authorize beyond 72 h; the supervisor still not', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const linked = bypass('requested', {
+      plannedStart: at(1),
+      plannedEnd: at(101),
+      plannedHours: 100,
+      changeRequestId: 9,
+    })
+    expect(buttons(await open(linked, ['plant_manager'])).authorize).toBe(true)
+    vi.unstubAllGlobals()
+    expect(buttons(await open(linked, ['shift_supervisor'])).authorize).toContain('12 h')
+  })
+
+  it('an active bypass at 12 h in all since it was put in force cannot be extended by a shift supervisor', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const full = bypass('active', { plannedStart: at(-2), activatedAt: at(-2), plannedEnd: at(10), plannedHours: 12 })
+    const b = buttons(await open(full, ['shift_supervisor']))
+    expect(b.remove).toBe(true)
+    expect(b.extend).toContain('plant manager')
+    vi.unstubAllGlobals()
+    expect(buttons(await open(full, ['plant_manager'])).extend).toBe(true)
+  })
+})

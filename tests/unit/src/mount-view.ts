@@ -1,0 +1,83 @@
+import { abilitiesPlugin } from '@casl/vue'
+import { PiniaColada } from '@pinia/colada'
+import { flushPromises, mount, RouterLinkStub } from '@vue/test-utils'
+import { createPinia, setActivePinia } from 'pinia'
+import { vi } from 'vitest'
+import { type Component, h } from 'vue'
+import { createMemoryHistory, createRouter, type RouteRecordRaw } from 'vue-router'
+import { routes } from '@/router/routes'
+import { createVuetify } from 'vuetify'
+import { createAppAbility, defineRulesFor } from '@shared/abilities/index.ts'
+import { DEFAULT_SITE_POLICY, type Site } from '@shared/schemas/sites.ts'
+import type { RoleAssignment } from '@shared/schemas/users.ts'
+import { useSessionStore } from '@/stores/session'
+
+// Mounts a view as the app does (Vuetify, Pinia, Pinia Colada, the CASL ability of a signed-in user) with the API
+// answered by a table of routes in place of the network.
+
+export const FHR: Site = {
+  id: 1,
+  code: 'FHR',
+  name: 'Fernhollow Refinery',
+  timeZone: 'Europe/Berlin',
+  policy: DEFAULT_SITE_POLICY,
+}
+
+export type Answer = { status?: number; body: unknown }
+export type Routes = Record<string, (url: URL, init?: RequestInit) => Answer>
+
+/** Replaces fetch: `GET /api/x` is looked up as 'GET /x' (without the query); unknown calls answer 404. */
+export function answerApi(routes: Routes) {
+  const calls: { method: string; path: string; body: unknown }[] = []
+  vi.stubGlobal('fetch', async (input: string, init?: RequestInit) => {
+    const url = new URL(input, 'http://localhost')
+    const method = init?.method ?? 'GET'
+    const path = url.pathname.replace(/^\/api/, '')
+    calls.push({ method, path, body: init?.body ? JSON.parse(String(init.body)) : undefined })
+    const route = routes[`${method} ${path}`]
+    const a = route ? route(url, init) : { status: 404, body: { error: { code: 'NOT_FOUND', message: 'No such' } } }
+    return new Response(JSON.stringify(a.body), {
+      status: a.status ?? 200,
+      headers: { 'Content-Type': 'application/json' },
+    })
+  })
+  return calls
+}
+
+export async function mountView(
+  view: Component,
+  opts: { user: { id: number; roles: RoleAssignment[] }; props?: Record<string, unknown>; path?: string },
+) {
+  // the app's routes, so that links by name resolve; each path renders nothing here
+  const router = createRouter({
+    history: createMemoryHistory(),
+    routes: routes.map((r) => ({ ...r, component: { render: () => h('div') }, children: undefined }) as RouteRecordRaw),
+  })
+  await router.push(opts.path ?? '/')
+  await router.isReady()
+  const pinia = createPinia()
+  setActivePinia(pinia)
+  const session = useSessionStore()
+  session.user = {
+    id: opts.user.id,
+    email: 'someone@fernhollow.example',
+    displayName: 'Someone',
+    roles: opts.user.roles,
+  }
+  const ability = createAppAbility(defineRulesFor(opts.user))
+  const wrapper = mount(view, {
+    props: opts.props,
+    global: {
+      plugins: [
+        createVuetify(),
+        pinia,
+        router,
+        [PiniaColada, {}],
+        [abilitiesPlugin, ability, { useGlobalProperties: true }],
+      ],
+      stubs: { RouterLink: RouterLinkStub },
+    },
+  })
+  await flushPromises()
+  return wrapper
+}
