@@ -14,6 +14,7 @@ import { startFakeSmtp } from './dev/fake-smtp.ts'
 import { startServer } from './index.ts'
 import { systemClock } from './clock.ts'
 import { seedDemoActivity } from './seed/demo-activity.ts'
+import { seedDemoShiftHandover } from './seed/demo-shift-handover.ts'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD, seedDemo } from './seed/demo.ts'
 
 const run = promisify(execFile)
@@ -131,6 +132,7 @@ async function main() {
     try {
       if (await seedDemo(db)) {
         await seedDemoActivity(db, config, systemClock)
+        await seedDemoShiftHandover(db, systemClock)
         console.log('Demo plant seeded.')
       }
     } finally {

@@ -68,12 +68,6 @@ export const DEMO_ACCOUNTS: DemoAccount[] = [
     roles: [{ site: 'FHR', role: 'shift_supervisor' }],
   },
   {
-    email: 'supervisor2@fernhollow.example',
-    name: 'Joren Ashcombe',
-    label: 'Shift supervisor (the other shift), Fernhollow Refinery',
-    roles: [{ site: 'FHR', role: 'shift_supervisor' }],
-  },
-  {
     email: 'technician@fernhollow.example',
     name: 'Tomas Quillfeather',
     label: 'Maintenance technician, both sites',

@@ -117,6 +117,8 @@ export interface BypassDto {
     contentHash: string
   }[]
   createdAt: string
+  /** The server's time when it answered: screens judge the rules on the server's clock. */
+  asOf: string
 }
 
 /** Filters of the bypass list, the review and its export (`GET /api/bypasses`, `/api/bypass-review`). */

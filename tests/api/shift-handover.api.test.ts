@@ -100,6 +100,7 @@ async function handoverWrites() {
 beforeAll(async () => {
   ctx.clock.set('2026-09-07T05:00:00Z')
   app = createApp(ctx)
+  await addSecondSupervisor(app)
   for (const who of PEOPLE) as[who] = await signedIn(app, who)
   const crew = { eng: as.engineer, approver: as.approver, tech: as.technician }
   // four heater trips in the first area of FHR (buildHeaterTrip): one bypassed, one degraded, one under a temporary change, one overdue for test
@@ -196,6 +197,23 @@ beforeAll(async () => {
   ).toBe('approved')
   changeId = cr.id
 })
+
+/**
+ * The other shift's supervisor at Fernhollow Refinery (as the demo plant's handover seed makes them), created by the
+ * administrator: a handover needs an outgoing and an incoming shift supervisor.
+ */
+async function addSecondSupervisor(app: Express) {
+  const admin = await signedIn(app, 'admin')
+  const sites = (await admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
+  await admin
+    .post('/api/users', {
+      email: 'supervisor2@fernhollow.example',
+      displayName: 'Joren Ashcombe',
+      password: PW,
+      roles: [{ siteId: sites.find((x) => x.code === 'FHR')!.id, role: 'shift_supervisor' }],
+    })
+    .expect(201)
+}
 
 const state = async (who: Who, ...areaIds: number[]) =>
   (await as[who].get(`/api/shift-handovers/state?${areaIds.map((a) => `areaId=${a}`).join('&')}`).expect(200))

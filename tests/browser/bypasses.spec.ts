@@ -194,15 +194,23 @@ describe('bypasses in the browser', () => {
     expect(csv).toContain('TSHH-5201')
 
     for (const p of [engineer, approver, technician, operator, supervisor, manager]) await p.context().close()
-  })
+  }, 180_000)
 
   it('the outgoing shift supervisor hands over two areas with notes; the incoming one accepts; both signatures shown', async () => {
     app.clock.set('2026-05-05T04:00:00Z')
     const outgoing = await pageFor(app, 'supervisor')
-    const incoming = await pageFor(app, 'supervisor2')
     const site = (await call<{ items: { id: number; code: string }[] }>(outgoing, 'GET', '/sites')).items.find(
       (s) => s.code === 'FHR',
     )!
+    // the other shift's supervisor, as the demo plant has them
+    const admin = await pageFor(app, 'admin')
+    await call(admin, 'POST', '/users', {
+      email: 'supervisor2@fernhollow.example',
+      displayName: 'Joren Ashcombe',
+      password: PW,
+      roles: [{ siteId: site.id, role: 'shift_supervisor' }],
+    })
+    const incoming = await pageFor(app, 'supervisor2')
     const areas = (await call<{ items: { id: number; name: string }[] }>(outgoing, 'GET', `/areas?siteId=${site.id}`))
       .items
     const [a, b] = areas
@@ -243,6 +251,6 @@ describe('bypasses in the browser', () => {
     await poll(() => text(incoming, 'handover-history')).toContain('Joren Ashcombe accepted')
     expect(await text(incoming, 'handover-history')).toContain('Hedda Marlowe handed over')
     expect(await incoming.locator('[data-test^="handover-pending-"]').count()).toBe(0)
-    for (const p of [outgoing, incoming]) await p.context().close()
-  })
+    for (const p of [outgoing, incoming, admin]) await p.context().close()
+  }, 180_000)
 })
