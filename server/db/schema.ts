@@ -53,7 +53,14 @@ export interface SignInAttemptTable {
   email: string
   ip: string
   success: boolean
-  purpose: 'sign_in' | 'signature'
+  purpose: SignInPurpose
+}
+export type SignInPurpose = 'sign_in' | 'signature' | 'password_change'
+export interface SignInThrottleTable {
+  key: string
+  failures: Generated<number>
+  last_failure_at: Timestamp | null
+  blocked_until: Timestamp | null
 }
 export interface AuditEventTable {
   id: Generated<number>
@@ -562,6 +569,7 @@ export interface Database {
   audit_event: AuditEventTable
   mail_outbox: MailOutboxTable
   job_schedule: JobScheduleTable
+  sign_in_throttle: SignInThrottleTable
   session: SessionTable
   process: ProcessTable
   instrument: InstrumentTable

@@ -6,56 +6,23 @@ import { type AuditContext, appendAudit, appendAuditAlone } from '../audit/audit
 import { findRolesByUserIds, findUserByEmail, findUserById } from '../users/users.repository.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { verifyPassword } from './passwords.ts'
+import { recordAttempt } from './session.repository.ts'
+import { reserveAttempt } from './throttle.ts'
 
 const GENERIC = 'E-mail address or password is wrong'
-
-/** Refuses when the account or the address has too many recent failures (OWASP ASVS 2.2.1). */
-async function assertNotThrottled(deps: AppDeps, email: string, ip: string) {
-  const { db, clock, config } = deps
-  const since = new Date(clock.now().getTime() - config.SIGNIN_WINDOW_MINUTES * 60_000)
-  const row = await db
-    .selectFrom('sign_in_attempt')
-    .select((eb) => [
-      eb.fn
-        .sum<number>(
-          eb
-            .case()
-            .when(eb(eb.fn('lower', ['email']), '=', email.toLowerCase()))
-            .then(1)
-            .else(0)
-            .end(),
-        )
-        .as('byAccount'),
-      eb.fn.sum<number>(eb.case().when('ip', '=', ip).then(1).else(0).end()).as('byAddress'),
-    ])
-    .where('success', '=', false)
-    .where('at', '>', since)
-    .where((eb) => eb.or([eb(eb.fn('lower', ['email']), '=', email.toLowerCase()), eb('ip', '=', ip)]))
-    .executeTakeFirst()
-  const byAccount = Number(row?.byAccount ?? 0)
-  const byAddress = Number(row?.byAddress ?? 0)
-  if (byAccount >= config.SIGNIN_MAX_FAILURES_PER_ACCOUNT || byAddress >= config.SIGNIN_MAX_FAILURES_PER_ADDRESS) {
-    throw new AppError(
-      429,
-      ErrorCode.RATE_LIMITED,
-      `Too many failed attempts; try again in ${config.SIGNIN_WINDOW_MINUTES} minutes`,
-    )
-  }
-}
 
 /** Checks e-mail and password; records the attempt and an audit event either way. */
 export async function signIn(deps: AppDeps, input: SignInInput, ctx: AuditContext): Promise<CurrentUser> {
   const { db, clock } = deps
   const ip = ctx.ip ?? 'unknown'
-  await assertNotThrottled(deps, input.email, ip)
+  // counted before argon2 runs: 40 parallel guesses get at most the limit's worth of checks
+  const reservation = await reserveAttempt(deps, input.email, ip)
   const user = await findUserByEmail(db, input.email)
   const ok = await verifyPassword(user?.password_hash ?? null, input.password)
   const success = Boolean(user && ok && user.active)
+  await reservation.release(success)
   await db.transaction().execute(async (trx) => {
-    await trx
-      .insertInto('sign_in_attempt')
-      .values({ at: clock.now(), email: input.email, ip, success, purpose: 'sign_in' })
-      .execute()
+    await recordAttempt(trx, { at: clock.now(), email: input.email, ip, success, purpose: 'sign_in' })
     await appendAudit(
       trx,
       clock,
@@ -91,14 +58,12 @@ export async function verifySignaturePassword(
   const user = await findUserById(db, userId)
   if (!user || !user.active) throw new AppError(401, ErrorCode.UNAUTHENTICATED, 'Sign in again')
   const ip = ctx.ip ?? 'unknown'
-  await assertNotThrottled(deps, user.email, ip)
+  const reservation = await reserveAttempt(deps, user.email, ip)
   const ok = await verifyPassword(user.password_hash, password)
+  await reservation.release(ok)
   if (!ok) {
     await db.transaction().execute(async (trx) => {
-      await trx
-        .insertInto('sign_in_attempt')
-        .values({ at: clock.now(), email: user.email, ip, success: false, purpose: 'signature' })
-        .execute()
+      await recordAttempt(trx, { at: clock.now(), email: user.email, ip, success: false, purpose: 'signature' })
       await appendAudit(trx, clock, ctx, {
         action: 'signature.failed',
         entityType: what.entityType,

@@ -38,7 +38,14 @@ export function createAccountRouter(deps: AppDeps) {
   const router = Router()
   router.post('/password', async (req, res) => {
     const input = ChangeOwnPasswordInputSchema.parse(req.body)
-    await service.changeOwnPassword(deps, req.audit, req.user!.id, input.currentPassword, input.newPassword)
+    await service.changeOwnPassword(
+      deps,
+      req.audit,
+      req.user!.id,
+      input.currentPassword,
+      input.newPassword,
+      req.sessionID,
+    )
     res.status(204).end()
   })
   return router

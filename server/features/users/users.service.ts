@@ -8,6 +8,9 @@ import { AppError, conflict, notFound, validationFailed } from '../../errors.ts'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { hashPassword, verifyPassword } from '../session/passwords.ts'
+import { deleteSessionsOfUser, recordAttempt } from '../session/session.repository.ts'
+import { reserveAttempt } from '../session/throttle.ts'
+import { assertStrongPassword } from './password-policy.ts'
 import * as repo from './users.repository.ts'
 
 type RoleList = User['roles']
@@ -69,6 +72,7 @@ export async function createUser(
   )
   if (await repo.findUserByEmail(deps.db, input.email))
     throw conflict('An account with this e-mail address exists already', { fields: { email: ['Already in use'] } })
+  assertStrongPassword('password', input.password, [input.email, input.displayName])
   const hash = await hashPassword(input.password)
   const now = deps.clock.now()
   const id = await deps.db.transaction().execute(async (trx) => {
@@ -126,6 +130,10 @@ export async function updateUser(
   }
   if (input.active === false && ctx.actorId === id)
     throw new AppError(403, ErrorCode.FORBIDDEN, 'You cannot deactivate your own account')
+  if (input.password) {
+    const target = await repo.findUserById(deps.db, id)
+    assertStrongPassword('password', input.password, target ? [target.email, target.display_name] : [])
+  }
   const hash = input.password ? await hashPassword(input.password) : undefined
   await deps.db.transaction().execute(async (trx) => {
     const before = await trx.selectFrom('app_user').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
@@ -142,6 +150,8 @@ export async function updateUser(
       .where('id', '=', id)
       .execute()
     if (input.roles) await repo.replaceRoles(trx, id, input.roles)
+    // a reset password or a deactivated account ends every session the account has (OWASP ASVS 4.0.3 §3.3.3)
+    if (hash || input.active === false) await deleteSessionsOfUser(trx, id)
     await appendAudit(trx, deps.clock, ctx, {
       action: hash ? 'user.password_reset' : 'user.update',
       entityType: 'User',
@@ -157,18 +167,43 @@ export async function updateUser(
   return getUser(deps, ability, id)
 }
 
-/** Anyone changes their own password; the current one is required. */
+/**
+ * Anyone changes their own password; the current one is required. A guess of the current password counts and is
+ * audited like a failed sign-in (throttled the same way), and a change ends every other session of the account.
+ */
 export async function changeOwnPassword(
   deps: AppDeps,
   ctx: AuditContext,
   userId: number,
   current: string,
   next: string,
+  keepSessionId?: string,
 ) {
   const user = await repo.findUserById(deps.db, userId)
   if (!user) throw notFound('User')
-  if (!(await verifyPassword(user.password_hash, current)))
+  const ip = ctx.ip ?? 'unknown'
+  const reservation = await reserveAttempt(deps, user.email, ip)
+  const ok = await verifyPassword(user.password_hash, current)
+  await reservation.release(ok)
+  if (!ok) {
+    await deps.db.transaction().execute(async (trx) => {
+      await recordAttempt(trx, {
+        at: deps.clock.now(),
+        email: user.email,
+        ip,
+        success: false,
+        purpose: 'password_change',
+      })
+      await appendAudit(trx, deps.clock, ctx, {
+        action: 'user.password_change_failed',
+        entityType: 'User',
+        entityId: userId,
+        after: { why: 'wrong current password' },
+      })
+    })
     throw validationFailed({ currentPassword: ['The current password is wrong'] })
+  }
+  assertStrongPassword('newPassword', next, [user.email, user.display_name])
   const hash = await hashPassword(next)
   await deps.db.transaction().execute(async (trx) => {
     await trx
@@ -176,6 +211,12 @@ export async function changeOwnPassword(
       .set({ password_hash: hash, updated_at: deps.clock.now() })
       .where('id', '=', userId)
       .execute()
-    await appendAudit(trx, deps.clock, ctx, { action: 'user.password_change', entityType: 'User', entityId: userId })
+    const ended = await deleteSessionsOfUser(trx, userId, keepSessionId)
+    await appendAudit(trx, deps.clock, ctx, {
+      action: 'user.password_change',
+      entityType: 'User',
+      entityId: userId,
+      after: { otherSessionsEnded: ended },
+    })
   })
 }
