@@ -35,6 +35,12 @@ import {
 } from './features/alarms/alarms.router.ts'
 import { createDemandsRouter } from './features/demands/demands.router.ts'
 import { createMailRouter } from './features/mail/mail.router.ts'
+import {
+  createFindingsRouter,
+  createLimitReconciliationsRouter,
+  createReconciliationRunsRouter,
+  createReconciliationSourcesRouter,
+} from './features/reconciliation/reconciliation.router.ts'
 import { createSessionRouter } from './features/session/session.router.ts'
 import { createAreasRouter, createSitesRouter } from './features/sites/sites.router.ts'
 import { createTestClockRouter } from './features/test-support/test-clock.router.ts'
@@ -116,6 +122,7 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/processes', createProcessesRouter(deps))
   api.use('/instruments', createInstrumentsRouter(deps))
   api.use('/limits/:id/degradation', createDegradationRouter(deps))
+  api.use('/limits/:id/reconciliations', createLimitReconciliationsRouter(deps))
   api.use('/limits', createLimitsRouter(deps))
   api.use('/alarm-response-sheets', createResponseSheetsRouter(deps))
   api.use('/trip-tests', createTripTestsRouter(deps))
@@ -132,6 +139,9 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/alarm-figures', createAlarmFiguresRouter(deps))
   api.use('/alarm-states', createAlarmStatesRouter(deps))
   api.use('/replays', createReplaysRouter(deps))
+  api.use('/reconciliation-sources', createReconciliationSourcesRouter(deps))
+  api.use('/reconciliation-runs', createReconciliationRunsRouter(deps))
+  api.use('/findings', createFindingsRouter(deps))
   api.use((_req, _res, next) => next(new AppError(404, ErrorCode.NOT_FOUND, 'No such API endpoint')))
   app.use('/api', api)
 

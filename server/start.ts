@@ -1,6 +1,6 @@
 // `npm start`: one process supervises everything it needs. Without DATABASE_URL it creates (first run) and starts a
 // project-local PostgreSQL cluster on 127.0.0.1, migrates, seeds the demo plant into an empty database, starts the
-// local fake SMTP server, builds the client when its sources changed, and serves app and API.
+// local fake SMTP server and the simulated Modbus device, builds the client when its sources changed, and serves app and API.
 // Ctrl-C or SIGTERM stops everything it started, PostgreSQL included.
 import { execFile, spawn } from 'node:child_process'
 import { existsSync, readdirSync, statSync } from 'node:fs'
@@ -11,11 +11,13 @@ import { loadConfig } from './config.ts'
 import { createDb } from './db/index.ts'
 import { migrateToLatest } from './db/migrate.ts'
 import { startFakeSmtp } from './dev/fake-smtp.ts'
+import { startModbusSim } from './dev/modbus-sim.ts'
 import { startServer } from './index.ts'
 import { systemClock } from './clock.ts'
 import { seedDemoActivity } from './seed/demo-activity.ts'
 import { seedDemoShiftHandover } from './seed/demo-shift-handover.ts'
 import { DEMO_ACCOUNTS, DEMO_PASSWORD, seedDemo } from './seed/demo.ts'
+import { seedDemoReconciliation } from './seed/demo-reconciliation.ts'
 
 const run = promisify(execFile)
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..')
@@ -125,6 +127,17 @@ async function main() {
     process.env.SMTP_PORT = String(smtp.port)
     cleanups.push(() => smtp.close())
   }
+  // the simulated Modbus device holding the demo plant's limit controllers (read only; it refuses every write)
+  let modbusSimPort = Number(process.env.MODBUS_SIM_PORT ?? 1502)
+  if (!Number.isInteger(modbusSimPort) || modbusSimPort < 0 || modbusSimPort > 65535)
+    fail('Invalid configuration: MODBUS_SIM_PORT: a port number from 0 to 65535 (0 = a free port)')
+  if (localDb || process.env.MODBUS_SIM === '1') {
+    const sim = await startModbusSim(modbusSimPort).catch((err) =>
+      fail(err instanceof Error ? err.message : String(err)),
+    )
+    modbusSimPort = sim.port
+    cleanups.push(() => sim.close())
+  }
   const config = loadConfig()
   // the demo plant goes only into the local cluster, or where SEED_DEMO=1 asks for it; never in production
   if (config.NODE_ENV !== 'production' && migrationUrl && (localDb || process.env.SEED_DEMO === '1')) {
@@ -133,6 +146,7 @@ async function main() {
       if (await seedDemo(db)) {
         await seedDemoActivity(db, config, systemClock)
         await seedDemoShiftHandover(db, systemClock)
+        await seedDemoReconciliation(db, systemClock, { port: modbusSimPort })
         console.log('Demo plant seeded.')
       }
     } finally {
@@ -146,6 +160,8 @@ async function main() {
   console.log(`\nLimitkeeper is ready at ${server.url}  (${((Date.now() - started) / 1000).toFixed(1)} s)`)
   if (smtpPort)
     console.log(`Mail goes to the local fake SMTP server on 127.0.0.1:${smtpPort}; admins see it under Mail.`)
+  if (localDb || process.env.MODBUS_SIM === '1')
+    console.log(`Simulated Modbus device (demo limit controllers, read only) on 127.0.0.1:${modbusSimPort}.`)
   if (config.NODE_ENV !== 'production' && (localDb || process.env.SEED_DEMO === '1')) {
     console.log(`Demo accounts (password: ${DEMO_PASSWORD}):`)
     for (const a of DEMO_ACCOUNTS) console.log(`  ${a.email.padEnd(34)} ${a.label}`)

@@ -16,6 +16,14 @@ import type { DeferralStatus } from '../../shared/domain/rules/trip-tests.ts'
 import type { Role } from '../../shared/schemas/users.ts'
 import type { BypassStatus } from '../../shared/schemas/bypasses.ts'
 import type { HandoverSnapshot, ShiftHandoverStatus } from '../../shared/schemas/shift-handover.ts'
+import type {
+  FindingKind,
+  FindingResolution,
+  FindingState,
+  RunOutcome,
+  RunTrigger,
+  SourceKind,
+} from '../../shared/schemas/reconciliation.ts'
 
 type Timestamp = ColumnType<Date, Date | string, Date | string>
 type Json = ColumnType<unknown, string | null, string | null>
@@ -558,6 +566,87 @@ export interface ProcessSampleTable {
   t: Timestamp
   value: number | null
 }
+export interface ReconciliationSourceTable {
+  id: Generated<number>
+  site_id: number
+  name: string
+  kind: SourceKind
+  description: Generated<string>
+  host: string | null
+  port: number | null
+  unit_id: number | null
+  timeout_ms: Generated<number>
+  register_map: JsonValue<unknown[]>
+  column_mapping: JsonValue<Record<string, string>>
+  area_ids: JsonValue<number[]>
+  tolerances: JsonValue<Record<string, string>>
+  schedule_hours: NullableNumeric
+  active: Generated<boolean>
+  next_run_at: Timestamp | null
+  version: Generated<number>
+  created_by: number | null
+  created_at: Timestamp
+  updated_at: Timestamp
+}
+export interface ReconciliationRunTable {
+  id: Generated<number>
+  source_id: number
+  site_id: number
+  trigger: RunTrigger
+  outcome: RunOutcome
+  started_at: Timestamp
+  finished_at: Timestamp
+  run_by: number | null
+  file_name: string | null
+  checksum: string | null
+  rows_read: Generated<number>
+  rows_ignored: Generated<number>
+  limits_compared: Generated<number>
+  attributes_compared: Generated<number>
+  differences: Generated<number>
+  findings_new: Generated<number>
+  findings_reopened: Generated<number>
+  findings_resolved: Generated<number>
+  error: string | null
+}
+export interface FindingTable {
+  id: Generated<number>
+  site_id: number
+  source_id: number
+  limit_id: number | null
+  tag: string
+  attribute: Generated<string>
+  kind: FindingKind
+  state: Generated<FindingState>
+  register_value: string | null
+  device_value: string | null
+  unit: string | null
+  detail: Generated<string>
+  present: Generated<boolean>
+  first_run_id: number
+  last_run_id: number
+  first_seen_at: Timestamp
+  last_seen_at: Timestamp
+  opened_at: Timestamp
+  reopen_count: Generated<number>
+  acknowledged_by: number | null
+  acknowledged_at: Timestamp | null
+  change_request_id: number | null
+  resolution: FindingResolution | null
+  resolved_by: number | null
+  resolved_at: Timestamp | null
+  resolved_run_id: number | null
+  accept_reason: string | null
+  version: Generated<number>
+}
+export interface LimitReconciliationTable {
+  limit_id: number
+  source_id: number
+  run_id: number
+  at: Timestamp
+  matched: boolean
+  differences: JsonValue<string[]>
+}
 
 /** The database as Kysely sees it (kept by hand beside the migrations). */
 export interface Database {
@@ -600,6 +689,10 @@ export interface Database {
   demand: DemandTable
   shift_handover: ShiftHandoverTable
   shift_handover_area: ShiftHandoverAreaTable
+  reconciliation_source: ReconciliationSourceTable
+  reconciliation_run: ReconciliationRunTable
+  finding: FindingTable
+  limit_reconciliation: LimitReconciliationTable
 }
 
 /** Kinds of event in the demand and trip log. */

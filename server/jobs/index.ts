@@ -5,6 +5,7 @@ import { createChangeRequestJob } from '../features/change-requests/change-reque
 import { createTripTestJob } from '../features/trip-tests/trip-tests.jobs.ts'
 import { createBypassJob } from '../features/bypasses/bypasses.jobs.ts'
 import { createMailJob } from '../features/mail/mail.worker.ts'
+import { createReconciliationJob } from '../features/reconciliation/reconciliation.jobs.ts'
 
 /** Every scheduled job of the product. Later features add theirs here. */
 export function createJobs(db: Db, config: Config, clock: Clock): DueJob[] {
@@ -13,5 +14,6 @@ export function createJobs(db: Db, config: Config, clock: Clock): DueJob[] {
     createChangeRequestJob(db, config, clock),
     createTripTestJob(db, config, clock),
     createBypassJob(db, config, clock),
+    createReconciliationJob(db, config, clock),
   ]
 }

@@ -25,6 +25,7 @@ export type Action =
   | 'classify'
   | 'credit'
   | 'hand_over'
+  | 'reconcile'
 
 /** Subjects: PascalCase singular. Site-scoped subjects carry `siteId` (a Site carries `id`). */
 export type SubjectName =
@@ -45,6 +46,8 @@ export type SubjectName =
   | 'AlarmJournal'
   | 'AlarmState'
   | 'Replay'
+  | 'ReconciliationSource'
+  | 'Finding'
   | 'all'
 
 export type AppAbility = MongoAbility<[Action, SubjectName | Record<string, unknown>]>
@@ -154,6 +157,15 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
   if (engineer.length) can(['classify', 'credit'], 'Demand', { siteId: { $in: engineer } })
   // the outgoing shift supervisor hands over, the incoming one accepts (docs/shift-handover.md)
   if (supervisor.length) can(['hand_over', 'accept'], 'ShiftHandover', { siteId: { $in: supervisor } })
+  // reconciliation of the register with the plant (docs/reconciliation.md): everyone reads; safety engineers keep
+  // the sources, run them and own the findings; plant managers may also accept a difference with a signature
+  if (allSites.length) can('read', ['ReconciliationSource', 'Finding'], { siteId: { $in: allSites } })
+  if (engineer.length) {
+    can(['create', 'update', 'reconcile'], 'ReconciliationSource', { siteId: { $in: engineer } })
+    can(['update', 'accept'], 'Finding', { siteId: { $in: engineer } })
+  }
+  const manager = sitesWith('plant_manager')
+  if (manager.length) can('accept', 'Finding', { siteId: { $in: manager } })
   return rules
 }
 

@@ -78,6 +78,12 @@ export const SitePolicySchema = z.object({
   alarmPhilosophy: AlarmPhilosophySchema.default(AlarmPhilosophySchema.parse({})),
   /** A successful real demand of the whole function may be credited as a proof test (engineer signs). */
   demandCreditAllowed: z.boolean().default(false),
+  /** Hours between scheduled reconciliations of a live device (docs/reconciliation.md); a source may override. */
+  reconcileLiveEveryHours: z
+    .number()
+    .positive()
+    .max(24 * 31)
+    .default(1),
 })
 export type SitePolicy = z.infer<typeof SitePolicySchema>
 

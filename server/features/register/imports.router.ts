@@ -37,7 +37,7 @@ function uploadError(err: unknown): AppError {
   return validationFailed({ file: [message] }, `The upload could not be read: ${message}`)
 }
 
-const receiveFile: RequestHandler = (req, res, next) => {
+export const receiveFile: RequestHandler = (req, res, next) => {
   upload(req, res, (err: unknown) => next(err ? uploadError(err) : undefined))
 }
 

@@ -43,6 +43,7 @@ import { applyInstrumentDefinition, insertInstrument, lockInstrument } from './i
 import { applyLimitDefinition, insertLimit, lockLimit } from './limits.service.ts'
 import { findInstrumentIdsByLimitIds } from './limits.repository.ts'
 import { toInstrument, toLimit, toProcess } from './register.mappers.ts'
+import { badFile, normHeader, resolveColumnMapping } from './column-mapping.ts'
 
 // The register import: a CSV or XLSX file in the register file layout (shared/schemas/register-io.ts) is read,
 // mapped to column keys, checked in a transaction that is rolled back (dry run), stored as a batch, and committed
@@ -75,10 +76,7 @@ const HEADER_OF = new Map<string, string>(REGISTER_COLUMNS.map((c) => [c.key, c.
 const COLUMN_KEYS = new Set<string>(REGISTER_COLUMNS.map((c) => c.key))
 const header = (key: string) => HEADER_OF.get(key) ?? key
 
-/** A file the import cannot read at all (400, nothing stored). */
-export function badFile(message: string, details: Record<string, unknown> = {}): AppError {
-  return new AppError(400, ErrorCode.VALIDATION_FAILED, message, { fields: { file: [message] }, ...details })
-}
+export { badFile }
 
 // ---- reading the file ----
 
@@ -202,60 +200,18 @@ async function readXlsx(buffer: Buffer): Promise<FileTable> {
 
 // ---- mapping headers to column keys ----
 
-export const norm = (h: string) => h.trim().toLowerCase().replace(/\s+/g, ' ')
-const BY_HEADER = new Map<string, RegisterColumnKey>(
-  REGISTER_COLUMNS.flatMap(
-    (c) =>
-      [
-        [norm(c.header), c.key],
-        [norm(c.key), c.key],
-      ] as const,
-  ),
-)
+export const norm = normHeader
 
-/**
- * The column key of each header: the explicit mapping first, then the register file's own headers (or keys), case
- * does not matter, then the user's remembered mapping. Unknown headers are ignored.
- */
+/** The column key of each header (column-mapping.ts), against the register file layout. */
 function resolveMapping(headers: string[], explicit: ImportMapping | undefined, remembered: ImportMapping) {
-  const lookup = (m: ImportMapping | undefined, h: string) => {
-    if (!m) return undefined
-    if (Object.hasOwn(m, h)) return m[h]
-    const found = Object.keys(m).find((k) => norm(k) === norm(h))
-    return found === undefined ? undefined : m[found]
-  }
-  const keys: (RegisterColumnKey | null)[] = []
-  const used = new Map<string, string>()
-  const ignored: string[] = []
-  for (const h of headers) {
-    if (!h) {
-      keys.push(null)
-      continue
-    }
-    const chosen = lookup(explicit, h) ?? BY_HEADER.get(norm(h)) ?? lookup(remembered, h)
-    keys.push(chosen ? chosen : null)
-    used.set(h, chosen ?? '')
-    if (!chosen) ignored.push(h)
-  }
-  const seen = new Map<string, string>()
-  const twice: string[] = []
-  keys.forEach((k, i) => {
-    if (!k) return
-    if (seen.has(k)) twice.push(`"${seen.get(k)}" and "${headers[i]}" both map to ${header(k)}`)
-    else seen.set(k, headers[i])
-  })
-  const columns = REGISTER_COLUMNS.map((c) => ({ key: c.key, header: c.header }))
-  const mapping = Object.fromEntries(used)
-  if (twice.length)
-    throw badFile(`Two columns map to the same field: ${twice.join('; ')}`, { headers, mapping, columns })
-  const missing = IMPORT_REQUIRED_COLUMNS.filter((k) => !seen.has(k))
-  if (missing.length) {
-    throw badFile(
-      `The file has no column for ${missing.map(header).join(', ')}: map its headers to the register columns, or start from an exported register file`,
-      { headers, mapping, missing, columns },
-    )
-  }
-  return { keys, used: mapping, ignored }
+  return resolveColumnMapping(
+    headers,
+    REGISTER_COLUMNS,
+    IMPORT_REQUIRED_COLUMNS,
+    explicit,
+    remembered,
+    'map its headers to the register columns, or start from an exported register file',
+  )
 }
 
 function toStoredRows(table: FileTable, keys: (RegisterColumnKey | null)[]): StoredRow[] {
