@@ -1,8 +1,8 @@
 // Consistency checks of one limit against its instrument's operating window
-// (sensor range ⊃ design limit ⊃ trip ⊃ alarm ⊃ normal range, DOMAIN.md §1) and its sibling limits.
+// (sensor range ⊃ design limit ⊃ trip ⊃ alarm ⊃ normal range, docs/domain/operating-window.md) and its sibling limits.
 // Rules, edges and sources: docs/domain/operating-window.md.
 //
-// Numbers are stored as PostgreSQL `numeric` and compared exactly (DOMAIN.md §5): every value is turned into a
+// Numbers are stored as PostgreSQL `numeric` and compared exactly (docs/conventions.md): every value is turned into a
 // scaled integer from its shortest decimal representation, so 80.1 + 0.4 equals 80.5 here, as it does in the database.
 
 /** High limits act on a rising value, low limits on a falling one. */
@@ -61,7 +61,7 @@ export interface OperatingWindowInput {
   limit: WindowLimitInput
   instrument: WindowInstrumentInput
   siblings: WindowSiblingInput[]
-  /** Site policy: default trip-test tolerance, ± percent of span (DOMAIN.md §6 default 0.5). */
+  /** Site policy: default trip-test tolerance, ± percent of span (docs/conventions.md#site-policies default 0.5). */
   defaultTolerancePercentSpan?: number
 }
 
@@ -95,7 +95,7 @@ export interface OperatingWindowResult {
   warnings: WindowFinding[]
 }
 
-/** Site-policy default trip-test tolerance, ± % of span (DOMAIN.md §6). */
+/** Site-policy default trip-test tolerance, ± % of span (docs/conventions.md#site-policies). */
 export const DEFAULT_TOLERANCE_PERCENT_SPAN = 0.5
 
 /** Clearance kept between setpoint ± tolerance and each range end, % of span (common practice, no source). */
@@ -298,7 +298,7 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
     }
   }
 
-  // 5b. the limit acts before the design limit of its side (window nesting, DOMAIN.md §1)
+  // 5b. the limit acts before the design limit of its side (window nesting, docs/domain/operating-window.md)
   const designEdge = high ? instrument.designHigh : instrument.designLow
   if (designEdge !== null) {
     const d = dec(designEdge)

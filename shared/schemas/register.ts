@@ -3,7 +3,7 @@ import { IdSchema, repeated } from './common.ts'
 import { structuralClassificationErrors } from '../domain/priority.ts'
 import { ROLES } from './users.ts'
 
-// The register's resources (DOMAIN.md §3). Decimal inputs are accepted as numbers or numeric strings and stored
+// The register's resources (docs/domain/test-signals.md). Decimal inputs are accepted as numbers or numeric strings and stored
 // exactly as PostgreSQL numeric; answers carry them as JSON numbers.
 
 const num = z
@@ -46,7 +46,7 @@ export const RESET_ROLES = [
   'safety_engineer',
 ] as const satisfies readonly (typeof ROLES)[number][]
 
-/** The input signal of an instrument (DOMAIN.md §3). */
+/** The input signal of an instrument (docs/domain/test-signals.md). */
 export const SignalSchema = z.discriminatedUnion(
   'kind',
   [

@@ -21,7 +21,7 @@ import { conflict, notFound } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import type { Db } from '../../db/index.ts'
 
-/** A site's policy: stored overrides over the defaults of DOMAIN.md §6. */
+/** A site's policy: stored overrides over the defaults of docs/conventions.md#site-policies. */
 export function policyOf(row: Pick<SiteRow, 'policy'>): SitePolicy {
   return SitePolicySchema.parse({ ...DEFAULT_SITE_POLICY, ...(row.policy ?? {}) })
 }
