@@ -3,7 +3,7 @@ import { IdSchema, repeated } from './common.ts'
 import { structuralClassificationErrors } from '../domain/priority.ts'
 import { ROLES } from './users.ts'
 
-// The register's resources (docs/domain/test-signals.md). Decimal inputs are accepted as numbers or numeric strings and stored
+// The register's resources (docs/register.md). Decimal inputs are accepted as numbers or numeric strings and stored
 // exactly as PostgreSQL numeric; answers carry them as JSON numbers.
 
 const num = z
