@@ -4,6 +4,7 @@ import { createApp } from '../../server/app.ts'
 import { createHash } from 'node:crypto'
 import canonicalize from 'canonicalize'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
+import { seedDemoShiftHandover } from '../../server/seed/demo-shift-handover.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { buildHeaterTrip } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
@@ -100,7 +101,8 @@ async function handoverWrites() {
 beforeAll(async () => {
   ctx.clock.set('2026-09-07T05:00:00Z')
   app = createApp(ctx)
-  await addSecondSupervisor(app)
+  // the other shift's supervisor, as the demo plant's own seed makes them: a handover needs an outgoing and an incoming one
+  await seedDemoShiftHandover(ctx.db, ctx.clock)
   for (const who of PEOPLE) as[who] = await signedIn(app, who)
   const crew = { eng: as.engineer, approver: as.approver, tech: as.technician }
   // four heater trips in the first area of FHR (buildHeaterTrip): one bypassed, one degraded, one under a temporary change, one overdue for test
@@ -197,23 +199,6 @@ beforeAll(async () => {
   ).toBe('approved')
   changeId = cr.id
 })
-
-/**
- * The other shift's supervisor at Fernhollow Refinery (as the demo plant's handover seed makes them), created by the
- * administrator: a handover needs an outgoing and an incoming shift supervisor.
- */
-async function addSecondSupervisor(app: Express) {
-  const admin = await signedIn(app, 'admin')
-  const sites = (await admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  await admin
-    .post('/api/users', {
-      email: 'supervisor2@fernhollow.example',
-      displayName: 'Joren Ashcombe',
-      password: PW,
-      roles: [{ siteId: sites.find((x) => x.code === 'FHR')!.id, role: 'shift_supervisor' }],
-    })
-    .expect(201)
-}
 
 const state = async (who: Who, ...areaIds: number[]) =>
   (await as[who].get(`/api/shift-handovers/state?${areaIds.map((a) => `areaId=${a}`).join('&')}`).expect(200))

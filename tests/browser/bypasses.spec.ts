@@ -1,8 +1,18 @@
 import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
+import { createDb } from '../../server/db/index.ts'
+import { systemClock } from '../../server/clock.ts'
+import { seedDemoShiftHandover } from '../../server/seed/demo-shift-handover.ts'
 import { callApi, pageFor, readyToImplement, signInAs, useBrowserApp } from './helpers.ts'
 
-const app = useBrowserApp()
+// the other shift's supervisor, as the demo plant's own seed makes them: a handover needs an outgoing and an incoming one
+const app = useBrowserApp({
+  seed: async (ownerUrl) => {
+    const owner = createDb(ownerUrl, 2).db
+    await seedDemoShiftHandover(owner, systemClock)
+    await owner.destroy()
+  },
+})
 const call = <T = any>(page: Page, method: string, path: string, body?: unknown) =>
   callApi<T>(page, app.baseUrl, method, path, body)
 const PW = 'limitkeeper-demo'
@@ -202,14 +212,6 @@ describe('bypasses in the browser', () => {
     const site = (await call<{ items: { id: number; code: string }[] }>(outgoing, 'GET', '/sites')).items.find(
       (s) => s.code === 'FHR',
     )!
-    // the other shift's supervisor, as the demo plant has them
-    const admin = await pageFor(app, 'admin')
-    await call(admin, 'POST', '/users', {
-      email: 'supervisor2@fernhollow.example',
-      displayName: 'Joren Ashcombe',
-      password: PW,
-      roles: [{ siteId: site.id, role: 'shift_supervisor' }],
-    })
     const incoming = await pageFor(app, 'supervisor2')
     const areas = (await call<{ items: { id: number; name: string }[] }>(outgoing, 'GET', `/areas?siteId=${site.id}`))
       .items
@@ -251,6 +253,6 @@ describe('bypasses in the browser', () => {
     await poll(() => text(incoming, 'handover-history')).toContain('Joren Ashcombe accepted')
     expect(await text(incoming, 'handover-history')).toContain('Hedda Marlowe handed over')
     expect(await incoming.locator('[data-test^="handover-pending-"]').count()).toBe(0)
-    for (const p of [outgoing, incoming, admin]) await p.context().close()
+    for (const p of [outgoing, incoming]) await p.context().close()
   }, 180_000)
 })
