@@ -79,6 +79,18 @@ describe('change request attachments (stored in PostgreSQL, type checked by cont
     expect(events.map((e) => (e.after as { attachmentId: number }).attachmentId)).toEqual([pdf.id, png.id])
   })
 
+  // OWASP File Upload Cheat Sheet: the stored name's extension follows the type validated from the content
+  it('stores a PDF sent as x.html under the name x.pdf and serves it so', async () => {
+    const att = (await upload(PDF, 'x.html').expect(201)).body
+    expect(att).toMatchObject({ fileName: 'x.pdf', contentType: 'application/pdf' })
+    const got = await download(att.id).expect(200)
+    expect(got.headers['content-disposition']).toBe('attachment; filename="x.pdf"')
+    const png = (await upload(PNG, 'trend.PNG.exe').expect(201)).body
+    expect(png.fileName).toBe('trend.PNG.png')
+    const noName = (await upload(PNG, '.html').expect(201)).body
+    expect(noName.fileName).toBe('attachment.png')
+  })
+
   it('refuses a text file named .pdf with 400 and writes nothing', async () => {
     const before = await rowCounts(ctx.db)
     const res = await upload(Buffer.from('setpoint = 780 °C\nthis is not a PDF\n', 'utf8'), 'datasheet.pdf').expect(400)

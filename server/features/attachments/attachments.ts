@@ -26,6 +26,27 @@ export function sniffType(buf: Buffer): 'application/pdf' | 'image/png' | 'image
   return null
 }
 
+const EXTENSION: Record<NonNullable<ReturnType<typeof sniffType>>, string> = {
+  'application/pdf': '.pdf',
+  'image/png': '.png',
+  'image/jpeg': '.jpg',
+}
+
+/**
+ * The name an attachment is stored and served under: the client's name made safe, its extension replaced by the one
+ * of the type judged from the content, so a PDF sent as `x.html` is kept and downloaded as `x.pdf` (docs/security.md,
+ * "Attachments").
+ */
+export function storedFileName(clientName: string, type: NonNullable<ReturnType<typeof sniffType>>): string {
+  const safe = clientName.replace(/[^\w.\- ()]/g, '_')
+  const dot = safe.lastIndexOf('.')
+  const given = dot >= 0 ? safe.slice(dot).toLowerCase() : ''
+  // .jpeg is as right as .jpg for a JPEG; every other extension gives way to the judged one
+  const ext = type === 'image/jpeg' && given === '.jpeg' ? given : EXTENSION[type]
+  const stem = (dot >= 0 ? safe.slice(0, dot) : safe).replace(/^[.\s]+|[.\s]+$/g, '').slice(0, 150 - ext.length)
+  return `${stem || 'attachment'}${ext}`
+}
+
 /** Receives one attachment in field `file`; multer's failures as API errors (413 over the size limit, 400 for anything else). */
 export const receiveAttachment: RequestHandler = (req, res, next) => {
   attachmentUpload.single('file')(req, res, (err: unknown) => {
@@ -64,7 +85,7 @@ export async function storeAttachment(
       'Only PDF, PNG and JPEG files can be attached (checked by content)',
       { fields: { file: ['Not a PDF, PNG or JPEG file'] } },
     )
-  const name = file.originalname.replace(/[^\w.\- ()]/g, '_').slice(0, 150) || 'attachment'
+  const name = storedFileName(file.originalname, type)
   return trx
     .insertInto('attachment')
     .values({
