@@ -355,6 +355,32 @@ describe("the plant manager's bypass review (issue 6)", () => {
     )
     expect(filtered.data).toHaveLength(1)
 
+    // OWASP "CSV Injection": a name that reads as a formula leaves with a quote before it; numbers stay numbers
+    const olive = await ctx.db
+      .selectFrom('app_user')
+      .select(['id', 'display_name'])
+      .where('display_name', '=', 'Olive Tanager')
+      .executeTakeFirstOrThrow()
+    await ctx.db
+      .updateTable('app_user')
+      .set({ display_name: `=cmd|' /C calc'!A0` })
+      .where('id', '=', olive.id)
+      .execute()
+    try {
+      const forged = Papa.parse<Record<string, string>>(
+        (await as.manager.get('/api/bypass-review/export?format=csv').expect(200)).text.replace(/^\uFEFF/, ''),
+        { header: true, skipEmptyLines: true },
+      ).data.find((row) => row.Bypass === String(ids.b4))!
+      expect(forged['Requested by']).toBe(`'=cmd|' /C calc'!A0`)
+      expect(Number(forged['Overdue h'])).toBeCloseTo(2, 1)
+    } finally {
+      await ctx.db
+        .updateTable('app_user')
+        .set({ display_name: olive.display_name })
+        .where('id', '=', olive.id)
+        .execute()
+    }
+
     const pdf = await as.manager.get('/api/bypass-review/export?format=pdf').expect(200)
     expect(pdf.headers['content-type']).toBe('application/pdf')
     expect(Buffer.from(pdf.body).subarray(0, 5).toString('latin1')).toBe('%PDF-')

@@ -443,11 +443,27 @@ describe('round trip: export the register, import the same file', () => {
             process: 'Round trip heater H-8',
             compensatingMeasures: 'Watch TI-9; Reduce firing',
             description: 'Line one, "quoted"',
+            consequence: `=cmd|' /C calc'!A0`,
+            operatorResponse: '@SUM(1+1)*cmd|',
+            rangeLow: '-50',
           }),
         ]),
         { siteId: fhr, dryRun: false },
       ).expect(201)
       const file = await download(eng, `/api/limits/export?format=${format}&siteId=${fhr}`)
+      if (format === 'csv') {
+        // OWASP "CSV Injection": a text cell starting with = + - @ tab or CR leaves with a quote before it, a
+        // negative number stays a number
+        const [header, ...records] = Papa.parse<string[]>(file.toString('utf8').replace(/^\uFEFF/, ''), {
+          skipEmptyLines: true,
+        }).data
+        const col = (key: string) => header.indexOf(REGISTER_COLUMNS.find((c) => c.key === key)!.header)
+        const mine = records.find((r) => r[col('tag')] === 'TSHH-981')!
+        expect(mine[col('consequence')]).toBe(`'=cmd|' /C calc'!A0`)
+        expect(mine[col('operatorResponse')]).toBe(`'@SUM(1+1)*cmd|`)
+        expect(mine[col('rangeLow')]).toBe('-50')
+        expect(records.every((r) => r.every((cell) => !/^[=+@\t\r]/.test(cell) && !/^-(?!\d)/.test(cell)))).toBe(true)
+      }
       const total = (await eng.get(`/api/limits?siteId=${fhr}&pageSize=1`).expect(200)).body.total
       const before = await registerCounts()
       const dry = await upload(eng, file, { siteId: fhr, fileName: `register.${format}` }).expect(201)

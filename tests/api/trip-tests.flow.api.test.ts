@@ -107,5 +107,11 @@ describe('trip tests: a failed test degrades the limit until a full retest passe
     expect(cert.body.subarray(0, 5).toString()).toBe('%PDF-')
     const csv = await tech.get(`/api/trip-tests/export?limitId=${limit.id}`).expect(200)
     expect(csv.text.split('\n').length).toBe(4)
+
+    // OWASP "CSV Injection": the recorder's name starting with - + @ leaves with a quote before it
+    const me = (await tech.get('/api/session').expect(200)).body.user.id as number
+    await ctx.db.updateTable('app_user').set({ display_name: '-2+3+cmd|calc' }).where('id', '=', me).execute()
+    const rows = (await tech.get(`/api/trip-tests/export?limitId=${limit.id}`).expect(200)).text.trim().split(/\r?\n/)
+    expect(rows.slice(1).every((r) => r.endsWith(`"'-2+3+cmd|calc"`))).toBe(true)
   })
 })

@@ -1,5 +1,5 @@
 import { Router } from 'express'
-import Papa from 'papaparse'
+import { toCsv } from '../../csv.ts'
 import { z } from 'zod'
 import {
   AuthorizeBypassInputSchema,
@@ -217,7 +217,7 @@ export function createBypassReviewRouter(deps: AppDeps) {
     }
     res.setHeader('Content-Type', 'text/csv; charset=utf-8')
     res.setHeader('Content-Disposition', 'attachment; filename="limitkeeper-bypass-review.csv"')
-    res.send(`\uFEFF${Papa.unparse(rows)}`)
+    res.send(toCsv(rows))
   })
   return router
 }

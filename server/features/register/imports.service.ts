@@ -3,6 +3,7 @@ import canonicalize from 'canonicalize'
 import ExcelJS from 'exceljs'
 import { sql, type Transaction } from 'kysely'
 import Papa from 'papaparse'
+import { unneutraliseCell } from '../../csv.ts'
 import { ZodError, type z } from 'zod'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
@@ -220,7 +221,7 @@ function toStoredRows(table: FileTable, keys: (RegisterColumnKey | null)[]): Sto
     if (values.every((v) => v.trim() === '')) continue
     const cells: Cells = {}
     keys.forEach((k, i) => {
-      if (k) cells[k] = (values[i] ?? '').trim()
+      if (k) cells[k] = unneutraliseCell((values[i] ?? '').trim())
     })
     const problems: RowProblem[] = []
     if (values.slice(table.headers.length).some((v) => v.trim() !== '')) {

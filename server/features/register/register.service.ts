@@ -1,5 +1,5 @@
 import ExcelJS from 'exceljs'
-import Papa from 'papaparse'
+import { toCsv } from '../../csv.ts'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { computeTestSignal } from '../../../shared/domain/test-signal.ts'
 import { MissingInputError, OutOfRangeError, UnitConversionError } from '../../../shared/domain/errors.ts'
@@ -213,14 +213,14 @@ export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q:
   })
   const stamp = deps.clock.now().toISOString().slice(0, 10)
   if (format === 'csv') {
-    const body = Papa.unparse({
+    const body = toCsv({
       fields: REGISTER_COLUMNS.map((c) => c.header),
       data: records.map((r) => REGISTER_COLUMNS.map((c) => r[c.key])),
     })
     return {
       contentType: 'text/csv; charset=utf-8',
       fileName: `limitkeeper-register-${stamp}.csv`,
-      body: Buffer.from(`\uFEFF${body}`, 'utf8'),
+      body: Buffer.from(body, 'utf8'),
     }
   }
   const wb = new ExcelJS.Workbook()

@@ -1,5 +1,5 @@
 import { Router } from 'express'
-import Papa from 'papaparse'
+import { toCsv } from '../../csv.ts'
 import { z } from 'zod'
 import { IdSchema } from '../../../shared/schemas/common.ts'
 import {
@@ -50,7 +50,7 @@ export function createTripTestsRouter(deps: AppDeps) {
       pageSize: 100_000,
       siteIds: scopeSites(req.user, q.siteId),
     })
-    const csv = Papa.unparse(
+    const csv = toCsv(
       items.map((t) => ({
         Test: t.id,
         Limit: t.limitTag,
@@ -70,7 +70,7 @@ export function createTripTestsRouter(deps: AppDeps) {
     )
     res.setHeader('Content-Type', 'text/csv; charset=utf-8')
     res.setHeader('Content-Disposition', 'attachment; filename="limitkeeper-trip-tests.csv"')
-    res.send(`\uFEFF${csv}`)
+    res.send(csv)
   })
   router.post('/digest-runs', async (req, res) => {
     const { siteId } = z.object({ siteId: z.number().int().positive() }).parse(req.body)
