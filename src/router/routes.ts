@@ -8,6 +8,7 @@ import bypassRoutes from '@/features/bypasses/routes'
 import changeRequestRoutes from '@/features/change-requests/routes'
 import homeRoutes from '@/features/home/routes'
 import mailRoutes from '@/features/mail/routes'
+import reconciliationRoutes from '@/features/reconciliation/routes'
 import registerRoutes from '@/features/register/routes'
 import shiftHandoverRoutes from '@/features/shift-handover/routes'
 import tripTestRoutes from '@/features/trip-tests/routes'
@@ -21,6 +22,7 @@ export const routes: RouteRecordRaw[] = [
   ...bypassRoutes,
   ...shiftHandoverRoutes,
   ...alarmRoutes,
+  ...reconciliationRoutes,
   ...adminRoutes,
   ...accountRoutes,
   ...auditRoutes,
