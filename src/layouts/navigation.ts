@@ -12,6 +12,7 @@ import {
   mdiGauge,
   mdiHistory,
   mdiHomeOutline,
+  mdiLightningBoltOutline,
   mdiPauseCircleOutline,
   mdiPipeDisconnected,
   mdiSwapHorizontal,
@@ -46,6 +47,13 @@ export const NAV_ITEMS: NavItem[] = [
   },
   { title: 'Changes', to: '/changes', icon: mdiSwapHorizontal, test: 'nav-changes' },
   { title: 'Trip tests', to: '/tests', icon: mdiClipboardCheckOutline, can: ['read', 'TripTest'], test: 'nav-tests' },
+  {
+    title: 'Demands and trips',
+    to: '/demands',
+    icon: mdiLightningBoltOutline,
+    can: ['read', 'Demand'],
+    test: 'nav-demands',
+  },
   { title: 'Bypasses', to: '/bypasses', icon: mdiPauseCircleOutline, test: 'nav-bypasses' },
   {
     title: 'Bypass review',

@@ -24,6 +24,7 @@ import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { contentHash, insertSignature } from '../signatures/signatures.ts'
 import { policyOf } from '../sites/sites.service.ts'
+import { refreshTestSchedule } from '../trip-tests/trip-tests.service.ts'
 import * as repo from './demands.repository.ts'
 
 const ENTITY = 'Demand'
@@ -249,11 +250,13 @@ export async function creditDemand(
       comment: `Credited as a proof test: ${input.note}`,
     })
     await repo.creditDemandRow(trx, id, { note: input.note, by: ctx.actorId!, now })
+    // the credited demand counts as a passing full test: the limit's next test falls due an interval after it
+    const schedule = await refreshTestSchedule(trx, d.limit_id, now)
     await appendAudit(trx, deps.clock, ctx, {
       action: 'demand.credit_as_test',
       entityType: ENTITY,
       entityId: id,
-      after: { ...content, signer: signer.name },
+      after: { ...content, signer: signer.name, testDueDate: schedule.dueDate },
     })
   })
   return getDemand(deps, ability, ctx.actorId!, id)

@@ -183,6 +183,19 @@ export function signedFunctionTests(db: Db, limitId: number) {
 }
 
 /**
+ * Real demands credited as a proof test of a limit (a safety engineer signed that the demand covered what the test
+ * covers; docs/demands.md): each counts as a passing full test on the day of the demand.
+ */
+export function creditedDemands(db: Db, limitId: number) {
+  return db
+    .selectFrom('demand')
+    .select(['id', 'occurred_at'])
+    .where('limit_id', '=', limitId)
+    .where('credited_as_test', '=', true)
+    .execute()
+}
+
+/**
  * The last signed test of each component scope of a limit, and the last passing one, with the component's own
  * interval where one is set: what a PFDavg computed with each subsystem's actual last test needs.
  */

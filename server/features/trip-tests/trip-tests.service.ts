@@ -79,11 +79,17 @@ export async function refreshTestSchedule(trx: Db, limitId: number, now: Date) {
   return r
 }
 
-/** Due date, status and late tests of a limit from its signed whole-function tests and approved deferrals. */
+/**
+ * Due date, status and late tests of a limit from its signed whole-function tests, the demands credited as proof
+ * tests and approved deferrals.
+ */
 export async function computeSchedule(db: Db, limitId: number, now: Date) {
   const l = await repo.findLimitForTest(db, limitId)
   if (!l) throw notFound('Limit')
-  const tests = await repo.signedFunctionTests(db, limitId)
+  const [tests, credited] = await Promise.all([
+    repo.signedFunctionTests(db, limitId),
+    repo.creditedDemands(db, limitId),
+  ])
   const input = {
     testIntervalMonths: l.test_interval_months,
     testGraceDays: graceDaysFor(
@@ -98,7 +104,16 @@ export async function computeSchedule(db: Db, limitId: number, now: Date) {
     codeSetInterval: l.code_set_interval,
     timeZone: l.time_zone,
     now,
-    tests: tests.map((t) => ({ id: t.id, performedAt: t.performed_at, kind: t.kind, passed: t.passed })),
+    tests: [
+      ...tests.map((t) => ({ id: t.id, performedAt: t.performed_at, kind: t.kind, passed: t.passed })),
+      // a demand credited as a proof test counts as a passing full test on its day (docs/demands.md)
+      ...credited.map((d) => ({
+        id: `demand:${d.id}`,
+        performedAt: d.occurred_at,
+        kind: 'full' as const,
+        passed: true,
+      })),
+    ],
   }
   const plain = computeDueDates(input)
   // an approved deferral applies while the due date from the tests is still the one it deferred

@@ -1,0 +1,50 @@
+import type { ListResult } from '@shared/schemas/common.ts'
+import type {
+  ClassifyDemandInput,
+  CreateDemandInput,
+  CreditDemandInput,
+  DemandDto,
+  DemandRates,
+} from '@shared/schemas/demands.ts'
+import type { Limit } from '@shared/schemas/register.ts'
+import { http } from '@/api/client'
+
+/** The list's filters (`GET /api/demands`). */
+export interface DemandListQuery {
+  siteId?: number[]
+  limitId?: number[]
+  kind?: DemandDto['kind'][]
+  q?: string
+  from?: string
+  to?: string
+  page?: number
+  pageSize?: number
+}
+
+/** Cache keys of the demand log (Pinia Colada). */
+export const demandKeys = {
+  all: ['demands'] as const,
+  list: (q: DemandListQuery) => ['demands', 'list', JSON.stringify(q)] as const,
+  one: (id: number) => ['demands', id] as const,
+}
+
+export const listDemands = (query: DemandListQuery) => http.get<ListResult<DemandDto>>('/demands', { ...query })
+export const getDemand = (id: number) => http.get<DemandDto>(`/demands/${id}`)
+export const recordDemand = (body: CreateDemandInput) => http.post<DemandDto>('/demands', body)
+export const classifyDemand = (id: number, body: ClassifyDemandInput) =>
+  http.post<DemandDto>(`/demands/${id}/classification`, body)
+export const creditDemand = (id: number, body: CreditDemandInput) => http.post<DemandDto>(`/demands/${id}/credit`, body)
+export const getDemandRates = (query: { siteId?: number[]; from?: string; to?: string }) =>
+  http.get<DemandRates>('/demands/rates', { ...query })
+
+// The register as the record form needs it.
+export const searchActiveLimits = (query: { siteId?: number[]; q?: string }) =>
+  http.get<ListResult<Limit>>('/limits', {
+    siteId: query.siteId,
+    status: ['active'],
+    q: query.q,
+    pageSize: 50,
+    sort: 'tag',
+  })
+export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
+export const getInstrumentTag = (id: number) => http.get<{ id: number; tag: string }>(`/instruments/${id}`)
