@@ -291,6 +291,8 @@ export interface ChangeRequestItemTable {
   implemented_at: Timestamp | null
   implemented_by: number | null
   read_back: ColumnType<unknown, string | null, string | null>
+  /** alarm priority and enabled state read back beyond the changed fields; null where none */
+  read_back_expected: ColumnType<Record<string, unknown> | null, string | null | undefined, string | null>
 }
 export interface ChangeRequestEditorTable {
   change_request_id: number

@@ -49,6 +49,24 @@ export const DEVICE_FIELDS_LIMIT = [
   'latching',
 ] as const
 export const DEVICE_FIELDS_INSTRUMENT = ['rangeLow', 'rangeHigh', 'unit', 'signal', 'burnout'] as const
+/**
+ * Read back on every item that puts an alarm or alert in service or changes it, changed or not: the alarm priority
+ * (alarms only) and the enabled state (not suppressed or shelved), the attributes most often changed without a
+ * change request (docs/change-requests.md#implementation-and-read-back).
+ */
+export const READ_BACK_STATE_FIELDS = ['priority', 'enabled'] as const
+
+/** `POST /api/change-requests/:id/read-back-checks`: compare a read-back with the approved values, writing nothing. */
+export const ReadBackCheckInputSchema = z.object({
+  itemId: z.number().int().positive(),
+  readBack: z.record(z.string().max(40), z.unknown()).default({}),
+})
+/** The answer of a read-back check: each field as entered beside its approved value, compared exactly. */
+export interface ReadBackComparison {
+  itemId: number
+  equal: boolean
+  fields: { field: string; entered: unknown; approved: unknown; equal: boolean }[]
+}
 
 const changes = z.record(z.string().min(1).max(40), z.unknown())
 
@@ -164,7 +182,10 @@ export interface ChangeItemDto {
   implementedAt: string | null
   implementedBy: string | null
   readBack: unknown
+  /** every field read back at implementation: the changed device fields, then priority and enabled state */
   deviceFields: string[]
+  /** what the device must hold beyond the changed fields after implementation (alarm priority, enabled) */
+  readBackExpected: { priority?: string | null; enabled?: boolean } | null
 }
 export interface ChangeRequestDto {
   id: number

@@ -21,19 +21,19 @@ async function tickChecks(page: Page, items: string[]) {
 }
 
 /** A process, a type K thermocouple (0–1200 °C, normal 300–650) and a high trip at 780 °C, put in service through a first change. */
-async function heaterTripInService(engineer: Page, approver: Page, technician: Page) {
+async function heaterTripInService(engineer: Page, approver: Page, technician: Page, n = '4101') {
   const site = (await call<{ items: { id: number; code: string }[] }>(engineer, 'GET', '/sites')).items.find(
     (s) => s.code === 'FHR',
   )!
   const area = (await call<{ items: { id: number }[] }>(engineer, 'GET', `/areas?siteId=${site.id}`)).items[0]
   const proc = await call(engineer, 'POST', '/processes', {
     areaId: area.id,
-    name: 'Heater H-410',
+    name: `Heater H-${n}`,
     description: 'fired heater, crude charge',
   })
   const inst = await call(engineer, 'POST', '/instruments', {
     processId: proc.id,
-    tag: 'TT-4101',
+    tag: `TT-${n}`,
     measuredVariable: 'temperature',
     unit: '°C',
     rangeLow: 0,
@@ -49,7 +49,7 @@ async function heaterTripInService(engineer: Page, approver: Page, technician: P
   const limit = await call(engineer, 'POST', '/limits', {
     processId: proc.id,
     instrumentIds: [inst.id],
-    tag: 'TSHH-4101',
+    tag: `TSHH-${n}`,
     direction: 'high',
     limitClass: 'trip',
     setpoint: 780,
@@ -65,7 +65,7 @@ async function heaterTripInService(engineer: Page, approver: Page, technician: P
   const baseline = await call(engineer, 'POST', '/change-requests', {
     siteId: site.id,
     type: 'permanent',
-    title: 'Put TSHH-4101 in service',
+    title: `Put TSHH-${n} in service`,
     rationale: 'Hazard study action 7',
     items: [{ kind: 'create', limitId: limit.id }],
   })
@@ -79,7 +79,7 @@ async function heaterTripInService(engineer: Page, approver: Page, technician: P
   })
   expect(done.status).toBe('implemented')
   expect((await call(engineer, 'GET', `/limits/${limit.id}`)).status).toBe('active')
-  return { limitId: limit.id as number }
+  return { limitId: limit.id as number, baselineId: baseline.id as number }
 }
 
 const text = (page: Page, test: string) =>
@@ -142,16 +142,33 @@ describe('management of change in the browser', () => {
     await poll(() => text(engineer, 'cr-status')).toBe('Approved')
     await tickChecks(engineer, BEFORE)
 
-    // The technician implements with the value read back from the device; a different value is refused.
+    // Blind read-back: the technician enters what the device holds without the approved value on screen; the
+    // comparison reveals it, a different value blocks the signature, and reading back again clears the entry.
     await technician.goto(`${app.baseUrl}/changes/${id}`)
     await technician.locator('[data-test="item-implement-0"]').click()
     await technician.locator('[data-test="read-back-caution"]').waitFor()
-    expect(await text(technician, 'read-back-approved')).toBe('790 °C')
+    expect(await technician.locator('[data-test="read-back-fields"]').textContent()).not.toContain('790')
+    expect(await technician.locator('[data-test="read-back-approved"]').count()).toBe(0)
     await technician.locator('[data-test="read-back-input-setpoint"] input').fill('789.5')
     await technician.locator('[data-test="sign-password"] input').fill(PW)
-    await technician.locator('[data-test="sign-confirm"]').click()
-    await poll(() => text(technician, 'read-back-setpoint')).toContain('the approved value is 790')
-    await technician.locator('[data-test="read-back-input-setpoint"] input').fill('790')
+    expect(await technician.locator('[data-test="sign-confirm"]').isDisabled()).toBe(true)
+    await technician.locator('[data-test="read-back-compare"]').click()
+    const result = technician.locator('[data-test="read-back-result-setpoint"]')
+    await result.waitFor()
+    expect(await result.getAttribute('data-equal')).toBe('false')
+    expect(await text(technician, 'read-back-entered')).toBe('789.5 °C')
+    expect(await text(technician, 'read-back-approved')).toBe('790 °C')
+    await technician.locator('[data-test="read-back-different"]').waitFor()
+    expect(await technician.locator('[data-test="read-back-input-setpoint"]').count()).toBe(0)
+    expect(await technician.locator('[data-test="sign-confirm"]').isDisabled()).toBe(true)
+    await technician.locator('[data-test="read-back-again"]').click()
+    await technician.locator('[data-test="read-back-input-setpoint"] input').waitFor()
+    expect(await technician.locator('[data-test="read-back-input-setpoint"] input').inputValue()).toBe('')
+    expect(await technician.locator('[data-test="read-back-approved"]').count()).toBe(0)
+    await technician.locator('[data-test="read-back-input-setpoint"] input').fill('790.00')
+    await technician.locator('[data-test="read-back-compare"]').click()
+    await technician.locator('[data-test="read-back-equal"]').waitFor()
+    expect(await result.getAttribute('data-equal')).toBe('true')
     await technician.locator('[data-test="sign-password"] input').fill(PW)
     await technician.locator('[data-test="sign-confirm"]').click()
     await technician.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
@@ -182,6 +199,51 @@ describe('management of change in the browser', () => {
     const limit = await call(engineer, 'GET', `/limits/${limitId}`)
     expect(limit.setpoint).toBe(790)
     expect(limit.status).toBe('active')
+
+    for (const p of [engineer, approver, technician]) await p.context().close()
+  })
+
+  it("the limit page shows the limit's change requests and proposes a change with the limit filled in", async () => {
+    const engineer = await pageFor(app, 'engineer')
+    const approver = await pageFor(app, 'approver')
+    const technician = await pageFor(app, 'technician')
+    const { limitId, baselineId } = await heaterTripInService(engineer, approver, technician, '4102')
+
+    await engineer.goto(`${app.baseUrl}/register/limits/${limitId}`)
+    await engineer.locator(`[data-test="limit-change-row-${baselineId}"]`).waitFor()
+    expect(await text(engineer, 'limit-changes-count')).toBe('1 on record')
+    expect(await text(engineer, `limit-change-row-${baselineId}`)).toContain('Put TSHH-4102 in service')
+
+    // the test-signal card names its figures and lists each point once
+    await engineer.locator('[data-test="test-signal-cold-junction"] input').fill('25')
+    await engineer.locator('[data-test="test-signal-compute"]').click()
+    await engineer.locator('[data-test="test-signal-components"]').waitFor()
+    const card = (await text(engineer, 'test-signal')) ?? ''
+    expect(card).toContain('Emf at the setpoint')
+    expect(card).toContain('Cold-junction temperature')
+    expect(card).not.toMatch(/setpointC|emfSetpointMv|coldJunctionC|fractionOfSpan/)
+    const labels = await engineer
+      .locator('[data-test="test-signal-points"] tbody tr td:first-child')
+      .evaluateAll((cells) => cells.map((c) => c.textContent?.trim()))
+    expect(labels.length).toBeGreaterThan(0)
+    expect(new Set(labels).size).toBe(labels.length)
+
+    // "Propose a change" opens the request form with this limit's item filled in
+    await engineer.locator('[data-test="propose-change"]').click()
+    await engineer.waitForURL(new RegExp(`/changes/new\\?limitId=${limitId}$`))
+    await poll(() => text(engineer, 'item-0-current-setpoint')).toContain('780 °C')
+    expect(await engineer.locator('[data-test="change-title"] input').inputValue()).toBe('Change TSHH-4102')
+    await engineer.locator('[data-test="change-field-setpoint"] input').fill('770')
+    await engineer.locator('[data-test="change-save-submit"]').click()
+    await engineer.waitForURL(/\/changes\/\d+$/)
+    const id = Number(new URL(engineer.url()).pathname.split('/').pop())
+
+    // back on the limit page, the new request is in its history; the item links back to the limit
+    await engineer.locator('[data-test="item-target-link"]').first().click()
+    await engineer.waitForURL(`${app.baseUrl}/register/limits/${limitId}`)
+    await engineer.locator(`[data-test="limit-change-row-${id}"]`).waitFor()
+    expect(await text(engineer, 'limit-changes-count')).toBe('2 on record')
+    expect(await text(engineer, `limit-change-row-${id}`)).toContain('Waiting for approval')
 
     for (const p of [engineer, approver, technician]) await p.context().close()
   })

@@ -115,6 +115,7 @@ export async function replaceItems(
     base_revision: number
     window_before: unknown
     window_after: unknown
+    read_back_expected: unknown
   }[],
 ) {
   await trx.deleteFrom('change_request_item').where('change_request_id', '=', crId).execute()
@@ -132,6 +133,7 @@ export async function replaceItems(
         base_revision: p.base_revision,
         window_before: JSON.stringify(p.window_before),
         window_after: JSON.stringify(p.window_after),
+        read_back_expected: p.read_back_expected ? JSON.stringify(p.read_back_expected) : null,
       })),
     )
     .execute()
@@ -244,19 +246,18 @@ export async function setInstrumentRanges(
     burnout?: string
   },
 ) {
-  await trx
-    .updateTable('instrument')
-    .set({
-      ...(d.rangeLow !== undefined ? { range_low: d.rangeLow as never } : {}),
-      ...(d.rangeHigh !== undefined ? { range_high: d.rangeHigh as never } : {}),
-      ...(d.normalLow !== undefined ? { normal_low: d.normalLow as never } : {}),
-      ...(d.normalHigh !== undefined ? { normal_high: d.normalHigh as never } : {}),
-      ...(d.designLow !== undefined ? { design_low: d.designLow as never } : {}),
-      ...(d.designHigh !== undefined ? { design_high: d.designHigh as never } : {}),
-      ...(d.burnout !== undefined ? { burnout: d.burnout as never } : {}),
-    })
-    .where('id', '=', id)
-    .execute()
+  const set = {
+    ...(d.rangeLow !== undefined ? { range_low: d.rangeLow as never } : {}),
+    ...(d.rangeHigh !== undefined ? { range_high: d.rangeHigh as never } : {}),
+    ...(d.normalLow !== undefined ? { normal_low: d.normalLow as never } : {}),
+    ...(d.normalHigh !== undefined ? { normal_high: d.normalHigh as never } : {}),
+    ...(d.designLow !== undefined ? { design_low: d.designLow as never } : {}),
+    ...(d.designHigh !== undefined ? { design_high: d.designHigh as never } : {}),
+    ...(d.burnout !== undefined ? { burnout: d.burnout as never } : {}),
+  }
+  // an item that changes only texts (a device description) changes no range: nothing to set
+  if (!Object.keys(set).length) return
+  await trx.updateTable('instrument').set(set).where('id', '=', id).execute()
 }
 
 /** Locks the limit or instrument of an item and returns its tag and revision. */
@@ -420,7 +421,20 @@ export async function listRequests(
           .selectFrom('change_request_item')
           .select('change_request_item.id')
           .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
-          .where('change_request_item.limit_id', '=', limitId),
+          .where((w) =>
+            w.or([
+              w('change_request_item.limit_id', '=', limitId),
+              // a change of an instrument the limit reads is part of the limit's history too
+              w(
+                'change_request_item.instrument_id',
+                'in',
+                w
+                  .selectFrom('limit_instrument')
+                  .select('limit_instrument.instrument_id')
+                  .where('limit_instrument.limit_id', '=', limitId),
+              ),
+            ]),
+          ),
       ),
     )
   }

@@ -7,6 +7,7 @@ import {
   CreateChangeRequestInputSchema,
   IMPACT_CHECKLIST,
   ImplementInputSchema,
+  ReadBackCheckInputSchema,
   RejectInputSchema,
   SignInputSchema,
   UpdateChangeRequestInputSchema,
@@ -84,6 +85,17 @@ export function createChangeRequestsRouter(deps: AppDeps) {
         req.audit,
         id(req.params.id),
         ImplementInputSchema.parse(req.body),
+      ),
+    )
+  })
+  router.post('/:id/read-back-checks', async (req, res) => {
+    res.json(
+      await service.checkItemReadBack(
+        deps,
+        req.ability,
+        req.audit,
+        id(req.params.id),
+        ReadBackCheckInputSchema.parse(req.body),
       ),
     )
   })

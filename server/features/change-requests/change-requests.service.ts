@@ -15,8 +15,11 @@ import {
   DEVICE_FIELDS_INSTRUMENT,
   DEVICE_FIELDS_LIMIT,
   IMPACT_CHECKLIST,
+  READ_BACK_STATE_FIELDS,
+  type ReadBackComparison,
   type UpdateChangeRequestInput,
 } from '../../../shared/schemas/change-requests.ts'
+import { normalizeDecimal } from '../../../shared/domain/modbus-decode.ts'
 import {
   CreateLimitInputSchema,
   UpdateInstrumentInputSchema,
@@ -88,6 +91,16 @@ interface PreparedItem {
   window_before: unknown
   window_after: unknown
   silRated: boolean
+  read_back_expected: ReadBackExpected | null
+}
+
+type ReadBackExpected = NonNullable<ChangeItemDto['readBackExpected']>
+
+/** The state an alarm or alert must show on the device after the change: its priority (alarms) and enabled. */
+function stateOnDevice(limitClass: string, priority: string | null): ReadBackExpected | null {
+  if (limitClass === 'alarm') return priority ? { priority, enabled: true } : { enabled: true }
+  if (limitClass === 'alert') return { enabled: true }
+  return null
 }
 
 const LIMIT_EDITABLE = new Set(Object.keys(CreateLimitInputSchema.shape).filter((k) => k !== 'processId'))
@@ -144,6 +157,7 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
         errors: [],
         warnings: after.rows.flatMap((l) => l.window_warnings.map((e) => ({ ...(e as object), tag: l.tag }))),
       },
+      read_back_expected: null,
     }
   }
   const limit = await lockLimit(trx, input.limitId)
@@ -166,6 +180,7 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
       window_before: null,
       window_after: before,
       silRated: limit.sil !== null,
+      read_back_expected: stateOnDevice(limit.limitClass, limit.priority),
     }
   }
   if (limit.status !== 'active')
@@ -180,6 +195,7 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
       window_before: before,
       window_after: null,
       silRated: limit.sil !== null,
+      read_back_expected: null,
     }
   }
   const unknown = Object.keys(input.changes).filter((k) => !LIMIT_EDITABLE.has(k))
@@ -216,6 +232,7 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
     window_before: before,
     window_after: { errors: ev.errors, warnings: ev.warnings },
     silRated: limit.sil !== null || draft.sil !== null,
+    read_back_expected: stateOnDevice(draft.limitClass, ev.priority),
   }
 }
 
@@ -361,7 +378,8 @@ export async function getChangeRequest(
       implementedAt: i.implemented_at?.toISOString() ?? null,
       implementedBy: i.implementer,
       readBack: i.read_back,
-      deviceFields: deviceFieldsOf(i.kind, i.changes),
+      deviceFields: deviceFieldsOf(i.kind, i.changes, i.read_back_expected),
+      readBackExpected: (i.read_back_expected as ReadBackExpected | null) ?? null,
     }
   })
   return {
@@ -419,10 +437,13 @@ export async function getChangeRequest(
   }
 }
 
-function deviceFieldsOf(kind: string, changes: Record<string, unknown>): string[] {
+function deviceFieldsOf(kind: string, changes: Record<string, unknown>, expected: unknown): string[] {
   if (kind === 'retire') return []
   const list: readonly string[] = kind === 'instrument' ? DEVICE_FIELDS_INSTRUMENT : DEVICE_FIELDS_LIMIT
-  return kind === 'create' ? list.filter((f) => f in changes) : Object.keys(changes).filter((f) => list.includes(f))
+  const changed =
+    kind === 'create' ? list.filter((f) => f in changes) : Object.keys(changes).filter((f) => list.includes(f))
+  const state = READ_BACK_STATE_FIELDS.filter((f) => expected && f in (expected as object))
+  return [...changed, ...state]
 }
 
 type Person = { id: number; roles: { siteId: number; role: string }[] }
@@ -741,18 +762,45 @@ export async function rejectChangeRequest(
   return getChangeRequest(deps, ability, id)
 }
 
+type ItemForReadBack = {
+  id: number
+  kind: string
+  changes: Record<string, { from: unknown; to: unknown }>
+  read_back_expected: unknown
+}
+
+/**
+ * A value read back equals the approved one: numbers as exact decimals ("412.50" equals 412.5, 412.500001 does
+ * not; docs/conventions.md), everything else as canonical JSON.
+ */
+function readBackEqual(entered: unknown, approved: unknown): boolean {
+  if (typeof approved === 'number') {
+    if (typeof entered !== 'number' && typeof entered !== 'string') return false
+    const text = String(entered).trim()
+    return text !== '' && normalizeDecimal(text) === normalizeDecimal(String(approved))
+  }
+  return canonicalize(entered ?? null) === canonicalize(approved ?? null)
+}
+
+/** Each device field of the item as entered beside its approved value. */
+function compareReadBack(item: ItemForReadBack, readBack: Record<string, unknown>): ReadBackComparison {
+  const expected = (item.read_back_expected ?? {}) as Record<string, unknown>
+  const fields = deviceFieldsOf(item.kind, item.changes, item.read_back_expected).map((field) => {
+    const approved = field in item.changes ? item.changes[field].to : expected[field]
+    const entered = field in readBack ? readBack[field] : null
+    return { field, entered, approved, equal: field in readBack && readBackEqual(entered, approved) }
+  })
+  return { itemId: item.id, equal: fields.every((f) => f.equal), fields }
+}
+
 /** Compares the technician's read-back with the approved values; every device field must be read back equal. */
-function checkReadBack(
-  item: { kind: string; changes: Record<string, { from: unknown; to: unknown }> },
-  readBack: Record<string, unknown>,
-) {
-  const fields = deviceFieldsOf(item.kind, item.changes)
+function checkReadBack(item: ItemForReadBack, readBack: Record<string, unknown>) {
   const errors: Record<string, string[]> = {}
-  for (const f of fields) {
-    if (!(f in readBack)) errors[`readBack.${f}`] = [`Read ${f} back from the device`]
-    else if (!sameValue(readBack[f], item.changes[f].to))
-      errors[`readBack.${f}`] = [
-        `The device shows ${JSON.stringify(readBack[f])}; the approved value is ${JSON.stringify(item.changes[f].to)}`,
+  for (const f of compareReadBack(item, readBack).fields) {
+    if (!(f.field in readBack)) errors[`readBack.${f.field}`] = [`Read ${f.field} back from the device`]
+    else if (!f.equal)
+      errors[`readBack.${f.field}`] = [
+        `The device shows ${JSON.stringify(f.entered)}; the approved value is ${JSON.stringify(f.approved)}`,
       ]
   }
   if (Object.keys(errors).length)
@@ -843,6 +891,29 @@ async function applyItem(
     })
     await refreshTestSchedule(trx, limit.id, deps.clock.now())
   }
+}
+
+/**
+ * Compares a read-back with the approved values of one item without implementing anything, for the blind read-back:
+ * the technician enters what the device holds first and sees the approved values only in this answer. Answered to
+ * whoever may implement the item now; writes nothing.
+ */
+export async function checkItemReadBack(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+  input: { itemId: number; readBack: Record<string, unknown> },
+): Promise<ReadBackComparison> {
+  await loadRow(deps.db, id)
+  const { cr, actor } = await rulesNow(deps, ability, ctx, id, deps.db)
+  const dto = cr.items.find((i) => i.id === input.itemId)
+  if (!dto) throw notFound('Change request item')
+  const v = implementItemVerdict(cr, dto, actor, deps.clock.now())
+  if (!v.allowed && !dto.stale) enforce(v)
+  if (dto.stale) throw conflict(`${dto.targetTag} changed since this request was written; revise the request`)
+  const item = (await repo.itemsOf(deps.db, id)).find((i) => i.id === input.itemId)!
+  return compareReadBack(item, input.readBack)
 }
 
 /**

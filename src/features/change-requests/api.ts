@@ -1,4 +1,10 @@
-import type { ChangeRequestDto, ChangeStatus, CHANGE_TYPES, ChecklistItem } from '@shared/schemas/change-requests.ts'
+import type {
+  ChangeRequestDto,
+  ChangeStatus,
+  CHANGE_TYPES,
+  ChecklistItem,
+  ReadBackComparison,
+} from '@shared/schemas/change-requests.ts'
 import type { ListResult } from '@shared/schemas/common.ts'
 import type { Instrument, Limit } from '@shared/schemas/register.ts'
 import { api, http, uploadWithProgress } from '@/api/client'
@@ -28,6 +34,8 @@ export interface ChangeListQuery {
   status?: string[]
   type?: string[]
   siteId?: number[]
+  /** requests with an item on this limit or on an instrument it reads */
+  limitId?: number
   q?: string
   page: number
   pageSize: number
@@ -81,6 +89,9 @@ export const implementChangeItem = (
   password: string,
   comment: string,
 ) => http.post<ChangeRequestDto>(`/change-requests/${id}/implementations`, { itemId, readBack, password, comment })
+/** Compares a read-back with the approved values of one item; implements nothing. */
+export const checkReadBack = (id: number, itemId: number, readBack: Record<string, unknown>) =>
+  http.post<ReadBackComparison>(`/change-requests/${id}/read-back-checks`, { itemId, readBack })
 export const implementAllItems = (id: number, password: string, comment: string) =>
   http.post<ChangeRequestDto>(`/change-requests/${id}/implementations`, {
     allItems: true,
@@ -129,6 +140,9 @@ export const listLimitsForChange = (query: { siteId: number; status: 'proposed' 
     sort: 'tag',
   })
 export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
+/** The limits reading an instrument, for the other limits drawn on an item's operating-window charts. */
+export const listLimitsOnInstrument = (instrumentId: number) =>
+  http.get<ListResult<Limit>>('/limits', { instrumentId: [instrumentId], pageSize: 200, sort: 'setpoint' })
 export const listInstrumentsForChange = (query: { siteId: number; q?: string }) =>
   http.get<ListResult<InstrumentRecord>>('/instruments', { siteId: [query.siteId], q: query.q, pageSize: 100 })
 export const getInstrument = (id: number) => http.get<InstrumentRecord>(`/instruments/${id}`)

@@ -109,8 +109,9 @@ export function toReadBack(item: ChangeItemDto, values: Record<string, any>): Re
     if (how === 'confirm') {
       if (v === true) out[key] = item.changes[key].to
     } else if (how === 'number') {
+      // sent as typed: the server compares exact decimals, which a binary number could round
       const t = String(v ?? '').trim()
-      if (t !== '') out[key] = Number.isFinite(Number(t)) ? Number(t) : t
+      if (t !== '') out[key] = t
     } else if (v !== null && v !== undefined && v !== '') {
       out[key] = how === 'text' ? String(v).trim() : v
     }

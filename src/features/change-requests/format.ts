@@ -1,6 +1,7 @@
 import { TZDate } from '@date-fns/tz'
 import { mdiAlertDecagramOutline, mdiCalendarClockOutline, mdiSwapHorizontal } from '@mdi/js'
 import type { ChangeItemDto, ChangeStatus } from '@shared/schemas/change-requests.ts'
+import { ALARM_PRIORITIES, DEFAULT_ALARM_PHILOSOPHY } from '@shared/domain/priority.ts'
 import { RESET_ROLES, type Signal } from '@shared/schemas/register.ts'
 import { ROLE_LABELS } from '@shared/schemas/users.ts'
 import type { ChangeType } from './api'
@@ -137,9 +138,17 @@ const OTHER_FIELDS: FieldSpec[] = [
     input: 'select',
     options: [
       { title: 'Alarm', value: 'alarm' },
+      { title: 'Alert', value: 'alert' },
       { title: 'Trip', value: 'trip' },
     ],
   },
+  {
+    key: 'priority',
+    label: 'Alarm priority',
+    input: 'select',
+    options: ALARM_PRIORITIES.map((p) => ({ title: DEFAULT_ALARM_PHILOSOPHY.priorities[p].label, value: p })),
+  },
+  { key: 'enabled', label: 'Enabled, not suppressed or shelved', input: 'bool' },
   {
     key: 'sil',
     label: 'SIL',

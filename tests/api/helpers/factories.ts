@@ -99,12 +99,18 @@ export async function buildHeaterTrip(
   return { site, area, proc, inst, limit }
 }
 
-/** The values a technician reads back from the device for one change item: every device field at its approved value. */
+/**
+ * The values a technician reads back from the device for one change item: every device field at its approved value,
+ * and for an alarm or alert its priority and enabled state as the register holds them after the change.
+ */
 export function readBackOf(item: {
   deviceFields: string[]
   changes: Record<string, { to: unknown }>
+  readBackExpected?: Record<string, unknown> | null
 }): Record<string, unknown> {
-  return Object.fromEntries(item.deviceFields.map((f) => [f, item.changes[f].to]))
+  return Object.fromEntries(
+    item.deviceFields.map((f) => [f, f in item.changes ? item.changes[f].to : item.readBackExpected?.[f]]),
+  )
 }
 
 /** The people a change request passes through, each signed in with their own session. */
@@ -140,14 +146,27 @@ export async function approveChange(approvers: ApiAgent[], cr: { id: number; app
   return body as {
     id: number
     status: string
-    items: { id: number; deviceFields: string[]; changes: Record<string, { to: unknown }> }[]
+    items: {
+      id: number
+      deviceFields: string[]
+      changes: Record<string, { to: unknown }>
+      readBackExpected?: Record<string, unknown> | null
+    }[]
   }
 }
 
 /** Implements every item of an approved request with the correct read-back; answers the implemented request. */
 export async function implementChange(
   tech: ApiAgent,
-  cr: { id: number; items: { id: number; deviceFields: string[]; changes: Record<string, { to: unknown }> }[] },
+  cr: {
+    id: number
+    items: {
+      id: number
+      deviceFields: string[]
+      changes: Record<string, { to: unknown }>
+      readBackExpected?: Record<string, unknown> | null
+    }[]
+  },
 ) {
   let body: unknown = null
   for (const item of cr.items) {
