@@ -160,6 +160,10 @@ export interface BypassReviewKpis {
   withoutMeasures: number
   hoursDegraded: number | null
   sharePastPlannedEnd: number | null
+  /** test deferrals requested in the period, of them approved, and all still waiting for a decision */
+  deferralsRequested: number
+  deferralsApproved: number
+  deferralsWaiting: number
 }
 
 export interface BypassReviewDto {

@@ -2,6 +2,7 @@ import { z } from 'zod'
 import type { Verdict } from '../domain/rules/verdict.ts'
 import type { BypassStatus } from './bypasses.ts'
 import { IdSchema } from './common.ts'
+import type { OpenDeferral } from './trip-tests.ts'
 
 // The shift handover (docs/shift-handover.md): the state of protection of one or more areas of a site, handed over by
 // the outgoing shift supervisor with notes and accepted by the incoming one, both signing the same content hash.
@@ -59,9 +60,13 @@ export interface AreaProtection {
     compensatingMeasures: string[] | null
     repairDeadline: string | null
     measuresSignedBy: string | null
+    /** the signed repair deadline has passed (absent in handovers signed before it was shown) */
+    repairDeadlinePassed?: boolean
   }[]
   overdueTests: { limitId: number; tag: string; testStatus: string; dueDate: string | null; sil: number | null }[]
   temporaryChanges: { id: number; title: string; status: string; expiresAt: string | null }[]
+  /** test deferrals requested or in force (absent in handovers signed before they were shown) */
+  deferrals?: Omit<OpenDeferral, 'areaId'>[]
 }
 
 /** What a handover shows and both supervisors sign: the site and its areas' state. */

@@ -465,3 +465,26 @@ export interface TripTestDto {
   attachments: { id: number; fileName: string; contentType: string; sizeBytes: number }[]
   createdAt: string
 }
+
+/** A degraded limit whose signed repair deadline has passed (`GET /api/trip-tests/overdue-repairs`). */
+export interface OverdueRepair {
+  degradationId: number
+  limitId: number
+  tag: string
+  siteId: number
+  areaId: number
+  repairDeadline: string
+  /** the hourly job has mailed the plant managers and shift supervisors about it */
+  escalated: boolean
+}
+
+/** A deferral open now: requested, or approved and still in force (shift handover). */
+export interface OpenDeferral {
+  id: number
+  limitId: number
+  tag: string
+  areaId: number
+  status: 'requested' | 'approved'
+  originalDueDate: string
+  newDueDate: string
+}

@@ -68,6 +68,12 @@ async function tested(limitId: number, performedAt: string, result: Record<strin
   return t as { id: number; passed: boolean }
 }
 const limitNow = async (id: number) => (await a.eng.get(`/api/limits/${id}`).expect(200)).body
+/** The shift handover's live state of one area, as the shift supervisor sees it. */
+const handoverArea = async (areaId: number) =>
+  (await a.sup.get(`/api/shift-handovers/state?areaId=${areaId}`).expect(200)).body.areas[0]
+/** The plant manager's review figures for the site over a period. */
+const reviewKpis = async (siteId: number, from: string, to: string) =>
+  (await a.manager.get(`/api/bypass-review?siteId=${siteId}&from=${from}&to=${to}`).expect(200)).body.kpis
 
 describe('test deferrals', () => {
   it('gives a SIL-rated function no automatic grace, and moves its due date only by an approved deferral', async () => {
@@ -113,6 +119,23 @@ describe('test deferrals', () => {
     await a.eng.post('/api/test-deferrals', req).expect(409)
     // a requested deferral moves nothing
     expect((await limitNow(sil.id)).testStatus).toBe('overdue')
+    // it shows on the shift handover and waits in the plant manager's review figures
+    const areaId = (await limitNow(sil.id)).areaId as number
+    expect((await handoverArea(areaId)).deferrals).toEqual([
+      {
+        id: d.id,
+        limitId: sil.id,
+        tag: sil.tag,
+        status: 'requested',
+        originalDueDate: '2027-01-10',
+        newDueDate: '2027-02-20',
+      },
+    ])
+    expect(await reviewKpis(sil.siteId, '2027-01-01T00:00:00Z', '2027-01-31T00:00:00Z')).toMatchObject({
+      deferralsRequested: 1,
+      deferralsApproved: 0,
+      deferralsWaiting: 1,
+    })
 
     // the policy names the plant manager for SIL 2: an approver is refused, and so is the requester
     expect(d.actions.approve.allowed).toBe(false)
@@ -129,6 +152,17 @@ describe('test deferrals', () => {
     expect(await limitNow(sil.id)).toMatchObject({ testDueDate: '2027-02-20', testStatus: 'ok' })
     const sched = (await a.tech.get('/api/trip-tests/schedule?status=ok').expect(200)).body
     expect(sched.items.find((i: { limitId: number }) => i.limitId === sil.id).deferredTo).toBe('2027-02-20')
+    // in force: on the handover as approved; in the review counted as requested and approved in January, none before
+    expect((await handoverArea(areaId)).deferrals).toMatchObject([{ id: d.id, status: 'approved' }])
+    expect(await reviewKpis(sil.siteId, '2027-01-01T00:00:00Z', '2027-01-31T00:00:00Z')).toMatchObject({
+      deferralsRequested: 1,
+      deferralsApproved: 1,
+      deferralsWaiting: 0,
+    })
+    expect(await reviewKpis(sil.siteId, '2026-12-01T00:00:00Z', '2027-01-01T00:00:00Z')).toMatchObject({
+      deferralsRequested: 0,
+      deferralsWaiting: 0,
+    })
 
     // no second deferral while this one is in force
     await a.tech.post('/api/test-deferrals', { ...req, newDueDate: '2027-03-01' }).expect(409)
@@ -146,6 +180,8 @@ describe('test deferrals', () => {
     await tested(sil.id, '2027-02-21T08:00:00Z')
     expect(await limitNow(sil.id)).toMatchObject({ testDueDate: '2028-02-21', testStatus: 'ok' })
     expect((await a.eng.get(`/api/test-deferrals/${d.id}`).expect(200)).body.inForce).toBe(false)
+    // no longer in force: gone from the handover
+    expect((await handoverArea(areaId)).deferrals).toEqual([])
   })
 
   it('is decided by an approver for a non-SIL limit; a rejection needs a reason and moves nothing', async () => {
@@ -224,6 +260,16 @@ describe('degraded limits: the repair deadline against the MTTR assumed for the 
 
     // 12 January (Berlin): the deadline of the 11th has passed → one escalation mail to managers and supervisors
     const job = createTripTestJob(ctx.db, ctx.config, ctx.clock)
+    // on the 11th (Berlin) the deadline day is not over: nothing on home or the handover yet
+    const overdueRepairs = async () =>
+      (await a.sup.get(`/api/trip-tests/overdue-repairs?siteId=${limit.siteId}`).expect(200)).body.items
+    const degradedOnHandover = async () =>
+      (await handoverArea((await limitNow(limit.id)).areaId)).degraded.find(
+        (x: { limitId: number }) => x.limitId === limit.id,
+      )
+    await at('2026-01-11T22:30:00Z') // 23:30 on the 11th in Berlin
+    expect(await overdueRepairs()).toEqual([])
+    expect((await degradedOnHandover()).repairDeadlinePassed).toBe(false)
     expect((await job.runDue(new Date('2026-01-11T12:00:00Z'))).escalated).toBe(0)
     expect((await job.runDue(new Date('2026-01-12T09:00:00Z'))).escalated).toBe(1)
     expect((await job.runDue(new Date('2026-01-12T10:00:00Z'))).escalated).toBe(0)
@@ -239,5 +285,21 @@ describe('degraded limits: the repair deadline against the MTTR assumed for the 
     expect(
       (await a.sup.get(`/api/limits/${limit.id}/degradation`).expect(200)).body.items[0].escalatedAt,
     ).not.toBeNull()
+    // 00:30 on the 12th in Berlin (23:30 UTC on the 11th): the deadline day is over in the site's zone
+    await at('2026-01-11T23:30:00Z')
+    expect(await overdueRepairs()).toEqual([
+      {
+        degradationId: expect.any(Number),
+        limitId: limit.id,
+        tag: limit.tag,
+        siteId: limit.siteId,
+        areaId: (await limitNow(limit.id)).areaId,
+        repairDeadline: '2026-01-11',
+        escalated: true,
+      },
+    ])
+    expect((await degradedOnHandover()).repairDeadlinePassed).toBe(true)
+    // a user without a role at the site's other sites asks for another site: nothing of this site
+    expect((await a.sup.get('/api/trip-tests/overdue-repairs?siteId=999999').expect(200)).body.items).toEqual([])
   })
 })

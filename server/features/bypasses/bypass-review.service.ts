@@ -10,6 +10,7 @@ import type { BypassDto, BypassReviewDto } from '../../../shared/schemas/bypasse
 import type { AppDeps } from '../../deps.ts'
 import { validationFailed } from '../../errors.ts'
 import { policyOf } from '../sites/sites.service.ts'
+import { deferralsBetween } from '../trip-tests/trip-tests.repository.ts'
 import { findDegradationSpans, findSitePolicies } from './bypasses.repository.ts'
 import { type BypassListQuery, listBypasses } from './bypasses.service.ts'
 
@@ -54,7 +55,7 @@ function overdueSpan(b: BypassDto, now: number): [number, number] | null {
 /**
  * The plant manager's review over a period (docs/bypasses.md#the-plant-managers-review): history rows, KPIs and chart
  * series (bypass hours per month, the ten limits with most bypass hours, overdue bypasses per month, share past planned
- * end), plus hours degraded by failed tests. Every figure counts the time each bypass was actually in force, from its
+ * end), plus hours degraded by failed tests and the test deferrals requested, approved and waiting. Every figure counts the time each bypass was actually in force, from its
  * activation to its removal (or now), whatever was planned.
  */
 export async function bypassReview(
@@ -118,6 +119,11 @@ export async function bypassReview(
   const degradations = (await findDegradationSpans(deps.db, q)).filter(
     (d) => overlapHours(d.opened_at.getTime(), d.cleared_at?.getTime() ?? now, from, to) > 0,
   )
+  // test deferrals requested in the period (and those still waiting for a decision, whenever requested)
+  const deferrals = (await deferralsBetween(deps.db, q.siteIds, q.from, q.to)).filter(
+    (d) => !q.areaIds?.length || q.areaIds.includes(d.area_id),
+  )
+  const deferralsInPeriod = deferrals.filter((d) => d.requested_at.getTime() >= from)
   const inForceThisMonth = recent.filter((b) => {
     const sp = activeSpan(b, now)
     return sp !== null && sp[1] >= monthStart
@@ -144,6 +150,9 @@ export async function bypassReview(
         )
       : null,
     sharePastPlannedEnd: ended.length ? pastEnd.length / ended.length : null,
+    deferralsRequested: deferralsInPeriod.length,
+    deferralsApproved: deferralsInPeriod.filter((d) => d.status === 'approved').length,
+    deferralsWaiting: deferrals.filter((d) => d.status === 'requested').length,
   }
   return {
     period: { from: new Date(from).toISOString(), to: new Date(to).toISOString() },

@@ -14,6 +14,7 @@ import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { loadBypasses } from '../bypasses/bypasses.service.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { contentHash, insertSignature, listSignatures } from '../signatures/signatures.ts'
+import { openDeferrals, overdueRepairs } from '../trip-tests/trip-tests.service.ts'
 import * as repo from './shift-handover.repository.ts'
 
 type Q = Parameters<typeof repo.findAreas>[0]
@@ -31,17 +32,21 @@ async function areasOf(db: Q, areaIds: number[]) {
 
 /**
  * The state of protection of the areas now, as the handover shows and signs it: per area what is bypassed (or on its
- * way), degraded, overdue for test or never tested, and the open temporary changes. It holds no running figures (no
+ * way), degraded (with a passed repair deadline marked), overdue for test or never tested, the test deferrals requested
+ * or in force, and the open temporary changes. It holds no running figures (no
  * "bypassed for 3.2 h"), so its hash changes when the state changes, not when it is read.
  */
 async function liveSnapshot(deps: AppDeps, db: Q, areaIds: number[]) {
   const now = deps.clock.now()
   const { ids, areas, site } = await areasOf(db, areaIds)
-  const [bypassRows, degraded, tests] = await Promise.all([
+  const [bypassRows, degraded, tests, repairsPassed, deferrals] = await Promise.all([
     repo.findOpenBypassIds(db, ids),
     repo.findDegraded(db, ids),
     repo.findOverdueTests(db, ids),
+    overdueRepairs(db, [site.id], now),
+    openDeferrals(db, [site.id], now),
   ])
+  const repairPassed = new Set(repairsPassed.map((r) => r.limitId))
   const bypasses = await loadBypasses(
     deps,
     bypassRows.map((r) => r.id),
@@ -77,6 +82,7 @@ async function liveSnapshot(deps: AppDeps, db: Q, areaIds: number[]) {
           compensatingMeasures: d.compensating_measures,
           repairDeadline: d.repair_deadline,
           measuresSignedBy: d.display_name,
+          repairDeadlinePassed: repairPassed.has(d.limitId),
         })),
       overdueTests: tests
         .filter((t) => t.area_id === area.id)
@@ -87,6 +93,7 @@ async function liveSnapshot(deps: AppDeps, db: Q, areaIds: number[]) {
         status: c.status,
         expiresAt: c.expires_at?.toISOString() ?? null,
       })),
+      deferrals: deferrals.filter((d) => d.areaId === area.id).map(({ areaId: _a, ...d }) => d),
     })
   }
   const snapshot: HandoverSnapshot = { site, areas: perArea }

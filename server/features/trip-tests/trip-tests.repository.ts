@@ -399,6 +399,16 @@ export function unescalatedDeadlines(db: Db) {
     .execute()
 }
 
+/** The time zones of some sites (each site's "today" is its own calendar day). */
+export function siteZones(db: Db, siteIds: number[]) {
+  return db
+    .selectFrom('site')
+    .select(['id', 'time_zone'])
+    .where('id', 'in', siteIds.length ? siteIds : [-1])
+    .orderBy('id')
+    .execute()
+}
+
 /** Open degradations of some sites whose repair deadline has passed (for home and handover). */
 export function passedRepairDeadlines(db: Db, siteIds: number[], today: string) {
   return db

@@ -1,7 +1,7 @@
 import { Router } from 'express'
 import { toCsv } from '../../csv.ts'
 import { z } from 'zod'
-import { IdSchema } from '../../../shared/schemas/common.ts'
+import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
 import {
   DeadlineApprovalInputSchema,
   DeferralDecisionInputSchema,
@@ -71,6 +71,10 @@ export function createTripTestsRouter(deps: AppDeps) {
     res.setHeader('Content-Type', 'text/csv; charset=utf-8')
     res.setHeader('Content-Disposition', 'attachment; filename="limitkeeper-trip-tests.csv"')
     res.send(csv)
+  })
+  router.get('/overdue-repairs', async (req, res) => {
+    const q = z.object({ siteId: repeated(IdSchema) }).parse(req.query)
+    res.json({ items: await service.overdueRepairs(deps.db, scopeSites(req.user, q.siteId), deps.clock.now()) })
   })
   router.post('/digest-runs', async (req, res) => {
     const { siteId } = z.object({ siteId: z.number().int().positive() }).parse(req.body)

@@ -28,6 +28,8 @@ import type { SitePolicy } from '../../../shared/schemas/sites.ts'
 import type {
   DegradationResponse,
   DeferralRisk,
+  OpenDeferral,
+  OverdueRepair,
   SignatureMeaning,
   TestDeferralDto,
   TestDeferralInput,
@@ -618,6 +620,47 @@ async function applyResult(
   }
   await refreshProtectionState(trx, row.limit_id)
   await refreshTestSchedule(trx, row.limit_id, now)
+}
+
+/**
+ * Degraded limits whose signed repair deadline has passed (the deadline day is over in the site's own zone), for home
+ * and the shift handover (docs/trip-tests.md#degraded-limits). Continued operation on compensating measures was
+ * accepted only until then.
+ */
+export async function overdueRepairs(db: Db, siteIds: number[], now: Date): Promise<OverdueRepair[]> {
+  const zones = await repo.siteZones(db, siteIds)
+  const perSite = await Promise.all(
+    zones.map((z) => repo.passedRepairDeadlines(db, [z.id], localDate(now, z.time_zone))),
+  )
+  return perSite.flat().map((r) => ({
+    degradationId: r.id,
+    limitId: r.limit_id,
+    tag: r.tag,
+    siteId: r.site_id,
+    areaId: r.area_id,
+    repairDeadline: r.repair_deadline!,
+    escalated: r.escalated_at !== null,
+  }))
+}
+
+/**
+ * Deferrals open at some sites now: requested and waiting for a decision, or approved and still in force (the due date
+ * from the tests is still the one they deferred). For the shift handover (docs/trip-tests.md#test-deferrals).
+ */
+export async function openDeferrals(db: Db, siteIds: number[], now: Date): Promise<OpenDeferral[]> {
+  const rows = await repo.deferralsBetween(db, siteIds, new Date(0), now)
+  return rows
+    .filter((d) => d.status === 'requested' || (d.status === 'approved' && d.test_due_date === d.new_due_date))
+    .sort((x, y) => x.new_due_date.localeCompare(y.new_due_date) || x.id - y.id)
+    .map((d) => ({
+      id: d.id,
+      limitId: d.limit_id,
+      tag: d.tag,
+      areaId: d.area_id,
+      status: d.status as 'requested' | 'approved',
+      originalDueDate: d.original_due_date,
+      newDueDate: d.new_due_date,
+    }))
 }
 
 /** The end of a calendar day in a zone (the moment the next day starts). */

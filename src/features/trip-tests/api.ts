@@ -1,7 +1,7 @@
 import type { TestSignal } from '@shared/domain/test-signal.ts'
 import type { BypassDto } from '@shared/schemas/bypasses.ts'
 import type { Limit, Signal } from '@shared/schemas/register.ts'
-import type { TripTestDto } from '@shared/schemas/trip-tests.ts'
+import type { OverdueRepair, TripTestDto } from '@shared/schemas/trip-tests.ts'
 import { api, http, toQuery, uploadWithProgress } from '@/api/client'
 
 export type TestStatus = Limit['testStatus']
@@ -120,6 +120,9 @@ export const signTripTest = (id: number, meaning: SignatureMeaning, password: st
 export const runDigest = (siteId: number) =>
   http.post<{ sent: number; overdue: number; dueSoon: number }>('/trip-tests/digest-runs', { siteId })
 
+/** Degraded limits whose signed repair deadline has passed (home, handover). */
+export const listOverdueRepairs = (siteId?: number[]) =>
+  http.get<{ items: OverdueRepair[] }>('/trip-tests/overdue-repairs', { siteId })
 export const getDegradation = (limitId: number) =>
   http.get<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation`)
 export const signDegradationMeasures = (
