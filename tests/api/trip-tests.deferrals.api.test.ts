@@ -9,8 +9,8 @@ import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
 // Test deferrals (docs/trip-tests.md#test-deferrals), the repair deadline against the function's MTTR and its
-// escalation (docs/trip-tests.md#degraded-limits), and a 2oo3 function tested channel by channel
-// (docs/trip-tests.md#voted-functions).
+// escalation (docs/trip-tests.md#degraded-limits), with what home, the shift handover and the review show of them. A 2oo3
+// function tested channel by channel: trip-tests.channels.api.test.ts.
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
