@@ -178,7 +178,22 @@ describe('management of change in the browser', () => {
     await engineer.reload()
     await poll(() => text(engineer, 'cr-status')).toBe('Implemented')
     expect(await engineer.locator('[data-test^="check-box-"] input').count()).toBe(IMPACT_CHECKLIST.length)
-    await tickChecks(engineer, CLOSEOUT)
+    // A close-out item that does not apply is marked so, with its reason (the function is not SIL-rated).
+    await poll(() => text(engineer, 'checklist-open-before')).toBe('Complete')
+    await poll(() => text(engineer, 'checklist-open-closeout')).toBe(`${CLOSEOUT.length} open`)
+    await engineer.locator('[data-test="check-na-safety_requirements"]').click()
+    await engineer.locator('[data-test="check-na-confirm"]').click()
+    await poll(() => text(engineer, 'check-na-dialog')).toContain('Say why the item does not apply')
+    await engineer.locator('[data-test="check-na-reason"] textarea').first().fill('Not a SIL-rated function')
+    await engineer.locator('[data-test="check-na-confirm"]').click()
+    await poll(() => text(engineer, 'check-by-safety_requirements')).toContain(
+      'Not applicable: Not a SIL-rated function · marked by Selma Rookwood',
+    )
+    await tickChecks(
+      engineer,
+      CLOSEOUT.filter((c) => c !== 'safety_requirements'),
+    )
+    await poll(() => text(engineer, 'checklist-open-closeout')).toBe('Complete')
     await engineer.locator('[data-test="cr-close"]').click()
     await engineer.locator('[data-test="pssr-reference"] input').fill('PSSR-2026-114')
     await engineer.locator('[data-test="pssr-findings"] textarea').first().fill('Trip tested at 790 °C; no findings.')

@@ -104,8 +104,13 @@ export const closeChangeRequest = (
   password: string,
   pssr: { reference: string; findings: string; readyForService: boolean },
 ) => http.post<ChangeRequestDto>(`/change-requests/${id}/closure`, { password, pssr })
-export const tickChecklistItem = (id: number, item: ChecklistItem | string, done: boolean, note = '') =>
-  api<ChangeRequestDto>('PUT', `/change-requests/${id}/checklist/${item}`, { done, note })
+export const tickChecklistItem = (
+  id: number,
+  item: ChecklistItem | string,
+  done: boolean,
+  note = '',
+  notApplicable = false,
+) => api<ChangeRequestDto>('PUT', `/change-requests/${id}/checklist/${item}`, { done, note, notApplicable })
 export const listChangeAuditEvents = (id: number) =>
   http.get<ListResult<ChangeAuditEvent>>('/audit-events', {
     entityType: 'ChangeRequest',
