@@ -38,7 +38,7 @@ export interface Observation {
   tolerance?: string | null
 }
 
-/** A value an approved or implemented change request puts on the device (explains a difference). */
+/** A value an approved change request, not yet implemented, puts on the device (explains a difference). */
 export interface PendingChange {
   limitId: number
   attribute: ReconAttribute
@@ -70,7 +70,7 @@ export interface ReconcileResult {
   attributesCompared: number
   /** Observations that could not be compared (unknown unit, unreadable value), with the reason. */
   problems: { tag: string; attribute: string; message: string }[]
-  /** Differences an approved or implemented change request explains (no finding). */
+  /** Differences an approved change request explains (no finding). */
   explained: { limitId: number; attribute: ReconAttribute; changeRequestId: number }[]
 }
 

@@ -156,14 +156,17 @@ const CHANGE_FIELDS: Record<string, ReconAttribute> = {
   latching: 'latching',
 }
 
-/** Values that approved or implemented change requests of the site put on devices. */
+/**
+ * Values that approved change requests of the site, not yet implemented, put on devices. An implemented request's
+ * values are the register's own; a superseded one must not explain a device that went back to an old value.
+ */
 export async function loadPendingChanges(db: Q, siteId: number): Promise<PendingChange[]> {
   const rows = await db
     .selectFrom('change_request_item as i')
     .innerJoin('change_request as c', 'c.id', 'i.change_request_id')
     .select(['i.limit_id', 'i.changes', 'c.id'])
     .where('c.site_id', '=', siteId)
-    .where('c.status', 'in', ['approved', 'implemented'])
+    .where('c.status', '=', 'approved')
     .where('i.limit_id', 'is not', null)
     .execute()
   const out: PendingChange[] = []
