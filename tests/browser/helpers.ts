@@ -122,3 +122,13 @@ export async function readyToImplement(page: Page, baseUrl: string, changeReques
   for (const c of IMPACT_CHECKLIST.filter((x) => x.group === 'before'))
     await callApi(page, baseUrl, 'PUT', `/change-requests/${changeRequestId}/checklist/${c.item}`, { done: true })
 }
+
+/** The text of the first element with this `data-test`, spaces collapsed; null when it is not on the page within 1 s. */
+export function testText(page: Page, test: string): Promise<string | null> {
+  return page
+    .locator(`[data-test="${test}"]`)
+    .first()
+    .textContent({ timeout: 1_000 })
+    .then((t) => t?.replace(/\s+/g, ' ').trim() ?? null)
+    .catch(() => null)
+}
