@@ -117,7 +117,8 @@ export function guessDelimiter(text: string): string {
   return [',', ';', '\t'].reduce((best, d) => (count(d) > count(best) ? d : best), ',')
 }
 
-function readCsv(text: string): FileTable {
+/** Parses CSV text (no size cap: callers check the size first). */
+export function readCsv(text: string): FileTable {
   const parsed = Papa.parse<string[]>(text, { delimiter: guessDelimiter(text), skipEmptyLines: false })
   const quote = parsed.errors.find((e) => e.type === 'Quotes')
   if (quote)
