@@ -210,6 +210,8 @@ export interface LimitFunctionTable {
   test_status: Generated<TestDueStatus>
   test_due_date: ColumnType<string | null, string | null, string | null>
   last_full_pass: ColumnType<string | null, string | null, string | null>
+  /** The day the test status next changes by the calendar alone (docs/domain/due-dates.md); null: never by it. */
+  test_status_changes_on: ColumnType<string | null, string | null | undefined, string | null>
   assumed_demand_rate_per_year: ColumnType<string | null, string | number | null | undefined, string | number | null>
   assumed_spurious_rate_per_year: ColumnType<string | null, string | number | null | undefined, string | number | null>
   commissioned_at: ColumnType<string | null, string | null | undefined, string | null>

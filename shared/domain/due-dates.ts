@@ -1,5 +1,6 @@
 // Full-test due dates of a limit. Rules, edges and sources: docs/domain/due-dates.md.
 import { TZDate } from '@date-fns/tz'
+import { UTCDate } from '@date-fns/utc'
 import { addDays, addMonths, differenceInCalendarDays, format } from 'date-fns'
 
 /** Hours in one month for reliability figures (1 month = 730 h, i.e. 8 760 h / 12; docs/domain/due-dates.md). */
@@ -92,6 +93,13 @@ export interface DueDateResult {
   lateTests: LateTest[]
   /** The due date without the deferral, when an approved deferral moved it; else null. */
   deferredFrom: string | null
+  /**
+   * The first calendar day on which the status changes by the calendar alone (no new test, deferral or edit):
+   * ok → due_soon on dueDate − dueSoonDays, due_soon → in_grace (or overdue without grace) the day after dueDate,
+   * in_grace → overdue the day after graceEnd; null for never_tested and overdue, which the calendar does not change.
+   * The schedule job refreshes only limits whose day has come (docs/domain/due-dates.md).
+   */
+  statusChangesOn: string | null
 }
 
 /** Proof-test interval in hours for reliability figures (1 month = 730 h). */
@@ -110,26 +118,31 @@ export function defaultGraceDays(intervalMonths: number, codeSet: boolean): numb
   return Math.min(MAX_DEFAULT_GRACE_DAYS, Math.floor((intervalMonths * 73) / 24))
 }
 
+// zones already checked: building an Intl.DateTimeFormat costs most of a millisecond
+const knownZones = new Set<string>()
+
 function checkTimeZone(timeZone: string): void {
+  if (knownZones.has(timeZone)) return
   try {
     Intl.DateTimeFormat('en-US', { timeZone })
   } catch {
     throw new RangeError(`unknown time zone: ${timeZone}`)
   }
+  knownZones.add(timeZone)
 }
 
 /** The calendar date of an instant in a zone, as a zone-free (UTC) calendar day for arithmetic. */
-function calendarDay(instant: Date, timeZone: string): TZDate {
+function calendarDay(instant: Date, timeZone: string): UTCDate {
   const local = new TZDate(instant.getTime(), timeZone)
-  return new TZDate(local.getFullYear(), local.getMonth(), local.getDate(), 'UTC')
+  return new UTCDate(local.getFullYear(), local.getMonth(), local.getDate())
 }
 
-const iso = (day: TZDate): string => format(day, 'yyyy-MM-dd')
+const iso = (day: UTCDate): string => format(day, 'yyyy-MM-dd')
 
-function parseDay(date: string): TZDate {
+function parseDay(date: string): UTCDate {
   const m = /^(\d{4})-(\d{2})-(\d{2})$/.exec(date)
   if (!m) throw new RangeError(`not a calendar date: ${date}`)
-  return new TZDate(Number(m[1]), Number(m[2]) - 1, Number(m[3]), 'UTC')
+  return new UTCDate(Number(m[1]), Number(m[2]) - 1, Number(m[3]))
 }
 
 /** Computes the full-test due date, grace end, status and late tests of a limit (pure; `now` is an input). */
@@ -152,7 +165,7 @@ export function computeDueDates(input: DueDateInput): DueDateResult {
     .filter((t) => t.kind === 'full' && t.performedAt.getTime() <= input.now.getTime())
     .sort((a, b) => a.performedAt.getTime() - b.performedAt.getTime())
 
-  let lastPass: TZDate | null = null
+  let lastPass: UTCDate | null = null
   const lateTests: LateTest[] = []
   for (const t of fullTests) {
     const day = calendarDay(t.performedAt, timeZone)
@@ -187,6 +200,7 @@ export function computeDueDates(input: DueDateInput): DueDateResult {
       daysUntilDue: null,
       lateTests,
       deferredFrom: null,
+      statusChangesOn: null,
     }
   }
 
@@ -216,5 +230,13 @@ export function computeDueDates(input: DueDateInput): DueDateResult {
     daysUntilDue,
     lateTests,
     deferredFrom: deferred ? iso(computedDue) : null,
+    statusChangesOn:
+      status === 'ok'
+        ? iso(addDays(due, -dueSoonDays(months)))
+        : status === 'due_soon'
+          ? iso(addDays(due, 1))
+          : status === 'in_grace'
+            ? iso(addDays(graceEnd, 1))
+            : null,
   }
 }

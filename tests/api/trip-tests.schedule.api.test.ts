@@ -292,3 +292,39 @@ describe("the weekly digest (Monday from 07:00 in each site's time zone, once pe
     await a.admin.post('/api/trip-tests/digest-runs', { siteId: smp }).expect(201)
   })
 })
+
+describe('the schedule job touches only limits whose status the calendar changes (docs/domain/due-dates.md)', () => {
+  it('refreshes nothing on an ordinary hour, the one limit whose day has come on that day, and none twice', async () => {
+    // A (monthly) passed on 3 March: due 3 April, due soon from 27 March (7-day look-ahead of a monthly test);
+    // B is overdue and C never tested, which the calendar no longer changes
+    await at('2026-03-20T09:00:00Z')
+    expect(await runJob('2026-03-20T09:00:00Z')).toMatchObject({ refreshed: 0 })
+    expect((await limitNow(L.a.id)).testStatus).toBe('ok')
+    // 27 March 00:30 in Berlin (CET) is 26 March 23:30 UTC: the site's own day decides
+    await at('2026-03-26T23:30:00Z')
+    expect(await runJob('2026-03-26T23:30:00Z')).toMatchObject({ refreshed: 1 })
+    expect((await limitNow(L.a.id)).testStatus).toBe('due_soon')
+    expect(await runJob('2026-03-27T09:00:00Z')).toMatchObject({ refreshed: 0 })
+    // 4 April: in grace (due 3 April, 3 days' grace to 6 April), then overdue from 7 April
+    await at('2026-04-04T09:00:00Z')
+    expect(await runJob('2026-04-04T09:00:00Z')).toMatchObject({ refreshed: 1 })
+    expect((await limitNow(L.a.id)).testStatus).toBe('in_grace')
+    await at('2026-04-07T09:00:00Z')
+    expect(await runJob('2026-04-07T09:00:00Z')).toMatchObject({ refreshed: 1 })
+    expect((await limitNow(L.a.id)).testStatus).toBe('overdue')
+    expect(await runJob('2026-04-07T10:00:00Z')).toMatchObject({ refreshed: 0 })
+  })
+
+  it("a change of the site's policy makes the job refresh every active limit of that site once", async () => {
+    const policy = (await a.admin.get(`/api/sites/${fhr}`).expect(200)).body.policy
+    await a.admin.patch(`/api/sites/${fhr}`, { policy: { ...policy } }).expect(200)
+    const active = await ctx.db
+      .selectFrom('limit_function')
+      .select((eb) => eb.fn.countAll<string>().as('n'))
+      .where('site_id', '=', fhr)
+      .where('status', '=', 'active')
+      .executeTakeFirstOrThrow()
+    expect(await runJob('2026-04-07T11:00:00Z')).toMatchObject({ refreshed: Number(active.n) })
+    expect(await runJob('2026-04-07T12:00:00Z')).toMatchObject({ refreshed: 0 })
+  })
+})

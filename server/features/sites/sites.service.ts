@@ -19,6 +19,7 @@ import type { AppDeps } from '../../deps.ts'
 import type { SiteRow } from '../../db/schema.ts'
 import { conflict, notFound } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
+import { markSiteSchedulesStale } from '../trip-tests/trip-tests.repository.ts'
 import type { Db } from '../../db/index.ts'
 
 /** A site's policy: stored overrides over the defaults of docs/conventions.md#site-policies. */
@@ -107,6 +108,8 @@ export async function updateSite(
       .where('id', '=', id)
       .returningAll()
       .executeTakeFirstOrThrow()
+    // grace and look-ahead follow the policy and dates the zone: the schedule job refreshes the site's limits
+    if (input.policy || input.timeZone) await markSiteSchedulesStale(trx, id)
     await appendAudit(trx, deps.clock, ctx, {
       action: 'site.update',
       entityType: 'Site',

@@ -12,7 +12,7 @@ import {
 } from '../../../shared/domain/rules/trip-tests.ts'
 import { findUsersWithRole } from '../users/users.repository.ts'
 import * as repo from './trip-tests.repository.ts'
-import { localDate, refreshTestSchedule } from './trip-tests.service.ts'
+import { computeSchedules, localDate } from './trip-tests.service.ts'
 
 const SYSTEM: AuditContext = { actorId: null, requestId: 'job:trip-tests', ip: null }
 
@@ -108,8 +108,34 @@ export async function escalatePassedRepairDeadlines(db: Db, config: Config, cloc
 }
 
 /**
- * Refreshes every active limit's test status (statuses move with the calendar), escalates passed repair deadlines,
- * then sends weekly digests.
+ * Refreshes the test status of the limits whose status the calendar changes by today (no others: a test, deferral,
+ * change or policy edit refreshes its limits itself), batch by batch, each batch's schedules written in one
+ * statement. Returns how many limits it refreshed (docs/domain/due-dates.md).
+ */
+export async function refreshChangedSchedules(db: Db, now: Date, batchSize = 500): Promise<number> {
+  let refreshed = 0
+  let afterId = 0
+  for (;;) {
+    const batch = await repo.limitsWithStatusChangeDue(db, now, afterId, batchSize)
+    if (!batch.length) return refreshed
+    await db.transaction().execute(async (trx) => {
+      const schedules = await computeSchedules(
+        trx,
+        batch.map((b) => b.id),
+        now,
+      )
+      await repo.updateLimitSchedules(
+        trx,
+        [...schedules].map(([limitId, s]) => ({ limitId, ...s })),
+      )
+    })
+    refreshed += batch.length
+    afterId = batch[batch.length - 1]!.id
+  }
+}
+
+/**
+ * Refreshes the test statuses the calendar changed, escalates passed repair deadlines, then sends weekly digests.
  */
 export function createTripTestJob(
   db: Db,
@@ -120,12 +146,7 @@ export function createTripTestJob(
     name: 'trip-tests.schedule',
     intervalSec: 3600,
     async runDue(now: Date) {
-      const ids = await repo.activeLimitIds(db)
-      for (let i = 0; i < ids.length; i += 200) {
-        await db.transaction().execute(async (trx) => {
-          for (const { id } of ids.slice(i, i + 200)) await refreshTestSchedule(trx, id, now)
-        })
-      }
+      const refreshed = await refreshChangedSchedules(db, now)
       const escalated = await escalatePassedRepairDeadlines(db, config, clock, now)
       let digests = 0
       const sites = await repo.listSiteZones(db)
@@ -137,7 +158,7 @@ export function createTripTestJob(
         const r = await runDigestForSite(db, config, clock, s.id, period)
         if (r.sent) digests++
       }
-      return { refreshed: ids.length, digests, escalated }
+      return { refreshed, digests, escalated }
     },
   }
 }

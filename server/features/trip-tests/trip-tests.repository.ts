@@ -1,5 +1,5 @@
 // Every query of trip tests, degraded limits and test deferrals. Functions take `db` or a transaction first.
-import type { Insertable, Kysely, Transaction, Updateable } from 'kysely'
+import { type Insertable, type Kysely, sql, type Transaction, type Updateable } from 'kysely'
 import type { TestDueStatus } from '../../../shared/domain/due-dates.ts'
 import type { Role } from '../../../shared/schemas/users.ts'
 import type { ComponentScope, TestScope } from '../../../shared/schemas/trip-tests.ts'
@@ -37,6 +37,25 @@ export function findLimitForTest(db: Db, limitId: number) {
     ])
     .where('limit_function.id', '=', limitId)
     .executeTakeFirst()
+}
+
+/** What the schedules of many limits are computed from: interval, grace, SIL, and the site's zone and policy. */
+export function scheduleInputs(db: Db, limitIds: number[]) {
+  if (!limitIds.length) return Promise.resolve([])
+  return db
+    .selectFrom('limit_function')
+    .innerJoin('site', 'site.id', 'limit_function.site_id')
+    .select([
+      'limit_function.id',
+      'limit_function.sil',
+      'limit_function.test_interval_months',
+      'limit_function.test_grace_days',
+      'limit_function.code_set_interval',
+      'site.time_zone',
+      'site.policy',
+    ])
+    .where('limit_function.id', 'in', limitIds)
+    .execute()
 }
 
 export function findInstrument(db: Db, id: number) {
@@ -172,11 +191,13 @@ export async function listTripTests(db: Db, q: TripTestListFilter) {
 }
 
 /** Signed whole-function tests of a limit, for its due date (component tests have their own intervals). */
-export function signedFunctionTests(db: Db, limitId: number) {
+/** The signed whole-function tests of many limits. */
+export function signedFunctionTestsOf(db: Db, limitIds: number[]) {
+  if (!limitIds.length) return Promise.resolve([])
   return db
     .selectFrom('trip_test')
-    .select(['id', 'performed_at', 'kind', 'passed'])
-    .where('limit_id', '=', limitId)
+    .select(['id', 'limit_id', 'performed_at', 'kind', 'passed'])
+    .where('limit_id', 'in', limitIds)
     .where('scope', '=', 'function')
     .where('status', '!=', 'recorded')
     .execute()
@@ -186,11 +207,13 @@ export function signedFunctionTests(db: Db, limitId: number) {
  * Real demands credited as a proof test of a limit (a safety engineer signed that the demand covered what the test
  * covers; docs/demands.md): each counts as a passing full test on the day of the demand.
  */
-export function creditedDemands(db: Db, limitId: number) {
+/** The demands credited as proof tests of many limits. */
+export function creditedDemandsOf(db: Db, limitIds: number[]) {
+  if (!limitIds.length) return Promise.resolve([])
   return db
     .selectFrom('demand')
-    .select(['id', 'occurred_at'])
-    .where('limit_id', '=', limitId)
+    .select(['id', 'limit_id', 'occurred_at'])
+    .where('limit_id', 'in', limitIds)
     .where('credited_as_test', '=', true)
     .execute()
 }
@@ -251,20 +274,63 @@ export async function replaceComponentIntervals(
       .execute()
 }
 
-export function updateLimitSchedule(
-  db: Db,
-  limitId: number,
-  v: { status: TestDueStatus; dueDate: string | null; lastFullPass: string | null },
-) {
+export interface LimitSchedule {
+  status: TestDueStatus
+  dueDate: string | null
+  lastFullPass: string | null
+  statusChangesOn: string | null
+}
+
+export function updateLimitSchedule(db: Db, limitId: number, v: LimitSchedule) {
+  return updateLimitSchedules(db, [{ limitId, ...v }])
+}
+
+/** Writes the schedules of many limits in one statement. */
+export async function updateLimitSchedules(db: Db, rows: (LimitSchedule & { limitId: number })[]) {
+  if (!rows.length) return
+  const values = sql.join(
+    rows.map(
+      (r) =>
+        sql`(${r.limitId}::int, ${r.status}::text, ${r.dueDate}::date, ${r.lastFullPass}::date, ${r.statusChangesOn}::date)`,
+    ),
+  )
+  await sql`
+    UPDATE limit_function AS l
+    SET test_status = v.status, test_due_date = v.due, last_full_pass = v.last, test_status_changes_on = v.changes
+    FROM (VALUES ${values}) AS v (id, status, due, last, changes)
+    WHERE l.id = v.id`.execute(db)
+}
+
+/**
+ * Active limits whose test status changes by the calendar on or before today in their site's zone: what the schedule
+ * job refreshes. The first date condition (no zone is more than 14 h ahead of UTC) lets the partial index do the work.
+ */
+export function limitsWithStatusChangeDue(db: Db, now: Date, afterId: number, limit: number) {
+  const utcTomorrow = new Date(now.getTime() + 86_400_000).toISOString().slice(0, 10)
   return db
-    .updateTable('limit_function')
-    .set({ test_status: v.status, test_due_date: v.dueDate, last_full_pass: v.lastFullPass })
-    .where('id', '=', limitId)
+    .selectFrom('limit_function')
+    .innerJoin('site', 'site.id', 'limit_function.site_id')
+    .select('limit_function.id')
+    .where('limit_function.status', '=', 'active')
+    .where('limit_function.id', '>', afterId)
+    .where('limit_function.test_status_changes_on', 'is not', null)
+    .where('limit_function.test_status_changes_on', '<=', utcTomorrow)
+    .where(
+      sql<boolean>`limit_function.test_status_changes_on <= (${now}::timestamptz AT TIME ZONE site.time_zone)::date`,
+    )
+    .orderBy('limit_function.id')
+    .limit(limit)
     .execute()
 }
 
-export function activeLimitIds(db: Db) {
-  return db.selectFrom('limit_function').select('id').where('status', '=', 'active').execute()
+/** Makes every active limit of a site due for a refresh by the schedule job (after a change of the site's policy). */
+export function markSiteSchedulesStale(db: Db, siteId: number) {
+  return db
+    .updateTable('limit_function')
+    .set({ test_status_changes_on: '2000-01-01' })
+    .where('site_id', '=', siteId)
+    .where('status', '=', 'active')
+    .execute()
 }
 
 export interface ScheduleFilter {
@@ -445,11 +511,13 @@ export function updateDeferral(trx: Transaction<Database>, id: number, values: U
 }
 
 /** The approved deferrals of a limit, newest first: the due-date computation applies the one that fits. */
-export function approvedDeferrals(db: Db, limitId: number) {
+/** The approved deferrals of many limits, the newest decision first. */
+export function approvedDeferralsOf(db: Db, limitIds: number[]) {
+  if (!limitIds.length) return Promise.resolve([])
   return db
     .selectFrom('test_deferral')
-    .select(['id', 'original_due_date', 'new_due_date'])
-    .where('limit_id', '=', limitId)
+    .select(['id', 'limit_id', 'original_due_date', 'new_due_date'])
+    .where('limit_id', 'in', limitIds)
     .where('status', '=', 'approved')
     .orderBy('decided_at', 'desc')
     .execute()

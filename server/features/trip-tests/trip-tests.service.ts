@@ -1,7 +1,12 @@
 import { TZDate } from '@date-fns/tz'
 import type { Selectable, Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
-import { computeDueDates, intervalHours } from '../../../shared/domain/due-dates.ts'
+import {
+  computeDueDates,
+  type DueDateResult,
+  type DueDateTest,
+  intervalHours,
+} from '../../../shared/domain/due-dates.ts'
 import { MissingInputError, OutOfRangeError, UnitConversionError } from '../../../shared/domain/errors.ts'
 import {
   checkDeferralRequest,
@@ -86,45 +91,72 @@ export async function refreshTestSchedule(trx: Db, limitId: number, now: Date) {
  * tests and approved deferrals.
  */
 export async function computeSchedule(db: Db, limitId: number, now: Date) {
-  const l = await repo.findLimitForTest(db, limitId)
-  if (!l) throw notFound('Limit')
-  const [tests, credited] = await Promise.all([
-    repo.signedFunctionTests(db, limitId),
-    repo.creditedDemands(db, limitId),
+  const r = (await computeSchedules(db, [limitId], now)).get(limitId)
+  if (!r) throw notFound('Limit')
+  return r
+}
+
+/**
+ * The schedules of many limits from four queries (the limits with their sites, their signed whole-function tests,
+ * the demands credited as proof tests, their approved deferrals); limits that do not exist are left out.
+ */
+export async function computeSchedules(db: Db, limitIds: number[], now: Date) {
+  const [limits, signed, credited, deferrals] = await Promise.all([
+    repo.scheduleInputs(db, limitIds),
+    repo.signedFunctionTestsOf(db, limitIds),
+    repo.creditedDemandsOf(db, limitIds),
+    repo.approvedDeferralsOf(db, limitIds),
   ])
-  const input = {
-    testIntervalMonths: l.test_interval_months,
-    testGraceDays: graceDaysFor(
-      {
-        testGraceDays: l.test_grace_days,
-        codeSetInterval: l.code_set_interval,
-        testIntervalMonths: l.test_interval_months,
-        sil: l.sil,
-      },
-      policyOf(l),
-    ),
-    codeSetInterval: l.code_set_interval,
-    timeZone: l.time_zone,
-    now,
-    tests: [
-      ...tests.map((t) => ({ id: t.id, performedAt: t.performed_at, kind: t.kind, passed: t.passed })),
-      // a demand credited as a proof test counts as a passing full test on its day (docs/demands.md)
-      ...credited.map((d) => ({
-        id: `demand:${d.id}`,
-        performedAt: d.occurred_at,
-        kind: 'full' as const,
-        passed: true,
-      })),
-    ],
+  const testsOf = new Map<number, DueDateTest[]>()
+  const add = (limitId: number, t: DueDateTest) => {
+    const list = testsOf.get(limitId)
+    if (list) list.push(t)
+    else testsOf.set(limitId, [t])
   }
-  const plain = computeDueDates(input)
-  // an approved deferral applies while the due date from the tests is still the one it deferred
-  const deferral = (await repo.approvedDeferrals(db, limitId)).find((d) => d.original_due_date === plain.dueDate)
-  if (!deferral) return plain
-  return computeDueDates({
-    ...input,
-    deferral: { originalDueDate: deferral.original_due_date, newDueDate: deferral.new_due_date },
-  })
+  for (const t of signed) add(t.limit_id, { id: t.id, performedAt: t.performed_at, kind: t.kind, passed: t.passed })
+  // a demand credited as a proof test counts as a passing full test on its day (docs/demands.md)
+  for (const d of credited)
+    add(d.limit_id, { id: `demand:${d.id}`, performedAt: d.occurred_at, kind: 'full', passed: true })
+  const out = new Map<number, DueDateResult>()
+  // one parse of each site's policy per batch, not one per limit
+  const policies = new Map<string, ReturnType<typeof policyOf>>()
+  const policyFor = (l: (typeof limits)[number]) => {
+    const key = JSON.stringify(l.policy)
+    let p = policies.get(key)
+    if (!p) policies.set(key, (p = policyOf(l)))
+    return p
+  }
+  for (const l of limits) {
+    const input = {
+      testIntervalMonths: l.test_interval_months,
+      testGraceDays: graceDaysFor(
+        {
+          testGraceDays: l.test_grace_days,
+          codeSetInterval: l.code_set_interval,
+          testIntervalMonths: l.test_interval_months,
+          sil: l.sil,
+        },
+        policyFor(l),
+      ),
+      codeSetInterval: l.code_set_interval,
+      timeZone: l.time_zone,
+      now,
+      tests: testsOf.get(l.id) ?? [],
+    }
+    const plain = computeDueDates(input)
+    // an approved deferral applies while the due date from the tests is still the one it deferred (newest first)
+    const deferral = deferrals.find((d) => d.limit_id === l.id && d.original_due_date === plain.dueDate)
+    out.set(
+      l.id,
+      deferral
+        ? computeDueDates({
+            ...input,
+            deferral: { originalDueDate: deferral.original_due_date, newDueDate: deferral.new_due_date },
+          })
+        : plain,
+    )
+  }
+  return out
 }
 
 function hashRecord(r: Selectable<TripTestTable>) {

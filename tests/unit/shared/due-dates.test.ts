@@ -362,3 +362,49 @@ describe('computeDueDates: an approved deferral moves the due date while it is v
     expect(r).toMatchObject({ dueDate: '2025-03-10', deferredFrom: null })
   })
 })
+
+describe('statusChangesOn: the day the calendar alone changes the status', () => {
+  // Dates worked by hand from the rules in docs/domain/due-dates.md (12-month interval, 30 grace days, due soon
+  // 30 days before the due date): last pass 2024-03-10 → due 2025-03-10, due soon from 2025-02-08, in grace from
+  // 2025-03-11, overdue from 2025-04-10 (2025-03-10 + 30 days = 2025-04-09 is the last day of grace).
+  const tests = [full('2024-03-10T09:00:00Z')]
+  it.each([
+    ['2025-01-01T12:00:00Z', 'ok', '2025-02-08'],
+    ['2025-02-07T12:00:00Z', 'ok', '2025-02-08'],
+    ['2025-02-08T12:00:00Z', 'due_soon', '2025-03-11'],
+    ['2025-03-10T12:00:00Z', 'due_soon', '2025-03-11'],
+    ['2025-03-11T12:00:00Z', 'in_grace', '2025-04-10'],
+    ['2025-04-09T12:00:00Z', 'in_grace', '2025-04-10'],
+    ['2025-04-10T12:00:00Z', 'overdue', null],
+  ])('at %s the status is %s and next changes on %s', (now, status, changesOn) => {
+    const r = due({ tests, now: at(now) })
+    expect(r.status).toBe(status)
+    expect(r.statusChangesOn).toBe(changesOn)
+  })
+
+  it('is the status of the day it names: the day before, the old status; on the day, the next one', () => {
+    // 3-month interval, grace 9 days: last pass 2025-01-15 → due 2025-04-15; due soon 22 days before (a quarter of
+    // 91.25 days, rounded down) → 2025-03-24; grace end 2025-04-24 (hand-worked from docs/domain/due-dates.md)
+    const input = { testIntervalMonths: 3, testGraceDays: 9, tests: [full('2025-01-15T08:00:00Z')] }
+    expect(due({ ...input, now: at('2025-03-23T23:00:00Z') })).toMatchObject({
+      status: 'ok',
+      statusChangesOn: '2025-03-24',
+    })
+    expect(due({ ...input, now: at('2025-03-24T00:30:00Z') }).status).toBe('due_soon')
+    expect(due({ ...input, now: at('2025-04-16T00:30:00Z') })).toMatchObject({
+      status: 'in_grace',
+      statusChangesOn: '2025-04-25',
+    })
+    expect(due({ ...input, now: at('2025-04-25T00:30:00Z') }).status).toBe('overdue')
+  })
+
+  it('without grace a due-soon limit goes straight to overdue the day after its due date', () => {
+    const r = due({ testGraceDays: 0, tests, now: at('2025-03-01T12:00:00Z') })
+    expect(r).toMatchObject({ status: 'due_soon', statusChangesOn: '2025-03-11' })
+    expect(due({ testGraceDays: 0, tests, now: at('2025-03-11T12:00:00Z') }).status).toBe('overdue')
+  })
+
+  it('a never-tested limit has no calendar change: only a test changes it', () => {
+    expect(due({ tests: [] })).toMatchObject({ status: 'never_tested', statusChangesOn: null })
+  })
+})
