@@ -2,6 +2,7 @@ import {
   mdiAccountCircleOutline,
   mdiAccountGroupOutline,
   mdiAlarmLight,
+  mdiChartBellCurveCumulative,
   mdiChartBoxOutline,
   mdiClipboardCheckOutline,
   mdiClipboardTextClockOutline,
@@ -61,6 +62,13 @@ export const NAV_ITEMS: NavItem[] = [
     icon: mdiChartBoxOutline,
     can: ['review', 'BypassReview'],
     test: 'nav-bypass-review',
+  },
+  {
+    title: 'Risk erosion',
+    to: '/bypasses/risk',
+    icon: mdiChartBellCurveCumulative,
+    can: ['review', 'BypassReview'],
+    test: 'nav-risk-erosion',
   },
   { title: 'Alarm performance', to: '/alarms', icon: mdiAlarmLight, test: 'nav-alarms' },
   {

@@ -260,6 +260,10 @@ describe('risk erosion of safety instrumented functions (GET /api/bypass-review/
     // only SIL-rated limits are listed
     expect(r.items.map((i) => i.limitId)).not.toContain(plain.id)
     expect(r.caution).toContain('hardware fault tolerance and systematic capability are not assessed')
+    expect(r.caution).toContain('Low demand mode only; not a SIL verification')
+    expect(r.caution).toContain(
+      'no substitute for the safety requirements specification or a functional safety assessment',
+    )
   })
 
   it("design PFDavg of the factory's subsystems, by hand with the IEC 61508-6 Annex B general forms and partial proof-test coverage", async () => {

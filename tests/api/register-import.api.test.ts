@@ -498,6 +498,68 @@ describe('round trip: export the register, import the same file', () => {
   }
 })
 
+describe('the alarm rationalization record in the register file', () => {
+  it('imports and exports the alarm type, causes, confirmation, consequence category and safety-related claim', async () => {
+    const alarm = row(71, {
+      process: 'Rationalization heater H-7',
+      tag: 'TAH-971',
+      limitClass: 'alarm',
+      setpoint: '700',
+      latching: 'no',
+      resetRole: '',
+      severity: 'moderate',
+      responseTimeMin: '15',
+      operatorResponse: 'Reduce the firing rate',
+      alarmType: 'rate of change',
+      causes: 'Fuel gas valve sticking open; burner fouling',
+      confirmation: 'Compare with TI-971B and the flue gas temperature',
+      impactCategory: 'asset or production',
+      safetyRelatedAlarm: 'yes',
+      claimedRiskReduction: '10',
+    })
+    const res = await upload(eng, csv([alarm]), { siteId: fhr, dryRun: false }).expect(201)
+    expect(res.body.status).toBe('committed')
+    const limit = (await eng.get(`/api/limits/${res.body.limitIds[0]}`).expect(200)).body
+    expect(limit).toMatchObject({
+      limitClass: 'alarm',
+      alarmType: 'rate_of_change',
+      causes: 'Fuel gas valve sticking open; burner fouling',
+      confirmation: 'Compare with TI-971B and the flue gas temperature',
+      impactCategory: 'asset_production',
+      safetyRelatedAlarm: true,
+      claimedRiskReduction: 10,
+    })
+
+    // a claim above 10 for an alarm is refused cell by cell (ISA-18.2 / IEC 61511: an alarm layer claims at most 10)
+    const over = await upload(eng, csv([row(72, { ...alarm, tag: 'TAH-972', claimedRiskReduction: '100' })]), {
+      siteId: fhr,
+    }).expect(201)
+    expect(over.body.errors).toEqual([expect.objectContaining({ field: 'claimedRiskReduction' })])
+
+    const file = await download(eng, `/api/limits/export?format=csv&siteId=${fhr}`)
+    const [header, ...records] = Papa.parse<string[]>(file.toString('utf8').replace(/^\uFEFF/, ''), {
+      skipEmptyLines: true,
+    }).data
+    const col = (key: string) => header.indexOf(REGISTER_COLUMNS.find((c) => c.key === key)!.header)
+    const mine = records.find((r) => r[col('tag')] === 'TAH-971')!
+    expect({
+      alarmType: mine[col('alarmType')],
+      causes: mine[col('causes')],
+      confirmation: mine[col('confirmation')],
+      impactCategory: mine[col('impactCategory')],
+      safetyRelatedAlarm: mine[col('safetyRelatedAlarm')],
+      claimedRiskReduction: mine[col('claimedRiskReduction')],
+    }).toEqual({
+      alarmType: 'rate_of_change',
+      causes: 'Fuel gas valve sticking open; burner fouling',
+      confirmation: 'Compare with TI-971B and the flue gas temperature',
+      impactCategory: 'asset_production',
+      safetyRelatedAlarm: 'yes',
+      claimedRiskReduction: '10',
+    })
+  })
+})
+
 describe('an import opens a draft change request for its baseline', () => {
   it('holds one create item per imported draft; approving and implementing it in bulk activates them', async () => {
     const app = createApp(ctx)

@@ -171,9 +171,14 @@ describe('bypasses in the browser', () => {
     await operator.locator(`[data-test="bypass-row-${id}"].bypass-row--overdue`).waitFor()
     await operator.locator('[data-test="nav-home"]').click()
     await poll(() => text(operator, 'home-overdue-FHR')).toContain('1')
+    expect(await operator.locator('[data-test="nav-risk-erosion"]').count()).toBe(0)
 
     // The plant manager opens the review: the bypass in the table, the overdue KPI, the charts drawn.
     const manager = await pageFor(app, 'manager')
+    // risk erosion has its own entry in the menu
+    await manager.locator('[data-test="nav-risk-erosion"]').click()
+    await manager.waitForURL(`${app.baseUrl}/bypasses/risk`)
+    await poll(() => text(manager, 'risk-caution')).toContain('Low demand mode only; not a SIL verification')
     await manager.locator('[data-test="nav-bypass-review"]').click()
     await manager.waitForURL(`${app.baseUrl}/bypasses/review`)
     await manager.locator('[data-test="review-table"]').waitFor()

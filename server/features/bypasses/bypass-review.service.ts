@@ -163,7 +163,9 @@ export async function bypassReview(
 }
 
 export const RISK_CAUTION =
-  "PFD figures are estimates from the entered data; hardware fault tolerance and systematic capability are not assessed. The plant's safety requirements and licensed engineering judgement prevail."
+  'Low demand mode only; not a SIL verification, and no substitute for the safety requirements specification or a ' +
+  'functional safety assessment. PFD figures are estimates from the entered data; hardware fault tolerance and ' +
+  "systematic capability are not assessed. The plant's safety requirements and licensed engineering judgement prevail."
 
 /**
  * Risk erosion of each SIL-rated limit over a period: target, design and effective PFDavg side by side. Effective uses

@@ -283,6 +283,10 @@ const ENUM_ALIASES: Record<string, string> = {
   '%_span': 'percent_span',
   percent: 'percent_span',
   engineering_units: 'eu',
+  asset: 'asset_production',
+  production: 'asset_production',
+  'asset/production': 'asset_production',
+  asset_or_production: 'asset_production',
 }
 const enumCell = (v: string) => {
   const t = v.toLowerCase().replace(/[\s-]+/g, '_')
@@ -365,8 +369,16 @@ function instrumentRaw(cells: Cells, base: InstrumentDto | null, errs: CellProbl
   return raw
 }
 
-const LIMIT_TEXTS = ['tag', 'description', 'action', 'consequence', 'operatorResponse'] as const
-const LIMIT_ENUMS = ['direction', 'limitClass', 'deadbandUnit', 'severity'] as const
+const LIMIT_TEXTS = [
+  'tag',
+  'description',
+  'action',
+  'consequence',
+  'operatorResponse',
+  'causes',
+  'confirmation',
+] as const
+const LIMIT_ENUMS = ['direction', 'limitClass', 'deadbandUnit', 'severity', 'alarmType'] as const
 const LIMIT_NUMBERS = [
   'setpoint',
   'deadband',
@@ -377,9 +389,10 @@ const LIMIT_NUMBERS = [
   'processSafetyTimeSec',
   'requiredResponseTimeSec',
   'maxBypassHours',
+  'claimedRiskReduction',
 ] as const
 const LIMIT_DEFAULTED = new Set(['deadband', 'onDelaySec', 'offDelaySec'])
-const LIMIT_BOOLS = ['latching', 'badValueTrip', 'bypassPermitted', 'codeSetInterval'] as const
+const LIMIT_BOOLS = ['latching', 'badValueTrip', 'bypassPermitted', 'codeSetInterval', 'safetyRelatedAlarm'] as const
 const LIMIT_REQUIRED = ['direction', 'limitClass', 'setpoint', 'severity', 'testIntervalMonths'] as const
 
 /** File cells over the stored limit (columns the file lacks keep their stored value). */
@@ -388,6 +401,8 @@ function limitRaw(cells: Cells, base: Limit | null, errs: CellProblems): Record<
   for (const k of LIMIT_TEXTS) if (cells[k] !== undefined) raw[k] = cells[k]
   for (const k of LIMIT_ENUMS) if (cells[k] !== undefined) raw[k] = cells[k] === '' ? undefined : enumCell(cells[k])
   if (cells.resetRole !== undefined) raw.resetRole = cells.resetRole === '' ? null : enumCell(cells.resetRole)
+  if (cells.impactCategory !== undefined)
+    raw.impactCategory = cells.impactCategory === '' ? null : enumCell(cells.impactCategory)
   for (const k of LIMIT_NUMBERS) {
     if (cells[k] === undefined) continue
     const n = numberCell(cells[k], k, errs)
