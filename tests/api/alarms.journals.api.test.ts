@@ -113,6 +113,61 @@ describe('alarm journal upload', () => {
     expect(f.targets.per10Min.source).toMatch(/ISA-18.2/)
   })
 
+  it('leaves the events of a tag the register holds as an alert out of the figures', async () => {
+    // an alert is not an alarm and does not load the operator (ISA-18.2-2016 separates alerts from alarms; from memory)
+    const area = (await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items[0] as { id: number }
+    const proc = (await eng.post('/api/processes', { areaId: area.id, name: 'Slop tank T-77' }).expect(201)).body
+    const inst = (
+      await eng
+        .post('/api/instruments', {
+          processId: proc.id,
+          tag: 'LT-77',
+          measuredVariable: 'level',
+          unit: '%',
+          rangeLow: 0,
+          rangeHigh: 100,
+          normalLow: 20,
+          normalHigh: 70,
+          designLow: null,
+          designHigh: null,
+          burnout: 'downscale',
+          signal: { kind: 'current', sqrtExtraction: false },
+          deviceKind: 'control_system',
+        })
+        .expect(201)
+    ).body
+    await eng
+      .post('/api/limits', {
+        processId: proc.id,
+        instrumentIds: [inst.id],
+        tag: 'LA-77',
+        direction: 'high',
+        limitClass: 'alert',
+        setpoint: 85,
+        deadband: 1,
+        severity: 'minor',
+        testIntervalMonths: 24,
+        operatorResponse: 'Plan a transfer to the slop system',
+      })
+      .expect(201)
+    const journal = [
+      'time,tag,event,priority,position',
+      '2026-08-01 10:00:00,LA-77,active,low,CON-1',
+      '2026-08-01 10:05:00,LA-77,return,low,CON-1',
+      '2026-08-01 10:10:00,LA-77,active,low,CON-1',
+      '2026-08-01 10:20:00,TAH-101,active,high,CON-1',
+    ].join('\n')
+    const mapping = { time: 'timestamp', tag: 'tag', event: 'event', priority: 'priority', position: 'position' }
+    const done = await finished(eng, (await upload(eng, journal, { mapping }).expect(202)).body.id)
+    expect(done).toMatchObject({ status: 'done', rowsStored: 4 })
+    const f = (
+      await eng.get(`/api/alarm-figures?siteId=${siteId}&from=2026-08-01T00:00:00Z&to=2026-08-02T00:00:00Z`).expect(200)
+    ).body
+    // only TAH-101's activation (unknown to the register, so counted); LA-77's two activations are an alert's
+    expect(f.annunciated).toBe(1)
+    expect(f.badActors.map((b: { tag: string }) => b.tag)).toEqual(['TAH-101'])
+  })
+
   it('a month report is a PDF', async () => {
     const r = await eng.get(`/api/alarm-figures/report.pdf?siteId=${siteId}&month=2026-07`).expect(200)
     expect(r.headers['content-type']).toBe('application/pdf')

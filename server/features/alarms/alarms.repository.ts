@@ -236,7 +236,10 @@ export async function journalColumns(
   scope: { areaId?: number; position?: string },
 ) {
   const params: unknown[] = [siteId, from, to]
-  let where = 'e.site_id = $1 AND e.occurred_at >= $2 AND e.occurred_at < $3'
+  // alerts are not alarms and do not count in the alarm figures (docs/domain/alarm-figures.md)
+  let where =
+    'e.site_id = $1 AND e.occurred_at >= $2 AND e.occurred_at < $3 AND NOT EXISTS ' +
+    "(SELECT 1 FROM limit_function a WHERE a.id = e.limit_id AND a.limit_class = 'alert')"
   if (scope.areaId) {
     params.push(scope.areaId)
     where += ` AND e.limit_id IN (SELECT id FROM limit_function WHERE area_id = $${params.length})`
