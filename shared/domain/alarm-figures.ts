@@ -32,6 +32,11 @@ export interface JournalColumns {
   position: ArrayLike<number>
   tags: string[]
   positions: string[]
+  /**
+   * Alarms already active when the period starts: the tag (index into `tags`) and when it was activated (seconds,
+   * before `from`). They are not annunciations of the period, but they are stale and standing like any other.
+   */
+  activeAtStart?: { tag: number; since: number }[]
 }
 
 export interface FigureOptions {
@@ -147,6 +152,8 @@ export function computeAlarmFigures(j: JournalColumns, o: FigureOptions): AlarmF
     suppressed: { count: 0, hours: 0 },
     out_of_service: { count: 0, hours: 0 },
   }
+  for (const a of j.activeAtStart ?? [])
+    if (a.since < o.from && !activeSince.has(a.tag)) activeSince.set(a.tag, a.since)
   let annunciated = 0
   const n = j.t.length
   for (let i = 0; i < n; i++) {

@@ -168,6 +168,20 @@ describe('alarm journal upload', () => {
     expect(f.badActors.map((b: { tag: string }) => b.tag)).toEqual(['TAH-101'])
   })
 
+  it('counts an alarm activated before the period and still active as stale and standing, not as annunciated', async () => {
+    const journal = ['time,tag,event', '2026-09-01 08:00:00,LAL-9,active', '2026-09-02 06:00:00,LAL-9,acknowledged']
+    const mapping = { time: 'timestamp', tag: 'tag', event: 'event' }
+    const done = await finished(eng, (await upload(eng, journal.join('\n'), { mapping }).expect(202)).body.id)
+    expect(done).toMatchObject({ status: 'done', rowsStored: 2 })
+    const f = (
+      await eng.get(`/api/alarm-figures?siteId=${siteId}&from=2026-09-02T00:00:00Z&to=2026-09-03T00:00:00Z`).expect(200)
+    ).body
+    // active from 1 September 08:00 to the period's end on 3 September 00:00: 40 h, over the 24 h of a stale alarm
+    expect(f.annunciated).toBe(0)
+    expect(f.standing).toEqual(['LAL-9'])
+    expect(f.stale).toEqual([{ tag: 'LAL-9', since: '2026-09-01T08:00:00.000Z', hours: 40 }])
+  })
+
   it('a month report is a PDF', async () => {
     const r = await eng.get(`/api/alarm-figures/report.pdf?siteId=${siteId}&month=2026-07`).expect(200)
     expect(r.headers['content-type']).toBe('application/pdf')

@@ -1,5 +1,6 @@
 import { Kysely, PostgresDialect, sql, type Transaction } from 'kysely'
 import type pg from 'pg'
+import { EVENT_CODE } from '../../../shared/domain/alarm-figures.ts'
 import { from as copyFrom } from 'pg-copy-streams'
 import type { Db } from '../../db/index.ts'
 import type { AlarmUploadStatus, Database } from '../../db/schema.ts'
@@ -228,6 +229,9 @@ export async function countJournalEvents(db: Q, siteId: number) {
 // ---- figures ----
 
 /** Journal events of a site in [from, to) as columns, sorted by time; optionally one area or one position. */
+/** How far before a period the figures look for alarms still active when it starts (docs/domain/alarm-figures.md). */
+export const ACTIVE_AT_START_LOOKBACK_DAYS = 30
+
 export async function journalColumns(
   pool: pg.Pool,
   siteId: number,
@@ -283,7 +287,28 @@ export async function journalColumns(
     }
     position[i] = pi
   }
-  return { t, tag, kind, priority, position, tags, positions }
+  // alarms active when the period starts: the last activation or return of each tag within the look-back before it
+  const before = await pool.query({
+    text: `SELECT * FROM (
+             SELECT DISTINCT ON (lower(e.tag)) e.tag, e.kind, (extract(epoch FROM e.occurred_at))::float8 AS t
+             FROM alarm_event e
+             WHERE ${where.replace('e.occurred_at >= $2 AND e.occurred_at < $3', `e.occurred_at >= $2::timestamptz - interval '${ACTIVE_AT_START_LOOKBACK_DAYS} days' AND e.occurred_at < least($2::timestamptz, $3::timestamptz)`)}
+               AND e.kind IN (${EVENT_CODE.active}, ${EVENT_CODE.return})
+             ORDER BY lower(e.tag), e.occurred_at DESC
+           ) last WHERE kind = ${EVENT_CODE.active}`,
+    values: params,
+    rowMode: 'array',
+  })
+  const activeAtStart = (before.rows as [string, number, number][]).map(([name, , since]) => {
+    const key = name.toLowerCase()
+    let ti = tagIdx.get(key)
+    if (ti === undefined) {
+      ti = tags.push(name) - 1
+      tagIdx.set(key, ti)
+    }
+    return { tag: ti, since }
+  })
+  return { t, tag, kind, priority, position, tags, positions, activeAtStart }
 }
 
 export async function limitIdsByTag(db: Q, siteId: number, tags: string[]) {

@@ -141,6 +141,26 @@ describe('chattering, fleeting, stale and standing', () => {
     ])
     expect(f.standing).toEqual(['S'])
   })
+  it('an alarm active before the period starts is stale and standing, but no annunciation of the period', () => {
+    // the period is [0, 10 h); X was activated 30 h before it and returns at 2 h (active 32 h: stale); Y was activated
+    // 1 h before it and never returns (standing at 10 h, active 11 h: not stale); hand-worked from the definitions in
+    // docs/domain/alarm-figures.md
+    const j = journal([
+      [2 * H, 'X', 'return'],
+      [3 * H, 'Z', 'active'],
+    ])
+    j.tags.push('Y')
+    const x = j.tags.indexOf('X')
+    const y = j.tags.indexOf('Y')
+    j.activeAtStart = [
+      { tag: x, since: -30 * H },
+      { tag: y, since: -1 * H },
+    ]
+    const f = computeAlarmFigures(j, { ...DEFAULT_FIGURE_OPTIONS, from: 0, to: 10 * H })
+    expect(f.annunciated).toBe(1) // Z only
+    expect(f.stale.map((s) => [s.tag, s.hours])).toEqual([['X', 32]])
+    expect(f.standing).toEqual(['Y', 'Z'])
+  })
 })
 
 describe('priority mix against ~80/15/5 (ISA-18.2 / EEMUA 191)', () => {
