@@ -288,11 +288,16 @@ export async function journalColumns(
     position[i] = pi
   }
   // alarms active when the period starts: the last activation or return of each tag within the look-back before it
+  const lookback = where.replace(
+    'e.occurred_at >= $2 AND e.occurred_at < $3',
+    `e.occurred_at >= $2::timestamptz - interval '${ACTIVE_AT_START_LOOKBACK_DAYS} days'` +
+      ' AND e.occurred_at < least($2::timestamptz, $3::timestamptz)',
+  )
   const before = await pool.query({
     text: `SELECT * FROM (
              SELECT DISTINCT ON (lower(e.tag)) e.tag, e.kind, (extract(epoch FROM e.occurred_at))::float8 AS t
              FROM alarm_event e
-             WHERE ${where.replace('e.occurred_at >= $2 AND e.occurred_at < $3', `e.occurred_at >= $2::timestamptz - interval '${ACTIVE_AT_START_LOOKBACK_DAYS} days' AND e.occurred_at < least($2::timestamptz, $3::timestamptz)`)}
+             WHERE ${lookback}
                AND e.kind IN (${EVENT_CODE.active}, ${EVENT_CODE.return})
              ORDER BY lower(e.tag), e.occurred_at DESC
            ) last WHERE kind = ${EVENT_CODE.active}`,
