@@ -1,7 +1,7 @@
 // Demo activity on top of the demo register, made through the product's own services as the demo people would:
 // trip tests done over the past year, one failed test (a degraded limit with signed measures), an active bypass,
-// change requests waiting for approval and for implementation. Invented plant, invented people.
-import { createAppAbility, defineRulesFor } from '../../shared/abilities/index.ts'
+// change requests waiting for approval and for implementation, a year of demands and trips with a test deferral
+// (demo-demands.ts), and the alarm journal. Invented plant, invented people.
 import type { Clock } from '../clock.ts'
 import type { Config } from '../config.ts'
 import type { Db } from '../db/index.ts'
@@ -14,8 +14,9 @@ import {
 } from '../features/change-requests/change-requests.service.ts'
 import { TripTestInputSchema } from '../../shared/schemas/trip-tests.ts'
 import { createTripTest, signDegradationMeasures, signTripTest } from '../features/trip-tests/trip-tests.service.ts'
-import { findRolesByUserIds } from '../features/users/users.repository.ts'
+import { demoActors } from './demo-actors.ts'
 import { seedDemoAlarms } from './demo-alarms.ts'
+import { seedDemoDemands } from './demo-demands.ts'
 import { DEMO_PASSWORD } from './demo.ts'
 
 const DAY = 86_400_000
@@ -23,16 +24,7 @@ const DAY = 86_400_000
 /** Seeds the demo activity; the database must hold the demo plant and its register. */
 export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Promise<void> {
   const deps: AppDeps = { db, pool: undefined as never, clock, config }
-  const users = await db.selectFrom('app_user').select(['id', 'email']).execute()
-  const roles = await findRolesByUserIds(
-    db,
-    users.map((u) => u.id),
-  )
-  const as = (who: string) => {
-    const u = users.find((x) => x.email === `${who}@fernhollow.example`)!
-    const user = { id: u.id, roles: roles.get(u.id) ?? [] }
-    return { ability: createAppAbility(defineRulesFor(user)), ctx: { actorId: u.id, requestId: 'demo-seed', ip: null } }
-  }
+  const as = await demoActors(db)
   const tech = as('technician')
   const sup = as('supervisor')
   const eng = as('engineer')
@@ -216,5 +208,6 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
       console.warn(`demo change for ${l.tag} skipped: ${err instanceof Error ? err.message : err}`)
     }
   }
+  await seedDemoDemands(deps, as)
   await seedDemoAlarms(db, clock)
 }

@@ -1,0 +1,41 @@
+import { describe, expect, it } from 'vitest'
+import { createApp } from '../../server/app.ts'
+import { demoActors } from '../../server/seed/demo-actors.ts'
+import { seedDemoDemands } from '../../server/seed/demo-demands.ts'
+import { signedIn } from './helpers/agent.ts'
+import { useTestDb } from './helpers/test-db.ts'
+
+// The demo plant's year of demands and trips and its test deferral (server/seed/demo-demands.ts), read back through
+// the API as the demo people see them. The expected counts are those of the seed's own plan.
+
+const ctx = useTestDb({ register: true })
+
+describe('demo demands, trips and deferral', () => {
+  it('holds a year of events, flags the heater trip that trips more often than assumed, and one approved deferral', async () => {
+    ctx.clock.set('2026-11-20T10:00:00Z')
+    await seedDemoDemands(ctx, await demoActors(ctx.db))
+    const app = createApp(ctx)
+    const eng = await signedIn(app, 'engineer')
+
+    const all = (await eng.get('/api/demands?pageSize=50').expect(200)).body
+    expect(all.total).toBe(9)
+    const kinds = all.items.map((d: { kind: string }) => d.kind)
+    expect(kinds.filter((k: string) => k === 'spurious_trip')).toHaveLength(4)
+    expect(kinds.filter((k: string) => k === 'real_demand')).toHaveLength(3)
+    // the newest is left for the engineer to classify
+    expect(all.items[0]).toMatchObject({ kind: 'real_demand', status: 'recorded' })
+    const oldest = new Date(all.items.at(-1).occurredAt).getTime()
+    expect(ctx.clock.now().getTime() - oldest).toBeLessThan(365 * 86_400_000)
+
+    // TSHH-101: three counted spurious trips in the last year against 0.2 a year assumed → flagged
+    const rates = (await eng.get('/api/demands/rates').expect(200)).body
+    const heater = rates.limits.find((r: { limitTag: string }) => r.limitTag === 'TSHH-101')
+    expect(heater).toMatchObject({ spuriousTrips: 3, assumedSpuriousRatePerYear: 0.2, spuriousRateAboveAssumed: true })
+    // commissioned in 2019: the whole year is observed, so the rate is the count (3 a year)
+    expect(heater.observedSpuriousRatePerYear).toBeCloseTo(3, 6)
+
+    const deferrals = (await eng.get('/api/test-deferrals').expect(200)).body
+    expect(deferrals.total).toBe(1)
+    expect(deferrals.items[0]).toMatchObject({ status: 'approved', inForce: true, extensionDays: 28 })
+  })
+})
