@@ -1,7 +1,7 @@
 import type { TestSignal } from '@shared/domain/test-signal.ts'
 import type { BypassDto } from '@shared/schemas/bypasses.ts'
 import type { Limit, Signal } from '@shared/schemas/register.ts'
-import type { OverdueRepair, TripTestDto } from '@shared/schemas/trip-tests.ts'
+import type { OverdueRepair, TestDeferralDto, TripTestDto } from '@shared/schemas/trip-tests.ts'
 import { api, http, toQuery, uploadWithProgress } from '@/api/client'
 
 export type TestStatus = Limit['testStatus']
@@ -80,6 +80,8 @@ export interface TripTestBody {
   responseTimeSec: number | null
   setpointRestoredReadBack: number | null
   notes: string
+  /** a voted function tested channel by channel: one entry per channel instrument, then no function as-found */
+  channels?: { instrumentId: number; asFound: number | null; noTrip: boolean; asLeft: number | null }[]
 }
 
 /** The degraded state of a limit, newest first. */
@@ -172,3 +174,18 @@ export function uploadAttachment(
   form.append('file', file)
   return uploadWithProgress(`/trip-tests/${id}/attachments`, form, onProgress)
 }
+
+// Test deferrals (docs/trip-tests.md#test-deferrals)
+export const listDeferrals = (query: { limitId?: number; siteId?: number[]; pageSize?: number }) =>
+  http.get<{ items: TestDeferralDto[]; total: number }>('/test-deferrals', { ...query })
+export const requestDeferral = (body: {
+  limitId: number
+  newDueDate: string
+  reason: string
+  compensatingMeasures: string[]
+}) => http.post<TestDeferralDto>('/test-deferrals', body)
+export const decideDeferral = (
+  id: number,
+  decision: 'approve' | 'reject',
+  body: { password: string; comment: string },
+) => http.post<TestDeferralDto>(`/test-deferrals/${id}/${decision === 'approve' ? 'approval' : 'rejection'}`, body)
