@@ -359,6 +359,9 @@ describe('role assignments', () => {
       expect((await local.patch(`/api/users/${smpOnly.body.id}`, { active: false })).status).toBe(403)
       // nor can they strip the other site's roles away
       expect((await local.patch(`/api/users/${smpOnly.body.id}`, { roles: [] })).status).toBe(403)
+      // nor re-affirm them unchanged: a no-op role list is refused and not audited
+      const same = await local.patch(`/api/users/${smpOnly.body.id}`, { roles: [{ siteId: smp, role: 'admin' }] })
+      expect(same.status).toBe(403)
       expect(await snapshot()).toEqual(before)
     })
   })

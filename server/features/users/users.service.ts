@@ -121,11 +121,13 @@ export async function updateUser(
     const key = (r: { siteId: number; role: string }) => `${r.siteId}:${r.role}`
     const was = new Set(current.map(key))
     const will = new Set(input.roles.map(key))
+    const changed = [...current.filter((r) => !will.has(key(r))), ...input.roles.filter((r) => !was.has(key(r)))]
+    // a role list that changes nothing is still an act on the account's roles: every site the account holds a role
+    // at must be the admin's, so another site's admin can neither change nor re-affirm them (docs/security.md,
+    // "Authorization")
     assertAdministers(
       ability,
-      [...current.filter((r) => !will.has(key(r))), ...input.roles.filter((r) => !was.has(key(r)))].map(
-        (r) => r.siteId,
-      ),
+      (changed.length ? changed : [...current, ...input.roles]).map((r) => r.siteId),
     )
   }
   if (input.active === false && ctx.actorId === id)
