@@ -57,11 +57,13 @@ async function sqlState(client: pg.Client, text: string): Promise<string | null>
 }
 
 /** Runs `npm run audit:verify` (its script, without npm) against this file's database. */
-async function auditVerifyCli(): Promise<{ code: number; out: string }> {
+async function auditVerifyCli(
+  env: NodeJS.ProcessEnv = { ...process.env, DATABASE_URL: ctx.database.appUrl },
+): Promise<{ code: number; out: string }> {
   try {
     const { stdout } = await run(process.execPath, ['--import', 'tsx', 'server/cli/audit-verify.ts'], {
       cwd: root,
-      env: { ...process.env, DATABASE_URL: ctx.database.appUrl },
+      env,
       timeout: 60_000,
     })
     return { code: 0, out: stdout }
@@ -311,6 +313,16 @@ describe('the hash chain', () => {
     const intact = await auditVerifyCli()
     expect(intact.code).toBe(0)
     expect(intact.out).toMatch(/Audit trail intact: \d+ events/)
+    // without DATABASE_URL it reaches the local cluster the way `PGPORT=… npm start` does (PGPORT, DB_NAME)
+    const { DATABASE_URL: _unset, ...rest } = process.env
+    void _unset
+    const local = await auditVerifyCli({
+      ...rest,
+      PGPORT: new URL(ctx.database.appUrl).port,
+      DB_NAME: ctx.database.name,
+    })
+    expect(local.out).toMatch(/Audit trail intact: \d+ events/)
+    expect(local.code).toBe(0)
 
     const victim = await ctx.db
       .selectFrom('audit_event')
