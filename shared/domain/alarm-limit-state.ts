@@ -1,5 +1,6 @@
 // One state machine for every alarm or trip limit replayed on recorded process data (docs/domain/alarm-figures.md,
-// "Replay"). Deadband, on-delay and off-delay follow OPC UA Part 9 (Alarms & Conditions) and ISA-18.2; latching
+// "The limit state machine"). Deadband, on-delay and off-delay follow OPC UA Part 9 (Alarms & Conditions) and
+// ISA-18.2; latching
 // follows OPC UA Part 9's latched state: once active, the limit stays active until reset, and a reset is allowed
 // only once the value is back inside.
 //
