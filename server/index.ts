@@ -5,6 +5,8 @@ import { createApp } from './app.ts'
 import { createDb } from './db/index.ts'
 import { createJobs } from './jobs/index.ts'
 import { JobScheduler } from './jobs/scheduler.ts'
+import { loadAuditKeys } from './features/audit/audit.key.ts'
+import { logger } from './logger.ts'
 
 export interface RunningServer {
   url: string
@@ -17,10 +19,14 @@ export async function startServer(
   config: Config,
   opts: { clock?: Clock; runJobs?: boolean } = {},
 ): Promise<RunningServer> {
+  // the audit key must be there before anything is written: a missing AUDIT_KEY_FILE stops the start, not a request
+  loadAuditKeys()
   const clock = opts.clock ?? (config.NODE_ENV === 'test' ? new AdjustableClock() : systemClock)
   const { db, pool } = createDb(config.DATABASE_URL, 20)
   const app = createApp({ db, pool, clock, config })
-  const scheduler = new JobScheduler(db, clock, createJobs(db, config, clock), (m) => console.error(m))
+  const scheduler = new JobScheduler(db, clock, createJobs(db, config, clock), (m) =>
+    logger.error({ component: 'jobs' }, m),
+  )
   if (opts.runJobs !== false) {
     await scheduler.register()
     scheduler.start(config.JOB_POLL_SECONDS)

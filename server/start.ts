@@ -13,6 +13,7 @@ import { migrateToLatest } from './db/migrate.ts'
 import { startFakeSmtp } from './dev/fake-smtp.ts'
 import { startModbusSim } from './dev/modbus-sim.ts'
 import { startServer } from './index.ts'
+import { auditKeyPath, createAuditKeyFile } from './features/audit/audit.key.ts'
 import { systemClock } from './clock.ts'
 import { seedDemoActivity } from './seed/demo-activity.ts'
 import { seedDemoShiftHandover } from './seed/demo-shift-handover.ts'
@@ -102,7 +103,20 @@ async function buildClientIfChanged() {
   })
 }
 
+/** The audit key file (docs/security.md, "Audit trail integrity"): created on the first run when missing. */
+function ensureAuditKey() {
+  const file = auditKeyPath()
+  if (existsSync(file)) return
+  createAuditKeyFile(file)
+  console.log(
+    `Created the audit key ${file} (keyed links and signed checkpoints of the audit trail).\n` +
+      'In production keep it outside the database host and its backups, and back it up separately: without it the ' +
+      'audit trail cannot be verified (docs/deployment.md).',
+  )
+}
+
 async function main() {
+  ensureAuditKey()
   const localDb = !process.env.DATABASE_URL
   if (localDb) await startLocalPostgres()
   process.env.NODE_ENV ??= 'development'

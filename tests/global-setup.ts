@@ -8,6 +8,7 @@ import path from 'node:path'
 import { promisify } from 'node:util'
 import pg from 'pg'
 import type { TestProject } from 'vitest/node'
+import { createAuditKeyFile } from '../server/features/audit/audit.key.ts'
 
 const run = promisify(execFile)
 
@@ -56,6 +57,12 @@ export default async function setup(project: TestProject) {
     project.provide('ownerUrl', vars.MIGRATION_DATABASE_URL)
     project.provide('appUrl', vars.DATABASE_URL)
     project.provide('templateDb', 'lk_template')
+    // the audit key of this run (keyed links, signed checkpoints), outside the repository like a real one
+    const keyFile = path.join(dir, 'audit-key.json')
+    createAuditKeyFile(keyFile)
+    process.env.AUDIT_KEY_FILE = keyFile
+    process.env.AUDIT_CHECKPOINT_DIR = path.join(dir, 'audit-checkpoints')
+    project.provide('auditKeyFile', keyFile)
   } catch (err) {
     await stop()
     throw err

@@ -7,5 +7,6 @@ declare module 'vitest' {
     ownerUrl: string
     appUrl: string
     templateDb: string
+    auditKeyFile: string
   }
 }

@@ -1,23 +1,38 @@
-// npm run audit:verify — walks the audit chain and reports the first broken link (exit 1 when broken).
+// npm run audit:verify — walks the audit chain, checks every keyed link with the audit key and the chain against
+// every signed checkpoint, and reports the first problem with the event and checkpoint concerned (exit 1 when broken).
 import { createDb } from '../db/index.ts'
 import { localAppUrl } from '../db/local.ts'
+import { checkpointDir, readCheckpoints } from '../features/audit/audit.checkpoint.ts'
+import { loadAuditKeys } from '../features/audit/audit.key.ts'
 import { verifyAuditChain } from '../features/audit/audit.repository.ts'
+
+const out = (line: string) => process.stdout.write(`${line}\n`)
 
 // the same local-cluster settings as `npm start` and server/db/pg.sh when DATABASE_URL is unset
 const url = process.env.DATABASE_URL ?? localAppUrl()
 const { db } = createDb(url, 2)
 try {
+  const keys = loadAuditKeys()
+  const { claims, problems } = readCheckpoints({ keys })
   const t0 = Date.now()
-  const r = await verifyAuditChain(db)
+  const r = await verifyAuditChain(db, { keys, checkpoints: claims })
   const secs = ((Date.now() - t0) / 1000).toFixed(2)
-  if (r.ok)
-    console.log(
-      `Audit trail intact: ${r.checked} events checked in ${secs} s; head id ${r.headId ?? '-'} hash ${r.headHash ?? '-'}`,
+  for (const p of problems) out(`Checkpoint problem: ${p}`)
+  if (r.ok) {
+    out(
+      `Audit trail intact: ${r.checked} events checked in ${secs} s against ${claims.length} checkpoint(s) in ${checkpointDir()}; head id ${r.headId ?? '-'} hash ${r.headHash ?? '-'}`,
     )
-  else {
-    console.log(`Audit trail BROKEN at event ${r.badId}: ${r.problem} (${r.checked} events before it are intact)`)
+    if (r.unkeyed) out(`${r.unkeyed} event(s) from before keyed links are hash-chained only.`)
+    if (problems.length) process.exitCode = 1
+  } else {
+    out(
+      `Audit trail BROKEN at event ${r.badId}: ${r.problem} (${r.checked} events before it are intact)${r.checkpoint ? ` [checkpoint ${r.checkpoint}]` : ''}`,
+    )
     process.exitCode = 1
   }
+} catch (err) {
+  process.stderr.write(`${err instanceof Error ? err.message : err}\n`)
+  process.exitCode = 2
 } finally {
   await db.destroy()
 }

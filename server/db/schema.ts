@@ -85,6 +85,10 @@ export interface AuditEventTable {
   ip: string | null
   prev_hash: string
   hash: string
+  /** HMAC-SHA256 of hash under the audit key (null on events written before keyed links). */
+  link: string | null
+  /** The site the event is about; null for installation-wide events (sign-in, accounts without a site). */
+  site_id: number | null
 }
 export interface MailOutboxTable {
   id: Generated<number>

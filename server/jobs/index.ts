@@ -5,6 +5,7 @@ import { createChangeRequestJob } from '../features/change-requests/change-reque
 import { createTripTestJob } from '../features/trip-tests/trip-tests.jobs.ts'
 import { createBypassJob } from '../features/bypasses/bypasses.jobs.ts'
 import { createMailJob } from '../features/mail/mail.worker.ts'
+import { createAuditCheckpointJob } from '../features/audit/audit.checkpoint.ts'
 import { createReconciliationJob } from '../features/reconciliation/reconciliation.jobs.ts'
 
 /** Every scheduled job of the product. Later features add theirs here. */
@@ -15,5 +16,6 @@ export function createJobs(db: Db, config: Config, clock: Clock): DueJob[] {
     createTripTestJob(db, config, clock),
     createBypassJob(db, config, clock),
     createReconciliationJob(db, config, clock),
+    createAuditCheckpointJob(db, clock),
   ]
 }

@@ -18,6 +18,8 @@ export interface HashedContent {
   requestId: string | null
   ip: string | null
   prevHash: string
+  /** Keyed events (format 2) cover their own id and site too; events written before keyed links do not. */
+  keyed?: { id: number; siteId: number | null }
 }
 
 /**
@@ -27,7 +29,8 @@ export interface HashedContent {
  */
 export function hashEvent(e: HashedContent): string {
   const text = canonicalize({
-    v: 1,
+    v: e.keyed ? 2 : 1,
+    ...(e.keyed ? { id: e.keyed.id, siteId: e.keyed.siteId } : {}),
     occurredAt: e.occurredAt.toISOString(),
     actorId: e.actorId,
     action: e.action,

@@ -3,6 +3,7 @@ import type { Clock } from '../../clock.ts'
 import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
 import { GENESIS_HASH, hashEvent } from './audit.hash.ts'
+import { type AuditKeys, linkOf, loadAuditKeys } from './audit.key.ts'
 
 /** Who did it, from where, in which request: carried from the HTTP request down to every audit event. */
 export interface AuditContext {
@@ -19,6 +20,8 @@ export interface AuditEntry {
   after?: unknown
   reason?: string | null
   batchId?: string | null
+  /** The site the event is about; null or absent for installation-wide events. */
+  siteId?: number | null
 }
 
 // One constant advisory-lock key for the single chain.
@@ -31,7 +34,9 @@ function toJsonValue(v: unknown): unknown {
 
 /**
  * Appends events to the hash chain. Call it as the last step of the business transaction (READ COMMITTED):
- * the advisory lock it takes is held until COMMIT.
+ * the advisory lock it takes is held until COMMIT. Under that lock the events are numbered one after the head without
+ * gaps, hashed over their content, id and site and the previous hash, and linked with the audit key
+ * (`link` = HMAC-SHA256 of the hash; the key is read from AUDIT_KEY_FILE and used in this step only).
  */
 export async function appendAudit(
   trx: Transaction<Database>,
@@ -41,11 +46,19 @@ export async function appendAudit(
 ): Promise<void> {
   const list = Array.isArray(entries) ? entries : [entries]
   if (!list.length) return
+  const { linkKey } = loadAuditKeys()
   await sql`SELECT pg_advisory_xact_lock(${sql.lit(AUDIT_CHAIN_LOCK)})`.execute(trx)
-  const head = await trx.selectFrom('audit_event').select('hash').orderBy('id', 'desc').limit(1).executeTakeFirst()
+  const head = await trx
+    .selectFrom('audit_event')
+    .select(['id', 'hash'])
+    .orderBy('id', 'desc')
+    .limit(1)
+    .executeTakeFirst()
   let prevHash = head?.hash ?? GENESIS_HASH
+  let id = Number(head?.id ?? 0)
   const occurredAt = new Date(clock.now().getTime())
   const rows = list.map((e) => {
+    id++
     const content = {
       occurredAt,
       actorId: ctx.actorId,
@@ -59,10 +72,12 @@ export async function appendAudit(
       requestId: ctx.requestId,
       ip: ctx.ip,
       prevHash,
+      keyed: { id, siteId: e.siteId ?? null },
     }
     const hash = hashEvent(content)
     prevHash = hash
     return {
+      id,
       occurred_at: occurredAt,
       actor_id: content.actorId,
       action: content.action,
@@ -76,6 +91,8 @@ export async function appendAudit(
       ip: content.ip,
       prev_hash: content.prevHash,
       hash,
+      link: linkOf(hash, linkKey),
+      site_id: content.keyed.siteId,
     }
   })
   for (let i = 0; i < rows.length; i += 500) {
@@ -94,17 +111,88 @@ export async function appendAuditAlone(db: Db, clock: Clock, ctx: AuditContext, 
 export interface VerifyResult {
   ok: boolean
   checked: number
+  /** The first event concerned: the one changed or forged, or the id missing. */
   badId?: number
   problem?: string
+  /** The checkpoint file a truncation, rewrite or insertion was found against. */
+  checkpoint?: string
   headId?: number
   headHash?: string
+  /** Events before the first keyed one (written before keyed links): hash-chained only. */
+  unkeyed?: number
 }
 
-/** Walks the chain in id order, in keyset pages, and reports the first broken link. */
-export async function verifyAuditChain(db: Db, pageSize = 5000): Promise<VerifyResult> {
+/** A signed statement of the chain head at a moment (server/features/audit/audit.checkpoint.ts). */
+export interface CheckpointClaim {
+  file: string
+  headId: number
+  headHash: string
+  count: number
+  firstKeyedId: number | null
+}
+
+/**
+ * Walks the chain in id order, in keyset pages, and reports the first broken link: a changed event (its hash), a
+ * forged or rewritten one (its keyed link), a deleted one (the id missing from the keyed, gap-free numbering or the
+ * link to it broken), and, against each signed checkpoint, a truncation (the checkpoint's head is gone), a rewrite
+ * (the head has another hash) or an insertion (more events up to the head than the checkpoint counted).
+ */
+export async function verifyAuditChain(
+  db: Db,
+  opts: { keys?: AuditKeys; checkpoints?: CheckpointClaim[]; pageSize?: number } = {},
+): Promise<VerifyResult> {
+  const keys = opts.keys ?? loadAuditKeys()
+  const pageSize = opts.pageSize ?? 5000
+  const checkpoints = [...(opts.checkpoints ?? [])].sort((a, b) => a.headId - b.headId)
+  let cp = 0
   let lastId = 0
   let prev = GENESIS_HASH
   let checked = 0
+  let unkeyed = 0
+  let keyedFrom: number | null = null
+  const broken = (badId: number, problem: string, checkpoint?: string): VerifyResult => ({
+    ok: false,
+    checked,
+    badId,
+    problem,
+    ...(checkpoint ? { checkpoint } : {}),
+  })
+  /** Checks the checkpoints whose head lies before `nextId` (the next event read, or none at the end). */
+  const settle = (nextId: number | null): VerifyResult | null => {
+    while (cp < checkpoints.length && (nextId === null || checkpoints[cp].headId < nextId)) {
+      const c = checkpoints[cp]
+      if (c.headId !== lastId)
+        return nextId === null && c.headId > lastId
+          ? broken(
+              lastId + 1,
+              `events from ${lastId + 1} to ${c.headId} (checkpoint ${c.file}) are missing: truncated`,
+              c.file,
+            )
+          : broken(c.headId, `event ${c.headId}, the head of checkpoint ${c.file}, is missing (deleted)`, c.file)
+      if (c.headHash !== prev)
+        return broken(
+          c.headId,
+          `event ${c.headId} no longer has the hash checkpoint ${c.file} signed: rewritten`,
+          c.file,
+        )
+      if (c.count !== checked)
+        return broken(
+          c.headId,
+          checked > c.count
+            ? `${checked - c.count} event(s) more up to event ${c.headId} than checkpoint ${c.file} counted: inserted`
+            : `${c.count - checked} event(s) fewer up to event ${c.headId} than checkpoint ${c.file} counted: deleted`,
+          c.file,
+        )
+      if (c.firstKeyedId !== keyedFrom)
+        return broken(
+          c.firstKeyedId ?? keyedFrom ?? c.headId,
+          `keyed links began at event ${c.firstKeyedId ?? '-'} when checkpoint ${c.file} was signed, now at ${keyedFrom ?? '-'}: rewritten`,
+          c.file,
+        )
+      cp++
+    }
+    return null
+  }
   for (;;) {
     const page = await db
       .selectFrom('audit_event')
@@ -115,8 +203,23 @@ export async function verifyAuditChain(db: Db, pageSize = 5000): Promise<VerifyR
       .execute()
     if (!page.length) break
     for (const r of page) {
-      if (r.prev_hash !== prev)
-        return { ok: false, checked, badId: r.id, problem: 'prev_hash does not match the previous event' }
+      const id = Number(r.id)
+      const pending = settle(id)
+      if (pending) return pending
+      if (keyedFrom !== null && id !== lastId + 1)
+        return broken(
+          lastId + 1,
+          `event ${lastId + 1} is missing (deleted)${id > lastId + 2 ? ` up to ${id - 1}` : ''}`,
+        )
+      if (r.prev_hash !== prev) {
+        // an event taken out where numbering has gaps (before keyed links) shows as a broken link to it
+        return broken(
+          id,
+          `prev_hash does not match the previous event${keyedFrom === null ? ' (an event before it was changed or deleted)' : ''}`,
+        )
+      }
+      if (r.link === null && keyedFrom !== null)
+        return broken(id, 'event has no keyed link although the events before it have: forged or rewritten')
       const recomputed = hashEvent({
         occurredAt: r.occurred_at,
         actorId: r.actor_id,
@@ -130,12 +233,26 @@ export async function verifyAuditChain(db: Db, pageSize = 5000): Promise<VerifyR
         requestId: r.request_id,
         ip: r.ip,
         prevHash: r.prev_hash,
+        keyed: r.link === null ? undefined : { id, siteId: r.site_id },
       })
-      if (recomputed !== r.hash) return { ok: false, checked, badId: r.id, problem: 'hash does not match content' }
+      if (recomputed !== r.hash) return broken(id, 'hash does not match content')
+      if (r.link !== null) {
+        if (r.link !== linkOf(r.hash, keys.linkKey))
+          return broken(id, 'keyed link does not match: written or rewritten without the audit key')
+        keyedFrom ??= id
+      } else unkeyed++
       prev = r.hash
-      lastId = r.id
+      lastId = id
       checked++
     }
   }
-  return { ok: true, checked, headId: lastId || undefined, headHash: checked ? prev : undefined }
+  const pending = settle(null)
+  if (pending) return pending
+  return {
+    ok: true,
+    checked,
+    headId: lastId || undefined,
+    headHash: checked ? prev : undefined,
+    ...(unkeyed ? { unkeyed } : {}),
+  }
 }

@@ -7,6 +7,10 @@ import { createDb, type Db } from '../../../server/db/index.ts'
 import type { AppDeps } from '../../../server/deps.ts'
 import { seedDemo } from '../../../server/seed/demo.ts'
 
+// the run's audit key (tests/global-setup.ts), for the app and for the command-line tools the tests start
+process.env.AUDIT_KEY_FILE ??= inject('auditKeyFile')
+process.env.AUDIT_CHECKPOINT_DIR ??= `${inject('auditKeyFile')}.checkpoints`
+
 function withDb(url: string, db: string) {
   const u = new URL(url)
   u.pathname = `/${db}`

@@ -1,0 +1,173 @@
+import { sign, verify } from 'node:crypto'
+import { mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs'
+import path from 'node:path'
+import { fileURLToPath } from 'node:url'
+import canonicalize from 'canonicalize'
+import type { Clock, DueJob } from '../../clock.ts'
+import type { Db } from '../../db/index.ts'
+import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
+import { type AuditKeys, loadAuditKeys } from './audit.key.ts'
+import type { CheckpointClaim } from './audit.repository.ts'
+
+/**
+ * Signed checkpoints of the audit chain's head (docs/security.md, "Audit trail integrity"): the head's id and hash,
+ * the number of events up to it and where keyed links began, signed with the Ed25519 key of the audit key file.
+ * They are files outside PostgreSQL (AUDIT_CHECKPOINT_DIR, by default .data/audit-checkpoints/), written by the
+ * daily job and by `npm run audit:checkpoint`, and mailed to the auditors of every site, so a copy lives where the
+ * database's administrators cannot reach it.
+ */
+export interface Checkpoint {
+  version: 1
+  createdAt: string
+  headId: number
+  headHash: string
+  count: number
+  firstKeyedId: number | null
+  keyId: string
+  /** Ed25519 over the RFC 8785 canonical JSON of every other field, base64. */
+  signature: string
+}
+
+const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../..')
+
+export function checkpointDir(env: NodeJS.ProcessEnv = process.env): string {
+  return path.resolve(env.AUDIT_CHECKPOINT_DIR || path.join(root, '.data/audit-checkpoints'))
+}
+
+function signedText(c: Omit<Checkpoint, 'signature'>): Buffer {
+  const { version, createdAt, headId, headHash, count, firstKeyedId, keyId } = c
+  return Buffer.from(canonicalize({ version, createdAt, headId, headHash, count, firstKeyedId, keyId })!, 'utf8')
+}
+
+/** Reads the head in one snapshot and writes a signed checkpoint file; answers it with its file name. */
+export async function writeCheckpoint(
+  db: Db,
+  clock: Clock,
+  opts: { keys?: AuditKeys; dir?: string } = {},
+): Promise<Checkpoint & { file: string }> {
+  const keys = opts.keys ?? loadAuditKeys()
+  const dir = opts.dir ?? checkpointDir()
+  const head = await db
+    .transaction()
+    .setIsolationLevel('repeatable read')
+    .execute(async (trx) => {
+      const last = await trx
+        .selectFrom('audit_event')
+        .select(['id', 'hash'])
+        .orderBy('id', 'desc')
+        .limit(1)
+        .executeTakeFirst()
+      const agg = await trx
+        .selectFrom('audit_event')
+        .select((eb) => [
+          eb.fn.countAll<string>().as('n'),
+          eb.fn.min('id').filterWhere('link', 'is not', null).as('firstKeyed'),
+        ])
+        .executeTakeFirstOrThrow()
+      return { last, count: Number(agg.n), firstKeyed: agg.firstKeyed == null ? null : Number(agg.firstKeyed) }
+    })
+  const body: Omit<Checkpoint, 'signature'> = {
+    version: 1,
+    createdAt: clock.now().toISOString(),
+    headId: Number(head.last?.id ?? 0),
+    headHash: head.last?.hash ?? '',
+    count: head.count,
+    firstKeyedId: head.firstKeyed,
+    keyId: keys.keyId,
+  }
+  const checkpoint: Checkpoint = {
+    ...body,
+    signature: sign(null, signedText(body), keys.signingKey).toString('base64'),
+  }
+  mkdirSync(dir, { recursive: true })
+  const name = `checkpoint-${body.createdAt.replace(/[:.]/g, '-')}-${body.headId}.json`
+  writeFileSync(path.join(dir, name), `${JSON.stringify(checkpoint, null, 2)}\n`, { flag: 'wx' })
+  return { ...checkpoint, file: name }
+}
+
+/** Every checkpoint file of the folder whose signature the audit key's public half accepts; the others as problems. */
+export function readCheckpoints(opts: { keys?: AuditKeys; dir?: string } = {}): {
+  claims: CheckpointClaim[]
+  problems: string[]
+} {
+  const keys = opts.keys ?? loadAuditKeys()
+  const dir = opts.dir ?? checkpointDir()
+  let names: string[]
+  try {
+    names = readdirSync(dir).filter((n) => n.endsWith('.json'))
+  } catch {
+    names = []
+  }
+  const claims: CheckpointClaim[] = []
+  const problems: string[] = []
+  for (const file of names.sort()) {
+    let c: Checkpoint
+    try {
+      c = JSON.parse(readFileSync(path.join(dir, file), 'utf8'))
+    } catch {
+      problems.push(`checkpoint ${file} cannot be read`)
+      continue
+    }
+    let good = false
+    try {
+      good =
+        c.version === 1 &&
+        c.keyId === keys.keyId &&
+        verify(null, signedText(c), keys.publicKey, Buffer.from(String(c.signature), 'base64'))
+    } catch {
+      good = false
+    }
+    if (!good) {
+      problems.push(`checkpoint ${file} is not signed by this audit key (${keys.keyId})`)
+      continue
+    }
+    if (c.headId > 0)
+      claims.push({ file, headId: c.headId, headHash: c.headHash, count: c.count, firstKeyedId: c.firstKeyedId })
+  }
+  return { claims, problems }
+}
+
+/** Writes a checkpoint and mails it to the auditors of every site (in the outbox; delivered by the mail job). */
+export async function checkpointAndMail(db: Db, clock: Clock, opts: { keys?: AuditKeys; dir?: string } = {}) {
+  const c = await writeCheckpoint(db, clock, opts)
+  const auditors = await db
+    .selectFrom('app_user')
+    .innerJoin('role_assignment', 'role_assignment.user_id', 'app_user.id')
+    .select('app_user.email')
+    .distinct()
+    .where('role_assignment.role', '=', 'auditor')
+    .where('app_user.active', '=', true)
+    .execute()
+  const { file, ...signed } = c
+  const bodies = mailBodies([
+    `Checkpoint of the audit trail at ${c.createdAt}: head event ${c.headId}, ${c.count} events.`,
+    'Keep this message outside Limitkeeper. `npm run audit:verify` checks the trail against the checkpoint files; ' +
+      'if the copy kept there differs from this one, the trail or its checkpoints were changed.',
+    JSON.stringify(signed),
+  ])
+  await db.transaction().execute((trx) =>
+    enqueueMail(
+      trx,
+      clock,
+      auditors.map((a) => ({
+        to: a.email,
+        subject: `Audit trail checkpoint ${c.createdAt.slice(0, 10)}: head ${c.headId}`,
+        topic: 'audit_checkpoint',
+        ...bodies,
+      })),
+    ),
+  )
+  return { ...c, file, mailed: auditors.length }
+}
+
+/** The daily checkpoint job. */
+export function createAuditCheckpointJob(db: Db, clock: Clock): DueJob<{ headId: number; mailed: number }> {
+  return {
+    name: 'audit.checkpoint',
+    intervalSec: 24 * 3600,
+    async runDue() {
+      const c = await checkpointAndMail(db, clock)
+      return { headId: c.headId, mailed: c.mailed }
+    },
+  }
+}
