@@ -347,6 +347,29 @@ describe('risk erosion of safety instrumented functions (GET /api/bypass-review/
     expect(w).toMatchObject({ effective: { band: 1 }, belowTarget: true, designBelowTarget: false })
   })
 
+  it('a never-tested function counts its untested time from commissioning, else from its entry in the register', async () => {
+    await at('2027-10-01T06:00:00Z')
+    await createTripTestJob(ctx.db, ctx.config, ctx.clock).runDue(ctx.clock.now())
+    const period = '?from=2027-09-01T00:00:00Z&to=2027-10-01T00:00:00Z'
+    const before = row(await risk(period), factory.id)
+    expect(before.testStatus).toBe('never_tested')
+    // entered 3 Aug 2026 06:00 UTC, read 1 Oct 2027 06:00 UTC: 424 days = 10 176 h (by hand)
+    expect(before.actualIntervalHours!).toBeGreaterThan(10_176 - 0.1)
+    expect(before.actualIntervalHours!).toBeLessThan(10_176 + 0.1)
+    await as.engineer
+      .put(`/api/demands/assumptions/${factory.id}`, {
+        assumedDemandRatePerYear: null,
+        assumedSpuriousRatePerYear: null,
+        commissionedAt: '2026-01-01',
+        reason: 'Validation record of the heater trip',
+      })
+      .expect(200)
+    // commissioned 1 Jan 2026: 365 + 273 days and 6 h to 1 Oct 2027 06:00 = 15 318 h (by hand)
+    const after = row(await risk(period), factory.id)
+    expect(after.actualIntervalHours!).toBeGreaterThan(15_318 - 0.1)
+    expect(after.actualIntervalHours!).toBeLessThan(15_318 + 0.1)
+  })
+
   it('the same roles as the review read it; a period that ends before it starts is refused', async () => {
     for (const who of ['engineer', 'approver', 'supervisor', 'auditor'] as const)
       expect((await as[who].get('/api/bypass-review/risk')).status, who).toBe(200)

@@ -190,6 +190,7 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
       'last_full_pass',
       'test_interval_months',
       'created_at',
+      'commissioned_at',
       'protection_state',
     ])
     .where('site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
@@ -221,7 +222,8 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
       }
       const sinceLastPass = l.last_full_pass
         ? (now - new Date(`${l.last_full_pass}T00:00:00Z`).getTime()) / HOUR
-        : (now - l.created_at.getTime()) / HOUR
+        : // never tested: from commissioning (IEC 61511 validation), else from the limit's entry in the register
+          (now - (l.commissioned_at ? Date.parse(`${l.commissioned_at}T00:00:00Z`) : l.created_at.getTime())) / HOUR
       // an overdue or never-tested function has gone untested longer than designed: the interval is the time since the last pass
       const overdue = l.test_status === 'overdue' || l.test_status === 'never_tested'
       // only where the time since the last pass exceeds the designed interval does it stretch the interval
