@@ -1,3 +1,4 @@
+import { logger } from '../../logger.ts'
 import { createHash } from 'node:crypto'
 import { createReadStream } from 'node:fs'
 import { rm } from 'node:fs/promises'
@@ -286,7 +287,7 @@ export async function runJournalUpload(deps: AppDeps, id: number, ctx: AuditCont
           ? err.message
           : 'The journal could not be loaded; nothing was stored'
     if (!(err instanceof NothingUsable) && !(err instanceof Error && 'status' in err))
-      console.error(`alarm journal upload ${id}:`, err)
+      logger.error({ component: 'alarms', uploadId: id, err }, 'alarm journal upload failed')
     await repo
       .finishJournalUpload(deps.db, id, {
         status: 'failed',

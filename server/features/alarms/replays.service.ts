@@ -1,3 +1,4 @@
+import { logger } from '../../logger.ts'
 import { createHash } from 'node:crypto'
 import { createReadStream } from 'node:fs'
 import { rm } from 'node:fs/promises'
@@ -249,7 +250,8 @@ export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> 
   } catch (err) {
     const message =
       err instanceof Error && 'status' in err ? err.message : 'The process data could not be loaded; nothing was stored'
-    if (!(err instanceof Error && 'status' in err)) console.error(`process data upload ${id}:`, err)
+    if (!(err instanceof Error && 'status' in err))
+      logger.error({ component: 'alarms', uploadId: id, err }, 'process data upload failed')
     await repo
       .finishReplayUpload(deps.db, id, {
         status: 'failed',
