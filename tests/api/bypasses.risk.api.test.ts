@@ -71,7 +71,8 @@ const WORKED: Subsystem[] = [
   },
 ]
 
-// simplified equations, ../shared/reference/sif-reliability.md (ISA-TR84.00.02; IEC 61508-6 Annex B), MTTR terms omitted
+// simplified equations, ../shared/reference/sif-reliability.md (ISA-TR84.00.02; IEC 61508-6 Annex B), MTTR terms
+// omitted
 const pfd1oo1 = (lambdaDu: number, ti: number) => (lambdaDu * ti) / 2
 const pfd1oo2 = (lambdaDu: number, beta: number, ti: number) =>
   ((1 - beta) * lambdaDu * ti) ** 2 / 3 + (beta * lambdaDu * ti) / 2
@@ -269,7 +270,8 @@ describe('risk erosion of safety instrumented functions (GET /api/bypass-review/
   it("design PFDavg of the factory's subsystems, by hand with the IEC 61508-6 Annex B general forms and partial proof-test coverage", async () => {
     const r = await risk('?from=2026-08-01T00:00:00Z&to=2026-08-03T00:00:00Z')
     const f = row(r, factory.id)
-    // hidden time of an undetected failure with coverage C, interval TI and mission time T_full (reference "Partial proof testing"):
+    // hidden time of an undetected failure with coverage C, interval TI and mission time T_full (reference "Partial
+    // proof testing"):
     // C·TI/k + (1 − C)·T_full/k; 1oo1: PFD = λDU·(hidden(2) + MRT) (IEC 61508-6 Ed. 2 1oo1 form, λDD = 0)
     const TI = 12 * 730
     const T_FULL = 15 * YEAR_H
@@ -328,7 +330,8 @@ describe('risk erosion of safety instrumented functions (GET /api/bypass-review/
   })
 
   it('an overdue proof test lengthens the interval to the time since the last passing full test', async () => {
-    // due 3 Aug 2027, grace 30 days (DOMAIN.md §6 default: 10 % of the interval, at most 30 days, common practice) → overdue from 3 Sep 2027
+    // due 3 Aug 2027, grace 30 days (docs/conventions.md, "Site policies", default: 10 % of the interval, at most 30
+    // days, common practice) → overdue from 3 Sep 2027
     await at('2027-10-01T06:00:00Z')
     await createTripTestJob(ctx.db, ctx.config, ctx.clock).runDue(ctx.clock.now())
     const r = await risk('?from=2027-09-01T00:00:00Z&to=2027-10-01T00:00:00Z')

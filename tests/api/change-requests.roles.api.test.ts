@@ -55,7 +55,7 @@ async function refusedForAllBut(allowed: Who[], call: (a: ApiAgent) => Promise<R
 
 const tinyPdf = Buffer.from('%PDF-1.4\n1 0 obj << >> endobj\ntrailer << >>\n%%EOF\n', 'latin1')
 
-describe('change request: who may do what along the whole path (DOMAIN.md §2)', () => {
+describe('change request: who may do what along the whole path (docs/security.md, "Authorization")', () => {
   it('permanent change: engineer creates, edits, submits; approver approves; technician implements; engineer closes; everyone else gets 403', async () => {
     const crew = { eng: as.engineer, approvers: [as.approver], tech: as.technician }
     const { site, limit } = await buildActiveHeaterTrip(crew)

@@ -136,7 +136,7 @@ describe('demand and trip log', () => {
     expect(credited).toMatchObject({ creditedAsTest: true, creditedBy: expect.any(String) })
     // the credited demand counts as a passing full test: never tested before, now due one interval (12 months) after
     // the demand's calendar day in the site's zone (22:15 UTC on 30 May is 00:15 on 31 May in Europe/Berlin); the
-    // due date is the test day plus the interval in calendar months (docs/domain/due-dates.md, DOMAIN.md §5)
+    // due date is the test day plus the interval in calendar months (docs/domain/due-dates.md)
     expect(limit.testStatus).toBe('never_tested')
     const after = (await c.eng.get(`/api/limits/${limit.id}`).expect(200)).body
     expect(after).toMatchObject({ testStatus: 'ok', lastFullPass: '2026-05-31', testDueDate: '2027-05-31' })

@@ -7,7 +7,8 @@ import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
 
-// DOMAIN.md §2: only the safety engineer creates processes and instruments and drafts limits; every role reads the
+// docs/security.md, "Authorization": only the safety engineer creates processes and instruments and drafts limits;
+// every role reads the
 // register of its own sites. Demo accounts (server/seed/demo.ts): supervisor and operator hold their role at FHR only.
 const READERS = ['admin', 'engineer', 'approver', 'supervisor', 'technician', 'operator', 'manager', 'auditor'] as const
 const NOT_EDITORS = ['admin', 'approver', 'supervisor', 'technician', 'operator', 'manager', 'auditor'] as const

@@ -7,7 +7,8 @@ import { useTestDb } from './helpers/test-db.ts'
 const ctx = useTestDb()
 
 // Every operating-window rule of shared/domain/operating-window.ts (table in docs/domain/operating-window.md), passing
-// and failing through the API. The site policy is the default: trip-test tolerance ±0.5 % of span (DOMAIN.md §6).
+// and failing through the API. The site policy is the default: trip-test tolerance ±0.5 % of span (docs/conventions.md,
+// "Site policies").
 
 interface Finding {
   code: string
@@ -182,7 +183,7 @@ describe('operating window through the API: errors block saving (422), warnings 
     expect(await passes(i.id, { ...alarm, setpoint: 799.5 })).toEqual([])
   })
 
-  it('rule 4 DEADBAND_INTO_NORMAL (DOMAIN.md §5 deadband convention): a return point on the normal edge passes, inside it is refused', async () => {
+  it('rule 4 DEADBAND_INTO_NORMAL (docs/conventions.md deadband convention): a return point on the normal edge passes, inside it is refused', async () => {
     const i = await instrument()
     expect(await passes(i.id, { setpoint: 700, deadband: 50 })).toEqual([])
     const f = await blocked(i.id, { setpoint: 710, deadband: 60.5 }, 'DEADBAND_INTO_NORMAL')

@@ -28,7 +28,8 @@ interface Call {
 let n = 0
 const unique = () => ++n
 
-// DOMAIN.md §2: admins manage sites, areas and users; the audit trail is for admin, plant manager and auditor;
+// docs/security.md, "Authorization": admins manage sites, areas and users; the audit trail is for admin, plant manager
+// and auditor;
 // the mail outbox for admins. Every signed-in user reads their own account.
 const CALLS: Call[] = [
   { name: 'list users', method: 'get', path: () => '/api/users', allowed: ['admin'], ok: 200 },
@@ -194,7 +195,7 @@ beforeAll(async () => {
 
 const cases = CALLS.flatMap((call) => WHO.map((who) => ({ call, who, allowed: call.allowed.includes(who) })))
 
-describe("each role's foundation calls (DOMAIN.md §2)", () => {
+describe("each role's foundation calls (docs/security.md, Authorization)", () => {
   it.each(cases.filter((c) => !c.allowed).map((c) => [c.who, c.call.name, c] as const))(
     '%s may not %s: 403 and nothing written',
     async (_who, _name, { call, who }) => {
@@ -286,7 +287,8 @@ describe('role assignments', () => {
     expect(await snapshot()).toEqual(before)
   })
 
-  // Role assignments are (user, site, role) triples: an admin acts only where they hold the admin role (DOMAIN.md §2)
+  // Role assignments are (user, site, role) triples: an admin acts only where they hold the admin role
+  // (docs/security.md, "Authorization")
   describe('an admin of one site only', () => {
     let local: ApiAgent
     beforeAll(async () => {

@@ -160,7 +160,7 @@ describe('trip tests in the browser', () => {
 
     await page.locator('[data-test="limit-summary"]').waitFor()
     expect(await page.locator('[data-test="limit-setpoint"]').textContent()).toContain('800 °C')
-    // default tolerance ± 0.5 % of the 1200 °C span = ± 6 °C (DOMAIN.md §6)
+    // default tolerance ± 0.5 % of the 1200 °C span = ± 6 °C (docs/conventions.md, "Site policies")
     expect(await page.locator('[data-test="limit-tolerance"]').textContent()).toContain('± 6 °C')
     expect(await page.locator('[data-test="safety-notice"]').count()).toBe(1)
     expect(await page.locator('[data-test="test-signal-caution"]').textContent()).toContain("plant's test procedure")

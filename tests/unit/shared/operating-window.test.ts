@@ -10,7 +10,7 @@ import {
 
 // Fixture: a pressure instrument 0–100 bar, normal range 20–60, design limits 0–90, transmitter burnout upscale.
 // The limit under test is a high trip at 80 bar with a 2 bar deadband; the instrument also carries a high alarm at 70.
-// Default tolerance (site policy, DOMAIN.md §6) is ±0.5 % of span = ±0.5 bar.
+// Default tolerance (site policy, docs/conventions.md) is ±0.5 % of span = ±0.5 bar.
 const instrument: WindowInstrumentInput = {
   rangeLow: 0,
   rangeHigh: 100,
@@ -89,7 +89,8 @@ describe('checkOperatingWindow', () => {
     expect(errorCodes(run({}, { rangeLow, rangeHigh })).includes('RANGE_INVALID')).toBe(flagged)
   })
 
-  // Window nesting, sensor range outermost (DOMAIN.md §1, operating-window term after API RP 584): range ends included
+  // Window nesting, sensor range outermost (docs/domain/operating-window.md, operating-window term after API RP 584):
+  // range ends included
   it.each<[number, boolean]>([
     [100, false],
     [100.1, true],
@@ -134,7 +135,8 @@ describe('checkOperatingWindow', () => {
     expect(warningCodes(run({ setpoint: 101 })).includes('SETPOINT_NEAR_RANGE_END')).toBe(false)
   })
 
-  // Window nesting (DOMAIN.md §1): alarm and trip beyond the normal range, strictly (PV ≥ SP activates, DOMAIN.md §5,
+  // Window nesting (docs/domain/operating-window.md): alarm and trip beyond the normal range, strictly (PV ≥ SP
+  // activates, docs/conventions.md "Activation and return",
   // so a high setpoint equal to normal high would act inside normal operation)
   it.each<[string, Partial<WindowLimitInput>, Partial<WindowInstrumentInput>, boolean]>([
     ['high at normal high', { setpoint: 60, deadband: 0 }, {}, true],
@@ -146,7 +148,8 @@ describe('checkOperatingWindow', () => {
     expect(errorCodes(run(limit, inst, [])).includes('SETPOINT_NOT_BEYOND_NORMAL')).toBe(flagged)
   })
 
-  // Window nesting (DOMAIN.md §1): trip ⊃ alarm, i.e. a high trip strictly above every high alarm, mirrored for low
+  // Window nesting (docs/domain/operating-window.md): trip ⊃ alarm, i.e. a high trip strictly above every high alarm,
+  // mirrored for low
   it.each<[string, Partial<WindowLimitInput>, WindowSiblingInput[], WindowFindingCode | null]>([
     ['high trip above the alarm', {}, [{ ...highAlarm, setpoint: 79.9 }], null],
     ['high trip equal to the alarm', {}, [{ ...highAlarm, setpoint: 80 }], 'TRIP_NOT_BEYOND_ALARM'],
@@ -197,8 +200,9 @@ describe('checkOperatingWindow', () => {
     expect(r.errors.find((f) => f.code === 'TRIP_NOT_BEYOND_ALARM')?.message).toContain('PAH-101')
   })
 
-  // Deadband convention DOMAIN.md §5 / ISA-18.2 via ../shared/reference/alarm-management.md: a high limit returns when
-  // PV < SP − DB. The return threshold must lie at or above normal high (mirrored for low); % span converts via the span.
+  // Deadband convention docs/conventions.md "Activation and return" / ISA-18.2: a high limit returns when
+  // PV < SP − DB. The return threshold must lie at or above normal high (mirrored for low); % span converts via the
+  // span.
   it.each<[string, Partial<WindowLimitInput>, Partial<WindowInstrumentInput>, boolean]>([
     ['high, return point at normal high', { deadband: 20 }, {}, false],
     ['high, return point inside normal', { deadband: 20.1 }, {}, true],
@@ -223,7 +227,7 @@ describe('checkOperatingWindow', () => {
     if (flagged) expect(r.errors.find((f) => f.code === 'DEADBAND_INTO_NORMAL')?.field).toBe('deadband')
   })
 
-  // Window nesting (DOMAIN.md §1): sensor range ⊃ design limit; range ends included
+  // Window nesting (docs/domain/operating-window.md): sensor range ⊃ design limit; range ends included
   it.each<[Partial<WindowInstrumentInput>, number]>([
     [{ designHigh: 100 }, 0],
     [{ designHigh: 100.1 }, 1],
@@ -237,7 +241,8 @@ describe('checkOperatingWindow', () => {
     ).toHaveLength(count)
   })
 
-  // Window nesting (DOMAIN.md §1): design limit ⊃ trip; a high limit acting at (PV ≥) the design value is flagged
+  // Window nesting (docs/domain/operating-window.md): design limit ⊃ trip; a high limit acting at (PV ≥) the design
+  // value is flagged
   it.each<[string, Partial<WindowLimitInput>, Partial<WindowInstrumentInput>, boolean]>([
     ['high trip below design high', {}, { designHigh: 80.1 }, false],
     ['high trip at design high', {}, { designHigh: 80 }, true],
@@ -247,7 +252,8 @@ describe('checkOperatingWindow', () => {
     expect(warningCodes(run(limit, inst, [])).includes('SETPOINT_BEYOND_DESIGN_LIMIT')).toBe(flagged)
   })
 
-  // Analytical limit: the value the trip must act before (IEC 61511 / ISA-TR84 term, DOMAIN.md §1); with the default
+  // Analytical limit: the value the trip must act before (IEC 61511 / ISA-TR84 term, docs/domain/operating-window.md);
+  // with the default
   // tolerance ±0.5 % of span = 0.5 bar: high trip 80 needs AL ≥ 80.5, low trip 10 needs AL ≤ 9.5.
   it.each<[string, Partial<WindowLimitInput>, number | undefined, boolean]>([
     ['high, AL at setpoint + tolerance', { analyticalLimit: 80.5 }, undefined, false],
@@ -262,7 +268,8 @@ describe('checkOperatingWindow', () => {
     expect(errorCodes(run(limit, {}, [], tol)).includes('TRIP_TOLERANCE_BEYOND_ANALYTICAL')).toBe(flagged)
   })
 
-  // Process safety time (IEC 61511 / ISA-TR84 term, DOMAIN.md §1): on-delay + required response time ≤ PST, end included
+  // Process safety time (IEC 61511 / ISA-TR84 term, docs/domain/operating-window.md): on-delay + required response time
+  // ≤ PST, end included
   it.each<[Partial<WindowLimitInput>, boolean]>([
     [{ onDelaySec: 0, requiredResponseTimeSec: 10 }, false],
     [{ onDelaySec: 0, requiredResponseTimeSec: 10.1 }, true],
@@ -325,7 +332,8 @@ describe('checkOperatingWindow', () => {
     if (flagged) expect(r.errors.find((f) => f.code === 'DUPLICATE_SETPOINT')?.message).toContain('PSHH-101B')
   })
 
-  // Exact comparison (DOMAIN.md §5: numbers stored as numeric and compared exactly). In binary floats
+  // Exact comparison (docs/conventions.md "Exact numbers": numbers stored as numeric and compared exactly). In binary
+  // floats
   // 80.1 − 20 = 60.099999999999994 < 60.1 would raise a false DEADBAND_INTO_NORMAL.
   it.each<[string, Partial<WindowLimitInput>, Partial<WindowInstrumentInput>, WindowFindingCode[]]>([
     ['deadband return point exactly at normal high', { setpoint: 80.1, deadband: 20 }, { normalHigh: 60.1 }, []],

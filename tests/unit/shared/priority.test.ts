@@ -38,7 +38,7 @@ describe('derivePriority, default matrix', () => {
     expect(result.row).toBe(severity)
   })
 
-  // Column edges: lower bound inclusive, upper exclusive ("3 to < 10"), DOMAIN.md §6
+  // Column edges: lower bound inclusive, upper exclusive ("3 to < 10"), docs/conventions.md "Alarm priority matrix"
   it.each<[number, number, string]>([
     [0, 0, '< 3 min'],
     [2.999, 0, '< 3 min'],

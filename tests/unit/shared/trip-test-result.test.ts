@@ -2,7 +2,8 @@ import { describe, expect, it } from 'vitest'
 import { judgeAsFound, judgeAsLeft, judgeTripTest, toleranceInEu } from '../../../shared/domain/trip-test-result.ts'
 
 // The safe/dangerous side of an as-found deviation: a high trip that acts above its setpoint acts late (dangerous),
-// below it acts early (safe, spurious). Common practice; ../shared/reference/test-acceptance.md ("safe vs dangerous direction").
+// below it acts early (safe, spurious). Common practice; ../shared/reference/test-acceptance.md ("safe vs dangerous
+// direction").
 describe('judgeAsFound', () => {
   it.each([
     // direction, setpoint, tolerance, asFound, expected
@@ -53,7 +54,7 @@ describe('judgeTripTest', () => {
     const j = judgeTripTest({ ...base, asFound: 770, asLeft: 779.5 })
     expect(j).toMatchObject({ asFoundResult: 'out_safe', asLeftResult: 'in_tolerance', passed: true })
   })
-  it('fails a dangerous as-found even when adjusted back (DOMAIN.md §4: degraded until a later full test passes)', () => {
+  it('fails a dangerous as-found even when adjusted back (docs/trip-tests.md: degraded until a later full test passes)', () => {
     const j = judgeTripTest({ ...base, asFound: 790, asLeft: 780 })
     expect(j.passed).toBe(false)
     expect(j.asFoundResult).toBe('out_dangerous')
@@ -68,7 +69,7 @@ describe('judgeTripTest', () => {
 })
 
 describe('toleranceInEu', () => {
-  // ±0.5 % of a 0–1200 °C span is ±6 °C (DOMAIN.md §6 default trip-test tolerance)
+  // ±0.5 % of a 0–1200 °C span is ±6 °C (docs/conventions.md "Site policies": default trip-test tolerance)
   it('converts percent of span and keeps engineering units', () => {
     expect(toleranceInEu(0.5, 'percent_span', 0, 1200)).toBeCloseTo(6, 12)
     expect(toleranceInEu(0.5, 'percent_span', -50, 150)).toBeCloseTo(1, 12)
