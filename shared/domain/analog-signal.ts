@@ -2,7 +2,7 @@ import { OutOfRangeError } from './errors.ts'
 
 /**
  * Analog process signals: 4–20 mA live-zero current (linear or square-root), voltage signals, shunt voltage and
- * the NAMUR NE 43 signal bands. Formulas and bands from ../shared/reference/analog-signals.md.
+ * the NAMUR NE 43 signal bands. Formulas: linear and square-root scaling; bands: NAMUR NE 43.
  */
 
 /** Live zero of the current signal, mA. */

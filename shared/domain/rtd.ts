@@ -2,7 +2,7 @@ import { OutOfRangeError } from './errors.ts'
 
 /**
  * IEC 60751 platinum resistance thermometers (α = 0.00385), Callendar–Van Dusen equation.
- * Constants from ../shared/reference/rtd.md [IEC 60751, CVD-pages].
+ * Constants from IEC 60751 (Callendar–Van Dusen).
  */
 
 /** Callendar–Van Dusen A in °C⁻¹ (IEC 60751). */

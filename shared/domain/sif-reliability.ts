@@ -1,6 +1,6 @@
 // Average probability of failure on demand (PFDavg) of a safety instrumented function, low-demand mode.
-// Equations: IEC 61508-6 Annex B (Ed. 2 group-time forms) and the simplified forms of ISA-TR84.00.02, as given in
-// shared/reference/sif-reliability.md; formulas, extensions and edges: docs/domain/sif-reliability.md.
+// Equations: IEC 61508-6 Annex B (Ed. 2 group-time forms) and the simplified forms of ISA-TR84.00.02, as written out in
+// docs/domain/sif-reliability.md; formulas, extensions and edges: docs/domain/sif-reliability.md.
 // Estimates from entered data: hardware fault tolerance and systematic capability are not assessed here.
 import { intervalHours } from './due-dates.ts'
 

@@ -3,7 +3,7 @@ import { OutOfRangeError } from './errors.ts'
 /**
  * ITS-90 thermocouple reference functions (reference junction 0 °C) for the letter-designated types.
  * Coefficients: NIST SRD 60 / NIST Monograph 175 (same functions as IEC 60584-1), transcribed from
- * ../shared/reference/thermocouples.md. E in mV, t in °C (t90).
+ * NIST SRD 60 (ITS-90 thermocouple database) and NIST Monograph 175. E in mV, t in °C (t90).
  *
  * Inverse: the NIST inverse polynomial gives the starting value; a bracketed Newton iteration on the forward
  * function then refines it, so t(E(t)) = t to far better than 0.001 °C. The inverse covers the whole forward range
@@ -39,7 +39,7 @@ interface TcDefinition {
   inverse: readonly InversePiece[]
 }
 
-// Coefficient tables: NIST SRD 60 allcoeff.tab via ../shared/reference/thermocouples.md (copied digit for digit).
+// Coefficient tables: NIST SRD 60 allcoeff.tab (copied digit for digit).
 // R and S inverse sub-ranges overlap; eHigh here is the E boundary NIST uses to choose between them
 // (R: 1.923 / 11.361 / 19.739 mV; S: 1.874 / 10.332 / 17.536 mV).
 const TABLES: Record<TcType, TcDefinition> = {

@@ -34,7 +34,7 @@ async function at(iso: string) {
 }
 
 /**
- * ../shared/reference/sif-reliability.md "Whole-SIF example": sensors 1oo2 (λDU 5e−7, β 0.1) 2.2418e−4 + logic solver
+ * Whole-SIF worked example (simplified equations of IEC 61508-6 Annex B / ISA-TR84.00.02): sensors 1oo2 (λDU 5e−7, β 0.1) 2.2418e−4 + logic solver
  * 1.0e−4 (given; here a 1oo1 with λDU = 2·1e−4/8 760 h) + valve 1oo1 (λDU 2e−6) 8.7600e−3 = 9.0842e−3 → SIL 2, RRF 110.1.
  * MTTR 0 and full proof-test coverage, so the simplified equations apply exactly; proof test yearly (12 × 730 h = 8 760 h).
  */
@@ -71,7 +71,7 @@ const WORKED: Subsystem[] = [
   },
 ]
 
-// simplified equations, ../shared/reference/sif-reliability.md (ISA-TR84.00.02; IEC 61508-6 Annex B), MTTR terms
+// simplified equations (ISA-TR84.00.02; IEC 61508-6 Annex B), MTTR terms
 // omitted
 const pfd1oo1 = (lambdaDu: number, ti: number) => (lambdaDu * ti) / 2
 const pfd1oo2 = (lambdaDu: number, beta: number, ti: number) =>
@@ -244,7 +244,7 @@ beforeAll(async () => {
 }, 240_000)
 
 describe('risk erosion of safety instrumented functions (GET /api/bypass-review/risk)', () => {
-  it('design PFDavg: the sum of the subsystems, equal to the published worked example (../shared/reference/sif-reliability.md "Whole-SIF example")', async () => {
+  it('design PFDavg: the sum of the subsystems, equal to the published worked example (whole-SIF example, IEC 61508-6 Annex B simplified equations)', async () => {
     const r = await risk('?from=2026-08-01T00:00:00Z&to=2026-08-03T00:00:00Z')
     const w = row(r, worked.limit.id)
     expect(w.design.pfd).toBe(sifPfd(WORKED))

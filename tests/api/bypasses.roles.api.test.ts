@@ -137,7 +137,7 @@ describe('bypass: who may do what (docs/bypasses.md#rules)', () => {
       a.post(`/api/bypasses/${ids.op}/authorizations`, { password: PW }),
     )
 
-    // separation of duties (common practice; ../shared/reference/sif-reliability.md "authorisation by a competent person other than the requester")
+    // separation of duties (common practice: authorisation by a competent person other than the requester)
     const before = await written()
     const own = await as.supervisor.post(`/api/bypasses/${ids.sup}/authorizations`, { password: PW }).expect(403)
     expect(own.body.error.code).toBe('FORBIDDEN')

@@ -6,7 +6,7 @@ import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
 // The server converts an as-found reading in signal units into engineering units before judging it. Each check names
-// the published value it compares with (../shared/reference/rtd.md, analog-signals.md, thermocouples.md).
+// the published value it compares with (IEC 60751, the 4–20 mA scaling relations, NIST SRD 60 ITS-90 tables).
 
 const ctx = useTestDb()
 let app: Express
@@ -103,7 +103,7 @@ beforeAll(async () => {
   area = ((await eng.get(`/api/areas?siteId=${fhr.id}`).expect(200)).body.items as { id: number }[])[0].id
 })
 
-describe('platinum RTD readings (IEC 60751, Callendar–Van Dusen; table in ../shared/reference/rtd.md)', () => {
+describe('platinum RTD readings (IEC 60751, Callendar–Van Dusen table)', () => {
   const pt = (element: 'Pt100' | 'Pt1000', rangeLow: number, rangeHigh: number) => ({
     measuredVariable: 'temperature',
     unit: '°C',
@@ -149,7 +149,7 @@ describe('platinum RTD readings (IEC 60751, Callendar–Van Dusen; table in ../s
   })
 })
 
-describe('4–20 mA readings (linear and square-root scaling; tables in ../shared/reference/analog-signals.md)', () => {
+describe('4–20 mA readings (linear and square-root scaling; NAMUR NE 43 bands)', () => {
   const loop = (unit: string, rangeLow: number, rangeHigh: number, sqrtExtraction = false, variable = 'pressure') => ({
     measuredVariable: variable,
     unit,
@@ -237,7 +237,7 @@ describe('4–20 mA readings (linear and square-root scaling; tables in ../share
   })
 })
 
-describe('thermocouple readings in millivolts (ITS-90; ../shared/reference/thermocouples.md)', () => {
+describe('thermocouple readings in millivolts (ITS-90; NIST SRD 60 tables)', () => {
   it('type K at 800 °C with the terminals at 25 °C: inject 32.275 mV; the same mV reads back as 800 °C', async () => {
     const id = await activeTrip(
       {

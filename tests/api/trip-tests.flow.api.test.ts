@@ -41,7 +41,7 @@ describe('trip tests: a failed test degrades the limit until a full retest passe
     await eng.post('/api/trip-tests', { ...base, asFound: 781 }).expect(403)
 
     // as found in signal units, mV-source mode with the cold junction at 25 °C: E(800 °C) − E(25 °C) = 33.2754 − 1.0002 mV
-    // (ITS-90 type K, NIST SRD 60 via ../shared/reference/thermocouples.md) → it tripped at 800 °C, 20 °C late
+    // (ITS-90 type K, NIST SRD 60) → it tripped at 800 °C, 20 °C late
     const failed = (
       await tech.post('/api/trip-tests', { ...base, asFoundSignal: { value: 32.2752, unit: 'mV' } }).expect(201)
     ).body

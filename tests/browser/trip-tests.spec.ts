@@ -166,7 +166,7 @@ describe('trip tests in the browser', () => {
     expect(await page.locator('[data-test="test-signal-caution"]').textContent()).toContain("plant's test procedure")
 
     // the millivolt source value: E(800 °C) − E(25 °C) = 33.2754 − 1.0002 = 32.2752 mV
-    // (type K, ITS-90 table values from NIST SRD 60 in ../shared/reference/thermocouples.md), shown to 0.001 mV
+    // (type K, ITS-90 table values from NIST SRD 60), shown to 0.001 mV
     await page.locator('[data-test="test-signal-waiting"]').waitFor()
     await field(page, 'test-signal-cold-junction').fill('25')
     const value = page.locator('[data-test="test-signal-value"]')

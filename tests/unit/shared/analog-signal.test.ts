@@ -16,8 +16,8 @@ import {
 } from '../../../shared/domain/analog-signal.ts'
 import { OutOfRangeError } from '../../../shared/domain/errors.ts'
 
-// Source of the check values: ../shared/reference/analog-signals.md (linear scaling, square-root extraction and
-// NAMUR NE 43 tables; values computed there from the stated formulas).
+// Source of the check values: tables of linear scaling and square-root extraction (values computed independently of this code from
+// the standard 4–20 mA relations) and the NAMUR NE 43 signal bands.
 
 describe('4–20 mA linear scaling', () => {
   // [mA, LRV, URV, PV, % span] — analog-signals.md "Linear scaling" table

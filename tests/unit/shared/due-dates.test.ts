@@ -26,7 +26,7 @@ function due(overrides: Partial<DueDateInput>) {
 
 describe('intervalHours', () => {
   // docs/domain/due-dates.md: 1 month = 730 h; 12 months = 8 760 h = 1 year and 3 months = 2 190 h as used in
-  // ../shared/reference/sif-reliability.md (1oo1 variants table)
+  // IEC 61508-6 Annex B (1oo1 variants table)
   it.each([
     [1, 730],
     [3, 2190],
@@ -68,7 +68,7 @@ describe('defaultGraceDays', () => {
 })
 
 describe('computeDueDates: calendar months with month-end clamping', () => {
-  // Check values: ../shared/reference/test-acceptance.md, "Interval bookkeeping conventions" (computed there);
+  // Check values: interval bookkeeping by calendar months with month-end clamping (common practice; the dates counted on a calendar);
   // the 2024-01-31 row follows from the same clamping rule (computed here by hand: 2024 is a leap year).
   it.each<[string, number, string]>([
     ['2024-03-15', 12, '2025-03-15'],
@@ -174,7 +174,7 @@ describe('computeDueDates: history rules', () => {
   })
 
   // docs/domain/due-dates.md: a test done inside the grace period is reported as late; the next due date counts from the late
-  // test (common practice, ../shared/reference/test-acceptance.md: "a late test shifts the next due date").
+  // test (common practice: a late test shifts the next due date).
   // Due 2025-03-15, grace 30 → grace end 2025-04-14.
   it.each<[string, boolean, number | null, boolean | null]>([
     ['2025-03-15', false, null, null],

@@ -282,7 +282,7 @@ describe('checkOperatingWindow', () => {
     expect(errorCodes(r).includes('RESPONSE_EXCEEDS_SAFETY_TIME')).toBe(flagged)
   })
 
-  // Fail-safe on sensor failure (EN 14597 / NFPA 86 limiter requirement 6, via ../shared/reference/limiters.md):
+  // Fail-safe on sensor failure (EN 14597 / NFPA 86 limiter requirement, from memory):
   // burnout away from the trip with no bad-value trip leaves the function blind to a sensor failure.
   it.each<[string, Partial<WindowLimitInput>, WindowInstrumentInput['burnout'], boolean]>([
     ['high trip, downscale', {}, 'downscale', true],
@@ -297,7 +297,7 @@ describe('checkOperatingWindow', () => {
     expect(warningCodes(run(limit, { burnout }, [])).includes('BURNOUT_AWAY_FROM_TRIP')).toBe(flagged)
   })
 
-  // Common practice (alarm delays per ISA-18.2 via ../shared/reference/alarm-management.md are an alarm feature;
+  // Common practice (alarm delays per ISA-18.2 are an alarm feature;
   // a delay on a trip spends process safety time)
   it.each<[Partial<WindowLimitInput>, boolean]>([
     [{ onDelaySec: 0 }, false],

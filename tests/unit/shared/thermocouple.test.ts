@@ -13,11 +13,11 @@ import {
 } from '../../../shared/domain/thermocouple.ts'
 
 // Source of every value below unless a line says otherwise: ITS-90 reference functions and tables,
-// NIST SRD 60 / NIST Monograph 175, via ../shared/reference/thermocouples.md ("Check values" sections).
+// NIST SRD 60 / NIST Monograph 175 table values.
 
 describe('thermocouple forward function E(t), reference junction 0 °C', () => {
   // [type, t °C, E computed from the coefficients (4 dp), NIST table value (3 dp)]
-  // NIST SRD 60 via ../shared/reference/thermocouples.md, "Check values — forward function".
+  // NIST SRD 60 table values (forward function).
   // Tolerances as stated there: ±0.0005 mV against the 3-dp table (table rounding); the 4-dp column is itself
   // rounded, so it is checked to half a unit of its last digit (±0.00005 mV).
   it.each([
@@ -373,7 +373,7 @@ describe('type B low end', () => {
 })
 
 describe('range ends, table rounding and the cold junction', () => {
-  // NIST ITS-90 type K table (via ../shared/reference/thermocouples.md): −270 °C = −6.458 mV, printed to 0.001 mV;
+  // NIST ITS-90 type K table: −270 °C = −6.458 mV, printed to 0.001 mV;
   // the reference function gives −6.4577 mV there. A table value within half the printed step of the range end is
   // accepted and clamped to the end.
   it('reads the rounded table value −6.458 mV as −270 °C (type K)', () => {

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest'
 import { judgeAsFound, judgeAsLeft, judgeTripTest, toleranceInEu } from '../../../shared/domain/trip-test-result.ts'
 
 // The safe/dangerous side of an as-found deviation: a high trip that acts above its setpoint acts late (dangerous),
-// below it acts early (safe, spurious). Common practice; ../shared/reference/test-acceptance.md ("safe vs dangerous
+// below it acts early (safe, spurious). Common practice ("safe vs dangerous
 // direction").
 describe('judgeAsFound', () => {
   it.each([
