@@ -24,6 +24,8 @@ const EnvSchema = z.object({
   SMTP_PASS: z.string().optional(),
   MAIL_FROM: z.string().default('Limitkeeper <limitkeeper@localhost>'),
   JOB_POLL_SECONDS: z.coerce.number().positive().default(5),
+  // how long a job's lease lasts unless renewed (renewed every third of it): a crashed instance holds a job this long
+  JOB_LEASE_SECONDS: z.coerce.number().min(3).max(600).default(30),
   ALARM_UPLOAD_MAX_MB: z.coerce.number().positive().default(2048),
 })
 

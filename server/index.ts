@@ -24,8 +24,13 @@ export async function startServer(
   const clock = opts.clock ?? (config.NODE_ENV === 'test' ? new AdjustableClock() : systemClock)
   const { db, pool } = createDb(config.DATABASE_URL, 20)
   const app = createApp({ db, pool, clock, config })
-  const scheduler = new JobScheduler(db, clock, createJobs(db, config, clock), (m) =>
-    logger.error({ component: 'jobs' }, m),
+  const leaseMs = config.JOB_LEASE_SECONDS * 1000
+  const scheduler = new JobScheduler(
+    db,
+    clock,
+    createJobs(db, config, clock),
+    (m) => logger.error({ component: 'jobs' }, m),
+    { leaseMs, renewMs: Math.round(leaseMs / 3) },
   )
   if (opts.runJobs !== false) {
     await scheduler.register()

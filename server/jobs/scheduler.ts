@@ -60,7 +60,14 @@ export class JobScheduler {
         clearInterval(renew)
       }
       logger.info(
-        { component: 'jobs', job: job.name, ms: Date.now() - t0, ok: !lastError, result: result ?? undefined },
+        {
+          component: 'jobs',
+          job: job.name,
+          dueAt: now.toISOString(),
+          ms: Date.now() - t0,
+          ok: !lastError,
+          result: result ?? undefined,
+        },
         'job run',
       )
       await repo.finishJob(this.db, job.name, this.owner, {
