@@ -17,3 +17,12 @@ export function unneutraliseCell(text: string): string {
 export function toCsv(data: Papa.UnparseObject<unknown[]> | Record<string, unknown>[]): string {
   return `\uFEFF${Papa.unparse(data as never, { escapeFormulae: FORMULA_CELL })}`
 }
+
+/**
+ * One part of a CSV written in pieces (an export read in pages): the BOM and the header row with the first part, rows
+ * only after it; each part ends with a line break. Cells are neutralised as in toCsv.
+ */
+export function csvPart(fields: string[], rows: unknown[][], first: boolean): string {
+  const text = Papa.unparse({ fields, data: rows }, { escapeFormulae: FORMULA_CELL, header: first })
+  return `${first ? '\uFEFF' : ''}${text}${text ? '\r\n' : ''}`
+}

@@ -2,9 +2,8 @@
 // every signed checkpoint, and reports the first problem with the event and checkpoint concerned (exit 1 when broken).
 import { createDb } from '../db/index.ts'
 import { localAppUrl } from '../db/local.ts'
-import { checkpointDir, readCheckpoints } from '../features/audit/audit.checkpoint.ts'
-import { loadAuditKeys } from '../features/audit/audit.key.ts'
-import { verifyAuditChain } from '../features/audit/audit.repository.ts'
+import { checkpointDir } from '../features/audit/audit.checkpoint.ts'
+import { verifyTrail } from '../features/audit/audit.verify.ts'
 
 const out = (line: string) => process.stdout.write(`${line}\n`)
 
@@ -12,18 +11,14 @@ const out = (line: string) => process.stdout.write(`${line}\n`)
 const url = process.env.DATABASE_URL ?? localAppUrl()
 const { db } = createDb(url, 2)
 try {
-  const keys = loadAuditKeys()
-  const { claims, problems } = readCheckpoints({ keys })
-  const t0 = Date.now()
-  const r = await verifyAuditChain(db, { keys, checkpoints: claims })
-  const secs = ((Date.now() - t0) / 1000).toFixed(2)
-  for (const p of problems) out(`Checkpoint problem: ${p}`)
-  if (r.ok) {
+  const r = await verifyTrail(db)
+  for (const p of r.checkpointProblems) out(`Checkpoint problem: ${p}`)
+  if (r.badId === null) {
     out(
-      `Audit trail intact: ${r.checked} events checked in ${secs} s against ${claims.length} checkpoint(s) in ${checkpointDir()}; head id ${r.headId ?? '-'} hash ${r.headHash ?? '-'}`,
+      `Audit trail intact: ${r.checked} events checked in ${r.seconds.toFixed(2)} s against ${r.checkpoints} checkpoint(s) in ${checkpointDir()}; head id ${r.headId ?? '-'} hash ${r.headHash ?? '-'}`,
     )
     if (r.unkeyed) out(`${r.unkeyed} event(s) from before keyed links are hash-chained only.`)
-    if (problems.length) process.exitCode = 1
+    if (!r.ok) process.exitCode = 1
   } else {
     out(
       `Audit trail BROKEN at event ${r.badId}: ${r.problem} (${r.checked} events before it are intact)${r.checkpoint ? ` [checkpoint ${r.checkpoint}]` : ''}`,

@@ -90,6 +90,11 @@ export interface AuditEventTable {
   /** The site the event is about; null for installation-wide events (sign-in, accounts without a site). */
   site_id: number | null
 }
+/** The derived site of an event written before events carried their site (read-only for the app). */
+export interface AuditEventSiteTable {
+  event_id: number
+  site_id: number
+}
 export interface MailOutboxTable {
   id: Generated<number>
   to_addr: string
@@ -664,6 +669,7 @@ export interface Database {
   role_assignment: RoleAssignmentTable
   sign_in_attempt: SignInAttemptTable
   audit_event: AuditEventTable
+  audit_event_site: AuditEventSiteTable
   mail_outbox: MailOutboxTable
   job_schedule: JobScheduleTable
   sign_in_throttle: SignInThrottleTable

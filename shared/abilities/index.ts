@@ -26,6 +26,7 @@ export type Action =
   | 'credit'
   | 'hand_over'
   | 'reconcile'
+  | 'verify'
 
 /** Subjects: PascalCase singular. Site-scoped subjects carry `siteId` (a Site carries `id`). */
 export type SubjectName =
@@ -97,7 +98,11 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
     cannot('assign_roles', 'User', { id: user.id }).because('Nobody can change their own roles')
     can('read', 'Mail')
   }
-  if (has('admin', 'plant_manager', 'auditor')) can('read', 'AuditEvent')
+  // the audit trail of the sites where one is administrator, plant manager or auditor (docs/security.md, "Whose events
+  // a reader sees"; the list's query applies the same scope); running the chain verifier is for auditors and admins
+  const auditReader = sitesWith('admin', 'plant_manager', 'auditor')
+  if (auditReader.length) can('read', 'AuditEvent', { siteId: { $in: auditReader } })
+  if (has('admin', 'auditor')) can('verify', 'AuditEvent')
 
   const engineer = sitesWith('safety_engineer')
   if (engineer.length) {

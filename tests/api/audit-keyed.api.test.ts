@@ -71,7 +71,7 @@ beforeAll(async () => {
   su = new pg.Client({ connectionString: ctx.database.superUrl })
   await su.connect()
   for (let i = 0; i < 12; i++)
-    await appendAuditAlone(ctx.db, ctx.clock, noActor, { action: 'test.event', entityType: 'Test', entityId: i })
+    await appendAuditAlone(ctx.db, ctx.clock, noActor, { action: 'test.event', entityType: 'System', entityId: i })
 })
 afterAll(async () => {
   await su?.end()

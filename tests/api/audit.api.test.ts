@@ -251,7 +251,7 @@ describe('audit events', () => {
       ctx.db
         .transaction()
         .execute((trx) =>
-          appendAudit(trx, ctx.clock, noActor, { action: 'test.nul', entityType: 'X', after: { s: 'a\u0000b' } }),
+          appendAudit(trx, ctx.clock, noActor, { action: 'test.nul', entityType: 'System', after: { s: 'a\u0000b' } }),
         ),
     ).rejects.toMatchObject({ code: '22P05' })
     expect(await ctx.db.selectFrom('audit_event').select('id').where('action', '=', 'test.nul').execute()).toEqual([])
@@ -283,7 +283,7 @@ describe('the hash chain', () => {
               trx,
               ctx.clock,
               { actorId: null, requestId: `writer-${w}`, ip: null },
-              { action: 'test.concurrent', entityType: 'Writer', entityId: `${w}-${i}`, after: { w, i } },
+              { action: 'test.concurrent', entityType: 'System', entityId: `${w}-${i}`, after: { w, i } },
             )
           }
         }),

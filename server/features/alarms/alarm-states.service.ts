@@ -90,6 +90,7 @@ export async function startAlarmState(
     signer = await verifySignaturePassword(deps, user.id, input.password, ctx, {
       entityType: 'alarm_state',
       entityId: input.tag,
+      siteId: input.siteId,
     })
   const now = deps.clock.now()
   const until = new Date(now.getTime() + input.hours * 3_600_000)

@@ -4,6 +4,8 @@ import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
 import { GENESIS_HASH, hashEvent } from './audit.hash.ts'
 import { type AuditKeys, linkOf, loadAuditKeys } from './audit.key.ts'
+import { type AuditEntityType, resolveAuditSites } from './audit.sites.ts'
+import { likeEscape } from '../../authorize.ts'
 
 /** Who did it, from where, in which request: carried from the HTTP request down to every audit event. */
 export interface AuditContext {
@@ -14,13 +16,16 @@ export interface AuditContext {
 
 export interface AuditEntry {
   action: string
-  entityType: string
+  entityType: AuditEntityType
   entityId?: string | number | null
   before?: unknown
   after?: unknown
   reason?: string | null
   batchId?: string | null
-  /** The site the event is about; null or absent for installation-wide events. */
+  /**
+   * The site the event is about; null for an installation-wide event. When absent, the site is the entity's
+   * (server/features/audit/audit.sites.ts).
+   */
   siteId?: number | null
 }
 
@@ -47,6 +52,16 @@ export async function appendAudit(
   const list = Array.isArray(entries) ? entries : [entries]
   if (!list.length) return
   const { linkKey } = loadAuditKeys()
+  // the entity's site is read before the chain's lock, so the lock is held for the append only
+  const sites = await resolveAuditSites(
+    trx,
+    list.map((e) => ({
+      entityType: e.entityType,
+      entityId: e.entityId == null ? null : String(e.entityId),
+      before: e.before,
+      after: e.after,
+    })),
+  )
   await sql`SELECT pg_advisory_xact_lock(${sql.lit(AUDIT_CHAIN_LOCK)})`.execute(trx)
   const head = await trx
     .selectFrom('audit_event')
@@ -57,7 +72,7 @@ export async function appendAudit(
   let prevHash = head?.hash ?? GENESIS_HASH
   let id = Number(head?.id ?? 0)
   const occurredAt = new Date(clock.now().getTime())
-  const rows = list.map((e) => {
+  const rows = list.map((e, i) => {
     id++
     const content = {
       occurredAt,
@@ -72,7 +87,7 @@ export async function appendAudit(
       requestId: ctx.requestId,
       ip: ctx.ip,
       prevHash,
-      keyed: { id, siteId: e.siteId ?? null },
+      keyed: { id, siteId: e.siteId !== undefined ? e.siteId : sites[i] },
     }
     const hash = hashEvent(content)
     prevHash = hash
@@ -255,4 +270,144 @@ export async function verifyAuditChain(
     headHash: checked ? prev : undefined,
     ...(unkeyed ? { unkeyed } : {}),
   }
+}
+
+/**
+ * Whose events a reader sees (docs/security.md, "Whose events a reader sees"): the events of `siteIds` (the sites
+ * where they are administrator, plant manager or auditor), installation-wide events about accounts that hold a role at
+ * one of those sites, and, for an administrator, installation-wide events about no site's account (the installation,
+ * sign-in attempts for unknown addresses, accounts without roles).
+ */
+export interface AuditScope {
+  siteIds: number[]
+  installationWide: boolean
+}
+
+export interface AuditFilters {
+  entityType?: string
+  entityId?: string
+  actorId?: number
+  action?: string
+  siteId?: number
+  from?: string
+  to?: string
+  q?: string
+}
+
+/** The events a scope may read, filtered; joined with the actor's name and the site. */
+export function auditEventsQuery(db: Db, scope: AuditScope, f: AuditFilters) {
+  const site = sql<number | null>`coalesce(audit_event.site_id, audit_event_site.site_id)`
+  let base = db
+    .selectFrom('audit_event')
+    .leftJoin('audit_event_site', 'audit_event_site.event_id', 'audit_event.id')
+    .leftJoin('app_user', 'app_user.id', 'audit_event.actor_id')
+    .where((eb) => {
+      const userAtSites = eb
+        .selectFrom('role_assignment')
+        .select(sql<string>`role_assignment.user_id::text`.as('u'))
+        .where('role_assignment.site_id', 'in', scope.siteIds.length ? scope.siteIds : [0])
+      const anyRole = eb
+        .selectFrom('role_assignment')
+        .select('role_assignment.user_id')
+        .where(sql<boolean>`role_assignment.user_id::text = audit_event.entity_id`)
+      const siteless = eb(site, 'is', null)
+      return eb.or([
+        ...(scope.siteIds.length ? [eb(site, 'in', scope.siteIds)] : []),
+        eb.and([siteless, eb('audit_event.entity_type', '=', 'User'), eb('audit_event.entity_id', 'in', userAtSites)]),
+        ...(scope.installationWide
+          ? [
+              eb.and([
+                siteless,
+                eb.or([
+                  eb('audit_event.entity_type', '<>', 'User'),
+                  eb('audit_event.entity_id', 'is', null),
+                  eb.not(eb.exists(anyRole)),
+                ]),
+              ]),
+            ]
+          : []),
+      ])
+    })
+  if (f.entityType) base = base.where('audit_event.entity_type', '=', f.entityType)
+  if (f.entityId) base = base.where('audit_event.entity_id', '=', f.entityId)
+  if (f.actorId) base = base.where('audit_event.actor_id', '=', f.actorId)
+  if (f.action) base = base.where('audit_event.action', 'like', `${likeEscape(f.action)}%`)
+  if (f.siteId) base = base.where(site, '=', f.siteId)
+  if (f.from) base = base.where('audit_event.occurred_at', '>=', new Date(f.from))
+  if (f.to) base = base.where('audit_event.occurred_at', '<', new Date(f.to))
+  if (f.q) {
+    const like = `%${likeEscape(f.q)}%`
+    base = base.where((eb) =>
+      eb.or([eb('audit_event.action', 'ilike', like), eb('app_user.display_name', 'ilike', like)]),
+    )
+  }
+  return base.select(site.as('effective_site_id'))
+}
+
+// The tag, title or name of each entity an event names, read now; and, for records that belong to a limit, the limit.
+const TITLE_SOURCES: Partial<Record<AuditEntityType, { table: string; title?: string; limit?: boolean }>> = {
+  Site: { table: 'site', title: 'name' },
+  Area: { table: 'area', title: 'name' },
+  Process: { table: 'process', title: 'name' },
+  Instrument: { table: 'instrument', title: 'tag' },
+  Limit: { table: 'limit_function', title: 'tag' },
+  ImportBatch: { table: 'import_batch', title: 'file_name' },
+  ChangeRequest: { table: 'change_request', title: 'title' },
+  Finding: { table: 'finding', title: 'tag' },
+  ReconciliationSource: { table: 'reconciliation_source', title: 'name' },
+  ReconciliationRun: { table: 'reconciliation_run', title: 'file_name' },
+  alarm_journal_upload: { table: 'alarm_journal_upload', title: 'file_name' },
+  process_data_upload: { table: 'process_data_upload', title: 'file_name' },
+  User: { table: 'app_user', title: 'display_name' },
+  TripTest: { table: 'trip_test', limit: true },
+  TestDeferral: { table: 'test_deferral', limit: true },
+  Bypass: { table: 'bypass', limit: true },
+  Demand: { table: 'demand', limit: true },
+  alarm_state: { table: 'alarm_state', title: 'tag', limit: true },
+}
+
+export interface EntityTitle {
+  title: string | null
+  limitId: number | null
+}
+
+/** Titles of the entities named by `events`, keyed `type:id` (one query per entity type). */
+export async function entityTitles(
+  db: Db,
+  events: { entityType: string; entityId: string | null }[],
+): Promise<Map<string, EntityTitle>> {
+  const out = new Map<string, EntityTitle>()
+  const ids = new Map<AuditEntityType, Set<number>>()
+  for (const e of events) {
+    const src = TITLE_SOURCES[e.entityType as AuditEntityType]
+    if (!src || e.entityId === null || !/^[1-9]\d{0,8}$/.test(e.entityId)) continue
+    const set = ids.get(e.entityType as AuditEntityType) ?? new Set<number>()
+    set.add(Number(e.entityId))
+    ids.set(e.entityType as AuditEntityType, set)
+  }
+  for (const [type, set] of ids) {
+    const src = TITLE_SOURCES[type]!
+    const list = [...set]
+    if (src.limit) {
+      const rows = await db
+        .selectFrom(`${src.table} as t` as 'trip_test as t')
+        .leftJoin('limit_function', 'limit_function.id', 't.limit_id')
+        .select([
+          't.id',
+          't.limit_id',
+          src.title ? sql<string | null>`${sql.ref(`t.${src.title}`)}::text`.as('tag') : 'limit_function.tag',
+        ])
+        .where('t.id', 'in', list)
+        .execute()
+      for (const r of rows) out.set(`${type}:${r.id}`, { title: r.tag, limitId: r.limit_id })
+    } else {
+      const rows = await db
+        .selectFrom(src.table as 'site')
+        .select(['id', sql<string | null>`${sql.ref(src.title!)}::text`.as('title')])
+        .where('id', 'in', list)
+        .execute()
+      for (const r of rows) out.set(`${type}:${r.id}`, { title: r.title, limitId: type === 'Limit' ? r.id : null })
+    }
+  }
+  return out
 }

@@ -1,40 +1,73 @@
 import { Router } from 'express'
 import { z } from 'zod'
-import { IdSchema, ListQuerySchema } from '../../../shared/schemas/common.ts'
-import { authorize, likeEscape } from '../../authorize.ts'
+import { type AuditEventDto, auditActionLabel, AuditQuerySchema } from '../../../shared/schemas/audit.ts'
+import type { CurrentUser } from '../../types/express.d.ts'
+import { authorize } from '../../authorize.ts'
+import { csvPart } from '../../csv.ts'
 import type { AppDeps } from '../../deps.ts'
+import { type AuditScope, auditEventsQuery, entityTitles } from './audit.repository.ts'
+import { verifyTrailOnce } from './audit.verify.ts'
 
-const AuditQuerySchema = ListQuerySchema.extend({
-  entityType: z.string().max(60).optional(),
-  entityId: z.string().max(60).optional(),
-  actorId: IdSchema.optional(),
-  action: z.string().max(80).optional(),
-  from: z.iso.datetime({ offset: true }).optional(),
-  to: z.iso.datetime({ offset: true }).optional(),
-  cursor: IdSchema.optional(),
+/** The roles that read a site's audit trail (docs/security.md, "Whose events a reader sees"). */
+const READER_ROLES = ['admin', 'plant_manager', 'auditor']
+
+function scopeOf(user: CurrentUser | null): AuditScope {
+  const roles = user?.roles ?? []
+  return {
+    siteIds: [...new Set(roles.filter((r) => READER_ROLES.includes(r.role)).map((r) => r.siteId))],
+    installationWide: roles.some((r) => r.role === 'admin'),
+  }
+}
+
+const validZone = (tz: string) => {
+  try {
+    new Intl.DateTimeFormat('en-GB', { timeZone: tz })
+    return true
+  } catch {
+    return false
+  }
+}
+const ExportQuerySchema = AuditQuerySchema.omit({ page: true, pageSize: true, cursor: true, sort: true }).extend({
+  tz: z.string().max(64).refine(validZone, 'Unknown time zone').default('UTC'),
 })
 
-/** `GET /api/audit-events`: newest first, filtered; `cursor` (an id) pages without OFFSET. */
+/** `2026-12-03 07:15:02` in the time zone. */
+function localTime(d: Date, timeZone: string): string {
+  const p = Object.fromEntries(
+    new Intl.DateTimeFormat('en-GB', {
+      timeZone,
+      hourCycle: 'h23',
+      year: 'numeric',
+      month: '2-digit',
+      day: '2-digit',
+      hour: '2-digit',
+      minute: '2-digit',
+      second: '2-digit',
+    })
+      .formatToParts(d)
+      .map((x) => [x.type, x.value]),
+  )
+  return `${p.year}-${p.month}-${p.day} ${p.hour}:${p.minute}:${p.second}`
+}
+
+const EXPORT_PAGE = 2000
+
+/**
+ * `GET /api/audit-events`: newest first, filtered, narrowed to the reader's sites; `cursor` (an id) pages without
+ * OFFSET. `GET /export.csv`: the same events (all pages) as CSV. `POST /verify`: runs the chain verifier.
+ */
 export function createAuditRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
     authorize(req.ability, 'read', 'AuditEvent')
     const q = AuditQuerySchema.parse(req.query)
-    let base = deps.db.selectFrom('audit_event').leftJoin('app_user', 'app_user.id', 'audit_event.actor_id')
-    if (q.entityType) base = base.where('audit_event.entity_type', '=', q.entityType)
-    if (q.entityId) base = base.where('audit_event.entity_id', '=', q.entityId)
-    if (q.actorId) base = base.where('audit_event.actor_id', '=', q.actorId)
-    if (q.action) base = base.where('audit_event.action', 'like', `${q.action}%`)
-    if (q.from) base = base.where('audit_event.occurred_at', '>=', new Date(q.from))
-    if (q.to) base = base.where('audit_event.occurred_at', '<', new Date(q.to))
-    if (q.q)
-      base = base.where((eb) =>
-        eb.or([
-          eb('audit_event.action', 'ilike', `%${likeEscape(q.q!)}%`),
-          eb('app_user.display_name', 'ilike', `%${likeEscape(q.q!)}%`),
-        ]),
-      )
-    const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
+    const base = auditEventsQuery(deps.db, scopeOf(req.user), q)
+    const total = (
+      await base
+        .clearSelect()
+        .select((eb) => eb.fn.countAll<number>().as('n'))
+        .executeTakeFirstOrThrow()
+    ).n
     let page = base
       .selectAll('audit_event')
       .select('app_user.display_name as actorName')
@@ -42,16 +75,28 @@ export function createAuditRouter(deps: AppDeps) {
       .limit(q.pageSize)
     page = q.cursor ? page.where('audit_event.id', '<', q.cursor) : page.offset((q.page - 1) * q.pageSize)
     const rows = await page.execute()
-    res.json({
-      total,
-      items: rows.map((r) => ({
-        id: r.id,
+    const titles = await entityTitles(
+      deps.db,
+      rows.map((r) => ({ entityType: r.entity_type, entityId: r.entity_id })),
+    )
+    const siteCodes = new Map(
+      (await deps.db.selectFrom('site').select(['id', 'code']).execute()).map((s) => [s.id, s.code]),
+    )
+    const items: AuditEventDto[] = rows.map((r) => {
+      const t = titles.get(`${r.entity_type}:${r.entity_id}`)
+      const siteId = r.effective_site_id
+      return {
+        id: Number(r.id),
         at: r.occurred_at.toISOString(),
         actorId: r.actor_id,
         actorName: r.actorName,
         action: r.action,
         entityType: r.entity_type,
         entityId: r.entity_id,
+        entityTitle: t?.title ?? null,
+        entityLimitId: t?.limitId ?? null,
+        siteId,
+        siteCode: siteId === null ? null : (siteCodes.get(siteId) ?? null),
         before: r.before,
         after: r.after,
         reason: r.reason,
@@ -60,9 +105,84 @@ export function createAuditRouter(deps: AppDeps) {
         ip: r.ip,
         prevHash: r.prev_hash,
         hash: r.hash,
-      })),
-      nextCursor: rows.length === q.pageSize ? rows[rows.length - 1].id : null,
+      }
     })
+    res.json({ total, items, nextCursor: rows.length === q.pageSize ? Number(rows[rows.length - 1].id) : null })
+  })
+
+  router.get('/export.csv', async (req, res) => {
+    authorize(req.ability, 'read', 'AuditEvent')
+    const q = ExportQuerySchema.parse(req.query)
+    const scope = scopeOf(req.user)
+    const siteCodes = new Map(
+      (await deps.db.selectFrom('site').select(['id', 'code']).execute()).map((s) => [s.id, s.code]),
+    )
+    res.setHeader('Content-Type', 'text/csv; charset=utf-8')
+    res.setHeader('Content-Disposition', 'attachment; filename="limitkeeper-audit-trail.csv"')
+    const fields = [
+      'Event',
+      'Time (UTC)',
+      `Time (${q.tz})`,
+      'Site',
+      'Who',
+      'Who (e-mail)',
+      'Action',
+      'Action code',
+      'Record type',
+      'Record id',
+      'Record',
+      'Reason',
+      'Before',
+      'After',
+      'Request id',
+      'Address',
+      'Hash',
+    ]
+    let cursor: number | null = null
+    let first = true
+    // keyset pages, newest first, written as they are read
+    for (;;) {
+      let page = auditEventsQuery(deps.db, scope, q)
+        .selectAll('audit_event')
+        .select(['app_user.display_name as actorName', 'app_user.email as actorEmail'])
+        .orderBy('audit_event.id', 'desc')
+        .limit(EXPORT_PAGE)
+      if (cursor !== null) page = page.where('audit_event.id', '<', cursor)
+      const rows = await page.execute()
+      const titles = await entityTitles(
+        deps.db,
+        rows.map((r) => ({ entityType: r.entity_type, entityId: r.entity_id })),
+      )
+      const lines = rows.map((r) => [
+        Number(r.id),
+        r.occurred_at.toISOString(),
+        localTime(r.occurred_at, q.tz),
+        r.effective_site_id === null ? '' : (siteCodes.get(r.effective_site_id) ?? r.effective_site_id),
+        r.actorName ?? (r.actor_id === null ? 'system' : `#${r.actor_id}`),
+        r.actorEmail ?? '',
+        auditActionLabel(r.action),
+        r.action,
+        r.entity_type,
+        r.entity_id ?? '',
+        titles.get(`${r.entity_type}:${r.entity_id}`)?.title ?? '',
+        r.reason ?? '',
+        r.before === null ? '' : JSON.stringify(r.before),
+        r.after === null ? '' : JSON.stringify(r.after),
+        r.request_id ?? '',
+        r.ip ?? '',
+        r.hash,
+      ])
+      res.write(csvPart(fields, lines, first))
+      first = false
+      if (rows.length < EXPORT_PAGE) break
+      cursor = Number(rows[rows.length - 1].id)
+    }
+    res.end()
+  })
+
+  router.post('/verify', async (req, res) => {
+    authorize(req.ability, 'verify', 'AuditEvent')
+    res.json(await verifyTrailOnce(deps.db))
   })
   return router
 }

@@ -3,6 +3,7 @@ import type { SignInInput } from '../../../shared/schemas/users.ts'
 import type { AppDeps } from '../../deps.ts'
 import { AppError } from '../../errors.ts'
 import { type AuditContext, appendAudit, appendAuditAlone } from '../audit/audit.repository.ts'
+import type { AuditEntityType } from '../audit/audit.sites.ts'
 import { findRolesByUserIds, findUserByEmail, findUserById } from '../users/users.repository.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { verifyPassword } from './passwords.ts'
@@ -52,7 +53,7 @@ export async function verifySignaturePassword(
   userId: number,
   password: string,
   ctx: AuditContext,
-  what: { entityType: string; entityId: string | number },
+  what: { entityType: AuditEntityType; entityId: string | number; siteId?: number },
 ) {
   const { db, clock } = deps
   const user = await findUserById(db, userId)
@@ -68,6 +69,7 @@ export async function verifySignaturePassword(
         action: 'signature.failed',
         entityType: what.entityType,
         entityId: what.entityId,
+        ...(what.siteId !== undefined ? { siteId: what.siteId } : {}),
       })
     })
     throw new AppError(403, ErrorCode.SIGNATURE_INVALID, 'The password is wrong; nothing was signed')

@@ -1,0 +1,39 @@
+import type { AuditVerifyDto } from '../../../shared/schemas/audit.ts'
+import type { Db } from '../../db/index.ts'
+import { readCheckpoints } from './audit.checkpoint.ts'
+import { loadAuditKeys } from './audit.key.ts'
+import { verifyAuditChain } from './audit.repository.ts'
+
+/**
+ * Walks the chain with the audit key against every signed checkpoint file (docs/security.md, "Audit trail
+ * integrity"): what `npm run audit:verify` prints and the audit-trail screen's "Verify the chain" shows.
+ */
+export async function verifyTrail(db: Db): Promise<AuditVerifyDto> {
+  const keys = loadAuditKeys()
+  const { claims, problems } = readCheckpoints({ keys })
+  const t0 = performance.now()
+  const r = await verifyAuditChain(db, { keys, checkpoints: claims })
+  return {
+    ok: r.ok && !problems.length,
+    checked: r.checked,
+    checkpoints: claims.length,
+    badId: r.badId ?? null,
+    problem: r.problem ?? null,
+    checkpoint: r.checkpoint ?? null,
+    checkpointProblems: problems,
+    headId: r.headId ?? null,
+    headHash: r.headHash ?? null,
+    unkeyed: r.unkeyed ?? 0,
+    seconds: Math.round(performance.now() - t0) / 1000,
+  }
+}
+
+let running: Promise<AuditVerifyDto> | null = null
+
+/** One walk at a time per process: a request that comes while one runs gets that walk's answer. */
+export function verifyTrailOnce(db: Db): Promise<AuditVerifyDto> {
+  running ??= verifyTrail(db).finally(() => {
+    running = null
+  })
+  return running
+}

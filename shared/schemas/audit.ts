@@ -1,0 +1,176 @@
+import { z } from 'zod'
+import { IdSchema, ListQuerySchema } from './common.ts'
+
+/**
+ * What each action code of the audit trail means, in words (the list, its CSV export and the change timeline read
+ * it). A code without a label is shown as the code itself; tests/unit/shared/audit-labels.test.ts checks that every
+ * code the server writes has one.
+ */
+export const AUDIT_ACTION_LABELS: Record<string, string> = {
+  'session.sign_in': 'Signed in',
+  'session.sign_in_failed': 'Sign-in failed',
+  'session.sign_out': 'Signed out',
+  'signature.failed': 'Signature refused (wrong password)',
+  'user.create': 'Account created',
+  'user.update': 'Account changed',
+  'user.password_reset': 'Password reset by an administrator',
+  'user.password_change': 'Password changed',
+  'user.password_change_failed': 'Password change refused (wrong current password)',
+  'site.create': 'Site created',
+  'site.update': 'Site changed',
+  'area.create': 'Area created',
+  'area.update': 'Area changed',
+  'process.create': 'Process created',
+  'process.update': 'Process changed',
+  'instrument.create': 'Instrument created',
+  'instrument.update': 'Instrument changed',
+  'limit.create': 'Limit created',
+  'limit.update': 'Limit draft changed',
+  'limit.delete': 'Limit draft deleted',
+  'limit.activate': 'Limit put in service',
+  'limit.change': 'Limit changed by a change request',
+  'limit.retire': 'Limit retired',
+  'limit.degraded': 'Limit marked degraded',
+  'limit.degradation_cleared': 'Degradation cleared',
+  'limit.degradation_measures': 'Compensating measures for degradation recorded',
+  'limit.repair_deadline_approved': 'Repair deadline approved',
+  'limit.repair_deadline_passed': 'Repair deadline passed',
+  'limit.demand_assumptions': 'Demand assumptions changed',
+  'import.commit': 'Register import committed',
+  'change_request.create': 'Change request created',
+  'change_request.update': 'Change request edited',
+  'change_request.submit': 'Change request submitted',
+  'change_request.withdraw': 'Change request withdrawn',
+  'change_request.approve': 'Change request approved (signed)',
+  'change_request.reject': 'Change request rejected (signed)',
+  'change_request.implement': 'Change request implemented (signed)',
+  'change_request.close': 'Change request closed (signed)',
+  'change_request.attach': 'Attachment added to a change request',
+  'change_request.approval_expired': 'Approval expired',
+  'change_request.emergency_flagged': 'Emergency change overdue for approval',
+  'change_request.revert_reminder': 'Temporary change due to be reverted',
+  'trip_test.record': 'Trip test recorded',
+  'trip_test.update': 'Trip test edited',
+  'trip_test.attach': 'Attachment added to a trip test',
+  'trip_test.performed': 'Trip test signed as performed',
+  'trip_test.witnessed': 'Trip test signed as witnessed',
+  'trip_test.returned_to_service': 'Trip test signed: returned to service',
+  'trip_test.accepted': 'Trip test signed as accepted',
+  'trip_test.digest': 'Overdue-test digest sent',
+  'test_deferral.request': 'Test deferral requested',
+  'test_deferral.approve': 'Test deferral approved',
+  'test_deferral.reject': 'Test deferral rejected',
+  'bypass.request': 'Bypass requested',
+  'bypass.authorize': 'Bypass authorized (signed)',
+  'bypass.extend': 'Bypass extension authorized (signed)',
+  'bypass.reject': 'Bypass rejected',
+  'bypass.cancel': 'Bypass cancelled',
+  'bypass.activate': 'Bypass activated',
+  'bypass.remove': 'Bypass removed',
+  'bypass.lapse': 'Bypass authorization lapsed',
+  'bypass.overdue': 'Bypass overdue',
+  'bypass.escalate': 'Overdue bypass escalated',
+  'demand.record': 'Demand recorded',
+  'demand.classify': 'Demand classified',
+  'demand.credit_as_test': 'Demand credited as a trip test',
+  'shift_handover.hand_over': 'Shift handed over (signed)',
+  'shift_handover.accept': 'Shift handover accepted (signed)',
+  'alarm_journal.upload': 'Alarm journal uploaded',
+  'alarm_journal.import': 'Alarm journal imported',
+  'alarm_state.shelved': 'Alarm shelved',
+  'alarm_state.suppressed': 'Alarm suppressed',
+  'alarm_state.out_of_service': 'Alarm taken out of service',
+  'alarm_state.end': 'Alarm state ended',
+  'process_data.upload': 'Process data uploaded',
+  'reconciliation_source.create': 'Reconciliation source created',
+  'reconciliation_source.update': 'Reconciliation source changed',
+  'reconciliation_source.read': 'Device read for reconciliation',
+  'reconciliation.run': 'Reconciliation run',
+  'finding.accept': 'Finding accepted',
+  'finding.acknowledge': 'Finding acknowledged',
+  'finding.link_change': 'Finding linked to a change request',
+  'seed.demo': 'Demo data loaded',
+}
+
+/** The action's words, or its code when it has none. */
+export function auditActionLabel(action: string): string {
+  return AUDIT_ACTION_LABELS[action] ?? action
+}
+
+/** What kind of record an event names, in words. */
+export const AUDIT_ENTITY_LABELS: Record<string, string> = {
+  Site: 'Site',
+  Area: 'Area',
+  Process: 'Process',
+  Instrument: 'Instrument',
+  Limit: 'Limit',
+  ImportBatch: 'Register import',
+  ChangeRequest: 'Change request',
+  TripTest: 'Trip test',
+  TestDeferral: 'Test deferral',
+  Bypass: 'Bypass',
+  Demand: 'Demand',
+  ShiftHandover: 'Shift handover',
+  alarm_journal_upload: 'Alarm journal',
+  process_data_upload: 'Process data',
+  alarm_state: 'Alarm state',
+  ReconciliationSource: 'Reconciliation source',
+  ReconciliationRun: 'Reconciliation run',
+  Finding: 'Finding',
+  User: 'Account',
+  System: 'Installation',
+}
+
+/** `GET /api/audit-events` and its CSV export: filters; `from` and `to` are instants (`to` exclusive). */
+export const AuditQuerySchema = ListQuerySchema.extend({
+  entityType: z.string().max(60).optional(),
+  entityId: z.string().max(60).optional(),
+  actorId: IdSchema.optional(),
+  action: z.string().max(80).optional(),
+  siteId: IdSchema.optional(),
+  from: z.iso.datetime({ offset: true }).optional(),
+  to: z.iso.datetime({ offset: true }).optional(),
+  cursor: IdSchema.optional(),
+})
+export type AuditQuery = z.infer<typeof AuditQuerySchema>
+
+/** One event as the list gives it. */
+export interface AuditEventDto {
+  id: number
+  at: string
+  actorId: number | null
+  actorName: string | null
+  action: string
+  entityType: string
+  entityId: string | null
+  /** The entity's tag, title or name now (null when it is gone or has none). */
+  entityTitle: string | null
+  /** The limit the entity belongs to (trip tests, bypasses, demands, deferrals, alarm states), for a link. */
+  entityLimitId: number | null
+  siteId: number | null
+  siteCode: string | null
+  before: unknown
+  after: unknown
+  reason: string | null
+  batchId: string | null
+  requestId: string | null
+  ip: string | null
+  prevHash: string
+  hash: string
+}
+
+/** `POST /api/audit-events/verify`: the verifier's answer. */
+export interface AuditVerifyDto {
+  ok: boolean
+  checked: number
+  checkpoints: number
+  /** The first event concerned when broken. */
+  badId: number | null
+  problem: string | null
+  checkpoint: string | null
+  checkpointProblems: string[]
+  headId: number | null
+  headHash: string | null
+  unkeyed: number
+  seconds: number
+}
