@@ -284,6 +284,10 @@ export interface ChangeRequestTable {
   pssr: ColumnType<Record<string, unknown> | null, string | null, string | null>
   revert_reminder_at: Timestamp | null
   emergency_flagged_at: Timestamp | null
+  /** the temporary change this request reverses (docs/change-requests.md#expired-temporary-changes) */
+  reverses_id: ColumnType<number | null, number | null | undefined, number | null>
+  /** last daily notice that the temporary change expired and is not reverted */
+  expired_notice_at: Timestamp | null
   version: Generated<number>
   created_at: Timestamp
   updated_at: Timestamp

@@ -100,10 +100,17 @@ const fields = {
 }
 
 export const CreateChangeRequestInputSchema = z
-  .object({ siteId: z.number().int().positive(), ...fields })
+  .object({
+    siteId: z.number().int().positive(),
+    ...fields,
+    /** the temporary change this request reverses (docs/change-requests.md#expired-temporary-changes) */
+    reversesId: z.number().int().positive().max(2_147_483_647).nullable().default(null),
+  })
   .superRefine((v, ctx) => {
     if (v.type === 'temporary' && !v.expiresAt)
       ctx.addIssue({ code: 'custom', path: ['expiresAt'], message: 'A temporary change needs an expiry' })
+    if (v.reversesId !== null && v.type === 'temporary')
+      ctx.addIssue({ code: 'custom', path: ['type'], message: 'A reversal is not itself temporary' })
   })
 export type CreateChangeRequestInput = z.infer<typeof CreateChangeRequestInputSchema>
 export const UpdateChangeRequestInputSchema = z.object(fields).partial()
@@ -209,6 +216,12 @@ export interface ChangeRequestDto {
   closedAt: string | null
   approvalExpiresAt: string | null
   emergencyFlagged: boolean
+  /** the temporary change this request reverses */
+  reversesId: number | null
+  /** the requests reversing this temporary change */
+  reversals: { id: number; status: ChangeStatus; title: string }[]
+  /** a temporary change's standing now: open, expired (to be reverted) or reverted (docs/change-requests.md) */
+  temporaryState: 'open' | 'expired' | 'reverted' | null
   pssr: Record<string, unknown> | null
   items: ChangeItemDto[]
   checklist: {
@@ -241,6 +254,11 @@ export const ChangeListQuerySchema = z.object({
   type: repeated(z.enum(CHANGE_TYPES)),
   siteId: repeated(IdSchema),
   limitId: IdSchema.optional(),
+  /** only temporary changes past their end and not reverted ("expired, to be reverted") */
+  expiredTemporary: z
+    .enum(['true', 'false'])
+    .transform((v) => v === 'true')
+    .optional(),
   q: z.string().trim().max(100).optional(),
   ...ListQuerySchema.pick({ page: true, pageSize: true }).shape,
 })
@@ -265,5 +283,7 @@ export interface ChangeListItem {
   expiresAt: string | null
   implementedAt: string | null
   emergencyFlagged: boolean
+  /** a temporary change past its end, on the device and not reverted */
+  expiredToRevert: boolean
 }
 export type ChangeList = ListResult<ChangeListItem>

@@ -64,7 +64,14 @@ export interface AreaProtection {
     repairDeadlinePassed?: boolean
   }[]
   overdueTests: { limitId: number; tag: string; testStatus: string; dueDate: string | null; sil: number | null }[]
-  temporaryChanges: { id: number; title: string; status: string; expiresAt: string | null }[]
+  temporaryChanges: {
+    id: number
+    title: string
+    status: string
+    expiresAt: string | null
+    /** past its end and not reverted: "expired, to be reverted" (absent when not) */
+    expiredToRevert?: boolean
+  }[]
   /** test deferrals requested or in force (absent in handovers signed before they were shown) */
   deferrals?: Omit<OpenDeferral, 'areaId'>[]
 }

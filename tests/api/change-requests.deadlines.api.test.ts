@@ -66,24 +66,24 @@ describe('change request deadlines job', () => {
     )
     await implementChange(as.technician, cr)
 
-    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0, toRevert: 0 })
     ctx.clock.set(new Date(expiresAt.getTime() - 25 * HOUR))
-    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0, toRevert: 0 })
     expect((await crRow(cr.id)).revert_reminder_at).toBeNull()
 
     ctx.clock.set(new Date(expiresAt.getTime() - 23 * HOUR))
-    expect(await runDeadlines()).toEqual({ reminders: 1, flagged: 0, expired: 0 })
+    expect(await runDeadlines()).toEqual({ reminders: 1, flagged: 0, expired: 0, toRevert: 0 })
     const subject = `Temporary change #${cr.id} expires`
     const [reminder] = await mailsFor(subject, ['engineer@fernhollow.example'])
     expect(reminder.text).toContain(`${ctx.config.appUrl}/changes/${cr.id}`)
     expect(reminder.html).toEqual(expect.stringContaining(`href="${ctx.config.appUrl}/changes/${cr.id}"`))
     expect(reminder.text).toContain('Revert it on the device')
 
-    // not twice: neither a later run nor one after the expiry sends it again
+    // not twice: neither a later run nor one after the expiry sends it again (after it, the expiry notice goes out)
     ctx.clock.advance(HOUR)
-    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0, toRevert: 0 })
     ctx.clock.set(new Date(expiresAt.getTime() + HOUR))
-    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0, toRevert: 1 })
     await deliver()
     expect(smtp.inbox.filter((m) => m.subject?.startsWith(subject))).toHaveLength(1)
     const events = await ctx.db
@@ -94,6 +94,19 @@ describe('change request deadlines job', () => {
       .where('action', '=', 'change_request.revert_reminder')
       .execute()
     expect(events).toHaveLength(1)
+
+    // reverted, so the later tests of this file see no expired temporary change
+    await signInAll()
+    const reversal = await approveChange(
+      [as.approver],
+      await submitChange(as.engineer, {
+        siteId: site.id,
+        title: 'Reversal of the dry-out raise',
+        reversesId: cr.id,
+        items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 780 } }],
+      }),
+    )
+    await implementChange(as.technician, reversal)
   })
 
   it('flags an emergency change implemented by the shift supervisor and still unapproved after 24 h, and tells approvers and the plant manager', async () => {
@@ -118,11 +131,11 @@ describe('change request deadlines job', () => {
     const implementedAt = new Date(done.implementedAt).getTime()
 
     ctx.clock.set(new Date(implementedAt + 23 * HOUR))
-    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0, toRevert: 0 })
 
     // common practice (site procedure): an emergency change is approved within 24 h of its implementation
     ctx.clock.set(new Date(implementedAt + 24 * HOUR + 60_000))
-    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 1, expired: 0 })
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 1, expired: 0, toRevert: 0 })
     const subject = `Emergency change #${cr.id} is still unapproved after 24 h`
     const expected = ['approver@fernhollow.example', 'approver2@fernhollow.example', 'manager@fernhollow.example']
     const mails = await mailsFor(subject, expected)
@@ -130,7 +143,7 @@ describe('change request deadlines job', () => {
     for (const m of mails) expect(m.text).toContain(`${ctx.config.appUrl}/changes/${cr.id}`)
 
     ctx.clock.advance(HOUR)
-    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0, toRevert: 0 })
     await deliver()
     expect(smtp.inbox.filter((m) => m.subject === subject)).toHaveLength(3)
 
@@ -159,7 +172,7 @@ describe('change request deadlines job', () => {
     expect(new Date(view.approvalExpiresAt).getTime()).toBe(approvedAt + 30 * DAY)
 
     ctx.clock.set(new Date(approvedAt + 30 * DAY - HOUR))
-    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0 })
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0, toRevert: 0 })
     expect((await crRow(cr.id)).status).toBe('approved')
 
     ctx.clock.set(new Date(approvedAt + 30 * DAY + HOUR))
@@ -171,7 +184,7 @@ describe('change request deadlines job', () => {
         .code,
     ).toBe('INVALID_STATE')
 
-    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 1 })
+    expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 1, toRevert: 0 })
     const back = (await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body
     expect(back).toMatchObject({ status: 'submitted', approvalsHeld: 0, approvedAt: null })
     expect(back.signatures).toHaveLength(1)

@@ -13,6 +13,8 @@ const SYSTEM = { actorId: null, requestId: 'job:change-requests', ip: null }
 
 /**
  * Reminders and time limits of change requests: temporary changes expiring within 24 h (reminder to revert, once),
+ * temporary changes expired and not reverted (the proposer and the site's shift supervisors told once a day until a
+ * reversal is implemented),
  * emergency changes unapproved 24 h after implementation (flagged; approvers and plant manager told), approvals
  * that expired before implementation (voided; the request goes back to submitted).
  */
@@ -20,7 +22,7 @@ export function createChangeRequestJob(
   db: Db,
   config: Config,
   clock: Clock,
-): DueJob<{ reminders: number; flagged: number; expired: number }> {
+): DueJob<{ reminders: number; flagged: number; expired: number; toRevert: number }> {
   const link = (id: number) => ({ url: `${config.appUrl}/changes/${id}`, label: `Open change request #${id}` })
   return {
     name: 'change-requests.deadlines',
@@ -29,6 +31,7 @@ export function createChangeRequestJob(
       let reminders = 0
       let flagged = 0
       let expired = 0
+      let toRevert = 0
       const temporary = await repo.temporaryChangesDue(db, new Date(now.getTime() + 24 * HOUR))
       for (const cr of temporary) {
         await db.transaction().execute(async (trx) => {
@@ -57,6 +60,40 @@ export function createChangeRequestJob(
             entityId: cr.id,
           })
           reminders++
+        })
+      }
+      // expired, to be reverted: once a day until a reversal is implemented (docs/change-requests.md)
+      const noticeBefore = new Date(now.getTime() - 24 * HOUR)
+      for (const cr of await repo.expiredTemporaryChanges(db, now, noticeBefore)) {
+        await db.transaction().execute(async (trx) => {
+          const claimed = await repo.claimRequest(trx, cr.id, { expired_notice_at: now }, { noticeBefore })
+          if (!claimed) return
+          const supervisors = await findUsersWithRole(trx, cr.site_id, ['shift_supervisor'])
+          const to = [...new Set([cr.email, ...supervisors.map((u) => u.email)])]
+          const ended = cr.expires_at!.toISOString().slice(0, 16).replace('T', ' ')
+          await enqueueMail(
+            trx,
+            clock,
+            to.map((address) => ({
+              to: address,
+              subject: `Temporary change #${cr.id} expired ${ended} UTC and is not reverted`,
+              topic: 'change_request',
+              ...mailBodies(
+                [
+                  `The temporary change "${cr.title}" passed its end at ${cr.expires_at!.toISOString()} and is still on the device: expired, to be reverted.`,
+                  'Revert it through a reversal change request (read back on the device), or make it permanent by a new approved request. This notice repeats daily until a reversal is implemented.',
+                ],
+                link(cr.id),
+              ),
+            })),
+          )
+          await appendAudit(trx, clock, SYSTEM, {
+            action: 'change_request.expired_not_reverted',
+            entityType: 'ChangeRequest',
+            entityId: cr.id,
+            after: { notified: to },
+          })
+          toRevert++
         })
       }
       const emergencies = await repo.unapprovedEmergencies(db, new Date(now.getTime() - 24 * HOUR))
@@ -134,7 +171,7 @@ export function createChangeRequestJob(
           expired++
         })
       }
-      return { reminders, flagged, expired }
+      return { reminders, flagged, expired, toRevert }
     },
   }
 }

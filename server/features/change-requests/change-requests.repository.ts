@@ -34,6 +34,7 @@ export async function insertRequest(
     expiresAt: Date | null
     proposerId: number
     importBatchId: number | null
+    reversesId?: number | null
     now: Date
   },
 ): Promise<number> {
@@ -50,6 +51,7 @@ export async function insertRequest(
       content_hash: '0'.repeat(64),
       approvals_required: 1,
       import_batch_id: v.importBatchId,
+      reverses_id: v.reversesId ?? null,
       created_at: v.now,
       updated_at: v.now,
     })
@@ -67,10 +69,17 @@ export async function claimRequest(
   trx: Trx,
   id: number,
   set: Updateable<ChangeRequestTable>,
-  where: { column: 'revert_reminder_at' | 'emergency_flagged_at'; isNull: true } | { status: ChangeStatus },
+  where:
+    | { column: 'revert_reminder_at' | 'emergency_flagged_at'; isNull: true }
+    | { status: ChangeStatus }
+    | { noticeBefore: Date },
 ): Promise<boolean> {
   let q = trx.updateTable('change_request').set(set).where('id', '=', id)
-  q = 'status' in where ? q.where('status', '=', where.status) : q.where(where.column, 'is', null)
+  if ('status' in where) q = q.where('status', '=', where.status)
+  else if ('noticeBefore' in where) {
+    const before = where.noticeBefore
+    q = q.where((eb) => eb.or([eb('expired_notice_at', 'is', null), eb('expired_notice_at', '<=', before)]))
+  } else q = q.where(where.column, 'is', null)
   return Number((await q.executeTakeFirst()).numUpdatedRows) > 0
 }
 
@@ -84,6 +93,39 @@ export async function siteOf(db: Q, siteId: number) {
 
 export async function userContact(db: Q, userId: number) {
   return db.selectFrom('app_user').select(['email', 'display_name']).where('id', '=', userId).executeTakeFirstOrThrow()
+}
+
+// ---------- temporary changes and their reversals ----------
+
+/** The requests reversing a temporary change. */
+export async function reversalsOf(db: Q, id: number) {
+  return db
+    .selectFrom('change_request')
+    .select(['id', 'status', 'title'])
+    .where('reverses_id', '=', id)
+    .orderBy('id')
+    .execute()
+}
+
+/**
+ * "Expired, to be reverted" in SQL, the same test as `temporaryState` of the rule book: a temporary change on the
+ * device (implemented or closed) past its end, with no implemented or closed reversal.
+ */
+export function expiredUnreverted(eb: ExpressionBuilder<Database, 'change_request'>, now: Date) {
+  return eb.and([
+    eb('change_request.type', '=', 'temporary'),
+    eb('change_request.status', 'in', ['implemented', 'closed']),
+    eb('change_request.expires_at', '<=', now),
+    eb.not(
+      eb.exists(
+        eb
+          .selectFrom('change_request as reversal')
+          .select('reversal.id')
+          .whereRef('reversal.reverses_id', '=', 'change_request.id')
+          .where('reversal.status', 'in', ['implemented', 'closed']),
+      ),
+    ),
+  ])
 }
 
 // ---------- editors ----------
@@ -403,7 +445,7 @@ export interface WaitingSites {
 
 export async function listRequests(
   db: Q,
-  q: Omit<ChangeListQuery, 'siteId'> & { siteIds: number[]; userId: number; waiting: WaitingSites },
+  q: Omit<ChangeListQuery, 'siteId'> & { siteIds: number[]; userId: number; waiting: WaitingSites; now: Date },
 ) {
   let query = db
     .selectFrom('change_request')
@@ -438,6 +480,10 @@ export async function listRequests(
       ),
     )
   }
+  if (q.expiredTemporary !== undefined) {
+    const now = q.now
+    query = query.where((eb) => (q.expiredTemporary ? expiredUnreverted(eb, now) : eb.not(expiredUnreverted(eb, now))))
+  }
   if (q.view === 'mine') query = query.where('change_request.proposer_id', '=', q.userId)
   if (q.view === 'waiting') query = query.where((eb) => waitingFor(eb, q.waiting, q.userId))
   const total = (await query.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
@@ -456,6 +502,7 @@ export async function listRequests(
       'change_request.expires_at',
       'change_request.emergency_flagged_at',
       'app_user.display_name as proposer_name',
+      (eb) => expiredUnreverted(eb, q.now).as('expired_to_revert'),
       (eb) =>
         eb
           .selectFrom('change_request_item')
@@ -502,6 +549,32 @@ export async function temporaryChangesDue(db: Q, horizon: Date) {
     .where('status', 'in', ['approved', 'implemented', 'closed'])
     .where('revert_reminder_at', 'is', null)
     .where('expires_at', '<=', horizon)
+    .execute()
+}
+
+/**
+ * Temporary changes expired and not reverted whose last notice is older than `noticeBefore` (or never sent), with
+ * the proposer's address.
+ */
+export async function expiredTemporaryChanges(db: Q, now: Date, noticeBefore: Date) {
+  return db
+    .selectFrom('change_request')
+    .innerJoin('app_user', 'app_user.id', 'change_request.proposer_id')
+    .select([
+      'change_request.id',
+      'change_request.title',
+      'change_request.site_id',
+      'change_request.expires_at',
+      'app_user.email',
+    ])
+    .where((eb) => expiredUnreverted(eb, now))
+    .where((eb) =>
+      eb.or([
+        eb('change_request.expired_notice_at', 'is', null),
+        eb('change_request.expired_notice_at', '<=', noticeBefore),
+      ]),
+    )
+    .orderBy('change_request.id')
     .execute()
 }
 

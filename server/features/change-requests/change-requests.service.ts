@@ -32,6 +32,7 @@ import {
   changeRequestRules,
   implementItemVerdict,
   openChecks,
+  temporaryState,
 } from '../../../shared/domain/rules/change-requests.ts'
 import { authorize } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
@@ -327,6 +328,7 @@ export async function getChangeRequest(
     }
   })
   const atts = await listAttachments(db, ENTITY, id)
+  const reversals = await repo.reversalsOf(db, id)
   const approvals = sigs.filter((s) => s.meaning === 'approved' && !s.voided_at)
   const expiryDays = policyOf(site).approvalExpiryDays
   // what each signature should cover given the content now (recomputed, not the stored hash): a change after signing shows as a mismatch
@@ -407,6 +409,12 @@ export async function getChangeRequest(
         ? new Date(row.approved_at.getTime() + expiryDays * DAY).toISOString()
         : null,
     emergencyFlagged: row.emergency_flagged_at !== null,
+    reversesId: row.reverses_id,
+    reversals,
+    temporaryState: temporaryState(
+      { type: row.type, status: row.status, expiresAt: row.expires_at?.toISOString() ?? null, reversals },
+      deps.clock.now(),
+    ),
     pssr: row.pssr,
     items: itemDtos,
     checklist,
@@ -465,7 +473,12 @@ export async function listChangeRequests(
   user: Person,
   q: Omit<ChangeListQuery, 'siteId'> & { siteIds: number[] },
 ): Promise<{ items: ChangeListItem[]; total: number }> {
-  const { total, rows } = await repo.listRequests(deps.db, { ...q, userId: user.id, waiting: waitingSites(user) })
+  const { total, rows } = await repo.listRequests(deps.db, {
+    ...q,
+    userId: user.id,
+    waiting: waitingSites(user),
+    now: deps.clock.now(),
+  })
   return {
     total,
     items: rows.map((r) => ({
@@ -484,6 +497,7 @@ export async function listChangeRequests(
       implementedAt: r.implemented_at?.toISOString() ?? null,
       expiresAt: r.expires_at?.toISOString() ?? null,
       emergencyFlagged: r.emergency_flagged_at !== null,
+      expiredToRevert: Boolean(r.expired_to_revert),
     })),
   }
 }
@@ -521,12 +535,14 @@ export async function createChangeRequest(
   deps: AppDeps,
   ability: AppAbility,
   ctx: AuditContext,
-  input: CreateChangeRequestInput,
+  input: Omit<CreateChangeRequestInput, 'reversesId'> & { reversesId?: number | null },
   opts: { importBatchId?: number; auditBatchId?: string; trx?: Trx } = {},
 ): Promise<number> {
   authorize(ability, 'create', 'ChangeRequest', { siteId: input.siteId })
   const run = async (trx: Trx) => {
+    if (input.reversesId) await checkReversal(deps, ability, ctx, trx, { ...input, reversesId: input.reversesId })
     const id = await repo.insertRequest(trx, {
+      reversesId: input.reversesId,
       siteId: input.siteId,
       type: input.type,
       title: input.title,
@@ -550,6 +566,34 @@ export async function createChangeRequest(
     return id
   }
   return opts.trx ? run(opts.trx) : deps.db.transaction().execute(run)
+}
+
+/**
+ * A reversal restores a temporary change (docs/change-requests.md#expired-temporary-changes): the rule book must allow
+ * proposing it, it belongs to the same site, and it holds an item for every limit and instrument the temporary change
+ * touched. The temporary change's row is locked, so two reversals are not opened at once.
+ */
+async function checkReversal(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  trx: Trx,
+  input: Pick<CreateChangeRequestInput, 'siteId' | 'items'> & { reversesId: number },
+) {
+  const target = await repo.findRequest(trx, input.reversesId, true)
+  if (!target) throw validationFailed({ reversesId: ['No such change request'] })
+  const { cr, rules } = await rulesNow(deps, ability, ctx, target.id, trx)
+  if (cr.siteId !== input.siteId)
+    throw validationFailed({ reversesId: ['The reversal belongs to the site of the temporary change'] })
+  enforce(rules.proposeReversal)
+  const key = (i: { kind: string; limitId?: number | null; instrumentId?: number | null }) =>
+    i.kind === 'instrument' ? `i${i.instrumentId}` : `l${i.limitId}`
+  const covered = new Set(input.items.map(key))
+  const missing = cr.items.filter((i) => i.kind !== 'retire' && !covered.has(key(i))).map((i) => i.targetTag)
+  if (missing.length)
+    throw validationFailed({
+      items: [`A reversal restores every limit and instrument of the temporary change; missing: ${missing.join(', ')}`],
+    })
 }
 
 /** Edits a draft or submitted request; a submitted one returns to draft and its signatures are voided. */

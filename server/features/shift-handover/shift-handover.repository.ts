@@ -1,5 +1,6 @@
-import type { Kysely, Transaction } from 'kysely'
+import type { ExpressionBuilder, Kysely, Transaction } from 'kysely'
 import type { Database } from '../../db/schema.ts'
+import { expiredUnreverted } from '../change-requests/change-requests.repository.ts'
 
 // Every query of the shift handover (docs/shift-handover.md).
 
@@ -66,28 +67,42 @@ export function findOverdueTests(db: Q, areaIds: number[]) {
     .execute()
 }
 
-/** Approved temporary changes not yet expired with an item on a limit of the area. */
+const implementedReversal = (eb: ExpressionBuilder<Database, 'change_request'>) =>
+  eb
+    .selectFrom('change_request as reversal')
+    .select('reversal.id')
+    .whereRef('reversal.reverses_id', '=', 'change_request.id')
+    .where('reversal.status', 'in', ['implemented', 'closed'])
+
+/**
+ * Temporary changes with an item on a limit of the area: approved or in force and not yet expired, and those
+ * expired and not reverted ("expired, to be reverted", docs/change-requests.md#expired-temporary-changes).
+ */
 export function findOpenTemporaryChanges(db: Q, siteId: number, areaId: number, now: Date) {
-  return db
-    .selectFrom('change_request')
-    .select(['id', 'title', 'status', 'expires_at'])
-    .where('site_id', '=', siteId)
-    .where('type', '=', 'temporary')
-    .where('status', 'in', ['approved', 'implemented', 'closed'])
-    .where('expires_at', '>', now)
-    .where((eb) =>
-      eb.exists(
-        eb
-          .selectFrom('change_request_item')
-          .innerJoin('limit_function', 'limit_function.id', 'change_request_item.limit_id')
-          .select('change_request_item.id')
-          .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
-          .where('limit_function.area_id', '=', areaId),
-      ),
-    )
-    .orderBy('expires_at')
-    .orderBy('id')
-    .execute()
+  return (
+    db
+      .selectFrom('change_request')
+      .select(['id', 'title', 'status', 'expires_at', (eb) => expiredUnreverted(eb, now).as('expired_to_revert')])
+      .where('site_id', '=', siteId)
+      .where('type', '=', 'temporary')
+      .where('status', 'in', ['approved', 'implemented', 'closed'])
+      // not yet reverted, and either before its end or on the device past it
+      .where((eb) => eb.not(eb.exists(implementedReversal(eb))))
+      .where((eb) => eb.or([eb('expires_at', '>', now), eb('status', 'in', ['implemented', 'closed'])]))
+      .where((eb) =>
+        eb.exists(
+          eb
+            .selectFrom('change_request_item')
+            .innerJoin('limit_function', 'limit_function.id', 'change_request_item.limit_id')
+            .select('change_request_item.id')
+            .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
+            .where('limit_function.area_id', '=', areaId),
+        ),
+      )
+      .orderBy('expires_at')
+      .orderBy('id')
+      .execute()
+  )
 }
 
 export async function insertHandover(

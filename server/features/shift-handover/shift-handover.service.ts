@@ -92,6 +92,8 @@ async function liveSnapshot(deps: AppDeps, db: Q, areaIds: number[]) {
         title: c.title,
         status: c.status,
         expiresAt: c.expires_at?.toISOString() ?? null,
+        // present only when true, so the hash of a state without one is what it was before the key existed
+        ...(c.expired_to_revert ? { expiredToRevert: true } : {}),
       })),
       deferrals: deferrals.filter((d) => d.areaId === area.id).map(({ areaId: _a, ...d }) => d),
     })

@@ -19,6 +19,7 @@ export const CHANGE_ACTIONS = [
   'implement',
   'implementAll',
   'close',
+  'proposeReversal',
 ] as const
 export type ChangeAction = (typeof CHANGE_ACTIONS)[number]
 
@@ -31,6 +32,10 @@ export interface ChangeRuleRecord {
   editorIds: number[]
   approvedAt: string | null
   approvalExpiresAt: string | null
+  /** a temporary change's end */
+  expiresAt: string | null
+  /** the requests that reverse this one (a temporary change), with their state */
+  reversals: { id: number; status: ChangeStatus }[]
   items: { id: number; kind: string; implementedAt: string | null; stale: boolean }[]
   signatures: { userId: number; meaning: string; voided: boolean }[]
   checklist: { item: string; label: string; group: ChecklistGroup; doneAt: string | null }[]
@@ -125,6 +130,8 @@ function implementVerdict(cr: ChangeRuleRecord, actor: ChangeActor, now: Date): 
     return blocked(`This change request is ${cr.status}; only an approved request is implemented.`)
   if (cr.status === 'approved' && cr.approvalExpiresAt && now.getTime() > Date.parse(cr.approvalExpiresAt))
     return blocked('The approval has expired (not implemented within the policy time); it must be approved again.')
+  if (cr.type === 'temporary' && cr.expiresAt && now.getTime() >= Date.parse(cr.expiresAt))
+    return blocked('This temporary change has passed its end; it is not put on the device any more.')
   const open = openChecks(cr, 'before')
   if (open.length)
     return blocked(
@@ -141,6 +148,38 @@ function closeVerdict(cr: ChangeRuleRecord, actor: ChangeActor): Verdict {
   if (!cr.approvedAt) return blocked('The emergency change is not approved yet; it cannot be closed.')
   const open = openChecks(cr, 'closeout')
   if (open.length) return invalid(`Complete the close-out checklist first: ${open.join('; ')}.`)
+  return allow
+}
+
+/**
+ * Where a temporary change stands (docs/change-requests.md#expired-temporary-changes), derived from its state, its
+ * end and its reversals rather than stored, so it is true at every moment without a job keeping it up to date:
+ * `open` while in force (or approved) before its end; `expired` ("expired, to be reverted") when it is on the device
+ * past its end and no reversal is implemented; `reverted` once a reversal is implemented. Null for anything else.
+ */
+export type TemporaryState = 'open' | 'expired' | 'reverted'
+export function temporaryState(
+  cr: Pick<ChangeRuleRecord, 'type' | 'status' | 'expiresAt' | 'reversals'>,
+  now: Date,
+): TemporaryState | null {
+  if (cr.type !== 'temporary' || !['approved', 'implemented', 'closed'].includes(cr.status)) return null
+  if (cr.reversals.some((r) => r.status === 'implemented' || r.status === 'closed')) return 'reverted'
+  const past = cr.expiresAt !== null && now.getTime() >= Date.parse(cr.expiresAt)
+  if (!past) return 'open'
+  // approved but never put on the device: nothing to revert, and it may no longer be implemented
+  return cr.status === 'approved' ? null : 'expired'
+}
+
+function proposeReversalVerdict(cr: ChangeRuleRecord, actor: ChangeActor, now: Date): Verdict {
+  if (!actor.ability.can('create', siteOnly(cr)))
+    return forbid('Only a safety engineer of this site proposes the reversal of a temporary change.')
+  if (cr.type !== 'temporary') return blocked('Only a temporary change is reversed by a linked request.')
+  const state = temporaryState(cr, now)
+  if (state === 'reverted') return blocked('This temporary change is reverted already.')
+  if (cr.status !== 'implemented' && cr.status !== 'closed')
+    return blocked('Only a temporary change on the device (implemented) is reversed.')
+  const open = cr.reversals.find((r) => ['draft', 'submitted', 'approved'].includes(r.status))
+  if (open) return blocked(`Reversal #${open.id} is under way already; take that one forward.`)
   return allow
 }
 
@@ -181,6 +220,7 @@ export function changeRequestRules(cr: ChangeRuleRecord, actor: ChangeActor, now
           ? blocked('A limit changed since the request was written; the request must be revised.')
           : allow,
     close: closeVerdict(cr, actor),
+    proposeReversal: proposeReversalVerdict(cr, actor, now),
   }
 }
 

@@ -36,6 +36,8 @@ export interface ChangeListQuery {
   siteId?: number[]
   /** requests with an item on this limit or on an instrument it reads */
   limitId?: number
+  /** only temporary changes expired and not reverted */
+  expiredTemporary?: 'true'
   q?: string
   page: number
   pageSize: number
@@ -55,6 +57,8 @@ export interface ChangeRequestBody {
   hazardReference: string
   expiresAt: string | null
   items: ChangeItemBody[]
+  /** the temporary change this request reverses (on creation only) */
+  reversesId?: number | null
 }
 
 /** An audit event of the request's timeline (readable by auditors, administrators and plant managers). */

@@ -1,4 +1,4 @@
-import type { ChangeItemDto } from '@shared/schemas/change-requests.ts'
+import type { ChangeItemDto, ChangeRequestDto } from '@shared/schemas/change-requests.ts'
 import type { Limit } from '@shared/schemas/register.ts'
 import type { ChangeItemBody, InstrumentRecord } from './api'
 import { fieldSpec, orderedKeys } from './format'
@@ -87,6 +87,27 @@ export function fromItemDto(i: ChangeItemDto): ItemDraft {
     instrumentId: i.instrumentId,
     fields,
     values: Object.fromEntries(fields.map((f) => [f, toEditValue(f, i.changes[f].to)])),
+  })
+}
+
+/**
+ * The items of a reversal, restoring what a temporary change set (docs/change-requests.md#expired-temporary-changes):
+ * each changed field back to its former value, a limit it put in service retired. A limit it retired cannot be put
+ * back by a change request (it is registered again), so it has no item here.
+ */
+export function reversalDrafts(temp: Pick<ChangeRequestDto, 'items'>): ItemDraft[] {
+  return temp.items.flatMap((i): ItemDraft[] => {
+    if (i.kind === 'create') return [newDraft('retire', { limitId: i.limitId })]
+    if (i.kind === 'retire') return []
+    const fields = orderedKeys(i.changes)
+    return [
+      newDraft(i.kind, {
+        limitId: i.limitId,
+        instrumentId: i.instrumentId,
+        fields,
+        values: Object.fromEntries(fields.map((f) => [f, toEditValue(f, i.changes[f].from)])),
+      }),
+    ]
   })
 }
 

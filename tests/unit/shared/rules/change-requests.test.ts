@@ -6,6 +6,7 @@ import {
   type ChangeRuleRecord,
   changeRequestRules,
   implementItemVerdict,
+  temporaryState,
 } from '../../../../shared/domain/rules/change-requests.ts'
 import type { Role } from '../../../../shared/schemas/users.ts'
 import { IMPACT_CHECKLIST } from '../../../../shared/schemas/change-requests.ts'
@@ -53,6 +54,8 @@ function record(over: Partial<ChangeRuleRecord>): ChangeRuleRecord {
     editorIds: [],
     approvedAt: null,
     approvalExpiresAt: null,
+    expiresAt: null,
+    reversals: [],
     items: [{ id: 11, kind: 'modify', implementedAt: null, stale: false }],
     signatures: [],
     checklist: checklist('none'),
@@ -130,6 +133,54 @@ const STATES: Record<string, ChangeRuleRecord> = {
     items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-31T11:00:00Z', stale: false }],
   }),
   closed: record({ status: 'closed', approvedAt: '2026-05-31T10:00:00Z', checklist: checklist('all') }),
+  // temporary changes (docs/change-requests.md#expired-temporary-changes); NOW is 2026-06-01T10:00Z
+  tempOnDevice: record({
+    type: 'temporary',
+    status: 'implemented',
+    approvedAt: '2026-05-31T10:00:00Z',
+    expiresAt: '2026-06-02T10:00:00Z',
+    checklist: checklist('before'),
+    signatures: [sig(2, 'approved'), sig(3, 'implemented')],
+    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-31T11:00:00Z', stale: false }],
+  }),
+  tempExpired: record({
+    type: 'temporary',
+    status: 'closed',
+    approvedAt: '2026-05-20T10:00:00Z',
+    expiresAt: '2026-05-31T10:00:00Z',
+    checklist: checklist('all'),
+    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-21T11:00:00Z', stale: false }],
+  }),
+  tempReversalUnderWay: record({
+    type: 'temporary',
+    status: 'implemented',
+    approvedAt: '2026-05-20T10:00:00Z',
+    expiresAt: '2026-05-31T10:00:00Z',
+    checklist: checklist('before'),
+    reversals: [
+      { id: 40, status: 'rejected' },
+      { id: 41, status: 'submitted' },
+    ],
+    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-21T11:00:00Z', stale: false }],
+  }),
+  tempReverted: record({
+    type: 'temporary',
+    status: 'implemented',
+    approvedAt: '2026-05-20T10:00:00Z',
+    expiresAt: '2026-05-31T10:00:00Z',
+    checklist: checklist('before'),
+    reversals: [{ id: 41, status: 'implemented' }],
+    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-21T11:00:00Z', stale: false }],
+  }),
+  tempApprovedPastEnd: record({
+    type: 'temporary',
+    status: 'approved',
+    approvedAt: '2026-05-20T10:00:00Z',
+    approvalExpiresAt: '2026-06-19T10:00:00Z',
+    expiresAt: '2026-05-31T10:00:00Z',
+    signatures: [sig(2, 'approved')],
+    checklist: checklist('before'),
+  }),
   withdrawn: record({ status: 'withdrawn' }),
   rejected: record({ status: 'rejected', signatures: [sig(2, 'rejected')] }),
 }
@@ -177,6 +228,17 @@ const TABLE: [state: keyof typeof STATES, who: keyof typeof PEOPLE, allowed: Cha
   ['closed', 'approver', []],
   ['withdrawn', 'engineer', []],
   ['rejected', 'engineer', []],
+  ['tempOnDevice', 'engineer', ['tick', 'proposeReversal']],
+  ['tempOnDevice', 'supervisor', []],
+  ['tempOnDevice', 'operator', []],
+  ['tempExpired', 'engineer', ['proposeReversal']],
+  ['tempExpired', 'engineer2', ['proposeReversal']],
+  ['tempExpired', 'approver', []],
+  ['tempExpired', 'elsewhere', []],
+  ['tempReversalUnderWay', 'engineer', ['tick']],
+  ['tempReverted', 'engineer', ['tick']],
+  ['tempApprovedPastEnd', 'technician', []],
+  ['tempApprovedPastEnd', 'engineer', ['tick']],
 ]
 
 describe('change-request rule book: state × role', () => {
@@ -188,6 +250,40 @@ describe('change-request rule book: state × role', () => {
       const v = rules[a]
       if (!v.allowed) expect(v.reason.length, `${a} gives a reason`).toBeGreaterThan(10)
     }
+  })
+})
+
+describe('temporary changes: their standing and the reversal', () => {
+  // written by hand from docs/change-requests.md#expired-temporary-changes (common practice: a temporary change
+  // past its end is reverted through a change request of its own, OSHA 1910.119(l))
+  it.each([
+    ['tempOnDevice', 'open'],
+    ['tempExpired', 'expired'],
+    ['tempReversalUnderWay', 'expired'],
+    ['tempReverted', 'reverted'],
+    ['tempApprovedPastEnd', null],
+    ['implementedReady', null],
+  ] as const)('%s is %s', (state, expected) => {
+    expect(temporaryState(STATES[state], NOW)).toBe(expected)
+  })
+
+  it('turns expired at its end exactly, and is open a millisecond before', () => {
+    const cr = { ...STATES.tempOnDevice, expiresAt: NOW.toISOString() }
+    expect(temporaryState(cr, NOW)).toBe('expired')
+    expect(temporaryState(cr, new Date(NOW.getTime() - 1))).toBe('open')
+  })
+
+  it('answers why a reversal is refused', () => {
+    const v = (state: keyof typeof STATES, who: keyof typeof PEOPLE) =>
+      changeRequestRules(STATES[state], actor(who), NOW).proposeReversal
+    expect(v('tempReversalUnderWay', 'engineer')).toMatchObject({ status: 409, reason: expect.stringContaining('#41') })
+    expect(v('tempReverted', 'engineer')).toMatchObject({ status: 409, reason: expect.stringContaining('reverted') })
+    expect(v('tempExpired', 'operator')).toMatchObject({ status: 403 })
+    expect(v('implementedReady', 'engineer')).toMatchObject({ status: 409 })
+    expect(changeRequestRules(STATES.tempApprovedPastEnd, actor('technician'), NOW).implement).toMatchObject({
+      status: 409,
+      reason: expect.stringContaining('passed its end'),
+    })
   })
 })
 
