@@ -49,6 +49,7 @@ export const AUDIT_ACTION_LABELS: Record<string, string> = {
   'change_request.approval_expired': 'Approval expired',
   'change_request.emergency_flagged': 'Emergency change overdue for approval',
   'change_request.revert_reminder': 'Temporary change due to be reverted',
+  'change_request.expired_not_reverted': 'Temporary change expired, not yet reverted',
   'trip_test.record': 'Trip test recorded',
   'trip_test.update': 'Trip test edited',
   'trip_test.attach': 'Attachment added to a trip test',
