@@ -13,6 +13,7 @@ import { migrateToLatest } from './db/migrate.ts'
 import { startFakeSmtp } from './dev/fake-smtp.ts'
 import { startModbusSim } from './dev/modbus-sim.ts'
 import { startServer } from './index.ts'
+import { logger } from './logger.ts'
 import { auditKeyPath, createAuditKeyFile } from './features/audit/audit.key.ts'
 import { systemClock } from './clock.ts'
 import { seedDemoActivity } from './seed/demo-activity.ts'
@@ -28,7 +29,7 @@ const cleanups: (() => Promise<void>)[] = []
 let stopping = false
 
 function fail(sentence: string): never {
-  console.error(`\n${sentence}\n`)
+  logger.error(sentence)
   void shutdown(1)
   throw new Error(sentence)
 }
@@ -36,11 +37,11 @@ function fail(sentence: string): never {
 async function shutdown(code: number) {
   if (stopping) return
   stopping = true
-  for (const c of cleanups.reverse()) await c().catch((e) => console.error(e instanceof Error ? e.message : e))
+  for (const c of cleanups.reverse()) await c().catch((err) => logger.error({ err }, 'stopping a part failed'))
   process.exit(code)
 }
 process.on('SIGINT', () => {
-  console.log('\nStopping…')
+  logger.info('Stopping…')
   void shutdown(0)
 })
 process.on('SIGTERM', () => void shutdown(0))
@@ -50,7 +51,7 @@ process.on('SIGTERM', () => void shutdown(0))
 const parentPid = process.ppid
 setInterval(() => {
   if (process.ppid !== parentPid && !stopping) {
-    console.log('The process that started Limitkeeper has ended; stopping…')
+    logger.info('The process that started Limitkeeper has ended; stopping…')
     void shutdown(0)
   }
 }, 250).unref()
@@ -66,16 +67,19 @@ async function startLocalPostgres(): Promise<void> {
   const env = { ...process.env, PGPORT: process.env.PGPORT ?? '54329' }
   try {
     const { stdout, stderr } = await run('bash', [pgScript, 'start'], { env })
-    if (stderr.trim()) console.log(stderr.trim())
+    if (stderr.trim()) logger.info({ component: 'postgres' }, stderr.trim())
     for (const line of stdout.split('\n')) {
       const m = /^([A-Z_]+)=(.*)$/.exec(line.trim())
       if (m && ['DATABASE_URL', 'MIGRATION_DATABASE_URL', 'PG_DIR'].includes(m[1])) process.env[m[1]] = m[2]
     }
     cleanups.push(async () => {
       await run('bash', [pgScript, 'stop'], { env })
-      console.log('PostgreSQL stopped.')
+      logger.info({ component: 'postgres' }, 'PostgreSQL stopped.')
     })
-    console.log(`PostgreSQL running on 127.0.0.1:${env.PGPORT} (data in ${process.env.PG_DIR})`)
+    logger.info(
+      { component: 'postgres' },
+      `PostgreSQL running on 127.0.0.1:${env.PGPORT} (data in ${process.env.PG_DIR})`,
+    )
   } catch (err) {
     const e = err as { code?: number; stderr?: string }
     fail(e.stderr?.trim().split('\n').pop() || 'PostgreSQL could not be started; see .data/pg/server.log.')
@@ -90,7 +94,7 @@ async function buildClientIfChanged() {
     ),
   )
   if (existsSync(distIndex) && statSync(distIndex).mtimeMs >= sources) return
-  console.log('Building the client…')
+  logger.info('Building the client…')
   await new Promise<void>((resolve, reject) => {
     const child = spawn(
       process.execPath,
@@ -108,7 +112,7 @@ function ensureAuditKey() {
   const file = auditKeyPath()
   if (existsSync(file)) return
   createAuditKeyFile(file)
-  console.log(
+  logger.warn(
     `Created the audit key ${file} (keyed links and signed checkpoints of the audit trail).\n` +
       'In production keep it outside the database host and its backups, and back it up separately: without it the ' +
       'audit trail cannot be verified (docs/deployment.md).',
@@ -128,7 +132,7 @@ async function main() {
       fail(`${err instanceof Error ? err.message : err} — fix the migration or the database and run npm start again.`)
     }
   } else {
-    console.log(
+    logger.warn(
       'Migrations not run: set MIGRATION_DATABASE_URL (the owner role) to migrate at start, or run npm run db:migrate.',
     )
   }
@@ -161,7 +165,7 @@ async function main() {
         await seedDemoActivity(db, config, systemClock)
         await seedDemoShiftHandover(db, systemClock)
         await seedDemoReconciliation(db, systemClock, { port: modbusSimPort })
-        console.log('Demo plant seeded.')
+        logger.info('Demo plant seeded.')
       }
     } finally {
       await db.destroy()
@@ -171,6 +175,7 @@ async function main() {
   const server = await startServer(config).catch((err) => fail(err instanceof Error ? err.message : String(err)))
   cleanups.push(() => server.close())
 
+  // the banner is for the person at the terminal (URL and demo accounts), not a log event
   console.log(`\nLimitkeeper is ready at ${server.url}  (${((Date.now() - started) / 1000).toFixed(1)} s)`)
   if (smtpPort)
     console.log(`Mail goes to the local fake SMTP server on 127.0.0.1:${smtpPort}; admins see it under Mail.`)
@@ -185,7 +190,7 @@ async function main() {
 
 main().catch((err) => {
   if (!stopping) {
-    console.error(err instanceof Error ? err.message : err)
+    logger.error({ err }, err instanceof Error ? err.message : String(err))
     void shutdown(1)
   }
 })

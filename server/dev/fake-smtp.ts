@@ -1,6 +1,7 @@
 import type { AddressInfo } from 'node:net'
 import { simpleParser, type ParsedMail } from 'mailparser'
 import { SMTPServer } from 'smtp-server'
+import { logger } from '../logger.ts'
 
 export interface FakeSmtp {
   port: number
@@ -23,8 +24,11 @@ export async function startFakeSmtp(port = 0, opts: { quiet?: boolean } = {}): P
     onData(stream, _session, cb) {
       simpleParser(stream).then((m) => {
         inbox.push(m)
-        if (!opts.quiet && process.env.NODE_ENV !== 'test')
-          console.log(`mail captured → ${m.to && 'text' in m.to ? m.to.text : ''}: ${m.subject ?? ''}`)
+        if (!opts.quiet)
+          logger.info(
+            { component: 'fake-smtp', to: m.to && 'text' in m.to ? m.to.text : '', subject: m.subject ?? '' },
+            'mail captured',
+          )
         for (const w of [...waiters])
           if (w.pred(m)) {
             waiters.splice(waiters.indexOf(w), 1)

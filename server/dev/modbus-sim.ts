@@ -6,6 +6,7 @@ import net from 'node:net'
 import { ServerTCP } from 'modbus-serial'
 import { encodeRegisters, registerCount } from '../../shared/domain/modbus-decode.ts'
 import type { RegisterMapEntry } from '../../shared/schemas/reconciliation.ts'
+import { logger } from '../logger.ts'
 import { DEMO_DEVICES } from '../seed/demo-reconciliation.ts'
 
 export interface SimRequest {
@@ -151,8 +152,11 @@ export async function startModbusSim(
         requests.push(req)
         if (![1, 2, 3, 4].includes(req.functionCode)) {
           writeAttempts.push(req)
-          if (!opts.quiet && process.env.NODE_ENV !== 'test')
-            console.log(`simulated Modbus device refused function code ${req.functionCode} (unit ${req.unitId})`)
+          if (!opts.quiet)
+            logger.warn(
+              { component: 'modbus-sim', functionCode: req.functionCode, unitId: req.unitId },
+              'simulated Modbus device refused a write',
+            )
         }
         buf = buf.subarray(6 + len)
       }

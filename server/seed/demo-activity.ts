@@ -6,6 +6,7 @@ import type { Clock } from '../clock.ts'
 import type { Config } from '../config.ts'
 import type { Db } from '../db/index.ts'
 import type { AppDeps } from '../deps.ts'
+import { logger } from '../logger.ts'
 import { activateBypass, authorizeBypass, requestBypass } from '../features/bypasses/bypasses.service.ts'
 import {
   approveChangeRequest,
@@ -205,7 +206,7 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
         )
     } catch (err) {
       // a demo change that does not fit its window is simply not seeded
-      console.warn(`demo change for ${l.tag} skipped: ${err instanceof Error ? err.message : err}`)
+      logger.warn({ component: 'seed', tag: l.tag, err }, 'demo change skipped')
     }
   }
   await seedDemoDemands(deps, as)
