@@ -1,5 +1,6 @@
 import { ForbiddenError, subject } from '@casl/ability'
 import type { Action, AppAbility, SubjectName } from '../shared/abilities/index.ts'
+import { notFound } from './errors.ts'
 
 /** Throws CASL's ForbiddenError (→ 403) unless the ability allows `action` on the subject (with its fields). */
 export function authorize(
@@ -20,6 +21,20 @@ export function allows(
   obj?: Record<string, unknown>,
 ): boolean {
   return obj ? ability.can(action, subject(name, { ...obj }) as never) : ability.can(action, name)
+}
+
+/**
+ * Throws 404, exactly as for an id that does not exist, unless the user may read the record: an id of another site's
+ * record answers like a missing one, so ids tell nothing about what exists elsewhere (docs/security.md#authorization).
+ * Called where a service loads the record, before any other check on it.
+ */
+export function ensureVisible(
+  ability: AppAbility,
+  name: Exclude<SubjectName, 'all'>,
+  obj: Record<string, unknown>,
+  what: string,
+): void {
+  if (!allows(ability, 'read', name, obj)) throw notFound(what)
 }
 
 /** Every site where the user holds any role (what they may read). */

@@ -97,7 +97,7 @@ describe('reconciliation of the demo devices', () => {
     // int32 60440 hundredths of °F = 604.4 °F (318 °C × 1.8 + 32)
     expect(sp).toMatchObject({ value: '604.4', unit: '°F', raw: [0, 60440] })
     const op = await signedIn(app, 'operator')
-    await op.post(`/api/reconciliation-sources/${smp.id}/reads`).expect(403)
+    await op.post(`/api/reconciliation-sources/${smp.id}/reads`).expect(404)
   })
 
   it('a silent device is an unreachable finding within its timeout, and the other sources still run', async () => {

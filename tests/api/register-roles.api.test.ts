@@ -209,11 +209,13 @@ describe('register: reading by role and site', () => {
   }
 
   for (const who of ['operator', 'supervisor'] as const) {
-    it(`shows ${who} (FHR only) no SMP rows and answers 403 for an SMP limit, instrument and process`, async () => {
+    it(`shows ${who} (FHR only) no SMP rows and answers 404 for an SMP limit, instrument and process`, async () => {
       const a = agents[who]
-      await a.get(`/api/limits/${smp.limitId}`).expect(403)
-      await a.get(`/api/instruments/${smp.instrumentId}`).expect(403)
-      await a.get(`/api/processes/${smp.processId}`).expect(403)
+      // another site's record answers exactly as a missing id (docs/security.md#authorization)
+      const missing = (await a.get('/api/limits/2147483647').expect(404)).body
+      expect((await a.get(`/api/limits/${smp.limitId}`).expect(404)).body).toEqual(missing)
+      await a.get(`/api/instruments/${smp.instrumentId}`).expect(404)
+      await a.get(`/api/processes/${smp.processId}`).expect(404)
       const all = (await a.get('/api/limits?pageSize=200').expect(200)).body
       expect(all.items.length).toBeGreaterThan(0)
       expect(all.items.every((l: { siteId: number }) => l.siteId === fhr.siteId)).toBe(true)

@@ -13,7 +13,7 @@ import {
   type JournalUpload,
 } from '../../../shared/schemas/alarms.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { authorize, scopeSites } from '../../authorize.ts'
+import { authorize, scopeSites, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { AlarmJournalUploadTable } from '../../db/schema.ts'
 import { notFound, validationFailed } from '../../errors.ts'
@@ -368,7 +368,7 @@ function journalLine(
 export async function getJournalUpload(deps: AppDeps, ability: AppAbility, id: number): Promise<JournalUpload> {
   const r = await repo.journalUploadById(deps.db, id)
   if (!r) throw notFound('Alarm journal upload')
-  authorize(ability, 'read', 'AlarmJournal', { siteId: r.site_id })
+  ensureVisible(ability, 'AlarmJournal', { siteId: r.site_id }, 'Alarm journal upload')
   return toDto(r)
 }
 

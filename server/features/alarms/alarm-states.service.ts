@@ -3,7 +3,7 @@ import { alarmStateVerdicts, isOverdue, mayStart } from '../../../shared/domain/
 import type { AlarmState, AlarmStateInput } from '../../../shared/schemas/alarms.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
 import type { Role } from '../../../shared/schemas/users.ts'
-import { authorize, scopeSites } from '../../authorize.ts'
+import { authorize, scopeSites, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, notFound, validationFailed } from '../../errors.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
@@ -145,6 +145,7 @@ export async function endAlarmState(
 ): Promise<AlarmState> {
   const found = await repo.stateById(deps.db, id)
   if (!found) throw notFound('Alarm state')
+  ensureVisible(ability, 'AlarmState', { siteId: found.site_id }, 'Alarm state')
   authorize(ability, 'update', 'AlarmState', { siteId: found.site_id })
   await deps.db.transaction().execute(async (trx) => {
     const r = (await repo.lockState(trx, id))!
@@ -186,6 +187,6 @@ export async function listAlarmStates(
 export async function getAlarmState(deps: AppDeps, ability: AppAbility, user: CurrentUser, id: number) {
   const r = await repo.stateById(deps.db, id)
   if (!r) throw notFound('Alarm state')
-  authorize(ability, 'read', 'AlarmState', { siteId: r.site_id })
+  ensureVisible(ability, 'AlarmState', { siteId: r.site_id }, 'Alarm state')
   return toDto(r, user, deps.clock.now())
 }

@@ -12,7 +12,7 @@ import {
 } from '../../../shared/domain/alarm-limit-state.ts'
 import type { ReplayRun, ReplayRunInput, ReplayUpload } from '../../../shared/schemas/alarms.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { authorize, scopeSites } from '../../authorize.ts'
+import { authorize, scopeSites, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { ProcessDataUploadTable } from '../../db/schema.ts'
 import { notFound, unprocessable, validationFailed } from '../../errors.ts'
@@ -277,7 +277,7 @@ export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> 
 export async function getReplayUpload(deps: AppDeps, ability: AppAbility, id: number) {
   const r = await repo.replayUploadById(deps.db, id)
   if (!r) throw notFound('Process-data upload')
-  authorize(ability, 'read', 'Replay', { siteId: r.site_id })
+  ensureVisible(ability, 'Replay', { siteId: r.site_id }, 'Process-data upload')
   return toDto(r)
 }
 
@@ -344,7 +344,7 @@ export async function runReplay(
 ): Promise<ReplayRun> {
   const upload = await repo.replayUploadById(deps.db, id)
   if (!upload) throw notFound('Process-data upload')
-  authorize(ability, 'read', 'Replay', { siteId: upload.site_id })
+  ensureVisible(ability, 'Replay', { siteId: upload.site_id }, 'Process-data upload')
   if (upload.status !== 'done')
     throw unprocessable('The process data is not loaded yet (or failed); wait for the upload')
   let instrumentId = upload.instrument_id

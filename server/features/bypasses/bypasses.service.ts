@@ -15,7 +15,7 @@ import {
 import type { Verdict } from '../../../shared/domain/rules/verdict.ts'
 import type { BypassDto, CreateBypassInput } from '../../../shared/schemas/bypasses.ts'
 import type { SitePolicy } from '../../../shared/schemas/sites.ts'
-import { authorize } from '../../authorize.ts'
+import { allows, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { conflict, enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -112,7 +112,7 @@ export async function loadBypasses(
 export async function getBypass(deps: AppDeps, ability: AppAbility, id: number): Promise<BypassDto> {
   const [dto] = await loadBypasses(deps, [id])
   if (!dto) throw notFound('Bypass')
-  authorize(ability, 'read', 'Bypass', { siteId: dto.siteId })
+  ensureVisible(ability, 'Bypass', { siteId: dto.siteId }, 'Bypass')
   return dto
 }
 
@@ -194,6 +194,9 @@ export async function requestBypass(
   input: CreateBypassInput,
 ): Promise<BypassDto> {
   const l = await limitOf(deps.db, input.limitId)
+  // another site's limit answers as a missing one (docs/security.md#authorization)
+  if (!allows(ability, 'read', 'Limit', { siteId: l.site_id }))
+    throw validationFailed({ limitId: ['The limit does not exist'] })
   enforce(
     requestVerdict(
       { siteId: l.site_id, tag: l.tag, status: l.status, bypassPermitted: l.bypass_permitted },
@@ -297,10 +300,11 @@ async function factsFor(db: Parameters<typeof repo.lockBypass>[0], id: number, n
   return { b, l, facts: factsOf(b, l), rule }
 }
 
-/** The site of a bypass, for the actor's roles (404 for a missing bypass). */
-async function siteOf(deps: AppDeps, id: number) {
+/** The site of a bypass, for the actor's roles (404 for a missing bypass and for one the user cannot see). */
+async function siteOf(deps: AppDeps, ability: AppAbility, id: number) {
   const b = await repo.findBypassSite(deps.db, id)
   if (!b) throw notFound('Bypass')
+  ensureVisible(ability, 'Bypass', { siteId: b.site_id }, 'Bypass')
   return b.site_id
 }
 
@@ -316,7 +320,7 @@ export async function authorizeBypass(
   id: number,
   input: { password: string; hours?: number; comment: string },
 ): Promise<BypassDto> {
-  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, id))
+  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, ability, id))
   const judge = (x: Awaited<ReturnType<typeof factsFor>>) => {
     const extension = x.b.status === 'authorized' || x.b.status === 'active'
     if (extension && !input.hours) {
@@ -400,7 +404,7 @@ export async function rejectBypass(
   password: string,
   comment: string,
 ) {
-  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, id))
+  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, ability, id))
   await deps.db
     .transaction()
     .execute(async (trx) => enforce(rejectVerdict((await factsFor(trx, id, deps.clock.now())).facts, actor)))
@@ -438,7 +442,7 @@ export async function activateBypass(
   ctx: AuditContext,
   id: number,
 ): Promise<BypassDto> {
-  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, id))
+  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, ability, id))
   try {
     await deps.db.transaction().execute(async (trx) => {
       const now = deps.clock.now()
@@ -474,7 +478,7 @@ export async function removeBypass(
   id: number,
   input: { note: string },
 ): Promise<BypassDto> {
-  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, id))
+  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, ability, id))
   await deps.db.transaction().execute(async (trx) => {
     const { b, facts } = await factsFor(trx, id, deps.clock.now())
     enforce(removeVerdict(facts, actor))
@@ -511,7 +515,7 @@ export async function cancelBypass(
   ctx: AuditContext,
   id: number,
 ): Promise<BypassDto> {
-  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, id))
+  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, ability, id))
   await deps.db.transaction().execute(async (trx) => {
     const { b, facts } = await factsFor(trx, id, deps.clock.now())
     enforce(cancelVerdict(facts, actor))

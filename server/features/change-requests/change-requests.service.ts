@@ -34,7 +34,7 @@ import {
   openChecks,
   temporaryState,
 } from '../../../shared/domain/rules/change-requests.ts'
-import { authorize } from '../../authorize.ts'
+import { authorize, ensureVisible } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
@@ -309,7 +309,7 @@ export async function getChangeRequest(
   db: AppDeps['db'] | Trx = deps.db,
 ): Promise<ChangeRequestDto> {
   const row = await loadRow(db, id)
-  authorize(ability, 'read', 'ChangeRequest', { siteId: row.site_id })
+  ensureVisible(ability, 'ChangeRequest', { siteId: row.site_id }, 'Change request')
   const site = await repo.siteOf(db, row.site_id)
   const proposer = await repo.userContact(db, row.proposer_id)
   const items = await repo.itemsWithTargets(db, id)

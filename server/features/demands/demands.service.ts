@@ -17,7 +17,7 @@ import {
   CreditDemandInputSchema,
 } from '../../../shared/schemas/demands.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { authorize } from '../../authorize.ts'
+import { authorize, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -96,7 +96,7 @@ async function load(deps: AppDeps, ability: AppAbility, userId: number, ids: num
 export async function getDemand(deps: AppDeps, ability: AppAbility, userId: number, id: number): Promise<DemandDto> {
   const [d] = await load(deps, ability, userId, [id])
   if (!d) throw notFound('Demand')
-  authorize(ability, 'read', 'Demand', { siteId: d.siteId })
+  ensureVisible(ability, 'Demand', { siteId: d.siteId }, 'Demand')
   return d
 }
 
@@ -138,7 +138,7 @@ export async function recordDemand(
   const input = CreateDemandInputSchema.parse(raw)
   const limit = await repo.findLimitForDemand(deps.db, input.limitId)
   if (!limit) throw notFound('Limit')
-  authorize(ability, 'read', 'Limit', { siteId: limit.site_id })
+  ensureVisible(ability, 'Limit', { siteId: limit.site_id }, 'Limit')
   const now = deps.clock.now()
   const occurredAt = new Date(input.occurredAt)
   enforce(
@@ -188,7 +188,7 @@ export async function classifyDemand(
   await deps.db.transaction().execute(async (trx) => {
     const d = await repo.findDemandFacts(trx, id, true)
     if (!d) throw notFound('Demand')
-    authorize(ability, 'read', 'Demand', { siteId: d.site_id })
+    ensureVisible(ability, 'Demand', { siteId: d.site_id }, 'Demand')
     const now = deps.clock.now()
     enforce(demandVerdicts(facts(d), { userId: ctx.actorId!, ability }, policyOf(d), now).classify)
     await repo.classifyDemandRow(trx, id, {
@@ -219,7 +219,7 @@ export async function creditDemand(
   const input = CreditDemandInputSchema.parse(raw)
   const pre = await repo.findDemandFacts(deps.db, id)
   if (!pre) throw notFound('Demand')
-  authorize(ability, 'read', 'Demand', { siteId: pre.site_id })
+  ensureVisible(ability, 'Demand', { siteId: pre.site_id }, 'Demand')
   // role, policy and state first (nothing written), then the slow password check, then the locked transaction
   enforce(demandVerdicts(facts(pre), { userId: ctx.actorId!, ability }, policyOf(pre), deps.clock.now()).credit)
   const signer = await verifySignaturePassword(deps, ctx.actorId!, input.password, ctx, {
@@ -355,6 +355,7 @@ export async function setDemandAssumptions(
   const input = DemandAssumptionsInputSchema.parse(raw)
   const before = await repo.findLimitAssumptions(deps.db, limitId)
   if (!before) throw notFound('Limit')
+  ensureVisible(ability, 'Limit', { siteId: before.site_id }, 'Limit')
   authorize(ability, 'update', 'Limit', { siteId: before.site_id })
   const now = deps.clock.now()
   if (input.commissionedAt && new Date(`${input.commissionedAt}T00:00:00Z`) > now)

@@ -13,7 +13,7 @@ import {
   type FindingListQuery,
   type LimitReconciliation,
 } from '../../../shared/schemas/reconciliation.ts'
-import { authorize, scopeSites } from '../../authorize.ts'
+import { ensureVisible, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { conflict, enforce, invalidState, notFound, unprocessable } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -120,7 +120,7 @@ export async function listFindings(
 export async function getFinding(deps: AppDeps, ability: AppAbility, id: number): Promise<Finding> {
   const f = await repo.findFinding(deps.db, id)
   if (!f) throw notFound('Finding')
-  authorize(ability, 'read', 'Finding', { siteId: f.site_id })
+  ensureVisible(ability, 'Finding', { siteId: f.site_id }, 'Finding')
   return (await toFindings(deps, ability, [f]))[0]
 }
 
@@ -133,7 +133,7 @@ async function locked(
 ) {
   const f = await repo.lockFinding(trx, id)
   if (!f) throw notFound('Finding')
-  authorize(ability, 'read', 'Finding', { siteId: f.site_id })
+  ensureVisible(ability, 'Finding', { siteId: f.site_id }, 'Finding')
   if (f.version !== version)
     throw conflict('The finding changed since you opened it (a run or a colleague): reload it and try again')
   void deps
@@ -210,7 +210,7 @@ export async function acceptFinding(
 ): Promise<Finding> {
   const before = await repo.findFinding(deps.db, id)
   if (!before) throw notFound('Finding')
-  authorize(ability, 'read', 'Finding', { siteId: before.site_id })
+  ensureVisible(ability, 'Finding', { siteId: before.site_id }, 'Finding')
   // role and state first (403/409, nothing written), then the slow password check, then the locked transaction
   enforce(findingVerdict(recordOf(before), actorOf(ability, before.site_id), 'accept'))
   const signer = await verifySignaturePassword(deps, ctx.actorId!, input.password, ctx, {
@@ -286,7 +286,7 @@ export async function limitReconciliations(
 ): Promise<LimitReconciliation[]> {
   const limit = await repo.findLimitSite(deps.db, limitId)
   if (!limit) throw notFound('Limit')
-  authorize(ability, 'read', 'Limit', { siteId: limit.site_id })
+  ensureVisible(ability, 'Limit', { siteId: limit.site_id }, 'Limit')
   const rows = await repo.limitReconciliations(deps.db, limitId)
   return rows.map((r) => ({
     sourceId: r.source_id,

@@ -11,7 +11,7 @@ import {
   TolerancesSchema,
 } from '../../../shared/schemas/reconciliation.ts'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
-import { authorize, scopeSites } from '../../authorize.ts'
+import { ensureVisible, scopeSites } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { Config } from '../../config.ts'
 import type { AppDeps } from '../../deps.ts'
@@ -355,6 +355,6 @@ export async function listRuns(
 export async function getRun(deps: AppDeps, ability: AppAbility, id: number): Promise<Run> {
   const r = await repo.findRun(deps.db, id)
   if (!r) throw notFound('Run')
-  authorize(ability, 'read', 'ReconciliationSource', { siteId: r.site_id })
+  ensureVisible(ability, 'ReconciliationSource', { siteId: r.site_id }, 'Run')
   return toRun(r)
 }

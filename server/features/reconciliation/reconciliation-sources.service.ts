@@ -18,7 +18,7 @@ import {
   type Source,
   type UpdateSourceInputSchema,
 } from '../../../shared/schemas/reconciliation.ts'
-import { authorize, scopeSites } from '../../authorize.ts'
+import { authorize, scopeSites, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { conflict, invalidState, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -104,7 +104,7 @@ export async function listSources(
 export async function getSource(deps: AppDeps, ability: AppAbility, id: number): Promise<Source> {
   const s = await repo.findSource(deps.db, id)
   if (!s) throw notFound('Source')
-  authorize(ability, 'read', 'ReconciliationSource', { siteId: s.site_id })
+  ensureVisible(ability, 'ReconciliationSource', { siteId: s.site_id }, 'Source')
   return present(deps, s)
 }
 
@@ -183,6 +183,7 @@ export async function updateSource(
   await deps.db.transaction().execute(async (trx) => {
     const s = await repo.lockSource(trx, id)
     if (!s) throw notFound('Source')
+    ensureVisible(ability, 'ReconciliationSource', { siteId: s.site_id }, 'Source')
     authorize(ability, 'update', 'ReconciliationSource', { siteId: s.site_id })
     if (patch.version !== s.version)
       throw conflict('Somebody changed this source since you opened it: reload it and make your change again')
@@ -239,6 +240,7 @@ export async function readNow(
 ): Promise<ReadNowResult> {
   const s = await repo.findSource(deps.db, id)
   if (!s) throw notFound('Source')
+  ensureVisible(ability, 'ReconciliationSource', { siteId: s.site_id }, 'Source')
   authorize(ability, 'reconcile', 'ReconciliationSource', { siteId: s.site_id })
   if (s.kind !== 'modbus')
     throw invalidState('Only a live device can be read now; upload an export to this source instead')
@@ -261,6 +263,7 @@ export async function readNow(
 export async function runNow(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number): Promise<Run> {
   const s = await repo.findSource(deps.db, id)
   if (!s) throw notFound('Source')
+  ensureVisible(ability, 'ReconciliationSource', { siteId: s.site_id }, 'Source')
   authorize(ability, 'reconcile', 'ReconciliationSource', { siteId: s.site_id })
   if (s.kind !== 'modbus')
     throw invalidState('An export source is reconciled by uploading its export; there is nothing to read now')
@@ -320,6 +323,7 @@ export async function uploadExport(
 ): Promise<Run & { mapping: Record<string, string>; ignoredColumns: string[] }> {
   const s = await repo.findSource(deps.db, id)
   if (!s) throw notFound('Source')
+  ensureVisible(ability, 'ReconciliationSource', { siteId: s.site_id }, 'Source')
   authorize(ability, 'reconcile', 'ReconciliationSource', { siteId: s.site_id })
   if (s.kind !== 'export') throw invalidState('A live device is read, not uploaded: use "run now"')
   const table = await readTable(file.buffer)

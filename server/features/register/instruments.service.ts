@@ -6,7 +6,7 @@ import {
   CreateInstrumentInputSchema,
   type Instrument,
 } from '../../../shared/schemas/register.ts'
-import { allows, authorize } from '../../authorize.ts'
+import { allows, authorize, ensureVisible } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
@@ -95,7 +95,7 @@ export async function listInstruments(
 
 export async function getInstrument(deps: AppDeps, ability: AppAbility, id: number) {
   const i = await load(deps.db, id)
-  authorize(ability, 'read', 'Instrument', { siteId: i.siteId })
+  ensureVisible(ability, 'Instrument', { siteId: i.siteId }, 'Instrument')
   return i
 }
 
@@ -106,7 +106,9 @@ export async function createInstrument(
   input: CreateInstrumentInput,
 ) {
   const process = await deps.db.selectFrom('process').selectAll().where('id', '=', input.processId).executeTakeFirst()
-  if (!process) throw validationFailed({ processId: ['The process does not exist'] })
+  // another site's process answers as a missing one (docs/security.md#authorization)
+  if (!process || !allows(ability, 'read', 'Process', { siteId: process.site_id }))
+    throw validationFailed({ processId: ['The process does not exist'] })
   authorize(ability, 'create', 'Instrument', { siteId: process.site_id })
   const id = await deps.db.transaction().execute((trx) => insertInstrument(trx, deps.clock, ctx, input, process))
   return load(deps.db, id)
@@ -172,6 +174,7 @@ export async function updateInstrument(
 ) {
   await deps.db.transaction().execute(async (trx) => {
     const before = await load(trx, id, true)
+    ensureVisible(ability, 'Instrument', { siteId: before.siteId }, 'Instrument')
     authorize(ability, 'update', 'Instrument', { siteId: before.siteId })
     const active = await trx
       .selectFrom('limit_instrument')

@@ -6,7 +6,7 @@ import { ErrorCode } from '../../../shared/errors.ts'
 import type { CreateLimitInput, Limit, UpdateLimitInput } from '../../../shared/schemas/register.ts'
 import { CreateLimitInputSchema } from '../../../shared/schemas/register.ts'
 import type { SitePolicy } from '../../../shared/schemas/sites.ts'
-import { authorize } from '../../authorize.ts'
+import { allows, authorize, ensureVisible } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
@@ -169,7 +169,7 @@ function toDraft(l: Limit): CreateLimitInput {
 
 export async function getLimit(deps: AppDeps, ability: AppAbility, id: number): Promise<Limit> {
   const limit = await loadLimit(deps.db, id)
-  authorize(ability, 'read', 'Limit', { siteId: limit.siteId })
+  ensureVisible(ability, 'Limit', { siteId: limit.siteId }, 'Limit')
   return limit
 }
 
@@ -180,7 +180,9 @@ export async function createLimit(
   input: CreateLimitInput,
 ): Promise<Limit> {
   const process = await deps.db.selectFrom('process').selectAll().where('id', '=', input.processId).executeTakeFirst()
-  if (!process) throw validationFailed({ processId: ['The process does not exist'] })
+  // another site's process answers as a missing one (docs/security.md#authorization)
+  if (!process || !allows(ability, 'read', 'Process', { siteId: process.site_id }))
+    throw validationFailed({ processId: ['The process does not exist'] })
   authorize(ability, 'create', 'Limit', { siteId: process.site_id })
   const id = await deps.db.transaction().execute((trx) => insertLimit(trx, deps.clock, ctx, input, process))
   return loadLimit(deps.db, id)
@@ -252,6 +254,7 @@ export async function updateLimit(
 ): Promise<Limit> {
   await deps.db.transaction().execute(async (trx) => {
     const before = await loadLimit(trx, id, true)
+    ensureVisible(ability, 'Limit', { siteId: before.siteId }, 'Limit')
     authorize(ability, 'update', 'Limit', { siteId: before.siteId })
     if (before.status !== 'proposed')
       throw invalidState(`Limit ${before.tag} is ${before.status}: it changes only through a change request`)
@@ -326,6 +329,7 @@ export function lockLimit(trx: Trx, id: number): Promise<Limit> {
 export async function deleteLimit(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number): Promise<void> {
   await deps.db.transaction().execute(async (trx) => {
     const before = await loadLimit(trx, id, true)
+    ensureVisible(ability, 'Limit', { siteId: before.siteId }, 'Limit')
     authorize(ability, 'delete', 'Limit', { siteId: before.siteId })
     if (before.status !== 'proposed')
       throw invalidState('Only draft (proposed) limits can be deleted; retire an active limit through a change request')

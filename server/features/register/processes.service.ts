@@ -1,6 +1,6 @@
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
-import { allows, authorize } from '../../authorize.ts'
+import { allows, authorize, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { AppError, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -21,7 +21,7 @@ export async function listProcesses(deps: AppDeps, ability: AppAbility, f: { sit
 export async function getProcess(deps: AppDeps, ability: AppAbility, id: number) {
   const row = await deps.db.selectFrom('process').selectAll().where('id', '=', id).executeTakeFirst()
   if (!row) throw notFound('Process')
-  authorize(ability, 'read', 'Process', { siteId: row.site_id })
+  ensureVisible(ability, 'Process', { siteId: row.site_id }, 'Process')
   return toProcess(row)
 }
 
@@ -32,7 +32,9 @@ export async function createProcess(
   input: { areaId: number; name: string; description: string },
 ) {
   const area = await deps.db.selectFrom('area').selectAll().where('id', '=', input.areaId).executeTakeFirst()
-  if (!area) throw validationFailed({ areaId: ['The area does not exist'] })
+  // another site's area answers as a missing one (docs/security.md#authorization)
+  if (!area || !allows(ability, 'read', 'Process', { siteId: area.site_id }))
+    throw validationFailed({ areaId: ['The area does not exist'] })
   authorize(ability, 'create', 'Process', { siteId: area.site_id })
   return deps.db.transaction().execute(async (trx) => {
     const dup = await trx
@@ -78,6 +80,7 @@ export async function updateProcess(
   return deps.db.transaction().execute(async (trx) => {
     const before = await trx.selectFrom('process').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
     if (!before) throw notFound('Process')
+    ensureVisible(ability, 'Process', { siteId: before.site_id }, 'Process')
     authorize(ability, 'update', 'Process', { siteId: before.site_id })
     const row = await trx
       .updateTable('process')

@@ -1,5 +1,5 @@
 import type { AppAbility } from '../../../shared/abilities/index.ts'
-import { authorize } from '../../authorize.ts'
+import { authorize, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { invalidState, notFound } from '../../errors.ts'
 import { responseSheetsPdf } from './response-sheets.pdf.ts'
@@ -9,7 +9,7 @@ import { findAreaSite, findResponseSheetRows } from './response-sheets.repositor
 export async function responseSheet(deps: AppDeps, ability: AppAbility, limitId: number) {
   const [row] = await findResponseSheetRows(deps.db, { limitId })
   if (!row) throw notFound('Limit')
-  authorize(ability, 'read', 'Limit', { siteId: row.site_id })
+  ensureVisible(ability, 'Limit', { siteId: row.site_id }, 'Limit')
   if (row.limit_class === 'trip') throw invalidState('A trip acts by itself and has no alarm response sheet')
   return { pdf: await responseSheetsPdf([row], `Alarm response sheet ${row.tag}`, deps.clock.now()), tag: row.tag }
 }

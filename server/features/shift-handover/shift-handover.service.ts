@@ -7,7 +7,7 @@ import type {
   ShiftHandoverDto,
   ShiftHandoverState,
 } from '../../../shared/schemas/shift-handover.ts'
-import { authorize } from '../../authorize.ts'
+import { ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -150,7 +150,7 @@ export async function handoverState(
   areaIds: number[],
 ): Promise<ShiftHandoverState> {
   const { ids, snapshot, stateHash } = await liveSnapshot(deps, deps.db, areaIds)
-  authorize(ability, 'read', 'ShiftHandover', { siteId: snapshot.site.id })
+  ensureVisible(ability, 'ShiftHandover', { siteId: snapshot.site.id }, 'Area')
   const [pendingIds, recentIds] = await Promise.all([
     repo.findHandoverIds(deps.db, ids, { status: 'handed_over', limit: 10 }),
     repo.findHandoverIds(deps.db, ids, { limit: 10 }),
@@ -170,7 +170,7 @@ export async function handoverState(
 export async function getHandover(deps: AppDeps, ability: AppAbility, id: number): Promise<ShiftHandoverDto> {
   const [dto] = await toDtos(deps, deps.db, [id])
   if (!dto) throw notFound('Shift handover')
-  authorize(ability, 'read', 'ShiftHandover', { siteId: dto.siteId })
+  ensureVisible(ability, 'ShiftHandover', { siteId: dto.siteId }, 'Shift handover')
   return dto
 }
 
@@ -186,6 +186,7 @@ export async function handOver(
 ): Promise<ShiftHandoverDto> {
   const actor = { id: ctx.actorId ?? -1, ability }
   const pre = await liveSnapshot(deps, deps.db, input.areaIds)
+  ensureVisible(ability, 'ShiftHandover', { siteId: pre.snapshot.site.id }, 'Area')
   enforce(
     handOverVerdict({ siteId: pre.snapshot.site.id }, actor, { shownHash: input.stateHash, liveHash: pre.stateHash }),
   )

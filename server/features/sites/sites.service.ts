@@ -14,7 +14,7 @@ import type {
   UpdateAreaInputSchema,
   UpdateSiteInputSchema,
 } from '../../../shared/schemas/sites.ts'
-import { allows, authorize } from '../../authorize.ts'
+import { allows, authorize, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { SiteRow } from '../../db/schema.ts'
 import { conflict, notFound } from '../../errors.ts'
@@ -46,7 +46,7 @@ export async function listSites(deps: AppDeps, ability: AppAbility): Promise<Lis
 export async function getSite(deps: AppDeps, ability: AppAbility, id: number): Promise<Site> {
   const row = await deps.db.selectFrom('site').selectAll().where('id', '=', id).executeTakeFirst()
   if (!row) throw notFound('Site')
-  authorize(ability, 'read', 'Site', { id })
+  ensureVisible(ability, 'Site', { id }, 'Site')
   return toSite(row)
 }
 
@@ -93,6 +93,7 @@ export async function updateSite(
   id: number,
   input: z.infer<typeof UpdateSiteInputSchema>,
 ): Promise<Site> {
+  ensureVisible(ability, 'Site', { id }, 'Site')
   authorize(ability, 'update', 'Site', { id })
   const row = await deps.db.transaction().execute(async (trx) => {
     const before = await trx.selectFrom('site').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
@@ -173,6 +174,7 @@ export async function updateArea(
   return deps.db.transaction().execute(async (trx) => {
     const before = await trx.selectFrom('area').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
     if (!before) throw notFound('Area')
+    ensureVisible(ability, 'Area', { siteId: before.site_id }, 'Area')
     authorize(ability, 'update', 'Area', { siteId: before.site_id })
     const row = await trx
       .updateTable('area')

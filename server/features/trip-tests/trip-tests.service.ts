@@ -46,7 +46,7 @@ import type {
   ScheduleResponse,
 } from '../../../shared/schemas/trip-tests.ts'
 import { TripTestPrecautionsSchema } from '../../../shared/schemas/trip-tests.ts'
-import { authorize } from '../../authorize.ts'
+import { allows, authorize, ensureVisible } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database, TripTestTable } from '../../db/schema.ts'
@@ -362,7 +362,7 @@ export async function getTripTest(
 ): Promise<TripTestDto> {
   const r = await repo.findTripTestDetail(db, id)
   if (!r) throw notFound('Trip test')
-  authorize(ability, 'read', 'TripTest', { siteId: r.site_id })
+  ensureVisible(ability, 'TripTest', { siteId: r.site_id }, 'Trip test')
   const policy = policyOf(r)
   const sigs = await listSignatures(db, ENTITY, [id])
   const n = (v: string | null) => (v === null ? null : Number(v))
@@ -464,6 +464,9 @@ export async function createTripTest(
   input: TripTestInput,
 ): Promise<TripTestDto> {
   const { limit } = await loadContext(deps.db, input.limitId)
+  // another site's limit answers as a missing one (docs/security.md#authorization)
+  if (!allows(ability, 'read', 'Limit', { siteId: limit.site_id }))
+    throw validationFailed({ limitId: ['The limit does not exist'] })
   authorize(ability, 'record', 'TripTest', { siteId: limit.site_id })
   if (new Date(input.performedAt).getTime() > deps.clock.now().getTime() + 5 * 60_000)
     throw validationFailed({ performedAt: ['A test cannot be recorded in the future'] })
@@ -515,7 +518,7 @@ export async function updateTripTest(
   await deps.db.transaction().execute(async (trx) => {
     const before = await repo.lockTripTest(trx, id)
     if (!before) throw notFound('Trip test')
-    authorize(ability, 'read', 'TripTest', { siteId: before.site_id })
+    ensureVisible(ability, 'TripTest', { siteId: before.site_id }, 'Trip test')
     const actor = await actorAt(trx, ability, ctx, before.site_id)
     enforce((await verdictsFor(trx, before, actor, deps.clock.now())).verdicts.edit)
     if (input.limitId !== before.limit_id) throw validationFailed({ limitId: ['A record stays with its limit'] })
@@ -559,7 +562,7 @@ export async function signTripTest(
   const action = SIGN_ACTION[meaning]
   const pre = await repo.findTripTest(deps.db, id)
   if (!pre) throw notFound('Trip test')
-  authorize(ability, 'read', 'TripTest', { siteId: pre.site_id })
+  ensureVisible(ability, 'TripTest', { siteId: pre.site_id }, 'Trip test')
   const actor = await actorAt(deps.db, ability, ctx, pre.site_id)
   // role and separation of duties first (403, nothing written); the state again inside the transaction
   const early = (await verdictsFor(deps.db, pre, actor, deps.clock.now())).verdicts[action]
@@ -714,7 +717,7 @@ export async function signDegradationMeasures(
 ) {
   const limit = await repo.findLimitForTest(deps.db, limitId)
   if (!limit) throw notFound('Limit')
-  authorize(ability, 'read', 'Limit', { siteId: limit.site_id })
+  ensureVisible(ability, 'Limit', { siteId: limit.site_id }, 'Limit')
   const actor = await actorAt(deps.db, ability, ctx, limit.site_id)
   const now = deps.clock.now()
   const probe = degradationActions(
@@ -808,7 +811,7 @@ export async function approveRepairDeadline(
 ) {
   const limit = await repo.findLimitForTest(deps.db, limitId)
   if (!limit) throw notFound('Limit')
-  authorize(ability, 'read', 'Limit', { siteId: limit.site_id })
+  ensureVisible(ability, 'Limit', { siteId: limit.site_id }, 'Limit')
   const actor = await actorAt(deps.db, ability, ctx, limit.site_id)
   if (!actor.roles.includes('plant_manager'))
     enforce({ allowed: false, status: 403, reason: 'The plant manager approves a repair deadline beyond the MTTR' })
@@ -867,7 +870,7 @@ export async function getDegradation(
 ): Promise<DegradationResponse> {
   const limit = await repo.findLimitForTest(deps.db, limitId)
   if (!limit) throw notFound('Limit')
-  authorize(ability, 'read', 'Limit', { siteId: limit.site_id })
+  ensureVisible(ability, 'Limit', { siteId: limit.site_id }, 'Limit')
   const actor: RuleActor = ctx ? await actorAt(deps.db, ability, ctx, limit.site_id) : { id: 0, ability, roles: [] }
   const now = deps.clock.now()
   const rows = await repo.listDegradations(deps.db, limitId)
@@ -969,7 +972,7 @@ export async function attachToTripTest(
   return deps.db.transaction().execute(async (trx) => {
     const row = await repo.lockTripTest(trx, id)
     if (!row) throw notFound('Trip test')
-    authorize(ability, 'read', 'TripTest', { siteId: row.site_id })
+    ensureVisible(ability, 'TripTest', { siteId: row.site_id }, 'Trip test')
     const actor = await actorAt(trx, ability, ctx, row.site_id)
     enforce((await verdictsFor(trx, row, actor, deps.clock.now())).verdicts.attach)
     const a = await store(trx)
@@ -1089,7 +1092,7 @@ function toDeferralDto(
 export async function getDeferral(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number) {
   const r = await repo.findDeferral(deps.db, id)
   if (!r) throw notFound('Test deferral')
-  authorize(ability, 'read', 'TripTest', { siteId: r.site_id })
+  ensureVisible(ability, 'TripTest', { siteId: r.site_id }, 'Test deferral')
   return toDeferralDto(r, await actorAt(deps.db, ability, ctx, r.site_id), deps.clock.now())
 }
 
@@ -1118,8 +1121,9 @@ export async function requestDeferral(
   input: Required<Pick<TestDeferralInput, 'limitId' | 'newDueDate' | 'reason' | 'compensatingMeasures'>>,
 ): Promise<TestDeferralDto> {
   const pre = await repo.findLimitForTest(deps.db, input.limitId)
-  if (!pre) throw validationFailed({ limitId: ['The limit does not exist'] })
-  authorize(ability, 'read', 'Limit', { siteId: pre.site_id })
+  // another site's limit answers as a missing one (docs/security.md#authorization)
+  if (!pre || !allows(ability, 'read', 'Limit', { siteId: pre.site_id }))
+    throw validationFailed({ limitId: ['The limit does not exist'] })
   const actor = await actorAt(deps.db, ability, ctx, pre.site_id)
   const id = await deps.db.transaction().execute(async (trx) => {
     await repo.lockLimit(trx, input.limitId)
@@ -1211,7 +1215,7 @@ export async function decideDeferral(
 ): Promise<TestDeferralDto> {
   const pre = await repo.findDeferral(deps.db, id)
   if (!pre) throw notFound('Test deferral')
-  authorize(ability, 'read', 'TripTest', { siteId: pre.site_id })
+  ensureVisible(ability, 'TripTest', { siteId: pre.site_id }, 'Test deferral')
   const actor = await actorAt(deps.db, ability, ctx, pre.site_id)
   const early = toDeferralDto(pre, actor, deps.clock.now()).actions[decision]
   if (!early.allowed && early.status === 403) enforce(early)
