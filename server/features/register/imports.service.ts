@@ -1,4 +1,5 @@
 import { createHash, randomUUID } from 'node:crypto'
+import { Readable } from 'node:stream'
 import canonicalize from 'canonicalize'
 import ExcelJS from 'exceljs'
 import { sql, type Transaction } from 'kysely'
@@ -33,7 +34,7 @@ import {
   signalFromText,
   signalToText,
 } from '../../../shared/schemas/register-io.ts'
-import { authorize } from '../../authorize.ts'
+import { authorize, ensureVisible } from '../../authorize.ts'
 import { openBaselineChangeRequest } from '../change-requests/change-requests.service.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
@@ -87,11 +88,19 @@ export const OLE2_SIGNATURE = Buffer.from([0xd0, 0xcf, 0x11, 0xe0])
 const XLSX_MAX_UNPACKED_BYTES = 200 * 1024 * 1024
 const MAX_COLUMNS = 200
 
-/** Reads the file by its content: XLSX (ZIP signature) or UTF-8 CSV; anything else is refused. */
-export async function readTable(buffer: Buffer): Promise<FileTable> {
+/** A refusal of a file with more data rows than one upload takes, as soon as the reader gets past the limit. */
+export const tooManyRows = (maxRows: number) =>
+  badFile(`The file has more than ${maxRows} data rows; one import takes at most ${maxRows}: split it, e.g. by area`)
+
+/**
+ * Reads the file by its content: XLSX (ZIP signature) or UTF-8 CSV; anything else is refused. With `maxRows`, the
+ * reader stops and refuses the file as soon as it meets one non-empty data row more than that (docs/security.md,
+ * "Uploads"): a small file of a million rows costs the rows up to the limit, not a million.
+ */
+export async function readTable(buffer: Buffer, opts: { maxRows?: number } = {}): Promise<FileTable> {
   if (buffer.length === 0) throw badFile('The file is empty')
   if (buffer.length > IMPORT_MAX_BYTES) throw badFile(`The file is larger than ${IMPORT_MAX_BYTES / 1024 / 1024} MB`)
-  if (buffer.subarray(0, 4).equals(ZIP_SIGNATURE)) return readXlsx(buffer)
+  if (buffer.subarray(0, 4).equals(ZIP_SIGNATURE)) return readXlsx(buffer, opts.maxRows ?? Infinity)
   if (buffer.subarray(0, 4).equals(OLE2_SIGNATURE))
     throw badFile('This is an old Excel (.xls) workbook: save it as .xlsx or as CSV (UTF-8) and upload it again')
   let text: string
@@ -107,7 +116,7 @@ export async function readTable(buffer: Buffer): Promise<FileTable> {
     if (c < 0x20 && c !== 0x09 && c !== 0x0a && c !== 0x0d)
       throw badFile('The file holds binary data, not CSV text: upload the register as .xlsx or .csv')
   }
-  return readCsv(text.replace(/^\uFEFF/, ''))
+  return readCsv(text.replace(/^\uFEFF/, ''), opts.maxRows ?? Infinity)
 }
 
 /** Comma, semicolon or tab, whichever the header line holds most of. */
@@ -117,15 +126,34 @@ export function guessDelimiter(text: string): string {
   return [',', ';', '\t'].reduce((best, d) => (count(d) > count(best) ? d : best), ',')
 }
 
-/** Parses CSV text (no size cap: callers check the size first). */
-export function readCsv(text: string): FileTable {
-  const parsed = Papa.parse<string[]>(text, { delimiter: guessDelimiter(text), skipEmptyLines: false })
-  const quote = parsed.errors.find((e) => e.type === 'Quotes')
+/**
+ * Parses CSV text (no size cap: callers check the size first), record by record; more than `maxRows` non-empty data
+ * rows stop the parser and refuse the file.
+ */
+export function readCsv(text: string, maxRows = Infinity): FileTable {
+  const records: string[][] = []
+  let quote: Papa.ParseError | undefined
+  let filled = 0
+  let over = false
+  Papa.parse<string[]>(text, {
+    delimiter: guessDelimiter(text),
+    skipEmptyLines: false,
+    step: (r, parser) => {
+      quote ??= r.errors.find((e) => e.type === 'Quotes')
+      if (quote) return parser.abort()
+      if (records.length > 0 && r.data.some((v) => v.trim() !== '') && ++filled > maxRows) {
+        over = true
+        return parser.abort()
+      }
+      records.push(r.data)
+    },
+  })
   if (quote)
     throw badFile(
-      `Row ${(quote.row ?? 0) + 1}: ${quote.message}; a text cell that holds the delimiter or a line break needs double quotes around it`,
+      `Row ${records.length + 1}: ${quote.message}; a text cell that holds the delimiter or a line break needs double quotes around it`,
     )
-  const [head = [], ...data] = parsed.data
+  if (over) throw tooManyRows(maxRows)
+  const [head = [], ...data] = records
   // a record is one spreadsheet row even when a quoted cell spans lines, so record index + 1 is the row number
   return { headers: head.map((h) => h.trim()), rows: data.map((values, i) => ({ row: i + 2, values })) }
 }
@@ -167,37 +195,57 @@ export function cellText(v: ExcelJS.CellValue): string {
   return ''
 }
 
-async function readXlsx(buffer: Buffer): Promise<FileTable> {
+/**
+ * Reads the first worksheet with ExcelJS's streaming reader, row by row, never building the workbook in memory; more
+ * than `maxRows` non-empty data rows stop the reader and refuse the file, so a small workbook of a million rows is
+ * refused after the limit's worth of rows (docs/security.md, "Uploads"). Parsing goes in chunks between which the
+ * server answers other requests.
+ */
+async function readXlsx(buffer: Buffer, maxRows: number): Promise<FileTable> {
   // a damaged directory is left to the workbook reader; a huge one is refused before anything is unpacked
   if (unpackedSize(buffer) > XLSX_MAX_UNPACKED_BYTES)
     throw badFile(
       `The workbook unpacks to more than ${XLSX_MAX_UNPACKED_BYTES / 1024 / 1024} MB; upload the register as CSV or split it`,
     )
-  const wb = new ExcelJS.Workbook()
+  const reader = new ExcelJS.stream.xlsx.WorkbookReader(Readable.from([buffer]), {
+    worksheets: 'emit',
+    sharedStrings: 'cache',
+    hyperlinks: 'ignore',
+    styles: 'cache', // number formats tell dates from numbers, as the whole-workbook reader did
+    entries: 'ignore',
+  })
+  let sheets = 0
+  let headers: string[] | null = null
+  let width = 0
+  const rows: FileTable['rows'] = []
   try {
-    await wb.xlsx.load(buffer as never)
-  } catch {
+    for await (const sheet of reader) {
+      sheets++
+      for await (const r of sheet) {
+        const row = r as ExcelJS.Row
+        const cells = row.values as ExcelJS.CellValue[]
+        const values = Array.from({ length: Math.max(width, cells.length - 1) }, (_, k) =>
+          cellText(cells[k + 1] ?? null),
+        )
+        if (row.number === 1) {
+          width = Math.min(values.length, MAX_COLUMNS + 1)
+          headers = values.slice(0, width).map((h) => h.trim())
+          continue
+        }
+        if (!values.some((v) => v !== '')) continue
+        if (rows.length >= maxRows) throw tooManyRows(maxRows)
+        rows.push({ row: row.number, values })
+      }
+      break // the first worksheet only
+    }
+  } catch (err) {
+    if (err instanceof AppError) throw err
     throw badFile(
       'The file starts like an XLSX workbook but cannot be opened as one: save it again from the spreadsheet program, or upload CSV (UTF-8)',
     )
   }
-  const ws = wb.worksheets[0]
-  if (!ws) throw badFile('The workbook has no worksheet')
-  if (ws.actualRowCount > IMPORT_MAX_ROWS + 1)
-    throw badFile(
-      `The first worksheet has ${ws.actualRowCount - 1} data rows; one import takes at most ${IMPORT_MAX_ROWS}`,
-    )
-  const width = Math.min(ws.columnCount, MAX_COLUMNS + 1)
-  const read = (r: ExcelJS.Row) =>
-    Array.from({ length: Math.max(width, r.cellCount) }, (_, i) => cellText(r.getCell(i + 1).value))
-  const headers = read(ws.getRow(1))
-    .slice(0, width)
-    .map((h) => h.trim())
-  const rows: FileTable['rows'] = []
-  ws.eachRow({ includeEmpty: false }, (r, n) => {
-    if (n > 1) rows.push({ row: n, values: read(r) })
-  })
-  return { headers, rows }
+  if (!sheets) throw badFile('The workbook has no worksheet')
+  return { headers: headers ?? [], rows }
 }
 
 // ---- mapping headers to column keys ----
@@ -1052,7 +1100,7 @@ export async function checkImport(
 ): Promise<ImportResult> {
   const site = await siteFor(deps, fields.siteId)
   authorize(ability, 'import', 'Limit', { siteId: site.id })
-  const table = await readTable(file.buffer)
+  const table = await readTable(file.buffer, { maxRows: IMPORT_MAX_ROWS })
   if (table.headers.length > MAX_COLUMNS)
     throw badFile(`The file has ${table.headers.length} columns; the register file has ${REGISTER_COLUMNS.length}`)
   if (table.headers.every((h) => !h)) throw badFile('Row 1 must hold the column headers')
@@ -1143,6 +1191,7 @@ export async function commitImport(
   return deps.db.transaction().execute(async (trx) => {
     const batch = await trx.selectFrom('import_batch').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
     if (!batch) throw notFound('Import')
+    ensureVisible(ability, 'Limit', { siteId: batch.site_id }, 'Import')
     authorize(ability, 'import', 'Limit', { siteId: batch.site_id })
     if (batch.status !== 'checked') {
       throw invalidState(
