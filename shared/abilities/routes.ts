@@ -108,6 +108,9 @@ export const ROUTE_ACCESS: Record<string, RouteAccess> = {
   'PUT /api/change-requests/:id/checklist/:item': { roles: ENGINEER, otherSite: 'missing' },
   'POST /api/change-requests/:id/attachments': { roles: ENGINEER, otherSite: 'missing' },
 
+  // the audit trail's chain check covers the whole installation (docs/security.md, "Audit trail integrity")
+  'POST /api/audit-events/verify': { roles: ['admin', 'auditor'], otherSite: 'same' },
+
   // demands and trips (docs/demands.md)
   'POST /api/demands': { roles: ['operator', 'shift_supervisor', 'safety_engineer'], otherSite: 'missing' },
   'POST /api/demands/:id/classification': { roles: ENGINEER, otherSite: 'missing' },
