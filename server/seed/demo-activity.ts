@@ -15,7 +15,7 @@ import {
 } from '../features/change-requests/change-requests.service.ts'
 import { TripTestInputSchema } from '../../shared/schemas/trip-tests.ts'
 import { createTripTest, signDegradationMeasures, signTripTest } from '../features/trip-tests/trip-tests.service.ts'
-import { demoActors } from './demo-actors.ts'
+import { demoActors, demoPrecautions } from './demo-actors.ts'
 import { seedDemoAlarms } from './demo-alarms.ts'
 import { seedDemoDemands } from './demo-demands.ts'
 import { DEMO_PASSWORD } from './demo.ts'
@@ -92,6 +92,7 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
         responseTimeSec: null,
         setpointRestoredReadBack: null,
         notes: 'Tripped at setpoint; reset checked.',
+        precautions: demoPrecautions(`PTW-26-${5100 + i}`),
       }),
     )
     await signTripTest(deps, tech.ability, tech.ctx, t.id, 'performed', DEMO_PASSWORD, '')
@@ -138,6 +139,7 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
         responseTimeSec: null,
         setpointRestoredReadBack: null,
         notes: 'Tripped late; transmitter drift suspected. Replacement ordered.',
+        precautions: demoPrecautions('PTW-26-5199'),
       }),
     )
     await signTripTest(deps, tech.ability, tech.ctx, t.id, 'performed', DEMO_PASSWORD, '')

@@ -19,3 +19,14 @@ export async function demoActors(db: Db) {
     return { ability: createAppAbility(defineRulesFor(user)), ctx: { actorId: u.id, requestId: 'demo-seed', ip: null } }
   }
 }
+
+/** The precautions of a demo trip test (docs/trip-tests.md#precautions): isolated, in a hazardous area, gas tested. */
+export const demoPrecautions = (permitToWork: string) => ({
+  isolated: true,
+  permitToWork,
+  controlRoomInformed: true,
+  hazardousArea: true,
+  intrinsicallySafeCalibrator: true,
+  gasTestDone: true,
+  realTripAcknowledged: false,
+})

@@ -11,7 +11,7 @@ import {
   requestDeferral,
   signTripTest,
 } from '../features/trip-tests/trip-tests.service.ts'
-import type { DemoActor } from './demo-actors.ts'
+import { type DemoActor, demoPrecautions } from './demo-actors.ts'
 import { DEMO_PASSWORD } from './demo.ts'
 
 const DAY = 86_400_000
@@ -250,6 +250,7 @@ export async function seedDemoDemands(deps: AppDeps, as: (who: string) => DemoAc
       resetAcceptedAfterReturn: true,
       finalElementOk: true,
       notes: 'Tripped at setpoint; reset checked.',
+      precautions: demoPrecautions('PTW-25-7702'),
     }),
   )
   await signTripTest(deps, tech.ability, tech.ctx, t.id, 'performed', DEMO_PASSWORD, '')

@@ -1,5 +1,6 @@
 import { z } from 'zod'
 import type { TestDueStatus } from '../domain/due-dates.ts'
+import type { TripTestAction } from '../domain/rules/trip-tests.ts'
 import type { Verdict } from '../domain/rules/verdict.ts'
 import { IdSchema, repeated } from './common.ts'
 
@@ -54,6 +55,38 @@ export const TripTestPrecautionsSchema = z.object({
   realTripAcknowledged: z.boolean().default(false),
 })
 export type TripTestPrecautions = z.infer<typeof TripTestPrecautionsSchema>
+
+/**
+ * The precautions as recorded, one line each, for the record's page and the certificate: what was confirmed, and
+ * what was not (a final element left in line, no gas test). `null`: the record carries none (history from elsewhere).
+ */
+export function precautionLines(p: TripTestPrecautions | null): { text: string; ok: boolean }[] {
+  if (!p) return [{ text: 'Precautions not recorded with this test', ok: false }]
+  const lines = [
+    p.isolated
+      ? { text: 'Final element isolated (or the unit down): the test did not act on the process', ok: true }
+      : { text: 'Final element NOT isolated: the test could act on the process', ok: false },
+    { text: `Permit to work ${p.permitToWork}`, ok: true },
+    { text: 'Control room informed before the test', ok: p.controlRoomInformed },
+    p.hazardousArea
+      ? { text: 'Hazardous area', ok: true }
+      : { text: 'Not in a hazardous area (no gas test needed)', ok: true },
+  ]
+  if (p.hazardousArea) {
+    if (p.intrinsicallySafeCalibrator !== null)
+      lines.push({
+        text: p.intrinsicallySafeCalibrator ? 'Intrinsically safe calibrator' : 'Calibrator NOT intrinsically safe',
+        ok: p.intrinsicallySafeCalibrator,
+      })
+    lines.push({
+      text: p.gasTestDone ? 'Gas test done before the work' : 'NO gas test before the work',
+      ok: p.gasTestDone === true,
+    })
+  }
+  if (p.realTripAcknowledged)
+    lines.push({ text: 'A real trip was expected: operations knew the process would trip', ok: true })
+  return lines
+}
 
 /** One channel of a voted function: its instrument and where it tripped. */
 export const ChannelInputSchema = z.object({
@@ -464,6 +497,8 @@ export interface TripTestDto {
   }[]
   attachments: { id: number; fileName: string; contentType: string; sizeBytes: number }[]
   createdAt: string
+  /** the rule book's answers for the caller (shared/domain/rules/trip-tests.ts, tripTestActions) */
+  actions: Record<TripTestAction, Verdict>
 }
 
 /** A degraded limit whose signed repair deadline has passed (`GET /api/trip-tests/overdue-repairs`). */

@@ -25,6 +25,12 @@ describe('proof tests in the browser', () => {
     await tech.goto(`${app.baseUrl}/tests/new?limitId=${limit.id}`)
     await tech.locator('[data-test="channels"]').waitFor()
     expect(await tech.locator('[data-test="by-channel"]').textContent()).toContain('voting 2oo3')
+    // the precautions before the test (docs/trip-tests.md#precautions): the final element isolated, outside a
+    // hazardous area
+    await tech.locator('[data-test="precaution-isolated-yes"]').click()
+    await field('precaution-permit').fill('PTW-2026-3402')
+    await tech.locator('[data-test="precaution-control-room"] input').check()
+    await tech.locator('[data-test="precaution-hazardous-no"]').click()
     await field('performed-at').fill('2026-09-14T09:30')
     await field('calibrator-id').fill('CAL-FHR-03')
     await field('calibrator-due').fill('2027-03-31')

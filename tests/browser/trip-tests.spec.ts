@@ -175,6 +175,28 @@ describe('trip tests in the browser', () => {
       'E(cold junction) = 1.0002 mV',
     )
 
+    // before the test: the caution that a trip acts on the process, and the precautions recorded with the test
+    // (docs/trip-tests.md#precautions)
+    expect(await page.locator('[data-test="precautions-caution"]').textContent()).toContain(
+      'This test can move the final element or trip the unit',
+    )
+    await page.locator('[data-test="precaution-isolated-no"]').click()
+    await page.locator('[data-test="precaution-not-isolated"]').waitFor()
+    await page.locator('[data-test="precaution-isolated-yes"]').click()
+    await page.locator('[data-test="precaution-not-isolated"]').waitFor({ state: 'detached' })
+    await field(page, 'precaution-permit').fill('PTW-2026-3318')
+    await page.locator('[data-test="precaution-control-room"] input').check()
+    await page.locator('[data-test="precaution-hazardous-yes"]').click()
+    await page.locator('[data-test="precaution-is-calibrator-yes"]').click()
+    await page.locator('[data-test="precaution-gas-test-yes"]').click()
+    // the methods that drive a real trip say so, and ask that operations expect it
+    await page.locator('[data-test="method"]').click()
+    await page.getByRole('option', { name: 'Setpoint moved across the process value' }).click()
+    expect(await page.locator('[data-test="real-trip-warning"]').textContent()).toContain('A real trip will happen')
+    await page.locator('[data-test="method"]').click()
+    await page.getByRole('option', { name: 'Signal injection' }).click()
+    await page.locator('[data-test="real-trip-warning"]').waitFor({ state: 'detached' })
+
     await field(page, 'performed-at').fill('2026-09-14T09:30')
     await field(page, 'procedure-ref').fill('TP-770-01 rev 2')
     await field(page, 'device-serial').fill('LC-55102')
@@ -220,6 +242,16 @@ describe('trip tests in the browser', () => {
       .toContain('Tomas Quillfeather')
     expect(await page.locator('[data-test="test-status"]').textContent()).toContain('Signed')
     expect(await page.locator('[data-test="edit-test"]').count()).toBe(0)
+    expect(await page.locator('[data-test="precautions"]').textContent()).toContain('Permit to work PTW-2026-3318')
+    // the return to service is its own signature, before operations accept the equipment back
+    await page.locator('[data-test="sign-returned_to_service"]').click()
+    await page.locator('[data-test="sign-dialog"]').waitFor()
+    expect(await page.locator('[data-test="sign-dialog"]').textContent()).toContain('every force, jumper')
+    await field(page, 'sign-password').fill(PW)
+    await page.locator('[data-test="sign-confirm"]').click()
+    await expect
+      .poll(() => page.locator('[data-test="signer-returned_to_service"]').textContent())
+      .toContain('Tomas Quillfeather')
     const proven = await tech.get<{ testDueDate: string; protectionState: string; lastFullPass: string }>(
       `/limits/${limit.id}`,
     )

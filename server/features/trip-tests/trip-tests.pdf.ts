@@ -1,8 +1,14 @@
-import type { TripTestDto } from '../../../shared/schemas/trip-tests.ts'
+import { precautionLines, type TripTestDto } from '../../../shared/schemas/trip-tests.ts'
 import { renderPdf } from '../../pdf.ts'
 
 const v = (x: unknown, unit = '') => (x === null || x === undefined || x === '' ? '—' : `${x}${unit ? ` ${unit}` : ''}`)
 const yn = (b: boolean | null) => (b === null ? 'not checked' : b ? 'yes' : 'NO')
+const MEANING: Record<string, string> = {
+  performed: 'performed',
+  witnessed: 'witnessed',
+  returned_to_service: 'returned to service (forces, jumpers, bypasses removed)',
+  accepted: 'accepted by operations',
+}
 const RESULT: Record<string, string> = {
   in_tolerance: 'in tolerance',
   out_safe: 'out of tolerance, safe side',
@@ -69,6 +75,12 @@ export function tripTestCertificate(
             row('Device serial', v(t.deviceSerial)),
             row('Calibrator (due date)', `${v(t.calibratorId)} (${v(t.calibratorDueDate)})`),
             row('Work order', v(t.workOrder)),
+            row(
+              'Precautions',
+              precautionLines(t.precautions)
+                .map((l) => l.text)
+                .join('\n'),
+            ),
             row('Bypass used', t.bypassId ? `#${t.bypassId}` : 'none'),
             row('Notes', v(t.notes)),
           ],
@@ -89,13 +101,16 @@ export function tripTestCertificate(
             ],
             ...t.signatures.map((s) => [
               s.name,
-              s.meaning,
+              MEANING[s.meaning] ?? s.meaning,
               local(s.at),
               `${s.contentHash.slice(0, 24)}…${s.matchesContent ? '' : ' (does not match)'}`,
             ]),
             ...(t.witnessRequired && !t.signatures.some((s) => s.meaning === 'witnessed')
               ? [['—', 'witnessed', 'required, missing', '']]
               : []),
+            ...(t.signatures.some((s) => s.meaning === 'returned_to_service')
+              ? []
+              : [['—', MEANING.returned_to_service, 'not signed yet', '']]),
           ],
         },
         layout: 'lightHorizontalLines',

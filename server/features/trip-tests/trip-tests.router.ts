@@ -93,7 +93,7 @@ export function createTripTestsRouter(deps: AppDeps) {
       )
   })
   router.get('/:id', async (req, res) => {
-    res.json(await service.getTripTest(deps, req.ability, id(req.params.id)))
+    res.json(await service.getTripTest(deps, req.ability, id(req.params.id), deps.db, req.audit))
   })
   router.post('/', async (req, res) => {
     res

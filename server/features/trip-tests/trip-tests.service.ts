@@ -359,12 +359,27 @@ export async function getTripTest(
   ability: AppAbility,
   id: number,
   db: Db = deps.db,
+  ctx?: AuditContext,
 ): Promise<TripTestDto> {
   const r = await repo.findTripTestDetail(db, id)
   if (!r) throw notFound('Trip test')
   ensureVisible(ability, 'TripTest', { siteId: r.site_id }, 'Trip test')
   const policy = policyOf(r)
   const sigs = await listSignatures(db, ENTITY, [id])
+  // the rule book's answers for the caller: the record's page builds its signing buttons from them
+  const actor: RuleActor = ctx ? await actorAt(db, ability, ctx, r.site_id) : { id: 0, ability, roles: [] }
+  const actions = tripTestActions(
+    {
+      siteId: r.site_id,
+      status: r.status,
+      recordedById: r.recorded_by,
+      sil: r.sil,
+      signatures: sigs.filter((x) => !x.voided_at).map((x) => ({ meaning: x.meaning, userId: x.user_id })),
+    },
+    actor,
+    policy,
+    deps.clock.now(),
+  )
   const n = (v: string | null) => (v === null ? null : Number(v))
   return {
     id: r.id,
@@ -435,6 +450,7 @@ export async function getTripTest(
       sizeBytes: a.size_bytes,
     })),
     createdAt: r.created_at.toISOString(),
+    actions,
   }
 }
 
@@ -497,7 +513,7 @@ export async function createTripTest(
     })
     return row.id
   })
-  return getTripTest(deps, ability, id)
+  return getTripTest(deps, ability, id, deps.db, ctx)
 }
 
 async function checkBypass(trx: Trx, input: TripTestInput) {
@@ -535,7 +551,7 @@ export async function updateTripTest(
       after: { ...input, contentHash: hash },
     })
   })
-  return getTripTest(deps, ability, id)
+  return getTripTest(deps, ability, id, deps.db, ctx)
 }
 
 const SIGN_ACTION: Record<SignatureMeaning, Exclude<TripTestAction, 'edit' | 'attach'>> = {
@@ -596,7 +612,7 @@ export async function signTripTest(
     })
     if (meaning === 'performed') await applyResult(deps, trx, ctx, row, info.limit)
   })
-  return getTripTest(deps, ability, id)
+  return getTripTest(deps, ability, id, deps.db, ctx)
 }
 
 async function applyResult(

@@ -1,11 +1,17 @@
 import type { TestSignal } from '@shared/domain/test-signal.ts'
 import type { BypassDto } from '@shared/schemas/bypasses.ts'
 import type { Limit, Signal } from '@shared/schemas/register.ts'
-import type { OverdueRepair, TestDeferralDto, TripTestDto } from '@shared/schemas/trip-tests.ts'
+import type {
+  OverdueRepair,
+  SignatureMeaning,
+  TestDeferralDto,
+  TripTestDto,
+  TripTestPrecautions,
+} from '@shared/schemas/trip-tests.ts'
 import { api, http, toQuery, uploadWithProgress } from '@/api/client'
 
 export type TestStatus = Limit['testStatus']
-export type SignatureMeaning = 'performed' | 'witnessed' | 'accepted'
+export type { SignatureMeaning } from '@shared/schemas/trip-tests.ts'
 
 /** One limit of the test schedule. */
 export interface ScheduleItem {
@@ -80,6 +86,8 @@ export interface TripTestBody {
   responseTimeSec: number | null
   setpointRestoredReadBack: number | null
   notes: string
+  /** confirmed before the test (docs/trip-tests.md#precautions); the form always sends them */
+  precautions?: TripTestPrecautions
   /** a voted function tested channel by channel: one entry per channel instrument, then no function as-found */
   channels?: { instrumentId: number; asFound: number | null; noTrip: boolean; asLeft: number | null }[]
 }

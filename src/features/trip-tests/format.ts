@@ -65,6 +65,7 @@ export const RESULT_STYLE: Record<string, { label: string; color: string; varian
 export const MEANING_LABELS: Record<string, string> = {
   performed: 'Performed',
   witnessed: 'Witnessed',
+  returned_to_service: 'Returned to service',
   accepted: 'Accepted back into service',
 }
 

@@ -72,6 +72,9 @@ const TABLE: [State, string, RuleActor, Partial<Record<TripTestAction, true | 40
   ['performed', 'other technician', tech2, { signWitnessed: true, signReturnedToService: true, signAccepted: 403 }],
   ['performed', 'engineer', eng, { signWitnessed: true, signReturnedToService: 403, signAccepted: 403 }],
   ['performed', 'operator', operator, { signWitnessed: 403, signAccepted: 409 }],
+  // the return-to-service check is its own signature, by a technician; operations accept only after it
+  ['performed', 'supervisor', sup, { signReturnedToService: 403, signAccepted: 409, signWitnessed: true }],
+  ['performed', 'plant manager', manager, { signReturnedToService: 403, signAccepted: 403 }],
   ['returned', 'operator', operator, { signAccepted: true, signReturnedToService: 403 }],
   ['returned', 'supervisor', sup, { signAccepted: true, signWitnessed: true }],
   ['returned', 'recorder', tech, { signReturnedToService: 409, signAccepted: 403 }],
