@@ -1,35 +1,16 @@
 import { existsSync } from 'node:fs'
-import { type Browser, chromium, type Page } from 'playwright-core'
+import type { Browser, Page } from 'playwright-core'
 import { afterAll, beforeAll, expect } from 'vitest'
 import { loadConfig } from '../../server/config.ts'
 import { createDb } from '../../server/db/index.ts'
 import { startServer, type RunningServer } from '../../server/index.ts'
 import { AdjustableClock } from '../../server/clock.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
+import { launchChromium } from './chromium.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import { createTestDatabase } from '../api/helpers/test-db.ts'
 
-const CHROMIUM = process.env.CHROMIUM_PATH ?? '/usr/bin/chromium'
-
-/** Launches Debian's Chromium headless (playwright-core downloads nothing). */
-export function launchChromium(): Promise<Browser> {
-  if (!existsSync(CHROMIUM))
-    throw new Error(`Chromium not found at ${CHROMIUM}: install it with apt-get install chromium`)
-  return chromium.launch({
-    executablePath: CHROMIUM,
-    headless: true,
-    args: [
-      '--no-sandbox',
-      '--disable-gpu',
-      '--disable-quic',
-      '--no-first-run',
-      '--disable-background-networking',
-      '--disable-component-update',
-      '--disable-sync',
-      '--disable-dev-shm-usage',
-    ],
-  })
-}
+export { launchChromium } from './chromium.ts'
 
 export interface BrowserContext {
   server: RunningServer

@@ -1,5 +1,7 @@
 // npm run docs:screenshots — screenshots of the main screens for docs/screenshots/, made against a throwaway cluster
-// with the demo plant. Not part of npm test.
+// with the demo plant. Not part of npm test. The register, the limit page, the trip-test form and the shift handover
+// are taken at three widths (desktop 1366 × 900, tablet 1024 × 768, phone 390 × 844). Names given after `--` take
+// only the screenshots whose names start with one of them: `npm run docs:screenshots -- register trip-test-form`.
 import { execFile } from 'node:child_process'
 import { mkdir, mkdtemp, rm } from 'node:fs/promises'
 import net from 'node:net'
@@ -14,7 +16,7 @@ import { startServer } from '../../server/index.ts'
 import { systemClock } from '../../server/clock.ts'
 import { seedDemoActivity } from '../../server/seed/demo-activity.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
-import { launchChromium } from './helpers.ts'
+import { launchChromium } from './chromium.ts'
 
 const run = promisify(execFile)
 const OUT = 'docs/screenshots'
@@ -43,11 +45,23 @@ async function signIn(
   await page.getByLabel('E-mail address').fill(`${who}@fernhollow.example`)
   await page.getByLabel('Password').fill('limitkeeper-demo')
   await page.locator('[data-test="sign-in"]').click()
-  await page.locator('[data-test="user-name"]').waitFor()
+  // attached, not visible: on a phone the name sits in the collapsed navigation
+  await page.locator('[data-test="user-name"]').waitFor({ state: 'attached' })
   return page
 }
 
-async function shot(page: Page, url: string, name: string, waitFor?: string) {
+const only = process.argv.slice(2)
+const wanted = (name: string) => !only.length || only.some((o) => name.startsWith(o))
+
+/** The widths every main screen is checked at. */
+const WIDTHS = [
+  { suffix: '1366', viewport: { width: 1366, height: 900 } },
+  { suffix: '1024', viewport: { width: 1024, height: 768 } },
+  { suffix: '390', viewport: { width: 390, height: 844 } },
+] as const
+
+async function shot(page: Page, url: string, name: string, waitFor?: string, scrollTo?: string) {
+  if (!wanted(name)) return
   await page.goto(url)
   if (waitFor)
     await page
@@ -56,7 +70,9 @@ async function shot(page: Page, url: string, name: string, waitFor?: string) {
       .waitFor({ timeout: 15_000 })
       .catch(() => console.warn(`  ${name}: ${waitFor} did not appear`))
   await page.waitForLoadState('networkidle')
-  await page.mouse.move(0, 0)
+  if (scrollTo) await page.locator(scrollTo).first().scrollIntoViewIfNeeded()
+  // the pointer rests on the app bar: at the top left it would open the navigation rail on hover
+  await page.mouse.move((page.viewportSize()?.width ?? 800) / 2, 24)
   await page.waitForTimeout(600) // let ripples and chart animations settle for a clean picture
   await page.screenshot({ path: path.join(OUT, `${name}.png`) })
   console.log(`  ${OUT}/${name}.png`)
@@ -112,6 +128,39 @@ try {
   await shot(auditor, `${base}/audit`, 'audit-trail', '[data-test="audit-table"]')
   const admin = await signIn(browser, base, 'admin')
   await shot(admin, `${base}/admin/users`, 'admin-users')
+
+  // the main screens at three widths
+  const tc = await eng.request.get(`${base}/api/limits?q=TSHH-103&pageSize=5`)
+  const tested = ((await tc.json()) as { items: { id: number; tag: string }[] }).items.find((l) => l.tag === 'TSHH-103')
+  for (const { suffix, viewport } of WIDTHS) {
+    const engineer = await signIn(browser, base, 'engineer', viewport)
+    await shot(engineer, `${base}/register`, `register-${suffix}`, '[data-test="register-table"]')
+    if (limit)
+      await shot(
+        engineer,
+        `${base}/register/limits/${limit.id}`,
+        `limit-page-${suffix}`,
+        '[data-test="window-chart"]',
+        '[data-test="window-chart"]',
+      )
+    await engineer.close()
+    const technician = await signIn(browser, base, 'technician', viewport)
+    if (tested) {
+      const form = `${base}/tests/new?limitId=${tested.id}`
+      await shot(technician, form, `trip-test-form-${suffix}`, '[data-test="section-precautions"]')
+      await shot(
+        technician,
+        form,
+        `trip-test-form-precautions-${suffix}`,
+        '[data-test="section-precautions"]',
+        '[data-test="precaution-hazardous"]',
+      )
+    }
+    await technician.close()
+    const supervisor = await signIn(browser, base, 'supervisor', viewport)
+    await shot(supervisor, `${base}/shift-handover`, `handover-${suffix}`)
+    await supervisor.close()
+  }
 } finally {
   await stop()
   await run('bash', ['server/db/pg.sh', 'stop'], { env }).catch(() => {})

@@ -274,7 +274,7 @@ export async function withRolledBackSavepoint<T>(trx: Trx, apply: () => Promise<
   }
 }
 
-/** Writes an instrument's range, normal band, design limits and burnout (inside a rolled-back preview only). */
+/** Writes an instrument's range, normal range, design limits and burnout (inside a rolled-back preview only). */
 export async function setInstrumentRanges(
   trx: Trx,
   id: number,
