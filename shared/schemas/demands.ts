@@ -108,6 +108,10 @@ export const DemandRateRowSchema = z.object({
   limitTag: z.string().nullable(),
   siteId: z.number(),
   siteCode: z.string(),
+  /** the limit's SIL target (null on a site row or a limit that is not SIL-rated) */
+  sil: z.number().nullable(),
+  /** commissioning date (YYYY-MM-DD) from which "never tested" and the observed rates count; null on a site row */
+  commissionedAt: z.string().nullable(),
   /** years the limit was observed in the period (from commissioning or its entry, whichever is later) */
   observedYears: z.number(),
   demands: z.number(),

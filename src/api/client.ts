@@ -101,5 +101,6 @@ export const http = {
   get: <T>(url: string, query?: Query) => api<T>('GET', url, undefined, { query }),
   post: <T>(url: string, body?: unknown) => api<T>('POST', url, body ?? {}),
   patch: <T>(url: string, body: unknown) => api<T>('PATCH', url, body),
+  put: <T>(url: string, body: unknown) => api<T>('PUT', url, body),
   delete: <T>(url: string) => api<T>('DELETE', url),
 }

@@ -307,5 +307,27 @@ describe('demand and trip log', () => {
     expect(row.observedDemandRatePerYear).toBeCloseTo(1, 6)
     expect(rates.sites.some((s: { demandRateAboveAssumed: boolean }) => s.demandRateAboveAssumed)).toBe(true)
     expect(rates.note).toMatch(/Low demand mode only/)
+    // the limit page asks for its own row: the hazard study's figures and the commissioning date come back
+    const own = (await c.eng.get('/api/demands/rates').query({ limitId: limit.id }).expect(200)).body
+    expect(own.limits).toHaveLength(1)
+    expect(own.limits[0]).toMatchObject({
+      limitId: limit.id,
+      sil: 2,
+      commissionedAt: '2025-06-01',
+      assumedDemandRatePerYear: 0.1,
+      assumedSpuriousRatePerYear: 0.5,
+    })
+    await c.eng.get('/api/demands/rates').query({ limitId: 'x' }).expect(400)
+    // clearing a figure is allowed (the study gives none) and audited like setting it
+    await c.eng
+      .put(`/api/demands/assumptions/${limit.id}`, {
+        assumedDemandRatePerYear: null,
+        assumedSpuriousRatePerYear: 0.5,
+        commissionedAt: '2025-06-01',
+        reason: 'LOPA study LS-12 rev 3',
+      })
+      .expect(200)
+    const cleared = (await c.eng.get('/api/demands/rates').query({ limitId: limit.id }).expect(200)).body
+    expect(cleared.limits[0]).toMatchObject({ assumedDemandRatePerYear: null, demandRateAboveAssumed: false })
   })
 })

@@ -169,8 +169,8 @@ export function loadDemandRows(db: Db, ids: number[]) {
 }
 
 /** Counted demands and spurious trips per limit in a period, with the limit's assumptions. */
-export function demandCountsByLimit(db: Db, siteIds: number[], from: Date, to: Date) {
-  return db
+export function demandCountsByLimit(db: Db, siteIds: number[], from: Date, to: Date, limitIds?: number[]) {
+  let q = db
     .selectFrom('limit_function as l')
     .innerJoin('site', 'site.id', 'l.site_id')
     .leftJoin('demand as d', (join) =>
@@ -186,6 +186,7 @@ export function demandCountsByLimit(db: Db, siteIds: number[], from: Date, to: D
       'l.site_id',
       'site.code as site_code',
       'l.created_at',
+      'l.sil',
       'l.commissioned_at',
       'l.assumed_demand_rate_per_year',
       'l.assumed_spurious_rate_per_year',
@@ -203,7 +204,8 @@ export function demandCountsByLimit(db: Db, siteIds: number[], from: Date, to: D
     )
     .groupBy(['l.id', 'site.code'])
     .orderBy('l.tag')
-    .execute()
+  if (limitIds?.length) q = q.where('l.id', 'in', limitIds)
+  return q.execute()
 }
 
 /** The hazard-study rates and the commissioning date kept on a limit. */

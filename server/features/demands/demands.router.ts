@@ -8,6 +8,7 @@ import * as service from './demands.service.ts'
 
 const RatesQuerySchema = z.object({
   siteId: repeated(IdSchema),
+  limitId: repeated(IdSchema),
   from: z.iso.datetime({ offset: true }).optional(),
   to: z.iso.datetime({ offset: true }).optional(),
 })
@@ -32,7 +33,7 @@ export function createDemandsRouter(deps: AppDeps) {
     const q = RatesQuerySchema.parse(req.query)
     const to = q.to ? new Date(q.to) : deps.clock.now()
     const from = q.from ? new Date(q.from) : new Date(to.getTime() - 365 * 86_400_000)
-    res.json(await service.demandRates(deps, scopeSites(req.user, q.siteId), { from, to }))
+    res.json(await service.demandRates(deps, scopeSites(req.user, q.siteId), { from, to }, q.limitId))
   })
   router.put('/assumptions/:limitId', async (req, res) => {
     res.json(await service.setDemandAssumptions(deps, req.ability, req.audit, id(req.params.limitId), req.body))

@@ -272,8 +272,9 @@ export async function demandRates(
   deps: AppDeps,
   siteIds: number[],
   period: { from: Date; to: Date },
+  limitIds?: number[],
 ): Promise<DemandRates> {
-  const rows = await repo.demandCountsByLimit(deps.db, siteIds, period.from, period.to)
+  const rows = await repo.demandCountsByLimit(deps.db, siteIds, period.from, period.to, limitIds)
   const limits: DemandRateRow[] = rows.map((r) => {
     const inService = r.commissioned_at ? new Date(`${r.commissioned_at}T00:00:00Z`) : r.created_at
     const start = Math.max(period.from.getTime(), inService.getTime())
@@ -290,6 +291,8 @@ export async function demandRates(
       limitTag: r.tag,
       siteId: r.site_id,
       siteCode: r.site_code,
+      sil: r.sil,
+      commissionedAt: r.commissioned_at,
       observedYears,
       demands,
       spuriousTrips,
@@ -308,6 +311,8 @@ export async function demandRates(
       limitTag: null,
       siteId: l.siteId,
       siteCode: l.siteCode,
+      sil: null,
+      commissionedAt: null,
       observedYears: 0,
       demands: 0,
       spuriousTrips: 0,

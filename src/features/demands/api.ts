@@ -3,6 +3,8 @@ import type {
   ClassifyDemandInput,
   CreateDemandInput,
   CreditDemandInput,
+  DemandAssumptions,
+  DemandAssumptionsInput,
   DemandDto,
   DemandRates,
 } from '@shared/schemas/demands.ts'
@@ -34,8 +36,10 @@ export const recordDemand = (body: CreateDemandInput) => http.post<DemandDto>('/
 export const classifyDemand = (id: number, body: ClassifyDemandInput) =>
   http.post<DemandDto>(`/demands/${id}/classification`, body)
 export const creditDemand = (id: number, body: CreditDemandInput) => http.post<DemandDto>(`/demands/${id}/credit`, body)
-export const getDemandRates = (query: { siteId?: number[]; from?: string; to?: string }) =>
+export const getDemandRates = (query: { siteId?: number[]; limitId?: number[]; from?: string; to?: string }) =>
   http.get<DemandRates>('/demands/rates', { ...query })
+export const setDemandAssumptions = (limitId: number, body: DemandAssumptionsInput) =>
+  http.put<DemandAssumptions>(`/demands/assumptions/${limitId}`, body)
 
 // The register as the record form needs it.
 export const searchActiveLimits = (query: { siteId?: number[]; q?: string }) =>
