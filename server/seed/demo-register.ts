@@ -51,6 +51,17 @@ interface InstOpts {
   device?: InstrumentSpec['deviceKind']
   text?: string
   ref?: 'gauge' | 'absolute' | 'differential'
+  model?: string
+}
+
+/** Invented field-device models of the demo plant's shutdown-system transmitters (for observed failure rates). */
+function demoModel(variable: InstrumentSpec['measuredVariable'], signal: InstrumentSpec['signal']): string {
+  if (signal.kind === 'thermocouple' || signal.kind === 'rtd') return 'HT-40 head-mounted temperature transmitter'
+  if (signal.kind === 'switch') return 'SW-3 process switch'
+  if (variable === 'pressure') return 'PX-7 pressure transmitter'
+  if (variable === 'flow') return 'PX-7D differential-pressure transmitter'
+  if (variable === 'level') return 'LR-2 radar level transmitter'
+  return ''
 }
 
 function inst(
@@ -82,6 +93,7 @@ function inst(
     signal,
     deviceKind: o.device ?? (signal.kind === 'switch' ? 'switch' : 'control_system'),
     deviceDescription: o.text ?? '',
+    model: o.model ?? (o.device === 'safety_plc' ? demoModel(measuredVariable, signal) : ''),
   }
 }
 

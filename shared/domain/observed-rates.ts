@@ -66,3 +66,23 @@ export function exposureHours(period: { from: Date; to: Date }, inServiceFrom: D
   const start = Math.max(period.from.getTime(), inServiceFrom.getTime())
   return Math.max(0, (period.to.getTime() - start) / 3_600_000)
 }
+
+/** Confidence level at which an observed λDU is held against the assumed one (the 70 % of prior-use arguments). */
+export const FLAG_CONFIDENCE = 0.7
+
+/**
+ * How an observed λDU stands against the λDU assumed in a subsystem (docs/domain/observed-rates.md#the-flag):
+ * - `supported`: the upper bound at 70 % lies at or below the assumption;
+ * - `above`: failures were found and the upper bound at 70 % lies above the assumption (flagged; a change request
+ *   with the bound as the new figure is offered);
+ * - `not_enough_experience`: no failure found, but the exposure is too short for the zero-failure bound to reach
+ *   down to the assumption: the operating experience does not yet support it (shown, not flagged).
+ */
+export type AssumptionVerdict = 'supported' | 'above' | 'not_enough_experience'
+
+export function judgeAssumedRate(observed: ObservedRate, assumedLambdaDu: number): AssumptionVerdict {
+  if (!(Number.isFinite(assumedLambdaDu) && assumedLambdaDu > 0))
+    throw new RangeError('the assumed λDU must be a positive number per hour')
+  if (observed.upper70 <= assumedLambdaDu) return 'supported'
+  return observed.failures === 0 ? 'not_enough_experience' : 'above'
+}

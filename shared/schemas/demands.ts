@@ -145,3 +145,40 @@ export interface DemandAssumptions {
   assumedSpuriousRatePerYear: number | null
   commissionedAt: string | null
 }
+
+/** One SIL-rated limit whose sensor channels are of a device kind and model, with its assumed λDU. */
+export interface FailureRateLimit {
+  limitId: number
+  limitTag: string
+  siteId: number
+  siteCode: string
+  sil: number | null
+  /** λDU per channel assumed in the limit's sensor subsystem, h⁻¹ */
+  assumedLambdaDu: number
+  verdict: 'supported' | 'above' | 'not_enough_experience'
+}
+/** Observed λDU of the instruments of one device kind and model (`GET /api/demands/failure-rates`). */
+export interface FailureRateGroup {
+  deviceKind: string
+  /** '' when the instruments have no model recorded (then no comparison is made) */
+  model: string
+  instrumentTags: string[]
+  exposureHours: number
+  failures: number
+  failuresAtTests: number
+  failuresInOperation: number
+  failuresOnDemand: number
+  pointEstimate: number | null
+  upper70: number | null
+  upper90: number | null
+  limits: FailureRateLimit[]
+  /** worst verdict over the limits; 'none' without a model or without a SIL-rated limit to compare with */
+  verdict: 'supported' | 'above' | 'not_enough_experience' | 'none'
+}
+export interface FailureRates {
+  period: { from: string | null; to: string }
+  groups: FailureRateGroup[]
+  /** dangerous undetected failures in operation or on demand recorded without a channel: not given to a model */
+  unattributedFailures: number
+  note: string
+}

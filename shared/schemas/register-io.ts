@@ -27,6 +27,7 @@ export const REGISTER_COLUMNS = [
   { key: 'headTransmitter', header: 'Head transmitter' },
   { key: 'deviceKind', header: 'Device kind' },
   { key: 'deviceDescription', header: 'Device' },
+  { key: 'model', header: 'Model' },
   { key: 'tag', header: 'Limit tag' },
   { key: 'description', header: 'Description' },
   { key: 'direction', header: 'Direction' },

@@ -106,6 +106,8 @@ const instrumentFields = {
   signal: SignalSchema,
   deviceKind: z.enum(DEVICE_KINDS),
   deviceDescription: text(200).default(''),
+  /** make and model of the field device; observed failure rates are grouped by device kind and model */
+  model: text(120).default(''),
 }
 
 function instrumentRules<

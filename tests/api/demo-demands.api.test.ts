@@ -34,6 +34,21 @@ describe('demo demands, trips and deferral', () => {
     // commissioned in 2019: the whole year is observed, so the rate is the count (3 a year)
     expect(heater.observedSpuriousRatePerYear).toBeCloseTo(3, 6)
 
+    // TT-101B's failure on demand (dangerous undetected) puts the heater's transmitter model above the 1.2e−6 /h its
+    // sensor subsystem assumes: one failure in the model's instrument hours since the 2019 commissioning
+    const failures = (await eng.get('/api/demands/failure-rates').expect(200)).body
+    const ht40 = failures.groups.find((g: { model: string }) => g.model.startsWith('HT-40'))
+    expect(ht40).toMatchObject({ failures: 1, failuresOnDemand: 1, verdict: 'above' })
+    expect(ht40.limits.find((l: { limitTag: string }) => l.limitTag === 'TSHH-101')).toMatchObject({
+      assumedLambdaDu: 1.2e-6,
+      verdict: 'above',
+    })
+    // the walk-round finding has no channel: counted as unattributed, not given to a model
+    expect(failures.unattributedFailures).toBe(1)
+    const risk = (await eng.get('/api/bypass-review/risk').expect(200)).body
+    const heaterRisk = risk.items.find((r: { tag: string }) => r.tag === 'TSHH-101')
+    expect(heaterRisk.observedLambdaDuAbove).toEqual([expect.objectContaining({ model: ht40.model })])
+
     const deferrals = (await eng.get('/api/test-deferrals').expect(200)).body
     expect(deferrals.total).toBe(1)
     expect(deferrals.items[0]).toMatchObject({ status: 'approved', inForce: true, extensionDays: 28 })

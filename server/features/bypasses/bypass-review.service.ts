@@ -7,6 +7,7 @@ import {
   type Subsystem,
 } from '../../../shared/domain/sif-reliability.ts'
 import type { BypassDto, BypassReviewDto } from '../../../shared/schemas/bypasses.ts'
+import { failureRates } from '../demands/failure-rates.service.ts'
 import type { AppDeps } from '../../deps.ts'
 import { validationFailed } from '../../errors.ts'
 import { policyOf } from '../sites/sites.service.ts'
@@ -204,6 +205,19 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
     page: 1,
     pageSize: 10_000,
   })
+  // device models whose observed λDU bound (70 %) exceeds the λDU a limit's sensor subsystem assumes
+  const rates = await failureRates(deps, q.siteIds, { from: null, to: new Date(now) })
+  const aboveByLimit = new Map<
+    number,
+    { deviceKind: string; model: string; upper70: number; assumedLambdaDu: number }[]
+  >()
+  for (const g of rates.groups)
+    for (const r of g.limits)
+      if (r.verdict === 'above' && g.upper70 !== null)
+        aboveByLimit.set(r.limitId, [
+          ...(aboveByLimit.get(r.limitId) ?? []),
+          { deviceKind: g.deviceKind, model: g.model, upper70: g.upper70, assumedLambdaDu: r.assumedLambdaDu },
+        ])
   const rows = limits
     .map((l) => {
       const subsystems = l.subsystems as Subsystem[]
@@ -255,6 +269,7 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
         actualIntervalHours: actualIntervalHoursByRole ? Math.max(...Object.values(actualIntervalHoursByRole)) : null,
         belowTarget: !effective.meetsTarget,
         designBelowTarget: !compareToTarget(target, designPfd).meetsTarget,
+        observedLambdaDuAbove: aboveByLimit.get(l.id) ?? [],
       }
     })
     .filter((r): r is NonNullable<typeof r> => r !== null)

@@ -1,4 +1,5 @@
 import type { Kysely, Transaction } from 'kysely'
+import { sql } from 'kysely'
 import type { Database, DemandKind, DemandOutcome } from '../../db/schema.ts'
 
 type Db = Kysely<Database> | Transaction<Database>
@@ -239,5 +240,104 @@ export function updateLimitAssumptions(
       updated_at: a.now,
     })
     .where('id', '=', limitId)
+    .execute()
+}
+
+// ---- observed failure rates per device kind and model (docs/domain/observed-rates.md#failure-rates-of-device-models)
+
+/** Instruments that are a channel of an active limit, with the earliest commissioning date among their limits. */
+export function instrumentsInService(db: Db, siteIds: number[]) {
+  return db
+    .selectFrom('instrument as i')
+    .innerJoin('site', 'site.id', 'i.site_id')
+    .select((eb) => [
+      'i.id',
+      'i.tag',
+      'i.site_id',
+      'i.device_kind',
+      'i.model',
+      'i.created_at',
+      eb
+        .selectFrom('limit_instrument as li')
+        .innerJoin('limit_function as l', 'l.id', 'li.limit_id')
+        .select((e) => e.fn.min('l.commissioned_at').as('c'))
+        .whereRef('li.instrument_id', '=', 'i.id')
+        .as('commissioned_at'),
+    ])
+    .where('i.site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where((eb) =>
+      eb.exists(
+        eb
+          .selectFrom('limit_instrument as li')
+          .innerJoin('limit_function as l', 'l.id', 'li.limit_id')
+          .select('li.limit_id')
+          .whereRef('li.instrument_id', '=', 'i.id')
+          .where('l.status', '=', 'active'),
+      ),
+    )
+    .orderBy('i.tag')
+    .execute()
+}
+
+/**
+ * Signed tests of the trip point in a period whose as-found result, or a channel's, was dangerous (tripped late or
+ * not at all): failures found at a proof test.
+ */
+export function dangerousAsFoundTests(db: Db, siteIds: number[], from: Date, to: Date) {
+  return db
+    .selectFrom('trip_test as t')
+    .innerJoin('limit_function as l', 'l.id', 't.limit_id')
+    .select(['t.id', 't.performed_at', 't.channels', 't.as_found_result', 'l.primary_instrument_id'])
+    .where('t.site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('t.status', 'in', ['signed', 'completed'])
+    .where('t.scope', 'in', ['function', 'sensor'])
+    .where('t.performed_at', '>=', from)
+    .where('t.performed_at', '<', to)
+    .where((eb) =>
+      eb.or([
+        eb('t.as_found_result', 'in', ['out_dangerous', 'no_trip']),
+        sql<boolean>`t.channels::text ~ '"asFoundResult": ?"(out_dangerous|no_trip)"'`,
+      ]),
+    )
+    .execute()
+}
+
+/** Failures found in operation or on demand that an engineer classified as dangerous undetected, in a period. */
+export function dangerousUndetectedDemands(db: Db, siteIds: number[], from: Date, to: Date) {
+  return db
+    .selectFrom('demand')
+    .select(['id', 'kind', 'instrument_id', 'occurred_at'])
+    .where('site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('kind', 'in', ['dangerous_failure', 'failure_on_demand'])
+    .where('dangerous_undetected', '=', true)
+    .where('counts', '=', true)
+    .where('occurred_at', '>=', from)
+    .where('occurred_at', '<', to)
+    .execute()
+}
+
+/** Active SIL-rated limits with their subsystems and channels, for the assumed λDU of their sensors. */
+export function silLimitsWithChannels(db: Db, siteIds: number[]) {
+  return db
+    .selectFrom('limit_function as l')
+    .innerJoin('site', 'site.id', 'l.site_id')
+    .select((eb) => [
+      'l.id',
+      'l.tag',
+      'l.site_id',
+      'site.code as site_code',
+      'l.sil',
+      'l.subsystems',
+      'l.primary_instrument_id',
+      eb
+        .selectFrom('limit_instrument as li')
+        .select(sql<number[]>`coalesce(array_agg(li.instrument_id), '{}')`.as('ids'))
+        .whereRef('li.limit_id', '=', 'l.id')
+        .as('channel_ids'),
+    ])
+    .where('l.site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('l.status', '=', 'active')
+    .where('l.sil', 'is not', null)
+    .orderBy('l.tag')
     .execute()
 }

@@ -4,11 +4,19 @@ import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
 import { DemandListQuerySchema } from '../../../shared/schemas/demands.ts'
 import { scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
+import { validationFailed } from '../../errors.ts'
 import * as service from './demands.service.ts'
+import { failureRates, proposeObservedLambdaDu } from './failure-rates.service.ts'
 
 const RatesQuerySchema = z.object({
   siteId: repeated(IdSchema),
   limitId: repeated(IdSchema),
+  from: z.iso.datetime({ offset: true }).optional(),
+  to: z.iso.datetime({ offset: true }).optional(),
+})
+
+const FailureRatesQuerySchema = z.object({
+  siteId: repeated(IdSchema),
   from: z.iso.datetime({ offset: true }).optional(),
   to: z.iso.datetime({ offset: true }).optional(),
 })
@@ -34,6 +42,18 @@ export function createDemandsRouter(deps: AppDeps) {
     const to = q.to ? new Date(q.to) : deps.clock.now()
     const from = q.from ? new Date(q.from) : new Date(to.getTime() - 365 * 86_400_000)
     res.json(await service.demandRates(deps, scopeSites(req.user, q.siteId), { from, to }, q.limitId))
+  })
+  router.get('/failure-rates', async (req, res) => {
+    const q = FailureRatesQuerySchema.parse(req.query)
+    const to = q.to ? new Date(q.to) : deps.clock.now()
+    const from = q.from ? new Date(q.from) : null
+    if (from && !(from < to)) throw validationFailed({ from: ['The period must start before it ends'] })
+    res.json(await failureRates(deps, scopeSites(req.user, q.siteId), { from, to }))
+  })
+  router.post('/failure-rates/change-request', async (req, res) => {
+    res
+      .status(201)
+      .json(await proposeObservedLambdaDu(deps, req.ability, req.audit, scopeSites(req.user, undefined), req.body))
   })
   router.put('/assumptions/:limitId', async (req, res) => {
     res.json(await service.setDemandAssumptions(deps, req.ability, req.audit, id(req.params.limitId), req.body))

@@ -359,6 +359,7 @@ function instrumentBase(i: InstrumentDto): Record<string, unknown> {
     signal: i.signal,
     deviceKind: i.deviceKind,
     deviceDescription: i.deviceDescription,
+    model: i.model,
   }
 }
 
@@ -380,6 +381,7 @@ function instrumentRaw(cells: Cells, base: InstrumentDto | null, errs: CellProbl
   if (cells.instrumentTag !== undefined) raw.tag = cells.instrumentTag
   if (cells.unit !== undefined) raw.unit = cells.unit
   if (cells.deviceDescription !== undefined) raw.deviceDescription = cells.deviceDescription
+  if (cells.model !== undefined) raw.model = cells.model
   for (const k of INSTRUMENT_ENUMS)
     if (cells[k] !== undefined) raw[k] = cells[k] === '' ? undefined : enumCell(cells[k])
   if (cells.pressureReference !== undefined)
@@ -550,6 +552,7 @@ function instrumentStored(d: CreateInstrumentInput): Record<string, unknown> {
     signal: d.signal,
     deviceKind: d.deviceKind,
     deviceDescription: d.deviceDescription,
+    model: d.model,
   }
 }
 

@@ -34,6 +34,7 @@ function columns(d: CreateInstrumentInput) {
     signal: JSON.stringify(d.signal),
     device_kind: d.deviceKind,
     device_description: d.deviceDescription,
+    model: d.model,
   }
 }
 

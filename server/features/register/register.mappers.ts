@@ -30,6 +30,7 @@ export function toInstrument(
     signal: r.signal as Signal,
     deviceKind: r.device_kind as Instrument['deviceKind'],
     deviceDescription: r.device_description,
+    model: r.model,
     revision: r.revision,
     updatedAt: r.updated_at.toISOString(),
   }

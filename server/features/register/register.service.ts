@@ -181,6 +181,7 @@ export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q:
       headTransmitter: yesNo(Boolean(sig.headTransmitter)),
       deviceKind: inst.deviceKind,
       deviceDescription: inst.deviceDescription,
+      model: inst.model,
       tag: l.tag,
       description: l.description,
       direction: l.direction,

@@ -43,6 +43,8 @@ export interface RiskRow {
   actualIntervalHours: number | null
   belowTarget: boolean
   designBelowTarget: boolean
+  /** device models on its channels whose observed λDU bound (70 %) exceeds its sensor λDU */
+  observedLambdaDuAbove: { deviceKind: string; model: string; upper70: number; assumedLambdaDu: number }[]
 }
 
 export interface RiskErosion {

@@ -179,6 +179,7 @@ const OTHER_LABELS: Record<string, string> = {
   pressureReference: 'Pressure reference',
   deviceKind: 'Device',
   deviceDescription: 'Device description',
+  model: 'Model',
 }
 
 export function fieldSpec(key: string): FieldSpec | undefined {
@@ -223,7 +224,12 @@ export function valueText(key: string, v: unknown, unit = ''): string {
   if (key === 'signal' && typeof v === 'object' && v && 'kind' in v) return signalText(v as Signal)
   if (key === 'subsystems' && Array.isArray(v))
     return v.length
-      ? v.map((s: { role?: string; architecture?: string }) => `${s.role} ${s.architecture}`).join('; ')
+      ? v
+          .map(
+            (s: { role?: string; architecture?: string; lambdaDu?: number }) =>
+              `${s.role} ${s.architecture}${typeof s.lambdaDu === 'number' ? ` λDU ${s.lambdaDu.toExponential(2)} /h` : ''}`,
+          )
+          .join('; ')
       : '—'
   if (Array.isArray(v))
     return v.length ? v.map((x) => (typeof x === 'object' ? JSON.stringify(x) : String(x))).join('; ') : '—'

@@ -7,6 +7,7 @@ import type {
   DemandAssumptionsInput,
   DemandDto,
   DemandRates,
+  FailureRates,
 } from '@shared/schemas/demands.ts'
 import type { Limit } from '@shared/schemas/register.ts'
 import { http } from '@/api/client'
@@ -38,6 +39,10 @@ export const classifyDemand = (id: number, body: ClassifyDemandInput) =>
 export const creditDemand = (id: number, body: CreditDemandInput) => http.post<DemandDto>(`/demands/${id}/credit`, body)
 export const getDemandRates = (query: { siteId?: number[]; limitId?: number[]; from?: string; to?: string }) =>
   http.get<DemandRates>('/demands/rates', { ...query })
+export const getFailureRates = (query: { siteId?: number[]; from?: string; to?: string }) =>
+  http.get<FailureRates>('/demands/failure-rates', { ...query })
+export const proposeObservedLambdaDu = (body: { limitId: number; deviceKind: string; model: string }) =>
+  http.post<{ changeRequestId: number; proposedLambdaDu: number }>('/demands/failure-rates/change-request', body)
 export const setDemandAssumptions = (limitId: number, body: DemandAssumptionsInput) =>
   http.put<DemandAssumptions>(`/demands/assumptions/${limitId}`, body)
 

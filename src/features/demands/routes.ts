@@ -8,6 +8,12 @@ export default [
     meta: { can: ['read', 'Demand'], title: 'Demands and trips' },
   },
   {
+    path: '/demands/failure-rates',
+    name: 'failure-rates',
+    component: () => import('./views/FailureRatesView.vue'),
+    meta: { can: ['read', 'Demand'], title: 'Observed failure rates' },
+  },
+  {
     path: '/demands/:id(\\d+)',
     name: 'demand-detail',
     component: () => import('./views/DemandDetailView.vue'),

@@ -9,7 +9,7 @@ const next = () => `${process.pid % 1000}-${++seq}`
 /** A process, a type K thermocouple instrument (0–1200 °C, normal 300–650) and a proposed high trip at 780 °C, via the API as an engineer. */
 export async function buildHeaterTrip(
   eng: ApiAgent,
-  opts: { siteCode?: string; sil?: 1 | 2 | 3 | null; setpoint?: number } = {},
+  opts: { siteCode?: string; sil?: 1 | 2 | 3 | null; setpoint?: number; model?: string } = {},
 ) {
   const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const site = sites.find((s) => s.code === (opts.siteCode ?? 'FHR'))!
@@ -36,6 +36,7 @@ export async function buildHeaterTrip(
         burnout: 'upscale',
         signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
         deviceKind: 'limit_controller',
+        ...(opts.model === undefined ? {} : { model: opts.model }),
       })
       .expect(201)
   ).body

@@ -3,6 +3,7 @@ import { describe, expect, it } from 'vitest'
 import {
   chiSquareQuantile,
   exposureHours,
+  judgeAssumedRate,
   observedRate,
   rateLowerBound,
   rateUpperBound,
@@ -71,5 +72,38 @@ describe('rate bounds', () => {
     expect(exposureHours(period, new Date('2025-06-01T00:00:00Z'))).toBe(240)
     expect(exposureHours(period, new Date('2026-01-06T00:00:00Z'))).toBe(120)
     expect(exposureHours(period, new Date('2026-02-01T00:00:00Z'))).toBe(0)
+  })
+})
+
+describe('the 70 % bound of one failure and the verdict against an assumed λDU', () => {
+  // With an even number 2k of degrees of freedom the chi-square distribution function has the closed form
+  // P(χ² ≤ x) = 1 − e^(−x/2)·Σ_{j<k} (x/2)^j / j! (the Poisson–chi-square relation; from memory), evaluated by mathjs.
+  it('χ²(0.7; 4) satisfies the closed form and matches the printed 4.878', () => {
+    const x = chiSquareQuantile(0.7, 4)
+    const cdf = evaluate('1 - exp(-x / 2) * (1 + x / 2)', { x }) as number
+    expect(Math.abs(cdf - 0.7)).toBeLessThan(1e-9)
+    // 4.878: the 0.30 upper-tail column of the usual chi-square tables (from memory)
+    expect(Math.abs(x - 4.878)).toBeLessThan(0.0005)
+  })
+
+  it('one failure in 17 520 h: 70 % bound 4.878/35 040 = 1.392e−4 /h, above an assumed 5e−7 /h', () => {
+    const r = observedRate(1, 17_520)
+    // within the table's rounding (±0.0005 on χ²)
+    expect(Math.abs(r.upper70 - 4.878 / 35_040)).toBeLessThan(0.0005 / 35_040)
+    expect(judgeAssumedRate(r, 5e-7)).toBe('above')
+    expect(judgeAssumedRate(r, 2e-4)).toBe('supported')
+  })
+
+  it('no failure: a bound above the assumption means too little experience, not a rate above it', () => {
+    // zero-failure bound at 70 %: −ln(0.3)/T = 1.204/T (closed form above); with T = 1e6 h that is 1.204e−6 /h
+    const r = observedRate(0, 1e6)
+    expect(judgeAssumedRate(r, 1e-6)).toBe('not_enough_experience')
+    expect(judgeAssumedRate(r, 1.3e-6)).toBe('supported')
+  })
+
+  it('refuses an assumed λDU that is not a positive number', () => {
+    const r = observedRate(1, 1e6)
+    expect(() => judgeAssumedRate(r, 0)).toThrow(RangeError)
+    expect(() => judgeAssumedRate(r, Number.NaN)).toThrow(RangeError)
   })
 })
