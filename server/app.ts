@@ -10,6 +10,7 @@ import { sql } from 'kysely'
 import { pinoHttp } from 'pino-http'
 import { ErrorCode } from '../shared/errors.ts'
 import type { AppDeps } from './deps.ts'
+import { standbyState } from './db/read-standby.ts'
 import { AppError } from './errors.ts'
 import {
   createInstrumentsRouter,
@@ -103,7 +104,7 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.get('/health', async (_req, res) => {
     try {
       await sql`SELECT 1`.execute(deps.db)
-      res.json({ status: 'ok', database: 'ok' })
+      res.json({ status: 'ok', database: 'ok', readStandby: standbyState(deps) })
     } catch {
       res.setHeader('Retry-After', '5')
       res.status(503).json({ status: 'degraded', database: 'unreachable' })

@@ -7,6 +7,8 @@ const EnvSchema = z.object({
   HOST: z.string().default('127.0.0.1'),
   PORT: z.coerce.number().int().min(0).max(65535).default(8080),
   APP_URL: z.string().optional(),
+  // an optional hot standby (streaming replication) for the heavy reads (docs/deployment.md, "A read standby")
+  READ_DATABASE_URL: z.string().optional(),
   DATABASE_URL: z.string().min(1),
   MIGRATION_DATABASE_URL: z.string().optional(),
   SESSION_SECRET: z.string().min(16).default('limitkeeper-local-development-secret'),

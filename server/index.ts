@@ -3,6 +3,7 @@ import { AdjustableClock, type Clock, systemClock } from './clock.ts'
 import type { Config } from './config.ts'
 import { createApp } from './app.ts'
 import { createDb } from './db/index.ts'
+import { createReadStandby } from './db/read-standby.ts'
 import { createJobs } from './jobs/index.ts'
 import { JobScheduler } from './jobs/scheduler.ts'
 import { loadAuditKeys } from './features/audit/audit.key.ts'
@@ -23,7 +24,8 @@ export async function startServer(
   loadAuditKeys()
   const clock = opts.clock ?? (config.NODE_ENV === 'test' ? new AdjustableClock() : systemClock)
   const { db, pool } = createDb(config.DATABASE_URL, 20)
-  const app = createApp({ db, pool, clock, config })
+  const readStandby = config.READ_DATABASE_URL ? createReadStandby(config.READ_DATABASE_URL) : undefined
+  const app = createApp({ db, pool, clock, config, readStandby })
   const leaseMs = config.JOB_LEASE_SECONDS * 1000
   const scheduler = new JobScheduler(
     db,
@@ -43,6 +45,7 @@ export async function startServer(
   }).catch(async (err: NodeJS.ErrnoException) => {
     await scheduler.stop()
     await db.destroy()
+    await readStandby?.db.destroy()
     if (err.code === 'EADDRINUSE')
       throw new Error(`Port ${config.PORT} is already in use: stop what listens there or set PORT to a free port.`)
     throw err
@@ -56,6 +59,7 @@ export async function startServer(
       server.closeAllConnections()
       await new Promise<void>((resolve) => server.close(() => resolve()))
       await db.destroy()
+      await readStandby?.db.destroy()
     },
   }
 }

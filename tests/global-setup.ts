@@ -2,26 +2,15 @@
 // database as the owner role, and tears everything down afterwards. Each test file clones its own database.
 import { execFile } from 'node:child_process'
 import { mkdtemp, rm } from 'node:fs/promises'
-import net from 'node:net'
 import os from 'node:os'
 import path from 'node:path'
 import { promisify } from 'node:util'
 import pg from 'pg'
 import type { TestProject } from 'vitest/node'
 import { createAuditKeyFile } from '../server/features/audit/audit.key.ts'
+import { freePort } from '../server/dev/free-port.ts'
 
 const run = promisify(execFile)
-
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = net.createServer()
-    s.once('error', reject)
-    s.listen(0, '127.0.0.1', () => {
-      const { port } = s.address() as net.AddressInfo
-      s.close(() => resolve(port))
-    })
-  })
-}
 
 export default async function setup(project: TestProject) {
   const dir = await mkdtemp(path.join(os.tmpdir(), 'limitkeeper-test-'))

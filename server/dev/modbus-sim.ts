@@ -8,6 +8,7 @@ import { encodeRegisters, registerCount } from '../../shared/domain/modbus-decod
 import type { RegisterMapEntry } from '../../shared/schemas/reconciliation.ts'
 import { logger } from '../logger.ts'
 import { DEMO_DEVICES } from '../seed/demo-reconciliation.ts'
+import { freePort } from './free-port.ts'
 
 export interface SimRequest {
   unitId: number
@@ -36,17 +37,6 @@ export interface ModbusSim {
 
 const ILLEGAL_FUNCTION = 0x01
 const ILLEGAL_DATA_ADDRESS = 0x02
-
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = net.createServer()
-    s.once('error', reject)
-    s.listen(0, '127.0.0.1', () => {
-      const p = (s.address() as net.AddressInfo).port
-      s.close(() => resolve(p))
-    })
-  })
-}
 
 function portInUse(port: number): Promise<boolean> {
   return new Promise((resolve) => {

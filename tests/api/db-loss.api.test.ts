@@ -17,19 +17,9 @@ import { loadConfig } from '../../server/config.ts'
 import { createDb, type Db } from '../../server/db/index.ts'
 import { verifyAuditChain } from '../../server/features/audit/audit.repository.ts'
 import { DEMO_PASSWORD, seedDemo } from '../../server/seed/demo.ts'
+import { freePort } from '../../server/dev/free-port.ts'
 
 const run = promisify(execFile)
-
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = net.createServer()
-    s.once('error', reject)
-    s.listen(0, '127.0.0.1', () => {
-      const { port } = s.address() as net.AddressInfo
-      s.close(() => resolve(port))
-    })
-  })
-}
 
 let dir = ''
 let env: NodeJS.ProcessEnv = {}

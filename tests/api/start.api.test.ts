@@ -7,23 +7,13 @@ import os from 'node:os'
 import path from 'node:path'
 import { promisify } from 'node:util'
 import { afterAll, describe, expect, it } from 'vitest'
+import { freePort } from '../../server/dev/free-port.ts'
 
 const run = promisify(execFile)
 const dirs: string[] = []
 afterAll(async () => {
   for (const d of dirs) await rm(d, { recursive: true, force: true })
 })
-
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = net.createServer()
-    s.once('error', reject)
-    s.listen(0, '127.0.0.1', () => {
-      const { port } = s.address() as net.AddressInfo
-      s.close(() => resolve(port))
-    })
-  })
-}
 
 /** Starts `server/start.ts` and resolves with its URL once it prints that it is ready (or rejects with its output). */
 function start(
@@ -98,7 +88,7 @@ describe('npm start', () => {
     const first = await start(env)
     expect(first.output()).toContain('Demo plant seeded.')
     const health = await fetch(`${first.url}/api/health`)
-    expect(await health.json()).toEqual({ status: 'ok', database: 'ok' })
+    expect(await health.json()).toEqual({ status: 'ok', database: 'ok', readStandby: 'none' })
     expect(await postgresRunning(pgDir)).toBe(true)
     first.child.kill('SIGTERM')
     expect(await stopped(first.child)).toBe(0)

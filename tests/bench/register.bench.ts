@@ -9,7 +9,6 @@
 import { execFile } from 'node:child_process'
 import { mkdtemp, rm } from 'node:fs/promises'
 import type { Server } from 'node:http'
-import net from 'node:net'
 import os from 'node:os'
 import path from 'node:path'
 import { performance } from 'node:perf_hooks'
@@ -31,6 +30,7 @@ import {
 import { migrateToLatest } from '../../server/db/migrate.ts'
 import { startServer, type RunningServer } from '../../server/index.ts'
 import { DEMO_PASSWORD, seedDemo } from '../../server/seed/demo.ts'
+import { freePort } from '../../server/dev/free-port.ts'
 
 const run = promisify(execFile)
 
@@ -41,17 +41,6 @@ const WARMUP_MS = 1500
 const PAGE_SIZE = 50
 const TARGET_P95_MS = 50
 const TARGET_RATIO = 5
-
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = net.createServer()
-    s.once('error', reject)
-    s.listen(0, '127.0.0.1', () => {
-      const { port } = s.address() as net.AddressInfo
-      s.close(() => resolve(port))
-    })
-  })
-}
 
 const seconds = (ms: number) => `${(ms / 1000).toFixed(2)} s`
 

@@ -4,7 +4,6 @@
 // only the screenshots whose names start with one of them: `npm run docs:screenshots -- register trip-test-form`.
 import { execFile } from 'node:child_process'
 import { mkdir, mkdtemp, rm } from 'node:fs/promises'
-import net from 'node:net'
 import os from 'node:os'
 import path from 'node:path'
 import { promisify } from 'node:util'
@@ -17,20 +16,10 @@ import { systemClock } from '../../server/clock.ts'
 import { seedDemoActivity } from '../../server/seed/demo-activity.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
 import { launchChromium } from './chromium.ts'
+import { freePort } from '../../server/dev/free-port.ts'
 
 const run = promisify(execFile)
 const OUT = 'docs/screenshots'
-
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = net.createServer()
-    s.once('error', reject)
-    s.listen(0, '127.0.0.1', () => {
-      const { port } = s.address() as net.AddressInfo
-      s.close(() => resolve(port))
-    })
-  })
-}
 
 async function signIn(
   browser: Browser,

@@ -19,6 +19,7 @@ import { IdSchema } from '../../../shared/schemas/common.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import { authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
+import { onReadStandby } from '../../db/read-standby.ts'
 import { AppError, validationFailed } from '../../errors.ts'
 import { alarmFigures, monthlyReport } from './alarm-figures.service.ts'
 import * as journals from './alarm-journals.service.ts'
@@ -112,10 +113,12 @@ export function createAlarmJournalsRouter(deps: AppDeps) {
 export function createAlarmFiguresRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
-    res.json(await alarmFigures(deps, req.ability, AlarmFiguresQuerySchema.parse(req.query)))
+    res.json(await onReadStandby(deps, (d) => alarmFigures(d, req.ability, AlarmFiguresQuerySchema.parse(req.query))))
   })
   router.get('/report.pdf', async (req, res) => {
-    const { pdf, fileName } = await monthlyReport(deps, req.ability, AlarmReportQuerySchema.parse(req.query))
+    const { pdf, fileName } = await onReadStandby(deps, (d) =>
+      monthlyReport(d, req.ability, AlarmReportQuerySchema.parse(req.query)),
+    )
     res.type('application/pdf').setHeader('Content-Disposition', `attachment; filename="${fileName}"`)
     res.send(pdf)
   })

@@ -13,6 +13,7 @@ import {
 import { IdSchema } from '../../../shared/schemas/common.ts'
 import { allows, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
+import { onReadStandby } from '../../db/read-standby.ts'
 import { forbidden } from '../../errors.ts'
 import { renderPdf } from '../../pdf.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
@@ -116,30 +117,36 @@ export function createBypassReviewRouter(deps: AppDeps) {
   router.get('/', async (req, res) => {
     const q = BypassReviewQuerySchema.parse(req.query)
     res.json(
-      await bypassReview(deps, {
-        ...filters(req.user, q),
-        siteIds: reviewSites(req, q.siteId),
-        ...period(q, deps.clock.now()),
-      }),
+      await onReadStandby(deps, (d) =>
+        bypassReview(d, {
+          ...filters(req.user, q),
+          siteIds: reviewSites(req, q.siteId),
+          ...period(q, deps.clock.now()),
+        }),
+      ),
     )
   })
   router.get('/risk', async (req, res) => {
     const q = BypassFilterSchema.parse(req.query)
     res.json(
-      await riskErosion(deps, {
-        siteIds: reviewSites(req, q.siteId),
-        areaIds: q.areaId,
-        ...period(q, deps.clock.now()),
-      }),
+      await onReadStandby(deps, (d) =>
+        riskErosion(d, {
+          siteIds: reviewSites(req, q.siteId),
+          areaIds: q.areaId,
+          ...period(q, deps.clock.now()),
+        }),
+      ),
     )
   })
   router.get('/export', async (req, res) => {
     const q = BypassReviewQuerySchema.parse(req.query)
-    const r = await bypassReview(deps, {
-      ...filters(req.user, q),
-      siteIds: reviewSites(req, q.siteId),
-      ...period(q, deps.clock.now()),
-    })
+    const r = await onReadStandby(deps, (d) =>
+      bypassReview(d, {
+        ...filters(req.user, q),
+        siteIds: reviewSites(req, q.siteId),
+        ...period(q, deps.clock.now()),
+      }),
+    )
     const rows = r.items.map((b) => ({
       Bypass: b.id,
       Site: b.siteCode,

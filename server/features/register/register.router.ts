@@ -12,6 +12,7 @@ import {
 } from '../../../shared/schemas/register.ts'
 import { scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
+import { onReadStandby } from '../../db/read-standby.ts'
 import * as instruments from './instruments.service.ts'
 import * as limits from './limits.service.ts'
 import * as processes from './processes.service.ts'
@@ -95,7 +96,9 @@ export function createInstrumentsRouter(deps: AppDeps) {
 export function createLimitsRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
-    const page = await register.listRegister(deps, req.user, LimitListQuerySchema.parse(req.query))
+    const page = await onReadStandby(deps, (d) =>
+      register.listRegister(d, req.user, LimitListQuerySchema.parse(req.query)),
+    )
     if ('json' in page) res.type('application/json').send(page.json)
     else res.json(page)
   })
@@ -103,7 +106,7 @@ export function createLimitsRouter(deps: AppDeps) {
     const { format, ...query } = LimitListQuerySchema.extend({ format: z.enum(['csv', 'xlsx']).default('csv') }).parse(
       req.query,
     )
-    const file = await register.exportRegister(deps, req.user, query, format)
+    const file = await onReadStandby(deps, (d) => register.exportRegister(d, req.user, query, format))
     res.setHeader('Content-Type', file.contentType)
     res.setHeader('Content-Disposition', `attachment; filename="${file.fileName}"`)
     res.send(file.body)
