@@ -10,7 +10,7 @@ import { useTestDb } from './helpers/test-db.ts'
 const ctx = useTestDb()
 let eng: ApiAgent
 let siteId: number
-const ROWS = 50_000
+const ROWS = 10_000
 
 async function batches() {
   const { rows } = await ctx.pool.query<{ n: string }>('SELECT count(*) AS n FROM import_batch')
