@@ -1,6 +1,6 @@
 // `npm run bench:xlsx`: register uploads of a small workbook with a million rows (the XLSX amplification of
 // docs/security.md, "Uploads"). Starts a throwaway PostgreSQL cluster with the demo plant and the server in this
-// process, writes an XLSX of 1,000,000 one-cell rows under the 5 MB upload limit, then uploads it 1 and 8 times at
+// process, writes an XLSX of 950,000 one-cell rows under the 5 MB upload limit, then uploads it 1 and 8 times at
 // once while `GET /api/health` is asked every 25 ms. Prints the answers, the upload times, the peak resident memory of
 // the process (process.memoryUsage().rss, sampled every 10 ms) above its level before the uploads, and the health
 // latency, with PASS/FAIL against the targets. Exits 0 whether or not the targets are met; non-zero only when the
@@ -13,26 +13,35 @@ import { systemClock } from '../../server/clock.ts'
 import { loadConfig } from '../../server/config.ts'
 import { createDb } from '../../server/db/index.ts'
 import { startServer } from '../../server/index.ts'
+import { logger } from '../../server/logger.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
 import { IMPORT_MAX_BYTES } from '../../shared/schemas/imports.ts'
 import { runAsScript, signIn, startCluster } from './register.bench.ts'
 
-const ROWS = 1_000_000
+// ExcelJS's writer packs 1,000,000 rows into 5.14 MB, just over the 5 MB upload limit; 950,000 fit under it
+const ROWS = 950_000
 const TARGET_PEAK_MB = { 1: 150, 8: 400 } as Record<number, number>
 const TARGET_HEALTH_MAX_MS = { 1: 250, 8: 1000 } as Record<number, number>
 const MB = (n: number) => n / 1024 / 1024
 
 /** A workbook of a header and ROWS one-number rows, written by ExcelJS's streaming writer (no model in memory). */
 async function writeWorkbook(file: string) {
-  const wb = new ExcelJS.stream.xlsx.WorkbookWriter({ filename: file, useSharedStrings: false, useStyles: false })
+  const wb = new ExcelJS.stream.xlsx.WorkbookWriter({
+    filename: file,
+    useSharedStrings: false,
+    useStyles: false,
+    zip: { zlib: { level: 9 } },
+  })
   const ws = wb.addWorksheet('Register')
   ws.addRow(['Tag']).commit()
-  for (let i = 1; i <= ROWS; i++) ws.addRow([i % 10]).commit()
+  for (let i = 1; i <= ROWS; i++) ws.addRow([1]).commit()
   ws.commit()
   await wb.commit()
 }
 
 async function main() {
+  // the figures, not a log line per health check
+  logger.level = 'warn'
   console.log(`XLSX upload benchmark (${os.cpus().length} CPUs, Node ${process.version})`)
   const dir = await mkdtemp(path.join(os.tmpdir(), 'limitkeeper-xlsx-bench-'))
   const cluster = await startCluster()
