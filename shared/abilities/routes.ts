@@ -116,6 +116,8 @@ export const ROUTE_ACCESS: Record<string, RouteAccess> = {
   'POST /api/demands/:id/classification': { roles: ENGINEER, otherSite: 'missing' },
   'POST /api/demands/:id/credit': { roles: ENGINEER, otherSite: 'missing' },
   'PUT /api/demands/assumptions/:limitId': { roles: ENGINEER, otherSite: 'missing' },
+  // a change request from an observed failure rate (docs/demands.md); another site's limit is not among the rates
+  'POST /api/demands/failure-rates/change-request': { roles: ENGINEER, otherSite: 'missing' },
 
   // alarms (docs/alarms.md)
   'POST /api/alarm-journals': { roles: ['safety_engineer', 'shift_supervisor'], otherSite: 403 },

@@ -173,6 +173,8 @@ export async function proposeObservedLambdaDu(
   raw: unknown,
 ): Promise<{ changeRequestId: number; proposedLambdaDu: number }> {
   const input = ProposeLambdaDuInputSchema.parse(raw)
+  // a role that may propose changes nowhere is refused before any rate is looked up (403, nothing told)
+  authorize(ability, 'create', 'ChangeRequest')
   const rates = await failureRates(deps, siteIds, { from: null, to: deps.clock.now() })
   const group = rates.groups.find((g) => g.deviceKind === input.deviceKind && g.model === input.model.trim())
   const row = group?.limits.find((l) => l.limitId === input.limitId)

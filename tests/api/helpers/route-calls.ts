@@ -214,6 +214,9 @@ export const CALLS: Record<string, CallSpec> = {
     form: () => ({ fields: {}, file: null }),
   },
   'POST /api/audit-events/verify': { body: () => ({}) },
+  'POST /api/demands/failure-rates/change-request': {
+    body: (f) => ({ limitId: f.limitId, deviceKind: 'limit_controller', model: 'LC-1' }),
+  },
   'POST /api/demands': {
     body: (f) => ({
       limitId: f.limitId,
