@@ -210,6 +210,77 @@ export async function seedDemoDemands(deps: AppDeps, as: (who: string) => DemoAc
     if (e.classify) await classifyDemand(deps, eng.ability, eng.ctx, d.id, e.classify)
   }
 
+  // fault exposure on risk erosion: a single-channel SIL-rated trip proven 200 days ago, found tripping late at its
+  // test 30 days ago (a dangerous undetected failure) and proven again after the repair two days later
+  const single = await db
+    .selectFrom('limit_function')
+    .innerJoin('instrument', 'instrument.id', 'limit_function.primary_instrument_id')
+    .select([
+      'limit_function.id',
+      'limit_function.setpoint',
+      'limit_function.direction',
+      'instrument.range_low',
+      'instrument.range_high',
+      'instrument.signal',
+    ])
+    .where(
+      'limit_function.id',
+      'in',
+      silTrips.map((l) => l.id).filter((id) => id !== heater.id && id !== second.id),
+    )
+    .where((eb) =>
+      eb(
+        eb
+          .selectFrom('limit_instrument')
+          .select(eb.fn.countAll<string>().as('n'))
+          .whereRef('limit_instrument.limit_id', '=', 'limit_function.id'),
+        '=',
+        '1',
+      ),
+    )
+    .orderBy('limit_function.tag')
+    .execute()
+  const exposed = single.find((l) => {
+    const kind = (l.signal as { kind: string }).kind
+    return kind === 'current' || kind === 'voltage'
+  })
+  if (exposed) {
+    const span = Number(exposed.range_high) - Number(exposed.range_low)
+    const sp = Number(exposed.setpoint)
+    const late = Math.round((exposed.direction === 'high' ? sp + 0.03 * span : sp - 0.03 * span) * 100) / 100
+    for (const [daysAgo, asFound, notes] of [
+      [200, sp, 'Tripped at setpoint.'],
+      [30, late, 'Tripped late: transmitter drifted; replaced under WO-26-5030.'],
+      [28, sp, 'Retest after the transmitter was replaced: tripped at setpoint.'],
+    ] as const) {
+      const t = await createTripTest(
+        deps,
+        tech.ability,
+        tech.ctx,
+        TripTestInputSchema.parse({
+          limitId: exposed.id,
+          kind: 'full',
+          method: 'injection',
+          injectionPoint: 'transmitter_output',
+          sourceMode: null,
+          procedureRef: 'FHR-MP-017 limit proving',
+          deviceSerial: daysAgo === 28 ? 'SN-5120' : 'SN-4877',
+          calibratorId: 'CAL-FHR-02',
+          calibratorDueDate: new Date(now - (daysAgo - 100) * DAY).toISOString().slice(0, 10),
+          workOrder: `WO-26-${5000 + daysAgo}`,
+          performedAt: iso(daysAgo, 9),
+          asFound,
+          latchHeld: true,
+          resetRefusedWhileActive: true,
+          resetAcceptedAfterReturn: true,
+          finalElementOk: true,
+          notes,
+        }),
+      )
+      await signTripTest(deps, tech.ability, tech.ctx, t.id, 'performed', DEMO_PASSWORD, '')
+    }
+  }
+
   // a test deferral: a trip last proven 350 days ago, due in about two weeks, deferred to the planned shutdown
   const untested = await db
     .selectFrom('limit_function')

@@ -49,6 +49,18 @@ describe('demo demands, trips and deferral', () => {
     const heaterRisk = risk.items.find((r: { tag: string }) => r.tag === 'TSHH-101')
     expect(heaterRisk.observedLambdaDuAbove).toEqual([expect.objectContaining({ model: ht40.model })])
 
+    // fault exposure: the single-channel trip proven 200 days ago and found tripping late 30 days ago was exposed from
+    // that last pass to the retest two days after the finding: 172 days = 4 128 h (both tests at 09:00)
+    const exposed = risk.items.filter((r: { faultExposureHours: number }) => r.faultExposureHours > 0)
+    expect(exposed).toHaveLength(1)
+    expect(exposed[0].faultExposureHours).toBeCloseTo(4128, 6)
+    expect(exposed[0].faultExposures).toEqual([expect.objectContaining({ ongoing: false })])
+    expect(risk.faultExposureConvention).toMatch(/last passing test/)
+    // never tested functions are labelled so, counted from their 2019 commissioning
+    const never = risk.items.find((r: { tag: string }) => r.tag === 'LSHH-240')
+    expect(never).toMatchObject({ neverTested: true, untestedSince: '2019-05-14' })
+    expect(risk.caution).toMatch(/Low demand mode only/)
+
     const deferrals = (await eng.get('/api/test-deferrals').expect(200)).body
     expect(deferrals.total).toBe(1)
     expect(deferrals.items[0]).toMatchObject({ status: 'approved', inForce: true, extensionDays: 28 })

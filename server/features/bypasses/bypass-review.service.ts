@@ -7,12 +7,20 @@ import {
   type Subsystem,
 } from '../../../shared/domain/sif-reliability.ts'
 import type { BypassDto, BypassReviewDto } from '../../../shared/schemas/bypasses.ts'
+import { FAULT_EXPOSURE_CONVENTION, faultExposureSpans, hoursWithin } from '../../../shared/domain/fault-exposure.ts'
+import { isTestOverdue } from '../../../shared/domain/rules/trip-tests.ts'
+import type { ChannelResultDto } from '../../../shared/schemas/trip-tests.ts'
 import { failureRates } from '../demands/failure-rates.service.ts'
 import type { AppDeps } from '../../deps.ts'
 import { validationFailed } from '../../errors.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { deferralsBetween } from '../trip-tests/trip-tests.repository.ts'
-import { findDegradationSpans, findSitePolicies } from './bypasses.repository.ts'
+import {
+  degradationSpansOf,
+  findDegradationSpans,
+  findSitePolicies,
+  signedTestOutcomes,
+} from './bypasses.repository.ts'
 import { type BypassListQuery, listBypasses } from './bypasses.service.ts'
 
 const HOUR = 3_600_000
@@ -218,6 +226,17 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
           ...(aboveByLimit.get(r.limitId) ?? []),
           { deviceKind: g.deviceKind, model: g.model, upper70: g.upper70, assumedLambdaDu: r.assumedLambdaDu },
         ])
+  // fault exposure and degraded time (docs/bypasses.md#fault-exposure)
+  const ids = limits.map((l) => l.id)
+  const [tests, degradations] = await Promise.all([signedTestOutcomes(deps.db, ids), degradationSpansOf(deps.db, ids)])
+  const dangerous = (r: (typeof tests)[number]) =>
+    r.as_found_result === 'out_dangerous' ||
+    r.as_found_result === 'no_trip' ||
+    ((r.channels ?? []) as ChannelResultDto[]).some(
+      (c) => c.asFoundResult === 'out_dangerous' || c.asFoundResult === 'no_trip',
+    )
+  const periodFrom = new Date(from)
+  const periodTo = new Date(to)
   const rows = limits
     .map((l) => {
       const subsystems = l.subsystems as Subsystem[]
@@ -234,12 +253,28 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
         else whole += h
         channelRole = 'sensor'
       }
+      const inServiceFrom = l.commissioned_at ? new Date(`${l.commissioned_at}T00:00:00Z`) : l.created_at
+      const spans = faultExposureSpans(
+        tests
+          .filter((t) => t.limit_id === l.id)
+          .map((t) => ({ at: t.performed_at, passed: t.passed && t.kind === 'full', dangerousAsFound: dangerous(t) })),
+        inServiceFrom,
+        new Date(now),
+      )
+      const faultExposureHours = hoursWithin(spans, periodFrom, periodTo)
+      const degradedHours = hoursWithin(
+        degradations
+          .filter((g) => g.limit_id === l.id)
+          .map((g) => ({ from: g.opened_at, to: g.cleared_at ?? new Date(now) })),
+        periodFrom,
+        periodTo,
+      )
       const sinceLastPass = l.last_full_pass
         ? (now - new Date(`${l.last_full_pass}T00:00:00Z`).getTime()) / HOUR
         : // never tested: from commissioning (IEC 61511 validation), else from the limit's entry in the register
           (now - (l.commissioned_at ? Date.parse(`${l.commissioned_at}T00:00:00Z`) : l.created_at.getTime())) / HOUR
       // an overdue or never-tested function has gone untested longer than designed: the interval is the time since the last pass
-      const overdue = l.test_status === 'overdue' || l.test_status === 'never_tested'
+      const overdue = isTestOverdue(l.test_status)
       // only where the time since the last pass exceeds the designed interval does it stretch the interval
       const stretched = overdue && subsystems.some((s) => sinceLastPass > s.testIntervalMonths * 730)
       const actualIntervalHoursByRole = stretched
@@ -270,12 +305,25 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
         belowTarget: !effective.meetsTarget,
         designBelowTarget: !compareToTarget(target, designPfd).meetsTarget,
         observedLambdaDuAbove: aboveByLimit.get(l.id) ?? [],
+        neverTested: l.test_status === 'never_tested',
+        untestedSince: l.last_full_pass ?? inServiceFrom.toISOString().slice(0, 10),
+        faultExposureHours,
+        faultExposures: spans
+          .filter((s) => hoursWithin([s], periodFrom, periodTo) > 0)
+          .map((s) => ({
+            from: s.from.toISOString(),
+            to: s.to.toISOString(),
+            foundAt: s.foundAt.toISOString(),
+            ongoing: s.ongoing,
+          })),
+        degradedHours,
       }
     })
     .filter((r): r is NonNullable<typeof r> => r !== null)
   return {
     period: { from: new Date(from).toISOString(), to: new Date(to).toISOString(), hours: periodHours },
     items: rows,
+    faultExposureConvention: FAULT_EXPOSURE_CONVENTION,
     caution: RISK_CAUTION,
   }
 }

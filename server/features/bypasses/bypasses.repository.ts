@@ -255,3 +255,23 @@ export function findDegradationSpans(db: Q, q: { siteIds: number[]; areaIds?: nu
   if (q.limitIds?.length) query = query.where('limit_function.id', 'in', q.limitIds)
   return query.execute()
 }
+
+/** Signed tests of the given limits, oldest first, for fault exposure (as-found dangerous and passed). */
+export function signedTestOutcomes(db: Q, limitIds: number[]) {
+  return db
+    .selectFrom('trip_test')
+    .select(['limit_id', 'performed_at', 'passed', 'kind', 'as_found_result', 'channels'])
+    .where('limit_id', 'in', limitIds.length ? limitIds : [-1])
+    .where('status', 'in', ['signed', 'completed'])
+    .orderBy('performed_at')
+    .execute()
+}
+
+/** Degradation spans of the given limits. */
+export function degradationSpansOf(db: Q, limitIds: number[]) {
+  return db
+    .selectFrom('limit_degradation')
+    .select(['limit_id', 'opened_at', 'cleared_at'])
+    .where('limit_id', 'in', limitIds.length ? limitIds : [-1])
+    .execute()
+}

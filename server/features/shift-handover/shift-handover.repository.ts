@@ -1,3 +1,4 @@
+import { OVERDUE_TEST_STATUSES } from '../../../shared/domain/rules/trip-tests.ts'
 import type { ExpressionBuilder, Kysely, Transaction } from 'kysely'
 import type { Database } from '../../db/schema.ts'
 import { expiredUnreverted } from '../change-requests/change-requests.repository.ts'
@@ -61,7 +62,7 @@ export function findOverdueTests(db: Q, areaIds: number[]) {
     .select(['id', 'tag', 'area_id', 'test_status', 'test_due_date', 'sil'])
     .where('area_id', 'in', areaIds)
     .where('status', '=', 'active')
-    .where('test_status', 'in', ['overdue', 'never_tested'])
+    .where('test_status', 'in', [...OVERDUE_TEST_STATUSES])
     .orderBy('test_due_date')
     .orderBy('tag')
     .execute()

@@ -1,3 +1,4 @@
+import { OVERDUE_TEST_STATUSES } from '@shared/domain/rules/trip-tests.ts'
 import type { BypassDto, BypassFilters, BypassReviewDto } from '@shared/schemas/bypasses.ts'
 import type { ListResult } from '@shared/schemas/common.ts'
 import type { Limit, Process } from '@shared/schemas/register.ts'
@@ -45,11 +46,20 @@ export interface RiskRow {
   designBelowTarget: boolean
   /** device models on its channels whose observed λDU bound (70 %) exceeds its sensor λDU */
   observedLambdaDuAbove: { deviceKind: string; model: string; upper70: number; assumedLambdaDu: number }[]
+  neverTested: boolean
+  /** last passing full test, else the commissioning date (else the entry in the register), YYYY-MM-DD */
+  untestedSince: string
+  /** hours in the period with a dangerous undetected failure that a test then found (docs/bypasses.md#fault-exposure) */
+  faultExposureHours: number
+  faultExposures: { from: string; to: string; foundAt: string; ongoing: boolean }[]
+  /** hours in the period the limit was degraded (failed test, not yet proven again) */
+  degradedHours: number
 }
 
 export interface RiskErosion {
   period: { from: string; to: string; hours: number }
   items: RiskRow[]
+  faultExposureConvention: string
   caution: string
 }
 
@@ -117,7 +127,7 @@ export const getInstrumentTag = (id: number) => http.get<{ id: number; tag: stri
 export const listProcesses = (query: { siteId?: number[]; areaId?: number[] }) =>
   http.get<ListResult<Process>>('/processes', { ...query, pageSize: 200 })
 export const listOverdueTests = () =>
-  http.get<{ items: ScheduleRow[]; total: number }>('/trip-tests/schedule', { status: ['overdue'] })
+  http.get<{ items: ScheduleRow[]; total: number }>('/trip-tests/schedule', { status: [...OVERDUE_TEST_STATUSES] })
 export const listTemporaryChanges = (siteId: number) =>
   http.get<ListResult<TemporaryChange>>('/change-requests', {
     view: 'all',
