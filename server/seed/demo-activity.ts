@@ -173,7 +173,7 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
       password: DEMO_PASSWORD,
       comment: 'Measures in place, checked on the round',
     })
-    await activateBypass(deps, op.ability, op.ctx, b.id)
+    await activateBypass(deps, op.ability, op.ctx, b.id, { measuresInPlace: true, shownToOperator: true })
   }
 
   // change requests: one waiting for approval, one approved and waiting for the technician

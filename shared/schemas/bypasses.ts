@@ -60,6 +60,19 @@ export const RejectBypassInputSchema = z.object({
   password: z.string().min(1).max(128),
   comment: z.string().trim().min(1, 'Say why').max(1000),
 })
+/**
+ * Putting a bypass in force (docs/bypasses.md#workflow): the person who sets it confirms that the compensating
+ * measures are in place and that the bypass shows on the operator's screen, with the control room told.
+ */
+export const ActivateBypassInputSchema = z.object({
+  measuresInPlace: z.literal(true, 'Confirm that the compensating measures are in place'),
+  shownToOperator: z.literal(
+    true,
+    "Confirm that the bypass shows on the operator's screen and that the control room knows of it",
+  ),
+})
+export type ActivateBypassInput = z.infer<typeof ActivateBypassInputSchema>
+
 export const RemoveBypassInputSchema = z.object({
   pvClearConfirmed: z.literal(
     true,

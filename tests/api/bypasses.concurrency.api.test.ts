@@ -4,7 +4,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -51,8 +51,8 @@ describe('bypass: one active bypass per limit (docs/bypasses.md, a partial uniqu
     for (let round = 0; round < 3; round++) {
       const [a, b] = [await authorized(`Round ${round} A`), await authorized(`Round ${round} B`)]
       const results = await Promise.all([
-        as.supervisor.post(`/api/bypasses/${a}/activation`),
-        as.operator.post(`/api/bypasses/${b}/activation`),
+        as.supervisor.post(`/api/bypasses/${a}/activation`, ACTIVATE),
+        as.operator.post(`/api/bypasses/${b}/activation`, ACTIVATE),
       ])
       expect(results.map((r) => r.status).sort(), JSON.stringify(results.map((r) => r.body))).toEqual([200, 409])
       const loser = results.find((r) => r.status === 409)!
@@ -79,7 +79,7 @@ describe('bypass: one active bypass per limit (docs/bypasses.md, a partial uniqu
 
   it('the database refuses a second active row even when the service check is skipped (23505)', async () => {
     const first = await authorized('Held active while the owner role writes directly')
-    await as.operator.post(`/api/bypasses/${first}/activation`).expect(200)
+    await as.operator.post(`/api/bypasses/${first}/activation`, ACTIVATE).expect(200)
     const requester = await ctx.db
       .selectFrom('app_user')
       .select('id')
@@ -116,7 +116,7 @@ describe('bypass: one active bypass per limit (docs/bypasses.md, a partial uniqu
 describe('bypass: removal on record (IEC 61511-1 16.2 bypasses logged; removing while the trip condition is present would trip the unit)', () => {
   it('refuses a removal without the clear-value and back-in-service confirmations (400 field errors, still active, nothing written)', async () => {
     const id = await authorized('Removal confirmations')
-    await as.operator.post(`/api/bypasses/${id}/activation`).expect(200)
+    await as.operator.post(`/api/bypasses/${id}/activation`, ACTIVATE).expect(200)
     const snapshot = async () => ({
       row: await ctx.db.selectFrom('bypass').selectAll().where('id', '=', id).executeTakeFirstOrThrow(),
       audit: Number(
@@ -187,7 +187,7 @@ describe('bypass: removal on record (IEC 61511-1 16.2 bypasses logged; removing 
     ).body.id as number
     const auth = await authorized('Authorized, not active')
     const done = await authorized('Removed already')
-    await as.operator.post(`/api/bypasses/${done}/activation`).expect(200)
+    await as.operator.post(`/api/bypasses/${done}/activation`, ACTIVATE).expect(200)
     await as.operator.post(`/api/bypasses/${done}/removal`, clear).expect(200)
     for (const id of [requested, auth, done]) {
       const before = await ctx.db.selectFrom('bypass').selectAll().where('id', '=', id).executeTakeFirstOrThrow()

@@ -4,7 +4,7 @@ import { createApp } from '../../server/app.ts'
 import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -131,22 +131,24 @@ describe('bypass: an authorization not activated in time lapses (docs/bypasses.m
     ctx.clock.set(new Date(authorizedAt + 4 * HOUR - 60_000))
     as.operator = await signedIn(app, 'operator')
     expect(await job.runDue(ctx.clock.now())).toMatchObject({ lapsed: 0 })
-    expect((await as.operator.post(`/api/bypasses/${early.id}/activation`).expect(200)).body.status).toBe('active')
+    expect((await as.operator.post(`/api/bypasses/${early.id}/activation`, ACTIVATE).expect(200)).body.status).toBe(
+      'active',
+    )
     expect((await as.operator.get(`/api/bypasses/${late.id}`).expect(200)).body.status).toBe('authorized')
 
     // 4 h 1 min after the planned start: the service refuses even before the job has run
     ctx.clock.set(new Date(new Date(late.plannedStart).getTime() + 4 * HOUR + 60_000))
     await signInAll()
-    const refused = await as.operator.post(`/api/bypasses/${late.id}/activation`).expect(409)
+    const refused = await as.operator.post(`/api/bypasses/${late.id}/activation`, ACTIVATE).expect(409)
     expect(refused.body.error).toMatchObject({ code: 'INVALID_STATE', message: expect.stringContaining('lapsed') })
     expect((await as.operator.get(`/api/bypasses/${late.id}`).expect(200)).body.status).toBe('authorized')
 
     expect(await job.runDue(ctx.clock.now())).toMatchObject({ lapsed: 1 })
     const lapsed = (await as.operator.get(`/api/bypasses/${late.id}`).expect(200)).body
     expect(lapsed).toMatchObject({ status: 'lapsed', activatedAt: null, lapsesAt: null })
-    expect((await as.supervisor.post(`/api/bypasses/${late.id}/activation`).expect(409)).body.error.code).toBe(
-      'INVALID_STATE',
-    )
+    expect(
+      (await as.supervisor.post(`/api/bypasses/${late.id}/activation`, ACTIVATE).expect(409)).body.error.code,
+    ).toBe('INVALID_STATE')
     expect((await as.engineer.get(`/api/limits/${second.id}`).expect(200)).body.protectionState).toBe('in_service')
     const events = await ctx.db
       .selectFrom('audit_event')
@@ -258,7 +260,7 @@ describe('bypass: an extension is a further signed authorization (docs/bypasses.
     const b = (await ask('operator', limit.id, 5).expect(201)).body
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
     await atPlannedStart(b)
-    await as.operator.post(`/api/bypasses/${b.id}/activation`).expect(200)
+    await as.operator.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(200)
 
     const noHours = await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(400)
     expect(noHours.body.error.details.fields.hours).toBeDefined()
@@ -309,7 +311,7 @@ describe('bypass: an extension is a further signed authorization (docs/bypasses.
     const b = (await ask('supervisor', l.id, 4).expect(201)).body
     await as.approver.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
     await atPlannedStart(b)
-    await as.supervisor.post(`/api/bypasses/${b.id}/activation`).expect(200)
+    await as.supervisor.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(200)
     const before = await written()
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 1 }).expect(403)
     await as.approver.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 13 }).expect(403)

@@ -4,7 +4,7 @@ import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
 import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
 import { createMailJob } from '../../server/features/mail/mail.worker.ts'
 import { signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -73,10 +73,25 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
     await op.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(403)
     await sup.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
     // not before its planned start (06:30): 409 with the time in the site's zone (Europe/Berlin, CEST in May)
-    const early = await op.post(`/api/bypasses/${b.id}/activation`).expect(409)
+    const early = await op.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(409)
     expect(early.body.error.message).toContain('08:30 CEST')
     ctx.clock.set('2026-05-04T06:30:00Z')
-    await op.post(`/api/bypasses/${b.id}/activation`).expect(200)
+    // put in force only with both confirmations: the measures in place and the bypass on the operator's screen
+    // (docs/bypasses.md#workflow; common practice, IEC 61511-1 asks for an indication to the operator, from memory)
+    for (const partial of [{}, { measuresInPlace: true }, { shownToOperator: true }]) {
+      const refused = await op.post(`/api/bypasses/${b.id}/activation`, partial).expect(400)
+      const fields = Object.keys(refused.body.error.details.fields)
+      expect(fields).toEqual(['measuresInPlace', 'shownToOperator'].filter((f) => !(f in partial)))
+      expect((await op.get(`/api/bypasses/${b.id}`).expect(200)).body.status).toBe('authorized')
+    }
+    await op.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(200)
+    const putInForce = await ctx.db
+      .selectFrom('audit_event')
+      .select('after')
+      .where('action', '=', 'bypass.activate')
+      .where('entity_id', '=', String(b.id))
+      .executeTakeFirstOrThrow()
+    expect(putInForce.after).toMatchObject({ measuresInPlace: true, shownToOperator: true })
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.protectionState).toBe('bypassed')
     const second = (
       await op
@@ -90,7 +105,7 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
         .expect(201)
     ).body
     await sup.post(`/api/bypasses/${second.id}/authorizations`, { password: PW }).expect(200)
-    await op.post(`/api/bypasses/${second.id}/activation`).expect(409)
+    await op.post(`/api/bypasses/${second.id}/activation`, ACTIVATE).expect(409)
 
     // past the planned end: overdue, never closed by the clock
     const job = createBypassJob(ctx.db, ctx.config, ctx.clock)

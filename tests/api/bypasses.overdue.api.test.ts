@@ -7,7 +7,7 @@ import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts
 import { createMailJob } from '../../server/features/mail/mail.worker.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -59,7 +59,7 @@ describe('bypass past its planned end: warning, overdue, escalation (docs/bypass
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
     ctx.clock.set('2026-07-06T06:00:00Z')
     await signInAll()
-    await as.operator.post(`/api/bypasses/${b.id}/activation`).expect(200)
+    await as.operator.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(200)
     const job = createBypassJob(ctx.db, ctx.config, ctx.clock)
     const run = (t: number) => job.runDue(ctx.clock.set(new Date(t)))
     const warning = `Bypass of ${limit.tag} ends at 10:00 UTC`

@@ -6,6 +6,7 @@ import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
+import { ACTIVATE } from './helpers/factories.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
@@ -150,7 +151,7 @@ beforeAll(async () => {
   await at('2026-05-31T19:00:00Z', 'operator', 'supervisor')
   ids.b1 = await requestAndAuthorize('operator', 'supervisor', A.id, '2026-05-31T20:00:00Z', '2026-06-01T04:00:00Z')
   await at('2026-05-31T20:00:00Z', 'operator')
-  await as.operator.post(`/api/bypasses/${ids.b1}/activation`).expect(200)
+  await as.operator.post(`/api/bypasses/${ids.b1}/activation`, ACTIVATE).expect(200)
   await at('2026-06-01T03:59:00Z', 'operator')
   await as.operator.post(`/api/bypasses/${ids.b1}/removal`, clear).expect(200)
 
@@ -164,14 +165,14 @@ beforeAll(async () => {
     false,
   )
   await at('2026-06-02T08:00:00Z', 'technician')
-  await as.technician.post(`/api/bypasses/${ids.b2}/activation`).expect(200)
+  await as.technician.post(`/api/bypasses/${ids.b2}/activation`, ACTIVATE).expect(200)
   await at('2026-06-02T11:00:00Z', 'technician')
   await as.technician.post(`/api/bypasses/${ids.b2}/removal`, clear).expect(200)
 
   await at('2026-06-03T05:30:00Z', 'engineer', 'manager')
   ids.b3 = await requestAndAuthorize('engineer', 'manager', A.id, '2026-06-03T06:00:00Z', '2026-06-03T20:00:00Z')
   await at('2026-06-03T06:00:00Z', 'supervisor')
-  await as.supervisor.post(`/api/bypasses/${ids.b3}/activation`).expect(200)
+  await as.supervisor.post(`/api/bypasses/${ids.b3}/activation`, ACTIVATE).expect(200)
   await at('2026-06-03T19:59:00Z', 'supervisor')
   await as.supervisor.post(`/api/bypasses/${ids.b3}/removal`, clear).expect(200)
 
@@ -201,14 +202,14 @@ beforeAll(async () => {
   await at('2026-06-04T11:30:00Z', 'technician', 'approver2')
   ids.b5 = await requestAndAuthorize('technician', 'approver2', D.id, '2026-06-04T12:00:00Z', '2026-06-04T15:00:00Z')
   await at('2026-06-04T12:00:00Z', 'technician')
-  await as.technician.post(`/api/bypasses/${ids.b5}/activation`).expect(200)
+  await as.technician.post(`/api/bypasses/${ids.b5}/activation`, ACTIVATE).expect(200)
   await at('2026-06-04T14:00:00Z', 'technician')
   await as.technician.post(`/api/bypasses/${ids.b5}/removal`, clear).expect(200)
 
   await at('2026-06-05T07:30:00Z', 'operator', 'supervisor')
   ids.b4 = await requestAndAuthorize('operator', 'supervisor', A.id, '2026-06-05T08:00:00Z', '2026-06-05T10:00:00Z')
   await at('2026-06-05T08:00:00Z', 'operator')
-  await as.operator.post(`/api/bypasses/${ids.b4}/activation`).expect(200)
+  await as.operator.post(`/api/bypasses/${ids.b4}/activation`, ACTIVATE).expect(200)
   await at('2026-06-05T11:50:00Z', 'operator')
   ids.b6 = (
     await as.operator

@@ -5,7 +5,7 @@ import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.j
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { sifPfd, type Subsystem } from '../../shared/domain/sif-reliability.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -234,7 +234,7 @@ beforeAll(async () => {
   for (const b of [whole, channel])
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
   await at('2026-08-03T08:00:00Z')
-  for (const b of [whole, channel]) await as.operator.post(`/api/bypasses/${b.id}/activation`).expect(200)
+  for (const b of [whole, channel]) await as.operator.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(200)
   await at('2026-08-03T14:00:00Z')
   for (const b of [whole, channel])
     await as.operator

@@ -4,7 +4,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -222,7 +222,7 @@ describe('bypass: who may do what (docs/bypasses.md#rules)', () => {
       (await as.approver.post(`/api/bypasses/${ids.eng}/rejections`, { password: PW, comment: 'Again' }).expect(409))
         .body.error.code,
     ).toBe('INVALID_STATE')
-    expect((await as.operator.post(`/api/bypasses/${ids.eng}/activation`).expect(409)).body.error.code).toBe(
+    expect((await as.operator.post(`/api/bypasses/${ids.eng}/activation`, ACTIVATE).expect(409)).body.error.code).toBe(
       'INVALID_STATE',
     )
   })
@@ -233,9 +233,9 @@ describe('bypass: who may do what (docs/bypasses.md#rules)', () => {
     ctx.clock.set('2026-05-04T06:30:00Z')
     for (const who of PEOPLE) as[who] = await signedIn(app, who)
     await refusedForAllBut(['supervisor', 'technician', 'operator'], (a) =>
-      a.post(`/api/bypasses/${ids.op}/activation`),
+      a.post(`/api/bypasses/${ids.op}/activation`, ACTIVATE),
     )
-    const active = (await as.supervisor.post(`/api/bypasses/${ids.op}/activation`).expect(200)).body
+    const active = (await as.supervisor.post(`/api/bypasses/${ids.op}/activation`, ACTIVATE).expect(200)).body
     expect(active).toMatchObject({ status: 'active', activatedBy: 'Hedda Marlowe', overdue: false })
     expect((await as.engineer.get(`/api/limits/${limitId}`).expect(200)).body.protectionState).toBe('bypassed')
 
@@ -246,13 +246,13 @@ describe('bypass: who may do what (docs/bypasses.md#rules)', () => {
     expect(removed).toMatchObject({ status: 'removed', removedBy: 'Tomas Quillfeather', pvClearConfirmed: true })
     expect((await as.engineer.get(`/api/limits/${limitId}`).expect(200)).body.protectionState).toBe('in_service')
 
-    expect((await as.technician.post(`/api/bypasses/${ids.tech}/activation`).expect(200)).body.activatedBy).toBe(
-      'Tomas Quillfeather',
-    )
+    expect(
+      (await as.technician.post(`/api/bypasses/${ids.tech}/activation`, ACTIVATE).expect(200)).body.activatedBy,
+    ).toBe('Tomas Quillfeather')
     expect((await as.operator.post(`/api/bypasses/${ids.tech}/removal`, clear).expect(200)).body.removedBy).toBe(
       'Olive Tanager',
     )
-    expect((await as.operator.post(`/api/bypasses/${ids.sup}/activation`).expect(200)).body.activatedBy).toBe(
+    expect((await as.operator.post(`/api/bypasses/${ids.sup}/activation`, ACTIVATE).expect(200)).body.activatedBy).toBe(
       'Olive Tanager',
     )
     expect((await as.supervisor.post(`/api/bypasses/${ids.sup}/removal`, clear).expect(200)).body.removedBy).toBe(
@@ -289,7 +289,7 @@ describe('bypass: who may do what (docs/bypasses.md#rules)', () => {
         'INVALID_STATE',
       )
     }
-    expect((await as.operator.post(`/api/bypasses/${ids.op2}/activation`).expect(409)).body.error.code).toBe(
+    expect((await as.operator.post(`/api/bypasses/${ids.op2}/activation`, ACTIVATE).expect(409)).body.error.code).toBe(
       'INVALID_STATE',
     )
     expect(

@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -75,7 +75,7 @@ describe('a bypass is put in force no earlier than its planned start', () => {
     const b = (await ask(limit.id, '2026-07-06T09:00:00Z', 4).expect(201)).body
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
     const before = await written()
-    const early = await as.operator.post(`/api/bypasses/${b.id}/activation`).expect(409)
+    const early = await as.operator.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(409)
     expect(early.body.error.code).toBe('INVALID_STATE')
     expect(early.body.error.message).toContain('11:00 CEST')
     expect(early.body.error.message).toContain('request a bypass again')
@@ -85,10 +85,10 @@ describe('a bypass is put in force no earlier than its planned start', () => {
     // one minute before: still refused; at the planned start: in force
     ctx.clock.set('2026-07-06T08:59:00Z')
     await signInAll()
-    await as.operator.post(`/api/bypasses/${b.id}/activation`).expect(409)
+    await as.operator.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(409)
     ctx.clock.set('2026-07-06T09:00:00Z')
     await signInAll()
-    const active = (await as.operator.post(`/api/bypasses/${b.id}/activation`).expect(200)).body
+    const active = (await as.operator.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(200)).body
     expect(active.status).toBe('active')
     expect(Date.parse(active.activatedAt) - Date.parse('2026-07-06T09:00:00Z')).toBeLessThan(60_000)
     // an authorization for a later start lapses 4 h after that start, not 4 h after it was signed
@@ -111,7 +111,7 @@ describe('the review counts what was in force, by the times it was in force', ()
     const early = await limitWithMaxBypass(24)
     const a = (await ask(onTime.id, '2026-07-08T06:00:00Z', 6).expect(201)).body
     await as.supervisor.post(`/api/bypasses/${a.id}/authorizations`, { password: PW }).expect(200)
-    await as.operator.post(`/api/bypasses/${a.id}/activation`).expect(200)
+    await as.operator.post(`/api/bypasses/${a.id}/activation`, ACTIVATE).expect(200)
     const b = (await ask(early.id, '2026-07-08T09:00:00Z', 6).expect(201)).body
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
     // recorded in force at 06:00 although planned from 09:00, as the product allowed before the rule
@@ -174,7 +174,7 @@ describe('the role limits apply to the total duration since the bypass was put i
     const limit = await limitWithMaxBypass(100)
     const b = (await ask(limit.id, '2026-07-10T06:00:00Z', 11.9).expect(201)).body
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
-    await as.operator.post(`/api/bypasses/${b.id}/activation`).expect(200)
+    await as.operator.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(200)
     // up to 12 h in all: allowed
     const to12 = (
       await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 0.1 }).expect(200)
@@ -211,7 +211,7 @@ describe('the role limits apply to the total duration since the bypass was put i
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
     ctx.clock.set('2026-07-11T08:00:00Z')
     await signInAll()
-    await as.operator.post(`/api/bypasses/${b.id}/activation`).expect(200)
+    await as.operator.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(200)
     // in force from 08:00 to the planned end 16:00 is 8 h; the supervisor may add 4 h (12 h in all), not 4.5 h
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 4.5 }).expect(403)
     const ok = (

@@ -6,7 +6,7 @@ import canonicalize from 'canonicalize'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { seedDemoShiftHandover } from '../../server/seed/demo-shift-handover.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -128,7 +128,7 @@ beforeAll(async () => {
       .expect(201)
   ).body
   await as.supervisor.post(`/api/bypasses/${req.id}/authorizations`, { password: PW }).expect(200)
-  await as.operator.post(`/api/bypasses/${req.id}/activation`).expect(200)
+  await as.operator.post(`/api/bypasses/${req.id}/activation`, ACTIVATE).expect(200)
   bypassId = req.id
 
   // a failed test: it did not trip at all (docs/trip-tests.md: as-found no_trip degrades the limit)

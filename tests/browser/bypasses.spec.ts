@@ -147,6 +147,10 @@ describe('bypasses in the browser', () => {
     // The operator puts it in force.
     await operator.reload()
     await operator.locator('[data-test="bypass-activate"]').click()
+    // both confirmations first: the measures in place, the bypass on the operator's screen (docs/bypasses.md#workflow)
+    await operator.locator('[data-test="activate-measures"] input').check()
+    expect(await operator.locator('[data-test="activate-confirm"]').isDisabled()).toBe(true)
+    await operator.locator('[data-test="activate-operator-screen"] input').check()
     await operator.locator('[data-test="activate-confirm"]').click()
     await poll(() => text(operator, `bypass-status-${id}`)).toBe('Active')
     await operator.locator('[data-test="bypass-active-alert"]').waitFor()

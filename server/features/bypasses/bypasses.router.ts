@@ -2,6 +2,7 @@ import { Router } from 'express'
 import { toCsv } from '../../csv.ts'
 import { z } from 'zod'
 import {
+  ActivateBypassInputSchema,
   AuthorizeBypassInputSchema,
   BypassFilterSchema,
   BypassListQuerySchema,
@@ -67,7 +68,15 @@ export function createBypassesRouter(deps: AppDeps) {
     res.json(await service.rejectBypass(deps, req.ability, req.audit, id(req.params.id), b.password, b.comment))
   })
   router.post('/:id/activation', async (req, res) => {
-    res.json(await service.activateBypass(deps, req.ability, req.audit, id(req.params.id)))
+    res.json(
+      await service.activateBypass(
+        deps,
+        req.ability,
+        req.audit,
+        id(req.params.id),
+        ActivateBypassInputSchema.parse(req.body ?? {}),
+      ),
+    )
   })
   router.post('/:id/removal', async (req, res) => {
     res.json(

@@ -13,7 +13,7 @@ import {
   requestVerdict,
 } from '../../../shared/domain/rules/bypasses.ts'
 import type { Verdict } from '../../../shared/domain/rules/verdict.ts'
-import type { BypassDto, CreateBypassInput } from '../../../shared/schemas/bypasses.ts'
+import type { ActivateBypassInput, BypassDto, CreateBypassInput } from '../../../shared/schemas/bypasses.ts'
 import type { SitePolicy } from '../../../shared/schemas/sites.ts'
 import { allows, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
@@ -441,6 +441,7 @@ export async function activateBypass(
   ability: AppAbility,
   ctx: AuditContext,
   id: number,
+  confirmed: ActivateBypassInput,
 ): Promise<BypassDto> {
   const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, ability, id))
   try {
@@ -459,7 +460,13 @@ export async function activateBypass(
         action: 'bypass.activate',
         entityType: ENTITY,
         entityId: id,
-        after: { limitId: b.limit_id, activatedAt: now.toISOString(), plannedEnd: b.planned_end.toISOString() },
+        after: {
+          limitId: b.limit_id,
+          activatedAt: now.toISOString(),
+          plannedEnd: b.planned_end.toISOString(),
+          measuresInPlace: confirmed.measuresInPlace,
+          shownToOperator: confirmed.shownToOperator,
+        },
       })
     })
   } catch (err) {

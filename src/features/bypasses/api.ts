@@ -97,7 +97,8 @@ export const authorizeBypass = (id: number, body: { password: string; comment: s
   http.post<BypassDto>(`/bypasses/${id}/authorizations`, body)
 export const rejectBypass = (id: number, body: { password: string; comment: string }) =>
   http.post<BypassDto>(`/bypasses/${id}/rejections`, body)
-export const activateBypass = (id: number) => http.post<BypassDto>(`/bypasses/${id}/activation`)
+export const activateBypass = (id: number, body: { measuresInPlace: true; shownToOperator: true }) =>
+  http.post<BypassDto>(`/bypasses/${id}/activation`, body)
 export const removeBypass = (id: number, body: RemoveBypassBody) =>
   http.post<BypassDto>(`/bypasses/${id}/removal`, body)
 export const cancelBypass = (id: number) => http.post<BypassDto>(`/bypasses/${id}/cancellation`)

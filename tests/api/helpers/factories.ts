@@ -250,3 +250,6 @@ export async function rowCounts(db: Db) {
     states,
   }
 }
+
+/** The confirmations of putting a bypass in force: measures in place, shown on the operator's screen (docs/bypasses.md#workflow). */
+export const ACTIVATE = { measuresInPlace: true, shownToOperator: true } as const

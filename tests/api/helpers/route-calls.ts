@@ -164,7 +164,10 @@ export const CALLS: Record<string, CallSpec> = {
     params: (f) => ({ id: f.bypassId }),
     body: () => ({ ...sign, comment: 'No' }),
   },
-  'POST /api/bypasses/:id/activation': { params: (f) => ({ id: f.bypassId }), body: () => ({}) },
+  'POST /api/bypasses/:id/activation': {
+    params: (f) => ({ id: f.bypassId }),
+    body: () => ({ measuresInPlace: true, shownToOperator: true }),
+  },
   'POST /api/bypasses/:id/removal': {
     params: (f) => ({ id: f.bypassId }),
     body: () => ({ pvClearConfirmed: true, protectionRestoredConfirmed: true }),
