@@ -139,6 +139,9 @@ export const signDegradationMeasures = (
   limitId: number,
   body: { compensatingMeasures: string[]; repairDeadline: string; password: string },
 ) => http.post<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation`, body)
+/** The plant manager accepts a repair deadline beyond the function's MTTR (a signature). */
+export const approveRepairDeadline = (limitId: number, body: { password: string; comment?: string }) =>
+  http.post<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation/deadline-approval`, body)
 
 // The register as the test form needs it.
 export const listActiveLimits = (query: { q?: string; siteId?: number[] }) =>
