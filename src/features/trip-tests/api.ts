@@ -93,18 +93,9 @@ export interface TripTestBody {
 }
 
 /** The degraded state of a limit, newest first. */
-export interface DegradationItem {
-  id: number
-  testId: number
-  openedAt: string
-  reasons: string[]
-  compensatingMeasures: string[] | null
-  repairDeadline: string | null
-  measuresSignedBy: string | null
-  measuresSignedAt: string | null
-  clearedAt: string | null
-  clearedByTestId: number | null
-}
+/** A degradation of a limit as the API sends it (shared/schemas/trip-tests.ts). */
+import type { DegradationItem } from '@shared/schemas/trip-tests.ts'
+export type { DegradationItem }
 
 export const getSchedule = (query: ScheduleQuery) =>
   http.get<{ items: ScheduleItem[]; total: number; counts: Partial<Record<TestStatus, number>> }>(
