@@ -9,7 +9,6 @@ import { seedDemo } from '../../../server/seed/demo.ts'
 
 // the run's audit key (tests/global-setup.ts), for the app and for the command-line tools the tests start
 process.env.AUDIT_KEY_FILE ??= inject('auditKeyFile')
-process.env.AUDIT_CHECKPOINT_DIR ??= `${inject('auditKeyFile')}.checkpoints`
 
 function withDb(url: string, db: string) {
   const u = new URL(url)
@@ -28,6 +27,9 @@ export interface TestDatabase {
 /** Clones the template into a fresh database for this test file and drops it afterwards. */
 export async function createTestDatabase(): Promise<TestDatabase & { drop(): Promise<void> }> {
   const name = `t_${randomBytes(6).toString('hex')}`
+  // checkpoints of the audit head are per database, as in production one directory serves one database: another
+  // file's app (or the job of a process a test starts, which inherits this) must not checkpoint into this one's
+  process.env.AUDIT_CHECKPOINT_DIR = `${inject('auditKeyFile')}.checkpoints/${name}`
   const admin = new pg.Client({ connectionString: inject('superUrl') })
   await admin.connect()
   await admin.query(`CREATE DATABASE ${name} TEMPLATE ${inject('templateDb')} OWNER limitkeeper_owner`)
