@@ -88,7 +88,10 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
         req: (req: { id: unknown; method: string; url: string }) => ({ id: req.id, method: req.method, url: req.url }),
         res: (res: { statusCode: number }) => ({ statusCode: res.statusCode }),
       },
-      customProps: (req) => {
+      // pino-http asks at the request's start and again at its end and writes both answers: user and route are
+      // known only at the end, so they are given once, then (else the line carried "userId" twice)
+      customProps: (req, res) => {
+        if (!res.headersSent) return {}
         const r = req as express.Request
         return { userId: r.user?.id ?? null, route: r.route?.path ? `${r.baseUrl}${r.route.path}` : undefined }
       },
