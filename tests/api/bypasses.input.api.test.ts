@@ -5,7 +5,7 @@ import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
-import { readyToImplement } from './helpers/factories.ts'
+import { heaterThermocouple, readyToImplement } from './helpers/factories.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
 const ctx = useTestDb()
@@ -48,21 +48,7 @@ async function buildLimit(
     instruments.push(
       (
         await eng
-          .post('/api/instruments', {
-            processId: proc.id,
-            tag: `TTB-${n}${String.fromCharCode(65 + i)}`,
-            measuredVariable: 'temperature',
-            unit: '°C',
-            rangeLow: 0,
-            rangeHigh: 1200,
-            normalLow: 300,
-            normalHigh: 650,
-            designLow: null,
-            designHigh: 900,
-            burnout: 'upscale',
-            signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-            deviceKind: 'limit_controller',
-          })
+          .post('/api/instruments', heaterThermocouple(proc.id, `TTB-${n}${String.fromCharCode(65 + i)}`))
           .expect(201)
       ).body,
     )

@@ -6,7 +6,7 @@ import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
-import { ACTIVATE } from './helpers/factories.ts'
+import { ACTIVATE, heaterThermocouple } from './helpers/factories.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
@@ -45,25 +45,7 @@ async function limitIn(siteCode: 'FHR' | 'SMP', areaIndex: number, kind: 'trip' 
       .post('/api/processes', { areaId: area.id, name: `Review heater H-${n}`, description: 'fired heater' })
       .expect(201)
   ).body
-  const inst = (
-    await eng
-      .post('/api/instruments', {
-        processId: proc.id,
-        tag: `TTR-${n}`,
-        measuredVariable: 'temperature',
-        unit: '°C',
-        rangeLow: 0,
-        rangeHigh: 1200,
-        normalLow: 300,
-        normalHigh: 650,
-        designLow: null,
-        designHigh: 900,
-        burnout: 'upscale',
-        signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-        deviceKind: 'limit_controller',
-      })
-      .expect(201)
-  ).body
+  const inst = (await eng.post('/api/instruments', heaterThermocouple(proc.id, `TTR-${n}`)).expect(201)).body
   const alarm = kind === 'alarm'
   const limit = (
     await eng

@@ -5,7 +5,7 @@ import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.j
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { sifPfd, type Subsystem } from '../../shared/domain/sif-reliability.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE, heaterThermocouple } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -97,21 +97,7 @@ async function silLimit(sil: 1 | 2 | 3, subsystems: Subsystem[], channels = 1) {
     instruments.push(
       (
         await eng
-          .post('/api/instruments', {
-            processId: proc.id,
-            tag: `TTS-${n}${String.fromCharCode(65 + i)}`,
-            measuredVariable: 'temperature',
-            unit: '°C',
-            rangeLow: 0,
-            rangeHigh: 1200,
-            normalLow: 300,
-            normalHigh: 650,
-            designLow: null,
-            designHigh: 900,
-            burnout: 'upscale',
-            signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-            deviceKind: 'limit_controller',
-          })
+          .post('/api/instruments', heaterThermocouple(proc.id, `TTS-${n}${String.fromCharCode(65 + i)}`))
           .expect(201)
       ).body,
     )

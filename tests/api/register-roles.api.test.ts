@@ -3,6 +3,7 @@ import pg from 'pg'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
+import { heaterThermocouple } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -38,26 +39,9 @@ async function build(eng: ApiAgent, siteCode: 'FHR' | 'SMP'): Promise<Built> {
       .post('/api/processes', { areaId, name: `Roles test heater H-${siteCode}-${n}`, description: '' })
       .expect(201)
   ).body
-  const inst = (await eng.post('/api/instruments', instrumentBody(proc.id, `TT-R${siteCode}${n}`)).expect(201)).body
+  const inst = (await eng.post('/api/instruments', heaterThermocouple(proc.id, `TT-R${siteCode}${n}`)).expect(201)).body
   const limit = (await eng.post('/api/limits', limitBody(proc.id, inst.id, `TSHH-R${siteCode}${n}`)).expect(201)).body
   return { siteId, areaId, processId: proc.id, instrumentId: inst.id, limitId: limit.id }
-}
-
-function instrumentBody(processId: number, tag: string) {
-  return {
-    processId,
-    tag,
-    measuredVariable: 'temperature',
-    unit: '°C',
-    rangeLow: 0,
-    rangeHigh: 1200,
-    normalLow: 300,
-    normalHigh: 650,
-    designHigh: 900,
-    burnout: 'upscale',
-    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-    deviceKind: 'limit_controller',
-  }
 }
 
 function limitBody(processId: number, instrumentId: number, tag: string) {
@@ -132,7 +116,7 @@ describe('register: create, edit and delete by role', () => {
     expect(
       (await eng.patch(`/api/processes/${proc.id}`, { description: 'kettle reboiler' }).expect(200)).body.description,
     ).toBe('kettle reboiler')
-    const inst = (await eng.post('/api/instruments', instrumentBody(proc.id, 'TT-R-E7')).expect(201)).body
+    const inst = (await eng.post('/api/instruments', heaterThermocouple(proc.id, 'TT-R-E7')).expect(201)).body
     expect((await eng.patch(`/api/instruments/${inst.id}`, { rangeHigh: 1250 }).expect(200)).body.rangeHigh).toBe(1250)
     const limit = (await eng.post('/api/limits', limitBody(proc.id, inst.id, 'TSHH-R-E7')).expect(201)).body
     expect(limit.status).toBe('proposed')
@@ -152,7 +136,7 @@ describe('register: create, edit and delete by role', () => {
           () => a.post('/api/processes', { areaId: fhr.areaId, name: `Forbidden process ${who}`, description: '' }),
         ],
         ['edit a process', () => a.patch(`/api/processes/${fhr.processId}`, { description: `changed by ${who}` })],
-        ['create an instrument', () => a.post('/api/instruments', instrumentBody(fhr.processId, `TT-X-${who}`))],
+        ['create an instrument', () => a.post('/api/instruments', heaterThermocouple(fhr.processId, `TT-X-${who}`))],
         ['edit an instrument', () => a.patch(`/api/instruments/${fhr.instrumentId}`, { rangeHigh: 1300 })],
         ['draft a limit', () => a.post('/api/limits', limitBody(fhr.processId, fhr.instrumentId, `TSHH-X-${who}`))],
         ['edit a draft limit', () => a.patch(`/api/limits/${fhr.limitId}`, { setpoint: 800 })],

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { signedIn } from './helpers/agent.ts'
+import { heaterThermocouple } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -15,25 +16,7 @@ describe('register: a limit from process to operating window', () => {
         .post('/api/processes', { areaId: area.id, name: 'Test heater H-900', description: 'fired heater' })
         .expect(201)
     ).body
-    const inst = (
-      await eng
-        .post('/api/instruments', {
-          processId: proc.id,
-          tag: 'TT-9001',
-          measuredVariable: 'temperature',
-          unit: '°C',
-          rangeLow: 0,
-          rangeHigh: 1200,
-          normalLow: 300,
-          normalHigh: 650,
-          designLow: null,
-          designHigh: 900,
-          burnout: 'upscale',
-          signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-          deviceKind: 'limit_controller',
-        })
-        .expect(201)
-    ).body
+    const inst = (await eng.post('/api/instruments', heaterThermocouple(proc.id, 'TT-9001')).expect(201)).body
     const base = {
       processId: proc.id,
       instrumentIds: [inst.id],

@@ -3,6 +3,7 @@ import { describe, expect, it } from 'vitest'
 import { createDb } from '../../server/db/index.ts'
 import { systemClock } from '../../server/clock.ts'
 import { seedDemoShiftHandover } from '../../server/seed/demo-shift-handover.ts'
+import { heaterThermocouple } from '../api/helpers/factories.ts'
 import { callApi, pageFor, readyToImplement, signInAs, useBrowserApp } from './helpers.ts'
 
 // the other shift's supervisor, as the demo plant's own seed makes them: a handover needs an outgoing and an incoming one
@@ -28,21 +29,7 @@ async function heaterTripInService(engineer: Page, approver: Page, technician: P
     name: 'Heater H-520',
     description: 'fired heater, vacuum residue',
   })
-  const inst = await call(engineer, 'POST', '/instruments', {
-    processId: proc.id,
-    tag: 'TT-5201',
-    measuredVariable: 'temperature',
-    unit: '°C',
-    rangeLow: 0,
-    rangeHigh: 1200,
-    normalLow: 300,
-    normalHigh: 650,
-    designLow: null,
-    designHigh: 900,
-    burnout: 'upscale',
-    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-    deviceKind: 'limit_controller',
-  })
+  const inst = await call(engineer, 'POST', '/instruments', heaterThermocouple(proc.id, 'TT-5201'))
   const limit = await call(engineer, 'POST', '/limits', {
     processId: proc.id,
     instrumentIds: [inst.id],

@@ -1,6 +1,7 @@
 import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
+import { heaterThermocouple } from '../api/helpers/factories.ts'
 import { callApi, pageFor, readyToImplement, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
@@ -31,21 +32,7 @@ async function heaterTripInService(engineer: Page, approver: Page, technician: P
     name: `Heater H-${n}`,
     description: 'fired heater, crude charge',
   })
-  const inst = await call(engineer, 'POST', '/instruments', {
-    processId: proc.id,
-    tag: `TT-${n}`,
-    measuredVariable: 'temperature',
-    unit: '°C',
-    rangeLow: 0,
-    rangeHigh: 1200,
-    normalLow: 300,
-    normalHigh: 650,
-    designLow: null,
-    designHigh: 900,
-    burnout: 'upscale',
-    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-    deviceKind: 'limit_controller',
-  })
+  const inst = await call(engineer, 'POST', '/instruments', heaterThermocouple(proc.id, `TT-${n}`))
   const limit = await call(engineer, 'POST', '/limits', {
     processId: proc.id,
     instrumentIds: [inst.id],

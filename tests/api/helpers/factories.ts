@@ -6,6 +6,25 @@ import { IMPACT_CHECKLIST } from '../../../shared/schemas/change-requests.ts'
 let seq = 0
 const next = () => `${process.pid % 1000}-${++seq}`
 
+/** The body of a type K thermocouple on a fired heater: range 0–1200 °C, normal 300–650 °C, design 900 °C, upscale burnout. */
+export function heaterThermocouple(processId: number, tag: string) {
+  return {
+    processId,
+    tag,
+    measuredVariable: 'temperature',
+    unit: '°C',
+    rangeLow: 0,
+    rangeHigh: 1200,
+    normalLow: 300,
+    normalHigh: 650,
+    designLow: null,
+    designHigh: 900,
+    burnout: 'upscale',
+    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+    deviceKind: 'limit_controller',
+  }
+}
+
 /** A process, a type K thermocouple instrument (0–1200 °C, normal 300–650) and a proposed high trip at 780 °C, via the API as an engineer. */
 export async function buildHeaterTrip(
   eng: ApiAgent,
@@ -23,19 +42,7 @@ export async function buildHeaterTrip(
   const inst = (
     await eng
       .post('/api/instruments', {
-        processId: proc.id,
-        tag: `TT-${n}`,
-        measuredVariable: 'temperature',
-        unit: '°C',
-        rangeLow: 0,
-        rangeHigh: 1200,
-        normalLow: 300,
-        normalHigh: 650,
-        designLow: null,
-        designHigh: 900,
-        burnout: 'upscale',
-        signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-        deviceKind: 'limit_controller',
+        ...heaterThermocouple(proc.id, `TT-${n}`),
         ...(opts.model === undefined ? {} : { model: opts.model }),
       })
       .expect(201)

@@ -5,6 +5,7 @@ import type { Express } from 'express'
 import pg from 'pg'
 import { DEMO_PASSWORD } from '../../../server/seed/demo.ts'
 import { ApiAgent } from './agent.ts'
+import { heaterThermocouple } from './factories.ts'
 import type { AppRoute } from './routes.ts'
 
 /** The password of the route tests' own accounts (and of their signatures). */
@@ -81,21 +82,7 @@ export const CALLS: Record<string, CallSpec> = {
   'POST /api/processes': { body: (f) => ({ areaId: f.areaId, name: 'Matrix heater', description: '' }) },
   'PATCH /api/processes/:id': { params: (f) => ({ id: f.processId }), body: () => ({}) },
   'POST /api/instruments': {
-    body: (f) => ({
-      processId: f.processId,
-      tag: `TT-M${Math.floor(Math.random() * 1e6)}`,
-      measuredVariable: 'temperature',
-      unit: '°C',
-      rangeLow: 0,
-      rangeHigh: 1200,
-      normalLow: 300,
-      normalHigh: 650,
-      designLow: null,
-      designHigh: 900,
-      burnout: 'upscale',
-      signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-      deviceKind: 'limit_controller',
-    }),
+    body: (f) => heaterThermocouple(f.processId, `TT-M${Math.floor(Math.random() * 1e6)}`),
   },
   'PATCH /api/instruments/:id': { params: (f) => ({ id: f.instrumentId }), body: () => ({}) },
   'POST /api/limits': {
