@@ -1,5 +1,13 @@
 import type { ColumnType, Generated, Insertable, Selectable } from 'kysely'
-import type { ALARM_TYPES, IMPACT_CATEGORIES, LIMIT_CLASSES } from '../../shared/schemas/register.ts'
+import type {
+  ALARM_TYPES,
+  IMPACT_CATEGORIES,
+  Instrument,
+  Limit,
+  LIMIT_CLASSES,
+  Signal,
+  Subsystem,
+} from '../../shared/schemas/register.ts'
 import type { ChangeItemKind, ChangeStatus, ChangeType, ChecklistItem } from '../../shared/schemas/change-requests.ts'
 import type {
   AsFoundResultDto,
@@ -53,7 +61,7 @@ export interface AreaTable {
 export interface RoleAssignmentTable {
   user_id: number
   site_id: number
-  role: string
+  role: Role
 }
 export interface SignInAttemptTable {
   id: Generated<number>
@@ -145,18 +153,18 @@ export interface InstrumentTable {
   area_id: number
   site_id: number
   tag: string
-  measured_variable: string
+  measured_variable: Instrument['measuredVariable']
   unit: string
-  pressure_reference: string | null
+  pressure_reference: Instrument['pressureReference']
   range_low: Numeric
   range_high: Numeric
   normal_low: NullableNumeric
   normal_high: NullableNumeric
   design_low: NullableNumeric
   design_high: NullableNumeric
-  burnout: string
-  signal: JsonValue<Record<string, unknown>>
-  device_kind: string
+  burnout: Instrument['burnout']
+  signal: JsonValue<Signal>
+  device_kind: Instrument['deviceKind']
   device_description: Generated<string>
   model: Generated<string>
   revision: Generated<number>
@@ -171,22 +179,22 @@ export interface LimitFunctionTable {
   primary_instrument_id: number
   tag: string
   description: Generated<string>
-  direction: string
+  direction: Limit['direction']
   limit_class: (typeof LIMIT_CLASSES)[number]
   setpoint: Numeric
   deadband: Numeric
-  deadband_unit: string
+  deadband_unit: Limit['deadbandUnit']
   on_delay_sec: Numeric
   off_delay_sec: Numeric
   latching: boolean
-  reset_role: string | null
+  reset_role: Limit['resetRole']
   bad_value_trip: boolean
   action: string
   consequence: string
   operator_response: string
   response_time_min: NullableNumeric
-  severity: string
-  priority: string | null
+  severity: Limit['severity']
+  priority: Limit['priority']
   priority_explanation: string
   analytical_limit: NullableNumeric
   process_safety_time_sec: NullableNumeric
@@ -197,17 +205,17 @@ export interface LimitFunctionTable {
   test_interval_months: number
   test_grace_days: number | null
   code_set_interval: boolean
-  sil: number | null
-  subsystems: JsonValue<unknown[]>
+  sil: Limit['sil']
+  subsystems: JsonValue<Subsystem[]>
   alarm_type: Generated<(typeof ALARM_TYPES)[number]>
   causes: Generated<string>
   confirmation: Generated<string>
   impact_category: (typeof IMPACT_CATEGORIES)[number] | null
   safety_related_alarm: Generated<boolean>
   claimed_risk_reduction: NullableNumeric
-  status: Generated<string>
+  status: Generated<Limit['status']>
   revision: Generated<number>
-  protection_state: Generated<string>
+  protection_state: Generated<Limit['protectionState']>
   window_errors: JsonValue<{ code: string; field?: string; message: string }[]>
   window_warnings: JsonValue<{ code: string; field?: string; message: string }[]>
   has_window_errors: ColumnType<boolean, never, never>

@@ -12,6 +12,7 @@ import {
 } from '../../shared/schemas/register.ts'
 import type { Clock } from '../clock.ts'
 import type { Database } from '../db/schema.ts'
+import type { Role } from '../../shared/schemas/users.ts'
 import { type AuditContext, appendAudit } from '../features/audit/audit.repository.ts'
 import { insertInstrument } from '../features/register/instruments.service.ts'
 import { findInstrumentIdsByLimitIds, listLimits } from '../features/register/limits.repository.ts'
@@ -2367,7 +2368,7 @@ const SMP: ProcessSpec[] = [
 /** Every process of the demo register, in the order they are written. */
 export const DEMO_REGISTER: readonly ProcessSpec[] = [...FHR, ...SMP]
 
-async function actor(trx: Trx, siteCode: string, role: string): Promise<AuditContext> {
+async function actor(trx: Trx, siteCode: string, role: Role): Promise<AuditContext> {
   const row = await trx
     .selectFrom('role_assignment')
     .innerJoin('site', 'site.id', 'role_assignment.site_id')

@@ -76,7 +76,7 @@ export async function startAlarmState(
   }
   const request = {
     kind: input.kind,
-    priority: (limit?.priority as 'low' | 'medium' | 'high' | 'critical' | null | undefined) ?? null,
+    priority: limit?.priority ?? null,
     safetyRelated: safetyRelated(limit),
     hours: input.hours,
     signed: !!input.password,

@@ -3,7 +3,6 @@ import {
   effectivePfd,
   sifPfd,
   silBand,
-  type Sil,
   type Subsystem,
 } from '../../../shared/domain/sif-reliability.ts'
 import type { BypassDto, BypassReviewDto } from '../../../shared/schemas/bypasses.ts'
@@ -19,6 +18,7 @@ import {
   degradationSpansOf,
   findDegradationSpans,
   findSitePolicies,
+  findSilLimitsForRiskErosion,
   signedTestOutcomes,
 } from './bypasses.repository.ts'
 import { type BypassListQuery, listBypasses } from './bypasses.service.ts'
@@ -187,26 +187,7 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
   const to = Math.min(q.to.getTime(), now)
   const periodHours = (to - from) / HOUR
   if (!(periodHours > 0)) throw validationFailed({ from: ['The period must start before it ends, and before now'] })
-  let lq = deps.db
-    .selectFrom('limit_function')
-    .select([
-      'id',
-      'tag',
-      'description',
-      'sil',
-      'subsystems',
-      'test_status',
-      'last_full_pass',
-      'test_interval_months',
-      'created_at',
-      'commissioned_at',
-      'protection_state',
-    ])
-    .where('site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
-    .where('status', '=', 'active')
-    .where('sil', 'is not', null)
-  if (q.areaIds?.length) lq = lq.where('area_id', 'in', q.areaIds)
-  const limits = await lq.orderBy('tag').execute()
+  const limits = await findSilLimitsForRiskErosion(deps.db, q.siteIds, q.areaIds)
   const { items: bypasses } = await listBypasses(deps, {
     siteIds: q.siteIds,
     limitIds: limits.map((l) => l.id),
@@ -239,7 +220,7 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
   const periodTo = new Date(to)
   const rows = limits
     .map((l) => {
-      const subsystems = l.subsystems as Subsystem[]
+      const subsystems = l.subsystems
       if (!subsystems.length) return null
       const mine = bypasses.filter((b) => b.limitId === l.id)
       let whole = 0
@@ -288,7 +269,7 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
         bypassedHours: whole > 0 ? Math.min(whole, periodHours) : Math.min(channel, periodHours),
         bypassedSingleChannel: whole > 0 || channel === 0 ? null : { role: channelRole },
       })
-      const target = l.sil as Sil
+      const target = l.sil
       const effective = compareToTarget(target, eff.pfd)
       return {
         limitId: l.id,

@@ -1,4 +1,4 @@
-import type { Kysely, Transaction, Updateable } from 'kysely'
+import type { Kysely, NotNull, Transaction, Updateable } from 'kysely'
 import type { BypassStatus } from '../../../shared/schemas/bypasses.ts'
 import type { BypassTable, Database } from '../../db/schema.ts'
 
@@ -274,4 +274,29 @@ export function degradationSpansOf(db: Q, limitIds: number[]) {
     .select(['limit_id', 'opened_at', 'cleared_at'])
     .where('limit_id', 'in', limitIds.length ? limitIds : [-1])
     .execute()
+}
+
+/** The active limits with a SIL target at these sites (and areas, when given), by tag: the rows of risk erosion. */
+export function findSilLimitsForRiskErosion(db: Q, siteIds: number[], areaIds?: number[]) {
+  let q = db
+    .selectFrom('limit_function')
+    .select([
+      'id',
+      'tag',
+      'description',
+      'sil',
+      'subsystems',
+      'test_status',
+      'last_full_pass',
+      'test_interval_months',
+      'created_at',
+      'commissioned_at',
+      'protection_state',
+    ])
+    .where('site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('status', '=', 'active')
+    .where('sil', 'is not', null)
+    .$narrowType<{ sil: NotNull }>()
+  if (areaIds?.length) q = q.where('area_id', 'in', areaIds)
+  return q.orderBy('tag').execute()
 }

@@ -341,3 +341,7 @@ export function silLimitsWithChannels(db: Db, siteIds: number[]) {
     .orderBy('l.tag')
     .execute()
 }
+
+export function limitSubsystems(db: Db, limitId: number) {
+  return db.selectFrom('limit_function').select(['subsystems']).where('id', '=', limitId).executeTakeFirstOrThrow()
+}

@@ -4,7 +4,6 @@ import {
   observedRate,
   type AssumptionVerdict,
 } from '../../../shared/domain/observed-rates.ts'
-import type { Subsystem } from '../../../shared/domain/sif-reliability.ts'
 import type { ChannelResultDto } from '../../../shared/schemas/trip-tests.ts'
 import type { FailureRateGroup, FailureRateLimit, FailureRates } from '../../../shared/schemas/demands.ts'
 import { z } from 'zod'
@@ -121,7 +120,7 @@ export async function failureRates(
     for (const l of limits) {
       const channels = new Set([l.primary_instrument_id, ...(l.channel_ids ?? [])])
       if (![...channels].some((id) => g.ids.has(id))) continue
-      const sensor = (l.subsystems as Subsystem[]).find((s) => s.role === 'sensor')
+      const sensor = l.subsystems.find((s) => s.role === 'sensor')
       if (!sensor) continue
       const verdict: AssumptionVerdict = judgeAssumedRate(o, sensor.lambdaDu)
       const row: FailureRateLimit = {
@@ -182,15 +181,9 @@ export async function proposeObservedLambdaDu(
   if (row.verdict !== 'above' || group.upper70 === null)
     throw invalidState('The observed 70 % bound of this model does not exceed the assumed λDU of this limit')
   authorize(ability, 'create', 'ChangeRequest', { siteId: row.siteId })
-  const limit = await deps.db
-    .selectFrom('limit_function')
-    .select(['subsystems'])
-    .where('id', '=', row.limitId)
-    .executeTakeFirstOrThrow()
+  const limit = await repo.limitSubsystems(deps.db, row.limitId)
   const figure = proposedLambdaDu(group.upper70)
-  const subsystems = (limit.subsystems as Subsystem[]).map((s) =>
-    s.role === 'sensor' ? { ...s, lambdaDu: figure } : s,
-  )
+  const subsystems = limit.subsystems.map((s) => (s.role === 'sensor' ? { ...s, lambdaDu: figure } : s))
   const f = (v: number) => v.toExponential(2)
   const changeRequestId = await createChangeRequest(deps, ability, ctx, {
     siteId: row.siteId,
