@@ -9,6 +9,8 @@ import { systemClock } from '../clock.ts'
 import { createDb } from '../db/index.ts'
 import { appendAudit } from '../features/audit/audit.repository.ts'
 import { hashPassword } from '../features/session/passwords.ts'
+import { insertMainSite, listSiteCodes } from '../features/sites/sites.repository.ts'
+import { insertAdminRoles, insertUser } from '../features/users/users.repository.ts'
 
 const { values } = parseArgs({
   options: {
@@ -44,32 +46,24 @@ try {
   const hash = await hashPassword(pw.data)
   await db.transaction().execute(async (trx) => {
     const now = systemClock.now()
-    const { id } = await trx
-      .insertInto('app_user')
-      .values({
-        email: email.data.toLowerCase(),
-        display_name: values.name!,
-        password_hash: hash,
-        created_at: now,
-        updated_at: now,
-      })
-      .returning('id')
-      .executeTakeFirstOrThrow()
-    let sites = await trx.selectFrom('site').select(['id', 'code']).execute()
+    const id = await insertUser(trx, {
+      email: email.data.toLowerCase(),
+      display_name: values.name!,
+      password_hash: hash,
+      created_at: now,
+      updated_at: now,
+    })
+    let sites = await listSiteCodes(trx)
     if (values.site?.length) sites = sites.filter((s) => values.site!.includes(s.code))
     if (values.admin && !sites.length) {
-      const site = await trx
-        .insertInto('site')
-        .values({ code: 'MAIN', name: 'Main site', time_zone: 'UTC', created_at: now })
-        .returning(['id', 'code'])
-        .executeTakeFirstOrThrow()
-      sites = [site]
+      sites = [await insertMainSite(trx, now)]
     }
     if (values.admin)
-      await trx
-        .insertInto('role_assignment')
-        .values(sites.map((s) => ({ user_id: id, site_id: s.id, role: 'admin' })))
-        .execute()
+      await insertAdminRoles(
+        trx,
+        id,
+        sites.map((s) => s.id),
+      )
     await appendAudit(
       trx,
       systemClock,

@@ -21,6 +21,8 @@ import { conflict, notFound } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { markSiteSchedulesStale } from '../trip-tests/trip-tests.repository.ts'
 import type { Db } from '../../db/index.ts'
+import * as repo from './sites.repository.ts'
+import { insertAdminRoles } from '../users/users.repository.ts'
 
 /** A site's policy: stored overrides over the defaults of docs/conventions.md#site-policies. */
 export function policyOf(row: Pick<SiteRow, 'policy'>): SitePolicy {
@@ -32,19 +34,19 @@ function toSite(row: SiteRow): Site {
 }
 
 export async function getSitePolicy(db: Db, siteId: number): Promise<SitePolicy> {
-  const row = await db.selectFrom('site').select('policy').where('id', '=', siteId).executeTakeFirst()
+  const row = await repo.findSitePolicyRow(db, siteId)
   if (!row) throw notFound('Site')
   return policyOf(row)
 }
 
 export async function listSites(deps: AppDeps, ability: AppAbility): Promise<ListResult<Site>> {
-  const rows = await deps.db.selectFrom('site').selectAll().orderBy('code').execute()
+  const rows = await repo.listSiteRows(deps.db)
   const items = rows.filter((r) => allows(ability, 'read', 'Site', { id: r.id })).map(toSite)
   return { items, total: items.length }
 }
 
 export async function getSite(deps: AppDeps, ability: AppAbility, id: number): Promise<Site> {
-  const row = await deps.db.selectFrom('site').selectAll().where('id', '=', id).executeTakeFirst()
+  const row = await repo.findSiteRow(deps.db, id)
   if (!row) throw notFound('Site')
   ensureVisible(ability, 'Site', { id }, 'Site')
   return toSite(row)
@@ -57,24 +59,19 @@ export async function createSite(
   input: z.infer<typeof CreateSiteInputSchema>,
 ): Promise<Site> {
   authorize(ability, 'create', 'Site')
-  const exists = await deps.db.selectFrom('site').select('id').where('code', '=', input.code).executeTakeFirst()
+  const exists = await repo.findSiteIdByCode(deps.db, input.code)
   if (exists) throw conflict('A site with this code exists already', { fields: { code: ['Already in use'] } })
   const policy = { ...DEFAULT_SITE_POLICY, ...(input.policy ?? {}) }
   const row = await deps.db.transaction().execute(async (trx) => {
-    const row = await trx
-      .insertInto('site')
-      .values({
-        code: input.code,
-        name: input.name,
-        time_zone: input.timeZone,
-        policy: JSON.stringify(policy),
-        created_at: deps.clock.now(),
-      })
-      .returningAll()
-      .executeTakeFirstOrThrow()
+    const row = await repo.insertSite(trx, {
+      code: input.code,
+      name: input.name,
+      time_zone: input.timeZone,
+      policy: JSON.stringify(policy),
+      created_at: deps.clock.now(),
+    })
     // whoever creates a site administers it
-    if (ctx.actorId)
-      await trx.insertInto('role_assignment').values({ user_id: ctx.actorId, site_id: row.id, role: 'admin' }).execute()
+    if (ctx.actorId) await insertAdminRoles(trx, ctx.actorId, [row.id])
     await appendAudit(trx, deps.clock, ctx, {
       action: 'site.create',
       entityType: 'Site',
@@ -96,19 +93,14 @@ export async function updateSite(
   ensureVisible(ability, 'Site', { id }, 'Site')
   authorize(ability, 'update', 'Site', { id })
   const row = await deps.db.transaction().execute(async (trx) => {
-    const before = await trx.selectFrom('site').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
+    const before = await repo.findSiteRow(trx, id, true)
     if (!before) throw notFound('Site')
     const policy = { ...policyOf(before), ...(input.policy ?? {}) }
-    const row = await trx
-      .updateTable('site')
-      .set({
-        ...(input.name ? { name: input.name } : {}),
-        ...(input.timeZone ? { time_zone: input.timeZone } : {}),
-        policy: JSON.stringify(policy),
-      })
-      .where('id', '=', id)
-      .returningAll()
-      .executeTakeFirstOrThrow()
+    const row = await repo.updateSiteRow(trx, id, {
+      ...(input.name ? { name: input.name } : {}),
+      ...(input.timeZone ? { time_zone: input.timeZone } : {}),
+      policy: JSON.stringify(policy),
+    })
     // grace and look-ahead follow the policy and dates the zone: the schedule job refreshes the site's limits
     if (input.policy || input.timeZone) await markSiteSchedulesStale(trx, id)
     await appendAudit(trx, deps.clock, ctx, {
@@ -124,9 +116,7 @@ export async function updateSite(
 }
 
 export async function listAreas(deps: AppDeps, ability: AppAbility, siteIds?: number[]): Promise<ListResult<Area>> {
-  let q = deps.db.selectFrom('area').selectAll().orderBy('site_id').orderBy('name')
-  if (siteIds?.length) q = q.where('site_id', 'in', siteIds)
-  const rows = await q.execute()
+  const rows = await repo.listAreaRows(deps.db, siteIds)
   const items = rows
     .map((r) => ({ id: r.id, siteId: r.site_id, name: r.name }))
     .filter((a) => allows(ability, 'read', 'Area', a))
@@ -141,18 +131,9 @@ export async function createArea(
 ): Promise<Area> {
   authorize(ability, 'create', 'Area', { siteId: input.siteId })
   return deps.db.transaction().execute(async (trx) => {
-    const dup = await trx
-      .selectFrom('area')
-      .select('id')
-      .where('site_id', '=', input.siteId)
-      .where('name', '=', input.name)
-      .executeTakeFirst()
+    const dup = await repo.findAreaIdByName(trx, input.siteId, input.name)
     if (dup) throw conflict('This site has an area with this name already', { fields: { name: ['Already in use'] } })
-    const row = await trx
-      .insertInto('area')
-      .values({ site_id: input.siteId, name: input.name })
-      .returningAll()
-      .executeTakeFirstOrThrow()
+    const row = await repo.insertArea(trx, input.siteId, input.name)
     const area = { id: row.id, siteId: row.site_id, name: row.name }
     await appendAudit(trx, deps.clock, ctx, {
       action: 'area.create',
@@ -172,16 +153,11 @@ export async function updateArea(
   input: z.infer<typeof UpdateAreaInputSchema>,
 ): Promise<Area> {
   return deps.db.transaction().execute(async (trx) => {
-    const before = await trx.selectFrom('area').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
+    const before = await repo.findAreaRowForUpdate(trx, id)
     if (!before) throw notFound('Area')
     ensureVisible(ability, 'Area', { siteId: before.site_id }, 'Area')
     authorize(ability, 'update', 'Area', { siteId: before.site_id })
-    const row = await trx
-      .updateTable('area')
-      .set({ name: input.name })
-      .where('id', '=', id)
-      .returningAll()
-      .executeTakeFirstOrThrow()
+    const row = await repo.updateAreaName(trx, id, input.name)
     const area = { id: row.id, siteId: row.site_id, name: row.name }
     await appendAudit(trx, deps.clock, ctx, {
       action: 'area.update',

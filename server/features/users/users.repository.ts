@@ -54,7 +54,7 @@ export async function findRolesByUserIds(db: Q, ids: number[]): Promise<Map<numb
     .execute()
   for (const r of rows) {
     const list = map.get(r.user_id) ?? []
-    list.push({ siteId: r.site_id, role: r.role as Role })
+    list.push({ siteId: r.site_id, role: r.role })
     map.set(r.user_id, list)
   }
   return map
@@ -95,5 +95,32 @@ export function findUsersWithRole(db: Q, siteId: number, roles: Role[]) {
     .where('role_assignment.site_id', '=', siteId)
     .where('role_assignment.role', 'in', roles)
     .where('app_user.active', '=', true)
+    .execute()
+}
+
+export async function insertUser(
+  db: Q,
+  v: { email: string; display_name: string; password_hash: string; created_at: Date; updated_at: Date },
+): Promise<number> {
+  return (await db.insertInto('app_user').values(v).returning('id').executeTakeFirstOrThrow()).id
+}
+
+export function findUserForUpdate(trx: Transaction<Database>, id: number) {
+  return trx.selectFrom('app_user').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
+}
+
+export function updateUserRow(
+  db: Q,
+  id: number,
+  set: { display_name?: string; active?: boolean; password_hash?: string; updated_at: Date },
+) {
+  return db.updateTable('app_user').set(set).where('id', '=', id).execute()
+}
+
+/** The admin role at each of these sites. */
+export function insertAdminRoles(db: Q, userId: number, siteIds: number[]) {
+  return db
+    .insertInto('role_assignment')
+    .values(siteIds.map((siteId) => ({ user_id: userId, site_id: siteId, role: 'admin' as const })))
     .execute()
 }

@@ -12,6 +12,7 @@ import { deleteSessionsOfUser, recordAttempt } from '../session/session.reposito
 import { reserveAttempt } from '../session/throttle.ts'
 import { assertStrongPassword } from './password-policy.ts'
 import * as repo from './users.repository.ts'
+import { findSiteIds } from '../sites/sites.repository.ts'
 
 type RoleList = User['roles']
 
@@ -46,7 +47,7 @@ export async function getUser(deps: AppDeps, ability: AppAbility, id: number): P
 async function assertSitesExist(deps: AppDeps, roles: RoleList) {
   const ids = [...new Set(roles.map((r) => r.siteId))]
   if (!ids.length) return
-  const found = await deps.db.selectFrom('site').select('id').where('id', 'in', ids).execute()
+  const found = await findSiteIds(deps.db, ids)
   if (found.length !== ids.length) throw validationFailed({ roles: ['A role refers to a site that does not exist'] })
 }
 
@@ -76,17 +77,13 @@ export async function createUser(
   const hash = await hashPassword(input.password)
   const now = deps.clock.now()
   const id = await deps.db.transaction().execute(async (trx) => {
-    const { id } = await trx
-      .insertInto('app_user')
-      .values({
-        email: input.email,
-        display_name: input.displayName,
-        password_hash: hash,
-        created_at: now,
-        updated_at: now,
-      })
-      .returning('id')
-      .executeTakeFirstOrThrow()
+    const id = await repo.insertUser(trx, {
+      email: input.email,
+      display_name: input.displayName,
+      password_hash: hash,
+      created_at: now,
+      updated_at: now,
+    })
     await repo.replaceRoles(trx, id, input.roles)
     await appendAudit(trx, deps.clock, ctx, {
       action: 'user.create',
@@ -138,19 +135,15 @@ export async function updateUser(
   }
   const hash = input.password ? await hashPassword(input.password) : undefined
   await deps.db.transaction().execute(async (trx) => {
-    const before = await trx.selectFrom('app_user').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
+    const before = await repo.findUserForUpdate(trx, id)
     if (!before) throw notFound('User')
     const beforeRoles = (await repo.findRolesByUserIds(trx, [id])).get(id) ?? []
-    await trx
-      .updateTable('app_user')
-      .set({
-        ...(input.displayName !== undefined ? { display_name: input.displayName } : {}),
-        ...(input.active !== undefined ? { active: input.active } : {}),
-        ...(hash ? { password_hash: hash } : {}),
-        updated_at: deps.clock.now(),
-      })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateUserRow(trx, id, {
+      ...(input.displayName !== undefined ? { display_name: input.displayName } : {}),
+      ...(input.active !== undefined ? { active: input.active } : {}),
+      ...(hash ? { password_hash: hash } : {}),
+      updated_at: deps.clock.now(),
+    })
     if (input.roles) await repo.replaceRoles(trx, id, input.roles)
     // a reset password or a deactivated account ends every session the account has (OWASP ASVS 4.0.3 §3.3.3)
     if (hash || input.active === false) await deleteSessionsOfUser(trx, id)
@@ -208,11 +201,7 @@ export async function changeOwnPassword(
   assertStrongPassword('newPassword', next, [user.email, user.display_name])
   const hash = await hashPassword(next)
   await deps.db.transaction().execute(async (trx) => {
-    await trx
-      .updateTable('app_user')
-      .set({ password_hash: hash, updated_at: deps.clock.now() })
-      .where('id', '=', userId)
-      .execute()
+    await repo.updateUserRow(trx, userId, { password_hash: hash, updated_at: deps.clock.now() })
     const ended = await deleteSessionsOfUser(trx, userId, keepSessionId)
     await appendAudit(trx, deps.clock, ctx, {
       action: 'user.password_change',
