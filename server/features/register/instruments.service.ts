@@ -13,6 +13,7 @@ import type { Database } from '../../db/schema.ts'
 import { AppError, invalidState, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { recomputeWindowsForInstrument } from './limits.service.ts'
+import * as repo from './instruments.repository.ts'
 import { toInstrument } from './register.mappers.ts'
 
 type Trx = Transaction<Database>
@@ -39,14 +40,7 @@ function columns(d: CreateInstrumentInput) {
 }
 
 async function load(db: AppDeps['db'] | Trx, id: number, lock = false): Promise<InstrumentDto> {
-  let q = db
-    .selectFrom('instrument')
-    .innerJoin('process', 'process.id', 'instrument.process_id')
-    .selectAll('instrument')
-    .select('process.name as process_name')
-    .where('instrument.id', '=', id)
-  if (lock) q = q.forUpdate(['instrument'] as never)
-  const row = await q.executeTakeFirst()
+  const row = await repo.findInstrumentRow(db, id, lock)
   if (!row) throw notFound('Instrument')
   return toInstrument(row)
 }
@@ -57,13 +51,7 @@ function snapshot(i: InstrumentDto) {
 }
 
 async function assertTagFree(trx: Trx, siteId: number, tag: string, exceptId: number | null) {
-  let q = trx
-    .selectFrom('instrument')
-    .select('id')
-    .where('site_id', '=', siteId)
-    .where((eb) => eb(eb.fn('lower', ['tag']), '=', tag.toLowerCase()))
-  if (exceptId) q = q.where('id', '!=', exceptId)
-  if (await q.executeTakeFirst())
+  if (await repo.findInstrumentIdByTag(trx, siteId, tag, exceptId))
     throw new AppError(409, ErrorCode.CONFLICT, `Instrument tag ${tag} is already used at this site`, {
       fields: { tag: ['Already used at this site'] },
     })
@@ -74,20 +62,7 @@ export async function listInstruments(
   ability: AppAbility,
   f: { siteIds: number[]; processIds?: number[]; q?: string; page: number; pageSize: number },
 ) {
-  let q = deps.db
-    .selectFrom('instrument')
-    .innerJoin('process', 'process.id', 'instrument.process_id')
-    .where('instrument.site_id', 'in', f.siteIds.length ? f.siteIds : [-1])
-  if (f.processIds?.length) q = q.where('instrument.process_id', 'in', f.processIds)
-  if (f.q) q = q.where('instrument.tag', 'ilike', `%${f.q}%`)
-  const total = (await q.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const rows = await q
-    .selectAll('instrument')
-    .select('process.name as process_name')
-    .orderBy('instrument.tag')
-    .limit(f.pageSize)
-    .offset((f.page - 1) * f.pageSize)
-    .execute()
+  const { total, rows } = await repo.listInstrumentRows(deps.db, f)
   return {
     total,
     items: rows.map(toInstrument).filter((i) => allows(ability, 'read', 'Instrument', { siteId: i.siteId })),
@@ -106,7 +81,7 @@ export async function createInstrument(
   ctx: AuditContext,
   input: CreateInstrumentInput,
 ) {
-  const process = await deps.db.selectFrom('process').selectAll().where('id', '=', input.processId).executeTakeFirst()
+  const process = await repo.findProcessRowById(deps.db, input.processId)
   // another site's process answers as a missing one (docs/security.md#authorization)
   if (!process || !allows(ability, 'read', 'Process', { siteId: process.site_id }))
     throw validationFailed({ processId: ['The process does not exist'] })
@@ -126,31 +101,24 @@ export async function insertInstrument(
 ): Promise<number> {
   await assertTagFree(trx, process.site_id, input.tag, null)
   const now = clock.now()
-  const { id } = await trx
-    .insertInto('instrument')
-    .values({
-      ...columns(input),
-      process_id: process.id,
-      area_id: process.area_id,
-      site_id: process.site_id,
-      created_at: now,
-      updated_at: now,
-    })
-    .returning('id')
-    .executeTakeFirstOrThrow()
+  const id = await repo.insertInstrumentRow(trx, {
+    ...columns(input),
+    process_id: process.id,
+    area_id: process.area_id,
+    site_id: process.site_id,
+    created_at: now,
+    updated_at: now,
+  })
   const dto = await load(trx, id)
-  await trx
-    .insertInto('instrument_revision')
-    .values({
-      instrument_id: id,
-      revision: 1,
-      snapshot: JSON.stringify(snapshot(dto)),
-      changed_by: ctx.actorId,
-      changed_at: now,
-      change_request_id: null,
-      reason: 'created',
-    })
-    .execute()
+  await repo.insertInstrumentRevision(trx, {
+    instrument_id: id,
+    revision: 1,
+    snapshot: JSON.stringify(snapshot(dto)),
+    changed_by: ctx.actorId,
+    changed_at: now,
+    change_request_id: null,
+    reason: 'created',
+  })
   await appendAudit(trx, clock, ctx, {
     action: 'instrument.create',
     entityType: 'Instrument',
@@ -177,13 +145,7 @@ export async function updateInstrument(
     const before = await load(trx, id, true)
     ensureVisible(ability, 'Instrument', { siteId: before.siteId }, 'Instrument')
     authorize(ability, 'update', 'Instrument', { siteId: before.siteId })
-    const active = await trx
-      .selectFrom('limit_instrument')
-      .innerJoin('limit_function', 'limit_function.id', 'limit_instrument.limit_id')
-      .select('limit_function.tag')
-      .where('limit_instrument.instrument_id', '=', id)
-      .where('limit_function.status', '=', 'active')
-      .execute()
+    const active = await repo.activeLimitTagsOnInstrument(trx, id)
     if (active.length)
       throw invalidState(
         `Instrument ${before.tag} feeds active limits (${active.map((a) => a.tag).join(', ')}): change it through a change request`,
@@ -205,11 +167,11 @@ export async function applyInstrumentDefinition(
   const draft = CreateInstrumentInputSchema.parse({ ...snapshot(before), ...patch, processId: before.processId })
   if (draft.tag.toLowerCase() !== before.tag.toLowerCase())
     await assertTagFree(trx, before.siteId, draft.tag, before.id)
-  await trx
-    .updateTable('instrument')
-    .set({ ...columns(draft), revision: before.revision + 1, updated_at: clock.now() })
-    .where('id', '=', before.id)
-    .execute()
+  await repo.updateInstrumentRow(trx, before.id, {
+    ...columns(draft),
+    revision: before.revision + 1,
+    updated_at: clock.now(),
+  })
   const blocked = await recomputeWindowsForInstrument(trx, before.id)
   if (blocked.length) {
     throw new AppError(
@@ -220,18 +182,15 @@ export async function applyInstrumentDefinition(
     )
   }
   const after = await load(trx, before.id)
-  await trx
-    .insertInto('instrument_revision')
-    .values({
-      instrument_id: before.id,
-      revision: after.revision,
-      snapshot: JSON.stringify(snapshot(after)),
-      changed_by: ctx.actorId,
-      changed_at: clock.now(),
-      change_request_id: opts.changeRequestId,
-      reason: opts.reason,
-    })
-    .execute()
+  await repo.insertInstrumentRevision(trx, {
+    instrument_id: before.id,
+    revision: after.revision,
+    snapshot: JSON.stringify(snapshot(after)),
+    changed_by: ctx.actorId,
+    changed_at: clock.now(),
+    change_request_id: opts.changeRequestId,
+    reason: opts.reason,
+  })
   await appendAudit(trx, clock, ctx, {
     action: 'instrument.update',
     entityType: 'Instrument',

@@ -1,5 +1,6 @@
 import { type Kysely, type SelectQueryBuilder, sql, type Transaction } from 'kysely'
-import type { Database } from '../../db/schema.ts'
+import type { Insertable, Updateable } from 'kysely'
+import type { Database, LimitFunctionTable, LimitRevisionTable } from '../../db/schema.ts'
 import type { LimitListRow } from './register.mappers.ts'
 
 type Q = Kysely<Database> | Transaction<Database>
@@ -252,5 +253,73 @@ export function findSiblingLimits(db: Q, instrumentId: number) {
     .selectFrom('limit_function')
     .select(['id', 'tag', 'direction', 'limit_class', 'setpoint', 'status'])
     .where('primary_instrument_id', '=', instrumentId)
+    .execute()
+}
+
+/** The site's stored policy overrides (inside the caller's transaction). */
+export function findSitePolicyRow(db: Q, siteId: number) {
+  return db.selectFrom('site').select('policy').where('id', '=', siteId).executeTakeFirstOrThrow()
+}
+
+export function findInstrumentRows(db: Q, ids: number[]) {
+  return db.selectFrom('instrument').selectAll().where('id', 'in', ids).execute()
+}
+
+export function findProcessRow(db: Q, id: number) {
+  return db.selectFrom('process').selectAll().where('id', '=', id).executeTakeFirst()
+}
+
+export function insertLimitRevision(db: Q, values: Insertable<LimitRevisionTable>) {
+  return db.insertInto('limit_revision').values(values).execute()
+}
+
+export async function insertLimitRow(db: Q, values: Insertable<LimitFunctionTable>): Promise<number> {
+  return (await db.insertInto('limit_function').values(values).returning('id').executeTakeFirstOrThrow()).id
+}
+
+/** A limit of the site with this tag (case-insensitive), other than `exceptId`. */
+export function findLimitIdByTag(db: Q, siteId: number, tag: string, exceptId: number | null) {
+  let q = db
+    .selectFrom('limit_function')
+    .select('id')
+    .where('site_id', '=', siteId)
+    .where((eb) => eb(eb.fn('lower', ['tag']), '=', tag.toLowerCase()))
+  if (exceptId) q = q.where('id', '!=', exceptId)
+  return q.executeTakeFirst()
+}
+
+export function updateLimitRow(db: Q, id: number, set: Updateable<LimitFunctionTable>) {
+  return db.updateTable('limit_function').set(set).where('id', '=', id).execute()
+}
+
+export function deleteLimitRow(db: Q, id: number) {
+  return db.deleteFrom('limit_function').where('id', '=', id).execute()
+}
+
+/** Ids of the limits, other than retired ones, whose primary instrument this is. */
+export function findUnretiredLimitIdsOnInstrument(db: Q, instrumentId: number) {
+  return db
+    .selectFrom('limit_function')
+    .select('id')
+    .where('primary_instrument_id', '=', instrumentId)
+    .where('status', '!=', 'retired')
+    .execute()
+}
+
+/** The revisions of a limit, newest first, with the name of who made each. */
+export function listLimitRevisions(db: Q, limitId: number) {
+  return db
+    .selectFrom('limit_revision')
+    .leftJoin('app_user', 'app_user.id', 'limit_revision.changed_by')
+    .select([
+      'limit_revision.revision',
+      'limit_revision.snapshot',
+      'limit_revision.changed_at',
+      'limit_revision.change_request_id',
+      'limit_revision.reason',
+      'app_user.display_name',
+    ])
+    .where('limit_id', '=', limitId)
+    .orderBy('revision', 'desc')
     .execute()
 }

@@ -27,7 +27,7 @@ export interface Evaluation {
 
 /** Loads a site's policy inside the transaction. */
 async function sitePolicy(trx: Trx, siteId: number): Promise<SitePolicy> {
-  const site = await trx.selectFrom('site').select('policy').where('id', '=', siteId).executeTakeFirstOrThrow()
+  const site = await repo.findSitePolicyRow(trx, siteId)
   return policyOf(site)
 }
 
@@ -41,7 +41,7 @@ export async function evaluateLimit(
   siteId: number,
   limitId: number | null,
 ): Promise<Evaluation> {
-  const instruments = await trx.selectFrom('instrument').selectAll().where('id', 'in', draft.instrumentIds).execute()
+  const instruments = await repo.findInstrumentRows(trx, draft.instrumentIds)
   if (instruments.length !== new Set(draft.instrumentIds).size)
     throw validationFailed({ instrumentIds: ['An instrument does not exist'] })
   if (instruments.some((i) => i.site_id !== siteId))
@@ -59,15 +59,15 @@ export async function evaluateLimit(
       normalHigh: n(primary.normal_high),
       designLow: n(primary.design_low),
       designHigh: n(primary.design_high),
-      burnout: primary.burnout as 'upscale' | 'downscale' | 'none',
+      burnout: primary.burnout,
     },
     siblings: siblings.map((s) => ({
       id: s.id,
       tag: s.tag,
-      direction: s.direction as 'high' | 'low',
+      direction: s.direction,
       limitClass: s.limit_class as 'alarm' | 'trip',
       setpoint: Number(s.setpoint),
-      status: s.status as 'proposed' | 'active' | 'retired',
+      status: s.status,
     })),
     defaultTolerancePercentSpan: policy.defaultTolerancePercentSpan,
   })
@@ -149,18 +149,15 @@ async function writeRevision(
   changeRequestId: number | null,
   reason: string | null,
 ) {
-  await trx
-    .insertInto('limit_revision')
-    .values({
-      limit_id: limit.id,
-      revision: limit.revision,
-      snapshot: JSON.stringify(limitSnapshot(limit)),
-      changed_by: ctx.actorId,
-      changed_at: clock.now(),
-      change_request_id: changeRequestId,
-      reason,
-    })
-    .execute()
+  await repo.insertLimitRevision(trx, {
+    limit_id: limit.id,
+    revision: limit.revision,
+    snapshot: JSON.stringify(limitSnapshot(limit)),
+    changed_by: ctx.actorId,
+    changed_at: clock.now(),
+    change_request_id: changeRequestId,
+    reason,
+  })
 }
 
 function toDraft(l: Limit): CreateLimitInput {
@@ -179,7 +176,7 @@ export async function createLimit(
   ctx: AuditContext,
   input: CreateLimitInput,
 ): Promise<Limit> {
-  const process = await deps.db.selectFrom('process').selectAll().where('id', '=', input.processId).executeTakeFirst()
+  const process = await repo.findProcessRow(deps.db, input.processId)
   // another site's process answers as a missing one (docs/security.md#authorization)
   if (!process || !allows(ability, 'read', 'Process', { siteId: process.site_id }))
     throw validationFailed({ processId: ['The process does not exist'] })
@@ -204,19 +201,15 @@ export async function insertLimit(
   const ev = await evaluateLimit(trx, input, process.site_id, null)
   if (ev.errors.length) throw windowError(ev)
   const now = clock.now()
-  const { id } = await trx
-    .insertInto('limit_function')
-    .values({
-      ...columns(input, ev),
-      process_id: process.id,
-      area_id: process.area_id,
-      site_id: process.site_id,
-      created_by: ctx.actorId,
-      created_at: now,
-      updated_at: now,
-    })
-    .returning('id')
-    .executeTakeFirstOrThrow()
+  const id = await repo.insertLimitRow(trx, {
+    ...columns(input, ev),
+    process_id: process.id,
+    area_id: process.area_id,
+    site_id: process.site_id,
+    created_by: ctx.actorId,
+    created_at: now,
+    updated_at: now,
+  })
   await repo.replaceLimitInstruments(trx, id, input.instrumentIds)
   const limit = await loadLimit(trx, id)
   await writeRevision(trx, clock, limit, ctx, null, 'created as a draft')
@@ -231,13 +224,7 @@ export async function insertLimit(
 }
 
 async function assertTagFree(trx: Trx, siteId: number, tag: string, exceptId: number | null) {
-  let q = trx
-    .selectFrom('limit_function')
-    .select('id')
-    .where('site_id', '=', siteId)
-    .where((eb) => eb(eb.fn('lower', ['tag']), '=', tag.toLowerCase()))
-  if (exceptId) q = q.where('id', '!=', exceptId)
-  if (await q.executeTakeFirst())
+  if (await repo.findLimitIdByTag(trx, siteId, tag, exceptId))
     throw new AppError(409, ErrorCode.CONFLICT, `Tag ${tag} is already used at this site`, {
       fields: { tag: ['Already used at this site'] },
     })
@@ -296,16 +283,12 @@ export async function applyLimitDefinition(
     await assertTagFree(trx, before.siteId, draft.tag, before.id)
   const ev = await evaluateLimit(trx, draft, before.siteId, before.id)
   if (ev.errors.length && opts.status !== 'retired') throw windowError(ev)
-  await trx
-    .updateTable('limit_function')
-    .set({
-      ...columns(draft, ev),
-      revision: before.revision + 1,
-      updated_at: clock.now(),
-      ...(opts.status ? { status: opts.status } : {}),
-    })
-    .where('id', '=', before.id)
-    .execute()
+  await repo.updateLimitRow(trx, before.id, {
+    ...columns(draft, ev),
+    revision: before.revision + 1,
+    updated_at: clock.now(),
+    ...(opts.status ? { status: opts.status } : {}),
+  })
   if (patch.instrumentIds) await repo.replaceLimitInstruments(trx, before.id, draft.instrumentIds)
   const after = await loadLimit(trx, before.id)
   await writeRevision(trx, clock, after, ctx, opts.changeRequestId, opts.reason)
@@ -333,7 +316,7 @@ export async function deleteLimit(deps: AppDeps, ability: AppAbility, ctx: Audit
     authorize(ability, 'delete', 'Limit', { siteId: before.siteId })
     if (before.status !== 'proposed')
       throw invalidState('Only draft (proposed) limits can be deleted; retire an active limit through a change request')
-    await trx.deleteFrom('limit_function').where('id', '=', id).execute()
+    await repo.deleteLimitRow(trx, id)
     await appendAudit(trx, deps.clock, ctx, {
       action: 'limit.delete',
       entityType: 'Limit',
@@ -351,52 +334,30 @@ export async function recomputeWindowsForInstrument(
   trx: Trx,
   instrumentId: number,
 ): Promise<{ tag: string; errors: WindowFinding[] }[]> {
-  const ids = await trx
-    .selectFrom('limit_function')
-    .select('id')
-    .where('primary_instrument_id', '=', instrumentId)
-    .where('status', '!=', 'retired')
-    .execute()
+  const ids = await repo.findUnretiredLimitIdsOnInstrument(trx, instrumentId)
   const blocked: { tag: string; errors: WindowFinding[] }[] = []
   for (const { id } of ids) {
     const l = await loadLimit(trx, id)
     const ev = await evaluateLimit(trx, toDraft(l), l.siteId, l.id)
     if (ev.errors.length) blocked.push({ tag: l.tag, errors: ev.errors })
-    await trx
-      .updateTable('limit_function')
-      .set({
-        window_errors: JSON.stringify(ev.errors),
-        window_warnings: JSON.stringify(ev.warnings),
-        priority: ev.priority,
-        priority_explanation: ev.priorityExplanation,
-      })
-      .where('id', '=', id)
-      .execute()
+    await repo.updateLimitRow(trx, id, {
+      window_errors: JSON.stringify(ev.errors),
+      window_warnings: JSON.stringify(ev.warnings),
+      priority: ev.priority,
+      priority_explanation: ev.priorityExplanation,
+    })
   }
   return blocked
 }
 
 export async function listRevisions(deps: AppDeps, ability: AppAbility, id: number) {
   const limit = await getLimit(deps, ability, id)
-  const rows = await deps.db
-    .selectFrom('limit_revision')
-    .leftJoin('app_user', 'app_user.id', 'limit_revision.changed_by')
-    .select([
-      'limit_revision.revision',
-      'limit_revision.snapshot',
-      'limit_revision.changed_at',
-      'limit_revision.change_request_id',
-      'limit_revision.reason',
-      'app_user.display_name',
-    ])
-    .where('limit_id', '=', limit.id)
-    .orderBy('revision', 'desc')
-    .execute()
+  const rows = await repo.listLimitRevisions(deps.db, limit.id)
   return {
     total: rows.length,
     items: rows.map((r, i) => {
-      const prev = rows[i + 1]?.snapshot as Record<string, unknown> | undefined
-      const snap = r.snapshot as Record<string, unknown>
+      const prev = rows[i + 1]?.snapshot
+      const snap = r.snapshot
       const changes = prev
         ? Object.keys(snap)
             .filter((k) => k !== 'revision' && JSON.stringify(snap[k]) !== JSON.stringify(prev[k]))

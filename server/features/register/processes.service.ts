@@ -4,22 +4,18 @@ import { allows, authorize, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { AppError, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
+import * as repo from './processes.repository.ts'
 import { toProcess } from './register.mappers.ts'
 
 export async function listProcesses(deps: AppDeps, ability: AppAbility, f: { siteIds: number[]; areaIds?: number[] }) {
-  let q = deps.db
-    .selectFrom('process')
-    .selectAll()
-    .where('site_id', 'in', f.siteIds.length ? f.siteIds : [-1])
-  if (f.areaIds?.length) q = q.where('area_id', 'in', f.areaIds)
-  const items = (await q.orderBy('name').execute())
+  const items = (await repo.listProcessRows(deps.db, f.siteIds, f.areaIds))
     .map(toProcess)
     .filter((p) => allows(ability, 'read', 'Process', { siteId: p.siteId }))
   return { items, total: items.length }
 }
 
 export async function getProcess(deps: AppDeps, ability: AppAbility, id: number) {
-  const row = await deps.db.selectFrom('process').selectAll().where('id', '=', id).executeTakeFirst()
+  const row = await repo.findProcessRow(deps.db, id)
   if (!row) throw notFound('Process')
   ensureVisible(ability, 'Process', { siteId: row.site_id }, 'Process')
   return toProcess(row)
@@ -31,35 +27,26 @@ export async function createProcess(
   ctx: AuditContext,
   input: { areaId: number; name: string; description: string },
 ) {
-  const area = await deps.db.selectFrom('area').selectAll().where('id', '=', input.areaId).executeTakeFirst()
+  const area = await repo.findAreaRow(deps.db, input.areaId)
   // another site's area answers as a missing one (docs/security.md#authorization)
   if (!area || !allows(ability, 'read', 'Process', { siteId: area.site_id }))
     throw validationFailed({ areaId: ['The area does not exist'] })
   authorize(ability, 'create', 'Process', { siteId: area.site_id })
   return deps.db.transaction().execute(async (trx) => {
-    const dup = await trx
-      .selectFrom('process')
-      .select('id')
-      .where('area_id', '=', area.id)
-      .where('name', '=', input.name)
-      .executeTakeFirst()
+    const dup = await repo.findProcessIdByName(trx, area.id, input.name)
     if (dup)
       throw new AppError(409, ErrorCode.CONFLICT, 'This area has a process with this name already', {
         fields: { name: ['Already used in this area'] },
       })
     const now = deps.clock.now()
-    const row = await trx
-      .insertInto('process')
-      .values({
-        area_id: area.id,
-        site_id: area.site_id,
-        name: input.name,
-        description: input.description,
-        created_at: now,
-        updated_at: now,
-      })
-      .returningAll()
-      .executeTakeFirstOrThrow()
+    const row = await repo.insertProcess(trx, {
+      area_id: area.id,
+      site_id: area.site_id,
+      name: input.name,
+      description: input.description,
+      created_at: now,
+      updated_at: now,
+    })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'process.create',
       entityType: 'Process',
@@ -78,16 +65,11 @@ export async function updateProcess(
   input: { name?: string; description?: string },
 ) {
   return deps.db.transaction().execute(async (trx) => {
-    const before = await trx.selectFrom('process').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
+    const before = await repo.findProcessRow(trx, id, true)
     if (!before) throw notFound('Process')
     ensureVisible(ability, 'Process', { siteId: before.site_id }, 'Process')
     authorize(ability, 'update', 'Process', { siteId: before.site_id })
-    const row = await trx
-      .updateTable('process')
-      .set({ ...input, updated_at: deps.clock.now() })
-      .where('id', '=', id)
-      .returningAll()
-      .executeTakeFirstOrThrow()
+    const row = await repo.updateProcessRow(trx, id, { ...input, updated_at: deps.clock.now() })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'process.update',
       entityType: 'Process',

@@ -1,0 +1,78 @@
+import type { Insertable, Kysely, Transaction, Updateable } from 'kysely'
+import type { Database, InstrumentRevisionTable, InstrumentTable } from '../../db/schema.ts'
+
+// Every query of the register's instruments (docs/register.md).
+
+type Q = Kysely<Database> | Transaction<Database>
+
+/** The instrument with its process's name; the instrument row locked for update when `lock` is set. */
+export function findInstrumentRow(db: Q, id: number, lock = false) {
+  let q = db
+    .selectFrom('instrument')
+    .innerJoin('process', 'process.id', 'instrument.process_id')
+    .selectAll('instrument')
+    .select('process.name as process_name')
+    .where('instrument.id', '=', id)
+  if (lock) q = q.forUpdate(['instrument'] as never)
+  return q.executeTakeFirst()
+}
+
+/** An instrument of the site with this tag (case-insensitive), other than `exceptId`. */
+export function findInstrumentIdByTag(db: Q, siteId: number, tag: string, exceptId: number | null) {
+  let q = db
+    .selectFrom('instrument')
+    .select('id')
+    .where('site_id', '=', siteId)
+    .where((eb) => eb(eb.fn('lower', ['tag']), '=', tag.toLowerCase()))
+  if (exceptId) q = q.where('id', '!=', exceptId)
+  return q.executeTakeFirst()
+}
+
+/** One page of instruments (with their process's name) by tag, and the number matching. */
+export async function listInstrumentRows(
+  db: Q,
+  f: { siteIds: number[]; processIds?: number[]; q?: string; page: number; pageSize: number },
+) {
+  let q = db
+    .selectFrom('instrument')
+    .innerJoin('process', 'process.id', 'instrument.process_id')
+    .where('instrument.site_id', 'in', f.siteIds.length ? f.siteIds : [-1])
+  if (f.processIds?.length) q = q.where('instrument.process_id', 'in', f.processIds)
+  if (f.q) q = q.where('instrument.tag', 'ilike', `%${f.q}%`)
+  const total = (await q.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
+  const rows = await q
+    .selectAll('instrument')
+    .select('process.name as process_name')
+    .orderBy('instrument.tag')
+    .limit(f.pageSize)
+    .offset((f.page - 1) * f.pageSize)
+    .execute()
+  return { total, rows }
+}
+
+export function findProcessRowById(db: Q, id: number) {
+  return db.selectFrom('process').selectAll().where('id', '=', id).executeTakeFirst()
+}
+
+export async function insertInstrumentRow(db: Q, values: Insertable<InstrumentTable>): Promise<number> {
+  return (await db.insertInto('instrument').values(values).returning('id').executeTakeFirstOrThrow()).id
+}
+
+export function updateInstrumentRow(db: Q, id: number, set: Updateable<InstrumentTable>) {
+  return db.updateTable('instrument').set(set).where('id', '=', id).execute()
+}
+
+export function insertInstrumentRevision(db: Q, values: Insertable<InstrumentRevisionTable>) {
+  return db.insertInto('instrument_revision').values(values).execute()
+}
+
+/** Tags of the active limits standing on the instrument. */
+export function activeLimitTagsOnInstrument(db: Q, instrumentId: number) {
+  return db
+    .selectFrom('limit_instrument')
+    .innerJoin('limit_function', 'limit_function.id', 'limit_instrument.limit_id')
+    .select('limit_function.tag')
+    .where('limit_instrument.instrument_id', '=', instrumentId)
+    .where('limit_function.status', '=', 'active')
+    .execute()
+}
