@@ -6,7 +6,7 @@ import compression from 'compression'
 import express, { Router } from 'express'
 import expressStaticGzip from 'express-static-gzip'
 import helmet from 'helmet'
-import { sql } from 'kysely'
+import { pingDatabase } from './db/index.ts'
 import { pinoHttp } from 'pino-http'
 import { ErrorCode } from '../shared/errors.ts'
 import type { AppDeps } from './deps.ts'
@@ -106,7 +106,7 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use(inputGuard)
   api.get('/health', async (_req, res) => {
     try {
-      await sql`SELECT 1`.execute(deps.db)
+      await pingDatabase(deps.db)
       res.json({ status: 'ok', database: 'ok', readStandby: standbyState(deps) })
     } catch {
       res.setHeader('Retry-After', '5')

@@ -1,4 +1,4 @@
-import { Kysely, PostgresDialect } from 'kysely'
+import { Kysely, PostgresDialect, sql } from 'kysely'
 import pg from 'pg'
 import { logger } from '../logger.ts'
 import { ChangeFeed, registerChangeFeed } from './change-feed.ts'
@@ -22,6 +22,11 @@ const CONNECTION_MESSAGES = [
   'Client was closed and is not queryable',
   'Cannot use a pool after calling end',
 ]
+
+/** One round trip to the database (the health check); throws when it cannot be reached. */
+export async function pingDatabase(db: Db): Promise<void> {
+  await sql`SELECT 1`.execute(db)
+}
 
 /** True when an error means the database went away (the request may be retried later), not a bad query. */
 export function isConnectionError(err: unknown): boolean {

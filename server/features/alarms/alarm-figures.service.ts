@@ -20,11 +20,7 @@ const DAY = 86_400_000
 const iso = (sec: number) => new Date(Math.round(sec * 1000)).toISOString()
 
 export async function sitePolicy(deps: AppDeps, siteId: number) {
-  const site = await deps.db
-    .selectFrom('site')
-    .select(['id', 'code', 'name', 'policy'])
-    .where('id', '=', siteId)
-    .executeTakeFirst()
+  const site = await repo.findSiteWithPolicy(deps.db, siteId)
   if (!site) throw validationFailed({ siteId: ['The site does not exist'] }, 'The site does not exist')
   const parsed = SitePolicySchema.safeParse(site.policy ?? {})
   const alarms: AlarmPolicy = parsed.success ? parsed.data.alarms : DEFAULT_ALARM_POLICY
@@ -35,7 +31,7 @@ export async function alarmFigures(deps: AppDeps, ability: AppAbility, q: AlarmF
   const { alarms } = await sitePolicy(deps, q.siteId)
   authorize(ability, 'read', 'AlarmJournal', { siteId: q.siteId })
   if (q.areaId) {
-    const area = await deps.db.selectFrom('area').select('site_id').where('id', '=', q.areaId).executeTakeFirst()
+    const area = await repo.areaSite(deps.db, q.areaId)
     if (!area || area.site_id !== q.siteId) throw notFound('Area')
   }
   const to = q.to ? new Date(q.to) : deps.clock.now()

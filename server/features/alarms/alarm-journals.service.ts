@@ -85,7 +85,7 @@ function toDto(r: Selectable<AlarmJournalUploadTable>): JournalUpload {
 }
 
 async function siteExists(deps: AppDeps, siteId: number) {
-  const s = await deps.db.selectFrom('site').select('id').where('id', '=', siteId).executeTakeFirst()
+  const s = await repo.siteExists(deps.db, siteId)
   if (!s) throw validationFailed({ siteId: ['The site does not exist'] }, 'The site does not exist')
 }
 

@@ -648,3 +648,25 @@ export async function instrumentById(db: Q, id: number) {
     .where('id', '=', id)
     .executeTakeFirst()
 }
+
+/** The site with its policy (the alarm figures' thresholds). */
+export function findSiteWithPolicy(db: Q, siteId: number) {
+  return db.selectFrom('site').select(['id', 'code', 'name', 'policy']).where('id', '=', siteId).executeTakeFirst()
+}
+
+export function siteExists(db: Q, siteId: number) {
+  return db.selectFrom('site').select('id').where('id', '=', siteId).executeTakeFirst()
+}
+
+export function areaSite(db: Q, areaId: number) {
+  return db.selectFrom('area').select('site_id').where('id', '=', areaId).executeTakeFirst()
+}
+
+/** The primary instrument and site of a limit. */
+export function limitInstrumentAndSite(db: Q, limitId: number) {
+  return db
+    .selectFrom('limit_function')
+    .select(['primary_instrument_id', 'site_id'])
+    .where('id', '=', limitId)
+    .executeTakeFirst()
+}

@@ -350,11 +350,7 @@ export async function runReplay(
   let instrumentId = upload.instrument_id
   let limits: Awaited<ReturnType<typeof repo.limitsOnInstrument>> = []
   if (input.limitId) {
-    const lim = await deps.db
-      .selectFrom('limit_function')
-      .select(['primary_instrument_id', 'site_id'])
-      .where('id', '=', input.limitId)
-      .executeTakeFirst()
+    const lim = await repo.limitInstrumentAndSite(deps.db, input.limitId)
     if (!lim || lim.site_id !== upload.site_id) throw notFound('Limit')
     instrumentId = lim.primary_instrument_id
   }

@@ -7,6 +7,7 @@ import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import { AppError, notFound, validationFailed } from '../../errors.ts'
+import { findAttachment, insertAttachment, listAttachments } from './attachments.repository.ts'
 
 /** Largest attachment (10 MB). */
 export const MAX_ATTACHMENT_BYTES = 10 * 1024 * 1024
@@ -86,50 +87,24 @@ export async function storeAttachment(
       { fields: { file: ['Not a PDF, PNG or JPEG file'] } },
     )
   const name = storedFileName(file.originalname, type)
-  return trx
-    .insertInto('attachment')
-    .values({
-      entity_type: owner.entityType,
-      entity_id: owner.entityId,
-      file_name: name,
-      content_type: type,
-      size_bytes: file.buffer.length,
-      sha256: createHash('sha256').update(file.buffer).digest('hex'),
-      content: file.buffer,
-      uploaded_by: owner.userId,
-      uploaded_at: clock.now(),
-    })
-    .returning(['id', 'file_name', 'content_type', 'size_bytes', 'sha256'])
-    .executeTakeFirstOrThrow()
+  return insertAttachment(trx, {
+    entity_type: owner.entityType,
+    entity_id: owner.entityId,
+    file_name: name,
+    content_type: type,
+    size_bytes: file.buffer.length,
+    sha256: createHash('sha256').update(file.buffer).digest('hex'),
+    content: file.buffer,
+    uploaded_by: owner.userId,
+    uploaded_at: clock.now(),
+  })
 }
 
-export function listAttachments(db: Db | Transaction<Database>, entityType: string, entityId: number) {
-  return db
-    .selectFrom('attachment')
-    .leftJoin('app_user', 'app_user.id', 'attachment.uploaded_by')
-    .select([
-      'attachment.id',
-      'attachment.file_name',
-      'attachment.content_type',
-      'attachment.size_bytes',
-      'attachment.uploaded_at',
-      'attachment.sha256',
-      'app_user.display_name',
-    ])
-    .where('entity_type', '=', entityType)
-    .where('entity_id', '=', entityId)
-    .orderBy('attachment.id')
-    .execute()
-}
+// the queries are in attachments.repository.ts; callers import the list from here as before
+export { listAttachments }
 
 export async function readAttachment(db: Db, entityType: string, entityId: number, id: number) {
-  const row = await db
-    .selectFrom('attachment')
-    .selectAll()
-    .where('id', '=', id)
-    .where('entity_type', '=', entityType)
-    .where('entity_id', '=', entityId)
-    .executeTakeFirst()
+  const row = await findAttachment(db, entityType, entityId, id)
   if (!row) throw notFound('Attachment')
   return row
 }

@@ -1,6 +1,7 @@
 import type { Transaction } from 'kysely'
 import type { Clock } from '../../clock.ts'
 import type { Database } from '../../db/schema.ts'
+import { insertMail } from './mail.repository.ts'
 
 export interface OutgoingMail {
   to: string
@@ -30,21 +31,19 @@ export async function enqueueMail(
   const list = Array.isArray(mails) ? mails : [mails]
   if (!list.length) return
   const now = clock.now()
-  await trx
-    .insertInto('mail_outbox')
-    .values(
-      list.map((m) => ({
-        to_addr: m.to,
-        subject: m.subject,
-        text_body: m.text,
-        html_body: m.html ?? null,
-        topic: m.topic ?? 'general',
-        priority: (m.urgent ?? URGENT_TOPICS.has(m.topic ?? 'general')) ? (0 as const) : (1 as const),
-        created_at: now,
-        next_attempt_at: now,
-      })),
-    )
-    .execute()
+  await insertMail(
+    trx,
+    list.map((m) => ({
+      to_addr: m.to,
+      subject: m.subject,
+      text_body: m.text,
+      html_body: m.html ?? null,
+      topic: m.topic ?? 'general',
+      priority: (m.urgent ?? URGENT_TOPICS.has(m.topic ?? 'general')) ? (0 as const) : (1 as const),
+      created_at: now,
+      next_attempt_at: now,
+    })),
+  )
 }
 
 const esc = (s: string) =>

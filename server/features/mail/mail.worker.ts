@@ -1,9 +1,9 @@
 import nodemailer from 'nodemailer'
-import { sql } from 'kysely'
 import type { Clock, DueJob } from '../../clock.ts'
 import type { Config } from '../../config.ts'
 import type { Db } from '../../db/index.ts'
 import { logger } from '../../logger.ts'
+import { claimNextMail, markMailFailed, markMailSent } from './mail.repository.ts'
 
 /** Back-off after the n-th failed attempt: 1, 2, 4 … minutes, at most 1 h. */
 export function backoffMs(attempts: number): number {
@@ -42,17 +42,7 @@ export function createMailJob(db: Db, config: Config, clock: Clock): DueJob<{ se
       const log = logger.child({ component: 'mail' })
       for (let i = 0; i < 200 && !signal?.aborted; i++) {
         const done = await db.transaction().execute(async (trx) => {
-          const row = await trx
-            .selectFrom('mail_outbox')
-            .selectAll()
-            .where('sent_at', 'is', null)
-            .where('next_attempt_at', '<=', now)
-            .orderBy('priority')
-            .orderBy('id')
-            .limit(1)
-            .forUpdate()
-            .skipLocked()
-            .executeTakeFirst()
+          const row = await claimNextMail(trx, now)
           if (!row) return 'empty'
           try {
             await transport.sendMail({
@@ -62,24 +52,16 @@ export function createMailJob(db: Db, config: Config, clock: Clock): DueJob<{ se
               text: row.text_body,
               html: row.html_body ?? undefined,
             })
-            await trx
-              .updateTable('mail_outbox')
-              .set({ sent_at: clock.now(), attempts: sql`attempts + 1`, last_error: null })
-              .where('id', '=', row.id)
-              .execute()
+            await markMailSent(trx, row.id, clock.now())
             log.info({ mailId: row.id, topic: row.topic, priority: row.priority }, 'mail delivered')
             return 'sent'
           } catch (err) {
             const attempts = row.attempts + 1
-            await trx
-              .updateTable('mail_outbox')
-              .set({
-                attempts,
-                last_error: err instanceof Error ? err.message.slice(0, 500) : String(err),
-                next_attempt_at: new Date(now.getTime() + backoffMs(attempts)),
-              })
-              .where('id', '=', row.id)
-              .execute()
+            await markMailFailed(trx, row.id, {
+              attempts,
+              last_error: err instanceof Error ? err.message.slice(0, 500) : String(err),
+              next_attempt_at: new Date(now.getTime() + backoffMs(attempts)),
+            })
             log.warn({ mailId: row.id, topic: row.topic, attempts, error: String(err) }, 'mail delivery failed')
             return 'failed'
           }

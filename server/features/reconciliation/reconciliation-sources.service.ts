@@ -71,7 +71,7 @@ function toSource(
 }
 
 async function sitePolicy(deps: AppDeps, siteId: number) {
-  const site = await deps.db.selectFrom('site').select(['id', 'policy']).where('id', '=', siteId).executeTakeFirst()
+  const site = await repo.findSitePolicy(deps.db, siteId)
   if (!site) throw validationFailed({ siteId: ['The site does not exist'] })
   return site.policy
 }
@@ -110,12 +110,7 @@ export async function getSource(deps: AppDeps, ability: AppAbility, id: number):
 
 async function checkAreas(deps: AppDeps, siteId: number, areaIds: number[]) {
   if (!areaIds.length) return
-  const found = await deps.db
-    .selectFrom('area')
-    .select('id')
-    .where('site_id', '=', siteId)
-    .where('id', 'in', areaIds)
-    .execute()
+  const found = await repo.findAreaIdsOfSite(deps.db, siteId, areaIds)
   if (found.length !== new Set(areaIds).size) throw validationFailed({ areaIds: ['Choose areas of the source’s site'] })
 }
 
@@ -135,12 +130,7 @@ export async function createSource(
   await checkAreas(deps, input.siteId, input.areaIds)
   const now = deps.clock.now()
   const id = await deps.db.transaction().execute(async (trx) => {
-    const taken = await trx
-      .selectFrom('reconciliation_source')
-      .select('id')
-      .where('site_id', '=', input.siteId)
-      .where('name', '=', input.name)
-      .executeTakeFirst()
+    const taken = await repo.findSourceByName(trx, input.siteId, input.name)
     if (taken) throw conflict(`The site already has a source named "${input.name}"`, { fields: { name: ['Taken'] } })
     const row = await repo.insertSource(trx, {
       site_id: input.siteId,
@@ -210,13 +200,7 @@ export async function updateSource(
       set.next_run_at = nextRunFor(kind, now, patch.active ?? s.active)
     if (patch.active === false) set.next_run_at = null
     if (patch.name !== undefined && patch.name !== s.name) {
-      const taken = await trx
-        .selectFrom('reconciliation_source')
-        .select('id')
-        .where('site_id', '=', s.site_id)
-        .where('name', '=', patch.name)
-        .where('id', '!=', id)
-        .executeTakeFirst()
+      const taken = await repo.findSourceByName(trx, s.site_id, patch.name, id)
       if (taken) throw conflict(`The site already has a source named "${patch.name}"`, { fields: { name: ['Taken'] } })
     }
     await repo.updateSource(trx, id, set)

@@ -430,3 +430,19 @@ export function limitReconciliations(db: Q, limitId: number) {
 export function findLimitSite(db: Q, limitId: number) {
   return db.selectFrom('limit_function').select(['id', 'site_id']).where('id', '=', limitId).executeTakeFirst()
 }
+
+export function findSitePolicy(db: Q, siteId: number) {
+  return db.selectFrom('site').select(['id', 'policy']).where('id', '=', siteId).executeTakeFirst()
+}
+
+/** Those of these areas that belong to the site. */
+export function findAreaIdsOfSite(db: Q, siteId: number, areaIds: number[]) {
+  return db.selectFrom('area').select('id').where('site_id', '=', siteId).where('id', 'in', areaIds).execute()
+}
+
+/** Another source of the site with this name (other than `exceptId`). */
+export function findSourceByName(db: Q, siteId: number, name: string, exceptId?: number) {
+  let q = db.selectFrom('reconciliation_source').select('id').where('site_id', '=', siteId).where('name', '=', name)
+  if (exceptId !== undefined) q = q.where('id', '!=', exceptId)
+  return q.executeTakeFirst()
+}
