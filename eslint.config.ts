@@ -50,6 +50,35 @@ export default defineConfigWithVueTs(
     },
   },
   {
+    // SQL lives in repositories (docs/architecture.md#request-flow): no Kysely query start or raw `sql` outside them,
+    // the database layer (server/db) and the demo seed
+    files: ['server/**/*.ts'],
+    ignores: [
+      'server/**/*.repository.ts',
+      'server/db/**',
+      'server/seed/**',
+      // still querying in place, each being reworked on its own: the audit chain, the register list and the import
+      'server/features/audit/**',
+      'server/features/register/register.service.ts',
+      'server/features/register/protection-state-column.ts',
+      'server/features/register/imports.service.ts',
+    ],
+    rules: {
+      'no-restricted-syntax': [
+        'error',
+        {
+          selector:
+            'CallExpression[callee.property.name=/^(selectFrom|selectNoFrom|insertInto|replaceInto|updateTable|deleteFrom|mergeInto)$/]',
+          message: 'Kysely queries belong in a <feature>.repository.ts',
+        },
+        {
+          selector: 'TaggedTemplateExpression[tag.name="sql"]',
+          message: 'Raw SQL belongs in a <feature>.repository.ts',
+        },
+      ],
+    },
+  },
+  {
     files: ['migrations/**/*.ts'],
     rules: {
       'no-restricted-imports': [
