@@ -8,7 +8,6 @@ import {
 import type { BypassDto, BypassReviewDto } from '../../../shared/schemas/bypasses.ts'
 import { FAULT_EXPOSURE_CONVENTION, faultExposureSpans, hoursWithin } from '../../../shared/domain/fault-exposure.ts'
 import { isTestOverdue } from '../../../shared/domain/rules/trip-tests.ts'
-import type { ChannelResultDto } from '../../../shared/schemas/trip-tests.ts'
 import { failureRates } from '../demands/failure-rates.service.ts'
 import type { AppDeps } from '../../deps.ts'
 import { validationFailed } from '../../errors.ts'
@@ -213,9 +212,7 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
   const dangerous = (r: (typeof tests)[number]) =>
     r.as_found_result === 'out_dangerous' ||
     r.as_found_result === 'no_trip' ||
-    ((r.channels ?? []) as ChannelResultDto[]).some(
-      (c) => c.asFoundResult === 'out_dangerous' || c.asFoundResult === 'no_trip',
-    )
+    (r.channels ?? []).some((c) => c.asFoundResult === 'out_dangerous' || c.asFoundResult === 'no_trip')
   const periodFrom = new Date(from)
   const periodTo = new Date(to)
   const rows = limits

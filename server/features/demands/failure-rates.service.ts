@@ -4,7 +4,6 @@ import {
   observedRate,
   type AssumptionVerdict,
 } from '../../../shared/domain/observed-rates.ts'
-import type { ChannelResultDto } from '../../../shared/schemas/trip-tests.ts'
 import type { FailureRateGroup, FailureRateLimit, FailureRates } from '../../../shared/schemas/demands.ts'
 import { z } from 'zod'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
@@ -66,7 +65,7 @@ export async function failureRates(
     found.set(instrumentId, c)
   }
   for (const t of tests) {
-    const channels = (t.channels ?? []) as ChannelResultDto[]
+    const channels = t.channels ?? []
     if (channels.length) {
       for (const ch of channels) if (DANGEROUS.has(ch.asFoundResult)) count(ch.instrumentId, t.performed_at, 'test')
     } else if (DANGEROUS.has(t.as_found_result)) count(t.primary_instrument_id, t.performed_at, 'test')
