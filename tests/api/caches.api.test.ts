@@ -28,6 +28,8 @@ async function eventually(check: () => Promise<boolean>, what: string, timeoutMs
   throw new Error(`timed out waiting until ${what}`)
 }
 
+const PASSWORD = 'correct-horse-battery'
+
 /** Signs in on one app and answers the session cookie, to be sent to the other. */
 async function sessionCookie(app: Express, email: string, password = DEMO_PASSWORD) {
   const agent = new ApiAgent(app)
@@ -36,6 +38,18 @@ async function sessionCookie(app: Express, email: string, password = DEMO_PASSWO
   const cookie = (res.request as unknown as { cookies: string }).cookies
   return { agent, cookie }
 }
+
+/** An administrator on instance A makes an account with one role at the first site; answers its id. */
+async function createAccount(admin: ApiAgent, email: string, displayName: string, role: string): Promise<number> {
+  const res = await admin
+    .post('/api/users', { email, displayName, password: PASSWORD, roles: [{ siteId: 1, role }] })
+    .expect(201)
+  return res.body.id as number
+}
+
+/** Answers once instance B refuses the session cookie (401): it heard of the change that ended the session. */
+const refusedOnB = (cookie: string, what: string) =>
+  eventually(async () => (await request(appB).get('/api/sites').set('Cookie', cookie)).status === 401, what)
 
 beforeAll(async () => {
   appA = createApp(ctx)
@@ -66,45 +80,28 @@ describe('caches of several instances', () => {
 
   it('a role taken away on one instance is taken away on the other', async () => {
     const admin = await signedIn(appA, 'admin')
-    const created = await admin
-      .post('/api/users', {
-        email: 'mover@fernhollow.example',
-        displayName: 'Mina Mover',
-        password: 'correct-horse-battery',
-        roles: [{ siteId: 1, role: 'safety_engineer' }],
-      })
-      .expect(201)
-    const { cookie } = await sessionCookie(appB, 'mover@fernhollow.example', 'correct-horse-battery')
+    const id = await createAccount(admin, 'mover@fernhollow.example', 'Mina Mover', 'safety_engineer')
+    const { cookie } = await sessionCookie(appB, 'mover@fernhollow.example', PASSWORD)
     const canCreate = async () =>
       (await request(appB).get('/api/session').set('Cookie', cookie).expect(200)).body.user.roles.some(
         (r: { role: string }) => r.role === 'safety_engineer',
       )
     expect(await canCreate()).toBe(true)
 
-    await admin.patch(`/api/users/${created.body.id}`, { roles: [{ siteId: 1, role: 'operator' }] }).expect(200)
+    await admin.patch(`/api/users/${id}`, { roles: [{ siteId: 1, role: 'operator' }] }).expect(200)
     await eventually(async () => !(await canCreate()), 'instance B sees the new roles')
 
-    await admin.patch(`/api/users/${created.body.id}`, { active: false }).expect(200)
-    await eventually(
-      async () => (await request(appB).get('/api/sites').set('Cookie', cookie)).status === 401,
-      'instance B refuses the deactivated account',
-    )
+    await admin.patch(`/api/users/${id}`, { active: false }).expect(200)
+    await refusedOnB(cookie, 'instance B refuses the deactivated account')
   })
 
   it('a change on the same instance takes effect on its next request', async () => {
     const admin = await signedIn(appA, 'admin')
-    const created = await admin
-      .post('/api/users', {
-        email: 'quick@fernhollow.example',
-        displayName: 'Quinn Quick',
-        password: 'correct-horse-battery',
-        roles: [{ siteId: 1, role: 'operator' }],
-      })
-      .expect(201)
-    const { agent } = await sessionCookie(appA, 'quick@fernhollow.example', 'correct-horse-battery')
+    const id = await createAccount(admin, 'quick@fernhollow.example', 'Quinn Quick', 'operator')
+    const { agent } = await sessionCookie(appA, 'quick@fernhollow.example', PASSWORD)
     await agent.get('/api/sites').expect(200)
     await agent.get('/api/sites').expect(200)
-    await admin.patch(`/api/users/${created.body.id}`, { active: false }).expect(200)
+    await admin.patch(`/api/users/${id}`, { active: false }).expect(200)
     await agent.get('/api/sites').expect(401)
   })
 
@@ -120,5 +117,87 @@ describe('caches of several instances', () => {
     await buildHeaterTrip(engA, { siteCode: 'FHR', setpoint: 840 })
     expect(await count(engA)).toBe(before + 1)
     await eventually(async () => (await count(engB)) === before + 1, 'instance B counts the new limit')
+  })
+
+  it('a password changed on one instance ends the other sessions of the account on the other', async () => {
+    await createAccount(await signedIn(appA, 'admin'), 'changer@fernhollow.example', 'Cam Changer', 'operator')
+    const onB = await sessionCookie(appB, 'changer@fernhollow.example', PASSWORD)
+    // served twice on B, so the session and the account are in B's caches
+    await request(appB).get('/api/sites').set('Cookie', onB.cookie).expect(200)
+    await request(appB).get('/api/sites').set('Cookie', onB.cookie).expect(200)
+    const onA = await sessionCookie(appA, 'changer@fernhollow.example', PASSWORD)
+    await onA.agent
+      .post('/api/account/password', { currentPassword: PASSWORD, newPassword: 'staple-lantern-orbit-42' })
+      .expect(204)
+    await refusedOnB(onB.cookie, 'instance B refuses the session the password change ended')
+    // the session that changed the password goes on
+    await onA.agent.get('/api/sites').expect(200)
+  })
+
+  it('a password reset by an administrator on one instance ends the sessions on the other', async () => {
+    const admin = await signedIn(appA, 'admin')
+    const id = await createAccount(admin, 'reset@fernhollow.example', 'Rae Reset', 'operator')
+    const { cookie } = await sessionCookie(appB, 'reset@fernhollow.example', PASSWORD)
+    await request(appB).get('/api/sites').set('Cookie', cookie).expect(200)
+    await admin.patch(`/api/users/${id}`, { password: 'quartz-meadow-bridge-7' }).expect(200)
+    await refusedOnB(cookie, 'instance B refuses the session the reset ended')
+  })
+
+  it('a register page kept by each instance follows a changed limit: at once here, soon after there', async () => {
+    const engA = await signedIn(appA, 'engineer')
+    const engB = await signedIn(appB, 'engineer')
+    const { limit } = await buildHeaterTrip(engA, { siteCode: 'FHR', setpoint: 820 })
+    const url = `/api/limits?siteId=1&view=row&q=${encodeURIComponent(limit.tag)}`
+    const setpointOn = async (agent: ApiAgent) =>
+      ((await agent.get(url).expect(200)).body.items as { setpoint: number }[]).map((r) => r.setpoint)
+    // asked twice on each instance: the second answer comes from its cache
+    for (const agent of [engA, engB, engA, engB]) expect(await setpointOn(agent)).toEqual([820])
+
+    await engA.patch(`/api/limits/${limit.id}`, { setpoint: 815 }).expect(200)
+    expect(await setpointOn(engA)).toEqual([815])
+    await eventually(async () => (await setpointOn(engB)).join() === '815', 'instance B shows the new setpoint')
+  })
+
+  it('a kept register page is sent compressed as the client accepts, with an ETag that answers 304', async () => {
+    const eng = await signedIn(appA, 'engineer')
+    const url = '/api/limits?siteId=1&view=row&pageSize=5'
+    await buildHeaterTrip(eng, { siteCode: 'FHR', setpoint: 830 })
+    const plain = await eng.get(url).set('Accept-Encoding', 'identity').expect(200)
+    expect(plain.headers['content-encoding']).toBeUndefined()
+    for (const encoding of ['gzip', 'br']) {
+      const res = await eng.get(url).set('Accept-Encoding', encoding).expect(200)
+      expect(res.headers['content-encoding']).toBe(encoding)
+      expect(res.headers.vary).toMatch(/Accept-Encoding/i)
+      // supertest inflates both: the same page as the uncompressed answer
+      expect(res.body).toEqual(plain.body)
+      expect(res.headers.etag).toBe(plain.headers.etag)
+    }
+    const again = await eng.get(url).set('If-None-Match', plain.headers.etag).set('Accept-Encoding', 'gzip')
+    expect(again.status).toBe(304)
+  })
+
+  it('while the listening connection is lost, no instance serves what it kept', async () => {
+    const engA = await signedIn(appA, 'engineer')
+    const engB = await signedIn(appB, 'engineer')
+    const { limit } = await buildHeaterTrip(engA, { siteCode: 'FHR', setpoint: 850 })
+    const url = `/api/limits?siteId=1&view=row&q=${encodeURIComponent(limit.tag)}`
+    const setpointOnB = async () =>
+      ((await engB.get(url).expect(200)).body.items as { setpoint: number }[]).map((r) => r.setpoint).join()
+    expect(await setpointOnB()).toBe('850')
+    expect(await setpointOnB()).toBe('850')
+    const feedA = changeFeedOf(ctx.pool)!
+    const feedB = changeFeedOf(depsB.pool)!
+    // both instances lose their listening connection (the runtime role may end its own backends)
+    const { rows } = await ctx.pool.query(
+      `SELECT pg_terminate_backend(pid) AS ended FROM pg_stat_activity
+       WHERE datname = current_database() AND query = 'LISTEN limitkeeper_change'`,
+    )
+    expect(rows.length).toBe(2)
+    await eventually(async () => !feedA.live && !feedB.live, 'both instances notice the lost connection')
+    // A's change cannot be announced to B now, so B must read PostgreSQL: its next page shows it at once
+    await engA.patch(`/api/limits/${limit.id}`, { setpoint: 845 }).expect(200)
+    expect(await setpointOnB()).toBe('845')
+    expect(await feedA.ready()).toBe(true)
+    expect(await feedB.ready()).toBe(true)
   })
 })

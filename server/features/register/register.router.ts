@@ -1,4 +1,5 @@
-import { type Response, Router } from 'express'
+import { brotliCompressSync, constants as zlibConstants, gzipSync } from 'node:zlib'
+import { type Request, type Response, Router } from 'express'
 import { z } from 'zod'
 import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
 import {
@@ -99,7 +100,7 @@ export function createLimitsRouter(deps: AppDeps) {
     const page = await onReadStandby(deps, (d) =>
       register.listRegister(d, req.user, LimitListQuerySchema.parse(req.query)),
     )
-    if ('json' in page) res.type('application/json').send(page.json)
+    if ('page' in page) sendRegisterPage(req, res, page.page)
     else res.json(page)
   })
   router.get('/export', async (req, res) => {
@@ -154,6 +155,26 @@ export function createLimitsRouter(deps: AppDeps) {
     res.status(204).end()
   })
   return router
+}
+
+/**
+ * Sends a register page as kept by the register's cache: its ETag (a 304 when the client has it), and the brotli or
+ * gzip form the client accepts, compressed once per page rather than per request (docs/architecture.md, "The register
+ * list query").
+ */
+function sendRegisterPage(req: Request, res: Response, page: register.RegisterPage) {
+  res.type('application/json')
+  res.vary('Accept-Encoding')
+  res.setHeader('ETag', page.etag)
+  const encoding = page.json.length >= 1024 ? req.acceptsEncodings('br', 'gzip') : false
+  if (encoding !== 'br' && encoding !== 'gzip') return res.send(page.json)
+  if (req.fresh) return res.status(304).end()
+  const body = (page.encoded[encoding] ??=
+    encoding === 'br'
+      ? brotliCompressSync(page.json, { params: { [zlibConstants.BROTLI_PARAM_QUALITY]: 5 } })
+      : gzipSync(page.json))
+  res.setHeader('Content-Encoding', encoding)
+  res.send(body)
 }
 
 /** Sends a generated PDF as a download; the file name is made of tags and site codes only. */

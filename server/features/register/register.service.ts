@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto'
 import ExcelJS from 'exceljs'
 import { toCsv } from '../../csv.ts'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
@@ -60,24 +61,56 @@ const SORT_VALUE: Record<repo.LimitSortField, (l: Limit) => unknown> = {
   testDueDate: (l) => l.testDueDate,
 }
 
-/**
- * Counts of the register's filtered sets, kept per process until the register changes here or on another instance
- * (docs/architecture.md, "Caches and change notifications"): turning a page does not count again.
- */
-const countCaches = new WeakMap<object, ChangeCache<number>>()
-function countCacheOf(deps: AppDeps): ChangeCache<number> {
-  let cache = countCaches.get(deps.pool)
-  if (!cache) {
-    const feed = changeFeedOf(deps.pool)
-    const made = new ChangeCache<number>(feed, 5 * 60_000, 1000)
-    feed?.subscribe((change) => {
-      if (change === '*' || change === 'register') made.drop()
-    })
-    countCaches.set(deps.pool, made)
-    cache = made
-  }
-  return cache
+/** A register page as sent: its JSON text, a weak ETag, and its compressed forms, each made on first demand. */
+export interface RegisterPage {
+  json: string
+  etag: string
+  encoded: Partial<Record<'br' | 'gzip', Buffer>>
 }
+
+function registerPage(json: string): RegisterPage {
+  return { json, etag: `W/"${createHash('sha1').update(json).digest('base64url')}"`, encoded: {} }
+}
+
+/**
+ * Per-process caches of the register list, kept until the register changes here or on another instance
+ * (docs/architecture.md, "Caches and change notifications"): the counts of filtered sets (turning a page does not
+ * count again) and the register screen's pages as sent. Only what was read on the primary is kept: a read standby
+ * may not yet have replayed the change that dropped an entry.
+ */
+interface RegisterCaches {
+  counts: ChangeCache<number>
+  pages: ChangeCache<RegisterPage>
+  /** Pages being loaded, shared by requests for the same page that arrive meanwhile (same generation only). */
+  loading: Map<string, { generation: number; page: Promise<RegisterPage> }>
+}
+const PAGE_CACHE_MS = 2 * 60_000
+const PAGE_CACHE_ENTRIES = 500
+const registerCaches = new WeakMap<object, RegisterCaches>()
+function registerCachesOf(deps: AppDeps): RegisterCaches {
+  let caches = registerCaches.get(deps.pool)
+  if (!caches) {
+    const feed = changeFeedOf(deps.pool)
+    const made: RegisterCaches = {
+      counts: new ChangeCache<number>(feed, 5 * 60_000, 1000),
+      pages: new ChangeCache<RegisterPage>(feed, PAGE_CACHE_MS, PAGE_CACHE_ENTRIES),
+      loading: new Map(),
+    }
+    feed?.subscribe((change) => {
+      if (change === '*' || change === 'register') {
+        made.counts.drop()
+        made.pages.drop()
+        made.loading.clear()
+      }
+    })
+    registerCaches.set(deps.pool, made)
+    caches = made
+  }
+  return caches
+}
+
+/** True when `deps.db` is the read standby's (onReadStandby), whose answers the caches must not keep. */
+const onStandby = (deps: AppDeps) => !!deps.readStandby && deps.db === deps.readStandby.db
 
 /** Keyset paging needs one sort column without empty values. */
 const KEYSET_UNSUITED = ['sil', 'priority', 'testDueDate']
@@ -89,14 +122,17 @@ function cursorOf(value: unknown, id: number): string {
 
 /**
  * The register page: only the user's sites; `total` stops counting at 10,000 (`totalCapped`). A single-field sort also
- * answers `nextCursor` for keyset paging. `view=row` answers the register screen's rows as JSON text built by
- * PostgreSQL (the router sends it as it is); the default answers whole limits.
+ * answers `nextCursor` for keyset paging. `view=row` answers the register screen's page as JSON text built by
+ * PostgreSQL (the router sends it as it is), kept per process until the register changes; the default answers whole
+ * limits.
  */
 export async function listRegister(
   deps: AppDeps,
   user: CurrentUser | null,
   q: LimitQuery,
-): Promise<{ json: string } | { items: Limit[]; total: number; totalCapped: boolean; nextCursor: string | null }> {
+): Promise<
+  { page: RegisterPage } | { items: Limit[]; total: number; totalCapped: boolean; nextCursor: string | null }
+> {
   const f = filtersOf(user, q)
   const sort = parseSort(q.sort, Object.keys(repo.LIMIT_SORT_COLUMNS)) as {
     field: repo.LimitSortField
@@ -106,27 +142,45 @@ export async function listRegister(
   if (after && (sort.length > 1 || KEYSET_UNSUITED.includes(sort[0]?.field ?? '')))
     throw validationFailed({ cursor: ['Cursor paging works with one sort column without empty values'] })
   const page = { limit: q.pageSize, offset: after ? undefined : (q.page - 1) * q.pageSize, after }
-  const counts = countCacheOf(deps)
+  const caches = registerCachesOf(deps)
+  const keep = !onStandby(deps)
   const countKey = JSON.stringify(f)
-  const counted = counts.get(countKey)
-  const gen = counts.mark()
+  const counted = caches.counts.get(countKey)
+  const gen = caches.counts.mark()
   const count = async () => {
     if (counted !== undefined) return counted
     const n = await repo.countLimits(deps.db, f, COUNT_CAP)
-    counts.set(countKey, n, gen)
+    if (keep) caches.counts.set(countKey, n, gen)
     return n
   }
   // keyset paging needs a sort column without nulls
   const single =
     sort.length <= 1 && !KEYSET_UNSUITED.includes(sort[0]?.field ?? 'tag') ? (sort[0]?.field ?? 'tag') : null
   if (q.view === 'row') {
-    const [rows, total] = await Promise.all([repo.listRegisterRows(deps.db, f, sort, page), count()])
-    const last = rows[rows.length - 1]
-    const nextCursor = single && last && rows.length === q.pageSize ? cursorOf(last.sort_value, last.id) : null
-    return {
-      json:
+    const load = async () => {
+      const [rows, total] = await Promise.all([repo.listRegisterRows(deps.db, f, sort, page), count()])
+      const last = rows[rows.length - 1]
+      const nextCursor = single && last && rows.length === q.pageSize ? cursorOf(last.sort_value, last.id) : null
+      return registerPage(
         `{"items":[${rows.map((r) => r.json).join(',')}],"total":${Math.min(total, COUNT_CAP)},` +
-        `"totalCapped":${total > COUNT_CAP},"nextCursor":${JSON.stringify(nextCursor)}}`,
+          `"totalCapped":${total > COUNT_CAP},"nextCursor":${JSON.stringify(nextCursor)}}`,
+      )
+    }
+    if (!keep) return { page: await load() }
+    const key = JSON.stringify([f, sort, page])
+    const hit = caches.pages.get(key)
+    if (hit) return { page: hit }
+    const generation = caches.pages.mark()
+    const pending = caches.loading.get(key)
+    if (pending && pending.generation === generation) return { page: await pending.page }
+    const loading = load()
+    caches.loading.set(key, { generation, page: loading })
+    try {
+      const loaded = await loading
+      caches.pages.set(key, loaded, generation)
+      return { page: loaded }
+    } finally {
+      if (caches.loading.get(key)?.page === loading) caches.loading.delete(key)
     }
   }
   const [rows, total] = await Promise.all([repo.listLimits(deps.db, f, sort, page), count()])
