@@ -3,6 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
+import { countRows } from './helpers/factories.ts'
 
 const ctx = useTestDb()
 let app: Express
@@ -36,15 +37,7 @@ async function finished(a: ApiAgent, id: number) {
 }
 
 async function counts() {
-  const n = async (t: 'alarm_event' | 'alarm_journal_upload') =>
-    Number(
-      (
-        await ctx.db
-          .selectFrom(t)
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
+  const n = async (t: 'alarm_event' | 'alarm_journal_upload') => countRows(ctx.db, t)
   return { events: await n('alarm_event'), uploads: await n('alarm_journal_upload') }
 }
 

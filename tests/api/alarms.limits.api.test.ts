@@ -3,6 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
+import { countRows } from './helpers/factories.ts'
 
 // upload size limit set low for this file (ALARM_UPLOAD_MAX_MB = 0.01, i.e. 10,485 bytes)
 const ctx = useTestDb({ env: { ALARM_UPLOAD_MAX_MB: '0.01' } })
@@ -38,15 +39,9 @@ describe('upload size limits', () => {
       .attach('file', Buffer.from(body), 'big.csv')
       .expect(413)
     expect(r.body.error.message).toMatch(/larger than 0.01 MB/)
-    const n = await ctx.db
-      .selectFrom('alarm_journal_upload')
-      .select((eb) => eb.fn.countAll<number>().as('n'))
-      .executeTakeFirstOrThrow()
-    const m = await ctx.db
-      .selectFrom('process_data_upload')
-      .select((eb) => eb.fn.countAll<number>().as('n'))
-      .executeTakeFirstOrThrow()
-    expect([Number(n.n), Number(m.n)]).toEqual([0, 0])
+    expect([await countRows(ctx.db, 'alarm_journal_upload'), await countRows(ctx.db, 'process_data_upload')]).toEqual([
+      0, 0,
+    ])
   })
   it('accepts a file just under the limit', async () => {
     const body = rows(300)

@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // sessions outlive the 2-hour clock move of the overdue test
@@ -16,13 +16,7 @@ let tech: ApiAgent
 let fixture: Awaited<ReturnType<typeof buildHeaterTrip>>
 let alarm: { id: number; tag: string }
 
-async function stateCount() {
-  const r = await ctx.db
-    .selectFrom('alarm_state')
-    .select((eb) => eb.fn.countAll<number>().as('n'))
-    .executeTakeFirstOrThrow()
-  return Number(r.n)
-}
+const stateCount = () => countRows(ctx.db, 'alarm_state')
 
 beforeAll(async () => {
   app = createApp(ctx, { serveClient: false })

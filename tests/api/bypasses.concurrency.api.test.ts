@@ -4,7 +4,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE, countActionEvents } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -119,15 +119,7 @@ describe('bypass: removal on record (IEC 61511-1 16.2 bypasses logged; removing 
     await as.operator.post(`/api/bypasses/${id}/activation`, ACTIVATE).expect(200)
     const snapshot = async () => ({
       row: await ctx.db.selectFrom('bypass').selectAll().where('id', '=', id).executeTakeFirstOrThrow(),
-      audit: Number(
-        (
-          await ctx.db
-            .selectFrom('audit_event')
-            .select((eb) => eb.fn.countAll<number>().as('n'))
-            .where('action', 'not like', 'session.%')
-            .executeTakeFirstOrThrow()
-        ).n,
-      ),
+      audit: await countActionEvents(ctx.db),
     })
     const before = await snapshot()
     const cases: [Record<string, unknown>, string][] = [

@@ -4,7 +4,7 @@ import { createApp } from '../../server/app.ts'
 import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE, countActionEvents, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -74,20 +74,8 @@ async function atPlannedStart(b: { plannedStart: string }) {
 }
 
 async function written() {
-  const n = async (t: 'bypass' | 'signature' | 'mail_outbox') =>
-    Number(
-      (
-        await ctx.db
-          .selectFrom(t)
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
-  const audit = await ctx.db
-    .selectFrom('audit_event')
-    .select((eb) => eb.fn.countAll<number>().as('n'))
-    .where('action', 'not like', 'session.%')
-    .executeTakeFirstOrThrow()
+  const n = async (t: 'bypass' | 'signature' | 'mail_outbox') => countRows(ctx.db, t)
+  const audit = await countActionEvents(ctx.db)
   const states = await ctx.db
     .selectFrom('bypass')
     .select(['id', 'status', 'planned_end', 'updated_at'])
@@ -97,7 +85,7 @@ async function written() {
     bypasses: await n('bypass'),
     signatures: await n('signature'),
     mails: await n('mail_outbox'),
-    audit: Number(audit.n),
+    audit: audit,
     states,
   }
 }

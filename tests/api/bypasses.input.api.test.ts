@@ -5,7 +5,7 @@ import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
-import { heaterThermocouple, readyToImplement } from './helpers/factories.ts'
+import { heaterThermocouple, readyToImplement, countActionEvents, countRows } from './helpers/factories.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
 const ctx = useTestDb()
@@ -85,25 +85,13 @@ async function inService(o: Parameters<typeof buildLimit>[0] = {}) {
 }
 
 async function written() {
-  const n = async (t: 'bypass' | 'signature' | 'mail_outbox') =>
-    Number(
-      (
-        await ctx.db
-          .selectFrom(t)
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
-  const audit = await ctx.db
-    .selectFrom('audit_event')
-    .select((eb) => eb.fn.countAll<number>().as('n'))
-    .where('action', 'not like', 'session.%')
-    .executeTakeFirstOrThrow()
+  const n = async (t: 'bypass' | 'signature' | 'mail_outbox') => countRows(ctx.db, t)
+  const audit = await countActionEvents(ctx.db)
   return {
     bypasses: await n('bypass'),
     signatures: await n('signature'),
     mails: await n('mail_outbox'),
-    audit: Number(audit.n),
+    audit: audit,
   }
 }
 

@@ -4,7 +4,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -29,15 +29,7 @@ let limitId = 0
 
 /** Everything a bypass action writes (sign-in events excluded: signing in is not the action). */
 async function written() {
-  const count = async (table: 'signature' | 'mail_outbox') =>
-    Number(
-      (
-        await ctx.db
-          .selectFrom(table)
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
+  const count = async (table: 'signature' | 'mail_outbox') => countRows(ctx.db, table)
   const audit = await ctx.db
     .selectFrom('audit_event')
     .select('action')

@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -53,11 +53,7 @@ async function written() {
     .select(['id', 'status', 'activated_at', 'planned_end'])
     .orderBy('id')
     .execute()
-  const sigs = await ctx.db
-    .selectFrom('signature')
-    .select((eb) => eb.fn.countAll<number>().as('n'))
-    .executeTakeFirstOrThrow()
-  return { audit: audit.map((a) => a.action), rows, signatures: Number(sigs.n) }
+  return { audit: audit.map((a) => a.action), rows, signatures: await countRows(ctx.db, 'signature') }
 }
 
 beforeAll(async () => {

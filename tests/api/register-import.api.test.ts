@@ -9,7 +9,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { REGISTER_COLUMNS, type RegisterColumnKey } from '../../shared/schemas/register-io.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
-import { readyToImplement } from './helpers/factories.ts'
+import { readyToImplement, countActionEvents, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -71,24 +71,13 @@ const commit = (a: ApiAgent, id: number) => a.post(`/api/imports/${id}/commit`)
 
 /** Audit events a request wrote (sign-in events are not the import's). */
 async function auditCount() {
-  const r = await ctx.db
-    .selectFrom('audit_event')
-    .select((eb) => eb.fn.countAll<number>().as('n'))
-    .where('action', 'not like', 'session.%')
-    .executeTakeFirstOrThrow()
-  return Number(r.n)
+  const r = await countActionEvents(ctx.db)
+  return r
 }
 
 async function registerCounts() {
   const count = async (t: 'limit_function' | 'instrument' | 'process' | 'limit_revision' | 'instrument_revision') =>
-    Number(
-      (
-        await ctx.db
-          .selectFrom(t)
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
+    countRows(ctx.db, t)
   return {
     limits: await count('limit_function'),
     instruments: await count('instrument'),
@@ -188,37 +177,17 @@ describe('POST /api/imports (dry run)', () => {
   })
 
   it('refuses users who may not import (approver, operator) with 403 and stores nothing', async () => {
-    const batches = (
-      await ctx.db
-        .selectFrom('import_batch')
-        .select((eb) => eb.fn.countAll<number>().as('n'))
-        .executeTakeFirstOrThrow()
-    ).n
+    const batches = await countRows(ctx.db, 'import_batch')
     for (const who of ['approver', 'operator', 'auditor']) {
       const a = await signedIn(app, who)
       const res = await upload(a, csv([row(21)]), { siteId: fhr }).expect(403)
       expect(res.body.error.code).toBe('FORBIDDEN')
     }
-    expect(
-      (
-        await ctx.db
-          .selectFrom('import_batch')
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    ).toBe(batches)
+    expect(await countRows(ctx.db, 'import_batch')).toBe(batches)
   })
 
   it('refuses a file that is neither CSV nor XLSX, judged by its content and not its name', async () => {
-    const batches = async () =>
-      Number(
-        (
-          await ctx.db
-            .selectFrom('import_batch')
-            .select((eb) => eb.fn.countAll<number>().as('n'))
-            .executeTakeFirstOrThrow()
-        ).n,
-      )
+    const batches = async () => countRows(ctx.db, 'import_batch')
     const before = await batches()
     const png = Buffer.concat([Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]), Buffer.alloc(64, 7)])
     const a = await upload(eng, png, { siteId: fhr, fileName: 'register.csv' }).expect(400)

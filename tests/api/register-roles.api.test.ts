@@ -3,7 +3,7 @@ import pg from 'pg'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
-import { heaterThermocouple } from './helpers/factories.ts'
+import { heaterThermocouple, countActionEvents, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -63,19 +63,8 @@ function limitBody(processId: number, instrumentId: number, tag: string) {
 /** Everything a register write would change. */
 async function snapshot() {
   const count = async (t: 'process' | 'instrument' | 'limit_function' | 'limit_revision' | 'instrument_revision') =>
-    Number(
-      (
-        await ctx.db
-          .selectFrom(t)
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
-  const audit = await ctx.db
-    .selectFrom('audit_event')
-    .select((eb) => eb.fn.countAll<number>().as('n'))
-    .where('action', 'not like', 'session.%')
-    .executeTakeFirstOrThrow()
+    countRows(ctx.db, t)
+  const audit = await countActionEvents(ctx.db)
   const limits = await ctx.db
     .selectFrom('limit_function')
     .select(['id', 'revision', 'setpoint', 'status'])
@@ -93,7 +82,7 @@ async function snapshot() {
     limits: await count('limit_function'),
     limitRevisions: await count('limit_revision'),
     instrumentRevisions: await count('instrument_revision'),
-    audit: Number(audit.n),
+    audit: audit,
     rows: { limits, instruments, processes },
   }
 }

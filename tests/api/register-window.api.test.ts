@@ -3,6 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
+import { countActionEvents, countRows } from './helpers/factories.ts'
 
 const ctx = useTestDb()
 
@@ -63,25 +64,13 @@ const alarm = { limitClass: 'alarm', responseTimeMin: 10, severity: 'major' }
 // a low trip on an upscale-burnout sensor warns (rule 8): tests of other rules on low trips record a bad-value trip
 
 async function counts() {
-  const n = async (t: 'limit_function' | 'limit_revision' | 'instrument_revision') =>
-    Number(
-      (
-        await ctx.db
-          .selectFrom(t)
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
-  const audit = await ctx.db
-    .selectFrom('audit_event')
-    .select((eb) => eb.fn.countAll<number>().as('n'))
-    .where('action', 'not like', 'session.%')
-    .executeTakeFirstOrThrow()
+  const n = async (t: 'limit_function' | 'limit_revision' | 'instrument_revision') => countRows(ctx.db, t)
+  const audit = await countActionEvents(ctx.db)
   return {
     limits: await n('limit_function'),
     limitRevisions: await n('limit_revision'),
     instrumentRevisions: await n('instrument_revision'),
-    audit: Number(audit.n),
+    audit: audit,
   }
 }
 

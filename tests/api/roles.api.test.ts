@@ -3,6 +3,7 @@ import type { Express } from 'express'
 import { createApp } from '../../server/app.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
+import { countActionEvents, countRows } from './helpers/factories.ts'
 
 const ctx = useTestDb()
 
@@ -122,20 +123,8 @@ const CALLS: Call[] = [
 
 /** Row counts that a forbidden call must leave alone; sign-in/out events are not counted (they are not the call's). */
 async function snapshot() {
-  const count = async (t: 'app_user' | 'site' | 'area' | 'role_assignment' | 'mail_outbox') =>
-    (
-      await ctx.db
-        .selectFrom(t)
-        .select((eb) => eb.fn.countAll<number>().as('n'))
-        .executeTakeFirstOrThrow()
-    ).n
-  const audit = (
-    await ctx.db
-      .selectFrom('audit_event')
-      .select((eb) => eb.fn.countAll<number>().as('n'))
-      .where('action', 'not like', 'session.%')
-      .executeTakeFirstOrThrow()
-  ).n
+  const count = async (t: 'app_user' | 'site' | 'area' | 'role_assignment' | 'mail_outbox') => countRows(ctx.db, t)
+  const audit = await countActionEvents(ctx.db)
   const users = await ctx.db
     .selectFrom('app_user')
     .select(['id', 'display_name', 'active', 'updated_at'])

@@ -6,7 +6,7 @@ import canonicalize from 'canonicalize'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { seedDemoShiftHandover } from '../../server/seed/demo-shift-handover.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -80,15 +80,7 @@ let bypassId = 0
 let changeId = 0
 
 async function handoverWrites() {
-  const n = async (t: 'shift_handover' | 'signature') =>
-    Number(
-      (
-        await ctx.db
-          .selectFrom(t)
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
+  const n = async (t: 'shift_handover' | 'signature') => countRows(ctx.db, t)
   const audit = await ctx.db
     .selectFrom('audit_event')
     .select('action')

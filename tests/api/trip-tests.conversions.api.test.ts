@@ -4,6 +4,7 @@ import { createApp } from '../../server/app.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
+import { countRows } from './helpers/factories.ts'
 
 // The server converts an as-found reading in signal units into engineering units before judging it. Each check names
 // the published value it compares with (IEC 60751, the 4–20 mA scaling relations, NIST SRD 60 ITS-90 tables).
@@ -203,14 +204,7 @@ describe('4–20 mA readings (linear and square-root scaling; NAMUR NE 43 bands)
 
   it('refuses a reading in a unit the instrument has no signal in (422), writing nothing', async () => {
     const id = await activeTrip(loop('bar', 0, 10), { setpoint: 5 })
-    const before = Number(
-      (
-        await ctx.db
-          .selectFrom('trip_test')
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
+    const before = await countRows(ctx.db, 'trip_test')
     const res = await tech
       .post('/api/trip-tests', {
         limitId: id,
@@ -224,16 +218,7 @@ describe('4–20 mA readings (linear and square-root scaling; NAMUR NE 43 bands)
       })
       .expect(422)
     expect(res.body.error.details.fields.asFoundSignal).toHaveLength(1)
-    expect(
-      Number(
-        (
-          await ctx.db
-            .selectFrom('trip_test')
-            .select((eb) => eb.fn.countAll<number>().as('n'))
-            .executeTakeFirstOrThrow()
-        ).n,
-      ),
-    ).toBe(before)
+    expect(await countRows(ctx.db, 'trip_test')).toBe(before)
   })
 })
 

@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -47,15 +47,7 @@ const body = (over: Record<string, unknown> = {}, precautions: Record<string, un
   ...over,
 })
 
-const count = async () =>
-  Number(
-    (
-      await ctx.db
-        .selectFrom('trip_test')
-        .select((eb) => eb.fn.countAll<number>().as('n'))
-        .executeTakeFirstOrThrow()
-    ).n,
-  )
+const count = async () => countRows(ctx.db, 'trip_test')
 
 beforeAll(async () => {
   ctx.clock.set('2026-04-14T09:00:00Z')

@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, countActionEvents, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -24,19 +24,8 @@ let silLimitId = 0
 /** Row counts of everything recording or signing a trip test writes (sign-ins excluded). */
 async function written() {
   const count = async (table: 'trip_test' | 'signature' | 'attachment' | 'limit_degradation' | 'mail_outbox') =>
-    Number(
-      (
-        await ctx.db
-          .selectFrom(table)
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
-  const audit = await ctx.db
-    .selectFrom('audit_event')
-    .select((eb) => eb.fn.countAll<number>().as('n'))
-    .where('action', 'not like', 'session.%')
-    .executeTakeFirstOrThrow()
+    countRows(ctx.db, table)
+  const audit = await countActionEvents(ctx.db)
   const tests = await ctx.db.selectFrom('trip_test').select(['id', 'status', 'content_hash']).orderBy('id').execute()
   return {
     tests: await count('trip_test'),
@@ -44,7 +33,7 @@ async function written() {
     attachments: await count('attachment'),
     degradations: await count('limit_degradation'),
     mails: await count('mail_outbox'),
-    auditEvents: Number(audit.n),
+    auditEvents: audit,
     states: tests,
   }
 }

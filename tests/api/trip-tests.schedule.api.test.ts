@@ -9,6 +9,7 @@ import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
+import { countRows } from './helpers/factories.ts'
 
 // Due dates on the API (docs/domain/due-dates.md): calendar months clamped to month end, dates in the site's time zone
 // (Fernhollow Refinery: Europe/Berlin), grace, late and overdue; the weekly digest (Monday from 07:00 site time,
@@ -270,14 +271,7 @@ describe("the weekly digest (Monday from 07:00 in each site's time zone, once pe
     await at('2026-03-17T09:00:00Z')
     const count = async () => ({
       mails: (await digestMails()).length,
-      log: Number(
-        (
-          await ctx.db
-            .selectFrom('digest_log')
-            .select((eb) => eb.fn.countAll<number>().as('n'))
-            .executeTakeFirstOrThrow()
-        ).n,
-      ),
+      log: await countRows(ctx.db, 'digest_log'),
     })
     const before = await count()
     for (const k of ['eng', 'tech', 'manager', 'approver'] as const)

@@ -1,10 +1,30 @@
 import type { Db } from '../../../server/db/index.ts'
+import type { Database } from '../../../server/db/schema.ts'
 import { DEMO_PASSWORD } from '../../../server/seed/demo.ts'
 import type { ApiAgent } from './agent.ts'
 import { IMPACT_CHECKLIST } from '../../../shared/schemas/change-requests.ts'
 
 let seq = 0
 const next = () => `${process.pid % 1000}-${++seq}`
+
+/** How many rows a table holds. */
+export async function countRows(db: Db, table: keyof Database): Promise<number> {
+  const r = await db
+    .selectFrom(table)
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .executeTakeFirstOrThrow()
+  return Number(r.n)
+}
+
+/** How many audit events there are besides sign-in and sign-out (signing in is not the action a test checks). */
+export async function countActionEvents(db: Db): Promise<number> {
+  const r = await db
+    .selectFrom('audit_event')
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .where('action', 'not like', 'session.%')
+    .executeTakeFirstOrThrow()
+  return Number(r.n)
+}
 
 /** The body of a type K thermocouple on a fired heater: range 0–1200 °C, normal 300–650 °C, design 900 °C, upscale burnout. */
 export function heaterThermocouple(processId: number, tag: string) {
@@ -218,20 +238,8 @@ export async function rowCounts(db: Db) {
       | 'instrument_revision'
       | 'attachment'
       | 'mail_outbox',
-  ) =>
-    Number(
-      (
-        await db
-          .selectFrom(table)
-          .select((eb) => eb.fn.countAll<number>().as('n'))
-          .executeTakeFirstOrThrow()
-      ).n,
-    )
-  const audit = await db
-    .selectFrom('audit_event')
-    .select((eb) => eb.fn.countAll<number>().as('n'))
-    .where('action', 'not like', 'session.%')
-    .executeTakeFirstOrThrow()
+  ) => countRows(db, table)
+  const audit = await countActionEvents(db)
   const signatureAttempts = await db
     .selectFrom('sign_in_attempt')
     .select((eb) => eb.fn.countAll<number>().as('n'))
@@ -252,7 +260,7 @@ export async function rowCounts(db: Db) {
     instrumentRevisions: await count('instrument_revision'),
     attachments: await count('attachment'),
     mails: await count('mail_outbox'),
-    auditEvents: Number(audit.n),
+    auditEvents: audit,
     signatureAttempts: Number(signatureAttempts.n),
     states,
   }
