@@ -19,6 +19,7 @@ import {
   createProcessesRouter,
 } from './features/register/register.router.ts'
 import { createImportsRouter } from './features/register/imports.router.ts'
+import { createHistoryImportsRouter } from './features/history/history-import.router.ts'
 import { createChangeRequestsRouter } from './features/change-requests/change-requests.router.ts'
 import {
   createDegradationRouter,
@@ -135,6 +136,7 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/bypass-review', createBypassReviewRouter(deps))
   api.use('/shift-handovers', createShiftHandoverRouter(deps))
   api.use('/imports', createImportsRouter(deps))
+  api.use('/history-imports', createHistoryImportsRouter(deps))
   api.use('/change-requests', createChangeRequestsRouter(deps))
   api.use('/audit-events', createAuditRouter(deps))
   api.use('/demands', createDemandsRouter(deps))

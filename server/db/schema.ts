@@ -264,6 +264,8 @@ export interface ImportBatchTable {
   status: Generated<string>
   created_at: Timestamp
   committed_at: Timestamp | null
+  /** a register file or a history file (docs/trip-tests.md#history-import) */
+  kind: Generated<'register' | 'history'>
 }
 export interface ImportMappingTable {
   user_id: number
@@ -408,6 +410,11 @@ export interface TripTestTable {
   recorded_by: number
   created_at: Timestamp
   updated_at: Timestamp
+  /** 'imported': brought from a former system by a history import (import_batch_id names it) */
+  source: Generated<'recorded' | 'imported'>
+  import_batch_id: number | null
+  /** the tester of an imported test, as the file names them */
+  tester_name: string | null
 }
 export interface LimitDegradationTable {
   id: Generated<number>
@@ -482,6 +489,9 @@ export interface BypassTable {
   last_escalation_at: Timestamp | null
   created_at: Timestamp
   updated_at: Timestamp
+  /** 'imported': brought from a former system by a history import (import_batch_id names it) */
+  source: Generated<'recorded' | 'imported'>
+  import_batch_id: number | null
 }
 export interface HandoverAckTable {
   id: Generated<number>

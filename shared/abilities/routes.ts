@@ -44,6 +44,9 @@ export const ROUTE_ACCESS: Record<string, RouteAccess> = {
   'DELETE /api/limits/:id': { roles: ENGINEER, otherSite: 'missing' },
   'POST /api/imports': { roles: ENGINEER, otherSite: 403 },
   'POST /api/imports/:id/commit': { roles: ENGINEER, otherSite: 'missing' },
+  // the history import (last tests, commissioning dates, past bypasses): who imports the register
+  'POST /api/history-imports': { roles: ENGINEER, otherSite: 403 },
+  'POST /api/history-imports/:id/commit': { roles: ENGINEER, otherSite: 'missing' },
 
   // degraded functions and test deferrals (docs/trip-tests.md)
   'POST /api/limits/:id/degradation': { roles: ['shift_supervisor'], otherSite: 'missing' },

@@ -59,6 +59,11 @@ export interface DueDateInput {
    * while the due date computed from the tests is still originalDueDate. No grace runs past a deferred date.
    */
   deferral?: { originalDueDate: string; newDueDate: string } | null
+  /**
+   * The limit's commissioning (validation) date, 'YYYY-MM-DD', or null. Without a passing full test the first test
+   * falls due an interval after it, and "never tested" counts from it (docs/domain/due-dates.md#never-tested).
+   */
+  commissionedOn?: string | null
   /** IANA zone of the site, e.g. 'Europe/Berlin'. */
   timeZone: string
   now: Date
@@ -88,7 +93,7 @@ export interface DueDateResult {
   graceDays: number
   today: string
   status: TestDueStatus
-  /** Calendar days from today to the due date; negative once past; null without a passing full test. */
+  /** Calendar days from today to the due date; negative once past; null without a passing full test or commissioning date. */
   daysUntilDue: number | null
   lateTests: LateTest[]
   /** The due date without the deferral, when an approved deferral moved it; else null. */
@@ -189,7 +194,10 @@ export function computeDueDates(input: DueDateInput): DueDateResult {
     if (t.passed) lastPass = day
   }
 
-  if (lastPass === null) {
+  // without a passing full test, the commissioning (validation) date starts the first interval
+  const commissioned = input.commissionedOn ? parseDay(input.commissionedOn) : null
+  const anchor = lastPass ?? commissioned
+  if (anchor === null) {
     return {
       lastFullPass: null,
       dueDate: null,
@@ -204,16 +212,20 @@ export function computeDueDates(input: DueDateInput): DueDateResult {
     }
   }
 
-  const computedDue = addMonths(lastPass, months)
+  const computedDue = addMonths(anchor, months)
   const deferral = input.deferral ?? null
   const deferred = deferral !== null && deferral.originalDueDate === iso(computedDue)
   const due = deferred ? parseDay(deferral.newDueDate) : computedDue
   const graceEnd = deferred ? due : addDays(due, graceDays)
   const daysUntilDue = differenceInCalendarDays(due, today)
   const daysUntilGraceEnd = differenceInCalendarDays(graceEnd, today)
+  // past its first due date and grace with no passing test, a commissioned limit is still "never tested" (which
+  // counts as overdue everywhere, shared/domain/rules/trip-tests.ts)
   const status: TestDueStatus =
     daysUntilGraceEnd < 0
-      ? 'overdue'
+      ? lastPass === null
+        ? 'never_tested'
+        : 'overdue'
       : daysUntilDue < 0
         ? 'in_grace'
         : daysUntilDue <= dueSoonDays(months)
@@ -221,7 +233,7 @@ export function computeDueDates(input: DueDateInput): DueDateResult {
           : 'ok'
 
   return {
-    lastFullPass: iso(lastPass),
+    lastFullPass: lastPass === null ? null : iso(lastPass),
     dueDate: iso(due),
     graceEnd: iso(graceEnd),
     graceDays,

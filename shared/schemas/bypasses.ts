@@ -130,6 +130,8 @@ export interface BypassDto {
     contentHash: string
   }[]
   createdAt: string
+  /** 'imported': a past bypass brought from a former system by a history import (docs/trip-tests.md#history-import) */
+  source: 'recorded' | 'imported'
   /** The server's time when it answered: screens judge the rules on the server's clock. */
   asOf: string
 }

@@ -20,18 +20,21 @@ export const IMPORT_REQUIRED_COLUMNS = [
   'tag',
 ] as const satisfies readonly RegisterColumnKey[]
 
+/** A mapping of file headers to the column keys of a layout; an empty string ignores that column. */
+export function columnMappingSchema<K extends string>(keys: readonly [K, ...K[]], layout: string) {
+  return z
+    .record(
+      z.string().trim().min(1).max(200),
+      z.union([z.enum(keys, `Map each header to a column key of the ${layout}, or to "" to ignore it`), z.literal('')]),
+    )
+    .refine((m) => Object.keys(m).length <= 500, 'A mapping holds at most 500 headers')
+}
+
 /** File header → column key; an empty string ignores that column. */
-export const ImportMappingSchema = z
-  .record(
-    z.string().trim().min(1).max(200),
-    z.union([
-      z.enum(REGISTER_COLUMN_KEYS, 'Map each header to a column key of the register file, or to "" to ignore it'),
-      z.literal(''),
-    ]),
-  )
-  .refine((m) => Object.keys(m).length <= 500, 'A mapping holds at most 500 headers')
+export const ImportMappingSchema = columnMappingSchema(REGISTER_COLUMN_KEYS, 'register file')
 export type ImportMapping = z.infer<typeof ImportMappingSchema>
 
+/** A multipart form field holding JSON (the mapping). */
 const jsonText = z
   .string()
   .max(50_000)
@@ -44,15 +47,20 @@ const jsonText = z
     }
   })
 
-/** The text fields sent with the file (multipart form fields are strings). */
-export const ImportUploadFieldsSchema = z.object({
-  siteId: IdSchema,
-  mapping: jsonText.pipe(ImportMappingSchema).optional(),
-  dryRun: z
-    .enum(['true', 'false'], 'dryRun is true or false')
-    .default('true')
-    .transform((v) => v === 'true'),
-})
+/** The text fields sent with an import's file (multipart form fields are strings), for a layout's mapping schema. */
+export function uploadFieldsSchema<M extends z.ZodType>(mapping: M) {
+  return z.object({
+    siteId: IdSchema,
+    mapping: jsonText.pipe(mapping).optional(),
+    dryRun: z
+      .enum(['true', 'false'], 'dryRun is true or false')
+      .default('true')
+      .transform((v) => v === 'true'),
+  })
+}
+
+/** The text fields sent with the register file. */
+export const ImportUploadFieldsSchema = uploadFieldsSchema(ImportMappingSchema)
 export type ImportUploadFields = z.infer<typeof ImportUploadFieldsSchema>
 
 export const IMPORT_ACTIONS = ['create', 'update', 'unchanged'] as const

@@ -365,6 +365,9 @@ export interface ChannelResultDto {
   passed: boolean
 }
 
+/** Where a test record comes from: recorded in Limitkeeper, or imported from a former system. */
+export type TripTestSource = 'recorded' | 'imported'
+
 export interface TripTestListItem {
   id: number
   limitId: number
@@ -383,6 +386,10 @@ export interface TripTestListItem {
   setpoint: number
   toleranceEu: number
   recordedBy: string
+  /** 'imported': brought from a former system by a history import (docs/trip-tests.md#history-import) */
+  source: TripTestSource
+  /** the tester an imported test names (text; null for a test recorded here) */
+  testerName: string | null
 }
 export interface TripTestList {
   items: TripTestListItem[]
@@ -486,6 +493,12 @@ export interface TripTestDto {
   contentHash: string
   recordedById: number
   recordedBy: string
+  /** 'imported': brought from a former system by a history import (docs/trip-tests.md#history-import) */
+  source: TripTestSource
+  /** the tester an imported test names (text; null for a test recorded here) */
+  testerName: string | null
+  /** the history import that brought it (its file name and SHA-256 are in the audit trail) */
+  importBatchId: number | null
   signatures: {
     id: number
     userId: number

@@ -182,6 +182,7 @@ function toDto(
       contentHash: s.content_hash,
     })),
     createdAt: r.created_at.toISOString(),
+    source: r.source,
     asOf: now.toISOString(),
   }
 }

@@ -372,6 +372,8 @@ export async function setDemandAssumptions(
       commissionedAt: input.commissionedAt,
       now,
     })
+    // the commissioning date starts the first test interval of a limit never tested (docs/domain/due-dates.md)
+    await refreshTestSchedule(trx, limitId, now)
     await appendAudit(trx, deps.clock, ctx, {
       action: 'limit.demand_assumptions',
       entityType: 'Limit',

@@ -41,14 +41,15 @@ export const receiveFile: RequestHandler = (req, res, next) => {
   upload(req, res, (err: unknown) => next(err ? uploadError(err) : undefined))
 }
 
+/** Refuses users who may import nowhere before reading up to 5 MB of their upload. */
+export const mayImport: RequestHandler = (req, _res, next) => {
+  authorize(req.ability, 'import', 'Limit')
+  next()
+}
+
 /** `/api/imports`: upload a register file for a dry run (`POST /`), then commit the batch (`POST /:id/commit`). */
 export function createImportsRouter(deps: AppDeps) {
   const router = Router()
-  // refuse users who may import nowhere before reading up to 5 MB of their upload
-  const mayImport: RequestHandler = (req, _res, next) => {
-    authorize(req.ability, 'import', 'Limit')
-    next()
-  }
 
   router.post('/', mayImport, receiveFile, async (req, res) => {
     if (!req.file)

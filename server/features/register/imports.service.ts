@@ -1,15 +1,10 @@
-import { createHash, randomUUID } from 'node:crypto'
-import { Readable } from 'node:stream'
+import { randomUUID } from 'node:crypto'
 import canonicalize from 'canonicalize'
-import ExcelJS from 'exceljs'
 import { sql, type Transaction } from 'kysely'
-import Papa from 'papaparse'
-import { unneutraliseCell } from '../../csv.ts'
 import { ZodError, type z } from 'zod'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import {
-  IMPORT_MAX_BYTES,
   IMPORT_MAX_ROWS,
   IMPORT_REQUIRED_COLUMNS,
   type ImportAction,
@@ -46,6 +41,16 @@ import { applyLimitDefinition, insertLimit, lockLimit } from './limits.service.t
 import { findInstrumentIdsByLimitIds } from './limits.repository.ts'
 import { toInstrument, toLimit, toProcess } from './register.mappers.ts'
 import { badFile, normHeader, resolveColumnMapping } from './column-mapping.ts'
+import {
+  checkTableShape,
+  fileChecksum,
+  inRolledBackTransaction,
+  readTable,
+  type RowProblem,
+  safeFileName,
+  type StoredRow as FileRow,
+  toStoredRows,
+} from './import-file.ts'
 
 // The register import: a CSV or XLSX file in the register file layout (shared/schemas/register-io.ts) is read,
 // mapped to column keys, checked in a transaction that is rolled back (dry run), stored as a batch, and committed
@@ -55,198 +60,24 @@ type Trx = Transaction<Database>
 type Cells = Partial<Record<RegisterColumnKey, string>>
 type InstrumentDto = Awaited<ReturnType<typeof lockInstrument>>
 
-/** A problem of one row before it is numbered: `field` is a column key, or `_row` for the whole row. */
-interface RowProblem {
-  field: string
-  message: string
-}
-
-/** A data row as stored in the batch: its spreadsheet row number, its cells by column key, problems of its shape. */
-interface StoredRow {
-  row: number
-  cells: Cells
-  problems: RowProblem[]
-}
-
-/** What the file looked like: header cells and the data rows with their spreadsheet row numbers. */
-interface FileTable {
-  headers: string[]
-  rows: { row: number; values: string[] }[]
-}
+type StoredRow = FileRow<RegisterColumnKey>
 
 const HEADER_OF = new Map<string, string>(REGISTER_COLUMNS.map((c) => [c.key, c.header]))
 const COLUMN_KEYS = new Set<string>(REGISTER_COLUMNS.map((c) => c.key))
 const header = (key: string) => HEADER_OF.get(key) ?? key
 
 export { badFile }
-
-// ---- reading the file ----
-
-export const ZIP_SIGNATURE = Buffer.from([0x50, 0x4b, 0x03, 0x04])
-export const OLE2_SIGNATURE = Buffer.from([0xd0, 0xcf, 0x11, 0xe0])
-/** Uncompressed size a workbook may unpack to (a 5 MB XLSX of text unpacks to well under this). */
-const XLSX_MAX_UNPACKED_BYTES = 200 * 1024 * 1024
-const MAX_COLUMNS = 200
-
-/** A refusal of a file with more data rows than one upload takes, as soon as the reader gets past the limit. */
-export const tooManyRows = (maxRows: number) =>
-  badFile(`The file has more than ${maxRows} data rows; one import takes at most ${maxRows}: split it, e.g. by area`)
-
-/**
- * Reads the file by its content: XLSX (ZIP signature) or UTF-8 CSV; anything else is refused. With `maxRows`, the
- * reader stops and refuses the file as soon as it meets one non-empty data row more than that (docs/security.md,
- * "Uploads"): a small file of a million rows costs the rows up to the limit, not a million.
- */
-export async function readTable(buffer: Buffer, opts: { maxRows?: number } = {}): Promise<FileTable> {
-  if (buffer.length === 0) throw badFile('The file is empty')
-  if (buffer.length > IMPORT_MAX_BYTES) throw badFile(`The file is larger than ${IMPORT_MAX_BYTES / 1024 / 1024} MB`)
-  if (buffer.subarray(0, 4).equals(ZIP_SIGNATURE)) return readXlsx(buffer, opts.maxRows ?? Infinity)
-  if (buffer.subarray(0, 4).equals(OLE2_SIGNATURE))
-    throw badFile('This is an old Excel (.xls) workbook: save it as .xlsx or as CSV (UTF-8) and upload it again')
-  let text: string
-  try {
-    text = new TextDecoder('utf-8', { fatal: true }).decode(buffer)
-  } catch {
-    throw badFile(
-      'The file is neither an XLSX workbook nor CSV text in UTF-8: upload the register as .xlsx, or save the CSV as UTF-8',
-    )
-  }
-  for (let i = 0; i < text.length; i++) {
-    const c = text.charCodeAt(i)
-    if (c < 0x20 && c !== 0x09 && c !== 0x0a && c !== 0x0d)
-      throw badFile('The file holds binary data, not CSV text: upload the register as .xlsx or .csv')
-  }
-  return readCsv(text.replace(/^\uFEFF/, ''), opts.maxRows ?? Infinity)
-}
-
-/** Comma, semicolon or tab, whichever the header line holds most of. */
-export function guessDelimiter(text: string): string {
-  const first = text.slice(0, text.search(/\r?\n|$/))
-  const count = (d: string) => first.split(d).length - 1
-  return [',', ';', '\t'].reduce((best, d) => (count(d) > count(best) ? d : best), ',')
-}
-
-/**
- * Parses CSV text (no size cap: callers check the size first), record by record; more than `maxRows` non-empty data
- * rows stop the parser and refuse the file.
- */
-export function readCsv(text: string, maxRows = Infinity): FileTable {
-  const records: string[][] = []
-  let quote: Papa.ParseError | undefined
-  let filled = 0
-  let over = false
-  Papa.parse<string[]>(text, {
-    delimiter: guessDelimiter(text),
-    skipEmptyLines: false,
-    step: (r, parser) => {
-      quote ??= r.errors.find((e) => e.type === 'Quotes')
-      if (quote) return parser.abort()
-      if (records.length > 0 && r.data.some((v) => v.trim() !== '') && ++filled > maxRows) {
-        over = true
-        return parser.abort()
-      }
-      records.push(r.data)
-    },
-  })
-  if (quote)
-    throw badFile(
-      `Row ${records.length + 1}: ${quote.message}; a text cell that holds the delimiter or a line break needs double quotes around it`,
-    )
-  if (over) throw tooManyRows(maxRows)
-  const [head = [], ...data] = records
-  // a record is one spreadsheet row even when a quoted cell spans lines, so record index + 1 is the row number
-  return { headers: head.map((h) => h.trim()), rows: data.map((values, i) => ({ row: i + 2, values })) }
-}
-
-/** Sum of the uncompressed sizes in the ZIP central directory (Infinity for ZIP64); 0 when there is none to read. */
-export function unpackedSize(buf: Buffer): number {
-  const min = Math.max(0, buf.length - 65_557)
-  let eocd = -1
-  for (let i = buf.length - 22; i >= min; i--) {
-    if (buf.readUInt32LE(i) === 0x06054b50) {
-      eocd = i
-      break
-    }
-  }
-  if (eocd < 0) return 0
-  const entries = buf.readUInt16LE(eocd + 10)
-  let p = buf.readUInt32LE(eocd + 16)
-  let total = 0
-  for (let n = 0; n < entries; n++) {
-    if (p + 46 > buf.length || buf.readUInt32LE(p) !== 0x02014b50) return total
-    const size = buf.readUInt32LE(p + 24)
-    if (size === 0xffffffff) return Infinity
-    total += size
-    p += 46 + buf.readUInt16LE(p + 28) + buf.readUInt16LE(p + 30) + buf.readUInt16LE(p + 32)
-  }
-  return total
-}
-
-export function cellText(v: ExcelJS.CellValue): string {
-  if (v === null || v === undefined) return ''
-  if (typeof v === 'string') return v
-  if (typeof v === 'number') return String(v)
-  if (typeof v === 'boolean') return v ? 'yes' : 'no'
-  if (v instanceof Date) return v.toISOString().slice(0, 10)
-  if ('richText' in v) return v.richText.map((t) => t.text).join('')
-  if ('formula' in v || 'sharedFormula' in v) return cellText((v as { result?: ExcelJS.CellValue }).result ?? null)
-  if ('error' in v) return String(v.error)
-  if ('text' in v) return String(v.text)
-  return ''
-}
-
-/**
- * Reads the first worksheet with ExcelJS's streaming reader, row by row, never building the workbook in memory; more
- * than `maxRows` non-empty data rows stop the reader and refuse the file, so a small workbook of a million rows is
- * refused after the limit's worth of rows (docs/security.md, "Uploads"). Parsing goes in chunks between which the
- * server answers other requests.
- */
-async function readXlsx(buffer: Buffer, maxRows: number): Promise<FileTable> {
-  // a damaged directory is left to the workbook reader; a huge one is refused before anything is unpacked
-  if (unpackedSize(buffer) > XLSX_MAX_UNPACKED_BYTES)
-    throw badFile(
-      `The workbook unpacks to more than ${XLSX_MAX_UNPACKED_BYTES / 1024 / 1024} MB; upload the register as CSV or split it`,
-    )
-  const reader = new ExcelJS.stream.xlsx.WorkbookReader(Readable.from([buffer]), {
-    worksheets: 'emit',
-    sharedStrings: 'cache',
-    hyperlinks: 'ignore',
-    styles: 'cache', // number formats tell dates from numbers, as the whole-workbook reader did
-    entries: 'ignore',
-  })
-  let sheets = 0
-  let headers: string[] | null = null
-  let width = 0
-  const rows: FileTable['rows'] = []
-  try {
-    for await (const sheet of reader) {
-      sheets++
-      for await (const r of sheet) {
-        const row = r as ExcelJS.Row
-        const cells = row.values as ExcelJS.CellValue[]
-        const values = Array.from({ length: Math.max(width, cells.length - 1) }, (_, k) =>
-          cellText(cells[k + 1] ?? null),
-        )
-        if (row.number === 1) {
-          width = Math.min(values.length, MAX_COLUMNS + 1)
-          headers = values.slice(0, width).map((h) => h.trim())
-          continue
-        }
-        if (!values.some((v) => v !== '')) continue
-        if (rows.length >= maxRows) throw tooManyRows(maxRows)
-        rows.push({ row: row.number, values })
-      }
-      break // the first worksheet only
-    }
-  } catch (err) {
-    if (err instanceof AppError) throw err
-    throw badFile(
-      'The file starts like an XLSX workbook but cannot be opened as one: save it again from the spreadsheet program, or upload CSV (UTF-8)',
-    )
-  }
-  if (!sheets) throw badFile('The workbook has no worksheet')
-  return { headers: headers ?? [], rows }
-}
+// the file reader lives in import-file.ts, shared by every spreadsheet import; these names stay importable from here
+export {
+  cellText,
+  guessDelimiter,
+  OLE2_SIGNATURE,
+  readCsv,
+  readTable,
+  tooManyRows,
+  unpackedSize,
+  ZIP_SIGNATURE,
+} from './import-file.ts'
 
 // ---- mapping headers to column keys ----
 
@@ -262,26 +93,6 @@ function resolveMapping(headers: string[], explicit: ImportMapping | undefined, 
     remembered,
     'map its headers to the register columns, or start from an exported register file',
   )
-}
-
-function toStoredRows(table: FileTable, keys: (RegisterColumnKey | null)[]): StoredRow[] {
-  const rows: StoredRow[] = []
-  for (const { row, values } of table.rows) {
-    if (values.every((v) => v.trim() === '')) continue
-    const cells: Cells = {}
-    keys.forEach((k, i) => {
-      if (k) cells[k] = unneutraliseCell((values[i] ?? '').trim())
-    })
-    const problems: RowProblem[] = []
-    if (values.slice(table.headers.length).some((v) => v.trim() !== '')) {
-      problems.push({
-        field: '_row',
-        message: `The row has more cells than the header has columns (${table.headers.length}): a text cell that holds the delimiter needs double quotes`,
-      })
-    }
-    rows.push({ row, cells, problems })
-  }
-  return rows
 }
 
 // ---- cells to API inputs ----
@@ -1054,13 +865,6 @@ async function runRows(
   return { rows, errors, limitIds }
 }
 
-/** Thrown to roll the dry run's transaction back while carrying its outcome out. */
-class DryRunDone extends Error {
-  constructor(readonly outcome: RunOutcome) {
-    super('dry run')
-  }
-}
-
 function summarize(rows: ImportRowResult[]) {
   return {
     create: rows.filter((r) => r.action === 'create').length,
@@ -1104,30 +908,16 @@ export async function checkImport(
   const site = await siteFor(deps, fields.siteId)
   authorize(ability, 'import', 'Limit', { siteId: site.id })
   const table = await readTable(file.buffer, { maxRows: IMPORT_MAX_ROWS })
-  if (table.headers.length > MAX_COLUMNS)
-    throw badFile(`The file has ${table.headers.length} columns; the register file has ${REGISTER_COLUMNS.length}`)
-  if (table.headers.every((h) => !h)) throw badFile('Row 1 must hold the column headers')
+  checkTableShape(table, REGISTER_COLUMNS.length, 'register file')
   const remembered = await getRememberedMapping(deps, userId)
   const { keys, used, ignored } = resolveMapping(table.headers, fields.mapping, remembered)
-  const stored = toStoredRows(table, keys)
-  if (!stored.length) throw badFile('The file has headers but no data rows')
-  if (stored.length > IMPORT_MAX_ROWS)
-    throw badFile(
-      `The file has ${stored.length} data rows; one import takes at most ${IMPORT_MAX_ROWS}: split it, e.g. by area`,
-    )
-  const checksum = createHash('sha256').update(file.buffer).digest('hex')
-  const fileName = file.fileName.replace(/^.*[\\/]/, '').slice(0, 200) || 'upload'
+  const stored = toStoredRows(table, keys, IMPORT_MAX_ROWS)
+  const checksum = fileChecksum(file.buffer)
+  const fileName = safeFileName(file.fileName)
 
-  let outcome: RunOutcome
-  try {
-    await deps.db.transaction().execute(async (trx) => {
-      throw new DryRunDone(await runRows(trx, deps.clock, ctx, site, stored, undefined))
-    })
-    throw new Error('the dry run did not roll back')
-  } catch (err) {
-    if (!(err instanceof DryRunDone)) throw err
-    outcome = err.outcome
-  }
+  const outcome = await inRolledBackTransaction(deps.db, (trx) =>
+    runRows(trx, deps.clock, ctx, site, stored, undefined),
+  )
 
   const id = await deps.db.transaction().execute(async (trx) => {
     const now = deps.clock.now()
@@ -1192,7 +982,13 @@ export async function commitImport(
   id: number,
 ): Promise<ImportResult> {
   return deps.db.transaction().execute(async (trx) => {
-    const batch = await trx.selectFrom('import_batch').selectAll().where('id', '=', id).forUpdate().executeTakeFirst()
+    const batch = await trx
+      .selectFrom('import_batch')
+      .selectAll()
+      .where('id', '=', id)
+      .where('kind', '=', 'register')
+      .forUpdate()
+      .executeTakeFirst()
     if (!batch) throw notFound('Import')
     ensureVisible(ability, 'Limit', { siteId: batch.site_id }, 'Import')
     authorize(ability, 'import', 'Limit', { siteId: batch.site_id })

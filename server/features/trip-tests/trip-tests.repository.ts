@@ -51,6 +51,7 @@ export function scheduleInputs(db: Db, limitIds: number[]) {
       'limit_function.test_interval_months',
       'limit_function.test_grace_days',
       'limit_function.code_set_interval',
+      'limit_function.commissioned_at',
       'site.time_zone',
       'site.policy',
     ])
@@ -180,6 +181,8 @@ export async function listTripTests(db: Db, q: TripTestListFilter) {
       'trip_test.status',
       'trip_test.setpoint',
       'trip_test.tolerance_eu',
+      'trip_test.source',
+      'trip_test.tester_name',
       'app_user.display_name',
     ])
     .orderBy('trip_test.performed_at', 'desc')

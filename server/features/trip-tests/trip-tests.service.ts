@@ -22,6 +22,7 @@ import {
   type RuleActor,
   type TripTestAction,
   tripTestActions,
+  type TripTestRuleRecord,
   witnessRequired,
 } from '../../../shared/domain/rules/trip-tests.ts'
 import { compareToTarget, type Sil, sifPfd, subsystemPfd } from '../../../shared/domain/sif-reliability.ts'
@@ -86,6 +87,17 @@ export async function refreshTestSchedule(trx: Db, limitId: number, now: Date) {
   return r
 }
 
+/** Recomputes and stores the due dates and test statuses of many limits (a history import), 500 at a time. */
+export async function refreshTestSchedules(trx: Db, limitIds: number[], now: Date) {
+  for (let i = 0; i < limitIds.length; i += 500) {
+    const found = await computeSchedules(trx, limitIds.slice(i, i + 500), now)
+    await repo.updateLimitSchedules(
+      trx,
+      [...found].map(([limitId, r]) => ({ limitId, ...r })),
+    )
+  }
+}
+
 /**
  * Due date, status and late tests of a limit from its signed whole-function tests, the demands credited as proof
  * tests and approved deferrals.
@@ -139,6 +151,7 @@ export async function computeSchedules(db: Db, limitIds: number[], now: Date) {
         policyFor(l),
       ),
       codeSetInterval: l.code_set_interval,
+      commissionedOn: l.commissioned_at,
       timeZone: l.time_zone,
       now,
       tests: testsOf.get(l.id) ?? [],
@@ -369,13 +382,11 @@ export async function getTripTest(
   // the rule book's answers for the caller: the record's page builds its signing buttons from them
   const actor: RuleActor = ctx ? await actorAt(db, ability, ctx, r.site_id) : { id: 0, ability, roles: [] }
   const actions = tripTestActions(
-    {
-      siteId: r.site_id,
-      status: r.status,
-      recordedById: r.recorded_by,
-      sil: r.sil,
-      signatures: sigs.filter((x) => !x.voided_at).map((x) => ({ meaning: x.meaning, userId: x.user_id })),
-    },
+    ruleRecord(
+      r,
+      r.sil,
+      sigs.filter((x) => !x.voided_at),
+    ),
     actor,
     policy,
     deps.clock.now(),
@@ -432,6 +443,9 @@ export async function getTripTest(
     contentHash: r.content_hash,
     recordedById: r.recorded_by,
     recordedBy: r.display_name,
+    source: r.source,
+    testerName: r.tester_name,
+    importBatchId: r.import_batch_id,
     signatures: sigs
       .filter((s) => !s.voided_at)
       .map((s) => ({
@@ -455,21 +469,26 @@ export async function getTripTest(
 }
 
 /** The rule book's answers for a stored record (signatures read inside the caller's transaction). */
+/** What the rule book needs of a test record. */
+function ruleRecord(
+  row: Pick<Selectable<TripTestTable>, 'site_id' | 'status' | 'recorded_by' | 'source'>,
+  sil: number | null,
+  sigs: { meaning: string; user_id: number }[],
+): TripTestRuleRecord {
+  return {
+    siteId: row.site_id,
+    status: row.status,
+    recordedById: row.recorded_by,
+    sil,
+    signatures: sigs.map((x) => ({ meaning: x.meaning, userId: x.user_id })),
+    imported: row.source === 'imported',
+  }
+}
+
 async function verdictsFor(db: Db, row: Selectable<TripTestTable>, actor: RuleActor, now: Date) {
   const ctx = await loadContext(db, row.limit_id)
   const sigs = (await listSignatures(db, ENTITY, [row.id])).filter((x) => !x.voided_at)
-  const verdicts = tripTestActions(
-    {
-      siteId: row.site_id,
-      status: row.status,
-      recordedById: row.recorded_by,
-      sil: ctx.limit.sil,
-      signatures: sigs.map((x) => ({ meaning: x.meaning, userId: x.user_id })),
-    },
-    actor,
-    ctx.policy,
-    now,
-  )
+  const verdicts = tripTestActions(ruleRecord(row, ctx.limit.sil, sigs), actor, ctx.policy, now)
   return { verdicts, sigs, ctx }
 }
 
@@ -935,6 +954,8 @@ export async function listTripTests(deps: AppDeps, q: repo.TripTestListFilter): 
       setpoint: Number(r.setpoint),
       toleranceEu: Number(r.tolerance_eu),
       recordedBy: r.display_name,
+      source: r.source,
+      testerName: r.tester_name,
     })),
   }
 }

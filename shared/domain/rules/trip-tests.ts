@@ -70,6 +70,8 @@ export interface TripTestRuleRecord {
   recordedById: number
   sil: number | null
   signatures: readonly { meaning: string; userId: number }[]
+  /** brought from a former system by a history import: a record of the past, never edited or signed here */
+  imported?: boolean
 }
 
 export const TRIP_TEST_ACTIONS = [
@@ -136,7 +138,13 @@ export function tripTestActions(
     held.has(meaning) ? blocked(`The record is already signed as ${meaning.replaceAll('_', ' ')}`) : allow
   const afterPerformer = () => (performed ? allow : blocked('The performer signs first'))
   const technician = () =>
-    can(actor, 'record', record.siteId) ? allow : forbid('Only a maintenance technician of this site does this')
+    record.imported
+      ? blocked('An imported test is a record of the former system: it is not edited or signed here')
+      : can(actor, 'record', record.siteId)
+        ? allow
+        : forbid('Only a maintenance technician of this site does this')
+  const notImported = () =>
+    record.imported ? blocked('An imported test is a record of the former system: it is not signed here') : allow
   return {
     edit: firstRefusal(
       technician,
@@ -153,6 +161,7 @@ export function tripTestActions(
       already('performed'),
     ),
     signWitnessed: firstRefusal(
+      notImported,
       () =>
         can(actor, 'witness', record.siteId)
           ? allow
@@ -163,6 +172,7 @@ export function tripTestActions(
     ),
     signReturnedToService: firstRefusal(technician, already('returned_to_service'), afterPerformer),
     signAccepted: firstRefusal(
+      notImported,
       () =>
         can(actor, 'accept', record.siteId)
           ? allow

@@ -109,6 +109,10 @@ export const CALLS: Record<string, CallSpec> = {
   'DELETE /api/limits/:id': { params: (f) => ({ id: f.limitId }) },
   'POST /api/imports': { form: (f) => ({ fields: { siteId: String(f.siteId) }, file: csv('tag\n') }) },
   'POST /api/imports/:id/commit': { params: (f) => ({ id: f.importId }), body: () => ({}) },
+  'POST /api/history-imports': {
+    form: (f) => ({ fields: { siteId: String(f.siteId) }, file: csv('Record,Limit tag\n') }),
+  },
+  'POST /api/history-imports/:id/commit': { params: (f) => ({ id: f.importId }), body: () => ({}) },
   'POST /api/limits/:id/degradation': {
     params: (f) => ({ id: f.limitId }),
     body: () => ({ compensatingMeasures: ['Hourly local reading'], repairDeadline: '2030-01-01', ...sign }),

@@ -408,3 +408,54 @@ describe('statusChangesOn: the day the calendar alone changes the status', () =>
     expect(due({ tests: [] })).toMatchObject({ status: 'never_tested', statusChangesOn: null })
   })
 })
+
+describe('computeDueDates from the commissioning date', () => {
+  // IEC 61511-1:2016 §15 (SIS safety validation) proves the function at commissioning and §16.3 (proof testing)
+  // repeats the proof at the test interval (both from memory, not checked against the text); the product's reading
+  // (docs/domain/due-dates.md#never-tested): without a passing full test the first test falls due one interval after
+  // commissioning. Expected dates by hand, calendar months: 2024-03-15 + 12 months = 2025-03-15.
+  const commissioned = (now: string, over: Partial<DueDateInput> = {}) =>
+    due({ commissionedOn: '2024-03-15', now: at(now), ...over })
+
+  it('without a commissioning date a limit with no passing test is never tested, with no due date', () => {
+    const r = due({ now: at('2024-06-01T12:00:00Z') })
+    expect(r.status).toBe('never_tested')
+    expect(r.dueDate).toBeNull()
+  })
+
+  it('inside the first interval it is ok, due an interval after commissioning, with no last pass', () => {
+    const r = commissioned('2024-06-01T12:00:00Z')
+    expect(r.status).toBe('ok')
+    expect(r.dueDate).toBe('2025-03-15')
+    expect(r.lastFullPass).toBeNull()
+    // 30 days of look-ahead before 2025-03-15 (dueSoonDays(12) = 30): 2025-02-13
+    expect(r.statusChangesOn).toBe('2025-02-13')
+  })
+
+  it('due soon, then in grace, then never tested once the first due date and its grace have passed', () => {
+    expect(commissioned('2025-03-01T12:00:00Z').status).toBe('due_soon')
+    // grace 30 days: 2025-03-15 + 30 days = 2025-04-14 is the last day of grace
+    const grace = commissioned('2025-04-14T12:00:00Z')
+    expect(grace.status).toBe('in_grace')
+    expect(grace.graceEnd).toBe('2025-04-14')
+    expect(grace.statusChangesOn).toBe('2025-04-15')
+    const late = commissioned('2025-04-15T12:00:00Z')
+    expect(late.status).toBe('never_tested')
+    expect(late.dueDate).toBe('2025-03-15')
+    expect(late.daysUntilDue).toBe(-31)
+    expect(late.statusChangesOn).toBeNull()
+  })
+
+  it('a passing full test after commissioning takes over: due an interval after the test', () => {
+    const r = commissioned('2025-06-01T12:00:00Z', { tests: [full('2025-02-10T09:00:00Z')] })
+    expect(r.status).toBe('ok')
+    expect(r.lastFullPass).toBe('2025-02-10')
+    expect(r.dueDate).toBe('2026-02-10')
+  })
+
+  it('a failed test alone does not end "never tested": the first interval still runs from commissioning', () => {
+    const r = commissioned('2025-06-01T12:00:00Z', { tests: [full('2025-02-10T09:00:00Z', false)] })
+    expect(r.status).toBe('never_tested')
+    expect(r.dueDate).toBe('2025-03-15')
+  })
+})

@@ -52,6 +52,7 @@ function bypass(status: BypassStatus, o: Partial<BypassDto> = {}): BypassDto {
     bypassedHours: started ? 2 : 0,
     authorizations: [],
     createdAt: at(-4),
+    source: 'recorded',
     asOf: NOW.toISOString(),
     ...o,
   }
