@@ -12,6 +12,7 @@ import type {
   RegisterRow,
   UpdateLimitInput,
 } from '@shared/schemas/register.ts'
+import type { HistoryImportResult, HistoryMapping } from '@shared/schemas/history-import.ts'
 import type { ImportMapping, ImportResult } from '@shared/schemas/imports.ts'
 import { http, toQuery, uploadWithProgress } from '@/api/client'
 
@@ -84,22 +85,40 @@ export interface ImportUpload {
   dryRun?: boolean
 }
 
-/** Uploads a register file for a dry run and reports the upload's progress (0…1). */
-export function uploadImport(input: ImportUpload, onProgress: (fraction: number) => void): Promise<ImportResult> {
+/** Uploads an import file (site, mapping, dry run) to `url` and reports the upload's progress (0…1). */
+function uploadImportFile<T>(
+  url: string,
+  input: { file: File; siteId: number; mapping?: Record<string, string>; dryRun?: boolean },
+  onProgress: (fraction: number) => void,
+): Promise<T> {
   const form = new FormData()
   form.append('siteId', String(input.siteId))
   if (input.mapping) form.append('mapping', JSON.stringify(input.mapping))
   form.append('dryRun', String(input.dryRun ?? true))
   form.append('file', input.file)
   return uploadWithProgress(
-    '/imports',
+    url,
     form,
     onProgress,
     'The upload did not reach the server; check the connection and the file size, then try again',
   )
 }
 
+/** Uploads a register file for a dry run and reports the upload's progress (0…1). */
+export const uploadImport = (input: ImportUpload, onProgress: (fraction: number) => void) =>
+  uploadImportFile<ImportResult>('/imports', input, onProgress)
+
 /** The mapping the user's last import used (file header → column key). */
 export const getImportMapping = () => http.get<{ mapping: ImportMapping }>('/imports/mapping')
 /** Writes a checked import, all or nothing; the answer names the draft change request opened for it. */
 export const commitImport = (id: number) => http.post<ImportResult>(`/imports/${id}/commit`)
+
+// ---- the history import (docs/trip-tests.md#history-import) ----
+
+/** Uploads a history file (last tests, commissioning dates, past bypasses) for a dry run, with the upload's progress. */
+export const uploadHistoryImport = (
+  input: { file: File; siteId: number; mapping?: HistoryMapping; dryRun?: boolean },
+  onProgress: (fraction: number) => void,
+) => uploadImportFile<HistoryImportResult>('/history-imports', input, onProgress)
+/** Writes a checked history import, all or nothing. */
+export const commitHistoryImport = (id: number) => http.post<HistoryImportResult>(`/history-imports/${id}/commit`)

@@ -1,34 +1,61 @@
+import { HISTORY_COLUMNS, HISTORY_REQUIRED_COLUMNS } from '@shared/schemas/history-import.ts'
 import { IMPORT_REQUIRED_COLUMNS, type ImportMapping } from '@shared/schemas/imports.ts'
 import { REGISTER_COLUMNS } from '@shared/schemas/register-io.ts'
 
-// The column mapping of the register import, as the mapping step and the check result show it.
+// The column mapping of an import file (the register file, the history file), as the mapping step and the check
+// result show it.
 
-const LABELS = new Map<string, string>(REGISTER_COLUMNS.map((c) => [c.key, c.header]))
-const REQUIRED = new Set<string>(IMPORT_REQUIRED_COLUMNS)
-
-/** The register field of a column key as the file writes it (`tag` → `Limit tag`); `_row` is the row as a whole. */
-export function fieldLabel(key: string): string {
-  if (key === '_row') return 'Whole row'
-  return LABELS.get(key) ?? key
+/** A file layout: its columns (key and header) and the keys every file must map. */
+export interface ImportLayout {
+  columns: readonly { key: string; header: string }[]
+  required: readonly string[]
+  /** The sentence saying which columns every import needs. */
+  requiredHint: string
+  /** What a column is called in the mapping step ("Register field"). */
+  fieldName: string
 }
 
-export const isRequiredColumn = (key: string) => REQUIRED.has(key)
+export const REGISTER_LAYOUT: ImportLayout = {
+  columns: REGISTER_COLUMNS,
+  required: IMPORT_REQUIRED_COLUMNS,
+  requiredHint: 'Every import needs the area, the process, the instrument tag and the limit tag.',
+  fieldName: 'Register field',
+}
+
+export const HISTORY_LAYOUT: ImportLayout = {
+  columns: HISTORY_COLUMNS,
+  required: HISTORY_REQUIRED_COLUMNS,
+  requiredHint: 'Every history file needs the kind of record and the limit tag.',
+  fieldName: 'History field',
+}
 
 const norm = (h: string) => h.trim().toLowerCase().replace(/\s+/g, ' ')
 
-/** Whether a file header already names this column (its header or its key, case does not matter), as the server matches. */
-export function headerNamesColumn(header: string, key: string): boolean {
-  return norm(header) === norm(key) || norm(header) === norm(LABELS.get(key) ?? '')
+/** The helpers of a layout's mapping. */
+export function mappingHelpers(layout: ImportLayout) {
+  const labels = new Map<string, string>(layout.columns.map((c) => [c.key, c.header]))
+  const required = new Set<string>(layout.required)
+  return {
+    /** The field of a column key as the file writes it (`tag` → `Limit tag`); `_row` is the row as a whole. */
+    fieldLabel: (key: string): string => (key === '_row' ? 'Whole row' : (labels.get(key) ?? key)),
+    isRequiredColumn: (key: string) => required.has(key),
+    /** Whether a file header already names this column (its header or its key, case does not matter), as the server matches. */
+    headerNamesColumn: (header: string, key: string): boolean =>
+      norm(header) === norm(key) || norm(header) === norm(labels.get(key) ?? ''),
+    /** The required columns no header is mapped to. */
+    missingRequired: (mapping: Record<string, string>): string[] => {
+      const used = new Set(Object.values(mapping))
+      return layout.required.filter((k) => !used.has(k))
+    },
+  }
 }
 
-/** The required columns no header is mapped to. */
-export function missingRequired(mapping: ImportMapping): string[] {
-  const used = new Set(Object.values(mapping))
-  return IMPORT_REQUIRED_COLUMNS.filter((k) => !used.has(k))
-}
+const register = mappingHelpers(REGISTER_LAYOUT)
+export const { fieldLabel, isRequiredColumn, headerNamesColumn } = register
+export const missingRequired = (mapping: ImportMapping) => register.missingRequired(mapping)
 
 /** Column keys chosen for more than one header, with those headers. */
-export function duplicateColumns(mapping: ImportMapping): Map<string, string[]> {
+export function duplicateColumns(mapping: Record<string, string>): Map<string, string[]> {
   const byKey = new Map<string, string[]>()
   for (const [header, key] of Object.entries(mapping)) {
     if (key) byKey.set(key, [...(byKey.get(key) ?? []), header])
@@ -37,7 +64,7 @@ export function duplicateColumns(mapping: ImportMapping): Map<string, string[]> 
 }
 
 /** Whether two mappings give every header the same column. */
-export function sameMapping(a: ImportMapping, b: ImportMapping): boolean {
+export function sameMapping(a: Record<string, string>, b: Record<string, string>): boolean {
   const keys = new Set([...Object.keys(a), ...Object.keys(b)])
   return [...keys].every((k) => (a[k] ?? '') === (b[k] ?? ''))
 }

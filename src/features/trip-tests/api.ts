@@ -55,6 +55,9 @@ export interface TripTestListItem {
   setpoint: number
   toleranceEu: number
   recordedBy: string
+  /** 'imported': brought from a former system by a history import */
+  source: TripTestDto['source']
+  testerName: string | null
 }
 
 /** What the form sends (TripTestInputSchema); the server fills the defaults. */
