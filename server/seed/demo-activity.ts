@@ -17,6 +17,7 @@ import { TripTestInputSchema } from '../../shared/schemas/trip-tests.ts'
 import { createTripTest, signDegradationMeasures, signTripTest } from '../features/trip-tests/trip-tests.service.ts'
 import { demoActors, demoPrecautions } from './demo-actors.ts'
 import { seedDemoAlarms } from './demo-alarms.ts'
+import { seedDemoHistory } from './demo-history.ts'
 import { seedDemoDemands } from './demo-demands.ts'
 import { DEMO_PASSWORD } from './demo.ts'
 
@@ -212,5 +213,25 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
     }
   }
   await seedDemoDemands(deps, as)
+  // history from the former system on plain limits the activity above leaves untested and uncommissioned
+  const untouched = await db
+    .selectFrom('limit_function')
+    .select(['id', 'tag'])
+    .where(
+      'id',
+      'in',
+      plain
+        .slice(14)
+        .map((l) => l.id)
+        .concat(-1),
+    )
+    .where('test_status', '=', 'never_tested')
+    .where('commissioned_at', 'is', null)
+    .where('protection_state', '=', 'in_service')
+    .orderBy('tag')
+    .limit(3)
+    .execute()
+  const zone = await db.selectFrom('site').select('time_zone').where('id', '=', fhr.id).executeTakeFirstOrThrow()
+  await seedDemoHistory(deps, eng, { id: fhr.id, timeZone: zone.time_zone }, untouched)
   await seedDemoAlarms(db, clock)
 }
