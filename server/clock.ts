@@ -27,6 +27,8 @@ export class AdjustableClock implements Clock {
 export interface DueJob<R = unknown> {
   readonly name: string
   readonly intervalSec: number
+  /** A job that runs every few seconds logs its runs at debug level only (failures are logged as always). */
+  readonly quiet?: boolean
   /** `signal` aborts at shutdown: a job that loops stops taking new work when it fires and returns soon. */
   runDue(now: Date, signal?: AbortSignal): Promise<R>
 }

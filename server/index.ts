@@ -7,6 +7,7 @@ import { createReadStandby } from './db/read-standby.ts'
 import { createJobs } from './jobs/index.ts'
 import { JobScheduler } from './jobs/scheduler.ts'
 import { loadAuditKeys } from './features/audit/audit.key.ts'
+import { createAuditSealJob, SEAL_INTERVAL_SECONDS } from './features/audit/audit.sealer.ts'
 import { logger } from './logger.ts'
 
 export interface RunningServer {
@@ -34,9 +35,19 @@ export async function startServer(
     (m) => logger.error({ component: 'jobs' }, m),
     { leaseMs, renewMs: Math.round(leaseMs / 3) },
   )
+  // the audit sealer runs every second on a scheduler of its own, so a long job never holds up the trail
+  const sealer = new JobScheduler(
+    db,
+    clock,
+    [createAuditSealJob(db, clock)],
+    (m) => logger.error({ component: 'jobs' }, m),
+    { leaseMs, renewMs: Math.round(leaseMs / 3) },
+  )
   if (opts.runJobs !== false) {
     await scheduler.register()
+    await sealer.register()
     scheduler.start(config.JOB_POLL_SECONDS)
+    sealer.start(SEAL_INTERVAL_SECONDS)
   }
   const server = app.listen(config.PORT, config.HOST)
   await new Promise<void>((resolve, reject) => {
@@ -44,6 +55,7 @@ export async function startServer(
     server.once('error', reject)
   }).catch(async (err: NodeJS.ErrnoException) => {
     await scheduler.stop()
+    await sealer.stop()
     await db.destroy()
     await readStandby?.db.destroy()
     if (err.code === 'EADDRINUSE')
@@ -56,6 +68,7 @@ export async function startServer(
     port,
     async close() {
       await scheduler.stop()
+      await sealer.stop()
       server.closeAllConnections()
       await new Promise<void>((resolve) => server.close(() => resolve()))
       await db.destroy()

@@ -91,12 +91,20 @@ export interface AuditEventTable {
   batch_id: string | null
   request_id: string | null
   ip: string | null
-  prev_hash: string
-  hash: string
-  /** HMAC-SHA256 of hash under the audit key (null on events written before keyed links). */
+  /** The previous event's hash in the chain; null until sealed. */
+  prev_hash: string | null
+  /** The chain hash; null until sealed. */
+  hash: string | null
+  /** HMAC-SHA256 of hash under the audit key (null until sealed, and on events written before keyed links). */
   link: string | null
   /** The site the event is about; null for installation-wide events (sign-in, accounts without a site). */
   site_id: number | null
+  /** SHA-256 of the event's content, written with it (null on events linked by the former append). */
+  data_hash: string | null
+  /** Position in the chain, given by the sealer (the chain's order); null until sealed. */
+  seq: number | null
+  /** When the sealer linked it; null until sealed and on events linked by the former append. */
+  sealed_at: Timestamp | null
 }
 /** The derived site of an event written before events carried their site (read-only for the app). */
 export interface AuditEventSiteTable {

@@ -59,7 +59,7 @@ export class JobScheduler {
       } finally {
         clearInterval(renew)
       }
-      logger.info(
+      logger[job.quiet && !lastError ? 'debug' : 'info'](
         {
           component: 'jobs',
           job: job.name,

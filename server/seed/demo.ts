@@ -4,7 +4,7 @@ import type { Role } from '../../shared/schemas/users.ts'
 import { DEFAULT_SITE_POLICY } from '../../shared/schemas/sites.ts'
 import { systemClock } from '../clock.ts'
 import type { Db } from '../db/index.ts'
-import { appendAudit } from '../features/audit/audit.repository.ts'
+import { appendAudit, sealAll } from '../features/audit/audit.repository.ts'
 import { hashPassword } from '../features/session/passwords.ts'
 import { seedDemoRegister } from './demo-register.ts'
 
@@ -146,5 +146,7 @@ export async function seedDemo(db: Db, clock = systemClock, opts: { register?: b
     )
     if (opts.register !== false) await seedDemoRegister(trx, clock)
   })
+  // the demo plant's trail is linked into the chain at once, as the sealer job would a second later
+  await sealAll(db, clock)
   return true
 }

@@ -157,8 +157,11 @@ export interface AuditEventDto {
   batchId: string | null
   requestId: string | null
   ip: string | null
-  prevHash: string
-  hash: string
+  /** Null until the sealer has linked the event into the chain (about a second after it is written). */
+  prevHash: string | null
+  hash: string | null
+  /** Position in the chain; null while not yet sealed. */
+  seq: number | null
 }
 
 /** `POST /api/audit-events/verify`: the verifier's answer. */
@@ -166,13 +169,18 @@ export interface AuditVerifyDto {
   ok: boolean
   checked: number
   checkpoints: number
-  /** The first event concerned when broken. */
+  /** The first event concerned when broken (for a missing event: the one after it; null when none is left). */
   badId: number | null
+  /** The chain position concerned when broken. */
+  badSeq: number | null
   problem: string | null
   checkpoint: string | null
   checkpointProblems: string[]
   headId: number | null
+  headSeq: number | null
   headHash: string | null
   unkeyed: number
+  /** Events written and not yet sealed, each younger than the bound (an older one breaks the verdict). */
+  unsealed: number
   seconds: number
 }

@@ -6,9 +6,9 @@ import { fileURLToPath } from 'node:url'
 import { promisify } from 'node:util'
 import pg from 'pg'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { hashEvent } from '../../server/features/audit/audit.hash.ts'
+import { dataHash, sealHash } from '../../server/features/audit/audit.hash.ts'
 import { linkOf } from '../../server/features/audit/audit.key.ts'
-import { appendAuditAlone, verifyAuditChain } from '../../server/features/audit/audit.repository.ts'
+import { appendAuditAlone, sealAll, verifyAuditChain } from '../../server/features/audit/audit.repository.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // The audit trail beyond the database's reach: keyed links (HMAC-SHA256, RFC 2104) with a key the database never
@@ -44,12 +44,20 @@ async function asSuperuser(statements: [string, unknown[]][]) {
   await su.query('COMMIT')
 }
 
-type Row = Record<string, unknown> & { id: string; hash: string; prev_hash: string; link: string | null }
-const rows = async (): Promise<Row[]> => (await su.query('SELECT * FROM audit_event ORDER BY id')).rows
+type Row = Record<string, unknown> & {
+  id: string
+  seq: string
+  hash: string
+  prev_hash: string
+  link: string | null
+  data_hash: string
+}
+const rows = async (): Promise<Row[]> => (await su.query('SELECT * FROM audit_event ORDER BY seq')).rows
 
-/** The hash an event would carry with this content, recomputable by anyone who reads the table (no key needed). */
-function hashOf(r: Row, prevHash: string, id = Number(r.id)) {
-  return hashEvent({
+/** The data hash and chain hash an event would carry with this content, recomputable by anyone (no key needed). */
+function hashOf(r: Row, prevHash: string, at: { id: number; seq: number } = { id: Number(r.id), seq: Number(r.seq) }) {
+  const d = dataHash({
+    siteId: r.site_id as number | null,
     occurredAt: r.occurred_at as Date,
     actorId: r.actor_id as number | null,
     action: r.action as string,
@@ -61,9 +69,8 @@ function hashOf(r: Row, prevHash: string, id = Number(r.id)) {
     batchId: r.batch_id as string | null,
     requestId: r.request_id as string | null,
     ip: r.ip as string | null,
-    prevHash,
-    keyed: { id, siteId: r.site_id as number | null },
   })
+  return { dataHash: d, hash: sealHash({ ...at, dataHash: d, prevHash }) }
 }
 
 beforeAll(async () => {
@@ -72,58 +79,64 @@ beforeAll(async () => {
   await su.connect()
   for (let i = 0; i < 12; i++)
     await appendAuditAlone(ctx.db, ctx.clock, noActor, { action: 'test.event', entityType: 'System', entityId: i })
+  await sealAll(ctx.db, ctx.clock)
 })
 afterAll(async () => {
   await su?.end()
 })
 
 describe('keyed links', () => {
-  it('every new event carries a keyed link and the ids follow one another', async () => {
+  it('every sealed event carries a keyed link and the chain positions follow one another', async () => {
     const all = await rows()
     expect(all.length).toBeGreaterThan(12)
     expect(all.every((r) => r.link !== null && /^[0-9a-f]{64}$/.test(r.link))).toBe(true)
-    expect(all.map((r) => Number(r.id))).toEqual(all.map((_, i) => i + 1))
+    expect(all.map((r) => Number(r.seq))).toEqual(all.map((_, i) => i + 1))
     expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true, checked: all.length })
   })
 
-  it('refuses an event the runtime role appends with a correct hash but without the key', async () => {
+  it('refuses an event appended sealed: the runtime role cannot, and one written past the triggers has no valid link', async () => {
     const all = await rows()
     const head = all[all.length - 1]
-    const id = Number(head.id) + 1
+    const at = { id: Number(head.id) + 1000, seq: Number(head.seq) + 1 }
     const forged = {
       ...head,
       action: 'change_request.approve',
       entity_type: 'ChangeRequest',
       entity_id: '1',
+      before: null,
+      after: null,
+      site_id: null,
       occurred_at: new Date(),
     } as Row
-    const hash = hashOf(forged, head.hash, id)
+    const { dataHash: d, hash } = hashOf(forged, head.hash, at)
+    const insert = `INSERT INTO audit_event (id, seq, occurred_at, action, entity_type, entity_id, before, after, data_hash, prev_hash, hash, link)
+         VALUES ($1, $2, $3, 'change_request.approve', 'ChangeRequest', '1', 'null', 'null', $4, $5, $6, $7)`
+    const values = [at.id, at.seq, forged.occurred_at, d, head.hash, hash, linkOf(hash, Buffer.alloc(32, 7))]
     const rt = new pg.Client({ connectionString: ctx.database.appUrl })
     await rt.connect()
     try {
-      // the runtime role may INSERT: it writes the chain's next event with the right hash and a guessed link
-      await rt.query(
-        `INSERT INTO audit_event (id, occurred_at, action, entity_type, entity_id, before, after, prev_hash, hash, link)
-         VALUES ($1, $2, 'change_request.approve', 'ChangeRequest', '1', 'null', 'null', $3, $4, $5)`,
-        [id, forged.occurred_at, head.hash, hash, linkOf(hash, Buffer.alloc(32, 7))],
-      )
+      // the runtime role may INSERT, but only unsealed events: the chain's next event with a guessed link is refused
+      await expect(rt.query(insert, values)).rejects.toMatchObject({ code: '42501' })
     } finally {
       await rt.end()
     }
+    // someone holding the database writes it past the triggers: the right hash, a guessed link
+    await asSuperuser([[insert, values]])
     expect(await verifyAuditChain(ctx.db)).toEqual({
       ok: false,
       checked: all.length,
-      badId: id,
+      badId: at.id,
+      badSeq: at.seq,
       problem: 'keyed link does not match: written or rewritten without the audit key',
     })
     // without a link at all it is refused too
-    await asSuperuser([['UPDATE audit_event SET link = NULL WHERE id = $1', [id]]])
+    await asSuperuser([['UPDATE audit_event SET link = NULL WHERE id = $1', [at.id]]])
     expect(await verifyAuditChain(ctx.db)).toMatchObject({
       ok: false,
-      badId: id,
+      badId: at.id,
       problem: 'event has no keyed link although the events before it have: forged or rewritten',
     })
-    await asSuperuser([['DELETE FROM audit_event WHERE id = $1', [id]]])
+    await asSuperuser([['DELETE FROM audit_event WHERE id = $1', [at.id]]])
     expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true })
   })
 
@@ -133,26 +146,10 @@ describe('keyed links', () => {
     const statements: [string, unknown[]][] = []
     for (const r of before) {
       const changed = { ...r, reason: 'rewritten' } as Row
-      const hash = hashEvent({
-        ...{
-          occurredAt: r.occurred_at as Date,
-          actorId: r.actor_id as number | null,
-          action: r.action as string,
-          entityType: r.entity_type as string,
-          entityId: r.entity_id as string | null,
-          before: r.before,
-          after: r.after,
-          batchId: r.batch_id as string | null,
-          requestId: r.request_id as string | null,
-          ip: r.ip as string | null,
-        },
-        reason: changed.reason as string,
-        prevHash: prev,
-        keyed: { id: Number(r.id), siteId: r.site_id as number | null },
-      })
+      const { dataHash: d, hash } = hashOf(changed, prev)
       statements.push([
-        'UPDATE audit_event SET reason = $1, prev_hash = $2, hash = $3 WHERE id = $4',
-        ['rewritten', prev, hash, r.id],
+        'UPDATE audit_event SET reason = $1, data_hash = $2, prev_hash = $3, hash = $4 WHERE id = $5',
+        ['rewritten', d, prev, hash, r.id],
       ])
       prev = hash
     }
@@ -165,6 +162,7 @@ describe('keyed links', () => {
       ok: false,
       checked: 0,
       badId: Number(before[0].id),
+      badSeq: 1,
       problem: 'keyed link does not match: written or rewritten without the audit key',
     })
     // put it back
@@ -173,8 +171,8 @@ describe('keyed links', () => {
       ...before.map(
         (r) =>
           [
-            'UPDATE audit_event SET reason = $1, prev_hash = $2, hash = $3 WHERE id = $4',
-            [r.reason, r.prev_hash, r.hash, r.id],
+            'UPDATE audit_event SET reason = $1, data_hash = $2, prev_hash = $3, hash = $4 WHERE id = $5',
+            [r.reason, r.data_hash, r.prev_hash, r.hash, r.id],
           ] as [string, unknown[]],
       ),
     ])
@@ -186,14 +184,14 @@ describe('signed checkpoints outside the database', () => {
   it('`npm run audit:checkpoint` writes a signed file and mails it to the auditors of every site', async () => {
     const res = await cli('audit-checkpoint')
     expect(res.out).toMatch(
-      /Checkpoint written: .*checkpoint-.*\.json \(head id \d+, \d+ events\); mailed to [1-9]\d* auditor/,
+      /Checkpoint written: .*checkpoint-.*\.json \(head id \d+ at chain position \d+, \d+ events\); mailed to [1-9]\d* auditor/,
     )
     expect(res.code).toBe(0)
     const files = await readdir(dir)
     expect(files).toHaveLength(1)
     const c = JSON.parse(await readFile(path.join(dir, files[0]), 'utf8'))
     const head = (await rows()).at(-1)!
-    expect(c).toMatchObject({ version: 1, headId: Number(head.id), headHash: head.hash })
+    expect(c).toMatchObject({ version: 2, headSeq: Number(head.seq), headId: Number(head.id), headHash: head.hash })
     expect(Buffer.from(c.signature, 'base64')).toHaveLength(64) // an Ed25519 signature is 64 bytes (RFC 8032 §5.1.6)
     const auditors = (
       await su.query(
@@ -209,15 +207,16 @@ describe('signed checkpoints outside the database', () => {
     expect(ok.code).toBe(0)
   }, 120_000)
 
-  it('names a deleted event by its own id', async () => {
+  it('names a deleted event by its chain position and the event after it', async () => {
     const all = await rows()
     const victim = all[5]
     const saved = { ...victim }
     await asSuperuser([['DELETE FROM audit_event WHERE id = $1', [victim.id]]])
     expect(await verifyAuditChain(ctx.db)).toMatchObject({
       ok: false,
-      badId: Number(victim.id),
-      problem: `event ${victim.id} is missing (deleted)`,
+      badId: Number(all[6].id),
+      badSeq: Number(victim.seq),
+      problem: `the event at chain position ${victim.seq}, before event ${all[6].id}, is missing (deleted)`,
     })
     const cols = Object.keys(saved)
     await asSuperuser([
@@ -232,16 +231,18 @@ describe('signed checkpoints outside the database', () => {
   it('reports the newest events cut off, with the first missing id and the checkpoint concerned', async () => {
     const all = await rows()
     const cut = all.slice(-3)
-    await asSuperuser([['DELETE FROM audit_event WHERE id >= $1', [cut[0].id]]])
+    await asSuperuser([['DELETE FROM audit_event WHERE seq >= $1', [cut[0].seq]]])
     const file = (await readdir(dir))[0]
     const res = await cli('audit-verify')
     expect(res.code).toBe(1)
-    expect(res.out).toContain(`Audit trail BROKEN at event ${cut[0].id}: events from ${cut[0].id} to ${cut[2].id}`)
+    expect(res.out).toContain(
+      `Audit trail BROKEN at chain position ${cut[0].seq}: events at chain positions ${cut[0].seq} to ${cut[2].seq}`,
+    )
     expect(res.out).toContain('truncated')
     expect(res.out).toContain(`[checkpoint ${file}]`)
     // a checkpoint file changed by hand no longer counts and is reported
     const text = await readFile(path.join(dir, file), 'utf8')
-    await writeFile(path.join(dir, file), text.replace(/"headId": \d+/, `"headId": ${Number(cut[0].id) - 1}`))
+    await writeFile(path.join(dir, file), text.replace(/"headSeq": \d+/, `"headSeq": ${Number(cut[0].seq) - 1}`))
     const forged = await cli('audit-verify')
     expect(forged.out).toContain(`Checkpoint problem: checkpoint ${file} is not signed by this audit key`)
     expect(forged.code).toBe(1)

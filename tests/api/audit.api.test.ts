@@ -1,4 +1,4 @@
-import { execFile } from 'node:child_process'
+import { execFile, spawn } from 'node:child_process'
 import path from 'node:path'
 import { fileURLToPath } from 'node:url'
 import { promisify } from 'node:util'
@@ -8,8 +8,13 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { AdjustableClock } from '../../server/clock.ts'
 import type { AuditEventTable } from '../../server/db/schema.ts'
-import { hashEvent } from '../../server/features/audit/audit.hash.ts'
-import { appendAudit, verifyAuditChain } from '../../server/features/audit/audit.repository.ts'
+import { dataHash, sealHash } from '../../server/features/audit/audit.hash.ts'
+import {
+  appendAudit,
+  sealAll,
+  UNSEALED_BOUND_SECONDS,
+  verifyAuditChain,
+} from '../../server/features/audit/audit.repository.ts'
 import { ApiAgent } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -28,9 +33,10 @@ type Row = {
         : AuditEventTable[K]
 }
 
-/** The hash a stored row should carry, recomputed from what was read back. */
+/** The hash a stored row should carry, recomputed from what was read back (format 3: data hash, then seal). */
 function rehash(r: Row) {
-  return hashEvent({
+  const dHash = dataHash({
+    siteId: r.site_id,
     occurredAt: r.occurred_at,
     actorId: r.actor_id,
     action: r.action,
@@ -42,9 +48,11 @@ function rehash(r: Row) {
     batchId: r.batch_id,
     requestId: r.request_id,
     ip: r.ip,
-    prevHash: r.prev_hash,
-    keyed: r.link === null ? undefined : { id: Number(r.id), siteId: r.site_id },
   })
+  return {
+    dataHash: dHash,
+    hash: sealHash({ id: Number(r.id), seq: Number(r.seq), dataHash: dHash, prevHash: r.prev_hash! }),
+  }
 }
 
 /** Runs one statement on its own connection and answers the SQLSTATE it failed with (null when it worked). */
@@ -205,6 +213,7 @@ describe('audit events', () => {
         { action: 'test.awkward', entityType: 'Limit', before: [after.nested], after: { n: -0.000001 } },
       ]),
     )
+    await sealAll(ctx.db, ctx.clock)
     const rows = (await ctx.db
       .selectFrom('audit_event')
       .selectAll()
@@ -214,7 +223,7 @@ describe('audit events', () => {
     expect(rows).toHaveLength(3)
     for (const r of rows) {
       expect(r.occurred_at.toISOString()).toBe('2026-03-04T05:06:07.999Z')
-      expect(rehash(r)).toBe(r.hash)
+      expect(rehash(r)).toEqual({ dataHash: r.data_hash, hash: r.hash })
     }
     // the values come back as JSON would give them (undefined → null or dropped, dates as ISO text), unicode untouched
     expect(rows[0].after).toEqual(JSON.parse(JSON.stringify(after)))
@@ -240,7 +249,8 @@ describe('audit events', () => {
     expect(rows[1].before).toBeNull()
     expect(rows[1].after).toBeNull()
     expect(rows[2].entity_id).toBeNull()
-    // a batch is one chain segment
+    // events that wait together are sealed in id order, one after another
+    expect(Number(rows[1].seq)).toBe(Number(rows[0].seq) + 1)
     expect(rows[1].prev_hash).toBe(rows[0].hash)
     expect(rows[2].prev_hash).toBe(rows[1].hash)
     expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true })
@@ -255,6 +265,181 @@ describe('audit events', () => {
         ),
     ).rejects.toMatchObject({ code: '22P05' })
     expect(await ctx.db.selectFrom('audit_event').select('id').where('action', '=', 'test.nul').execute()).toEqual([])
+    expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true })
+  })
+})
+
+describe('the sealer', () => {
+  const write = (n: number, tag: string) =>
+    ctx.db.transaction().execute((trx) =>
+      appendAudit(
+        trx,
+        ctx.clock,
+        noActor,
+        Array.from({ length: n }, (_, i) => ({
+          action: 'test.sealer',
+          entityType: 'System' as const,
+          entityId: `${tag}-${i}`,
+        })),
+      ),
+    )
+  const unsealed = async () =>
+    Number(
+      (
+        await ctx.db
+          .selectFrom('audit_event')
+          .select((eb) => eb.fn.countAll<string>().as('n'))
+          .where('seq', 'is', null)
+          .executeTakeFirstOrThrow()
+      ).n,
+    )
+
+  it('loses nothing when killed in the middle of a batch: the next run seals everything and the chain verifies', async () => {
+    await sealAll(ctx.db, ctx.clock)
+    const before = await verifyAuditChain(ctx.db)
+    expect(before.ok).toBe(true)
+    await write(300, 'crash') // committed, waiting for their seal
+    expect(await unsealed()).toBe(300)
+    const [first, , last] = await ctx.db
+      .selectFrom('audit_event')
+      .select('id')
+      .where('seq', 'is', null)
+      .orderBy('id')
+      .execute()
+      .then((r) => [r[0], null, r[r.length - 1]])
+
+    // a row lock on the batch's last event makes the sealer's UPDATE wait there, in the middle of its batch
+    const blocker = new pg.Client({ connectionString: ctx.database.superUrl })
+    await blocker.connect()
+    const child = spawn(process.execPath, ['--import', 'tsx', 'tests/api/helpers/seal-once.ts'], {
+      cwd: root,
+      env: { ...process.env, DATABASE_URL: ctx.database.appUrl },
+      stdio: ['ignore', 'pipe', 'pipe'],
+    })
+    const exited = new Promise<{ code: number | null; signal: string | null; out: string }>((resolve) => {
+      let out = ''
+      child.stdout.on('data', (d) => (out += d))
+      child.stderr.on('data', (d) => (out += d))
+      child.on('exit', (code, signal) => resolve({ code, signal, out }))
+    })
+    try {
+      await blocker.query('BEGIN')
+      await blocker.query('SELECT id FROM audit_event WHERE id = $1 FOR UPDATE', [last!.id])
+      // wait (on the database's own state, not a timer) until the sealer's UPDATE is blocked by that lock; asked
+      // outside the blocker's transaction, which would see one snapshot of pg_stat_activity
+      await expect
+        .poll(
+          async () =>
+            (
+              await sql<{ n: number }>`
+                SELECT count(*)::int AS n FROM pg_stat_activity
+                WHERE datname = current_database() AND wait_event_type = 'Lock' AND query LIKE '%UPDATE audit_event e%'`.execute(
+                ctx.db,
+              )
+            ).rows[0].n,
+          { timeout: 60_000, interval: 100 },
+        )
+        .toBe(1)
+      child.kill('SIGKILL')
+      const end = await exited
+      expect(end.signal).toBe('SIGKILL')
+      expect(end.out).not.toContain('sealed')
+      await blocker.query('ROLLBACK')
+    } finally {
+      child.kill('SIGKILL')
+      await blocker.end()
+    }
+
+    // the killed batch was never committed: every event still waits, none half-sealed, the chain unchanged
+    await expect.poll(unsealed, { timeout: 30_000 }).toBe(300)
+    expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true, checked: before.checked, unsealed: 300 })
+    // the next run seals every one of them, in id order after the former head
+    expect(await sealAll(ctx.db, ctx.clock)).toBe(300)
+    const sealed = await ctx.db
+      .selectFrom('audit_event')
+      .select(['id', 'seq'])
+      .where('action', '=', 'test.sealer')
+      .orderBy('seq')
+      .execute()
+    expect(sealed).toHaveLength(300)
+    expect(Number(sealed[0].id)).toBe(Number(first!.id))
+    expect(sealed.map((r) => Number(r.seq))).toEqual(sealed.map((_, i) => before.headSeq! + 1 + i))
+    expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true, checked: before.checked + 300 })
+  }, 120_000)
+
+  it('seals an event that commits after a later id was sealed, further along the chain', async () => {
+    await sealAll(ctx.db, ctx.clock)
+    let release!: () => void
+    const hold = new Promise<void>((r) => (release = r))
+    let written!: () => void
+    const isWritten = new Promise<void>((r) => (written = r))
+    // an early id whose transaction stays open
+    const slow = ctx.db.transaction().execute(async (trx) => {
+      await appendAudit(trx, ctx.clock, noActor, { action: 'test.late', entityType: 'System', entityId: 'slow' })
+      written()
+      await hold
+    })
+    await isWritten
+    await ctx.db
+      .transaction()
+      .execute((trx) =>
+        appendAudit(trx, ctx.clock, noActor, { action: 'test.late', entityType: 'System', entityId: 'fast' }),
+      )
+    expect(await sealAll(ctx.db, ctx.clock)).toBe(1) // only the committed one
+    release()
+    await slow
+    expect(await sealAll(ctx.db, ctx.clock)).toBe(1)
+    const rows = await ctx.db
+      .selectFrom('audit_event')
+      .select(['id', 'seq', 'entity_id'])
+      .where('action', '=', 'test.late')
+      .orderBy('seq')
+      .execute()
+    expect(rows.map((r) => r.entity_id)).toEqual(['fast', 'slow'])
+    expect(Number(rows[0].id)).toBeGreaterThan(Number(rows[1].id))
+    expect(Number(rows[1].seq)).toBe(Number(rows[0].seq) + 1)
+    expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true })
+  })
+
+  it('reports an event left unsealed longer than the bound, and is content once it is sealed', async () => {
+    await sealAll(ctx.db, ctx.clock)
+    const t0 = ctx.clock.now()
+    await write(1, 'late')
+    const [ev] = await ctx.db.selectFrom('audit_event').select('id').where('seq', 'is', null).execute()
+    expect(await verifyAuditChain(ctx.db, { clock: ctx.clock })).toMatchObject({ ok: true, unsealed: 1 })
+    ctx.clock.set(new Date(t0.getTime() + (UNSEALED_BOUND_SECONDS + 1) * 1000))
+    expect(await verifyAuditChain(ctx.db, { clock: ctx.clock })).toMatchObject({
+      ok: false,
+      badId: Number(ev.id),
+      problem: expect.stringMatching(/has waited 6\d s unsealed \(more than 60 s\): the sealer is not running/),
+    })
+    await sealAll(ctx.db, ctx.clock)
+    expect(await verifyAuditChain(ctx.db, { clock: ctx.clock })).toMatchObject({ ok: true })
+  })
+
+  it('lets the runtime role seal an event once, and nothing else: no sealed insert, no reseal, no content change', async () => {
+    await write(1, 'trigger')
+    const [ev] = await ctx.db.selectFrom('audit_event').select('id').where('seq', 'is', null).execute()
+    const rt = new pg.Client({ connectionString: ctx.database.appUrl })
+    await rt.connect()
+    try {
+      const h = 'a'.repeat(64)
+      expect(
+        await sqlState(
+          rt,
+          `INSERT INTO audit_event (occurred_at, action, entity_type, seq, prev_hash, hash, link)
+           VALUES (now(), 'test.forged', 'System', 999999, '${h}', '${'b'.repeat(64)}', '${h}')`,
+        ),
+      ).toBe('42501')
+      // changing the content while sealing is refused (the role may not write content columns at all)
+      expect(await sqlState(rt, `UPDATE audit_event SET reason = 'x', seq = 999999 WHERE id = ${ev.id}`)).toBe('42501')
+      await sealAll(ctx.db, ctx.clock)
+      // a sealed event cannot be sealed again
+      expect(await sqlState(rt, `UPDATE audit_event SET seq = 999999 WHERE id = ${ev.id}`)).toBe('42501')
+      expect(await sqlState(rt, `UPDATE audit_event SET hash = '${h}' WHERE id = ${ev.id}`)).toBe('42501')
+    } finally {
+      await rt.end()
+    }
     expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true })
   })
 })
@@ -290,22 +475,34 @@ describe('the hash chain', () => {
       ),
     )
 
+    // nobody waited on a lock: every event is there, unsealed, until the sealer links them
+    const written = await ctx.db
+      .selectFrom('audit_event')
+      .select(['id', 'seq', 'request_id'])
+      .where('action', '=', 'test.concurrent')
+      .execute()
+    expect(written).toHaveLength(writers * perWriter)
+    expect(written.every((r) => r.seq === null)).toBe(true)
+    expect(await sealAll(ctx.db, ctx.clock)).toBe(writers * perWriter)
+
     const result = await verifyAuditChain(ctx.db)
     expect(result).toMatchObject({ ok: true, checked: before.checked + writers * perWriter })
+    expect(result.unsealed).toBeUndefined()
     const rows = await ctx.db
       .selectFrom('audit_event')
-      .select(['id', 'request_id'])
+      .select(['id', 'seq', 'request_id'])
       .where('action', '=', 'test.concurrent')
-      .orderBy('id')
+      .orderBy('seq')
       .execute()
     expect(rows).toHaveLength(writers * perWriter)
-    // the lock is held until COMMIT, so each writer's events form one unbroken run of the chain
+    // one chain position each, one after another after the chain's former head; every writer's events in its order
+    expect(rows.map((r) => Number(r.seq))).toEqual(rows.map((_, i) => before.checked + 1 + i))
     const runs = new Map<string, number[]>()
-    for (const r of rows) runs.set(r.request_id!, [...(runs.get(r.request_id!) ?? []), r.id])
+    for (const r of rows) runs.set(r.request_id!, [...(runs.get(r.request_id!) ?? []), Number(r.id)])
     expect(runs.size).toBe(writers)
     for (const ids of runs.values()) {
       expect(ids).toHaveLength(perWriter)
-      expect(ids[perWriter - 1] - ids[0]).toBe(perWriter - 1)
+      expect(ids).toEqual([...ids].sort((a, b) => a - b))
     }
   })
 
@@ -337,7 +534,7 @@ describe('the hash chain', () => {
       await ctx.db
         .selectFrom('audit_event')
         .select((eb) => eb.fn.countAll<number>().as('n'))
-        .where('id', '<', victim.id)
+        .where('seq', '<', victim.seq!)
         .executeTakeFirstOrThrow()
     ).n
     const su = new pg.Client({ connectionString: ctx.database.superUrl })
@@ -353,7 +550,13 @@ describe('the hash chain', () => {
       await tamper('UPDATE audit_event SET after = $1 WHERE id = $2', [JSON.stringify({ w: 0, i: 99 }), victim.id])
 
       const broken = await verifyAuditChain(ctx.db)
-      expect(broken).toEqual({ ok: false, checked: earlier, badId: victim.id, problem: 'hash does not match content' })
+      expect(broken).toEqual({
+        ok: false,
+        checked: earlier,
+        badId: Number(victim.id),
+        badSeq: Number(victim.seq),
+        problem: 'hash does not match content',
+      })
       const cli = await auditVerifyCli()
       expect(cli.code).toBe(1)
       expect(cli.out).toContain(`BROKEN at event ${victim.id}:`)
@@ -370,15 +573,18 @@ describe('the hash chain', () => {
 
       // a forger who also recomputes the row's own hash, without the audit key, is caught by its keyed link
       const forged = { ...victim, after: { w: 0, i: 99 } } as Row
-      await tamper('UPDATE audit_event SET after = $1, hash = $2 WHERE id = $3', [
+      const recomputed = rehash(forged)
+      await tamper('UPDATE audit_event SET after = $1, data_hash = $2, hash = $3 WHERE id = $4', [
         JSON.stringify(forged.after),
-        rehash(forged),
+        recomputed.dataHash,
+        recomputed.hash,
         victim.id,
       ])
       expect(await verifyAuditChain(ctx.db)).toEqual({
         ok: false,
         checked: earlier,
-        badId: victim.id,
+        badId: Number(victim.id),
+        badSeq: Number(victim.seq),
         problem: 'keyed link does not match: written or rewritten without the audit key',
       })
     } finally {

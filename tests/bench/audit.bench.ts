@@ -127,7 +127,7 @@ async function unsealed(db: Db): Promise<number> {
   const r = await db
     .selectFrom('audit_event')
     .select((eb) => eb.fn.countAll<string>().as('n'))
-    .where('hash', 'is', null)
+    .where('seq', 'is', null)
     .executeTakeFirst()
     .catch(() => ({ n: '0' }))
   return Number(r?.n ?? 0)

@@ -7,7 +7,7 @@ import type { Clock, DueJob } from '../../clock.ts'
 import type { Db } from '../../db/index.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { type AuditKeys, loadAuditKeys } from './audit.key.ts'
-import type { CheckpointClaim } from './audit.repository.ts'
+import { type CheckpointClaim, sealAll } from './audit.repository.ts'
 
 /**
  * Signed checkpoints of the audit chain's head (docs/security.md, "Audit trail integrity"): the head's id and hash,
@@ -17,6 +17,21 @@ import type { CheckpointClaim } from './audit.repository.ts'
  * database's administrators cannot reach it.
  */
 export interface Checkpoint {
+  /** 2 since the sealer: the head is named by its chain position. Version 1 files name it by id (then the same). */
+  version: 2
+  createdAt: string
+  headSeq: number
+  headId: number
+  headHash: string
+  count: number
+  firstKeyedSeq: number | null
+  keyId: string
+  /** Ed25519 over the RFC 8785 canonical JSON of every other field, base64. */
+  signature: string
+}
+
+/** A checkpoint file as written before the sealer (the chain ordered by id). */
+interface CheckpointV1 {
   version: 1
   createdAt: string
   headId: number
@@ -24,7 +39,6 @@ export interface Checkpoint {
   count: number
   firstKeyedId: number | null
   keyId: string
-  /** Ed25519 over the RFC 8785 canonical JSON of every other field, base64. */
   signature: string
 }
 
@@ -34,12 +48,13 @@ export function checkpointDir(env: NodeJS.ProcessEnv = process.env): string {
   return path.resolve(env.AUDIT_CHECKPOINT_DIR || path.join(root, '.data/audit-checkpoints'))
 }
 
-function signedText(c: Omit<Checkpoint, 'signature'>): Buffer {
-  const { version, createdAt, headId, headHash, count, firstKeyedId, keyId } = c
-  return Buffer.from(canonicalize({ version, createdAt, headId, headHash, count, firstKeyedId, keyId })!, 'utf8')
+function signedText(c: Omit<Checkpoint, 'signature'> | Omit<CheckpointV1, 'signature'>): Buffer {
+  const { signature: _s, ...body } = c as Checkpoint
+  void _s
+  return Buffer.from(canonicalize(body)!, 'utf8')
 }
 
-/** Reads the head in one snapshot and writes a signed checkpoint file; answers it with its file name. */
+/** Reads the sealed head in one snapshot and writes a signed checkpoint file; answers it with its file name. */
 export async function writeCheckpoint(
   db: Db,
   clock: Clock,
@@ -53,26 +68,29 @@ export async function writeCheckpoint(
     .execute(async (trx) => {
       const last = await trx
         .selectFrom('audit_event')
-        .select(['id', 'hash'])
-        .orderBy('id', 'desc')
+        .select(['id', 'seq', 'hash'])
+        .where('seq', 'is not', null)
+        .orderBy('seq', 'desc')
         .limit(1)
         .executeTakeFirst()
       const agg = await trx
         .selectFrom('audit_event')
         .select((eb) => [
           eb.fn.countAll<string>().as('n'),
-          eb.fn.min('id').filterWhere('link', 'is not', null).as('firstKeyed'),
+          eb.fn.min('seq').filterWhere('link', 'is not', null).as('firstKeyed'),
         ])
+        .where('seq', 'is not', null)
         .executeTakeFirstOrThrow()
       return { last, count: Number(agg.n), firstKeyed: agg.firstKeyed == null ? null : Number(agg.firstKeyed) }
     })
   const body: Omit<Checkpoint, 'signature'> = {
-    version: 1,
+    version: 2,
     createdAt: clock.now().toISOString(),
+    headSeq: Number(head.last?.seq ?? 0),
     headId: Number(head.last?.id ?? 0),
     headHash: head.last?.hash ?? '',
     count: head.count,
-    firstKeyedId: head.firstKeyed,
+    firstKeyedSeq: head.firstKeyed,
     keyId: keys.keyId,
   }
   const checkpoint: Checkpoint = {
@@ -80,7 +98,7 @@ export async function writeCheckpoint(
     signature: sign(null, signedText(body), keys.signingKey).toString('base64'),
   }
   mkdirSync(dir, { recursive: true })
-  const name = `checkpoint-${body.createdAt.replace(/[:.]/g, '-')}-${body.headId}.json`
+  const name = `checkpoint-${body.createdAt.replace(/[:.]/g, '-')}-${body.headSeq}.json`
   writeFileSync(path.join(dir, name), `${JSON.stringify(checkpoint, null, 2)}\n`, { flag: 'wx' })
   return { ...checkpoint, file: name }
 }
@@ -101,7 +119,7 @@ export function readCheckpoints(opts: { keys?: AuditKeys; dir?: string } = {}): 
   const claims: CheckpointClaim[] = []
   const problems: string[] = []
   for (const file of names.sort()) {
-    let c: Checkpoint
+    let c: Checkpoint | CheckpointV1
     try {
       c = JSON.parse(readFileSync(path.join(dir, file), 'utf8'))
     } catch {
@@ -111,7 +129,7 @@ export function readCheckpoints(opts: { keys?: AuditKeys; dir?: string } = {}): 
     let good = false
     try {
       good =
-        c.version === 1 &&
+        (c.version === 1 || c.version === 2) &&
         c.keyId === keys.keyId &&
         verify(null, signedText(c), keys.publicKey, Buffer.from(String(c.signature), 'base64'))
     } catch {
@@ -121,14 +139,20 @@ export function readCheckpoints(opts: { keys?: AuditKeys; dir?: string } = {}): 
       problems.push(`checkpoint ${file} is not signed by this audit key (${keys.keyId})`)
       continue
     }
-    if (c.headId > 0)
-      claims.push({ file, headId: c.headId, headHash: c.headHash, count: c.count, firstKeyedId: c.firstKeyedId })
+    // version 1 named the head by id: events linked then have their id as chain position
+    const claim =
+      c.version === 2
+        ? { headSeq: c.headSeq, firstKeyedSeq: c.firstKeyedSeq }
+        : { headSeq: c.headId, firstKeyedSeq: c.firstKeyedId }
+    if (claim.headSeq > 0) claims.push({ file, ...claim, headHash: c.headHash, count: c.count })
   }
   return { claims, problems }
 }
 
-/** Writes a checkpoint and mails it to the auditors of every site (in the outbox; delivered by the mail job). */
+/** Seals what waits, writes a checkpoint and mails it to the auditors of every site (in the outbox; delivered by the mail job). */
 export async function checkpointAndMail(db: Db, clock: Clock, opts: { keys?: AuditKeys; dir?: string } = {}) {
+  // the checkpoint signs the sealed head: what was written before it is sealed first
+  await sealAll(db, clock)
   const c = await writeCheckpoint(db, clock, opts)
   const auditors = await db
     .selectFrom('app_user')
@@ -140,7 +164,7 @@ export async function checkpointAndMail(db: Db, clock: Clock, opts: { keys?: Aud
     .execute()
   const { file, ...signed } = c
   const bodies = mailBodies([
-    `Checkpoint of the audit trail at ${c.createdAt}: head event ${c.headId}, ${c.count} events.`,
+    `Checkpoint of the audit trail at ${c.createdAt}: head event ${c.headId} at chain position ${c.headSeq}, ${c.count} sealed events.`,
     'Keep this message outside Limitkeeper. `npm run audit:verify` checks the trail against the checkpoint files; ' +
       'if the copy kept there differs from this one, the trail or its checkpoints were changed.',
     JSON.stringify(signed),
@@ -151,7 +175,7 @@ export async function checkpointAndMail(db: Db, clock: Clock, opts: { keys?: Aud
       clock,
       auditors.map((a) => ({
         to: a.email,
-        subject: `Audit trail checkpoint ${c.createdAt.slice(0, 10)}: head ${c.headId}`,
+        subject: `Audit trail checkpoint ${c.createdAt.slice(0, 10)}: head ${c.headSeq}`,
         topic: 'audit_checkpoint',
         ...bodies,
       })),
@@ -161,13 +185,13 @@ export async function checkpointAndMail(db: Db, clock: Clock, opts: { keys?: Aud
 }
 
 /** The daily checkpoint job. */
-export function createAuditCheckpointJob(db: Db, clock: Clock): DueJob<{ headId: number; mailed: number }> {
+export function createAuditCheckpointJob(db: Db, clock: Clock): DueJob<{ headSeq: number; mailed: number }> {
   return {
     name: 'audit.checkpoint',
     intervalSec: 24 * 3600,
     async runDue() {
       const c = await checkpointAndMail(db, clock)
-      return { headId: c.headId, mailed: c.mailed }
+      return { headSeq: c.headSeq, mailed: c.mailed }
     },
   }
 }

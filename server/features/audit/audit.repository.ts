@@ -1,8 +1,8 @@
 import { sql, type Transaction } from 'kysely'
-import type { Clock } from '../../clock.ts'
+import { type Clock, systemClock } from '../../clock.ts'
 import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
-import { GENESIS_HASH, hashEvent } from './audit.hash.ts'
+import { dataHash, GENESIS_HASH, hashEvent, sealHash } from './audit.hash.ts'
 import { type AuditKeys, linkOf, loadAuditKeys } from './audit.key.ts'
 import { type AuditEntityType, resolveAuditSites } from './audit.sites.ts'
 import { likeEscape } from '../../authorize.ts'
@@ -29,8 +29,8 @@ export interface AuditEntry {
   siteId?: number | null
 }
 
-// One constant advisory-lock key for the single chain.
-const AUDIT_CHAIN_LOCK = 7263001
+// One constant advisory-lock key: held by the sealer while it links a batch, so two sealers never interleave.
+const AUDIT_SEAL_LOCK = 7263001
 
 /** JSON values as jsonb will give them back: no undefined, no functions, dates as ISO strings. */
 function toJsonValue(v: unknown): unknown {
@@ -38,10 +38,9 @@ function toJsonValue(v: unknown): unknown {
 }
 
 /**
- * Appends events to the hash chain. Call it as the last step of the business transaction (READ COMMITTED):
- * the advisory lock it takes is held until COMMIT. Under that lock the events are numbered one after the head without
- * gaps, hashed over their content, id and site and the previous hash, and linked with the audit key
- * (`link` = HMAC-SHA256 of the hash; the key is read from AUDIT_KEY_FILE and used in this step only).
+ * Writes events in the business transaction, unsealed: content, site and `data_hash` (the SHA-256 of both), with an
+ * id from the identity sequence. No lock and no key: the sealer (`sealAuditEvents`, run by the job `audit.seal`)
+ * links committed events into the chain afterwards. An event commits or rolls back with the change it records.
  */
 export async function appendAudit(
   trx: Transaction<Database>,
@@ -51,8 +50,6 @@ export async function appendAudit(
 ): Promise<void> {
   const list = Array.isArray(entries) ? entries : [entries]
   if (!list.length) return
-  const { linkKey } = loadAuditKeys()
-  // the entity's site is read before the chain's lock, so the lock is held for the append only
   const sites = await resolveAuditSites(
     trx,
     list.map((e) => ({
@@ -62,19 +59,10 @@ export async function appendAudit(
       after: e.after,
     })),
   )
-  await sql`SELECT pg_advisory_xact_lock(${sql.lit(AUDIT_CHAIN_LOCK)})`.execute(trx)
-  const head = await trx
-    .selectFrom('audit_event')
-    .select(['id', 'hash'])
-    .orderBy('id', 'desc')
-    .limit(1)
-    .executeTakeFirst()
-  let prevHash = head?.hash ?? GENESIS_HASH
-  let id = Number(head?.id ?? 0)
   const occurredAt = new Date(clock.now().getTime())
   const rows = list.map((e, i) => {
-    id++
     const content = {
+      siteId: e.siteId !== undefined ? e.siteId : sites[i],
       occurredAt,
       actorId: ctx.actorId,
       action: e.action,
@@ -86,13 +74,8 @@ export async function appendAudit(
       batchId: e.batchId ?? null,
       requestId: ctx.requestId,
       ip: ctx.ip,
-      prevHash,
-      keyed: { id, siteId: e.siteId !== undefined ? e.siteId : sites[i] },
     }
-    const hash = hashEvent(content)
-    prevHash = hash
     return {
-      id,
       occurred_at: occurredAt,
       actor_id: content.actorId,
       action: content.action,
@@ -104,10 +87,8 @@ export async function appendAudit(
       batch_id: content.batchId,
       request_id: content.requestId,
       ip: content.ip,
-      prev_hash: content.prevHash,
-      hash,
-      link: linkOf(hash, linkKey),
-      site_id: content.keyed.siteId,
+      site_id: content.siteId,
+      data_hash: dataHash(content),
     }
   })
   for (let i = 0; i < rows.length; i += 500) {
@@ -123,119 +104,309 @@ export async function appendAuditAlone(db: Db, clock: Clock, ctx: AuditContext, 
   await db.transaction().execute((trx) => appendAudit(trx, clock, ctx, entry))
 }
 
+/** Events a sealer run links at most, in one transaction. */
+export const SEAL_BATCH = 2000
+
+/**
+ * The sealer: links up to `batch` committed unsealed events, in id order, after the chain's head, in one transaction
+ * under the seal lock. Each gets the next chain position (`seq`), the head's hash as `prev_hash`, `hash` over its id,
+ * position, data hash and previous hash, and `link` = HMAC-SHA256 of `hash` under the audit key. An event that commits
+ * after a later id was sealed is sealed by the next run, further along the chain: the position, not the id, is the
+ * order. Answers how many it sealed and how many still wait (0 when it took them all).
+ */
+export async function sealAuditEvents(
+  db: Db,
+  clock: Clock,
+  opts: { batch?: number; keys?: AuditKeys } = {},
+): Promise<{ sealed: number; headSeq: number }> {
+  const { linkKey } = opts.keys ?? loadAuditKeys()
+  const batch = opts.batch ?? SEAL_BATCH
+  return db.transaction().execute(async (trx) => {
+    await sql`SELECT pg_advisory_xact_lock(${sql.lit(AUDIT_SEAL_LOCK)})`.execute(trx)
+    // read after the lock: at READ COMMITTED each statement sees what committed before it, the last seal included
+    const waiting = await trx
+      .selectFrom('audit_event')
+      .select(['id', 'data_hash'])
+      .where('seq', 'is', null)
+      .orderBy('id')
+      .limit(batch)
+      .execute()
+    const head = await trx
+      .selectFrom('audit_event')
+      .select(['seq', 'hash'])
+      .where('seq', 'is not', null)
+      .orderBy('seq', 'desc')
+      .limit(1)
+      .executeTakeFirst()
+    let seq = Number(head?.seq ?? 0)
+    if (!waiting.length) return { sealed: 0, headSeq: seq }
+    let prevHash = head?.hash ?? GENESIS_HASH
+    const ids: string[] = []
+    const seqs: string[] = []
+    const prevs: string[] = []
+    const hashes: string[] = []
+    const links: string[] = []
+    for (const w of waiting) {
+      seq++
+      const id = Number(w.id)
+      const hash = sealHash({ id, seq, dataHash: w.data_hash!, prevHash })
+      ids.push(String(id))
+      seqs.push(String(seq))
+      prevs.push(prevHash)
+      hashes.push(hash)
+      links.push(linkOf(hash, linkKey))
+      prevHash = hash
+    }
+    await sql`
+      UPDATE audit_event e
+      SET seq = v.seq, prev_hash = v.prev_hash, hash = v.hash, link = v.link, sealed_at = ${clock.now()}
+      FROM unnest(${ids}::bigint[], ${seqs}::bigint[], ${prevs}::text[], ${hashes}::text[], ${links}::text[])
+        AS v(id, seq, prev_hash, hash, link)
+      WHERE e.id = v.id`.execute(trx)
+    return { sealed: waiting.length, headSeq: seq }
+  })
+}
+
+/** Seals until nothing waits (tests, the demo seed, the bench); answers how many it sealed. */
+export async function sealAll(db: Db, clock: Clock): Promise<number> {
+  let total = 0
+  for (;;) {
+    const { sealed } = await sealAuditEvents(db, clock)
+    total += sealed
+    if (sealed < SEAL_BATCH) return total
+  }
+}
+
+/** An event may wait this long for its seal before the verifier reports it. */
+export const UNSEALED_BOUND_SECONDS = 60
+
 export interface VerifyResult {
   ok: boolean
+  /** Sealed events checked. */
   checked: number
-  /** The first event concerned: the one changed or forged, or the id missing. */
+  /** The first event concerned: the one changed or forged, the one after a missing one, or one left unsealed. */
   badId?: number
+  /** The chain position concerned (a missing event has no id left to name). */
+  badSeq?: number
   problem?: string
   /** The checkpoint file a truncation, rewrite or insertion was found against. */
   checkpoint?: string
   headId?: number
+  headSeq?: number
   headHash?: string
   /** Events before the first keyed one (written before keyed links): hash-chained only. */
   unkeyed?: number
+  /** Events written and not yet sealed, all younger than the bound. */
+  unsealed?: number
 }
 
 /** A signed statement of the chain head at a moment (server/features/audit/audit.checkpoint.ts). */
 export interface CheckpointClaim {
   file: string
-  headId: number
+  headSeq: number
   headHash: string
   count: number
-  firstKeyedId: number | null
+  firstKeyedSeq: number | null
+}
+
+interface ChainRow {
+  id: string
+  seq: string
+  occurred_at: Date
+  actor_id: number | null
+  action: string
+  entity_type: string
+  entity_id: string | null
+  before: unknown
+  after: unknown
+  reason: string | null
+  batch_id: string | null
+  request_id: string | null
+  ip: string | null
+  prev_hash: string
+  hash: string
+  link: string | null
+  site_id: number | null
+  data_hash: string | null
 }
 
 /**
- * Walks the chain in id order, in keyset pages, and reports the first broken link: a changed event (its hash), a
- * forged or rewritten one (its keyed link), a deleted one (the id missing from the keyed, gap-free numbering or the
- * link to it broken), and, against each signed checkpoint, a truncation (the checkpoint's head is gone), a rewrite
- * (the head has another hash) or an insertion (more events up to the head than the checkpoint counted).
+ * Walks the sealed chain in chain order (keyset pages on `seq`, the next page read while this one is hashed) and
+ * reports the first broken link: a changed event (its hash), a forged or rewritten one (its keyed link), a deleted
+ * one (its chain position missing, or the link to it broken), and, against each signed checkpoint, a truncation (the
+ * checkpoint's head is gone), a rewrite (the head has another hash) or an insertion (more events up to the head than
+ * the checkpoint counted). Then the unsealed events: each content against the data hash written with it (no key
+ * guards that yet), and one older than the bound (UNSEALED_BOUND_SECONDS by `clock`) is reported, since the sealer
+ * should have linked it.
  */
 export async function verifyAuditChain(
   db: Db,
-  opts: { keys?: AuditKeys; checkpoints?: CheckpointClaim[]; pageSize?: number } = {},
+  opts: {
+    keys?: AuditKeys
+    checkpoints?: CheckpointClaim[]
+    pageSize?: number
+    clock?: Clock
+    unsealedBoundSeconds?: number
+  } = {},
 ): Promise<VerifyResult> {
   const keys = opts.keys ?? loadAuditKeys()
-  const pageSize = opts.pageSize ?? 5000
-  const checkpoints = [...(opts.checkpoints ?? [])].sort((a, b) => a.headId - b.headId)
+  const pageSize = opts.pageSize ?? 10_000
+  const checkpoints = [...(opts.checkpoints ?? [])].sort((a, b) => a.headSeq - b.headSeq)
   let cp = 0
+  let lastSeq = 0
   let lastId = 0
   let prev = GENESIS_HASH
   let checked = 0
   let unkeyed = 0
   let keyedFrom: number | null = null
-  const broken = (badId: number, problem: string, checkpoint?: string): VerifyResult => ({
+  const broken = (at: { id?: number; seq?: number }, problem: string, checkpoint?: string): VerifyResult => ({
     ok: false,
     checked,
-    badId,
+    ...(at.id !== undefined ? { badId: at.id } : {}),
+    ...(at.seq !== undefined ? { badSeq: at.seq } : {}),
     problem,
     ...(checkpoint ? { checkpoint } : {}),
   })
-  /** Checks the checkpoints whose head lies before `nextId` (the next event read, or none at the end). */
-  const settle = (nextId: number | null): VerifyResult | null => {
-    while (cp < checkpoints.length && (nextId === null || checkpoints[cp].headId < nextId)) {
+  /** Checks the checkpoints whose head lies before `next` (the next event read, or none at the end). */
+  const settle = (next: { seq: number; id: number } | null): VerifyResult | null => {
+    while (cp < checkpoints.length && (next === null || checkpoints[cp].headSeq < next.seq)) {
       const c = checkpoints[cp]
-      if (c.headId !== lastId)
-        return nextId === null && c.headId > lastId
+      if (c.headSeq !== lastSeq)
+        return next === null && c.headSeq > lastSeq
           ? broken(
-              lastId + 1,
-              `events from ${lastId + 1} to ${c.headId} (checkpoint ${c.file}) are missing: truncated`,
+              { seq: lastSeq + 1 },
+              `events at chain positions ${lastSeq + 1} to ${c.headSeq} (checkpoint ${c.file}) are missing: truncated`,
               c.file,
             )
-          : broken(c.headId, `event ${c.headId}, the head of checkpoint ${c.file}, is missing (deleted)`, c.file)
+          : broken(
+              { seq: c.headSeq, ...(next ? { id: next.id } : {}) },
+              `the event at chain position ${c.headSeq}, the head of checkpoint ${c.file}, is missing (deleted)`,
+              c.file,
+            )
       if (c.headHash !== prev)
         return broken(
-          c.headId,
-          `event ${c.headId} no longer has the hash checkpoint ${c.file} signed: rewritten`,
+          { id: lastId, seq: c.headSeq },
+          `event ${lastId} (chain position ${c.headSeq}) no longer has the hash checkpoint ${c.file} signed: rewritten`,
           c.file,
         )
       if (c.count !== checked)
         return broken(
-          c.headId,
+          { id: lastId, seq: c.headSeq },
           checked > c.count
-            ? `${checked - c.count} event(s) more up to event ${c.headId} than checkpoint ${c.file} counted: inserted`
-            : `${c.count - checked} event(s) fewer up to event ${c.headId} than checkpoint ${c.file} counted: deleted`,
+            ? `${checked - c.count} event(s) more up to chain position ${c.headSeq} than checkpoint ${c.file} counted: inserted`
+            : `${c.count - checked} event(s) fewer up to chain position ${c.headSeq} than checkpoint ${c.file} counted: deleted`,
           c.file,
         )
-      if (c.firstKeyedId !== keyedFrom)
+      if (c.firstKeyedSeq !== keyedFrom)
         return broken(
-          c.firstKeyedId ?? keyedFrom ?? c.headId,
-          `keyed links began at event ${c.firstKeyedId ?? '-'} when checkpoint ${c.file} was signed, now at ${keyedFrom ?? '-'}: rewritten`,
+          { seq: c.firstKeyedSeq ?? keyedFrom ?? c.headSeq },
+          `keyed links began at chain position ${c.firstKeyedSeq ?? '-'} when checkpoint ${c.file} was signed, now at ${keyedFrom ?? '-'}: rewritten`,
           c.file,
         )
       cp++
     }
     return null
   }
+  const readPage = (after: number) =>
+    sql<ChainRow>`
+      SELECT id, seq, occurred_at, actor_id, action, entity_type, entity_id, before, after, reason, batch_id,
+        request_id, ip, prev_hash, hash, link, site_id, data_hash
+      FROM audit_event WHERE seq > ${after} ORDER BY seq LIMIT ${pageSize}`
+      .execute(db)
+      .then((r) => r.rows)
+  let next = readPage(0)
   for (;;) {
-    const page = await db
-      .selectFrom('audit_event')
-      .selectAll()
-      .where('id', '>', lastId)
-      .orderBy('id')
-      .limit(pageSize)
-      .execute()
+    const page = await next
     if (!page.length) break
+    // read ahead: PostgreSQL sends the next page while this one is hashed
+    next = page.length === pageSize ? readPage(Number(page[page.length - 1].seq)) : Promise.resolve([])
     for (const r of page) {
       const id = Number(r.id)
-      const pending = settle(id)
-      if (pending) return pending
-      if (keyedFrom !== null && id !== lastId + 1)
-        return broken(
-          lastId + 1,
-          `event ${lastId + 1} is missing (deleted)${id > lastId + 2 ? ` up to ${id - 1}` : ''}`,
-        )
-      if (r.prev_hash !== prev) {
-        // an event taken out where numbering has gaps (before keyed links) shows as a broken link to it
-        return broken(
-          id,
-          `prev_hash does not match the previous event${keyedFrom === null ? ' (an event before it was changed or deleted)' : ''}`,
-        )
+      const seq = Number(r.seq)
+      const pending = settle({ seq, id })
+      if (pending) {
+        next.catch(() => {})
+        return pending
       }
-      if (r.link === null && keyedFrom !== null)
-        return broken(id, 'event has no keyed link although the events before it have: forged or rewritten')
-      const recomputed = hashEvent({
+      let problem: string | null = null
+      let at: { id?: number; seq?: number } = { id, seq }
+      if ((keyedFrom !== null || r.data_hash !== null) && seq !== lastSeq + 1) {
+        at = { id, seq: lastSeq + 1 }
+        problem = `the event at chain position ${lastSeq + 1}${seq > lastSeq + 2 ? ` (and up to ${seq - 1})` : ''}, before event ${id}, is missing (deleted)`
+      } else if (r.prev_hash !== prev) {
+        // an event taken out where positions have gaps (before keyed links) shows as a broken link to it
+        problem = `prev_hash does not match the previous event${keyedFrom === null ? ' (an event before it was changed or deleted)' : ''}`
+      } else if (r.link === null && (keyedFrom !== null || r.data_hash !== null)) {
+        problem = 'event has no keyed link although the events before it have: forged or rewritten'
+      } else {
+        let recomputed: string
+        if (r.data_hash !== null) {
+          const d = dataHash({
+            siteId: r.site_id,
+            occurredAt: r.occurred_at,
+            actorId: r.actor_id,
+            action: r.action,
+            entityType: r.entity_type,
+            entityId: r.entity_id,
+            before: r.before,
+            after: r.after,
+            reason: r.reason,
+            batchId: r.batch_id,
+            requestId: r.request_id,
+            ip: r.ip,
+          })
+          recomputed = d === r.data_hash ? sealHash({ id, seq, dataHash: d, prevHash: r.prev_hash }) : ''
+        } else
+          recomputed = hashEvent({
+            occurredAt: r.occurred_at,
+            actorId: r.actor_id,
+            action: r.action,
+            entityType: r.entity_type,
+            entityId: r.entity_id,
+            before: r.before,
+            after: r.after,
+            reason: r.reason,
+            batchId: r.batch_id,
+            requestId: r.request_id,
+            ip: r.ip,
+            prevHash: r.prev_hash,
+            keyed: r.link === null ? undefined : { id, siteId: r.site_id },
+          })
+        if (recomputed !== r.hash) problem = 'hash does not match content'
+        else if (r.link !== null && r.link !== linkOf(r.hash, keys.linkKey))
+          problem = 'keyed link does not match: written or rewritten without the audit key'
+      }
+      if (problem) {
+        next.catch(() => {})
+        return broken(at, problem)
+      }
+      if (r.link !== null) keyedFrom ??= seq
+      else unkeyed++
+      prev = r.hash
+      lastSeq = seq
+      lastId = id
+      checked++
+    }
+  }
+  const pending = settle(null)
+  if (pending) return pending
+  // the unsealed events: content against the data hash written with it, and each sealed within the bound
+  const clock = opts.clock ?? systemClock
+  const bound = opts.unsealedBoundSeconds ?? UNSEALED_BOUND_SECONDS
+  let unsealed = 0
+  let oldest: { id: number; at: number } | null = null
+  let afterId = 0
+  for (;;) {
+    const page = await sql<Omit<ChainRow, 'seq' | 'prev_hash' | 'hash' | 'link'>>`
+      SELECT id, occurred_at, actor_id, action, entity_type, entity_id, before, after, reason, batch_id, request_id, ip,
+        site_id, data_hash
+      FROM audit_event WHERE seq IS NULL AND id > ${afterId} ORDER BY id LIMIT ${pageSize}`
+      .execute(db)
+      .then((r) => r.rows)
+    for (const r of page) {
+      const id = Number(r.id)
+      const d = dataHash({
+        siteId: r.site_id,
         occurredAt: r.occurred_at,
         actorId: r.actor_id,
         action: r.action,
@@ -247,28 +418,31 @@ export async function verifyAuditChain(
         batchId: r.batch_id,
         requestId: r.request_id,
         ip: r.ip,
-        prevHash: r.prev_hash,
-        keyed: r.link === null ? undefined : { id, siteId: r.site_id },
       })
-      if (recomputed !== r.hash) return broken(id, 'hash does not match content')
-      if (r.link !== null) {
-        if (r.link !== linkOf(r.hash, keys.linkKey))
-          return broken(id, 'keyed link does not match: written or rewritten without the audit key')
-        keyedFrom ??= id
-      } else unkeyed++
-      prev = r.hash
-      lastId = id
-      checked++
+      if (d !== r.data_hash) return broken({ id }, 'hash does not match content')
+      const at = r.occurred_at.getTime()
+      if (!oldest || at < oldest.at) oldest = { id, at }
+      unsealed++
+      afterId = id
     }
+    if (page.length < pageSize) break
   }
-  const pending = settle(null)
-  if (pending) return pending
+  if (oldest) {
+    const waited = (clock.now().getTime() - oldest.at) / 1000
+    if (waited > bound)
+      return broken(
+        { id: oldest.id },
+        `event ${oldest.id} has waited ${Math.round(waited)} s unsealed (more than ${bound} s): the sealer is not running, or the event was put there behind its back`,
+      )
+  }
   return {
     ok: true,
     checked,
     headId: lastId || undefined,
+    headSeq: lastSeq || undefined,
     headHash: checked ? prev : undefined,
     ...(unkeyed ? { unkeyed } : {}),
+    ...(unsealed ? { unsealed } : {}),
   }
 }
 

@@ -105,6 +105,7 @@ export function createAuditRouter(deps: AppDeps) {
         ip: r.ip,
         prevHash: r.prev_hash,
         hash: r.hash,
+        seq: r.seq === null ? null : Number(r.seq),
       }
     })
     res.json({ total, items, nextCursor: rows.length === q.pageSize ? Number(rows[rows.length - 1].id) : null })
@@ -170,7 +171,7 @@ export function createAuditRouter(deps: AppDeps) {
         r.after === null ? '' : JSON.stringify(r.after),
         r.request_id ?? '',
         r.ip ?? '',
-        r.hash,
+        r.hash ?? 'not yet sealed',
       ])
       res.write(csvPart(fields, lines, first))
       first = false
@@ -182,7 +183,7 @@ export function createAuditRouter(deps: AppDeps) {
 
   router.post('/verify', async (req, res) => {
     authorize(req.ability, 'verify', 'AuditEvent')
-    res.json(await verifyTrailOnce(deps.db))
+    res.json(await verifyTrailOnce(deps.db, deps.clock))
   })
   return router
 }

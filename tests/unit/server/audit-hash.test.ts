@@ -1,0 +1,46 @@
+import { createHash } from 'node:crypto'
+import canonicalize from 'canonicalize'
+import { describe, expect, it } from 'vitest'
+import { dataHash, sealHash } from '../../../server/features/audit/audit.hash.ts'
+
+// The seal hash of format 3 writes its small object out directly; it must be the RFC 8785 canonical JSON that the
+// reference implementation (the canonicalize package, RFC 8785 §3.2) gives, or another verifier would disagree.
+const sha256 = (text: string) => createHash('sha256').update(text, 'utf8').digest('hex')
+
+describe('format-3 hashes', () => {
+  it('seal hash: SHA-256 of the RFC 8785 canonical JSON of { dataHash, id, prevHash, seq, v: 3 }', () => {
+    const cases = [
+      { id: 1, seq: 1, dataHash: 'ab'.repeat(32), prevHash: '0'.repeat(64) },
+      { id: 9_007_199_254_740_991, seq: 123_456_789, dataHash: 'f'.repeat(64), prevHash: '0123456789abcdef'.repeat(4) },
+    ]
+    for (const c of cases)
+      expect(sealHash(c)).toBe(
+        sha256(canonicalize({ v: 3, seq: c.seq, prevHash: c.prevHash, id: c.id, dataHash: c.dataHash })!),
+      )
+    // the helper itself: SHA-256 of the empty string, the well-known digest (value from memory)
+    expect(sha256('')).toBe('e3b0c44298fc1c149afbf4c8996fb92427ae41e4649b934ca495991b7852b855')
+  })
+
+  it('data hash: SHA-256 of the canonical JSON of the content and site, with v: 3 and the time in ISO form', () => {
+    const e = {
+      siteId: 2,
+      occurredAt: new Date('2026-12-03T08:00:00.123Z'),
+      actorId: 7,
+      action: 'limit.update',
+      entityType: 'Limit',
+      entityId: '42',
+      before: { setpoint: '412.5', b: [1, { z: 1, a: 2 }] },
+      after: null,
+      reason: 'Grund ✓',
+      batchId: null,
+      requestId: 'req-1',
+      ip: '127.0.0.1',
+    }
+    // written out by hand in canonical order (RFC 8785 §3.2.3: keys sorted by UTF-16 code units)
+    const text =
+      '{"action":"limit.update","actorId":7,"after":null,"batchId":null,"before":{"b":[1,{"a":2,"z":1}],"setpoint":"412.5"},' +
+      '"entityId":"42","entityType":"Limit","ip":"127.0.0.1","occurredAt":"2026-12-03T08:00:00.123Z","reason":"Grund ✓",' +
+      '"requestId":"req-1","siteId":2,"v":3}'
+    expect(dataHash(e)).toBe(sha256(text))
+  })
+})
