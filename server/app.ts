@@ -21,6 +21,7 @@ import {
 import { createImportsRouter } from './features/register/imports.router.ts'
 import { createHistoryImportsRouter } from './features/history/history-import.router.ts'
 import { createChangeRequestsRouter } from './features/change-requests/change-requests.router.ts'
+import { createChangeProposalsRouter } from './features/change-proposals/change-proposals.router.ts'
 import {
   createDegradationRouter,
   createTestDeferralsRouter,
@@ -138,6 +139,7 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
   api.use('/imports', createImportsRouter(deps))
   api.use('/history-imports', createHistoryImportsRouter(deps))
   api.use('/change-requests', createChangeRequestsRouter(deps))
+  api.use('/change-proposals', createChangeProposalsRouter(deps))
   api.use('/audit-events', createAuditRouter(deps))
   api.use('/demands', createDemandsRouter(deps))
   api.use('/mail', createMailRouter(deps))

@@ -310,6 +310,20 @@ export interface ChangeRequestTable {
   created_at: Timestamp
   updated_at: Timestamp
 }
+export interface ChangeProposalTable {
+  id: Generated<number>
+  site_id: number
+  limit_id: number | null
+  title: string
+  reason: string
+  status: ColumnType<'open' | 'taken_up' | 'declined', 'open' | undefined, 'taken_up' | 'declined'>
+  proposer_id: number
+  created_at: Timestamp
+  decided_by: number | null
+  decided_at: Timestamp | null
+  decline_reason: string | null
+  change_request_id: number | null
+}
 export interface ChangeRequestItemTable {
   id: Generated<number>
   change_request_id: number
@@ -713,6 +727,7 @@ export interface Database {
   import_batch: ImportBatchTable
   import_mapping: ImportMappingTable
   change_request: ChangeRequestTable
+  change_proposal: ChangeProposalTable
   change_request_item: ChangeRequestItemTable
   change_request_editor: ChangeRequestEditorTable
   change_request_check: ChangeRequestCheckTable

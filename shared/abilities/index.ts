@@ -37,6 +37,7 @@ export type SubjectName =
   | 'Instrument'
   | 'Limit'
   | 'ChangeRequest'
+  | 'ChangeProposal'
   | 'TripTest'
   | 'Bypass'
   | 'BypassReview'
@@ -171,6 +172,12 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
   }
   const manager = sitesWith('plant_manager')
   if (manager.length) can('accept', 'Finding', { siteId: { $in: manager } })
+  // change proposals (docs/change-requests.md#change-proposals): everyone at the site reads them; operators,
+  // technicians, control engineers and shift supervisors raise them; safety engineers take them up or decline them
+  if (allSites.length) can('read', 'ChangeProposal', { siteId: { $in: allSites } })
+  const proposer = sitesWith('operator', 'technician', 'control_engineer', 'shift_supervisor')
+  if (proposer.length) can('create', 'ChangeProposal', { siteId: { $in: proposer } })
+  if (engineer.length) can('review', 'ChangeProposal', { siteId: { $in: engineer } })
   return rules
 }
 

@@ -105,6 +105,8 @@ export const CreateChangeRequestInputSchema = z
     ...fields,
     /** the temporary change this request reverses (docs/change-requests.md#expired-temporary-changes) */
     reversesId: z.number().int().positive().max(2_147_483_647).nullable().default(null),
+    /** the change proposal this request develops: creating the request takes the proposal up */
+    proposalId: z.number().int().positive().max(2_147_483_647).nullable().default(null),
   })
   .superRefine((v, ctx) => {
     if (v.type === 'temporary' && !v.expiresAt)

@@ -15,6 +15,7 @@ export const AUDIT_ENTITY_SITE = {
   Limit: 'limit_function',
   ImportBatch: 'import_batch',
   ChangeRequest: 'change_request',
+  ChangeProposal: 'change_proposal',
   TripTest: 'trip_test',
   TestDeferral: 'test_deferral',
   Bypass: 'bypass',

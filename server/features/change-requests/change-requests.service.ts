@@ -51,6 +51,7 @@ import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { contentHash, insertSignature, listSignatures, voidSignatures } from '../signatures/signatures.ts'
 import { findUsersWithRole } from '../users/users.repository.ts'
+import { takeUpInTransaction } from '../change-proposals/change-proposals.service.ts'
 import * as repo from './change-requests.repository.ts'
 
 type Trx = Transaction<Database>
@@ -535,7 +536,10 @@ export async function createChangeRequest(
   deps: AppDeps,
   ability: AppAbility,
   ctx: AuditContext,
-  input: Omit<CreateChangeRequestInput, 'reversesId'> & { reversesId?: number | null },
+  input: Omit<CreateChangeRequestInput, 'reversesId' | 'proposalId'> & {
+    reversesId?: number | null
+    proposalId?: number | null
+  },
   opts: { importBatchId?: number; auditBatchId?: string; trx?: Trx } = {},
 ): Promise<number> {
   authorize(ability, 'create', 'ChangeRequest', { siteId: input.siteId })
@@ -556,6 +560,7 @@ export async function createChangeRequest(
     await writeItems(deps, trx, id, input.siteId, input.items)
     await repo.updateRequest(trx, id, { approvals_required: await approvalsRequiredFor(trx, input.siteId, id) })
     const hash = await refreshHash(trx, id)
+    if (input.proposalId) await takeUpInTransaction(deps, ability, ctx, trx, input.proposalId, id)
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_request.create',
       entityType: ENTITY,
