@@ -13,6 +13,7 @@ import {
   mdiGauge,
   mdiHistory,
   mdiHomeOutline,
+  mdiLightbulbOnOutline,
   mdiLightningBoltOutline,
   mdiPauseCircleOutline,
   mdiPipeDisconnected,
@@ -47,6 +48,13 @@ export const NAV_ITEMS: NavItem[] = [
     test: 'nav-processes',
   },
   { title: 'Changes', to: '/changes', icon: mdiSwapHorizontal, test: 'nav-changes' },
+  {
+    title: 'Change proposals',
+    to: '/proposals',
+    icon: mdiLightbulbOnOutline,
+    can: ['read', 'ChangeProposal'],
+    test: 'nav-proposals',
+  },
   { title: 'Trip tests', to: '/tests', icon: mdiClipboardCheckOutline, can: ['read', 'TripTest'], test: 'nav-tests' },
   {
     title: 'Demands and trips',

@@ -6,6 +6,7 @@ import auditRoutes from '@/features/audit/routes'
 import authRoutes from '@/features/auth/routes'
 import bypassRoutes from '@/features/bypasses/routes'
 import changeRequestRoutes from '@/features/change-requests/routes'
+import changeProposalRoutes from '@/features/change-proposals/routes'
 import demandRoutes from '@/features/demands/routes'
 import homeRoutes from '@/features/home/routes'
 import mailRoutes from '@/features/mail/routes'
@@ -19,6 +20,7 @@ export const routes: RouteRecordRaw[] = [
   ...homeRoutes,
   ...registerRoutes,
   ...changeRequestRoutes,
+  ...changeProposalRoutes,
   ...tripTestRoutes,
   ...demandRoutes,
   ...bypassRoutes,

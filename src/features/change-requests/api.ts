@@ -59,6 +59,8 @@ export interface ChangeRequestBody {
   items: ChangeItemBody[]
   /** the temporary change this request reverses (on creation only) */
   reversesId?: number | null
+  /** the change proposal this request develops (on creation only) */
+  proposalId?: number | null
 }
 
 /** An audit event of the request's timeline (readable by auditors, administrators and plant managers). */
