@@ -1,6 +1,6 @@
 // Demo activity on top of the demo register, made through the product's own services as the demo people would:
 // trip tests done over the past year, one failed test (a degraded limit with signed measures), an active bypass,
-// change requests waiting for approval and for implementation, a year of demands and trips with a test deferral
+// change requests waiting for approval and for implementation, change proposals, a year of demands and trips with a test deferral
 // (demo-demands.ts), and the alarm journal. Invented plant, invented people.
 import type { Clock } from '../clock.ts'
 import type { Config } from '../config.ts'
@@ -13,6 +13,7 @@ import {
   createChangeRequest,
   submitChangeRequest,
 } from '../features/change-requests/change-requests.service.ts'
+import { createProposal, declineProposal } from '../features/change-proposals/change-proposals.service.ts'
 import { TripTestInputSchema } from '../../shared/schemas/trip-tests.ts'
 import { createTripTest, signDegradationMeasures, signTripTest } from '../features/trip-tests/trip-tests.service.ts'
 import { demoActors, demoPrecautions } from './demo-actors.ts'
@@ -212,6 +213,41 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
       logger.warn({ component: 'seed', tag: l.tag, err }, 'demo change skipped')
     }
   }
+
+  // change proposals from the floor: two open, one declined with its reason (docs/change-requests.md#change-proposals)
+  const [first, second] = candidates.slice(2)
+  if (first) {
+    await createProposal(deps, op.ability, op.ctx, {
+      siteId: fhr.id,
+      limitId: first.id,
+      title: `Alarm ${first.tag} comes in at every feed switch`,
+      reason:
+        'The alarm sounds for a minute or two at each feed tank switch and clears on its own; nobody acts on it. ' +
+        'Could it get an on-delay or a wider deadband?',
+    })
+  }
+  if (second) {
+    const p = await createProposal(deps, tech.ability, tech.ctx, {
+      siteId: fhr.id,
+      limitId: second.id,
+      title: `Move ${second.tag} to the spare transmitter`,
+      reason: 'The present transmitter drifts between calibrations; the spare on the same nozzle is steadier.',
+    })
+    await declineProposal(
+      deps,
+      eng.ability,
+      eng.ctx,
+      p.id,
+      'The transmitter is being replaced like for like in the next turnaround; the limit itself does not change.',
+    )
+  }
+  await createProposal(deps, sup.ability, sup.ctx, {
+    siteId: fhr.id,
+    limitId: null,
+    title: 'Shelving of fired-heater alarms during burner light-off',
+    reason: 'During light-off the crew shelves the same alarms every time by hand; a documented rule would be safer.',
+  })
+
   await seedDemoDemands(deps, as)
   // history from the former system on plain limits the activity above leaves untested and uncommissioned
   const untouched = await db

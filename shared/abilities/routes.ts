@@ -96,6 +96,13 @@ export const ROUTE_ACCESS: Record<string, RouteAccess> = {
 
   // management of change (docs/change-requests.md)
   'POST /api/change-requests': { roles: ENGINEER, otherSite: 403 },
+  // change proposals (docs/change-requests.md#change-proposals)
+  'POST /api/change-proposals': {
+    roles: ['operator', 'technician', 'control_engineer', 'shift_supervisor'],
+    otherSite: 403,
+  },
+  'POST /api/change-proposals/:id/take-up': { roles: ENGINEER, otherSite: 'missing' },
+  'POST /api/change-proposals/:id/decline': { roles: ENGINEER, otherSite: 'missing' },
   'PATCH /api/change-requests/:id': { roles: ENGINEER, otherSite: 'missing' },
   'POST /api/change-requests/:id/submission': { roles: ENGINEER, otherSite: 'missing' },
   'POST /api/change-requests/:id/withdrawal': { roles: ENGINEER, otherSite: 'missing' },

@@ -15,6 +15,7 @@ import { hashPassword } from '../../server/features/session/passwords.ts'
 import { seedDemoActivity } from '../../server/seed/demo-activity.ts'
 import * as alarms from '../../shared/schemas/alarms.ts'
 import * as bypasses from '../../shared/schemas/bypasses.ts'
+import * as changeProposals from '../../shared/schemas/change-proposals.ts'
 import * as changeRequests from '../../shared/schemas/change-requests.ts'
 import * as common from '../../shared/schemas/common.ts'
 import * as demands from '../../shared/schemas/demands.ts'
@@ -46,6 +47,7 @@ const TABLES = [
   'import_batch',
   'change_request',
   'change_request_item',
+  'change_proposal',
   'signature',
   'attachment',
   'trip_test',
@@ -152,6 +154,7 @@ function listParameterNames(): string[] {
   for (const mod of [
     alarms,
     bypasses,
+    changeProposals,
     changeRequests,
     common,
     demands,

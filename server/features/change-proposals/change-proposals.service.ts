@@ -9,7 +9,7 @@ import type {
   ChangeProposalListQuery,
   CreateChangeProposalInput,
 } from '../../../shared/schemas/change-proposals.ts'
-import { authorize } from '../../authorize.ts'
+import { ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -43,7 +43,7 @@ function toDto(r: repo.ProposalRow): ChangeProposalDto {
 export async function getProposal(deps: AppDeps, ability: AppAbility, id: number, db: AppDeps['db'] | Trx = deps.db) {
   const row = await repo.findProposal(db, id)
   if (!row) throw notFound('Change proposal')
-  authorize(ability, 'read', 'ChangeProposal', { siteId: row.site_id })
+  ensureVisible(ability, 'ChangeProposal', { siteId: row.site_id }, 'Change proposal')
   return toDto(row)
 }
 
@@ -114,7 +114,7 @@ async function guard(
 ) {
   const row = await repo.findProposal(trx, id, true)
   if (!row) throw notFound('Change proposal')
-  authorize(ability, 'read', 'ChangeProposal', { siteId: row.site_id })
+  ensureVisible(ability, 'ChangeProposal', { siteId: row.site_id }, 'Change proposal')
   enforce(changeProposalRules({ siteId: row.site_id, status: row.status }, { id: ctx.actorId!, ability })[action])
   return row
 }

@@ -21,6 +21,7 @@ export interface Fixtures {
   instrumentId: number
   limitId: number
   changeRequestId: number
+  proposalId: number
   tripTestId: number
   deferralId: number
   bypassId: number
@@ -179,6 +180,17 @@ export const CALLS: Record<string, CallSpec> = {
       items: [{ kind: 'create', limitId: f.limitId }],
     }),
   },
+  'POST /api/change-proposals': {
+    body: (f) => ({ siteId: f.siteId, limitId: f.limitId, title: 'Matrix proposal', reason: 'Spurious trips' }),
+  },
+  'POST /api/change-proposals/:id/take-up': {
+    params: (f) => ({ id: f.proposalId }),
+    body: (f) => ({ changeRequestId: f.changeRequestId }),
+  },
+  'POST /api/change-proposals/:id/decline': {
+    params: (f) => ({ id: f.proposalId }),
+    body: () => ({ reason: 'Covered by the high alarm' }),
+  },
   'PATCH /api/change-requests/:id': { params: (f) => ({ id: f.changeRequestId }), body: () => ({}) },
   'POST /api/change-requests/:id/submission': { params: (f) => ({ id: f.changeRequestId }) },
   'POST /api/change-requests/:id/withdrawal': { params: (f) => ({ id: f.changeRequestId }) },
@@ -275,6 +287,7 @@ const TABLES = [
   'instrument',
   'limit_function',
   'change_request',
+  'change_proposal',
   'trip_test',
   'test_deferral',
   'bypass',
@@ -302,6 +315,12 @@ export async function completeFixtures(ownerUrl: string, app: Express, fhr: numb
       await c.query(
         `INSERT INTO import_batch (site_id, created_by, file_name, checksum, row_count, rows, created_at)
          VALUES ($1, $2, 'register.csv', '0', 0, '[]', now())`,
+        [fhr, adminId],
+      )
+    if (!(await has('change_proposal', fhr)))
+      await c.query(
+        `INSERT INTO change_proposal (site_id, title, reason, proposer_id, created_at)
+         VALUES ($1, 'Raise the trip by 10 °C', 'Spurious trips at start-up', $2, now())`,
         [fhr, adminId],
       )
     if (!(await has('process_data_upload', fhr)))
@@ -401,6 +420,7 @@ export async function fixturesAt(
     instrumentId: await at('instrument'),
     limitId: await at('limit_function'),
     changeRequestId: await at('change_request'),
+    proposalId: await at('change_proposal'),
     tripTestId: await at('trip_test'),
     deferralId: await at('test_deferral'),
     bypassId: await at('bypass'),

@@ -4,7 +4,7 @@ import { type Kysely, sql } from 'kysely'
 // maintenance raises what should change and why; a safety engineer takes it up into a change request or declines it.
 export async function up(db: Kysely<any>): Promise<void> {
   await sql`CREATE TABLE change_proposal (
-    id serial PRIMARY KEY,
+    id integer GENERATED ALWAYS AS IDENTITY PRIMARY KEY,
     site_id integer NOT NULL REFERENCES site(id),
     limit_id integer REFERENCES limit_function(id),
     title text NOT NULL,
