@@ -8,7 +8,13 @@ import type {
   Signal,
   Subsystem,
 } from '../../shared/schemas/register.ts'
-import type { ChangeItemKind, ChangeStatus, ChangeType, ChecklistItem } from '../../shared/schemas/change-requests.ts'
+import type {
+  ChangeItemKind,
+  ChangeStatus,
+  ChangeType,
+  ChecklistItem,
+  Discipline,
+} from '../../shared/schemas/change-requests.ts'
 import type {
   AsFoundResultDto,
   AsLeftResultDto,
@@ -293,6 +299,8 @@ export interface ChangeRequestTable {
   proposer_id: number
   expires_at: Timestamp | null
   approvals_required: number
+  /** the discipline reviews the site policy asked for when the request was written (docs/change-requests.md) */
+  reviews_required: ColumnType<Discipline[], Discipline[] | undefined, Discipline[]>
   content_hash: string
   import_batch_id: number | null
   submitted_at: Timestamp | null

@@ -1,5 +1,13 @@
 import { AbilityBuilder, createMongoAbility, type MongoAbility, type RawRuleOf } from '@casl/ability'
+import type { Discipline } from '../schemas/change-requests.ts'
 import type { Role, RoleAssignment } from '../schemas/users.ts'
+
+/** Who may sign each discipline review of a change request (docs/change-requests.md#discipline-reviews). */
+export const DISCIPLINE_REVIEWERS: Record<Discipline, readonly Role[]> = {
+  operations: ['shift_supervisor'],
+  process: ['safety_engineer'],
+  instrumentation: ['control_engineer', 'technician'],
+}
 
 /** Actions of the workflows (docs/architecture.md), as CASL verbs. */
 export type Action =
@@ -117,6 +125,13 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
     // separation of duties: never the proposer, never anyone who edited the request
     cannot('approve', 'ChangeRequest', { proposerId: user.id }).because('Nobody approves a change they proposed')
     cannot('approve', 'ChangeRequest', { editorIds: user.id }).because('Nobody approves a change they edited')
+  }
+  // discipline reviews before approval (docs/change-requests.md#discipline-reviews; common practice): operations by a
+  // shift supervisor, process by a safety engineer, instrumentation by a control engineer or a technician; the rule
+  // book keeps the proposer, editors and approvers of the same request out
+  for (const [discipline, roles] of Object.entries(DISCIPLINE_REVIEWERS) as [Discipline, readonly Role[]][]) {
+    const at = sitesWith(...roles)
+    if (at.length) can('review', 'ChangeRequest', { siteId: { $in: at }, discipline })
   }
   // an emergency change before its approval is implemented only by a shift supervisor (below)
   const implementApproved = (siteIds: number[]) => {

@@ -42,6 +42,7 @@ export const AUDIT_ACTION_LABELS: Record<string, string> = {
   'change_request.update': 'Change request edited',
   'change_request.submit': 'Change request submitted',
   'change_request.withdraw': 'Change request withdrawn',
+  'change_request.review': 'Change request reviewed for a discipline (signed)',
   'change_request.approve': 'Change request approved (signed)',
   'change_request.reject': 'Change request rejected (signed)',
   'change_request.implement': 'Change request implemented (signed)',

@@ -1,6 +1,20 @@
 import { z } from 'zod'
 import { IdSchema, ListQuerySchema, type ListResult, repeated } from './common.ts'
 
+/**
+ * The discipline reviews a site policy may ask of a change request (docs/change-requests.md#discipline-reviews):
+ * reviewers sign before the approver.
+ */
+export const DISCIPLINES = ['operations', 'process', 'instrumentation'] as const
+export type Discipline = (typeof DISCIPLINES)[number]
+export const DISCIPLINE_LABELS: Record<Discipline, string> = {
+  operations: 'Operations',
+  process: 'Process',
+  instrumentation: 'Instrumentation',
+}
+/** The signature meaning of a discipline review. */
+export const reviewMeaning = (d: Discipline) => `reviewed_${d}` as const
+
 export const CHANGE_TYPES = ['permanent', 'temporary', 'emergency'] as const
 export const CHANGE_STATUSES = [
   'draft',
@@ -140,6 +154,12 @@ export const ImplementInputSchema = z.union([
     comment: z.string().trim().max(2000).default(''),
   }),
 ])
+export const ReviewInputSchema = z.object({
+  discipline: z.enum(DISCIPLINES),
+  password: z.string().min(1, 'Enter your password to sign').max(128),
+  comment: z.string().trim().max(2000).default(''),
+})
+export type ReviewInput = z.infer<typeof ReviewInputSchema>
 export const ClosureInputSchema = z.object({
   password: z.string().min(1, 'Enter your password to sign').max(128),
   pssr: z.object({
@@ -211,6 +231,8 @@ export interface ChangeRequestDto {
   expiresAt: string | null
   approvalsRequired: number
   approvalsHeld: number
+  /** the discipline reviews this request needs before approval (from the site policy when it was written) */
+  reviewsRequired: Discipline[]
   contentHash: string
   submittedAt: string | null
   approvedAt: string | null

@@ -1,6 +1,7 @@
 import { z } from 'zod'
 import { checkPriorityMatrix, DEFAULT_ALARM_PHILOSOPHY, DEFAULT_PRIORITY_MATRIX } from '../domain/priority.ts'
 import { AlarmPolicySchema, DEFAULT_ALARM_POLICY } from './alarms.ts'
+import { DISCIPLINES } from './change-requests.ts'
 import { RoleSchema } from './users.ts'
 
 const cell = z.enum(['low', 'medium', 'high', 'critical', 'alert'])
@@ -49,6 +50,12 @@ export const SitePolicySchema = z.object({
   approvalsRequiredSil: z.number().int().min(1).max(5).default(2),
   approvalsRequiredOther: z.number().int().min(1).max(5).default(1),
   approvalExpiryDays: z.number().int().min(1).max(365).default(30),
+  /** discipline reviews a change request needs before approval (docs/change-requests.md#discipline-reviews) */
+  disciplineReviews: z
+    .array(z.enum(DISCIPLINES))
+    .max(3)
+    .refine((a) => new Set(a).size === a.length, 'Name each discipline once')
+    .default([]),
   testGraceFraction: z.number().min(0).max(0.5).default(0.1),
   testGraceMaxDays: z.number().int().min(0).max(90).default(30),
   /** Share of the interval given as grace to SIL-rated functions: 0, a late one needs an approved deferral. */

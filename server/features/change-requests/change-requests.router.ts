@@ -9,6 +9,7 @@ import {
   ImplementInputSchema,
   ReadBackCheckInputSchema,
   RejectInputSchema,
+  ReviewInputSchema,
   SignInputSchema,
   UpdateChangeRequestInputSchema,
 } from '../../../shared/schemas/change-requests.ts'
@@ -72,6 +73,10 @@ export function createChangeRequestsRouter(deps: AppDeps) {
   router.post('/:id/approvals', async (req, res) => {
     const b = SignInputSchema.parse(req.body)
     res.json(await service.approveChangeRequest(deps, req.ability, req.audit, id(req.params.id), b.password, b.comment))
+  })
+  router.post('/:id/reviews', async (req, res) => {
+    const b = ReviewInputSchema.parse(req.body)
+    res.json(await service.reviewChangeRequest(deps, req.ability, req.audit, id(req.params.id), b))
   })
   router.post('/:id/rejections', async (req, res) => {
     const b = RejectInputSchema.parse(req.body)

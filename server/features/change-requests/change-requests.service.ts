@@ -1,6 +1,6 @@
 import canonicalize from 'canonicalize'
 import type { Transaction } from 'kysely'
-import type { AppAbility } from '../../../shared/abilities/index.ts'
+import { type AppAbility, DISCIPLINE_REVIEWERS } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import {
   type ChangeItemDto,
@@ -13,10 +13,13 @@ import {
   type ChecklistItem,
   type CreateChangeRequestInput,
   DEVICE_FIELDS_INSTRUMENT,
+  DISCIPLINES,
   DEVICE_FIELDS_LIMIT,
   IMPACT_CHECKLIST,
   READ_BACK_STATE_FIELDS,
   type ReadBackComparison,
+  type ReviewInput,
+  reviewMeaning,
   type UpdateChangeRequestInput,
 } from '../../../shared/schemas/change-requests.ts'
 import { normalizeDecimal } from '../../../shared/domain/modbus-decode.ts'
@@ -32,6 +35,7 @@ import {
   changeRequestRules,
   implementItemVerdict,
   openChecks,
+  reviewVerdict,
   temporaryState,
 } from '../../../shared/domain/rules/change-requests.ts'
 import { authorize, ensureVisible } from '../../authorize.ts'
@@ -258,9 +262,15 @@ async function refreshHash(trx: Trx, crId: number) {
   return hash
 }
 
-async function approvalsRequiredFor(trx: Trx, siteId: number, crId: number): Promise<number> {
+/** The approvals and discipline reviews the site policy asks of the request as it is written now. */
+async function requirementsFor(trx: Trx, siteId: number, crId: number) {
   const policy = policyOf(await repo.siteOf(trx, siteId))
-  return (await repo.touchesSilFunction(trx, crId)) ? policy.approvalsRequiredSil : policy.approvalsRequiredOther
+  return {
+    approvals_required: (await repo.touchesSilFunction(trx, crId))
+      ? policy.approvalsRequiredSil
+      : policy.approvalsRequiredOther,
+    reviews_required: DISCIPLINES.filter((d) => policy.disciplineReviews.includes(d)),
+  }
 }
 
 // ---------- reading ----------
@@ -400,6 +410,7 @@ export async function getChangeRequest(
     expiresAt: row.expires_at?.toISOString() ?? null,
     approvalsRequired: row.approvals_required,
     approvalsHeld: approvals.length,
+    reviewsRequired: row.reviews_required,
     contentHash: row.content_hash,
     submittedAt: row.submitted_at?.toISOString() ?? null,
     approvedAt: row.approved_at?.toISOString() ?? null,
@@ -558,7 +569,7 @@ export async function createChangeRequest(
       now: deps.clock.now(),
     })
     await writeItems(deps, trx, id, input.siteId, input.items)
-    await repo.updateRequest(trx, id, { approvals_required: await approvalsRequiredFor(trx, input.siteId, id) })
+    await repo.updateRequest(trx, id, await requirementsFor(trx, input.siteId, id))
     const hash = await refreshHash(trx, id)
     if (input.proposalId) await takeUpInTransaction(deps, ability, ctx, trx, input.proposalId, id)
     await appendAudit(trx, deps.clock, ctx, {
@@ -630,7 +641,7 @@ export async function updateChangeRequest(
       version: row.version + 1,
     })
     if (input.items) await writeItems(deps, trx, id, row.site_id, input.items)
-    await repo.updateRequest(trx, id, { approvals_required: await approvalsRequiredFor(trx, row.site_id, id) })
+    await repo.updateRequest(trx, id, await requirementsFor(trx, row.site_id, id))
     const hash = await refreshHash(trx, id)
     await repo.addEditor(trx, id, ctx.actorId!)
     const voided =
@@ -675,9 +686,29 @@ export async function submitChangeRequest(deps: AppDeps, ability: AppAbility, ct
         `${proposer.display_name} submitted change request #${id} "${row.title}" (${row.type}).`,
         `It needs ${row.approvals_required} approval(s). Review the changes, the operating window before and after, ` +
           'and sign if you agree.',
+        ...(row.reviews_required.length
+          ? [`The ${row.reviews_required.join(', ')} review(s) are signed before the approval.`]
+          : []),
       ],
       id,
     )
+    // the reviewers of each discipline the request needs (docs/change-requests.md#discipline-reviews)
+    for (const d of row.reviews_required) {
+      const reviewers = (await findUsersWithRole(trx, row.site_id, [...DISCIPLINE_REVIEWERS[d]])).filter(
+        (u) => u.id !== row.proposer_id,
+      )
+      await mailTo(
+        deps,
+        trx,
+        reviewers,
+        `Change request #${id} waits for the ${d} review: ${row.title}`,
+        [
+          `${proposer.display_name} submitted change request #${id} "${row.title}" (${row.type}).`,
+          `The site asks for a ${d} review before approval. Review the changes and sign the review, with your comments.`,
+        ],
+        id,
+      )
+    }
   })
   return getChangeRequest(deps, ability, id)
 }
@@ -767,6 +798,48 @@ export async function approveChangeRequest(
         id,
       )
     }
+  })
+  return getChangeRequest(deps, ability, id)
+}
+
+/**
+ * Signs a discipline review (docs/change-requests.md#discipline-reviews): the rule book answers who may sign which
+ * review and when; the signature covers the request's content hash, with the reviewer's comments.
+ */
+export async function reviewChangeRequest(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+  input: ReviewInput,
+) {
+  const { discipline, password, comment } = input
+  await loadRow(deps.db, id)
+  const before = await rulesNow(deps, ability, ctx, id, deps.db)
+  const first = reviewVerdict(before.cr, discipline, before.actor)
+  // role and separation of duties first (403), before the password is verified
+  if (!first.allowed && first.status === 403) enforce(first)
+  const signer = await verifySignaturePassword(deps, ctx.actorId!, password, ctx, { entityType: ENTITY, entityId: id })
+  await deps.db.transaction().execute(async (trx) => {
+    const row = await loadRow(trx, id, true)
+    const { cr, actor } = await rulesNow(deps, ability, ctx, id, trx)
+    enforce(reviewVerdict(cr, discipline, actor))
+    await insertSignature(trx, deps.clock, {
+      entityType: ENTITY,
+      entityId: id,
+      userId: signer.id,
+      name: signer.name,
+      meaning: reviewMeaning(discipline),
+      contentHash: row.content_hash,
+      comment,
+    })
+    await repo.updateRequest(trx, id, { updated_at: deps.clock.now(), version: row.version + 1 })
+    await appendAudit(trx, deps.clock, ctx, {
+      action: 'change_request.review',
+      entityType: ENTITY,
+      entityId: id,
+      after: { signer: signer.name, meaning: reviewMeaning(discipline), contentHash: row.content_hash, comment },
+    })
   })
   return getChangeRequest(deps, ability, id)
 }

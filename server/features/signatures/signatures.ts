@@ -1,5 +1,6 @@
 import { createHash } from 'node:crypto'
 import canonicalize from 'canonicalize'
+import type { Discipline } from '../../../shared/schemas/change-requests.ts'
 
 /** SHA-256 over the RFC 8785 canonical JSON of what is signed. */
 export function contentHash(content: unknown): string {
@@ -20,6 +21,7 @@ export type Meaning =
   | 'accepted'
   | 'acknowledged'
   | 'returned_to_service'
+  | `reviewed_${Discipline}`
 
 // the queries are in signatures.repository.ts; callers import them from here as before
 export { insertSignature, listSignatures, voidSignatures } from './signatures.repository.ts'

@@ -1,6 +1,15 @@
 import { subject } from '@casl/ability'
 import type { AppAbility } from '../../abilities/index.ts'
-import type { ChangeStatus, ChangeType, ChecklistGroup } from '../../schemas/change-requests.ts'
+import { DISCIPLINE_REVIEWERS } from '../../abilities/index.ts'
+import {
+  DISCIPLINES,
+  type ChangeStatus,
+  type ChangeType,
+  type ChecklistGroup,
+  type Discipline,
+  reviewMeaning,
+} from '../../schemas/change-requests.ts'
+import { ROLE_LABELS } from '../../schemas/users.ts'
 import { allow, blocked, forbid, invalid, type Verdict, type Verdicts } from './verdict.ts'
 
 /**
@@ -39,6 +48,8 @@ export interface ChangeRuleRecord {
   items: { id: number; kind: string; implementedAt: string | null; stale: boolean }[]
   signatures: { userId: number; meaning: string; voided: boolean }[]
   checklist: { item: string; label: string; group: ChecklistGroup; doneAt: string | null }[]
+  /** the discipline reviews needed before approval (none when absent) */
+  reviewsRequired?: Discipline[]
 }
 
 export interface ChangeActor {
@@ -97,6 +108,11 @@ function approverChecks(cr: ChangeRuleRecord, actor: ChangeActor): Verdict {
     )
   if (signed(cr, actor.id, 'implemented'))
     return forbid('Nobody approves a change they implemented: an independent approver must sign.')
+  const reviewed = reviewedBy(cr, actor.id)
+  if (reviewed)
+    return forbid(
+      `Nobody approves a change they reviewed (${reviewed} review): the approval is an independent check on top of the reviews.`,
+    )
   if (!can(actor, 'approve', cr)) return forbid('You may not approve this change.')
   return allow
 }
@@ -108,6 +124,11 @@ function approveVerdict(cr: ChangeRuleRecord, actor: ChangeActor): Verdict {
     return blocked(`This change request is ${cr.status}; it cannot be approved now.`)
   if (signed(cr, actor.id, 'approved'))
     return blocked('You have approved this request already; it waits for another approver.')
+  const waiting = missingReviews(cr)
+  if (waiting.length)
+    return blocked(
+      `Reviewers sign before the approver: the ${listOf(waiting)} review${waiting.length > 1 ? 's are' : ' is'} not signed yet.`,
+    )
   return allow
 }
 
@@ -181,6 +202,56 @@ function proposeReversalVerdict(cr: ChangeRuleRecord, actor: ChangeActor, now: D
   const open = cr.reversals.find((r) => ['draft', 'submitted', 'approved'].includes(r.status))
   if (open) return blocked(`Reversal #${open.id} is under way already; take that one forward.`)
   return allow
+}
+
+const listOf = (words: string[]) =>
+  words.length <= 1 ? words.join('') : `${words.slice(0, -1).join(', ')} and ${words[words.length - 1]}`
+
+/** The discipline whose review this person signed on the request (open signatures), if any. */
+function reviewedBy(cr: ChangeRuleRecord, userId: number): Discipline | undefined {
+  return DISCIPLINES.find((d) => signed(cr, userId, reviewMeaning(d)))
+}
+/** The open signature of a discipline's review, if signed. */
+export function reviewOf<S extends { meaning: string; voided: boolean }>(
+  cr: { signatures: S[] },
+  d: Discipline,
+): S | undefined {
+  return cr.signatures.find((s) => !s.voided && s.meaning === reviewMeaning(d))
+}
+/** The required discipline reviews not signed yet. */
+export function missingReviews(cr: Pick<ChangeRuleRecord, 'signatures' | 'reviewsRequired'>): Discipline[] {
+  return (cr.reviewsRequired ?? []).filter((d) => !reviewOf(cr, d))
+}
+
+const reviewerRoles = (d: Discipline) =>
+  listOf(DISCIPLINE_REVIEWERS[d].map((r) => ROLE_LABELS[r].toLowerCase())).replace(/ and /, ' or ')
+
+/**
+ * Whether the actor may sign the discipline review `d` (docs/change-requests.md#discipline-reviews): a reviewer of
+ * that discipline at the site, never the proposer, an editor or an approver of the request, one discipline per person;
+ * only a review the request needs, before approval, once.
+ */
+export function reviewVerdict(cr: ChangeRuleRecord, d: Discipline, actor: ChangeActor): Verdict {
+  if (!actor.ability.can('review', subject('ChangeRequest', { siteId: cr.siteId, discipline: d }) as never))
+    return forbid(`Only a ${reviewerRoles(d)} of this site signs the ${d} review.`)
+  if (cr.proposerId === actor.id) return forbid('Nobody reviews a change they proposed: the review is independent.')
+  if (cr.editorIds.includes(actor.id)) return forbid('Nobody reviews a change they edited: the review is independent.')
+  if (signed(cr, actor.id, 'approved'))
+    return forbid('Nobody reviews a change they approved: reviewers and approvers are different people.')
+  const other = reviewedBy(cr, actor.id)
+  if (other && other !== d)
+    return forbid(`You signed the ${other} review of this request; another person signs the ${d} review.`)
+  if (!(cr.reviewsRequired ?? []).includes(d)) return blocked(`This change request needs no ${d} review.`)
+  if (cr.status !== 'submitted' && !emergencyAfterTheFact(cr))
+    return blocked(`This change request is ${cr.status}; it is reviewed only while it waits for approval.`)
+  const done = reviewOf(cr, d)
+  if (done) return blocked(`The ${d} review is signed already.`)
+  return allow
+}
+
+/** The discipline reviews of a request for this actor. */
+export function changeReviewRules(cr: ChangeRuleRecord, actor: ChangeActor): Verdicts<Discipline> {
+  return Object.fromEntries(DISCIPLINES.map((d) => [d, reviewVerdict(cr, d, actor)])) as Verdicts<Discipline>
 }
 
 /** Every action of the change-request workflow for this actor, now. */

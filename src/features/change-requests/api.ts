@@ -1,5 +1,6 @@
 import type {
   ChangeRequestDto,
+  Discipline,
   ChangeStatus,
   CHANGE_TYPES,
   ChecklistItem,
@@ -86,6 +87,9 @@ export const submitChangeRequest = (id: number) => http.post<ChangeRequestDto>(`
 export const withdrawChangeRequest = (id: number) => http.post<ChangeRequestDto>(`/change-requests/${id}/withdrawal`)
 export const approveChangeRequest = (id: number, password: string, comment: string) =>
   http.post<ChangeRequestDto>(`/change-requests/${id}/approvals`, { password, comment })
+/** Signs a discipline review of the request (docs/change-requests.md#discipline-reviews). */
+export const reviewChangeRequest = (id: number, discipline: Discipline, password: string, comment: string) =>
+  http.post<ChangeRequestDto>(`/change-requests/${id}/reviews`, { discipline, password, comment })
 export const rejectChangeRequest = (id: number, password: string, comment: string) =>
   http.post<ChangeRequestDto>(`/change-requests/${id}/rejections`, { password, comment })
 export const implementChangeItem = (

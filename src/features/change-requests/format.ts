@@ -47,6 +47,9 @@ export const MEANING_LABELS: Record<string, string> = {
   rejected: 'Rejected',
   implemented: 'Implemented and read back',
   closed: 'Closed after the safety review',
+  reviewed_operations: 'Operations review',
+  reviewed_process: 'Process review',
+  reviewed_instrumentation: 'Instrumentation review',
 }
 
 /** How a field is edited and shown: its label, its unit (`eu` = the instrument's unit) and its input. */

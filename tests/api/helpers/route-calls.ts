@@ -195,6 +195,10 @@ export const CALLS: Record<string, CallSpec> = {
   'POST /api/change-requests/:id/submission': { params: (f) => ({ id: f.changeRequestId }) },
   'POST /api/change-requests/:id/withdrawal': { params: (f) => ({ id: f.changeRequestId }) },
   'POST /api/change-requests/:id/approvals': { params: (f) => ({ id: f.changeRequestId }), body: () => sign },
+  'POST /api/change-requests/:id/reviews': {
+    params: (f) => ({ id: f.changeRequestId }),
+    body: () => ({ discipline: 'instrumentation', comment: 'Ranges and tags checked', ...sign }),
+  },
   'POST /api/change-requests/:id/rejections': {
     params: (f) => ({ id: f.changeRequestId }),
     body: () => ({ ...sign, comment: 'No' }),
