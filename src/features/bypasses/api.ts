@@ -1,7 +1,6 @@
 import { OVERDUE_TEST_STATUSES } from '@shared/domain/rules/trip-tests.ts'
 import type { BypassDto, BypassFilters, BypassReviewDto } from '@shared/schemas/bypasses.ts'
 import type { ListResult } from '@shared/schemas/common.ts'
-import type { Limit, Process } from '@shared/schemas/register.ts'
 import { http, toQuery } from '@/api/client'
 
 export type { BypassFilters }
@@ -110,23 +109,6 @@ export const getRiskErosion = (query: { siteId?: number[]; areaId?: number[]; fr
 export const reviewExportUrl = (format: 'csv' | 'pdf', filters: BypassFilters) =>
   `/api/bypass-review/export${toQuery({ ...filters, format })}`
 
-// Register records the bypass screens need.
-export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
-export const listActiveLimits = (query: { siteId?: number[]; q?: string }) =>
-  http.get<ListResult<Limit>>('/limits', {
-    siteId: query.siteId,
-    status: ['active'],
-    q: query.q,
-    pageSize: 200,
-    sort: 'tag',
-  })
-export const searchLimits = (query: { siteId?: number[]; q?: string }) =>
-  http.get<ListResult<Limit>>('/limits', { siteId: query.siteId, q: query.q, pageSize: 50, sort: 'tag' })
-export const listDegradedLimits = () =>
-  http.get<ListResult<Limit>>('/limits', { status: ['active'], protectionState: ['degraded'], pageSize: 20 })
-export const getInstrumentTag = (id: number) => http.get<{ id: number; tag: string }>(`/instruments/${id}`)
-export const listProcesses = (query: { siteId?: number[]; areaId?: number[] }) =>
-  http.get<ListResult<Process>>('/processes', { ...query, pageSize: 200 })
 export const listOverdueTests = () =>
   http.get<{ items: ScheduleRow[]; total: number }>('/trip-tests/schedule', { status: [...OVERDUE_TEST_STATUSES] })
 export const listTemporaryChanges = (siteId: number) =>

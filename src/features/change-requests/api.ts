@@ -154,10 +154,9 @@ export const listLimitsForChange = (query: { siteId: number; status: 'proposed' 
     pageSize: 100,
     sort: 'tag',
   })
-export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
 /** The limits reading an instrument, for the other limits drawn on an item's operating-window charts. */
 export const listLimitsOnInstrument = (instrumentId: number) =>
   http.get<ListResult<Limit>>('/limits', { instrumentId: [instrumentId], pageSize: 200, sort: 'setpoint' })
 export const listInstrumentsForChange = (query: { siteId: number; q?: string }) =>
   http.get<ListResult<InstrumentRecord>>('/instruments', { siteId: [query.siteId], q: query.q, pageSize: 100 })
-export const getInstrument = (id: number) => http.get<InstrumentRecord>(`/instruments/${id}`)
+export { getInstrument, getLimit } from '@/features/register/api'

@@ -251,25 +251,7 @@ export function orderedKeys(changes: Record<string, unknown>): string[] {
   })
 }
 
-/** A date and time in a site's time zone. */
-export function dateTimeIn(iso: string | null | undefined, timeZone: string | undefined): string {
-  if (!iso) return '—'
-  try {
-    // dateStyle/timeStyle cannot be combined with timeZoneName, so the parts are named one by one
-    return new Intl.DateTimeFormat('en-GB', {
-      year: 'numeric',
-      month: 'short',
-      day: 'numeric',
-      hour: '2-digit',
-      minute: '2-digit',
-      hourCycle: 'h23',
-      timeZone: timeZone ?? 'UTC',
-      timeZoneName: 'short',
-    }).format(new Date(iso))
-  } catch {
-    return iso
-  }
-}
+export { dateTimeIn, sizeText } from '@/format'
 
 /** A compact date and time in a site's time zone (lists); the zone is named in the column or the title. */
 export function shortDateTimeIn(iso: string | null | undefined, timeZone: string | undefined): string {
@@ -291,13 +273,6 @@ export function shortDateTimeIn(iso: string | null | undefined, timeZone: string
 
 /** A hash shortened for display (the full hash goes in the title). */
 export const shortHash = (h: string) => (h.length > 16 ? `${h.slice(0, 8)}…${h.slice(-4)}` : h)
-
-/** A file size in words. */
-export function sizeText(bytes: number): string {
-  if (bytes < 1024) return `${bytes} B`
-  if (bytes < 1024 * 1024) return `${Math.round(bytes / 102.4) / 10} KB`
-  return `${Math.round(bytes / 104_857.6) / 10} MB`
-}
 
 /** An instant as a `datetime-local` input shows it, in the site's time zone. */
 export function toSiteInput(iso: string | null, timeZone: string | undefined): string {

@@ -9,7 +9,6 @@ import type {
   DemandRates,
   FailureRates,
 } from '@shared/schemas/demands.ts'
-import type { Limit } from '@shared/schemas/register.ts'
 import { http } from '@/api/client'
 
 /** The list's filters (`GET /api/demands`). */
@@ -45,15 +44,3 @@ export const proposeObservedLambdaDu = (body: { limitId: number; deviceKind: str
   http.post<{ changeRequestId: number; proposedLambdaDu: number }>('/demands/failure-rates/change-request', body)
 export const setDemandAssumptions = (limitId: number, body: DemandAssumptionsInput) =>
   http.put<DemandAssumptions>(`/demands/assumptions/${limitId}`, body)
-
-// The register as the record form needs it.
-export const searchActiveLimits = (query: { siteId?: number[]; q?: string }) =>
-  http.get<ListResult<Limit>>('/limits', {
-    siteId: query.siteId,
-    status: ['active'],
-    q: query.q,
-    pageSize: 50,
-    sort: 'tag',
-  })
-export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
-export const getInstrumentTag = (id: number) => http.get<{ id: number; tag: string }>(`/instruments/${id}`)

@@ -71,6 +71,21 @@ export const listInstruments = (
   query: { siteId?: number[]; processId?: number[]; q?: string; page?: number; pageSize?: number } = {},
 ) => http.get<ListResult<InstrumentRecord>>('/instruments', query)
 export const getInstrument = (id: number) => http.get<InstrumentRecord>(`/instruments/${id}`)
+/** Active limits by tag or description, for the pickers of the bypass, trip-test and demand forms. */
+export const listActiveLimits = (query: { siteId?: number[]; q?: string; pageSize?: number }) =>
+  http.get<ListResult<Limit>>('/limits', {
+    siteId: query.siteId,
+    status: ['active'],
+    q: query.q,
+    pageSize: query.pageSize ?? 50,
+    sort: 'tag',
+  })
+/** Limits in any state by tag or description (filter pickers). */
+export const searchLimits = (query: { siteId?: number[]; q?: string }) =>
+  http.get<ListResult<Limit>>('/limits', { siteId: query.siteId, q: query.q, pageSize: 50, sort: 'tag' })
+/** Active limits whose protection is degraded (home). */
+export const listDegradedLimits = () =>
+  http.get<ListResult<Limit>>('/limits', { status: ['active'], protectionState: ['degraded'], pageSize: 20 })
 export const createInstrument = (input: CreateInstrumentInput) => http.post<InstrumentRecord>('/instruments', input)
 export const updateInstrument = (id: number, input: Partial<CreateInstrumentInput>) =>
   http.patch<InstrumentRecord>(`/instruments/${id}`, input)

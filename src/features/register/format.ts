@@ -151,14 +151,8 @@ export function returnPoint(
   return Number((l.direction === 'high' ? l.setpoint - db : l.setpoint + db).toPrecision(12))
 }
 
-/** A calendar date 'YYYY-MM-DD' (a due date, already a site date) as '28 Feb 2026'. */
-export function calendarDate(d: string | null | undefined): string {
-  if (!d) return '—'
-  const [y, m, day] = d.slice(0, 10).split('-').map(Number)
-  return new Intl.DateTimeFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric', timeZone: 'UTC' }).format(
-    new Date(Date.UTC(y, m - 1, day)),
-  )
-}
+/** A calendar date as text (the register list's name for `dateText`). */
+export { dateText as calendarDate } from '@/format'
 
 /** The input signal in words. */
 export function signalLabel(s: Signal | null | undefined): string {
@@ -174,23 +168,6 @@ export function signalLabel(s: Signal | null | undefined): string {
       return `${s.low}–${s.high} V`
     case 'switch':
       return 'Discrete switch'
-  }
-}
-
-/** A date and time in a site's time zone. */
-export function dateTimeIn(iso: string, timeZone: string | undefined): string {
-  try {
-    return new Intl.DateTimeFormat('en-GB', {
-      year: 'numeric',
-      month: 'short',
-      day: 'numeric',
-      hour: '2-digit',
-      minute: '2-digit',
-      timeZone: timeZone ?? 'UTC',
-      timeZoneName: 'short',
-    }).format(new Date(iso))
-  } catch {
-    return iso
   }
 }
 

@@ -1,6 +1,4 @@
-import type { TestSignal } from '@shared/domain/test-signal.ts'
-import type { BypassDto } from '@shared/schemas/bypasses.ts'
-import type { Limit, Signal } from '@shared/schemas/register.ts'
+import type { Limit } from '@shared/schemas/register.ts'
 import type {
   OverdueRepair,
   SignatureMeaning,
@@ -136,31 +134,6 @@ export const signDegradationMeasures = (
 /** The plant manager accepts a repair deadline beyond the function's MTTR (a signature). */
 export const approveRepairDeadline = (limitId: number, body: { password: string; comment?: string }) =>
   http.post<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation/deadline-approval`, body)
-
-// The register as the test form needs it.
-export const listActiveLimits = (query: { q?: string; siteId?: number[] }) =>
-  http.get<{ items: Limit[]; total: number }>('/limits', {
-    status: ['active'],
-    q: query.q,
-    siteId: query.siteId,
-    pageSize: 50,
-    sort: 'tag',
-  })
-export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
-/** The instrument fields the test form needs. */
-export interface TestedInstrument {
-  id: number
-  tag: string
-  unit: string
-  rangeLow: number
-  rangeHigh: number
-  signal: Signal
-}
-export const getInstrument = (id: number) => http.get<TestedInstrument>(`/instruments/${id}`)
-export const getTestSignal = (limitId: number, query: { coldJunction?: number; mode?: 'mv_source' | 'tc_simulate' }) =>
-  http.get<TestSignal>(`/limits/${limitId}/test-signal`, query)
-export const listActiveBypasses = (limitId: number) =>
-  http.get<{ items: BypassDto[]; total: number }>('/bypasses', { limitId: [limitId], status: ['active'], pageSize: 20 })
 
 /** Address of the test history as CSV (a download). */
 export const exportUrl = (query: { siteId?: number[]; limitId?: number }) => `/api/trip-tests/export${toQuery(query)}`

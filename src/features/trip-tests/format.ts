@@ -69,32 +69,6 @@ export const MEANING_LABELS: Record<string, string> = {
   accepted: 'Accepted back into service',
 }
 
-/** A calendar date 'YYYY-MM-DD' as '28 Feb 2026' (no time zone: due dates already are site dates). */
-export function dateText(d: string | null | undefined): string {
-  if (!d) return '—'
-  const [y, m, day] = d.split('-').map(Number)
-  return new Intl.DateTimeFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric', timeZone: 'UTC' }).format(
-    new Date(Date.UTC(y, m - 1, day)),
-  )
-}
-
-/** Today's calendar date in a time zone, 'YYYY-MM-DD'. */
-export function todayIn(timeZone: string | undefined, now = new Date()): string {
-  return new Intl.DateTimeFormat('en-CA', {
-    year: 'numeric',
-    month: '2-digit',
-    day: '2-digit',
-    timeZone: timeZone ?? 'UTC',
-  }).format(now)
-}
-
-/** Bytes as KB or MB. */
-export function sizeText(bytes: number): string {
-  if (bytes < 1024) return `${bytes} B`
-  if (bytes < 1024 * 1024) return `${Math.round(bytes / 102.4) / 10} KB`
-  return `${Math.round(bytes / 104857.6) / 10} MB`
-}
-
 /** A number rounded for display (values are kept exactly; this only shortens computed ones). */
 export function rounded(v: number | null | undefined, digits = 6): string {
   if (v === null || v === undefined || Number.isNaN(v)) return '—'
@@ -109,21 +83,4 @@ export const PROTECTION_STYLE: Record<
   in_service: { label: 'In service', color: 'success', variant: 'outlined', icon: mdiShieldCheckOutline },
   bypassed: { label: 'Bypassed', color: 'warning', variant: 'flat', icon: mdiPauseCircleOutline },
   degraded: { label: 'DEGRADED', color: 'error', variant: 'flat', icon: mdiShieldOffOutline },
-}
-
-/** A date and time in a site's time zone, with the zone's short name. */
-export function dateTimeIn(iso: string, timeZone: string | undefined): string {
-  try {
-    return new Intl.DateTimeFormat('en-GB', {
-      year: 'numeric',
-      month: 'short',
-      day: 'numeric',
-      hour: '2-digit',
-      minute: '2-digit',
-      timeZone: timeZone ?? 'UTC',
-      timeZoneName: 'short',
-    }).format(new Date(iso))
-  } catch {
-    return iso
-  }
 }
