@@ -140,6 +140,10 @@ export const AuditQuerySchema = ListQuerySchema.extend({
   cursor: IdSchema.optional(),
 })
 export type AuditQuery = z.infer<typeof AuditQuerySchema>
+/** The list query as the client sends it. */
+export type AuditListQuery = Partial<AuditQuery>
+/** The filters of the list and its export, without paging (`from` and `to` are instants, `to` exclusive). */
+export type AuditFilters = Omit<AuditListQuery, 'page' | 'pageSize' | 'cursor' | 'sort' | 'actorId'>
 
 /** One event as the list gives it. */
 export interface AuditEventDto {

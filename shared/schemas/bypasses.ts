@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { IdSchema, repeated } from './common.ts'
+import { IdSchema, PageSchema, repeated } from './common.ts'
 
 export const BYPASS_STATUSES = [
   'requested',
@@ -153,10 +153,7 @@ export const BypassFilterSchema = z.object({
   from: z.iso.datetime({ offset: true }).optional(),
   to: z.iso.datetime({ offset: true }).optional(),
 })
-export const BypassListQuerySchema = BypassFilterSchema.extend({
-  page: z.coerce.number().int().min(1).default(1),
-  pageSize: z.coerce.number().int().min(1).max(200).default(50),
-})
+export const BypassListQuerySchema = BypassFilterSchema.extend(PageSchema.shape)
 export const BypassReviewQuerySchema = BypassFilterSchema.extend({ format: z.enum(['csv', 'pdf']).optional() })
 /** The filters as the client sends them (arrays repeat the query key; `overdue` travels as text). */
 export type BypassFilters = Omit<z.output<typeof BypassFilterSchema>, 'overdue'> & { overdue?: 'true' | 'false' }

@@ -57,14 +57,23 @@ export function repeated<T extends z.ZodType>(item: T) {
   return z.preprocess((v) => (v === undefined ? undefined : Array.isArray(v) ? v : [v]), z.array(item).optional())
 }
 
-/** Paging and sorting common to every list endpoint. */
-export const ListQuerySchema = z.object({
+/** Paging of every list endpoint: pages from 1, at most 200 rows a page. */
+export const PageSchema = z.object({
   page: z.coerce.number().int().min(1).default(1),
   pageSize: z.coerce.number().int().min(1).max(200).default(50),
+})
+
+/** Paging, sorting and text search common to list endpoints. */
+export const ListQuerySchema = PageSchema.extend({
   sort: z.string().max(200).optional(),
   q: z.string().trim().max(200).optional(),
 })
 export type ListQuery = z.infer<typeof ListQuerySchema>
+/**
+ * A list query as the client sends it: the parsed types, every field optional (the server fills the defaults).
+ * `z.input` would type the coerced fields as `unknown`.
+ */
+export type ListQueryInput = Partial<ListQuery>
 
 /** Every list answers `{ items, total }`. */
 export interface ListResult<T> {

@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { IdSchema, repeated } from './common.ts'
+import { IdSchema, PageSchema, repeated } from './common.ts'
 import { structuralClassificationErrors } from '../domain/priority.ts'
 import { ROLES } from './users.ts'
 
@@ -164,6 +164,36 @@ export const InstrumentSchema = z.object({
   processName: z.string().optional(),
 })
 export type Instrument = z.infer<typeof InstrumentSchema>
+/** An instrument as the API answers it. */
+export type InstrumentRecord = Instrument & { revision: number; updatedAt: string }
+
+/** `GET /api/processes`: every process of the sites or areas asked (a plant has tens, so no paging). */
+export const ProcessListQuerySchema = z.object({ siteId: repeated(IdSchema), areaId: repeated(IdSchema) })
+export type ProcessListQuery = Partial<z.infer<typeof ProcessListQuerySchema>>
+/** `GET /api/instruments`: by site, process and tag, a page at a time. */
+export const InstrumentListQuerySchema = PageSchema.extend({
+  siteId: repeated(IdSchema),
+  processId: repeated(IdSchema),
+  q: z.string().trim().max(60).optional(),
+})
+export type InstrumentListQuery = Partial<z.infer<typeof InstrumentListQuerySchema>>
+
+/** One field that changed between two revisions of a limit. */
+export interface RevisionChange {
+  field: string
+  from: unknown
+  to: unknown
+}
+/** A revision of a limit (`GET /api/limits/:id/revisions`), newest first. */
+export interface LimitRevision {
+  revision: number
+  changedAt: string
+  changedBy: string | null
+  changeRequestId: number | null
+  reason: string | null
+  changes: RevisionChange[]
+  snapshot: Record<string, unknown>
+}
 
 /** One subsystem of a safety instrumented function (IEC 61508-6 simplified equations). */
 export const SubsystemSchema = z.object({
@@ -336,8 +366,7 @@ export const LimitListQuerySchema = z.object({
   hasErrors: queryBool.optional(),
   q: z.string().trim().max(100).optional(),
   sort: z.string().max(200).optional(),
-  page: z.coerce.number().int().min(1).default(1),
-  pageSize: z.coerce.number().int().min(1).max(200).default(50),
+  ...PageSchema.shape,
   cursor: z.string().max(300).optional(),
   view: z.enum(['full', 'row']).default('full'),
 })

@@ -134,6 +134,8 @@ export const UpdateSiteInputSchema = z.object({
   timeZone: timeZone.optional(),
   policy: SitePolicySchema.partial().optional(),
 })
+export type CreateSiteInput = z.input<typeof CreateSiteInputSchema>
+export type UpdateSiteInput = z.input<typeof UpdateSiteInputSchema>
 
 export const AreaSchema = z.object({ id: z.number().int(), siteId: z.number().int(), name: z.string() })
 export type Area = z.infer<typeof AreaSchema>
@@ -141,4 +143,5 @@ export const CreateAreaInputSchema = z.object({
   siteId: z.number().int().positive(),
   name: z.string().trim().min(1, 'Enter a name').max(120),
 })
+export type CreateAreaInput = z.input<typeof CreateAreaInputSchema>
 export const UpdateAreaInputSchema = z.object({ name: z.string().trim().min(1).max(120) })

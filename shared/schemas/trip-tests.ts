@@ -2,7 +2,7 @@ import { z } from 'zod'
 import type { TestDueStatus } from '../domain/due-dates.ts'
 import type { TripTestAction } from '../domain/rules/trip-tests.ts'
 import type { Verdict } from '../domain/rules/verdict.ts'
-import { IdSchema, repeated } from './common.ts'
+import { IdSchema, PageSchema, repeated } from './common.ts'
 
 const num = z
   .union([
@@ -264,16 +264,12 @@ const bool = z
   .enum(['true', 'false'])
   .transform((v) => v === 'true')
   .optional()
-const page = {
-  page: z.coerce.number().int().min(1).default(1),
-  pageSize: z.coerce.number().int().min(1).max(200).default(50),
-}
 export const TripTestListQuerySchema = z.object({
   siteId: repeated(IdSchema),
   limitId: IdSchema.optional(),
   scope: z.enum(TEST_SCOPES).optional(),
   passed: bool,
-  ...page,
+  ...PageSchema.shape,
 })
 export type TripTestListQuery = z.input<typeof TripTestListQuerySchema>
 export const TEST_DUE_STATUSES = ['never_tested', 'ok', 'due_soon', 'in_grace', 'overdue'] as const
@@ -306,7 +302,7 @@ export const TestDeferralListQuerySchema = z.object({
   siteId: repeated(IdSchema),
   limitId: IdSchema.optional(),
   status: repeated(z.enum(DEFERRAL_STATUSES)),
-  ...page,
+  ...PageSchema.shape,
 })
 export type TestDeferralListQuery = z.input<typeof TestDeferralListQuerySchema>
 

@@ -1,21 +1,18 @@
+import type { AuditEventDto, AuditFilters, AuditListQuery, AuditVerifyDto } from '@shared/schemas/audit.ts'
+import type { ListResult } from '@shared/schemas/common.ts'
 import { http, toQuery } from '@/api/client'
-import type { AuditEventDto, AuditVerifyDto } from '@shared/schemas/audit.ts'
 
 export type AuditEvent = AuditEventDto
+export type { AuditFilters }
 
-/** The filters of the list and its export; `from` and `to` are instants (`to` exclusive). */
-export interface AuditFilters {
-  q?: string
-  entityType?: string
-  entityId?: string
-  action?: string
-  siteId?: number
-  from?: string
-  to?: string
+/** Cache keys of the audit trail (Pinia Colada). */
+export const auditKeys = {
+  all: ['audit-events'] as const,
+  list: (q: AuditListQuery) => ['audit-events', 'list', JSON.stringify(q)] as const,
 }
 
-export const listAuditEvents = (query: AuditFilters & { page: number; pageSize: number }) =>
-  http.get<{ items: AuditEvent[]; total: number }>('/audit-events', { ...query })
+export const listAuditEvents = (query: AuditListQuery) =>
+  http.get<ListResult<AuditEvent>>('/audit-events', { ...query })
 
 /** The CSV of the filtered events, with a column of times in `timeZone`. */
 export const auditExportUrl = (filters: AuditFilters, timeZone: string) =>

@@ -3,12 +3,15 @@ import type { ListResult } from '@shared/schemas/common.ts'
 import type {
   CreateInstrumentInput,
   CreateLimitInput,
-  Instrument,
+  InstrumentListQuery,
+  InstrumentRecord,
   Limit,
   LimitListFilters,
   LimitListParams,
   LimitPage,
+  LimitRevision,
   Process,
+  ProcessListQuery,
   RegisterRow,
   UpdateLimitInput,
 } from '@shared/schemas/register.ts'
@@ -20,25 +23,18 @@ import { http, toQuery, uploadWithProgress } from '@/api/client'
 export type LimitFilters = LimitListFilters
 export type LimitListQuery = Omit<LimitListParams, 'view'>
 
-/** One field that changed between two revisions. */
-export interface RevisionChange {
-  field: string
-  from: unknown
-  to: unknown
-}
+export type { InstrumentRecord, LimitRevision }
 
-export interface LimitRevision {
-  revision: number
-  changedAt: string
-  changedBy: string | null
-  changeRequestId: number | null
-  reason: string | null
-  changes: RevisionChange[]
-  snapshot: Record<string, unknown>
+/** Cache keys of the register (Pinia Colada): a write invalidates the resource it changed. */
+export const registerKeys = {
+  limits: ['limits'] as const,
+  limit: (id: number) => ['limits', id] as const,
+  processes: ['processes'] as const,
+  processList: (q: ProcessListQuery) => ['processes', 'list', JSON.stringify(q)] as const,
+  instruments: ['instruments'] as const,
+  instrumentList: (q: InstrumentListQuery) => ['instruments', 'list', JSON.stringify(q)] as const,
+  instrument: (id: number) => ['instruments', id] as const,
 }
-
-/** An instrument as the API answers it. */
-export type InstrumentRecord = Instrument & { revision: number; updatedAt: string }
 
 /** Whole limits (the detail and form pages' siblings on an instrument). */
 export const listLimits = (query: LimitListQuery) => http.get<LimitPage>('/limits', { ...query })
@@ -60,16 +56,14 @@ export function limitExportUrl(format: 'csv' | 'xlsx', filters: LimitFilters): s
   return `/api/limits/export${toQuery({ ...filters, format })}`
 }
 
-export const listProcesses = (query: { siteId?: number[]; areaId?: number[] } = {}) =>
-  http.get<ListResult<Process>>('/processes', query)
+export const listProcesses = (query: ProcessListQuery = {}) => http.get<ListResult<Process>>('/processes', { ...query })
 export const createProcess = (input: { areaId: number; name: string; description: string }) =>
   http.post<Process>('/processes', input)
 export const updateProcess = (id: number, input: { name?: string; description?: string }) =>
   http.patch<Process>(`/processes/${id}`, input)
 
-export const listInstruments = (
-  query: { siteId?: number[]; processId?: number[]; q?: string; page?: number; pageSize?: number } = {},
-) => http.get<ListResult<InstrumentRecord>>('/instruments', query)
+export const listInstruments = (query: InstrumentListQuery = {}) =>
+  http.get<ListResult<InstrumentRecord>>('/instruments', { ...query })
 export const getInstrument = (id: number) => http.get<InstrumentRecord>(`/instruments/${id}`)
 /** Active limits by tag or description, for the pickers of the bypass, trip-test and demand forms. */
 export const listActiveLimits = (query: { siteId?: number[]; q?: string; pageSize?: number }) =>
