@@ -92,3 +92,11 @@ export function sizeText(bytes: number): string {
 
 /** A share as a percentage; "—" where there is nothing to share out. */
 export const percent = (share: number | null) => (share === null ? '—' : `${Math.round(share * 1000) / 10} %`)
+
+/** A period of whole UTC days (`YYYY-MM-DD`, either empty) as instants: the start of `from` to the end of `to`. */
+export function utcDayPeriod(from: string, to: string): { from: string | undefined; to: string | undefined } {
+  return {
+    from: from ? `${from}T00:00:00Z` : undefined,
+    to: to ? new Date(Date.parse(`${to}T00:00:00Z`) + 86_400_000).toISOString() : undefined,
+  }
+}

@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import type { SilBand } from '../domain/sif-reliability.ts'
 import { IdSchema, PageSchema, repeated } from './common.ts'
 
 export const BYPASS_STATUSES = [
@@ -45,6 +46,8 @@ export const CreateBypassInputSchema = z
       ctx.addIssue({ code: 'custom', path: ['plannedEnd'], message: 'The end must be after the start' })
   })
 export type CreateBypassInput = z.infer<typeof CreateBypassInputSchema>
+/** A bypass request as the client sends it (the server fills the defaults). */
+export type CreateBypassBody = z.input<typeof CreateBypassInputSchema>
 
 export const AuthorizeBypassInputSchema = z.object({
   password: z.string().min(1, 'Enter your password to sign').max(128),
@@ -56,10 +59,12 @@ export const AuthorizeBypassInputSchema = z.object({
     .optional(),
   comment: z.string().trim().max(1000).default(''),
 })
+export type AuthorizeBypassInput = z.input<typeof AuthorizeBypassInputSchema>
 export const RejectBypassInputSchema = z.object({
   password: z.string().min(1).max(128),
   comment: z.string().trim().min(1, 'Say why').max(1000),
 })
+export type RejectBypassInput = z.input<typeof RejectBypassInputSchema>
 /**
  * Putting a bypass in force (docs/bypasses.md#workflow): the person who sets it confirms that the compensating
  * measures are in place and that the bypass shows on the operator's screen, with the control room told.
@@ -82,6 +87,7 @@ export const RemoveBypassInputSchema = z.object({
   protectionRestoredConfirmed: z.literal(true, 'Confirm that the protection is back in service'),
   note: z.string().trim().max(1000).default(''),
 })
+export type RemoveBypassInput = z.input<typeof RemoveBypassInputSchema>
 
 export interface BypassDto {
   id: number
@@ -154,6 +160,8 @@ export const BypassFilterSchema = z.object({
   to: z.iso.datetime({ offset: true }).optional(),
 })
 export const BypassListQuerySchema = BypassFilterSchema.extend(PageSchema.shape)
+/** The list query as the client sends it. */
+export type BypassListQuery = BypassFilters & Partial<z.infer<typeof PageSchema>>
 export const BypassReviewQuerySchema = BypassFilterSchema.extend({ format: z.enum(['csv', 'pdf']).optional() })
 /** The filters as the client sends them (arrays repeat the query key; `overdue` travels as text). */
 export type BypassFilters = Omit<z.output<typeof BypassFilterSchema>, 'overdue'> & { overdue?: 'true' | 'false' }
@@ -187,4 +195,47 @@ export interface BypassReviewDto {
     overduePerMonth: { month: string; count: number }[]
   }
   items: BypassDto[]
+}
+
+// ---- risk erosion (`GET /api/bypass-review/risk`, docs/bypasses.md#risk-erosion)
+
+/** The period and sites of the risk-erosion figures, as the client sends them. */
+export type RiskErosionQuery = Pick<BypassFilters, 'siteId' | 'areaId' | 'from' | 'to'>
+export interface PfdFigures {
+  pfd: number
+  rrf: number
+  band: SilBand
+}
+
+export interface RiskRow {
+  limitId: number
+  tag: string
+  description: string
+  targetSil: 1 | 2 | 3
+  protectionState: string
+  testStatus: string
+  design: PfdFigures
+  effective: PfdFigures
+  bypassedHours: number
+  channelBypassedHours: number
+  actualIntervalHours: number | null
+  belowTarget: boolean
+  designBelowTarget: boolean
+  /** device models on its channels whose observed λDU bound (70 %) exceeds its sensor λDU */
+  observedLambdaDuAbove: { deviceKind: string; model: string; upper70: number; assumedLambdaDu: number }[]
+  neverTested: boolean
+  /** last passing full test, else the commissioning date (else the entry in the register), YYYY-MM-DD */
+  untestedSince: string
+  /** hours in the period with a dangerous undetected failure that a test then found (docs/bypasses.md#fault-exposure) */
+  faultExposureHours: number
+  faultExposures: { from: string; to: string; foundAt: string; ongoing: boolean }[]
+  /** hours in the period the limit was degraded (failed test, not yet proven again) */
+  degradedHours: number
+}
+
+export interface RiskErosion {
+  period: { from: string; to: string; hours: number }
+  items: RiskRow[]
+  faultExposureConvention: string
+  caution: string
 }

@@ -44,9 +44,17 @@ export interface UrlListOptions<T> {
   enabled?: () => boolean
 }
 
+/** Writes a screen's state into the URL's query whenever it changes (empty values left out). */
+export function useUrlSync(url: () => LocationQueryRaw) {
+  const router = useRouter()
+  watch(
+    () => JSON.stringify(url()),
+    (s) => void router.replace({ query: JSON.parse(s) as LocationQueryRaw }),
+  )
+}
+
 export function useUrlList<T>(o: UrlListOptions<T>) {
   const route = useRoute()
-  const router = useRouter()
   const notify = useNotificationsStore()
   const defaultSize = o.pageSize ?? 50
   const page = ref(Math.max(1, Math.trunc(Number(route.query.page)) || 1))
@@ -54,15 +62,11 @@ export function useUrlList<T>(o: UrlListOptions<T>) {
   const pageSize = ref(o.pageSizes?.includes(askedSize) ? askedSize : defaultSize)
 
   watch([...o.filters, pageSize], () => (page.value = 1), { flush: 'sync' })
-  watch(
-    () =>
-      JSON.stringify({
-        ...o.url(),
-        page: page.value > 1 ? String(page.value) : undefined,
-        pageSize: pageSize.value !== defaultSize ? String(pageSize.value) : undefined,
-      }),
-    (s) => void router.replace({ query: JSON.parse(s) as LocationQueryRaw }),
-  )
+  useUrlSync(() => ({
+    ...o.url(),
+    page: page.value > 1 ? String(page.value) : undefined,
+    pageSize: pageSize.value !== defaultSize ? String(pageSize.value) : undefined,
+  }))
 
   const list = useQuery({
     key: () => o.key(page.value, pageSize.value),

@@ -6,6 +6,7 @@ import {
   mdiShieldCheckOutline,
   mdiShieldOffOutline,
 } from '@mdi/js'
+import { returnPoint as exactReturnPoint } from '@shared/domain/operating-window.ts'
 import type { Limit, Signal } from '@shared/schemas/register.ts'
 import { ROLE_LABELS } from '@shared/schemas/users.ts'
 
@@ -141,14 +142,17 @@ export function deadbandText(
   return eu === null ? `${num(l.deadband)} % of span` : `${num(l.deadband)} % of span (${withUnit(eu, unit)})`
 }
 
-/** The return point of a limit: high returns below setpoint − deadband, low above setpoint + deadband. */
-export function returnPoint(
+/**
+ * The return (reset) point of a limit as text, in exact decimals (shared/domain/operating-window.ts): a high limit
+ * returns below setpoint − deadband, a low one above setpoint + deadband. Null for a deadband in % of span without
+ * the instrument's range.
+ */
+export function returnPointText(
   l: { direction: 'high' | 'low'; setpoint: number; deadband: number; deadbandUnit: 'eu' | 'percent_span' },
   range: { rangeLow: number; rangeHigh: number } | null,
-): number | null {
-  const db = deadbandEu(l.deadband, l.deadbandUnit, range)
-  if (db === null) return null
-  return Number((l.direction === 'high' ? l.setpoint - db : l.setpoint + db).toPrecision(12))
+): string | null {
+  if (l.deadbandUnit !== 'eu' && !range) return null
+  return exactReturnPoint(l, range ?? { rangeLow: 0, rangeHigh: 0 }).replace('-', '−')
 }
 
 /** A calendar date as text (the register list's name for `dateText`). */

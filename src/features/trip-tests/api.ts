@@ -2,9 +2,9 @@ import type { Limit } from '@shared/schemas/register.ts'
 import type {
   OverdueRepair,
   SignatureMeaning,
+  TripTestBody,
   TestDeferralDto,
   TripTestDto,
-  TripTestPrecautions,
 } from '@shared/schemas/trip-tests.ts'
 import { api, http, toQuery, uploadWithProgress } from '@/api/client'
 
@@ -56,41 +56,6 @@ export interface TripTestListItem {
   /** 'imported': brought from a former system by a history import */
   source: TripTestDto['source']
   testerName: string | null
-}
-
-/** What the form sends (TripTestInputSchema); the server fills the defaults. */
-export interface TripTestBody {
-  limitId: number
-  kind: 'full' | 'partial'
-  method: TripTestDto['method']
-  injectionPoint: 'sensor' | 'transmitter_output' | null
-  sourceMode: 'mv_source' | 'tc_simulate' | null
-  coldJunctionC: number | null
-  procedureRef: string
-  deviceSerial: string
-  calibratorId: string
-  calibratorDueDate: string | null
-  workOrder: string
-  bypassId: number | null
-  performedAt: string
-  tolerance: number | null
-  toleranceUnit: 'eu' | 'percent_span'
-  asFound: number | null
-  asFoundSignal: { value: number; unit: 'mA' | 'mV' | 'ohm' | 'V' } | null
-  noTrip: boolean
-  asLeft: number | null
-  resetValue: number | null
-  latchHeld: boolean | null
-  resetRefusedWhileActive: boolean | null
-  resetAcceptedAfterReturn: boolean | null
-  finalElementOk: boolean | null
-  responseTimeSec: number | null
-  setpointRestoredReadBack: number | null
-  notes: string
-  /** confirmed before the test (docs/trip-tests.md#precautions); the form always sends them */
-  precautions?: TripTestPrecautions
-  /** a voted function tested channel by channel: one entry per channel instrument, then no function as-found */
-  channels?: { instrumentId: number; asFound: number | null; noTrip: boolean; asLeft: number | null }[]
 }
 
 /** The degraded state of a limit, newest first. */
