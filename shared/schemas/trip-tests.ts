@@ -280,6 +280,12 @@ export const ScheduleQuerySchema = z.object({
   late: bool,
 })
 export type ScheduleQuery = z.input<typeof ScheduleQuerySchema>
+/** The schedule's filters as the client sends them (`late` travels as text, see getSchedule). */
+export type ScheduleParams = Omit<Partial<z.infer<typeof ScheduleQuerySchema>>, 'late'> & { late?: boolean }
+/** The test history's filters as the client sends them. */
+export type TripTestListParams = Omit<Partial<z.infer<typeof TripTestListQuerySchema>>, 'passed'> & {
+  passed?: boolean
+}
 
 // ---- test deferrals
 

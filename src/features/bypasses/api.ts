@@ -1,4 +1,3 @@
-import { OVERDUE_TEST_STATUSES } from '@shared/domain/rules/trip-tests.ts'
 import type {
   AuthorizeBypassInput,
   BypassDto,
@@ -15,17 +14,6 @@ import type { ListResult } from '@shared/schemas/common.ts'
 import { http, toQuery } from '@/api/client'
 
 export type { BypassFilters, RiskErosion, RiskRow } from '@shared/schemas/bypasses.ts'
-
-/** One row of the trip-test schedule (used for the overdue tests on the home page). */
-export interface ScheduleRow {
-  limitId: number
-  tag: string
-  siteId: number
-  siteCode: string
-  areaName: string
-  testStatus: string
-  dueDate: string | null
-}
 
 /** A temporary change request a long bypass may be linked to. */
 export interface TemporaryChange {
@@ -64,8 +52,6 @@ export const getRiskErosion = (query: RiskErosionQuery) => http.get<RiskErosion>
 export const reviewExportUrl = (format: 'csv' | 'pdf', filters: BypassFilters) =>
   `/api/bypass-review/export${toQuery({ ...filters, format })}`
 
-export const listOverdueTests = () =>
-  http.get<{ items: ScheduleRow[]; total: number }>('/trip-tests/schedule', { status: [...OVERDUE_TEST_STATUSES] })
 export const listTemporaryChanges = (siteId: number) =>
   http.get<ListResult<TemporaryChange>>('/change-requests', {
     view: 'all',

@@ -1,61 +1,31 @@
 import type { Limit } from '@shared/schemas/register.ts'
 import type {
   OverdueRepair,
+  ScheduleItem,
+  ScheduleParams,
+  ScheduleResponse,
   SignatureMeaning,
-  TripTestBody,
   TestDeferralDto,
+  TripTestBody,
   TripTestDto,
+  TripTestList,
+  TripTestListItem,
+  TripTestListParams,
 } from '@shared/schemas/trip-tests.ts'
 import { api, http, toQuery, uploadWithProgress } from '@/api/client'
 
 export type TestStatus = Limit['testStatus']
 export type { SignatureMeaning } from '@shared/schemas/trip-tests.ts'
 
-/** One limit of the test schedule. */
-export interface ScheduleItem {
-  limitId: number
-  tag: string
-  description: string
-  siteId: number
-  siteCode: string
-  areaName: string
-  testStatus: TestStatus
-  dueDate: string | null
-  lastFullPass: string | null
-  testIntervalMonths: number
-  protectionState: Limit['protectionState']
-  sil: number | null
-  lateTests: number
-}
+export type { ScheduleItem, ScheduleParams as ScheduleQuery, TripTestListItem, TripTestListParams }
 
-export interface ScheduleQuery {
-  siteId?: number[]
-  areaId?: number[]
-  status?: TestStatus[]
-  late?: boolean
-}
-
-/** One row of the test history. */
-export interface TripTestListItem {
-  id: number
-  limitId: number
-  siteId: number
-  limitTag: string
-  kind: 'full' | 'partial'
-  method: TripTestDto['method']
-  performedAt: string
-  asFound: number | null
-  asFoundResult: TripTestDto['asFoundResult']
-  asLeft: number | null
-  asLeftResult: TripTestDto['asLeftResult']
-  passed: boolean
-  status: TripTestDto['status']
-  setpoint: number
-  toleranceEu: number
-  recordedBy: string
-  /** 'imported': brought from a former system by a history import */
-  source: TripTestDto['source']
-  testerName: string | null
+/** Cache keys of the trip-test data (Pinia Colada). */
+export const tripTestKeys = {
+  all: ['trip-tests'] as const,
+  one: (id: number) => ['trip-tests', id] as const,
+  list: (q: TripTestListParams) => ['trip-tests', 'list', JSON.stringify(q)] as const,
+  schedule: (q: ScheduleParams) => ['trip-tests', 'schedule', JSON.stringify(q)] as const,
+  degradation: (limitId: number) => ['trip-tests', 'degradation', limitId] as const,
 }
 
 /** The degraded state of a limit, newest first. */
@@ -63,19 +33,10 @@ export interface TripTestListItem {
 import type { DegradationItem } from '@shared/schemas/trip-tests.ts'
 export type { DegradationItem }
 
-export const getSchedule = (query: ScheduleQuery) =>
-  http.get<{ items: ScheduleItem[]; total: number; counts: Partial<Record<TestStatus, number>> }>(
-    '/trip-tests/schedule',
-    { ...query, late: query.late ? 'true' : undefined },
-  )
-export const listTripTests = (query: {
-  siteId?: number[]
-  limitId?: number
-  passed?: boolean
-  page?: number
-  pageSize?: number
-}) =>
-  http.get<{ items: TripTestListItem[]; total: number }>('/trip-tests', {
+export const getSchedule = (query: ScheduleParams) =>
+  http.get<ScheduleResponse>('/trip-tests/schedule', { ...query, late: query.late ? 'true' : undefined })
+export const listTripTests = (query: TripTestListParams) =>
+  http.get<TripTestList>('/trip-tests', {
     ...query,
     passed: query.passed === undefined ? undefined : String(query.passed),
   })

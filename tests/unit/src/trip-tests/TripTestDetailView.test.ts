@@ -1,0 +1,256 @@
+import { flushPromises } from '@vue/test-utils'
+import { afterEach, describe, expect, it, vi } from 'vitest'
+import { createAppAbility, defineRulesFor } from '@shared/abilities/index.ts'
+import { tripTestActions } from '@shared/domain/rules/trip-tests.ts'
+import type { Limit } from '@shared/schemas/register.ts'
+import { DEFAULT_SITE_POLICY } from '@shared/schemas/sites.ts'
+import type { TripTestDto } from '@shared/schemas/trip-tests.ts'
+import type { Role } from '@shared/schemas/users.ts'
+import AppSignDialog from '@/components/AppSignDialog.vue'
+import TripTestDetailView from '@/features/trip-tests/views/TripTestDetailView.vue'
+import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+
+// The trip-test record's page offers the edit and signing buttons the trip-test rule book allows this user
+// (docs/trip-tests.md#who-signs): the recorder edits and signs as performer; after the performer, a witness (never
+// the performer), a technician for the return to service, then operations accept the equipment back. The page shows
+// what the record's `actions` say, as the server answers them for the user.
+
+const ME = 7
+const RECORDER = 100
+const AT = '2026-07-06T10:00:00.000Z'
+type Meaning = 'performed' | 'witnessed' | 'returned_to_service' | 'accepted'
+
+function record(signedAs: [Meaning, number][], roles: Role[], userId: number): TripTestDto {
+  const status = signedAs.length === 0 ? 'recorded' : signedAs.length >= 3 ? 'completed' : 'signed'
+  const signatures = signedAs.map(([meaning, signer], i) => ({
+    id: i + 1,
+    userId: signer,
+    name: signer === RECORDER ? 'Tomas Ferrant' : 'Someone',
+    meaning,
+    at: AT,
+    contentHash: 'ab'.repeat(32),
+    matchesContent: true,
+  }))
+  // what the server sends with the record: the rule book's answers for the caller
+  const actor = {
+    id: userId,
+    ability: createAppAbility(defineRulesFor({ id: userId, roles: roles.map((role) => ({ siteId: FHR.id, role })) })),
+    roles,
+  }
+  const actions = tripTestActions(
+    { siteId: FHR.id, status, recordedById: RECORDER, sil: 2, signatures },
+    actor,
+    DEFAULT_SITE_POLICY,
+    new Date(AT),
+  )
+  return {
+    id: 31,
+    limitId: 5,
+    limitTag: 'TSHH-101',
+    siteId: FHR.id,
+    limitRevision: 1,
+    kind: 'full',
+    scope: 'function',
+    method: 'injection',
+    injectionPoint: 'sensor',
+    sourceMode: 'mv_source',
+    coldJunctionC: 20,
+    procedureRef: 'TP-101',
+    deviceSerial: 'SN-4471',
+    calibratorId: 'CAL-12',
+    calibratorDueDate: '2026-12-31',
+    workOrder: 'WO-88',
+    bypassId: null,
+    performedAt: AT,
+    setpoint: 800,
+    tolerance: 0.5,
+    toleranceUnit: 'percent_span',
+    toleranceEu: 6,
+    unit: '°C',
+    asFound: 801,
+    asFoundSignal: null,
+    asFoundResult: 'in_tolerance',
+    asLeft: 800,
+    asLeftResult: 'in_tolerance',
+    channels: [],
+    voting: null,
+    resetValue: 790,
+    latchHeld: true,
+    resetRefusedWhileActive: true,
+    resetAcceptedAfterReturn: true,
+    finalElementOk: true,
+    responseTimeSec: null,
+    requiredResponseTimeSec: null,
+    closingTimeSec: null,
+    leakTestPassed: null,
+    strokePercent: null,
+    setpointRestoredReadBack: null,
+    precautions: null,
+    passed: true,
+    failReasons: [],
+    notes: '',
+    status,
+    witnessRequired: true,
+    contentHash: 'ab'.repeat(32),
+    recordedById: RECORDER,
+    recordedBy: 'Tomas Ferrant',
+    signatures,
+    attachments: [],
+    createdAt: AT,
+    actions,
+  }
+}
+
+const limit = (protectionState: Limit['protectionState']) => ({ id: 5, tag: 'TSHH-101', protectionState }) as Limit
+
+function api(t: TripTestDto, more: Routes = {}) {
+  return answerApi({
+    [`GET /trip-tests/${t.id}`]: () => ({ body: t }),
+    'GET /limits/5': () => ({ body: limit('in_service') }),
+    'GET /limits/5/degradation': () => ({ body: { items: [] } }),
+    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
+    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+    ...more,
+  })
+}
+
+async function open(t: TripTestDto, roles: Role[], userId: number) {
+  return mountView(TripTestDetailView, {
+    user: { id: userId, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
+    props: { id: String(t.id) },
+  })
+}
+
+type Wrapper = Awaited<ReturnType<typeof open>>
+const BUTTONS = ['edit-test', 'sign-performed', 'sign-witnessed', 'sign-returned_to_service', 'sign-accepted']
+const shown = (w: Wrapper) => BUTTONS.filter((b) => w.find(`[data-test="${b}"]`).exists())
+
+afterEach(() => vi.unstubAllGlobals())
+
+describe('TripTestDetailView: buttons follow the trip-test rule book', () => {
+  it.each<[string, [Meaning, number][], Role[], number, string[]]>([
+    [
+      'the technician who recorded it edits and signs as performer',
+      [],
+      ['technician'],
+      RECORDER,
+      ['edit-test', 'sign-performed'],
+    ],
+    ['another technician waits for the performer', [], ['technician'], ME, []],
+    ['a shift supervisor waits for the performer', [], ['shift_supervisor'], ME, []],
+    [
+      'after the performer, another technician witnesses and signs the return to service',
+      [['performed', RECORDER]],
+      ['technician'],
+      ME,
+      ['sign-witnessed', 'sign-returned_to_service'],
+    ],
+    [
+      'the performer does not witness their own test',
+      [['performed', RECORDER]],
+      ['technician'],
+      RECORDER,
+      ['sign-returned_to_service'],
+    ],
+    ['an approver witnesses', [['performed', RECORDER]], ['approver'], ME, ['sign-witnessed']],
+    [
+      'an operator accepts the equipment back only after the return to service',
+      [['performed', RECORDER]],
+      ['operator'],
+      ME,
+      [],
+    ],
+    [
+      'an operator accepts once the return to service is signed',
+      [
+        ['performed', RECORDER],
+        ['returned_to_service', 8],
+      ],
+      ['operator'],
+      ME,
+      ['sign-accepted'],
+    ],
+    [
+      'a shift supervisor who is also a technician: witness and accept, the return to service being signed',
+      [
+        ['performed', RECORDER],
+        ['returned_to_service', 8],
+      ],
+      ['shift_supervisor', 'technician'],
+      ME,
+      ['sign-witnessed', 'sign-accepted'],
+    ],
+    [
+      'an auditor reads only',
+      [
+        ['performed', RECORDER],
+        ['returned_to_service', 8],
+      ],
+      ['auditor'],
+      ME,
+      [],
+    ],
+    [
+      'nothing is left to sign on a completed record',
+      [
+        ['performed', RECORDER],
+        ['witnessed', 9],
+        ['returned_to_service', 8],
+        ['accepted', 10],
+      ],
+      ['technician', 'shift_supervisor'],
+      ME,
+      [],
+    ],
+  ])('%s', async (_what, signedAs, roles, userId, expected) => {
+    const t = record(signedAs, roles, userId)
+    api(t)
+    const w = await open(t, roles, userId)
+    expect(w.find('[data-test="limit-protection"]').text()).toContain('In service')
+    expect(shown(w)).toEqual(expected)
+  })
+
+  it('says what a signature waits for where the user may not sign yet', async () => {
+    const t = record([['performed', RECORDER]], ['operator'], ME)
+    api(t)
+    const w = await open(t, ['operator'], ME)
+    expect(w.find('[data-test="signature-accepted"]').text()).toContain('After the return-to-service check is signed')
+  })
+})
+
+describe('TripTestDetailView: the data-fetching layer after a signature', () => {
+  it('shows the signed record and fetches the limit again, whose state the signature changed', async () => {
+    const before = record([], ['technician'], RECORDER)
+    const after = record([['performed', RECORDER]], ['technician'], RECORDER)
+    // a failed test degrades the limit when its performer signs: the second answer for the limit is the new state
+    let limitReads = 0
+    let signed = false
+    const calls = api(before, {
+      [`GET /trip-tests/${before.id}`]: () => ({ body: signed ? after : before }),
+      'GET /limits/5': () => ({ body: limit(++limitReads === 1 ? 'in_service' : 'degraded') }),
+      [`POST /trip-tests/${before.id}/signatures`]: () => {
+        signed = true
+        return { body: after }
+      },
+    })
+    const w = await open(before, ['technician'], RECORDER)
+    expect(w.find('[data-test="limit-protection"]').text()).toContain('In service')
+    expect(w.find('[data-test="sign-performed"]').exists()).toBe(true)
+
+    await w.findComponent(AppSignDialog).props('sign')('my password', '')
+    await flushPromises()
+
+    expect(calls.filter((c) => c.method === 'POST')).toEqual([
+      {
+        method: 'POST',
+        path: '/trip-tests/31/signatures',
+        body: { meaning: 'performed', password: 'my password', comment: '' },
+      },
+    ])
+    expect(calls.filter((c) => c.method === 'GET' && c.path === '/limits/5')).toHaveLength(2)
+    expect(w.find('[data-test="limit-protection"]').text()).toContain('DEGRADED')
+    expect(w.find('[data-test="signer-performed"]').text()).toBe('Tomas Ferrant')
+    expect(w.find('[data-test="sign-performed"]').exists()).toBe(false)
+    expect(w.find('[data-test="edit-test"]').exists()).toBe(false)
+  })
+})
