@@ -2,43 +2,32 @@ import { TZDate } from '@date-fns/tz'
 
 // Dates, times and numbers as every screen shows them. Times are shown in the site's time zone (docs/conventions.md).
 
-/** A date and time in a site's time zone, with the zone's short name: `4 May 2026, 08:30 CEST`. */
-export function dateTimeIn(iso: string | null | undefined, timeZone: string | undefined): string {
+/** An instant in a time zone with the given parts (hours always 00–23); '—' when there is none. */
+export function formatInZone(
+  iso: string | null | undefined,
+  timeZone: string | undefined,
+  parts: Intl.DateTimeFormatOptions,
+): string {
   if (!iso) return '—'
   try {
-    // dateStyle/timeStyle cannot be combined with timeZoneName, so the parts are named one by one
-    return new Intl.DateTimeFormat('en-GB', {
-      year: 'numeric',
-      month: 'short',
-      day: 'numeric',
-      hour: '2-digit',
-      minute: '2-digit',
-      hourCycle: 'h23',
-      timeZone: timeZone ?? 'UTC',
-      timeZoneName: 'short',
-    }).format(new Date(iso))
+    return new Intl.DateTimeFormat('en-GB', { ...parts, hourCycle: 'h23', timeZone: timeZone ?? 'UTC' }).format(
+      new Date(iso),
+    )
   } catch {
     return iso
   }
 }
 
+const DAY_AND_TIME = { year: 'numeric', month: 'short', day: 'numeric', hour: '2-digit', minute: '2-digit' } as const
+
+/** A date and time in a site's time zone, with the zone's short name: `4 May 2026, 08:30 CEST`. */
+export const dateTimeIn = (iso: string | null | undefined, timeZone: string | undefined) =>
+  // dateStyle/timeStyle cannot be combined with timeZoneName, so the parts are named one by one
+  formatInZone(iso, timeZone, { ...DAY_AND_TIME, timeZoneName: 'short' })
+
 /** A short date and time in a site's time zone, for dense tables: `1 Jun 2026, 01:15`. */
-export function shortDateTimeIn(iso: string | null | undefined, timeZone: string | undefined): string {
-  if (!iso) return '—'
-  try {
-    return new Intl.DateTimeFormat('en-GB', {
-      year: 'numeric',
-      month: 'short',
-      day: 'numeric',
-      hour: '2-digit',
-      minute: '2-digit',
-      hourCycle: 'h23',
-      timeZone: timeZone ?? 'UTC',
-    }).format(new Date(iso))
-  } catch {
-    return iso
-  }
-}
+export const shortDateTimeIn = (iso: string | null | undefined, timeZone: string | undefined) =>
+  formatInZone(iso, timeZone, DAY_AND_TIME)
 
 /** A calendar date 'YYYY-MM-DD' (a due date, already a site date) as '28 Feb 2026'. */
 export function dateText(d: string | null | undefined): string {

@@ -4,6 +4,7 @@ import type { ChangeItemDto, ChangeStatus } from '@shared/schemas/change-request
 import { ALARM_PRIORITIES, DEFAULT_ALARM_PHILOSOPHY } from '@shared/domain/priority.ts'
 import { RESET_ROLES, type Signal } from '@shared/schemas/register.ts'
 import { ROLE_LABELS } from '@shared/schemas/users.ts'
+import { formatInZone } from '@/format'
 import type { ChangeType } from './api'
 
 // Labels, field descriptions and value formatting of the change screens.
@@ -254,22 +255,8 @@ export function orderedKeys(changes: Record<string, unknown>): string[] {
 export { dateTimeIn, sizeText } from '@/format'
 
 /** A compact date and time in a site's time zone (lists); the zone is named in the column or the title. */
-export function shortDateTimeIn(iso: string | null | undefined, timeZone: string | undefined): string {
-  if (!iso) return '—'
-  try {
-    return new Intl.DateTimeFormat('en-GB', {
-      day: 'numeric',
-      month: 'short',
-      year: '2-digit',
-      hour: '2-digit',
-      minute: '2-digit',
-      hourCycle: 'h23',
-      timeZone: timeZone ?? 'UTC',
-    }).format(new Date(iso))
-  } catch {
-    return iso
-  }
-}
+export const shortDateTimeIn = (iso: string | null | undefined, timeZone: string | undefined) =>
+  formatInZone(iso, timeZone, { day: 'numeric', month: 'short', year: '2-digit', hour: '2-digit', minute: '2-digit' })
 
 /** A hash shortened for display (the full hash goes in the title). */
 export const shortHash = (h: string) => (h.length > 16 ? `${h.slice(0, 8)}…${h.slice(-4)}` : h)
