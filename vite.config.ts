@@ -39,6 +39,8 @@ export default defineConfig({
         test: {
           name: 'ui',
           environment: 'happy-dom',
+          // a project does not inherit the root's timeouts; mounting a view takes seconds on a busy machine
+          testTimeout: 30_000,
           include: ['tests/unit/src/**/*.test.ts'],
           server: { deps: { inline: ['vuetify'] } },
         },

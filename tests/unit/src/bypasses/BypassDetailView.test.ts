@@ -117,6 +117,26 @@ describe('BypassDetailView: buttons follow the bypass rule book', () => {
     ['a technician removes an active bypass', 'active', ['technician'], ME, { remove: true }],
     ['an auditor reads only', 'active', ['auditor'], ME, {}],
     ['nothing is left to do on a removed bypass', 'removed', ['shift_supervisor', 'plant_manager'], ME, {}],
+    // the rest of the table of docs/bypasses.md#rules
+    [
+      'an approver decides on a request',
+      'requested',
+      ['approver'],
+      ME,
+      { authorize: true, reject: true, cancel: true },
+    ],
+    [
+      'a shift supervisor extends or removes an active bypass',
+      'active',
+      ['shift_supervisor'],
+      ME,
+      { extend: true, remove: true },
+    ],
+    ['an operator removes an active bypass', 'active', ['operator'], ME, { remove: true }],
+    ['a safety engineer who did not ask has nothing to do on a request', 'requested', ['safety_engineer'], ME, {}],
+    ['nothing is left to do on a rejected request', 'rejected', ['shift_supervisor', 'operator'], ME, {}],
+    ['nothing is left to do on a cancelled request', 'cancelled', ['shift_supervisor', 'operator'], ME, {}],
+    ['nothing is left to do on a lapsed authorization', 'lapsed', ['shift_supervisor', 'operator'], ME, {}],
   ])('%s (%s, %j)', async (_what, status, roles, userId, expected) => {
     vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
     const w = await open(
