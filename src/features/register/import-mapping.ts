@@ -13,6 +13,8 @@ export interface ImportLayout {
   requiredHint: string
   /** What a column is called in the mapping step ("Register field"). */
   fieldName: string
+  /** What to split a file over the size limit by. */
+  splitHint: string
 }
 
 export const REGISTER_LAYOUT: ImportLayout = {
@@ -20,6 +22,7 @@ export const REGISTER_LAYOUT: ImportLayout = {
   required: IMPORT_REQUIRED_COLUMNS,
   requiredHint: 'Every import needs the area, the process, the instrument tag and the limit tag.',
   fieldName: 'Register field',
+  splitHint: 'split the register, e.g. by area',
 }
 
 export const HISTORY_LAYOUT: ImportLayout = {
@@ -27,6 +30,7 @@ export const HISTORY_LAYOUT: ImportLayout = {
   required: HISTORY_REQUIRED_COLUMNS,
   requiredHint: 'Every history file needs the kind of record and the limit tag.',
   fieldName: 'History field',
+  splitHint: 'split the history, e.g. by area',
 }
 
 const norm = (h: string) => h.trim().toLowerCase().replace(/\s+/g, ' ')

@@ -1,5 +1,5 @@
 import { useAbility } from '@casl/vue'
-import { computed, onMounted, ref, watch } from 'vue'
+import { computed, onMounted, type Ref, ref, watch } from 'vue'
 import type { AppAbility } from '@shared/abilities/index.ts'
 import type { ImportError } from '@shared/schemas/imports.ts'
 import { IMPORT_MAX_BYTES } from '@shared/schemas/imports.ts'
@@ -28,8 +28,6 @@ export interface ImportFlowOptions<R extends ImportAnswer, M extends Record<stri
   commit: (id: number) => Promise<R>
   /** Rows the commit would write, from a dry run's answer. */
   writable: (r: R) => number
-  /** What to split a file over the size limit by. */
-  splitHint: string
 }
 
 export const IMPORT_ACCEPT = '.csv,.xlsx,text/csv,application/vnd.openxmlformats-officedocument.spreadsheetml.sheet'
@@ -48,7 +46,7 @@ export function useImportFlow<R extends ImportAnswer, M extends Record<string, s
   const uploadError = ref('')
   const mappingError = ref('')
   const headers = ref<string[]>([])
-  const mapping = ref({} as M)
+  const mapping = ref({} as M) as Ref<M>
   /** The mapping the shown check result was made with. */
   const checkedMapping = ref({} as M)
   const result = ref<R | null>(null)
@@ -71,7 +69,7 @@ export function useImportFlow<R extends ImportAnswer, M extends Record<string, s
     if (!file.value) return ''
     if (file.value.size === 0) return 'The file is empty'
     if (file.value.size > IMPORT_MAX_BYTES)
-      return `The file is ${(file.value.size / 1024 / 1024).toFixed(1)} MB; the largest import is ${IMPORT_MAX_MB} MB: ${o.splitHint}`
+      return `The file is ${(file.value.size / 1024 / 1024).toFixed(1)} MB; the largest import is ${IMPORT_MAX_MB} MB: ${o.layout.splitHint}`
     return ''
   })
   const uploading = computed(() => progress.value !== null)
