@@ -1,6 +1,6 @@
 import { randomUUID } from 'node:crypto'
 import canonicalize from 'canonicalize'
-import { sql, type Transaction } from 'kysely'
+import type { Transaction } from 'kysely'
 import { ZodError, type z } from 'zod'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
@@ -37,6 +37,9 @@ import type { Database, ProcessRow } from '../../db/schema.ts'
 import { AppError, invalidState, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { applyInstrumentDefinition, insertInstrument, lockInstrument } from './instruments.service.ts'
+import { activeLimitTagsOnInstrument } from './instruments.repository.ts'
+import * as repo from './imports.repository.ts'
+import { insertProcess } from './processes.repository.ts'
 import { applyLimitDefinition, insertLimit, lockLimit } from './limits.service.ts'
 import { findInstrumentIdsByLimitIds } from './limits.repository.ts'
 import { toInstrument, toLimit, toProcess } from './register.mappers.ts'
@@ -436,19 +439,14 @@ async function inSavepoint(
   fallbackField: string,
   column: (path: PropertyKey[]) => string,
 ): Promise<RowProblem[]> {
-  await sql`SAVEPOINT import_row`.execute(trx)
   try {
-    await fn()
-    await sql`RELEASE SAVEPOINT import_row`.execute(trx)
+    await repo.inImportRowSavepoint(trx, fn)
     return []
   } catch (err) {
     const found = problemsOf(err, fallbackField, column)
-    const problems = found.length
+    return found.length
       ? found
       : [{ field: fallbackField, message: err instanceof Error ? err.message : 'The row could not be written' }]
-    await sql`ROLLBACK TO SAVEPOINT import_row`.execute(trx)
-    await sql`RELEASE SAVEPOINT import_row`.execute(trx)
-    return problems
   }
 }
 
@@ -487,15 +485,7 @@ function chunks<T>(list: T[], size = 1000): T[][] {
 async function preloadInstruments(trx: Trx, siteId: number, tags: string[]): Promise<Map<string, InstrumentDto>> {
   const map = new Map<string, InstrumentDto>()
   for (const chunk of chunks(tags)) {
-    const rows = await trx
-      .selectFrom('instrument')
-      .innerJoin('process', 'process.id', 'instrument.process_id')
-      .selectAll('instrument')
-      .select('process.name as process_name')
-      .where('instrument.site_id', '=', siteId)
-      .where(sql<string>`lower(instrument.tag)`, 'in', chunk)
-      .forUpdate(['instrument'] as never)
-      .execute()
+    const rows = await repo.lockInstrumentsByTags(trx, siteId, chunk)
     for (const r of rows) map.set(r.tag.toLowerCase(), toInstrument(r))
   }
   return map
@@ -505,27 +495,7 @@ async function preloadInstruments(trx: Trx, siteId: number, tags: string[]): Pro
 async function preloadLimits(trx: Trx, siteId: number, tags: string[]): Promise<Map<string, Limit>> {
   const map = new Map<string, Limit>()
   for (const chunk of chunks(tags)) {
-    const rows = await trx
-      .selectFrom('limit_function')
-      .innerJoin('process', 'process.id', 'limit_function.process_id')
-      .innerJoin('area', 'area.id', 'limit_function.area_id')
-      .innerJoin('site', 'site.id', 'limit_function.site_id')
-      .innerJoin('instrument as pi', 'pi.id', 'limit_function.primary_instrument_id')
-      .selectAll('limit_function')
-      .select([
-        'process.name as process_name',
-        'area.name as area_name',
-        'site.code as site_code',
-        'pi.tag as pi_tag',
-        'pi.unit as pi_unit',
-        'pi.measured_variable as pi_variable',
-        'pi.range_low as pi_range_low',
-        'pi.range_high as pi_range_high',
-      ])
-      .where('limit_function.site_id', '=', siteId)
-      .where(sql<string>`lower(limit_function.tag)`, 'in', chunk)
-      .forUpdate(['limit_function'] as never)
-      .execute()
+    const rows = await repo.lockLimitsByTags(trx, siteId, chunk)
     const voted = await findInstrumentIdsByLimitIds(
       trx,
       rows.map((r) => r.id),
@@ -533,17 +503,6 @@ async function preloadLimits(trx: Trx, siteId: number, tags: string[]): Promise<
     for (const r of rows) map.set(r.tag.toLowerCase(), toLimit(r, voted.get(r.id) ?? []))
   }
   return map
-}
-
-async function activeLimitTagsOn(trx: Trx, instrumentId: number): Promise<string[]> {
-  const rows = await trx
-    .selectFrom('limit_instrument')
-    .innerJoin('limit_function', 'limit_function.id', 'limit_instrument.limit_id')
-    .select('limit_function.tag')
-    .where('limit_instrument.instrument_id', '=', instrumentId)
-    .where('limit_function.status', '=', 'active')
-    .execute()
-  return rows.map((r) => r.tag)
 }
 
 /**
@@ -560,14 +519,9 @@ async function runRows(
   stored: StoredRow[],
   batchId: string | undefined,
 ): Promise<RunOutcome> {
-  const areas = await trx
-    .selectFrom('area')
-    .select(['id', 'name'])
-    .where('site_id', '=', site.id)
-    .orderBy('id')
-    .execute()
+  const areas = await repo.listSiteAreas(trx, site.id)
   const processes = new Map<string, ProcessRow>()
-  for (const p of await trx.selectFrom('process').selectAll().where('site_id', '=', site.id).orderBy('id').execute()) {
+  for (const p of await repo.listSiteProcesses(trx, site.id)) {
     if (!processes.has(processKey(p.area_id, p.name))) processes.set(processKey(p.area_id, p.name), p)
   }
   const lowerTags = (f: (s: StoredRow) => string[]) => [
@@ -668,7 +622,7 @@ async function runRows(
     if (instrument && !seen) {
       const current = parseWith(CreateInstrumentInputSchema, instrumentBase(instrument), instrumentColumn, errs)
       diff = current ? differences(instrumentStored(current), definition) : ['instrumentTag']
-      const active = diff.length ? await activeLimitTagsOn(trx, instrument.id) : []
+      const active = diff.length ? (await activeLimitTagsOnInstrument(trx, instrument.id)).map((r) => r.tag) : []
       if (active.length) {
         st.problems.push({
           field: diff[0],
@@ -691,18 +645,14 @@ async function runRows(
           let proc = process
           if (!proc) {
             const now = clock.now()
-            proc = newProcess = await trx
-              .insertInto('process')
-              .values({
-                area_id: area.id,
-                site_id: site.id,
-                name: cells.process!,
-                description: '',
-                created_at: now,
-                updated_at: now,
-              })
-              .returningAll()
-              .executeTakeFirstOrThrow()
+            proc = newProcess = await insertProcess(trx, {
+              area_id: area.id,
+              site_id: site.id,
+              name: cells.process!,
+              description: '',
+              created_at: now,
+              updated_at: now,
+            })
             await appendAudit(trx, clock, ctx, {
               action: 'process.create',
               entityType: 'Process',
@@ -821,12 +771,7 @@ async function runRows(
           trx,
           async () => {
             st.limitId = await insertLimit(trx, clock, ctx, input, st.process!, batchId)
-            const w = await trx
-              .selectFrom('limit_function')
-              .select('window_warnings')
-              .where('id', '=', st.limitId)
-              .executeTakeFirstOrThrow()
-            st.warnings = w.window_warnings
+            st.warnings = await repo.findLimitWindowWarnings(trx, st.limitId)
           },
           'tag',
           limitColumn,
@@ -874,18 +819,14 @@ function summarize(rows: ImportRowResult[]) {
 }
 
 async function siteFor(deps: AppDeps, siteId: number) {
-  const site = await deps.db.selectFrom('site').select(['id', 'code']).where('id', '=', siteId).executeTakeFirst()
+  const site = await repo.findImportSite(deps.db, siteId)
   if (!site) throw validationFailed({ siteId: ['The site does not exist'] })
   return site
 }
 
 /** The mapping a user has saved (file header → column key). */
 export async function getRememberedMapping(deps: AppDeps, userId: number): Promise<ImportMapping> {
-  const row = await deps.db
-    .selectFrom('import_mapping')
-    .select('mapping')
-    .where('user_id', '=', userId)
-    .executeTakeFirst()
+  const row = await repo.findImportMapping(deps.db, userId)
   if (!row) return {}
   // entries that no longer name a column are dropped rather than failing the upload
   return Object.fromEntries(
@@ -921,28 +862,17 @@ export async function checkImport(
 
   const id = await deps.db.transaction().execute(async (trx) => {
     const now = deps.clock.now()
-    const batch = await trx
-      .insertInto('import_batch')
-      .values({
-        site_id: site.id,
-        created_by: userId,
-        file_name: fileName,
-        checksum,
-        row_count: stored.length,
-        rows: JSON.stringify(stored),
-        created_at: now,
-      })
-      .returning('id')
-      .executeTakeFirstOrThrow()
+    const batchId = await repo.insertRegisterBatch(trx, {
+      siteId: site.id,
+      userId,
+      fileName,
+      checksum,
+      rows: stored,
+      now,
+    })
     const merged = Object.entries({ ...remembered, ...used }).slice(-500)
-    await trx
-      .insertInto('import_mapping')
-      .values({ user_id: userId, mapping: JSON.stringify(Object.fromEntries(merged)), updated_at: now })
-      .onConflict((oc) =>
-        oc.column('user_id').doUpdateSet({ mapping: (eb) => eb.ref('excluded.mapping'), updated_at: now }),
-      )
-      .execute()
-    return batch.id
+    await repo.saveImportMapping(trx, userId, Object.fromEntries(merged), now)
+    return batchId
   })
 
   const result: ImportResult = {
@@ -982,13 +912,7 @@ export async function commitImport(
   id: number,
 ): Promise<ImportResult> {
   return deps.db.transaction().execute(async (trx) => {
-    const batch = await trx
-      .selectFrom('import_batch')
-      .selectAll()
-      .where('id', '=', id)
-      .where('kind', '=', 'register')
-      .forUpdate()
-      .executeTakeFirst()
+    const batch = await repo.lockRegisterBatch(trx, id)
     if (!batch) throw notFound('Import')
     ensureVisible(ability, 'Limit', { siteId: batch.site_id }, 'Import')
     authorize(ability, 'import', 'Limit', { siteId: batch.site_id })
@@ -999,11 +923,8 @@ export async function commitImport(
           : 'This import changed nothing and is closed; upload the file again to import it again',
       )
     }
-    const site = await trx
-      .selectFrom('site')
-      .select(['id', 'code'])
-      .where('id', '=', batch.site_id)
-      .executeTakeFirstOrThrow()
+    const site = await repo.findImportSite(trx, batch.site_id)
+    if (!site) throw notFound('Site')
     const batchId = randomUUID()
     const outcome = await runRows(trx, deps.clock, ctx, site, batch.rows as StoredRow[], batchId)
     const base = {
@@ -1037,37 +958,11 @@ export async function commitImport(
         batchId,
       })
     }
-    await trx
-      .updateTable('import_batch')
-      .set({ status: unchanged ? 'unchanged' : 'committed', committed_at: now })
-      .where('id', '=', batch.id)
-      .execute()
+    await repo.closeRegisterBatch(trx, batch.id, unchanged ? 'unchanged' : 'committed', now)
     // the imported drafts become active only through a change request that a second person approves
     let changeRequestId: number | null = null
     if (!unchanged) {
-      const drafts = outcome.limitIds.length
-        ? (
-            await trx
-              .selectFrom('limit_function')
-              .select('id')
-              .where('id', 'in', outcome.limitIds)
-              .where('status', '=', 'proposed')
-              .where((eb) =>
-                eb.not(
-                  eb.exists(
-                    eb
-                      .selectFrom('change_request_item')
-                      .innerJoin('change_request', 'change_request.id', 'change_request_item.change_request_id')
-                      .select('change_request_item.id')
-                      .whereRef('change_request_item.limit_id', '=', 'limit_function.id')
-                      .where('change_request.status', 'in', ['draft', 'submitted', 'approved']),
-                  ),
-                ),
-              )
-              .orderBy('id')
-              .execute()
-          ).map((r) => r.id)
-        : []
+      const drafts = await repo.proposedLimitIdsWithoutOpenChange(trx, outcome.limitIds)
       changeRequestId = await openBaselineChangeRequest(deps, ability, ctx, trx, {
         siteId: batch.site_id,
         limitIds: drafts,

@@ -2,6 +2,9 @@ import { type Kysely, type SelectQueryBuilder, sql, type Transaction } from 'kys
 import type { Insertable, Updateable } from 'kysely'
 import type { Database, LimitFunctionTable, LimitRevisionTable } from '../../db/schema.ts'
 import type { LimitListRow } from './register.mappers.ts'
+import type { Limit } from '../../../shared/schemas/register.ts'
+
+type ProtectionState = Limit['protectionState']
 
 type Q = Kysely<Database> | Transaction<Database>
 
@@ -321,5 +324,24 @@ export function listLimitRevisions(db: Q, limitId: number) {
     ])
     .where('limit_id', '=', limitId)
     .orderBy('revision', 'desc')
+    .execute()
+}
+
+/** Whether a bypass of the limit is active, and whether a degradation of it is not cleared (one statement). */
+export async function findProtectionFacts(db: Q, limitId: number) {
+  const { rows } = await sql<{ bypassed: boolean; degraded: boolean }>`
+    SELECT EXISTS (SELECT 1 FROM bypass WHERE limit_id = ${limitId} AND status = 'active') AS bypassed,
+      EXISTS (SELECT 1 FROM limit_degradation WHERE limit_id = ${limitId} AND cleared_at IS NULL) AS degraded
+  `.execute(db)
+  return rows[0]
+}
+
+/** Sets the limit's protection-state column, writing only when it differs. */
+export function setProtectionState(db: Q, limitId: number, state: ProtectionState) {
+  return db
+    .updateTable('limit_function')
+    .set({ protection_state: state })
+    .where('id', '=', limitId)
+    .where('protection_state', '!=', state)
     .execute()
 }

@@ -1,5 +1,7 @@
-import { sql, type Transaction } from 'kysely'
+import type { Transaction } from 'kysely'
 import type { Database } from '../../db/schema.ts'
+import type { Limit } from '../../../shared/schemas/register.ts'
+import { findProtectionFacts, setProtectionState } from './limits.repository.ts'
 
 /**
  * Recomputes the limit's `protection_state` column (docs/bypasses.md#protection-state, ADR 0004): bypassed while a
@@ -9,18 +11,9 @@ import type { Database } from '../../db/schema.ts'
 export async function refreshProtectionState(
   trx: Transaction<Database>,
   limitId: number,
-): Promise<'in_service' | 'bypassed' | 'degraded'> {
-  const row = await sql<{ state: 'in_service' | 'bypassed' | 'degraded' }>`
-    SELECT CASE
-      WHEN EXISTS (SELECT 1 FROM bypass WHERE limit_id = ${limitId} AND status = 'active') THEN 'bypassed'
-      WHEN EXISTS (SELECT 1 FROM limit_degradation WHERE limit_id = ${limitId} AND cleared_at IS NULL) THEN 'degraded'
-      ELSE 'in_service' END AS state`.execute(trx)
-  const state = row.rows[0].state
-  await trx
-    .updateTable('limit_function')
-    .set({ protection_state: state })
-    .where('id', '=', limitId)
-    .where('protection_state', '!=', state)
-    .execute()
+): Promise<Limit['protectionState']> {
+  const { bypassed, degraded } = await findProtectionFacts(trx, limitId)
+  const state = bypassed ? 'bypassed' : degraded ? 'degraded' : 'in_service'
+  await setProtectionState(trx, limitId, state)
   return state
 }

@@ -15,7 +15,7 @@ import type { CurrentUser } from '../../types/express.d.ts'
 import * as repo from './limits.repository.ts'
 import { getLimit } from './limits.service.ts'
 import { toInstrument, toLimit } from './register.mappers.ts'
-import { policyOf } from '../sites/sites.service.ts'
+import { getSitePolicy } from '../sites/sites.service.ts'
 import { ChangeCache, changeFeedOf } from '../../db/change-feed.ts'
 
 type LimitQuery = LimitListQuery
@@ -201,11 +201,7 @@ export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q:
   const instrumentIds = [...new Set([...ids.values()].flat())]
   const instruments = new Map<number, ReturnType<typeof toInstrument>>()
   for (let i = 0; i < instrumentIds.length; i += 5000) {
-    const chunk = await deps.db
-      .selectFrom('instrument')
-      .selectAll()
-      .where('id', 'in', instrumentIds.slice(i, i + 5000))
-      .execute()
+    const chunk = await repo.findInstrumentRows(deps.db, instrumentIds.slice(i, i + 5000))
     for (const r of chunk) instruments.set(r.id, toInstrument(r))
   }
   const records: RegisterFileRow[] = rows.map((r) => {
@@ -307,17 +303,9 @@ export async function testSignalFor(
   q: { coldJunction?: number; mode: 'mv_source' | 'tc_simulate' },
 ) {
   const limit = await getLimit(deps, ability, id)
-  const row = await deps.db
-    .selectFrom('instrument')
-    .selectAll()
-    .where('id', '=', limit.instrumentIds[0])
-    .executeTakeFirstOrThrow()
+  const [row] = await repo.findInstrumentRows(deps.db, [limit.instrumentIds[0]])
   const inst = toInstrument(row)
-  const site = await deps.db
-    .selectFrom('site')
-    .select('policy')
-    .where('id', '=', limit.siteId)
-    .executeTakeFirstOrThrow()
+  const policy = await getSitePolicy(deps.db, limit.siteId)
   try {
     return computeTestSignal(
       { unit: inst.unit, rangeLow: inst.rangeLow, rangeHigh: inst.rangeHigh, signal: inst.signal as never },
@@ -326,7 +314,7 @@ export async function testSignalFor(
         setpoint: limit.setpoint,
         deadband: limit.deadband,
         deadbandUnit: limit.deadbandUnit,
-        tolerance: policyOf(site).defaultTolerancePercentSpan,
+        tolerance: policy.defaultTolerancePercentSpan,
         toleranceUnit: 'percent_span',
       },
       { mode: q.mode, coldJunctionC: q.coldJunction },
