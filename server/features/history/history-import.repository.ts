@@ -1,6 +1,7 @@
 // Every query of the history import (docs/trip-tests.md#history-import). Functions take `db` or a transaction first.
 import type { Insertable, Kysely, Transaction } from 'kysely'
 import type { BypassTable, Database, TripTestTable } from '../../db/schema.ts'
+import { closeImportBatch, insertImportBatch, lockImportBatch } from '../register/imports.repository.ts'
 
 type Db = Kysely<Database> | Transaction<Database>
 
@@ -60,36 +61,15 @@ export function insertHistoryBatch(
   db: Db,
   v: { siteId: number; userId: number; fileName: string; checksum: string; rows: unknown[]; now: Date },
 ) {
-  return db
-    .insertInto('import_batch')
-    .values({
-      site_id: v.siteId,
-      created_by: v.userId,
-      file_name: v.fileName,
-      checksum: v.checksum,
-      row_count: v.rows.length,
-      rows: JSON.stringify(v.rows),
-      created_at: v.now,
-      kind: 'history',
-    })
-    .returning('id')
-    .executeTakeFirstOrThrow()
+  return insertImportBatch(db, 'history', v)
 }
 
 /** A history batch, locked for its commit. */
 export function lockHistoryBatch(trx: Transaction<Database>, id: number) {
-  return trx
-    .selectFrom('import_batch')
-    .selectAll()
-    .where('id', '=', id)
-    .where('kind', '=', 'history')
-    .forUpdate()
-    .executeTakeFirst()
+  return lockImportBatch(trx, 'history', id)
 }
 
-export function closeBatch(db: Db, id: number, status: 'committed' | 'unchanged', now: Date) {
-  return db.updateTable('import_batch').set({ status, committed_at: now }).where('id', '=', id).execute()
-}
+export const closeBatch = closeImportBatch
 
 /** Inserts imported tests, 500 rows a statement (below PostgreSQL's limit of bind parameters). */
 export async function insertImportedTests(db: Db, rows: Insertable<TripTestTable>[]) {

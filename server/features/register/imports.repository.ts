@@ -35,31 +35,6 @@ export function lockInstrumentsByTags(trx: Trx, siteId: number, lowerTags: strin
     .execute()
 }
 
-/** The site's limits with these lower-case tags, in the register row shape, locked for update. */
-export function lockLimitsByTags(trx: Trx, siteId: number, lowerTags: string[]) {
-  return trx
-    .selectFrom('limit_function')
-    .innerJoin('process', 'process.id', 'limit_function.process_id')
-    .innerJoin('area', 'area.id', 'limit_function.area_id')
-    .innerJoin('site', 'site.id', 'limit_function.site_id')
-    .innerJoin('instrument as pi', 'pi.id', 'limit_function.primary_instrument_id')
-    .selectAll('limit_function')
-    .select([
-      'process.name as process_name',
-      'area.name as area_name',
-      'site.code as site_code',
-      'pi.tag as pi_tag',
-      'pi.unit as pi_unit',
-      'pi.measured_variable as pi_variable',
-      'pi.range_low as pi_range_low',
-      'pi.range_high as pi_range_high',
-    ])
-    .where('limit_function.site_id', '=', siteId)
-    .where(sql<string>`lower(limit_function.tag)`, 'in', lowerTags)
-    .forUpdate(['limit_function'] as never)
-    .execute()
-}
-
 /** The operating-window warnings stored with a limit. */
 export async function findLimitWindowWarnings(db: Q, limitId: number) {
   const row = await db
@@ -102,12 +77,13 @@ export function saveImportMapping(db: Q, userId: number, mapping: Record<string,
     .execute()
 }
 
-/** Stores a checked register batch; answers its id. */
-export async function insertRegisterBatch(
+/** Stores a checked batch of an import (the register's or the history's); answers its id. */
+export function insertImportBatch(
   db: Q,
+  kind: 'register' | 'history',
   v: { siteId: number; userId: number; fileName: string; checksum: string; rows: unknown[]; now: Date },
-): Promise<number> {
-  const batch = await db
+) {
+  return db
     .insertInto('import_batch')
     .values({
       site_id: v.siteId,
@@ -117,24 +93,24 @@ export async function insertRegisterBatch(
       row_count: v.rows.length,
       rows: JSON.stringify(v.rows),
       created_at: v.now,
+      kind,
     })
     .returning('id')
     .executeTakeFirstOrThrow()
-  return batch.id
 }
 
-/** A register batch, locked for its commit. */
-export function lockRegisterBatch(trx: Trx, id: number) {
+/** A batch of an import, locked for its commit. */
+export function lockImportBatch(trx: Trx, kind: 'register' | 'history', id: number) {
   return trx
     .selectFrom('import_batch')
     .selectAll()
     .where('id', '=', id)
-    .where('kind', '=', 'register')
+    .where('kind', '=', kind)
     .forUpdate()
     .executeTakeFirst()
 }
 
-export function closeRegisterBatch(db: Q, id: number, status: 'committed' | 'unchanged', now: Date) {
+export function closeImportBatch(db: Q, id: number, status: 'committed' | 'unchanged', now: Date) {
   return db.updateTable('import_batch').set({ status, committed_at: now }).where('id', '=', id).execute()
 }
 

@@ -41,7 +41,7 @@ import { activeLimitTagsOnInstrument } from './instruments.repository.ts'
 import * as repo from './imports.repository.ts'
 import { insertProcess } from './processes.repository.ts'
 import { applyLimitDefinition, insertLimit, lockLimit } from './limits.service.ts'
-import { findInstrumentIdsByLimitIds } from './limits.repository.ts'
+import { findInstrumentIdsByLimitIds, lockLimitsByTags } from './limits.repository.ts'
 import { toInstrument, toLimit, toProcess } from './register.mappers.ts'
 import { badFile, normHeader, resolveColumnMapping } from './column-mapping.ts'
 import {
@@ -495,7 +495,7 @@ async function preloadInstruments(trx: Trx, siteId: number, tags: string[]): Pro
 async function preloadLimits(trx: Trx, siteId: number, tags: string[]): Promise<Map<string, Limit>> {
   const map = new Map<string, Limit>()
   for (const chunk of chunks(tags)) {
-    const rows = await repo.lockLimitsByTags(trx, siteId, chunk)
+    const rows = await lockLimitsByTags(trx, siteId, chunk)
     const voted = await findInstrumentIdsByLimitIds(
       trx,
       rows.map((r) => r.id),
@@ -862,17 +862,11 @@ export async function checkImport(
 
   const id = await deps.db.transaction().execute(async (trx) => {
     const now = deps.clock.now()
-    const batchId = await repo.insertRegisterBatch(trx, {
-      siteId: site.id,
-      userId,
-      fileName,
-      checksum,
-      rows: stored,
-      now,
-    })
+    const v = { siteId: site.id, userId, fileName, checksum, rows: stored, now }
+    const batch = await repo.insertImportBatch(trx, 'register', v)
     const merged = Object.entries({ ...remembered, ...used }).slice(-500)
     await repo.saveImportMapping(trx, userId, Object.fromEntries(merged), now)
-    return batchId
+    return batch.id
   })
 
   const result: ImportResult = {
@@ -912,7 +906,7 @@ export async function commitImport(
   id: number,
 ): Promise<ImportResult> {
   return deps.db.transaction().execute(async (trx) => {
-    const batch = await repo.lockRegisterBatch(trx, id)
+    const batch = await repo.lockImportBatch(trx, 'register', id)
     if (!batch) throw notFound('Import')
     ensureVisible(ability, 'Limit', { siteId: batch.site_id }, 'Import')
     authorize(ability, 'import', 'Limit', { siteId: batch.site_id })
@@ -958,7 +952,7 @@ export async function commitImport(
         batchId,
       })
     }
-    await repo.closeRegisterBatch(trx, batch.id, unchanged ? 'unchanged' : 'committed', now)
+    await repo.closeImportBatch(trx, batch.id, unchanged ? 'unchanged' : 'committed', now)
     // the imported drafts become active only through a change request that a second person approves
     let changeRequestId: number | null = null
     if (!unchanged) {

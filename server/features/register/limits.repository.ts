@@ -228,6 +228,15 @@ export async function findLimitById(db: Q, id: number, lock = false): Promise<Li
   return (await q.executeTakeFirst()) as LimitListRow | undefined
 }
 
+/** The site's limits with these lower-case tags, in the register row shape, locked for update. */
+export function lockLimitsByTags(trx: Transaction<Database>, siteId: number, lowerTags: string[]) {
+  return selectListColumns(baseQuery(trx))
+    .where('limit_function.site_id', '=', siteId)
+    .where(sql<string>`lower(limit_function.tag)`, 'in', lowerTags)
+    .forUpdate(['limit_function'] as never)
+    .execute()
+}
+
 export async function findInstrumentIdsByLimitIds(db: Q, ids: number[]): Promise<Map<number, number[]>> {
   const map = new Map<number, number[]>()
   if (!ids.length) return map
