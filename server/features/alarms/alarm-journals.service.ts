@@ -1,6 +1,4 @@
 import { logger } from '../../logger.ts'
-import { createHash } from 'node:crypto'
-import { createReadStream } from 'node:fs'
 import { rm } from 'node:fs/promises'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { type AlarmEventKind, EVENT_CODE, JOURNAL_PRIORITIES } from '../../../shared/domain/alarm-figures.ts'
@@ -19,9 +17,9 @@ import type { AlarmJournalUploadTable } from '../../db/schema.ts'
 import { notFound, validationFailed } from '../../errors.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { badFile } from '../register/imports.service.ts'
 import * as repo from './alarms.repository.ts'
-import { copyText, createTimeParser, type FileKind, readRows, resolveColumns, sniffFile } from './file-rows.ts'
+import { copyLines, hashFile, headerOf, progressReporter, uploadFileName } from './copy-load.ts'
+import { copyText, createTimeParser, readRows, resolveColumns, sniffFile } from './file-rows.ts'
 import type { Selectable } from 'kysely'
 
 // The alarm-journal import: the upload is received to a temporary file, its header mapped (remembered per user),
@@ -96,12 +94,6 @@ export async function rememberedMapping(deps: AppDeps, userId: number): Promise<
   ) as JournalMapping
 }
 
-/** Reads the header row only (the rest is the job's). */
-async function headerOf(path: string, kind: FileKind, delimiter: string): Promise<string[]> {
-  for await (const row of readRows(path, kind, delimiter)) return row
-  throw badFile('The file is empty')
-}
-
 const ALIASES: Record<string, JournalColumn> = {
   time: 'timestamp',
   'date/time': 'timestamp',
@@ -148,7 +140,7 @@ export async function startJournalUpload(
       const id = await repo.insertJournalUpload(trx, {
         siteId: fields.siteId,
         userId,
-        fileName: file.fileName.replace(/^.*[\\/]/, '').slice(0, 200) || 'upload',
+        fileName: uploadFileName(file.fileName),
         fileKind: kind,
         timeZone: fields.timeZone,
         mapping: used,
@@ -210,44 +202,35 @@ export async function runJournalUpload(deps: AppDeps, id: number, ctx: AuditCont
     const kdb = repo.kyselyOn(client)
     await kdb.transaction().execute(async (trx) => {
       await repo.createJournalStage(trx)
-      const copy = repo.copyInto(client, 'COPY alarm_stage (t_ms, tag, kind, priority, position, message) FROM STDIN')
-      const copyDone = new Promise<void>((resolve, reject) => {
-        copy.on('finish', resolve)
-        copy.on('error', reject)
-      })
       const parseTime = createTimeParser(upload.time_zone)
+      const progress = progressReporter((rowsRead) =>
+        repo.setJournalProgress(deps.db, id, { rowsRead, rowsRejected: rejected }),
+      )
       let index: Partial<Record<JournalColumn, number>> = {}
-      let chunk = ''
-      let lastProgress = Date.now()
       let rowNo = 0
-      try {
-        for await (const cells of readRows(path, kind, delimiter)) {
-          rowNo++
-          if (rowNo === 1) {
-            index = resolveColumns(cells, JOURNAL_COLUMNS, JOURNAL_REQUIRED_COLUMNS, upload.mapping, {}, ALIASES).index
-            continue
+      await copyLines(
+        client,
+        'COPY alarm_stage (t_ms, tag, kind, priority, position, message) FROM STDIN',
+        async (write) => {
+          for await (const cells of readRows(path, kind, delimiter)) {
+            rowNo++
+            if (rowNo === 1) {
+              index = resolveColumns(
+                cells,
+                JOURNAL_COLUMNS,
+                JOURNAL_REQUIRED_COLUMNS,
+                upload.mapping,
+                {},
+                ALIASES,
+              ).index
+              continue
+            }
+            rowsRead++
+            await write(journalLine(cells, index, parseTime, rowNo, reject) ?? '')
+            await progress(rowsRead)
           }
-          rowsRead++
-          const line = journalLine(cells, index, parseTime, rowNo, reject)
-          if (line) chunk += line
-          if (chunk.length > 256 * 1024) {
-            if (!copy.write(chunk)) await new Promise((r) => copy.once('drain', r))
-            chunk = ''
-          }
-          if ((rowsRead & 0x3fff) === 0 && Date.now() - lastProgress > 1000) {
-            lastProgress = Date.now()
-            await repo.setJournalProgress(deps.db, id, { rowsRead, rowsRejected: rejected })
-          }
-        }
-        if (chunk) copy.write(chunk)
-        copy.end()
-        await copyDone
-      } catch (err) {
-        // a COPY left open would hold the connection: fail it so the transaction rolls back
-        copy.destroy(err instanceof Error ? err : new Error(String(err)))
-        await copyDone.catch(() => undefined)
-        throw err
-      }
+        },
+      )
       const staged = await repo.stageRange(trx)
       if (!staged.count || staged.lo === null || staged.hi === null) throw new NothingUsable()
       await repo.ensureJournalPartitions(trx, new Date(staged.lo), new Date(staged.hi))
@@ -313,16 +296,6 @@ export async function runJournalUpload(deps: AppDeps, id: number, ctx: AuditCont
   }
 }
 
-function hashFile(path: string): Promise<string> {
-  return new Promise((resolve, reject) => {
-    const h = createHash('sha256')
-    createReadStream(path)
-      .on('data', (d) => h.update(d))
-      .on('end', () => resolve(h.digest('hex')))
-      .on('error', reject)
-  })
-}
-
 /** One journal row as a COPY line, or null (and a rejection) when a cell cannot be read. */
 function journalLine(
   cells: string[],
@@ -377,11 +350,6 @@ export async function listJournalUploads(
   user: CurrentUser | null,
   q: { siteId?: number; page: number; pageSize: number },
 ): Promise<ListResult<JournalUpload>> {
-  const { rows, total } = await repo.listJournalUploads(
-    deps.db,
-    scopeSites(user, q.siteId ? [q.siteId] : undefined),
-    q.page,
-    q.pageSize,
-  )
+  const { rows, total } = await repo.listJournalUploads(deps.db, scopeSites(user, q.siteId ? [q.siteId] : undefined), q)
   return { items: rows.map(toDto), total }
 }

@@ -3,6 +3,7 @@ import type pg from 'pg'
 import { EVENT_CODE } from '../../../shared/domain/alarm-figures.ts'
 import { from as copyFrom } from 'pg-copy-streams'
 import type { Db } from '../../db/index.ts'
+import { pageWithTotal } from '../../db/paging.ts'
 import type { AlarmUploadStatus, Database } from '../../db/schema.ts'
 
 // Every query of the alarms feature: journal uploads and events, figures, alarm states, process-data uploads and
@@ -80,19 +81,10 @@ export async function insertJournalUpload(
 export const journalUploadById = (db: Q, id: number) =>
   db.selectFrom('alarm_journal_upload').selectAll().where('id', '=', id).executeTakeFirst()
 
-export async function listJournalUploads(db: Q, siteIds: number[], page: number, pageSize: number) {
+export async function listJournalUploads(db: Q, siteIds: number[], page: { page: number; pageSize: number }) {
   if (!siteIds.length) return { rows: [], total: 0 }
-  const base = db.selectFrom('alarm_journal_upload').where('site_id', 'in', siteIds)
-  const [rows, count] = await Promise.all([
-    base
-      .selectAll()
-      .orderBy('id', 'desc')
-      .limit(pageSize)
-      .offset((page - 1) * pageSize)
-      .execute(),
-    base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow(),
-  ])
-  return { rows, total: Number(count.n) }
+  const filtered = db.selectFrom('alarm_journal_upload').where('site_id', 'in', siteIds)
+  return pageWithTotal(filtered, page, (q) => q.selectAll().orderBy('id', 'desc'))
 }
 
 export async function setJournalProgress(
@@ -524,19 +516,10 @@ export async function insertReplayUpload(
 export const replayUploadById = (db: Q, id: number) =>
   db.selectFrom('process_data_upload').selectAll().where('id', '=', id).executeTakeFirst()
 
-export async function listReplayUploads(db: Q, siteIds: number[], page: number, pageSize: number) {
+export async function listReplayUploads(db: Q, siteIds: number[], page: { page: number; pageSize: number }) {
   if (!siteIds.length) return { rows: [], total: 0 }
-  const base = db.selectFrom('process_data_upload').where('site_id', 'in', siteIds)
-  const [rows, count] = await Promise.all([
-    base
-      .selectAll()
-      .orderBy('id', 'desc')
-      .limit(pageSize)
-      .offset((page - 1) * pageSize)
-      .execute(),
-    base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow(),
-  ])
-  return { rows, total: Number(count.n) }
+  const filtered = db.selectFrom('process_data_upload').where('site_id', 'in', siteIds)
+  return pageWithTotal(filtered, page, (q) => q.selectAll().orderBy('id', 'desc'))
 }
 
 export async function setReplayProgress(

@@ -1,6 +1,4 @@
 import { logger } from '../../logger.ts'
-import { createHash } from 'node:crypto'
-import { createReadStream } from 'node:fs'
 import { rm } from 'node:fs/promises'
 import type { Selectable } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
@@ -21,6 +19,7 @@ import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { badFile } from '../register/imports.service.ts'
 import { sitePolicy } from './alarm-figures.service.ts'
 import * as repo from './alarms.repository.ts'
+import { copyLines, hashFile, headerOf, progressReporter, uploadFileName } from './copy-load.ts'
 import { createTimeParser, readRows, resolveColumns, sniffFile } from './file-rows.ts'
 
 // Replays: a process-data export (a time column and one value column per tag) is streamed into process_sample by
@@ -77,12 +76,7 @@ export async function startReplayUpload(
         throw validationFailed({ instrumentId: ['No such instrument at this site'] }, 'No such instrument at this site')
     }
     const { kind, delimiter } = await sniffFile(file.path)
-    let headers: string[] | null = null
-    for await (const row of readRows(file.path, kind, delimiter)) {
-      headers = row
-      break
-    }
-    if (!headers) throw badFile('The file is empty')
+    const headers = await headerOf(file.path, kind, delimiter)
     const { index } = resolveColumns(
       headers,
       ['timestamp'] as const,
@@ -98,7 +92,7 @@ export async function startReplayUpload(
         siteId: fields.siteId,
         instrumentId: fields.instrumentId ?? null,
         userId,
-        fileName: file.fileName.replace(/^.*[\\/]/, '').slice(0, 200) || 'upload',
+        fileName: uploadFileName(file.fileName),
         timeZone: fields.timeZone,
         filePath: file.path,
         now,
@@ -141,28 +135,16 @@ export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> 
   const client = await deps.pool.connect()
   try {
     await repo.setReplayProgress(deps.db, id, { status: 'running' })
-    const hashing = new Promise<string>((resolve, reject) => {
-      const h = createHash('sha256')
-      createReadStream(path)
-        .on('data', (d) => h.update(d))
-        .on('end', () => resolve(h.digest('hex')))
-        .on('error', reject)
-    })
+    const hashing = hashFile(path)
     const { kind, delimiter } = await sniffFile(path)
     const kdb = repo.kyselyOn(client)
     await kdb.transaction().execute(async () => {
-      const copy = repo.copyInto(client, 'COPY process_sample (upload_id, series, t, value) FROM STDIN')
-      const done = new Promise<void>((resolve, reject) => {
-        copy.on('finish', resolve)
-        copy.on('error', reject)
-      })
       const parseTime = createTimeParser(upload.time_zone)
       let timeCol = 0
       let cols: { column: number; index: number; name: string }[] = []
-      let chunk = ''
       let rowNo = 0
-      let lastProgress = Date.now()
-      try {
+      const progress = progressReporter((rowsRead) => repo.setReplayProgress(deps.db, id, { rowsRead }))
+      await copyLines(client, 'COPY process_sample (upload_id, series, t, value) FROM STDIN', async (write) => {
         for await (const cells of readRows(path, kind, delimiter)) {
           rowNo++
           if (rowNo === 1) {
@@ -211,26 +193,11 @@ export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> 
             samples += line.split('\n').length - 1
             if (t < first) first = t
             if (t > last) last = t
-            chunk += line
           }
-          if (chunk.length > 256 * 1024) {
-            if (!copy.write(chunk)) await new Promise((r) => copy.once('drain', r))
-            chunk = ''
-          }
-          if ((rowsRead & 0x3fff) === 0 && Date.now() - lastProgress > 1000) {
-            lastProgress = Date.now()
-            await repo.setReplayProgress(deps.db, id, { rowsRead })
-          }
+          await write(line)
+          await progress(rowsRead)
         }
-        if (chunk) copy.write(chunk)
-        copy.end()
-        await done
-      } catch (err) {
-        // a COPY left open would hold the connection: fail it so the transaction rolls back
-        copy.destroy(err instanceof Error ? err : new Error(String(err)))
-        await done.catch(() => undefined)
-        throw err
-      }
+      })
       if (!samples) throw badFile(`No usable row: ${rejected} of ${rowsRead} rows were rejected; nothing was stored`)
       checksum = await hashing
       await repo.finishReplayUpload(kdb, id, {
@@ -286,12 +253,7 @@ export async function listReplayUploads(
   user: CurrentUser | null,
   q: { siteId?: number; page: number; pageSize: number },
 ): Promise<ListResult<ReplayUpload>> {
-  const { rows, total } = await repo.listReplayUploads(
-    deps.db,
-    scopeSites(user, q.siteId ? [q.siteId] : undefined),
-    q.page,
-    q.pageSize,
-  )
+  const { rows, total } = await repo.listReplayUploads(deps.db, scopeSites(user, q.siteId ? [q.siteId] : undefined), q)
   return { items: rows.map(toDto), total }
 }
 
