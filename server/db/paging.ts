@@ -14,7 +14,10 @@ export async function pageWithTotal<DB, TB extends keyof DB, O>(
       .limit(page.pageSize)
       .offset((page.page - 1) * page.pageSize)
       .execute(),
-    filtered.select((eb) => eb.fn.countAll<string>().as('n')).executeTakeFirstOrThrow(),
+    filtered
+      .select((eb) => eb.fn.countAll<string>().as('n'))
+      .$castTo<{ n: string }>()
+      .executeTakeFirstOrThrow(),
   ])
   return { rows, total: Number(count.n) }
 }

@@ -9,7 +9,7 @@ import { enforce, notFound, validationFailed } from '../../errors.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
-import { contentHash, insertSignature } from '../signatures/signatures.ts'
+import { contentHash, signAs } from '../signatures/signatures.ts'
 import { sitePolicy } from './alarm-figures.service.ts'
 import * as repo from './alarms.repository.ts'
 
@@ -109,11 +109,9 @@ export async function startAlarmState(
       changeRequestId: input.changeRequestId ?? null,
     })
     if (signer) {
-      const sig = await insertSignature(trx, deps.clock, {
+      const sig = await signAs(trx, deps.clock, signer, {
         entityType: 'alarm_state',
         entityId: id,
-        userId: signer.id,
-        name: signer.name,
         meaning: 'authorized',
         contentHash: contentHash({
           tag: input.tag,

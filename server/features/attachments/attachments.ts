@@ -100,6 +100,23 @@ export async function storeAttachment(
   })
 }
 
+/** What the audit record of an attachment holds about the stored file. */
+export function attachmentFacts(a: {
+  id: number
+  file_name: string
+  content_type: string
+  size_bytes: number
+  sha256: string
+}) {
+  return {
+    attachmentId: a.id,
+    fileName: a.file_name,
+    contentType: a.content_type,
+    sizeBytes: a.size_bytes,
+    sha256: a.sha256,
+  }
+}
+
 // the queries are in attachments.repository.ts; callers import the list from here as before
 export { listAttachments }
 

@@ -23,7 +23,7 @@ import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { refreshProtectionState } from '../register/protection-state-column.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
-import { contentHash, insertSignature, listSignatures } from '../signatures/signatures.ts'
+import { contentHash, listSignatures, signAs, signatureDto } from '../signatures/signatures.ts'
 import { findRolesByUserIds, findUsersWithRole } from '../users/users.repository.ts'
 import * as repo from './bypasses.repository.ts'
 import type { BypassListQuery, BypassRow } from './bypasses.repository.ts'
@@ -172,15 +172,7 @@ function toDto(
     removalNote: r.removal_note,
     lapsesAt: lapse?.toISOString() ?? null,
     bypassedHours: r.activated_at && until ? hoursBetween(r.activated_at, until) : 0,
-    authorizations: sigs.map((s) => ({
-      id: s.id,
-      userId: s.user_id,
-      name: s.name,
-      meaning: s.meaning,
-      at: s.at.toISOString(),
-      comment: s.comment,
-      contentHash: s.content_hash,
-    })),
+    authorizations: sigs.map((s) => ({ ...signatureDto(s), comment: s.comment })),
     createdAt: r.created_at.toISOString(),
     source: r.source,
     asOf: now.toISOString(),
@@ -356,11 +348,9 @@ export async function authorizeBypass(
       compensatingMeasures: b.compensating_measures,
       channelInstrumentId: b.channel_instrument_id,
     }
-    await insertSignature(trx, deps.clock, {
+    await signAs(trx, deps.clock, signer, {
       entityType: ENTITY,
       entityId: id,
-      userId: signer.id,
-      name: signer.name,
       meaning: 'authorized',
       contentHash: contentHash(content),
       comment: input.comment,
@@ -413,11 +403,9 @@ export async function rejectBypass(
   await deps.db.transaction().execute(async (trx) => {
     const { b, facts } = await factsFor(trx, id, deps.clock.now())
     enforce(rejectVerdict(facts, actor))
-    await insertSignature(trx, deps.clock, {
+    await signAs(trx, deps.clock, signer, {
       entityType: ENTITY,
       entityId: id,
-      userId: signer.id,
-      name: signer.name,
       meaning: 'rejected',
       contentHash: contentHash({ bypassId: id, status: b.status }),
       comment,

@@ -43,7 +43,7 @@ import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
 import { AppError, conflict, enforce, invalidState, notFound, validationFailed } from '../../errors.ts'
-import { listAttachments, storeAttachment } from '../attachments/attachments.ts'
+import { attachmentFacts, listAttachments, storeAttachment } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { applyInstrumentDefinition, lockInstrument } from '../register/instruments.service.ts'
@@ -53,7 +53,14 @@ import { recomputeWindowsForInstrument } from '../register/limits.service.ts'
 import { refreshTestSchedule } from '../trip-tests/trip-tests.service.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
-import { contentHash, insertSignature, listSignatures, voidSignatures } from '../signatures/signatures.ts'
+import {
+  contentHash,
+  listSignatures,
+  type Meaning,
+  signAs,
+  signatureDto,
+  voidSignatures,
+} from '../signatures/signatures.ts'
 import { findUsersWithRole } from '../users/users.repository.ts'
 import { takeUpInTransaction } from '../change-proposals/change-proposals.service.ts'
 import * as repo from './change-requests.repository.ts'
@@ -431,12 +438,7 @@ export async function getChangeRequest(
     items: itemDtos,
     checklist,
     signatures: sigs.map((s) => ({
-      id: s.id,
-      userId: s.user_id,
-      name: s.name,
-      meaning: s.meaning,
-      at: s.at.toISOString(),
-      contentHash: s.content_hash,
+      ...signatureDto(s),
       comment: s.comment,
       itemId: s.item_id,
       voided: s.voided_at !== null,
@@ -729,6 +731,25 @@ export async function withdrawChangeRequest(deps: AppDeps, ability: AppAbility, 
   return getChangeRequest(deps, ability, id)
 }
 
+/** Signs the request's content as it stands (its hash); answers what the audit record says of the signature. */
+async function signRequest(
+  trx: Trx,
+  deps: AppDeps,
+  signer: { id: number; name: string },
+  row: { id: number; content_hash: string },
+  meaning: Meaning,
+  comment: string,
+) {
+  await signAs(trx, deps.clock, signer, {
+    entityType: ENTITY,
+    entityId: row.id,
+    meaning,
+    contentHash: row.content_hash,
+    comment,
+  })
+  return { signer: signer.name, meaning, contentHash: row.content_hash, comment }
+}
+
 /**
  * Checks the rule book before the signature password is verified (a refusal costs no password attempt and writes
  * nothing); the answer is checked again inside the locked transaction.
@@ -753,15 +774,7 @@ export async function approveChangeRequest(
   const signer = await verifySignaturePassword(deps, ctx.actorId!, password, ctx, { entityType: ENTITY, entityId: id })
   await deps.db.transaction().execute(async (trx) => {
     const { row } = await guard(deps, ability, ctx, trx, id, 'approve')
-    await insertSignature(trx, deps.clock, {
-      entityType: ENTITY,
-      entityId: id,
-      userId: signer.id,
-      name: signer.name,
-      meaning: 'approved',
-      contentHash: row.content_hash,
-      comment,
-    })
+    const signed = await signRequest(trx, deps, signer, row, 'approved', comment)
     const held = await repo.countApprovals(trx, id)
     const complete = held >= row.approvals_required
     const now = deps.clock.now()
@@ -774,14 +787,7 @@ export async function approveChangeRequest(
       action: 'change_request.approve',
       entityType: ENTITY,
       entityId: id,
-      after: {
-        signer: signer.name,
-        meaning: 'approved',
-        contentHash: row.content_hash,
-        approvalsHeld: held,
-        approvalsRequired: row.approvals_required,
-        comment,
-      },
+      after: { ...signed, approvalsHeld: held, approvalsRequired: row.approvals_required },
     })
     if (complete) {
       await mailTo(
@@ -824,21 +830,13 @@ export async function reviewChangeRequest(
     const row = await loadRow(trx, id, true)
     const { cr, actor } = await rulesNow(deps, ability, ctx, id, trx)
     enforce(reviewVerdict(cr, discipline, actor))
-    await insertSignature(trx, deps.clock, {
-      entityType: ENTITY,
-      entityId: id,
-      userId: signer.id,
-      name: signer.name,
-      meaning: reviewMeaning(discipline),
-      contentHash: row.content_hash,
-      comment,
-    })
+    const signed = await signRequest(trx, deps, signer, row, reviewMeaning(discipline), comment)
     await repo.updateRequest(trx, id, { updated_at: deps.clock.now(), version: row.version + 1 })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_request.review',
       entityType: ENTITY,
       entityId: id,
-      after: { signer: signer.name, meaning: reviewMeaning(discipline), contentHash: row.content_hash, comment },
+      after: signed,
     })
   })
   return getChangeRequest(deps, ability, id)
@@ -856,21 +854,13 @@ export async function rejectChangeRequest(
   const signer = await verifySignaturePassword(deps, ctx.actorId!, password, ctx, { entityType: ENTITY, entityId: id })
   await deps.db.transaction().execute(async (trx) => {
     const { row } = await guard(deps, ability, ctx, trx, id, 'reject')
-    await insertSignature(trx, deps.clock, {
-      entityType: ENTITY,
-      entityId: id,
-      userId: signer.id,
-      name: signer.name,
-      meaning: 'rejected',
-      contentHash: row.content_hash,
-      comment,
-    })
+    const signed = await signRequest(trx, deps, signer, row, 'rejected', comment)
     await repo.updateRequest(trx, id, { status: 'rejected', updated_at: deps.clock.now(), version: row.version + 1 })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_request.reject',
       entityType: ENTITY,
       entityId: id,
-      after: { signer: signer.name, meaning: 'rejected', contentHash: row.content_hash, comment },
+      after: signed,
     })
     await mailTo(
       deps,
@@ -1078,12 +1068,10 @@ export async function implementChangeRequest(
       const readBack = input.allItems ? { deviceListConfirmed: true } : (input.readBack ?? {})
       await repo.markItemImplemented(trx, item.id, signer.id, now, readBack)
       if (!input.allItems) {
-        await insertSignature(trx, deps.clock, {
+        await signAs(trx, deps.clock, signer, {
           entityType: ENTITY,
           entityId: id,
           itemId: item.id,
-          userId: signer.id,
-          name: signer.name,
           meaning: 'implemented',
           contentHash: contentHash({ request: row.content_hash, itemId: item.id, readBack, checklist }),
           comment: input.comment,
@@ -1091,11 +1079,9 @@ export async function implementChangeRequest(
       }
     }
     if (input.allItems) {
-      await insertSignature(trx, deps.clock, {
+      await signAs(trx, deps.clock, signer, {
         entityType: ENTITY,
         entityId: id,
-        userId: signer.id,
-        name: signer.name,
         meaning: 'implemented',
         contentHash: contentHash({
           request: row.content_hash,
@@ -1165,11 +1151,9 @@ export async function closeChangeRequest(
     enforce(rules.close)
     const now = deps.clock.now()
     const record = { ...pssr, reviewedAt: now.toISOString(), reviewedBy: signer.name }
-    await insertSignature(trx, deps.clock, {
+    await signAs(trx, deps.clock, signer, {
       entityType: ENTITY,
       entityId: id,
-      userId: signer.id,
-      name: signer.name,
       meaning: 'closed',
       contentHash: contentHash({
         request: row.content_hash,
@@ -1280,14 +1264,7 @@ export async function attachToChangeRequest(
       action: 'change_request.attach',
       entityType: ENTITY,
       entityId: id,
-      after: {
-        attachmentId: a.id,
-        fileName: a.file_name,
-        contentType: a.content_type,
-        sizeBytes: a.size_bytes,
-        sha256: a.sha256,
-        contentHash: hash,
-      },
+      after: { ...attachmentFacts(a), contentHash: hash },
     })
     return a
   })

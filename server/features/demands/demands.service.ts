@@ -22,7 +22,7 @@ import type { AppDeps } from '../../deps.ts'
 import { enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
-import { contentHash, insertSignature } from '../signatures/signatures.ts'
+import { contentHash, signAs } from '../signatures/signatures.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { refreshTestSchedule } from '../trip-tests/trip-tests.service.ts'
 import * as repo from './demands.repository.ts'
@@ -240,11 +240,9 @@ export async function creditDemand(
       coveredWhatTheTestCovers: true,
       note: input.note,
     }
-    await insertSignature(trx, deps.clock, {
+    await signAs(trx, deps.clock, signer, {
       entityType: ENTITY,
       entityId: id,
-      userId: signer.id,
-      name: signer.name,
       meaning: 'approved',
       contentHash: contentHash(content),
       comment: `Credited as a proof test: ${input.note}`,

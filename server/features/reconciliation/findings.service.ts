@@ -18,7 +18,7 @@ import type { AppDeps } from '../../deps.ts'
 import { conflict, enforce, invalidState, notFound, unprocessable } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
-import { contentHash, insertSignature, listSignatures } from '../signatures/signatures.ts'
+import { contentHash, signAs, listSignatures } from '../signatures/signatures.ts'
 import * as repo from './reconciliation.repository.ts'
 
 const DAY = 86_400_000
@@ -228,11 +228,9 @@ export async function acceptFinding(
       resolved_at: now,
       accept_reason: input.reason,
     })
-    await insertSignature(trx, deps.clock, {
+    await signAs(trx, deps.clock, signer, {
       entityType: 'Finding',
       entityId: id,
-      userId: signer.id,
-      name: signer.name,
       meaning: 'accepted',
       contentHash: contentHash(signedContent(f, input.reason)),
       comment: input.reason,

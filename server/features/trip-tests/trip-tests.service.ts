@@ -52,14 +52,14 @@ import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database, TripTestTable } from '../../db/schema.ts'
 import { AppError, enforce, notFound, validationFailed } from '../../errors.ts'
-import { listAttachments } from '../attachments/attachments.ts'
+import { attachmentFacts, listAttachments } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { refreshProtectionState } from '../register/protection-state-column.ts'
 import { toInstrument } from '../register/register.mappers.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
-import { contentHash, insertSignature, listSignatures } from '../signatures/signatures.ts'
+import { contentHash, listSignatures, signAs, signatureDto } from '../signatures/signatures.ts'
 import { findUsersWithRole } from '../users/users.repository.ts'
 import * as repo from './trip-tests.repository.ts'
 
@@ -448,15 +448,7 @@ export async function getTripTest(
     importBatchId: r.import_batch_id,
     signatures: sigs
       .filter((s) => !s.voided_at)
-      .map((s) => ({
-        id: s.id,
-        userId: s.user_id,
-        name: s.name,
-        meaning: s.meaning,
-        at: s.at.toISOString(),
-        contentHash: s.content_hash,
-        matchesContent: s.content_hash === r.content_hash,
-      })),
+      .map((s) => ({ ...signatureDto(s), matchesContent: s.content_hash === r.content_hash })),
     attachments: (await listAttachments(db, ENTITY, id)).map((a) => ({
       id: a.id,
       fileName: a.file_name,
@@ -609,11 +601,9 @@ export async function signTripTest(
     const now = deps.clock.now()
     const { verdicts, sigs, ctx: info } = await verdictsFor(trx, row, actor, now)
     enforce(verdicts[action])
-    await insertSignature(trx, deps.clock, {
+    await signAs(trx, deps.clock, signer, {
       entityType: ENTITY,
       entityId: id,
-      userId: signer.id,
-      name: signer.name,
       meaning: MEANING_OF[action],
       contentHash: row.content_hash,
       comment,
@@ -796,11 +786,9 @@ export async function signDegradationMeasures(
       deadline_approved_at: null,
       escalated_at: null,
     })
-    await insertSignature(trx, deps.clock, {
+    await signAs(trx, deps.clock, signer, {
       entityType: 'LimitDegradation',
       entityId: d.id,
-      userId: signer.id,
-      name: signer.name,
       meaning: 'authorized',
       contentHash: contentHash(content),
     })
@@ -861,11 +849,9 @@ export async function approveRepairDeadline(
     enforce(degradationActions(degradationRule(d!, limit.site_id), actor, null, now).approveDeadline)
     await repo.updateDegradation(trx, d!.id, { deadline_approved_by: signer.id, deadline_approved_at: now })
     const content = { degradationId: d!.id, repairDeadline: d!.repair_deadline, mttrHours: d!.mttr_hours }
-    await insertSignature(trx, deps.clock, {
+    await signAs(trx, deps.clock, signer, {
       entityType: 'LimitDegradation',
       entityId: d!.id,
-      userId: signer.id,
-      name: signer.name,
       meaning: 'approved',
       contentHash: contentHash(content),
       comment: input.comment,
@@ -1017,13 +1003,7 @@ export async function attachToTripTest(
       action: 'trip_test.attach',
       entityType: ENTITY,
       entityId: id,
-      after: {
-        attachmentId: a.id,
-        fileName: a.file_name,
-        contentType: a.content_type,
-        sizeBytes: a.size_bytes,
-        sha256: a.sha256,
-      },
+      after: attachmentFacts(a),
     })
     return { id: a.id, fileName: a.file_name, contentType: a.content_type, sizeBytes: a.size_bytes }
   })
@@ -1289,11 +1269,9 @@ export async function decideDeferral(
         decided_at: now,
         decision_comment: input.comment,
       })
-      await insertSignature(trx, deps.clock, {
+      await signAs(trx, deps.clock, signer, {
         entityType: DEFERRAL,
         entityId: id,
-        userId: signer.id,
-        name: signer.name,
         meaning: decision === 'approve' ? 'approved' : 'rejected',
         contentHash: d.content_hash,
         comment: input.comment,
