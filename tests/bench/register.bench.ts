@@ -6,7 +6,9 @@
 //
 // The register screen's pages are kept per process until the register changes (docs/architecture.md, "The register
 // list query"), so after the first request for each page the figures are those of a kept page; one more run asks
-// only pages not asked before and prints what a page read from PostgreSQL costs. The request log is at warn.
+// only pages not asked before and prints what a page read from PostgreSQL costs. The request log is at warn. The
+// requests come from a load generator in a child process (tests/bench/http-load.ts; BENCH_CLIENT=inline drives from
+// this process, as the script did before 3 December 2026).
 //
 // Knobs: BENCH_LIMITS (100000), BENCH_CONCURRENCY (16), BENCH_SECONDS (10 per target), BENCH_SQL (statements run as the
 // owner after the bulk insert, to try a candidate index before writing its migration); `-- --explain` prints whole plans.
@@ -36,6 +38,7 @@ import { startServer, type RunningServer } from '../../server/index.ts'
 import { DEMO_PASSWORD, seedDemo } from '../../server/seed/demo.ts'
 import { freePort } from '../../server/dev/free-port.ts'
 import { logger } from '../../server/logger.ts'
+import { drive, type LoadResult, type Sample } from './http-load.ts'
 
 const run = promisify(execFile)
 
@@ -255,18 +258,6 @@ async function startNaive(appUrl: string): Promise<{ url: string; close(): Promi
   }
 }
 
-interface Sample {
-  variant: string
-  ms: number
-}
-interface LoadResult {
-  samples: Sample[]
-  completed: number
-  errors: number
-  elapsedMs: number
-  firstError?: string
-}
-
 /** A request mix: four in five are plain register pages 1–5, one in five a text search (`q=tshh`) on pages 1–3. */
 function pickRequest(n: number): { variant: string; query: string } {
   if (n % 5 === 4) return { variant: 'search q=tshh', query: `q=tshh&page=${1 + (n % 3)}` }
@@ -283,43 +274,22 @@ function pickSortRequest(field: string) {
 }
 
 /**
- * `clients` loops, each sending one request after the other. After the warm-up, every request started is timed (also
- * when it ends after the window) and every request that ends inside the window counts towards requests/s.
+ * Drives `clients` loops of requests from the load generator (tests/bench/http-load.ts): request n is `pick(n)`, for
+ * n up to `distinct` (then they come round again).
  */
-async function drive(
+function driveMix(
   urlFor: (query: string) => string,
   headers: Record<string, string>,
   clients: number,
   durationMs: number,
   pick: (n: number) => { variant: string; query: string } = pickRequest,
+  distinct = 60,
 ): Promise<LoadResult> {
-  const samples: Sample[] = []
-  let completed = 0
-  let errors = 0
-  let firstError: string | undefined
-  let counter = 0
-  const warmEnd = performance.now() + WARMUP_MS
-  const end = warmEnd + durationMs
-  const worker = async () => {
-    while (performance.now() < end) {
-      const { variant, query } = pick(counter++)
-      const t0 = performance.now()
-      try {
-        const res = await fetch(urlFor(query), { headers })
-        const body = await res.text()
-        if (res.status !== 200) throw new Error(`${res.status} ${body.slice(0, 200)}`)
-      } catch (err) {
-        errors++
-        firstError ??= err instanceof Error ? err.message : String(err)
-        continue
-      }
-      const t1 = performance.now()
-      if (t0 >= warmEnd) samples.push({ variant, ms: t1 - t0 })
-      if (t1 >= warmEnd && t1 <= end) completed++
-    }
-  }
-  await Promise.all(Array.from({ length: clients }, worker))
-  return { samples, completed, errors, elapsedMs: durationMs, firstError }
+  const requests = Array.from({ length: distinct }, (_, n) => {
+    const { variant, query } = pick(n)
+    return { variant, url: urlFor(query) }
+  })
+  return drive({ requests, headers, clients, warmupMs: WARMUP_MS, durationMs })
 }
 
 function percentile(sorted: number[], p: number): number {
@@ -434,7 +404,7 @@ async function main() {
   })
   try {
     console.log(
-      `Register benchmark: ${BULK_LIMITS.toLocaleString('en')} limits, ${CONCURRENCY} clients, ${DURATION_MS / 1000} s per target (${os.cpus().length} CPUs, Node ${process.version})`,
+      `Register benchmark: ${BULK_LIMITS.toLocaleString('en')} limits, ${CONCURRENCY} clients, ${DURATION_MS / 1000} s per target (${os.cpus().length} CPUs, Node ${process.version}, load generator ${process.env.BENCH_CLIENT === 'inline' ? 'in this process' : 'in a child process'})`,
     )
     let t = performance.now()
     const cluster = await startCluster()
@@ -476,23 +446,23 @@ async function main() {
     console.log(
       `\nDriving the register API (${CONCURRENCY} clients, ${DURATION_MS / 1000} s after ${WARMUP_MS / 1000} s warm-up)…`,
     )
-    const appRun = await drive(
+    const appRun = await driveMix(
       (q) => `${server.url}/api/limits?${base}&sort=-setpoint&${q}`,
       { cookie },
       CONCURRENCY,
       DURATION_MS,
     )
     console.log('Driving the bare Express + pg handler…')
-    const naiveRun = await drive((q) => `${naive.url}/limits?${q}`, {}, CONCURRENCY, DURATION_MS)
+    const naiveRun = await driveMix((q) => `${naive.url}/limits?${q}`, {}, CONCURRENCY, DURATION_MS)
 
     console.log('Driving GET /api/health (one SELECT 1, no session): the ceiling of this machine for HTTP + one query…')
-    const healthRun = await drive(() => `${server.url}/api/health`, {}, CONCURRENCY, Math.max(2000, DURATION_MS / 2))
+    const healthRun = await driveMix(() => `${server.url}/api/health`, {}, CONCURRENCY, Math.max(2000, DURATION_MS / 2))
 
     const sortSeconds = Math.max(2, DURATION_MS / 4000)
     console.log(`Driving the register API sorted by each sortable column (${sortSeconds} s each)…`)
     const sortRuns: { field: string; run: LoadResult }[] = []
     for (const field of SORT_FIELDS) {
-      const run = await drive(
+      const run = await driveMix(
         (q) => `${server.url}/api/limits?${base}&${q}`,
         { cookie },
         CONCURRENCY,
@@ -505,7 +475,7 @@ async function main() {
     // every request a page no request asked before (sort field and direction in turn, from page 6 on, past the pages
     // the runs above asked), so the register's page cache never answers: the cost of a page read from PostgreSQL
     console.log(`Driving the register API with pages not asked before (${sortSeconds} s)…`)
-    const coldRun = await drive(
+    const coldRun = await driveMix(
       (q) => `${server.url}/api/limits?${base}&${q}`,
       { cookie },
       CONCURRENCY,
@@ -517,6 +487,7 @@ async function main() {
           query: `sort=${n % 2 ? '-' : ''}${field}&page=${6 + Math.floor(n / (2 * SORT_FIELDS.length))}`,
         }
       },
+      5000,
     )
 
     const app = figures(appRun.samples, appRun.completed, appRun.elapsedMs)
