@@ -16,6 +16,9 @@ export interface LoadResult {
   errors: number
   elapsedMs: number
   firstError?: string
+  /** Every request answered (warm-up included), and the load generator's CPU time meanwhile. */
+  answered: number
+  clientCpuMs: number
 }
 
 /** What to drive: the requests in turn (wrapping around), how many loops at once, for how long after a warm-up. */
@@ -37,6 +40,8 @@ async function driveHere(plan: LoadPlan): Promise<LoadResult> {
   let errors = 0
   let firstError: string | undefined
   let counter = 0
+  let answered = 0
+  const cpu0 = process.cpuUsage()
   const warmEnd = performance.now() + plan.warmupMs
   const end = warmEnd + plan.durationMs
   const worker = async () => {
@@ -46,6 +51,7 @@ async function driveHere(plan: LoadPlan): Promise<LoadResult> {
       try {
         const res = await fetch(url, { headers: plan.headers })
         const body = await res.text()
+        answered++
         if (res.status !== 200) throw new Error(`${res.status} ${body.slice(0, 200)}`)
       } catch (err) {
         errors++
@@ -58,7 +64,9 @@ async function driveHere(plan: LoadPlan): Promise<LoadResult> {
     }
   }
   await Promise.all(Array.from({ length: plan.clients }, worker))
-  return { samples, completed, errors, elapsedMs: plan.durationMs, firstError }
+  const cpu = process.cpuUsage(cpu0)
+  const clientCpuMs = (cpu.user + cpu.system) / 1000
+  return { samples, completed, errors, elapsedMs: plan.durationMs, firstError, answered, clientCpuMs }
 }
 
 /** Drives `plan` from a child process (the default) or, with BENCH_CLIENT=inline, from this process. */

@@ -13,7 +13,7 @@
 // Knobs: BENCH_LIMITS (100000), BENCH_CONCURRENCY (16), BENCH_SECONDS (10 per target), BENCH_SQL (statements run as the
 // owner after the bulk insert, to try a candidate index before writing its migration); `-- --explain` prints whole plans.
 import { execFile } from 'node:child_process'
-import { mkdtemp, rm } from 'node:fs/promises'
+import { mkdtemp, readdir, readFile, rm } from 'node:fs/promises'
 import type { Server } from 'node:http'
 import os from 'node:os'
 import path from 'node:path'
@@ -273,23 +273,67 @@ function pickSortRequest(field: string) {
   })
 }
 
+/** CPU time (ms) PostgreSQL has used so far: the postmaster, the processes it runs now and those it has reaped. */
+async function clusterCpuMs(): Promise<number> {
+  if (!postmaster) return NaN
+  let ticks = 0
+  for (const name of await readdir('/proc')) {
+    if (!/^\d+$/.test(name)) continue
+    const stat = await readFile(`/proc/${name}/stat`, 'utf8').catch(() => '')
+    // the fields after the command's closing parenthesis, from field 3 (state) on: proc(5)
+    const f = stat.slice(stat.lastIndexOf(')') + 2).split(' ')
+    if (Number(name) === postmaster) ticks += Number(f[11]) + Number(f[12]) + Number(f[13]) + Number(f[14])
+    else if (Number(f[1]) === postmaster) ticks += Number(f[11]) + Number(f[12])
+  }
+  return (ticks * 1000) / clockTicks
+}
+let postmaster = 0
+let clockTicks = 100
+
+/** The PostgreSQL postmaster's process id: the parent of a backend (proc(5), field 4). */
+async function postmasterOf(url: string): Promise<number> {
+  const c = new pg.Client({ connectionString: url })
+  await c.connect()
+  try {
+    const { rows } = await c.query<{ pid: number }>('SELECT pg_backend_pid() AS pid')
+    const stat = await readFile(`/proc/${rows[0].pid}/stat`, 'utf8').catch(() => '')
+    return Number(stat.slice(stat.lastIndexOf(')') + 2).split(' ')[1]) || 0
+  } finally {
+    await c.end()
+  }
+}
+
+/** CPU milliseconds per answered request: this process (the server), PostgreSQL and the load generator. */
+interface CpuPerRequest {
+  app: number
+  pg: number
+  client: number
+}
+type Driven = LoadResult & { cpu: CpuPerRequest }
+
 /**
  * Drives `clients` loops of requests from the load generator (tests/bench/http-load.ts): request n is `pick(n)`, for
- * n up to `distinct` (then they come round again).
+ * n up to `distinct` (then they come round again). Also measures the CPU time each side spent per request.
  */
-function driveMix(
+async function driveMix(
   urlFor: (query: string) => string,
   headers: Record<string, string>,
   clients: number,
   durationMs: number,
   pick: (n: number) => { variant: string; query: string } = pickRequest,
   distinct = 60,
-): Promise<LoadResult> {
+): Promise<Driven> {
   const requests = Array.from({ length: distinct }, (_, n) => {
     const { variant, query } = pick(n)
     return { variant, url: urlFor(query) }
   })
-  return drive({ requests, headers, clients, warmupMs: WARMUP_MS, durationMs })
+  const app0 = process.cpuUsage()
+  const pg0 = await clusterCpuMs()
+  const r = await drive({ requests, headers, clients, warmupMs: WARMUP_MS, durationMs })
+  const app = process.cpuUsage(app0)
+  const pg = (await clusterCpuMs()) - pg0
+  const n = Math.max(1, r.answered)
+  return { ...r, cpu: { app: (app.user + app.system) / 1000 / n, pg: pg / n, client: r.clientCpuMs / n } }
 }
 
 function percentile(sorted: number[], p: number): number {
@@ -431,6 +475,8 @@ async function main() {
     cleanups.push(() => server.close())
     const cookie = await signIn(server.url, 'engineer@fernhollow.example')
     const naive = await startNaive(cluster.appUrl)
+    postmaster = await postmasterOf(cluster.appUrl)
+    clockTicks = Number((await run('getconf', ['CLK_TCK'])).stdout.trim()) || 100
     cleanups.push(() => naive.close())
 
     // the register screen's own request: its filters, a sort, a page of 50 and its slim rows
@@ -460,7 +506,7 @@ async function main() {
 
     const sortSeconds = Math.max(2, DURATION_MS / 4000)
     console.log(`Driving the register API sorted by each sortable column (${sortSeconds} s each)…`)
-    const sortRuns: { field: string; run: LoadResult }[] = []
+    const sortRuns: { field: string; run: Driven }[] = []
     for (const field of SORT_FIELDS) {
       const run = await driveMix(
         (q) => `${server.url}/api/limits?${base}&${q}`,
@@ -529,6 +575,24 @@ async function main() {
     console.log(
       `  ${'pages not asked before'.padEnd(36)}${f1(cold.rps)}${f1(cold.p50)}${f1(cold.p95)}${f1(cold.p99)}${String(coldRun.errors).padStart(9)}   (no page cache hit; not a target)`,
     )
+    // CPU time per request does not depend much on how busy the machine is, unlike requests/s and latency
+    const ms = (v: number) => (Number.isFinite(v) ? v.toFixed(2) : '–').padStart(12)
+    console.log(`\n  CPU ms per request                   app process  PostgreSQL  load generator`)
+    const cpuRow = (label: string, c: CpuPerRequest) =>
+      console.log(`  ${label.padEnd(36)}${ms(c.app)}${ms(c.pg)}${ms(c.client)}`)
+    cpuRow('register API (page and search)', appRun.cpu)
+    cpuRow('bare Express + pg handler', naiveRun.cpu)
+    cpuRow('GET /api/health', healthRun.cpu)
+    const sortTotal = sortRuns.reduce((t, { run }) => t + run.answered, 0)
+    const sortCpu = (k: keyof CpuPerRequest) =>
+      sortRuns.reduce((t, { run }) => t + run.cpu[k] * run.answered, 0) / Math.max(1, sortTotal)
+    cpuRow('register API, every sort', { app: sortCpu('app'), pg: sortCpu('pg'), client: sortCpu('client') })
+    cpuRow('pages not asked before', coldRun.cpu)
+    const serverCpu = (c: CpuPerRequest) => c.app + c.pg
+    console.log(
+      `  server CPU (app + PostgreSQL) of the bare handler per register API request: ${(serverCpu(naiveRun.cpu) / serverCpu(appRun.cpu)).toFixed(2)}× (the ratio a machine with CPU to spare only for the server would give; not the target)`,
+    )
+
     const ratio = app.rps / bare.rps
     console.log(`\n  throughput ratio register API / bare handler: ${ratio.toFixed(2)}×`)
     for (const variant of ['filtered page', 'search q=tshh']) {
