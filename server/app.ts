@@ -97,7 +97,11 @@ export function createApp(deps: AppDeps, options: { serveClient?: boolean } = {}
         const r = req as express.Request
         return { userId: r.user?.id ?? null, route: r.route?.path ? `${r.baseUrl}${r.route.path}` : undefined }
       },
-      customLogLevel: (_req, res, err) => (err || res.statusCode >= 500 ? 'error' : 'info'),
+      // a line the logger's level leaves out is not made at all ('silent': no bindings, no child logger)
+      customLogLevel: (_req, res, err) => {
+        const level = err || res.statusCode >= 500 ? 'error' : 'info'
+        return logger.isLevelEnabled(level) ? level : 'silent'
+      },
     }),
   )
   // responses compressed (brotli or gzip, as the browser accepts); built assets come precompressed (below)

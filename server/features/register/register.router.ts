@@ -6,6 +6,7 @@ import {
   CreateInstrumentInputSchema,
   CreateLimitInputSchema,
   CreateProcessInputSchema,
+  type LimitListQuery,
   LimitListQuerySchema,
   UpdateInstrumentInputSchema,
   UpdateLimitInputSchema,
@@ -94,12 +95,27 @@ export function createInstrumentsRouter(deps: AppDeps) {
   return router
 }
 
+/**
+ * The register list's query, checked once per distinct query string: the register screen asks the same few pages over
+ * and over, and the answer of the schema depends on the query string alone.
+ */
+const listQueries = new Map<string, LimitListQuery>()
+function listQueryOf(req: Request): LimitListQuery {
+  const at = req.originalUrl.indexOf('?')
+  const raw = at < 0 ? '' : req.originalUrl.slice(at + 1)
+  const known = listQueries.get(raw)
+  if (known) return known
+  const q = LimitListQuerySchema.parse(req.query)
+  if (listQueries.size >= 1000) listQueries.clear()
+  listQueries.set(raw, q)
+  return q
+}
+
 export function createLimitsRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
-    const page = await onReadStandby(deps, (d) =>
-      register.listRegister(d, req.user, LimitListQuerySchema.parse(req.query)),
-    )
+    const query = listQueryOf(req)
+    const page = await onReadStandby(deps, (d) => register.listRegister(d, req.user, query))
     if ('page' in page) sendRegisterPage(req, res, page.page)
     else res.json(page)
   })
