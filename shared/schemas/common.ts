@@ -57,10 +57,13 @@ export function repeated<T extends z.ZodType>(item: T) {
   return z.preprocess((v) => (v === undefined ? undefined : Array.isArray(v) ? v : [v]), z.array(item).optional())
 }
 
-/** Paging of every list endpoint: pages from 1, at most 200 rows a page. */
+/** A page size of at most 200 rows, `pageSize` when the query does not say. */
+export const pageSizeOf = (pageSize: number) => z.coerce.number().int().min(1).max(200).default(pageSize)
+
+/** Paging of every list endpoint: pages from 1, at most 200 rows a page, 50 unless asked. */
 export const PageSchema = z.object({
   page: z.coerce.number().int().min(1).default(1),
-  pageSize: z.coerce.number().int().min(1).max(200).default(50),
+  pageSize: pageSizeOf(50),
 })
 
 /** Paging, sorting and text search common to list endpoints. */

@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { IdSchema, PageSchema, repeated } from './common.ts'
+import { IdSchema, PageSchema, pageSizeOf, repeated } from './common.ts'
 import { structuralClassificationErrors } from '../domain/priority.ts'
 import { ROLES } from './users.ts'
 
@@ -170,11 +170,12 @@ export type InstrumentRecord = Instrument & { revision: number; updatedAt: strin
 /** `GET /api/processes`: every process of the sites or areas asked (a plant has tens, so no paging). */
 export const ProcessListQuerySchema = z.object({ siteId: repeated(IdSchema), areaId: repeated(IdSchema) })
 export type ProcessListQuery = Partial<z.infer<typeof ProcessListQuerySchema>>
-/** `GET /api/instruments`: by site, process and tag, a page at a time. */
+/** `GET /api/instruments`: by site, process and tag, a page at a time (100 rows unless asked). */
 export const InstrumentListQuerySchema = PageSchema.extend({
   siteId: repeated(IdSchema),
   processId: repeated(IdSchema),
   q: z.string().trim().max(60).optional(),
+  pageSize: pageSizeOf(100),
 })
 export type InstrumentListQuery = Partial<z.infer<typeof InstrumentListQuerySchema>>
 
@@ -377,6 +378,26 @@ export type LimitListParams = Partial<Omit<LimitListQuery, 'sil' | 'hasWarnings'
   hasWarnings?: 'true' | 'false'
   hasErrors?: 'true' | 'false'
 }
+/** `GET /api/limits/export`: the register list's filters and sort, and the file format. */
+export const LimitExportQuerySchema = LimitListQuerySchema.extend({ format: z.enum(['csv', 'xlsx']).default('csv') })
+export type LimitExportFormat = z.output<typeof LimitExportQuerySchema>['format']
+
+/** `PATCH /api/limits/:id`: the revision the editor read, when it asks to be refused a newer one (409). */
+export const ExpectedRevisionSchema = z.object({ expectedRevision: z.number().int().optional() })
+/** The body of `PATCH /api/limits/:id`: the changed fields and the revision read. */
+export type UpdateLimitRequest = UpdateLimitInput & z.infer<typeof ExpectedRevisionSchema>
+
+/** `GET /api/limits/:id/test-signal`: how the signal is injected, and the terminals' temperature for a thermocouple. */
+export const TestSignalQuerySchema = z.object({
+  coldJunction: z.coerce.number().min(-50).max(150).optional(),
+  mode: z.enum(['mv_source', 'tc_simulate']).default('mv_source'),
+})
+export type TestSignalQuery = Partial<z.output<typeof TestSignalQuerySchema>>
+
+/** `GET /api/alarm-response-sheets`: the booklet of a site, or of one of its areas. */
+export const ResponseSheetsQuerySchema = z.object({ siteId: IdSchema, areaId: IdSchema.optional() })
+export type ResponseSheetsQuery = z.output<typeof ResponseSheetsQuerySchema>
+
 /** The filters of the register list (and of its export), without paging and sort. */
 export type LimitListFilters = Omit<LimitListParams, 'sort' | 'page' | 'pageSize' | 'cursor' | 'view'>
 

@@ -1,6 +1,5 @@
 import { Router } from 'express'
-import { z } from 'zod'
-import { ListQuerySchema } from '../../../shared/schemas/common.ts'
+import { MailListQuerySchema } from '../../../shared/schemas/mail.ts'
 import { authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { listOutbox } from './mail.service.ts'
@@ -11,7 +10,7 @@ export function createMailRouter(deps: AppDeps) {
   router.get('/', async (req, res) => {
     // 403 before the query is read, whatever it holds
     authorize(req.ability, 'read', 'Mail')
-    const q = ListQuerySchema.extend({ state: z.enum(['queued', 'sent', 'failing']).optional() }).parse(req.query)
+    const q = MailListQuerySchema.parse(req.query)
     res.json(await listOutbox(deps, req.ability, q))
   })
   return router

@@ -1,13 +1,18 @@
 import { brotliCompressSync, constants as zlibConstants, gzipSync } from 'node:zlib'
 import { type Request, type Response, Router } from 'express'
-import { z } from 'zod'
-import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
+import { IdSchema, parsePatch } from '../../../shared/schemas/common.ts'
 import {
   CreateInstrumentInputSchema,
   CreateLimitInputSchema,
   CreateProcessInputSchema,
+  ExpectedRevisionSchema,
+  InstrumentListQuerySchema,
+  LimitExportQuerySchema,
   type LimitListQuery,
   LimitListQuerySchema,
+  ProcessListQuerySchema,
+  ResponseSheetsQuerySchema,
+  TestSignalQuerySchema,
   UpdateInstrumentInputSchema,
   UpdateLimitInputSchema,
   UpdateProcessInputSchema,
@@ -24,7 +29,7 @@ import * as sheets from './response-sheets.service.ts'
 export function createProcessesRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
-    const q = z.object({ siteId: repeated(IdSchema), areaId: repeated(IdSchema) }).parse(req.query)
+    const q = ProcessListQuerySchema.parse(req.query)
     res.json(
       await processes.listProcesses(deps, req.ability, { siteIds: scopeSites(req.user, q.siteId), areaIds: q.areaId }),
     )
@@ -54,15 +59,7 @@ export function createProcessesRouter(deps: AppDeps) {
 export function createInstrumentsRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
-    const q = z
-      .object({
-        siteId: repeated(IdSchema),
-        processId: repeated(IdSchema),
-        q: z.string().trim().max(60).optional(),
-        page: z.coerce.number().int().min(1).default(1),
-        pageSize: z.coerce.number().int().min(1).max(200).default(100),
-      })
-      .parse(req.query)
+    const q = InstrumentListQuerySchema.parse(req.query)
     res.json(
       await instruments.listInstruments(deps, req.ability, {
         ...q,
@@ -120,9 +117,7 @@ export function createLimitsRouter(deps: AppDeps) {
     else res.json(page)
   })
   router.get('/export', async (req, res) => {
-    const { format, ...query } = LimitListQuerySchema.extend({ format: z.enum(['csv', 'xlsx']).default('csv') }).parse(
-      req.query,
-    )
+    const { format, ...query } = LimitExportQuerySchema.parse(req.query)
     const file = await onReadStandby(deps, (d) => register.exportRegister(d, req.user, query, format))
     res.setHeader('Content-Type', file.contentType)
     res.setHeader('Content-Disposition', `attachment; filename="${file.fileName}"`)
@@ -139,21 +134,14 @@ export function createLimitsRouter(deps: AppDeps) {
     res.json(await limits.listRevisions(deps, req.ability, IdSchema.parse(req.params.id)))
   })
   router.get('/:id/test-signal', async (req, res) => {
-    const q = z
-      .object({
-        coldJunction: z.coerce.number().min(-50).max(150).optional(),
-        mode: z.enum(['mv_source', 'tc_simulate']).default('mv_source'),
-      })
-      .parse(req.query)
+    const q = TestSignalQuerySchema.parse(req.query)
     res.json(await register.testSignalFor(deps, req.ability, IdSchema.parse(req.params.id), q))
   })
   router.post('/', async (req, res) => {
     res.status(201).json(await limits.createLimit(deps, req.ability, req.audit, CreateLimitInputSchema.parse(req.body)))
   })
   router.patch('/:id', async (req, res) => {
-    const { expectedRevision } = z
-      .object({ expectedRevision: z.number().int().optional() })
-      .parse({ expectedRevision: req.body?.expectedRevision })
+    const { expectedRevision } = ExpectedRevisionSchema.parse({ expectedRevision: req.body?.expectedRevision })
     const { expectedRevision: _e, ...patch } = req.body ?? {}
     res.json(
       await limits.updateLimit(
@@ -204,7 +192,7 @@ function sendPdf(res: Response, pdf: Buffer, fileName: string) {
 export function createResponseSheetsRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
-    const q = z.object({ siteId: IdSchema, areaId: IdSchema.optional() }).parse(req.query)
+    const q = ResponseSheetsQuerySchema.parse(req.query)
     const { pdf, where } = await sheets.responseBooklet(deps, req.ability, q)
     sendPdf(res, pdf, `alarm-response-sheets-${where}.pdf`)
   })

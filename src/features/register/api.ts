@@ -7,13 +7,16 @@ import type {
   InstrumentRecord,
   Limit,
   LimitListFilters,
+  LimitExportFormat,
   LimitListParams,
   LimitPage,
   LimitRevision,
   Process,
   ProcessListQuery,
   RegisterRow,
-  UpdateLimitInput,
+  ResponseSheetsQuery,
+  TestSignalQuery,
+  UpdateLimitRequest,
 } from '@shared/schemas/register.ts'
 import type { HistoryImportResult, HistoryMapping } from '@shared/schemas/history-import.ts'
 import type { ImportMapping, ImportResult } from '@shared/schemas/imports.ts'
@@ -43,18 +46,20 @@ export const listRegisterRows = (query: LimitListQuery) =>
   http.get<LimitPage<RegisterRow>>('/limits', { ...query, view: 'row' })
 export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
 export const createLimit = (input: CreateLimitInput) => http.post<Limit>('/limits', input)
-export const updateLimit = (id: number, input: UpdateLimitInput & { expectedRevision?: number }) =>
-  http.patch<Limit>(`/limits/${id}`, input)
+export const updateLimit = (id: number, input: UpdateLimitRequest) => http.patch<Limit>(`/limits/${id}`, input)
 export const deleteLimit = (id: number) => http.delete<void>(`/limits/${id}`)
 export const listLimitRevisions = (id: number) =>
   http.get<{ items: LimitRevision[]; total: number }>(`/limits/${id}/revisions`)
-export const getTestSignal = (id: number, query: { coldJunction?: number; mode?: 'mv_source' | 'tc_simulate' }) =>
+export const getTestSignal = (id: number, query: TestSignalQuery) =>
   http.get<TestSignal>(`/limits/${id}/test-signal`, query)
 
 /** Address of the register file (CSV or XLSX) for the given filters; used as a download link. */
-export function limitExportUrl(format: 'csv' | 'xlsx', filters: LimitFilters): string {
+export function limitExportUrl(format: LimitExportFormat, filters: LimitFilters): string {
   return `/api/limits/export${toQuery({ ...filters, format })}`
 }
+
+/** Address of the alarm response sheet booklet (PDF) of a site or one of its areas; used as a download link. */
+export const responseSheetsUrl = (query: ResponseSheetsQuery) => `/api/alarm-response-sheets${toQuery(query)}`
 
 export const listProcesses = (query: ProcessListQuery = {}) => http.get<ListResult<Process>>('/processes', { ...query })
 export const createProcess = (input: { areaId: number; name: string; description: string }) =>
