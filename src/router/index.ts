@@ -1,4 +1,4 @@
-import { createRouter, createWebHistory } from 'vue-router'
+import { createRouter, createWebHistory, type RouteLocationNormalized } from 'vue-router'
 import type { Action, SubjectName } from '@shared/abilities/index.ts'
 import { setUnauthenticatedHandler } from '@/api/client'
 import { ability } from '@/plugins/ability'
@@ -17,9 +17,23 @@ declare module 'vue-router' {
 
 const router = createRouter({ history: createWebHistory(), routes })
 
+/** Starts loading the lazily imported views of a route (`() => import(…)`); the router awaits them later. */
+function preloadViews(to: RouteLocationNormalized) {
+  for (const record of to.matched) {
+    for (const view of Object.values(record.components ?? {})) {
+      if (typeof view === 'function' && view.length === 0)
+        void Promise.resolve((view as () => unknown)()).catch(() => undefined)
+    }
+  }
+}
+
 router.beforeEach(async (to) => {
   const session = useSessionStore()
-  if (!session.loaded) await session.load().catch(() => undefined)
+  if (!session.loaded) {
+    // first load: the page's code is fetched while the session is asked for, not after it
+    preloadViews(to)
+    await session.load().catch(() => undefined)
+  }
   if (to.meta.public) return true
   if (!session.signedIn) return { name: 'sign-in', query: { next: to.fullPath } }
   if (to.meta.can && !ability.can(to.meta.can[0], to.meta.can[1])) return { name: 'home' }

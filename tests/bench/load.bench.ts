@@ -13,7 +13,8 @@ import { loadConfig } from '../../server/config.ts'
 import { createDb } from '../../server/db/index.ts'
 import { startServer } from '../../server/index.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
-import { launchChromium } from '../browser/helpers.ts'
+import { launchChromium } from '../browser/chromium.ts'
+import { logger } from '../../server/logger.ts'
 import { runAsScript, signIn, startCluster } from './register.bench.ts'
 
 const RUNS = 3
@@ -96,6 +97,8 @@ async function coldLoad(
 }
 
 async function main() {
+  // the figures, not a line per request (LOG_LEVEL=info writes them)
+  logger.level = process.env.LOG_LEVEL ?? 'warn'
   if (!existsSync('dist/index.html')) throw new Error('Build the client first (npm run build)')
   console.log(`First-load benchmark: ${RUNS} cold runs per page (${os.cpus().length} CPUs, Node ${process.version})`)
   const cluster = await startCluster()
