@@ -218,12 +218,18 @@ async function main() {
         `  ${EVENTS.toLocaleString('en')} events written in ${(written / 1000).toFixed(2)} s${design.sealOnce ? `, sealed in ${(sealMs / 1000).toFixed(2)} s (${Math.round(EVENTS / (sealMs / 1000)).toLocaleString('en')} events/s)` : ''}`,
       )
       t = performance.now()
+      const cpu0 = process.cpuUsage()
       const r = await design.verifyAuditChain(db)
       const verifyMs = performance.now() - t
+      const cpu = process.cpuUsage(cpu0)
       if (!r.ok) throw new Error(`the chain does not verify: ${r.badId} ${r.problem}`)
       const rate = r.checked / (verifyMs / 1000)
       console.log(
         `  verify: ${r.checked.toLocaleString('en')} events in ${(verifyMs / 1000).toFixed(2)} s = ${Math.round(rate).toLocaleString('en')} events/s (target >= ${TARGET_VERIFY.toLocaleString('en')})   ${verdict(rate >= TARGET_VERIFY)}`,
+      )
+      // the CPU this process spent: wall time well above it means the machine was busy with other work
+      console.log(
+        `  verify used ${((cpu.user + cpu.system) / 1e6).toFixed(2)} s of this process's CPU (${Math.round(r.checked / ((cpu.user + cpu.system) / 1e6)).toLocaleString('en')} events per CPU second)`,
       )
     } finally {
       await db.destroy()

@@ -1,11 +1,58 @@
-import { createHash } from 'node:crypto'
-import canonicalize from 'canonicalize'
+import { hash } from 'node:crypto'
 
 /** prev_hash of the first event. */
 export const GENESIS_HASH = '0'.repeat(64)
 
-/** The content of an event that its hash covers. */
-export interface HashedContent {
+/** SHA-256 of a text (UTF-8), as 64 lowercase hex digits; one call, no hash object. */
+export function sha256Hex(text: string): string {
+  return hash('sha256', text, 'hex')
+}
+
+/**
+ * RFC 8785 canonical JSON of a value: object members sorted by their names' UTF-16 code units (what Array#sort does
+ * with strings), no white space, strings and numbers as ECMAScript's JSON.stringify writes them (RFC 8785 §3.2.2), a
+ * member whose value is undefined left out and an undefined array element written as null, a `toJSON` method honoured.
+ * NaN and the infinities have no JSON form and throw. tests/unit/server/audit-hash.test.ts compares it with the
+ * canonicalize package (the reference implementation RFC 8785 names) over awkward values.
+ */
+export function canonicalJson(v: unknown): string {
+  if (v === null) return 'null'
+  switch (typeof v) {
+    case 'string':
+    case 'boolean':
+      return JSON.stringify(v)
+    case 'number':
+      if (!Number.isFinite(v)) throw new Error(`${v} has no JSON form`)
+      return JSON.stringify(v)
+    case 'object':
+      break
+    default:
+      // undefined, a function or a symbol at the top (members and elements are handled below)
+      return JSON.stringify(v) as string
+  }
+  const o = v as { toJSON?: unknown }
+  if (typeof o.toJSON === 'function') return canonicalJson(o.toJSON())
+  if (Array.isArray(v)) {
+    let s = '['
+    for (let i = 0; i < v.length; i++) {
+      const x = v[i]
+      s += (i ? ',' : '') + (x === undefined || typeof x === 'symbol' ? 'null' : canonicalJson(x))
+    }
+    return `${s}]`
+  }
+  const rec = v as Record<string, unknown>
+  const keys = Object.keys(rec).sort()
+  let s = '{'
+  for (const k of keys) {
+    const x = rec[k]
+    if (x === undefined || typeof x === 'symbol') continue
+    s += (s.length > 1 ? ',' : '') + JSON.stringify(k) + ':' + canonicalJson(x)
+  }
+  return `${s}}`
+}
+
+/** What every format's hash covers of an event. */
+export interface EventContent {
   occurredAt: Date
   actorId: number | null
   action: string
@@ -17,20 +64,27 @@ export interface HashedContent {
   batchId: string | null
   requestId: string | null
   ip: string | null
+}
+
+/** The content of an event written before the sealer (formats 1 and 2) that its hash covers. */
+export interface HashedContent extends EventContent {
   prevHash: string
   /** Keyed events (format 2) cover their own id and site too; events written before keyed links do not. */
   keyed?: { id: number; siteId: number | null }
 }
 
+/** The content of an event written by the current format (3), hashed when it is written, before it is sealed. */
+export interface EventData extends EventContent {
+  siteId: number | null
+}
+
 /**
- * SHA-256 over the RFC 8785 canonical JSON of the event. Times are millisecond ISO strings (the column is
- * timestamptz(3) and the clock gives milliseconds, so what is read back re-hashes identically); undefined maps to null
- * because the jsonb column gives back null.
+ * The members every format hashes, as JSON values: times are millisecond ISO strings (the column is timestamptz(3)
+ * and the clock gives milliseconds, so what is read back re-hashes identically); undefined maps to null because the
+ * jsonb column gives back null.
  */
-export function hashEvent(e: HashedContent): string {
-  const text = canonicalize({
-    v: e.keyed ? 2 : 1,
-    ...(e.keyed ? { id: e.keyed.id, siteId: e.keyed.siteId } : {}),
+function contentMembers(e: EventContent) {
+  return {
     occurredAt: e.occurredAt.toISOString(),
     actorId: e.actorId,
     action: e.action,
@@ -42,47 +96,43 @@ export function hashEvent(e: HashedContent): string {
     batchId: e.batchId,
     requestId: e.requestId,
     ip: e.ip,
-    prevHash: e.prevHash,
-  })
-  if (text === undefined) throw new Error('audit event cannot be canonicalized')
-  return createHash('sha256').update(text, 'utf8').digest('hex')
+  }
 }
 
-/** The content of an event written by the current format (3), hashed when it is written, before it is sealed. */
-export interface EventData {
-  siteId: number | null
-  occurredAt: Date
-  actorId: number | null
-  action: string
-  entityType: string
-  entityId: string | null
-  before: unknown
-  after: unknown
-  reason: string | null
-  batchId: string | null
-  requestId: string | null
-  ip: string | null
+/** The hash of an event written before the sealer: SHA-256 over the RFC 8785 canonical JSON of the event. */
+export function hashEvent(e: HashedContent): string {
+  return sha256Hex(
+    canonicalJson({
+      v: e.keyed ? 2 : 1,
+      ...(e.keyed ? { id: e.keyed.id, siteId: e.keyed.siteId } : {}),
+      ...contentMembers(e),
+      prevHash: e.prevHash,
+    }),
+  )
+}
+
+const text = (s: string | null) => (s === null ? 'null' : JSON.stringify(s))
+const json = (v: unknown) => (v == null ? 'null' : canonicalJson(v))
+
+/**
+ * The canonical JSON `data_hash` covers (format 3): `{ v: 3, siteId, ...contentMembers }`, written out with the
+ * members in canonical order (their names are ASCII, sorted here once) so only before and after are sorted per event;
+ * the verifier hashes every event with it. tests/unit/server/audit-hash.test.ts compares it with the canonicalize
+ * package.
+ */
+export function dataText(e: EventData): string {
+  return (
+    `{"action":${JSON.stringify(e.action)},"actorId":${e.actorId === null ? 'null' : canonicalJson(e.actorId)},` +
+    `"after":${json(e.after)},"batchId":${text(e.batchId)},"before":${json(e.before)},` +
+    `"entityId":${text(e.entityId)},"entityType":${JSON.stringify(e.entityType)},"ip":${text(e.ip)},` +
+    `"occurredAt":"${e.occurredAt.toISOString()}","reason":${text(e.reason)},"requestId":${text(e.requestId)},` +
+    `"siteId":${e.siteId === null ? 'null' : canonicalJson(e.siteId)},"v":3}`
+  )
 }
 
 /** `data_hash` (format 3): SHA-256 over the RFC 8785 canonical JSON of the event's content and site. */
 export function dataHash(e: EventData): string {
-  const text = canonicalize({
-    v: 3,
-    siteId: e.siteId,
-    occurredAt: e.occurredAt.toISOString(),
-    actorId: e.actorId,
-    action: e.action,
-    entityType: e.entityType,
-    entityId: e.entityId,
-    before: e.before ?? null,
-    after: e.after ?? null,
-    reason: e.reason,
-    batchId: e.batchId,
-    requestId: e.requestId,
-    ip: e.ip,
-  })
-  if (text === undefined) throw new Error('audit event cannot be canonicalized')
-  return createHash('sha256').update(text, 'utf8').digest('hex')
+  return sha256Hex(dataText(e))
 }
 
 /** What the sealer links (format 3): the event's id, its chain position, its data hash and the previous hash. */
@@ -99,6 +149,5 @@ export interface SealedLink {
  * is the canonical form (tests/unit/server/audit-hash.test.ts compares it with the canonicalize package).
  */
 export function sealHash(s: SealedLink): string {
-  const text = `{"dataHash":"${s.dataHash}","id":${s.id},"prevHash":"${s.prevHash}","seq":${s.seq},"v":3}`
-  return createHash('sha256').update(text, 'utf8').digest('hex')
+  return sha256Hex(`{"dataHash":"${s.dataHash}","id":${s.id},"prevHash":"${s.prevHash}","seq":${s.seq},"v":3}`)
 }

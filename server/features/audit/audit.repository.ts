@@ -209,10 +209,10 @@ export interface CheckpointClaim {
   firstKeyedSeq: number | null
 }
 
-interface ChainRow {
-  id: string
-  seq: string
-  occurred_at: Date
+/** An event as the verifier reads it: the time as milliseconds (no Date parsed per row), ids as numbers. */
+interface EventRow {
+  id: number
+  occurred_ms: number
   actor_id: number | null
   action: string
   entity_type: string
@@ -223,11 +223,52 @@ interface ChainRow {
   batch_id: string | null
   request_id: string | null
   ip: string | null
+  site_id: number | null
+  data_hash: string | null
+}
+
+interface ChainRow extends EventRow {
+  seq: number
   prev_hash: string
   hash: string
   link: string | null
-  site_id: number | null
-  data_hash: string | null
+}
+
+const EVENT_COLUMNS = sql.raw(`id, (extract(epoch FROM occurred_at) * 1000)::bigint AS occurred_ms, actor_id, action,
+  entity_type, entity_id, before, after, reason, batch_id, request_id, ip, site_id, data_hash`)
+
+/** The content of an event as read back, in the form its hashes cover. */
+function contentOf(r: EventRow) {
+  return {
+    occurredAt: new Date(r.occurred_ms),
+    actorId: r.actor_id,
+    action: r.action,
+    entityType: r.entity_type,
+    entityId: r.entity_id,
+    before: r.before,
+    after: r.after,
+    reason: r.reason,
+    batchId: r.batch_id,
+    requestId: r.request_id,
+    ip: r.ip,
+  }
+}
+
+/** A page of sealed events in chain order after chain position `after`. */
+function sealedPage(db: Db, after: number, size: number): Promise<ChainRow[]> {
+  return sql<ChainRow>`
+    SELECT ${EVENT_COLUMNS}, seq, prev_hash, hash, link
+    FROM audit_event WHERE seq > ${after} ORDER BY seq LIMIT ${size}`
+    .execute(db)
+    .then((r) => r.rows)
+}
+
+/** A page of unsealed events in id order after id `after`. */
+function unsealedPage(db: Db, after: number, size: number): Promise<EventRow[]> {
+  return sql<EventRow>`
+    SELECT ${EVENT_COLUMNS} FROM audit_event WHERE seq IS NULL AND id > ${after} ORDER BY id LIMIT ${size}`
+    .execute(db)
+    .then((r) => r.rows)
 }
 
 /**
@@ -307,22 +348,15 @@ export async function verifyAuditChain(
     }
     return null
   }
-  const readPage = (after: number) =>
-    sql<ChainRow>`
-      SELECT id, seq, occurred_at, actor_id, action, entity_type, entity_id, before, after, reason, batch_id,
-        request_id, ip, prev_hash, hash, link, site_id, data_hash
-      FROM audit_event WHERE seq > ${after} ORDER BY seq LIMIT ${pageSize}`
-      .execute(db)
-      .then((r) => r.rows)
+  const readPage = (after: number) => sealedPage(db, after, pageSize)
   let next = readPage(0)
   for (;;) {
     const page = await next
     if (!page.length) break
     // read ahead: PostgreSQL sends the next page while this one is hashed
-    next = page.length === pageSize ? readPage(Number(page[page.length - 1].seq)) : Promise.resolve([])
+    next = page.length === pageSize ? readPage(page[page.length - 1].seq) : Promise.resolve([])
     for (const r of page) {
-      const id = Number(r.id)
-      const seq = Number(r.seq)
+      const { id, seq } = r
       const pending = settle({ seq, id })
       if (pending) {
         next.catch(() => {})
@@ -339,36 +373,14 @@ export async function verifyAuditChain(
       } else if (r.link === null && (keyedFrom !== null || r.data_hash !== null)) {
         problem = 'event has no keyed link although the events before it have: forged or rewritten'
       } else {
+        const content = contentOf(r)
         let recomputed: string
         if (r.data_hash !== null) {
-          const d = dataHash({
-            siteId: r.site_id,
-            occurredAt: r.occurred_at,
-            actorId: r.actor_id,
-            action: r.action,
-            entityType: r.entity_type,
-            entityId: r.entity_id,
-            before: r.before,
-            after: r.after,
-            reason: r.reason,
-            batchId: r.batch_id,
-            requestId: r.request_id,
-            ip: r.ip,
-          })
+          const d = dataHash({ ...content, siteId: r.site_id })
           recomputed = d === r.data_hash ? sealHash({ id, seq, dataHash: d, prevHash: r.prev_hash }) : ''
         } else
           recomputed = hashEvent({
-            occurredAt: r.occurred_at,
-            actorId: r.actor_id,
-            action: r.action,
-            entityType: r.entity_type,
-            entityId: r.entity_id,
-            before: r.before,
-            after: r.after,
-            reason: r.reason,
-            batchId: r.batch_id,
-            requestId: r.request_id,
-            ip: r.ip,
+            ...content,
             prevHash: r.prev_hash,
             keyed: r.link === null ? undefined : { id, siteId: r.site_id },
           })
@@ -397,30 +409,12 @@ export async function verifyAuditChain(
   let oldest: { id: number; at: number } | null = null
   let afterId = 0
   for (;;) {
-    const page = await sql<Omit<ChainRow, 'seq' | 'prev_hash' | 'hash' | 'link'>>`
-      SELECT id, occurred_at, actor_id, action, entity_type, entity_id, before, after, reason, batch_id, request_id, ip,
-        site_id, data_hash
-      FROM audit_event WHERE seq IS NULL AND id > ${afterId} ORDER BY id LIMIT ${pageSize}`
-      .execute(db)
-      .then((r) => r.rows)
+    const page = await unsealedPage(db, afterId, pageSize)
     for (const r of page) {
-      const id = Number(r.id)
-      const d = dataHash({
-        siteId: r.site_id,
-        occurredAt: r.occurred_at,
-        actorId: r.actor_id,
-        action: r.action,
-        entityType: r.entity_type,
-        entityId: r.entity_id,
-        before: r.before,
-        after: r.after,
-        reason: r.reason,
-        batchId: r.batch_id,
-        requestId: r.request_id,
-        ip: r.ip,
-      })
+      const id = r.id
+      const d = dataHash({ ...contentOf(r), siteId: r.site_id })
       if (d !== r.data_hash) return broken({ id }, 'hash does not match content')
-      const at = r.occurred_at.getTime()
+      const at = r.occurred_ms
       if (!oldest || at < oldest.at) oldest = { id, at }
       unsealed++
       afterId = id

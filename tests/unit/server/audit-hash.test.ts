@@ -1,7 +1,7 @@
 import { createHash } from 'node:crypto'
 import canonicalize from 'canonicalize'
 import { describe, expect, it } from 'vitest'
-import { dataHash, sealHash } from '../../../server/features/audit/audit.hash.ts'
+import { canonicalJson, dataHash, dataText, sealHash } from '../../../server/features/audit/audit.hash.ts'
 
 // The seal hash of format 3 writes its small object out directly; it must be the RFC 8785 canonical JSON that the
 // reference implementation (the canonicalize package, RFC 8785 §3.2) gives, or another verifier would disagree.
@@ -42,5 +42,72 @@ describe('format-3 hashes', () => {
       '"entityId":"42","entityType":"Limit","ip":"127.0.0.1","occurredAt":"2026-12-03T08:00:00.123Z","reason":"Grund ✓",' +
       '"requestId":"req-1","siteId":2,"v":3}'
     expect(dataHash(e)).toBe(sha256(text))
+  })
+
+  it('canonical JSON: what the canonicalize package (the RFC 8785 reference implementation) gives, for awkward values', () => {
+    const when = new Date('2026-01-02T03:04:05.006Z')
+    const values: unknown[] = [
+      null,
+      true,
+      0,
+      -0,
+      1e21,
+      1e-7,
+      0.1 + 0.2,
+      2 ** 53 + 2,
+      1.7976931348623157e308,
+      5e-324,
+      -123.456e-10,
+      '',
+      'Ölstand ≥ 95 % 🔥 \u2028 "quoted" \\ back\\slash \t tab \u0001 \u007f',
+      [],
+      {},
+      [undefined, null, 1, [2, [3]]],
+      { b: 1, a: { d: [], c: {} }, undefinedMember: undefined },
+      // member names sorted by UTF-16 code units (RFC 8785 §3.2.3): digits, capitals, ä, astral characters
+      { 10: 'ten', 9: 'nine', Z: 1, a: 2, ä: 3, '': 4, '🔥': 5, '\uffff': 6, 'e\u0301': 7, é: 8 },
+      { when, nested: [{ when }] },
+    ]
+    for (const v of values) expect(canonicalJson(v)).toBe(canonicalize(v))
+    // RFC 8785 §3.2.2.3: numbers have no JSON form beyond the finite ones
+    expect(() => canonicalJson(NaN)).toThrow()
+    expect(() => canonicalJson({ a: Infinity })).toThrow()
+  })
+
+  it('data text: what the canonicalize package gives for { v: 3, siteId, ...content }, for awkward content', () => {
+    const contents = [
+      {
+        siteId: null,
+        occurredAt: new Date('2026-03-04T05:06:07.999Z'),
+        actorId: null,
+        action: 'test.awkward "quoted"',
+        entityType: 'Limit',
+        entityId: 'TZ-101/A',
+        before: [{ zeta: 1, alpha: { delta: [3, { z: 1, ä: 'ü', '': 'empty key' }] } }],
+        after: { n: -0.000001, 10: 'ten', 9: 'nine' },
+        reason: 'Grund: Prüfung ✓\n',
+        batchId: '6f1c1f0e-8d5b-4c8e-9d0a-3b2f5f1e2a77',
+        requestId: 'req-ä-🔥',
+        ip: '2001:db8::1',
+      },
+      {
+        siteId: 12,
+        occurredAt: new Date('2026-12-03T00:00:00.000Z'),
+        actorId: 2147483647,
+        action: 'limit.update',
+        entityType: 'System',
+        entityId: null,
+        before: null,
+        after: 'text',
+        reason: null,
+        batchId: null,
+        requestId: null,
+        ip: null,
+      },
+    ]
+    for (const e of contents) {
+      const { occurredAt, ...rest } = e
+      expect(dataText(e)).toBe(canonicalize({ v: 3, ...rest, occurredAt: occurredAt.toISOString() }))
+    }
   })
 })
