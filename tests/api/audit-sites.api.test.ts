@@ -1,6 +1,7 @@
 import { sql } from 'kysely'
 import { describe, expect, it } from 'vitest'
-import { AUDIT_ENTITY_SITE, type AuditEntityType, resolveAuditSites } from '../../server/features/audit/audit.sites.ts'
+import { resolveAuditSites } from '../../server/features/audit/audit.repository.ts'
+import { AUDIT_ENTITY_SITE, type AuditEntityType } from '../../server/features/audit/audit.sites.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // docs/security.md, "Whose events a reader sees": every event about a site-bound record carries that record's site.

@@ -7,7 +7,7 @@ import type { Clock, DueJob } from '../../clock.ts'
 import type { Db } from '../../db/index.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { type AuditKeys, loadAuditKeys } from './audit.key.ts'
-import { type CheckpointClaim, sealAll } from './audit.repository.ts'
+import { activeAuditorEmails, type CheckpointClaim, readSealedHead, sealAll } from './audit.repository.ts'
 
 /**
  * Signed checkpoints of the audit chain's head (docs/security.md, "Audit trail integrity"): the head's id and hash,
@@ -62,27 +62,7 @@ export async function writeCheckpoint(
 ): Promise<Checkpoint & { file: string }> {
   const keys = opts.keys ?? loadAuditKeys()
   const dir = opts.dir ?? checkpointDir()
-  const head = await db
-    .transaction()
-    .setIsolationLevel('repeatable read')
-    .execute(async (trx) => {
-      const last = await trx
-        .selectFrom('audit_event')
-        .select(['id', 'seq', 'hash'])
-        .where('seq', 'is not', null)
-        .orderBy('seq', 'desc')
-        .limit(1)
-        .executeTakeFirst()
-      const agg = await trx
-        .selectFrom('audit_event')
-        .select((eb) => [
-          eb.fn.countAll<string>().as('n'),
-          eb.fn.min('seq').filterWhere('link', 'is not', null).as('firstKeyed'),
-        ])
-        .where('seq', 'is not', null)
-        .executeTakeFirstOrThrow()
-      return { last, count: Number(agg.n), firstKeyed: agg.firstKeyed == null ? null : Number(agg.firstKeyed) }
-    })
+  const head = await readSealedHead(db)
   const body: Omit<Checkpoint, 'signature'> = {
     version: 2,
     createdAt: clock.now().toISOString(),
@@ -154,14 +134,7 @@ export async function checkpointAndMail(db: Db, clock: Clock, opts: { keys?: Aud
   // the checkpoint signs the sealed head: what was written before it is sealed first
   await sealAll(db, clock)
   const c = await writeCheckpoint(db, clock, opts)
-  const auditors = await db
-    .selectFrom('app_user')
-    .innerJoin('role_assignment', 'role_assignment.user_id', 'app_user.id')
-    .select('app_user.email')
-    .distinct()
-    .where('role_assignment.role', '=', 'auditor')
-    .where('app_user.active', '=', true)
-    .execute()
+  const auditors = await activeAuditorEmails(db)
   const { file, ...signed } = c
   const bodies = mailBodies([
     `Checkpoint of the audit trail at ${c.createdAt}: head event ${c.headId} at chain position ${c.headSeq}, ${c.count} sealed events.`,
@@ -173,8 +146,8 @@ export async function checkpointAndMail(db: Db, clock: Clock, opts: { keys?: Aud
     enqueueMail(
       trx,
       clock,
-      auditors.map((a) => ({
-        to: a.email,
+      auditors.map((to) => ({
+        to,
         subject: `Audit trail checkpoint ${c.createdAt.slice(0, 10)}: head ${c.headSeq}`,
         topic: 'audit_checkpoint',
         ...bodies,

@@ -2,9 +2,9 @@ import { sql, type Transaction } from 'kysely'
 import { type Clock, systemClock } from '../../clock.ts'
 import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
-import { dataHash, GENESIS_HASH, hashEvent, sealHash } from './audit.hash.ts'
+import { dataHash, type EventContent, GENESIS_HASH, hashEvent, sealHash } from './audit.hash.ts'
 import { type AuditKeys, linkOf, loadAuditKeys } from './audit.key.ts'
-import { type AuditEntityType, resolveAuditSites } from './audit.sites.ts'
+import { AUDIT_ENTITY_SITE, type AuditEntityType } from './audit.sites.ts'
 import { likeEscape } from '../../authorize.ts'
 
 /** Who did it, from where, in which request: carried from the HTTP request down to every audit event. */
@@ -24,7 +24,8 @@ export interface AuditEntry {
   batchId?: string | null
   /**
    * The site the event is about; null for an installation-wide event. When absent, the site is the entity's
-   * (server/features/audit/audit.sites.ts).
+   * (server/features/audit/audit.sites.ts), looked up in the entity's table: a caller that holds the record passes
+   * its site and saves that query.
    */
   siteId?: number | null
 }
@@ -50,19 +51,21 @@ export async function appendAudit(
 ): Promise<void> {
   const list = Array.isArray(entries) ? entries : [entries]
   if (!list.length) return
-  const sites = await resolveAuditSites(
+  const unplaced = list.filter((e) => e.siteId === undefined)
+  const found = await resolveAuditSites(
     trx,
-    list.map((e) => ({
+    unplaced.map((e) => ({
       entityType: e.entityType,
       entityId: e.entityId == null ? null : String(e.entityId),
       before: e.before,
       after: e.after,
     })),
   )
+  const sites = new Map(unplaced.map((e, i) => [e, found[i]]))
   const occurredAt = new Date(clock.now().getTime())
-  const rows = list.map((e, i) => {
+  const rows = list.map((e) => {
     const content = {
-      siteId: e.siteId !== undefined ? e.siteId : sites[i],
+      siteId: e.siteId !== undefined ? e.siteId : (sites.get(e) ?? null),
       occurredAt,
       actorId: ctx.actorId,
       action: e.action,
@@ -104,6 +107,111 @@ export async function appendAuditAlone(db: Db, clock: Clock, ctx: AuditContext, 
   await db.transaction().execute((trx) => appendAudit(trx, clock, ctx, entry))
 }
 
+/** An event to place: its entity, and the `siteId` its before/after state names (an entity deleted in the change). */
+export interface SiteQuestion {
+  entityType: AuditEntityType
+  entityId: string | null
+  before?: unknown
+  after?: unknown
+}
+
+const INT = /^[1-9]\d{0,9}$/
+
+function siteIdIn(state: unknown): number | null {
+  if (state && typeof state === 'object' && 'siteId' in state) {
+    const v = (state as { siteId: unknown }).siteId
+    if (typeof v === 'number' && Number.isInteger(v)) return v
+  }
+  return null
+}
+
+/**
+ * The site of each event (server/features/audit/audit.sites.ts): read from the entity's table in the caller's
+ * transaction (one query per entity type), or, when the entity is gone (deleted in the same change) or has no numeric
+ * id, from the `siteId` of its before/after state. Installation-wide entity types give null.
+ */
+export async function resolveAuditSites(
+  db: Db | Transaction<Database>,
+  events: SiteQuestion[],
+): Promise<(number | null)[]> {
+  const found = new Map<string, number>()
+  const byTable = new Map<string, Set<number>>()
+  for (const e of events) {
+    const table = AUDIT_ENTITY_SITE[e.entityType]
+    if (table === undefined) throw new Error(`audit entity type ${e.entityType} has no site rule`)
+    if (table === null || table === 'self' || e.entityId === null || !INT.test(e.entityId)) continue
+    const id = Number(e.entityId)
+    if (id > 2147483647) continue
+    let ids = byTable.get(table)
+    if (!ids) byTable.set(table, (ids = new Set()))
+    ids.add(id)
+  }
+  for (const [table, ids] of byTable) {
+    const all = [...ids]
+    for (let i = 0; i < all.length; i += 1000) {
+      const rows = await db
+        .selectFrom(table as 'area')
+        .select(['id', 'site_id'])
+        .where('id', 'in', all.slice(i, i + 1000))
+        .execute()
+      for (const r of rows) found.set(`${table}:${r.id}`, r.site_id)
+    }
+  }
+  return events.map((e) => {
+    const table = AUDIT_ENTITY_SITE[e.entityType]
+    if (table === null) return null
+    if (table === 'self') return e.entityId !== null && INT.test(e.entityId) ? Number(e.entityId) : null
+    const site = e.entityId === null ? undefined : found.get(`${table}:${e.entityId}`)
+    return site ?? siteIdIn(e.after) ?? siteIdIn(e.before)
+  })
+}
+
+/** The sealed event at the head of the chain (the highest chain position), if any. */
+function chainHead(db: Db | Transaction<Database>) {
+  return db
+    .selectFrom('audit_event')
+    .select(['id', 'seq', 'hash'])
+    .where('seq', 'is not', null)
+    .orderBy('seq', 'desc')
+    .limit(1)
+    .executeTakeFirst()
+}
+
+/**
+ * What a checkpoint signs, read in one snapshot: the sealed head, the number of sealed events and the chain position
+ * where keyed links began.
+ */
+export function readSealedHead(db: Db) {
+  return db
+    .transaction()
+    .setIsolationLevel('repeatable read')
+    .execute(async (trx) => {
+      const last = await chainHead(trx)
+      const agg = await trx
+        .selectFrom('audit_event')
+        .select((eb) => [
+          eb.fn.countAll<string>().as('n'),
+          eb.fn.min('seq').filterWhere('link', 'is not', null).as('firstKeyed'),
+        ])
+        .where('seq', 'is not', null)
+        .executeTakeFirstOrThrow()
+      return { last, count: Number(agg.n), firstKeyed: agg.firstKeyed == null ? null : Number(agg.firstKeyed) }
+    })
+}
+
+/** The addresses of the active auditors of every site (who receive each checkpoint). */
+export async function activeAuditorEmails(db: Db): Promise<string[]> {
+  const rows = await db
+    .selectFrom('app_user')
+    .innerJoin('role_assignment', 'role_assignment.user_id', 'app_user.id')
+    .select('app_user.email')
+    .distinct()
+    .where('role_assignment.role', '=', 'auditor')
+    .where('app_user.active', '=', true)
+    .execute()
+  return rows.map((r) => r.email)
+}
+
 /** Events a sealer run links at most, in one transaction. */
 export const SEAL_BATCH = 2000
 
@@ -131,13 +239,7 @@ export async function sealAuditEvents(
       .orderBy('id')
       .limit(batch)
       .execute()
-    const head = await trx
-      .selectFrom('audit_event')
-      .select(['seq', 'hash'])
-      .where('seq', 'is not', null)
-      .orderBy('seq', 'desc')
-      .limit(1)
-      .executeTakeFirst()
+    const head = await chainHead(trx)
     let seq = Number(head?.seq ?? 0)
     if (!waiting.length) return { sealed: 0, headSeq: seq }
     let prevHash = head?.hash ?? GENESIS_HASH
@@ -245,13 +347,15 @@ function contentOf(r: EventRow) {
     action: r.action,
     entityType: r.entity_type,
     entityId: r.entity_id,
-    before: r.before,
-    after: r.after,
-    reason: r.reason,
-    batchId: r.batch_id,
-    requestId: r.request_id,
-    ip: r.ip,
+    ...recordedFields(r),
   }
+}
+
+/** The recorded values of an event row under their API names (the verifier and the audit-trail list share them). */
+export function recordedFields(
+  r: Pick<EventRow, 'before' | 'after' | 'reason' | 'batch_id' | 'request_id' | 'ip'>,
+): Pick<EventContent, 'before' | 'after' | 'reason' | 'batchId' | 'requestId' | 'ip'> {
+  return { before: r.before, after: r.after, reason: r.reason, batchId: r.batch_id, requestId: r.request_id, ip: r.ip }
 }
 
 /** A page of sealed events in chain order after chain position `after`. */
@@ -510,6 +614,42 @@ export function auditEventsQuery(db: Db, scope: AuditScope, f: AuditFilters) {
     )
   }
   return base.select(site.as('effective_site_id'))
+}
+
+/** A page of the events a scope may read, newest first, after `cursor` (an id) or at `page`, and how many match. */
+export async function listAuditEvents(
+  db: Db,
+  scope: AuditScope,
+  q: AuditFilters & { page: number; pageSize: number; cursor?: number },
+) {
+  const base = auditEventsQuery(db, scope, q)
+  const { n: total } = await base
+    .clearSelect()
+    .select((eb) => eb.fn.countAll<number>().as('n'))
+    .executeTakeFirstOrThrow()
+  let page = base
+    .selectAll('audit_event')
+    .select('app_user.display_name as actorName')
+    .orderBy('audit_event.id', 'desc')
+    .limit(q.pageSize)
+  page = q.cursor ? page.where('audit_event.id', '<', q.cursor) : page.offset((q.page - 1) * q.pageSize)
+  return { total, rows: await page.execute() }
+}
+
+/** Up to `limit` events a scope may read for the export, newest first, with the actor's name and address. */
+export function auditExportPage(db: Db, scope: AuditScope, f: AuditFilters, cursor: number | null, limit: number) {
+  let page = auditEventsQuery(db, scope, f)
+    .selectAll('audit_event')
+    .select(['app_user.display_name as actorName', 'app_user.email as actorEmail'])
+    .orderBy('audit_event.id', 'desc')
+    .limit(limit)
+  if (cursor !== null) page = page.where('audit_event.id', '<', cursor)
+  return page.execute()
+}
+
+/** Each site's code by its id. */
+export async function siteCodesById(db: Db): Promise<Map<number, string>> {
+  return new Map((await db.selectFrom('site').select(['id', 'code']).execute()).map((s) => [s.id, s.code]))
 }
 
 // The tag, title or name of each entity an event names, read now; and, for records that belong to a limit, the limit.

@@ -5,7 +5,14 @@ import type { CurrentUser } from '../../types/express.d.ts'
 import { authorize } from '../../authorize.ts'
 import { csvPart } from '../../csv.ts'
 import type { AppDeps } from '../../deps.ts'
-import { type AuditScope, auditEventsQuery, entityTitles } from './audit.repository.ts'
+import {
+  auditExportPage,
+  type AuditScope,
+  entityTitles,
+  listAuditEvents,
+  recordedFields,
+  siteCodesById,
+} from './audit.repository.ts'
 import { verifyTrailOnce } from './audit.verify.ts'
 
 /** The roles that read a site's audit trail (docs/security.md, "Whose events a reader sees"). */
@@ -61,27 +68,12 @@ export function createAuditRouter(deps: AppDeps) {
   router.get('/', async (req, res) => {
     authorize(req.ability, 'read', 'AuditEvent')
     const q = AuditQuerySchema.parse(req.query)
-    const base = auditEventsQuery(deps.db, scopeOf(req.user), q)
-    const total = (
-      await base
-        .clearSelect()
-        .select((eb) => eb.fn.countAll<number>().as('n'))
-        .executeTakeFirstOrThrow()
-    ).n
-    let page = base
-      .selectAll('audit_event')
-      .select('app_user.display_name as actorName')
-      .orderBy('audit_event.id', 'desc')
-      .limit(q.pageSize)
-    page = q.cursor ? page.where('audit_event.id', '<', q.cursor) : page.offset((q.page - 1) * q.pageSize)
-    const rows = await page.execute()
+    const { total, rows } = await listAuditEvents(deps.db, scopeOf(req.user), q)
     const titles = await entityTitles(
       deps.db,
       rows.map((r) => ({ entityType: r.entity_type, entityId: r.entity_id })),
     )
-    const siteCodes = new Map(
-      (await deps.db.selectFrom('site').select(['id', 'code']).execute()).map((s) => [s.id, s.code]),
-    )
+    const siteCodes = await siteCodesById(deps.db)
     const items: AuditEventDto[] = rows.map((r) => {
       const t = titles.get(`${r.entity_type}:${r.entity_id}`)
       const siteId = r.effective_site_id
@@ -97,12 +89,7 @@ export function createAuditRouter(deps: AppDeps) {
         entityLimitId: t?.limitId ?? null,
         siteId,
         siteCode: siteId === null ? null : (siteCodes.get(siteId) ?? null),
-        before: r.before,
-        after: r.after,
-        reason: r.reason,
-        batchId: r.batch_id,
-        requestId: r.request_id,
-        ip: r.ip,
+        ...recordedFields(r),
         prevHash: r.prev_hash,
         hash: r.hash,
         seq: r.seq === null ? null : Number(r.seq),
@@ -115,9 +102,7 @@ export function createAuditRouter(deps: AppDeps) {
     authorize(req.ability, 'read', 'AuditEvent')
     const q = ExportQuerySchema.parse(req.query)
     const scope = scopeOf(req.user)
-    const siteCodes = new Map(
-      (await deps.db.selectFrom('site').select(['id', 'code']).execute()).map((s) => [s.id, s.code]),
-    )
+    const siteCodes = await siteCodesById(deps.db)
     res.setHeader('Content-Type', 'text/csv; charset=utf-8')
     res.setHeader('Content-Disposition', 'attachment; filename="limitkeeper-audit-trail.csv"')
     const fields = [
@@ -143,13 +128,7 @@ export function createAuditRouter(deps: AppDeps) {
     let first = true
     // keyset pages, newest first, written as they are read
     for (;;) {
-      let page = auditEventsQuery(deps.db, scope, q)
-        .selectAll('audit_event')
-        .select(['app_user.display_name as actorName', 'app_user.email as actorEmail'])
-        .orderBy('audit_event.id', 'desc')
-        .limit(EXPORT_PAGE)
-      if (cursor !== null) page = page.where('audit_event.id', '<', cursor)
-      const rows = await page.execute()
+      const rows = await auditExportPage(deps.db, scope, q, cursor, EXPORT_PAGE)
       const titles = await entityTitles(
         deps.db,
         rows.map((r) => ({ entityType: r.entity_type, entityId: r.entity_id })),
