@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { crewOf, signedIn } from './helpers/agent.ts'
 import { buildHeaterTrip, ACTIVATE, countActionEvents, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -15,12 +15,7 @@ const PEOPLE = ['engineer', 'approver', 'approver2', 'technician', 'supervisor',
 type Who = (typeof PEOPLE)[number]
 
 let app: Express
-const as = {} as Record<Who, ApiAgent>
-
-/** Signs everyone in again: a move of the clock by hours ends the sessions (30 min idle), as it would in the plant. */
-async function signInAll() {
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
-}
+const { as, signInAll } = crewOf(() => app, PEOPLE)
 
 const crew = () => ({ eng: as.engineer, approver: as.approver, tech: as.technician })
 

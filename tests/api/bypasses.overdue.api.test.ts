@@ -1,13 +1,11 @@
 import type { Express } from 'express'
-import type { ParsedMail } from 'mailparser'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
 import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
-import { createMailJob } from '../../server/features/mail/mail.worker.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { crewOf } from './helpers/agent.ts'
 import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
+import { recipients, useFakeSmtp } from './helpers/mail.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -16,27 +14,16 @@ const PW = DEMO_PASSWORD
 const MIN = 60_000
 const HOUR = 60 * MIN
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor', 'operator', 'manager'] as const
-type Who = (typeof PEOPLE)[number]
 
 let app: Express
-let smtp: FakeSmtp
-const as = {} as Record<Who, ApiAgent>
-
-async function signInAll() {
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
-}
-const recipients = (m: ParsedMail) => (m.to && !Array.isArray(m.to) ? m.to.value.map((a) => a.address ?? '') : [])
-const deliver = () => createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock).runDue(ctx.clock.now())
-const mails = (subjectStart: string) => smtp.inbox.filter((m) => (m.subject ?? '').startsWith(subjectStart))
+const { as, signInAll } = crewOf(() => app, PEOPLE)
+const mailbox = useFakeSmtp(ctx)
+const { deliver, startingWith: mails } = mailbox
 
 beforeAll(async () => {
-  smtp = await startFakeSmtp(0, { quiet: true })
   ctx.clock.set('2026-07-06T05:30:00Z')
   app = createApp(ctx)
   await signInAll()
-})
-afterAll(async () => {
-  await smtp?.close()
 })
 
 describe('bypass past its planned end: warning, overdue, escalation (docs/bypasses.md defaults 1 h / at once / every 4 h, common practice)', () => {

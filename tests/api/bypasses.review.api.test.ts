@@ -3,34 +3,20 @@ import Papa from 'papaparse'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { crewOf, DEMO_ACCOUNTS, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 import { ACTIVATE, heaterThermocouple } from './helpers/factories.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
-const PEOPLE = [
-  'engineer',
-  'approver',
-  'approver2',
-  'technician',
-  'supervisor',
-  'operator',
-  'manager',
-  'auditor',
-  'admin',
-] as const
+const PEOPLE = DEMO_ACCOUNTS
 type Who = (typeof PEOPLE)[number]
 
 let app: Express
-const as = {} as Record<Who, ApiAgent>
+const { as, signInAll } = crewOf(() => app, PEOPLE)
 let seq = 0
 const userIds = {} as Record<Who, number>
-
-async function signInAll() {
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
-}
 
 /** A fired-heater trip (or an alarm without compensating measures) in the given site and area, put in service. */
 async function limitIn(siteCode: 'FHR' | 'SMP', areaIndex: number, kind: 'trip' | 'alarm' = 'trip') {

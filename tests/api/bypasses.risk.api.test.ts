@@ -4,7 +4,7 @@ import { createApp } from '../../server/app.ts'
 import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { sifPfd, type Subsystem } from '../../shared/domain/sif-reliability.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { crewOf } from './helpers/agent.ts'
 import { buildHeaterTrip, ACTIVATE, heaterThermocouple } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -25,12 +25,12 @@ const PEOPLE = [
 type Who = (typeof PEOPLE)[number]
 
 let app: Express
-const as = {} as Record<Who, ApiAgent>
+const { as, signInAll } = crewOf(() => app, PEOPLE)
 let seq = 0
 
 async function at(iso: string) {
   ctx.clock.set(iso)
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
+  await signInAll()
 }
 
 /**

@@ -3,28 +3,18 @@ import type { Response } from 'supertest'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { type ApiAgent, crewOf, DEMO_ACCOUNTS } from './helpers/agent.ts'
 import { buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
-const PEOPLE = [
-  'engineer',
-  'approver',
-  'approver2',
-  'technician',
-  'supervisor',
-  'operator',
-  'manager',
-  'auditor',
-  'admin',
-] as const
+const PEOPLE = DEMO_ACCOUNTS
 type Who = (typeof PEOPLE)[number]
 
 let app: Express
-const as = {} as Record<Who, ApiAgent>
+const { as, signInAll } = crewOf(() => app, PEOPLE)
 let limitId = 0
 
 /** Everything a bypass action writes (sign-in events excluded: signing in is not the action). */
@@ -78,7 +68,7 @@ const request = (who: Who, reason: string) =>
 beforeAll(async () => {
   ctx.clock.set('2026-05-04T06:00:00Z')
   app = createApp(ctx)
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
+  await signInAll()
   const { limit } = await buildHeaterTrip(as.engineer)
   await activateLimit({ eng: as.engineer, approver: as.approver, tech: as.technician }, limit)
   limitId = limit.id
@@ -223,7 +213,7 @@ describe('bypass: who may do what (docs/bypasses.md#rules)', () => {
     const clear = { pvClearConfirmed: true, protectionRestoredConfirmed: true }
     // a bypass is put in force from its planned start on
     ctx.clock.set('2026-05-04T06:30:00Z')
-    for (const who of PEOPLE) as[who] = await signedIn(app, who)
+    await signInAll()
     await refusedForAllBut(['supervisor', 'technician', 'operator'], (a) =>
       a.post(`/api/bypasses/${ids.op}/activation`, ACTIVATE),
     )

@@ -2,7 +2,7 @@ import type { Express } from 'express'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { crewOf } from './helpers/agent.ts'
 import { buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -16,14 +16,9 @@ const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 const HOUR = 3_600_000
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor', 'operator', 'manager'] as const
-type Who = (typeof PEOPLE)[number]
 
 let app: Express
-const as = {} as Record<Who, ApiAgent>
-async function signInAll() {
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
-}
-
+const { as, signInAll } = crewOf(() => app, PEOPLE)
 /** A heater trip put in service whose own longest bypass is `maxBypassHours`. */
 async function limitWithMaxBypass(maxBypassHours: number) {
   const { limit } = await buildHeaterTrip(as.engineer)

@@ -1,13 +1,10 @@
 import type { Express } from 'express'
-import type { ParsedMail } from 'mailparser'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
 import { createChangeRequestJob } from '../../server/features/change-requests/change-requests.jobs.ts'
-import { createMailJob } from '../../server/features/mail/mail.worker.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import type { ApiAgent } from './helpers/agent.ts'
-import { signedIn } from './helpers/agent.ts'
+import { crewOf } from './helpers/agent.ts'
+import { recipients, useFakeSmtp } from './helpers/mail.ts'
 import { approveChange, buildActiveHeaterTrip, implementChange, readBackOf, submitChange } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -16,38 +13,20 @@ const PW = DEMO_PASSWORD
 const HOUR = 3_600_000
 const DAY = 24 * HOUR
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor'] as const
-let smtp: FakeSmtp
+const mailbox = useFakeSmtp(ctx)
+const { deliver, mailsFor } = mailbox
 let app: Express
-const as = {} as Record<(typeof PEOPLE)[number], ApiAgent>
-
-/** Signs everyone in again: moving the clock by hours ends the sessions (idle limit), as it would in the plant. */
-async function signInAll() {
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
-}
+const { as, signInAll } = crewOf(() => app, PEOPLE)
 
 beforeAll(async () => {
-  smtp = await startFakeSmtp(0, { quiet: true })
   app = createApp(ctx)
   await signInAll()
 })
-afterAll(async () => {
-  await smtp?.close()
-})
 
 const runDeadlines = () => createChangeRequestJob(ctx.db, ctx.config, ctx.clock).runDue(ctx.clock.now())
-const deliver = () => createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock).runDue(ctx.clock.now())
-const recipients = (m: ParsedMail) => (m.to && !Array.isArray(m.to) ? m.to.value.map((a) => a.address ?? '') : [])
 const crew = () => ({ eng: as.engineer, approvers: [as.approver], tech: as.technician })
 const crRow = (id: number) =>
   ctx.db.selectFrom('change_request').selectAll().where('id', '=', id).executeTakeFirstOrThrow()
-
-/** Delivers the outbox and waits until every expected address has the subject; answers all mails with it. */
-async function mailsFor(subjectStart: string, expected: string[]) {
-  await deliver()
-  const about = (m: ParsedMail) => (m.subject ?? '').startsWith(subjectStart)
-  for (const a of expected) await smtp.waitFor((m) => about(m) && recipients(m).includes(a))
-  return smtp.inbox.filter(about)
-}
 
 describe('change request deadlines job', () => {
   it('reminds the proposer once when a temporary change expires within 24 h', async () => {
@@ -85,7 +64,7 @@ describe('change request deadlines job', () => {
     ctx.clock.set(new Date(expiresAt.getTime() + HOUR))
     expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0, toRevert: 1 })
     await deliver()
-    expect(smtp.inbox.filter((m) => m.subject?.startsWith(subject))).toHaveLength(1)
+    expect(mailbox.startingWith(subject)).toHaveLength(1)
     const events = await ctx.db
       .selectFrom('audit_event')
       .select('action')
@@ -145,7 +124,7 @@ describe('change request deadlines job', () => {
     ctx.clock.advance(HOUR)
     expect(await runDeadlines()).toEqual({ reminders: 0, flagged: 0, expired: 0, toRevert: 0 })
     await deliver()
-    expect(smtp.inbox.filter((m) => m.subject === subject)).toHaveLength(3)
+    expect(mailbox.smtp.inbox.filter((m) => m.subject === subject)).toHaveLength(3)
 
     await signInAll()
     expect((await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body.emergencyFlagged).toBe(true)

@@ -1,17 +1,16 @@
 import type { Express } from 'express'
 import type { ParsedMail } from 'mailparser'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
-import { createMailJob } from '../../server/features/mail/mail.worker.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
 import { buildHeaterTrip, readBackOf, submitChange } from './helpers/factories.ts'
+import { recipients, useFakeSmtp } from './helpers/mail.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
-let smtp: FakeSmtp
+const mailbox = useFakeSmtp(ctx)
 let app: Express
 let eng: ApiAgent
 let approver: ApiAgent
@@ -19,18 +18,13 @@ let approver2: ApiAgent
 let tech: ApiAgent
 
 beforeAll(async () => {
-  smtp = await startFakeSmtp(0, { quiet: true })
   app = createApp(ctx)
   eng = await signedIn(app, 'engineer')
   approver = await signedIn(app, 'approver')
   approver2 = await signedIn(app, 'approver2')
   tech = await signedIn(app, 'technician')
 })
-afterAll(async () => {
-  await smtp?.close()
-})
 
-const recipients = (m: ParsedMail) => (m.to && !Array.isArray(m.to) ? m.to.value.map((a) => a.address ?? '') : [])
 const addr = (who: string) => `${who}@fernhollow.example`
 
 /**
@@ -38,10 +32,7 @@ const addr = (who: string) => `${who}@fernhollow.example`
  * recipient, and checks that exactly those received the subject; answers the mails.
  */
 async function received(subjectStart: string, expected: string[]) {
-  await createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock).runDue(ctx.clock.now())
-  const about = (m: ParsedMail) => (m.subject ?? '').startsWith(subjectStart)
-  for (const who of expected) await smtp.waitFor((m) => about(m) && recipients(m).includes(addr(who)))
-  const mails = smtp.inbox.filter(about)
+  const mails = await mailbox.mailsFor(subjectStart, expected.map(addr))
   expect(mails.flatMap(recipients).sort()).toEqual(expected.map(addr).sort())
   return mails
 }
@@ -71,8 +62,8 @@ describe('change request mail, read from the SMTP server', () => {
 
     await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
     // one of two approvals: nobody is told it is approved yet
-    await createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock).runDue(ctx.clock.now())
-    expect(smtp.inbox.filter((m) => m.subject?.startsWith(`Change request #${cr.id} approved`))).toEqual([])
+    await mailbox.deliver()
+    expect(mailbox.startingWith(`Change request #${cr.id} approved`)).toEqual([])
     await approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
     const [approved] = await received(`Change request #${cr.id} approved: SIL 2 heater trip in service`, ['engineer'])
     expectLinkToRequest(approved, cr.id)

@@ -1,13 +1,10 @@
 import type { Express } from 'express'
-import type { ParsedMail } from 'mailparser'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
 import { createChangeRequestJob } from '../../server/features/change-requests/change-requests.jobs.ts'
-import { createMailJob } from '../../server/features/mail/mail.worker.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import type { ApiAgent } from './helpers/agent.ts'
-import { signedIn } from './helpers/agent.ts'
+import { crewOf } from './helpers/agent.ts'
+import { recipients, useFakeSmtp } from './helpers/mail.ts'
 import { approveChange, buildActiveHeaterTrip, implementChange, submitChange } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -19,26 +16,16 @@ const ctx = useTestDb()
 const HOUR = 3_600_000
 const DAY = 24 * HOUR
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor', 'operator'] as const
-let smtp: FakeSmtp
+const mailbox = useFakeSmtp(ctx)
 let app: Express
-const as = {} as Record<(typeof PEOPLE)[number], ApiAgent>
-
-async function signInAll() {
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
-}
+const { as, signInAll } = crewOf(() => app, PEOPLE)
 
 beforeAll(async () => {
-  smtp = await startFakeSmtp(0, { quiet: true })
   app = createApp(ctx)
   await signInAll()
 })
-afterAll(async () => {
-  await smtp?.close()
-})
 
 const runDeadlines = () => createChangeRequestJob(ctx.db, ctx.config, ctx.clock).runDue(ctx.clock.now())
-const deliver = () => createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock).runDue(ctx.clock.now())
-const recipients = (m: ParsedMail) => (m.to && !Array.isArray(m.to) ? m.to.value.map((a) => a.address ?? '') : [])
 const crew = () => ({ eng: as.engineer, approvers: [as.approver], tech: as.technician })
 
 describe('expired temporary changes', () => {
@@ -80,10 +67,7 @@ describe('expired temporary changes', () => {
     expect(await runDeadlines()).toMatchObject({ toRevert: 1 })
     const subject = `Temporary change #${temp.id} expired`
     const expected = ['engineer@fernhollow.example', 'supervisor@fernhollow.example']
-    await deliver()
-    for (const a of expected)
-      await smtp.waitFor((m) => (m.subject ?? '').startsWith(subject) && recipients(m).includes(a))
-    const first = smtp.inbox.filter((m) => (m.subject ?? '').startsWith(subject))
+    const first = await mailbox.mailsFor(subject, expected)
     expect(first.flatMap(recipients).sort()).toEqual(expected)
     expect(first[0].text).toContain(`${ctx.config.appUrl}/changes/${temp.id}`)
     expect(first[0].text).toContain('expired, to be reverted')
@@ -92,8 +76,8 @@ describe('expired temporary changes', () => {
     expect(await runDeadlines()).toMatchObject({ toRevert: 0 })
     ctx.clock.advance(DAY)
     expect(await runDeadlines()).toMatchObject({ toRevert: 1 })
-    await deliver()
-    await smtp.waitFor(() => smtp.inbox.filter((m) => (m.subject ?? '').startsWith(subject)).length === 4)
+    await mailbox.deliver()
+    await mailbox.smtp.waitFor(() => mailbox.startingWith(subject).length === 4)
 
     // the reversal: a safety engineer of the site, the temporary change's site, every limit of it restored
     await signInAll()

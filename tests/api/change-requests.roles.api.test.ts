@@ -4,7 +4,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
-import { ApiAgent, signedIn } from './helpers/agent.ts'
+import { type ApiAgent, crewOf, DEMO_ACCOUNTS } from './helpers/agent.ts'
 import {
   buildActiveHeaterTrip,
   buildHeaterTrip,
@@ -17,26 +17,16 @@ import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
-const PEOPLE = [
-  'engineer',
-  'approver',
-  'approver2',
-  'technician',
-  'supervisor',
-  'operator',
-  'manager',
-  'auditor',
-  'admin',
-] as const
+const PEOPLE = DEMO_ACCOUNTS
 type Who = (typeof PEOPLE)[number]
 const PSSR = { reference: 'PSSR-2026-201', findings: 'none', readyForService: true }
 
 let app: Express
-const as = {} as Record<Who, ApiAgent>
+const { as, signInAll } = crewOf(() => app, PEOPLE)
 
 beforeAll(async () => {
   app = createApp(ctx)
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
+  await signInAll()
 })
 
 /**

@@ -5,7 +5,7 @@ import { createHash } from 'node:crypto'
 import canonicalize from 'canonicalize'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { seedDemoShiftHandover } from '../../server/seed/demo-shift-handover.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { crewOf } from './helpers/agent.ts'
 import { buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -28,7 +28,7 @@ const PEOPLE = [
 type Who = (typeof PEOPLE)[number]
 
 let app: Express
-const as = {} as Record<Who, ApiAgent>
+const { as, signInAll } = crewOf(() => app, PEOPLE)
 
 interface AreaState {
   area: { id: number; name: string }
@@ -95,7 +95,7 @@ beforeAll(async () => {
   app = createApp(ctx)
   // the other shift's supervisor, as the demo plant's own seed makes them: a handover needs an outgoing and an incoming one
   await seedDemoShiftHandover(ctx.db, ctx.clock)
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
+  await signInAll()
   const crew = { eng: as.engineer, approver: as.approver, tech: as.technician }
   // four heater trips in the first area of FHR (buildHeaterTrip): one bypassed, one degraded, one under a temporary change, one overdue for test
   const a = await buildHeaterTrip(as.engineer)
@@ -195,10 +195,6 @@ beforeAll(async () => {
 const state = async (who: Who, ...areaIds: number[]) =>
   (await as[who].get(`/api/shift-handovers/state?${areaIds.map((a) => `areaId=${a}`).join('&')}`).expect(200))
     .body as State
-
-async function signInAll() {
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
-}
 
 describe('the state of protection of an area for the shift handover', () => {
   it('lists what is bypassed, degraded, overdue for test or never tested, and the open temporary changes', async () => {

@@ -57,3 +57,28 @@ export async function signedIn(app: Express, who: string): Promise<ApiAgent> {
   await a.signIn(`${who}@fernhollow.example`)
   return a
 }
+
+/** The demo plant's accounts by role name (server/seed/demo.ts), all a role test signs in as. */
+export const DEMO_ACCOUNTS = [
+  'engineer',
+  'approver',
+  'approver2',
+  'technician',
+  'supervisor',
+  'operator',
+  'manager',
+  'auditor',
+  'admin',
+] as const
+
+/**
+ * Agents of demo accounts by role name, (re)signed in by `signInAll()`: moving the clock by hours ends the sessions
+ * (idle limit), as it would in the plant. `app` is read at sign-in, so the app may be created in beforeAll.
+ */
+export function crewOf<const P extends readonly string[]>(app: () => Express, people: P) {
+  const as = {} as Record<P[number], ApiAgent>
+  async function signInAll() {
+    for (const who of people as readonly P[number][]) as[who] = await signedIn(app(), who)
+  }
+  return { as, signInAll }
+}
