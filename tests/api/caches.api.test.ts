@@ -9,6 +9,7 @@ import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
 import { buildHeaterTrip } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
+import { until } from './helpers/wait.ts'
 
 // Two app instances on one database, each with its own pool and change feed (docs/architecture.md, "Caches and
 // change notifications"): what one instance changes, the other's caches drop.
@@ -19,14 +20,7 @@ let appB: Express
 let depsB: AppDeps
 
 /** Waits until `check` holds (another instance hears of a change through PostgreSQL, a moment after commit). */
-async function eventually(check: () => Promise<boolean>, what: string, timeoutMs = 15_000) {
-  const end = Date.now() + timeoutMs
-  while (Date.now() < end) {
-    if (await check()) return
-    await new Promise((r) => setTimeout(r, 25))
-  }
-  throw new Error(`timed out waiting until ${what}`)
-}
+const eventually = (check: () => Promise<boolean>, what: string) => until(what, check, 15_000, 25)
 
 const PASSWORD = 'correct-horse-battery'
 

@@ -4,7 +4,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
-import { type ApiAgent, crewOf, DEMO_ACCOUNTS } from './helpers/agent.ts'
+import { ApiAgent, crewOf, DEMO_ACCOUNTS } from './helpers/agent.ts'
 import {
   buildActiveHeaterTrip,
   buildHeaterTrip,

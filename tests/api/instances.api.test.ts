@@ -2,13 +2,15 @@
 // instances"): sessions, sign-in throttling and the job schedule live in PostgreSQL, so either instance serves any
 // request, each scheduled job runs once per due time, and when one instance dies in the middle of a job the other
 // finishes it once the lease has run out.
-import { type ChildProcess, spawn } from 'node:child_process'
+import type { ChildProcess } from 'node:child_process'
 import type { AddressInfo } from 'node:net'
 import pg from 'pg'
 import { SMTPServer } from 'smtp-server'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
+import { exited, startServer } from './helpers/start-process.ts'
 import { useTestDb } from './helpers/test-db.ts'
+import { until } from './helpers/wait.ts'
 
 const ctx = useTestDb()
 const LEASE_SECONDS = 3
@@ -22,10 +24,17 @@ interface Instance {
 }
 
 /** `server/start.ts` against the test database (no local cluster, no migration, no seeding), JSON logs on stdout. */
-function startInstance(name: string, env: Record<string, string>): Promise<Instance> {
-  const child = spawn(process.execPath, ['--import', 'tsx', 'server/start.ts', '--no-build'], {
-    env: {
-      ...process.env,
+async function startInstance(name: string, env: Record<string, string>): Promise<Instance> {
+  const logs: Record<string, unknown>[] = []
+  let pending = ''
+  const onStdout = (text: string) => {
+    pending += text
+    const lines = pending.split('\n')
+    pending = lines.pop() ?? ''
+    for (const l of lines) if (l.startsWith('{')) logs.push(JSON.parse(l) as Record<string, unknown>)
+  }
+  const { child, url } = await startServer(
+    {
       NODE_ENV: 'test',
       DATABASE_URL: ctx.database.appUrl,
       MIGRATION_DATABASE_URL: '',
@@ -39,43 +48,15 @@ function startInstance(name: string, env: Record<string, string>): Promise<Insta
       PGAPPNAME: name,
       ...env,
     },
-    stdio: ['ignore', 'pipe', 'pipe'],
-  })
-  const logs: Record<string, unknown>[] = []
-  let out = ''
-  let pending = ''
-  return new Promise((resolve, reject) => {
-    const onData = (b: Buffer) => {
-      out += b.toString()
-      pending += b.toString()
-      const lines = pending.split('\n')
-      pending = lines.pop() ?? ''
-      for (const l of lines) if (l.startsWith('{')) logs.push(JSON.parse(l) as Record<string, unknown>)
-      const m = /ready at (http:\/\/127\.0\.0\.1:\d+)/.exec(out)
-      if (m) resolve({ name, child, url: m[1], logs })
-    }
-    child.stdout!.on('data', onData)
-    child.stderr!.on('data', (b: Buffer) => (out += b.toString()))
-    child.on('exit', (code) => reject(new Error(`${name} exited with ${code} before it was ready:\n${out}`)))
-  })
+    { onStdout },
+  )
+  return { name, child, url, logs }
 }
 
-function stopInstance(i: Instance): Promise<void> {
-  return new Promise((resolve) => {
-    if (i.child.exitCode !== null || i.child.signalCode !== null) return resolve()
-    i.child.once('exit', () => resolve())
-    i.child.kill('SIGTERM')
-  })
-}
-
-async function until<T>(what: string, probe: () => Promise<T | undefined | false>, timeoutMs = 30_000): Promise<T> {
-  const end = Date.now() + timeoutMs
-  for (;;) {
-    const v = await probe()
-    if (v) return v
-    if (Date.now() > end) throw new Error(`${what}: not reached within ${timeoutMs} ms`)
-    await new Promise((r) => setTimeout(r, 100))
-  }
+async function stopInstance(i: Instance): Promise<void> {
+  const stopped = exited(i.child)
+  i.child.kill('SIGTERM')
+  await stopped
 }
 
 /** A browser-like client: one cookie jar, the CSRF token on every write, sent to whichever instance is named. */

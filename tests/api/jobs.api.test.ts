@@ -3,6 +3,7 @@ import { AdjustableClock, type DueJob } from '../../server/clock.ts'
 import { createDb, type Db } from '../../server/db/index.ts'
 import { JobScheduler, LEASE_MS } from '../../server/jobs/scheduler.ts'
 import { useTestDb } from './helpers/test-db.ts'
+import { until } from './helpers/wait.ts'
 
 const ctx = useTestDb({ seed: false })
 
@@ -181,7 +182,7 @@ describe('JobScheduler', () => {
     const a = new JobScheduler(aDb, clock, [hung], () => {})
     await a.register()
     void a.tick()
-    await until(async () => runs.length === 1)
+    await until('the first instance ran the job', async () => runs.length === 1, 20_000, 20)
     await aDb.destroy() // the dead instance renews nothing more
     const b = new JobScheduler(ctx.db, clock, [
       { name: 'test.crash', intervalSec: 600, runDue: async () => void runs.push('b') },
@@ -206,10 +207,13 @@ describe('JobScheduler', () => {
     await c.register()
     const running = c.tick()
     const started = clock.now().getTime()
-    await until(async () => (await schedule('test.renewed')).locked_until !== null)
+    await until('the job leased', async () => (await schedule('test.renewed')).locked_until !== null, 20_000, 20)
     clock.advance(LEASE_MS + 5_000) // past the first lease: only a renewal keeps it
     await until(
+      'the lease renewed',
       async () => ((await schedule('test.renewed')).locked_until?.getTime() ?? 0) > started + LEASE_MS + 5_000,
+      20_000,
+      20,
     )
     const d = new JobScheduler(ctx.db, clock, [
       { name: 'test.renewed', intervalSec: 600, runDue: async () => void runs.push('d') },
@@ -221,11 +225,3 @@ describe('JobScheduler', () => {
     expect(await schedule('test.renewed')).toMatchObject({ locked_until: null, lease_owner: null })
   })
 })
-
-async function until(cond: () => Promise<boolean>, timeoutMs = 20_000) {
-  const end = Date.now() + timeoutMs
-  while (!(await cond())) {
-    if (Date.now() > end) throw new Error('condition not met in time')
-    await new Promise((r) => setTimeout(r, 20))
-  }
-}

@@ -13,6 +13,7 @@ import { createReadStandby, type ReadStandby } from '../../server/db/read-standb
 import { ApiAgent, signedIn } from './helpers/agent.ts'
 import { buildHeaterTrip } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
+import { until } from './helpers/wait.ts'
 import { freePort } from '../../server/dev/free-port.ts'
 
 const run = promisify(execFile)
@@ -59,14 +60,6 @@ afterAll(async () => {
   await run('bash', ['server/db/pg.sh', 'stop'], { env }).catch(() => {})
   if (dir) await rm(dir, { recursive: true, force: true })
 })
-
-async function until(what: string, probe: () => Promise<boolean>, timeoutMs = 30_000) {
-  const end = Date.now() + timeoutMs
-  while (!(await probe())) {
-    if (Date.now() > end) throw new Error(`${what}: not reached within ${timeoutMs} ms`)
-    await new Promise((r) => setTimeout(r, 100))
-  }
-}
 
 const registerTags = async (q: string, view = 'full') =>
   (

@@ -1,31 +1,21 @@
 import { describe, expect, it } from 'vitest'
-import { createAppAbility, defineRulesFor } from '../../../../shared/abilities/index.ts'
 import {
   type ChangeRuleRecord,
   changeRequestRules,
   changeReviewRules,
   missingReviews,
 } from '../../../../shared/domain/rules/change-requests.ts'
-import { DISCIPLINES, type Discipline, IMPACT_CHECKLIST } from '../../../../shared/schemas/change-requests.ts'
+import { DISCIPLINES, type Discipline } from '../../../../shared/schemas/change-requests.ts'
 import type { Role } from '../../../../shared/schemas/users.ts'
+import { actorsOf, changeRecord, COMMON_PEOPLE, NOW, sig } from './change-request-fixtures.ts'
 
 // Discipline reviews of a change request (docs/change-requests.md#discipline-reviews), against the tables written by
 // hand below. Who reviews which discipline (operations: shift supervisor; process: safety engineer; instrumentation:
 // control engineer or technician), that reviewers sign before the approver, and that reviewers are independent of
 // the proposer, the editors and the approvers, are common practice, not clauses of a standard; OSHA 1910.119(l) asks
 // that the technical basis and the impact on safety and health be considered before the change (from memory).
-const NOW = new Date('2026-06-01T10:00:00Z')
-const SITE = 1
-
 const PEOPLE: Record<string, { id: number; roles: Role[] }> = {
-  engineer: { id: 1, roles: ['safety_engineer'] },
-  engineer2: { id: 9, roles: ['safety_engineer'] },
-  approver: { id: 2, roles: ['approver'] },
-  technician: { id: 3, roles: ['technician'] },
-  supervisor: { id: 4, roles: ['shift_supervisor'] },
-  operator: { id: 5, roles: ['operator'] },
-  control: { id: 6, roles: ['control_engineer'] },
-  auditor: { id: 7, roles: ['auditor'] },
+  ...COMMON_PEOPLE,
   manager: { id: 8, roles: ['plant_manager'] },
   approverSupervisor: { id: 10, roles: ['approver', 'shift_supervisor'] },
   supervisorTech: { id: 11, roles: ['shift_supervisor', 'technician'] },
@@ -33,37 +23,16 @@ const PEOPLE: Record<string, { id: number; roles: Role[] }> = {
   elsewhere: { id: 13, roles: [] },
 }
 type Who = keyof typeof PEOPLE
-const actor = (who: Who) => {
-  const p = PEOPLE[who]
-  const roles = p.roles.map((role) => ({ siteId: SITE, role }))
-  if (who === 'elsewhere')
-    roles.push(
-      { siteId: 2, role: 'safety_engineer' },
-      { siteId: 2, role: 'shift_supervisor' },
-      { siteId: 2, role: 'technician' },
-    )
-  return { id: p.id, ability: createAppAbility(defineRulesFor({ id: p.id, roles })) }
-}
-const sig = (userId: number, meaning: string, voided = false) => ({ userId, meaning, voided })
+const actor = actorsOf(PEOPLE, ['safety_engineer', 'shift_supervisor', 'technician'])
 
-function record(over: Partial<ChangeRuleRecord>): ChangeRuleRecord {
-  return {
-    siteId: SITE,
-    type: 'permanent',
+/** A submitted request needing all three reviews, edited by its proposer and by "editor". */
+const record = (over: Partial<ChangeRuleRecord>) =>
+  changeRecord({
     status: 'submitted',
-    proposerId: 1,
     editorIds: [1, 12],
-    approvedAt: null,
-    approvalExpiresAt: null,
-    expiresAt: null,
-    reversals: [],
-    items: [{ id: 11, kind: 'modify', implementedAt: null, stale: false }],
-    signatures: [],
-    checklist: IMPACT_CHECKLIST.map((c) => ({ item: c.item, label: c.label, group: c.group, doneAt: null })),
     reviewsRequired: ['operations', 'process', 'instrumentation'],
     ...over,
-  }
-}
+  })
 const allowedReviews = (cr: ChangeRuleRecord, who: Who) => {
   const rules = changeReviewRules(cr, actor(who))
   return DISCIPLINES.filter((d) => rules[d].allowed)

@@ -1,5 +1,4 @@
 import { describe, expect, it } from 'vitest'
-import { createAppAbility, defineRulesFor } from '../../../../shared/abilities/index.ts'
 import {
   CHANGE_ACTIONS,
   type ChangeAction,
@@ -9,59 +8,18 @@ import {
   temporaryState,
 } from '../../../../shared/domain/rules/change-requests.ts'
 import type { Role } from '../../../../shared/schemas/users.ts'
-import { IMPACT_CHECKLIST } from '../../../../shared/schemas/change-requests.ts'
+import { actorsOf, changeRecord, checklist, COMMON_PEOPLE, NOW, sig } from './change-request-fixtures.ts'
 
 // The rule book of management of change, state × role, against the table written by hand below
 // (docs/change-requests.md#the-rule-book). Sources of the rules: OSHA 1910.119(l) and (i) for the order of work,
 // IEC 61511-1 independence of the approver (from memory), separation of duties as common practice.
-const NOW = new Date('2026-06-01T10:00:00Z')
-const SITE = 1
-
 const PEOPLE: Record<string, { id: number; roles: Role[] }> = {
-  engineer: { id: 1, roles: ['safety_engineer'] },
-  engineer2: { id: 9, roles: ['safety_engineer'] },
-  approver: { id: 2, roles: ['approver'] },
-  technician: { id: 3, roles: ['technician'] },
-  supervisor: { id: 4, roles: ['shift_supervisor'] },
-  operator: { id: 5, roles: ['operator'] },
-  control: { id: 6, roles: ['control_engineer'] },
-  auditor: { id: 7, roles: ['auditor'] },
+  ...COMMON_PEOPLE,
   elsewhere: { id: 8, roles: [] },
   approverTech: { id: 10, roles: ['approver', 'technician'] },
 }
-const actor = (who: keyof typeof PEOPLE) => {
-  const p = PEOPLE[who]
-  const roles = p.roles.map((role) => ({ siteId: SITE, role }))
-  if (who === 'elsewhere') roles.push({ siteId: 2, role: 'safety_engineer' }, { siteId: 2, role: 'approver' })
-  return { id: p.id, ability: createAppAbility(defineRulesFor({ id: p.id, roles })) }
-}
-
-const checklist = (done: 'none' | 'before' | 'all') =>
-  IMPACT_CHECKLIST.map((c) => ({
-    item: c.item,
-    label: c.label,
-    group: c.group,
-    doneAt: done === 'all' || (done === 'before' && c.group === 'before') ? '2026-05-30T10:00:00Z' : null,
-  }))
-const sig = (userId: number, meaning: string) => ({ userId, meaning, voided: false })
-
-function record(over: Partial<ChangeRuleRecord>): ChangeRuleRecord {
-  return {
-    siteId: SITE,
-    type: 'permanent',
-    status: 'draft',
-    proposerId: 1,
-    editorIds: [],
-    approvedAt: null,
-    approvalExpiresAt: null,
-    expiresAt: null,
-    reversals: [],
-    items: [{ id: 11, kind: 'modify', implementedAt: null, stale: false }],
-    signatures: [],
-    checklist: checklist('none'),
-    ...over,
-  }
-}
+const actor = actorsOf(PEOPLE, ['safety_engineer', 'approver'])
+const record = changeRecord
 
 const STATES: Record<string, ChangeRuleRecord> = {
   draft: record({}),
