@@ -1,0 +1,73 @@
+import type { Ref } from 'vue'
+
+// Field rows described as data: a view lists its fields (a label, a kind, where the value lives in its form) and
+// AppFieldRows renders them, each with the messages of its key. The builders read and write the view's own reactive
+// form, so the rows hold no state of their own.
+
+export type FieldKind = 'text' | 'number' | 'textarea' | 'select' | 'autocomplete' | 'combobox' | 'switch'
+
+export interface FieldOptions {
+  /** Grid width on medium screens and up (of 12); 4 unless said. */
+  md?: number
+  /** Grid width on small screens (of 12); 12 unless said. */
+  cols?: number
+  suffix?: string
+  hint?: string
+  persistentHint?: boolean
+  placeholder?: string
+  /** The phone keyboard of a number field: 'decimal' unless said. */
+  inputmode?: 'decimal' | 'numeric'
+  disabled?: boolean
+  clearable?: boolean
+  hideDetails?: boolean
+  /** Whether the field is shown at all (true unless said). */
+  show?: boolean
+  /** data-test of the field. */
+  test?: string
+  /** Further keys whose messages the field shows (e.g. `signal` for `signal.kind`). */
+  alsoErrorsOf?: string[]
+}
+
+export interface FieldSpec extends FieldOptions {
+  key: string
+  label: string
+  kind: FieldKind
+  items?: readonly unknown[]
+  value: unknown
+  set: (value: unknown) => void
+  errors: string[]
+}
+
+/** Builders of field specs over a view's reactive form and its field messages (keyed by dotted path). */
+export function useFormFields<F extends object>(form: F, errors: Ref<Record<string, string[]>>) {
+  type Key = Extract<keyof F, string>
+  const messages = (keys: string[]) => keys.flatMap((k) => errors.value[k] ?? [])
+  const field = (kind: FieldKind, key: Key, label: string, o: FieldOptions = {}, items?: readonly unknown[]) =>
+    ({
+      ...o,
+      kind,
+      key,
+      label,
+      items,
+      value: form[key],
+      set: (v: unknown) => {
+        form[key] = v as F[Key]
+      },
+      errors: messages([key, ...(o.alsoErrorsOf ?? [])]),
+    }) satisfies FieldSpec
+  return {
+    /** The messages of one key, for a field the view renders itself. */
+    err: (key: string) => messages([key]),
+    text: (key: Key, label: string, o?: FieldOptions) => field('text', key, label, o),
+    /** A number typed as text (the schema parses it), with the decimal keyboard on phones. */
+    number: (key: Key, label: string, o?: FieldOptions) => field('number', key, label, { inputmode: 'decimal', ...o }),
+    textarea: (key: Key, label: string, o?: FieldOptions) => field('textarea', key, label, { md: 12, ...o }),
+    select: (key: Key, label: string, items: readonly unknown[], o?: FieldOptions) =>
+      field('select', key, label, o, items),
+    autocomplete: (key: Key, label: string, items: readonly unknown[], o?: FieldOptions) =>
+      field('autocomplete', key, label, o, items),
+    combobox: (key: Key, label: string, items: readonly unknown[], o?: FieldOptions) =>
+      field('combobox', key, label, o, items),
+    toggle: (key: Key, label: string, o?: FieldOptions) => field('switch', key, label, o),
+  }
+}
