@@ -7,7 +7,7 @@ import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
 // record-form composable (useRecordForm). These checks pin what a user sees and what the API receives; the expected
 // bodies follow the shared instrument schema (shared/schemas/register.ts).
 
-const ENGINEER = { id: 7, roles: [{ siteId: FHR.id, role: 'engineer' as const }] }
+const ENGINEER = { id: 7, roles: [{ siteId: FHR.id, role: 'safety_engineer' as const }] }
 
 const RTD: InstrumentRecord = {
   id: 9,
