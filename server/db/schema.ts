@@ -550,7 +550,16 @@ export interface ShiftHandoverAreaTable {
 }
 
 export type AlarmUploadStatus = 'queued' | 'running' | 'done' | 'failed'
-export interface AlarmJournalUploadTable {
+/** The columns both bulk uploads of the alarms feature (journal, process data) keep about a load's outcome. */
+interface UploadOutcomeColumns {
+  error: string | null
+  first_at: Timestamp | null
+  last_at: Timestamp | null
+  file_path: string | null
+  created_at: Timestamp
+  finished_at: Timestamp | null
+}
+export interface AlarmJournalUploadTable extends UploadOutcomeColumns {
   id: Generated<number>
   site_id: number
   created_by: number
@@ -568,12 +577,6 @@ export interface AlarmJournalUploadTable {
   unmatched_tags: ColumnType<string[], string | undefined, string>
   unmatched_tag_count: Generated<number>
   duplicate_of: number | null
-  error: string | null
-  first_at: Timestamp | null
-  last_at: Timestamp | null
-  file_path: string | null
-  created_at: Timestamp
-  finished_at: Timestamp | null
 }
 export interface AlarmEventTable {
   site_id: number
@@ -604,7 +607,7 @@ export interface AlarmStateTable {
   ended_at: Timestamp | null
   end_note: string | null
 }
-export interface ProcessDataUploadTable {
+export interface ProcessDataUploadTable extends UploadOutcomeColumns {
   id: Generated<number>
   site_id: number
   instrument_id: number | null
@@ -618,12 +621,6 @@ export interface ProcessDataUploadTable {
   samples_stored: Generated<number>
   rows_rejected: Generated<number>
   rejections: ColumnType<{ row: number; message: string }[], string | undefined, string>
-  error: string | null
-  first_at: Timestamp | null
-  last_at: Timestamp | null
-  file_path: string | null
-  created_at: Timestamp
-  finished_at: Timestamp | null
 }
 export interface ProcessSampleTable {
   upload_id: number

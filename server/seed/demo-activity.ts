@@ -200,14 +200,10 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
       })
       await submitChangeRequest(deps, eng.ability, eng.ctx, id)
       if (i === 1)
-        await approveChangeRequest(
-          deps,
-          approver.ability,
-          approver.ctx,
-          id,
-          DEMO_PASSWORD,
-          'Agreed with the rationalization record',
-        )
+        await approveChangeRequest(deps, approver.ability, approver.ctx, id, {
+          password: DEMO_PASSWORD,
+          comment: 'Agreed with the rationalization record',
+        })
     } catch (err) {
       // a demo change that does not fit its window is simply not seeded
       logger.warn({ component: 'seed', tag: l.tag, err }, 'demo change skipped')

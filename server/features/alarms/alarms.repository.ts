@@ -46,33 +46,33 @@ export async function rememberJournalMapping(db: Q, userId: number, mapping: Rec
     .execute()
 }
 
+/** What every upload is stored with: who sent which file for which site, its time zone and where it waits. */
+interface NewUpload {
+  siteId: number
+  userId: number
+  fileName: string
+  timeZone: string
+  filePath: string
+  now: Date
+}
+const uploadColumns = (v: NewUpload) => ({
+  site_id: v.siteId,
+  created_by: v.userId,
+  file_name: v.fileName,
+  time_zone: v.timeZone,
+  file_path: v.filePath,
+  created_at: v.now,
+})
+
 // ---- journal uploads ----
 
 export async function insertJournalUpload(
   db: Q,
-  v: {
-    siteId: number
-    userId: number
-    fileName: string
-    fileKind: 'csv' | 'xlsx'
-    timeZone: string
-    mapping: Record<string, string>
-    filePath: string
-    now: Date
-  },
+  v: NewUpload & { fileKind: 'csv' | 'xlsx'; mapping: Record<string, string> },
 ) {
   const row = await db
     .insertInto('alarm_journal_upload')
-    .values({
-      site_id: v.siteId,
-      created_by: v.userId,
-      file_name: v.fileName,
-      file_kind: v.fileKind,
-      time_zone: v.timeZone,
-      mapping: JSON.stringify(v.mapping),
-      file_path: v.filePath,
-      created_at: v.now,
-    })
+    .values({ ...uploadColumns(v), file_kind: v.fileKind, mapping: JSON.stringify(v.mapping) })
     .returning('id')
     .executeTakeFirstOrThrow()
   return row.id
@@ -485,29 +485,10 @@ export async function changeRequestSite(q: Q, id: number) {
 
 // ---- process data ----
 
-export async function insertReplayUpload(
-  db: Q,
-  v: {
-    siteId: number
-    instrumentId: number | null
-    userId: number
-    fileName: string
-    timeZone: string
-    filePath: string
-    now: Date
-  },
-) {
+export async function insertReplayUpload(db: Q, v: NewUpload & { instrumentId: number | null }) {
   const r = await db
     .insertInto('process_data_upload')
-    .values({
-      site_id: v.siteId,
-      instrument_id: v.instrumentId,
-      created_by: v.userId,
-      file_name: v.fileName,
-      time_zone: v.timeZone,
-      file_path: v.filePath,
-      created_at: v.now,
-    })
+    .values({ ...uploadColumns(v), instrument_id: v.instrumentId })
     .returning('id')
     .executeTakeFirstOrThrow()
   return r.id

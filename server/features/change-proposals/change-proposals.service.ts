@@ -104,14 +104,7 @@ export async function createProposal(
 }
 
 /** Locks the proposal and enforces the rule book's answer. */
-async function guard(
-  deps: AppDeps,
-  ability: AppAbility,
-  ctx: AuditContext,
-  trx: Trx,
-  id: number,
-  action: ProposalAction,
-) {
+async function guard(ability: AppAbility, ctx: AuditContext, trx: Trx, id: number, action: ProposalAction) {
   const row = await repo.findProposal(trx, id, true)
   if (!row) throw notFound('Change proposal')
   ensureVisible(ability, 'ChangeProposal', { siteId: row.site_id }, 'Change proposal')
@@ -131,7 +124,7 @@ export async function takeUpInTransaction(
   id: number,
   changeRequestId: number,
 ) {
-  const row = await guard(deps, ability, ctx, trx, id, 'takeUp')
+  const row = await guard(ability, ctx, trx, id, 'takeUp')
   const cr = await repo.requestForTakeUp(trx, changeRequestId)
   if (!cr || cr.site_id !== row.site_id)
     throw validationFailed({ changeRequestId: ['Choose a change request of the same site'] })
@@ -166,7 +159,7 @@ export async function declineProposal(
   reason: string,
 ) {
   await deps.db.transaction().execute(async (trx) => {
-    const row = await guard(deps, ability, ctx, trx, id, 'decline')
+    const row = await guard(ability, ctx, trx, id, 'decline')
     await repo.decideProposal(trx, id, {
       status: 'declined',
       by: ctx.actorId!,

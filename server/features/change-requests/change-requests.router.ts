@@ -72,7 +72,7 @@ export function createChangeRequestsRouter(deps: AppDeps) {
   })
   router.post('/:id/approvals', async (req, res) => {
     const b = SignInputSchema.parse(req.body)
-    res.json(await service.approveChangeRequest(deps, req.ability, req.audit, id(req.params.id), b.password, b.comment))
+    res.json(await service.approveChangeRequest(deps, req.ability, req.audit, id(req.params.id), b))
   })
   router.post('/:id/reviews', async (req, res) => {
     const b = ReviewInputSchema.parse(req.body)
@@ -80,7 +80,7 @@ export function createChangeRequestsRouter(deps: AppDeps) {
   })
   router.post('/:id/rejections', async (req, res) => {
     const b = RejectInputSchema.parse(req.body)
-    res.json(await service.rejectChangeRequest(deps, req.ability, req.audit, id(req.params.id), b.password, b.comment))
+    res.json(await service.rejectChangeRequest(deps, req.ability, req.audit, id(req.params.id), b))
   })
   router.post('/:id/implementations', async (req, res) => {
     res.json(

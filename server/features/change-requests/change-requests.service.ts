@@ -762,18 +762,40 @@ async function precheck(deps: AppDeps, ability: AppAbility, ctx: AuditContext, i
   if (!v.allowed && v.status === 403) enforce(v)
 }
 
+/**
+ * A signed action on the request: the rule book first (precheck), then the signature password, then the rule book
+ * again under the row lock and `work` in that transaction; answers the request as it now stands.
+ */
+async function signedAction(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+  action: ChangeAction,
+  password: string,
+  work: (
+    trx: Trx,
+    row: Awaited<ReturnType<typeof guard>>['row'],
+    signer: { id: number; name: string },
+  ) => Promise<void>,
+) {
+  await precheck(deps, ability, ctx, id, action)
+  const signer = await verifySignaturePassword(deps, ctx.actorId!, password, ctx, { entityType: ENTITY, entityId: id })
+  await deps.db.transaction().execute(async (trx) => {
+    const { row } = await guard(deps, ability, ctx, trx, id, action)
+    await work(trx, row, signer)
+  })
+  return getChangeRequest(deps, ability, id)
+}
+
 export async function approveChangeRequest(
   deps: AppDeps,
   ability: AppAbility,
   ctx: AuditContext,
   id: number,
-  password: string,
-  comment: string,
+  { password, comment }: { password: string; comment: string },
 ) {
-  await precheck(deps, ability, ctx, id, 'approve')
-  const signer = await verifySignaturePassword(deps, ctx.actorId!, password, ctx, { entityType: ENTITY, entityId: id })
-  await deps.db.transaction().execute(async (trx) => {
-    const { row } = await guard(deps, ability, ctx, trx, id, 'approve')
+  return signedAction(deps, ability, ctx, id, 'approve', password, async (trx, row, signer) => {
     const signed = await signRequest(trx, deps, signer, row, 'approved', comment)
     const held = await repo.countApprovals(trx, id)
     const complete = held >= row.approvals_required
@@ -805,7 +827,6 @@ export async function approveChangeRequest(
       )
     }
   })
-  return getChangeRequest(deps, ability, id)
 }
 
 /**
@@ -847,13 +868,9 @@ export async function rejectChangeRequest(
   ability: AppAbility,
   ctx: AuditContext,
   id: number,
-  password: string,
-  comment: string,
+  { password, comment }: { password: string; comment: string },
 ) {
-  await precheck(deps, ability, ctx, id, 'reject')
-  const signer = await verifySignaturePassword(deps, ctx.actorId!, password, ctx, { entityType: ENTITY, entityId: id })
-  await deps.db.transaction().execute(async (trx) => {
-    const { row } = await guard(deps, ability, ctx, trx, id, 'reject')
+  return signedAction(deps, ability, ctx, id, 'reject', password, async (trx, row, signer) => {
     const signed = await signRequest(trx, deps, signer, row, 'rejected', comment)
     await repo.updateRequest(trx, id, { status: 'rejected', updated_at: deps.clock.now(), version: row.version + 1 })
     await appendAudit(trx, deps.clock, ctx, {
@@ -871,7 +888,6 @@ export async function rejectChangeRequest(
       id,
     )
   })
-  return getChangeRequest(deps, ability, id)
 }
 
 type ItemForReadBack = {
