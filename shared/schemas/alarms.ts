@@ -1,7 +1,7 @@
 import { z } from 'zod'
 import { ALARM_EVENT_KINDS, JOURNAL_PRIORITIES } from '../domain/alarm-figures.ts'
 import { ALARM_STATE_KINDS, ALARM_STATE_STATUSES, DEFAULT_ALARM_STATE_POLICY } from '../domain/rules/alarm-states.ts'
-import { IdSchema, ListQuerySchema } from './common.ts'
+import { IdSchema, isKnownTimeZone, jsonFormField, ListQuerySchema } from './common.ts'
 
 // Alarm journals, alarm-system figures, alarm states and replays (docs/alarms.md, docs/api.md).
 
@@ -39,29 +39,9 @@ const timeZone = z
   .string()
   .trim()
   .min(1, 'Choose the time zone of the file')
-  .refine(
-    (tz) => {
-      try {
-        new Intl.DateTimeFormat('en', { timeZone: tz })
-        return true
-      } catch {
-        return false
-      }
-    },
-    { message: 'Unknown time zone (use an IANA name such as Europe/Vienna, or UTC)' },
-  )
+  .refine(isKnownTimeZone, { message: 'Unknown time zone (use an IANA name such as Europe/Vienna, or UTC)' })
 
-const jsonText = z
-  .string()
-  .max(50_000)
-  .transform((s, ctx) => {
-    try {
-      return JSON.parse(s) as unknown
-    } catch {
-      ctx.addIssue({ code: 'custom', message: 'The mapping must be a JSON object (file header → column key)' })
-      return z.NEVER
-    }
-  })
+const jsonText = jsonFormField('The mapping must be a JSON object (file header → column key)')
 
 // ---- alarm journals ----
 

@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { IdSchema, ListQuerySchema, type ListResult, repeated } from './common.ts'
+import { IdSchema, ListQuerySchema, type ListResult, repeated, type SignatureBase } from './common.ts'
 
 /**
  * The discipline reviews a site policy may ask of a change request (docs/change-requests.md#discipline-reviews):
@@ -180,13 +180,7 @@ export const ChecklistInputSchema = z
   })
 export type ChecklistInput = z.infer<typeof ChecklistInputSchema>
 
-export interface SignatureDto {
-  id: number
-  userId: number
-  name: string
-  meaning: string
-  at: string
-  contentHash: string
+export interface SignatureDto extends SignatureBase {
   comment: string
   itemId: number | null
   voided: boolean

@@ -101,6 +101,58 @@ export const DecimalSchema = z
   .transform((v) => (typeof v === 'number' ? String(v) : v))
   .refine((v) => /^-?\d+(\.\d+)?([eE][-+]?\d+)?$/.test(v) && Number.isFinite(Number(v)), { message: 'Enter a number' })
 
+/** A number typed as a number or a numeric string (no exponent), as a JS number. */
+export const NumberInputSchema = z
+  .union([
+    z.number(),
+    z
+      .string()
+      .trim()
+      .regex(/^-?\d+(\.\d+)?$/, 'Enter a number'),
+  ])
+  .transform(Number)
+  .refine(Number.isFinite, 'Enter a number')
+
+/** An optional NumberInputSchema: missing, null and the empty string all mean null. */
+export const OptionalNumberInputSchema = z
+  .union([NumberInputSchema, z.null(), z.literal('').transform(() => null)])
+  .optional()
+  .transform((v) => v ?? null)
+
+/** True when the runtime knows the IANA time zone name. */
+export function isKnownTimeZone(tz: string): boolean {
+  try {
+    new Intl.DateTimeFormat('en', { timeZone: tz })
+    return true
+  } catch {
+    return false
+  }
+}
+
+/** A multipart form field holding JSON (form fields are strings); `message` says what the JSON must be. */
+export const jsonFormField = (message: string) =>
+  z
+    .string()
+    .max(50_000)
+    .transform((s, ctx) => {
+      try {
+        return JSON.parse(s) as unknown
+      } catch {
+        ctx.addIssue({ code: 'custom', message })
+        return z.NEVER
+      }
+    })
+
+/** What the API says of every signature on a record: who signed, with what meaning, when, over which content. */
+export interface SignatureBase {
+  id: number
+  userId: number
+  name: string
+  meaning: string
+  at: string
+  contentHash: string
+}
+
 /**
  * Parses a partial update and keeps only the keys the caller sent: zod applies `.default()` values even inside
  * `.partial()`, which would silently reset fields a PATCH did not mention.

@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { IdSchema } from './common.ts'
+import { IdSchema, jsonFormField } from './common.ts'
 import { REGISTER_COLUMNS, type RegisterColumnKey } from './register-io.ts'
 
 // The register import (`/api/imports`): upload a CSV or XLSX file in the register file layout (REGISTER_COLUMNS),
@@ -35,17 +35,7 @@ export const ImportMappingSchema = columnMappingSchema(REGISTER_COLUMN_KEYS, 're
 export type ImportMapping = z.infer<typeof ImportMappingSchema>
 
 /** A multipart form field holding JSON (the mapping). */
-const jsonText = z
-  .string()
-  .max(50_000)
-  .transform((s, ctx) => {
-    try {
-      return JSON.parse(s) as unknown
-    } catch {
-      ctx.addIssue({ code: 'custom', message: 'The mapping must be a JSON object (file header → column key)' })
-      return z.NEVER
-    }
-  })
+const jsonText = jsonFormField('The mapping must be a JSON object (file header → column key)')
 
 /** The text fields sent with an import's file (multipart form fields are strings), for a layout's mapping schema. */
 export function uploadFieldsSchema<M extends z.ZodType>(mapping: M) {

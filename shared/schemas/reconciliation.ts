@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { DecimalSchema, IdSchema, ListQuerySchema, repeated } from './common.ts'
+import { DecimalSchema, IdSchema, jsonFormField, ListQuerySchema, repeated } from './common.ts'
 
 // Reconciliation of the register with the plant (docs/reconciliation.md): sources (configuration exports, live
 // Modbus TCP devices read only), runs and findings.
@@ -204,17 +204,7 @@ export const RunNowInputSchema = z.object({}).strict()
 
 /** The text fields sent with an export upload (multipart form fields are strings). */
 export const ExportUploadFieldsSchema = z.object({
-  mapping: z
-    .string()
-    .max(50_000)
-    .transform((s, ctx) => {
-      try {
-        return JSON.parse(s) as unknown
-      } catch {
-        ctx.addIssue({ code: 'custom', message: 'The mapping must be a JSON object (file header → column)' })
-        return z.NEVER
-      }
-    })
+  mapping: jsonFormField('The mapping must be a JSON object (file header → column)')
     .pipe(ExportMappingSchema)
     .optional(),
 })

@@ -1,25 +1,13 @@
 import { z } from 'zod'
-import { IdSchema, PageSchema, pageSizeOf, repeated } from './common.ts'
+import { IdSchema, NumberInputSchema, OptionalNumberInputSchema, PageSchema, pageSizeOf, repeated } from './common.ts'
 import { structuralClassificationErrors } from '../domain/priority.ts'
 import { ROLES } from './users.ts'
 
 // The register's resources (docs/register.md). Decimal inputs are accepted as numbers or numeric strings and stored
 // exactly as PostgreSQL numeric; answers carry them as JSON numbers.
 
-const num = z
-  .union([
-    z.number(),
-    z
-      .string()
-      .trim()
-      .regex(/^-?\d+(\.\d+)?$/, 'Enter a number'),
-  ])
-  .transform(Number)
-  .refine(Number.isFinite, 'Enter a number')
-const optNum = z
-  .union([num, z.null(), z.literal('').transform(() => null)])
-  .optional()
-  .transform((v) => v ?? null)
+const num = NumberInputSchema
+const optNum = OptionalNumberInputSchema
 const text = (max = 500) => z.string().trim().max(max)
 
 /** Limit classes: an alarm asks the operator to act, an alert only informs, a trip acts by itself. */

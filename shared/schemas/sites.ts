@@ -3,6 +3,7 @@ import { checkPriorityMatrix, DEFAULT_ALARM_PHILOSOPHY, DEFAULT_PRIORITY_MATRIX 
 import { AlarmPolicySchema, DEFAULT_ALARM_POLICY } from './alarms.ts'
 import { DISCIPLINES } from './change-requests.ts'
 import { RoleSchema } from './users.ts'
+import { isKnownTimeZone } from './common.ts'
 
 const cell = z.enum(['low', 'medium', 'high', 'critical', 'alert'])
 /** The alarm priority matrix: severity rows × time-to-respond columns (docs/domain/alarm-classification.md). */
@@ -97,17 +98,9 @@ export type SitePolicy = z.infer<typeof SitePolicySchema>
 /** The default policy of a new site. */
 export const DEFAULT_SITE_POLICY: SitePolicy = SitePolicySchema.parse({})
 
-const timeZone = z.string().refine(
-  (tz) => {
-    try {
-      new Intl.DateTimeFormat('en', { timeZone: tz })
-      return true
-    } catch {
-      return false
-    }
-  },
-  { message: 'Unknown time zone (use an IANA name such as Europe/Vienna)' },
-)
+const timeZone = z
+  .string()
+  .refine(isKnownTimeZone, { message: 'Unknown time zone (use an IANA name such as Europe/Vienna)' })
 
 export const SiteSchema = z.object({
   id: z.number().int(),

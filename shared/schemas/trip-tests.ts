@@ -2,22 +2,17 @@ import { z } from 'zod'
 import type { TestDueStatus } from '../domain/due-dates.ts'
 import type { TripTestAction } from '../domain/rules/trip-tests.ts'
 import type { Verdict } from '../domain/rules/verdict.ts'
-import { IdSchema, PageSchema, repeated } from './common.ts'
+import {
+  IdSchema,
+  NumberInputSchema,
+  OptionalNumberInputSchema,
+  PageSchema,
+  repeated,
+  type SignatureBase,
+} from './common.ts'
 
-const num = z
-  .union([
-    z.number(),
-    z
-      .string()
-      .trim()
-      .regex(/^-?\d+(\.\d+)?$/, 'Enter a number'),
-  ])
-  .transform(Number)
-  .refine(Number.isFinite, 'Enter a number')
-const optNum = z
-  .union([num, z.null(), z.literal('').transform(() => null)])
-  .optional()
-  .transform((v) => v ?? null)
+const num = NumberInputSchema
+const optNum = OptionalNumberInputSchema
 const optBool = z.boolean().nullable().default(null)
 
 export const TEST_METHODS = ['injection', 'process', 'setpoint_lowered', 'reference_gauge'] as const
@@ -501,15 +496,7 @@ export interface TripTestDto {
   testerName: string | null
   /** the history import that brought it (its file name and SHA-256 are in the audit trail) */
   importBatchId: number | null
-  signatures: {
-    id: number
-    userId: number
-    name: string
-    meaning: string
-    at: string
-    contentHash: string
-    matchesContent: boolean
-  }[]
+  signatures: (SignatureBase & { matchesContent: boolean })[]
   attachments: { id: number; fileName: string; contentType: string; sizeBytes: number }[]
   createdAt: string
   /** the rule book's answers for the caller (shared/domain/rules/trip-tests.ts, tripTestActions) */
