@@ -5,7 +5,7 @@ import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.j
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { sifPfd, type Subsystem } from '../../shared/domain/sif-reliability.ts'
 import { crewOf } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE, heaterThermocouple } from './helpers/factories.ts'
+import { buildHeaterTrip, ACTIVATE, heaterThermocouple, heaterTrip } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -104,24 +104,16 @@ async function silLimit(sil: 1 | 2 | 3, subsystems: Subsystem[], channels = 1) {
   }
   const limit = (
     await eng
-      .post('/api/limits', {
-        processId: proc.id,
-        instrumentIds: instruments.map((i) => i.id),
-        tag: `TZHH-S${n}`,
-        direction: 'high',
-        limitClass: 'trip',
-        setpoint: 780,
-        deadband: 5,
-        severity: 'severe',
-        testIntervalMonths: 12,
-        latching: true,
-        resetRole: 'operator',
-        sil,
-        subsystems,
-        compensatingMeasures: ['Operator watches TI locally every 15 min'],
-        maxBypassHours: 8,
-        bypassPermitted: true,
-      })
+      .post(
+        '/api/limits',
+        heaterTrip(
+          proc.id,
+          instruments.map((i) => i.id),
+          `TZHH-S${n}`,
+          sil,
+          subsystems,
+        ),
+      )
       .expect(201)
   ).body
   await activateLimit({ eng, approver: as.approver, approver2: as.approver2, tech: as.technician }, limit)

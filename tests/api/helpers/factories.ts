@@ -105,26 +105,43 @@ export async function buildHeaterTrip(
   const limit = (
     await eng
       .post('/api/limits', {
-        processId: proc.id,
-        instrumentIds: [inst.id],
-        tag: `TSHH-${n}`,
-        direction: 'high',
-        limitClass: 'trip',
+        ...heaterTrip(proc.id, [inst.id], `TSHH-${n}`, sil, subsystems),
         setpoint: opts.setpoint ?? 780,
-        deadband: 5,
-        severity: 'severe',
-        testIntervalMonths: 12,
-        latching: true,
-        resetRole: 'operator',
-        sil,
-        subsystems,
-        compensatingMeasures: ['Operator watches TI locally every 15 min'],
-        maxBypassHours: 8,
-        bypassPermitted: true,
       })
       .expect(201)
   ).body
   return { site, area, proc, inst, limit }
+}
+
+/**
+ * The body of a fired heater's high-temperature trip on the instruments (780 °C, latching, reset by the operator,
+ * bypass up to 8 h with a compensating measure), with the given SIL and subsystems.
+ */
+export function heaterTrip(
+  processId: number,
+  instrumentIds: number[],
+  tag: string,
+  sil: number | null,
+  subsystems: unknown[],
+) {
+  return {
+    processId,
+    instrumentIds,
+    tag,
+    direction: 'high',
+    limitClass: 'trip',
+    setpoint: 780,
+    deadband: 5,
+    severity: 'severe',
+    testIntervalMonths: 12,
+    latching: true,
+    resetRole: 'operator',
+    sil,
+    subsystems,
+    compensatingMeasures: ['Operator watches TI locally every 15 min'],
+    maxBypassHours: 8,
+    bypassPermitted: true,
+  }
 }
 
 /**
