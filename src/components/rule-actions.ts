@@ -1,0 +1,14 @@
+import type { Verdict } from '@shared/domain/rules/verdict.ts'
+
+/** One workflow action of a record's page, as AppRuleActions shows it: offered and allowed by the rule book. */
+export interface RuleAction {
+  label: string
+  offer: { offered: boolean; verdict: Verdict }
+  /** data-test of the button */
+  test: string
+  icon?: string
+  color?: string
+  variant?: 'flat' | 'outlined' | 'tonal' | 'text'
+  loading?: boolean
+  run: () => void
+}
