@@ -10,5 +10,6 @@ export interface RuleAction {
   color?: string
   variant?: 'flat' | 'outlined' | 'tonal' | 'text'
   loading?: boolean
+  size?: 'small' | 'default'
   run: () => void
 }
