@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { crewAs } from './helpers/agent.ts'
 import { buildHeaterTrip, rowCounts } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -24,12 +24,12 @@ const who = {
   operator: 'operator',
   manager: 'manager',
 } as const
-const a = {} as Record<keyof typeof who, ApiAgent>
+const { as: a, signInAll } = crewAs(() => app, who)
 
 beforeAll(async () => {
   ctx.clock.set('2026-01-10T08:00:00Z')
   app = createApp(ctx)
-  for (const k of Object.keys(who) as (keyof typeof who)[]) a[k] = await signedIn(app, who[k])
+  await signInAll()
 })
 
 async function at(iso: string) {

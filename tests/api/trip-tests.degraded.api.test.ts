@@ -5,7 +5,7 @@ import { createApp } from '../../server/app.ts'
 import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
 import { createMailJob } from '../../server/features/mail/mail.worker.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { crewAs } from './helpers/agent.ts'
 import { buildHeaterTrip } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -25,13 +25,13 @@ const who = {
   sup: 'supervisor',
   operator: 'operator',
 } as const
-const a = {} as Record<keyof typeof who, ApiAgent>
+const { as: a, signInAll } = crewAs(() => app, who)
 
 beforeAll(async () => {
   smtp = await startFakeSmtp(0, { quiet: true })
   ctx.clock.set('2026-06-08T08:00:00Z')
   app = createApp(ctx)
-  for (const k of Object.keys(who) as (keyof typeof who)[]) a[k] = await signedIn(app, who[k])
+  await signInAll()
 })
 afterAll(async () => {
   await smtp?.close()

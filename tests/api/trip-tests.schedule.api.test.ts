@@ -6,7 +6,7 @@ import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
 import { createMailJob } from '../../server/features/mail/mail.worker.ts'
 import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { crewAs } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 import { countRows } from './helpers/factories.ts'
@@ -20,7 +20,7 @@ const PW = DEMO_PASSWORD
 let smtp: FakeSmtp
 let app: Express
 const who = { eng: 'engineer', approver: 'approver', tech: 'technician', admin: 'admin', manager: 'manager' } as const
-const a = {} as Record<keyof typeof who, ApiAgent>
+const { as: a, signInAll } = crewAs(() => app, who)
 let fhr = 0
 let smp = 0
 let areas: { id: number; siteId: number }[] = []
@@ -143,7 +143,7 @@ beforeAll(async () => {
   smtp = await startFakeSmtp(0, { quiet: true })
   ctx.clock.set('2026-01-31T23:45:00Z')
   app = createApp(ctx)
-  for (const k of Object.keys(who) as (keyof typeof who)[]) a[k] = await signedIn(app, who[k])
+  await signInAll()
   const sites = (await a.eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   fhr = sites.find((s) => s.code === 'FHR')!.id
   smp = sites.find((s) => s.code === 'SMP')!.id

@@ -72,13 +72,19 @@ export const DEMO_ACCOUNTS = [
 ] as const
 
 /**
- * Agents of demo accounts by role name, (re)signed in by `signInAll()`: moving the clock by hours ends the sessions
- * (idle limit), as it would in the plant. `app` is read at sign-in, so the app may be created in beforeAll.
+ * Agents of demo accounts under the test's own names (`{ eng: 'engineer' }`), (re)signed in by `signInAll()`: moving
+ * the clock by hours ends the sessions (idle limit), as it would in the plant. `app` is read at sign-in, so the app
+ * may be created in beforeAll.
  */
-export function crewOf<const P extends readonly string[]>(app: () => Express, people: P) {
-  const as = {} as Record<P[number], ApiAgent>
+export function crewAs<const W extends Record<string, string>>(app: () => Express, who: W) {
+  const as = {} as Record<keyof W, ApiAgent>
   async function signInAll() {
-    for (const who of people as readonly P[number][]) as[who] = await signedIn(app(), who)
+    for (const k of Object.keys(who) as (keyof W)[]) as[k] = await signedIn(app(), who[k])
   }
   return { as, signInAll }
+}
+
+/** As crewAs, each account under its role name. */
+export function crewOf<const P extends readonly string[]>(app: () => Express, people: P) {
+  return crewAs(app, Object.fromEntries(people.map((p) => [p, p])) as Record<P[number], string>)
 }
