@@ -295,6 +295,66 @@ export function changeRequestRules(cr: ChangeRuleRecord, actor: ChangeActor, now
   }
 }
 
+/**
+ * The discipline reviews as the request page offers them: a review's button is shown to the reviewers of that
+ * discipline at the site while the request waits for approval and the review is not signed; its verdict says whether
+ * this person may sign it.
+ */
+export function changeReviewOffers(cr: ChangeRuleRecord, actor: ChangeActor): Record<Discipline, ChangeOffer> {
+  const waiting = cr.status === 'submitted' || emergencyAfterTheFact(cr)
+  const offer = (d: Discipline): ChangeOffer => ({
+    offered:
+      waiting &&
+      !reviewOf(cr, d) &&
+      actor.ability.can('review', subject('ChangeRequest', { siteId: cr.siteId, discipline: d }) as never),
+    verdict: reviewVerdict(cr, d, actor),
+  })
+  return Object.fromEntries(DISCIPLINES.map((d) => [d, offer(d)])) as Record<Discipline, ChangeOffer>
+}
+
+/** An action as a screen offers it: shown or not, and its verdict (enabled, or disabled with the reason). */
+export interface ChangeOffer {
+  offered: boolean
+  verdict: Verdict
+}
+
+/** The request-level actions of the request page (the items' own buttons read `implementItemVerdict`). */
+export type ChangeOffered =
+  'edit' | 'submit' | 'withdraw' | 'approve' | 'reject' | 'implement' | 'implementAll' | 'close'
+
+/**
+ * What the request page offers (docs/change-requests.md#the-rule-book): an action is offered (its button shown) where
+ * it applies to the request's state and the person holds the role for that step at the site; it is enabled when the
+ * rule book allows it, otherwise disabled with the verdict's reason. "Implement all" is offered for a baseline of new
+ * limits only (more than one left, every one a `create`).
+ */
+export function changeRequestOffers(
+  cr: ChangeRuleRecord,
+  actor: ChangeActor,
+  now: Date,
+): Record<ChangeOffered, ChangeOffer> & { verdicts: Verdicts<ChangeAction> } {
+  const v = changeRequestRules(cr, actor, now)
+  const open = cr.status === 'draft' || cr.status === 'submitted'
+  const engineer = can(actor, 'update', cr)
+  const approver = actor.ability.can('approve', siteOnly(cr))
+  const implementer = (cr.status === 'approved' || emergencyFirst(cr)) && can(actor, 'implement', cr)
+  const remaining = cr.items.filter((i) => !i.implementedAt)
+  return {
+    verdicts: v,
+    edit: { offered: open && engineer, verdict: v.edit },
+    withdraw: { offered: open && engineer, verdict: v.withdraw },
+    submit: { offered: cr.status === 'draft' && can(actor, 'submit', cr), verdict: v.submit },
+    approve: { offered: approver && (cr.status === 'submitted' || emergencyAfterTheFact(cr)), verdict: v.approve },
+    reject: { offered: approver && cr.status === 'submitted', verdict: v.reject },
+    implement: { offered: implementer, verdict: v.implement },
+    implementAll: {
+      offered: implementer && remaining.length > 1 && remaining.every((i) => i.kind === 'create'),
+      verdict: v.implementAll,
+    },
+    close: { offered: cr.status === 'implemented' && can(actor, 'close', cr), verdict: v.close },
+  }
+}
+
 /** Whether one item may be implemented now (the request's answer, then the item's own state). */
 export function implementItemVerdict(
   cr: ChangeRuleRecord,

@@ -300,13 +300,15 @@ export interface DeferralRequestCheck {
   extensionDays: number
 }
 
-/** May this actor request this deferral? Technicians and safety engineers of the site request. */
-export function checkDeferralRequest(
-  c: DeferralRequestCheck,
-  actor: RuleActor,
-  policy: Pick<SitePolicy, 'deferralMaxFraction'>,
+/**
+ * May this actor ask for a deferral of this limit at all (before the dates are chosen)? Technicians and safety
+ * engineers of the site, for an active limit with a due date and no open deferral. The limit page offers the
+ * request where this allows it.
+ */
+export function deferralRequestStanding(
+  c: Pick<DeferralRequestCheck, 'limitActive' | 'dueDate' | 'openDeferral'>,
+  actor: Pick<RuleActor, 'roles'>,
 ): Verdict {
-  const max = maxDeferralDays(policy, c.intervalMonths)
   return firstRefusal(
     () =>
       actor.roles.includes('technician') || actor.roles.includes('safety_engineer')
@@ -318,6 +320,18 @@ export function checkDeferralRequest(
         ? blocked('The limit has never passed a full test: there is no due date to defer; test it')
         : allow,
     () => (c.openDeferral ? blocked('The limit already has an open deferral; one at a time') : allow),
+  )
+}
+
+/** May this actor request this deferral? Technicians and safety engineers of the site request. */
+export function checkDeferralRequest(
+  c: DeferralRequestCheck,
+  actor: RuleActor,
+  policy: Pick<SitePolicy, 'deferralMaxFraction'>,
+): Verdict {
+  const max = maxDeferralDays(policy, c.intervalMonths)
+  return firstRefusal(
+    () => deferralRequestStanding(c, actor),
     () => (c.newDueDate > c.today ? allow : invalid('The new due date must lie in the future')),
     () => (c.extensionDays > 0 ? allow : invalid('The new due date must lie after the current due date')),
     () =>

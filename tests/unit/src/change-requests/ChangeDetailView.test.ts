@@ -1,0 +1,268 @@
+import { afterEach, describe, expect, it, vi } from 'vitest'
+import {
+  type ChangeItemDto,
+  type ChangeRequestDto,
+  type ChangeStatus,
+  IMPACT_CHECKLIST,
+} from '@shared/schemas/change-requests.ts'
+import type { Role } from '@shared/schemas/users.ts'
+import ChangeDetailView from '@/features/change-requests/views/ChangeDetailView.vue'
+import { answerApi, FHR, mountView } from '../mount-view.ts'
+
+// The change request's page builds its buttons from the change-request rule book (docs/change-requests.md#the-rule-book):
+// each shown where the person has a part in that step, enabled or disabled with the rule book's reason, for the
+// states and roles of the rule book's table. The expected answers are written by hand from that table. The clock is
+// fixed at 12:00 UTC.
+
+const NOW = new Date('2026-07-06T12:00:00Z')
+const H = 3_600_000
+const at = (h: number) => new Date(NOW.getTime() + h * H).toISOString()
+const ME = 7
+const PROPOSER = 100
+
+function item(id: number, o: Partial<ChangeItemDto> = {}): ChangeItemDto {
+  return {
+    id,
+    position: id,
+    kind: 'modify',
+    limitId: null,
+    instrumentId: null,
+    targetTag: `TSHH-10${id}`,
+    unit: '°C',
+    changes: { setpoint: { from: 410, to: 405 } },
+    baseRevision: 1,
+    currentRevision: 1,
+    stale: false,
+    windowBefore: null,
+    windowAfter: null,
+    silRated: false,
+    implementedAt: null,
+    implementedBy: null,
+    readBack: null,
+    deviceFields: ['setpoint'],
+    readBackExpected: null,
+    ...o,
+  }
+}
+
+/** The checklist with every item ticked but those of `open`. */
+const checklist = (open: string[] = []) =>
+  IMPACT_CHECKLIST.map((c) => ({
+    item: c.item,
+    label: c.label,
+    group: c.group,
+    doneBy: open.includes(c.item) ? null : 'Someone',
+    doneAt: open.includes(c.item) ? null : at(-5),
+    notApplicable: false,
+    note: '',
+  }))
+
+function request(status: ChangeStatus, o: Partial<ChangeRequestDto> = {}): ChangeRequestDto {
+  const approved = ['approved', 'implemented', 'closed'].includes(status)
+  return {
+    id: 12,
+    siteId: FHR.id,
+    siteCode: 'FHR',
+    type: 'permanent',
+    title: 'Lower the heater outlet trip',
+    rationale: 'New burner tiles',
+    hazardReference: 'HAZOP-H101-7',
+    status,
+    proposerId: PROPOSER,
+    proposerName: 'Ada Quill',
+    editorIds: [PROPOSER],
+    expiresAt: null,
+    approvalsRequired: 1,
+    approvalsHeld: approved ? 1 : 0,
+    reviewsRequired: [],
+    contentHash: 'ab'.repeat(32),
+    submittedAt: status === 'draft' ? null : at(-8),
+    approvedAt: approved ? at(-6) : null,
+    implementedAt: status === 'implemented' || status === 'closed' ? at(-2) : null,
+    closedAt: status === 'closed' ? at(-1) : null,
+    approvalExpiresAt: approved ? at(24) : null,
+    emergencyFlagged: false,
+    reversesId: null,
+    reversals: [],
+    temporaryState: null,
+    pssr: null,
+    items: [item(1, status === 'implemented' || status === 'closed' ? { implementedAt: at(-2) } : {})],
+    checklist: checklist(),
+    signatures: [],
+    attachments: [],
+    version: 1,
+    createdAt: at(-10),
+    updatedAt: at(-1),
+    ...o,
+  }
+}
+
+async function open(cr: ChangeRequestDto, roles: Role[], userId = ME) {
+  answerApi({
+    [`GET /change-requests/${cr.id}`]: () => ({ body: cr }),
+    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
+    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+  })
+  return mountView(ChangeDetailView, {
+    user: { id: userId, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
+    props: { id: String(cr.id) },
+  })
+}
+
+type Wrapper = Awaited<ReturnType<typeof open>>
+const BUTTONS = ['edit', 'submit', 'withdraw', 'approve', 'reject', 'implement-all', 'close'] as const
+/** Each button shown (request's and items'): true when enabled, else the reason it is disabled. */
+function buttons(w: Wrapper, items = 1) {
+  const out: Record<string, true | string> = {}
+  const read = (name: string, selector: string) => {
+    const btn = w.find(selector)
+    if (!btn.exists()) return
+    out[name] = btn.attributes('disabled') === undefined ? true : (btn.element.parentElement?.dataset.reason ?? '')
+  }
+  for (const name of BUTTONS) read(name, `[data-test="cr-${name}"]`)
+  for (let i = 0; i < items; i++) read(`item-${i}`, `[data-test="item-implement-${i}"]`)
+  return out
+}
+
+const approvedBy = (userId: number) => ({
+  id: 1,
+  userId,
+  name: 'Someone',
+  meaning: 'approved',
+  at: at(-6),
+  contentHash: 'ab'.repeat(32),
+  matchesContent: true,
+  voided: false,
+})
+
+afterEach(() => {
+  vi.useRealTimers()
+  vi.unstubAllGlobals()
+})
+
+describe('ChangeDetailView: buttons follow the change-request rule book', () => {
+  it.each<[string, ChangeRequestDto, Role[], Record<string, true>]>([
+    [
+      'a safety engineer edits, submits or withdraws a draft',
+      request('draft'),
+      ['safety_engineer'],
+      { edit: true, submit: true, withdraw: true },
+    ],
+    ['a technician has no part in a draft', request('draft'), ['technician'], {}],
+    [
+      'a safety engineer may still edit or withdraw a submitted request',
+      request('submitted'),
+      ['safety_engineer'],
+      { edit: true, withdraw: true },
+    ],
+    [
+      'an approver approves or rejects a submitted request',
+      request('submitted'),
+      ['approver'],
+      { approve: true, reject: true },
+    ],
+    [
+      'a technician implements an approved request item by item',
+      request('approved'),
+      ['technician'],
+      { 'item-0': true },
+    ],
+    ['a control engineer implements too', request('approved'), ['control_engineer'], { 'item-0': true }],
+    ['a safety engineer has nothing to do on an approved request', request('approved'), ['safety_engineer'], {}],
+    ['a safety engineer closes an implemented request', request('implemented'), ['safety_engineer'], { close: true }],
+    [
+      'a shift supervisor implements an emergency change before its approval',
+      request('submitted', { type: 'emergency' }),
+      ['shift_supervisor'],
+      { 'item-0': true },
+    ],
+    [
+      'an approver approves an implemented emergency change after the fact (no reject)',
+      request('implemented', { type: 'emergency', approvedAt: null, approvalsHeld: 0, approvalExpiresAt: null }),
+      ['approver'],
+      { approve: true },
+    ],
+    ['nothing is left to do on a closed request', request('closed'), ['safety_engineer', 'approver', 'technician'], {}],
+    ['nothing is left to do on a rejected request', request('rejected'), ['safety_engineer', 'approver'], {}],
+  ])('%s', async (_what, cr, roles, expected) => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const w = await open(cr, roles)
+    expect(w.find('[data-test="cr-status"]').exists()).toBe(true)
+    expect(buttons(w)).toEqual(expected)
+  })
+
+  it('a draft without items: "Submit" is shown disabled (422 on the server), edit and withdraw stay', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const w = await open(request('draft', { items: [] }), ['safety_engineer'])
+    expect(buttons(w, 0)).toEqual({ edit: true, submit: 'Add at least one item.', withdraw: true })
+  })
+
+  it('the proposer who is an approver sees "Approve" and "Reject" disabled: an independent second person signs', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const b = buttons(await open(request('submitted'), ['approver'], PROPOSER))
+    expect(b.approve).toContain('Nobody approves a change they proposed')
+    expect(b.reject).toContain('Nobody approves a change they proposed')
+  })
+
+  it('implement: disabled while the before-implementation checklist is open, with the open items', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const cr = request('approved', { checklist: checklist(['training']) })
+    const b = buttons(await open(cr, ['technician']))
+    expect(b).toEqual({ 'item-0': expect.stringContaining('Complete the before-implementation checklist first') })
+    expect(b['item-0']).toContain('People affected informed and trained')
+  })
+
+  it('implement: refused to the person who approved the request, and after the approval expired', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const mine = request('approved', { signatures: [approvedBy(ME)] as ChangeRequestDto['signatures'] })
+    expect(buttons(await open(mine, ['technician', 'approver']))['item-0']).toContain(
+      'Nobody implements a change they approved',
+    )
+    vi.unstubAllGlobals()
+    const expired = request('approved', { approvalExpiresAt: at(-1) })
+    expect(buttons(await open(expired, ['technician']))['item-0']).toContain('The approval has expired')
+  })
+
+  it('implement: a stale item is disabled with the reason, an implemented one has no button', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const cr = request('approved', { items: [item(1, { stale: true }), item(2, { implementedAt: at(-1) })] })
+    expect(buttons(await open(cr, ['technician']), 2)).toEqual({
+      'item-0': expect.stringContaining('changed since the request was written'),
+    })
+  })
+
+  it('"Implement all" is offered for a baseline of new limits only, and follows the rule book', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const creates = [1, 2, 3].map((id) => item(id, { kind: 'create', changes: {} }))
+    expect(buttons(await open(request('approved', { items: creates }), ['technician']), 3)).toEqual({
+      'implement-all': true,
+      'item-0': true,
+      'item-1': true,
+      'item-2': true,
+    })
+    vi.unstubAllGlobals()
+    const blocked = request('approved', { items: creates, checklist: checklist(['pssr']) })
+    const b = buttons(await open(blocked, ['technician']), 3)
+    expect(b['implement-all']).toContain('Complete the before-implementation checklist first')
+    vi.unstubAllGlobals()
+    // two changes to limits in service: implemented item by item with their read-back, no bulk button
+    const changes = request('approved', { items: [item(1), item(2)] })
+    expect(buttons(await open(changes, ['technician']), 2)).toEqual({ 'item-0': true, 'item-1': true })
+  })
+
+  it('close: disabled while the close-out checklist is open, and for an emergency change not yet approved', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const open1 = request('implemented', { checklist: checklist(['drawings']) })
+    const b = buttons(await open(open1, ['safety_engineer']))
+    expect(b.close).toContain('Complete the close-out checklist first')
+    expect(b.close).toContain('Drawings and loop diagrams updated as built')
+    vi.unstubAllGlobals()
+    const emergency = request('implemented', {
+      type: 'emergency',
+      approvedAt: null,
+      approvalsHeld: 0,
+      approvalExpiresAt: null,
+    })
+    expect(buttons(await open(emergency, ['safety_engineer'])).close).toContain('not approved yet')
+  })
+})
