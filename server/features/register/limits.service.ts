@@ -65,7 +65,7 @@ export async function evaluateLimit(
       id: s.id,
       tag: s.tag,
       direction: s.direction,
-      limitClass: s.limit_class as 'alarm' | 'trip',
+      limitClass: s.limit_class,
       setpoint: Number(s.setpoint),
       status: s.status,
     })),

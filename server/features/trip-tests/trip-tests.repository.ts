@@ -86,7 +86,7 @@ export async function rolesAt(db: Db, userId: number, siteId: number): Promise<R
     .where('user_id', '=', userId)
     .where('site_id', '=', siteId)
     .execute()
-  return rows.map((r) => r.role as Role)
+  return rows.map((r) => r.role)
 }
 
 export function findSite(db: Db, siteId: number) {

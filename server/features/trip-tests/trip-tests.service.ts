@@ -241,7 +241,7 @@ async function evaluate(db: Db, input: TripTestInput) {
   let asLeft = input.asLeft
   if (input.channels.length) {
     const known = await repo.findChannelInstruments(db, limit.id)
-    const sensor = (limit.subsystems as Subsystem[]).find((x) => x.role === 'sensor')
+    const sensor = limit.subsystems.find((x) => x.role === 'sensor')
     const architecture = sensor?.architecture ?? (known.length === 2 ? '1oo2' : known.length === 3 ? '2oo3' : '1oo1')
     const expected = VOTING[architecture].n
     const ids = new Set(known.map((k) => k.id))
@@ -896,7 +896,7 @@ export async function getDegradation(
   const now = deps.clock.now()
   const rows = await repo.listDegradations(deps.db, limitId)
   return {
-    mttrHours: functionMttrHours(limit.subsystems as Subsystem[]),
+    mttrHours: functionMttrHours(limit.subsystems),
     items: rows.map((r) => ({
       id: r.id,
       testId: r.test_id,
