@@ -61,7 +61,8 @@ export default defineConfig({
         test: {
           name: 'browser',
           environment: 'node',
-          testTimeout: 90_000,
+          // one test is a whole journey (sign in, fill a form, sign, check the record): up to 90 s on a loaded machine
+          testTimeout: 180_000,
           hookTimeout: 120_000,
           // a busy 2-core machine can take seconds to render after a request: poll conditions for up to 15 s, not 1 s
           expect: { poll: { timeout: 15_000, interval: 100 } },
