@@ -46,7 +46,9 @@ export function isConnectionError(err: unknown): boolean {
  * (docs/security.md, "Database loss").
  */
 export function createDb(connectionString: string, max = 10): { db: Db; pool: pg.Pool } {
-  const pool = new pg.Pool({ connectionString, max, connectionTimeoutMillis: 5_000 })
+  // Idle connections stay five minutes (pg's default is ten seconds): a new connection costs the password key
+  // derivation and session set-up, which a quiet page turn should not pay (docs/deployment.md, section 1).
+  const pool = new pg.Pool({ connectionString, max, connectionTimeoutMillis: 5_000, idleTimeoutMillis: 300_000 })
   const log = logger.child({ component: 'db' })
   let lost = false
   const onError = (err: Error & { code?: string }) => {
