@@ -19,7 +19,22 @@ export default defineConfig({
     port: 5173,
     proxy: { '/api': { target: `http://127.0.0.1:${process.env.PORT ?? 8080}`, changeOrigin: false } },
   },
-  build: { chunkSizeWarningLimit: 1500 },
+  build: {
+    chunkSizeWarningLimit: 1500,
+    rolldownOptions: {
+      output: {
+        // fewer, larger files for the first load (docs/architecture.md#first-load): everything the entry imports
+        // statically (Vue, Vuetify's core, the router, the layouts) in one file, and the Vuetify components that eight
+        // or more views use (fields, selects, data tables, cards, dialogs) in another, instead of about forty small ones
+        codeSplitting: {
+          groups: [
+            { name: 'app', tags: ['$initial'] },
+            { name: 'vuetify', test: /node_modules[\\/]vuetify[\\/]/, minShareCount: 8 },
+          ],
+        },
+      },
+    },
+  },
   test: {
     testTimeout: 30_000,
     hookTimeout: 120_000,

@@ -1,32 +1,9 @@
 import { z } from 'zod'
+import { ROLES } from '../domain/roles.ts'
 
-/** The roles a user holds per site (README.md#roles). */
-export const ROLES = [
-  'admin',
-  'safety_engineer',
-  'approver',
-  'shift_supervisor',
-  'technician',
-  'operator',
-  'plant_manager',
-  'auditor',
-  'control_engineer',
-] as const
+// the roles and their labels live in shared/domain/roles.ts, without zod (the first load reads the labels)
+export { ROLE_LABELS, ROLES, type Role } from '../domain/roles.ts'
 export const RoleSchema = z.enum(ROLES)
-export type Role = z.infer<typeof RoleSchema>
-
-/** Display names for roles. */
-export const ROLE_LABELS: Record<Role, string> = {
-  admin: 'Administrator',
-  safety_engineer: 'Safety engineer',
-  approver: 'Approver',
-  shift_supervisor: 'Shift supervisor',
-  technician: 'Maintenance technician',
-  operator: 'Operator',
-  plant_manager: 'Plant manager',
-  auditor: 'Auditor',
-  control_engineer: 'Control engineer',
-}
 
 /** A (site, role) pair held by a user. */
 export const RoleAssignmentSchema = z.object({ siteId: z.number().int().positive(), role: RoleSchema })

@@ -27,6 +27,30 @@ export function toQuery(q: Query = {}): string {
   return s ? `?${s}` : ''
 }
 
+/**
+ * GET answers asked for before the code that reads them has loaded: on first load the router asks for the page's
+ * main list while the page's code loads (docs/architecture.md#first-load). The first `api()` GET of the same address
+ * within ten seconds takes the answer instead of asking again; an answer nobody takes is dropped.
+ */
+const early = new Map<string, { response: Promise<Response>; until: number }>()
+const EARLY_MS = 10_000
+
+export function prefetchGet(url: string, query?: Query) {
+  const now = Date.now()
+  for (const [address, e] of early) if (e.until < now) early.delete(address)
+  const address = `/api${url}${toQuery(query)}`
+  const response = fetch(address, { headers: { Accept: 'application/json' }, credentials: 'same-origin' })
+  response.catch(() => undefined) // a failed early request is asked again by api(), not reported twice
+  early.set(address, { response, until: now + EARLY_MS })
+}
+
+function takeEarly(address: string): Promise<Response> | null {
+  const e = early.get(address)
+  if (!e) return null
+  early.delete(address)
+  return e.until >= Date.now() ? e.response : null
+}
+
 /** The only fetch wrapper: JSON in and out, cookies, the CSRF header, and the error envelope turned into ApiError. */
 export async function api<T>(
   method: string,
@@ -42,14 +66,12 @@ export async function api<T>(
     headers['Content-Type'] = 'application/json'
     payload = JSON.stringify(body)
   }
+  const address = `/api${url}${toQuery(opts.query)}`
+  const ask = () => fetch(address, { method, headers, body: payload, credentials: 'same-origin' })
+  const asked = method === 'GET' ? takeEarly(address) : null
   let res: Response
   try {
-    res = await fetch(`/api${url}${toQuery(opts.query)}`, {
-      method,
-      headers,
-      body: payload,
-      credentials: 'same-origin',
-    })
+    res = await (asked ? asked.catch(ask) : ask())
   } catch {
     throw new ApiError(0, 'NETWORK', NETWORK_MESSAGE)
   }

@@ -12,6 +12,8 @@ declare module 'vue-router' {
     /** The ability needed to open the route. */
     can?: [Action, SubjectName]
     title?: string
+    /** Asks for the page's main data on first load, while the page's code is still loading. */
+    prefetch?: (to: RouteLocationNormalized) => void
   }
 }
 
@@ -29,7 +31,8 @@ function preloadViews(to: RouteLocationNormalized) {
 
 router.beforeEach(async (to) => {
   const session = useSessionStore()
-  if (!session.loaded) {
+  const firstLoad = !session.loaded
+  if (firstLoad) {
     // first load: the page's code is fetched while the session is asked for, not after it
     preloadViews(to)
     await session.load().catch(() => undefined)
@@ -37,6 +40,8 @@ router.beforeEach(async (to) => {
   if (to.meta.public) return true
   if (!session.signedIn) return { name: 'sign-in', query: { next: to.fullPath } }
   if (to.meta.can && !ability.can(to.meta.can[0], to.meta.can[1])) return { name: 'home' }
+  // and its data while the code still loads (docs/architecture.md#first-load)
+  if (firstLoad) to.meta.prefetch?.(to)
   return true
 })
 

@@ -20,7 +20,7 @@ import type {
 } from '@shared/schemas/register.ts'
 import type { HistoryImportResult, HistoryMapping } from '@shared/schemas/history-import.ts'
 import type { ImportMapping, ImportResult } from '@shared/schemas/imports.ts'
-import { http, toQuery, uploadWithProgress } from '@/api/client'
+import { http, prefetchGet, toQuery, uploadWithProgress } from '@/api/client'
 
 /** Filters of the register list and its export; arrays repeat the query key (contract in shared/schemas). */
 export type LimitFilters = LimitListFilters
@@ -43,7 +43,10 @@ export const registerKeys = {
 export const listLimits = (query: LimitListQuery) => http.get<LimitPage>('/limits', { ...query })
 /** The register screen's page of slim rows. */
 export const listRegisterRows = (query: LimitListQuery) =>
-  http.get<LimitPage<RegisterRow>>('/limits', { ...query, view: 'row' })
+  http.get<LimitPage<RegisterRow>>('/limits', registerRowsQuery(query))
+/** Asks for that page before the screen's code has loaded (the router, on first load). */
+export const prefetchRegisterRows = (query: LimitListQuery) => prefetchGet('/limits', registerRowsQuery(query))
+const registerRowsQuery = (query: LimitListQuery) => ({ ...query, view: 'row' as const })
 export const getLimit = (id: number) => http.get<Limit>(`/limits/${id}`)
 export const createLimit = (input: CreateLimitInput) => http.post<Limit>('/limits', input)
 export const updateLimit = (id: number, input: UpdateLimitRequest) => http.patch<Limit>(`/limits/${id}`, input)

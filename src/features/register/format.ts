@@ -8,7 +8,7 @@ import {
 } from '@mdi/js'
 import { returnPoint as exactReturnPoint } from '@shared/domain/operating-window.ts'
 import type { Limit, Signal } from '@shared/schemas/register.ts'
-import { ROLE_LABELS } from '@shared/schemas/users.ts'
+import { ROLE_LABELS } from '@shared/domain/roles.ts'
 
 // Labels and number formatting shared by the register's screens.
 

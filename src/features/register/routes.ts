@@ -1,11 +1,17 @@
 import type { RouteRecordRaw } from 'vue-router'
+import { prefetchRegisterRows } from './api'
+import { registerListQuery } from './composables/useRegisterQuery'
 
 export default [
   {
     path: '/register',
     name: 'register',
     component: () => import('./views/RegisterView.vue'),
-    meta: { can: ['read', 'Limit'], title: 'Register' },
+    meta: {
+      can: ['read', 'Limit'],
+      title: 'Register',
+      prefetch: (to) => prefetchRegisterRows(registerListQuery(to.query)),
+    },
   },
   {
     path: '/register/import',

@@ -81,6 +81,51 @@ export function sortParam(items: SortItem[]): string {
   return items.map((s) => `${s.order === 'desc' ? '-' : ''}${s.key}`).join(',')
 }
 
+/** The screen's state as a URL query gives it (unknown or malformed values fall back to the defaults). */
+function stateFrom(query: LocationQuery) {
+  const filters = emptyFilters()
+  for (const k of LIST_KEYS) {
+    const values = list(query[k])
+    ;(filters[k] as (string | number)[]) = ID_KEYS.has(k)
+      ? values.map(Number).filter((n) => Number.isInteger(n) && n > 0)
+      : values
+  }
+  filters.hasWarnings = bool(first(query.hasWarnings))
+  filters.hasErrors = bool(first(query.hasErrors))
+  filters.q = first(query.q)
+  const p = Number(first(query.page))
+  const size = Number(first(query.pageSize))
+  return {
+    filters,
+    sortBy: parseSortParam(first(query.sort)),
+    page: Number.isInteger(p) && p > 0 ? p : 1,
+    pageSize: PAGE_SIZES.includes(size) ? size : DEFAULT_PAGE_SIZE,
+  }
+}
+
+/** The filters as the API takes them (empty ones left out). */
+function filtersForApi(filters: RegisterFilterState): LimitFilters {
+  const f: LimitFilters = {}
+  for (const k of LIST_KEYS) if (filters[k].length) (f[k] as (string | number)[]) = [...filters[k]]
+  if (filters.hasWarnings) f.hasWarnings = filters.hasWarnings
+  if (filters.hasErrors) f.hasErrors = filters.hasErrors
+  if (filters.q.trim()) f.q = filters.q.trim()
+  return f
+}
+
+function queryForApi(filters: LimitFilters, sortBy: SortItem[], page: number, pageSize: number): LimitListQuery {
+  return { ...filters, sort: sortParam(sortBy) || undefined, page, pageSize }
+}
+
+/**
+ * The list request the register screen makes for a URL query: the router asks for it on first load while the
+ * screen's code is still loading (docs/architecture.md#first-load), so both must build it the same way.
+ */
+export function registerListQuery(query: LocationQuery): LimitListQuery {
+  const state = stateFrom(query)
+  return queryForApi(filtersForApi(state.filters), state.sortBy, state.page, state.pageSize)
+}
+
 /**
  * The register's filters, sort, page and page size, kept in the URL query so that a reload or a shared link shows the
  * same page. Edits replace the current history entry; a changed URL (e.g. the navigation link) is read back.
@@ -94,40 +139,19 @@ export function useRegisterQuery() {
   const pageSize = ref(DEFAULT_PAGE_SIZE)
 
   function readFrom(query: LocationQuery) {
-    const next = emptyFilters()
-    for (const k of LIST_KEYS) {
-      const values = list(query[k])
-      ;(next[k] as (string | number)[]) = ID_KEYS.has(k)
-        ? values.map(Number).filter((n) => Number.isInteger(n) && n > 0)
-        : values
-    }
-    next.hasWarnings = bool(first(query.hasWarnings))
-    next.hasErrors = bool(first(query.hasErrors))
-    next.q = first(query.q)
-    Object.assign(filters, next)
-    sortBy.value = parseSortParam(first(query.sort))
-    const p = Number(first(query.page))
-    page.value = Number.isInteger(p) && p > 0 ? p : 1
-    const size = Number(first(query.pageSize))
-    pageSize.value = PAGE_SIZES.includes(size) ? size : DEFAULT_PAGE_SIZE
+    const next = stateFrom(query)
+    Object.assign(filters, next.filters)
+    sortBy.value = next.sortBy
+    page.value = next.page
+    pageSize.value = next.pageSize
   }
 
   /** The filters as the API takes them (empty ones left out). */
-  const apiFilters = computed<LimitFilters>(() => {
-    const f: LimitFilters = {}
-    for (const k of LIST_KEYS) if (filters[k].length) (f[k] as (string | number)[]) = [...filters[k]]
-    if (filters.hasWarnings) f.hasWarnings = filters.hasWarnings
-    if (filters.hasErrors) f.hasErrors = filters.hasErrors
-    if (filters.q.trim()) f.q = filters.q.trim()
-    return f
-  })
+  const apiFilters = computed<LimitFilters>(() => filtersForApi(filters))
 
-  const apiQuery = computed<LimitListQuery>(() => ({
-    ...apiFilters.value,
-    sort: sortParam(sortBy.value) || undefined,
-    page: page.value,
-    pageSize: pageSize.value,
-  }))
+  const apiQuery = computed<LimitListQuery>(() =>
+    queryForApi(apiFilters.value, sortBy.value, page.value, pageSize.value),
+  )
 
   function toLocation(): LocationQueryRaw {
     const q: LocationQueryRaw = {}
