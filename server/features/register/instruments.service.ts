@@ -1,5 +1,6 @@
 import type { Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
+import { instrumentEditVerdict } from '../../../shared/domain/rules/limits.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import {
   type CreateInstrumentInput,
@@ -10,7 +11,7 @@ import { allows, authorize, ensureVisible } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
-import { AppError, invalidState, notFound, validationFailed } from '../../errors.ts'
+import { AppError, enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { recomputeWindowsForInstrument } from './limits.service.ts'
 import * as repo from './instruments.repository.ts'
@@ -144,12 +145,14 @@ export async function updateInstrument(
   await deps.db.transaction().execute(async (trx) => {
     const before = await load(trx, id, true)
     ensureVisible(ability, 'Instrument', { siteId: before.siteId }, 'Instrument')
-    authorize(ability, 'update', 'Instrument', { siteId: before.siteId })
     const active = await repo.activeLimitTagsOnInstrument(trx, id)
-    if (active.length)
-      throw invalidState(
-        `Instrument ${before.tag} feeds active limits (${active.map((a) => a.tag).join(', ')}): change it through a change request`,
-      )
+    enforce(
+      instrumentEditVerdict(
+        before,
+        active.map((a) => a.tag),
+        { ability },
+      ),
+    )
     await applyInstrumentDefinition(trx, deps.clock, ctx, before, patch, { changeRequestId: null, reason: 'edited' })
   })
   return load(deps.db, id)

@@ -2,6 +2,7 @@ import type { Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { checkOperatingWindow, type WindowFinding } from '../../../shared/domain/operating-window.ts'
 import { classifyLimit } from '../../../shared/domain/priority.ts'
+import { limitRules } from '../../../shared/domain/rules/limits.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import type { CreateLimitInput, Limit, UpdateLimitInput } from '../../../shared/schemas/register.ts'
 import { CreateLimitInputSchema } from '../../../shared/schemas/register.ts'
@@ -10,7 +11,7 @@ import { allows, authorize, ensureVisible } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
-import { AppError, invalidState, notFound, validationFailed } from '../../errors.ts'
+import { AppError, enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import * as repo from './limits.repository.ts'
@@ -230,7 +231,7 @@ async function assertTagFree(trx: Trx, siteId: number, tag: string, exceptId: nu
     })
 }
 
-/** Edits a draft (proposed) limit. Active limits change only through an implemented change request. */
+/** Edits a draft (proposed) limit (the register's rule book, `edit`). Active limits change only through a change request. */
 export async function updateLimit(
   deps: AppDeps,
   ability: AppAbility,
@@ -242,9 +243,7 @@ export async function updateLimit(
   await deps.db.transaction().execute(async (trx) => {
     const before = await loadLimit(trx, id, true)
     ensureVisible(ability, 'Limit', { siteId: before.siteId }, 'Limit')
-    authorize(ability, 'update', 'Limit', { siteId: before.siteId })
-    if (before.status !== 'proposed')
-      throw invalidState(`Limit ${before.tag} is ${before.status}: it changes only through a change request`)
+    enforce(limitRules(before, { ability }).edit)
     if (expectedRevision !== undefined && expectedRevision !== before.revision)
       throw new AppError(
         409,
@@ -313,9 +312,7 @@ export async function deleteLimit(deps: AppDeps, ability: AppAbility, ctx: Audit
   await deps.db.transaction().execute(async (trx) => {
     const before = await loadLimit(trx, id, true)
     ensureVisible(ability, 'Limit', { siteId: before.siteId }, 'Limit')
-    authorize(ability, 'delete', 'Limit', { siteId: before.siteId })
-    if (before.status !== 'proposed')
-      throw invalidState('Only draft (proposed) limits can be deleted; retire an active limit through a change request')
+    enforce(limitRules(before, { ability }).delete)
     await repo.deleteLimitRow(trx, id)
     await appendAudit(trx, deps.clock, ctx, {
       action: 'limit.delete',

@@ -25,6 +25,7 @@ import {
   type TripTestRuleRecord,
   witnessRequired,
 } from '../../../shared/domain/rules/trip-tests.ts'
+import { tripTestableVerdict } from '../../../shared/domain/rules/limits.ts'
 import { compareToTarget, type Sil, sifPfd, subsystemPfd } from '../../../shared/domain/sif-reliability.ts'
 import { engineeringFromSignal } from '../../../shared/domain/test-signal.ts'
 import { judgeTripTest, judgeVotedChannels, toleranceInEu, VOTING } from '../../../shared/domain/trip-test-result.ts'
@@ -187,12 +188,7 @@ async function loadContext(db: Db, limitId: number) {
 /** Computes the stored columns of a record from its input: conversions, tolerance, channels, results. */
 async function evaluate(db: Db, input: TripTestInput) {
   const { limit, inst, policy } = await loadContext(db, input.limitId)
-  if (limit.status !== 'active')
-    enforce({
-      allowed: false,
-      status: 409,
-      reason: `Limit ${limit.tag} is ${limit.status}; only an active limit is trip-tested`,
-    })
+  enforce(tripTestableVerdict(limit))
   const performedOn = localDate(new Date(input.performedAt), limit.time_zone)
   if (input.calibratorDueDate && input.calibratorDueDate < performedOn) {
     throw validationFailed(

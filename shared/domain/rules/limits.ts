@@ -1,0 +1,167 @@
+import { subject } from '@casl/ability'
+import type { AppAbility } from '../../abilities/index.ts'
+import type { LimitStatus } from '../operating-window.ts'
+import { allow, blocked, forbid, firstRefusal, type Verdict, type Verdicts } from './verdict.ts'
+
+/**
+ * The rule book of the register (docs/register.md#the-rule-book): what may be done to a limit in each of its states,
+ * by whom. A limit is drafted as `proposed` and edited or deleted freely while it is a draft; an implemented change
+ * request puts it in service (`active`), and from then on it changes, and is retired, only through a change request;
+ * a `retired` limit is kept for the record. The server calls these answers as the guard inside the locked
+ * transaction; the limit page and the limit form build their buttons and read-only state from the same answers.
+ */
+export const LIMIT_ACTIONS = [
+  'edit',
+  'delete',
+  'proposeChange',
+  'proposeCommissioning',
+  'raiseProposal',
+  'recordTripTest',
+] as const
+export type LimitAction = (typeof LIMIT_ACTIONS)[number]
+
+/** What the rules read of a limit (the limit as the API sends it satisfies this). */
+export interface LimitRuleRecord {
+  siteId: number
+  tag: string
+  status: LimitStatus
+}
+
+/** Who acts: their CASL ability (their roles at each site); no rule of the register reads who they are. */
+export interface LimitActor {
+  ability: AppAbility
+}
+
+type Subject = 'Limit' | 'Instrument' | 'ChangeRequest' | 'ChangeProposal' | 'TripTest'
+const can = (actor: LimitActor, action: 'create' | 'update' | 'delete' | 'record', name: Subject, siteId: number) => {
+  const fields: Record<string, unknown> = { siteId }
+  return actor.ability.can(action, subject(name, fields) as never)
+}
+
+/**
+ * An active limit is in service: only an active limit is trip-tested, has its tests deferred, is bypassed, counts in
+ * the demand rates and is reconciled against the plant (docs/register.md#the-rule-book).
+ */
+export function inService(l: Pick<LimitRuleRecord, 'status'>): boolean {
+  return l.status === 'active'
+}
+
+/** Only an active limit is trip-tested (the state half of `recordTripTest`, also checked when a record is edited). */
+export function tripTestableVerdict(l: Pick<LimitRuleRecord, 'tag' | 'status'>): Verdict {
+  return inService(l) ? allow : blocked(`Limit ${l.tag} is ${l.status}; only an active limit is trip-tested`)
+}
+
+const roleFor = (ok: boolean, reason: string) => () => (ok ? allow : forbid(reason))
+
+/**
+ * Every action on a limit for this actor:
+ * - edit: a safety engineer of the site, while the limit is a draft (proposed); an active limit changes through a
+ *   change request, a retired one is kept as it is.
+ * - delete: a safety engineer of the site, while the limit is a draft; an active limit is retired through a change
+ *   request.
+ * - proposeChange: a safety engineer of the site proposes a change request that changes or retires an active limit.
+ * - proposeCommissioning: a safety engineer of the site proposes the change request that puts a draft in service.
+ * - raiseProposal: operators, technicians, control engineers and shift supervisors of the site raise a change
+ *   proposal about a limit that is not retired.
+ * - recordTripTest: a maintenance technician of the site records a trip test of an active limit.
+ */
+export function limitRules(l: LimitRuleRecord, actor: LimitActor): Verdicts<LimitAction> {
+  const engineer = (verb: string) =>
+    roleFor(can(actor, 'update', 'Limit', l.siteId), `Only a safety engineer of this site ${verb}.`)
+  const draft = (refusal: string) => () => (l.status === 'proposed' ? allow : blocked(refusal))
+  const notRetired = () =>
+    l.status === 'retired' ? blocked(`Limit ${l.tag} is retired and kept for the record; it changes no more.`) : allow
+  return {
+    edit: firstRefusal(
+      engineer('edits a draft limit'),
+      draft(
+        l.status === 'active'
+          ? `Limit ${l.tag} is active: it changes only through a change request`
+          : `Limit ${l.tag} is retired and kept for the record; it is not edited`,
+      ),
+    ),
+    delete: firstRefusal(
+      roleFor(can(actor, 'delete', 'Limit', l.siteId), 'Only a safety engineer of this site deletes a draft limit.'),
+      draft('Only draft (proposed) limits can be deleted; retire an active limit through a change request'),
+    ),
+    proposeChange: firstRefusal(
+      roleFor(
+        can(actor, 'create', 'ChangeRequest', l.siteId),
+        'Only a safety engineer of this site proposes a change request.',
+      ),
+      notRetired,
+      () =>
+        l.status === 'active'
+          ? allow
+          : blocked(`Limit ${l.tag} is a draft: it is edited in the register, or put in service by a change request.`),
+    ),
+    proposeCommissioning: firstRefusal(
+      roleFor(
+        can(actor, 'create', 'ChangeRequest', l.siteId),
+        'Only a safety engineer of this site proposes a change request.',
+      ),
+      draft(`Limit ${l.tag} is ${l.status}; only a draft (proposed) limit is put in service by a change request.`),
+    ),
+    raiseProposal: firstRefusal(
+      roleFor(
+        can(actor, 'create', 'ChangeProposal', l.siteId),
+        'Operators, technicians, control engineers and shift supervisors of this site raise change proposals.',
+      ),
+      notRetired,
+    ),
+    recordTripTest: firstRefusal(
+      roleFor(can(actor, 'record', 'TripTest', l.siteId), 'Only a maintenance technician of this site records tests.'),
+      () => tripTestableVerdict(l),
+    ),
+  }
+}
+
+/** An action as a screen offers it: shown or not, and its verdict (enabled, or disabled with the reason). */
+export interface LimitOffer {
+  offered: boolean
+  verdict: Verdict
+}
+
+/**
+ * What the limit page offers (docs/register.md#the-rule-book): an action is offered (its button shown) where it
+ * applies to the limit's state and the person holds the role for it at the site; it is enabled when the rule book
+ * allows it, otherwise disabled with the verdict's reason. A refusal for the role hides the button; a refusal for the
+ * state shows it disabled only where the state is one the action applies to.
+ */
+export function limitOffers(
+  l: LimitRuleRecord,
+  actor: LimitActor,
+): Record<LimitAction, LimitOffer> & { verdicts: Verdicts<LimitAction> } {
+  const v = limitRules(l, actor)
+  const offer = (action: LimitAction, applies: boolean): LimitOffer => ({
+    offered: applies && (v[action].allowed || v[action].status !== 403),
+    verdict: v[action],
+  })
+  return {
+    verdicts: v,
+    edit: offer('edit', l.status === 'proposed'),
+    delete: offer('delete', l.status === 'proposed'),
+    proposeChange: offer('proposeChange', l.status === 'active'),
+    proposeCommissioning: offer('proposeCommissioning', l.status === 'proposed'),
+    raiseProposal: offer('raiseProposal', l.status !== 'retired'),
+    recordTripTest: offer('recordTripTest', inService(l)),
+  }
+}
+
+/**
+ * Editing an instrument in the register: a safety engineer of the site, while no active limit stands on it; an
+ * instrument behind an active limit changes through a change request (docs/register.md#the-rule-book).
+ */
+export function instrumentEditVerdict(
+  instrument: { siteId: number; tag: string },
+  activeLimitTags: readonly string[],
+  actor: LimitActor,
+): Verdict {
+  if (!can(actor, 'update', 'Instrument', instrument.siteId))
+    return forbid('Only a safety engineer of this site edits an instrument.')
+  if (activeLimitTags.length)
+    return blocked(
+      `Instrument ${instrument.tag} feeds active limits (${activeLimitTags.join(', ')}): change it through a change request`,
+    )
+  return allow
+}
