@@ -11,6 +11,13 @@ import type { Instrument, Limit } from '@shared/schemas/register.ts'
 import { api, http, uploadWithProgress } from '@/api/client'
 
 export type ChangeType = (typeof CHANGE_TYPES)[number]
+
+/** Cache keys of change requests (Pinia Colada): a write to a request invalidates them all. */
+export const changeRequestKeys = {
+  all: ['change-requests'] as const,
+  /** the requests touching a limit, for the limit page */
+  limit: (limitId: number) => ['change-requests', 'limit', limitId] as const,
+}
 export type ChangeView = 'waiting' | 'mine' | 'all'
 
 /** One row of the change list. */
