@@ -2,6 +2,7 @@ import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { InstrumentRecord } from '@shared/schemas/register.ts'
 import InstrumentFormView from '@/features/register/views/InstrumentFormView.vue'
 import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+import { TC } from './limit-fixture.ts'
 
 // The instrument form: its fields come from a typed field list (useFormFields) and its load, check and save from the
 // record-form composable (useRecordForm). These checks pin what a user sees and what the API receives; the expected
@@ -9,29 +10,15 @@ import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
 
 const ENGINEER = { id: 7, roles: [{ siteId: FHR.id, role: 'safety_engineer' as const }] }
 
+// the heater's outlet instrument of the limit tests, here a 4-wire Pt100 on 0 … 600 °C
 const RTD: InstrumentRecord = {
-  id: 9,
-  siteId: FHR.id,
-  areaId: 3,
-  processId: 4,
-  processName: 'Heater H-101',
-  tag: 'TT-101',
-  measuredVariable: 'temperature',
-  unit: '°C',
-  pressureReference: null,
-  rangeLow: 0,
+  ...TC,
   rangeHigh: 600,
   normalLow: 320,
   normalHigh: 370,
-  designLow: null,
   designHigh: 450,
-  burnout: 'upscale',
   signal: { kind: 'rtd', element: 'Pt100', wires: 4, headTransmitter: true },
-  deviceKind: 'limit_controller',
-  deviceDescription: 'Limit controller, channel 1',
-  model: 'Model 7',
   revision: 3,
-  updatedAt: '2026-07-01T08:00:00Z',
 }
 
 const COMMON: Routes = {
