@@ -89,6 +89,8 @@ async function coldLoad(
     }
     return NaN
   })
+  // no request counted after this point: a size asked for while the context closes would fail the whole run
+  page.removeAllListeners('requestfinished')
   const done = await Promise.all(sizes)
   const bytes: Record<string, number> = {}
   for (const d of done) bytes[d.type] = (bytes[d.type] ?? 0) + d.size
