@@ -3,6 +3,7 @@ import canonicalize from 'canonicalize'
 import type { Transaction } from 'kysely'
 import { ZodError, type z } from 'zod'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
+import { draftVerdict } from '../../../shared/domain/rules/limits.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import {
   IMPORT_MAX_ROWS,
@@ -734,14 +735,9 @@ async function runRows(
       st.limitId = limit.id
       const current = parseWith(CreateLimitInputSchema, { ...limit }, limitColumn, errs)
       const diff = current ? differences(limitStored(current), limitStored(input)) : ['tag']
-      if (diff.length && limit.status !== 'proposed') {
-        st.problems.push({
-          field: diff[0],
-          message:
-            limit.status === 'active'
-              ? `Limit ${limit.tag} is active: it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})`
-              : `Limit ${limit.tag} is retired and is not changed by an import (changed: ${diff.map(header).join(', ')})`,
-        })
+      const draft = draftVerdict(limit)
+      if (diff.length && !draft.allowed) {
+        st.problems.push({ field: diff[0], message: `${draft.reason} (changed: ${diff.map(header).join(', ')})` })
         continue
       }
       st.warnings = limit.operatingWindow.warnings

@@ -51,6 +51,19 @@ export function tripTestableVerdict(l: Pick<LimitRuleRecord, 'tag' | 'status'>):
   return inService(l) ? allow : blocked(`Limit ${l.tag} is ${l.status}; only an active limit is trip-tested`)
 }
 
+/**
+ * Only a draft (proposed) limit is edited in the register, by hand or by an import: an active limit changes through a
+ * change request, a retired one is kept as it is (the state half of `edit`).
+ */
+export function draftVerdict(l: Pick<LimitRuleRecord, 'tag' | 'status'>): Verdict {
+  if (l.status === 'proposed') return allow
+  return blocked(
+    l.status === 'active'
+      ? `Limit ${l.tag} is active: it changes only through a change request`
+      : `Limit ${l.tag} is retired and kept for the record; it is not edited`,
+  )
+}
+
 const roleFor = (ok: boolean, reason: string) => () => (ok ? allow : forbid(reason))
 
 /**
@@ -66,19 +79,13 @@ const roleFor = (ok: boolean, reason: string) => () => (ok ? allow : forbid(reas
  * - recordTripTest: a maintenance technician of the site records a trip test of an active limit.
  */
 export function limitRules(l: LimitRuleRecord, actor: LimitActor): Verdicts<LimitAction> {
-  const engineer = (verb: string) =>
-    roleFor(can(actor, 'update', 'Limit', l.siteId), `Only a safety engineer of this site ${verb}.`)
   const draft = (refusal: string) => () => (l.status === 'proposed' ? allow : blocked(refusal))
   const notRetired = () =>
     l.status === 'retired' ? blocked(`Limit ${l.tag} is retired and kept for the record; it changes no more.`) : allow
   return {
     edit: firstRefusal(
-      engineer('edits a draft limit'),
-      draft(
-        l.status === 'active'
-          ? `Limit ${l.tag} is active: it changes only through a change request`
-          : `Limit ${l.tag} is retired and kept for the record; it is not edited`,
-      ),
+      roleFor(can(actor, 'update', 'Limit', l.siteId), 'Only a safety engineer of this site edits a draft limit.'),
+      () => draftVerdict(l),
     ),
     delete: firstRefusal(
       roleFor(can(actor, 'delete', 'Limit', l.siteId), 'Only a safety engineer of this site deletes a draft limit.'),

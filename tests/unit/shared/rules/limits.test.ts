@@ -4,6 +4,7 @@ import type { LimitStatus } from '../../../../shared/domain/operating-window.ts'
 import {
   LIMIT_ACTIONS,
   type LimitAction,
+  draftVerdict,
   instrumentEditVerdict,
   limitOffers,
   limitRules,
@@ -87,6 +88,16 @@ describe('register rule book', () => {
       status: 409,
       reason: expect.stringContaining('draft'),
     })
+  })
+
+  it('edits only a draft, by hand or by an import', () => {
+    expect(draftVerdict(limit('proposed')).allowed).toBe(true)
+    expect(draftVerdict(limit('active'))).toEqual({
+      allowed: false,
+      status: 409,
+      reason: 'Limit TSHH-101 is active: it changes only through a change request',
+    })
+    expect(draftVerdict(limit('retired'))).toMatchObject({ allowed: false, status: 409 })
   })
 
   it('trip-tests an active limit only, whoever asks', () => {
