@@ -2,8 +2,24 @@ import { sql, type Transaction } from 'kysely'
 import { type Clock, systemClock } from '../../clock.ts'
 import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
-import { dataHash, type EventContent, GENESIS_HASH, hashEvent, sealHash } from './audit.hash.ts'
+import { availableParallelism } from 'node:os'
+import {
+  advance,
+  CHAIN_ARRAY,
+  type CheckpointClaim,
+  contentOf,
+  contentProblem,
+  type EventRow,
+  genesisState,
+  linkProblem,
+  type PageCheck,
+  rowOf,
+  stitchPages,
+  type WalkState,
+} from './audit.chain.ts'
+import { dataHash, GENESIS_HASH, sealHash } from './audit.hash.ts'
 import { type AuditKeys, linkOf, loadAuditKeys } from './audit.key.ts'
+import { checkPageHere, startPageWorkers } from './audit.verify.pages.ts'
 import { AUDIT_ENTITY_SITE, type AuditEntityType } from './audit.sites.ts'
 import { likeEscape } from '../../authorize.ts'
 
@@ -302,87 +318,64 @@ export interface VerifyResult {
   unsealed?: number
 }
 
-/** A signed statement of the chain head at a moment (server/features/audit/audit.checkpoint.ts). */
-export interface CheckpointClaim {
-  file: string
-  headSeq: number
-  headHash: string
-  count: number
-  firstKeyedSeq: number | null
-}
+export type { CheckpointClaim }
+export { recordedFields } from './audit.chain.ts'
 
-/** An event as the verifier reads it: the time as milliseconds (no Date parsed per row), ids as numbers. */
-interface EventRow {
-  id: number
-  occurred_ms: number
-  actor_id: number | null
-  action: string
-  entity_type: string
-  entity_id: string | null
-  before: unknown
-  after: unknown
-  reason: string | null
-  batch_id: string | null
-  request_id: string | null
-  ip: string | null
-  site_id: number | null
-  data_hash: string | null
-}
+type Reader = Db | Transaction<Database>
 
-interface ChainRow extends EventRow {
-  seq: number
-  prev_hash: string
-  hash: string
-  link: string | null
-}
-
-const EVENT_COLUMNS = sql.raw(`id, (extract(epoch FROM occurred_at) * 1000)::bigint AS occurred_ms, actor_id, action,
-  entity_type, entity_id, before, after, reason, batch_id, request_id, ip, site_id, data_hash`)
-
-/** The content of an event as read back, in the form its hashes cover. */
-function contentOf(r: EventRow) {
-  return {
-    occurredAt: new Date(r.occurred_ms),
-    actorId: r.actor_id,
-    action: r.action,
-    entityType: r.entity_type,
-    entityId: r.entity_id,
-    ...recordedFields(r),
-  }
-}
-
-/** The recorded values of an event row under their API names (the verifier and the audit-trail list share them). */
-export function recordedFields(
-  r: Pick<EventRow, 'before' | 'after' | 'reason' | 'batch_id' | 'request_id' | 'ip'>,
-): Pick<EventContent, 'before' | 'after' | 'reason' | 'batchId' | 'requestId' | 'ip'> {
-  return { before: r.before, after: r.after, reason: r.reason, batchId: r.batch_id, requestId: r.request_id, ip: r.ip }
-}
-
-/** A page of sealed events in chain order after chain position `after`. */
-function sealedPage(db: Db, after: number, size: number): Promise<ChainRow[]> {
-  return sql<ChainRow>`
-    SELECT ${EVENT_COLUMNS}, seq, prev_hash, hash, link
-    FROM audit_event WHERE seq > ${after} ORDER BY seq LIMIT ${size}`
-    .execute(db)
-    .then((r) => r.rows)
-}
-
-/** A page of unsealed events in id order after id `after`. */
-function unsealedPage(db: Db, after: number, size: number): Promise<EventRow[]> {
-  return sql<EventRow>`
-    SELECT ${EVENT_COLUMNS} FROM audit_event WHERE seq IS NULL AND id > ${after} ORDER BY id LIMIT ${size}`
-    .execute(db)
-    .then((r) => r.rows)
+/**
+ * Where the pages of the chain begin: the chain position of every `size`-th sealed event after the first, read from
+ * the positions' index. Page i holds the sealed events from bound i-1 (the first page: from the lowest) to before
+ * bound i (the last page: to the highest), so the pages cover every sealed row whatever its position.
+ */
+async function pageBounds(db: Reader, size: number): Promise<number[]> {
+  const r = await sql<{ seq: number }>`
+    SELECT seq FROM (SELECT seq, row_number() OVER (ORDER BY seq) AS n FROM audit_event WHERE seq IS NOT NULL) s
+    WHERE n % ${size} = 1 AND n > 1 ORDER BY seq`.execute(db)
+  return r.rows.map((x) => Number(x.seq))
 }
 
 /**
- * Walks the sealed chain in chain order (keyset pages on `seq`, the next page read while this one is hashed) and
- * reports the first broken link: a changed event (its hash), a forged or rewritten one (its keyed link), a deleted
- * one (its chain position missing, or the link to it broken), and, against each signed checkpoint, a truncation (the
- * checkpoint's head is gone), a rewrite (the head has another hash) or an insertion (more events up to the head than
- * the checkpoint counted). Then the unsealed events: each content against the data hash written with it (no key
- * guards that yet), and one older than the bound (UNSEALED_BOUND_SECONDS by `clock`) is reported, since the sealer
- * should have linked it.
+ * The sealed events with chain positions in [from, to) (null: unbounded) in chain order, as one JSON text built by
+ * PostgreSQL (audit.chain.ts, CHAIN_ARRAY): one value to send instead of a row per event.
+ */
+async function chainPage(db: Reader, from: number | null, to: number | null): Promise<string> {
+  const r = await sql<{ page: string }>`
+    SELECT coalesce(json_agg(e.a), '[]')::text AS page FROM (
+      SELECT json_build_array(${sql.raw(CHAIN_ARRAY)}) AS a FROM audit_event
+      WHERE seq IS NOT NULL ${from === null ? sql`` : sql`AND seq >= ${from}`} ${to === null ? sql`` : sql`AND seq < ${to}`}
+      ORDER BY seq) e`.execute(db)
+  return r.rows[0].page
+}
+
+/** A page of unsealed events in id order after id `after`. */
+function unsealedPage(db: Reader, after: number, size: number): Promise<EventRow[]> {
+  return sql<EventRow>`
+    SELECT ${sql.raw(EVENT_COLUMNS)} FROM audit_event WHERE seq IS NULL AND id > ${after} ORDER BY id LIMIT ${size}`
+    .execute(db)
+    .then((r) => r.rows)
+}
+
+const EVENT_COLUMNS = `id, (extract(epoch FROM occurred_at) * 1000)::bigint AS occurred_ms, actor_id, action,
+  entity_type, entity_id, before, after, reason, batch_id, request_id, ip, site_id, data_hash`
+
+/** Chains at least this long are walked by worker threads (shorter ones cost less than starting them). */
+const PARALLEL_FROM_PAGES = 3
+
+/**
+ * Walks the sealed chain in chain order and reports the first broken link: a changed event (its hash), a forged or
+ * rewritten one (its keyed link), a deleted one (its chain position missing, or the link to it broken), and, against
+ * each signed checkpoint, a truncation (the checkpoint's head is gone), a rewrite (the head has another hash) or an
+ * insertion (more events up to the head than the checkpoint counted). Then the unsealed events: each content against
+ * the data hash written with it (no key guards that yet), and one older than the bound (UNSEALED_BOUND_SECONDS by
+ * `clock`) is reported, since the sealer should have linked it.
+ *
+ * Everything is read in one snapshot (REPEATABLE READ). The chain comes in pages of `pageSize` events, each one JSON
+ * text built by PostgreSQL; a long chain's pages are read over two connections sharing the snapshot
+ * (pg_export_snapshot) and checked by `workers` threads side by side, each page on its own, then joined: each page's
+ * first event must tie to the page before and each checkpoint hold where its head lies (audit.chain.ts, stitchPages).
+ * Every event is hashed again with the key, whatever the pages. When anything fails, the chain is walked again in one
+ * piece in the same snapshot to name the first problem.
  */
 export async function verifyAuditChain(
   db: Db,
@@ -392,21 +385,114 @@ export async function verifyAuditChain(
     pageSize?: number
     clock?: Clock
     unsealedBoundSeconds?: number
+    /** Worker threads for a long chain (default: one per CPU, at most 4; 0 checks every page in this thread). */
+    workers?: number
   } = {},
 ): Promise<VerifyResult> {
   const keys = opts.keys ?? loadAuditKeys()
   const pageSize = opts.pageSize ?? 10_000
   const checkpoints = [...(opts.checkpoints ?? [])].sort((a, b) => a.headSeq - b.headSeq)
+  return db
+    .transaction()
+    .setIsolationLevel('repeatable read')
+    .execute(async (trx) => {
+      await sql`SET TRANSACTION READ ONLY`.execute(trx)
+      const bounds = await pageBounds(trx, pageSize)
+      const starts = [null, ...bounds]
+      const ranges = starts.map((from, i) => ({ from, to: i + 1 < starts.length ? starts[i + 1] : null }))
+      const threads = ranges.length >= PARALLEL_FROM_PAGES ? (opts.workers ?? Math.min(availableParallelism(), 4)) : 0
+      const end = await walkInPages(db, trx, ranges, checkpoints, keys.linkKey, threads)
+      const sealed = end
+        ? {
+            ok: true,
+            checked: end.checked,
+            headId: end.lastId || undefined,
+            headSeq: end.lastSeq || undefined,
+            headHash: end.checked ? end.prev : undefined,
+            ...(end.unkeyed ? { unkeyed: end.unkeyed } : {}),
+          }
+        : await walkInOnePiece(trx, ranges, checkpoints, keys.linkKey)
+      if (!sealed.ok) return sealed
+      return checkUnsealed(trx, sealed, opts.clock ?? systemClock, opts.unsealedBoundSeconds, pageSize)
+    })
+}
+
+/**
+ * The pages read over `trx` and, when threads are used, one more connection on the same snapshot, checked each on its
+ * own and joined; the walk's end, or null when anything failed.
+ */
+async function walkInPages(
+  db: Db,
+  trx: Transaction<Database>,
+  ranges: { from: number | null; to: number | null }[],
+  checkpoints: CheckpointClaim[],
+  linkKey: Buffer,
+  threads: number,
+): Promise<WalkState | null> {
+  const claims = ranges.map(({ from, to }) =>
+    checkpoints.filter((c) => (from === null || c.headSeq >= from) && (to === null || c.headSeq < to)),
+  )
+  const pool = threads > 0 ? startPageWorkers(threads, linkKey) : null
+  const check = pool?.check ?? checkPageHere(linkKey)
+  const results: Promise<PageCheck>[] = []
+  let taken = 0
+  let failed = false
+  // each reader takes the next page, reads it and hands it to the checks; a failed check stops the reading
+  const read = async (q: Reader) => {
+    while (taken < ranges.length && !failed) {
+      const i = taken++
+      const text = await chainPage(q, ranges[i].from, ranges[i].to)
+      results[i] = check(
+        text,
+        claims[i].map((c) => c.headSeq),
+      ).then((r) => {
+        if (!r.ok) failed = true
+        return r
+      })
+      // at most two pages waiting per thread
+      if (pool && i >= 2 * threads) await results[i - 2 * threads]
+    }
+  }
+  try {
+    const readers = [read(trx)]
+    if (pool) {
+      const [{ id }] = (await sql<{ id: string }>`SELECT pg_export_snapshot() AS id`.execute(trx)).rows
+      readers.push(
+        db.connection().execute(async (c) => {
+          if (taken >= ranges.length || failed) return
+          // a snapshot id is hex digits and dashes; SET TRANSACTION SNAPSHOT takes a literal only
+          if (!/^[0-9A-F-]+$/i.test(id)) throw new Error(`unexpected snapshot id ${id}`)
+          await sql`BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY`.execute(c)
+          try {
+            await sql`SET TRANSACTION SNAPSHOT ${sql.lit(id)}`.execute(c)
+            await read(c)
+          } finally {
+            await sql`COMMIT`.execute(c)
+          }
+        }),
+      )
+    }
+    await Promise.all(readers)
+    if (failed) return null
+    return stitchPages(await Promise.all(results), claims)
+  } finally {
+    await pool?.close()
+  }
+}
+
+/** The walk in one piece, page after page in this thread, naming the first problem exactly. */
+async function walkInOnePiece(
+  trx: Transaction<Database>,
+  ranges: { from: number | null; to: number | null }[],
+  checkpoints: CheckpointClaim[],
+  linkKey: Buffer,
+): Promise<VerifyResult> {
+  const st = genesisState()
+  const link = (hash: string) => linkOf(hash, linkKey)
   let cp = 0
-  let lastSeq = 0
-  let lastId = 0
-  let prev = GENESIS_HASH
-  let checked = 0
-  let unkeyed = 0
-  let keyedFrom: number | null = null
   const broken = (at: { id?: number; seq?: number }, problem: string, checkpoint?: string): VerifyResult => ({
     ok: false,
-    checked,
+    checked: st.checked,
     ...(at.id !== undefined ? { badId: at.id } : {}),
     ...(at.seq !== undefined ? { badSeq: at.seq } : {}),
     problem,
@@ -414,6 +500,7 @@ export async function verifyAuditChain(
   })
   /** Checks the checkpoints whose head lies before `next` (the next event read, or none at the end). */
   const settle = (next: { seq: number; id: number } | null): VerifyResult | null => {
+    const { lastSeq, prev, checked, keyedFrom, lastId } = st
     while (cp < checkpoints.length && (next === null || checkpoints[cp].headSeq < next.seq)) {
       const c = checkpoints[cp]
       if (c.headSeq !== lastSeq)
@@ -452,72 +539,52 @@ export async function verifyAuditChain(
     }
     return null
   }
-  const readPage = (after: number) => sealedPage(db, after, pageSize)
-  let next = readPage(0)
-  for (;;) {
-    const page = await next
-    if (!page.length) break
-    // read ahead: PostgreSQL sends the next page while this one is hashed
-    next = page.length === pageSize ? readPage(page[page.length - 1].seq) : Promise.resolve([])
-    for (const r of page) {
-      const { id, seq } = r
-      const pending = settle({ seq, id })
-      if (pending) {
-        next.catch(() => {})
-        return pending
-      }
-      let problem: string | null = null
-      let at: { id?: number; seq?: number } = { id, seq }
-      if ((keyedFrom !== null || r.data_hash !== null) && seq !== lastSeq + 1) {
-        at = { id, seq: lastSeq + 1 }
-        problem = `the event at chain position ${lastSeq + 1}${seq > lastSeq + 2 ? ` (and up to ${seq - 1})` : ''}, before event ${id}, is missing (deleted)`
-      } else if (r.prev_hash !== prev) {
-        // an event taken out where positions have gaps (before keyed links) shows as a broken link to it
-        problem = `prev_hash does not match the previous event${keyedFrom === null ? ' (an event before it was changed or deleted)' : ''}`
-      } else if (r.link === null && (keyedFrom !== null || r.data_hash !== null)) {
-        problem = 'event has no keyed link although the events before it have: forged or rewritten'
-      } else {
-        const content = contentOf(r)
-        let recomputed: string
-        if (r.data_hash !== null) {
-          const d = dataHash({ ...content, siteId: r.site_id })
-          recomputed = d === r.data_hash ? sealHash({ id, seq, dataHash: d, prevHash: r.prev_hash }) : ''
-        } else
-          recomputed = hashEvent({
-            ...content,
-            prevHash: r.prev_hash,
-            keyed: r.link === null ? undefined : { id, siteId: r.site_id },
-          })
-        if (recomputed !== r.hash) problem = 'hash does not match content'
-        else if (r.link !== null && r.link !== linkOf(r.hash, keys.linkKey))
-          problem = 'keyed link does not match: written or rewritten without the audit key'
-      }
-      if (problem) {
-        next.catch(() => {})
-        return broken(at, problem)
-      }
-      if (r.link !== null) keyedFrom ??= seq
-      else unkeyed++
-      prev = r.hash
-      lastSeq = seq
-      lastId = id
-      checked++
+  for (const { from, to } of ranges) {
+    const rows = (JSON.parse(await chainPage(trx, from, to)) as unknown[][]).map(rowOf)
+    for (const r of rows) {
+      const pending = settle({ seq: r.seq, id: r.id })
+      if (pending) return pending
+      const p = linkProblem(r, st) ?? contentProblem(r, link)
+      if (p) return broken(p.at, p.problem)
+      advance(st, r)
     }
   }
   const pending = settle(null)
   if (pending) return pending
-  // the unsealed events: content against the data hash written with it, and each sealed within the bound
-  const clock = opts.clock ?? systemClock
-  const bound = opts.unsealedBoundSeconds ?? UNSEALED_BOUND_SECONDS
+  return {
+    ok: true,
+    checked: st.checked,
+    headId: st.lastId || undefined,
+    headSeq: st.lastSeq || undefined,
+    headHash: st.checked ? st.prev : undefined,
+    ...(st.unkeyed ? { unkeyed: st.unkeyed } : {}),
+  }
+}
+
+/** The unsealed events: each content against the data hash written with it, and each sealed within the bound. */
+async function checkUnsealed(
+  trx: Transaction<Database>,
+  sealed: VerifyResult,
+  clock: Clock,
+  boundSeconds: number | undefined,
+  pageSize: number,
+): Promise<VerifyResult> {
+  const bound = boundSeconds ?? UNSEALED_BOUND_SECONDS
+  const broken = (id: number, problem: string): VerifyResult => ({
+    ok: false,
+    checked: sealed.checked,
+    badId: id,
+    problem,
+  })
   let unsealed = 0
   let oldest: { id: number; at: number } | null = null
   let afterId = 0
   for (;;) {
-    const page = await unsealedPage(db, afterId, pageSize)
+    const page = await unsealedPage(trx, afterId, pageSize)
     for (const r of page) {
       const id = r.id
       const d = dataHash({ ...contentOf(r), siteId: r.site_id })
-      if (d !== r.data_hash) return broken({ id }, 'hash does not match content')
+      if (d !== r.data_hash) return broken(id, 'hash does not match content')
       const at = r.occurred_ms
       if (!oldest || at < oldest.at) oldest = { id, at }
       unsealed++
@@ -529,21 +596,12 @@ export async function verifyAuditChain(
     const waited = (clock.now().getTime() - oldest.at) / 1000
     if (waited > bound)
       return broken(
-        { id: oldest.id },
+        oldest.id,
         `event ${oldest.id} has waited ${Math.round(waited)} s unsealed (more than ${bound} s): the sealer is not running, or the event was put there behind its back`,
       )
   }
-  return {
-    ok: true,
-    checked,
-    headId: lastId || undefined,
-    headSeq: lastSeq || undefined,
-    headHash: checked ? prev : undefined,
-    ...(unkeyed ? { unkeyed } : {}),
-    ...(unsealed ? { unsealed } : {}),
-  }
+  return { ...sealed, ...(unsealed ? { unsealed } : {}) }
 }
-
 /**
  * Whose events a reader sees (docs/security.md, "Whose events a reader sees"): the events of `siteIds` (the sites
  * where they are administrator, plant manager or auditor), installation-wide events about accounts that hold a role at

@@ -1,0 +1,243 @@
+import { dataHash, type EventContent, GENESIS_HASH, hashEvent, sealHash } from './audit.hash.ts'
+
+// The checks of the chain walk (docs/adr/0003-audit-hash-chain.md, "Verify"), free of the database so that worker
+// threads (server/features/audit/audit.verify.worker.ts) run them on pages of the chain as the main thread does.
+
+/** An event as the verifier reads it: the time as milliseconds (no Date parsed per row), ids as numbers. */
+export interface EventRow {
+  id: number
+  occurred_ms: number
+  actor_id: number | null
+  action: string
+  entity_type: string
+  entity_id: string | null
+  before: unknown
+  after: unknown
+  reason: string | null
+  batch_id: string | null
+  request_id: string | null
+  ip: string | null
+  site_id: number | null
+  data_hash: string | null
+}
+
+export interface ChainRow extends EventRow {
+  seq: number
+  prev_hash: string
+  hash: string
+  link: string | null
+}
+
+/**
+ * The columns of an event as PostgreSQL writes them into one JSON array per event (`json_build_array`), in the order
+ * `rowOf` reads them: a page of the chain comes as one text value, parsed by one JSON.parse off the main thread.
+ * JSON.parse gives back each string exactly and each jsonb value as the driver would (it parses jsonb with JSON.parse).
+ */
+export const EVENT_ARRAY = `id, (extract(epoch FROM occurred_at) * 1000)::bigint, actor_id, action, entity_type,
+  entity_id, before, after, reason, batch_id, request_id, ip, site_id, data_hash`
+export const CHAIN_ARRAY = `${EVENT_ARRAY}, seq, prev_hash, hash, link`
+
+type Cell = string | number | null
+/** An event (and its seal, when the array has one) from its JSON array. */
+export function rowOf(a: unknown[]): ChainRow {
+  const c = a as Cell[]
+  return {
+    id: c[0] as number,
+    occurred_ms: c[1] as number,
+    actor_id: c[2] as number | null,
+    action: c[3] as string,
+    entity_type: c[4] as string,
+    entity_id: c[5] as string | null,
+    before: a[6],
+    after: a[7],
+    reason: c[8] as string | null,
+    batch_id: c[9] as string | null,
+    request_id: c[10] as string | null,
+    ip: c[11] as string | null,
+    site_id: c[12] as number | null,
+    data_hash: c[13] as string | null,
+    seq: c[14] as number,
+    prev_hash: c[15] as string,
+    hash: c[16] as string,
+    link: c[17] as string | null,
+  }
+}
+
+/** The recorded values of an event row under their API names (the verifier and the audit-trail list share them). */
+export function recordedFields(
+  r: Pick<EventRow, 'before' | 'after' | 'reason' | 'batch_id' | 'request_id' | 'ip'>,
+): Pick<EventContent, 'before' | 'after' | 'reason' | 'batchId' | 'requestId' | 'ip'> {
+  return { before: r.before, after: r.after, reason: r.reason, batchId: r.batch_id, requestId: r.request_id, ip: r.ip }
+}
+
+/** The content of an event as read back, in the form its hashes cover. */
+export function contentOf(r: EventRow) {
+  return {
+    occurredAt: new Date(r.occurred_ms),
+    actorId: r.actor_id,
+    action: r.action,
+    entityType: r.entity_type,
+    entityId: r.entity_id,
+    ...recordedFields(r),
+  }
+}
+
+/** Where the walk stands after an event: its position, id and hash, how many were checked, where keyed links began. */
+export interface WalkState {
+  lastSeq: number
+  lastId: number
+  prev: string
+  checked: number
+  unkeyed: number
+  keyedFrom: number | null
+}
+
+export const genesisState = (): WalkState => ({
+  lastSeq: 0,
+  lastId: 0,
+  prev: GENESIS_HASH,
+  checked: 0,
+  unkeyed: 0,
+  keyedFrom: null,
+})
+
+export interface Problem {
+  at: { id?: number; seq?: number }
+  problem: string
+}
+
+/** What of an event ties it to the one before: its position, its `prev_hash`, whether it is keyed and its format. */
+export type ChainLink = Pick<ChainRow, 'id' | 'seq' | 'prev_hash' | 'link' | 'data_hash'>
+
+/** The event's tie to the walk so far: one position after the previous, its hash as `prev_hash`, keyed once links began. */
+export function linkProblem(r: ChainLink, st: WalkState): Problem | null {
+  const { id, seq } = r
+  if ((st.keyedFrom !== null || r.data_hash !== null) && seq !== st.lastSeq + 1)
+    return {
+      at: { id, seq: st.lastSeq + 1 },
+      problem: `the event at chain position ${st.lastSeq + 1}${seq > st.lastSeq + 2 ? ` (and up to ${seq - 1})` : ''}, before event ${id}, is missing (deleted)`,
+    }
+  if (r.prev_hash !== st.prev)
+    // an event taken out where positions have gaps (before keyed links) shows as a broken link to it
+    return {
+      at: { id, seq },
+      problem: `prev_hash does not match the previous event${st.keyedFrom === null ? ' (an event before it was changed or deleted)' : ''}`,
+    }
+  if (r.link === null && (st.keyedFrom !== null || r.data_hash !== null))
+    return {
+      at: { id, seq },
+      problem: 'event has no keyed link although the events before it have: forged or rewritten',
+    }
+  return null
+}
+
+/** The event on its own: its hashes recomputed from its content, its keyed link recomputed with the key. */
+export function contentProblem(r: ChainRow, linkOf: (hash: string) => string): Problem | null {
+  const { id, seq } = r
+  const content = contentOf(r)
+  let recomputed: string
+  if (r.data_hash !== null) {
+    const d = dataHash({ ...content, siteId: r.site_id })
+    recomputed = d === r.data_hash ? sealHash({ id, seq, dataHash: d, prevHash: r.prev_hash }) : ''
+  } else
+    recomputed = hashEvent({
+      ...content,
+      prevHash: r.prev_hash,
+      keyed: r.link === null ? undefined : { id, siteId: r.site_id },
+    })
+  if (recomputed !== r.hash) return { at: { id, seq }, problem: 'hash does not match content' }
+  if (r.link !== null && r.link !== linkOf(r.hash))
+    return { at: { id, seq }, problem: 'keyed link does not match: written or rewritten without the audit key' }
+  return null
+}
+
+/** Moves the walk past an event found intact. */
+export function advance(st: WalkState, r: ChainRow): void {
+  if (r.link !== null) st.keyedFrom ??= r.seq
+  else st.unkeyed++
+  st.prev = r.hash
+  st.lastSeq = r.seq
+  st.lastId = r.id
+  st.checked++
+}
+
+/**
+ * A page of the chain checked on its own, as if the walk before it had ended one position before its first event with
+ * that event's `prev_hash` (and no keyed link yet): every check of the walk except the first event's tie to the page
+ * before, which `stitchPages` makes. `marks` holds, for each checkpoint head given (within the page's range), the walk
+ * after the page's events up to that position (null when the page has none up to it).
+ */
+export interface PageCheck {
+  ok: boolean
+  first: ChainLink | null
+  end: WalkState | null
+  marks: (WalkState | null)[]
+}
+
+export function checkPage(rows: ChainRow[], heads: number[], linkOf: (hash: string) => string): PageCheck {
+  const marks: (WalkState | null)[] = heads.map(() => null)
+  if (!rows.length) return { ok: true, first: null, end: null, marks }
+  const f = rows[0]
+  const first = { id: f.id, seq: f.seq, prev_hash: f.prev_hash, link: f.link, data_hash: f.data_hash }
+  const st: WalkState = { lastSeq: f.seq - 1, lastId: 0, prev: f.prev_hash, checked: 0, unkeyed: 0, keyedFrom: null }
+  let h = 0
+  for (const r of rows) {
+    for (; h < heads.length && heads[h] < r.seq; h++) marks[h] = st.checked ? { ...st } : null
+    if (linkProblem(r, st) ?? contentProblem(r, linkOf)) return { ok: false, first, end: null, marks }
+    advance(st, r)
+  }
+  for (; h < heads.length; h++) marks[h] = { ...st }
+  return { ok: true, first, end: st, marks }
+}
+
+/** A signed statement of the chain head at a moment (server/features/audit/audit.checkpoint.ts). */
+export interface CheckpointClaim {
+  file: string
+  headSeq: number
+  headHash: string
+  count: number
+  firstKeyedSeq: number | null
+}
+
+/** Whether the walk, just past a checkpoint's head position, agrees with everything the checkpoint signed. */
+export function claimHolds(c: CheckpointClaim, st: WalkState): boolean {
+  return (
+    st.lastSeq === c.headSeq && st.prev === c.headHash && st.checked === c.count && st.keyedFrom === c.firstKeyedSeq
+  )
+}
+
+/** The walk after `before` and then a page's walk `rel` (counted from the page's start). */
+function after(before: WalkState, rel: WalkState): WalkState {
+  return {
+    lastSeq: rel.lastSeq,
+    lastId: rel.lastId,
+    prev: rel.prev,
+    checked: before.checked + rel.checked,
+    unkeyed: before.unkeyed + rel.unkeyed,
+    keyedFrom: before.keyedFrom ?? rel.keyedFrom,
+  }
+}
+
+/**
+ * Joins pages checked on their own (`checkPage`, in chain order; `claims[i]` the checkpoints whose head lies in page
+ * i's range, in the order their heads were given) into the walk of the whole chain: each page's first event must tie
+ * to the end of the page before, exactly as the walk checks it, and each checkpoint must hold where the walk passes
+ * its head. Answers the walk's end when the whole chain is intact, null otherwise (the walk in one piece then names
+ * the first problem).
+ */
+export function stitchPages(pages: PageCheck[], claims: CheckpointClaim[][]): WalkState | null {
+  let g = genesisState()
+  for (let i = 0; i < pages.length; i++) {
+    const p = pages[i]
+    if (!p.ok) return null
+    // past the first event, a page's walk differs from the whole walk only in where keyed links began: the first
+    // event, when keyed links began before it, must have one (linkProblem), and then begins them in the page too
+    if (p.first && linkProblem(p.first, g)) return null
+    for (let k = 0; k < claims[i].length; k++) {
+      const m = p.marks[k]
+      if (!claimHolds(claims[i][k], m ? after(g, m) : g)) return null
+    }
+    if (p.end) g = after(g, p.end)
+  }
+  return g
+}
