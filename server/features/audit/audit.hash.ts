@@ -41,14 +41,35 @@ export function canonicalJson(v: unknown): string {
     return `${s}]`
   }
   const rec = v as Record<string, unknown>
-  const keys = Object.keys(rec).sort()
+  const { sorted, names } = shapeOf(Object.keys(rec))
   let s = '{'
-  for (const k of keys) {
-    const x = rec[k]
+  for (let i = 0; i < sorted.length; i++) {
+    const x = rec[sorted[i]]
     if (x === undefined || typeof x === 'symbol') continue
-    s += (s.length > 1 ? ',' : '') + JSON.stringify(k) + ':' + canonicalJson(x)
+    s += (s.length > 1 ? ',' : '') + names[i] + canonicalJson(x)
   }
   return `${s}}`
+}
+
+/** An object's member names in canonical order, each written out with its colon. */
+interface Shape {
+  own: string[]
+  sorted: string[]
+  names: string[]
+}
+// Objects of the same shape (the events of one kind) come again and again: their names are sorted and written out once.
+const shapes = new Map<string, Shape>()
+const MAX_SHAPES = 2000
+
+function shapeOf(own: string[]): Shape {
+  const id = own.join('\u0000')
+  const hit = shapes.get(id)
+  // the joined names could be the same for other names holding the separator: compare them one by one
+  if (hit && hit.own.length === own.length && hit.own.every((k, i) => k === own[i])) return hit
+  const sorted = [...own].sort()
+  const shape = { own, sorted, names: sorted.map((k) => `${JSON.stringify(k)}:`) }
+  if (shapes.size < MAX_SHAPES) shapes.set(id, shape)
+  return shape
 }
 
 /** What every format's hash covers of an event. */

@@ -18,7 +18,7 @@ import {
   type WalkState,
 } from './audit.chain.ts'
 import { dataHash, GENESIS_HASH, sealHash } from './audit.hash.ts'
-import { type AuditKeys, linkOf, loadAuditKeys } from './audit.key.ts'
+import { type AuditKeys, linkHasher, loadAuditKeys } from './audit.key.ts'
 import { checkPageHere, startPageWorkers } from './audit.verify.pages.ts'
 import { AUDIT_ENTITY_SITE, type AuditEntityType } from './audit.sites.ts'
 import { likeEscape } from '../../authorize.ts'
@@ -243,7 +243,7 @@ export async function sealAuditEvents(
   clock: Clock,
   opts: { batch?: number; keys?: AuditKeys } = {},
 ): Promise<{ sealed: number; headSeq: number }> {
-  const { linkKey } = opts.keys ?? loadAuditKeys()
+  const link = linkHasher((opts.keys ?? loadAuditKeys()).linkKey)
   const batch = opts.batch ?? SEAL_BATCH
   return db.transaction().execute(async (trx) => {
     await sql`SELECT pg_advisory_xact_lock(${sql.lit(AUDIT_SEAL_LOCK)})`.execute(trx)
@@ -272,7 +272,7 @@ export async function sealAuditEvents(
       seqs.push(String(seq))
       prevs.push(prevHash)
       hashes.push(hash)
-      links.push(linkOf(hash, linkKey))
+      links.push(link(hash))
       prevHash = hash
     }
     await sql`
@@ -488,7 +488,7 @@ async function walkInOnePiece(
   linkKey: Buffer,
 ): Promise<VerifyResult> {
   const st = genesisState()
-  const link = (hash: string) => linkOf(hash, linkKey)
+  const link = linkHasher(linkKey)
   let cp = 0
   const broken = (at: { id?: number; seq?: number }, problem: string, checkpoint?: string): VerifyResult => ({
     ok: false,

@@ -1,13 +1,13 @@
 import { Worker } from 'node:worker_threads'
 import { checkPage, type PageCheck, rowOf } from './audit.chain.ts'
-import { linkOf } from './audit.key.ts'
+import { linkHasher } from './audit.key.ts'
 
 /** Checks one page of the chain (its JSON text) against the checkpoint heads within its range. */
 export type PageChecker = (text: string, heads: number[]) => Promise<PageCheck>
 
 /** The page check in the calling thread. */
 export function checkPageHere(linkKey: Buffer): PageChecker {
-  const link = (hash: string) => linkOf(hash, linkKey)
+  const link = linkHasher(linkKey)
   return async (text, heads) => checkPage((JSON.parse(text) as unknown[][]).map(rowOf), heads, link)
 }
 

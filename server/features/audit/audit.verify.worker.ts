@@ -1,11 +1,11 @@
 import { parentPort, workerData } from 'node:worker_threads'
 import { checkPage, rowOf } from './audit.chain.ts'
-import { linkOf } from './audit.key.ts'
+import { linkHasher } from './audit.key.ts'
 
 // A worker thread of the chain walk (server/features/audit/audit.verify.pages.ts): checks the pages of the chain it
 // is sent, each one JSON text as PostgreSQL wrote it, with the link key it was started with.
 const key = Buffer.from(workerData.linkKey as Uint8Array)
-const link = (hash: string) => linkOf(hash, key)
+const link = linkHasher(key)
 
 parentPort!.on('message', (m: { id: number; text: string; heads: number[] }) => {
   const rows = (JSON.parse(m.text) as unknown[][]).map(rowOf)
