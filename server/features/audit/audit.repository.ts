@@ -449,8 +449,8 @@ async function walkInPages(
         if (!r.ok) failed = true
         return r
       })
-      // at most two pages waiting per thread
-      if (pool && i >= 2 * threads) await results[i - 2 * threads]
+      // at most one page read ahead of the threads (each page's text is some megabytes)
+      if (pool && i > threads) await results[i - threads - 1]
     }
   }
   try {
