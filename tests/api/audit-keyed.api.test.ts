@@ -8,7 +8,12 @@ import pg from 'pg'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { dataHash, sealHash } from '../../server/features/audit/audit.hash.ts'
 import { linkOf } from '../../server/features/audit/audit.key.ts'
-import { appendAuditAlone, sealAll, verifyAuditChain } from '../../server/features/audit/audit.repository.ts'
+import {
+  appendAuditAlone,
+  type CheckpointClaim,
+  sealAll,
+  verifyAuditChain,
+} from '../../server/features/audit/audit.repository.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // The audit trail beyond the database's reach: keyed links (HMAC-SHA256, RFC 2104) with a key the database never
@@ -177,6 +182,123 @@ describe('keyed links', () => {
       ),
     ])
     expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true })
+  })
+})
+
+// The chain walked in pages checked side by side by worker threads (docs/adr/0003-audit-hash-chain.md, "Verify"):
+// it must answer exactly as the walk in one piece, for an intact chain and for each kind of tampering, also where the
+// tampering sits at the edge between two pages. Pages of 3 events; the one-piece walk reads the chain as one page.
+const PAGE = 3
+
+/** The walk in one piece and in pages (by two threads, and in this thread), which must agree; answers the first. */
+async function walkBoth(checkpoints: CheckpointClaim[] = []) {
+  const whole = await verifyAuditChain(ctx.db, { checkpoints, workers: 0 })
+  expect(await verifyAuditChain(ctx.db, { checkpoints, pageSize: PAGE, workers: 2 })).toEqual(whole)
+  expect(await verifyAuditChain(ctx.db, { checkpoints, pageSize: PAGE, workers: 0 })).toEqual(whole)
+  return whole
+}
+
+/** A checkpoint as `npm run audit:checkpoint` would have signed it at chain position `seq`. */
+function claimAt(all: Row[], seq: number): CheckpointClaim {
+  const upTo = all.filter((r) => Number(r.seq) <= seq)
+  const keyed = upTo.find((r) => r.link !== null)
+  return {
+    file: `checkpoint-${seq}.json`,
+    headSeq: seq,
+    headHash: upTo.at(-1)!.hash,
+    count: upTo.length,
+    firstKeyedSeq: keyed ? Number(keyed.seq) : null,
+  }
+}
+
+describe('the chain walked in pages by worker threads', () => {
+  it('finds an intact chain intact, with the same head and count as the walk in one piece', async () => {
+    const all = await rows()
+    expect(all.length).toBeGreaterThan(4 * PAGE)
+    const r = await walkBoth([claimAt(all, PAGE), claimAt(all, PAGE + 1), claimAt(all, all.length)])
+    expect(r).toMatchObject({ ok: true, checked: all.length, headSeq: all.length, headHash: all.at(-1)!.hash })
+  })
+
+  it('holds each checkpoint to the count, hash and first keyed position where its head lies', async () => {
+    const all = await rows()
+    const good = claimAt(all, 2 * PAGE)
+    for (const bad of [
+      { ...good, count: good.count - 1 },
+      { ...good, headHash: all[0].hash },
+      { ...good, firstKeyedSeq: 2 },
+      { ...good, headSeq: all.length + 3 },
+    ]) {
+      const r = await walkBoth([claimAt(all, PAGE), bad])
+      expect(r.ok).toBe(false)
+      expect(r.checkpoint).toBe(good.file)
+    }
+  })
+
+  it('catches an event changed at the first, middle and last place of a page', async () => {
+    const all = await rows()
+    for (const i of [PAGE, PAGE + 1, 2 * PAGE - 1]) {
+      const victim = all[i]
+      await asSuperuser([["UPDATE audit_event SET reason = 'changed' WHERE id = $1", [victim.id]]])
+      expect(await walkBoth()).toEqual({
+        ok: false,
+        checked: i,
+        badId: Number(victim.id),
+        badSeq: Number(victim.seq),
+        problem: 'hash does not match content',
+      })
+      await asSuperuser([['UPDATE audit_event SET reason = $1 WHERE id = $2', [victim.reason, victim.id]]])
+    }
+    expect(await walkBoth()).toMatchObject({ ok: true })
+  })
+
+  it('catches the first event of a page deleted, rewritten without the key, unkeyed or pointing elsewhere', async () => {
+    const all = await rows()
+    const first = all[2 * PAGE]
+    await asSuperuser([['DELETE FROM audit_event WHERE id = $1', [first.id]]])
+    expect(await walkBoth()).toMatchObject({
+      ok: false,
+      checked: 2 * PAGE,
+      badSeq: Number(first.seq),
+      badId: Number(all[2 * PAGE + 1].id),
+    })
+    const cols = Object.keys(first)
+    await asSuperuser([
+      [
+        `INSERT INTO audit_event (${cols.join(', ')}) VALUES (${cols.map((_, i) => `$${i + 1}`).join(', ')})`,
+        cols.map((k) => (k === 'before' || k === 'after' ? JSON.stringify(first[k]) : first[k])),
+      ],
+    ])
+    expect(await walkBoth()).toMatchObject({ ok: true })
+
+    // rewritten with the hashes anyone can recompute: its link no longer matches
+    const { dataHash: d, hash } = hashOf({ ...first, reason: 'rewritten' } as Row, first.prev_hash)
+    const restore: [string, unknown[]] = [
+      'UPDATE audit_event SET reason = $1, data_hash = $2, hash = $3, link = $4, prev_hash = $5 WHERE id = $6',
+      [first.reason, first.data_hash, first.hash, first.link, first.prev_hash, first.id],
+    ]
+    await asSuperuser([
+      ["UPDATE audit_event SET reason = 'rewritten', data_hash = $1, hash = $2 WHERE id = $3", [d, hash, first.id]],
+    ])
+    expect(await walkBoth()).toMatchObject({
+      ok: false,
+      checked: 2 * PAGE,
+      badId: Number(first.id),
+      problem: 'keyed link does not match: written or rewritten without the audit key',
+    })
+    await asSuperuser([restore, ['UPDATE audit_event SET link = NULL WHERE id = $1', [first.id]]])
+    expect(await walkBoth()).toMatchObject({
+      ok: false,
+      badId: Number(first.id),
+      problem: 'event has no keyed link although the events before it have: forged or rewritten',
+    })
+    await asSuperuser([restore, ['UPDATE audit_event SET prev_hash = $1 WHERE id = $2', ['f'.repeat(64), first.id]]])
+    expect(await walkBoth()).toMatchObject({
+      ok: false,
+      badId: Number(first.id),
+      problem: 'prev_hash does not match the previous event',
+    })
+    await asSuperuser([restore])
+    expect(await walkBoth()).toMatchObject({ ok: true, checked: all.length })
   })
 })
 

@@ -111,7 +111,7 @@ export function linkHasher(key: Buffer): (hash: string) => string {
   }
   return (hash) => {
     if (!HEX64.test(hash)) return linkOf(hash, key)
-    inner.latin1Write(hash, 64)
+    inner.write(hash, 64, 'latin1')
     ;(oneShotHash('sha256', inner, 'buffer') as unknown as Buffer).copy(outer, 64)
     return oneShotHash('sha256', outer, 'hex')
   }

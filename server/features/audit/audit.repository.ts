@@ -402,16 +402,7 @@ export async function verifyAuditChain(
       const ranges = starts.map((from, i) => ({ from, to: i + 1 < starts.length ? starts[i + 1] : null }))
       const threads = ranges.length >= PARALLEL_FROM_PAGES ? (opts.workers ?? Math.min(availableParallelism(), 4)) : 0
       const end = await walkInPages(db, trx, ranges, checkpoints, keys.linkKey, threads)
-      const sealed = end
-        ? {
-            ok: true,
-            checked: end.checked,
-            headId: end.lastId || undefined,
-            headSeq: end.lastSeq || undefined,
-            headHash: end.checked ? end.prev : undefined,
-            ...(end.unkeyed ? { unkeyed: end.unkeyed } : {}),
-          }
-        : await walkInOnePiece(trx, ranges, checkpoints, keys.linkKey)
+      const sealed = end ? intact(end) : await walkInOnePiece(trx, ranges, checkpoints, keys.linkKey)
       if (!sealed.ok) return sealed
       return checkUnsealed(trx, sealed, opts.clock ?? systemClock, opts.unsealedBoundSeconds, pageSize)
     })
@@ -435,44 +426,51 @@ async function walkInPages(
   const pool = threads > 0 ? startPageWorkers(threads, linkKey) : null
   const check = pool?.check ?? checkPageHere(linkKey)
   const results: Promise<PageCheck>[] = []
-  let taken = 0
+  const waiting = ranges.map((_, i) => i)
   let failed = false
   // each reader takes the next page, reads it and hands it to the checks; a failed check stops the reading
   const read = async (q: Reader) => {
-    while (taken < ranges.length && !failed) {
-      const i = taken++
-      const text = await chainPage(q, ranges[i].from, ranges[i].to)
-      results[i] = check(
+    for (let i = waiting.shift(); i !== undefined && !failed; i = waiting.shift()) {
+      const page = i
+      const text = await chainPage(q, ranges[page].from, ranges[page].to).catch((err: unknown) => {
+        waiting.unshift(page) // another reader takes it
+        throw err
+      })
+      results[page] = check(
         text,
-        claims[i].map((c) => c.headSeq),
+        claims[page].map((c) => c.headSeq),
       ).then((r) => {
         if (!r.ok) failed = true
         return r
       })
       // at most one page read ahead of the threads (each page's text is some megabytes)
-      if (pool && i > threads) await results[i - threads - 1]
+      if (pool && page > threads) await results[page - threads - 1]
     }
   }
   try {
-    const readers = [read(trx)]
-    if (pool) {
-      const [{ id }] = (await sql<{ id: string }>`SELECT pg_export_snapshot() AS id`.execute(trx)).rows
-      readers.push(
-        db.connection().execute(async (c) => {
-          if (taken >= ranges.length || failed) return
-          // a snapshot id is hex digits and dashes; SET TRANSACTION SNAPSHOT takes a literal only
-          if (!/^[0-9A-F-]+$/i.test(id)) throw new Error(`unexpected snapshot id ${id}`)
-          await sql`BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY`.execute(c)
-          try {
-            await sql`SET TRANSACTION SNAPSHOT ${sql.lit(id)}`.execute(c)
-            await read(c)
-          } finally {
-            await sql`COMMIT`.execute(c)
-          }
-        }),
-      )
-    }
-    await Promise.all(readers)
+    // a second reader on the same snapshot; the walk does without it when no connection comes (a busy pool or server)
+    const helper = pool
+      ? sql<{ id: string }>`SELECT pg_export_snapshot() AS id`
+          .execute(trx)
+          .then(({ rows: [{ id }] }) =>
+            db.connection().execute(async (c) => {
+              if (!waiting.length || failed) return
+              // a snapshot id is hex digits and dashes; SET TRANSACTION SNAPSHOT takes a literal only
+              if (!/^[0-9A-F-]+$/i.test(id)) throw new Error(`unexpected snapshot id ${id}`)
+              await sql`BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY`.execute(c)
+              try {
+                await sql`SET TRANSACTION SNAPSHOT ${sql.lit(id)}`.execute(c)
+                await read(c)
+              } finally {
+                await sql`COMMIT`.execute(c)
+              }
+            }),
+          )
+          .catch(() => {})
+      : Promise.resolve()
+    await read(trx)
+    await helper
+    await read(trx) // what the second reader handed back
     if (failed) return null
     return stitchPages(await Promise.all(results), claims)
   } finally {
@@ -549,8 +547,11 @@ async function walkInOnePiece(
       advance(st, r)
     }
   }
-  const pending = settle(null)
-  if (pending) return pending
+  return settle(null) ?? intact(st)
+}
+
+/** The answer for a sealed chain walked to its end without a problem. */
+function intact(st: WalkState): VerifyResult {
   return {
     ok: true,
     checked: st.checked,
