@@ -1,12 +1,4 @@
-import {
-  hash as oneShotHash,
-  createHash,
-  createHmac,
-  createPrivateKey,
-  createPublicKey,
-  generateKeyPairSync,
-  randomBytes,
-} from 'node:crypto'
+import { createHash, createPrivateKey, createPublicKey, generateKeyPairSync, randomBytes } from 'node:crypto'
 import type { KeyObject } from 'node:crypto'
 import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs'
 import path from 'node:path'
@@ -88,31 +80,5 @@ export function loadAuditKeys(file: string = auditKeyPath()): AuditKeys {
   return keys
 }
 
-/** The keyed link of an event: HMAC-SHA256 over its hash (which covers its content and the previous hash). */
-export function linkOf(hash: string, key: Buffer): string {
-  return createHmac('sha256', key).update(hash, 'utf8').digest('hex')
-}
-
-const HEX64 = /^[0-9a-f]{64}$/
-
-/**
- * `linkOf` with the key fixed, for checking many links: HMAC-SHA256 (RFC 2104) written out as its two SHA-256 over
- * the key's inner and outer pads, so that a link (over a 64-digit hex hash) costs two one-shot hashes into buffers made
- * once, not a new HMAC object. Any other text goes through `linkOf`. tests/unit/server/audit-key.test.ts compares it
- * with Node's HMAC and RFC 4231's test vectors.
- */
-export function linkHasher(key: Buffer): (hash: string) => string {
-  if (key.length > 64) return (hash) => linkOf(hash, key)
-  const inner = Buffer.alloc(64 + 64, 0x36)
-  const outer = Buffer.alloc(64 + 32, 0x5c)
-  for (let i = 0; i < key.length; i++) {
-    inner[i] ^= key[i]
-    outer[i] ^= key[i]
-  }
-  return (hash) => {
-    if (!HEX64.test(hash)) return linkOf(hash, key)
-    inner.write(hash, 64, 'latin1')
-    ;(oneShotHash('sha256', inner, 'buffer') as unknown as Buffer).copy(outer, 64)
-    return oneShotHash('sha256', outer, 'hex')
-  }
-}
+// the keyed link itself is computed in audit.hash.ts (free of the logger, for the verifier's worker threads)
+export { linkHasher, linkOf } from './audit.hash.ts'

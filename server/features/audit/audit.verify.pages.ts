@@ -1,6 +1,6 @@
 import { Worker } from 'node:worker_threads'
 import { checkPage, type PageCheck, rowOf } from './audit.chain.ts'
-import { linkHasher } from './audit.key.ts'
+import { linkHasher } from './audit.hash.ts'
 
 /** Checks one page of the chain (its JSON text) against the checkpoint heads within its range. */
 export type PageChecker = (text: string, heads: number[]) => Promise<PageCheck>

@@ -1,6 +1,6 @@
 import { parentPort, workerData } from 'node:worker_threads'
 import { checkPage, rowOf } from './audit.chain.ts'
-import { linkHasher } from './audit.key.ts'
+import { linkHasher } from './audit.hash.ts'
 
 // A worker thread of the chain walk (server/features/audit/audit.verify.pages.ts): checks the pages of the chain it
 // is sent, each one JSON text as PostgreSQL wrote it, with the link key it was started with.
