@@ -223,6 +223,34 @@ describe("each role's foundation calls (docs/security.md, Authorization)", () =>
   )
 })
 
+describe('reading an account by id (docs/security.md, Authorization)', () => {
+  it.each(WHO.filter((w) => w !== 'admin'))(
+    "%s gets the same 403 for another account's id whether it exists or not",
+    async (who) => {
+      const { max } = await ctx.db
+        .selectFrom('app_user')
+        .select((eb) => eb.fn.max('id').as('max'))
+        .executeTakeFirstOrThrow()
+      const unknown = Number(max) + 1000
+      const existing = await agents[who].get(`/api/users/${target}`)
+      const missing = await agents[who].get(`/api/users/${unknown}`)
+      expect(existing.status).toBe(403)
+      expect(missing.status).toBe(403)
+      expect(missing.body.error).toEqual(existing.body.error)
+    },
+  )
+
+  it('an administrator gets 404 for an id that does not exist', async () => {
+    const { max } = await ctx.db
+      .selectFrom('app_user')
+      .select((eb) => eb.fn.max('id').as('max'))
+      .executeTakeFirstOrThrow()
+    const res = await agents.admin.get(`/api/users/${Number(max) + 1000}`)
+    expect(res.status).toBe(404)
+    expect(res.body.error.code).toBe('NOT_FOUND')
+  })
+})
+
 describe('role assignments', () => {
   it("an admin cannot change their own roles (403, nothing written) but can change another's", async () => {
     const admin = agents.admin

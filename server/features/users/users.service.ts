@@ -37,10 +37,14 @@ export async function listUsers(deps: AppDeps, ability: AppAbility, q: ListQuery
   return { items: rows.map((r) => toUser(r, roles.get(r.id) ?? [])), total: await repo.countUsers(deps.db, q.q) }
 }
 
+/**
+ * One account. The right to read it is checked before the lookup, so a user who may read only their own account gets
+ * the same 403 for another account's id whether it exists or not (docs/security.md#authorization).
+ */
 export async function getUser(deps: AppDeps, ability: AppAbility, id: number): Promise<User> {
+  authorize(ability, 'read', 'User', { id })
   const row = await repo.findUserById(deps.db, id)
   if (!row) throw notFound('User')
-  authorize(ability, 'read', 'User', { id })
   return toUser(row, (await repo.findRolesByUserIds(deps.db, [id])).get(id) ?? [])
 }
 
