@@ -14,6 +14,9 @@ import type {
   ChangeType,
   ChecklistItem,
   Discipline,
+  ItemReadBack,
+  ItemWindow,
+  ReadBackExpected,
 } from '../../shared/schemas/change-requests.ts'
 import type {
   AsFoundResultDto,
@@ -341,13 +344,14 @@ export interface ChangeRequestItemTable {
   instrument_id: number | null
   changes: JsonValue<Record<string, { from: unknown; to: unknown }>>
   base_revision: number
-  window_before: ColumnType<unknown, string | null, string | null>
-  window_after: ColumnType<unknown, string | null, string | null>
+  /** the operating-window findings before the change and with its values; null on the side that has no limit */
+  window_before: ColumnType<ItemWindow | null, string | null, string | null>
+  window_after: ColumnType<ItemWindow | null, string | null, string | null>
   implemented_at: Timestamp | null
   implemented_by: number | null
-  read_back: ColumnType<unknown, string | null, string | null>
+  read_back: ColumnType<ItemReadBack | null, string | null, string | null>
   /** alarm priority and enabled state read back beyond the changed fields; null where none */
-  read_back_expected: ColumnType<Record<string, unknown> | null, string | null | undefined, string | null>
+  read_back_expected: ColumnType<ReadBackExpected | null, string | null | undefined, string | null>
 }
 export interface ChangeRequestEditorTable {
   change_request_id: number

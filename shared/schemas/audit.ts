@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { IdSchema, ListQuerySchema } from './common.ts'
+import { IdSchema, InstantSchema, isKnownTimeZone, ListQuerySchema, type ListResult, PageSchema } from './common.ts'
 
 /**
  * What each action code of the audit trail means, in words (the list, its CSV export and the change timeline read
@@ -128,22 +128,37 @@ export const AUDIT_ENTITY_LABELS: Record<string, string> = {
   System: 'Installation',
 }
 
-/** `GET /api/audit-events` and its CSV export: filters; `from` and `to` are instants (`to` exclusive). */
-export const AuditQuerySchema = ListQuerySchema.extend({
+/** The filters of the audit trail's list and export; `from` and `to` are instants (`to` exclusive). */
+const auditFilters = {
+  q: ListQuerySchema.shape.q,
   entityType: z.string().max(60).optional(),
   entityId: z.string().max(60).optional(),
   actorId: IdSchema.optional(),
   action: z.string().max(80).optional(),
   siteId: IdSchema.optional(),
-  from: z.iso.datetime({ offset: true }).optional(),
-  to: z.iso.datetime({ offset: true }).optional(),
-  cursor: IdSchema.optional(),
-})
+  from: InstantSchema.optional(),
+  to: InstantSchema.optional(),
+}
+
+/**
+ * `GET /api/audit-events`: filters and paging. The order is fixed (newest first), so a `sort`, like any parameter
+ * the list does not take, is refused (400) rather than silently ignored (docs/api.md#audit-events).
+ */
+export const AuditQuerySchema = PageSchema.extend({ ...auditFilters, cursor: IdSchema.optional() }).strict()
 export type AuditQuery = z.infer<typeof AuditQuerySchema>
 /** The list query as the client sends it. */
 export type AuditListQuery = Partial<AuditQuery>
 /** The filters of the list and its export, without paging (`from` and `to` are instants, `to` exclusive). */
-export type AuditFilters = Omit<AuditListQuery, 'page' | 'pageSize' | 'cursor' | 'sort' | 'actorId'>
+export type AuditFilters = Omit<AuditListQuery, 'page' | 'pageSize' | 'cursor' | 'actorId'>
+
+/** `GET /api/audit-events/export.csv`: the list's filters and the time zone of the local-time column. */
+export const AuditExportQuerySchema = z
+  .object({
+    ...auditFilters,
+    tz: z.string().max(64).refine(isKnownTimeZone, 'Unknown time zone').default('UTC'),
+  })
+  .strict()
+export type AuditExportQuery = z.infer<typeof AuditExportQuerySchema>
 
 /** One event as the list gives it. */
 export interface AuditEventDto {
@@ -171,6 +186,11 @@ export interface AuditEventDto {
   hash: string | null
   /** Position in the chain; null while not yet sealed. */
   seq: number | null
+}
+
+/** `GET /api/audit-events`: a page of events; `nextCursor` is the last id of a full page, else null. */
+export interface AuditEventList extends ListResult<AuditEventDto> {
+  nextCursor: number | null
 }
 
 /** `POST /api/audit-events/verify`: the verifier's answer. */

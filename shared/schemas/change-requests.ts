@@ -1,5 +1,6 @@
 import { z } from 'zod'
-import { IdSchema, ListQuerySchema, type ListResult, repeated, type SignatureBase } from './common.ts'
+import { IdSchema, type ListResult, PageSchema, repeated, type SignatureBase } from './common.ts'
+import type { WindowFindingDto } from './register.ts'
 
 /**
  * The discipline reviews a site policy may ask of a change request (docs/change-requests.md#discipline-reviews):
@@ -48,6 +49,8 @@ export const IMPACT_CHECKLIST = [
   { item: 'drawings', group: 'closeout', label: 'Drawings and loop diagrams updated as built' },
 ] as const satisfies readonly { item: string; group: ChecklistGroup; label: string }[]
 export type ChecklistItem = (typeof IMPACT_CHECKLIST)[number]['item']
+/** The checklist item a path names (`PUT /api/change-requests/:id/checklist/:item`). */
+export const ChecklistItemSchema = z.enum(IMPACT_CHECKLIST.map((c) => c.item))
 export const CHECKLIST_GROUP_LABELS: Record<ChecklistGroup, string> = {
   before: 'Before implementation',
   closeout: 'Close-out',
@@ -129,8 +132,15 @@ export const CreateChangeRequestInputSchema = z
       ctx.addIssue({ code: 'custom', path: ['type'], message: 'A reversal is not itself temporary' })
   })
 export type CreateChangeRequestInput = z.infer<typeof CreateChangeRequestInputSchema>
+/** `POST /api/change-requests` as the client sends it. */
+export type CreateChangeRequestBody = z.input<typeof CreateChangeRequestInputSchema>
+/** The request's content as the form writes it, for a creation or an edit. */
+export type ChangeRequestBody = Omit<CreateChangeRequestBody, 'siteId' | 'reversesId' | 'proposalId'>
 export const UpdateChangeRequestInputSchema = z.object(fields).partial()
 export type UpdateChangeRequestInput = z.infer<typeof UpdateChangeRequestInputSchema>
+/** `PATCH /api/change-requests/:id`: the fields to change and the version the editor read (a stale one is 409). */
+export const ChangeRequestPatchSchema = UpdateChangeRequestInputSchema.extend({ version: z.number().int().optional() })
+export type ChangeRequestPatch = z.input<typeof ChangeRequestPatchSchema>
 
 export const SignInputSchema = z.object({
   password: z.string().min(1, 'Enter your password to sign').max(128),
@@ -187,6 +197,26 @@ export interface SignatureDto extends SignatureBase {
   voidReason: string | null
   matchesContent: boolean
 }
+/** An operating-window finding of a change item; on an instrument item each names the limit it concerns. */
+export interface ItemWindowFinding extends WindowFindingDto {
+  tag?: string
+}
+/** The operating-window findings on one side of a change item (before it, or with its new values). */
+export interface ItemWindow {
+  errors: ItemWindowFinding[]
+  warnings: ItemWindowFinding[]
+}
+/** What the device must hold beyond the changed fields after implementation (alarm priority, enabled). */
+export type ReadBackExpected = {
+  priority?: string | null
+  enabled?: boolean
+}
+/**
+ * What implementation recorded as read back from the device: each device field as entered, or, for a whole request
+ * implemented from the device list, `{ deviceListConfirmed: true }`.
+ */
+export type ItemReadBack = Record<string, unknown> & { deviceListConfirmed?: boolean }
+
 export interface ChangeItemDto {
   id: number
   position: number
@@ -199,16 +229,15 @@ export interface ChangeItemDto {
   baseRevision: number
   currentRevision: number
   stale: boolean
-  windowBefore: { errors: unknown[]; warnings: unknown[] } | null
-  windowAfter: { errors: unknown[]; warnings: unknown[] } | null
+  windowBefore: ItemWindow | null
+  windowAfter: ItemWindow | null
   silRated: boolean
   implementedAt: string | null
   implementedBy: string | null
-  readBack: unknown
+  readBack: ItemReadBack | null
   /** every field read back at implementation: the changed device fields, then priority and enabled state */
   deviceFields: string[]
-  /** what the device must hold beyond the changed fields after implementation (alarm priority, enabled) */
-  readBackExpected: { priority?: string | null; enabled?: boolean } | null
+  readBackExpected: ReadBackExpected | null
 }
 export interface ChangeRequestDto {
   id: number
@@ -278,10 +307,11 @@ export const ChangeListQuerySchema = z.object({
     .transform((v) => v === 'true')
     .optional(),
   q: z.string().trim().max(100).optional(),
-  ...ListQuerySchema.pick({ page: true, pageSize: true }).shape,
+  ...PageSchema.shape,
 })
 export type ChangeListQuery = z.infer<typeof ChangeListQuerySchema>
-export type ChangeListQueryInput = z.input<typeof ChangeListQuerySchema>
+/** The list query as the client sends it (`expiredTemporary` travels as text). */
+export type ChangeListParams = Partial<Omit<ChangeListQuery, 'expiredTemporary'>> & { expiredTemporary?: 'true' }
 export type ChangeView = ChangeListQuery['view']
 
 /** One row of the change list. */

@@ -57,6 +57,16 @@ export function repeated<T extends z.ZodType>(item: T) {
   return z.preprocess((v) => (v === undefined ? undefined : Array.isArray(v) ? v : [v]), z.array(item).optional())
 }
 
+/** The path parameters of a route under a record (`/api/limits/:id/...`). */
+export const IdParamsSchema = z.object({ id: IdSchema })
+
+/** A query narrowed only to some of the user's sites (`siteId=1&siteId=2`; none: all of them). */
+export const SiteFilterQuerySchema = z.object({ siteId: repeated(IdSchema) })
+export type SiteFilterQuery = z.infer<typeof SiteFilterQuerySchema>
+
+/** An instant as ISO 8601 text with its offset (`2026-12-03T07:15:00Z`). */
+export const InstantSchema = z.iso.datetime({ offset: true })
+
 /** A page size of at most 200 rows, `pageSize` when the query does not say. */
 export const pageSizeOf = (pageSize: number) => z.coerce.number().int().min(1).max(200).default(pageSize)
 

@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { IdSchema, ListQuerySchema, repeated } from './common.ts'
+import { IdSchema, InstantSchema, ListQuerySchema, repeated, SiteFilterQuerySchema } from './common.ts'
 
 /** Kinds of event in the demand and trip log (docs/demands.md). */
 export const DEMAND_KINDS = ['real_demand', 'spurious_trip', 'dangerous_failure', 'failure_on_demand'] as const
@@ -55,10 +55,34 @@ export const DemandListQuerySchema = ListQuerySchema.extend({
   siteId: repeated(IdSchema),
   limitId: repeated(IdSchema),
   kind: repeated(z.enum(DEMAND_KINDS)),
-  from: z.iso.datetime({ offset: true }).optional(),
-  to: z.iso.datetime({ offset: true }).optional(),
+  from: InstantSchema.optional(),
+  to: InstantSchema.optional(),
 })
-export type DemandListQuery = z.input<typeof DemandListQuerySchema>
+/** The list's filters as the client sends them (the server fills the defaults). */
+export type DemandListQuery = Partial<z.infer<typeof DemandListQuerySchema>>
+
+/** `GET /api/demands/rates`: observed against assumed rates; the period defaults to the year before `to` (now). */
+export const DemandRatesQuerySchema = SiteFilterQuerySchema.extend({
+  limitId: repeated(IdSchema),
+  from: InstantSchema.optional(),
+  to: InstantSchema.optional(),
+})
+export type DemandRatesQuery = z.infer<typeof DemandRatesQuerySchema>
+
+/** `GET /api/demands/failure-rates`: observed failure rates; from the first record when `from` is not given. */
+export const FailureRatesQuerySchema = SiteFilterQuerySchema.extend({
+  from: InstantSchema.optional(),
+  to: InstantSchema.optional(),
+})
+export type FailureRatesQuery = z.infer<typeof FailureRatesQuerySchema>
+
+/** `POST /api/demands/failure-rates/change-request`: a limit's observed λDU of a device group, proposed as a change. */
+export const ProposeLambdaDuInputSchema = z.object({
+  limitId: z.number().int().positive(),
+  deviceKind: z.string().min(1).max(40),
+  model: z.string().min(1).max(120),
+})
+export type ProposeLambdaDuInput = z.infer<typeof ProposeLambdaDuInputSchema>
 
 const VerdictSchema = z.union([
   z.object({ allowed: z.literal(true) }),

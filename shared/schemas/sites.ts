@@ -3,7 +3,7 @@ import { checkPriorityMatrix, DEFAULT_ALARM_PHILOSOPHY, DEFAULT_PRIORITY_MATRIX 
 import { AlarmPolicySchema, DEFAULT_ALARM_POLICY } from './alarms.ts'
 import { DISCIPLINES } from './change-requests.ts'
 import { RoleSchema } from './users.ts'
-import { isKnownTimeZone } from './common.ts'
+import { isKnownTimeZone, parsePatch } from './common.ts'
 
 const cell = z.enum(['low', 'medium', 'high', 'critical', 'alert'])
 /** The alarm priority matrix: severity rows × time-to-respond columns (docs/domain/alarm-classification.md). */
@@ -129,6 +129,16 @@ export const UpdateSiteInputSchema = z.object({
 })
 export type CreateSiteInput = z.input<typeof CreateSiteInputSchema>
 export type UpdateSiteInput = z.input<typeof UpdateSiteInputSchema>
+
+/**
+ * `PATCH /api/sites/:id`: keeps only the fields that were sent, the policy's included, so that the defaults of the
+ * fields it did not name cannot reset them.
+ */
+export function parseSitePatch(raw: unknown) {
+  const top = parsePatch(UpdateSiteInputSchema, raw)
+  const rawPolicy = raw && typeof raw === 'object' && 'policy' in raw ? raw.policy : undefined
+  return { ...top, ...(rawPolicy !== undefined ? { policy: parsePatch(SitePolicySchema.partial(), rawPolicy) } : {}) }
+}
 
 export const AreaSchema = z.object({ id: z.number().int(), siteId: z.number().int(), name: z.string() })
 export type Area = z.infer<typeof AreaSchema>

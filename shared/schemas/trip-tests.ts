@@ -250,10 +250,12 @@ export const DegradationMeasuresInputSchema = z.object({
   repairDeadline: z.iso.date(),
   password: z.string().min(1, 'Enter your password to sign').max(128),
 })
+export type DegradationMeasuresInput = z.input<typeof DegradationMeasuresInputSchema>
 export const DeadlineApprovalInputSchema = z.object({
   password: z.string().min(1, 'Enter your password to sign').max(128),
   comment: z.string().trim().max(2000).default(''),
 })
+export type DeadlineApprovalInput = z.input<typeof DeadlineApprovalInputSchema>
 
 const bool = z
   .enum(['true', 'false'])
@@ -299,6 +301,7 @@ export const DeferralDecisionInputSchema = z.object({
   password: z.string().min(1, 'Enter your password to sign').max(128),
   comment: z.string().trim().max(2000).default(''),
 })
+export type DeferralDecisionInput = z.input<typeof DeferralDecisionInputSchema>
 export const TestDeferralListQuerySchema = z.object({
   siteId: repeated(IdSchema),
   limitId: IdSchema.optional(),
@@ -306,6 +309,12 @@ export const TestDeferralListQuerySchema = z.object({
   ...PageSchema.shape,
 })
 export type TestDeferralListQuery = z.input<typeof TestDeferralListQuerySchema>
+/** The deferral list's filters as the client sends them. */
+export type TestDeferralListParams = Partial<z.infer<typeof TestDeferralListQuerySchema>>
+
+/** `POST /api/trip-tests/digest-runs`: sends a site's overdue-test digest now. */
+export const DigestRunInputSchema = z.object({ siteId: z.number().int().positive() })
+export type DigestRunInput = z.infer<typeof DigestRunInputSchema>
 
 /** The product's risk assessment of a deferral: PFDavg with the stretched interval against the target. */
 export interface DeferralRisk {

@@ -239,6 +239,17 @@ describe('the list', () => {
     await admin.get('/api/audit-events?from=yesterday').expect(400)
     await admin.get('/api/audit-events?to=2026-12-03').expect(400)
   })
+
+  it('refuses a sort, and any parameter it does not take, rather than ignoring it (docs/api.md, Audit events)', async () => {
+    for (const path of ['/api/audit-events?sort=at', '/api/audit-events?sort=-id', '/api/audit-events?colour=blue']) {
+      const res = await admin.get(path).expect(400)
+      expect(res.body.error.code).toBe('VALIDATION_FAILED')
+    }
+    await admin.get('/api/audit-events/export.csv?sort=at').expect(400)
+    // the parameters it takes still pass, the export's time zone included
+    await admin.get('/api/audit-events?page=1&pageSize=5&q=area&action=area.&entityType=Area').expect(200)
+    await admin.get('/api/audit-events/export.csv?tz=UTC&action=area.').expect(200)
+  })
 })
 
 describe('the CSV export', () => {

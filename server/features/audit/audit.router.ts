@@ -1,6 +1,11 @@
 import { Router } from 'express'
-import { z } from 'zod'
-import { type AuditEventDto, auditActionLabel, AuditQuerySchema } from '../../../shared/schemas/audit.ts'
+import {
+  type AuditEventDto,
+  type AuditEventList,
+  AuditExportQuerySchema,
+  auditActionLabel,
+  AuditQuerySchema,
+} from '../../../shared/schemas/audit.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { authorize } from '../../authorize.ts'
 import { csvPart } from '../../csv.ts'
@@ -25,18 +30,6 @@ function scopeOf(user: CurrentUser | null): AuditScope {
     installationWide: roles.some((r) => r.role === 'admin'),
   }
 }
-
-const validZone = (tz: string) => {
-  try {
-    new Intl.DateTimeFormat('en-GB', { timeZone: tz })
-    return true
-  } catch {
-    return false
-  }
-}
-const ExportQuerySchema = AuditQuerySchema.omit({ page: true, pageSize: true, cursor: true, sort: true }).extend({
-  tz: z.string().max(64).refine(validZone, 'Unknown time zone').default('UTC'),
-})
 
 /** `2026-12-03 07:15:02` in the time zone. */
 function localTime(d: Date, timeZone: string): string {
@@ -95,12 +88,17 @@ export function createAuditRouter(deps: AppDeps) {
         seq: r.seq === null ? null : Number(r.seq),
       }
     })
-    res.json({ total, items, nextCursor: rows.length === q.pageSize ? Number(rows[rows.length - 1].id) : null })
+    const list: AuditEventList = {
+      total,
+      items,
+      nextCursor: rows.length === q.pageSize ? Number(rows[rows.length - 1].id) : null,
+    }
+    res.json(list)
   })
 
   router.get('/export.csv', async (req, res) => {
     authorize(req.ability, 'read', 'AuditEvent')
-    const q = ExportQuerySchema.parse(req.query)
+    const q = AuditExportQuerySchema.parse(req.query)
     const scope = scopeOf(req.user)
     const siteCodes = await siteCodesById(deps.db)
     res.setHeader('Content-Type', 'text/csv; charset=utf-8')

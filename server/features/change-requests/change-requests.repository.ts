@@ -4,9 +4,13 @@ import type {
   ChangeListQuery,
   ChangeStatus,
   ChecklistItem,
+  ItemReadBack,
+  ItemWindow,
+  ReadBackExpected,
 } from '../../../shared/schemas/change-requests.ts'
 import type { Db } from '../../db/index.ts'
-import type { ChangeRequestTable, Database } from '../../db/schema.ts'
+import type { ChangeRequestTable, Database, InstrumentTable } from '../../db/schema.ts'
+import type { Instrument } from '../../../shared/schemas/register.ts'
 import { likeEscape } from '../../authorize.ts'
 
 /** Every query of management of change (docs/change-requests.md). Functions take `db` or a transaction first. */
@@ -155,9 +159,9 @@ export async function replaceItems(
     instrument_id: number | null
     changes: unknown
     base_revision: number
-    window_before: unknown
-    window_after: unknown
-    read_back_expected: unknown
+    window_before: ItemWindow | null
+    window_after: ItemWindow | null
+    read_back_expected: ReadBackExpected | null
   }[],
 ) {
   await trx.deleteFrom('change_request_item').where('change_request_id', '=', crId).execute()
@@ -190,7 +194,7 @@ export async function itemsOf(db: Q, crId: number) {
     .execute()
 }
 
-export async function markItemImplemented(trx: Trx, itemId: number, by: number, at: Date, readBack: unknown) {
+export async function markItemImplemented(trx: Trx, itemId: number, by: number, at: Date, readBack: ItemReadBack) {
   await trx
     .updateTable('change_request_item')
     .set({ implemented_at: at, implemented_by: by, read_back: JSON.stringify(readBack) })
@@ -285,17 +289,17 @@ export async function setInstrumentRanges(
     normalHigh?: string | number | null
     designLow?: string | number | null
     designHigh?: string | number | null
-    burnout?: string
+    burnout?: Instrument['burnout']
   },
 ) {
-  const set = {
-    ...(d.rangeLow !== undefined ? { range_low: d.rangeLow as never } : {}),
-    ...(d.rangeHigh !== undefined ? { range_high: d.rangeHigh as never } : {}),
-    ...(d.normalLow !== undefined ? { normal_low: d.normalLow as never } : {}),
-    ...(d.normalHigh !== undefined ? { normal_high: d.normalHigh as never } : {}),
-    ...(d.designLow !== undefined ? { design_low: d.designLow as never } : {}),
-    ...(d.designHigh !== undefined ? { design_high: d.designHigh as never } : {}),
-    ...(d.burnout !== undefined ? { burnout: d.burnout as never } : {}),
+  const set: Updateable<InstrumentTable> = {
+    ...(d.rangeLow !== undefined ? { range_low: d.rangeLow } : {}),
+    ...(d.rangeHigh !== undefined ? { range_high: d.rangeHigh } : {}),
+    ...(d.normalLow !== undefined ? { normal_low: d.normalLow } : {}),
+    ...(d.normalHigh !== undefined ? { normal_high: d.normalHigh } : {}),
+    ...(d.designLow !== undefined ? { design_low: d.designLow } : {}),
+    ...(d.designHigh !== undefined ? { design_high: d.designHigh } : {}),
+    ...(d.burnout !== undefined ? { burnout: d.burnout } : {}),
   }
   // an item that changes only texts (a device description) changes no range: nothing to set
   if (!Object.keys(set).length) return

@@ -1,17 +1,16 @@
 import { Router } from 'express'
-import { z } from 'zod'
 import {
   ChangeListQuerySchema,
+  ChangeRequestPatchSchema,
   ChecklistInputSchema,
+  ChecklistItemSchema,
   ClosureInputSchema,
   CreateChangeRequestInputSchema,
-  IMPACT_CHECKLIST,
   ImplementInputSchema,
   ReadBackCheckInputSchema,
   RejectInputSchema,
   ReviewInputSchema,
   SignInputSchema,
-  UpdateChangeRequestInputSchema,
 } from '../../../shared/schemas/change-requests.ts'
 import { IdSchema, parsePatch } from '../../../shared/schemas/common.ts'
 import { scopeSites } from '../../authorize.ts'
@@ -52,17 +51,8 @@ export function createChangeRequestsRouter(deps: AppDeps) {
     res.status(201).json(await service.getChangeRequest(deps, req.ability, newId))
   })
   router.patch('/:id', async (req, res) => {
-    const { version, ...body } = req.body ?? {}
-    res.json(
-      await service.updateChangeRequest(
-        deps,
-        req.ability,
-        req.audit,
-        id(req.params.id),
-        parsePatch(UpdateChangeRequestInputSchema, body),
-        version === undefined ? undefined : z.number().int().parse(version),
-      ),
-    )
+    const { version, ...patch } = parsePatch(ChangeRequestPatchSchema, req.body ?? {})
+    res.json(await service.updateChangeRequest(deps, req.ability, req.audit, id(req.params.id), patch, version))
   })
   router.post('/:id/submission', async (req, res) => {
     res.json(await service.submitChangeRequest(deps, req.ability, req.audit, id(req.params.id)))
@@ -109,7 +99,7 @@ export function createChangeRequestsRouter(deps: AppDeps) {
     res.json(await service.closeChangeRequest(deps, req.ability, req.audit, id(req.params.id), b.password, b.pssr))
   })
   router.put('/:id/checklist/:item', async (req, res) => {
-    const item = z.enum(IMPACT_CHECKLIST.map((c) => c.item)).parse(req.params.item)
+    const item = ChecklistItemSchema.parse(req.params.item)
     const b = ChecklistInputSchema.parse(req.body)
     res.json(await service.tickChecklist(deps, req.ability, req.audit, id(req.params.id), item, b))
   })

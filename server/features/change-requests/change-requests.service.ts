@@ -12,12 +12,14 @@ import {
   type ChecklistInput,
   type ChecklistItem,
   type CreateChangeRequestInput,
+  type ItemWindow,
   DEVICE_FIELDS_INSTRUMENT,
   DISCIPLINES,
   DEVICE_FIELDS_LIMIT,
   IMPACT_CHECKLIST,
   READ_BACK_STATE_FIELDS,
   type ReadBackComparison,
+  type ReadBackExpected,
   type ReviewInput,
   reviewMeaning,
   type UpdateChangeRequestInput,
@@ -101,19 +103,28 @@ interface PreparedItem {
   instrument_id: number | null
   changes: Record<string, { from: unknown; to: unknown }>
   base_revision: number
-  window_before: unknown
-  window_after: unknown
+  window_before: ItemWindow | null
+  window_after: ItemWindow | null
   silRated: boolean
   read_back_expected: ReadBackExpected | null
 }
-
-type ReadBackExpected = NonNullable<ChangeItemDto['readBackExpected']>
 
 /** The state an alarm or alert must show on the device after the change: its priority (alarms) and enabled. */
 function stateOnDevice(limitClass: string, priority: string | null): ReadBackExpected | null {
   if (limitClass === 'alarm') return priority ? { priority, enabled: true } : { enabled: true }
   if (limitClass === 'alert') return { enabled: true }
   return null
+}
+
+/** The fields of a patch that change the record, each with its value before and after. */
+function changedFields(record: object, patch: object): PreparedItem['changes'] {
+  const current = new Map(Object.entries(record))
+  const changes: PreparedItem['changes'] = {}
+  for (const [k, to] of Object.entries(patch)) {
+    const from: unknown = current.get(k)
+    if (!sameValue(from, to)) changes[k] = { from, to }
+  }
+  return changes
 }
 
 const LIMIT_EDITABLE = new Set(Object.keys(CreateLimitInputSchema.shape).filter((k) => k !== 'processId'))
@@ -128,11 +139,7 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
       throw validationFailed(
         Object.fromEntries(parsed.error.issues.map((i) => [`items.changes.${i.path.join('.')}`, [i.message]])),
       )
-    const changes: PreparedItem['changes'] = {}
-    for (const [k, to] of Object.entries(parsed.data)) {
-      const from = (inst as Record<string, unknown>)[k]
-      if (!sameValue(from, to)) changes[k] = { from, to }
-    }
+    const changes = changedFields(inst, parsed.data)
     if (!Object.keys(changes).length)
       throw validationFailed({ items: [`The item changes nothing on instrument ${inst.tag}`] })
     const limits = await repo.limitsOnInstrument(trx, inst.id)
@@ -168,7 +175,7 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
       },
       window_after: {
         errors: [],
-        warnings: after.rows.flatMap((l) => l.window_warnings.map((e) => ({ ...(e as object), tag: l.tag }))),
+        warnings: after.rows.flatMap((l) => l.window_warnings.map((e) => ({ ...e, tag: l.tag }))),
       },
       read_back_expected: null,
     }
@@ -218,11 +225,7 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
     throw validationFailed(
       Object.fromEntries(parsed.error.issues.map((i) => [`items.changes.${i.path.join('.')}`, [i.message]])),
     )
-  const changes: PreparedItem['changes'] = {}
-  for (const [k, to] of Object.entries(parsed.data)) {
-    const from = (limit as unknown as Record<string, unknown>)[k]
-    if (!sameValue(from, to)) changes[k] = { from, to }
-  }
+  const changes = changedFields(limit, parsed.data)
   if (!Object.keys(changes).length)
     throw validationFailed({ items: [`The item changes nothing on limit ${limit.tag}`] })
   const draft = CreateLimitInputSchema.parse({
@@ -363,11 +366,7 @@ export async function getChangeRequest(
       })
     if (s.meaning === 'implemented') {
       const bulk = items
-        .filter(
-          (i) =>
-            i.implemented_by === s.user_id &&
-            (i.read_back as { deviceListConfirmed?: boolean } | null)?.deviceListConfirmed,
-        )
+        .filter((i) => i.implemented_by === s.user_id && i.read_back?.deviceListConfirmed)
         .map((i) => i.id)
       return contentHash({
         request: currentHash,
@@ -392,14 +391,14 @@ export async function getChangeRequest(
       baseRevision: i.base_revision,
       currentRevision,
       stale: !i.implemented_at && currentRevision !== i.base_revision,
-      windowBefore: i.window_before as ChangeItemDto['windowBefore'],
-      windowAfter: i.window_after as ChangeItemDto['windowAfter'],
+      windowBefore: i.window_before,
+      windowAfter: i.window_after,
       silRated: i.limit_sil !== null,
       implementedAt: i.implemented_at?.toISOString() ?? null,
       implementedBy: i.implementer,
       readBack: i.read_back,
       deviceFields: deviceFieldsOf(i.kind, i.changes, i.read_back_expected),
-      readBackExpected: (i.read_back_expected as ReadBackExpected | null) ?? null,
+      readBackExpected: i.read_back_expected,
     }
   })
   return {
@@ -459,12 +458,12 @@ export async function getChangeRequest(
   }
 }
 
-function deviceFieldsOf(kind: string, changes: Record<string, unknown>, expected: unknown): string[] {
+function deviceFieldsOf(kind: string, changes: Record<string, unknown>, expected: ReadBackExpected | null): string[] {
   if (kind === 'retire') return []
   const list: readonly string[] = kind === 'instrument' ? DEVICE_FIELDS_INSTRUMENT : DEVICE_FIELDS_LIMIT
   const changed =
     kind === 'create' ? list.filter((f) => f in changes) : Object.keys(changes).filter((f) => list.includes(f))
-  const state = READ_BACK_STATE_FIELDS.filter((f) => expected && f in (expected as object))
+  const state = READ_BACK_STATE_FIELDS.filter((f) => expected && f in expected)
   return [...changed, ...state]
 }
 
@@ -894,7 +893,7 @@ type ItemForReadBack = {
   id: number
   kind: string
   changes: Record<string, { from: unknown; to: unknown }>
-  read_back_expected: unknown
+  read_back_expected: ReadBackExpected | null
 }
 
 /**
@@ -912,7 +911,7 @@ function readBackEqual(entered: unknown, approved: unknown): boolean {
 
 /** Each device field of the item as entered beside its approved value. */
 function compareReadBack(item: ItemForReadBack, readBack: Record<string, unknown>): ReadBackComparison {
-  const expected = (item.read_back_expected ?? {}) as Record<string, unknown>
+  const expected: Record<string, unknown> = item.read_back_expected ?? {}
   const fields = deviceFieldsOf(item.kind, item.changes, item.read_back_expected).map((field) => {
     const approved = field in item.changes ? item.changes[field].to : expected[field]
     const entered = field in readBack ? readBack[field] : null

@@ -1,25 +1,16 @@
 import { Router } from 'express'
-import { z } from 'zod'
-import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
-import { DemandListQuerySchema } from '../../../shared/schemas/demands.ts'
+import { IdSchema } from '../../../shared/schemas/common.ts'
+import {
+  DemandListQuerySchema,
+  DemandRatesQuerySchema,
+  FailureRatesQuerySchema,
+  ProposeLambdaDuInputSchema,
+} from '../../../shared/schemas/demands.ts'
 import { scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { validationFailed } from '../../errors.ts'
 import * as service from './demands.service.ts'
 import { failureRates, proposeObservedLambdaDu } from './failure-rates.service.ts'
-
-const RatesQuerySchema = z.object({
-  siteId: repeated(IdSchema),
-  limitId: repeated(IdSchema),
-  from: z.iso.datetime({ offset: true }).optional(),
-  to: z.iso.datetime({ offset: true }).optional(),
-})
-
-const FailureRatesQuerySchema = z.object({
-  siteId: repeated(IdSchema),
-  from: z.iso.datetime({ offset: true }).optional(),
-  to: z.iso.datetime({ offset: true }).optional(),
-})
 
 /** `/api/demands`: the demand and trip log; classification and credit as actions; `/rates` observed vs assumed. */
 export function createDemandsRouter(deps: AppDeps) {
@@ -38,7 +29,7 @@ export function createDemandsRouter(deps: AppDeps) {
     )
   })
   router.get('/rates', async (req, res) => {
-    const q = RatesQuerySchema.parse(req.query)
+    const q = DemandRatesQuerySchema.parse(req.query)
     const to = q.to ? new Date(q.to) : deps.clock.now()
     const from = q.from ? new Date(q.from) : new Date(to.getTime() - 365 * 86_400_000)
     res.json(await service.demandRates(deps, scopeSites(req.user, q.siteId), { from, to }, q.limitId))
@@ -53,7 +44,15 @@ export function createDemandsRouter(deps: AppDeps) {
   router.post('/failure-rates/change-request', async (req, res) => {
     res
       .status(201)
-      .json(await proposeObservedLambdaDu(deps, req.ability, req.audit, scopeSites(req.user, undefined), req.body))
+      .json(
+        await proposeObservedLambdaDu(
+          deps,
+          req.ability,
+          req.audit,
+          scopeSites(req.user, undefined),
+          ProposeLambdaDuInputSchema.parse(req.body),
+        ),
+      )
   })
   router.put('/assumptions/:limitId', async (req, res) => {
     res.json(await service.setDemandAssumptions(deps, req.ability, req.audit, id(req.params.limitId), req.body))

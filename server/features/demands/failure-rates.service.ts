@@ -4,8 +4,12 @@ import {
   observedRate,
   type AssumptionVerdict,
 } from '../../../shared/domain/observed-rates.ts'
-import type { FailureRateGroup, FailureRateLimit, FailureRates } from '../../../shared/schemas/demands.ts'
-import { z } from 'zod'
+import type {
+  FailureRateGroup,
+  FailureRateLimit,
+  FailureRates,
+  ProposeLambdaDuInput,
+} from '../../../shared/schemas/demands.ts'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
@@ -13,12 +17,6 @@ import { invalidState, notFound } from '../../errors.ts'
 import type { AuditContext } from '../audit/audit.repository.ts'
 import { createChangeRequest } from '../change-requests/change-requests.service.ts'
 import * as repo from './demands.repository.ts'
-
-const ProposeLambdaDuInputSchema = z.object({
-  limitId: z.number().int().positive(),
-  deviceKind: z.string().min(1).max(40),
-  model: z.string().min(1).max(120),
-})
 
 const DANGEROUS = new Set(['out_dangerous', 'no_trip'])
 const RANK: Record<FailureRateGroup['verdict'], number> = {
@@ -168,9 +166,8 @@ export async function proposeObservedLambdaDu(
   ability: AppAbility,
   ctx: AuditContext,
   siteIds: number[],
-  raw: unknown,
+  input: ProposeLambdaDuInput,
 ): Promise<{ changeRequestId: number; proposedLambdaDu: number }> {
-  const input = ProposeLambdaDuInputSchema.parse(raw)
   // a role that may propose changes nowhere is refused before any rate is looked up (403, nothing told)
   authorize(ability, 'create', 'ChangeRequest')
   const rates = await failureRates(deps, siteIds, { from: null, to: deps.clock.now() })

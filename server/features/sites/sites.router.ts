@@ -1,22 +1,13 @@
 import { Router } from 'express'
-import { z } from 'zod'
-import { IdSchema, parsePatch, repeated } from '../../../shared/schemas/common.ts'
-import { SitePolicySchema } from '../../../shared/schemas/sites.ts'
+import { IdSchema, SiteFilterQuerySchema } from '../../../shared/schemas/common.ts'
 import {
   CreateAreaInputSchema,
   CreateSiteInputSchema,
+  parseSitePatch,
   UpdateAreaInputSchema,
-  UpdateSiteInputSchema,
 } from '../../../shared/schemas/sites.ts'
 import type { AppDeps } from '../../deps.ts'
 import * as service from './sites.service.ts'
-
-/** A site patch keeping only the policy fields that were sent (defaults must not reset the others). */
-function parseSitePatch(raw: unknown) {
-  const top = parsePatch(UpdateSiteInputSchema, raw)
-  const rawPolicy = (raw as { policy?: unknown } | null)?.policy
-  return { ...top, ...(rawPolicy !== undefined ? { policy: parsePatch(SitePolicySchema.partial(), rawPolicy) } : {}) }
-}
 
 /** `/api/sites`: sites and their policies. */
 export function createSitesRouter(deps: AppDeps) {
@@ -42,7 +33,7 @@ export function createSitesRouter(deps: AppDeps) {
 export function createAreasRouter(deps: AppDeps) {
   const router = Router()
   router.get('/', async (req, res) => {
-    const { siteId } = z.object({ siteId: repeated(IdSchema) }).parse(req.query)
+    const { siteId } = SiteFilterQuerySchema.parse(req.query)
     res.json(await service.listAreas(deps, req.ability, siteId))
   })
   router.post('/', async (req, res) => {

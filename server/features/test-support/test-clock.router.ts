@@ -1,5 +1,5 @@
 import { Router } from 'express'
-import { z } from 'zod'
+import { TestClockInputSchema } from '../../../shared/schemas/test-support.ts'
 import { AdjustableClock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 
@@ -7,7 +7,7 @@ import type { AppDeps } from '../../deps.ts'
 export function createTestClockRouter(deps: AppDeps) {
   const router = Router()
   router.post('/clock', (req, res) => {
-    const { now } = z.object({ now: z.iso.datetime({ offset: true }) }).parse(req.body)
+    const { now } = TestClockInputSchema.parse(req.body)
     if (!(deps.clock instanceof AdjustableClock)) throw new Error('the test clock needs an AdjustableClock')
     res.json({ now: deps.clock.set(now).toISOString() })
   })

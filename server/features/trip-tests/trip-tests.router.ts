@@ -1,9 +1,9 @@
 import { Router } from 'express'
 import { toCsv } from '../../csv.ts'
-import { z } from 'zod'
-import { IdSchema, repeated } from '../../../shared/schemas/common.ts'
+import { IdParamsSchema, IdSchema, SiteFilterQuerySchema } from '../../../shared/schemas/common.ts'
 import {
   DeadlineApprovalInputSchema,
+  DigestRunInputSchema,
   DeferralDecisionInputSchema,
   DegradationMeasuresInputSchema,
   ScheduleQuerySchema,
@@ -73,11 +73,11 @@ export function createTripTestsRouter(deps: AppDeps) {
     res.send(csv)
   })
   router.get('/overdue-repairs', async (req, res) => {
-    const q = z.object({ siteId: repeated(IdSchema) }).parse(req.query)
+    const q = SiteFilterQuerySchema.parse(req.query)
     res.json({ items: await service.overdueRepairs(deps.db, scopeSites(req.user, q.siteId), deps.clock.now()) })
   })
   router.post('/digest-runs', async (req, res) => {
-    const { siteId } = z.object({ siteId: z.number().int().positive() }).parse(req.body)
+    const { siteId } = DigestRunInputSchema.parse(req.body)
     authorize(req.ability, 'update', 'Site', { id: siteId })
     res
       .status(201)
@@ -150,9 +150,7 @@ export function createTripTestsRouter(deps: AppDeps) {
 export function createDegradationRouter(deps: AppDeps) {
   const router = Router({ mergeParams: true })
   router.get('/', async (req, res) => {
-    res.json(
-      await service.getDegradation(deps, req.ability, IdSchema.parse((req.params as { id: string }).id), req.audit),
-    )
+    res.json(await service.getDegradation(deps, req.ability, IdParamsSchema.parse(req.params).id, req.audit))
   })
   router.post('/', async (req, res) => {
     res.json(
@@ -160,7 +158,7 @@ export function createDegradationRouter(deps: AppDeps) {
         deps,
         req.ability,
         req.audit,
-        IdSchema.parse((req.params as { id: string }).id),
+        IdParamsSchema.parse(req.params).id,
         DegradationMeasuresInputSchema.parse(req.body),
       ),
     )
@@ -171,7 +169,7 @@ export function createDegradationRouter(deps: AppDeps) {
         deps,
         req.ability,
         req.audit,
-        IdSchema.parse((req.params as { id: string }).id),
+        IdParamsSchema.parse(req.params).id,
         DeadlineApprovalInputSchema.parse(req.body),
       ),
     )

@@ -1,5 +1,10 @@
-import type { AuditEventDto, AuditFilters, AuditListQuery, AuditVerifyDto } from '@shared/schemas/audit.ts'
-import type { ListResult } from '@shared/schemas/common.ts'
+import type {
+  AuditEventDto,
+  AuditEventList,
+  AuditFilters,
+  AuditListQuery,
+  AuditVerifyDto,
+} from '@shared/schemas/audit.ts'
 import { http, toQuery } from '@/api/client'
 
 export type AuditEvent = AuditEventDto
@@ -11,8 +16,7 @@ export const auditKeys = {
   list: (q: AuditListQuery) => ['audit-events', 'list', JSON.stringify(q)] as const,
 }
 
-export const listAuditEvents = (query: AuditListQuery) =>
-  http.get<ListResult<AuditEvent>>('/audit-events', { ...query })
+export const listAuditEvents = (query: AuditListQuery) => http.get<AuditEventList>('/audit-events', { ...query })
 
 /** The CSV of the filtered events, with a column of times in `timeZone`. */
 export const auditExportUrl = (filters: AuditFilters, timeZone: string) =>

@@ -1,8 +1,16 @@
+import type { AuditEventDto, AuditListQuery } from '@shared/schemas/audit.ts'
 import type {
+  ChangeItemInput,
+  ChangeList,
+  ChangeListItem,
+  ChangeListParams,
+  ChangeRequestBody,
   ChangeRequestDto,
+  ChangeRequestPatch,
+  ChangeType,
+  ChangeView,
+  CreateChangeRequestBody,
   Discipline,
-  ChangeStatus,
-  CHANGE_TYPES,
   ChecklistItem,
   ReadBackComparison,
 } from '@shared/schemas/change-requests.ts'
@@ -10,7 +18,7 @@ import type { ListResult } from '@shared/schemas/common.ts'
 import type { Instrument, Limit } from '@shared/schemas/register.ts'
 import { api, http, uploadWithProgress } from '@/api/client'
 
-export type ChangeType = (typeof CHANGE_TYPES)[number]
+export type { ChangeListItem, ChangeRequestBody, ChangeType, ChangeView }
 
 /** Cache keys of change requests (Pinia Colada): a write to a request invalidates them all. */
 export const changeRequestKeys = {
@@ -18,77 +26,23 @@ export const changeRequestKeys = {
   /** the requests touching a limit, for the limit page */
   limit: (limitId: number) => ['change-requests', 'limit', limitId] as const,
 }
-export type ChangeView = 'waiting' | 'mine' | 'all'
-
-/** One row of the change list. */
-export interface ChangeListItem {
-  id: number
-  title: string
-  type: ChangeType
-  status: ChangeStatus
-  siteId: number
-  siteCode: string
-  proposerName: string
-  itemCount: number
-  approvalsRequired: number
-  approvalsHeld: number
-  updatedAt: string
-  expiresAt: string | null
-  emergencyFlagged: boolean
-}
-
-export interface ChangeListQuery {
-  view: ChangeView
-  status?: string[]
-  type?: string[]
-  siteId?: number[]
-  /** requests with an item on this limit or on an instrument it reads */
-  limitId?: number
-  /** only temporary changes expired and not reverted */
-  expiredTemporary?: 'true'
-  q?: string
-  page: number
-  pageSize: number
-}
-
 /** An item as the form sends it. */
-export type ChangeItemBody =
-  | { kind: 'create'; limitId: number }
-  | { kind: 'modify'; limitId: number; changes: Record<string, unknown> }
-  | { kind: 'retire'; limitId: number }
-  | { kind: 'instrument'; instrumentId: number; changes: Record<string, unknown> }
-
-export interface ChangeRequestBody {
-  type: ChangeType
-  title: string
-  rationale: string
-  hazardReference: string
-  expiresAt: string | null
-  items: ChangeItemBody[]
-  /** the temporary change this request reverses (on creation only) */
-  reversesId?: number | null
-  /** the change proposal this request develops (on creation only) */
-  proposalId?: number | null
-}
+export type ChangeItemBody = ChangeItemInput
 
 /** An audit event of the request's timeline (readable by auditors, administrators and plant managers). */
-export interface ChangeAuditEvent {
-  id: number
-  at: string
-  actorName: string | null
-  action: string
-  after: unknown
-}
+export type ChangeAuditEvent = Pick<AuditEventDto, 'id' | 'at' | 'actorName' | 'action' | 'after'>
 
 export type InstrumentRecord = Instrument & { revision: number }
 
-export const listChangeRequests = (query: ChangeListQuery) =>
-  http.get<ListResult<ChangeListItem>>('/change-requests', { ...query })
+/** The list's query; `status` and `type` may be the URL's text as the list view read it (the server checks them). */
+export const listChangeRequests = (
+  query: Omit<ChangeListParams, 'status' | 'type'> & { status?: string[]; type?: string[] },
+) => http.get<ChangeList>('/change-requests', { ...query })
 export const getWaitingCount = () => http.get<{ count: number }>('/change-requests/waiting-count')
 export const getChangeRequest = (id: number) => http.get<ChangeRequestDto>(`/change-requests/${id}`)
-export const createChangeRequest = (body: ChangeRequestBody & { siteId: number }) =>
+export const createChangeRequest = (body: CreateChangeRequestBody) =>
   http.post<ChangeRequestDto>('/change-requests', body)
-export const updateChangeRequest = (id: number, body: ChangeRequestBody & { version: number }) =>
+export const updateChangeRequest = (id: number, body: ChangeRequestPatch) =>
   http.patch<ChangeRequestDto>(`/change-requests/${id}`, body)
 export const submitChangeRequest = (id: number) => http.post<ChangeRequestDto>(`/change-requests/${id}/submission`)
 export const withdrawChangeRequest = (id: number) => http.post<ChangeRequestDto>(`/change-requests/${id}/withdrawal`)
@@ -133,7 +87,7 @@ export const listChangeAuditEvents = (id: number) =>
     entityType: 'ChangeRequest',
     entityId: String(id),
     pageSize: 200,
-  })
+  } satisfies AuditListQuery)
 
 /** Address of the request's PDF print. */
 export const changeRequestPdfUrl = (id: number) => `/api/change-requests/${id}/pdf`

@@ -6,22 +6,16 @@ import type {
   DemandAssumptions,
   DemandAssumptionsInput,
   DemandDto,
+  DemandListQuery,
   DemandRates,
+  DemandRatesQuery,
   FailureRates,
+  FailureRatesQuery,
+  ProposeLambdaDuInput,
 } from '@shared/schemas/demands.ts'
 import { http } from '@/api/client'
 
-/** The list's filters (`GET /api/demands`). */
-export interface DemandListQuery {
-  siteId?: number[]
-  limitId?: number[]
-  kind?: DemandDto['kind'][]
-  q?: string
-  from?: string
-  to?: string
-  page?: number
-  pageSize?: number
-}
+export type { DemandListQuery }
 
 /** Cache keys of the demand log (Pinia Colada). */
 export const demandKeys = {
@@ -36,11 +30,10 @@ export const recordDemand = (body: CreateDemandInput) => http.post<DemandDto>('/
 export const classifyDemand = (id: number, body: ClassifyDemandInput) =>
   http.post<DemandDto>(`/demands/${id}/classification`, body)
 export const creditDemand = (id: number, body: CreditDemandInput) => http.post<DemandDto>(`/demands/${id}/credit`, body)
-export const getDemandRates = (query: { siteId?: number[]; limitId?: number[]; from?: string; to?: string }) =>
-  http.get<DemandRates>('/demands/rates', { ...query })
-export const getFailureRates = (query: { siteId?: number[]; from?: string; to?: string }) =>
+export const getDemandRates = (query: DemandRatesQuery) => http.get<DemandRates>('/demands/rates', { ...query })
+export const getFailureRates = (query: FailureRatesQuery) =>
   http.get<FailureRates>('/demands/failure-rates', { ...query })
-export const proposeObservedLambdaDu = (body: { limitId: number; deviceKind: string; model: string }) =>
+export const proposeObservedLambdaDu = (body: ProposeLambdaDuInput) =>
   http.post<{ changeRequestId: number; proposedLambdaDu: number }>('/demands/failure-rates/change-request', body)
 export const setDemandAssumptions = (limitId: number, body: DemandAssumptionsInput) =>
   http.put<DemandAssumptions>(`/demands/assumptions/${limitId}`, body)

@@ -1,11 +1,18 @@
 import type { Limit } from '@shared/schemas/register.ts'
 import type {
+  DeadlineApprovalInput,
+  DeferralDecisionInput,
+  DegradationMeasuresInput,
+  DigestRunInput,
   OverdueRepair,
   ScheduleItem,
   ScheduleParams,
   ScheduleResponse,
   SignatureMeaning,
   TestDeferralDto,
+  TestDeferralInput,
+  TestDeferralList,
+  TestDeferralListParams,
   TripTestBody,
   TripTestDto,
   TripTestList,
@@ -46,23 +53,24 @@ export const updateTripTest = (id: number, body: TripTestBody) => api<TripTestDt
 export const signTripTest = (id: number, meaning: SignatureMeaning, password: string, comment: string) =>
   http.post<TripTestDto>(`/trip-tests/${id}/signatures`, { meaning, password, comment })
 export const runDigest = (siteId: number) =>
-  http.post<{ sent: number; overdue: number; dueSoon: number }>('/trip-tests/digest-runs', { siteId })
+  http.post<{ sent: number; overdue: number; dueSoon: number }>('/trip-tests/digest-runs', {
+    siteId,
+  } satisfies DigestRunInput)
 
 /** Degraded limits whose signed repair deadline has passed (home, handover). */
 export const listOverdueRepairs = (siteId?: number[]) =>
   http.get<{ items: OverdueRepair[] }>('/trip-tests/overdue-repairs', { siteId })
 export const getDegradation = (limitId: number) =>
   http.get<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation`)
-export const signDegradationMeasures = (
-  limitId: number,
-  body: { compensatingMeasures: string[]; repairDeadline: string; password: string },
-) => http.post<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation`, body)
+export const signDegradationMeasures = (limitId: number, body: DegradationMeasuresInput) =>
+  http.post<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation`, body)
 /** The plant manager accepts a repair deadline beyond the function's MTTR (a signature). */
-export const approveRepairDeadline = (limitId: number, body: { password: string; comment?: string }) =>
+export const approveRepairDeadline = (limitId: number, body: DeadlineApprovalInput) =>
   http.post<{ items: DegradationItem[] }>(`/limits/${limitId}/degradation/deadline-approval`, body)
 
 /** Address of the test history as CSV (a download). */
-export const exportUrl = (query: { siteId?: number[]; limitId?: number }) => `/api/trip-tests/export${toQuery(query)}`
+export const exportUrl = (query: Pick<TripTestListParams, 'siteId' | 'limitId'>) =>
+  `/api/trip-tests/export${toQuery(query)}`
 /** Address of a record's PDF certificate (a download). */
 export const certificateUrl = (id: number) => `/api/trip-tests/${id}/certificate`
 /** Address of one attachment (a download). */
@@ -80,16 +88,8 @@ export function uploadAttachment(
 }
 
 // Test deferrals (docs/trip-tests.md#test-deferrals)
-export const listDeferrals = (query: { limitId?: number; siteId?: number[]; pageSize?: number }) =>
-  http.get<{ items: TestDeferralDto[]; total: number }>('/test-deferrals', { ...query })
-export const requestDeferral = (body: {
-  limitId: number
-  newDueDate: string
-  reason: string
-  compensatingMeasures: string[]
-}) => http.post<TestDeferralDto>('/test-deferrals', body)
-export const decideDeferral = (
-  id: number,
-  decision: 'approve' | 'reject',
-  body: { password: string; comment: string },
-) => http.post<TestDeferralDto>(`/test-deferrals/${id}/${decision === 'approve' ? 'approval' : 'rejection'}`, body)
+export const listDeferrals = (query: TestDeferralListParams) =>
+  http.get<TestDeferralList>('/test-deferrals', { ...query })
+export const requestDeferral = (body: TestDeferralInput) => http.post<TestDeferralDto>('/test-deferrals', body)
+export const decideDeferral = (id: number, decision: 'approve' | 'reject', body: DeferralDecisionInput) =>
+  http.post<TestDeferralDto>(`/test-deferrals/${id}/${decision === 'approve' ? 'approval' : 'rejection'}`, body)
