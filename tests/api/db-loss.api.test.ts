@@ -1,14 +1,9 @@
 // PostgreSQL restarted under load, inside the test: the app answers 503 while the database is away (health says
 // so), never crashes, recovers by itself without a restart, leaves nothing half-applied, and the audit chain stays
-// intact. The cluster is this file's own (server/db/pg.sh in a temporary folder, as tests/global-setup.ts does),
+// intact. The cluster is this file's own (tests/pg-cluster.ts, as tests/global-setup.ts starts one),
 // so restarting it disturbs no other test file.
-import { execFile } from 'node:child_process'
-import { mkdtemp, rm } from 'node:fs/promises'
 import http from 'node:http'
 import net from 'node:net'
-import os from 'node:os'
-import path from 'node:path'
-import { promisify } from 'node:util'
 import request from 'supertest'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
@@ -17,35 +12,21 @@ import { loadConfig } from '../../server/config.ts'
 import { createDb, type Db } from '../../server/db/index.ts'
 import { verifyAuditChain } from '../../server/features/audit/audit.repository.ts'
 import { DEMO_PASSWORD, seedDemo } from '../../server/seed/demo.ts'
-import { freePort } from '../../server/dev/free-port.ts'
+import { migrateInChild, startThrowawayCluster, type ThrowawayCluster } from '../pg-cluster.ts'
 
-const run = promisify(execFile)
-
-let dir = ''
-let env: NodeJS.ProcessEnv = {}
+let cluster: ThrowawayCluster | undefined
 let db: Db
 let server: http.Server
 let base = ''
-const pg = (cmd: 'start' | 'stop') => run('bash', ['server/db/pg.sh', cmd], { env })
+const pg = (cmd: 'start' | 'stop') => cluster!.pg(cmd)
 
 beforeAll(async () => {
-  dir = await mkdtemp(path.join(os.tmpdir(), 'limitkeeper-dbloss-'))
-  await run('chmod', ['755', dir])
-  env = { ...process.env, PG_DIR: path.join(dir, 'pg'), PGPORT: String(await freePort()), PG_FAST: '1' }
-  const { stdout } = await pg('start')
-  const vars = Object.fromEntries(
-    stdout
-      .trim()
-      .split('\n')
-      .map((l) => l.split(/=(.*)/s).slice(0, 2)),
-  )
-  await run(process.execPath, ['--import', 'tsx', 'server/db/migrate-cli.ts'], {
-    env: { ...process.env, MIGRATION_DATABASE_URL: vars.MIGRATION_DATABASE_URL },
-  })
-  const owner = createDb(vars.MIGRATION_DATABASE_URL, 2).db
+  cluster = await startThrowawayCluster('limitkeeper-dbloss-')
+  await migrateInChild(cluster.ownerUrl)
+  const owner = createDb(cluster.ownerUrl, 2).db
   await seedDemo(owner, new AdjustableClock(), { register: false })
   await owner.destroy()
-  const config = loadConfig({ NODE_ENV: 'test', DATABASE_URL: vars.DATABASE_URL, SMTP_PORT: '1' })
+  const config = loadConfig({ NODE_ENV: 'test', DATABASE_URL: cluster.appUrl, SMTP_PORT: '1' })
   const made = createDb(config.DATABASE_URL, 10)
   db = made.db
   const app = createApp({ db, pool: made.pool, clock: new AdjustableClock(), config }, { serveClient: false })
@@ -60,8 +41,7 @@ afterAll(async () => {
     await new Promise((resolve) => server.close(resolve))
   }
   await db?.destroy()
-  await pg('stop').catch(() => {})
-  await rm(dir, { recursive: true, force: true })
+  await cluster?.stop()
 })
 
 /** A signed-in engineer over real HTTP (cookie and CSRF token kept). */

@@ -11,16 +11,12 @@ import os from 'node:os'
 import path from 'node:path'
 import { performance } from 'node:perf_hooks'
 import { once } from 'node:events'
-import { createAppAbility, defineRulesFor } from '../../shared/abilities/index.ts'
 import { replayLimit } from '../../shared/domain/alarm-limit-state.ts'
-import { systemClock } from '../../server/clock.ts'
-import { loadConfig } from '../../server/config.ts'
 import { createDb } from '../../server/db/index.ts'
 import { alarmFigures } from '../../server/features/alarms/alarm-figures.service.ts'
 import { startJournalUpload } from '../../server/features/alarms/alarm-journals.service.ts'
-import { findRolesByUserIds } from '../../server/features/users/users.repository.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
-import { startCluster } from './register.bench.ts'
+import { demoEngineer, startCluster } from './harness.ts'
 
 const ROWS = Number(process.env.BENCH_ROWS ?? 5_000_000)
 const EVENTS = Number(process.env.BENCH_EVENTS ?? 10_000_000)
@@ -58,15 +54,7 @@ async function main() {
   const app = createDb(cluster.appUrl, 10)
   try {
     await seedDemo(owner.db)
-    const config = loadConfig({ NODE_ENV: 'test', DATABASE_URL: cluster.appUrl, SMTP_PORT: '1' })
-    const deps = { db: app.db, pool: app.pool, clock: systemClock, config }
-    const user = await app.db
-      .selectFrom('app_user')
-      .select('id')
-      .where('email', '=', 'engineer@fernhollow.example')
-      .executeTakeFirstOrThrow()
-    const roles = (await findRolesByUserIds(app.db, [user.id])).get(user.id) ?? []
-    const ability = createAppAbility(defineRulesFor({ id: user.id, roles }))
+    const { deps, user, roles, ability } = await demoEngineer(app, cluster.appUrl)
     const site = roles[0].siteId
 
     // 1. import

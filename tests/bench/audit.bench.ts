@@ -23,8 +23,7 @@ import { systemClock } from '../../server/clock.ts'
 import { createDb, type Db } from '../../server/db/index.ts'
 import { createAuditKeyFile } from '../../server/features/audit/audit.key.ts'
 import { createAuditSealJob } from '../../server/features/audit/audit.sealer.ts'
-import { seedDemo } from '../../server/seed/demo.ts'
-import { runAsScript, startCluster } from './register.bench.ts'
+import { runAsScript, seedDemoPlant, startCluster } from './harness.ts'
 
 const DURATION_MS = Number(process.env.BENCH_SECONDS ?? 10) * 1000
 const WRITERS = Number(process.env.BENCH_WRITERS ?? 8)
@@ -153,12 +152,7 @@ async function main() {
   createAuditKeyFile(process.env.AUDIT_KEY_FILE)
   const cluster = await startCluster()
   try {
-    const owner = createDb(cluster.ownerUrl, 2).db
-    try {
-      await seedDemo(owner, systemClock)
-    } finally {
-      await owner.destroy()
-    }
+    await seedDemoPlant(cluster.ownerUrl)
     const design = await loadDesign()
     const { db } = createDb(cluster.appUrl, WRITERS + 2)
     try {

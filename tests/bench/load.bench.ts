@@ -15,7 +15,8 @@ import { startServer } from '../../server/index.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
 import { launchChromium } from '../browser/chromium.ts'
 import { logger } from '../../server/logger.ts'
-import { runAsScript, signIn, startCluster } from './register.bench.ts'
+import { runAsScript, startCluster } from './harness.ts'
+import { signIn } from './register.bench.ts'
 
 const RUNS = 3
 const TARGET_ASSET_KB = 300

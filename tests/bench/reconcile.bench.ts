@@ -12,10 +12,7 @@
 // Knobs: BENCH_LIMITS (100000), BENCH_READ_SECONDS (5).
 import { createHash } from 'node:crypto'
 import { performance } from 'node:perf_hooks'
-import { createAppAbility, defineRulesFor } from '../../shared/abilities/index.ts'
 import { reconcile } from '../../shared/domain/reconcile.ts'
-import { systemClock } from '../../server/clock.ts'
-import { loadConfig } from '../../server/config.ts'
 import { createDb } from '../../server/db/index.ts'
 import { startModbusSim } from '../../server/dev/modbus-sim.ts'
 import { ReadOnlyModbus } from '../../server/features/reconciliation/modbus-reader.ts'
@@ -28,15 +25,26 @@ import {
 import { resolveColumnMapping } from '../../server/features/register/column-mapping.ts'
 import { readCsv } from '../../server/features/register/imports.service.ts'
 import { EXPORT_COLUMNS, EXPORT_REQUIRED_COLUMNS } from '../../shared/schemas/reconciliation.ts'
-import { findRolesByUserIds } from '../../server/features/users/users.repository.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
-import { bulkInsert, runAsScript, startCluster } from './register.bench.ts'
+import { demoEngineer, runAsScript, startCluster } from './harness.ts'
+import { bulkInsert } from './register.bench.ts'
 
 const LIMITS = Number(process.env.BENCH_LIMITS ?? 100_000)
 const READ_SECONDS = Number(process.env.BENCH_READ_SECONDS ?? 5)
 const TARGET = { reconcileSeconds: 10, readsPerSec: 500 }
 const verdict = (ok: boolean) => (ok ? 'PASS' : 'FAIL')
 const fmt = (n: number) => Math.round(n).toLocaleString('en-US')
+
+/** The export's own layout mapped to the product's columns by name (docs/reconciliation.md#sources). */
+const mapExportHeaders = (headers: string[]) =>
+  resolveColumnMapping(
+    headers,
+    EXPORT_COLUMNS,
+    EXPORT_REQUIRED_COLUMNS,
+    { Point: 'tag', Parameter: 'attribute', Value: 'value', EU: 'unit' },
+    {},
+    'map the headers',
+  )
 
 async function main() {
   console.log(`Reconciliation benchmarks: ${fmt(LIMITS)} limits, ${fmt(LIMITS * 5)} export rows`)
@@ -69,15 +77,7 @@ async function main() {
       .execute()
     console.log(`register: ${fmt(limits.length)} active limits at one site`)
 
-    const config = loadConfig({ NODE_ENV: 'test', DATABASE_URL: cluster.appUrl, SMTP_PORT: '1' })
-    const deps = { db: app.db, pool: app.pool, clock: systemClock, config }
-    const user = await app.db
-      .selectFrom('app_user')
-      .select('id')
-      .where('email', '=', 'engineer@fernhollow.example')
-      .executeTakeFirstOrThrow()
-    const roles = (await findRolesByUserIds(app.db, [user.id])).get(user.id) ?? []
-    const ability = createAppAbility(defineRulesFor({ id: user.id, roles }))
+    const { deps, user, ability } = await demoEngineer(app, cluster.appUrl)
     const audit = { actorId: user.id, requestId: 'bench', ip: null }
     const source = await createSource(deps, ability, audit, {
       siteId: area.site_id,
@@ -119,14 +119,7 @@ async function main() {
       const t0 = performance.now()
       // what uploadExport does after its 5 MB check (docs/reconciliation.md#sources)
       const table = readCsv(new TextDecoder('utf-8', { fatal: true }).decode(buffer))
-      const { keys } = resolveColumnMapping(
-        table.headers,
-        EXPORT_COLUMNS,
-        EXPORT_REQUIRED_COLUMNS,
-        { Point: 'tag', Parameter: 'attribute', Value: 'value', EU: 'unit' },
-        {},
-        'map the headers',
-      )
+      const { keys } = mapExportHeaders(table.headers)
       const parsed = exportObservations(table.rows, keys)
       const tParsed = performance.now()
       const run = await performRun(deps, audit, source.id, 'upload', {
@@ -151,14 +144,7 @@ async function main() {
       const reg = await loadRegisterLimits(app.db, area.site_id)
       const t1 = performance.now()
       const table = readCsv(buffer.toString('utf8'))
-      const { keys } = resolveColumnMapping(
-        table.headers,
-        EXPORT_COLUMNS,
-        EXPORT_REQUIRED_COLUMNS,
-        { Point: 'tag', Parameter: 'attribute', Value: 'value', EU: 'unit' },
-        {},
-        'map the headers',
-      )
+      const { keys } = mapExportHeaders(table.headers)
       const obs = exportObservations(table.rows, keys).observations
       const t2 = performance.now()
       reconcile({

@@ -13,19 +13,15 @@
 // Knobs: BENCH_LIMITS (100000), BENCH_CONCURRENCY (16), BENCH_SECONDS (10 per target), BENCH_SQL (statements run as the
 // owner after the bulk insert, to try a candidate index before writing its migration); `-- --explain` prints whole plans.
 import { execFile } from 'node:child_process'
-import { mkdtemp, readdir, readFile, rm } from 'node:fs/promises'
+import { readdir, readFile } from 'node:fs/promises'
 import type { Server } from 'node:http'
 import os from 'node:os'
-import path from 'node:path'
 import { performance } from 'node:perf_hooks'
-import { fileURLToPath } from 'node:url'
 import { promisify } from 'node:util'
 import express from 'express'
 import { Kysely, PostgresDialect } from 'kysely'
 import pg from 'pg'
-import { systemClock } from '../../server/clock.ts'
 import { loadConfig } from '../../server/config.ts'
-import { createDb } from '../../server/db/index.ts'
 import type { Database } from '../../server/db/schema.ts'
 import {
   countLimits,
@@ -33,11 +29,11 @@ import {
   type LimitFilters,
   listRegisterRows,
 } from '../../server/features/register/limits.repository.ts'
-import { migrateToLatest } from '../../server/db/migrate.ts'
 import { startServer, type RunningServer } from '../../server/index.ts'
-import { DEMO_PASSWORD, seedDemo } from '../../server/seed/demo.ts'
+import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { freePort } from '../../server/dev/free-port.ts'
 import { logger } from '../../server/logger.ts'
+import { runAsScript, seedDemoPlant, startCluster } from './harness.ts'
 import { drive, type LoadResult, type Sample } from './http-load.ts'
 
 const run = promisify(execFile)
@@ -51,39 +47,6 @@ const TARGET_P95_MS = 50
 const TARGET_RATIO = 5
 
 const seconds = (ms: number) => `${(ms / 1000).toFixed(2)} s`
-
-interface Cluster {
-  superUrl: string
-  ownerUrl: string
-  appUrl: string
-  stop(): Promise<void>
-}
-
-/** A throwaway cluster like tests/global-setup.ts starts, with its own database, migrated as the owner role. */
-export async function startCluster(): Promise<Cluster> {
-  const dir = await mkdtemp(path.join(os.tmpdir(), 'limitkeeper-bench-'))
-  await run('chmod', ['755', dir])
-  const port = await freePort()
-  const env = { ...process.env, PG_DIR: path.join(dir, 'pg'), PGPORT: String(port), PG_FAST: '1', DB_NAME: 'lk_bench' }
-  const stop = async () => {
-    await run('bash', ['server/db/pg.sh', 'stop'], { env }).catch(() => {})
-    await rm(dir, { recursive: true, force: true })
-  }
-  try {
-    const { stdout } = await run('bash', ['server/db/pg.sh', 'start'], { env })
-    const vars = Object.fromEntries(
-      stdout
-        .trim()
-        .split('\n')
-        .map((l) => l.split(/=(.*)/s).slice(0, 2)),
-    )
-    await migrateToLatest(vars.MIGRATION_DATABASE_URL)
-    return { superUrl: vars.SUPER_URL, ownerUrl: vars.MIGRATION_DATABASE_URL, appUrl: vars.DATABASE_URL, stop }
-  } catch (err) {
-    await stop()
-    throw err
-  }
-}
 
 /**
  * Bulk register rows straight in SQL: 1,000 processes over every area of both sites, one instrument per two limits
@@ -456,12 +419,7 @@ async function main() {
     console.log(`  cluster started and migrated   ${seconds(performance.now() - t)}`)
 
     t = performance.now()
-    const owner = createDb(cluster.ownerUrl, 2).db
-    try {
-      await seedDemo(owner, systemClock)
-    } finally {
-      await owner.destroy()
-    }
+    await seedDemoPlant(cluster.ownerUrl)
     console.log(`  demo plant seeded              ${seconds(performance.now() - t)}`)
 
     t = performance.now()
@@ -613,18 +571,6 @@ async function main() {
   } finally {
     await cleanup()
   }
-}
-
-/** Runs a benchmark's main when its file is started as a script (not when imported): exit 1 only on a failure. */
-export function runAsScript(moduleUrl: string, run: () => Promise<void>) {
-  if (!process.argv[1] || path.resolve(process.argv[1]) !== fileURLToPath(moduleUrl)) return
-  run().then(
-    () => process.exit(0),
-    (err) => {
-      console.error(err instanceof Error ? (err.stack ?? err.message) : err)
-      process.exit(1)
-    },
-  )
 }
 
 // the cluster and bulk-insert helpers can also be imported for ad-hoc analysis

@@ -10,11 +10,10 @@
 import os from 'node:os'
 import { performance } from 'node:perf_hooks'
 import pg from 'pg'
-import { systemClock } from '../../server/clock.ts'
 import { createDb } from '../../server/db/index.ts'
 import { refreshChangedSchedules } from '../../server/features/trip-tests/trip-tests.jobs.ts'
-import { seedDemo } from '../../server/seed/demo.ts'
-import { bulkInsert, runAsScript, startCluster } from './register.bench.ts'
+import { runAsScript, seedDemoPlant, startCluster } from './harness.ts'
+import { bulkInsert } from './register.bench.ts'
 
 const BULK_LIMITS = Number(process.env.BENCH_LIMITS ?? 100_000)
 const NOW = new Date('2026-12-02T09:00:00Z')
@@ -52,12 +51,7 @@ async function main() {
   )
   const cluster = await startCluster()
   try {
-    const owner = createDb(cluster.ownerUrl, 2).db
-    try {
-      await seedDemo(owner, systemClock)
-    } finally {
-      await owner.destroy()
-    }
+    await seedDemoPlant(cluster.ownerUrl)
     await bulkInsert(cluster.ownerUrl, BULK_LIMITS)
     const tests = await insertTests(cluster.ownerUrl)
     console.log(`  ${tests.toLocaleString('en')} active limits, one signed passing full test each`)

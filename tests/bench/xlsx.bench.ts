@@ -16,7 +16,8 @@ import { startServer } from '../../server/index.ts'
 import { logger } from '../../server/logger.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
 import { IMPORT_MAX_BYTES } from '../../shared/schemas/imports.ts'
-import { runAsScript, signIn, startCluster } from './register.bench.ts'
+import { runAsScript, startCluster } from './harness.ts'
+import { signIn } from './register.bench.ts'
 
 // ExcelJS's writer packs 1,000,000 rows into 5.14 MB, just over the 5 MB upload limit; 950,000 fit under it
 const ROWS = 950_000

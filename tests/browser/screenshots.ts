@@ -2,11 +2,8 @@
 // with the demo plant. Not part of npm test. The register, the limit page, the trip-test form and the shift handover
 // are taken at three widths (desktop 1366 × 900, tablet 1024 × 768, phone 390 × 844). Names given after `--` take
 // only the screenshots whose names start with one of them: `npm run docs:screenshots -- register trip-test-form`.
-import { execFile } from 'node:child_process'
-import { mkdir, mkdtemp, rm } from 'node:fs/promises'
-import os from 'node:os'
+import { mkdir } from 'node:fs/promises'
 import path from 'node:path'
-import { promisify } from 'node:util'
 import type { Browser, Page } from 'playwright-core'
 import { loadConfig } from '../../server/config.ts'
 import { createDb } from '../../server/db/index.ts'
@@ -16,9 +13,8 @@ import { systemClock } from '../../server/clock.ts'
 import { seedDemoActivity } from '../../server/seed/demo-activity.ts'
 import { seedDemo } from '../../server/seed/demo.ts'
 import { launchChromium } from './chromium.ts'
-import { freePort } from '../../server/dev/free-port.ts'
+import { startThrowawayCluster } from '../pg-cluster.ts'
 
-const run = promisify(execFile)
 const OUT = 'docs/screenshots'
 
 async function signIn(
@@ -67,24 +63,15 @@ async function shot(page: Page, url: string, name: string, waitFor?: string, scr
   console.log(`  ${OUT}/${name}.png`)
 }
 
-const dir = await mkdtemp(path.join(os.tmpdir(), 'limitkeeper-shots-'))
-await run('chmod', ['755', dir])
-const env = { ...process.env, PG_DIR: path.join(dir, 'pg'), PGPORT: String(await freePort()), PG_FAST: '1' }
+const cluster = await startThrowawayCluster('limitkeeper-shots-')
 let stop = async () => {}
 try {
-  const { stdout } = await run('bash', ['server/db/pg.sh', 'start'], { env })
-  const vars = Object.fromEntries(
-    stdout
-      .trim()
-      .split('\n')
-      .map((l) => l.split(/=(.*)/s).slice(0, 2)),
-  )
-  await migrateToLatest(vars.MIGRATION_DATABASE_URL)
-  const owner = createDb(vars.MIGRATION_DATABASE_URL, 2).db
+  await migrateToLatest(cluster.ownerUrl)
+  const owner = createDb(cluster.ownerUrl, 2).db
   const config = loadConfig({
     ...process.env,
     NODE_ENV: 'development',
-    DATABASE_URL: vars.DATABASE_URL,
+    DATABASE_URL: cluster.appUrl,
     PORT: '0',
     SMTP_PORT: '1',
   })
@@ -152,6 +139,5 @@ try {
   }
 } finally {
   await stop()
-  await run('bash', ['server/db/pg.sh', 'stop'], { env }).catch(() => {})
-  await rm(dir, { recursive: true, force: true })
+  await cluster.stop()
 }
