@@ -85,28 +85,16 @@ describe('alarm states (rule book shared/domain/rules/alarm-states.ts)', () => {
   })
 
   it('out of service needs a supervisor’s signature and ends with a return-to-service record', async () => {
-    await tech
-      .post('/api/alarm-states', {
-        siteId: fixture.site.id,
-        tag: 'PA-77',
-        kind: 'out_of_service',
-        reason: 'Sensor replaced',
-        hours: 8,
-        password: DEMO_PASSWORD,
-      })
-      .expect(403)
-    const oos = (
-      await sup
-        .post('/api/alarm-states', {
-          siteId: fixture.site.id,
-          tag: 'PA-77',
-          kind: 'out_of_service',
-          reason: 'Sensor replaced',
-          hours: 8,
-          password: DEMO_PASSWORD,
-        })
-        .expect(201)
-    ).body
+    const outOfService = {
+      siteId: fixture.site.id,
+      tag: 'PA-77',
+      kind: 'out_of_service',
+      reason: 'Sensor replaced',
+      hours: 8,
+      password: DEMO_PASSWORD,
+    }
+    await tech.post('/api/alarm-states', outOfService).expect(403)
+    const oos = (await sup.post('/api/alarm-states', outOfService).expect(201)).body
     await eng.post(`/api/alarm-states/${oos.id}/end`, { note: 'done' }).expect(403)
     const ended = (
       await tech.post(`/api/alarm-states/${oos.id}/end`, { note: 'Loop checked, alarm tested at setpoint' }).expect(200)

@@ -29,46 +29,24 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
     const sup = await signedIn(app, 'supervisor')
     const mgr = await signedIn(app, 'manager')
     const { limit } = await buildHeaterTrip(eng)
-    await op
-      .post('/api/bypasses', {
-        limitId: limit.id,
-        reason: 'Burner maintenance',
-        plannedStart: '2026-05-04T06:30:00Z',
-        plannedEnd: '2026-05-04T10:30:00Z',
-        predefinedMeasuresConfirmed: true,
-      })
-      .expect(409)
+    // 06:30 to 10:30, the predefined compensating measures confirmed
+    const request = {
+      limitId: limit.id,
+      reason: 'Burner maintenance',
+      plannedStart: '2026-05-04T06:30:00Z',
+      plannedEnd: '2026-05-04T10:30:00Z',
+      predefinedMeasuresConfirmed: true,
+    }
+    await op.post('/api/bypasses', request).expect(409)
     await activateLimit({ eng, approver, tech }, limit)
 
+    // the confirmation left out
     const noMeasures = await op
-      .post('/api/bypasses', {
-        limitId: limit.id,
-        reason: 'Burner maintenance',
-        plannedStart: '2026-05-04T06:30:00Z',
-        plannedEnd: '2026-05-04T10:30:00Z',
-      })
+      .post('/api/bypasses', { ...request, predefinedMeasuresConfirmed: undefined })
       .expect(400)
     expect(noMeasures.body.error.details.fields.predefinedMeasuresConfirmed).toBeDefined()
-    await op
-      .post('/api/bypasses', {
-        limitId: limit.id,
-        reason: 'Burner maintenance',
-        plannedStart: '2026-05-04T06:30:00Z',
-        plannedEnd: '2026-05-04T16:30:00Z',
-        predefinedMeasuresConfirmed: true,
-      })
-      .expect(400)
-    const b = (
-      await op
-        .post('/api/bypasses', {
-          limitId: limit.id,
-          reason: 'Burner maintenance',
-          plannedStart: '2026-05-04T06:30:00Z',
-          plannedEnd: '2026-05-04T10:30:00Z',
-          predefinedMeasuresConfirmed: true,
-        })
-        .expect(201)
-    ).body
+    await op.post('/api/bypasses', { ...request, plannedEnd: '2026-05-04T16:30:00Z' }).expect(400)
+    const b = (await op.post('/api/bypasses', request).expect(201)).body
     expect(b.status).toBe('requested')
     await op.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(403)
     await sup.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
@@ -95,13 +73,7 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.protectionState).toBe('bypassed')
     const second = (
       await op
-        .post('/api/bypasses', {
-          limitId: limit.id,
-          reason: 'Second one',
-          plannedStart: '2026-05-04T06:30:00Z',
-          plannedEnd: '2026-05-04T08:30:00Z',
-          predefinedMeasuresConfirmed: true,
-        })
+        .post('/api/bypasses', { ...request, reason: 'Second one', plannedEnd: '2026-05-04T08:30:00Z' })
         .expect(201)
     ).body
     await sup.post(`/api/bypasses/${second.id}/authorizations`, { password: PW }).expect(200)

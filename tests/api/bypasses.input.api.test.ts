@@ -5,7 +5,14 @@ import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
-import { heaterThermocouple, readyToImplement, countActionEvents, countRows } from './helpers/factories.ts'
+import {
+  heaterAlarmBody,
+  heaterThermocouple,
+  heaterTripBody,
+  readyToImplement,
+  countActionEvents,
+  countRows,
+} from './helpers/factories.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
 const ctx = useTestDb()
@@ -57,18 +64,11 @@ async function buildLimit(
   const limit = (
     await eng
       .post('/api/limits', {
-        processId: proc.id,
-        instrumentIds: instruments.map((i) => i.id),
-        tag: `${alarm ? 'TAH' : 'TSHH'}-B${n}`,
-        direction: 'high',
-        limitClass: o.limitClass ?? 'trip',
-        setpoint: alarm ? 700 : 780,
-        deadband: 5,
-        severity: alarm ? 'moderate' : 'severe',
-        testIntervalMonths: 12,
-        latching: !alarm,
-        resetRole: alarm ? null : 'operator',
-        responseTimeMin: alarm ? 15 : null,
+        ...(alarm ? heaterAlarmBody : heaterTripBody)(
+          proc.id,
+          instruments.map((i) => i.id),
+          `${alarm ? 'TAH' : 'TSHH'}-B${n}`,
+        ),
         compensatingMeasures: o.measures ?? ['Operator watches TI locally every 15 min'],
         bypassPermitted: o.bypassPermitted ?? true,
         maxBypassHours: o.bypassPermitted === false ? null : o.maxBypassHours === undefined ? 8 : o.maxBypassHours,

@@ -1,20 +1,17 @@
-import type { Express } from 'express'
 import Papa from 'papaparse'
 import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { crewOf, DEMO_ACCOUNTS, signedIn } from './helpers/agent.ts'
+import { DEMO_ACCOUNTS, signedIn, useSignedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
-import { ACTIVATE, heaterThermocouple } from './helpers/factories.ts'
+import { ACTIVATE, heaterAlarmBody, heaterThermocouple, heaterTripBody, mvSourceTest } from './helpers/factories.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 const PEOPLE = DEMO_ACCOUNTS
 type Who = (typeof PEOPLE)[number]
 
-let app: Express
-const { as, signInAll } = crewOf(() => app, PEOPLE)
+const { as, signInAll, app } = useSignedIn(ctx, PEOPLE, { at: '2026-05-31T10:00:00Z' })
 let seq = 0
 const userIds = {} as Record<Who, number>
 
@@ -36,18 +33,7 @@ async function limitIn(siteCode: 'FHR' | 'SMP', areaIndex: number, kind: 'trip' 
   const limit = (
     await eng
       .post('/api/limits', {
-        processId: proc.id,
-        instrumentIds: [inst.id],
-        tag: `${alarm ? 'TAH' : 'TSHH'}-R${n}`,
-        direction: 'high',
-        limitClass: kind,
-        setpoint: alarm ? 700 : 780,
-        deadband: 5,
-        severity: alarm ? 'moderate' : 'severe',
-        testIntervalMonths: 12,
-        latching: !alarm,
-        resetRole: alarm ? null : 'operator',
-        responseTimeMin: alarm ? 15 : null,
+        ...(alarm ? heaterAlarmBody : heaterTripBody)(proc.id, [inst.id], `${alarm ? 'TAH' : 'TSHH'}-R${n}`),
         compensatingMeasures: alarm ? [] : ['Operator watches TI locally every 15 min'],
         maxBypassHours: 100,
         bypassPermitted: true,
@@ -62,7 +48,7 @@ async function limitIn(siteCode: 'FHR' | 'SMP', areaIndex: number, kind: 'trip' 
 async function at(iso: string, ...who: Who[]) {
   ctx.clock.set(iso)
   if (!who.length) await signInAll()
-  for (const w of who) as[w] = await signedIn(app, w)
+  for (const w of who) as[w] = await signedIn(app(), w)
 }
 
 const clear = { pvClearConfirmed: true, protectionRestoredConfirmed: true }
@@ -105,8 +91,6 @@ async function requestAndAuthorize(
  * now 5 Jun 12:00
  */
 beforeAll(async () => {
-  app = createApp(ctx)
-  await at('2026-05-31T10:00:00Z')
   for (const r of await ctx.db.selectFrom('app_user').select(['id', 'email']).execute()) {
     const who = r.email.split('@')[0] as Who
     if (PEOPLE.includes(who)) userIds[who] = r.id
@@ -148,20 +132,15 @@ beforeAll(async () => {
   await at('2026-06-04T10:00:00Z', 'technician')
   const test = (
     await as.technician
-      .post('/api/trip-tests', {
-        limitId: F.id,
-        kind: 'full',
-        method: 'injection',
-        injectionPoint: 'sensor',
-        sourceMode: 'mv_source',
-        coldJunctionC: 25,
-        calibratorId: 'CAL-07',
-        calibratorDueDate: '2026-12-31',
-        performedAt: '2026-06-04T09:30:00Z',
-        finalElementOk: true,
-        latchHeld: true,
-        asFound: 800,
-      })
+      .post(
+        '/api/trip-tests',
+        mvSourceTest(F.id, {
+          performedAt: '2026-06-04T09:30:00Z',
+          finalElementOk: true,
+          latchHeld: true,
+          asFound: 800,
+        }),
+      )
       .expect(201)
   ).body
   expect(test.asFoundResult).toBe('out_dangerous')

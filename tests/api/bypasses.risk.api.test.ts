@@ -4,24 +4,16 @@ import { createApp } from '../../server/app.ts'
 import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { sifPfd, type Subsystem } from '../../shared/domain/sif-reliability.ts'
-import { crewOf } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE, heaterThermocouple, heaterTrip } from './helpers/factories.ts'
+import { crewOf, DEMO_ACCOUNTS } from './helpers/agent.ts'
+import { buildHeaterTrip, ACTIVATE, heaterThermocouple, heaterTrip, mvSourceTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 const YEAR_H = 8760
-const PEOPLE = [
-  'engineer',
-  'approver',
-  'approver2',
-  'technician',
-  'supervisor',
-  'operator',
-  'manager',
-  'auditor',
-] as const
+// every demo account but the administrator
+const PEOPLE = DEMO_ACCOUNTS.filter((p): p is Exclude<(typeof DEMO_ACCOUNTS)[number], 'admin'> => p !== 'admin')
 type Who = (typeof PEOPLE)[number]
 
 let app: Express
@@ -33,42 +25,18 @@ async function at(iso: string) {
   await signInAll()
 }
 
+// each subsystem of the worked example: no common cause unless given, MTTR 0, full coverage, tested yearly
+const EXACT = { beta: 0, mttrHours: 0, testIntervalMonths: 12, testCoverage: 1, missionTimeYears: 15 }
+
 /**
  * Whole-SIF worked example (simplified equations of IEC 61508-6 Annex B / ISA-TR84.00.02): sensors 1oo2 (λDU 5e−7, β 0.1) 2.2418e−4 + logic solver
  * 1.0e−4 (given; here a 1oo1 with λDU = 2·1e−4/8 760 h) + valve 1oo1 (λDU 2e−6) 8.7600e−3 = 9.0842e−3 → SIL 2, RRF 110.1.
  * MTTR 0 and full proof-test coverage, so the simplified equations apply exactly; proof test yearly (12 × 730 h = 8 760 h).
  */
 const WORKED: Subsystem[] = [
-  {
-    role: 'sensor',
-    architecture: '1oo2',
-    lambdaDu: 5e-7,
-    beta: 0.1,
-    mttrHours: 0,
-    testIntervalMonths: 12,
-    testCoverage: 1,
-    missionTimeYears: 15,
-  },
-  {
-    role: 'logic',
-    architecture: '1oo1',
-    lambdaDu: 2e-4 / YEAR_H,
-    beta: 0,
-    mttrHours: 0,
-    testIntervalMonths: 12,
-    testCoverage: 1,
-    missionTimeYears: 15,
-  },
-  {
-    role: 'final_element',
-    architecture: '1oo1',
-    lambdaDu: 2e-6,
-    beta: 0,
-    mttrHours: 0,
-    testIntervalMonths: 12,
-    testCoverage: 1,
-    missionTimeYears: 15,
-  },
+  { ...EXACT, role: 'sensor', architecture: '1oo2', lambdaDu: 5e-7, beta: 0.1 },
+  { ...EXACT, role: 'logic', architecture: '1oo1', lambdaDu: 2e-4 / YEAR_H },
+  { ...EXACT, role: 'final_element', architecture: '1oo1', lambdaDu: 2e-6 },
 ]
 
 // simplified equations (ISA-TR84.00.02; IEC 61508-6 Annex B), MTTR terms
@@ -166,20 +134,15 @@ beforeAll(async () => {
   // a passing yearly proof test of the worked-example function: due 3 Aug 2027
   const test = (
     await as.technician
-      .post('/api/trip-tests', {
-        limitId: worked.limit.id,
-        kind: 'full',
-        method: 'injection',
-        injectionPoint: 'sensor',
-        sourceMode: 'mv_source',
-        coldJunctionC: 25,
-        calibratorId: 'CAL-07',
-        calibratorDueDate: '2026-12-31',
-        performedAt: '2026-08-03T05:30:00Z',
-        finalElementOk: true,
-        latchHeld: true,
-        asFound: 781,
-      })
+      .post(
+        '/api/trip-tests',
+        mvSourceTest(worked.limit.id, {
+          performedAt: '2026-08-03T05:30:00Z',
+          finalElementOk: true,
+          latchHeld: true,
+          asFound: 781,
+        }),
+      )
       .expect(201)
   ).body
   expect(test.passed).toBe(true)

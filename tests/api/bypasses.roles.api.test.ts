@@ -1,10 +1,8 @@
-import type { Express } from 'express'
 import type { Response } from 'supertest'
 import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { type ApiAgent, crewOf, DEMO_ACCOUNTS } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
+import { type ApiAgent, DEMO_ACCOUNTS, useSignedIn } from './helpers/agent.ts'
+import { actionEvents, buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -13,19 +11,12 @@ const PW = DEMO_PASSWORD
 const PEOPLE = DEMO_ACCOUNTS
 type Who = (typeof PEOPLE)[number]
 
-let app: Express
-const { as, signInAll } = crewOf(() => app, PEOPLE)
+const { as, signInAll } = useSignedIn(ctx, PEOPLE, { at: '2026-05-04T06:00:00Z' })
 let limitId = 0
 
 /** Everything a bypass action writes (sign-in events excluded: signing in is not the action). */
 async function written() {
   const count = async (table: 'signature' | 'mail_outbox') => countRows(ctx.db, table)
-  const audit = await ctx.db
-    .selectFrom('audit_event')
-    .select('action')
-    .where('action', 'not like', 'session.%')
-    .orderBy('id')
-    .execute()
   const attempts = await ctx.db
     .selectFrom('sign_in_attempt')
     .select((eb) => eb.fn.countAll<number>().as('n'))
@@ -39,7 +30,7 @@ async function written() {
       .execute(),
     signatures: await count('signature'),
     mails: await count('mail_outbox'),
-    audit: audit.map((a) => a.action),
+    audit: await actionEvents(ctx.db),
     signatureAttempts: Number(attempts.n),
     limits: await ctx.db.selectFrom('limit_function').select(['id', 'protection_state']).orderBy('id').execute(),
   }
@@ -66,9 +57,6 @@ const request = (who: Who, reason: string) =>
   })
 
 beforeAll(async () => {
-  ctx.clock.set('2026-05-04T06:00:00Z')
-  app = createApp(ctx)
-  await signInAll()
   const { limit } = await buildHeaterTrip(as.engineer)
   await activateLimit({ eng: as.engineer, approver: as.approver, tech: as.technician }, limit)
   limitId = limit.id

@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { crewOf } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
+import { actionEvents, buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -37,18 +37,12 @@ const ask = (limitId: number, start: string, hours: number) =>
   })
 
 async function written() {
-  const audit = await ctx.db
-    .selectFrom('audit_event')
-    .select('action')
-    .where('action', 'not like', 'session.%')
-    .orderBy('id')
-    .execute()
   const rows = await ctx.db
     .selectFrom('bypass')
     .select(['id', 'status', 'activated_at', 'planned_end'])
     .orderBy('id')
     .execute()
-  return { audit: audit.map((a) => a.action), rows, signatures: await countRows(ctx.db, 'signature') }
+  return { audit: await actionEvents(ctx.db), rows, signatures: await countRows(ctx.db, 'signature') }
 }
 
 beforeAll(async () => {

@@ -8,6 +8,7 @@ import {
   approveChange,
   buildActiveHeaterTrip,
   buildHeaterTrip,
+  carryOutChange,
   implementChange,
   readBackOf,
   rowCounts,
@@ -97,17 +98,11 @@ describe('a request applied to a row that changed meanwhile (one winner, nothing
       }),
     )
     // meanwhile another approved request changes the second limit
-    await implementChange(
-      tech,
-      await approveChange(
-        [approver],
-        await submitChange(eng, {
-          siteId: site.id,
-          title: 'Raise the second only',
-          items: [{ kind: 'modify', limitId: two.limit.id, changes: { setpoint: 795 } }],
-        }),
-      ),
-    )
+    await carryOutChange(crew, {
+      siteId: site.id,
+      title: 'Raise the second only',
+      items: [{ kind: 'modify', limitId: two.limit.id, changes: { setpoint: 795 } }],
+    })
 
     const before = await rowCounts(ctx.db)
     for (const item of both.items) {
@@ -170,17 +165,7 @@ describe('an instrument behind an active limit changes only through a change req
     // while the limit is a draft the instrument is edited directly: a design high beyond the range warns
     await eng.patch(`/api/instruments/${inst.id}`, { designHigh: 1250 }).expect(200)
     expect(warningCodes((await limitOf(limit.id)).operatingWindow)).toContain('DESIGN_LIMIT_OUTSIDE_RANGE')
-    await implementChange(
-      tech,
-      await approveChange(
-        [approver],
-        await submitChange(eng, {
-          siteId: site.id,
-          title: 'In service',
-          items: [{ kind: 'create', limitId: limit.id }],
-        }),
-      ),
-    )
+    await carryOutChange(crew, { siteId: site.id, title: 'In service', items: [{ kind: 'create', limitId: limit.id }] })
     const instBefore = (await eng.get(`/api/instruments/${inst.id}`).expect(200)).body
 
     const direct = await eng.patch(`/api/instruments/${inst.id}`, { rangeHigh: 1300 }).expect(409)
@@ -254,6 +239,15 @@ describe('bad input is refused and writes nothing', () => {
     active = built.limit
   })
 
+  /** A new request with one item that modifies the active limit (or `opts.limitId`) by `changes`. */
+  const propose = (title: string, changes: Record<string, unknown>, opts: { type?: string; limitId?: number } = {}) =>
+    eng.post('/api/change-requests', {
+      siteId: site.id,
+      type: opts.type ?? 'permanent',
+      title,
+      items: [{ kind: 'modify', limitId: opts.limitId ?? active.id, changes }],
+    })
+
   async function refused(
     status: number,
     call: () => Promise<{ status: number; body: { error: { code: string; details?: Record<string, unknown> } } }>,
@@ -266,64 +260,27 @@ describe('bad input is refused and writes nothing', () => {
   }
 
   it('a temporary change without an expiry: 400 with a field error', async () => {
-    const err = await refused(400, () =>
-      eng.post('/api/change-requests', {
-        siteId: site.id,
-        type: 'temporary',
-        title: 'Temporary raise',
-        items: [{ kind: 'modify', limitId: active.id, changes: { setpoint: 790 } }],
-      }),
-    )
+    const err = await refused(400, () => propose('Temporary raise', { setpoint: 790 }, { type: 'temporary' }))
     expect(err.code).toBe('VALIDATION_FAILED')
     expect(err.details!.fields).toHaveProperty('expiresAt')
   })
 
   it("an item that changes nothing, or a field that is not the limit's to change: 400", async () => {
-    const same = await refused(400, () =>
-      eng.post('/api/change-requests', {
-        siteId: site.id,
-        type: 'permanent',
-        title: 'No-op',
-        items: [{ kind: 'modify', limitId: active.id, changes: { setpoint: 780 } }],
-      }),
-    )
+    const same = await refused(400, () => propose('No-op', { setpoint: 780 }))
     expect((same.details!.fields as Record<string, string[]>).items[0]).toContain('changes nothing')
-    const status = await refused(400, () =>
-      eng.post('/api/change-requests', {
-        siteId: site.id,
-        type: 'permanent',
-        title: 'Sneaky',
-        items: [{ kind: 'modify', limitId: active.id, changes: { status: 'retired' } }],
-      }),
-    )
+    const status = await refused(400, () => propose('Sneaky', { status: 'retired' }))
     expect((status.details!.fields as Record<string, string[]>).items[0]).toContain('status')
   })
 
   it('a modify that breaks the operating window: 422 with the window result, on create and on edit', async () => {
     // API RP 584 operating window: a high trip lies above the normal range (normal high 650)
-    const err = await refused(422, () =>
-      eng.post('/api/change-requests', {
-        siteId: site.id,
-        type: 'permanent',
-        title: 'Too low',
-        items: [{ kind: 'modify', limitId: active.id, changes: { setpoint: 640 } }],
-      }),
-    )
+    const err = await refused(422, () => propose('Too low', { setpoint: 640 }))
     expect(err.code).toBe('UNPROCESSABLE')
     expect((err.details!.operatingWindow as { errors: { code: string }[] }).errors.map((e) => e.code)).toContain(
       'SETPOINT_NOT_BEYOND_NORMAL',
     )
 
-    const draft = (
-      await eng
-        .post('/api/change-requests', {
-          siteId: site.id,
-          type: 'permanent',
-          title: 'Fine at first',
-          items: [{ kind: 'modify', limitId: active.id, changes: { setpoint: 790 } }],
-        })
-        .expect(201)
-    ).body
+    const draft = (await propose('Fine at first', { setpoint: 790 }).expect(201)).body
     await refused(422, () =>
       eng.patch(`/api/change-requests/${draft.id}`, {
         items: [{ kind: 'modify', limitId: active.id, changes: { setpoint: 1250 } }],
@@ -338,14 +295,7 @@ describe('bad input is refused and writes nothing', () => {
 
   it('a modify of a proposed limit: 409 (a draft is edited in the register)', async () => {
     const { limit } = await buildHeaterTrip(eng)
-    const err = await refused(409, () =>
-      eng.post('/api/change-requests', {
-        siteId: site.id,
-        type: 'permanent',
-        title: 'Modify a draft',
-        items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
-      }),
-    )
+    const err = await refused(409, () => propose('Modify a draft', { setpoint: 790 }, { limitId: limit.id }))
     expect(err.code).toBe('INVALID_STATE')
   })
 

@@ -1,11 +1,16 @@
-import type { Express } from 'express'
-import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
+import { describe, expect, it } from 'vitest'
 import { createChangeRequestJob } from '../../server/features/change-requests/change-requests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { crewOf } from './helpers/agent.ts'
+import { useSignedIn } from './helpers/agent.ts'
 import { recipients, useFakeSmtp } from './helpers/mail.ts'
-import { approveChange, buildActiveHeaterTrip, implementChange, readBackOf, submitChange } from './helpers/factories.ts'
+import {
+  approveChange,
+  approvedTemporaryChange,
+  buildActiveHeaterTrip,
+  implementChange,
+  submitChange,
+  firstItemImplementation,
+} from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -15,13 +20,7 @@ const DAY = 24 * HOUR
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor'] as const
 const mailbox = useFakeSmtp(ctx)
 const { deliver, mailsFor } = mailbox
-let app: Express
-const { as, signInAll } = crewOf(() => app, PEOPLE)
-
-beforeAll(async () => {
-  app = createApp(ctx)
-  await signInAll()
-})
+const { as, signInAll } = useSignedIn(ctx, PEOPLE)
 
 const runDeadlines = () => createChangeRequestJob(ctx.db, ctx.config, ctx.clock).runDue(ctx.clock.now())
 const crew = () => ({ eng: as.engineer, approvers: [as.approver], tech: as.technician })
@@ -33,15 +32,14 @@ describe('change request deadlines job', () => {
     await signInAll()
     const { site, limit } = await buildActiveHeaterTrip(crew())
     const expiresAt = new Date(ctx.clock.now().getTime() + 3 * DAY)
-    const cr = await approveChange(
-      [as.approver],
-      await submitChange(as.engineer, {
-        siteId: site.id,
-        type: 'temporary',
+    const cr = await approvedTemporaryChange(
+      crew(),
+      { site, limit },
+      {
         title: 'Temporary raise during catalyst dry-out',
-        expiresAt: expiresAt.toISOString(),
-        items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 800 } }],
-      }),
+        setpoint: 800,
+        expiresAt,
+      },
     )
     await implementChange(as.technician, cr)
 
@@ -99,11 +97,7 @@ describe('change request deadlines job', () => {
     })
     const done = (
       await as.supervisor
-        .post(`/api/change-requests/${cr.id}/implementations`, {
-          itemId: cr.items[0].id,
-          readBack: readBackOf(cr.items[0]),
-          password: PW,
-        })
+        .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, PW))
         .expect(200)
     ).body
     expect(done).toMatchObject({ status: 'implemented', approvedAt: null, emergencyFlagged: false })
@@ -156,7 +150,7 @@ describe('change request deadlines job', () => {
 
     ctx.clock.set(new Date(approvedAt + 30 * DAY + HOUR))
     await signInAll()
-    const implement = { itemId: cr.items[0].id, readBack: readBackOf(cr.items[0]), password: PW }
+    const implement = firstItemImplementation(cr, PW)
     // refused even before the job has run
     expect(
       (await as.technician.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(409)).body.error

@@ -4,8 +4,15 @@ import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import type { Role } from '../../shared/schemas/users.ts'
-import { ApiAgent, signedIn } from './helpers/agent.ts'
-import { approveChange, buildActiveHeaterTrip, readBackOf, rowCounts, submitChange } from './helpers/factories.ts'
+import { ApiAgent, signedIn, signedInAs } from './helpers/agent.ts'
+import {
+  approveChange,
+  buildActiveHeaterTrip,
+  rowCounts,
+  submitChange,
+  firstItemImplementation,
+  CHANGE_PEOPLE,
+} from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // Separation of duties and the order of work of management of change (docs/change-requests.md#the-rule-book).
@@ -41,10 +48,7 @@ async function person(email: string, name: string, roles: Role[]) {
 
 beforeAll(async () => {
   app = createApp(ctx)
-  eng = await signedIn(app, 'engineer')
-  approver = await signedIn(app, 'approver')
-  approver2 = await signedIn(app, 'approver2')
-  tech = await signedIn(app, 'technician')
+  ;({ eng, approver, approver2, tech } = await signedInAs(app, CHANGE_PEOPLE))
   const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   fhr = sites.find((s) => s.code === 'FHR')!.id
 })
@@ -119,22 +123,15 @@ describe('one person does not approve and implement the same change (common prac
     ).body
     expect(approved.status).toBe('approved')
     const before = await rowCounts(ctx.db)
-    const res = await both.agent.post(`/api/change-requests/${cr.id}/implementations`, {
-      itemId: approved.items[0].id,
-      readBack: readBackOf(approved.items[0]),
-      password: 'separate-duties-password',
-    })
+    const res = await both.agent.post(
+      `/api/change-requests/${cr.id}/implementations`,
+      firstItemImplementation(approved, 'separate-duties-password'),
+    )
     expect(res.status).toBe(403)
     expect(res.body.error.message).toContain('approved')
     expect(await rowCounts(ctx.db)).toEqual(before)
     // another technician implements it
-    await tech
-      .post(`/api/change-requests/${cr.id}/implementations`, {
-        itemId: approved.items[0].id,
-        readBack: readBackOf(approved.items[0]),
-        password: PW,
-      })
-      .expect(200)
+    await tech.post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(approved, PW)).expect(200)
   })
 
   it('a shift supervisor who is also an approver implements an emergency change and may not approve it', async () => {
@@ -151,11 +148,7 @@ describe('one person does not approve and implement the same change (common prac
     })
     const done = (
       await both.agent
-        .post(`/api/change-requests/${cr.id}/implementations`, {
-          itemId: cr.items[0].id,
-          readBack: readBackOf(cr.items[0]),
-          password: 'separate-duties-password',
-        })
+        .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, 'separate-duties-password'))
         .expect(200)
     ).body
     expect(done).toMatchObject({ status: 'implemented', approvedAt: null })
@@ -192,11 +185,7 @@ describe('order of management of change (OSHA 1910.119(l)(3)-(4) and (i))', () =
     await eng.post(`/api/change-requests/${created.id}/submission`).expect(200)
     const approved = await approveChange([approver], created)
     const implement = () =>
-      tech.post(`/api/change-requests/${created.id}/implementations`, {
-        itemId: approved.items[0].id,
-        readBack: readBackOf(approved.items[0]),
-        password: PW,
-      })
+      tech.post(`/api/change-requests/${created.id}/implementations`, firstItemImplementation(approved, PW))
     const before = await rowCounts(ctx.db)
     const refused = await implement()
     expect(refused.status).toBe(409)
@@ -206,19 +195,19 @@ describe('order of management of change (OSHA 1910.119(l)(3)-(4) and (i))', () =
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.setpoint).not.toBe(775)
 
     // not applicable needs a reason
+    const alarmResponseNotApplicable = () =>
+      eng.put(`/api/change-requests/${created.id}/checklist/alarm_response`, {
+        done: true,
+        notApplicable: true,
+        note: 'A trip with no alarm: no alarm response sheet exists',
+      })
     const noReason = await eng.put(`/api/change-requests/${created.id}/checklist/alarm_response`, {
       done: true,
       notApplicable: true,
     })
     expect(noReason.status).toBe(400)
     expect(noReason.body.error.details.fields.note[0]).toContain('why')
-    await eng
-      .put(`/api/change-requests/${created.id}/checklist/alarm_response`, {
-        done: true,
-        notApplicable: true,
-        note: 'A trip with no alarm: no alarm response sheet exists',
-      })
-      .expect(200)
+    await alarmResponseNotApplicable().expect(200)
     await eng.put(`/api/change-requests/${created.id}/checklist/operating_procedures`, { done: true }).expect(200)
     await eng.put(`/api/change-requests/${created.id}/checklist/training`, { done: true }).expect(200)
     const stillOne = await implement()
@@ -244,13 +233,7 @@ describe('order of management of change (OSHA 1910.119(l)(3)-(4) and (i))', () =
     expect((await sig()).matchesContent).toBe(true)
     await eng.put(`/api/change-requests/${created.id}/checklist/alarm_response`, { done: true }).expect(200)
     expect((await sig()).matchesContent).toBe(false)
-    await eng
-      .put(`/api/change-requests/${created.id}/checklist/alarm_response`, {
-        done: true,
-        notApplicable: true,
-        note: 'A trip with no alarm: no alarm response sheet exists',
-      })
-      .expect(200)
+    await alarmResponseNotApplicable().expect(200)
     expect((await sig()).matchesContent).toBe(true)
 
     // closure needs the close-out group only

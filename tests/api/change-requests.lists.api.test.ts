@@ -2,7 +2,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
-import { approveChange, buildHeaterTrip, submitChange } from './helpers/factories.ts'
+import { approveChange, buildHeaterTrip, dualRoleApprover, submitChange } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -17,29 +17,8 @@ beforeAll(async () => {
   const app = createApp(ctx)
   for (const who of PEOPLE) as[who] = await signedIn(app, who)
   const admin = await signedIn(app, 'admin')
-  const sites = (await admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  const fhr = sites.find((s) => s.code === 'FHR')!.id
   // an approver who is also a safety engineer at the refinery
-  const user = (
-    await admin
-      .post('/api/users', {
-        email: 'dual@fernhollow.example',
-        displayName: 'Dana Twofold',
-        password: 'dual-role-password',
-        roles: [{ siteId: fhr, role: 'approver' }],
-      })
-      .expect(201)
-  ).body
-  await admin
-    .patch(`/api/users/${user.id}`, {
-      roles: [
-        { siteId: fhr, role: 'approver' },
-        { siteId: fhr, role: 'safety_engineer' },
-      ],
-    })
-    .expect(200)
-  as.dual = new ApiAgent(app)
-  await as.dual.signIn('dual@fernhollow.example', 'dual-role-password')
+  as.dual = (await dualRoleApprover(app, admin)).agent
 
   const create = async (by: ApiAgent, opts: { sil?: 2 } = {}) => {
     const { site, limit } = await buildHeaterTrip(by, opts)

@@ -3,8 +3,14 @@ import type { ParsedMail } from 'mailparser'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip, readBackOf, submitChange } from './helpers/factories.ts'
+import { ApiAgent, signedIn, signedInAs } from './helpers/agent.ts'
+import {
+  buildHeaterTrip,
+  submitChange,
+  firstItemImplementation,
+  CHANGE_PEOPLE,
+  dualRoleApprover,
+} from './helpers/factories.ts'
 import { recipients, useFakeSmtp } from './helpers/mail.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -19,10 +25,7 @@ let tech: ApiAgent
 
 beforeAll(async () => {
   app = createApp(ctx)
-  eng = await signedIn(app, 'engineer')
-  approver = await signedIn(app, 'approver')
-  approver2 = await signedIn(app, 'approver2')
-  tech = await signedIn(app, 'technician')
+  ;({ eng, approver, approver2, tech } = await signedInAs(app, CHANGE_PEOPLE))
 })
 
 const addr = (who: string) => `${who}@fernhollow.example`
@@ -68,13 +71,7 @@ describe('change request mail, read from the SMTP server', () => {
     const [approved] = await received(`Change request #${cr.id} approved: SIL 2 heater trip in service`, ['engineer'])
     expectLinkToRequest(approved, cr.id)
 
-    await tech
-      .post(`/api/change-requests/${cr.id}/implementations`, {
-        itemId: cr.items[0].id,
-        readBack: readBackOf(cr.items[0]),
-        password: PW,
-      })
-      .expect(200)
+    await tech.post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, PW)).expect(200)
     const implemented = await received(`Change request #${cr.id} implemented`, ['engineer', 'approver', 'approver2'])
     for (const m of implemented) {
       expectLinkToRequest(m, cr.id)
@@ -106,29 +103,7 @@ describe('change request mail, read from the SMTP server', () => {
   })
 
   it('a proposer who is also an approver is not asked to approve their own request', async () => {
-    const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-    const fhr = sites.find((s) => s.code === 'FHR')!.id
-    const admin = await signedIn(app, 'admin')
-    const user = (
-      await admin
-        .post('/api/users', {
-          email: addr('dual'),
-          displayName: 'Dana Twofold',
-          password: 'dual-role-password',
-          roles: [{ siteId: fhr, role: 'approver' }],
-        })
-        .expect(201)
-    ).body
-    await admin
-      .patch(`/api/users/${user.id}`, {
-        roles: [
-          { siteId: fhr, role: 'approver' },
-          { siteId: fhr, role: 'safety_engineer' },
-        ],
-      })
-      .expect(200)
-    const dual = new ApiAgent(app)
-    await dual.signIn(addr('dual'), 'dual-role-password')
+    const dual = (await dualRoleApprover(app, await signedIn(app, 'admin'))).agent
 
     const { site, limit } = await buildHeaterTrip(dual)
     const cr = await submitChange(dual, {

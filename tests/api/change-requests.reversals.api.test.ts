@@ -1,11 +1,15 @@
-import type { Express } from 'express'
-import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
+import { describe, expect, it } from 'vitest'
 import { createChangeRequestJob } from '../../server/features/change-requests/change-requests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { crewOf } from './helpers/agent.ts'
+import { useSignedIn } from './helpers/agent.ts'
 import { recipients, useFakeSmtp } from './helpers/mail.ts'
-import { approveChange, buildActiveHeaterTrip, implementChange, submitChange } from './helpers/factories.ts'
+import {
+  approveChange,
+  approvedTemporaryChange,
+  buildActiveHeaterTrip,
+  implementChange,
+  submitChange,
+} from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // Expired temporary changes (docs/change-requests.md#expired-temporary-changes): a temporary change on the device past
@@ -17,13 +21,7 @@ const HOUR = 3_600_000
 const DAY = 24 * HOUR
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor', 'operator'] as const
 const mailbox = useFakeSmtp(ctx)
-let app: Express
-const { as, signInAll } = crewOf(() => app, PEOPLE)
-
-beforeAll(async () => {
-  app = createApp(ctx)
-  await signInAll()
-})
+const { as, signInAll } = useSignedIn(ctx, PEOPLE)
 
 const runDeadlines = () => createChangeRequestJob(ctx.db, ctx.config, ctx.clock).runDue(ctx.clock.now())
 const crew = () => ({ eng: as.engineer, approvers: [as.approver], tech: as.technician })
@@ -32,15 +30,14 @@ describe('expired temporary changes', () => {
   it('turns "expired, to be reverted" past its end, is shown and mailed daily, and is closed by the implemented reversal', async () => {
     const { site, area, limit } = await buildActiveHeaterTrip(crew())
     const expiresAt = new Date(ctx.clock.now().getTime() + 2 * DAY)
-    const temp = await approveChange(
-      [as.approver],
-      await submitChange(as.engineer, {
-        siteId: site.id,
-        type: 'temporary',
+    const temp = await approvedTemporaryChange(
+      crew(),
+      { site, limit },
+      {
         title: 'Temporary raise during catalyst dry-out',
-        expiresAt: expiresAt.toISOString(),
-        items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 800 } }],
-      }),
+        setpoint: 800,
+        expiresAt,
+      },
     )
     await implementChange(as.technician, temp)
     const get = async (id: number) => (await as.engineer.get(`/api/change-requests/${id}`).expect(200)).body
@@ -139,15 +136,14 @@ describe('expired temporary changes', () => {
     await signInAll()
     const { site, limit } = await buildActiveHeaterTrip(crew())
     const expiresAt = new Date(ctx.clock.now().getTime() + 6 * HOUR)
-    const temp = await approveChange(
-      [as.approver],
-      await submitChange(as.engineer, {
-        siteId: site.id,
-        type: 'temporary',
+    const temp = await approvedTemporaryChange(
+      crew(),
+      { site, limit },
+      {
         title: 'Short raise for a start-up',
-        expiresAt: expiresAt.toISOString(),
-        items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
-      }),
+        setpoint: 790,
+        expiresAt,
+      },
     )
     ctx.clock.set(new Date(expiresAt.getTime() + 60_000))
     await signInAll()

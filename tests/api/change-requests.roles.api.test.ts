@@ -1,17 +1,16 @@
-import type { Express } from 'express'
 import type { Response } from 'supertest'
 import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
-import { ApiAgent, crewOf, DEMO_ACCOUNTS } from './helpers/agent.ts'
+import { ApiAgent, useSignedIn, DEMO_ACCOUNTS } from './helpers/agent.ts'
 import {
   buildActiveHeaterTrip,
   buildHeaterTrip,
-  readBackOf,
   rowCounts,
   submitChange,
   readyToImplement,
+  firstItemImplementation,
+  dualRoleApprover,
 } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -21,13 +20,7 @@ const PEOPLE = DEMO_ACCOUNTS
 type Who = (typeof PEOPLE)[number]
 const PSSR = { reference: 'PSSR-2026-201', findings: 'none', readyForService: true }
 
-let app: Express
-const { as, signInAll } = crewOf(() => app, PEOPLE)
-
-beforeAll(async () => {
-  app = createApp(ctx)
-  await signInAll()
-})
+const { as, app } = useSignedIn(ctx, PEOPLE)
 
 /**
  * Everyone except `allowed` tries the action: each gets 403 FORBIDDEN and nothing is written (no request, item,
@@ -98,7 +91,7 @@ describe('change request: who may do what along the whole path (docs/security.md
     ).toBe('approved')
 
     // a permanent change is implemented by a technician; a shift supervisor only implements emergency changes
-    const implement = { itemId: cr.items[0].id, readBack: readBackOf(cr.items[0]), password: PW }
+    const implement = firstItemImplementation(cr, PW)
     await refusedForAllBut(['technician'], (a) => a.post(`/api/change-requests/${cr.id}/implementations`, implement))
     expect(
       (await as.technician.post(`/api/change-requests/${cr.id}/implementations`, implement).expect(200)).body.status,
@@ -162,7 +155,7 @@ describe('change request: who may do what along the whole path (docs/security.md
       title: 'Lower trip after tube thinning',
       items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 770 } }],
     })
-    const implement = { itemId: cr.items[0].id, readBack: readBackOf(cr.items[0]), password: PW }
+    const implement = firstItemImplementation(cr, PW)
     await refusedForAllBut(['supervisor', 'technician'], (a) =>
       a.post(`/api/change-requests/${cr.id}/implementations`, implement),
     )
@@ -197,33 +190,11 @@ describe('separation of duties (IEC 61511 independence of approver; OSHA 1910.11
   let dualId: number
 
   beforeAll(async () => {
-    const sites = (await as.admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-    const fhr = sites.find((s) => s.code === 'FHR')!.id
-    const created = (
-      await as.admin
-        .post('/api/users', {
-          email: 'dual@fernhollow.example',
-          displayName: 'Dana Twofold',
-          password: 'dual-role-password',
-          roles: [{ siteId: fhr, role: 'approver' }],
-        })
-        .expect(201)
-    ).body
-    dualId = created.id
-    // the admin gives the approver the safety-engineer role too
-    const patched = (
-      await as.admin
-        .patch(`/api/users/${dualId}`, {
-          roles: [
-            { siteId: fhr, role: 'approver' },
-            { siteId: fhr, role: 'safety_engineer' },
-          ],
-        })
-        .expect(200)
-    ).body
-    expect(patched.roles).toHaveLength(2)
-    dual = new ApiAgent(app)
-    await dual.signIn('dual@fernhollow.example', 'dual-role-password')
+    // an approver whom the admin gives the safety-engineer role too
+    const made = await dualRoleApprover(app(), as.admin)
+    expect(made.roles).toHaveLength(2)
+    dual = made.agent
+    dualId = made.id
   })
 
   it("refuses the proposer's own approval even when they hold the approver role (403, nothing written)", async () => {

@@ -5,15 +5,17 @@ import { createApp } from '../../server/app.ts'
 import { contentHash } from '../../server/features/signatures/signatures.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
-import { ApiAgent, signedIn } from './helpers/agent.ts'
+import { ApiAgent, signedIn, signedInAs } from './helpers/agent.ts'
 import {
   type ChangeCrew,
   buildActiveHeaterTrip,
   buildHeaterTrip,
-  readBackOf,
+  HEATER_SUBSYSTEMS,
   rowCounts,
   submitChange,
   readyToImplement,
+  firstItemImplementation,
+  CHANGE_PEOPLE,
 } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -33,10 +35,7 @@ const ids: Record<string, number> = {}
 
 beforeAll(async () => {
   app = createApp(ctx)
-  eng = await signedIn(app, 'engineer')
-  approver = await signedIn(app, 'approver')
-  approver2 = await signedIn(app, 'approver2')
-  tech = await signedIn(app, 'technician')
+  ;({ eng, approver, approver2, tech } = await signedInAs(app, CHANGE_PEOPLE))
   auditor = await signedIn(app, 'auditor')
   crew = { eng, approvers: [approver, approver2], tech }
   for (const u of await ctx.db.selectFrom('app_user').select(['id', 'email']).execute())
@@ -115,11 +114,7 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
     await approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
     const implBefore = await rowCounts(ctx.db)
     const implWrong = await tech
-      .post(`/api/change-requests/${cr.id}/implementations`, {
-        itemId: cr.items[0].id,
-        readBack: readBackOf(cr.items[0]),
-        password: 'nope-nope',
-      })
+      .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, 'nope-nope'))
       .expect(403)
     expect(implWrong.body.error.code).toBe('SIGNATURE_INVALID')
     expect(await rowCounts(ctx.db)).toEqual({
@@ -153,11 +148,7 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
     ).toBe('INVALID_STATE')
     // not implementable with one approval
     const early = await tech
-      .post(`/api/change-requests/${cr.id}/implementations`, {
-        itemId: cr.items[0].id,
-        readBack: readBackOf(cr.items[0]),
-        password: PW,
-      })
+      .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, PW))
       .expect(409)
     expect(early.body.error.code).toBe('INVALID_STATE')
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.status).toBe('proposed')
@@ -165,55 +156,17 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
     const two = (await approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
     expect(two).toMatchObject({ status: 'approved', approvalsHeld: 2 })
     expect(two.signatures.map((s: { name: string }) => s.name)).toEqual(['Arlo Pennick', 'Ines Harrowgate'])
-    await tech
-      .post(`/api/change-requests/${cr.id}/implementations`, {
-        itemId: cr.items[0].id,
-        readBack: readBackOf(cr.items[0]),
-        password: PW,
-      })
-      .expect(200)
+    await tech.post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, PW)).expect(200)
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.status).toBe('active')
   })
 
   it('a change that makes a limit SIL-rated needs the SIL number of approvals', async () => {
     const { site, limit } = await buildActiveHeaterTrip({ ...crew, approvers: [approver] })
     expect(limit.sil).toBeNull()
-    const subsystems = [
-      {
-        role: 'sensor',
-        architecture: '1oo1',
-        lambdaDu: 5e-7,
-        beta: 0.05,
-        mttrHours: 8,
-        testIntervalMonths: 12,
-        testCoverage: 0.9,
-        missionTimeYears: 15,
-      },
-      {
-        role: 'logic',
-        architecture: '1oo1',
-        lambdaDu: 1e-8,
-        beta: 0.02,
-        mttrHours: 8,
-        testIntervalMonths: 12,
-        testCoverage: 1,
-        missionTimeYears: 15,
-      },
-      {
-        role: 'final_element',
-        architecture: '1oo2',
-        lambdaDu: 2e-6,
-        beta: 0.1,
-        mttrHours: 24,
-        testIntervalMonths: 12,
-        testCoverage: 0.7,
-        missionTimeYears: 15,
-      },
-    ]
     const cr = await submitChange(eng, {
       siteId: site.id,
       title: 'Rate the heater trip SIL 1',
-      items: [{ kind: 'modify', limitId: limit.id, changes: { sil: 1, subsystems } }],
+      items: [{ kind: 'modify', limitId: limit.id, changes: { sil: 1, subsystems: HEATER_SUBSYSTEMS } }],
     })
     expect(cr.approvalsRequired).toBe(2)
     expect(

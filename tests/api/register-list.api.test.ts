@@ -3,6 +3,7 @@ import pg from 'pg'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { thermocoupleK } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -65,24 +66,7 @@ const subsystems = [
 ]
 
 async function instrument(processId: number, tag: string, over: Record<string, unknown> = {}) {
-  return (
-    await eng
-      .post('/api/instruments', {
-        processId,
-        tag,
-        measuredVariable: 'temperature',
-        unit: '°C',
-        rangeLow: 0,
-        rangeHigh: 1000,
-        normalLow: 300,
-        normalHigh: 650,
-        burnout: 'upscale',
-        signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-        deviceKind: 'limit_controller',
-        ...over,
-      })
-      .expect(201)
-  ).body.id as number
+  return (await eng.post('/api/instruments', thermocoupleK(processId, tag, over)).expect(201)).body.id as number
 }
 
 async function limit(processId: number, instrumentId: number, tag: string, over: Record<string, unknown>) {

@@ -3,7 +3,7 @@ import pg from 'pg'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
-import { heaterThermocouple, countActionEvents, countRows } from './helpers/factories.ts'
+import { heaterThermocouple, heaterTripBody, countActionEvents, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -40,24 +40,9 @@ async function build(eng: ApiAgent, siteCode: 'FHR' | 'SMP'): Promise<Built> {
       .expect(201)
   ).body
   const inst = (await eng.post('/api/instruments', heaterThermocouple(proc.id, `TT-R${siteCode}${n}`)).expect(201)).body
-  const limit = (await eng.post('/api/limits', limitBody(proc.id, inst.id, `TSHH-R${siteCode}${n}`)).expect(201)).body
+  const limit = (await eng.post('/api/limits', heaterTripBody(proc.id, [inst.id], `TSHH-R${siteCode}${n}`)).expect(201))
+    .body
   return { siteId, areaId, processId: proc.id, instrumentId: inst.id, limitId: limit.id }
-}
-
-function limitBody(processId: number, instrumentId: number, tag: string) {
-  return {
-    processId,
-    instrumentIds: [instrumentId],
-    tag,
-    direction: 'high',
-    limitClass: 'trip',
-    setpoint: 780,
-    deadband: 5,
-    severity: 'severe',
-    testIntervalMonths: 12,
-    latching: true,
-    resetRole: 'operator',
-  }
 }
 
 /** Everything a register write would change. */
@@ -107,7 +92,7 @@ describe('register: create, edit and delete by role', () => {
     ).toBe('kettle reboiler')
     const inst = (await eng.post('/api/instruments', heaterThermocouple(proc.id, 'TT-R-E7')).expect(201)).body
     expect((await eng.patch(`/api/instruments/${inst.id}`, { rangeHigh: 1250 }).expect(200)).body.rangeHigh).toBe(1250)
-    const limit = (await eng.post('/api/limits', limitBody(proc.id, inst.id, 'TSHH-R-E7')).expect(201)).body
+    const limit = (await eng.post('/api/limits', heaterTripBody(proc.id, [inst.id], 'TSHH-R-E7')).expect(201)).body
     expect(limit.status).toBe('proposed')
     const edited = (await eng.patch(`/api/limits/${limit.id}`, { setpoint: 790 }).expect(200)).body
     expect(edited).toMatchObject({ setpoint: 790, revision: 2 })
@@ -127,7 +112,10 @@ describe('register: create, edit and delete by role', () => {
         ['edit a process', () => a.patch(`/api/processes/${fhr.processId}`, { description: `changed by ${who}` })],
         ['create an instrument', () => a.post('/api/instruments', heaterThermocouple(fhr.processId, `TT-X-${who}`))],
         ['edit an instrument', () => a.patch(`/api/instruments/${fhr.instrumentId}`, { rangeHigh: 1300 })],
-        ['draft a limit', () => a.post('/api/limits', limitBody(fhr.processId, fhr.instrumentId, `TSHH-X-${who}`))],
+        [
+          'draft a limit',
+          () => a.post('/api/limits', heaterTripBody(fhr.processId, [fhr.instrumentId], `TSHH-X-${who}`)),
+        ],
         ['edit a draft limit', () => a.patch(`/api/limits/${fhr.limitId}`, { setpoint: 800 })],
         ['delete a draft limit', () => a.delete(`/api/limits/${fhr.limitId}`)],
       ]

@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
-import { countActionEvents, countRows } from './helpers/factories.ts'
+import { countActionEvents, countRows, thermocoupleK } from './helpers/factories.ts'
 
 const ctx = useTestDb()
 
@@ -24,24 +24,7 @@ let seq = 0
 
 /** A 0–1000 °C thermocouple instrument, normal 300–650; `over` changes any field. */
 async function instrument(over: Record<string, unknown> = {}): Promise<{ id: number }> {
-  return (
-    await eng
-      .post('/api/instruments', {
-        processId,
-        tag: `TT-W${++seq}`,
-        measuredVariable: 'temperature',
-        unit: '°C',
-        rangeLow: 0,
-        rangeHigh: 1000,
-        normalLow: 300,
-        normalHigh: 650,
-        burnout: 'upscale',
-        signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-        deviceKind: 'limit_controller',
-        ...over,
-      })
-      .expect(201)
-  ).body
+  return (await eng.post('/api/instruments', thermocoupleK(processId, `TT-W${++seq}`, over)).expect(201)).body
 }
 
 /** A high trip at 800 °C on the instrument; `over` changes any field. */

@@ -6,7 +6,7 @@ import canonicalize from 'canonicalize'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { seedDemoShiftHandover } from '../../server/seed/demo-shift-handover.ts'
 import { crewOf } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
+import { actionEvents, buildHeaterTrip, ACTIVATE, countRows, mvSourceTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -81,13 +81,7 @@ let changeId = 0
 
 async function handoverWrites() {
   const n = async (t: 'shift_handover' | 'signature') => countRows(ctx.db, t)
-  const audit = await ctx.db
-    .selectFrom('audit_event')
-    .select('action')
-    .where('action', 'not like', 'session.%')
-    .orderBy('id')
-    .execute()
-  return { handovers: await n('shift_handover'), signatures: await n('signature'), audit: audit.map((a) => a.action) }
+  return { handovers: await n('shift_handover'), signatures: await n('signature'), audit: await actionEvents(ctx.db) }
 }
 
 beforeAll(async () => {
@@ -126,20 +120,15 @@ beforeAll(async () => {
   // a failed test: it did not trip at all (docs/trip-tests.md: as-found no_trip degrades the limit)
   const test = (
     await as.technician
-      .post('/api/trip-tests', {
-        limitId: b.limit.id,
-        kind: 'full',
-        method: 'injection',
-        injectionPoint: 'sensor',
-        sourceMode: 'mv_source',
-        coldJunctionC: 25,
-        calibratorId: 'CAL-07',
-        calibratorDueDate: '2026-12-31',
-        performedAt: '2026-09-07T04:30:00Z',
-        finalElementOk: false,
-        latchHeld: false,
-        noTrip: true,
-      })
+      .post(
+        '/api/trip-tests',
+        mvSourceTest(b.limit.id, {
+          performedAt: '2026-09-07T04:30:00Z',
+          finalElementOk: false,
+          latchHeld: false,
+          noTrip: true,
+        }),
+      )
       .expect(201)
   ).body
   expect(test.asFoundResult).toBe('no_trip')
@@ -155,20 +144,16 @@ beforeAll(async () => {
   // its last passing full test was on 1 Jun 2025: due 1 Jun 2026, grace 30 days (the site policy's default, common practice) → overdue since 2 Jul 2026
   const old = (
     await as.technician
-      .post('/api/trip-tests', {
-        limitId: d.limit.id,
-        kind: 'full',
-        method: 'injection',
-        injectionPoint: 'sensor',
-        sourceMode: 'mv_source',
-        coldJunctionC: 25,
-        calibratorId: 'CAL-07',
-        calibratorDueDate: '2025-12-31',
-        performedAt: '2025-06-01T08:00:00Z',
-        finalElementOk: true,
-        latchHeld: true,
-        asFound: 781,
-      })
+      .post(
+        '/api/trip-tests',
+        mvSourceTest(d.limit.id, {
+          calibratorDueDate: '2025-12-31',
+          performedAt: '2025-06-01T08:00:00Z',
+          finalElementOk: true,
+          latchHeld: true,
+          asFound: 781,
+        }),
+      )
       .expect(201)
   ).body
   expect(old.passed).toBe(true)

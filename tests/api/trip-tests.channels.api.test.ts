@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { signedIn } from './helpers/agent.ts'
+import { simulatorTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // A 2oo3 function tested channel by channel (docs/trip-tests.md#voted-functions): the demo register's TSHH-101, the
@@ -32,19 +33,13 @@ async function setUp() {
   return { tech, eng, limit }
 }
 
-const base = (limitId: number) => ({
-  limitId,
-  kind: 'full',
-  method: 'injection',
-  injectionPoint: 'sensor',
-  sourceMode: 'tc_simulate',
-  calibratorId: 'CAL-5',
-  calibratorDueDate: '2027-12-31',
-  performedAt: '2026-03-02T08:00:00Z',
-  tolerance: 5,
-  toleranceUnit: 'eu',
-  finalElementOk: true,
-})
+const base = (limitId: number) =>
+  simulatorTest(limitId, {
+    performedAt: '2026-03-02T08:00:00Z',
+    tolerance: 5,
+    toleranceUnit: 'eu',
+    finalElementOk: true,
+  })
 
 describe('2oo3 trip test channel by channel', () => {
   it('judges each channel and the vote; a channel that did not trip fails the test and degrades the limit', async () => {

@@ -63,6 +63,21 @@ async function activeTrip(
 }
 
 /** Records a test whose as-found is given in signal units; answers the record (nothing is signed). */
+/** The body of a full test by injection at the sensor whose as-found reading is in signal units (calibrator CAL-3). */
+function signalReading(limitId: number, value: number, unit: string, extra: Record<string, unknown> = {}) {
+  return {
+    limitId,
+    kind: 'full',
+    method: 'injection',
+    injectionPoint: 'sensor',
+    calibratorId: 'CAL-3',
+    calibratorDueDate: '2026-12-31',
+    performedAt: '2026-05-04T08:00:00Z',
+    asFoundSignal: { value, unit },
+    ...extra,
+  }
+}
+
 async function asFoundFrom(
   limitId: number,
   value: number,
@@ -71,18 +86,7 @@ async function asFoundFrom(
 ) {
   return (
     await tech
-      .post('/api/trip-tests', {
-        limitId,
-        kind: 'full',
-        method: 'injection',
-        injectionPoint: 'sensor',
-        calibratorId: 'CAL-3',
-        calibratorDueDate: '2026-12-31',
-        performedAt: '2026-05-04T08:00:00Z',
-        asFoundSignal: { value, unit },
-        finalElementOk: true,
-        ...extra,
-      })
+      .post('/api/trip-tests', signalReading(limitId, value, unit, { finalElementOk: true, ...extra }))
       .expect(201)
   ).body as {
     asFound: number
@@ -205,18 +209,7 @@ describe('4–20 mA readings (linear and square-root scaling; NAMUR NE 43 bands)
   it('refuses a reading in a unit the instrument has no signal in (422), writing nothing', async () => {
     const id = await activeTrip(loop('bar', 0, 10), { setpoint: 5 })
     const before = await countRows(ctx.db, 'trip_test')
-    const res = await tech
-      .post('/api/trip-tests', {
-        limitId: id,
-        kind: 'full',
-        method: 'injection',
-        injectionPoint: 'sensor',
-        calibratorId: 'CAL-3',
-        calibratorDueDate: '2026-12-31',
-        performedAt: '2026-05-04T08:00:00Z',
-        asFoundSignal: { value: 100, unit: 'ohm' },
-      })
-      .expect(422)
+    const res = await tech.post('/api/trip-tests', signalReading(id, 100, 'ohm')).expect(422)
     expect(res.body.error.details.fields.asFoundSignal).toHaveLength(1)
     expect(await countRows(ctx.db, 'trip_test')).toBe(before)
   })
@@ -260,17 +253,7 @@ describe('thermocouple readings in millivolts (ITS-90; NIST SRD 60 tables)', () 
     expect((await asFoundFrom(id, 14.6667, 'mA')).asFound).toBeCloseTo(800, 1)
     // a millivolt reading needs the cold junction
     const res = await tech
-      .post('/api/trip-tests', {
-        limitId: id,
-        kind: 'full',
-        method: 'injection',
-        injectionPoint: 'sensor',
-        sourceMode: 'mv_source',
-        calibratorId: 'CAL-3',
-        calibratorDueDate: '2026-12-31',
-        performedAt: '2026-05-04T08:00:00Z',
-        asFoundSignal: { value: 32.2752, unit: 'mV' },
-      })
+      .post('/api/trip-tests', signalReading(id, 32.2752, 'mV', { sourceMode: 'mv_source' }))
       .expect(400)
     expect(res.body.error.details.fields.coldJunctionC).toHaveLength(1)
   })

@@ -4,7 +4,7 @@ import { createApp } from '../../server/app.ts'
 import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { crewAs } from './helpers/agent.ts'
-import { buildHeaterTrip, rowCounts } from './helpers/factories.ts'
+import { buildHeaterTrip, rowCounts, simulatorTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -49,19 +49,10 @@ async function activeTrip(sil: 1 | 2 | 3 | null) {
 async function tested(limitId: number, performedAt: string, result: Record<string, unknown> = { asFound: 781 }) {
   const t = (
     await a.tech
-      .post('/api/trip-tests', {
-        limitId,
-        kind: 'full',
-        method: 'injection',
-        injectionPoint: 'sensor',
-        sourceMode: 'tc_simulate',
-        calibratorId: 'CAL-5',
-        calibratorDueDate: '2027-12-31',
-        performedAt,
-        finalElementOk: true,
-        latchHeld: true,
-        ...result,
-      })
+      .post(
+        '/api/trip-tests',
+        simulatorTest(limitId, { performedAt, finalElementOk: true, latchHeld: true, ...result }),
+      )
       .expect(201)
   ).body
   await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { buildHeaterTrip, mvSourceTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -21,19 +21,12 @@ describe('trip tests: a failed test degrades the limit until a full retest passe
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.testStatus).toBe('never_tested')
 
     // tolerance: default ±0.5 % of the 0–1200 °C span = ±6 °C (docs/trip-tests.md#judging-a-test)
-    const base = {
-      limitId: limit.id,
-      kind: 'full',
-      method: 'injection',
-      injectionPoint: 'sensor',
-      sourceMode: 'mv_source',
-      coldJunctionC: 25,
-      calibratorId: 'CAL-07',
+    const base = mvSourceTest(limit.id, {
       calibratorDueDate: '2026-06-30',
       performedAt: '2026-03-10T08:30:00Z',
       finalElementOk: true,
       latchHeld: true,
-    }
+    })
     const pastDue = await tech
       .post('/api/trip-tests', { ...base, calibratorDueDate: '2026-03-01', asFound: 781 })
       .expect(400)

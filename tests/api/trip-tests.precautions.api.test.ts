@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip, countRows } from './helpers/factories.ts'
+import { buildHeaterTrip, countRows, passingHeaterTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -29,23 +29,9 @@ const SAFE = {
   realTripAcknowledged: false,
 }
 
-/** A passing full test of the type K heater trip (780 °C, ± 6 °C), with its precautions. */
-const body = (over: Record<string, unknown> = {}, precautions: Record<string, unknown> | null = SAFE) => ({
-  limitId,
-  kind: 'full',
-  method: 'injection',
-  injectionPoint: 'sensor',
-  sourceMode: 'mv_source',
-  coldJunctionC: 25,
-  calibratorId: 'CAL-11',
-  calibratorDueDate: '2026-09-30',
-  performedAt: '2026-04-14T08:00:00Z',
-  asFound: 781.5,
-  finalElementOk: true,
-  latchHeld: true,
-  precautions,
-  ...over,
-})
+/** A passing full test of the type K heater trip (780 °C, ± 6 °C, as found 781.5 °C), with its precautions. */
+const body = (over: Record<string, unknown> = {}, precautions: Record<string, unknown> | null = SAFE) =>
+  passingHeaterTest(limitId, { precautions, ...over })
 
 const count = async () => countRows(ctx.db, 'trip_test')
 

@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip, countActionEvents, countRows } from './helpers/factories.ts'
+import { buildHeaterTrip, countActionEvents, countRows, passingHeaterTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -39,21 +39,7 @@ async function written() {
 }
 
 /** A passing full test of the type K heater trip (780 °C, tolerance ±6 °C = 0.5 % of 0–1200 °C, docs/trip-tests.md#judging-a-test). */
-const body = (over: Record<string, unknown> = {}) => ({
-  limitId,
-  kind: 'full',
-  method: 'injection',
-  injectionPoint: 'sensor',
-  sourceMode: 'mv_source',
-  coldJunctionC: 25,
-  calibratorId: 'CAL-11',
-  calibratorDueDate: '2026-09-30',
-  performedAt: '2026-04-14T08:00:00Z',
-  asFound: 781.5,
-  finalElementOk: true,
-  latchHeld: true,
-  ...over,
-})
+const body = (over: Record<string, unknown> = {}) => passingHeaterTest(limitId, over)
 
 beforeAll(async () => {
   ctx.clock.set('2026-04-14T09:00:00Z')

@@ -1,6 +1,9 @@
 import request from 'supertest'
 import type { Express } from 'express'
+import { beforeAll } from 'vitest'
+import { createApp } from '../../../server/app.ts'
 import { DEMO_PASSWORD } from '../../../server/seed/demo.ts'
+import type { TestContext } from './test-db.ts'
 
 /** A supertest agent that keeps the session cookie and sends the CSRF token on every state-changing call. */
 export class ApiAgent {
@@ -58,6 +61,13 @@ export async function signedIn(app: Express, who: string): Promise<ApiAgent> {
   return a
 }
 
+/** Demo accounts signed in under the test's own names (`{ eng: 'engineer' }`), one session each. */
+export async function signedInAs<const W extends Record<string, string>>(app: Express, who: W) {
+  const as = {} as Record<keyof W, ApiAgent>
+  for (const k of Object.keys(who) as (keyof W)[]) as[k] = await signedIn(app, who[k])
+  return as
+}
+
 /** The demo plant's accounts by role name (server/seed/demo.ts), all a role test signs in as. */
 export const DEMO_ACCOUNTS = [
   'engineer',
@@ -79,7 +89,7 @@ export const DEMO_ACCOUNTS = [
 export function crewAs<const W extends Record<string, string>>(app: () => Express, who: W) {
   const as = {} as Record<keyof W, ApiAgent>
   async function signInAll() {
-    for (const k of Object.keys(who) as (keyof W)[]) as[k] = await signedIn(app(), who[k])
+    Object.assign(as, await signedInAs(app(), who))
   }
   return { as, signInAll }
 }
@@ -87,4 +97,23 @@ export function crewAs<const W extends Record<string, string>>(app: () => Expres
 /** As crewAs, each account under its role name. */
 export function crewOf<const P extends readonly string[]>(app: () => Express, people: P) {
   return crewAs(app, Object.fromEntries(people.map((p) => [p, p])) as Record<P[number], string>)
+}
+
+/**
+ * Per test file: the app on the file's test database (useTestDb) and the demo accounts `people` (crewOf), made and
+ * signed in before the file's tests, with the clock first set to `opts.at` where given.
+ */
+export function useSignedIn<const P extends readonly string[]>(
+  ctx: TestContext,
+  people: P,
+  opts: { at?: string } = {},
+) {
+  let app: Express
+  const crew = crewOf(() => app, people)
+  beforeAll(async () => {
+    if (opts.at) ctx.clock.set(opts.at)
+    app = createApp(ctx)
+    await crew.signInAll()
+  })
+  return { ...crew, app: () => app }
 }

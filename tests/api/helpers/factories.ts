@@ -1,7 +1,8 @@
 import type { Db } from '../../../server/db/index.ts'
 import type { Database } from '../../../server/db/schema.ts'
 import { DEMO_PASSWORD } from '../../../server/seed/demo.ts'
-import type { ApiAgent } from './agent.ts'
+import type { Express } from 'express'
+import { ApiAgent } from './agent.ts'
 import { IMPACT_CHECKLIST } from '../../../shared/schemas/change-requests.ts'
 
 let seq = 0
@@ -26,24 +27,79 @@ export async function countActionEvents(db: Db): Promise<number> {
   return Number(r.n)
 }
 
-/** The body of a type K thermocouple on a fired heater: range 0–1200 °C, normal 300–650 °C, design 900 °C, upscale burnout. */
-export function heaterThermocouple(processId: number, tag: string) {
+/** The audit actions besides sign-in and sign-out, oldest first (signing in is not the action a test checks). */
+export async function actionEvents(db: Db): Promise<string[]> {
+  const rows = await db
+    .selectFrom('audit_event')
+    .select('action')
+    .where('action', 'not like', 'session.%')
+    .orderBy('id')
+    .execute()
+  return rows.map((r) => r.action)
+}
+
+/**
+ * The body of a type K thermocouple into a limit controller: range 0–1000 °C, normal 300–650 °C, no design limits,
+ * upscale burnout; `over` changes any field.
+ */
+export function thermocoupleK(processId: number, tag: string, over: Record<string, unknown> = {}) {
   return {
     processId,
     tag,
     measuredVariable: 'temperature',
     unit: '°C',
     rangeLow: 0,
-    rangeHigh: 1200,
+    rangeHigh: 1000,
     normalLow: 300,
     normalHigh: 650,
-    designLow: null,
-    designHigh: 900,
     burnout: 'upscale',
     signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
     deviceKind: 'limit_controller',
+    ...over,
   }
 }
+
+/** The body of a type K thermocouple on a fired heater: range 0–1200 °C, normal 300–650 °C, design 900 °C, upscale burnout. */
+export function heaterThermocouple(processId: number, tag: string) {
+  return thermocoupleK(processId, tag, { rangeHigh: 1200, designLow: null, designHigh: 900 })
+}
+
+/**
+ * The subsystems of a SIL-rated heater trip: a 1oo1 thermocouple, a 1oo1 logic solver and two shut-off valves voting
+ * 1oo2, tested yearly (illustrative failure rates of the fictional plant).
+ */
+export const HEATER_SUBSYSTEMS = [
+  {
+    role: 'sensor',
+    architecture: '1oo1',
+    lambdaDu: 5e-7,
+    beta: 0.05,
+    mttrHours: 8,
+    testIntervalMonths: 12,
+    testCoverage: 0.9,
+    missionTimeYears: 15,
+  },
+  {
+    role: 'logic',
+    architecture: '1oo1',
+    lambdaDu: 1e-8,
+    beta: 0.02,
+    mttrHours: 8,
+    testIntervalMonths: 12,
+    testCoverage: 1,
+    missionTimeYears: 15,
+  },
+  {
+    role: 'final_element',
+    architecture: '1oo2',
+    lambdaDu: 2e-6,
+    beta: 0.1,
+    mttrHours: 24,
+    testIntervalMonths: 12,
+    testCoverage: 0.7,
+    missionTimeYears: 15,
+  },
+]
 
 /** A process, a type K thermocouple instrument (0–1200 °C, normal 300–650) and a proposed high trip at 780 °C, via the API as an engineer. */
 export async function buildHeaterTrip(
@@ -68,40 +124,7 @@ export async function buildHeaterTrip(
       .expect(201)
   ).body
   const sil = opts.sil ?? null
-  const subsystems = sil
-    ? [
-        {
-          role: 'sensor',
-          architecture: '1oo1',
-          lambdaDu: 5e-7,
-          beta: 0.05,
-          mttrHours: 8,
-          testIntervalMonths: 12,
-          testCoverage: 0.9,
-          missionTimeYears: 15,
-        },
-        {
-          role: 'logic',
-          architecture: '1oo1',
-          lambdaDu: 1e-8,
-          beta: 0.02,
-          mttrHours: 8,
-          testIntervalMonths: 12,
-          testCoverage: 1,
-          missionTimeYears: 15,
-        },
-        {
-          role: 'final_element',
-          architecture: '1oo2',
-          lambdaDu: 2e-6,
-          beta: 0.1,
-          mttrHours: 24,
-          testIntervalMonths: 12,
-          testCoverage: 0.7,
-          missionTimeYears: 15,
-        },
-      ]
-    : []
+  const subsystems = sil ? HEATER_SUBSYSTEMS : []
   const limit = (
     await eng
       .post('/api/limits', {
@@ -114,15 +137,14 @@ export async function buildHeaterTrip(
 }
 
 /**
- * The body of a fired heater's high-temperature trip on the instruments (780 °C, latching, reset by the operator,
- * bypass up to 8 h with a compensating measure), with the given SIL and subsystems.
+ * The body of a fired heater's high-temperature trip on the instruments: 780 °C, deadband 5 °C, severe, latching,
+ * reset by the operator, tested yearly; `over` adds or changes fields (SIL, bypass policy, …).
  */
-export function heaterTrip(
+export function heaterTripBody(
   processId: number,
   instrumentIds: number[],
   tag: string,
-  sil: number | null,
-  subsystems: unknown[],
+  over: Record<string, unknown> = {},
 ) {
   return {
     processId,
@@ -136,12 +158,92 @@ export function heaterTrip(
     testIntervalMonths: 12,
     latching: true,
     resetRole: 'operator',
+    ...over,
+  }
+}
+
+/**
+ * The body of a fired heater's high-temperature alarm on the instruments: 700 °C, deadband 5 °C, moderate, 15 min for
+ * the operator to respond, not latching; `over` adds or changes fields.
+ */
+export function heaterAlarmBody(
+  processId: number,
+  instrumentIds: number[],
+  tag: string,
+  over: Record<string, unknown> = {},
+) {
+  return heaterTripBody(processId, instrumentIds, tag, {
+    limitClass: 'alarm',
+    setpoint: 700,
+    severity: 'moderate',
+    latching: false,
+    resetRole: null,
+    responseTimeMin: 15,
+    ...over,
+  })
+}
+
+/**
+ * The body of a fired heater's high-temperature trip on the instruments (heaterTripBody: 780 °C, latching, reset by
+ * the operator; bypass up to 8 h with a compensating measure), with the given SIL and subsystems.
+ */
+export function heaterTrip(
+  processId: number,
+  instrumentIds: number[],
+  tag: string,
+  sil: number | null,
+  subsystems: unknown[],
+) {
+  return heaterTripBody(processId, instrumentIds, tag, {
     sil,
     subsystems,
     compensatingMeasures: ['Operator watches TI locally every 15 min'],
     maxBypassHours: 8,
     bypassPermitted: true,
-  }
+  })
+}
+
+/** A full trip test by injection at the sensor: the thermocouple input driven by a calibrator from `source`. */
+function injectionTest(limitId: number, source: Record<string, unknown>, over: Record<string, unknown>) {
+  return { limitId, kind: 'full', method: 'injection', injectionPoint: 'sensor', ...source, ...over }
+}
+
+/**
+ * The body of a full trip test by a mV source at the sensor with the cold junction at 25 °C, calibrator CAL-07 due at
+ * the end of 2026; `over` gives the moment and the result (and anything else the test varies).
+ */
+export function mvSourceTest(limitId: number, over: Record<string, unknown> = {}) {
+  const source = { sourceMode: 'mv_source', coldJunctionC: 25, calibratorId: 'CAL-07', calibratorDueDate: '2026-12-31' }
+  return injectionTest(limitId, source, over)
+}
+
+/**
+ * The body of a full trip test by a thermocouple simulator at the sensor (it compensates the cold junction itself),
+ * calibrator CAL-5 due at the end of 2027; `over` gives the moment and the result.
+ */
+export function simulatorTest(limitId: number, over: Record<string, unknown> = {}) {
+  return injectionTest(
+    limitId,
+    { sourceMode: 'tc_simulate', calibratorId: 'CAL-5', calibratorDueDate: '2027-12-31' },
+    over,
+  )
+}
+
+/**
+ * A passing full test of a heater trip (buildHeaterTrip: 780 °C, tolerance ±6 °C = 0.5 % of the 0–1200 °C span,
+ * docs/trip-tests.md#judging-a-test): as found 781.5 °C at 08:00 UTC on 14 April 2026, by a mV source, calibrator
+ * CAL-11 due 30 September 2026.
+ */
+export function passingHeaterTest(limitId: number, over: Record<string, unknown> = {}) {
+  return mvSourceTest(limitId, {
+    calibratorId: 'CAL-11',
+    calibratorDueDate: '2026-09-30',
+    performedAt: '2026-04-14T08:00:00Z',
+    asFound: 781.5,
+    finalElementOk: true,
+    latchHeld: true,
+    ...over,
+  })
 }
 
 /**
@@ -157,6 +259,55 @@ export function readBackOf(item: {
     item.deviceFields.map((f) => [f, f in item.changes ? item.changes[f].to : item.readBackExpected?.[f]]),
   )
 }
+
+/**
+ * Dana Twofold (dual@fernhollow.example, password `dual-role-password`): made an approver at the refinery by the
+ * administrator, then given the safety-engineer role too, so an approver who may propose; signed in with a session of
+ * their own. Answers the agent, the user's id and the roles the administrator's second call answered.
+ */
+export async function dualRoleApprover(app: Express, admin: ApiAgent) {
+  const sites = (await admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
+  const fhr = sites.find((s) => s.code === 'FHR')!.id
+  const user = (
+    await admin
+      .post('/api/users', {
+        email: 'dual@fernhollow.example',
+        displayName: 'Dana Twofold',
+        password: 'dual-role-password',
+        roles: [{ siteId: fhr, role: 'approver' }],
+      })
+      .expect(201)
+  ).body
+  const patched = (
+    await admin
+      .patch(`/api/users/${user.id}`, {
+        roles: [
+          { siteId: fhr, role: 'approver' },
+          { siteId: fhr, role: 'safety_engineer' },
+        ],
+      })
+      .expect(200)
+  ).body
+  const agent = new ApiAgent(app)
+  await agent.signIn('dual@fernhollow.example', 'dual-role-password')
+  return { agent, id: user.id as number, roles: patched.roles as { siteId: number; role: string }[] }
+}
+
+/** The body that implements a request's first item with the correct read-back (readBackOf), signed with `password`. */
+export function firstItemImplementation(
+  cr: { items: (Parameters<typeof readBackOf>[0] & { id: number })[] },
+  password: string = DEMO_PASSWORD,
+) {
+  return { itemId: cr.items[0].id, readBack: readBackOf(cr.items[0]), password }
+}
+
+/** The demo accounts a change request passes through (for signedInAs): engineer, both approvers, technician. */
+export const CHANGE_PEOPLE = {
+  eng: 'engineer',
+  approver: 'approver',
+  approver2: 'approver2',
+  tech: 'technician',
+} as const
 
 /** The people a change request passes through, each signed in with their own session. */
 export interface ChangeCrew {
@@ -228,15 +379,38 @@ export async function implementChange(
   return body as { id: number; status: string }
 }
 
+/**
+ * A temporary change of a limit's setpoint until `expiresAt` (docs/change-requests.md#temporary-and-emergency-changes), submitted by the crew's
+ * engineer and approved by its approvers: not yet on the device.
+ */
+export async function approvedTemporaryChange(
+  crew: ChangeCrew,
+  on: { site: { id: number }; limit: { id: number } },
+  change: { title: string; setpoint: number; expiresAt: Date },
+) {
+  const cr = await submitChange(crew.eng, {
+    siteId: on.site.id,
+    type: 'temporary',
+    title: change.title,
+    expiresAt: change.expiresAt.toISOString(),
+    items: [{ kind: 'modify', limitId: on.limit.id, changes: { setpoint: change.setpoint } }],
+  })
+  return approveChange(crew.approvers, cr)
+}
+
+/** A change request carried all the way: submitted by the crew's engineer, approved, implemented with read-back. */
+export async function carryOutChange(crew: ChangeCrew, body: Record<string, unknown>) {
+  return implementChange(crew.tech, await approveChange(crew.approvers, await submitChange(crew.eng, body)))
+}
+
 /** A heater trip (see buildHeaterTrip) put in service through its own change request: create item, approvals, implementation. */
 export async function buildActiveHeaterTrip(crew: ChangeCrew, opts: Parameters<typeof buildHeaterTrip>[1] = {}) {
   const built = await buildHeaterTrip(crew.eng, opts)
-  const cr = await submitChange(crew.eng, {
+  await carryOutChange(crew, {
     siteId: built.site.id,
     title: `Put ${built.limit.tag} in service`,
     items: [{ kind: 'create', limitId: built.limit.id }],
   })
-  await implementChange(crew.tech, await approveChange(crew.approvers, cr))
   const limit = (await crew.eng.get(`/api/limits/${built.limit.id}`).expect(200)).body
   if (limit.status !== 'active') throw new Error(`limit ${limit.tag} is ${limit.status} after its change request`)
   return { ...built, limit }

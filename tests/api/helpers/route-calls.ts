@@ -5,7 +5,7 @@ import type { Express } from 'express'
 import pg from 'pg'
 import { DEMO_PASSWORD } from '../../../server/seed/demo.ts'
 import { ApiAgent } from './agent.ts'
-import { heaterThermocouple } from './factories.ts'
+import { heaterThermocouple, heaterTripBody, mvSourceTest } from './factories.ts'
 import type { AppRoute } from './routes.ts'
 
 /** The password of the route tests' own accounts (and of their signatures). */
@@ -43,20 +43,14 @@ export interface CallSpec {
 }
 
 const sign = { password: PW }
-const tripTest = (f: Fixtures) => ({
-  limitId: f.limitId,
-  kind: 'full',
-  method: 'injection',
-  injectionPoint: 'sensor',
-  sourceMode: 'mv_source',
-  coldJunctionC: 25,
-  calibratorId: 'CAL-07',
-  calibratorDueDate: '2030-12-31',
-  performedAt: '2026-09-07T04:30:00Z',
-  finalElementOk: true,
-  latchHeld: true,
-  noTrip: true,
-})
+const tripTest = (f: Fixtures) =>
+  mvSourceTest(f.limitId, {
+    calibratorDueDate: '2030-12-31',
+    performedAt: '2026-09-07T04:30:00Z',
+    finalElementOk: true,
+    latchHeld: true,
+    noTrip: true,
+  })
 const csv = (content: string) => ({ name: 'file.csv', content })
 
 /** How each route is called: the ids it names and a body that gets past validation where one is parsed first. */
@@ -87,24 +81,14 @@ export const CALLS: Record<string, CallSpec> = {
   },
   'PATCH /api/instruments/:id': { params: (f) => ({ id: f.instrumentId }), body: () => ({}) },
   'POST /api/limits': {
-    body: (f) => ({
-      processId: f.processId,
-      instrumentIds: [f.instrumentId],
-      tag: `TSHH-M${Math.floor(Math.random() * 1e6)}`,
-      direction: 'high',
-      limitClass: 'trip',
-      setpoint: 780,
-      deadband: 5,
-      severity: 'severe',
-      testIntervalMonths: 12,
-      latching: true,
-      resetRole: 'operator',
-      sil: null,
-      subsystems: [],
-      compensatingMeasures: ['Local reading every 15 min'],
-      maxBypassHours: 8,
-      bypassPermitted: true,
-    }),
+    body: (f) =>
+      heaterTripBody(f.processId, [f.instrumentId], `TSHH-M${Math.floor(Math.random() * 1e6)}`, {
+        sil: null,
+        subsystems: [],
+        compensatingMeasures: ['Local reading every 15 min'],
+        maxBypassHours: 8,
+        bypassPermitted: true,
+      }),
   },
   'PATCH /api/limits/:id': { params: (f) => ({ id: f.limitId }), body: () => ({}) },
   'DELETE /api/limits/:id': { params: (f) => ({ id: f.limitId }) },
