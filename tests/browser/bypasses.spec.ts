@@ -3,8 +3,8 @@ import { describe, expect, it } from 'vitest'
 import { createDb } from '../../server/db/index.ts'
 import { systemClock } from '../../server/clock.ts'
 import { seedDemoShiftHandover } from '../../server/seed/demo-shift-handover.ts'
-import { heaterThermocouple } from '../api/helpers/factories.ts'
-import { callApi, pageFor, readyToImplement, signInAs, useBrowserApp } from './helpers.ts'
+import { heaterThermocouple, heaterTripBody } from '../api/helpers/factories.ts'
+import { callApi, pageFor, readyToImplement, signInAs, testText, useBrowserApp } from './helpers.ts'
 
 // the other shift's supervisor, as the demo plant's own seed makes them: a handover needs an outgoing and an incoming one
 const app = useBrowserApp({
@@ -31,17 +31,7 @@ async function heaterTripInService(engineer: Page, approver: Page, technician: P
   })
   const inst = await call(engineer, 'POST', '/instruments', heaterThermocouple(proc.id, 'TT-5201'))
   const limit = await call(engineer, 'POST', '/limits', {
-    processId: proc.id,
-    instrumentIds: [inst.id],
-    tag: 'TSHH-5201',
-    direction: 'high',
-    limitClass: 'trip',
-    setpoint: 780,
-    deadband: 5,
-    severity: 'severe',
-    testIntervalMonths: 12,
-    latching: true,
-    resetRole: 'operator',
+    ...heaterTripBody(proc.id, [inst.id], 'TSHH-5201'),
     maxBypassHours: 8,
     bypassPermitted: true,
     compensatingMeasures: [
@@ -68,13 +58,7 @@ async function heaterTripInService(engineer: Page, approver: Page, technician: P
   return { limitId: limit.id as number, tag: limit.tag as string }
 }
 
-const text = (page: Page, test: string) =>
-  page
-    .locator(`[data-test="${test}"]`)
-    .first()
-    .textContent({ timeout: 1_000 })
-    .then((t) => t?.replace(/\s+/g, ' ').trim() ?? null)
-    .catch(() => null)
+const text = testText
 /** Waits for a condition of the page (no fixed sleeps). */
 const poll = <T>(fn: () => Promise<T>) => expect.poll(fn, { timeout: 15_000 })
 

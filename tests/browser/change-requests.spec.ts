@@ -1,7 +1,7 @@
 import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
-import { heaterThermocouple } from '../api/helpers/factories.ts'
+import { heaterThermocouple, heaterTripBody } from '../api/helpers/factories.ts'
 import { callApi, pageFor, readyToImplement, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
@@ -34,17 +34,7 @@ async function heaterTripInService(engineer: Page, approver: Page, technician: P
   })
   const inst = await call(engineer, 'POST', '/instruments', heaterThermocouple(proc.id, `TT-${n}`))
   const limit = await call(engineer, 'POST', '/limits', {
-    processId: proc.id,
-    instrumentIds: [inst.id],
-    tag: `TSHH-${n}`,
-    direction: 'high',
-    limitClass: 'trip',
-    setpoint: 780,
-    deadband: 5,
-    severity: 'severe',
-    testIntervalMonths: 12,
-    latching: true,
-    resetRole: 'operator',
+    ...heaterTripBody(proc.id, [inst.id], `TSHH-${n}`),
     compensatingMeasures: ['Operator watches the local indicator every 15 min'],
     maxBypassHours: 8,
     bypassPermitted: true,

@@ -104,6 +104,15 @@ export async function readyToImplement(page: Page, baseUrl: string, changeReques
     await callApi(page, baseUrl, 'PUT', `/change-requests/${changeRequestId}/checklist/${c.item}`, { done: true })
 }
 
+/** Picks an entry of a Vuetify select by its visible text and waits for its menu to close. */
+export async function choose(page: Page, field: string, option: string) {
+  await page.locator(`[data-test="${field}"]`).click()
+  const item = page.locator('.v-overlay--active .v-list-item', { hasText: option }).first()
+  await item.waitFor()
+  await item.click()
+  await page.locator('.v-overlay--active .v-list-item').first().waitFor({ state: 'detached' })
+}
+
 /** The text of the first element with this `data-test`, spaces collapsed; null when it is not on the page within 1 s. */
 export function testText(page: Page, test: string): Promise<string | null> {
   return page

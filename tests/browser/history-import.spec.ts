@@ -1,21 +1,11 @@
 import { readFileSync } from 'node:fs'
-import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
-import { signInAs, useBrowserApp } from './helpers.ts'
+import { choose, signInAs, useBrowserApp } from './helpers.ts'
 
 // The history import screen (docs/trip-tests.md#history-import) with the demo register: the shipped example file
 // through the dry run and the commit, then the imported tests marked on the limit's page.
 
 const app = useBrowserApp({ register: true })
-
-/** Picks an entry of a Vuetify select by its visible text. */
-async function choose(page: Page, field: string, option: string) {
-  await page.locator(`[data-test="${field}"]`).click()
-  const item = page.locator('.v-overlay--active .v-list-item', { hasText: option }).first()
-  await item.waitFor()
-  await item.click()
-  await page.locator('.v-overlay--active .v-list-item').first().waitFor({ state: 'detached' })
-}
 
 describe('the history import', () => {
   it('checks the example file, imports it and marks the imported tests on the limit page', async () => {

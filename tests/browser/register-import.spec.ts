@@ -1,7 +1,6 @@
 import { readFileSync } from 'node:fs'
-import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
-import { signInAs, useBrowserApp } from './helpers.ts'
+import { choose, signInAs, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
 
@@ -47,15 +46,6 @@ function smallRegisterFile(prefix: string) {
     })
   const csv = `${[header, ...rows].map((r) => r.map(csvCell).join(',')).join('\n')}\n`
   return { csv, tags: rows.map((r) => r[tagCol]) }
-}
-
-/** Picks an entry of a Vuetify select by its visible text. */
-async function choose(page: Page, field: string, option: string) {
-  await page.locator(`[data-test="${field}"]`).click()
-  const item = page.locator('.v-overlay--active .v-list-item', { hasText: option }).first()
-  await item.waitFor()
-  await item.click()
-  await page.locator('.v-overlay--active .v-list-item').first().waitFor({ state: 'detached' })
 }
 
 describe('the register import', () => {

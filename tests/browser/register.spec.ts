@@ -1,5 +1,6 @@
 import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
+import { thermocoupleK } from '../api/helpers/factories.ts'
 import { signInAs, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
@@ -34,22 +35,18 @@ async function createFixture(page: Page) {
     name: 'Browser test heater BT-1',
     description: 'Fired heater used by the register journey',
   })
-  const instrument = await api.post<{ id: number }>('/instruments', {
-    processId: process.id,
-    tag: 'BT-TT-901',
-    measuredVariable: 'temperature',
-    unit: '°C',
-    rangeLow: 0,
-    rangeHigh: 600,
-    normalLow: 320,
-    normalHigh: 370,
-    designLow: null,
-    designHigh: 450,
-    burnout: 'downscale',
-    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-    deviceKind: 'limit_controller',
-    deviceDescription: 'Limit controller, channel 1',
-  })
+  const instrument = await api.post<{ id: number }>(
+    '/instruments',
+    thermocoupleK(process.id, 'BT-TT-901', {
+      rangeHigh: 600,
+      normalLow: 320,
+      normalHigh: 370,
+      designLow: null,
+      designHigh: 450,
+      burnout: 'downscale',
+      deviceDescription: 'Limit controller, channel 1',
+    }),
+  )
   const common = {
     processId: process.id,
     instrumentIds: [instrument.id],
