@@ -94,6 +94,8 @@ describe('the review counts what was in force, by the times it was in force', ()
     await signInAll()
     const onTime = await limitWithMaxBypass(24)
     const early = await limitWithMaxBypass(24)
+    // the test clock runs on while the two limits are put in service: 06:00 again for the request in force on time
+    ctx.clock.set('2026-07-08T06:00:00Z')
     const a = (await ask(onTime.id, '2026-07-08T06:00:00Z', 6).expect(201)).body
     await as.supervisor.post(`/api/bypasses/${a.id}/authorizations`, { password: PW }).expect(200)
     await as.operator.post(`/api/bypasses/${a.id}/activation`, ACTIVATE).expect(200)
