@@ -11,14 +11,23 @@ import {
   type JournalUpload,
 } from '../../../shared/schemas/alarms.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { authorize, scopeSites, ensureVisible } from '../../authorize.ts'
+import { authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { AlarmJournalUploadTable } from '../../db/schema.ts'
-import { notFound, validationFailed } from '../../errors.ts'
+import { validationFailed } from '../../errors.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import * as repo from './alarms.repository.ts'
-import { copyLines, hashFile, headerOf, progressReporter, uploadFileName } from './copy-load.ts'
+import {
+  copyLines,
+  headerOf,
+  isRefusal,
+  progressReporter,
+  readableUpload,
+  runQueuedLoad,
+  uploadFileName,
+  uploadsPage,
+} from './copy-load.ts'
 import { copyText, createTimeParser, readRows, resolveColumns, sniffFile } from './file-rows.ts'
 import type { Selectable } from 'kysely'
 
@@ -56,7 +65,6 @@ const PRIORITY_WORDS: Record<string, number> = {
 JOURNAL_PRIORITIES.forEach((p, i) => (PRIORITY_WORDS[p] = i))
 
 const MAX_REJECTIONS_KEPT = 200
-const running = new Set<string>()
 
 function toDto(r: Selectable<AlarmJournalUploadTable>): JournalUpload {
   return {
@@ -177,15 +185,6 @@ class NothingUsable extends Error {}
  * register does not know. A file with no usable row, or one that breaks off, writes nothing to the journal.
  */
 export async function runJournalUpload(deps: AppDeps, id: number, ctx: AuditContext): Promise<void> {
-  const key = `journal:${id}`
-  if (running.has(key)) return
-  running.add(key)
-  const upload = await repo.journalUploadById(deps.db, id).catch(() => undefined)
-  if (!upload || upload.status !== 'queued' || !upload.file_path) {
-    running.delete(key)
-    return
-  }
-  const path = upload.file_path
   const rejections: { row: number; message: string }[] = []
   let rowsRead = 0
   let rejected = 0
@@ -194,85 +193,91 @@ export async function runJournalUpload(deps: AppDeps, id: number, ctx: AuditCont
     if (rejections.length < MAX_REJECTIONS_KEPT) rejections.push({ row, message })
   }
   let checksum: string | null = null
-  const client = await deps.pool.connect()
-  try {
-    await repo.setJournalProgress(deps.db, id, { status: 'running' })
-    const hashing = hashFile(path)
-    const { kind, delimiter } = await sniffFile(path)
-    const kdb = repo.kyselyOn(client)
-    await kdb.transaction().execute(async (trx) => {
-      await repo.createJournalStage(trx)
-      const parseTime = createTimeParser(upload.time_zone)
-      const progress = progressReporter((rowsRead) =>
-        repo.setJournalProgress(deps.db, id, { rowsRead, rowsRejected: rejected }),
-      )
-      let index: Partial<Record<JournalColumn, number>> = {}
-      let rowNo = 0
-      await copyLines(
-        client,
-        'COPY alarm_stage (t_ms, tag, kind, priority, position, message) FROM STDIN',
-        async (write) => {
-          for await (const cells of readRows(path, kind, delimiter)) {
-            rowNo++
-            if (rowNo === 1) {
-              index = resolveColumns(
-                cells,
-                JOURNAL_COLUMNS,
-                JOURNAL_REQUIRED_COLUMNS,
-                upload.mapping,
-                {},
-                ALIASES,
-              ).index
-              continue
-            }
-            rowsRead++
-            await write(journalLine(cells, index, parseTime, rowNo, reject) ?? '')
-            await progress(rowsRead)
-          }
-        },
-      )
-      const staged = await repo.stageRange(trx)
-      if (!staged.count || staged.lo === null || staged.hi === null) throw new NothingUsable()
-      await repo.ensureJournalPartitions(trx, new Date(staged.lo), new Date(staged.hi))
-      const stored = await repo.loadStagedJournal(trx, upload.site_id, id)
-      const unmatched = await repo.unmatchedStagedTags(trx, upload.site_id)
-      checksum = await hashing
-      const duplicateOf = await repo.earlierUploadWithChecksum(trx, upload.site_id, checksum, id)
-      const now = deps.clock.now()
-      await repo.finishJournalUpload(trx, id, {
-        status: 'done',
-        rowsRead,
-        rowsStored: stored,
-        rowsDuplicate: staged.count - stored,
-        rowsRejected: rejected,
-        rejections,
-        unmatchedTags: unmatched.tags,
-        unmatchedTagCount: unmatched.count,
-        duplicateOf,
-        error: null,
-        firstAt: new Date(staged.lo),
-        lastAt: new Date(staged.hi),
-        checksum,
-        now,
-      })
-      await appendAudit(trx, deps.clock, ctx, {
-        action: 'alarm_journal.import',
-        entityType: 'alarm_journal_upload',
-        entityId: id,
-        after: { rowsRead, rowsStored: stored, rowsDuplicate: staged.count - stored, rowsRejected: rejected, checksum },
-      })
-    })
-  } catch (err) {
-    const message =
-      err instanceof NothingUsable
-        ? `No usable row: ${rejected} of ${rowsRead} rows were rejected (see the reasons); nothing was stored`
-        : err instanceof Error && 'status' in err
-          ? err.message
-          : 'The journal could not be loaded; nothing was stored'
-    if (!(err instanceof NothingUsable) && !(err instanceof Error && 'status' in err))
-      logger.error({ component: 'alarms', uploadId: id, err }, 'alarm journal upload failed')
-    await repo
-      .finishJournalUpload(deps.db, id, {
+  await runQueuedLoad(deps, `journal:${id}`, {
+    find: () => repo.journalUploadById(deps.db, id),
+    markRunning: () => repo.setJournalProgress(deps.db, id, { status: 'running' }),
+    load: ({ upload, path, client, kind, delimiter, hashing }) =>
+      repo
+        .kyselyOn(client)
+        .transaction()
+        .execute(async (trx) => {
+          await repo.createJournalStage(trx)
+          const parseTime = createTimeParser(upload.time_zone)
+          const progress = progressReporter((rowsRead) =>
+            repo.setJournalProgress(deps.db, id, { rowsRead, rowsRejected: rejected }),
+          )
+          let index: Partial<Record<JournalColumn, number>> = {}
+          let rowNo = 0
+          await copyLines(
+            client,
+            'COPY alarm_stage (t_ms, tag, kind, priority, position, message) FROM STDIN',
+            async (write) => {
+              for await (const cells of readRows(path, kind, delimiter)) {
+                rowNo++
+                if (rowNo === 1) {
+                  index = resolveColumns(
+                    cells,
+                    JOURNAL_COLUMNS,
+                    JOURNAL_REQUIRED_COLUMNS,
+                    upload.mapping,
+                    {},
+                    ALIASES,
+                  ).index
+                  continue
+                }
+                rowsRead++
+                await write(journalLine(cells, index, parseTime, rowNo, reject) ?? '')
+                await progress(rowsRead)
+              }
+            },
+          )
+          const staged = await repo.stageRange(trx)
+          if (!staged.count || staged.lo === null || staged.hi === null) throw new NothingUsable()
+          await repo.ensureJournalPartitions(trx, new Date(staged.lo), new Date(staged.hi))
+          const stored = await repo.loadStagedJournal(trx, upload.site_id, id)
+          const unmatched = await repo.unmatchedStagedTags(trx, upload.site_id)
+          checksum = await hashing
+          const duplicateOf = await repo.earlierUploadWithChecksum(trx, upload.site_id, checksum, id)
+          const now = deps.clock.now()
+          await repo.finishJournalUpload(trx, id, {
+            status: 'done',
+            rowsRead,
+            rowsStored: stored,
+            rowsDuplicate: staged.count - stored,
+            rowsRejected: rejected,
+            rejections,
+            unmatchedTags: unmatched.tags,
+            unmatchedTagCount: unmatched.count,
+            duplicateOf,
+            error: null,
+            firstAt: new Date(staged.lo),
+            lastAt: new Date(staged.hi),
+            checksum,
+            now,
+          })
+          await appendAudit(trx, deps.clock, ctx, {
+            action: 'alarm_journal.import',
+            entityType: 'alarm_journal_upload',
+            entityId: id,
+            after: {
+              rowsRead,
+              rowsStored: stored,
+              rowsDuplicate: staged.count - stored,
+              rowsRejected: rejected,
+              checksum,
+            },
+          })
+        }),
+    fail: async (err) => {
+      const message =
+        err instanceof NothingUsable
+          ? `No usable row: ${rejected} of ${rowsRead} rows were rejected (see the reasons); nothing was stored`
+          : isRefusal(err)
+            ? err.message
+            : 'The journal could not be loaded; nothing was stored'
+      if (!(err instanceof NothingUsable) && !isRefusal(err))
+        logger.error({ component: 'alarms', uploadId: id, err }, 'alarm journal upload failed')
+      await repo.finishJournalUpload(deps.db, id, {
         status: 'failed',
         rowsRead,
         rowsStored: 0,
@@ -288,12 +293,8 @@ export async function runJournalUpload(deps: AppDeps, id: number, ctx: AuditCont
         checksum,
         now: deps.clock.now(),
       })
-      .catch(() => undefined)
-  } finally {
-    client.release()
-    running.delete(key)
-    await rm(path, { force: true })
-  }
+    },
+  })
 }
 
 /** One journal row as a COPY line, or null (and a rejection) when a cell cannot be read. */
@@ -339,17 +340,15 @@ function journalLine(
 }
 
 export async function getJournalUpload(deps: AppDeps, ability: AppAbility, id: number): Promise<JournalUpload> {
-  const r = await repo.journalUploadById(deps.db, id)
-  if (!r) throw notFound('Alarm journal upload')
-  ensureVisible(ability, 'AlarmJournal', { siteId: r.site_id }, 'Alarm journal upload')
-  return toDto(r)
+  return toDto(
+    readableUpload(await repo.journalUploadById(deps.db, id), ability, 'AlarmJournal', 'Alarm journal upload'),
+  )
 }
 
-export async function listJournalUploads(
+export function listJournalUploads(
   deps: AppDeps,
   user: CurrentUser | null,
   q: { siteId?: number; page: number; pageSize: number },
 ): Promise<ListResult<JournalUpload>> {
-  const { rows, total } = await repo.listJournalUploads(deps.db, scopeSites(user, q.siteId ? [q.siteId] : undefined), q)
-  return { items: rows.map(toDto), total }
+  return uploadsPage((siteIds, page) => repo.listJournalUploads(deps.db, siteIds, page), user, q, toDto)
 }

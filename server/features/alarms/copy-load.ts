@@ -1,12 +1,105 @@
 import { createHash } from 'node:crypto'
 import { createReadStream } from 'node:fs'
+import { rm } from 'node:fs/promises'
 import type pg from 'pg'
+import type { AppAbility } from '../../../shared/abilities/index.ts'
+import type { ListResult } from '../../../shared/schemas/common.ts'
+import { ensureVisible, scopeSites } from '../../authorize.ts'
+import type { AlarmUploadStatus } from '../../db/schema.ts'
+import type { AppDeps } from '../../deps.ts'
+import { notFound } from '../../errors.ts'
+import type { CurrentUser } from '../../types/express.d.ts'
 import { badFile } from '../register/imports.service.ts'
 import { copyInto } from './alarms.repository.ts'
-import { type FileKind, readRows } from './file-rows.ts'
+import { type FileKind, readRows, sniffFile } from './file-rows.ts'
 
 // What the two bulk loads of the alarms feature (alarm journals, process data) share: the upload's stored name, the
-// header row, the file's checksum, a buffered COPY and the job's progress reports. docs/alarms.md.
+// header row, the file's checksum, a buffered COPY, the job's frame and progress reports, reading and listing the
+// uploads. docs/alarms.md.
+
+/** An upload row as both kinds store it. */
+interface UploadRow {
+  site_id: number
+  status: AlarmUploadStatus
+  file_path: string | null
+}
+
+/** An upload the user may read; another site's answers 404 exactly as a missing one. */
+export function readableUpload<R extends UploadRow>(
+  row: R | undefined,
+  ability: AppAbility,
+  subject: 'AlarmJournal' | 'Replay',
+  what: string,
+): R {
+  if (!row) throw notFound(what)
+  ensureVisible(ability, subject, { siteId: row.site_id }, what)
+  return row
+}
+
+/** A page of the uploads at the user's sites (or at the one site asked for), newest first. */
+export async function uploadsPage<R, D>(
+  list: (siteIds: number[], page: { page: number; pageSize: number }) => Promise<{ rows: R[]; total: number }>,
+  user: CurrentUser | null,
+  q: { siteId?: number; page: number; pageSize: number },
+  toDto: (row: R) => D,
+): Promise<ListResult<D>> {
+  const { rows, total } = await list(scopeSites(user, q.siteId ? [q.siteId] : undefined), q)
+  return { items: rows.map(toDto), total }
+}
+
+/** A failure the job raised on purpose (an AppError with its status): the upload shows its message as it is. */
+export const isRefusal = (err: unknown): err is Error => err instanceof Error && 'status' in err
+
+/** What a load job reads its file with: its connection, the file's kind and its checksum (being computed). */
+export interface LoadContext<R> {
+  upload: R
+  path: string
+  client: pg.PoolClient
+  kind: FileKind
+  delimiter: string
+  hashing: Promise<string>
+}
+
+const loading = new Set<string>()
+
+/**
+ * The frame of both load jobs. Runs `load` once at a time per upload in this process, and only while the upload is
+ * queued with its file on disk, on a connection of its own (COPY and Kysely share its transaction): `markRunning`
+ * first, then `load`; on any failure `fail` records it. The connection is released and the file removed whatever
+ * happens.
+ */
+export async function runQueuedLoad<R extends UploadRow>(
+  deps: AppDeps,
+  key: string,
+  job: {
+    find: () => Promise<R | undefined>
+    markRunning: () => Promise<void>
+    load: (c: LoadContext<R>) => Promise<void>
+    fail: (err: unknown) => Promise<void>
+  },
+): Promise<void> {
+  if (loading.has(key)) return
+  loading.add(key)
+  const upload = await job.find().catch(() => undefined)
+  if (!upload || upload.status !== 'queued' || !upload.file_path) {
+    loading.delete(key)
+    return
+  }
+  const path = upload.file_path
+  const client = await deps.pool.connect()
+  try {
+    await job.markRunning()
+    const hashing = hashFile(path)
+    const { kind, delimiter } = await sniffFile(path)
+    await job.load({ upload, path, client, kind, delimiter, hashing })
+  } catch (err) {
+    await job.fail(err).catch(() => undefined)
+  } finally {
+    client.release()
+    loading.delete(key)
+    await rm(path, { force: true })
+  }
+}
 
 const COPY_CHUNK = 256 * 1024
 

@@ -10,7 +10,7 @@ import {
 } from '../../../shared/domain/alarm-limit-state.ts'
 import type { ReplayRun, ReplayRunInput, ReplayUpload } from '../../../shared/schemas/alarms.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { authorize, scopeSites, ensureVisible } from '../../authorize.ts'
+import { authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { ProcessDataUploadTable } from '../../db/schema.ts'
 import { notFound, unprocessable, validationFailed } from '../../errors.ts'
@@ -19,7 +19,16 @@ import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { badFile } from '../register/imports.service.ts'
 import { sitePolicy } from './alarm-figures.service.ts'
 import * as repo from './alarms.repository.ts'
-import { copyLines, hashFile, headerOf, progressReporter, uploadFileName } from './copy-load.ts'
+import {
+  copyLines,
+  headerOf,
+  isRefusal,
+  progressReporter,
+  readableUpload,
+  runQueuedLoad,
+  uploadFileName,
+  uploadsPage,
+} from './copy-load.ts'
 import { createTimeParser, readRows, resolveColumns, sniffFile } from './file-rows.ts'
 
 // Replays: a process-data export (a time column and one value column per tag) is streamed into process_sample by
@@ -28,7 +37,6 @@ import { createTimeParser, readRows, resolveColumns, sniffFile } from './file-ro
 
 const MAX_SERIES = 50
 const NUMBER = /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/
-const running = new Set<number>()
 
 function toDto(r: Selectable<ProcessDataUploadTable>): ReplayUpload {
   return {
@@ -116,14 +124,6 @@ export async function startReplayUpload(
 
 /** The job: streams the samples into process_sample with COPY in one transaction (all or nothing). */
 export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> {
-  if (running.has(id)) return
-  running.add(id)
-  const upload = await repo.replayUploadById(deps.db, id).catch(() => undefined)
-  if (!upload || upload.status !== 'queued' || !upload.file_path) {
-    running.delete(id)
-    return
-  }
-  const path = upload.file_path
   const rejections: { row: number; message: string }[] = []
   let rowsRead = 0
   let rejected = 0
@@ -131,96 +131,97 @@ export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> 
   let first = Infinity
   let last = -Infinity
   let checksum: string | null = null
-  let series: { index: number; name: string }[] = upload.series
-  const client = await deps.pool.connect()
-  try {
-    await repo.setReplayProgress(deps.db, id, { status: 'running' })
-    const hashing = hashFile(path)
-    const { kind, delimiter } = await sniffFile(path)
-    const kdb = repo.kyselyOn(client)
-    await kdb.transaction().execute(async () => {
-      const parseTime = createTimeParser(upload.time_zone)
-      let timeCol = 0
-      let cols: { column: number; index: number; name: string }[] = []
-      let rowNo = 0
-      const progress = progressReporter((rowsRead) => repo.setReplayProgress(deps.db, id, { rowsRead }))
-      await copyLines(client, 'COPY process_sample (upload_id, series, t, value) FROM STDIN', async (write) => {
-        for await (const cells of readRows(path, kind, delimiter)) {
-          rowNo++
-          if (rowNo === 1) {
-            const { index } = resolveColumns(
-              cells,
-              ['timestamp'] as const,
-              ['timestamp'] as const,
-              undefined,
-              {},
-              TIME_ALIASES,
-            )
-            timeCol = index.timestamp!
-            cols = seriesOf(cells, timeCol)
-            series = cols.map(({ index, name }) => ({ index, name }))
-            continue
-          }
-          rowsRead++
-          const t = parseTime(cells[timeCol] ?? '')
-          if (t !== t) {
-            rejected++
-            if (rejections.length < 200)
-              rejections.push({
-                row: rowNo,
-                message: `time "${(cells[timeCol] ?? '').slice(0, 40)}" is not a date and time`,
-              })
-            continue
-          }
-          const ts = new Date(t).toISOString()
-          let bad = ''
-          let line = ''
-          for (const c of cols) {
-            const text = cells[c.column] ?? ''
-            if (text === '') continue
-            if (!NUMBER.test(text)) {
-              bad = `${c.name}: "${text.slice(0, 40)}" is not a number`
-              break
+  let series: { index: number; name: string }[] = []
+  await runQueuedLoad(deps, `replay:${id}`, {
+    find: async () => {
+      const upload = await repo.replayUploadById(deps.db, id)
+      series = upload?.series ?? []
+      return upload
+    },
+    markRunning: () => repo.setReplayProgress(deps.db, id, { status: 'running' }),
+    load: async ({ upload, path, client, kind, delimiter, hashing }) => {
+      const kdb = repo.kyselyOn(client)
+      await kdb.transaction().execute(async () => {
+        const parseTime = createTimeParser(upload.time_zone)
+        let timeCol = 0
+        let cols: { column: number; index: number; name: string }[] = []
+        let rowNo = 0
+        const progress = progressReporter((rowsRead) => repo.setReplayProgress(deps.db, id, { rowsRead }))
+        await copyLines(client, 'COPY process_sample (upload_id, series, t, value) FROM STDIN', async (write) => {
+          for await (const cells of readRows(path, kind, delimiter)) {
+            rowNo++
+            if (rowNo === 1) {
+              const { index } = resolveColumns(
+                cells,
+                ['timestamp'] as const,
+                ['timestamp'] as const,
+                undefined,
+                {},
+                TIME_ALIASES,
+              )
+              timeCol = index.timestamp!
+              cols = seriesOf(cells, timeCol)
+              series = cols.map(({ index, name }) => ({ index, name }))
+              continue
             }
-            line += `${id}\t${c.index}\t${ts}\t${text}\n`
+            rowsRead++
+            const t = parseTime(cells[timeCol] ?? '')
+            if (t !== t) {
+              rejected++
+              if (rejections.length < 200)
+                rejections.push({
+                  row: rowNo,
+                  message: `time "${(cells[timeCol] ?? '').slice(0, 40)}" is not a date and time`,
+                })
+              continue
+            }
+            const ts = new Date(t).toISOString()
+            let bad = ''
+            let line = ''
+            for (const c of cols) {
+              const text = cells[c.column] ?? ''
+              if (text === '') continue
+              if (!NUMBER.test(text)) {
+                bad = `${c.name}: "${text.slice(0, 40)}" is not a number`
+                break
+              }
+              line += `${id}\t${c.index}\t${ts}\t${text}\n`
+            }
+            if (bad) {
+              rejected++
+              if (rejections.length < 200) rejections.push({ row: rowNo, message: bad })
+              continue
+            }
+            if (line) {
+              samples += line.split('\n').length - 1
+              if (t < first) first = t
+              if (t > last) last = t
+            }
+            await write(line)
+            await progress(rowsRead)
           }
-          if (bad) {
-            rejected++
-            if (rejections.length < 200) rejections.push({ row: rowNo, message: bad })
-            continue
-          }
-          if (line) {
-            samples += line.split('\n').length - 1
-            if (t < first) first = t
-            if (t > last) last = t
-          }
-          await write(line)
-          await progress(rowsRead)
-        }
+        })
+        if (!samples) throw badFile(`No usable row: ${rejected} of ${rowsRead} rows were rejected; nothing was stored`)
+        checksum = await hashing
+        await repo.finishReplayUpload(kdb, id, {
+          status: 'done',
+          rowsRead,
+          samplesStored: samples,
+          rowsRejected: rejected,
+          rejections,
+          series,
+          error: null,
+          firstAt: new Date(first),
+          lastAt: new Date(last),
+          checksum,
+          now: deps.clock.now(),
+        })
       })
-      if (!samples) throw badFile(`No usable row: ${rejected} of ${rowsRead} rows were rejected; nothing was stored`)
-      checksum = await hashing
-      await repo.finishReplayUpload(kdb, id, {
-        status: 'done',
-        rowsRead,
-        samplesStored: samples,
-        rowsRejected: rejected,
-        rejections,
-        series,
-        error: null,
-        firstAt: new Date(first),
-        lastAt: new Date(last),
-        checksum,
-        now: deps.clock.now(),
-      })
-    })
-  } catch (err) {
-    const message =
-      err instanceof Error && 'status' in err ? err.message : 'The process data could not be loaded; nothing was stored'
-    if (!(err instanceof Error && 'status' in err))
-      logger.error({ component: 'alarms', uploadId: id, err }, 'process data upload failed')
-    await repo
-      .finishReplayUpload(deps.db, id, {
+    },
+    fail: async (err) => {
+      const message = isRefusal(err) ? err.message : 'The process data could not be loaded; nothing was stored'
+      if (!isRefusal(err)) logger.error({ component: 'alarms', uploadId: id, err }, 'process data upload failed')
+      await repo.finishReplayUpload(deps.db, id, {
         status: 'failed',
         rowsRead,
         samplesStored: 0,
@@ -233,28 +234,23 @@ export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> 
         checksum,
         now: deps.clock.now(),
       })
-      .catch(() => undefined)
-  } finally {
-    client.release()
-    running.delete(id)
-    await rm(path, { force: true })
-  }
+    },
+  })
 }
+
+const readableReplay = async (deps: AppDeps, ability: AppAbility, id: number) =>
+  readableUpload(await repo.replayUploadById(deps.db, id), ability, 'Replay', 'Process-data upload')
 
 export async function getReplayUpload(deps: AppDeps, ability: AppAbility, id: number) {
-  const r = await repo.replayUploadById(deps.db, id)
-  if (!r) throw notFound('Process-data upload')
-  ensureVisible(ability, 'Replay', { siteId: r.site_id }, 'Process-data upload')
-  return toDto(r)
+  return toDto(await readableReplay(deps, ability, id))
 }
 
-export async function listReplayUploads(
+export function listReplayUploads(
   deps: AppDeps,
   user: CurrentUser | null,
   q: { siteId?: number; page: number; pageSize: number },
 ): Promise<ListResult<ReplayUpload>> {
-  const { rows, total } = await repo.listReplayUploads(deps.db, scopeSites(user, q.siteId ? [q.siteId] : undefined), q)
-  return { items: rows.map(toDto), total }
+  return uploadsPage((siteIds, page) => repo.listReplayUploads(deps.db, siteIds, page), user, q, toDto)
 }
 
 const iso = (sec: number) => new Date(Math.round(sec * 1000)).toISOString()
@@ -304,9 +300,7 @@ export async function runReplay(
   id: number,
   input: ReplayRunInput,
 ): Promise<ReplayRun> {
-  const upload = await repo.replayUploadById(deps.db, id)
-  if (!upload) throw notFound('Process-data upload')
-  ensureVisible(ability, 'Replay', { siteId: upload.site_id }, 'Process-data upload')
+  const upload = await readableReplay(deps, ability, id)
   if (upload.status !== 'done')
     throw unprocessable('The process data is not loaded yet (or failed); wait for the upload')
   let instrumentId = upload.instrument_id

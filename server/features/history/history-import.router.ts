@@ -2,8 +2,7 @@ import { Router } from 'express'
 import { IdSchema } from '../../../shared/schemas/common.ts'
 import { HistoryUploadFieldsSchema } from '../../../shared/schemas/history-import.ts'
 import type { AppDeps } from '../../deps.ts'
-import { validationFailed } from '../../errors.ts'
-import { mayImport, receiveFile } from '../register/imports.router.ts'
+import { mayImport, receiveFile, uploadedFile } from '../register/imports.router.ts'
 import * as history from './history-import.service.ts'
 
 /**
@@ -15,21 +14,9 @@ export function createHistoryImportsRouter(deps: AppDeps) {
   const router = Router()
 
   router.post('/', mayImport, receiveFile, async (req, res) => {
-    if (!req.file)
-      throw validationFailed(
-        { file: ['Attach the history file (CSV or XLSX) in the form field "file"'] },
-        'Attach the history file (CSV or XLSX) in the form field "file"',
-      )
+    const file = uploadedFile(req, 'history file')
     const fields = HistoryUploadFieldsSchema.parse(req.body ?? {})
-    const result = await history.checkHistoryImport(
-      deps,
-      req.ability,
-      req.audit,
-      req.user!.id,
-      { buffer: req.file.buffer, fileName: req.file.originalname },
-      fields,
-    )
-    res.status(201).json(result)
+    res.status(201).json(await history.checkHistoryImport(deps, req.ability, req.audit, req.user!.id, file, fields))
   })
 
   router.post('/:id/commit', mayImport, async (req, res) => {

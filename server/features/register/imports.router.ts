@@ -1,4 +1,4 @@
-import { type RequestHandler, Router } from 'express'
+import { type Request, type RequestHandler, Router } from 'express'
 import multer from 'multer'
 import { ErrorCode } from '../../../shared/errors.ts'
 import { IdSchema } from '../../../shared/schemas/common.ts'
@@ -41,6 +41,15 @@ export const receiveFile: RequestHandler = (req, res, next) => {
   upload(req, res, (err: unknown) => next(err ? uploadError(err) : undefined))
 }
 
+/** The file of an import upload as the import services read it; 400 naming the `kind` of file when none came. */
+export function uploadedFile(req: Request, kind: string): { buffer: Buffer; fileName: string } {
+  if (!req.file) {
+    const message = `Attach the ${kind} (CSV or XLSX) in the form field "file"`
+    throw validationFailed({ file: [message] }, message)
+  }
+  return { buffer: req.file.buffer, fileName: req.file.originalname }
+}
+
 /** Refuses users who may import nowhere before reading up to 5 MB of their upload. */
 export const mayImport: RequestHandler = (req, _res, next) => {
   authorize(req.ability, 'import', 'Limit')
@@ -52,21 +61,9 @@ export function createImportsRouter(deps: AppDeps) {
   const router = Router()
 
   router.post('/', mayImport, receiveFile, async (req, res) => {
-    if (!req.file)
-      throw validationFailed(
-        { file: ['Attach the register file (CSV or XLSX) in the form field "file"'] },
-        'Attach the register file (CSV or XLSX) in the form field "file"',
-      )
+    const file = uploadedFile(req, 'register file')
     const fields = ImportUploadFieldsSchema.parse(req.body ?? {})
-    const result = await imports.checkImport(
-      deps,
-      req.ability,
-      req.audit,
-      req.user!.id,
-      { buffer: req.file.buffer, fileName: req.file.originalname },
-      fields,
-    )
-    res.status(201).json(result)
+    res.status(201).json(await imports.checkImport(deps, req.ability, req.audit, req.user!.id, file, fields))
   })
 
   router.get('/mapping', mayImport, async (req, res) => {
