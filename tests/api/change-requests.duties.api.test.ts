@@ -4,7 +4,7 @@ import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import type { Role } from '../../shared/schemas/users.ts'
-import { ApiAgent, signedIn, signedInAs } from './helpers/agent.ts'
+import { ApiAgent, signedIn, signedInAs, newAccount } from './helpers/agent.ts'
 import {
   approveChange,
   buildActiveHeaterTrip,
@@ -30,20 +30,12 @@ let fhr: number
 
 /** A user of the demo plant's refinery with the given roles there, signed in. */
 async function person(email: string, name: string, roles: Role[]) {
-  const admin = await signedIn(app, 'admin')
-  const created = (
-    await admin
-      .post('/api/users', {
-        email,
-        displayName: name,
-        password: 'separate-duties-password',
-        roles: roles.map((role) => ({ siteId: fhr, role })),
-      })
-      .expect(201)
-  ).body
-  const agent = new ApiAgent(app)
-  await agent.signIn(email, 'separate-duties-password')
-  return { agent, id: created.id as number }
+  return newAccount(app, await signedIn(app, 'admin'), {
+    email,
+    displayName: name,
+    password: 'separate-duties-password',
+    roles: roles.map((role) => ({ siteId: fhr, role })),
+  })
 }
 
 beforeAll(async () => {

@@ -2,7 +2,7 @@ import type { Express } from 'express'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { ApiAgent, signedIn } from './helpers/agent.ts'
+import { ApiAgent, signedIn, newAccount } from './helpers/agent.ts'
 import { approveChange, buildHeaterTrip, implementChange, rowCounts, submitChange } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -21,16 +21,12 @@ let fhr: { id: number }
 const PW = 'reviewer account password 7'
 const passwords = new Map<ApiAgent, string>()
 async function person(email: string, roles: string[]) {
-  await as.admin
-    .post('/api/users', {
-      email,
-      displayName: email.split('@')[0],
-      password: PW,
-      roles: roles.map((role) => ({ siteId: fhr.id, role })),
-    })
-    .expect(201)
-  const a = new ApiAgent(app)
-  await a.signIn(email, PW)
+  const { agent: a } = await newAccount(app, as.admin, {
+    email,
+    displayName: email.split('@')[0],
+    password: PW,
+    roles: roles.map((role) => ({ siteId: fhr.id, role })),
+  })
   passwords.set(a, PW)
   return a
 }

@@ -8,7 +8,7 @@ import pg from 'pg'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { REGISTER_COLUMNS, type RegisterColumnKey } from '../../shared/schemas/register-io.ts'
-import { ApiAgent, signedIn } from './helpers/agent.ts'
+import { ApiAgent, signedIn, newAccount } from './helpers/agent.ts'
 import { readyToImplement, countActionEvents, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -238,16 +238,12 @@ describe('POST /api/imports (dry run)', () => {
 
     // another safety engineer has no remembered mapping
     const admin = await signedIn(app, 'admin')
-    await admin
-      .post('/api/users', {
-        email: 'second-engineer@fernhollow.example',
-        displayName: 'Second Engineer',
-        password: 'a-long-enough-password',
-        roles: [{ siteId: fhr, role: 'safety_engineer' }],
-      })
-      .expect(201)
-    const other = new ApiAgent(app)
-    await other.signIn('second-engineer@fernhollow.example', 'a-long-enough-password')
+    const { agent: other } = await newAccount(app, admin, {
+      email: 'second-engineer@fernhollow.example',
+      displayName: 'Second Engineer',
+      password: 'a-long-enough-password',
+      roles: [{ siteId: fhr, role: 'safety_engineer' }],
+    })
     const res = await upload(other, text, { siteId: fhr }).expect(400)
     expect(res.body.error.details.missing).toHaveLength(4)
   })

@@ -2,7 +2,7 @@ import type { Express } from 'express'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { ApiAgent, signedIn } from './helpers/agent.ts'
+import { ApiAgent, signedIn, newAccount } from './helpers/agent.ts'
 import { buildHeaterTrip, countActionEvents, countRows, passingHeaterTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -49,16 +49,14 @@ beforeAll(async () => {
     a[who] = await signedIn(app, account[who] ?? who)
   const sites = (await a.admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const fhr = sites.find((s) => s.code === 'FHR')!.id
-  await a.admin
-    .post('/api/users', {
+  a.tech2 = (
+    await newAccount(app, a.admin, {
       email: 'tech2@fernhollow.example',
       displayName: 'Rune Calder',
       password: TECH2_PW,
       roles: [{ siteId: fhr, role: 'technician' }],
     })
-    .expect(201)
-  a.tech2 = new ApiAgent(app)
-  await a.tech2.signIn('tech2@fernhollow.example', TECH2_PW)
+  ).agent
 
   const { limit } = await buildHeaterTrip(a.eng)
   await activateLimit({ eng: a.eng, approver: a.approver, tech: a.tech }, limit)

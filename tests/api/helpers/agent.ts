@@ -61,6 +61,21 @@ export async function signedIn(app: Express, who: string): Promise<ApiAgent> {
   return a
 }
 
+/**
+ * A new account made by the administrator (POST /api/users) and signed in with a session of its own; answers its
+ * agent and its id.
+ */
+export async function newAccount(
+  app: Express,
+  admin: ApiAgent,
+  account: { email: string; displayName: string; password: string; roles: { siteId: number; role: string }[] },
+) {
+  const id = (await admin.post('/api/users', account).expect(201)).body.id as number
+  const agent = new ApiAgent(app)
+  await agent.signIn(account.email, account.password)
+  return { agent, id }
+}
+
 /** Demo accounts signed in under the test's own names (`{ eng: 'engineer' }`), one session each. */
 export async function signedInAs<const W extends Record<string, string>>(app: Express, who: W) {
   const as = {} as Record<keyof W, ApiAgent>
