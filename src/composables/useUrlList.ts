@@ -1,5 +1,5 @@
 import { type EntryKey, useQuery } from '@pinia/colada'
-import { ref, watch, type WatchSource } from 'vue'
+import { computed, ref, watch, type WatchSource } from 'vue'
 import { type LocationQueryRaw, type LocationQueryValue, useRoute, useRouter } from 'vue-router'
 import { useNotificationsStore } from '@/stores/notifications'
 
@@ -28,6 +28,9 @@ export const queryOneOf = <T extends string>(v: QueryValue, allowed: readonly T[
   queryList(v).filter((x): x is T => (allowed as readonly string[]).includes(x))
 /** A calendar day `YYYY-MM-DD`, or ''. */
 export const queryDay = (v: QueryValue): string => (/^\d{4}-\d{2}-\d{2}$/.test(queryText(v)) ? queryText(v) : '')
+
+/** The row type of a page answer `{ items, total }`. */
+type RowOf<T> = T extends { items: readonly (infer R)[] } ? R : never
 
 export interface UrlListOptions<T> {
   /** the cache key of one page, from the resource's keys in its api module */
@@ -78,5 +81,18 @@ export function useUrlList<T>(o: UrlListOptions<T>) {
   watch(list.error, (e) => {
     if (e) notify.error(e)
   })
-  return { page, pageSize, ...list }
+  const items = computed(() => (list.data.value as { items?: RowOf<T>[] } | undefined)?.items ?? [])
+  const total = computed(() => (list.data.value as { total?: number } | undefined)?.total ?? 0)
+  /** what the screen's v-data-table-server binds (`v-bind="table"`): rows, count, loading, page and page size */
+  const table = computed(() => ({
+    items: items.value,
+    itemsLength: total.value,
+    loading: list.isLoading.value,
+    page: page.value,
+    itemsPerPage: pageSize.value,
+    itemsPerPageOptions: o.pageSizes,
+    'onUpdate:page': (p: number) => (page.value = p),
+    'onUpdate:itemsPerPage': (n: number) => (pageSize.value = n),
+  }))
+  return { page, pageSize, items, total, loading: list.isLoading, table, ...list }
 }

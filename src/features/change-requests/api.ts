@@ -25,6 +25,7 @@ export const changeRequestKeys = {
   all: ['change-requests'] as const,
   /** the requests touching a limit, for the limit page */
   limit: (limitId: number) => ['change-requests', 'limit', limitId] as const,
+  list: (q: ChangeListQuery) => ['change-requests', 'list', JSON.stringify(q)] as const,
 }
 /** An item as the form sends it. */
 export type ChangeItemBody = ChangeItemInput
@@ -35,9 +36,8 @@ export type ChangeAuditEvent = Pick<AuditEventDto, 'id' | 'at' | 'actorName' | '
 export type InstrumentRecord = Instrument & { revision: number }
 
 /** The list's query; `status` and `type` may be the URL's text as the list view read it (the server checks them). */
-export const listChangeRequests = (
-  query: Omit<ChangeListParams, 'status' | 'type'> & { status?: string[]; type?: string[] },
-) => http.get<ChangeList>('/change-requests', { ...query })
+export type ChangeListQuery = Omit<ChangeListParams, 'status' | 'type'> & { status?: string[]; type?: string[] }
+export const listChangeRequests = (query: ChangeListQuery) => http.get<ChangeList>('/change-requests', { ...query })
 export const getWaitingCount = () => http.get<{ count: number }>('/change-requests/waiting-count')
 export const getChangeRequest = (id: number) => http.get<ChangeRequestDto>(`/change-requests/${id}`)
 export const createChangeRequest = (body: CreateChangeRequestBody) =>

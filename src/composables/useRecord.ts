@@ -1,0 +1,27 @@
+import { type EntryKey, useQuery, useQueryCache } from '@pinia/colada'
+import { computed } from 'vue'
+import { messageOf } from '@/api/errors'
+
+// The record of a detail screen, loaded through Pinia Colada under its resource's key. `changed` takes the answer of
+// a mutation (the record as it is now): it goes into the cache and the resource's lists are fetched again.
+
+export interface RecordOptions<T> {
+  /** the record's id (from the route) */
+  id: () => number
+  key: (id: number) => EntryKey
+  query: (id: number) => Promise<T>
+  /** the key every query of the resource starts with */
+  all: EntryKey
+}
+
+export function useRecord<T extends { id: number }>(o: RecordOptions<T>) {
+  const { data, error, isLoading, refetch } = useQuery({ key: () => o.key(o.id()), query: () => o.query(o.id()) })
+  /** why the record could not be loaded, as a sentence ('' while it could) */
+  const loadError = computed(() => (error.value ? messageOf(error.value) : ''))
+  const queryCache = useQueryCache()
+  function changed(record: T) {
+    queryCache.setQueryData(o.key(record.id), record)
+    void queryCache.invalidateQueries({ key: o.all })
+  }
+  return { record: data, loadError, loading: isLoading, refetch, changed, queryCache }
+}
