@@ -1,9 +1,10 @@
-import { type EntryKey, useQuery, useQueryCache } from '@pinia/colada'
+import { type EntryKey, toCacheKey, useQuery, useQueryCache } from '@pinia/colada'
 import { computed } from 'vue'
 import { messageOf } from '@/api/errors'
 
 // The record of a detail screen, loaded through Pinia Colada under its resource's key. `changed` takes the answer of
-// a mutation (the record as it is now): it goes into the cache and the resource's lists are fetched again.
+// a mutation (the record as it is now): it goes into the cache and the resource's other queries (its lists) are
+// fetched again.
 
 export interface RecordOptions<T> {
   /** the record's id (from the route) */
@@ -20,8 +21,9 @@ export function useRecord<T extends { id: number }>(o: RecordOptions<T>) {
   const loadError = computed(() => (error.value ? messageOf(error.value) : ''))
   const queryCache = useQueryCache()
   function changed(record: T) {
-    queryCache.setQueryData(o.key(record.id), record)
-    void queryCache.invalidateQueries({ key: o.all })
+    const own = o.key(record.id)
+    queryCache.setQueryData(own, record)
+    void queryCache.invalidateQueries({ key: o.all, predicate: (e) => e.keyHash !== toCacheKey(own) })
   }
   return { record: data, loadError, loading: isLoading, refetch, changed, queryCache }
 }

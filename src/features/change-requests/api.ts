@@ -26,6 +26,7 @@ export const changeRequestKeys = {
   /** the requests touching a limit, for the limit page */
   limit: (limitId: number) => ['change-requests', 'limit', limitId] as const,
   list: (q: ChangeListQuery) => ['change-requests', 'list', JSON.stringify(q)] as const,
+  one: (id: number) => ['change-requests', id] as const,
 }
 /** An item as the form sends it. */
 export type ChangeItemBody = ChangeItemInput
