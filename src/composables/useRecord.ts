@@ -6,24 +6,29 @@ import { messageOf } from '@/api/errors'
 // a mutation (the record as it is now): it goes into the cache and the resource's other queries (its lists) are
 // fetched again.
 
-export interface RecordOptions<T> {
-  /** the record's id (from the route) */
-  id: () => number
-  key: (id: number) => EntryKey
-  query: (id: number) => Promise<T>
+export interface RecordKeys {
   /** the key every query of the resource starts with */
   all: EntryKey
+  one: (id: number) => EntryKey
 }
 
-export function useRecord<T extends { id: number }>(o: RecordOptions<T>) {
-  const { data, error, isLoading, refetch } = useQuery({ key: () => o.key(o.id()), query: () => o.query(o.id()) })
+/** `id` gives the record's id (the route's param); `query` fetches the record. */
+export function useRecord<T extends { id: number }>(
+  id: () => number | string,
+  query: (id: number) => Promise<T>,
+  keys: RecordKeys,
+) {
+  const { data, error, isLoading, refetch } = useQuery({
+    key: () => keys.one(Number(id())),
+    query: () => query(Number(id())),
+  })
   /** why the record could not be loaded, as a sentence ('' while it could) */
   const loadError = computed(() => (error.value ? messageOf(error.value) : ''))
   const queryCache = useQueryCache()
   function changed(record: T) {
-    const own = o.key(record.id)
+    const own = keys.one(record.id)
     queryCache.setQueryData(own, record)
-    void queryCache.invalidateQueries({ key: o.all, predicate: (e) => e.keyHash !== toCacheKey(own) })
+    void queryCache.invalidateQueries({ key: keys.all, predicate: (e) => e.keyHash !== toCacheKey(own) })
   }
   return { record: data, loadError, loading: isLoading, refetch, changed, queryCache }
 }
