@@ -1,3 +1,4 @@
+import type { RouteLocationRaw } from 'vue-router'
 import type { Verdict } from '@shared/domain/rules/verdict.ts'
 
 /** One workflow action of a record's page, as AppRuleActions shows it: offered and allowed by the rule book. */
@@ -11,5 +12,7 @@ export interface RuleAction {
   variant?: 'flat' | 'outlined' | 'tonal' | 'text'
   loading?: boolean
   size?: 'small' | 'default'
-  run: () => void
+  /** what the button does: opens a page (`to`, a link) or runs */
+  to?: RouteLocationRaw
+  run?: () => void
 }
