@@ -126,3 +126,10 @@ export const http = {
   put: <T>(url: string, body: unknown) => api<T>('PUT', url, body),
   delete: <T>(url: string) => api<T>('DELETE', url),
 }
+
+/** Uploads a record's attachment (POST `<record>/attachments`, the file as `file`) and reports its progress (0…1). */
+export function uploadAttachmentOf(record: string, file: File, onProgress: (fraction: number) => void) {
+  const form = new FormData()
+  form.append('file', file)
+  return uploadWithProgress<{ id: number; fileName: string }>(`${record}/attachments`, form, onProgress)
+}

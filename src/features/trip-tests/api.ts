@@ -19,7 +19,7 @@ import type {
   TripTestListItem,
   TripTestListParams,
 } from '@shared/schemas/trip-tests.ts'
-import { api, http, toQuery, uploadWithProgress } from '@/api/client'
+import { api, http, toQuery, uploadAttachmentOf } from '@/api/client'
 
 export type TestStatus = Limit['testStatus']
 export type { SignatureMeaning } from '@shared/schemas/trip-tests.ts'
@@ -77,15 +77,8 @@ export const certificateUrl = (id: number) => `/api/trip-tests/${id}/certificate
 export const attachmentUrl = (id: number, attachmentId: number) => `/api/trip-tests/${id}/attachments/${attachmentId}`
 
 /** Uploads an attachment and reports the upload's progress (0…1). */
-export function uploadAttachment(
-  id: number,
-  file: File,
-  onProgress: (fraction: number) => void,
-): Promise<{ id: number; fileName: string }> {
-  const form = new FormData()
-  form.append('file', file)
-  return uploadWithProgress(`/trip-tests/${id}/attachments`, form, onProgress)
-}
+export const uploadAttachment = (id: number, file: File, onProgress: (fraction: number) => void) =>
+  uploadAttachmentOf(`/trip-tests/${id}`, file, onProgress)
 
 // Test deferrals (docs/trip-tests.md#test-deferrals)
 export const listDeferrals = (query: TestDeferralListParams) =>
