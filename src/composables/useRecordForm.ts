@@ -16,9 +16,10 @@ export interface RecordFormOptions<Rec, S extends z.ZodType> {
   toInput: () => unknown
   /** Messages for a field left empty (a picker), by key. */
   missing?: Record<string, string>
-  load: (id: number) => Promise<Rec>
+  /** Loads the record to edit (a form that only creates has none). */
+  load?: (id: number) => Promise<Rec>
   /** Fills the form from the loaded record. */
-  fill: (rec: Rec) => void | Promise<void>
+  fill?: (rec: Rec) => void | Promise<void>
   /** A new record's form with the only site the user has (when there is one). */
   chooseSite: (siteId: number) => void
   /** Creates the record, or saves the edited one. */
@@ -42,11 +43,12 @@ export function useRecordForm<Rec, S extends z.ZodType>(o: RecordFormOptions<Rec
   })
 
   async function loadForEdit(id: number) {
+    if (!o.load) return
     try {
       const rec = await o.load(id)
       editing.value = rec
       await sites.load()
-      await o.fill(rec)
+      await o.fill?.(rec)
     } catch (e) {
       loadError.value = messageOf(e)
     }
