@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import type { ApiAgent } from './helpers/agent.ts'
 import { signedIn } from './helpers/agent.ts'
-import { buildActiveHeaterTrip } from './helpers/factories.ts'
+import { approveChange, buildActiveHeaterTrip, implementChange, submitChange } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // Change proposals (docs/change-requests.md#change-proposals): operators, technicians and shift supervisors raise
@@ -57,6 +57,23 @@ describe('change proposals', () => {
     const mine = (await as.operator.get(`/api/change-proposals?mine=true&siteId=${site.id}`).expect(200)).body
     expect(mine.items.every((p: { proposerName: string }) => p.proposerName === mine.items[0].proposerName)).toBe(true)
     await as.auditor.get('/api/change-proposals?status=nonsense').expect(400)
+  })
+
+  it('are not raised about a retired limit (docs/register.md#the-rule-book)', async () => {
+    const crew = { eng: as.engineer, approvers: [as.approver], tech: as.technician }
+    const { site, limit } = await buildActiveHeaterTrip(crew)
+    const retire = await submitChange(as.engineer, {
+      siteId: site.id,
+      title: `Retire ${limit.tag}`,
+      items: [{ kind: 'retire', limitId: limit.id }],
+    })
+    await implementChange(as.technician, await approveChange([as.approver], retire))
+    expect((await as.engineer.get(`/api/limits/${limit.id}`).expect(200)).body.status).toBe('retired')
+    const body = { siteId: site.id, limitId: limit.id, title: 'Lower the trip', reason: 'Drift seen at the last test' }
+    const refused = (await as.operator.post('/api/change-proposals', body).expect(409)).body
+    expect(refused.error).toMatchObject({ code: 'INVALID_STATE', message: expect.stringContaining('retired') })
+    const listed = (await as.auditor.get(`/api/change-proposals?limitId=${limit.id}`).expect(200)).body
+    expect(listed.total).toBe(0)
   })
 
   it('is taken up by a safety engineer into a change request, or declined with a reason, once', async () => {

@@ -60,8 +60,14 @@ export async function listProposals(
   return { total: Number(n), rows }
 }
 
+/** The limit a proposal is about, held against a concurrent retirement until the proposal is written. */
 export async function limitSite(db: Q, limitId: number) {
-  return db.selectFrom('limit_function').select(['site_id']).where('id', '=', limitId).executeTakeFirst()
+  return db
+    .selectFrom('limit_function')
+    .select(['site_id', 'tag', 'status'])
+    .where('id', '=', limitId)
+    .forShare()
+    .executeTakeFirst()
 }
 
 export async function insertProposal(

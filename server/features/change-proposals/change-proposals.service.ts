@@ -9,6 +9,7 @@ import type {
   ChangeProposalListQuery,
   CreateChangeProposalInput,
 } from '../../../shared/schemas/change-proposals.ts'
+import { notRetiredVerdict } from '../../../shared/domain/rules/limits.ts'
 import { ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, notFound, validationFailed } from '../../errors.ts'
@@ -69,6 +70,7 @@ export async function createProposal(
       const limit = await repo.limitSite(trx, input.limitId)
       if (!limit || limit.site_id !== input.siteId)
         throw validationFailed({ limitId: ['Choose a limit of the same site'] })
+      enforce(notRetiredVerdict(limit))
     }
     const newId = await repo.insertProposal(trx, { ...input, proposerId: ctx.actorId!, now: deps.clock.now() })
     const engineers = await findUsersWithRole(trx, input.siteId, ['safety_engineer'])

@@ -31,6 +31,7 @@ import {
   UpdateLimitInputSchema,
 } from '../../../shared/schemas/register.ts'
 import { parsePatch, safeParsePatch } from '../../../shared/schemas/common.ts'
+import { changeableVerdict, commissionableVerdict } from '../../../shared/domain/rules/limits.ts'
 import {
   type ChangeAction,
   type ChangeActor,
@@ -44,7 +45,7 @@ import { authorize, ensureVisible } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
-import { AppError, conflict, enforce, invalidState, notFound, validationFailed } from '../../errors.ts'
+import { AppError, conflict, enforce, notFound, validationFailed } from '../../errors.ts'
 import { attachmentFacts, listAttachments, storeAttachment } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
@@ -184,8 +185,7 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
   if (limit.siteId !== siteId) throw validationFailed({ items: [`Limit ${limit.tag} belongs to another site`] })
   const before = limit.operatingWindow
   if (input.kind === 'create') {
-    if (limit.status !== 'proposed')
-      throw invalidState(`Limit ${limit.tag} is ${limit.status}; only a proposed limit can be created by a change`)
+    enforce(commissionableVerdict(limit))
     const snap = limitSnapshot(limit)
     const changes: PreparedItem['changes'] = {}
     for (const k of Object.keys(snap))
@@ -203,8 +203,7 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
       read_back_expected: stateOnDevice(limit.limitClass, limit.priority),
     }
   }
-  if (limit.status !== 'active')
-    throw invalidState(`Limit ${limit.tag} is ${limit.status}; a draft is edited in the register, not through a change`)
+  enforce(changeableVerdict(limit))
   if (input.kind === 'retire') {
     return {
       kind: 'retire',
@@ -986,7 +985,7 @@ async function applyItem(
       `Limit ${limit.tag} changed since this request was written (revision ${item.base_revision} → ${limit.revision}); revise the request`,
     )
   if (item.kind === 'create') {
-    if (limit.status !== 'proposed') throw invalidState(`Limit ${limit.tag} is already ${limit.status}`)
+    enforce(commissionableVerdict(limit))
     await applyLimitDefinition(
       trx,
       deps.clock,

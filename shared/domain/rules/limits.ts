@@ -64,6 +64,33 @@ export function draftVerdict(l: Pick<LimitRuleRecord, 'tag' | 'status'>): Verdic
   )
 }
 
+/**
+ * Only a draft (proposed) limit is put in service by a change request's create item (the state half of
+ * `proposeCommissioning`, also checked when the item is added).
+ */
+export function commissionableVerdict(l: Pick<LimitRuleRecord, 'tag' | 'status'>): Verdict {
+  return l.status === 'proposed'
+    ? allow
+    : blocked(`Limit ${l.tag} is ${l.status}; only a draft (proposed) limit is put in service by a change request.`)
+}
+
+/**
+ * Only an active limit is changed or retired by a change request's item (the state half of `proposeChange`, also
+ * checked when the item is added): a draft is edited in the register, a retired limit changes no more.
+ */
+export function changeableVerdict(l: Pick<LimitRuleRecord, 'tag' | 'status'>): Verdict {
+  if (l.status === 'retired') return notRetiredVerdict(l)
+  if (l.status === 'active') return allow
+  return blocked(`Limit ${l.tag} is a draft: it is edited in the register, or put in service by a change request.`)
+}
+
+/** A retired limit is kept for the record: no change request, proposal or edit reaches it. */
+export function notRetiredVerdict(l: Pick<LimitRuleRecord, 'tag' | 'status'>): Verdict {
+  return l.status === 'retired'
+    ? blocked(`Limit ${l.tag} is retired and kept for the record; it changes no more.`)
+    : allow
+}
+
 const roleFor = (ok: boolean, reason: string) => () => (ok ? allow : forbid(reason))
 
 /**
@@ -80,8 +107,6 @@ const roleFor = (ok: boolean, reason: string) => () => (ok ? allow : forbid(reas
  */
 export function limitRules(l: LimitRuleRecord, actor: LimitActor): Verdicts<LimitAction> {
   const draft = (refusal: string) => () => (l.status === 'proposed' ? allow : blocked(refusal))
-  const notRetired = () =>
-    l.status === 'retired' ? blocked(`Limit ${l.tag} is retired and kept for the record; it changes no more.`) : allow
   return {
     edit: firstRefusal(
       roleFor(can(actor, 'update', 'Limit', l.siteId), 'Only a safety engineer of this site edits a draft limit.'),
@@ -96,25 +121,21 @@ export function limitRules(l: LimitRuleRecord, actor: LimitActor): Verdicts<Limi
         can(actor, 'create', 'ChangeRequest', l.siteId),
         'Only a safety engineer of this site proposes a change request.',
       ),
-      notRetired,
-      () =>
-        l.status === 'active'
-          ? allow
-          : blocked(`Limit ${l.tag} is a draft: it is edited in the register, or put in service by a change request.`),
+      () => changeableVerdict(l),
     ),
     proposeCommissioning: firstRefusal(
       roleFor(
         can(actor, 'create', 'ChangeRequest', l.siteId),
         'Only a safety engineer of this site proposes a change request.',
       ),
-      draft(`Limit ${l.tag} is ${l.status}; only a draft (proposed) limit is put in service by a change request.`),
+      () => commissionableVerdict(l),
     ),
     raiseProposal: firstRefusal(
       roleFor(
         can(actor, 'create', 'ChangeProposal', l.siteId),
         'Operators, technicians, control engineers and shift supervisors of this site raise change proposals.',
       ),
-      notRetired,
+      () => notRetiredVerdict(l),
     ),
     recordTripTest: firstRefusal(
       roleFor(can(actor, 'record', 'TripTest', l.siteId), 'Only a maintenance technician of this site records tests.'),
