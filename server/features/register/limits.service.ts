@@ -218,6 +218,7 @@ export async function insertLimit(
     action: 'limit.create',
     entityType: 'Limit',
     entityId: id,
+    siteId: process.site_id,
     after: limitSnapshot(limit),
     batchId,
   })
@@ -295,6 +296,7 @@ export async function applyLimitDefinition(
     action: opts.action,
     entityType: 'Limit',
     entityId: before.id,
+    siteId: before.siteId,
     before: limitSnapshot(before),
     after: limitSnapshot(after),
     reason: opts.reason,
@@ -318,6 +320,7 @@ export async function deleteLimit(deps: AppDeps, ability: AppAbility, ctx: Audit
       action: 'limit.delete',
       entityType: 'Limit',
       entityId: id,
+      siteId: before.siteId,
       before: limitSnapshot(before),
     })
   })
