@@ -1,9 +1,6 @@
-import { execFile } from 'node:child_process'
 import { mkdtemp, readdir, readFile, writeFile } from 'node:fs/promises'
 import os from 'node:os'
 import path from 'node:path'
-import { fileURLToPath } from 'node:url'
-import { promisify } from 'node:util'
 import pg from 'pg'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { dataHash, sealHash } from '../../server/features/audit/audit.hash.ts'
@@ -14,31 +11,19 @@ import {
   sealAll,
   verifyAuditChain,
 } from '../../server/features/audit/audit.repository.ts'
+import { runCli } from './helpers/start-process.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // The audit trail beyond the database's reach: keyed links (HMAC-SHA256, RFC 2104) with a key the database never
 // holds, and Ed25519 (RFC 8032) signed checkpoints of the head kept outside PostgreSQL. 21 CFR 11.10(e): an audit
 // trail whose records cannot be altered unseen.
 const ctx = useTestDb()
-const run = promisify(execFile)
-const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..')
 const noActor = { actorId: null, requestId: null, ip: null }
 let dir = ''
 let su: pg.Client
 
-async function cli(script: 'audit-verify' | 'audit-checkpoint'): Promise<{ code: number; out: string }> {
-  try {
-    const { stdout } = await run(process.execPath, ['--import', 'tsx', `server/cli/${script}.ts`], {
-      cwd: root,
-      env: { ...process.env, DATABASE_URL: ctx.database.appUrl, AUDIT_CHECKPOINT_DIR: dir },
-      timeout: 60_000,
-    })
-    return { code: 0, out: stdout }
-  } catch (err) {
-    const e = err as { code?: number; stdout?: string; stderr?: string }
-    return { code: typeof e.code === 'number' ? e.code : -1, out: `${e.stdout ?? ''}${e.stderr ?? ''}` }
-  }
-}
+const cli = (script: 'audit-verify' | 'audit-checkpoint') =>
+  runCli(script, { ...process.env, DATABASE_URL: ctx.database.appUrl, AUDIT_CHECKPOINT_DIR: dir })
 
 /** Runs statements as a superuser with the append-only triggers off, as an attacker holding the database would. */
 async function asSuperuser(statements: [string, unknown[]][]) {

@@ -1,7 +1,6 @@
-import { execFile, spawn } from 'node:child_process'
+import { spawn } from 'node:child_process'
 import path from 'node:path'
 import { fileURLToPath } from 'node:url'
-import { promisify } from 'node:util'
 import { sql } from 'kysely'
 import pg from 'pg'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
@@ -16,10 +15,10 @@ import {
   verifyAuditChain,
 } from '../../server/features/audit/audit.repository.ts'
 import { ApiAgent } from './helpers/agent.ts'
+import { runCli } from './helpers/start-process.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
-const run = promisify(execFile)
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..')
 const noActor = { actorId: null, requestId: null, ip: null }
 
@@ -66,21 +65,8 @@ async function sqlState(client: pg.Client, text: string): Promise<string | null>
 }
 
 /** Runs `npm run audit:verify` (its script, without npm) against this file's database. */
-async function auditVerifyCli(
-  env: NodeJS.ProcessEnv = { ...process.env, DATABASE_URL: ctx.database.appUrl },
-): Promise<{ code: number; out: string }> {
-  try {
-    const { stdout } = await run(process.execPath, ['--import', 'tsx', 'server/cli/audit-verify.ts'], {
-      cwd: root,
-      env,
-      timeout: 60_000,
-    })
-    return { code: 0, out: stdout }
-  } catch (err) {
-    const e = err as { code?: number; stdout?: string; stderr?: string }
-    return { code: typeof e.code === 'number' ? e.code : -1, out: `${e.stdout ?? ''}${e.stderr ?? ''}` }
-  }
-}
+const auditVerifyCli = (env: NodeJS.ProcessEnv = { ...process.env, DATABASE_URL: ctx.database.appUrl }) =>
+  runCli('audit-verify', env)
 
 // 21 CFR 11.10(e): secure, computer-generated, time-stamped audit trail that operators cannot alter
 describe('the runtime role and the audit table', () => {

@@ -1,4 +1,7 @@
-import { type ChildProcess, spawn } from 'node:child_process'
+import { type ChildProcess, execFile, spawn } from 'node:child_process'
+import path from 'node:path'
+import { fileURLToPath } from 'node:url'
+import { promisify } from 'node:util'
 
 /**
  * Runs `server/start.ts` (or `npm start`) with `env` over this process's environment, collecting what it writes;
@@ -48,4 +51,22 @@ export function exited(child: ChildProcess): Promise<number | null> {
     if (child.exitCode !== null || child.signalCode !== null) resolve(child.exitCode)
     else child.once('exit', (code) => resolve(code))
   })
+}
+
+const runFile = promisify(execFile)
+const repoRoot = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../..')
+
+/** Runs one of the command-line scripts in server/cli (as its npm script does, without npm) with `env`. */
+export async function runCli(script: string, env: NodeJS.ProcessEnv): Promise<{ code: number; out: string }> {
+  try {
+    const { stdout } = await runFile(process.execPath, ['--import', 'tsx', `server/cli/${script}.ts`], {
+      cwd: repoRoot,
+      env,
+      timeout: 60_000,
+    })
+    return { code: 0, out: stdout }
+  } catch (err) {
+    const e = err as { code?: number; stdout?: string; stderr?: string }
+    return { code: typeof e.code === 'number' ? e.code : -1, out: `${e.stdout ?? ''}${e.stderr ?? ''}` }
+  }
 }
