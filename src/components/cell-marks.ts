@@ -1,4 +1,4 @@
-import { type FunctionalComponent, h } from 'vue'
+import { type FunctionalComponent, type PropType, h } from 'vue'
 import './cell-marks.css'
 
 /**
@@ -62,4 +62,9 @@ export const AppCellChip: FunctionalComponent<CellChipProps> = (p, { slots }) =>
     [p.icon ? h(AppCellIcon, { icon: p.icon, size: 16, class: 'app-cell-chip__icon' }) : null, slots.default?.()],
   )
 }
-AppCellChip.props = { color: String, variant: String, label: Boolean, icon: String }
+AppCellChip.props = {
+  color: String,
+  variant: String as PropType<CellChipProps['variant']>,
+  label: Boolean,
+  icon: String,
+}
