@@ -40,11 +40,14 @@ describe('LimitFormView', () => {
 
     const note = w.find('[data-test="active-note"]')
     const save = w.find<HTMLButtonElement>('[data-test="save-limit"]').element
+    const title = w.get('[data-test="limit-form-title"]').text()
     if (reason === null) {
+      expect(title).toBe('Edit draft TSHH-101')
       expect(note.exists()).toBe(false)
       expect(inputOf(w, 'field-tag').disabled).toBe(false)
       expect(save.disabled).toBe(false)
     } else {
+      expect(title).toBe('Limit TSHH-101 (read only)')
       expect(note.text()).toBe(reason)
       expect(inputOf(w, 'field-tag').disabled).toBe(true)
       expect(save.disabled).toBe(true)
