@@ -1,7 +1,7 @@
 import { readFile } from 'node:fs/promises'
 import type { Browser, Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
-import { readyToImplement, useBrowserApp } from './helpers.ts'
+import { choose, readyToImplement, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
 const PW = 'limitkeeper-demo'
@@ -190,11 +190,10 @@ describe('trip tests in the browser', () => {
     await page.locator('[data-test="precaution-is-calibrator-yes"]').click()
     await page.locator('[data-test="precaution-gas-test-yes"]').click()
     // the methods that drive a real trip say so, and ask that operations expect it
-    await page.locator('[data-test="method"]').click()
-    await page.getByRole('option', { name: 'Setpoint moved across the process value' }).click()
+    // (choose waits for the menu to open and close, so the choice is not lost to its animation on a busy machine)
+    await choose(page, 'method', 'Setpoint moved across the process value')
     expect(await page.locator('[data-test="real-trip-warning"]').textContent()).toContain('A real trip will happen')
-    await page.locator('[data-test="method"]').click()
-    await page.getByRole('option', { name: 'Signal injection' }).click()
+    await choose(page, 'method', 'Signal injection')
     await page.locator('[data-test="real-trip-warning"]').waitFor({ state: 'detached' })
 
     await field(page, 'performed-at').fill('2026-09-14T09:30')
