@@ -107,6 +107,11 @@ const roleFor = (ok: boolean, reason: string) => () => (ok ? allow : forbid(reas
  */
 export function limitRules(l: LimitRuleRecord, actor: LimitActor): Verdicts<LimitAction> {
   const draft = (refusal: string) => () => (l.status === 'proposed' ? allow : blocked(refusal))
+  // both kinds of change request are proposed by the same role
+  const changeRequester = roleFor(
+    can(actor, 'create', 'ChangeRequest', l.siteId),
+    'Only a safety engineer of this site proposes a change request.',
+  )
   return {
     edit: firstRefusal(
       roleFor(can(actor, 'update', 'Limit', l.siteId), 'Only a safety engineer of this site edits a draft limit.'),
@@ -116,20 +121,8 @@ export function limitRules(l: LimitRuleRecord, actor: LimitActor): Verdicts<Limi
       roleFor(can(actor, 'delete', 'Limit', l.siteId), 'Only a safety engineer of this site deletes a draft limit.'),
       draft('Only draft (proposed) limits can be deleted; retire an active limit through a change request'),
     ),
-    proposeChange: firstRefusal(
-      roleFor(
-        can(actor, 'create', 'ChangeRequest', l.siteId),
-        'Only a safety engineer of this site proposes a change request.',
-      ),
-      () => changeableVerdict(l),
-    ),
-    proposeCommissioning: firstRefusal(
-      roleFor(
-        can(actor, 'create', 'ChangeRequest', l.siteId),
-        'Only a safety engineer of this site proposes a change request.',
-      ),
-      () => commissionableVerdict(l),
-    ),
+    proposeChange: firstRefusal(changeRequester, () => changeableVerdict(l)),
+    proposeCommissioning: firstRefusal(changeRequester, () => commissionableVerdict(l)),
     raiseProposal: firstRefusal(
       roleFor(
         can(actor, 'create', 'ChangeProposal', l.siteId),
