@@ -37,29 +37,50 @@ export const EVENT_ARRAY = `id, (extract(epoch FROM occurred_at) * 1000)::bigint
   entity_id, before, after, reason, batch_id, request_id, ip, site_id, data_hash`
 export const CHAIN_ARRAY = `${EVENT_ARRAY}, seq, prev_hash, hash, link`
 
-type Cell = string | number | null
-/** An event (and its seal, when the array has one) from its JSON array. */
+/** The array `CHAIN_ARRAY` builds, one element per column in its order. */
+type ChainArray = [
+  id: number,
+  occurredMs: number,
+  actorId: number | null,
+  action: string,
+  entityType: string,
+  entityId: string | null,
+  before: unknown,
+  after: unknown,
+  reason: string | null,
+  batchId: string | null,
+  requestId: string | null,
+  ip: string | null,
+  siteId: number | null,
+  dataHash: string | null,
+  seq: number,
+  prevHash: string,
+  hash: string,
+  link: string | null,
+]
+
+/** An event (and its seal, when the array has one) from its JSON array (indexed, not destructured: a hot path). */
 export function rowOf(a: unknown[]): ChainRow {
-  const c = a as Cell[]
+  const c = a as ChainArray
   return {
-    id: c[0] as number,
-    occurred_ms: c[1] as number,
-    actor_id: c[2] as number | null,
-    action: c[3] as string,
-    entity_type: c[4] as string,
-    entity_id: c[5] as string | null,
-    before: a[6],
-    after: a[7],
-    reason: c[8] as string | null,
-    batch_id: c[9] as string | null,
-    request_id: c[10] as string | null,
-    ip: c[11] as string | null,
-    site_id: c[12] as number | null,
-    data_hash: c[13] as string | null,
-    seq: c[14] as number,
-    prev_hash: c[15] as string,
-    hash: c[16] as string,
-    link: c[17] as string | null,
+    id: c[0],
+    occurred_ms: c[1],
+    actor_id: c[2],
+    action: c[3],
+    entity_type: c[4],
+    entity_id: c[5],
+    before: c[6],
+    after: c[7],
+    reason: c[8],
+    batch_id: c[9],
+    request_id: c[10],
+    ip: c[11],
+    site_id: c[12],
+    data_hash: c[13],
+    seq: c[14],
+    prev_hash: c[15],
+    hash: c[16],
+    link: c[17],
   }
 }
 
