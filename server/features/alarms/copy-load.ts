@@ -86,10 +86,18 @@ export async function runQueuedLoad<R extends UploadRow>(
     return
   }
   const path = upload.file_path
-  const client = await deps.pool.connect()
+  let client: pg.PoolClient
+  try {
+    client = await deps.pool.connect()
+  } catch (err) {
+    loading.delete(key) // the upload stays queued for the next run, as it would had the lookup failed
+    throw err
+  }
   try {
     await job.markRunning()
     const hashing = hashFile(path)
+    // the load awaits it; if the load fails first, the file is removed under it and that rejection is not news
+    hashing.catch(() => undefined)
     const { kind, delimiter } = await sniffFile(path)
     await job.load({ upload, path, client, kind, delimiter, hashing })
   } catch (err) {
