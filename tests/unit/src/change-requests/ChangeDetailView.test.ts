@@ -1,4 +1,5 @@
 import { afterEach, describe, expect, it, vi } from 'vitest'
+import { defineComponent, h } from 'vue'
 import {
   type ChangeItemDto,
   type ChangeRequestDto,
@@ -6,8 +7,11 @@ import {
   IMPACT_CHECKLIST,
 } from '@shared/schemas/change-requests.ts'
 import type { Role } from '@shared/schemas/users.ts'
+import AppSignDialog from '@/components/AppSignDialog.vue'
+import ChangeAttachments from '@/features/change-requests/components/ChangeAttachments.vue'
+import LimitChangesPanel from '@/features/change-requests/components/LimitChangesPanel.vue'
 import ChangeDetailView from '@/features/change-requests/views/ChangeDetailView.vue'
-import { answerApi, FHR, mountView } from '../mount-view.ts'
+import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
 
 // The change request's page builds its buttons from the change-request rule book (docs/change-requests.md#the-rule-book):
 // each shown where the person has a part in that step, enabled or disabled with the rule book's reason, for the
@@ -264,5 +268,81 @@ describe('ChangeDetailView: buttons follow the change-request rule book', () => 
       approvalExpiresAt: null,
     })
     expect(buttons(await open(emergency, ['safety_engineer'])).close).toContain('not approved yet')
+  })
+})
+
+// The limit page lists the requests touching its limit under changeRequestKeys.limit (Pinia Colada). Every write on
+// the request's page, not only the workflow steps, must make that list be asked again, or the limit page would show a
+// request as it was before. The limit page's panel is mounted beside the request's page, as when both were visited.
+describe("ChangeDetailView: every write fetches the limit page's change list again", () => {
+  const LIMIT = { id: 5, tag: 'TSHH-101', siteId: FHR.id, status: 'active' as const, revision: 3 }
+  const LimitPageAndRequest = defineComponent({
+    props: { id: { type: String, required: true } },
+    setup: (props) => () => h('div', [h(LimitChangesPanel, { limit: LIMIT }), h(ChangeDetailView, { id: props.id })]),
+  })
+
+  async function openBoth(cr: ChangeRequestDto, roles: Role[], writes: Routes) {
+    const calls = answerApi({
+      [`GET /change-requests/${cr.id}`]: () => ({ body: cr }),
+      'GET /change-requests': (url) =>
+        url.searchParams.get('limitId') === String(LIMIT.id)
+          ? { body: { items: [], total: 0 } }
+          : { status: 400, body: { error: { code: 'VALIDATION_FAILED', message: 'Not the limit page' } } },
+      'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
+      'GET /areas': () => ({ body: { items: [], total: 0 } }),
+      ...writes,
+    })
+    const w = await mountView(LimitPageAndRequest, {
+      user: { id: ME, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
+      props: { id: String(cr.id) },
+    })
+    const asked = (path: string) => calls.filter((c) => c.method === 'GET' && c.path === path).length
+    return {
+      w,
+      calls,
+      listAsked: () => asked('/change-requests'),
+      recordAsked: () => asked(`/change-requests/${cr.id}`),
+    }
+  }
+
+  it('ticking a checklist item', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const cr = request('submitted', { checklist: checklist(['training']) })
+    const { w, calls, listAsked } = await openBoth(cr, ['safety_engineer'], {
+      [`PUT /change-requests/${cr.id}/checklist/training`]: () => ({ body: { ...cr, checklist: checklist() } }),
+    })
+    expect(listAsked()).toBe(1)
+    await w.find('[data-test="check-box-training"] input').setValue(true)
+    await vi.waitFor(() => expect(listAsked()).toBe(2))
+    expect(calls.some((c) => c.method === 'PUT' && c.path === `/change-requests/${cr.id}/checklist/training`)).toBe(
+      true,
+    )
+  })
+
+  it('uploading an attachment (the request is asked again too: the upload answers only the file)', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const { w, listAsked, recordAsked } = await openBoth(request('draft'), ['safety_engineer'], {})
+    expect([listAsked(), recordAsked()]).toEqual([1, 1])
+    w.findComponent(ChangeAttachments).vm.$emit('uploaded')
+    await vi.waitFor(() => expect([listAsked(), recordAsked()]).toEqual([2, 2]))
+  })
+
+  it('signing a discipline review', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const cr = request('submitted', { reviewsRequired: ['operations'] })
+    // Vuetify's overlays read the visual viewport, which happy-dom does not provide
+    vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+    const reviews: unknown[] = []
+    const { w, listAsked } = await openBoth(cr, ['shift_supervisor'], {
+      [`POST /change-requests/${cr.id}/reviews`]: (_url, init) => {
+        reviews.push(JSON.parse(String(init?.body)))
+        return { body: cr }
+      },
+    })
+    expect(listAsked()).toBe(1)
+    await w.find('[data-test="cr-review-sign-operations"]').trigger('click')
+    await w.findComponent(AppSignDialog).props('sign')('signature-password', '')
+    expect(reviews).toEqual([{ discipline: 'operations', password: 'signature-password', comment: '' }])
+    await vi.waitFor(() => expect(listAsked()).toBe(2))
   })
 })
