@@ -22,6 +22,8 @@ export const demandKeys = {
   all: ['demands'] as const,
   list: (q: DemandListQuery) => ['demands', 'list', JSON.stringify(q)] as const,
   one: (id: number) => ['demands', id] as const,
+  /** observed vs assumed rates (saved assumptions invalidate every demand key) */
+  rates: (q: DemandRatesQuery) => ['demands', 'rates', JSON.stringify(q)] as const,
 }
 
 export const listDemands = (query: DemandListQuery) => http.get<ListResult<DemandDto>>('/demands', { ...query })

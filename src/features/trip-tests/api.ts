@@ -33,6 +33,8 @@ export const tripTestKeys = {
   list: (q: TripTestListParams) => ['trip-tests', 'list', JSON.stringify(q)] as const,
   schedule: (q: ScheduleParams) => ['trip-tests', 'schedule', JSON.stringify(q)] as const,
   degradation: (limitId: number) => ['trip-tests', 'degradation', limitId] as const,
+  /** a limit's test deferrals (a request invalidates them; a decision moves the due date: every trip-test key) */
+  deferrals: (limitId: number) => ['trip-tests', 'deferrals', limitId] as const,
 }
 
 /** The degraded state of a limit, newest first. */
