@@ -68,14 +68,15 @@ export function currentValue(item: ItemDraft, key: string): unknown {
   return rec ? rec[key] : undefined
 }
 
-/** The item as the API takes it; null while its limit or instrument is not chosen. */
-export function toItemBody(item: ItemDraft): ChangeItemBody | null {
-  const changes = () => Object.fromEntries(item.fields.map((f) => [f, toApiValue(f, item.values[f])]))
-  if (item.kind === 'instrument')
-    return item.instrumentId ? { kind: 'instrument', instrumentId: item.instrumentId, changes: changes() } : null
-  if (!item.limitId) return null
-  if (item.kind === 'modify') return { kind: 'modify', limitId: item.limitId, changes: changes() }
-  return { kind: item.kind, limitId: item.limitId }
+/**
+ * The item as the API takes it, before the schema's check: its limit or instrument left out while not chosen (the
+ * check names the missing target).
+ */
+export function toItemBody(item: ItemDraft): Partial<ChangeItemBody> & { kind: ItemKind } {
+  const changes = Object.fromEntries(item.fields.map((f) => [f, toApiValue(f, item.values[f])]))
+  if (item.kind === 'instrument') return { kind: 'instrument', instrumentId: item.instrumentId ?? undefined, changes }
+  const limitId = item.limitId ?? undefined
+  return item.kind === 'modify' ? { kind: 'modify', limitId, changes } : { kind: item.kind, limitId }
 }
 
 /** A stored item turned back into a draft (editing a request). */

@@ -1,105 +1,18 @@
 import { afterEach, describe, expect, it, vi } from 'vitest'
 import { defineComponent, h } from 'vue'
-import {
-  type ChangeItemDto,
-  type ChangeRequestDto,
-  type ChangeStatus,
-  IMPACT_CHECKLIST,
-} from '@shared/schemas/change-requests.ts'
+import type { ChangeRequestDto } from '@shared/schemas/change-requests.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import AppSignDialog from '@/components/AppSignDialog.vue'
 import ChangeAttachments from '@/features/change-requests/components/ChangeAttachments.vue'
 import LimitChangesPanel from '@/features/change-requests/components/LimitChangesPanel.vue'
 import ChangeDetailView from '@/features/change-requests/views/ChangeDetailView.vue'
 import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+import { at, checklist, item, ME, NOW, PROPOSER, request } from './change-fixture.ts'
 
 // The change request's page builds its buttons from the change-request rule book (docs/change-requests.md#the-rule-book):
 // each shown where the person has a part in that step, enabled or disabled with the rule book's reason, for the
 // states and roles of the rule book's table. The expected answers are written by hand from that table. The clock is
 // fixed at 12:00 UTC.
-
-const NOW = new Date('2026-07-06T12:00:00Z')
-const H = 3_600_000
-const at = (h: number) => new Date(NOW.getTime() + h * H).toISOString()
-const ME = 7
-const PROPOSER = 100
-
-function item(id: number, o: Partial<ChangeItemDto> = {}): ChangeItemDto {
-  return {
-    id,
-    position: id,
-    kind: 'modify',
-    limitId: null,
-    instrumentId: null,
-    targetTag: `TSHH-10${id}`,
-    unit: '°C',
-    changes: { setpoint: { from: 410, to: 405 } },
-    baseRevision: 1,
-    currentRevision: 1,
-    stale: false,
-    windowBefore: null,
-    windowAfter: null,
-    silRated: false,
-    implementedAt: null,
-    implementedBy: null,
-    readBack: null,
-    deviceFields: ['setpoint'],
-    readBackExpected: null,
-    ...o,
-  }
-}
-
-/** The checklist with every item ticked but those of `open`. */
-const checklist = (open: string[] = []) =>
-  IMPACT_CHECKLIST.map((c) => ({
-    item: c.item,
-    label: c.label,
-    group: c.group,
-    doneBy: open.includes(c.item) ? null : 'Someone',
-    doneAt: open.includes(c.item) ? null : at(-5),
-    notApplicable: false,
-    note: '',
-  }))
-
-function request(status: ChangeStatus, o: Partial<ChangeRequestDto> = {}): ChangeRequestDto {
-  const approved = ['approved', 'implemented', 'closed'].includes(status)
-  return {
-    id: 12,
-    siteId: FHR.id,
-    siteCode: 'FHR',
-    type: 'permanent',
-    title: 'Lower the heater outlet trip',
-    rationale: 'New burner tiles',
-    hazardReference: 'HAZOP-H101-7',
-    status,
-    proposerId: PROPOSER,
-    proposerName: 'Ada Quill',
-    editorIds: [PROPOSER],
-    expiresAt: null,
-    approvalsRequired: 1,
-    approvalsHeld: approved ? 1 : 0,
-    reviewsRequired: [],
-    contentHash: 'ab'.repeat(32),
-    submittedAt: status === 'draft' ? null : at(-8),
-    approvedAt: approved ? at(-6) : null,
-    implementedAt: status === 'implemented' || status === 'closed' ? at(-2) : null,
-    closedAt: status === 'closed' ? at(-1) : null,
-    approvalExpiresAt: approved ? at(24) : null,
-    emergencyFlagged: false,
-    reversesId: null,
-    reversals: [],
-    temporaryState: null,
-    pssr: null,
-    items: [item(1, status === 'implemented' || status === 'closed' ? { implementedAt: at(-2) } : {})],
-    checklist: checklist(),
-    signatures: [],
-    attachments: [],
-    version: 1,
-    createdAt: at(-10),
-    updatedAt: at(-1),
-    ...o,
-  }
-}
 
 async function open(cr: ChangeRequestDto, roles: Role[], userId = ME) {
   answerApi({
