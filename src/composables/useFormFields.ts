@@ -15,8 +15,8 @@ export interface FieldOptions {
   hint?: string
   persistentHint?: boolean
   placeholder?: string
-  /** The input type of a text field (a date and time picker); text unless said. */
-  type?: 'datetime-local'
+  /** The input type of a text field (a date, or date and time, picker); text unless said. */
+  type?: 'date' | 'datetime-local'
   /** The most characters, counted under a text field or text area. */
   counter?: number
   /** The lines a text area shows before it grows: 2 unless said. */
