@@ -3,6 +3,7 @@ import type pg from 'pg'
 import { EVENT_CODE } from '../../../shared/domain/alarm-figures.ts'
 import { from as copyFrom } from 'pg-copy-streams'
 import type { Db } from '../../db/index.ts'
+import { ALARM_SETTING_COLUMNS } from '../register/limits.repository.ts'
 import { pageWithTotal } from '../../db/paging.ts'
 import type { AlarmUploadStatus, Database } from '../../db/schema.ts'
 
@@ -64,6 +65,40 @@ const uploadColumns = (v: NewUpload) => ({
   created_at: v.now,
 })
 
+/** How far a load has come, as both kinds of upload store it. */
+const progressColumns = (p: { status?: AlarmUploadStatus; rowsRead?: number; rowsRejected?: number }) => ({
+  ...(p.status ? { status: p.status } : {}),
+  ...(p.rowsRead !== undefined ? { rows_read: p.rowsRead } : {}),
+  ...(p.rowsRejected !== undefined ? { rows_rejected: p.rowsRejected } : {}),
+})
+
+/** How a load ended, as both kinds of upload store it; the waiting file is gone. */
+interface FinishedUpload {
+  status: AlarmUploadStatus
+  rowsRead: number
+  rowsRejected: number
+  rejections: { row: number; message: string }[]
+  error: string | null
+  firstAt: Date | null
+  lastAt: Date | null
+  checksum: string | null
+  now: Date
+}
+const finishedColumns = (r: FinishedUpload) => ({
+  status: r.status,
+  rows_read: r.rowsRead,
+  rows_rejected: r.rowsRejected,
+  rejections: JSON.stringify(r.rejections),
+  error: r.error,
+  first_at: r.firstAt,
+  last_at: r.lastAt,
+  checksum: r.checksum,
+  file_path: null,
+  finished_at: r.now,
+})
+
+type Page = { page: number; pageSize: number }
+
 // ---- journal uploads ----
 
 export async function insertJournalUpload(
@@ -81,11 +116,11 @@ export async function insertJournalUpload(
 export const journalUploadById = (db: Q, id: number) =>
   db.selectFrom('alarm_journal_upload').selectAll().where('id', '=', id).executeTakeFirst()
 
-export async function listJournalUploads(db: Q, siteIds: number[], page: { page: number; pageSize: number }) {
-  if (!siteIds.length) return { rows: [], total: 0 }
-  const filtered = db.selectFrom('alarm_journal_upload').where('site_id', 'in', siteIds)
-  return pageWithTotal(filtered, page, (q) => q.selectAll().orderBy('id', 'desc'))
-}
+/** A page of the journal uploads at the sites (at least one), newest first. */
+export const listJournalUploads = (db: Q, siteIds: number[], page: Page) =>
+  pageWithTotal(db.selectFrom('alarm_journal_upload').where('site_id', 'in', siteIds), page, (q) =>
+    q.selectAll().orderBy('id', 'desc'),
+  )
 
 export async function setJournalProgress(
   db: Q,
@@ -94,12 +129,7 @@ export async function setJournalProgress(
 ) {
   await db
     .updateTable('alarm_journal_upload')
-    .set({
-      ...(p.status ? { status: p.status } : {}),
-      ...(p.rowsRead !== undefined ? { rows_read: p.rowsRead } : {}),
-      ...(p.rowsRejected !== undefined ? { rows_rejected: p.rowsRejected } : {}),
-      ...(p.checksum ? { checksum: p.checksum } : {}),
-    })
+    .set({ ...progressColumns(p), ...(p.checksum ? { checksum: p.checksum } : {}) })
     .where('id', '=', id)
     .execute()
 }
@@ -107,41 +137,23 @@ export async function setJournalProgress(
 export async function finishJournalUpload(
   db: Q,
   id: number,
-  r: {
-    status: AlarmUploadStatus
-    rowsRead: number
+  r: FinishedUpload & {
     rowsStored: number
     rowsDuplicate: number
-    rowsRejected: number
-    rejections: { row: number; message: string }[]
     unmatchedTags: string[]
     unmatchedTagCount: number
     duplicateOf: number | null
-    error: string | null
-    firstAt: Date | null
-    lastAt: Date | null
-    checksum: string | null
-    now: Date
   },
 ) {
   await db
     .updateTable('alarm_journal_upload')
     .set({
-      status: r.status,
-      rows_read: r.rowsRead,
+      ...finishedColumns(r),
       rows_stored: r.rowsStored,
       rows_duplicate: r.rowsDuplicate,
-      rows_rejected: r.rowsRejected,
-      rejections: JSON.stringify(r.rejections),
       unmatched_tags: JSON.stringify(r.unmatchedTags),
       unmatched_tag_count: r.unmatchedTagCount,
       duplicate_of: r.duplicateOf,
-      error: r.error,
-      first_at: r.firstAt,
-      last_at: r.lastAt,
-      checksum: r.checksum,
-      file_path: null,
-      finished_at: r.now,
     })
     .where('id', '=', id)
     .execute()
@@ -497,11 +509,11 @@ export async function insertReplayUpload(db: Q, v: NewUpload & { instrumentId: n
 export const replayUploadById = (db: Q, id: number) =>
   db.selectFrom('process_data_upload').selectAll().where('id', '=', id).executeTakeFirst()
 
-export async function listReplayUploads(db: Q, siteIds: number[], page: { page: number; pageSize: number }) {
-  if (!siteIds.length) return { rows: [], total: 0 }
-  const filtered = db.selectFrom('process_data_upload').where('site_id', 'in', siteIds)
-  return pageWithTotal(filtered, page, (q) => q.selectAll().orderBy('id', 'desc'))
-}
+/** A page of the process-data uploads at the sites (at least one), newest first. */
+export const listReplayUploads = (db: Q, siteIds: number[], page: Page) =>
+  pageWithTotal(db.selectFrom('process_data_upload').where('site_id', 'in', siteIds), page, (q) =>
+    q.selectAll().orderBy('id', 'desc'),
+  )
 
 export async function setReplayProgress(
   db: Q,
@@ -510,11 +522,7 @@ export async function setReplayProgress(
 ) {
   await db
     .updateTable('process_data_upload')
-    .set({
-      ...(p.status ? { status: p.status } : {}),
-      ...(p.rowsRead !== undefined ? { rows_read: p.rowsRead } : {}),
-      ...(p.series ? { series: JSON.stringify(p.series) } : {}),
-    })
+    .set({ ...progressColumns(p), ...(p.series ? { series: JSON.stringify(p.series) } : {}) })
     .where('id', '=', id)
     .execute()
 }
@@ -522,36 +530,11 @@ export async function setReplayProgress(
 export async function finishReplayUpload(
   db: Q,
   id: number,
-  r: {
-    status: AlarmUploadStatus
-    rowsRead: number
-    samplesStored: number
-    rowsRejected: number
-    rejections: { row: number; message: string }[]
-    series: { index: number; name: string }[]
-    error: string | null
-    firstAt: Date | null
-    lastAt: Date | null
-    checksum: string | null
-    now: Date
-  },
+  r: FinishedUpload & { samplesStored: number; series: { index: number; name: string }[] },
 ) {
   await db
     .updateTable('process_data_upload')
-    .set({
-      status: r.status,
-      rows_read: r.rowsRead,
-      samples_stored: r.samplesStored,
-      rows_rejected: r.rowsRejected,
-      rejections: JSON.stringify(r.rejections),
-      series: JSON.stringify(r.series),
-      error: r.error,
-      first_at: r.firstAt,
-      last_at: r.lastAt,
-      checksum: r.checksum,
-      file_path: null,
-      finished_at: r.now,
-    })
+    .set({ ...finishedColumns(r), samples_stored: r.samplesStored, series: JSON.stringify(r.series) })
     .where('id', '=', id)
     .execute()
 }
@@ -577,20 +560,7 @@ export async function seriesSamples(pool: pg.Pool, uploadId: number, series: num
 export async function limitsOnInstrument(db: Q, instrumentId: number) {
   return db
     .selectFrom('limit_function as l')
-    .select([
-      'l.id',
-      'l.tag',
-      'l.site_id',
-      'l.direction',
-      'l.setpoint',
-      'l.deadband',
-      'l.deadband_unit',
-      'l.on_delay_sec',
-      'l.off_delay_sec',
-      'l.latching',
-      'l.response_time_min',
-      'l.status',
-    ])
+    .select(['l.id', 'l.tag', 'l.site_id', 'l.direction', ...ALARM_SETTING_COLUMNS, 'l.response_time_min', 'l.status'])
     .where((eb) =>
       eb.or([
         eb('l.primary_instrument_id', '=', instrumentId),

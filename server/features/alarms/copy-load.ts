@@ -43,7 +43,9 @@ export async function uploadsPage<R, D>(
   q: { siteId?: number; page: number; pageSize: number },
   toDto: (row: R) => D,
 ): Promise<ListResult<D>> {
-  const { rows, total } = await list(scopeSites(user, q.siteId ? [q.siteId] : undefined), q)
+  const siteIds = scopeSites(user, q.siteId ? [q.siteId] : undefined)
+  if (!siteIds.length) return { items: [], total: 0 }
+  const { rows, total } = await list(siteIds, q)
   return { items: rows.map(toDto), total }
 }
 

@@ -19,16 +19,7 @@ import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { badFile } from '../register/imports.service.ts'
 import { sitePolicy } from './alarm-figures.service.ts'
 import * as repo from './alarms.repository.ts'
-import {
-  copyLines,
-  headerOf,
-  isRefusal,
-  progressReporter,
-  readableUpload,
-  runQueuedLoad,
-  uploadFileName,
-  uploadsPage,
-} from './copy-load.ts'
+import * as load from './copy-load.ts'
 import { createTimeParser, readRows, resolveColumns, sniffFile } from './file-rows.ts'
 
 // Replays: a process-data export (a time column and one value column per tag) is streamed into process_sample by
@@ -84,7 +75,7 @@ export async function startReplayUpload(
         throw validationFailed({ instrumentId: ['No such instrument at this site'] }, 'No such instrument at this site')
     }
     const { kind, delimiter } = await sniffFile(file.path)
-    const headers = await headerOf(file.path, kind, delimiter)
+    const headers = await load.headerOf(file.path, kind, delimiter)
     const { index } = resolveColumns(
       headers,
       ['timestamp'] as const,
@@ -100,7 +91,7 @@ export async function startReplayUpload(
         siteId: fields.siteId,
         instrumentId: fields.instrumentId ?? null,
         userId,
-        fileName: uploadFileName(file.fileName),
+        fileName: load.uploadFileName(file.fileName),
         timeZone: fields.timeZone,
         filePath: file.path,
         now,
@@ -132,7 +123,7 @@ export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> 
   let last = -Infinity
   let checksum: string | null = null
   let series: { index: number; name: string }[] = []
-  await runQueuedLoad(deps, `replay:${id}`, {
+  await load.runQueuedLoad(deps, `replay:${id}`, {
     find: async () => {
       const upload = await repo.replayUploadById(deps.db, id)
       series = upload?.series ?? []
@@ -146,8 +137,8 @@ export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> 
         let timeCol = 0
         let cols: { column: number; index: number; name: string }[] = []
         let rowNo = 0
-        const progress = progressReporter((rowsRead) => repo.setReplayProgress(deps.db, id, { rowsRead }))
-        await copyLines(client, 'COPY process_sample (upload_id, series, t, value) FROM STDIN', async (write) => {
+        const progress = load.progressReporter((rowsRead) => repo.setReplayProgress(deps.db, id, { rowsRead }))
+        await load.copyLines(client, 'COPY process_sample (upload_id, series, t, value) FROM STDIN', async (write) => {
           for await (const cells of readRows(path, kind, delimiter)) {
             rowNo++
             if (rowNo === 1) {
@@ -219,8 +210,8 @@ export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> 
       })
     },
     fail: async (err) => {
-      const message = isRefusal(err) ? err.message : 'The process data could not be loaded; nothing was stored'
-      if (!isRefusal(err)) logger.error({ component: 'alarms', uploadId: id, err }, 'process data upload failed')
+      const message = load.isRefusal(err) ? err.message : 'The process data could not be loaded; nothing was stored'
+      if (!load.isRefusal(err)) logger.error({ component: 'alarms', uploadId: id, err }, 'process data upload failed')
       await repo.finishReplayUpload(deps.db, id, {
         status: 'failed',
         rowsRead,
@@ -239,7 +230,7 @@ export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> 
 }
 
 const readableReplay = async (deps: AppDeps, ability: AppAbility, id: number) =>
-  readableUpload(await repo.replayUploadById(deps.db, id), ability, 'Replay', 'Process-data upload')
+  load.readableUpload(await repo.replayUploadById(deps.db, id), ability, 'Replay', 'Process-data upload')
 
 export async function getReplayUpload(deps: AppDeps, ability: AppAbility, id: number) {
   return toDto(await readableReplay(deps, ability, id))
@@ -250,7 +241,7 @@ export function listReplayUploads(
   user: CurrentUser | null,
   q: { siteId?: number; page: number; pageSize: number },
 ): Promise<ListResult<ReplayUpload>> {
-  return uploadsPage((siteIds, page) => repo.listReplayUploads(deps.db, siteIds, page), user, q, toDto)
+  return load.uploadsPage((siteIds, page) => repo.listReplayUploads(deps.db, siteIds, page), user, q, toDto)
 }
 
 const iso = (sec: number) => new Date(Math.round(sec * 1000)).toISOString()

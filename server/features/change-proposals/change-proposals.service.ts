@@ -16,6 +16,7 @@ import { enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { findUsersWithRole } from '../users/users.repository.ts'
+import { limitRecordOf } from '../register/register.mappers.ts'
 import * as repo from './change-proposals.repository.ts'
 
 const ENTITY = 'ChangeProposal'
@@ -23,11 +24,7 @@ type Trx = Parameters<typeof repo.insertProposal>[0]
 
 function toDto(r: repo.ProposalRow): ChangeProposalDto {
   return {
-    id: r.id,
-    siteId: r.site_id,
-    siteCode: r.site_code,
-    limitId: r.limit_id,
-    limitTag: r.limit_tag,
+    ...limitRecordOf(r),
     title: r.title,
     reason: r.reason,
     status: r.status,

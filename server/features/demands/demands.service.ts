@@ -25,6 +25,7 @@ import { verifySignaturePassword } from '../session/session.service.ts'
 import { contentHash, signAs } from '../signatures/signatures.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { refreshTestSchedule } from '../trip-tests/trip-tests.service.ts'
+import { limitRecordOf } from '../register/register.mappers.ts'
 import * as repo from './demands.repository.ts'
 
 const ENTITY = 'Demand'
@@ -51,11 +52,7 @@ function facts(
 function toDto(r: Row, ability: AppAbility, userId: number, now: Date): DemandDto {
   const iso = (d: Date | null) => (d ? d.toISOString() : null)
   return {
-    id: r.id,
-    siteId: r.site_id,
-    siteCode: r.site_code,
-    limitId: r.limit_id,
-    limitTag: r.limit_tag,
+    ...limitRecordOf(r),
     instrumentId: r.instrument_id,
     instrumentTag: r.instrument_tag,
     kind: r.kind,

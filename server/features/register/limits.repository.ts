@@ -25,6 +25,16 @@ export interface LimitFilters {
   q?: string
 }
 
+/** What an alarm does of a limit (`limit_function as l`): where it acts, with its deadband and delays. */
+export const ALARM_SETTING_COLUMNS = [
+  'l.setpoint',
+  'l.deadband',
+  'l.deadband_unit',
+  'l.on_delay_sec',
+  'l.off_delay_sec',
+  'l.latching',
+] as const
+
 export const LIMIT_SORT_COLUMNS = {
   tag: 'limit_function.tag',
   setpoint: 'limit_function.setpoint',

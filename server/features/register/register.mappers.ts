@@ -3,6 +3,25 @@ import type { InstrumentRow, LimitFunctionRow, ProcessRow } from '../../db/schem
 
 const n = (v: string | null): number | null => (v === null ? null : Number(v))
 
+/** A register record's id and where it stands: its site, area and process. */
+function placeOf<R extends { id: number; site_id: number; area_id: number; process_id: number; process_name?: string }>(
+  r: R,
+) {
+  const processName: R['process_name'] = r.process_name
+  return { id: r.id, siteId: r.site_id, areaId: r.area_id, processId: r.process_id, processName }
+}
+
+/** A record kept against a limit (a demand, a change proposal): its id, site and limit with their codes. */
+export function limitRecordOf<L extends number | null, T extends string | null>(r: {
+  id: number
+  site_id: number
+  site_code: string
+  limit_id: L
+  limit_tag: T
+}) {
+  return { id: r.id, siteId: r.site_id, siteCode: r.site_code, limitId: r.limit_id, limitTag: r.limit_tag }
+}
+
 export function toProcess(r: ProcessRow): Process {
   return { id: r.id, areaId: r.area_id, siteId: r.site_id, name: r.name, description: r.description }
 }
@@ -11,11 +30,7 @@ export function toInstrument(
   r: InstrumentRow & { process_name?: string },
 ): Instrument & { revision: number; updatedAt: string } {
   return {
-    id: r.id,
-    siteId: r.site_id,
-    areaId: r.area_id,
-    processId: r.process_id,
-    processName: r.process_name,
+    ...placeOf(r),
     tag: r.tag,
     measuredVariable: r.measured_variable,
     unit: r.unit,
@@ -50,11 +65,7 @@ export type LimitListRow = LimitFunctionRow & {
 /** Row (joined with names and its primary instrument) → API shape; instrumentIds come from limit_instrument. */
 export function toLimit(r: LimitListRow, instrumentIds: number[]): Limit {
   return {
-    id: r.id,
-    siteId: r.site_id,
-    areaId: r.area_id,
-    processId: r.process_id,
-    processName: r.process_name,
+    ...placeOf(r),
     areaName: r.area_name,
     siteCode: r.site_code,
     tag: r.tag,

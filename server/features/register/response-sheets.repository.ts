@@ -1,3 +1,4 @@
+import { ALARM_SETTING_COLUMNS } from './limits.repository.ts'
 import type { Kysely, Transaction } from 'kysely'
 import type { Database } from '../../db/schema.ts'
 
@@ -20,12 +21,7 @@ export async function findResponseSheetRows(db: Q, where: { limitId: number } | 
       'l.limit_class',
       'l.status',
       'l.revision',
-      'l.setpoint',
-      'l.deadband',
-      'l.deadband_unit',
-      'l.on_delay_sec',
-      'l.off_delay_sec',
-      'l.latching',
+      ...ALARM_SETTING_COLUMNS,
       'l.priority',
       'l.severity',
       'l.consequence',

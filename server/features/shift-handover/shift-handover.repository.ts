@@ -139,6 +139,16 @@ export async function insertHandover(
   return id
 }
 
+/** The handover covers any of the areas. */
+const coversAnyArea = (eb: ExpressionBuilder<Database, 'shift_handover'>, areaIds: number[]) =>
+  eb.exists(
+    eb
+      .selectFrom('shift_handover_area')
+      .select('shift_handover_area.area_id')
+      .whereRef('shift_handover_area.handover_id', '=', 'shift_handover.id')
+      .where('shift_handover_area.area_id', 'in', areaIds),
+  )
+
 /** Handovers still waiting for acceptance that cover any of the areas are replaced by a newer one. */
 export async function supersedePending(trx: Transaction<Database>, areaIds: number[], exceptId: number) {
   const res = await trx
@@ -146,15 +156,7 @@ export async function supersedePending(trx: Transaction<Database>, areaIds: numb
     .set({ status: 'superseded' })
     .where('status', '=', 'handed_over')
     .where('id', '!=', exceptId)
-    .where((eb) =>
-      eb.exists(
-        eb
-          .selectFrom('shift_handover_area')
-          .select('shift_handover_area.area_id')
-          .whereRef('shift_handover_area.handover_id', '=', 'shift_handover.id')
-          .where('shift_handover_area.area_id', 'in', areaIds),
-      ),
-    )
+    .where((eb) => coversAnyArea(eb, areaIds))
     .executeTakeFirst()
   return Number(res.numUpdatedRows)
 }
@@ -196,15 +198,7 @@ export async function findHandoverIds(db: Q, areaIds: number[], opts: { status?:
   let q = db
     .selectFrom('shift_handover')
     .select('shift_handover.id')
-    .where((eb) =>
-      eb.exists(
-        eb
-          .selectFrom('shift_handover_area')
-          .select('shift_handover_area.area_id')
-          .whereRef('shift_handover_area.handover_id', '=', 'shift_handover.id')
-          .where('shift_handover_area.area_id', 'in', areaIds),
-      ),
-    )
+    .where((eb) => coversAnyArea(eb, areaIds))
   if (opts.status) q = q.where('shift_handover.status', '=', opts.status)
   const rows = await q
     .orderBy('shift_handover.handed_over_at', 'desc')
