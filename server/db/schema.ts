@@ -28,6 +28,7 @@ import type {
   TestScope,
   TripTestPrecautions,
 } from '../../shared/schemas/trip-tests.ts'
+import type { StoredRow } from '../features/register/import-file.ts'
 import type { TestDueStatus } from '../../shared/domain/due-dates.ts'
 import type { DeferralStatus } from '../../shared/domain/rules/trip-tests.ts'
 import type { Role } from '../../shared/schemas/users.ts'
@@ -277,7 +278,8 @@ export interface ImportBatchTable {
   file_name: string
   checksum: string
   row_count: number
-  rows: JsonValue<unknown[]>
+  /** the file's data rows, cells by the column keys of its kind */
+  rows: JsonValue<StoredRow[]>
   status: Generated<string>
   created_at: Timestamp
   committed_at: Timestamp | null

@@ -58,7 +58,7 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
   const calibratorDue = new Date(now + 120 * DAY).toISOString().slice(0, 10)
 
   // passing full tests on non-SIL trips and alarms, spread over the past months
-  const plain = active.filter((l) => l.sil === null && (l.signal as { kind: string }).kind !== 'switch')
+  const plain = active.filter((l) => l.sil === null && l.signal.kind !== 'switch')
   for (const [i, l] of plain.slice(0, 12).entries()) {
     const performedAt = new Date(now - (20 + i * 25) * DAY).toISOString()
     const setpoint = Number(l.setpoint)
@@ -71,7 +71,7 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
         kind: 'full',
         method: 'injection',
         injectionPoint: 'sensor',
-        sourceMode: (l.signal as { kind: string }).kind === 'thermocouple' ? 'tc_simulate' : null,
+        sourceMode: l.signal.kind === 'thermocouple' ? 'tc_simulate' : null,
         coldJunctionC: null,
         procedureRef: 'FHR-MP-017 limit proving',
         deviceSerial: `SN-${4100 + i}`,

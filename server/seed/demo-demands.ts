@@ -207,7 +207,8 @@ export async function seedDemoDemands(deps: AppDeps, as: (who: string) => DemoAc
       wholeFunction: e.wholeFunction ?? false,
       instrumentId: limit.id === heater.id ? channel(e.channel) : null,
     })
-    if (e.classify) await classifyDemand(deps, eng.ability, eng.ctx, d.id, e.classify)
+    if (e.classify)
+      await classifyDemand(deps, eng.ability, eng.ctx, d.id, { dangerousUndetected: false, ...e.classify })
   }
 
   // fault exposure on risk erosion: a single-channel SIL-rated trip proven 200 days ago, found tripping late at its
@@ -241,7 +242,7 @@ export async function seedDemoDemands(deps: AppDeps, as: (who: string) => DemoAc
     .orderBy('limit_function.tag')
     .execute()
   const exposed = single.find((l) => {
-    const kind = (l.signal as { kind: string }).kind
+    const kind = l.signal.kind
     return kind === 'current' || kind === 'voltage'
   })
   if (exposed) {
@@ -296,9 +297,9 @@ export async function seedDemoDemands(deps: AppDeps, as: (who: string) => DemoAc
     .where('limit_function.protection_state', '=', 'in_service')
     .orderBy('limit_function.tag')
     .execute()
-  const target = untested.find((l) => (l.signal as { kind: string }).kind !== 'switch')
+  const target = untested.find((l) => l.signal.kind !== 'switch')
   if (!target) return
-  const tc = (target.signal as { kind: string }).kind === 'thermocouple'
+  const tc = target.signal.kind === 'thermocouple'
   const t = await createTripTest(
     deps,
     tech.ability,

@@ -31,6 +31,8 @@ export const CreateDemandInputSchema = z
       ctx.addIssue({ code: 'custom', path: ['cause'], message: 'Give the cause of the spurious trip' })
   })
 export type CreateDemandInput = z.input<typeof CreateDemandInputSchema>
+/** The same after parsing, defaults filled: what the router hands the service. */
+export type CreateDemandValues = z.output<typeof CreateDemandInputSchema>
 
 /** `POST /api/demands/:id/classification`: a safety engineer's review. */
 export const ClassifyDemandInputSchema = z.object({
@@ -41,6 +43,8 @@ export const ClassifyDemandInputSchema = z.object({
   note: text(1000).min(1, 'Give the reason for the classification'),
 })
 export type ClassifyDemandInput = z.input<typeof ClassifyDemandInputSchema>
+/** The same after parsing, defaults filled: what the router hands the service. */
+export type ClassifyDemandValues = z.output<typeof ClassifyDemandInputSchema>
 
 /** `POST /api/demands/:id/credit`: signed crediting of a successful whole-function demand as a proof test. */
 export const CreditDemandInputSchema = z.object({
@@ -49,6 +53,8 @@ export const CreditDemandInputSchema = z.object({
   note: text(1000).min(1, 'Say what the demand exercised and how it was checked'),
 })
 export type CreditDemandInput = z.input<typeof CreditDemandInputSchema>
+/** The same after parsing, defaults filled: what the router hands the service. */
+export type CreditDemandValues = z.output<typeof CreditDemandInputSchema>
 
 /** `GET /api/demands` query. */
 export const DemandListQuerySchema = ListQuerySchema.extend({
@@ -163,6 +169,8 @@ export const DemandAssumptionsInputSchema = z.object({
   reason: text(500).min(1, 'Give the source of the figures (hazard study, validation record)'),
 })
 export type DemandAssumptionsInput = z.input<typeof DemandAssumptionsInputSchema>
+/** The same after parsing, defaults filled: what the router hands the service. */
+export type DemandAssumptionsValues = z.output<typeof DemandAssumptionsInputSchema>
 export interface DemandAssumptions {
   limitId: number
   assumedDemandRatePerYear: number | null

@@ -1,6 +1,10 @@
 import { Router } from 'express'
 import { IdSchema } from '../../../shared/schemas/common.ts'
 import {
+  ClassifyDemandInputSchema,
+  CreateDemandInputSchema,
+  CreditDemandInputSchema,
+  DemandAssumptionsInputSchema,
   DemandListQuerySchema,
   DemandRatesQuerySchema,
   FailureRatesQuerySchema,
@@ -55,19 +59,45 @@ export function createDemandsRouter(deps: AppDeps) {
       )
   })
   router.put('/assumptions/:limitId', async (req, res) => {
-    res.json(await service.setDemandAssumptions(deps, req.ability, req.audit, id(req.params.limitId), req.body))
+    res.json(
+      await service.setDemandAssumptions(
+        deps,
+        req.ability,
+        req.audit,
+        id(req.params.limitId),
+        DemandAssumptionsInputSchema.parse(req.body),
+      ),
+    )
   })
   router.get('/:id', async (req, res) => {
     res.json(await service.getDemand(deps, req.ability, req.user!.id, id(req.params.id)))
   })
   router.post('/', async (req, res) => {
-    res.status(201).json(await service.recordDemand(deps, req.ability, req.audit, req.body))
+    res
+      .status(201)
+      .json(await service.recordDemand(deps, req.ability, req.audit, CreateDemandInputSchema.parse(req.body)))
   })
   router.post('/:id/classification', async (req, res) => {
-    res.json(await service.classifyDemand(deps, req.ability, req.audit, id(req.params.id), req.body))
+    res.json(
+      await service.classifyDemand(
+        deps,
+        req.ability,
+        req.audit,
+        id(req.params.id),
+        ClassifyDemandInputSchema.parse(req.body),
+      ),
+    )
   })
   router.post('/:id/credit', async (req, res) => {
-    res.json(await service.creditDemand(deps, req.ability, req.audit, id(req.params.id), req.body))
+    res.json(
+      await service.creditDemand(
+        deps,
+        req.ability,
+        req.audit,
+        id(req.params.id),
+        CreditDemandInputSchema.parse(req.body),
+      ),
+    )
   })
   return router
 }

@@ -1,20 +1,14 @@
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { canRecordDemand, demandVerdicts, type DemandFacts } from '../../../shared/domain/rules/demands.ts'
 import type {
-  ClassifyDemandInput,
-  CreateDemandInput,
-  CreditDemandInput,
+  ClassifyDemandValues,
+  CreateDemandValues,
+  CreditDemandValues,
+  DemandAssumptions,
+  DemandAssumptionsValues,
   DemandDto,
   DemandRateRow,
   DemandRates,
-} from '../../../shared/schemas/demands.ts'
-import {
-  DemandAssumptionsInputSchema,
-  type DemandAssumptions,
-  type DemandAssumptionsInput,
-  ClassifyDemandInputSchema,
-  CreateDemandInputSchema,
-  CreditDemandInputSchema,
 } from '../../../shared/schemas/demands.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
 import { authorize, ensureVisible } from '../../authorize.ts'
@@ -130,9 +124,8 @@ export async function recordDemand(
   deps: AppDeps,
   ability: AppAbility,
   ctx: AuditContext,
-  raw: CreateDemandInput,
+  input: CreateDemandValues,
 ): Promise<DemandDto> {
-  const input = CreateDemandInputSchema.parse(raw)
   const limit = await repo.findLimitForDemand(deps.db, input.limitId)
   if (!limit) throw notFound('Limit')
   ensureVisible(ability, 'Limit', { siteId: limit.site_id }, 'Limit')
@@ -179,9 +172,8 @@ export async function classifyDemand(
   ability: AppAbility,
   ctx: AuditContext,
   id: number,
-  raw: ClassifyDemandInput,
+  input: ClassifyDemandValues,
 ): Promise<DemandDto> {
-  const input = ClassifyDemandInputSchema.parse(raw)
   await deps.db.transaction().execute(async (trx) => {
     const d = await repo.findDemandFacts(trx, id, true)
     if (!d) throw notFound('Demand')
@@ -211,9 +203,8 @@ export async function creditDemand(
   ability: AppAbility,
   ctx: AuditContext,
   id: number,
-  raw: CreditDemandInput,
+  input: CreditDemandValues,
 ): Promise<DemandDto> {
-  const input = CreditDemandInputSchema.parse(raw)
   const pre = await repo.findDemandFacts(deps.db, id)
   if (!pre) throw notFound('Demand')
   ensureVisible(ability, 'Demand', { siteId: pre.site_id }, 'Demand')
@@ -350,9 +341,8 @@ export async function setDemandAssumptions(
   ability: AppAbility,
   ctx: AuditContext,
   limitId: number,
-  raw: DemandAssumptionsInput,
+  input: DemandAssumptionsValues,
 ): Promise<DemandAssumptions> {
-  const input = DemandAssumptionsInputSchema.parse(raw)
   const before = await repo.findLimitAssumptions(deps.db, limitId)
   if (!before) throw notFound('Limit')
   ensureVisible(ability, 'Limit', { siteId: before.site_id }, 'Limit')

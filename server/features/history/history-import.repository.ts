@@ -57,10 +57,7 @@ export function bypassSpansOf(db: Db, limitIds: number[]) {
     .execute()
 }
 
-export function insertHistoryBatch(
-  db: Db,
-  v: { siteId: number; userId: number; fileName: string; checksum: string; rows: unknown[]; now: Date },
-) {
+export function insertHistoryBatch(db: Db, v: Parameters<typeof insertImportBatch>[2]) {
   return insertImportBatch(db, 'history', v)
 }
 

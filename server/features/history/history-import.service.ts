@@ -1,12 +1,6 @@
 import type { Insertable, Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
-import {
-  dayIn,
-  type HistoryCells,
-  type HistoryRecord,
-  readHistoryRow,
-  spansOverlap,
-} from '../../../shared/domain/history-import.ts'
+import { dayIn, type HistoryRecord, readHistoryRow, spansOverlap } from '../../../shared/domain/history-import.ts'
 import { toleranceInEu } from '../../../shared/domain/trip-test-result.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import {
@@ -90,7 +84,7 @@ function summaryOf(c: Checked, timeZone: string): string {
  */
 async function checkRows(db: Db, site: Site, rows: Row[], now: Date, lock: boolean): Promise<Outcome> {
   const at = { timeZone: site.time_zone, now }
-  const read = rows.map((r) => ({ stored: r, ...readHistoryRow(r.cells as HistoryCells, at) }))
+  const read = rows.map((r) => ({ stored: r, ...readHistoryRow(r.cells, at) }))
   const tags = [...new Set(read.flatMap((r) => (r.record ? [r.record.tag.toLowerCase()] : [])))]
   const limits = new Map((await repo.limitsByTags(db, site.id, tags, lock)).map((l) => [l.tag.toLowerCase(), l]))
   const ids = [...limits.values()].map((l) => l.id)
@@ -268,7 +262,7 @@ function testRow(
 ): Insertable<TripTestTable> {
   const r = c.record
   const policy = policyOf(site)
-  const signal = c.limit.signal as { kind?: string }
+  const signal = c.limit.signal
   const content = {
     limit_id: c.limit.id,
     site_id: site.id,
@@ -367,7 +361,7 @@ export async function commitHistoryImport(
       )
     const site = await siteFor(trx, batch.site_id)
     const now = deps.clock.now()
-    const outcome = await checkRows(trx, site, batch.rows as Row[], now, true)
+    const outcome = await checkRows(trx, site, batch.rows, now, true)
     const head = {
       id: batch.id,
       siteId: batch.site_id,

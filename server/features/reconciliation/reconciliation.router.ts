@@ -1,5 +1,5 @@
 import { Router } from 'express'
-import { IdSchema } from '../../../shared/schemas/common.ts'
+import { IdParamsSchema, IdSchema } from '../../../shared/schemas/common.ts'
 import {
   AcceptInputSchema,
   AcknowledgeInputSchema,
@@ -119,7 +119,7 @@ export function createFindingsRouter(deps: AppDeps) {
 export function createLimitReconciliationsRouter(deps: AppDeps) {
   const router = Router({ mergeParams: true })
   router.get('/', async (req, res) => {
-    res.json({ items: await findings.limitReconciliations(deps, req.ability, id((req.params as { id?: string }).id)) })
+    res.json({ items: await findings.limitReconciliations(deps, req.ability, IdParamsSchema.parse(req.params).id) })
   })
   return router
 }

@@ -1,4 +1,5 @@
 import { type Kysely, sql, type Transaction } from 'kysely'
+import type { StoredRow } from './import-file.ts'
 import type { Database } from '../../db/schema.ts'
 
 // Every query of the register import (docs/register.md): its batches, the user's remembered mapping, and what a run
@@ -81,7 +82,7 @@ export function saveImportMapping(db: Q, userId: number, mapping: Record<string,
 export function insertImportBatch(
   db: Q,
   kind: 'register' | 'history',
-  v: { siteId: number; userId: number; fileName: string; checksum: string; rows: unknown[]; now: Date },
+  v: { siteId: number; userId: number; fileName: string; checksum: string; rows: StoredRow[]; now: Date },
 ) {
   return db
     .insertInto('import_batch')

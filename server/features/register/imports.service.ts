@@ -208,11 +208,11 @@ function instrumentRaw(cells: Cells, base: InstrumentDto | null, errs: CellProbl
     else delete raw[k]
   }
   if (cells.signal !== undefined || cells.headTransmitter !== undefined) {
-    const stored = base?.signal as { headTransmitter?: boolean } | undefined
+    const stored = base?.signal
     const head =
       cells.headTransmitter !== undefined
         ? (boolCell(cells.headTransmitter, 'headTransmitter', errs) ?? false)
-        : (stored?.headTransmitter ?? false)
+        : Boolean(stored && 'headTransmitter' in stored && stored.headTransmitter)
     const text = cells.signal ?? (base ? signalToText(base.signal) : '')
     if (text === '') delete raw.signal
     else {
@@ -916,7 +916,7 @@ export async function commitImport(
     const site = await repo.findImportSite(trx, batch.site_id)
     if (!site) throw notFound('Site')
     const batchId = randomUUID()
-    const outcome = await runRows(trx, deps.clock, ctx, site, batch.rows as StoredRow[], batchId)
+    const outcome = await runRows(trx, deps.clock, ctx, site, batch.rows, batchId)
     const base = {
       id: batch.id,
       siteId: batch.site_id,

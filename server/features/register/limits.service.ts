@@ -1,7 +1,7 @@
 import type { Transaction } from 'kysely'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { checkOperatingWindow, type WindowFinding } from '../../../shared/domain/operating-window.ts'
-import { classifyLimit } from '../../../shared/domain/priority.ts'
+import { type ClassificationFinding, classifyLimit } from '../../../shared/domain/priority.ts'
 import { limitRules } from '../../../shared/domain/rules/limits.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import type { CreateLimitInput, Limit, UpdateLimitInput } from '../../../shared/schemas/register.ts'
@@ -20,7 +20,8 @@ import { limitSnapshot, toLimit } from './register.mappers.ts'
 type Trx = Transaction<Database>
 
 export interface Evaluation {
-  errors: WindowFinding[]
+  /** operating-window findings and the classification's structural errors (docs/domain/alarm-classification.md) */
+  errors: (WindowFinding | ClassificationFinding)[]
   warnings: WindowFinding[]
   priority: Limit['priority']
   priorityExplanation: string
@@ -73,7 +74,7 @@ export async function evaluateLimit(
     defaultTolerancePercentSpan: policy.defaultTolerancePercentSpan,
   })
   const c = classifyLimit(draft, policy.priorityMatrix, policy.alarmPhilosophy)
-  const errors = [...result.errors, ...c.errors.map((e) => ({ ...e, code: e.code as WindowFinding['code'] }))]
+  const errors = [...result.errors, ...c.errors]
   // The classification warnings (operator too slow) are shown by the form and the limit page from the same rule in
   // shared/domain/priority.ts; they are not operating-window findings and are not stored with them.
   const warnings = result.warnings
@@ -333,9 +334,9 @@ export async function deleteLimit(deps: AppDeps, ability: AppAbility, ctx: Audit
 export async function recomputeWindowsForInstrument(
   trx: Trx,
   instrumentId: number,
-): Promise<{ tag: string; errors: WindowFinding[] }[]> {
+): Promise<{ tag: string; errors: Evaluation['errors'] }[]> {
   const ids = await repo.findUnretiredLimitIdsOnInstrument(trx, instrumentId)
-  const blocked: { tag: string; errors: WindowFinding[] }[] = []
+  const blocked: { tag: string; errors: Evaluation['errors'] }[] = []
   for (const { id } of ids) {
     const l = await loadLimit(trx, id)
     const ev = await evaluateLimit(trx, toDraft(l), l.siteId, l.id)

@@ -207,7 +207,6 @@ export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q:
   const records: RegisterFileRow[] = rows.map((r) => {
     const l = toLimit(r, ids.get(r.id) ?? [])
     const inst = instruments.get(l.instrumentIds[0])!
-    const sig = inst.signal as { headTransmitter?: boolean }
     return {
       site: l.siteCode,
       area: l.areaName,
@@ -228,7 +227,7 @@ export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q:
       designHigh: str(inst.designHigh),
       burnout: inst.burnout,
       signal: signalToText(inst.signal),
-      headTransmitter: yesNo(Boolean(sig.headTransmitter)),
+      headTransmitter: yesNo('headTransmitter' in inst.signal && inst.signal.headTransmitter),
       deviceKind: inst.deviceKind,
       deviceDescription: inst.deviceDescription,
       model: inst.model,
@@ -308,7 +307,7 @@ export async function testSignalFor(
   const policy = await getSitePolicy(deps.db, limit.siteId)
   try {
     return computeTestSignal(
-      { unit: inst.unit, rangeLow: inst.rangeLow, rangeHigh: inst.rangeHigh, signal: inst.signal as never },
+      { unit: inst.unit, rangeLow: inst.rangeLow, rangeHigh: inst.rangeHigh, signal: inst.signal },
       {
         direction: limit.direction,
         setpoint: limit.setpoint,

@@ -1,6 +1,7 @@
 // Every query of trip tests, degraded limits and test deferrals. Functions take `db` or a transaction first.
 import { type Insertable, type Kysely, sql, type Transaction, type Updateable } from 'kysely'
 import type { TestDueStatus } from '../../../shared/domain/due-dates.ts'
+import type { DeferralStatus } from '../../../shared/domain/rules/trip-tests.ts'
 import type { Role } from '../../../shared/schemas/users.ts'
 import type { ComponentScope, TestScope } from '../../../shared/schemas/trip-tests.ts'
 import type { Database, LimitDegradationTable, TestDeferralTable, TripTestTable } from '../../db/schema.ts'
@@ -563,7 +564,7 @@ export function findDeferral(db: Db, id: number) {
 export interface DeferralListFilter {
   siteIds: number[]
   limitId?: number
-  status?: string[]
+  status?: DeferralStatus[]
   page: number
   pageSize: number
 }
@@ -571,8 +572,7 @@ export interface DeferralListFilter {
 export async function listDeferrals(db: Db, q: DeferralListFilter) {
   let base = deferralBase(db).where('test_deferral.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
   if (q.limitId) base = base.where('test_deferral.limit_id', '=', q.limitId)
-  if (q.status?.length)
-    base = base.where('test_deferral.status', 'in', q.status as ('requested' | 'approved' | 'rejected' | 'lapsed')[])
+  if (q.status?.length) base = base.where('test_deferral.status', 'in', q.status)
   const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
   const rows = await base
     .selectAll('test_deferral')

@@ -26,11 +26,11 @@ import {
   witnessRequired,
 } from '../../../shared/domain/rules/trip-tests.ts'
 import { tripTestableVerdict } from '../../../shared/domain/rules/limits.ts'
-import { compareToTarget, type Sil, sifPfd, subsystemPfd } from '../../../shared/domain/sif-reliability.ts'
+import { compareToTarget, sifPfd, subsystemPfd } from '../../../shared/domain/sif-reliability.ts'
 import { engineeringFromSignal } from '../../../shared/domain/test-signal.ts'
 import { judgeTripTest, judgeVotedChannels, toleranceInEu, VOTING } from '../../../shared/domain/trip-test-result.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
-import type { Subsystem } from '../../../shared/schemas/register.ts'
+import type { Limit, Subsystem } from '../../../shared/schemas/register.ts'
 import type { SitePolicy } from '../../../shared/schemas/sites.ts'
 import type {
   DegradationResponse,
@@ -209,7 +209,7 @@ async function evaluate(db: Db, input: TripTestInput) {
   if (input.asFoundSignal) {
     try {
       asFound = engineeringFromSignal(
-        { unit: inst.unit, rangeLow: inst.rangeLow, rangeHigh: inst.rangeHigh, signal: inst.signal as never },
+        { unit: inst.unit, rangeLow: inst.rangeLow, rangeHigh: inst.rangeHigh, signal: inst.signal },
         input.asFoundSignal.value,
         {
           signalUnit: input.asFoundSignal.unit,
@@ -625,13 +625,13 @@ async function applyResult(
   trx: Trx,
   ctx: AuditContext,
   row: Selectable<TripTestTable>,
-  limit: { tag: string; subsystems: unknown[] },
+  limit: { tag: string; subsystems: Subsystem[] },
 ) {
   const now = deps.clock.now()
   const open = await repo.lockOpenDegradation(trx, row.limit_id)
   if (!row.passed) {
     if (!open) {
-      const mttr = functionMttrHours(limit.subsystems as Subsystem[])
+      const mttr = functionMttrHours(limit.subsystems)
       await repo.insertDegradation(trx, {
         limit_id: row.limit_id,
         test_id: row.id,
@@ -706,17 +706,22 @@ export async function overdueRepairs(db: Db, siteIds: number[], now: Date): Prom
 export async function openDeferrals(db: Db, siteIds: number[], now: Date): Promise<OpenDeferral[]> {
   const rows = await repo.deferralsBetween(db, siteIds, new Date(0), now)
   return rows
-    .filter((d) => d.status === 'requested' || (d.status === 'approved' && d.test_due_date === d.new_due_date))
     .sort((x, y) => x.new_due_date.localeCompare(y.new_due_date) || x.id - y.id)
-    .map((d) => ({
-      id: d.id,
-      limitId: d.limit_id,
-      tag: d.tag,
-      areaId: d.area_id,
-      status: d.status as 'requested' | 'approved',
-      originalDueDate: d.original_due_date,
-      newDueDate: d.new_due_date,
-    }))
+    .flatMap((d) =>
+      d.status === 'requested' || (d.status === 'approved' && d.test_due_date === d.new_due_date)
+        ? [
+            {
+              id: d.id,
+              limitId: d.limit_id,
+              tag: d.tag,
+              areaId: d.area_id,
+              status: d.status,
+              originalDueDate: d.original_due_date,
+              newDueDate: d.new_due_date,
+            },
+          ]
+        : [],
+    )
 }
 
 /** The end of a calendar day in a zone (the moment the next day starts). */
@@ -1019,11 +1024,11 @@ export async function certificateContext(deps: AppDeps, limitId: number) {
  * from the last passing full test to the new due date, against the target SIL (docs/domain/test-deferrals.md).
  */
 export function deferralRisk(
-  l: { sil: number | null; subsystems: unknown[]; test_interval_months: number },
+  l: { sil: Limit['sil']; subsystems: Subsystem[]; test_interval_months: number },
   lastFullPass: string,
   newDueDate: string,
 ): DeferralRisk {
-  const subsystems = l.subsystems as Subsystem[]
+  const { subsystems } = l
   const stretchedIntervalHours =
     (Date.parse(`${newDueDate}T00:00:00Z`) - Date.parse(`${lastFullPass}T00:00:00Z`)) / 36e5
   if (l.sil === null || subsystems.length === 0)
@@ -1051,7 +1056,7 @@ export function deferralRisk(
       0,
     ),
   )
-  const cmp = compareToTarget(l.sil as Sil, stretchedPfd)
+  const cmp = compareToTarget(l.sil, stretchedPfd)
   return {
     intervalMonths: l.test_interval_months,
     stretchedIntervalHours,
