@@ -1,3 +1,4 @@
+import type { z } from 'zod'
 import canonicalize from 'canonicalize'
 import type { Transaction } from 'kysely'
 import { type AppAbility, DISCIPLINE_REVIEWERS } from '../../../shared/abilities/index.ts'
@@ -128,6 +129,25 @@ function changedFields(record: object, patch: object): PreparedItem['changes'] {
   return changes
 }
 
+/**
+ * An item's changes parsed with the record's patch schema (field messages under `items.changes.`), keeping only
+ * what differs from the record; an item that changes nothing is refused.
+ */
+function itemChanges(schema: z.ZodType, record: object, raw: unknown, what: string): PreparedItem['changes'] {
+  const parsed = safeParsePatch(schema, raw)
+  if (!parsed.success)
+    throw validationFailed(
+      Object.fromEntries(parsed.error.issues.map((i) => [`items.changes.${i.path.join('.')}`, [i.message]])),
+    )
+  const changes = changedFields(record, parsed.data)
+  if (!Object.keys(changes).length) throw validationFailed({ items: [`The item changes nothing on ${what}`] })
+  return changes
+}
+
+/** The values an item sets, by field. */
+const valuesAfter = (changes: PreparedItem['changes']) =>
+  Object.fromEntries(Object.entries(changes).map(([k, v]) => [k, v.to]))
+
 const LIMIT_EDITABLE = new Set(Object.keys(CreateLimitInputSchema.shape).filter((k) => k !== 'processId'))
 
 /** Turns an item input into its stored form: from-values, base revision, operating window before and after. */
@@ -135,22 +155,12 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
   if (input.kind === 'instrument') {
     const inst = await lockInstrument(trx, input.instrumentId)
     if (inst.siteId !== siteId) throw validationFailed({ items: [`Instrument ${inst.tag} belongs to another site`] })
-    const parsed = safeParsePatch(UpdateInstrumentInputSchema, input.changes)
-    if (!parsed.success)
-      throw validationFailed(
-        Object.fromEntries(parsed.error.issues.map((i) => [`items.changes.${i.path.join('.')}`, [i.message]])),
-      )
-    const changes = changedFields(inst, parsed.data)
-    if (!Object.keys(changes).length)
-      throw validationFailed({ items: [`The item changes nothing on instrument ${inst.tag}`] })
+    const changes = itemChanges(UpdateInstrumentInputSchema, inst, input.changes, `instrument ${inst.tag}`)
     const limits = await repo.limitsOnInstrument(trx, inst.id)
     // the window after: apply inside a savepoint of this transaction that is always rolled back (the row is locked
     // by this transaction, so a transaction of its own would wait on it for ever)
     const after = await repo.withRolledBackSavepoint(trx, async () => {
-      const draft = parsePatch(
-        UpdateInstrumentInputSchema,
-        Object.fromEntries(Object.entries(changes).map(([k, v]) => [k, v.to])),
-      )
+      const draft = parsePatch(UpdateInstrumentInputSchema, valuesAfter(changes))
       await repo.setInstrumentRanges(trx, inst.id, draft)
       const blocked = await recomputeWindowsForInstrument(trx, inst.id)
       return { blocked, rows: await repo.limitsOnInstrument(trx, inst.id) }
@@ -219,17 +229,10 @@ async function prepareItem(deps: AppDeps, trx: Trx, siteId: number, input: Chang
   }
   const unknown = Object.keys(input.changes).filter((k) => !LIMIT_EDITABLE.has(k))
   if (unknown.length) throw validationFailed({ items: [`These fields cannot be changed: ${unknown.join(', ')}`] })
-  const parsed = safeParsePatch(UpdateLimitInputSchema, input.changes)
-  if (!parsed.success)
-    throw validationFailed(
-      Object.fromEntries(parsed.error.issues.map((i) => [`items.changes.${i.path.join('.')}`, [i.message]])),
-    )
-  const changes = changedFields(limit, parsed.data)
-  if (!Object.keys(changes).length)
-    throw validationFailed({ items: [`The item changes nothing on limit ${limit.tag}`] })
+  const changes = itemChanges(UpdateLimitInputSchema, limit, input.changes, `limit ${limit.tag}`)
   const draft = CreateLimitInputSchema.parse({
     ...limitSnapshot(limit),
-    ...Object.fromEntries(Object.entries(changes).map(([k, v]) => [k, v.to])),
+    ...valuesAfter(changes),
     processId: limit.processId,
   })
   const ev = await evaluateLimit(trx, draft, limit.siteId, limit.id)
@@ -966,7 +969,7 @@ async function applyItem(
     changes: Record<string, { from: unknown; to: unknown }>
   },
 ) {
-  const to = Object.fromEntries(Object.entries(item.changes).map(([k, v]) => [k, v.to]))
+  const to = valuesAfter(item.changes)
   if (item.kind === 'instrument') {
     const inst = await lockInstrument(trx, item.instrument_id!)
     if (inst.revision !== item.base_revision)

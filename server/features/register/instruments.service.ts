@@ -11,9 +11,10 @@ import { allows, authorize, ensureVisible } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
-import { AppError, enforce, notFound, validationFailed } from '../../errors.ts'
+import { AppError, enforce, notFound } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { recomputeWindowsForInstrument } from './limits.service.ts'
+import { processForNew } from './processes.service.ts'
 import * as repo from './instruments.repository.ts'
 import { toInstrument } from './register.mappers.ts'
 
@@ -82,10 +83,7 @@ export async function createInstrument(
   ctx: AuditContext,
   input: CreateInstrumentInput,
 ) {
-  const process = await repo.findProcessRowById(deps.db, input.processId)
-  // another site's process answers as a missing one (docs/security.md#authorization)
-  if (!process || !allows(ability, 'read', 'Process', { siteId: process.site_id }))
-    throw validationFailed({ processId: ['The process does not exist'] })
+  const process = processForNew(ability, await repo.findProcessRowById(deps.db, input.processId))
   authorize(ability, 'create', 'Instrument', { siteId: process.site_id })
   const id = await deps.db.transaction().execute((trx) => insertInstrument(trx, deps.clock, ctx, input, process))
   return load(deps.db, id)

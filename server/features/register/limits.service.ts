@@ -7,13 +7,14 @@ import { ErrorCode } from '../../../shared/errors.ts'
 import type { CreateLimitInput, Limit, UpdateLimitInput } from '../../../shared/schemas/register.ts'
 import { CreateLimitInputSchema } from '../../../shared/schemas/register.ts'
 import type { SitePolicy } from '../../../shared/schemas/sites.ts'
-import { allows, authorize, ensureVisible } from '../../authorize.ts'
+import { authorize, ensureVisible } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
 import { AppError, enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { policyOf } from '../sites/sites.service.ts'
+import { processForNew } from './processes.service.ts'
 import * as repo from './limits.repository.ts'
 import { limitSnapshot, toLimit } from './register.mappers.ts'
 
@@ -178,10 +179,7 @@ export async function createLimit(
   ctx: AuditContext,
   input: CreateLimitInput,
 ): Promise<Limit> {
-  const process = await repo.findProcessRow(deps.db, input.processId)
-  // another site's process answers as a missing one (docs/security.md#authorization)
-  if (!process || !allows(ability, 'read', 'Process', { siteId: process.site_id }))
-    throw validationFailed({ processId: ['The process does not exist'] })
+  const process = processForNew(ability, await repo.findProcessRow(deps.db, input.processId))
   authorize(ability, 'create', 'Limit', { siteId: process.site_id })
   const id = await deps.db.transaction().execute((trx) => insertLimit(trx, deps.clock, ctx, input, process))
   return loadLimit(deps.db, id)

@@ -14,6 +14,16 @@ export async function listProcesses(deps: AppDeps, ability: AppAbility, f: { sit
   return { items, total: items.length }
 }
 
+/**
+ * The process a new instrument or limit goes under, as the user may read it; another site's process answers as a
+ * missing one (docs/security.md#authorization).
+ */
+export function processForNew<P extends { site_id: number }>(ability: AppAbility, process: P | undefined): P {
+  if (!process || !allows(ability, 'read', 'Process', { siteId: process.site_id }))
+    throw validationFailed({ processId: ['The process does not exist'] })
+  return process
+}
+
 export async function getProcess(deps: AppDeps, ability: AppAbility, id: number) {
   const row = await repo.findProcessRow(deps.db, id)
   if (!row) throw notFound('Process')
