@@ -37,6 +37,21 @@ export function ensureVisible(
   if (!allows(ability, 'read', name, obj)) throw notFound(what)
 }
 
+/**
+ * A record loaded by its id, as the user may read it: 404 when it is missing or at another site (`what` names it in
+ * the message; the subject's name by default), see ensureVisible.
+ */
+export function readableRow<R extends { site_id: number }>(
+  row: R | null | undefined,
+  ability: AppAbility,
+  name: Exclude<SubjectName, 'all'>,
+  what: string = name,
+): R {
+  if (!row) throw notFound(what)
+  ensureVisible(ability, name, { siteId: row.site_id }, what)
+  return row
+}
+
 /** Every site where the user holds any role (what they may read). */
 export function userSiteIds(user: { roles: { siteId: number }[] } | null): number[] {
   return [...new Set((user?.roles ?? []).map((r) => r.siteId))]

@@ -11,7 +11,7 @@ import {
   type JournalUpload,
 } from '../../../shared/schemas/alarms.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { authorize } from '../../authorize.ts'
+import { authorize, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { AlarmJournalUploadTable } from '../../db/schema.ts'
 import { validationFailed } from '../../errors.ts'
@@ -23,7 +23,6 @@ import {
   headerOf,
   isRefusal,
   progressReporter,
-  readableUpload,
   runQueuedLoad,
   uploadFileName,
   uploadsPage,
@@ -340,9 +339,7 @@ function journalLine(
 }
 
 export async function getJournalUpload(deps: AppDeps, ability: AppAbility, id: number): Promise<JournalUpload> {
-  return toDto(
-    readableUpload(await repo.journalUploadById(deps.db, id), ability, 'AlarmJournal', 'Alarm journal upload'),
-  )
+  return toDto(readableRow(await repo.journalUploadById(deps.db, id), ability, 'AlarmJournal', 'Alarm journal upload'))
 }
 
 export function listJournalUploads(

@@ -3,9 +3,9 @@ import { alarmStateVerdicts, isOverdue, mayStart } from '../../../shared/domain/
 import type { AlarmState, AlarmStateInput } from '../../../shared/schemas/alarms.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
 import type { Role } from '../../../shared/schemas/users.ts'
-import { authorize, scopeSites, ensureVisible } from '../../authorize.ts'
+import { authorize, readableRow, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import { enforce, notFound, validationFailed } from '../../errors.ts'
+import { enforce, validationFailed } from '../../errors.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
@@ -141,9 +141,7 @@ export async function endAlarmState(
   id: number,
   note: string,
 ): Promise<AlarmState> {
-  const found = await repo.stateById(deps.db, id)
-  if (!found) throw notFound('Alarm state')
-  ensureVisible(ability, 'AlarmState', { siteId: found.site_id }, 'Alarm state')
+  const found = readableRow(await repo.stateById(deps.db, id), ability, 'AlarmState', 'Alarm state')
   authorize(ability, 'update', 'AlarmState', { siteId: found.site_id })
   await deps.db.transaction().execute(async (trx) => {
     const r = (await repo.lockState(trx, id))!
@@ -183,8 +181,6 @@ export async function listAlarmStates(
 }
 
 export async function getAlarmState(deps: AppDeps, ability: AppAbility, user: CurrentUser, id: number) {
-  const r = await repo.stateById(deps.db, id)
-  if (!r) throw notFound('Alarm state')
-  ensureVisible(ability, 'AlarmState', { siteId: r.site_id }, 'Alarm state')
+  const r = readableRow(await repo.stateById(deps.db, id), ability, 'AlarmState', 'Alarm state')
   return toDto(r, user, deps.clock.now())
 }

@@ -2,38 +2,24 @@ import { createHash } from 'node:crypto'
 import { createReadStream } from 'node:fs'
 import { rm } from 'node:fs/promises'
 import type pg from 'pg'
-import type { AppAbility } from '../../../shared/abilities/index.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { ensureVisible, scopeSites } from '../../authorize.ts'
+import { scopeSites } from '../../authorize.ts'
 import type { AlarmUploadStatus } from '../../db/schema.ts'
 import type { AppDeps } from '../../deps.ts'
-import { notFound } from '../../errors.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { badFile } from '../register/imports.service.ts'
 import { copyInto } from './alarms.repository.ts'
 import { type FileKind, readRows, sniffFile } from './file-rows.ts'
 
 // What the two bulk loads of the alarms feature (alarm journals, process data) share: the upload's stored name, the
-// header row, the file's checksum, a buffered COPY, the job's frame and progress reports, reading and listing the
-// uploads. docs/alarms.md.
+// header row, the file's checksum, a buffered COPY, the job's frame and progress reports, listing the uploads.
+// docs/alarms.md.
 
 /** An upload row as both kinds store it. */
 interface UploadRow {
   site_id: number
   status: AlarmUploadStatus
   file_path: string | null
-}
-
-/** An upload the user may read; another site's answers 404 exactly as a missing one. */
-export function readableUpload<R extends UploadRow>(
-  row: R | undefined,
-  ability: AppAbility,
-  subject: 'AlarmJournal' | 'Replay',
-  what: string,
-): R {
-  if (!row) throw notFound(what)
-  ensureVisible(ability, subject, { siteId: row.site_id }, what)
-  return row
 }
 
 /** A page of the uploads at the user's sites (or at the one site asked for), newest first. */

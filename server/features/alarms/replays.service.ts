@@ -10,7 +10,7 @@ import {
 } from '../../../shared/domain/alarm-limit-state.ts'
 import type { ReplayRun, ReplayRunInput, ReplayUpload } from '../../../shared/schemas/alarms.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { authorize } from '../../authorize.ts'
+import { authorize, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { ProcessDataUploadTable } from '../../db/schema.ts'
 import { notFound, unprocessable, validationFailed } from '../../errors.ts'
@@ -230,7 +230,7 @@ export async function runReplayUpload(deps: AppDeps, id: number): Promise<void> 
 }
 
 const readableReplay = async (deps: AppDeps, ability: AppAbility, id: number) =>
-  load.readableUpload(await repo.replayUploadById(deps.db, id), ability, 'Replay', 'Process-data upload')
+  readableRow(await repo.replayUploadById(deps.db, id), ability, 'Replay', 'Process-data upload')
 
 export async function getReplayUpload(deps: AppDeps, ability: AppAbility, id: number) {
   return toDto(await readableReplay(deps, ability, id))

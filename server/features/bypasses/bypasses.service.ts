@@ -15,7 +15,7 @@ import {
 import type { Verdict } from '../../../shared/domain/rules/verdict.ts'
 import type { ActivateBypassInput, BypassDto, CreateBypassInput } from '../../../shared/schemas/bypasses.ts'
 import type { SitePolicy } from '../../../shared/schemas/sites.ts'
-import { allows, ensureVisible } from '../../authorize.ts'
+import { allows, ensureVisible, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { conflict, enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -295,9 +295,7 @@ async function factsFor(db: Parameters<typeof repo.lockBypass>[0], id: number, n
 
 /** The site of a bypass, for the actor's roles (404 for a missing bypass and for one the user cannot see). */
 async function siteOf(deps: AppDeps, ability: AppAbility, id: number) {
-  const b = await repo.findBypassSite(deps.db, id)
-  if (!b) throw notFound('Bypass')
-  ensureVisible(ability, 'Bypass', { siteId: b.site_id }, 'Bypass')
+  const b = readableRow(await repo.findBypassSite(deps.db, id), ability, 'Bypass')
   return b.site_id
 }
 

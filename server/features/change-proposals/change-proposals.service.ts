@@ -10,9 +10,9 @@ import type {
   CreateChangeProposalInput,
 } from '../../../shared/schemas/change-proposals.ts'
 import { notRetiredVerdict } from '../../../shared/domain/rules/limits.ts'
-import { ensureVisible } from '../../authorize.ts'
+import { readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import { enforce, notFound, validationFailed } from '../../errors.ts'
+import { enforce, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { findUsersWithRole } from '../users/users.repository.ts'
@@ -39,9 +39,7 @@ function toDto(r: repo.ProposalRow): ChangeProposalDto {
 }
 
 export async function getProposal(deps: AppDeps, ability: AppAbility, id: number, db: AppDeps['db'] | Trx = deps.db) {
-  const row = await repo.findProposal(db, id)
-  if (!row) throw notFound('Change proposal')
-  ensureVisible(ability, 'ChangeProposal', { siteId: row.site_id }, 'Change proposal')
+  const row = readableRow(await repo.findProposal(db, id), ability, 'ChangeProposal', 'Change proposal')
   return toDto(row)
 }
 
@@ -104,9 +102,7 @@ export async function createProposal(
 
 /** Locks the proposal and enforces the rule book's answer. */
 async function guard(ability: AppAbility, ctx: AuditContext, trx: Trx, id: number, action: ProposalAction) {
-  const row = await repo.findProposal(trx, id, true)
-  if (!row) throw notFound('Change proposal')
-  ensureVisible(ability, 'ChangeProposal', { siteId: row.site_id }, 'Change proposal')
+  const row = readableRow(await repo.findProposal(trx, id, true), ability, 'ChangeProposal', 'Change proposal')
   enforce(changeProposalRules({ siteId: row.site_id, status: row.status }, { id: ctx.actorId!, ability })[action])
   return row
 }

@@ -11,7 +11,7 @@ import type {
   DemandRates,
 } from '../../../shared/schemas/demands.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { authorize, ensureVisible } from '../../authorize.ts'
+import { authorize, ensureVisible, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -126,9 +126,7 @@ export async function recordDemand(
   ctx: AuditContext,
   input: CreateDemandValues,
 ): Promise<DemandDto> {
-  const limit = await repo.findLimitForDemand(deps.db, input.limitId)
-  if (!limit) throw notFound('Limit')
-  ensureVisible(ability, 'Limit', { siteId: limit.site_id }, 'Limit')
+  const limit = readableRow(await repo.findLimitForDemand(deps.db, input.limitId), ability, 'Limit')
   const now = deps.clock.now()
   const occurredAt = new Date(input.occurredAt)
   enforce(
@@ -175,9 +173,7 @@ export async function classifyDemand(
   input: ClassifyDemandValues,
 ): Promise<DemandDto> {
   await deps.db.transaction().execute(async (trx) => {
-    const d = await repo.findDemandFacts(trx, id, true)
-    if (!d) throw notFound('Demand')
-    ensureVisible(ability, 'Demand', { siteId: d.site_id }, 'Demand')
+    const d = readableRow(await repo.findDemandFacts(trx, id, true), ability, 'Demand')
     const now = deps.clock.now()
     enforce(demandVerdicts(facts(d), { userId: ctx.actorId!, ability }, policyOf(d), now).classify)
     await repo.classifyDemandRow(trx, id, {
@@ -205,9 +201,7 @@ export async function creditDemand(
   id: number,
   input: CreditDemandValues,
 ): Promise<DemandDto> {
-  const pre = await repo.findDemandFacts(deps.db, id)
-  if (!pre) throw notFound('Demand')
-  ensureVisible(ability, 'Demand', { siteId: pre.site_id }, 'Demand')
+  const pre = readableRow(await repo.findDemandFacts(deps.db, id), ability, 'Demand')
   // role, policy and state first (nothing written), then the slow password check, then the locked transaction
   enforce(demandVerdicts(facts(pre), { userId: ctx.actorId!, ability }, policyOf(pre), deps.clock.now()).credit)
   const signer = await verifySignaturePassword(deps, ctx.actorId!, input.password, ctx, {
@@ -343,9 +337,7 @@ export async function setDemandAssumptions(
   limitId: number,
   input: DemandAssumptionsValues,
 ): Promise<DemandAssumptions> {
-  const before = await repo.findLimitAssumptions(deps.db, limitId)
-  if (!before) throw notFound('Limit')
-  ensureVisible(ability, 'Limit', { siteId: before.site_id }, 'Limit')
+  const before = readableRow(await repo.findLimitAssumptions(deps.db, limitId), ability, 'Limit')
   authorize(ability, 'update', 'Limit', { siteId: before.site_id })
   const now = deps.clock.now()
   if (input.commissionedAt && new Date(`${input.commissionedAt}T00:00:00Z`) > now)

@@ -12,10 +12,10 @@ import {
   type HistoryUploadFields,
 } from '../../../shared/schemas/history-import.ts'
 import { IMPORT_MAX_ROWS, type ImportError } from '../../../shared/schemas/imports.ts'
-import { authorize, ensureVisible } from '../../authorize.ts'
+import { authorize, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { BypassTable, Database, TripTestTable } from '../../db/schema.ts'
-import { AppError, invalidState, notFound, validationFailed } from '../../errors.ts'
+import { AppError, invalidState, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { resolveColumnMapping } from '../register/column-mapping.ts'
 import {
@@ -349,9 +349,7 @@ export async function commitHistoryImport(
   id: number,
 ): Promise<HistoryImportResult> {
   return deps.db.transaction().execute(async (trx) => {
-    const batch = await repo.lockHistoryBatch(trx, id)
-    if (!batch) throw notFound('History import')
-    ensureVisible(ability, 'Limit', { siteId: batch.site_id }, 'History import')
+    const batch = readableRow(await repo.lockHistoryBatch(trx, id), ability, 'Limit', 'History import')
     authorize(ability, 'import', 'Limit', { siteId: batch.site_id })
     if (batch.status !== 'checked')
       throw invalidState(

@@ -13,9 +13,9 @@ import {
   type FindingListQuery,
   type LimitReconciliation,
 } from '../../../shared/schemas/reconciliation.ts'
-import { ensureVisible, scopeSites } from '../../authorize.ts'
+import { readableRow, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import { conflict, enforce, invalidState, notFound, unprocessable } from '../../errors.ts'
+import { conflict, enforce, invalidState, unprocessable } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { contentHash, signAs, listSignatures } from '../signatures/signatures.ts'
@@ -118,9 +118,7 @@ export async function listFindings(
 }
 
 export async function getFinding(deps: AppDeps, ability: AppAbility, id: number): Promise<Finding> {
-  const f = await repo.findFinding(deps.db, id)
-  if (!f) throw notFound('Finding')
-  ensureVisible(ability, 'Finding', { siteId: f.site_id }, 'Finding')
+  const f = readableRow(await repo.findFinding(deps.db, id), ability, 'Finding')
   return (await toFindings(deps, ability, [f]))[0]
 }
 
@@ -131,9 +129,7 @@ async function locked(
   id: number,
   version: number,
 ) {
-  const f = await repo.lockFinding(trx, id)
-  if (!f) throw notFound('Finding')
-  ensureVisible(ability, 'Finding', { siteId: f.site_id }, 'Finding')
+  const f = readableRow(await repo.lockFinding(trx, id), ability, 'Finding')
   if (f.version !== version)
     throw conflict('The finding changed since you opened it (a run or a colleague): reload it and try again')
   void deps
@@ -208,9 +204,7 @@ export async function acceptFinding(
   id: number,
   input: z.output<typeof AcceptInputSchema>,
 ): Promise<Finding> {
-  const before = await repo.findFinding(deps.db, id)
-  if (!before) throw notFound('Finding')
-  ensureVisible(ability, 'Finding', { siteId: before.site_id }, 'Finding')
+  const before = readableRow(await repo.findFinding(deps.db, id), ability, 'Finding')
   // role and state first (403/409, nothing written), then the slow password check, then the locked transaction
   enforce(findingVerdict(recordOf(before), actorOf(ability, before.site_id), 'accept'))
   const signer = await verifySignaturePassword(deps, ctx.actorId!, input.password, ctx, {
@@ -282,9 +276,7 @@ export async function limitReconciliations(
   ability: AppAbility,
   limitId: number,
 ): Promise<LimitReconciliation[]> {
-  const limit = await repo.findLimitSite(deps.db, limitId)
-  if (!limit) throw notFound('Limit')
-  ensureVisible(ability, 'Limit', { siteId: limit.site_id }, 'Limit')
+  readableRow(await repo.findLimitSite(deps.db, limitId), ability, 'Limit')
   const rows = await repo.limitReconciliations(deps.db, limitId)
   return rows.map((r) => ({
     sourceId: r.source_id,

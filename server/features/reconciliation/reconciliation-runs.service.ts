@@ -11,7 +11,7 @@ import {
   TolerancesSchema,
 } from '../../../shared/schemas/reconciliation.ts'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
-import { ensureVisible, scopeSites } from '../../authorize.ts'
+import { readableRow, scopeSites } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { Config } from '../../config.ts'
 import type { AppDeps } from '../../deps.ts'
@@ -353,8 +353,6 @@ export async function listRuns(
 }
 
 export async function getRun(deps: AppDeps, ability: AppAbility, id: number): Promise<Run> {
-  const r = await repo.findRun(deps.db, id)
-  if (!r) throw notFound('Run')
-  ensureVisible(ability, 'ReconciliationSource', { siteId: r.site_id }, 'Run')
+  const r = readableRow(await repo.findRun(deps.db, id), ability, 'ReconciliationSource', 'Run')
   return toRun(r)
 }

@@ -18,9 +18,9 @@ import {
   type Source,
   type UpdateSourceInputSchema,
 } from '../../../shared/schemas/reconciliation.ts'
-import { authorize, scopeSites, ensureVisible } from '../../authorize.ts'
+import { authorize, readableRow, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import { conflict, invalidState, notFound, validationFailed } from '../../errors.ts'
+import { conflict, invalidState, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { badFile, resolveColumnMapping } from '../register/column-mapping.ts'
 import { readTable } from '../register/imports.service.ts'
@@ -102,9 +102,7 @@ export async function listSources(
 }
 
 export async function getSource(deps: AppDeps, ability: AppAbility, id: number): Promise<Source> {
-  const s = await repo.findSource(deps.db, id)
-  if (!s) throw notFound('Source')
-  ensureVisible(ability, 'ReconciliationSource', { siteId: s.site_id }, 'Source')
+  const s = readableRow(await repo.findSource(deps.db, id), ability, 'ReconciliationSource', 'Source')
   return present(deps, s)
 }
 
@@ -171,9 +169,7 @@ export async function updateSource(
   patch: Partial<z.output<typeof UpdateSourceInputSchema>>,
 ): Promise<Source> {
   await deps.db.transaction().execute(async (trx) => {
-    const s = await repo.lockSource(trx, id)
-    if (!s) throw notFound('Source')
-    ensureVisible(ability, 'ReconciliationSource', { siteId: s.site_id }, 'Source')
+    const s = readableRow(await repo.lockSource(trx, id), ability, 'ReconciliationSource', 'Source')
     authorize(ability, 'update', 'ReconciliationSource', { siteId: s.site_id })
     if (patch.version !== s.version)
       throw conflict('Somebody changed this source since you opened it: reload it and make your change again')
@@ -222,9 +218,7 @@ export async function readNow(
   ctx: AuditContext,
   id: number,
 ): Promise<ReadNowResult> {
-  const s = await repo.findSource(deps.db, id)
-  if (!s) throw notFound('Source')
-  ensureVisible(ability, 'ReconciliationSource', { siteId: s.site_id }, 'Source')
+  const s = readableRow(await repo.findSource(deps.db, id), ability, 'ReconciliationSource', 'Source')
   authorize(ability, 'reconcile', 'ReconciliationSource', { siteId: s.site_id })
   if (s.kind !== 'modbus')
     throw invalidState('Only a live device can be read now; upload an export to this source instead')
@@ -245,9 +239,7 @@ export async function readNow(
 
 /** Runs a live device's reconciliation now. */
 export async function runNow(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number): Promise<Run> {
-  const s = await repo.findSource(deps.db, id)
-  if (!s) throw notFound('Source')
-  ensureVisible(ability, 'ReconciliationSource', { siteId: s.site_id }, 'Source')
+  const s = readableRow(await repo.findSource(deps.db, id), ability, 'ReconciliationSource', 'Source')
   authorize(ability, 'reconcile', 'ReconciliationSource', { siteId: s.site_id })
   if (s.kind !== 'modbus')
     throw invalidState('An export source is reconciled by uploading its export; there is nothing to read now')
@@ -305,9 +297,7 @@ export async function uploadExport(
   file: { buffer: Buffer; fileName: string },
   mapping: ExportMapping | undefined,
 ): Promise<Run & { mapping: Record<string, string>; ignoredColumns: string[] }> {
-  const s = await repo.findSource(deps.db, id)
-  if (!s) throw notFound('Source')
-  ensureVisible(ability, 'ReconciliationSource', { siteId: s.site_id }, 'Source')
+  const s = readableRow(await repo.findSource(deps.db, id), ability, 'ReconciliationSource', 'Source')
   authorize(ability, 'reconcile', 'ReconciliationSource', { siteId: s.site_id })
   if (s.kind !== 'export') throw invalidState('A live device is read, not uploaded: use "run now"')
   const table = await readTable(file.buffer)

@@ -30,7 +30,7 @@ import {
   signalFromText,
   signalToText,
 } from '../../../shared/schemas/register-io.ts'
-import { authorize, ensureVisible } from '../../authorize.ts'
+import { authorize, readableRow } from '../../authorize.ts'
 import { openBaselineChangeRequest } from '../change-requests/change-requests.service.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
@@ -902,9 +902,7 @@ export async function commitImport(
   id: number,
 ): Promise<ImportResult> {
   return deps.db.transaction().execute(async (trx) => {
-    const batch = await repo.lockImportBatch(trx, 'register', id)
-    if (!batch) throw notFound('Import')
-    ensureVisible(ability, 'Limit', { siteId: batch.site_id }, 'Import')
+    const batch = readableRow(await repo.lockImportBatch(trx, 'register', id), ability, 'Limit', 'Import')
     authorize(ability, 'import', 'Limit', { siteId: batch.site_id })
     if (batch.status !== 'checked') {
       throw invalidState(

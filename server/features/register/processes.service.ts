@@ -1,8 +1,8 @@
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
-import { allows, authorize, ensureVisible } from '../../authorize.ts'
+import { allows, authorize, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import { AppError, notFound, validationFailed } from '../../errors.ts'
+import { AppError, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import * as repo from './processes.repository.ts'
 import { toProcess } from './register.mappers.ts'
@@ -25,9 +25,7 @@ export function processForNew<P extends { site_id: number }>(ability: AppAbility
 }
 
 export async function getProcess(deps: AppDeps, ability: AppAbility, id: number) {
-  const row = await repo.findProcessRow(deps.db, id)
-  if (!row) throw notFound('Process')
-  ensureVisible(ability, 'Process', { siteId: row.site_id }, 'Process')
+  const row = readableRow(await repo.findProcessRow(deps.db, id), ability, 'Process')
   return toProcess(row)
 }
 
@@ -75,9 +73,7 @@ export async function updateProcess(
   input: { name?: string; description?: string },
 ) {
   return deps.db.transaction().execute(async (trx) => {
-    const before = await repo.findProcessRow(trx, id, true)
-    if (!before) throw notFound('Process')
-    ensureVisible(ability, 'Process', { siteId: before.site_id }, 'Process')
+    const before = readableRow(await repo.findProcessRow(trx, id, true), ability, 'Process')
     authorize(ability, 'update', 'Process', { siteId: before.site_id })
     const row = await repo.updateProcessRow(trx, id, { ...input, updated_at: deps.clock.now() })
     await appendAudit(trx, deps.clock, ctx, {

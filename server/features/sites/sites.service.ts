@@ -14,7 +14,7 @@ import type {
   UpdateAreaInputSchema,
   UpdateSiteInputSchema,
 } from '../../../shared/schemas/sites.ts'
-import { allows, authorize, ensureVisible } from '../../authorize.ts'
+import { allows, authorize, ensureVisible, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { SiteRow } from '../../db/schema.ts'
 import { conflict, notFound } from '../../errors.ts'
@@ -153,9 +153,7 @@ export async function updateArea(
   input: z.infer<typeof UpdateAreaInputSchema>,
 ): Promise<Area> {
   return deps.db.transaction().execute(async (trx) => {
-    const before = await repo.findAreaRowForUpdate(trx, id)
-    if (!before) throw notFound('Area')
-    ensureVisible(ability, 'Area', { siteId: before.site_id }, 'Area')
+    const before = readableRow(await repo.findAreaRowForUpdate(trx, id), ability, 'Area')
     authorize(ability, 'update', 'Area', { siteId: before.site_id })
     const row = await repo.updateAreaName(trx, id, input.name)
     const area = { id: row.id, siteId: row.site_id, name: row.name }

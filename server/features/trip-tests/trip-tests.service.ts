@@ -48,7 +48,7 @@ import type {
   ScheduleResponse,
 } from '../../../shared/schemas/trip-tests.ts'
 import { TripTestPrecautionsSchema } from '../../../shared/schemas/trip-tests.ts'
-import { allows, authorize, ensureVisible } from '../../authorize.ts'
+import { allows, authorize, readableRow } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database, TripTestTable } from '../../db/schema.ts'
@@ -370,9 +370,7 @@ export async function getTripTest(
   db: Db = deps.db,
   ctx?: AuditContext,
 ): Promise<TripTestDto> {
-  const r = await repo.findTripTestDetail(db, id)
-  if (!r) throw notFound('Trip test')
-  ensureVisible(ability, 'TripTest', { siteId: r.site_id }, 'Trip test')
+  const r = readableRow(await repo.findTripTestDetail(db, id), ability, 'TripTest', 'Trip test')
   const policy = policyOf(r)
   const sigs = await listSignatures(db, ENTITY, [id])
   // the rule book's answers for the caller: the record's page builds its signing buttons from them
@@ -539,9 +537,7 @@ export async function updateTripTest(
   input: TripTestInput,
 ): Promise<TripTestDto> {
   await deps.db.transaction().execute(async (trx) => {
-    const before = await repo.lockTripTest(trx, id)
-    if (!before) throw notFound('Trip test')
-    ensureVisible(ability, 'TripTest', { siteId: before.site_id }, 'Trip test')
+    const before = readableRow(await repo.lockTripTest(trx, id), ability, 'TripTest', 'Trip test')
     const actor = await actorAt(trx, ability, ctx, before.site_id)
     enforce((await verdictsFor(trx, before, actor, deps.clock.now())).verdicts.edit)
     if (input.limitId !== before.limit_id) throw validationFailed({ limitId: ['A record stays with its limit'] })
@@ -583,9 +579,7 @@ export async function signTripTest(
   comment: string,
 ): Promise<TripTestDto> {
   const action = SIGN_ACTION[meaning]
-  const pre = await repo.findTripTest(deps.db, id)
-  if (!pre) throw notFound('Trip test')
-  ensureVisible(ability, 'TripTest', { siteId: pre.site_id }, 'Trip test')
+  const pre = readableRow(await repo.findTripTest(deps.db, id), ability, 'TripTest', 'Trip test')
   const actor = await actorAt(deps.db, ability, ctx, pre.site_id)
   // role and separation of duties first (403, nothing written); the state again inside the transaction
   const early = (await verdictsFor(deps.db, pre, actor, deps.clock.now())).verdicts[action]
@@ -741,9 +735,7 @@ export async function signDegradationMeasures(
   limitId: number,
   input: { compensatingMeasures: string[]; repairDeadline: string; password: string },
 ) {
-  const limit = await repo.findLimitForTest(deps.db, limitId)
-  if (!limit) throw notFound('Limit')
-  ensureVisible(ability, 'Limit', { siteId: limit.site_id }, 'Limit')
+  const limit = readableRow(await repo.findLimitForTest(deps.db, limitId), ability, 'Limit')
   const actor = await actorAt(deps.db, ability, ctx, limit.site_id)
   const now = deps.clock.now()
   const probe = degradationActions(
@@ -833,9 +825,7 @@ export async function approveRepairDeadline(
   limitId: number,
   input: { password: string; comment: string },
 ) {
-  const limit = await repo.findLimitForTest(deps.db, limitId)
-  if (!limit) throw notFound('Limit')
-  ensureVisible(ability, 'Limit', { siteId: limit.site_id }, 'Limit')
+  const limit = readableRow(await repo.findLimitForTest(deps.db, limitId), ability, 'Limit')
   const actor = await actorAt(deps.db, ability, ctx, limit.site_id)
   if (!actor.roles.includes('plant_manager'))
     enforce({ allowed: false, status: 403, reason: 'The plant manager approves a repair deadline beyond the MTTR' })
@@ -890,9 +880,7 @@ export async function getDegradation(
   limitId: number,
   ctx?: AuditContext,
 ): Promise<DegradationResponse> {
-  const limit = await repo.findLimitForTest(deps.db, limitId)
-  if (!limit) throw notFound('Limit')
-  ensureVisible(ability, 'Limit', { siteId: limit.site_id }, 'Limit')
+  const limit = readableRow(await repo.findLimitForTest(deps.db, limitId), ability, 'Limit')
   const actor: RuleActor = ctx ? await actorAt(deps.db, ability, ctx, limit.site_id) : { id: 0, ability, roles: [] }
   const now = deps.clock.now()
   const rows = await repo.listDegradations(deps.db, limitId)
@@ -994,9 +982,7 @@ export async function attachToTripTest(
   ) => Promise<{ id: number; file_name: string; content_type: string; size_bytes: number; sha256: string }>,
 ) {
   return deps.db.transaction().execute(async (trx) => {
-    const row = await repo.lockTripTest(trx, id)
-    if (!row) throw notFound('Trip test')
-    ensureVisible(ability, 'TripTest', { siteId: row.site_id }, 'Trip test')
+    const row = readableRow(await repo.lockTripTest(trx, id), ability, 'TripTest', 'Trip test')
     const actor = await actorAt(trx, ability, ctx, row.site_id)
     enforce((await verdictsFor(trx, row, actor, deps.clock.now())).verdicts.attach)
     const a = await store(trx)
@@ -1108,9 +1094,7 @@ function toDeferralDto(
 }
 
 export async function getDeferral(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number) {
-  const r = await repo.findDeferral(deps.db, id)
-  if (!r) throw notFound('Test deferral')
-  ensureVisible(ability, 'TripTest', { siteId: r.site_id }, 'Test deferral')
+  const r = readableRow(await repo.findDeferral(deps.db, id), ability, 'TripTest', 'Test deferral')
   return toDeferralDto(r, await actorAt(deps.db, ability, ctx, r.site_id), deps.clock.now())
 }
 
@@ -1231,9 +1215,7 @@ export async function decideDeferral(
   decision: 'approve' | 'reject',
   input: { password: string; comment: string },
 ): Promise<TestDeferralDto> {
-  const pre = await repo.findDeferral(deps.db, id)
-  if (!pre) throw notFound('Test deferral')
-  ensureVisible(ability, 'TripTest', { siteId: pre.site_id }, 'Test deferral')
+  const pre = readableRow(await repo.findDeferral(deps.db, id), ability, 'TripTest', 'Test deferral')
   const actor = await actorAt(deps.db, ability, ctx, pre.site_id)
   const early = toDeferralDto(pre, actor, deps.clock.now()).actions[decision]
   if (!early.allowed && early.status === 403) enforce(early)
