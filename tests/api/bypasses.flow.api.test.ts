@@ -3,7 +3,7 @@ import { createApp } from '../../server/app.ts'
 import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
 import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
 import { createMailJob } from '../../server/features/mail/mail.worker.ts'
-import { signedIn } from './helpers/agent.ts'
+import { signedInAs } from './helpers/agent.ts'
 import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -22,12 +22,14 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
   it('goes overdue past its planned end, escalates, and shows in the review', async () => {
     ctx.clock.set('2026-05-04T06:00:00Z')
     const app = createApp(ctx)
-    const eng = await signedIn(app, 'engineer')
-    const approver = await signedIn(app, 'approver')
-    const tech = await signedIn(app, 'technician')
-    const op = await signedIn(app, 'operator')
-    const sup = await signedIn(app, 'supervisor')
-    const mgr = await signedIn(app, 'manager')
+    const { eng, approver, tech, op, sup, mgr } = await signedInAs(app, {
+      eng: 'engineer',
+      approver: 'approver',
+      tech: 'technician',
+      op: 'operator',
+      sup: 'supervisor',
+      mgr: 'manager',
+    })
     const { limit } = await buildHeaterTrip(eng)
     // 06:30 to 10:30, the predefined compensating measures confirmed
     const request = {

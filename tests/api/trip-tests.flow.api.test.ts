@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { signedIn } from './helpers/agent.ts'
+import { signedInAs } from './helpers/agent.ts'
 import { buildHeaterTrip, mvSourceTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -12,10 +12,12 @@ describe('trip tests: a failed test degrades the limit until a full retest passe
   it('records, signs, degrades, records measures, and clears on a passing retest', async () => {
     ctx.clock.set('2026-03-10T09:00:00Z')
     const app = createApp(ctx)
-    const eng = await signedIn(app, 'engineer')
-    const approver = await signedIn(app, 'approver')
-    const tech = await signedIn(app, 'technician')
-    const sup = await signedIn(app, 'supervisor')
+    const { eng, approver, tech, sup } = await signedInAs(app, {
+      eng: 'engineer',
+      approver: 'approver',
+      tech: 'technician',
+      sup: 'supervisor',
+    })
     const { limit } = await buildHeaterTrip(eng)
     await activateLimit({ eng, approver, tech }, limit)
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.testStatus).toBe('never_tested')
