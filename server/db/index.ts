@@ -30,12 +30,17 @@ export async function pingDatabase(db: Db): Promise<void> {
 
 /** True when an error means the database went away (the request may be retried later), not a bad query. */
 export function isConnectionError(err: unknown): boolean {
-  const e = err as { code?: unknown; message?: unknown } | null
-  if (!e || typeof e !== 'object') return false
-  const code = typeof e.code === 'string' ? e.code : ''
+  const code = errorField(err, 'code')
   if (CONNECTION_CODES.has(code) || code.startsWith('08')) return true
-  const message = typeof e.message === 'string' ? e.message : ''
+  const message = errorField(err, 'message')
   return CONNECTION_MESSAGES.some((m) => message.includes(m))
+}
+
+/** A text field of whatever was thrown (`code`: PostgreSQL's SQLSTATE or Node's code), '' when it has none. */
+export function errorField(err: unknown, field: 'code' | 'message' | 'type'): string {
+  if (!err || typeof err !== 'object') return ''
+  const v: unknown = Reflect.get(err, field)
+  return typeof v === 'string' ? v : ''
 }
 
 /**

@@ -2,7 +2,7 @@ import { Kysely, PostgresDialect } from 'kysely'
 import pg from 'pg'
 import type { AppDeps } from '../deps.ts'
 import { logger } from '../logger.ts'
-import { isConnectionError, type Db } from './index.ts'
+import { errorField, isConnectionError, type Db } from './index.ts'
 import type { Database } from './schema.ts'
 
 /** After the standby failed to answer, reads go to the primary for this long before the standby is tried again. */
@@ -50,12 +50,12 @@ export async function onReadStandby<T>(deps: AppDeps, read: (d: AppDeps) => Prom
   try {
     return await read({ ...deps, db: standby.db })
   } catch (err) {
-    const code = (err as { code?: unknown }).code
+    const code = errorField(err, 'code')
     if (isConnectionError(err)) {
       standby.downUntil = deps.clock.now().getTime() + STANDBY_RETRY_MS
       logger
         .child({ component: 'db' })
-        .warn({ message: (err as Error).message }, 'read standby unreachable; heavy reads go to the primary')
+        .warn({ message: errorField(err, 'message') }, 'read standby unreachable; heavy reads go to the primary')
     } else if (code !== RECOVERY_CONFLICT) throw err
     return read(deps)
   }

@@ -2,7 +2,7 @@ import { ForbiddenError } from '@casl/ability'
 import type { ErrorRequestHandler } from 'express'
 import { ZodError } from 'zod'
 import { ErrorCode } from '../../shared/errors.ts'
-import { isConnectionError } from '../db/index.ts'
+import { errorField, isConnectionError } from '../db/index.ts'
 import { AppError } from '../errors.ts'
 import { logger } from '../logger.ts'
 
@@ -44,18 +44,19 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
       .json({ error: { code: ErrorCode.FORBIDDEN, message: err.message || 'You are not allowed to do this' } })
     return
   }
-  const e = err as { type?: string; status?: number; code?: string }
-  if (e?.type === 'entity.parse.failed') {
+  const type = errorField(err, 'type')
+  const code = errorField(err, 'code')
+  if (type === 'entity.parse.failed') {
     res
       .status(400)
       .json({ error: { code: ErrorCode.VALIDATION_FAILED, message: 'The request body is not valid JSON' } })
     return
   }
-  if (e?.type === 'entity.too.large') {
+  if (type === 'entity.too.large') {
     res.status(413).json({ error: { code: ErrorCode.VALIDATION_FAILED, message: 'The request body is too large' } })
     return
   }
-  if (e?.code === '40001' || e?.code === '23505') {
+  if (code === '40001' || code === '23505') {
     res.status(409).json({
       error: {
         code: ErrorCode.CONFLICT,
@@ -75,7 +76,7 @@ export const errorHandler: ErrorRequestHandler = (err, req, res, _next) => {
     })
     return
   }
-  if (e?.code && DATA_ERRORS.has(e.code)) {
+  if (DATA_ERRORS.has(code)) {
     // a value PostgreSQL refuses as data (out of range, bad text): the client sent it, so it is a 400, never a 500
     res
       .status(400)

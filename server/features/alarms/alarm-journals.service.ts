@@ -1,7 +1,12 @@
 import { logger } from '../../logger.ts'
 import { rm } from 'node:fs/promises'
 import type { AppAbility } from '../../../shared/abilities/index.ts'
-import { type AlarmEventKind, EVENT_CODE, JOURNAL_PRIORITIES } from '../../../shared/domain/alarm-figures.ts'
+import {
+  ALARM_EVENT_KINDS,
+  type AlarmEventKind,
+  EVENT_CODE,
+  JOURNAL_PRIORITIES,
+} from '../../../shared/domain/alarm-figures.ts'
 import {
   JOURNAL_COLUMNS,
   JOURNAL_REQUIRED_COLUMNS,
@@ -35,8 +40,7 @@ import type { Selectable } from 'kysely'
 // them into the month-partitioned journal in one transaction: all rows or none. docs/alarms.md.
 
 /** Event words of control-system journals → event kinds (compared in lower case, spaces and dashes ignored). */
-const EVENT_WORDS: Record<string, AlarmEventKind> = {}
-for (const [kind, words] of Object.entries({
+const WORDS_OF_KIND: Record<AlarmEventKind, string[]> = {
   active: ['active', 'alarm', 'alm', 'raised', 'in alarm', 'on', 'activated', 'come', 'came'],
   return: ['return', 'return to normal', 'rtn', 'normal', 'cleared', 'clear', 'off', 'inactive', 'gone', 'ok'],
   acknowledged: ['acknowledged', 'ack', 'acked', 'acknowledge'],
@@ -46,8 +50,9 @@ for (const [kind, words] of Object.entries({
   unsuppressed: ['unsuppressed', 'unsuppress'],
   out_of_service: ['out of service', 'oos', 'removed from service'],
   in_service: ['in service', 'returned to service', 'return to service', 'rts', 'back in service'],
-} satisfies Record<AlarmEventKind, string[]>))
-  for (const w of words) EVENT_WORDS[w.replace(/[\s_-]+/g, '')] = kind as AlarmEventKind
+}
+const EVENT_WORDS: Record<string, AlarmEventKind> = {}
+for (const kind of ALARM_EVENT_KINDS) for (const w of WORDS_OF_KIND[kind]) EVENT_WORDS[w.replace(/[\s_-]+/g, '')] = kind
 
 const PRIORITY_WORDS: Record<string, number> = {
   low: 0,

@@ -17,6 +17,7 @@ import type { ActivateBypassInput, BypassDto, CreateBypassInput } from '../../..
 import type { SitePolicy } from '../../../shared/schemas/sites.ts'
 import { allows, ensureVisible, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
+import { errorField } from '../../db/index.ts'
 import { conflict, enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
@@ -457,7 +458,7 @@ export async function activateBypass(
       })
     })
   } catch (err) {
-    if ((err as { code?: string }).code === '23505')
+    if (errorField(err, 'code') === '23505')
       throw conflict('Another bypass of this limit is active already: one active bypass per limit')
     throw err
   }

@@ -376,9 +376,11 @@ export async function commitHistoryImport(
       )
     const userId = ctx.actorId!
     const todo = outcome.checked.filter((c) => c.action === 'create')
-    const tests = todo.flatMap((c) => (c.record.record === 'test' ? [testRow(c as never, site, id, userId, now)] : []))
-    const bypasses = todo.flatMap((c) =>
-      c.record.record === 'bypass' ? [bypassRow(c as never, site, id, userId, now)] : [],
+    const tests = todo.flatMap(({ record, ...c }) =>
+      record.record === 'test' ? [testRow({ ...c, record }, site, id, userId, now)] : [],
+    )
+    const bypasses = todo.flatMap(({ record, ...c }) =>
+      record.record === 'bypass' ? [bypassRow({ ...c, record }, site, id, userId, now)] : [],
     )
     const commissioned = todo.flatMap((c) =>
       c.record.record === 'commissioning'

@@ -1,9 +1,9 @@
 // Every query of the reconciliation feature (sources, runs, findings, limits' last reconciliation).
-import { type Kysely, sql, type Transaction } from 'kysely'
+import { type Insertable, type Kysely, sql, type Transaction, type Updateable } from 'kysely'
 import type { PendingChange, RegisterLimit } from '../../../shared/domain/reconcile.ts'
 import { normalizeDecimal } from '../../../shared/domain/modbus-decode.ts'
 import type { FindingKind, FindingState, ReconAttribute } from '../../../shared/schemas/reconciliation.ts'
-import type { Database } from '../../db/schema.ts'
+import type { Database, FindingTable, ReconciliationRunTable, ReconciliationSourceTable } from '../../db/schema.ts'
 
 type Q = Kysely<Database> | Transaction<Database>
 type Trx = Transaction<Database>
@@ -38,20 +38,12 @@ export async function listSources(db: Q, siteIds: number[], page: { limit: numbe
   return { rows, total: Number(n) }
 }
 
-export function insertSource(trx: Trx, values: Parameters<ReturnType<Trx['insertInto']>['values']>[0]) {
-  return trx
-    .insertInto('reconciliation_source')
-    .values(values as never)
-    .returning('id')
-    .executeTakeFirstOrThrow()
+export function insertSource(trx: Trx, values: Insertable<ReconciliationSourceTable>) {
+  return trx.insertInto('reconciliation_source').values(values).returning('id').executeTakeFirstOrThrow()
 }
 
-export function updateSource(trx: Trx, id: number, set: Record<string, unknown>) {
-  return trx
-    .updateTable('reconciliation_source')
-    .set(set as never)
-    .where('id', '=', id)
-    .execute()
+export function updateSource(trx: Trx, id: number, set: Updateable<ReconciliationSourceTable>) {
+  return trx.updateTable('reconciliation_source').set(set).where('id', '=', id).execute()
 }
 
 /** Live devices whose next scheduled run is due. */
@@ -189,19 +181,11 @@ export async function loadPendingChanges(db: Q, siteId: number): Promise<Pending
 
 // ---- runs ----
 
-export function insertRun(trx: Trx, values: Parameters<ReturnType<Trx['insertInto']>['values']>[0]) {
-  return trx
-    .insertInto('reconciliation_run')
-    .values(values as never)
-    .returning('id')
-    .executeTakeFirstOrThrow()
+export function insertRun(trx: Trx, values: Insertable<ReconciliationRunTable>) {
+  return trx.insertInto('reconciliation_run').values(values).returning('id').executeTakeFirstOrThrow()
 }
-export function updateRun(trx: Trx, id: number, set: Record<string, unknown>) {
-  return trx
-    .updateTable('reconciliation_run')
-    .set(set as never)
-    .where('id', '=', id)
-    .execute()
+export function updateRun(trx: Trx, id: number, set: Updateable<ReconciliationRunTable>) {
+  return trx.updateTable('reconciliation_run').set(set).where('id', '=', id).execute()
 }
 
 function runQuery(db: Q) {
@@ -261,18 +245,18 @@ export function findingsOfSource(trx: Trx, sourceId: number) {
 }
 export type FindingRow = Awaited<ReturnType<typeof findingsOfSource>>[number]
 
-export async function insertFindings(trx: Trx, rows: Parameters<ReturnType<Trx['insertInto']>['values']>[0][]) {
+export async function insertFindings(trx: Trx, rows: Insertable<FindingTable>[]) {
   for (let i = 0; i < rows.length; i += 1000)
     await trx
       .insertInto('finding')
-      .values(rows.slice(i, i + 1000) as never)
+      .values(rows.slice(i, i + 1000))
       .execute()
 }
 
-export function updateFinding(trx: Trx, id: number, set: Record<string, unknown>) {
+export function updateFinding(trx: Trx, id: number, set: Updateable<FindingTable>) {
   return trx
     .updateTable('finding')
-    .set({ ...set, version: sql<number>`version + 1` } as never)
+    .set({ ...set, version: sql<number>`version + 1` })
     .where('id', '=', id)
     .execute()
 }

@@ -32,7 +32,7 @@ export function lockInstrumentsByTags(trx: Trx, siteId: number, lowerTags: strin
     .select('process.name as process_name')
     .where('instrument.site_id', '=', siteId)
     .where(sql<string>`lower(instrument.tag)`, 'in', lowerTags)
-    .forUpdate(['instrument'] as never)
+    .forUpdate(['instrument'])
     .execute()
 }
 

@@ -13,7 +13,7 @@ export function findInstrumentRow(db: Q, id: number, lock = false) {
     .selectAll('instrument')
     .select('process.name as process_name')
     .where('instrument.id', '=', id)
-  if (lock) q = q.forUpdate(['instrument'] as never)
+  if (lock) q = q.forUpdate(['instrument'])
   return q.executeTakeFirst()
 }
 

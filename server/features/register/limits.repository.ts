@@ -234,7 +234,7 @@ export async function countLimits(db: Q, f: LimitFilters, cap: number): Promise<
 
 export async function findLimitById(db: Q, id: number, lock = false): Promise<LimitListRow | undefined> {
   let q = selectListColumns(baseQuery(db)).where('limit_function.id', '=', id)
-  if (lock) q = q.forUpdate(['limit_function'] as never)
+  if (lock) q = q.forUpdate(['limit_function'])
   return (await q.executeTakeFirst()) as LimitListRow | undefined
 }
 
@@ -243,7 +243,7 @@ export function lockLimitsByTags(trx: Transaction<Database>, siteId: number, low
   return selectListColumns(baseQuery(trx))
     .where('limit_function.site_id', '=', siteId)
     .where(sql<string>`lower(limit_function.tag)`, 'in', lowerTags)
-    .forUpdate(['limit_function'] as never)
+    .forUpdate(['limit_function'])
     .execute()
 }
 
