@@ -29,26 +29,40 @@ export function toQuery(q: Query = {}): string {
 
 /**
  * GET answers asked for before the code that reads them has loaded: on first load the router asks for the page's
- * main list while the page's code loads (docs/architecture.md#first-load). The first `api()` GET of the same address
- * within ten seconds takes the answer instead of asking again; an answer nobody takes is dropped.
+ * main data while the page's code loads, and waits for it (docs/architecture.md#first-load). The answer is kept read
+ * (status and JSON body), so that the first `api()` GET of the same address within ten seconds takes it without
+ * waiting on the network again; an answer nobody takes is dropped.
  */
-const early = new Map<string, { response: Promise<Response>; until: number }>()
+interface Answer {
+  status: number
+  data: unknown
+}
+const early = new Map<string, { answer: Promise<Answer | null>; until: number }>()
 const EARLY_MS = 10_000
 
-export function prefetchGet(url: string, query?: Query) {
+/** Reads an answer's status and JSON body (none for 204, undefined when the body is no JSON). */
+async function readAnswer(res: Response): Promise<Answer> {
+  return { status: res.status, data: res.status === 204 ? undefined : await res.json().catch(() => undefined) }
+}
+
+/** Asks for a GET answer ahead of `api()`; resolves once it is read (never rejects: a failure is asked again). */
+export function prefetchGet(url: string, query?: Query): Promise<void> {
   const now = Date.now()
   for (const [address, e] of early) if (e.until < now) early.delete(address)
   const address = `/api${url}${toQuery(query)}`
-  const response = fetch(address, { headers: { Accept: 'application/json' }, credentials: 'same-origin' })
-  response.catch(() => undefined) // a failed early request is asked again by api(), not reported twice
-  early.set(address, { response, until: now + EARLY_MS })
+  const answer = fetch(address, { headers: { Accept: 'application/json' }, credentials: 'same-origin' }).then(
+    readAnswer,
+    () => null, // a failed early request is asked again by api(), not reported twice
+  )
+  early.set(address, { answer, until: now + EARLY_MS })
+  return answer.then(() => undefined)
 }
 
-function takeEarly(address: string): Promise<Response> | null {
+function takeEarly(address: string): Promise<Answer | null> | null {
   const e = early.get(address)
   if (!e) return null
   early.delete(address)
-  return e.until >= Date.now() ? e.response : null
+  return e.until >= Date.now() ? e.answer : null
 }
 
 /** The only fetch wrapper: JSON in and out, cookies, the CSRF header, and the error envelope turned into ApiError. */
@@ -67,20 +81,24 @@ export async function api<T>(
     payload = JSON.stringify(body)
   }
   const address = `/api${url}${toQuery(opts.query)}`
-  const ask = () => fetch(address, { method, headers, body: payload, credentials: 'same-origin' })
-  const asked = method === 'GET' ? takeEarly(address) : null
-  let res: Response
-  try {
-    res = await (asked ? asked.catch(ask) : ask())
-  } catch {
-    throw new ApiError(0, 'NETWORK', NETWORK_MESSAGE)
+  const asked = method === 'GET' && !opts.raw ? takeEarly(address) : null
+  let answer = asked ? await asked : null
+  if (!answer) {
+    let res: Response
+    try {
+      res = await fetch(address, { method, headers, body: payload, credentials: 'same-origin' })
+    } catch {
+      throw new ApiError(0, 'NETWORK', NETWORK_MESSAGE)
+    }
+    if (res.status === 204) return undefined as T
+    if (opts.raw && res.ok) return res as unknown as T
+    answer = await readAnswer(res)
   }
-  if (res.status === 204) return undefined as T
-  if (opts.raw && res.ok) return res as unknown as T
-  const data = await res.json().catch(() => undefined)
-  if (!res.ok) {
-    const err = ApiError.fromBody(res.status, data)
-    if (res.status === 401 && url !== '/session') onUnauthenticated?.()
+  const { status, data } = answer
+  if (status === 204) return undefined as T
+  if (status < 200 || status > 299) {
+    const err = ApiError.fromBody(status, data)
+    if (status === 401 && url !== '/session') onUnauthenticated?.()
     throw err
   }
   return data as T

@@ -1,6 +1,6 @@
 import { createRouter, createWebHistory, type RouteLocationNormalized } from 'vue-router'
 import type { Action, SubjectName } from '@shared/abilities/index.ts'
-import { setUnauthenticatedHandler } from '@/api/client'
+import { prefetchGet, setUnauthenticatedHandler } from '@/api/client'
 import { ability } from '@/plugins/ability'
 import { useSessionStore } from '@/stores/session'
 import { routes } from './routes'
@@ -12,8 +12,11 @@ declare module 'vue-router' {
     /** The ability needed to open the route. */
     can?: [Action, SubjectName]
     title?: string
-    /** Asks for the page's main data on first load, while the page's code is still loading. */
-    prefetch?: (to: RouteLocationNormalized) => void
+    /**
+     * Asks for the page's main data on first load, while the page's code is still loading; resolves once it is in
+     * (`prefetchGet`, src/api/client.ts).
+     */
+    prefetch?: (to: RouteLocationNormalized) => Promise<unknown>
   }
 }
 
@@ -29,6 +32,24 @@ function preloadViews(to: RouteLocationNormalized) {
   }
 }
 
+/** How long the first load waits for the page's data before it shows the page without it (the data follows). */
+const FIRST_DATA_WAIT_MS = 3000
+
+/**
+ * First load, signed in: asks for what the page (`meta.prefetch`) and the default layout (src/layouts/DefaultLayout.vue:
+ * the user's sites and areas, the count of change requests waiting) will ask for, and waits until it is in, at most
+ * FIRST_DATA_WAIT_MS, so that the page is drawn once with its data (docs/architecture.md#first-load).
+ */
+async function firstLoadData(to: RouteLocationNormalized) {
+  const asked: Promise<unknown>[] = []
+  if (to.meta.layout !== 'auth')
+    asked.push(prefetchGet('/sites'), prefetchGet('/areas'), prefetchGet('/change-requests/waiting-count'))
+  if (to.meta.prefetch) asked.push(to.meta.prefetch(to))
+  let timer: ReturnType<typeof setTimeout> | undefined
+  await Promise.race([Promise.all(asked), new Promise((resolve) => (timer = setTimeout(resolve, FIRST_DATA_WAIT_MS)))])
+  clearTimeout(timer)
+}
+
 router.beforeEach(async (to) => {
   const session = useSessionStore()
   const firstLoad = !session.loaded
@@ -41,7 +62,7 @@ router.beforeEach(async (to) => {
   if (!session.signedIn) return { name: 'sign-in', query: { next: to.fullPath } }
   if (to.meta.can && !ability.can(to.meta.can[0], to.meta.can[1])) return { name: 'home' }
   // and its data while the code still loads (docs/architecture.md#first-load)
-  if (firstLoad) to.meta.prefetch?.(to)
+  if (firstLoad) await firstLoadData(to)
   return true
 })
 

@@ -65,6 +65,7 @@ export function limitExportUrl(format: LimitExportFormat, filters: LimitFilters)
 export const responseSheetsUrl = (query: ResponseSheetsQuery) => `/api/alarm-response-sheets${toQuery(query)}`
 
 export const listProcesses = (query: ProcessListQuery = {}) => http.get<ListResult<Process>>('/processes', { ...query })
+export const prefetchProcesses = (query: ProcessListQuery) => prefetchGet('/processes', { ...query })
 export const createProcess = (input: { areaId: number; name: string; description: string }) =>
   http.post<Process>('/processes', input)
 export const updateProcess = (id: number, input: { name?: string; description?: string }) =>

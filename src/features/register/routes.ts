@@ -1,6 +1,6 @@
 import type { RouteRecordRaw } from 'vue-router'
-import { prefetchRegisterRows } from './api'
-import { registerListQuery } from './composables/useRegisterQuery'
+import { prefetchProcesses, prefetchRegisterRows } from './api'
+import { registerListQuery, registerProcessQuery } from './composables/useRegisterQuery'
 
 export default [
   {
@@ -10,7 +10,11 @@ export default [
     meta: {
       can: ['read', 'Limit'],
       title: 'Register',
-      prefetch: (to) => prefetchRegisterRows(registerListQuery(to.query)),
+      // the page of rows and the choices of the process filter, as the screen will ask for them
+      prefetch: (to) => {
+        const query = registerListQuery(to.query)
+        return Promise.all([prefetchRegisterRows(query), prefetchProcesses(registerProcessQuery(query))])
+      },
     },
   },
   {

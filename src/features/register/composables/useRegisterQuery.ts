@@ -1,5 +1,6 @@
 import { computed, reactive, ref, watch } from 'vue'
 import { type LocationQuery, type LocationQueryRaw, useRoute, useRouter } from 'vue-router'
+import type { ProcessListQuery } from '@shared/schemas/register.ts'
 import type { LimitFilters, LimitListQuery } from '../api'
 
 /** A sort key of the data table, as Vuetify keeps it. */
@@ -124,6 +125,14 @@ function queryForApi(filters: LimitFilters, sortBy: SortItem[], page: number, pa
 export function registerListQuery(query: LocationQuery): LimitListQuery {
   const state = stateFrom(query)
   return queryForApi(filtersForApi(state.filters), state.sortBy, state.page, state.pageSize)
+}
+
+/** The processes the register's process filter offers: those of the chosen sites and areas (all when none). */
+export function registerProcessQuery(filters: { siteId?: number[]; areaId?: number[] }): ProcessListQuery {
+  return {
+    siteId: filters.siteId?.length ? filters.siteId : undefined,
+    areaId: filters.areaId?.length ? filters.areaId : undefined,
+  }
 }
 
 /**
