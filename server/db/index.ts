@@ -71,10 +71,41 @@ export function createDb(connectionString: string, max = 10): { db: Db; pool: pg
   const feed = new ChangeFeed(connectionString)
   registerChangeFeed(pool, feed)
   const end = pool.end.bind(pool)
-  pool.end = (async () => {
-    await feed.close()
-    return end()
-  }) as typeof pool.end
+  let ended: Promise<void> | null = null
+  pool.end = (() =>
+    (ended ??= (async () => {
+      await feed.close()
+      await end()
+    })())) as typeof pool.end
   const db = new Kysely<Database>({ dialect: new PostgresDialect({ pool }), plugins: [feed.plugin()] })
+  // Kysely ends the pool only once a query of its own set it up: ending the pool here too closes connections taken
+  // from it directly (poolOf) when Kysely ran none (pool.end is made safe to call twice above)
+  const destroy = db.destroy.bind(db)
+  db.destroy = async () => {
+    await destroy()
+    await pool.end()
+  }
+  pools.set(db, pool)
   return { db, pool }
+}
+
+const pools = new WeakMap<Db, pg.Pool>()
+
+/**
+ * The pool under a Kysely instance made by createDb (undefined for others): for what Kysely cannot send, such as a
+ * COPY stream (server/features/audit/audit.repository.ts, the chain walk).
+ */
+export function poolOf(db: Db): pg.Pool | undefined {
+  return pools.get(db)
+}
+
+/** A Kysely instance over one checked-out connection, so COPY and Kysely statements share a transaction. */
+export function kyselyOn(client: pg.PoolClient): Kysely<Database> {
+  // a stand-in pool whose one connection forwards to the checked-out client (released by the caller, not Kysely)
+  const connection = {
+    query: (...args: unknown[]) => (client.query as (...a: unknown[]) => unknown)(...args),
+    release() {},
+  }
+  const pool = { connect: async () => connection, end: async () => {} }
+  return new Kysely<Database>({ dialect: new PostgresDialect({ pool: pool as unknown as pg.Pool }) })
 }

@@ -1,4 +1,4 @@
-import { Kysely, PostgresDialect, sql, type Transaction } from 'kysely'
+import { sql, type Transaction } from 'kysely'
 import type pg from 'pg'
 import { EVENT_CODE } from '../../../shared/domain/alarm-figures.ts'
 import { from as copyFrom } from 'pg-copy-streams'
@@ -12,16 +12,8 @@ import type { AlarmUploadStatus, Database } from '../../db/schema.ts'
 
 type Q = Db | Transaction<Database>
 
-/** A Kysely instance over one checked-out connection, so COPY and Kysely statements share a transaction. */
-export function kyselyOn(client: pg.PoolClient): Kysely<Database> {
-  // a stand-in pool whose one connection forwards to the checked-out client (released by the caller, not Kysely)
-  const connection = {
-    query: (...args: unknown[]) => (client.query as (...a: unknown[]) => unknown)(...args),
-    release() {},
-  }
-  const pool = { connect: async () => connection, end: async () => {} }
-  return new Kysely<Database>({ dialect: new PostgresDialect({ pool: pool as unknown as pg.Pool }) })
-}
+// shared with the audit chain walk; the alarm services reach it through this module
+export { kyselyOn } from '../../db/index.ts'
 
 /** Opens a COPY … FROM STDIN stream on the connection. */
 export function copyInto(client: pg.PoolClient, statement: string) {

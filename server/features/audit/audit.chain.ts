@@ -1,4 +1,4 @@
-import { dataHash, type EventContent, GENESIS_HASH, hashEvent, sealHash } from './audit.hash.ts'
+import { dataHash, type EventContent, GENESIS_HASH, hashEvent, JsonText, sealHash } from './audit.hash.ts'
 
 // The checks of the chain walk (docs/adr/0003-audit-hash-chain.md, "Verify"), free of the database so that worker
 // threads (server/features/audit/audit.verify.worker.ts) run them on pages of the chain as the main thread does.
@@ -29,58 +29,83 @@ export interface ChainRow extends EventRow {
 }
 
 /**
- * The columns of an event as PostgreSQL writes them into one JSON array per event (`json_build_array`), in the order
- * `rowOf` reads them: a page of the chain comes as one text value, parsed by one JSON.parse off the main thread.
- * JSON.parse gives back each string exactly and each jsonb value as the driver would (it parses jsonb with JSON.parse).
+ * The columns of a sealed event in the order `rowsOfCopy` reads them, as the chain walk has PostgreSQL send them: one
+ * page of the chain as one `COPY … TO STDOUT (FORMAT binary)`, whose rows are length-prefixed raw values (no text to
+ * escape or parse, docs/adr/0003-audit-hash-chain.md, "Verify").
  */
-export const EVENT_ARRAY = `id, (extract(epoch FROM occurred_at) * 1000)::bigint, actor_id, action, entity_type,
-  entity_id, before, after, reason, batch_id, request_id, ip, site_id, data_hash`
-export const CHAIN_ARRAY = `${EVENT_ARRAY}, seq, prev_hash, hash, link`
+export const CHAIN_COLUMNS = `seq, id, occurred_at, actor_id, action, entity_type, entity_id, before, after, reason,
+  batch_id::text, request_id, ip, site_id, data_hash, prev_hash, hash, link`
+const CHAIN_FIELDS = 18
 
-/** The array `CHAIN_ARRAY` builds, one element per column in its order. */
-type ChainArray = [
-  id: number,
-  occurredMs: number,
-  actorId: number | null,
-  action: string,
-  entityType: string,
-  entityId: string | null,
-  before: unknown,
-  after: unknown,
-  reason: string | null,
-  batchId: string | null,
-  requestId: string | null,
-  ip: string | null,
-  siteId: number | null,
-  dataHash: string | null,
-  seq: number,
-  prevHash: string,
-  hash: string,
-  link: string | null,
-]
+// PostgreSQL's binary copy format (its manual, "COPY", "Binary Format"): a signature, flags, a header extension, then
+// per row a 16-bit field count and per field a 32-bit length (-1: NULL) and the value; a count of -1 ends it
+const COPY_SIGNATURE = Buffer.from('PGCOPY\n\xff\r\n\0', 'latin1')
+/** 2000-01-01T00:00:00Z in Unix milliseconds: binary timestamps count microseconds from it. */
+const PG_EPOCH_MS = 946_684_800_000
 
-/** An event (and its seal, when the array has one) from its JSON array (indexed, not destructured: a hot path). */
-export function rowOf(a: unknown[]): ChainRow {
-  const c = a as ChainArray
-  return {
-    id: c[0],
-    occurred_ms: c[1],
-    actor_id: c[2],
-    action: c[3],
-    entity_type: c[4],
-    entity_id: c[5],
-    before: c[6],
-    after: c[7],
-    reason: c[8],
-    batch_id: c[9],
-    request_id: c[10],
-    ip: c[11],
-    site_id: c[12],
-    data_hash: c[13],
-    seq: c[14],
-    prev_hash: c[15],
-    hash: c[16],
-    link: c[17],
+/**
+ * The events of a page of the chain from its binary copy (`CHAIN_COLUMNS`), in the order PostgreSQL sent them, one at
+ * a time (an event checked and dropped before the next is read leaves little for the garbage collector): integers from
+ * their big-endian bytes, texts as UTF-8, jsonb as its text (`JsonText`, written canonically from the text by the data
+ * hash), the time as milliseconds. Throws on a copy of another shape.
+ */
+export function* rowsOfCopy(buf: Buffer): Generator<ChainRow> {
+  if (buf.length < 19 || !buf.subarray(0, 11).equals(COPY_SIGNATURE)) throw new Error('not a binary copy')
+  let p = 15
+  p += 4 + buf.readInt32BE(p) // the header extension
+  const len = () => {
+    const n = buf.readInt32BE(p)
+    p += 4
+    return n
+  }
+  const int = (): number | null => {
+    const n = len()
+    if (n < 0) return null
+    const v = n === 4 ? buf.readInt32BE(p) : n === 8 ? buf.readInt32BE(p) * 4294967296 + buf.readUInt32BE(p + 4) : NaN
+    p += n
+    return v
+  }
+  const text = (): string | null => {
+    const n = len()
+    if (n < 0) return null
+    p += n
+    return buf.toString('utf8', p - n, p)
+  }
+  const json = (): JsonText | null => {
+    const n = len()
+    if (n < 0) return null
+    if (buf[p] !== 1) throw new Error('unknown jsonb format') // jsonb's binary form: a version byte, then its text
+    p += n
+    return new JsonText(buf.toString('utf8', p - n + 1, p))
+  }
+  for (;;) {
+    const fields = buf.readInt16BE(p)
+    p += 2
+    if (fields === -1) return
+    if (fields !== CHAIN_FIELDS) throw new Error(`a row of ${fields} fields`)
+    const seq = int()!
+    const id = int()!
+    const us = int()!
+    yield {
+      seq,
+      id,
+      occurred_ms: Math.round(us / 1000) + PG_EPOCH_MS,
+      actor_id: int(),
+      action: text()!,
+      entity_type: text()!,
+      entity_id: text(),
+      before: json(),
+      after: json(),
+      reason: text(),
+      batch_id: text(),
+      request_id: text(),
+      ip: text(),
+      site_id: int(),
+      data_hash: text(),
+      prev_hash: text()!,
+      hash: text()!,
+      link: text(),
+    }
   }
 }
 
@@ -195,18 +220,21 @@ export interface PageCheck {
   marks: (WalkState | null)[]
 }
 
-export function checkPage(rows: ChainRow[], heads: number[], linkOf: (hash: string) => string): PageCheck {
+export function checkPage(rows: Iterable<ChainRow>, heads: number[], linkOf: (hash: string) => string): PageCheck {
   const marks: (WalkState | null)[] = heads.map(() => null)
-  if (!rows.length) return { ok: true, first: null, end: null, marks }
-  const f = rows[0]
-  const first = { id: f.id, seq: f.seq, prev_hash: f.prev_hash, link: f.link, data_hash: f.data_hash }
-  const st: WalkState = { lastSeq: f.seq - 1, lastId: 0, prev: f.prev_hash, checked: 0, unkeyed: 0, keyedFrom: null }
+  let first: ChainLink | null = null
+  let st = genesisState()
   let h = 0
   for (const r of rows) {
+    if (!first) {
+      first = { id: r.id, seq: r.seq, prev_hash: r.prev_hash, link: r.link, data_hash: r.data_hash }
+      st = { lastSeq: r.seq - 1, lastId: 0, prev: r.prev_hash, checked: 0, unkeyed: 0, keyedFrom: null }
+    }
     for (; h < heads.length && heads[h] < r.seq; h++) marks[h] = st.checked ? { ...st } : null
     if (linkProblem(r, st) ?? contentProblem(r, linkOf)) return { ok: false, first, end: null, marks }
     advance(st, r)
   }
+  if (!first) return { ok: true, first: null, end: null, marks }
   for (; h < heads.length; h++) marks[h] = { ...st }
   return { ok: true, first, end: st, marks }
 }

@@ -133,7 +133,118 @@ export function hashEvent(e: HashedContent): string {
 }
 
 const text = (s: string | null) => (s === null ? 'null' : JSON.stringify(s))
-const json = (v: unknown) => (v == null ? 'null' : canonicalJson(v))
+const json = (v: unknown) => (v == null ? 'null' : v instanceof JsonText ? canonicalText(v.text) : canonicalJson(v))
+
+/**
+ * A JSON value as PostgreSQL wrote it (a jsonb column read by the chain walk, docs/adr/0003-audit-hash-chain.md,
+ * "Verify"), kept as text: the data hash writes its canonical form from the text (`canonicalText`) without building the
+ * value. Anything else that serializes it (`canonicalJson`, `JSON.stringify`) sees the parsed value.
+ */
+export class JsonText {
+  constructor(readonly text: string) {}
+  toJSON(): unknown {
+    return JSON.parse(this.text)
+  }
+}
+
+// the last shapes of object seen (their member names in the text's order) and the order canonical form writes them in
+let lastNames: string[] = []
+let lastOrder: number[] = []
+
+/** Index of the quote closing the JSON string opened at `i`, or -1 where the fast path gives up. */
+function stringEnd(t: string, i: number): number {
+  for (let j = i + 1; j < t.length; j++) {
+    const c = t.charCodeAt(j)
+    if (c === 34) return j
+    // an escape, a raw control character (not JSON) or a surrogate (a lone one is written escaped): the general path
+    if (c === 92 || c < 0x20 || (c >= 0xd800 && c <= 0xdfff)) return -1
+  }
+  return -1
+}
+
+const JSON_NUMBER = /^-?(?:0|[1-9][0-9]*)(?:\.[0-9]+)?(?:[eE][+-]?[0-9]+)?$/
+
+/**
+ * RFC 8785 canonical JSON of a JSON text: what `canonicalJson(JSON.parse(t))` answers, and throws where it throws.
+ * An object whose members are strings without escapes, numbers, true, false or null (the common case: a record's
+ * columns), written as jsonb writes it (`{"a": 1, "b": "x"}`) or compactly, is rewritten from its text: members put in
+ * canonical order, numbers as ECMAScript writes them; any other text is parsed and written by `canonicalJson`.
+ * tests/unit/server/audit-hash.test.ts compares both over generated values.
+ */
+export function canonicalText(t: string): string {
+  return flatCanonical(t) ?? canonicalJson(JSON.parse(t))
+}
+
+function flatCanonical(t: string): string | null {
+  const n = t.length
+  if (t.charCodeAt(0) !== 123 || t.charCodeAt(n - 1) !== 125) return null
+  if (n === 2) return '{}'
+  const names: string[] = []
+  const values: string[] = []
+  let i = 1
+  for (;;) {
+    if (t.charCodeAt(i) !== 34) return null
+    const ke = stringEnd(t, i)
+    if (ke < 0 || t.charCodeAt(ke + 1) !== 58) return null
+    names.push(t.slice(i + 1, ke))
+    let v = ke + 2
+    if (t.charCodeAt(v) === 32) v++
+    const c = t.charCodeAt(v)
+    let ve: number // end of the value (exclusive)
+    if (c === 34) {
+      ve = stringEnd(t, v) + 1
+      if (ve === 0) return null
+      values.push(t.slice(v, ve))
+    } else {
+      ve = v
+      while (ve < n && t.charCodeAt(ve) !== 44 && t.charCodeAt(ve) !== 125) ve++
+      const token = t.slice(v, ve)
+      if (token === 'true' || token === 'false' || token === 'null') values.push(token)
+      else {
+        if (!JSON_NUMBER.test(token)) return null // a nested value, white space, or not JSON
+        const x = Number(token)
+        if (!Number.isFinite(x)) return null
+        values.push(JSON.stringify(x))
+      }
+    }
+    if (ve === n - 1) break
+    if (t.charCodeAt(ve) !== 44) return null
+    i = t.charCodeAt(ve + 1) === 32 ? ve + 2 : ve + 1
+  }
+  let order = lastOrder
+  if (names.length !== lastNames.length || names.some((k, j) => k !== lastNames[j])) {
+    order = names.map((_, j) => j).sort((a, b) => (names[a] < names[b] ? -1 : names[a] > names[b] ? 1 : 0))
+    // a name twice: JSON.parse keeps the last, so the general path writes it
+    for (let j = 1; j < order.length; j++) if (names[order[j]] === names[order[j - 1]]) return null
+    lastNames = names
+    lastOrder = order
+  }
+  let s = '{'
+  for (let j = 0; j < order.length; j++) s += `${j ? ',"' : '"'}${names[order[j]]}":${values[order[j]]}`
+  return `${s}}`
+}
+
+// the minute the last time fell in, and its ISO text up to the seconds
+let isoMinute = NaN
+let isoPrefix = ''
+
+/**
+ * `new Date(ms).toISOString()`, the text of the minute kept for the next call (a chain's events come in time order):
+ * what the hashes cover of an event's time. Throws RangeError where toISOString does.
+ */
+export function isoTime(ms: number): string {
+  const t = Math.trunc(ms)
+  const minute = t - (((t % 60_000) + 60_000) % 60_000)
+  if (minute !== isoMinute) {
+    const iso = new Date(minute).toISOString()
+    isoPrefix = iso.slice(0, -7) // without "SS.sssZ"
+    isoMinute = minute
+  }
+  const r = t - minute
+  const sec = Math.floor(r / 1000)
+  const milli = r % 1000
+  return `${isoPrefix}${sec < 10 ? '0' : ''}${sec}.${milli < 10 ? '00' : milli < 100 ? '0' : ''}${milli}Z`
+}
 
 /**
  * The canonical JSON `data_hash` covers (format 3): `{ v: 3, siteId, ...contentMembers }`, written out with the
@@ -146,7 +257,7 @@ export function dataText(e: EventData): string {
     `{"action":${JSON.stringify(e.action)},"actorId":${e.actorId === null ? 'null' : canonicalJson(e.actorId)},` +
     `"after":${json(e.after)},"batchId":${text(e.batchId)},"before":${json(e.before)},` +
     `"entityId":${text(e.entityId)},"entityType":${JSON.stringify(e.entityType)},"ip":${text(e.ip)},` +
-    `"occurredAt":"${e.occurredAt.toISOString()}","reason":${text(e.reason)},"requestId":${text(e.requestId)},` +
+    `"occurredAt":"${isoTime(e.occurredAt.getTime())}","reason":${text(e.reason)},"requestId":${text(e.requestId)},` +
     `"siteId":${e.siteId === null ? 'null' : canonicalJson(e.siteId)},"v":3}`
   )
 }
@@ -178,7 +289,15 @@ export function linkOf(sealed: string, key: Buffer): string {
   return createHmac('sha256', key).update(sealed, 'utf8').digest('hex')
 }
 
-const HEX64 = /^[0-9a-f]{64}$/
+/** 64 lowercase hex digits (a loop over the characters costs less than a regular expression here). */
+function isHex64(s: string): boolean {
+  if (s.length !== 64) return false
+  for (let i = 0; i < 64; i++) {
+    const c = s.charCodeAt(i)
+    if ((c < 48 || c > 57) && (c < 97 || c > 102)) return false
+  }
+  return true
+}
 
 /**
  * `linkOf` with the key fixed, for checking many links: HMAC-SHA256 (RFC 2104) written out as its two SHA-256 over
@@ -195,9 +314,10 @@ export function linkHasher(key: Buffer): (hash: string) => string {
     outer[i] ^= key[i]
   }
   return (sealed) => {
-    if (!HEX64.test(sealed)) return linkOf(sealed, key)
+    if (!isHex64(sealed)) return linkOf(sealed, key)
     inner.write(sealed, 64, 'latin1')
-    ;(hash('sha256', inner, 'buffer') as unknown as Buffer).copy(outer, 64)
+    // the inner digest as a latin1 ('binary') string, one character a byte, costs less than a new Buffer
+    outer.write(hash('sha256', inner, 'binary'), 64, 'latin1')
     return hash('sha256', outer, 'hex')
   }
 }

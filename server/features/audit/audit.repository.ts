@@ -1,11 +1,13 @@
 import { sql, type Transaction } from 'kysely'
 import { type Clock, systemClock } from '../../clock.ts'
-import type { Db } from '../../db/index.ts'
+import { type Db, kyselyOn, poolOf } from '../../db/index.ts'
+import type pg from 'pg'
+import { to as copyTo } from 'pg-copy-streams'
 import type { Database } from '../../db/schema.ts'
 import { availableParallelism } from 'node:os'
 import {
   advance,
-  CHAIN_ARRAY,
+  CHAIN_COLUMNS,
   type CheckpointClaim,
   contentOf,
   contentProblem,
@@ -13,7 +15,7 @@ import {
   genesisState,
   linkProblem,
   type PageCheck,
-  rowOf,
+  rowsOfCopy,
   stitchPages,
   type WalkState,
 } from './audit.chain.ts'
@@ -323,29 +325,53 @@ export { recordedFields } from './audit.chain.ts'
 
 type Reader = Db | Transaction<Database>
 
-/**
- * Where the pages of the chain begin: the chain position of every `size`-th sealed event after the first, read from
- * the positions' index. Page i holds the sealed events from bound i-1 (the first page: from the lowest) to before
- * bound i (the last page: to the highest), so the pages cover every sealed row whatever its position.
- */
-async function pageBounds(db: Reader, size: number): Promise<number[]> {
-  const r = await sql<{ seq: number }>`
-    SELECT seq FROM (SELECT seq, row_number() OVER (ORDER BY seq) AS n FROM audit_event WHERE seq IS NOT NULL) s
-    WHERE n % ${size} = 1 AND n > 1 ORDER BY seq`.execute(db)
-  return r.rows.map((x) => Number(x.seq))
+/** A page of the chain: the sealed events with chain positions in [from, to). */
+interface PageRange {
+  from: number
+  to: number
 }
 
 /**
- * The sealed events with chain positions in [from, to) (null: unbounded) in chain order, as one JSON text built by
- * PostgreSQL (audit.chain.ts, CHAIN_ARRAY): one value to send instead of a row per event.
+ * Pages of `size` chain positions covering every sealed event (at least one page): positions are gap-free, so each page
+ * holds `size` events (fewer where events are missing). Where the positions are sparse (a chain rewritten behind the app), the pages begin
+ * at every `size`-th sealed event instead, read from the positions' index, so no page is empty.
  */
-async function chainPage(db: Reader, from: number | null, to: number | null): Promise<string> {
-  const r = await sql<{ page: string }>`
-    SELECT coalesce(json_agg(e.a), '[]')::text AS page FROM (
-      SELECT json_build_array(${sql.raw(CHAIN_ARRAY)}) AS a FROM audit_event
-      WHERE seq IS NOT NULL ${from === null ? sql`` : sql`AND seq >= ${from}`} ${to === null ? sql`` : sql`AND seq < ${to}`}
-      ORDER BY seq) e`.execute(db)
-  return r.rows[0].page
+async function pageRanges(db: Reader, size: number): Promise<PageRange[]> {
+  const { rows } = await sql<{ lo: number | null; hi: number | null; n: number }>`
+    SELECT min(seq) AS lo, max(seq) AS hi, count(*) AS n FROM audit_event WHERE seq IS NOT NULL`.execute(db)
+  const { lo, hi, n } = rows[0]
+  // no sealed event: one empty page, against which every checkpoint is checked (and finds its events gone)
+  if (lo === null || hi === null) return [{ from: 0, to: 0 }]
+  let starts: number[]
+  if (hi - lo < 2 * n) starts = Array.from({ length: Math.ceil((hi - lo + 1) / size) }, (_, i) => lo + i * size)
+  else {
+    const r = await sql<{ seq: number }>`
+      SELECT seq FROM (SELECT seq, row_number() OVER (ORDER BY seq) AS n FROM audit_event WHERE seq IS NOT NULL) s
+      WHERE n % ${size} = 1 ORDER BY seq`.execute(db)
+    starts = r.rows.map((x) => Number(x.seq))
+  }
+  return starts.map((from, i) => ({ from, to: i + 1 < starts.length ? starts[i + 1] : hi + 1 }))
+}
+
+/**
+ * A page of the chain in chain order as PostgreSQL's binary copy of its events (audit.chain.ts, CHAIN_COLUMNS): one
+ * stream of length-prefixed raw values, the cheapest form PostgreSQL writes rows in, read into one buffer.
+ */
+async function chainPage(client: pg.PoolClient, { from, to }: PageRange): Promise<Buffer> {
+  // COPY takes no parameters: the bounds are integers the walk computed, checked before they are written out
+  if (!Number.isSafeInteger(from) || !Number.isSafeInteger(to)) throw new Error(`bad page ${from}..${to}`)
+  const stream = client.query(
+    copyTo(
+      `COPY (SELECT ${CHAIN_COLUMNS} FROM audit_event WHERE seq >= ${from} AND seq < ${to} ORDER BY seq) TO STDOUT (FORMAT binary)`,
+    ),
+  )
+  const chunks: Buffer[] = []
+  let size = 0
+  for await (const chunk of stream as AsyncIterable<Buffer>) {
+    chunks.push(chunk)
+    size += chunk.length
+  }
+  return Buffer.concat(chunks, size)
 }
 
 /** A page of unsealed events in id order after id `after`. */
@@ -370,12 +396,12 @@ const PARALLEL_FROM_PAGES = 3
  * the data hash written with it (no key guards that yet), and one older than the bound (UNSEALED_BOUND_SECONDS by
  * `clock`) is reported, since the sealer should have linked it.
  *
- * Everything is read in one snapshot (REPEATABLE READ). The chain comes in pages of `pageSize` events, each one JSON
- * text built by PostgreSQL; a long chain's pages are read over two connections sharing the snapshot
+ * Everything is read in one snapshot (REPEATABLE READ). The chain comes in pages of `pageSize` chain positions, each
+ * PostgreSQL's binary copy of its events; a long chain's pages are read over two connections sharing the snapshot
  * (pg_export_snapshot) and checked by `workers` threads side by side, each page on its own, then joined: each page's
  * first event must tie to the page before and each checkpoint hold where its head lies (audit.chain.ts, stitchPages).
  * Every event is hashed again with the key, whatever the pages. When anything fails, the chain is walked again in one
- * piece in the same snapshot to name the first problem.
+ * piece in the same snapshot to name the first problem. `db` must come from createDb (its pool sends the COPY).
  */
 export async function verifyAuditChain(
   db: Db,
@@ -392,96 +418,107 @@ export async function verifyAuditChain(
   const keys = opts.keys ?? loadAuditKeys()
   const pageSize = opts.pageSize ?? 10_000
   const checkpoints = [...(opts.checkpoints ?? [])].sort((a, b) => a.headSeq - b.headSeq)
-  return db
-    .transaction()
-    .setIsolationLevel('repeatable read')
-    .execute(async (trx) => {
-      await sql`SET TRANSACTION READ ONLY`.execute(trx)
-      const bounds = await pageBounds(trx, pageSize)
-      const starts = [null, ...bounds]
-      const ranges = starts.map((from, i) => ({ from, to: i + 1 < starts.length ? starts[i + 1] : null }))
-      const threads = ranges.length >= PARALLEL_FROM_PAGES ? (opts.workers ?? Math.min(availableParallelism(), 4)) : 0
-      const end = await walkInPages(db, trx, ranges, checkpoints, keys.linkKey, threads)
-      const sealed = end ? intact(end) : await walkInOnePiece(trx, ranges, checkpoints, keys.linkKey)
-      if (!sealed.ok) return sealed
-      return checkUnsealed(trx, sealed, opts.clock ?? systemClock, opts.unsealedBoundSeconds, pageSize)
-    })
+  const pool = poolOf(db)
+  if (!pool) throw new Error('verifyAuditChain needs a database made by createDb')
+  const client = await pool.connect()
+  let healthy = false
+  try {
+    await client.query('BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY')
+    const trx = kyselyOn(client)
+    const ranges = await pageRanges(trx, pageSize)
+    const threads = ranges.length >= PARALLEL_FROM_PAGES ? (opts.workers ?? Math.min(availableParallelism(), 4)) : 0
+    const end = await walkInPages(pool, client, ranges, checkpoints, keys.linkKey, threads)
+    let result = end ? intact(end) : await walkInOnePiece(client, ranges, checkpoints, keys.linkKey)
+    if (result.ok)
+      result = await checkUnsealed(trx, result, opts.clock ?? systemClock, opts.unsealedBoundSeconds, pageSize)
+    await client.query('COMMIT')
+    healthy = true
+    return result
+  } finally {
+    // a connection left in a failed transaction or a cut-off COPY is closed rather than handed back
+    client.release(!healthy)
+  }
 }
 
 /**
- * The pages read over `trx` and, when threads are used, one more connection on the same snapshot, checked each on its
- * own and joined; the walk's end, or null when anything failed.
+ * The pages read over `client` and, when threads are used, one more connection on the same snapshot, checked each on
+ * its own and joined; the walk's end, or null when anything failed.
  */
 async function walkInPages(
-  db: Db,
-  trx: Transaction<Database>,
-  ranges: { from: number | null; to: number | null }[],
+  pool: pg.Pool,
+  client: pg.PoolClient,
+  ranges: PageRange[],
   checkpoints: CheckpointClaim[],
   linkKey: Buffer,
   threads: number,
 ): Promise<WalkState | null> {
-  const claims = ranges.map(({ from, to }) =>
-    checkpoints.filter((c) => (from === null || c.headSeq >= from) && (to === null || c.headSeq < to)),
+  // the first page takes the checkpoints before it, the last those past the chain's end (a truncation)
+  const last = ranges.length - 1
+  const claims = ranges.map(({ from, to }, i) =>
+    checkpoints.filter((c) => (i === 0 || c.headSeq >= from) && (i === last || c.headSeq < to)),
   )
-  const pool = threads > 0 ? startPageWorkers(threads, linkKey) : null
-  const check = pool?.check ?? checkPageHere(linkKey)
+  const workers = threads > 0 ? await startPageWorkers(threads, linkKey) : null
+  const check = workers?.check ?? checkPageHere(linkKey)
   const results: Promise<PageCheck>[] = []
   const waiting = ranges.map((_, i) => i)
   let failed = false
   // each reader takes the next page, reads it and hands it to the checks; a failed check stops the reading
-  const read = async (q: Reader) => {
+  const read = async (c: pg.PoolClient) => {
     for (let i = waiting.shift(); i !== undefined && !failed; i = waiting.shift()) {
       const page = i
-      const text = await chainPage(q, ranges[page].from, ranges[page].to).catch((err: unknown) => {
+      const bytes = await chainPage(c, ranges[page]).catch((err: unknown) => {
         waiting.unshift(page) // another reader takes it
         throw err
       })
       results[page] = check(
-        text,
-        claims[page].map((c) => c.headSeq),
+        bytes,
+        claims[page].map((cp) => cp.headSeq),
       ).then((r) => {
         if (!r.ok) failed = true
         return r
       })
-      // at most one page read ahead of the threads (each page's text is some megabytes)
-      if (pool && page > threads) await results[page - threads - 1]
+      // at most a page or two read ahead of each thread (each page's copy is some megabytes)
+      if (workers && page > 2 * threads) await results[page - 2 * threads - 1]
     }
   }
   try {
     // a second reader on the same snapshot; the walk does without it when no connection comes (a busy pool or server)
-    const helper = pool
-      ? sql<{ id: string }>`SELECT pg_export_snapshot() AS id`
-          .execute(trx)
-          .then(({ rows: [{ id }] }) =>
-            db.connection().execute(async (c) => {
+    const helper = workers
+      ? client
+          .query<{ id: string }>('SELECT pg_export_snapshot() AS id')
+          .then(async ({ rows: [{ id }] }) => {
+            // a snapshot id is hex digits and dashes; SET TRANSACTION SNAPSHOT takes a literal only
+            if (!/^[0-9A-F-]+$/i.test(id)) throw new Error(`unexpected snapshot id ${id}`)
+            if (!waiting.length || failed) return
+            const second = await pool.connect()
+            let healthy = false
+            try {
               if (!waiting.length || failed) return
-              // a snapshot id is hex digits and dashes; SET TRANSACTION SNAPSHOT takes a literal only
-              if (!/^[0-9A-F-]+$/i.test(id)) throw new Error(`unexpected snapshot id ${id}`)
-              await sql`BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY`.execute(c)
-              try {
-                await sql`SET TRANSACTION SNAPSHOT ${sql.lit(id)}`.execute(c)
-                await read(c)
-              } finally {
-                await sql`COMMIT`.execute(c)
-              }
-            }),
-          )
+              await second.query('BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY')
+              await second.query(`SET TRANSACTION SNAPSHOT '${id}'`)
+              await read(second)
+              await second.query('COMMIT')
+              healthy = true
+            } finally {
+              second.release(!healthy)
+            }
+          })
           .catch(() => {})
       : Promise.resolve()
-    await read(trx)
+    await read(client)
     await helper
-    await read(trx) // what the second reader handed back
+    await read(client) // what the second reader handed back
     if (failed) return null
     return stitchPages(await Promise.all(results), claims)
   } finally {
-    await pool?.close()
+    await workers?.close()
   }
 }
 
 /** The walk in one piece, page after page in this thread, naming the first problem exactly. */
 async function walkInOnePiece(
-  trx: Transaction<Database>,
-  ranges: { from: number | null; to: number | null }[],
+  client: pg.PoolClient,
+  ranges: PageRange[],
   checkpoints: CheckpointClaim[],
   linkKey: Buffer,
 ): Promise<VerifyResult> {
@@ -537,8 +574,8 @@ async function walkInOnePiece(
     }
     return null
   }
-  for (const { from, to } of ranges) {
-    const rows = (JSON.parse(await chainPage(trx, from, to)) as unknown[][]).map(rowOf)
+  for (const range of ranges) {
+    const rows = rowsOfCopy(await chainPage(client, range))
     for (const r of rows) {
       const pending = settle({ seq: r.seq, id: r.id })
       if (pending) return pending
@@ -564,7 +601,7 @@ function intact(st: WalkState): VerifyResult {
 
 /** The unsealed events: each content against the data hash written with it, and each sealed within the bound. */
 async function checkUnsealed(
-  trx: Transaction<Database>,
+  trx: Reader,
   sealed: VerifyResult,
   clock: Clock,
   boundSeconds: number | undefined,

@@ -1,7 +1,16 @@
 import { createHash } from 'node:crypto'
 import canonicalize from 'canonicalize'
+import fc from 'fast-check'
 import { describe, expect, it } from 'vitest'
-import { canonicalJson, dataHash, dataText, sealHash } from '../../../server/features/audit/audit.hash.ts'
+import {
+  canonicalJson,
+  canonicalText,
+  dataHash,
+  dataText,
+  isoTime,
+  JsonText,
+  sealHash,
+} from '../../../server/features/audit/audit.hash.ts'
 
 // The seal hash of format 3 writes its small object out directly; it must be the RFC 8785 canonical JSON that the
 // reference implementation (the canonicalize package, RFC 8785 §3.2) gives, or another verifier would disagree.
@@ -109,5 +118,97 @@ describe('format-3 hashes', () => {
       const { occurredAt, ...rest } = e
       expect(dataText(e)).toBe(canonicalize({ v: 3, ...rest, occurredAt: occurredAt.toISOString() }))
     }
+  })
+
+  it('canonical JSON from a JSON text, as jsonb writes it or compactly: what the canonicalize package gives', () => {
+    // jsonb's text form (PostgreSQL's manual, "JSON Types"): members ordered shorter names first, ", " and ": " between
+    const jsonbStyle = (v: unknown): string => {
+      if (Array.isArray(v)) return `[${v.map(jsonbStyle).join(', ')}]`
+      if (v !== null && typeof v === 'object') {
+        const names = Object.keys(v).sort((a, b) => a.length - b.length || (a < b ? -1 : a > b ? 1 : 0))
+        const members = names.map((k) => `${JSON.stringify(k)}: ${jsonbStyle((v as Record<string, unknown>)[k])}`)
+        return `{${members.join(', ')}}`
+      }
+      return JSON.stringify(v)
+    }
+    const same = (text: string) => expect(canonicalText(text)).toBe(canonicalize(JSON.parse(text)))
+    const awkward = [
+      '{}',
+      'null',
+      '"text"',
+      '[1, {"b": 2, "a": 1}]',
+      '{"id": 85, "tag": "TZA-85", "status": "active", "deadband": "2", "revision": 149553, "setpoint": "412.5"}',
+      '{"a": 1.50, "b": 1e21, "c": 1E-7, "d": -0, "e": 0.1, "f": 12345678901234567890}',
+      '{"a": true, "b": false, "c": null, "d": ""}',
+      '{"q": "say \\"hi\\"", "t": "tab\\t", "u": "\\u0041\\u00e9", "s": "\\/"}',
+      '{"ä": 1, "z": 2, "🔥": 3, "\uffff": 4, "é": 5, "10": 6, "9": 7}',
+      '{"a": {"y": 1, "x": 2}, "b": [3, 2]}',
+      '{"a": 1, "a": 2}',
+      '{"a":1,"b" :2}',
+      '{"a":1 , "b":2}',
+      '{"b":"x","a":[]}',
+    ]
+    for (const text of awkward) same(text)
+    // the same member names come object after object: the order kept from one must not carry over to another
+    same('{"b": 1, "a": 2}')
+    same('{"b": 1, "c": 2}')
+    same('{"b": 1, "a": 2}')
+    fc.assert(
+      fc.property(fc.jsonValue(), (v) => {
+        same(jsonbStyle(v))
+        same(JSON.stringify(v))
+      }),
+      { numRuns: 500 },
+    )
+    fc.assert(
+      fc.property(fc.dictionary(fc.string(), fc.oneof(fc.string(), fc.double(), fc.integer(), fc.boolean())), (o) => {
+        if (Object.values(o).some((x) => typeof x === 'number' && !Number.isFinite(x))) return
+        same(jsonbStyle(o))
+      }),
+      { numRuns: 500 },
+    )
+    expect(() => canonicalText('{"a": 1')).toThrow()
+  })
+
+  it('data text of an event read as jsonb text: the same as of its parsed values', () => {
+    const e = {
+      siteId: 3,
+      occurredAt: new Date('2026-12-04T15:29:12.854Z'),
+      actorId: null,
+      action: 'limit.update',
+      entityType: 'Limit',
+      entityId: '85',
+      reason: 'benchmark',
+      batchId: null,
+      requestId: 'bench:bulk',
+      ip: null,
+    }
+    const before = '{"id": 85, "tag": "TZA-85", "setpoint": "412.5", "n": [1, {"b": 2, "a": 1}]}'
+    const after = '{"id": 85, "tag": "TZA-85", "setpoint": "415"}'
+    expect(dataText({ ...e, before: new JsonText(before), after: new JsonText(after) })).toBe(
+      canonicalize({
+        v: 3,
+        ...e,
+        occurredAt: e.occurredAt.toISOString(),
+        before: JSON.parse(before),
+        after: JSON.parse(after),
+      }),
+    )
+  })
+
+  it('ISO time from milliseconds: what Date#toISOString writes, in any minute, year or order', () => {
+    const times = [
+      0, 1, -1, 999, 59_999, 60_000, -60_000, -60_001, 1_764_862_152_854, 1_764_862_152_854.7, 253_402_300_799_999,
+      253_402_300_800_000, -62_167_219_200_001, 8.64e15, -8.64e15,
+    ]
+    // 8.64e15 ms either side of 1970 is as far as a Date goes (ECMA-262, "Time Values and Time Range")
+    const valid = [...times, ...times.map((t) => t + 1), ...[...times].reverse()].filter((t) => Math.abs(t) <= 8.64e15)
+    for (const ms of valid) expect(isoTime(ms)).toBe(new Date(ms).toISOString())
+    fc.assert(
+      fc.property(fc.integer({ min: -8.64e15, max: 8.64e15 }), (ms) => {
+        expect(isoTime(ms)).toBe(new Date(ms).toISOString())
+      }),
+    )
+    expect(() => isoTime(NaN)).toThrow(RangeError)
   })
 })
