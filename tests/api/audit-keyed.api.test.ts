@@ -285,6 +285,27 @@ describe('the chain walked in pages by worker threads', () => {
     await asSuperuser([restore])
     expect(await walkBoth()).toMatchObject({ ok: true, checked: all.length })
   })
+
+  it('finds every sealed event gone against a checkpoint that counted them: truncated', async () => {
+    const all = await rows()
+    const claim = claimAt(all, all.length)
+    const cols = Object.keys(all[0])
+    await asSuperuser([['DELETE FROM audit_event', []]])
+    expect(await walkBoth([claim])).toEqual({
+      ok: false,
+      checked: 0,
+      badSeq: 1,
+      problem: `events at chain positions 1 to ${all.length} (checkpoint ${claim.file}) are missing: truncated`,
+      checkpoint: claim.file,
+    })
+    await asSuperuser(
+      all.map((r): [string, unknown[]] => [
+        `INSERT INTO audit_event (${cols.join(', ')}) VALUES (${cols.map((_, i) => `$${i + 1}`).join(', ')})`,
+        cols.map((k) => (k === 'before' || k === 'after' ? JSON.stringify(r[k]) : r[k])),
+      ]),
+    )
+    expect(await walkBoth([claim])).toMatchObject({ ok: true, checked: all.length })
+  })
 })
 
 describe('signed checkpoints outside the database', () => {

@@ -1,4 +1,12 @@
-import { dataHash, type EventContent, GENESIS_HASH, hashEvent, JsonText, sealHash } from './audit.hash.ts'
+import {
+  dataHash,
+  type EventContent,
+  type EventData,
+  GENESIS_HASH,
+  hashEvent,
+  JsonText,
+  sealHash,
+} from './audit.hash.ts'
 
 // The checks of the chain walk (docs/adr/0003-audit-hash-chain.md, "Verify"), free of the database so that worker
 // threads (server/features/audit/audit.verify.worker.ts) run them on pages of the chain as the main thread does.
@@ -128,6 +136,24 @@ export function contentOf(r: EventRow) {
   }
 }
 
+/** What the data hash (format 3) covers of an event as read back: its content and site, in one object. */
+export function dataOf(r: EventRow): EventData {
+  return {
+    occurredAt: new Date(r.occurred_ms),
+    actorId: r.actor_id,
+    action: r.action,
+    entityType: r.entity_type,
+    entityId: r.entity_id,
+    before: r.before,
+    after: r.after,
+    reason: r.reason,
+    batchId: r.batch_id,
+    requestId: r.request_id,
+    ip: r.ip,
+    siteId: r.site_id,
+  }
+}
+
 /** Where the walk stands after an event: its position, id and hash, how many were checked, where keyed links began. */
 export interface WalkState {
   lastSeq: number
@@ -180,14 +206,13 @@ export function linkProblem(r: ChainLink, st: WalkState): Problem | null {
 /** The event on its own: its hashes recomputed from its content, its keyed link recomputed with the key. */
 export function contentProblem(r: ChainRow, linkOf: (hash: string) => string): Problem | null {
   const { id, seq } = r
-  const content = contentOf(r)
   let recomputed: string
   if (r.data_hash !== null) {
-    const d = dataHash({ ...content, siteId: r.site_id })
+    const d = dataHash(dataOf(r))
     recomputed = d === r.data_hash ? sealHash({ id, seq, dataHash: d, prevHash: r.prev_hash }) : ''
   } else
     recomputed = hashEvent({
-      ...content,
+      ...contentOf(r),
       prevHash: r.prev_hash,
       keyed: r.link === null ? undefined : { id, siteId: r.site_id },
     })

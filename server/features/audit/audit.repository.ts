@@ -9,7 +9,7 @@ import {
   advance,
   CHAIN_COLUMNS,
   type CheckpointClaim,
-  contentOf,
+  dataOf,
   contentProblem,
   type EventRow,
   genesisState,
@@ -621,7 +621,7 @@ async function checkUnsealed(
     const page = await unsealedPage(trx, afterId, pageSize)
     for (const r of page) {
       const id = r.id
-      const d = dataHash({ ...contentOf(r), siteId: r.site_id })
+      const d = dataHash(dataOf(r))
       if (d !== r.data_hash) return broken(id, 'hash does not match content')
       const at = r.occurred_ms
       if (!oldest || at < oldest.at) oldest = { id, at }
