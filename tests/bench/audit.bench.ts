@@ -8,17 +8,19 @@
 //    >= 60 % of the unaudited transactions per second.
 // 2. Verifier: BENCH_EVENTS events (limit updates with their before and after values) are written and sealed, then
 //    verifyAuditChain walks them (pages checked by worker threads, one per CPU). Target: >= 200,000 events/s. The CPU
-//    printed is this process's, all threads; PostgreSQL's is not in it.
+//    printed is this process's, all threads, and then PostgreSQL's meanwhile (its server and backends, from /proc).
 // Prints figures and PASS/FAIL; exit code 0 either way, non-zero only when the benchmark itself fails. Not part of
 // `npm test`.
 //
 // Knobs: BENCH_SECONDS (10 per mode), BENCH_WRITERS (8), BENCH_EVENTS (200000).
+import { readdirSync, readFileSync } from 'node:fs'
 import { mkdtemp, rm } from 'node:fs/promises'
 import os from 'node:os'
 import path from 'node:path'
 import { performance } from 'node:perf_hooks'
 import { setTimeout as sleep } from 'node:timers/promises'
 import { execFileSync } from 'node:child_process'
+import { sql } from 'kysely'
 import { systemClock } from '../../server/clock.ts'
 import { createDb, type Db } from '../../server/db/index.ts'
 import { createAuditKeyFile } from '../../server/features/audit/audit.key.ts'
@@ -132,6 +134,19 @@ function runSealer(db: Db, design: Design) {
   }
 }
 
+/** The first column of the first row of a statement run as the superuser; null when it fails. */
+async function superQuery(url: string, statement: string): Promise<string | null> {
+  const { db } = createDb(url, 1)
+  try {
+    const r = await sql.raw<Record<string, string>>(statement).execute(db)
+    return Object.values(r.rows[0] ?? {})[0] ?? null
+  } catch {
+    return null
+  } finally {
+    await db.destroy()
+  }
+}
+
 async function unsealed(db: Db): Promise<number> {
   const r = await db
     .selectFrom('audit_event')
@@ -140,6 +155,34 @@ async function unsealed(db: Db): Promise<number> {
     .executeTakeFirst()
     .catch(() => ({ n: '0' }))
   return Number(r?.n ?? 0)
+}
+
+/**
+ * CPU seconds used so far by the PostgreSQL server whose data directory is `dataDir`: the postmaster, its children (the
+ * backends) and those it has reaped, from /proc (Linux; clock ticks of 1/100 s). Null where they cannot be read.
+ */
+function serverCpuSeconds(dataDir: string): number | null {
+  try {
+    const postmaster = Number(readFileSync(path.join(dataDir, 'postmaster.pid'), 'utf8').split('\n')[0])
+    let ticks = 0
+    for (const entry of readdirSync('/proc')) {
+      if (!/^\d+$/.test(entry)) continue
+      let stat: string
+      try {
+        stat = readFileSync(`/proc/${entry}/stat`, 'utf8')
+      } catch {
+        continue // ended meanwhile
+      }
+      // fields after the command's closing parenthesis: state, ppid, ..., utime (12th), stime (13th), and the CPU of
+      // the children it has reaped (14th, 15th): a backend that ended meanwhile counts through the postmaster
+      const f = stat.slice(stat.lastIndexOf(')') + 2).split(' ')
+      if (Number(entry) === postmaster) ticks += Number(f[11]) + Number(f[12]) + Number(f[13]) + Number(f[14])
+      else if (Number(f[1]) === postmaster) ticks += Number(f[11]) + Number(f[12])
+    }
+    return ticks / 100
+  } catch {
+    return null
+  }
 }
 
 async function main() {
@@ -222,20 +265,31 @@ async function main() {
         `  ${EVENTS.toLocaleString('en')} events written in ${(written / 1000).toFixed(2)} s${design.sealOnce ? `, sealed in ${(sealMs / 1000).toFixed(2)} s (${Math.round(EVENTS / (sealMs / 1000)).toLocaleString('en')} events/s)` : ''}`,
       )
       console.log(`  load before verifying: ${execFileSync('uptime').toString().trim()}`)
+      const dataDir = await superQuery(cluster.superUrl, 'SHOW data_directory')
+      const server0 = dataDir ? serverCpuSeconds(dataDir) : null
       t = performance.now()
       const cpu0 = process.cpuUsage()
       const r = await design.verifyAuditChain(db)
       const verifyMs = performance.now() - t
       const cpu = process.cpuUsage(cpu0)
+      const server1 = dataDir ? serverCpuSeconds(dataDir) : null
       if (!r.ok) throw new Error(`the chain does not verify: ${r.badId} ${r.problem}`)
       const rate = r.checked / (verifyMs / 1000)
       console.log(
         `  verify: ${r.checked.toLocaleString('en')} events in ${(verifyMs / 1000).toFixed(2)} s = ${Math.round(rate).toLocaleString('en')} events/s (target >= ${TARGET_VERIFY.toLocaleString('en')})   ${verdict(rate >= TARGET_VERIFY)}`,
       )
       // the CPU this process spent: wall time well above it means the machine was busy with other work
+      const nodeCpu = (cpu.user + cpu.system) / 1e6
       console.log(
-        `  verify used ${((cpu.user + cpu.system) / 1e6).toFixed(2)} s of this process's CPU, all threads (${Math.round(r.checked / ((cpu.user + cpu.system) / 1e6)).toLocaleString('en')} events per CPU second)`,
+        `  verify used ${nodeCpu.toFixed(2)} s of this process's CPU, all threads (${Math.round(r.checked / nodeCpu).toLocaleString('en')} events per CPU second, ${((nodeCpu * 1e6) / r.checked).toFixed(1)} us per event)`,
       )
+      // PostgreSQL's share runs on the same two cores: with it, the CPU the walk costs the machine
+      if (server0 !== null && server1 !== null) {
+        const pgCpu = server1 - server0
+        console.log(
+          `  PostgreSQL used ${pgCpu.toFixed(2)} s of CPU meanwhile (${((pgCpu * 1e6) / r.checked).toFixed(1)} us per event); both: ${(((nodeCpu + pgCpu) * 1e6) / r.checked).toFixed(1)} us per event`,
+        )
+      }
     } finally {
       await db.destroy()
     }

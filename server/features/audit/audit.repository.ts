@@ -21,7 +21,7 @@ import {
 } from './audit.chain.ts'
 import { dataHash, GENESIS_HASH, sealHash } from './audit.hash.ts'
 import { type AuditKeys, linkHasher, loadAuditKeys } from './audit.key.ts'
-import { checkPageHere, startPageWorkers } from './audit.verify.pages.ts'
+import { checkPageHere, startPageWorkers, workerBundle } from './audit.verify.pages.ts'
 import { AUDIT_ENTITY_SITE, type AuditEntityType } from './audit.sites.ts'
 import { likeEscape } from '../../authorize.ts'
 
@@ -420,6 +420,8 @@ export async function verifyAuditChain(
   const checkpoints = [...(opts.checkpoints ?? [])].sort((a, b) => a.headSeq - b.headSeq)
   const pool = poolOf(db)
   if (!pool) throw new Error('verifyAuditChain needs a database made by createDb')
+  // the worker threads' script is bundled while the snapshot is taken and the pages are counted
+  if (opts.workers !== 0) void workerBundle()
   const client = await pool.connect()
   let healthy = false
   try {

@@ -23,7 +23,7 @@ let bundle: Promise<string | null> | null = null
  * instead of loading tsx (a second or so of CPU per thread). Null when it cannot be bundled: the threads then load
  * the TypeScript sources through tsx, as the app itself runs.
  */
-function workerBundle(): Promise<string | null> {
+export function workerBundle(): Promise<string | null> {
   bundle ??= import('esbuild')
     .then(({ build }) =>
       build({
