@@ -109,6 +109,13 @@ export async function choose(page: Page, field: string, option: string) {
   await page.locator(`[data-test="${field}"]`).click()
   const item = page.locator('.v-overlay--active .v-list-item', { hasText: option }).first()
   await item.waitFor()
+  // a click while the menu still grows in can land before Vuetify listens to the list: wait for its transition to end
+  await page
+    .locator('.v-overlay--active .v-overlay__content')
+    .first()
+    .evaluate(async (el) => {
+      await Promise.all(el.getAnimations({ subtree: true }).map((a) => a.finished.catch(() => null)))
+    })
   await item.click()
   await page.locator('.v-overlay--active .v-list-item').first().waitFor({ state: 'detached' })
 }
