@@ -14,6 +14,7 @@ import {
   deferralActions,
   deferralApproverRole,
   type DeferralStatus,
+  deadlineApprovalStanding,
   degradationActions,
   functionMttrHours,
   graceDaysFor,
@@ -827,8 +828,7 @@ export async function approveRepairDeadline(
 ) {
   const limit = readableRow(await repo.findLimitForTest(deps.db, limitId), ability, 'Limit')
   const actor = await actorAt(deps.db, ability, ctx, limit.site_id)
-  if (!actor.roles.includes('plant_manager'))
-    enforce({ allowed: false, status: 403, reason: 'The plant manager approves a repair deadline beyond the MTTR' })
+  enforce(deadlineApprovalStanding(actor))
   const signer = await verifySignaturePassword(deps, ctx.actorId!, input.password, ctx, {
     entityType: 'Limit',
     entityId: limitId,

@@ -237,6 +237,16 @@ export function functionMttrHours(subsystems: readonly { mttrHours: number }[]):
 }
 
 /**
+ * May this actor approve a repair deadline beyond the MTTR at all (before the degraded state is read)? The plant
+ * manager of the site. The server asks this before the signature password, then approveDeadline in the transaction.
+ */
+export function deadlineApprovalStanding(actor: Pick<RuleActor, 'roles'>): Verdict {
+  return actor.roles.includes('plant_manager')
+    ? allow
+    : forbid('The plant manager approves a repair deadline beyond the MTTR')
+}
+
+/**
  * Actions on a degraded limit:
  * - signMeasures: a shift supervisor of the site, while degraded (they may sign again to revise the measures).
  * - approveDeadline: the plant manager of the site, when the signed deadline lies beyond the function's MTTR.
@@ -257,10 +267,7 @@ export function degradationActions(
       open,
     ),
     approveDeadline: firstRefusal(
-      () =>
-        actor.roles.includes('plant_manager')
-          ? allow
-          : forbid('The plant manager approves a repair deadline beyond the assumed MTTR'),
+      () => deadlineApprovalStanding(actor),
       open,
       () => (d.measuresSigned ? allow : blocked('A shift supervisor signs the measures and the deadline first')),
       () => (d.deadlineBeyondMttr ? allow : blocked('The repair deadline lies within the assumed MTTR')),

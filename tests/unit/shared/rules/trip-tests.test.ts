@@ -4,6 +4,7 @@ import {
   checkDeferralRequest,
   checkRepairDeadline,
   deferralActions,
+  deadlineApprovalStanding,
   deferralApproverRole,
   degradationActions,
   functionMttrHours,
@@ -193,6 +194,24 @@ describe('degraded limits: repair deadline against the assumed MTTR', () => {
     const v = degradationActions(d, who, null, NOW)[action]
     if (want === true) expect(v.allowed).toBe(true)
     else expect(v).toMatchObject({ allowed: false, status: want })
+  })
+  // asked before the degraded state is read: the role alone, with the refusal the approval endpoint answers
+  it.each([
+    ['plant manager', manager, true],
+    ['shift supervisor', sup, 403],
+    ['technician', tech, 403],
+    ['no role at the site', actor(9), 403],
+  ] as const)('deadline approval standing: %s', (_name, who, want) => {
+    const v = deadlineApprovalStanding(who)
+    if (want === true) expect(v).toEqual({ allowed: true })
+    else
+      expect(v).toEqual({
+        allowed: false,
+        status: want,
+        reason: 'The plant manager approves a repair deadline beyond the MTTR',
+      })
+    // the same refusal heads the approveDeadline action on any degraded state
+    expect(degradationActions(base, who, null, NOW).approveDeadline).toEqual(v)
   })
 })
 
