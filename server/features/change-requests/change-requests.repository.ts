@@ -11,6 +11,7 @@ import type {
 import type { Db } from '../../db/index.ts'
 import type { ChangeRequestTable, Database, InstrumentTable } from '../../db/schema.ts'
 import type { Instrument } from '../../../shared/schemas/register.ts'
+import type { ChangeWaitingSites } from '../../../shared/domain/rules/change-requests.ts'
 import { likeEscape } from '../../authorize.ts'
 
 /** Every query of management of change (docs/change-requests.md). Functions take `db` or a transaction first. */
@@ -391,11 +392,7 @@ export interface Waiter {
 type CrEb = ExpressionBuilder<Database, 'change_request'>
 
 /** What waits for this person: to approve, to implement, to implement first (emergency), to close. */
-function waitingFor(
-  eb: CrEb,
-  sites: { approve: number[]; implement: number[]; emergency: number[]; close: number[] },
-  userId: number,
-) {
+function waitingFor(eb: CrEb, sites: ChangeWaitingSites, userId: number) {
   const inSites = (ids: number[]) => eb('change_request.site_id', 'in', ids.length ? ids : [-1])
   return eb.or([
     eb.and([
@@ -440,16 +437,9 @@ function waitingFor(
   ])
 }
 
-export interface WaitingSites {
-  approve: number[]
-  implement: number[]
-  emergency: number[]
-  close: number[]
-}
-
 export async function listRequests(
   db: Q,
-  q: Omit<ChangeListQuery, 'siteId'> & { siteIds: number[]; userId: number; waiting: WaitingSites; now: Date },
+  q: Omit<ChangeListQuery, 'siteId'> & { siteIds: number[]; userId: number; waiting: ChangeWaitingSites; now: Date },
 ) {
   let query = db
     .selectFrom('change_request')
@@ -531,7 +521,7 @@ export async function listRequests(
   return { total: Number(total), rows }
 }
 
-export async function countWaitingRequests(db: Q, siteIds: number[], userId: number, waiting: WaitingSites) {
+export async function countWaitingRequests(db: Q, siteIds: number[], userId: number, waiting: ChangeWaitingSites) {
   const r = await db
     .selectFrom('change_request')
     .where('change_request.site_id', 'in', siteIds.length ? siteIds : [-1])

@@ -26,6 +26,7 @@ import {
   type UpdateChangeRequestInput,
 } from '../../../shared/schemas/change-requests.ts'
 import { normalizeDecimal } from '../../../shared/domain/modbus-decode.ts'
+import type { Role } from '../../../shared/schemas/users.ts'
 import {
   CreateLimitInputSchema,
   UpdateInstrumentInputSchema,
@@ -37,6 +38,7 @@ import {
   type ChangeAction,
   type ChangeActor,
   changeRequestRules,
+  changeWaitingSites,
   implementItemVerdict,
   openChecks,
   reviewVerdict,
@@ -469,19 +471,9 @@ function deviceFieldsOf(kind: string, changes: Record<string, unknown>, expected
   return [...changed, ...state]
 }
 
-type Person = { id: number; roles: { siteId: number; role: string }[] }
+type Person = { id: number; roles: { siteId: number; role: Role }[] }
 
 /** The sites where a person's roles make a request wait for them (to approve, implement, implement first, close). */
-function waitingSites(user: Person): repo.WaitingSites {
-  const sites = (...roles: string[]) => user.roles.filter((r) => roles.includes(r.role)).map((r) => r.siteId)
-  return {
-    approve: sites('approver'),
-    implement: sites('technician', 'control_engineer'),
-    emergency: sites('shift_supervisor'),
-    close: sites('safety_engineer'),
-  }
-}
-
 /** The change list: mine, waiting for me (to approve or implement), all of my sites, or those of one limit. */
 export async function listChangeRequests(
   deps: AppDeps,
@@ -491,7 +483,7 @@ export async function listChangeRequests(
   const { total, rows } = await repo.listRequests(deps.db, {
     ...q,
     userId: user.id,
-    waiting: waitingSites(user),
+    waiting: changeWaitingSites(user.roles),
     now: deps.clock.now(),
   })
   return {
@@ -519,7 +511,12 @@ export async function listChangeRequests(
 
 /** The "waiting for me" counter of the navigation. */
 export async function countWaiting(deps: AppDeps, user: Person): Promise<number> {
-  return repo.countWaitingRequests(deps.db, [...new Set(user.roles.map((r) => r.siteId))], user.id, waitingSites(user))
+  return repo.countWaitingRequests(
+    deps.db,
+    [...new Set(user.roles.map((r) => r.siteId))],
+    user.id,
+    changeWaitingSites(user.roles),
+  )
 }
 
 // ---------- writing ----------

@@ -5,11 +5,12 @@ import {
   DISCIPLINES,
   type ChangeStatus,
   type ChangeType,
+  type ChangeView,
   type ChecklistGroup,
   type Discipline,
   reviewMeaning,
 } from '../../schemas/change-requests.ts'
-import { ROLE_LABELS } from '../../schemas/users.ts'
+import { ROLE_LABELS, type Role } from '../../schemas/users.ts'
 import { allow, blocked, forbid, invalid, type Verdict, type Verdicts } from './verdict.ts'
 
 /**
@@ -368,4 +369,43 @@ export function implementItemVerdict(
   if (item.stale)
     return blocked('The limit or instrument changed since the request was written; the request must be revised.')
   return allow
+}
+
+// ---- who a request waits for
+
+/** The sites where change requests wait for a person, by what the person would do there. */
+export interface ChangeWaitingSites {
+  /** submitted requests (and emergency changes implemented unapproved) wait for the approver */
+  approve: number[]
+  /** approved requests wait for the technician or control engineer who implements them */
+  implement: number[]
+  /** submitted emergency changes wait for the shift supervisor, who implements them first */
+  emergency: number[]
+  /** implemented, approved requests wait for the safety engineer's close-out */
+  close: number[]
+}
+
+/**
+ * Where change requests wait for this person ("waiting for me", docs/api.md#change-requests), from the roles they
+ * hold at each site: approvers approve, technicians and control engineers implement, shift supervisors implement a
+ * submitted emergency change first, safety engineers close out.
+ */
+export function changeWaitingSites(roles: readonly { role: Role; siteId: number }[]): ChangeWaitingSites {
+  const sites = (...held: Role[]) => roles.filter((r) => held.includes(r.role)).map((r) => r.siteId)
+  return {
+    approve: sites('approver'),
+    implement: sites('technician', 'control_engineer'),
+    emergency: sites('shift_supervisor'),
+    close: sites('safety_engineer'),
+  }
+}
+
+/**
+ * The tab the change list opens on: "waiting for me" for those who approve, implement or implement an emergency
+ * change first; "mine" for safety engineers, who write and close their own requests; else "all".
+ */
+export function defaultChangeView(roles: readonly { role: Role; siteId: number }[]): ChangeView {
+  const w = changeWaitingSites(roles)
+  if (w.approve.length || w.implement.length || w.emergency.length) return 'waiting'
+  return w.close.length ? 'mine' : 'all'
 }

@@ -4,6 +4,8 @@ import {
   type ChangeAction,
   type ChangeRuleRecord,
   changeRequestRules,
+  changeWaitingSites,
+  defaultChangeView,
   implementItemVerdict,
   temporaryState,
 } from '../../../../shared/domain/rules/change-requests.ts'
@@ -303,5 +305,34 @@ describe('change-request rule book: the answers and their HTTP status', () => {
     expect(
       implementItemVerdict(cr, { ...cr.items[0], implementedAt: '2026-05-31T12:00:00Z' }, tech, NOW),
     ).toMatchObject({ status: 409, reason: expect.stringContaining('already') })
+  })
+})
+
+// Who a request waits for, by role and site (docs/api.md#change-requests, "Waiting for me"), and the list's first tab.
+describe('waiting for me', () => {
+  const none = { approve: [], implement: [], emergency: [], close: [] }
+  it.each([
+    ['approver at site 1', [{ role: 'approver', siteId: 1 }], { ...none, approve: [1] }, 'waiting'],
+    ['technician at site 2', [{ role: 'technician', siteId: 2 }], { ...none, implement: [2] }, 'waiting'],
+    ['control engineer at site 1', [{ role: 'control_engineer', siteId: 1 }], { ...none, implement: [1] }, 'waiting'],
+    ['shift supervisor at site 3', [{ role: 'shift_supervisor', siteId: 3 }], { ...none, emergency: [3] }, 'waiting'],
+    ['safety engineer at site 1', [{ role: 'safety_engineer', siteId: 1 }], { ...none, close: [1] }, 'mine'],
+    [
+      'approver at 1, technician at 2, safety engineer at 2',
+      [
+        { role: 'approver', siteId: 1 },
+        { role: 'technician', siteId: 2 },
+        { role: 'safety_engineer', siteId: 2 },
+      ],
+      { ...none, approve: [1], implement: [2], close: [2] },
+      'waiting',
+    ],
+    ['operator', [{ role: 'operator', siteId: 1 }], none, 'all'],
+    ['plant manager', [{ role: 'plant_manager', siteId: 1 }], none, 'all'],
+    ['admin', [{ role: 'admin', siteId: 1 }], none, 'all'],
+    ['no roles', [], none, 'all'],
+  ] as const)('%s', (_name, roles, sites, view) => {
+    expect(changeWaitingSites(roles)).toEqual(sites)
+    expect(defaultChangeView(roles)).toBe(view)
   })
 })
