@@ -109,7 +109,7 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
   }
   // the audit trail of the sites where one is administrator, plant manager or auditor (docs/security.md, "Whose events
   // a reader sees"; the list's query applies the same scope); running the chain verifier is for auditors and admins
-  const auditReader = sitesWith('admin', 'plant_manager', 'auditor')
+  const auditReader = sitesWith(...AUDIT_READER_ROLES)
   if (auditReader.length) can('read', 'AuditEvent', { siteId: { $in: auditReader } })
   if (has('admin', 'auditor')) can('verify', 'AuditEvent')
 
@@ -199,6 +199,21 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
 /** Creates the ability from rules (the same call on server and client). */
 export function createAppAbility(rules: AppRule[] = []): AppAbility {
   return createMongoAbility<AppAbility>(rules)
+}
+
+/** The roles that read a site's audit trail (docs/security.md, "Whose events a reader sees"). */
+export const AUDIT_READER_ROLES = ['admin', 'plant_manager', 'auditor'] as const satisfies readonly Role[]
+
+/**
+ * The part of the audit trail a user reads (docs/security.md, "Whose events a reader sees"): the sites of their
+ * `read AuditEvent` rule, and, for an administrator, the installation-wide events about no site's account too.
+ */
+export function auditReadScope(user: AbilityUser | null): { siteIds: number[]; installationWide: boolean } {
+  if (!user) return { siteIds: [], installationWide: false }
+  return {
+    siteIds: sitesWithRole(user, ...AUDIT_READER_ROLES),
+    installationWide: sitesWithRole(user, 'admin').length > 0,
+  }
 }
 
 /** Site ids where the user holds one of the roles. */

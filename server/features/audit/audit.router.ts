@@ -6,30 +6,12 @@ import {
   auditActionLabel,
   AuditQuerySchema,
 } from '../../../shared/schemas/audit.ts'
-import type { CurrentUser } from '../../types/express.d.ts'
+import { auditReadScope } from '../../../shared/abilities/index.ts'
 import { authorize } from '../../authorize.ts'
 import { csvPart } from '../../csv.ts'
 import type { AppDeps } from '../../deps.ts'
-import {
-  auditExportPage,
-  type AuditScope,
-  entityTitles,
-  listAuditEvents,
-  recordedFields,
-  siteCodesById,
-} from './audit.repository.ts'
+import { auditExportPage, entityTitles, listAuditEvents, recordedFields, siteCodesById } from './audit.repository.ts'
 import { verifyTrailOnce } from './audit.verify.ts'
-
-/** The roles that read a site's audit trail (docs/security.md, "Whose events a reader sees"). */
-const READER_ROLES = ['admin', 'plant_manager', 'auditor']
-
-function scopeOf(user: CurrentUser | null): AuditScope {
-  const roles = user?.roles ?? []
-  return {
-    siteIds: [...new Set(roles.filter((r) => READER_ROLES.includes(r.role)).map((r) => r.siteId))],
-    installationWide: roles.some((r) => r.role === 'admin'),
-  }
-}
 
 /** `2026-12-03 07:15:02` in the time zone. */
 function localTime(d: Date, timeZone: string): string {
@@ -61,7 +43,7 @@ export function createAuditRouter(deps: AppDeps) {
   router.get('/', async (req, res) => {
     authorize(req.ability, 'read', 'AuditEvent')
     const q = AuditQuerySchema.parse(req.query)
-    const { total, rows } = await listAuditEvents(deps.db, scopeOf(req.user), q)
+    const { total, rows } = await listAuditEvents(deps.db, auditReadScope(req.user), q)
     const titles = await entityTitles(
       deps.db,
       rows.map((r) => ({ entityType: r.entity_type, entityId: r.entity_id })),
@@ -99,7 +81,7 @@ export function createAuditRouter(deps: AppDeps) {
   router.get('/export.csv', async (req, res) => {
     authorize(req.ability, 'read', 'AuditEvent')
     const q = AuditExportQuerySchema.parse(req.query)
-    const scope = scopeOf(req.user)
+    const scope = auditReadScope(req.user)
     const siteCodes = await siteCodesById(deps.db)
     res.setHeader('Content-Type', 'text/csv; charset=utf-8')
     res.setHeader('Content-Disposition', 'attachment; filename="limitkeeper-audit-trail.csv"')
