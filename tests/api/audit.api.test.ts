@@ -7,6 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { AdjustableClock } from '../../server/clock.ts'
 import type { AuditEventTable } from '../../server/db/schema.ts'
+import { dataOf } from '../../server/features/audit/audit.chain.ts'
 import { dataHash, sealHash } from '../../server/features/audit/audit.hash.ts'
 import {
   appendAudit,
@@ -34,20 +35,7 @@ type Row = {
 
 /** The hash a stored row should carry, recomputed from what was read back (format 3: data hash, then seal). */
 function rehash(r: Row) {
-  const dHash = dataHash({
-    siteId: r.site_id,
-    occurredAt: r.occurred_at,
-    actorId: r.actor_id,
-    action: r.action,
-    entityType: r.entity_type,
-    entityId: r.entity_id,
-    before: r.before,
-    after: r.after,
-    reason: r.reason,
-    batchId: r.batch_id,
-    requestId: r.request_id,
-    ip: r.ip,
-  })
+  const dHash = dataHash(dataOf({ ...r, id: Number(r.id), occurred_ms: r.occurred_at.getTime() }))
   return {
     dataHash: dHash,
     hash: sealHash({ id: Number(r.id), seq: Number(r.seq), dataHash: dHash, prevHash: r.prev_hash! }),

@@ -124,16 +124,10 @@ export function recordedFields(
   return { before: r.before, after: r.after, reason: r.reason, batchId: r.batch_id, requestId: r.request_id, ip: r.ip }
 }
 
-/** The content of an event as read back, in the form its hashes cover. */
+/** The content of an event as read back, in the form its hashes cover (format 3's data without the site). */
 export function contentOf(r: EventRow) {
-  return {
-    occurredAt: new Date(r.occurred_ms),
-    actorId: r.actor_id,
-    action: r.action,
-    entityType: r.entity_type,
-    entityId: r.entity_id,
-    ...recordedFields(r),
-  }
+  const { siteId: _siteId, ...content } = dataOf(r)
+  return content
 }
 
 /** What the data hash (format 3) covers of an event as read back: its content and site, in one object. */
