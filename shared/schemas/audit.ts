@@ -160,8 +160,18 @@ export const AuditExportQuerySchema = z
   .strict()
 export type AuditExportQuery = z.infer<typeof AuditExportQuerySchema>
 
+/** What an event records besides who did what to which entity when (its hashes cover these too). */
+export interface AuditRecorded {
+  before: unknown
+  after: unknown
+  reason: string | null
+  batchId: string | null
+  requestId: string | null
+  ip: string | null
+}
+
 /** One event as the list gives it. */
-export interface AuditEventDto {
+export interface AuditEventDto extends AuditRecorded {
   id: number
   at: string
   actorId: number | null
@@ -175,12 +185,6 @@ export interface AuditEventDto {
   entityLimitId: number | null
   siteId: number | null
   siteCode: string | null
-  before: unknown
-  after: unknown
-  reason: string | null
-  batchId: string | null
-  requestId: string | null
-  ip: string | null
   /** Null until the sealer has linked the event into the chain (about a second after it is written). */
   prevHash: string | null
   hash: string | null

@@ -1,12 +1,5 @@
-import {
-  dataHash,
-  type EventContent,
-  type EventData,
-  GENESIS_HASH,
-  hashEvent,
-  JsonText,
-  sealHash,
-} from './audit.hash.ts'
+import { dataHash, type EventData, GENESIS_HASH, hashEvent, JsonText, sealHash } from './audit.hash.ts'
+import type { AuditRecorded } from '../../../shared/schemas/audit.ts'
 
 // The checks of the chain walk (docs/adr/0003-audit-hash-chain.md, "Verify"), free of the database so that worker
 // threads (server/features/audit/audit.verify.worker.ts) run them on pages of the chain as the main thread does.
@@ -120,7 +113,7 @@ export function* rowsOfCopy(buf: Buffer): Generator<ChainRow> {
 /** The recorded values of an event row under their API names (the verifier and the audit-trail list share them). */
 export function recordedFields(
   r: Pick<EventRow, 'before' | 'after' | 'reason' | 'batch_id' | 'request_id' | 'ip'>,
-): Pick<EventContent, 'before' | 'after' | 'reason' | 'batchId' | 'requestId' | 'ip'> {
+): AuditRecorded {
   return { before: r.before, after: r.after, reason: r.reason, batchId: r.batch_id, requestId: r.request_id, ip: r.ip }
 }
 

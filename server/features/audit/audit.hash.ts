@@ -1,4 +1,5 @@
 import { createHmac, hash } from 'node:crypto'
+import type { AuditRecorded } from '../../../shared/schemas/audit.ts'
 
 /** prev_hash of the first event. */
 export const GENESIS_HASH = '0'.repeat(64)
@@ -73,18 +74,12 @@ function shapeOf(own: string[]): Shape {
 }
 
 /** What every format's hash covers of an event. */
-export interface EventContent {
+export interface EventContent extends AuditRecorded {
   occurredAt: Date
   actorId: number | null
   action: string
   entityType: string
   entityId: string | null
-  before: unknown
-  after: unknown
-  reason: string | null
-  batchId: string | null
-  requestId: string | null
-  ip: string | null
 }
 
 /** The content of an event written before the sealer (formats 1 and 2) that its hash covers. */
