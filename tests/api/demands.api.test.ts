@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { signedIn } from './helpers/agent.ts'
-import { buildActiveHeaterTrip } from './helpers/factories.ts'
+import { approveChange, buildActiveHeaterTrip, implementChange, submitChange } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -329,5 +329,33 @@ describe('demand and trip log', () => {
       .expect(200)
     const cleared = (await c.eng.get('/api/demands/rates').query({ limitId: limit.id }).expect(200)).body
     expect(cleared.limits[0]).toMatchObject({ assumedDemandRatePerYear: null, demandRateAboveAssumed: false })
+  })
+
+  it("keeps a retired limit's hazard-study rates as they stood (docs/register.md#the-rule-book)", async () => {
+    ctx.clock.set('2026-06-01T00:00:00Z')
+    const c = await crew()
+    const { site, limit } = await buildActiveHeaterTrip(
+      { eng: c.eng, approvers: [c.approver, c.approver2], tech: c.tech },
+      { sil: 2 },
+    )
+    const retire = await submitChange(c.eng, {
+      siteId: site.id,
+      title: `Retire ${limit.tag}`,
+      items: [{ kind: 'retire', limitId: limit.id }],
+    })
+    await implementChange(c.tech, await approveChange([c.approver, c.approver2], retire))
+    const body = {
+      assumedDemandRatePerYear: 0.2,
+      assumedSpuriousRatePerYear: 0.5,
+      commissionedAt: '2025-06-01',
+      reason: 'LOPA study LS-12 rev 4',
+    }
+    // the role first, then the state
+    await c.op.put(`/api/demands/assumptions/${limit.id}`, body).expect(403)
+    const refused = (await c.eng.put(`/api/demands/assumptions/${limit.id}`, body).expect(409)).body
+    expect(refused.error).toMatchObject({
+      code: 'INVALID_STATE',
+      message: `Limit ${limit.tag} is retired; its hazard-study rates are kept for the record as they stood.`,
+    })
   })
 })

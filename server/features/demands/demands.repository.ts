@@ -210,20 +210,22 @@ export function demandCountsByLimit(db: Db, siteIds: number[], from: Date, to: D
 }
 
 /** The hazard-study rates and the commissioning date kept on a limit. */
-export function findLimitAssumptions(db: Db, limitId: number) {
-  return db
+export function findLimitAssumptions(db: Db, limitId: number, lock = false) {
+  let q = db
     .selectFrom('limit_function')
     .select([
       'id',
       'site_id',
       'tag',
+      'status',
       'sil',
       'assumed_demand_rate_per_year',
       'assumed_spurious_rate_per_year',
       'commissioned_at',
     ])
     .where('id', '=', limitId)
-    .executeTakeFirst()
+  if (lock) q = q.forUpdate()
+  return q.executeTakeFirst()
 }
 
 export function updateLimitAssumptions(

@@ -1,5 +1,6 @@
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { canRecordDemand, demandVerdicts, type DemandFacts } from '../../../shared/domain/rules/demands.ts'
+import { limitRules } from '../../../shared/domain/rules/limits.ts'
 import type {
   ClassifyDemandValues,
   CreateDemandValues,
@@ -11,7 +12,7 @@ import type {
   DemandRates,
 } from '../../../shared/schemas/demands.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { authorize, ensureVisible, readableRow } from '../../authorize.ts'
+import { ensureVisible, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -327,8 +328,9 @@ export async function demandRates(
 }
 
 /**
- * Sets the hazard study's assumed demand and spurious-trip rates and the commissioning date of a limit (safety
- * engineers; the change and its source go to the audit trail). Commissioning starts the "never tested" count.
+ * Sets the hazard study's assumed demand and spurious-trip rates and the commissioning date of a limit (the register's
+ * rule book, `setDemandAssumptions`: safety engineers, while the limit is not retired; the change and its source go to
+ * the audit trail). Commissioning starts the "never tested" count.
  */
 export async function setDemandAssumptions(
   deps: AppDeps,
@@ -337,12 +339,14 @@ export async function setDemandAssumptions(
   limitId: number,
   input: DemandAssumptionsValues,
 ): Promise<DemandAssumptions> {
-  const before = readableRow(await repo.findLimitAssumptions(deps.db, limitId), ability, 'Limit')
-  authorize(ability, 'update', 'Limit', { siteId: before.site_id })
   const now = deps.clock.now()
-  if (input.commissionedAt && new Date(`${input.commissionedAt}T00:00:00Z`) > now)
-    throw validationFailed({ commissionedAt: ['The commissioning date cannot lie in the future'] })
   await deps.db.transaction().execute(async (trx) => {
+    const before = readableRow(await repo.findLimitAssumptions(trx, limitId, true), ability, 'Limit')
+    enforce(
+      limitRules({ siteId: before.site_id, tag: before.tag, status: before.status }, { ability }).setDemandAssumptions,
+    )
+    if (input.commissionedAt && new Date(`${input.commissionedAt}T00:00:00Z`) > now)
+      throw validationFailed({ commissionedAt: ['The commissioning date cannot lie in the future'] })
     await repo.updateLimitAssumptions(trx, limitId, {
       demand: input.assumedDemandRatePerYear === null ? null : String(input.assumedDemandRatePerYear),
       spurious: input.assumedSpuriousRatePerYear === null ? null : String(input.assumedSpuriousRatePerYear),

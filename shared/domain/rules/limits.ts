@@ -17,6 +17,7 @@ export const LIMIT_ACTIONS = [
   'proposeCommissioning',
   'raiseProposal',
   'recordTripTest',
+  'setDemandAssumptions',
 ] as const
 export type LimitAction = (typeof LIMIT_ACTIONS)[number]
 
@@ -91,6 +92,17 @@ export function notRetiredVerdict(l: Pick<LimitRuleRecord, 'tag' | 'status'>): V
     : allow
 }
 
+/**
+ * The hazard study's demand and spurious-trip rates and the commissioning date of a limit are set while it is a draft
+ * or in service (the study precedes commissioning, and a revised study updates them); a retired limit's figures are
+ * kept as they stood when it left service (the state half of `setDemandAssumptions`).
+ */
+export function assumptionsEditableVerdict(l: Pick<LimitRuleRecord, 'tag' | 'status'>): Verdict {
+  return l.status === 'retired'
+    ? blocked(`Limit ${l.tag} is retired; its hazard-study rates are kept for the record as they stood.`)
+    : allow
+}
+
 const roleFor = (ok: boolean, reason: string) => () => (ok ? allow : forbid(reason))
 
 /**
@@ -104,6 +116,8 @@ const roleFor = (ok: boolean, reason: string) => () => (ok ? allow : forbid(reas
  * - raiseProposal: operators, technicians, control engineers and shift supervisors of the site raise a change
  *   proposal about a limit that is not retired.
  * - recordTripTest: a maintenance technician of the site records a trip test of an active limit.
+ * - setDemandAssumptions: a safety engineer of the site sets the hazard study's demand and spurious-trip rates and the
+ *   commissioning date of a limit that is not retired.
  */
 export function limitRules(l: LimitRuleRecord, actor: LimitActor): Verdicts<LimitAction> {
   const draft = (refusal: string) => () => (l.status === 'proposed' ? allow : blocked(refusal))
@@ -133,6 +147,13 @@ export function limitRules(l: LimitRuleRecord, actor: LimitActor): Verdicts<Limi
     recordTripTest: firstRefusal(
       roleFor(can(actor, 'record', 'TripTest', l.siteId), 'Only a maintenance technician of this site records tests.'),
       () => tripTestableVerdict(l),
+    ),
+    setDemandAssumptions: firstRefusal(
+      roleFor(
+        can(actor, 'update', 'Limit', l.siteId),
+        "Only a safety engineer of this site sets a limit's hazard-study rates.",
+      ),
+      () => assumptionsEditableVerdict(l),
     ),
   }
 }
@@ -166,6 +187,7 @@ export function limitOffers(
     proposeCommissioning: offer('proposeCommissioning', l.status === 'proposed'),
     raiseProposal: offer('raiseProposal', l.status !== 'retired'),
     recordTripTest: offer('recordTripTest', inService(l)),
+    setDemandAssumptions: offer('setDemandAssumptions', l.status !== 'retired'),
   }
 }
 

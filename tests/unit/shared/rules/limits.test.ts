@@ -26,18 +26,22 @@ const NOBODY: Role[] = ['approver', 'plant_manager', 'auditor', 'admin']
 
 // [status, roles, the actions allowed]
 const TABLE: [LimitStatus, Role[], LimitAction[]][] = [
-  ['proposed', ['safety_engineer'], ['edit', 'delete', 'proposeCommissioning']],
+  ['proposed', ['safety_engineer'], ['edit', 'delete', 'proposeCommissioning', 'setDemandAssumptions']],
   ['proposed', ['operator'], ['raiseProposal']],
   ['proposed', ['technician'], ['raiseProposal']],
   ['proposed', ['control_engineer'], ['raiseProposal']],
   ['proposed', ['shift_supervisor'], ['raiseProposal']],
   ...NOBODY.map((r): [LimitStatus, Role[], LimitAction[]] => ['proposed', [r], []]),
-  ['active', ['safety_engineer'], ['proposeChange']],
+  ['active', ['safety_engineer'], ['proposeChange', 'setDemandAssumptions']],
   ['active', ['operator'], ['raiseProposal']],
   ['active', ['technician'], ['raiseProposal', 'recordTripTest']],
   ['active', ['control_engineer'], ['raiseProposal']],
   ['active', ['shift_supervisor'], ['raiseProposal']],
-  ['active', ['safety_engineer', 'technician'], ['proposeChange', 'raiseProposal', 'recordTripTest']],
+  [
+    'active',
+    ['safety_engineer', 'technician'],
+    ['proposeChange', 'raiseProposal', 'recordTripTest', 'setDemandAssumptions'],
+  ],
   ...NOBODY.map((r): [LimitStatus, Role[], LimitAction[]] => ['active', [r], []]),
   ['retired', ['safety_engineer'], []],
   ...PROPOSERS.map((r): [LimitStatus, Role[], LimitAction[]] => ['retired', [r], []]),
@@ -90,6 +94,32 @@ describe('register rule book', () => {
     })
   })
 
+  // [status, roles, the verdict on setting the hazard-study rates]: the role first (403), then the state (409)
+  const ASSUMPTIONS: [LimitStatus, Role[], { allowed: boolean; status?: number }][] = [
+    ['proposed', ['safety_engineer'], { allowed: true }],
+    ['active', ['safety_engineer'], { allowed: true }],
+    ['retired', ['safety_engineer'], { allowed: false, status: 409 }],
+    ['active', ['technician'], { allowed: false, status: 403 }],
+    ['active', ['shift_supervisor'], { allowed: false, status: 403 }],
+    ['retired', ['operator'], { allowed: false, status: 403 }],
+    ['proposed', ['approver'], { allowed: false, status: 403 }],
+  ]
+  it.each(ASSUMPTIONS)("a %s limit's hazard-study rates, set by %j: %j", (status, roles, verdict) => {
+    expect(limitRules(limit(status), actor(roles)).setDemandAssumptions).toMatchObject(verdict)
+  })
+
+  it('keeps the hazard-study rates of a retired limit as they stood, with a sentence', () => {
+    expect(limitRules(limit('retired'), actor(['safety_engineer'])).setDemandAssumptions).toEqual({
+      allowed: false,
+      status: 409,
+      reason: 'Limit TSHH-101 is retired; its hazard-study rates are kept for the record as they stood.',
+    })
+    expect(limitRules(limit('active'), actor(['operator'])).setDemandAssumptions).toMatchObject({
+      status: 403,
+      reason: expect.stringContaining('safety engineer'),
+    })
+  })
+
   it('edits only a draft, by hand or by an import', () => {
     expect(draftVerdict(limit('proposed')).allowed).toBe(true)
     expect(draftVerdict(limit('active'))).toEqual({
@@ -108,10 +138,10 @@ describe('register rule book', () => {
 
   // [status, roles, the actions the limit page offers (shown, each enabled)]
   const OFFERS: [LimitStatus, Role[], LimitAction[]][] = [
-    ['proposed', ['safety_engineer'], ['edit', 'delete', 'proposeCommissioning']],
+    ['proposed', ['safety_engineer'], ['edit', 'delete', 'proposeCommissioning', 'setDemandAssumptions']],
     ['proposed', ['technician'], ['raiseProposal']],
     ['proposed', ['approver'], []],
-    ['active', ['safety_engineer'], ['proposeChange']],
+    ['active', ['safety_engineer'], ['proposeChange', 'setDemandAssumptions']],
     ['active', ['technician'], ['raiseProposal', 'recordTripTest']],
     ['active', ['operator'], ['raiseProposal']],
     ['active', ['auditor'], []],
