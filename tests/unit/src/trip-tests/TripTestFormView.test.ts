@@ -3,7 +3,8 @@ import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { Role } from '@shared/schemas/users.ts'
 import TripTestFormView from '@/features/trip-tests/views/TripTestFormView.vue'
 import { heaterTrip, registerRoutes, userWith } from '../register/limit-fixture.ts'
-import { answerApi, mountView } from '../mount-view.ts'
+import { answerApi, FHR, mountView } from '../mount-view.ts'
+import { type Meaning, ME, RECORDER, record } from './trip-test-fixture.ts'
 
 // The trip-test form (docs/trip-tests.md) checks the record with the schema the server parses (TripTestFormSchema in
 // shared/schemas/trip-tests.ts) before it sends anything, and sends the numbers as they were typed, read as numbers.
@@ -19,14 +20,19 @@ afterEach(() => {
   vi.unstubAllGlobals()
 })
 
-async function open(roles: Role[]) {
+async function open(roles: Role[], correct?: { signedAs: [Meaning, number][]; userId: number }) {
   vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
   const limit = heaterTrip('active')
+  const t = correct && record(correct.signedAs, roles, correct.userId)
   const calls = answerApi({
     ...registerRoutes(limit),
     'POST /trip-tests': () => ({ status: 201, body: { id: 31, limitTag: limit.tag } }),
+    ...(t ? { [`GET /trip-tests/${t.id}`]: () => ({ body: t }) } : {}),
   })
-  const w = await mountView(TripTestFormView, { user: userWith(roles), path: `/tests/new?limitId=${limit.id}` })
+  const w = await mountView(TripTestFormView, {
+    user: correct ? { id: correct.userId, roles: roles.map((role) => ({ siteId: FHR.id, role })) } : userWith(roles),
+    ...(t ? { props: { id: String(t.id) }, path: `/tests/${t.id}/edit` } : { path: `/tests/new?limitId=${limit.id}` }),
+  })
   await vi.waitFor(() => expect(w.find('[data-test="section-results"]').exists()).toBe(true))
   return { w, writes: () => calls.filter((c) => c.method !== 'GET') }
 }
@@ -109,5 +115,23 @@ describe('TripTestFormView', () => {
     expect(at(w, 'save-test').exists()).toBe(offered)
     expect(at(w, 'save-refused').exists()).toBe(!offered)
     if (!offered) expect(at(w, 'save-refused').text()).toBe(reason)
+  })
+
+  // a correction follows the record's `edit`, as the server answers it for the user (the trip-test rule book)
+  it.each<[string, [Meaning, number][], number, 'enabled' | 'disabled' | 'hidden', string]>([
+    ['the technician who recorded it corrects it', [], RECORDER, 'enabled', ''],
+    ['another technician does not', [], ME, 'hidden', 'Only the technician who recorded the test edits it'],
+    [
+      'nobody corrects a signed record',
+      [['performed', RECORDER]],
+      RECORDER,
+      'disabled',
+      'A signed test record is locked; record a new test instead',
+    ],
+  ])('%s', async (_, signedAs, userId, button, reason) => {
+    const { w } = await open(['technician'], { signedAs, userId })
+    const save = at(w, 'save-test')
+    expect(save.exists() ? (save.attributes('disabled') === undefined ? 'enabled' : 'disabled') : 'hidden').toBe(button)
+    expect(at(w, 'save-refused').exists() ? at(w, 'save-refused').text() : '').toBe(reason)
   })
 })
