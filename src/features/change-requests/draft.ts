@@ -44,7 +44,10 @@ export function toEditValue(key: string, v: unknown): unknown {
   return v ?? (spec?.input === 'select' ? null : '')
 }
 
-/** An edited value as the API takes it (numbers as numbers; a non-number is sent as typed so the server names the problem). */
+/**
+ * An edited value as the API takes it (numbers as numbers; a non-number is sent as typed so the server names the
+ * problem).
+ */
 export function toApiValue(key: string, v: unknown): unknown {
   const spec = fieldSpec(key)
   if (spec?.input === 'number') {

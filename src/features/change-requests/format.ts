@@ -231,7 +231,8 @@ export function valueText(key: string, v: unknown, unit = ''): string {
       ? v
           .map(
             (s: { role?: string; architecture?: string; lambdaDu?: number }) =>
-              `${s.role} ${s.architecture}${typeof s.lambdaDu === 'number' ? ` λDU ${s.lambdaDu.toExponential(2)} /h` : ''}`,
+              `${s.role} ${s.architecture}` +
+              (typeof s.lambdaDu === 'number' ? ` λDU ${s.lambdaDu.toExponential(2)} /h` : ''),
           )
           .join('; ')
       : '—'

@@ -1,6 +1,9 @@
 import { subject } from '@casl/ability'
 
-/** The subject of a change request for ability checks: site, proposer, editors and type (separation of duties needs them all). */
+/**
+ * The subject of a change request for ability checks: site, proposer, editors and type (separation of duties needs
+ * them all).
+ */
 export function changeSubject(fields: {
   siteId: number
   proposerId?: number
