@@ -95,7 +95,10 @@ export const updateInstrument = (id: number, input: Partial<CreateInstrumentInpu
 
 // ---- the register import (docs/register.md, "The import") ----
 
-/** What one upload sends: the file, the site it is for, an optional mapping (file header → column key, '' ignores). */
+/**
+ * What one upload sends: the file, the site it is for, an optional mapping (file header → column key, ''
+ * ignores).
+ */
 export interface ImportUpload {
   file: File
   siteId: number
@@ -133,7 +136,10 @@ export const commitImport = (id: number) => http.post<ImportResult>(`/imports/${
 
 // ---- the history import (docs/trip-tests.md#history-import) ----
 
-/** Uploads a history file (last tests, commissioning dates, past bypasses) for a dry run, with the upload's progress. */
+/**
+ * Uploads a history file (last tests, commissioning dates, past bypasses) for a dry run, with the upload's
+ * progress.
+ */
 export const uploadHistoryImport = (
   input: { file: File; siteId: number; mapping?: HistoryMapping; dryRun?: boolean },
   onProgress: (fraction: number) => void,

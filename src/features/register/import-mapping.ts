@@ -43,7 +43,10 @@ export function mappingHelpers(layout: ImportLayout) {
     /** The field of a column key as the file writes it (`tag` → `Limit tag`); `_row` is the row as a whole. */
     fieldLabel: (key: string): string => (key === '_row' ? 'Whole row' : (labels.get(key) ?? key)),
     isRequiredColumn: (key: string) => required.has(key),
-    /** Whether a file header already names this column (its header or its key, case does not matter), as the server matches. */
+    /**
+     * Whether a file header already names this column (its header or its key, case does not matter), as the server
+     * matches.
+     */
     headerNamesColumn: (header: string, key: string): boolean =>
       norm(header) === norm(key) || norm(header) === norm(labels.get(key) ?? ''),
     /** The required columns no header is mapped to. */

@@ -69,7 +69,10 @@ export function useImportFlow<R extends ImportAnswer, M extends Record<string, s
     if (!file.value) return ''
     if (file.value.size === 0) return 'The file is empty'
     if (file.value.size > IMPORT_MAX_BYTES)
-      return `The file is ${(file.value.size / 1024 / 1024).toFixed(1)} MB; the largest import is ${IMPORT_MAX_MB} MB: ${o.layout.splitHint}`
+      return (
+        `The file is ${(file.value.size / 1024 / 1024).toFixed(1)} MB; ` +
+        `the largest import is ${IMPORT_MAX_MB} MB: ${o.layout.splitHint}`
+      )
     return ''
   })
   const uploading = computed(() => progress.value !== null)
@@ -97,7 +100,10 @@ export function useImportFlow<R extends ImportAnswer, M extends Record<string, s
   const mappingClashes = computed(() => duplicateColumns(mapping.value).size)
   const mappingChanged = computed(() => !result.value || !sameMapping(mapping.value, checkedMapping.value))
 
-  /** Uploads the file for a dry run, with the chosen mapping from the mapping step; the server answers what each row would do. */
+  /**
+   * Uploads the file for a dry run, with the chosen mapping from the mapping step; the server answers what each row
+   * would do.
+   */
   async function check(withMapping: boolean) {
     if (!siteId.value || !file.value) return
     uploadError.value = ''

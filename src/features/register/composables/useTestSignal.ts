@@ -4,9 +4,9 @@ import { type SignalMode, askTestSignal, signalRefusal } from '../test-signal'
 
 /**
  * What a test-signal panel (the limit page's, the trip-test form's) shows for the mode and cold junction chosen
- * (docs/domain/test-signals.md): `ask` sends the request (GET /api/limits/:id/test-signal) and shows its answer or refusal;
- * `refuse` shows the cold junction's messages and no answer. An answer that a later `ask` or `refuse` overtook is
- * dropped.
+ * (docs/domain/test-signals.md): `ask` sends the request (GET /api/limits/:id/test-signal) and shows its answer or
+ * refusal; `refuse` shows the cold junction's messages and no answer. An answer that a later `ask` or `refuse`
+ * overtook is dropped.
  */
 export function useTestSignal(o: {
   limitId: () => number
