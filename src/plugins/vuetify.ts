@@ -1,5 +1,6 @@
 /**
- * plugins/vuetify.ts — Limitkeeper's own theme, Roboto from @fontsource and SVG icons from @mdi/js (nothing from a CDN).
+ * plugins/vuetify.ts — Limitkeeper's own theme, Roboto from @fontsource and SVG icons from @mdi/js (nothing from a
+ * CDN).
  */
 import '@fontsource/roboto/latin-400.css'
 import '@fontsource/roboto/latin-500.css'

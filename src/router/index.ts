@@ -36,9 +36,10 @@ function preloadViews(to: RouteLocationNormalized) {
 const FIRST_DATA_WAIT_MS = 3000
 
 /**
- * First load, signed in: asks for what the page (`meta.prefetch`) and the default layout (src/layouts/DefaultLayout.vue:
- * the user's sites and areas, the count of change requests waiting) will ask for, and waits until it is in, at most
- * FIRST_DATA_WAIT_MS, so that the page is drawn once with its data (docs/architecture.md#first-load).
+ * First load, signed in: asks for what the page (`meta.prefetch`) and the default layout
+ * (src/layouts/DefaultLayout.vue: the user's sites and areas, the count of change requests waiting) will ask for, and
+ * waits until it is in, at most FIRST_DATA_WAIT_MS, so that the page is drawn once with its data
+ * (docs/architecture.md#first-load).
  */
 async function firstLoadData(to: RouteLocationNormalized) {
   const asked: Promise<unknown>[] = []
