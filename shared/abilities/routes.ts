@@ -106,7 +106,8 @@ export const ROUTE_ACCESS: Record<string, RouteAccess> = {
   'PATCH /api/change-requests/:id': { roles: ENGINEER, otherSite: 'missing' },
   'POST /api/change-requests/:id/submission': { roles: ENGINEER, otherSite: 'missing' },
   'POST /api/change-requests/:id/withdrawal': { roles: ENGINEER, otherSite: 'missing' },
-  // a discipline review (the matrix's call signs the instrumentation review; docs/change-requests.md#discipline-reviews)
+  // a discipline review (the matrix's call signs the instrumentation review;
+  // docs/change-requests.md#discipline-reviews)
   'POST /api/change-requests/:id/reviews': { roles: ['control_engineer', 'technician'], otherSite: 'missing' },
   'POST /api/change-requests/:id/approvals': { roles: ['approver'], otherSite: 'missing' },
   'POST /api/change-requests/:id/rejections': { roles: ['approver'], otherSite: 'missing' },

@@ -42,12 +42,18 @@ export function fractionOfSpan(value: number, low: number, high: number): number
   return (value - low) / (high - low)
 }
 
-/** Current in mA for an engineering value over the range low … high, linear: I = 4 + 16·(PV − LRV)/(URV − LRV). */
+/**
+ * Current in mA for an engineering value over the range low … high, linear:
+ * I = 4 + 16·(PV − LRV)/(URV − LRV).
+ */
 export function currentFromValue(value: number, low: number, high: number): number {
   return MA_LOW + MA_SPAN * fractionOfSpan(value, low, high)
 }
 
-/** Engineering value for a current in mA over the range low … high, linear: PV = LRV + (I − 4)/16·(URV − LRV). */
+/**
+ * Engineering value for a current in mA over the range low … high, linear:
+ * PV = LRV + (I − 4)/16·(URV − LRV).
+ */
 export function valueFromCurrent(mA: number, low: number, high: number): number {
   checkRange(low, high)
   finite(mA, 'The current')
@@ -75,7 +81,10 @@ export function sqrtCurrentFromFlow(flow: number, low: number, high: number): nu
 
 /** Options of the square-root extraction. */
 export interface SqrtOptions {
-  /** Flow forced to the range bottom below this percentage of flow span (site practice; no standard value). Default: none. */
+  /**
+   * Flow forced to the range bottom below this percentage of flow span (site practice; no standard value).
+   * Default: none.
+   */
   lowFlowCutoffPercent?: number
 }
 
@@ -86,7 +95,8 @@ export interface SqrtOptions {
 export const LOW_FLOW_CUTOFF_MAX_PERCENT = 20
 
 /**
- * Flow for a current in mA from a linear-in-ΔP transmitter: Q = low + (high − low)·√((I − 4)/16); I ≤ 4 mA gives `low`.
+ * Flow for a current in mA from a linear-in-ΔP transmitter: Q = low + (high − low)·√((I − 4)/16);
+ * I ≤ 4 mA gives `low`.
  * An optional low-flow cut-off forces the result to `low` below that percentage of flow span.
  */
 export function flowFromSqrtCurrent(mA: number, low: number, high: number, options: SqrtOptions = {}): number {
@@ -133,7 +143,8 @@ export function currentFromShuntVoltage(volts: number, ohms: number = SHUNT_OHMS
 
 /**
  * NAMUR NE 43 class of a loop current: failure_low (≤ 3.6 mA), uncertain_low (3.6 … 3.8, not used for measurement),
- * under_range (3.8 … < 4.0), measuring (4.0 … 20.0), over_range (> 20.0 … 20.5), uncertain_high (20.5 … 21.0, not used),
+ * under_range (3.8 … < 4.0), measuring (4.0 … 20.0), over_range (> 20.0 … 20.5),
+ * uncertain_high (20.5 … 21.0, not used),
  * failure_high (≥ 21.0).
  */
 export type Ne43Class =
@@ -173,7 +184,10 @@ export function checkNe43Thresholds(t: Ne43Thresholds): void {
   }
 }
 
-/** Classifies a current in mA by the NE 43 bands (boundaries inclusive as in NE 43: 3.6 is failure, 3.8 and 20.5 measure). */
+/**
+ * Classifies a current in mA by the NE 43 bands
+ * (boundaries inclusive as in NE 43: 3.6 is failure, 3.8 and 20.5 measure).
+ */
 export function classifyCurrent(mA: number, thresholds: Ne43Thresholds = NE43_THRESHOLDS): Ne43Class {
   if (Number.isNaN(mA)) throw new RangeError('Current is not a number')
   if (thresholds !== NE43_THRESHOLDS) checkNe43Thresholds(thresholds)

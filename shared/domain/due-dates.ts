@@ -93,7 +93,10 @@ export interface DueDateResult {
   graceDays: number
   today: string
   status: TestDueStatus
-  /** Calendar days from today to the due date; negative once past; null without a passing full test or commissioning date. */
+  /**
+   * Calendar days from today to the due date; negative once past;
+   * null without a passing full test or commissioning date.
+   */
   daysUntilDue: number | null
   lateTests: LateTest[]
   /** The due date without the deferral, when an approved deferral moved it; else null. */

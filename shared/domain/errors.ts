@@ -37,7 +37,8 @@ export class OutOfRangeError extends Error {
   /** Builds the error; `explanation` is appended to the standard message. */
   constructor(quantity: string, value: number, min: number, max: number, unit: string, explanation?: string) {
     super(
-      `${quantity} ${showApart(value, [min, max])} ${unit} is outside the valid range ${show(min)} … ${show(max)} ${unit}` +
+      `${quantity} ${showApart(value, [min, max])} ${unit} ` +
+        `is outside the valid range ${show(min)} … ${show(max)} ${unit}` +
         (explanation ? `: ${explanation}` : ''),
     )
     this.name = 'OutOfRangeError'

@@ -5,7 +5,10 @@ import chisquareQuantile from '@stdlib/stats-base-dists-chisquare-quantile'
 /** Confidence levels offered for the upper bound of λDU (70 % and 90 %, as used in prior-use arguments). */
 export const CONFIDENCE_LEVELS = [0.7, 0.9] as const
 
-/** The chi-square quantile χ²(p; ν): the value below which a chi-square variable with ν degrees of freedom falls with probability p. */
+/**
+ * The chi-square quantile χ²(p; ν): the value below which a chi-square variable with ν degrees of freedom
+ * falls with probability p.
+ */
 export function chiSquareQuantile(p: number, dof: number): number {
   if (!(p > 0 && p < 1)) throw new RangeError('the probability must lie between 0 and 1 (exclusive)')
   if (!(Number.isFinite(dof) && dof > 0)) throw new RangeError('the degrees of freedom must be a positive number')

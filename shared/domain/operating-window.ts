@@ -1,5 +1,6 @@
 // Consistency checks of one limit against its instrument's operating window
-// (sensor range ⊃ design limit ⊃ trip ⊃ alarm ⊃ normal range, docs/domain/operating-window.md) and its sibling limits.
+// (sensor range ⊃ design limit ⊃ trip ⊃ alarm ⊃ normal range, docs/domain/operating-window.md)
+// and its sibling limits.
 // Rules, edges and sources: docs/domain/operating-window.md.
 //
 // Numbers are stored as PostgreSQL `numeric` and compared exactly (docs/conventions.md): every value is turned into a
@@ -206,14 +207,18 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
       warnings.push({
         code: 'SETPOINT_NEAR_RANGE_END',
         field: 'setpoint',
-        message: `setpoint + tolerance (${fmt(upper)}) comes within ${RANGE_END_MARGIN_PERCENT_SPAN} % of span of range high ${fmt(hi)} (keep below ${fmt(sub(hi, margin))})`,
+        message:
+          `setpoint + tolerance (${fmt(upper)}) comes within ${RANGE_END_MARGIN_PERCENT_SPAN} % of span ` +
+          `of range high ${fmt(hi)} (keep below ${fmt(sub(hi, margin))})`,
       })
     }
     if (lt(lower, add(lo, margin))) {
       warnings.push({
         code: 'SETPOINT_NEAR_RANGE_END',
         field: 'setpoint',
-        message: `setpoint − tolerance (${fmt(lower)}) comes within ${RANGE_END_MARGIN_PERCENT_SPAN} % of span of range low ${fmt(lo)} (keep above ${fmt(add(lo, margin))})`,
+        message:
+          `setpoint − tolerance (${fmt(lower)}) comes within ${RANGE_END_MARGIN_PERCENT_SPAN} % of span ` +
+          `of range low ${fmt(lo)} (keep above ${fmt(add(lo, margin))})`,
       })
     }
   }
@@ -275,8 +280,10 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
         code: 'DEADBAND_INTO_NORMAL',
         field: 'deadband',
         message: high
-          ? `return point setpoint − deadband = ${fmt(returnPoint)} lies below normal high ${fmt(edge)}: the deadband reaches into the normal range`
-          : `return point setpoint + deadband = ${fmt(returnPoint)} lies above normal low ${fmt(edge)}: the deadband reaches into the normal range`,
+          ? `return point setpoint − deadband = ${fmt(returnPoint)} lies below normal high ${fmt(edge)}: ` +
+            'the deadband reaches into the normal range'
+          : `return point setpoint + deadband = ${fmt(returnPoint)} lies above normal low ${fmt(edge)}: ` +
+            'the deadband reaches into the normal range',
       })
     }
   }
@@ -292,7 +299,9 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
       if (lt(d, lo) || gt(d, hi)) {
         warnings.push({
           code: 'DESIGN_LIMIT_OUTSIDE_RANGE',
-          message: `instrument ${name} ${fmt(d)} is outside the measuring range ${fmt(lo)} to ${fmt(hi)}: the sensor cannot see the design limit`,
+          message:
+            `instrument ${name} ${fmt(d)} is outside the measuring range ${fmt(lo)} to ${fmt(hi)}: ` +
+            'the sensor cannot see the design limit',
         })
       }
     }
@@ -350,7 +359,9 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
     warnings.push({
       code: 'BURNOUT_AWAY_FROM_TRIP',
       field: 'badValueTrip',
-      message: `the sensor burns out ${instrument.burnout}, away from this ${limit.direction} trip, and no bad-value trip is recorded: a sensor failure would go unnoticed`,
+      message:
+        `the sensor burns out ${instrument.burnout}, away from this ${limit.direction} trip, ` +
+        'and no bad-value trip is recorded: a sensor failure would go unnoticed',
     })
   }
 
@@ -359,7 +370,9 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
     warnings.push({
       code: 'DELAY_ON_TRIP',
       field: 'onDelaySec',
-      message: `on-delay of ${fmt(dec(limit.onDelaySec))} s on a trip: delays are meant for alarms and use up process safety time`,
+      message:
+        `on-delay of ${fmt(dec(limit.onDelaySec))} s on a trip: ` +
+        'delays are meant for alarms and use up process safety time',
     })
   }
 
@@ -370,7 +383,8 @@ export function checkOperatingWindow(input: OperatingWindowInput): OperatingWind
       errors.push({
         code: 'DUPLICATE_SETPOINT',
         field: 'setpoint',
-        message: `${siblingName(s)} is already a ${limit.direction} ${limit.limitClass} at ${fmt(sp)} on this instrument`,
+        message:
+          `${siblingName(s)} is already a ${limit.direction} ${limit.limitClass} ` + `at ${fmt(sp)} on this instrument`,
       })
     }
   }

@@ -25,7 +25,8 @@ export const SEVERITIES: readonly Severity[] = ['minor', 'moderate', 'major', 's
 /**
  * A priority matrix as a plain JSON-able object, so a site policy can override it.
  * `responseTimeBoundsMin` holds the column boundaries in minutes, ascending: column 0 is t < bounds[0],
- * column i is bounds[i − 1] ≤ t < bounds[i], the last column is t ≥ bounds[last]. Each row has one cell per column.
+ * column i is bounds[i − 1] ≤ t < bounds[i], the last column is t ≥ bounds[last].
+ * Each row has one cell per column.
  */
 export interface PriorityMatrix {
   responseTimeBoundsMin: number[]

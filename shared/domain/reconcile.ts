@@ -322,7 +322,9 @@ export function reconcile(input: ReconcileInput): ReconcileResult {
         registerValue: c.registerText,
         deviceValue: c.deviceText,
         unit: c.unit,
-        detail: `The ${attributeLabel(o.attribute)} differs from the register (${c.registerText} → ${c.deviceText}${c.unit ? ` ${c.unit}` : ''}) and no approved change explains it.`,
+        detail:
+          `The ${attributeLabel(o.attribute)} differs from the register ` +
+          `(${c.registerText} → ${c.deviceText}${c.unit ? ` ${c.unit}` : ''}) and no approved change explains it.`,
       })
     }
     limits.push({ limitId: l.limitId, matched: found.length === 0, differences: found })

@@ -39,7 +39,10 @@ function checkR0(r0: number): void {
   if (!(Number.isFinite(r0) && r0 > 0)) throw new RangeError(`R0 must be a positive number of ohm, got ${r0}`)
 }
 
-/** Resistance in ohm of a platinum RTD with nominal resistance r0 (100 or 1000 Ω) at t °C; −200 … 850 °C, else OutOfRangeError. */
+/**
+ * Resistance in ohm of a platinum RTD with nominal resistance r0 (100 or 1000 Ω) at t °C;
+ * −200 … 850 °C, else OutOfRangeError.
+ */
 export function rtdResistance(tC: number, r0: number): number {
   checkR0(r0)
   if (!Number.isFinite(tC) || tC < RTD_T_MIN - EDGE_EPS || tC > RTD_T_MAX + EDGE_EPS) {

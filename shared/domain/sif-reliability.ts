@@ -13,7 +13,10 @@ export type Sil = 1 | 2 | 3 | 4
 /** The SIL band a PFDavg falls in; 'none' at PFDavg ≥ 0.1. */
 export type SilBand = Sil | 'none'
 
-/** One subsystem of a SIF (docs/domain/sif-reliability.md, Inputs); rates per hour, β and coverage as fractions 0–1. */
+/**
+ * One subsystem of a SIF (docs/domain/sif-reliability.md, Inputs);
+ * rates per hour, β and coverage as fractions 0–1.
+ */
 export interface Subsystem {
   role: SubsystemRole
   architecture: Architecture
@@ -38,7 +41,10 @@ export interface Subsystem {
   lambdaDd?: number
   /** optional common-cause fraction of detected failures (default: beta) */
   betaD?: number
-  /** optional λSD per channel, h⁻¹ (default 0): safe detected failures; a 1oo2D channel that detects one drops out */
+  /**
+   * optional λSD per channel, h⁻¹ (default 0): safe detected failures;
+   * a 1oo2D channel that detects one drops out
+   */
   lambdaSd?: number
 }
 
@@ -198,8 +204,10 @@ export function subsystemPfdDetail(subsystem: Subsystem, options: SubsystemPfdOp
     method: 'exact',
     lambdaT,
     warning:
-      `λDU·T1 = ${Number(lambdaT.toPrecision(3))} exceeds ${SIMPLIFIED_LAMBDA_T_MAX}: the simplified equations assume ` +
-      'λ·T ≪ 1, so the PFDavg shown is the exact time average of the exponential model. A test interval this long ' +
+      `λDU·T1 = ${Number(lambdaT.toPrecision(3))} exceeds ${SIMPLIFIED_LAMBDA_T_MAX}: ` +
+      'the simplified equations assume ' +
+      'λ·T ≪ 1, so the PFDavg shown is the exact time average of the exponential model. ' +
+      'A test interval this long ' +
       'for this failure rate leaves the function unavailable for much of the time.',
   }
 }
@@ -218,7 +226,8 @@ interface ExactInput {
 
 /**
  * Exact time average over `horizon` of the unavailability from undetected failures, with exponential laws:
- * a channel is failed at t with probability 1 − exp(−(1−β)·λDU·h(t)), a common cause with 1 − exp(−β·λDU·h(t)),
+ * a channel is failed at t with probability 1 − exp(−(1−β)·λDU·h(t)),
+ * a common cause with 1 − exp(−β·λDU·h(t)),
  * h(t) = C·(t mod T1) + (1 − C)·t the time since the failure was last revealable. The channels combine by their
  * vote (k-out-of-n of independent channels; 1oo2D as 1oo2). Repair time and detected failures add the small
  * terms of the simplified equations (λDU·MRT, λDD·MTTR). Composite Simpson rule, 2 000 steps per test interval.
@@ -333,7 +342,9 @@ export function compareToTarget(targetSil: Sil, pfd: number): TargetComparison {
     requiredPfdBelow,
     meetsTarget,
     marginFactor: pfd === 0 ? Infinity : requiredPfdBelow / pfd,
-    explanation: `PFDavg ${pfd.toPrecision(3)} lies in ${bandText}; SIL ${targetSil} needs PFDavg < ${requiredPfdBelow} → ${meetsTarget ? 'target met' : 'target not met'}`,
+    explanation:
+      `PFDavg ${pfd.toPrecision(3)} lies in ${bandText}; ` +
+      `SIL ${targetSil} needs PFDavg < ${requiredPfdBelow} → ${meetsTarget ? 'target met' : 'target not met'}`,
   }
 }
 

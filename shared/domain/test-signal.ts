@@ -204,7 +204,8 @@ export function computeTestSignal(
   if (sp < low || sp > high) {
     flags.push('setpoint_outside_range')
     notes.push(
-      `The setpoint ${sp} ${eu} lies outside the instrument range ${instrument.rangeLow} … ${instrument.rangeHigh} ${eu}.`,
+      `The setpoint ${sp} ${eu} lies outside the instrument range ` +
+        `${instrument.rangeLow} … ${instrument.rangeHigh} ${eu}.`,
     )
   }
 
@@ -224,9 +225,11 @@ export function computeTestSignal(
           value: roundSignal(emf, 'mV'),
         })
         notes.push(
-          `Inject ${fmt(main.value, 'mV')} with a millivolt source at the instrument terminals, connected with copper leads: ` +
+          `Inject ${fmt(main.value, 'mV')} with a millivolt source at the instrument terminals, ` +
+            'connected with copper leads: ' +
             `E(setpoint) − E(cold junction) for type ${signal.tcType} (ITS-90), cold junction ${cj} °C. ` +
-            'Measure the terminal temperature when you test; the value changes by about the Seebeck coefficient per °C.',
+            'Measure the terminal temperature when you test; ' +
+            'the value changes by about the Seebeck coefficient per °C.',
         )
       } else {
         alternatives.push({
@@ -243,7 +246,8 @@ export function computeTestSignal(
           })
         }
         notes.push(
-          `Set the calibrator to simulate a type ${signal.tcType} thermocouple with its own cold-junction compensation, ` +
+          `Set the calibrator to simulate a type ${signal.tcType} thermocouple ` +
+            'with its own cold-junction compensation, ' +
             `connected with type ${signal.tcType} compensating cable, and dial ${sp} ${eu}.`,
         )
       }
@@ -263,7 +267,8 @@ export function computeTestSignal(
       components.r0Ohm = r0
       components.resistanceOhm = roundTo(main.value, 3)
       notes.push(
-        `Connect a resistance source set to ${fmt(main.value, 'ohm')} (${signal.element}, IEC 60751) in place of the element.`,
+        `Connect a resistance source set to ${fmt(main.value, 'ohm')} (${signal.element}, IEC 60751) ` +
+          'in place of the element.',
       )
       if (signal.wires === 2) {
         notes.push(
@@ -353,11 +358,15 @@ function addHeadTransmitter(
   })
   ne43Flags(mA, flags)
   notes.push(
-    `With a head transmitter you may instead inject ${fmt(mA, 'mA')} at its output (the sensor and transmitter are then not tested).`,
+    `With a head transmitter you may instead inject ${fmt(mA, 'mA')} at its output ` +
+      '(the sensor and transmitter are then not tested).',
   )
 }
 
-/** Options of `engineeringFromSignal`: the test-signal options plus the unit of the reading (default by signal kind and mode). */
+/**
+ * Options of `engineeringFromSignal`: the test-signal options plus the unit of the reading
+ * (default by signal kind and mode).
+ */
 export interface SignalReadingOptions extends TestSignalOptions {
   signalUnit?: SignalUnit
 }
@@ -387,7 +396,8 @@ function defaultSignalUnit(signal: TestSignalSpec, options: TestSignalOptions): 
 /**
  * Converts an as-found/as-left reading entered in signal units into the instrument's engineering unit: mV with the
  * cold junction (emf-domain compensation), ohm (IEC 60751), mA (linear or square root; also a head transmitter's
- * output), V (voltage signal, or the voltage across 250 Ω for a current loop), eu as is. Throws like `computeTestSignal`.
+ * output), V (voltage signal, or the voltage across 250 Ω for a current loop), eu as is.
+ * Throws like `computeTestSignal`.
  */
 export function engineeringFromSignal(
   instrument: TestSignalInstrument,

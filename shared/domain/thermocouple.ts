@@ -484,8 +484,10 @@ export const TABLE_EMF_HALF_STEP = 0.0005
 
 const B_EXPLANATION =
   'a type B thermocouple gives almost no emf at low temperature: the emf falls slightly below zero ' +
-  'from 0 °C to a minimum of about −0.0026 mV near 21 °C, is back at zero near 42 °C and reaches only about 0.033 mV at 100 °C, ' +
-  'so a low emf matches two temperatures or is lost in the measurement error; NIST gives the type B inverse only from ' +
+  'from 0 °C to a minimum of about −0.0026 mV near 21 °C, is back at zero near 42 °C ' +
+  'and reaches only about 0.033 mV at 100 °C, ' +
+  'so a low emf matches two temperatures or is lost in the measurement error; ' +
+  'NIST gives the type B inverse only from ' +
   '250 °C (0.291 mV) and the product does not convert emfs below that'
 
 function horner(coeffs: readonly number[], x: number): number {
@@ -563,7 +565,10 @@ function clampToRange(type: TcType, t: number): number {
   return Math.min(tMax, Math.max(tMin, t))
 }
 
-/** ITS-90 emf E(t) in mV of a type at t °C with the reference junction at 0 °C; throws OutOfRangeError outside the function's range. */
+/**
+ * ITS-90 emf E(t) in mV of a type at t °C with the reference junction at 0 °C;
+ * throws OutOfRangeError outside the function's range.
+ */
 export function thermocoupleEmf(type: TcType, tC: number): number {
   checkType(type)
   return forwardRaw(type, clampToRange(type, tC))
@@ -575,7 +580,10 @@ export function thermocoupleSeebeck(type: TcType, tC: number): number {
   return derivativeRaw(type, clampToRange(type, tC))
 }
 
-/** The NIST inverse polynomial value t(E) (approximate, within the stated error band), or undefined outside its sub-ranges. */
+/**
+ * The NIST inverse polynomial value t(E) (approximate, within the stated error band),
+ * or undefined outside its sub-ranges.
+ */
 export function thermocoupleInverseApprox(type: TcType, emfMv: number): number | undefined {
   checkType(type)
   const pieces = TABLES[type].inverse
@@ -629,7 +637,10 @@ export function thermocoupleTemperature(type: TcType, emfMv: number): number {
   return t
 }
 
-/** mV a source must inject at the instrument terminals (cold junction at tCj °C) to simulate tHot °C: E(tHot) − E(tCj). */
+/**
+ * mV a source must inject at the instrument terminals (cold junction at tCj °C) to simulate tHot °C:
+ * E(tHot) − E(tCj).
+ */
 export function mvSourceValue(type: TcType, tHotC: number, tCjC: number): number {
   return thermocoupleEmf(type, tHotC) - coldJunctionEmf(type, tCjC)
 }

@@ -23,7 +23,10 @@ export interface JudgeInput {
 export interface Judgement {
   asFoundResult: AsFoundResult
   asLeftResult: AsLeftResult
-  /** The protection is proven: as-found neither dangerous nor absent, as-left in tolerance, final element acted, fast enough. */
+  /**
+   * The protection is proven: as-found neither dangerous nor absent, as-left in tolerance,
+   * final element acted, fast enough.
+   */
   passed: boolean
   /** Why it failed, one sentence per reason. */
   reasons: string[]
@@ -33,7 +36,8 @@ export interface Judgement {
 const EPS = 1e-9
 
 /**
- * As-found: in tolerance when |found − setpoint| ≤ tolerance; beyond it on the side where the trip acts later than set
+ * As-found: in tolerance when |found − setpoint| ≤ tolerance;
+ * beyond it on the side where the trip acts later than set
  * (above a high setpoint, below a low one) it is out on the dangerous side, on the other side out on the safe side
  * (it trips early: spurious trips, not lost protection). Common practice; see test-acceptance.md in the references.
  */

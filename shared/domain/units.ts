@@ -123,7 +123,10 @@ export function isKnownUnit(unit: string): boolean {
   }
 }
 
-/** The canonical symbol of a known unit (e.g. 'degC' → '°C', 'bar(g)' → 'bar'); throws UnitConversionError if unknown. */
+/**
+ * The canonical symbol of a known unit (e.g. 'degC' → '°C', 'bar(g)' → 'bar');
+ * throws UnitConversionError if unknown.
+ */
 export function canonicalUnit(unit: string): string {
   return parse(unit).symbol
 }

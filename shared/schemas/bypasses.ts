@@ -226,7 +226,10 @@ export interface RiskRow {
   neverTested: boolean
   /** last passing full test, else the commissioning date (else the entry in the register), YYYY-MM-DD */
   untestedSince: string
-  /** hours in the period with a dangerous undetected failure that a test then found (docs/bypasses.md#fault-exposure) */
+  /**
+   * hours in the period with a dangerous undetected failure that a test then found
+   * (docs/bypasses.md#fault-exposure)
+   */
   faultExposureHours: number
   faultExposures: { from: string; to: string; foundAt: string; ongoing: boolean }[]
   /** hours in the period the limit was degraded (failed test, not yet proven again) */

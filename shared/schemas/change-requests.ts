@@ -56,7 +56,10 @@ export const CHECKLIST_GROUP_LABELS: Record<ChecklistGroup, string> = {
   closeout: 'Close-out',
 }
 
-/** Limit fields whose value lives on the device: implementation reads them back and they must equal the approved value. */
+/**
+ * Limit fields whose value lives on the device: implementation reads them back
+ * and they must equal the approved value.
+ */
 export const DEVICE_FIELDS_LIMIT = [
   'setpoint',
   'deadband',

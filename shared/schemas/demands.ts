@@ -82,7 +82,10 @@ export const FailureRatesQuerySchema = SiteFilterQuerySchema.extend({
 })
 export type FailureRatesQuery = z.infer<typeof FailureRatesQuerySchema>
 
-/** `POST /api/demands/failure-rates/change-request`: a limit's observed λDU of a device group, proposed as a change. */
+/**
+ * `POST /api/demands/failure-rates/change-request`: a limit's observed λDU of a device group,
+ * proposed as a change.
+ */
 export const ProposeLambdaDuInputSchema = z.object({
   limitId: z.number().int().positive(),
   deviceKind: z.string().min(1).max(40),

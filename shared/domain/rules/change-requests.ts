@@ -112,7 +112,8 @@ function approverChecks(cr: ChangeRuleRecord, actor: ChangeActor): Verdict {
   const reviewed = reviewedBy(cr, actor.id)
   if (reviewed)
     return forbid(
-      `Nobody approves a change they reviewed (${reviewed} review): the approval is an independent check on top of the reviews.`,
+      `Nobody approves a change they reviewed (${reviewed} review): ` +
+        'the approval is an independent check on top of the reviews.',
     )
   if (!can(actor, 'approve', cr)) return forbid('You may not approve this change.')
   return allow
@@ -128,7 +129,8 @@ function approveVerdict(cr: ChangeRuleRecord, actor: ChangeActor): Verdict {
   const waiting = missingReviews(cr)
   if (waiting.length)
     return blocked(
-      `Reviewers sign before the approver: the ${listOf(waiting)} review${waiting.length > 1 ? 's are' : ' is'} not signed yet.`,
+      `Reviewers sign before the approver: ` +
+        `the ${listOf(waiting)} review${waiting.length > 1 ? 's are' : ' is'} not signed yet.`,
     )
   return allow
 }
@@ -286,7 +288,8 @@ export function changeRequestRules(cr: ChangeRuleRecord, actor: ChangeActor, now
       ? implement
       : remaining.some((i) => i.kind !== 'create')
         ? blocked(
-            'Only a baseline of new limits is implemented in bulk; implement changes item by item with their read-back.',
+            'Only a baseline of new limits is implemented in bulk; ' +
+              'implement changes item by item with their read-back.',
           )
         : remaining.some((i) => i.stale)
           ? blocked('A limit changed since the request was written; the request must be revised.')

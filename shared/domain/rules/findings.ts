@@ -28,7 +28,8 @@ const CLOSED: FindingState[] = ['resolved', 'accepted']
 /** Every action on a finding, for this actor now. */
 export function findingVerdicts(f: FindingRecord, actor: FindingActor): Verdicts<FindingAction> {
   const closed = CLOSED.includes(f.state)
-  const closedReason = `The finding is ${f.state}; it reopens by itself if a later reconciliation sees the difference again.`
+  const closedReason =
+    `The finding is ${f.state}; ` + 'it reopens by itself if a later reconciliation sees the difference again.'
   return {
     acknowledge: !actor.isSafetyEngineer
       ? forbid('Only a safety engineer of the site acknowledges findings.')

@@ -204,7 +204,8 @@ export function instrumentEditVerdict(
     return forbid('Only a safety engineer of this site edits an instrument.')
   if (activeLimitTags.length)
     return blocked(
-      `Instrument ${instrument.tag} feeds active limits (${activeLimitTags.join(', ')}): change it through a change request`,
+      `Instrument ${instrument.tag} feeds active limits (${activeLimitTags.join(', ')}): ` +
+        'change it through a change request',
     )
   return allow
 }
