@@ -63,7 +63,10 @@ export function scopeSites(user: { roles: { siteId: number }[] } | null, request
   return requested?.length ? requested.filter((s) => mine.includes(s)) : mine
 }
 
-/** Escapes the LIKE wildcards of user text, so a search for "10%" finds "10%" (PostgreSQL's default escape is a backslash). */
+/**
+ * Escapes the LIKE wildcards of user text, so a search for "10%" finds "10%"
+ * (PostgreSQL's default escape is a backslash).
+ */
 export function likeEscape(text: string): string {
   return text.replace(/[\\%_]/g, (c) => `\\${c}`)
 }

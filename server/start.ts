@@ -1,6 +1,7 @@
 // `npm start`: one process supervises everything it needs. Without DATABASE_URL it creates (first run) and starts a
 // project-local PostgreSQL cluster on 127.0.0.1, migrates, seeds the demo plant into an empty database, starts the
-// local fake SMTP server and the simulated Modbus device, builds the client when its sources changed, and serves app and API.
+// local fake SMTP server and the simulated Modbus device, builds the client when its sources changed,
+// and serves app and API.
 // Ctrl-C or SIGTERM stops everything it started, PostgreSQL included.
 import { execFile, spawn } from 'node:child_process'
 import { existsSync, readdirSync, statSync } from 'node:fs'

@@ -10,7 +10,9 @@ const { db } = createDb(url, 2)
 try {
   const c = await checkpointAndMail(db, systemClock)
   process.stdout.write(
-    `Checkpoint written: ${checkpointDir()}/${c.file} (head id ${c.headId} at chain position ${c.headSeq}, ${c.count} events); mailed to ${c.mailed} auditor(s).\n`,
+    `Checkpoint written: ${checkpointDir()}/${c.file} ` +
+      `(head id ${c.headId} at chain position ${c.headSeq}, ${c.count} events); ` +
+      `mailed to ${c.mailed} auditor(s).\n`,
   )
 } catch (err) {
   process.stderr.write(`${err instanceof Error ? err.message : err}\n`)

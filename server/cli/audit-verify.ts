@@ -16,7 +16,9 @@ try {
   for (const p of r.checkpointProblems) out(`Checkpoint problem: ${p}`)
   if (r.problem === null) {
     out(
-      `Audit trail intact: ${r.checked} events checked in ${r.seconds.toFixed(2)} s against ${r.checkpoints} checkpoint(s) in ${checkpointDir()}; head id ${r.headId ?? '-'} at chain position ${r.headSeq ?? '-'} hash ${r.headHash ?? '-'}`,
+      `Audit trail intact: ${r.checked} events checked in ${r.seconds.toFixed(2)} s ` +
+        `against ${r.checkpoints} checkpoint(s) in ${checkpointDir()}; ` +
+        `head id ${r.headId ?? '-'} at chain position ${r.headSeq ?? '-'} hash ${r.headHash ?? '-'}`,
     )
     if (r.unsealed) out(`${r.unsealed} event(s) written in the last minute are not yet sealed.`)
     if (r.unkeyed) out(`${r.unkeyed} event(s) from before keyed links are hash-chained only.`)
@@ -24,7 +26,8 @@ try {
   } else {
     const where = r.badId !== null ? `event ${r.badId}` : `chain position ${r.badSeq}`
     out(
-      `Audit trail BROKEN at ${where}: ${r.problem} (${r.checked} events before it are intact)${r.checkpoint ? ` [checkpoint ${r.checkpoint}]` : ''}`,
+      `Audit trail BROKEN at ${where}: ${r.problem} (${r.checked} events before it are intact)` +
+        `${r.checkpoint ? ` [checkpoint ${r.checkpoint}]` : ''}`,
     )
     process.exitCode = 1
   }

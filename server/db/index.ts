@@ -45,7 +45,8 @@ export function errorField(err: unknown, field: 'code' | 'message' | 'type'): st
 
 /**
  * One pool shared by Kysely and the session store, and the pool's change feed (server/db/change-feed.ts): it
- * listens only once a cache subscribes, and ends with the pool. A connection PostgreSQL drops (restart, failover, network) must
+ * listens only once a cache subscribes, and ends with the pool.
+ * A connection PostgreSQL drops (restart, failover, network) must
  * never end the process: the pool and every client it makes get an 'error' listener, the broken client is discarded
  * and the next query opens a new one, so the app recovers by itself once the database is back
  * (docs/security.md, "Database loss").

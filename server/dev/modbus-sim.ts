@@ -124,7 +124,8 @@ export async function startModbusSim(
   const chosen = port === 0 ? await freePort() : port
   if (port !== 0 && (await portInUse(port)))
     throw new Error(
-      `Port ${port} for the simulated Modbus device is already in use: stop what listens there or set MODBUS_SIM_PORT to a free port.`,
+      `Port ${port} for the simulated Modbus device is already in use: ` +
+        'stop what listens there or set MODBUS_SIM_PORT to a free port.',
     )
   const server = new ServerTCP(vector, { host: '127.0.0.1', port: chosen, unitID: 255 })
   const inner = (server as unknown as { _server: net.Server })._server

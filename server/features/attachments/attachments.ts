@@ -18,7 +18,10 @@ export const attachmentUpload = multer({
   limits: { fileSize: MAX_ATTACHMENT_BYTES, files: 1 },
 })
 
-/** The file's real type from its first bytes (PDF, PNG, JPEG), whatever its name or the browser says; null otherwise. */
+/**
+ * The file's real type from its first bytes (PDF, PNG, JPEG), whatever its name or the browser says;
+ * null otherwise.
+ */
 export function sniffType(buf: Buffer): 'application/pdf' | 'image/png' | 'image/jpeg' | null {
   if (buf.length >= 5 && buf.subarray(0, 5).toString('latin1') === '%PDF-') return 'application/pdf'
   if (buf.length >= 8 && buf.subarray(0, 8).equals(Buffer.from([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a])))
@@ -48,7 +51,10 @@ export function storedFileName(clientName: string, type: NonNullable<ReturnType<
   return `${stem || 'attachment'}${ext}`
 }
 
-/** Receives one attachment in field `file`; multer's failures as API errors (413 over the size limit, 400 for anything else). */
+/**
+ * Receives one attachment in field `file`; multer's failures as API errors
+ * (413 over the size limit, 400 for anything else).
+ */
 export const receiveAttachment: RequestHandler = (req, res, next) => {
   attachmentUpload.single('file')(req, res, (err: unknown) => {
     if (!err) return next()

@@ -63,6 +63,7 @@ export function mailBodies(
   const html =
     `<div style="font-family:Roboto,Arial,sans-serif">${paragraphs.map((p) => `<p>${esc(p)}</p>`).join('')}` +
     (link ? `<p><a href="${esc(link.url)}">${esc(link.label)}</a></p>` : '') +
-    '<p style="color:#666;font-size:12px">Limitkeeper. This register does not replace the safety system or the plant\'s procedures.</p></div>'
+    '<p style="color:#666;font-size:12px">' +
+    "Limitkeeper. This register does not replace the safety system or the plant's procedures.</p></div>"
   return { text, html }
 }

@@ -29,7 +29,10 @@ export function passwordWeakness(password: string, context: string[] = []): stri
   const result = checker().check(password, words)
   if (result.score >= MIN_SCORE) return null
   const hint = result.feedback.warning || result.feedback.suggestions[0]
-  return `This password is too easy to guess${hint ? `: ${hint.replace(/\.$/, '')}` : ''}. A few unrelated words make a strong one`
+  return (
+    `This password is too easy to guess${hint ? `: ${hint.replace(/\.$/, '')}` : ''}. ` +
+    'A few unrelated words make a strong one'
+  )
 }
 
 /** Throws 400 on the field when the password is too weak. */

@@ -55,7 +55,10 @@ async function assertSitesExist(deps: AppDeps, roles: RoleList) {
   if (found.length !== ids.length) throw validationFailed({ roles: ['A role refers to a site that does not exist'] })
 }
 
-/** Admins act on accounts only at sites where they hold the admin role (role assignments are per site, docs/architecture.md). */
+/**
+ * Admins act on accounts only at sites where they hold the admin role
+ * (role assignments are per site, docs/architecture.md).
+ */
 function assertAdministers(ability: AppAbility, siteIds: number[]) {
   for (const id of new Set(siteIds)) {
     if (!allows(ability, 'update', 'Site', { id }))
