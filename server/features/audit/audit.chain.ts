@@ -168,19 +168,26 @@ export interface Problem {
 /** What of an event ties it to the one before: its position, its `prev_hash`, whether it is keyed and its format. */
 export type ChainLink = Pick<ChainRow, 'id' | 'seq' | 'prev_hash' | 'link' | 'data_hash'>
 
-/** The event's tie to the walk so far: one position after the previous, its hash as `prev_hash`, keyed once links began. */
+/**
+ * The event's tie to the walk so far: one position after the previous, its hash as `prev_hash`,
+ * keyed once links began.
+ */
 export function linkProblem(r: ChainLink, st: WalkState): Problem | null {
   const { id, seq } = r
   if ((st.keyedFrom !== null || r.data_hash !== null) && seq !== st.lastSeq + 1)
     return {
       at: { id, seq: st.lastSeq + 1 },
-      problem: `the event at chain position ${st.lastSeq + 1}${seq > st.lastSeq + 2 ? ` (and up to ${seq - 1})` : ''}, before event ${id}, is missing (deleted)`,
+      problem:
+        `the event at chain position ${st.lastSeq + 1}${seq > st.lastSeq + 2 ? ` (and up to ${seq - 1})` : ''}, ` +
+        `before event ${id}, is missing (deleted)`,
     }
   if (r.prev_hash !== st.prev)
     // an event taken out where positions have gaps (before keyed links) shows as a broken link to it
     return {
       at: { id, seq },
-      problem: `prev_hash does not match the previous event${st.keyedFrom === null ? ' (an event before it was changed or deleted)' : ''}`,
+      problem:
+        'prev_hash does not match the previous event' +
+        `${st.keyedFrom === null ? ' (an event before it was changed or deleted)' : ''}`,
     }
   if (r.link === null && (st.keyedFrom !== null || r.data_hash !== null))
     return {

@@ -129,7 +129,10 @@ export function readCheckpoints(opts: { keys?: AuditKeys; dir?: string } = {}): 
   return { claims, problems }
 }
 
-/** Seals what waits, writes a checkpoint and mails it to the auditors of every site (in the outbox; delivered by the mail job). */
+/**
+ * Seals what waits, writes a checkpoint and mails it to the auditors of every site
+ * (in the outbox; delivered by the mail job).
+ */
 export async function checkpointAndMail(db: Db, clock: Clock, opts: { keys?: AuditKeys; dir?: string } = {}) {
   // the checkpoint signs the sealed head: what was written before it is sealed first
   await sealAll(db, clock)
@@ -137,7 +140,8 @@ export async function checkpointAndMail(db: Db, clock: Clock, opts: { keys?: Aud
   const auditors = await activeAuditorEmails(db)
   const { file, ...signed } = c
   const bodies = mailBodies([
-    `Checkpoint of the audit trail at ${c.createdAt}: head event ${c.headId} at chain position ${c.headSeq}, ${c.count} sealed events.`,
+    `Checkpoint of the audit trail at ${c.createdAt}: ` +
+      `head event ${c.headId} at chain position ${c.headSeq}, ${c.count} sealed events.`,
     'Keep this message outside Limitkeeper. `npm run audit:verify` checks the trail against the checkpoint files; ' +
       'if the copy kept there differs from this one, the trail or its checkpoints were changed.',
     JSON.stringify(signed),

@@ -333,7 +333,8 @@ interface PageRange {
 
 /**
  * Pages of `size` chain positions covering every sealed event (at least one page): positions are gap-free, so each page
- * holds `size` events (fewer where events are missing). Where the positions are sparse (a chain rewritten behind the app), the pages begin
+ * holds `size` events (fewer where events are missing).
+ * Where the positions are sparse (a chain rewritten behind the app), the pages begin
  * at every `size`-th sealed event instead, read from the positions' index, so no page is empty.
  */
 async function pageRanges(db: Reader, size: number): Promise<PageRange[]> {
@@ -362,7 +363,8 @@ async function chainPage(client: pg.PoolClient, { from, to }: PageRange): Promis
   if (!Number.isSafeInteger(from) || !Number.isSafeInteger(to)) throw new Error(`bad page ${from}..${to}`)
   const stream = client.query(
     copyTo(
-      `COPY (SELECT ${CHAIN_COLUMNS} FROM audit_event WHERE seq >= ${from} AND seq < ${to} ORDER BY seq) TO STDOUT (FORMAT binary)`,
+      `COPY (SELECT ${CHAIN_COLUMNS} FROM audit_event WHERE seq >= ${from} AND seq < ${to} ORDER BY seq) ` +
+        'TO STDOUT (FORMAT binary)',
     ),
   )
   const chunks: Buffer[] = []
@@ -562,14 +564,17 @@ async function walkInOnePiece(
         return broken(
           { id: lastId, seq: c.headSeq },
           checked > c.count
-            ? `${checked - c.count} event(s) more up to chain position ${c.headSeq} than checkpoint ${c.file} counted: inserted`
-            : `${c.count - checked} event(s) fewer up to chain position ${c.headSeq} than checkpoint ${c.file} counted: deleted`,
+            ? `${checked - c.count} event(s) more up to chain position ${c.headSeq} ` +
+                `than checkpoint ${c.file} counted: inserted`
+            : `${c.count - checked} event(s) fewer up to chain position ${c.headSeq} ` +
+                `than checkpoint ${c.file} counted: deleted`,
           c.file,
         )
       if (c.firstKeyedSeq !== keyedFrom)
         return broken(
           { seq: c.firstKeyedSeq ?? keyedFrom ?? c.headSeq },
-          `keyed links began at chain position ${c.firstKeyedSeq ?? '-'} when checkpoint ${c.file} was signed, now at ${keyedFrom ?? '-'}: rewritten`,
+          `keyed links began at chain position ${c.firstKeyedSeq ?? '-'} when checkpoint ${c.file} was signed, ` +
+            `now at ${keyedFrom ?? '-'}: rewritten`,
           c.file,
         )
       cp++
@@ -637,7 +642,8 @@ async function checkUnsealed(
     if (waited > bound)
       return broken(
         oldest.id,
-        `event ${oldest.id} has waited ${Math.round(waited)} s unsealed (more than ${bound} s): the sealer is not running, or the event was put there behind its back`,
+        `event ${oldest.id} has waited ${Math.round(waited)} s unsealed (more than ${bound} s): ` +
+          'the sealer is not running, or the event was put there behind its back',
       )
   }
   return { ...sealed, ...(unsealed ? { unsealed } : {}) }
