@@ -171,13 +171,15 @@ export async function monthlyReport(
       },
       {
         text: f.longestFlood
-          ? `Longest flood: ${f.longestFlood.start} to ${f.longestFlood.end}, ${f.longestFlood.annunciated} alarms; top: ${f.longestFlood.top.map((x) => `${x.tag} (${x.count})`).join(', ')}.`
+          ? `Longest flood: ${f.longestFlood.start} to ${f.longestFlood.end}, ${f.longestFlood.annunciated} alarms; ` +
+            `top: ${f.longestFlood.top.map((x) => `${x.tag} (${x.count})`).join(', ')}.`
           : 'No flood in the month.',
         margin: [0, 8, 0, 0],
       },
       {
         text:
-          'Figures come from the imported alarm journal. Targets marked "from memory" are defaults of the site policy, ' +
+          'Figures come from the imported alarm journal. ' +
+          'Targets marked "from memory" are defaults of the site policy, ' +
           'not quotations of the standards. The register is not the safety system: verify settings on the device ' +
           'under the plant’s procedures; local codes and licensed engineering judgement prevail.',
         fontSize: 7,

@@ -534,7 +534,9 @@ export async function finishReplayUpload(
 /** One series of an upload, sorted by time, as typed arrays (seconds, values; NaN where the value is missing). */
 export async function seriesSamples(pool: pg.Pool, uploadId: number, series: number) {
   const r = await pool.query({
-    text: `SELECT (extract(epoch FROM t))::float8, value FROM process_sample WHERE upload_id = $1 AND series = $2 ORDER BY t`,
+    text:
+      'SELECT (extract(epoch FROM t))::float8, value FROM process_sample ' +
+      'WHERE upload_id = $1 AND series = $2 ORDER BY t',
     values: [uploadId, series],
     rowMode: 'array',
   })
