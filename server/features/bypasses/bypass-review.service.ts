@@ -63,7 +63,8 @@ function overdueSpan(b: BypassDto, now: number): [number, number] | null {
 /**
  * The plant manager's review over a period (docs/bypasses.md#the-plant-managers-review): history rows, KPIs and chart
  * series (bypass hours per month, the ten limits with most bypass hours, overdue bypasses per month, share past planned
- * end), plus hours degraded by failed tests and the test deferrals requested, approved and waiting. Every figure counts the time each bypass was actually in force, from its
+ * end), plus hours degraded by failed tests and the test deferrals requested, approved and waiting.
+ * Every figure counts the time each bypass was actually in force, from its
  * activation to its removal (or now), whatever was planned.
  */
 export async function bypassReview(
@@ -251,7 +252,8 @@ export async function riskErosion(deps: AppDeps, q: { siteIds: number[]; areaIds
         ? (now - new Date(`${l.last_full_pass}T00:00:00Z`).getTime()) / HOUR
         : // never tested: from commissioning (IEC 61511 validation), else from the limit's entry in the register
           (now - (l.commissioned_at ? Date.parse(`${l.commissioned_at}T00:00:00Z`) : l.created_at.getTime())) / HOUR
-      // an overdue or never-tested function has gone untested longer than designed: the interval is the time since the last pass
+      // an overdue or never-tested function has gone untested longer than designed:
+      // the interval is the time since the last pass
       const overdue = isTestOverdue(l.test_status)
       // only where the time since the last pass exceeds the designed interval does it stretch the interval
       const stretched = overdue && subsystems.some((s) => sinceLastPass > s.testIntervalMonths * 730)

@@ -184,7 +184,15 @@ export function createBypassReviewRouter(deps: AppDeps) {
         content: [
           { text: 'Bypass review', fontSize: 16, bold: true },
           {
-            text: `${r.period.from.slice(0, 10)} to ${r.period.to.slice(0, 10)} · active now ${r.kpis.activeNow} · overdue now ${r.kpis.overdueNow} · hours this month ${fig(r.kpis.hoursThisMonth)} · average ${fig(r.kpis.averageDurationHours)} · longer than a shift ${r.kpis.longerThanShift} · without compensating measures ${r.kpis.withoutMeasures} · hours degraded ${fig(r.kpis.hoursDegraded)} · test deferrals ${r.kpis.deferralsRequested} requested, ${r.kpis.deferralsApproved} approved, ${r.kpis.deferralsWaiting} waiting`,
+            text:
+              `${r.period.from.slice(0, 10)} to ${r.period.to.slice(0, 10)} · ` +
+              `active now ${r.kpis.activeNow} · overdue now ${r.kpis.overdueNow} · ` +
+              `hours this month ${fig(r.kpis.hoursThisMonth)} · average ${fig(r.kpis.averageDurationHours)} · ` +
+              `longer than a shift ${r.kpis.longerThanShift} · ` +
+              `without compensating measures ${r.kpis.withoutMeasures} · ` +
+              `hours degraded ${fig(r.kpis.hoursDegraded)} · ` +
+              `test deferrals ${r.kpis.deferralsRequested} requested, ${r.kpis.deferralsApproved} approved, ` +
+              `${r.kpis.deferralsWaiting} waiting`,
             margin: [0, 4, 0, 8],
           },
           {
