@@ -11,7 +11,8 @@ import type { AppDeps } from '../../deps.ts'
 import * as service from './change-proposals.service.ts'
 
 /**
- * `/api/change-proposals` (docs/change-requests.md#change-proposals): list (paged, by site, status, limit, mine), raise,
+ * `/api/change-proposals` (docs/change-requests.md#change-proposals):
+ * list (paged, by site, status, limit, mine), raise,
  * read, take up (`POST /:id/take-up { changeRequestId }`) and decline (`POST /:id/decline { reason }`).
  */
 export function createChangeProposalsRouter(deps: AppDeps) {

@@ -44,7 +44,9 @@ export function createChangeRequestJob(
           if (!claimed) return
           await enqueueMail(trx, clock, {
             to: cr.email,
-            subject: `Temporary change #${cr.id} expires ${cr.expires_at!.toISOString().slice(0, 16).replace('T', ' ')} UTC: revert it`,
+            subject:
+              `Temporary change #${cr.id} ` +
+              `expires ${cr.expires_at!.toISOString().slice(0, 16).replace('T', ' ')} UTC: revert it`,
             topic: 'change_request',
             ...mailBodies(
               [
@@ -80,8 +82,11 @@ export function createChangeRequestJob(
               topic: 'change_request',
               ...mailBodies(
                 [
-                  `The temporary change "${cr.title}" passed its end at ${cr.expires_at!.toISOString()} and is still on the device: expired, to be reverted.`,
-                  'Revert it through a reversal change request (read back on the device), or make it permanent by a new approved request. This notice repeats daily until a reversal is implemented.',
+                  `The temporary change "${cr.title}" passed its end at ${cr.expires_at!.toISOString()} ` +
+                    'and is still on the device: expired, to be reverted.',
+                  'Revert it through a reversal change request (read back on the device), ' +
+                    'or make it permanent by a new approved request. ' +
+                    'This notice repeats daily until a reversal is implemented.',
                 ],
                 link(cr.id),
               ),
@@ -116,7 +121,8 @@ export function createChangeRequestJob(
               topic: 'change_request',
               ...mailBodies(
                 [
-                  `The emergency change "${cr.title}" was implemented more than 24 hours ago and has not been approved.`,
+                  `The emergency change "${cr.title}" ` +
+                    'was implemented more than 24 hours ago and has not been approved.',
                   'Review and sign it, or reverse it.',
                 ],
                 link(cr.id),
@@ -157,7 +163,8 @@ export function createChangeRequestJob(
             topic: 'change_request',
             ...mailBodies(
               [
-                `The change "${cr.title}" was not implemented within ${days} days of its approval. The approvals are void and it needs approving again.`,
+                `The change "${cr.title}" was not implemented within ${days} days of its approval. ` +
+                  'The approvals are void and it needs approving again.',
               ],
               link(cr.id),
             ),

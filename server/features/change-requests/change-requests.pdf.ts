@@ -8,7 +8,9 @@ const fmt = (v: unknown): string =>
 export function changeRequestPdf(cr: ChangeRequestDto, printedAt: Date): Promise<Buffer> {
   const items = cr.items.flatMap((item) => [
     {
-      text: `${item.position + 1}. ${item.kind === 'instrument' ? 'Instrument' : 'Limit'} ${item.targetTag} — ${item.kind}${item.silRated ? ' (SIL-rated)' : ''}`,
+      text:
+        `${item.position + 1}. ${item.kind === 'instrument' ? 'Instrument' : 'Limit'} ${item.targetTag} — ` +
+        `${item.kind}${item.silRated ? ' (SIL-rated)' : ''}`,
       style: 'h3',
     },
     {
@@ -28,7 +30,11 @@ export function changeRequestPdf(cr: ChangeRequestDto, printedAt: Date): Promise
       margin: [0, 2, 0, 4],
     },
     {
-      text: `Unit: ${item.unit || '—'} · implemented: ${item.implementedAt ? `${item.implementedAt} by ${item.implementedBy}, read back ${fmt(item.readBack)}` : 'not yet'}`,
+      text:
+        `Unit: ${item.unit || '—'} · implemented: ` +
+        (item.implementedAt
+          ? `${item.implementedAt} by ${item.implementedBy}, read back ${fmt(item.readBack)}`
+          : 'not yet'),
       fontSize: 8,
       margin: [0, 0, 0, 6],
     },
@@ -44,7 +50,9 @@ export function changeRequestPdf(cr: ChangeRequestDto, printedAt: Date): Promise
     content: [
       { text: `Change request #${cr.id}: ${cr.title}`, style: 'h1' },
       {
-        text: `Site ${cr.siteCode} · ${cr.type} change · status ${cr.status} · proposed by ${cr.proposerName} · printed ${printedAt.toISOString()}`,
+        text:
+          `Site ${cr.siteCode} · ${cr.type} change · status ${cr.status} · ` +
+          `proposed by ${cr.proposerName} · printed ${printedAt.toISOString()}`,
         margin: [0, 0, 0, 8],
       },
       {
@@ -84,7 +92,12 @@ export function changeRequestPdf(cr: ChangeRequestDto, printedAt: Date): Promise
               s.name,
               s.meaning,
               s.at,
-              `${s.contentHash}${s.voided ? ` — VOID (${s.voidReason})` : s.matchesContent ? '' : ' — does not match the current content'}`,
+              `${s.contentHash}` +
+                (s.voided
+                  ? ` — VOID (${s.voidReason})`
+                  : s.matchesContent
+                    ? ''
+                    : ' — does not match the current content'),
             ]),
           ],
         },
@@ -92,7 +105,9 @@ export function changeRequestPdf(cr: ChangeRequestDto, printedAt: Date): Promise
       },
       ...(cr.pssr ? [{ text: 'Pre-start-up safety review', style: 'h2' }, { text: fmt(cr.pssr) }] : []),
       {
-        text: "Limitkeeper records what the safety system should do; it is not the safety system. Verify every setting on the device under the plant's own procedures.",
+        text:
+          'Limitkeeper records what the safety system should do; it is not the safety system. ' +
+          "Verify every setting on the device under the plant's own procedures.",
         fontSize: 7,
         italics: true,
         margin: [0, 16, 0, 0],

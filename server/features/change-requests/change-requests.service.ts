@@ -356,7 +356,8 @@ export async function getChangeRequest(
   const reversals = await repo.reversalsOf(db, id)
   const approvals = sigs.filter((s) => s.meaning === 'approved' && !s.voided_at)
   const expiryDays = policyOf(site).approvalExpiryDays
-  // what each signature should cover given the content now (recomputed, not the stored hash): a change after signing shows as a mismatch
+  // what each signature should cover given the content now (recomputed, not the stored hash):
+  // a change after signing shows as a mismatch
   const currentHash = hashOf(row, items, atts)
   const expectedHash = (s: { meaning: string; item_id: number | null; user_id: number }) => {
     if (s.meaning === 'closed')
@@ -704,7 +705,8 @@ export async function submitChangeRequest(deps: AppDeps, ability: AppAbility, ct
         `Change request #${id} waits for the ${d} review: ${row.title}`,
         [
           `${proposer.display_name} submitted change request #${id} "${row.title}" (${row.type}).`,
-          `The site asks for a ${d} review before approval. Review the changes and sign the review, with your comments.`,
+          `The site asks for a ${d} review before approval. ` +
+            'Review the changes and sign the review, with your comments.',
         ],
         id,
       )
@@ -971,7 +973,8 @@ async function applyItem(
     const inst = await lockInstrument(trx, item.instrument_id!)
     if (inst.revision !== item.base_revision)
       throw conflict(
-        `Instrument ${inst.tag} changed since this request was written (revision ${item.base_revision} → ${inst.revision}); revise the request`,
+        `Instrument ${inst.tag} changed since this request was written ` +
+          `(revision ${item.base_revision} → ${inst.revision}); revise the request`,
       )
     await applyInstrumentDefinition(trx, deps.clock, ctx, inst, to, {
       changeRequestId: crId,
@@ -982,7 +985,8 @@ async function applyItem(
   const limit = await lockLimit(trx, item.limit_id!)
   if (limit.revision !== item.base_revision)
     throw conflict(
-      `Limit ${limit.tag} changed since this request was written (revision ${item.base_revision} → ${limit.revision}); revise the request`,
+      `Limit ${limit.tag} changed since this request was written ` +
+        `(revision ${item.base_revision} → ${limit.revision}); revise the request`,
     )
   if (item.kind === 'create') {
     enforce(commissionableVerdict(limit))
