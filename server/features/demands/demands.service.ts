@@ -321,7 +321,8 @@ export async function demandRates(
     limits,
     sites: [...bySite.values()],
     note:
-      'Observed rate = counted events ÷ years observed (from commissioning, or the entry of the limit, to the end of ' +
+      'Observed rate = counted events ÷ years observed ' +
+      '(from commissioning, or the entry of the limit, to the end of ' +
       'the period). A rate from few events is uncertain; a demand rate above once a year leaves low-demand mode. ' +
       'Low demand mode only; not a SIL verification.',
   }

@@ -27,9 +27,12 @@ const RANK: Record<FailureRateGroup['verdict'], number> = {
 }
 
 export const FAILURE_RATES_NOTE =
-  'Observed λDU per channel = dangerous undetected failures found (at proof tests as found, in operation, on demand) ÷ ' +
-  'instrument hours in service (from the earliest commissioning of its limits, else its entry in the register). ' +
-  'Upper bounds are one-sided chi-square bounds at 70 % and 90 %; a model is flagged when failures were found and the ' +
+  'Observed λDU per channel = dangerous undetected failures found ' +
+  '(at proof tests as found, in operation, on demand) ÷ ' +
+  'instrument hours in service ' +
+  '(from the earliest commissioning of its limits, else its entry in the register). ' +
+  'Upper bounds are one-sided chi-square bounds at 70 % and 90 %; ' +
+  'a model is flagged when failures were found and the ' +
   '70 % bound exceeds the λDU assumed in a sensor subsystem. Unrecorded failures make the rate too low. Low demand ' +
   'mode only; not a SIL verification. A new figure is applied only through a change request.'
 
@@ -187,8 +190,10 @@ export async function proposeObservedLambdaDu(
     title: `${row.limitTag}: sensor λDU from the observed failure rate of ${group.model}`,
     rationale:
       `Observed λDU of ${group.model} (${group.deviceKind}): ${group.failures} dangerous undetected failure(s) in ` +
-      `${Math.round(group.exposureHours).toLocaleString('en-US')} instrument hours; upper bound ${f(group.upper70)} /h ` +
-      `at 70 % and ${f(group.upper90 ?? group.upper70)} /h at 90 % (chi-square), against the ${f(row.assumedLambdaDu)} /h ` +
+      `${Math.round(group.exposureHours).toLocaleString('en-US')} instrument hours; ` +
+      `upper bound ${f(group.upper70)} /h ` +
+      `at 70 % and ${f(group.upper90 ?? group.upper70)} /h at 90 % (chi-square), ` +
+      `against the ${f(row.assumedLambdaDu)} /h ` +
       `assumed in the sensor subsystem. Proposed: ${f(figure)} /h (the 70 % bound rounded up). Check the failures ` +
       'behind the figure and the PFDavg against the target before approving.',
     hazardReference: '',
