@@ -140,7 +140,9 @@ async function checkRows(db: Db, site: Site, rows: Row[], now: Date, lock: boole
         else if (limit.commissioned_at && limit.commissioned_at !== rec.commissionedOn)
           problems.push({
             field: 'date',
-            message: `${limit.tag} was commissioned on ${limit.commissioned_at} by the register; change it on the limit's page, not by an import`,
+            message:
+              `${limit.tag} was commissioned on ${limit.commissioned_at} by the register; ` +
+              "change it on the limit's page, not by an import",
           })
         else if (limit.commissioned_at === rec.commissionedOn) action = 'unchanged'
         commissioning.set(limit.id, r.stored.row)

@@ -305,9 +305,12 @@ export async function performRun(
       if (news.length > 50) lines.push(`… and ${news.length - 50} more.`)
       const bodies = mailBodies(
         [
-          `Reconciliation of "${source.name}" at ${now.toISOString()} found ${news.length} new or reopened difference(s) between the register and the plant:`,
+          `Reconciliation of "${source.name}" at ${now.toISOString()} found ${news.length} ` +
+            'new or reopened difference(s) between the register and the plant:',
           lines.join('\n'),
-          'A difference may mean the register is wrong or the device is. Nobody changes a device from Limitkeeper: corrections go through the plant’s own procedures, a register change through management of change.',
+          'A difference may mean the register is wrong or the device is. ' +
+            'Nobody changes a device from Limitkeeper: corrections go through the plant’s own procedures, ' +
+            'a register change through management of change.',
         ],
         { url: `${deps.config.appUrl}/findings?sourceId=${sourceId}`, label: 'Open the findings' },
       )

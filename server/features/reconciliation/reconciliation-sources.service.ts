@@ -109,7 +109,9 @@ export async function getSource(deps: AppDeps, ability: AppAbility, id: number):
 async function checkAreas(deps: AppDeps, siteId: number, areaIds: number[]) {
   if (!areaIds.length) return
   const found = await repo.findAreaIdsOfSite(deps.db, siteId, areaIds)
-  if (found.length !== new Set(areaIds).size) throw validationFailed({ areaIds: ['Choose areas of the source’s site'] })
+  if (found.length !== new Set(areaIds).size) {
+    throw validationFailed({ areaIds: ['Choose areas of the source’s site'] })
+  }
 }
 
 function nextRunFor(kind: string, now: Date, active: boolean): Date | null {
