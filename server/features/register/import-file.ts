@@ -60,7 +60,8 @@ export async function readTable(buffer: Buffer, opts: { maxRows?: number } = {})
     text = new TextDecoder('utf-8', { fatal: true }).decode(buffer)
   } catch {
     throw badFile(
-      'The file is neither an XLSX workbook nor CSV text in UTF-8: upload the register as .xlsx, or save the CSV as UTF-8',
+      'The file is neither an XLSX workbook nor CSV text in UTF-8: ' +
+        'upload the register as .xlsx, or save the CSV as UTF-8',
     )
   }
   for (let i = 0; i < text.length; i++) {
@@ -102,7 +103,8 @@ export function readCsv(text: string, maxRows = Infinity): FileTable {
   })
   if (quote)
     throw badFile(
-      `Row ${records.length + 1}: ${quote.message}; a text cell that holds the delimiter or a line break needs double quotes around it`,
+      `Row ${records.length + 1}: ${quote.message}; ` +
+        'a text cell that holds the delimiter or a line break needs double quotes around it',
     )
   if (over) throw tooManyRows(maxRows)
   const [head = [], ...data] = records
@@ -157,7 +159,8 @@ async function readXlsx(buffer: Buffer, maxRows: number): Promise<FileTable> {
   // a damaged directory is left to the workbook reader; a huge one is refused before anything is unpacked
   if (unpackedSize(buffer) > XLSX_MAX_UNPACKED_BYTES)
     throw badFile(
-      `The workbook unpacks to more than ${XLSX_MAX_UNPACKED_BYTES / 1024 / 1024} MB; upload the register as CSV or split it`,
+      `The workbook unpacks to more than ${XLSX_MAX_UNPACKED_BYTES / 1024 / 1024} MB; ` +
+        'upload the register as CSV or split it',
     )
   const reader = new ExcelJS.stream.xlsx.WorkbookReader(Readable.from([buffer]), {
     worksheets: 'emit',
@@ -193,7 +196,8 @@ async function readXlsx(buffer: Buffer, maxRows: number): Promise<FileTable> {
   } catch (err) {
     if (err instanceof AppError) throw err
     throw badFile(
-      'The file starts like an XLSX workbook but cannot be opened as one: save it again from the spreadsheet program, or upload CSV (UTF-8)',
+      'The file starts like an XLSX workbook but cannot be opened as one: ' +
+        'save it again from the spreadsheet program, or upload CSV (UTF-8)',
     )
   }
   if (!sheets) throw badFile('The workbook has no worksheet')
@@ -230,7 +234,9 @@ export function toStoredRows<K extends string>(table: FileTable, keys: (K | null
     if (values.slice(table.headers.length).some((v) => v.trim() !== '')) {
       problems.push({
         field: '_row',
-        message: `The row has more cells than the header has columns (${table.headers.length}): a text cell that holds the delimiter needs double quotes`,
+        message:
+          `The row has more cells than the header has columns (${table.headers.length}): ` +
+          'a text cell that holds the delimiter needs double quotes',
       })
     }
     rows.push({ row, cells, problems })

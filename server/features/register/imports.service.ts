@@ -222,7 +222,8 @@ function instrumentRaw(cells: Cells, base: InstrumentDto | null, errs: CellProbl
         delete raw.signal
         errs.add(
           'signal',
-          `Signal: "${text}" is not understood; write e.g. thermocouple K, rtd Pt100 3-wire, 4-20mA, 4-20mA sqrt, voltage 0-10V or switch`,
+          `Signal: "${text}" is not understood; ` +
+            'write e.g. thermocouple K, rtd Pt100 3-wire, 4-20mA, 4-20mA sqrt, voltage 0-10V or switch',
         )
       }
     }
@@ -586,7 +587,8 @@ async function runRows(
     if (limit && area && cells.process && limit.processId !== process?.id) {
       errs.add(
         'process',
-        `Limit ${limit.tag} belongs to ${limit.processName} in ${limit.areaName}; an import does not move a limit to another process`,
+        `Limit ${limit.tag} belongs to ${limit.processName} in ${limit.areaName}; ` +
+          'an import does not move a limit to another process',
       )
     }
     const instrumentInput = parseWith(
@@ -627,7 +629,10 @@ async function runRows(
       if (active.length) {
         st.problems.push({
           field: diff[0],
-          message: `Instrument ${instrument.tag} feeds active limits (${active.join(', ')}): it changes through a change request, not an import (changed: ${diff.map(header).join(', ')})`,
+          message:
+            `Instrument ${instrument.tag} feeds active limits (${active.join(', ')}): ` +
+            'it changes through a change request, not an import ' +
+            `(changed: ${diff.map(header).join(', ')})`,
         })
         continue
       }

@@ -178,7 +178,8 @@ export async function applyInstrumentDefinition(
     throw new AppError(
       422,
       ErrorCode.UNPROCESSABLE,
-      `The change would put limits outside their operating window: ${blocked.map((b) => `${b.tag} (${b.errors.map((e) => e.message).join('; ')})`).join(' · ')}`,
+      'The change would put limits outside their operating window: ' +
+        blocked.map((b) => `${b.tag} (${b.errors.map((e) => e.message).join('; ')})`).join(' · '),
       { limits: blocked },
     )
   }

@@ -231,7 +231,10 @@ async function assertTagFree(trx: Trx, siteId: number, tag: string, exceptId: nu
     })
 }
 
-/** Edits a draft (proposed) limit (the register's rule book, `edit`). Active limits change only through a change request. */
+/**
+ * Edits a draft (proposed) limit (the register's rule book, `edit`).
+ * Active limits change only through a change request.
+ */
 export async function updateLimit(
   deps: AppDeps,
   ability: AppAbility,

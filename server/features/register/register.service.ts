@@ -294,7 +294,10 @@ export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q:
   }
 }
 
-/** What to inject at the trip point (docs/domain/test-signals.md test signal): 400 without a needed cold junction, 422 out of range. */
+/**
+ * What to inject at the trip point (docs/domain/test-signals.md test signal):
+ * 400 without a needed cold junction, 422 out of range.
+ */
 export async function testSignalFor(
   deps: AppDeps,
   ability: AppAbility,
