@@ -48,11 +48,14 @@ export function tripTestCertificate(
             row('Setpoint (limit revision)', `${t.setpoint} ${t.unit} (revision ${t.limitRevision})`),
             row(
               'Tolerance',
-              `± ${t.toleranceEu} ${t.unit}${t.toleranceUnit === 'percent_span' ? ` (± ${t.tolerance} % of span)` : ''}`,
+              `± ${t.toleranceEu} ${t.unit}` +
+                `${t.toleranceUnit === 'percent_span' ? ` (± ${t.tolerance} % of span)` : ''}`,
             ),
             row(
               'As found',
-              `${t.asFound === null ? 'no trip' : `${t.asFound} ${t.unit}`}${t.asFoundSignal ? ` (read ${t.asFoundSignal.value} ${t.asFoundSignal.unit})` : ''} — ${RESULT[t.asFoundResult]}`,
+              `${t.asFound === null ? 'no trip' : `${t.asFound} ${t.unit}`}` +
+                `${t.asFoundSignal ? ` (read ${t.asFoundSignal.value} ${t.asFoundSignal.unit})` : ''}` +
+                ` — ${RESULT[t.asFoundResult]}`,
             ),
             row('As left', `${v(t.asLeft ?? t.asFound, t.unit)} — ${RESULT[t.asLeftResult]}`),
             row('Reset value', v(t.resetValue, t.unit)),
@@ -63,7 +66,9 @@ export function tripTestCertificate(
             row('Response time', `${v(t.responseTimeSec, 's')} (required ≤ ${v(t.requiredResponseTimeSec, 's')})`),
             row(
               'Method',
-              `${t.method}${t.injectionPoint ? ` at ${t.injectionPoint}` : ''}${t.sourceMode ? `, ${t.sourceMode}` : ''}${t.coldJunctionC !== null ? `, cold junction ${t.coldJunctionC} °C` : ''}`,
+              `${t.method}${t.injectionPoint ? ` at ${t.injectionPoint}` : ''}` +
+                `${t.sourceMode ? `, ${t.sourceMode}` : ''}` +
+                `${t.coldJunctionC !== null ? `, cold junction ${t.coldJunctionC} °C` : ''}`,
             ),
             ...(t.method === 'setpoint_lowered'
               ? [row('Restored setpoint read back', v(t.setpointRestoredReadBack, t.unit))]
@@ -116,7 +121,10 @@ export function tripTestCertificate(
         layout: 'lightHorizontalLines',
       },
       {
-        text: `Printed ${ctx.printedAt.toISOString()} by Limitkeeper. This certificate records a test; it does not replace the plant's procedures. Settings must be verified on the device.`,
+        text:
+          `Printed ${ctx.printedAt.toISOString()} by Limitkeeper. ` +
+          "This certificate records a test; it does not replace the plant's procedures. " +
+          'Settings must be verified on the device.',
         fontSize: 7,
         italics: true,
         margin: [0, 16, 0, 0],
