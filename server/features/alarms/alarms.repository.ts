@@ -191,12 +191,15 @@ export async function ensureJournalPartitions(q: Q, from: Date, to: Date) {
 /** Moves the staged rows into the journal; rows already there (same site, time and content) are skipped. */
 export async function loadStagedJournal(trx: Transaction<Database>, siteId: number, uploadId: number): Promise<number> {
   const r = await sql`
-    INSERT INTO alarm_event (site_id, occurred_at, tag, kind, priority, position, message, limit_id, upload_id, row_hash)
-    SELECT ${siteId}, to_timestamp(s.t_ms / 1000.0), s.tag, s.kind, s.priority, s.position, s.message, l.id,
-      ${uploadId}, md5(lower(s.tag) || '|' || s.kind || '|' || s.priority || '|' || s.position || '|' || s.message)::uuid
+    INSERT INTO alarm_event
+      (site_id, occurred_at, tag, kind, priority, position, message, limit_id, upload_id, row_hash)
+    SELECT ${siteId}, to_timestamp(s.t_ms / 1000.0), s.tag, s.kind, s.priority, s.position, s.message,
+      l.id, ${uploadId},
+      md5(lower(s.tag) || '|' || s.kind || '|' || s.priority || '|' || s.position || '|' || s.message)::uuid
     FROM alarm_stage s
     LEFT JOIN (
-      SELECT DISTINCT ON (lower(tag)) lower(tag) AS k, id FROM limit_function WHERE site_id = ${siteId} ORDER BY lower(tag), id
+      SELECT DISTINCT ON (lower(tag)) lower(tag) AS k, id FROM limit_function WHERE site_id = ${siteId}
+      ORDER BY lower(tag), id
     ) l ON l.k = lower(s.tag)
     ON CONFLICT DO NOTHING`.execute(trx)
   return Number(r.numAffectedRows ?? 0)
@@ -207,7 +210,9 @@ export async function unmatchedStagedTags(trx: Transaction<Database>, siteId: nu
   const r = await sql<{ tag: string; n: string }>`
     WITH t AS (
       SELECT min(s.tag) AS tag FROM alarm_stage s GROUP BY lower(s.tag)
-      HAVING NOT EXISTS (SELECT 1 FROM limit_function l WHERE l.site_id = ${siteId} AND lower(l.tag) = lower(min(s.tag)))
+      HAVING NOT EXISTS (
+        SELECT 1 FROM limit_function l WHERE l.site_id = ${siteId} AND lower(l.tag) = lower(min(s.tag))
+      )
     )
     SELECT tag, count(*) OVER () AS n FROM t ORDER BY tag LIMIT ${limit}`.execute(trx)
   return { tags: r.rows.map((x) => x.tag), count: r.rows.length ? Number(r.rows[0].n) : 0 }

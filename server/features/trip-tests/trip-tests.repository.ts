@@ -295,7 +295,8 @@ export async function updateLimitSchedules(db: Db, rows: (LimitSchedule & { limi
   const values = sql.join(
     rows.map(
       (r) =>
-        sql`(${r.limitId}::int, ${r.status}::text, ${r.dueDate}::date, ${r.lastFullPass}::date, ${r.statusChangesOn}::date)`,
+        sql`(${r.limitId}::int, ${r.status}::text, ${r.dueDate}::date, ${r.lastFullPass}::date,
+          ${r.statusChangesOn}::date)`,
     ),
   )
   await sql`
