@@ -1,7 +1,9 @@
 import { precautionLines, type TripTestDto } from '../../../shared/schemas/trip-tests.ts'
 import { renderPdf } from '../../pdf.ts'
 
-const v = (x: unknown, unit = '') => (x === null || x === undefined || x === '' ? '—' : `${x}${unit ? ` ${unit}` : ''}`)
+function v(x: unknown, unit = ''): string {
+  return x === null || x === undefined || x === '' ? '—' : `${x}${unit ? ` ${unit}` : ''}`
+}
 const yn = (b: boolean | null) => (b === null ? 'not checked' : b ? 'yes' : 'NO')
 const MEANING: Record<string, string> = {
   performed: 'performed',
@@ -37,7 +39,10 @@ export function tripTestCertificate(
       { text: 'Trip test certificate', style: 'h1' },
       { text: `${t.limitTag} — ${ctx.limitDescription}`, fontSize: 11, margin: [0, 0, 0, 2] },
       {
-        text: `${ctx.siteName} · test #${t.id} · ${t.kind} test · performed ${local(t.performedAt)} (${ctx.timeZone})`,
+        text:
+          `${ctx.siteName} · test #${t.id} · ` +
+          `${t.kind} test · ` +
+          `performed ${local(t.performedAt)} (${ctx.timeZone})`,
         margin: [0, 0, 0, 10],
       },
       {
