@@ -87,6 +87,15 @@ const ACK_FIRST_ACCEPT = 'Acknowledge the finding first: somebody owns it before
 const closedReason = (s: string) =>
   `The finding is ${s}; it reopens by itself if a later reconciliation sees the difference again.`
 
+/** Types into a field of the open dialog (teleported to the body). */
+function type(test: string, value: string) {
+  const input = document.body.querySelector<HTMLInputElement | HTMLTextAreaElement>(
+    `[data-test="${test}"] input, [data-test="${test}"] textarea`,
+  )!
+  input.value = value
+  input.dispatchEvent(new Event('input'))
+}
+
 afterEach(() => {
   vi.useRealTimers()
   vi.unstubAllGlobals()
@@ -195,6 +204,34 @@ describe('FindingDetailView: what the actions send', () => {
       'link-change': true,
       accept: true,
     })
+  })
+
+  it('Accept signs the difference with the reason and the password, and sends them with the version read', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    // Vuetify's overlays read the visual viewport, which happy-dom does not provide
+    vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+    const f = finding('acknowledged')
+    const calls = api(f, {
+      [`POST /findings/${f.id}/acceptance`]: () => ({ body: finding('accepted', { version: 4 }) }),
+    })
+    const w = await open(f, ['plant_manager'])
+    await w.find('[data-test="finding-accept"]').trigger('click')
+    await flushPromises()
+    expect(document.body.querySelector('[data-test="sign-meaning"]')?.textContent).toContain(
+      'TSHH-103 (setpoint) stays as the source holds it (910 °C) while the register says 900 °C',
+    )
+    type('accept-reason', 'Raised under the furnace campaign procedure')
+    type('sign-password', 'limitkeeper-demo')
+    await flushPromises()
+    document.body.querySelector<HTMLButtonElement>('[data-test="sign-confirm"]')!.click()
+    await flushPromises()
+    expect(calls.filter((c) => c.method !== 'GET')).toEqual([
+      {
+        method: 'POST',
+        path: '/findings/42/acceptance',
+        body: { version: 3, reason: 'Raised under the furnace campaign procedure', password: 'limitkeeper-demo' },
+      },
+    ])
   })
 
   it('for a live device, "Reconcile now" starts a run of its source and nothing else: the page only reads', async () => {
