@@ -1,0 +1,128 @@
+import { flushPromises } from '@vue/test-utils'
+import { afterEach, describe, expect, it, vi } from 'vitest'
+import type { ChangeProposalDto, ProposalStatus } from '@shared/schemas/change-proposals.ts'
+import type { Role } from '@shared/schemas/users.ts'
+import ProposalDetailView from '@/features/change-proposals/views/ProposalDetailView.vue'
+import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+
+// The proposal page offers "Develop into a change request" and "Decline" as the change-proposal rule book allows
+// (docs/change-requests.md#change-proposals, "Who does what"): only a safety engineer of the proposal's site, and
+// only while the proposal is open; every other role of the site reads it. The clock is fixed at 12:00 UTC.
+
+const NOW = new Date('2026-07-06T12:00:00Z')
+const ME = 7
+const PROPOSER = 100
+const OTHER_SITE = 2
+
+function proposal(status: ProposalStatus, o: Partial<ChangeProposalDto> = {}): ChangeProposalDto {
+  const decided = status !== 'open'
+  return {
+    id: 42,
+    siteId: FHR.id,
+    siteCode: 'FHR',
+    limitId: 5,
+    limitTag: 'TSHH-101',
+    title: 'Raise the TSHH-101 trip by 5 °C',
+    reason: 'The trip comes in at every start-up of heater H-101',
+    status,
+    proposerId: PROPOSER,
+    proposerName: 'Olive Tanager',
+    createdAt: '2026-07-05T08:00:00.000Z',
+    decidedBy: decided ? 'Ida Marlow' : null,
+    decidedAt: decided ? '2026-07-06T09:00:00.000Z' : null,
+    declineReason: status === 'declined' ? 'The margin to the design temperature is too small' : null,
+    changeRequestId: status === 'taken_up' ? 9 : null,
+    ...o,
+  }
+}
+
+async function open(p: ChangeProposalDto, roles: Role[], siteId = FHR.id, more: Routes = {}) {
+  const calls = answerApi({
+    [`GET /change-proposals/${p.id}`]: () => ({ body: p }),
+    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
+    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+    ...more,
+  })
+  const w = await mountView(ProposalDetailView, {
+    user: { id: ME, roles: roles.map((role) => ({ siteId, role })) },
+    props: { id: String(p.id) },
+  })
+  return { w, calls }
+}
+
+type Wrapper = Awaited<ReturnType<typeof open>>['w']
+const BUTTONS = ['take-up', 'decline'] as const
+/** The buttons shown, each enabled or not. */
+function buttons(w: Wrapper) {
+  const out: Record<string, boolean> = {}
+  for (const name of BUTTONS) {
+    const btn = w.find(`[data-test="proposal-${name}"]`)
+    if (btn.exists()) out[name] = btn.attributes('disabled') === undefined
+  }
+  return out
+}
+
+afterEach(() => {
+  vi.useRealTimers()
+  vi.unstubAllGlobals()
+  document.body.innerHTML = ''
+})
+
+describe('ProposalDetailView: buttons follow the change-proposal rule book', () => {
+  it.each<[string, ProposalStatus, Role[], number, Record<string, boolean>]>([
+    [
+      'a safety engineer of the site takes up or declines an open proposal',
+      'open',
+      ['safety_engineer'],
+      FHR.id,
+      { 'take-up': true, decline: true },
+    ],
+    ['an operator raises proposals but does not decide on them', 'open', ['operator'], FHR.id, {}],
+    ['a maintenance technician does not decide', 'open', ['technician'], FHR.id, {}],
+    ['a control engineer does not decide', 'open', ['control_engineer'], FHR.id, {}],
+    ['a shift supervisor does not decide', 'open', ['shift_supervisor'], FHR.id, {}],
+    ['an approver reads only', 'open', ['approver'], FHR.id, {}],
+    ['the plant manager reads only', 'open', ['plant_manager'], FHR.id, {}],
+    ['an auditor reads only', 'open', ['auditor'], FHR.id, {}],
+    ['a safety engineer of another site does not decide', 'open', ['safety_engineer'], OTHER_SITE, {}],
+    ['a proposal taken up is decided once', 'taken_up', ['safety_engineer'], FHR.id, {}],
+    ['a declined proposal is decided once', 'declined', ['safety_engineer'], FHR.id, {}],
+  ])('%s (%s, %j)', async (_what, status, roles, siteId, expected) => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const { w } = await open(proposal(status), roles, siteId)
+    expect(w.find('[data-test="proposal-title"]').text()).toBe('Raise the TSHH-101 trip by 5 °C')
+    expect(buttons(w)).toEqual(expected)
+  })
+
+  it('"Develop into a change request" opens the request form with the proposal', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const { w } = await open(proposal('open'), ['safety_engineer'])
+    expect(w.find('[data-test="proposal-take-up"]').attributes('href')).toBe('/changes/new?proposal=42')
+  })
+
+  it('"Decline" sends the reason, then shows the proposal declined without the buttons', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const reason = 'The margin to the design temperature is too small'
+    const { w, calls } = await open(proposal('open'), ['safety_engineer'], FHR.id, {
+      'POST /change-proposals/42/decline': () => ({ body: proposal('declined', { declineReason: reason }) }),
+    })
+    // Vuetify's overlays read the visual viewport, which happy-dom does not provide
+    vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+    await w.find('[data-test="proposal-decline"]').trigger('click')
+    await flushPromises()
+    const input = document.body.querySelector<HTMLTextAreaElement>(
+      '[data-test="proposal-decline-reason-input"] textarea',
+    )!
+    input.value = reason
+    input.dispatchEvent(new Event('input'))
+    document.body.querySelector<HTMLElement>('[data-test="proposal-decline-confirm"]')!.click()
+    await vi.waitFor(() => expect(w.find('[data-test="proposal-decline-reason"]').exists()).toBe(true))
+
+    expect(calls.filter((c) => c.method === 'POST')).toEqual([
+      { method: 'POST', path: '/change-proposals/42/decline', body: { reason } },
+    ])
+    expect(w.find('[data-test="proposal-decline-reason"]').text()).toBe(reason)
+    expect(w.find('[data-test="proposal-status"]').text()).toBe('Declined')
+    expect(buttons(w)).toEqual({})
+  })
+})
