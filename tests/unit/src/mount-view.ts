@@ -1,6 +1,6 @@
 import { abilitiesPlugin } from '@casl/vue'
 import { PiniaColada } from '@pinia/colada'
-import { flushPromises, mount, RouterLinkStub } from '@vue/test-utils'
+import { flushPromises, mount, RouterLinkStub, type VueWrapper } from '@vue/test-utils'
 import { createPinia, setActivePinia } from 'pinia'
 import { vi } from 'vitest'
 import { type Component, h } from 'vue'
@@ -80,4 +80,18 @@ export async function mountView(
   })
   await flushPromises()
   return wrapper
+}
+
+/**
+ * The workflow buttons of a record's page that are shown, by name (data-test `${prefix}-${name}`): true when
+ * enabled, else the reason it is disabled (AppRuleButton's tooltip, docs/architecture.md#rule-books).
+ */
+export function ruleButtons(w: VueWrapper, prefix: string, names: readonly string[]) {
+  const out: Record<string, true | string> = {}
+  for (const name of names) {
+    const btn = w.find(`[data-test="${prefix}-${name}"]`)
+    if (!btn.exists()) continue
+    out[name] = btn.attributes('disabled') === undefined ? true : (btn.element.parentElement?.dataset.reason ?? '')
+  }
+  return out
 }

@@ -2,7 +2,7 @@ import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { BypassDto, BypassStatus } from '@shared/schemas/bypasses.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import BypassDetailView from '@/features/bypasses/views/BypassDetailView.vue'
-import { answerApi, FHR, mountView } from '../mount-view.ts'
+import { answerApi, FHR, mountView, ruleButtons } from '../mount-view.ts'
 
 // The bypass page builds its buttons from the bypass rule book (docs/bypasses.md#rules): which are shown, which are
 // disabled and why, for the roles and states of the rule book's table. The clock is fixed at 12:00 UTC.
@@ -73,15 +73,7 @@ async function open(b: BypassDto, roles: Role[], userId = ME) {
 type Wrapper = Awaited<ReturnType<typeof open>>
 const BUTTONS = ['authorize', 'reject', 'extend', 'activate', 'remove', 'cancel'] as const
 /** Each button shown: enabled, or the reason it is disabled. */
-function buttons(w: Wrapper) {
-  const out: Record<string, true | string> = {}
-  for (const name of BUTTONS) {
-    const btn = w.find(`[data-test="bypass-${name}"]`)
-    if (!btn.exists()) continue
-    out[name] = btn.attributes('disabled') === undefined ? true : (btn.element.parentElement?.dataset.reason ?? '')
-  }
-  return out
-}
+const buttons = (w: Wrapper) => ruleButtons(w, 'bypass', BUTTONS)
 
 afterEach(() => {
   vi.useRealTimers()

@@ -3,7 +3,7 @@ import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { ChangeProposalDto, ProposalStatus } from '@shared/schemas/change-proposals.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import ProposalDetailView from '@/features/change-proposals/views/ProposalDetailView.vue'
-import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+import { answerApi, FHR, mountView, type Routes, ruleButtons } from '../mount-view.ts'
 
 // The proposal page offers "Develop into a change request" and "Decline" as the change-proposal rule book allows
 // (docs/change-requests.md#change-proposals, "Who does what"): only a safety engineer of the proposal's site, and
@@ -51,16 +51,8 @@ async function open(p: ChangeProposalDto, roles: Role[], siteId = FHR.id, more: 
 }
 
 type Wrapper = Awaited<ReturnType<typeof open>>['w']
-const BUTTONS = ['take-up', 'decline'] as const
-/** The buttons shown, each enabled or not. */
-function buttons(w: Wrapper) {
-  const out: Record<string, boolean> = {}
-  for (const name of BUTTONS) {
-    const btn = w.find(`[data-test="proposal-${name}"]`)
-    if (btn.exists()) out[name] = btn.attributes('disabled') === undefined
-  }
-  return out
-}
+/** The buttons shown, each enabled (true) or not. */
+const buttons = (w: Wrapper) => ruleButtons(w, 'proposal', ['take-up', 'decline'])
 
 afterEach(() => {
   vi.useRealTimers()
@@ -69,7 +61,7 @@ afterEach(() => {
 })
 
 describe('ProposalDetailView: buttons follow the change-proposal rule book', () => {
-  it.each<[string, ProposalStatus, Role[], number, Record<string, boolean>]>([
+  it.each<[string, ProposalStatus, Role[], number, Record<string, true | string>]>([
     [
       'a safety engineer of the site takes up or declines an open proposal',
       'open',
