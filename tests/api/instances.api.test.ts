@@ -235,12 +235,15 @@ describe('two app instances on one database', () => {
     dying.child.kill('SIGKILL')
     await until('the survivor delivered the message', async () => relay.accepted.includes(subject), 30_000)
     const tookMs = Date.now() - killedAt
-    const row = await ctx.db
-      .selectFrom('mail_outbox')
-      .select(['sent_at', 'attempts'])
-      .where('subject', '=', subject)
-      .executeTakeFirstOrThrow()
-    expect(row.sent_at).not.toBeNull()
+    // the relay's answer comes before the survivor commits the delivery: wait for the row to say so
+    const row = await until('the delivery recorded', async () => {
+      const r = await ctx.db
+        .selectFrom('mail_outbox')
+        .select(['sent_at', 'attempts'])
+        .where('subject', '=', subject)
+        .executeTakeFirstOrThrow()
+      return r.sent_at === null ? undefined : r
+    })
     // delivered once: the withheld first attempt died with its transaction, the survivor's attempt is the only one
     expect(relay.accepted.filter((s) => s === subject)).toHaveLength(1)
     expect(row.attempts).toBe(1)
