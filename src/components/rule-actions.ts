@@ -16,3 +16,8 @@ export interface RuleAction {
   to?: RouteLocationRaw
   run?: () => void
 }
+
+/** An action is offered to those whose role allows it; the state may still refuse it (disabled, with the reason). */
+export function offerOf(verdict: Verdict): RuleAction['offer'] {
+  return { offered: verdict.allowed || verdict.status !== 403, verdict }
+}

@@ -91,7 +91,9 @@ export function ruleButtons(w: VueWrapper, prefix: string, names: readonly strin
   for (const name of names) {
     const btn = w.find(`[data-test="${prefix}-${name}"]`)
     if (!btn.exists()) continue
-    out[name] = btn.attributes('disabled') === undefined ? true : (btn.element.parentElement?.dataset.reason ?? '')
+    // a button carries `disabled`; a link (a rule action that opens a page) carries Vuetify's disabled class only
+    const disabled = btn.attributes('disabled') !== undefined || btn.classes('v-btn--disabled')
+    out[name] = disabled ? (btn.element.parentElement?.dataset.reason ?? '') : true
   }
   return out
 }

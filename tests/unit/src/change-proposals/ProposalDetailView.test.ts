@@ -50,6 +50,10 @@ async function open(p: ChangeProposalDto, roles: Role[], siteId = FHR.id, more: 
   return { w, calls }
 }
 
+// the refusal of a decided proposal (docs/change-requests.md#change-proposals: decided once)
+const TAKEN_UP = 'This proposal is taken up already.'
+const DECLINED = 'This proposal is declined already.'
+
 type Wrapper = Awaited<ReturnType<typeof open>>['w']
 /** The buttons shown, each enabled (true) or not. */
 const buttons = (w: Wrapper) => ruleButtons(w, 'proposal', ['take-up', 'decline'])
@@ -77,8 +81,20 @@ describe('ProposalDetailView: buttons follow the change-proposal rule book', () 
     ['the plant manager reads only', 'open', ['plant_manager'], FHR.id, {}],
     ['an auditor reads only', 'open', ['auditor'], FHR.id, {}],
     ['a safety engineer of another site does not decide', 'open', ['safety_engineer'], OTHER_SITE, {}],
-    ['a proposal taken up is decided once', 'taken_up', ['safety_engineer'], FHR.id, {}],
-    ['a declined proposal is decided once', 'declined', ['safety_engineer'], FHR.id, {}],
+    [
+      'a proposal taken up is decided once: both shown disabled with the reason',
+      'taken_up',
+      ['safety_engineer'],
+      FHR.id,
+      { 'take-up': TAKEN_UP, decline: TAKEN_UP },
+    ],
+    [
+      'a declined proposal is decided once: both shown disabled with the reason',
+      'declined',
+      ['safety_engineer'],
+      FHR.id,
+      { 'take-up': DECLINED, decline: DECLINED },
+    ],
   ])('%s (%s, %j)', async (_what, status, roles, siteId, expected) => {
     vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
     const { w } = await open(proposal(status), roles, siteId)
@@ -92,7 +108,7 @@ describe('ProposalDetailView: buttons follow the change-proposal rule book', () 
     expect(w.find('[data-test="proposal-take-up"]').attributes('href')).toBe('/changes/new?proposal=42')
   })
 
-  it('"Decline" sends the reason, then shows the proposal declined without the buttons', async () => {
+  it('"Decline" sends the reason, then shows the proposal declined with its buttons disabled', async () => {
     vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
     const reason = 'The margin to the design temperature is too small'
     const { w, calls } = await open(proposal('open'), ['safety_engineer'], FHR.id, {
@@ -115,6 +131,6 @@ describe('ProposalDetailView: buttons follow the change-proposal rule book', () 
     ])
     expect(w.find('[data-test="proposal-decline-reason"]').text()).toBe(reason)
     expect(w.find('[data-test="proposal-status"]').text()).toBe('Declined')
-    expect(buttons(w)).toEqual({})
+    expect(buttons(w)).toEqual({ 'take-up': DECLINED, decline: DECLINED })
   })
 })
