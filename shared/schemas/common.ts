@@ -188,3 +188,13 @@ export function safeParsePatch<T extends z.ZodType>(
     ) as Partial<z.output<T>>,
   }
 }
+
+/** A rule book's answer to one action, as the server sends it with a record (shared/domain/rules/verdict.ts). */
+export const VerdictSchema = z.union([
+  z.object({ allowed: z.literal(true) }),
+  z.object({
+    allowed: z.literal(false),
+    status: z.union([z.literal(403), z.literal(409), z.literal(422)]),
+    reason: z.string(),
+  }),
+])

@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { IdSchema, InstantSchema, ListQuerySchema, repeated, SiteFilterQuerySchema } from './common.ts'
+import { IdSchema, InstantSchema, ListQuerySchema, repeated, SiteFilterQuerySchema, VerdictSchema } from './common.ts'
 
 /** Kinds of event in the demand and trip log (docs/demands.md). */
 export const DEMAND_KINDS = ['real_demand', 'spurious_trip', 'dangerous_failure', 'failure_on_demand'] as const
@@ -92,15 +92,6 @@ export const ProposeLambdaDuInputSchema = z.object({
   model: z.string().min(1).max(120),
 })
 export type ProposeLambdaDuInput = z.infer<typeof ProposeLambdaDuInputSchema>
-
-const VerdictSchema = z.union([
-  z.object({ allowed: z.literal(true) }),
-  z.object({
-    allowed: z.literal(false),
-    status: z.union([z.literal(403), z.literal(409), z.literal(422)]),
-    reason: z.string(),
-  }),
-])
 
 export const DemandSchema = z.object({
   id: z.number(),

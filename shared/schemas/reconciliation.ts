@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { DecimalSchema, IdSchema, jsonFormField, ListQuerySchema, repeated } from './common.ts'
+import { DecimalSchema, IdSchema, jsonFormField, ListQuerySchema, repeated, VerdictSchema } from './common.ts'
 
 // Reconciliation of the register with the plant (docs/reconciliation.md): sources (configuration exports, live
 // Modbus TCP devices read only), runs and findings.
@@ -218,10 +218,6 @@ export const FindingListQuerySchema = ListQuerySchema.extend({
 })
 export type FindingListQuery = z.infer<typeof FindingListQuerySchema>
 
-const verdict = z.union([
-  z.object({ allowed: z.literal(true) }),
-  z.object({ allowed: z.literal(false), status: z.number(), reason: z.string() }),
-])
 export const FindingSchema = z.object({
   id: z.number(),
   siteId: z.number(),
@@ -251,7 +247,7 @@ export const FindingSchema = z.object({
   acceptReason: z.string().nullable(),
   signatures: z.array(z.object({ name: z.string(), meaning: z.string(), at: z.string(), matchesContent: z.boolean() })),
   version: z.number(),
-  actions: z.object({ acknowledge: verdict, linkChange: verdict, accept: verdict }),
+  actions: z.object({ acknowledge: VerdictSchema, linkChange: VerdictSchema, accept: VerdictSchema }),
 })
 export type Finding = z.infer<typeof FindingSchema>
 

@@ -1,23 +1,38 @@
 import { flushPromises } from '@vue/test-utils'
 import { afterEach, describe, expect, it, vi } from 'vitest'
+import { createAppAbility, defineRulesFor } from '@shared/abilities/index.ts'
+import { findingVerdicts } from '@shared/domain/rules/findings.ts'
 import type { Finding, FindingState } from '@shared/schemas/reconciliation.ts'
-import type { Role } from '@shared/schemas/users.ts'
+import type { Role, RoleAssignment } from '@shared/schemas/users.ts'
 import FindingDetailView from '@/features/reconciliation/views/FindingDetailView.vue'
+import { onSite } from '@/features/register/site-subject'
 import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
 
 // The finding page builds its buttons from the findings rule book (docs/reconciliation.md#findings): a safety
 // engineer of the site acknowledges, then links a change request or accepts; the plant manager may also accept; a
 // role that may not act sees no button, a state that refuses an action shows it disabled with the reason. The
-// expectations below are that section's words, written out. The clock is fixed at 12:00 UTC.
+// expectations below are that section's words, written out. The page shows the answers the server sends with the
+// finding; the fixture makes them as the findings service does, from the rule book and the user's roles. The clock is
+// fixed at 12:00 UTC.
 
 const NOW = new Date('2026-07-06T12:00:00Z')
 const H = 3_600_000
 const at = (h: number) => new Date(NOW.getTime() + h * H).toISOString()
-const allowed = { allowed: true } as const
+const atFhr = (roles: Role[]): RoleAssignment[] => roles.map((role) => ({ siteId: FHR.id, role }))
 
-function finding(state: FindingState, o: Partial<Finding> = {}): Finding {
+/** The rule book's answers the server sends with the finding to a user holding these roles. */
+function answersFor(f: Finding, roles: RoleAssignment[]): Finding['actions'] {
+  const ability = createAppAbility(defineRulesFor({ id: 7, roles }))
+  const finding = onSite('Finding', f.siteId)
+  return findingVerdicts(f, {
+    isSafetyEngineer: ability.can('update', finding),
+    mayAccept: ability.can('accept', finding),
+  })
+}
+
+function finding(state: FindingState, o: Partial<Finding> = {}, roles = atFhr(['safety_engineer'])): Finding {
   const closed = state === 'resolved' || state === 'accepted'
-  return {
+  const f: Finding = {
     id: 42,
     siteId: FHR.id,
     sourceId: 9,
@@ -46,10 +61,10 @@ function finding(state: FindingState, o: Partial<Finding> = {}): Finding {
     acceptReason: state === 'accepted' ? 'Raised under the furnace campaign procedure' : null,
     signatures: [],
     version: 3,
-    // the page asks the rule book itself; these are the server's answers, which it does not read
-    actions: { acknowledge: allowed, linkChange: allowed, accept: allowed },
+    actions: { acknowledge: { allowed: true }, linkChange: { allowed: true }, accept: { allowed: true } },
     ...o,
   }
+  return { ...f, actions: answersFor(f, roles) }
 }
 
 function api(f: Finding, more: Routes = {}) {
@@ -63,7 +78,7 @@ function api(f: Finding, more: Routes = {}) {
 
 async function open(f: Finding, roles: Role[]) {
   return mountView(FindingDetailView, {
-    user: { id: 7, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
+    user: { id: 7, roles: atFhr(roles) },
     props: { id: String(f.id) },
   })
 }
@@ -150,7 +165,7 @@ describe('FindingDetailView: buttons follow the findings rule book', () => {
     ['a technician reads only', 'open', ['technician'], {}],
   ])('%s (%s, %j)', async (_what, state, roles, expected) => {
     vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
-    const f = finding(state)
+    const f = finding(state, {}, atFhr(roles))
     api(f)
     const w = await open(f, roles)
     expect(w.find('[data-test="finding-device-value"]').text()).toBe('910 °C')
@@ -170,10 +185,11 @@ describe('FindingDetailView: buttons follow the findings rule book', () => {
 
   it('the roles of another site give no button', async () => {
     vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
-    const f = finding('acknowledged')
+    const elsewhere: RoleAssignment[] = [{ siteId: 2, role: 'safety_engineer' }]
+    const f = finding('acknowledged', {}, elsewhere)
     api(f)
     const w = await mountView(FindingDetailView, {
-      user: { id: 7, roles: [{ siteId: 2, role: 'safety_engineer' }] },
+      user: { id: 7, roles: elsewhere },
       props: { id: String(f.id) },
     })
     expect(buttons(w)).toEqual({})
@@ -210,7 +226,7 @@ describe('FindingDetailView: what the actions send', () => {
     vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
     // Vuetify's overlays read the visual viewport, which happy-dom does not provide
     vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
-    const f = finding('acknowledged')
+    const f = finding('acknowledged', {}, atFhr(['plant_manager']))
     const calls = api(f, {
       [`POST /findings/${f.id}/acceptance`]: () => ({ body: finding('accepted', { version: 4 }) }),
     })
@@ -262,7 +278,7 @@ describe('FindingDetailView: what the actions send', () => {
     ['anyone, on an export source', 'acknowledged', ['safety_engineer'], { sourceKind: 'export' }],
   ])('"Reconcile now" is not offered to %s', async (_who, state, roles, o) => {
     vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
-    const f = finding(state, o)
+    const f = finding(state, o, atFhr(roles))
     api(f)
     const w = await open(f, roles)
     expect(w.find('[data-test="finding-device-value"]').exists()).toBe(true)
