@@ -24,6 +24,7 @@ import { type AuditKeys, linkHasher, loadAuditKeys } from './audit.key.ts'
 import { checkPageHere, startPageWorkers, workerBundle } from './audit.verify.pages.ts'
 import { AUDIT_ENTITY_SITE, type AuditEntityType } from './audit.sites.ts'
 import { likeEscape } from '../../authorize.ts'
+import { NOTICE_RECIPIENTS } from '../../../shared/abilities/notices.ts'
 
 /** Who did it, from where, in which request: carried from the HTTP request down to every audit event. */
 export interface AuditContext {
@@ -224,7 +225,7 @@ export async function activeAuditorEmails(db: Db): Promise<string[]> {
     .innerJoin('role_assignment', 'role_assignment.user_id', 'app_user.id')
     .select('app_user.email')
     .distinct()
-    .where('role_assignment.role', '=', 'auditor')
+    .where('role_assignment.role', 'in', [...NOTICE_RECIPIENTS.auditCheckpoint])
     .where('app_user.active', '=', true)
     .execute()
   return rows.map((r) => r.email)

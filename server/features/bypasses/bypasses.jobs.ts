@@ -4,7 +4,7 @@ import type { Db } from '../../db/index.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { policyOf } from '../sites/sites.service.ts'
-import { findUsersWithRole } from '../users/users.repository.ts'
+import { recipientsOf } from '../users/users.repository.ts'
 import { findOpenBypassesForJob, lockBypassDeadlines, updateBypass } from './bypasses.repository.ts'
 import { lapsesAt } from '../../../shared/domain/rules/bypasses.ts'
 
@@ -75,7 +75,7 @@ export function createBypassJob(
           }
           if (now.getTime() > end && !cur.overdue_notified_at) {
             await updateBypass(trx, b.id, { overdue_notified_at: now })
-            const sups = await findUsersWithRole(trx, b.site_id, ['shift_supervisor'])
+            const sups = await recipientsOf(trx, b.site_id, 'bypassOverdue')
             const bodies = mailBodies(
               [
                 `The bypass #${b.id} of ${b.tag} is past its planned end (${cur.planned_end.toISOString()}) ` +
@@ -101,7 +101,7 @@ export function createBypassJob(
           const lastEsc = cur.last_escalation_at?.getTime() ?? end
           if (now.getTime() > end && now.getTime() - lastEsc >= every) {
             await updateBypass(trx, b.id, { last_escalation_at: now })
-            const managers = await findUsersWithRole(trx, b.site_id, ['plant_manager'])
+            const managers = await recipientsOf(trx, b.site_id, 'bypassEscalated')
             const hours = ((now.getTime() - end) / HOUR).toFixed(1)
             const bodies = mailBodies(
               [`The bypass #${b.id} of ${b.tag} has been overdue for ${hours} h and is still active.`],

@@ -25,7 +25,7 @@ import { refreshProtectionState } from '../register/protection-state-column.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { contentHash, listSignatures, signAs, signatureDto } from '../signatures/signatures.ts'
-import { findRolesByUserIds, findUsersWithRole } from '../users/users.repository.ts'
+import { findRolesByUserIds, recipientsOf } from '../users/users.repository.ts'
 import * as repo from './bypasses.repository.ts'
 import type { BypassListQuery, BypassRow } from './bypasses.repository.ts'
 
@@ -266,7 +266,7 @@ export async function requestBypass(
       entityId: id,
       after: { ...input, compensatingMeasures: measures },
     })
-    const to = (await findUsersWithRole(trx, l.site_id, ['shift_supervisor'])).filter((u) => u.id !== ctx.actorId)
+    const to = (await recipientsOf(trx, l.site_id, 'bypassRequested')).filter((u) => u.id !== ctx.actorId)
     const bodies = mailBodies(
       [`A bypass of ${l.tag} is requested for ${hours.toFixed(1)} h from ${start.toISOString()}: ${input.reason}`],
       link(deps, id),

@@ -15,7 +15,7 @@ import type { AppDeps } from '../../deps.ts'
 import { enforce, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
-import { findUsersWithRole } from '../users/users.repository.ts'
+import { recipientsOf } from '../users/users.repository.ts'
 import { limitRecordOf } from '../register/register.mappers.ts'
 import * as repo from './change-proposals.repository.ts'
 
@@ -68,7 +68,7 @@ export async function createProposal(
       enforce(notRetiredVerdict(limit))
     }
     const newId = await repo.insertProposal(trx, { ...input, proposerId: ctx.actorId!, now: deps.clock.now() })
-    const engineers = await findUsersWithRole(trx, input.siteId, ['safety_engineer'])
+    const engineers = await recipientsOf(trx, input.siteId, 'proposalRaised')
     await enqueueMail(
       trx,
       deps.clock,

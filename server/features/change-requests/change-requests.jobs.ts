@@ -5,7 +5,7 @@ import { appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { voidSignatures } from '../signatures/signatures.ts'
-import { findUsersWithRole } from '../users/users.repository.ts'
+import { recipientsOf } from '../users/users.repository.ts'
 import * as repo from './change-requests.repository.ts'
 
 const HOUR = 3_600_000
@@ -70,7 +70,7 @@ export function createChangeRequestJob(
         await db.transaction().execute(async (trx) => {
           const claimed = await repo.claimRequest(trx, cr.id, { expired_notice_at: now }, { noticeBefore })
           if (!claimed) return
-          const supervisors = await findUsersWithRole(trx, cr.site_id, ['shift_supervisor'])
+          const supervisors = await recipientsOf(trx, cr.site_id, 'temporaryChangeExpired')
           const to = [...new Set([cr.email, ...supervisors.map((u) => u.email)])]
           const ended = cr.expires_at!.toISOString().slice(0, 16).replace('T', ' ')
           await enqueueMail(
@@ -111,7 +111,7 @@ export function createChangeRequestJob(
             { column: 'emergency_flagged_at', isNull: true },
           )
           if (!claimed) return
-          const to = await findUsersWithRole(trx, cr.site_id, ['approver', 'plant_manager'])
+          const to = await recipientsOf(trx, cr.site_id, 'emergencyChangeUnapproved')
           await enqueueMail(
             trx,
             clock,

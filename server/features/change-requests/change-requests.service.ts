@@ -67,7 +67,7 @@ import {
   signatureDto,
   voidSignatures,
 } from '../signatures/signatures.ts'
-import { findUsersWithRole } from '../users/users.repository.ts'
+import { findUsersWithRole, recipientsOf } from '../users/users.repository.ts'
 import { takeUpInTransaction } from '../change-proposals/change-proposals.service.ts'
 import * as repo from './change-requests.repository.ts'
 
@@ -676,7 +676,7 @@ export async function submitChangeRequest(deps: AppDeps, ability: AppAbility, ct
       entityId: id,
       after: { status: 'submitted', contentHash: row.content_hash },
     })
-    const approvers = (await findUsersWithRole(trx, row.site_id, ['approver'])).filter((u) => u.id !== row.proposer_id)
+    const approvers = (await recipientsOf(trx, row.site_id, 'changeSubmitted')).filter((u) => u.id !== row.proposer_id)
     const proposer = await proposerOf(trx, row.proposer_id)
     await mailTo(
       deps,
@@ -695,7 +695,7 @@ export async function submitChangeRequest(deps: AppDeps, ability: AppAbility, ct
     )
     // the reviewers of each discipline the request needs (docs/change-requests.md#discipline-reviews)
     for (const d of row.reviews_required) {
-      const reviewers = (await findUsersWithRole(trx, row.site_id, [...DISCIPLINE_REVIEWERS[d]])).filter(
+      const reviewers = (await findUsersWithRole(trx, row.site_id, DISCIPLINE_REVIEWERS[d])).filter(
         (u) => u.id !== row.proposer_id,
       )
       await mailTo(

@@ -19,7 +19,7 @@ import type { Db } from '../../db/index.ts'
 import { notFound } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
-import { findUsersWithRole } from '../users/users.repository.ts'
+import { recipientsOf } from '../users/users.repository.ts'
 import { observationsOf, readDevice } from './device-read.ts'
 import * as repo from './reconciliation.repository.ts'
 
@@ -300,7 +300,7 @@ export async function performRun(
       findings_resolved: counts.resolved,
     })
     if (news.length) {
-      const people = await findUsersWithRole(trx, source.site_id, ['safety_engineer', 'shift_supervisor'])
+      const people = await recipientsOf(trx, source.site_id, 'reconciliationFindings')
       const lines = news.slice(0, 50).map((n) => `• ${n.text}`)
       if (news.length > 50) lines.push(`… and ${news.length - 50} more.`)
       const bodies = mailBodies(

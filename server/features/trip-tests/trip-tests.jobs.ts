@@ -10,7 +10,7 @@ import {
   isTestOverdue,
   OVERDUE_TEST_STATUSES,
 } from '../../../shared/domain/rules/trip-tests.ts'
-import { findUsersWithRole } from '../users/users.repository.ts'
+import { recipientsOf } from '../users/users.repository.ts'
 import * as repo from './trip-tests.repository.ts'
 import { computeSchedules, localDate } from './trip-tests.service.ts'
 
@@ -33,7 +33,7 @@ export async function runDigestForSite(
     const dueSoon = rows.filter((r) => !isTestOverdue(r.test_status))
     const line = (r: (typeof rows)[number]) =>
       `${r.tag} (${r.area}) — ${r.test_status === 'never_tested' ? 'never tested' : `due ${r.test_due_date}`}`
-    const to = await findUsersWithRole(trx, siteId, ['technician', 'safety_engineer'])
+    const to = await recipientsOf(trx, siteId, 'tripTestDigest')
     const bodies = mailBodies(
       [
         `Trip tests at ${site.name}: ${overdue.length} overdue or never tested, ${dueSoon.length} due soon ` +
@@ -75,7 +75,7 @@ export async function escalatePassedRepairDeadlines(db: Db, config: Config, cloc
       const open = await repo.lockOpenDegradation(trx, d.limit_id)
       if (!open || open.id !== d.id || open.escalated_at !== null) return
       await repo.updateDegradation(trx, d.id, { escalated_at: now })
-      const to = await findUsersWithRole(trx, d.site_id, ['plant_manager', 'shift_supervisor'])
+      const to = await recipientsOf(trx, d.site_id, 'repairDeadlinePassed')
       const bodies = mailBodies(
         [
           `The repair deadline ${d.repair_deadline} of degraded limit ${d.tag} has passed and the limit is still ` +

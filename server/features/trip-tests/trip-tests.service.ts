@@ -62,7 +62,7 @@ import { toInstrument } from '../register/register.mappers.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { contentHash, listSignatures, signAs, signatureDto } from '../signatures/signatures.ts'
-import { findUsersWithRole } from '../users/users.repository.ts'
+import { findUsersWithRole, recipientsOf } from '../users/users.repository.ts'
 import * as repo from './trip-tests.repository.ts'
 
 type Trx = Transaction<Database>
@@ -641,7 +641,7 @@ async function applyResult(
         after: { testId: row.id, reasons: row.fail_reasons },
       })
     }
-    const to = await findUsersWithRole(trx, row.site_id, ['safety_engineer', 'shift_supervisor'])
+    const to = await recipientsOf(trx, row.site_id, 'tripTestFailed')
     const bodies = mailBodies(
       [
         `The trip test #${row.id} of ${limit.tag} failed: ${row.fail_reasons.join('; ')}.`,
@@ -787,7 +787,7 @@ export async function signDegradationMeasures(
       contentHash: contentHash(content),
     })
     if (check.beyondMttr) {
-      const managers = await findUsersWithRole(trx, limit.site_id, ['plant_manager'])
+      const managers = await recipientsOf(trx, limit.site_id, 'repairDeadlineBeyondMttr')
       const bodies = mailBodies(
         [
           `${limit.tag} is degraded. The repair deadline ${input.repairDeadline} lies beyond the ${mttr} h MTTR ` +

@@ -2,6 +2,7 @@ import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
 import { type Kysely, sql, type Transaction } from 'kysely'
 import type { RoleAssignment, Role } from '../../../shared/schemas/users.ts'
+import { NOTICE_RECIPIENTS, type Notice } from '../../../shared/abilities/notices.ts'
 
 type Q = Kysely<Database> | Transaction<Database>
 
@@ -86,16 +87,21 @@ export async function countUsers(db: Db, q?: string): Promise<number> {
 }
 
 /** Users holding one of the roles at a site (mail recipients). */
-export function findUsersWithRole(db: Q, siteId: number, roles: Role[]) {
+export function findUsersWithRole(db: Q, siteId: number, roles: readonly Role[]) {
   return db
     .selectFrom('app_user')
     .innerJoin('role_assignment', 'role_assignment.user_id', 'app_user.id')
     .select(['app_user.id', 'app_user.email', 'app_user.display_name'])
     .distinct()
     .where('role_assignment.site_id', '=', siteId)
-    .where('role_assignment.role', 'in', roles)
+    .where('role_assignment.role', 'in', [...roles])
     .where('app_user.active', '=', true)
     .execute()
+}
+
+/** The active users of the site who receive a notice (shared/abilities/notices.ts). */
+export function recipientsOf(db: Q, siteId: number, notice: Notice) {
+  return findUsersWithRole(db, siteId, NOTICE_RECIPIENTS[notice])
 }
 
 export async function insertUser(
