@@ -2,6 +2,22 @@ import { TZDate } from '@date-fns/tz'
 
 // Dates, times and numbers as every screen shows them. Times are shown in the site's time zone (docs/conventions.md).
 
+const formats = new Map<string, Intl.DateTimeFormat>()
+
+/**
+ * The Intl formatter of a locale and options, built once and kept: a table of dates would otherwise build one per cell,
+ * and building one costs far more than formatting with it.
+ */
+function dateFormat(locale: string, options: Intl.DateTimeFormatOptions): Intl.DateTimeFormat {
+  const key = `${locale} ${JSON.stringify(options)}`
+  let format = formats.get(key)
+  if (!format) {
+    format = new Intl.DateTimeFormat(locale, options)
+    formats.set(key, format)
+  }
+  return format
+}
+
 /** An instant in a time zone with the given parts (hours always 00–23); '—' when there is none. */
 export function formatInZone(
   iso: string | null | undefined,
@@ -10,9 +26,7 @@ export function formatInZone(
 ): string {
   if (!iso) return '—'
   try {
-    return new Intl.DateTimeFormat('en-GB', { ...parts, hourCycle: 'h23', timeZone: timeZone ?? 'UTC' }).format(
-      new Date(iso),
-    )
+    return dateFormat('en-GB', { ...parts, hourCycle: 'h23', timeZone: timeZone ?? 'UTC' }).format(new Date(iso))
   } catch {
     return iso
   }
@@ -33,19 +47,16 @@ export const shortDateTimeIn = (iso: string | null | undefined, timeZone: string
 export function dateText(d: string | null | undefined): string {
   if (!d) return '—'
   const [y, m, day] = d.slice(0, 10).split('-').map(Number)
-  return new Intl.DateTimeFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric', timeZone: 'UTC' }).format(
+  return dateFormat('en-GB', { year: 'numeric', month: 'short', day: 'numeric', timeZone: 'UTC' }).format(
     new Date(Date.UTC(y, m - 1, day)),
   )
 }
 
 /** Today's calendar date in a time zone, 'YYYY-MM-DD'. */
 export function todayIn(timeZone: string | undefined, now = new Date()): string {
-  return new Intl.DateTimeFormat('en-CA', {
-    year: 'numeric',
-    month: '2-digit',
-    day: '2-digit',
-    timeZone: timeZone ?? 'UTC',
-  }).format(now)
+  return dateFormat('en-CA', { year: 'numeric', month: '2-digit', day: '2-digit', timeZone: timeZone ?? 'UTC' }).format(
+    now,
+  )
 }
 
 /** `2026-05-04T08:30` (the value of a datetime-local input) for an instant, in the site's time zone. */
@@ -77,6 +88,11 @@ export function sizeText(bytes: number): string {
   if (bytes < 1024) return `${bytes} B`
   if (bytes < 1024 * 1024) return `${Math.round(bytes / 102.4) / 10} KB`
   return `${Math.round(bytes / 104_857.6) / 10} MB`
+}
+
+/** The choices of a select, one per entry of a map of labels and in its order: `{ title: label, value: key }`. */
+export function choicesOf<K extends string>(labels: Record<K, string>): { title: string; value: K }[] {
+  return (Object.entries(labels) as [K, string][]).map(([value, title]) => ({ title, value }))
 }
 
 /** A share as a percentage; "—" where there is nothing to share out. */

@@ -29,67 +29,32 @@ export interface NavItem {
   test: string
 }
 
+/** One entry of the drawer; `can`, the ability it needs (none: every signed-in user sees it). */
+function navItem(title: string, to: string, icon: string, test: string, can?: [Action, SubjectName]): NavItem {
+  return can ? { title, to, icon, test, can } : { title, to, icon, test }
+}
+
+const REVIEW_BYPASSES: [Action, SubjectName] = ['review', 'BypassReview']
+
 /** The navigation drawer's sections; each shows only to users whose ability allows it. */
 export const NAV_ITEMS: NavItem[] = [
-  { title: 'Home', to: '/', icon: mdiHomeOutline, test: 'nav-home' },
-  { title: 'Register', to: '/register', icon: mdiFormatListChecks, can: ['read', 'Limit'], test: 'nav-register' },
-  {
-    title: 'Instruments',
-    to: '/register/instruments',
-    icon: mdiGauge,
-    can: ['read', 'Limit'],
-    test: 'nav-instruments',
-  },
-  {
-    title: 'Processes',
-    to: '/register/processes',
-    icon: mdiPipeDisconnected,
-    can: ['read', 'Limit'],
-    test: 'nav-processes',
-  },
-  { title: 'Changes', to: '/changes', icon: mdiSwapHorizontal, test: 'nav-changes' },
-  {
-    title: 'Change proposals',
-    to: '/proposals',
-    icon: mdiLightbulbOnOutline,
-    can: ['read', 'ChangeProposal'],
-    test: 'nav-proposals',
-  },
-  { title: 'Trip tests', to: '/tests', icon: mdiClipboardCheckOutline, can: ['read', 'TripTest'], test: 'nav-tests' },
-  {
-    title: 'Demands and trips',
-    to: '/demands',
-    icon: mdiLightningBoltOutline,
-    can: ['read', 'Demand'],
-    test: 'nav-demands',
-  },
-  { title: 'Bypasses', to: '/bypasses', icon: mdiPauseCircleOutline, test: 'nav-bypasses' },
-  {
-    title: 'Bypass review',
-    to: '/bypasses/review',
-    icon: mdiChartBoxOutline,
-    can: ['review', 'BypassReview'],
-    test: 'nav-bypass-review',
-  },
-  {
-    title: 'Risk erosion',
-    to: '/bypasses/risk',
-    icon: mdiChartBellCurveCumulative,
-    can: ['review', 'BypassReview'],
-    test: 'nav-risk-erosion',
-  },
-  { title: 'Alarm performance', to: '/alarms', icon: mdiAlarmLight, test: 'nav-alarms' },
-  {
-    title: 'Register vs plant',
-    to: '/reconciliation',
-    icon: mdiCompareHorizontal,
-    can: ['read', 'Finding'],
-    test: 'nav-reconciliation',
-  },
-  { title: 'Shift handover', to: '/shift-handover', icon: mdiClipboardTextClockOutline, test: 'nav-shift-handover' },
-  { title: 'Audit trail', to: '/audit', icon: mdiHistory, can: ['read', 'AuditEvent'], test: 'nav-audit' },
-  { title: 'Users', to: '/admin/users', icon: mdiAccountGroupOutline, can: ['create', 'User'], test: 'nav-users' },
-  { title: 'Sites and policies', to: '/admin/sites', icon: mdiFactory, can: ['create', 'Site'], test: 'nav-sites' },
-  { title: 'Mail', to: '/mail', icon: mdiEmailOutline, can: ['read', 'Mail'], test: 'nav-mail' },
-  { title: 'My account', to: '/account', icon: mdiAccountCircleOutline, test: 'nav-account' },
+  navItem('Home', '/', mdiHomeOutline, 'nav-home'),
+  navItem('Register', '/register', mdiFormatListChecks, 'nav-register', ['read', 'Limit']),
+  navItem('Instruments', '/register/instruments', mdiGauge, 'nav-instruments', ['read', 'Limit']),
+  navItem('Processes', '/register/processes', mdiPipeDisconnected, 'nav-processes', ['read', 'Limit']),
+  navItem('Changes', '/changes', mdiSwapHorizontal, 'nav-changes'),
+  navItem('Change proposals', '/proposals', mdiLightbulbOnOutline, 'nav-proposals', ['read', 'ChangeProposal']),
+  navItem('Trip tests', '/tests', mdiClipboardCheckOutline, 'nav-tests', ['read', 'TripTest']),
+  navItem('Demands and trips', '/demands', mdiLightningBoltOutline, 'nav-demands', ['read', 'Demand']),
+  navItem('Bypasses', '/bypasses', mdiPauseCircleOutline, 'nav-bypasses'),
+  navItem('Bypass review', '/bypasses/review', mdiChartBoxOutline, 'nav-bypass-review', REVIEW_BYPASSES),
+  navItem('Risk erosion', '/bypasses/risk', mdiChartBellCurveCumulative, 'nav-risk-erosion', REVIEW_BYPASSES),
+  navItem('Alarm performance', '/alarms', mdiAlarmLight, 'nav-alarms'),
+  navItem('Register vs plant', '/reconciliation', mdiCompareHorizontal, 'nav-reconciliation', ['read', 'Finding']),
+  navItem('Shift handover', '/shift-handover', mdiClipboardTextClockOutline, 'nav-shift-handover'),
+  navItem('Audit trail', '/audit', mdiHistory, 'nav-audit', ['read', 'AuditEvent']),
+  navItem('Users', '/admin/users', mdiAccountGroupOutline, 'nav-users', ['create', 'User']),
+  navItem('Sites and policies', '/admin/sites', mdiFactory, 'nav-sites', ['create', 'Site']),
+  navItem('Mail', '/mail', mdiEmailOutline, 'nav-mail', ['read', 'Mail']),
+  navItem('My account', '/account', mdiAccountCircleOutline, 'nav-account'),
 ]
