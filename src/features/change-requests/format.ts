@@ -4,7 +4,14 @@ import type { ChangeItemDto, ChangeStatus } from '@shared/schemas/change-request
 import { ALARM_PRIORITIES, DEFAULT_ALARM_PHILOSOPHY } from '@shared/domain/priority.ts'
 import { RESET_ROLES, type Signal } from '@shared/schemas/register.ts'
 import { ROLE_LABELS } from '@shared/schemas/users.ts'
-import { formatInZone } from '@/format'
+import { choicesOf, formatInZone } from '@/format'
+import {
+  BURNOUT_LABELS,
+  CLASS_LABELS,
+  DIRECTION_LABELS,
+  SEVERITY_LABELS,
+  SIL_CHOICES,
+} from '@/features/register/format'
 import type { ChangeType } from './api'
 
 // Labels, field descriptions and value formatting of the change screens.
@@ -64,12 +71,6 @@ export interface FieldSpec {
   optional?: boolean
 }
 
-const SEVERITY_OPTIONS = [
-  { title: 'Minor', value: 'minor' },
-  { title: 'Moderate', value: 'moderate' },
-  { title: 'Major', value: 'major' },
-  { title: 'Severe', value: 'severe' },
-]
 const DEADBAND_UNIT_OPTIONS = [
   { title: 'Engineering units', value: 'eu' },
   { title: '% of span', value: 'percent_span' },
@@ -77,11 +78,6 @@ const DEADBAND_UNIT_OPTIONS = [
 const RESET_OPTIONS = [
   { title: 'Nobody (not latching)', value: null },
   ...RESET_ROLES.map((r) => ({ title: ROLE_LABELS[r], value: r })),
-]
-const BURNOUT_OPTIONS = [
-  { title: 'Upscale', value: 'upscale' },
-  { title: 'Downscale', value: 'downscale' },
-  { title: 'None', value: 'none' },
 ]
 
 /** Fields of an active limit a change may set. */
@@ -94,7 +90,7 @@ export const LIMIT_FIELDS: FieldSpec[] = [
   { key: 'latching', label: 'Latching', input: 'bool' },
   { key: 'resetRole', label: 'Reset by', input: 'select', options: RESET_OPTIONS },
   { key: 'badValueTrip', label: 'Trips on bad value', input: 'bool' },
-  { key: 'severity', label: 'Severity', input: 'select', options: SEVERITY_OPTIONS },
+  { key: 'severity', label: 'Severity', input: 'select', options: choicesOf(SEVERITY_LABELS) },
   { key: 'responseTimeMin', label: 'Time to respond', input: 'number', unit: 'min', optional: true },
   { key: 'analyticalLimit', label: 'Analytical limit', input: 'number', unit: 'eu', optional: true },
   { key: 'processSafetyTimeSec', label: 'Process safety time', input: 'number', unit: 's', optional: true },
@@ -118,7 +114,7 @@ export const INSTRUMENT_FIELDS: FieldSpec[] = [
   { key: 'normalHigh', label: 'Normal high', input: 'number', unit: 'eu', optional: true },
   { key: 'designLow', label: 'Design low', input: 'number', unit: 'eu', optional: true },
   { key: 'designHigh', label: 'Design high', input: 'number', unit: 'eu', optional: true },
-  { key: 'burnout', label: 'Burnout', input: 'select', options: BURNOUT_OPTIONS },
+  { key: 'burnout', label: 'Burnout', input: 'select', options: choicesOf(BURNOUT_LABELS) },
   { key: 'unit', label: 'Unit', input: 'text' },
 ]
 
@@ -127,25 +123,8 @@ const ALL_FIELDS = new Map([...LIMIT_FIELDS, ...INSTRUMENT_FIELDS].map((f) => [f
 /** Fields shown in diffs but not edited through a change (a new limit carries them all). */
 const OTHER_FIELDS: FieldSpec[] = [
   { key: 'tag', label: 'Tag', input: 'text' },
-  {
-    key: 'direction',
-    label: 'Direction',
-    input: 'select',
-    options: [
-      { title: 'High', value: 'high' },
-      { title: 'Low', value: 'low' },
-    ],
-  },
-  {
-    key: 'limitClass',
-    label: 'Class',
-    input: 'select',
-    options: [
-      { title: 'Alarm', value: 'alarm' },
-      { title: 'Alert', value: 'alert' },
-      { title: 'Trip', value: 'trip' },
-    ],
-  },
+  { key: 'direction', label: 'Direction', input: 'select', options: choicesOf(DIRECTION_LABELS) },
+  { key: 'limitClass', label: 'Class', input: 'select', options: choicesOf(CLASS_LABELS) },
   {
     key: 'priority',
     label: 'Alarm priority',
@@ -153,17 +132,7 @@ const OTHER_FIELDS: FieldSpec[] = [
     options: ALARM_PRIORITIES.map((p) => ({ title: DEFAULT_ALARM_PHILOSOPHY.priorities[p].label, value: p })),
   },
   { key: 'enabled', label: 'Enabled, not suppressed or shelved', input: 'bool' },
-  {
-    key: 'sil',
-    label: 'SIL',
-    input: 'select',
-    options: [
-      { title: 'Not SIL-rated', value: null },
-      { title: 'SIL 1', value: 1 },
-      { title: 'SIL 2', value: 2 },
-      { title: 'SIL 3', value: 3 },
-    ],
-  },
+  { key: 'sil', label: 'SIL', input: 'select', options: SIL_CHOICES },
 ]
 const DIFF_ORDER = ['tag', 'description', 'direction', 'limitClass', 'sil', 'processId', 'instrumentIds']
 for (const f of OTHER_FIELDS) ALL_FIELDS.set(f.key, f)

@@ -49,6 +49,13 @@ export const SEVERITY_LABELS: Record<Limit['severity'], string> = {
   major: 'Major',
   severe: 'Severe',
 }
+/** The safety integrity levels a limit may carry, as the choices of a select; null: not SIL-rated. */
+export const SIL_CHOICES: { title: string; value: number | null }[] = [
+  { title: 'Not SIL-rated', value: null },
+  { title: 'SIL 1', value: 1 },
+  { title: 'SIL 2', value: 2 },
+  { title: 'SIL 3', value: 3 },
+]
 export const VARIABLE_LABELS: Record<string, string> = {
   temperature: 'Temperature',
   pressure: 'Pressure',
