@@ -11,6 +11,7 @@ import {
   DIRECTION_LABELS,
   SEVERITY_LABELS,
   SIL_CHOICES,
+  signalLabel,
 } from '@/features/register/format'
 import type { ChangeType } from './api'
 
@@ -170,21 +171,6 @@ export function unitOf(key: string, unit: string, context: Record<string, unknow
   return u === 'eu' ? unit : u
 }
 
-function signalText(s: Signal): string {
-  switch (s.kind) {
-    case 'thermocouple':
-      return `Thermocouple type ${s.tcType}${s.headTransmitter ? ', head transmitter' : ''}`
-    case 'rtd':
-      return `${s.element} RTD, ${s.wires}-wire`
-    case 'current':
-      return `4–20 mA${s.sqrtExtraction ? ', square root' : ''}`
-    case 'voltage':
-      return `${s.low}–${s.high} V`
-    case 'switch':
-      return 'Discrete switch'
-  }
-}
-
 /** A field value in words, with its unit. */
 export function valueText(key: string, v: unknown, unit = ''): string {
   if (v === null || v === undefined || v === '') return '—'
@@ -194,7 +180,7 @@ export function valueText(key: string, v: unknown, unit = ''): string {
     const o = spec.options.find((x) => x.value === v)
     if (o) return o.title
   }
-  if (key === 'signal' && typeof v === 'object' && v && 'kind' in v) return signalText(v as Signal)
+  if (key === 'signal' && typeof v === 'object' && v && 'kind' in v) return signalLabel(v as Signal)
   if (key === 'subsystems' && Array.isArray(v))
     return v.length
       ? v
