@@ -12,6 +12,7 @@ const created: User = {
   displayName: 'New Operator',
   active: true,
   roles: [],
+  createdAt: '2026-11-30T08:15:00.000Z',
 }
 
 describe('UserListView', () => {
