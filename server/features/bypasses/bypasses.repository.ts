@@ -1,6 +1,7 @@
 import type { Kysely, NotNull, Transaction, Updateable } from 'kysely'
 import type { BypassStatus } from '../../../shared/schemas/bypasses.ts'
 import type { BypassTable, Database } from '../../db/schema.ts'
+import { pageWithTotal } from '../../db/paging.ts'
 
 // Every query of the bypass workflow, its deadlines job and the plant manager's review (docs/bypasses.md).
 
@@ -190,17 +191,10 @@ export async function findBypassIds(db: Q, q: BypassListQuery, now: Date) {
         eb.and([eb('bypass.activated_at', 'is', null), eb('bypass.planned_start', '<', to)]),
       ]),
     )
-  const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const ids = (
-    await base
-      .select('bypass.id')
-      .orderBy('bypass.created_at', 'desc')
-      .orderBy('bypass.id', 'desc')
-      .limit(q.pageSize)
-      .offset((q.page - 1) * q.pageSize)
-      .execute()
-  ).map((r) => r.id)
-  return { total: Number(total), ids }
+  const { rows, total } = await pageWithTotal(base, q, (b) =>
+    b.select('bypass.id').orderBy('bypass.created_at', 'desc').orderBy('bypass.id', 'desc'),
+  )
+  return { total, ids: rows.map((r) => r.id) }
 }
 
 /** Bypasses the deadlines job looks at: authorized (may lapse) or active (may warn, be overdue, escalate). */

@@ -2,6 +2,7 @@ import type { Transaction } from 'kysely'
 import type { ChangeProposalListQuery } from '../../../shared/schemas/change-proposals.ts'
 import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
+import { pageWithTotal } from '../../db/paging.ts'
 
 /** Every query of change proposals (docs/change-requests.md#change-proposals). */
 type Q = Db | Transaction<Database>
@@ -41,7 +42,7 @@ export async function findProposal(db: Q, id: number, lock = false) {
 }
 export type ProposalRow = NonNullable<Awaited<ReturnType<typeof findProposal>>>
 
-export async function listProposals(
+export function listProposals(
   db: Q,
   q: Omit<ChangeProposalListQuery, 'siteId'> & { siteIds: number[]; userId: number },
 ) {
@@ -49,15 +50,9 @@ export async function listProposals(
   if (q.status?.length) query = query.where('p.status', 'in', q.status)
   if (q.limitId !== undefined) query = query.where('p.limit_id', '=', q.limitId)
   if (q.mine) query = query.where('p.proposer_id', '=', q.userId)
-  const { n } = await query.select((eb) => eb.fn.countAll<string>().as('n')).executeTakeFirstOrThrow()
-  const rows = await query
-    .select(COLUMNS)
-    .orderBy('p.created_at', 'desc')
-    .orderBy('p.id', 'desc')
-    .limit(q.pageSize)
-    .offset((q.page - 1) * q.pageSize)
-    .execute()
-  return { total: Number(n), rows }
+  return pageWithTotal(query, q, (filtered) =>
+    filtered.select(COLUMNS).orderBy('p.created_at', 'desc').orderBy('p.id', 'desc'),
+  )
 }
 
 /** The limit a proposal is about, held against a concurrent retirement until the proposal is written. */

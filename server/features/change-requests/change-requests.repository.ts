@@ -10,6 +10,7 @@ import type {
 } from '../../../shared/schemas/change-requests.ts'
 import type { Db } from '../../db/index.ts'
 import type { ChangeRequestTable, Database, InstrumentTable } from '../../db/schema.ts'
+import { pageWithTotal } from '../../db/paging.ts'
 import type { Instrument } from '../../../shared/schemas/register.ts'
 import type { ChangeWaitingSites } from '../../../shared/domain/rules/change-requests.ts'
 import { likeEscape } from '../../authorize.ts'
@@ -437,7 +438,7 @@ function waitingFor(eb: CrEb, sites: ChangeWaitingSites, userId: number) {
   ])
 }
 
-export async function listRequests(
+export function listRequests(
   db: Q,
   q: Omit<ChangeListQuery, 'siteId'> & { siteIds: number[]; userId: number; waiting: ChangeWaitingSites; now: Date },
 ) {
@@ -480,45 +481,42 @@ export async function listRequests(
   }
   if (q.view === 'mine') query = query.where('change_request.proposer_id', '=', q.userId)
   if (q.view === 'waiting') query = query.where((eb) => waitingFor(eb, q.waiting, q.userId))
-  const total = (await query.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const rows = await query
-    .select([
-      'change_request.id',
-      'change_request.title',
-      'change_request.type',
-      'change_request.status',
-      'change_request.site_id',
-      'site.code as site_code',
-      'change_request.approvals_required',
-      'change_request.updated_at',
-      'change_request.created_at',
-      'change_request.implemented_at',
-      'change_request.expires_at',
-      'change_request.emergency_flagged_at',
-      'app_user.display_name as proposer_name',
-      (eb) => expiredUnreverted(eb, q.now).as('expired_to_revert'),
-      (eb) =>
-        eb
-          .selectFrom('change_request_item')
-          .select((e) => e.fn.countAll<number>().as('n'))
-          .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
-          .as('item_count'),
-      (eb) =>
-        eb
-          .selectFrom('signature')
-          .select((e) => e.fn.countAll<number>().as('n'))
-          .where('signature.entity_type', '=', CHANGE_ENTITY)
-          .whereRef('signature.entity_id', '=', 'change_request.id')
-          .where('signature.meaning', '=', 'approved')
-          .where('signature.voided_at', 'is', null)
-          .as('approvals_held'),
-    ])
-    .orderBy('change_request.updated_at', 'desc')
-    .orderBy('change_request.id', 'desc')
-    .limit(q.pageSize)
-    .offset((q.page - 1) * q.pageSize)
-    .execute()
-  return { total: Number(total), rows }
+  return pageWithTotal(query, q, (filtered) =>
+    filtered
+      .select([
+        'change_request.id',
+        'change_request.title',
+        'change_request.type',
+        'change_request.status',
+        'change_request.site_id',
+        'site.code as site_code',
+        'change_request.approvals_required',
+        'change_request.updated_at',
+        'change_request.created_at',
+        'change_request.implemented_at',
+        'change_request.expires_at',
+        'change_request.emergency_flagged_at',
+        'app_user.display_name as proposer_name',
+        (eb) => expiredUnreverted(eb, q.now).as('expired_to_revert'),
+        (eb) =>
+          eb
+            .selectFrom('change_request_item')
+            .select((e) => e.fn.countAll<number>().as('n'))
+            .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
+            .as('item_count'),
+        (eb) =>
+          eb
+            .selectFrom('signature')
+            .select((e) => e.fn.countAll<number>().as('n'))
+            .where('signature.entity_type', '=', CHANGE_ENTITY)
+            .whereRef('signature.entity_id', '=', 'change_request.id')
+            .where('signature.meaning', '=', 'approved')
+            .where('signature.voided_at', 'is', null)
+            .as('approvals_held'),
+      ])
+      .orderBy('change_request.updated_at', 'desc')
+      .orderBy('change_request.id', 'desc'),
+  )
 }
 
 export async function countWaitingRequests(db: Q, siteIds: number[], userId: number, waiting: ChangeWaitingSites) {

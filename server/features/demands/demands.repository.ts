@@ -1,6 +1,7 @@
 import type { Kysely, Transaction } from 'kysely'
 import { sql } from 'kysely'
 import type { Database, DemandKind, DemandOutcome } from '../../db/schema.ts'
+import { pageWithTotal } from '../../db/paging.ts'
 
 type Db = Kysely<Database> | Transaction<Database>
 
@@ -130,19 +131,10 @@ function filtered(db: Db, f: DemandFilter) {
 
 /** One page of events, newest first, and the total. */
 export async function listDemandRows(db: Db, f: DemandFilter, page: number, pageSize: number) {
-  const [rows, total] = await Promise.all([
-    filtered(db, f)
-      .select('demand.id')
-      .orderBy('demand.occurred_at', 'desc')
-      .orderBy('demand.id', 'desc')
-      .limit(pageSize)
-      .offset((page - 1) * pageSize)
-      .execute(),
-    filtered(db, f)
-      .select((eb) => eb.fn.countAll<string>().as('n'))
-      .executeTakeFirstOrThrow(),
-  ])
-  return { ids: rows.map((r) => r.id), total: Number(total.n) }
+  const { rows, total } = await pageWithTotal(filtered(db, f), { page, pageSize }, (q) =>
+    q.select('demand.id').orderBy('demand.occurred_at', 'desc').orderBy('demand.id', 'desc'),
+  )
+  return { ids: rows.map((r) => r.id), total }
 }
 
 /** Full rows for the API, with names and tags. */

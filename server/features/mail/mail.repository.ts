@@ -1,5 +1,6 @@
 import { type Insertable, type Kysely, sql, type Transaction } from 'kysely'
 import type { Database, MailOutboxTable } from '../../db/schema.ts'
+import { pageWithTotal } from '../../db/paging.ts'
 
 // Every query of the mail outbox: queued by business code, delivered by the worker, listed for admins.
 
@@ -48,18 +49,11 @@ export interface MailListFilter {
 }
 
 /** One page of the outbox, newest first, and the number of messages matching the filter. */
-export async function listMail(db: Q, f: MailListFilter) {
+export function listMail(db: Q, f: MailListFilter) {
   let base = db.selectFrom('mail_outbox')
   if (f.state === 'sent') base = base.where('sent_at', 'is not', null)
   if (f.state === 'queued') base = base.where('sent_at', 'is', null).where('attempts', '=', 0)
   if (f.state === 'failing') base = base.where('sent_at', 'is', null).where('attempts', '>', 0)
   if (f.q) base = base.where((eb) => eb.or([eb('to_addr', 'ilike', `%${f.q}%`), eb('subject', 'ilike', `%${f.q}%`)]))
-  const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const rows = await base
-    .selectAll()
-    .orderBy('id', 'desc')
-    .limit(f.pageSize)
-    .offset((f.page - 1) * f.pageSize)
-    .execute()
-  return { total, rows }
+  return pageWithTotal(base, f, (q) => q.selectAll().orderBy('id', 'desc'))
 }

@@ -4,6 +4,7 @@ import type { PendingChange, RegisterLimit } from '../../../shared/domain/reconc
 import { normalizeDecimal } from '../../../shared/domain/modbus-decode.ts'
 import type { FindingKind, FindingState, ReconAttribute } from '../../../shared/schemas/reconciliation.ts'
 import type { Database, FindingTable, ReconciliationRunTable, ReconciliationSourceTable } from '../../db/schema.ts'
+import { pageWithTotal } from '../../db/paging.ts'
 
 type Q = Kysely<Database> | Transaction<Database>
 type Trx = Transaction<Database>
@@ -21,21 +22,9 @@ export function lockSource(trx: Trx, id: number) {
 
 export async function listSources(db: Q, siteIds: number[], page: { limit: number; offset: number }) {
   if (!siteIds.length) return { rows: [], total: 0 }
-  const rows = await db
-    .selectFrom('reconciliation_source')
-    .selectAll()
-    .where('site_id', 'in', siteIds)
-    .orderBy('site_id')
-    .orderBy('name')
-    .limit(page.limit)
-    .offset(page.offset)
-    .execute()
-  const { n } = await db
-    .selectFrom('reconciliation_source')
-    .select((eb) => eb.fn.countAll<string>().as('n'))
-    .where('site_id', 'in', siteIds)
-    .executeTakeFirstOrThrow()
-  return { rows, total: Number(n) }
+  return pageWithTotal(db.selectFrom('reconciliation_source').where('site_id', 'in', siteIds), page, (q) =>
+    q.selectAll().orderBy('site_id').orderBy('name'),
+  )
 }
 
 export function insertSource(trx: Trx, values: Insertable<ReconciliationSourceTable>) {
@@ -188,13 +177,19 @@ export function updateRun(trx: Trx, id: number, set: Updateable<ReconciliationRu
   return trx.updateTable('reconciliation_run').set(set).where('id', '=', id).execute()
 }
 
-function runQuery(db: Q) {
+function runTables(db: Q) {
   return db
     .selectFrom('reconciliation_run as r')
     .innerJoin('reconciliation_source as s', 's.id', 'r.source_id')
     .leftJoin('app_user as u', 'u.id', 'r.run_by')
-    .selectAll('r')
-    .select(['s.name as source_name', 'u.display_name as run_by_name'])
+}
+
+function runColumns(q: ReturnType<typeof runTables>) {
+  return q.selectAll('r').select(['s.name as source_name', 'u.display_name as run_by_name'])
+}
+
+function runQuery(db: Q) {
+  return runColumns(runTables(db))
 }
 export type RunRow = Awaited<ReturnType<ReturnType<typeof runQuery>['executeTakeFirstOrThrow']>>
 
@@ -208,20 +203,11 @@ export async function listRuns(
   page: { limit: number; offset: number },
 ) {
   if (!f.siteIds.length) return { rows: [], total: 0 }
-  let q = runQuery(db).where('r.site_id', 'in', f.siteIds)
+  let q = runTables(db).where('r.site_id', 'in', f.siteIds)
   if (f.sourceIds?.length) q = q.where('r.source_id', 'in', f.sourceIds)
-  const rows = await q
-    .orderBy('r.started_at', 'desc')
-    .orderBy('r.id', 'desc')
-    .limit(page.limit)
-    .offset(page.offset)
-    .execute()
-  let c = db
-    .selectFrom('reconciliation_run')
-    .select((eb) => eb.fn.countAll<string>().as('n'))
-    .where('site_id', 'in', f.siteIds)
-  if (f.sourceIds?.length) c = c.where('source_id', 'in', f.sourceIds)
-  return { rows, total: Number((await c.executeTakeFirstOrThrow()).n) }
+  return pageWithTotal(q, page, (filtered) =>
+    runColumns(filtered).orderBy('r.started_at', 'desc').orderBy('r.id', 'desc'),
+  )
 }
 
 export async function lastRuns(db: Q, sourceIds: number[]) {
@@ -271,12 +257,16 @@ export async function markAbsent(trx: Trx, ids: number[]) {
       .execute()
 }
 
-function findingQuery(db: Q) {
+function findingTables(db: Q) {
   return db
     .selectFrom('finding as f')
     .innerJoin('reconciliation_source as s', 's.id', 'f.source_id')
     .leftJoin('app_user as ack', 'ack.id', 'f.acknowledged_by')
     .leftJoin('app_user as res', 'res.id', 'f.resolved_by')
+}
+
+function findingColumns(q: ReturnType<typeof findingTables>) {
+  return q
     .selectAll('f')
     .select([
       's.name as source_name',
@@ -284,6 +274,10 @@ function findingQuery(db: Q) {
       'ack.display_name as ack_name',
       'res.display_name as res_name',
     ])
+}
+
+function findingQuery(db: Q) {
+  return findingColumns(findingTables(db))
 }
 export type FindingView = Awaited<ReturnType<ReturnType<typeof findingQuery>['executeTakeFirstOrThrow']>>
 
@@ -305,40 +299,18 @@ export interface FindingFilter {
 
 export async function listFindings(db: Q, f: FindingFilter, page: { limit: number; offset: number }) {
   if (!f.siteIds.length) return { rows: [], total: 0 }
-  let q = findingQuery(db).where('f.site_id', 'in', f.siteIds)
-  let c = db
-    .selectFrom('finding as f')
-    .select((eb) => eb.fn.countAll<string>().as('n'))
-    .where('f.site_id', 'in', f.siteIds)
-  if (f.sourceIds?.length) {
-    q = q.where('f.source_id', 'in', f.sourceIds)
-    c = c.where('f.source_id', 'in', f.sourceIds)
-  }
-  if (f.limitIds?.length) {
-    q = q.where('f.limit_id', 'in', f.limitIds)
-    c = c.where('f.limit_id', 'in', f.limitIds)
-  }
-  if (f.kinds?.length) {
-    q = q.where('f.kind', 'in', f.kinds)
-    c = c.where('f.kind', 'in', f.kinds)
-  }
-  if (f.states?.length) {
-    q = q.where('f.state', 'in', f.states)
-    c = c.where('f.state', 'in', f.states)
-  }
-  if (f.q) {
-    const like = `%${f.q.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`
-    q = q.where('f.tag', 'ilike', like)
-    c = c.where('f.tag', 'ilike', like)
-  }
-  const rows = await q
-    .orderBy(sql`CASE f.state WHEN 'open' THEN 0 WHEN 'acknowledged' THEN 1 ELSE 2 END`)
-    .orderBy('f.opened_at', 'desc')
-    .orderBy('f.id', 'desc')
-    .limit(page.limit)
-    .offset(page.offset)
-    .execute()
-  return { rows, total: Number((await c.executeTakeFirstOrThrow()).n) }
+  let q = findingTables(db).where('f.site_id', 'in', f.siteIds)
+  if (f.sourceIds?.length) q = q.where('f.source_id', 'in', f.sourceIds)
+  if (f.limitIds?.length) q = q.where('f.limit_id', 'in', f.limitIds)
+  if (f.kinds?.length) q = q.where('f.kind', 'in', f.kinds)
+  if (f.states?.length) q = q.where('f.state', 'in', f.states)
+  if (f.q) q = q.where('f.tag', 'ilike', `%${f.q.replace(/[\\%_]/g, (ch) => `\\${ch}`)}%`)
+  return pageWithTotal(q, page, (filtered) =>
+    findingColumns(filtered)
+      .orderBy(sql`CASE f.state WHEN 'open' THEN 0 WHEN 'acknowledged' THEN 1 ELSE 2 END`)
+      .orderBy('f.opened_at', 'desc')
+      .orderBy('f.id', 'desc'),
+  )
 }
 
 export function openFindingsForFigures(db: Q, siteIds: number[]) {

@@ -1,5 +1,6 @@
 import type { Insertable, Kysely, Transaction, Updateable } from 'kysely'
 import type { Database, InstrumentRevisionTable, InstrumentTable } from '../../db/schema.ts'
+import { pageWithTotal } from '../../db/paging.ts'
 
 // Every query of the register's instruments (docs/register.md).
 
@@ -29,7 +30,7 @@ export function findInstrumentIdByTag(db: Q, siteId: number, tag: string, except
 }
 
 /** One page of instruments (with their process's name) by tag, and the number matching. */
-export async function listInstrumentRows(
+export function listInstrumentRows(
   db: Q,
   f: { siteIds: number[]; processIds?: number[]; q?: string; page: number; pageSize: number },
 ) {
@@ -39,15 +40,9 @@ export async function listInstrumentRows(
     .where('instrument.site_id', 'in', f.siteIds.length ? f.siteIds : [-1])
   if (f.processIds?.length) q = q.where('instrument.process_id', 'in', f.processIds)
   if (f.q) q = q.where('instrument.tag', 'ilike', `%${f.q}%`)
-  const total = (await q.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const rows = await q
-    .selectAll('instrument')
-    .select('process.name as process_name')
-    .orderBy('instrument.tag')
-    .limit(f.pageSize)
-    .offset((f.page - 1) * f.pageSize)
-    .execute()
-  return { total, rows }
+  return pageWithTotal(q, f, (filtered) =>
+    filtered.selectAll('instrument').select('process.name as process_name').orderBy('instrument.tag'),
+  )
 }
 
 export function findProcessRowById(db: Q, id: number) {

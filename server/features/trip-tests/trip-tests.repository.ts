@@ -5,6 +5,7 @@ import type { DeferralStatus } from '../../../shared/domain/rules/trip-tests.ts'
 import type { Role } from '../../../shared/schemas/users.ts'
 import type { ComponentScope, TestScope } from '../../../shared/schemas/trip-tests.ts'
 import type { Database, LimitDegradationTable, TestDeferralTable, TripTestTable } from '../../db/schema.ts'
+import { pageWithTotal } from '../../db/paging.ts'
 
 type Db = Kysely<Database> | Transaction<Database>
 
@@ -154,7 +155,7 @@ export interface TripTestListFilter {
   pageSize: number
 }
 
-export async function listTripTests(db: Db, q: TripTestListFilter) {
+export function listTripTests(db: Db, q: TripTestListFilter) {
   let base = db
     .selectFrom('trip_test')
     .innerJoin('limit_function', 'limit_function.id', 'trip_test.limit_id')
@@ -163,35 +164,32 @@ export async function listTripTests(db: Db, q: TripTestListFilter) {
   if (q.limitId) base = base.where('trip_test.limit_id', '=', q.limitId)
   if (q.scope) base = base.where('trip_test.scope', '=', q.scope)
   if (q.passed !== undefined) base = base.where('trip_test.passed', '=', q.passed)
-  const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const rows = await base
-    .select([
-      'trip_test.id',
-      'trip_test.limit_id',
-      'trip_test.site_id',
-      'limit_function.tag',
-      'trip_test.kind',
-      'trip_test.scope',
-      'trip_test.method',
-      'trip_test.performed_at',
-      'trip_test.as_found',
-      'trip_test.as_found_result',
-      'trip_test.as_left',
-      'trip_test.as_left_result',
-      'trip_test.passed',
-      'trip_test.status',
-      'trip_test.setpoint',
-      'trip_test.tolerance_eu',
-      'trip_test.source',
-      'trip_test.tester_name',
-      'app_user.display_name',
-    ])
-    .orderBy('trip_test.performed_at', 'desc')
-    .orderBy('trip_test.id', 'desc')
-    .limit(q.pageSize)
-    .offset((q.page - 1) * q.pageSize)
-    .execute()
-  return { total: Number(total), rows }
+  return pageWithTotal(base, q, (b) =>
+    b
+      .select([
+        'trip_test.id',
+        'trip_test.limit_id',
+        'trip_test.site_id',
+        'limit_function.tag',
+        'trip_test.kind',
+        'trip_test.scope',
+        'trip_test.method',
+        'trip_test.performed_at',
+        'trip_test.as_found',
+        'trip_test.as_found_result',
+        'trip_test.as_left',
+        'trip_test.as_left_result',
+        'trip_test.passed',
+        'trip_test.status',
+        'trip_test.setpoint',
+        'trip_test.tolerance_eu',
+        'trip_test.source',
+        'trip_test.tester_name',
+        'app_user.display_name',
+      ])
+      .orderBy('trip_test.performed_at', 'desc')
+      .orderBy('trip_test.id', 'desc'),
+  )
 }
 
 /** Signed whole-function tests of a limit, for its due date (component tests have their own intervals). */
@@ -570,20 +568,17 @@ export interface DeferralListFilter {
   pageSize: number
 }
 
-export async function listDeferrals(db: Db, q: DeferralListFilter) {
+export function listDeferrals(db: Db, q: DeferralListFilter) {
   let base = deferralBase(db).where('test_deferral.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
   if (q.limitId) base = base.where('test_deferral.limit_id', '=', q.limitId)
   if (q.status?.length) base = base.where('test_deferral.status', 'in', q.status)
-  const total = (await base.select((eb) => eb.fn.countAll<number>().as('n')).executeTakeFirstOrThrow()).n
-  const rows = await base
-    .selectAll('test_deferral')
-    .select([...DEFERRAL_COLUMNS])
-    .orderBy('test_deferral.requested_at', 'desc')
-    .orderBy('test_deferral.id', 'desc')
-    .limit(q.pageSize)
-    .offset((q.page - 1) * q.pageSize)
-    .execute()
-  return { total: Number(total), rows }
+  return pageWithTotal(base, q, (b) =>
+    b
+      .selectAll('test_deferral')
+      .select([...DEFERRAL_COLUMNS])
+      .orderBy('test_deferral.requested_at', 'desc')
+      .orderBy('test_deferral.id', 'desc'),
+  )
 }
 
 /** Deferrals requested or decided in a period at some sites, for the review figures and the handover. */
