@@ -4,6 +4,7 @@ import { type Db, kyselyOn, poolOf } from '../../db/index.ts'
 import type pg from 'pg'
 import { to as copyTo } from 'pg-copy-streams'
 import type { Database } from '../../db/schema.ts'
+import { batchesOf } from '../../db/batches.ts'
 import { availableParallelism } from 'node:os'
 import {
   advance,
@@ -113,12 +114,7 @@ export async function appendAudit(
       data_hash: dataHash(content),
     }
   })
-  for (let i = 0; i < rows.length; i += 500) {
-    await trx
-      .insertInto('audit_event')
-      .values(rows.slice(i, i + 500))
-      .execute()
-  }
+  for (const batch of batchesOf(rows, 500)) await trx.insertInto('audit_event').values(batch).execute()
 }
 
 /** Appends in a transaction of its own (sign-in events that change nothing else). */
@@ -166,12 +162,11 @@ export async function resolveAuditSites(
     ids.add(id)
   }
   for (const [table, ids] of byTable) {
-    const all = [...ids]
-    for (let i = 0; i < all.length; i += 1000) {
+    for (const batch of batchesOf([...ids], 1000)) {
       const rows = await db
         .selectFrom(table as 'area')
         .select(['id', 'site_id'])
-        .where('id', 'in', all.slice(i, i + 1000))
+        .where('id', 'in', batch)
         .execute()
       for (const r of rows) found.set(`${table}:${r.id}`, r.site_id)
     }

@@ -1,6 +1,7 @@
 // Every query of the history import (docs/trip-tests.md#history-import). Functions take `db` or a transaction first.
 import type { Insertable, Kysely, Transaction } from 'kysely'
 import type { BypassTable, Database, TripTestTable } from '../../db/schema.ts'
+import { batchesOf } from '../../db/batches.ts'
 import { closeImportBatch, insertImportBatch, lockImportBatch } from '../register/imports.repository.ts'
 
 type Db = Kysely<Database> | Transaction<Database>
@@ -70,20 +71,12 @@ export const closeBatch = closeImportBatch
 
 /** Inserts imported tests, 500 rows a statement (below PostgreSQL's limit of bind parameters). */
 export async function insertImportedTests(db: Db, rows: Insertable<TripTestTable>[]) {
-  for (let i = 0; i < rows.length; i += 500)
-    await db
-      .insertInto('trip_test')
-      .values(rows.slice(i, i + 500))
-      .execute()
+  for (const batch of batchesOf(rows, 500)) await db.insertInto('trip_test').values(batch).execute()
 }
 
 /** Inserts imported bypasses, 500 rows a statement. */
 export async function insertImportedBypasses(db: Db, rows: Insertable<BypassTable>[]) {
-  for (let i = 0; i < rows.length; i += 500)
-    await db
-      .insertInto('bypass')
-      .values(rows.slice(i, i + 500))
-      .execute()
+  for (const batch of batchesOf(rows, 500)) await db.insertInto('bypass').values(batch).execute()
 }
 
 export function setCommissioningDate(db: Db, limitId: number, day: string, now: Date) {

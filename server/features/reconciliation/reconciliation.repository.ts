@@ -5,6 +5,7 @@ import { normalizeDecimal } from '../../../shared/domain/modbus-decode.ts'
 import type { FindingKind, FindingState, ReconAttribute } from '../../../shared/schemas/reconciliation.ts'
 import type { Database, FindingTable, ReconciliationRunTable, ReconciliationSourceTable } from '../../db/schema.ts'
 import { pageWithTotal } from '../../db/paging.ts'
+import { batchesOf } from '../../db/batches.ts'
 
 type Q = Kysely<Database> | Transaction<Database>
 type Trx = Transaction<Database>
@@ -232,11 +233,7 @@ export function findingsOfSource(trx: Trx, sourceId: number) {
 export type FindingRow = Awaited<ReturnType<typeof findingsOfSource>>[number]
 
 export async function insertFindings(trx: Trx, rows: Insertable<FindingTable>[]) {
-  for (let i = 0; i < rows.length; i += 1000)
-    await trx
-      .insertInto('finding')
-      .values(rows.slice(i, i + 1000))
-      .execute()
+  for (const batch of batchesOf(rows, 1000)) await trx.insertInto('finding').values(batch).execute()
 }
 
 export function updateFinding(trx: Trx, id: number, set: Updateable<FindingTable>) {
@@ -249,12 +246,8 @@ export function updateFinding(trx: Trx, id: number, set: Updateable<FindingTable
 
 /** Marks findings as not seen by the latest run (closed ones stay closed). */
 export async function markAbsent(trx: Trx, ids: number[]) {
-  for (let i = 0; i < ids.length; i += 5000)
-    await trx
-      .updateTable('finding')
-      .set({ present: false })
-      .where('id', 'in', ids.slice(i, i + 5000))
-      .execute()
+  for (const batch of batchesOf(ids, 5000))
+    await trx.updateTable('finding').set({ present: false }).where('id', 'in', batch).execute()
 }
 
 function findingTables(db: Q) {
@@ -358,10 +351,10 @@ export async function upsertLimitReconciliations(
   trx: Trx,
   rows: { limit_id: number; source_id: number; run_id: number; at: Date; matched: boolean; differences: string }[],
 ) {
-  for (let i = 0; i < rows.length; i += 2000)
+  for (const batch of batchesOf(rows, 2000))
     await trx
       .insertInto('limit_reconciliation')
-      .values(rows.slice(i, i + 2000))
+      .values(batch)
       .onConflict((oc) =>
         oc.columns(['limit_id', 'source_id']).doUpdateSet((eb) => ({
           run_id: eb.ref('excluded.run_id'),
