@@ -194,3 +194,27 @@ describe('register: reading by role and site', () => {
     expect(list.items.map((l: { id: number }) => l.id)).toEqual([smp.limitId])
   })
 })
+
+describe('register tags', () => {
+  // docs/register.md: instrument and limit tags are unique per site, whatever their case
+  it('refuses an instrument or limit tag the site already has in another case (409), not one of another site', async () => {
+    const eng = agents.engineer
+    const tagOf = async (path: string) => ((await eng.get(path).expect(200)).body.tag as string).toLowerCase()
+    const before = await snapshot()
+    const inst = await eng
+      .post('/api/instruments', heaterThermocouple(fhr.processId, await tagOf(`/api/instruments/${fhr.instrumentId}`)))
+      .expect(409)
+    expect(inst.body.error.code).toBe('CONFLICT')
+    expect(inst.body.error.details.fields.tag).toEqual(['Already used at this site'])
+    const limitTag = await tagOf(`/api/limits/${fhr.limitId}`)
+    const limit = await eng.post('/api/limits', heaterTripBody(fhr.processId, [fhr.instrumentId], limitTag)).expect(409)
+    expect(limit.body.error.code).toBe('CONFLICT')
+    expect(limit.body.error.details.fields.tag).toEqual(['Already used at this site'])
+    expect(await snapshot()).toEqual(before)
+    // the tags of the SMP records are free at FHR
+    const smpInstrumentTag = await tagOf(`/api/instruments/${smp.instrumentId}`)
+    const other = await eng.post('/api/instruments', heaterThermocouple(fhr.processId, smpInstrumentTag)).expect(201)
+    const smpLimitTag = await tagOf(`/api/limits/${smp.limitId}`)
+    await eng.post('/api/limits', heaterTripBody(fhr.processId, [other.body.id], smpLimitTag)).expect(201)
+  })
+})

@@ -1,6 +1,7 @@
 import type { Insertable, Kysely, Transaction, Updateable } from 'kysely'
 import type { Database, InstrumentRevisionTable, InstrumentTable } from '../../db/schema.ts'
 import { pageWithTotal } from '../../db/paging.ts'
+import { findIdByTag } from './tags.repository.ts'
 
 // Every query of the register's instruments (docs/register.md).
 
@@ -20,13 +21,7 @@ export function findInstrumentRow(db: Q, id: number, lock = false) {
 
 /** An instrument of the site with this tag (case-insensitive), other than `exceptId`. */
 export function findInstrumentIdByTag(db: Q, siteId: number, tag: string, exceptId: number | null) {
-  let q = db
-    .selectFrom('instrument')
-    .select('id')
-    .where('site_id', '=', siteId)
-    .where((eb) => eb(eb.fn('lower', ['tag']), '=', tag.toLowerCase()))
-  if (exceptId) q = q.where('id', '!=', exceptId)
-  return q.executeTakeFirst()
+  return findIdByTag(db, 'instrument', siteId, tag, exceptId)
 }
 
 /** One page of instruments (with their process's name) by tag, and the number matching. */

@@ -3,6 +3,7 @@ import type { Insertable, Updateable } from 'kysely'
 import type { Database, LimitFunctionTable, LimitRevisionTable } from '../../db/schema.ts'
 import type { LimitListRow } from './register.mappers.ts'
 import type { Limit } from '../../../shared/schemas/register.ts'
+import { findIdByTag } from './tags.repository.ts'
 
 type ProtectionState = Limit['protectionState']
 
@@ -301,13 +302,7 @@ export async function insertLimitRow(db: Q, values: Insertable<LimitFunctionTabl
 
 /** A limit of the site with this tag (case-insensitive), other than `exceptId`. */
 export function findLimitIdByTag(db: Q, siteId: number, tag: string, exceptId: number | null) {
-  let q = db
-    .selectFrom('limit_function')
-    .select('id')
-    .where('site_id', '=', siteId)
-    .where((eb) => eb(eb.fn('lower', ['tag']), '=', tag.toLowerCase()))
-  if (exceptId) q = q.where('id', '!=', exceptId)
-  return q.executeTakeFirst()
+  return findIdByTag(db, 'limit_function', siteId, tag, exceptId)
 }
 
 export function updateLimitRow(db: Q, id: number, set: Updateable<LimitFunctionTable>) {
