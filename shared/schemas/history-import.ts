@@ -1,5 +1,5 @@
 import { z } from 'zod'
-import { columnMappingSchema, ImportErrorSchema, uploadFieldsSchema } from './imports.ts'
+import { columnMappingSchema, ImportBatchResultSchema, uploadFieldsSchema } from './imports.ts'
 import { TEST_METHODS } from './trip-tests.ts'
 
 // The history import (`/api/history-imports`): a migrating site's last trip tests, commissioning (validation) dates
@@ -57,17 +57,9 @@ export type HistoryRowResult = z.infer<typeof HistoryRowResultSchema>
 export const HISTORY_IMPORT_STATUSES = ['checked', 'committed', 'unchanged'] as const
 
 /** The answer of a dry run and of a commit. */
-export const HistoryImportResultSchema = z.object({
-  id: z.number().int(),
-  siteId: z.number().int(),
+export const HistoryImportResultSchema = ImportBatchResultSchema.extend({
   status: z.enum(HISTORY_IMPORT_STATUSES),
-  fileName: z.string(),
-  checksum: z.string(),
-  rowCount: z.number().int(),
-  mapping: z.record(z.string(), z.string()),
-  ignoredColumns: z.array(z.string()),
   rows: z.array(HistoryRowResultSchema),
-  errors: z.array(ImportErrorSchema),
   summary: z.object({
     tests: z.number().int(),
     commissioning: z.number().int(),

@@ -71,18 +71,25 @@ export const ImportRowResultSchema = z.object({
 })
 export type ImportRowResult = z.infer<typeof ImportRowResultSchema>
 
-/** The answer of a dry run and of a commit. */
-export const ImportResultSchema = z.object({
+/**
+ * What the answer of a dry run and of a commit says of its batch, in the register import and the history import
+ * alike: the file, how its columns were read and the errors of its rows.
+ */
+export const ImportBatchResultSchema = z.object({
   id: z.number().int(),
   siteId: z.number().int(),
-  status: z.enum(IMPORT_STATUSES),
   fileName: z.string(),
   checksum: z.string(),
   rowCount: z.number().int(),
   mapping: z.record(z.string(), z.string()),
   ignoredColumns: z.array(z.string()),
-  rows: z.array(ImportRowResultSchema),
   errors: z.array(ImportErrorSchema),
+})
+
+/** The answer of a dry run and of a commit. */
+export const ImportResultSchema = ImportBatchResultSchema.extend({
+  status: z.enum(IMPORT_STATUSES),
+  rows: z.array(ImportRowResultSchema),
   summary: z.object({ create: z.number().int(), update: z.number().int(), unchanged: z.number().int() }),
   limitIds: z.array(z.number().int()).optional(),
   /** The draft change request opened for the imported baseline (null when nothing new needs approving). */
