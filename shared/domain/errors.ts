@@ -50,6 +50,27 @@ export class OutOfRangeError extends Error {
   }
 }
 
+// Tolerance on range edges for values that came through a unit conversion (e.g. 2501.6 °F → 1372.0000000001 °C).
+const EDGE_EPS = 1e-9
+
+/**
+ * `value` held to `min … max` for a reference function: a value past an edge by no more than a unit conversion's
+ * rounding is that edge; a value further out, or not finite, throws OutOfRangeError (never extrapolated) with the
+ * explanation `explain` gives (built only then: the check runs on every conversion).
+ */
+export function withinRange(
+  quantity: string,
+  value: number,
+  min: number,
+  max: number,
+  unit: string,
+  explain: () => string,
+): number {
+  if (!Number.isFinite(value) || value < min - EDGE_EPS || value > max + EDGE_EPS)
+    throw new OutOfRangeError(quantity, value, min, max, unit, explain())
+  return Math.min(max, Math.max(min, value))
+}
+
 /** An input needed for a computation was not given (e.g. the cold-junction temperature for an mV source). */
 export class MissingInputError extends Error {
   /** API error code the server answers with (400). */

@@ -1,4 +1,4 @@
-import { OutOfRangeError } from './errors.ts'
+import { OutOfRangeError, withinRange } from './errors.ts'
 
 /**
  * IEC 60751 platinum resistance thermometers (α = 0.00385), Callendar–Van Dusen equation.
@@ -23,7 +23,7 @@ export type RtdElement = 'Pt100' | 'Pt1000'
 /** Nominal resistance R0 at 0 °C, in ohm, of each element. */
 export const R0_BY_ELEMENT: Record<RtdElement, number> = { Pt100: 100, Pt1000: 1000 }
 
-const EDGE_EPS = 1e-9
+const IEC_60751_RANGE = 'the IEC 60751 relationship is defined from −200 to 850 °C'
 /** Half the last printed step of the IEC 60751 Pt100 table (0.01 Ω), ohm; scaled by R0/100 for other elements. */
 export const TABLE_OHM_HALF_STEP_PT100 = 0.005
 
@@ -45,17 +45,8 @@ function checkR0(r0: number): void {
  */
 export function rtdResistance(tC: number, r0: number): number {
   checkR0(r0)
-  if (!Number.isFinite(tC) || tC < RTD_T_MIN - EDGE_EPS || tC > RTD_T_MAX + EDGE_EPS) {
-    throw new OutOfRangeError(
-      'temperature',
-      tC,
-      RTD_T_MIN,
-      RTD_T_MAX,
-      '°C',
-      'the IEC 60751 relationship is defined from −200 to 850 °C',
-    )
-  }
-  return r0 * ratio(Math.min(RTD_T_MAX, Math.max(RTD_T_MIN, tC)))
+  const t = withinRange('temperature', tC, RTD_T_MIN, RTD_T_MAX, '°C', () => IEC_60751_RANGE)
+  return r0 * ratio(t)
 }
 
 /**
@@ -73,14 +64,7 @@ export function rtdTemperature(rOhm: number, r0: number): number {
   if (Number.isFinite(rOhm) && rOhm < rMin && rOhm >= rMin - halfStep) return RTD_T_MIN
   if (Number.isFinite(rOhm) && rOhm > rMax && rOhm <= rMax + halfStep) return RTD_T_MAX
   if (!Number.isFinite(rOhm) || rOhm < rMin || rOhm > rMax) {
-    throw new OutOfRangeError(
-      'resistance',
-      rOhm,
-      rMin,
-      rMax,
-      'ohm',
-      'the IEC 60751 relationship is defined from −200 to 850 °C',
-    )
+    throw new OutOfRangeError('resistance', rOhm, rMin, rMax, 'ohm', IEC_60751_RANGE)
   }
   const w = rOhm / r0
   const quadratic = (-CVD_A + Math.sqrt(CVD_A * CVD_A - 4 * CVD_B * (1 - w))) / (2 * CVD_B)

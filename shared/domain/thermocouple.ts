@@ -1,4 +1,4 @@
-import { OutOfRangeError } from './errors.ts'
+import { OutOfRangeError, withinRange } from './errors.ts'
 
 /**
  * ITS-90 thermocouple reference functions (reference junction 0 °C) for the letter-designated types.
@@ -477,8 +477,6 @@ const K_A2 = 126.9686
 // Type B inverse lower limit: NIST gives the inverse from 250 °C / 0.291 mV (thermocouples.md, valid ranges).
 const B_EMF_MIN = 0.291
 
-// Tolerance on range edges for values that came through a unit conversion (e.g. 2501.6 °F → 1372.0000000001 °C).
-const EDGE_EPS = 1e-9
 /** Half the last printed step of the NIST ITS-90 thermocouple tables (0.001 mV), mV. */
 export const TABLE_EMF_HALF_STEP = 0.0005
 
@@ -550,19 +548,11 @@ export function thermocoupleRange(type: TcType): TcRange {
   return { tMin, tMax, emfMin: type === 'B' ? B_EMF_MIN : forwardRaw(type, tMin), emfMax: forwardRaw(type, tMax) }
 }
 
-function clampToRange(type: TcType, t: number): number {
+/** t held to the type's range (see withinRange); `consequence` ends the explanation of a refusal. */
+function clampToRange(type: TcType, t: number, quantity = 'temperature', consequence = ''): number {
   const { tMin, tMax } = tRange(type)
-  if (!Number.isFinite(t) || t < tMin - EDGE_EPS || t > tMax + EDGE_EPS) {
-    throw new OutOfRangeError(
-      'temperature',
-      t,
-      tMin,
-      tMax,
-      '°C',
-      `the type ${type} reference function is defined from ${tMin} to ${tMax} °C`,
-    )
-  }
-  return Math.min(tMax, Math.max(tMin, t))
+  const explain = () => `the type ${type} reference function is defined from ${tMin} to ${tMax} °C${consequence}`
+  return withinRange(quantity, t, tMin, tMax, '°C', explain)
 }
 
 /**
@@ -648,19 +638,8 @@ export function mvSourceValue(type: TcType, tHotC: number, tCjC: number): number
 /** E(tCj) of the cold junction; a cold junction outside the type's range is named as such in the error. */
 function coldJunctionEmf(type: TcType, tCjC: number): number {
   checkType(type)
-  const { tMin, tMax } = tRange(type)
-  if (!Number.isFinite(tCjC) || tCjC < tMin - EDGE_EPS || tCjC > tMax + EDGE_EPS) {
-    throw new OutOfRangeError(
-      'cold-junction temperature',
-      tCjC,
-      tMin,
-      tMax,
-      '°C',
-      `the type ${type} reference function is defined from ${tMin} to ${tMax} °C, so it cannot compensate a ` +
-        'cold junction at this temperature',
-    )
-  }
-  return thermocoupleEmf(type, tCjC)
+  const why = ', so it cannot compensate a cold junction at this temperature'
+  return thermocoupleEmf(type, clampToRange(type, tCjC, 'cold-junction temperature', why))
 }
 
 /**
