@@ -113,6 +113,15 @@ export async function reversalsOf(db: Q, id: number) {
     .execute()
 }
 
+/** The implemented or closed requests reversing a change (none: the temporary change is not reverted). */
+export function implementedReversal(eb: ExpressionBuilder<Database, 'change_request'>) {
+  return eb
+    .selectFrom('change_request as reversal')
+    .select('reversal.id')
+    .whereRef('reversal.reverses_id', '=', 'change_request.id')
+    .where('reversal.status', 'in', ['implemented', 'closed'])
+}
+
 /**
  * "Expired, to be reverted" in SQL, the same test as `temporaryState` of the rule book: a temporary change on the
  * device (implemented or closed) past its end, with no implemented or closed reversal.
@@ -122,15 +131,7 @@ export function expiredUnreverted(eb: ExpressionBuilder<Database, 'change_reques
     eb('change_request.type', '=', 'temporary'),
     eb('change_request.status', 'in', ['implemented', 'closed']),
     eb('change_request.expires_at', '<=', now),
-    eb.not(
-      eb.exists(
-        eb
-          .selectFrom('change_request as reversal')
-          .select('reversal.id')
-          .whereRef('reversal.reverses_id', '=', 'change_request.id')
-          .where('reversal.status', 'in', ['implemented', 'closed']),
-      ),
-    ),
+    eb.not(eb.exists(implementedReversal(eb))),
   ])
 }
 
@@ -359,27 +360,27 @@ export async function clearCheck(trx: Trx, crId: number, item: ChecklistItem) {
 
 // ---------- signatures of the request ----------
 
-export async function countApprovals(trx: Trx, crId: number): Promise<number> {
-  const r = await trx
+/** The approvals of a request that stand (not voided). */
+function approvalsOf(trx: Trx, crId: number) {
+  return trx
     .selectFrom('signature')
+    .where('signature.entity_type', '=', CHANGE_ENTITY)
+    .where('signature.entity_id', '=', crId)
+    .where('signature.meaning', '=', 'approved')
+    .where('signature.voided_at', 'is', null)
+}
+
+export async function countApprovals(trx: Trx, crId: number): Promise<number> {
+  const r = await approvalsOf(trx, crId)
     .select((eb) => eb.fn.countAll<number>().as('n'))
-    .where('entity_type', '=', CHANGE_ENTITY)
-    .where('entity_id', '=', crId)
-    .where('meaning', '=', 'approved')
-    .where('voided_at', 'is', null)
     .executeTakeFirstOrThrow()
   return Number(r.n)
 }
 
 export async function approverContacts(trx: Trx, crId: number) {
-  return trx
-    .selectFrom('signature')
+  return approvalsOf(trx, crId)
     .innerJoin('app_user', 'app_user.id', 'signature.user_id')
     .select('app_user.email')
-    .where('entity_type', '=', CHANGE_ENTITY)
-    .where('entity_id', '=', crId)
-    .where('meaning', '=', 'approved')
-    .where('voided_at', 'is', null)
     .execute()
 }
 

@@ -1,7 +1,7 @@
 import { OVERDUE_TEST_STATUSES } from '../../../shared/domain/rules/trip-tests.ts'
 import type { ExpressionBuilder, Kysely, Transaction } from 'kysely'
 import type { Database } from '../../db/schema.ts'
-import { expiredUnreverted } from '../change-requests/change-requests.repository.ts'
+import { expiredUnreverted, implementedReversal } from '../change-requests/change-requests.repository.ts'
 
 // Every query of the shift handover (docs/shift-handover.md).
 
@@ -67,13 +67,6 @@ export function findOverdueTests(db: Q, areaIds: number[]) {
     .orderBy('tag')
     .execute()
 }
-
-const implementedReversal = (eb: ExpressionBuilder<Database, 'change_request'>) =>
-  eb
-    .selectFrom('change_request as reversal')
-    .select('reversal.id')
-    .whereRef('reversal.reverses_id', '=', 'change_request.id')
-    .where('reversal.status', 'in', ['implemented', 'closed'])
 
 /**
  * Temporary changes with an item on a limit of the area: approved or in force and not yet expired, and those
