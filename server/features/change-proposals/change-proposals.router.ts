@@ -8,6 +8,7 @@ import {
 import { IdSchema } from '../../../shared/schemas/common.ts'
 import { scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
+import { routeHandlers } from '../../route-handlers.ts'
 import * as service from './change-proposals.service.ts'
 
 /**
@@ -18,18 +19,13 @@ import * as service from './change-proposals.service.ts'
 export function createChangeProposalsRouter(deps: AppDeps) {
   const router = Router()
   const id = (v: unknown) => IdSchema.parse(v)
+  const route = routeHandlers(deps)
   router.get('/', async (req, res) => {
     const { siteId, ...q } = ChangeProposalListQuerySchema.parse(req.query)
     res.json(await service.listProposals(deps, req.user!.id, { ...q, siteIds: scopeSites(req.user, siteId) }))
   })
-  router.post('/', async (req, res) => {
-    res
-      .status(201)
-      .json(await service.createProposal(deps, req.ability, req.audit, CreateChangeProposalInputSchema.parse(req.body)))
-  })
-  router.get('/:id', async (req, res) => {
-    res.json(await service.getProposal(deps, req.ability, id(req.params.id)))
-  })
+  router.post('/', route.create(CreateChangeProposalInputSchema, service.createProposal))
+  router.get('/:id', route.read(service.getProposal))
   router.post('/:id/take-up', async (req, res) => {
     const b = TakeUpProposalInputSchema.parse(req.body)
     res.json(await service.takeUpProposal(deps, req.ability, req.audit, id(req.params.id), b.changeRequestId))

@@ -15,6 +15,7 @@ import {
 import { IdSchema, parsePatch } from '../../../shared/schemas/common.ts'
 import { scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
+import { routeHandlers } from '../../route-handlers.ts'
 import { readAttachment, receiveAttachment } from '../attachments/attachments.ts'
 import { changeRequestPdf } from './change-requests.pdf.ts'
 import * as service from './change-requests.service.ts'
@@ -23,6 +24,7 @@ import * as service from './change-requests.service.ts'
 export function createChangeRequestsRouter(deps: AppDeps) {
   const router = Router()
   const id = (v: unknown) => IdSchema.parse(v)
+  const route = routeHandlers(deps)
 
   router.get('/', async (req, res) => {
     const { siteId, ...q } = ChangeListQuerySchema.parse(req.query)
@@ -31,9 +33,7 @@ export function createChangeRequestsRouter(deps: AppDeps) {
   router.get('/waiting-count', async (req, res) => {
     res.json({ count: await service.countWaiting(deps, req.user!) })
   })
-  router.get('/:id', async (req, res) => {
-    res.json(await service.getChangeRequest(deps, req.ability, id(req.params.id)))
-  })
+  router.get('/:id', route.read(service.getChangeRequest))
   router.get('/:id/pdf', async (req, res) => {
     const cr = await service.getChangeRequest(deps, req.ability, id(req.params.id))
     const pdf = await changeRequestPdf(cr, deps.clock.now())
@@ -54,46 +54,13 @@ export function createChangeRequestsRouter(deps: AppDeps) {
     const { version, ...patch } = parsePatch(ChangeRequestPatchSchema, req.body ?? {})
     res.json(await service.updateChangeRequest(deps, req.ability, req.audit, id(req.params.id), patch, version))
   })
-  router.post('/:id/submission', async (req, res) => {
-    res.json(await service.submitChangeRequest(deps, req.ability, req.audit, id(req.params.id)))
-  })
-  router.post('/:id/withdrawal', async (req, res) => {
-    res.json(await service.withdrawChangeRequest(deps, req.ability, req.audit, id(req.params.id)))
-  })
-  router.post('/:id/approvals', async (req, res) => {
-    const b = SignInputSchema.parse(req.body)
-    res.json(await service.approveChangeRequest(deps, req.ability, req.audit, id(req.params.id), b))
-  })
-  router.post('/:id/reviews', async (req, res) => {
-    const b = ReviewInputSchema.parse(req.body)
-    res.json(await service.reviewChangeRequest(deps, req.ability, req.audit, id(req.params.id), b))
-  })
-  router.post('/:id/rejections', async (req, res) => {
-    const b = RejectInputSchema.parse(req.body)
-    res.json(await service.rejectChangeRequest(deps, req.ability, req.audit, id(req.params.id), b))
-  })
-  router.post('/:id/implementations', async (req, res) => {
-    res.json(
-      await service.implementChangeRequest(
-        deps,
-        req.ability,
-        req.audit,
-        id(req.params.id),
-        ImplementInputSchema.parse(req.body),
-      ),
-    )
-  })
-  router.post('/:id/read-back-checks', async (req, res) => {
-    res.json(
-      await service.checkItemReadBack(
-        deps,
-        req.ability,
-        req.audit,
-        id(req.params.id),
-        ReadBackCheckInputSchema.parse(req.body),
-      ),
-    )
-  })
+  router.post('/:id/submission', route.act(service.submitChangeRequest))
+  router.post('/:id/withdrawal', route.act(service.withdrawChangeRequest))
+  router.post('/:id/approvals', route.act(SignInputSchema, service.approveChangeRequest))
+  router.post('/:id/reviews', route.act(ReviewInputSchema, service.reviewChangeRequest))
+  router.post('/:id/rejections', route.act(RejectInputSchema, service.rejectChangeRequest))
+  router.post('/:id/implementations', route.act(ImplementInputSchema, service.implementChangeRequest))
+  router.post('/:id/read-back-checks', route.act(ReadBackCheckInputSchema, service.checkItemReadBack))
   router.post('/:id/closure', async (req, res) => {
     const b = ClosureInputSchema.parse(req.body)
     res.json(await service.closeChangeRequest(deps, req.ability, req.audit, id(req.params.id), b.password, b.pssr))

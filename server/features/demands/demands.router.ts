@@ -13,6 +13,7 @@ import {
 import { scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { validationFailed } from '../../errors.ts'
+import { routeHandlers } from '../../route-handlers.ts'
 import * as service from './demands.service.ts'
 import { failureRates, proposeObservedLambdaDu } from './failure-rates.service.ts'
 
@@ -20,6 +21,8 @@ import { failureRates, proposeObservedLambdaDu } from './failure-rates.service.t
 export function createDemandsRouter(deps: AppDeps) {
   const router = Router()
   const id = (v: unknown) => IdSchema.parse(v)
+  const route = routeHandlers(deps)
+  const byLimit = routeHandlers(deps, (req) => id(req.params.limitId))
   router.get('/', async (req, res) => {
     const q = DemandListQuerySchema.parse(req.query)
     res.json(
@@ -58,46 +61,12 @@ export function createDemandsRouter(deps: AppDeps) {
         ),
       )
   })
-  router.put('/assumptions/:limitId', async (req, res) => {
-    res.json(
-      await service.setDemandAssumptions(
-        deps,
-        req.ability,
-        req.audit,
-        id(req.params.limitId),
-        DemandAssumptionsInputSchema.parse(req.body),
-      ),
-    )
-  })
+  router.put('/assumptions/:limitId', byLimit.act(DemandAssumptionsInputSchema, service.setDemandAssumptions))
   router.get('/:id', async (req, res) => {
     res.json(await service.getDemand(deps, req.ability, req.user!.id, id(req.params.id)))
   })
-  router.post('/', async (req, res) => {
-    res
-      .status(201)
-      .json(await service.recordDemand(deps, req.ability, req.audit, CreateDemandInputSchema.parse(req.body)))
-  })
-  router.post('/:id/classification', async (req, res) => {
-    res.json(
-      await service.classifyDemand(
-        deps,
-        req.ability,
-        req.audit,
-        id(req.params.id),
-        ClassifyDemandInputSchema.parse(req.body),
-      ),
-    )
-  })
-  router.post('/:id/credit', async (req, res) => {
-    res.json(
-      await service.creditDemand(
-        deps,
-        req.ability,
-        req.audit,
-        id(req.params.id),
-        CreditDemandInputSchema.parse(req.body),
-      ),
-    )
-  })
+  router.post('/', route.create(CreateDemandInputSchema, service.recordDemand))
+  router.post('/:id/classification', route.act(ClassifyDemandInputSchema, service.classifyDemand))
+  router.post('/:id/credit', route.act(CreditDemandInputSchema, service.creditDemand))
   return router
 }
