@@ -17,6 +17,7 @@ import type { AppDeps } from '../../deps.ts'
 import { onReadStandby } from '../../db/read-standby.ts'
 import { forbidden } from '../../errors.ts'
 import { renderPdf } from '../../pdf.ts'
+import { routeHandlers } from '../../route-handlers.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { bypassReview, RISK_CAUTION, riskErosion } from './bypass-review.service.ts'
 import * as service from './bypasses.service.ts'
@@ -40,58 +41,25 @@ function filters(user: CurrentUser | null, q: z.infer<typeof BypassFilterSchema>
 export function createBypassesRouter(deps: AppDeps) {
   const router = Router()
   const id = (v: unknown) => IdSchema.parse(v)
+  const route = routeHandlers(deps)
   router.get('/', async (req, res) => {
     const q = BypassListQuerySchema.parse(req.query)
     res.json(await service.listBypasses(deps, { ...filters(req.user, q), page: q.page, pageSize: q.pageSize }))
   })
-  router.get('/:id', async (req, res) => {
-    res.json(await service.getBypass(deps, req.ability, id(req.params.id)))
-  })
-  router.post('/', async (req, res) => {
-    res
-      .status(201)
-      .json(await service.requestBypass(deps, req.ability, req.audit, CreateBypassInputSchema.parse(req.body)))
-  })
-  router.post('/:id/authorizations', async (req, res) => {
-    res.json(
-      await service.authorizeBypass(
-        deps,
-        req.ability,
-        req.audit,
-        id(req.params.id),
-        AuthorizeBypassInputSchema.parse(req.body),
-      ),
-    )
-  })
+  router.get('/:id', route.read(service.getBypass))
+  router.post('/', route.create(CreateBypassInputSchema, service.requestBypass))
+  router.post('/:id/authorizations', route.act(AuthorizeBypassInputSchema, service.authorizeBypass))
   router.post('/:id/rejections', async (req, res) => {
     const b = RejectBypassInputSchema.parse(req.body)
     res.json(await service.rejectBypass(deps, req.ability, req.audit, id(req.params.id), b.password, b.comment))
   })
-  router.post('/:id/activation', async (req, res) => {
-    res.json(
-      await service.activateBypass(
-        deps,
-        req.ability,
-        req.audit,
-        id(req.params.id),
-        ActivateBypassInputSchema.parse(req.body ?? {}),
-      ),
-    )
-  })
-  router.post('/:id/removal', async (req, res) => {
-    res.json(
-      await service.removeBypass(
-        deps,
-        req.ability,
-        req.audit,
-        id(req.params.id),
-        RemoveBypassInputSchema.parse(req.body),
-      ),
-    )
-  })
-  router.post('/:id/cancellation', async (req, res) => {
-    res.json(await service.cancelBypass(deps, req.ability, req.audit, id(req.params.id)))
-  })
+  // the activation's body is optional
+  router.post(
+    '/:id/activation',
+    route.act((b) => ActivateBypassInputSchema.parse(b ?? {}), service.activateBypass),
+  )
+  router.post('/:id/removal', route.act(RemoveBypassInputSchema, service.removeBypass))
+  router.post('/:id/cancellation', route.act(service.cancelBypass))
   return router
 }
 

@@ -15,6 +15,7 @@ import {
 } from '../../../shared/schemas/trip-tests.ts'
 import { authorize, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
+import { routeHandlers } from '../../route-handlers.ts'
 import { readAttachment, receiveAttachment, storeAttachment } from '../attachments/attachments.ts'
 import { tripTestCertificate } from './trip-tests.pdf.ts'
 import { runDigestForSite } from './trip-tests.jobs.ts'
@@ -24,6 +25,7 @@ import * as service from './trip-tests.service.ts'
 export function createTripTestsRouter(deps: AppDeps) {
   const router = Router()
   const id = (v: unknown) => IdSchema.parse(v)
+  const route = routeHandlers(deps)
   const listQuery = TripTestListQuerySchema
 
   router.get('/', async (req, res) => {
@@ -95,22 +97,8 @@ export function createTripTestsRouter(deps: AppDeps) {
   router.get('/:id', async (req, res) => {
     res.json(await service.getTripTest(deps, req.ability, id(req.params.id), deps.db, req.audit))
   })
-  router.post('/', async (req, res) => {
-    res
-      .status(201)
-      .json(await service.createTripTest(deps, req.ability, req.audit, TripTestInputSchema.parse(req.body)))
-  })
-  router.put('/:id', async (req, res) => {
-    res.json(
-      await service.updateTripTest(
-        deps,
-        req.ability,
-        req.audit,
-        id(req.params.id),
-        TripTestInputSchema.parse(req.body),
-      ),
-    )
-  })
+  router.post('/', route.create(TripTestInputSchema, service.createTripTest))
+  router.put('/:id', route.act(TripTestInputSchema, service.updateTripTest))
   router.post('/:id/signatures', async (req, res) => {
     const b = TripTestSignatureInputSchema.parse(req.body)
     res.json(
@@ -149,31 +137,13 @@ export function createTripTestsRouter(deps: AppDeps) {
 /** `/api/limits/:id/degradation`: the degraded state's history and the supervisor's signed measures. */
 export function createDegradationRouter(deps: AppDeps) {
   const router = Router({ mergeParams: true })
+  // the limit's id, of the path this router is mounted on
+  const route = routeHandlers(deps, (req) => IdParamsSchema.parse(req.params).id)
   router.get('/', async (req, res) => {
     res.json(await service.getDegradation(deps, req.ability, IdParamsSchema.parse(req.params).id, req.audit))
   })
-  router.post('/', async (req, res) => {
-    res.json(
-      await service.signDegradationMeasures(
-        deps,
-        req.ability,
-        req.audit,
-        IdParamsSchema.parse(req.params).id,
-        DegradationMeasuresInputSchema.parse(req.body),
-      ),
-    )
-  })
-  router.post('/deadline-approval', async (req, res) => {
-    res.json(
-      await service.approveRepairDeadline(
-        deps,
-        req.ability,
-        req.audit,
-        IdParamsSchema.parse(req.params).id,
-        DeadlineApprovalInputSchema.parse(req.body),
-      ),
-    )
-  })
+  router.post('/', route.act(DegradationMeasuresInputSchema, service.signDegradationMeasures))
+  router.post('/deadline-approval', route.act(DeadlineApprovalInputSchema, service.approveRepairDeadline))
   return router
 }
 
@@ -181,17 +151,14 @@ export function createDegradationRouter(deps: AppDeps) {
 export function createTestDeferralsRouter(deps: AppDeps) {
   const router = Router()
   const id = (v: unknown) => IdSchema.parse(v)
+  const route = routeHandlers(deps)
   router.get('/', async (req, res) => {
     const q = TestDeferralListQuerySchema.parse(req.query)
     res.json(
       await service.listDeferrals(deps, req.ability, req.audit, { ...q, siteIds: scopeSites(req.user, q.siteId) }),
     )
   })
-  router.post('/', async (req, res) => {
-    res
-      .status(201)
-      .json(await service.requestDeferral(deps, req.ability, req.audit, TestDeferralInputSchema.parse(req.body)))
-  })
+  router.post('/', route.create(TestDeferralInputSchema, service.requestDeferral))
   router.get('/:id', async (req, res) => {
     res.json(await service.getDeferral(deps, req.ability, req.audit, id(req.params.id)))
   })
