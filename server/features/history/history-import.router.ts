@@ -1,7 +1,7 @@
 import { Router } from 'express'
-import { IdSchema } from '../../../shared/schemas/common.ts'
 import { HistoryUploadFieldsSchema } from '../../../shared/schemas/history-import.ts'
 import type { AppDeps } from '../../deps.ts'
+import { routeHandlers } from '../../route-handlers.ts'
 import { mayImport, receiveFile, uploadedFile } from '../register/imports.router.ts'
 import * as history from './history-import.service.ts'
 
@@ -19,9 +19,7 @@ export function createHistoryImportsRouter(deps: AppDeps) {
     res.status(201).json(await history.checkHistoryImport(deps, req.ability, req.audit, req.user!.id, file, fields))
   })
 
-  router.post('/:id/commit', mayImport, async (req, res) => {
-    res.json(await history.commitHistoryImport(deps, req.ability, req.audit, IdSchema.parse(req.params.id)))
-  })
+  router.post('/:id/commit', mayImport, routeHandlers(deps).act(history.commitHistoryImport))
 
   return router
 }

@@ -1,10 +1,10 @@
 import { type Request, type RequestHandler, Router } from 'express'
 import multer from 'multer'
 import { ErrorCode } from '../../../shared/errors.ts'
-import { IdSchema } from '../../../shared/schemas/common.ts'
 import { IMPORT_MAX_BYTES, ImportUploadFieldsSchema } from '../../../shared/schemas/imports.ts'
 import { authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
+import { routeHandlers } from '../../route-handlers.ts'
 import { AppError, validationFailed } from '../../errors.ts'
 import * as imports from './imports.service.ts'
 
@@ -70,9 +70,7 @@ export function createImportsRouter(deps: AppDeps) {
     res.json({ mapping: await imports.getRememberedMapping(deps, req.user!.id) })
   })
 
-  router.post('/:id/commit', mayImport, async (req, res) => {
-    res.json(await imports.commitImport(deps, req.ability, req.audit, IdSchema.parse(req.params.id)))
-  })
+  router.post('/:id/commit', mayImport, routeHandlers(deps).act(imports.commitImport))
 
   return router
 }

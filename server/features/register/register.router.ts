@@ -19,6 +19,7 @@ import {
 } from '../../../shared/schemas/register.ts'
 import { scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
+import { patchOf, routeHandlers } from '../../route-handlers.ts'
 import { onReadStandby } from '../../db/read-standby.ts'
 import * as instruments from './instruments.service.ts'
 import * as limits from './limits.service.ts'
@@ -28,36 +29,22 @@ import * as sheets from './response-sheets.service.ts'
 
 export function createProcessesRouter(deps: AppDeps) {
   const router = Router()
+  const route = routeHandlers(deps)
   router.get('/', async (req, res) => {
     const q = ProcessListQuerySchema.parse(req.query)
     res.json(
       await processes.listProcesses(deps, req.ability, { siteIds: scopeSites(req.user, q.siteId), areaIds: q.areaId }),
     )
   })
-  router.get('/:id', async (req, res) => {
-    res.json(await processes.getProcess(deps, req.ability, IdSchema.parse(req.params.id)))
-  })
-  router.post('/', async (req, res) => {
-    res
-      .status(201)
-      .json(await processes.createProcess(deps, req.ability, req.audit, CreateProcessInputSchema.parse(req.body)))
-  })
-  router.patch('/:id', async (req, res) => {
-    res.json(
-      await processes.updateProcess(
-        deps,
-        req.ability,
-        req.audit,
-        IdSchema.parse(req.params.id),
-        parsePatch(UpdateProcessInputSchema, req.body),
-      ),
-    )
-  })
+  router.get('/:id', route.read(processes.getProcess))
+  router.post('/', route.create(CreateProcessInputSchema, processes.createProcess))
+  router.patch('/:id', route.act(patchOf(UpdateProcessInputSchema), processes.updateProcess))
   return router
 }
 
 export function createInstrumentsRouter(deps: AppDeps) {
   const router = Router()
+  const route = routeHandlers(deps)
   router.get('/', async (req, res) => {
     const q = InstrumentListQuerySchema.parse(req.query)
     res.json(
@@ -68,27 +55,9 @@ export function createInstrumentsRouter(deps: AppDeps) {
       }),
     )
   })
-  router.get('/:id', async (req, res) => {
-    res.json(await instruments.getInstrument(deps, req.ability, IdSchema.parse(req.params.id)))
-  })
-  router.post('/', async (req, res) => {
-    res
-      .status(201)
-      .json(
-        await instruments.createInstrument(deps, req.ability, req.audit, CreateInstrumentInputSchema.parse(req.body)),
-      )
-  })
-  router.patch('/:id', async (req, res) => {
-    res.json(
-      await instruments.updateInstrument(
-        deps,
-        req.ability,
-        req.audit,
-        IdSchema.parse(req.params.id),
-        parsePatch(UpdateInstrumentInputSchema, req.body),
-      ),
-    )
-  })
+  router.get('/:id', route.read(instruments.getInstrument))
+  router.post('/', route.create(CreateInstrumentInputSchema, instruments.createInstrument))
+  router.patch('/:id', route.act(patchOf(UpdateInstrumentInputSchema), instruments.updateInstrument))
   return router
 }
 
@@ -110,6 +79,7 @@ function listQueryOf(req: Request): LimitListQuery {
 
 export function createLimitsRouter(deps: AppDeps) {
   const router = Router()
+  const route = routeHandlers(deps)
   router.get('/', async (req, res) => {
     const query = listQueryOf(req)
     const page = await onReadStandby(deps, (d) => register.listRegister(d, req.user, query))
@@ -123,23 +93,17 @@ export function createLimitsRouter(deps: AppDeps) {
     res.setHeader('Content-Disposition', `attachment; filename="${file.fileName}"`)
     res.send(file.body)
   })
-  router.get('/:id', async (req, res) => {
-    res.json(await limits.getLimit(deps, req.ability, IdSchema.parse(req.params.id)))
-  })
+  router.get('/:id', route.read(limits.getLimit))
   router.get('/:id/response-sheet', async (req, res) => {
     const { pdf, tag } = await sheets.responseSheet(deps, req.ability, IdSchema.parse(req.params.id))
     sendPdf(res, pdf, `alarm-response-sheet-${tag}.pdf`)
   })
-  router.get('/:id/revisions', async (req, res) => {
-    res.json(await limits.listRevisions(deps, req.ability, IdSchema.parse(req.params.id)))
-  })
+  router.get('/:id/revisions', route.read(limits.listRevisions))
   router.get('/:id/test-signal', async (req, res) => {
     const q = TestSignalQuerySchema.parse(req.query)
     res.json(await register.testSignalFor(deps, req.ability, IdSchema.parse(req.params.id), q))
   })
-  router.post('/', async (req, res) => {
-    res.status(201).json(await limits.createLimit(deps, req.ability, req.audit, CreateLimitInputSchema.parse(req.body)))
-  })
+  router.post('/', route.create(CreateLimitInputSchema, limits.createLimit))
   router.patch('/:id', async (req, res) => {
     const { expectedRevision } = ExpectedRevisionSchema.parse({ expectedRevision: req.body?.expectedRevision })
     const { expectedRevision: _e, ...patch } = req.body ?? {}
