@@ -23,123 +23,94 @@ const PEOPLE: Record<string, { id: number; roles: Role[] }> = {
 const actor = actorsOf(PEOPLE, ['safety_engineer', 'approver'])
 const record = changeRecord
 
+/** The one modify item of changeRecord, put on the device at `at`. */
+const onDevice = (at: string) => [{ id: 11, kind: 'modify' as const, implementedAt: at, stale: false }]
+/** Approved on 31 May by the approver (person 2), the before-implementation checklist done. */
+const APPROVED: Partial<ChangeRuleRecord> = {
+  status: 'approved',
+  approvedAt: '2026-05-31T10:00:00Z',
+  signatures: [sig(2, 'approved')],
+  checklist: checklist('before'),
+}
+/** Approved on 31 May by person 2, put on the device by the technician (person 3) an hour later. */
+const IMPLEMENTED: Partial<ChangeRuleRecord> = {
+  status: 'implemented',
+  approvedAt: '2026-05-31T10:00:00Z',
+  signatures: [sig(2, 'approved'), sig(3, 'implemented')],
+  items: onDevice('2026-05-31T11:00:00Z'),
+}
+/** An emergency change put on the device by `implementer` before anyone approved it, the checklist all done. */
+const emergencyImplementedBy = (implementer: number) =>
+  record({
+    type: 'emergency',
+    status: 'implemented',
+    checklist: checklist('all'),
+    signatures: [sig(implementer, 'implemented')],
+    items: onDevice('2026-05-31T11:00:00Z'),
+  })
+/** A temporary change approved on 20 May, on the device from 21 May, whose end (31 May) has passed. */
+const TEMPORARY_PAST_END: Partial<ChangeRuleRecord> = {
+  type: 'temporary',
+  approvedAt: '2026-05-20T10:00:00Z',
+  expiresAt: '2026-05-31T10:00:00Z',
+  items: onDevice('2026-05-21T11:00:00Z'),
+}
+
 const STATES: Record<string, ChangeRuleRecord> = {
   draft: record({}),
   submitted: record({ status: 'submitted', checklist: checklist('before') }),
   submittedSigned: record({ status: 'submitted', signatures: [sig(12, 'approved')] }),
   editedByApprover: record({ status: 'submitted', editorIds: [2] }),
-  approvedNotReady: record({
-    status: 'approved',
-    approvedAt: '2026-05-31T10:00:00Z',
-    signatures: [sig(2, 'approved')],
-  }),
-  approvedReady: record({
-    status: 'approved',
-    approvedAt: '2026-05-31T10:00:00Z',
-    approvalExpiresAt: '2026-06-30T10:00:00Z',
-    signatures: [sig(2, 'approved')],
-    checklist: checklist('before'),
-  }),
+  approvedNotReady: record({ ...APPROVED, checklist: checklist('none') }),
+  approvedReady: record({ ...APPROVED, approvalExpiresAt: '2026-06-30T10:00:00Z' }),
   approvedExpired: record({
-    status: 'approved',
+    ...APPROVED,
     approvedAt: '2026-04-01T10:00:00Z',
     approvalExpiresAt: '2026-05-01T10:00:00Z',
-    signatures: [sig(2, 'approved')],
-    checklist: checklist('before'),
   }),
-  approvedByApproverTech: record({
-    status: 'approved',
-    approvedAt: '2026-05-31T10:00:00Z',
-    signatures: [sig(10, 'approved')],
-    checklist: checklist('before'),
-  }),
+  approvedByApproverTech: record({ ...APPROVED, signatures: [sig(10, 'approved')] }),
   baselineReady: record({
-    status: 'approved',
-    approvedAt: '2026-05-31T10:00:00Z',
-    signatures: [sig(2, 'approved')],
-    checklist: checklist('before'),
+    ...APPROVED,
     items: [
       { id: 11, kind: 'create', implementedAt: null, stale: false },
       { id: 12, kind: 'create', implementedAt: null, stale: false },
     ],
   }),
   emergencySubmitted: record({ type: 'emergency', status: 'submitted', checklist: checklist('before') }),
-  emergencyImplementedBySupervisor: record({
-    type: 'emergency',
-    status: 'implemented',
-    checklist: checklist('all'),
-    signatures: [sig(4, 'implemented')],
-    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-31T11:00:00Z', stale: false }],
-  }),
-  emergencyImplementedByApproverTech: record({
-    type: 'emergency',
-    status: 'implemented',
-    checklist: checklist('all'),
-    signatures: [sig(10, 'implemented')],
-    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-31T11:00:00Z', stale: false }],
-  }),
-  implementedOpenCloseout: record({
-    status: 'implemented',
-    approvedAt: '2026-05-31T10:00:00Z',
-    checklist: checklist('before'),
-    signatures: [sig(2, 'approved'), sig(3, 'implemented')],
-    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-31T11:00:00Z', stale: false }],
-  }),
-  implementedReady: record({
-    status: 'implemented',
-    approvedAt: '2026-05-31T10:00:00Z',
-    checklist: checklist('all'),
-    signatures: [sig(2, 'approved'), sig(3, 'implemented')],
-    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-31T11:00:00Z', stale: false }],
-  }),
+  emergencyImplementedBySupervisor: emergencyImplementedBy(4),
+  emergencyImplementedByApproverTech: emergencyImplementedBy(10),
+  implementedOpenCloseout: record({ ...IMPLEMENTED, checklist: checklist('before') }),
+  implementedReady: record({ ...IMPLEMENTED, checklist: checklist('all') }),
   closed: record({ status: 'closed', approvedAt: '2026-05-31T10:00:00Z', checklist: checklist('all') }),
   // temporary changes (docs/change-requests.md#expired-temporary-changes); NOW is 2026-06-01T10:00Z
   tempOnDevice: record({
+    ...IMPLEMENTED,
     type: 'temporary',
-    status: 'implemented',
-    approvedAt: '2026-05-31T10:00:00Z',
     expiresAt: '2026-06-02T10:00:00Z',
     checklist: checklist('before'),
-    signatures: [sig(2, 'approved'), sig(3, 'implemented')],
-    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-31T11:00:00Z', stale: false }],
   }),
-  tempExpired: record({
-    type: 'temporary',
-    status: 'closed',
-    approvedAt: '2026-05-20T10:00:00Z',
-    expiresAt: '2026-05-31T10:00:00Z',
-    checklist: checklist('all'),
-    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-21T11:00:00Z', stale: false }],
-  }),
+  tempExpired: record({ ...TEMPORARY_PAST_END, status: 'closed', checklist: checklist('all') }),
   tempReversalUnderWay: record({
-    type: 'temporary',
+    ...TEMPORARY_PAST_END,
     status: 'implemented',
-    approvedAt: '2026-05-20T10:00:00Z',
-    expiresAt: '2026-05-31T10:00:00Z',
     checklist: checklist('before'),
     reversals: [
       { id: 40, status: 'rejected' },
       { id: 41, status: 'submitted' },
     ],
-    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-21T11:00:00Z', stale: false }],
   }),
   tempReverted: record({
-    type: 'temporary',
+    ...TEMPORARY_PAST_END,
     status: 'implemented',
-    approvedAt: '2026-05-20T10:00:00Z',
-    expiresAt: '2026-05-31T10:00:00Z',
     checklist: checklist('before'),
     reversals: [{ id: 41, status: 'implemented' }],
-    items: [{ id: 11, kind: 'modify', implementedAt: '2026-05-21T11:00:00Z', stale: false }],
   }),
   tempApprovedPastEnd: record({
+    ...APPROVED,
     type: 'temporary',
-    status: 'approved',
     approvedAt: '2026-05-20T10:00:00Z',
     approvalExpiresAt: '2026-06-19T10:00:00Z',
     expiresAt: '2026-05-31T10:00:00Z',
-    signatures: [sig(2, 'approved')],
-    checklist: checklist('before'),
   }),
   withdrawn: record({ status: 'withdrawn' }),
   rejected: record({ status: 'rejected', signatures: [sig(2, 'rejected')] }),
@@ -251,51 +222,43 @@ describe('change-request rule book: the answers and their HTTP status', () => {
   const verdict = (state: keyof typeof STATES, who: keyof typeof PEOPLE, action: ChangeAction) =>
     changeRequestRules(STATES[state], actor(who), NOW)[action]
 
-  it('separation of duties answers 403 with the reason', () => {
-    expect(verdict('submitted', 'engineer', 'approve')).toMatchObject({ status: 403 })
+  /** [state, who, action, the status of the refusal, what its reason names (where checked)] */
+  type Refusal = [
+    state: keyof typeof STATES,
+    who: keyof typeof PEOPLE,
+    action: ChangeAction,
+    status: number,
+    reason?: string,
+  ]
+  const refused = ([state, who, action, status, reason]: Refusal) =>
+    expect(verdict(state, who, action)).toMatchObject(
+      reason === undefined ? { status } : { status, reason: expect.stringContaining(reason) },
+    )
+
+  it.each<Refusal>([
+    ['submitted', 'engineer', 'approve', 403],
+    ['editedByApprover', 'approver', 'approve', 403, 'edited'],
+    ['emergencyImplementedByApproverTech', 'approverTech', 'approve', 403, 'implemented'],
+    ['approvedByApproverTech', 'approverTech', 'implement', 403, 'approved'],
+    ['emergencySubmitted', 'technician', 'implement', 403, 'shift supervisor'],
+  ])('separation of duties: %s, %s may not %s (%i with the reason)', (...refusal) => refused(refusal))
+
+  it('separation of duties: the approver may approve, but not what they proposed (403)', () => {
     const own = changeRequestRules(STATES.submitted, actor('approver'), NOW)
     expect(own.approve.allowed).toBe(true)
     const proposed = changeRequestRules({ ...STATES.submitted, proposerId: 2 }, actor('approver'), NOW)
     expect(proposed.approve).toMatchObject({ status: 403, reason: expect.stringContaining('proposed') })
-    expect(verdict('editedByApprover', 'approver', 'approve')).toMatchObject({
-      status: 403,
-      reason: expect.stringContaining('edited'),
-    })
-    expect(verdict('emergencyImplementedByApproverTech', 'approverTech', 'approve')).toMatchObject({
-      status: 403,
-      reason: expect.stringContaining('implemented'),
-    })
-    expect(verdict('approvedByApproverTech', 'approverTech', 'implement')).toMatchObject({
-      status: 403,
-      reason: expect.stringContaining('approved'),
-    })
-    expect(verdict('emergencySubmitted', 'technician', 'implement')).toMatchObject({
-      status: 403,
-      reason: expect.stringContaining('shift supervisor'),
-    })
   })
 
-  it('the state and the clock answer 409; the close-out checklist 422', () => {
-    expect(verdict('approvedNotReady', 'technician', 'implement')).toMatchObject({
-      status: 409,
-      reason: expect.stringContaining('Operating procedures updated'),
-    })
-    expect(verdict('approvedExpired', 'technician', 'implement')).toMatchObject({
-      status: 409,
-      reason: expect.stringContaining('expired'),
-    })
-    expect(verdict('submittedSigned', 'engineer', 'attach')).toMatchObject({ status: 409 })
-    expect(verdict('closed', 'engineer', 'attach')).toMatchObject({ status: 409 })
-    expect(verdict('implementedOpenCloseout', 'engineer', 'close')).toMatchObject({
-      status: 422,
-      reason: expect.stringContaining('Drawings'),
-    })
-    expect(verdict('emergencyImplementedBySupervisor', 'engineer', 'close')).toMatchObject({
-      status: 409,
-      reason: expect.stringContaining('not approved'),
-    })
-    expect(verdict('approvedReady', 'technician', 'implementAll')).toMatchObject({ status: 409 })
-  })
+  it.each<Refusal>([
+    ['approvedNotReady', 'technician', 'implement', 409, 'Operating procedures updated'],
+    ['approvedExpired', 'technician', 'implement', 409, 'expired'],
+    ['submittedSigned', 'engineer', 'attach', 409],
+    ['closed', 'engineer', 'attach', 409],
+    ['implementedOpenCloseout', 'engineer', 'close', 422, 'Drawings'],
+    ['emergencyImplementedBySupervisor', 'engineer', 'close', 409, 'not approved'],
+    ['approvedReady', 'technician', 'implementAll', 409],
+  ])('the state and the clock answer 409, the close-out checklist 422: %s, %s, %s', (...refusal) => refused(refusal))
 
   it('one item: implemented already or stale is refused, the others follow the request', () => {
     const cr = STATES.approvedReady
