@@ -79,6 +79,14 @@ async function requestAndAuthorize(
   return b.id as number
 }
 
+/** Bypass `id` put in at `start` and taken out at `end`, both by `who` with the clock moved to each. */
+async function inAndOut(who: Who, id: number, start: string, end: string) {
+  await at(start, who)
+  await as[who].post(`/api/bypasses/${id}/activation`, ACTIVATE).expect(200)
+  await at(end, who)
+  await as[who].post(`/api/bypasses/${id}/removal`, clear).expect(200)
+}
+
 /*
  * The history (UTC):
  * b1  A  operator / supervisor   31 May 20:00 → 1 Jun 03:59 (planned 04:00)  across the month boundary: 4 h in May, 3.98 h in June
@@ -102,10 +110,7 @@ beforeAll(async () => {
 
   await at('2026-05-31T19:00:00Z', 'operator', 'supervisor')
   ids.b1 = await requestAndAuthorize('operator', 'supervisor', A.id, '2026-05-31T20:00:00Z', '2026-06-01T04:00:00Z')
-  await at('2026-05-31T20:00:00Z', 'operator')
-  await as.operator.post(`/api/bypasses/${ids.b1}/activation`, ACTIVATE).expect(200)
-  await at('2026-06-01T03:59:00Z', 'operator')
-  await as.operator.post(`/api/bypasses/${ids.b1}/removal`, clear).expect(200)
+  await inAndOut('operator', ids.b1, '2026-05-31T20:00:00Z', '2026-06-01T03:59:00Z')
 
   await at('2026-06-02T07:30:00Z', 'technician', 'approver')
   ids.b2 = await requestAndAuthorize(
@@ -116,17 +121,11 @@ beforeAll(async () => {
     '2026-06-02T10:00:00Z',
     false,
   )
-  await at('2026-06-02T08:00:00Z', 'technician')
-  await as.technician.post(`/api/bypasses/${ids.b2}/activation`, ACTIVATE).expect(200)
-  await at('2026-06-02T11:00:00Z', 'technician')
-  await as.technician.post(`/api/bypasses/${ids.b2}/removal`, clear).expect(200)
+  await inAndOut('technician', ids.b2, '2026-06-02T08:00:00Z', '2026-06-02T11:00:00Z')
 
   await at('2026-06-03T05:30:00Z', 'engineer', 'manager')
   ids.b3 = await requestAndAuthorize('engineer', 'manager', A.id, '2026-06-03T06:00:00Z', '2026-06-03T20:00:00Z')
-  await at('2026-06-03T06:00:00Z', 'supervisor')
-  await as.supervisor.post(`/api/bypasses/${ids.b3}/activation`, ACTIVATE).expect(200)
-  await at('2026-06-03T19:59:00Z', 'supervisor')
-  await as.supervisor.post(`/api/bypasses/${ids.b3}/removal`, clear).expect(200)
+  await inAndOut('supervisor', ids.b3, '2026-06-03T06:00:00Z', '2026-06-03T19:59:00Z')
 
   // a failed trip test (as found 800 °C against a 780 °C trip, tolerance ±6 °C: out, dangerous side) degrades F
   await at('2026-06-04T10:00:00Z', 'technician')
@@ -148,10 +147,7 @@ beforeAll(async () => {
 
   await at('2026-06-04T11:30:00Z', 'technician', 'approver2')
   ids.b5 = await requestAndAuthorize('technician', 'approver2', D.id, '2026-06-04T12:00:00Z', '2026-06-04T15:00:00Z')
-  await at('2026-06-04T12:00:00Z', 'technician')
-  await as.technician.post(`/api/bypasses/${ids.b5}/activation`, ACTIVATE).expect(200)
-  await at('2026-06-04T14:00:00Z', 'technician')
-  await as.technician.post(`/api/bypasses/${ids.b5}/removal`, clear).expect(200)
+  await inAndOut('technician', ids.b5, '2026-06-04T12:00:00Z', '2026-06-04T14:00:00Z')
 
   await at('2026-06-05T07:30:00Z', 'operator', 'supervisor')
   ids.b4 = await requestAndAuthorize('operator', 'supervisor', A.id, '2026-06-05T08:00:00Z', '2026-06-05T10:00:00Z')

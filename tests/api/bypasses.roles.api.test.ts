@@ -2,7 +2,7 @@ import type { Response } from 'supertest'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, DEMO_ACCOUNTS, useSignedIn } from './helpers/agent.ts'
-import { actionEvents, buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
+import { auditActions, actionEvents, buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -229,16 +229,12 @@ describe('bypass: who may do what (docs/bypasses.md#rules)', () => {
       'Hedda Marlowe',
     )
 
-    const actions = (
-      await ctx.db
-        .selectFrom('audit_event')
-        .select('action')
-        .where('entity_type', '=', 'Bypass')
-        .where('entity_id', '=', String(ids.op))
-        .orderBy('id')
-        .execute()
-    ).map((e) => e.action)
-    expect(actions).toEqual(['bypass.request', 'bypass.authorize', 'bypass.activate', 'bypass.remove'])
+    expect(await auditActions(ctx.db, 'Bypass', ids.op)).toEqual([
+      'bypass.request',
+      'bypass.authorize',
+      'bypass.activate',
+      'bypass.remove',
+    ])
   })
 
   it('cancellation: the requester or an authorizer, while requested or authorized; anyone else gets 403', async () => {

@@ -3,7 +3,13 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import type { ApiAgent } from './helpers/agent.ts'
 import { signedIn } from './helpers/agent.ts'
-import { approveChange, buildActiveHeaterTrip, implementChange, submitChange } from './helpers/factories.ts'
+import {
+  auditActions,
+  approveChange,
+  buildActiveHeaterTrip,
+  implementChange,
+  submitChange,
+} from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // Change proposals (docs/change-requests.md#change-proposals): operators, technicians and shift supervisors raise
@@ -147,14 +153,7 @@ describe('change proposals', () => {
       .where('subject', '=', `Change proposal #${p3.id} declined: Lower the trip`)
       .execute()
     expect(mail.map((m) => m.to_addr)).toEqual(['operator@fernhollow.example'])
-    const events = await ctx.db
-      .selectFrom('audit_event')
-      .select('action')
-      .where('entity_type', '=', 'ChangeProposal')
-      .where('entity_id', 'in', [String(p1.id), String(p3.id)])
-      .orderBy('id')
-      .execute()
-    expect(events.map((e) => e.action)).toEqual([
+    expect(await auditActions(ctx.db, 'ChangeProposal', p1.id, p3.id)).toEqual([
       'change_proposal.create',
       'change_proposal.take_up',
       'change_proposal.create',

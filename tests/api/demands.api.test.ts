@@ -1,7 +1,13 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { signedIn } from './helpers/agent.ts'
-import { approveChange, buildActiveHeaterTrip, implementChange, submitChange } from './helpers/factories.ts'
+import {
+  auditActions,
+  approveChange,
+  buildActiveHeaterTrip,
+  implementChange,
+  submitChange,
+} from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -152,15 +158,10 @@ describe('demand and trip log', () => {
       .where('entity_id', '=', demand.id)
       .execute()
     expect(signatures).toHaveLength(1)
-    const audit = await ctx.db
-      .selectFrom('audit_event')
-      .select('action')
-      .where('entity_type', '=', 'Demand')
-      .orderBy('id')
-      .execute()
+    const audit = await auditActions(ctx.db, 'Demand')
     // the refused signature is on record too (its own audit action), between classification and credit
     expect(audit).toHaveLength(4)
-    expect(audit.map((a) => a.action).filter((a) => a.startsWith('demand.'))).toEqual([
+    expect(audit.filter((a) => a.startsWith('demand.'))).toEqual([
       'demand.record',
       'demand.classify',
       'demand.credit_as_test',

@@ -38,6 +38,13 @@ export async function actionEvents(db: Db): Promise<string[]> {
   return rows.map((r) => r.action)
 }
 
+/** The audit actions on the records of one kind (`Bypass`, `ChangeRequest`…), or on those of `ids` only, oldest first. */
+export async function auditActions(db: Db, entityType: string, ...ids: number[]): Promise<string[]> {
+  let query = db.selectFrom('audit_event').select('action').where('entity_type', '=', entityType)
+  if (ids.length) query = query.where('entity_id', 'in', ids.map(String))
+  return (await query.orderBy('id').execute()).map((r) => r.action)
+}
+
 /**
  * The body of a type K thermocouple into a limit controller: range 0–1000 °C, normal 300–650 °C, no design limits,
  * upscale burnout; `over` changes any field.
