@@ -4,7 +4,14 @@ import { createApp } from '../../server/app.ts'
 import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { crewOf, signedIn } from './helpers/agent.ts'
-import { auditActions, buildHeaterTrip, ACTIVATE, countActionEvents, countRows } from './helpers/factories.ts'
+import {
+  draftChange,
+  auditActions,
+  buildHeaterTrip,
+  ACTIVATE,
+  countActionEvents,
+  countRows,
+} from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -31,17 +38,13 @@ async function limitWithMaxBypass(maxBypassHours: number, siteCode = 'FHR') {
 /** An approved temporary change request of the site (one create item on a fresh proposed limit). */
 async function approvedChange(siteCode: string, type: 'temporary' | 'permanent', approve = true) {
   const { limit } = await buildHeaterTrip(as.engineer, { siteCode })
-  const cr = (
-    await as.engineer
-      .post('/api/change-requests', {
-        siteId: limit.siteId,
-        type,
-        title: `${type} change for a long bypass`,
-        expiresAt: type === 'temporary' ? new Date(ctx.clock.now().getTime() + 30 * 24 * HOUR).toISOString() : null,
-        items: [{ kind: 'create', limitId: limit.id }],
-      })
-      .expect(201)
-  ).body
+  const cr = await draftChange(as.engineer, {
+    siteId: limit.siteId,
+    type,
+    title: `${type} change for a long bypass`,
+    expiresAt: type === 'temporary' ? new Date(ctx.clock.now().getTime() + 30 * 24 * HOUR).toISOString() : null,
+    items: [{ kind: 'create', limitId: limit.id }],
+  })
   await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)
   if (approve)
     expect(

@@ -6,6 +6,7 @@ import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import {
+  draftChange,
   heaterAlarmBody,
   heaterThermocouple,
   heaterTripBody,
@@ -147,16 +148,11 @@ describe('bypass request: bad input is refused with a clear message and nothing 
     expect(e1).toMatchObject({ code: 'INVALID_STATE', message: expect.stringContaining('proposed') })
 
     const retiring = await inService()
-    const cr = (
-      await as.engineer
-        .post('/api/change-requests', {
-          siteId: retiring.limit.siteId,
-          type: 'permanent',
-          title: 'Retire heater trip',
-          items: [{ kind: 'retire', limitId: retiring.limit.id }],
-        })
-        .expect(201)
-    ).body
+    const cr = await draftChange(as.engineer, {
+      siteId: retiring.limit.siteId,
+      title: 'Retire heater trip',
+      items: [{ kind: 'retire', limitId: retiring.limit.id }],
+    })
     await readyToImplement(as.engineer, cr.id)
     await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)
     const approved = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200))

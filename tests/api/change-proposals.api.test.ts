@@ -4,6 +4,7 @@ import { createApp } from '../../server/app.ts'
 import type { ApiAgent } from './helpers/agent.ts'
 import { signedIn } from './helpers/agent.ts'
 import {
+  draftChange,
   auditActions,
   approveChange,
   buildActiveHeaterTrip,
@@ -105,17 +106,12 @@ describe('change proposals', () => {
     await as.approver.post(`/api/change-proposals/${p1.id}/take-up`, { changeRequestId: 1 }).expect(403)
 
     // developed into a draft request created from it: linked in the same step
-    const cr = (
-      await as.engineer
-        .post('/api/change-requests', {
-          siteId: site.id,
-          type: 'permanent',
-          title: 'Lower the trip to 770',
-          proposalId: p1.id,
-          items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 770 } }],
-        })
-        .expect(201)
-    ).body
+    const cr = await draftChange(as.engineer, {
+      siteId: site.id,
+      title: 'Lower the trip to 770',
+      proposalId: p1.id,
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 770 } }],
+    })
     const taken = (await as.operator.get(`/api/change-proposals/${p1.id}`).expect(200)).body
     expect(taken).toMatchObject({ status: 'taken_up', changeRequestId: cr.id, decidedBy: expect.any(String) })
     // once

@@ -2,7 +2,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { MAX_ATTACHMENT_BYTES } from '../../server/features/attachments/attachments.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip, rowCounts } from './helpers/factories.ts'
+import { draftChange, buildHeaterTrip, rowCounts } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -20,15 +20,12 @@ beforeAll(async () => {
   eng = await signedIn(createApp(ctx), 'engineer')
   const { site, limit } = await buildHeaterTrip(eng)
   crId = (
-    await eng
-      .post('/api/change-requests', {
-        siteId: site.id,
-        type: 'permanent',
-        title: 'With attachments',
-        items: [{ kind: 'create', limitId: limit.id }],
-      })
-      .expect(201)
-  ).body.id
+    await draftChange(eng, {
+      siteId: site.id,
+      title: 'With attachments',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
+  ).id
 })
 
 const upload = (file: Buffer, name: string) =>

@@ -6,6 +6,7 @@ import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import type { Role } from '../../shared/schemas/users.ts'
 import { ApiAgent, signedIn, signedInAs, newAccount } from './helpers/agent.ts'
 import {
+  draftChange,
   approveChange,
   buildActiveHeaterTrip,
   rowCounts,
@@ -161,16 +162,11 @@ describe('one person does not approve and implement the same change (common prac
 describe('order of management of change (OSHA 1910.119(l)(3)-(4) and (i))', () => {
   it('refuses implementation until the before-implementation group is done or not applicable', async () => {
     const { site, limit } = await buildActiveHeaterTrip(crew())
-    const created = (
-      await eng
-        .post('/api/change-requests', {
-          siteId: site.id,
-          type: 'permanent',
-          title: 'Alarm-free trip change',
-          items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 775 } }],
-        })
-        .expect(201)
-    ).body
+    const created = await draftChange(eng, {
+      siteId: site.id,
+      title: 'Alarm-free trip change',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 775 } }],
+    })
     expect(created.checklist.map((c: { item: string; group: string }) => [c.item, c.group])).toEqual(
       IMPACT_CHECKLIST.map((c) => [c.item, c.group]),
     )

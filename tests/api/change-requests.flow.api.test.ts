@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import { signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip, readyToImplement } from './helpers/factories.ts'
+import { draftChange, buildHeaterTrip, readyToImplement } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -17,17 +17,12 @@ describe('change request: propose, approve, implement, close', () => {
     const { site, limit } = await buildHeaterTrip(eng)
 
     // 1. baseline: put the proposed limit in service
-    const cr1 = (
-      await eng
-        .post('/api/change-requests', {
-          siteId: site.id,
-          type: 'permanent',
-          title: 'New heater trip',
-          rationale: 'hazard study action 12',
-          items: [{ kind: 'create', limitId: limit.id }],
-        })
-        .expect(201)
-    ).body
+    const cr1 = await draftChange(eng, {
+      siteId: site.id,
+      title: 'New heater trip',
+      rationale: 'hazard study action 12',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
     await readyToImplement(eng, cr1.id)
     await eng.post(`/api/change-requests/${cr1.id}/submission`).expect(200)
     await approver.post(`/api/change-requests/${cr1.id}/approvals`, { password: PW }).expect(200)
@@ -47,16 +42,11 @@ describe('change request: propose, approve, implement, close', () => {
     await eng.patch(`/api/limits/${limit.id}`, { setpoint: 790 }).expect(409)
 
     // 3. change the setpoint: wrong read-back refused, right one applied
-    const cr2 = (
-      await eng
-        .post('/api/change-requests', {
-          siteId: site.id,
-          type: 'permanent',
-          title: 'Raise trip',
-          items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
-        })
-        .expect(201)
-    ).body
+    const cr2 = await draftChange(eng, {
+      siteId: site.id,
+      title: 'Raise trip',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
+    })
     expect(cr2.items[0].changes.setpoint).toEqual({ from: 780, to: 790 })
     await readyToImplement(eng, cr2.id)
     await eng.post(`/api/change-requests/${cr2.id}/submission`).expect(200)

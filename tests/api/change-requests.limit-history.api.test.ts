@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { draftChange, buildHeaterTrip } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -20,36 +20,21 @@ describe('change requests of one limit', () => {
     const other = await buildHeaterTrip(eng)
 
     const baseline = { id: await activateLimit({ eng, approver, tech }, limit) }
-    const raise = (
-      await eng
-        .post('/api/change-requests', {
-          siteId: site.id,
-          type: 'permanent',
-          title: 'Raise the heater trip',
-          items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
-        })
-        .expect(201)
-    ).body
-    const transmitter = (
-      await eng
-        .post('/api/change-requests', {
-          siteId: site.id,
-          type: 'permanent',
-          title: 'New transmitter head',
-          items: [{ kind: 'instrument', instrumentId: inst.id, changes: { deviceDescription: 'Replaced head' } }],
-        })
-        .expect(201)
-    ).body
-    const unrelated = (
-      await eng
-        .post('/api/change-requests', {
-          siteId: site.id,
-          type: 'permanent',
-          title: 'Another heater',
-          items: [{ kind: 'create', limitId: other.limit.id }],
-        })
-        .expect(201)
-    ).body
+    const raise = await draftChange(eng, {
+      siteId: site.id,
+      title: 'Raise the heater trip',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
+    })
+    const transmitter = await draftChange(eng, {
+      siteId: site.id,
+      title: 'New transmitter head',
+      items: [{ kind: 'instrument', instrumentId: inst.id, changes: { deviceDescription: 'Replaced head' } }],
+    })
+    const unrelated = await draftChange(eng, {
+      siteId: site.id,
+      title: 'Another heater',
+      items: [{ kind: 'create', limitId: other.limit.id }],
+    })
 
     const list = (await eng.get(`/api/change-requests?limitId=${limit.id}`).expect(200)).body
     const ids = list.items.map((i: { id: number }) => i.id)

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { signedIn, type ApiAgent } from './helpers/agent.ts'
-import { buildHeaterTrip, readyToImplement, rowCounts } from './helpers/factories.ts'
+import { buildHeaterTrip, rowCounts, submitChange } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // Blind read-back at implementation (docs/change-requests.md#implementation-and-read-back): the technician enters
@@ -40,13 +40,7 @@ async function approvedRequest(
   siteId: number,
   item: Record<string, unknown>,
 ): Promise<{ id: number; items: { id: number; deviceFields: string[]; readBackExpected: unknown }[] }> {
-  const cr = (
-    await eng
-      .post('/api/change-requests', { siteId, type: 'permanent', title: 'Heater alarm', items: [item] })
-      .expect(201)
-  ).body
-  await readyToImplement(eng, cr.id)
-  await eng.post(`/api/change-requests/${cr.id}/submission`).expect(200)
+  const cr = await submitChange(eng, { siteId, title: 'Heater alarm', items: [item] })
   return (await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
 }
 

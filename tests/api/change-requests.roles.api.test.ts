@@ -4,6 +4,7 @@ import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import { ApiAgent, useSignedIn, DEMO_ACCOUNTS } from './helpers/agent.ts'
 import {
+  draftChange,
   buildActiveHeaterTrip,
   buildHeaterTrip,
   rowCounts,
@@ -117,16 +118,11 @@ describe('change request: who may do what along the whole path (docs/security.md
 
   it('withdrawal: only the engineer withdraws a draft or a submitted request', async () => {
     const { site, limit } = await buildHeaterTrip(as.engineer)
-    const draft = (
-      await as.engineer
-        .post('/api/change-requests', {
-          siteId: site.id,
-          type: 'permanent',
-          title: 'Draft to withdraw',
-          items: [{ kind: 'create', limitId: limit.id }],
-        })
-        .expect(201)
-    ).body
+    const draft = await draftChange(as.engineer, {
+      siteId: site.id,
+      title: 'Draft to withdraw',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
     await refusedForAllBut(['engineer'], (a) => a.post(`/api/change-requests/${draft.id}/withdrawal`))
     expect((await as.engineer.post(`/api/change-requests/${draft.id}/withdrawal`).expect(200)).body.status).toBe(
       'withdrawn',

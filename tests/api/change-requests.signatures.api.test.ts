@@ -7,6 +7,7 @@ import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import { ApiAgent, signedIn, signedInAs } from './helpers/agent.ts'
 import {
+  draftChange,
   type ChangeCrew,
   buildActiveHeaterTrip,
   buildHeaterTrip,
@@ -209,18 +210,13 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
 
   it('every step lands in the audit trail with the content hash; signatures keep name, time, meaning and hash', async () => {
     const { site, limit } = await buildActiveHeaterTrip({ ...crew, approvers: [approver] })
-    const cr = (
-      await eng
-        .post('/api/change-requests', {
-          siteId: site.id,
-          type: 'permanent',
-          title: 'Raise heater trip to 795',
-          rationale: 'Coking margin',
-          hazardReference: 'HAZOP-2026-11',
-          items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 795 } }],
-        })
-        .expect(201)
-    ).body
+    const cr = await draftChange(eng, {
+      siteId: site.id,
+      title: 'Raise heater trip to 795',
+      rationale: 'Coking margin',
+      hazardReference: 'HAZOP-2026-11',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 795 } }],
+    })
     // the hash covers exactly the type, texts, items and attachments of the request (SHA-256 of canonical JSON)
     expect(cr.contentHash).toBe(
       contentHash({

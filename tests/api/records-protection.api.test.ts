@@ -2,7 +2,7 @@ import pg from 'pg'
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { signedIn } from './helpers/agent.ts'
-import { buildHeaterTrip } from './helpers/factories.ts'
+import { draftChange, buildHeaterTrip } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -14,16 +14,11 @@ describe('signatures and attachments as the runtime role', () => {
     const eng = await signedIn(app, 'engineer')
     const approver = await signedIn(app, 'approver')
     const { site, limit } = await buildHeaterTrip(eng)
-    const cr = (
-      await eng
-        .post('/api/change-requests', {
-          siteId: site.id,
-          type: 'permanent',
-          title: 'Put in service',
-          items: [{ kind: 'create', limitId: limit.id }],
-        })
-        .expect(201)
-    ).body
+    const cr = await draftChange(eng, {
+      siteId: site.id,
+      title: 'Put in service',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
     await eng.agent
       .post(`/api/change-requests/${cr.id}/attachments`)
       .set('X-CSRF-Token', eng.csrf)

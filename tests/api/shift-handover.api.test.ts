@@ -6,7 +6,7 @@ import canonicalize from 'canonicalize'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { seedDemoShiftHandover } from '../../server/seed/demo-shift-handover.ts'
 import { crewOf } from './helpers/agent.ts'
-import { actionEvents, buildHeaterTrip, ACTIVATE, countRows, mvSourceTest } from './helpers/factories.ts'
+import { draftChange, actionEvents, buildHeaterTrip, ACTIVATE, countRows, mvSourceTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -159,17 +159,13 @@ beforeAll(async () => {
   expect(old.passed).toBe(true)
   await as.technician.post(`/api/trip-tests/${old.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
 
-  const cr = (
-    await as.engineer
-      .post('/api/change-requests', {
-        siteId: c.limit.siteId,
-        type: 'temporary',
-        title: 'Raise the trip during the dry-out',
-        expiresAt: new Date(Date.parse('2026-09-07T05:00:00Z') + 72 * HOUR).toISOString(),
-        items: [{ kind: 'modify', limitId: c.limit.id, changes: { setpoint: 800 } }],
-      })
-      .expect(201)
-  ).body
+  const cr = await draftChange(as.engineer, {
+    siteId: c.limit.siteId,
+    type: 'temporary',
+    title: 'Raise the trip during the dry-out',
+    expiresAt: new Date(Date.parse('2026-09-07T05:00:00Z') + 72 * HOUR).toISOString(),
+    items: [{ kind: 'modify', limitId: c.limit.id, changes: { setpoint: 800 } }],
+  })
   await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)
   expect(
     (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body.status,

@@ -332,11 +332,15 @@ export async function readyToImplement(eng: ApiAgent, crId: number) {
     await eng.put(`/api/change-requests/${crId}/checklist/${c.item}`, { done: true }).expect(200)
 }
 
+/** Creates a draft change request as the engineer (permanent unless `body` says otherwise); answers the draft. */
+export async function draftChange(eng: ApiAgent, body: Record<string, unknown>) {
+  return (await eng.post('/api/change-requests', { type: 'permanent', title: 'Fixture change', ...body }).expect(201))
+    .body
+}
+
 /** Creates and submits a change request as the engineer, its before-implementation checklist ticked. */
 export async function submitChange(eng: ApiAgent, body: Record<string, unknown>) {
-  const created = (
-    await eng.post('/api/change-requests', { type: 'permanent', title: 'Fixture change', ...body }).expect(201)
-  ).body
+  const created = await draftChange(eng, body)
   await readyToImplement(eng, created.id)
   return (await eng.post(`/api/change-requests/${created.id}/submission`).expect(200)).body
 }

@@ -1,5 +1,5 @@
 import type { ApiAgent } from './agent.ts'
-import { readyToImplement } from './factories.ts'
+import { submitChange } from './factories.ts'
 
 const PW = 'limitkeeper-demo'
 
@@ -8,18 +8,11 @@ export async function activateLimit(
   agents: { eng: ApiAgent; approver: ApiAgent; tech: ApiAgent; approver2?: ApiAgent },
   limit: { id: number; siteId: number },
 ) {
-  const cr = (
-    await agents.eng
-      .post('/api/change-requests', {
-        siteId: limit.siteId,
-        type: 'permanent',
-        title: 'Put in service',
-        items: [{ kind: 'create', limitId: limit.id }],
-      })
-      .expect(201)
-  ).body
-  await readyToImplement(agents.eng, cr.id)
-  await agents.eng.post(`/api/change-requests/${cr.id}/submission`).expect(200)
+  const cr = await submitChange(agents.eng, {
+    siteId: limit.siteId,
+    title: 'Put in service',
+    items: [{ kind: 'create', limitId: limit.id }],
+  })
   await agents.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
   if (cr.approvalsRequired > 1) {
     if (!agents.approver2) throw new Error('this change needs a second approver')
