@@ -9,7 +9,7 @@ import { routes } from '@/router/routes'
 import { createVuetify } from 'vuetify'
 import { createAppAbility, defineRulesFor } from '@shared/abilities/index.ts'
 import { DEFAULT_SITE_POLICY, type Site } from '@shared/schemas/sites.ts'
-import type { RoleAssignment } from '@shared/schemas/users.ts'
+import type { Role, RoleAssignment } from '@shared/schemas/users.ts'
 import { useSessionStore } from '@/stores/session'
 
 // Mounts a view as the app does (Vuetify, Pinia, Pinia Colada, the CASL ability of a signed-in user) with the API
@@ -80,6 +80,33 @@ export async function mountView(
   })
   await flushPromises()
   return wrapper
+}
+
+/** What the site choices (useSiteChoices) ask for: the refinery, with no areas. */
+export const SITE_CHOICES: Routes = {
+  'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
+  'GET /areas': () => ({ body: { items: [], total: 0 } }),
+}
+
+/** Mounts the page of record `id` (its `id` prop) for user `user.id` holding `user.roles` at the refinery, or at `user.siteId`. */
+export function mountRecordPage(view: Component, id: number, user: { id: number; roles: Role[]; siteId?: number }) {
+  const siteId = user.siteId ?? FHR.id
+  return mountView(view, {
+    user: { id: user.id, roles: user.roles.map((role) => ({ siteId, role })) },
+    props: { id: String(id) },
+  })
+}
+
+/** Vuetify's overlays (dialogs, menus) read the visual viewport, which happy-dom does not provide: a desktop one. */
+export function stubVisualViewport() {
+  vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+}
+
+/** Undoes what a test of a page changed: the real clock, the globals (fetch, visual viewport), an empty body (dialogs). */
+export function resetPage() {
+  vi.useRealTimers()
+  vi.unstubAllGlobals()
+  document.body.innerHTML = ''
 }
 
 /**

@@ -2,7 +2,7 @@ import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { BypassDto, BypassStatus } from '@shared/schemas/bypasses.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import BypassDetailView from '@/features/bypasses/views/BypassDetailView.vue'
-import { answerApi, FHR, mountView, ruleButtons } from '../mount-view.ts'
+import { SITE_CHOICES, mountRecordPage, answerApi, FHR, ruleButtons } from '../mount-view.ts'
 
 // The bypass page builds its buttons from the bypass rule book (docs/bypasses.md#rules): which are shown, which are
 // disabled and why, for the roles and states of the rule book's table. The clock is fixed at 12:00 UTC.
@@ -61,13 +61,9 @@ function bypass(status: BypassStatus, o: Partial<BypassDto> = {}): BypassDto {
 async function open(b: BypassDto, roles: Role[], userId = ME) {
   answerApi({
     [`GET /bypasses/${b.id}`]: () => ({ body: b }),
-    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
-    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+    ...SITE_CHOICES,
   })
-  return mountView(BypassDetailView, {
-    user: { id: userId, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
-    props: { id: String(b.id) },
-  })
+  return mountRecordPage(BypassDetailView, b.id, { id: userId, roles })
 }
 
 type Wrapper = Awaited<ReturnType<typeof open>>

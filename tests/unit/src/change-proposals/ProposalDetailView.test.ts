@@ -3,7 +3,16 @@ import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { ChangeProposalDto, ProposalStatus } from '@shared/schemas/change-proposals.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import ProposalDetailView from '@/features/change-proposals/views/ProposalDetailView.vue'
-import { answerApi, FHR, mountView, type Routes, ruleButtons } from '../mount-view.ts'
+import {
+  SITE_CHOICES,
+  mountRecordPage,
+  resetPage,
+  stubVisualViewport,
+  answerApi,
+  FHR,
+  type Routes,
+  ruleButtons,
+} from '../mount-view.ts'
 
 // The proposal page offers "Develop into a change request" and "Decline" as the change-proposal rule book allows
 // (docs/change-requests.md#change-proposals, "Who does what"): only a safety engineer of the proposal's site, and
@@ -39,14 +48,10 @@ function proposal(status: ProposalStatus, o: Partial<ChangeProposalDto> = {}): C
 async function open(p: ChangeProposalDto, roles: Role[], siteId = FHR.id, more: Routes = {}) {
   const calls = answerApi({
     [`GET /change-proposals/${p.id}`]: () => ({ body: p }),
-    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
-    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+    ...SITE_CHOICES,
     ...more,
   })
-  const w = await mountView(ProposalDetailView, {
-    user: { id: ME, roles: roles.map((role) => ({ siteId, role })) },
-    props: { id: String(p.id) },
-  })
+  const w = await mountRecordPage(ProposalDetailView, p.id, { id: ME, roles, siteId })
   return { w, calls }
 }
 
@@ -58,11 +63,7 @@ type Wrapper = Awaited<ReturnType<typeof open>>['w']
 /** The buttons shown, each enabled (true) or not. */
 const buttons = (w: Wrapper) => ruleButtons(w, 'proposal', ['take-up', 'decline'])
 
-afterEach(() => {
-  vi.useRealTimers()
-  vi.unstubAllGlobals()
-  document.body.innerHTML = ''
-})
+afterEach(resetPage)
 
 describe('ProposalDetailView: buttons follow the change-proposal rule book', () => {
   it.each<[string, ProposalStatus, Role[], number, Record<string, true | string>]>([
@@ -114,8 +115,7 @@ describe('ProposalDetailView: buttons follow the change-proposal rule book', () 
     const { w, calls } = await open(proposal('open'), ['safety_engineer'], FHR.id, {
       'POST /change-proposals/42/decline': () => ({ body: proposal('declined', { declineReason: reason }) }),
     })
-    // Vuetify's overlays read the visual viewport, which happy-dom does not provide
-    vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+    stubVisualViewport()
     await w.find('[data-test="proposal-decline"]').trigger('click')
     await flushPromises()
     const input = document.body.querySelector<HTMLTextAreaElement>(

@@ -6,7 +6,7 @@ import AppSignDialog from '@/components/AppSignDialog.vue'
 import ChangeAttachments from '@/features/change-requests/components/ChangeAttachments.vue'
 import LimitChangesPanel from '@/features/change-requests/components/LimitChangesPanel.vue'
 import ChangeDetailView from '@/features/change-requests/views/ChangeDetailView.vue'
-import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+import { SITE_CHOICES, mountRecordPage, stubVisualViewport, answerApi, FHR, type Routes } from '../mount-view.ts'
 import { at, checklist, item, ME, NOW, PROPOSER, request } from './change-fixture.ts'
 
 // The change request's page builds its buttons from the change-request rule book (docs/change-requests.md#the-rule-book):
@@ -17,13 +17,9 @@ import { at, checklist, item, ME, NOW, PROPOSER, request } from './change-fixtur
 async function open(cr: ChangeRequestDto, roles: Role[], userId = ME) {
   answerApi({
     [`GET /change-requests/${cr.id}`]: () => ({ body: cr }),
-    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
-    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+    ...SITE_CHOICES,
   })
-  return mountView(ChangeDetailView, {
-    user: { id: userId, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
-    props: { id: String(cr.id) },
-  })
+  return mountRecordPage(ChangeDetailView, cr.id, { id: userId, roles })
 }
 
 type Wrapper = Awaited<ReturnType<typeof open>>
@@ -201,14 +197,10 @@ describe("ChangeDetailView: every write fetches the limit page's change list aga
         url.searchParams.get('limitId') === String(LIMIT.id)
           ? { body: { items: [], total: 0 } }
           : { status: 400, body: { error: { code: 'VALIDATION_FAILED', message: 'Not the limit page' } } },
-      'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
-      'GET /areas': () => ({ body: { items: [], total: 0 } }),
+      ...SITE_CHOICES,
       ...writes,
     })
-    const w = await mountView(LimitPageAndRequest, {
-      user: { id: ME, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
-      props: { id: String(cr.id) },
-    })
+    const w = await mountRecordPage(LimitPageAndRequest, cr.id, { id: ME, roles })
     const asked = (path: string) => calls.filter((c) => c.method === 'GET' && c.path === path).length
     return {
       w,
@@ -243,8 +235,7 @@ describe("ChangeDetailView: every write fetches the limit page's change list aga
   it('signing a discipline review', async () => {
     vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
     const cr = request('submitted', { reviewsRequired: ['operations'] })
-    // Vuetify's overlays read the visual viewport, which happy-dom does not provide
-    vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+    stubVisualViewport()
     const reviews: unknown[] = []
     const { w, listAsked } = await openBoth(cr, ['shift_supervisor'], {
       [`POST /change-requests/${cr.id}/reviews`]: (_url, init) => {

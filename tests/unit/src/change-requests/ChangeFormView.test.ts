@@ -4,7 +4,7 @@ import type { ChangeRequestDto } from '@shared/schemas/change-requests.ts'
 import type { Site } from '@shared/schemas/sites.ts'
 import ChangeFormView from '@/features/change-requests/views/ChangeFormView.vue'
 import { heaterTrip } from '../register/limit-fixture.ts'
-import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+import { stubVisualViewport, answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
 import { NOW, PROPOSER, request } from './change-fixture.ts'
 
 // The change request form checks its input with the schema the server parses (CreateChangeRequestInputSchema in
@@ -50,8 +50,7 @@ describe('ChangeFormView', () => {
   })
 
   it('the only site is chosen; an item without its limit is told to choose it and nothing is sent', async () => {
-    // Vuetify's overlays read the visual viewport, which happy-dom does not provide
-    vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+    stubVisualViewport()
     const { w, writes } = await open({ sites: [FHR] })
     expect(w.find('[data-test="change-site"]').text()).toContain('FHR · Fernhollow Refinery')
     await w.find('[data-test="change-title"] input').setValue('Lower the heater outlet trip')

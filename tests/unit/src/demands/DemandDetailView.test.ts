@@ -4,7 +4,16 @@ import type { DemandDto } from '@shared/schemas/demands.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import AppSignDialog from '@/components/AppSignDialog.vue'
 import DemandDetailView from '@/features/demands/views/DemandDetailView.vue'
-import { answerApi, FHR, mountView, type Routes, ruleButtons } from '../mount-view.ts'
+import {
+  SITE_CHOICES,
+  mountRecordPage,
+  resetPage,
+  stubVisualViewport,
+  answerApi,
+  FHR,
+  type Routes,
+  ruleButtons,
+} from '../mount-view.ts'
 
 // The event page builds "Classify" and "Credit as proof test" from the demand rule book's answers carried on the
 // event (docs/demands.md, "Who does what" and "Screens"): a button is shown unless the role forbids it, and disabled
@@ -79,14 +88,10 @@ const classified = (o: Partial<DemandDto> = {}) =>
 async function open(d: DemandDto, roles: Role[], more: Routes = {}) {
   const calls = answerApi({
     [`GET /demands/${d.id}`]: () => ({ body: d }),
-    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
-    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+    ...SITE_CHOICES,
     ...more,
   })
-  const w = await mountView(DemandDetailView, {
-    user: { id: ME, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
-    props: { id: String(d.id) },
-  })
+  const w = await mountRecordPage(DemandDetailView, d.id, { id: ME, roles })
   return { w, calls }
 }
 
@@ -94,11 +99,7 @@ type Wrapper = Awaited<ReturnType<typeof open>>['w']
 /** Each button shown: enabled, or the reason it is disabled. */
 const buttons = (w: Wrapper) => ruleButtons(w, 'demand', ['classify', 'credit'])
 
-afterEach(() => {
-  vi.useRealTimers()
-  vi.unstubAllGlobals()
-  document.body.innerHTML = ''
-})
+afterEach(resetPage)
 
 describe('DemandDetailView: buttons follow the demand rule book', () => {
   it.each<[string, DemandDto, Role[], Record<string, true | string>]>([
@@ -193,8 +194,7 @@ describe('DemandDetailView: what the actions send', () => {
         },
       }),
     })
-    // Vuetify's overlays read the visual viewport, which happy-dom does not provide
-    vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+    stubVisualViewport()
     await w.find('[data-test="demand-classify"]').trigger('click')
     await flushPromises()
     const input = document.body.querySelector<HTMLTextAreaElement>('[data-test="classify-note"] textarea')!
@@ -230,7 +230,7 @@ describe('DemandDetailView: what the actions send', () => {
         },
       }),
     })
-    vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+    stubVisualViewport()
     await w.find('[data-test="demand-credit"]').trigger('click')
     await flushPromises()
     const input = document.body.querySelector<HTMLTextAreaElement>('[data-test="credit-note"] textarea')!

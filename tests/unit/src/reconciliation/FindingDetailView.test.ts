@@ -6,7 +6,15 @@ import type { Finding, FindingState } from '@shared/schemas/reconciliation.ts'
 import type { Role, RoleAssignment } from '@shared/schemas/users.ts'
 import FindingDetailView from '@/features/reconciliation/views/FindingDetailView.vue'
 import { onSite } from '@/features/register/site-subject'
-import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+import {
+  SITE_CHOICES,
+  mountRecordPage,
+  stubVisualViewport,
+  answerApi,
+  FHR,
+  mountView,
+  type Routes,
+} from '../mount-view.ts'
 
 // The finding page builds its buttons from the findings rule book (docs/reconciliation.md#findings): a safety
 // engineer of the site acknowledges, then links a change request or accepts; the plant manager may also accept; a
@@ -70,17 +78,13 @@ function finding(state: FindingState, o: Partial<Finding> = {}, roles = atFhr(['
 function api(f: Finding, more: Routes = {}) {
   return answerApi({
     [`GET /findings/${f.id}`]: () => ({ body: f }),
-    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
-    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+    ...SITE_CHOICES,
     ...more,
   })
 }
 
 async function open(f: Finding, roles: Role[]) {
-  return mountView(FindingDetailView, {
-    user: { id: 7, roles: atFhr(roles) },
-    props: { id: String(f.id) },
-  })
+  return mountRecordPage(FindingDetailView, f.id, { id: 7, roles })
 }
 
 type Wrapper = Awaited<ReturnType<typeof open>>
@@ -224,8 +228,7 @@ describe('FindingDetailView: what the actions send', () => {
 
   it('Accept signs the difference with the reason and the password, and sends them with the version read', async () => {
     vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
-    // Vuetify's overlays read the visual viewport, which happy-dom does not provide
-    vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+    stubVisualViewport()
     const f = finding('acknowledged', {}, atFhr(['plant_manager']))
     const calls = api(f, {
       [`POST /findings/${f.id}/acceptance`]: () => ({ body: finding('accepted', { version: 4 }) }),

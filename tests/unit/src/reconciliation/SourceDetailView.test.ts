@@ -3,7 +3,7 @@ import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { ReadNowResult, Run, Source } from '@shared/schemas/reconciliation.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import SourceDetailView from '@/features/reconciliation/views/SourceDetailView.vue'
-import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+import { SITE_CHOICES, mountRecordPage, answerApi, FHR, type Routes } from '../mount-view.ts'
 
 // A source's page (docs/reconciliation.md#screens): for a live device, "Read now" and "Run now"; for an export, the
 // upload and the remembered column mapping. Safety engineers of the site keep the sources, run them and upload
@@ -85,17 +85,13 @@ function api(s: Source, more: Routes = {}) {
   return answerApi({
     [`GET /reconciliation-sources/${s.id}`]: () => ({ body: s }),
     'GET /reconciliation-runs': () => ({ body: { items: [run()], total: 1 } }),
-    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
-    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+    ...SITE_CHOICES,
     ...more,
   })
 }
 
 async function open(s: Source, roles: Role[]) {
-  return mountView(SourceDetailView, {
-    user: { id: 7, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
-    props: { id: String(s.id) },
-  })
+  return mountRecordPage(SourceDetailView, s.id, { id: 7, roles })
 }
 
 type Wrapper = Awaited<ReturnType<typeof open>>

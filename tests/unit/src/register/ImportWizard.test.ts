@@ -4,7 +4,7 @@ import type { Component } from 'vue'
 import ImportWizard from '@/features/register/components/ImportWizard.vue'
 import type { ImportAnswer, ImportFlowOptions } from '@/features/register/composables/useImportFlow'
 import type { ImportLayout } from '@/features/register/import-mapping'
-import { answerApi, FHR, mountView } from '../mount-view.ts'
+import { SITE_CHOICES, answerApi, FHR, mountView } from '../mount-view.ts'
 
 // The import steps' buttons (docs/register.md): the way back from the columns to the file, from the check to the
 // columns or to another file, the check shown again without a new upload while the columns stay as checked, and the
@@ -32,8 +32,7 @@ afterEach(() => vi.unstubAllGlobals())
 
 async function open() {
   answerApi({
-    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
-    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+    ...SITE_CHOICES,
   })
   const uploads: unknown[] = []
   const options: ImportFlowOptions<Answer, Record<string, string>> = {

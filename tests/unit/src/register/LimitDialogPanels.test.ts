@@ -5,7 +5,7 @@ import type { TestDeferralDto } from '@shared/schemas/trip-tests.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import LimitDemandRatesPanel from '@/features/demands/components/LimitDemandRatesPanel.vue'
 import LimitDeferralsPanel from '@/features/trip-tests/components/LimitDeferralsPanel.vue'
-import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+import { stubVisualViewport, answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
 import { heaterTrip } from './limit-fixture.ts'
 
 // Two panels of the limit page whose action opens a dialog: the hazard study's demand rates (docs/demands.md) and the
@@ -18,8 +18,7 @@ const LIMIT = heaterTrip('active')
 afterEach(() => vi.unstubAllGlobals())
 
 async function open(panel: typeof LimitDemandRatesPanel | typeof LimitDeferralsPanel, roles: Role[], api: Routes) {
-  // Vuetify's overlays read the visual viewport, which happy-dom does not provide
-  vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+  stubVisualViewport()
   const calls = answerApi(api)
   const w = await mountView(panel, {
     user: { id: 7, roles: roles.map((role) => ({ siteId: FHR.id, role })) },

@@ -3,7 +3,7 @@ import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { ShiftHandoverDto, ShiftHandoverState, ShiftHandoverStatus } from '@shared/schemas/shift-handover.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import ShiftHandoverView from '@/features/shift-handover/views/ShiftHandoverView.vue'
-import { answerApi, FHR, mountView } from '../mount-view.ts'
+import { stubVisualViewport, answerApi, FHR, mountView } from '../mount-view.ts'
 
 // The handover page builds "Hand over" and "Accept handover" from the shift-handover rule book
 // (docs/shift-handover.md#rules) for the roles and states of its table, and signs what it shows.
@@ -88,8 +88,7 @@ describe('ShiftHandoverView: buttons follow the shift-handover rule book', () =>
   })
 
   it('accepting signs the content hash that was shown', async () => {
-    // Vuetify's overlays read the visual viewport, which happy-dom does not provide
-    vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })
+    stubVisualViewport()
     const { w, calls } = await open(['shift_supervisor'], INCOMING, [handover('handed_over')])
     await w.find('[data-test="handover-accept-5"]').trigger('click')
     await flushPromises()

@@ -5,7 +5,7 @@ import type { TripTestDto } from '@shared/schemas/trip-tests.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import AppSignDialog from '@/components/AppSignDialog.vue'
 import TripTestDetailView from '@/features/trip-tests/views/TripTestDetailView.vue'
-import { answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+import { SITE_CHOICES, mountRecordPage, answerApi, type Routes } from '../mount-view.ts'
 import { ME, type Meaning, RECORDER, record } from './trip-test-fixture.ts'
 
 // The trip-test record's page offers the edit and signing buttons the trip-test rule book allows this user
@@ -20,17 +20,13 @@ function api(t: TripTestDto, more: Routes = {}) {
     [`GET /trip-tests/${t.id}`]: () => ({ body: t }),
     'GET /limits/5': () => ({ body: limit('in_service') }),
     'GET /limits/5/degradation': () => ({ body: { items: [] } }),
-    'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
-    'GET /areas': () => ({ body: { items: [], total: 0 } }),
+    ...SITE_CHOICES,
     ...more,
   })
 }
 
 async function open(t: TripTestDto, roles: Role[], userId: number) {
-  return mountView(TripTestDetailView, {
-    user: { id: userId, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
-    props: { id: String(t.id) },
-  })
+  return mountRecordPage(TripTestDetailView, t.id, { id: userId, roles })
 }
 
 type Wrapper = Awaited<ReturnType<typeof open>>
