@@ -7,13 +7,14 @@ import { type Component, h } from 'vue'
 import { createMemoryHistory, createRouter, type RouteRecordRaw } from 'vue-router'
 import { routes } from '@/router/routes'
 import { createVuetify } from 'vuetify'
+import { vuetifyOptions } from '@/plugins/vuetify'
 import { createAppAbility, defineRulesFor } from '@shared/abilities/index.ts'
 import { DEFAULT_SITE_POLICY, type Site } from '@shared/schemas/sites.ts'
 import type { Role, RoleAssignment } from '@shared/schemas/users.ts'
 import { useSessionStore } from '@/stores/session'
 
-// Mounts a view as the app does (Vuetify, Pinia, Pinia Colada, the CASL ability of a signed-in user) with the API
-// answered by a table of routes in place of the network.
+// Mounts a view as the app does (Vuetify with the app's defaults and button aliases, Pinia, Pinia Colada, the CASL
+// ability of a signed-in user) with the API answered by a table of routes in place of the network.
 
 export const FHR: Site = {
   id: 1,
@@ -69,7 +70,7 @@ export async function mountView(
     props: opts.props,
     global: {
       plugins: [
-        createVuetify(),
+        createVuetify(vuetifyOptions),
         pinia,
         router,
         [PiniaColada, {}],
