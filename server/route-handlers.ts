@@ -1,12 +1,21 @@
 import type { Request, RequestHandler } from 'express'
-import type { AppAbility } from '../shared/abilities/index.ts'
+import type { Action, AppAbility, SubjectName } from '../shared/abilities/index.ts'
 import type { z } from 'zod'
 import { IdSchema, parsePatch } from '../shared/schemas/common.ts'
+import { authorize } from './authorize.ts'
 import type { AppDeps } from './deps.ts'
 import type { AuditContext } from './features/audit/audit.repository.ts'
 
 /** What checks a request body: a zod schema, or a function such as `(body) => parsePatch(Schema, body)`. */
 export type BodyReader<I> = { parse(body: unknown): I } | ((body: unknown) => I)
+
+/** Middleware: 403 unless the user may do `action` on the subject at some site, before the body (an upload) is read. */
+export const allowedTo =
+  (action: Action, name: Exclude<SubjectName, 'all'>): RequestHandler =>
+  (req, _res, next) => {
+    authorize(req.ability, action, name)
+    next()
+  }
 
 /** The body of a PATCH: the fields it sends, checked by `schema` (parsePatch). */
 export const patchOf =

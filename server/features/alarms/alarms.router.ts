@@ -17,8 +17,8 @@ import {
 } from '../../../shared/schemas/alarms.ts'
 import { IdSchema } from '../../../shared/schemas/common.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
-import { authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
+import { allowedTo, routeHandlers } from '../../route-handlers.ts'
 import { onReadStandby } from '../../db/read-standby.ts'
 import { AppError, validationFailed } from '../../errors.ts'
 import { alarmFigures, monthlyReport } from './alarm-figures.service.ts'
@@ -81,10 +81,7 @@ async function withFile<T>(
 
 export function createAlarmJournalsRouter(deps: AppDeps) {
   const router = Router()
-  const mayImport: RequestHandler = (req, _res, next) => {
-    authorize(req.ability, 'import', 'AlarmJournal')
-    next()
-  }
+  const mayImport = allowedTo('import', 'AlarmJournal')
   router.get('/', async (req, res) => {
     const q = JournalListQuerySchema.parse(req.query)
     res.json(await journals.listJournalUploads(deps, req.user, q))
@@ -92,9 +89,7 @@ export function createAlarmJournalsRouter(deps: AppDeps) {
   router.get('/mapping', mayImport, async (req, res) => {
     res.json({ mapping: await journals.rememberedMapping(deps, req.user!.id) })
   })
-  router.get('/:id', async (req, res) => {
-    res.json(await journals.getJournalUpload(deps, req.ability, IdSchema.parse(req.params.id)))
-  })
+  router.get('/:id', routeHandlers(deps).read(journals.getJournalUpload))
   router.post('/', mayImport, diskUpload(deps), async (req, res) => {
     const f = await withFile(req, 'alarm journal (CSV or XLSX)', () => JournalUploadFieldsSchema.parse(req.body ?? {}))
     const upload = await journals.startJournalUpload(
@@ -146,16 +141,11 @@ export function createAlarmStatesRouter(deps: AppDeps) {
 
 export function createReplaysRouter(deps: AppDeps) {
   const router = Router()
-  const mayCreate: RequestHandler = (req, _res, next) => {
-    authorize(req.ability, 'create', 'Replay')
-    next()
-  }
+  const mayCreate = allowedTo('create', 'Replay')
   router.get('/', async (req, res) => {
     res.json(await replays.listReplayUploads(deps, req.user, ReplayListQuerySchema.parse(req.query)))
   })
-  router.get('/:id', async (req, res) => {
-    res.json(await replays.getReplayUpload(deps, req.ability, IdSchema.parse(req.params.id)))
-  })
+  router.get('/:id', routeHandlers(deps).read(replays.getReplayUpload))
   router.post('/', mayCreate, diskUpload(deps), async (req, res) => {
     const f = await withFile(req, 'process-data export (CSV or XLSX)', () =>
       ReplayUploadFieldsSchema.parse(req.body ?? {}),

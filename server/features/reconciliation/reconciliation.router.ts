@@ -13,8 +13,8 @@ import {
   SourceListQuerySchema,
   UpdateSourceInputSchema,
 } from '../../../shared/schemas/reconciliation.ts'
-import { parsePatch } from '../../../shared/schemas/common.ts'
 import type { AppDeps } from '../../deps.ts'
+import { patchOf, routeHandlers } from '../../route-handlers.ts'
 import { validationFailed } from '../../errors.ts'
 import { receiveFile } from '../register/imports.router.ts'
 import * as findings from './findings.service.ts'
@@ -26,24 +26,14 @@ const id = (v: unknown) => IdSchema.parse(v)
 /** `/api/reconciliation-sources`: sources with their register maps or column mappings; read now, run now, uploads. */
 export function createReconciliationSourcesRouter(deps: AppDeps) {
   const router = Router()
+  const route = routeHandlers(deps)
   router.get('/', async (req, res) => {
     res.json(await sources.listSources(deps, req.user!, SourceListQuerySchema.parse(req.query)))
   })
-  router.post('/', async (req, res) => {
-    res
-      .status(201)
-      .json(await sources.createSource(deps, req.ability, req.audit, CreateSourceInputSchema.parse(req.body)))
-  })
-  router.get('/:id', async (req, res) => {
-    res.json(await sources.getSource(deps, req.ability, id(req.params.id)))
-  })
-  router.patch('/:id', async (req, res) => {
-    const patch = parsePatch(UpdateSourceInputSchema.required({ version: true }), req.body)
-    res.json(await sources.updateSource(deps, req.ability, req.audit, id(req.params.id), patch))
-  })
-  router.post('/:id/reads', async (req, res) => {
-    res.json(await sources.readNow(deps, req.ability, req.audit, id(req.params.id)))
-  })
+  router.post('/', route.create(CreateSourceInputSchema, sources.createSource))
+  router.get('/:id', route.read(sources.getSource))
+  router.patch('/:id', route.act(patchOf(UpdateSourceInputSchema.required({ version: true })), sources.updateSource))
+  router.post('/:id/reads', route.act(sources.readNow))
   router.post('/:id/runs', async (req, res) => {
     RunNowInputSchema.parse(req.body ?? {})
     res.status(201).json(await sources.runNow(deps, req.ability, req.audit, id(req.params.id)))
@@ -74,44 +64,27 @@ export function createReconciliationRunsRouter(deps: AppDeps) {
   router.get('/', async (req, res) => {
     res.json(await runs.listRuns(deps, req.ability, req.user!, RunListQuerySchema.parse(req.query)))
   })
-  router.get('/:id', async (req, res) => {
-    res.json(await runs.getRun(deps, req.ability, id(req.params.id)))
-  })
+  router.get('/:id', routeHandlers(deps).read(runs.getRun))
   return router
 }
 
 /** `/api/findings`: filters by site, source, kind, state, limit; acknowledge, link a change, accept (signed). */
 export function createFindingsRouter(deps: AppDeps) {
   const router = Router()
+  const route = routeHandlers(deps)
   router.get('/', async (req, res) => {
     res.json(await findings.listFindings(deps, req.ability, req.user!, FindingListQuerySchema.parse(req.query)))
   })
   router.get('/figures', async (req, res) => {
     res.json(await findings.findingFigures(deps, req.user!, FindingFiguresQuerySchema.parse(req.query)))
   })
-  router.get('/:id', async (req, res) => {
-    res.json(await findings.getFinding(deps, req.ability, id(req.params.id)))
-  })
+  router.get('/:id', route.read(findings.getFinding))
   router.post('/:id/acknowledgement', async (req, res) => {
     const { version } = AcknowledgeInputSchema.parse(req.body)
     res.json(await findings.acknowledgeFinding(deps, req.ability, req.audit, id(req.params.id), version))
   })
-  router.post('/:id/change-request', async (req, res) => {
-    res.json(
-      await findings.linkChangeRequest(
-        deps,
-        req.ability,
-        req.audit,
-        id(req.params.id),
-        LinkChangeInputSchema.parse(req.body),
-      ),
-    )
-  })
-  router.post('/:id/acceptance', async (req, res) => {
-    res.json(
-      await findings.acceptFinding(deps, req.ability, req.audit, id(req.params.id), AcceptInputSchema.parse(req.body)),
-    )
-  })
+  router.post('/:id/change-request', route.act(LinkChangeInputSchema, findings.linkChangeRequest))
+  router.post('/:id/acceptance', route.act(AcceptInputSchema, findings.acceptFinding))
   return router
 }
 

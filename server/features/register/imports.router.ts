@@ -2,9 +2,8 @@ import { type Request, type RequestHandler, Router } from 'express'
 import multer from 'multer'
 import { ErrorCode } from '../../../shared/errors.ts'
 import { IMPORT_MAX_BYTES, ImportUploadFieldsSchema } from '../../../shared/schemas/imports.ts'
-import { authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import { routeHandlers } from '../../route-handlers.ts'
+import { allowedTo, routeHandlers } from '../../route-handlers.ts'
 import { AppError, validationFailed } from '../../errors.ts'
 import * as imports from './imports.service.ts'
 
@@ -51,10 +50,7 @@ export function uploadedFile(req: Request, kind: string): { buffer: Buffer; file
 }
 
 /** Refuses users who may import nowhere before reading up to 5 MB of their upload. */
-export const mayImport: RequestHandler = (req, _res, next) => {
-  authorize(req.ability, 'import', 'Limit')
-  next()
-}
+export const mayImport = allowedTo('import', 'Limit')
 
 /** `/api/imports`: upload a register file for a dry run (`POST /`), then commit the batch (`POST /:id/commit`). */
 export function createImportsRouter(deps: AppDeps) {

@@ -1,11 +1,11 @@
 import { Router } from 'express'
-import { IdSchema } from '../../../shared/schemas/common.ts'
 import {
   AcceptHandoverInputSchema,
   HandOverInputSchema,
   ShiftHandoverStateQuerySchema,
 } from '../../../shared/schemas/shift-handover.ts'
 import type { AppDeps } from '../../deps.ts'
+import { routeHandlers } from '../../route-handlers.ts'
 import * as service from './shift-handover.service.ts'
 
 /**
@@ -15,19 +15,13 @@ import * as service from './shift-handover.service.ts'
  */
 export function createShiftHandoverRouter(deps: AppDeps) {
   const router = Router()
+  const route = routeHandlers(deps)
   router.get('/state', async (req, res) => {
     const q = ShiftHandoverStateQuerySchema.parse(req.query)
     res.json(await service.handoverState(deps, req.ability, req.audit, q.areaId))
   })
-  router.post('/', async (req, res) => {
-    res.status(201).json(await service.handOver(deps, req.ability, req.audit, HandOverInputSchema.parse(req.body)))
-  })
-  router.get('/:id', async (req, res) => {
-    res.json(await service.getHandover(deps, req.ability, IdSchema.parse(req.params.id)))
-  })
-  router.post('/:id/acceptance', async (req, res) => {
-    const b = AcceptHandoverInputSchema.parse(req.body)
-    res.json(await service.acceptHandover(deps, req.ability, req.audit, IdSchema.parse(req.params.id), b))
-  })
+  router.post('/', route.create(HandOverInputSchema, service.handOver))
+  router.get('/:id', route.read(service.getHandover))
+  router.post('/:id/acceptance', route.act(AcceptHandoverInputSchema, service.acceptHandover))
   return router
 }

@@ -1,36 +1,24 @@
 import { Router } from 'express'
-import { IdSchema, ListQuerySchema, parsePatch } from '../../../shared/schemas/common.ts'
+import { ListQuerySchema } from '../../../shared/schemas/common.ts'
 import {
   ChangeOwnPasswordInputSchema,
   CreateUserInputSchema,
   UpdateUserInputSchema,
 } from '../../../shared/schemas/users.ts'
 import type { AppDeps } from '../../deps.ts'
+import { patchOf, routeHandlers } from '../../route-handlers.ts'
 import * as service from './users.service.ts'
 
 /** `/api/users` (admins) and `/api/account/password` (everyone, their own). */
 export function createUsersRouter(deps: AppDeps) {
   const router = Router()
+  const route = routeHandlers(deps)
   router.get('/', async (req, res) => {
     res.json(await service.listUsers(deps, req.ability, ListQuerySchema.parse(req.query)))
   })
-  router.get('/:id', async (req, res) => {
-    res.json(await service.getUser(deps, req.ability, IdSchema.parse(req.params.id)))
-  })
-  router.post('/', async (req, res) => {
-    res.status(201).json(await service.createUser(deps, req.ability, req.audit, CreateUserInputSchema.parse(req.body)))
-  })
-  router.patch('/:id', async (req, res) => {
-    res.json(
-      await service.updateUser(
-        deps,
-        req.ability,
-        req.audit,
-        IdSchema.parse(req.params.id),
-        parsePatch(UpdateUserInputSchema, req.body),
-      ),
-    )
-  })
+  router.get('/:id', route.read(service.getUser))
+  router.post('/', route.create(CreateUserInputSchema, service.createUser))
+  router.patch('/:id', route.act(patchOf(UpdateUserInputSchema), service.updateUser))
   return router
 }
 
