@@ -38,17 +38,18 @@ export function ensureVisible(
 }
 
 /**
- * A record loaded by its id, as the user may read it: 404 when it is missing or at another site (`what` names it in
- * the message; the subject's name by default), see ensureVisible.
+ * A record loaded by its id (a row with its `site_id`, or the record as the API answers it, with its `siteId`), as the
+ * user may read it: 404 when it is missing or at another site (`what` names it in the message; the subject's name by
+ * default), see ensureVisible.
  */
-export function readableRow<R extends { site_id: number }>(
+export function readableRow<R extends { site_id: number } | { siteId: number }>(
   row: R | null | undefined,
   ability: AppAbility,
   name: Exclude<SubjectName, 'all'>,
   what: string = name,
 ): R {
   if (!row) throw notFound(what)
-  ensureVisible(ability, name, { siteId: row.site_id }, what)
+  ensureVisible(ability, name, { siteId: 'siteId' in row ? row.siteId : row.site_id }, what)
   return row
 }
 

@@ -15,7 +15,7 @@ import {
 import type { Verdict } from '../../../shared/domain/rules/verdict.ts'
 import type { ActivateBypassInput, BypassDto, CreateBypassInput } from '../../../shared/schemas/bypasses.ts'
 import type { SitePolicy } from '../../../shared/schemas/sites.ts'
-import { allows, ensureVisible, readableRow } from '../../authorize.ts'
+import { allows, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { errorField } from '../../db/index.ts'
 import { conflict, enforce, notFound, validationFailed } from '../../errors.ts'
@@ -112,9 +112,7 @@ export async function loadBypasses(
 
 export async function getBypass(deps: AppDeps, ability: AppAbility, id: number): Promise<BypassDto> {
   const [dto] = await loadBypasses(deps, [id])
-  if (!dto) throw notFound('Bypass')
-  ensureVisible(ability, 'Bypass', { siteId: dto.siteId }, 'Bypass')
-  return dto
+  return readableRow(dto, ability, 'Bypass')
 }
 
 function toDto(

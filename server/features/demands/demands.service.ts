@@ -12,7 +12,7 @@ import type {
   DemandRates,
 } from '../../../shared/schemas/demands.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
-import { ensureVisible, readableRow } from '../../authorize.ts'
+import { readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -87,9 +87,7 @@ async function load(deps: AppDeps, ability: AppAbility, userId: number, ids: num
 
 export async function getDemand(deps: AppDeps, ability: AppAbility, userId: number, id: number): Promise<DemandDto> {
   const [d] = await load(deps, ability, userId, [id])
-  if (!d) throw notFound('Demand')
-  ensureVisible(ability, 'Demand', { siteId: d.siteId }, 'Demand')
-  return d
+  return readableRow(d, ability, 'Demand')
 }
 
 export async function listDemands(

@@ -7,7 +7,7 @@ import {
   CreateInstrumentInputSchema,
   type Instrument,
 } from '../../../shared/schemas/register.ts'
-import { allows, authorize, ensureVisible } from '../../authorize.ts'
+import { allows, authorize, readableRow } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
@@ -72,9 +72,7 @@ export async function listInstruments(
 }
 
 export async function getInstrument(deps: AppDeps, ability: AppAbility, id: number) {
-  const i = await load(deps.db, id)
-  ensureVisible(ability, 'Instrument', { siteId: i.siteId }, 'Instrument')
-  return i
+  return readableRow(await load(deps.db, id), ability, 'Instrument')
 }
 
 export async function createInstrument(
@@ -141,8 +139,7 @@ export async function updateInstrument(
   patch: Partial<CreateInstrumentInput>,
 ) {
   await deps.db.transaction().execute(async (trx) => {
-    const before = await load(trx, id, true)
-    ensureVisible(ability, 'Instrument', { siteId: before.siteId }, 'Instrument')
+    const before = readableRow(await load(trx, id, true), ability, 'Instrument')
     const active = await repo.activeLimitTagsOnInstrument(trx, id)
     enforce(
       instrumentEditVerdict(

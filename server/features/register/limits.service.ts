@@ -7,7 +7,7 @@ import { ErrorCode } from '../../../shared/errors.ts'
 import type { CreateLimitInput, Limit, UpdateLimitInput } from '../../../shared/schemas/register.ts'
 import { CreateLimitInputSchema } from '../../../shared/schemas/register.ts'
 import type { SitePolicy } from '../../../shared/schemas/sites.ts'
-import { authorize, ensureVisible } from '../../authorize.ts'
+import { authorize, readableRow } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database } from '../../db/schema.ts'
@@ -168,9 +168,7 @@ function toDraft(l: Limit): CreateLimitInput {
 }
 
 export async function getLimit(deps: AppDeps, ability: AppAbility, id: number): Promise<Limit> {
-  const limit = await loadLimit(deps.db, id)
-  ensureVisible(ability, 'Limit', { siteId: limit.siteId }, 'Limit')
-  return limit
+  return readableRow(await loadLimit(deps.db, id), ability, 'Limit')
 }
 
 export async function createLimit(
@@ -244,8 +242,7 @@ export async function updateLimit(
   expectedRevision?: number,
 ): Promise<Limit> {
   await deps.db.transaction().execute(async (trx) => {
-    const before = await loadLimit(trx, id, true)
-    ensureVisible(ability, 'Limit', { siteId: before.siteId }, 'Limit')
+    const before = readableRow(await loadLimit(trx, id, true), ability, 'Limit')
     enforce(limitRules(before, { ability }).edit)
     if (expectedRevision !== undefined && expectedRevision !== before.revision)
       throw new AppError(
@@ -314,8 +311,7 @@ export function lockLimit(trx: Trx, id: number): Promise<Limit> {
 
 export async function deleteLimit(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number): Promise<void> {
   await deps.db.transaction().execute(async (trx) => {
-    const before = await loadLimit(trx, id, true)
-    ensureVisible(ability, 'Limit', { siteId: before.siteId }, 'Limit')
+    const before = readableRow(await loadLimit(trx, id, true), ability, 'Limit')
     enforce(limitRules(before, { ability }).delete)
     await repo.deleteLimitRow(trx, id)
     await appendAudit(trx, deps.clock, ctx, {

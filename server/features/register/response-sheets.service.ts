@@ -1,5 +1,5 @@
 import type { AppAbility } from '../../../shared/abilities/index.ts'
-import { authorize, ensureVisible } from '../../authorize.ts'
+import { authorize, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { invalidState, notFound } from '../../errors.ts'
 import { responseSheetsPdf } from './response-sheets.pdf.ts'
@@ -7,9 +7,8 @@ import { findAreaSite, findResponseSheetRows } from './response-sheets.repositor
 
 /** The response sheet of one alarm or alert (a trip has none: it acts by itself). */
 export async function responseSheet(deps: AppDeps, ability: AppAbility, limitId: number) {
-  const [row] = await findResponseSheetRows(deps.db, { limitId })
-  if (!row) throw notFound('Limit')
-  ensureVisible(ability, 'Limit', { siteId: row.site_id }, 'Limit')
+  const [found] = await findResponseSheetRows(deps.db, { limitId })
+  const row = readableRow(found, ability, 'Limit')
   if (row.limit_class === 'trip') throw invalidState('A trip acts by itself and has no alarm response sheet')
   return { pdf: await responseSheetsPdf([row], `Alarm response sheet ${row.tag}`, deps.clock.now()), tag: row.tag }
 }

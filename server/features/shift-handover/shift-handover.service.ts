@@ -7,7 +7,7 @@ import type {
   ShiftHandoverDto,
   ShiftHandoverState,
 } from '../../../shared/schemas/shift-handover.ts'
-import { ensureVisible } from '../../authorize.ts'
+import { ensureVisible, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -169,9 +169,7 @@ export async function handoverState(
 
 export async function getHandover(deps: AppDeps, ability: AppAbility, id: number): Promise<ShiftHandoverDto> {
   const [dto] = await toDtos(deps, deps.db, [id])
-  if (!dto) throw notFound('Shift handover')
-  ensureVisible(ability, 'ShiftHandover', { siteId: dto.siteId }, 'Shift handover')
-  return dto
+  return readableRow(dto, ability, 'ShiftHandover', 'Shift handover')
 }
 
 /**
