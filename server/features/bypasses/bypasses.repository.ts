@@ -2,6 +2,7 @@ import type { Kysely, NotNull, Transaction, Updateable } from 'kysely'
 import type { BypassStatus } from '../../../shared/schemas/bypasses.ts'
 import type { BypassTable, Database } from '../../db/schema.ts'
 import { pageWithTotal } from '../../db/paging.ts'
+import { idsOrNone } from '../../db/ids.ts'
 
 // Every query of the bypass workflow, its deadlines job and the plant manager's review (docs/bypasses.md).
 
@@ -156,7 +157,7 @@ export async function findBypassIds(db: Q, q: BypassListQuery, now: Date) {
   let base = db
     .selectFrom('bypass')
     .innerJoin('limit_function', 'limit_function.id', 'bypass.limit_id')
-    .where('bypass.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
+    .where('bypass.site_id', 'in', idsOrNone(q.siteIds))
   if (q.areaIds?.length) base = base.where('limit_function.area_id', 'in', q.areaIds)
   if (q.processIds?.length) base = base.where('limit_function.process_id', 'in', q.processIds)
   if (q.limitIds?.length) base = base.where('bypass.limit_id', 'in', q.limitIds)
@@ -231,11 +232,7 @@ export function lockBypassDeadlines(trx: Transaction<Database>, id: number) {
 
 /** Site policies of the review's sites. */
 export function findSitePolicies(db: Q, siteIds: number[]) {
-  return db
-    .selectFrom('site')
-    .select(['id', 'policy'])
-    .where('id', 'in', siteIds.length ? siteIds : [-1])
-    .execute()
+  return db.selectFrom('site').select(['id', 'policy']).where('id', 'in', idsOrNone(siteIds)).execute()
 }
 
 /** Degradations (failed test until a passing full test) of the review's limits. */
@@ -244,7 +241,7 @@ export function findDegradationSpans(db: Q, q: { siteIds: number[]; areaIds?: nu
     .selectFrom('limit_degradation')
     .innerJoin('limit_function', 'limit_function.id', 'limit_degradation.limit_id')
     .select(['limit_degradation.opened_at', 'limit_degradation.cleared_at'])
-    .where('limit_function.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
+    .where('limit_function.site_id', 'in', idsOrNone(q.siteIds))
   if (q.areaIds?.length) query = query.where('limit_function.area_id', 'in', q.areaIds)
   if (q.limitIds?.length) query = query.where('limit_function.id', 'in', q.limitIds)
   return query.execute()
@@ -255,7 +252,7 @@ export function signedTestOutcomes(db: Q, limitIds: number[]) {
   return db
     .selectFrom('trip_test')
     .select(['limit_id', 'performed_at', 'passed', 'kind', 'as_found_result', 'channels'])
-    .where('limit_id', 'in', limitIds.length ? limitIds : [-1])
+    .where('limit_id', 'in', idsOrNone(limitIds))
     .where('status', 'in', ['signed', 'completed'])
     .orderBy('performed_at')
     .execute()
@@ -266,7 +263,7 @@ export function degradationSpansOf(db: Q, limitIds: number[]) {
   return db
     .selectFrom('limit_degradation')
     .select(['limit_id', 'opened_at', 'cleared_at'])
-    .where('limit_id', 'in', limitIds.length ? limitIds : [-1])
+    .where('limit_id', 'in', idsOrNone(limitIds))
     .execute()
 }
 
@@ -287,7 +284,7 @@ export function findSilLimitsForRiskErosion(db: Q, siteIds: number[], areaIds?: 
       'commissioned_at',
       'protection_state',
     ])
-    .where('site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('site_id', 'in', idsOrNone(siteIds))
     .where('status', '=', 'active')
     .where('sil', 'is not', null)
     .$narrowType<{ sil: NotNull }>()

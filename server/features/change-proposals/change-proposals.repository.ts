@@ -3,6 +3,7 @@ import type { ChangeProposalListQuery } from '../../../shared/schemas/change-pro
 import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
 import { pageWithTotal } from '../../db/paging.ts'
+import { idsOrNone } from '../../db/ids.ts'
 
 /** Every query of change proposals (docs/change-requests.md#change-proposals). */
 type Q = Db | Transaction<Database>
@@ -46,7 +47,7 @@ export function listProposals(
   db: Q,
   q: Omit<ChangeProposalListQuery, 'siteId'> & { siteIds: number[]; userId: number },
 ) {
-  let query = base(db).where('p.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
+  let query = base(db).where('p.site_id', 'in', idsOrNone(q.siteIds))
   if (q.status?.length) query = query.where('p.status', 'in', q.status)
   if (q.limitId !== undefined) query = query.where('p.limit_id', '=', q.limitId)
   if (q.mine) query = query.where('p.proposer_id', '=', q.userId)

@@ -14,6 +14,7 @@ import { pageWithTotal } from '../../db/paging.ts'
 import type { Instrument } from '../../../shared/schemas/register.ts'
 import type { ChangeWaitingSites } from '../../../shared/domain/rules/change-requests.ts'
 import { likeEscape } from '../../authorize.ts'
+import { idsOrNone } from '../../db/ids.ts'
 
 /** Every query of management of change (docs/change-requests.md). Functions take `db` or a transaction first. */
 type Q = Db | Transaction<Database>
@@ -395,7 +396,7 @@ type CrEb = ExpressionBuilder<Database, 'change_request'>
 
 /** What waits for this person: to approve, to implement, to implement first (emergency), to close. */
 function waitingFor(eb: CrEb, sites: ChangeWaitingSites, userId: number) {
-  const inSites = (ids: number[]) => eb('change_request.site_id', 'in', ids.length ? ids : [-1])
+  const inSites = (ids: number[]) => eb('change_request.site_id', 'in', idsOrNone(ids))
   return eb.or([
     eb.and([
       inSites(sites.approve),
@@ -447,7 +448,7 @@ export function listRequests(
     .selectFrom('change_request')
     .innerJoin('app_user', 'app_user.id', 'change_request.proposer_id')
     .innerJoin('site', 'site.id', 'change_request.site_id')
-    .where('change_request.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
+    .where('change_request.site_id', 'in', idsOrNone(q.siteIds))
   if (q.status?.length) query = query.where('change_request.status', 'in', q.status)
   if (q.type?.length) query = query.where('change_request.type', 'in', q.type)
   if (q.q) query = query.where('change_request.title', 'ilike', `%${likeEscape(q.q)}%`)
@@ -523,7 +524,7 @@ export function listRequests(
 export async function countWaitingRequests(db: Q, siteIds: number[], userId: number, waiting: ChangeWaitingSites) {
   const r = await db
     .selectFrom('change_request')
-    .where('change_request.site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('change_request.site_id', 'in', idsOrNone(siteIds))
     .where((eb) => waitingFor(eb, waiting, userId))
     .select((eb) => eb.fn.countAll<number>().as('n'))
     .executeTakeFirstOrThrow()

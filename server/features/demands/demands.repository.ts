@@ -2,6 +2,7 @@ import type { Kysely, Transaction } from 'kysely'
 import { sql } from 'kysely'
 import type { Database, DemandKind, DemandOutcome } from '../../db/schema.ts'
 import { pageWithTotal } from '../../db/paging.ts'
+import { idsOrNone } from '../../db/ids.ts'
 
 type Db = Kysely<Database> | Transaction<Database>
 
@@ -120,7 +121,7 @@ function filtered(db: Db, f: DemandFilter) {
   let query = db
     .selectFrom('demand')
     .innerJoin('limit_function as l', 'l.id', 'demand.limit_id')
-    .where('demand.site_id', 'in', f.siteIds.length ? f.siteIds : [-1])
+    .where('demand.site_id', 'in', idsOrNone(f.siteIds))
   if (f.limitIds?.length) query = query.where('demand.limit_id', 'in', f.limitIds)
   if (f.kinds?.length) query = query.where('demand.kind', 'in', f.kinds)
   if (f.from) query = query.where('demand.occurred_at', '>=', f.from)
@@ -157,7 +158,7 @@ export function loadDemandRows(db: Db, ids: number[]) {
       'c.display_name as classified_by_name',
       'k.display_name as credited_by_name',
     ])
-    .where('demand.id', 'in', ids.length ? ids : [-1])
+    .where('demand.id', 'in', idsOrNone(ids))
     .execute()
 }
 
@@ -186,7 +187,7 @@ export function demandCountsByLimit(db: Db, siteIds: number[], from: Date, to: D
       eb.fn.count<string>('d.id').filterWhere('d.kind', 'in', ['real_demand', 'failure_on_demand']).as('demands'),
       eb.fn.count<string>('d.id').filterWhere('d.kind', '=', 'spurious_trip').as('spurious'),
     ])
-    .where('l.site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('l.site_id', 'in', idsOrNone(siteIds))
     .where('l.status', '=', 'active')
     .where((eb) =>
       eb.or([
@@ -258,7 +259,7 @@ export function instrumentsInService(db: Db, siteIds: number[]) {
         .whereRef('li.instrument_id', '=', 'i.id')
         .as('commissioned_at'),
     ])
-    .where('i.site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('i.site_id', 'in', idsOrNone(siteIds))
     .where((eb) =>
       eb.exists(
         eb
@@ -282,7 +283,7 @@ export function dangerousAsFoundTests(db: Db, siteIds: number[], from: Date, to:
     .selectFrom('trip_test as t')
     .innerJoin('limit_function as l', 'l.id', 't.limit_id')
     .select(['t.id', 't.performed_at', 't.channels', 't.as_found_result', 'l.primary_instrument_id'])
-    .where('t.site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('t.site_id', 'in', idsOrNone(siteIds))
     .where('t.status', 'in', ['signed', 'completed'])
     .where('t.scope', 'in', ['function', 'sensor'])
     .where('t.performed_at', '>=', from)
@@ -301,7 +302,7 @@ export function dangerousUndetectedDemands(db: Db, siteIds: number[], from: Date
   return db
     .selectFrom('demand')
     .select(['id', 'kind', 'instrument_id', 'occurred_at'])
-    .where('site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('site_id', 'in', idsOrNone(siteIds))
     .where('kind', 'in', ['dangerous_failure', 'failure_on_demand'])
     .where('dangerous_undetected', '=', true)
     .where('counts', '=', true)
@@ -329,7 +330,7 @@ export function silLimitsWithChannels(db: Db, siteIds: number[]) {
         .whereRef('li.limit_id', '=', 'l.id')
         .as('channel_ids'),
     ])
-    .where('l.site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('l.site_id', 'in', idsOrNone(siteIds))
     .where('l.status', '=', 'active')
     .where('l.sil', 'is not', null)
     .orderBy('l.tag')

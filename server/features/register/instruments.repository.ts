@@ -2,6 +2,7 @@ import type { Insertable, Kysely, Transaction, Updateable } from 'kysely'
 import type { Database, InstrumentRevisionTable, InstrumentTable } from '../../db/schema.ts'
 import { pageWithTotal } from '../../db/paging.ts'
 import { findIdByTag } from './tags.repository.ts'
+import { idsOrNone } from '../../db/ids.ts'
 
 // Every query of the register's instruments (docs/register.md).
 
@@ -32,7 +33,7 @@ export function listInstrumentRows(
   let q = db
     .selectFrom('instrument')
     .innerJoin('process', 'process.id', 'instrument.process_id')
-    .where('instrument.site_id', 'in', f.siteIds.length ? f.siteIds : [-1])
+    .where('instrument.site_id', 'in', idsOrNone(f.siteIds))
   if (f.processIds?.length) q = q.where('instrument.process_id', 'in', f.processIds)
   if (f.q) q = q.where('instrument.tag', 'ilike', `%${f.q}%`)
   return pageWithTotal(q, f, (filtered) =>

@@ -4,6 +4,7 @@ import type { Database, LimitFunctionTable, LimitRevisionTable } from '../../db/
 import type { LimitListRow } from './register.mappers.ts'
 import type { Limit } from '../../../shared/schemas/register.ts'
 import { findIdByTag } from './tags.repository.ts'
+import { idsOrNone } from '../../db/ids.ts'
 
 type ProtectionState = Limit['protectionState']
 
@@ -61,7 +62,7 @@ function baseQuery(db: Q) {
 type Base = ReturnType<typeof baseQuery>
 
 export function applyFilters<O>(q: SelectQueryBuilder<any, any, O>, f: LimitFilters): SelectQueryBuilder<any, any, O> {
-  let query = q.where('limit_function.site_id', 'in', f.siteIds.length ? f.siteIds : [-1])
+  let query = q.where('limit_function.site_id', 'in', idsOrNone(f.siteIds))
   if (f.areaIds?.length) query = query.where('limit_function.area_id', 'in', f.areaIds)
   if (f.processIds?.length) query = query.where('limit_function.process_id', 'in', f.processIds)
   if (f.instrumentIds?.length) {

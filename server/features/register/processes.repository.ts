@@ -1,5 +1,6 @@
 import type { Insertable, Kysely, Transaction } from 'kysely'
 import type { Database, ProcessTable } from '../../db/schema.ts'
+import { idsOrNone } from '../../db/ids.ts'
 
 // Every query of the register's processes (docs/register.md).
 
@@ -7,10 +8,7 @@ type Q = Kysely<Database> | Transaction<Database>
 
 /** Processes of these sites (and areas, when given), by name. */
 export function listProcessRows(db: Q, siteIds: number[], areaIds?: number[]) {
-  let q = db
-    .selectFrom('process')
-    .selectAll()
-    .where('site_id', 'in', siteIds.length ? siteIds : [-1])
+  let q = db.selectFrom('process').selectAll().where('site_id', 'in', idsOrNone(siteIds))
   if (areaIds?.length) q = q.where('area_id', 'in', areaIds)
   return q.orderBy('name').execute()
 }

@@ -6,6 +6,7 @@ import type { Role } from '../../../shared/schemas/users.ts'
 import type { ComponentScope, TestScope } from '../../../shared/schemas/trip-tests.ts'
 import type { Database, LimitDegradationTable, TestDeferralTable, TripTestTable } from '../../db/schema.ts'
 import { pageWithTotal } from '../../db/paging.ts'
+import { idsOrNone } from '../../db/ids.ts'
 
 type Db = Kysely<Database> | Transaction<Database>
 
@@ -160,7 +161,7 @@ export function listTripTests(db: Db, q: TripTestListFilter) {
     .selectFrom('trip_test')
     .innerJoin('limit_function', 'limit_function.id', 'trip_test.limit_id')
     .innerJoin('app_user', 'app_user.id', 'trip_test.recorded_by')
-    .where('trip_test.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
+    .where('trip_test.site_id', 'in', idsOrNone(q.siteIds))
   if (q.limitId) base = base.where('trip_test.limit_id', '=', q.limitId)
   if (q.scope) base = base.where('trip_test.scope', '=', q.scope)
   if (q.passed !== undefined) base = base.where('trip_test.passed', '=', q.passed)
@@ -355,7 +356,7 @@ export async function scheduleRows(db: Db, q: ScheduleFilter) {
         .onRef('test_deferral.new_due_date', '=', 'limit_function.test_due_date'),
     )
     .where('limit_function.status', '=', 'active')
-    .where('limit_function.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
+    .where('limit_function.site_id', 'in', idsOrNone(q.siteIds))
   if (q.areaIds?.length) base = base.where('limit_function.area_id', 'in', q.areaIds)
   if (q.status?.length) base = base.where('limit_function.test_status', 'in', q.status)
   return base
@@ -381,10 +382,7 @@ export async function scheduleRows(db: Db, q: ScheduleFilter) {
 }
 
 export async function scheduleCounts(db: Db, siteIds: number[], areaIds?: number[]) {
-  let base = db
-    .selectFrom('limit_function')
-    .where('status', '=', 'active')
-    .where('site_id', 'in', siteIds.length ? siteIds : [-1])
+  let base = db.selectFrom('limit_function').where('status', '=', 'active').where('site_id', 'in', idsOrNone(siteIds))
   if (areaIds?.length) base = base.where('area_id', 'in', areaIds)
   return base
     .select(['test_status', (eb) => eb.fn.countAll<number>().as('n')])
@@ -470,12 +468,7 @@ export function unescalatedDeadlines(db: Db) {
 
 /** The time zones of some sites (each site's "today" is its own calendar day). */
 export function siteZones(db: Db, siteIds: number[]) {
-  return db
-    .selectFrom('site')
-    .select(['id', 'time_zone'])
-    .where('id', 'in', siteIds.length ? siteIds : [-1])
-    .orderBy('id')
-    .execute()
+  return db.selectFrom('site').select(['id', 'time_zone']).where('id', 'in', idsOrNone(siteIds)).orderBy('id').execute()
 }
 
 /** Open degradations of some sites whose repair deadline has passed (for home and handover). */
@@ -492,7 +485,7 @@ export function passedRepairDeadlines(db: Db, siteIds: number[], today: string) 
       'limit_function.site_id',
       'limit_function.area_id',
     ])
-    .where('limit_function.site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('limit_function.site_id', 'in', idsOrNone(siteIds))
     .where('limit_degradation.cleared_at', 'is', null)
     .where('limit_degradation.repair_deadline', '<', today)
     .orderBy('limit_degradation.repair_deadline')
@@ -569,7 +562,7 @@ export interface DeferralListFilter {
 }
 
 export function listDeferrals(db: Db, q: DeferralListFilter) {
-  let base = deferralBase(db).where('test_deferral.site_id', 'in', q.siteIds.length ? q.siteIds : [-1])
+  let base = deferralBase(db).where('test_deferral.site_id', 'in', idsOrNone(q.siteIds))
   if (q.limitId) base = base.where('test_deferral.limit_id', '=', q.limitId)
   if (q.status?.length) base = base.where('test_deferral.status', 'in', q.status)
   return pageWithTotal(base, q, (b) =>
@@ -597,7 +590,7 @@ export function deferralsBetween(db: Db, siteIds: number[], from: Date, to: Date
       'limit_function.area_id',
       'limit_function.test_due_date',
     ])
-    .where('test_deferral.site_id', 'in', siteIds.length ? siteIds : [-1])
+    .where('test_deferral.site_id', 'in', idsOrNone(siteIds))
     .where('test_deferral.requested_at', '<', to)
     .where((eb) => eb.or([eb('test_deferral.requested_at', '>=', from), eb('test_deferral.status', '=', 'requested')]))
     .execute()
