@@ -114,6 +114,21 @@ export async function reversalsOf(db: Q, id: number) {
     .execute()
 }
 
+/** The items of the request the outer query reads (`change_request`), for EXISTS and counts. */
+export function itemsOfRequest(eb: ExpressionBuilder<Database, 'change_request'>) {
+  return eb
+    .selectFrom('change_request_item')
+    .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
+}
+
+/** The signatures given on the request the outer query reads (`change_request`). */
+function signaturesOfRequest(eb: ExpressionBuilder<Database, 'change_request'>) {
+  return eb
+    .selectFrom('signature')
+    .where('signature.entity_type', '=', CHANGE_ENTITY)
+    .whereRef('signature.entity_id', '=', 'change_request.id')
+}
+
 /** The implemented or closed requests reversing a change (none: the temporary change is not reverted). */
 export function implementedReversal(eb: ExpressionBuilder<Database, 'change_request'>) {
   return eb
@@ -414,11 +429,8 @@ function waitingFor(eb: CrEb, sites: ChangeWaitingSites, userId: number) {
       ),
       eb.not(
         eb.exists(
-          eb
-            .selectFrom('signature')
-            .select('id')
-            .where('entity_type', '=', CHANGE_ENTITY)
-            .whereRef('signature.entity_id', '=', 'change_request.id')
+          signaturesOfRequest(eb)
+            .select('signature.id')
             .where('signature.user_id', '=', userId)
             .where('signature.meaning', 'in', ['approved', 'implemented'])
             .where('signature.voided_at', 'is', null),
@@ -456,10 +468,8 @@ export function listRequests(
     const limitId = q.limitId
     query = query.where((eb) =>
       eb.exists(
-        eb
-          .selectFrom('change_request_item')
+        itemsOfRequest(eb)
           .select('change_request_item.id')
-          .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
           .where((w) =>
             w.or([
               w('change_request_item.limit_id', '=', limitId),
@@ -501,17 +511,12 @@ export function listRequests(
         'app_user.display_name as proposer_name',
         (eb) => expiredUnreverted(eb, q.now).as('expired_to_revert'),
         (eb) =>
-          eb
-            .selectFrom('change_request_item')
+          itemsOfRequest(eb)
             .select((e) => e.fn.countAll<number>().as('n'))
-            .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
             .as('item_count'),
         (eb) =>
-          eb
-            .selectFrom('signature')
+          signaturesOfRequest(eb)
             .select((e) => e.fn.countAll<number>().as('n'))
-            .where('signature.entity_type', '=', CHANGE_ENTITY)
-            .whereRef('signature.entity_id', '=', 'change_request.id')
             .where('signature.meaning', '=', 'approved')
             .where('signature.voided_at', 'is', null)
             .as('approvals_held'),
@@ -604,10 +609,8 @@ export async function approvedNotStarted(db: Q) {
       .where((eb) =>
         eb.not(
           eb.exists(
-            eb
-              .selectFrom('change_request_item')
+            itemsOfRequest(eb)
               .select('change_request_item.id')
-              .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
               .where('change_request_item.implemented_at', 'is not', null),
           ),
         ),

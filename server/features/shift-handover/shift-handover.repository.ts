@@ -1,7 +1,11 @@
 import { OVERDUE_TEST_STATUSES } from '../../../shared/domain/rules/trip-tests.ts'
 import type { ExpressionBuilder, Kysely, Transaction } from 'kysely'
 import type { Database } from '../../db/schema.ts'
-import { expiredUnreverted, implementedReversal } from '../change-requests/change-requests.repository.ts'
+import {
+  expiredUnreverted,
+  implementedReversal,
+  itemsOfRequest,
+} from '../change-requests/change-requests.repository.ts'
 
 // Every query of the shift handover (docs/shift-handover.md).
 
@@ -85,11 +89,9 @@ export function findOpenTemporaryChanges(db: Q, siteId: number, areaId: number, 
       .where((eb) => eb.or([eb('expires_at', '>', now), eb('status', 'in', ['implemented', 'closed'])]))
       .where((eb) =>
         eb.exists(
-          eb
-            .selectFrom('change_request_item')
+          itemsOfRequest(eb)
             .innerJoin('limit_function', 'limit_function.id', 'change_request_item.limit_id')
             .select('change_request_item.id')
-            .whereRef('change_request_item.change_request_id', '=', 'change_request.id')
             .where('limit_function.area_id', '=', areaId),
         ),
       )
