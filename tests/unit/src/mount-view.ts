@@ -110,6 +110,26 @@ export function resetPage() {
   document.body.innerHTML = ''
 }
 
+/** Opens the dialog of the page's button `[data-test=button]`, the visual viewport stubbed for its overlay. */
+export async function openDialog(w: VueWrapper, button: string) {
+  stubVisualViewport()
+  await w.find(`[data-test="${button}"]`).trigger('click')
+  await flushPromises()
+}
+
+/** Types `value` into the field `[data-test=test]` of the open dialog (teleported to the body). */
+export function typeInDialog(test: string, value: string) {
+  const input = document.body.querySelector<HTMLInputElement | HTMLTextAreaElement>(
+    `[data-test="${test}"] input, [data-test="${test}"] textarea`,
+  )!
+  input.value = value
+  input.dispatchEvent(new Event('input'))
+}
+
+/** Clicks `[data-test=test]` of the open dialog (teleported to the body). */
+export const clickInDialog = (test: string) =>
+  document.body.querySelector<HTMLElement>(`[data-test="${test}"]`)!.click()
+
 /**
  * The workflow buttons of a record's page that are shown, by name (data-test `${prefix}-${name}`): true when
  * enabled, else the reason it is disabled (AppRuleButton's tooltip, docs/architecture.md#rule-books).

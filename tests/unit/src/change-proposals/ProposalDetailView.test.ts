@@ -1,17 +1,18 @@
-import { flushPromises } from '@vue/test-utils'
 import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { ChangeProposalDto, ProposalStatus } from '@shared/schemas/change-proposals.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import ProposalDetailView from '@/features/change-proposals/views/ProposalDetailView.vue'
 import {
-  SITE_CHOICES,
-  mountRecordPage,
-  resetPage,
-  stubVisualViewport,
   answerApi,
+  clickInDialog,
   FHR,
+  mountRecordPage,
+  openDialog,
+  resetPage,
   type Routes,
   ruleButtons,
+  SITE_CHOICES,
+  typeInDialog,
 } from '../mount-view.ts'
 
 // The proposal page offers "Develop into a change request" and "Decline" as the change-proposal rule book allows
@@ -115,15 +116,9 @@ describe('ProposalDetailView: buttons follow the change-proposal rule book', () 
     const { w, calls } = await open(proposal('open'), ['safety_engineer'], FHR.id, {
       'POST /change-proposals/42/decline': () => ({ body: proposal('declined', { declineReason: reason }) }),
     })
-    stubVisualViewport()
-    await w.find('[data-test="proposal-decline"]').trigger('click')
-    await flushPromises()
-    const input = document.body.querySelector<HTMLTextAreaElement>(
-      '[data-test="proposal-decline-reason-input"] textarea',
-    )!
-    input.value = reason
-    input.dispatchEvent(new Event('input'))
-    document.body.querySelector<HTMLElement>('[data-test="proposal-decline-confirm"]')!.click()
+    await openDialog(w, 'proposal-decline')
+    typeInDialog('proposal-decline-reason-input', reason)
+    clickInDialog('proposal-decline-confirm')
     await vi.waitFor(() => expect(w.find('[data-test="proposal-decline-reason"]').exists()).toBe(true))
 
     expect(calls.filter((c) => c.method === 'POST')).toEqual([

@@ -5,14 +5,16 @@ import type { Role } from '@shared/schemas/users.ts'
 import AppSignDialog from '@/components/AppSignDialog.vue'
 import DemandDetailView from '@/features/demands/views/DemandDetailView.vue'
 import {
-  SITE_CHOICES,
-  mountRecordPage,
-  resetPage,
-  stubVisualViewport,
   answerApi,
+  clickInDialog,
   FHR,
+  mountRecordPage,
+  openDialog,
+  resetPage,
   type Routes,
   ruleButtons,
+  SITE_CHOICES,
+  typeInDialog,
 } from '../mount-view.ts'
 
 // The event page builds "Classify" and "Credit as proof test" from the demand rule book's answers carried on the
@@ -194,13 +196,9 @@ describe('DemandDetailView: what the actions send', () => {
         },
       }),
     })
-    stubVisualViewport()
-    await w.find('[data-test="demand-classify"]').trigger('click')
-    await flushPromises()
-    const input = document.body.querySelector<HTMLTextAreaElement>('[data-test="classify-note"] textarea')!
-    input.value = note
-    input.dispatchEvent(new Event('input'))
-    document.body.querySelector<HTMLElement>('[data-test="classify-confirm"]')!.click()
+    await openDialog(w, 'demand-classify')
+    typeInDialog('classify-note', note)
+    clickInDialog('classify-confirm')
     await vi.waitFor(() => expect(w.find('[data-test="demand-classification"]').exists()).toBe(true))
 
     expect(calls.filter((c) => c.method === 'POST')).toEqual([
@@ -230,12 +228,8 @@ describe('DemandDetailView: what the actions send', () => {
         },
       }),
     })
-    stubVisualViewport()
-    await w.find('[data-test="demand-credit"]').trigger('click')
-    await flushPromises()
-    const input = document.body.querySelector<HTMLTextAreaElement>('[data-test="credit-note"] textarea')!
-    input.value = note
-    input.dispatchEvent(new Event('input'))
+    await openDialog(w, 'demand-credit')
+    typeInDialog('credit-note', note)
     document.body.querySelector<HTMLInputElement>('[data-test="credit-covered"] input')!.click()
     await flushPromises()
     await w.findComponent(AppSignDialog).props('sign')('my password', '')

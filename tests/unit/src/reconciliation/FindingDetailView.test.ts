@@ -7,13 +7,15 @@ import type { Role, RoleAssignment } from '@shared/schemas/users.ts'
 import FindingDetailView from '@/features/reconciliation/views/FindingDetailView.vue'
 import { onSite } from '@/features/register/site-subject'
 import {
-  SITE_CHOICES,
-  mountRecordPage,
-  stubVisualViewport,
   answerApi,
+  clickInDialog,
   FHR,
+  mountRecordPage,
   mountView,
   type Routes,
+  SITE_CHOICES,
+  stubVisualViewport,
+  typeInDialog,
 } from '../mount-view.ts'
 
 // The finding page builds its buttons from the findings rule book (docs/reconciliation.md#findings): a safety
@@ -105,15 +107,6 @@ const ACK_FIRST_LINK = 'Acknowledge the finding first: somebody owns it before i
 const ACK_FIRST_ACCEPT = 'Acknowledge the finding first: somebody owns it before it is accepted.'
 const closedReason = (s: string) =>
   `The finding is ${s}; it reopens by itself if a later reconciliation sees the difference again.`
-
-/** Types into a field of the open dialog (teleported to the body). */
-function type(test: string, value: string) {
-  const input = document.body.querySelector<HTMLInputElement | HTMLTextAreaElement>(
-    `[data-test="${test}"] input, [data-test="${test}"] textarea`,
-  )!
-  input.value = value
-  input.dispatchEvent(new Event('input'))
-}
 
 afterEach(() => {
   vi.useRealTimers()
@@ -239,10 +232,10 @@ describe('FindingDetailView: what the actions send', () => {
     expect(document.body.querySelector('[data-test="sign-meaning"]')?.textContent).toContain(
       'TSHH-103 (setpoint) stays as the source holds it (910 °C) while the register says 900 °C',
     )
-    type('accept-reason', 'Raised under the furnace campaign procedure')
-    type('sign-password', 'limitkeeper-demo')
+    typeInDialog('accept-reason', 'Raised under the furnace campaign procedure')
+    typeInDialog('sign-password', 'limitkeeper-demo')
     await flushPromises()
-    document.body.querySelector<HTMLButtonElement>('[data-test="sign-confirm"]')!.click()
+    clickInDialog('sign-confirm')
     await flushPromises()
     expect(calls.filter((c) => c.method !== 'GET')).toEqual([
       {

@@ -5,7 +5,15 @@ import type { TestDeferralDto } from '@shared/schemas/trip-tests.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import LimitDemandRatesPanel from '@/features/demands/components/LimitDemandRatesPanel.vue'
 import LimitDeferralsPanel from '@/features/trip-tests/components/LimitDeferralsPanel.vue'
-import { stubVisualViewport, answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
+import {
+  answerApi,
+  clickInDialog,
+  FHR,
+  mountView,
+  type Routes,
+  stubVisualViewport,
+  typeInDialog,
+} from '../mount-view.ts'
 import { heaterTrip } from './limit-fixture.ts'
 
 // Two panels of the limit page whose action opens a dialog: the hazard study's demand rates (docs/demands.md) and the
@@ -31,16 +39,6 @@ async function open(panel: typeof LimitDemandRatesPanel | typeof LimitDeferralsP
 async function offered(panel: Parameters<typeof open>[0], role: Role, api: Routes, test: string) {
   return (await open(panel, [role], api)).w.find(`[data-test="${test}"]`).exists()
 }
-
-/** Types into a field of the open dialog (teleported to the body). */
-function type(test: string, value: string) {
-  const input = document.body.querySelector<HTMLInputElement | HTMLTextAreaElement>(
-    `[data-test="${test}"] input, [data-test="${test}"] textarea`,
-  )!
-  input.value = value
-  input.dispatchEvent(new Event('input'))
-}
-const click = (test: string) => document.body.querySelector<HTMLElement>(`[data-test="${test}"]`)!.click()
 
 describe('LimitDemandRatesPanel', () => {
   const row = (assumed: number | null): DemandRateRow => ({
@@ -85,9 +83,9 @@ describe('LimitDemandRatesPanel', () => {
     expect(w.find('[data-test="rate-demand"] [data-test="rate-assumed"]').text()).toBe('—')
     await w.find('[data-test="assumptions-edit"]').trigger('click')
     await flushPromises()
-    type('assumed-demand', '0.1')
-    type('assumed-reason', 'Hazard study H-101, node 4')
-    click('assumptions-save')
+    typeInDialog('assumed-demand', '0.1')
+    typeInDialog('assumed-reason', 'Hazard study H-101, node 4')
+    clickInDialog('assumptions-save')
     await vi.waitFor(() =>
       expect(w.find('[data-test="rate-demand"] [data-test="rate-assumed"]').text()).toBe(
         '0.1 /year (once in 10 years)',
@@ -161,10 +159,10 @@ describe('LimitDeferralsPanel', () => {
     })
     await w.find('[data-test="deferral-request"]').trigger('click')
     await flushPromises()
-    type('deferral-new-date', '2027-06-01')
-    type('deferral-reason', 'Heater runs until the June shutdown')
-    type('deferral-measures', 'Operator watches TI locally every 15 min\n\n')
-    click('deferral-submit')
+    typeInDialog('deferral-new-date', '2027-06-01')
+    typeInDialog('deferral-reason', 'Heater runs until the June shutdown')
+    typeInDialog('deferral-measures', 'Operator watches TI locally every 15 min\n\n')
+    clickInDialog('deferral-submit')
     await vi.waitFor(() => expect(w.find('[data-test="deferral-status"]').text()).toBe('requested'))
     expect(calls.filter((c) => c.method === 'POST').map((c) => c.body)).toEqual([
       {

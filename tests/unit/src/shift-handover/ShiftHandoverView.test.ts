@@ -3,7 +3,7 @@ import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { ShiftHandoverDto, ShiftHandoverState, ShiftHandoverStatus } from '@shared/schemas/shift-handover.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import ShiftHandoverView from '@/features/shift-handover/views/ShiftHandoverView.vue'
-import { stubVisualViewport, answerApi, FHR, mountView } from '../mount-view.ts'
+import { answerApi, clickInDialog, FHR, mountView, stubVisualViewport, typeInDialog } from '../mount-view.ts'
 
 // The handover page builds "Hand over" and "Accept handover" from the shift-handover rule book
 // (docs/shift-handover.md#rules) for the roles and states of its table, and signs what it shows.
@@ -94,10 +94,8 @@ describe('ShiftHandoverView: buttons follow the shift-handover rule book', () =>
     await flushPromises()
     const dialog = document.body.querySelector('[data-test="sign-dialog"]')
     expect(dialog?.textContent).toContain(CONTENT_HASH)
-    const password = document.body.querySelector<HTMLInputElement>('[data-test="sign-password"] input')!
-    password.value = 'limitkeeper-demo'
-    password.dispatchEvent(new Event('input'))
-    document.body.querySelector<HTMLButtonElement>('[data-test="sign-confirm"]')!.click()
+    typeInDialog('sign-password', 'limitkeeper-demo')
+    clickInDialog('sign-confirm')
     await flushPromises()
     expect(calls.filter((c) => c.method === 'POST')).toEqual([
       {
