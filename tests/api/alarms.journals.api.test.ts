@@ -109,26 +109,22 @@ describe('alarm journal upload', () => {
   it('leaves the events of a tag the register holds as an alert out of the figures', async () => {
     // an alert is not an alarm and does not load the operator (ISA-18.2-2016 separates alerts from alarms; from memory)
     const area = (await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items[0] as { id: number }
-    const proc = (await eng.post('/api/processes', { areaId: area.id, name: 'Slop tank T-77' }).expect(201)).body
-    const inst = (
-      await eng
-        .post('/api/instruments', {
-          processId: proc.id,
-          tag: 'LT-77',
-          measuredVariable: 'level',
-          unit: '%',
-          rangeLow: 0,
-          rangeHigh: 100,
-          normalLow: 20,
-          normalHigh: 70,
-          designLow: null,
-          designHigh: null,
-          burnout: 'downscale',
-          signal: { kind: 'current', sqrtExtraction: false },
-          deviceKind: 'control_system',
-        })
-        .expect(201)
-    ).body
+    const proc = await eng.created('/api/processes', { areaId: area.id, name: 'Slop tank T-77' })
+    const inst = await eng.created('/api/instruments', {
+      processId: proc.id,
+      tag: 'LT-77',
+      measuredVariable: 'level',
+      unit: '%',
+      rangeLow: 0,
+      rangeHigh: 100,
+      normalLow: 20,
+      normalHigh: 70,
+      designLow: null,
+      designHigh: null,
+      burnout: 'downscale',
+      signal: { kind: 'current', sqrtExtraction: false },
+      deviceKind: 'control_system',
+    })
     await eng
       .post('/api/limits', {
         processId: proc.id,

@@ -24,22 +24,18 @@ beforeAll(async () => {
     ['engineer', 'operator', 'supervisor', 'technician'].map((w) => signedIn(app, w)),
   )
   fixture = await buildHeaterTrip(eng)
-  alarm = (
-    await eng
-      .post('/api/limits', {
-        processId: fixture.proc.id,
-        instrumentIds: [fixture.inst.id],
-        tag: `TAH-${fixture.inst.tag}`,
-        direction: 'high',
-        limitClass: 'alarm',
-        setpoint: 700,
-        deadband: 0,
-        severity: 'minor',
-        responseTimeMin: 10,
-        testIntervalMonths: 12,
-      })
-      .expect(201)
-  ).body
+  alarm = await eng.created('/api/limits', {
+    processId: fixture.proc.id,
+    instrumentIds: [fixture.inst.id],
+    tag: `TAH-${fixture.inst.tag}`,
+    direction: 'high',
+    limitClass: 'alarm',
+    setpoint: 700,
+    deadband: 0,
+    severity: 'minor',
+    responseTimeMin: 10,
+    testIntervalMonths: 12,
+  })
 })
 
 describe('alarm states (rule book shared/domain/rules/alarm-states.ts)', () => {
@@ -94,7 +90,7 @@ describe('alarm states (rule book shared/domain/rules/alarm-states.ts)', () => {
       password: DEMO_PASSWORD,
     }
     await tech.post('/api/alarm-states', outOfService).expect(403)
-    const oos = (await sup.post('/api/alarm-states', outOfService).expect(201)).body
+    const oos = await sup.created('/api/alarm-states', outOfService)
     await eng.post(`/api/alarm-states/${oos.id}/end`, { note: 'done' }).expect(403)
     const ended = (
       await tech.post(`/api/alarm-states/${oos.id}/end`, { note: 'Loop checked, alarm tested at setpoint' }).expect(200)

@@ -73,8 +73,8 @@ beforeAll(async () => {
   await person('adm-fhr', 'admin', fhr)
   await person('op-fhr', 'operator', fhr)
   await person('op-smp', 'operator', smp)
-  const areaF = (await admin.post('/api/areas', { siteId: fhr, name: 'Audit scope unit F' }).expect(201)).body
-  const areaS = (await admin.post('/api/areas', { siteId: smp, name: 'Audit scope unit S' }).expect(201)).body
+  const areaF = await admin.created('/api/areas', { siteId: fhr, name: 'Audit scope unit F' })
+  const areaS = await admin.created('/api/areas', { siteId: smp, name: 'Audit scope unit S' })
   ev.areaFhr = await lastEvent('area.create', String(areaF.id))
   ev.areaSmp = await lastEvent('area.create', String(areaS.id))
   await as('op-fhr')
@@ -96,9 +96,11 @@ describe('events carry their site', () => {
     expect(await site(ev.signInFhr)).toBeNull()
     expect(await site(ev.unknown)).toBeNull()
     // a site's own creation event is about that site
-    const created = (
-      await admin.post('/api/sites', { code: 'AUD', name: 'Audit Test Works', timeZone: 'Europe/London' }).expect(201)
-    ).body
+    const created = await admin.created('/api/sites', {
+      code: 'AUD',
+      name: 'Audit Test Works',
+      timeZone: 'Europe/London',
+    })
     expect(await site(await lastEvent('site.create', String(created.id)))).toBe(created.id)
   })
 
@@ -179,7 +181,7 @@ describe('who reads which events', () => {
 
 describe('events written before they carried their site', () => {
   it('are placed by the migration from the entity they name, and read with that site', async () => {
-    const area = (await admin.post('/api/areas', { siteId: smp, name: 'Legacy unit' }).expect(201)).body
+    const area = await admin.created('/api/areas', { siteId: smp, name: 'Legacy unit' })
     // an event as an older installation wrote it: no site
     await ctx.db.transaction().execute((trx) =>
       appendAudit(trx, ctx.clock, { actorId: null, requestId: null, ip: null }, [

@@ -18,17 +18,13 @@ const as = {} as Record<Who, ApiAgent>
 let limit: { id: number; siteId: number }
 
 const authorized = async (reason: string) => {
-  const b = (
-    await as.operator
-      .post('/api/bypasses', {
-        limitId: limit.id,
-        reason,
-        plannedStart: '2026-05-11T06:00:00Z',
-        plannedEnd: '2026-05-11T12:00:00Z',
-        predefinedMeasuresConfirmed: true,
-      })
-      .expect(201)
-  ).body
+  const b = await as.operator.created('/api/bypasses', {
+    limitId: limit.id,
+    reason,
+    plannedStart: '2026-05-11T06:00:00Z',
+    plannedEnd: '2026-05-11T12:00:00Z',
+    predefinedMeasuresConfirmed: true,
+  })
   await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
   return b.id as number
 }
@@ -167,16 +163,14 @@ describe('bypass: removal on record (IEC 61511-1 16.2 bypasses logged; removing 
   it('only an active bypass is removed: 409 INVALID_STATE otherwise', async () => {
     const clear = { pvClearConfirmed: true, protectionRestoredConfirmed: true }
     const requested = (
-      await as.operator
-        .post('/api/bypasses', {
-          limitId: limit.id,
-          reason: 'Not yet authorized',
-          plannedStart: '2026-05-11T06:00:00Z',
-          plannedEnd: '2026-05-11T12:00:00Z',
-          predefinedMeasuresConfirmed: true,
-        })
-        .expect(201)
-    ).body.id as number
+      await as.operator.created('/api/bypasses', {
+        limitId: limit.id,
+        reason: 'Not yet authorized',
+        plannedStart: '2026-05-11T06:00:00Z',
+        plannedEnd: '2026-05-11T12:00:00Z',
+        predefinedMeasuresConfirmed: true,
+      })
+    ).id as number
     const auth = await authorized('Authorized, not active')
     const done = await authorized('Removed already')
     await as.operator.post(`/api/bypasses/${done}/activation`, ACTIVATE).expect(200)

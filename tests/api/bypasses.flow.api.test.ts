@@ -48,7 +48,7 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
       .expect(400)
     expect(noMeasures.body.error.details.fields.predefinedMeasuresConfirmed).toBeDefined()
     await op.post('/api/bypasses', { ...request, plannedEnd: '2026-05-04T16:30:00Z' }).expect(400)
-    const b = (await op.post('/api/bypasses', request).expect(201)).body
+    const b = await op.created('/api/bypasses', request)
     expect(b.status).toBe('requested')
     await op.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(403)
     await sup.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
@@ -73,11 +73,11 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
       .executeTakeFirstOrThrow()
     expect(putInForce.after).toMatchObject({ measuresInPlace: true, shownToOperator: true })
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.protectionState).toBe('bypassed')
-    const second = (
-      await op
-        .post('/api/bypasses', { ...request, reason: 'Second one', plannedEnd: '2026-05-04T08:30:00Z' })
-        .expect(201)
-    ).body
+    const second = await op.created('/api/bypasses', {
+      ...request,
+      reason: 'Second one',
+      plannedEnd: '2026-05-04T08:30:00Z',
+    })
     await sup.post(`/api/bypasses/${second.id}/authorizations`, { password: PW }).expect(200)
     await op.post(`/api/bypasses/${second.id}/activation`, ACTIVATE).expect(409)
 

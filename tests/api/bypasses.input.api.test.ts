@@ -46,36 +46,28 @@ async function buildLimit(
   )!
   const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[0]
   const n = `${process.pid % 1000}-${++seq}`
-  const proc = (
-    await eng
-      .post('/api/processes', { areaId: area.id, name: `Bypass input heater H-${n}`, description: 'fired heater' })
-      .expect(201)
-  ).body
+  const proc = await eng.created('/api/processes', {
+    areaId: area.id,
+    name: `Bypass input heater H-${n}`,
+    description: 'fired heater',
+  })
   const instruments = []
   for (let i = 0; i < (o.channels ?? 1); i++) {
     instruments.push(
-      (
-        await eng
-          .post('/api/instruments', heaterThermocouple(proc.id, `TTB-${n}${String.fromCharCode(65 + i)}`))
-          .expect(201)
-      ).body,
+      await eng.created('/api/instruments', heaterThermocouple(proc.id, `TTB-${n}${String.fromCharCode(65 + i)}`)),
     )
   }
   const alarm = o.limitClass === 'alarm'
-  const limit = (
-    await eng
-      .post('/api/limits', {
-        ...(alarm ? heaterAlarmBody : heaterTripBody)(
-          proc.id,
-          instruments.map((i) => i.id),
-          `${alarm ? 'TAH' : 'TSHH'}-B${n}`,
-        ),
-        compensatingMeasures: o.measures ?? ['Operator watches TI locally every 15 min'],
-        bypassPermitted: o.bypassPermitted ?? true,
-        maxBypassHours: o.bypassPermitted === false ? null : o.maxBypassHours === undefined ? 8 : o.maxBypassHours,
-      })
-      .expect(201)
-  ).body
+  const limit = await eng.created('/api/limits', {
+    ...(alarm ? heaterAlarmBody : heaterTripBody)(
+      proc.id,
+      instruments.map((i) => i.id),
+      `${alarm ? 'TAH' : 'TSHH'}-B${n}`,
+    ),
+    compensatingMeasures: o.measures ?? ['Operator watches TI locally every 15 min'],
+    bypassPermitted: o.bypassPermitted ?? true,
+    maxBypassHours: o.bypassPermitted === false ? null : o.maxBypassHours === undefined ? 8 : o.maxBypassHours,
+  })
   return { limit, instruments }
 }
 

@@ -32,17 +32,13 @@ describe('bypass past its planned end: warning, overdue, escalation (docs/bypass
     const patched = (await as.engineer.patch(`/api/limits/${limit.id}`, { maxBypassHours: 100 }).expect(200)).body
     await activateLimit({ eng: as.engineer, approver: as.approver, tech: as.technician }, patched)
     const END = Date.parse('2026-07-06T10:00:00Z')
-    const b = (
-      await as.operator
-        .post('/api/bypasses', {
-          limitId: limit.id,
-          reason: 'Burner management rework',
-          plannedStart: '2026-07-06T06:00:00Z',
-          plannedEnd: new Date(END).toISOString(),
-          predefinedMeasuresConfirmed: true,
-        })
-        .expect(201)
-    ).body
+    const b = await as.operator.created('/api/bypasses', {
+      limitId: limit.id,
+      reason: 'Burner management rework',
+      plannedStart: '2026-07-06T06:00:00Z',
+      plannedEnd: new Date(END).toISOString(),
+      predefinedMeasuresConfirmed: true,
+    })
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
     ctx.clock.set('2026-07-06T06:00:00Z')
     await signInAll()

@@ -23,23 +23,19 @@ async function limitIn(siteCode: 'FHR' | 'SMP', areaIndex: number, kind: 'trip' 
   )!
   const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[areaIndex]
   const n = `${process.pid % 1000}-${++seq}`
-  const proc = (
-    await eng
-      .post('/api/processes', { areaId: area.id, name: `Review heater H-${n}`, description: 'fired heater' })
-      .expect(201)
-  ).body
-  const inst = (await eng.post('/api/instruments', heaterThermocouple(proc.id, `TTR-${n}`)).expect(201)).body
+  const proc = await eng.created('/api/processes', {
+    areaId: area.id,
+    name: `Review heater H-${n}`,
+    description: 'fired heater',
+  })
+  const inst = await eng.created('/api/instruments', heaterThermocouple(proc.id, `TTR-${n}`))
   const alarm = kind === 'alarm'
-  const limit = (
-    await eng
-      .post('/api/limits', {
-        ...(alarm ? heaterAlarmBody : heaterTripBody)(proc.id, [inst.id], `${alarm ? 'TAH' : 'TSHH'}-R${n}`),
-        compensatingMeasures: alarm ? [] : ['Operator watches TI locally every 15 min'],
-        maxBypassHours: 100,
-        bypassPermitted: true,
-      })
-      .expect(201)
-  ).body
+  const limit = await eng.created('/api/limits', {
+    ...(alarm ? heaterAlarmBody : heaterTripBody)(proc.id, [inst.id], `${alarm ? 'TAH' : 'TSHH'}-R${n}`),
+    compensatingMeasures: alarm ? [] : ['Operator watches TI locally every 15 min'],
+    maxBypassHours: 100,
+    bypassPermitted: true,
+  })
   await activateLimit({ eng, approver: as.approver, tech: as.technician }, limit)
   return { ...limit, areaId: area.id as number } as { id: number; siteId: number; areaId: number; tag: string }
 }
@@ -64,17 +60,13 @@ async function requestAndAuthorize(
   end: string,
   measures = true,
 ) {
-  const b = (
-    await as[requester]
-      .post('/api/bypasses', {
-        limitId,
-        reason: 'Planned work',
-        plannedStart: start,
-        plannedEnd: end,
-        predefinedMeasuresConfirmed: measures,
-      })
-      .expect(201)
-  ).body
+  const b = await as[requester].created('/api/bypasses', {
+    limitId,
+    reason: 'Planned work',
+    plannedStart: start,
+    plannedEnd: end,
+    predefinedMeasuresConfirmed: measures,
+  })
   await as[authorizer].post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
   return b.id as number
 }
@@ -129,19 +121,15 @@ beforeAll(async () => {
 
   // a failed trip test (as found 800 °C against a 780 °C trip, tolerance ±6 °C: out, dangerous side) degrades F
   await at('2026-06-04T10:00:00Z', 'technician')
-  const test = (
-    await as.technician
-      .post(
-        '/api/trip-tests',
-        mvSourceTest(F.id, {
-          performedAt: '2026-06-04T09:30:00Z',
-          finalElementOk: true,
-          latchHeld: true,
-          asFound: 800,
-        }),
-      )
-      .expect(201)
-  ).body
+  const test = await as.technician.created(
+    '/api/trip-tests',
+    mvSourceTest(F.id, {
+      performedAt: '2026-06-04T09:30:00Z',
+      finalElementOk: true,
+      latchHeld: true,
+      asFound: 800,
+    }),
+  )
   expect(test.asFoundResult).toBe('out_dangerous')
   await as.technician.post(`/api/trip-tests/${test.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
 
@@ -155,15 +143,13 @@ beforeAll(async () => {
   await as.operator.post(`/api/bypasses/${ids.b4}/activation`, ACTIVATE).expect(200)
   await at('2026-06-05T11:50:00Z', 'operator')
   ids.b6 = (
-    await as.operator
-      .post('/api/bypasses', {
-        limitId: B.id,
-        reason: 'Next job',
-        plannedStart: '2026-06-05T11:55:00Z',
-        plannedEnd: '2026-06-05T15:00:00Z',
-      })
-      .expect(201)
-  ).body.id
+    await as.operator.created('/api/bypasses', {
+      limitId: B.id,
+      reason: 'Next job',
+      plannedStart: '2026-06-05T11:55:00Z',
+      plannedEnd: '2026-06-05T15:00:00Z',
+    })
+  ).id
   await at('2026-06-05T12:00:00Z')
 }, 240_000)
 

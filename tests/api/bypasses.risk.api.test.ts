@@ -55,35 +55,27 @@ async function silLimit(sil: 1 | 2 | 3, subsystems: Subsystem[], channels = 1) {
   )!
   const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[2]
   const n = `${process.pid % 1000}-${++seq}`
-  const proc = (
-    await eng
-      .post('/api/processes', { areaId: area.id, name: `SIF heater H-${n}`, description: 'fired heater' })
-      .expect(201)
-  ).body
+  const proc = await eng.created('/api/processes', {
+    areaId: area.id,
+    name: `SIF heater H-${n}`,
+    description: 'fired heater',
+  })
   const instruments: { id: number }[] = []
   for (let i = 0; i < channels; i++) {
     instruments.push(
-      (
-        await eng
-          .post('/api/instruments', heaterThermocouple(proc.id, `TTS-${n}${String.fromCharCode(65 + i)}`))
-          .expect(201)
-      ).body,
+      await eng.created('/api/instruments', heaterThermocouple(proc.id, `TTS-${n}${String.fromCharCode(65 + i)}`)),
     )
   }
-  const limit = (
-    await eng
-      .post(
-        '/api/limits',
-        heaterTrip(
-          proc.id,
-          instruments.map((i) => i.id),
-          `TZHH-S${n}`,
-          sil,
-          subsystems,
-        ),
-      )
-      .expect(201)
-  ).body
+  const limit = await eng.created(
+    '/api/limits',
+    heaterTrip(
+      proc.id,
+      instruments.map((i) => i.id),
+      `TZHH-S${n}`,
+      sil,
+      subsystems,
+    ),
+  )
   await activateLimit({ eng, approver: as.approver, approver2: as.approver2, tech: as.technician }, limit)
   return { limit: limit as { id: number; tag: string }, instruments }
 }
@@ -132,46 +124,34 @@ beforeAll(async () => {
   plain = notSil.limit
 
   // a passing yearly proof test of the worked-example function: due 3 Aug 2027
-  const test = (
-    await as.technician
-      .post(
-        '/api/trip-tests',
-        mvSourceTest(worked.limit.id, {
-          performedAt: '2026-08-03T05:30:00Z',
-          finalElementOk: true,
-          latchHeld: true,
-          asFound: 781,
-        }),
-      )
-      .expect(201)
-  ).body
+  const test = await as.technician.created(
+    '/api/trip-tests',
+    mvSourceTest(worked.limit.id, {
+      performedAt: '2026-08-03T05:30:00Z',
+      finalElementOk: true,
+      latchHeld: true,
+      asFound: 781,
+    }),
+  )
   expect(test.passed).toBe(true)
   await as.technician.post(`/api/trip-tests/${test.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
 
   // 08:00 → 14:00: the whole worked-example function bypassed, and one of the two sensor channels of its voted twin
-  const whole = (
-    await as.operator
-      .post('/api/bypasses', {
-        limitId: worked.limit.id,
-        reason: 'Burner front work',
-        plannedStart: '2026-08-03T08:00:00Z',
-        plannedEnd: '2026-08-03T14:00:00Z',
-        predefinedMeasuresConfirmed: true,
-      })
-      .expect(201)
-  ).body
-  const channel = (
-    await as.operator
-      .post('/api/bypasses', {
-        limitId: voted.limit.id,
-        reason: 'Thermocouple A replacement',
-        plannedStart: '2026-08-03T08:00:00Z',
-        plannedEnd: '2026-08-03T14:00:00Z',
-        predefinedMeasuresConfirmed: true,
-        channelInstrumentId: voted.instruments[0].id,
-      })
-      .expect(201)
-  ).body
+  const whole = await as.operator.created('/api/bypasses', {
+    limitId: worked.limit.id,
+    reason: 'Burner front work',
+    plannedStart: '2026-08-03T08:00:00Z',
+    plannedEnd: '2026-08-03T14:00:00Z',
+    predefinedMeasuresConfirmed: true,
+  })
+  const channel = await as.operator.created('/api/bypasses', {
+    limitId: voted.limit.id,
+    reason: 'Thermocouple A replacement',
+    plannedStart: '2026-08-03T08:00:00Z',
+    plannedEnd: '2026-08-03T14:00:00Z',
+    predefinedMeasuresConfirmed: true,
+    channelInstrumentId: voted.instruments[0].id,
+  })
   for (const b of [whole, channel])
     await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
   await at('2026-08-03T08:00:00Z')

@@ -41,7 +41,7 @@ describe('change proposals', () => {
       reason: 'Spurious trips at start-up',
     }
     for (const who of ['operator', 'technician', 'supervisor'] as const) {
-      const p = (await as[who].post('/api/change-proposals', body).expect(201)).body
+      const p = await as[who].created('/api/change-proposals', body)
       expect(p).toMatchObject({ status: 'open', limitId: limit.id, limitTag: limit.tag, title: body.title })
     }
     for (const who of ['approver', 'auditor', 'engineer'] as const)
@@ -90,16 +90,12 @@ describe('change proposals', () => {
       tech: as.technician,
     })
     const raise = async () =>
-      (
-        await as.operator
-          .post('/api/change-proposals', {
-            siteId: site.id,
-            limitId: limit.id,
-            title: 'Lower the trip',
-            reason: 'Tube metal temperature margin',
-          })
-          .expect(201)
-      ).body
+      await as.operator.created('/api/change-proposals', {
+        siteId: site.id,
+        limitId: limit.id,
+        title: 'Lower the trip',
+        reason: 'Tube metal temperature margin',
+      })
     const p1 = await raise()
     // only a safety engineer takes up or declines
     await as.supervisor.post(`/api/change-proposals/${p1.id}/decline`, { reason: 'no' }).expect(403)

@@ -4,8 +4,8 @@ import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import {
+  submitAndApprove,
   type ChangeCrew,
-  approveChange,
   buildActiveHeaterTrip,
   buildHeaterTrip,
   carryOutChange,
@@ -39,22 +39,16 @@ const warningCodes = (w: { warnings: { code: string }[] }) => w.warnings.map((x)
 describe('a request applied to a row that changed meanwhile (one winner, nothing half-applied)', () => {
   it('two approved requests on the same active limit: the first applies, the second answers 409 CONFLICT and writes nothing', async () => {
     const { site, limit } = await buildActiveHeaterTrip(crew)
-    const first = await approveChange(
-      [approver],
-      await submitChange(eng, {
-        siteId: site.id,
-        title: 'Raise to 790',
-        items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
-      }),
-    )
-    const second = await approveChange(
-      [approver],
-      await submitChange(eng, {
-        siteId: site.id,
-        title: 'Raise to 800',
-        items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 800 } }],
-      }),
-    )
+    const first = await submitAndApprove(eng, [approver], {
+      siteId: site.id,
+      title: 'Raise to 790',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
+    })
+    const second = await submitAndApprove(eng, [approver], {
+      siteId: site.id,
+      title: 'Raise to 800',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 800 } }],
+    })
     expect(second.status).toBe('approved')
 
     await implementChange(tech, first)
@@ -86,17 +80,14 @@ describe('a request applied to a row that changed meanwhile (one winner, nothing
     const one = await buildActiveHeaterTrip(crew)
     const two = await buildActiveHeaterTrip(crew)
     const site = one.site
-    const both = await approveChange(
-      [approver],
-      await submitChange(eng, {
-        siteId: site.id,
-        title: 'Raise both heater trips',
-        items: [
-          { kind: 'modify', limitId: one.limit.id, changes: { setpoint: 790 } },
-          { kind: 'modify', limitId: two.limit.id, changes: { setpoint: 790 } },
-        ],
-      }),
-    )
+    const both = await submitAndApprove(eng, [approver], {
+      siteId: site.id,
+      title: 'Raise both heater trips',
+      items: [
+        { kind: 'modify', limitId: one.limit.id, changes: { setpoint: 790 } },
+        { kind: 'modify', limitId: two.limit.id, changes: { setpoint: 790 } },
+      ],
+    })
     // meanwhile another approved request changes the second limit
     await carryOutChange(crew, {
       siteId: site.id,
@@ -131,17 +122,14 @@ describe('a request applied to a row that changed meanwhile (one winner, nothing
   it('a baseline of new limits implemented in bulk with one stale item activates none', async () => {
     const a = await buildHeaterTrip(eng)
     const b = await buildHeaterTrip(eng)
-    const baseline = await approveChange(
-      [approver],
-      await submitChange(eng, {
-        siteId: a.site.id,
-        title: 'Baseline of two trips',
-        items: [
-          { kind: 'create', limitId: a.limit.id },
-          { kind: 'create', limitId: b.limit.id },
-        ],
-      }),
-    )
+    const baseline = await submitAndApprove(eng, [approver], {
+      siteId: a.site.id,
+      title: 'Baseline of two trips',
+      items: [
+        { kind: 'create', limitId: a.limit.id },
+        { kind: 'create', limitId: b.limit.id },
+      ],
+    })
     // the second draft is edited in the register after the approval
     await eng.patch(`/api/limits/${b.limit.id}`, { setpoint: 785 }).expect(200)
     const before = await rowCounts(ctx.db)
@@ -300,14 +288,11 @@ describe('bad input is refused and writes nothing', () => {
   })
 
   it('closure before implementation: 409; closure with the checklist incomplete: 400', async () => {
-    const cr = await approveChange(
-      [approver],
-      await submitChange(eng, {
-        siteId: site.id,
-        title: 'Close too early',
-        items: [{ kind: 'modify', limitId: active.id, changes: { deadband: 6 } }],
-      }),
-    )
+    const cr = await submitAndApprove(eng, [approver], {
+      siteId: site.id,
+      title: 'Close too early',
+      items: [{ kind: 'modify', limitId: active.id, changes: { deadband: 6 } }],
+    })
     const early = await refused(409, () =>
       eng.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }),
     )

@@ -4,7 +4,7 @@ import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { useSignedIn } from './helpers/agent.ts'
 import { recipients, useFakeSmtp } from './helpers/mail.ts'
 import {
-  approveChange,
+  submitAndApprove,
   auditActions,
   approvedTemporaryChange,
   buildActiveHeaterTrip,
@@ -69,15 +69,12 @@ describe('change request deadlines job', () => {
 
     // reverted, so the later tests of this file see no expired temporary change
     await signInAll()
-    const reversal = await approveChange(
-      [as.approver],
-      await submitChange(as.engineer, {
-        siteId: site.id,
-        title: 'Reversal of the dry-out raise',
-        reversesId: cr.id,
-        items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 780 } }],
-      }),
-    )
+    const reversal = await submitAndApprove(as.engineer, [as.approver], {
+      siteId: site.id,
+      title: 'Reversal of the dry-out raise',
+      reversesId: cr.id,
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 780 } }],
+    })
     await implementChange(as.technician, reversal)
   })
 
@@ -126,14 +123,11 @@ describe('change request deadlines job', () => {
   it('voids an approval older than 30 days that was not implemented; implementation is refused until approved again', async () => {
     await signInAll()
     const { site, limit } = await buildActiveHeaterTrip(crew())
-    const cr = await approveChange(
-      [as.approver],
-      await submitChange(as.engineer, {
-        siteId: site.id,
-        title: 'Raise trip to 790',
-        items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
-      }),
-    )
+    const cr = await submitAndApprove(as.engineer, [as.approver], {
+      siteId: site.id,
+      title: 'Raise trip to 790',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
+    })
     const view = (await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body
     const approvedAt = new Date(view.approvedAt).getTime()
     // site policy (common practice): an approval expires if not implemented within 30 days

@@ -6,6 +6,7 @@ import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import type { Role } from '../../shared/schemas/users.ts'
 import { ApiAgent, signedIn, signedInAs, newAccount } from './helpers/agent.ts'
 import {
+  submitAndApprove,
   draftChange,
   approveChange,
   buildActiveHeaterTrip,
@@ -80,14 +81,11 @@ describe('whoever changes the content, attachments included, is an editor and do
 
   it('no file is attached once someone signed, nor after approval (409, nothing written)', async () => {
     const { site, limit } = await buildActiveHeaterTrip(crew())
-    const cr = await approveChange(
-      [approver],
-      await submitChange(eng, {
-        siteId: site.id,
-        title: 'Approved, then a late drawing',
-        items: [{ kind: 'modify', limitId: limit.id, changes: { deadband: 4 } }],
-      }),
-    )
+    const cr = await submitAndApprove(eng, [approver], {
+      siteId: site.id,
+      title: 'Approved, then a late drawing',
+      items: [{ kind: 'modify', limitId: limit.id, changes: { deadband: 4 } }],
+    })
     expect(cr.status).toBe('approved')
     const before = await rowCounts(ctx.db)
     const res = await eng.agent

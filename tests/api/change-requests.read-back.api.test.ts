@@ -14,23 +14,19 @@ const PW = 'limitkeeper-demo'
 /** A proposed high alarm at 700 °C on a new heater instrument: severity moderate, 15 min to respond. */
 async function buildHeaterAlarm(eng: ApiAgent) {
   const { site, proc, inst } = await buildHeaterTrip(eng)
-  const limit = (
-    await eng
-      .post('/api/limits', {
-        processId: proc.id,
-        instrumentIds: [inst.id],
-        tag: `TAH-${inst.tag}`,
-        direction: 'high',
-        limitClass: 'alarm',
-        setpoint: 700,
-        deadband: 2,
-        severity: 'moderate',
-        responseTimeMin: 15,
-        operatorResponse: 'Reduce the firing rate',
-        testIntervalMonths: 12,
-      })
-      .expect(201)
-  ).body
+  const limit = await eng.created('/api/limits', {
+    processId: proc.id,
+    instrumentIds: [inst.id],
+    tag: `TAH-${inst.tag}`,
+    direction: 'high',
+    limitClass: 'alarm',
+    setpoint: 700,
+    deadband: 2,
+    severity: 'moderate',
+    responseTimeMin: 15,
+    operatorResponse: 'Reduce the firing rate',
+    testIntervalMonths: 12,
+  })
   return { site, limit }
 }
 

@@ -53,7 +53,7 @@ describe('change request: who may do what along the whole path (docs/security.md
 
     // OSHA 1910.119(l) management of change: only the safety engineer proposes
     await refusedForAllBut(['engineer'], (a) => a.post('/api/change-requests', body))
-    const cr = (await as.engineer.post('/api/change-requests', body).expect(201)).body
+    const cr = await as.engineer.created('/api/change-requests', body)
     expect(cr).toMatchObject({ status: 'draft', proposerId: expect.any(Number), approvalsRequired: 1 })
 
     await refusedForAllBut(['engineer'], (a) =>

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { signedIn } from './helpers/agent.ts'
+import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import {
   auditActions,
   approveChange,
@@ -43,20 +43,16 @@ describe('demand and trip log', () => {
     )
 
     // the operator records a real demand on which the whole function acted
-    const demand = (
-      await c.op
-        .post('/api/demands', {
-          limitId: limit.id,
-          kind: 'real_demand',
-          outcome: 'acted',
-          occurredAt: '2026-05-30T22:15:00Z',
-          description: 'Fuel gas pressure surge drove the outlet to the trip; burners shut, valves closed',
-          evidence: 'Sequence-of-events printout attached to the shift log',
-          workOrder: 'WO-1001',
-          wholeFunction: true,
-        })
-        .expect(201)
-    ).body
+    const demand = await c.op.created('/api/demands', {
+      limitId: limit.id,
+      kind: 'real_demand',
+      outcome: 'acted',
+      occurredAt: '2026-05-30T22:15:00Z',
+      description: 'Fuel gas pressure surge drove the outlet to the trip; burners shut, valves closed',
+      evidence: 'Sequence-of-events printout attached to the shift log',
+      workOrder: 'WO-1001',
+      wholeFunction: true,
+    })
     expect(demand).toMatchObject({ kind: 'real_demand', outcome: 'acted', status: 'recorded', creditedAsTest: false })
     expect(demand.actions.classify).toMatchObject({ allowed: false, status: 403 })
 
@@ -176,30 +172,22 @@ describe('demand and trip log', () => {
       { sil: 1 },
     )
     await c.admin.patch(`/api/sites/${site.id}`, { policy: { demandCreditAllowed: true } }).expect(200)
-    const partial = (
-      await c.sup
-        .post('/api/demands', {
-          limitId: limit.id,
-          kind: 'real_demand',
-          outcome: 'acted',
-          occurredAt: '2026-05-20T10:00:00Z',
-          description: 'Trip acted; only one valve was seen to close',
-          wholeFunction: false,
-        })
-        .expect(201)
-    ).body
-    const failed = (
-      await c.sup
-        .post('/api/demands', {
-          limitId: limit.id,
-          kind: 'real_demand',
-          outcome: 'failed_to_act',
-          occurredAt: '2026-05-21T10:00:00Z',
-          description: 'Process reached the trip and the burners stayed lit; operator tripped by hand',
-          wholeFunction: true,
-        })
-        .expect(201)
-    ).body
+    const partial = await c.sup.created('/api/demands', {
+      limitId: limit.id,
+      kind: 'real_demand',
+      outcome: 'acted',
+      occurredAt: '2026-05-20T10:00:00Z',
+      description: 'Trip acted; only one valve was seen to close',
+      wholeFunction: false,
+    })
+    const failed = await c.sup.created('/api/demands', {
+      limitId: limit.id,
+      kind: 'real_demand',
+      outcome: 'failed_to_act',
+      occurredAt: '2026-05-21T10:00:00Z',
+      description: 'Process reached the trip and the burners stayed lit; operator tripped by hand',
+      wholeFunction: true,
+    })
     for (const d of [partial, failed]) {
       await c.eng.post(`/api/demands/${d.id}/classification`, { counts: true, note: 'Genuine' }).expect(200)
       const r = await c.eng
@@ -254,31 +242,18 @@ describe('demand and trip log', () => {
       { eng: c.eng, approvers: [c.approver, c.approver2], tech: c.tech },
       { sil: 2 },
     )
-    await c.op
-      .put(`/api/demands/assumptions/${limit.id}`, {
-        assumedDemandRatePerYear: 0.1,
+    /** The hazard study's rates of the limit, sent by `agent`: `demandRate` (0.1) demands and 0.5 spurious trips a year. */
+    const assume = (agent: ApiAgent, commissionedAt: string, reason: string, demandRate: number | null = 0.1) =>
+      agent.put(`/api/demands/assumptions/${limit.id}`, {
+        assumedDemandRatePerYear: demandRate,
         assumedSpuriousRatePerYear: 0.5,
-        commissionedAt: '2025-06-01',
-        reason: 'HAZOP',
+        commissionedAt,
+        reason,
       })
-      .expect(403)
-    await c.eng
-      .put(`/api/demands/assumptions/${limit.id}`, {
-        assumedDemandRatePerYear: 0.1,
-        assumedSpuriousRatePerYear: 0.5,
-        commissionedAt: '2027-01-01',
-        reason: 'HAZOP',
-      })
-      .expect(400)
+    await assume(c.op, '2025-06-01', 'HAZOP').expect(403)
+    await assume(c.eng, '2027-01-01', 'HAZOP').expect(400)
     // the limit row was entered today; commissioning a year ago is what the rate counts from
-    await c.eng
-      .put(`/api/demands/assumptions/${limit.id}`, {
-        assumedDemandRatePerYear: 0.1,
-        assumedSpuriousRatePerYear: 0.5,
-        commissionedAt: '2025-06-01',
-        reason: 'LOPA study LS-12 rev 2; validation record VR-7',
-      })
-      .expect(200)
+    await assume(c.eng, '2025-06-01', 'LOPA study LS-12 rev 2; validation record VR-7').expect(200)
     for (const [kind, at] of [
       ['real_demand', '2025-09-01T00:00:00Z'],
       ['spurious_trip', '2025-10-01T00:00:00Z'],
@@ -320,14 +295,7 @@ describe('demand and trip log', () => {
     })
     await c.eng.get('/api/demands/rates').query({ limitId: 'x' }).expect(400)
     // clearing a figure is allowed (the study gives none) and audited like setting it
-    await c.eng
-      .put(`/api/demands/assumptions/${limit.id}`, {
-        assumedDemandRatePerYear: null,
-        assumedSpuriousRatePerYear: 0.5,
-        commissionedAt: '2025-06-01',
-        reason: 'LOPA study LS-12 rev 3',
-      })
-      .expect(200)
+    await assume(c.eng, '2025-06-01', 'LOPA study LS-12 rev 3', null).expect(200)
     const cleared = (await c.eng.get('/api/demands/rates').query({ limitId: limit.id }).expect(200)).body
     expect(cleared.limits[0]).toMatchObject({ assumedDemandRatePerYear: null, demandRateAboveAssumed: false })
   })

@@ -38,31 +38,23 @@ describe('observed failure rates per device kind and model', () => {
         .expect(200)
 
     // a dangerous failure of the QX-9 channel found in operation, classified dangerous undetected
-    const found = (
-      await c.op
-        .post('/api/demands', {
-          limitId: failing.limit.id,
-          kind: 'dangerous_failure',
-          instrumentId: failing.inst.id,
-          occurredAt: '2026-03-10T10:00:00Z',
-          description: 'Transmitter found frozen at a normal reading on a walk-round',
-        })
-        .expect(201)
-    ).body
+    const found = await c.op.created('/api/demands', {
+      limitId: failing.limit.id,
+      kind: 'dangerous_failure',
+      instrumentId: failing.inst.id,
+      occurredAt: '2026-03-10T10:00:00Z',
+      description: 'Transmitter found frozen at a normal reading on a walk-round',
+    })
     await c.eng
       .post(`/api/demands/${found.id}/classification`, { counts: true, dangerousUndetected: true, note: 'DU' })
       .expect(200)
     // one without a channel: counted, but not given to any model
-    const loose = (
-      await c.op
-        .post('/api/demands', {
-          limitId: quiet.limit.id,
-          kind: 'dangerous_failure',
-          occurredAt: '2026-04-10T10:00:00Z',
-          description: 'Impulse line found blocked',
-        })
-        .expect(201)
-    ).body
+    const loose = await c.op.created('/api/demands', {
+      limitId: quiet.limit.id,
+      kind: 'dangerous_failure',
+      occurredAt: '2026-04-10T10:00:00Z',
+      description: 'Impulse line found blocked',
+    })
     await c.eng
       .post(`/api/demands/${loose.id}/classification`, { counts: true, dangerousUndetected: true, note: 'DU' })
       .expect(200)

@@ -74,12 +74,12 @@ describe('reconciliation of the demo devices', () => {
     const acked = (await eng.post(`/api/findings/${f0.id}/acknowledgement`, { version: f0.version }).expect(200)).body
     expect(acked.state).toBe('acknowledged')
     sim.setValue(1, 'TSHH-103', 'setpoint', '900')
-    const run = (await eng.post(`/api/reconciliation-sources/${h101.id}/runs`, {}).expect(201)).body
+    const run = await eng.created(`/api/reconciliation-sources/${h101.id}/runs`, {})
     expect(run).toMatchObject({ outcome: 'completed', findingsResolved: 1, findingsNew: 0 })
     const resolved = (await eng.get(`/api/findings/${f0.id}`).expect(200)).body
     expect(resolved).toMatchObject({ state: 'resolved', resolution: 'device_corrected' })
     sim.setValue(1, 'TSHH-103', 'setpoint', '910')
-    const again = (await eng.post(`/api/reconciliation-sources/${h101.id}/runs`, {}).expect(201)).body
+    const again = await eng.created(`/api/reconciliation-sources/${h101.id}/runs`, {})
     expect(again.findingsReopened).toBe(1)
     expect((await eng.get(`/api/findings/${f0.id}`).expect(200)).body).toMatchObject({ state: 'open', reopenCount: 1 })
   })

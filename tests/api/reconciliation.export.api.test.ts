@@ -87,16 +87,12 @@ beforeAll(async () => {
     tags[k] = built[i].limit.tag
     limitIds[k] = built[i].limit.id
   })
-  const source = (
-    await eng
-      .post('/api/reconciliation-sources', {
-        siteId,
-        kind: 'export',
-        name: 'Crude unit control system',
-        areaIds: [built[0].area.id],
-      })
-      .expect(201)
-  ).body
+  const source = await eng.created('/api/reconciliation-sources', {
+    siteId,
+    kind: 'export',
+    name: 'Crude unit control system',
+    areaIds: [built[0].area.id],
+  })
   sourceId = source.id
 }, 120_000)
 

@@ -30,22 +30,20 @@ let seq = 0
 /** A tank level transmitter 0–100 %, normal 20–80 %. */
 async function levelInstrument(onProcess = processId): Promise<number> {
   return (
-    await eng
-      .post('/api/instruments', {
-        processId: onProcess,
-        tag: `LT-C${++seq}`,
-        measuredVariable: 'level',
-        unit: '%',
-        rangeLow: 0,
-        rangeHigh: 100,
-        normalLow: 20,
-        normalHigh: 80,
-        burnout: 'none',
-        signal: { kind: 'current', sqrtExtraction: false },
-        deviceKind: 'control_system',
-      })
-      .expect(201)
-  ).body.id
+    await eng.created('/api/instruments', {
+      processId: onProcess,
+      tag: `LT-C${++seq}`,
+      measuredVariable: 'level',
+      unit: '%',
+      rangeLow: 0,
+      rangeHigh: 100,
+      normalLow: 20,
+      normalHigh: 80,
+      burnout: 'none',
+      signal: { kind: 'current', sqrtExtraction: false },
+      deviceKind: 'control_system',
+    })
+  ).id
 }
 
 function limit(over: Record<string, unknown>) {
@@ -75,8 +73,7 @@ beforeAll(async () => {
   const areas = (await eng.get(`/api/areas?siteId=${fhr}`).expect(200)).body.items as { id: number; name: string }[]
   areaId = areas.find((a) => a.name === 'Tank Farm')!.id
   otherAreaId = areas.find((a) => a.name === 'Utilities')!.id
-  processId = (await eng.post('/api/processes', { areaId, name: 'Slop tank T-C1', description: '' }).expect(201)).body
-    .id
+  processId = (await eng.created('/api/processes', { areaId, name: 'Slop tank T-C1', description: '' })).id
   levelId = await levelInstrument()
 })
 
@@ -118,9 +115,7 @@ describe('alarm or alert: the long end of the priority matrix', () => {
       })
       .expect(200)
     const smpArea = (await eng.get(`/api/areas?siteId=${smp}`).expect(200)).body.items[0].id
-    const smpProcess = (
-      await eng.post('/api/processes', { areaId: smpArea, name: 'Slow tank', description: '' }).expect(201)
-    ).body.id
+    const smpProcess = (await eng.created('/api/processes', { areaId: smpArea, name: 'Slow tank', description: '' })).id
     const lt = await levelInstrument(smpProcess)
     const res = await limit({ processId: smpProcess, instrumentIds: [lt], tag: 'LAH-C-SMP' }).expect(201)
     expect(res.body.priority).toBe('low')

@@ -66,26 +66,24 @@ const subsystems = [
 ]
 
 async function instrument(processId: number, tag: string, over: Record<string, unknown> = {}) {
-  return (await eng.post('/api/instruments', thermocoupleK(processId, tag, over)).expect(201)).body.id as number
+  return (await eng.created('/api/instruments', thermocoupleK(processId, tag, over))).id as number
 }
 
 async function limit(processId: number, instrumentId: number, tag: string, over: Record<string, unknown>) {
   return (
-    await eng
-      .post('/api/limits', {
-        processId,
-        instrumentIds: [instrumentId],
-        tag,
-        description: `List test ${tag}`,
-        direction: 'high',
-        limitClass: 'trip',
-        deadband: 0,
-        severity: 'major',
-        testIntervalMonths: 12,
-        ...over,
-      })
-      .expect(201)
-  ).body.id as number
+    await eng.created('/api/limits', {
+      processId,
+      instrumentIds: [instrumentId],
+      tag,
+      description: `List test ${tag}`,
+      direction: 'high',
+      limitClass: 'trip',
+      deadband: 0,
+      severity: 'major',
+      testIntervalMonths: 12,
+      ...over,
+    })
+  ).id as number
 }
 
 async function list(query: string): Promise<{ items: Item[]; total: number; nextCursor: string | null }> {
@@ -105,15 +103,11 @@ beforeAll(async () => {
   ids.utilities = areas.find((a) => a.name === 'Utilities')!.id
   ids.tankFarm = areas.find((a) => a.name === 'Tank Farm')!.id
   ids.p1 = (
-    await eng
-      .post('/api/processes', { areaId: ids.utilities, name: 'List test heater H-L1', description: '' })
-      .expect(201)
-  ).body.id
+    await eng.created('/api/processes', { areaId: ids.utilities, name: 'List test heater H-L1', description: '' })
+  ).id
   ids.p2 = (
-    await eng
-      .post('/api/processes', { areaId: ids.tankFarm, name: 'List test tank heater H-L2', description: '' })
-      .expect(201)
-  ).body.id
+    await eng.created('/api/processes', { areaId: ids.tankFarm, name: 'List test tank heater H-L2', description: '' })
+  ).id
   ids.i1 = await instrument(ids.p1, 'TT-QL1')
   ids.i2 = await instrument(ids.p1, 'TT-QL2')
   const i3 = await instrument(ids.p2, 'TT-QL3', { designHigh: 850 })
@@ -129,9 +123,8 @@ beforeAll(async () => {
     responseTimeMin: 10,
   })
   const smpArea = (await eng.get(`/api/areas?siteId=${ids.smp}`).expect(200)).body.items[0].id
-  const p3 = (
-    await eng.post('/api/processes', { areaId: smpArea, name: 'List test heater H-L3', description: '' }).expect(201)
-  ).body.id
+  const p3 = (await eng.created('/api/processes', { areaId: smpArea, name: 'List test heater H-L3', description: '' }))
+    .id
   L.smp780 = await limit(p3, await instrument(p3, 'TT-QL4'), 'QLIST-7', { setpoint: 780 })
 
   // states the API sets only through change requests, bypasses and tests: written as the owner

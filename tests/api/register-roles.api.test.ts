@@ -34,12 +34,12 @@ async function build(eng: ApiAgent, siteCode: 'FHR' | 'SMP'): Promise<Built> {
   const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const siteId = sites.find((s) => s.code === siteCode)!.id
   const areaId = (await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items[0].id
-  const proc = (
-    await eng
-      .post('/api/processes', { areaId, name: `Roles test heater H-${siteCode}-${n}`, description: '' })
-      .expect(201)
-  ).body
-  const inst = (await eng.post('/api/instruments', heaterThermocouple(proc.id, `TT-R${siteCode}${n}`)).expect(201)).body
+  const proc = await eng.created('/api/processes', {
+    areaId,
+    name: `Roles test heater H-${siteCode}-${n}`,
+    description: '',
+  })
+  const inst = await eng.created('/api/instruments', heaterThermocouple(proc.id, `TT-R${siteCode}${n}`))
   const limit = (await eng.post('/api/limits', heaterTripBody(proc.id, [inst.id], `TSHH-R${siteCode}${n}`)).expect(201))
     .body
   return { siteId, areaId, processId: proc.id, instrumentId: inst.id, limitId: limit.id }
@@ -82,17 +82,17 @@ beforeAll(async () => {
 describe('register: create, edit and delete by role', () => {
   it('lets the safety engineer create a process, an instrument and a draft limit, edit them and delete the draft', async () => {
     const eng = agents.engineer
-    const proc = (
-      await eng
-        .post('/api/processes', { areaId: fhr.areaId, name: 'Roles test reboiler E-7', description: 'kettle' })
-        .expect(201)
-    ).body
+    const proc = await eng.created('/api/processes', {
+      areaId: fhr.areaId,
+      name: 'Roles test reboiler E-7',
+      description: 'kettle',
+    })
     expect(
       (await eng.patch(`/api/processes/${proc.id}`, { description: 'kettle reboiler' }).expect(200)).body.description,
     ).toBe('kettle reboiler')
-    const inst = (await eng.post('/api/instruments', heaterThermocouple(proc.id, 'TT-R-E7')).expect(201)).body
+    const inst = await eng.created('/api/instruments', heaterThermocouple(proc.id, 'TT-R-E7'))
     expect((await eng.patch(`/api/instruments/${inst.id}`, { rangeHigh: 1250 }).expect(200)).body.rangeHigh).toBe(1250)
-    const limit = (await eng.post('/api/limits', heaterTripBody(proc.id, [inst.id], 'TSHH-R-E7')).expect(201)).body
+    const limit = await eng.created('/api/limits', heaterTripBody(proc.id, [inst.id], 'TSHH-R-E7'))
     expect(limit.status).toBe('proposed')
     const edited = (await eng.patch(`/api/limits/${limit.id}`, { setpoint: 790 }).expect(200)).body
     expect(edited).toMatchObject({ setpoint: 790, revision: 2 })

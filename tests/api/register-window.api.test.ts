@@ -24,7 +24,7 @@ let seq = 0
 
 /** A 0–1000 °C thermocouple instrument, normal 300–650; `over` changes any field. */
 async function instrument(over: Record<string, unknown> = {}): Promise<{ id: number }> {
-  return (await eng.post('/api/instruments', thermocoupleK(processId, `TT-W${++seq}`, over)).expect(201)).body
+  return await eng.created('/api/instruments', thermocoupleK(processId, `TT-W${++seq}`, over))
 }
 
 /** A high trip at 800 °C on the instrument; `over` changes any field. */
@@ -87,8 +87,8 @@ beforeAll(async () => {
     (a: { name: string }) => a.name === 'Utilities',
   )
   processId = (
-    await eng.post('/api/processes', { areaId: area.id, name: 'Window test heater H-W', description: '' }).expect(201)
-  ).body.id
+    await eng.created('/api/processes', { areaId: area.id, name: 'Window test heater H-W', description: '' })
+  ).id
 })
 
 describe('operating window through the API: errors block saving (422), warnings are stored', () => {

@@ -11,12 +11,12 @@ describe('register: a limit from process to operating window', () => {
     const app = createApp(ctx)
     const eng = await signedIn(app, 'engineer')
     const area = (await eng.get('/api/areas').expect(200)).body.items[0]
-    const proc = (
-      await eng
-        .post('/api/processes', { areaId: area.id, name: 'Test heater H-900', description: 'fired heater' })
-        .expect(201)
-    ).body
-    const inst = (await eng.post('/api/instruments', heaterThermocouple(proc.id, 'TT-9001')).expect(201)).body
+    const proc = await eng.created('/api/processes', {
+      areaId: area.id,
+      name: 'Test heater H-900',
+      description: 'fired heater',
+    })
+    const inst = await eng.created('/api/instruments', heaterThermocouple(proc.id, 'TT-9001'))
     const base = {
       processId: proc.id,
       instrumentIds: [inst.id],
@@ -32,7 +32,7 @@ describe('register: a limit from process to operating window', () => {
     expect(bad.body.error.details.operatingWindow.errors.map((e: { code: string }) => e.code)).toContain(
       'SETPOINT_NOT_BEYOND_NORMAL',
     )
-    const ok = (await eng.post('/api/limits', { ...base, tag: 'TSHH-9001', setpoint: 780 }).expect(201)).body
+    const ok = await eng.created('/api/limits', { ...base, tag: 'TSHH-9001', setpoint: 780 })
     expect(ok.status).toBe('proposed')
     expect(ok.operatingWindow.errors).toEqual([])
     const list = (await eng.get('/api/limits?q=tshh-9001').expect(200)).body

@@ -102,35 +102,27 @@ beforeAll(async () => {
   bypassed = a.limit
   degraded = b.limit
 
-  const req = (
-    await as.operator
-      .post('/api/bypasses', {
-        limitId: a.limit.id,
-        reason: 'Burner tile repair',
-        plannedStart: '2026-09-07T05:00:00Z',
-        plannedEnd: '2026-09-07T11:00:00Z',
-        predefinedMeasuresConfirmed: true,
-      })
-      .expect(201)
-  ).body
+  const req = await as.operator.created('/api/bypasses', {
+    limitId: a.limit.id,
+    reason: 'Burner tile repair',
+    plannedStart: '2026-09-07T05:00:00Z',
+    plannedEnd: '2026-09-07T11:00:00Z',
+    predefinedMeasuresConfirmed: true,
+  })
   await as.supervisor.post(`/api/bypasses/${req.id}/authorizations`, { password: PW }).expect(200)
   await as.operator.post(`/api/bypasses/${req.id}/activation`, ACTIVATE).expect(200)
   bypassId = req.id
 
   // a failed test: it did not trip at all (docs/trip-tests.md: as-found no_trip degrades the limit)
-  const test = (
-    await as.technician
-      .post(
-        '/api/trip-tests',
-        mvSourceTest(b.limit.id, {
-          performedAt: '2026-09-07T04:30:00Z',
-          finalElementOk: false,
-          latchHeld: false,
-          noTrip: true,
-        }),
-      )
-      .expect(201)
-  ).body
+  const test = await as.technician.created(
+    '/api/trip-tests',
+    mvSourceTest(b.limit.id, {
+      performedAt: '2026-09-07T04:30:00Z',
+      finalElementOk: false,
+      latchHeld: false,
+      noTrip: true,
+    }),
+  )
   expect(test.asFoundResult).toBe('no_trip')
   await as.technician.post(`/api/trip-tests/${test.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
   await as.supervisor
@@ -142,20 +134,16 @@ beforeAll(async () => {
     .expect(200)
 
   // its last passing full test was on 1 Jun 2025: due 1 Jun 2026, grace 30 days (the site policy's default, common practice) → overdue since 2 Jul 2026
-  const old = (
-    await as.technician
-      .post(
-        '/api/trip-tests',
-        mvSourceTest(d.limit.id, {
-          calibratorDueDate: '2025-12-31',
-          performedAt: '2025-06-01T08:00:00Z',
-          finalElementOk: true,
-          latchHeld: true,
-          asFound: 781,
-        }),
-      )
-      .expect(201)
-  ).body
+  const old = await as.technician.created(
+    '/api/trip-tests',
+    mvSourceTest(d.limit.id, {
+      calibratorDueDate: '2025-12-31',
+      performedAt: '2025-06-01T08:00:00Z',
+      finalElementOk: true,
+      latchHeld: true,
+      asFound: 781,
+    }),
+  )
   expect(old.passed).toBe(true)
   await as.technician.post(`/api/trip-tests/${old.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
 
@@ -278,7 +266,7 @@ describe('the handover: the outgoing shift supervisor hands over, the incoming o
     ).find((x) => x.siteId !== shown.site.id)!
     await as.engineer.get(`/api/shift-handovers/state?areaId=${areaId}&areaId=${smpArea.id}`).expect(400)
 
-    handover = (await as.supervisor.post('/api/shift-handovers', body).expect(201)).body as Handover
+    handover = (await as.supervisor.created('/api/shift-handovers', body)) as Handover
     expect(handover).toMatchObject({
       status: 'handed_over',
       areaIds: [areaId, otherAreaId].sort((x, y) => x - y),
@@ -344,11 +332,12 @@ describe('the handover: the outgoing shift supervisor hands over, the incoming o
 
   it('a state that changed after the handover cannot be accepted; handing over again replaces the waiting one', async () => {
     const shown = await state('supervisor2', areaId)
-    const first = (
-      await as.supervisor2
-        .post('/api/shift-handovers', { areaIds: [areaId], notes: '', stateHash: shown.stateHash, password: PW })
-        .expect(201)
-    ).body as Handover
+    const first = (await as.supervisor2.created('/api/shift-handovers', {
+      areaIds: [areaId],
+      notes: '',
+      stateHash: shown.stateHash,
+      password: PW,
+    })) as Handover
     // the bypass is removed after the handover: the incoming shift supervisor must not sign the old state
     await as.operator
       .post(`/api/bypasses/${bypassId}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true })
@@ -361,16 +350,12 @@ describe('the handover: the outgoing shift supervisor hands over, the incoming o
 
     const again = await state('supervisor2', areaId)
     expect(again.areas[0].bypasses).toEqual([])
-    const second = (
-      await as.supervisor2
-        .post('/api/shift-handovers', {
-          areaIds: [areaId],
-          notes: 'Bypass removed at 13:50',
-          stateHash: again.stateHash,
-          password: PW,
-        })
-        .expect(201)
-    ).body as Handover
+    const second = (await as.supervisor2.created('/api/shift-handovers', {
+      areaIds: [areaId],
+      notes: 'Bypass removed at 13:50',
+      stateHash: again.stateHash,
+      password: PW,
+    })) as Handover
     expect((await as.supervisor.get(`/api/shift-handovers/${first.id}`).expect(200)).body.status).toBe('superseded')
     await as.supervisor
       .post(`/api/shift-handovers/${first.id}/acceptance`, { contentHash: first.contentHash, password: PW })

@@ -61,18 +61,14 @@ describe('2oo3 trip test channel by channel', () => {
     expect((await eng.get(`/api/trip-tests?limitId=${limit.id}`).expect(200)).body.total).toBe(0)
 
     // 383 and 386 trip within 385 ± 5; TT-101C does not trip
-    const failed = (
-      await tech
-        .post('/api/trip-tests', {
-          ...base(limit.id),
-          channels: [
-            { instrumentId: a, asFound: 383 },
-            { instrumentId: b, asFound: 386 },
-            { instrumentId: c, noTrip: true },
-          ],
-        })
-        .expect(201)
-    ).body
+    const failed = await tech.created('/api/trip-tests', {
+      ...base(limit.id),
+      channels: [
+        { instrumentId: a, asFound: 383 },
+        { instrumentId: b, asFound: 386 },
+        { instrumentId: c, noTrip: true },
+      ],
+    })
     expect(
       failed.channels.map((x: { tag: string; asFoundResult: string; passed: boolean }) => [
         x.tag,
@@ -96,19 +92,15 @@ describe('2oo3 trip test channel by channel', () => {
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.protectionState).toBe('degraded')
 
     // the retest: all three in tolerance (383, 384, 387) → the function trips at 384 and the degradation clears
-    const passed = (
-      await tech
-        .post('/api/trip-tests', {
-          ...base(limit.id),
-          performedAt: '2026-03-02T08:45:00Z',
-          channels: [
-            { instrumentId: a, asFound: 383 },
-            { instrumentId: b, asFound: 384 },
-            { instrumentId: c, asFound: 387 },
-          ],
-        })
-        .expect(201)
-    ).body
+    const passed = await tech.created('/api/trip-tests', {
+      ...base(limit.id),
+      performedAt: '2026-03-02T08:45:00Z',
+      channels: [
+        { instrumentId: a, asFound: 383 },
+        { instrumentId: b, asFound: 384 },
+        { instrumentId: c, asFound: 387 },
+      ],
+    })
     expect(passed).toMatchObject({ passed: true, asFound: 384 })
     expect(passed.voting).toEqual({ architecture: '2oo3', required: 2, tripped: 3, acted: true })
     await tech

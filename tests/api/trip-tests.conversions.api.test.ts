@@ -23,41 +23,31 @@ async function activeTrip(
   limit: { setpoint: number; direction?: 'high' | 'low'; deadband?: number },
 ) {
   n += 1
-  const proc = (
-    await eng.post('/api/processes', { areaId: area, name: `Conversion check ${n}`, description: '' }).expect(201)
-  ).body
-  const instrument = (
-    await eng
-      .post('/api/instruments', {
-        processId: proc.id,
-        tag: `CONV-${n}`,
-        burnout: 'none',
-        deviceKind: 'safety_plc',
-        normalLow: null,
-        normalHigh: null,
-        designLow: null,
-        designHigh: null,
-        ...inst,
-      })
-      .expect(201)
-  ).body
-  const created = (
-    await eng
-      .post('/api/limits', {
-        processId: proc.id,
-        instrumentIds: [instrument.id],
-        tag: `CONV-TRIP-${n}`,
-        direction: limit.direction ?? 'high',
-        limitClass: 'trip',
-        setpoint: limit.setpoint,
-        deadband: limit.deadband ?? 1,
-        severity: 'major',
-        testIntervalMonths: 12,
-        latching: false,
-        compensatingMeasures: ['Local reading'],
-      })
-      .expect(201)
-  ).body
+  const proc = await eng.created('/api/processes', { areaId: area, name: `Conversion check ${n}`, description: '' })
+  const instrument = await eng.created('/api/instruments', {
+    processId: proc.id,
+    tag: `CONV-${n}`,
+    burnout: 'none',
+    deviceKind: 'safety_plc',
+    normalLow: null,
+    normalHigh: null,
+    designLow: null,
+    designHigh: null,
+    ...inst,
+  })
+  const created = await eng.created('/api/limits', {
+    processId: proc.id,
+    instrumentIds: [instrument.id],
+    tag: `CONV-TRIP-${n}`,
+    direction: limit.direction ?? 'high',
+    limitClass: 'trip',
+    setpoint: limit.setpoint,
+    deadband: limit.deadband ?? 1,
+    severity: 'major',
+    testIntervalMonths: 12,
+    latching: false,
+    compensatingMeasures: ['Local reading'],
+  })
   await activateLimit({ eng, approver, tech }, created)
   return created.id as number
 }
@@ -84,11 +74,10 @@ async function asFoundFrom(
   unit: 'mA' | 'mV' | 'ohm' | 'V',
   extra: Record<string, unknown> = {},
 ) {
-  return (
-    await tech
-      .post('/api/trip-tests', signalReading(limitId, value, unit, { finalElementOk: true, ...extra }))
-      .expect(201)
-  ).body as {
+  return (await tech.created(
+    '/api/trip-tests',
+    signalReading(limitId, value, unit, { finalElementOk: true, ...extra }),
+  )) as {
     asFound: number
     asFoundResult: string
     asFoundSignal: { value: number; unit: string }

@@ -47,14 +47,10 @@ async function activeTrip(sil: 1 | 2 | 3 | null) {
 }
 
 async function tested(limitId: number, performedAt: string, result: Record<string, unknown> = { asFound: 781 }) {
-  const t = (
-    await a.tech
-      .post(
-        '/api/trip-tests',
-        simulatorTest(limitId, { performedAt, finalElementOk: true, latchHeld: true, ...result }),
-      )
-      .expect(201)
-  ).body
+  const t = await a.tech.created(
+    '/api/trip-tests',
+    simulatorTest(limitId, { performedAt, finalElementOk: true, latchHeld: true, ...result }),
+  )
   await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
   return t as { id: number; passed: boolean }
 }
@@ -91,7 +87,7 @@ describe('test deferrals', () => {
     await a.tech.post('/api/test-deferrals', { ...req, compensatingMeasures: [] }).expect(400)
     expect(await rowCounts(ctx.db)).toEqual(before)
 
-    const d = (await a.tech.post('/api/test-deferrals', req).expect(201)).body
+    const d = await a.tech.created('/api/test-deferrals', req)
     expect(d).toMatchObject({
       status: 'requested',
       originalDueDate: '2027-01-10',
@@ -179,16 +175,12 @@ describe('test deferrals', () => {
     await at('2026-01-10T08:00:00Z')
     const plain = await activeTrip(null)
     await tested(plain.id, '2026-01-10T07:00:00Z')
-    const d = (
-      await a.eng
-        .post('/api/test-deferrals', {
-          limitId: plain.id,
-          newDueDate: '2027-02-01',
-          reason: 'Spare calibrator away',
-          compensatingMeasures: ['Daily check of the local indicator'],
-        })
-        .expect(201)
-    ).body
+    const d = await a.eng.created('/api/test-deferrals', {
+      limitId: plain.id,
+      newDueDate: '2027-02-01',
+      reason: 'Spare calibrator away',
+      compensatingMeasures: ['Daily check of the local indicator'],
+    })
     expect(d.requiredRole).toBe('approver')
     expect(d.risk.stretchedPfd).toBeNull()
     await a.approver.post(`/api/test-deferrals/${d.id}/rejection`, { password: PW }).expect(400)

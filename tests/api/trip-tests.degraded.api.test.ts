@@ -60,23 +60,19 @@ async function tested(
   result: Record<string, unknown>,
   opts: { kind?: 'full' | 'partial'; sign?: boolean } = {},
 ) {
-  const t = (
-    await a.tech
-      .post('/api/trip-tests', {
-        limitId,
-        kind: opts.kind ?? 'full',
-        method: 'injection',
-        injectionPoint: 'sensor',
-        sourceMode: 'tc_simulate',
-        calibratorId: 'CAL-21',
-        calibratorDueDate: '2027-01-31',
-        performedAt,
-        finalElementOk: true,
-        latchHeld: true,
-        ...result,
-      })
-      .expect(201)
-  ).body
+  const t = await a.tech.created('/api/trip-tests', {
+    limitId,
+    kind: opts.kind ?? 'full',
+    method: 'injection',
+    injectionPoint: 'sensor',
+    sourceMode: 'tc_simulate',
+    calibratorId: 'CAL-21',
+    calibratorDueDate: '2027-01-31',
+    performedAt,
+    finalElementOk: true,
+    latchHeld: true,
+    ...result,
+  })
   if (opts.sign === false) return t
   return (await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200))
     .body

@@ -37,9 +37,7 @@ describe('trip tests: a failed test degrades the limit until a full retest passe
 
     // as found in signal units, mV-source mode with the cold junction at 25 °C: E(800 °C) − E(25 °C) = 33.2754 − 1.0002 mV
     // (ITS-90 type K, NIST SRD 60) → it tripped at 800 °C, 20 °C late
-    const failed = (
-      await tech.post('/api/trip-tests', { ...base, asFoundSignal: { value: 32.2752, unit: 'mV' } }).expect(201)
-    ).body
+    const failed = await tech.created('/api/trip-tests', { ...base, asFoundSignal: { value: 32.2752, unit: 'mV' } })
     expect(failed.asFound).toBeCloseTo(800, 1)
     expect(failed).toMatchObject({ asFoundResult: 'out_dangerous', passed: false, status: 'recorded', toleranceEu: 6 })
     await approver.post(`/api/trip-tests/${failed.id}/signatures`, { meaning: 'witnessed', password: PW }).expect(409)
@@ -77,16 +75,15 @@ describe('trip tests: a failed test degrades the limit until a full retest passe
       await agent.refreshCsrf()
       await agent.signIn(`${who}@fernhollow.example`)
     }
-    const partial = (
-      await tech
-        .post('/api/trip-tests', { ...base, kind: 'partial', performedAt: '2026-03-11T09:00:00Z', asFound: 780 })
-        .expect(201)
-    ).body
+    const partial = await tech.created('/api/trip-tests', {
+      ...base,
+      kind: 'partial',
+      performedAt: '2026-03-11T09:00:00Z',
+      asFound: 780,
+    })
     await tech.post(`/api/trip-tests/${partial.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.protectionState).toBe('degraded')
-    const retest = (
-      await tech.post('/api/trip-tests', { ...base, performedAt: '2026-03-11T09:30:00Z', asFound: 781 }).expect(201)
-    ).body
+    const retest = await tech.created('/api/trip-tests', { ...base, performedAt: '2026-03-11T09:30:00Z', asFound: 781 })
     expect(retest.passed).toBe(true)
     await tech.post(`/api/trip-tests/${retest.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
     const cleared = (await eng.get(`/api/limits/${limit.id}`).expect(200)).body

@@ -48,7 +48,7 @@ beforeAll(async () => {
 
 describe('precautions before the test', () => {
   it('are stored with the record and read back as confirmed', async () => {
-    const t = (await a.tech.post('/api/trip-tests', body()).expect(201)).body
+    const t = await a.tech.created('/api/trip-tests', body())
     expect(t.precautions).toEqual(SAFE)
     const row = await ctx.db
       .selectFrom('trip_test')
@@ -89,31 +89,27 @@ describe('precautions before the test', () => {
   })
 
   it('accepts a real-trip method once the trip is acknowledged, and no gas test outside a hazardous area', async () => {
-    const t = (
-      await a.tech
-        .post(
-          '/api/trip-tests',
-          body(
-            { method: 'process', injectionPoint: null, sourceMode: null },
-            {
-              ...SAFE,
-              isolated: false,
-              hazardousArea: false,
-              intrinsicallySafeCalibrator: null,
-              gasTestDone: null,
-              realTripAcknowledged: true,
-            },
-          ),
-        )
-        .expect(201)
-    ).body
+    const t = await a.tech.created(
+      '/api/trip-tests',
+      body(
+        { method: 'process', injectionPoint: null, sourceMode: null },
+        {
+          ...SAFE,
+          isolated: false,
+          hazardousArea: false,
+          intrinsicallySafeCalibrator: null,
+          gasTestDone: null,
+          realTripAcknowledged: true,
+        },
+      ),
+    )
     expect(t.precautions).toMatchObject({ isolated: false, realTripAcknowledged: true, gasTestDone: null })
   })
 })
 
 describe('the return-to-service check: its own signature, before acceptance', () => {
   it("answers each person's actions and refuses acceptance until the return to service is signed", async () => {
-    const t = (await a.tech.post('/api/trip-tests', body()).expect(201)).body
+    const t = await a.tech.created('/api/trip-tests', body())
     const sign = (who: keyof typeof a, meaning: string) =>
       a[who].post(`/api/trip-tests/${t.id}/signatures`, { meaning, password: PW })
     await sign('tech', 'performed').expect(200)

@@ -74,7 +74,7 @@ describe('recording: only technicians (docs/trip-tests.md#who-signs)', () => {
       expect(res.body.error.code, who).toBe('FORBIDDEN')
     }
     expect(await written()).toEqual(before)
-    const ok = (await a.tech.post('/api/trip-tests', body()).expect(201)).body
+    const ok = await a.tech.created('/api/trip-tests', body())
     expect(ok).toMatchObject({
       asFoundResult: 'in_tolerance',
       asLeftResult: 'in_tolerance',
@@ -119,7 +119,7 @@ describe('recording: only technicians (docs/trip-tests.md#who-signs)', () => {
 
 describe('signatures (docs/trip-tests.md#who-signs: performer = recorder; witness never the performer; return to service; acceptance by operations)', () => {
   it('keeps each meaning to its roles and people, writing nothing on a refusal', async () => {
-    const t = (await a.tech.post('/api/trip-tests', body()).expect(201)).body
+    const t = await a.tech.created('/api/trip-tests', body())
     const sign = (who: keyof typeof a, meaning: string, password = who === 'tech2' ? TECH2_PW : PW) =>
       a[who].post(`/api/trip-tests/${t.id}/signatures`, { meaning, password })
 
@@ -161,7 +161,7 @@ describe('signatures (docs/trip-tests.md#who-signs: performer = recorder; witnes
   })
 
   it('asks for a witness on a SIL-rated limit: performed and accepted leave it signed, the witness completes it', async () => {
-    const t = (await a.tech.post('/api/trip-tests', body({ limitId: silLimitId })).expect(201)).body
+    const t = await a.tech.created('/api/trip-tests', body({ limitId: silLimitId }))
     expect(t.witnessRequired).toBe(true)
     await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
     await a.tech
@@ -177,18 +177,15 @@ describe('signatures (docs/trip-tests.md#who-signs: performer = recorder; witnes
     expect(done.status).toBe('completed')
     // without a SIL the site policy (sil_only) asks for none
     expect(
-      (
-        await a.tech
-          .get(`/api/trip-tests/${(await a.tech.post('/api/trip-tests', body()).expect(201)).body.id}`)
-          .expect(200)
-      ).body.witnessRequired,
+      (await a.tech.get(`/api/trip-tests/${(await a.tech.created('/api/trip-tests', body())).id}`).expect(200)).body
+        .witnessRequired,
     ).toBe(false)
   })
 })
 
 describe('editing: by its recorder until the performer signs', () => {
   it('lets the recorder correct an unsigned record, refuses others, and locks it after signing', async () => {
-    const t = (await a.tech.post('/api/trip-tests', body({ asFound: 790 })).expect(201)).body
+    const t = await a.tech.created('/api/trip-tests', body({ asFound: 790 }))
     expect(t.asFoundResult).toBe('out_dangerous')
     const before = await written()
     await a.tech2.put(`/api/trip-tests/${t.id}`, body({ asFound: 781 })).expect(403)
@@ -216,7 +213,7 @@ describe('attachments: PDF, PNG or JPEG up to 10 MB, checked by content', () => 
   ])
 
   it('stores a real PNG, refuses a text file named .pdf and a file over 10 MB, and writes nothing then', async () => {
-    const t = (await a.tech.post('/api/trip-tests', body()).expect(201)).body
+    const t = await a.tech.created('/api/trip-tests', body())
     const url = `/api/trip-tests/${t.id}/attachments`
     const upload = (agent: ApiAgent, buf: Buffer, name: string) =>
       agent.agent.post(url).set('X-CSRF-Token', agent.csrf).attach('file', buf, name)

@@ -40,46 +40,36 @@ async function at(iso: string) {
 /** An active type K high trip at 780 °C (0–1200 °C) at Fernhollow with the given test interval, in the given area. */
 async function activeTrip(testIntervalMonths: number, areaId: number) {
   n += 1
-  const proc = (
-    await a.eng.post('/api/processes', { areaId, name: `Schedule heater ${n}`, description: '' }).expect(201)
-  ).body
-  const inst = (
-    await a.eng
-      .post('/api/instruments', {
-        processId: proc.id,
-        tag: `SCH-TT-${n}`,
-        measuredVariable: 'temperature',
-        unit: '°C',
-        rangeLow: 0,
-        rangeHigh: 1200,
-        normalLow: null,
-        normalHigh: null,
-        designLow: null,
-        designHigh: null,
-        burnout: 'upscale',
-        signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
-        deviceKind: 'limit_controller',
-      })
-      .expect(201)
-  ).body
-  const limit = (
-    await a.eng
-      .post('/api/limits', {
-        processId: proc.id,
-        instrumentIds: [inst.id],
-        tag: `SCH-TSHH-${n}`,
-        direction: 'high',
-        limitClass: 'trip',
-        setpoint: 780,
-        deadband: 5,
-        severity: 'severe',
-        testIntervalMonths,
-        latching: true,
-        resetRole: 'operator',
-        compensatingMeasures: ['Local reading'],
-      })
-      .expect(201)
-  ).body
+  const proc = await a.eng.created('/api/processes', { areaId, name: `Schedule heater ${n}`, description: '' })
+  const inst = await a.eng.created('/api/instruments', {
+    processId: proc.id,
+    tag: `SCH-TT-${n}`,
+    measuredVariable: 'temperature',
+    unit: '°C',
+    rangeLow: 0,
+    rangeHigh: 1200,
+    normalLow: null,
+    normalHigh: null,
+    designLow: null,
+    designHigh: null,
+    burnout: 'upscale',
+    signal: { kind: 'thermocouple', tcType: 'K', headTransmitter: false },
+    deviceKind: 'limit_controller',
+  })
+  const limit = await a.eng.created('/api/limits', {
+    processId: proc.id,
+    instrumentIds: [inst.id],
+    tag: `SCH-TSHH-${n}`,
+    direction: 'high',
+    limitClass: 'trip',
+    setpoint: 780,
+    deadband: 5,
+    severity: 'severe',
+    testIntervalMonths,
+    latching: true,
+    resetRole: 'operator',
+    compensatingMeasures: ['Local reading'],
+  })
   await activateLimit({ eng: a.eng, approver: a.approver, tech: a.tech }, limit)
   return { id: limit.id as number, tag: limit.tag as string }
 }
@@ -90,22 +80,18 @@ async function tested(
   result: Record<string, unknown> = { asFound: 781 },
   kind: 'full' | 'partial' = 'full',
 ) {
-  const t = (
-    await a.tech
-      .post('/api/trip-tests', {
-        limitId,
-        kind,
-        method: 'injection',
-        injectionPoint: 'sensor',
-        sourceMode: 'tc_simulate',
-        calibratorId: 'CAL-5',
-        calibratorDueDate: '2026-12-31',
-        performedAt,
-        finalElementOk: true,
-        ...result,
-      })
-      .expect(201)
-  ).body
+  const t = await a.tech.created('/api/trip-tests', {
+    limitId,
+    kind,
+    method: 'injection',
+    injectionPoint: 'sensor',
+    sourceMode: 'tc_simulate',
+    calibratorId: 'CAL-5',
+    calibratorDueDate: '2026-12-31',
+    performedAt,
+    finalElementOk: true,
+    ...result,
+  })
   await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
   return t as { id: number; passed: boolean }
 }
@@ -277,7 +263,7 @@ describe("the weekly digest (Monday from 07:00 in each site's time zone, once pe
     for (const k of ['eng', 'tech', 'manager', 'approver'] as const)
       await a[k].post('/api/trip-tests/digest-runs', { siteId: fhr }).expect(403)
     expect(await count()).toEqual(before)
-    const run = (await a.admin.post('/api/trip-tests/digest-runs', { siteId: fhr }).expect(201)).body
+    const run = await a.admin.created('/api/trip-tests/digest-runs', { siteId: fhr })
     // B is overdue and C never tested; A (monthly) is due on 3 April, 17 days ahead: outside its 7-day look-ahead
     expect(run).toEqual({ sent: 2, overdue: 2, dueSoon: 0 })
     const after = await count()

@@ -40,6 +40,10 @@ export class ApiAgent {
       .set('X-CSRF-Token', this.csrf)
       .send(body as object)
   }
+  /** POSTs `body` and answers the body of the 201 Created answer; any other status fails the test. */
+  async created(url: string, body?: unknown) {
+    return (await this.post(url, body).expect(201)).body
+  }
   delete(url: string) {
     return this.agent.delete(url).set('X-CSRF-Token', this.csrf)
   }

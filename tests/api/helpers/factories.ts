@@ -117,29 +117,21 @@ export async function buildHeaterTrip(
   const site = sites.find((s) => s.code === (opts.siteCode ?? 'FHR'))!
   const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[0]
   const n = next()
-  const proc = (
-    await eng
-      .post('/api/processes', { areaId: area.id, name: `Fixture heater H-${n}`, description: 'fired heater' })
-      .expect(201)
-  ).body
-  const inst = (
-    await eng
-      .post('/api/instruments', {
-        ...heaterThermocouple(proc.id, `TT-${n}`),
-        ...(opts.model === undefined ? {} : { model: opts.model }),
-      })
-      .expect(201)
-  ).body
+  const proc = await eng.created('/api/processes', {
+    areaId: area.id,
+    name: `Fixture heater H-${n}`,
+    description: 'fired heater',
+  })
+  const inst = await eng.created('/api/instruments', {
+    ...heaterThermocouple(proc.id, `TT-${n}`),
+    ...(opts.model === undefined ? {} : { model: opts.model }),
+  })
   const sil = opts.sil ?? null
   const subsystems = sil ? HEATER_SUBSYSTEMS : []
-  const limit = (
-    await eng
-      .post('/api/limits', {
-        ...heaterTrip(proc.id, [inst.id], `TSHH-${n}`, sil, subsystems),
-        setpoint: opts.setpoint ?? 780,
-      })
-      .expect(201)
-  ).body
+  const limit = await eng.created('/api/limits', {
+    ...heaterTrip(proc.id, [inst.id], `TSHH-${n}`, sil, subsystems),
+    setpoint: opts.setpoint ?? 780,
+  })
   return { site, area, proc, inst, limit }
 }
 
@@ -275,16 +267,12 @@ export function readBackOf(item: {
 export async function dualRoleApprover(app: Express, admin: ApiAgent) {
   const sites = (await admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const fhr = sites.find((s) => s.code === 'FHR')!.id
-  const user = (
-    await admin
-      .post('/api/users', {
-        email: 'dual@fernhollow.example',
-        displayName: 'Dana Twofold',
-        password: 'dual-role-password',
-        roles: [{ siteId: fhr, role: 'approver' }],
-      })
-      .expect(201)
-  ).body
+  const user = await admin.created('/api/users', {
+    email: 'dual@fernhollow.example',
+    displayName: 'Dana Twofold',
+    password: 'dual-role-password',
+    roles: [{ siteId: fhr, role: 'approver' }],
+  })
   const patched = (
     await admin
       .patch(`/api/users/${user.id}`, {
@@ -360,6 +348,11 @@ export async function approveChange(approvers: ApiAgent[], cr: { id: number; app
       readBackExpected?: Record<string, unknown> | null
     }[]
   }
+}
+
+/** Submits a change request as the engineer (submitChange) and signs the approvals it needs; answers the approved request. */
+export async function submitAndApprove(eng: ApiAgent, approvers: ApiAgent[], body: Record<string, unknown>) {
+  return approveChange(approvers, await submitChange(eng, body))
 }
 
 /** Implements every item of an approved request with the correct read-back; answers the implemented request. */

@@ -333,14 +333,20 @@ export async function completeFixtures(ownerUrl: string, app: Express, fhr: numb
         [fhr, src, run],
       )
     }
-    if (!(await has('shift_handover', fhr))) {
+    /** The demo's shift supervisor hands over the first area of the site, as it stands. */
+    const handOverFirstArea = async (siteId: number) => {
       const sup = new ApiAgent(app)
       await sup.signIn('supervisor@fernhollow.example', DEMO_PASSWORD)
-      const area = (await c.query(`SELECT id FROM area WHERE site_id = $1 ORDER BY id LIMIT 1`, [fhr])).rows[0].id
+      const area = (await c.query(`SELECT id FROM area WHERE site_id = $1 ORDER BY id LIMIT 1`, [siteId])).rows[0].id
       const state = await sup.get(`/api/shift-handovers/state?areaId=${area}`).expect(200)
-      await sup
-        .post('/api/shift-handovers', { areaIds: [area], stateHash: state.body.stateHash, password: DEMO_PASSWORD })
-        .expect(201)
+      await sup.created('/api/shift-handovers', {
+        areaIds: [area],
+        stateHash: state.body.stateHash,
+        password: DEMO_PASSWORD,
+      })
+    }
+    if (!(await has('shift_handover', fhr))) {
+      await handOverFirstArea(fhr)
     }
     if (!(await has('shift_handover', smp))) {
       // the demo's supervisor works at Fernhollow; for this handover they are given Saltmarsh too
@@ -349,13 +355,7 @@ export async function completeFixtures(ownerUrl: string, app: Express, fhr: numb
         supId,
         smp,
       ])
-      const sup = new ApiAgent(app)
-      await sup.signIn('supervisor@fernhollow.example', DEMO_PASSWORD)
-      const area = (await c.query(`SELECT id FROM area WHERE site_id = $1 ORDER BY id LIMIT 1`, [smp])).rows[0].id
-      const state = await sup.get(`/api/shift-handovers/state?areaId=${area}`).expect(200)
-      await sup
-        .post('/api/shift-handovers', { areaIds: [area], stateHash: state.body.stateHash, password: DEMO_PASSWORD })
-        .expect(201)
+      await handOverFirstArea(smp)
     }
     for (const t of TABLES) {
       if (await has(t, smp)) continue
