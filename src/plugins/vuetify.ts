@@ -47,6 +47,7 @@ export const vuetifyOptions: VuetifyOptions = {
     VBtnPrimary: { ...button, color: 'primary', variant: 'flat' },
     VBtnSecondary: { ...button, color: 'primary', variant: 'tonal' },
     VBtnDanger: { ...button, color: 'error', variant: 'flat' },
+    VBtnIcon: { ...button, variant: 'text', size: 'small' },
   },
   aliases: {
     /** The main action of a screen, form or panel: save, submit, create, run. */
@@ -55,6 +56,8 @@ export const vuetifyOptions: VuetifyOptions = {
     VBtnSecondary: VBtn,
     /** An action that removes, refuses or accepts a risk: delete, withdraw, decline, sign degraded protection. */
     VBtnDanger: VBtn,
+    /** The icon button of a row or list entry (edit, remove, open), named by its aria-label. */
+    VBtnIcon: VBtn,
   },
 }
 
@@ -65,5 +68,6 @@ declare module 'vue' {
     VBtnPrimary: typeof VBtn
     VBtnSecondary: typeof VBtn
     VBtnDanger: typeof VBtn
+    VBtnIcon: typeof VBtn
   }
 }

@@ -23,6 +23,7 @@ describe('button aliases', () => {
     ['v-btn-primary', { color: 'primary', variant: 'flat' }],
     ['v-btn-secondary', { color: 'primary', variant: 'tonal' }],
     ['v-btn-danger', { color: 'error', variant: 'flat' }],
+    ['v-btn-icon', { variant: 'text', size: 'small' }],
   ])('%s draws v-btn with %o', (alias, props) => {
     const aliased = classes(alias, {}, 'button.v-btn')
     expect(aliased.sort()).toEqual(classes(VBtn, props, 'button.v-btn').sort())
