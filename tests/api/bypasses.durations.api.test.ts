@@ -1,9 +1,7 @@
-import type { Express } from 'express'
 import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
 import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { crewOf, signedIn } from './helpers/agent.ts'
+import { useSignedIn, signedIn } from './helpers/agent.ts'
 import {
   draftChange,
   auditActions,
@@ -21,8 +19,7 @@ const HOUR = 3_600_000
 const PEOPLE = ['engineer', 'approver', 'approver2', 'technician', 'supervisor', 'operator', 'manager'] as const
 type Who = (typeof PEOPLE)[number]
 
-let app: Express
-const { as, signInAll } = crewOf(() => app, PEOPLE)
+const { as, signInAll, app } = useSignedIn(ctx, PEOPLE, { at: '2026-06-01T06:00:00Z' })
 
 const crew = () => ({ eng: as.engineer, approver: as.approver, tech: as.technician })
 
@@ -88,12 +85,6 @@ async function written() {
   }
 }
 
-beforeAll(async () => {
-  ctx.clock.set('2026-06-01T06:00:00Z')
-  app = createApp(ctx)
-  await signInAll()
-})
-
 describe('bypass: an authorization not activated in time lapses (docs/bypasses.md default 4 h, common practice)', () => {
   it('activates within 4 h; after 4 h activation answers 409 and the job marks the authorization lapsed', async () => {
     ctx.clock.set('2026-06-01T06:00:00Z')
@@ -115,7 +106,7 @@ describe('bypass: an authorization not activated in time lapses (docs/bypasses.m
 
     // 3 h 59 min after the authorization: still valid, the job leaves both alone
     ctx.clock.set(new Date(authorizedAt + 4 * HOUR - 60_000))
-    as.operator = await signedIn(app, 'operator')
+    as.operator = await signedIn(app(), 'operator')
     expect(await job.runDue(ctx.clock.now())).toMatchObject({ lapsed: 0 })
     expect((await as.operator.post(`/api/bypasses/${early.id}/activation`, ACTIVATE).expect(200)).body.status).toBe(
       'active',

@@ -1,9 +1,7 @@
-import type { Express } from 'express'
-import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
+import { describe, expect, it } from 'vitest'
 import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { crewOf } from './helpers/agent.ts'
+import { useSignedIn } from './helpers/agent.ts'
 import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
 import { recipients, useFakeSmtp } from './helpers/mail.ts'
 import { useTestDb } from './helpers/test-db.ts'
@@ -15,16 +13,9 @@ const MIN = 60_000
 const HOUR = 60 * MIN
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor', 'operator', 'manager'] as const
 
-let app: Express
-const { as, signInAll } = crewOf(() => app, PEOPLE)
 const mailbox = useFakeSmtp(ctx)
+const { as, signInAll } = useSignedIn(ctx, PEOPLE, { at: '2026-07-06T05:30:00Z' })
 const { deliver, startingWith: mails } = mailbox
-
-beforeAll(async () => {
-  ctx.clock.set('2026-07-06T05:30:00Z')
-  app = createApp(ctx)
-  await signInAll()
-})
 
 describe('bypass past its planned end: warning, overdue, escalation (docs/bypasses.md defaults 1 h / at once / every 4 h, common practice)', () => {
   it('warns the requester 1 h before, tells the shift supervisor at once when overdue, escalates to the plant manager every 4 h, never closes it; an extension clears it', async () => {

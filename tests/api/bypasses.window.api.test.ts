@@ -1,8 +1,6 @@
-import type { Express } from 'express'
-import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
+import { describe, expect, it } from 'vitest'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { crewOf } from './helpers/agent.ts'
+import { useSignedIn } from './helpers/agent.ts'
 import { actionEvents, buildHeaterTrip, ACTIVATE, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -17,8 +15,7 @@ const PW = DEMO_PASSWORD
 const HOUR = 3_600_000
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor', 'operator', 'manager'] as const
 
-let app: Express
-const { as, signInAll } = crewOf(() => app, PEOPLE)
+const { as, signInAll } = useSignedIn(ctx, PEOPLE, { at: '2026-07-06T06:00:00Z' })
 /** A heater trip put in service whose own longest bypass is `maxBypassHours`. */
 async function limitWithMaxBypass(maxBypassHours: number) {
   const { limit } = await buildHeaterTrip(as.engineer)
@@ -44,12 +41,6 @@ async function written() {
     .execute()
   return { audit: await actionEvents(ctx.db), rows, signatures: await countRows(ctx.db, 'signature') }
 }
-
-beforeAll(async () => {
-  ctx.clock.set('2026-07-06T06:00:00Z')
-  app = createApp(ctx)
-  await signInAll()
-})
 
 describe('a bypass is put in force no earlier than its planned start', () => {
   it('409 before the planned start, with the time in the site zone; 200 from the start on', async () => {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
-import { signedIn } from './helpers/agent.ts'
+import { signedInAs } from './helpers/agent.ts'
 import { draftChange, buildHeaterTrip, readyToImplement } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -11,9 +11,7 @@ const PW = 'limitkeeper-demo'
 describe('change request: propose, approve, implement, close', () => {
   it('activates a proposed limit and then changes its setpoint through a second request', async () => {
     const app = createApp(ctx)
-    const eng = await signedIn(app, 'engineer')
-    const approver = await signedIn(app, 'approver')
-    const tech = await signedIn(app, 'technician')
+    const { eng, approver, tech } = await signedInAs(app, { eng: 'engineer', approver: 'approver', tech: 'technician' })
     const { site, limit } = await buildHeaterTrip(eng)
 
     // 1. baseline: put the proposed limit in service

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { signedIn } from './helpers/agent.ts'
+import { signedInAs } from './helpers/agent.ts'
 import { draftChange, buildHeaterTrip } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -13,9 +13,7 @@ const ctx = useTestDb()
 describe('change requests of one limit', () => {
   it('lists the requests that touch the limit or its instrument, newest first, and nothing else', async () => {
     const app = createApp(ctx)
-    const eng = await signedIn(app, 'engineer')
-    const approver = await signedIn(app, 'approver')
-    const tech = await signedIn(app, 'technician')
+    const { eng, approver, tech } = await signedInAs(app, { eng: 'engineer', approver: 'approver', tech: 'technician' })
     const { site, inst, limit } = await buildHeaterTrip(eng)
     const other = await buildHeaterTrip(eng)
 

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { signedIn, type ApiAgent } from './helpers/agent.ts'
+import { type ApiAgent, signedInAs } from './helpers/agent.ts'
 import { buildHeaterTrip, rowCounts, submitChange } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -43,9 +43,7 @@ async function approvedRequest(
 describe('blind read-back', () => {
   it('reads back the priority and enabled state of an alarm and compares setpoints as exact decimals', async () => {
     const app = createApp(ctx)
-    const eng = await signedIn(app, 'engineer')
-    const approver = await signedIn(app, 'approver')
-    const tech = await signedIn(app, 'technician')
+    const { eng, approver, tech } = await signedInAs(app, { eng: 'engineer', approver: 'approver', tech: 'technician' })
     const { site, limit } = await buildHeaterAlarm(eng)
     // Default priority matrix of the site policy (docs/domain/alarm-classification.md, common practice): moderate
     // severity with 10 to < 30 min to respond is "low".
@@ -160,9 +158,7 @@ describe('blind read-back', () => {
 
   it('reads back no priority for a trip, and answers the check only to whoever may implement', async () => {
     const app = createApp(ctx)
-    const eng = await signedIn(app, 'engineer')
-    const approver = await signedIn(app, 'approver')
-    const tech = await signedIn(app, 'technician')
+    const { eng, approver, tech } = await signedInAs(app, { eng: 'engineer', approver: 'approver', tech: 'technician' })
     const { site, limit } = await buildHeaterTrip(eng)
     const cr = await approvedRequest(eng, approver, site.id, { kind: 'create', limitId: limit.id })
     expect(cr.items[0].readBackExpected).toBeNull()

@@ -8,8 +8,8 @@ import pg from 'pg'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { REGISTER_COLUMNS, type RegisterColumnKey } from '../../shared/schemas/register-io.ts'
-import { ApiAgent, signedIn, newAccount } from './helpers/agent.ts'
-import { readyToImplement, countActionEvents, countRows } from './helpers/factories.ts'
+import { ApiAgent, signedIn, signedInAs, newAccount } from './helpers/agent.ts'
+import { CHANGE_PEOPLE, readyToImplement, countActionEvents, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -528,10 +528,7 @@ describe('the alarm rationalization record in the register file', () => {
 describe('an import opens a draft change request for its baseline', () => {
   it('holds one create item per imported draft; approving and implementing it in bulk activates them', async () => {
     const app = createApp(ctx)
-    const eng = await signedIn(app, 'engineer')
-    const approver = await signedIn(app, 'approver')
-    const approver2 = await signedIn(app, 'approver2')
-    const tech = await signedIn(app, 'technician')
+    const { eng, approver, approver2, tech } = await signedInAs(app, CHANGE_PEOPLE)
     const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
     const fhr = sites.find((s) => s.code === 'FHR')!
     // two rows of the example file under new tags, so they are new drafts in this database

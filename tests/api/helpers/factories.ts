@@ -333,21 +333,20 @@ export async function submitChange(eng: ApiAgent, body: Record<string, unknown>)
   return (await eng.post(`/api/change-requests/${created.id}/submission`).expect(200)).body
 }
 
+/** An item of a change request as the API answers it, with what its read-back needs. */
+interface ChangeItem {
+  id: number
+  deviceFields: string[]
+  changes: Record<string, { to: unknown }>
+  readBackExpected?: Record<string, unknown> | null
+}
+
 /** Signs as many approvals as the request needs, one approver each; answers the approved request. */
 export async function approveChange(approvers: ApiAgent[], cr: { id: number; approvalsRequired: number }) {
   let body: unknown = null
   for (const a of approvers.slice(0, cr.approvalsRequired))
     body = (await a.post(`/api/change-requests/${cr.id}/approvals`, { password: DEMO_PASSWORD }).expect(200)).body
-  return body as {
-    id: number
-    status: string
-    items: {
-      id: number
-      deviceFields: string[]
-      changes: Record<string, { to: unknown }>
-      readBackExpected?: Record<string, unknown> | null
-    }[]
-  }
+  return body as { id: number; status: string; items: ChangeItem[] }
 }
 
 /** Submits a change request as the engineer (submitChange) and signs the approvals it needs; answers the approved request. */
@@ -356,18 +355,7 @@ export async function submitAndApprove(eng: ApiAgent, approvers: ApiAgent[], bod
 }
 
 /** Implements every item of an approved request with the correct read-back; answers the implemented request. */
-export async function implementChange(
-  tech: ApiAgent,
-  cr: {
-    id: number
-    items: {
-      id: number
-      deviceFields: string[]
-      changes: Record<string, { to: unknown }>
-      readBackExpected?: Record<string, unknown> | null
-    }[]
-  },
-) {
+export async function implementChange(tech: ApiAgent, cr: { id: number; items: ChangeItem[] }) {
   let body: unknown = null
   for (const item of cr.items) {
     body = (
