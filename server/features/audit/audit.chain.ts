@@ -1,4 +1,6 @@
-import { dataHash, type EventData, GENESIS_HASH, hashEvent, JsonText, sealHash } from './audit.hash.ts'
+import { hash } from 'node:crypto'
+import { CanonicalWriter, CopyCursor, writeDataText } from './audit.copy.ts'
+import { dataHash, type EventData, GENESIS_HASH, hashEvent, sealHash } from './audit.hash.ts'
 import type { AuditRecorded } from '../../../shared/schemas/audit.ts'
 
 // The checks of the chain walk (docs/adr/0003-audit-hash-chain.md, "Verify"), free of the database so that worker
@@ -37,12 +39,51 @@ export interface ChainRow extends EventRow {
 export const CHAIN_COLUMNS = `seq, id, occurred_at, actor_id, action, entity_type, entity_id, before, after, reason,
   batch_id::text, request_id, ip, site_id, data_hash, prev_hash, hash, link`
 const CHAIN_FIELDS = 18
+/** Each column's place in a row of the copy. */
+const F = {
+  seq: 0,
+  id: 1,
+  occurredAt: 2,
+  actorId: 3,
+  action: 4,
+  entityType: 5,
+  entityId: 6,
+  before: 7,
+  after: 8,
+  reason: 9,
+  batchId: 10,
+  requestId: 11,
+  ip: 12,
+  siteId: 13,
+  dataHash: 14,
+  prevHash: 15,
+  hash: 16,
+  link: 17,
+}
 
-// PostgreSQL's binary copy format (its manual, "COPY", "Binary Format"): a signature, flags, a header extension, then
-// per row a 16-bit field count and per field a 32-bit length (-1: NULL) and the value; a count of -1 ends it
-const COPY_SIGNATURE = Buffer.from('PGCOPY\n\xff\r\n\0', 'latin1')
-/** 2000-01-01T00:00:00Z in Unix milliseconds: binary timestamps count microseconds from it. */
-const PG_EPOCH_MS = 946_684_800_000
+/** The event in the current row of a copy of `CHAIN_COLUMNS` (audit.copy.ts). */
+function chainRow(c: CopyCursor): ChainRow {
+  return {
+    seq: c.int(F.seq)!,
+    id: c.int(F.id)!,
+    occurred_ms: c.ms(F.occurredAt),
+    actor_id: c.int(F.actorId),
+    action: c.text(F.action)!,
+    entity_type: c.text(F.entityType)!,
+    entity_id: c.text(F.entityId),
+    before: c.json(F.before),
+    after: c.json(F.after),
+    reason: c.text(F.reason),
+    batch_id: c.text(F.batchId),
+    request_id: c.text(F.requestId),
+    ip: c.text(F.ip),
+    site_id: c.int(F.siteId),
+    data_hash: c.text(F.dataHash),
+    prev_hash: c.text(F.prevHash)!,
+    hash: c.text(F.hash)!,
+    link: c.text(F.link),
+  }
+}
 
 /**
  * The events of a page of the chain from its binary copy (`CHAIN_COLUMNS`), in the order PostgreSQL sent them, one at
@@ -51,63 +92,8 @@ const PG_EPOCH_MS = 946_684_800_000
  * hash), the time as milliseconds. Throws on a copy of another shape.
  */
 export function* rowsOfCopy(buf: Buffer): Generator<ChainRow> {
-  if (buf.length < 19 || !buf.subarray(0, 11).equals(COPY_SIGNATURE)) throw new Error('not a binary copy')
-  let p = 15
-  p += 4 + buf.readInt32BE(p) // the header extension
-  const len = () => {
-    const n = buf.readInt32BE(p)
-    p += 4
-    return n
-  }
-  const int = (): number | null => {
-    const n = len()
-    if (n < 0) return null
-    const v = n === 4 ? buf.readInt32BE(p) : n === 8 ? buf.readInt32BE(p) * 4294967296 + buf.readUInt32BE(p + 4) : NaN
-    p += n
-    return v
-  }
-  const text = (): string | null => {
-    const n = len()
-    if (n < 0) return null
-    p += n
-    return buf.toString('utf8', p - n, p)
-  }
-  const json = (): JsonText | null => {
-    const n = len()
-    if (n < 0) return null
-    if (buf[p] !== 1) throw new Error('unknown jsonb format') // jsonb's binary form: a version byte, then its text
-    p += n
-    return new JsonText(buf.toString('utf8', p - n + 1, p))
-  }
-  for (;;) {
-    const fields = buf.readInt16BE(p)
-    p += 2
-    if (fields === -1) return
-    if (fields !== CHAIN_FIELDS) throw new Error(`a row of ${fields} fields`)
-    const seq = int()!
-    const id = int()!
-    const us = int()!
-    yield {
-      seq,
-      id,
-      occurred_ms: Math.round(us / 1000) + PG_EPOCH_MS,
-      actor_id: int(),
-      action: text()!,
-      entity_type: text()!,
-      entity_id: text(),
-      before: json(),
-      after: json(),
-      reason: text(),
-      batch_id: text(),
-      request_id: text(),
-      ip: text(),
-      site_id: int(),
-      data_hash: text(),
-      prev_hash: text()!,
-      hash: text()!,
-      link: text(),
-    }
-  }
+  const c = new CopyCursor(buf, CHAIN_FIELDS)
+  while (c.next()) yield chainRow(c)
 }
 
 /** The recorded values of an event row under their API names (the verifier and the audit-trail list share them). */
@@ -254,6 +240,113 @@ export function checkPage(rows: Iterable<ChainRow>, heads: number[], linkOf: (ha
     advance(st, r)
   }
   if (!first) return { ok: true, first: null, end: null, marks }
+  for (; h < heads.length; h++) marks[h] = { ...st }
+  return { ok: true, first, end: st, marks }
+}
+
+/** Where the fields the data hash covers lie in a row of the copy (audit.copy.ts `writeDataText`). */
+export const DATA_FIELDS = {
+  occurredAt: F.occurredAt,
+  actorId: F.actorId,
+  action: F.action,
+  entityType: F.entityType,
+  entityId: F.entityId,
+  before: F.before,
+  after: F.after,
+  reason: F.reason,
+  batchId: F.batchId,
+  requestId: F.requestId,
+  ip: F.ip,
+  siteId: F.siteId,
+}
+const SEAL = {
+  dataHash: Buffer.from('{"dataHash":"', 'latin1'),
+  id: Buffer.from('","id":', 'latin1'),
+  prevHash: Buffer.from(',"prevHash":"', 'latin1'),
+  seq: Buffer.from('","seq":', 'latin1'),
+  end: Buffer.from(',"v":3}', 'latin1'),
+}
+// the texts the two hashes of an event cover, written into buffers kept from event to event
+const dataBytes = new CanonicalWriter()
+const sealBytes = new CanonicalWriter()
+
+/**
+ * Whether the sealed (format 3), keyed event in the current row of `c` is intact after the walk `st`, checked on the
+ * copy's bytes: one position after the previous event, its `prev_hash` the previous event's hash (the bytes at
+ * `prevAt`, or `st.prev` where -1), its data hash and hash recomputed from its columns (audit.copy.ts
+ * `writeDataText`, then audit.hash.ts `sealHash`'s text) and its keyed link from its hash. It answers true only where
+ * `linkProblem` and `contentProblem` find nothing; false where they find something or must decide (an event of an
+ * earlier format, a column of another size), never by itself naming a problem.
+ */
+function intactInCopy(c: CopyCursor, st: WalkState, prevAt: number, linkOf: (hash: string) => string): boolean {
+  const { len, at, buf } = c
+  if (len[F.seq] !== 8 || len[F.id] !== 8 || len[F.dataHash] !== 64 || len[F.prevHash] !== 64) return false
+  if (len[F.hash] !== 64 || len[F.link] < 0) return false
+  const seq = c.int(F.seq)!
+  if (seq !== st.lastSeq + 1) return false
+  const prev = at[F.prevHash]
+  if (prevAt >= 0) {
+    for (let j = 0; j < 64; j++) if (buf[prev + j] !== buf[prevAt + j]) return false
+  } else if (!c.asciiEquals(F.prevHash, st.prev)) return false
+  dataBytes.pos = 0
+  if (!writeDataText(dataBytes, c, DATA_FIELDS)) return false
+  const d = hash('sha256', dataBytes.buf.subarray(0, dataBytes.pos), 'hex')
+  if (!c.hexEquals(F.dataHash, d)) return false
+  const w = sealBytes
+  w.pos = 0
+  w.bytes(SEAL.dataHash, 0, SEAL.dataHash.length)
+  w.ascii(d)
+  w.bytes(SEAL.id, 0, SEAL.id.length)
+  w.ascii(String(c.int(F.id)))
+  w.bytes(SEAL.prevHash, 0, SEAL.prevHash.length)
+  w.bytes(buf, prev, prev + 64) // ASCII: the same bytes as the previous hash, or as st.prev
+  w.bytes(SEAL.seq, 0, SEAL.seq.length)
+  w.ascii(String(seq))
+  w.bytes(SEAL.end, 0, SEAL.end.length)
+  const h = hash('sha256', w.buf.subarray(0, w.pos), 'hex')
+  return c.hexEquals(F.hash, h) && c.hexEquals(F.link, linkOf(h))
+}
+
+/**
+ * `checkPage` of a page's binary copy (`CHAIN_COLUMNS`), with the same answer: each event checked on the copy's bytes
+ * (`intactInCopy`), read into a `ChainRow` and checked by `linkProblem` and `contentProblem` only where those must
+ * decide. An intact event's hash is left in the copy, written out as the walk's `prev` only where the walk is kept.
+ */
+export function checkCopyPage(buf: Buffer, heads: number[], linkOf: (hash: string) => string): PageCheck {
+  const c = new CopyCursor(buf, CHAIN_FIELDS)
+  const marks: (WalkState | null)[] = heads.map(() => null)
+  let first: ChainLink | null = null
+  let st = genesisState()
+  let h = 0
+  // where the hash of the last event checked lies in the copy while st.prev is not written out (-1: it is)
+  let prevAt = -1
+  const settled = () => {
+    if (prevAt >= 0) st.prev = buf.toString('latin1', prevAt, prevAt + 64)
+    prevAt = -1
+    return st
+  }
+  while (c.next()) {
+    const seq = c.int(F.seq)!
+    if (!first) {
+      const r = chainRow(c)
+      first = { id: r.id, seq: r.seq, prev_hash: r.prev_hash, link: r.link, data_hash: r.data_hash }
+      st = { lastSeq: r.seq - 1, lastId: 0, prev: r.prev_hash, checked: 0, unkeyed: 0, keyedFrom: null }
+    }
+    for (; h < heads.length && heads[h] < seq; h++) marks[h] = st.checked ? { ...settled() } : null
+    if (intactInCopy(c, st, prevAt, linkOf)) {
+      st.keyedFrom ??= seq
+      st.lastSeq = seq
+      st.lastId = c.int(F.id)!
+      st.checked++
+      prevAt = c.at[F.hash]
+      continue
+    }
+    const r = chainRow(c)
+    if (linkProblem(r, settled()) ?? contentProblem(r, linkOf)) return { ok: false, first, end: null, marks }
+    advance(st, r)
+  }
+  if (!first) return { ok: true, first: null, end: null, marks }
+  settled()
   for (; h < heads.length; h++) marks[h] = { ...st }
   return { ok: true, first, end: st, marks }
 }

@@ -159,6 +159,13 @@ function stringEnd(t: string, i: number): number {
 
 const JSON_NUMBER = /^-?(?:0|[1-9][0-9]*)(?:\.[0-9]+)?(?:[eE][+-]?[0-9]+)?$/
 
+/** A JSON number's text as ECMAScript writes the number (RFC 8785 §3.2.2.3); null for any other text or no finite. */
+export function ecmaNumber(token: string): string | null {
+  if (!JSON_NUMBER.test(token)) return null
+  const x = Number(token)
+  return Number.isFinite(x) ? JSON.stringify(x) : null
+}
+
 /**
  * RFC 8785 canonical JSON of a JSON text: what `canonicalJson(JSON.parse(t))` answers, and throws where it throws.
  * An object whose members are strings without escapes, numbers, true, false or null (the common case: a record's
@@ -196,10 +203,9 @@ function flatCanonical(t: string): string | null {
       const token = t.slice(v, ve)
       if (token === 'true' || token === 'false' || token === 'null') values.push(token)
       else {
-        if (!JSON_NUMBER.test(token)) return null // a nested value, white space, or not JSON
-        const x = Number(token)
-        if (!Number.isFinite(x)) return null
-        values.push(JSON.stringify(x))
+        const x = ecmaNumber(token)
+        if (x === null) return null // a nested value, white space, or not JSON
+        values.push(x)
       }
     }
     if (ve === n - 1) break

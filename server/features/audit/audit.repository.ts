@@ -2,7 +2,7 @@ import { sql, type Transaction } from 'kysely'
 import { type Clock, systemClock } from '../../clock.ts'
 import { type Db, kyselyOn, poolOf } from '../../db/index.ts'
 import type pg from 'pg'
-import { to as copyTo } from 'pg-copy-streams'
+import { copyOut } from '../../db/copy-out.ts'
 import type { Database } from '../../db/schema.ts'
 import { batchesOf } from '../../db/batches.ts'
 import { availableParallelism } from 'node:os'
@@ -352,24 +352,19 @@ async function pageRanges(db: Reader, size: number): Promise<PageRange[]> {
 
 /**
  * A page of the chain in chain order as PostgreSQL's binary copy of its events (audit.chain.ts, CHAIN_COLUMNS): one
- * stream of length-prefixed raw values, the cheapest form PostgreSQL writes rows in, read into one buffer.
+ * stream of length-prefixed raw values, the cheapest form PostgreSQL writes rows in, read from the socket into one
+ * buffer (server/db/copy-out.ts) that holds nothing else, so it can be moved to a worker thread whole.
  */
 async function chainPage(client: pg.PoolClient, { from, to }: PageRange): Promise<Buffer> {
   // COPY takes no parameters: the bounds are integers the walk computed, checked before they are written out
   if (!Number.isSafeInteger(from) || !Number.isSafeInteger(to)) throw new Error(`bad page ${from}..${to}`)
-  const stream = client.query(
-    copyTo(
-      `COPY (SELECT ${CHAIN_COLUMNS} FROM audit_event WHERE seq >= ${from} AND seq < ${to} ORDER BY seq) ` +
-        'TO STDOUT (FORMAT binary)',
-    ),
+  return copyOut(
+    client,
+    `COPY (SELECT ${CHAIN_COLUMNS} FROM audit_event WHERE seq >= ${from} AND seq < ${to} ORDER BY seq) ` +
+      'TO STDOUT (FORMAT binary)',
+    // room for events of some hundred bytes each, most of it never touched (the buffer grows past it if need be)
+    Math.min(to - from, 20_000) * 1024,
   )
-  const chunks: Buffer[] = []
-  let size = 0
-  for await (const chunk of stream as AsyncIterable<Buffer>) {
-    chunks.push(chunk)
-    size += chunk.length
-  }
-  return Buffer.concat(chunks, size)
 }
 
 /** A page of unsealed events in id order after id `after`. */

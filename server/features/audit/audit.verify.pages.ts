@@ -1,15 +1,19 @@
 import { Worker } from 'node:worker_threads'
 import { fileURLToPath } from 'node:url'
-import { checkPage, type PageCheck, rowsOfCopy } from './audit.chain.ts'
+import { checkCopyPage, type PageCheck } from './audit.chain.ts'
 import { linkHasher } from './audit.hash.ts'
 
-/** Checks one page of the chain (its binary copy, audit.chain.ts `rowsOfCopy`) against the checkpoint heads in it. */
+/**
+ * Checks a page of the chain (its binary copy, audit.chain.ts `checkCopyPage`) against the checkpoint heads in it.
+ * The page's memory is handed over: a page larger than Node's buffer pool is moved to a worker thread with the whole
+ * memory it lies in, which the caller must hold for nothing else.
+ */
 export type PageChecker = (page: Buffer, heads: number[]) => Promise<PageCheck>
 
 /** The page check in the calling thread. */
 export function checkPageHere(linkKey: Buffer): PageChecker {
   const link = linkHasher(linkKey)
-  return async (page, heads) => checkPage(rowsOfCopy(page), heads, link)
+  return async (page, heads) => checkCopyPage(page, heads, link)
 }
 
 /** What a page answers when its thread failed: not intact, so the walk is made again in one piece in the caller. */
@@ -80,8 +84,9 @@ export async function startPageWorkers(
       if (!live.length) return Promise.resolve(UNCHECKED)
       const slot = live.reduce((a, b) => (b.jobs.size < a.jobs.size ? b : a))
       const id = next++
-      // a page that shares its memory with other data is copied into its own before it is moved
-      const own = page.byteOffset === 0 && page.buffer.byteLength === page.length ? page : new Uint8Array(page)
+      // the page's memory is moved to the thread whole, unless it may hold other data (a small buffer, from Node's
+      // shared pool): that page is copied into its own first
+      const own = page.byteOffset === 0 && page.length > Buffer.poolSize ? page : new Uint8Array(page)
       return new Promise<PageCheck>((resolve) => {
         slot.jobs.set(id, resolve)
         slot.w.postMessage({ id, page: own, heads }, [own.buffer as ArrayBuffer])

@@ -1,5 +1,5 @@
 import { parentPort, workerData } from 'node:worker_threads'
-import { checkPage, rowsOfCopy } from './audit.chain.ts'
+import { checkCopyPage } from './audit.chain.ts'
 import { linkHasher } from './audit.hash.ts'
 
 // A worker thread of the chain walk (server/features/audit/audit.verify.pages.ts): checks the pages of the chain it
@@ -10,5 +10,5 @@ const link = linkHasher(key)
 
 parentPort!.on('message', (m: { id: number; page: Uint8Array; heads: number[] }) => {
   const page = Buffer.from(m.page.buffer, m.page.byteOffset, m.page.byteLength)
-  parentPort!.postMessage({ id: m.id, result: checkPage(rowsOfCopy(page), m.heads, link) })
+  parentPort!.postMessage({ id: m.id, result: checkCopyPage(page, m.heads, link) })
 })

@@ -11,6 +11,7 @@ import {
   JsonText,
   sealHash,
 } from '../../../server/features/audit/audit.hash.ts'
+import { jsonbStyle } from './jsonb-style.ts'
 
 // The seal hash of format 3 writes its small object out directly; it must be the RFC 8785 canonical JSON that the
 // reference implementation (the canonicalize package, RFC 8785 §3.2) gives, or another verifier would disagree.
@@ -121,16 +122,6 @@ describe('format-3 hashes', () => {
   })
 
   it('canonical JSON from a JSON text, as jsonb writes it or compactly: what the canonicalize package gives', () => {
-    // jsonb's text form (PostgreSQL's manual, "JSON Types"): members ordered shorter names first, ", " and ": " between
-    const jsonbStyle = (v: unknown): string => {
-      if (Array.isArray(v)) return `[${v.map(jsonbStyle).join(', ')}]`
-      if (v !== null && typeof v === 'object') {
-        const names = Object.keys(v).sort((a, b) => a.length - b.length || (a < b ? -1 : a > b ? 1 : 0))
-        const members = names.map((k) => `${JSON.stringify(k)}: ${jsonbStyle((v as Record<string, unknown>)[k])}`)
-        return `{${members.join(', ')}}`
-      }
-      return JSON.stringify(v)
-    }
     const same = (text: string) => expect(canonicalText(text)).toBe(canonicalize(JSON.parse(text)))
     const awkward = [
       '{}',
