@@ -1,6 +1,6 @@
 import { hash } from 'node:crypto'
 import { CanonicalWriter, CopyCursor, writeDataText } from './audit.copy.ts'
-import { dataHash, type EventData, GENESIS_HASH, hashEvent, sealHash } from './audit.hash.ts'
+import { dataHash, type EventData, GENESIS_HASH, hashEvent, type LinkHasher, sealHash } from './audit.hash.ts'
 import type { AuditRecorded } from '../../../shared/schemas/audit.ts'
 
 // The checks of the chain walk (docs/adr/0003-audit-hash-chain.md, "Verify"), free of the database so that worker
@@ -278,7 +278,7 @@ const sealBytes = new CanonicalWriter()
  * `linkProblem` and `contentProblem` find nothing; false where they find something or must decide (an event of an
  * earlier format, a column of another size), never by itself naming a problem.
  */
-function intactInCopy(c: CopyCursor, st: WalkState, prevAt: number, linkOf: (hash: string) => string): boolean {
+function intactInCopy(c: CopyCursor, st: WalkState, prevAt: number, linkOf: LinkHasher): boolean {
   const { len, at, buf } = c
   if (len[F.seq] !== 8 || len[F.id] !== 8 || len[F.dataHash] !== 64 || len[F.prevHash] !== 64) return false
   if (len[F.hash] !== 64 || len[F.link] < 0) return false
@@ -304,7 +304,7 @@ function intactInCopy(c: CopyCursor, st: WalkState, prevAt: number, linkOf: (has
   w.ascii(String(seq))
   w.bytes(SEAL.end, 0, SEAL.end.length)
   const h = hash('sha256', w.buf.subarray(0, w.pos), 'hex')
-  return c.hexEquals(F.hash, h) && c.hexEquals(F.link, linkOf(h))
+  return c.hexEquals(F.hash, h) && c.hexEquals(F.link, linkOf(h, true))
 }
 
 /**
@@ -312,7 +312,7 @@ function intactInCopy(c: CopyCursor, st: WalkState, prevAt: number, linkOf: (has
  * (`intactInCopy`), read into a `ChainRow` and checked by `linkProblem` and `contentProblem` only where those must
  * decide. An intact event's hash is left in the copy, written out as the walk's `prev` only where the walk is kept.
  */
-export function checkCopyPage(buf: Buffer, heads: number[], linkOf: (hash: string) => string): PageCheck {
+export function checkCopyPage(buf: Buffer, heads: number[], linkOf: LinkHasher): PageCheck {
   const c = new CopyCursor(buf, CHAIN_FIELDS)
   const marks: (WalkState | null)[] = heads.map(() => null)
   let first: ChainLink | null = null

@@ -301,12 +301,18 @@ function isHex64(s: string): boolean {
 }
 
 /**
+ * The keyed link of a hash; `digest` true says the hash is a SHA-256 digest in hex just computed (so 64 lowercase hex
+ * digits, not to be checked again).
+ */
+export type LinkHasher = (hash: string, digest?: boolean) => string
+
+/**
  * `linkOf` with the key fixed, for checking many links: HMAC-SHA256 (RFC 2104) written out as its two SHA-256 over
  * the key's inner and outer pads, so that a link (over a 64-digit hex hash) costs two one-shot hashes into buffers made
  * once, not a new HMAC object. Any other text goes through `linkOf`. tests/unit/server/audit-key.test.ts compares it
  * with Node's HMAC and RFC 4231's test vectors.
  */
-export function linkHasher(key: Buffer): (hash: string) => string {
+export function linkHasher(key: Buffer): LinkHasher {
   if (key.length > 64) return (sealed) => linkOf(sealed, key)
   const inner = Buffer.alloc(64 + 64, 0x36)
   const outer = Buffer.alloc(64 + 32, 0x5c)
@@ -314,8 +320,8 @@ export function linkHasher(key: Buffer): (hash: string) => string {
     inner[i] ^= key[i]
     outer[i] ^= key[i]
   }
-  return (sealed) => {
-    if (!isHex64(sealed)) return linkOf(sealed, key)
+  return (sealed, digest) => {
+    if (!digest && !isHex64(sealed)) return linkOf(sealed, key)
     inner.write(sealed, 64, 'latin1')
     // the inner digest as a latin1 ('binary') string, one character a byte, costs less than a new Buffer
     outer.write(hash('sha256', inner, 'binary'), 64, 'latin1')
