@@ -132,9 +132,13 @@ export class CanonicalWriter {
     this.buf[this.pos++] = c
   }
 
-  /** A text of ASCII characters. */
+  /** A text of ASCII characters (a long one written by the engine at once). */
   ascii(s: string): void {
     this.room(s.length)
+    if (s.length > 16) {
+      this.pos += this.buf.write(s, this.pos, 'latin1')
+      return
+    }
     const out = this.buf
     let p = this.pos
     for (let j = 0; j < s.length; j++) out[p++] = s.charCodeAt(j)
