@@ -11,8 +11,7 @@ import {
   heaterThermocouple,
   heaterTripBody,
   readyToImplement,
-  countActionEvents,
-  countRows,
+  rowsAndAudit,
 } from './helpers/factories.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -77,16 +76,7 @@ async function inService(o: Parameters<typeof buildLimit>[0] = {}) {
   return b
 }
 
-async function written() {
-  const n = async (t: 'bypass' | 'signature' | 'mail_outbox') => countRows(ctx.db, t)
-  const audit = await countActionEvents(ctx.db)
-  return {
-    bypasses: await n('bypass'),
-    signatures: await n('signature'),
-    mails: await n('mail_outbox'),
-    audit: audit,
-  }
-}
+const written = () => rowsAndAudit(ctx.db, { bypasses: 'bypass', signatures: 'signature', mails: 'mail_outbox' })
 
 /** Asserts the refusal and that nothing was written; answers the error body. */
 async function refused(status: number, call: () => Promise<Response>) {

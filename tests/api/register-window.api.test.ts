@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
-import { countActionEvents, countRows, thermocoupleK } from './helpers/factories.ts'
+import { rowsAndAudit, thermocoupleK } from './helpers/factories.ts'
 
 const ctx = useTestDb()
 
@@ -46,16 +46,12 @@ function limit(instrumentId: number, over: Record<string, unknown> = {}) {
 const alarm = { limitClass: 'alarm', responseTimeMin: 10, severity: 'major' }
 // a low trip on an upscale-burnout sensor warns (rule 8): tests of other rules on low trips record a bad-value trip
 
-async function counts() {
-  const n = async (t: 'limit_function' | 'limit_revision' | 'instrument_revision') => countRows(ctx.db, t)
-  const audit = await countActionEvents(ctx.db)
-  return {
-    limits: await n('limit_function'),
-    limitRevisions: await n('limit_revision'),
-    instrumentRevisions: await n('instrument_revision'),
-    audit: audit,
-  }
-}
+const counts = () =>
+  rowsAndAudit(ctx.db, {
+    limits: 'limit_function',
+    limitRevisions: 'limit_revision',
+    instrumentRevisions: 'instrument_revision',
+  })
 
 /** Saves a limit that must pass the rule; answers its stored warnings' codes. */
 async function passes(instrumentId: number, over: Record<string, unknown>): Promise<string[]> {

@@ -27,6 +27,17 @@ export async function countActionEvents(db: Db): Promise<number> {
   return Number(r.n)
 }
 
+/**
+ * How many rows each of `tables` holds, under the test's name for it, and the audit actions as `audit`
+ * (countActionEvents): what a refused request must leave as it was.
+ */
+export async function rowsAndAudit<K extends string>(db: Db, tables: Record<K, keyof Database>) {
+  const out = {} as Record<K | 'audit', number>
+  for (const [name, table] of Object.entries(tables) as [K, keyof Database][]) out[name] = await countRows(db, table)
+  out.audit = await countActionEvents(db)
+  return out
+}
+
 /** The audit actions besides sign-in and sign-out, oldest first (signing in is not the action a test checks). */
 export async function actionEvents(db: Db): Promise<string[]> {
   const rows = await db
