@@ -2,14 +2,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { useSignedIn, signedIn } from './helpers/agent.ts'
-import {
-  draftChange,
-  auditActions,
-  buildHeaterTrip,
-  ACTIVATE,
-  countActionEvents,
-  countRows,
-} from './helpers/factories.ts'
+import { draftChange, auditActions, buildHeaterTrip, ACTIVATE, rowsAndAudit } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -69,20 +62,13 @@ async function atPlannedStart(b: { plannedStart: string }) {
 }
 
 async function written() {
-  const n = async (t: 'bypass' | 'signature' | 'mail_outbox') => countRows(ctx.db, t)
-  const audit = await countActionEvents(ctx.db)
   const states = await ctx.db
     .selectFrom('bypass')
     .select(['id', 'status', 'planned_end', 'updated_at'])
     .orderBy('id')
     .execute()
-  return {
-    bypasses: await n('bypass'),
-    signatures: await n('signature'),
-    mails: await n('mail_outbox'),
-    audit: audit,
-    states,
-  }
+  const rows = await rowsAndAudit(ctx.db, { bypasses: 'bypass', signatures: 'signature', mails: 'mail_outbox' })
+  return { ...rows, states }
 }
 
 describe('bypass: an authorization not activated in time lapses (docs/bypasses.md default 4 h, common practice)', () => {

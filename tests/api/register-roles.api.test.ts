@@ -3,7 +3,7 @@ import pg from 'pg'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { ApiAgent, signedIn } from './helpers/agent.ts'
-import { heaterThermocouple, heaterTripBody, countActionEvents, countRows } from './helpers/factories.ts'
+import { heaterThermocouple, heaterTripBody, rowsAndAudit } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -47,9 +47,6 @@ async function build(eng: ApiAgent, siteCode: 'FHR' | 'SMP'): Promise<Built> {
 
 /** Everything a register write would change. */
 async function snapshot() {
-  const count = async (t: 'process' | 'instrument' | 'limit_function' | 'limit_revision' | 'instrument_revision') =>
-    countRows(ctx.db, t)
-  const audit = await countActionEvents(ctx.db)
   const limits = await ctx.db
     .selectFrom('limit_function')
     .select(['id', 'revision', 'setpoint', 'status'])
@@ -61,15 +58,14 @@ async function snapshot() {
     .orderBy('id')
     .execute()
   const processes = await ctx.db.selectFrom('process').select(['id', 'name']).orderBy('id').execute()
-  return {
-    processes: await count('process'),
-    instruments: await count('instrument'),
-    limits: await count('limit_function'),
-    limitRevisions: await count('limit_revision'),
-    instrumentRevisions: await count('instrument_revision'),
-    audit: audit,
-    rows: { limits, instruments, processes },
-  }
+  const counted = await rowsAndAudit(ctx.db, {
+    processes: 'process',
+    instruments: 'instrument',
+    limits: 'limit_function',
+    limitRevisions: 'limit_revision',
+    instrumentRevisions: 'instrument_revision',
+  })
+  return { ...counted, rows: { limits, instruments, processes } }
 }
 
 beforeAll(async () => {
