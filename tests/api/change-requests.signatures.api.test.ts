@@ -60,6 +60,13 @@ const auditOf = (crId: number, action: string) =>
     .where('action', '=', action)
     .execute()
 
+/** The row counts `before` and a refused signature: only the failed attempt and its audit event are written. */
+const withFailedAttempt = (before: Awaited<ReturnType<typeof rowCounts>>) => ({
+  ...before,
+  auditEvents: before.auditEvents + 1,
+  signatureAttempts: before.signatureAttempts + 1,
+})
+
 describe('electronic signatures on change requests (21 CFR Part 11 as a model)', () => {
   it('a wrong password signs nothing, is recorded as a failed attempt, and counts against the sign-in limit', async () => {
     const { site, limit } = await buildHeaterTrip(eng)
@@ -75,12 +82,7 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
       .post(`/api/change-requests/${cr.id}/approvals`, { password: 'not-the-password' })
       .expect(403)
     expect(wrong.body.error.code).toBe('SIGNATURE_INVALID')
-    // only the failed attempt and its audit event are written
-    expect(await rowCounts(ctx.db)).toEqual({
-      ...before,
-      auditEvents: before.auditEvents + 1,
-      signatureAttempts: before.signatureAttempts + 1,
-    })
+    expect(await rowCounts(ctx.db)).toEqual(withFailedAttempt(before))
     expect(await signaturesOf(cr.id)).toEqual([])
     const failed = await auditOf(cr.id, 'signature.failed')
     expect(failed).toHaveLength(1)
@@ -118,11 +120,7 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
       .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, 'nope-nope'))
       .expect(403)
     expect(implWrong.body.error.code).toBe('SIGNATURE_INVALID')
-    expect(await rowCounts(ctx.db)).toEqual({
-      ...implBefore,
-      auditEvents: implBefore.auditEvents + 1,
-      signatureAttempts: implBefore.signatureAttempts + 1,
-    })
+    expect(await rowCounts(ctx.db)).toEqual(withFailedAttempt(implBefore))
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.status).toBe('proposed')
 
     // once the failures are older than the window the correct password works again
