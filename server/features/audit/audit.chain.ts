@@ -297,11 +297,11 @@ function intactInCopy(c: CopyCursor, st: WalkState, prevAt: number, linkOf: Link
   w.bytes(SEAL.dataHash, 0, SEAL.dataHash.length)
   w.ascii(d)
   w.bytes(SEAL.id, 0, SEAL.id.length)
-  w.ascii(String(c.int(F.id)))
+  w.integer(c.int(F.id)!)
   w.bytes(SEAL.prevHash, 0, SEAL.prevHash.length)
   w.bytes(buf, prev, prev + 64) // ASCII: the same bytes as the previous hash, or as st.prev
   w.bytes(SEAL.seq, 0, SEAL.seq.length)
-  w.ascii(String(seq))
+  w.integer(seq)
   w.bytes(SEAL.end, 0, SEAL.end.length)
   const h = hash('sha256', w.buf.subarray(0, w.pos), 'hex')
   return c.hexEquals(F.hash, h) && c.hexEquals(F.link, linkOf(h, true))

@@ -145,6 +145,24 @@ export class CanonicalWriter {
     this.pos = p
   }
 
+  /** An integer as `String(n)` writes it: a safe one digit by digit, no text made; any other through `String`. */
+  integer(n: number): void {
+    if (!Number.isSafeInteger(n)) return this.ascii(String(n))
+    this.room(17)
+    if (n < 0) {
+      this.buf[this.pos++] = 0x2d
+      n = -n
+    }
+    let digits = 1
+    for (let x = n; x >= 10; x = Math.floor(x / 10)) digits++
+    const out = this.buf
+    let p = (this.pos += digits)
+    do {
+      out[--p] = 0x30 + (n % 10)
+      n = Math.floor(n / 10)
+    } while (n > 0)
+  }
+
   /** Any text, as UTF-8. */
   utf8(s: string): void {
     this.room(Buffer.byteLength(s))
@@ -177,7 +195,7 @@ function writeTextField(w: CanonicalWriter, c: CopyCursor, i: number): void {
 function writeIntField(w: CanonicalWriter, c: CopyCursor, i: number): boolean {
   const n = c.len[i]
   if (n < 0) w.ascii('null')
-  else if (n === 4) w.ascii(String(c.buf.readInt32BE(c.at[i])))
+  else if (n === 4) w.integer(c.buf.readInt32BE(c.at[i]))
   else return false
   return true
 }
@@ -299,19 +317,27 @@ function writeFlatObject(w: CanonicalWriter, src: Uint8Array, from: number, to: 
     for (const n of names) lastNameEnds.push((q += n.length))
     lastOrder = order
   }
-  w.byte(0x7b)
+  // `{`, `}`, and per member `"name":value` and a comma, written byte by byte into room made once
+  let size = 1
+  for (let k = 0; k < count; k++)
+    size += nameEnd[k] - nameAt[k] + 4 + (numberText[k]?.length ?? valueEnd[k] - valueAt[k])
+  w.room(size)
+  const out = w.buf
+  let p = w.pos
+  out[p++] = 0x7b
   for (let k = 0; k < count; k++) {
     const m = lastOrder[k]
-    if (k) w.byte(0x2c)
-    w.byte(0x22)
-    w.bytes(src, nameAt[m], nameEnd[m])
-    w.byte(0x22)
-    w.byte(0x3a)
+    if (k) out[p++] = 0x2c
+    out[p++] = 0x22
+    for (let j = nameAt[m]; j < nameEnd[m]; j++) out[p++] = src[j]
+    out[p++] = 0x22
+    out[p++] = 0x3a
     const x = numberText[m]
-    if (x === null) w.bytes(src, valueAt[m], valueEnd[m])
-    else w.ascii(x)
+    if (x === null) for (let j = valueAt[m]; j < valueEnd[m]; j++) out[p++] = src[j]
+    else for (let j = 0; j < x.length; j++) out[p++] = x.charCodeAt(j)
   }
-  w.byte(0x7d)
+  out[p++] = 0x7d
+  w.pos = p
   return true
 }
 
@@ -326,6 +352,35 @@ function writeJsonField(w: CanonicalWriter, c: CopyCursor, i: number): boolean {
   if (n < 1 || c.buf[from] !== 1) return false
   if (!writeFlatObject(w, c.buf, from + 1, from + n)) w.utf8(canonicalText(c.buf.toString('utf8', from + 1, from + n)))
   return true
+}
+
+// the minute the last time fell in, and its ISO text up to the seconds (audit.hash.ts `isoTime`'s)
+let isoMinute = NaN
+let isoPrefix = Buffer.alloc(0)
+
+/** audit.hash.ts `isoTime(ms)` of a time in a Date's range, written byte by byte, the text of its minute kept. */
+function writeIsoTime(w: CanonicalWriter, ms: number): void {
+  const t = Math.trunc(ms)
+  const minute = t - (((t % 60_000) + 60_000) % 60_000)
+  if (minute !== isoMinute) {
+    isoPrefix = Buffer.from(isoTime(minute).slice(0, -7), 'latin1') // without "SS.sssZ"
+    isoMinute = minute
+  }
+  const r = t - minute
+  const sec = Math.floor(r / 1000)
+  const milli = r % 1000
+  w.room(isoPrefix.length + 7)
+  const out = w.buf
+  let p = w.pos
+  for (let j = 0; j < isoPrefix.length; j++) out[p++] = isoPrefix[j]
+  out[p++] = 0x30 + Math.floor(sec / 10)
+  out[p++] = 0x30 + (sec % 10)
+  out[p++] = 0x2e
+  out[p++] = 0x30 + Math.floor(milli / 100)
+  out[p++] = 0x30 + (Math.floor(milli / 10) % 10)
+  out[p++] = 0x30 + (milli % 10)
+  out[p++] = 0x5a
+  w.pos = p
 }
 
 /** Where the fields of a sealed event that its data hash covers lie in a row of the copy. */
@@ -387,7 +442,7 @@ export function writeDataText(w: CanonicalWriter, c: CopyCursor, f: DataFields):
   put(w, NAMES.ip)
   writeTextField(w, c, f.ip)
   put(w, NAMES.occurredAt)
-  w.ascii(isoTime(ms))
+  writeIsoTime(w, ms)
   put(w, NAMES.reason)
   writeTextField(w, c, f.reason)
   put(w, NAMES.requestId)
