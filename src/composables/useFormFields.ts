@@ -4,19 +4,24 @@ import type { Ref } from 'vue'
 // AppFieldRows renders them, each with the messages of its key. The builders read and write the view's own reactive
 // form, so the rows hold no state of their own.
 
-export type FieldKind = 'text' | 'number' | 'textarea' | 'select' | 'autocomplete' | 'combobox' | 'switch'
+export type FieldKind = 'text' | 'number' | 'textarea' | 'select' | 'autocomplete' | 'combobox' | 'switch' | 'checkbox'
 
 export interface FieldOptions {
   /** Grid width on medium screens and up (of 12); 4 unless said. */
   md?: number
   /** Grid width on small screens (of 12); 12 unless said. */
   cols?: number
+  /** Grid width from small screens (600 px) up to medium, when it differs from `cols`. */
+  sm?: number
   suffix?: string
   hint?: string
   persistentHint?: boolean
   placeholder?: string
-  /** The input type of a text field (a date, or date and time, picker); text unless said. */
-  type?: 'date' | 'datetime-local'
+  /** The browser's autofill hint of a text field: `current-password` for a password that signs. */
+  autocomplete?: 'current-password'
+  /** The input type of a text field (a date, or date and time, picker; a password, hidden; a number with arrows);
+   * text unless said. */
+  type?: 'date' | 'datetime-local' | 'password' | 'number'
   /** The most characters, counted under a text field or text area. */
   counter?: number
   /** The lines a text area shows before it grows: 2 unless said. */
@@ -25,6 +30,8 @@ export interface FieldOptions {
   inputmode?: 'decimal' | 'numeric'
   disabled?: boolean
   clearable?: boolean
+  /** A select of several values, shown as chips. */
+  multiple?: boolean
   hideDetails?: boolean
   /** Whether the field is shown at all (true unless said). */
   show?: boolean
@@ -75,5 +82,7 @@ export function useFormFields<F extends object>(form: F, errors: Ref<Record<stri
     combobox: (key: Key, label: string, items: readonly unknown[], o?: FieldOptions) =>
       field('combobox', key, label, o, items),
     toggle: (key: Key, label: string, o?: FieldOptions) => field('switch', key, label, o),
+    /** A box to tick, for a confirmation; its messages show only when there are any. */
+    checkbox: (key: Key, label: string, o?: FieldOptions) => field('checkbox', key, label, o),
   }
 }

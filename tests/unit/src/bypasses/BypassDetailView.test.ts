@@ -2,7 +2,16 @@ import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { BypassDto, BypassStatus } from '@shared/schemas/bypasses.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import BypassDetailView from '@/features/bypasses/views/BypassDetailView.vue'
-import { SITE_CHOICES, mountRecordPage, answerApi, FHR, ruleButtons } from '../mount-view.ts'
+import {
+  SITE_CHOICES,
+  mountRecordPage,
+  answerApi,
+  FHR,
+  openDialog,
+  resetPage,
+  ruleButtons,
+  typeInDialog,
+} from '../mount-view.ts'
 
 // The bypass page builds its buttons from the bypass rule book (docs/bypasses.md#rules): which are shown, which are
 // disabled and why, for the roles and states of the rule book's table. The clock is fixed at 12:00 UTC.
@@ -188,5 +197,54 @@ describe('BypassDetailView: buttons follow the bypass rule book', () => {
     expect(b.extend).toContain('plant manager')
     vi.unstubAllGlobals()
     expect(buttons(await open(full, ['plant_manager'])).extend).toBe(true)
+  })
+})
+
+describe('BypassDetailView: the removal dialog', () => {
+  afterEach(resetPage)
+
+  // docs/api.md, POST /api/bypasses/:id/removal: both confirmations are required, the note is optional; a refusal
+  // shows the API's messages at the field they name
+  it('removes only with both confirmations ticked, sends the note trimmed and shows a refusal at the note', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const b = bypass('active')
+    const calls = answerApi({
+      [`GET /bypasses/${b.id}`]: () => ({ body: b }),
+      [`POST /bypasses/${b.id}/removal`]: () => ({
+        status: 400,
+        body: {
+          error: {
+            code: 'VALIDATION_FAILED',
+            message: 'Some fields are not valid',
+            details: { fields: { note: ['At most 2000 characters'] } },
+          },
+        },
+      }),
+      ...SITE_CHOICES,
+    })
+    const w = await mountRecordPage(BypassDetailView, b.id, { id: ME, roles: ['technician'] })
+    await openDialog(w, 'bypass-remove')
+    const confirm = () => document.body.querySelector<HTMLButtonElement>('[data-test="remove-confirm"]')!
+    expect(confirm().disabled).toBe(true)
+
+    document.body.querySelector<HTMLInputElement>('[data-test="confirm-pv-clear"] input')!.click()
+    document.body.querySelector<HTMLInputElement>('[data-test="confirm-protection-restored"] input')!.click()
+    typeInDialog('remove-note', '  Valve stroked closed and back  ')
+    await vi.waitFor(() => expect(confirm().disabled).toBe(false))
+
+    confirm().click()
+    await vi.waitFor(() =>
+      expect(document.body.querySelector('[data-test="remove-note"]')!.textContent).toContain(
+        'At most 2000 characters',
+      ),
+    )
+    expect(calls.filter((c) => c.method === 'POST')).toEqual([
+      {
+        method: 'POST',
+        path: `/bypasses/${b.id}/removal`,
+        body: { pvClearConfirmed: true, protectionRestoredConfirmed: true, note: 'Valve stroked closed and back' },
+      },
+    ])
+    expect(document.body.textContent).toContain('Some fields are not valid')
   })
 })
