@@ -16,13 +16,11 @@ function upload(
   body: string | Buffer,
   o: { timeZone?: string; mapping?: Record<string, string>; name?: string } = {},
 ) {
-  let req = a.agent
-    .post('/api/alarm-journals')
-    .set('X-CSRF-Token', a.csrf)
-    .field('siteId', String(siteId))
-    .field('timeZone', o.timeZone ?? 'UTC')
-  if (o.mapping) req = req.field('mapping', JSON.stringify(o.mapping))
-  return req.attach('file', Buffer.isBuffer(body) ? body : Buffer.from(body, 'utf8'), o.name ?? 'journal.csv')
+  return a.upload(
+    '/api/alarm-journals',
+    { siteId, timeZone: o.timeZone ?? 'UTC', mapping: o.mapping && JSON.stringify(o.mapping) },
+    { name: o.name ?? 'journal.csv', content: body },
+  )
 }
 
 /** Polls the upload until its job has finished (done or failed). */

@@ -31,13 +31,7 @@ describe('upload size limits', () => {
   ])('%s refuses a file over the limit with 413 and writes nothing', async (url) => {
     const body = rows(400) // about 12 kB
     expect(Buffer.byteLength(body)).toBeGreaterThan(10_485)
-    const r = await eng.agent
-      .post(url)
-      .set('X-CSRF-Token', eng.csrf)
-      .field('siteId', String(siteId))
-      .field('timeZone', 'UTC')
-      .attach('file', Buffer.from(body), 'big.csv')
-      .expect(413)
+    const r = await eng.upload(url, { siteId, timeZone: 'UTC' }, { name: 'big.csv', content: body }).expect(413)
     expect(r.body.error.message).toMatch(/larger than 0.01 MB/)
     expect([await countRows(ctx.db, 'alarm_journal_upload'), await countRows(ctx.db, 'process_data_upload')]).toEqual([
       0, 0,
@@ -46,13 +40,7 @@ describe('upload size limits', () => {
   it('accepts a file just under the limit', async () => {
     const body = rows(300)
     expect(Buffer.byteLength(body)).toBeLessThan(10_485)
-    await eng.agent
-      .post('/api/alarm-journals')
-      .set('X-CSRF-Token', eng.csrf)
-      .field('siteId', String(siteId))
-      .field('timeZone', 'UTC')
-      .attach('file', Buffer.from(body), 'ok.csv')
-      .expect(202)
+    await eng.upload('/api/alarm-journals', { siteId, timeZone: 'UTC' }, { name: 'ok.csv', content: body }).expect(202)
     const deadline = Date.now() + 20_000
     for (;;) {
       const list = (await eng.get(`/api/alarm-journals?siteId=${siteId}`).expect(200)).body

@@ -114,16 +114,12 @@ describe('replays', () => {
     const v = s < 10 ? 695 : s < 70 ? (Math.floor((s - 10) / 5) % 2 === 0 ? 701 : 699) : 690
     rows.push(`2026-07-01 10:${String(Math.floor(s / 60)).padStart(2, '0')}:${String(s % 60).padStart(2, '0')},${v}`)
   }
+  const trend = { name: 'trend.csv', content: rows.join('\n') }
   let uploadId = 0
 
   it('streams the export into samples in the background', async () => {
-    const r = await eng.agent
-      .post('/api/replays')
-      .set('X-CSRF-Token', eng.csrf)
-      .field('siteId', String(fixture.site.id))
-      .field('instrumentId', String(fixture.inst.id))
-      .field('timeZone', 'UTC')
-      .attach('file', Buffer.from(rows.join('\n')), 'trend.csv')
+    const r = await eng
+      .upload('/api/replays', { siteId: fixture.site.id, instrumentId: fixture.inst.id, timeZone: 'UTC' }, trend)
       .expect(202)
     uploadId = r.body.id
     const deadline = Date.now() + 20_000
@@ -167,13 +163,7 @@ describe('replays', () => {
   })
 
   it('refuses an operator’s upload (403) and a run on an unknown upload (404)', async () => {
-    await op.agent
-      .post('/api/replays')
-      .set('X-CSRF-Token', op.csrf)
-      .field('siteId', String(fixture.site.id))
-      .field('timeZone', 'UTC')
-      .attach('file', Buffer.from(rows.join('\n')), 'trend.csv')
-      .expect(403)
+    await op.upload('/api/replays', { siteId: fixture.site.id, timeZone: 'UTC' }, trend).expect(403)
     await eng.post('/api/replays/999999/run', {}).expect(404)
   })
 })

@@ -33,10 +33,7 @@ async function call(route: AppRoute, who: Role | null, f: Fixtures) {
   const url = pathOf(route, f)
   if (spec.form) {
     const { fields, file } = spec.form(f)
-    let req = agent.agent[route.method.toLowerCase() as 'post'](url).set('X-CSRF-Token', agent.csrf)
-    for (const [k, v] of Object.entries(fields)) req = req.field(k, v)
-    if (file) req = req.attach('file', Buffer.from(file.content), file.name)
-    return req
+    return agent.upload(url, fields, file ?? undefined, route.method.toLowerCase() as 'post')
   }
   const body = spec.body?.(f)
   const m = route.method.toLowerCase() as 'post' | 'put' | 'patch' | 'delete'

@@ -29,7 +29,7 @@ beforeAll(async () => {
 })
 
 const upload = (file: Buffer, name: string) =>
-  eng.agent.post(`/api/change-requests/${crId}/attachments`).set('X-CSRF-Token', eng.csrf).attach('file', file, name)
+  eng.upload(`/api/change-requests/${crId}/attachments`, {}, { name, content: file })
 const download = (id: number) =>
   eng.agent
     .get(`/api/change-requests/${crId}/attachments/${id}`)

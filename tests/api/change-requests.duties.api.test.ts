@@ -58,10 +58,8 @@ describe('whoever changes the content, attachments included, is an editor and do
       title: 'Raise heater trip after tube survey',
       items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
     })
-    const att = await dual.agent.agent
-      .post(`/api/change-requests/${cr.id}/attachments`)
-      .set('X-CSRF-Token', dual.agent.csrf)
-      .attach('file', PDF, 'tube-survey.pdf')
+    const att = await dual.agent
+      .upload(`/api/change-requests/${cr.id}/attachments`, {}, { name: 'tube-survey.pdf', content: PDF })
       .expect(201)
     expect(att.body.fileName).toBe('tube-survey.pdf')
     const after = (await eng.get(`/api/change-requests/${cr.id}`).expect(200)).body
@@ -88,10 +86,7 @@ describe('whoever changes the content, attachments included, is an editor and do
     })
     expect(cr.status).toBe('approved')
     const before = await rowCounts(ctx.db)
-    const res = await eng.agent
-      .post(`/api/change-requests/${cr.id}/attachments`)
-      .set('X-CSRF-Token', eng.csrf)
-      .attach('file', PDF, 'late.pdf')
+    const res = await eng.upload(`/api/change-requests/${cr.id}/attachments`, {}, { name: 'late.pdf', content: PDF })
     expect(res.status).toBe(409)
     expect(res.body.error.message).toContain('before anyone signs')
     expect(await rowCounts(ctx.db)).toEqual(before)

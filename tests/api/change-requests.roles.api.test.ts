@@ -68,10 +68,7 @@ describe('change request: who may do what along the whole path (docs/security.md
       a.put(`/api/change-requests/${cr.id}/checklist/drawings`, { done: true }),
     )
     await refusedForAllBut(['engineer'], (a) =>
-      a.agent
-        .post(`/api/change-requests/${cr.id}/attachments`)
-        .set('X-CSRF-Token', a.csrf)
-        .attach('file', tinyPdf, 'loop-diagram.pdf'),
+      a.upload(`/api/change-requests/${cr.id}/attachments`, {}, { name: 'loop-diagram.pdf', content: tinyPdf }),
     )
 
     await refusedForAllBut(['engineer'], (a) => a.post(`/api/change-requests/${cr.id}/submission`))

@@ -188,11 +188,10 @@ async function send(route: AppRoute, url: string, body: unknown, form: boolean) 
   const who = route.key === 'POST /api/session' ? anonymous : agent
   const m = route.method.toLowerCase() as 'post' | 'put' | 'patch' | 'delete'
   if (form) {
-    let req = who.agent[m](url).set('X-CSRF-Token', who.csrf)
+    const fields: Record<string, string> = {}
     if (body && typeof body === 'object')
-      for (const [k, v] of Object.entries(body))
-        req = req.field(k, typeof v === 'string' ? v : (JSON.stringify(v) ?? ''))
-    return req.attach('file', Buffer.from('tag,setpoint\nTSHH-1,780\n'), 'file.csv')
+      for (const [k, v] of Object.entries(body)) fields[k] = typeof v === 'string' ? v : (JSON.stringify(v) ?? '')
+    return who.upload(url, fields, { name: 'file.csv', content: 'tag,setpoint\nTSHH-1,780\n' }, m)
   }
   // the body as JSON text whatever its kind (supertest would send a bare string as a form)
   return who.agent[m](url)

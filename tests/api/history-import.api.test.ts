@@ -35,13 +35,11 @@ function upload(
   body: string | Buffer,
   o: { siteId?: number; mapping?: Record<string, string>; dryRun?: boolean; fileName?: string } = {},
 ) {
-  let req = a.agent
-    .post('/api/history-imports')
-    .set('X-CSRF-Token', a.csrf)
-    .field('siteId', String(o.siteId ?? fhr))
-  if (o.mapping) req = req.field('mapping', JSON.stringify(o.mapping))
-  if (o.dryRun !== undefined) req = req.field('dryRun', String(o.dryRun))
-  return req.attach('file', Buffer.isBuffer(body) ? body : Buffer.from(body, 'utf8'), o.fileName ?? 'history.csv')
+  return a.upload(
+    '/api/history-imports',
+    { siteId: o.siteId ?? fhr, mapping: o.mapping && JSON.stringify(o.mapping), dryRun: o.dryRun },
+    { name: o.fileName ?? 'history.csv', content: body },
+  )
 }
 const commit = (a: ApiAgent, id: number) => a.post(`/api/history-imports/${id}/commit`)
 
@@ -323,14 +321,10 @@ describe('history import (issue 12, item 3)', () => {
   })
 
   it('answers 4xx for what a client can send wrong, and only safety engineers import', async () => {
-    await eng.agent.post('/api/history-imports').set('X-CSRF-Token', eng.csrf).field('siteId', String(fhr)).expect(400)
+    await eng.upload('/api/history-imports', { siteId: fhr }).expect(400)
     await upload(eng, GOOD(), { siteId: 999_999 }).expect(400)
-    await eng.agent
-      .post('/api/history-imports')
-      .set('X-CSRF-Token', eng.csrf)
-      .field('siteId', String(fhr))
-      .field('mapping', '{not json')
-      .attach('file', Buffer.from(GOOD()), 'h.csv')
+    await eng
+      .upload('/api/history-imports', { siteId: fhr, mapping: '{not json' }, { name: 'h.csv', content: GOOD() })
       .expect(400)
     await upload(eng, GOOD(), { mapping: { Record: 'nonsense' } }).expect(400)
     await upload(eng, Buffer.from([0xd0, 0xcf, 0x11, 0xe0, 1, 2, 3])).expect(400)

@@ -19,11 +19,8 @@ it('checks the example file against the demo plant without problems', async () =
   const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const fhr = sites.find((s) => s.code === 'FHR')!
   const file = await readFile(new URL('../../docs/examples/history-import-example.csv', import.meta.url))
-  const res = await eng.agent
-    .post('/api/history-imports')
-    .set('X-CSRF-Token', eng.csrf)
-    .field('siteId', String(fhr.id))
-    .attach('file', file, 'history-import-example.csv')
+  const res = await eng
+    .upload('/api/history-imports', { siteId: fhr.id }, { name: 'history-import-example.csv', content: file })
     .expect(201)
   expect(res.body.errors).toEqual([])
   expect(res.body.summary).toEqual({ tests: 4, commissioning: 1, bypasses: 1, unchanged: 0 })

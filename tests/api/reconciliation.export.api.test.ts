@@ -58,10 +58,7 @@ function exportCsv(changedSetpoint: string) {
 }
 
 function upload(a: ApiAgent, csv: string, fileName = 'crude-dcs-export.csv') {
-  return a.agent
-    .post(`/api/reconciliation-sources/${sourceId}/exports`)
-    .set('X-CSRF-Token', a.csrf)
-    .attach('file', Buffer.from(csv, 'utf8'), fileName)
+  return a.upload(`/api/reconciliation-sources/${sourceId}/exports`, {}, { name: fileName, content: csv })
 }
 
 async function findingsOf(kind?: string): Promise<FindingDto[]> {
@@ -98,11 +95,7 @@ beforeAll(async () => {
 
 describe('an uploaded export', () => {
   it('is refused to an operator, and to a file that is not an export', async () => {
-    await operator.agent
-      .post(`/api/reconciliation-sources/${sourceId}/exports`)
-      .set('X-CSRF-Token', operator.csrf)
-      .attach('file', Buffer.from(exportCsv('790'), 'utf8'), 'x.csv')
-      .expect(403)
+    await upload(operator, exportCsv('790'), 'x.csv').expect(403)
     const bad = await upload(eng, 'just one line without the columns', 'notes.csv')
     expect(bad.status).toBeGreaterThanOrEqual(400)
     expect(bad.status).toBeLessThan(500)

@@ -19,19 +19,12 @@ describe('signatures and attachments as the runtime role', () => {
       title: 'Put in service',
       items: [{ kind: 'create', limitId: limit.id }],
     })
-    await eng.agent
-      .post(`/api/change-requests/${cr.id}/attachments`)
-      .set('X-CSRF-Token', eng.csrf)
-      .attach('file', Buffer.from('%PDF-1.4\n%%EOF\n'), 'loop-diagram.pdf')
-      .expect(201)
+    const pdf = (name: string) => ({ name, content: '%PDF-1.4\n%%EOF\n' })
+    await eng.upload(`/api/change-requests/${cr.id}/attachments`, {}, pdf('loop-diagram.pdf')).expect(201)
     await eng.post(`/api/change-requests/${cr.id}/submission`).expect(200)
     await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: 'limitkeeper-demo' }).expect(200)
     // what is signed does not change afterwards: no more attachments once someone has signed
-    const late = await eng.agent
-      .post(`/api/change-requests/${cr.id}/attachments`)
-      .set('X-CSRF-Token', eng.csrf)
-      .attach('file', Buffer.from('%PDF-1.4\n%%EOF\n'), 'late.pdf')
-      .expect(409)
+    const late = await eng.upload(`/api/change-requests/${cr.id}/attachments`, {}, pdf('late.pdf')).expect(409)
     expect(late.body.error.code).toBe('INVALID_STATE')
 
     const client = new pg.Client({ connectionString: ctx.database.appUrl })

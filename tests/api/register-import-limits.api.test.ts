@@ -31,11 +31,7 @@ describe('register import row limit', () => {
     for (let i = 1; i <= ROWS; i++) ws.addRow([`TSHH-${i}`, i])
     const file = Buffer.from(await wb.xlsx.writeBuffer())
     const before = await batches()
-    const res = await eng.agent
-      .post('/api/imports')
-      .set('X-CSRF-Token', eng.csrf)
-      .field('siteId', String(siteId))
-      .attach('file', file, 'register.xlsx')
+    const res = await eng.upload('/api/imports', { siteId }, { name: 'register.xlsx', content: file })
     expect(res.status).toBe(400)
     expect(res.body.error.message).toContain(`more than ${IMPORT_MAX_ROWS} data rows`)
     expect(await batches()).toBe(before)
@@ -44,11 +40,7 @@ describe('register import row limit', () => {
   it(`refuses a CSV of ${ROWS} rows with 400 and stores nothing`, async () => {
     const text = ['Tag,Setpoint', ...Array.from({ length: ROWS }, (_, i) => `TSHH-${i},${i}`)].join('\n')
     const before = await batches()
-    const res = await eng.agent
-      .post('/api/imports')
-      .set('X-CSRF-Token', eng.csrf)
-      .field('siteId', String(siteId))
-      .attach('file', Buffer.from(text), 'register.csv')
+    const res = await eng.upload('/api/imports', { siteId }, { name: 'register.csv', content: text })
     expect(res.status).toBe(400)
     expect(res.body.error.message).toContain(`more than ${IMPORT_MAX_ROWS} data rows`)
     expect(await batches()).toBe(before)

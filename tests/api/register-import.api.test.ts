@@ -61,10 +61,11 @@ function upload(
   body: string | Buffer,
   o: { siteId: number; fileName?: string; mapping?: Record<string, string>; dryRun?: boolean },
 ) {
-  let req = a.agent.post('/api/imports').set('X-CSRF-Token', a.csrf).field('siteId', String(o.siteId))
-  if (o.mapping) req = req.field('mapping', JSON.stringify(o.mapping))
-  if (o.dryRun !== undefined) req = req.field('dryRun', String(o.dryRun))
-  return req.attach('file', Buffer.isBuffer(body) ? body : Buffer.from(body, 'utf8'), o.fileName ?? 'register.csv')
+  return a.upload(
+    '/api/imports',
+    { siteId: o.siteId, mapping: o.mapping && JSON.stringify(o.mapping), dryRun: o.dryRun },
+    { name: o.fileName ?? 'register.csv', content: body },
+  )
 }
 
 const commit = (a: ApiAgent, id: number) => a.post(`/api/imports/${id}/commit`)
@@ -209,11 +210,7 @@ describe('POST /api/imports (dry run)', () => {
     const big = Buffer.alloc(5 * 1024 * 1024 + 1, 0x61)
     const res = await upload(eng, big, { siteId: fhr }).expect(413)
     expect(res.body.error.message).toMatch(/larger than 5 MB/)
-    const none = await eng.agent
-      .post('/api/imports')
-      .set('X-CSRF-Token', eng.csrf)
-      .field('siteId', String(fhr))
-      .expect(400)
+    const none = await eng.upload('/api/imports', { siteId: fhr }).expect(400)
     expect(none.body.error.details.fields.file[0]).toMatch(/Attach the register file/)
   })
 
@@ -547,12 +544,7 @@ describe('an import opens a draft change request for its baseline', () => {
       .slice(0, 2)
       .map((r, i) => r.map((v, j) => (j === tagCol ? `BASE-${i}-${v}` : j === instCol ? `BASE-${i}-${v}` : v)))
     const file = Buffer.from(Papa.unparse([header, ...fresh]), 'utf8')
-    const dry = await eng.agent
-      .post('/api/imports')
-      .set('X-CSRF-Token', eng.csrf)
-      .field('siteId', String(fhr.id))
-      .attach('file', file, 'register-import-example.csv')
-      .expect(201)
+    const dry = await upload(eng, file, { siteId: fhr.id, fileName: 'register-import-example.csv' }).expect(201)
     const committed = (await eng.post(`/api/imports/${dry.body.id}/commit`).expect(200)).body
     expect(committed.changeRequestId).toEqual(expect.any(Number))
     const cr = (await eng.get(`/api/change-requests/${committed.changeRequestId}`).expect(200)).body

@@ -215,8 +215,7 @@ describe('attachments: PDF, PNG or JPEG up to 10 MB, checked by content', () => 
   it('stores a real PNG, refuses a text file named .pdf and a file over 10 MB, and writes nothing then', async () => {
     const t = await a.tech.created('/api/trip-tests', body())
     const url = `/api/trip-tests/${t.id}/attachments`
-    const upload = (agent: ApiAgent, buf: Buffer, name: string) =>
-      agent.agent.post(url).set('X-CSRF-Token', agent.csrf).attach('file', buf, name)
+    const upload = (agent: ApiAgent, buf: Buffer, name: string) => agent.upload(url, {}, { name, content: buf })
 
     const before = await written()
     const fake = await upload(

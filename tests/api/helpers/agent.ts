@@ -47,6 +47,22 @@ export class ApiAgent {
   delete(url: string) {
     return this.agent.delete(url).set('X-CSRF-Token', this.csrf)
   }
+  /**
+   * POSTs a multipart form: each of `fields` as a text part (undefined ones left out) and `file`, where given, as the
+   * part named `file` (text sent as UTF-8). Answers the request, so the test still checks the status it expects.
+   */
+  upload(
+    url: string,
+    fields: Record<string, string | number | boolean | undefined>,
+    file?: { name: string; content: string | Buffer },
+    method: 'post' | 'put' | 'patch' | 'delete' = 'post',
+  ) {
+    let req = this.agent[method](url).set('X-CSRF-Token', this.csrf)
+    for (const [k, v] of Object.entries(fields)) if (v !== undefined) req = req.field(k, String(v))
+    if (file)
+      req = req.attach('file', Buffer.isBuffer(file.content) ? file.content : Buffer.from(file.content), file.name)
+    return req
+  }
 
   /** Signs in (demo password by default) and keeps the fresh CSRF token; throws unless it worked. */
   async signIn(email: string, password = DEMO_PASSWORD) {
