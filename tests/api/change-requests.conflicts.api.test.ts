@@ -1,8 +1,7 @@
 import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { useSignedIn } from './helpers/agent.ts'
 import {
   submitAndApprove,
   type ChangeCrew,
@@ -20,48 +19,38 @@ const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 const PSSR = { reference: 'PSSR-2026-412', findings: 'none', readyForService: true }
 
-let eng: ApiAgent
-let approver: ApiAgent
-let tech: ApiAgent
-let crew: ChangeCrew
+const { as } = useSignedIn(ctx, ['engineer', 'approver', 'technician'])
+const crew = (): ChangeCrew => ({ eng: as.engineer, approvers: [as.approver], tech: as.technician })
 
-beforeAll(async () => {
-  const app = createApp(ctx)
-  eng = await signedIn(app, 'engineer')
-  approver = await signedIn(app, 'approver')
-  tech = await signedIn(app, 'technician')
-  crew = { eng, approvers: [approver], tech }
-})
-
-const limitOf = async (id: number) => (await eng.get(`/api/limits/${id}`).expect(200)).body
+const limitOf = async (id: number) => (await as.engineer.get(`/api/limits/${id}`).expect(200)).body
 const warningCodes = (w: { warnings: { code: string }[] }) => w.warnings.map((x) => x.code)
 
 describe('a request applied to a row that changed meanwhile (one winner, nothing half-applied)', () => {
   it('two approved requests on the same active limit: the first applies, the second answers 409 CONFLICT and writes nothing', async () => {
-    const { site, limit } = await buildActiveHeaterTrip(crew)
-    const first = await submitAndApprove(eng, [approver], {
+    const { site, limit } = await buildActiveHeaterTrip(crew())
+    const first = await submitAndApprove(as.engineer, [as.approver], {
       siteId: site.id,
       title: 'Raise to 790',
       items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
     })
-    const second = await submitAndApprove(eng, [approver], {
+    const second = await submitAndApprove(as.engineer, [as.approver], {
       siteId: site.id,
       title: 'Raise to 800',
       items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 800 } }],
     })
     expect(second.status).toBe('approved')
 
-    await implementChange(tech, first)
+    await implementChange(as.technician, first)
     const applied = await limitOf(limit.id)
     expect(applied.setpoint).toBe(790)
-    expect((await eng.get(`/api/change-requests/${second.id}`).expect(200)).body.items[0]).toMatchObject({
+    expect((await as.engineer.get(`/api/change-requests/${second.id}`).expect(200)).body.items[0]).toMatchObject({
       stale: true,
       baseRevision: limit.revision,
       currentRevision: applied.revision,
     })
 
     const before = await rowCounts(ctx.db)
-    const res = await tech
+    const res = await as.technician
       .post(`/api/change-requests/${second.id}/implementations`, {
         itemId: second.items[0].id,
         readBack: { setpoint: 800 },
@@ -71,16 +60,16 @@ describe('a request applied to a row that changed meanwhile (one winner, nothing
     expect(res.body.error.code).toBe('CONFLICT')
     expect(await rowCounts(ctx.db)).toEqual(before)
     expect(await limitOf(limit.id)).toMatchObject({ setpoint: 790, revision: applied.revision })
-    const after = (await eng.get(`/api/change-requests/${second.id}`).expect(200)).body
+    const after = (await as.engineer.get(`/api/change-requests/${second.id}`).expect(200)).body
     expect(after.status).toBe('approved')
     expect(after.signatures.map((s: { meaning: string }) => s.meaning)).toEqual(['approved'])
   })
 
   it('a multi-item request whose second item is stale applies neither item', async () => {
-    const one = await buildActiveHeaterTrip(crew)
-    const two = await buildActiveHeaterTrip(crew)
+    const one = await buildActiveHeaterTrip(crew())
+    const two = await buildActiveHeaterTrip(crew())
     const site = one.site
-    const both = await submitAndApprove(eng, [approver], {
+    const both = await submitAndApprove(as.engineer, [as.approver], {
       siteId: site.id,
       title: 'Raise both heater trips',
       items: [
@@ -89,7 +78,7 @@ describe('a request applied to a row that changed meanwhile (one winner, nothing
       ],
     })
     // meanwhile another approved request changes the second limit
-    await carryOutChange(crew, {
+    await carryOutChange(crew(), {
       siteId: site.id,
       title: 'Raise the second only',
       items: [{ kind: 'modify', limitId: two.limit.id, changes: { setpoint: 795 } }],
@@ -97,7 +86,7 @@ describe('a request applied to a row that changed meanwhile (one winner, nothing
 
     const before = await rowCounts(ctx.db)
     for (const item of both.items) {
-      const res = await tech
+      const res = await as.technician
         .post(`/api/change-requests/${both.id}/implementations`, {
           itemId: item.id,
           readBack: readBackOf(item),
@@ -109,7 +98,7 @@ describe('a request applied to a row that changed meanwhile (one winner, nothing
     expect(await rowCounts(ctx.db)).toEqual(before)
     expect((await limitOf(one.limit.id)).setpoint).toBe(780)
     expect((await limitOf(two.limit.id)).setpoint).toBe(795)
-    const after = (await eng.get(`/api/change-requests/${both.id}`).expect(200)).body
+    const after = (await as.engineer.get(`/api/change-requests/${both.id}`).expect(200)).body
     expect(after.status).toBe('approved')
     expect(
       after.items.map((i: { implementedAt: string | null; stale: boolean }) => [i.implementedAt, i.stale]),
@@ -120,9 +109,9 @@ describe('a request applied to a row that changed meanwhile (one winner, nothing
   })
 
   it('a baseline of new limits implemented in bulk with one stale item activates none', async () => {
-    const a = await buildHeaterTrip(eng)
-    const b = await buildHeaterTrip(eng)
-    const baseline = await submitAndApprove(eng, [approver], {
+    const a = await buildHeaterTrip(as.engineer)
+    const b = await buildHeaterTrip(as.engineer)
+    const baseline = await submitAndApprove(as.engineer, [as.approver], {
       siteId: a.site.id,
       title: 'Baseline of two trips',
       items: [
@@ -131,9 +120,9 @@ describe('a request applied to a row that changed meanwhile (one winner, nothing
       ],
     })
     // the second draft is edited in the register after the approval
-    await eng.patch(`/api/limits/${b.limit.id}`, { setpoint: 785 }).expect(200)
+    await as.engineer.patch(`/api/limits/${b.limit.id}`, { setpoint: 785 }).expect(200)
     const before = await rowCounts(ctx.db)
-    const res = await tech
+    const res = await as.technician
       .post(`/api/change-requests/${baseline.id}/implementations`, {
         allItems: true,
         deviceListConfirmed: true,
@@ -149,21 +138,25 @@ describe('a request applied to a row that changed meanwhile (one winner, nothing
 
 describe('an instrument behind an active limit changes only through a change request (OSHA 1910.119(l))', () => {
   it("refuses a direct edit, and re-ranges through approval and implementation with read-back, recomputing the limit's window", async () => {
-    const { site, inst, limit } = await buildHeaterTrip(eng)
+    const { site, inst, limit } = await buildHeaterTrip(as.engineer)
     // while the limit is a draft the instrument is edited directly: a design high beyond the range warns
-    await eng.patch(`/api/instruments/${inst.id}`, { designHigh: 1250 }).expect(200)
+    await as.engineer.patch(`/api/instruments/${inst.id}`, { designHigh: 1250 }).expect(200)
     expect(warningCodes((await limitOf(limit.id)).operatingWindow)).toContain('DESIGN_LIMIT_OUTSIDE_RANGE')
-    await carryOutChange(crew, { siteId: site.id, title: 'In service', items: [{ kind: 'create', limitId: limit.id }] })
-    const instBefore = (await eng.get(`/api/instruments/${inst.id}`).expect(200)).body
+    await carryOutChange(crew(), {
+      siteId: site.id,
+      title: 'In service',
+      items: [{ kind: 'create', limitId: limit.id }],
+    })
+    const instBefore = (await as.engineer.get(`/api/instruments/${inst.id}`).expect(200)).body
 
-    const direct = await eng.patch(`/api/instruments/${inst.id}`, { rangeHigh: 1300 }).expect(409)
+    const direct = await as.engineer.patch(`/api/instruments/${inst.id}`, { rangeHigh: 1300 }).expect(409)
     expect(direct.body.error.code).toBe('INVALID_STATE')
-    expect((await eng.get(`/api/instruments/${inst.id}`).expect(200)).body).toMatchObject({
+    expect((await as.engineer.get(`/api/instruments/${inst.id}`).expect(200)).body).toMatchObject({
       rangeHigh: 1200,
       revision: instBefore.revision,
     })
 
-    const cr = await submitChange(eng, {
+    const cr = await submitChange(as.engineer, {
       siteId: site.id,
       title: 'Re-range TT to 0–1300 °C',
       items: [{ kind: 'instrument', instrumentId: inst.id, changes: { rangeHigh: 1300 } }],
@@ -179,9 +172,9 @@ describe('an instrument behind an active limit changes only through a change req
     })
     expect(warningCodes(item.windowBefore)).toContain('DESIGN_LIMIT_OUTSIDE_RANGE')
     expect(warningCodes(item.windowAfter)).not.toContain('DESIGN_LIMIT_OUTSIDE_RANGE')
-    await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
+    await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
 
-    const wrong = await tech
+    const wrong = await as.technician
       .post(`/api/change-requests/${cr.id}/implementations`, {
         itemId: item.id,
         readBack: { rangeHigh: 1200 },
@@ -189,11 +182,11 @@ describe('an instrument behind an active limit changes only through a change req
       })
       .expect(422)
     expect(wrong.body.error.details.fields['readBack.rangeHigh'][0]).toContain('1300')
-    expect((await eng.get(`/api/instruments/${inst.id}`).expect(200)).body.rangeHigh).toBe(1200)
+    expect((await as.engineer.get(`/api/instruments/${inst.id}`).expect(200)).body.rangeHigh).toBe(1200)
 
     expect(
       (
-        await tech
+        await as.technician
           .post(`/api/change-requests/${cr.id}/implementations`, {
             itemId: item.id,
             readBack: { rangeHigh: 1300 },
@@ -202,7 +195,7 @@ describe('an instrument behind an active limit changes only through a change req
           .expect(200)
       ).body.status,
     ).toBe('implemented')
-    expect((await eng.get(`/api/instruments/${inst.id}`).expect(200)).body).toMatchObject({
+    expect((await as.engineer.get(`/api/instruments/${inst.id}`).expect(200)).body).toMatchObject({
       rangeHigh: 1300,
       revision: instBefore.revision + 1,
     })
@@ -222,14 +215,14 @@ describe('bad input is refused and writes nothing', () => {
   let active: { id: number; revision: number }
 
   beforeAll(async () => {
-    const built = await buildActiveHeaterTrip(crew)
+    const built = await buildActiveHeaterTrip(crew())
     site = built.site
     active = built.limit
   })
 
   /** A new request with one item that modifies the active limit (or `opts.limitId`) by `changes`. */
   const propose = (title: string, changes: Record<string, unknown>, opts: { type?: string; limitId?: number } = {}) =>
-    eng.post('/api/change-requests', {
+    as.engineer.post('/api/change-requests', {
       siteId: site.id,
       type: opts.type ?? 'permanent',
       title,
@@ -270,11 +263,11 @@ describe('bad input is refused and writes nothing', () => {
 
     const draft = (await propose('Fine at first', { setpoint: 790 }).expect(201)).body
     await refused(422, () =>
-      eng.patch(`/api/change-requests/${draft.id}`, {
+      as.engineer.patch(`/api/change-requests/${draft.id}`, {
         items: [{ kind: 'modify', limitId: active.id, changes: { setpoint: 1250 } }],
       }),
     )
-    expect((await eng.get(`/api/change-requests/${draft.id}`).expect(200)).body).toMatchObject({
+    expect((await as.engineer.get(`/api/change-requests/${draft.id}`).expect(200)).body).toMatchObject({
       version: draft.version,
       contentHash: draft.contentHash,
       items: [{ changes: { setpoint: { from: 780, to: 790 } } }],
@@ -282,28 +275,28 @@ describe('bad input is refused and writes nothing', () => {
   })
 
   it('a modify of a proposed limit: 409 (a draft is edited in the register)', async () => {
-    const { limit } = await buildHeaterTrip(eng)
+    const { limit } = await buildHeaterTrip(as.engineer)
     const err = await refused(409, () => propose('Modify a draft', { setpoint: 790 }, { limitId: limit.id }))
     expect(err.code).toBe('INVALID_STATE')
   })
 
   it('closure before implementation: 409; closure with the checklist incomplete: 400', async () => {
-    const cr = await submitAndApprove(eng, [approver], {
+    const cr = await submitAndApprove(as.engineer, [as.approver], {
       siteId: site.id,
       title: 'Close too early',
       items: [{ kind: 'modify', limitId: active.id, changes: { deadband: 6 } }],
     })
     const early = await refused(409, () =>
-      eng.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }),
+      as.engineer.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }),
     )
     expect(early.code).toBe('INVALID_STATE')
 
-    await implementChange(tech, cr)
+    await implementChange(as.technician, cr)
     for (const c of IMPACT_CHECKLIST.slice(0, -1))
-      await eng.put(`/api/change-requests/${cr.id}/checklist/${c.item}`, { done: true }).expect(200)
+      await as.engineer.put(`/api/change-requests/${cr.id}/checklist/${c.item}`, { done: true }).expect(200)
     // OSHA 1910.119(l)(2) and (3): procedures updated and people informed before start-up
     const incomplete = await refused(400, () =>
-      eng.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }),
+      as.engineer.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }),
     )
     expect(incomplete.code).toBe('VALIDATION_FAILED')
     expect((incomplete.details!.fields as Record<string, string[]>).checklist).toEqual([
@@ -311,9 +304,12 @@ describe('bad input is refused and writes nothing', () => {
     ])
     // the PSSR must confirm readiness
     const notReady = await refused(400, () =>
-      eng.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: { ...PSSR, readyForService: false } }),
+      as.engineer.post(`/api/change-requests/${cr.id}/closure`, {
+        password: PW,
+        pssr: { ...PSSR, readyForService: false },
+      }),
     )
     expect(notReady.details!.fields).toHaveProperty('pssr.readyForService')
-    expect((await eng.get(`/api/change-requests/${cr.id}`).expect(200)).body.status).toBe('implemented')
+    expect((await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body.status).toBe('implemented')
   })
 })

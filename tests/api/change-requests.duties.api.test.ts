@@ -1,10 +1,8 @@
-import type { Express } from 'express'
 import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import type { Role } from '../../shared/schemas/users.ts'
-import { ApiAgent, signedIn, signedInAs, newAccount } from './helpers/agent.ts'
+import { signedIn, newAccount, useSignedIn } from './helpers/agent.ts'
 import {
   submitAndApprove,
   draftChange,
@@ -13,7 +11,6 @@ import {
   rowCounts,
   submitChange,
   firstItemImplementation,
-  CHANGE_PEOPLE,
 } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -23,16 +20,13 @@ const PW = DEMO_PASSWORD
 const PDF = Buffer.from('%PDF-1.4\n1 0 obj << /Type /Catalog >> endobj\ntrailer << /Root 1 0 R >>\n%%EOF\n', 'latin1')
 const PSSR = { reference: 'PSSR-2026-301', findings: 'none', readyForService: true }
 
-let app: Express
-let eng: ApiAgent
-let approver: ApiAgent
-let approver2: ApiAgent
-let tech: ApiAgent
+const PEOPLE = ['engineer', 'approver', 'approver2', 'technician'] as const
+const { as, app } = useSignedIn(ctx, PEOPLE)
 let fhr: number
 
 /** A user of the demo plant's refinery with the given roles there, signed in. */
 async function person(email: string, name: string, roles: Role[]) {
-  return newAccount(app, await signedIn(app, 'admin'), {
+  return newAccount(app(), await signedIn(app(), 'admin'), {
     email,
     displayName: name,
     password: 'separate-duties-password',
@@ -41,19 +35,17 @@ async function person(email: string, name: string, roles: Role[]) {
 }
 
 beforeAll(async () => {
-  app = createApp(ctx)
-  ;({ eng, approver, approver2, tech } = await signedInAs(app, CHANGE_PEOPLE))
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
+  const sites = (await as.engineer.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   fhr = sites.find((s) => s.code === 'FHR')!.id
 })
 
-const crew = () => ({ eng, approvers: [approver, approver2], tech })
+const crew = () => ({ eng: as.engineer, approvers: [as.approver, as.approver2], tech: as.technician })
 
 describe('whoever changes the content, attachments included, is an editor and does not approve', () => {
   it('an engineer-approver who attached a file to a submitted request is refused the approval (403)', async () => {
     const dual = await person('attacher@fernhollow.example', 'Rowan Attwell', ['safety_engineer', 'approver'])
     const { site, limit } = await buildActiveHeaterTrip(crew())
-    const cr = await submitChange(eng, {
+    const cr = await submitChange(as.engineer, {
       siteId: site.id,
       title: 'Raise heater trip after tube survey',
       items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 790 } }],
@@ -62,7 +54,7 @@ describe('whoever changes the content, attachments included, is an editor and do
       .upload(`/api/change-requests/${cr.id}/attachments`, {}, { name: 'tube-survey.pdf', content: PDF })
       .expect(201)
     expect(att.body.fileName).toBe('tube-survey.pdf')
-    const after = (await eng.get(`/api/change-requests/${cr.id}`).expect(200)).body
+    const after = (await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body
     expect(after.editorIds).toContain(dual.id)
     expect(after.contentHash).not.toBe(cr.contentHash)
 
@@ -74,19 +66,23 @@ describe('whoever changes the content, attachments included, is an editor and do
     expect(res.body.error).toMatchObject({ code: 'FORBIDDEN', message: expect.stringContaining('edited') })
     expect(await rowCounts(ctx.db)).toEqual(before)
     // an independent approver may
-    await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
+    await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
   })
 
   it('no file is attached once someone signed, nor after approval (409, nothing written)', async () => {
     const { site, limit } = await buildActiveHeaterTrip(crew())
-    const cr = await submitAndApprove(eng, [approver], {
+    const cr = await submitAndApprove(as.engineer, [as.approver], {
       siteId: site.id,
       title: 'Approved, then a late drawing',
       items: [{ kind: 'modify', limitId: limit.id, changes: { deadband: 4 } }],
     })
     expect(cr.status).toBe('approved')
     const before = await rowCounts(ctx.db)
-    const res = await eng.upload(`/api/change-requests/${cr.id}/attachments`, {}, { name: 'late.pdf', content: PDF })
+    const res = await as.engineer.upload(
+      `/api/change-requests/${cr.id}/attachments`,
+      {},
+      { name: 'late.pdf', content: PDF },
+    )
     expect(res.status).toBe(409)
     expect(res.body.error.message).toContain('before anyone signs')
     expect(await rowCounts(ctx.db)).toEqual(before)
@@ -97,7 +93,7 @@ describe('one person does not approve and implement the same change (common prac
   it('an approver who is also a technician approves, then is refused the implementation (403)', async () => {
     const both = await person('approver-tech@fernhollow.example', 'Kit Doublehand', ['approver', 'technician'])
     const { site, limit } = await buildActiveHeaterTrip(crew())
-    const cr = await submitChange(eng, {
+    const cr = await submitChange(as.engineer, {
       siteId: site.id,
       title: 'Approved by a technician-approver',
       items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 785 } }],
@@ -117,7 +113,9 @@ describe('one person does not approve and implement the same change (common prac
     expect(res.body.error.message).toContain('approved')
     expect(await rowCounts(ctx.db)).toEqual(before)
     // another technician implements it
-    await tech.post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(approved, PW)).expect(200)
+    await as.technician
+      .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(approved, PW))
+      .expect(200)
   })
 
   it('a shift supervisor who is also an approver implements an emergency change and may not approve it', async () => {
@@ -126,7 +124,7 @@ describe('one person does not approve and implement the same change (common prac
       'approver',
     ])
     const { site, limit } = await buildActiveHeaterTrip(crew())
-    const cr = await submitChange(eng, {
+    const cr = await submitChange(as.engineer, {
       siteId: site.id,
       type: 'emergency',
       title: 'Lower trip at once after a hot spot',
@@ -148,14 +146,14 @@ describe('one person does not approve and implement the same change (common prac
     // the waiting list does not offer it to them either
     const waiting = (await both.agent.get('/api/change-requests?view=waiting').expect(200)).body
     expect(waiting.items.map((i: { id: number }) => i.id)).not.toContain(cr.id)
-    await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
+    await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
   })
 })
 
 describe('order of management of change (OSHA 1910.119(l)(3)-(4) and (i))', () => {
   it('refuses implementation until the before-implementation group is done or not applicable', async () => {
     const { site, limit } = await buildActiveHeaterTrip(crew())
-    const created = await draftChange(eng, {
+    const created = await draftChange(as.engineer, {
       siteId: site.id,
       title: 'Alarm-free trip change',
       items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 775 } }],
@@ -163,39 +161,41 @@ describe('order of management of change (OSHA 1910.119(l)(3)-(4) and (i))', () =
     expect(created.checklist.map((c: { item: string; group: string }) => [c.item, c.group])).toEqual(
       IMPACT_CHECKLIST.map((c) => [c.item, c.group]),
     )
-    await eng.post(`/api/change-requests/${created.id}/submission`).expect(200)
-    const approved = await approveChange([approver], created)
+    await as.engineer.post(`/api/change-requests/${created.id}/submission`).expect(200)
+    const approved = await approveChange([as.approver], created)
     const implement = () =>
-      tech.post(`/api/change-requests/${created.id}/implementations`, firstItemImplementation(approved, PW))
+      as.technician.post(`/api/change-requests/${created.id}/implementations`, firstItemImplementation(approved, PW))
     const before = await rowCounts(ctx.db)
     const refused = await implement()
     expect(refused.status).toBe(409)
     expect(refused.body.error.message).toContain('Operating procedures updated')
     expect(refused.body.error.message).toContain('Pre-start-up safety review signed')
     expect(await rowCounts(ctx.db)).toEqual(before)
-    expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.setpoint).not.toBe(775)
+    expect((await as.engineer.get(`/api/limits/${limit.id}`).expect(200)).body.setpoint).not.toBe(775)
 
     // not applicable needs a reason
     const alarmResponseNotApplicable = () =>
-      eng.put(`/api/change-requests/${created.id}/checklist/alarm_response`, {
+      as.engineer.put(`/api/change-requests/${created.id}/checklist/alarm_response`, {
         done: true,
         notApplicable: true,
         note: 'A trip with no alarm: no alarm response sheet exists',
       })
-    const noReason = await eng.put(`/api/change-requests/${created.id}/checklist/alarm_response`, {
+    const noReason = await as.engineer.put(`/api/change-requests/${created.id}/checklist/alarm_response`, {
       done: true,
       notApplicable: true,
     })
     expect(noReason.status).toBe(400)
     expect(noReason.body.error.details.fields.note[0]).toContain('why')
     await alarmResponseNotApplicable().expect(200)
-    await eng.put(`/api/change-requests/${created.id}/checklist/operating_procedures`, { done: true }).expect(200)
-    await eng.put(`/api/change-requests/${created.id}/checklist/training`, { done: true }).expect(200)
+    await as.engineer
+      .put(`/api/change-requests/${created.id}/checklist/operating_procedures`, { done: true })
+      .expect(200)
+    await as.engineer.put(`/api/change-requests/${created.id}/checklist/training`, { done: true }).expect(200)
     const stillOne = await implement()
     expect(stillOne.status).toBe(409)
     expect(stillOne.body.error.message).toContain('Pre-start-up safety review signed')
     expect(stillOne.body.error.message).not.toContain('Operating procedures')
-    await eng
+    await as.engineer
       .put(`/api/change-requests/${created.id}/checklist/pssr`, { done: true, note: 'PSSR-2026-301' })
       .expect(200)
     const done = (await implement().expect(200)).body
@@ -205,25 +205,25 @@ describe('order of management of change (OSHA 1910.119(l)(3)-(4) and (i))', () =
 
     // the implementation signature covers the before-implementation checklist as it stood
     const sig = () =>
-      eng.get(`/api/change-requests/${created.id}`).then(
+      as.engineer.get(`/api/change-requests/${created.id}`).then(
         (r) =>
           r.body.signatures.find((s: { meaning: string }) => s.meaning === 'implemented') as {
             matchesContent: boolean
           },
       )
     expect((await sig()).matchesContent).toBe(true)
-    await eng.put(`/api/change-requests/${created.id}/checklist/alarm_response`, { done: true }).expect(200)
+    await as.engineer.put(`/api/change-requests/${created.id}/checklist/alarm_response`, { done: true }).expect(200)
     expect((await sig()).matchesContent).toBe(false)
     await alarmResponseNotApplicable().expect(200)
     expect((await sig()).matchesContent).toBe(true)
 
     // closure needs the close-out group only
-    const early = await eng.post(`/api/change-requests/${created.id}/closure`, { password: PW, pssr: PSSR })
+    const early = await as.engineer.post(`/api/change-requests/${created.id}/closure`, { password: PW, pssr: PSSR })
     expect(early.status).toBe(400)
     expect(early.body.error.details.fields.checklist).toHaveLength(
       IMPACT_CHECKLIST.filter((c) => c.group === 'closeout').length,
     )
-    await eng
+    await as.engineer
       .put(`/api/change-requests/${created.id}/checklist/safety_requirements`, {
         done: true,
         notApplicable: true,
@@ -231,9 +231,9 @@ describe('order of management of change (OSHA 1910.119(l)(3)-(4) and (i))', () =
       })
       .expect(200)
     for (const item of ['cause_and_effect', 'drawings'])
-      await eng.put(`/api/change-requests/${created.id}/checklist/${item}`, { done: true }).expect(200)
+      await as.engineer.put(`/api/change-requests/${created.id}/checklist/${item}`, { done: true }).expect(200)
     const closed = (
-      await eng.post(`/api/change-requests/${created.id}/closure`, { password: PW, pssr: PSSR }).expect(200)
+      await as.engineer.post(`/api/change-requests/${created.id}/closure`, { password: PW, pssr: PSSR }).expect(200)
     ).body
     expect(closed.status).toBe('closed')
     expect(closed.signatures.every((s: { matchesContent: boolean }) => s.matchesContent)).toBe(true)

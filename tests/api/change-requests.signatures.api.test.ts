@@ -1,11 +1,9 @@
 import pg from 'pg'
-import type { Express } from 'express'
 import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
 import { contentHash } from '../../server/features/signatures/signatures.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
-import { ApiAgent, signedIn, signedInAs } from './helpers/agent.ts'
+import { ApiAgent, useSignedIn } from './helpers/agent.ts'
 import {
   draftChange,
   type ChangeCrew,
@@ -16,7 +14,6 @@ import {
   submitChange,
   readyToImplement,
   firstItemImplementation,
-  CHANGE_PEOPLE,
 } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -25,20 +22,12 @@ const ctx = useTestDb({ env: { SIGNIN_MAX_FAILURES_PER_ACCOUNT: '3', SIGNIN_WIND
 const PW = DEMO_PASSWORD
 const PSSR = { reference: 'PSSR-2026-330', findings: 'none', readyForService: true }
 
-let app: Express
-let eng: ApiAgent
-let approver: ApiAgent
-let approver2: ApiAgent
-let tech: ApiAgent
-let auditor: ApiAgent
-let crew: ChangeCrew
+const PEOPLE = ['engineer', 'approver', 'approver2', 'technician', 'auditor'] as const
+const { as, app } = useSignedIn(ctx, PEOPLE)
+const crew = (): ChangeCrew => ({ eng: as.engineer, approvers: [as.approver, as.approver2], tech: as.technician })
 const ids: Record<string, number> = {}
 
 beforeAll(async () => {
-  app = createApp(ctx)
-  ;({ eng, approver, approver2, tech } = await signedInAs(app, CHANGE_PEOPLE))
-  auditor = await signedIn(app, 'auditor')
-  crew = { eng, approvers: [approver, approver2], tech }
   for (const u of await ctx.db.selectFrom('app_user').select(['id', 'email']).execute())
     ids[u.email.split('@')[0]] = u.id
 })
@@ -69,8 +58,8 @@ const withFailedAttempt = (before: Awaited<ReturnType<typeof rowCounts>>) => ({
 
 describe('electronic signatures on change requests (21 CFR Part 11 as a model)', () => {
   it('a wrong password signs nothing, is recorded as a failed attempt, and counts against the sign-in limit', async () => {
-    const { site, limit } = await buildHeaterTrip(eng)
-    const cr = await submitChange(eng, {
+    const { site, limit } = await buildHeaterTrip(as.engineer)
+    const cr = await submitChange(as.engineer, {
       siteId: site.id,
       title: 'Wrong password',
       items: [{ kind: 'create', limitId: limit.id }],
@@ -78,7 +67,7 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
 
     // 21 CFR 11.200(a): the signer re-enters the password; a wrong one signs nothing
     const before = await rowCounts(ctx.db)
-    const wrong = await approver
+    const wrong = await as.approver
       .post(`/api/change-requests/${cr.id}/approvals`, { password: 'not-the-password' })
       .expect(403)
     expect(wrong.body.error.code).toBe('SIGNATURE_INVALID')
@@ -96,17 +85,17 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
     expect(attempts.map((a) => a.purpose)).toEqual(['signature'])
 
     // OWASP ASVS 2.2.1 (sign-in throttling): signature failures count like sign-in failures; the limit is 3 here
-    await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: 'still-wrong' }).expect(403)
-    await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: 'wrong-again' }).expect(403)
-    const blocked = await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(429)
+    await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: 'still-wrong' }).expect(403)
+    await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: 'wrong-again' }).expect(403)
+    const blocked = await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(429)
     expect(blocked.body.error.code).toBe('RATE_LIMITED')
     expect(await signaturesOf(cr.id)).toEqual([])
-    expect((await approver.get(`/api/change-requests/${cr.id}`).expect(200)).body).toMatchObject({
+    expect((await as.approver.get(`/api/change-requests/${cr.id}`).expect(200)).body).toMatchObject({
       status: 'submitted',
       approvalsHeld: 0,
     })
     // and so is a fresh sign-in with the correct password
-    const fresh = new ApiAgent(app)
+    const fresh = new ApiAgent(app())
     await fresh.refreshCsrf()
     expect(
       (await fresh.post('/api/session', { email: 'approver@fernhollow.example', password: PW }).expect(429)).body.error
@@ -114,14 +103,14 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
     ).toBe('RATE_LIMITED')
 
     // a wrong password at implementation changes nothing on the limit either
-    await approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
+    await as.approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)
     const implBefore = await rowCounts(ctx.db)
-    const implWrong = await tech
+    const implWrong = await as.technician
       .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, 'nope-nope'))
       .expect(403)
     expect(implWrong.body.error.code).toBe('SIGNATURE_INVALID')
     expect(await rowCounts(ctx.db)).toEqual(withFailedAttempt(implBefore))
-    expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.status).toBe('proposed')
+    expect((await as.engineer.get(`/api/limits/${limit.id}`).expect(200)).body.status).toBe('proposed')
 
     // once the failures are older than the window the correct password works again
     ctx.clock.advance(16 * 60_000)
@@ -129,8 +118,8 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
   })
 
   it('a SIL-rated change stays submitted after one approval and is approved by the second approver', async () => {
-    const { site, limit } = await buildHeaterTrip(eng, { sil: 2 })
-    const cr = await submitChange(eng, {
+    const { site, limit } = await buildHeaterTrip(as.engineer, { sil: 2 })
+    const cr = await submitChange(as.engineer, {
       siteId: site.id,
       title: 'SIL 2 trip in service',
       items: [{ kind: 'create', limitId: limit.id }],
@@ -139,52 +128,54 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
     expect(cr.approvalsRequired).toBe(2)
     expect(cr.items[0].silRated).toBe(true)
 
-    const one = (await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
+    const one = (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
     expect(one).toMatchObject({ status: 'submitted', approvalsHeld: 1, approvedAt: null })
     // one person signs once
     expect(
-      (await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(409)).body.error.code,
+      (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(409)).body.error.code,
     ).toBe('INVALID_STATE')
     // not implementable with one approval
-    const early = await tech
+    const early = await as.technician
       .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, PW))
       .expect(409)
     expect(early.body.error.code).toBe('INVALID_STATE')
-    expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.status).toBe('proposed')
+    expect((await as.engineer.get(`/api/limits/${limit.id}`).expect(200)).body.status).toBe('proposed')
 
-    const two = (await approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
+    const two = (await as.approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
     expect(two).toMatchObject({ status: 'approved', approvalsHeld: 2 })
     expect(two.signatures.map((s: { name: string }) => s.name)).toEqual(['Arlo Pennick', 'Ines Harrowgate'])
-    await tech.post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, PW)).expect(200)
-    expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.status).toBe('active')
+    await as.technician
+      .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, PW))
+      .expect(200)
+    expect((await as.engineer.get(`/api/limits/${limit.id}`).expect(200)).body.status).toBe('active')
   })
 
   it('a change that makes a limit SIL-rated needs the SIL number of approvals', async () => {
-    const { site, limit } = await buildActiveHeaterTrip({ ...crew, approvers: [approver] })
+    const { site, limit } = await buildActiveHeaterTrip({ ...crew(), approvers: [as.approver] })
     expect(limit.sil).toBeNull()
-    const cr = await submitChange(eng, {
+    const cr = await submitChange(as.engineer, {
       siteId: site.id,
       title: 'Rate the heater trip SIL 1',
       items: [{ kind: 'modify', limitId: limit.id, changes: { sil: 1, subsystems: HEATER_SUBSYSTEMS } }],
     })
     expect(cr.approvalsRequired).toBe(2)
     expect(
-      (await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body.status,
+      (await as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body.status,
     ).toBe('submitted')
   })
 
   it('two approvers at the same moment on a request that needs one: exactly one approval, a clear 409 for the other', async () => {
     for (let round = 0; round < 3; round++) {
-      const { site, limit } = await buildHeaterTrip(eng)
-      const cr = await submitChange(eng, {
+      const { site, limit } = await buildHeaterTrip(as.engineer)
+      const cr = await submitChange(as.engineer, {
         siteId: site.id,
         title: `Race ${round}`,
         items: [{ kind: 'create', limitId: limit.id }],
       })
       expect(cr.approvalsRequired).toBe(1)
       const results = await Promise.all([
-        approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }),
-        approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }),
+        as.approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }),
+        as.approver2.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }),
       ])
       expect(results.map((r) => r.status).sort()).toEqual([200, 409])
       const loser = results.find((r) => r.status === 409)!
@@ -199,7 +190,7 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
         .where('subject', 'like', `Change request #${cr.id} approved:%`)
         .execute()
       expect(mails.map((m) => m.to_addr)).toEqual(['engineer@fernhollow.example'])
-      expect((await eng.get(`/api/change-requests/${cr.id}`).expect(200)).body).toMatchObject({
+      expect((await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body).toMatchObject({
         status: 'approved',
         approvalsHeld: 1,
       })
@@ -207,8 +198,8 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
   })
 
   it('every step lands in the audit trail with the content hash; signatures keep name, time, meaning and hash', async () => {
-    const { site, limit } = await buildActiveHeaterTrip({ ...crew, approvers: [approver] })
-    const cr = await draftChange(eng, {
+    const { site, limit } = await buildActiveHeaterTrip({ ...crew(), approvers: [as.approver] })
+    const cr = await draftChange(as.engineer, {
       siteId: site.id,
       title: 'Raise heater trip to 795',
       rationale: 'Coking margin',
@@ -229,16 +220,16 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
         attachments: [],
       }),
     )
-    await readyToImplement(eng, cr.id)
-    await eng.post(`/api/change-requests/${cr.id}/submission`).expect(200)
+    await readyToImplement(as.engineer, cr.id)
+    await as.engineer.post(`/api/change-requests/${cr.id}/submission`).expect(200)
     const t0 = ctx.clock.now().getTime()
     const approved = (
-      await approver
+      await as.approver
         .post(`/api/change-requests/${cr.id}/approvals`, { password: PW, comment: 'margin checked' })
         .expect(200)
     ).body
     const t1 = ctx.clock.now().getTime()
-    await tech
+    await as.technician
       .post(`/api/change-requests/${cr.id}/implementations`, {
         itemId: cr.items[0].id,
         readBack: { setpoint: 795 },
@@ -246,13 +237,14 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
       })
       .expect(200)
     for (const c of IMPACT_CHECKLIST)
-      await eng.put(`/api/change-requests/${cr.id}/checklist/${c.item}`, { done: true }).expect(200)
-    const closed = (await eng.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }).expect(200))
-      .body
+      await as.engineer.put(`/api/change-requests/${cr.id}/checklist/${c.item}`, { done: true }).expect(200)
+    const closed = (
+      await as.engineer.post(`/api/change-requests/${cr.id}/closure`, { password: PW, pssr: PSSR }).expect(200)
+    ).body
 
     // 21 CFR 11.10(e) audit trail: each step with its actor and the hash of the content it concerned
     const trail = (
-      await auditor.get(`/api/audit-events?entityType=ChangeRequest&entityId=${cr.id}&pageSize=200`).expect(200)
+      await as.auditor.get(`/api/audit-events?entityType=ChangeRequest&entityId=${cr.id}&pageSize=200`).expect(200)
     ).body.items as { action: string; actorId: number; after: { contentHash?: string } }[]
     const steps: [string, string][] = [
       ['change_request.create', 'engineer'],
@@ -305,7 +297,7 @@ describe('electronic signatures on change requests (21 CFR Part 11 as a model)',
     } finally {
       await owner.end()
     }
-    const after = (await eng.get(`/api/change-requests/${cr.id}`).expect(200)).body
+    const after = (await as.engineer.get(`/api/change-requests/${cr.id}`).expect(200)).body
     expect(after.signatures).toHaveLength(3)
     expect(after.signatures.map((s: { matchesContent: boolean }) => s.matchesContent)).toEqual([false, false, false])
     // the signature records themselves are unchanged
