@@ -1,9 +1,7 @@
-import type { Express } from 'express'
-import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
+import { describe, expect, it } from 'vitest'
 import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { crewAs } from './helpers/agent.ts'
+import { useSignedIn } from './helpers/agent.ts'
 import { buildHeaterTrip, rowCounts, simulatorTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -14,50 +12,27 @@ import { activateLimit } from './helpers/workflows.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
-let app: Express
-const who = {
-  eng: 'engineer',
-  approver: 'approver',
-  approver2: 'approver2',
-  tech: 'technician',
-  sup: 'supervisor',
-  operator: 'operator',
-  manager: 'manager',
-} as const
-const { as: a, signInAll } = crewAs(() => app, who)
-
-beforeAll(async () => {
-  ctx.clock.set('2026-01-10T08:00:00Z')
-  app = createApp(ctx)
-  await signInAll()
-})
-
-async function at(iso: string) {
-  ctx.clock.set(iso)
-  for (const k of Object.keys(who) as (keyof typeof who)[]) {
-    await a[k].refreshCsrf()
-    await a[k].signIn(`${who[k]}@fernhollow.example`)
-  }
-}
+const PEOPLE = ['engineer', 'approver', 'approver2', 'technician', 'supervisor', 'operator', 'manager'] as const
+const { as: a, at } = useSignedIn(ctx, PEOPLE, { at: '2026-01-10T08:00:00Z' })
 
 async function activeTrip(sil: 1 | 2 | 3 | null) {
-  const { limit } = await buildHeaterTrip(a.eng, { sil })
-  await activateLimit({ eng: a.eng, approver: a.approver, approver2: a.approver2, tech: a.tech }, limit)
+  const { limit } = await buildHeaterTrip(a.engineer, { sil })
+  await activateLimit({ eng: a.engineer, approver: a.approver, approver2: a.approver2, tech: a.technician }, limit)
   return limit as { id: number; tag: string; siteId: number }
 }
 
 async function tested(limitId: number, performedAt: string, result: Record<string, unknown> = { asFound: 781 }) {
-  const t = await a.tech.created(
+  const t = await a.technician.created(
     '/api/trip-tests',
     simulatorTest(limitId, { performedAt, finalElementOk: true, latchHeld: true, ...result }),
   )
-  await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
+  await a.technician.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
   return t as { id: number; passed: boolean }
 }
-const limitNow = async (id: number) => (await a.eng.get(`/api/limits/${id}`).expect(200)).body
+const limitNow = async (id: number) => (await a.engineer.get(`/api/limits/${id}`).expect(200)).body
 /** The shift handover's live state of one area, as the shift supervisor sees it. */
 const handoverArea = async (areaId: number) =>
-  (await a.sup.get(`/api/shift-handovers/state?areaId=${areaId}`).expect(200)).body.areas[0]
+  (await a.supervisor.get(`/api/shift-handovers/state?areaId=${areaId}`).expect(200)).body.areas[0]
 /** The plant manager's review figures for the site over a period. */
 const reviewKpis = async (siteId: number, from: string, to: string) =>
   (await a.manager.get(`/api/bypass-review?siteId=${siteId}&from=${from}&to=${to}`).expect(200)).body.kpis
@@ -82,12 +57,12 @@ describe('test deferrals', () => {
       compensatingMeasures: ['Second operator round on the heater every 2 h'],
     }
     await a.operator.post('/api/test-deferrals', req).expect(403)
-    const tooLong = await a.tech.post('/api/test-deferrals', { ...req, newDueDate: '2027-04-12' }).expect(422)
+    const tooLong = await a.technician.post('/api/test-deferrals', { ...req, newDueDate: '2027-04-12' }).expect(422)
     expect(tooLong.body.error.message).toContain('at most 91 days')
-    await a.tech.post('/api/test-deferrals', { ...req, compensatingMeasures: [] }).expect(400)
+    await a.technician.post('/api/test-deferrals', { ...req, compensatingMeasures: [] }).expect(400)
     expect(await rowCounts(ctx.db)).toEqual(before)
 
-    const d = await a.tech.created('/api/test-deferrals', req)
+    const d = await a.technician.created('/api/test-deferrals', req)
     expect(d).toMatchObject({
       status: 'requested',
       originalDueDate: '2027-01-10',
@@ -103,7 +78,7 @@ describe('test deferrals', () => {
     expect(typeof d.risk.meetsTarget).toBe('boolean')
     expect(d.risk.explanation).toContain('SIL 2')
     // one open deferral at a time
-    await a.eng.post('/api/test-deferrals', req).expect(409)
+    await a.engineer.post('/api/test-deferrals', req).expect(409)
     // a requested deferral moves nothing
     expect((await limitNow(sil.id)).testStatus).toBe('overdue')
     // it shows on the shift handover and waits in the plant manager's review figures
@@ -127,7 +102,7 @@ describe('test deferrals', () => {
     // the policy names the plant manager for SIL 2: an approver is refused, and so is the requester
     expect(d.actions.approve.allowed).toBe(false)
     await a.approver.post(`/api/test-deferrals/${d.id}/approval`, { password: PW }).expect(403)
-    await a.tech.post(`/api/test-deferrals/${d.id}/approval`, { password: PW }).expect(403)
+    await a.technician.post(`/api/test-deferrals/${d.id}/approval`, { password: PW }).expect(403)
     const managerView = (await a.manager.get(`/api/test-deferrals/${d.id}`).expect(200)).body
     expect(managerView.actions.approve).toEqual({ allowed: true })
     const approved = (
@@ -137,7 +112,7 @@ describe('test deferrals', () => {
     await a.manager.post(`/api/test-deferrals/${d.id}/rejection`, { password: PW, comment: 'x' }).expect(409)
     // 40 days ahead of 11 January: beyond the 30-day look-ahead of a 12-month interval
     expect(await limitNow(sil.id)).toMatchObject({ testDueDate: '2027-02-20', testStatus: 'ok' })
-    const sched = (await a.tech.get('/api/trip-tests/schedule?status=ok').expect(200)).body
+    const sched = (await a.technician.get('/api/trip-tests/schedule?status=ok').expect(200)).body
     expect(sched.items.find((i: { limitId: number }) => i.limitId === sil.id).deferredTo).toBe('2027-02-20')
     // in force: on the handover as approved; in the review counted as requested and approved in January, none before
     expect((await handoverArea(areaId)).deferrals).toMatchObject([{ id: d.id, status: 'approved' }])
@@ -152,9 +127,9 @@ describe('test deferrals', () => {
     })
 
     // no second deferral while this one is in force
-    await a.tech.post('/api/test-deferrals', { ...req, newDueDate: '2027-03-01' }).expect(409)
+    await a.technician.post('/api/test-deferrals', { ...req, newDueDate: '2027-03-01' }).expect(409)
     // the list
-    const list = (await a.eng.get(`/api/test-deferrals?limitId=${sil.id}`).expect(200)).body
+    const list = (await a.engineer.get(`/api/test-deferrals?limitId=${sil.id}`).expect(200)).body
     expect(list.total).toBe(1)
     expect(list.items[0].id).toBe(d.id)
 
@@ -166,7 +141,7 @@ describe('test deferrals', () => {
     // a passing test ends the deferral: the due date counts from it
     await tested(sil.id, '2027-02-21T08:00:00Z')
     expect(await limitNow(sil.id)).toMatchObject({ testDueDate: '2028-02-21', testStatus: 'ok' })
-    expect((await a.eng.get(`/api/test-deferrals/${d.id}`).expect(200)).body.inForce).toBe(false)
+    expect((await a.engineer.get(`/api/test-deferrals/${d.id}`).expect(200)).body.inForce).toBe(false)
     // no longer in force: gone from the handover
     expect((await handoverArea(areaId)).deferrals).toEqual([])
   })
@@ -175,7 +150,7 @@ describe('test deferrals', () => {
     await at('2026-01-10T08:00:00Z')
     const plain = await activeTrip(null)
     await tested(plain.id, '2026-01-10T07:00:00Z')
-    const d = await a.eng.created('/api/test-deferrals', {
+    const d = await a.engineer.created('/api/test-deferrals', {
       limitId: plain.id,
       newDueDate: '2027-02-01',
       reason: 'Spare calibrator away',
@@ -193,7 +168,7 @@ describe('test deferrals', () => {
     expect((await limitNow(plain.id)).testDueDate).toBe('2027-01-10')
     // a never-tested limit has nothing to defer
     const fresh = await activeTrip(null)
-    await a.eng
+    await a.engineer
       .post('/api/test-deferrals', {
         limitId: fresh.id,
         newDueDate: '2026-03-01',
@@ -210,21 +185,27 @@ describe('degraded limits: the repair deadline against the MTTR assumed for the 
     // SIL 1 heater trip: subsystem MTTRs 8, 8 and 24 h → the function's MTTR is 24 h
     const limit = await activeTrip(1)
     await tested(limit.id, '2026-01-10T07:00:00Z', { asFound: 795 })
-    const deg = (await a.sup.get(`/api/limits/${limit.id}/degradation`).expect(200)).body
+    const deg = (await a.supervisor.get(`/api/limits/${limit.id}/degradation`).expect(200)).body
     expect(deg.mttrHours).toBe(24)
     expect(deg.items[0].actions.signMeasures).toEqual({ allowed: true })
     const measures = { compensatingMeasures: ['Operator watches TI locally'], password: PW }
     // a technician may not sign the measures
-    await a.tech.post(`/api/limits/${limit.id}/degradation`, { ...measures, repairDeadline: '2026-01-10' }).expect(403)
+    await a.technician
+      .post(`/api/limits/${limit.id}/degradation`, { ...measures, repairDeadline: '2026-01-10' })
+      .expect(403)
     // opened 08:00 UTC on 10 January; the deadline is the end of 10 January in Berlin (23:00 UTC): within 24 h
     const within = (
-      await a.sup.post(`/api/limits/${limit.id}/degradation`, { ...measures, repairDeadline: '2026-01-10' }).expect(200)
+      await a.supervisor
+        .post(`/api/limits/${limit.id}/degradation`, { ...measures, repairDeadline: '2026-01-10' })
+        .expect(200)
     ).body
     expect(within.items[0]).toMatchObject({ deadlineBeyondMttr: false, repairDeadline: '2026-01-10' })
     expect(within.items[0].actions.approveDeadline.allowed).toBe(false)
     // the end of 11 January is 39 h after opening: beyond the MTTR, the plant manager signs
     const beyond = (
-      await a.sup.post(`/api/limits/${limit.id}/degradation`, { ...measures, repairDeadline: '2026-01-11' }).expect(200)
+      await a.supervisor
+        .post(`/api/limits/${limit.id}/degradation`, { ...measures, repairDeadline: '2026-01-11' })
+        .expect(200)
     ).body
     expect(beyond.items[0]).toMatchObject({ deadlineBeyondMttr: true, deadlineApprovedBy: null })
     const mails = await ctx.db
@@ -233,7 +214,7 @@ describe('degraded limits: the repair deadline against the MTTR assumed for the 
       .where('subject', 'like', 'Approve: repair deadline%')
       .execute()
     expect(mails.map((m) => m.to_addr)).toEqual(['manager@fernhollow.example'])
-    await a.sup.post(`/api/limits/${limit.id}/degradation/deadline-approval`, { password: PW }).expect(403)
+    await a.supervisor.post(`/api/limits/${limit.id}/degradation/deadline-approval`, { password: PW }).expect(403)
     const approved = (
       await a.manager.post(`/api/limits/${limit.id}/degradation/deadline-approval`, { password: PW }).expect(200)
     ).body
@@ -245,7 +226,7 @@ describe('degraded limits: the repair deadline against the MTTR assumed for the 
     const job = createTripTestJob(ctx.db, ctx.config, ctx.clock)
     // on the 11th (Berlin) the deadline day is not over: nothing on home or the handover yet
     const overdueRepairs = async () =>
-      (await a.sup.get(`/api/trip-tests/overdue-repairs?siteId=${limit.siteId}`).expect(200)).body.items
+      (await a.supervisor.get(`/api/trip-tests/overdue-repairs?siteId=${limit.siteId}`).expect(200)).body.items
     const degradedOnHandover = async () =>
       (await handoverArea((await limitNow(limit.id)).areaId)).degraded.find(
         (x: { limitId: number }) => x.limitId === limit.id,
@@ -266,7 +247,7 @@ describe('degraded limits: the repair deadline against the MTTR assumed for the 
       'supervisor@fernhollow.example',
     ])
     expect(
-      (await a.sup.get(`/api/limits/${limit.id}/degradation`).expect(200)).body.items[0].escalatedAt,
+      (await a.supervisor.get(`/api/limits/${limit.id}/degradation`).expect(200)).body.items[0].escalatedAt,
     ).not.toBeNull()
     // 00:30 on the 12th in Berlin (23:30 UTC on the 11th): the deadline day is over in the site's zone
     await at('2026-01-11T23:30:00Z')
@@ -283,6 +264,6 @@ describe('degraded limits: the repair deadline against the MTTR assumed for the 
     ])
     expect((await degradedOnHandover()).repairDeadlinePassed).toBe(true)
     // a user without a role at the site's other sites asks for another site: nothing of this site
-    expect((await a.sup.get('/api/trip-tests/overdue-repairs?siteId=999999').expect(200)).body.items).toEqual([])
+    expect((await a.supervisor.get('/api/trip-tests/overdue-repairs?siteId=999999').expect(200)).body.items).toEqual([])
   })
 })

@@ -1,11 +1,9 @@
-import type { Express } from 'express'
 import type { ParsedMail } from 'mailparser'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
 import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
 import { createMailJob } from '../../server/features/mail/mail.worker.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { crewAs } from './helpers/agent.ts'
+import { useSignedIn } from './helpers/agent.ts'
 import { buildHeaterTrip } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -17,39 +15,21 @@ import { activateLimit } from './helpers/workflows.ts'
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 let smtp: FakeSmtp
-let app: Express
-const who = {
-  eng: 'engineer',
-  approver: 'approver',
-  tech: 'technician',
-  sup: 'supervisor',
-  operator: 'operator',
-} as const
-const { as: a, signInAll } = crewAs(() => app, who)
+const { as: a, at } = useSignedIn(ctx, ['engineer', 'approver', 'technician', 'supervisor', 'operator'], {
+  at: '2026-06-08T08:00:00Z',
+})
 
 beforeAll(async () => {
   smtp = await startFakeSmtp(0, { quiet: true })
-  ctx.clock.set('2026-06-08T08:00:00Z')
-  app = createApp(ctx)
-  await signInAll()
 })
 afterAll(async () => {
   await smtp?.close()
 })
 
-/** Moves the clock; sessions end after 30 min idle on that clock, so everyone signs in again. */
-async function at(iso: string) {
-  ctx.clock.set(iso)
-  for (const k of Object.keys(who) as (keyof typeof who)[]) {
-    await a[k].refreshCsrf()
-    await a[k].signIn(`${who[k]}@fernhollow.example`)
-  }
-}
-
 /** The type K heater trip at 780 °C, 0–1200 °C, interval 12 months, put in service. */
 async function activeHeaterTrip() {
-  const { limit } = await buildHeaterTrip(a.eng)
-  await activateLimit({ eng: a.eng, approver: a.approver, tech: a.tech }, limit)
+  const { limit } = await buildHeaterTrip(a.engineer)
+  await activateLimit({ eng: a.engineer, approver: a.approver, tech: a.technician }, limit)
   return limit as { id: number; tag: string; siteId: number }
 }
 
@@ -60,7 +40,7 @@ async function tested(
   result: Record<string, unknown>,
   opts: { kind?: 'full' | 'partial'; sign?: boolean } = {},
 ) {
-  const t = await a.tech.created('/api/trip-tests', {
+  const t = await a.technician.created('/api/trip-tests', {
     limitId,
     kind: opts.kind ?? 'full',
     method: 'injection',
@@ -74,12 +54,13 @@ async function tested(
     ...result,
   })
   if (opts.sign === false) return t
-  return (await a.tech.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200))
-    .body
+  return (
+    await a.technician.post(`/api/trip-tests/${t.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
+  ).body
 }
 
 const limitNow = async (id: number) =>
-  (await a.eng.get(`/api/limits/${id}`).expect(200)).body as {
+  (await a.engineer.get(`/api/limits/${id}`).expect(200)).body as {
     protectionState: string
     testStatus: string
     testDueDate: string | null
@@ -99,16 +80,18 @@ describe('the degraded state', () => {
     // a record alone changes nothing: the result applies when the performer signs
     expect((await limitNow(limit.id)).protectionState).toBe('in_service')
 
-    await a.tech.post(`/api/trip-tests/${recorded.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
+    await a.technician
+      .post(`/api/trip-tests/${recorded.id}/signatures`, { meaning: 'performed', password: PW })
+      .expect(200)
     const degraded = await limitNow(limit.id)
     expect(degraded.protectionState).toBe('degraded')
     // a failed test is no completed full test: the limit stays never tested, with no due date
     expect(degraded).toMatchObject({ testStatus: 'never_tested', testDueDate: null, lastFullPass: null })
-    const inRegister = (await a.eng.get('/api/limits?protectionState=degraded&pageSize=200').expect(200)).body
+    const inRegister = (await a.engineer.get('/api/limits?protectionState=degraded&pageSize=200').expect(200)).body
       .items as { id: number }[]
     expect(inRegister.map((l) => l.id)).toContain(limit.id)
 
-    const history = (await a.eng.get(`/api/limits/${limit.id}/degradation`).expect(200)).body.items
+    const history = (await a.engineer.get(`/api/limits/${limit.id}/degradation`).expect(200)).body.items
     expect(history).toHaveLength(1)
     expect(history[0]).toMatchObject({
       testId: recorded.id,
@@ -138,19 +121,20 @@ describe('the degraded state', () => {
       password: PW,
     }
     // not degraded yet: nothing to sign
-    expect((await a.sup.post(url, measures).expect(409)).body.error.code).toBe('INVALID_STATE')
+    expect((await a.supervisor.post(url, measures).expect(409)).body.error.code).toBe('INVALID_STATE')
 
     await tested(limit.id, '2026-06-08T07:40:00Z', { asFound: 790 })
-    for (const k of ['tech', 'operator', 'eng', 'approver'] as const) await a[k].post(url, measures).expect(403)
-    expect((await a.sup.post(url, { ...measures, password: 'wrong-password' }).expect(403)).body.error.code).toBe(
-      'SIGNATURE_INVALID',
-    )
-    const none = await a.sup.post(url, { ...measures, compensatingMeasures: [] }).expect(400)
+    for (const k of ['technician', 'operator', 'engineer', 'approver'] as const)
+      await a[k].post(url, measures).expect(403)
+    expect(
+      (await a.supervisor.post(url, { ...measures, password: 'wrong-password' }).expect(403)).body.error.code,
+    ).toBe('SIGNATURE_INVALID')
+    const none = await a.supervisor.post(url, { ...measures, compensatingMeasures: [] }).expect(400)
     expect(none.body.error.details.fields.compensatingMeasures).toHaveLength(1)
-    const unsigned = (await a.eng.get(url).expect(200)).body.items[0]
+    const unsigned = (await a.engineer.get(url).expect(200)).body.items[0]
     expect(unsigned).toMatchObject({ compensatingMeasures: null, measuresSignedBy: null })
 
-    const signed = (await a.sup.post(url, measures).expect(200)).body.items[0]
+    const signed = (await a.supervisor.post(url, measures).expect(200)).body.items[0]
     expect(signed).toMatchObject({
       compensatingMeasures: measures.compensatingMeasures,
       repairDeadline: '2026-06-12',
@@ -195,7 +179,9 @@ describe('the degraded state', () => {
     const retest = await tested(limit.id, '2026-06-11T09:00:00Z', { asFound: 782, asLeft: 780 }, { sign: false })
     expect(retest.passed).toBe(true)
     expect((await limitNow(limit.id)).protectionState).toBe('degraded')
-    await a.tech.post(`/api/trip-tests/${retest.id}/signatures`, { meaning: 'performed', password: PW }).expect(200)
+    await a.technician
+      .post(`/api/trip-tests/${retest.id}/signatures`, { meaning: 'performed', password: PW })
+      .expect(200)
     // due date = date of the passing retest + 12 months (docs/domain/due-dates.md)
     expect(await limitNow(limit.id)).toMatchObject({
       protectionState: 'in_service',
@@ -203,7 +189,7 @@ describe('the degraded state', () => {
       lastFullPass: '2026-06-11',
       testDueDate: '2027-06-11',
     })
-    const history = (await a.eng.get(`/api/limits/${limit.id}/degradation`).expect(200)).body.items
+    const history = (await a.engineer.get(`/api/limits/${limit.id}/degradation`).expect(200)).body.items
     expect(history[0]).toMatchObject({ testId: failed.id, clearedByTestId: retest.id })
     expect(history[0].clearedAt.startsWith('2026-06-11T10:0')).toBe(true)
   })

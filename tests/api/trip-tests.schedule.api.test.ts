@@ -20,7 +20,7 @@ const PW = DEMO_PASSWORD
 let smtp: FakeSmtp
 let app: Express
 const who = { eng: 'engineer', approver: 'approver', tech: 'technician', admin: 'admin', manager: 'manager' } as const
-const { as: a, signInAll } = crewAs(() => app, who)
+const { as: a, signInAll, signInAgain } = crewAs(() => app, who)
 let fhr = 0
 let smp = 0
 let areas: { id: number; siteId: number }[] = []
@@ -31,10 +31,7 @@ const L = { a: { id: 0, tag: '' }, b: { id: 0, tag: '' }, c: { id: 0, tag: '' } 
 /** Moves the clock; sessions end after 30 min idle on that clock, so everyone signs in again. */
 async function at(iso: string) {
   ctx.clock.set(iso)
-  for (const k of Object.keys(who) as (keyof typeof who)[]) {
-    await a[k].refreshCsrf()
-    await a[k].signIn(`${who[k]}@fernhollow.example`)
-  }
+  await signInAgain()
 }
 
 /** An active type K high trip at 780 °C (0–1200 °C) at Fernhollow with the given test interval, in the given area. */

@@ -119,14 +119,21 @@ export const DEMO_ACCOUNTS = [
 /**
  * Agents of demo accounts under the test's own names (`{ eng: 'engineer' }`), (re)signed in by `signInAll()`: moving
  * the clock by hours ends the sessions (idle limit), as it would in the plant. `app` is read at sign-in, so the app
- * may be created in beforeAll.
+ * may be created in beforeAll. `signInAgain()` signs the same agents in afresh (a new CSRF token, then the demo
+ * password), each keeping its cookie jar.
  */
 export function crewAs<const W extends Record<string, string>>(app: () => Express, who: W) {
   const as = {} as Record<keyof W, ApiAgent>
   async function signInAll() {
     Object.assign(as, await signedInAs(app(), who))
   }
-  return { as, signInAll }
+  async function signInAgain() {
+    for (const k of Object.keys(who) as (keyof W)[]) {
+      await as[k].refreshCsrf()
+      await as[k].signIn(`${who[k]}@fernhollow.example`)
+    }
+  }
+  return { as, signInAll, signInAgain }
 }
 
 /** As crewAs, each account under its role name. */
@@ -136,7 +143,8 @@ export function crewOf<const P extends readonly string[]>(app: () => Express, pe
 
 /**
  * Per test file: the app on the file's test database (useTestDb) and the demo accounts `people` (crewOf), made and
- * signed in before the file's tests, with the clock first set to `opts.at` where given.
+ * signed in before the file's tests, with the clock first set to `opts.at` where given. `at(iso)` moves the clock
+ * and signs everyone in again (sessions end after 30 min idle on that clock).
  */
 export function useSignedIn<const P extends readonly string[]>(
   ctx: TestContext,
@@ -150,5 +158,9 @@ export function useSignedIn<const P extends readonly string[]>(
     app = createApp(ctx)
     await crew.signInAll()
   })
-  return { ...crew, app: () => app }
+  async function at(iso: string) {
+    ctx.clock.set(iso)
+    await crew.signInAgain()
+  }
+  return { ...crew, app: () => app, at }
 }
