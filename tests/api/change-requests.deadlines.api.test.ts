@@ -9,8 +9,8 @@ import {
   approvedTemporaryChange,
   buildActiveHeaterTrip,
   implementChange,
-  submitChange,
   firstItemImplementation,
+  implementedEmergencyChange,
 } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -80,18 +80,7 @@ describe('change request deadlines job', () => {
 
   it('flags an emergency change implemented by the shift supervisor and still unapproved after 24 h, and tells approvers and the plant manager', async () => {
     await signInAll()
-    const { site, limit } = await buildActiveHeaterTrip(crew())
-    const cr = await submitChange(as.engineer, {
-      siteId: site.id,
-      type: 'emergency',
-      title: 'Lower trip after tube thinning found',
-      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 760 } }],
-    })
-    const done = (
-      await as.supervisor
-        .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, PW))
-        .expect(200)
-    ).body
+    const { cr, done } = await implementedEmergencyChange(crew(), as.supervisor, 'Lower trip after tube thinning found')
     expect(done).toMatchObject({ status: 'implemented', approvedAt: null, emergencyFlagged: false })
     const implementedAt = new Date(done.implementedAt).getTime()
 

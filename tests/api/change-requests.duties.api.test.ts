@@ -11,6 +11,7 @@ import {
   rowCounts,
   submitChange,
   firstItemImplementation,
+  implementedEmergencyChange,
 } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -123,18 +124,12 @@ describe('one person does not approve and implement the same change (common prac
       'shift_supervisor',
       'approver',
     ])
-    const { site, limit } = await buildActiveHeaterTrip(crew())
-    const cr = await submitChange(as.engineer, {
-      siteId: site.id,
-      type: 'emergency',
-      title: 'Lower trip at once after a hot spot',
-      items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 760 } }],
-    })
-    const done = (
-      await both.agent
-        .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, 'separate-duties-password'))
-        .expect(200)
-    ).body
+    const { cr, done } = await implementedEmergencyChange(
+      crew(),
+      both.agent,
+      'Lower trip at once after a hot spot',
+      'separate-duties-password',
+    )
     expect(done).toMatchObject({ status: 'implemented', approvedAt: null })
     const before = await rowCounts(ctx.db)
     const res = await both.agent.post(`/api/change-requests/${cr.id}/approvals`, {

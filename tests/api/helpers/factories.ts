@@ -401,6 +401,33 @@ export async function approvedTemporaryChange(
   return approveChange(crew.approvers, cr)
 }
 
+/**
+ * An emergency change lowering an active heater trip (buildActiveHeaterTrip) to 760 °C, submitted by the crew's
+ * engineer and implemented by `implementer` (a shift supervisor, signing with `password`) before anyone approves it
+ * (docs/change-requests.md#temporary-and-emergency-changes). Answers the submitted request and the implementation's
+ * answer.
+ */
+export async function implementedEmergencyChange(
+  crew: ChangeCrew,
+  implementer: ApiAgent,
+  title: string,
+  password: string = DEMO_PASSWORD,
+) {
+  const { site, limit } = await buildActiveHeaterTrip(crew)
+  const cr = await submitChange(crew.eng, {
+    siteId: site.id,
+    type: 'emergency',
+    title,
+    items: [{ kind: 'modify', limitId: limit.id, changes: { setpoint: 760 } }],
+  })
+  const done = (
+    await implementer
+      .post(`/api/change-requests/${cr.id}/implementations`, firstItemImplementation(cr, password))
+      .expect(200)
+  ).body
+  return { cr, done }
+}
+
 /** A change request carried all the way: submitted by the crew's engineer, approved, implemented with read-back. */
 export async function carryOutChange(crew: ChangeCrew, body: Record<string, unknown>) {
   return implementChange(crew.tech, await approveChange(crew.approvers, await submitChange(crew.eng, body)))
