@@ -4,7 +4,7 @@ import { createDb } from '../../server/db/index.ts'
 import { systemClock } from '../../server/clock.ts'
 import { seedDemoShiftHandover } from '../../server/seed/demo-shift-handover.ts'
 import { heaterThermocouple, heaterTripBody } from '../api/helpers/factories.ts'
-import { callApi, pageFor, readyToImplement, signInAs, testText, useBrowserApp } from './helpers.ts'
+import { callApi, fillIn, pageFor, readyToImplement, signInAs, testText, useBrowserApp } from './helpers.ts'
 
 // the other shift's supervisor, as the demo plant's own seed makes them: a handover needs an outgoing and an incoming one
 const app = useBrowserApp({
@@ -83,14 +83,11 @@ describe('bypasses in the browser', () => {
     expect(await text(operator, 'bypass-duration-limits')).toMatch(/Longest bypass of TSHH-5201\s*8 h/)
     expect(await operator.locator('[data-test="bypass-submit"]').isDisabled()).toBe(true)
     await operator.locator('[data-test="confirm-measures"] input').check()
-    await operator
-      .locator('[data-test="bypass-reason"] textarea')
-      .first()
-      .fill('Burner management work, work order WO-88123')
-    await operator.locator('[data-test="bypass-start"] input').fill('2026-05-04T08:00')
-    await operator.locator('[data-test="bypass-duration"] input').fill('9')
+    await fillIn(operator, 'bypass-reason', 'Burner management work, work order WO-88123')
+    await fillIn(operator, 'bypass-start', '2026-05-04T08:00')
+    await fillIn(operator, 'bypass-duration', '9')
     await poll(() => text(operator, 'bypass-duration')).toContain('At most 8 h for TSHH-5201')
-    await operator.locator('[data-test="bypass-duration"] input').fill('4')
+    await fillIn(operator, 'bypass-duration', '4')
     await poll(() => text(operator, 'bypass-end')).toBe('4 May 2026, 12:00 CEST')
     await operator.locator('[data-test="bypass-submit"]').click()
     await operator.waitForURL(/\/bypasses\/\d+$/)
@@ -106,10 +103,10 @@ describe('bypasses in the browser', () => {
     await supervisor.locator('[data-test="bypass-authorize"]').click()
     await supervisor.locator('[data-test="sign-dialog"]').waitFor()
     expect(await text(supervisor, 'sign-meaning')).toContain('By signing you authorize the bypass of TSHH-5201')
-    await supervisor.locator('[data-test="sign-password"] input').fill('not-my-password')
+    await fillIn(supervisor, 'sign-password', 'not-my-password')
     await supervisor.locator('[data-test="sign-confirm"]').click()
     await poll(() => text(supervisor, 'sign-error')).toContain('password')
-    await supervisor.locator('[data-test="sign-password"] input').fill(PW)
+    await fillIn(supervisor, 'sign-password', PW)
     await supervisor.locator('[data-test="sign-confirm"]').click()
     await supervisor.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
     await poll(() => text(supervisor, `bypass-status-${id}`)).toBe('Authorized')
@@ -205,11 +202,8 @@ describe('bypasses in the browser', () => {
     await outgoing.locator('[data-test="handover-hand-over"]').click()
     await outgoing.locator('[data-test="sign-dialog"]').waitFor()
     expect(await text(outgoing, 'sign-meaning')).toContain(`By signing you hand over ${a.name}, ${b.name}`)
-    await outgoing
-      .locator('[data-test="handover-notes"] textarea')
-      .first()
-      .fill('TSHH-5201 still bypassed and overdue: chase the burner crew at 07:00.')
-    await outgoing.locator('[data-test="sign-password"] input').fill(PW)
+    await fillIn(outgoing, 'handover-notes', 'TSHH-5201 still bypassed and overdue: chase the burner crew at 07:00.')
+    await fillIn(outgoing, 'sign-password', PW)
     await outgoing.locator('[data-test="sign-confirm"]').click()
     await outgoing.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
     const pending = outgoing.locator('[data-test^="handover-pending-"]').first()
@@ -227,7 +221,7 @@ describe('bypasses in the browser', () => {
     await accept.click()
     await incoming.locator('[data-test="sign-dialog"]').waitFor()
     expect(await text(incoming, 'sign-meaning')).toContain('By signing you take over')
-    await incoming.locator('[data-test="sign-password"] input').fill(PW)
+    await fillIn(incoming, 'sign-password', PW)
     await incoming.locator('[data-test="sign-confirm"]').click()
     await incoming.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
     await poll(() => text(incoming, 'handover-history')).toContain('Joren Ashcombe accepted')

@@ -2,7 +2,7 @@ import type { Page } from 'playwright-core'
 import { describe, expect, it } from 'vitest'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import { heaterThermocouple, heaterTripBody } from '../api/helpers/factories.ts'
-import { callApi, pageFor, readyToImplement, useBrowserApp } from './helpers.ts'
+import { callApi, fillIn, pageFor, readyToImplement, useBrowserApp } from './helpers.ts'
 
 const app = useBrowserApp()
 const call = <T = any>(page: Page, method: string, path: string, body?: unknown) =>
@@ -78,13 +78,10 @@ describe('management of change in the browser', () => {
     // The engineer proposes 790 °C from the limit and submits.
     await engineer.goto(`${app.baseUrl}/changes/new?limitId=${limitId}`)
     await poll(() => text(engineer, 'item-0-current-setpoint')).toContain('780 °C')
-    await engineer.locator('[data-test="change-title"] input').fill('Raise TSHH-4101 to 790 °C')
-    await engineer
-      .locator('[data-test="change-rationale"] textarea')
-      .first()
-      .fill('New tube metallurgy allows a higher trip; see the hazard review.')
-    await engineer.locator('[data-test="change-hazard"] input').fill('HAZOP-2026-031 action 4')
-    await engineer.locator('[data-test="change-field-setpoint"] input').fill('790')
+    await fillIn(engineer, 'change-title', 'Raise TSHH-4101 to 790 °C')
+    await fillIn(engineer, 'change-rationale', 'New tube metallurgy allows a higher trip; see the hazard review.')
+    await fillIn(engineer, 'change-hazard', 'HAZOP-2026-031 action 4')
+    await fillIn(engineer, 'change-field-setpoint', '790')
     await engineer.locator('[data-test="change-save-submit"]').click()
     await engineer.waitForURL(/\/changes\/\d+$/)
     const id = Number(new URL(engineer.url()).pathname.split('/').pop())
@@ -103,11 +100,11 @@ describe('management of change in the browser', () => {
     const dialog = approver.locator('[data-test="sign-dialog"]')
     await dialog.waitFor()
     expect(await text(approver, 'sign-meaning')).toContain('By signing you approve')
-    await approver.locator('[data-test="sign-password"] input').fill('not-my-password')
+    await fillIn(approver, 'sign-password', 'not-my-password')
     await approver.locator('[data-test="sign-confirm"]').click()
     await poll(() => text(approver, 'sign-error')).toContain('password is wrong')
     expect(await dialog.isVisible()).toBe(true)
-    await approver.locator('[data-test="sign-password"] input').fill(PW)
+    await fillIn(approver, 'sign-password', PW)
     await approver.locator('[data-test="sign-confirm"]').click()
     await dialog.waitFor({ state: 'hidden' })
     await poll(() => text(approver, 'cr-status')).toBe('Approved')
@@ -126,8 +123,8 @@ describe('management of change in the browser', () => {
     await technician.locator('[data-test="read-back-caution"]').waitFor()
     expect(await technician.locator('[data-test="read-back-fields"]').textContent()).not.toContain('790')
     expect(await technician.locator('[data-test="read-back-approved"]').count()).toBe(0)
-    await technician.locator('[data-test="read-back-input-setpoint"] input').fill('789.5')
-    await technician.locator('[data-test="sign-password"] input').fill(PW)
+    await fillIn(technician, 'read-back-input-setpoint', '789.5')
+    await fillIn(technician, 'sign-password', PW)
     expect(await technician.locator('[data-test="sign-confirm"]').isDisabled()).toBe(true)
     await technician.locator('[data-test="read-back-compare"]').click()
     const result = technician.locator('[data-test="read-back-result-setpoint"]')
@@ -142,11 +139,11 @@ describe('management of change in the browser', () => {
     await technician.locator('[data-test="read-back-input-setpoint"] input').waitFor()
     expect(await technician.locator('[data-test="read-back-input-setpoint"] input').inputValue()).toBe('')
     expect(await technician.locator('[data-test="read-back-approved"]').count()).toBe(0)
-    await technician.locator('[data-test="read-back-input-setpoint"] input').fill('790.00')
+    await fillIn(technician, 'read-back-input-setpoint', '790.00')
     await technician.locator('[data-test="read-back-compare"]').click()
     await technician.locator('[data-test="read-back-equal"]').waitFor()
     expect(await result.getAttribute('data-equal')).toBe('true')
-    await technician.locator('[data-test="sign-password"] input').fill(PW)
+    await fillIn(technician, 'sign-password', PW)
     await technician.locator('[data-test="sign-confirm"]').click()
     await technician.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
     await poll(() => text(technician, 'cr-status')).toBe('Implemented')
@@ -161,7 +158,7 @@ describe('management of change in the browser', () => {
     await engineer.locator('[data-test="check-na-safety_requirements"]').click()
     await engineer.locator('[data-test="check-na-confirm"]').click()
     await poll(() => text(engineer, 'check-na-dialog')).toContain('Say why the item does not apply')
-    await engineer.locator('[data-test="check-na-reason"] textarea').first().fill('Not a SIL-rated function')
+    await fillIn(engineer, 'check-na-reason', 'Not a SIL-rated function')
     await engineer.locator('[data-test="check-na-confirm"]').click()
     await poll(() => text(engineer, 'check-by-safety_requirements')).toContain(
       'Not applicable: Not a SIL-rated function · marked by Selma Rookwood',
@@ -172,10 +169,10 @@ describe('management of change in the browser', () => {
     )
     await poll(() => text(engineer, 'checklist-open-closeout')).toBe('Complete')
     await engineer.locator('[data-test="cr-close"]').click()
-    await engineer.locator('[data-test="pssr-reference"] input').fill('PSSR-2026-114')
-    await engineer.locator('[data-test="pssr-findings"] textarea').first().fill('Trip tested at 790 °C; no findings.')
+    await fillIn(engineer, 'pssr-reference', 'PSSR-2026-114')
+    await fillIn(engineer, 'pssr-findings', 'Trip tested at 790 °C; no findings.')
     await engineer.locator('[data-test="pssr-ready"] input').check()
-    await engineer.locator('[data-test="sign-password"] input').fill(PW)
+    await fillIn(engineer, 'sign-password', PW)
     await engineer.locator('[data-test="sign-confirm"]').click()
     await engineer.locator('[data-test="sign-dialog"]').waitFor({ state: 'hidden' })
     await poll(() => text(engineer, 'cr-status')).toBe('Closed')
@@ -207,7 +204,7 @@ describe('management of change in the browser', () => {
     expect(await text(engineer, `limit-change-row-${baselineId}`)).toContain('Put TSHH-4102 in service')
 
     // the test-signal card names its figures and lists each point once
-    await engineer.locator('[data-test="test-signal-cold-junction"] input').fill('25')
+    await fillIn(engineer, 'test-signal-cold-junction', '25')
     await engineer.locator('[data-test="test-signal-compute"]').click()
     await engineer.locator('[data-test="test-signal-components"]').waitFor()
     const card = (await text(engineer, 'test-signal')) ?? ''
@@ -225,7 +222,7 @@ describe('management of change in the browser', () => {
     await engineer.waitForURL(new RegExp(`/changes/new\\?limitId=${limitId}$`))
     await poll(() => text(engineer, 'item-0-current-setpoint')).toContain('780 °C')
     expect(await engineer.locator('[data-test="change-title"] input').inputValue()).toBe('Change TSHH-4102')
-    await engineer.locator('[data-test="change-field-setpoint"] input').fill('770')
+    await fillIn(engineer, 'change-field-setpoint', '770')
     await engineer.locator('[data-test="change-save-submit"]').click()
     await engineer.waitForURL(/\/changes\/\d+$/)
     const id = Number(new URL(engineer.url()).pathname.split('/').pop())

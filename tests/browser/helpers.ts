@@ -129,3 +129,11 @@ export function testText(page: Page, test: string): Promise<string | null> {
     .then((t) => t?.replace(/\s+/g, ' ').trim() ?? null)
     .catch(() => null)
 }
+
+/**
+ * Fills the text field or text area with this `data-test` with `value` (Playwright's fill: the value replaced at
+ * once). A Vuetify text area holds a hidden second one for its height: the first is the one shown.
+ */
+export function fillIn(page: Page, test: string, value: string) {
+  return page.locator(`[data-test="${test}"] :is(input, textarea)`).first().fill(value)
+}
