@@ -1,9 +1,7 @@
-import type { Express } from 'express'
 import pg from 'pg'
 import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { useSignedIn } from './helpers/agent.ts'
 import { buildHeaterTrip, ACTIVATE, countActionEvents } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -11,10 +9,8 @@ import { activateLimit } from './helpers/workflows.ts'
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor', 'operator'] as const
-type Who = (typeof PEOPLE)[number]
 
-let app: Express
-const as = {} as Record<Who, ApiAgent>
+const { as } = useSignedIn(ctx, PEOPLE, { at: '2026-05-11T06:00:00Z' })
 let limit: { id: number; siteId: number }
 
 const authorized = async (reason: string) => {
@@ -34,9 +30,6 @@ const statusOf = async (id: number) =>
   (await ctx.db.selectFrom('bypass').select('status').where('id', '=', id).executeTakeFirstOrThrow()).status
 
 beforeAll(async () => {
-  ctx.clock.set('2026-05-11T06:00:00Z')
-  app = createApp(ctx)
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
   limit = (await buildHeaterTrip(as.engineer)).limit
   await activateLimit({ eng: as.engineer, approver: as.approver, tech: as.technician }, limit)
 })

@@ -1,9 +1,7 @@
-import type { Express } from 'express'
 import type { Response } from 'supertest'
 import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { useSignedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import {
   draftChange,
@@ -18,10 +16,9 @@ import { activateLimit } from './helpers/workflows.ts'
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
 const PEOPLE = ['engineer', 'approver', 'technician', 'operator'] as const
-type Who = (typeof PEOPLE)[number]
 
-let app: Express
-const as = {} as Record<Who, ApiAgent>
+const T0 = '2026-05-18T06:00:00Z'
+const { as } = useSignedIn(ctx, PEOPLE, { at: T0 })
 let seq = 0
 
 interface Built {
@@ -87,7 +84,6 @@ async function refused(status: number, call: () => Promise<Response>) {
   return res.body.error as { code: string; message: string; details?: { fields: Record<string, string[]> } }
 }
 
-const T0 = '2026-05-18T06:00:00Z'
 const req = (limitId: number, extra: Record<string, unknown> = {}) =>
   as.operator.post('/api/bypasses', {
     limitId,
@@ -100,9 +96,6 @@ const req = (limitId: number, extra: Record<string, unknown> = {}) =>
 
 let trip: Built
 beforeAll(async () => {
-  ctx.clock.set(T0)
-  app = createApp(ctx)
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
   trip = await inService()
 })
 

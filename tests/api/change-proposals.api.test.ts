@@ -1,8 +1,5 @@
-import type { Express } from 'express'
-import { beforeAll, describe, expect, it } from 'vitest'
-import { createApp } from '../../server/app.ts'
-import type { ApiAgent } from './helpers/agent.ts'
-import { signedIn } from './helpers/agent.ts'
+import { describe, expect, it } from 'vitest'
+import { useSignedIn } from './helpers/agent.ts'
 import {
   draftChange,
   auditActions,
@@ -19,13 +16,7 @@ import { useTestDb } from './helpers/test-db.ts'
 // who raises and who develops is common practice.
 const ctx = useTestDb()
 const PEOPLE = ['engineer', 'approver', 'technician', 'supervisor', 'operator', 'auditor'] as const
-let app: Express
-const as = {} as Record<(typeof PEOPLE)[number], ApiAgent>
-
-beforeAll(async () => {
-  app = createApp(ctx)
-  for (const who of PEOPLE) as[who] = await signedIn(app, who)
-})
+const { as } = useSignedIn(ctx, PEOPLE)
 
 describe('change proposals', () => {
   it('are raised by operators, technicians and shift supervisors, not by approvers or auditors', async () => {
