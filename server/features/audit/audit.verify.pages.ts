@@ -5,9 +5,8 @@ import { linkHasher } from './audit.hash.ts'
 
 /**
  * Checks a page of the chain (its binary copy, audit.chain.ts `checkCopyPage`) against the checkpoint heads in it.
- * The page's memory is handed over: shared memory (`spare` of `startPageWorkers`) is shared with a worker thread and
- * given out again once the page is answered; any other page larger than Node's buffer pool is moved to the thread
- * with the whole memory it lies in. The caller must hold that memory for nothing else.
+ * The page's memory is handed over: a page larger than Node's buffer pool is moved to a worker thread with the whole
+ * memory it lies in, which the caller must hold for nothing else.
  */
 export type PageChecker = (page: Buffer, heads: number[]) => Promise<PageCheck>
 
