@@ -40,10 +40,10 @@ export class CopyOut {
 
   constructor(
     readonly text: string,
-    /** a guess of the data's size, to allocate once; or a buffer to read into (one it outgrows is replaced) */
-    into: number | Buffer = 1 << 20,
+    /** a guess of the data's size, to allocate once */
+    sizeHint = 1 << 20,
   ) {
-    this.out = typeof into === 'number' ? Buffer.allocUnsafe(into) : into
+    this.out = Buffer.allocUnsafe(sizeHint)
     this.done = new Promise((resolve, reject) => {
       this.resolve = resolve
       this.reject = reject
@@ -133,12 +133,9 @@ export class CopyOut {
   }
 }
 
-/**
- * Runs a `COPY … TO STDOUT` on a pool client and answers its data in one buffer (`CopyOut`): `into`, a guess of the
- * data's size or a buffer to read into, whose memory the answer then begins (unless the data outgrew it).
- */
-export function copyOut(client: pg.PoolClient, text: string, into?: number | Buffer): Promise<Buffer> {
-  const copy = new CopyOut(text, into)
+/** Runs a `COPY … TO STDOUT` on a pool client and answers its data in one buffer (`CopyOut`). */
+export function copyOut(client: pg.PoolClient, text: string, sizeHint?: number): Promise<Buffer> {
+  const copy = new CopyOut(text, sizeHint)
   void client.query(copy as unknown as pg.QueryConfig)
   return copy.done
 }

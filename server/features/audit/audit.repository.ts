@@ -353,22 +353,19 @@ async function pageRanges(db: Reader, size: number): Promise<PageRange[]> {
 /**
  * A page of the chain in chain order as PostgreSQL's binary copy of its events (audit.chain.ts, CHAIN_COLUMNS): one
  * stream of length-prefixed raw values, the cheapest form PostgreSQL writes rows in, read from the socket into one
- * buffer (server/db/copy-out.ts) that holds nothing else, so it can be handed to a worker thread whole: `into`, or
- * new memory of `pageBytes`.
+ * buffer (server/db/copy-out.ts) that holds nothing else, so it can be moved to a worker thread whole.
  */
-async function chainPage(client: pg.PoolClient, { from, to }: PageRange, into?: Buffer): Promise<Buffer> {
+async function chainPage(client: pg.PoolClient, { from, to }: PageRange): Promise<Buffer> {
   // COPY takes no parameters: the bounds are integers the walk computed, checked before they are written out
   if (!Number.isSafeInteger(from) || !Number.isSafeInteger(to)) throw new Error(`bad page ${from}..${to}`)
   return copyOut(
     client,
     `COPY (SELECT ${CHAIN_COLUMNS} FROM audit_event WHERE seq >= ${from} AND seq < ${to} ORDER BY seq) ` +
       'TO STDOUT (FORMAT binary)',
-    into ?? pageBytes({ from, to }),
+    // room for events of some hundred bytes each, most of it never touched (the buffer grows past it if need be)
+    Math.min(to - from, 20_000) * 1024,
   )
 }
-
-/** Room for a page's copy, events of some hundred bytes each, mostly never touched (it grows past it if need be). */
-const pageBytes = ({ from, to }: PageRange) => Math.min(to - from, 20_000) * 1024
 
 /** A page of unsealed events in id order after id `after`. */
 function unsealedPage(db: Reader, after: number, size: number): Promise<EventRow[]> {
@@ -464,7 +461,7 @@ async function walkInPages(
   const read = async (c: pg.PoolClient) => {
     for (let i = waiting.shift(); i !== undefined && !failed; i = waiting.shift()) {
       const page = i
-      const bytes = await chainPage(c, ranges[page], workers?.spare(pageBytes(ranges[page]))).catch((err: unknown) => {
+      const bytes = await chainPage(c, ranges[page]).catch((err: unknown) => {
         waiting.unshift(page) // another reader takes it
         throw err
       })

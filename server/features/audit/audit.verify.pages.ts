@@ -47,22 +47,16 @@ export function workerBundle(): Promise<string | null> {
 
 /**
  * `n` worker threads (server/features/audit/audit.verify.worker.ts) checking pages side by side, each page sent to the
- * thread with the fewest pages waiting, its bytes shared with or moved to the thread, not copied. A page whose thread
- * fails (it could not start, or died) answers "not intact", so the caller walks the chain again in one piece itself:
- * the walk's answer never depends on threads being available.
- *
- * `spare(size)` gives memory for the next page to be read into: shared memory (a SharedArrayBuffer) that the threads
- * see as it is and that is given out again once the page in it is answered. A walk so reuses a few pages' memory
- * instead of allocating some megabytes a page; memory moved between threads instead counts anew on each side until a
- * garbage collection, which it brings about every few pages.
+ * thread with the fewest pages waiting, its bytes moved to the thread, not copied. A page whose thread fails (it could
+ * not start, or died) answers "not intact", so the caller walks the chain again in one piece itself: the walk's answer
+ * never depends on threads being available.
  */
 export async function startPageWorkers(
   n: number,
   linkKey: Buffer,
-): Promise<{ check: PageChecker; spare: (size: number) => Buffer; close: () => Promise<void> }> {
+): Promise<{ check: PageChecker; close: () => Promise<void> }> {
   const code = await workerBundle()
   type Job = (r: PageCheck) => void
-  const spares: Buffer[] = []
   const workers = Array.from({ length: n }, () => {
     const workerData = { linkKey: new Uint8Array(linkKey) }
     const w = code
@@ -90,20 +84,14 @@ export async function startPageWorkers(
       if (!live.length) return Promise.resolve(UNCHECKED)
       const slot = live.reduce((a, b) => (b.jobs.size < a.jobs.size ? b : a))
       const id = next++
-      // shared memory (`spare`) is shared, and given out again once the page is answered; other memory is moved to the
-      // thread whole, unless it may hold other data (a small buffer, from Node's shared pool): that page is copied into
-      // its own first
-      const shared = page.buffer instanceof SharedArrayBuffer ? page.buffer : null
-      const own = shared || (page.byteOffset === 0 && page.length > Buffer.poolSize) ? page : new Uint8Array(page)
+      // the page's memory is moved to the thread whole, unless it may hold other data (a small buffer, from Node's
+      // shared pool): that page is copied into its own first
+      const own = page.byteOffset === 0 && page.length > Buffer.poolSize ? page : new Uint8Array(page)
       return new Promise<PageCheck>((resolve) => {
-        slot.jobs.set(id, (r) => {
-          if (shared) spares.push(Buffer.from(shared))
-          resolve(r)
-        })
-        slot.w.postMessage({ id, page: own, heads }, shared ? [] : [own.buffer as ArrayBuffer])
+        slot.jobs.set(id, resolve)
+        slot.w.postMessage({ id, page: own, heads }, [own.buffer as ArrayBuffer])
       })
     },
-    spare: (size) => spares.pop() ?? Buffer.from(new SharedArrayBuffer(size)),
     async close() {
       await Promise.all(workers.map((s) => s.w.terminate()))
     },
