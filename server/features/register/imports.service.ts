@@ -82,6 +82,7 @@ export {
   unpackedSize,
   ZIP_SIGNATURE,
 } from './import-file.ts'
+import { batchesOf } from '../../db/batches.ts'
 
 // ---- mapping headers to column keys ----
 
@@ -477,16 +478,10 @@ const splitTags = (v: string | undefined) =>
     .filter(Boolean)
 const processKey = (areaId: number, name: string) => `${areaId}|${name.toLowerCase()}`
 
-function chunks<T>(list: T[], size = 1000): T[][] {
-  const out: T[][] = []
-  for (let i = 0; i < list.length; i += size) out.push(list.slice(i, i + size))
-  return out
-}
-
 /** The site's instruments named in the file, by lower-case tag, locked for the rest of the transaction. */
 async function preloadInstruments(trx: Trx, siteId: number, tags: string[]): Promise<Map<string, InstrumentDto>> {
   const map = new Map<string, InstrumentDto>()
-  for (const chunk of chunks(tags)) {
+  for (const chunk of batchesOf(tags, 1000)) {
     const rows = await repo.lockInstrumentsByTags(trx, siteId, chunk)
     for (const r of rows) map.set(r.tag.toLowerCase(), toInstrument(r))
   }
@@ -496,7 +491,7 @@ async function preloadInstruments(trx: Trx, siteId: number, tags: string[]): Pro
 /** The site's limits named in the file, by lower-case tag, in the API shape, locked for the rest of the transaction. */
 async function preloadLimits(trx: Trx, siteId: number, tags: string[]): Promise<Map<string, Limit>> {
   const map = new Map<string, Limit>()
-  for (const chunk of chunks(tags)) {
+  for (const chunk of batchesOf(tags, 1000)) {
     const rows = await lockLimitsByTags(trx, siteId, chunk)
     const voted = await findInstrumentIdsByLimitIds(
       trx,

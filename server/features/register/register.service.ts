@@ -17,6 +17,7 @@ import { getLimit } from './limits.service.ts'
 import { toInstrument, toLimit } from './register.mappers.ts'
 import { getSitePolicy } from '../sites/sites.service.ts'
 import { ChangeCache, changeFeedOf } from '../../db/change-feed.ts'
+import { batchesOf } from '../../db/batches.ts'
 
 type LimitQuery = LimitListQuery
 const COUNT_CAP = 10_000
@@ -200,8 +201,8 @@ export async function exportRegister(deps: AppDeps, user: CurrentUser | null, q:
   const ids = new Map(rows.map((r) => [r.id, r.instrument_ids]))
   const instrumentIds = [...new Set([...ids.values()].flat())]
   const instruments = new Map<number, ReturnType<typeof toInstrument>>()
-  for (let i = 0; i < instrumentIds.length; i += 5000) {
-    const chunk = await repo.findInstrumentRows(deps.db, instrumentIds.slice(i, i + 5000))
+  for (const batch of batchesOf(instrumentIds, 5000)) {
+    const chunk = await repo.findInstrumentRows(deps.db, batch)
     for (const r of chunk) instruments.set(r.id, toInstrument(r))
   }
   const records: RegisterFileRow[] = rows.map((r) => {

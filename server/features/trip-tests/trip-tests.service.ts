@@ -64,6 +64,7 @@ import { policyOf } from '../sites/sites.service.ts'
 import { contentHash, listSignatures, signAs, signatureDto } from '../signatures/signatures.ts'
 import { findUsersWithRole, recipientsOf } from '../users/users.repository.ts'
 import * as repo from './trip-tests.repository.ts'
+import { batchesOf } from '../../db/batches.ts'
 
 type Trx = Transaction<Database>
 type Db = AppDeps['db'] | Trx
@@ -91,8 +92,8 @@ export async function refreshTestSchedule(trx: Db, limitId: number, now: Date) {
 
 /** Recomputes and stores the due dates and test statuses of many limits (a history import), 500 at a time. */
 export async function refreshTestSchedules(trx: Db, limitIds: number[], now: Date) {
-  for (let i = 0; i < limitIds.length; i += 500) {
-    const found = await computeSchedules(trx, limitIds.slice(i, i + 500), now)
+  for (const batch of batchesOf(limitIds, 500)) {
+    const found = await computeSchedules(trx, batch, now)
     await repo.updateLimitSchedules(
       trx,
       [...found].map(([limitId, r]) => ({ limitId, ...r })),
