@@ -28,3 +28,8 @@ export function messageOf(e: unknown): string {
   if (isApiError(e)) return e.message
   return e instanceof Error ? e.message : 'Something went wrong'
 }
+
+/** The sentence to show for an error that may not have happened: '' while there is none. */
+export function errorText(e: unknown): string {
+  return e ? messageOf(e) : ''
+}
