@@ -40,10 +40,10 @@ export class CopyOut {
 
   constructor(
     readonly text: string,
-    /** a guess of the data's size, to allocate once */
-    sizeHint = 1 << 20,
+    /** a buffer to fill (a larger one replaces it if the data does not fit), or a guess of the data's size */
+    into: Buffer | number = 1 << 20,
   ) {
-    this.out = Buffer.allocUnsafe(sizeHint)
+    this.out = typeof into === 'number' ? Buffer.allocUnsafe(into) : into
     this.done = new Promise((resolve, reject) => {
       this.resolve = resolve
       this.reject = reject
@@ -133,9 +133,12 @@ export class CopyOut {
   }
 }
 
-/** Runs a `COPY … TO STDOUT` on a pool client and answers its data in one buffer (`CopyOut`). */
-export function copyOut(client: pg.PoolClient, text: string, sizeHint?: number): Promise<Buffer> {
-  const copy = new CopyOut(text, sizeHint)
+/**
+ * Runs a `COPY … TO STDOUT` on a client and answers its data in one buffer (`CopyOut`): the start of `into` where it
+ * is given a buffer and the data fits in it.
+ */
+export function copyOut(client: pg.ClientBase, text: string, into?: Buffer | number): Promise<Buffer> {
+  const copy = new CopyOut(text, into)
   void client.query(copy as unknown as pg.QueryConfig)
   return copy.done
 }

@@ -4,7 +4,9 @@ import path from 'node:path'
 import pg from 'pg'
 import { afterAll, beforeAll, describe, expect, it } from 'vitest'
 import { dataHash, sealHash } from '../../server/features/audit/audit.hash.ts'
-import { linkOf } from '../../server/features/audit/audit.key.ts'
+import { linkOf, loadAuditKeys } from '../../server/features/audit/audit.key.ts'
+import { stitchPages } from '../../server/features/audit/audit.chain.ts'
+import { checkPagesInThreads } from '../../server/features/audit/audit.verify.pages.ts'
 import {
   appendAuditAlone,
   type CheckpointClaim,
@@ -197,6 +199,45 @@ function claimAt(all: Row[], seq: number): CheckpointClaim {
 }
 
 describe('the chain walked in pages by worker threads', () => {
+  it('has every page read and checked by the threads, on connections of their own in the snapshot given', async () => {
+    const all = await rows()
+    const client = await ctx.pool.connect()
+    try {
+      await client.query('BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY')
+      const { rows: exported } = await client.query<{ id: string }>('SELECT pg_export_snapshot() AS id')
+      // an event appended after the snapshot was taken is not seen by the threads
+      await appendAuditAlone(ctx.db, ctx.clock, noActor, { action: 'test.later', entityType: 'System', entityId: 0 })
+      await sealAll(ctx.db, ctx.clock)
+      const pages = Array.from({ length: Math.ceil(all.length / PAGE) }, (_, i) => ({
+        from: i * PAGE + 1,
+        to: (i + 1) * PAGE + 1,
+        heads: [],
+      }))
+      const checks = await checkPagesInThreads(2, {
+        pages,
+        linkKey: new Uint8Array(loadAuditKeys().linkKey),
+        connectionString: ctx.database.appUrl,
+        snapshot: exported[0].id,
+      })
+      // a page no thread checked would answer not intact (and leave the walk to the one-piece walk)
+      expect(checks.map((c) => c.ok)).toEqual(pages.map(() => true))
+      expect(
+        stitchPages(
+          checks,
+          pages.map(() => []),
+        ),
+      ).toMatchObject({
+        lastSeq: all.length,
+        checked: all.length,
+        prev: all.at(-1)!.hash,
+      })
+    } finally {
+      await client.query('COMMIT')
+      client.release()
+    }
+    expect((await rows()).length).toBe(all.length + 1)
+  })
+
   it('finds an intact chain intact, with the same head and count as the walk in one piece', async () => {
     const all = await rows()
     expect(all.length).toBeGreaterThan(4 * PAGE)

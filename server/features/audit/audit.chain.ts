@@ -39,6 +39,58 @@ export interface ChainRow extends EventRow {
 export const CHAIN_COLUMNS = `seq, id, occurred_at, actor_id, action, entity_type, entity_id, before, after, reason,
   batch_id::text, request_id, ip, site_id, data_hash, prev_hash, hash, link`
 const CHAIN_FIELDS = 18
+/** A page of the chain: the sealed events with chain positions in [from, to). */
+export interface PageRange {
+  from: number
+  to: number
+}
+
+/**
+ * The statement that copies a page of the chain in chain order, in PostgreSQL's binary format: one stream of
+ * length-prefixed raw values, the cheapest form PostgreSQL writes rows in (read by server/db/copy-out.ts).
+ */
+export function chainPageCopy({ from, to }: PageRange): string {
+  // COPY takes no parameters: the bounds are integers the walk computed, checked before they are written out
+  if (!Number.isSafeInteger(from) || !Number.isSafeInteger(to)) throw new Error(`bad page ${from}..${to}`)
+  return (
+    `COPY (SELECT ${CHAIN_COLUMNS} FROM audit_event WHERE seq >= ${from} AND seq < ${to} ORDER BY seq) ` +
+    'TO STDOUT (FORMAT binary)'
+  )
+}
+
+/** Room for a page's copy: events of some hundred bytes each (the buffer grows past it if need be). */
+export const pageRoom = ({ from, to }: PageRange) => Math.min(to - from, 20_000) * 1024
+
+/**
+ * The pages of a walk as the threads that check them share them (server/features/audit/audit.verify.worker.ts): each
+ * page's range and the checkpoint heads within it, and a counter in shared memory, so that each thread takes the next
+ * page not yet taken, in chain order, until none is left or a page was found broken.
+ */
+export interface PageWork {
+  pages: (PageRange & { heads: number[] })[]
+  /** [the next page to take, 1 once a page was found broken], over a SharedArrayBuffer */
+  control: Int32Array
+  linkKey: Uint8Array
+  connectionString: string | undefined
+  /** the walk's snapshot (pg_export_snapshot) */
+  snapshot: string
+}
+
+/** What a thread sends: a page's check, or that it has stopped (with why, when it failed). */
+export type PageMessage = { page: number; result: PageCheck } | { done: true; error?: string }
+
+/** The next page to check, or -1 when none is left or a page was found broken. */
+export function takePage(work: PageWork): number {
+  if (Atomics.load(work.control, 1)) return -1
+  const page = Atomics.add(work.control, 0, 1)
+  return page < work.pages.length ? page : -1
+}
+
+/** No page is taken after this: one was found broken, the walk is made again in one piece. */
+export function stopTaking(work: PageWork): void {
+  Atomics.store(work.control, 1, 1)
+}
+
 /** Each column's place in a row of the copy. */
 const F = {
   seq: 0,

@@ -8,21 +8,24 @@ import { batchesOf } from '../../db/batches.ts'
 import { availableParallelism } from 'node:os'
 import {
   advance,
-  CHAIN_COLUMNS,
+  chainPageCopy,
   type CheckpointClaim,
+  checkCopyPage,
   dataOf,
   contentProblem,
   type EventRow,
   genesisState,
   linkProblem,
   type PageCheck,
+  type PageRange,
+  pageRoom,
   rowsOfCopy,
   stitchPages,
   type WalkState,
 } from './audit.chain.ts'
 import { dataHash, GENESIS_HASH, sealHash } from './audit.hash.ts'
 import { type AuditKeys, linkHasher, loadAuditKeys } from './audit.key.ts'
-import { checkPageHere, startPageWorkers, workerBundle } from './audit.verify.pages.ts'
+import { checkPagesInThreads, workerBundle } from './audit.verify.pages.ts'
 import { AUDIT_ENTITY_SITE, type AuditEntityType } from './audit.sites.ts'
 import { likeEscape } from '../../authorize.ts'
 import { NOTICE_RECIPIENTS } from '../../../shared/abilities/notices.ts'
@@ -321,12 +324,6 @@ export { recordedFields } from './audit.chain.ts'
 
 type Reader = Db | Transaction<Database>
 
-/** A page of the chain: the sealed events with chain positions in [from, to). */
-interface PageRange {
-  from: number
-  to: number
-}
-
 /**
  * Pages of `size` chain positions covering every sealed event (at least one page): positions are gap-free, so each page
  * holds `size` events (fewer where events are missing).
@@ -351,20 +348,11 @@ async function pageRanges(db: Reader, size: number): Promise<PageRange[]> {
 }
 
 /**
- * A page of the chain in chain order as PostgreSQL's binary copy of its events (audit.chain.ts, CHAIN_COLUMNS): one
- * stream of length-prefixed raw values, the cheapest form PostgreSQL writes rows in, read from the socket into one
- * buffer (server/db/copy-out.ts) that holds nothing else, so it can be moved to a worker thread whole.
+ * A page of the chain in chain order as PostgreSQL's binary copy of its events (audit.chain.ts, CHAIN_COLUMNS), read
+ * from the socket into one buffer (server/db/copy-out.ts).
  */
-async function chainPage(client: pg.PoolClient, { from, to }: PageRange): Promise<Buffer> {
-  // COPY takes no parameters: the bounds are integers the walk computed, checked before they are written out
-  if (!Number.isSafeInteger(from) || !Number.isSafeInteger(to)) throw new Error(`bad page ${from}..${to}`)
-  return copyOut(
-    client,
-    `COPY (SELECT ${CHAIN_COLUMNS} FROM audit_event WHERE seq >= ${from} AND seq < ${to} ORDER BY seq) ` +
-      'TO STDOUT (FORMAT binary)',
-    // room for events of some hundred bytes each, most of it never touched (the buffer grows past it if need be)
-    Math.min(to - from, 20_000) * 1024,
-  )
+function chainPage(client: pg.PoolClient, range: PageRange): Promise<Buffer> {
+  return copyOut(client, chainPageCopy(range), pageRoom(range))
 }
 
 /** A page of unsealed events in id order after id `after`. */
@@ -390,8 +378,9 @@ const PARALLEL_FROM_PAGES = 3
  * `clock`) is reported, since the sealer should have linked it.
  *
  * Everything is read in one snapshot (REPEATABLE READ). The chain comes in pages of `pageSize` chain positions, each
- * PostgreSQL's binary copy of its events; a long chain's pages are read over two connections sharing the snapshot
- * (pg_export_snapshot) and checked by `workers` threads side by side, each page on its own, then joined: each page's
+ * PostgreSQL's binary copy of its events; a long chain's pages are read and checked by `workers` threads side by
+ * side, each on a connection of its own sharing the snapshot (pg_export_snapshot), each page on its own, then joined:
+ * each page's
  * first event must tie to the page before and each checkpoint hold where its head lies (audit.chain.ts, stitchPages).
  * Every event is hashed again with the key, whatever the pages. When anything fails, the chain is walked again in one
  * piece in the same snapshot to name the first problem. `db` must come from createDb (its pool sends the COPY).
@@ -436,8 +425,9 @@ export async function verifyAuditChain(
 }
 
 /**
- * The pages read over `client` and, when threads are used, one more connection on the same snapshot, checked each on
- * its own and joined; the walk's end, or null when anything failed.
+ * The pages checked each on its own and joined: by `threads` worker threads, each reading the pages it takes over a
+ * connection of its own in this walk's snapshot (pg_export_snapshot), or, with none, read over `client` and checked in
+ * this thread page after page. The walk's end, or null when anything failed.
  */
 async function walkInPages(
   pool: pg.Pool,
@@ -452,62 +442,27 @@ async function walkInPages(
   const claims = ranges.map(({ from, to }, i) =>
     checkpoints.filter((c) => (i === 0 || c.headSeq >= from) && (i === last || c.headSeq < to)),
   )
-  const workers = threads > 0 ? await startPageWorkers(threads, linkKey) : null
-  const check = workers?.check ?? checkPageHere(linkKey)
-  const results: Promise<PageCheck>[] = []
-  const waiting = ranges.map((_, i) => i)
-  let failed = false
-  // each reader takes the next page, reads it and hands it to the checks; a failed check stops the reading
-  const read = async (c: pg.PoolClient) => {
-    for (let i = waiting.shift(); i !== undefined && !failed; i = waiting.shift()) {
-      const page = i
-      const bytes = await chainPage(c, ranges[page]).catch((err: unknown) => {
-        waiting.unshift(page) // another reader takes it
-        throw err
-      })
-      results[page] = check(
-        bytes,
-        claims[page].map((cp) => cp.headSeq),
-      ).then((r) => {
-        if (!r.ok) failed = true
-        return r
-      })
-      // at most a page or two read ahead of each thread (each page's copy is some megabytes)
-      if (workers && page > 2 * threads) await results[page - 2 * threads - 1]
-    }
+  const heads = claims.map((c) => c.map((cp) => cp.headSeq))
+  if (threads > 0) {
+    const { rows } = await client.query<{ id: string }>('SELECT pg_export_snapshot() AS id')
+    const snapshot = rows[0].id
+    // a snapshot id is hex digits and dashes; SET TRANSACTION SNAPSHOT takes a literal only
+    if (!/^[0-9A-F-]+$/i.test(snapshot)) throw new Error(`unexpected snapshot id ${snapshot}`)
+    const checks = await checkPagesInThreads(threads, {
+      pages: ranges.map((r, i) => ({ ...r, heads: heads[i] })),
+      linkKey: new Uint8Array(linkKey),
+      connectionString: pool.options.connectionString,
+      snapshot,
+    })
+    return stitchPages(checks, claims)
   }
-  try {
-    // a second reader on the same snapshot; the walk does without it when no connection comes (a busy pool or server)
-    const helper = workers
-      ? client
-          .query<{ id: string }>('SELECT pg_export_snapshot() AS id')
-          .then(async ({ rows: [{ id }] }) => {
-            // a snapshot id is hex digits and dashes; SET TRANSACTION SNAPSHOT takes a literal only
-            if (!/^[0-9A-F-]+$/i.test(id)) throw new Error(`unexpected snapshot id ${id}`)
-            if (!waiting.length || failed) return
-            const second = await pool.connect()
-            let healthy = false
-            try {
-              if (!waiting.length || failed) return
-              await second.query('BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY')
-              await second.query(`SET TRANSACTION SNAPSHOT '${id}'`)
-              await read(second)
-              await second.query('COMMIT')
-              healthy = true
-            } finally {
-              second.release(!healthy)
-            }
-          })
-          .catch(() => {})
-      : Promise.resolve()
-    await read(client)
-    await helper
-    await read(client) // what the second reader handed back
-    if (failed) return null
-    return stitchPages(await Promise.all(results), claims)
-  } finally {
-    await workers?.close()
+  const link = linkHasher(linkKey)
+  const checks: PageCheck[] = []
+  for (let i = 0; i < ranges.length; i++) {
+    checks.push(checkCopyPage(await chainPage(client, ranges[i]), heads[i], link))
+    if (!checks[i].ok) return null
   }
+  return stitchPages(checks, claims)
 }
 
 /** The walk in one piece, page after page in this thread, naming the first problem exactly. */
