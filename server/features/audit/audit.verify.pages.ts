@@ -1,17 +1,19 @@
 import { Worker } from 'node:worker_threads'
+import { createRequire } from 'node:module'
 import { fileURLToPath } from 'node:url'
 import { type PageCheck, type PageMessage, type PageWork, stopTaking } from './audit.chain.ts'
 
 /** What a page answers that no thread checked: not intact, so the walk is made again in one piece in the caller. */
 const UNCHECKED: PageCheck = { ok: false, first: null, end: null, marks: [] }
 
+const require = createRequire(import.meta.url)
 let bundle: Promise<string | null> | null = null
 
 /**
- * The worker's code (server/features/audit/audit.verify.worker.ts and what it imports: plain functions, pg and node:
- * built-ins) bundled once per process by esbuild into one CommonJS script, so that a thread starts in milliseconds
- * instead of loading tsx (a second or so of CPU per thread). Null when it cannot be bundled: the threads then load
- * the TypeScript sources through tsx, as the app itself runs.
+ * The worker's code (server/features/audit/audit.verify.worker.ts and what it imports: plain functions and node:
+ * built-ins; pg is loaded from node_modules) bundled once per process by esbuild into one CommonJS script, so that a
+ * thread starts in milliseconds instead of loading tsx (a second or so of CPU per thread). Null when it cannot be
+ * bundled: the threads then load the TypeScript sources through tsx, as the app itself runs.
  */
 export function workerBundle(): Promise<string | null> {
   bundle ??= import('esbuild')
@@ -23,8 +25,14 @@ export function workerBundle(): Promise<string | null> {
         format: 'cjs',
         target: `node${process.versions.node.split('.')[0]}`,
         write: false,
-        // pg's optional native binding and its Cloudflare socket are never loaded here
-        external: ['pg-native', 'pg-cloudflare'],
+        // pg stays out of the script (bundling it costs more than the rest): the thread loads it as the app does, from
+        // the path it resolves to here, whatever the thread's working directory
+        plugins: [
+          {
+            name: 'pg-from-here',
+            setup: (b) => b.onResolve({ filter: /^pg$/ }, () => ({ path: require.resolve('pg'), external: true })),
+          },
+        ],
         logLevel: 'silent',
       }),
     )
