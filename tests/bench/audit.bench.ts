@@ -166,22 +166,25 @@ async function unsealed(db: Db): Promise<number> {
 function serverCpuSeconds(dataDir: string): number | null {
   try {
     const postmaster = Number(readFileSync(path.join(dataDir, 'postmaster.pid'), 'utf8').split('\n')[0])
+    // fields after the command's closing parenthesis: state, ppid, ..., utime (12th), stime (13th), and the CPU of the
+    // children it has reaped (14th, 15th)
+    const fields = (pid: string) => {
+      const stat = readFileSync(`/proc/${pid}/stat`, 'utf8')
+      return stat.slice(stat.lastIndexOf(')') + 2).split(' ')
+    }
     let ticks = 0
     for (const entry of readdirSync('/proc')) {
-      if (!/^\d+$/.test(entry)) continue
-      let stat: string
+      if (!/^\d+$/.test(entry) || Number(entry) === postmaster) continue
       try {
-        stat = readFileSync(`/proc/${entry}/stat`, 'utf8')
+        const f = fields(entry)
+        if (Number(f[1]) === postmaster) ticks += Number(f[11]) + Number(f[12])
       } catch {
-        continue // ended meanwhile
+        // ended and reaped meanwhile: counted with the postmaster's reaped children below
       }
-      // fields after the command's closing parenthesis: state, ppid, ..., utime (12th), stime (13th), and the CPU of
-      // the children it has reaped (14th, 15th): a backend that ended meanwhile counts through the postmaster
-      const f = stat.slice(stat.lastIndexOf(')') + 2).split(' ')
-      if (Number(entry) === postmaster) ticks += Number(f[11]) + Number(f[12]) + Number(f[13]) + Number(f[14])
-      else if (Number(f[1]) === postmaster) ticks += Number(f[11]) + Number(f[12])
     }
-    return ticks / 100
+    // the postmaster last, so that a backend that ended while its siblings were read counts through it
+    const f = fields(String(postmaster))
+    return (ticks + Number(f[11]) + Number(f[12]) + Number(f[13]) + Number(f[14])) / 100
   } catch {
     return null
   }
