@@ -145,6 +145,9 @@ export const http = {
   delete: <T>(url: string) => api<T>('DELETE', url),
 }
 
+/** Address of one of a record's attachments (a download: GET `<record>/attachments/<id>`). */
+export const attachmentUrlOf = (record: string, attachmentId: number) => `/api${record}/attachments/${attachmentId}`
+
 /** Uploads a record's attachment (POST `<record>/attachments`, the file as `file`) and reports its progress (0…1). */
 export function uploadAttachmentOf(record: string, file: File, onProgress: (fraction: number) => void) {
   const form = new FormData()

@@ -16,7 +16,7 @@ import type {
 } from '@shared/schemas/change-requests.ts'
 import type { ListResult } from '@shared/schemas/common.ts'
 import type { Instrument, Limit } from '@shared/schemas/register.ts'
-import { api, http, uploadAttachmentOf } from '@/api/client'
+import { api, http } from '@/api/client'
 
 export type { ChangeListItem, ChangeRequestBody, ChangeType, ChangeView }
 
@@ -92,13 +92,6 @@ export const listChangeAuditEvents = (id: number) =>
 
 /** Address of the request's PDF print. */
 export const changeRequestPdfUrl = (id: number) => `/api/change-requests/${id}/pdf`
-/** Address of one attachment (a download). */
-export const attachmentUrl = (id: number, attachmentId: number) =>
-  `/api/change-requests/${id}/attachments/${attachmentId}`
-
-/** Uploads an attachment and reports the upload's progress (0…1). */
-export const uploadAttachment = (id: number, file: File, onProgress: (fraction: number) => void) =>
-  uploadAttachmentOf(`/change-requests/${id}`, file, onProgress)
 
 // The register's records, as the change form and the request page need them.
 export const listLimitsForChange = (query: { siteId: number; status: 'proposed' | 'active'; q?: string }) =>

@@ -19,7 +19,7 @@ import type {
   TripTestListItem,
   TripTestListParams,
 } from '@shared/schemas/trip-tests.ts'
-import { api, http, toQuery, uploadAttachmentOf } from '@/api/client'
+import { api, http, toQuery } from '@/api/client'
 
 export type TestStatus = Limit['testStatus']
 export type { SignatureMeaning } from '@shared/schemas/trip-tests.ts'
@@ -75,12 +75,6 @@ export const exportUrl = (query: Pick<TripTestListParams, 'siteId' | 'limitId'>)
   `/api/trip-tests/export${toQuery(query)}`
 /** Address of a record's PDF certificate (a download). */
 export const certificateUrl = (id: number) => `/api/trip-tests/${id}/certificate`
-/** Address of one attachment (a download). */
-export const attachmentUrl = (id: number, attachmentId: number) => `/api/trip-tests/${id}/attachments/${attachmentId}`
-
-/** Uploads an attachment and reports the upload's progress (0…1). */
-export const uploadAttachment = (id: number, file: File, onProgress: (fraction: number) => void) =>
-  uploadAttachmentOf(`/trip-tests/${id}`, file, onProgress)
 
 // Test deferrals (docs/trip-tests.md#test-deferrals)
 export const listDeferrals = (query: TestDeferralListParams) =>
