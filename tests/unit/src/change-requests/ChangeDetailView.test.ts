@@ -180,6 +180,57 @@ describe('ChangeDetailView: buttons follow the change-request rule book', () => 
   })
 })
 
+// The notices above the facts (docs/change-requests.md): one for each case that holds, in the page's order.
+describe('ChangeDetailView: notices', () => {
+  const NOTICES = [
+    'approve-blocked',
+    'cr-signature-mismatch',
+    'cr-approval-expired',
+    'cr-emergency-alert',
+    'cr-expired-alert',
+  ]
+  /** The notices shown, in the page's order. */
+  const notices = (w: Wrapper) =>
+    w
+      .findAll('[data-test]')
+      .map((a) => a.attributes('data-test'))
+      .filter((t) => NOTICES.includes(t ?? ''))
+
+  it('a changed content, an expired approval and an expired temporary change each show their notice', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const cr = request('approved', {
+      type: 'temporary',
+      temporaryState: 'expired',
+      expiresAt: at(-3),
+      approvalExpiresAt: at(-1),
+      signatures: [{ ...approvedBy(PROPOSER), matchesContent: false }] as ChangeRequestDto['signatures'],
+    })
+    const w = await open(cr, ['safety_engineer'])
+    expect(notices(w)).toEqual(['cr-signature-mismatch', 'cr-approval-expired', 'cr-expired-alert'])
+    expect(w.find('[data-test="cr-expired-alert"]').text()).toContain('passed its end')
+  })
+
+  it('an emergency change not yet approved says it must be approved within 24 hours', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const cr = request('implemented', {
+      type: 'emergency',
+      approvedAt: null,
+      approvalsHeld: 0,
+      approvalExpiresAt: null,
+    })
+    const w = await open(cr, ['safety_engineer'])
+    expect(notices(w)).toEqual(['cr-emergency-alert'])
+    expect(w.find('[data-test="cr-emergency-alert"]').text()).toContain('approved within 24 hours of submission')
+  })
+
+  it('a request in order shows none', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const w = await open(request('approved'), ['safety_engineer'])
+    expect(w.find('[data-test="cr-title"]').text()).toBe('Lower the heater outlet trip')
+    expect(notices(w)).toEqual([])
+  })
+})
+
 // The limit page lists the requests touching its limit under changeRequestKeys.limit (Pinia Colada). Every write on
 // the request's page, not only the workflow steps, must make that list be asked again, or the limit page would show a
 // request as it was before. The limit page's panel is mounted beside the request's page, as when both were visited.
