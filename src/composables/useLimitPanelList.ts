@@ -10,7 +10,7 @@ export function useLimitPanelList<I>(options: {
   key: () => EntryKey
   query: () => Promise<{ items: I[]; total: number }>
   /** The sentence when the records cannot be loaded; the API's message unless said. */
-  errorText?: string
+  failedText?: string
 }) {
   const query = useQuery({ key: options.key, query: options.query })
   const items = computed(() => query.data.value?.items ?? [])
@@ -18,7 +18,7 @@ export function useLimitPanelList<I>(options: {
   const panel = computed(() => ({
     total: total.value,
     loading: query.isLoading.value,
-    error: query.error.value ? (options.errorText ?? messageOf(query.error.value)) : '',
+    error: query.error.value ? (options.failedText ?? messageOf(query.error.value)) : '',
     hasItems: items.value.length > 0,
   }))
   return { query, items, total, panel }
