@@ -1,6 +1,6 @@
 import { type EntryKey, useQuery } from '@pinia/colada'
 import { computed } from 'vue'
-import { messageOf } from '@/api/errors'
+import { errorText } from '@/api/errors'
 
 // The records a panel of the limit page lists (its change requests, its proposals): one page of them through Pinia
 // Colada under the caller's key, and the panel's state for AppLimitPanel (`v-bind="panel"`: the count on record, the
@@ -18,7 +18,7 @@ export function useLimitPanelList<I>(options: {
   const panel = computed(() => ({
     total: total.value,
     loading: query.isLoading.value,
-    error: query.error.value ? (options.failedText ?? messageOf(query.error.value)) : '',
+    error: query.error.value && options.failedText ? options.failedText : errorText(query.error.value),
     hasItems: items.value.length > 0,
   }))
   return { query, items, total, panel }

@@ -1,6 +1,6 @@
 import { type EntryKey, toCacheKey, useQuery, useQueryCache } from '@pinia/colada'
 import { computed } from 'vue'
-import { messageOf } from '@/api/errors'
+import { errorText } from '@/api/errors'
 
 // The record of a detail screen, loaded through Pinia Colada under its resource's key. `changed` takes the answer of
 // a mutation (the record as it is now): it goes into the cache and the resource's other queries (its lists) are
@@ -23,7 +23,7 @@ export function useRecord<T extends { id: number }>(
     query: () => query(Number(id())),
   })
   /** why the record could not be loaded, as a sentence ('' while it could) */
-  const loadError = computed(() => (error.value ? messageOf(error.value) : ''))
+  const loadError = computed(() => errorText(error.value))
   const queryCache = useQueryCache()
   function changed(record: T) {
     const own = keys.one(record.id)
