@@ -14,9 +14,8 @@ import {
   submitChangeRequest,
 } from '../features/change-requests/change-requests.service.ts'
 import { createProposal, declineProposal } from '../features/change-proposals/change-proposals.service.ts'
-import { TripTestInputSchema } from '../../shared/schemas/trip-tests.ts'
-import { createTripTest, signDegradationMeasures, signTripTest } from '../features/trip-tests/trip-tests.service.ts'
-import { demoActors, demoPrecautions } from './demo-actors.ts'
+import { signDegradationMeasures, signTripTest } from '../features/trip-tests/trip-tests.service.ts'
+import { demoActors, demoPrecautions, recordProvingTest } from './demo-actors.ts'
 import { seedDemoAlarms } from './demo-alarms.ts'
 import { seedDemoHistory } from './demo-history.ts'
 import { seedDemoDemands } from './demo-demands.ts'
@@ -62,42 +61,19 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
   for (const [i, l] of plain.slice(0, 12).entries()) {
     const performedAt = new Date(now - (20 + i * 25) * DAY).toISOString()
     const setpoint = Number(l.setpoint)
-    const t = await createTripTest(
-      deps,
-      tech.ability,
-      tech.ctx,
-      TripTestInputSchema.parse({
-        limitId: l.id,
-        kind: 'full',
-        method: 'injection',
-        injectionPoint: 'sensor',
-        sourceMode: l.signal.kind === 'thermocouple' ? 'tc_simulate' : null,
-        coldJunctionC: null,
-        procedureRef: 'FHR-MP-017 limit proving',
-        deviceSerial: `SN-${4100 + i}`,
-        calibratorId: 'CAL-FHR-03',
-        calibratorDueDate: calibratorDue,
-        workOrder: `WO-26-${3300 + i}`,
-        bypassId: null,
-        performedAt,
-        tolerance: null,
-        toleranceUnit: 'percent_span',
-        asFound: setpoint,
-        asFoundSignal: null,
-        noTrip: false,
-        asLeft: null,
-        resetValue: null,
-        latchHeld: true,
-        resetRefusedWhileActive: true,
-        resetAcceptedAfterReturn: true,
-        finalElementOk: true,
-        responseTimeSec: null,
-        setpointRestoredReadBack: null,
-        notes: 'Tripped at setpoint; reset checked.',
-        precautions: demoPrecautions(`PTW-26-${5100 + i}`),
-      }),
-    )
-    await signTripTest(deps, tech.ability, tech.ctx, t.id, 'performed', DEMO_PASSWORD, '')
+    const t = await recordProvingTest(deps, tech, {
+      limitId: l.id,
+      injectionPoint: 'sensor',
+      sourceMode: l.signal.kind === 'thermocouple' ? 'tc_simulate' : null,
+      deviceSerial: `SN-${4100 + i}`,
+      calibratorId: 'CAL-FHR-03',
+      calibratorDueDate: calibratorDue,
+      workOrder: `WO-26-${3300 + i}`,
+      performedAt,
+      asFound: setpoint,
+      notes: 'Tripped at setpoint; reset checked.',
+      precautions: demoPrecautions(`PTW-26-${5100 + i}`),
+    })
     if (i % 2 === 0) {
       await signTripTest(deps, tech.ability, tech.ctx, t.id, 'returned_to_service', DEMO_PASSWORD, '')
       await signTripTest(deps, sup.ability, sup.ctx, t.id, 'accepted', DEMO_PASSWORD, 'Equipment back in service')
@@ -109,42 +85,18 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
   if (failing) {
     const span = Number(failing.range_high) - Number(failing.range_low)
     const late = Number(failing.setpoint) + 0.03 * span * 1
-    const t = await createTripTest(
-      deps,
-      tech.ability,
-      tech.ctx,
-      TripTestInputSchema.parse({
-        limitId: failing.id,
-        kind: 'full',
-        method: 'injection',
-        injectionPoint: 'transmitter_output',
-        sourceMode: null,
-        coldJunctionC: null,
-        procedureRef: 'FHR-MP-017 limit proving',
-        deviceSerial: 'SN-4199',
-        calibratorId: 'CAL-FHR-03',
-        calibratorDueDate: calibratorDue,
-        workOrder: 'WO-26-3399',
-        bypassId: null,
-        performedAt: new Date(now - 3 * DAY).toISOString(),
-        tolerance: null,
-        toleranceUnit: 'percent_span',
-        asFound: Math.round(late * 100) / 100,
-        asFoundSignal: null,
-        noTrip: false,
-        asLeft: null,
-        resetValue: null,
-        latchHeld: true,
-        resetRefusedWhileActive: true,
-        resetAcceptedAfterReturn: true,
-        finalElementOk: true,
-        responseTimeSec: null,
-        setpointRestoredReadBack: null,
-        notes: 'Tripped late; transmitter drift suspected. Replacement ordered.',
-        precautions: demoPrecautions('PTW-26-5199'),
-      }),
-    )
-    await signTripTest(deps, tech.ability, tech.ctx, t.id, 'performed', DEMO_PASSWORD, '')
+    await recordProvingTest(deps, tech, {
+      limitId: failing.id,
+      injectionPoint: 'transmitter_output',
+      deviceSerial: 'SN-4199',
+      calibratorId: 'CAL-FHR-03',
+      calibratorDueDate: calibratorDue,
+      workOrder: 'WO-26-3399',
+      performedAt: new Date(now - 3 * DAY).toISOString(),
+      asFound: Math.round(late * 100) / 100,
+      notes: 'Tripped late; transmitter drift suspected. Replacement ordered.',
+      precautions: demoPrecautions('PTW-26-5199'),
+    })
     await signDegradationMeasures(deps, sup.ability, sup.ctx, failing.id, {
       compensatingMeasures: ['Operator checks the local gauge every 30 minutes', 'Feed rate limited to 80 %'],
       repairDeadline: new Date(now + 7 * DAY).toISOString().slice(0, 10),

@@ -2,16 +2,10 @@
 // product's services as the demo people would (docs/demands.md, docs/trip-tests.md#test-deferrals). The heater outlet
 // trip TSHH-101 trips spuriously more often than its hazard study assumed, so the observed-rate warning has something
 // to show. Invented plant, invented people, invented events.
-import { TripTestInputSchema } from '../../shared/schemas/trip-tests.ts'
 import type { AppDeps } from '../deps.ts'
 import { classifyDemand, recordDemand, setDemandAssumptions } from '../features/demands/demands.service.ts'
-import {
-  createTripTest,
-  decideDeferral,
-  requestDeferral,
-  signTripTest,
-} from '../features/trip-tests/trip-tests.service.ts'
-import { type DemoActor, demoPrecautions } from './demo-actors.ts'
+import { decideDeferral, requestDeferral } from '../features/trip-tests/trip-tests.service.ts'
+import { type DemoActor, demoPrecautions, recordProvingTest } from './demo-actors.ts'
 import { DEMO_PASSWORD } from './demo.ts'
 
 const DAY = 86_400_000
@@ -254,31 +248,17 @@ export async function seedDemoDemands(deps: AppDeps, as: (who: string) => DemoAc
       [30, late, 'Tripped late: transmitter drifted; replaced under WO-26-5030.'],
       [28, sp, 'Retest after the transmitter was replaced: tripped at setpoint.'],
     ] as const) {
-      const t = await createTripTest(
-        deps,
-        tech.ability,
-        tech.ctx,
-        TripTestInputSchema.parse({
-          limitId: exposed.id,
-          kind: 'full',
-          method: 'injection',
-          injectionPoint: 'transmitter_output',
-          sourceMode: null,
-          procedureRef: 'FHR-MP-017 limit proving',
-          deviceSerial: daysAgo === 28 ? 'SN-5120' : 'SN-4877',
-          calibratorId: 'CAL-FHR-02',
-          calibratorDueDate: new Date(now - (daysAgo - 100) * DAY).toISOString().slice(0, 10),
-          workOrder: `WO-26-${5000 + daysAgo}`,
-          performedAt: iso(daysAgo, 9),
-          asFound,
-          latchHeld: true,
-          resetRefusedWhileActive: true,
-          resetAcceptedAfterReturn: true,
-          finalElementOk: true,
-          notes,
-        }),
-      )
-      await signTripTest(deps, tech.ability, tech.ctx, t.id, 'performed', DEMO_PASSWORD, '')
+      await recordProvingTest(deps, tech, {
+        limitId: exposed.id,
+        injectionPoint: 'transmitter_output',
+        deviceSerial: daysAgo === 28 ? 'SN-5120' : 'SN-4877',
+        calibratorId: 'CAL-FHR-02',
+        calibratorDueDate: new Date(now - (daysAgo - 100) * DAY).toISOString().slice(0, 10),
+        workOrder: `WO-26-${5000 + daysAgo}`,
+        performedAt: iso(daysAgo, 9),
+        asFound,
+        notes,
+      })
     }
   }
 
@@ -300,32 +280,19 @@ export async function seedDemoDemands(deps: AppDeps, as: (who: string) => DemoAc
   const target = untested.find((l) => l.signal.kind !== 'switch')
   if (!target) return
   const tc = target.signal.kind === 'thermocouple'
-  const t = await createTripTest(
-    deps,
-    tech.ability,
-    tech.ctx,
-    TripTestInputSchema.parse({
-      limitId: target.id,
-      kind: 'full',
-      method: 'injection',
-      injectionPoint: 'sensor',
-      sourceMode: tc ? 'tc_simulate' : null,
-      procedureRef: 'FHR-MP-017 limit proving',
-      deviceSerial: 'SN-4310',
-      calibratorId: 'CAL-FHR-02',
-      calibratorDueDate: new Date(now - 200 * DAY).toISOString().slice(0, 10),
-      workOrder: 'WO-25-7702',
-      performedAt: iso(350, 9),
-      asFound: Number(target.setpoint),
-      latchHeld: true,
-      resetRefusedWhileActive: true,
-      resetAcceptedAfterReturn: true,
-      finalElementOk: true,
-      notes: 'Tripped at setpoint; reset checked.',
-      precautions: demoPrecautions('PTW-25-7702'),
-    }),
-  )
-  await signTripTest(deps, tech.ability, tech.ctx, t.id, 'performed', DEMO_PASSWORD, '')
+  await recordProvingTest(deps, tech, {
+    limitId: target.id,
+    injectionPoint: 'sensor',
+    sourceMode: tc ? 'tc_simulate' : null,
+    deviceSerial: 'SN-4310',
+    calibratorId: 'CAL-FHR-02',
+    calibratorDueDate: new Date(now - 200 * DAY).toISOString().slice(0, 10),
+    workOrder: 'WO-25-7702',
+    performedAt: iso(350, 9),
+    asFound: Number(target.setpoint),
+    notes: 'Tripped at setpoint; reset checked.',
+    precautions: demoPrecautions('PTW-25-7702'),
+  })
   const due = await db
     .selectFrom('limit_function')
     .select('test_due_date')
