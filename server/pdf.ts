@@ -22,3 +22,11 @@ export function renderPdf(doc: Record<string, unknown>): Promise<Buffer> {
     .createPdf({ defaultStyle: { font: 'Roboto', fontSize: 9 }, pageSize: 'A4', pageMargins: [36, 48, 36, 48], ...doc })
     .getBuffer()
 }
+
+/**
+ * A pdfmake table whose first row is the bold column headings and repeats on each page; the caller adds the layout,
+ * font size or margin it wants (`{ ...headedTable(…), layout: 'lightHorizontalLines' }`).
+ */
+export function headedTable(widths: (string | number)[], headings: string[], rows: unknown[][]) {
+  return { table: { headerRows: 1, widths, body: [headings.map((text) => ({ text, bold: true })), ...rows] } }
+}

@@ -10,7 +10,7 @@ import { SitePolicySchema } from '../../../shared/schemas/sites.ts'
 import { authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { notFound, validationFailed } from '../../errors.ts'
-import { renderPdf } from '../../pdf.ts'
+import { headedTable, renderPdf } from '../../pdf.ts'
 import * as repo from './alarms.repository.ts'
 
 // Alarm-system performance figures for a site, area or operator position and period (default: the last 30 days,
@@ -104,8 +104,7 @@ export async function monthlyReport(
   const f = await alarmFigures(deps, ability, { siteId: q.siteId, from: from.toISOString(), to: to.toISOString() })
   const t = ALARM_TARGETS
   const row = (name: string, value: string, target: string, source: string) => [name, value, target, source]
-  const body = [
-    ['Figure', 'Value', 'Target', 'Source'].map((text) => ({ text, bold: true })),
+  const figures = [
     row('Annunciated alarms', String(f.annunciated), '—', '—'),
     row(
       'Alarms per position per hour',
@@ -156,17 +155,14 @@ export async function monthlyReport(
     content: [
       { text: `Alarm-system performance — ${site.name} (${site.code}), ${q.month}`, fontSize: 14, bold: true },
       { text: `Period ${f.from} to ${f.to} (UTC); ${f.positionCount} operator position(s).`, margin: [0, 4, 0, 8] },
-      { table: { headerRows: 1, widths: ['auto', 'auto', 'auto', '*'], body }, fontSize: 8 },
+      { ...headedTable(['auto', 'auto', 'auto', '*'], ['Figure', 'Value', 'Target', 'Source'], figures), fontSize: 8 },
       { text: 'Bad actors (top 10)', bold: true, margin: [0, 10, 0, 4] },
       {
-        table: {
-          headerRows: 1,
-          widths: ['*', 'auto', 'auto'],
-          body: [
-            ['Tag', 'Annunciations', 'Share'].map((text) => ({ text, bold: true })),
-            ...f.badActors.map((b) => [b.tag, String(b.count), pct(f.annunciated ? b.count / f.annunciated : 0)]),
-          ],
-        },
+        ...headedTable(
+          ['*', 'auto', 'auto'],
+          ['Tag', 'Annunciations', 'Share'],
+          f.badActors.map((b) => [b.tag, String(b.count), pct(f.annunciated ? b.count / f.annunciated : 0)]),
+        ),
         fontSize: 8,
       },
       {

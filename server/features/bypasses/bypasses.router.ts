@@ -16,7 +16,7 @@ import { allows, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { onReadStandby } from '../../db/read-standby.ts'
 import { forbidden } from '../../errors.ts'
-import { renderPdf } from '../../pdf.ts'
+import { headedTable, renderPdf } from '../../pdf.ts'
 import { routeHandlers } from '../../route-handlers.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { bypassReview, RISK_CAUTION, riskErosion } from './bypass-review.service.ts'
@@ -164,38 +164,35 @@ export function createBypassReviewRouter(deps: AppDeps) {
             margin: [0, 4, 0, 8],
           },
           {
-            table: {
-              headerRows: 1,
-              widths: [24, 28, 60, 50, 60, 60, 64, 64, 34, 34, '*'],
-              body: [
-                [
-                  '#',
-                  'Site',
-                  'Limit',
-                  'State',
-                  'Requested',
-                  'Authorized',
-                  'Start',
-                  'End',
-                  'h',
-                  'Overdue h',
-                  'Compensating measures',
-                ].map((t) => ({ text: t, bold: true })),
-                ...rows.map((x) => [
-                  x.Bypass,
-                  x.Site,
-                  x.Limit,
-                  x.State,
-                  x['Requested by'],
-                  x['Authorized by'],
-                  x['Planned start'].slice(0, 16),
-                  x['Planned end'].slice(0, 16),
-                  x['Bypassed h'],
-                  x['Overdue h'],
-                  x['Compensating measures'],
-                ]),
+            ...headedTable(
+              [24, 28, 60, 50, 60, 60, 64, 64, 34, 34, '*'],
+              [
+                '#',
+                'Site',
+                'Limit',
+                'State',
+                'Requested',
+                'Authorized',
+                'Start',
+                'End',
+                'h',
+                'Overdue h',
+                'Compensating measures',
               ],
-            },
+              rows.map((x) => [
+                x.Bypass,
+                x.Site,
+                x.Limit,
+                x.State,
+                x['Requested by'],
+                x['Authorized by'],
+                x['Planned start'].slice(0, 16),
+                x['Planned end'].slice(0, 16),
+                x['Bypassed h'],
+                x['Overdue h'],
+                x['Compensating measures'],
+              ]),
+            ),
             layout: 'lightHorizontalLines',
             fontSize: 7,
           },

@@ -1,5 +1,5 @@
 import type { ChangeRequestDto } from '../../../shared/schemas/change-requests.ts'
-import { renderPdf } from '../../pdf.ts'
+import { headedTable, renderPdf } from '../../pdf.ts'
 
 const fmt = (v: unknown): string =>
   v === null || v === undefined || v === '' ? '—' : typeof v === 'object' ? JSON.stringify(v) : String(v)
@@ -14,18 +14,11 @@ export function changeRequestPdf(cr: ChangeRequestDto, printedAt: Date): Promise
       style: 'h3',
     },
     {
-      table: {
-        headerRows: 1,
-        widths: ['30%', '35%', '35%'],
-        body: [
-          [
-            { text: 'Field', bold: true },
-            { text: 'From', bold: true },
-            { text: 'To', bold: true },
-          ],
-          ...Object.entries(item.changes).map(([field, c]) => [field, `${fmt(c.from)}`, `${fmt(c.to)}`]),
-        ],
-      },
+      ...headedTable(
+        ['30%', '35%', '35%'],
+        ['Field', 'From', 'To'],
+        Object.entries(item.changes).map(([field, c]) => [field, `${fmt(c.from)}`, `${fmt(c.to)}`]),
+      ),
       layout: 'lightHorizontalLines',
       margin: [0, 2, 0, 4],
     },
@@ -78,29 +71,21 @@ export function changeRequestPdf(cr: ChangeRequestDto, printedAt: Date): Promise
       },
       { text: 'Electronic signatures', style: 'h2' },
       {
-        table: {
-          headerRows: 1,
-          widths: ['22%', '14%', '24%', '*'],
-          body: [
-            [
-              { text: 'Name', bold: true },
-              { text: 'Meaning', bold: true },
-              { text: 'Time (UTC)', bold: true },
-              { text: 'Content hash / state', bold: true },
-            ],
-            ...cr.signatures.map((s) => [
-              s.name,
-              s.meaning,
-              s.at,
-              `${s.contentHash}` +
-                (s.voided
-                  ? ` — VOID (${s.voidReason})`
-                  : s.matchesContent
-                    ? ''
-                    : ' — does not match the current content'),
-            ]),
-          ],
-        },
+        ...headedTable(
+          ['22%', '14%', '24%', '*'],
+          ['Name', 'Meaning', 'Time (UTC)', 'Content hash / state'],
+          cr.signatures.map((s) => [
+            s.name,
+            s.meaning,
+            s.at,
+            `${s.contentHash}` +
+              (s.voided
+                ? ` — VOID (${s.voidReason})`
+                : s.matchesContent
+                  ? ''
+                  : ' — does not match the current content'),
+          ]),
+        ),
         layout: 'lightHorizontalLines',
       },
       ...(cr.pssr ? [{ text: 'Pre-start-up safety review', style: 'h2' }, { text: fmt(cr.pssr) }] : []),

@@ -1,5 +1,5 @@
 import { precautionLines, type TripTestDto } from '../../../shared/schemas/trip-tests.ts'
-import { renderPdf } from '../../pdf.ts'
+import { headedTable, renderPdf } from '../../pdf.ts'
 
 function v(x: unknown, unit = ''): string {
   return x === null || x === undefined || x === '' ? '—' : `${x}${unit ? ` ${unit}` : ''}`
@@ -99,16 +99,10 @@ export function tripTestCertificate(
       },
       { text: 'Signatures', style: 'h2' },
       {
-        table: {
-          headerRows: 1,
-          widths: ['25%', '15%', '25%', '*'],
-          body: [
-            [
-              { text: 'Name', bold: true },
-              { text: 'Meaning', bold: true },
-              { text: 'Time', bold: true },
-              { text: 'Record hash signed', bold: true },
-            ],
+        ...headedTable(
+          ['25%', '15%', '25%', '*'],
+          ['Name', 'Meaning', 'Time', 'Record hash signed'],
+          [
             ...t.signatures.map((s) => [
               s.name,
               MEANING[s.meaning] ?? s.meaning,
@@ -122,7 +116,7 @@ export function tripTestCertificate(
               ? []
               : [['—', MEANING.returned_to_service, 'not signed yet', '']]),
           ],
-        },
+        ),
         layout: 'lightHorizontalLines',
       },
       {
