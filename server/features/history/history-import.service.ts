@@ -20,6 +20,7 @@ import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { resolveColumnMapping } from '../register/column-mapping.ts'
 import {
   checkTableShape,
+  commitUnlessDryRun,
   fileChecksum,
   readTable,
   safeFileName,
@@ -244,15 +245,7 @@ export async function checkHistoryImport(
     site,
     { used, ignored },
   )
-  if (fields.dryRun) return result
-  if (outcome.errors.length)
-    throw new AppError(
-      422,
-      ErrorCode.UNPROCESSABLE,
-      `The file has ${outcome.errors.length} problem(s); nothing was imported`,
-      { ...result },
-    )
-  return { ...(await commitHistoryImport(deps, ability, ctx, id)), mapping: used, ignoredColumns: ignored }
+  return commitUnlessDryRun(fields.dryRun, result, () => commitHistoryImport(deps, ability, ctx, id))
 }
 
 function testRow(

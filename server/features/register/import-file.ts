@@ -3,6 +3,7 @@ import { Readable } from 'node:stream'
 import ExcelJS from 'exceljs'
 import type { Kysely, Transaction } from 'kysely'
 import Papa from 'papaparse'
+import { ErrorCode } from '../../../shared/errors.ts'
 import { IMPORT_MAX_BYTES } from '../../../shared/schemas/imports.ts'
 import { unneutraliseCell } from '../../csv.ts'
 import type { Database } from '../../db/schema.ts'
@@ -268,4 +269,26 @@ export async function inRolledBackTransaction<T>(
     throw err
   }
   throw new Error('the dry run did not roll back')
+}
+
+/**
+ * The end of an upload's check: a dry run answers the checked batch; otherwise a batch with problems is refused (422
+ * with its rows and errors; nothing is imported) and a clean one is committed at once by `commit`, whose answer keeps
+ * the column mapping the check used.
+ */
+export async function commitUnlessDryRun<R extends { errors: unknown[]; mapping: unknown; ignoredColumns: unknown }>(
+  dryRun: boolean,
+  checked: R,
+  commit: () => Promise<R>,
+): Promise<R> {
+  if (dryRun) return checked
+  if (checked.errors.length) {
+    throw new AppError(
+      422,
+      ErrorCode.UNPROCESSABLE,
+      `The file has ${checked.errors.length} problem(s); nothing was imported`,
+      { ...checked },
+    )
+  }
+  return { ...(await commit()), mapping: checked.mapping, ignoredColumns: checked.ignoredColumns }
 }

@@ -2,9 +2,11 @@ import { type Request, type RequestHandler, Router } from 'express'
 import multer from 'multer'
 import { ErrorCode } from '../../../shared/errors.ts'
 import { IMPORT_MAX_BYTES, ImportUploadFieldsSchema } from '../../../shared/schemas/imports.ts'
+import type { AppAbility } from '../../../shared/abilities/index.ts'
 import type { AppDeps } from '../../deps.ts'
 import { allowedTo, routeHandlers } from '../../route-handlers.ts'
 import { AppError, validationFailed } from '../../errors.ts'
+import type { AuditContext } from '../audit/audit.repository.ts'
 import * as imports from './imports.service.ts'
 
 const upload = multer({
@@ -52,21 +54,51 @@ export function uploadedFile(req: Request, kind: string): { buffer: Buffer; file
 /** Refuses users who may import nowhere before reading up to 5 MB of their upload. */
 export const mayImport = allowedTo('import', 'Limit')
 
-/** `/api/imports`: upload a register file for a dry run (`POST /`), then commit the batch (`POST /:id/commit`). */
-export function createImportsRouter(deps: AppDeps) {
+type ChecksFile<F> = (
+  deps: AppDeps,
+  ability: AppAbility,
+  audit: AuditContext,
+  userId: number,
+  file: { buffer: Buffer; fileName: string },
+  fields: F,
+) => Promise<unknown>
+type CommitsBatch = (deps: AppDeps, ability: AppAbility, audit: AuditContext, id: number) => Promise<unknown>
+
+/**
+ * The routes of a spreadsheet import, for users who may import somewhere: `POST /` uploads a `kind` of file with its
+ * form fields for `check` (a dry run, or committed at once with `dryRun=false`), answered 201; `POST /:id/commit`
+ * commits a checked batch.
+ */
+export function importRouter<F>(
+  deps: AppDeps,
+  kind: string,
+  fields: { parse(body: unknown): F },
+  check: ChecksFile<F>,
+  commit: CommitsBatch,
+) {
   const router = Router()
-
   router.post('/', mayImport, receiveFile, async (req, res) => {
-    const file = uploadedFile(req, 'register file')
-    const fields = ImportUploadFieldsSchema.parse(req.body ?? {})
-    res.status(201).json(await imports.checkImport(deps, req.ability, req.audit, req.user!.id, file, fields))
+    const file = uploadedFile(req, kind)
+    res.status(201).json(await check(deps, req.ability, req.audit, req.user!.id, file, fields.parse(req.body ?? {})))
   })
+  router.post('/:id/commit', mayImport, routeHandlers(deps).act(commit))
+  return router
+}
 
+/**
+ * `/api/imports`: upload a register file for a dry run (`POST /`), then commit the batch (`POST /:id/commit`); the
+ * user's remembered column mapping (`GET /mapping`).
+ */
+export function createImportsRouter(deps: AppDeps) {
+  const router = importRouter(
+    deps,
+    'register file',
+    ImportUploadFieldsSchema,
+    imports.checkImport,
+    imports.commitImport,
+  )
   router.get('/mapping', mayImport, async (req, res) => {
     res.json({ mapping: await imports.getRememberedMapping(deps, req.user!.id) })
   })
-
-  router.post('/:id/commit', mayImport, routeHandlers(deps).act(imports.commitImport))
-
   return router
 }

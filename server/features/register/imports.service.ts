@@ -47,6 +47,7 @@ import { toInstrument, toLimit, toProcess } from './register.mappers.ts'
 import { badFile, normHeader, resolveColumnMapping } from './column-mapping.ts'
 import {
   checkTableShape,
+  commitUnlessDryRun,
   fileChecksum,
   inRolledBackTransaction,
   readTable,
@@ -878,16 +879,7 @@ export async function checkImport(
     errors: outcome.errors,
     summary: summarize(outcome.rows),
   }
-  if (fields.dryRun) return result
-  if (outcome.errors.length) {
-    throw new AppError(
-      422,
-      ErrorCode.UNPROCESSABLE,
-      `The file has ${outcome.errors.length} problem(s); nothing was imported`,
-      { ...result },
-    )
-  }
-  return { ...(await commitImport(deps, ability, ctx, id)), mapping: used, ignoredColumns: ignored }
+  return commitUnlessDryRun(fields.dryRun, result, () => commitImport(deps, ability, ctx, id))
 }
 
 /**
