@@ -2,7 +2,7 @@ import type { Clock, DueJob } from '../../clock.ts'
 import type { Config } from '../../config.ts'
 import type { Db } from '../../db/index.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { recipientsOf } from '../users/users.repository.ts'
 import { findOpenBypassesForJob, lockBypassDeadlines, updateBypass } from './bypasses.repository.ts'
@@ -87,7 +87,7 @@ export function createBypassJob(
             await enqueueMail(
               trx,
               clock,
-              sups.map((u) => ({ to: u.email, subject: `OVERDUE bypass: ${b.tag}`, ...bodies, topic: 'bypass' })),
+              mailEach(sups, { subject: `OVERDUE bypass: ${b.tag}`, ...bodies, topic: 'bypass' }),
             )
             await appendAudit(trx, clock, SYSTEM, {
               action: 'bypass.overdue',
@@ -110,12 +110,11 @@ export function createBypassJob(
             await enqueueMail(
               trx,
               clock,
-              managers.map((u) => ({
-                to: u.email,
+              mailEach(managers, {
                 subject: `Escalation: bypass of ${b.tag} overdue for ${hours} h`,
                 ...bodies,
                 topic: 'bypass',
-              })),
+              }),
             )
             await appendAudit(trx, clock, SYSTEM, {
               action: 'bypass.escalate',

@@ -20,7 +20,7 @@ import type { AppDeps } from '../../deps.ts'
 import { errorField } from '../../db/index.ts'
 import { conflict, enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
 import { refreshProtectionState } from '../register/protection-state-column.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
@@ -272,7 +272,7 @@ export async function requestBypass(
     await enqueueMail(
       trx,
       deps.clock,
-      to.map((u) => ({ to: u.email, subject: `Bypass of ${l.tag} requested`, ...bodies, topic: 'bypass' })),
+      mailEach(to, { subject: `Bypass of ${l.tag} requested`, ...bodies, topic: 'bypass' }),
     )
     return id
   })

@@ -14,7 +14,7 @@ import { readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
 import { recipientsOf } from '../users/users.repository.ts'
 import { limitRecordOf } from '../register/register.mappers.ts'
 import * as repo from './change-proposals.repository.ts'
@@ -72,8 +72,7 @@ export async function createProposal(
     await enqueueMail(
       trx,
       deps.clock,
-      engineers.map((u) => ({
-        to: u.email,
+      mailEach(engineers, {
         subject: `Change proposal #${newId}: ${input.title}`,
         topic: 'change_request',
         ...mailBodies(
@@ -87,7 +86,7 @@ export async function createProposal(
             label: `Open change proposal #${newId}`,
           },
         ),
-      })),
+      }),
     )
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_proposal.create',

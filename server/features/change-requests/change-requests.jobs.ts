@@ -2,7 +2,7 @@ import type { Clock, DueJob } from '../../clock.ts'
 import type { Config } from '../../config.ts'
 import type { Db } from '../../db/index.ts'
 import { appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { voidSignatures } from '../signatures/signatures.ts'
 import { recipientsOf } from '../users/users.repository.ts'
@@ -115,8 +115,7 @@ export function createChangeRequestJob(
           await enqueueMail(
             trx,
             clock,
-            to.map((u) => ({
-              to: u.email,
+            mailEach(to, {
               subject: `Emergency change #${cr.id} is still unapproved after 24 h`,
               topic: 'change_request',
               ...mailBodies(
@@ -127,7 +126,7 @@ export function createChangeRequestJob(
                 ],
                 link(cr.id),
               ),
-            })),
+            }),
           )
           await appendAudit(trx, clock, SYSTEM, {
             action: 'change_request.emergency_flagged',

@@ -51,7 +51,7 @@ import type { Database } from '../../db/schema.ts'
 import { AppError, conflict, enforce, notFound, validationFailed } from '../../errors.ts'
 import { attachmentFacts, listAttachments, storeAttachment } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
 import { applyInstrumentDefinition, lockInstrument } from '../register/instruments.service.ts'
 import { applyLimitDefinition, evaluateLimit, lockLimit } from '../register/limits.service.ts'
 import { limitSnapshot } from '../register/register.mappers.ts'
@@ -536,10 +536,8 @@ async function mailTo(
 ) {
   const seen = new Set<string>()
   const bodies = mailBodies(paragraphs, link(deps, crId))
-  const list = to
-    .filter((u) => !seen.has(u.email) && seen.add(u.email))
-    .map((u) => ({ to: u.email, subject, ...bodies, topic: 'change_request' }))
-  await enqueueMail(trx, deps.clock, list)
+  const once = to.filter((u) => !seen.has(u.email) && seen.add(u.email))
+  await enqueueMail(trx, deps.clock, mailEach(once, { subject, ...bodies, topic: 'change_request' }))
 }
 
 const proposerOf = repo.userContact

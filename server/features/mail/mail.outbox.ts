@@ -46,6 +46,11 @@ export async function enqueueMail(
   )
 }
 
+/** The same mail to each of `people`: one message each, to their address. */
+export function mailEach(people: readonly { email: string }[], mail: Omit<OutgoingMail, 'to'>): OutgoingMail[] {
+  return people.map((p) => ({ ...mail, to: p.email }))
+}
+
 const esc = (s: string) =>
   s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!)
 

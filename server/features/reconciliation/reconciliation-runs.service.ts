@@ -18,7 +18,7 @@ import type { AppDeps } from '../../deps.ts'
 import type { Db } from '../../db/index.ts'
 import { notFound } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
 import { recipientsOf } from '../users/users.repository.ts'
 import { observationsOf, readDevice } from './device-read.ts'
 import * as repo from './reconciliation.repository.ts'
@@ -317,12 +317,11 @@ export async function performRun(
       await enqueueMail(
         trx,
         clock,
-        people.map((p) => ({
-          to: p.email,
+        mailEach(people, {
           subject: `Reconciliation: ${news.length} new finding(s) on ${source.name}`,
           topic: 'reconciliation',
           ...bodies,
-        })),
+        }),
       )
     }
     await appendAudit(trx, clock, ctx, {

@@ -4,7 +4,7 @@ import type { Clock, DueJob } from '../../clock.ts'
 import type { Config } from '../../config.ts'
 import type { Db } from '../../db/index.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
 import {
   DUE_SOON_TEST_STATUSES,
   isTestOverdue,
@@ -46,12 +46,11 @@ export async function runDigestForSite(
     await enqueueMail(
       trx,
       clock,
-      to.map((u) => ({
-        to: u.email,
+      mailEach(to, {
         subject: `Trip tests due at ${site.name} (${period.startsWith('manual') ? 'on request' : period})`,
         ...bodies,
         topic: 'trip_test_digest',
-      })),
+      }),
     )
     await appendAudit(trx, clock, ctx, {
       action: 'trip_test.digest',
@@ -88,12 +87,11 @@ export async function escalatePassedRepairDeadlines(db: Db, config: Config, cloc
       await enqueueMail(
         trx,
         clock,
-        to.map((u) => ({
-          to: u.email,
+        mailEach(to, {
           subject: `OVERDUE REPAIR: ${d.tag} is still degraded`,
           ...bodies,
           topic: 'trip_test',
-        })),
+        }),
       )
       await appendAudit(trx, clock, SYSTEM, {
         action: 'limit.repair_deadline_passed',

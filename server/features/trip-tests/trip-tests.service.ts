@@ -56,7 +56,7 @@ import type { Database, TripTestTable } from '../../db/schema.ts'
 import { AppError, enforce, notFound, validationFailed } from '../../errors.ts'
 import { attachmentFacts, listAttachments } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
 import { refreshProtectionState } from '../register/protection-state-column.ts'
 import { toInstrument } from '../register/register.mappers.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
@@ -654,12 +654,11 @@ async function applyResult(
     await enqueueMail(
       trx,
       deps.clock,
-      to.map((u) => ({
-        to: u.email,
+      mailEach(to, {
         subject: `DEGRADED: ${limit.tag} failed its trip test`,
         ...bodies,
         topic: 'trip_test',
-      })),
+      }),
     )
   } else if (open && row.kind === 'full' && row.scope === 'function') {
     await repo.updateDegradation(trx, open.id, { cleared_at: now, cleared_by_test_id: row.id })
@@ -801,12 +800,11 @@ export async function signDegradationMeasures(
       await enqueueMail(
         trx,
         deps.clock,
-        managers.map((u) => ({
-          to: u.email,
+        mailEach(managers, {
           subject: `Approve: repair deadline of ${limit.tag} beyond its MTTR`,
           ...bodies,
           topic: 'trip_test',
-        })),
+        }),
       )
     }
     await appendAudit(trx, deps.clock, ctx, {
@@ -1192,9 +1190,10 @@ export async function requestDeferral(
     await enqueueMail(
       trx,
       deps.clock,
-      deciders
-        .filter((u) => u.id !== ctx.actorId)
-        .map((u) => ({ to: u.email, subject: `Decide: test deferral of ${l.tag}`, ...bodies, topic: 'trip_test' })),
+      mailEach(
+        deciders.filter((u) => u.id !== ctx.actorId),
+        { subject: `Decide: test deferral of ${l.tag}`, ...bodies, topic: 'trip_test' },
+      ),
     )
     await appendAudit(trx, deps.clock, ctx, {
       action: 'test_deferral.request',
