@@ -53,6 +53,22 @@ export function readableRow<R extends { site_id: number } | { siteId: number }>(
   return row
 }
 
+/**
+ * A record as the user may read it (404 otherwise, see readableRow) and may `action` at its site (403 otherwise):
+ * the guard of a service that changes or acts on one record.
+ */
+export function allowedRow<R extends { site_id: number }>(
+  row: R | null | undefined,
+  ability: AppAbility,
+  action: Action,
+  name: Exclude<SubjectName, 'all'>,
+  what: string = name,
+): R {
+  const r = readableRow(row, ability, name, what)
+  authorize(ability, action, name, { siteId: r.site_id })
+  return r
+}
+
 /** Every site where the user holds any role (what they may read). */
 export function userSiteIds(user: { roles: { siteId: number }[] } | null): number[] {
   return [...new Set((user?.roles ?? []).map((r) => r.siteId))]

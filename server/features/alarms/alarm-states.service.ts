@@ -3,7 +3,7 @@ import { alarmStateVerdicts, isOverdue, mayStart } from '../../../shared/domain/
 import type { AlarmState, AlarmStateInput } from '../../../shared/schemas/alarms.ts'
 import type { ListResult } from '../../../shared/schemas/common.ts'
 import type { Role } from '../../../shared/schemas/users.ts'
-import { authorize, readableRow, scopeSites } from '../../authorize.ts'
+import { allowedRow, authorize, readableRow, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, validationFailed } from '../../errors.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
@@ -141,8 +141,7 @@ export async function endAlarmState(
   id: number,
   note: string,
 ): Promise<AlarmState> {
-  const found = readableRow(await repo.stateById(deps.db, id), ability, 'AlarmState', 'Alarm state')
-  authorize(ability, 'update', 'AlarmState', { siteId: found.site_id })
+  allowedRow(await repo.stateById(deps.db, id), ability, 'update', 'AlarmState', 'Alarm state')
   await deps.db.transaction().execute(async (trx) => {
     const r = (await repo.lockState(trx, id))!
     enforce(

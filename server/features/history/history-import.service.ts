@@ -12,7 +12,7 @@ import {
   type HistoryUploadFields,
 } from '../../../shared/schemas/history-import.ts'
 import { IMPORT_MAX_ROWS, type ImportError } from '../../../shared/schemas/imports.ts'
-import { authorize, readableRow } from '../../authorize.ts'
+import { allowedRow, authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { BypassTable, Database, TripTestTable } from '../../db/schema.ts'
 import { AppError, invalidState, validationFailed } from '../../errors.ts'
@@ -344,8 +344,7 @@ export async function commitHistoryImport(
   id: number,
 ): Promise<HistoryImportResult> {
   return deps.db.transaction().execute(async (trx) => {
-    const batch = readableRow(await repo.lockHistoryBatch(trx, id), ability, 'Limit', 'History import')
-    authorize(ability, 'import', 'Limit', { siteId: batch.site_id })
+    const batch = allowedRow(await repo.lockHistoryBatch(trx, id), ability, 'import', 'Limit', 'History import')
     if (batch.status !== 'checked')
       throw invalidState(
         batch.status === 'committed'

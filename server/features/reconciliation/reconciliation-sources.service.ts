@@ -18,7 +18,7 @@ import {
   type Source,
   type UpdateSourceInputSchema,
 } from '../../../shared/schemas/reconciliation.ts'
-import { authorize, readableRow, scopeSites } from '../../authorize.ts'
+import { allowedRow, authorize, readableRow, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { conflict, invalidState, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -171,8 +171,7 @@ export async function updateSource(
   patch: Partial<z.output<typeof UpdateSourceInputSchema>>,
 ): Promise<Source> {
   await deps.db.transaction().execute(async (trx) => {
-    const s = readableRow(await repo.lockSource(trx, id), ability, 'ReconciliationSource', 'Source')
-    authorize(ability, 'update', 'ReconciliationSource', { siteId: s.site_id })
+    const s = allowedRow(await repo.lockSource(trx, id), ability, 'update', 'ReconciliationSource', 'Source')
     if (patch.version !== s.version)
       throw conflict('Somebody changed this source since you opened it: reload it and make your change again')
     if (patch.areaIds) await checkAreas(deps, s.site_id, patch.areaIds)
@@ -220,8 +219,7 @@ export async function readNow(
   ctx: AuditContext,
   id: number,
 ): Promise<ReadNowResult> {
-  const s = readableRow(await repo.findSource(deps.db, id), ability, 'ReconciliationSource', 'Source')
-  authorize(ability, 'reconcile', 'ReconciliationSource', { siteId: s.site_id })
+  const s = allowedRow(await repo.findSource(deps.db, id), ability, 'reconcile', 'ReconciliationSource', 'Source')
   if (s.kind !== 'modbus')
     throw invalidState('Only a live device can be read now; upload an export to this source instead')
   const map = RegisterMapSchema.parse(s.register_map)
@@ -241,8 +239,7 @@ export async function readNow(
 
 /** Runs a live device's reconciliation now. */
 export async function runNow(deps: AppDeps, ability: AppAbility, ctx: AuditContext, id: number): Promise<Run> {
-  const s = readableRow(await repo.findSource(deps.db, id), ability, 'ReconciliationSource', 'Source')
-  authorize(ability, 'reconcile', 'ReconciliationSource', { siteId: s.site_id })
+  const s = allowedRow(await repo.findSource(deps.db, id), ability, 'reconcile', 'ReconciliationSource', 'Source')
   if (s.kind !== 'modbus')
     throw invalidState('An export source is reconciled by uploading its export; there is nothing to read now')
   return performRun(deps, ctx, id, 'manual', { kind: 'device' })
@@ -299,8 +296,7 @@ export async function uploadExport(
   file: { buffer: Buffer; fileName: string },
   mapping: ExportMapping | undefined,
 ): Promise<Run & { mapping: Record<string, string>; ignoredColumns: string[] }> {
-  const s = readableRow(await repo.findSource(deps.db, id), ability, 'ReconciliationSource', 'Source')
-  authorize(ability, 'reconcile', 'ReconciliationSource', { siteId: s.site_id })
+  const s = allowedRow(await repo.findSource(deps.db, id), ability, 'reconcile', 'ReconciliationSource', 'Source')
   if (s.kind !== 'export') throw invalidState('A live device is read, not uploaded: use "run now"')
   const table = await readTable(file.buffer)
   if (table.headers.every((h) => !h)) throw badFile('Row 1 must hold the column headers')

@@ -30,7 +30,7 @@ import {
   signalFromText,
   signalToText,
 } from '../../../shared/schemas/register-io.ts'
-import { authorize, readableRow } from '../../authorize.ts'
+import { allowedRow, authorize } from '../../authorize.ts'
 import { openBaselineChangeRequest } from '../change-requests/change-requests.service.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
@@ -894,8 +894,7 @@ export async function commitImport(
   id: number,
 ): Promise<ImportResult> {
   return deps.db.transaction().execute(async (trx) => {
-    const batch = readableRow(await repo.lockImportBatch(trx, 'register', id), ability, 'Limit', 'Import')
-    authorize(ability, 'import', 'Limit', { siteId: batch.site_id })
+    const batch = allowedRow(await repo.lockImportBatch(trx, 'register', id), ability, 'import', 'Limit', 'Import')
     if (batch.status !== 'checked') {
       throw invalidState(
         batch.status === 'committed'

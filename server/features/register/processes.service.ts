@@ -1,6 +1,6 @@
 import type { AppAbility } from '../../../shared/abilities/index.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
-import { allows, authorize, readableRow } from '../../authorize.ts'
+import { allowedRow, allows, authorize, readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { AppError, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
@@ -73,8 +73,7 @@ export async function updateProcess(
   input: { name?: string; description?: string },
 ) {
   return deps.db.transaction().execute(async (trx) => {
-    const before = readableRow(await repo.findProcessRow(trx, id, true), ability, 'Process')
-    authorize(ability, 'update', 'Process', { siteId: before.site_id })
+    const before = allowedRow(await repo.findProcessRow(trx, id, true), ability, 'update', 'Process')
     const row = await repo.updateProcessRow(trx, id, { ...input, updated_at: deps.clock.now() })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'process.update',

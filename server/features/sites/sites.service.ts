@@ -14,7 +14,7 @@ import type {
   UpdateAreaInputSchema,
   UpdateSiteInputSchema,
 } from '../../../shared/schemas/sites.ts'
-import { allows, authorize, ensureVisible, readableRow } from '../../authorize.ts'
+import { allowedRow, allows, authorize, ensureVisible } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { SiteRow } from '../../db/schema.ts'
 import { conflict, notFound } from '../../errors.ts'
@@ -153,8 +153,7 @@ export async function updateArea(
   input: z.infer<typeof UpdateAreaInputSchema>,
 ): Promise<Area> {
   return deps.db.transaction().execute(async (trx) => {
-    const before = readableRow(await repo.findAreaRowForUpdate(trx, id), ability, 'Area')
-    authorize(ability, 'update', 'Area', { siteId: before.site_id })
+    const before = allowedRow(await repo.findAreaRowForUpdate(trx, id), ability, 'update', 'Area')
     const row = await repo.updateAreaName(trx, id, input.name)
     const area = { id: row.id, siteId: row.site_id, name: row.name }
     await appendAudit(trx, deps.clock, ctx, {
