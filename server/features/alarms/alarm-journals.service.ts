@@ -29,6 +29,7 @@ import {
   isRefusal,
   progressReporter,
   runQueuedLoad,
+  uploadFields,
   uploadFileName,
   uploadsPage,
 } from './copy-load.ts'
@@ -72,24 +73,13 @@ const MAX_REJECTIONS_KEPT = 200
 
 function toDto(r: Selectable<AlarmJournalUploadTable>): JournalUpload {
   return {
-    id: r.id,
-    siteId: r.site_id,
-    fileName: r.file_name,
-    timeZone: r.time_zone,
-    status: r.status,
-    rowsRead: Number(r.rows_read),
+    ...uploadFields(r),
     rowsStored: Number(r.rows_stored),
     rowsDuplicate: Number(r.rows_duplicate),
-    rowsRejected: Number(r.rows_rejected),
-    rejections: r.rejections,
     unmatchedTags: r.unmatched_tags,
     unmatchedTagCount: r.unmatched_tag_count,
     duplicateOf: r.duplicate_of,
-    error: r.error,
-    firstAt: r.first_at ? r.first_at.toISOString() : null,
-    lastAt: r.last_at ? r.last_at.toISOString() : null,
     mapping: r.mapping,
-    createdAt: r.created_at.toISOString(),
     finishedAt: r.finished_at ? r.finished_at.toISOString() : null,
   }
 }

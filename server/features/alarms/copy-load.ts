@@ -1,10 +1,11 @@
 import { createHash } from 'node:crypto'
 import { createReadStream } from 'node:fs'
 import { rm } from 'node:fs/promises'
+import type { Selectable } from 'kysely'
 import type pg from 'pg'
 import type { ListResult } from '../../../shared/schemas/common.ts'
 import { scopeSites } from '../../authorize.ts'
-import type { AlarmUploadStatus } from '../../db/schema.ts'
+import type { AlarmJournalUploadTable, AlarmUploadStatus, ProcessDataUploadTable } from '../../db/schema.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { badFile } from '../register/imports.service.ts'
@@ -20,6 +21,26 @@ interface UploadRow {
   site_id: number
   status: AlarmUploadStatus
   file_path: string | null
+}
+
+const isoOrNull = (d: Date | null) => (d ? d.toISOString() : null)
+
+/** What both kinds of upload answer with in the API; each adds its own counts and details. */
+export function uploadFields(r: Selectable<AlarmJournalUploadTable> | Selectable<ProcessDataUploadTable>) {
+  return {
+    id: r.id,
+    siteId: r.site_id,
+    fileName: r.file_name,
+    timeZone: r.time_zone,
+    status: r.status,
+    rowsRead: Number(r.rows_read),
+    rowsRejected: Number(r.rows_rejected),
+    rejections: r.rejections,
+    error: r.error,
+    firstAt: isoOrNull(r.first_at),
+    lastAt: isoOrNull(r.last_at),
+    createdAt: r.created_at.toISOString(),
+  }
 }
 
 /** A page of the uploads at the user's sites (or at the one site asked for), newest first. */

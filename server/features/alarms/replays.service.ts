@@ -31,21 +31,10 @@ const NUMBER = /^[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?$/
 
 function toDto(r: Selectable<ProcessDataUploadTable>): ReplayUpload {
   return {
-    id: r.id,
-    siteId: r.site_id,
+    ...load.uploadFields(r),
     instrumentId: r.instrument_id,
-    fileName: r.file_name,
-    timeZone: r.time_zone,
-    status: r.status,
     series: r.series,
-    rowsRead: Number(r.rows_read),
     samplesStored: Number(r.samples_stored),
-    rowsRejected: Number(r.rows_rejected),
-    rejections: r.rejections,
-    error: r.error,
-    firstAt: r.first_at ? r.first_at.toISOString() : null,
-    lastAt: r.last_at ? r.last_at.toISOString() : null,
-    createdAt: r.created_at.toISOString(),
   }
 }
 
