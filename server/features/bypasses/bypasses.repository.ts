@@ -94,10 +94,6 @@ export async function updateBypass(trx: Transaction<Database>, id: number, set: 
   await trx.updateTable('bypass').set(set).where('id', '=', id).execute()
 }
 
-export function findUserEmail(db: Q, userId: number) {
-  return db.selectFrom('app_user').select('email').where('id', '=', userId).executeTakeFirstOrThrow()
-}
-
 /** Bypass rows with everything a BypassDto shows. */
 export function selectBypassRows(db: Q, ids: number[]) {
   return db

@@ -25,7 +25,7 @@ import { refreshProtectionState } from '../register/protection-state-column.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { contentHash, listSignatures, signAs, signatureDto } from '../signatures/signatures.ts'
-import { findRolesByUserIds, recipientsOf } from '../users/users.repository.ts'
+import { findRolesByUserIds, recipientsOf, userContact } from '../users/users.repository.ts'
 import * as repo from './bypasses.repository.ts'
 import type { BypassListQuery, BypassRow } from './bypasses.repository.ts'
 
@@ -364,7 +364,7 @@ export async function authorizeBypass(
       entityId: id,
       after: { ...content, signer: signer.name, hours: input.hours ?? hoursBetween(b.planned_start, b.planned_end) },
     })
-    const requester = await repo.findUserEmail(trx, b.requested_by)
+    const requester = await userContact(trx, b.requested_by)
     await enqueueMail(trx, deps.clock, {
       to: requester.email,
       subject: `Bypass #${id} of ${l.tag} ${extension ? 'extended' : 'authorized'}`,

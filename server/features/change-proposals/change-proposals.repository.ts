@@ -106,7 +106,3 @@ export async function decideProposal(
 export async function requestForTakeUp(db: Q, id: number) {
   return db.selectFrom('change_request').select(['id', 'site_id', 'status']).where('id', '=', id).executeTakeFirst()
 }
-
-export async function userEmail(db: Q, userId: number) {
-  return db.selectFrom('app_user').select('email').where('id', '=', userId).executeTakeFirstOrThrow()
-}

@@ -15,7 +15,7 @@ import type { AppDeps } from '../../deps.ts'
 import { enforce, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
-import { recipientsOf } from '../users/users.repository.ts'
+import { recipientsOf, userContact } from '../users/users.repository.ts'
 import { limitRecordOf } from '../register/register.mappers.ts'
 import * as repo from './change-proposals.repository.ts'
 
@@ -160,7 +160,7 @@ export async function declineProposal(
       at: deps.clock.now(),
       declineReason: reason,
     })
-    const proposer = await repo.userEmail(trx, row.proposer_id)
+    const proposer = await userContact(trx, row.proposer_id)
     await enqueueMail(trx, deps.clock, {
       to: proposer.email,
       subject: `Change proposal #${id} declined: ${row.title}`,

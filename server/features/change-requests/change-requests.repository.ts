@@ -98,10 +98,6 @@ export async function siteOf(db: Q, siteId: number) {
     .executeTakeFirstOrThrow()
 }
 
-export async function userContact(db: Q, userId: number) {
-  return db.selectFrom('app_user').select(['email', 'display_name']).where('id', '=', userId).executeTakeFirstOrThrow()
-}
-
 // ---------- temporary changes and their reversals ----------
 
 /** The requests reversing a temporary change. */

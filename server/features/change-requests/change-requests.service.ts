@@ -67,7 +67,7 @@ import {
   signatureDto,
   voidSignatures,
 } from '../signatures/signatures.ts'
-import { findUsersWithRole, recipientsOf } from '../users/users.repository.ts'
+import { findUsersWithRole, recipientsOf, userContact } from '../users/users.repository.ts'
 import { takeUpInTransaction } from '../change-proposals/change-proposals.service.ts'
 import * as repo from './change-requests.repository.ts'
 
@@ -336,7 +336,7 @@ export async function getChangeRequest(
   const row = await loadRow(db, id)
   ensureVisible(ability, 'ChangeRequest', { siteId: row.site_id }, 'Change request')
   const site = await repo.siteOf(db, row.site_id)
-  const proposer = await repo.userContact(db, row.proposer_id)
+  const proposer = await userContact(db, row.proposer_id)
   const items = await repo.itemsWithTargets(db, id)
   const sigs = await listSignatures(db, ENTITY, [id])
   const checks = await repo.checksOf(db, id)
@@ -540,7 +540,7 @@ async function mailTo(
   await enqueueMail(trx, deps.clock, mailEach(once, { subject, ...bodies, topic: 'change_request' }))
 }
 
-const proposerOf = repo.userContact
+const proposerOf = userContact
 
 export async function createChangeRequest(
   deps: AppDeps,

@@ -99,6 +99,11 @@ export function findUsersWithRole(db: Q, siteId: number, roles: readonly Role[])
     .execute()
 }
 
+/** Where to write to a user, and their name. */
+export function userContact(db: Q, userId: number) {
+  return db.selectFrom('app_user').select(['email', 'display_name']).where('id', '=', userId).executeTakeFirstOrThrow()
+}
+
 /** The active users of the site who receive a notice (shared/abilities/notices.ts). */
 export function recipientsOf(db: Q, siteId: number, notice: Notice) {
   return findUsersWithRole(db, siteId, NOTICE_RECIPIENTS[notice])
