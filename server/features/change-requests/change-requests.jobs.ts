@@ -1,6 +1,8 @@
 import type { Clock, DueJob } from '../../clock.ts'
 import type { Config } from '../../config.ts'
+import type { Transaction } from 'kysely'
 import type { Db } from '../../db/index.ts'
+import type { Database } from '../../db/schema.ts'
 import { appendAudit } from '../audit/audit.repository.ts'
 import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
 import { policyOf } from '../sites/sites.service.ts'
@@ -10,6 +12,27 @@ import * as repo from './change-requests.repository.ts'
 
 const HOUR = 3_600_000
 const SYSTEM = { actorId: null, requestId: 'job:change-requests', ip: null }
+
+/**
+ * Runs `work` for each request in a transaction of its own once `claim` has taken it there; a request another run
+ * (or another instance) took first is left alone. Answers how many were worked.
+ */
+async function forEachClaimed<R>(
+  db: Db,
+  requests: R[],
+  claim: (trx: Transaction<Database>, cr: R) => Promise<boolean>,
+  work: (trx: Transaction<Database>, cr: R) => Promise<void>,
+): Promise<number> {
+  let worked = 0
+  for (const cr of requests) {
+    await db.transaction().execute(async (trx) => {
+      if (!(await claim(trx, cr))) return
+      await work(trx, cr)
+      worked++
+    })
+  }
+  return worked
+}
 
 /**
  * Reminders and time limits of change requests: temporary changes expiring within 24 h (reminder to revert, once),
@@ -28,20 +51,13 @@ export function createChangeRequestJob(
     name: 'change-requests.deadlines',
     intervalSec: 300,
     async runDue(now: Date) {
-      let reminders = 0
-      let flagged = 0
-      let expired = 0
-      let toRevert = 0
       const temporary = await repo.temporaryChangesDue(db, new Date(now.getTime() + 24 * HOUR))
-      for (const cr of temporary) {
-        await db.transaction().execute(async (trx) => {
-          const claimed = await repo.claimRequest(
-            trx,
-            cr.id,
-            { revert_reminder_at: now },
-            { column: 'revert_reminder_at', isNull: true },
-          )
-          if (!claimed) return
+      const reminders = await forEachClaimed(
+        db,
+        temporary,
+        (trx, cr) =>
+          repo.claimRequest(trx, cr.id, { revert_reminder_at: now }, { column: 'revert_reminder_at', isNull: true }),
+        async (trx, cr) => {
           await enqueueMail(trx, clock, {
             to: cr.email,
             subject:
@@ -61,15 +77,15 @@ export function createChangeRequestJob(
             entityType: 'ChangeRequest',
             entityId: cr.id,
           })
-          reminders++
-        })
-      }
+        },
+      )
       // expired, to be reverted: once a day until a reversal is implemented (docs/change-requests.md)
       const noticeBefore = new Date(now.getTime() - 24 * HOUR)
-      for (const cr of await repo.expiredTemporaryChanges(db, now, noticeBefore)) {
-        await db.transaction().execute(async (trx) => {
-          const claimed = await repo.claimRequest(trx, cr.id, { expired_notice_at: now }, { noticeBefore })
-          if (!claimed) return
+      const toRevert = await forEachClaimed(
+        db,
+        await repo.expiredTemporaryChanges(db, now, noticeBefore),
+        (trx, cr) => repo.claimRequest(trx, cr.id, { expired_notice_at: now }, { noticeBefore }),
+        async (trx, cr) => {
           const supervisors = await recipientsOf(trx, cr.site_id, 'temporaryChangeExpired')
           const to = [...new Set([cr.email, ...supervisors.map((u) => u.email)])]
           const ended = cr.expires_at!.toISOString().slice(0, 16).replace('T', ' ')
@@ -98,19 +114,20 @@ export function createChangeRequestJob(
             entityId: cr.id,
             after: { notified: to },
           })
-          toRevert++
-        })
-      }
+        },
+      )
       const emergencies = await repo.unapprovedEmergencies(db, new Date(now.getTime() - 24 * HOUR))
-      for (const cr of emergencies) {
-        await db.transaction().execute(async (trx) => {
-          const claimed = await repo.claimRequest(
+      const flagged = await forEachClaimed(
+        db,
+        emergencies,
+        (trx, cr) =>
+          repo.claimRequest(
             trx,
             cr.id,
             { emergency_flagged_at: now },
             { column: 'emergency_flagged_at', isNull: true },
-          )
-          if (!claimed) return
+          ),
+        async (trx, cr) => {
           const to = await recipientsOf(trx, cr.site_id, 'emergencyChangeUnapproved')
           await enqueueMail(
             trx,
@@ -133,21 +150,24 @@ export function createChangeRequestJob(
             entityType: 'ChangeRequest',
             entityId: cr.id,
           })
-          flagged++
-        })
-      }
-      const approved = await repo.approvedNotStarted(db)
-      for (const cr of approved) {
-        const days = policyOf(cr).approvalExpiryDays
-        if (!cr.approved_at || now.getTime() <= cr.approved_at.getTime() + days * 24 * HOUR) continue
-        await db.transaction().execute(async (trx) => {
-          const claimed = await repo.claimRequest(
+        },
+      )
+      const approvalDays = (cr: Parameters<typeof policyOf>[0]) => policyOf(cr).approvalExpiryDays
+      const lapsed = (await repo.approvedNotStarted(db)).filter(
+        (cr) => cr.approved_at && now.getTime() > cr.approved_at.getTime() + approvalDays(cr) * 24 * HOUR,
+      )
+      const expired = await forEachClaimed(
+        db,
+        lapsed,
+        (trx, cr) =>
+          repo.claimRequest(
             trx,
             cr.id,
             { status: 'submitted', approved_at: null, updated_at: now },
             { status: 'approved' },
-          )
-          if (!claimed) return
+          ),
+        async (trx, cr) => {
+          const days = approvalDays(cr)
           await voidSignatures(
             trx,
             clock,
@@ -174,9 +194,8 @@ export function createChangeRequestJob(
             entityId: cr.id,
             after: { status: 'submitted' },
           })
-          expired++
-        })
-      }
+        },
+      )
       return { reminders, flagged, expired, toRevert }
     },
   }
