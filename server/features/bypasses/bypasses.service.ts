@@ -298,6 +298,29 @@ async function siteOf(deps: AppDeps, ability: AppAbility, id: number) {
   return b.site_id
 }
 
+type Facts = Awaited<ReturnType<typeof factsFor>>
+
+/**
+ * An action on a bypass without a signature: under the row lock the rule book's `verdict` for the actor, then `work` in
+ * the same transaction; answers the bypass as it now stands.
+ */
+async function actOnBypass(
+  deps: AppDeps,
+  ability: AppAbility,
+  ctx: AuditContext,
+  id: number,
+  verdict: (facts: BypassFacts, actor: BypassActor, rule: BypassContext) => Verdict,
+  work: (trx: Parameters<typeof repo.lockBypass>[0], x: Facts) => Promise<void>,
+): Promise<BypassDto> {
+  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, ability, id))
+  await deps.db.transaction().execute(async (trx) => {
+    const x = await factsFor(trx, id, deps.clock.now())
+    enforce(verdict(x.facts, actor, x.rule))
+    await work(trx, x)
+  })
+  return getBypass(deps, ability, id)
+}
+
 /**
  * Authorizes a requested bypass, or extends an authorized or active one by `hours` (a further signed authorization).
  * Never by the requester; within the longest duration the signer's role may authorize at the site, counted from when
@@ -429,12 +452,8 @@ export async function activateBypass(
   id: number,
   confirmed: ActivateBypassInput,
 ): Promise<BypassDto> {
-  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, ability, id))
   try {
-    await deps.db.transaction().execute(async (trx) => {
-      const now = deps.clock.now()
-      const { b, facts, rule } = await factsFor(trx, id, now)
-      enforce(activateVerdict(facts, actor, rule))
+    return await actOnBypass(deps, ability, ctx, id, activateVerdict, async (trx, { b, rule: { now } }) => {
       await repo.updateBypass(trx, id, {
         status: 'active',
         activated_at: now,
@@ -460,7 +479,6 @@ export async function activateBypass(
       throw conflict('Another bypass of this limit is active already: one active bypass per limit')
     throw err
   }
-  return getBypass(deps, ability, id)
 }
 
 /** Ends an active bypass on record; the process value must be clear of the limit and the protection back in service. */
@@ -471,10 +489,7 @@ export async function removeBypass(
   id: number,
   input: { note: string },
 ): Promise<BypassDto> {
-  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, ability, id))
-  await deps.db.transaction().execute(async (trx) => {
-    const { b, facts } = await factsFor(trx, id, deps.clock.now())
-    enforce(removeVerdict(facts, actor))
+  return actOnBypass(deps, ability, ctx, id, removeVerdict, async (trx, { b }) => {
     const now = deps.clock.now()
     await repo.updateBypass(trx, id, {
       status: 'removed',
@@ -499,7 +514,6 @@ export async function removeBypass(
       },
     })
   })
-  return getBypass(deps, ability, id)
 }
 
 export async function cancelBypass(
@@ -508,10 +522,7 @@ export async function cancelBypass(
   ctx: AuditContext,
   id: number,
 ): Promise<BypassDto> {
-  const actor = await actorAt(deps.db, ability, ctx, await siteOf(deps, ability, id))
-  await deps.db.transaction().execute(async (trx) => {
-    const { b, facts } = await factsFor(trx, id, deps.clock.now())
-    enforce(cancelVerdict(facts, actor))
+  return actOnBypass(deps, ability, ctx, id, cancelVerdict, async (trx, { b }) => {
     await repo.updateBypass(trx, id, { status: 'cancelled', updated_at: deps.clock.now() })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'bypass.cancel',
@@ -521,7 +532,6 @@ export async function cancelBypass(
       after: { status: 'cancelled' },
     })
   })
-  return getBypass(deps, ability, id)
 }
 
 export type { BypassListQuery }
