@@ -2,7 +2,7 @@ import type { Clock, DueJob } from '../../clock.ts'
 import type { Config } from '../../config.ts'
 import type { Db } from '../../db/index.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { recipientsOf } from '../users/users.repository.ts'
 import { findOpenBypassesForJob, lockBypassDeadlines, updateBypass } from './bypasses.repository.ts'
@@ -21,7 +21,7 @@ export function createBypassJob(
   config: Config,
   clock: Clock,
 ): DueJob<{ lapsed: number; warned: number; overdue: number; escalated: number }> {
-  const link = (id: number) => ({ url: `${config.appUrl}/bypasses/${id}`, label: `Open bypass #${id}` })
+  const link = (id: number) => recordLink(config.appUrl, 'bypasses', 'bypass', id)
   return {
     name: 'bypasses.deadlines',
     intervalSec: 60,

@@ -20,7 +20,7 @@ import type { AppDeps } from '../../deps.ts'
 import { errorField } from '../../db/index.ts'
 import { conflict, enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
 import { refreshProtectionState } from '../register/protection-state-column.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
@@ -280,7 +280,7 @@ export async function requestBypass(
 }
 
 function link(deps: AppDeps, id: number) {
-  return { url: `${deps.config.appUrl}/bypasses/${id}`, label: `Open bypass #${id}` }
+  return recordLink(deps.config.appUrl, 'bypasses', 'bypass', id)
 }
 
 /** Loads what a rule-book question about a bypass needs, outside or inside a transaction. */

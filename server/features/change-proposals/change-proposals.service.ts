@@ -14,7 +14,7 @@ import { readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
 import { recipientsOf, userContact } from '../users/users.repository.ts'
 import { limitRecordOf } from '../register/register.mappers.ts'
 import * as repo from './change-proposals.repository.ts'
@@ -81,10 +81,7 @@ export async function createProposal(
             `Why: ${input.reason}`,
             'Take it up into a change request or decline it with a reason.',
           ],
-          {
-            url: `${deps.config.appUrl}/proposals/${newId}`,
-            label: `Open change proposal #${newId}`,
-          },
+          recordLink(deps.config.appUrl, 'proposals', 'change proposal', newId),
         ),
       }),
     )
@@ -165,10 +162,10 @@ export async function declineProposal(
       to: proposer.email,
       subject: `Change proposal #${id} declined: ${row.title}`,
       topic: 'change_request',
-      ...mailBodies([`Your proposal "${row.title}" was declined.`, `Reason: ${reason}`], {
-        url: `${deps.config.appUrl}/proposals/${id}`,
-        label: `Open change proposal #${id}`,
-      }),
+      ...mailBodies(
+        [`Your proposal "${row.title}" was declined.`, `Reason: ${reason}`],
+        recordLink(deps.config.appUrl, 'proposals', 'change proposal', id),
+      ),
     })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_proposal.decline',

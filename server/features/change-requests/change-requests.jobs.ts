@@ -4,7 +4,7 @@ import type { Transaction } from 'kysely'
 import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
 import { appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { voidSignatures } from '../signatures/signatures.ts'
 import { recipientsOf } from '../users/users.repository.ts'
@@ -46,7 +46,7 @@ export function createChangeRequestJob(
   config: Config,
   clock: Clock,
 ): DueJob<{ reminders: number; flagged: number; expired: number; toRevert: number }> {
-  const link = (id: number) => ({ url: `${config.appUrl}/changes/${id}`, label: `Open change request #${id}` })
+  const link = (id: number) => recordLink(config.appUrl, 'changes', 'change request', id)
   return {
     name: 'change-requests.deadlines',
     intervalSec: 300,

@@ -51,7 +51,7 @@ import type { Database } from '../../db/schema.ts'
 import { AppError, conflict, enforce, notFound, validationFailed } from '../../errors.ts'
 import { attachmentFacts, listAttachments, storeAttachment } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
 import { applyInstrumentDefinition, lockInstrument } from '../register/instruments.service.ts'
 import { applyLimitDefinition, evaluateLimit, lockLimit } from '../register/limits.service.ts'
 import { limitSnapshot } from '../register/register.mappers.ts'
@@ -523,7 +523,7 @@ export async function countWaiting(deps: AppDeps, user: Person): Promise<number>
 // ---------- writing ----------
 
 function link(deps: AppDeps, id: number) {
-  return { url: `${deps.config.appUrl}/changes/${id}`, label: `Open change request #${id}` }
+  return recordLink(deps.config.appUrl, 'changes', 'change request', id)
 }
 
 async function mailTo(

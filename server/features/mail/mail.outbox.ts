@@ -51,6 +51,11 @@ export function mailEach(people: readonly { email: string }[], mail: Omit<Outgoi
   return people.map((p) => ({ ...mail, to: p.email }))
 }
 
+/** The link a mail gives to a record's page: "Open <what> #<id>" at `<appUrl>/<path>/<id>`. */
+export function recordLink(appUrl: string, path: string, what: string, id: number) {
+  return { url: `${appUrl}/${path}/${id}`, label: `Open ${what} #${id}` }
+}
+
 const esc = (s: string) =>
   s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c]!)
 

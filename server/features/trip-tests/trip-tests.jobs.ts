@@ -4,7 +4,7 @@ import type { Clock, DueJob } from '../../clock.ts'
 import type { Config } from '../../config.ts'
 import type { Db } from '../../db/index.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
 import {
   DUE_SOON_TEST_STATUSES,
   isTestOverdue,
@@ -82,7 +82,7 @@ export async function escalatePassedRepairDeadlines(db: Db, config: Config, cloc
           'Continued operation on compensating measures is allowed only for a limited time: decide now whether to ' +
             'repair and retest, shut down, or record a new deadline under management of change.',
         ],
-        { url: `${config.appUrl}/tests/${open.test_id}`, label: `Open trip test #${open.test_id}` },
+        recordLink(config.appUrl, 'tests', 'trip test', open.test_id),
       )
       await enqueueMail(
         trx,

@@ -56,7 +56,7 @@ import type { Database, TripTestTable } from '../../db/schema.ts'
 import { AppError, enforce, notFound, validationFailed } from '../../errors.ts'
 import { attachmentFacts, listAttachments } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
+import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
 import { refreshProtectionState } from '../register/protection-state-column.ts'
 import { toInstrument } from '../register/register.mappers.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
@@ -649,7 +649,7 @@ async function applyResult(
         'The limit is degraded until a full retest passes. A shift supervisor records compensating measures and ' +
           'a repair deadline now. Continued operation on compensating measures is allowed only for a limited time.',
       ],
-      { url: `${deps.config.appUrl}/tests/${row.id}`, label: `Open trip test #${row.id}` },
+      recordLink(deps.config.appUrl, 'tests', 'trip test', row.id),
     )
     await enqueueMail(
       trx,
@@ -795,7 +795,7 @@ export async function signDegradationMeasures(
           'Approve the longer deadline with your signature, or ask for a shorter one. Continued operation on ' +
             'compensating measures is allowed only for a limited time.',
         ],
-        { url: `${deps.config.appUrl}/tests/${d.test_id}`, label: `Open trip test #${d.test_id}` },
+        recordLink(deps.config.appUrl, 'tests', 'trip test', d.test_id),
       )
       await enqueueMail(
         trx,
