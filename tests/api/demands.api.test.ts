@@ -1,13 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { type ApiAgent, signedIn } from './helpers/agent.ts'
-import {
-  auditActions,
-  approveChange,
-  buildActiveHeaterTrip,
-  implementChange,
-  submitChange,
-} from './helpers/factories.ts'
+import { auditActions, buildActiveHeaterTrip, carryOutChange } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -303,16 +297,13 @@ describe('demand and trip log', () => {
   it("keeps a retired limit's hazard-study rates as they stood (docs/register.md#the-rule-book)", async () => {
     ctx.clock.set('2026-06-01T00:00:00Z')
     const c = await crew()
-    const { site, limit } = await buildActiveHeaterTrip(
-      { eng: c.eng, approvers: [c.approver, c.approver2], tech: c.tech },
-      { sil: 2 },
-    )
-    const retire = await submitChange(c.eng, {
+    const changeCrew = { eng: c.eng, approvers: [c.approver, c.approver2], tech: c.tech }
+    const { site, limit } = await buildActiveHeaterTrip(changeCrew, { sil: 2 })
+    await carryOutChange(changeCrew, {
       siteId: site.id,
       title: `Retire ${limit.tag}`,
       items: [{ kind: 'retire', limitId: limit.id }],
     })
-    await implementChange(c.tech, await approveChange([c.approver, c.approver2], retire))
     const body = {
       assumedDemandRatePerYear: 0.2,
       assumedSpuriousRatePerYear: 0.5,
