@@ -2,9 +2,9 @@ import { type EntryKey, useQuery } from '@pinia/colada'
 import { computed } from 'vue'
 import { errorText } from '@/api/errors'
 
-// The records a panel of the limit page lists (its change requests, its proposals): one page of them through Pinia
-// Colada under the caller's key, and the panel's state for AppLimitPanel (`v-bind="panel"`: the count on record, the
-// loading bar, the load error as a sentence, whether any record is shown).
+// The records a panel of the limit page lists (its change requests, proposals, bypasses): one page of them through
+// Pinia Colada under the caller's key, and the panel's state for AppLimitPanel (`v-bind="panel"`: the count on record,
+// the loading bar, the load error as a sentence, whether any record is shown).
 
 export function useLimitPanelList<I>(options: {
   key: () => EntryKey
