@@ -6,6 +6,12 @@ import type {
 } from '@shared/schemas/change-proposals.ts'
 import { http } from '@/api/client'
 
+/** Cache keys of the proposals (Pinia Colada); the lists' keys start with `all` too. */
+export const proposalKeys = {
+  all: ['change-proposals'] as const,
+  one: (id: number) => ['change-proposals', id] as const,
+}
+
 /** `/api/change-proposals` (docs/change-requests.md#change-proposals). */
 export interface ProposalListQuery {
   siteId?: number[]
