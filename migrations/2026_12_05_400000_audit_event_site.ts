@@ -55,12 +55,13 @@ export async function backfillAuditEventSites(db: Kysely<any>): Promise<void> {
       ON CONFLICT (event_id) DO NOTHING
     `.execute(db)
   // an entity deleted since (a draft limit): the site its recorded state named, after the change, else before it
+  // (read as jsonb: the states are json since 2026_12_09_100000_audit_event_recorded_text)
   for (const state of ['after', 'before'])
     await sql`
       INSERT INTO audit_event_site (event_id, site_id)
-      SELECT e.id, s.id FROM audit_event e JOIN site s ON s.id::text = (${sql.ref(`e.${state}`)} ->> 'siteId')
+      SELECT e.id, s.id FROM audit_event e JOIN site s ON s.id::text = (${sql.ref(`e.${state}`)}::jsonb ->> 'siteId')
       WHERE e.site_id IS NULL AND e.entity_type <> ALL (ARRAY['User', 'System'])
-        AND jsonb_typeof(${sql.ref(`e.${state}`)} -> 'siteId') = 'number'
+        AND jsonb_typeof(${sql.ref(`e.${state}`)}::jsonb -> 'siteId') = 'number'
       ON CONFLICT (event_id) DO NOTHING
     `.execute(db)
 }

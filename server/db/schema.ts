@@ -95,6 +95,7 @@ export interface AuditEventTable {
   action: string
   entity_type: string
   entity_id: string | null
+  /** the recorded states as the JSON text the app wrote (type json, read back parsed as jsonb is) */
   before: Json
   after: Json
   reason: string | null

@@ -230,15 +230,24 @@ describe('audit events', () => {
     expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true })
   })
 
-  it('refuses a value jsonb cannot hold (NUL) by failing the whole transaction, leaving the chain intact', async () => {
-    await expect(
-      ctx.db
-        .transaction()
-        .execute((trx) =>
-          appendAudit(trx, ctx.clock, noActor, { action: 'test.nul', entityType: 'System', after: { s: 'a\u0000b' } }),
-        ),
-    ).rejects.toMatchObject({ code: '22P05' })
-    expect(await ctx.db.selectFrom('audit_event').select('id').where('action', '=', 'test.nul').execute()).toEqual([])
+  it('keeps a recorded state as the text written, a NUL jsonb could not hold included, and verifies it', async () => {
+    // the states are json, the text as the app wrote it (migration 2026_12_09_100000); jsonb refused NUL (22P05)
+    await ctx.db.transaction().execute((trx) =>
+      appendAudit(trx, ctx.clock, noActor, {
+        action: 'test.nul',
+        entityType: 'System',
+        after: { zeta: 1.5, s: 'a\u0000b', alpha: [1, { b: true }] },
+      }),
+    )
+    await sealAll(ctx.db, ctx.clock)
+    const { rows } = await sql<{ text: string; after: unknown }>`
+      SELECT after::text AS text, after FROM audit_event WHERE action = 'test.nul'`.execute(ctx.db)
+    expect(rows).toEqual([
+      {
+        text: '{"zeta":1.5,"s":"a\\u0000b","alpha":[1,{"b":true}]}',
+        after: { zeta: 1.5, s: 'a\u0000b', alpha: [1, { b: true }] },
+      },
+    ])
     expect(await verifyAuditChain(ctx.db)).toMatchObject({ ok: true })
   })
 })

@@ -68,12 +68,16 @@ export class CopyCursor {
     return n < 0 ? null : this.buf.toString('utf8', this.at[i], this.at[i] + n)
   }
 
-  /** A jsonb field as its text: jsonb's binary form is a version byte, then its text. */
+  /**
+   * A json or jsonb field as its text: json's binary form is its text, jsonb's a version byte (1), then its text (no
+   * JSON text begins with that byte).
+   */
   json(i: number): JsonText | null {
     const n = this.len[i]
     if (n < 0) return null
-    if (n < 1 || this.buf[this.at[i]] !== 1) throw new Error('unknown jsonb format')
-    return new JsonText(this.buf.toString('utf8', this.at[i] + 1, this.at[i] + n))
+    const skip = jsonTextStart(this.buf, this.at[i], n)
+    if (skip < 0) throw new Error('unknown jsonb format')
+    return new JsonText(this.buf.toString('utf8', this.at[i] + skip, this.at[i] + n))
   }
 
   /** A timestamptz field as Unix milliseconds (rounded from its microseconds). */
@@ -97,6 +101,16 @@ export class CopyCursor {
 }
 
 const ascii = (s: string) => Buffer.from(s, 'latin1')
+
+/**
+ * Where the text of a json or jsonb field of `n` bytes at `from` begins: 0 for json, 1 past jsonb's version byte; -1
+ * for an empty field or a jsonb of another version (no JSON text begins with a byte below 0x20 but white space).
+ */
+function jsonTextStart(buf: Uint8Array, from: number, n: number): number {
+  if (n < 1) return -1
+  const b = buf[from]
+  return b === 1 ? 1 : b >= 0x20 || b === 0x09 || b === 0x0a || b === 0x0d ? 0 : -1
+}
 
 /**
  * Canonical JSON text written into one buffer, reused from event to event: bytes of the copy as they are where their
@@ -341,16 +355,18 @@ function writeFlatObject(w: CanonicalWriter, src: Uint8Array, from: number, to: 
   return true
 }
 
-/** A jsonb field in canonical form (`null` for NULL); false when it is not jsonb's binary form (the general path). */
+/** A json or jsonb field in canonical form (`null` for NULL); false for a jsonb of another version (general path). */
 function writeJsonField(w: CanonicalWriter, c: CopyCursor, i: number): boolean {
   const n = c.len[i]
   if (n < 0) {
     w.ascii('null')
     return true
   }
-  const from = c.at[i]
-  if (n < 1 || c.buf[from] !== 1) return false
-  if (!writeFlatObject(w, c.buf, from + 1, from + n)) w.utf8(canonicalText(c.buf.toString('utf8', from + 1, from + n)))
+  const skip = jsonTextStart(c.buf, c.at[i], n)
+  if (skip < 0) return false
+  const from = c.at[i] + skip
+  const to = c.at[i] + n
+  if (!writeFlatObject(w, c.buf, from, to)) w.utf8(canonicalText(c.buf.toString('utf8', from, to)))
   return true
 }
 

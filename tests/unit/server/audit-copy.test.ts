@@ -37,6 +37,8 @@ interface Event {
   requestId: string | null
   ip: string | null
   siteId: number | null
+  /** the type of the state columns: json since migration 2026_12_09_100000, jsonb before it */
+  stateType: 'json' | 'jsonb'
 }
 
 const int8 = (n: number) => {
@@ -51,7 +53,9 @@ const int4 = (n: number | null) => {
   return b
 }
 const text = (s: string | null) => (s === null ? null : Buffer.from(s, 'utf8'))
-const jsonb = (s: string | null) => (s === null ? null : Buffer.concat([Buffer.from([1]), Buffer.from(s, 'utf8')]))
+/** A recorded state as its column sends it: json as its text, jsonb as a version byte (1), then its text. */
+const state = (s: string | null, type: Event['stateType']) =>
+  s === null ? null : Buffer.concat([Buffer.from(type === 'jsonb' ? [1] : []), Buffer.from(s, 'utf8')])
 
 /** A binary copy of rows of fields (null: NULL): signature, flags, header extension, rows, trailer. */
 function binaryCopy(rows: (Buffer | null)[][]): Buffer {
@@ -104,8 +108,8 @@ function sealedRows(events: Event[], seq0: number, prev: string): (Buffer | null
       text(e.action),
       text(e.entityType),
       text(e.entityId),
-      jsonb(e.before),
-      jsonb(e.after),
+      state(e.before, e.stateType),
+      state(e.after, e.stateType),
       text(e.reason),
       text(e.batchId),
       text(e.requestId),
@@ -200,6 +204,7 @@ const event: fc.Arbitrary<Event> = fc.record({
   requestId: fc.option(awkwardText),
   ip: fc.option(fc.oneof(fc.ipV4(), fc.ipV6())),
   siteId: fc.option(fc.integer({ min: -2_147_483_648, max: 2_147_483_647 })),
+  stateType: fc.constantFrom('json', 'jsonb'),
 })
 const prevHash = fc.oneof(fc.constant('0'.repeat(64)), fc.stringMatching(/^[0-9a-f]{64}$/))
 
@@ -253,7 +258,7 @@ describe('the chain walk on the bytes of a binary copy', () => {
     )
   })
 
-  it('jsonb texts that are odd, not JSON or not UTF-8: the same text, or the same error, as the general path', () => {
+  it('json and jsonb texts that are odd, not JSON or not UTF-8: the same text, or the same error, as the general path', () => {
     const odd = [
       '{"a": 0123}',
       '{"a": 01, "b": 2}',
@@ -281,13 +286,24 @@ describe('the chain walk on the bytes of a binary copy', () => {
       '{ "a": 1}',
     ]
     const e = { occurredMs: 0, actorId: 1, action: 'a', entityType: 'Limit', entityId: null, reason: null }
-    const base: Event = { ...e, before: null, after: null, batchId: null, requestId: null, ip: null, siteId: null }
+    const base: Event = {
+      ...e,
+      before: null,
+      after: null,
+      batchId: null,
+      requestId: null,
+      ip: null,
+      siteId: null,
+      stateType: 'json',
+    }
     const rows = sealedRows([base], 1, '0'.repeat(64))
     const texts = [...odd.map((t) => Buffer.from(t)), Buffer.from('{"a": "\xff", "b": "\xc3"}', 'latin1')]
-    for (const t of texts) {
-      rows[0][7] = Buffer.concat([Buffer.from([1]), t])
-      bothAnswer(binaryCopy(rows), [])
-    }
+    // as json (its text) and as jsonb (a version byte, then its text; 2 is a version that does not exist)
+    for (const t of texts)
+      for (const prefix of [[], [1], [2], [0x1f]]) {
+        rows[0][7] = Buffer.concat([Buffer.from(prefix), t])
+        bothAnswer(binaryCopy(rows), [])
+      }
   })
 
   it('an altered event: not intact', () => {
@@ -304,6 +320,7 @@ describe('the chain walk on the bytes of a binary copy', () => {
       requestId: 'bench:bulk',
       ip: null,
       siteId: 1,
+      stateType: 'json',
     }
     const rows = sealedRows([e, e, e], 1, '0'.repeat(64))
     expect(bothAnswer(binaryCopy(rows), [])).toMatchObject({ ok: true })
