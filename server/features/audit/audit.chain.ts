@@ -140,8 +140,8 @@ function chainRow(c: CopyCursor): ChainRow {
 /**
  * The events of a page of the chain from its binary copy (`CHAIN_COLUMNS`), in the order PostgreSQL sent them, one at
  * a time (an event checked and dropped before the next is read leaves little for the garbage collector): integers from
- * their big-endian bytes, texts as UTF-8, jsonb as its text (`JsonText`, written canonically from the text by the data
- * hash), the time as milliseconds. Throws on a copy of another shape.
+ * their big-endian bytes, texts as UTF-8, the recorded states as their text (`JsonText`, written canonically from the
+ * text by the data hash), the time as milliseconds. Throws on a copy of another shape.
  */
 export function* rowsOfCopy(buf: Buffer): Generator<ChainRow> {
   const c = new CopyCursor(buf, CHAIN_FIELDS)
