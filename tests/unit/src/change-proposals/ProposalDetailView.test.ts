@@ -128,4 +128,27 @@ describe('ProposalDetailView: buttons follow the change-proposal rule book', () 
     expect(w.find('[data-test="proposal-status"]').text()).toBe('Declined')
     expect(buttons(w)).toEqual({ 'take-up': DECLINED, decline: DECLINED })
   })
+
+  it('a refused decline keeps the dialog open with the sentence above the buttons and the message at the reason', async () => {
+    vi.useFakeTimers({ now: NOW, toFake: ['Date'] })
+    const { w } = await open(proposal('open'), ['safety_engineer'], FHR.id, {
+      'POST /change-proposals/42/decline': () => ({
+        status: 400,
+        body: {
+          error: {
+            code: 'VALIDATION_FAILED',
+            message: 'Some fields are not valid',
+            details: { fields: { reason: ['Say why the proposal is declined'] } },
+          },
+        },
+      }),
+    })
+    await openDialog(w, 'proposal-decline')
+    clickInDialog('proposal-decline-confirm')
+    const error = () => document.body.querySelector('[data-test="proposal-decline-error"]')
+    await vi.waitFor(() => expect(error()?.textContent).toContain('Some fields are not valid'))
+    expect(document.body.textContent).toContain('Say why the proposal is declined')
+    expect(document.body.querySelector('.v-dialog.v-overlay--active')).not.toBeNull()
+    expect(w.find('[data-test="proposal-status"]').text()).toBe('Open')
+  })
 })
