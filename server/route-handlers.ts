@@ -1,4 +1,4 @@
-import type { Request, RequestHandler } from 'express'
+import type { Request, RequestHandler, Response } from 'express'
 import type { Action, AppAbility, SubjectName } from '../shared/abilities/index.ts'
 import type { z } from 'zod'
 import { IdSchema, parsePatch } from '../shared/schemas/common.ts'
@@ -16,6 +16,16 @@ export const allowedTo =
     authorize(req.ability, action, name)
     next()
   }
+
+/**
+ * Marks the answer as a file to save: its content type and the file name the browser offers. Returns `res`, so a
+ * download reads `asDownload(res, 'application/pdf', name).send(pdf)`; a streamed one writes its body afterwards.
+ */
+export function asDownload(res: Response, contentType: string, fileName: string): Response {
+  res.setHeader('Content-Type', contentType)
+  res.setHeader('Content-Disposition', `attachment; filename="${fileName}"`)
+  return res
+}
 
 /** The body of a PATCH: the fields it sends, checked by `schema` (parsePatch). */
 export const patchOf =

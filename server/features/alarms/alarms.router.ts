@@ -18,7 +18,7 @@ import {
 import { IdSchema } from '../../../shared/schemas/common.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import type { AppDeps } from '../../deps.ts'
-import { allowedTo, routeHandlers } from '../../route-handlers.ts'
+import { allowedTo, asDownload, routeHandlers } from '../../route-handlers.ts'
 import { onReadStandby } from '../../db/read-standby.ts'
 import { AppError, validationFailed } from '../../errors.ts'
 import { alarmFigures, monthlyReport } from './alarm-figures.service.ts'
@@ -114,8 +114,7 @@ export function createAlarmFiguresRouter(deps: AppDeps) {
     const { pdf, fileName } = await onReadStandby(deps, (d) =>
       monthlyReport(d, req.ability, AlarmReportQuerySchema.parse(req.query)),
     )
-    res.type('application/pdf').setHeader('Content-Disposition', `attachment; filename="${fileName}"`)
-    res.send(pdf)
+    asDownload(res, 'application/pdf', fileName).send(pdf)
   })
   return router
 }

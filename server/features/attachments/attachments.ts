@@ -5,6 +5,10 @@ import type { Transaction } from 'kysely'
 import type { Clock } from '../../clock.ts'
 import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
+import type { AppDeps } from '../../deps.ts'
+import { asDownload } from '../../route-handlers.ts'
+import type { AppAbility } from '../../../shared/abilities/index.ts'
+import { IdSchema } from '../../../shared/schemas/common.ts'
 import { ErrorCode } from '../../../shared/errors.ts'
 import { AppError, notFound, validationFailed } from '../../errors.ts'
 import { findAttachment, insertAttachment, listAttachments } from './attachments.repository.ts'
@@ -130,4 +134,21 @@ export async function readAttachment(db: Db, entityType: string, entityId: numbe
   const row = await findAttachment(db, entityType, entityId, id)
   if (!row) throw notFound('Attachment')
   return row
+}
+
+/**
+ * `GET /:id/attachments/:attachmentId`: a file attached to a record, as a download, once `readRecord` (the record's
+ * service read, which refuses with 404 or 403) has shown that the user may read the record.
+ */
+export function attachmentDownload(
+  deps: AppDeps,
+  entityType: string,
+  readRecord: (deps: AppDeps, ability: AppAbility, id: number) => Promise<unknown>,
+): RequestHandler {
+  return async (req, res) => {
+    const recordId = IdSchema.parse(req.params.id)
+    await readRecord(deps, req.ability, recordId)
+    const a = await readAttachment(deps.db, entityType, recordId, IdSchema.parse(req.params.attachmentId))
+    asDownload(res, a.content_type, a.file_name).send(a.content)
+  }
 }

@@ -10,6 +10,7 @@ import { auditReadScope } from '../../../shared/abilities/index.ts'
 import { authorize } from '../../authorize.ts'
 import { csvPart } from '../../csv.ts'
 import type { AppDeps } from '../../deps.ts'
+import { asDownload } from '../../route-handlers.ts'
 import { auditExportPage, entityTitles, listAuditEvents, recordedFields, siteCodesById } from './audit.repository.ts'
 import { verifyTrailOnce } from './audit.verify.ts'
 
@@ -83,8 +84,7 @@ export function createAuditRouter(deps: AppDeps) {
     const q = AuditExportQuerySchema.parse(req.query)
     const scope = auditReadScope(req.user)
     const siteCodes = await siteCodesById(deps.db)
-    res.setHeader('Content-Type', 'text/csv; charset=utf-8')
-    res.setHeader('Content-Disposition', 'attachment; filename="limitkeeper-audit-trail.csv"')
+    asDownload(res, 'text/csv; charset=utf-8', 'limitkeeper-audit-trail.csv')
     const fields = [
       'Event',
       'Time (UTC)',

@@ -17,7 +17,7 @@ import type { AppDeps } from '../../deps.ts'
 import { onReadStandby } from '../../db/read-standby.ts'
 import { forbidden } from '../../errors.ts'
 import { headedTable, renderPdf } from '../../pdf.ts'
-import { routeHandlers } from '../../route-handlers.ts'
+import { asDownload, routeHandlers } from '../../route-handlers.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { bypassReview, RISK_CAUTION, riskErosion } from './bypass-review.service.ts'
 import * as service from './bypasses.service.ts'
@@ -199,14 +199,10 @@ export function createBypassReviewRouter(deps: AppDeps) {
           { text: RISK_CAUTION, fontSize: 7, italics: true, margin: [0, 12, 0, 0] },
         ],
       })
-      res.setHeader('Content-Type', 'application/pdf')
-      res.setHeader('Content-Disposition', 'attachment; filename="limitkeeper-bypass-review.pdf"')
-      res.send(pdf)
+      asDownload(res, 'application/pdf', 'limitkeeper-bypass-review.pdf').send(pdf)
       return
     }
-    res.setHeader('Content-Type', 'text/csv; charset=utf-8')
-    res.setHeader('Content-Disposition', 'attachment; filename="limitkeeper-bypass-review.csv"')
-    res.send(toCsv(rows))
+    asDownload(res, 'text/csv; charset=utf-8', 'limitkeeper-bypass-review.csv').send(toCsv(rows))
   })
   return router
 }

@@ -15,8 +15,8 @@ import {
 import { IdSchema, parsePatch } from '../../../shared/schemas/common.ts'
 import { scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import { routeHandlers } from '../../route-handlers.ts'
-import { readAttachment, receiveAttachment } from '../attachments/attachments.ts'
+import { asDownload, routeHandlers } from '../../route-handlers.ts'
+import { attachmentDownload, receiveAttachment } from '../attachments/attachments.ts'
 import { changeRequestPdf } from './change-requests.pdf.ts'
 import * as service from './change-requests.service.ts'
 
@@ -37,9 +37,7 @@ export function createChangeRequestsRouter(deps: AppDeps) {
   router.get('/:id/pdf', async (req, res) => {
     const cr = await service.getChangeRequest(deps, req.ability, id(req.params.id))
     const pdf = await changeRequestPdf(cr, deps.clock.now())
-    res.setHeader('Content-Type', 'application/pdf')
-    res.setHeader('Content-Disposition', `attachment; filename="change-request-${cr.id}.pdf"`)
-    res.send(pdf)
+    asDownload(res, 'application/pdf', `change-request-${cr.id}.pdf`).send(pdf)
   })
   router.post('/', async (req, res) => {
     const newId = await service.createChangeRequest(
@@ -76,13 +74,6 @@ export function createChangeRequestsRouter(deps: AppDeps) {
       .status(201)
       .json({ id: att.id, fileName: att.file_name, contentType: att.content_type, sizeBytes: att.size_bytes })
   })
-  router.get('/:id/attachments/:attachmentId', async (req, res) => {
-    const crId = id(req.params.id)
-    await service.getChangeRequest(deps, req.ability, crId)
-    const a = await readAttachment(deps.db, 'ChangeRequest', crId, id(req.params.attachmentId))
-    res.setHeader('Content-Type', a.content_type)
-    res.setHeader('Content-Disposition', `attachment; filename="${a.file_name}"`)
-    res.send(a.content)
-  })
+  router.get('/:id/attachments/:attachmentId', attachmentDownload(deps, 'ChangeRequest', service.getChangeRequest))
   return router
 }

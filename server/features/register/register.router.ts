@@ -19,7 +19,7 @@ import {
 } from '../../../shared/schemas/register.ts'
 import { scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import { patchOf, routeHandlers } from '../../route-handlers.ts'
+import { asDownload, patchOf, routeHandlers } from '../../route-handlers.ts'
 import { onReadStandby } from '../../db/read-standby.ts'
 import * as instruments from './instruments.service.ts'
 import * as limits from './limits.service.ts'
@@ -89,9 +89,7 @@ export function createLimitsRouter(deps: AppDeps) {
   router.get('/export', async (req, res) => {
     const { format, ...query } = LimitExportQuerySchema.parse(req.query)
     const file = await onReadStandby(deps, (d) => register.exportRegister(d, req.user, query, format))
-    res.setHeader('Content-Type', file.contentType)
-    res.setHeader('Content-Disposition', `attachment; filename="${file.fileName}"`)
-    res.send(file.body)
+    asDownload(res, file.contentType, file.fileName).send(file.body)
   })
   router.get('/:id', route.read(limits.getLimit))
   router.get('/:id/response-sheet', async (req, res) => {
@@ -147,9 +145,7 @@ function sendRegisterPage(req: Request, res: Response, page: register.RegisterPa
 
 /** Sends a generated PDF as a download; the file name is made of tags and site codes only. */
 function sendPdf(res: Response, pdf: Buffer, fileName: string) {
-  res.setHeader('Content-Type', 'application/pdf')
-  res.setHeader('Content-Disposition', `attachment; filename="${fileName.replace(/[^A-Za-z0-9._-]/g, '_')}"`)
-  res.send(pdf)
+  asDownload(res, 'application/pdf', fileName.replace(/[^A-Za-z0-9._-]/g, '_')).send(pdf)
 }
 
 /** `/api/alarm-response-sheets?siteId=…&areaId=…`: the booklet of the active alarms and alerts, one page each. */

@@ -15,8 +15,8 @@ import {
 } from '../../../shared/schemas/trip-tests.ts'
 import { authorize, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
-import { routeHandlers } from '../../route-handlers.ts'
-import { readAttachment, receiveAttachment, storeAttachment } from '../attachments/attachments.ts'
+import { asDownload, routeHandlers } from '../../route-handlers.ts'
+import { attachmentDownload, receiveAttachment, storeAttachment } from '../attachments/attachments.ts'
 import { tripTestCertificate } from './trip-tests.pdf.ts'
 import { runDigestForSite } from './trip-tests.jobs.ts'
 import * as service from './trip-tests.service.ts'
@@ -70,9 +70,7 @@ export function createTripTestsRouter(deps: AppDeps) {
         'Recorded by': t.recordedBy,
       })),
     )
-    res.setHeader('Content-Type', 'text/csv; charset=utf-8')
-    res.setHeader('Content-Disposition', 'attachment; filename="limitkeeper-trip-tests.csv"')
-    res.send(csv)
+    asDownload(res, 'text/csv; charset=utf-8', 'limitkeeper-trip-tests.csv').send(csv)
   })
   router.get('/overdue-repairs', async (req, res) => {
     const q = SiteFilterQuerySchema.parse(req.query)
@@ -109,9 +107,7 @@ export function createTripTestsRouter(deps: AppDeps) {
     const t = await service.getTripTest(deps, req.ability, id(req.params.id))
     const info = await service.certificateContext(deps, t.limitId)
     const pdf = await tripTestCertificate(t, { ...info, printedAt: deps.clock.now() })
-    res.setHeader('Content-Type', 'application/pdf')
-    res.setHeader('Content-Disposition', `attachment; filename="trip-test-${t.id}-${t.limitTag}.pdf"`)
-    res.send(pdf)
+    asDownload(res, 'application/pdf', `trip-test-${t.id}-${t.limitTag}.pdf`).send(pdf)
   })
   router.post('/:id/attachments', receiveAttachment, async (req, res) => {
     const att = await service.attachToTripTest(deps, req.ability, req.audit, id(req.params.id), (trx) =>
@@ -123,14 +119,7 @@ export function createTripTestsRouter(deps: AppDeps) {
     )
     res.status(201).json(att)
   })
-  router.get('/:id/attachments/:attachmentId', async (req, res) => {
-    const testId = id(req.params.id)
-    await service.getTripTest(deps, req.ability, testId)
-    const a = await readAttachment(deps.db, 'TripTest', testId, id(req.params.attachmentId))
-    res.setHeader('Content-Type', a.content_type)
-    res.setHeader('Content-Disposition', `attachment; filename="${a.file_name}"`)
-    res.send(a.content)
-  })
+  router.get('/:id/attachments/:attachmentId', attachmentDownload(deps, 'TripTest', service.getTripTest))
   return router
 }
 
