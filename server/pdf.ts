@@ -30,3 +30,18 @@ export function renderPdf(doc: Record<string, unknown>): Promise<Buffer> {
 export function headedTable(widths: (string | number)[], headings: string[], rows: unknown[][]) {
   return { table: { headerRows: 1, widths, body: [headings.map((text) => ({ text, bold: true })), ...rows] } }
 }
+
+/** A document's footer: `<label> · page n of m`, small and centred on every page. */
+export function pageFooter(label: string) {
+  return (page: number, pages: number) => ({
+    text: `${label} · page ${page} of ${pages}`,
+    fontSize: 7,
+    alignment: 'center',
+    margin: [0, 16, 0, 0],
+  })
+}
+
+/** The small italic note that closes a document: what the register or the record is not, how to read figures. */
+export function closingNote(text: string, spaceAbove: number) {
+  return { text, fontSize: 7, italics: true, margin: [0, spaceAbove, 0, 0] }
+}

@@ -10,7 +10,7 @@ import { SitePolicySchema } from '../../../shared/schemas/sites.ts'
 import { authorize } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { notFound, validationFailed } from '../../errors.ts'
-import { headedTable, renderPdf } from '../../pdf.ts'
+import { closingNote, headedTable, renderPdf } from '../../pdf.ts'
 import * as repo from './alarms.repository.ts'
 
 // Alarm-system performance figures for a site, area or operator position and period (default: the last 30 days,
@@ -172,16 +172,13 @@ export async function monthlyReport(
           : 'No flood in the month.',
         margin: [0, 8, 0, 0],
       },
-      {
-        text:
-          'Figures come from the imported alarm journal. ' +
+      closingNote(
+        'Figures come from the imported alarm journal. ' +
           'Targets marked "from memory" are defaults of the site policy, ' +
           'not quotations of the standards. The register is not the safety system: verify settings on the device ' +
           'under the plant’s procedures; local codes and licensed engineering judgement prevail.',
-        fontSize: 7,
-        italics: true,
-        margin: [0, 12, 0, 0],
-      },
+        12,
+      ),
     ],
   }
   return { pdf: await renderPdf(doc), fileName: `alarm-performance-${site.code}-${q.month}.pdf` }

@@ -16,7 +16,7 @@ import { allows, scopeSites } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { onReadStandby } from '../../db/read-standby.ts'
 import { forbidden } from '../../errors.ts'
-import { headedTable, renderPdf } from '../../pdf.ts'
+import { closingNote, headedTable, renderPdf } from '../../pdf.ts'
 import { asDownload, routeHandlers } from '../../route-handlers.ts'
 import type { CurrentUser } from '../../types/express.d.ts'
 import { bypassReview, RISK_CAUTION, riskErosion } from './bypass-review.service.ts'
@@ -196,7 +196,7 @@ export function createBypassReviewRouter(deps: AppDeps) {
             layout: 'lightHorizontalLines',
             fontSize: 7,
           },
-          { text: RISK_CAUTION, fontSize: 7, italics: true, margin: [0, 12, 0, 0] },
+          closingNote(RISK_CAUTION, 12),
         ],
       })
       asDownload(res, 'application/pdf', 'limitkeeper-bypass-review.pdf').send(pdf)

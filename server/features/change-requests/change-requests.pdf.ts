@@ -1,5 +1,5 @@
 import type { ChangeRequestDto } from '../../../shared/schemas/change-requests.ts'
-import { headedTable, renderPdf } from '../../pdf.ts'
+import { closingNote, headedTable, pageFooter, renderPdf } from '../../pdf.ts'
 
 const fmt = (v: unknown): string =>
   v === null || v === undefined || v === '' ? '—' : typeof v === 'object' ? JSON.stringify(v) : String(v)
@@ -34,12 +34,7 @@ export function changeRequestPdf(cr: ChangeRequestDto, printedAt: Date): Promise
   ])
   return renderPdf({
     info: { title: `Change request #${cr.id}`, creator: 'Limitkeeper' },
-    footer: (page: number, pages: number) => ({
-      text: `Change request #${cr.id} · content hash ${cr.contentHash} · page ${page} of ${pages}`,
-      fontSize: 7,
-      alignment: 'center',
-      margin: [0, 16, 0, 0],
-    }),
+    footer: pageFooter(`Change request #${cr.id} · content hash ${cr.contentHash}`),
     content: [
       { text: `Change request #${cr.id}: ${cr.title}`, style: 'h1' },
       {
@@ -89,14 +84,11 @@ export function changeRequestPdf(cr: ChangeRequestDto, printedAt: Date): Promise
         layout: 'lightHorizontalLines',
       },
       ...(cr.pssr ? [{ text: 'Pre-start-up safety review', style: 'h2' }, { text: fmt(cr.pssr) }] : []),
-      {
-        text:
-          'Limitkeeper records what the safety system should do; it is not the safety system. ' +
+      closingNote(
+        'Limitkeeper records what the safety system should do; it is not the safety system. ' +
           "Verify every setting on the device under the plant's own procedures.",
-        fontSize: 7,
-        italics: true,
-        margin: [0, 16, 0, 0],
-      },
+        16,
+      ),
     ],
     styles: {
       h1: { fontSize: 14, bold: true, margin: [0, 0, 0, 4] },

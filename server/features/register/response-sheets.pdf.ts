@@ -1,4 +1,4 @@
-import { renderPdf } from '../../pdf.ts'
+import { pageFooter, renderPdf } from '../../pdf.ts'
 import type { ResponseSheetRow } from './response-sheets.repository.ts'
 
 // Alarm response sheets: what the operator needs at hand for each alarm (ISA-18.2 expects response information
@@ -90,12 +90,7 @@ export function responseSheetsPdf(rows: ResponseSheetRow[], title: string, print
   const printed = printedAt.toLocaleString('en-GB', { timeZone: tz, dateStyle: 'medium', timeStyle: 'short' })
   return renderPdf({
     info: { title, creator: 'Limitkeeper' },
-    footer: (page: number, pages: number) => ({
-      text: `${title} · page ${page} of ${pages}`,
-      fontSize: 7,
-      alignment: 'center',
-      margin: [0, 16, 0, 0],
-    }),
+    footer: pageFooter(title),
     styles: { h1: { fontSize: 16, bold: true, margin: [0, 2, 0, 2] } },
     content: rows.flatMap((r, i) => sheet(r, printed, i === 0)),
   })

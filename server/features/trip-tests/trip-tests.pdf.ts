@@ -1,5 +1,5 @@
 import { precautionLines, type TripTestDto } from '../../../shared/schemas/trip-tests.ts'
-import { headedTable, renderPdf } from '../../pdf.ts'
+import { closingNote, headedTable, pageFooter, renderPdf } from '../../pdf.ts'
 
 function v(x: unknown, unit = ''): string {
   return x === null || x === undefined || x === '' ? '—' : `${x}${unit ? ` ${unit}` : ''}`
@@ -29,12 +29,7 @@ export function tripTestCertificate(
   const row = (label: string, value: string) => [{ text: label, color: '#555' }, value]
   return renderPdf({
     info: { title: `Trip test certificate #${t.id}`, creator: 'Limitkeeper' },
-    footer: (page: number, pages: number) => ({
-      text: `Trip test #${t.id} · record hash ${t.contentHash} · page ${page} of ${pages}`,
-      fontSize: 7,
-      alignment: 'center',
-      margin: [0, 16, 0, 0],
-    }),
+    footer: pageFooter(`Trip test #${t.id} · record hash ${t.contentHash}`),
     content: [
       { text: 'Trip test certificate', style: 'h1' },
       { text: `${t.limitTag} — ${ctx.limitDescription}`, fontSize: 11, margin: [0, 0, 0, 2] },
@@ -119,15 +114,12 @@ export function tripTestCertificate(
         ),
         layout: 'lightHorizontalLines',
       },
-      {
-        text:
-          `Printed ${ctx.printedAt.toISOString()} by Limitkeeper. ` +
+      closingNote(
+        `Printed ${ctx.printedAt.toISOString()} by Limitkeeper. ` +
           "This certificate records a test; it does not replace the plant's procedures. " +
           'Settings must be verified on the device.',
-        fontSize: 7,
-        italics: true,
-        margin: [0, 16, 0, 0],
-      },
+        16,
+      ),
     ],
     styles: {
       h1: { fontSize: 16, bold: true, margin: [0, 0, 0, 4] },
