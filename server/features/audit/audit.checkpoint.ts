@@ -5,7 +5,7 @@ import { fileURLToPath } from 'node:url'
 import canonicalize from 'canonicalize'
 import type { Clock, DueJob } from '../../clock.ts'
 import type { Db } from '../../db/index.ts'
-import { enqueueMail, mailBodies } from '../mail/mail.outbox.ts'
+import { mailNotice } from '../mail/mail.outbox.ts'
 import { type AuditKeys, loadAuditKeys } from './audit.key.ts'
 import { activeAuditorEmails, type CheckpointClaim, readSealedHead, sealAll } from './audit.repository.ts'
 
@@ -139,23 +139,22 @@ export async function checkpointAndMail(db: Db, clock: Clock, opts: { keys?: Aud
   const c = await writeCheckpoint(db, clock, opts)
   const auditors = await activeAuditorEmails(db)
   const { file, ...signed } = c
-  const bodies = mailBodies([
-    `Checkpoint of the audit trail at ${c.createdAt}: ` +
-      `head event ${c.headId} at chain position ${c.headSeq}, ${c.count} sealed events.`,
-    'Keep this message outside Limitkeeper. `npm run audit:verify` checks the trail against the checkpoint files; ' +
-      'if the copy kept there differs from this one, the trail or its checkpoints were changed.',
-    JSON.stringify(signed),
-  ])
   await db.transaction().execute((trx) =>
-    enqueueMail(
+    mailNotice(
       trx,
       clock,
-      auditors.map((to) => ({
-        to,
+      auditors.map((email) => ({ email })),
+      {
         subject: `Audit trail checkpoint ${c.createdAt.slice(0, 10)}: head ${c.headSeq}`,
         topic: 'audit_checkpoint',
-        ...bodies,
-      })),
+        paragraphs: [
+          `Checkpoint of the audit trail at ${c.createdAt}: ` +
+            `head event ${c.headId} at chain position ${c.headSeq}, ${c.count} sealed events.`,
+          'Keep this message outside Limitkeeper. `npm run audit:verify` checks the trail against the checkpoint ' +
+            'files; if the copy kept there differs from this one, the trail or its checkpoints were changed.',
+          JSON.stringify(signed),
+        ],
+      },
     ),
   )
   return { ...c, file, mailed: auditors.length }

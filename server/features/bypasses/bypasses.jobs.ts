@@ -2,7 +2,7 @@ import type { Clock, DueJob } from '../../clock.ts'
 import type { Config } from '../../config.ts'
 import type { Db } from '../../db/index.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
+import { mailNotice, recordLink } from '../mail/mail.outbox.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { recipientsOf } from '../users/users.repository.ts'
 import { findOpenBypassesForJob, lockBypassDeadlines, updateBypass } from './bypasses.repository.ts'
@@ -59,36 +59,30 @@ export function createBypassJob(
             now.getTime() < end
           ) {
             await updateBypass(trx, b.id, { expiry_warned_at: now })
-            await enqueueMail(trx, clock, {
-              to: b.requester_email,
+            await mailNotice(trx, clock, [{ email: b.requester_email }], {
               subject: `Bypass of ${b.tag} ends at ${cur.planned_end.toISOString().slice(11, 16)} UTC`,
               topic: 'bypass',
-              ...mailBodies(
-                [
-                  `The bypass #${b.id} of ${b.tag} reaches its planned end at ${cur.planned_end.toISOString()}.`,
-                  'Remove it on record once the process value is clear of the limit, or ask for an extension.',
-                ],
-                link(b.id),
-              ),
+              paragraphs: [
+                `The bypass #${b.id} of ${b.tag} reaches its planned end at ${cur.planned_end.toISOString()}.`,
+                'Remove it on record once the process value is clear of the limit, or ask for an extension.',
+              ],
+              link: link(b.id),
             })
             counts.warned++
           }
           if (now.getTime() > end && !cur.overdue_notified_at) {
             await updateBypass(trx, b.id, { overdue_notified_at: now })
             const sups = await recipientsOf(trx, b.site_id, 'bypassOverdue')
-            const bodies = mailBodies(
-              [
+            await mailNotice(trx, clock, sups, {
+              subject: `OVERDUE bypass: ${b.tag}`,
+              topic: 'bypass',
+              paragraphs: [
                 `The bypass #${b.id} of ${b.tag} is past its planned end (${cur.planned_end.toISOString()}) ` +
                   'and still active: the limit protects nothing.',
                 'Remove it on record or have it extended by a signed authorization.',
               ],
-              link(b.id),
-            )
-            await enqueueMail(
-              trx,
-              clock,
-              mailEach(sups, { subject: `OVERDUE bypass: ${b.tag}`, ...bodies, topic: 'bypass' }),
-            )
+              link: link(b.id),
+            })
             await appendAudit(trx, clock, SYSTEM, {
               action: 'bypass.overdue',
               entityType: 'Bypass',
@@ -103,19 +97,12 @@ export function createBypassJob(
             await updateBypass(trx, b.id, { last_escalation_at: now })
             const managers = await recipientsOf(trx, b.site_id, 'bypassEscalated')
             const hours = ((now.getTime() - end) / HOUR).toFixed(1)
-            const bodies = mailBodies(
-              [`The bypass #${b.id} of ${b.tag} has been overdue for ${hours} h and is still active.`],
-              link(b.id),
-            )
-            await enqueueMail(
-              trx,
-              clock,
-              mailEach(managers, {
-                subject: `Escalation: bypass of ${b.tag} overdue for ${hours} h`,
-                ...bodies,
-                topic: 'bypass',
-              }),
-            )
+            await mailNotice(trx, clock, managers, {
+              subject: `Escalation: bypass of ${b.tag} overdue for ${hours} h`,
+              topic: 'bypass',
+              paragraphs: [`The bypass #${b.id} of ${b.tag} has been overdue for ${hours} h and is still active.`],
+              link: link(b.id),
+            })
             await appendAudit(trx, clock, SYSTEM, {
               action: 'bypass.escalate',
               entityType: 'Bypass',

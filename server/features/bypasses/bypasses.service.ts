@@ -20,7 +20,7 @@ import type { AppDeps } from '../../deps.ts'
 import { errorField } from '../../db/index.ts'
 import { conflict, enforce, notFound, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
+import { mailNotice, recordLink } from '../mail/mail.outbox.ts'
 import { refreshProtectionState } from '../register/protection-state-column.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
 import { policyOf } from '../sites/sites.service.ts'
@@ -265,15 +265,14 @@ export async function requestBypass(
       after: { ...input, compensatingMeasures: measures },
     })
     const to = (await recipientsOf(trx, l.site_id, 'bypassRequested')).filter((u) => u.id !== ctx.actorId)
-    const bodies = mailBodies(
-      [`A bypass of ${l.tag} is requested for ${hours.toFixed(1)} h from ${start.toISOString()}: ${input.reason}`],
-      link(deps, id),
-    )
-    await enqueueMail(
-      trx,
-      deps.clock,
-      mailEach(to, { subject: `Bypass of ${l.tag} requested`, ...bodies, topic: 'bypass' }),
-    )
+    await mailNotice(trx, deps.clock, to, {
+      subject: `Bypass of ${l.tag} requested`,
+      topic: 'bypass',
+      paragraphs: [
+        `A bypass of ${l.tag} is requested for ${hours.toFixed(1)} h from ${start.toISOString()}: ${input.reason}`,
+      ],
+      link: link(deps, id),
+    })
     return id
   })
   return getBypass(deps, ability, id)
@@ -388,20 +387,17 @@ export async function authorizeBypass(
       after: { ...content, signer: signer.name, hours: input.hours ?? hoursBetween(b.planned_start, b.planned_end) },
     })
     const requester = await userContact(trx, b.requested_by)
-    await enqueueMail(trx, deps.clock, {
-      to: requester.email,
+    await mailNotice(trx, deps.clock, [requester], {
       subject: `Bypass #${id} of ${l.tag} ${extension ? 'extended' : 'authorized'}`,
       topic: 'bypass',
-      ...mailBodies(
-        [
-          `${signer.name} ${extension ? `extended the bypass to ${newEnd.toISOString()}` : 'authorized the bypass'}.`,
-          extension
-            ? ''
-            : `Put it in force from its planned start (${b.planned_start.toISOString()}) and within ` +
-              `${l.policyParsed.bypassAuthorizationLapseHours} h of it, or the authorization lapses.`,
-        ].filter(Boolean),
-        link(deps, id),
-      ),
+      paragraphs: [
+        `${signer.name} ${extension ? `extended the bypass to ${newEnd.toISOString()}` : 'authorized the bypass'}.`,
+        extension
+          ? ''
+          : `Put it in force from its planned start (${b.planned_start.toISOString()}) and within ` +
+            `${l.policyParsed.bypassAuthorizationLapseHours} h of it, or the authorization lapses.`,
+      ].filter(Boolean),
+      link: link(deps, id),
     })
   })
   return getBypass(deps, ability, id)

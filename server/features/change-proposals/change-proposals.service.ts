@@ -14,7 +14,7 @@ import { readableRow } from '../../authorize.ts'
 import type { AppDeps } from '../../deps.ts'
 import { enforce, validationFailed } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
+import { mailNotice, recordLink } from '../mail/mail.outbox.ts'
 import { recipientsOf, userContact } from '../users/users.repository.ts'
 import { limitRecordOf } from '../register/register.mappers.ts'
 import * as repo from './change-proposals.repository.ts'
@@ -69,22 +69,16 @@ export async function createProposal(
     }
     const newId = await repo.insertProposal(trx, { ...input, proposerId: ctx.actorId!, now: deps.clock.now() })
     const engineers = await recipientsOf(trx, input.siteId, 'proposalRaised')
-    await enqueueMail(
-      trx,
-      deps.clock,
-      mailEach(engineers, {
-        subject: `Change proposal #${newId}: ${input.title}`,
-        topic: 'change_request',
-        ...mailBodies(
-          [
-            `What: ${input.title}`,
-            `Why: ${input.reason}`,
-            'Take it up into a change request or decline it with a reason.',
-          ],
-          recordLink(deps.config.appUrl, 'proposals', 'change proposal', newId),
-        ),
-      }),
-    )
+    await mailNotice(trx, deps.clock, engineers, {
+      subject: `Change proposal #${newId}: ${input.title}`,
+      topic: 'change_request',
+      paragraphs: [
+        `What: ${input.title}`,
+        `Why: ${input.reason}`,
+        'Take it up into a change request or decline it with a reason.',
+      ],
+      link: recordLink(deps.config.appUrl, 'proposals', 'change proposal', newId),
+    })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_proposal.create',
       entityType: ENTITY,
@@ -158,14 +152,11 @@ export async function declineProposal(
       declineReason: reason,
     })
     const proposer = await userContact(trx, row.proposer_id)
-    await enqueueMail(trx, deps.clock, {
-      to: proposer.email,
+    await mailNotice(trx, deps.clock, [proposer], {
       subject: `Change proposal #${id} declined: ${row.title}`,
       topic: 'change_request',
-      ...mailBodies(
-        [`Your proposal "${row.title}" was declined.`, `Reason: ${reason}`],
-        recordLink(deps.config.appUrl, 'proposals', 'change proposal', id),
-      ),
+      paragraphs: [`Your proposal "${row.title}" was declined.`, `Reason: ${reason}`],
+      link: recordLink(deps.config.appUrl, 'proposals', 'change proposal', id),
     })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'change_proposal.decline',

@@ -4,7 +4,7 @@ import type { Transaction } from 'kysely'
 import type { Db } from '../../db/index.ts'
 import type { Database } from '../../db/schema.ts'
 import { appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
+import { mailNotice, recordLink } from '../mail/mail.outbox.ts'
 import { policyOf } from '../sites/sites.service.ts'
 import { voidSignatures } from '../signatures/signatures.ts'
 import { recipientsOf } from '../users/users.repository.ts'
@@ -58,19 +58,16 @@ export function createChangeRequestJob(
         (trx, cr) =>
           repo.claimRequest(trx, cr.id, { revert_reminder_at: now }, { column: 'revert_reminder_at', isNull: true }),
         async (trx, cr) => {
-          await enqueueMail(trx, clock, {
-            to: cr.email,
+          await mailNotice(trx, clock, [{ email: cr.email }], {
             subject:
               `Temporary change #${cr.id} ` +
               `expires ${cr.expires_at!.toISOString().slice(0, 16).replace('T', ' ')} UTC: revert it`,
             topic: 'change_request',
-            ...mailBodies(
-              [
-                `The temporary change "${cr.title}" expires at ${cr.expires_at!.toISOString()}.`,
-                'Revert it on the device through a change request before then, or extend it by a new approved request.',
-              ],
-              link(cr.id),
-            ),
+            paragraphs: [
+              `The temporary change "${cr.title}" expires at ${cr.expires_at!.toISOString()}.`,
+              'Revert it on the device through a change request before then, or extend it by a new approved request.',
+            ],
+            link: link(cr.id),
           })
           await appendAudit(trx, clock, SYSTEM, {
             action: 'change_request.revert_reminder',
@@ -89,24 +86,22 @@ export function createChangeRequestJob(
           const supervisors = await recipientsOf(trx, cr.site_id, 'temporaryChangeExpired')
           const to = [...new Set([cr.email, ...supervisors.map((u) => u.email)])]
           const ended = cr.expires_at!.toISOString().slice(0, 16).replace('T', ' ')
-          await enqueueMail(
+          await mailNotice(
             trx,
             clock,
-            to.map((address) => ({
-              to: address,
+            to.map((email) => ({ email })),
+            {
               subject: `Temporary change #${cr.id} expired ${ended} UTC and is not reverted`,
               topic: 'change_request',
-              ...mailBodies(
-                [
-                  `The temporary change "${cr.title}" passed its end at ${cr.expires_at!.toISOString()} ` +
-                    'and is still on the device: expired, to be reverted.',
-                  'Revert it through a reversal change request (read back on the device), ' +
-                    'or make it permanent by a new approved request. ' +
-                    'This notice repeats daily until a reversal is implemented.',
-                ],
-                link(cr.id),
-              ),
-            })),
+              paragraphs: [
+                `The temporary change "${cr.title}" passed its end at ${cr.expires_at!.toISOString()} ` +
+                  'and is still on the device: expired, to be reverted.',
+                'Revert it through a reversal change request (read back on the device), ' +
+                  'or make it permanent by a new approved request. ' +
+                  'This notice repeats daily until a reversal is implemented.',
+              ],
+              link: link(cr.id),
+            },
           )
           await appendAudit(trx, clock, SYSTEM, {
             action: 'change_request.expired_not_reverted',
@@ -129,22 +124,15 @@ export function createChangeRequestJob(
           ),
         async (trx, cr) => {
           const to = await recipientsOf(trx, cr.site_id, 'emergencyChangeUnapproved')
-          await enqueueMail(
-            trx,
-            clock,
-            mailEach(to, {
-              subject: `Emergency change #${cr.id} is still unapproved after 24 h`,
-              topic: 'change_request',
-              ...mailBodies(
-                [
-                  `The emergency change "${cr.title}" ` +
-                    'was implemented more than 24 hours ago and has not been approved.',
-                  'Review and sign it, or reverse it.',
-                ],
-                link(cr.id),
-              ),
-            }),
-          )
+          await mailNotice(trx, clock, to, {
+            subject: `Emergency change #${cr.id} is still unapproved after 24 h`,
+            topic: 'change_request',
+            paragraphs: [
+              `The emergency change "${cr.title}" was implemented more than 24 hours ago and has not been approved.`,
+              'Review and sign it, or reverse it.',
+            ],
+            link: link(cr.id),
+          })
           await appendAudit(trx, clock, SYSTEM, {
             action: 'change_request.emergency_flagged',
             entityType: 'ChangeRequest',
@@ -176,17 +164,14 @@ export function createChangeRequestJob(
             `approval expired: not implemented within ${days} days`,
             ['approved'],
           )
-          await enqueueMail(trx, clock, {
-            to: cr.email,
+          await mailNotice(trx, clock, [{ email: cr.email }], {
             subject: `Approval of change request #${cr.id} expired`,
             topic: 'change_request',
-            ...mailBodies(
-              [
-                `The change "${cr.title}" was not implemented within ${days} days of its approval. ` +
-                  'The approvals are void and it needs approving again.',
-              ],
-              link(cr.id),
-            ),
+            paragraphs: [
+              `The change "${cr.title}" was not implemented within ${days} days of its approval. ` +
+                'The approvals are void and it needs approving again.',
+            ],
+            link: link(cr.id),
           })
           await appendAudit(trx, clock, SYSTEM, {
             action: 'change_request.approval_expired',

@@ -51,7 +51,7 @@ import type { Database } from '../../db/schema.ts'
 import { AppError, conflict, enforce, notFound, validationFailed } from '../../errors.ts'
 import { attachmentFacts, listAttachments, storeAttachment } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
+import { mailNotice, recordLink } from '../mail/mail.outbox.ts'
 import { applyInstrumentDefinition, lockInstrument } from '../register/instruments.service.ts'
 import { applyLimitDefinition, evaluateLimit, lockLimit } from '../register/limits.service.ts'
 import { limitSnapshot } from '../register/register.mappers.ts'
@@ -535,9 +535,8 @@ async function mailTo(
   crId: number,
 ) {
   const seen = new Set<string>()
-  const bodies = mailBodies(paragraphs, link(deps, crId))
   const once = to.filter((u) => !seen.has(u.email) && seen.add(u.email))
-  await enqueueMail(trx, deps.clock, mailEach(once, { subject, ...bodies, topic: 'change_request' }))
+  await mailNotice(trx, deps.clock, once, { subject, topic: 'change_request', paragraphs, link: link(deps, crId) })
 }
 
 const proposerOf = userContact

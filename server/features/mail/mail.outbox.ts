@@ -51,6 +51,25 @@ export function mailEach(people: readonly { email: string }[], mail: Omit<Outgoi
   return people.map((p) => ({ ...mail, to: p.email }))
 }
 
+/** A notice to people: its subject and topic, its paragraphs and the link it gives (the bodies mailBodies writes). */
+export interface Notice {
+  subject: string
+  topic: string
+  paragraphs: string[]
+  link?: { url: string; label: string }
+}
+
+/** Queues the same notice to each of `people`, in the business transaction: one mail each, to their address. */
+export function mailNotice(
+  trx: Transaction<Database>,
+  clock: Clock,
+  people: readonly { email: string }[],
+  notice: Notice,
+): Promise<void> {
+  const { subject, topic, paragraphs, link } = notice
+  return enqueueMail(trx, clock, mailEach(people, { subject, topic, ...mailBodies(paragraphs, link) }))
+}
+
 /** The link a mail gives to a record's page: "Open <what> #<id>" at `<appUrl>/<path>/<id>`. */
 export function recordLink(appUrl: string, path: string, what: string, id: number) {
   return { url: `${appUrl}/${path}/${id}`, label: `Open ${what} #${id}` }

@@ -18,7 +18,7 @@ import type { AppDeps } from '../../deps.ts'
 import type { Db } from '../../db/index.ts'
 import { notFound } from '../../errors.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach } from '../mail/mail.outbox.ts'
+import { mailNotice } from '../mail/mail.outbox.ts'
 import { recipientsOf } from '../users/users.repository.ts'
 import { observationsOf, readDevice } from './device-read.ts'
 import * as repo from './reconciliation.repository.ts'
@@ -303,8 +303,10 @@ export async function performRun(
       const people = await recipientsOf(trx, source.site_id, 'reconciliationFindings')
       const lines = news.slice(0, 50).map((n) => `• ${n.text}`)
       if (news.length > 50) lines.push(`… and ${news.length - 50} more.`)
-      const bodies = mailBodies(
-        [
+      await mailNotice(trx, clock, people, {
+        subject: `Reconciliation: ${news.length} new finding(s) on ${source.name}`,
+        topic: 'reconciliation',
+        paragraphs: [
           `Reconciliation of "${source.name}" at ${now.toISOString()} found ${news.length} ` +
             'new or reopened difference(s) between the register and the plant:',
           lines.join('\n'),
@@ -312,17 +314,8 @@ export async function performRun(
             'Nobody changes a device from Limitkeeper: corrections go through the plant’s own procedures, ' +
             'a register change through management of change.',
         ],
-        { url: `${deps.config.appUrl}/findings?sourceId=${sourceId}`, label: 'Open the findings' },
-      )
-      await enqueueMail(
-        trx,
-        clock,
-        mailEach(people, {
-          subject: `Reconciliation: ${news.length} new finding(s) on ${source.name}`,
-          topic: 'reconciliation',
-          ...bodies,
-        }),
-      )
+        link: { url: `${deps.config.appUrl}/findings?sourceId=${sourceId}`, label: 'Open the findings' },
+      })
     }
     await appendAudit(trx, clock, ctx, {
       action: 'reconciliation.run',

@@ -4,7 +4,7 @@ import type { Clock, DueJob } from '../../clock.ts'
 import type { Config } from '../../config.ts'
 import type { Db } from '../../db/index.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
+import { mailNotice, recordLink } from '../mail/mail.outbox.ts'
 import {
   DUE_SOON_TEST_STATUSES,
   isTestOverdue,
@@ -34,24 +34,17 @@ export async function runDigestForSite(
     const line = (r: (typeof rows)[number]) =>
       `${r.tag} (${r.area}) — ${r.test_status === 'never_tested' ? 'never tested' : `due ${r.test_due_date}`}`
     const to = await recipientsOf(trx, siteId, 'tripTestDigest')
-    const bodies = mailBodies(
-      [
+    await mailNotice(trx, clock, to, {
+      subject: `Trip tests due at ${site.name} (${period.startsWith('manual') ? 'on request' : period})`,
+      topic: 'trip_test_digest',
+      paragraphs: [
         `Trip tests at ${site.name}: ${overdue.length} overdue or never tested, ${dueSoon.length} due soon ` +
           '(within 30 days, less for short intervals) or in their grace period.',
         ...(overdue.length ? [`Overdue or never tested:\n${overdue.map(line).join('\n')}`] : []),
         ...(dueSoon.length ? [`Due soon:\n${dueSoon.map(line).join('\n')}`] : []),
       ],
-      { url: `${config.appUrl}/tests/schedule?siteId=${siteId}`, label: 'Open the test schedule' },
-    )
-    await enqueueMail(
-      trx,
-      clock,
-      mailEach(to, {
-        subject: `Trip tests due at ${site.name} (${period.startsWith('manual') ? 'on request' : period})`,
-        ...bodies,
-        topic: 'trip_test_digest',
-      }),
-    )
+      link: { url: `${config.appUrl}/tests/schedule?siteId=${siteId}`, label: 'Open the test schedule' },
+    })
     await appendAudit(trx, clock, ctx, {
       action: 'trip_test.digest',
       entityType: 'Site',
@@ -75,24 +68,17 @@ export async function escalatePassedRepairDeadlines(db: Db, config: Config, cloc
       if (!open || open.id !== d.id || open.escalated_at !== null) return
       await repo.updateDegradation(trx, d.id, { escalated_at: now })
       const to = await recipientsOf(trx, d.site_id, 'repairDeadlinePassed')
-      const bodies = mailBodies(
-        [
+      await mailNotice(trx, clock, to, {
+        subject: `OVERDUE REPAIR: ${d.tag} is still degraded`,
+        topic: 'trip_test',
+        paragraphs: [
           `The repair deadline ${d.repair_deadline} of degraded limit ${d.tag} has passed and the limit is still ` +
             'degraded.',
           'Continued operation on compensating measures is allowed only for a limited time: decide now whether to ' +
             'repair and retest, shut down, or record a new deadline under management of change.',
         ],
-        recordLink(config.appUrl, 'tests', 'trip test', open.test_id),
-      )
-      await enqueueMail(
-        trx,
-        clock,
-        mailEach(to, {
-          subject: `OVERDUE REPAIR: ${d.tag} is still degraded`,
-          ...bodies,
-          topic: 'trip_test',
-        }),
-      )
+        link: recordLink(config.appUrl, 'tests', 'trip test', open.test_id),
+      })
       await appendAudit(trx, clock, SYSTEM, {
         action: 'limit.repair_deadline_passed',
         entityType: 'Limit',

@@ -56,7 +56,7 @@ import type { Database, TripTestTable } from '../../db/schema.ts'
 import { AppError, enforce, notFound, validationFailed } from '../../errors.ts'
 import { attachmentFacts, listAttachments } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
-import { enqueueMail, mailBodies, mailEach, recordLink } from '../mail/mail.outbox.ts'
+import { mailNotice, recordLink } from '../mail/mail.outbox.ts'
 import { refreshProtectionState } from '../register/protection-state-column.ts'
 import { toInstrument } from '../register/register.mappers.ts'
 import { verifySignaturePassword } from '../session/session.service.ts'
@@ -643,23 +643,16 @@ async function applyResult(
       })
     }
     const to = await recipientsOf(trx, row.site_id, 'tripTestFailed')
-    const bodies = mailBodies(
-      [
+    await mailNotice(trx, deps.clock, to, {
+      subject: `DEGRADED: ${limit.tag} failed its trip test`,
+      topic: 'trip_test',
+      paragraphs: [
         `The trip test #${row.id} of ${limit.tag} failed: ${row.fail_reasons.join('; ')}.`,
         'The limit is degraded until a full retest passes. A shift supervisor records compensating measures and ' +
           'a repair deadline now. Continued operation on compensating measures is allowed only for a limited time.',
       ],
-      recordLink(deps.config.appUrl, 'tests', 'trip test', row.id),
-    )
-    await enqueueMail(
-      trx,
-      deps.clock,
-      mailEach(to, {
-        subject: `DEGRADED: ${limit.tag} failed its trip test`,
-        ...bodies,
-        topic: 'trip_test',
-      }),
-    )
+      link: recordLink(deps.config.appUrl, 'tests', 'trip test', row.id),
+    })
   } else if (open && row.kind === 'full' && row.scope === 'function') {
     await repo.updateDegradation(trx, open.id, { cleared_at: now, cleared_by_test_id: row.id })
     await appendAudit(trx, deps.clock, ctx, {
@@ -788,24 +781,17 @@ export async function signDegradationMeasures(
     })
     if (check.beyondMttr) {
       const managers = await recipientsOf(trx, limit.site_id, 'repairDeadlineBeyondMttr')
-      const bodies = mailBodies(
-        [
+      await mailNotice(trx, deps.clock, managers, {
+        subject: `Approve: repair deadline of ${limit.tag} beyond its MTTR`,
+        topic: 'trip_test',
+        paragraphs: [
           `${limit.tag} is degraded. The repair deadline ${input.repairDeadline} lies beyond the ${mttr} h MTTR ` +
             'assumed for this function.',
           'Approve the longer deadline with your signature, or ask for a shorter one. Continued operation on ' +
             'compensating measures is allowed only for a limited time.',
         ],
-        recordLink(deps.config.appUrl, 'tests', 'trip test', d.test_id),
-      )
-      await enqueueMail(
-        trx,
-        deps.clock,
-        mailEach(managers, {
-          subject: `Approve: repair deadline of ${limit.tag} beyond its MTTR`,
-          ...bodies,
-          topic: 'trip_test',
-        }),
-      )
+        link: recordLink(deps.config.appUrl, 'tests', 'trip test', d.test_id),
+      })
     }
     await appendAudit(trx, deps.clock, ctx, {
       action: 'limit.degradation_measures',
@@ -1179,21 +1165,20 @@ export async function requestDeferral(
       requested_at: now,
     })
     const deciders = await findUsersWithRole(trx, l.site_id, [requiredRole])
-    const bodies = mailBodies(
-      [
-        `A deferral of the full test of ${l.tag} from ${plainDue} to ${input.newDueDate} is requested: ` +
-          `${input.reason}.`,
-        risk.explanation,
-      ],
-      { url: `${deps.config.appUrl}/tests/deferrals`, label: 'Open the test deferrals' },
-    )
-    await enqueueMail(
+    await mailNotice(
       trx,
       deps.clock,
-      mailEach(
-        deciders.filter((u) => u.id !== ctx.actorId),
-        { subject: `Decide: test deferral of ${l.tag}`, ...bodies, topic: 'trip_test' },
-      ),
+      deciders.filter((u) => u.id !== ctx.actorId),
+      {
+        subject: `Decide: test deferral of ${l.tag}`,
+        topic: 'trip_test',
+        paragraphs: [
+          `A deferral of the full test of ${l.tag} from ${plainDue} to ${input.newDueDate} is requested: ` +
+            `${input.reason}.`,
+          risk.explanation,
+        ],
+        link: { url: `${deps.config.appUrl}/tests/deferrals`, label: 'Open the test deferrals' },
+      },
     )
     await appendAudit(trx, deps.clock, ctx, {
       action: 'test_deferral.request',
