@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest'
 import { OutOfRangeError } from '../../../shared/domain/errors.ts'
 import { CVD_A, CVD_B, R0_BY_ELEMENT, rtdResistance, rtdTemperature } from '../../../shared/domain/rtd.ts'
+import { thrownBy } from './thrown.ts'
 
 // IEC 60751 Callendar–Van Dusen table: resistance values computed independently of this code from the IEC 60751
 // constants, which agree with IEC 60751 Table 1 / ASTM E1137 to the printed 0.01 Ω).
@@ -48,12 +49,7 @@ describe('IEC 60751 resistance R(t)', () => {
   it.each([-200.01, 850.01, Number.NaN, Number.POSITIVE_INFINITY])(
     'throws OutOfRangeError at %d °C (valid −200 … 850 °C)',
     (t) => {
-      let error: unknown
-      try {
-        rtdResistance(t, 100)
-      } catch (e) {
-        error = e
-      }
+      const error = thrownBy(() => rtdResistance(t, 100))
       expect(error).toBeInstanceOf(OutOfRangeError)
       expect(error).toMatchObject({ quantity: 'temperature', min: -200, max: 850, unit: '°C' })
     },
@@ -97,12 +93,7 @@ describe('IEC 60751 inverse t(R)', () => {
   })
 
   it.each([18.514, 390.487, Number.NaN])('throws OutOfRangeError at %d Ω for a Pt100', (r) => {
-    let error: unknown
-    try {
-      rtdTemperature(r, 100)
-    } catch (e) {
-      error = e
-    }
+    const error = thrownBy(() => rtdTemperature(r, 100))
     expect(error).toBeInstanceOf(OutOfRangeError)
     expect(error).toMatchObject({ quantity: 'resistance', unit: 'ohm' })
     expect((error as OutOfRangeError).min).toBeCloseTo(18.5201, 4)

@@ -11,6 +11,7 @@ import {
   thermocoupleTemperature,
   type TcType,
 } from '../../../shared/domain/thermocouple.ts'
+import { thrownBy } from './thrown.ts'
 
 // Source of every value below unless a line says otherwise: ITS-90 reference functions and tables,
 // NIST SRD 60 / NIST Monograph 175 table values.
@@ -290,12 +291,7 @@ describe('ranges: outside the reference function the functions throw, never extr
   ] as [TcType, number, number, number][])(
     'type %s at %d °C throws OutOfRangeError (%d … %d °C)',
     (type, t, min, max) => {
-      let error: unknown
-      try {
-        thermocoupleEmf(type, t)
-      } catch (e) {
-        error = e
-      }
+      const error = thrownBy(() => thermocoupleEmf(type, t))
       expect(error).toBeInstanceOf(OutOfRangeError)
       expect(error).toMatchObject({ quantity: 'temperature', value: t, min, max, unit: '°C' })
     },
@@ -342,12 +338,7 @@ describe('type B low end', () => {
   })
 
   it.each([0.29, 0.1, 0.0, -0.002, 0.033])('refuses to invert %d mV (below 0.291 mV / 250 °C) and says why', (e) => {
-    let error: unknown
-    try {
-      thermocoupleTemperature('B', e)
-    } catch (err) {
-      error = err
-    }
+    const error = thrownBy(() => thermocoupleTemperature('B', e))
     expect(error).toBeInstanceOf(OutOfRangeError)
     expect(error).toMatchObject({ quantity: 'emf', min: 0.291, unit: 'mV' })
     expect((error as Error).message).toMatch(/21 °C/)
