@@ -24,6 +24,12 @@ export const FHR: Site = {
   policy: DEFAULT_SITE_POLICY,
 }
 
+/** The fixed clock of the page tests (their fake Date): 6 July 2026, 12:00 UTC. */
+export const NOW = new Date('2026-07-06T12:00:00Z')
+
+/** The instant `h` hours after NOW (before it when negative), as the API writes times. */
+export const at = (h: number) => new Date(NOW.getTime() + h * 3_600_000).toISOString()
+
 export type Answer = { status?: number; body: unknown }
 export type Routes = Record<string, (url: URL, init?: RequestInit) => Answer>
 

@@ -6,7 +6,9 @@ import {
   SITE_CHOICES,
   mountRecordPage,
   answerApi,
+  at,
   FHR,
+  NOW,
   openDialog,
   resetPage,
   ruleButtons,
@@ -16,9 +18,6 @@ import {
 // The bypass page builds its buttons from the bypass rule book (docs/bypasses.md#rules): which are shown, which are
 // disabled and why, for the roles and states of the rule book's table. The clock is fixed at 12:00 UTC.
 
-const NOW = new Date('2026-07-06T12:00:00Z')
-const H = 3_600_000
-const at = (h: number) => new Date(NOW.getTime() + h * H).toISOString()
 const ME = 7
 const REQUESTER = 100
 

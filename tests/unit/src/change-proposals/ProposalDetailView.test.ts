@@ -7,6 +7,7 @@ import {
   clickInDialog,
   FHR,
   mountRecordPage,
+  NOW,
   openDialog,
   resetPage,
   type Routes,
@@ -19,7 +20,6 @@ import {
 // (docs/change-requests.md#change-proposals, "Who does what"): only a safety engineer of the proposal's site, and
 // only while the proposal is open; every other role of the site reads it. The clock is fixed at 12:00 UTC.
 
-const NOW = new Date('2026-07-06T12:00:00Z')
 const ME = 7
 const PROPOSER = 100
 const OTHER_SITE = 2

@@ -6,8 +6,17 @@ import AppSignDialog from '@/components/AppSignDialog.vue'
 import ChangeAttachments from '@/features/change-requests/components/ChangeAttachments.vue'
 import LimitChangesPanel from '@/features/change-requests/components/LimitChangesPanel.vue'
 import ChangeDetailView from '@/features/change-requests/views/ChangeDetailView.vue'
-import { SITE_CHOICES, mountRecordPage, stubVisualViewport, answerApi, FHR, type Routes } from '../mount-view.ts'
-import { at, checklist, item, ME, NOW, PROPOSER, request } from './change-fixture.ts'
+import {
+  SITE_CHOICES,
+  mountRecordPage,
+  stubVisualViewport,
+  answerApi,
+  at,
+  FHR,
+  NOW,
+  type Routes,
+} from '../mount-view.ts'
+import { checklist, item, ME, PROPOSER, request } from './change-fixture.ts'
 
 // The change request's page builds its buttons from the change-request rule book (docs/change-requests.md#the-rule-book):
 // each shown where the person has a part in that step, enabled or disabled with the rule book's reason, for the

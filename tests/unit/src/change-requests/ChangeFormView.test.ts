@@ -4,8 +4,8 @@ import type { ChangeRequestDto } from '@shared/schemas/change-requests.ts'
 import type { Site } from '@shared/schemas/sites.ts'
 import ChangeFormView from '@/features/change-requests/views/ChangeFormView.vue'
 import { heaterTrip } from '../register/limit-fixture.ts'
-import { stubVisualViewport, answerApi, FHR, mountView, type Routes } from '../mount-view.ts'
-import { NOW, PROPOSER, request } from './change-fixture.ts'
+import { stubVisualViewport, answerApi, FHR, mountView, NOW, type Routes } from '../mount-view.ts'
+import { PROPOSER, request } from './change-fixture.ts'
 
 // The change request form checks its input with the schema the server parses (CreateChangeRequestInputSchema in
 // shared/schemas/change-requests.ts) before it sends anything, and sends a new request, or the edited content with the

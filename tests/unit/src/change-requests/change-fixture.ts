@@ -4,14 +4,11 @@ import {
   type ChangeStatus,
   IMPACT_CHECKLIST,
 } from '@shared/schemas/change-requests.ts'
-import { FHR } from '../mount-view.ts'
+import { at, FHR } from '../mount-view.ts'
 
 // A change request of Fernhollow Refinery (invented demo data) in any state, with its items and checklist, for the
-// change request's page and form. Times are hours from NOW.
+// change request's page and form. Times are hours from the page tests' NOW (../mount-view.ts).
 
-export const NOW = new Date('2026-07-06T12:00:00Z')
-const H = 3_600_000
-export const at = (h: number) => new Date(NOW.getTime() + h * H).toISOString()
 export const ME = 7
 export const PROPOSER = 100
 

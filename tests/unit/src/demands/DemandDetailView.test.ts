@@ -9,6 +9,7 @@ import {
   clickInDialog,
   FHR,
   mountRecordPage,
+  NOW,
   openDialog,
   resetPage,
   type Routes,
@@ -22,7 +23,6 @@ import {
 // with the reason where the event's state or the site policy refuses it. The answers below are written by hand from
 // that section, as the server sends them to the user of each case. The clock is fixed at 12:00 UTC.
 
-const NOW = new Date('2026-07-06T12:00:00Z')
 const ME = 7
 
 type Actions = DemandDto['actions']

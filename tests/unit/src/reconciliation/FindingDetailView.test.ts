@@ -8,10 +8,12 @@ import FindingDetailView from '@/features/reconciliation/views/FindingDetailView
 import { onSite } from '@/features/register/site-subject'
 import {
   answerApi,
+  at,
   clickInDialog,
   FHR,
   mountRecordPage,
   mountView,
+  NOW,
   type Routes,
   SITE_CHOICES,
   stubVisualViewport,
@@ -25,9 +27,6 @@ import {
 // finding; the fixture makes them as the findings service does, from the rule book and the user's roles. The clock is
 // fixed at 12:00 UTC.
 
-const NOW = new Date('2026-07-06T12:00:00Z')
-const H = 3_600_000
-const at = (h: number) => new Date(NOW.getTime() + h * H).toISOString()
 const atFhr = (roles: Role[]): RoleAssignment[] => roles.map((role) => ({ siteId: FHR.id, role }))
 
 /** The rule book's answers the server sends with the finding to a user holding these roles. */

@@ -3,16 +3,12 @@ import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { ReadNowResult, Run, Source } from '@shared/schemas/reconciliation.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import SourceDetailView from '@/features/reconciliation/views/SourceDetailView.vue'
-import { SITE_CHOICES, mountRecordPage, answerApi, FHR, type Routes } from '../mount-view.ts'
+import { SITE_CHOICES, mountRecordPage, answerApi, at, FHR, NOW, type Routes } from '../mount-view.ts'
 
 // A source's page (docs/reconciliation.md#screens): for a live device, "Read now" and "Run now"; for an export, the
 // upload and the remembered column mapping. Safety engineers of the site keep the sources, run them and upload
 // exports; everyone else reads. Nothing on the page writes to a device (docs/reconciliation.md#never-a-write): both
 // device actions only ask the server to read it. The clock is fixed at 12:00 UTC.
-
-const NOW = new Date('2026-07-06T12:00:00Z')
-const H = 3_600_000
-const at = (h: number) => new Date(NOW.getTime() + h * H).toISOString()
 
 function run(o: Partial<Run> = {}): Run {
   return {
