@@ -1,22 +1,15 @@
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
 import { createBypassJob } from '../../server/features/bypasses/bypasses.jobs.ts'
-import { createMailJob } from '../../server/features/mail/mail.worker.ts'
 import { signedInAs } from './helpers/agent.ts'
 import { buildHeaterTrip, ACTIVATE } from './helpers/factories.ts'
+import { recipients, useFakeSmtp } from './helpers/mail.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
 const ctx = useTestDb()
 const PW = 'limitkeeper-demo'
-let smtp: FakeSmtp
-beforeAll(async () => {
-  smtp = await startFakeSmtp(0, { quiet: true })
-})
-afterAll(async () => {
-  await smtp.close()
-})
+const mailbox = useFakeSmtp(ctx)
 
 describe('bypass: request, authorize, activate, overdue, review', () => {
   it('goes overdue past its planned end, escalates, and shows in the review', async () => {
@@ -85,21 +78,12 @@ describe('bypass: request, authorize, activate, overdue, review', () => {
 
     // past the planned end: overdue, never closed by the clock
     const job = createBypassJob(ctx.db, ctx.config, ctx.clock)
-    const mail = createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock)
     await job.runDue(ctx.clock.set('2026-05-04T10:31:00Z'))
-    await mail.runDue(ctx.clock.now())
-    expect(
-      smtp.inbox.some(
-        (m) => m.subject?.startsWith('OVERDUE bypass') && m.to && 'text' in m.to && m.to.text.includes('supervisor@'),
-      ),
-    ).toBe(true)
+    const overdue = await mailbox.mailsFor('OVERDUE bypass', ['supervisor@fernhollow.example'])
+    expect(overdue.flatMap(recipients)).toContain('supervisor@fernhollow.example')
     await job.runDue(ctx.clock.set('2026-05-04T14:31:00Z'))
-    await mail.runDue(ctx.clock.now())
-    expect(
-      smtp.inbox.some(
-        (m) => m.subject?.startsWith('Escalation') && m.to && 'text' in m.to && m.to.text.includes('manager@'),
-      ),
-    ).toBe(true)
+    const escalation = await mailbox.mailsFor('Escalation', ['manager@fernhollow.example'])
+    expect(escalation.flatMap(recipients)).toContain('manager@fernhollow.example')
 
     await mgr.refreshCsrf()
     await mgr.signIn('manager@fernhollow.example')

@@ -1,10 +1,8 @@
-import type { ParsedMail } from 'mailparser'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
-import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
-import { createMailJob } from '../../server/features/mail/mail.worker.ts'
+import { describe, expect, it } from 'vitest'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { useSignedIn } from './helpers/agent.ts'
 import { buildHeaterTrip } from './helpers/factories.ts'
+import { recipients, useFakeSmtp } from './helpers/mail.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -14,16 +12,9 @@ import { activateLimit } from './helpers/workflows.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
-let smtp: FakeSmtp
+const mailbox = useFakeSmtp(ctx)
 const { as: a, at } = useSignedIn(ctx, ['engineer', 'approver', 'technician', 'supervisor', 'operator'], {
   at: '2026-06-08T08:00:00Z',
-})
-
-beforeAll(async () => {
-  smtp = await startFakeSmtp(0, { quiet: true })
-})
-afterAll(async () => {
-  await smtp?.close()
 })
 
 /** The type K heater trip at 780 °C, 0–1200 °C, interval 12 months, put in service. */
@@ -67,7 +58,6 @@ const limitNow = async (id: number) =>
     lastFullPass: string | null
     tag: string
   }
-const recipients = (m: ParsedMail) => (m.to && !Array.isArray(m.to) ? m.to.value.map((x) => x.address ?? '') : [])
 
 describe('the degraded state', () => {
   it("appears when the performer signs a test that did not trip, with mail at once to the site's engineers and shift supervisor", async () => {
@@ -102,11 +92,10 @@ describe('the degraded state', () => {
     expect(history[0].reasons).toContain('It did not trip')
 
     // the outbox, delivered through the fake SMTP server (the production path)
-    await createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock).runDue(ctx.clock.now())
-    const subject = `DEGRADED: ${limit.tag} failed its trip test`
-    for (const r of ['engineer', 'supervisor'])
-      await smtp.waitFor((m) => m.subject === subject && recipients(m).includes(`${r}@fernhollow.example`))
-    const mails = smtp.inbox.filter((m) => m.subject === subject)
+    const mails = await mailbox.mailsFor(`DEGRADED: ${limit.tag} failed its trip test`, [
+      'engineer@fernhollow.example',
+      'supervisor@fernhollow.example',
+    ])
     expect(mails.flatMap(recipients).sort()).toEqual(['engineer@fernhollow.example', 'supervisor@fernhollow.example'])
     expect(mails[0].text).toContain('It did not trip')
     expect(mails[0].text).toContain(`${ctx.config.appUrl}/tests/${recorded.id}`)

@@ -1,14 +1,12 @@
 import type { Express } from 'express'
-import type { ParsedMail } from 'mailparser'
-import { afterAll, beforeAll, describe, expect, it } from 'vitest'
+import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { startFakeSmtp, type FakeSmtp } from '../../server/dev/fake-smtp.ts'
-import { createMailJob } from '../../server/features/mail/mail.worker.ts'
 import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { crewAs } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
+import { recipients, useFakeSmtp } from './helpers/mail.ts'
 import { countRows } from './helpers/factories.ts'
 
 // Due dates on the API (docs/domain/due-dates.md): calendar months clamped to month end, dates in the site's time zone
@@ -17,7 +15,7 @@ import { countRows } from './helpers/factories.ts'
 
 const ctx = useTestDb()
 const PW = DEMO_PASSWORD
-let smtp: FakeSmtp
+const mailbox = useFakeSmtp(ctx)
 let app: Express
 const who = { eng: 'engineer', approver: 'approver', tech: 'technician', admin: 'admin', manager: 'manager' } as const
 const { as: a, signInAll, signInAgain } = crewAs(() => app, who)
@@ -123,7 +121,6 @@ const digestMails = () =>
     .execute()
 
 beforeAll(async () => {
-  smtp = await startFakeSmtp(0, { quiet: true })
   ctx.clock.set('2026-01-31T23:45:00Z')
   app = createApp(ctx)
   await signInAll()
@@ -135,9 +132,6 @@ beforeAll(async () => {
   L.a = await activeTrip(1, crude.id)
   L.b = await activeTrip(1, crude.id)
   L.c = await activeTrip(12, hydro.id)
-})
-afterAll(async () => {
-  await smtp?.close()
 })
 
 describe('due dates (docs/domain/due-dates.md)', () => {
@@ -240,13 +234,10 @@ describe("the weekly digest (Monday from 07:00 in each site's time zone, once pe
     ).toHaveLength(2)
 
     // delivered through the fake SMTP server with the link to the schedule
-    await createMailJob(ctx.db, { ...ctx.config, SMTP_PORT: smtp.port }, ctx.clock).runDue(ctx.clock.now())
-    const recipients = (m: ParsedMail) => (m.to && !Array.isArray(m.to) ? m.to.value.map((x) => x.address ?? '') : [])
-    const mail = await smtp.waitFor(
-      (m) =>
-        m.subject === 'Trip tests due at Fernhollow Refinery (2026-W12)' &&
-        recipients(m).includes('technician@fernhollow.example'),
-    )
+    const mails = await mailbox.mailsFor('Trip tests due at Fernhollow Refinery (2026-W12)', [
+      'technician@fernhollow.example',
+    ])
+    const mail = mails.find((m) => recipients(m).includes('technician@fernhollow.example'))!
     expect(mail.text).toContain(`${ctx.config.appUrl}/tests/schedule?siteId=${fhr}`)
   })
 
