@@ -30,15 +30,7 @@ beforeAll(async () => {
 
 const upload = (file: Buffer, name: string) =>
   eng.upload(`/api/change-requests/${crId}/attachments`, {}, { name, content: file })
-const download = (id: number) =>
-  eng.agent
-    .get(`/api/change-requests/${crId}/attachments/${id}`)
-    .buffer(true)
-    .parse((res, cb) => {
-      const parts: Buffer[] = []
-      res.on('data', (c: Buffer) => parts.push(c))
-      res.on('end', () => cb(null, Buffer.concat(parts)))
-    })
+const download = (id: number) => eng.getBytes(`/api/change-requests/${crId}/attachments/${id}`)
 
 describe('change request attachments (stored in PostgreSQL, type checked by content)', () => {
   it('accepts a PDF and a PNG and gives back the same bytes', async () => {

@@ -90,16 +90,7 @@ async function registerCounts() {
 }
 
 async function download(a: ApiAgent, url: string): Promise<Buffer> {
-  const res = await a
-    .get(url)
-    .buffer(true)
-    .parse((r, cb) => {
-      const chunks: Buffer[] = []
-      r.on('data', (c: Buffer) => chunks.push(c))
-      r.on('end', () => cb(null, Buffer.concat(chunks)))
-    })
-    .expect(200)
-  return res.body as Buffer
+  return (await a.getBytes(url).expect(200)).body as Buffer
 }
 
 let app: Express

@@ -234,15 +234,7 @@ describe('attachments: PDF, PNG or JPEG up to 10 MB, checked by content', () => 
 
     const stored = (await upload(a.tech, PNG, 'photo.png').expect(201)).body
     expect(stored).toMatchObject({ fileName: 'photo.png', contentType: 'image/png', sizeBytes: PNG.length })
-    const back = await a.auditor
-      .get(`${url}/${stored.id}`)
-      .buffer(true)
-      .parse((res, cb) => {
-        const chunks: Buffer[] = []
-        res.on('data', (c: Buffer) => chunks.push(c))
-        res.on('end', () => cb(null, Buffer.concat(chunks)))
-      })
-      .expect(200)
+    const back = await a.auditor.getBytes(`${url}/${stored.id}`).expect(200)
     expect(Buffer.compare(back.body as Buffer, PNG)).toBe(0)
     expect((await a.tech.get(`/api/trip-tests/${t.id}`).expect(200)).body.attachments).toHaveLength(1)
   })

@@ -40,6 +40,17 @@ export class ApiAgent {
       .set('X-CSRF-Token', this.csrf)
       .send(body as object)
   }
+  /** GETs a download (a stored file, an export) with its body read as the raw bytes, a Buffer, whatever its type. */
+  getBytes(url: string) {
+    return this.agent
+      .get(url)
+      .buffer(true)
+      .parse((res, cb) => {
+        const chunks: Buffer[] = []
+        res.on('data', (c: Buffer) => chunks.push(c))
+        res.on('end', () => cb(null, Buffer.concat(chunks)))
+      })
+  }
   /** POSTs `body` and answers the body of the 201 Created answer; any other status fails the test. */
   async created(url: string, body?: unknown) {
     return (await this.post(url, body).expect(201)).body
