@@ -1,7 +1,7 @@
 import type { Express } from 'express'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { type ApiAgent, signedIn, siteIdByCode } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { countRows } from './helpers/factories.ts'
 
@@ -63,8 +63,7 @@ beforeAll(async () => {
   app = createApp(ctx, { serveClient: false })
   eng = await signedIn(app, 'engineer')
   op = await signedIn(app, 'operator')
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  siteId = sites.find((s) => s.code === 'FHR')!.id
+  siteId = await siteIdByCode(eng, 'FHR')
 })
 
 describe('alarm journal upload', () => {

@@ -6,7 +6,7 @@ import { backfillAuditEventSites } from '../../migrations/2026_12_05_400000_audi
 import { createApp } from '../../server/app.ts'
 import { createDb } from '../../server/db/index.ts'
 import { appendAudit, sealAll } from '../../server/features/audit/audit.repository.ts'
-import { ApiAgent, signedIn } from './helpers/agent.ts'
+import { ApiAgent, signedIn, siteIdByCode } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 // docs/security.md, "Whose events a reader sees": events carry their site; an auditor or plant manager reads the events
@@ -65,9 +65,8 @@ async function lastEvent(action: string, entityId?: string): Promise<number> {
 beforeAll(async () => {
   app = createApp(ctx)
   admin = await signedIn(app, 'admin')
-  const sites = (await admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  fhr = sites.find((s) => s.code === 'FHR')!.id
-  smp = sites.find((s) => s.code === 'SMP')!.id
+  fhr = await siteIdByCode(admin, 'FHR')
+  smp = await siteIdByCode(admin, 'SMP')
   await person('aud-fhr', 'auditor', fhr)
   await person('mgr-fhr', 'plant_manager', fhr)
   await person('adm-fhr', 'admin', fhr)

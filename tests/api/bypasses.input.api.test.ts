@@ -1,7 +1,7 @@
 import type { Response } from 'supertest'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { useSignedIn } from './helpers/agent.ts'
+import { useSignedIn, siteIdByCode } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import {
   draftChange,
@@ -37,10 +37,8 @@ async function buildLimit(
   } = {},
 ): Promise<Built> {
   const eng = as.engineer
-  const site = ((await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]).find(
-    (s) => s.code === 'FHR',
-  )!
-  const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[0]
+  const siteId = await siteIdByCode(eng, 'FHR')
+  const area = ((await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items as { id: number }[])[0]
   const n = `${process.pid % 1000}-${++seq}`
   const proc = await eng.created('/api/processes', {
     areaId: area.id,

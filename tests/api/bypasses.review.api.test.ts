@@ -1,7 +1,7 @@
 import Papa from 'papaparse'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { DEMO_ACCOUNTS, signedIn, useSignedIn } from './helpers/agent.ts'
+import { DEMO_ACCOUNTS, signedIn, useSignedIn, siteIdByCode } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 import { ACTIVATE, heaterAlarmBody, heaterThermocouple, heaterTripBody, mvSourceTest } from './helpers/factories.ts'
@@ -18,10 +18,8 @@ const userIds = {} as Record<Who, number>
 /** A fired-heater trip (or an alarm without compensating measures) in the given site and area, put in service. */
 async function limitIn(siteCode: 'FHR' | 'SMP', areaIndex: number, kind: 'trip' | 'alarm' = 'trip') {
   const eng = as.engineer
-  const site = ((await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]).find(
-    (s) => s.code === siteCode,
-  )!
-  const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[areaIndex]
+  const siteId = await siteIdByCode(eng, siteCode)
+  const area = ((await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items as { id: number }[])[areaIndex]
   const n = `${process.pid % 1000}-${++seq}`
   const proc = await eng.created('/api/processes', {
     areaId: area.id,

@@ -4,7 +4,7 @@ import { createApp } from '../../server/app.ts'
 import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { sifPfd, type Subsystem } from '../../shared/domain/sif-reliability.ts'
-import { crewOf, DEMO_ACCOUNTS } from './helpers/agent.ts'
+import { crewOf, DEMO_ACCOUNTS, siteIdByCode } from './helpers/agent.ts'
 import { buildHeaterTrip, ACTIVATE, heaterThermocouple, heaterTrip, mvSourceTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -50,10 +50,8 @@ const workedPfd = (ti: number) => pfd1oo2(5e-7, 0.1, ti) + pfd1oo1(2e-4 / YEAR_H
 /** A SIL-rated heater trip with the given subsystems and `channels` voted thermocouples, put in service (two approvals). */
 async function silLimit(sil: 1 | 2 | 3, subsystems: Subsystem[], channels = 1) {
   const eng = as.engineer
-  const site = ((await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]).find(
-    (s) => s.code === 'FHR',
-  )!
-  const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[2]
+  const siteId = await siteIdByCode(eng, 'FHR')
+  const area = ((await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items as { id: number }[])[2]
   const n = `${process.pid % 1000}-${++seq}`
   const proc = await eng.created('/api/processes', {
     areaId: area.id,

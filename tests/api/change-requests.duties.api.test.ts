@@ -2,7 +2,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { IMPACT_CHECKLIST } from '../../shared/schemas/change-requests.ts'
 import type { Role } from '../../shared/schemas/users.ts'
-import { signedIn, newAccount, useSignedIn } from './helpers/agent.ts'
+import { signedIn, newAccount, useSignedIn, siteIdByCode } from './helpers/agent.ts'
 import {
   submitAndApprove,
   draftChange,
@@ -36,8 +36,7 @@ async function person(email: string, name: string, roles: Role[]) {
 }
 
 beforeAll(async () => {
-  const sites = (await as.engineer.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  fhr = sites.find((s) => s.code === 'FHR')!.id
+  fhr = await siteIdByCode(as.engineer, 'FHR')
 })
 
 const crew = () => ({ eng: as.engineer, approvers: [as.approver, as.approver2], tech: as.technician })

@@ -1,7 +1,7 @@
 import type { Express } from 'express'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { type ApiAgent, signedIn, siteIdByCode } from './helpers/agent.ts'
 import { rowCounts } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -67,9 +67,8 @@ beforeAll(async () => {
   app = createApp(ctx)
   eng = await signedIn(app, 'engineer')
   admin = await signedIn(app, 'admin')
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  fhr = sites.find((s) => s.code === 'FHR')!.id
-  smp = sites.find((s) => s.code === 'SMP')!.id
+  fhr = await siteIdByCode(eng, 'FHR')
+  smp = await siteIdByCode(eng, 'SMP')
   const areas = (await eng.get(`/api/areas?siteId=${fhr}`).expect(200)).body.items as { id: number; name: string }[]
   areaId = areas.find((a) => a.name === 'Tank Farm')!.id
   otherAreaId = areas.find((a) => a.name === 'Utilities')!.id

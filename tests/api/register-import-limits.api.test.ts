@@ -4,7 +4,7 @@ import ExcelJS from 'exceljs'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { IMPORT_MAX_ROWS } from '../../shared/schemas/imports.ts'
-import { signedIn, type ApiAgent } from './helpers/agent.ts'
+import { signedIn, type ApiAgent, siteIdByCode } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
 const ctx = useTestDb()
@@ -20,7 +20,7 @@ async function batches() {
 beforeAll(async () => {
   const app = createApp(ctx, { serveClient: false })
   eng = await signedIn(app, 'engineer')
-  siteId = (await eng.get('/api/sites').expect(200)).body.items.find((s: { code: string }) => s.code === 'FHR').id
+  siteId = await siteIdByCode(eng, 'FHR')
 })
 
 describe('register import row limit', () => {

@@ -8,7 +8,7 @@ import pg from 'pg'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { REGISTER_COLUMNS, type RegisterColumnKey } from '../../shared/schemas/register-io.ts'
-import { ApiAgent, signedIn, signedInAs, newAccount } from './helpers/agent.ts'
+import { ApiAgent, signedIn, signedInAs, newAccount, siteIdByCode } from './helpers/agent.ts'
 import { CHANGE_PEOPLE, readyToImplement, countActionEvents, countRows } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -101,9 +101,8 @@ let smp = 0
 beforeAll(async () => {
   app = createApp(ctx)
   eng = await signedIn(app, 'engineer')
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  fhr = sites.find((s) => s.code === 'FHR')!.id
-  smp = sites.find((s) => s.code === 'SMP')!.id
+  fhr = await siteIdByCode(eng, 'FHR')
+  smp = await siteIdByCode(eng, 'SMP')
 })
 
 describe('POST /api/imports (dry run)', () => {
@@ -517,8 +516,7 @@ describe('an import opens a draft change request for its baseline', () => {
   it('holds one create item per imported draft; approving and implementing it in bulk activates them', async () => {
     const app = createApp(ctx)
     const { eng, approver, approver2, tech } = await signedInAs(app, CHANGE_PEOPLE)
-    const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-    const fhr = sites.find((s) => s.code === 'FHR')!
+    const fhr = await siteIdByCode(eng, 'FHR')
     // two rows of the example file under new tags, so they are new drafts in this database
     const parsed = Papa.parse<string[]>(
       readFileSync('docs/examples/register-import-example.csv', 'utf8').replace(/^\uFEFF/, ''),
@@ -535,7 +533,7 @@ describe('an import opens a draft change request for its baseline', () => {
       .slice(0, 2)
       .map((r, i) => r.map((v, j) => (j === tagCol ? `BASE-${i}-${v}` : j === instCol ? `BASE-${i}-${v}` : v)))
     const file = Buffer.from(Papa.unparse([header, ...fresh]), 'utf8')
-    const dry = await upload(eng, file, { siteId: fhr.id, fileName: 'register-import-example.csv' }).expect(201)
+    const dry = await upload(eng, file, { siteId: fhr, fileName: 'register-import-example.csv' }).expect(201)
     const committed = (await eng.post(`/api/imports/${dry.body.id}/commit`).expect(200)).body
     expect(committed.changeRequestId).toEqual(expect.any(Number))
     const cr = (await eng.get(`/api/change-requests/${committed.changeRequestId}`).expect(200)).body

@@ -2,7 +2,7 @@ import type { Express } from 'express'
 import pg from 'pg'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { type ApiAgent, signedIn, siteIdByCode } from './helpers/agent.ts'
 import { thermocoupleK } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -96,9 +96,8 @@ const tags = (items: Item[]) => items.map((i) => i.tag)
 beforeAll(async () => {
   app = createApp(ctx)
   eng = await signedIn(app, 'engineer')
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  ids.fhr = sites.find((s) => s.code === 'FHR')!.id
-  ids.smp = sites.find((s) => s.code === 'SMP')!.id
+  ids.fhr = await siteIdByCode(eng, 'FHR')
+  ids.smp = await siteIdByCode(eng, 'SMP')
   const areas = (await eng.get(`/api/areas?siteId=${ids.fhr}`).expect(200)).body.items as { id: number; name: string }[]
   ids.utilities = areas.find((a) => a.name === 'Utilities')!.id
   ids.tankFarm = areas.find((a) => a.name === 'Tank Farm')!.id

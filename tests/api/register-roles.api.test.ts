@@ -2,7 +2,7 @@ import type { Express } from 'express'
 import pg from 'pg'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { ApiAgent, signedIn } from './helpers/agent.ts'
+import { ApiAgent, signedIn, siteIdByCode } from './helpers/agent.ts'
 import { heaterThermocouple, heaterTripBody, rowsAndAudit } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 
@@ -31,8 +31,7 @@ let seq = 0
 
 async function build(eng: ApiAgent, siteCode: 'FHR' | 'SMP'): Promise<Built> {
   const n = ++seq
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  const siteId = sites.find((s) => s.code === siteCode)!.id
+  const siteId = await siteIdByCode(eng, siteCode)
   const areaId = (await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items[0].id
   const proc = await eng.created('/api/processes', {
     areaId,

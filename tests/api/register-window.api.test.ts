@@ -1,7 +1,7 @@
 import type { Express } from 'express'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { type ApiAgent, signedIn, siteIdByCode } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { rowsAndAudit, thermocoupleK } from './helpers/factories.ts'
 
@@ -77,8 +77,7 @@ async function blocked(instrumentId: number, over: Record<string, unknown>, code
 beforeAll(async () => {
   app = createApp(ctx)
   eng = await signedIn(app, 'engineer')
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  const fhr = sites.find((s) => s.code === 'FHR')!.id
+  const fhr = await siteIdByCode(eng, 'FHR')
   const area = (await eng.get(`/api/areas?siteId=${fhr}`).expect(200)).body.items.find(
     (a: { name: string }) => a.name === 'Utilities',
   )

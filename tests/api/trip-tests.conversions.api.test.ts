@@ -1,7 +1,7 @@
 import type { Express } from 'express'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
-import { type ApiAgent, signedIn } from './helpers/agent.ts'
+import { type ApiAgent, signedIn, siteIdByCode } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 import { countRows } from './helpers/factories.ts'
@@ -92,9 +92,8 @@ beforeAll(async () => {
   eng = await signedIn(app, 'engineer')
   approver = await signedIn(app, 'approver')
   tech = await signedIn(app, 'technician')
-  const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  const fhr = sites.find((s) => s.code === 'FHR')!
-  area = ((await eng.get(`/api/areas?siteId=${fhr.id}`).expect(200)).body.items as { id: number }[])[0].id
+  const fhr = await siteIdByCode(eng, 'FHR')
+  area = ((await eng.get(`/api/areas?siteId=${fhr}`).expect(200)).body.items as { id: number }[])[0].id
 })
 
 describe('platinum RTD readings (IEC 60751, Callendar–Van Dusen table)', () => {

@@ -2,7 +2,7 @@ import type { Express } from 'express'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { ApiAgent, signedIn, newAccount } from './helpers/agent.ts'
+import { ApiAgent, signedIn, newAccount, siteIdByCode } from './helpers/agent.ts'
 import { buildHeaterTrip, countActionEvents, countRows, passingHeaterTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
@@ -47,8 +47,7 @@ beforeAll(async () => {
   const account: Record<string, string> = { eng: 'engineer', sup: 'supervisor', tech: 'technician' }
   for (const who of ['eng', 'approver', 'approver2', 'tech', 'sup', 'operator', 'admin', 'manager', 'auditor'] as const)
     a[who] = await signedIn(app, account[who] ?? who)
-  const sites = (await a.admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  const fhr = sites.find((s) => s.code === 'FHR')!.id
+  const fhr = await siteIdByCode(a.admin, 'FHR')
   a.tech2 = (
     await newAccount(app, a.admin, {
       email: 'tech2@fernhollow.example',

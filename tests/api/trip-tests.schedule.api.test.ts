@@ -3,7 +3,7 @@ import { beforeAll, describe, expect, it } from 'vitest'
 import { createApp } from '../../server/app.ts'
 import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { crewAs } from './helpers/agent.ts'
+import { crewAs, siteIdByCode } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 import { recipients, useFakeSmtp } from './helpers/mail.ts'
@@ -124,9 +124,8 @@ beforeAll(async () => {
   ctx.clock.set('2026-01-31T23:45:00Z')
   app = createApp(ctx)
   await signInAll()
-  const sites = (await a.eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  fhr = sites.find((s) => s.code === 'FHR')!.id
-  smp = sites.find((s) => s.code === 'SMP')!.id
+  fhr = await siteIdByCode(a.eng, 'FHR')
+  smp = await siteIdByCode(a.eng, 'SMP')
   areas = (await a.eng.get('/api/areas').expect(200)).body.items
   const [crude, hydro] = areas.filter((x) => x.siteId === fhr)
   L.a = await activeTrip(1, crude.id)

@@ -85,6 +85,14 @@ export class ApiAgent {
   }
 }
 
+/** The id of the site with this code among the sites `agent` lists (GET /api/sites); throws when it is not listed. */
+export async function siteIdByCode(agent: ApiAgent, code: string): Promise<number> {
+  const sites = (await agent.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
+  const site = sites.find((s) => s.code === code)
+  if (!site) throw new Error(`site ${code} is not among the sites listed`)
+  return site.id
+}
+
 /** Signs in as a demo account by role name (`engineer`, `approver`, …). */
 export async function signedIn(app: Express, who: string): Promise<ApiAgent> {
   const a = new ApiAgent(app)

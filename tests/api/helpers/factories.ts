@@ -2,7 +2,7 @@ import type { Db } from '../../../server/db/index.ts'
 import type { Database } from '../../../server/db/schema.ts'
 import { DEMO_PASSWORD } from '../../../server/seed/demo.ts'
 import type { Express } from 'express'
-import { ApiAgent } from './agent.ts'
+import { ApiAgent, siteIdByCode } from './agent.ts'
 import { IMPACT_CHECKLIST } from '../../../shared/schemas/change-requests.ts'
 
 let seq = 0
@@ -276,8 +276,7 @@ export function readBackOf(item: {
  * their own. Answers the agent, the user's id and the roles the administrator's second call answered.
  */
 export async function dualRoleApprover(app: Express, admin: ApiAgent) {
-  const sites = (await admin.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
-  const fhr = sites.find((s) => s.code === 'FHR')!.id
+  const fhr = await siteIdByCode(admin, 'FHR')
   const user = await admin.created('/api/users', {
     email: 'dual@fernhollow.example',
     displayName: 'Dana Twofold',
