@@ -14,7 +14,9 @@ async function crew() {
       signedIn(app, w),
     ),
   )
-  return { app, eng, approver, approver2, tech, op, sup, mgr, admin }
+  // the people a change request passes through, for the limits the demands are recorded on
+  const changeCrew = { eng, approvers: [approver, approver2], tech }
+  return { app, eng, approver, approver2, tech, op, sup, mgr, admin, changeCrew }
 }
 
 const demandCount = async () =>
@@ -31,10 +33,7 @@ describe('demand and trip log', () => {
   it('operators record, engineers classify and credit with a signature where the site policy allows', async () => {
     ctx.clock.set('2026-06-01T08:00:00Z')
     const c = await crew()
-    const { limit, site } = await buildActiveHeaterTrip(
-      { eng: c.eng, approvers: [c.approver, c.approver2], tech: c.tech },
-      { sil: 2 },
-    )
+    const { limit, site } = await buildActiveHeaterTrip(c.changeCrew, { sil: 2 })
 
     // the operator records a real demand on which the whole function acted
     const demand = await c.op.created('/api/demands', {
@@ -161,10 +160,7 @@ describe('demand and trip log', () => {
   it('refuses to credit a demand that failed or did not exercise the whole function', async () => {
     ctx.clock.set('2026-06-01T08:00:00Z')
     const c = await crew()
-    const { limit, site } = await buildActiveHeaterTrip(
-      { eng: c.eng, approvers: [c.approver, c.approver2], tech: c.tech },
-      { sil: 1 },
-    )
+    const { limit, site } = await buildActiveHeaterTrip(c.changeCrew, { sil: 1 })
     await c.admin.patch(`/api/sites/${site.id}`, { policy: { demandCreditAllowed: true } }).expect(200)
     const partial = await c.sup.created('/api/demands', {
       limitId: limit.id,
@@ -196,7 +192,7 @@ describe('demand and trip log', () => {
   it('lists with paging and filters by site, limit, kind and period', async () => {
     ctx.clock.set('2026-06-01T08:00:00Z')
     const c = await crew()
-    const { limit } = await buildActiveHeaterTrip({ eng: c.eng, approvers: [c.approver, c.approver2], tech: c.tech })
+    const { limit } = await buildActiveHeaterTrip(c.changeCrew)
     const kinds = ['spurious_trip', 'spurious_trip', 'dangerous_failure', 'failure_on_demand'] as const
     for (const [i, kind] of kinds.entries()) {
       await c.sup
@@ -232,10 +228,7 @@ describe('demand and trip log', () => {
   it('compares observed demand and spurious-trip rates with the assumed ones, from commissioning', async () => {
     ctx.clock.set('2026-06-01T00:00:00Z')
     const c = await crew()
-    const { limit } = await buildActiveHeaterTrip(
-      { eng: c.eng, approvers: [c.approver, c.approver2], tech: c.tech },
-      { sil: 2 },
-    )
+    const { limit } = await buildActiveHeaterTrip(c.changeCrew, { sil: 2 })
     /** The hazard study's rates of the limit, sent by `agent`: `demandRate` (0.1) demands and 0.5 spurious trips a year. */
     const assume = (agent: ApiAgent, commissionedAt: string, reason: string, demandRate: number | null = 0.1) =>
       agent.put(`/api/demands/assumptions/${limit.id}`, {
@@ -297,9 +290,8 @@ describe('demand and trip log', () => {
   it("keeps a retired limit's hazard-study rates as they stood (docs/register.md#the-rule-book)", async () => {
     ctx.clock.set('2026-06-01T00:00:00Z')
     const c = await crew()
-    const changeCrew = { eng: c.eng, approvers: [c.approver, c.approver2], tech: c.tech }
-    const { site, limit } = await buildActiveHeaterTrip(changeCrew, { sil: 2 })
-    await carryOutChange(changeCrew, {
+    const { site, limit } = await buildActiveHeaterTrip(c.changeCrew, { sil: 2 })
+    await carryOutChange(c.changeCrew, {
       siteId: site.id,
       title: `Retire ${limit.tag}`,
       items: [{ kind: 'retire', limitId: limit.id }],
