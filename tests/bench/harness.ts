@@ -32,11 +32,14 @@ export async function startCluster(): Promise<Cluster> {
   return cluster
 }
 
-/** Seeds the demo plant (server/seed/demo.ts) as the owner role, over a connection of its own. */
-export async function seedDemoPlant(ownerUrl: string) {
+/**
+ * Seeds the demo plant (server/seed/demo.ts) as the owner role, over a connection of its own; `opts.register` as
+ * seedDemo takes it (the demo register of limits, or the sites and accounts only).
+ */
+export async function seedDemoPlant(ownerUrl: string, opts: { register?: boolean } = {}) {
   const owner = createDb(ownerUrl, 2).db
   try {
-    await seedDemo(owner, systemClock)
+    await seedDemo(owner, systemClock, opts)
   } finally {
     await owner.destroy()
   }

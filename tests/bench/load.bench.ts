@@ -8,14 +8,11 @@
 import { existsSync } from 'node:fs'
 import os from 'node:os'
 import type { Browser } from 'playwright-core'
-import { systemClock } from '../../server/clock.ts'
 import { loadConfig } from '../../server/config.ts'
-import { createDb } from '../../server/db/index.ts'
 import { startServer } from '../../server/index.ts'
-import { seedDemo } from '../../server/seed/demo.ts'
 import { launchChromium } from '../browser/chromium.ts'
 import { logger } from '../../server/logger.ts'
-import { runAsScript, startCluster } from './harness.ts'
+import { runAsScript, seedDemoPlant, startCluster } from './harness.ts'
 import { signIn } from './register.bench.ts'
 
 const RUNS = 3
@@ -108,12 +105,7 @@ async function main() {
   let server: Awaited<ReturnType<typeof startServer>> | null = null
   let browser: Browser | null = null
   try {
-    const owner = createDb(cluster.ownerUrl, 2).db
-    try {
-      await seedDemo(owner, systemClock, { register: true })
-    } finally {
-      await owner.destroy()
-    }
+    await seedDemoPlant(cluster.ownerUrl, { register: true })
     const config = loadConfig({ NODE_ENV: 'development', PORT: '0', DATABASE_URL: cluster.appUrl, SMTP_PORT: '1' })
     server = await startServer(config, { runJobs: false })
     const cookie = await sessionCookie(server.url)

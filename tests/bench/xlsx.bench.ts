@@ -9,14 +9,11 @@ import { mkdtemp, readFile, rm, stat } from 'node:fs/promises'
 import os from 'node:os'
 import path from 'node:path'
 import ExcelJS from 'exceljs'
-import { systemClock } from '../../server/clock.ts'
 import { loadConfig } from '../../server/config.ts'
-import { createDb } from '../../server/db/index.ts'
 import { startServer } from '../../server/index.ts'
 import { logger } from '../../server/logger.ts'
-import { seedDemo } from '../../server/seed/demo.ts'
 import { IMPORT_MAX_BYTES } from '../../shared/schemas/imports.ts'
-import { runAsScript, startCluster } from './harness.ts'
+import { runAsScript, seedDemoPlant, startCluster } from './harness.ts'
 import { signIn } from './register.bench.ts'
 
 // ExcelJS's writer packs 1,000,000 rows into 5.14 MB, just over the 5 MB upload limit; 950,000 fit under it
@@ -58,12 +55,7 @@ async function main() {
       throw new Error('the workbook is over the upload limit; the size check would refuse it')
     const content = await readFile(file)
 
-    const owner = createDb(cluster.ownerUrl, 2).db
-    try {
-      await seedDemo(owner, systemClock, { register: false })
-    } finally {
-      await owner.destroy()
-    }
+    await seedDemoPlant(cluster.ownerUrl, { register: false })
     const config = loadConfig({ NODE_ENV: 'development', PORT: '0', DATABASE_URL: cluster.appUrl, SMTP_PORT: '1' })
     server = await startServer(config, { runJobs: false })
     const base = server.url
