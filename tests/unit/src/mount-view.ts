@@ -104,6 +104,22 @@ export function mountRecordPage(view: Component, id: number, user: { id: number;
   })
 }
 
+/**
+ * Mounts the page of `record` as mountRecordPage does, with the API answering GET `path` (without /api) with the
+ * record, the site choices and the routes of `more`; answers the page and the calls it made.
+ */
+export async function openRecordPage(
+  view: Component,
+  path: string,
+  record: { id: number },
+  user: { id: number; roles: Role[]; siteId?: number },
+  more: Routes = {},
+) {
+  const calls = answerApi({ [`GET ${path}`]: () => ({ body: record }), ...SITE_CHOICES, ...more })
+  const w = await mountRecordPage(view, record.id, user)
+  return { w, calls }
+}
+
 /** Vuetify's overlays (dialogs, menus) read the visual viewport, which happy-dom does not provide: a desktop one. */
 export function stubVisualViewport() {
   vi.stubGlobal('visualViewport', { width: 1366, height: 900, addEventListener() {}, removeEventListener() {} })

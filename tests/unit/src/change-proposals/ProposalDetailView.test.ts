@@ -3,17 +3,15 @@ import type { ChangeProposalDto, ProposalStatus } from '@shared/schemas/change-p
 import type { Role } from '@shared/schemas/users.ts'
 import ProposalDetailView from '@/features/change-proposals/views/ProposalDetailView.vue'
 import {
-  answerApi,
   clickInDialog,
   FHR,
-  mountRecordPage,
   NOW,
   openDialog,
   resetPage,
   type Routes,
   ruleButtons,
-  SITE_CHOICES,
   typeInDialog,
+  openRecordPage,
 } from '../mount-view.ts'
 
 // The proposal page offers "Develop into a change request" and "Decline" as the change-proposal rule book allows
@@ -46,15 +44,8 @@ function proposal(status: ProposalStatus, o: Partial<ChangeProposalDto> = {}): C
   }
 }
 
-async function open(p: ChangeProposalDto, roles: Role[], siteId = FHR.id, more: Routes = {}) {
-  const calls = answerApi({
-    [`GET /change-proposals/${p.id}`]: () => ({ body: p }),
-    ...SITE_CHOICES,
-    ...more,
-  })
-  const w = await mountRecordPage(ProposalDetailView, p.id, { id: ME, roles, siteId })
-  return { w, calls }
-}
+const open = (p: ChangeProposalDto, roles: Role[], siteId = FHR.id, more: Routes = {}) =>
+  openRecordPage(ProposalDetailView, `/change-proposals/${p.id}`, p, { id: ME, roles, siteId }, more)
 
 // the refusal of a decided proposal (docs/change-requests.md#change-proposals: decided once)
 const TAKEN_UP = 'This proposal is taken up already.'

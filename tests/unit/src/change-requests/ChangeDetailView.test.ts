@@ -15,6 +15,7 @@ import {
   FHR,
   NOW,
   type Routes,
+  openRecordPage,
 } from '../mount-view.ts'
 import { checklist, item, ME, PROPOSER, request } from './change-fixture.ts'
 
@@ -24,11 +25,7 @@ import { checklist, item, ME, PROPOSER, request } from './change-fixture.ts'
 // fixed at 12:00 UTC.
 
 async function open(cr: ChangeRequestDto, roles: Role[], userId = ME) {
-  answerApi({
-    [`GET /change-requests/${cr.id}`]: () => ({ body: cr }),
-    ...SITE_CHOICES,
-  })
-  return mountRecordPage(ChangeDetailView, cr.id, { id: userId, roles })
+  return (await openRecordPage(ChangeDetailView, `/change-requests/${cr.id}`, cr, { id: userId, roles })).w
 }
 
 type Wrapper = Awaited<ReturnType<typeof open>>

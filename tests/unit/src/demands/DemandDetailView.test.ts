@@ -5,17 +5,15 @@ import type { Role } from '@shared/schemas/users.ts'
 import AppSignDialog from '@/components/AppSignDialog.vue'
 import DemandDetailView from '@/features/demands/views/DemandDetailView.vue'
 import {
-  answerApi,
   clickInDialog,
   FHR,
-  mountRecordPage,
   NOW,
   openDialog,
   resetPage,
   type Routes,
   ruleButtons,
-  SITE_CHOICES,
   typeInDialog,
+  openRecordPage,
 } from '../mount-view.ts'
 
 // The event page builds "Classify" and "Credit as proof test" from the demand rule book's answers carried on the
@@ -87,15 +85,8 @@ const classified = (o: Partial<DemandDto> = {}) =>
     ...o,
   })
 
-async function open(d: DemandDto, roles: Role[], more: Routes = {}) {
-  const calls = answerApi({
-    [`GET /demands/${d.id}`]: () => ({ body: d }),
-    ...SITE_CHOICES,
-    ...more,
-  })
-  const w = await mountRecordPage(DemandDetailView, d.id, { id: ME, roles })
-  return { w, calls }
-}
+const open = (d: DemandDto, roles: Role[], more: Routes = {}) =>
+  openRecordPage(DemandDetailView, `/demands/${d.id}`, d, { id: ME, roles }, more)
 
 type Wrapper = Awaited<ReturnType<typeof open>>['w']
 /** Each button shown: enabled, or the reason it is disabled. */
