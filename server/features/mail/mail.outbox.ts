@@ -47,7 +47,7 @@ export async function enqueueMail(
 }
 
 /** The same mail to each of `people`: one message each, to their address. */
-export function mailEach(people: readonly { email: string }[], mail: Omit<OutgoingMail, 'to'>): OutgoingMail[] {
+function mailEach(people: readonly { email: string }[], mail: Omit<OutgoingMail, 'to'>): OutgoingMail[] {
   return people.map((p) => ({ ...mail, to: p.email }))
 }
 
