@@ -46,11 +46,6 @@ export async function enqueueMail(
   )
 }
 
-/** The same mail to each of `people`: one message each, to their address. */
-function mailEach(people: readonly { email: string }[], mail: Omit<OutgoingMail, 'to'>): OutgoingMail[] {
-  return people.map((p) => ({ ...mail, to: p.email }))
-}
-
 /** A notice to people: its subject and topic, its paragraphs and the link it gives (the bodies mailBodies writes). */
 export interface Notice {
   subject: string
@@ -67,7 +62,13 @@ export function mailNotice(
   notice: Notice,
 ): Promise<void> {
   const { subject, topic, paragraphs, link } = notice
-  return enqueueMail(trx, clock, mailEach(people, { subject, topic, ...mailBodies(paragraphs, link) }))
+  const mail = { subject, topic, ...mailBodies(paragraphs, link) }
+  // the same message to each person: one each, to their address
+  return enqueueMail(
+    trx,
+    clock,
+    people.map((p) => ({ ...mail, to: p.email })),
+  )
 }
 
 /** The link a mail gives to a record's page: "Open <what> #<id>" at `<appUrl>/<path>/<id>`. */
