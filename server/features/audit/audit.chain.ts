@@ -76,8 +76,11 @@ export interface PageWork {
   snapshot: string
 }
 
-/** What a thread sends: a page's check, or that it has stopped (with why, when it failed). */
-export type PageMessage = { page: number; result: PageCheck } | { done: true; error?: string }
+/** What a thread sends for each page it checked. */
+export interface PageMessage {
+  page: number
+  result: PageCheck
+}
 
 /** The next page to check, or -1 when none is left or a page was found broken. */
 export function takePage(work: PageWork): number {

@@ -61,7 +61,7 @@ export async function checkPagesInThreads(n: number, work: Omit<PageWork, 'contr
             execArgv: ['--import', 'tsx'],
           })
       w.on('message', (m: PageMessage) => {
-        if ('page' in m) results[m.page] = m.result
+        results[m.page] = m.result
       })
       // a thread ends by itself once no page is left for it; one that fails ends too, its pages left unchecked
       w.on('error', () => stopTaking(shared))

@@ -52,7 +52,10 @@ async function checkPages(): Promise<void> {
   }
 }
 
-checkPages().then(
-  () => send({ done: true }),
-  (err: unknown) => send({ done: true, error: err instanceof Error ? err.message : String(err) }),
+// a failure (no connection, the connection lost) is thrown out of the thread, which ends with an 'error' event: the
+// caller stops the other threads and walks the chain in one piece itself
+checkPages().catch((err: unknown) =>
+  setImmediate(() => {
+    throw err
+  }),
 )
