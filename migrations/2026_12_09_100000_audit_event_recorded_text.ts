@@ -7,8 +7,20 @@ import { type Kysely, sql } from 'kysely'
 // canonical form, which the conversion keeps: an event written before reads back as jsonb wrote it out, with the same
 // values. No query of the app compares or indexes these columns; the append-only trigger, which lets the sealer link
 // an event only with its content unchanged, now compares their texts (json has no equality): stricter than values.
-const appendOnly = (compare: (side: 'NEW' | 'OLD') => string) =>
-  sql.raw(`
+/**
+ * The append-only trigger function, the sealer's one allowed update comparing the event's content with the states
+ * taken as `states` (their text for json; as they are for jsonb, which has equality).
+ */
+function appendOnly(states: 'text' | 'value') {
+  const content = (e: 'NEW' | 'OLD') => {
+    const state = (c: string) => (states === 'text' ? `${e}.${c}::text` : `${e}.${c}`)
+    return (
+      `(${e}.id, ${e}.occurred_at, ${e}.actor_id, ${e}.action, ${e}.entity_type, ${e}.entity_id, ` +
+      `${state('before')}, ${state('after')}, ${e}.reason, ${e}.batch_id, ${e}.request_id, ${e}.ip, ${e}.site_id, ` +
+      `${e}.data_hash)`
+    )
+  }
+  return sql.raw(`
     CREATE OR REPLACE FUNCTION audit_event_append_only() RETURNS trigger LANGUAGE plpgsql AS $f$
     BEGIN
       IF TG_OP = 'INSERT' THEN
@@ -20,24 +32,18 @@ const appendOnly = (compare: (side: 'NEW' | 'OLD') => string) =>
         RETURN NEW;
       END IF;
       IF TG_OP = 'UPDATE' AND OLD.seq IS NULL AND NEW.seq IS NOT NULL
-         AND ${compare('NEW')}
-             IS NOT DISTINCT FROM
-             ${compare('OLD')} THEN
+         AND ${content('NEW')} IS NOT DISTINCT FROM ${content('OLD')} THEN
         RETURN NEW;
       END IF;
       RAISE EXCEPTION 'audit_event is append-only (% not allowed)', TG_OP USING ERRCODE = 'insufficient_privilege';
     END $f$;`)
+}
 
 export async function up(db: Kysely<any>): Promise<void> {
   await sql`
     ALTER TABLE audit_event ALTER COLUMN before TYPE json USING before::json,
       ALTER COLUMN after TYPE json USING after::json;
-    ${appendOnly(
-      (e) =>
-        `(${e}.id, ${e}.occurred_at, ${e}.actor_id, ${e}.action, ${e}.entity_type, ${e}.entity_id, ` +
-        `${e}.before::text, ${e}.after::text, ${e}.reason, ${e}.batch_id, ${e}.request_id, ${e}.ip, ${e}.site_id, ` +
-        `${e}.data_hash)`,
-    )}
+    ${appendOnly('text')}
   `.execute(db)
 }
 
@@ -45,10 +51,6 @@ export async function down(db: Kysely<any>): Promise<void> {
   await sql`
     ALTER TABLE audit_event ALTER COLUMN before TYPE jsonb USING before::jsonb,
       ALTER COLUMN after TYPE jsonb USING after::jsonb;
-    ${appendOnly(
-      (e) =>
-        `(${e}.id, ${e}.occurred_at, ${e}.actor_id, ${e}.action, ${e}.entity_type, ${e}.entity_id, ${e}.before, ` +
-        `${e}.after, ${e}.reason, ${e}.batch_id, ${e}.request_id, ${e}.ip, ${e}.site_id, ${e}.data_hash)`,
-    )}
+    ${appendOnly('value')}
   `.execute(db)
 }
