@@ -18,12 +18,13 @@ export const allowedTo =
   }
 
 /**
- * Marks the answer as a file to save: its content type and the file name the browser offers (Express's
- * `res.attachment`, which quotes the name as RFC 6266 asks). Returns `res`, so a download reads
- * `asDownload(res, 'application/pdf', name).send(pdf)`; a streamed one writes its body afterwards.
+ * Marks the answer as a file to save: its content type and the file name the browser offers. Returns `res`, so a
+ * download reads `asDownload(res, 'application/pdf', name).send(pdf)`; a streamed one writes its body afterwards.
  */
 export function asDownload(res: Response, contentType: string, fileName: string): Response {
-  return res.attachment(fileName).type(contentType)
+  res.setHeader('Content-Type', contentType)
+  res.setHeader('Content-Disposition', `attachment; filename="${fileName}"`)
+  return res
 }
 
 /** The body of a PATCH: the fields it sends, checked by `schema` (parsePatch). */
