@@ -165,26 +165,32 @@ async function unsealed(db: Db): Promise<number> {
  */
 function serverCpuSeconds(dataDir: string): number | null {
   try {
-    const postmaster = Number(readFileSync(path.join(dataDir, 'postmaster.pid'), 'utf8').split('\n')[0])
+    const postmaster = String(Number(readFileSync(path.join(dataDir, 'postmaster.pid'), 'utf8').split('\n')[0]))
     // fields after the command's closing parenthesis: state, ppid, ..., utime (12th), stime (13th), and the CPU of the
     // children it has reaped (14th, 15th)
     const fields = (pid: string) => {
       const stat = readFileSync(`/proc/${pid}/stat`, 'utf8')
       return stat.slice(stat.lastIndexOf(')') + 2).split(' ')
     }
-    let ticks = 0
-    for (const entry of readdirSync('/proc')) {
-      if (!/^\d+$/.test(entry) || Number(entry) === postmaster) continue
-      try {
-        const f = fields(entry)
-        if (Number(f[1]) === postmaster) ticks += Number(f[11]) + Number(f[12])
-      } catch {
-        // ended and reaped meanwhile: counted with the postmaster's reaped children below
+    const reaped = (f: string[]) => Number(f[13]) + Number(f[14])
+    // the backends' own CPU and the postmaster's, with its reaped children's: a backend reaped while the backends are
+    // read would count twice or not at all, so the reading is made again until no backend was reaped meanwhile
+    for (let attempt = 0; attempt < 10; attempt++) {
+      const before = fields(postmaster)
+      let ticks = 0
+      for (const entry of readdirSync('/proc')) {
+        if (!/^\d+$/.test(entry) || entry === postmaster) continue
+        try {
+          const f = fields(entry)
+          if (f[1] === postmaster) ticks += Number(f[11]) + Number(f[12])
+        } catch {
+          // ended and reaped meanwhile: the postmaster's reaped CPU changes, and the reading is made again
+        }
       }
+      const after = fields(postmaster)
+      if (reaped(after) === reaped(before)) return (ticks + Number(after[11]) + Number(after[12]) + reaped(after)) / 100
     }
-    // the postmaster last, so that a backend that ended while its siblings were read counts through it
-    const f = fields(String(postmaster))
-    return (ticks + Number(f[11]) + Number(f[12]) + Number(f[13]) + Number(f[14])) / 100
+    return null
   } catch {
     return null
   }
