@@ -168,8 +168,11 @@ export function defineRulesFor(user: AbilityUser | null): AppRule[] {
   const alarmImporter = sitesWith('safety_engineer', 'shift_supervisor')
   if (alarmImporter.length) can('import', 'AlarmJournal', { siteId: { $in: alarmImporter } })
   if (engineer.length) can('create', 'Replay', { siteId: { $in: engineer } })
-  const alarmStateActor = sitesWith('operator', 'shift_supervisor', 'safety_engineer', 'technician')
-  if (alarmStateActor.length) can(['create', 'update'], 'AlarmState', { siteId: { $in: alarmStateActor } })
+  // a technician starts no state and ends an out-of-service period (the return to service)
+  const alarmStateStarter = sitesWith('operator', 'shift_supervisor', 'safety_engineer')
+  if (alarmStateStarter.length) can('create', 'AlarmState', { siteId: { $in: alarmStateStarter } })
+  const alarmStateEnder = sitesWith('operator', 'shift_supervisor', 'safety_engineer', 'technician')
+  if (alarmStateEnder.length) can('update', 'AlarmState', { siteId: { $in: alarmStateEnder } })
   // demand and trip log: everyone at the site reads it, operators and supervisors (and engineers) record,
   // safety engineers classify and credit a demand as a proof test
   if (allSites.length) can('read', 'Demand', { siteId: { $in: allSites } })

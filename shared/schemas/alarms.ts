@@ -1,7 +1,7 @@
 import { z } from 'zod'
 import { ALARM_EVENT_KINDS, JOURNAL_PRIORITIES } from '../domain/alarm-figures.ts'
 import { ALARM_STATE_KINDS, ALARM_STATE_STATUSES, DEFAULT_ALARM_STATE_POLICY } from '../domain/rules/alarm-states.ts'
-import { IdSchema, isKnownTimeZone, jsonFormField, ListQuerySchema } from './common.ts'
+import { IdSchema, isKnownTimeZone, jsonFormField, ListQuerySchema, VerdictSchema } from './common.ts'
 
 // Alarm journals, alarm-system figures, alarm states and replays (docs/alarms.md, docs/api.md).
 
@@ -206,7 +206,8 @@ export const AlarmStateSchema = z.object({
   endedBy: z.object({ id: z.number().int(), name: z.string() }).nullable(),
   endedAt: z.string().nullable(),
   endNote: z.string().nullable(),
-  actions: z.object({ end: z.object({ allowed: z.boolean(), reason: z.string().optional() }) }),
+  /** The rule book's answer to each action for the user who asked (shared/domain/rules/alarm-states.ts). */
+  actions: z.object({ end: VerdictSchema }),
 })
 export type AlarmState = z.infer<typeof AlarmStateSchema>
 

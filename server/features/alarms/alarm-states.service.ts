@@ -41,7 +41,7 @@ function toDto(r: NonNullable<repo.AlarmStateRow>, user: CurrentUser, now: Date)
     endedBy: r.ended_by !== null ? { id: r.ended_by, name: r.ended_by_name ?? '' } : null,
     endedAt: r.ended_at ? r.ended_at.toISOString() : null,
     endNote: r.end_note,
-    actions: { end: verdicts.end.allowed ? { allowed: true } : { allowed: false, reason: verdicts.end.reason } },
+    actions: verdicts,
   }
 }
 
