@@ -34,7 +34,7 @@ export function useSiteChoices(o: SiteChoicesOptions = {}) {
 
 /** A screen about one site at a time: the site chosen, the user's first site until another is chosen. */
 export function useOneSite() {
-  const { sites, siteItems } = useSiteChoices()
+  const { sites, siteItems, tzOf } = useSiteChoices()
   const siteId = ref<number | null>(null)
   watch(
     () => sites.sites,
@@ -43,5 +43,5 @@ export function useOneSite() {
     },
     { immediate: true },
   )
-  return { sites, siteId, siteItems }
+  return { sites, siteId, siteItems, tzOf }
 }

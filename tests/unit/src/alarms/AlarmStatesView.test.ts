@@ -147,6 +147,14 @@ describe('AlarmStatesView: the rows follow the alarm-state rule book', () => {
     expect(w.find('[data-test="state-list"] tbody').text()).toContain('ended by Ilse Brandvold: Dryer back on line')
   })
 
+  it('writes the times in the site’s time zone', async () => {
+    // started 11:00 UTC, until 15:00 UTC; the refinery keeps Europe/Berlin, UTC+2 in July (CEST, IANA tz database)
+    const { w } = await open(['operator'], [state(1, 'shelved', ok)])
+    const cells = w.findAll('[data-test="state-list"] tbody td').map((c) => c.text())
+    expect(cells).toContain('6 Jul 2026, 13:00')
+    expect(cells).toContain('6 Jul 2026, 17:00')
+  })
+
   it('labels the end of an out-of-service period as the return to service', async () => {
     const { w } = await open(['technician'], [state(2, 'out_of_service', ok)])
     expect(w.find('[data-test="state-end-2"]').text()).toBe('Return to service')
