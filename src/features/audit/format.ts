@@ -24,42 +24,40 @@ export function entityKind(e: Pick<AuditEvent, 'entityType'>): string {
   return AUDIT_ENTITY_LABELS[e.entityType] ?? e.entityType
 }
 
+/** The kinds of record with a page of their own, and that page (it takes the event's record id). */
+const RECORD_PAGES = new Map([
+  ['Limit', 'limit-detail'],
+  ['ChangeRequest', 'change-detail'],
+  ['TripTest', 'test-detail'],
+  ['Bypass', 'bypass-detail'],
+  ['Demand', 'demand-detail'],
+  ['Finding', 'finding-detail'],
+  ['ReconciliationSource', 'recon-source-detail'],
+])
+
+/** The kinds of record shown on the page of their limit. */
+const ON_LIMIT_PAGE = new Set(['TestDeferral', 'alarm_state'])
+
+/** The kinds of record without a page of their own, and the list that shows them. */
+const LIST_PAGES = new Map([
+  ['Instrument', 'instrument-list'],
+  ['Process', 'process-list'],
+  ['ReconciliationRun', 'recon-run-list'],
+  ['alarm_journal_upload', 'alarm-journals'],
+  ['User', 'admin-users'],
+  ['Site', 'admin-sites'],
+  ['Area', 'admin-sites'],
+])
+
 /** The page of the record an event names, where it has one. */
 export function entityLink(e: AuditEvent): RouteLocationRaw | null {
   const id = e.entityId
   if (id === null || !/^\d+$/.test(id)) return null
-  switch (e.entityType) {
-    case 'Limit':
-      return { name: 'limit-detail', params: { id } }
-    case 'ChangeRequest':
-      return { name: 'change-detail', params: { id } }
-    case 'TripTest':
-      return { name: 'test-detail', params: { id } }
-    case 'Bypass':
-      return { name: 'bypass-detail', params: { id } }
-    case 'Demand':
-      return { name: 'demand-detail', params: { id } }
-    case 'Finding':
-      return { name: 'finding-detail', params: { id } }
-    case 'ReconciliationSource':
-      return { name: 'recon-source-detail', params: { id } }
-    case 'TestDeferral':
-    case 'alarm_state':
-      return e.entityLimitId ? { name: 'limit-detail', params: { id: String(e.entityLimitId) } } : null
-    case 'Instrument':
-      return { name: 'instrument-list' }
-    case 'Process':
-      return { name: 'process-list' }
-    case 'ReconciliationRun':
-      return { name: 'recon-run-list' }
-    case 'alarm_journal_upload':
-      return { name: 'alarm-journals' }
-    case 'User':
-      return { name: 'admin-users' }
-    case 'Site':
-    case 'Area':
-      return { name: 'admin-sites' }
-    default:
-      return null
+  const page = RECORD_PAGES.get(e.entityType)
+  if (page) return { name: page, params: { id } }
+  if (ON_LIMIT_PAGE.has(e.entityType)) {
+    return e.entityLimitId ? { name: 'limit-detail', params: { id: String(e.entityLimitId) } } : null
   }
+  const list = LIST_PAGES.get(e.entityType)
+  return list ? { name: list } : null
 }
