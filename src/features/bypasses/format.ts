@@ -107,3 +107,9 @@ export function peopleOf(items: BypassDto[]) {
   }
   return { requesters, authorizers }
 }
+
+/** The order of bypasses in force wherever they are listed for attention: overdue first, then by planned end. */
+export const byOverdueThenPlannedEnd = (
+  a: { overdue: boolean; plannedEnd: string },
+  b: { overdue: boolean; plannedEnd: string },
+) => Number(b.overdue) - Number(a.overdue) || a.plannedEnd.localeCompare(b.plannedEnd)
