@@ -753,9 +753,7 @@ export async function signDegradationMeasures(
     entityId: limitId,
   })
   await deps.db.transaction().execute(async (trx) => {
-    const open = await repo.lockOpenDegradation(trx, limitId)
-    if (!open) enforce({ allowed: false, status: 409, reason: `${limit.tag} is not degraded` })
-    const d = open!
+    const d = await lockDegradationOf(trx, limit)
     const mttr = d.mttr_hours === null ? null : Number(d.mttr_hours)
     const check = checkRepairDeadline(d.opened_at, endOfDay(input.repairDeadline, limit.time_zone), mttr)
     const content = {
@@ -819,15 +817,14 @@ export async function approveRepairDeadline(
     entityId: limitId,
   })
   await deps.db.transaction().execute(async (trx) => {
-    const d = await repo.lockOpenDegradation(trx, limitId)
-    if (!d) enforce({ allowed: false, status: 409, reason: `${limit.tag} is not degraded` })
+    const d = await lockDegradationOf(trx, limit)
     const now = deps.clock.now()
-    enforce(degradationActions(degradationRule(d!, limit.site_id), actor, null, now).approveDeadline)
-    await repo.updateDegradation(trx, d!.id, { deadline_approved_by: signer.id, deadline_approved_at: now })
-    const content = { degradationId: d!.id, repairDeadline: d!.repair_deadline, mttrHours: d!.mttr_hours }
+    enforce(degradationActions(degradationRule(d, limit.site_id), actor, null, now).approveDeadline)
+    await repo.updateDegradation(trx, d.id, { deadline_approved_by: signer.id, deadline_approved_at: now })
+    const content = { degradationId: d.id, repairDeadline: d.repair_deadline, mttrHours: d.mttr_hours }
     await signAs(trx, deps.clock, signer, {
       entityType: 'LimitDegradation',
-      entityId: d!.id,
+      entityId: d.id,
       meaning: 'approved',
       contentHash: contentHash(content),
       comment: input.comment,
@@ -840,6 +837,13 @@ export async function approveRepairDeadline(
     })
   })
   return getDegradation(deps, ability, limitId, ctx)
+}
+
+/** The open degradation of a limit, locked for the signed action on it; 409 when the limit is not degraded. */
+async function lockDegradationOf(trx: Trx, limit: { id: number; tag: string }) {
+  const open = await repo.lockOpenDegradation(trx, limit.id)
+  if (!open) enforce({ allowed: false, status: 409, reason: `${limit.tag} is not degraded` })
+  return open!
 }
 
 function degradationRule(
