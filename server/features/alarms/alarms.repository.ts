@@ -558,19 +558,27 @@ export async function seriesSamples(pool: pg.Pool, uploadId: number, series: num
 
 export async function limitsOnInstrument(db: Q, instrumentId: number) {
   return db
-    .selectFrom('limit_function as l')
-    .select(['l.id', 'l.tag', 'l.site_id', 'l.direction', ...ALARM_SETTING_COLUMNS, 'l.response_time_min', 'l.status'])
+    .selectFrom('limit_function')
+    .select([
+      'limit_function.id',
+      'limit_function.tag',
+      'limit_function.site_id',
+      'limit_function.direction',
+      ...ALARM_SETTING_COLUMNS,
+      'limit_function.response_time_min',
+      'limit_function.status',
+    ])
     .where((eb) =>
       eb.or([
-        eb('l.primary_instrument_id', '=', instrumentId),
+        eb('limit_function.primary_instrument_id', '=', instrumentId),
         eb(
-          'l.id',
+          'limit_function.id',
           'in',
           eb.selectFrom('limit_instrument').select('limit_id').where('instrument_id', '=', instrumentId),
         ),
       ]),
     )
-    .orderBy('l.tag')
+    .orderBy('limit_function.tag')
     .execute()
 }
 

@@ -27,14 +27,14 @@ export interface LimitFilters {
   q?: string
 }
 
-/** What an alarm does of a limit (`limit_function as l`): where it acts, with its deadband and delays. */
+/** What an alarm does of a limit: where it acts, with its deadband and delays. */
 export const ALARM_SETTING_COLUMNS = [
-  'l.setpoint',
-  'l.deadband',
-  'l.deadband_unit',
-  'l.on_delay_sec',
-  'l.off_delay_sec',
-  'l.latching',
+  'limit_function.setpoint',
+  'limit_function.deadband',
+  'limit_function.deadband_unit',
+  'limit_function.on_delay_sec',
+  'limit_function.off_delay_sec',
+  'limit_function.latching',
 ] as const
 
 export const LIMIT_SORT_COLUMNS = {
@@ -50,7 +50,8 @@ export const LIMIT_SORT_COLUMNS = {
 } as const
 export type LimitSortField = keyof typeof LIMIT_SORT_COLUMNS
 
-function baseQuery(db: Q) {
+/** Limits with their process, area, site and primary instrument (`pi`): the register's rows and the response sheets. */
+export function limitsWithPlace(db: Q) {
   return db
     .selectFrom('limit_function')
     .innerJoin('process', 'process.id', 'limit_function.process_id')
@@ -59,7 +60,7 @@ function baseQuery(db: Q) {
     .innerJoin('instrument as pi', 'pi.id', 'limit_function.primary_instrument_id')
 }
 
-type Base = ReturnType<typeof baseQuery>
+type Base = ReturnType<typeof limitsWithPlace>
 
 export function applyFilters<O>(q: SelectQueryBuilder<any, any, O>, f: LimitFilters): SelectQueryBuilder<any, any, O> {
   let query = q.where('limit_function.site_id', 'in', idsOrNone(f.siteIds))
@@ -168,7 +169,7 @@ export async function listLimits(
   page: PageSpec,
 ): Promise<(LimitListRow & { instrument_ids: number[] })[]> {
   const q = orderBySort(
-    selectListColumns(baseQuery(db))
+    selectListColumns(limitsWithPlace(db))
       .select((eb) =>
         eb
           .fn<number[]>('array', [
@@ -198,7 +199,7 @@ export async function listRegisterRows(
 ): Promise<{ id: number; sort_value: unknown; json: string }[]> {
   const first = LIMIT_SORT_COLUMNS[sort[0]?.field ?? 'tag']
   const q = orderBySort(
-    baseQuery(db)
+    limitsWithPlace(db)
       .select([
         'limit_function.id',
         sql.ref(first).as('sort_value'),
@@ -235,14 +236,14 @@ export async function countLimits(db: Q, f: LimitFilters, cap: number): Promise<
 }
 
 export async function findLimitById(db: Q, id: number, lock = false): Promise<LimitListRow | undefined> {
-  let q = selectListColumns(baseQuery(db)).where('limit_function.id', '=', id)
+  let q = selectListColumns(limitsWithPlace(db)).where('limit_function.id', '=', id)
   if (lock) q = q.forUpdate(['limit_function'])
   return (await q.executeTakeFirst()) as LimitListRow | undefined
 }
 
 /** The site's limits with these lower-case tags, in the register row shape, locked for update. */
 export function lockLimitsByTags(trx: Transaction<Database>, siteId: number, lowerTags: string[]) {
-  return selectListColumns(baseQuery(trx))
+  return selectListColumns(limitsWithPlace(trx))
     .where('limit_function.site_id', '=', siteId)
     .where(sql<string>`lower(limit_function.tag)`, 'in', lowerTags)
     .forUpdate(['limit_function'])

@@ -1,4 +1,4 @@
-import { ALARM_SETTING_COLUMNS } from './limits.repository.ts'
+import { ALARM_SETTING_COLUMNS, limitsWithPlace } from './limits.repository.ts'
 import type { Kysely, Transaction } from 'kysely'
 import type { Database } from '../../db/schema.ts'
 
@@ -6,50 +6,44 @@ type Q = Kysely<Database> | Transaction<Database>
 
 /** What an alarm response sheet prints of a limit. */
 export async function findResponseSheetRows(db: Q, where: { limitId: number } | { siteId: number; areaId?: number }) {
-  let q = db
-    .selectFrom('limit_function as l')
-    .innerJoin('process', 'process.id', 'l.process_id')
-    .innerJoin('area', 'area.id', 'l.area_id')
-    .innerJoin('site', 'site.id', 'l.site_id')
-    .innerJoin('instrument as pi', 'pi.id', 'l.primary_instrument_id')
-    .select([
-      'l.id',
-      'l.site_id',
-      'l.tag',
-      'l.description',
-      'l.direction',
-      'l.limit_class',
-      'l.status',
-      'l.revision',
-      ...ALARM_SETTING_COLUMNS,
-      'l.priority',
-      'l.severity',
-      'l.consequence',
-      'l.operator_response',
-      'l.response_time_min',
-      'l.alarm_type',
-      'l.causes',
-      'l.confirmation',
-      'l.impact_category',
-      'l.safety_related_alarm',
-      'l.claimed_risk_reduction',
-      'process.name as process_name',
-      'area.name as area_name',
-      'site.name as site_name',
-      'site.code as site_code',
-      'site.time_zone',
-      'pi.tag as instrument_tag',
-      'pi.unit',
-    ])
-  if ('limitId' in where) q = q.where('l.id', '=', where.limitId)
+  let q = limitsWithPlace(db).select([
+    'limit_function.id',
+    'limit_function.site_id',
+    'limit_function.tag',
+    'limit_function.description',
+    'limit_function.direction',
+    'limit_function.limit_class',
+    'limit_function.status',
+    'limit_function.revision',
+    ...ALARM_SETTING_COLUMNS,
+    'limit_function.priority',
+    'limit_function.severity',
+    'limit_function.consequence',
+    'limit_function.operator_response',
+    'limit_function.response_time_min',
+    'limit_function.alarm_type',
+    'limit_function.causes',
+    'limit_function.confirmation',
+    'limit_function.impact_category',
+    'limit_function.safety_related_alarm',
+    'limit_function.claimed_risk_reduction',
+    'process.name as process_name',
+    'area.name as area_name',
+    'site.name as site_name',
+    'site.code as site_code',
+    'site.time_zone',
+    'pi.tag as instrument_tag',
+    'pi.unit',
+  ])
+  if ('limitId' in where) q = q.where('limit_function.id', '=', where.limitId)
   else {
     q = q
-      .where('l.site_id', '=', where.siteId)
-      .where('l.status', '=', 'active')
-      .where('l.limit_class', 'in', ['alarm', 'alert'])
-    if (where.areaId !== undefined) q = q.where('l.area_id', '=', where.areaId)
+      .where('limit_function.site_id', '=', where.siteId)
+      .where('limit_function.status', '=', 'active')
+      .where('limit_function.limit_class', 'in', ['alarm', 'alert'])
+    if (where.areaId !== undefined) q = q.where('limit_function.area_id', '=', where.areaId)
   }
-  return q.orderBy('area.name').orderBy('process.name').orderBy('l.tag').execute()
+  return q.orderBy('area.name').orderBy('process.name').orderBy('limit_function.tag').execute()
 }
 
 export type ResponseSheetRow = Awaited<ReturnType<typeof findResponseSheetRows>>[number]
