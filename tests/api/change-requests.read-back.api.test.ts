@@ -40,6 +40,11 @@ async function approvedRequest(
   return (await approver.post(`/api/change-requests/${cr.id}/approvals`, { password: PW }).expect(200)).body
 }
 
+/** The technician implements the request's first item, signing what they read back from the device. */
+function implementFirstItem(tech: ApiAgent, cr: { id: number; items: { id: number }[] }, readBack: unknown) {
+  return tech.post(`/api/change-requests/${cr.id}/implementations`, { itemId: cr.items[0].id, readBack, password: PW })
+}
+
 describe('blind read-back', () => {
   it('reads back the priority and enabled state of an alarm and compares setpoints as exact decimals', async () => {
     const app = createApp(ctx)
@@ -100,33 +105,15 @@ describe('blind read-back', () => {
 
     // implementation refuses a read-back without the priority, or with the alarm suppressed on the device
     const { priority: _p, ...noPriority } = full
-    const missing = await tech
-      .post(`/api/change-requests/${cr.id}/implementations`, { itemId: item.id, readBack: noPriority, password: PW })
-      .expect(422)
+    const missing = await implementFirstItem(tech, cr, noPriority).expect(422)
     expect(Object.keys(missing.body.error.details.fields)).toEqual(['readBack.priority'])
-    const suppressed = await tech
-      .post(`/api/change-requests/${cr.id}/implementations`, {
-        itemId: item.id,
-        readBack: { ...full, enabled: false },
-        password: PW,
-      })
-      .expect(422)
+    const suppressed = await implementFirstItem(tech, cr, { ...full, enabled: false }).expect(422)
     expect(suppressed.body.error.details.fields['readBack.enabled'][0]).toContain('true')
-    const inexact = await tech
-      .post(`/api/change-requests/${cr.id}/implementations`, {
-        itemId: item.id,
-        readBack: { ...full, setpoint: '700.0000000000000001' },
-        password: PW,
-      })
-      .expect(422)
+    const inexact = await implementFirstItem(tech, cr, { ...full, setpoint: '700.0000000000000001' }).expect(422)
     expect(Object.keys(inexact.body.error.details.fields)).toEqual(['readBack.setpoint'])
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.status).toBe('proposed')
 
-    const done = (
-      await tech
-        .post(`/api/change-requests/${cr.id}/implementations`, { itemId: item.id, readBack: full, password: PW })
-        .expect(200)
-    ).body
+    const done = (await implementFirstItem(tech, cr, full).expect(200)).body
     expect(done.status).toBe('implemented')
     expect(done.items[0].readBack).toMatchObject({ priority: 'low', enabled: true, setpoint: '700.000' })
 
@@ -139,20 +126,8 @@ describe('blind read-back', () => {
     // default matrix: moderate severity with 3 to < 10 min to respond is "medium"
     expect(cr2.items[0].deviceFields).toEqual(['priority', 'enabled'])
     expect(cr2.items[0].readBackExpected).toEqual({ priority: 'medium', enabled: true })
-    await tech
-      .post(`/api/change-requests/${cr2.id}/implementations`, {
-        itemId: cr2.items[0].id,
-        readBack: { priority: 'low', enabled: true },
-        password: PW,
-      })
-      .expect(422)
-    await tech
-      .post(`/api/change-requests/${cr2.id}/implementations`, {
-        itemId: cr2.items[0].id,
-        readBack: { priority: 'medium', enabled: true },
-        password: PW,
-      })
-      .expect(200)
+    await implementFirstItem(tech, cr2, { priority: 'low', enabled: true }).expect(422)
+    await implementFirstItem(tech, cr2, { priority: 'medium', enabled: true }).expect(200)
     expect((await eng.get(`/api/limits/${limit.id}`).expect(200)).body.priority).toBe('medium')
   })
 
