@@ -115,25 +115,24 @@ describe('change request: who may do what along the whole path (docs/security.md
 
   it('withdrawal: only the engineer withdraws a draft or a submitted request', async () => {
     const { site, limit } = await buildHeaterTrip(as.engineer)
+    const withdrawnByEngineerOnly = async (crId: number) => {
+      await refusedForAllBut(['engineer'], (a) => a.post(`/api/change-requests/${crId}/withdrawal`))
+      const withdrawn = (await as.engineer.post(`/api/change-requests/${crId}/withdrawal`).expect(200)).body
+      expect(withdrawn.status).toBe('withdrawn')
+    }
     const draft = await draftChange(as.engineer, {
       siteId: site.id,
       title: 'Draft to withdraw',
       items: [{ kind: 'create', limitId: limit.id }],
     })
-    await refusedForAllBut(['engineer'], (a) => a.post(`/api/change-requests/${draft.id}/withdrawal`))
-    expect((await as.engineer.post(`/api/change-requests/${draft.id}/withdrawal`).expect(200)).body.status).toBe(
-      'withdrawn',
-    )
+    await withdrawnByEngineerOnly(draft.id)
 
     const submitted = await submitChange(as.engineer, {
       siteId: site.id,
       title: 'Submitted, then withdrawn',
       items: [{ kind: 'create', limitId: limit.id }],
     })
-    await refusedForAllBut(['engineer'], (a) => a.post(`/api/change-requests/${submitted.id}/withdrawal`))
-    expect((await as.engineer.post(`/api/change-requests/${submitted.id}/withdrawal`).expect(200)).body.status).toBe(
-      'withdrawn',
-    )
+    await withdrawnByEngineerOnly(submitted.id)
     // a withdrawn request is not approved any more
     const late = await as.approver.post(`/api/change-requests/${submitted.id}/approvals`, { password: PW }).expect(409)
     expect(late.body.error.code).toBe('INVALID_STATE')
