@@ -1,13 +1,13 @@
 import type { Response } from 'supertest'
 import { beforeAll, describe, expect, it } from 'vitest'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
-import { useSignedIn, siteIdByCode } from './helpers/agent.ts'
+import { useSignedIn } from './helpers/agent.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import {
   draftChange,
   heaterAlarmBody,
-  heaterThermocouple,
   heaterTripBody,
+  heaterWithChannels,
   readyToImplement,
   rowsAndAudit,
 } from './helpers/factories.ts'
@@ -19,7 +19,6 @@ const PEOPLE = ['engineer', 'approver', 'technician', 'operator'] as const
 
 const T0 = '2026-05-18T06:00:00Z'
 const { as } = useSignedIn(ctx, PEOPLE, { at: T0 })
-let seq = 0
 
 interface Built {
   limit: { id: number; siteId: number; tag: string }
@@ -37,20 +36,7 @@ async function buildLimit(
   } = {},
 ): Promise<Built> {
   const eng = as.engineer
-  const siteId = await siteIdByCode(eng, 'FHR')
-  const area = ((await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items as { id: number }[])[0]
-  const n = `${process.pid % 1000}-${++seq}`
-  const proc = await eng.created('/api/processes', {
-    areaId: area.id,
-    name: `Bypass input heater H-${n}`,
-    description: 'fired heater',
-  })
-  const instruments = []
-  for (let i = 0; i < (o.channels ?? 1); i++) {
-    instruments.push(
-      await eng.created('/api/instruments', heaterThermocouple(proc.id, `TTB-${n}${String.fromCharCode(65 + i)}`)),
-    )
-  }
+  const { proc, instruments, n } = await heaterWithChannels(eng, o.channels ?? 1)
   const alarm = o.limitClass === 'alarm'
   const limit = await eng.created('/api/limits', {
     ...(alarm ? heaterAlarmBody : heaterTripBody)(

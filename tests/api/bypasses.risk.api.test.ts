@@ -4,8 +4,8 @@ import { createApp } from '../../server/app.ts'
 import { createTripTestJob } from '../../server/features/trip-tests/trip-tests.jobs.ts'
 import { DEMO_PASSWORD } from '../../server/seed/demo.ts'
 import { sifPfd, type Subsystem } from '../../shared/domain/sif-reliability.ts'
-import { crewOf, DEMO_ACCOUNTS, siteIdByCode } from './helpers/agent.ts'
-import { buildHeaterTrip, ACTIVATE, heaterThermocouple, heaterTrip, mvSourceTest } from './helpers/factories.ts'
+import { crewOf, DEMO_ACCOUNTS } from './helpers/agent.ts'
+import { buildHeaterTrip, ACTIVATE, heaterTrip, heaterWithChannels, mvSourceTest } from './helpers/factories.ts'
 import { useTestDb } from './helpers/test-db.ts'
 import { activateLimit } from './helpers/workflows.ts'
 
@@ -18,7 +18,6 @@ type Who = (typeof PEOPLE)[number]
 
 let app: Express
 const { as, signInAll } = crewOf(() => app, PEOPLE)
-let seq = 0
 
 async function at(iso: string) {
   ctx.clock.set(iso)
@@ -50,20 +49,7 @@ const workedPfd = (ti: number) => pfd1oo2(5e-7, 0.1, ti) + pfd1oo1(2e-4 / YEAR_H
 /** A SIL-rated heater trip with the given subsystems and `channels` voted thermocouples, put in service (two approvals). */
 async function silLimit(sil: 1 | 2 | 3, subsystems: Subsystem[], channels = 1) {
   const eng = as.engineer
-  const siteId = await siteIdByCode(eng, 'FHR')
-  const area = ((await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items as { id: number }[])[2]
-  const n = `${process.pid % 1000}-${++seq}`
-  const proc = await eng.created('/api/processes', {
-    areaId: area.id,
-    name: `SIF heater H-${n}`,
-    description: 'fired heater',
-  })
-  const instruments: { id: number }[] = []
-  for (let i = 0; i < channels; i++) {
-    instruments.push(
-      await eng.created('/api/instruments', heaterThermocouple(proc.id, `TTS-${n}${String.fromCharCode(65 + i)}`)),
-    )
-  }
+  const { proc, instruments, n } = await heaterWithChannels(eng, channels, 2)
   const limit = await eng.created(
     '/api/limits',
     heaterTrip(

@@ -119,6 +119,32 @@ export const HEATER_SUBSYSTEMS = [
   },
 ]
 
+/** A fired-heater process in an area of the site (its first unless `areaIndex`) numbered `n`, via the API as an engineer. */
+async function heaterProcess(eng: ApiAgent, siteId: number, areaIndex = 0) {
+  const area = ((await eng.get(`/api/areas?siteId=${siteId}`).expect(200)).body.items as { id: number }[])[areaIndex]
+  const n = next()
+  const proc = await eng.created('/api/processes', {
+    areaId: area.id,
+    name: `Fixture heater H-${n}`,
+    description: 'fired heater',
+  })
+  return { area, proc, n }
+}
+
+/**
+ * A fired-heater process at the refinery (FHR) with `channels` heater thermocouples tagged `TT-<n>A`, `TT-<n>B`, …
+ * (the voted sensors of one limit), via the API as an engineer; `n` numbers the fixture for the tag of its limit.
+ */
+export async function heaterWithChannels(eng: ApiAgent, channels: number, areaIndex = 0) {
+  const { proc, n } = await heaterProcess(eng, await siteIdByCode(eng, 'FHR'), areaIndex)
+  const instruments: { id: number; tag: string }[] = []
+  for (let i = 0; i < channels; i++) {
+    const tag = `TT-${n}${String.fromCharCode(65 + i)}`
+    instruments.push(await eng.created('/api/instruments', heaterThermocouple(proc.id, tag)))
+  }
+  return { proc, instruments, n }
+}
+
 /** A process, a type K thermocouple instrument (0–1200 °C, normal 300–650) and a proposed high trip at 780 °C, via the API as an engineer. */
 export async function buildHeaterTrip(
   eng: ApiAgent,
@@ -126,13 +152,7 @@ export async function buildHeaterTrip(
 ) {
   const sites = (await eng.get('/api/sites').expect(200)).body.items as { id: number; code: string }[]
   const site = sites.find((s) => s.code === (opts.siteCode ?? 'FHR'))!
-  const area = ((await eng.get(`/api/areas?siteId=${site.id}`).expect(200)).body.items as { id: number }[])[0]
-  const n = next()
-  const proc = await eng.created('/api/processes', {
-    areaId: area.id,
-    name: `Fixture heater H-${n}`,
-    description: 'fired heater',
-  })
+  const { area, proc, n } = await heaterProcess(eng, site.id)
   const inst = await eng.created('/api/instruments', {
     ...heaterThermocouple(proc.id, `TT-${n}`),
     ...(opts.model === undefined ? {} : { model: opts.model }),
