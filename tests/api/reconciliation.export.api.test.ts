@@ -135,55 +135,31 @@ describe('an uploaded export', () => {
   })
 })
 
+/** The reason the acceptance tests sign. */
+const RETIRED = 'Alarm retired in the rationalization'
+
+/** `who` accepts the finding at `version` with a signed reason; `over` changes the reason or the password. */
+function accept(who: ApiAgent, f: { id: number }, version: number, over: { reason?: string; password?: string } = {}) {
+  return who.post(`/api/findings/${f.id}/acceptance`, { version, reason: RETIRED, password: DEMO_PASSWORD, ...over })
+}
+
 describe('acceptance with a signed reason', () => {
   it('needs an acknowledgement first, the right role, a reason and the signer’s password', async () => {
     const f = await one('disabled', tags.disabled)
     // not acknowledged yet: 409
-    await manager
-      .post(`/api/findings/${f.id}/acceptance`, {
-        version: f.version,
-        reason: 'Alarm retired in the rationalization',
-        password: DEMO_PASSWORD,
-      })
-      .expect(409)
+    await accept(manager, f, f.version).expect(409)
     await operator.post(`/api/findings/${f.id}/acknowledgement`, { version: f.version }).expect(403)
     const acked = (await eng.post(`/api/findings/${f.id}/acknowledgement`, { version: f.version }).expect(200)).body
     expect(acked).toMatchObject({ state: 'acknowledged', acknowledgedBy: expect.any(String) })
-    await operator
-      .post(`/api/findings/${f.id}/acceptance`, {
-        version: acked.version,
-        reason: 'Alarm retired in the rationalization',
-        password: DEMO_PASSWORD,
-      })
-      .expect(403)
-    const short = await manager
-      .post(`/api/findings/${f.id}/acceptance`, { version: acked.version, reason: 'ok', password: DEMO_PASSWORD })
-      .expect(400)
+    await accept(operator, f, acked.version).expect(403)
+    const short = await accept(manager, f, acked.version, { reason: 'ok' }).expect(400)
     expect(short.body.error.details.fields.reason).toBeDefined()
-    const wrong = await manager
-      .post(`/api/findings/${f.id}/acceptance`, {
-        version: acked.version,
-        reason: 'Alarm retired in the rationalization',
-        password: 'not-the-password',
-      })
-      .expect(403)
+    const wrong = await accept(manager, f, acked.version, { password: 'not-the-password' }).expect(403)
     expect(wrong.body.error.code).toBe('SIGNATURE_INVALID')
     expect((await eng.get(`/api/findings/${f.id}`).expect(200)).body.state).toBe('acknowledged')
 
-    const accepted = (
-      await manager
-        .post(`/api/findings/${f.id}/acceptance`, {
-          version: acked.version,
-          reason: 'Alarm retired in the rationalization',
-          password: DEMO_PASSWORD,
-        })
-        .expect(200)
-    ).body
-    expect(accepted).toMatchObject({
-      state: 'accepted',
-      resolution: 'accepted',
-      acceptReason: 'Alarm retired in the rationalization',
-    })
+    const accepted = (await accept(manager, f, acked.version).expect(200)).body
+    expect(accepted).toMatchObject({ state: 'accepted', resolution: 'accepted', acceptReason: RETIRED })
     expect(accepted.signatures).toMatchObject([{ meaning: 'accepted', matchesContent: true }])
     // closed: nothing more is offered
     expect(accepted.actions.acknowledge.allowed).toBe(false)
