@@ -46,22 +46,10 @@ describe('trip tests: a failed test degrades the limit until a full retest passe
     expect(degraded.protectionState).toBe('degraded')
     await tech.put(`/api/trip-tests/${failed.id}`, { ...base, asFound: 781 }).expect(409)
 
-    await tech
-      .post(`/api/limits/${limit.id}/degradation`, {
-        compensatingMeasures: ['Hourly local reading'],
-        repairDeadline: '2026-03-12',
-        password: PW,
-      })
-      .expect(403)
-    const measures = (
-      await sup
-        .post(`/api/limits/${limit.id}/degradation`, {
-          compensatingMeasures: ['Hourly local reading of TI'],
-          repairDeadline: '2026-03-12',
-          password: PW,
-        })
-        .expect(200)
-    ).body
+    // the compensating measures and repair deadline are signed by the shift supervisor, not the technician
+    const signed = { compensatingMeasures: ['Hourly local reading of TI'], repairDeadline: '2026-03-12', password: PW }
+    await tech.post(`/api/limits/${limit.id}/degradation`, signed).expect(403)
+    const measures = (await sup.post(`/api/limits/${limit.id}/degradation`, signed).expect(200)).body
     expect(measures.items[0].measuresSignedBy).toBe('Hedda Marlowe')
 
     // a passing partial test does not clear it; a passing full test does
