@@ -33,6 +33,19 @@ const ask = (limitId: number, start: string, hours: number) =>
     predefinedMeasuresConfirmed: true,
   })
 
+/** A bypass of the limit asked by the operator from `start` for `hours`, authorized by the shift supervisor. */
+async function authorizedBypass(limitId: number, start: string, hours: number) {
+  const b = (await ask(limitId, start, hours).expect(201)).body
+  await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
+  return b
+}
+
+/** The operator removes the bypass, protection restored. */
+const removeBypass = (id: number) =>
+  as.operator
+    .post(`/api/bypasses/${id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true })
+    .expect(200)
+
 async function written() {
   const rows = await ctx.db
     .selectFrom('bypass')
@@ -48,8 +61,7 @@ describe('a bypass is put in force no earlier than its planned start', () => {
     await signInAll()
     const limit = await limitWithMaxBypass(24)
     // planned to start in 3 h (09:00 UTC, 11:00 in Europe/Berlin summer time)
-    const b = (await ask(limit.id, '2026-07-06T09:00:00Z', 4).expect(201)).body
-    await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
+    const b = await authorizedBypass(limit.id, '2026-07-06T09:00:00Z', 4)
     const before = await written()
     const early = await as.operator.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(409)
     expect(early.body.error.code).toBe('INVALID_STATE')
@@ -73,9 +85,7 @@ describe('a bypass is put in force no earlier than its planned start', () => {
       .body
     expect(auth.lapsesAt).toBe('2026-07-07T00:00:00.000Z')
     await as.operator.post(`/api/bypasses/${later.id}/cancellation`).expect(200)
-    await as.operator
-      .post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true })
-      .expect(200)
+    await removeBypass(b.id)
   })
 })
 
@@ -87,11 +97,9 @@ describe('the review counts what was in force, by the times it was in force', ()
     const early = await limitWithMaxBypass(24)
     // the test clock runs on while the two limits are put in service: 06:00 again for the request in force on time
     ctx.clock.set('2026-07-08T06:00:00Z')
-    const a = (await ask(onTime.id, '2026-07-08T06:00:00Z', 6).expect(201)).body
-    await as.supervisor.post(`/api/bypasses/${a.id}/authorizations`, { password: PW }).expect(200)
+    const a = await authorizedBypass(onTime.id, '2026-07-08T06:00:00Z', 6)
     await as.operator.post(`/api/bypasses/${a.id}/activation`, ACTIVATE).expect(200)
-    const b = (await ask(early.id, '2026-07-08T09:00:00Z', 6).expect(201)).body
-    await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
+    const b = await authorizedBypass(early.id, '2026-07-08T09:00:00Z', 6)
     // recorded in force at 06:00 although planned from 09:00, as the product allowed before the rule
     await ctx.db
       .updateTable('bypass')
@@ -150,8 +158,7 @@ describe('the role limits apply to the total duration since the bypass was put i
     ctx.clock.set('2026-07-10T06:00:00Z')
     await signInAll()
     const limit = await limitWithMaxBypass(100)
-    const b = (await ask(limit.id, '2026-07-10T06:00:00Z', 11.9).expect(201)).body
-    await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
+    const b = await authorizedBypass(limit.id, '2026-07-10T06:00:00Z', 11.9)
     await as.operator.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(200)
     // up to 12 h in all: allowed
     const to12 = (
@@ -176,17 +183,14 @@ describe('the role limits apply to the total duration since the bypass was put i
       .post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 51 })
       .expect(400)
     expect(past72.body.error.details.fields.hours[0]).toContain('temporary change request')
-    await as.operator
-      .post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true })
-      .expect(200)
+    await removeBypass(b.id)
   })
 
   it('the total counts from when it was put in force: a bypass started 2 h late leaves the supervisor 2 h more', async () => {
     ctx.clock.set('2026-07-11T06:00:00Z')
     await signInAll()
     const limit = await limitWithMaxBypass(100)
-    const b = (await ask(limit.id, '2026-07-11T06:00:00Z', 10).expect(201)).body
-    await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW }).expect(200)
+    const b = await authorizedBypass(limit.id, '2026-07-11T06:00:00Z', 10)
     ctx.clock.set('2026-07-11T08:00:00Z')
     await signInAll()
     await as.operator.post(`/api/bypasses/${b.id}/activation`, ACTIVATE).expect(200)
@@ -196,8 +200,6 @@ describe('the role limits apply to the total duration since the bypass was put i
       await as.supervisor.post(`/api/bypasses/${b.id}/authorizations`, { password: PW, hours: 4 }).expect(200)
     ).body
     expect(ok.plannedEnd).toBe('2026-07-11T20:00:00.000Z')
-    await as.operator
-      .post(`/api/bypasses/${b.id}/removal`, { pvClearConfirmed: true, protectionRestoredConfirmed: true })
-      .expect(200)
+    await removeBypass(b.id)
   })
 })
