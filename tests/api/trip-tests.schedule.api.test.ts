@@ -112,6 +112,11 @@ const scheduleOf = async (query: string) =>
   }
 const ids = (items: { limitId: number }[]) => items.map((i) => i.limitId)
 const runJob = (iso: string) => createTripTestJob(ctx.db, ctx.config, ctx.clock).runDue(new Date(iso))
+/** The clock moves to `iso` (everyone signs in again) and the schedule job runs then. */
+async function runJobAt(iso: string) {
+  await at(iso)
+  return runJob(iso)
+}
 const digestMails = () =>
   ctx.db
     .selectFrom('mail_outbox')
@@ -164,8 +169,7 @@ describe('due dates (docs/domain/due-dates.md)', () => {
 
   it('is in grace after the due date, overdue after the grace; a failed or partial test moves nothing, a passing full test inside the grace is late', async () => {
     // 1-month interval: default grace = 10 % of 730 h, rounded down = 3 days (docs/domain/due-dates.md) → A's grace ends 3 March
-    await at('2026-03-01T09:00:00Z')
-    await runJob('2026-03-01T09:00:00Z')
+    await runJobAt('2026-03-01T09:00:00Z')
     expect((await limitNow(L.a.id)).testStatus).toBe('in_grace')
     expect(ids((await scheduleOf('status=in_grace')).items)).toContain(L.a.id)
 
@@ -191,8 +195,7 @@ describe('due dates (docs/domain/due-dates.md)', () => {
     expect(late[0].lateTests).toBe(2)
 
     // B was due 1 March, grace to 4 March: on 5 March it is overdue
-    await at('2026-03-05T09:00:00Z')
-    await runJob('2026-03-05T09:00:00Z')
+    await runJobAt('2026-03-05T09:00:00Z')
     expect((await limitNow(L.b.id)).testStatus).toBe('overdue')
     const overdue = await scheduleOf('status=overdue')
     expect(ids(overdue.items)).toEqual([L.b.id])
@@ -264,20 +267,16 @@ describe('the schedule job touches only limits whose status the calendar changes
   it('refreshes nothing on an ordinary hour, the one limit whose day has come on that day, and none twice', async () => {
     // A (monthly) passed on 3 March: due 3 April, due soon from 27 March (7-day look-ahead of a monthly test);
     // B is overdue and C never tested, which the calendar no longer changes
-    await at('2026-03-20T09:00:00Z')
-    expect(await runJob('2026-03-20T09:00:00Z')).toMatchObject({ refreshed: 0 })
+    expect(await runJobAt('2026-03-20T09:00:00Z')).toMatchObject({ refreshed: 0 })
     expect((await limitNow(L.a.id)).testStatus).toBe('ok')
     // 27 March 00:30 in Berlin (CET) is 26 March 23:30 UTC: the site's own day decides
-    await at('2026-03-26T23:30:00Z')
-    expect(await runJob('2026-03-26T23:30:00Z')).toMatchObject({ refreshed: 1 })
+    expect(await runJobAt('2026-03-26T23:30:00Z')).toMatchObject({ refreshed: 1 })
     expect((await limitNow(L.a.id)).testStatus).toBe('due_soon')
     expect(await runJob('2026-03-27T09:00:00Z')).toMatchObject({ refreshed: 0 })
     // 4 April: in grace (due 3 April, 3 days' grace to 6 April), then overdue from 7 April
-    await at('2026-04-04T09:00:00Z')
-    expect(await runJob('2026-04-04T09:00:00Z')).toMatchObject({ refreshed: 1 })
+    expect(await runJobAt('2026-04-04T09:00:00Z')).toMatchObject({ refreshed: 1 })
     expect((await limitNow(L.a.id)).testStatus).toBe('in_grace')
-    await at('2026-04-07T09:00:00Z')
-    expect(await runJob('2026-04-07T09:00:00Z')).toMatchObject({ refreshed: 1 })
+    expect(await runJobAt('2026-04-07T09:00:00Z')).toMatchObject({ refreshed: 1 })
     expect((await limitNow(L.a.id)).testStatus).toBe('overdue')
     expect(await runJob('2026-04-07T10:00:00Z')).toMatchObject({ refreshed: 0 })
   })
