@@ -41,10 +41,6 @@ export function listInstrumentRows(
   )
 }
 
-export function findProcessRowById(db: Q, id: number) {
-  return db.selectFrom('process').selectAll().where('id', '=', id).executeTakeFirst()
-}
-
 export async function insertInstrumentRow(db: Q, values: Insertable<InstrumentTable>): Promise<number> {
   return (await db.insertInto('instrument').values(values).returning('id').executeTakeFirstOrThrow()).id
 }

@@ -81,7 +81,7 @@ export async function createInstrument(
   ctx: AuditContext,
   input: CreateInstrumentInput,
 ) {
-  const process = processForNew(ability, await repo.findProcessRowById(deps.db, input.processId))
+  const process = await processForNew(deps, ability, input.processId)
   authorize(ability, 'create', 'Instrument', { siteId: process.site_id })
   const id = await deps.db.transaction().execute((trx) => insertInstrument(trx, deps.clock, ctx, input, process))
   return load(deps.db, id)

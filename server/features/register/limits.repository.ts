@@ -290,10 +290,6 @@ export function findInstrumentRows(db: Q, ids: number[]) {
   return db.selectFrom('instrument').selectAll().where('id', 'in', ids).execute()
 }
 
-export function findProcessRow(db: Q, id: number) {
-  return db.selectFrom('process').selectAll().where('id', '=', id).executeTakeFirst()
-}
-
 export function insertLimitRevision(db: Q, values: Insertable<LimitRevisionTable>) {
   return db.insertInto('limit_revision').values(values).execute()
 }

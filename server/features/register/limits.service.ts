@@ -177,7 +177,7 @@ export async function createLimit(
   ctx: AuditContext,
   input: CreateLimitInput,
 ): Promise<Limit> {
-  const process = processForNew(ability, await repo.findProcessRow(deps.db, input.processId))
+  const process = await processForNew(deps, ability, input.processId)
   authorize(ability, 'create', 'Limit', { siteId: process.site_id })
   const id = await deps.db.transaction().execute((trx) => insertLimit(trx, deps.clock, ctx, input, process))
   return loadLimit(deps.db, id)

@@ -18,7 +18,8 @@ export async function listProcesses(deps: AppDeps, ability: AppAbility, f: { sit
  * The process a new instrument or limit goes under, as the user may read it; another site's process answers as a
  * missing one (docs/security.md#authorization).
  */
-export function processForNew<P extends { site_id: number }>(ability: AppAbility, process: P | undefined): P {
+export async function processForNew(deps: AppDeps, ability: AppAbility, processId: number) {
+  const process = await repo.findProcessRow(deps.db, processId)
   if (!process || !allows(ability, 'read', 'Process', { siteId: process.site_id }))
     throw validationFailed({ processId: ['The process does not exist'] })
   return process
