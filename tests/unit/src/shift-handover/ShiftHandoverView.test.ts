@@ -1,9 +1,18 @@
 import { flushPromises } from '@vue/test-utils'
 import { afterEach, describe, expect, it, vi } from 'vitest'
+import type { AlarmState } from '@shared/schemas/alarms.ts'
 import type { ShiftHandoverDto, ShiftHandoverState, ShiftHandoverStatus } from '@shared/schemas/shift-handover.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import ShiftHandoverView from '@/features/shift-handover/views/ShiftHandoverView.vue'
-import { answerApi, clickInDialog, FHR, mountView, stubVisualViewport, typeInDialog } from '../mount-view.ts'
+import {
+  answerApi,
+  clickInDialog,
+  FHR,
+  mountView,
+  type Routes,
+  stubVisualViewport,
+  typeInDialog,
+} from '../mount-view.ts'
 
 // The handover page builds "Hand over" and "Accept handover" from the shift-handover rule book
 // (docs/shift-handover.md#rules) for the roles and states of its table, and signs what it shows.
@@ -49,8 +58,9 @@ function stateWith(pending: ShiftHandoverDto[]): ShiftHandoverState {
   }
 }
 
-async function open(roles: Role[], userId: number, pending: ShiftHandoverDto[]) {
+async function open(roles: Role[], userId: number, pending: ShiftHandoverDto[], more: Routes = {}) {
   const calls = answerApi({
+    ...more,
     'GET /shift-handovers/state': () => ({ body: stateWith(pending) }),
     'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
     'GET /areas': () => ({ body: { items: [{ ...AREA, siteId: FHR.id }], total: 1 } }),
@@ -104,5 +114,31 @@ describe('ShiftHandoverView: buttons follow the shift-handover rule book', () =>
         body: { contentHash: CONTENT_HASH, password: 'limitkeeper-demo' },
       },
     ])
+  })
+
+  it('reminds of the alarm states past their time at the handover’s site, not at the user’s other sites', async () => {
+    const overdue = (id: number, siteId: number, tag: string) =>
+      ({
+        id,
+        siteId,
+        tag,
+        kind: 'shelved',
+        status: 'active',
+        until: '2026-07-06T04:00:00.000Z',
+        overdue: true,
+        startedBy: { id: 12, name: 'Olive Tanager' },
+      }) as AlarmState
+    const { w } = await open(['shift_supervisor'], INCOMING, [], {
+      // the API's answer depends on the site asked for: all of the user's sites when none is named
+      'GET /alarm-states': (url) => {
+        const items = [overdue(1, FHR.id, 'LAH-150'), overdue(2, 2, 'SMP-XA-902')]
+        const site = url.searchParams.get('siteId')
+        const mine = site ? items.filter((i) => String(i.siteId) === site) : items
+        return { body: { items: mine, total: mine.length } }
+      },
+    })
+    const notice = w.find('[data-test="alarm-states-overdue"]')
+    expect(notice.text()).toContain('LAH-150: shelved until')
+    expect(notice.text()).not.toContain('SMP-XA-902')
   })
 })
