@@ -4,15 +4,8 @@ import type { AlarmState } from '@shared/schemas/alarms.ts'
 import type { ShiftHandoverDto, ShiftHandoverState, ShiftHandoverStatus } from '@shared/schemas/shift-handover.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import ShiftHandoverView from '@/features/shift-handover/views/ShiftHandoverView.vue'
-import {
-  answerApi,
-  clickInDialog,
-  FHR,
-  mountView,
-  type Routes,
-  stubVisualViewport,
-  typeInDialog,
-} from '../mount-view.ts'
+import { answerApi, clickInDialog, FHR, mountView, stubVisualViewport, typeInDialog } from '../mount-view.ts'
+import type { Routes } from '../mount-view.ts'
 
 // The handover page builds "Hand over" and "Accept handover" from the shift-handover rule book
 // (docs/shift-handover.md#rules) for the roles and states of its table, and signs what it shows.
