@@ -49,6 +49,7 @@ export const ChangeOwnPasswordInputSchema = z.object({
   currentPassword: z.string().min(1, 'Enter your current password'),
   newPassword: PasswordSchema,
 })
+export type ChangeOwnPasswordInput = z.infer<typeof ChangeOwnPasswordInputSchema>
 
 export const SignInInputSchema = z.object({
   email: z.string().trim().toLowerCase().min(1, 'Enter your e-mail address').max(254),

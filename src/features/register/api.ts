@@ -18,7 +18,6 @@ import type {
   TestSignalQuery,
   UpdateLimitRequest,
 } from '@shared/schemas/register.ts'
-import type { HistoryImportResult, HistoryMapping } from '@shared/schemas/history-import.ts'
 import type { ImportMapping, ImportResult } from '@shared/schemas/imports.ts'
 import { http, prefetchGet, toQuery, uploadWithProgress } from '@/api/client'
 
@@ -107,7 +106,7 @@ export interface ImportUpload {
 }
 
 /** Uploads an import file (site, mapping, dry run) to `url` and reports the upload's progress (0…1). */
-function uploadImportFile<T>(
+export function uploadImportFile<T>(
   url: string,
   input: { file: File; siteId: number; mapping?: Record<string, string>; dryRun?: boolean },
   onProgress: (fraction: number) => void,
@@ -133,16 +132,3 @@ export const uploadImport = (input: ImportUpload, onProgress: (fraction: number)
 export const getImportMapping = () => http.get<{ mapping: ImportMapping }>('/imports/mapping')
 /** Writes a checked import, all or nothing; the answer names the draft change request opened for it. */
 export const commitImport = (id: number) => http.post<ImportResult>(`/imports/${id}/commit`)
-
-// ---- the history import (docs/trip-tests.md#history-import) ----
-
-/**
- * Uploads a history file (last tests, commissioning dates, past bypasses) for a dry run, with the upload's
- * progress.
- */
-export const uploadHistoryImport = (
-  input: { file: File; siteId: number; mapping?: HistoryMapping; dryRun?: boolean },
-  onProgress: (fraction: number) => void,
-) => uploadImportFile<HistoryImportResult>('/history-imports', input, onProgress)
-/** Writes a checked history import, all or nothing. */
-export const commitHistoryImport = (id: number) => http.post<HistoryImportResult>(`/history-imports/${id}/commit`)

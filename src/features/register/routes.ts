@@ -24,12 +24,6 @@ export default [
     meta: { can: ['import', 'Limit'], title: 'Import register' },
   },
   {
-    path: '/register/import-history',
-    name: 'history-import',
-    component: () => import('./views/HistoryImportView.vue'),
-    meta: { can: ['import', 'Limit'], title: 'Import history' },
-  },
-  {
     path: '/register/limits/new',
     name: 'limit-new',
     component: () => import('./views/LimitFormView.vue'),

@@ -1,6 +1,6 @@
 import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { User } from '@shared/schemas/users.ts'
-import UserListView from '@/features/admin/views/UserListView.vue'
+import UserListView from '@/features/users/views/UserListView.vue'
 import { type Answer, answerApi, mountView } from '../mount-view.ts'
 
 // The user dialog of the administration (docs/api.md, POST /api/users): a refusal keeps the dialog open with the

@@ -3,7 +3,7 @@ import { createPinia } from 'pinia'
 import { afterEach, beforeEach, describe, expect, it, vi } from 'vitest'
 import { createMemoryHistory, createRouter } from 'vue-router'
 import { createVuetify } from 'vuetify'
-import SignInView from '@/features/auth/views/SignInView.vue'
+import SignInView from '@/features/session/views/SignInView.vue'
 
 // The sign-in form focuses the e-mail field once, when it appears, and never takes focus back: a password being typed
 // must not land in the visible e-mail field, however late the browser reports that the form became visible.

@@ -1,5 +1,5 @@
 import { afterEach, describe, expect, it, vi } from 'vitest'
-import AccountView from '@/features/account/views/AccountView.vue'
+import AccountView from '@/features/users/views/AccountView.vue'
 import { answerApi, FHR, mountView } from '../mount-view.ts'
 
 // The account page changes the signed-in user's password: the repeat must match, the shared schema
