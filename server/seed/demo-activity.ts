@@ -17,7 +17,7 @@ import { createProposal, declineProposal } from '../features/change-proposals/ch
 import { signDegradationMeasures, signTripTest } from '../features/trip-tests/trip-tests.service.ts'
 import { demoActors, demoPrecautions, recordProvingTest } from './demo-actors.ts'
 import { seedDemoAlarms } from './demo-alarms.ts'
-import { seedDemoHistory } from './demo-history.ts'
+import { seedDemoFormerTests, seedDemoHistory } from './demo-history.ts'
 import { seedDemoDemands } from './demo-demands.ts'
 import { DEMO_PASSWORD } from './demo.ts'
 
@@ -218,4 +218,16 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
   const zone = await db.selectFrom('site').select('time_zone').where('id', '=', fhr.id).executeTakeFirstOrThrow()
   await seedDemoHistory(deps, eng, { id: fhr.id, timeZone: zone.time_zone }, untouched)
   await seedDemoAlarms(db, clock)
+  // last, so that every scenario above has picked its limits: the former system's last tests of the rest
+  const sites = await db.selectFrom('site').select(['id', 'code', 'time_zone']).orderBy('code').execute()
+  for (const site of sites)
+    await seedDemoFormerTests(
+      deps,
+      eng,
+      { id: site.id, timeZone: site.time_zone },
+      FORMER_TESTERS[site.code] ?? 'Wendell Haverly',
+    )
 }
+
+/** The invented testers of each site's former system. */
+const FORMER_TESTERS: Record<string, string> = { FHR: 'Wendell Haverly', SMP: 'Loretta Quarrington' }
