@@ -1,4 +1,5 @@
 import { z } from 'zod'
+import type { AlarmStateKind } from '../domain/rules/alarm-states.ts'
 import type { Verdict } from '../domain/rules/verdict.ts'
 import type { BypassStatus } from './bypasses.ts'
 import { IdSchema } from './common.ts'
@@ -48,6 +49,23 @@ export interface HandoverBypass {
   reason: string
 }
 
+/**
+ * An alarm shelved, suppressed by design or out of service, as the handover shows it (docs/alarms.md#alarm-states):
+ * the incoming shift takes over what the outgoing one silenced.
+ */
+export interface HandoverAlarmState {
+  id: number
+  tag: string
+  kind: AlarmStateKind
+  reason: string
+  startedBy: string
+  until: string
+  /** past its `until` and still active */
+  overdue: boolean
+  /** started under a shift supervisor's signature */
+  signed: boolean
+}
+
 /** The state of protection of one area. Further sections are added as keys of their own. */
 export interface AreaProtection {
   area: { id: number; name: string }
@@ -74,12 +92,16 @@ export interface AreaProtection {
   }[]
   /** test deferrals requested or in force (absent in handovers signed before they were shown) */
   deferrals?: Omit<OpenDeferral, 'areaId'>[]
+  /** alarm states in force on the area's limits (absent when there is none, and in handovers signed before) */
+  alarmStates?: HandoverAlarmState[]
 }
 
 /** What a handover shows and both supervisors sign: the site and its areas' state. */
 export interface HandoverSnapshot {
   site: { id: number; name: string; timeZone: string }
   areas: AreaProtection[]
+  /** alarm states in force on tags the register does not hold, so of no area (absent when there is none) */
+  alarmStatesWithoutArea?: HandoverAlarmState[]
 }
 
 export interface ShiftHandoverDto {

@@ -42,6 +42,15 @@ interface AreaState {
   }[]
   overdueTests: { limitId: number; testStatus: string; dueDate: string | null }[]
   temporaryChanges: { id: number; title: string; status: string; expiresAt: string }[]
+  alarmStates?: AlarmState[]
+}
+interface AlarmState {
+  id: number
+  tag: string
+  kind: string
+  until: string
+  overdue: boolean
+  signed: boolean
 }
 interface Handover {
   id: number
@@ -59,6 +68,7 @@ interface Handover {
 interface State {
   site: { id: number; name: string; timeZone: string }
   areas: AreaState[]
+  alarmStatesWithoutArea?: AlarmState[]
   asOf: string
   stateHash: string
   pending: Handover[]
@@ -224,6 +234,53 @@ describe('the state of protection of an area for the shift handover', () => {
       expect.objectContaining({ id: bypassId, status: 'active', overdue: true }),
     ])
     expect(overdueNow.stateHash).not.toBe(first.stateHash)
+  })
+
+  it('carries the alarm states in force: on the area’s limits, and on tags of no area; ending them gives the hash back', async () => {
+    const before = await state('supervisor', areaId)
+    expect(before.areas[0]).not.toHaveProperty('alarmStates')
+    // a trip's alarm taken out of service under the shift supervisor's signature, and a tag the register does not hold
+    // shelved by the operator (docs/alarms.md#alarm-states)
+    const oos = await as.supervisor.created('/api/alarm-states', {
+      siteId: before.site.id,
+      tag: overdue.tag,
+      kind: 'out_of_service',
+      reason: 'Transmitter sent for repair',
+      hours: 8,
+      password: PW,
+    })
+    const shelf = await as.operator.created('/api/alarm-states', {
+      siteId: before.site.id,
+      tag: 'XA-9001',
+      kind: 'shelved',
+      reason: 'Nuisance alarm during start-up',
+      hours: 2,
+    })
+    const s = await state('supervisor', areaId)
+    // the test clock stands at 11:05 UTC (and runs on from there): eight hours on is 19:05 UTC
+    expect(s.areas[0].alarmStates).toEqual([
+      expect.objectContaining({
+        id: oos.id,
+        tag: overdue.tag,
+        kind: 'out_of_service',
+        until: expect.stringMatching(/^2026-09-07T19:05:/),
+        overdue: false,
+        signed: true,
+      }),
+    ])
+    expect(s.alarmStatesWithoutArea).toEqual([
+      expect.objectContaining({ id: shelf.id, tag: 'XA-9001', kind: 'shelved', overdue: false, signed: false }),
+    ])
+    expect(s.stateHash).not.toBe(before.stateHash)
+    const { site, areas, alarmStatesWithoutArea } = s
+    expect(sha256Canonical({ site, areas, alarmStatesWithoutArea })).toBe(s.stateHash)
+
+    await as.technician.post(`/api/alarm-states/${oos.id}/end`, { note: 'Loop checked at setpoint' }).expect(200)
+    await as.operator.post(`/api/alarm-states/${shelf.id}/end`, { note: 'Start-up over' }).expect(200)
+    const after = await state('supervisor', areaId)
+    expect(after.areas[0]).not.toHaveProperty('alarmStates')
+    expect(after).not.toHaveProperty('alarmStatesWithoutArea')
+    expect(after.stateHash).toBe(before.stateHash)
   })
 })
 

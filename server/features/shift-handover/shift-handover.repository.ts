@@ -36,6 +36,29 @@ export function findOpenBypassIds(db: Q, areaIds: number[]) {
     .execute()
 }
 
+/** Alarm states in force at the site, with the area of their limit (none for a tag the register does not hold). */
+export function findActiveAlarmStates(db: Q, siteId: number) {
+  return db
+    .selectFrom('alarm_state')
+    .innerJoin('app_user', 'app_user.id', 'alarm_state.started_by')
+    .leftJoin('limit_function', 'limit_function.id', 'alarm_state.limit_id')
+    .select([
+      'alarm_state.id',
+      'alarm_state.tag',
+      'alarm_state.kind',
+      'alarm_state.reason',
+      'alarm_state.until',
+      'alarm_state.signature_id',
+      'limit_function.area_id',
+      'app_user.display_name',
+    ])
+    .where('alarm_state.site_id', '=', siteId)
+    .where('alarm_state.status', '=', 'active')
+    .orderBy('alarm_state.until')
+    .orderBy('alarm_state.id')
+    .execute()
+}
+
 /** Limits of the areas degraded by a failed test, not yet cleared. */
 export function findDegraded(db: Q, areaIds: number[]) {
   return db

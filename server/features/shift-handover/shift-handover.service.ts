@@ -1,7 +1,9 @@
 import type { AppAbility } from '../../../shared/abilities/index.ts'
+import { isOverdue } from '../../../shared/domain/rules/alarm-states.ts'
 import { acceptVerdict, handOverVerdict } from '../../../shared/domain/rules/shift-handover.ts'
 import type {
   AreaProtection,
+  HandoverAlarmState,
   HandOverInput,
   HandoverSnapshot,
   ShiftHandoverDto,
@@ -33,19 +35,37 @@ async function areasOf(db: Q, areaIds: number[]) {
 /**
  * The state of protection of the areas now, as the handover shows and signs it: per area what is bypassed (or on its
  * way), degraded (with a passed repair deadline marked), overdue for test or never tested, the test deferrals requested
- * or in force, and the open temporary changes. It holds no running figures (no
+ * or in force, the open temporary changes and the alarms shelved, suppressed or out of service (those of tags the
+ * register does not hold under the site, in every handover of it). It holds no running figures (no
  * "bypassed for 3.2 h"), so its hash changes when the state changes, not when it is read.
  */
 async function liveSnapshot(deps: AppDeps, db: Q, areaIds: number[]) {
   const now = deps.clock.now()
   const { ids, areas, site } = await areasOf(db, areaIds)
-  const [bypassRows, degraded, tests, repairsPassed, deferrals] = await Promise.all([
+  const [bypassRows, degraded, tests, repairsPassed, deferrals, alarmRows] = await Promise.all([
     repo.findOpenBypassIds(db, ids),
     repo.findDegraded(db, ids),
     repo.findOverdueTests(db, ids),
     overdueRepairs(db, [site.id], now),
     openDeferrals(db, [site.id], now),
+    repo.findActiveAlarmStates(db, site.id),
   ])
+  const alarmStates = (areaId: number | null): HandoverAlarmState[] =>
+    alarmRows
+      .filter((a) => a.area_id === areaId)
+      .map((a) => ({
+        id: a.id,
+        tag: a.tag,
+        kind: a.kind,
+        reason: a.reason,
+        startedBy: a.display_name,
+        until: a.until.toISOString(),
+        overdue: isOverdue({ status: 'active', until: a.until }, now),
+        signed: a.signature_id !== null,
+      }))
+  // a key present only when it holds something, so the hash of a state without any is what it was before the key
+  const some = <K extends string>(key: K, list: HandoverAlarmState[]) =>
+    (list.length ? { [key]: list } : {}) as Partial<Record<K, HandoverAlarmState[]>>
   const repairPassed = new Set(repairsPassed.map((r) => r.limitId))
   const bypasses = await loadBypasses(
     deps,
@@ -96,9 +116,10 @@ async function liveSnapshot(deps: AppDeps, db: Q, areaIds: number[]) {
         ...(c.expired_to_revert ? { expiredToRevert: true } : {}),
       })),
       deferrals: deferrals.filter((d) => d.areaId === area.id).map(({ areaId: _a, ...d }) => d),
+      ...some('alarmStates', alarmStates(area.id)),
     })
   }
-  const snapshot: HandoverSnapshot = { site, areas: perArea }
+  const snapshot: HandoverSnapshot = { site, areas: perArea, ...some('alarmStatesWithoutArea', alarmStates(null)) }
   return { ids, snapshot, stateHash: contentHash(snapshot) }
 }
 

@@ -1,7 +1,11 @@
 import { flushPromises } from '@vue/test-utils'
 import { afterEach, describe, expect, it, vi } from 'vitest'
-import type { AlarmState } from '@shared/schemas/alarms.ts'
-import type { ShiftHandoverDto, ShiftHandoverState, ShiftHandoverStatus } from '@shared/schemas/shift-handover.ts'
+import type {
+  HandoverAlarmState,
+  ShiftHandoverDto,
+  ShiftHandoverState,
+  ShiftHandoverStatus,
+} from '@shared/schemas/shift-handover.ts'
 import type { Role } from '@shared/schemas/users.ts'
 import ShiftHandoverView from '@/features/shift-handover/views/ShiftHandoverView.vue'
 import { answerApi, clickInDialog, FHR, mountView, stubVisualViewport, typeInDialog } from '../mount-view.ts'
@@ -53,11 +57,11 @@ function stateWith(pending: ShiftHandoverDto[]): ShiftHandoverState {
 
 async function open(roles: Role[], userId: number, pending: ShiftHandoverDto[], more: Routes = {}) {
   const calls = answerApi({
-    ...more,
     'GET /shift-handovers/state': () => ({ body: stateWith(pending) }),
     'GET /sites': () => ({ body: { items: [FHR], total: 1 } }),
     'GET /areas': () => ({ body: { items: [{ ...AREA, siteId: FHR.id }], total: 1 } }),
     'POST /shift-handovers/5/acceptance': () => ({ body: handover('accepted') }),
+    ...more,
   })
   const w = await mountView(ShiftHandoverView, {
     user: { id: userId, roles: roles.map((role) => ({ siteId: FHR.id, role })) },
@@ -109,29 +113,38 @@ describe('ShiftHandoverView: buttons follow the shift-handover rule book', () =>
     ])
   })
 
-  it('reminds of the alarm states past their time at the handover’s site, not at the user’s other sites', async () => {
-    const overdue = (id: number, siteId: number, tag: string) =>
-      ({
-        id,
-        siteId,
-        tag,
-        kind: 'shelved',
-        status: 'active',
-        until: '2026-07-06T04:00:00.000Z',
-        overdue: true,
-        startedBy: { id: 12, name: 'Olive Tanager' },
-      }) as AlarmState
-    const { w } = await open(['shift_supervisor'], INCOMING, [], {
-      // the API's answer depends on the site asked for: all of the user's sites when none is named
-      'GET /alarm-states': (url) => {
-        const items = [overdue(1, FHR.id, 'LAH-150'), overdue(2, 2, 'SMP-XA-902')]
-        const site = url.searchParams.get('siteId')
-        const mine = site ? items.filter((i) => String(i.siteId) === site) : items
-        return { body: { items: mine, total: mine.length } }
-      },
+  it('shows the alarm states in force by area, and those of tags of no area, past their time first', async () => {
+    const alarm = (id: number, tag: string, overdue: boolean): HandoverAlarmState => ({
+      id,
+      tag,
+      kind: id === 2 ? 'out_of_service' : 'shelved',
+      reason: 'Transmitter being recalibrated',
+      startedBy: 'Olive Tanager',
+      until: overdue ? '2026-07-06T04:00:00.000Z' : '2026-07-06T09:00:00.000Z',
+      overdue,
+      signed: id === 2,
     })
-    const notice = w.find('[data-test="alarm-states-overdue"]')
-    expect(notice.text()).toContain('LAH-150: shelved until')
-    expect(notice.text()).not.toContain('SMP-XA-902')
+    const withAlarms = (s: ShiftHandoverState): ShiftHandoverState => ({
+      ...s,
+      areas: [{ ...s.areas[0], alarmStates: [alarm(1, 'LAH-150', false), alarm(2, 'TAH-104', true)] }],
+      alarmStatesWithoutArea: [alarm(3, 'FHR-XA-902', true)],
+    })
+    const { w } = await open(['shift_supervisor'], INCOMING, [], {
+      'GET /shift-handovers/state': () => ({ body: withAlarms(stateWith([])) }),
+    })
+    const area = w.find(`[data-test="handover-area-${AREA.id}"] [data-test="handover-alarm-states"]`)
+    // the one past its time first, marked; 04:00 UTC is 06:00 in Berlin (CEST, UTC+2, IANA tz database)
+    expect(area.findAll('[data-test^="handover-alarm-state-"]').map((r) => r.attributes('data-test'))).toEqual([
+      'handover-alarm-state-2',
+      'handover-alarm-state-1',
+    ])
+    expect(area.find('[data-test="handover-alarm-state-2"]').text()).toContain(
+      'TAH-104 · out of service (signed) by Olive Tanager · past its time since 6 Jul 2026, 06:00 CEST',
+    )
+    expect(area.find('[data-test="handover-alarm-state-1"]').text()).toContain('until 6 Jul 2026, 11:00 CEST')
+    const cards = w.findAll('[data-test="handover-alarm-states"]')
+    expect(cards).toHaveLength(2)
+    expect(cards[0].text()).toContain('Alarms of no area')
+    expect(cards[0].text()).toContain('FHR-XA-902')
   })
 })
