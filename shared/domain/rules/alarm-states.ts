@@ -54,7 +54,21 @@ export interface AlarmStateRecord {
 const SHELVERS: Role[] = ['operator', 'shift_supervisor']
 const SUPPRESSORS: Role[] = ['safety_engineer']
 const OOS_SIGNERS: Role[] = ['shift_supervisor']
-const has = (a: AlarmStateActor, roles: Role[]) => a.roles.some((r) => roles.includes(r))
+const has = (a: Pick<AlarmStateActor, 'roles'>, roles: Role[]) => a.roles.some((r) => roles.includes(r))
+/** Who may start each kind of state (the signature and the request's own conditions aside). */
+const STARTERS: Record<AlarmStateKind, Role[]> = {
+  shelved: SHELVERS,
+  suppressed: SUPPRESSORS,
+  out_of_service: OOS_SIGNERS,
+}
+
+/**
+ * The kinds of state the actor's roles at the site may start: what the screen offers. `mayStart` still decides each
+ * request (signature, priority, duration, change request).
+ */
+export function startableKinds(actor: Pick<AlarmStateActor, 'roles'>): AlarmStateKind[] {
+  return ALARM_STATE_KINDS.filter((kind) => has(actor, STARTERS[kind]))
+}
 
 const KIND_WORD: Record<AlarmStateKind, string> = {
   shelved: 'shelving',
@@ -73,7 +87,8 @@ export function mayStart(
     return blocked(`The alarm already has an active ${KIND_WORD[current.kind]}; end it first`)
   if (!(req.hours > 0)) return invalid('Give a duration of more than zero hours')
   if (req.kind === 'shelved') {
-    if (!has(actor, SHELVERS)) return forbid('Only an operator or a shift supervisor of the site may shelve an alarm')
+    if (!has(actor, STARTERS.shelved))
+      return forbid('Only an operator or a shift supervisor of the site may shelve an alarm')
     if (req.safetyRelated && !(has(actor, OOS_SIGNERS) && req.signed))
       return forbid('A safety-related alarm is shelved only with a shift supervisor’s signature')
     const max = policy.shelveMaxHours[req.priority ?? 'low']
@@ -82,12 +97,13 @@ export function mayStart(
     return allow
   }
   if (req.kind === 'suppressed') {
-    if (!has(actor, SUPPRESSORS)) return forbid('Only a safety engineer of the site records a suppression by design')
+    if (!has(actor, STARTERS.suppressed))
+      return forbid('Only a safety engineer of the site records a suppression by design')
     if (req.changeRequestId === null)
       return invalid('A suppression by design is engineered under management of change: name its change request')
     return allow
   }
-  if (!has(actor, OOS_SIGNERS) || !req.signed)
+  if (!has(actor, STARTERS.out_of_service) || !req.signed)
     return forbid('Taking an alarm out of service needs a shift supervisor’s signature')
   if (req.hours > policy.outOfServiceMaxHours)
     return invalid(`An alarm may be out of service for at most ${policy.outOfServiceMaxHours} h before renewal`)

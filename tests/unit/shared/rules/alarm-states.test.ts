@@ -6,6 +6,7 @@ import {
   DEFAULT_ALARM_STATE_POLICY,
   isOverdue,
   mayStart,
+  startableKinds,
 } from '../../../../shared/domain/rules/alarm-states.ts'
 import type { Role } from '../../../../shared/schemas/users.ts'
 
@@ -97,5 +98,23 @@ describe('alarmStateVerdicts: end', () => {
     expect(isOverdue(r, new Date('2026-01-01T11:59:59Z'))).toBe(false)
     expect(isOverdue(r, new Date('2026-01-01T12:00:00Z'))).toBe(true)
     expect(isOverdue({ ...r, status: 'ended' }, new Date('2026-01-02T00:00:00Z'))).toBe(false)
+  })
+})
+
+describe('startableKinds: what the screen offers each role (docs/alarms.md#alarm-states, "Who starts it")', () => {
+  it.each<[Role[], string[]]>([
+    [['operator'], ['shelved']],
+    [['shift_supervisor'], ['shelved', 'out_of_service']],
+    [['safety_engineer'], ['suppressed']],
+    [
+      ['operator', 'safety_engineer'],
+      ['shelved', 'suppressed'],
+    ],
+    [['technician'], []],
+    [['plant_manager'], []],
+    [['auditor'], []],
+    [[], []],
+  ])('%j may start %j', (roles, kinds) => {
+    expect(startableKinds({ roles })).toEqual(kinds)
   })
 })

@@ -173,6 +173,17 @@ describe('AlarmStatesView: the rows follow the alarm-state rule book', () => {
     expect(w.find('[data-test="state-form"]').exists()).toBe(shown)
   })
 
+  it.each<[Role, string[]]>([
+    ['operator', ['Shelved']],
+    ['shift_supervisor', ['Shelved', 'Out of service']],
+    ['safety_engineer', ['Suppressed by design']],
+  ])('offers a %s the kinds of state the rule book lets the role start, the first chosen', async (role, titles) => {
+    const { w } = await open([role], [])
+    const select = w.findAllComponents({ name: 'VSelect' }).find((c) => c.attributes('data-test') === 'state-kind')!
+    expect((select.props('items') as { title: string }[]).map((i) => i.title)).toEqual(titles)
+    expect(select.text()).toContain(titles[0])
+  })
+
   it('ends a state with the record written in the dialog', async () => {
     const { w, calls } = await open(['operator'], [state(1, 'shelved', ok, { startedBy: { id: ME, name: 'Someone' } })])
     stubVisualViewport()
