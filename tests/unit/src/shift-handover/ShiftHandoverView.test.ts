@@ -142,6 +142,9 @@ describe('ShiftHandoverView: buttons follow the shift-handover rule book', () =>
       'TAH-104 · out of service (signed) by Olive Tanager · past its time since 6 Jul 2026, 06:00 CEST',
     )
     expect(area.find('[data-test="handover-alarm-state-1"]').text()).toContain('until 6 Jul 2026, 11:00 CEST')
+    const count = w.find('[data-test="handover-count-alarms"]').text()
+    expect(count).toContain('3')
+    expect(count).toContain('2 past their time')
     const cards = w.findAll('[data-test="handover-alarm-states"]')
     expect(cards).toHaveLength(2)
     expect(cards[0].text()).toContain('Alarms of no area')
