@@ -43,7 +43,8 @@ export class CopyOut {
     /** a buffer to fill (a larger one replaces it if the data does not fit), or a guess of the data's size */
     into: Buffer | number = 1 << 20,
   ) {
-    this.out = typeof into === 'number' ? Buffer.allocUnsafe(into) : into
+    // buffers of its own memory, never slices of Node's shared pool: a caller may keep one whole and fill it again
+    this.out = typeof into === 'number' ? Buffer.allocUnsafeSlow(into) : into
     this.done = new Promise((resolve, reject) => {
       this.resolve = resolve
       this.reject = reject
@@ -104,7 +105,7 @@ export class CopyOut {
   private append(src: Buffer, from: number, to: number): void {
     const need = this.size + (to - from)
     if (need > this.out.length) {
-      const bigger = Buffer.allocUnsafe(Math.max(2 * this.out.length, need))
+      const bigger = Buffer.allocUnsafeSlow(Math.max(2 * this.out.length, need))
       this.out.copy(bigger, 0, 0, this.size)
       this.out = bigger
     }

@@ -72,6 +72,8 @@ export interface PageWork {
   control: Int32Array
   linkKey: Uint8Array
   connectionString: string | undefined
+  /** how long a thread waits for its connection: the pool's own limit */
+  connectTimeoutMs?: number
   /** the walk's snapshot (pg_export_snapshot) */
   snapshot: string
 }

@@ -273,11 +273,11 @@ function plainStringEnd(src: Uint8Array, i: number, last: number): number {
 }
 
 /**
- * The canonical form of a jsonb text `src[from, to)` written from its bytes, as audit.hash.ts `flatCanonical` writes
- * it from the text: an object of ASCII names, strings of printable ASCII without escapes, numbers, true, false and null
- * (`{"a": 1, "b": "x"}` or compact); members in canonical order (for ASCII names, byte order), integers of up to 15
- * digits as they are, other numbers as ECMAScript writes them (`ecmaNumber`). False, having written nothing, for any
- * other text.
+ * The canonical form of a recorded state's JSON text `src[from, to)` written from its bytes, as audit.hash.ts
+ * `flatCanonical` writes it from the text: an object of ASCII names, strings of printable ASCII without escapes,
+ * numbers, true, false and null (`{"a": 1, "b": "x"}` or compact); members in canonical order (for ASCII names, byte
+ * order), integers of up to 15 digits as they are, other numbers as ECMAScript writes them (`ecmaNumber`). False,
+ * having written nothing, for any other text.
  */
 function writeFlatObject(w: CanonicalWriter, src: Uint8Array, from: number, to: number): boolean {
   if (to - from < 2 || src[from] !== 0x7b || src[to - 1] !== 0x7d) return false

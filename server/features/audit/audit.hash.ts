@@ -97,7 +97,7 @@ export interface EventData extends EventContent {
 /**
  * The members every format hashes, as JSON values: times are millisecond ISO strings (the column is timestamptz(3)
  * and the clock gives milliseconds, so what is read back re-hashes identically); undefined maps to null because the
- * jsonb column gives back null.
+ * recorded-state column gives back null.
  */
 function contentMembers(e: EventContent) {
   return {
@@ -131,7 +131,7 @@ const text = (s: string | null) => (s === null ? 'null' : JSON.stringify(s))
 const json = (v: unknown) => (v == null ? 'null' : v instanceof JsonText ? canonicalText(v.text) : canonicalJson(v))
 
 /**
- * A JSON value as PostgreSQL wrote it (a jsonb column read by the chain walk, docs/adr/0003-audit-hash-chain.md,
+ * A JSON value as PostgreSQL wrote it (a recorded state read by the chain walk, docs/adr/0003-audit-hash-chain.md,
  * "Verify"), kept as text: the data hash writes its canonical form from the text (`canonicalText`) without building the
  * value. Anything else that serializes it (`canonicalJson`, `JSON.stringify`) sees the parsed value.
  */

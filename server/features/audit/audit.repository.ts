@@ -56,7 +56,7 @@ export interface AuditEntry {
 // One constant advisory-lock key: held by the sealer while it links a batch, so two sealers never interleave.
 const AUDIT_SEAL_LOCK = 7263001
 
-/** JSON values as jsonb will give them back: no undefined, no functions, dates as ISO strings. */
+/** JSON values as the recorded-state column gives them back: no undefined, no functions, dates as ISO strings. */
 function toJsonValue(v: unknown): unknown {
   return v === undefined ? null : JSON.parse(JSON.stringify(v))
 }
@@ -448,10 +448,12 @@ async function walkInPages(
     const snapshot = rows[0].id
     // a snapshot id is hex digits and dashes; SET TRANSACTION SNAPSHOT takes a literal only
     if (!/^[0-9A-F-]+$/i.test(snapshot)) throw new Error(`unexpected snapshot id ${snapshot}`)
-    const checks = await checkPagesInThreads(threads, {
+    // a thread without a page to take would only open a connection
+    const checks = await checkPagesInThreads(Math.min(threads, ranges.length), {
       pages: ranges.map((r, i) => ({ ...r, heads: heads[i] })),
       linkKey: new Uint8Array(linkKey),
       connectionString: pool.options.connectionString,
+      connectTimeoutMs: pool.options.connectionTimeoutMillis,
       snapshot,
     })
     return stitchPages(checks, claims)

@@ -15,13 +15,17 @@ import { linkHasher } from './audit.hash.ts'
 // A worker thread of the chain walk (server/features/audit/audit.verify.pages.ts): on a connection of its own, in the
 // walk's snapshot, it takes the next page of the chain not yet taken, reads its binary copy and checks it with the link
 // key, and sends what it found, until no page is left or a page was found broken. The pages' bytes never reach the
-// main thread. It is bundled into one script with what it imports (plain functions, pg and node: built-ins).
+// main thread. It is bundled into one script with what it imports (plain functions and node: built-ins); pg is
+// loaded from node_modules (audit.verify.pages.ts, workerBundle).
 const work = workerData as PageWork
 const link = linkHasher(Buffer.from(work.linkKey))
 const send = (m: PageMessage) => parentPort!.postMessage(m)
 
 async function checkPages(): Promise<void> {
-  const client = new pg.Client({ connectionString: work.connectionString })
+  const client = new pg.Client({
+    connectionString: work.connectionString,
+    connectionTimeoutMillis: work.connectTimeoutMs,
+  })
   await client.connect()
   try {
     await client.query('BEGIN ISOLATION LEVEL REPEATABLE READ READ ONLY')
