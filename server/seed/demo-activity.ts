@@ -215,19 +215,14 @@ export async function seedDemoActivity(db: Db, config: Config, clock: Clock): Pr
     .orderBy('tag')
     .limit(3)
     .execute()
-  const zone = await db.selectFrom('site').select('time_zone').where('id', '=', fhr.id).executeTakeFirstOrThrow()
-  await seedDemoHistory(deps, eng, { id: fhr.id, timeZone: zone.time_zone }, untouched)
+  const sites = await db.selectFrom('site').select(['id', 'code', 'time_zone']).orderBy('code').execute()
+  const zoneOf = (id: number) => sites.find((s) => s.id === id)!.time_zone
+  await seedDemoHistory(deps, eng, { id: fhr.id, timeZone: zoneOf(fhr.id) }, untouched)
   await seedDemoAlarms(db, clock)
   // last, so that every scenario above has picked its limits: the former system's last tests of the rest
-  const sites = await db.selectFrom('site').select(['id', 'code', 'time_zone']).orderBy('code').execute()
   for (const site of sites)
-    await seedDemoFormerTests(
-      deps,
-      eng,
-      { id: site.id, timeZone: site.time_zone },
-      FORMER_TESTERS[site.code] ?? 'Wendell Haverly',
-    )
+    await seedDemoFormerTests(deps, eng, { id: site.id, timeZone: site.time_zone }, formerTester(site.code))
 }
 
-/** The invented testers of each site's former system. */
-const FORMER_TESTERS: Record<string, string> = { FHR: 'Wendell Haverly', SMP: 'Loretta Quarrington' }
+/** The invented tester of a site's former system. */
+const formerTester = (siteCode: string) => (siteCode === 'SMP' ? 'Loretta Quarrington' : 'Wendell Haverly')

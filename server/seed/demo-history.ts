@@ -1,6 +1,7 @@
 // Demo history imported from the plant's former system through the history import itself, as a safety engineer
-// would on moving to Limitkeeper: two old passing tests and a failed one by testers who are not users, a past bypass,
-// and a commissioning date, on limits the rest of the demo activity leaves untested. Invented plant, invented people.
+// would on moving to Limitkeeper: on three limits two old passing tests and a failed one by testers who are not users,
+// a past bypass and commissioning dates (seedDemoHistory); then the last passing test of every other in-service limit
+// the rest of the demo leaves untested, at each site (seedDemoFormerTests). Invented plant, invented people.
 import Papa from 'papaparse'
 import { HISTORY_COLUMNS, type HistoryColumnKey } from '../../shared/schemas/history-import.ts'
 import type { AppDeps } from '../deps.ts'

@@ -21,5 +21,5 @@ export function useLimitPanelList<I>(options: {
     error: query.error.value && options.failedText ? options.failedText : errorText(query.error.value),
     hasItems: items.value.length > 0,
   }))
-  return { query, items, total, panel }
+  return { items, total, panel }
 }

@@ -130,7 +130,7 @@ export function attachmentFacts(a: {
 // the queries are in attachments.repository.ts; callers import the list from here as before
 export { listAttachments }
 
-export async function readAttachment(db: Db, entityType: string, entityId: number, id: number) {
+async function readAttachment(db: Db, entityType: string, entityId: number, id: number) {
   const row = await findAttachment(db, entityType, entityId, id)
   if (!row) throw notFound('Attachment')
   return row

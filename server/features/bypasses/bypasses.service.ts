@@ -485,8 +485,7 @@ export async function removeBypass(
   id: number,
   input: { note: string },
 ): Promise<BypassDto> {
-  return actOnBypass(deps, ability, ctx, id, removeVerdict, async (trx, { b }) => {
-    const now = deps.clock.now()
+  return actOnBypass(deps, ability, ctx, id, removeVerdict, async (trx, { b, rule: { now } }) => {
     await repo.updateBypass(trx, id, {
       status: 'removed',
       removed_at: now,
@@ -518,8 +517,8 @@ export async function cancelBypass(
   ctx: AuditContext,
   id: number,
 ): Promise<BypassDto> {
-  return actOnBypass(deps, ability, ctx, id, cancelVerdict, async (trx, { b }) => {
-    await repo.updateBypass(trx, id, { status: 'cancelled', updated_at: deps.clock.now() })
+  return actOnBypass(deps, ability, ctx, id, cancelVerdict, async (trx, { b, rule: { now } }) => {
+    await repo.updateBypass(trx, id, { status: 'cancelled', updated_at: now })
     await appendAudit(trx, deps.clock, ctx, {
       action: 'bypass.cancel',
       entityType: ENTITY,

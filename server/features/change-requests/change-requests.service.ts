@@ -534,12 +534,8 @@ async function mailTo(
   paragraphs: string[],
   crId: number,
 ) {
-  const seen = new Set<string>()
-  const once = to.filter((u) => !seen.has(u.email) && seen.add(u.email))
-  await mailNotice(trx, deps.clock, once, { subject, topic: 'change_request', paragraphs, link: link(deps, crId) })
+  await mailNotice(trx, deps.clock, to, { subject, topic: 'change_request', paragraphs, link: link(deps, crId) })
 }
-
-const proposerOf = userContact
 
 export async function createChangeRequest(
   deps: AppDeps,
@@ -674,7 +670,7 @@ export async function submitChangeRequest(deps: AppDeps, ability: AppAbility, ct
       after: { status: 'submitted', contentHash: row.content_hash },
     })
     const approvers = (await recipientsOf(trx, row.site_id, 'changeSubmitted')).filter((u) => u.id !== row.proposer_id)
-    const proposer = await proposerOf(trx, row.proposer_id)
+    const proposer = await userContact(trx, row.proposer_id)
     await mailTo(
       deps,
       trx,
@@ -812,7 +808,7 @@ export async function approveChangeRequest(
       await mailTo(
         deps,
         trx,
-        [await proposerOf(trx, row.proposer_id)],
+        [await userContact(trx, row.proposer_id)],
         `Change request #${id} approved: ${row.title}`,
         [
           `Change request #${id} "${row.title}" now holds the ${row.approvals_required} approval(s) it needs.`,
@@ -879,7 +875,7 @@ export async function rejectChangeRequest(
     await mailTo(
       deps,
       trx,
-      [await proposerOf(trx, row.proposer_id)],
+      [await userContact(trx, row.proposer_id)],
       `Change request #${id} rejected: ${row.title}`,
       [`${signer.name} rejected change request #${id} "${row.title}".`, `Reason: ${comment}`],
       id,
@@ -1130,7 +1126,7 @@ export async function implementChangeRequest(
       await mailTo(
         deps,
         trx,
-        [await proposerOf(trx, row.proposer_id), ...(await repo.approverContacts(trx, id))],
+        [await userContact(trx, row.proposer_id), ...(await repo.approverContacts(trx, id))],
         `Change request #${id} implemented: ${row.title}`,
         [
           `${signer.name} implemented change request #${id} "${row.title}" on the device and read the values back.`,

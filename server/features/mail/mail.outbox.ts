@@ -54,7 +54,10 @@ export interface Notice {
   link?: { url: string; label: string }
 }
 
-/** Queues the same notice to each of `people`, in the business transaction: one mail each, to their address. */
+/**
+ * Queues the same notice to each of `people`, in the business transaction: one mail to each distinct address (a person
+ * named twice, for instance as requester and as supervisor, gets one).
+ */
 export function mailNotice(
   trx: Transaction<Database>,
   clock: Clock,
@@ -63,11 +66,11 @@ export function mailNotice(
 ): Promise<void> {
   const { subject, topic, paragraphs, link } = notice
   const mail = { subject, topic, ...mailBodies(paragraphs, link) }
-  // the same message to each person: one each, to their address
+  const addresses = [...new Set(people.map((p) => p.email))]
   return enqueueMail(
     trx,
     clock,
-    people.map((p) => ({ ...mail, to: p.email })),
+    addresses.map((to) => ({ ...mail, to })),
   )
 }
 

@@ -43,7 +43,7 @@ export const receiveFile: RequestHandler = (req, res, next) => {
 }
 
 /** The file of an import upload as the import services read it; 400 naming the `kind` of file when none came. */
-export function uploadedFile(req: Request, kind: string): { buffer: Buffer; fileName: string } {
+function uploadedFile(req: Request, kind: string): { buffer: Buffer; fileName: string } {
   if (!req.file) {
     const message = `Attach the ${kind} (CSV or XLSX) in the form field "file"`
     throw validationFailed({ file: [message] }, message)
@@ -52,7 +52,7 @@ export function uploadedFile(req: Request, kind: string): { buffer: Buffer; file
 }
 
 /** Refuses users who may import nowhere before reading up to 5 MB of their upload. */
-export const mayImport = allowedTo('import', 'Limit')
+const mayImport = allowedTo('import', 'Limit')
 
 type ChecksFile<F> = (
   deps: AppDeps,

@@ -53,7 +53,7 @@ import { allows, authorize, readableRow } from '../../authorize.ts'
 import type { Clock } from '../../clock.ts'
 import type { AppDeps } from '../../deps.ts'
 import type { Database, TripTestTable } from '../../db/schema.ts'
-import { AppError, enforce, notFound, validationFailed } from '../../errors.ts'
+import { AppError, enforce, invalidState, notFound, validationFailed } from '../../errors.ts'
 import { attachmentFacts, listAttachments } from '../attachments/attachments.ts'
 import { type AuditContext, appendAudit } from '../audit/audit.repository.ts'
 import { mailNotice, recordLink } from '../mail/mail.outbox.ts'
@@ -842,8 +842,8 @@ export async function approveRepairDeadline(
 /** The open degradation of a limit, locked for the signed action on it; 409 when the limit is not degraded. */
 async function lockDegradationOf(trx: Trx, limit: { id: number; tag: string }) {
   const open = await repo.lockOpenDegradation(trx, limit.id)
-  if (!open) enforce({ allowed: false, status: 409, reason: `${limit.tag} is not degraded` })
-  return open!
+  if (!open) throw invalidState(`${limit.tag} is not degraded`)
+  return open
 }
 
 function degradationRule(

@@ -10,6 +10,9 @@ import { http } from '@/api/client'
 export const proposalKeys = {
   all: ['change-proposals'] as const,
   one: (id: number) => ['change-proposals', id] as const,
+  /** the proposals of a limit (its page's panel) */
+  limit: (limitId: number) => ['change-proposals', 'limit', limitId] as const,
+  list: (q: ProposalListQuery) => ['change-proposals', 'list', JSON.stringify(q)] as const,
 }
 
 /** `/api/change-proposals` (docs/change-requests.md#change-proposals). */

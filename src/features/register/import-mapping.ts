@@ -1,9 +1,8 @@
-import { HISTORY_COLUMNS, HISTORY_REQUIRED_COLUMNS } from '@shared/schemas/history-import.ts'
 import { IMPORT_REQUIRED_COLUMNS, type ImportMapping } from '@shared/schemas/imports.ts'
 import { REGISTER_COLUMNS } from '@shared/schemas/register-io.ts'
 
-// The column mapping of an import file (the register file, the history file), as the mapping step and the check
-// result show it.
+// The column mapping of an import file (the register file here, the history file in src/features/history), as the
+// mapping step and the check result show it.
 
 /** A file layout: its columns (key and header) and the keys every file must map. */
 export interface ImportLayout {
@@ -23,14 +22,6 @@ export const REGISTER_LAYOUT: ImportLayout = {
   requiredHint: 'Every import needs the area, the process, the instrument tag and the limit tag.',
   fieldName: 'Register field',
   splitHint: 'split the register, e.g. by area',
-}
-
-export const HISTORY_LAYOUT: ImportLayout = {
-  columns: HISTORY_COLUMNS,
-  required: HISTORY_REQUIRED_COLUMNS,
-  requiredHint: 'Every history file needs the kind of record and the limit tag.',
-  fieldName: 'History field',
-  splitHint: 'split the history, e.g. by area',
 }
 
 const norm = (h: string) => h.trim().toLowerCase().replace(/\s+/g, ' ')

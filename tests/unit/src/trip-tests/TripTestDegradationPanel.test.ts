@@ -2,13 +2,12 @@ import { flushPromises } from '@vue/test-utils'
 import { afterEach, describe, expect, it, vi } from 'vitest'
 import type { DegradationItem } from '@shared/schemas/trip-tests.ts'
 import TripTestDegradationPanel from '@/features/trip-tests/components/TripTestDegradationPanel.vue'
-import { answerApi, FHR, mountView, resetPage, type Routes } from '../mount-view.ts'
+import { answerApi, FHR, mountView, NOW, resetPage, type Routes } from '../mount-view.ts'
 
 // The degradation panel of a test record (docs/trip-tests.md#degraded-limits): a shift supervisor signs the
 // compensating measures and a repair deadline; a deadline beyond the function's MTTR waits for the plant manager's
 // signature. The clock is fixed at 12:00 UTC on 6 July 2026.
 
-const NOW = new Date('2026-07-06T12:00:00Z')
 const ALLOWED = { allowed: true } as const
 const REFUSED = {
   allowed: false,
