@@ -17,7 +17,7 @@ export default [
     path: '/alarms/states',
     name: 'alarm-states',
     component: () => import('./views/AlarmStatesView.vue'),
-    meta: { title: 'Shelved and out-of-service alarms' },
+    meta: { title: 'Shelved, suppressed and out-of-service alarms' },
   },
   {
     path: '/alarms/replay',
